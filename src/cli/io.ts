@@ -1,0 +1,32 @@
+/**
+ * What the CLI needs from the outside world, passed in so that commands run in-process in tests.
+ * Only the `bin` entry touches `process`.
+ */
+export interface CliIo {
+  stdout: (text: string) => void;
+  stderr: (text: string) => void;
+  /** Working directory that relative paths resolve against. */
+  cwd: string;
+  /** The clock; never `new Date()` inside a command. */
+  now: () => Date;
+  env: Readonly<Record<string, string | undefined>>;
+  /** Resolves when the user asks a long-running command (watch) to stop. Tests pass their own. */
+  stopSignal?: Promise<void>;
+}
+
+/** Bad arguments or a bad request: exit code 2. The message names the option and the value. */
+export class UsageError extends Error {
+  override readonly name = 'UsageError';
+}
+
+/** An input was rejected (a file, a row): exit code 1, the work on other inputs went ahead. */
+export class InputRejectedError extends Error {
+  override readonly name = 'InputRejectedError';
+}
+
+export const EXIT = Object.freeze({ ok: 0, rejected: 1, usage: 2 });
+
+/** Writes a value as pretty JSON with a trailing newline. */
+export function printJson(io: CliIo, value: unknown): void {
+  io.stdout(JSON.stringify(value, null, 2) + '\n');
+}
