@@ -1,6 +1,7 @@
 import { Command, CommanderError } from 'commander';
 import { EXIT, InputRejectedError, UsageError, type CliIo } from './io.js';
 import { registerCalc } from './calc.js';
+import { registerPipelineCommands } from './commands.js';
 
 /**
  * Builds the command tree. Each command's action throws UsageError (exit 2) or
@@ -12,6 +13,7 @@ export function buildProgram(io: CliIo): Command {
     .description('Oral-fluid PCR surveillance: map lab results to pens and rounds, measure what each round proved, plan the next ropes.')
     .showHelpAfterError()
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr });
+  registerPipelineCommands(program, io);
   registerCalc(program, io);
   return program;
 }

@@ -1,0 +1,190 @@
+/**
+ * What each round proved: detection confidence per barn and site at the program's design
+ * prevalence, the ropes the target would have needed, prevalence when positives exist, and the
+ * probability of freedom across rounds. Pure: the round model and the program come in.
+ */
+import { perAssayValue } from '../config/load.js';
+import type { Barn, Program, Site } from '../config/types.js';
+import type { SiteRound } from '../interpret/roundModel.js';
+import { daysBetween } from '../interpret/rounds.js';
+import {
+  apparentPrevalence,
+  designInfectedPens,
+  detectionFor,
+  falseAlarmProbability,
+  freedomAcrossRounds,
+  freedomEquilibrium,
+  sampleSize,
+  siteDetection,
+  truePrevalence,
+} from '../stats/index.js';
+
+export interface BarnConfidence {
+  barnId: string;
+  assayId: string;
+  /** N: pens in use. */
+  pens: number;
+  /** n: pens with a valid result for this assay (invalid results prove nothing). */
+  tested: number;
+  /** d: infected pens at the design prevalence. */
+  designInfected: number;
+  sensitivity: number;
+  specificity: number;
+  /** P(at least one positive | infection at the design prevalence), Cameron & Baldock 1998. */
+  detectionConfidence: number;
+  /** Chance of at least one false positive from an uninfected barn: 1 - Sp^n. */
+  falseAlarm: number;
+  /** Ropes one round needs to reach the target; null when no single round can. */
+  ropesNeeded: number | null;
+  targetReachable: boolean;
+  /** Best confidence a rope in every pen gives, when the target is unreachable in one round. */
+  censusConfidence: number | null;
+  roundsNeededIfUnreachable: number | null;
+  positives: number;
+  prevalence: PrevalenceEstimate | null;
+}
+
+export interface PrevalenceEstimate {
+  apparent: number;
+  lower95: number;
+  upper95: number;
+  /** Rogan & Gladen 1978, clipped to [0, 1]. */
+  trueEstimate: number;
+  clipped: boolean;
+  note: string | null;
+}
+
+export interface SiteConfidence {
+  assayId: string;
+  roundNumber: number;
+  /** 1 - prod(1 - p_barn): the round's site-level sensitivity (SSe). */
+  detectionConfidence: number;
+  positive: boolean;
+  positiveBarns: string[];
+  /** Days since the previous round started (null for the first round). */
+  daysSincePrevious: number | null;
+  /** Probability the introduction between the previous round and this one was applied over. */
+  introductionApplied: number;
+  /** Probability of freedom the round started from. */
+  priorFreedom: number;
+  /** Probability of freedom after this round (0 after a positive round: reset). */
+  freedom: number;
+  /** What the next round starts from if nothing else is learned. */
+  nextPrior: number;
+  /** Where repeated rounds like this one level off. */
+  levelsOffAt: number;
+  freedomReset: boolean;
+}
+
+export interface RoundConfidence {
+  roundNumber: number;
+  barns: BarnConfidence[];
+  sites: SiteConfidence[];
+}
+
+export function designInfectedFor(program: Program, pens: number): number {
+  return program.designPrevalence.kind === 'pens' ? Math.min(pens, program.designPrevalence.value) : designInfectedPens(program.designPrevalence.value, pens);
+}
+
+/** Rope sensitivity and specificity of an assay in a barn (by its age group). */
+export function ropeAccuracy(program: Program, assayId: string, barn: Barn): { sensitivity: number; specificity: number } {
+  return {
+    sensitivity: perAssayValue(program.ropeSensitivity, assayId, barn.ageGroup),
+    specificity: perAssayValue(program.ropeSpecificity, assayId, barn.ageGroup),
+  };
+}
+
+function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: string): BarnConfidence {
+  const program = site.program;
+  const barnRound = round.barns.find((candidate) => candidate.barnId === barn.id)!;
+  const tally = barnRound.byAssay[assayId]!;
+  const pens = barnRound.pensInUse;
+  // A rope hung in a pen the layout lists as empty still tested pigs; never count more than N.
+  const tested = Math.min(pens, tally.testedPens.length);
+  const designInfected = designInfectedFor(program, pens);
+  const { sensitivity, specificity } = ropeAccuracy(program, assayId, barn);
+  const detectionConfidence = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
+  const size = sampleSize({ pens, infected: designInfected, confidence: program.targetConfidence, sensitivity });
+  let prevalence: PrevalenceEstimate | null = null;
+  if (tally.positive > 0 && tested > 0) {
+    const apparent = apparentPrevalence(Math.min(tally.positive, tested), tested);
+    const corrected = truePrevalence(apparent.estimate, sensitivity, specificity);
+    prevalence = {
+      apparent: apparent.estimate,
+      lower95: apparent.lower,
+      upper95: apparent.upper,
+      trueEstimate: corrected.estimate,
+      clipped: corrected.clipped,
+      note: corrected.note,
+    };
+  }
+  return {
+    barnId: barn.id,
+    assayId,
+    pens,
+    tested,
+    designInfected,
+    sensitivity,
+    specificity,
+    detectionConfidence,
+    falseAlarm: falseAlarmProbability(tested, specificity),
+    ropesNeeded: size.sampled,
+    targetReachable: size.reachable,
+    censusConfidence: size.reachable ? null : size.censusConfidence,
+    roundsNeededIfUnreachable: size.reachable ? null : size.roundsNeeded,
+    positives: tally.positive,
+    prevalence,
+  };
+}
+
+/**
+ * Confidence for every round of a site, per barn and assay, and freedom across rounds per assay.
+ * A round in which an assay was not tested at all counts as a round of zero sensitivity: the
+ * introduction risk still accrues, so a missed or late round lowers confidence.
+ */
+export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundConfidence[] {
+  const program = site.program;
+  const assays = [...new Set(rounds.flatMap((round) => round.assays))].sort();
+  const perRound: RoundConfidence[] = rounds.map((round) => ({
+    roundNumber: round.number,
+    barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId))),
+    sites: [],
+  }));
+  for (const assayId of assays) {
+    const freedomRounds = rounds.map((round, index) => {
+      const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
+      const sensitivity = barns.length === 0 ? 0 : siteDetection(barns.map((barn) => barn.detectionConfidence));
+      const previous = rounds[index - 1];
+      return {
+        sensitivity,
+        positive: barns.some((barn) => barn.positives > 0),
+        positiveBarns: barns.filter((barn) => barn.positives > 0).map((barn) => barn.barnId),
+        elapsedDays: previous ? Math.max(0, daysBetween(previous.startOn, round.startOn)) : program.intervalDays,
+        daysSincePrevious: previous ? daysBetween(previous.startOn, round.startOn) : null,
+      };
+    });
+    const freedom = freedomAcrossRounds(
+      { prior: program.priorFreedom, introduction: program.introductionPerInterval, order: 'update-then-discount', intervalDays: program.intervalDays },
+      freedomRounds,
+    );
+    freedomRounds.forEach((round, index) => {
+      const step = freedom.rounds[index]!;
+      const previousStep = freedom.rounds[index - 1];
+      perRound[index]!.sites.push({
+        assayId,
+        roundNumber: rounds[index]!.number,
+        detectionConfidence: round.sensitivity,
+        positive: round.positive,
+        positiveBarns: round.positiveBarns,
+        daysSincePrevious: round.daysSincePrevious,
+        introductionApplied: previousStep ? previousStep.introduction : 0,
+        priorFreedom: step.prior,
+        freedom: step.posterior,
+        nextPrior: step.nextPrior,
+        levelsOffAt: freedomEquilibrium(round.sensitivity, program.introductionPerInterval).posterior,
+        freedomReset: round.positive,
+      });
+    });
+  }
+  return perRound;
+}

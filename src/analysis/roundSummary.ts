@@ -1,0 +1,169 @@
+/**
+ * The per-round summary: one plain, JSON-ready value per site and round, combining the round
+ * model (ropes, results, classes) with what the round proved (confidence, freedom). The writers
+ * in src/report turn it into summary.json and summary.csv without computing anything.
+ */
+import type { Config, Site } from '../config/types.js';
+import type { ResultClass } from '../interpret/classify.js';
+import { ctHistory, type CtHistoryPoint, type SiteRound } from '../interpret/roundModel.js';
+import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
+import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
+
+export const SUMMARY_SCHEMA = 'ropewatch.round-summary/1';
+
+export interface PenSummary {
+  barnId: string;
+  penId: string;
+  side: string;
+  sampleIds: string[];
+  returned: boolean;
+  results: Record<
+    string,
+    {
+      resultClass: ResultClass;
+      ct: number | null;
+      loadBand: string | null;
+      load: number;
+      reason: string;
+      sampleId: string;
+      labId: string;
+      labCall: string | null;
+      callDiffers: boolean;
+      history: CtHistoryPoint[];
+    }
+  >;
+}
+
+export interface BarnAssaySummary {
+  assayId: string;
+  tested: number;
+  positive: number;
+  suspect: number;
+  negative: number;
+  invalid: number;
+  positivePens: string[];
+  suspectPens: string[];
+  invalidPens: string[];
+  confidence: BarnConfidence;
+}
+
+export interface BarnSummary {
+  barnId: string;
+  name: string;
+  pensInUse: number;
+  ropesHung: number;
+  ropesReturned: number;
+  missingSampleIds: string[];
+  sampledPens: string[];
+  assays: BarnAssaySummary[];
+}
+
+export interface RoundSummary {
+  schema: typeof SUMMARY_SCHEMA;
+  site: { id: string; name: string };
+  round: { number: number; id: string; startOn: string; endOn: string; roundsOnSite: number };
+  program: {
+    designPrevalence: string;
+    targetConfidence: number;
+    roundWindowDays: number;
+    intervalDays: number;
+    priorFreedom: number;
+    introductionPerInterval: number;
+  };
+  assays: { id: string; name: string; notifiable: boolean; site: SiteConfidence }[];
+  barns: BarnSummary[];
+  pens: PenSummary[];
+  notices: string[];
+  cautions: readonly string[];
+}
+
+export function describeDesignPrevalence(site: Site): string {
+  const design = site.program.designPrevalence;
+  return design.kind === 'pens' ? `${design.value} pen${design.value === 1 ? '' : 's'}` : `${Math.round(design.value * 1000) / 10}% of pens`;
+}
+
+/** Builds the summaries of every round of a site. */
+export function summariseSite(config: Config, site: Site, rounds: readonly SiteRound[], confidence: readonly RoundConfidence[]): RoundSummary[] {
+  return rounds.map((round, index) => {
+    const roundConfidence = confidence[index]!;
+    const assayIds = round.assays;
+    const notices = assayIds
+      .map((id) => config.assayById.get(id))
+      .filter((assay) => assay?.notifiable)
+      .map((assay) => notifiableNotice(assay!.name));
+    const barns: BarnSummary[] = round.barns.map((barnRound) => {
+      const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
+      return {
+        barnId: barn.id,
+        name: barn.name,
+        pensInUse: barnRound.pensInUse,
+        ropesHung: barnRound.ropesHung,
+        ropesReturned: barnRound.ropesReturned,
+        missingSampleIds: barnRound.missingSampleIds,
+        sampledPens: barnRound.pens.map((pen) => pen.penId),
+        assays: assayIds.map((assayId) => {
+          const tally = barnRound.byAssay[assayId]!;
+          return {
+            assayId,
+            tested: tally.testedPens.length,
+            positive: tally.positive,
+            suspect: tally.suspect,
+            negative: tally.negative,
+            invalid: tally.invalid,
+            positivePens: tally.positivePens,
+            suspectPens: tally.suspectPens,
+            invalidPens: tally.invalidPens,
+            confidence: roundConfidence.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)!,
+          };
+        }),
+      };
+    });
+    const pens: PenSummary[] = round.barns.flatMap((barnRound) =>
+      barnRound.pens.map((pen) => ({
+        barnId: barnRound.barnId,
+        penId: pen.penId,
+        side: pen.rowLabel,
+        sampleIds: pen.sampleIds,
+        returned: pen.returned,
+        results: Object.fromEntries(
+          Object.entries(pen.results).map(([assayId, result]) => [
+            assayId,
+            {
+              resultClass: result.resultClass,
+              ct: result.ct,
+              loadBand: result.loadBand,
+              load: result.load,
+              reason: result.reason,
+              sampleId: result.sampleId,
+              labId: result.labId,
+              labCall: result.labCall,
+              callDiffers: result.callDiffers,
+              history: ctHistory(rounds.slice(0, index + 1), barnRound.barnId, pen.penId, assayId),
+            },
+          ]),
+        ),
+      })),
+    );
+    return {
+      schema: SUMMARY_SCHEMA,
+      site: { id: site.id, name: site.name },
+      round: { number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, roundsOnSite: rounds.length },
+      program: {
+        designPrevalence: describeDesignPrevalence(site),
+        targetConfidence: site.program.targetConfidence,
+        roundWindowDays: site.program.roundWindowDays,
+        intervalDays: site.program.intervalDays,
+        priorFreedom: site.program.priorFreedom,
+        introductionPerInterval: site.program.introductionPerInterval,
+      },
+      assays: assayIds.map((id) => {
+        const assay = config.assayById.get(id);
+        return { id, name: assay?.name ?? id, notifiable: assay?.notifiable ?? false, site: roundConfidence.sites.find((entry) => entry.assayId === id)! };
+      }),
+      barns,
+      pens,
+      notices,
+      cautions: CAUTIONS,
+    };
+  });
+}

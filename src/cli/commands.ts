@@ -1,0 +1,200 @@
+/**
+ * The pipeline commands: ingest, watch, status, report. Each opens the workspace at the edge,
+ * runs, closes it, and reports through the injected io.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import type { Command } from 'commander';
+import { ConfigError } from '../config/load.js';
+import { OutputError, type Receipt } from '../ingest/ingestFile.js';
+import { plannedIdChecker } from '../ingest/plannedIds.js';
+import { buildSiteRounds } from '../interpret/roundModel.js';
+import { regenerateOutputs } from '../outputs.js';
+import { processFile } from '../pipeline.js';
+import { watchInbox } from '../watch/index.js';
+import { openWorkspace, resolvePaths, type PathOptions, type Workspace } from '../workspace.js';
+import { InputRejectedError, printJson, UsageError, type CliIo } from './io.js';
+
+export interface CommonOptions extends PathOptions {
+  json?: boolean;
+}
+
+/** --config, --db, --inbox, --outbox: the same on every command that touches the workspace. */
+export function addCommonOptions(command: Command): Command {
+  return command
+    .option('--config <dir>', 'configuration folder (sites.yaml, assays.yaml, labs/)', 'config')
+    .option('--db <file>', 'SQLite store', 'data/ropewatch.db')
+    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', 'inbox')
+    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
+}
+
+/** Opens the workspace, turning configuration problems into usage errors (exit 2). */
+export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T): T {
+  let ws: Workspace;
+  try {
+    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`));
+  } catch (error) {
+    if (error instanceof ConfigError) throw new UsageError(`configuration: ${error.message}`);
+    throw error;
+  }
+  let closeNow = true;
+  try {
+    const result = run(ws);
+    if (result instanceof Promise) {
+      closeNow = false;
+      return result.finally(() => ws.close()) as T;
+    }
+    return result;
+  } finally {
+    if (closeNow) ws.close();
+  }
+}
+
+function receiptLine(receipt: Receipt): string {
+  if (receipt.status === 'rejected') return `rejected ${receipt.file}: ${receipt.reason?.message ?? 'see receipt'}`;
+  if (receipt.status === 'duplicate') return `skipped  ${receipt.file}: the same bytes were ingested before`;
+  const parts = [`${receipt.rows.accepted} rows stored`];
+  if (receipt.rows.rejected) parts.push(`${receipt.rows.rejected} refused`);
+  if (receipt.rows.duplicate) parts.push(`${receipt.rows.duplicate} already stored`);
+  if (receipt.rows.superseded) parts.push(`${receipt.rows.superseded} superseding earlier reports`);
+  if (receipt.unresolvedSampleIds.length) parts.push(`${receipt.unresolvedSampleIds.length} samples awaiting a rope sheet`);
+  if (receipt.resolvedSampleIds.length) parts.push(`${receipt.resolvedSampleIds.length} earlier results now placed`);
+  return `accepted ${receipt.file} (${receipt.kind}${receipt.lab ? `, ${receipt.lab}` : ''}): ${parts.join(', ')}`;
+}
+
+/** Runs files through the pipeline in order; returns receipts. Exit 1 follows from refusals. */
+export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<{ receipts: Receipt[]; failed: boolean }> {
+  const check = plannedIdChecker(ws.config);
+  const receipts: Receipt[] = [];
+  let failed = false;
+  for (const file of files) {
+    try {
+      const { receipt } = await processFile(ws, file, check);
+      receipts.push(receipt);
+      if (receipt.status === 'rejected' || receipt.rows.rejected > 0) failed = true;
+      if (!json) io.stdout(`${receiptLine(receipt)}\n`);
+    } catch (error) {
+      if (!(error instanceof OutputError)) throw error;
+      failed = true;
+      io.stderr(`ropewatch: ${error.message}\n`);
+    }
+  }
+  return { receipts, failed };
+}
+
+export function registerPipelineCommands(program: Command, io: CliIo): void {
+  addCommonOptions(
+    program
+      .command('ingest')
+      .description('process lab exports and rope sheets once, then exit (processed files move to inbox/archive/, refused ones to inbox/rejected/)')
+      .argument('<files...>', 'files to ingest (usually in the inbox)')
+      .option('--json', 'print the receipts as JSON'),
+  ).action(async (files: string[], options: CommonOptions) => {
+    const resolved = files.map((file) => path.resolve(io.cwd, file));
+    for (const file of resolved) if (!fs.existsSync(file)) throw new UsageError(`no such file: ${file}`);
+    const outcome = await withWorkspace(io, options, (ws) => ingestFiles(ws, resolved, io, options.json === true));
+    if (options.json) printJson(io, outcome.receipts);
+    if (outcome.failed) throw new InputRejectedError('some input was refused: see the receipts in outbox/receipts/');
+  });
+
+  addCommonOptions(
+    program
+      .command('watch')
+      .description('watch the inbox and process each file as it arrives, one at a time, until stopped (SIGINT/SIGTERM)')
+      .option('--poll', 'poll the folder instead of file-system events (network shares)')
+      .option('--stable-ms <ms>', 'quiet time before a file counts as completely written', '2000'),
+  ).action(async (options: CommonOptions & { poll?: boolean; stableMs: string }) => {
+    const stableMs = Number(options.stableMs);
+    if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
+    await withWorkspace(io, options, async (ws) => {
+      fs.mkdirSync(ws.inbox, { recursive: true });
+      const check = plannedIdChecker(ws.config);
+      io.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
+      await watchInbox({
+        inbox: ws.inbox,
+        poll: options.poll === true,
+        stableMs,
+        stop: io.stopSignal ?? new Promise<void>(() => {}),
+        log: (line) => io.stdout(`${line}\n`),
+        onError: (error, file) => io.stderr(`ropewatch: ${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}\n`),
+        onFile: async (file) => {
+          try {
+            const { receipt } = await processFile(ws, file, check);
+            io.stdout(`${receiptLine(receipt)}\n`);
+          } catch (error) {
+            if (error instanceof OutputError) io.stderr(`ropewatch: ${error.message}\n`);
+            else throw error;
+          }
+        },
+      });
+      io.stdout('stopped\n');
+    });
+  });
+
+  addCommonOptions(
+    program.command('status').description('what the store holds: files, rows, unresolved samples, sites and their last round').option('--json', 'print as JSON'),
+  ).action((options: CommonOptions) => {
+    withWorkspace(io, options, (ws) => {
+      const counts = ws.store.counts();
+      const unresolved = ws.store.unresolvedSampleIds();
+      const results = ws.store.currentResults();
+      const sites = ws.config.sites.map((site) => {
+        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), results);
+        const last = rounds.at(-1);
+        return {
+          site: site.id,
+          name: site.name,
+          rounds: rounds.length,
+          lastRound: last ? { number: last.number, id: last.id, startOn: last.startOn } : null,
+          plannedRopesOutstanding: ws.store.plannedWithoutResults(site.id).length,
+        };
+      });
+      const status = { store: ws.dbFile, ...counts, unresolvedSamples: unresolved, sites };
+      if (options.json) {
+        printJson(io, status);
+        return;
+      }
+      io.stdout(
+        [
+          `store ${ws.dbFile}`,
+          `files: ${counts.files} (${counts.rejectedFiles} rejected)`,
+          `results: ${counts.results} stored, ${counts.currentResults} current (others superseded by reissues)`,
+          `ropes: ${counts.ropes} on sheets, ${counts.planned} planned`,
+          `refused rows: ${counts.rejectedRows}`,
+          `unresolved samples (no rope sheet yet): ${unresolved.length ? unresolved.join(', ') : 'none'}`,
+          ...sites.map(
+            (site) =>
+              `site ${site.site} (${site.name}): ${site.rounds} round${site.rounds === 1 ? '' : 's'}` +
+              (site.lastRound ? `, last ${site.lastRound.id}` : '') +
+              (site.plannedRopesOutstanding ? `, ${site.plannedRopesOutstanding} planned ropes not back yet` : ''),
+          ),
+        ].join('\n') + '\n',
+      );
+    });
+  });
+
+  addCommonOptions(
+    program
+      .command('report')
+      .description('regenerate outputs (summaries, cluster reviews, rope lists, pages) from the store')
+      .option('--site <site>', 'only this site')
+      .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole'),
+  ).action((options: CommonOptions & { site?: string; round?: string }) => {
+    withWorkspace(io, options, (ws) => {
+      if (options.round !== undefined && options.site === undefined) throw new UsageError('--round needs --site');
+      let siteIds: string[] | undefined;
+      if (options.site !== undefined) {
+        const site = ws.config.siteById.get(options.site.toUpperCase());
+        if (!site) throw new UsageError(`no site ${JSON.stringify(options.site)} in ${ws.configDir}/sites.yaml`);
+        siteIds = [site.id];
+      }
+      const analyses = regenerateOutputs(ws, siteIds);
+      if (options.round !== undefined) {
+        const number = Number(options.round);
+        const exists = analyses[0]?.rounds.some((round) => round.number === number);
+        if (!exists) throw new UsageError(`site ${options.site} has no round ${options.round}`);
+      }
+      for (const analysis of analyses) io.stdout(`wrote ${analysis.site.id}: ${analysis.rounds.length} round(s)\n`);
+    });
+  });
+}

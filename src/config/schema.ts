@@ -1,0 +1,199 @@
+/**
+ * Raw configuration schemas (what the YAML may say). One schema per file kind; `load.ts`
+ * validates, reports errors with the file and the key path, and normalises once.
+ */
+import { z } from 'zod';
+
+const probability = z.number().min(0).max(1);
+const penId = z.string().min(1);
+const identifier = z
+  .string()
+  .regex(/^[A-Za-z0-9][A-Za-z0-9_-]*$/, 'letters, digits, "-" and "_" only, starting with a letter or digit');
+
+/** Design prevalence: a proportion of pens (0.1) or a number of pens ({ pens: 1 }). */
+export const designPrevalenceSchema = z.union([
+  z.number().gt(0).max(1),
+  z.object({ pens: z.number().int().min(1) }).strict(),
+]);
+
+/** Rope sensitivity per assay (and optionally per age group), with a default. */
+const perAssayProbability = z.union([
+  probability,
+  z
+    .object({ default: probability })
+    .catchall(z.union([probability, z.record(z.string(), probability)])),
+]);
+
+export const programSchema = z
+  .object({
+    designPrevalence: designPrevalenceSchema,
+    targetConfidence: z.number().gt(0).lt(1),
+    ropeSensitivity: perAssayProbability,
+    ropeSpecificity: perAssayProbability,
+    /** Collections within this many days of a round's first rope belong to that round. */
+    roundWindowDays: z.number().int().min(1).max(60),
+    /** Days between rounds the program intends. */
+    intervalDays: z.number().int().min(1).max(365),
+    /** Probability of freedom before the first round (Martin, Cameron & Greiner 2007). */
+    priorFreedom: probability,
+    /** Probability of an introduction over one program interval. */
+    introductionPerInterval: probability,
+    /** Ropes per site per round the producer is willing to hang (optional cap). */
+    ropeBudget: z.number().int().min(1).optional(),
+    /** Pens around a positive cluster that get follow-up ropes: distance in pen units. */
+    followUpRadius: z.number().min(0).optional(),
+  })
+  .strict();
+
+export const programOverridesSchema = programSchema.partial().strict();
+
+export const layoutSchema = z
+  .object({
+    rows: z.number().int().min(1).max(4),
+    pensPerRow: z.number().int().min(1).max(500),
+    numbering: z.enum(['per-row', 'continuous', 'serpentine']).default('per-row'),
+    rowLabels: z.array(z.string().min(1)).optional(),
+    padDigits: z.number().int().min(0).max(4).default(0),
+    penWidth: z.number().gt(0).default(1),
+    penDepth: z.number().gt(0).default(1),
+    alleyWidth: z.number().min(0).default(0.5),
+    gapsAfter: z.array(z.number().int().min(1)).default([]),
+    gapWidth: z.number().min(0).default(1),
+    empty: z.array(penId).default([]),
+    outOfUse: z.array(penId).default([]),
+    headCount: z
+      .object({ default: z.number().int().min(0).optional(), pens: z.record(z.string(), z.number().int().min(0)).optional() })
+      .strict()
+      .optional(),
+  })
+  .strict();
+
+export const barnSchema = z
+  .object({
+    id: identifier,
+    name: z.string().min(1).optional(),
+    /** Where the barn's first pen corner sits on the site, in pen units. */
+    position: z.object({ x: z.number(), y: z.number() }).strict().default({ x: 0, y: 0 }),
+    /** Age group of the pigs (nursery, grow-finish...): selects a rope sensitivity when configured. */
+    ageGroup: z.string().optional(),
+    layout: layoutSchema,
+  })
+  .strict();
+
+export const siteSchema = z
+  .object({
+    id: identifier,
+    name: z.string().min(1),
+    /** Short code printed in planned sample IDs: 2 to 5 letters or digits. */
+    code: z.string().regex(/^[A-Z0-9]{1,4}[A-Z]$/, '2 to 5 capital letters or digits, ending in a letter'),
+    program: programOverridesSchema.optional(),
+    /**
+     * Sample IDs that carry their own location: a regular expression with named groups
+     * `barn` and `pen`, optionally `date` (yyyyMMdd).
+     */
+    samplePattern: z.string().optional(),
+    barns: z.array(barnSchema).min(1),
+  })
+  .strict();
+
+export const sitesFileSchema = z
+  .object({
+    organisation: z.string().optional(),
+    programDefaults: programSchema,
+    sites: z.array(siteSchema).min(1),
+  })
+  .strict();
+
+const ctCutoffs = {
+  /** Ct strictly below this is positive. */
+  positiveBelow: z.number().gt(0),
+  /** Ct at or above `positiveBelow` and strictly below this is suspect; at or above is negative. */
+  suspectBelow: z.number().gt(0),
+};
+
+export const loadBandSchema = z.object({ name: z.string().min(1), below: z.number().gt(0) }).strict();
+
+export const assaySchema = z
+  .object({
+    id: identifier,
+    name: z.string().min(1),
+    target: z.string().min(1).optional(),
+    ...ctCutoffs,
+    cycleLimit: z.number().gt(0).max(60),
+    /** Semi-quantitative load bands by Ct, lowest Ct first. A detected Ct above the last is "low". */
+    loadBands: z.array(loadBandSchema).min(1),
+    /** Ct below which the lab usually attempts sequencing or subtyping. */
+    sequencingBelow: z.number().gt(0).optional(),
+    notifiable: z.boolean().default(false),
+    /** Where the defaults come from, printed in reports. */
+    source: z.string().optional(),
+  })
+  .strict();
+
+export const assaysFileSchema = z.object({ assays: z.array(assaySchema).min(1) }).strict();
+
+export const labAssaySchema = z
+  .object({
+    assay: identifier,
+    positiveBelow: z.number().gt(0).optional(),
+    suspectBelow: z.number().gt(0).optional(),
+    cycleLimit: z.number().gt(0).max(60).optional(),
+  })
+  .strict();
+
+export const labProfileSchema = z
+  .object({
+    id: identifier,
+    name: z.string().min(1),
+    /** Which files come from this lab: a regular expression on the file name (case-insensitive). */
+    fileNamePattern: z.string().optional(),
+    format: z
+      .object({
+        delimiter: z.enum([',', ';', '\t', '|', 'auto']).default('auto'),
+        decimal: z.enum(['.', ',']).default('.'),
+        encoding: z.enum(['utf-8', 'latin1', 'utf-16le', 'auto']).default('auto'),
+        /** date-fns format of date cells, e.g. yyyy-MM-dd or dd.MM.yyyy. */
+        dateFormat: z.string().min(1),
+        /** Lines before the header row (title lines some exports carry). */
+        skipLines: z.number().int().min(0).default(0),
+      })
+      .strict(),
+    columns: z
+      .object({
+        sampleId: z.string().min(1),
+        assay: z.string().min(1),
+        ct: z.string().min(1),
+        call: z.string().min(1).optional(),
+        accession: z.string().min(1).optional(),
+        collectedOn: z.string().min(1).optional(),
+        reportedOn: z.string().min(1).optional(),
+        internalControl: z.string().min(1).optional(),
+        /** A column that marks a corrected / reissued report. */
+        reportStatus: z.string().min(1).optional(),
+      })
+      .strict(),
+    notDetected: z
+      .object({
+        /** Words that mean no amplification (compared case-insensitively, trimmed). */
+        tokens: z.array(z.string()).default([]),
+        /** An empty Ct cell means not detected (true) or a missing value that makes the row invalid (false). */
+        blankIsNotDetected: z.boolean().default(true),
+        /** Numeric codes that mean not detected, e.g. 0. A Ct of 0 is never read as a strong positive. */
+        numericCodes: z.array(z.number()).default([]),
+        /** A Ct equal to (or above) the cycle limit means not detected. */
+        cycleLimitIsNotDetected: z.boolean().default(true),
+      })
+      .strict()
+      .default({ tokens: [], blankIsNotDetected: true, numericCodes: [], cycleLimitIsNotDetected: true }),
+    /** Values of the internal-control column (or of the lab's call) that make the result invalid. */
+    controlFailedTokens: z.array(z.string()).default([]),
+    /** Values of the report-status column that mark a reissue superseding an earlier report. */
+    reissueTokens: z.array(z.string()).default([]),
+    /** The lab's assay names mapped to ropewatch assays, with this lab's validated cutoffs. */
+    assays: z.record(z.string(), labAssaySchema),
+  })
+  .strict();
+
+export type SitesFileRaw = z.input<typeof sitesFileSchema>;
+export type AssaysFileRaw = z.input<typeof assaysFileSchema>;
+export type LabProfileRaw = z.input<typeof labProfileSchema>;

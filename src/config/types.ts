@@ -1,0 +1,112 @@
+/** Normalised configuration: what the rest of ropewatch reads. Built once by `loadConfig`, frozen. */
+import type { BarnLayout, Pen, PenContacts } from '../domain/layout.js';
+
+export type DesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'pens'; value: number };
+
+/** Per-assay (and per-age-group) probability with a default. */
+export interface PerAssayValue {
+  default: number;
+  byAssay: Readonly<Record<string, number | { default?: number; byAgeGroup: Readonly<Record<string, number>> }>>;
+}
+
+export interface Program {
+  designPrevalence: DesignPrevalence;
+  targetConfidence: number;
+  ropeSensitivity: PerAssayValue;
+  ropeSpecificity: PerAssayValue;
+  roundWindowDays: number;
+  intervalDays: number;
+  priorFreedom: number;
+  introductionPerInterval: number;
+  ropeBudget: number | undefined;
+  followUpRadius: number;
+}
+
+export interface Barn {
+  id: string;
+  name: string;
+  position: { x: number; y: number };
+  ageGroup: string | undefined;
+  layout: BarnLayout;
+  pens: readonly Pen[];
+  penById: ReadonlyMap<string, Pen>;
+  contacts: PenContacts;
+}
+
+export interface Site {
+  id: string;
+  name: string;
+  code: string;
+  program: Program;
+  samplePattern: RegExp | undefined;
+  barns: readonly Barn[];
+  barnById: ReadonlyMap<string, Barn>;
+}
+
+export interface LoadBand {
+  name: string;
+  below: number;
+}
+
+export interface Assay {
+  id: string;
+  name: string;
+  target: string | undefined;
+  positiveBelow: number;
+  suspectBelow: number;
+  cycleLimit: number;
+  loadBands: readonly LoadBand[];
+  sequencingBelow: number | undefined;
+  notifiable: boolean;
+  source: string | undefined;
+}
+
+/** One lab's validated reading of one of its assays. */
+export interface LabAssay {
+  labAssayName: string;
+  assayId: string;
+  positiveBelow: number;
+  suspectBelow: number;
+  cycleLimit: number;
+}
+
+export interface LabProfile {
+  id: string;
+  name: string;
+  fileNamePattern: RegExp | undefined;
+  delimiter: ',' | ';' | '\t' | '|' | 'auto';
+  decimal: '.' | ',';
+  encoding: 'utf-8' | 'latin1' | 'utf-16le' | 'auto';
+  dateFormat: string;
+  skipLines: number;
+  columns: {
+    sampleId: string;
+    assay: string;
+    ct: string;
+    call: string | undefined;
+    accession: string | undefined;
+    collectedOn: string | undefined;
+    reportedOn: string | undefined;
+    internalControl: string | undefined;
+    reportStatus: string | undefined;
+  };
+  notDetectedTokens: ReadonlySet<string>;
+  blankIsNotDetected: boolean;
+  notDetectedCodes: readonly number[];
+  cycleLimitIsNotDetected: boolean;
+  controlFailedTokens: ReadonlySet<string>;
+  reissueTokens: ReadonlySet<string>;
+  /** Keyed by the lab's assay name, lower-cased and trimmed. */
+  assays: ReadonlyMap<string, LabAssay>;
+}
+
+export interface Config {
+  dir: string;
+  organisation: string | undefined;
+  sites: readonly Site[];
+  siteById: ReadonlyMap<string, Site>;
+  assays: readonly Assay[];
+  assayById: ReadonlyMap<string, Assay>;
+  labs: readonly LabProfile[];
+  labById: ReadonlyMap<string, LabProfile>;
+}

@@ -1,0 +1,136 @@
+/**
+ * Bytes to text: byte-order marks, the declared or sniffed encoding, and line endings folded to
+ * LF so that line numbers count the way a person counts them in an editor.
+ */
+import { Transform, type TransformCallback } from 'node:stream';
+
+export type TextEncoding = 'utf-8' | 'latin1' | 'utf-16le' | 'utf-16be';
+
+export interface Sniffed {
+  encoding: TextEncoding;
+  /** Bytes of byte-order mark to skip. */
+  bomLength: number;
+  /** Why this encoding was chosen, for the receipt. */
+  note: string;
+}
+
+/** Looks like binary: NUL bytes outside a UTF-16 pattern, or many control characters. */
+function looksBinary(bytes: Uint8Array): boolean {
+  let control = 0;
+  for (const byte of bytes) {
+    if (byte === 0) return true;
+    if (byte < 9 || (byte > 13 && byte < 32)) control++;
+  }
+  return bytes.length > 0 && control / bytes.length > 0.05;
+}
+
+function nulPattern(bytes: Uint8Array): 'utf-16le' | 'utf-16be' | undefined {
+  const n = Math.min(bytes.length - (bytes.length % 2), 4096);
+  if (n < 4) return undefined;
+  let evenNul = 0;
+  let oddNul = 0;
+  for (let i = 0; i < n; i += 2) {
+    if (bytes[i] === 0) evenNul++;
+    if (bytes[i + 1] === 0) oddNul++;
+  }
+  const pairs = n / 2;
+  if (oddNul / pairs > 0.3 && evenNul / pairs < 0.05) return 'utf-16le';
+  if (evenNul / pairs > 0.3 && oddNul / pairs < 0.05) return 'utf-16be';
+  return undefined;
+}
+
+export class EncodingError extends Error {
+  override readonly name = 'EncodingError';
+  constructor(
+    readonly line: number,
+    detail: string,
+  ) {
+    super(detail);
+  }
+}
+
+export class BinaryContentError extends Error {
+  override readonly name = 'BinaryContentError';
+}
+
+/**
+ * Chooses the encoding from the first bytes of a file and what the lab profile declares.
+ * A BOM always wins. Under `auto`, UTF-8 is tried first and Latin-1 is the fallback when the
+ * first block is not valid UTF-8 (the usual case for exports from older lab systems).
+ * @throws BinaryContentError when the bytes are not text at all.
+ */
+export function sniffEncoding(head: Uint8Array, declared: TextEncoding | 'auto'): Sniffed {
+  if (head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf) return { encoding: 'utf-8', bomLength: 3, note: 'UTF-8 byte-order mark' };
+  if (head[0] === 0xff && head[1] === 0xfe) return { encoding: 'utf-16le', bomLength: 2, note: 'UTF-16LE byte-order mark' };
+  if (head[0] === 0xfe && head[1] === 0xff) return { encoding: 'utf-16be', bomLength: 2, note: 'UTF-16BE byte-order mark' };
+  const wide = nulPattern(head);
+  if (wide) return { encoding: wide, bomLength: 0, note: `${wide.toUpperCase()} by its byte pattern (no byte-order mark)` };
+  if (looksBinary(head)) throw new BinaryContentError('the file holds binary content, not delimited text');
+  if (declared !== 'auto') return { encoding: declared, bomLength: 0, note: `${declared} as the lab profile declares` };
+  try {
+    // A truncated multi-byte sequence at the end of the sniffed block is not an error.
+    new TextDecoder('utf-8', { fatal: true }).decode(head, { stream: true });
+    return { encoding: 'utf-8', bomLength: 0, note: 'UTF-8 (valid in the first block)' };
+  } catch {
+    return { encoding: 'latin1', bomLength: 0, note: 'Latin-1 (the first block is not valid UTF-8)' };
+  }
+}
+
+/**
+ * A stream of bytes to a stream of text with CRLF and lone CR folded to LF.
+ * @throws EncodingError (through the stream) naming the line of the first invalid byte.
+ */
+export function decodeStream(sniffed: Sniffed): Transform {
+  const label = sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding;
+  const decoder = new TextDecoder(label, { fatal: sniffed.encoding !== 'latin1', ignoreBOM: true });
+  let skip = sniffed.bomLength;
+  let pendingCr = false;
+  let line = 1;
+  const fold = (text: string): string => {
+    let input = text;
+    if (pendingCr) {
+      if (input.startsWith('\n')) input = input.slice(1);
+      pendingCr = false;
+    }
+    if (input.endsWith('\r')) {
+      pendingCr = true;
+      input = input.slice(0, -1) + '\n';
+    }
+    const out = input.replace(/\r\n?/g, '\n');
+    for (let i = out.indexOf('\n'); i !== -1; i = out.indexOf('\n', i + 1)) line++;
+    return out;
+  };
+  return new Transform({
+    readableObjectMode: false,
+    decodeStrings: true,
+    transform(chunk: Buffer, _encoding, callback: TransformCallback) {
+      let bytes: Uint8Array = chunk;
+      if (skip > 0) {
+        const cut = Math.min(skip, bytes.length);
+        bytes = bytes.subarray(cut);
+        skip -= cut;
+      }
+      try {
+        callback(null, fold(decoder.decode(bytes, { stream: true })));
+      } catch {
+        callback(new EncodingError(line, `the bytes near line ${line} are not valid ${sniffed.encoding}`));
+      }
+    },
+    flush(callback: TransformCallback) {
+      try {
+        callback(null, fold(decoder.decode()));
+      } catch {
+        callback(new EncodingError(line, `the file ends inside an incomplete ${sniffed.encoding} character (line ${line})`));
+      }
+    },
+  });
+}
+
+/** Decodes a whole (small) buffer the same way, for sniffing headers. Invalid bytes become U+FFFD. */
+export function decodeHead(head: Uint8Array, sniffed: Sniffed): string {
+  const text = new TextDecoder(sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding, { fatal: false, ignoreBOM: true }).decode(
+    head.subarray(sniffed.bomLength),
+    { stream: true },
+  );
+  return text.replace(/\r\n?/g, '\n');
+}

@@ -1,0 +1,64 @@
+/**
+ * Every reason ropewatch gives for refusing a file or a row, declared once. The TypeScript union,
+ * the receipts and the README table all come from this list, so they cannot drift apart.
+ */
+export const REJECTION_CODES = {
+  // Whole files
+  'duplicate-file': 'the same bytes were stored before (content hash); nothing new to do',
+  'empty-file': 'the file holds no bytes or only a header',
+  'not-csv': 'the file is not delimited text (binary content or no usable header)',
+  'invalid-encoding': 'the bytes are not valid in the declared text encoding',
+  'unknown-format': 'the header matches no lab profile and is not a rope sheet',
+  'ambiguous-lab': 'the header or name matches more than one lab profile',
+  'missing-column': 'a column the lab profile or rope sheet requires is not in the header',
+  'duplicate-header': 'two header cells carry the same name',
+  'file-read-error': 'the file could not be read',
+  'malformed-csv': 'broken quoting or structure: the rows after it cannot be trusted, so the file is refused whole',
+  // Rows
+  'ragged-row': 'the row has a different number of fields from the header',
+  'missing-value': 'a required cell is empty',
+  'unknown-assay': 'the lab assay name is not in the lab profile',
+  'bad-ct': 'the Ct cell is neither a number nor a configured not-detected token',
+  'ct-out-of-range': 'the Ct is outside (0, 60] cycles, or a 0 the lab profile does not declare as not detected',
+  'bad-date': 'a date cell does not match the profile date format',
+  'unknown-site': 'the site is not in sites.yaml',
+  'unknown-barn': 'the barn is not on that site',
+  'unknown-pen': 'the pen is not in that barn layout',
+  'bad-check-character': 'a planned sample ID whose check character does not match (mistyped)',
+  'pen-twice-same-day': 'a second sample in the same pen on the same day',
+  'sample-id-reused': 'the sample ID already names a rope in another pen or on another day',
+  'no-collection-date': 'a sample ID that encodes its pen carries no date and the row has none',
+} as const;
+
+export type RejectionCode = keyof typeof REJECTION_CODES;
+
+/** A refused file or row, with the context a person needs to fix it. */
+export class IngestError extends Error {
+  override readonly name = 'IngestError';
+  constructor(
+    readonly code: RejectionCode,
+    readonly file: string,
+    readonly line: number | undefined,
+    readonly field: string | undefined,
+    readonly value: string | undefined,
+    detail?: string,
+  ) {
+    super(
+      `${file}${line !== undefined ? `, line ${line}` : ''}${field ? `, field "${field}"` : ''}: ${detail ?? REJECTION_CODES[code]}` +
+        (value !== undefined && value !== '' ? ` (value ${JSON.stringify(value.length > 80 ? `${value.slice(0, 80)}...` : value)})` : ''),
+    );
+  }
+}
+
+/** A row refused inside an otherwise accepted file. */
+export interface RowRejection {
+  line: number;
+  field: string | undefined;
+  code: RejectionCode;
+  value: string | undefined;
+  message: string;
+}
+
+export function rowRejection(code: RejectionCode, line: number, field: string | undefined, value: string | undefined, detail?: string): RowRejection {
+  return { line, field, code, value: value === undefined ? undefined : value.slice(0, 200), message: detail ?? REJECTION_CODES[code] };
+}

@@ -1,0 +1,331 @@
+/**
+ * One input file into the store, streamed: hash, sniff, detect the kind, then parse and store in
+ * bounded batches inside one transaction. A file is stored whole or not at all; a refused file
+ * is recorded with its bytes and reason. Moving the file is the caller's job (see pipeline.ts).
+ */
+import { createHash } from 'node:crypto';
+import fs from 'node:fs';
+import path from 'node:path';
+import { parse } from 'csv-parse';
+import type { Config } from '../config/types.js';
+import type { Store } from '../store/store.js';
+import { BinaryContentError, decodeHead, decodeStream, EncodingError, sniffEncoding } from './decode.js';
+import { detectFileKind, type FileKind } from './detect.js';
+import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
+import { mapResultRow, mapRopeRow, type PlannedIdCheck, type ResultRow, type RopeRow } from './rows.js';
+
+export const BATCH_ROWS = 2000;
+const HEAD_BYTES = 64 * 1024;
+/** Rejected rows listed in full in a receipt; the rest are counted (all are in the store). */
+const RECEIPT_ROW_LIMIT = 500;
+/** Rejected files up to this size keep their bytes in the store too. */
+const KEEP_BYTES_LIMIT = 16 * 1024 * 1024;
+
+export interface Receipt {
+  file: string;
+  sha256: string;
+  receivedAt: string;
+  status: 'accepted' | 'rejected' | 'duplicate';
+  kind: 'results' | 'ropes' | 'unknown';
+  lab: string | null;
+  encoding: string | null;
+  rows: { accepted: number; rejected: number; duplicate: number; superseded: number };
+  rejectedRows: RowRejection[];
+  rejectedRowsNotListed: number;
+  /** Result sample IDs of this file with no rope yet: kept, and resolved when the sheet arrives. */
+  unresolvedSampleIds: string[];
+  /** Earlier results that this rope sheet (or pattern) has now placed in a pen. */
+  resolvedSampleIds: string[];
+  warnings: string[];
+  reason: { code: RejectionCode; message: string; line: number | null; field: string | null } | null;
+  /** Sites whose outputs this file changed. */
+  sites: string[];
+}
+
+export interface IngestDeps {
+  config: Config;
+  store: Store;
+  now: () => Date;
+  plannedIdCheck: PlannedIdCheck;
+  /**
+   * Rewrites the outputs of these sites from the store, inside the file's transaction: if it
+   * throws (read-only or full outbox), the file is rolled back and stays in the inbox.
+   */
+  regenerate: (siteIds: readonly string[]) => void;
+}
+
+/** Thrown when outputs could not be written: the store is unchanged and the file stays put. */
+export class OutputError extends Error {
+  override readonly name = 'OutputError';
+}
+
+async function hashFile(file: string): Promise<{ sha256: string; size: number }> {
+  const hash = createHash('sha256');
+  let size = 0;
+  for await (const chunk of fs.createReadStream(file)) {
+    hash.update(chunk as Buffer);
+    size += (chunk as Buffer).length;
+  }
+  return { sha256: hash.digest('hex'), size };
+}
+
+function readHead(file: string): Buffer {
+  const handle = fs.openSync(file, 'r');
+  try {
+    const buffer = Buffer.alloc(HEAD_BYTES);
+    const read = fs.readSync(handle, buffer, 0, HEAD_BYTES, 0);
+    return buffer.subarray(0, read);
+  } finally {
+    fs.closeSync(handle);
+  }
+}
+
+/** 1-based line where a record starts, from csv-parse's end line and the raw record text. */
+function recordStartLine(endLine: number, raw: string): number {
+  const body = raw.replace(/^\n+/, '').replace(/\n$/, '');
+  let inner = 0;
+  for (let i = body.indexOf('\n'); i !== -1; i = body.indexOf('\n', i + 1)) inner++;
+  return endLine - inner;
+}
+
+function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt {
+  return {
+    file,
+    sha256,
+    receivedAt,
+    status: 'accepted',
+    kind: 'unknown',
+    lab: null,
+    encoding: null,
+    rows: { accepted: 0, rejected: 0, duplicate: 0, superseded: 0 },
+    rejectedRows: [],
+    rejectedRowsNotListed: 0,
+    unresolvedSampleIds: [],
+    resolvedSampleIds: [],
+    warnings: [],
+    reason: null,
+    sites: [],
+  };
+}
+
+/**
+ * Ingests one file. Never throws for bad input: a refused file comes back as a receipt with
+ * status `rejected`. Throws OutputError when outputs could not be written (nothing stored),
+ * and re-throws unexpected errors after rolling back.
+ */
+export async function ingestFile(file: string, deps: IngestDeps): Promise<Receipt> {
+  const name = path.basename(file);
+  const receivedAt = deps.now().toISOString();
+  let sha256: string;
+  let size: number;
+  try {
+    ({ sha256, size } = await hashFile(file));
+  } catch (error) {
+    const receipt = emptyReceipt(name, '', receivedAt);
+    receipt.status = 'rejected';
+    receipt.reason = { code: 'file-read-error', message: `${name}: cannot be read (${(error as NodeJS.ErrnoException).code ?? String(error)})`, line: null, field: null };
+    return receipt;
+  }
+  const receipt = emptyReceipt(name, sha256, receivedAt);
+
+  const known = deps.store.findFileByHash(sha256);
+  if (known) {
+    receipt.status = known.status === 'rejected' ? 'rejected' : 'duplicate';
+    receipt.kind = known.kind;
+    receipt.lab = known.labId;
+    receipt.warnings.push(`the same bytes arrived before as ${known.name} on ${known.receivedAt}; nothing stored twice`);
+    if (known.status === 'rejected') {
+      receipt.reason = { code: (known.reasonCode as RejectionCode) ?? 'duplicate-file', message: `${name}: ${known.reason ?? 'rejected before'} (the same bytes were rejected before)`, line: null, field: null };
+    }
+    return receipt;
+  }
+
+  const reject = (error: IngestError, labId: string | null): Receipt => {
+    deps.store.rollback();
+    receipt.status = 'rejected';
+    receipt.rows = { accepted: 0, rejected: 0, duplicate: 0, superseded: 0 };
+    receipt.rejectedRows = [];
+    receipt.reason = { code: error.code, message: error.message, line: error.line ?? null, field: error.field ?? null };
+    deps.store.recordRejectedFile({
+      name,
+      sha256,
+      receivedAt,
+      reasonCode: error.code,
+      reason: error.message,
+      line: error.line,
+      field: error.field,
+      bytes: size <= KEEP_BYTES_LIMIT ? fs.readFileSync(file) : undefined,
+      byteLength: size,
+      labId,
+    });
+    return receipt;
+  };
+
+  if (size === 0) return reject(new IngestError('empty-file', name, undefined, undefined, undefined, 'the file is empty (0 bytes)'), null);
+
+  let kind: FileKind;
+  let sniffed;
+  try {
+    const head = readHead(file);
+    sniffed = sniffEncoding(head, 'auto');
+    const text = decodeHead(head, sniffed);
+    kind = detectFileKind(name, text, deps.config.labs);
+    if (kind.kind === 'results' && kind.lab.encoding !== 'auto' && sniffed.bomLength === 0 && !sniffed.note.includes('byte pattern')) {
+      sniffed = sniffEncoding(head, kind.lab.encoding);
+    }
+  } catch (error) {
+    if (error instanceof IngestError) return reject(error, null);
+    if (error instanceof BinaryContentError) return reject(new IngestError('not-csv', name, undefined, undefined, undefined, error.message), null);
+    throw error;
+  }
+  receipt.kind = kind.kind;
+  receipt.lab = kind.kind === 'results' ? kind.lab.id : null;
+  receipt.encoding = sniffed.note;
+
+  const fileId = deps.store.beginFile({
+    name,
+    sha256,
+    kind: kind.kind,
+    labId: receipt.lab,
+    receivedAt,
+    encodingNote: sniffed.note,
+    byteLength: size,
+  });
+  try {
+    const parser = parse({
+      delimiter: kind.delimiter,
+      from_line: kind.headerLine + 1,
+      relax_column_count: true,
+      relax_quotes: true,
+      skip_empty_lines: true,
+      info: true,
+      raw: true,
+    });
+    const source = fs.createReadStream(file).pipe(decodeStream(sniffed));
+    source.on('error', (error) => parser.destroy(error));
+    source.pipe(parser);
+
+    const width = kind.header.length;
+    let resultBatch: ResultRow[] = [];
+    let ropeBatch: RopeRow[] = [];
+    const rejections: RowRejection[] = [];
+    const addRejections = (list: readonly RowRejection[]) => {
+      if (list.length === 0) return;
+      deps.store.insertRejections(fileId, list);
+      receipt.rows.rejected += list.length;
+      for (const rejection of list) {
+        if (receipt.rejectedRows.length < RECEIPT_ROW_LIMIT) receipt.rejectedRows.push(rejection);
+        else receipt.rejectedRowsNotListed++;
+      }
+    };
+    const flush = () => {
+      const counts = kind.kind === 'results' ? deps.store.insertResults(fileId, resultBatch) : deps.store.insertRopes(fileId, ropeBatch);
+      receipt.rows.accepted += counts.inserted;
+      receipt.rows.duplicate += counts.duplicates;
+      receipt.rows.superseded += counts.superseded;
+      receipt.warnings.push(...counts.warnings);
+      addRejections(rejections.splice(0));
+      addRejections(counts.rejections);
+      resultBatch = [];
+      ropeBatch = [];
+    };
+
+    const resultContext =
+      kind.kind === 'results'
+        ? { fileName: name, lab: kind.lab, columnIndex: kind.columnIndex, assayById: deps.config.assayById, sites: deps.config.sites, plannedIdCheck: deps.plannedIdCheck }
+        : undefined;
+    const ropeContext = { fileName: name, columnIndex: kind.columnIndex, sites: deps.config.sites, plannedIdCheck: deps.plannedIdCheck };
+
+    for await (const { record, info, raw } of parser as AsyncIterable<{ record: string[]; info: { lines: number }; raw: string }>) {
+      const line = recordStartLine(info.lines, raw);
+      if (record.length === 1 && record[0]!.trim() === '') continue;
+      if (record.length !== width) {
+        // Trailing empty cells (a common export habit) do not make a row ragged.
+        const trimmed = record.length > width && record.slice(width).every((cell) => cell.trim() === '');
+        if (!trimmed) {
+          rejections.push({
+            line,
+            field: undefined,
+            code: 'ragged-row',
+            value: raw.slice(0, 200).replace(/\n$/, ''),
+            message: `the row has ${record.length} fields, the header ${width}`,
+          });
+          continue;
+        }
+      }
+      if (resultContext) {
+        const outcome = mapResultRow(record, line, resultContext);
+        if (outcome.ok) resultBatch.push(outcome.row);
+        else rejections.push(outcome.rejection);
+      } else {
+        const outcome = mapRopeRow(record, line, ropeContext);
+        if (outcome.ok) ropeBatch.push(outcome.row);
+        else rejections.push(outcome.rejection);
+      }
+      if (resultBatch.length + ropeBatch.length + rejections.length >= BATCH_ROWS) flush();
+    }
+    flush();
+
+    if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
+      return reject(new IngestError('empty-file', name, kind.headerLine, undefined, undefined, 'the file has a header but no data rows'), receipt.lab);
+    }
+    deps.store.finishFile(fileId, { accepted: receipt.rows.accepted, rejected: receipt.rows.rejected, duplicate: receipt.rows.duplicate });
+
+    const db = deps.store.db;
+    if (kind.kind === 'results') {
+      receipt.unresolvedSampleIds = (
+        db
+          .prepare(
+            `SELECT DISTINCT r.sample_id AS id FROM results r WHERE r.file_id = ?
+               AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = r.sample_id)
+               AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = r.sample_id) ORDER BY 1`,
+          )
+          .all(fileId) as { id: string }[]
+      ).map((row) => row.id);
+    }
+    receipt.resolvedSampleIds = (
+      db
+        .prepare(
+          `SELECT DISTINCT h.sample_id AS id FROM ropes h JOIN results r ON r.sample_id = h.sample_id
+           WHERE h.file_id = ? AND r.file_id <> ? ORDER BY 1`,
+        )
+        .all(fileId, fileId) as { id: string }[]
+    ).map((row) => row.id);
+    receipt.sites = (
+      db
+        .prepare(
+          `SELECT site_id AS id FROM ropes WHERE file_id = @fileId
+           UNION SELECT h.site_id FROM ropes h JOIN results r ON r.sample_id = h.sample_id WHERE r.file_id = @fileId
+           UNION SELECT p.site_id FROM planned_ropes p JOIN results r ON r.sample_id = p.sample_id WHERE r.file_id = @fileId
+           ORDER BY 1`,
+        )
+        .all({ fileId }) as { id: string }[]
+    ).map((row) => row.id);
+
+    try {
+      deps.regenerate(receipt.sites);
+    } catch (error) {
+      deps.store.rollback();
+      throw new OutputError(`${name}: outputs could not be written (${(error as Error).message}); nothing was stored and the file stays in the inbox`);
+    }
+    deps.store.commit();
+    return receipt;
+  } catch (error) {
+    if (error instanceof OutputError) throw error;
+    if (error instanceof EncodingError) {
+      return reject(new IngestError('invalid-encoding', name, error.line, undefined, undefined, `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`), receipt.lab);
+    }
+    const code = (error as { code?: string }).code;
+    if (typeof code === 'string' && code.startsWith('CSV_')) {
+      const csvLine = (error as { lines?: number }).lines;
+      return reject(
+        new IngestError('malformed-csv', name, csvLine, undefined, undefined, `the file is not well-formed CSV (${(error as Error).message.split(':')[0]}); rows after it cannot be trusted`),
+        receipt.lab,
+      );
+    }
+    deps.store.rollback();
+    throw error;
+  }
+}
+
+export { REJECTION_CODES };

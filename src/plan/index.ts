@@ -1,0 +1,7 @@
+export * from './placement.js';
+export * from './sizing.js';
+export * from './followUp.js';
+export * from './schedule.js';
+export * from './frequency.js';
+export * from './sampleId.js';
+export * from './roundPlan.js';

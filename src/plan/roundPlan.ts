@@ -1,0 +1,163 @@
+/**
+ * The next round's plan for a site: routine systematic ropes, retests and follow-up ropes per
+ * barn, each with a sample ID, in the order a person walks the barn.
+ *
+ * Walking order: alley by alley; up the first side of the alley (row 0, or row 2, position
+ * ascending) and back down the other (row 1, or row 3, position descending), so the walk ends
+ * where it began, at the barn's entry end, which is how staff work with a cart of bags and tubes
+ * (common practice, no source). Barns in input order. Sample sequences run 1, 2, ... through the
+ * whole plan in that order, skipping any sequence whose check character would be I, O or L.
+ */
+import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/layout.js';
+import { requireInteger } from './checks.js';
+import { planFollowUp, type RopeReason } from './followUp.js';
+import { coverageRounds, placeSystematic, placementDistances } from './placement.js';
+import { formatSampleId, isWriteFriendlyCheck } from './sampleId.js';
+
+export interface BarnRoundInput {
+  barnId: string;
+  layout: BarnLayout;
+  /** Round index for the rotation of the systematic layer (0, 1, 2, ...). */
+  roundIndex: number;
+  /** Routine (systematic) ropes, integer in [0, in-use pens]. */
+  routineRopes: number;
+  /** Positive pens of the last round (each a cluster of its own unless named in `clusters`). */
+  positives?: readonly string[];
+  suspects?: readonly string[];
+  invalids?: readonly string[];
+  clusters?: readonly (readonly string[])[];
+  /** Ring radius for follow-up, pen units; default 0 (contacts only). */
+  ringDistance?: number;
+  maxExtraRopes?: number;
+  detectSet?: (penIds: readonly string[]) => number;
+  /** A periodicity along the rows in pens (e.g. 4: every fourth pen a hospital pen). */
+  period?: number;
+}
+
+export interface RoundPlanInput {
+  siteCode: string;
+  round: number;
+  /** yyyy-mm-dd */
+  dueDate: string;
+  barns: readonly BarnRoundInput[];
+}
+
+export interface PlanRow {
+  sampleId: string;
+  siteId: string;
+  barnId: string;
+  penId: string;
+  /** The row's label: the side of the alley. */
+  side: string;
+  reason: RopeReason;
+  dueDate: string;
+}
+
+export interface BarnPlanSummary {
+  barnId: string;
+  ropes: number;
+  routine: number;
+  followUp: number;
+  retest: number;
+  /** Of all ropes in the barn, pen units; null without ropes. */
+  coveringRadius: number | null;
+  meanDistance: number | null;
+  /** Of the systematic layer alone. */
+  routineCoveringRadius: number | null;
+  /** Rounds from this one until every in-use pen has had a routine rope; null without routine ropes. */
+  coverageRounds: number | null;
+  cycleLength: number;
+  notes: string[];
+}
+
+export interface RoundPlan {
+  rows: PlanRow[];
+  barns: BarnPlanSummary[];
+}
+
+/** Pens in walking order (see the module comment). */
+export function walkingOrder(pens: readonly Pen[]): Pen[] {
+  return [...pens].sort((a, b) => {
+    const alley = Math.floor(a.row / 2) - Math.floor(b.row / 2);
+    if (alley !== 0) return alley;
+    if (a.row !== b.row) return a.row - b.row;
+    return a.row % 2 === 0 ? a.position - b.position : b.position - a.position;
+  });
+}
+
+function clustersOf(barn: BarnRoundInput): string[][] {
+  const clusters = (barn.clusters ?? []).map((c) => [...c]);
+  const named = new Set(clusters.flat());
+  for (const id of barn.positives ?? []) if (!named.has(id)) clusters.push([id]);
+  return clusters;
+}
+
+/**
+ * Assembles the plan of one round for a site (see the module comment for the walking order and
+ * the numbering; {@link placeSystematic} and {@link planFollowUp} for the choices).
+ * @throws RangeError for a duplicate barn id, a malformed due date, a bad round or site code,
+ *   more than 999 ropes, or any precondition of the kernels it calls
+ * @see Cochran WG (1977) Sampling Techniques, ch. 8; ISO/IEC 7064:2003 MOD 37-2.
+ */
+export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(input.dueDate)) throw new RangeError(`\`dueDate\` must be a date yyyy-mm-dd, got ${JSON.stringify(input.dueDate)}`);
+  requireInteger('round', input.round, 0, 9999);
+  formatSampleId({ siteCode: input.siteCode, round: input.round, sequence: 1 }); // validates the site code
+  const seen = new Set<string>();
+  for (const barn of input.barns) {
+    if (seen.has(barn.barnId)) throw new RangeError(`\`barnId\` must be unique within the site, got ${JSON.stringify(barn.barnId)} twice`);
+    seen.add(barn.barnId);
+  }
+  let sequence = 0;
+  const nextId = () => {
+    for (;;) {
+      sequence++;
+      if (sequence > 999) throw new RangeError('`ropes` must be an integer in [0, 999] per site and round, got more');
+      const id = formatSampleId({ siteCode: input.siteCode, round: input.round, sequence });
+      if (isWriteFriendlyCheck(id)) return id;
+    }
+  };
+  const rows: PlanRow[] = [];
+  const barns: BarnPlanSummary[] = [];
+  for (const barn of input.barns) {
+    const pens = expandLayout(barn.layout);
+    const placement = placeSystematic(pens, {
+      ropes: barn.routineRopes,
+      roundIndex: barn.roundIndex,
+      ...(barn.period !== undefined ? { period: barn.period } : {}),
+    });
+    const followUp = planFollowUp({
+      pens,
+      contacts: penContacts(barn.layout, pens),
+      clusters: clustersOf(barn),
+      ringDistance: barn.ringDistance ?? 0,
+      routine: placement.penIds,
+      retest: [...new Set([...(barn.suspects ?? []), ...(barn.invalids ?? [])])],
+      ...(barn.maxExtraRopes !== undefined ? { maxExtraRopes: barn.maxExtraRopes } : {}),
+      ...(barn.detectSet ? { detectSet: barn.detectSet } : {}),
+    });
+    const reasonOf = new Map(followUp.ropes.map((r) => [r.penId, r.reason]));
+    for (const pen of walkingOrder(pens)) {
+      const reason = reasonOf.get(pen.id);
+      if (!reason) continue;
+      rows.push({ sampleId: nextId(), siteId: input.siteCode.toUpperCase(), barnId: barn.barnId, penId: pen.id, side: pen.rowLabel, reason, dueDate: input.dueDate });
+    }
+    const count = (reason: RopeReason) => followUp.ropes.filter((r) => r.reason === reason).length;
+    const all = placementDistances(pens, followUp.ropes.map((r) => r.penId));
+    const coverage = barn.routineRopes > 0 ? coverageRounds(pens, barn.routineRopes, barn.roundIndex) : null;
+    barns.push({
+      barnId: barn.barnId,
+      ropes: followUp.ropes.length,
+      routine: count('routine'),
+      followUp: count('follow-up'),
+      retest: count('retest'),
+      coveringRadius: all.coveringRadius,
+      meanDistance: all.meanDistance,
+      routineCoveringRadius: placement.coveringRadius,
+      coverageRounds: coverage?.rounds ?? null,
+      cycleLength: placement.cycleLength,
+      notes: [...placement.notes, ...followUp.notes, ...(coverage ? [coverage.statement] : [])],
+    });
+  }
+  return { rows, barns };
+}

@@ -1,0 +1,197 @@
+/**
+ * Sampling schedules compared: the same ropes per month spent as fewer ropes more often or more
+ * ropes less often. Under a static prevalence the cumulative detection is the same; the gain of
+ * sampling often is timeliness while an infection grows (FIELD.md method 10).
+ */
+import type { Rng } from '../util/random.js';
+import { requireInteger, requireNumber, requireProbability } from './checks.js';
+
+/**
+ * Expected delay to detection with rounds every D days and per-round detection p, for an
+ * introduction at a uniform random time: E[delay] = D (1/p - 1/2). The wait to the first round
+ * is uniform on (0, D), mean D/2; each further round is reached with probability 1 - p, adding a
+ * geometric (1/p - 1) intervals on average.
+ * @param intervalDays D > 0 (days, or any time unit; the result is in the same unit)
+ * @param perRound p in (0, 1]
+ * @throws RangeError for D <= 0 or p outside (0, 1]
+ * @see FIELD.md method 10 (check value D = 1 week, p = 0.246429 -> 3.5580 weeks).
+ * @example expectedDelay(7, 0.5) === 10.5
+ */
+export function expectedDelay(intervalDays: number, perRound: number): number {
+  requireNumber('intervalDays', intervalDays, 0, Infinity, { openMin: true, range: '(0, infinity)' });
+  requireNumber('perRound', perRound, 0, 1, { openMin: true });
+  return intervalDays * (1 / perRound - 0.5);
+}
+
+export type ScheduleLabel = 'current' | 'half the ropes, twice as often' | 'twice the ropes, half as often';
+
+export interface ScheduleOption {
+  label: ScheduleLabel;
+  ropes: number;
+  intervalDays: number;
+  /** Ropes per 30 days: ropes * 30 / intervalDays. */
+  ropesPer30Days: number;
+  perRoundDetection: number;
+  /** D (1/p - 1/2); null when p = 0 (never detected). */
+  expectedDelayDays: number | null;
+}
+
+export interface ScheduleInput {
+  /** Ropes per round now, integer in [1, maxRopes]. */
+  ropes: number;
+  /** Days between rounds now, > 0. */
+  intervalDays: number;
+  /** Ropes available per round (in-use pens). */
+  maxRopes: number;
+  /** Per-round detection with n ropes (static prevalence). */
+  detect: (ropes: number) => number;
+}
+
+/** The three schedules with the same ropes per month (ceil(n/2) when n is odd; 2n capped at maxRopes). */
+function scheduleShapes(input: ScheduleInput): { label: ScheduleLabel; ropes: number; intervalDays: number }[] {
+  return [
+    { label: 'current', ropes: input.ropes, intervalDays: input.intervalDays },
+    { label: 'half the ropes, twice as often', ropes: Math.ceil(input.ropes / 2), intervalDays: input.intervalDays / 2 },
+    { label: 'twice the ropes, half as often', ropes: Math.min(2 * input.ropes, input.maxRopes), intervalDays: 2 * input.intervalDays },
+  ];
+}
+
+function validateSchedule(input: ScheduleInput): void {
+  requireInteger('maxRopes', input.maxRopes, 1, Number.MAX_SAFE_INTEGER, '[1, infinity)');
+  requireInteger('ropes', input.ropes, 1, input.maxRopes, '[1, maxRopes]');
+  requireNumber('intervalDays', input.intervalDays, 0, Infinity, { openMin: true, range: '(0, infinity)' });
+}
+
+function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): string[] {
+  const notes: string[] = [];
+  if (input.ropes % 2 === 1) notes.push(`${input.ropes} ropes do not halve; the more-often schedule uses ${Math.ceil(input.ropes / 2)} (slightly more ropes per month).`);
+  if (2 * input.ropes > input.maxRopes) notes.push(`Twice ${input.ropes} ropes exceeds the ${input.maxRopes} pens in use; the less-often schedule is capped (fewer ropes per month).`);
+  for (const o of options) if (o.expectedDelayDays === null) notes.push(`${o.label}: a round detects nothing at this prevalence.`);
+  return notes;
+}
+
+/**
+ * Compares the current schedule (n ropes every D days) with n/2 every D/2 and 2n every 2D:
+ * per-round detection and expected time to detection D (1/p - 1/2) under a static prevalence.
+ * @throws RangeError for ropes outside [1, maxRopes], D <= 0, or detect outside [0, 1]
+ * @see FIELD.md method 10.
+ */
+export function compareSchedules(input: ScheduleInput): { options: ScheduleOption[]; notes: string[] } {
+  validateSchedule(input);
+  const options = scheduleShapes(input).map((shape) => {
+    const p = requireProbability('detect', input.detect(shape.ropes));
+    return {
+      ...shape,
+      ropesPer30Days: (shape.ropes * 30) / shape.intervalDays,
+      perRoundDetection: p,
+      expectedDelayDays: p > 0 ? expectedDelay(shape.intervalDays, p) : null,
+    };
+  });
+  return { options, notes: scheduleNotes(input, options) };
+}
+
+export interface GrowthModel {
+  /** Infected pens at introduction, integer >= 1. */
+  initialInfected: number;
+  /** Days for the number of infected pens to double, > 0 (Infinity for a static prevalence). */
+  doublingDays: number;
+  /** In-use pens: the number infected never exceeds it. */
+  maxInfected: number;
+  /** Per-round detection with `ropes` ropes when `infectedPens` pens are infected. */
+  detectAt: (ropes: number, infectedPens: number) => number;
+}
+
+export interface SimulatedDelay {
+  replicates: number;
+  /** Mean days from introduction to the detecting round, over detected replicates; null if none. */
+  meanDays: number | null;
+  /** Standard error of the mean, s / sqrt(m); null with fewer than 2 detected replicates. */
+  standardError: number | null;
+  /** Replicates still undetected after `maxRounds` rounds (the mean is then conditional). */
+  censored: number;
+}
+
+/** Infected pens a days after introduction: min(N, floor(d0 2^(a/T))), at least d0. */
+export function infectedAfter(model: GrowthModel, days: number): number {
+  const grown = Number.isFinite(model.doublingDays) ? Math.floor(model.initialInfected * 2 ** (days / model.doublingDays)) : model.initialInfected;
+  return Math.min(model.maxInfected, Math.max(model.initialInfected, grown));
+}
+
+function validateGrowth(model: GrowthModel): void {
+  requireInteger('maxInfected', model.maxInfected, 1, Number.MAX_SAFE_INTEGER, '[1, infinity)');
+  requireInteger('initialInfected', model.initialInfected, 1, model.maxInfected, '[1, maxInfected]');
+  requireNumber('doublingDays', model.doublingDays, 0, Infinity, { openMin: true, range: '(0, infinity]' });
+}
+
+/**
+ * Expected days to detection while infection grows, by Monte Carlo: the introduction falls at a
+ * uniform time within a round interval; infected pens double every T days (deterministic growth,
+ * capped at the in-use pens); each round detects with detectAt(ropes, infected) drawn with `rng`.
+ * With T = Infinity the mean converges to D (1/p - 1/2).
+ * @param rng seeded uniform generator on [0, 1) (the caller records the seed)
+ * @param replicates integer in [1, 10^7]; @param maxRounds rounds before a replicate is censored
+ * @throws RangeError for bad schedule or growth parameters, or detectAt outside [0, 1]
+ * @see FIELD.md method 10; Martin, Cameron & Greiner (2007) Prev Vet Med 79:71-97.
+ */
+export function simulateDelay(
+  schedule: { ropes: number; intervalDays: number },
+  model: GrowthModel,
+  options: { replicates: number; rng: Rng; maxRounds?: number },
+): SimulatedDelay {
+  validateGrowth(model);
+  requireInteger('ropes', schedule.ropes, 0, model.maxInfected, '[0, maxInfected]');
+  requireNumber('intervalDays', schedule.intervalDays, 0, Infinity, { openMin: true, range: '(0, infinity)' });
+  requireInteger('replicates', options.replicates, 1, 1e7);
+  const maxRounds = options.maxRounds ?? 10_000;
+  requireInteger('maxRounds', maxRounds, 1, Number.MAX_SAFE_INTEGER, '[1, infinity)');
+  const cache = new Map<number, number>();
+  const detect = (infected: number) => {
+    let p = cache.get(infected);
+    if (p === undefined) {
+      p = requireProbability('detectAt', model.detectAt(schedule.ropes, infected));
+      cache.set(infected, p);
+    }
+    return p;
+  };
+  let sum = 0;
+  let sumSq = 0;
+  let detected = 0;
+  for (let rep = 0; rep < options.replicates; rep++) {
+    const firstRound = options.rng() * schedule.intervalDays; // days from introduction to the next round
+    for (let round = 0; round < maxRounds; round++) {
+      const days = firstRound + round * schedule.intervalDays;
+      if (options.rng() < detect(infectedAfter(model, days))) {
+        sum += days;
+        sumSq += days * days;
+        detected++;
+        break;
+      }
+    }
+  }
+  const meanDays = detected > 0 ? sum / detected : null;
+  const variance = detected > 1 ? Math.max(0, (sumSq - (sum * sum) / detected) / (detected - 1)) : null;
+  return {
+    replicates: options.replicates,
+    meanDays,
+    standardError: variance === null ? null : Math.sqrt(variance / detected),
+    censored: options.replicates - detected,
+  };
+}
+
+/**
+ * The three schedules of {@link compareSchedules}, each with its expected days to detection
+ * under a growing infection (Monte Carlo, {@link simulateDelay}); one `rng` stream, schedules in
+ * order, so the result repeats for a seed.
+ */
+export function compareSchedulesGrowing(
+  input: { ropes: number; intervalDays: number; maxRopes: number },
+  model: GrowthModel,
+  options: { replicates: number; rng: Rng; maxRounds?: number },
+): { options: (ScheduleOption & { simulated: SimulatedDelay })[]; notes: string[] } {
+  const atIntroduction = (ropes: number) => model.detectAt(ropes, model.initialInfected);
+  const statics = compareSchedules({ ...input, detect: atIntroduction });
+  return {
+    options: statics.options.map((option) => ({ ...option, simulated: simulateDelay(option, model, options) })),
+    notes: [...statics.notes, 'Per-round detection and expected delay are at the introduced prevalence; the simulated delay lets it grow.'],
+  };
+}

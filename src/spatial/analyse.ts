@@ -1,0 +1,357 @@
+/**
+ * One call per barn-round or site-round: every spatial statistic of src/spatial on plain data,
+ * returned as one JSON-serialisable report (the pipeline writes clusters.json / clusters.csv
+ * from it).
+ */
+import { expandLayout, type BarnLayout, type Pen } from '../domain/layout.js';
+import { deriveSeed, seededRng } from '../util/random.js';
+import { linkClusters, type PenCluster } from './clusters.js';
+import { localGiStar } from './getisOrd.js';
+import { joinCountTest, type JoinCountTest } from './joinCount.js';
+import { localJoinCounts } from './localJoinCount.js';
+import { moranTest, type MoranResult } from './moran.js';
+import { bernoulliScan, type ScanResult } from './scan.js';
+import { summariseSpread, type SpreadPoint, type SpreadSummary } from './spread.js';
+import { compareWithRandomPlacement, simulateOutbreaks, type PlacementComparison } from './spreadDetection.js';
+import {
+  contactWeights,
+  defaultWeights,
+  ropeSpacing,
+  distanceBandWeights,
+  knnWeights,
+  listWeights,
+  weightsFromEdges,
+  type BarnConvention,
+  type SpatialPoint,
+  type SpatialWeights,
+  type WeightStyle,
+} from './weights.js';
+
+/** One roped pen of the round, as interpreted. */
+export interface RoundPen {
+  id: string;
+  /** Positive rope (the interpreted call). */
+  positive: boolean;
+  /** Result class from interpretation, carried into the report; 'invalid' pens are left out of the statistics. */
+  resultClass?: string;
+  /** Ct of the rope; null or absent when not detected or not reported. */
+  ct?: number | null;
+  /** Load score max(0, cycle limit - Ct) for detected, 0 otherwise (computed by the caller). */
+  load: number;
+}
+
+export type WeightChoice =
+  | { kind: 'default' }
+  | { kind: 'contact'; convention: BarnConvention }
+  | { kind: 'knn'; k: number }
+  | { kind: 'band'; band: number; power?: number }
+  | { kind: 'lists'; neighbours: Record<string, string[]> };
+
+export interface DetectionSettings {
+  /** Rope sensitivity in [0, 1]; pass the assay's and age group's value. Default 0.9. */
+  se?: number;
+  /** Infected pens at the design prevalence; default ceil(0.1 N), N = in-use pens. */
+  infected?: number;
+  /** Per-step transmission over a contact; default 0.3. */
+  beta?: number;
+  /** Per-step background infection; default 0.01. */
+  background?: number;
+  /** Default 10,000. */
+  realisations?: number;
+  /** Contact graph for spread; default 'queen'. */
+  convention?: BarnConvention;
+}
+
+export interface SpatialOptions {
+  /** Seed for every Monte Carlo part; written into the report. */
+  seed: number;
+  /** Monte Carlo permutations (join count, Moran, scan); default 999. */
+  permutations?: number;
+  /** Weights among the sampled pens; default: 2 nearest ropes, symmetrised (see defaultWeights). */
+  weights?: WeightChoice;
+  style?: WeightStyle;
+  /** Exact enumeration limit for join-count p-values; default 1e6. */
+  exactLimit?: number;
+  scan?: { maxFraction?: number; maxRadius?: number; maxSecondary?: number };
+  /** Single-linkage distance for cluster listing, pen units; default the rope spacing (see ropeSpacing). */
+  clusterLinkDistance?: number;
+  /** Threshold between adjacent spread and a distant new focus, pen units; default max(2.5, rope spacing). */
+  adjacentDistance?: number;
+  /** Spread-model detection of the ropes hung versus random ropes; false to skip. */
+  detection?: DetectionSettings | false;
+}
+
+export interface BarnRoundInput {
+  barn: string;
+  layout: BarnLayout;
+  /** Barn position on the site, pen units; default {0, 0}. */
+  offset?: { x: number; y: number };
+  /** Pens roped this round. */
+  sampled: RoundPen[];
+  /** Pens positive in earlier rounds (ids in this barn). */
+  earlierPositive?: string[];
+}
+
+export interface PenReport {
+  id: string;
+  /** Barn coordinates, pen units. */
+  x: number;
+  y: number;
+  positive: boolean;
+  resultClass: string | null;
+  ct: number | null;
+  load: number;
+  neighbours: number;
+  giStar: number | null;
+  /** Local join count (positive pens only; null otherwise). */
+  localBB: number | null;
+  localP: number | null;
+  newPositive: boolean;
+}
+
+export interface BarnSpatialReport {
+  barn: string;
+  seed: number;
+  n: number;
+  positives: number;
+  weights: { description: string; style: string; isolates: string[]; band: number | null };
+  excluded: { id: string; reason: string }[];
+  joinCount: JoinCountTest | null;
+  moran: MoranResult | null;
+  pens: PenReport[];
+  scan: ScanResult | null;
+  clusters: PenCluster[];
+  clusterLinkDistance: number;
+  spread: SpreadSummary;
+  detection: (PlacementComparison & { se: number; infected: number; beta: number; background: number; inUsePens: number; reseeded: number; seed: number }) | null;
+  notes: string[];
+}
+
+export interface SiteRoundInput {
+  site: string;
+  barns: BarnRoundInput[];
+  options: SpatialOptions;
+}
+
+export interface SiteSpatialReport {
+  site: string;
+  seed: number;
+  barns: BarnSpatialReport[];
+  /** Join count over the site, barns as separate blocks, positives permuted within barns. */
+  joinCount: JoinCountTest | null;
+  /** Spread across the site: distances to earlier positives in any barn via the offsets. */
+  spread: SpreadSummary;
+  notes: string[];
+}
+
+interface Prepared {
+  input: BarnRoundInput;
+  offset: { x: number; y: number };
+  pens: Pen[];
+  used: (RoundPen & { x: number; y: number })[];
+  excluded: { id: string; reason: string }[];
+}
+
+function prepare(input: BarnRoundInput): Prepared {
+  const pens = expandLayout(input.layout);
+  const byId = new Map(pens.map((p) => [p.id, p]));
+  const offset = input.offset ?? { x: 0, y: 0 };
+  if (!Number.isFinite(offset.x) || !Number.isFinite(offset.y)) throw new RangeError(`\`offset\` of barn ${input.barn} must be finite, got ${offset.x}, ${offset.y}`);
+  const excluded: { id: string; reason: string }[] = [];
+  const used: Prepared['used'] = [];
+  const seen = new Set<string>();
+  for (const s of input.sampled) {
+    const pen = byId.get(s.id);
+    if (!pen) throw new RangeError(`\`sampled\` must name pens of barn ${input.barn}, got ${s.id}`);
+    if (seen.has(s.id)) throw new RangeError(`\`sampled\` must list each pen once, got ${s.id} twice in barn ${input.barn}`);
+    seen.add(s.id);
+    if (!Number.isFinite(s.load) || s.load < 0) throw new RangeError(`\`load\` of pen ${s.id} must be a finite number >= 0, got ${s.load}`);
+    if (pen.status !== 'in-use') excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
+    else if (s.resultClass === 'invalid') excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
+    else used.push({ ...s, x: pen.x, y: pen.y });
+  }
+  for (const id of input.earlierPositive ?? []) if (!byId.has(id)) throw new RangeError(`\`earlierPositive\` must name pens of barn ${input.barn}, got ${id}`);
+  return { input, offset, pens, used, excluded };
+}
+
+function buildWeights(p: Prepared, choice: WeightChoice, style: WeightStyle): { w: SpatialWeights; band: number | null } {
+  const points: SpatialPoint[] = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
+  switch (choice.kind) {
+    case 'default':
+      return { w: defaultWeights(points, style), band: null };
+    case 'contact':
+      return { w: contactWeights(p.input.layout, points.map((q) => q.id), choice.convention, style), band: null };
+    case 'knn':
+      return { w: knnWeights(points, choice.k, style), band: null };
+    case 'band':
+      return { w: distanceBandWeights(points, choice.band, style, choice.power ?? 0), band: choice.band };
+    case 'lists':
+      return { w: listWeights(points.map((q) => q.id), choice.neighbours, style), band: null };
+  }
+}
+
+function checkOptions(o: SpatialOptions): void {
+  if (!Number.isInteger(o.seed)) throw new RangeError(`\`seed\` must be an integer, got ${o.seed}`);
+}
+
+function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): BarnSpatialReport {
+  const { input } = p;
+  const permutations = options.permutations ?? 999;
+  const style = options.style ?? 'binary';
+  const notes: string[] = [];
+  const n = p.used.length;
+  const positive = p.used.map((u) => u.positive);
+  const loads = p.used.map((u) => u.load);
+  const earlier = new Set(input.earlierPositive ?? []);
+  const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
+  // A cluster is a chain of neighbouring ropes; "adjacent" spread reaches at least the next rope,
+  // since the pens between two ropes were not sampled (see summariseSpread for the 2.5 floor).
+  const spacing = n >= 2 ? ropeSpacing(points) : 1;
+  const linkDistance = options.clusterLinkDistance ?? spacing;
+  const adjacentDistance = options.adjacentDistance ?? Math.max(2.5, spacing);
+  const clusters = linkClusters(
+    p.used.filter((u) => u.positive).map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
+    linkDistance,
+    earlier,
+  );
+  const spread = summariseSpread(
+    p.used.filter((u) => u.positive).map((u) => ({ id: u.id, x: u.x, y: u.y, barn: input.barn })),
+    p.pens.filter((pen) => earlier.has(pen.id)).map((pen) => ({ id: pen.id, x: pen.x, y: pen.y, barn: input.barn })),
+    adjacentDistance,
+  );
+  const report: BarnSpatialReport = {
+    barn: input.barn,
+    seed,
+    n,
+    positives: positive.filter(Boolean).length,
+    weights: { description: 'none (fewer than 2 usable pens)', style, isolates: [], band: null },
+    excluded: p.excluded,
+    joinCount: null,
+    moran: null,
+    pens: [],
+    scan: null,
+    clusters,
+    clusterLinkDistance: linkDistance,
+    spread,
+    detection: null,
+    notes,
+  };
+  if (n >= 2) {
+    const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
+    report.weights = { description: w.description, style: w.style, isolates: [...w.isolates], band };
+    if (w.isolates.length > 0) notes.push(`${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`);
+    report.joinCount = joinCountTest(w, positive, { rng: seededRng(deriveSeed(seed, 'join-count')), permutations, exactLimit: options.exactLimit ?? 1e6 });
+    report.moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
+    report.scan = bernoulliScan(points, positive, { rng: seededRng(deriveSeed(seed, 'scan')), permutations, ...(options.scan ?? {}) });
+    const gi = localGiStar(w, loads);
+    const local = new Map(localJoinCounts(w, positive).map((l) => [l.id, l]));
+    report.pens = p.used.map((u, i) => ({
+      id: u.id,
+      x: u.x,
+      y: u.y,
+      positive: u.positive,
+      resultClass: u.resultClass ?? null,
+      ct: u.ct ?? null,
+      load: u.load,
+      neighbours: w.offsets[i + 1]! - w.offsets[i]!,
+      giStar: gi[i]!.z,
+      localBB: local.get(u.id)?.bb ?? null,
+      localP: local.get(u.id)?.p ?? null,
+      newPositive: u.positive && !earlier.has(u.id),
+    }));
+  } else {
+    notes.push('fewer than 2 usable sampled pens: no spatial statistics');
+  }
+  if (options.detection !== false && n >= 1) report.detection = runDetection(p, options.detection ?? {}, deriveSeed(seed, 'detection'));
+  return report;
+}
+
+function runDetection(p: Prepared, settings: DetectionSettings, seed: number): BarnSpatialReport['detection'] {
+  const inUse = p.pens.filter((pen) => pen.status === 'in-use');
+  const ids = inUse.map((pen) => pen.id);
+  const N = ids.length;
+  const se = settings.se ?? 0.9;
+  const infected = settings.infected ?? Math.max(1, Math.ceil(0.1 * N));
+  const beta = settings.beta ?? 0.3;
+  const background = settings.background ?? 0.01;
+  const realisations = settings.realisations ?? 10_000;
+  const graph = contactWeights(p.input.layout, ids, settings.convention ?? 'queen', 'binary');
+  const rng = seededRng(seed);
+  const outbreaks = simulateOutbreaks(graph, { infected, beta, background, realisations, rng });
+  const cmp = compareWithRandomPlacement(outbreaks, p.used.map((u) => u.id), se, rng);
+  return { ...cmp, se, infected, beta, background, inUsePens: N, reseeded: outbreaks.reseeded, seed };
+}
+
+/**
+ * Spatial analysis of one barn-round: join counts, Moran's I on load, local join counts and
+ * Gi* per pen, the Bernoulli scan, cluster listing, spread against earlier rounds and the
+ * detection of the ropes hung versus random ropes under contagious spread. Empty and
+ * out-of-use pens, and invalid results, are left out and listed in `excluded`.
+ * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id.
+ *
+ * @throws RangeError on pens not in the layout, duplicate pens, bad loads or bad options.
+ * @see Cliff & Ord 1981; Moran 1950; Ord & Getis 1995; Kulldorff 1997 (see each module).
+ */
+export function analyseBarnRound(input: BarnRoundInput & { options: SpatialOptions }): BarnSpatialReport {
+  checkOptions(input.options);
+  const seed = deriveSeed(input.options.seed, 'barn', input.barn);
+  return analysePrepared(prepare(input), input.options, seed);
+}
+
+/**
+ * Spatial analysis of a site-round: each barn as in analyseBarnRound, plus a site join count
+ * with barns as separate blocks and positives permuted within barns (stratified; permuting
+ * across barns would read a difference in prevalence between barns as clustering), and the
+ * spread summary with distances across barns through their site offsets.
+ *
+ * @throws RangeError on duplicate barn ids or any error of analyseBarnRound.
+ * @see Cliff A.D., Ord J.K. (1981) Spatial Processes (join counts); FIELD.md method 8 (stratified permutation).
+ */
+export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
+  checkOptions(input.options);
+  const barnIds = new Set<string>();
+  for (const b of input.barns) {
+    if (barnIds.has(b.barn)) throw new RangeError(`\`barns\` must have unique ids, got ${b.barn} twice`);
+    barnIds.add(b.barn);
+  }
+  const prepared = input.barns.map(prepare);
+  const barns = prepared.map((p) => analysePrepared(p, input.options, deriveSeed(input.options.seed, 'barn', p.input.barn)));
+  const notes: string[] = [];
+  const ids: string[] = [];
+  const strata: number[] = [];
+  const positive: boolean[] = [];
+  const edges: [number, number, number][] = [];
+  const style = input.options.style ?? 'binary';
+  prepared.forEach((p, s) => {
+    if (p.used.length < 2) return;
+    const { w } = buildWeights(p, input.options.weights ?? { kind: 'default' }, 'binary');
+    const base = ids.length;
+    p.used.forEach((u) => {
+      ids.push(`${p.input.barn}/${u.id}`);
+      strata.push(s);
+      positive.push(u.positive);
+    });
+    for (let i = 0; i < w.ids.length; i++) for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) edges.push([base + i, base + w.neighbours[a]!, w.weights[a]!]);
+  });
+  let joinCount: JoinCountTest | null = null;
+  if (ids.length >= 2) {
+    const w = weightsFromEdges(ids, edges, style, `per-barn weights as separate blocks, ${style}`);
+    joinCount = joinCountTest(w, positive, {
+      rng: seededRng(deriveSeed(input.options.seed, 'site', input.site, 'join-count')),
+      permutations: input.options.permutations ?? 999,
+      exactLimit: input.options.exactLimit ?? 1e6,
+      strata,
+    });
+  } else notes.push('fewer than 2 usable sampled pens on the site: no site join count');
+  const current: SpreadPoint[] = [];
+  const earlier: SpreadPoint[] = [];
+  for (const p of prepared) {
+    for (const u of p.used) if (u.positive) current.push({ id: u.id, x: u.x + p.offset.x, y: u.y + p.offset.y, barn: p.input.barn });
+    const set = new Set(p.input.earlierPositive ?? []);
+    for (const pen of p.pens) if (set.has(pen.id)) earlier.push({ id: pen.id, x: pen.x + p.offset.x, y: pen.y + p.offset.y, barn: p.input.barn });
+  }
+  // Same default as per barn: at least the next rope, taking the widest rope spacing of the site.
+  const spacings = prepared.filter((p) => p.used.length >= 2).map((p) => ropeSpacing(p.used));
+  const spread = summariseSpread(current, earlier, input.options.adjacentDistance ?? Math.max(2.5, ...spacings));
+  return { site: input.site, seed: input.options.seed, barns, joinCount, spread, notes };
+}

@@ -1,0 +1,426 @@
+/**
+ * The SQLite store (better-sqlite3 12). One transaction per input file: `beginFile` takes the
+ * write lock up front (BEGIN IMMEDIATE), rows arrive in bounded batches while the file streams,
+ * and `commit` makes the whole file durable at once; `rollback` leaves no trace of it.
+ *
+ * Two processes on one store are serialised by SQLite's write lock: the second waits up to
+ * `busyTimeoutMs` for the first file to commit, then goes on; it never interleaves rows.
+ */
+import Database from 'better-sqlite3';
+import fs from 'node:fs';
+import path from 'node:path';
+import type { ResultClass } from '../interpret/classify.js';
+import type { RowRejection } from '../ingest/errors.js';
+import type { ResultRow, RopeRow } from '../ingest/rows.js';
+import { MIGRATIONS } from './migrations.js';
+
+export interface StoredFile {
+  id: number;
+  name: string;
+  sha256: string;
+  kind: 'results' | 'ropes' | 'unknown';
+  labId: string | null;
+  receivedAt: string;
+  status: 'accepted' | 'rejected';
+  reasonCode: string | null;
+  reason: string | null;
+}
+
+export interface StoredRope {
+  sampleId: string;
+  siteId: string;
+  barnId: string;
+  penId: string;
+  hungOn: string;
+  source: 'sheet' | 'sample-pattern' | 'plan';
+}
+
+export interface StoredResult {
+  id: number;
+  fileId: number;
+  labId: string;
+  sampleId: string;
+  assayId: string;
+  ct: number | null;
+  ctRaw: string;
+  labCall: string | null;
+  accession: string | null;
+  collectedOn: string | null;
+  reportedOn: string | null;
+  resultClass: ResultClass;
+  reason: string;
+  loadBand: string | null;
+  cycleLimit: number;
+  callDiffers: boolean;
+}
+
+export interface PlannedRope {
+  sampleId: string;
+  siteId: string;
+  barnId: string;
+  penId: string;
+  side: string;
+  reason: string;
+  dueOn: string;
+  plannedAt: string;
+  afterRound: number;
+}
+
+export interface Supersession {
+  oldResultId: number;
+  newResultId: number;
+  reason: string;
+}
+
+export interface InsertCounts {
+  inserted: number;
+  duplicates: number;
+  superseded: number;
+  rejections: RowRejection[];
+  warnings: string[];
+}
+
+export interface StoreOptions {
+  busyTimeoutMs?: number;
+}
+
+export class Store {
+  readonly db: Database.Database;
+  private inFile = false;
+  private readonly statements;
+
+  constructor(file: string, options: StoreOptions = {}) {
+    if (file !== ':memory:') fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
+    this.db = new Database(file);
+    this.db.pragma('journal_mode = WAL');
+    // A file is archived only after its commit, so the commit must survive a power cut.
+    this.db.pragma('synchronous = FULL');
+    this.db.pragma('foreign_keys = ON');
+    this.db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
+    this.migrate();
+    const db = this.db;
+    this.statements = {
+      fileByHash: db.prepare('SELECT id, name, sha256, kind, lab_id AS labId, received_at AS receivedAt, status, reason_code AS reasonCode, reason FROM files WHERE sha256 = ?'),
+      insertFile: db.prepare(
+        `INSERT INTO files (name, sha256, kind, lab_id, received_at, status, reason_code, reason, reason_line, reason_field, encoding_note, byte_length, bytes)
+         VALUES (@name, @sha256, @kind, @labId, @receivedAt, @status, @reasonCode, @reason, @reasonLine, @reasonField, @encodingNote, @byteLength, @bytes)`,
+      ),
+      finishFile: db.prepare('UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id'),
+      insertResult: db.prepare(
+        `INSERT INTO results (file_id, line, lab_id, sample_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
+           report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, natural_key)
+         VALUES (@fileId, @line, @labId, @sampleId, @assayId, @labAssay, @ct, @ctRaw, @labCall, @accession, @collectedOn, @reportedOn,
+           @reportStatus, @control, @resultClass, @reason, @loadBand, @positiveBelow, @suspectBelow, @cycleLimit, @callDiffers, @naturalKey)
+         ON CONFLICT (natural_key) DO NOTHING`,
+      ),
+      currentForSample: db.prepare(
+        `SELECT r.id, r.reported_on AS reportedOn FROM results r
+         WHERE r.lab_id = ? AND r.sample_id = ? AND r.assay_id = ? AND r.id <> ?
+           AND NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)`,
+      ),
+      insertSupersession: db.prepare('INSERT INTO supersessions (old_result_id, new_result_id, reason) VALUES (?, ?, ?)'),
+      ropeBySample: db.prepare('SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn FROM ropes WHERE sample_id = ?'),
+      ropeInPenOnDay: db.prepare('SELECT sample_id AS sampleId FROM ropes WHERE site_id = ? AND barn_id = ? AND pen_id = ? AND hung_on = ? AND sample_id <> ?'),
+      insertRope: db.prepare(
+        `INSERT INTO ropes (sample_id, site_id, barn_id, pen_id, hung_on, source, file_id, line, note)
+         VALUES (@sampleId, @siteId, @barnId, @penId, @hungOn, @source, @fileId, @line, @note)
+         ON CONFLICT (sample_id) DO NOTHING`,
+      ),
+      insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message) VALUES (?, ?, ?, ?, ?, ?)'),
+      upsertPlanned: db.prepare(
+        `INSERT INTO planned_ropes (sample_id, site_id, barn_id, pen_id, side, reason, due_on, planned_at, after_round)
+         VALUES (@sampleId, @siteId, @barnId, @penId, @side, @reason, @dueOn, @plannedAt, @afterRound)
+         ON CONFLICT (sample_id) DO UPDATE SET site_id = excluded.site_id, barn_id = excluded.barn_id, pen_id = excluded.pen_id,
+           side = excluded.side, reason = excluded.reason, due_on = excluded.due_on, planned_at = excluded.planned_at, after_round = excluded.after_round`,
+      ),
+    };
+  }
+
+  private migrate(): void {
+    const version = this.db.pragma('user_version', { simple: true }) as number;
+    for (let next = version; next < MIGRATIONS.length; next++) {
+      this.db.transaction(() => {
+        this.db.exec(MIGRATIONS[next]!);
+        this.db.pragma(`user_version = ${next + 1}`);
+      }).immediate();
+    }
+  }
+
+  close(): void {
+    if (this.inFile) this.rollback();
+    this.db.close();
+  }
+
+  getMeta(key: string): string | undefined {
+    return (this.db.prepare('SELECT value FROM meta WHERE key = ?').get(key) as { value: string } | undefined)?.value;
+  }
+
+  setMeta(key: string, value: string): void {
+    this.db.prepare('INSERT INTO meta (key, value) VALUES (?, ?) ON CONFLICT (key) DO UPDATE SET value = excluded.value').run(key, value);
+  }
+
+  findFileByHash(sha256: string): StoredFile | undefined {
+    return this.statements.fileByHash.get(sha256) as StoredFile | undefined;
+  }
+
+  /** Opens the file's transaction (taking the write lock) and records the file. Returns its id. */
+  beginFile(file: { name: string; sha256: string; kind: 'results' | 'ropes'; labId: string | null; receivedAt: string; encodingNote: string; byteLength: number }): number {
+    if (this.inFile) throw new Error('a file transaction is already open');
+    this.db.exec('BEGIN IMMEDIATE');
+    this.inFile = true;
+    const info = this.statements.insertFile.run({
+      ...file,
+      status: 'accepted',
+      reasonCode: null,
+      reason: null,
+      reasonLine: null,
+      reasonField: null,
+      bytes: null,
+    });
+    return Number(info.lastInsertRowid);
+  }
+
+  /** Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`. */
+  insertResults(fileId: number, rows: readonly ResultRow[]): InsertCounts {
+    this.requireFile();
+    const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
+    for (const row of rows) {
+      const info = this.statements.insertResult.run({ ...row, fileId, callDiffers: row.callDiffers ? 1 : 0 });
+      if (info.changes === 0) {
+        counts.duplicates++;
+        continue;
+      }
+      counts.inserted++;
+      const newId = Number(info.lastInsertRowid);
+      const earlier = this.statements.currentForSample.all(row.labId, row.sampleId, row.assayId, newId) as { id: number; reportedOn: string | null }[];
+      for (const old of earlier) {
+        // The newest report is current: a later report date wins; on the same date the later file does.
+        const oldIsNewer = old.reportedOn !== null && row.reportedOn !== null && old.reportedOn > row.reportedOn;
+        const reason = row.markedReissue
+          ? `reissued by the lab (report status "${row.reportStatus}")`
+          : old.reportedOn !== row.reportedOn && !oldIsNewer
+            ? `later report (${row.reportedOn ?? 'undated'} after ${old.reportedOn ?? 'undated'})`
+            : 'a later file reports this sample and assay again';
+        counts.superseded++;
+        if (oldIsNewer && !row.markedReissue) {
+          this.statements.insertSupersession.run(newId, old.id, `an earlier-dated report (${row.reportedOn}) arrived after ${old.reportedOn}`);
+          break;
+        }
+        this.statements.insertSupersession.run(old.id, newId, reason);
+      }
+      if (row.encodedRope) this.insertRopeRow(fileId, { ...row.encodedRope, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
+    }
+    return counts;
+  }
+
+  private insertRopeRow(fileId: number, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
+    const existing = this.statements.ropeBySample.get(row.sampleId) as StoredRope | undefined;
+    if (existing) {
+      const same = existing.siteId === row.siteId && existing.barnId === row.barnId && existing.penId === row.penId && existing.hungOn === row.hungOn;
+      if (same) counts.duplicates += source === 'sheet' ? 1 : 0;
+      else {
+        counts.rejections.push({
+          line: row.line,
+          field: 'sample_id',
+          code: 'sample-id-reused',
+          value: row.sampleId,
+          message: `sample ${row.sampleId} already hung in ${existing.siteId}/${existing.barnId}/${existing.penId} on ${existing.hungOn}`,
+        });
+      }
+      return;
+    }
+    const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, row.sampleId) as { sampleId: string } | undefined;
+    if (clash) {
+      counts.rejections.push({
+        line: row.line,
+        field: 'pen',
+        code: 'pen-twice-same-day',
+        value: row.penId,
+        message: `pen ${row.barnId}/${row.penId} already has sample ${clash.sampleId} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`,
+      });
+      return;
+    }
+    this.statements.insertRope.run({ ...row, source, fileId });
+    if (source === 'sheet') counts.inserted++;
+    if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
+  }
+
+  /** Stores a batch of rope-sheet rows. Call inside `beginFile`. */
+  insertRopes(fileId: number, rows: readonly RopeRow[]): InsertCounts {
+    this.requireFile();
+    const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
+    for (const row of rows) this.insertRopeRow(fileId, row, 'sheet', counts);
+    return counts;
+  }
+
+  insertRejections(fileId: number, rejections: readonly RowRejection[]): void {
+    this.requireFile();
+    for (const r of rejections) this.statements.insertRejection.run(fileId, r.line, r.field ?? null, r.code, r.value ?? null, r.message);
+  }
+
+  finishFile(fileId: number, counts: { accepted: number; rejected: number; duplicate: number }): void {
+    this.requireFile();
+    this.statements.finishFile.run({ id: fileId, ...counts });
+  }
+
+  commit(): void {
+    this.requireFile();
+    this.db.exec('COMMIT');
+    this.inFile = false;
+  }
+
+  rollback(): void {
+    if (!this.inFile) return;
+    this.db.exec('ROLLBACK');
+    this.inFile = false;
+  }
+
+  get fileOpen(): boolean {
+    return this.inFile;
+  }
+
+  private requireFile(): void {
+    if (!this.inFile) throw new Error('no file transaction is open: call beginFile first');
+  }
+
+  /** Records a refused file with its bytes and reason, in a transaction of its own. */
+  recordRejectedFile(file: {
+    name: string;
+    sha256: string;
+    receivedAt: string;
+    reasonCode: string;
+    reason: string;
+    line: number | undefined;
+    field: string | undefined;
+    bytes: Buffer | undefined;
+    byteLength: number;
+    labId: string | null;
+  }): void {
+    this.db.transaction(() => {
+      this.statements.insertFile.run({
+        name: file.name,
+        sha256: file.sha256,
+        kind: 'unknown',
+        labId: file.labId,
+        receivedAt: file.receivedAt,
+        status: 'rejected',
+        reasonCode: file.reasonCode,
+        reason: file.reason,
+        reasonLine: file.line ?? null,
+        reasonField: file.field ?? null,
+        encodingNote: null,
+        byteLength: file.byteLength,
+        bytes: file.bytes ?? null,
+      });
+    }).immediate();
+  }
+
+  /** Saves a next-round plan as the expected rope sheet: results for these IDs resolve to these pens. */
+  savePlan(ropes: readonly PlannedRope[]): void {
+    const run = this.db.transaction(() => {
+      for (const rope of ropes) this.statements.upsertPlanned.run(rope);
+    });
+    if (this.inFile) run();
+    else run.immediate();
+  }
+
+  // ---- Queries -------------------------------------------------------------------------------
+
+  /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
+  ropes(siteId?: string): StoredRope[] {
+    const where = siteId === undefined ? '' : 'WHERE site_id = @siteId';
+    const hung = this.db
+      .prepare(`SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn, source FROM ropes ${where}`)
+      .all({ siteId }) as StoredRope[];
+    // A planned rope counts as hung once a result for it arrives: on its collection date, else its due date.
+    const planned = this.db
+      .prepare(
+        `SELECT p.sample_id AS sampleId, p.site_id AS siteId, p.barn_id AS barnId, p.pen_id AS penId,
+                COALESCE(MIN(r.collected_on), p.due_on) AS hungOn, 'plan' AS source
+         FROM planned_ropes p JOIN results r ON r.sample_id = p.sample_id
+         WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = p.sample_id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
+         GROUP BY p.sample_id`,
+      )
+      .all({ siteId }) as StoredRope[];
+    return [...hung, ...planned];
+  }
+
+  /** Results that no later report supersedes. */
+  currentResults(): StoredResult[] {
+    return this.db
+      .prepare(
+        `SELECT id, file_id AS fileId, lab_id AS labId, sample_id AS sampleId, assay_id AS assayId, ct, ct_raw AS ctRaw, lab_call AS labCall,
+                accession, collected_on AS collectedOn, reported_on AS reportedOn, class AS resultClass, reason, load_band AS loadBand,
+                cycle_limit AS cycleLimit, call_differs AS callDiffers
+         FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)
+         ORDER BY id`,
+      )
+      .all()
+      .map((row) => ({ ...(row as StoredResult), callDiffers: Boolean((row as { callDiffers: number }).callDiffers) }));
+  }
+
+  supersessions(): Supersession[] {
+    return this.db.prepare('SELECT old_result_id AS oldResultId, new_result_id AS newResultId, reason FROM supersessions').all() as Supersession[];
+  }
+
+  /** Sample IDs of current results with no known rope (not on any sheet, pattern or plan). */
+  unresolvedSampleIds(): string[] {
+    return (
+      this.db
+        .prepare(
+          `SELECT DISTINCT r.sample_id AS sampleId FROM results r
+           WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = r.sample_id)
+             AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = r.sample_id)
+           ORDER BY r.sample_id`,
+        )
+        .all() as { sampleId: string }[]
+    ).map((row) => row.sampleId);
+  }
+
+  plannedRopes(siteId?: string): PlannedRope[] {
+    return this.db
+      .prepare(
+        `SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, side, reason, due_on AS dueOn,
+                planned_at AS plannedAt, after_round AS afterRound FROM planned_ropes ${siteId === undefined ? '' : 'WHERE site_id = ?'} ORDER BY sample_id`,
+      )
+      .all(...(siteId === undefined ? [] : [siteId])) as PlannedRope[];
+  }
+
+  /** Sample IDs of planned ropes for which no result has come back. */
+  plannedWithoutResults(siteId: string): PlannedRope[] {
+    return this.db
+      .prepare(
+        `SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, side, reason, due_on AS dueOn,
+                planned_at AS plannedAt, after_round AS afterRound
+         FROM planned_ropes p WHERE site_id = ? AND NOT EXISTS (SELECT 1 FROM results r WHERE r.sample_id = p.sample_id)
+         ORDER BY sample_id`,
+      )
+      .all(siteId) as PlannedRope[];
+  }
+
+  files(): (StoredFile & { rowsAccepted: number; rowsRejected: number; rowsDuplicate: number })[] {
+    return this.db
+      .prepare(
+        `SELECT id, name, sha256, kind, lab_id AS labId, received_at AS receivedAt, status, reason_code AS reasonCode, reason,
+                rows_accepted AS rowsAccepted, rows_rejected AS rowsRejected, rows_duplicate AS rowsDuplicate FROM files ORDER BY id`,
+      )
+      .all() as (StoredFile & { rowsAccepted: number; rowsRejected: number; rowsDuplicate: number })[];
+  }
+
+  rejectedRows(fileId: number): RowRejection[] {
+    return this.db.prepare('SELECT line, field, code, value, message FROM rejected_rows WHERE file_id = ? ORDER BY line').all(fileId) as RowRejection[];
+  }
+
+  counts(): { files: number; rejectedFiles: number; results: number; currentResults: number; ropes: number; rejectedRows: number; planned: number } {
+    const one = (sql: string) => (this.db.prepare(sql).get() as { n: number }).n;
+    return {
+      files: one('SELECT COUNT(*) AS n FROM files'),
+      rejectedFiles: one("SELECT COUNT(*) AS n FROM files WHERE status = 'rejected'"),
+      results: one('SELECT COUNT(*) AS n FROM results'),
+      currentResults: one('SELECT COUNT(*) AS n FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)'),
+      ropes: one('SELECT COUNT(*) AS n FROM ropes'),
+      rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows'),
+      planned: one('SELECT COUNT(*) AS n FROM planned_ropes'),
+    };
+  }
+}

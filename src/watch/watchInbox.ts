@@ -1,0 +1,235 @@
+/**
+ * The drop-folder watcher: chokidar events and a start-up sweep feed one stability gate per
+ * file; files that are ready go through a serial de-duplicated queue to `onFile`.
+ *
+ *   event / sweep -> ignored? -> stability gate (concurrent, one per path) -> FIFO -> onFile
+ *
+ * chokidar's `awaitWriteFinish` is not used; the gate replaces it, because (1) it does not
+ * apply to files already present at start-up, which must pass the same gate; (2) it compares
+ * size only, the gate compares size and mtime; (3) its pending timers live inside chokidar,
+ * where a stop cannot cancel them and a test cannot drive them with a fake clock.
+ */
+import { promises as fsp } from 'node:fs';
+import path from 'node:path';
+import { performance } from 'node:perf_hooks';
+import { watch, type FSWatcher } from 'chokidar';
+import { DEFAULT_EXTENSIONS, ignoreReason, inboxMatcher, normaliseExtensions } from './ignore.js';
+import { createSerialQueue } from './queue.js';
+import { sameStamp, stabilitySettings, waitUntilStable, type FileStamp } from './stability.js';
+
+export interface WatchInboxOptions {
+  /** The drop folder; must exist. Relative paths resolve against `process.cwd()`. */
+  inbox: string;
+  /** The pipeline for one file (absolute path). Called once at a time, never concurrently. */
+  onFile: (path: string) => Promise<void>;
+  /**
+   * Failures that do not stop the watcher: `onFile` throwing (with its path), a stat refused
+   * (EACCES), a chokidar `error` (no path). Default: a line through `log`, else `console.error`.
+   */
+  onError?: (error: unknown, path?: string) => void;
+  /** Poll the folder (chokidar `usePolling`) instead of OS events: for network shares. */
+  poll?: boolean;
+  /** Quiet period before a file is read, ms >= 0. Default 2000. */
+  stableMs?: number;
+  /** Interval of the gate's stat polls, ms > 0. Default a quarter of `stableMs`, at least 10. */
+  gatePollMs?: number;
+  /** chokidar polling interval with `poll`, ms. Default 1000 (a share is slow, drops are rare). */
+  pollIntervalMs?: number;
+  /** Accepted extensions. Default `.csv`, `.tsv`, `.txt`. */
+  extensions?: readonly string[];
+  /** Resolves (or rejects) when the watcher should stop. */
+  stop: Promise<void>;
+  /** One line per event worth telling an operator (no trailing newline). */
+  log?: (line: string) => void;
+}
+
+function describeError(error: unknown): string {
+  return error instanceof Error ? error.message : String(error);
+}
+
+function isMissing(error: unknown): boolean {
+  const code = (error as { code?: unknown } | null)?.code;
+  return code === 'ENOENT' || code === 'ENOTDIR';
+}
+
+/** size + mtime of a regular file, or null when it is gone or not a regular file. */
+async function statFile(filePath: string): Promise<FileStamp | null> {
+  try {
+    const stats = await fsp.stat(filePath);
+    return stats.isFile() ? { size: stats.size, mtimeMs: stats.mtimeMs } : null;
+  } catch (error) {
+    if (isMissing(error)) return null;
+    throw error;
+  }
+}
+
+/**
+ * Watches a drop folder and calls `onFile` once per file that has arrived and stopped changing.
+ *
+ * - chokidar with `depth: 0`, `ignoreInitial: true`, the name rules of `ignoreReason`, `add` and
+ *   `change` handled, `unlink` ignored (a vanished file is a no-op), `error` reported.
+ * - After chokidar is ready, a sweep (readdir) passes files already present through the same
+ *   gate; a file seen by both the sweep and an event is gated once.
+ * - A path already gating, queued or running is not taken twice. An event for the running path
+ *   marks it for one more pass after `onFile` returns (the gate then finds it gone, if the
+ *   pipeline archived it, or changed). Right before `onFile`, the file is stat'ed again; if it
+ *   changed while it waited in the queue, it goes back to the gate.
+ * - On `stop`: gates are cancelled, the current `onFile` finishes, the rest of the queue is
+ *   dropped (those files stay in the inbox for the next start), `watcher.close()` is awaited.
+ *
+ * @returns a promise that resolves after a clean stop.
+ * @throws (rejects) RangeError for bad `stableMs`, `gatePollMs` or `extensions`; Error when the
+ *   inbox is not a directory. Nothing else rejects: later failures go to `onError`.
+ * @see chokidar 5 README (options `depth`, `ignoreInitial`, `ignored`, `usePolling`, `awaitWriteFinish`).
+ */
+export async function watchInbox(options: WatchInboxOptions): Promise<void> {
+  const inbox = path.resolve(options.inbox);
+  const settings = stabilitySettings({ stableMs: options.stableMs, pollMs: options.gatePollMs });
+  const extensions = normaliseExtensions(options.extensions ?? DEFAULT_EXTENSIONS);
+  const pollIntervalMs = options.pollIntervalMs ?? 1000;
+  if (!Number.isFinite(pollIntervalMs) || pollIntervalMs <= 0) {
+    throw new RangeError(`\`pollIntervalMs\` must be a finite number > 0, got ${String(pollIntervalMs)}`);
+  }
+  const inboxStats = await fsp.stat(inbox).catch((error: unknown) => {
+    throw new Error(`inbox ${inbox} cannot be watched: ${describeError(error)}`, { cause: error });
+  });
+  if (!inboxStats.isDirectory()) throw new Error(`inbox ${inbox} is not a directory`);
+
+  const log = options.log ?? (() => {});
+  const report = (error: unknown, filePath?: string): void => {
+    try {
+      if (options.onError) options.onError(error, filePath);
+      else if (options.log) options.log(`error${filePath ? ` ${filePath}` : ''}: ${describeError(error)}`);
+      else console.error(`ropewatch watch: ${filePath ? `${filePath}: ` : ''}${describeError(error)}`);
+    } catch {
+      // An error handler that throws must not take the watcher down.
+    }
+  };
+  const name = (filePath: string): string => path.relative(inbox, filePath);
+
+  let stopping = false;
+  // Pending gate sleeps, woken all at once on stop. (One AbortSignal listener per sleeping gate
+  // would trip Node's listener-leak warning on a burst of drops.)
+  const sleepers = new Set<() => void>();
+  const sleep = (ms: number): Promise<void> =>
+    new Promise<void>((resolve) => {
+      const wake = (): void => {
+        clearTimeout(timer);
+        sleepers.delete(wake);
+        resolve();
+      };
+      const timer = setTimeout(wake, ms);
+      sleepers.add(wake);
+    });
+  const probe = { stat: statFile, now: () => performance.now(), sleep, stopped: () => stopping };
+
+  const gating = new Set<string>();
+  const gates = new Set<Promise<void>>();
+  const again = new Set<string>();
+  const readyStamps = new Map<string, FileStamp>();
+
+  const queue = createSerialQueue(
+    async (filePath) => {
+      const expected = readyStamps.get(filePath);
+      readyStamps.delete(filePath);
+      const stamp = await statFile(filePath);
+      if (stamp === null) {
+        log(`skip ${name(filePath)}: gone before it was read`);
+        return;
+      }
+      if (expected !== undefined && !sameStamp(expected, stamp)) {
+        log(`wait ${name(filePath)}: changed while queued`);
+        again.add(filePath);
+        return;
+      }
+      log(`read ${name(filePath)} (${stamp.size} bytes)`);
+      await options.onFile(filePath);
+    },
+    {
+      onError: (error, filePath) => report(error, filePath),
+      onSettled: (filePath) => {
+        if (again.delete(filePath)) consider(filePath, 'changed');
+      },
+    },
+  );
+
+  const gate = async (filePath: string): Promise<void> => {
+    try {
+      const result = await waitUntilStable(filePath, probe, settings);
+      if (result.kind === 'ready' && !stopping) {
+        readyStamps.set(filePath, result.stamp);
+        queue.offer(filePath);
+      } else if (result.kind === 'vanished') {
+        log(`skip ${name(filePath)}: gone before it settled`);
+      }
+    } catch (error) {
+      report(error, filePath);
+    } finally {
+      gating.delete(filePath);
+    }
+  };
+
+  function consider(candidate: string, why: string): void {
+    if (stopping) return;
+    const filePath = path.resolve(inbox, candidate);
+    if (ignoreReason(filePath, { inbox, extensions }) !== null) return;
+    if (gating.has(filePath)) return; // the running gate sees the change itself
+    if (queue.isRunning(filePath)) {
+      again.add(filePath);
+      return;
+    }
+    if (queue.has(filePath)) return; // the re-stat before onFile catches a change
+    gating.add(filePath);
+    log(`seen ${name(filePath)} (${why})`);
+    const running = gate(filePath);
+    gates.add(running);
+    void running.finally(() => gates.delete(running));
+  }
+
+  const stopRequested = new Promise<void>((resolve) => {
+    options.stop.then(
+      () => resolve(),
+      () => resolve(),
+    );
+  });
+
+  const watcher: FSWatcher = watch(inbox, {
+    depth: 0,
+    ignoreInitial: true,
+    ignored: inboxMatcher(inbox, extensions),
+    usePolling: options.poll ?? false,
+    interval: pollIntervalMs,
+    binaryInterval: pollIntervalMs,
+    persistent: true,
+  });
+  watcher.on('add', (filePath) => consider(filePath, 'added'));
+  watcher.on('change', (filePath) => consider(filePath, 'changed'));
+  watcher.on('error', (error) => report(error));
+
+  try {
+    const ready = new Promise<void>((resolve) => watcher.once('ready', () => resolve()));
+    await Promise.race([ready, stopRequested]);
+    if (!stopping) {
+      log(`watching ${inbox}${options.poll ? ' (polling)' : ''}, quiet period ${settings.stableMs} ms`);
+      try {
+        const entries = await fsp.readdir(inbox, { withFileTypes: true });
+        const names = entries
+          .filter((entry) => entry.isFile() || entry.isSymbolicLink())
+          .map((entry) => entry.name)
+          .sort();
+        for (const entry of names) consider(path.join(inbox, entry), 'present at start');
+      } catch (error) {
+        report(error);
+      }
+    }
+    await stopRequested;
+  } finally {
+    stopping = true;
+    for (const wake of [...sleepers]) wake();
+    const dropped = await queue.stop();
+    if (dropped.length > 0) log(`stop: ${dropped.length} file(s) left in the inbox for the next start`);
+    await Promise.allSettled([...gates]);
+    await watcher.close();
+    log('stopped');
+  }
+}

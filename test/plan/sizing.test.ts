@@ -1,0 +1,176 @@
+import hypergeometricCdf from '@stdlib/stats-base-dists-hypergeometric-cdf';
+import { describe, expect, it } from 'vitest';
+import {
+  allocateRopes,
+  barnTargetForSite,
+  greedyAllocation,
+  hasDiminishingReturns,
+  roundsToReach,
+  sizeSite,
+  smallestRopes,
+  type BarnSizing,
+} from '../../src/plan/index.js';
+import { seededRng } from '../../src/util/random.js';
+import { expectClose } from '../helpers/expectClose.js';
+import { hypergeometricDetect, imperfectDetect } from './helpers.js';
+
+describe('local detection helper (the model fed to the planner in tests)', () => {
+  it('matches the FIELD.md check values and the @stdlib hypergeometric distribution', () => {
+    expectClose(hypergeometricDetect(36, 1, 6), 1 / 6, { rel: 1e-12 }, 'FIELD.md check: N=36 d=1 n=6'); // method 1
+    expectClose(hypergeometricDetect(36, 9, 6), 0.848028, { abs: 5e-7 }, 'FIELD.md check: N=36 d=9 n=6');
+    expectClose(hypergeometricDetect(40, 2, 10), 1 - 870 / 1560, { rel: 1e-12 }, 'FIELD.md check (by hand): N=40 d=2 n=10');
+    expectClose(imperfectDetect(36, 9, 6, 0.9), 0.807354, { abs: 5e-7 }, 'FIELD.md check: N=36 d=9 n=6 Se=0.9'); // method 2
+    expectClose(imperfectDetect(40, 4, 10, 0.9), 0.653525, { abs: 5e-7 }, 'FIELD.md check: N=40 d=4 n=10 Se=0.9');
+    // Oracle: P(X = 0) = cdf(0; N, K=d, n) of @stdlib's hypergeometric.
+    for (const [N, d, n] of [[36, 9, 6], [100, 5, 45], [20, 3, 7]] as const) {
+      expectClose(hypergeometricDetect(N, d, n), 1 - hypergeometricCdf(0, N, d, n), { rel: 1e-12 }, `@stdlib oracle N=${N} d=${d} n=${n}`);
+    }
+  });
+});
+
+describe('smallest rope count for a target', () => {
+  it('finds the finite-population sample sizes of the classic tables, one rope fewer falling short', () => {
+    // FIELD.md check values (Cannon & Roe 1982 table, from memory; method 4).
+    for (const [N, d, expected] of [[100, 5, 45], [100, 10, 25]] as const) {
+      const detect = (n: number) => hypergeometricDetect(N, d, n);
+      const result = smallestRopes(detect, 0.95, N);
+      expect(result).toMatchObject({ reachable: true, ropes: expected });
+      expect(detect(expected)).toBeGreaterThanOrEqual(0.95);
+      expect(detect(expected - 1)).toBeLessThan(0.95);
+    }
+  });
+
+  it('finds the binomial sample sizes 299, 149, 59, 29, 14, 5 at 95% confidence', () => {
+    // FIELD.md check values (method 3; classic tables, from memory).
+    const cases = [[0.01, 299], [0.02, 149], [0.05, 59], [0.1, 29], [0.2, 14], [0.5, 5]] as const;
+    for (const [p, expected] of cases) {
+      const result = smallestRopes((n) => 1 - (1 - p) ** n, 0.95, 10_000);
+      expect(result, `p=${p}`).toMatchObject({ reachable: true, ropes: expected });
+    }
+  });
+
+  it('reports an unreachable target with the ceiling and the rounds that would reach it', () => {
+    // FIELD.md check (method 11): N=40, d=1, Se=0.9, target 0.95 -> ceiling 0.90 with n = N;
+    // 1 - 0.1^2 = 0.99 >= 0.95 > 0.90, so 2 rounds (by hand).
+    const result = smallestRopes((n) => imperfectDetect(40, 1, n, 0.9), 0.95, 40);
+    expect(result.reachable).toBe(false);
+    if (result.reachable) return;
+    expectClose(result.ceiling, 0.9, { rel: 1e-12 }, 'N=40 d=1 Se=0.9 n=40 ceiling');
+    expect(result.roundsNeeded).toBe(2);
+    expect(result.message).toMatch(/90\.0%.*2 negative rounds.*99\.0%/);
+    expect(smallestRopes(() => 0, 0.95, 10)).toMatchObject({ reachable: false, ceiling: 0, roundsNeeded: null });
+  });
+
+  it('counts rounds exactly at a decimal boundary where floating point rounds down', () => {
+    // By hand: 1 - 0.1^2 = 0.99 exactly, although it evaluates to 0.98999999999999999 in binary.
+    expect(roundsToReach(0.9, 0.99)).toBe(2);
+    expect(roundsToReach(0.5, 0.95)).toBe(5); // 1 - 0.5^4 = 0.9375 < 0.95 <= 1 - 0.5^5 = 0.96875
+    expect(() => roundsToReach(1.2, 0.95)).toThrow('`perRound` must be a number in [0, 1], got 1.2');
+  });
+});
+
+describe('site sizing and budget allocation', () => {
+  it('gives the barn-level target 1 - (1 - C)^(1/k) and the site value of three similar barns', () => {
+    // By hand: 0.05^(1/3) = 0.368403, so 0.631597 (FIELD.md method 5).
+    expectClose(barnTargetForSite(0.95, 3), 1 - 0.05 ** (1 / 3), { rel: 1e-14 }, 'C=0.95 k=3');
+    expectClose(barnTargetForSite(0.95, 3), 0.631597, { abs: 5e-7 }, 'C=0.95 k=3 (6 digits)');
+    // FIELD.md check: three similar barns at p = 0.85 each -> 0.996625.
+    const barns = ['B1', 'B2', 'B3'].map((barnId) => ({ barnId, maxRopes: 1, detect: (n: number) => (n >= 1 ? 0.85 : 0) }));
+    expectClose(allocateRopes(barns, 3).siteDetection, 0.996625, { abs: 5e-7 }, 'three barns at 0.85');
+  });
+
+  it('knows which detection models have diminishing returns, where greedy allocation is optimal', () => {
+    const table = (detect: (n: number) => number, max: number) => Array.from({ length: max + 1 }, (_, n) => Math.log1p(-detect(n)));
+    // Binomial: log-miss n log(1 - p Se) is linear in n, hence convex (by hand).
+    expect(hasDiminishingReturns(table((n) => 1 - 0.9 ** n, 30))).toBe(true);
+    // Hypergeometric, d = 1: log-miss log(1 - n/N) is concave in n (by hand).
+    expect(hasDiminishingReturns(table((n) => hypergeometricDetect(20, 1, n), 20))).toBe(false);
+  });
+
+  it('shows that greedy alone misses the optimum when returns increase, and the allocator does not', () => {
+    // By hand: barn A (N=3, d=1) is found for certain with 3 ropes; barn X (N=10, d=5) gains more
+    // per rope at first (log 2 > log 1.5), so greedy spends all 3 there: 1 - C(5,3)/C(10,3) = 0.9167.
+    const barns: BarnSizing[] = [
+      { barnId: 'A', maxRopes: 3, detect: (n) => hypergeometricDetect(3, 1, n) },
+      { barnId: 'X', maxRopes: 10, detect: (n) => hypergeometricDetect(10, 5, n) },
+    ];
+    expectClose(greedyAllocation(barns, 3).siteDetection, 1 - 10 / 120, { rel: 1e-12 }, 'greedy A+X budget 3');
+    const best = allocateRopes(barns, 3);
+    expect(best.method).toBe('dynamic-programming');
+    expect(best.siteDetection).toBe(1);
+    expect(best.ropes.map((r) => r.ropes)).toEqual([3, 0]);
+  });
+
+  function bruteForce(barns: readonly BarnSizing[], budget: number): { best: number; fewest: number } {
+    let best = -1;
+    let fewest = Infinity;
+    const walk = (b: number, left: number, miss: number, used: number) => {
+      if (b === barns.length) {
+        const p = 1 - miss;
+        if (p > best + 1e-12) {
+          best = p;
+          fewest = used;
+        } else if (Math.abs(p - best) <= 1e-12) fewest = Math.min(fewest, used);
+        return;
+      }
+      for (let n = 0; n <= Math.min(left, barns[b]!.maxRopes); n++) walk(b + 1, left - n, miss * (1 - barns[b]!.detect(n)), used + n);
+    };
+    walk(0, budget, 1, 0);
+    return { best, fewest };
+  }
+
+  function randomSite(rng: () => number, model: 'hypergeometric' | 'binomial'): BarnSizing[] {
+    const count = 2 + Math.floor(rng() * 2);
+    return Array.from({ length: count }, (_, b) => {
+      const N = 3 + Math.floor(rng() * 6);
+      const d = 1 + Math.floor(rng() * 3);
+      const se = [1, 0.9, 0.7][Math.floor(rng() * 3)]!;
+      const p = 0.05 + 0.3 * rng();
+      const detect = model === 'hypergeometric' ? (n: number) => imperfectDetect(N, Math.min(d, N), n, se) : (n: number) => 1 - (1 - p * se) ** n;
+      return { barnId: `B${b}`, maxRopes: N, detect };
+    });
+  }
+
+  it('allocates a budget exactly as well as enumerating every allocation, on small random sites', () => {
+    const rng = seededRng(7);
+    for (let trial = 0; trial < 60; trial++) {
+      const model = trial % 2 === 0 ? 'hypergeometric' : 'binomial';
+      const barns = randomSite(rng, model);
+      const total = barns.reduce((s, b) => s + b.maxRopes, 0);
+      const budget = Math.floor(rng() * (total + 1));
+      const result = allocateRopes(barns, budget);
+      const oracle = bruteForce(barns, budget);
+      expectClose(result.siteDetection, oracle.best, { rel: 1e-9, abs: 1e-12 }, `trial ${trial} ${model} budget ${budget}`);
+      expect(result.total).toBeLessThanOrEqual(budget);
+      expect(result.total + result.unused).toBe(budget);
+      if (model === 'binomial') expect(result.method).toBe('greedy');
+    }
+  });
+
+  it('sizes a site with the fewest ropes reaching the target, never more than sizing each barn alone', () => {
+    const rng = seededRng(11);
+    for (let trial = 0; trial < 30; trial++) {
+      const barns = randomSite(rng, trial % 2 === 0 ? 'hypergeometric' : 'binomial');
+      const target = 0.8;
+      const result = sizeSite(barns, target);
+      const total = barns.reduce((s, b) => s + b.maxRopes, 0);
+      // Oracle: the smallest budget whose brute-force optimum reaches the target.
+      let fewest: number | null = null;
+      for (let m = 0; m <= total && fewest === null; m++) if (bruteForce(barns, m).best >= target - 1e-12) fewest = m;
+      if (fewest === null) {
+        expect(result.reachable).toBe(false);
+        expect(result.unreachable?.roundsNeeded).toBe(roundsToReach(result.allocation.siteDetection, target));
+      } else {
+        expect(result.reachable, `trial ${trial}`).toBe(true);
+        expect(result.allocation.total, `trial ${trial}`).toBe(fewest);
+        expect(result.allocation.siteDetection).toBeGreaterThanOrEqual(target - 1e-12);
+        if (result.equalShareTotal !== null) expect(result.allocation.total).toBeLessThanOrEqual(result.equalShareTotal);
+      }
+    }
+  });
+
+  it('rejects a budget that is not a whole number of ropes', () => {
+    expect(() => allocateRopes([], 2.5)).toThrow('`budget` must be an integer in [0, infinity), got 2.5');
+    expect(() => sizeSite([], 0.95)).toThrow(RangeError);
+  });
+});
