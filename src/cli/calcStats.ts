@@ -50,6 +50,16 @@ interface FreedomCliOptions {
 
 const ORDERS: readonly FreedomOrder[] = ['update-then-discount', 'discount-then-update'];
 
+/**
+ * Registers `calc detect`, `calc sample-size`, `calc site` and `calc freedom` on the `calc` command.
+ * Each answers from src/stats (hypergeometric / Cameron & Baldock 1998 detection, exact sample
+ * size, 1 - prod(1 - p) across barns, Martin, Cameron & Greiner 2007 freedom) and prints JSON with
+ * --json or one sentence without. Freedom rounds follow the textbook order by default: rounds[i] =
+ * { posterior after round i's result, nextPrior = posterior (1 - PI) }; --order discount-then-update
+ * discounts the configured prior before round 1 (FIELD.md check value 0.495 -> 0.8305369).
+ * @throws UsageError (exit 2) naming the option for a missing or out-of-range argument.
+ * @see Cameron AR, Baldock FC 1998, Prev Vet Med 34:1-17; Martin PAJ, Cameron AR, Greiner M 2007, Prev Vet Med 79:71-97.
+ */
 export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
   calc
     .command('detect')

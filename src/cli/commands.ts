@@ -11,6 +11,7 @@ import { plannedIdChecker } from '../ingest/plannedIds.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
 import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
+import { runDemo } from '../demo/runDemo.js';
 import { watchInbox } from '../watch/index.js';
 import { openWorkspace, resolvePaths, type PathOptions, type Workspace } from '../workspace.js';
 import { InputRejectedError, printJson, UsageError, type CliIo } from './io.js';
@@ -196,5 +197,14 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       }
       for (const analysis of analyses) io.stdout(`wrote ${analysis.site.id}: ${analysis.rounds.length} round(s)\n`);
     });
+  });
+
+  addCommonOptions(
+    program
+      .command('demo')
+      .description('run the invented demo scenario end to end: writes config/, drops files into inbox/ and processes them into outbox/ (resets the demo store first)')
+      .option('--force', 'also reset a store that holds files the demo did not make'),
+  ).action(async (options: CommonOptions & { force?: boolean }) => {
+    await runDemo(io, resolvePaths(io.cwd, options), options.force === true);
   });
 }

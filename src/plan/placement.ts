@@ -11,14 +11,16 @@
  * Snapping: first every rope whose target is an in-use pen takes it (targets of one phase are
  * distinct pens, see below); then, in rope order, a rope whose target is empty or out of use
  * moves to the nearest in-use pen not yet taken (Euclidean distance between pen centres; ties:
- * same row as the target, then the lower pen in row-then-position order). Empty and out-of-use
- * pens are never chosen.
+ * same row as the target, then the lower pen in row-then-position order). Two passes so that a
+ * rope that had to move never pushes a rope off its own systematic spot: only ropes aimed at an
+ * empty or out-of-use pen move. Empty and out-of-use pens are never chosen.
  *
  * Rotation rule: the start phase s* is the phase whose placement has the smallest covering
  * radius, then the smallest mean distance, then the lowest index; round r uses phase
  * (s* + r) mod K. Any K consecutive rounds therefore use every phase, every slot of the barn is
- * the direct target of one of them, and a direct target that is in use is always taken (pass
- * one), so every in-use pen has a rope within K rounds. {@link coverageRounds} simulates this.
+ * the direct target of one of them (the floor(k P / n) + j, j < ceil(P / n), leave no gap), and
+ * a direct target that is in use gets its rope in that round, so every in-use pen has a rope
+ * within K rounds. {@link coverageRounds} simulates this.
  *
  * Why targets are distinct: ropes on one row are R P / n >= 1 positions apart (n <= in-use pens
  * <= R P), and the largest target floor((n-1) P / n + J - 1) with J = ceil(P / n) stays below P.
@@ -255,7 +257,7 @@ function validate(grid: Grid, options: SystematicOptions): void {
  * @throws RangeError for a rope count outside [0, in-use pens], a negative or fractional round
  *   index, a period outside [2, pens per row], or `pens` that are not a full rows x positions grid
  * @see Cochran WG (1977) Sampling Techniques, ch. 8.
- * @example placeSystematic(expandLayout(twoBySix), { ropes: 2, roundIndex: 0 }).penIds
+ * @example placeSystematic(expandLayout(oneRowOfSix), { ropes: 2, roundIndex: 0 }).penIds // ['A2', 'A5']
  */
 export function placeSystematic(pens: readonly Pen[], options: SystematicOptions): SystematicPlacement {
   const grid = buildGrid(pens);

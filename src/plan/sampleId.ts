@@ -4,14 +4,16 @@
  *
  * Grammar (after upper-casing and removing all white space):
  *
- *     ID       = SITE ROUND "-"? SEQUENCE CHECK
+ *     ID       = SITE ROUND "-" SEQUENCE CHECK
  *     SITE     = [A-Z0-9]{1,4} [A-Z]      2 to 5 characters from config, ending in a letter
  *     ROUND    = [0-9]{2,4}               round number, zero-padded to 2 digits, no extra zeros
  *     SEQUENCE = [0-9]{3}                 001 to 999 within the round
  *     CHECK    = [0-9A-Z*]                ISO/IEC 7064 MOD 37-2 over SITE ROUND SEQUENCE
  *
- * e.g. `KES07-014G`. SITE ends in a letter so that the split between site and round is unique;
- * SEQUENCE has a fixed width so that the hyphen may be left out when typing. The generated parts
+ * e.g. `KES07-014G`. SITE ends in a letter so that the split between site and round is unique.
+ * The hyphen is required: were it optional, a digit typed for the hyphen (`KES078014G`) would
+ * read as round 078... an insertion into the checked string, which no check character catches
+ * for certain. White space is ignored, so a space cannot stand in for the hyphen. The generated parts
  * (round, sequence) are digits only, so I, O and L never appear there; the check character can
  * be any of 37 symbols, and the planner skips sequence numbers whose check character would be
  * I, O or L (see {@link isWriteFriendlyCheck}), so that no printed ID carries one.
@@ -21,7 +23,7 @@
  * (adjacent transposition), neither of which is 0 mod 37 when a != b and |a - b| < 37, so it
  * detects every single substitution and every adjacent transposition. The hybrid MOD 37,36 misses
  * a few adjacent transpositions (an exhaustive search over random IDs finds them, e.g.
- * `JI0R4RUE` and `IJ0R4RUE` share a check character), so it does not meet the brief.
+ * `JI0R4RUE` and `IJ0R4RUE` share a check character), so it cannot promise that a swap is caught.
  * @see ISO/IEC 7064:2003, Information technology - Security techniques - Check character systems.
  */
 import { requireInteger } from './checks.js';
@@ -33,7 +35,7 @@ const MOD37_ALPHABET = '0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ*';
 const AMBIGUOUS_CHECKS = new Set(['I', 'O', 'L']);
 
 const SITE_PATTERN = /^[A-Z0-9]{1,4}[A-Z]$/;
-const ID_PATTERN = /^([A-Z0-9]{1,4}[A-Z])([0-9]{2,4})-?([0-9]{3})([0-9A-Z*])$/;
+const ID_PATTERN = /^([A-Z0-9]{1,4}[A-Z])([0-9]{2,4})-([0-9]{3})([0-9A-Z*])$/;
 
 /**
  * ISO/IEC 7064 pure system check value: P = 0; for each character value a: P = 2 (P + a) mod M;
@@ -125,8 +127,8 @@ function matchGrammar(text: string): GrammarMatch | null {
 }
 
 /**
- * Parses a sample ID as typed or exported by a lab: case-insensitive, white space ignored,
- * hyphen optional. Returns a coded result, never throws.
+ * Parses a sample ID as typed or exported by a lab: case-insensitive, white space ignored.
+ * Returns a coded result, never throws.
  * `malformed`: does not match the grammar; `bad-check`: matches but the MOD 37-2 check fails
  * (a mistyped character or two swapped neighbours).
  * @see ISO/IEC 7064:2003, MOD 37-2.

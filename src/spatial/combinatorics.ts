@@ -29,6 +29,7 @@ export function logChoose(n: number, k: number): number {
  * sum_{t >= x} C(K, t) C(N-K, n-t) / C(N, n). The upper terms are summed directly (never
  * 1 - lower tail, which loses the digits of a small p-value).
  *
+ * @example hypergeometricUpperTail(1, 5, 1, 2) // 0.4 = 1 - C(4,2)/C(5,2) (test/spatial/localJoinCount.test.ts)
  * @param x integer; values below the support give 1, above give 0.
  * @param population N integer >= 0; @param successes K in [0, N]; @param draws n in [0, N].
  * @throws RangeError on bad arguments.

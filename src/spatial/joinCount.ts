@@ -5,7 +5,7 @@
  */
 import type { Rng } from '../util/random.js';
 import { logChoose } from './combinatorics.js';
-import { weightConstants, type SpatialWeights } from './weights.js';
+import { subWeights, weightConstants, type SpatialWeights } from './weights.js';
 
 export interface JoinCounts {
   /** Positive-positive joins, 1/2 sum_ij w_ij x_i x_j. */
@@ -135,6 +135,7 @@ function falling(n: number, k: number): number {
  * E(BW) = S0 n1 (n - n1) / n^(2); E(WW) = 1/2 S0 n0^(2)/n^(2).
  *
  * @param positives n1, integer in [0, n].
+ * @example joinCountMoments(fenceRowOf6, 2) // { expectedBB: 1/3, varianceBB: 2/9, ... } (FIELD.md; test/spatial/joinCount.test.ts)
  * @throws RangeError on bad n1.
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes: Models and Applications, ch. 1-2.
  */
@@ -160,7 +161,8 @@ function zeroIfTiny(variance: number, scale: number): number {
  * Exact BB moments under stratified permutation (positives permuted within each stratum),
  * from joint inclusion probabilities: P(all of a pen set positive) = prod_s n1s^(m_s)/ns^(m_s),
  * m_s = pens of the set in stratum s. E(BB) = sum_e a_e P(e); E(BB^2) = sum_e sum_f a_e a_f P(e u f).
- * With block-diagonal weights (no joins between strata) it sums the per-stratum non-free moments.
+ * With block-diagonal weights (no joins between strata) this equals the sum of the per-stratum
+ * non-free moments, which is what is computed then.
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes, ch. 2 (moments of join counts by inclusion probabilities).
  */
 export function stratifiedJoinCountMoments(w: SpatialWeights, strata: readonly number[], positive: readonly boolean[]): { expectedBB: number; varianceBB: number } {
@@ -173,6 +175,21 @@ export function stratifiedJoinCountMoments(w: SpatialWeights, strata: readonly n
     size.set(s, (size.get(s) ?? 0) + 1);
     if (positive[i]) pos.set(s, (pos.get(s) ?? 0) + 1);
   });
+  // Block-diagonal weights (no join between strata, the usual site case): strata are independent,
+  // so the moments are sums of the per-stratum non-free moments, without the O(joins^2) sum.
+  let crossJoins = false;
+  for (let i = 0; i < n && !crossJoins; i++) for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) if (strata[w.neighbours[a]!] !== strata[i]) crossJoins = true;
+  if (!crossJoins) {
+    let expectedBB = 0;
+    let varianceBB = 0;
+    for (const s of size.keys()) {
+      const members = strata.flatMap((t, i) => (t === s ? [i] : []));
+      const m = joinCountMoments(subWeights(w, members), pos.get(s) ?? 0);
+      expectedBB += m.expectedBB;
+      varianceBB += m.varianceBB;
+    }
+    return { expectedBB, varianceBB: zeroIfTiny(varianceBB, expectedBB) };
+  }
   const g = joinGraph(w);
   const edges: [number, number, number][] = [];
   for (let i = 0; i < n; i++) for (let a = g.offsets[i]!; a < g.offsets[i + 1]!; a++) if (g.neighbours[a]! > i) edges.push([i, g.neighbours[a]!, g.weights[a]!]);

@@ -126,6 +126,7 @@ function maxLlr(win: ScanWindows, label: Uint8Array, C: number, t: Float64Array,
  * overlap no window already listed, each compared with the same null distribution of the
  * maximum (conservative for them).
  *
+ * @example bernoulliScan(rowOf6, [f,t,t,f,f,f], ...).mostLikely // pens P1-P3, llr = ln 3 + 2 ln 1.5, p -> 9/15 (test/spatial/scan.test.ts)
  * @param points sampled in-use pens with coordinates (pen units).
  * @param positive one flag per point.
  * @throws RangeError on mismatched lengths, fewer than 2 pens or bad options.

@@ -324,6 +324,30 @@ export function weightConstants(w: SpatialWeights): WeightConstants {
   return { s0, s1, s2 };
 }
 
+/**
+ * The weights among a subset of the pens (indices into `w.ids`), kept exactly as stored
+ * (no re-standardisation), for per-barn blocks of site weights.
+ * @throws RangeError on a bad or repeated index.
+ */
+export function subWeights(w: SpatialWeights, indices: readonly number[]): SpatialWeights {
+  const n = w.ids.length;
+  const local = new Map<number, number>();
+  indices.forEach((i, k) => {
+    if (!Number.isInteger(i) || i < 0 || i >= n || local.has(i)) throw new RangeError(`\`indices\` must be distinct integers in [0, ${n - 1}], got ${i}`);
+    local.set(i, k);
+  });
+  const rows: Map<number, number>[] = indices.map((i) => {
+    const row = new Map<number, number>();
+    for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) {
+      const k = local.get(w.neighbours[a]!);
+      if (k !== undefined) row.set(k, w.weights[a]!);
+    }
+    return row;
+  });
+  const packed = packRows(indices.map((i) => w.ids[i]!), rows, 'binary', `${w.description} (subset)`);
+  return Object.freeze({ ...packed, style: w.style });
+}
+
 /** Dense copy of the weights (tests and the naive benchmark only). */
 export function denseWeights(w: SpatialWeights): number[][] {
   const n = w.ids.length;

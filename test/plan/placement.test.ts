@@ -118,6 +118,9 @@ describe('systematic placement', () => {
           const ropes = inUse === 0 ? 0 : 1 + (ropeSeed % inUse);
           const placed = placeSystematic(pens, { ropes, roundIndex: round });
           expect(new Set(placed.penIds).size).toBe(ropes);
+          // Only ropes aimed at an empty or out-of-use pen move (two-pass snapping).
+          const offTarget = placed.ropes.filter((r) => pens.find((p) => p.row === r.targetRow && p.position === r.targetPosition)!.status !== 'in-use');
+          expect(placed.ropes.filter((r) => r.snapped)).toEqual(offTarget);
           for (const id of placed.penIds) expect(pens.find((p) => p.id === id)!.status).toBe('in-use');
           if (ropes > 0) expect(unionOverRounds(pens, ropes, coverageRounds(pens, ropes).rounds).size).toBe(inUse);
         },

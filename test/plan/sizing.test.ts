@@ -40,6 +40,11 @@ describe('smallest rope count for a target', () => {
     }
   });
 
+  it('finds half the pens for a 50% chance of hitting the one infected pen', () => {
+    // By hand: N = 36, d = 1, perfect test: P = n / 36 >= 0.5 first at n = 18 (method 1).
+    expect(smallestRopes((n) => 1 - (36 - n) / 36, 0.5, 36)).toMatchObject({ reachable: true, ropes: 18 });
+  });
+
   it('finds the binomial sample sizes 299, 149, 59, 29, 14, 5 at 95% confidence', () => {
     // FIELD.md check values (method 3; classic tables, from memory).
     const cases = [[0.01, 299], [0.02, 149], [0.05, 59], [0.1, 29], [0.2, 14], [0.5, 5]] as const;
@@ -62,8 +67,10 @@ describe('smallest rope count for a target', () => {
   });
 
   it('counts rounds exactly at a decimal boundary where floating point rounds down', () => {
-    // By hand: 1 - 0.1^2 = 0.99 exactly, although it evaluates to 0.98999999999999999 in binary.
-    expect(roundsToReach(0.9, 0.99)).toBe(2);
+    // By hand: 1 - 0.31^2 = 1 - 0.0961 = 0.9039 exactly, but -expm1(2 log1p(-0.69)) evaluates
+    // to 0.9038999999999999 in binary floating point: two rounds, not three.
+    expect(roundsToReach(0.69, 0.9039)).toBe(2);
+    expect(roundsToReach(0.9, 0.99)).toBe(2); // 1 - 0.1^2 = 0.99 (by hand)
     expect(roundsToReach(0.5, 0.95)).toBe(5); // 1 - 0.5^4 = 0.9375 < 0.95 <= 1 - 0.5^5 = 0.96875
     expect(() => roundsToReach(1.2, 0.95)).toThrow('`perRound` must be a number in [0, 1], got 1.2');
   });

@@ -36,10 +36,12 @@ describe('barn-round and site-round analysis', () => {
     expect(r.joinCount!.bb).toBeGreaterThan(0);
     expect(r.clusters[0]!.pens).toEqual(['A1', 'B2', 'A4', 'B5']);
     expect(r.clusters[0]!.newPens).toEqual(['B2', 'A4', 'B5']);
-    // Rope spacing here is 3 (A1 to A4): new positives at the next ropes (B2 1.8, A4 3, B5 4.27 from
-    // A1) are adjacent once the threshold reaches the next rope, max(2.5, spacing) = 3 -> B5 is distant.
-    expect(r.spread.thresholds.adjacentDistance).toBe(3);
-    expect(r.spread.newPositives.map((p) => p.kind)).toEqual(['adjacent', 'adjacent', 'distant']);
+    // By hand: rope spacing = median second-nearest rope distance = the diagonal to the next pair,
+    // sqrt(2^2 + 1.5^2) = 2.5, so the threshold is max(2.5, 2.5). From the earlier positive A1 (0.5, 0.5):
+    // B2 (1.5, 2) is 1.80 away (adjacent), A4 3 and B5 4.27 (distant), so the round is a distant new focus.
+    expectClose(r.spread.thresholds.adjacentDistance, 2.5, { rel: 1e-12 }, 'adjacent threshold');
+    expect(r.spread.newPositives.map((p) => p.kind)).toEqual(['adjacent', 'distant', 'distant']);
+    expect(r.spread.pattern).toBe('distant-new-focus');
     expect(r.detection!.ropes).toBe(r.n);
     expect(r.pens.find((p) => p.id === 'A1')!.localBB).not.toBeNull();
   });

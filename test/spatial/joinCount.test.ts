@@ -195,3 +195,25 @@ describe('join counts', () => {
     expect(() => joinCountTest(row6, labels(6, [1]), { rng: seededRng(1), permutations: 0 })).toThrow(/permutations/);
   });
 });
+
+describe('stratified join counts without joins between strata', () => {
+  it('match brute force over C(4,2) x C(5,2) placements for two separate blocks', () => {
+    // Exhaustive enumeration: a row of 4 and a row of 5 (fence joins), positives permuted within rows.
+    const ids = Array.from({ length: 9 }, (_, i) => `p${i}`);
+    const w = weightsFromEdges(ids, [[0, 1], [1, 2], [2, 3], [4, 5], [5, 6], [6, 7], [7, 8]], 'row', 'two rows');
+    const strata = [0, 0, 0, 0, 1, 1, 1, 1, 1];
+    const positive = labels(9, [0, 1, 6, 8]);
+    let sum = 0;
+    let sumSq = 0;
+    let count = 0;
+    for (const a of subsets(4, 2)) for (const b of subsets(5, 2)) {
+      const bb = joinCounts(w, labels(9, [...a, ...b.map((i) => i + 4)])).bb;
+      sum += bb;
+      sumSq += bb * bb;
+      count++;
+    }
+    const m = stratifiedJoinCountMoments(w, strata, positive);
+    expectClose(m.expectedBB, sum / count, { rel: 1e-12 }, 'block E(BB)');
+    expectClose(m.varianceBB, sumSq / count - (sum / count) ** 2, { rel: 1e-9 }, 'block Var(BB)');
+  });
+});

@@ -11,6 +11,8 @@ describe('beta quantile and incomplete beta', () => {
     expectClose(regularizedIncompleteBeta(0.3, 4, 1), 0.3 ** 4, { rel: 1e-13 }, 'x=0.3 a=4 b=1');
     expectClose(regularizedIncompleteBeta(0.3, 1, 7), 1 - 0.7 ** 7, { rel: 1e-13 }, 'x=0.3 a=1 b=7');
     expectClose(regularizedIncompleteBeta(0.5, 2, 3), 11 / 16, { rel: 1e-13 }, 'x=0.5 a=2 b=3');
+    // Inverse of the same hand value: the 11/16 quantile of Beta(2, 3) is 0.5.
+    expectClose(betaQuantile(11 / 16, 2, 3), 0.5, { rel: 1e-13 }, 'p=11/16 a=2 b=3');
   });
 
   it('matches the binomial tail identity I_p(k, n-k+1) = P(Bin(n, p) >= k) against @stdlib', () => {

@@ -8,6 +8,7 @@ import {
   sampleSize,
 } from '../../src/stats/index.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { randomInt, seededRng } from '../../src/util/random.js';
 import oracle from '../fixtures/stats/oracle.json' with { type: 'json' };
 
 describe('sample size, finite barn', () => {
@@ -23,6 +24,29 @@ describe('sample size, finite barn', () => {
     expect(oracle.sampleSize.length).toBeGreaterThan(20);
     for (const row of oracle.sampleSize) {
       expect(sampleSize({ pens: row.N, infected: row.d, confidence: row.confidence }).sampled, `N=${row.N} d=${row.d} C=${row.confidence}`).toBe(row.sampled);
+    }
+  });
+
+  it('agrees with exact rational arithmetic, including targets met exactly', () => {
+    // Oracle: BigInt binomial coefficients, no floating point: n reaches C = c/100 exactly when
+    // 100 C(N-d, n) <= (100 - c) C(N, n). @stdlib misses some exact ties (N=20 d=1 n=18 gives 18/20 = 0.9
+    // exactly; @stdlib's 1 - cdf(0) is 0.899999999999999), which is why this oracle is exact.
+    const binom = (n: bigint, k: bigint): bigint => {
+      let r = 1n;
+      for (let i = 0n; i < k; i++) r = (r * (n - i)) / (i + 1n);
+      return r;
+    };
+    const reaches = (N: number, d: number, n: number, c: number): boolean =>
+      n + d > N || binom(BigInt(N - d), BigInt(n)) * 100n <= BigInt(100 - c) * binom(BigInt(N), BigInt(n));
+    expect(sampleSize({ pens: 20, infected: 1, confidence: 0.9 }).sampled).toBe(18);
+    const rng = seededRng(23);
+    for (let k = 0; k < 300; k++) {
+      const N = 2 + randomInt(rng, 150);
+      const d = 1 + randomInt(rng, Math.max(1, Math.floor(N / 3)));
+      const c = [50, 75, 80, 90, 95, 99][randomInt(rng, 6)]!;
+      let exact = 0;
+      while (!reaches(N, d, exact, c)) exact++;
+      expect(sampleSize({ pens: N, infected: d, confidence: c / 100 }).sampled, `N=${N} d=${d} C=${c / 100}`).toBe(exact);
     }
   });
 
@@ -112,6 +136,14 @@ describe('sample size, infinite population (binomial)', () => {
     expect(sampleSize({ pens: Infinity, prevalence: 0.5, confidence: 0.75 }).sampled).toBe(2);
     // By hand: p = 0.1, C = 1 - 0.9^3 = 0.271: n = 3; the quotient may round to 3.0000000000000004.
     expect(sampleSize({ pens: Infinity, prevalence: 0.1, confidence: 1 - 0.9 ** 3 }).sampled).toBe(3);
+  });
+
+  it('does not overshoot by one when the closed form rounds up past an exactly met target', () => {
+    // Regression: C = 1 - 0.5^29 (met exactly by 29 ropes, by hand) gives ln(1-C)/ln(0.5) = 29.000000001
+    // in floating point, and a bare ceil answers 30.
+    const target = binomialDetection(0.5, 29);
+    expect(Math.ceil(Math.log1p(-target) / Math.log1p(-0.5))).toBe(30);
+    expect(sampleSize({ pens: Infinity, prevalence: 0.5, confidence: target }).sampled).toBe(29);
   });
 
   it('is minimal for any prevalence, sensitivity and target', () => {

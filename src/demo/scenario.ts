@@ -1,0 +1,248 @@
+/**
+ * The demo scenario: an invented cooperative with two sites, two invented labs with different
+ * export layouts, and an infection that starts in one pen and spreads to its neighbours over
+ * rounds. The ground truth (which pens are infected when) is fixed here; what the ropes find is
+ * drawn from it with a seeded generator, so the demo is the same on every run.
+ *
+ * Only invented data lives here; no test uses it as a reference value.
+ */
+import { addDays, format, parseISO } from 'date-fns';
+import type { Barn, Config, Site } from '../config/types.js';
+import { deriveSeed, seededRng, type Rng } from '../util/random.js';
+
+export const DEMO_SEED = 20260803;
+
+export interface DemoDrop {
+  /** When the file lands in the inbox (the demo's clock). */
+  at: string;
+  name: string;
+  bytes: Buffer;
+  /** What this drop shows a newcomer. */
+  note: string;
+}
+
+export interface RopeChoice {
+  sampleId: string;
+  barnId: string;
+  penId: string;
+}
+
+/** Rounds of each site: the day the ropes go up (F3 and N2 a day later than the rest). */
+export const HOLLOW_CREEK_ROUNDS = ['2026-08-03', '2026-08-17', '2026-08-31', '2026-09-14', '2026-09-28', '2026-10-12', '2026-10-26'];
+/** Tamsin Ridge skips its October round: the gap shows what a missed round costs. */
+export const TAMSIN_RIDGE_ROUNDS = ['2026-08-05', '2026-08-26', '2026-09-16', '2026-10-28'];
+/** The demo's "today": after the last results, before the next round is due. */
+export const DEMO_TODAY = '2026-10-31T08:00:00.000Z';
+
+/** PRRSV ground truth in Hollow Creek barn F1, by round index: the infected pens. */
+const F1_INFECTED: readonly (readonly string[])[] = [
+  [],
+  [],
+  ['A6'],
+  ['A5', 'A6', 'A7', 'B6'],
+  ['A4', 'A5', 'A6', 'A7', 'A8', 'B5', 'B6', 'B7'],
+  ['A3', 'A4', 'A5', 'A6', 'A7', 'A8', 'A9', 'B4', 'B5', 'B6', 'B7', 'B8'],
+  ['A2', 'A3', 'A4', 'A5', 'A6', 'A7', 'A8', 'A9', 'A11', 'B3', 'B4', 'B5', 'B6', 'B7', 'B8', 'B9'],
+];
+
+/** Mean Ct of an infected pen's oral fluid by rounds since infection (load peaks, then wanes). */
+const CT_BY_AGE = [31.5, 26.5, 25.0, 27.5, 30.5];
+/** Probability that the rope of an infected pen comes back positive (finisher pigs). */
+const DEMO_ROPE_SENSITIVITY = 0.85;
+
+function infectedAge(barnId: string, penId: string, roundIndex: number): number | undefined {
+  if (barnId !== 'F1') return undefined;
+  if (!F1_INFECTED[roundIndex]?.includes(penId)) return undefined;
+  let first = roundIndex;
+  while (first > 0 && F1_INFECTED[first - 1]!.includes(penId)) first--;
+  return roundIndex - first;
+}
+
+function gaussian(rng: Rng): number {
+  // Box-Muller; 1 - u keeps the logarithm finite.
+  const u = 1 - rng();
+  const v = rng();
+  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+}
+
+const round1 = (value: number) => Math.round(value * 10) / 10;
+
+/** The farm's own rope list: every third pen in use, alternating sides, moving one pen each round. */
+export function farmRopes(barn: Barn, roundIndex: number, every: number, label: (n: number) => string): RopeChoice[] {
+  const inUse = barn.pens.filter((pen) => pen.status === 'in-use');
+  const byPosition = [...inUse].sort((a, b) => a.position - b.position || a.row - b.row);
+  // Sorted by position then row, every third index falls on alternating sides of a two-row barn.
+  const chosen = byPosition.filter((_, index) => (index + roundIndex) % every === 0);
+  return chosen.map((pen, index) => ({ sampleId: label(index + 1), barnId: barn.id, penId: pen.id }));
+}
+
+function csvCell(value: string): string {
+  return /[",;\n]/.test(value) ? `"${value.replace(/"/g, '""')}"` : value;
+}
+
+interface LabRow {
+  sampleId: string;
+  assay: 'PRRSV' | 'IAV';
+  ct: number | null;
+  controlFailed?: boolean;
+  status?: string;
+  collectedOn: string;
+}
+
+/** A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. */
+export function northfieldExport(rows: readonly LabRow[], reportedOn: string, firstCase: number): Buffer {
+  const testName = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR' } as const;
+  const positiveBelow = { PRRSV: 36, IAV: 38 } as const;
+  const header = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
+  const lines = [header.join(',')];
+  rows.forEach((row, index) => {
+    const call = row.controlFailed ? 'Invalid' : row.ct === null ? 'Negative' : row.ct < positiveBelow[row.assay] ? 'Positive' : 'Suspect';
+    lines.push(
+      [
+        `NV26-${String(firstCase + Math.floor(index / 2)).padStart(5, '0')}`,
+        row.sampleId,
+        testName[row.assay],
+        row.controlFailed ? '' : row.ct === null ? 'Undetermined' : row.ct.toFixed(2),
+        call,
+        row.controlFailed ? 'FAIL' : 'PASS',
+        row.collectedOn,
+        reportedOn,
+        row.status ?? 'Final',
+      ]
+        .map(csvCell)
+        .join(','),
+    );
+  });
+  return Buffer.from(lines.join('\n') + '\n', 'utf8');
+}
+
+/** An Ostermark export: a title line, semicolons, decimal commas, dd.MM.yyyy, Latin-1, CRLF, 0 for no signal. */
+export function ostermarkExport(rows: readonly LabRow[], reportedOn: string, order: string): Buffer {
+  const test = { PRRSV: 'PRRSV RT-qPCR', IAV: 'Influenza A RT-qPCR' } as const;
+  const day = (iso: string) => format(parseISO(iso), 'dd.MM.yyyy');
+  const lines = ['Befundübersicht Oralflüssigkeiten', 'Auftrag;Probe;Untersuchung;Ct;Befund;IK;Entnahme;Befunddatum'];
+  for (const row of rows) {
+    const befund = row.controlFailed ? 'ungültig' : row.ct === null ? 'negativ' : 'positiv';
+    const ct = row.controlFailed ? '' : row.ct === null ? '0' : row.ct.toFixed(1).replace('.', ',');
+    lines.push([order, row.sampleId, test[row.assay], ct, befund, row.controlFailed ? 'fehlerhaft' : 'ok', day(row.collectedOn), day(reportedOn)].join(';'));
+  }
+  return Buffer.from(lines.join('\r\n') + '\r\n', 'latin1');
+}
+
+/** A rope sheet in ropewatch's own layout. */
+export function ropeSheet(site: Site, ropes: readonly (RopeChoice & { hungOn: string })[], notes: Record<string, string> = {}): Buffer {
+  const lines = ['sample_id,site,barn,pen,hung_on,notes'];
+  for (const rope of ropes) lines.push([rope.sampleId, site.id, rope.barnId, rope.penId, rope.hungOn, notes[rope.sampleId] ?? ''].map(csvCell).join(','));
+  return Buffer.from(lines.join('\n') + '\n', 'utf8');
+}
+
+const at = (date: string, hour: number) => `${date}T${String(hour).padStart(2, '0')}:00:00.000Z`;
+const plus = (date: string, days: number) => format(addDays(parseISO(date), days), 'yyyy-MM-dd');
+
+/** What a lab would measure on one rope, from the ground truth. */
+function measure(rng: Rng, barnId: string, penId: string, roundIndex: number): number | null {
+  const age = infectedAge(barnId, penId, roundIndex);
+  if (age === undefined) return null;
+  if (rng() >= DEMO_ROPE_SENSITIVITY) return null;
+  return round1(Math.min(39, Math.max(18, (CT_BY_AGE[Math.min(age, CT_BY_AGE.length - 1)] ?? 31) + 1.2 * gaussian(rng))));
+}
+
+/**
+ * The files of one Hollow Creek round. `planned` are the ropes ropewatch planned for this round
+ * (empty before the first plan): when present the farm hangs those tubes and sends no sheet.
+ */
+export function hollowCreekRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): DemoDrop[] {
+  const site = config.siteById.get('HOLLOW-CREEK')!;
+  const date = HOLLOW_CREEK_ROUNDS[roundIndex]!;
+  const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek', roundIndex));
+  const mmdd = date.slice(5).replace('-', '');
+  const drops: DemoDrop[] = [];
+  const hung: (RopeChoice & { hungOn: string })[] = [];
+  for (const barn of site.barns) {
+    const hungOn = barn.id === 'F3' ? plus(date, 1) : date;
+    // Round 6: the F3 crew wrote their own labels and sent the sheet late (results came first).
+    const usePlan = planned.length > 0 && !(roundIndex === 5 && barn.id === 'F3');
+    const choice = usePlan
+      ? planned.filter((rope) => rope.barnId === barn.id)
+      : farmRopes(barn, roundIndex, 3, (n) => `HC-${mmdd}-${barn.id}-${String(n).padStart(2, '0')}`);
+    for (const rope of choice) hung.push({ ...rope, hungOn });
+  }
+  const fromSheet = hung.filter((rope) => rope.sampleId.startsWith('HC-'));
+  const late = roundIndex === 5;
+  const onTimeSheet = late ? fromSheet.filter((rope) => rope.barnId !== 'F3') : fromSheet;
+  if (onTimeSheet.length > 0) {
+    drops.push({ at: at(plus(date, 1), 17), name: `hollow-creek_ropes_${date}.csv`, bytes: ropeSheet(site, onTimeSheet), note: 'rope sheet from the barn staff' });
+  }
+
+  // One planned tube breaks in transit in the first planned round: it never comes back.
+  const lost = planned.length > 0 && roundIndex === 3 ? hung.find((rope) => !rope.sampleId.startsWith('HC-') && rope.barnId === 'F2') : undefined;
+  const prrsv: LabRow[] = [];
+  const iav: LabRow[] = [];
+  for (const rope of hung) {
+    if (rope === lost) continue;
+    let ct = measure(rng, rope.barnId, rope.penId, roundIndex);
+    // Round 4: one stray suspect in F3, never seen again (a high Ct in a dirty matrix).
+    if (roundIndex === 3 && rope.barnId === 'F3' && ct === null && !prrsv.some((row) => row.ct !== null && row.sampleId.includes('F3'))) {
+      const f3 = hung.filter((candidate) => candidate.barnId === 'F3');
+      if (rope === f3[Math.floor(f3.length / 2)]) ct = 36.8;
+    }
+    prrsv.push({ sampleId: rope.sampleId, assay: 'PRRSV', ct, collectedOn: rope.hungOn });
+    iav.push({ sampleId: rope.sampleId, assay: 'IAV', ct: null, collectedOn: rope.hungOn });
+  }
+
+  // Round 5: the first F1 positive comes back as an internal-control failure, then is reissued.
+  let reissue: LabRow | undefined;
+  if (roundIndex === 4) {
+    const target = prrsv.find((row) => row.ct !== null && hung.find((rope) => rope.sampleId === row.sampleId)?.barnId === 'F1');
+    if (target) {
+      reissue = { ...target, status: 'Corrected' };
+      target.ct = null;
+      target.controlFailed = true;
+    }
+  }
+  const reported = plus(date, 3);
+  if (roundIndex % 2 === 0) {
+    drops.push({ at: at(reported, 14), name: `nvdl_results_${reported}.csv`, bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100), note: 'PRRSV and influenza results in one export' });
+  } else {
+    drops.push({ at: at(reported, 11), name: `nvdl_prrsv_${reported}.csv`, bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100), note: 'PRRSV results' });
+    drops.push({ at: at(reported, 15), name: `nvdl_influenza_${reported}.csv`, bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100), note: 'influenza results, a second file the same day' });
+  }
+  if (reissue) {
+    const reissuedOn = plus(date, 4);
+    drops.push({ at: at(reissuedOn, 10), name: `nvdl_corrected_${reissuedOn}.csv`, bytes: northfieldExport([reissue], reissuedOn, 1000 + roundIndex * 100), note: 'a reissued result after re-extraction' });
+  }
+  if (late) {
+    const f3 = fromSheet.filter((rope) => rope.barnId === 'F3');
+    drops.push({ at: at(plus(date, 4), 9), name: `hollow-creek_ropes_F3_${date}.csv`, bytes: ropeSheet(site, f3, { [f3[0]!.sampleId]: 'sheet found in the truck' }), note: 'a late rope sheet: its results arrived first' });
+  }
+  if (roundIndex === 3) {
+    drops.push({
+      at: at(plus(date, 3), 16),
+      name: `nvdl_invoice_${plus(date, 3)}.csv`,
+      bytes: Buffer.from('Invoice,Client,Samples,Amount\nINV-2291,Larkspur Valley,36,412.00\n', 'utf8'),
+      note: 'the wrong report template: refused, kept in inbox/rejected with its reason',
+    });
+  }
+  return drops;
+}
+
+/** The files of one Tamsin Ridge round: pattern-coded tubes, no rope sheet, an Ostermark export. */
+export function tamsinRidgeRound(config: Config, roundIndex: number): DemoDrop[] {
+  const site = config.siteById.get('TAMSIN-RIDGE')!;
+  const date = TAMSIN_RIDGE_ROUNDS[roundIndex]!;
+  const compact = date.replace(/-/g, '');
+  const rows: LabRow[] = [];
+  for (const barn of site.barns) {
+    const ropes = farmRopes(barn, roundIndex, 3, () => '');
+    for (const rope of ropes) {
+      const sampleId = `TR-${barn.id}-${String(Number(rope.penId)).padStart(2, '0')}-${compact}`;
+      const controlFailed = roundIndex === 1 && barn.id === 'N2' && rope === ropes[2];
+      rows.push({ sampleId, assay: 'PRRSV', ct: null, controlFailed, collectedOn: date });
+      rows.push({ sampleId, assay: 'IAV', ct: null, collectedOn: date });
+    }
+  }
+  const reported = plus(date, 2);
+  return [{ at: at(reported, 13), name: `oahl_befund_${reported}.csv`, bytes: ostermarkExport(rows, reported, `OA-${compact}`), note: 'Latin-1, semicolons, decimal commas, 0 for not detected' }];
+}
+
+export { plus as addDaysIso };

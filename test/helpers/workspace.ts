@@ -1,0 +1,107 @@
+/**
+ * Temporary workspaces for tests: a config folder (a copy of the demo config, or custom files),
+ * an inbox, an outbox and a SQLite store in a fresh temp dir. Files go through the real pipeline
+ * (`processFile`) or the CLI (`cliFlags` gives the --config/--db/--inbox/--outbox flags).
+ */
+import { createHash } from 'node:crypto';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { loadConfig } from '../../src/config/load.js';
+import type { Config } from '../../src/config/types.js';
+import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
+import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
+import { processFile, type ProcessOutcome } from '../../src/pipeline.js';
+import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
+
+export const FIXED_NOW = new Date('2026-12-01T12:00:00Z');
+
+export interface TestWorkspaceOptions {
+  /** Copy this config folder (default: the demo config). */
+  configFrom?: string;
+  /** Files to write over the copied config, relative to the config folder (e.g. `labs/x.yaml`). */
+  configFiles?: Record<string, string>;
+}
+
+export interface TestWorkspace {
+  root: string;
+  paths: WorkspacePaths;
+  /** --config/--db/--inbox/--outbox flags for the CLI. */
+  cliFlags: string[];
+  config: () => Config;
+  /** The open workspace (opened on first use; `closeStore` closes it so the CLI can run alone). */
+  ws: () => Workspace;
+  /** Writes `bytes` as inbox/<name> and runs it through processFile. */
+  drop: (name: string, bytes: Buffer | string) => Promise<ProcessOutcome>;
+  closeStore: () => void;
+  /** Removes the temp dir (closing the store first). */
+  cleanup: () => void;
+}
+
+function copyDir(from: string, to: string): void {
+  fs.mkdirSync(to, { recursive: true });
+  for (const entry of fs.readdirSync(from, { withFileTypes: true })) {
+    const source = path.join(from, entry.name);
+    const target = path.join(to, entry.name);
+    if (entry.isDirectory()) copyDir(source, target);
+    else fs.copyFileSync(source, target);
+  }
+}
+
+export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace {
+  const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-test-'));
+  const paths: WorkspacePaths = {
+    configDir: path.join(root, 'config'),
+    dbFile: path.join(root, 'data', 'ropewatch.db'),
+    inbox: path.join(root, 'inbox'),
+    outbox: path.join(root, 'outbox'),
+  };
+  copyDir(options.configFrom ?? DEMO_CONFIG_DIR, paths.configDir);
+  for (const [name, text] of Object.entries(options.configFiles ?? {})) {
+    fs.mkdirSync(path.dirname(path.join(paths.configDir, name)), { recursive: true });
+    fs.writeFileSync(path.join(paths.configDir, name), text);
+  }
+  fs.mkdirSync(paths.inbox, { recursive: true });
+  fs.mkdirSync(paths.outbox, { recursive: true });
+  let open: Workspace | undefined;
+  const ws = () => (open ??= openWorkspace(paths, () => FIXED_NOW, () => {}));
+  const closeStore = () => {
+    open?.close();
+    open = undefined;
+  };
+  return {
+    root,
+    paths,
+    cliFlags: ['--config', paths.configDir, '--db', paths.dbFile, '--inbox', paths.inbox, '--outbox', paths.outbox],
+    config: () => (open ? open.config : loadConfig(paths.configDir)),
+    ws,
+    drop: async (name, bytes) => {
+      const file = path.join(paths.inbox, name);
+      fs.writeFileSync(file, bytes);
+      const workspace = ws();
+      return processFile(workspace, file, plannedIdChecker(workspace.config));
+    },
+    closeStore,
+    cleanup: () => {
+      closeStore();
+      fs.rmSync(root, { recursive: true, force: true });
+    },
+  };
+}
+
+/** Every file under `dir` (relative path, sorted) with its SHA-256, optionally skipping some top-level folders. */
+export function treeHashes(dir: string, skipTop: readonly string[] = []): Record<string, string> {
+  const out: Record<string, string> = {};
+  const walk = (current: string, rel: string) => {
+    if (!fs.existsSync(current)) return;
+    for (const entry of fs.readdirSync(current, { withFileTypes: true }).sort((a, b) => (a.name < b.name ? -1 : 1))) {
+      const relPath = rel === '' ? entry.name : `${rel}/${entry.name}`;
+      if (rel === '' && skipTop.includes(entry.name)) continue;
+      const full = path.join(current, entry.name);
+      if (entry.isDirectory()) walk(full, relPath);
+      else out[relPath] = createHash('sha256').update(fs.readFileSync(full)).digest('hex');
+    }
+  };
+  walk(dir, '');
+  return out;
+}

@@ -1,0 +1,81 @@
+import { describe, expect, it } from 'vitest';
+import { compareSchedules, compareSchedulesGrowing, expectedDelay, infectedAfter, simulateDelay } from '../../src/plan/index.js';
+import { seededRng } from '../../src/util/random.js';
+import { expectClose } from '../helpers/expectClose.js';
+import { hypergeometricDetect, imperfectDetect } from './helpers.js';
+
+describe('expected delay to detection', () => {
+  it('matches the FIELD.md check value D = 1 week, p = 0.246429 -> 3.5580 weeks', () => {
+    expectClose(expectedDelay(1, 0.246429), 3.558, { abs: 5e-5 }, 'FIELD.md check: D=1 p=0.246429');
+    // By hand: p = 1 means the first round finds it, on average half an interval away.
+    expectClose(expectedDelay(14, 1), 7, { rel: 1e-15 }, 'D=14 p=1');
+    expectClose(expectedDelay(7, 0.5), 10.5, { rel: 1e-15 }, 'D=7 p=0.5: 7 (2 - 1/2), by hand');
+    expect(() => expectedDelay(7, 0)).toThrow('`perRound` must be a number in (0, 1], got 0');
+  });
+
+  it('compares n every D with n/2 every D/2 and 2n every 2D at the same ropes per month', () => {
+    // Binomial model, p Se = 0.1 per rope (FIELD.md method 3): p(n) = 1 - 0.9^n.
+    const detect = (n: number) => 1 - 0.9 ** n;
+    const { options, notes } = compareSchedules({ ropes: 10, intervalDays: 14, maxRopes: 40, detect });
+    expect(options.map((o) => [o.ropes, o.intervalDays])).toEqual([[10, 14], [5, 7], [20, 28]]);
+    for (const o of options) expectClose(o.ropesPer30Days, (10 * 30) / 14, { rel: 1e-12 }, `${o.label} ropes per 30 days`);
+    for (const o of options) expectClose(o.expectedDelayDays!, o.intervalDays * (1 / detect(o.ropes) - 0.5), { rel: 1e-12 }, o.label);
+    // With a static prevalence the more frequent schedule is quicker on average (method 10):
+    // 7 (1/0.40951 - 1/2) = 13.59 days < 14 (1/0.65132 - 1/2) = 14.49 < 28 (1/0.87842 - 1/2) = 17.88.
+    expectClose(options[1]!.expectedDelayDays!, 13.5937, { abs: 5e-4 }, 'half every D/2 (by hand)');
+    expect(options[1]!.expectedDelayDays!).toBeLessThan(options[0]!.expectedDelayDays!);
+    expect(options[0]!.expectedDelayDays!).toBeLessThan(options[2]!.expectedDelayDays!);
+    expect(notes).toEqual([]);
+    expect(compareSchedules({ ropes: 25, intervalDays: 14, maxRopes: 40, detect }).notes).toHaveLength(2);
+  });
+});
+
+describe('delay to detection while infection grows (Monte Carlo)', () => {
+  it('converges to D (1/p - 1/2) when prevalence does not grow', () => {
+    const model = { initialInfected: 2, doublingDays: Infinity, maxInfected: 40, detectAt: (n: number, d: number) => hypergeometricDetect(40, d, n) };
+    const result = simulateDelay({ ropes: 6, intervalDays: 7 }, model, { replicates: 20_000, rng: seededRng(3) });
+    const exact = expectedDelay(7, hypergeometricDetect(40, 2, 6));
+    expect(result.censored).toBe(0);
+    // Within 4 standard errors of the formula (FIELD.md method 10).
+    expectClose(result.meanDays!, exact, { abs: 4 * result.standardError! }, 'static d=2 N=40 n=6 D=7');
+  });
+
+  it('draws the introduction uniformly within the round interval', () => {
+    // With certain detection the delay is the wait to the first round, uniform on (0, D):
+    // mean D/2, standard deviation D / sqrt(12) (by hand), so SE = D / sqrt(12 m).
+    const model = { initialInfected: 1, doublingDays: Infinity, maxInfected: 10, detectAt: () => 1 };
+    const m = 20_000;
+    const result = simulateDelay({ ropes: 10, intervalDays: 14 }, model, { replicates: m, rng: seededRng(5) });
+    expectClose(result.standardError!, 14 / Math.sqrt(12 * m), { rel: 0.03 }, 'uniform wait D=14 SE');
+    expectClose(result.meanDays!, 7, { abs: 4 * result.standardError! }, 'uniform wait D=14 mean');
+  });
+
+  it('grows infected pens by doubling and caps them at the pens in use', () => {
+    const model = { initialInfected: 1, doublingDays: 7, maxInfected: 20, detectAt: () => 0 };
+    expect([0, 6.9, 7, 14, 21, 35].map((t) => infectedAfter(model, t))).toEqual([1, 1, 2, 4, 8, 20]); // 2^(t/7), by hand
+  });
+
+  it('finds a faster-growing infection sooner, never later than at a static prevalence, and repeats for a seed', () => {
+    // Invariants of the model, by construction: more infected pens never lower detection
+    // (method 2 is monotone in d), so faster doubling can only shorten the delay.
+    const detectAt = (n: number, d: number) => imperfectDetect(40, d, n, 0.8);
+    const model = (doublingDays: number) => ({ initialInfected: 1, doublingDays, maxInfected: 40, detectAt });
+    const run = (doublingDays: number) =>
+      compareSchedulesGrowing({ ropes: 8, intervalDays: 14, maxRopes: 40 }, model(doublingDays), { replicates: 4000, rng: seededRng(99) });
+    const fast = run(5);
+    const slow = run(20);
+    fast.options.forEach((option, i) => {
+      const slowMean = slow.options[i]!.simulated;
+      const f = option.simulated;
+      expect(f.meanDays! + 2 * f.standardError!, option.label).toBeLessThan(slowMean.meanDays!);
+      expect(slowMean.meanDays! - 2 * slowMean.standardError!, option.label).toBeLessThan(option.expectedDelayDays!);
+    });
+    expect(run(5)).toEqual(fast);
+  });
+
+  it('counts replicates never detected as censored instead of averaging them in', () => {
+    const model = { initialInfected: 1, doublingDays: Infinity, maxInfected: 10, detectAt: () => 0 };
+    const result = simulateDelay({ ropes: 3, intervalDays: 7 }, model, { replicates: 10, rng: seededRng(1), maxRounds: 5 });
+    expect(result).toEqual({ replicates: 10, meanDays: null, standardError: null, censored: 10 });
+  });
+});
