@@ -140,14 +140,16 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       const unresolved = ws.store.unresolvedSampleIds();
       const results = ws.store.currentResults();
       const sites = ws.config.sites.map((site) => {
-        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), results);
+        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), results, ws.store.plannedWithoutResults(site.id));
         const last = rounds.at(-1);
+        const planned = ws.store.plannedRopes(site.id).filter((rope) => rope.afterRound === (last?.number ?? 0));
         return {
           site: site.id,
           name: site.name,
           rounds: rounds.length,
           lastRound: last ? { number: last.number, id: last.id, startOn: last.startOn } : null,
-          plannedRopesOutstanding: ws.store.plannedWithoutResults(site.id).length,
+          missingRopesLastRound: last ? last.barns.flatMap((barn) => barn.missingSampleIds) : [],
+          nextRound: planned.length > 0 ? { ropes: planned.length, dueOn: planned[0]!.dueOn } : null,
         };
       });
       const status = { store: ws.dbFile, ...counts, unresolvedSamples: unresolved, sites };
@@ -167,7 +169,8 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
             (site) =>
               `site ${site.site} (${site.name}): ${site.rounds} round${site.rounds === 1 ? '' : 's'}` +
               (site.lastRound ? `, last ${site.lastRound.id}` : '') +
-              (site.plannedRopesOutstanding ? `, ${site.plannedRopesOutstanding} planned ropes not back yet` : ''),
+              (site.missingRopesLastRound.length ? ` (${site.missingRopesLastRound.length} ropes missing: ${site.missingRopesLastRound.join(', ')})` : '') +
+              (site.nextRound ? `; next round: ${site.nextRound.ropes} ropes planned, due ${site.nextRound.dueOn}` : ''),
           ),
         ].join('\n') + '\n',
       );

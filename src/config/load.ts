@@ -10,7 +10,7 @@ import {
   programSchema,
   sitesFileSchema,
 } from './schema.js';
-import type { Assay, Barn, Config, DesignPrevalence, LabAssay, LabProfile, PerAssayValue, Program, Site } from './types.js';
+import type { AnalysisSettings, Assay, Barn, Config, DesignPrevalence, LabAssay, LabProfile, PerAssayValue, Program, Site } from './types.js';
 
 /** A configuration problem, naming the file and the key path (e.g. `sites[0].barns[1].layout.rows`). */
 export class ConfigError extends Error {
@@ -90,6 +90,7 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     introductionPerInterval: raw.introductionPerInterval,
     ropeBudget: raw.ropeBudget,
     followUpRadius: raw.followUpRadius ?? 1.5,
+    sizeFor: raw.sizeFor ?? 'barn',
   });
 }
 
@@ -106,7 +107,7 @@ function compilePattern(source: string, file: string, keyPath: string, groups: s
   return pattern;
 }
 
-function loadSites(file: string): { organisation: string | undefined; sites: Site[] } {
+function loadSites(file: string): { organisation: string | undefined; analysis: AnalysisSettings; sites: Site[] } {
   const raw = validate(sitesFileSchema, readYaml(file), file);
   const defaults = raw.programDefaults;
   const siteIds = new Set<string>();
@@ -170,7 +171,7 @@ function loadSites(file: string): { organisation: string | undefined; sites: Sit
       barnById: new Map(barns.map((barn) => [barn.id.toUpperCase(), barn])),
     });
   });
-  return { organisation: raw.organisation, sites };
+  return { organisation: raw.organisation, analysis: Object.freeze({ ...raw.analysis }), sites };
 }
 
 function loadAssays(file: string): Assay[] {
@@ -263,7 +264,7 @@ export function loadConfig(dir: string): Config {
   const sitesFile = path.join(dir, 'sites.yaml');
   const assaysFile = path.join(dir, 'assays.yaml');
   const labsDir = path.join(dir, 'labs');
-  const { organisation, sites } = loadSites(sitesFile);
+  const { organisation, analysis, sites } = loadSites(sitesFile);
   const assays = loadAssays(assaysFile);
   const assayById = new Map(assays.map((assay) => [assay.id, assay]));
   let labFiles: string[] = [];
@@ -285,6 +286,7 @@ export function loadConfig(dir: string): Config {
   return Object.freeze({
     dir,
     organisation,
+    analysis,
     sites,
     siteById: new Map(sites.map((site) => [site.id.toUpperCase(), site])),
     assays,

@@ -42,6 +42,8 @@ export const programSchema = z
     ropeBudget: z.number().int().min(1).optional(),
     /** Pens around a positive cluster that get follow-up ropes: distance in pen units. */
     followUpRadius: z.number().min(0).optional(),
+    /** Size routine ropes so that each barn reaches the target, or so that the site does across barns. */
+    sizeFor: z.enum(['barn', 'site']).optional(),
   })
   .strict();
 
@@ -96,9 +98,37 @@ export const siteSchema = z
   })
   .strict();
 
+/** How ropewatch runs its Monte Carlo parts and sizes plans; the seed is written into every output. */
+export const analysisSchema = z
+  .object({
+    seed: z.number().int().min(0).default(1),
+    /** Permutations for join-count (when exact enumeration is too large), Moran and scan p-values. */
+    permutations: z.number().int().min(99).max(99_999).default(999),
+    /** p-value at or below which a cluster is reported as significant. */
+    alpha: z.number().gt(0).lt(1).default(0.05),
+    /** Simulated outbreaks per barn for spatially aware detection. */
+    spreadRealisations: z.number().int().min(100).max(100_000).default(2000),
+    /** Per-step transmission over a pen contact in the spread model (a modelling assumption). */
+    spreadTransmission: probability.default(0.3),
+    /** Per-step background infection of any pen in the spread model. */
+    spreadBackground: probability.default(0.01),
+    /** Which detection model sizes the plan: the spread model where available, or the hypergeometric. */
+    sizingModel: z.enum(['spatial', 'hypergeometric']).default('spatial'),
+  })
+  .strict();
+
 export const sitesFileSchema = z
   .object({
     organisation: z.string().optional(),
+    analysis: analysisSchema.default({
+      seed: 1,
+      permutations: 999,
+      alpha: 0.05,
+      spreadRealisations: 2000,
+      spreadTransmission: 0.3,
+      spreadBackground: 0.01,
+      sizingModel: 'spatial',
+    }),
     programDefaults: programSchema,
     sites: z.array(siteSchema).min(1),
   })

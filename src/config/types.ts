@@ -20,6 +20,17 @@ export interface Program {
   introductionPerInterval: number;
   ropeBudget: number | undefined;
   followUpRadius: number;
+  sizeFor: 'barn' | 'site';
+}
+
+export interface AnalysisSettings {
+  seed: number;
+  permutations: number;
+  alpha: number;
+  spreadRealisations: number;
+  spreadTransmission: number;
+  spreadBackground: number;
+  sizingModel: 'spatial' | 'hypergeometric';
 }
 
 export interface Barn {
@@ -103,6 +114,7 @@ export interface LabProfile {
 export interface Config {
   dir: string;
   organisation: string | undefined;
+  analysis: AnalysisSettings;
   sites: readonly Site[];
   siteById: ReadonlyMap<string, Site>;
   assays: readonly Assay[];

@@ -70,7 +70,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
     const check = plannedIdChecker(config);
     const events = [
       ...HOLLOW_CREEK_ROUNDS.map((date, index) => ({ date, make: () => hollowCreekRound(config, index, plannedFor(ws.store, 'hollow-creek', index)) })),
-      ...TAMSIN_RIDGE_ROUNDS.map((date, index) => ({ date, make: () => tamsinRidgeRound(config, index) })),
+      ...TAMSIN_RIDGE_ROUNDS.map((date, index) => ({ date, make: () => tamsinRidgeRound(config, index, plannedFor(ws.store, 'tamsin-ridge', index)) })),
     ].sort((a, b) => (a.date < b.date ? -1 : 1));
     for (const event of events) {
       const drops: DemoDrop[] = event.make().sort((a, b) => (a.at < b.at ? -1 : 1));

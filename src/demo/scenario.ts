@@ -226,14 +226,18 @@ export function hollowCreekRound(config: Config, roundIndex: number, planned: re
   return drops;
 }
 
-/** The files of one Tamsin Ridge round: pattern-coded tubes, no rope sheet, an Ostermark export. */
-export function tamsinRidgeRound(config: Config, roundIndex: number): DemoDrop[] {
+/**
+ * The files of one Tamsin Ridge round: pattern-coded tubes, no rope sheet, an Ostermark export.
+ * The farm ropes the pens of ropewatch's plan (when there is one) but labels tubes its own way.
+ */
+export function tamsinRidgeRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): DemoDrop[] {
   const site = config.siteById.get('TAMSIN-RIDGE')!;
   const date = TAMSIN_RIDGE_ROUNDS[roundIndex]!;
   const compact = date.replace(/-/g, '');
   const rows: LabRow[] = [];
   for (const barn of site.barns) {
-    const ropes = farmRopes(barn, roundIndex, 3, () => '');
+    const fromPlan = planned.filter((rope) => rope.barnId === barn.id);
+    const ropes = fromPlan.length > 0 ? fromPlan : farmRopes(barn, roundIndex, 3, () => '');
     for (const rope of ropes) {
       const sampleId = `TR-${barn.id}-${String(Number(rope.penId)).padStart(2, '0')}-${compact}`;
       const controlFailed = roundIndex === 1 && barn.id === 'N2' && rope === ropes[2];

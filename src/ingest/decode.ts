@@ -83,6 +83,14 @@ export function sniffEncoding(head: Uint8Array, declared: TextEncoding | 'auto')
 export function decodeStream(sniffed: Sniffed): Transform {
   const label = sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding;
   const decoder = new TextDecoder(label, { fatal: sniffed.encoding !== 'latin1', ignoreBOM: true });
+  // A lenient twin fed the same bytes: when the strict decoder fails on a chunk, the twin's
+  // output up to its first U+FFFD tells on which line the bad byte sits (a chunk holds many lines).
+  const twin = new TextDecoder(label, { fatal: false, ignoreBOM: true });
+  const lineOfBadByte = (lenient: string): number => {
+    let prefix = lenient.slice(0, Math.max(0, lenient.indexOf('\uFFFD')));
+    if (pendingCr && prefix.startsWith('\n')) prefix = prefix.slice(1);
+    return line + (prefix.match(/\r\n|\r|\n/g)?.length ?? 0);
+  };
   let skip = sniffed.bomLength;
   let pendingCr = false;
   let line = 1;
@@ -110,10 +118,12 @@ export function decodeStream(sniffed: Sniffed): Transform {
         bytes = bytes.subarray(cut);
         skip -= cut;
       }
+      const lenient = twin.decode(bytes, { stream: true });
       try {
         callback(null, fold(decoder.decode(bytes, { stream: true })));
       } catch {
-        callback(new EncodingError(line, `the bytes near line ${line} are not valid ${sniffed.encoding}`));
+        const badLine = lineOfBadByte(lenient);
+        callback(new EncodingError(badLine, `the bytes on line ${badLine} are not valid ${sniffed.encoding}`));
       }
     },
     flush(callback: TransformCallback) {

@@ -117,7 +117,10 @@ export function detectFileKind(fileName: string, head: string, labs: readonly La
       const ids = (named.length > 1 ? named : complete).map((candidate) => candidate.lab.id).join(', ');
       throw new IngestError('ambiguous-lab', fileName, undefined, undefined, undefined, `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`);
     }
-    const partial = candidates.find((candidate) => candidate.byName) ?? candidates[0];
+    // A file named like a lab's exports but sharing none of its required columns (an invoice,
+    // a wrong report template) is not that lab's export with columns missing: unknown format.
+    const plausible = candidates.filter((candidate) => candidate.missing.length < requiredLabColumns(candidate.lab).length);
+    const partial = plausible.find((candidate) => candidate.byName) ?? plausible[0];
     if (partial) {
       const column = partial.missing[0]!;
       throw new IngestError('missing-column', fileName, partial.lab.skipLines + 1, column, undefined, `lab profile ${partial.lab.id} needs a "${column}" column, which the header lacks`);

@@ -182,6 +182,9 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
   receipt.lab = kind.kind === 'results' ? kind.lab.id : null;
   receipt.encoding = sniffed.note;
 
+  // Last line of the last record read: an unclosed quote opens on the record after it, while
+  // csv-parse reports the line where the file ended.
+  let lastRecordEnd = kind.headerLine;
   const fileId = deps.store.beginFile({
     name,
     sha256,
@@ -238,6 +241,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
 
     for await (const { record, info, raw } of parser as AsyncIterable<{ record: string[]; info: { lines: number }; raw: string }>) {
       const line = recordStartLine(info.lines, raw);
+      lastRecordEnd = info.lines;
       if (record.length === 1 && record[0]!.trim() === '') continue;
       if (record.length !== width) {
         // Trailing empty cells (a common export habit) do not make a row ragged.
@@ -317,7 +321,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     }
     const code = (error as { code?: string }).code;
     if (typeof code === 'string' && code.startsWith('CSV_')) {
-      const csvLine = (error as { lines?: number }).lines;
+      const csvLine = code === 'CSV_QUOTE_NOT_CLOSED' ? lastRecordEnd + 1 : (error as { lines?: number }).lines;
       return reject(
         new IngestError('malformed-csv', name, csvLine, undefined, undefined, `the file is not well-formed CSV (${(error as Error).message.split(':')[0]}); rows after it cannot be trusted`),
         receipt.lab,

@@ -66,6 +66,8 @@ export interface BarnRound {
   ropesReturned: number;
   /** Ropes hung (or planned) with no result back. */
   missingSampleIds: string[];
+  /** Of those, ropes planned for this round whose pen no other rope covered. */
+  plannedMissing: string[];
   pens: PenRound[];
   byAssay: Record<string, AssayTally>;
 }
@@ -84,6 +86,15 @@ export interface RopeInput extends DatedRope {
   source: string;
 }
 
+/** A planned rope with no result: missing in the round it was planned for, unless its pen was roped anyway. */
+export interface PlannedInput {
+  sampleId: string;
+  barnId: string;
+  penId: string;
+  /** The plan was made after this round number; it is for the next one. */
+  afterRound: number;
+}
+
 function emptyTally(): AssayTally {
   return { positive: 0, suspect: 0, negative: 0, invalid: 0, positivePens: [], suspectPens: [], invalidPens: [], testedPens: [] };
 }
@@ -93,7 +104,7 @@ function emptyTally(): AssayTally {
  * @param ropes the site's ropes with locations (sheets, sample patterns, returned planned ropes)
  * @param results current (not superseded) results, any site; those whose sample is not a rope here are ignored
  */
-export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results: readonly ResultInput[]): SiteRound[] {
+export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results: readonly ResultInput[], plannedWithoutResults: readonly PlannedInput[] = []): SiteRound[] {
   const resultsBySample = new Map<string, ResultInput[]>();
   for (const result of results) {
     const list = resultsBySample.get(result.sampleId);
@@ -153,6 +164,10 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           }
         }
       }
+      const plannedMissing = plannedWithoutResults
+        .filter((rope) => rope.afterRound === round.number - 1 && rope.barnId === barn.id && !pens.get(rope.penId)?.returned)
+        .map((rope) => rope.sampleId);
+      missing.push(...plannedMissing);
       const penList = [...pens.values()].sort((a, b) => barn.pens.findIndex((p) => p.id === a.penId) - barn.pens.findIndex((p) => p.id === b.penId));
       const byAssay: Record<string, AssayTally> = {};
       for (const pen of penList) {
@@ -171,6 +186,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         ropesHung: barnRopes.length,
         ropesReturned: returned,
         missingSampleIds: missing.sort(),
+        plannedMissing: plannedMissing.sort(),
         pens: penList,
         byAssay,
       };

@@ -119,8 +119,11 @@ export interface Allocation {
   total: number;
   /** Site detection 1 - prod(1 - p_b(n_b)). */
   siteDetection: number;
-  /** 'greedy' when every barn's log-miss is convex (greedy is then optimal), else exact DP. */
-  method: 'greedy' | 'dynamic-programming';
+  /**
+   * 'greedy' when every barn's log-miss is convex (greedy is then optimal), else exact DP;
+   * 'balanced' for {@link allocateRopesBalanced} (max-min first, then site detection, both exact DP).
+   */
+  method: 'greedy' | 'dynamic-programming' | 'balanced';
   /** Budget left over because no further rope raises site detection. */
   unused: number;
 }
@@ -274,6 +277,46 @@ export function allocateRopes(barns: readonly BarnSizing[], budget: number): All
   const needed = smallestBudgetFor(log, log[capped]!, capped);
   const { choice: neededChoice } = needed === capped ? { choice } : dynamicProgramming(barns, tables, needed);
   return summarise(barns, tables, traceBack(barns, neededChoice, needed), 'dynamic-programming', budget);
+}
+
+/**
+ * Allocates a site's rope budget so that the least-watched barn is watched as well as possible,
+ * and then, among the allocations that achieve that, maximises site detection 1 - prod(1 - p_b).
+ *
+ * Why not maximise 1 - prod(1 - p_b) alone (allocateRopes): that objective assumes every barn is
+ * infected at the design prevalence at once, and because the finite hypergeometric model has
+ * increasing returns it is often maximised by putting the whole budget into one barn and leaving
+ * the others unwatched, which no surveillance program would accept: an introduction comes into
+ * one barn, and nobody knows which. The max-min objective is exact by dynamic programming
+ * (max-min is decomposable over barns), and the second stage is the DP of allocateRopes restricted
+ * to per-barn counts that keep every barn at or above the max-min value.
+ * @param barns per barn: id, ropes available (in-use pens), detect(n) non-decreasing
+ * @param budget ropes for the site, integer >= 0
+ * @throws RangeError for a bad budget or maxRopes, or detect returning a value outside [0, 1]
+ * @see Bellman R (1957) Dynamic Programming (the allocation recursion); Luss H (1999) On equitable
+ *   resource allocation problems: a lexicographic minimax approach, Operations Research 47:361-378 (from memory).
+ */
+export function allocateRopesBalanced(barns: readonly BarnSizing[], budget: number): Allocation {
+  requireInteger('budget', budget, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
+  const capped = Math.min(budget, barns.reduce((sum, barn) => sum + barn.maxRopes, 0));
+  const detections = barns.map((barn) => Array.from({ length: barn.maxRopes + 1 }, (_, n) => requireProbability(`detect of ${barn.barnId}`, barn.detect(n))));
+  // Stage 1: best[m] = the largest min_b p_b over the barns so far with m ropes.
+  let best: number[] = Array.from({ length: capped + 1 }, () => 1);
+  for (let b = 0; b < barns.length; b++) {
+    const table = detections[b]!;
+    best = best.map((_, m) => {
+      let value = -1;
+      for (let n = 0; n <= Math.min(m, barns[b]!.maxRopes); n++) value = Math.max(value, Math.min(best[m - n]!, table[n]!));
+      return value;
+    });
+  }
+  const floor = best[capped]!;
+  // Stage 2: maximise site detection among counts that keep every barn at or above the floor.
+  const tables = detections.map((table) => table.map((p) => (p >= floor - 1e-12 ? logMiss(p) : Infinity)));
+  const { log, choice } = dynamicProgramming(barns, tables, capped);
+  const needed = smallestBudgetFor(log, log[capped]!, capped);
+  const { choice: neededChoice } = needed === capped ? { choice } : dynamicProgramming(barns, tables, needed);
+  return summarise(barns, detections.map((table) => table.map(logMiss)), traceBack(barns, neededChoice, needed), 'balanced', budget);
 }
 
 function withUnused(allocation: Allocation, budget: number): Allocation {

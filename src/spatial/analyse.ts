@@ -262,7 +262,8 @@ function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): Ba
   } else {
     notes.push('fewer than 2 usable sampled pens: no spatial statistics');
   }
-  if (options.detection !== false && n >= 1) report.detection = runDetection(p, options.detection ?? {}, deriveSeed(seed, 'detection'));
+  if (options.detection === false) notes.push('spread-model detection not requested');
+  else if (n >= 1) report.detection = runDetection(p, options.detection ?? {}, deriveSeed(seed, 'detection'));
   return report;
 }
 

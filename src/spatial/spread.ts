@@ -84,6 +84,7 @@ export function summariseSpread(current: readonly SpreadPoint[], earlier: readon
   const distant = newPositives.filter((p) => p.kind === 'distant').length;
   let pattern: SpreadPattern;
   let explanation: string;
+  const threshold = Number(adjacentDistance.toFixed(1));
   if (fresh.length === 0) {
     pattern = 'none';
     explanation = 'no pen is newly positive this round';
@@ -92,10 +93,10 @@ export function summariseSpread(current: readonly SpreadPoint[], earlier: readon
     explanation = `${fresh.length} pen(s) positive with no earlier positive pen`;
   } else if (distant === 0) {
     pattern = 'adjacent-spread';
-    explanation = `all ${adjacent} new positive pen(s) within ${adjacentDistance} pen units of an earlier positive`;
+    explanation = `all ${adjacent} new positive pen(s) within ${threshold} pen units of an earlier positive`;
   } else {
     pattern = 'distant-new-focus';
-    explanation = `${distant} new positive pen(s) farther than ${adjacentDistance} pen units from every earlier positive`;
+    explanation = `${distant} new positive pen(s) farther than ${threshold} pen units from every earlier positive`;
   }
   return { pattern, newPositives, adjacent, distant, thresholds: { adjacentDistance }, explanation };
 }

@@ -315,9 +315,21 @@ export class Store {
     }).immediate();
   }
 
-  /** Saves a next-round plan as the expected rope sheet: results for these IDs resolve to these pens. */
-  savePlan(ropes: readonly PlannedRope[]): void {
+  /**
+   * Replaces a site's plan for the round after `afterRound`: ropes no longer planned are dropped
+   * unless a result already came back for them (then they stay, so the result stays placed).
+   */
+  replacePlan(siteId: string, afterRound: number, ropes: readonly PlannedRope[]): void {
     const run = this.db.transaction(() => {
+      const keep = new Set(ropes.map((rope) => rope.sampleId));
+      const current = this.db
+        .prepare(
+          `SELECT sample_id AS sampleId FROM planned_ropes p WHERE site_id = ? AND after_round = ?
+             AND NOT EXISTS (SELECT 1 FROM results r WHERE r.sample_id = p.sample_id)`,
+        )
+        .all(siteId, afterRound) as { sampleId: string }[];
+      const remove = this.db.prepare('DELETE FROM planned_ropes WHERE sample_id = ?');
+      for (const { sampleId } of current) if (!keep.has(sampleId)) remove.run(sampleId);
       for (const rope of ropes) this.statements.upsertPlanned.run(rope);
     });
     if (this.inFile) run();

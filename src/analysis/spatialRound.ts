@@ -1,0 +1,173 @@
+/**
+ * Spatial analysis of every round of a site, per assay: the statistics of src/spatial on the
+ * round model, with the spread-model detection of the ropes actually hung beside the
+ * hypergeometric value, and alerts in plain words. Pure apart from the outbreak cache, which
+ * only saves recomputing the same seeded simulation.
+ */
+import type { AnalysisSettings, Barn, Site } from '../config/types.js';
+import type { SiteRound } from '../interpret/roundModel.js';
+import {
+  analyseSiteRound,
+  compareWithRandomPlacement,
+  contactWeights,
+  simulateOutbreaks,
+  type BarnSpatialReport,
+  type Outbreaks,
+  type SiteSpatialReport,
+} from '../spatial/index.js';
+import { deriveSeed, seededRng } from '../util/random.js';
+import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
+
+export const CLUSTERS_SCHEMA = 'ropewatch.clusters/1';
+
+export interface SpatialAlert {
+  kind: 'significant-cluster' | 'spread' | 'new-focus' | 'scattered-positives';
+  barnId: string | null;
+  assayId: string;
+  message: string;
+}
+
+export interface AssaySpatial {
+  assayId: string;
+  report: SiteSpatialReport;
+  alerts: SpatialAlert[];
+  /** Per barn: the hypergeometric detection confidence beside the spread-model one. */
+  detection: { barnId: string; hypergeometric: number; spreadModel: number | null; spreadModelSE: number | null; randomRopes: number | null }[];
+}
+
+export interface RoundSpatial {
+  schema: typeof CLUSTERS_SCHEMA;
+  site: string;
+  round: { number: number; id: string; startOn: string };
+  seed: number;
+  assays: AssaySpatial[];
+  model: { transmission: number; background: number; realisations: number; contacts: 'queen' };
+}
+
+/** Simulated outbreaks per barn and design, reused across rounds and assays (same seed, same result). */
+export class OutbreakCache {
+  private readonly cache = new Map<string, Outbreaks>();
+  constructor(private readonly settings: AnalysisSettings) {}
+
+  outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null {
+    const inUse = barn.pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id);
+    if (infected < 1 || infected > inUse.length) return null;
+    const key = `${site.id}/${barn.id}/${infected}`;
+    let outbreaks = this.cache.get(key);
+    if (!outbreaks) {
+      outbreaks = simulateOutbreaks(contactWeights(barn.layout, inUse, 'queen', 'binary'), {
+        infected,
+        beta: this.settings.spreadTransmission,
+        background: this.settings.spreadBackground,
+        realisations: this.settings.spreadRealisations,
+        rng: seededRng(deriveSeed(this.settings.seed, 'outbreaks', site.id, barn.id, infected)),
+      });
+      this.cache.set(key, outbreaks);
+    }
+    return outbreaks;
+  }
+}
+
+const pValue = (p: number) => (p < 0.001 ? '< 0.001' : p.toFixed(3));
+
+function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): SpatialAlert[] {
+  const alerts: SpatialAlert[] = [];
+  const jc = report.joinCount;
+  const scan = report.scan?.mostLikely ?? null;
+  if (report.positives >= 2 && jc && jc.pPermutation <= alpha) {
+    alerts.push({
+      kind: 'significant-cluster',
+      barnId: report.barn,
+      assayId,
+      message:
+        `${assayId} positives in barn ${report.barn} sit next to each other more than chance allows: ${jc.bb} positive-positive joins against ` +
+        `${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${pValue(jc.pPermutation)}` +
+        (jc.zBB !== null ? ` (z = ${jc.zBB.toFixed(2)}, shown for reference; the decision rests on the p-value)` : ''),
+    });
+  } else if (report.positives >= 2 && scan && scan.p <= alpha) {
+    alerts.push({
+      kind: 'significant-cluster',
+      barnId: report.barn,
+      assayId,
+      message: `${assayId}: the scan statistic finds a cluster of ${scan.pens.length} ropes in barn ${report.barn} (${scan.pens.join(', ')}), p = ${pValue(scan.p)}`,
+    });
+  } else if (report.positives >= 2) {
+    alerts.push({
+      kind: 'scattered-positives',
+      barnId: report.barn,
+      assayId,
+      message: `${assayId}: ${report.positives} positive ropes in barn ${report.barn} without significant clustering (join-count p = ${jc ? pValue(jc.pPermutation) : 'n/a'}): consider introduction by people, feed or transport, or false positives`,
+    });
+  }
+  const spread = report.spread;
+  if (spread.pattern === 'adjacent-spread') {
+    alerts.push({ kind: 'spread', barnId: report.barn, assayId, message: `${assayId} in barn ${report.barn}: ${spread.explanation}` });
+  } else if (spread.pattern === 'distant-new-focus') {
+    alerts.push({ kind: 'new-focus', barnId: report.barn, assayId, message: `${assayId} in barn ${report.barn}: ${spread.explanation}` });
+  }
+  return alerts;
+}
+
+/**
+ * Spatial analysis of each round of a site, per assay tested in that round.
+ * @param confidence the round confidence from siteConfidence (for the hypergeometric value beside)
+ */
+export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence: readonly RoundConfidence[], settings: AnalysisSettings, cache: OutbreakCache): RoundSpatial[] {
+  return rounds.map((round, index) => {
+    const seed = deriveSeed(settings.seed, site.id, round.number);
+    const assays = round.assays.map((assayId): AssaySpatial => {
+      const barnInputs = round.barns.map((barnRound) => {
+        const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
+        const earlier = new Set<string>();
+        for (const previous of rounds.slice(0, index)) {
+          for (const pen of previous.barns.find((b) => b.barnId === barn.id)?.byAssay[assayId]?.positivePens ?? []) earlier.add(pen);
+        }
+        const sampled = barnRound.pens
+          .filter((pen) => pen.results[assayId] !== undefined && barn.penById.get(pen.penId.toUpperCase())?.status === 'in-use')
+          .map((pen) => {
+            const result = pen.results[assayId]!;
+            return { id: pen.penId, positive: result.resultClass === 'positive', resultClass: result.resultClass, ct: result.ct, load: result.load };
+          });
+        return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: [...earlier] };
+      });
+      const report = analyseSiteRound({
+        site: site.id,
+        barns: barnInputs,
+        options: { seed: deriveSeed(seed, assayId), permutations: settings.permutations, detection: false },
+      });
+      const detection = report.barns.map((barnReport) => {
+        const barn = site.barnById.get(barnReport.barn.toUpperCase())!;
+        const hypergeometric = confidence[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)?.detectionConfidence ?? 0;
+        const pensInUse = barn.pens.filter((pen) => pen.status === 'in-use').length;
+        const infected = designInfectedFor(site.program, pensInUse);
+        const outbreaks = cache.outbreaksFor(site, barn, infected);
+        // Invalid results prove nothing: only pens with a valid result count as ropes that looked.
+        const ropes = barnReport.pens.map((pen) => pen.id);
+        if (!outbreaks || ropes.length === 0) return { barnId: barn.id, hypergeometric, spreadModel: null, spreadModelSE: null, randomRopes: null };
+        const se = ropeAccuracy(site.program, assayId, barn).sensitivity;
+        const comparison = compareWithRandomPlacement(outbreaks, ropes, se, seededRng(deriveSeed(seed, assayId, barn.id, 'random-ropes')));
+        barnReport.detection = {
+          ...comparison,
+          se,
+          infected,
+          beta: settings.spreadTransmission,
+          background: settings.spreadBackground,
+          inUsePens: pensInUse,
+          reseeded: outbreaks.reseeded,
+          seed: deriveSeed(settings.seed, 'outbreaks', site.id, barn.id, infected),
+        };
+        return { barnId: barn.id, hypergeometric, spreadModel: comparison.actual.p, spreadModelSE: comparison.actual.standardError, randomRopes: comparison.random.p };
+      });
+      const alerts = report.barns.flatMap((barnReport) => barnAlerts(barnReport, assayId, settings.alpha));
+      return { assayId, report, alerts, detection };
+    });
+    return {
+      schema: CLUSTERS_SCHEMA,
+      site: site.id,
+      round: { number: round.number, id: round.id, startOn: round.startOn },
+      seed,
+      assays,
+      model: { transmission: settings.spreadTransmission, background: settings.spreadBackground, realisations: settings.spreadRealisations, contacts: 'queen' },
+    };
+  });
+}

@@ -1,0 +1,149 @@
+/**
+ * clusters.csv: the spatial review as one table with a `level` column: `barn` (global statistics
+ * and detection per barn), `site` (the join count with permutations within barns), `cluster`
+ * (linked positive pens), `pen` (local statistics), `spread` (each new positive's distance to the
+ * nearest earlier one). Column names are stable and documented in the README.
+ */
+import { stringify } from 'csv-stringify/sync';
+import type { RoundSpatial } from '../analysis/spatialRound.js';
+
+export const CLUSTERS_COLUMNS = [
+  'level',
+  'site',
+  'round',
+  'assay',
+  'barn',
+  'pen',
+  'cluster',
+  'sampled',
+  'positives',
+  'bb',
+  'expected_bb',
+  'variance_bb',
+  'z_bb',
+  'p_join_count',
+  'p_method',
+  'moran_i',
+  'moran_expected',
+  'moran_z',
+  'moran_p',
+  'scan_pens',
+  'scan_llr',
+  'scan_p',
+  'cluster_pens',
+  'cluster_size',
+  'mean_ct',
+  'min_ct',
+  'new_pens',
+  'gi_star',
+  'local_bb',
+  'local_p',
+  'positive',
+  'ct',
+  'nearest_earlier_pen',
+  'nearest_earlier_distance',
+  'spread_pattern',
+  'detection_hypergeometric',
+  'detection_spread_model',
+  'detection_random_ropes',
+  'seed',
+] as const;
+
+type Column = (typeof CLUSTERS_COLUMNS)[number];
+type Row = Partial<Record<Column, string | number | boolean | null>>;
+
+const num = (value: number | null | undefined, digits = 6) => (value === null || value === undefined ? null : Number(value.toFixed(digits)));
+
+export function clustersCsv(spatial: RoundSpatial): string {
+  const rows: Row[] = [];
+  const base = { site: spatial.site, round: spatial.round.number };
+  for (const assay of spatial.assays) {
+    const site = assay.report;
+    rows.push({
+      ...base,
+      level: 'site',
+      assay: assay.assayId,
+      bb: site.joinCount?.bb ?? null,
+      expected_bb: num(site.joinCount?.expectedBB),
+      variance_bb: num(site.joinCount?.varianceBB),
+      z_bb: num(site.joinCount?.zBB),
+      p_join_count: num(site.joinCount?.pPermutation),
+      p_method: site.joinCount?.inference.method ?? null,
+      spread_pattern: site.spread.pattern,
+      seed: site.seed,
+    });
+    for (const barn of site.barns) {
+      const detection = assay.detection.find((entry) => entry.barnId === barn.barn);
+      rows.push({
+        ...base,
+        level: 'barn',
+        assay: assay.assayId,
+        barn: barn.barn,
+        sampled: barn.n,
+        positives: barn.positives,
+        bb: barn.joinCount?.bb ?? null,
+        expected_bb: num(barn.joinCount?.expectedBB),
+        variance_bb: num(barn.joinCount?.varianceBB),
+        z_bb: num(barn.joinCount?.zBB),
+        p_join_count: num(barn.joinCount?.pPermutation),
+        p_method: barn.joinCount?.inference.method ?? null,
+        moran_i: num(barn.moran?.I),
+        moran_expected: num(barn.moran?.expected),
+        moran_z: num(barn.moran?.zRandomisation),
+        moran_p: num(barn.moran?.pPermutation),
+        scan_pens: barn.scan?.mostLikely?.pens.join(' ') ?? null,
+        scan_llr: num(barn.scan?.mostLikely?.llr),
+        scan_p: num(barn.scan?.mostLikely?.p),
+        spread_pattern: barn.spread.pattern,
+        detection_hypergeometric: num(detection?.hypergeometric),
+        detection_spread_model: num(detection?.spreadModel),
+        detection_random_ropes: num(detection?.randomRopes),
+        seed: barn.seed,
+      });
+      for (const cluster of barn.clusters) {
+        rows.push({
+          ...base,
+          level: 'cluster',
+          assay: assay.assayId,
+          barn: barn.barn,
+          cluster: cluster.index,
+          cluster_pens: cluster.pens.join(' '),
+          cluster_size: cluster.size,
+          mean_ct: num(cluster.meanCt, 2),
+          min_ct: num(cluster.minCt, 2),
+          new_pens: cluster.newPens.join(' '),
+        });
+      }
+      for (const pen of barn.pens) {
+        rows.push({
+          ...base,
+          level: 'pen',
+          assay: assay.assayId,
+          barn: barn.barn,
+          pen: pen.id,
+          positive: pen.positive,
+          ct: pen.ct,
+          gi_star: num(pen.giStar),
+          local_bb: pen.localBB,
+          local_p: num(pen.localP),
+        });
+      }
+      for (const fresh of barn.spread.newPositives) {
+        rows.push({
+          ...base,
+          level: 'spread',
+          assay: assay.assayId,
+          barn: barn.barn,
+          pen: fresh.id,
+          nearest_earlier_pen: fresh.nearestEarlierPen,
+          nearest_earlier_distance: num(fresh.nearestEarlierDistance, 3),
+          spread_pattern: fresh.kind,
+        });
+      }
+    }
+  }
+  return stringify(
+    rows.map((row) => CLUSTERS_COLUMNS.map((column) => row[column] ?? '')),
+    { header: true, columns: [...CLUSTERS_COLUMNS], cast: { boolean: (value) => (value ? 'true' : 'false') } },
+  );
+}
