@@ -32,6 +32,7 @@ import { detectionFor, siteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
+import { formatPercent } from '../util/format.js';
 
 export const PLAN_SCHEMA = 'ropewatch.next-round/1';
 /** Doubling time of infected pens in the growing-infection comparison: a modelling assumption. */
@@ -103,8 +104,6 @@ export interface PlanInput {
   /** Sample IDs already planned for this round (pen -> ID), kept so a remade plan does not relabel tubes. */
   existingIds?: ReadonlyMap<string, string>;
 }
-
-const pct = (p: number) => `${(100 * p).toFixed(1)}%`;
 
 interface BarnModel {
   barn: Barn;
@@ -201,8 +200,8 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const total = routine.reduce((sum, n) => sum + n, 0);
   sizingNotes.push(
     program.sizeFor === 'site'
-      ? `The site target ${pct(target)} is met across ${models.length} barns when each reaches ${pct(barnTarget)} (1 - (1 - C)^(1/k)): ${total} routine ropes.`
-      : `Each barn is sized to reach ${pct(target)} on its own: ${total} routine ropes.`,
+      ? `The site target ${formatPercent(target)} is met across ${models.length} barns when each reaches ${formatPercent(barnTarget)} (1 - (1 - C)^(1/k)): ${total} routine ropes.`
+      : `Each barn is sized to reach ${formatPercent(target)} on its own: ${total} routine ropes.`,
   );
   if (budget !== null && total > budget) {
     const barnSizing = models.map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
@@ -210,8 +209,8 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     routine = allocation.ropes.map((entry) => entry.ropes);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
     sizingNotes.push(
-      `That is more than the budget of ${budget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${pct(weakest)}), ` +
-        `then to the highest site detection (${pct(allocation.siteDetection)}), both exactly by dynamic programming. ` +
+      `That is more than the budget of ${budget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
+        `then to the highest site detection (${formatPercent(allocation.siteDetection)}), both exactly by dynamic programming. ` +
         'Maximising site detection alone would put every rope in one barn and leave the others unwatched.',
     );
   }
@@ -257,9 +256,11 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     const plannedHypergeometric = model.hyper(ropes);
     const plannedSpreadModel = model.spread ? model.spread(ropes) : null;
     const ceiling = entry.reach.reachable ? null : entry.reach.ceiling;
-    const statement = entry.reachable
-      ? `${ropes} routine ropes give ${pct(plannedSpreadModel ?? plannedHypergeometric)} detection at ${model.designInfected} infected pen${model.designInfected === 1 ? '' : 's'} of ${model.pensInUse} (${model.assayId}, rope sensitivity ${model.sensitivity}).`
-      : `No single round reaches ${pct(target)} in barn ${model.barn.id}: even a rope in every pen gives ${pct(ceiling ?? plannedSpreadModel ?? plannedHypergeometric)}` +
+    const design = `${model.designInfected} infected pen${model.designInfected === 1 ? '' : 's'} of ${model.pensInUse}`;
+    const statement = entry.reachable || ropes < model.pensInUse
+      ? `The systematic layer of ${ropes} ropes gives ${formatPercent(plannedSpreadModel ?? plannedHypergeometric)} detection at ${design} (${model.assayId}, rope sensitivity ${model.sensitivity})` +
+        (entry.reachable ? '.' : `; ${formatPercent(target)} is out of reach in one round even with a rope in every pen.`)
+      : `No single round reaches ${formatPercent(target)} in barn ${model.barn.id}: even a rope in every pen gives ${formatPercent(ceiling ?? plannedSpreadModel ?? plannedHypergeometric)} at ${design}` +
         (!entry.reach.reachable && entry.reach.roundsNeeded !== null ? `; ${entry.reach.roundsNeeded} negative rounds in a row would.` : '.');
     const sizing: BarnSizingReport = {
       barnId: model.barn.id,
@@ -285,14 +286,18 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const lastConfidence = input.confidence.at(-1);
   const freedomAssay = models[0]?.assayId;
   const lastSite = lastConfidence?.sites.find((entry) => entry.assayId === freedomAssay);
-  if (lastSite && freedomAssay) {
-    const currentFreedom = lastSite.freedomReset ? program.priorFreedom : lastSite.freedom;
+  if (lastSite && freedomAssay && lastSite.freedomReset) {
+    notes.push(
+      `The last round was positive for ${freedomAssay}: the site is not free, so no probability of freedom is forecast. ` +
+        `Once the herd's veterinarian judges the outbreak over, negative rounds build freedom up again from the prior ${formatPercent(program.priorFreedom)}.`,
+    );
+  } else if (lastSite && freedomAssay) {
+    const currentFreedom = lastSite.freedom;
     freedom = {
       assayId: freedomAssay,
       currentFreedom,
       ...onTimeVersusMissed({ currentFreedom, roundSensitivity: siteDetectionIfNegative, introductionPerInterval: program.introductionPerInterval, intervalDays: program.intervalDays }),
     };
-    if (lastSite.freedomReset) notes.push(`The last round was positive for ${freedomAssay}: freedom was reset, and negative rounds now build it up again from the prior ${pct(program.priorFreedom)}.`);
   }
   if (due.overdue) notes.push(`The round was due on ${due.dueDate}: ${due.daysOverdue} days overdue. Every day late adds introduction risk.`);
 

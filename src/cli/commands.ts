@@ -10,11 +10,13 @@ import { OutputError, type Receipt } from '../ingest/ingestFile.js';
 import { plannedIdChecker } from '../ingest/plannedIds.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
 import { regenerateOutputs } from '../outputs.js';
+import { planText } from '../report/planText.js';
 import { processFile } from '../pipeline.js';
 import { runDemo } from '../demo/runDemo.js';
 import { watchInbox } from '../watch/index.js';
 import { openWorkspace, resolvePaths, type PathOptions, type Workspace } from '../workspace.js';
 import { InputRejectedError, printJson, UsageError, type CliIo } from './io.js';
+import { parseIntegerOption } from './parseArgs.js';
 
 export interface CommonOptions extends PathOptions {
   json?: boolean;
@@ -209,5 +211,24 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .option('--force', 'also reset a store that holds files the demo did not make'),
   ).action(async (options: CommonOptions & { force?: boolean }) => {
     await runDemo(io, resolvePaths(io.cwd, options), options.force === true);
+  });
+
+  addCommonOptions(
+    program
+      .command('plan')
+      .description("make or remake a site's next-round rope list (outbox/<site>/next-round.csv and .json); its sample IDs become the expected rope sheet")
+      .requiredOption('--site <site>', 'site id, code or name')
+      .option('--budget <ropes>', "ropes the producer will hang this round (overrides the site's ropeBudget)")
+      .option('--json', 'print the plan as JSON'),
+  ).action((options: CommonOptions & { site: string; budget?: string }) => {
+    const budget = options.budget === undefined ? undefined : parseIntegerOption('--budget', options.budget, 0, 100_000);
+    withWorkspace(io, options, (ws) => {
+      const wanted = options.site.toUpperCase();
+      const site = ws.config.sites.find((candidate) => [candidate.id, candidate.code, candidate.name].some((name) => name.toUpperCase() === wanted));
+      if (!site) throw new UsageError(`no site ${JSON.stringify(options.site)} in ${ws.configDir}/sites.yaml`);
+      const [analysis] = regenerateOutputs(ws, [site.id], budget === undefined ? {} : { budget });
+      if (options.json) printJson(io, analysis!.plan);
+      else io.stdout(planText(analysis!.plan));
+    });
   });
 }

@@ -4,6 +4,7 @@
  */
 import { addDays, differenceInCalendarDays, format, isValid, parseISO } from 'date-fns';
 import { requireNumber } from './checks.js';
+import { formatPercent } from '../util/format.js';
 
 function parseDay(name: string, text: string): Date {
   const date = /^\d{4}-\d{2}-\d{2}$/.test(text) ? parseISO(text) : new Date(NaN);
@@ -105,14 +106,13 @@ export function onTimeVersusMissed(input: {
   const missed = freedomAfter(2 * input.intervalDays, input.roundSensitivity);
   const withoutRound = discount(input.intervalDays);
   for (const [name, v] of [['onTime', onTime], ['missed', missed]] as const) requireNumber(`freedomAfter (${name})`, v, 0, 1);
-  const pct = (v: number) => `${(100 * v).toFixed(1)}%`;
   return {
     onTime,
     withoutRound,
     missed,
     cost: onTime - missed,
     sentence:
-      `A negative round on time brings the probability of freedom to ${pct(onTime)}; ` +
-      `missing it leaves ${pct(withoutRound)} on the due date, and a negative round one interval later reaches only ${pct(missed)}.`,
+      `A negative round on time brings the probability of freedom to ${formatPercent(onTime)}; ` +
+      `missing it leaves ${formatPercent(withoutRound)} on the due date, and a negative round one interval later reaches only ${formatPercent(missed)}.`,
   };
 }

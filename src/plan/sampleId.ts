@@ -32,7 +32,8 @@ import { requireInteger } from './checks.js';
 const MOD37_ALPHABET = '0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ*';
 
 /** Check characters that read like digits on a hand-written or smudged tube label. */
-const AMBIGUOUS_CHECKS = new Set(['I', 'O', 'L']);
+/** '*' is a valid MOD 37-2 check value but awkward on a tube and in lab systems: also skipped. */
+const AMBIGUOUS_CHECKS = new Set(['I', 'O', 'L', '*']);
 
 const SITE_PATTERN = /^[A-Z0-9]{1,4}[A-Z]$/;
 const ID_PATTERN = /^([A-Z0-9]{1,4}[A-Z])([0-9]{2,4})-([0-9]{3})([0-9A-Z*])$/;
@@ -101,7 +102,7 @@ export function formatSampleId(parts: SampleIdParts): string {
   return `${siteCode}${round}-${sequence}${mod37CheckCharacter(siteCode + round + sequence)}`;
 }
 
-/** True when the check character of `id` is not one of I, O, L (which read like 1 and 0). */
+/** True when the check character of `id` is not one of I, O, L (which read like 1 and 0) or '*'. */
 export function isWriteFriendlyCheck(id: string): boolean {
   return !AMBIGUOUS_CHECKS.has(id.at(-1) ?? '');
 }

@@ -5,6 +5,7 @@
  * with the hypergeometric, the imperfect-rope or the binomial model alike.
  */
 import { requireInteger, requireNumber, requireProbability, TARGET_SLACK } from './checks.js';
+import { formatPercent } from '../util/format.js';
 
 /** Detection probability of one round with `ropes` ropes; must be non-decreasing in `ropes`. */
 export type DetectFn = (ropes: number) => number;
@@ -52,12 +53,11 @@ export function roundsToReach(perRound: number, target: number): number | null {
 
 function unreachable(ceiling: number, target: number, what: string): Unreachable {
   const roundsNeeded = roundsToReach(ceiling, target);
-  const pct = (v: number) => `${(100 * v).toFixed(1)}%`;
   const message =
     roundsNeeded === null
-      ? `No rope count reaches ${pct(target)} detection: ${what} detects nothing (0%).`
-      : `No rope count reaches ${pct(target)} detection in one round: ${what} detects ${pct(ceiling)}. ` +
-        `${roundsNeeded} negative rounds in a row would reach ${pct(-Math.expm1(roundsNeeded * Math.log1p(-ceiling)))}.`;
+      ? `No rope count reaches ${formatPercent(target)} detection: ${what} detects nothing (0%).`
+      : `No rope count reaches ${formatPercent(target)} detection in one round: ${what} detects ${formatPercent(ceiling)}. ` +
+        `${roundsNeeded} negative rounds in a row would reach ${formatPercent(-Math.expm1(roundsNeeded * Math.log1p(-ceiling)))}.`;
   return { reachable: false, ceiling, roundsNeeded, message };
 }
 

@@ -7,6 +7,8 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
+import { ingestFile, OutputError } from '../../src/ingest/ingestFile.js';
+import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { makeWorkspace, treeHashes, type TestWorkspace } from '../helpers/workspace.js';
 
 let workspaces: TestWorkspace[] = [];
@@ -161,5 +163,19 @@ describe('pipeline end to end', () => {
     expect(roundFolders(siteDir)).toEqual(['r01-2026-08-17']);
     await ws.drop('ropes_0803.csv', ropeSheet(site, [{ sampleId: 'E1', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' }]));
     expect(roundFolders(siteDir)).toEqual(['r01-2026-08-03', 'r02-2026-08-17']);
+  });
+
+  it('stores nothing and leaves the file in place when its outputs cannot be written, so a retry works', async () => {
+    const ws = workspace();
+    const file = path.join(ws.paths.inbox, 'hollow-creek_ropes.csv');
+    fs.writeFileSync(file, sheet(ws));
+    const open = ws.ws();
+    const deps = { config: open.config, store: open.store, now: () => new Date('2026-12-01T12:00:00Z'), plannedIdCheck: plannedIdChecker(open.config) };
+    await expect(ingestFile(file, { ...deps, regenerate: () => { throw new Error('disk full'); } })).rejects.toBeInstanceOf(OutputError);
+    expect(open.store.counts()).toMatchObject({ files: 0, ropes: 0 });
+    expect(open.store.fileOpen).toBe(false);
+    expect(fs.existsSync(file)).toBe(true);
+    const retry = await ws.drop('hollow-creek_ropes.csv', sheet(ws));
+    expect(retry.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 4 } });
   });
 });
