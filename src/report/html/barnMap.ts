@@ -1,0 +1,272 @@
+/**
+ * Barn maps drawn from the real layout: pens to scale from the layout's pen centres (x along the
+ * alley, y across it, in pen units) and its penWidth/penDepth, the alleys between facing rows,
+ * cross-alley gaps, and empty or out-of-use pens hatched. The geometry is a pure function of
+ * the layout (tested on its own); the renderer only paints it.
+ */
+import { expandLayout, type BarnLayout, type PenStatus } from '../../domain/layout.js';
+import { COLOURS, LOAD_RAMP, loadStep } from './palette.js';
+import { escapeHtml, safeId } from './escape.js';
+
+export interface MapMargin {
+  left: number;
+  top: number;
+  right: number;
+  bottom: number;
+}
+
+export interface PenRect {
+  id: string;
+  row: number;
+  rowLabel: string;
+  position: number;
+  status: PenStatus;
+  /** Top-left corner and size in map pixels. */
+  x: number;
+  y: number;
+  width: number;
+  height: number;
+}
+
+export interface BandRect {
+  kind: 'alley' | 'gap';
+  x: number;
+  y: number;
+  width: number;
+  height: number;
+}
+
+export interface BarnGeometry {
+  /** Whole drawing in pixels, margins included. */
+  width: number;
+  height: number;
+  /** Pixels per pen unit. */
+  scale: number;
+  pens: PenRect[];
+  /** Alleys between facing rows and cross-alley gaps along the rows. */
+  bands: BandRect[];
+  /** Where to write each row's label (left margin, vertically centred on the row). */
+  rowLabels: { row: number; label: string; x: number; y: number }[];
+}
+
+/**
+ * Map geometry of a barn layout: one rectangle per pen, centred on the layout's pen centre
+ * (x along the alley, y across it; row 0 at the top, so row B of a two-row barn lies below the
+ * alley), width penWidth and height penDepth, all times `scale` pixels per pen unit and shifted
+ * by the margin. Alley k (between rows 2k-2 and 2k-1) spans the barn length at
+ * y = (2k-1) penDepth + (k-1) alleyWidth; a gap after position p spans all rows at
+ * x = p penWidth + (gaps before) gapWidth.
+ * @param layout a barn layout (validated by expandLayout)
+ * @param scale pixels per pen unit, > 0
+ * @param margin pixels around the barn (row labels go in the left margin)
+ * @throws RangeError for a bad scale or margin, or any layout error of expandLayout
+ * @see src/domain/layout.ts (the coordinates this draws)
+ */
+export function barnGeometry(layout: BarnLayout, scale: number, margin: MapMargin = { left: 0, top: 0, right: 0, bottom: 0 }): BarnGeometry {
+  if (!Number.isFinite(scale) || scale <= 0) throw new RangeError(`\`scale\` must be a number > 0, got ${scale}`);
+  for (const [side, value] of Object.entries(margin)) {
+    if (!Number.isFinite(value) || value < 0) throw new RangeError(`\`margin.${side}\` must be a number >= 0, got ${value}`);
+  }
+  const pens = expandLayout(layout);
+  const { penWidth, penDepth, alleyWidth, gapWidth } = layout;
+  const gaps = [...new Set(layout.gapsAfter)].filter((after) => after >= 1 && after < layout.pensPerRow).sort((a, b) => a - b);
+  const lengthUnits = layout.pensPerRow * penWidth + gaps.length * gapWidth;
+  const alleys = Math.floor(layout.rows / 2);
+  const depthUnits = layout.rows * penDepth + alleys * alleyWidth;
+  const px = (units: number) => units * scale;
+  const rects: PenRect[] = pens.map((pen) => ({
+    id: pen.id,
+    row: pen.row,
+    rowLabel: pen.rowLabel,
+    position: pen.position,
+    status: pen.status,
+    x: margin.left + px(pen.x - penWidth / 2),
+    y: margin.top + px(pen.y - penDepth / 2),
+    width: px(penWidth),
+    height: px(penDepth),
+  }));
+  const bands: BandRect[] = [];
+  for (let k = 1; k <= alleys; k++) {
+    if (alleyWidth <= 0) break;
+    bands.push({ kind: 'alley', x: margin.left, y: margin.top + px((2 * k - 1) * penDepth + (k - 1) * alleyWidth), width: px(lengthUnits), height: px(alleyWidth) });
+  }
+  gaps.forEach((after, index) => {
+    if (gapWidth <= 0) return;
+    bands.push({ kind: 'gap', x: margin.left + px(after * penWidth + index * gapWidth), y: margin.top, width: px(gapWidth), height: px(depthUnits) });
+  });
+  const rowLabels = layout.rowLabels.map((label, row) => {
+    const first = rects.find((rect) => rect.row === row)!;
+    return { row, label, x: margin.left / 2, y: first.y + first.height / 2 };
+  });
+  return {
+    width: margin.left + px(lengthUnits) + margin.right,
+    height: margin.top + px(depthUnits) + margin.bottom,
+    scale,
+    pens: rects,
+    bands,
+    rowLabels,
+  };
+}
+
+/** What a map shows for one pen. Pens without a mark are drawn as not roped. */
+export interface PenMark {
+  resultClass: 'positive' | 'suspect' | 'negative' | 'invalid' | 'missing';
+  /** Load score max(0, C_max - Ct), cycles. */
+  load: number;
+  /** Positive now and never before (a small corner flag). */
+  newPositive?: boolean;
+  /** Text for the pen's tooltip. */
+  note?: string;
+}
+
+/** A planned rope on the rope sheet. */
+export interface PlannedMark {
+  reason: 'routine' | 'follow-up' | 'retest';
+  /** 1-based line of the checklist. */
+  order: number;
+}
+
+export interface MapOptions {
+  /** Unique within the page: used for pattern ids. */
+  key: string;
+  scale: number;
+  /** 'full' draws pen labels and symbols; 'mini' only fills and outlines. */
+  detail: 'full' | 'mini';
+  /** Accessible title of the drawing. */
+  title: string;
+  results?: ReadonlyMap<string, PenMark>;
+  planned?: ReadonlyMap<string, PlannedMark>;
+  clusters?: readonly { index: number; pens: readonly string[] }[];
+  /** Extra attributes on the <svg> (already safe names; values are escaped). */
+  attributes?: Readonly<Record<string, string>>;
+}
+
+const SYMBOL: Readonly<Record<PenMark['resultClass'], string>> = { positive: '+', suspect: '?', negative: '\u2212', invalid: '\u00d7', missing: 'M' };
+const fmt = (value: number) => String(Math.round(value * 10) / 10);
+
+function patternDefs(prefix: string): string {
+  return (
+    `<defs>` +
+    `<pattern id="${prefix}-empty" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#8a8a8a" stroke-width="1.6"/></pattern>` +
+    `<pattern id="${prefix}-out" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#5f5f5f" stroke-width="1.6"/><line x1="0" y1="0" x2="6" y2="0" stroke="#5f5f5f" stroke-width="1.6"/></pattern>` +
+    `</defs>`
+  );
+}
+
+function plannedSymbol(mark: PlannedMark, cx: number, cy: number, r: number): string {
+  const s = fmt;
+  switch (mark.reason) {
+    case 'routine':
+      return `<circle cx="${s(cx)}" cy="${s(cy)}" r="${s(r)}" fill="#ffffff" stroke="#000000" stroke-width="2"/>`;
+    case 'follow-up':
+      return `<polygon points="${s(cx)},${s(cy - r * 1.2)} ${s(cx + r * 1.15)},${s(cy + r * 0.85)} ${s(cx - r * 1.15)},${s(cy + r * 0.85)}" fill="#ffffff" stroke="#000000" stroke-width="2.4"/>`;
+    case 'retest':
+      return `<rect x="${s(cx - r)}" y="${s(cy - r)}" width="${s(2 * r)}" height="${s(2 * r)}" fill="#ffffff" stroke="#000000" stroke-width="2.4" transform="rotate(45 ${s(cx)} ${s(cy)})"/>`;
+  }
+}
+
+/**
+ * Renders a barn map as an inline SVG string: alley and gaps in grey, pens to scale, roped pens
+ * filled by load on the single-hue ramp with a symbol (+ positive, ? suspect, × invalid,
+ * − negative), positives with a heavy black outline, empty pens hatched, out-of-use pens
+ * cross-hatched, clusters as rounded boxes around their pens, planned ropes as a shape by reason
+ * (circle routine, triangle follow-up, diamond retest) with the checklist number.
+ * Each pen carries data-pen, and data-positive / data-planned / data-status where they apply.
+ * @throws RangeError as barnGeometry, or for an unknown load
+ */
+export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayout }, options: MapOptions): string {
+  const full = options.detail === 'full';
+  const margin = full ? { left: 26, top: 18, right: 8, bottom: 8 } : { left: 10, top: 4, right: 4, bottom: 4 };
+  const geometry = barnGeometry(barn.layout, options.scale, margin);
+  const prefix = safeId(options.key);
+  const parts: string[] = [];
+  const attrs = Object.entries(options.attributes ?? {})
+    .map(([name, value]) => ` ${name}="${escapeHtml(value)}"`)
+    .join('');
+  parts.push(
+    `<svg xmlns="http://www.w3.org/2000/svg" class="map map-${options.detail}" viewBox="0 0 ${fmt(geometry.width)} ${fmt(geometry.height)}" width="${fmt(geometry.width)}" height="${fmt(geometry.height)}" role="img" aria-labelledby="${prefix}-title" data-barn="${escapeHtml(barn.id)}"${attrs}>`,
+  );
+  parts.push(`<title id="${prefix}-title">${escapeHtml(options.title)}</title>`);
+  parts.push(patternDefs(prefix));
+  for (const band of geometry.bands) {
+    parts.push(`<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`);
+  }
+  if (full) {
+    const alley = geometry.bands.find((band) => band.kind === 'alley');
+    if (alley && alley.height >= 9) {
+      parts.push(`<text x="${fmt(alley.x + 4)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(Math.min(10, alley.height * 0.75))}" fill="${COLOURS.muted}">alley</text>`);
+    }
+    for (const label of geometry.rowLabels) {
+      parts.push(`<text x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="12" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`);
+    }
+  }
+  const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
+  for (const pen of geometry.pens) {
+    const result = options.results?.get(pen.id);
+    const planned = options.planned?.get(pen.id);
+    let fill = '#ffffff';
+    let ink: string = COLOURS.ink;
+    if (pen.status === 'empty') fill = `url(#${prefix}-empty)`;
+    else if (pen.status === 'out-of-use') fill = `url(#${prefix}-out)`;
+    if (result && result.resultClass !== 'missing') {
+      const step = LOAD_RAMP[loadStep(result.load)]!;
+      fill = step.fill;
+      ink = step.ink;
+    }
+    const positive = result?.resultClass === 'positive';
+    const stroke = positive ? COLOURS.positiveStroke : result ? '#4b5563' : COLOURS.penStroke;
+    const strokeWidth = positive ? (full ? 3.2 : 2) : result ? 1.2 : 0.8;
+    const inset = positive ? strokeWidth / 2 : 0;
+    const data = [
+      `data-pen="${escapeHtml(pen.id)}"`,
+      `data-status="${pen.status}"`,
+      ...(result ? [`data-result="${result.resultClass}"`] : []),
+      ...(positive ? ['data-positive=""'] : []),
+      ...(planned ? [`data-planned="${planned.reason}"`] : []),
+    ].join(' ');
+    const tip = [pen.id, pen.status === 'in-use' ? '' : pen.status, result ? `${result.resultClass}${result.load > 0 ? `, load ${fmt(result.load)}` : ''}` : '', result?.note ?? '', planned ? `${planned.reason} rope #${planned.order}` : '']
+      .filter((text) => text !== '')
+      .join(', ');
+    parts.push(`<g class="pen" ${data}><title>${escapeHtml(tip)}</title>`);
+    parts.push(
+      `<rect x="${fmt(pen.x + inset)}" y="${fmt(pen.y + inset)}" width="${fmt(pen.width - 2 * inset)}" height="${fmt(pen.height - 2 * inset)}" fill="${fill}" stroke="${stroke}" stroke-width="${fmt(strokeWidth)}"${result?.resultClass === 'missing' ? ' stroke-dasharray="3 2"' : ''}/>`,
+    );
+    if (full) {
+      const cx = pen.x + pen.width / 2;
+      const statusText = pen.status === 'empty' ? 'empty' : pen.status === 'out-of-use' ? 'out' : '';
+      const labelBox = statusText !== '' && !result ? `<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + 2)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>` : '';
+      parts.push(labelBox);
+      parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + 3 + fontSize * 0.85)}" text-anchor="middle" font-size="${fmt(fontSize)}" fill="${ink}">${escapeHtml(pen.id)}</text>`);
+      if (result) {
+        parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.72)}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(fontSize * 1.45)}" font-weight="700" fill="${ink}">${SYMBOL[result.resultClass]}</text>`);
+        if (result.newPositive) parts.push(`<polygon points="${fmt(pen.x + pen.width - 9)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 9)}" fill="#ffffff" stroke="#000000" stroke-width="1"/>`);
+      } else if (planned) {
+        const cy = pen.y + pen.height * 0.66;
+        const r = Math.min(pen.width, pen.height) * 0.24;
+        parts.push(plannedSymbol(planned, cx, cy, r));
+        parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + (planned.reason === 'follow-up' ? r * 0.2 : 0))}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(Math.max(7, r * 1.05))}" font-weight="700" fill="#000000">${planned.order}</text>`);
+      } else if (statusText !== '') {
+        parts.push(`<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + pen.height * 0.55)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`);
+        parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.55 + fontSize * 0.9)}" text-anchor="middle" font-size="${fmt(fontSize * 0.9)}" fill="${COLOURS.ink}">${statusText}</text>`);
+      }
+    }
+    parts.push(`</g>`);
+  }
+  const byId = new Map(geometry.pens.map((pen) => [pen.id, pen]));
+  for (const cluster of options.clusters ?? []) {
+    const members = cluster.pens.map((id) => byId.get(id)).filter((pen): pen is PenRect => pen !== undefined);
+    if (members.length === 0) continue;
+    const pad = full ? 3 : 1.5;
+    const x0 = Math.min(...members.map((pen) => pen.x)) - pad;
+    const y0 = Math.min(...members.map((pen) => pen.y)) - pad;
+    const x1 = Math.max(...members.map((pen) => pen.x + pen.width)) + pad;
+    const y1 = Math.max(...members.map((pen) => pen.y + pen.height)) + pad;
+    parts.push(
+      `<g class="cluster" data-cluster="${cluster.index}"><rect x="${fmt(x0)}" y="${fmt(y0)}" width="${fmt(x1 - x0)}" height="${fmt(y1 - y0)}" rx="${full ? 8 : 3}" fill="none" stroke="${COLOURS.cluster}" stroke-width="${full ? 2 : 1.2}" stroke-dasharray="${full ? '7 3' : '3 2'}"/>` +
+        (full ? `<text x="${fmt(x0 + 2)}" y="${fmt(Math.max(9, y0 - 3))}" font-size="10" font-weight="700" fill="${COLOURS.ink}">C${cluster.index}</text>` : '') +
+        `</g>`,
+    );
+  }
+  parts.push('</svg>');
+  return parts.join('');
+}

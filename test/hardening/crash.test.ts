@@ -1,0 +1,87 @@
+/**
+ * Crash mid-ingest: a real `ropewatch ingest` child process is killed with SIGKILL while it stores
+ * the rows of a large export. The store's promise (src/store/store.ts): one transaction per file
+ * (BEGIN IMMEDIATE ... COMMIT), so after any crash it holds all rows of the file or none, and the
+ * file moves out of the inbox only after the commit (src/pipeline.ts), so a second run finishes it.
+ * SQLite's WAL recovery discards frames of a transaction that never committed (SQLite
+ * documentation, "Write-Ahead Logging", section on recovery).
+ */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { Store } from '../../src/store/store.js';
+import { bigNorthfieldExport, lookIntoStore, REPO_ROOT, spawnCli } from '../helpers/hardening.js';
+
+/** Rows of the export: enough that storing takes well over a second on a slow CI core. */
+const ROWS = 40_000;
+/** Extra delay after the WAL shows rows arriving, one per repetition (ms). */
+const KILL_DELAYS_MS = [0, 400, 1000];
+/** WAL size that shows rows are being stored (the empty store's WAL is 0 bytes). */
+const WAL_STORING_BYTES = 256 * 1024;
+
+let root: string;
+let bytes: Buffer;
+beforeAll(() => {
+  root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-crash-'));
+  bytes = bigNorthfieldExport(ROWS);
+});
+afterAll(() => fs.rmSync(root, { recursive: true, force: true }));
+
+const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
+
+function workspace(name: string) {
+  const dir = path.join(root, name);
+  const paths = { config: path.join(dir, 'config'), db: path.join(dir, 'data', 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
+  fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
+  fs.mkdirSync(paths.inbox, { recursive: true });
+  // Create and migrate the store up front and close it cleanly, so its WAL starts empty and
+  // any WAL growth in the child is rows of the file being stored.
+  new Store(paths.db).close();
+  const flags = ['--config', paths.config, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
+  return { dir, paths, flags };
+}
+
+async function waitForWal(walFile: string, minBytes: number, timeoutMs: number): Promise<void> {
+  const started = Date.now();
+  while (Date.now() - started < timeoutMs) {
+    if (fs.existsSync(walFile) && fs.statSync(walFile).size >= minBytes) return;
+    await sleep(10);
+  }
+  throw new Error(`the WAL never reached ${minBytes} bytes within ${timeoutMs} ms`);
+}
+
+describe('a crash (SIGKILL) while an export is being stored', () => {
+  it.each(KILL_DELAYS_MS)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely (kill %i ms after rows start arriving)', async (delayMs) => {
+    const ws = workspace(`kill-${delayMs}`);
+    const file = path.join(ws.paths.inbox, 'nvdl_big.csv');
+    fs.writeFileSync(file, bytes);
+
+    const first = spawnCli(['ingest', file, ...ws.flags]);
+    await waitForWal(`${ws.paths.db}-wal`, WAL_STORING_BYTES, 30_000);
+    await sleep(delayMs);
+    first.child.kill('SIGKILL');
+    const killed = await first.done;
+    // The kill must land while the child is still working, or the test proves nothing.
+    expect(killed.signal, killed.stdout + killed.stderr).toBe('SIGKILL');
+
+    const afterCrash = lookIntoStore(ws.paths.db);
+    expect(afterCrash.integrity).toBe('ok');
+    const stored = afterCrash.resultsByFile['nvdl_big.csv'] ?? 0;
+    // All or nothing: one transaction per file.
+    expect([0, ROWS]).toContain(stored);
+    if (stored === 0) expect(afterCrash.files).toEqual([]);
+    // The file moves only after the commit: it is still waiting in the inbox.
+    expect(fs.existsSync(file)).toBe(true);
+    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(false);
+
+    const second = await spawnCli(['ingest', file, ...ws.flags]).done;
+    expect(second.code, second.stderr).toBe(0);
+    const afterRetry = lookIntoStore(ws.paths.db);
+    expect(afterRetry.integrity).toBe('ok');
+    expect(afterRetry.resultsByFile['nvdl_big.csv']).toBe(ROWS);
+    expect(afterRetry.files.filter((f) => f.name === 'nvdl_big.csv')).toHaveLength(1);
+    expect(fs.existsSync(file)).toBe(false);
+    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(true);
+  });
+});

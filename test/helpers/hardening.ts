@@ -1,0 +1,154 @@
+/**
+ * Helpers for the hardening tests and the ingest/recompute benchmarks: generated lab exports
+ * (valid rows mixed with junk rows), a many-site configuration with sample-pattern IDs, the CLI
+ * as a child process, and read-only looks into a store file.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import fs from 'node:fs';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import Database from 'better-sqlite3';
+
+export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
+
+/** The header of the (invented) Northfield lab export, as src/demo/config/labs/northfield.yaml names it. */
+export const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'] as const;
+export const NORTHFIELD_ASSAYS = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR' } as const;
+
+function csvCell(value: string): string {
+  return /[",;\n\r]/.test(value) ? `"${value.replace(/"/g, '""')}"` : value;
+}
+
+/** One Northfield data line (no newline) for an unresolved lab sample ID. */
+export function northfieldLine(caseNo: string, sampleId: string, assay: keyof typeof NORTHFIELD_ASSAYS, ct: string, collectedOn = '2026-08-03', reportedOn = '2026-08-06'): string {
+  return [caseNo, sampleId, NORTHFIELD_ASSAYS[assay], ct, ct === '' || ct === 'Undetermined' ? 'Negative' : 'Positive', 'PASS', collectedOn, reportedOn, 'Final']
+    .map(csvCell)
+    .join(',');
+}
+
+/**
+ * A Northfield export of `rows` result rows for sample IDs no rope sheet names (they are stored
+ * as unresolved results, which keeps the outputs step trivial: the file touches no site).
+ * Every row is distinct (its own sample ID), so `rows` rows are stored.
+ */
+export function bigNorthfieldExport(rows: number, prefix = 'LAB'): Buffer {
+  const lines = [NORTHFIELD_HEADER.join(',')];
+  for (let i = 0; i < rows; i++) {
+    const sample = `${prefix}-${String(Math.floor(i / 2)).padStart(7, '0')}`;
+    const ct = i % 7 === 0 ? (20 + (i % 150) / 10).toFixed(1) : 'Undetermined';
+    lines.push(northfieldLine(`NV26-${String(Math.floor(i / 2)).padStart(7, '0')}`, sample, i % 2 === 0 ? 'PRRSV' : 'IAV', ct));
+  }
+  return Buffer.from(lines.join('\n') + '\n', 'utf8');
+}
+
+export interface CliResult {
+  code: number | null;
+  signal: NodeJS.Signals | null;
+  stdout: string;
+  stderr: string;
+}
+
+/** `node --import tsx src/cli/bin.ts ...args` from the repository root. */
+export function spawnCli(args: readonly string[]): { child: ChildProcess; done: Promise<CliResult> } {
+  const child = spawn(process.execPath, ['--import', 'tsx', path.join(REPO_ROOT, 'src', 'cli', 'bin.ts'), ...args], {
+    cwd: REPO_ROOT,
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  let stdout = '';
+  let stderr = '';
+  child.stdout!.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
+  child.stderr!.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
+  const done = new Promise<CliResult>((resolve, reject) => {
+    child.on('error', reject);
+    child.on('close', (code, signal) => resolve({ code, signal, stdout, stderr }));
+  });
+  return { child, done };
+}
+
+export interface StoreLook {
+  integrity: string;
+  files: { name: string; status: string; reasonCode: string | null; rowsAccepted: number; rowsRejected: number }[];
+  /** Result rows per file name. */
+  resultsByFile: Record<string, number>;
+  results: number;
+  ropes: number;
+  rejectedRows: number;
+}
+
+/** Opens a store file read-only (no migrations, no lock held after) and reports what it holds. */
+export function lookIntoStore(dbFile: string): StoreLook {
+  if (!fs.existsSync(dbFile)) return { integrity: 'ok', files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
+  const db = new Database(dbFile, { readonly: true });
+  try {
+    const tables = new Set((db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as { name: string }[]).map((row) => row.name));
+    const integrity = (db.pragma('integrity_check', { simple: true }) as string) ?? 'unknown';
+    if (!tables.has('files')) return { integrity, files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
+    const files = db
+      .prepare('SELECT name, status, reason_code AS reasonCode, rows_accepted AS rowsAccepted, rows_rejected AS rowsRejected FROM files ORDER BY id')
+      .all() as StoreLook['files'];
+    const resultsByFile: Record<string, number> = {};
+    for (const row of db.prepare('SELECT f.name AS name, COUNT(*) AS n FROM results r JOIN files f ON f.id = r.file_id GROUP BY f.name').all() as { name: string; n: number }[]) {
+      resultsByFile[row.name] = row.n;
+    }
+    const one = (sql: string) => (db.prepare(sql).get() as { n: number }).n;
+    return { integrity, files, resultsByFile, results: one('SELECT COUNT(*) AS n FROM results'), ropes: one('SELECT COUNT(*) AS n FROM ropes'), rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows') };
+  } finally {
+    db.close();
+  }
+}
+
+export interface ManySiteOptions {
+  sites: number;
+  barnsPerSite: number;
+  /** Pens per row; two rows per barn, numbered continuously (1..2*pensPerRow). */
+  pensPerRow: number;
+}
+
+/** Site id, code and sample-pattern prefix of the i-th generated site (0-based). */
+export function generatedSite(index: number): { id: string; code: string; prefix: string } {
+  const n = String(index + 1).padStart(3, '0');
+  return { id: `site-${n}`, code: `G${n}S`, prefix: `G${n}` };
+}
+
+/**
+ * A configuration folder of `sites` invented sites, each with `barnsPerSite` two-row barns, whose
+ * tubes carry barn, pen and date in the sample ID (`G001-B2-17-20260803`), so a lab export needs
+ * no rope sheet. One invented lab (a copy of the demo's Northfield profile) and the demo assays.
+ */
+export function writeManySiteConfig(dir: string, options: ManySiteOptions): void {
+  fs.mkdirSync(path.join(dir, 'labs'), { recursive: true });
+  fs.copyFileSync(path.join(REPO_ROOT, 'src', 'demo', 'config', 'assays.yaml'), path.join(dir, 'assays.yaml'));
+  fs.copyFileSync(path.join(REPO_ROOT, 'src', 'demo', 'config', 'labs', 'northfield.yaml'), path.join(dir, 'labs', 'northfield.yaml'));
+  const lines = [
+    '# Generated for the hardening tests and benchmarks: invented sites only.',
+    'programDefaults:',
+    '  designPrevalence: 0.1',
+    '  targetConfidence: 0.95',
+    '  ropeSensitivity: { default: 0.85 }',
+    '  ropeSpecificity: 1',
+    '  roundWindowDays: 3',
+    '  intervalDays: 14',
+    '  priorFreedom: 0.5',
+    '  introductionPerInterval: 0.02',
+    '  followUpRadius: 1.5',
+    'analysis:',
+    '  seed: 1',
+    '  permutations: 99',
+    '  spreadRealisations: 100',
+    'sites:',
+  ];
+  for (let s = 0; s < options.sites; s++) {
+    const site = generatedSite(s);
+    lines.push(`  - id: ${site.id}`, `    name: Generated site ${s + 1}`, `    code: ${site.code}`);
+    lines.push(`    samplePattern: '^${site.prefix}-(?<barn>B\\d+)-(?<pen>\\d{1,3})-(?<date>\\d{8})$'`, '    barns:');
+    for (let b = 0; b < options.barnsPerSite; b++) {
+      lines.push(`      - id: B${b + 1}`, `        position: { x: 0, y: ${b * 6} }`, '        layout:', '          rows: 2', `          pensPerRow: ${options.pensPerRow}`, '          numbering: continuous');
+    }
+  }
+  fs.writeFileSync(path.join(dir, 'sites.yaml'), lines.join('\n') + '\n');
+}
+
+/** Sample ID a generated site's pattern maps to barn `barn` (1-based), pen `pen` (1-based), day `yyyymmdd`. */
+export function patternSampleId(siteIndex: number, barn: number, pen: number, yyyymmdd: string): string {
+  return `${generatedSite(siteIndex).prefix}-B${barn}-${pen}-${yyyymmdd}`;
+}
