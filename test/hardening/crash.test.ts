@@ -10,15 +10,17 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import Database from 'better-sqlite3';
 import { Store } from '../../src/store/store.js';
 import { bigNorthfieldExport, lookIntoStore, REPO_ROOT, spawnCli } from '../helpers/hardening.js';
 
 /** Rows of the export: enough that storing takes well over a second on a slow CI core. */
 const ROWS = 40_000;
-/** Extra delay after the WAL shows rows arriving, one per repetition (ms). */
-const KILL_DELAYS_MS = [0, 400, 1000];
-/** WAL size that shows rows are being stored (the empty store's WAL is 0 bytes). */
-const WAL_STORING_BYTES = 256 * 1024;
+/**
+ * Delay after the child takes the store's write lock (its file transaction has begun), one per
+ * repetition (ms). Storing 40,000 rows holds the lock for about 3 s on the 2-core test machine.
+ */
+const KILL_DELAYS_MS = [50, 700, 1500];
 
 let root: string;
 let bytes: Buffer;
@@ -35,30 +37,45 @@ function workspace(name: string) {
   const paths = { config: path.join(dir, 'config'), db: path.join(dir, 'data', 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
   fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
   fs.mkdirSync(paths.inbox, { recursive: true });
-  // Create and migrate the store up front and close it cleanly, so its WAL starts empty and
-  // any WAL growth in the child is rows of the file being stored.
+  // Create and migrate the store up front, so the child's only write transaction is the file's.
   new Store(paths.db).close();
   const flags = ['--config', paths.config, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
   return { dir, paths, flags };
 }
 
-async function waitForWal(walFile: string, minBytes: number, timeoutMs: number): Promise<void> {
-  const started = Date.now();
-  while (Date.now() - started < timeoutMs) {
-    if (fs.existsSync(walFile) && fs.statSync(walFile).size >= minBytes) return;
-    await sleep(10);
+/**
+ * Waits until another connection holds the store's write lock: a probe `BEGIN IMMEDIATE` with no
+ * busy timeout fails with SQLITE_BUSY exactly then. (The WAL file is no signal: better-sqlite3's
+ * page cache holds a whole 40,000-row transaction, so the WAL stays empty until the commit.)
+ */
+async function waitForWriteLock(dbFile: string, timeoutMs: number): Promise<void> {
+  const probe = new Database(dbFile, { timeout: 0 });
+  try {
+    const started = Date.now();
+    while (Date.now() - started < timeoutMs) {
+      try {
+        probe.exec('BEGIN IMMEDIATE');
+        probe.exec('ROLLBACK');
+      } catch (error) {
+        if ((error as { code?: string }).code === 'SQLITE_BUSY') return;
+        throw error;
+      }
+      await sleep(15);
+    }
+    throw new Error(`no process took the write lock of ${dbFile} within ${timeoutMs} ms`);
+  } finally {
+    probe.close();
   }
-  throw new Error(`the WAL never reached ${minBytes} bytes within ${timeoutMs} ms`);
 }
 
 describe('a crash (SIGKILL) while an export is being stored', () => {
-  it.each(KILL_DELAYS_MS)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely (kill %i ms after rows start arriving)', async (delayMs) => {
+  it.each(KILL_DELAYS_MS)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely (kill %i ms after its file transaction began)', async (delayMs) => {
     const ws = workspace(`kill-${delayMs}`);
     const file = path.join(ws.paths.inbox, 'nvdl_big.csv');
     fs.writeFileSync(file, bytes);
 
     const first = spawnCli(['ingest', file, ...ws.flags]);
-    await waitForWal(`${ws.paths.db}-wal`, WAL_STORING_BYTES, 30_000);
+    await waitForWriteLock(ws.paths.db, 30_000);
     await sleep(delayMs);
     first.child.kill('SIGKILL');
     const killed = await first.done;

@@ -1,0 +1,194 @@
+/**
+ * The document shell every page shares: inline CSS (screen and print), the notifiable notices at
+ * the top, the cautions at the bottom, map legends and number formatting. No scripts, no network,
+ * no external fonts: a page is one file that opens and prints anywhere.
+ */
+import { CAUTIONS } from '../cautions.js';
+import { escapeHtml } from './escape.js';
+import { COLOURS, LOAD_BAND_CYCLES, LOAD_RAMP } from './palette.js';
+
+export interface PageInput {
+  /** The <title>. */
+  title: string;
+  heading: string;
+  /** One line under the heading (already escaped HTML). */
+  subheading?: string;
+  /** Notifiable notices (plain text). */
+  notices: readonly string[];
+  /** Links at the top: href relative to the page, plain-text label. */
+  nav?: readonly { href: string; label: string }[];
+  /** The page's body (already escaped HTML). */
+  body: string;
+  /** Larger type, for the producer's rope sheet. */
+  large?: boolean;
+}
+
+const CSS = `
+*{box-sizing:border-box}
+html{font-family:system-ui,"Segoe UI",Roboto,"Helvetica Neue",Arial,sans-serif;color:${COLOURS.ink};background:${COLOURS.paper};font-size:15px;line-height:1.4}
+body{margin:0 auto;max-width:1060px;padding:18px 22px}
+body.large{font-size:18px}
+h1{font-size:1.6em;margin:0 0 2px}
+h2{font-size:1.25em;margin:22px 0 6px;border-bottom:2px solid ${COLOURS.ink};padding-bottom:2px}
+h3{font-size:1.08em;margin:14px 0 4px}
+p{margin:4px 0 8px}
+a{color:${COLOURS.link}}
+.sub{color:${COLOURS.muted};margin:0 0 10px}
+nav{margin:0 0 10px;font-size:.92em}
+nav a{margin-right:14px}
+.notice{border:3px solid ${COLOURS.noticeInk};background:${COLOURS.noticePaper};color:${COLOURS.noticeInk};padding:8px 12px;margin:8px 0;font-weight:700}
+.alerts{border-left:6px solid ${COLOURS.alertInk};background:${COLOURS.alertPaper};color:${COLOURS.alertInk};padding:6px 12px;margin:8px 0}
+.alerts ul{margin:4px 0;padding-left:20px}
+.alerts li{margin:3px 0}
+.calm{border-left:6px solid ${COLOURS.okInk};background:${COLOURS.okPaper};color:${COLOURS.okInk};padding:6px 12px;margin:8px 0}
+.explain{background:${COLOURS.panel};padding:6px 12px;margin:8px 0}
+table{border-collapse:collapse;margin:4px 0 10px;font-size:.93em}
+th,td{border:1px solid ${COLOURS.rule};padding:3px 7px;text-align:left;vertical-align:top}
+th{background:${COLOURS.panel}}
+td.num,th.num{text-align:right;font-variant-numeric:tabular-nums}
+.met{color:${COLOURS.okInk};background:${COLOURS.okPaper};font-weight:700}
+.below{color:${COLOURS.alertInk};background:${COLOURS.alertPaper};font-weight:700}
+.muted{color:${COLOURS.muted}}
+.barn{break-inside:avoid;page-break-inside:avoid;margin-bottom:12px}
+figure{margin:6px 0 10px}
+figcaption{font-size:.88em;color:${COLOURS.muted}}
+svg.map{max-width:100%;height:auto;display:block}
+.minis{display:flex;flex-wrap:wrap;gap:10px;margin:4px 0}
+.minis figure{margin:0}
+.minis svg.map{max-width:none}
+.trends{display:flex;flex-wrap:wrap;gap:6px}
+.legend{display:flex;flex-wrap:wrap;gap:4px 14px;font-size:.85em;margin:4px 0;align-items:center}
+.legend span.item{display:inline-flex;align-items:center;gap:4px}
+.legend svg{vertical-align:middle}
+.cautions{margin-top:22px;border-top:2px solid ${COLOURS.ink};padding-top:6px;font-size:.88em}
+.cautions ul{margin:4px 0;padding-left:20px}
+.checklist td,.checklist th{padding:7px 10px}
+.checklist td.tick{width:44px}
+.box{display:inline-block;width:22px;height:22px;border:2px solid ${COLOURS.ink};vertical-align:middle}
+.due{font-size:1.35em;font-weight:700;margin:6px 0}
+.overdue{border:3px solid ${COLOURS.alertInk};background:${COLOURS.alertPaper};color:${COLOURS.alertInk};padding:6px 12px;font-weight:700}
+.stats td:first-child{white-space:nowrap}
+@media print{
+  @page{margin:12mm}
+  html{font-size:10.5pt}
+  body{max-width:none;padding:0}
+  body.large{font-size:13pt}
+  nav{display:none}
+  a{color:${COLOURS.ink};text-decoration:none}
+  h2{break-after:avoid;page-break-after:avoid}
+  .notice,.alerts,.calm,.overdue{-webkit-print-color-adjust:exact;print-color-adjust:exact}
+  svg{-webkit-print-color-adjust:exact;print-color-adjust:exact}
+  tr{break-inside:avoid;page-break-inside:avoid}
+}
+`;
+
+/** The cautions as a block (always visible, also in print). */
+export function cautionsBlock(): string {
+  return `<section class="cautions" data-cautions=""><strong>Please note</strong><ul>${CAUTIONS.map((text) => `<li>${escapeHtml(text)}</li>`).join('')}</ul></section>`;
+}
+
+/** The notifiable notices, one prominent box each. */
+export function noticesBlock(notices: readonly string[]): string {
+  return notices.map((text) => `<div class="notice" role="alert" data-notifiable="">${escapeHtml(text)}</div>`).join('');
+}
+
+/** A whole HTML document: shell, CSS, notices first, the body, the cautions last. */
+export function renderPage(input: PageInput): string {
+  const nav = input.nav && input.nav.length > 0 ? `<nav>${input.nav.map((link) => `<a href="${escapeHtml(link.href)}">${escapeHtml(link.label)}</a>`).join('')}</nav>` : '';
+  return (
+    `<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n<meta name="viewport" content="width=device-width, initial-scale=1">\n` +
+    `<title>${escapeHtml(input.title)}</title>\n<style>${CSS}</style>\n</head>\n<body${input.large ? ' class="large"' : ''}>\n` +
+    `${nav}<header><h1>${escapeHtml(input.heading)}</h1>${input.subheading ? `<p class="sub">${input.subheading}</p>` : ''}</header>\n` +
+    `${noticesBlock(input.notices)}\n<main>\n${input.body}\n</main>\n${cautionsBlock()}\n</body>\n</html>\n`
+  );
+}
+
+function swatch(fill: string, stroke: string, strokeWidth: number, symbol = '', ink: string = COLOURS.ink): string {
+  return (
+    `<svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><rect x="1.5" y="1.5" width="17" height="17" fill="${fill}" stroke="${stroke}" stroke-width="${strokeWidth}"/>` +
+    (symbol ? `<text x="10" y="10.5" text-anchor="middle" dominant-baseline="central" font-size="13" font-weight="700" fill="${ink}">${symbol}</text>` : '') +
+    `</svg>`
+  );
+}
+
+const hatch = (id: string, cross: boolean) =>
+  `<svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><defs><pattern id="${id}" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#6f6f6f" stroke-width="1.6"/>${cross ? '<line x1="0" y1="0" x2="6" y2="0" stroke="#5f5f5f" stroke-width="1.6"/>' : ''}</pattern></defs><rect x="1.5" y="1.5" width="17" height="17" fill="url(#${id})" stroke="${COLOURS.penStroke}"/></svg>`;
+
+/**
+ * Legend of a results map: the load ramp with the Ct each step stands for at this cycle limit,
+ * the symbols, the outlines, hatching and cluster boxes.
+ * @param key unique within the page (pattern ids)
+ * @param cycleLimit the assay's cycle limit C_max, cycles
+ */
+export function resultsLegend(key: string, cycleLimit: number): string {
+  const band = LOAD_BAND_CYCLES;
+  const ramp = LOAD_RAMP.map((step, index) => {
+    const label =
+      index === 0
+        ? 'not detected'
+        : index === LOAD_RAMP.length - 1
+          ? `Ct &lt; ${cycleLimit - band * (index - 1)}`
+          : `Ct ${cycleLimit - band * index}\u2013${cycleLimit - band * (index - 1)}`;
+    return `<span class="item">${swatch(step.fill, '#4b5563', 1.2)}${label}</span>`;
+  }).join('');
+  return (
+    `<div class="legend" data-legend=""><span class="item"><strong>Shade = load (${cycleLimit} \u2212 Ct), darker = more virus:</strong></span>${ramp}</div>` +
+    `<div class="legend">` +
+    `<span class="item">${swatch(LOAD_RAMP[3]!.fill, '#000000', 3.2, '+', LOAD_RAMP[3]!.ink)}positive (heavy outline)</span>` +
+    `<span class="item">${swatch(LOAD_RAMP[1]!.fill, '#4b5563', 1.2, '?')}suspect</span>` +
+    `<span class="item">${swatch(LOAD_RAMP[0]!.fill, '#4b5563', 1.2, '\u2212')}negative</span>` +
+    `<span class="item">${swatch(LOAD_RAMP[0]!.fill, '#4b5563', 1.2, '\u00d7')}invalid (retest)</span>` +
+    `<span class="item">${swatch('#ffffff', COLOURS.penStroke, 0.8)}no rope</span>` +
+    `<span class="item">${hatch(`${key}-lg-e`, false)}empty</span>` +
+    `<span class="item">${hatch(`${key}-lg-o`, true)}out of use</span>` +
+    `<span class="item"><svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><rect x="1.5" y="1.5" width="17" height="17" fill="#ffffff" stroke="${COLOURS.penStroke}"/><polygon points="10,4 16,4 16,10" fill="#ffffff" stroke="#000000"/></svg>new positive</span>` +
+    `<span class="item"><svg width="26" height="20" viewBox="0 0 26 20" aria-hidden="true"><rect x="2" y="2" width="22" height="16" rx="5" fill="none" stroke="${COLOURS.cluster}" stroke-width="2" stroke-dasharray="7 3"/></svg>cluster</span>` +
+    `</div>`
+  );
+}
+
+/** Legend of a rope-sheet map: the reason shapes. */
+export function sheetLegend(key: string): string {
+  const shape = (inner: string) => `<svg width="22" height="22" viewBox="0 0 22 22" aria-hidden="true">${inner}</svg>`;
+  return (
+    `<div class="legend" data-legend="">` +
+    `<span class="item">${shape('<circle cx="11" cy="11" r="8" fill="#ffffff" stroke="#000000" stroke-width="2"/>')}routine rope</span>` +
+    `<span class="item">${shape('<polygon points="11,2 20.5,18.5 1.5,18.5" fill="#ffffff" stroke="#000000" stroke-width="2.4"/>')}follow-up rope (next to a positive)</span>` +
+    `<span class="item">${shape('<rect x="5" y="5" width="12" height="12" fill="#ffffff" stroke="#000000" stroke-width="2.4" transform="rotate(45 11 11)"/>')}retest rope</span>` +
+    `<span class="item">number = line on the checklist</span>` +
+    `<span class="item">${hatch(`${key}-lg-e`, false)}empty</span>` +
+    `<span class="item">${hatch(`${key}-lg-o`, true)}out of use</span>` +
+    `</div>`
+  );
+}
+
+/** A probability as a percentage with one decimal ("95.0%"); never NaN. */
+export function pct(p: number | null | undefined): string {
+  if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';
+  return `${(100 * p).toFixed(1)}%`;
+}
+
+/** A p-value as the statistics modules word it: "< 0.001" or three decimals. */
+export function pValue(p: number | null | undefined): string {
+  if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';
+  return p < 0.001 ? '&lt; 0.001' : p.toFixed(3);
+}
+
+/** A number with fixed decimals, or "n/a". */
+export function num(value: number | null | undefined, digits = 2): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return 'n/a';
+  return value.toFixed(digits);
+}
+
+/** Plural helper: "1 rope", "3 ropes". */
+export function count(n: number, singular: string, plural = `${singular}s`): string {
+  return `${n} ${n === 1 ? singular : plural}`;
+}
+
+/** The one plain sentence on what detection confidence means (README, "What confidence achieved means"). */
+export function confidenceSentence(designPrevalence: string, target: number): string {
+  return (
+    `<strong>What detection confidence means:</strong> it is the chance that this round's returned ropes would have found at least one positive pen ` +
+    `<em>if</em> ${escapeHtml(designPrevalence)} of the barn were infected; the program aims for ${pct(target)}. It does not mean the barn is that likely to be free.`
+  );
+}
