@@ -27,7 +27,7 @@ import {
   type ScheduleOption,
   type SimulatedDelay,
 } from '../plan/index.js';
-import { detectionProbability } from '../spatial/index.js';
+import { contactWeights, detectionProbability, simulateOnwardSpread } from '../spatial/index.js';
 import { detectionFor, siteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
@@ -226,6 +226,27 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const clustersOf = (barnId: string) =>
     (lastSpatial?.assays ?? []).flatMap((assay) => assay.report.barns.find((barn) => barn.barn === barnId)?.clusters.map((cluster) => cluster.pens) ?? []);
 
+  // With a cap on follow-up ropes, the ring pens are chosen by simulated onward spread from the
+  // positives (two steps of the spread model, about one interval): greedy on a submodular gain.
+  const onwardDetect = (model: BarnModel, positives: readonly string[]) => {
+    if (program.followUpRopes === undefined || positives.length === 0) return undefined;
+    const inUse = model.barn.pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id);
+    const seeds = positives.filter((id) => inUse.includes(id));
+    if (seeds.length === 0) return undefined;
+    const onward = simulateOnwardSpread(contactWeights(model.barn.layout, inUse, 'queen', 'binary'), {
+      seeds,
+      steps: 2,
+      beta: settings.spreadTransmission,
+      background: settings.spreadBackground,
+      realisations: Math.min(2000, settings.spreadRealisations),
+      rng: seededRng(deriveSeed(settings.seed, site.id, model.barn.id, 'onward', roundNumber)),
+    });
+    return (pens: readonly string[]) => detectionProbability(onward, pens.filter((id) => inUse.includes(id)), model.sensitivity).p;
+  };
+  if (program.followUpRopes !== undefined) {
+    notes.push(`Follow-up ropes: at most ${program.followUpRopes} per barn, chosen one by one for the largest simulated gain in finding onward spread from the positives (greedy on a submodular objective: within 1 - 1/e of the best set; Nemhauser, Wolsey & Fisher 1978).`);
+  }
+
   const plan = buildRoundPlan({
     siteCode: site.code,
     round: roundNumber,
@@ -240,6 +261,11 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       invalids: pensWhere(model.barn.id, 'invalidPens'),
       clusters: clustersOf(model.barn.id),
       ringDistance: program.followUpRadius,
+      ...(program.followUpRopes !== undefined ? { maxExtraRopes: program.followUpRopes } : {}),
+      ...(() => {
+        const detectSet = onwardDetect(model, pensWhere(model.barn.id, 'positivePens'));
+        return detectSet ? { detectSet } : {};
+      })(),
     })),
   });
   const rows = keepEarlierIds(

@@ -90,6 +90,7 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     introductionPerInterval: raw.introductionPerInterval,
     ropeBudget: raw.ropeBudget,
     followUpRadius: raw.followUpRadius ?? 1.5,
+    followUpRopes: raw.followUpRopes,
     sizeFor: raw.sizeFor ?? 'barn',
   });
 }

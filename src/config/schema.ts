@@ -42,6 +42,11 @@ export const programSchema = z
     ropeBudget: z.number().int().min(1).optional(),
     /** Pens around a positive cluster that get follow-up ropes: distance in pen units. */
     followUpRadius: z.number().min(0).optional(),
+    /**
+     * Most follow-up ropes per barn after positives; when set, the pens are chosen greedily by
+     * simulated onward spread. Without it every in-use pen of the ring gets a rope.
+     */
+    followUpRopes: z.number().int().min(0).optional(),
     /** Size routine ropes so that each barn reaches the target, or so that the site does across barns. */
     sizeFor: z.enum(['barn', 'site']).optional(),
   })

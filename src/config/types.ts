@@ -20,6 +20,7 @@ export interface Program {
   introductionPerInterval: number;
   ropeBudget: number | undefined;
   followUpRadius: number;
+  followUpRopes: number | undefined;
   sizeFor: 'barn' | 'site';
 }
 

@@ -9,3 +9,4 @@ export * from './clusters.js';
 export * from './spread.js';
 export * from './spreadDetection.js';
 export * from './analyse.js';
+export * from './onwardSpread.js';
