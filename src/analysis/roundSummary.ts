@@ -91,6 +91,13 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       .map((id) => config.assayById.get(id))
       .filter((assay) => assay?.notifiable)
       .map((assay) => notifiableNotice(assay!.name));
+    for (const entry of roundConfidence.sites) {
+      if (entry.freedomReset) {
+        notices.push(
+          `${entry.assayId} positive in barn${entry.positiveBarns.length === 1 ? '' : 's'} ${entry.positiveBarns.join(', ')}: the probability of freedom for ${site.name} is reset to 0 and builds up again from the prior once rounds are negative.`,
+        );
+      }
+    }
     const barns: BarnSummary[] = round.barns.map((barnRound) => {
       const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
       return {
