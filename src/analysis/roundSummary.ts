@@ -4,8 +4,7 @@
  * in src/report turn it into summary.json and summary.csv without computing anything.
  */
 import type { Config, Site } from '../config/types.js';
-import type { ResultClass } from '../interpret/classify.js';
-import { ctHistory, type CtHistoryPoint, type SiteRound } from '../interpret/roundModel.js';
+import { ctHistory, type CtHistoryPoint, type PenAssayResult, type SiteRound } from '../interpret/roundModel.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
 import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
 
@@ -17,21 +16,8 @@ export interface PenSummary {
   side: string;
   sampleIds: string[];
   returned: boolean;
-  results: Record<
-    string,
-    {
-      resultClass: ResultClass;
-      ct: number | null;
-      loadBand: string | null;
-      load: number;
-      reason: string;
-      sampleId: string;
-      labId: string;
-      labCall: string | null;
-      callDiffers: boolean;
-      history: CtHistoryPoint[];
-    }
-  >;
+  /** Per assay: the result standing for the pen this round, and its Ct across rounds so far. */
+  results: Record<string, Omit<PenAssayResult, 'assayId' | 'otherSampleIds'> & { history: CtHistoryPoint[] }>;
 }
 
 export interface BarnAssaySummary {
@@ -135,18 +121,10 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         results: Object.fromEntries(
           Object.entries(pen.results).map(([assayId, result]) => [
             assayId,
-            {
-              resultClass: result.resultClass,
-              ct: result.ct,
-              loadBand: result.loadBand,
-              load: result.load,
-              reason: result.reason,
-              sampleId: result.sampleId,
-              labId: result.labId,
-              labCall: result.labCall,
-              callDiffers: result.callDiffers,
+            (({ assayId: _assay, otherSampleIds: _others, ...kept }) => ({
+              ...kept,
               history: ctHistory(rounds.slice(0, index + 1), barnRound.barnId, pen.penId, assayId),
-            },
+            }))(result),
           ]),
         ),
       })),

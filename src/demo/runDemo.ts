@@ -19,15 +19,6 @@ import { DEMO_TODAY, HOLLOW_CREEK_ROUNDS, hollowCreekRound, tamsinRidgeRound, TA
 export const DEMO_CONFIG_DIR = path.join(path.dirname(fileURLToPath(import.meta.url)), 'config');
 const DEMO_MARKER = 'demo-store';
 
-function copyDir(from: string, to: string): void {
-  fs.mkdirSync(to, { recursive: true });
-  for (const entry of fs.readdirSync(from, { withFileTypes: true })) {
-    const source = path.join(from, entry.name);
-    const target = path.join(to, entry.name);
-    if (entry.isDirectory()) copyDir(source, target);
-    else fs.copyFileSync(source, target);
-  }
-}
 
 function emptyDir(dir: string, keep: readonly string[] = ['.gitkeep']): void {
   fs.mkdirSync(dir, { recursive: true });
@@ -59,7 +50,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
   emptyDir(paths.inbox);
   emptyDir(paths.outbox);
   emptyDir(paths.configDir, ['README.md']);
-  copyDir(DEMO_CONFIG_DIR, paths.configDir);
+  fs.cpSync(DEMO_CONFIG_DIR, paths.configDir, { recursive: true });
   const config = loadConfig(paths.configDir);
 
   let clock = new Date(DEMO_TODAY);

@@ -38,15 +38,6 @@ export interface TestWorkspace {
   cleanup: () => void;
 }
 
-function copyDir(from: string, to: string): void {
-  fs.mkdirSync(to, { recursive: true });
-  for (const entry of fs.readdirSync(from, { withFileTypes: true })) {
-    const source = path.join(from, entry.name);
-    const target = path.join(to, entry.name);
-    if (entry.isDirectory()) copyDir(source, target);
-    else fs.copyFileSync(source, target);
-  }
-}
 
 export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-test-'));
@@ -56,7 +47,7 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
     inbox: path.join(root, 'inbox'),
     outbox: path.join(root, 'outbox'),
   };
-  copyDir(options.configFrom ?? DEMO_CONFIG_DIR, paths.configDir);
+  fs.cpSync(options.configFrom ?? DEMO_CONFIG_DIR, paths.configDir, { recursive: true });
   for (const [name, text] of Object.entries(options.configFiles ?? {})) {
     fs.mkdirSync(path.dirname(path.join(paths.configDir, name)), { recursive: true });
     fs.writeFileSync(path.join(paths.configDir, name), text);
