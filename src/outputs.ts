@@ -15,6 +15,7 @@ import { buildSiteRounds, type SiteRound } from './interpret/roundModel.js';
 import { clustersCsv } from './report/clustersCsv.js';
 import { removeStaleFolders, writeFileAtomic, writeJson } from './report/files.js';
 import { nextRoundCsv, nextRoundJson } from './report/nextRoundFiles.js';
+import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
 import type { StoredResult } from './store/store.js';
 import type { Workspace } from './workspace.js';
@@ -97,6 +98,7 @@ export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis): void {
   });
   writeJson(path.join(siteDir, 'next-round.json'), nextRoundJson(analysis.plan));
   writeFileAtomic(path.join(siteDir, 'next-round.csv'), nextRoundCsv(analysis.plan));
+  writeSitePages(ws.outbox, ws.config, analysis);
   // A late rope sheet can renumber rounds; folders of rounds that no longer exist go.
   removeStaleFolders(siteDir, ROUND_FOLDER, new Set(analysis.summaries.map((summary) => summary.round.id)));
 }
@@ -112,5 +114,6 @@ export function regenerateOutputs(ws: Workspace, siteIds?: readonly string[], op
     storePlan(ws, analysis);
     writeSiteOutputs(ws, analysis);
   }
+  writeIndex(ws.outbox, ws.config);
   return analyses;
 }

@@ -244,10 +244,11 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
         const cy = pen.y + pen.height * 0.66;
         const r = Math.min(pen.width, pen.height) * 0.24;
         parts.push(plannedSymbol(planned, cx, cy, r));
-        parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + (planned.reason === 'follow-up' ? r * 0.2 : 0))}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(Math.max(7, r * 1.05))}" font-weight="700" fill="#000000">${planned.order}</text>`);
+        // Two-digit numbers sit lower in the triangle, where it is wide enough.
+        parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + (planned.reason === 'follow-up' ? r * 0.3 : 0))}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(Math.max(7, r * (planned.order >= 10 ? 0.85 : 1.05)))}" font-weight="700" fill="#000000">${planned.order}</text>`);
       } else if (statusText !== '') {
         parts.push(`<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + pen.height * 0.55)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`);
-        parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.55 + fontSize * 0.9)}" text-anchor="middle" font-size="${fmt(fontSize * 0.9)}" fill="${COLOURS.ink}">${statusText}</text>`);
+        parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.55 + fontSize * 0.9)}" text-anchor="middle" font-size="${fmt(fontSize * 0.8)}" fill="${COLOURS.ink}">${statusText}</text>`);
       }
     }
     parts.push(`</g>`);

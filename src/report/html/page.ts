@@ -4,7 +4,7 @@
  * no external fonts: a page is one file that opens and prints anywhere.
  */
 import { CAUTIONS } from '../cautions.js';
-import { escapeHtml } from './escape.js';
+import { escapeHtml, safeId } from './escape.js';
 import { COLOURS, LOAD_BAND_CYCLES, LOAD_RAMP } from './palette.js';
 
 export interface PageInput {
@@ -54,7 +54,7 @@ figure{margin:6px 0 10px}
 figcaption{font-size:.88em;color:${COLOURS.muted}}
 svg.map{max-width:100%;height:auto;display:block}
 .minis{display:flex;flex-wrap:wrap;gap:10px;margin:4px 0}
-.minis figure{margin:0}
+.minis figure{margin:0;max-width:340px}
 .minis svg.map{max-width:none}
 .trends{display:flex;flex-wrap:wrap;gap:6px}
 .legend{display:flex;flex-wrap:wrap;gap:4px 14px;font-size:.85em;margin:4px 0;align-items:center}
@@ -79,6 +79,13 @@ svg.map{max-width:100%;height:auto;display:block}
   .notice,.alerts,.calm,.overdue{-webkit-print-color-adjust:exact;print-color-adjust:exact}
   svg{-webkit-print-color-adjust:exact;print-color-adjust:exact}
   tr{break-inside:avoid;page-break-inside:avoid}
+  table{font-size:8.5pt;max-width:100%}
+  th,td{padding:2px 4px;overflow-wrap:anywhere}
+  .checklist{font-size:11.5pt}
+  .checklist td,.checklist th{padding:3px 8px}
+  .box{width:16px;height:16px}
+  .barn{break-inside:auto;page-break-inside:auto}
+  figure,.legend{break-inside:avoid;page-break-inside:avoid}
 }
 `;
 
@@ -120,7 +127,8 @@ const hatch = (id: string, cross: boolean) =>
  * @param key unique within the page (pattern ids)
  * @param cycleLimit the assay's cycle limit C_max, cycles
  */
-export function resultsLegend(key: string, cycleLimit: number): string {
+export function resultsLegend(rawKey: string, cycleLimit: number): string {
+  const key = safeId(rawKey);
   const band = LOAD_BAND_CYCLES;
   const ramp = LOAD_RAMP.map((step, index) => {
     const label =
@@ -148,7 +156,8 @@ export function resultsLegend(key: string, cycleLimit: number): string {
 }
 
 /** Legend of a rope-sheet map: the reason shapes. */
-export function sheetLegend(key: string): string {
+export function sheetLegend(rawKey: string): string {
+  const key = safeId(rawKey);
   const shape = (inner: string) => `<svg width="22" height="22" viewBox="0 0 22 22" aria-hidden="true">${inner}</svg>`;
   return (
     `<div class="legend" data-legend="">` +
@@ -165,7 +174,11 @@ export function sheetLegend(key: string): string {
 /** A probability as a percentage with one decimal ("95.0%"); never NaN. */
 export function pct(p: number | null | undefined): string {
   if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';
-  return `${(100 * p).toFixed(1)}%`;
+  const text = (100 * p).toFixed(1);
+  // 0.99994 must not read as a certainty, nor 0.00004 as an impossibility.
+  if (text === '100.0' && p < 1) return '> 99.9%';
+  if (text === '0.0' && p > 0) return '< 0.1%';
+  return `${text}%`;
 }
 
 /** A p-value as the statistics modules word it: "< 0.001" or three decimals. */
@@ -189,6 +202,6 @@ export function count(n: number, singular: string, plural = `${singular}s`): str
 export function confidenceSentence(designPrevalence: string, target: number): string {
   return (
     `<strong>What detection confidence means:</strong> it is the chance that this round's returned ropes would have found at least one positive pen ` +
-    `<em>if</em> ${escapeHtml(designPrevalence)} of the barn were infected; the program aims for ${pct(target)}. It does not mean the barn is that likely to be free.`
+    `<em>if</em> infection were present at the design prevalence (${escapeHtml(designPrevalence)}); the program aims for ${pct(target)}. It does not mean the barn is that likely to be free of infection.`
   );
 }

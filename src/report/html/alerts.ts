@@ -1,0 +1,139 @@
+/**
+ * Alerts of a round in plain words, each with the number behind it. Only comparisons of values
+ * the analysis already holds (this round against the previous ones, counts against zero, the
+ * spatial alerts of src/analysis/spatialRound): no statistics are computed here.
+ */
+import type { RoundSummary } from '../../analysis/roundSummary.js';
+import type { RoundSpatial } from '../../analysis/spatialRound.js';
+import type { NextRoundPlan } from '../../analysis/nextRound.js';
+
+export type AlertKind =
+  | 'first-positive'
+  | 'new-positive-barn'
+  | 'significant-cluster'
+  | 'spread'
+  | 'new-focus'
+  | 'missing-ropes'
+  | 'late-round'
+  | 'overdue'
+  | 'invalid'
+  | 'suspect'
+  | 'freedom-reset';
+
+export interface PageAlert {
+  kind: AlertKind;
+  assayId: string | null;
+  barnId: string | null;
+  message: string;
+}
+
+const pct = (p: number) => `${(100 * p).toFixed(1)}%`;
+const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
+
+/**
+ * The alerts of round `index` of a site. Order: first positive on the site, new positive barn,
+ * significant cluster / spread / new focus, freedom reset, invalid, suspect, missing ropes, a
+ * late round, and (for the latest round, with the plan) an overdue next round.
+ * @param summaries every round summary of the site, in order
+ * @param spatial the spatial analysis of the same rounds (same order)
+ * @param index the round to describe, an integer in [0, summaries.length - 1]
+ * @param plan the next-round plan, given only for the latest round
+ * @throws RangeError when `index` is out of range
+ */
+export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonly RoundSpatial[], index: number, plan?: NextRoundPlan): PageAlert[] {
+  if (!Number.isInteger(index) || index < 0 || index >= summaries.length) {
+    throw new RangeError(`\`index\` must be an integer in [0, ${summaries.length - 1}], got ${index}`);
+  }
+  const summary = summaries[index]!;
+  const previous = index > 0 ? summaries[index - 1]! : null;
+  const alerts: PageAlert[] = [];
+  for (const assay of summary.assays) {
+    const positiveBarns = summary.barns.filter((barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0);
+    if (positiveBarns.length === 0) continue;
+    const ropes = positiveBarns.reduce((sum, barn) => sum + barn.assays.find((a) => a.assayId === assay.id)!.positive, 0);
+    const earlier = summaries.slice(0, index).some((s) => s.barns.some((barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0));
+    if (!earlier) {
+      alerts.push({
+        kind: 'first-positive',
+        assayId: assay.id,
+        barnId: null,
+        message: `First ${assay.name} positive on this site: ${plural(ropes, 'positive rope')} in ${positiveBarns.map((barn) => `barn ${barn.barnId} (${barn.assays.find((a) => a.assayId === assay.id)!.positivePens.join(', ')})`).join(', ')}.`,
+      });
+      continue;
+    }
+    for (const barn of positiveBarns) {
+      const before = previous?.barns.find((b) => b.barnId === barn.barnId)?.assays.find((a) => a.assayId === assay.id)?.positive ?? 0;
+      if (before > 0) continue;
+      const tally = barn.assays.find((a) => a.assayId === assay.id)!;
+      alerts.push({
+        kind: 'new-positive-barn',
+        assayId: assay.id,
+        barnId: barn.barnId,
+        message: `New positive barn: ${barn.name} (${barn.barnId}) has ${plural(tally.positive, `${assay.id} positive rope`)} (${tally.positivePens.join(', ')}) and had none in the previous round.`,
+      });
+    }
+  }
+  for (const assay of spatial[index]?.assays ?? []) {
+    for (const alert of assay.alerts) {
+      if (alert.kind === 'significant-cluster' || alert.kind === 'spread' || alert.kind === 'new-focus') {
+        alerts.push({ kind: alert.kind, assayId: alert.assayId, barnId: alert.barnId, message: alert.message });
+      }
+    }
+  }
+  for (const assay of summary.assays) {
+    if (assay.site.freedomReset) {
+      alerts.push({
+        kind: 'freedom-reset',
+        assayId: assay.id,
+        barnId: null,
+        message: `Freedom reset for ${assay.name}: the probability of freedom was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior after a positive round.`,
+      });
+    }
+  }
+  for (const barn of summary.barns) {
+    for (const tally of barn.assays) {
+      if (tally.invalid > 0) {
+        alerts.push({
+          kind: 'invalid',
+          assayId: tally.assayId,
+          barnId: barn.barnId,
+          message: `${plural(tally.invalid, 'invalid result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.invalidPens.join(', ')}): retest; an invalid result is neither negative nor positive.`,
+        });
+      }
+      if (tally.suspect > 0) {
+        alerts.push({
+          kind: 'suspect',
+          assayId: tally.assayId,
+          barnId: barn.barnId,
+          message: `${plural(tally.suspect, 'suspect result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.suspectPens.join(', ')}): a high Ct just above the positive cutoff; usually retested.`,
+        });
+      }
+    }
+    if (barn.missingSampleIds.length > 0) {
+      alerts.push({
+        kind: 'missing-ropes',
+        assayId: null,
+        barnId: barn.barnId,
+        message: `${plural(barn.missingSampleIds.length, 'rope')} in barn ${barn.barnId} without a result (${barn.missingSampleIds.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} hung ropes came back; missing ropes lower the detection confidence.`,
+      });
+    }
+  }
+  const days = summary.assays.map((assay) => assay.site.daysSincePrevious).find((value) => value !== null) ?? null;
+  if (days !== null && days > summary.program.intervalDays + summary.program.roundWindowDays) {
+    alerts.push({
+      kind: 'late-round',
+      assayId: null,
+      barnId: null,
+      message: `Late round: it started ${days} days after the previous one; the program interval is ${summary.program.intervalDays} days. Introduction risk accrued over the extra ${days - summary.program.intervalDays} days.`,
+    });
+  }
+  if (plan && plan.overdue) {
+    alerts.push({
+      kind: 'overdue',
+      assayId: null,
+      barnId: null,
+      message: `Next round overdue: round ${plan.round} was due on ${plan.dueDate}, ${plural(plan.daysOverdue, 'day')} ago.`,
+    });
+  }
+  return alerts;
+}
