@@ -5,23 +5,17 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { ConfigError, loadConfig, perAssayValue } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { makeWorkspace, type TestWorkspace } from '../helpers/workspace.js';
+import { workspacesPerTest } from '../helpers/workspace.js';
 
 const demoSites = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'sites.yaml'), 'utf8');
 const demoNorthfield = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8');
 
-let workspaces: TestWorkspace[] = [];
-afterEach(() => {
-  for (const ws of workspaces) ws.cleanup();
-  workspaces = [];
-});
+const workspace = workspacesPerTest();
 function configWith(files: Record<string, string>): string {
-  const ws = makeWorkspace({ configFiles: files });
-  workspaces.push(ws);
-  return ws.paths.configDir;
+  return workspace({ configFiles: files }).paths.configDir;
 }
 function configError(dir: string): ConfigError {
   try {
@@ -84,8 +78,7 @@ describe('loadConfig', () => {
   it('refuses invalid YAML with its line and a missing labs folder', () => {
     const broken = configWith({ 'sites.yaml': 'sites: [\n  - id: x\n' });
     expect(configError(broken).message).toContain('not valid YAML');
-    const ws = makeWorkspace();
-    workspaces.push(ws);
+    const ws = workspace();
     fs.rmSync(path.join(ws.paths.configDir, 'labs'), { recursive: true });
     expect(configError(ws.paths.configDir).detail).toContain('folder is missing');
   });

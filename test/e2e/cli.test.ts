@@ -5,21 +5,12 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
 import { runCli } from '../helpers/runCli.js';
-import { makeWorkspace, treeHashes, type TestWorkspace } from '../helpers/workspace.js';
+import { treeHashes, workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 
-let workspaces: TestWorkspace[] = [];
-afterEach(() => {
-  for (const ws of workspaces) ws.cleanup();
-  workspaces = [];
-});
-function workspace(): TestWorkspace {
-  const ws = makeWorkspace();
-  workspaces.push(ws);
-  return ws;
-}
+const workspace = workspacesPerTest();
 
 function writeInbox(ws: TestWorkspace, name: string, bytes: Buffer | string): string {
   const file = path.join(ws.paths.inbox, name);

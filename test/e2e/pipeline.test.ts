@@ -5,22 +5,13 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
 import { ingestFile, OutputError } from '../../src/ingest/ingestFile.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { makeWorkspace, treeHashes, type TestWorkspace } from '../helpers/workspace.js';
+import { treeHashes, workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 
-let workspaces: TestWorkspace[] = [];
-afterEach(() => {
-  for (const ws of workspaces) ws.cleanup();
-  workspaces = [];
-});
-function workspace(): TestWorkspace {
-  const ws = makeWorkspace();
-  workspaces.push(ws);
-  return ws;
-}
+const workspace = workspacesPerTest();
 
 const ROPES = [
   { sampleId: 'HC-0803-F1-01', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },

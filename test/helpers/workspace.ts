@@ -7,6 +7,7 @@ import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { afterEach } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
@@ -95,4 +96,21 @@ export function treeHashes(dir: string, skipTop: readonly string[] = []): Record
   };
   walk(dir, '');
   return out;
+}
+
+/**
+ * A workspace factory for one test file: every workspace it makes is removed after each test.
+ * Call at the top level of the file: `const workspace = workspacesPerTest();`.
+ */
+export function workspacesPerTest(): (options?: TestWorkspaceOptions) => TestWorkspace {
+  let made: TestWorkspace[] = [];
+  afterEach(() => {
+    for (const ws of made) ws.cleanup();
+    made = [];
+  });
+  return (options) => {
+    const ws = makeWorkspace(options);
+    made.push(ws);
+    return ws;
+  };
 }

@@ -5,23 +5,14 @@
  * counts are by hand from the rows written. PRAGMA meanings: SQLite documentation (journal_mode,
  * user_version, synchronous: FULL = 2).
  */
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
 import { MIGRATIONS } from '../../src/store/migrations.js';
 import { Store } from '../../src/store/store.js';
-import { makeWorkspace, type TestWorkspace } from '../helpers/workspace.js';
+import { workspacesPerTest } from '../helpers/workspace.js';
 
-let workspaces: TestWorkspace[] = [];
-afterEach(() => {
-  for (const ws of workspaces) ws.cleanup();
-  workspaces = [];
-});
-function workspace(): TestWorkspace {
-  const ws = makeWorkspace();
-  workspaces.push(ws);
-  return ws;
-}
+const workspace = workspacesPerTest();
 
 const prrsv = (sampleId: string, ct: number | null, extra: { controlFailed?: boolean; status?: string } = {}) => ({ sampleId, assay: 'PRRSV' as const, ct, collectedOn: '2026-08-03', ...extra });
 
