@@ -95,6 +95,9 @@ export function decodeStream(sniffed: Sniffed): Transform {
   let pendingCr = false;
   let line = 1;
   const fold = (text: string): string => {
+    // A chunk that ends inside a character decodes to nothing: it must not clear a pending CR,
+    // or a UTF-16 CRLF split after its CR would become two line breaks.
+    if (text === '') return '';
     let input = text;
     if (pendingCr) {
       if (input.startsWith('\n')) input = input.slice(1);

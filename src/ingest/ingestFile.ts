@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { parse } from 'csv-parse';
 import type { Config } from '../config/types.js';
-import type { Store } from '../store/store.js';
+import { FileAlreadyStoredError, type Store, type StoredFile } from '../store/store.js';
 import { BinaryContentError, decodeHead, decodeStream, EncodingError, sniffEncoding } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
@@ -128,8 +128,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
   }
   const receipt = emptyReceipt(name, sha256, receivedAt);
 
-  const known = deps.store.findFileByHash(sha256);
-  if (known) {
+  const alreadyStored = (known: StoredFile): Receipt => {
     receipt.status = known.status === 'rejected' ? 'rejected' : 'duplicate';
     receipt.kind = known.kind;
     receipt.lab = known.labId;
@@ -138,7 +137,9 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
       receipt.reason = { code: (known.reasonCode as RejectionCode) ?? 'duplicate-file', message: `${name}: ${known.reason ?? 'rejected before'} (the same bytes were rejected before)`, line: null, field: null };
     }
     return receipt;
-  }
+  };
+  const known = deps.store.findFileByHash(sha256);
+  if (known) return alreadyStored(known);
 
   const reject = (error: IngestError, labId: string | null): Receipt => {
     deps.store.rollback();
@@ -185,15 +186,22 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
   // Last line of the last record read: an unclosed quote opens on the record after it, while
   // csv-parse reports the line where the file ended.
   let lastRecordEnd = kind.headerLine;
-  const fileId = deps.store.beginFile({
-    name,
-    sha256,
-    kind: kind.kind,
-    labId: receipt.lab,
-    receivedAt,
-    encodingNote: sniffed.note,
-    byteLength: size,
-  });
+  let fileId: number;
+  try {
+    fileId = deps.store.beginFile({
+      name,
+      sha256,
+      kind: kind.kind,
+      labId: receipt.lab,
+      receivedAt,
+      encodingNote: sniffed.note,
+      byteLength: size,
+    });
+  } catch (error) {
+    // Another process stored the same bytes while this one waited for the write lock.
+    if (error instanceof FileAlreadyStoredError) return alreadyStored(error.known);
+    throw error;
+  }
   try {
     const parser = parse({
       delimiter: kind.delimiter,

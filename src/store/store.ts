@@ -80,6 +80,14 @@ export interface InsertCounts {
   warnings: string[];
 }
 
+/** The same bytes were stored (by another process) while this one waited for the write lock. */
+export class FileAlreadyStoredError extends Error {
+  override readonly name = 'FileAlreadyStoredError';
+  constructor(readonly known: StoredFile) {
+    super(`the same bytes were stored as ${known.name} on ${known.receivedAt}`);
+  }
+}
+
 export interface StoreOptions {
   busyTimeoutMs?: number;
 }
@@ -163,11 +171,23 @@ export class Store {
     return this.statements.fileByHash.get(sha256) as StoredFile | undefined;
   }
 
-  /** Opens the file's transaction (taking the write lock) and records the file. Returns its id. */
+  /**
+   * Opens the file's transaction (taking the write lock) and records the file. Returns its id.
+   * @throws FileAlreadyStoredError when, once the lock is held, the same bytes are found stored:
+   *   another process committed them while this one waited on the lock (the transaction is
+   *   rolled back; the caller reports a duplicate).
+   */
   beginFile(file: { name: string; sha256: string; kind: 'results' | 'ropes'; labId: string | null; receivedAt: string; encodingNote: string; byteLength: number }): number {
     if (this.inFile) throw new Error('a file transaction is already open');
     this.db.exec('BEGIN IMMEDIATE');
     this.inFile = true;
+    // The caller's hash look-up ran before the lock; a second process ingesting the same file
+    // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
+    const known = this.findFileByHash(file.sha256);
+    if (known) {
+      this.rollback();
+      throw new FileAlreadyStoredError(known);
+    }
     const info = this.statements.insertFile.run({
       ...file,
       status: 'accepted',
@@ -297,6 +317,8 @@ export class Store {
     labId: string | null;
   }): void {
     this.db.transaction(() => {
+      // Another process may have recorded the same bytes since the caller looked: keep the first.
+      if (this.findFileByHash(file.sha256)) return;
       this.statements.insertFile.run({
         name: file.name,
         sha256: file.sha256,

@@ -17,10 +17,12 @@ import { bigNorthfieldExport, lookIntoStore, REPO_ROOT, spawnCli } from '../help
 /** Rows of the export: enough that storing takes well over a second on a slow CI core. */
 const ROWS = 40_000;
 /**
- * Delay after the child takes the store's write lock (its file transaction has begun), one per
- * repetition (ms). Storing 40,000 rows holds the lock for about 3 s on the 2-core test machine.
+ * Where to kill, as the share of the export the child has read since it took the store's write
+ * lock (its file transaction began): early, halfway, and near the end of the rows. Progress is
+ * the child's `rchar` in /proc/<pid>/io (proc(5)); the parser reads with back-pressure, so what
+ * has been read is at most a few chunks ahead of what has been stored.
  */
-const KILL_DELAYS_MS = [50, 700, 1500];
+const KILL_AT_SHARE = [0.15, 0.5, 0.85];
 
 let root: string;
 let bytes: Buffer;
@@ -68,15 +70,35 @@ async function waitForWriteLock(dbFile: string, timeoutMs: number): Promise<void
   }
 }
 
+/** Bytes the process has read so far (proc(5), /proc/<pid>/io `rchar`); undefined once it is gone. */
+function bytesRead(pid: number): number | undefined {
+  try {
+    const match = /^rchar:\s*(\d+)/m.exec(fs.readFileSync(`/proc/${pid}/io`, 'utf8'));
+    return match ? Number(match[1]) : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
+async function waitForBytesRead(pid: number, atLeast: number, timeoutMs: number): Promise<void> {
+  const started = Date.now();
+  while (Date.now() - started < timeoutMs) {
+    const read = bytesRead(pid);
+    if (read === undefined || read >= atLeast) return;
+    await sleep(5);
+  }
+}
+
 describe('a crash (SIGKILL) while an export is being stored', () => {
-  it.each(KILL_DELAYS_MS)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely (kill %i ms after its file transaction began)', async (delayMs) => {
-    const ws = workspace(`kill-${delayMs}`);
+  it.each(KILL_AT_SHARE)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely (killed after reading %s of the rows)', async (share) => {
+    const ws = workspace(`kill-${share}`);
     const file = path.join(ws.paths.inbox, 'nvdl_big.csv');
     fs.writeFileSync(file, bytes);
 
     const first = spawnCli(['ingest', file, ...ws.flags]);
     await waitForWriteLock(ws.paths.db, 30_000);
-    await sleep(delayMs);
+    const readBefore = bytesRead(first.child.pid!) ?? 0;
+    await waitForBytesRead(first.child.pid!, readBefore + share * bytes.length, 30_000);
     first.child.kill('SIGKILL');
     const killed = await first.done;
     // The kill must land while the child is still working, or the test proves nothing.

@@ -1,0 +1,211 @@
+/**
+ * Ingest benchmark: the whole pipeline (`processFile`: hash, sniff, parse, map, store in one
+ * transaction, rewrite the outputs of every site touched, receipt, archive) on a generated lab
+ * export of 1,000,000 result rows over 50 invented sites, against a bare baseline in the same run
+ * on the same file: csv-parse and one prepared INSERT in one transaction into a fresh SQLite
+ * database with the store's pragmas (WAL, synchronous FULL).
+ *
+ * Generation happens before any timing. Each pipeline size runs in a child process of its own so
+ * that its peak RSS (VmHWM, proc(5)) belongs to that size alone: flat memory from 100k to 1M rows
+ * shows that the file streams. Every part prints its checksum (rows stored).
+ *
+ *   npx tsx bench/ingest.ts            (or: npm run bench -- ingest)
+ */
+import { spawnSync } from 'node:child_process';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import Database from 'better-sqlite3';
+import { parse } from 'csv-parse';
+import { addDays, format } from 'date-fns';
+import { ingestFile } from '../src/ingest/ingestFile.js';
+import { plannedIdChecker } from '../src/ingest/plannedIds.js';
+import { processFile } from '../src/pipeline.js';
+import { openWorkspace } from '../src/workspace.js';
+import { NORTHFIELD_HEADER, northfieldLine, patternSampleId, writeManySiteConfig } from '../test/helpers/hardening.js';
+import type { BenchRow } from './types.js';
+
+const HERE = path.dirname(fileURLToPath(import.meta.url));
+const REPO = path.resolve(HERE, '..');
+
+/** 50 sites x 4 barns x 2 rows x 25 pens = 10,000 pens; 2 assays per rope. */
+export const SHAPE = Object.freeze({ sites: 50, barnsPerSite: 4, pensPerRow: 25 });
+const ASSAYS = ['PRRSV', 'IAV'] as const;
+const FIRST_ROUND = new Date(2026, 0, 5);
+
+/**
+ * Writes an export of `rows` rows: every `every`-th pen of every barn roped each round (rounds
+ * 14 days apart, the start moving one pen per round), one row per rope and assay, sample IDs in each site's pattern (no rope sheet needed).
+ * Streams to disk in blocks; returns the number of rounds.
+ */
+export function writeBigExport(file: string, rows: number, shape: { sites: number; barnsPerSite: number; pensPerRow: number } = SHAPE, every = 1): number {
+  const pensPerBarn = 2 * shape.pensPerRow;
+  const perRound = shape.sites * shape.barnsPerSite * Math.ceil(pensPerBarn / every) * ASSAYS.length;
+  const rounds = Math.ceil(rows / perRound);
+  const fd = fs.openSync(file, 'w');
+  try {
+    let block: string[] = [NORTHFIELD_HEADER.join(',')];
+    let written = 0;
+    const flush = () => {
+      fs.writeSync(fd, block.join('\n') + '\n');
+      block = [];
+    };
+    for (let round = 0; round < rounds && written < rows; round++) {
+      const day = addDays(FIRST_ROUND, 14 * round);
+      const iso = format(day, 'yyyy-MM-dd');
+      const compact = format(day, 'yyyyMMdd');
+      const reported = format(addDays(day, 3), 'yyyy-MM-dd');
+      for (let site = 0; site < shape.sites && written < rows; site++) {
+        for (let barn = 1; barn <= shape.barnsPerSite && written < rows; barn++) {
+          for (let pen = 1; pen <= pensPerBarn && written < rows; pen++) {
+            // Every `every`-th pen, the start moving one pen each round (systematic sampling).
+            if ((pen + round) % every !== 0) continue;
+            const sampleId = patternSampleId(site, barn, pen, compact);
+            for (const assay of ASSAYS) {
+              if (written >= rows) break;
+              // About one rope in 40 positive, with a Ct between 24 and 36.
+              const positive = (site * 7 + barn * 3 + pen * 11 + round * 5) % 40 === 0 && assay === 'PRRSV';
+              block.push(northfieldLine(`NV-${written}`, sampleId, assay, positive ? (24 + ((pen + round) % 120) / 10).toFixed(1) : 'Undetermined', iso, reported));
+              written++;
+              if (block.length >= 10_000) flush();
+            }
+          }
+        }
+      }
+    }
+    flush();
+  } finally {
+    fs.closeSync(fd);
+  }
+  return rounds;
+}
+
+interface ChildReport {
+  mode: 'store' | 'pipeline';
+  rows: number;
+  stored: number;
+  ms: number;
+  siteRounds: number;
+  peakRssMb: number;
+}
+
+function peakRssMb(): number {
+  const status = fs.readFileSync('/proc/self/status', 'utf8');
+  const kb = /^VmHWM:\s*(\d+)\s*kB/m.exec(status);
+  return kb ? Number(kb[1]) / 1024 : process.resourceUsage().maxRSS / 1024;
+}
+
+/**
+ * Child side, in a fresh workspace under `dir`. `pipeline`: `processFile`, outputs included.
+ * `store`: `ingestFile` (hash, sniff, parse, map, store, commit) with the outputs step left out,
+ * which is what the ingest code itself costs; the outputs are timed by bench/recompute.ts.
+ */
+async function runChild(mode: 'store' | 'pipeline', file: string, dir: string, rows: number): Promise<void> {
+  const paths = { configDir: path.join(dir, 'config'), dbFile: path.join(dir, 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
+  fs.mkdirSync(paths.inbox, { recursive: true });
+  const target = path.join(paths.inbox, path.basename(file));
+  fs.copyFileSync(file, target);
+  const ws = openWorkspace(paths, () => new Date('2026-12-01T12:00:00Z'), () => {});
+  const check = plannedIdChecker(ws.config);
+  const started = performance.now();
+  const receipt =
+    mode === 'pipeline'
+      ? (await processFile(ws, target, check)).receipt
+      : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now, plannedIdCheck: check, regenerate: () => {} });
+  const ms = performance.now() - started;
+  const siteRounds = mode === 'pipeline' ? ws.config.sites.reduce((sum, site) => sum + (fs.existsSync(path.join(paths.outbox, site.id)) ? fs.readdirSync(path.join(paths.outbox, site.id)).filter((entry) => /^r\d+-/.test(entry)).length : 0), 0) : 0;
+  const stored = ws.store.counts().results;
+  ws.close();
+  if (receipt.status !== 'accepted') throw new Error(`bench export refused: ${JSON.stringify(receipt.reason)}`);
+  const report: ChildReport = { mode, rows, stored, ms, siteRounds, peakRssMb: peakRssMb() };
+  process.stdout.write(JSON.stringify(report) + '\n');
+}
+
+function spawnChild(mode: 'store' | 'pipeline', file: string, dir: string, rows: number): ChildReport {
+  const run = spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url), '--child', mode, file, dir, String(rows)], { cwd: REPO, encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+  if (run.status !== 0) throw new Error(`bench child failed (${run.status}): ${run.stderr}`);
+  return JSON.parse(run.stdout.trim().split('\n').at(-1)!) as ChildReport;
+}
+
+/** The bare baseline: csv-parse + one prepared INSERT, one transaction, the store's pragmas. */
+export async function baselineIngest(file: string, dbFile: string): Promise<{ ms: number; stored: number }> {
+  const started = performance.now();
+  const db = new Database(dbFile);
+  db.pragma('journal_mode = WAL');
+  db.pragma('synchronous = FULL');
+  db.exec('CREATE TABLE rows (case_no TEXT, sample_id TEXT, test TEXT, ct TEXT, call TEXT, control TEXT, collected TEXT, reported TEXT, status TEXT)');
+  const insert = db.prepare('INSERT INTO rows VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)');
+  db.exec('BEGIN IMMEDIATE');
+  let stored = 0;
+  for await (const record of fs.createReadStream(file).pipe(parse({ from_line: 2 })) as AsyncIterable<string[]>) {
+    insert.run(record);
+    stored++;
+  }
+  db.exec('COMMIT');
+  db.close();
+  return { ms: performance.now() - started, stored };
+}
+
+/** At most one round of every site, systematic ropes (every 4th pen): the whole pipeline with outputs. */
+const PIPELINE_ROWS = SHAPE.sites * SHAPE.barnsPerSite * Math.ceil((2 * SHAPE.pensPerRow) / 4) * ASSAYS.length;
+
+/**
+ * Times the ingest code (`ingestFile`, outputs left out) at 100,000 and 1,000,000 rows, each in
+ * its own child process with its peak RSS, the bare baseline at 1,000,000 rows in this process,
+ * and the whole pipeline (`processFile`, outputs of every site included) on one round of all 50
+ * sites. Rows report rows/s with the baseline and ratio (ours / baseline; target >= 0.5).
+ * Checksums (rows stored) are in the notes.
+ */
+export async function benchIngest(): Promise<BenchRow[]> {
+  const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-bench-ingest-'));
+  try {
+    const configDir = path.join(root, 'config');
+    writeManySiteConfig(configDir, SHAPE);
+    const write = (rows: number, every: number) => {
+      const file = path.join(root, `nvdl_bench_${rows}_${every}.csv`);
+      const rounds = writeBigExport(file, rows, SHAPE, every);
+      process.stderr.write(`bench ingest: wrote ${rows} rows (${rounds} rounds x ${SHAPE.sites} sites), ${(fs.statSync(file).size / 1e6).toFixed(1)} MB\n`);
+      return file;
+    };
+    const run = (mode: 'store' | 'pipeline', file: string, rows: number): ChildReport => {
+      const dir = path.join(root, `run-${mode}-${rows}`);
+      fs.cpSync(configDir, path.join(dir, 'config'), { recursive: true });
+      const report = spawnChild(mode, file, dir, rows);
+      process.stderr.write(`bench ingest: ${JSON.stringify(report)}\n`);
+      fs.rmSync(dir, { recursive: true, force: true });
+      return report;
+    };
+    const file100k = write(100_000, 1);
+    const file1m = write(1_000_000, 1);
+    const filePipeline = write(PIPELINE_ROWS, 4);
+    const small = run('store', file100k, 100_000);
+    const large = run('store', file1m, 1_000_000);
+    const pipeline = run('pipeline', filePipeline, PIPELINE_ROWS);
+    const baseline = await baselineIngest(file1m, path.join(root, 'baseline.db'));
+    const basePipeline = await baselineIngest(filePipeline, path.join(root, 'baseline-small.db'));
+    process.stderr.write(`bench ingest: baseline ${JSON.stringify({ baseline, basePipeline })}\n`);
+    const rate = (rows: number, ms: number) => rows / (ms / 1000);
+    const storeRate = rate(large.stored, large.ms);
+    const baselineRate = rate(baseline.stored, baseline.ms);
+    const pipelineRate = rate(pipeline.stored, pipeline.ms);
+    const basePipelineRate = rate(basePipeline.stored, basePipeline.ms);
+    return [
+      { name: 'ingest code, 1M rows (ingestFile, outputs left out)', value: storeRate, unit: 'rows/s', baseline: baselineRate, ratio: storeRate / baselineRate, note: `checksum ${large.stored} rows stored; baseline checksum ${baseline.stored}; ${(large.ms / 1000).toFixed(1)} s vs ${(baseline.ms / 1000).toFixed(1)} s` },
+      { name: 'ingest code, 100k rows', value: rate(small.stored, small.ms), unit: 'rows/s', note: `checksum ${small.stored}` },
+      { name: `whole pipeline, ${pipeline.stored} rows (processFile, outputs of ${pipeline.siteRounds} site-rounds)`, value: pipelineRate, unit: 'rows/s', baseline: basePipelineRate, ratio: pipelineRate / basePipelineRate, note: `checksum ${pipeline.stored}; ${(pipeline.ms / 1000).toFixed(1)} s` },
+      { name: 'peak RSS, ingest 100k rows', value: small.peakRssMb, unit: 'MB' },
+      { name: 'peak RSS, ingest 1M rows', value: large.peakRssMb, unit: 'MB', baseline: small.peakRssMb, ratio: large.peakRssMb / small.peakRssMb, note: 'baseline here: the 100k-row run; a ratio near 1 means memory stays flat as the file grows' },
+    ];
+  } finally {
+    fs.rmSync(root, { recursive: true, force: true });
+  }
+}
+
+const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWith(process.argv[1].replace(/\\/g, '/'));
+if (invokedDirectly) {
+  const [flag, mode, file, dir, rows] = process.argv.slice(2);
+  if (flag === '--child') await runChild(mode as 'store' | 'pipeline', file!, dir!, Number(rows));
+  else process.stdout.write(JSON.stringify(await benchIngest(), null, 2) + '\n');
+}
+
