@@ -2,7 +2,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import YAML from 'yaml';
 import type { z } from 'zod';
-import { expandLayout, penContacts, type BarnLayout } from '../domain/layout.js';
+import { expandLayout, penContacts, pensByKey, type BarnLayout } from '../domain/layout.js';
 import {
   assaysFileSchema,
   labProfileSchema,
@@ -159,6 +159,7 @@ function loadSites(file: string): { organisation: string | undefined; analysis: 
         layout,
         pens,
         penById: new Map(pens.map((pen) => [pen.id.toUpperCase(), pen])),
+        penByKey: pensByKey(pens),
         contacts: penContacts(layout, pens),
       });
     });

@@ -42,6 +42,8 @@ export interface Barn {
   layout: BarnLayout;
   pens: readonly Pen[];
   penById: ReadonlyMap<string, Pen>;
+  /** Pens by canonical label key ("A01" and "a1" both find A1). */
+  penByKey: ReadonlyMap<string, Pen>;
   contacts: PenContacts;
 }
 

@@ -165,6 +165,19 @@ export function penContacts(layout: BarnLayout, pens: readonly Pen[] = expandLay
   return contacts;
 }
 
+/** How a pen label is compared: capitals, no spaces, no leading zeros in numbers ("a01" = "A1"). */
+export function canonicalPenKey(raw: string): string {
+  return raw
+    .replace(/\s+/g, '')
+    .toUpperCase()
+    .replace(/\d+/g, (digits) => String(Number(digits)));
+}
+
+/** Pens by their canonical key (see canonicalPenKey), for matching labels as people write them. */
+export function pensByKey(pens: readonly Pen[]): ReadonlyMap<string, Pen> {
+  return new Map(pens.map((pen) => [canonicalPenKey(pen.id), pen]));
+}
+
 /** Euclidean distance between pen centres, in pen units. */
 export function penDistance(a: Pick<Pen, 'x' | 'y'>, b: Pick<Pen, 'x' | 'y'>): number {
   return Math.hypot(a.x - b.x, a.y - b.y);

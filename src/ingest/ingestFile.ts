@@ -80,12 +80,13 @@ function readHead(file: string): Buffer {
   }
 }
 
-/** 1-based line where a record starts, from csv-parse's end line and the raw record text. */
-function recordStartLine(endLine: number, raw: string): number {
-  const body = raw.replace(/^\n+/, '').replace(/\n$/, '');
-  let inner = 0;
-  for (let i = body.indexOf('\n'); i !== -1; i = body.indexOf('\n', i + 1)) inner++;
-  return endLine - inner;
+/** Line breaks inside the fields of a record (quoted multi-line cells). */
+function lineBreaksInside(record: readonly string[]): number {
+  let breaks = 0;
+  for (const field of record) {
+    for (let i = field.indexOf('\n'); i !== -1; i = field.indexOf('\n', i + 1)) breaks++;
+  }
+  return breaks;
 }
 
 function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt {
@@ -208,9 +209,10 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
       from_line: kind.headerLine + 1,
       relax_column_count: true,
       relax_quotes: true,
-      skip_empty_lines: true,
-      info: true,
-      raw: true,
+      // Empty lines come through as records and are skipped below. Line endings are folded to LF
+      // before parsing, so a record spans one line plus one per line break inside its fields:
+      // exact line numbers without csv-parse's costly info and raw options.
+      skip_empty_lines: false,
     });
     const source = fs.createReadStream(file).pipe(decodeStream(sniffed));
     source.on('error', (error) => parser.destroy(error));
@@ -247,9 +249,9 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
         : undefined;
     const ropeContext = { fileName: name, columnIndex: kind.columnIndex, sites: deps.config.sites, plannedIdCheck: deps.plannedIdCheck };
 
-    for await (const { record, info, raw } of parser as AsyncIterable<{ record: string[]; info: { lines: number }; raw: string }>) {
-      const line = recordStartLine(info.lines, raw);
-      lastRecordEnd = info.lines;
+    for await (const record of parser as AsyncIterable<string[]>) {
+      const line = lastRecordEnd + 1;
+      lastRecordEnd = line + lineBreaksInside(record);
       if (record.length === 1 && record[0]!.trim() === '') continue;
       if (record.length !== width) {
         // Trailing empty cells (a common export habit) do not make a row ragged.
@@ -259,7 +261,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
             line,
             field: undefined,
             code: 'ragged-row',
-            value: raw.slice(0, 200).replace(/\n$/, ''),
+            value: record.join(kind.delimiter).slice(0, 200),
             message: `the row has ${record.length} fields, the header ${width}`,
           });
           continue;

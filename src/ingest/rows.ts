@@ -5,6 +5,7 @@
 import { createHash } from 'node:crypto';
 import { format as formatDate, isValid, parse as parseDate } from 'date-fns';
 import { foldToken } from '../config/load.js';
+import { canonicalPenKey } from '../domain/layout.js';
 import type { Assay, LabProfile, Site } from '../config/types.js';
 import { classify, type ResultClass } from '../interpret/classify.js';
 import { readCt } from '../interpret/ct.js';
@@ -15,13 +16,7 @@ export function normaliseSampleId(raw: string): string {
   return raw.replace(/\s+/g, '').toUpperCase();
 }
 
-/** How a pen label is compared: capitals, no spaces, no leading zeros in numbers ("a01" = "A1"). */
-export function canonicalPenKey(raw: string): string {
-  return raw
-    .replace(/\s+/g, '')
-    .toUpperCase()
-    .replace(/\d+/g, (digits) => String(Number(digits)));
-}
+export { canonicalPenKey };
 
 /**
  * Checks a sample ID against the planned-ID grammar: `planned` with its canonical spelling,
@@ -33,9 +28,32 @@ export type PlannedIdCheck = (sampleId: string) => { kind: 'planned'; canonical:
 const ISO_DATE = 'yyyy-MM-dd';
 const REFERENCE_DATE = new Date(2000, 0, 1);
 
+const ISO_DAY = /^(\d{4})-(\d{2})-(\d{2})$/;
+/** Parsed date cells by format and text: exports repeat a handful of dates over thousands of rows. */
+const dateCache = new Map<string, string | null>();
+const DATE_CACHE_LIMIT = 10_000;
+
 /** Parses a date cell with the profile's format, accepting ISO dates too. Returns yyyy-MM-dd or undefined. */
 export function parseDateCell(text: string, dateFormat: string): string | undefined {
+  const key = `${dateFormat}\u001f${text}`;
+  const cached = dateCache.get(key);
+  if (cached !== undefined) return cached ?? undefined;
+  const parsed = parseDateUncached(text, dateFormat);
+  if (dateCache.size >= DATE_CACHE_LIMIT) dateCache.clear();
+  dateCache.set(key, parsed ?? null);
+  return parsed;
+}
+
+function parseDateUncached(text: string, dateFormat: string): string | undefined {
   const trimmed = text.trim();
+  const iso = ISO_DAY.exec(trimmed);
+  if (iso) {
+    // yyyy-MM-dd needs no parser: check the calendar with Date (months 1-12, real days, leap years).
+    const [year, month, day] = [Number(iso[1]), Number(iso[2]), Number(iso[3])];
+    const date = new Date(Date.UTC(year, month - 1, day));
+    const real = date.getUTCFullYear() === year && date.getUTCMonth() === month - 1 && date.getUTCDate() === day;
+    return real && year >= 1990 && year <= 2200 ? trimmed : undefined;
+  }
   if (trimmed === '') return undefined;
   for (const candidate of [dateFormat, ISO_DATE, `${ISO_DATE}'T'HH:mm:ss`, `${ISO_DATE} HH:mm:ss`, `${ISO_DATE} HH:mm`]) {
     const parsed = parseDate(trimmed, candidate, REFERENCE_DATE);
@@ -43,7 +61,7 @@ export function parseDateCell(text: string, dateFormat: string): string | undefi
   }
   // Date-times written with the profile's date format and a time after it.
   const firstPart = trimmed.split(/[ T]/)[0]!;
-  if (firstPart !== trimmed) return parseDateCell(firstPart, dateFormat);
+  if (firstPart !== trimmed) return parseDateUncached(firstPart, dateFormat);
   return undefined;
 }
 
@@ -95,10 +113,18 @@ export interface ResultContext {
 
 export type RowOutcome<T> = { ok: true; row: T } | { ok: false; rejection: RowRejection };
 
-function cellOf(cells: readonly string[], columnIndex: ReadonlyMap<string, number>, column: string | undefined): string | undefined {
-  if (column === undefined) return undefined;
-  const position = columnIndex.get(foldToken(column));
-  return position === undefined ? undefined : (cells[position] ?? '').trim();
+type ColumnName = keyof LabProfile['columns'];
+/** Header positions of a lab's columns, resolved once per file (context), not once per row. */
+const positionsByContext = new WeakMap<ResultContext, Readonly<Record<ColumnName, number | undefined>>>();
+
+function columnPositions(context: ResultContext): Readonly<Record<ColumnName, number | undefined>> {
+  let positions = positionsByContext.get(context);
+  if (!positions) {
+    const entries = Object.entries(context.lab.columns).map(([name, column]) => [name, column === undefined ? undefined : context.columnIndex.get(foldToken(column))]);
+    positions = Object.fromEntries(entries) as Record<ColumnName, number | undefined>;
+    positionsByContext.set(context, positions);
+  }
+  return positions;
 }
 
 const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
@@ -115,8 +141,7 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
     if (!match?.groups) continue;
     const barn = site.barnById.get(match.groups['barn']!.toUpperCase());
     if (!barn) continue;
-    const penKey = canonicalPenKey(match.groups['pen']!);
-    const pen = barn.pens.find((candidate) => canonicalPenKey(candidate.id) === penKey);
+    const pen = barn.penByKey.get(canonicalPenKey(match.groups['pen']!));
     if (!pen) continue;
     const encodedDate = match.groups['date'] ? parseDateCell(match.groups['date'], 'yyyyMMdd') : undefined;
     const hungOn = encodedDate ?? fallbackDate;
@@ -128,49 +153,53 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
 
 /** Maps one lab-export record. `line` is the 1-based line where the record starts. */
 export function mapResultRow(cells: readonly string[], line: number, context: ResultContext): RowOutcome<ResultRow> {
-  const { lab, columnIndex } = context;
+  const { lab } = context;
   const columns = lab.columns;
-  const get = (column: string | undefined) => cellOf(cells, columnIndex, column);
+  const positions = columnPositions(context);
+  const cell = (name: ColumnName) => {
+    const position = positions[name];
+    return position === undefined ? undefined : (cells[position] ?? '').trim();
+  };
   const reject = (code: Parameters<typeof rowRejection>[0], field: string | undefined, value: string | undefined, detail?: string) =>
     ({ ok: false, rejection: rowRejection(code, line, field, value, detail) }) as const;
 
-  const rawSample = get(columns.sampleId) ?? '';
+  const rawSample = cell('sampleId') ?? '';
   if (rawSample === '') return reject('missing-value', columns.sampleId, rawSample, 'the sample ID is empty');
   const checked = context.plannedIdCheck(normaliseSampleId(rawSample));
   if (checked.kind === 'bad-check') {
     return reject('bad-check-character', columns.sampleId, rawSample, `sample ID ${rawSample} fails its check character: probably mistyped on the tube or at the lab`);
   }
   const sampleId = checked.kind === 'planned' ? checked.canonical : normaliseSampleId(rawSample);
-  const labAssayName = get(columns.assay) ?? '';
+  const labAssayName = cell('assay') ?? '';
   if (labAssayName === '') return reject('missing-value', columns.assay, labAssayName, 'the assay is empty');
   const labAssay = lab.assays.get(foldToken(labAssayName));
   if (!labAssay) return reject('unknown-assay', columns.assay, labAssayName, `lab ${lab.id} profile has no assay "${labAssayName}"; add it under assays: with its cutoffs`);
   const assay = context.assayById.get(labAssay.assayId)!;
 
-  const dateOf = (column: string | undefined) => {
-    const text = get(column);
+  const dateOf = (name: ColumnName) => {
+    const text = cell(name);
     if (text === undefined || text === '') return { value: null } as const;
     const parsed = parseDateCell(text, lab.dateFormat);
     return parsed === undefined ? ({ error: text } as const) : ({ value: parsed } as const);
   };
-  const collected = dateOf(columns.collectedOn);
+  const collected = dateOf('collectedOn');
   if ('error' in collected) return reject('bad-date', columns.collectedOn, collected.error, `"${collected.error}" does not match date format ${lab.dateFormat}`);
-  const reported = dateOf(columns.reportedOn);
+  const reported = dateOf('reportedOn');
   if ('error' in reported) return reject('bad-date', columns.reportedOn, reported.error, `"${reported.error}" does not match date format ${lab.dateFormat}`);
 
-  const ctRaw = get(columns.ct) ?? '';
+  const ctRaw = cell('ct') ?? '';
   const reading = readCt(ctRaw, lab, labAssay);
   if (reading.kind === 'error') return reject(reading.code, columns.ct, ctRaw, reading.detail);
 
-  const labCall = get(columns.call) || null;
-  const control = get(columns.internalControl) || null;
+  const labCall = cell('call') || null;
+  const control = cell('internalControl') || null;
   const controlFailed = [control, labCall].find((value) => value !== null && lab.controlFailedTokens.has(foldToken(value)));
   const interpretation = classify(reading, labAssay, assay, controlFailed ?? undefined);
-  const reportStatus = get(columns.reportStatus) || null;
+  const reportStatus = cell('reportStatus') || null;
   const markedReissue = reportStatus !== null && lab.reissueTokens.has(foldToken(reportStatus));
   const labCallClass = labCall === null ? undefined : LAB_CALL_WORDS[foldToken(labCall)];
   const callDiffers = labCallClass !== undefined && labCallClass !== interpretation.resultClass;
-  const accession = get(columns.accession) || null;
+  const accession = cell('accession') || null;
 
   let encodedRope: RopeLocation | undefined;
   const located = locationFromPattern(sampleId, context.sites, collected.value ?? undefined);
@@ -179,9 +208,12 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   }
   if (located) encodedRope = located;
 
-  const naturalKey = createHash('sha1')
-    .update([lab.id, sampleId, labAssay.assayId, foldToken(labAssayName), ctRaw, labCall ?? '', accession ?? '', reported.value ?? '', reportStatus ?? '', control ?? ''].join('\u001f'))
-    .digest('hex');
+  // The key starts with sample, assay and lab so that rows of one sample sit together in the
+  // unique index (inserts stay local as the store grows); the hash covers everything reported.
+  const naturalKey = `${sampleId}|${labAssay.assayId}|${lab.id}|${createHash('sha1')
+    .update([foldToken(labAssayName), ctRaw, labCall ?? '', accession ?? '', reported.value ?? '', reportStatus ?? '', control ?? ''].join('\u001f'))
+    .digest('hex')
+    .slice(0, 24)}`;
 
   return {
     ok: true,
@@ -255,8 +287,7 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
   const barn = site.barnById.get(barnText.toUpperCase()) ?? site.barns.find((candidate) => foldToken(candidate.name) === foldToken(barnText));
   if (!barn) return reject(barnText === '' ? 'missing-value' : 'unknown-barn', 'barn', barnText, `site ${site.id} has no barn "${barnText}"`);
   const penText = get('pen');
-  const penKey = canonicalPenKey(penText);
-  const pen = barn.pens.find((candidate) => canonicalPenKey(candidate.id) === penKey);
+  const pen = barn.penByKey.get(canonicalPenKey(penText));
   if (!pen) return reject(penText === '' ? 'missing-value' : 'unknown-pen', 'pen', penText, `barn ${barn.id} on site ${site.id} has no pen "${penText}"`);
   const dateText = get('hung_on');
   if (dateText === '') return reject('missing-value', 'hung_on', dateText, 'the date the rope was hung is empty');

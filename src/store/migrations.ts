@@ -44,7 +44,9 @@ export const MIGRATIONS: readonly string[] = [
     note TEXT
   );
   CREATE INDEX ropes_site ON ropes(site_id, hung_on);
-  CREATE INDEX ropes_pen_day ON ropes(site_id, barn_id, pen_id, hung_on);
+  -- One rope per pen per day, as a constraint: the common insert then needs no look-up first.
+  CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, barn_id, pen_id, hung_on);
+  CREATE INDEX ropes_file ON ropes(file_id);
 
   CREATE TABLE results (
     id INTEGER PRIMARY KEY,
@@ -71,7 +73,10 @@ export const MIGRATIONS: readonly string[] = [
     call_differs INTEGER NOT NULL DEFAULT 0,
     natural_key TEXT NOT NULL UNIQUE
   );
-  CREATE INDEX results_sample ON results(lab_id, sample_id, assay_id);
+  -- natural_key starts with sample, assay and lab, so its unique index also serves look-ups of a
+  -- sample's current result, and rows of one sample sit together (inserts stay local).
+  CREATE INDEX results_sample ON results(sample_id);
+  CREATE INDEX results_file ON results(file_id);
 
   CREATE TABLE supersessions (
     old_result_id INTEGER PRIMARY KEY REFERENCES results(id),

@@ -95,6 +95,8 @@ export interface StoreOptions {
 export class Store {
   readonly db: Database.Database;
   private inFile = false;
+  /** Encoded ropes already placed by the open file (sample ID -> location), bounded. */
+  private readonly encodedRopesThisFile = new Map<string, string>();
   private readonly statements;
 
   constructor(file: string, options: StoreOptions = {}) {
@@ -104,6 +106,8 @@ export class Store {
     // A file is archived only after its commit, so the commit must survive a power cut.
     this.db.pragma('synchronous = FULL');
     this.db.pragma('foreign_keys = ON');
+    // A 64 MB page cache keeps the indexes of a large export in memory while it is stored.
+    this.db.pragma('cache_size = -65536');
     this.db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
     this.migrate();
     const db = this.db;
@@ -114,16 +118,20 @@ export class Store {
          VALUES (@name, @sha256, @kind, @labId, @receivedAt, @status, @reasonCode, @reason, @reasonLine, @reasonField, @encodingNote, @byteLength, @bytes)`,
       ),
       finishFile: db.prepare('UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id'),
+      // Positional parameters: binding 22 named values per row costs more than the insert itself.
       insertResult: db.prepare(
         `INSERT INTO results (file_id, line, lab_id, sample_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
            report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, natural_key)
-         VALUES (@fileId, @line, @labId, @sampleId, @assayId, @labAssay, @ct, @ctRaw, @labCall, @accession, @collectedOn, @reportedOn,
-           @reportStatus, @control, @resultClass, @reason, @loadBand, @positiveBelow, @suspectBelow, @cycleLimit, @callDiffers, @naturalKey)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT (natural_key) DO NOTHING`,
+      ),
+      samplesWithResults: db.prepare(
+        `SELECT j.value AS sampleId FROM json_each(?) j
+         WHERE EXISTS (SELECT 1 FROM results r WHERE r.sample_id = j.value AND r.lab_id = ?)`,
       ),
       currentForSample: db.prepare(
         `SELECT r.id, r.reported_on AS reportedOn FROM results r
-         WHERE r.lab_id = ? AND r.sample_id = ? AND r.assay_id = ? AND r.id <> ?
+         WHERE r.sample_id = ? AND r.lab_id = ? AND r.assay_id = ? AND r.id <> ?
            AND NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)`,
       ),
       insertSupersession: db.prepare('INSERT INTO supersessions (old_result_id, new_result_id, reason) VALUES (?, ?, ?)'),
@@ -132,7 +140,7 @@ export class Store {
       insertRope: db.prepare(
         `INSERT INTO ropes (sample_id, site_id, barn_id, pen_id, hung_on, source, file_id, line, note)
          VALUES (@sampleId, @siteId, @barnId, @penId, @hungOn, @source, @fileId, @line, @note)
-         ON CONFLICT (sample_id) DO NOTHING`,
+         ON CONFLICT DO NOTHING`,
       ),
       insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message) VALUES (?, ?, ?, ?, ?, ?)'),
       upsertPlanned: db.prepare(
@@ -181,6 +189,7 @@ export class Store {
     if (this.inFile) throw new Error('a file transaction is already open');
     this.db.exec('BEGIN IMMEDIATE');
     this.inFile = true;
+    this.encodedRopesThisFile.clear();
     // The caller's hash look-up ran before the lock; a second process ingesting the same file
     // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
     const known = this.findFileByHash(file.sha256);
@@ -204,15 +213,34 @@ export class Store {
   insertResults(fileId: number, rows: readonly ResultRow[]): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
+    // One query per batch finds the samples that already have results; only their rows can
+    // supersede anything, so the per-row look-up runs for those alone.
+    const mayHaveEarlier = new Set<string>();
+    const samplesByLab = new Map<string, Set<string>>();
     for (const row of rows) {
-      const info = this.statements.insertResult.run({ ...row, fileId, callDiffers: row.callDiffers ? 1 : 0 });
+      const samples = samplesByLab.get(row.labId) ?? new Set<string>();
+      samples.add(row.sampleId);
+      samplesByLab.set(row.labId, samples);
+    }
+    for (const [labId, samples] of samplesByLab) {
+      for (const { sampleId } of this.statements.samplesWithResults.all(JSON.stringify([...samples]), labId) as { sampleId: string }[]) mayHaveEarlier.add(`${labId}|${sampleId}`);
+    }
+    for (const row of rows) {
+      const sampleKey = `${row.labId}|${row.sampleId}`;
+      const info = this.statements.insertResult.run(
+        fileId, row.line, row.labId, row.sampleId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
+        row.reportStatus, row.control, row.resultClass, row.reason, row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.naturalKey,
+      );
       if (info.changes === 0) {
         counts.duplicates++;
         continue;
       }
       counts.inserted++;
       const newId = Number(info.lastInsertRowid);
-      const earlier = this.statements.currentForSample.all(row.labId, row.sampleId, row.assayId, newId) as { id: number; reportedOn: string | null }[];
+      const earlier = mayHaveEarlier.has(sampleKey)
+        ? (this.statements.currentForSample.all(row.sampleId, row.labId, row.assayId, newId) as { id: number; reportedOn: string | null }[])
+        : [];
+      mayHaveEarlier.add(sampleKey);
       for (const old of earlier) {
         // The newest report is current: a later report date wins; on the same date the later file does.
         const oldIsNewer = old.reportedOn !== null && row.reportedOn !== null && old.reportedOn > row.reportedOn;
@@ -228,12 +256,26 @@ export class Store {
         }
         this.statements.insertSupersession.run(old.id, newId, reason);
       }
-      if (row.encodedRope) this.insertRopeRow(fileId, { ...row.encodedRope, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
+      if (row.encodedRope) {
+        // A sample's other assays carry the same encoded rope: look it up once per file.
+        const location = `${row.encodedRope.siteId}/${row.encodedRope.barnId}/${row.encodedRope.penId}/${row.encodedRope.hungOn}`;
+        if (this.encodedRopesThisFile.get(row.sampleId) === location) continue;
+        this.insertRopeRow(fileId, { ...row.encodedRope, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
+        if (this.encodedRopesThisFile.size >= 100_000) this.encodedRopesThisFile.clear();
+        this.encodedRopesThisFile.set(row.sampleId, location);
+      }
     }
     return counts;
   }
 
   private insertRopeRow(fileId: number, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
+    // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
+    const info = this.statements.insertRope.run({ ...row, source, fileId });
+    if (info.changes === 1) {
+      if (source === 'sheet') counts.inserted++;
+      if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
+      return;
+    }
     const existing = this.statements.ropeBySample.get(row.sampleId) as StoredRope | undefined;
     if (existing) {
       const same = existing.siteId === row.siteId && existing.barnId === row.barnId && existing.penId === row.penId && existing.hungOn === row.hungOn;
@@ -250,19 +292,13 @@ export class Store {
       return;
     }
     const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, row.sampleId) as { sampleId: string } | undefined;
-    if (clash) {
-      counts.rejections.push({
-        line: row.line,
-        field: 'pen',
-        code: 'pen-twice-same-day',
-        value: row.penId,
-        message: `pen ${row.barnId}/${row.penId} already has sample ${clash.sampleId} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`,
-      });
-      return;
-    }
-    this.statements.insertRope.run({ ...row, source, fileId });
-    if (source === 'sheet') counts.inserted++;
-    if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
+    counts.rejections.push({
+      line: row.line,
+      field: 'pen',
+      code: 'pen-twice-same-day',
+      value: row.penId,
+      message: `pen ${row.barnId}/${row.penId} already has sample ${clash?.sampleId ?? '(another sample)'} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`,
+    });
   }
 
   /** Stores a batch of rope-sheet rows. Call inside `beginFile`. */

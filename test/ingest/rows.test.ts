@@ -61,7 +61,8 @@ describe('mapResultRow', () => {
       callDiffers: false,
       markedReissue: false,
     });
-    expect(outcome.row.naturalKey).toMatch(/^[0-9a-f]{40}$/);
+    // Sample, assay and lab first (so one sample's rows sit together in the index), then a hash of the rest.
+    expect(outcome.row.naturalKey).toMatch(/^HC-0803-F1-01\|PRRSV\|northfield\|[0-9a-f]{24}$/);
     // The same row in another file has the same natural key (what makes re-drops idempotent).
     expect(nf({}, 99).ok && (nf({}, 99) as { row: { naturalKey: string } }).row.naturalKey).toBe(outcome.row.naturalKey);
   });
