@@ -206,8 +206,17 @@ function loadAssays(file: string): Assay[] {
 
 /** Lower-cased, trimmed, inner whitespace folded: how tokens and names are compared. */
 export function foldToken(text: string): string {
-  return text.trim().replace(/\s+/g, ' ').toLowerCase();
+  // Exports repeat the same few words (assay names, "Undetermined", "PASS") on every row.
+  const cached = foldedTokens.get(text);
+  if (cached !== undefined) return cached;
+  const folded = text.trim().replace(/\s+/g, ' ').toLowerCase();
+  if (text.length <= 64) {
+    if (foldedTokens.size >= 4096) foldedTokens.clear();
+    foldedTokens.set(text, folded);
+  }
+  return folded;
 }
+const foldedTokens = new Map<string, string>();
 
 function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfile {
   const raw = validate(labProfileSchema, readYaml(file), file);

@@ -136,7 +136,9 @@ const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
 
 /** Finds the site, barn and pen a sample ID encodes through a site's configured pattern. */
 export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | 'no-date' | undefined {
-  for (const site of sites) {
+  // Exports come a site at a time: try the site that matched last before the others.
+  const last = lastPatternSite.get(sites);
+  for (const site of last === undefined ? sites : [last, ...sites]) {
     const match = site.samplePattern?.exec(sampleId);
     if (!match?.groups) continue;
     const barn = site.barnById.get(match.groups['barn']!.toUpperCase());
@@ -146,10 +148,12 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
     const encodedDate = match.groups['date'] ? parseDateCell(match.groups['date'], 'yyyyMMdd') : undefined;
     const hungOn = encodedDate ?? fallbackDate;
     if (!hungOn) return 'no-date';
+    if (last !== site) lastPatternSite.set(sites, site);
     return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
   }
   return undefined;
 }
+const lastPatternSite = new WeakMap<readonly Site[], Site>();
 
 /** Maps one lab-export record. `line` is the 1-based line where the record starts. */
 export function mapResultRow(cells: readonly string[], line: number, context: ResultContext): RowOutcome<ResultRow> {

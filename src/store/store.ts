@@ -139,7 +139,7 @@ export class Store {
       ropeInPenOnDay: db.prepare('SELECT sample_id AS sampleId FROM ropes WHERE site_id = ? AND barn_id = ? AND pen_id = ? AND hung_on = ? AND sample_id <> ?'),
       insertRope: db.prepare(
         `INSERT INTO ropes (sample_id, site_id, barn_id, pen_id, hung_on, source, file_id, line, note)
-         VALUES (@sampleId, @siteId, @barnId, @penId, @hungOn, @source, @fileId, @line, @note)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT DO NOTHING`,
       ),
       insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message) VALUES (?, ?, ?, ?, ?, ?)'),
@@ -260,7 +260,8 @@ export class Store {
         // A sample's other assays carry the same encoded rope: look it up once per file.
         const location = `${row.encodedRope.siteId}/${row.encodedRope.barnId}/${row.encodedRope.penId}/${row.encodedRope.hungOn}`;
         if (this.encodedRopesThisFile.get(row.sampleId) === location) continue;
-        this.insertRopeRow(fileId, { ...row.encodedRope, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
+        const rope = row.encodedRope;
+        this.insertRopeRow(fileId, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
         if (this.encodedRopesThisFile.size >= 100_000) this.encodedRopesThisFile.clear();
         this.encodedRopesThisFile.set(row.sampleId, location);
       }
@@ -270,7 +271,7 @@ export class Store {
 
   private insertRopeRow(fileId: number, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
-    const info = this.statements.insertRope.run({ ...row, source, fileId });
+    const info = this.statements.insertRope.run(row.sampleId, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note);
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
