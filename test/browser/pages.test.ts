@@ -145,9 +145,12 @@ if (!available && !mustRun) {
       }
     }, 60_000);
 
-    it('prints the round summary and the rope sheet on A4 with no page wider than the sheet', async () => {
-      const site = demo.analyses[1]!;
-      for (const relative of [`${site.site.id}/${site.summaries.at(-1)!.round.id}/summary.html`, `${site.site.id}/next-round.html`]) {
+    it('prints the latest round summary, cluster review and rope sheet of every site on at most two A4 sheets, none wider than the sheet', async () => {
+      const latest = demo.analyses.flatMap((site) => {
+        const round = site.summaries.at(-1)!.round.id;
+        return [`${site.site.id}/${round}/summary.html`, `${site.site.id}/${round}/clusters.html`, `${site.site.id}/next-round.html`];
+      });
+      for (const relative of latest) {
         const page = await open(relative);
         await page.emulateMedia({ media: 'print' });
         // A4 is 210 mm wide; at 96 px per inch less 2 x 12 mm margins that leaves about 703 px.

@@ -64,6 +64,9 @@ svg.map{max-width:100%;height:auto;display:block}
 .cautions ul{margin:4px 0;padding-left:20px}
 .checklist td,.checklist th{padding:7px 10px}
 .checklist td.tick{width:44px}
+.checklist-pair{display:flex;gap:8px;align-items:flex-start}
+.checklist-pair .checklist{flex:1 1 0;min-width:0;width:auto}
+.checklist-pair .checklist td,.checklist-pair .checklist th{white-space:nowrap}
 .box{display:inline-block;width:22px;height:22px;border:2px solid ${COLOURS.ink};vertical-align:middle}
 .due{font-size:1.35em;font-weight:700;margin:6px 0}
 .overdue{border:3px solid ${COLOURS.alertInk};background:${COLOURS.alertPaper};color:${COLOURS.alertInk};padding:6px 12px;font-weight:700}
@@ -83,6 +86,9 @@ svg.map{max-width:100%;height:auto;display:block}
   th,td{padding:2px 4px;overflow-wrap:anywhere}
   .checklist{font-size:11.5pt}
   .checklist td,.checklist th{padding:3px 8px}
+  .checklist-pair .checklist{font-size:10.5pt}
+  .trends svg.trend{width:168px;height:auto}
+  .checklist-pair .checklist td,.checklist-pair .checklist th{padding:2px 3px;overflow-wrap:normal}
   .box{width:16px;height:16px}
   .barn{break-inside:auto;page-break-inside:auto}
   figure,.legend{break-inside:avoid;page-break-inside:avoid}

@@ -38,6 +38,9 @@ export function sizingLine(plan: NextRoundPlan): string {
  * Renders the rope sheet (next-round.html). Checklist lines keep the plan's order, which is
  * already the walking order; the numbers on the maps are those lines.
  */
+/** Ropes in a barn above which the checklist is set in two columns. */
+const LONG_LIST = 10;
+
 export function renderRopeSheetPage(input: RopeSheetInput): string {
   const { plan, site } = input;
   const order = new Map(plan.ropes.map((rope, index) => [`${rope.barnId}/${rope.penId}`, index + 1]));
@@ -57,16 +60,22 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
         planned,
         attributes: { 'data-map': 'sheet' },
       });
-      const rows = ropes
-        .map((rope) => {
-          const line = order.get(`${rope.barnId}/${rope.penId}`)!;
-          return `<tr data-rope="${escapeHtml(rope.sampleId)}"><td class="num">${line}</td><td><strong>${escapeHtml(rope.penId)}</strong></td><td>${escapeHtml(rope.side)}</td><td><strong>${escapeHtml(rope.sampleId)}</strong></td><td>${escapeHtml(REASON_WORD[rope.reason])}</td><td class="tick"><span class="box" aria-label="done"></span></td></tr>`;
-        })
-        .join('');
+      // A long list goes into two columns (first half left, second half right, still in walking
+      // order) with short words, so that a large site's sheet stays short when printed.
+      const compact = ropes.length > LONG_LIST;
+      const rowOf = (rope: (typeof ropes)[number]) => {
+        const line = order.get(`${rope.barnId}/${rope.penId}`)!;
+        const why = compact ? rope.reason : REASON_WORD[rope.reason];
+        return `<tr data-rope="${escapeHtml(rope.sampleId)}"><td class="num">${line}</td><td><strong>${escapeHtml(rope.penId)}</strong></td><td>${escapeHtml(rope.side)}</td><td><strong>${escapeHtml(rope.sampleId)}</strong></td><td>${escapeHtml(why)}</td><td class="tick"><span class="box" aria-label="done"></span></td></tr>`;
+      };
+      const table = (part: typeof ropes) =>
+        `<table class="checklist"><thead><tr><th class="num">#</th><th>Pen</th><th>Side</th><th>${compact ? 'Sample ID' : 'Sample ID (tube label)'}</th><th>Why</th><th>Done</th></tr></thead><tbody>${part.map(rowOf).join('')}</tbody></table>`;
+      const half = Math.ceil(ropes.length / 2);
+      const checklist = compact ? `<div class="checklist-pair">${table(ropes.slice(0, half))}${table(ropes.slice(half))}</div>` : table(ropes);
       return (
         `<section class="barn" data-barn="${escapeHtml(barn.id)}"><h2>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${count(ropes.length, 'rope')}</h2>` +
         `<figure>${map}</figure>${sheetLegend(`sheet-${barn.id}`)}` +
-        `<table class="checklist"><thead><tr><th class="num">#</th><th>Pen</th><th>Side</th><th>Sample ID (tube label)</th><th>Why</th><th>Done</th></tr></thead><tbody>${rows}</tbody></table></section>`
+        `${checklist}</section>`
       );
     })
     .join('');
