@@ -10,8 +10,7 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { Store } from '../../src/store/store.js';
-import { bigNorthfieldExport, lookIntoStore, REPO_ROOT, spawnCli } from '../helpers/hardening.js';
+import { bigNorthfieldExport, lookIntoStore, processWorkspace, spawnCli } from '../helpers/hardening.js';
 
 const ROWS = 20_000;
 let root: string;
@@ -20,14 +19,7 @@ beforeAll(() => {
 });
 afterAll(() => fs.rmSync(root, { recursive: true, force: true }));
 
-function workspace(name: string) {
-  const dir = path.join(root, name);
-  const paths = { config: path.join(dir, 'config'), db: path.join(dir, 'data', 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
-  fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
-  fs.mkdirSync(paths.inbox, { recursive: true });
-  new Store(paths.db).close();
-  return { paths, flags: ['--config', paths.config, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox] };
-}
+const workspace = (name: string) => processWorkspace(root, name);
 
 describe('two ingest processes on the same store', () => {
   it('store two different files once each, whole, with an intact database (the write lock serialises them)', async () => {

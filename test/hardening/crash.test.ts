@@ -11,8 +11,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
-import { Store } from '../../src/store/store.js';
-import { bigNorthfieldExport, lookIntoStore, REPO_ROOT, spawnCli } from '../helpers/hardening.js';
+import { bigNorthfieldExport, lookIntoStore, processWorkspace, spawnCli } from '../helpers/hardening.js';
 
 /** Rows of the export: enough that storing takes well over a second on a slow CI core. */
 const ROWS = 40_000;
@@ -34,16 +33,7 @@ afterAll(() => fs.rmSync(root, { recursive: true, force: true }));
 
 const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
 
-function workspace(name: string) {
-  const dir = path.join(root, name);
-  const paths = { config: path.join(dir, 'config'), db: path.join(dir, 'data', 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
-  fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
-  fs.mkdirSync(paths.inbox, { recursive: true });
-  // Create and migrate the store up front, so the child's only write transaction is the file's.
-  new Store(paths.db).close();
-  const flags = ['--config', paths.config, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
-  return { dir, paths, flags };
-}
+const workspace = (name: string) => processWorkspace(root, name);
 
 /**
  * Waits until another connection holds the store's write lock: a probe `BEGIN IMMEDIATE` with no

@@ -8,6 +8,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
+import { Store } from '../../src/store/store.js';
 
 export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
 
@@ -151,4 +152,18 @@ export function writeManySiteConfig(dir: string, options: ManySiteOptions): void
 /** Sample ID a generated site's pattern maps to barn `barn` (1-based), pen `pen` (1-based), day `yyyymmdd`. */
 export function patternSampleId(siteIndex: number, barn: number, pen: number, yyyymmdd: string): string {
   return `${generatedSite(siteIndex).prefix}-B${barn}-${pen}-${yyyymmdd}`;
+}
+
+/**
+ * A workspace for tests that run the CLI as child processes: the demo config, an inbox, and a
+ * store created and migrated up front, so a child's only write transaction is its file's.
+ */
+export function processWorkspace(root: string, name: string) {
+  const dir = path.join(root, name);
+  const paths = { config: path.join(dir, 'config'), db: path.join(dir, 'data', 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
+  fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
+  fs.mkdirSync(paths.inbox, { recursive: true });
+  new Store(paths.db).close();
+  const flags = ['--config', paths.config, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
+  return { dir, paths, flags };
 }
