@@ -52,7 +52,11 @@ export function receiptText(receipt: Receipt): string {
     if (receipt.rejectedRowsNotListed > 0) lines.push(`  ... and ${receipt.rejectedRowsNotListed} more`);
   }
   if (receipt.unresolvedSampleIds.length > 0) {
-    lines.push('', `samples not yet on any rope sheet (kept; they resolve when the sheet arrives): ${receipt.unresolvedSampleIds.join(', ')}`);
+    lines.push(
+      '',
+      `samples not yet on any rope sheet (kept; they resolve when the sheet arrives): ${receipt.unresolvedSampleIds.join(', ')}` +
+        (receipt.unresolvedNotListed > 0 ? `, and ${receipt.unresolvedNotListed} more` : ''),
+    );
   }
   if (receipt.resolvedSampleIds.length > 0) lines.push('', `earlier results now placed in their pens: ${receipt.resolvedSampleIds.join(', ')}`);
   for (const warning of receipt.warnings) lines.push(`note: ${warning}`);

@@ -60,7 +60,7 @@ function receiptLine(receipt: Receipt): string {
   if (receipt.rows.rejected) parts.push(`${receipt.rows.rejected} refused`);
   if (receipt.rows.duplicate) parts.push(`${receipt.rows.duplicate} already stored`);
   if (receipt.rows.superseded) parts.push(`${receipt.rows.superseded} superseding earlier reports`);
-  if (receipt.unresolvedSampleIds.length) parts.push(`${receipt.unresolvedSampleIds.length} samples awaiting a rope sheet`);
+  if (receipt.unresolvedSampleIds.length) parts.push(`${receipt.unresolvedSampleIds.length + receipt.unresolvedNotListed} samples awaiting a rope sheet`);
   if (receipt.resolvedSampleIds.length) parts.push(`${receipt.resolvedSampleIds.length} earlier results now placed`);
   return `accepted ${receipt.file} (${receipt.kind}${receipt.lab ? `, ${receipt.lab}` : ''}): ${parts.join(', ')}`;
 }

@@ -32,8 +32,10 @@ export interface Receipt {
   rows: { accepted: number; rejected: number; duplicate: number; superseded: number };
   rejectedRows: RowRejection[];
   rejectedRowsNotListed: number;
-  /** Result sample IDs of this file with no rope yet: kept, and resolved when the sheet arrives. */
+  /** Result sample IDs of this file with no rope yet: kept, and resolved when the sheet arrives (first 500). */
   unresolvedSampleIds: string[];
+  /** Unresolved sample IDs beyond those listed. */
+  unresolvedNotListed: number;
   /** Earlier results that this rope sheet (or pattern) has now placed in a pen. */
   resolvedSampleIds: string[];
   warnings: string[];
@@ -102,6 +104,7 @@ function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt
     rejectedRows: [],
     rejectedRowsNotListed: 0,
     unresolvedSampleIds: [],
+    unresolvedNotListed: 0,
     resolvedSampleIds: [],
     warnings: [],
     reason: null,
@@ -285,36 +288,13 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     }
     deps.store.finishFile(fileId, { accepted: receipt.rows.accepted, rejected: receipt.rows.rejected, duplicate: receipt.rows.duplicate });
 
-    const db = deps.store.db;
+    const effects = deps.store.openFileEffects(RECEIPT_ROW_LIMIT);
     if (kind.kind === 'results') {
-      receipt.unresolvedSampleIds = (
-        db
-          .prepare(
-            `SELECT DISTINCT r.sample_id AS id FROM results r WHERE r.file_id = ?
-               AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = r.sample_id)
-               AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = r.sample_id) ORDER BY 1`,
-          )
-          .all(fileId) as { id: string }[]
-      ).map((row) => row.id);
+      receipt.unresolvedSampleIds = effects.unresolved;
+      receipt.unresolvedNotListed = effects.unresolvedCount - effects.unresolved.length;
     }
-    receipt.resolvedSampleIds = (
-      db
-        .prepare(
-          `SELECT DISTINCT h.sample_id AS id FROM ropes h JOIN results r ON r.sample_id = h.sample_id
-           WHERE h.file_id = ? AND r.file_id <> ? ORDER BY 1`,
-        )
-        .all(fileId, fileId) as { id: string }[]
-    ).map((row) => row.id);
-    receipt.sites = (
-      db
-        .prepare(
-          `SELECT site_id AS id FROM ropes WHERE file_id = @fileId
-           UNION SELECT h.site_id FROM ropes h JOIN results r ON r.sample_id = h.sample_id WHERE r.file_id = @fileId
-           UNION SELECT p.site_id FROM planned_ropes p JOIN results r ON r.sample_id = p.sample_id WHERE r.file_id = @fileId
-           ORDER BY 1`,
-        )
-        .all({ fileId }) as { id: string }[]
-    ).map((row) => row.id);
+    receipt.resolvedSampleIds = effects.resolved;
+    receipt.sites = effects.sites;
 
     try {
       deps.regenerate(receipt.sites);

@@ -43,10 +43,10 @@ export const MIGRATIONS: readonly string[] = [
     line INTEGER NOT NULL,
     note TEXT
   );
-  CREATE INDEX ropes_site ON ropes(site_id, hung_on);
   -- One rope per pen per day, as a constraint: the common insert then needs no look-up first.
+  -- It also serves look-ups by site (its first column). A file's own rows are found by row-id
+  -- range (one file per transaction), so no index on file_id slows every insert.
   CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, barn_id, pen_id, hung_on);
-  CREATE INDEX ropes_file ON ropes(file_id);
 
   CREATE TABLE results (
     id INTEGER PRIMARY KEY,
@@ -76,7 +76,6 @@ export const MIGRATIONS: readonly string[] = [
   -- natural_key starts with sample, assay and lab, so its unique index also serves look-ups of a
   -- sample's current result, and rows of one sample sit together (inserts stay local).
   CREATE INDEX results_sample ON results(sample_id);
-  CREATE INDEX results_file ON results(file_id);
 
   CREATE TABLE supersessions (
     old_result_id INTEGER PRIMARY KEY REFERENCES results(id),

@@ -95,6 +95,8 @@ export interface StoreOptions {
 export class Store {
   readonly db: Database.Database;
   private inFile = false;
+  /** Highest result and rope row ids before the open file: its own rows are the ones above. */
+  private fileStart = { result: 0, rope: 0 };
   /** Encoded ropes already placed by the open file (sample ID -> location), bounded. */
   private readonly encodedRopesThisFile = new Map<string, string>();
   private readonly statements;
@@ -191,6 +193,10 @@ export class Store {
     this.db.exec('BEGIN IMMEDIATE');
     this.inFile = true;
     this.encodedRopesThisFile.clear();
+    this.fileStart = {
+      result: (this.db.prepare('SELECT COALESCE(MAX(id), 0) AS id FROM results').get() as { id: number }).id,
+      rope: (this.db.prepare('SELECT COALESCE(MAX(id), 0) AS id FROM ropes').get() as { id: number }).id,
+    };
     // The caller's hash look-up ran before the lock; a second process ingesting the same file
     // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
     const known = this.findFileByHash(file.sha256);
@@ -319,6 +325,33 @@ export class Store {
   finishFile(fileId: number, counts: { accepted: number; rejected: number; duplicate: number }): void {
     this.requireFile();
     this.statements.finishFile.run({ id: fileId, ...counts });
+  }
+
+  /**
+   * What the open file changed, for its receipt: its result samples with no rope yet (at most
+   * `limit` listed, all counted), earlier results its ropes now place, and the sites it touched.
+   */
+  openFileEffects(limit: number): { unresolved: string[]; unresolvedCount: number; resolved: string[]; sites: string[] } {
+    this.requireFile();
+    const range = { result: this.fileStart.result, rope: this.fileStart.rope, limit };
+    const unresolvedSql = `FROM results r WHERE r.id > @result
+         AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = r.sample_id)
+         AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = r.sample_id)`;
+    const ids = (sql: string) => (this.db.prepare(sql).all(range) as { id: string }[]).map((row) => row.id);
+    return {
+      unresolved: ids(`SELECT DISTINCT r.sample_id AS id ${unresolvedSql} ORDER BY 1 LIMIT @limit`),
+      unresolvedCount: (this.db.prepare(`SELECT COUNT(DISTINCT r.sample_id) AS n ${unresolvedSql}`).get(range) as { n: number }).n,
+      resolved: ids(
+        `SELECT DISTINCT h.sample_id AS id FROM ropes h JOIN results r ON r.sample_id = h.sample_id
+         WHERE h.id > @rope AND r.id <= @result ORDER BY 1 LIMIT @limit`,
+      ),
+      sites: ids(
+        `SELECT site_id AS id FROM ropes WHERE id > @rope
+         UNION SELECT h.site_id FROM results r JOIN ropes h ON h.sample_id = r.sample_id WHERE r.id > @result
+         UNION SELECT p.site_id FROM results r JOIN planned_ropes p ON p.sample_id = r.sample_id WHERE r.id > @result
+         ORDER BY 1`,
+      ),
+    };
   }
 
   commit(): void {
