@@ -4,7 +4,7 @@
  * in src/report turn it into summary.json and summary.csv without computing anything.
  */
 import type { Config, Site } from '../config/types.js';
-import { ctHistory, type CtHistoryPoint, type PenAssayResult, type SiteRound } from '../interpret/roundModel.js';
+import { ctHistory, type AssayTally, type CtHistoryPoint, type PenAssayResult, type SiteRound } from '../interpret/roundModel.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
 import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
 
@@ -20,16 +20,10 @@ export interface PenSummary {
   results: Record<string, Omit<PenAssayResult, 'assayId' | 'otherSampleIds'> & { history: CtHistoryPoint[] }>;
 }
 
-export interface BarnAssaySummary {
+/** The round model's tally of one assay in a barn, with the tested count and what it proved. */
+export interface BarnAssaySummary extends Omit<AssayTally, 'testedPens'> {
   assayId: string;
   tested: number;
-  positive: number;
-  suspect: number;
-  negative: number;
-  invalid: number;
-  positivePens: string[];
-  suspectPens: string[];
-  invalidPens: string[];
   confidence: BarnConfidence;
 }
 
@@ -95,17 +89,11 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         missingSampleIds: barnRound.missingSampleIds,
         sampledPens: barnRound.pens.map((pen) => pen.penId),
         assays: assayIds.map((assayId) => {
-          const tally = barnRound.byAssay[assayId]!;
+          const { testedPens, ...tally } = barnRound.byAssay[assayId]!;
           return {
             assayId,
-            tested: tally.testedPens.length,
-            positive: tally.positive,
-            suspect: tally.suspect,
-            negative: tally.negative,
-            invalid: tally.invalid,
-            positivePens: tally.positivePens,
-            suspectPens: tally.suspectPens,
-            invalidPens: tally.invalidPens,
+            tested: testedPens.length,
+            ...tally,
             confidence: roundConfidence.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)!,
           };
         }),

@@ -4,7 +4,7 @@
  * (linked positive pens), `pen` (local statistics), `spread` (each new positive's distance to the
  * nearest earlier one). Column names are stable and documented in the README.
  */
-import { stringify } from 'csv-stringify/sync';
+import { csvTable, type CsvRow } from './csvTable.js';
 import type { RoundSpatial } from '../analysis/spatialRound.js';
 
 export const CLUSTERS_COLUMNS = [
@@ -50,7 +50,7 @@ export const CLUSTERS_COLUMNS = [
 ] as const;
 
 type Column = (typeof CLUSTERS_COLUMNS)[number];
-type Row = Partial<Record<Column, string | number | boolean | null>>;
+type Row = CsvRow<Column>;
 
 const num = (value: number | null | undefined, digits = 6) => (value === null || value === undefined ? null : Number(value.toFixed(digits)));
 
@@ -142,8 +142,5 @@ export function clustersCsv(spatial: RoundSpatial): string {
       }
     }
   }
-  return stringify(
-    rows.map((row) => CLUSTERS_COLUMNS.map((column) => row[column] ?? '')),
-    { header: true, columns: [...CLUSTERS_COLUMNS], cast: { boolean: (value) => (value ? 'true' : 'false') } },
-  );
+  return csvTable(CLUSTERS_COLUMNS, rows);
 }

@@ -2,7 +2,7 @@
  * summary.csv: one table with a `level` column (site, barn, pen) and one row per assay at each
  * level. Column names are stable and documented in the README; new columns go at the end.
  */
-import { stringify } from 'csv-stringify/sync';
+import { csvTable, type CsvRow } from './csvTable.js';
 import type { RoundSummary } from '../analysis/roundSummary.js';
 
 export const SUMMARY_COLUMNS = [
@@ -46,7 +46,7 @@ export const SUMMARY_COLUMNS = [
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
-type Row = Partial<Record<Column, string | number | boolean | null>>;
+type Row = CsvRow<Column>;
 
 /** Probabilities to six decimals: enough to compare, short enough to read. */
 export function formatProbability(value: number): string {
@@ -141,8 +141,5 @@ export function summaryCsv(summary: RoundSummary): string {
       });
     }
   }
-  return stringify(
-    rows.map((row) => SUMMARY_COLUMNS.map((column) => row[column] ?? '')),
-    { header: true, columns: [...SUMMARY_COLUMNS], cast: { boolean: (value) => (value ? 'true' : 'false') } },
-  );
+  return csvTable(SUMMARY_COLUMNS, rows);
 }
