@@ -107,9 +107,8 @@ export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis): void {
 export function regenerateOutputs(ws: Workspace, siteIds?: readonly string[], options: AnalyseOptions = {}): SiteAnalysis[] {
   const sites = siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
   if (sites.length === 0) return [];
-  const results = ws.store.currentResults();
   const cache = new OutbreakCache(ws.config.analysis);
-  const analyses = sites.map((site) => analyseSite(ws, site, results, cache, options));
+  const analyses = sites.map((site) => analyseSite(ws, site, ws.store.currentResults(site.id), cache, options));
   for (const analysis of analyses) {
     storePlan(ws, analysis);
     writeSiteOutputs(ws, analysis);

@@ -140,9 +140,8 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
     withWorkspace(io, options, (ws) => {
       const counts = ws.store.counts();
       const unresolved = ws.store.unresolvedSampleIds();
-      const results = ws.store.currentResults();
       const sites = ws.config.sites.map((site) => {
-        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), results, ws.store.plannedWithoutResults(site.id));
+        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), ws.store.currentResults(site.id), ws.store.plannedWithoutResults(site.id));
         const last = rounds.at(-1);
         const planned = ws.store.plannedRopes(site.id).filter((rope) => rope.afterRound === (last?.number ?? 0));
         return {

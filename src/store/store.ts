@@ -451,16 +451,24 @@ export class Store {
   }
 
   /** Results that no later report supersedes. */
-  currentResults(): StoredResult[] {
+  /**
+   * Results that no later report supersedes; with a site, only those whose sample is one of the
+   * site's ropes or planned ropes (so rewriting one site's outputs never reads the whole store).
+   */
+  currentResults(siteId?: string): StoredResult[] {
+    const ofSite =
+      siteId === undefined
+        ? ''
+        : 'AND r.sample_id IN (SELECT sample_id FROM ropes WHERE site_id = @siteId UNION SELECT sample_id FROM planned_ropes WHERE site_id = @siteId)';
     return this.db
       .prepare(
         `SELECT id, file_id AS fileId, lab_id AS labId, sample_id AS sampleId, assay_id AS assayId, ct, ct_raw AS ctRaw, lab_call AS labCall,
                 accession, collected_on AS collectedOn, reported_on AS reportedOn, class AS resultClass, reason, load_band AS loadBand,
                 cycle_limit AS cycleLimit, call_differs AS callDiffers
-         FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)
+         FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id) ${ofSite}
          ORDER BY id`,
       )
-      .all()
+      .all(siteId === undefined ? {} : { siteId })
       .map((row) => ({ ...(row as StoredResult), callDiffers: Boolean((row as { callDiffers: number }).callDiffers) }));
   }
 

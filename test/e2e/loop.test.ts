@@ -78,3 +78,19 @@ describe('the next-round rope list closes the loop', () => {
     expect(receipt.rejectedRows[0]!.line).toBe(2);
   });
 });
+
+describe('rewriting one site reads only that site', () => {
+  it("gives a site's current results only for samples on its own ropes or plan, never another site's", async () => {
+    workspace = makeWorkspace();
+    const site = workspace.config().siteById.get('HOLLOW-CREEK')!;
+    const pen = site.barnById.get('F1')!.pens[0]!;
+    await workspace.drop('hollow-creek_ropes_2026-08-03.csv', ropeSheet(site, [{ sampleId: 'HC-ONLY-1', barnId: 'F1', penId: pen.id, hungOn: '2026-08-03' }]));
+    // A Tamsin Ridge tube that carries its own location (sample pattern) and an unplaced sample.
+    const rows = ['HC-ONLY-1', 'TR-N1-07-20260805', 'NOWHERE-9'].map((sampleId) => ({ sampleId, assay: 'PRRSV' as const, ct: null, collectedOn: '2026-08-05' }));
+    await workspace.drop('nvdl_results_2026-08-06.csv', northfieldExport(rows, '2026-08-06', 1));
+    const store = workspace.ws().store;
+    expect(store.currentResults('hollow-creek').map((result) => result.sampleId)).toEqual(['HC-ONLY-1']);
+    expect(store.currentResults('tamsin-ridge').map((result) => result.sampleId)).toEqual(['TR-N1-07-20260805']);
+    expect(store.currentResults().map((result) => result.sampleId).sort()).toEqual(['HC-ONLY-1', 'NOWHERE-9', 'TR-N1-07-20260805']);
+  });
+});
