@@ -153,6 +153,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     receipt.reason = { code: error.code, message: error.message, line: error.line ?? null, field: error.field ?? null };
     deps.store.recordRejectedFile({
       name,
+      kind: receipt.kind,
       sha256,
       receivedAt,
       reasonCode: error.code,

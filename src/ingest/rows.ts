@@ -135,7 +135,7 @@ const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
 };
 
 /** Finds the site, barn and pen a sample ID encodes through a site's configured pattern. */
-export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | 'no-date' | undefined {
+export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | 'no-date' | 'bad-date' | undefined {
   // Exports come a site at a time: try the site that matched last before the others.
   const last = lastPatternSite.get(sites);
   for (const site of last === undefined ? sites : [last, ...sites]) {
@@ -146,6 +146,8 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
     const pen = barn.penByKey.get(canonicalPenKey(match.groups['pen']!));
     if (!pen) continue;
     const encodedDate = match.groups['date'] ? parseDateCell(match.groups['date'], 'yyyyMMdd') : undefined;
+    // A date the tube label claims but the calendar lacks (20261345) is a mistyped label, not a reason to guess.
+    if (match.groups['date'] && encodedDate === undefined) return 'bad-date';
     const hungOn = encodedDate ?? fallbackDate;
     if (!hungOn) return 'no-date';
     if (last !== site) lastPatternSite.set(sites, site);
@@ -209,6 +211,9 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const located = locationFromPattern(sampleId, context.sites, collected.value ?? undefined);
   if (located === 'no-date') {
     return reject('no-collection-date', columns.sampleId, rawSample, `sample ID ${rawSample} names its pen but no date, and the row has no collection date`);
+  }
+  if (located === 'bad-date') {
+    return reject('bad-date', columns.sampleId, rawSample, `sample ID ${rawSample} carries a date that does not exist (yyyymmdd expected)`);
   }
   if (located) encodedRope = located;
 

@@ -377,6 +377,8 @@ export class Store {
   /** Records a refused file with its bytes and reason, in a transaction of its own. */
   recordRejectedFile(file: {
     name: string;
+    /** What the file was recognised as before it was refused, when it got that far. */
+    kind?: 'results' | 'ropes' | 'unknown';
     sha256: string;
     receivedAt: string;
     reasonCode: string;
@@ -393,7 +395,7 @@ export class Store {
       this.statements.insertFile.run({
         name: file.name,
         sha256: file.sha256,
-        kind: 'unknown',
+        kind: file.kind ?? 'unknown',
         labId: file.labId,
         receivedAt: file.receivedAt,
         status: 'rejected',

@@ -94,3 +94,14 @@ describe('rewriting one site reads only that site', () => {
     expect(store.currentResults().map((result) => result.sampleId).sort()).toEqual(['HC-ONLY-1', 'NOWHERE-9', 'TR-N1-07-20260805']);
   });
 });
+
+describe('a refused file keeps what it was recognised as', () => {
+  it('records a lab export refused for broken quoting as a results file of that lab, with its reason', async () => {
+    workspace = makeWorkspace();
+    const header = 'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
+    const { receipt } = await workspace.drop('nvdl_broken.csv', `${header}\nNV-1,HC-1,PRRSV NA/EU RT-PCR,"31.2,Positive,PASS,2026-08-03,2026-08-06,Final\n`);
+    expect(receipt).toMatchObject({ status: 'rejected', kind: 'results', lab: 'northfield', reason: { code: 'malformed-csv' } });
+    const [file] = workspace.ws().store.files();
+    expect(file).toMatchObject({ name: 'nvdl_broken.csv', status: 'rejected', kind: 'results', labId: 'northfield', reasonCode: 'malformed-csv' });
+  });
+});

@@ -134,6 +134,11 @@ describe('mapResultRow', () => {
     const cells = NF_COLUMNS.map((column) => ({ ...base, 'Sample ID': 'TR-N2-03', 'Collection Date': '' })[column] ?? '');
     expect(mapResultRow(cells, 4, context)).toMatchObject({ ok: false, rejection: { code: 'no-collection-date', line: 4, field: 'Sample ID' } });
   });
+
+  it('refuses a pattern sample ID whose encoded date does not exist, rather than guessing from the collection date', () => {
+    // 2026-13-45 is no calendar date (common practice, no source: a mistyped label is refused, not repaired).
+    expect(nf({ 'Sample ID': 'TR-N1-07-20261345' })).toMatchObject({ ok: false, rejection: { code: 'bad-date', field: 'Sample ID' } });
+  });
 });
 
 describe('mapRopeRow', () => {
