@@ -20,7 +20,7 @@ export const REJECTION_CODES = {
   'unknown-assay': 'the lab assay name is not in the lab profile',
   'bad-ct': 'the Ct cell is neither a number nor a configured not-detected token',
   'ct-out-of-range': 'the Ct is outside (0, 60] cycles, or a 0 the lab profile does not declare as not detected',
-  'bad-date': 'a date cell does not match the profile date format',
+  'bad-date': 'a date cell does not match the profile date format, or a location-coded sample ID carries an impossible date',
   'unknown-site': 'the site is not in sites.yaml',
   'unknown-barn': 'the barn is not on that site',
   'unknown-pen': 'the pen is not in that barn layout',
