@@ -228,7 +228,3 @@ export const labProfileSchema = z
     assays: z.record(z.string(), labAssaySchema),
   })
   .strict();
-
-export type SitesFileRaw = z.input<typeof sitesFileSchema>;
-export type AssaysFileRaw = z.input<typeof assaysFileSchema>;
-export type LabProfileRaw = z.input<typeof labProfileSchema>;

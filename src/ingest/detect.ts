@@ -17,7 +17,6 @@ export const ROPE_SHEET_COLUMNS = {
   pen: 'pen',
   hungOn: 'hung_on',
 } as const;
-export const ROPE_SHEET_OPTIONAL = ['side', 'reason', 'due_date', 'hung_by', 'notes'] as const;
 
 export type FileKind =
   | { kind: 'results'; lab: LabProfile; delimiter: Delimiter; headerLine: number; header: string[]; columnIndex: Map<string, number> }

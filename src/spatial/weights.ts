@@ -356,21 +356,3 @@ export function denseWeights(w: SpatialWeights): number[][] {
   return dense;
 }
 
-/** Builds sparse weights from a dense matrix (any non-negative entries; diagonal ignored). */
-export function weightsFromDense(ids: readonly string[], dense: readonly (readonly number[])[], description = 'dense matrix'): SpatialWeights {
-  const n = ids.length;
-  checkIds(ids);
-  if (dense.length !== n) throw new RangeError(`\`matrix\` must have ${n} rows, got ${dense.length}`);
-  const rows: Map<number, number>[] = Array.from({ length: n }, () => new Map());
-  for (let i = 0; i < n; i++) {
-    const row = dense[i]!;
-    if (row.length !== n) throw new RangeError(`\`matrix row ${i}\` must have ${n} entries, got ${row.length}`);
-    for (let j = 0; j < n; j++) {
-      const v = row[j]!;
-      if (!(Number.isFinite(v) && v >= 0)) throw new RangeError(`\`matrix[${i}][${j}]\` must be a finite number >= 0, got ${v}`);
-      if (i !== j && v > 0) rows[i]!.set(j, v);
-    }
-  }
-  const packed = packRows(ids, rows, 'binary', description);
-  return Object.freeze({ ...packed, style: 'general' as const });
-}
