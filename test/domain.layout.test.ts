@@ -1,10 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { expandLayout, penContacts, type BarnLayout } from '../src/domain/layout.js';
+import { expandLayout, penContacts } from '../src/domain/layout.js';
+import { twoRowLayout } from './helpers/layouts.js';
 
-const twoRows: BarnLayout = {
-  rows: 2, pensPerRow: 4, numbering: 'per-row', rowLabels: ['A', 'B'], padDigits: 0,
-  penWidth: 1, penDepth: 1, alleyWidth: 0.5, gapsAfter: [], gapWidth: 1, empty: ['B2'], outOfUse: [],
-};
+const twoRows = twoRowLayout({ empty: ['B2'] });
 
 describe('barn layout', () => {
   it('labels pens per row as painted on the gate and places rows across the alley', () => {

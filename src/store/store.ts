@@ -9,7 +9,6 @@
 import Database from 'better-sqlite3';
 import fs from 'node:fs';
 import path from 'node:path';
-import type { ResultClass } from '../interpret/classify.js';
 import type { RowRejection } from '../ingest/errors.js';
 import type { ResultRow, RopeRow } from '../ingest/rows.js';
 import { MIGRATIONS } from './migrations.js';
@@ -35,24 +34,11 @@ export interface StoredRope {
   source: 'sheet' | 'sample-pattern' | 'plan';
 }
 
-export interface StoredResult {
-  id: number;
-  fileId: number;
-  labId: string;
-  sampleId: string;
-  assayId: string;
-  ct: number | null;
-  ctRaw: string;
-  labCall: string | null;
-  accession: string | null;
-  collectedOn: string | null;
-  reportedOn: string | null;
-  resultClass: ResultClass;
-  reason: string;
-  loadBand: string | null;
-  cycleLimit: number;
-  callDiffers: boolean;
-}
+/** A current result as the analysis reads it: the stored row's fields plus its ids. */
+export type StoredResult = Pick<
+  ResultRow,
+  'labId' | 'sampleId' | 'assayId' | 'ct' | 'ctRaw' | 'labCall' | 'accession' | 'collectedOn' | 'reportedOn' | 'resultClass' | 'reason' | 'loadBand' | 'cycleLimit' | 'callDiffers'
+> & { id: number; fileId: number };
 
 export interface PlannedRope {
   sampleId: string;

@@ -1,7 +1,6 @@
 /**
- * Helpers for the page tests: run the demo into a temp folder and write its pages (so the tests
- * work whether or not the pipeline already calls writeSitePages), and launch Debian's headless
- * Chromium through playwright-core.
+ * Helpers for the page tests: run the demo into a temp folder, rewrite its outputs (after an
+ * optional config edit), and launch Debian's headless Chromium through playwright-core.
  */
 import fs from 'node:fs';
 import os from 'node:os';
@@ -9,9 +8,7 @@ import path from 'node:path';
 import type { CliIo } from '../../src/cli/io.js';
 import { runDemo } from '../../src/demo/runDemo.js';
 import { DEMO_TODAY } from '../../src/demo/scenario.js';
-import { analyseSite, type SiteAnalysis } from '../../src/outputs.js';
-import { OutbreakCache } from '../../src/analysis/spatialRound.js';
-import { writeIndex, writeSitePages } from '../../src/report/pages.js';
+import { regenerateOutputs, type SiteAnalysis } from '../../src/outputs.js';
 import { openWorkspace, type WorkspacePaths } from '../../src/workspace.js';
 
 export const CHROMIUM = '/usr/bin/chromium';
@@ -45,16 +42,10 @@ export async function buildDemoPages(options: { editConfig?: (configDir: string)
   await runDemo(collectingIo(root), paths, false);
   options.editConfig?.(paths.configDir);
   const ws = openWorkspace(paths, () => new Date(DEMO_TODAY), () => {});
-  const analyses: SiteAnalysis[] = [];
+  let analyses: SiteAnalysis[];
   try {
-    const results = ws.store.currentResults();
-    const cache = new OutbreakCache(ws.config.analysis);
-    for (const site of ws.config.sites) {
-      const analysis = analyseSite(ws, site, results, cache);
-      writeSitePages(ws.outbox, ws.config, analysis);
-      analyses.push(analysis);
-    }
-    writeIndex(ws.outbox, ws.config);
+    // The same call a drop triggers: every site's outputs, pages and the index.
+    analyses = regenerateOutputs(ws);
   } finally {
     ws.close();
   }

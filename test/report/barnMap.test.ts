@@ -1,26 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import type { BarnLayout } from '../../src/domain/layout.js';
 import { barnGeometry, renderBarnMap, type PenMark } from '../../src/report/html/barnMap.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { twoRowLayout } from '../helpers/layouts.js';
 
 /** A 2 x 4 barn: rows A (top) and B, pens 1 x 1, alley 0.5 (all in pen units). */
-function layout(overrides: Partial<BarnLayout> = {}): BarnLayout {
-  return {
-    rows: 2,
-    pensPerRow: 4,
-    numbering: 'per-row',
-    rowLabels: ['A', 'B'],
-    padDigits: 0,
-    penWidth: 1,
-    penDepth: 1,
-    alleyWidth: 0.5,
-    gapsAfter: [],
-    gapWidth: 1,
-    empty: [],
-    outOfUse: [],
-    ...overrides,
-  };
-}
+const layout = twoRowLayout;
 
 const rect = (geometry: ReturnType<typeof barnGeometry>, id: string) => {
   const found = geometry.pens.find((pen) => pen.id === id);

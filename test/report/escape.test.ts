@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import type { BarnLayout } from '../../src/domain/layout.js';
 import { renderBarnMap } from '../../src/report/html/barnMap.js';
 import { escapeHtml, safeId } from '../../src/report/html/escape.js';
 import { renderPage } from '../../src/report/html/page.js';
+import { twoRowLayout } from '../helpers/layouts.js';
 
 describe('escapeHtml', () => {
   it('replaces the five characters that end text or an attribute in HTML', () => {
@@ -26,20 +26,7 @@ describe('safeId', () => {
 });
 
 describe('hostile names on pages', () => {
-  const layout: BarnLayout = {
-    rows: 2,
-    pensPerRow: 2,
-    numbering: 'per-row',
-    rowLabels: ['<b>', 'x"&'],
-    padDigits: 0,
-    penWidth: 1,
-    penDepth: 1,
-    alleyWidth: 0.5,
-    gapsAfter: [],
-    gapWidth: 1,
-    empty: [],
-    outOfUse: [],
-  };
+  const layout = twoRowLayout({ pensPerRow: 2, rowLabels: ['<b>', 'x"&'] });
 
   it('shows a pen or barn name with <&"> as text in the map, never as markup', () => {
     const svg = renderBarnMap({ id: 'B<1>', name: 'Barn "<script>"', layout }, { key: 'B<1>', scale: 30, detail: 'full', title: 'Barn "<script>" & co' });
