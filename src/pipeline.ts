@@ -95,7 +95,7 @@ export async function processFile(ws: Workspace, file: string, plannedIdCheck: P
   let movedTo = file;
   if (fs.existsSync(file)) {
     if (receipt.status === 'rejected') {
-      movedTo = freeDestination(path.join(inboxOf, REJECTED_DIR), name, receipt.sha256 || String(Date.now()));
+      movedTo = freeDestination(path.join(inboxOf, REJECTED_DIR), name, receipt.sha256 || stamp);
       moveFile(file, movedTo);
       writeFileAtomic(`${movedTo}.reason.txt`, receiptText(receipt));
     } else {

@@ -251,22 +251,23 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     siteCode: site.code,
     round: roundNumber,
     dueDate: due.dueDate,
-    barns: models.map((model, index) => ({
-      barnId: model.barn.id,
-      layout: model.barn.layout,
-      roundIndex: rounds.length,
-      routineRopes: routine[index]!,
-      positives: pensWhere(model.barn.id, 'positivePens'),
-      suspects: pensWhere(model.barn.id, 'suspectPens'),
-      invalids: pensWhere(model.barn.id, 'invalidPens'),
-      clusters: clustersOf(model.barn.id),
-      ringDistance: program.followUpRadius,
-      ...(program.followUpRopes !== undefined ? { maxExtraRopes: program.followUpRopes } : {}),
-      ...(() => {
-        const detectSet = onwardDetect(model, pensWhere(model.barn.id, 'positivePens'));
-        return detectSet ? { detectSet } : {};
-      })(),
-    })),
+    barns: models.map((model, index) => {
+      const positives = pensWhere(model.barn.id, 'positivePens');
+      const detectSet = onwardDetect(model, positives);
+      return {
+        barnId: model.barn.id,
+        layout: model.barn.layout,
+        roundIndex: rounds.length,
+        routineRopes: routine[index]!,
+        positives,
+        suspects: pensWhere(model.barn.id, 'suspectPens'),
+        invalids: pensWhere(model.barn.id, 'invalidPens'),
+        clusters: clustersOf(model.barn.id),
+        ringDistance: program.followUpRadius,
+        ...(program.followUpRopes !== undefined ? { maxExtraRopes: program.followUpRopes } : {}),
+        ...(detectSet ? { detectSet } : {}),
+      };
+    }),
   });
   const rows = keepEarlierIds(
     plan.rows.map((row) => ({ ...row, siteId: site.id })),

@@ -2,7 +2,7 @@
  * The round model: for one site, every round with its barns, pens and per-assay results. This
  * plain value is what statistics, spatial analysis, planning and reports all read. Pure.
  */
-import type { Site } from '../config/types.js';
+import type { Barn, Site } from '../config/types.js';
 import { CLASS_SEVERITY, type ResultClass } from './classify.js';
 import { formRounds, type DatedRope } from './rounds.js';
 
@@ -95,6 +95,12 @@ export interface PlannedInput {
   afterRound: number;
 }
 
+/** A pen's index in its barn's layout order (pens are listed row by row along the alley). */
+function layoutOrder(barn: Barn, penId: string): number {
+  const pen = barn.penById.get(penId.toUpperCase())!;
+  return pen.row * barn.layout.pensPerRow + pen.position;
+}
+
 function emptyTally(): AssayTally {
   return { positive: 0, suspect: 0, negative: 0, invalid: 0, positivePens: [], suspectPens: [], invalidPens: [], testedPens: [] };
 }
@@ -168,7 +174,8 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         .filter((rope) => rope.afterRound === round.number - 1 && rope.barnId === barn.id && !pens.get(rope.penId)?.returned)
         .map((rope) => rope.sampleId);
       missing.push(...plannedMissing);
-      const penList = [...pens.values()].sort((a, b) => barn.pens.findIndex((p) => p.id === a.penId) - barn.pens.findIndex((p) => p.id === b.penId));
+      // Layout order (row, then position along the alley), as the barn's pens are listed.
+      const penList = [...pens.values()].sort((a, b) => layoutOrder(barn, a.penId) - layoutOrder(barn, b.penId));
       const byAssay: Record<string, AssayTally> = {};
       for (const pen of penList) {
         for (const result of Object.values(pen.results)) {
