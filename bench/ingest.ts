@@ -20,7 +20,6 @@ import Database from 'better-sqlite3';
 import { parse } from 'csv-parse';
 import { addDays, format } from 'date-fns';
 import { ingestFile } from '../src/ingest/ingestFile.js';
-import { plannedIdChecker } from '../src/ingest/plannedIds.js';
 import { processFile } from '../src/pipeline.js';
 import { openWorkspace } from '../src/workspace.js';
 import { NORTHFIELD_HEADER, northfieldLine, patternSampleId, writeManySiteConfig } from '../test/helpers/hardening.js';
@@ -107,12 +106,11 @@ async function runChild(mode: 'store' | 'pipeline', file: string, dir: string, r
   const target = path.join(paths.inbox, path.basename(file));
   fs.copyFileSync(file, target);
   const ws = openWorkspace(paths, () => new Date('2026-12-01T12:00:00Z'), () => {});
-  const check = plannedIdChecker(ws.config);
   const started = performance.now();
   const receipt =
     mode === 'pipeline'
-      ? (await processFile(ws, target, check)).receipt
-      : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now, plannedIdCheck: check, regenerate: () => {} });
+      ? (await processFile(ws, target)).receipt
+      : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now, regenerate: () => {} });
   const ms = performance.now() - started;
   const siteRounds = mode === 'pipeline' ? ws.config.sites.reduce((sum, site) => sum + (fs.existsSync(path.join(paths.outbox, site.id)) ? fs.readdirSync(path.join(paths.outbox, site.id)).filter((entry) => /^r\d+-/.test(entry)).length : 0), 0) : 0;
   const stored = ws.store.counts().results;

@@ -12,7 +12,6 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { ingestFile } from '../src/ingest/ingestFile.js';
-import { plannedIdChecker } from '../src/ingest/plannedIds.js';
 import { regenerateOutputs } from '../src/outputs.js';
 import { openWorkspace } from '../src/workspace.js';
 import { writeManySiteConfig } from '../test/helpers/hardening.js';
@@ -36,7 +35,7 @@ export async function benchRecompute(sites = 200): Promise<BenchRow[]> {
     writeBigExport(file, rows, shape, EVERY);
     const ws = openWorkspace(paths, () => new Date('2026-12-01T12:00:00Z'), () => {});
     try {
-      const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now, plannedIdCheck: plannedIdChecker(ws.config), regenerate: () => {} });
+      const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now, regenerate: () => {} });
       if (receipt.status !== 'accepted') throw new Error(`recompute export refused: ${JSON.stringify(receipt.reason)}`);
       const started = performance.now();
       const analyses = regenerateOutputs(ws);

@@ -7,7 +7,6 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { ingestFile, OutputError, type Receipt } from './ingest/ingestFile.js';
-import type { PlannedIdCheck } from './ingest/rows.js';
 import { regenerateOutputs } from './outputs.js';
 import { writeFileAtomic, writeJson } from './report/files.js';
 import type { Workspace } from './workspace.js';
@@ -72,12 +71,11 @@ export interface ProcessOutcome {
  * Processes one inbox file end to end.
  * @throws OutputError when outputs cannot be written: nothing stored, the file stays where it is.
  */
-export async function processFile(ws: Workspace, file: string, plannedIdCheck: PlannedIdCheck): Promise<ProcessOutcome> {
+export async function processFile(ws: Workspace, file: string): Promise<ProcessOutcome> {
   const receipt = await ingestFile(file, {
     config: ws.config,
     store: ws.store,
     now: ws.now,
-    plannedIdCheck,
     regenerate: (siteIds) => {
       regenerateOutputs(ws, siteIds);
     },

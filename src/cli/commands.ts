@@ -7,7 +7,6 @@ import path from 'node:path';
 import type { Command } from 'commander';
 import { ConfigError } from '../config/load.js';
 import { OutputError, type Receipt } from '../ingest/ingestFile.js';
-import { plannedIdChecker } from '../ingest/plannedIds.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
 import { regenerateOutputs } from '../outputs.js';
 import { planText } from '../report/planText.js';
@@ -67,12 +66,11 @@ function receiptLine(receipt: Receipt): string {
 
 /** Runs files through the pipeline in order; returns receipts. Exit 1 follows from refusals. */
 export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<{ receipts: Receipt[]; failed: boolean }> {
-  const check = plannedIdChecker(ws.config);
   const receipts: Receipt[] = [];
   let failed = false;
   for (const file of files) {
     try {
-      const { receipt } = await processFile(ws, file, check);
+      const { receipt } = await processFile(ws, file);
       receipts.push(receipt);
       if (receipt.status === 'rejected' || receipt.rows.rejected > 0) failed = true;
       if (!json) io.stdout(`${receiptLine(receipt)}\n`);
@@ -111,7 +109,6 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
     if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
     await withWorkspace(io, options, async (ws) => {
       fs.mkdirSync(ws.inbox, { recursive: true });
-      const check = plannedIdChecker(ws.config);
       io.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
       await watchInbox({
         inbox: ws.inbox,
@@ -122,7 +119,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         onError: (error, file) => io.stderr(`ropewatch: ${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}\n`),
         onFile: async (file) => {
           try {
-            const { receipt } = await processFile(ws, file, check);
+            const { receipt } = await processFile(ws, file);
             io.stdout(`${receiptLine(receipt)}\n`);
           } catch (error) {
             if (error instanceof OutputError) io.stderr(`ropewatch: ${error.message}\n`);

@@ -9,7 +9,6 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { UsageError, type CliIo } from '../cli/io.js';
 import { loadConfig } from '../config/load.js';
-import { plannedIdChecker } from '../ingest/plannedIds.js';
 import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
 import { Store } from '../store/store.js';
@@ -58,7 +57,6 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
   const outcome: DemoOutcome = { drops: [] };
   try {
     ws.store.setMeta(DEMO_MARKER, 'true');
-    const check = plannedIdChecker(config);
     const events = [
       ...HOLLOW_CREEK_ROUNDS.map((date, index) => ({ date, make: () => hollowCreekRound(config, index, plannedFor(ws.store, 'hollow-creek', index)) })),
       ...TAMSIN_RIDGE_ROUNDS.map((date, index) => ({ date, make: () => tamsinRidgeRound(config, index, plannedFor(ws.store, 'tamsin-ridge', index)) })),
@@ -69,7 +67,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
         clock = new Date(drop.at);
         const file = path.join(paths.inbox, drop.name);
         fs.writeFileSync(file, drop.bytes);
-        const { receipt } = await processFile(ws, file, check);
+        const { receipt } = await processFile(ws, file);
         outcome.drops.push({ name: drop.name, status: receipt.status, note: drop.note });
         io.stdout(`${drop.at.slice(0, 10)}  ${receipt.status.padEnd(9)} ${drop.name}  (${drop.note})\n`);
       }

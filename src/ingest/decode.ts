@@ -77,63 +77,98 @@ export function sniffEncoding(head: Uint8Array, declared: TextEncoding | 'auto')
 }
 
 /**
- * A stream of bytes to a stream of text with CRLF and lone CR folded to LF.
- * @throws EncodingError (through the stream) naming the line of the first invalid byte.
+ * Bytes to text, chunk by chunk, with CRLF and lone CR folded to LF.
+ * @throws EncodingError naming the line of the first invalid byte.
  */
-export function decodeStream(sniffed: Sniffed): Transform {
-  const label = sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding;
-  const decoder = new TextDecoder(label, { fatal: sniffed.encoding !== 'latin1', ignoreBOM: true });
-  // A lenient twin fed the same bytes: when the strict decoder fails on a chunk, the twin's
-  // output up to its first U+FFFD tells on which line the bad byte sits (a chunk holds many lines).
-  const twin = new TextDecoder(label, { fatal: false, ignoreBOM: true });
-  const lineOfBadByte = (lenient: string): number => {
+export class TextChunkDecoder {
+  private readonly decoder: TextDecoder;
+  /** A lenient twin fed the same bytes: when the strict decoder fails on a chunk, the twin's
+   * output up to its first U+FFFD tells on which line the bad byte sits (a chunk holds many lines). */
+  private readonly twin: TextDecoder;
+  private skip: number;
+  private pendingCr = false;
+  private line = 1;
+
+  constructor(private readonly sniffed: Sniffed) {
+    const label = sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding;
+    this.decoder = new TextDecoder(label, { fatal: sniffed.encoding !== 'latin1', ignoreBOM: true });
+    this.twin = new TextDecoder(label, { fatal: false, ignoreBOM: true });
+    this.skip = sniffed.bomLength;
+  }
+
+  decode(chunk: Uint8Array): string {
+    let bytes = chunk;
+    if (this.skip > 0) {
+      const cut = Math.min(this.skip, bytes.length);
+      bytes = bytes.subarray(cut);
+      this.skip -= cut;
+    }
+    let text: string;
+    try {
+      text = this.decoder.decode(bytes, { stream: true });
+    } catch {
+      const badLine = this.lineOfBadByte(this.twin.decode(bytes, { stream: true }));
+      throw new EncodingError(badLine, `the bytes on line ${badLine} are not valid ${this.sniffed.encoding}`);
+    }
+    // The twin must see every chunk to stay in step; it only runs the strict decoder's course.
+    if (this.sniffed.encoding !== 'latin1') this.twin.decode(bytes, { stream: true });
+    return this.fold(text);
+  }
+
+  end(): string {
+    try {
+      return this.fold(this.decoder.decode());
+    } catch {
+      throw new EncodingError(this.line, `the file ends inside an incomplete ${this.sniffed.encoding} character (line ${this.line})`);
+    }
+  }
+
+  private lineOfBadByte(lenient: string): number {
     let prefix = lenient.slice(0, Math.max(0, lenient.indexOf('\uFFFD')));
-    if (pendingCr && prefix.startsWith('\n')) prefix = prefix.slice(1);
-    return line + (prefix.match(/\r\n|\r|\n/g)?.length ?? 0);
-  };
-  let skip = sniffed.bomLength;
-  let pendingCr = false;
-  let line = 1;
-  const fold = (text: string): string => {
+    if (this.pendingCr && prefix.startsWith('\n')) prefix = prefix.slice(1);
+    return this.line + (prefix.match(/\r\n|\r|\n/g)?.length ?? 0);
+  }
+
+  private fold(text: string): string {
     // A chunk that ends inside a character decodes to nothing: it must not clear a pending CR,
     // or a UTF-16 CRLF split after its CR would become two line breaks.
     if (text === '') return '';
     let input = text;
-    if (pendingCr) {
+    if (this.pendingCr) {
       if (input.startsWith('\n')) input = input.slice(1);
-      pendingCr = false;
+      this.pendingCr = false;
     }
     if (input.endsWith('\r')) {
-      pendingCr = true;
+      this.pendingCr = true;
       input = input.slice(0, -1) + '\n';
     }
-    const out = input.replace(/\r\n?/g, '\n');
-    for (let i = out.indexOf('\n'); i !== -1; i = out.indexOf('\n', i + 1)) line++;
+    const out = input.indexOf('\r') === -1 ? input : input.replace(/\r\n?/g, '\n');
+    for (let i = out.indexOf('\n'); i !== -1; i = out.indexOf('\n', i + 1)) this.line++;
     return out;
-  };
+  }
+}
+
+/**
+ * A stream of bytes to a stream of text with CRLF and lone CR folded to LF (TextChunkDecoder).
+ * @throws EncodingError (through the stream) naming the line of the first invalid byte.
+ */
+export function decodeStream(sniffed: Sniffed): Transform {
+  const decoder = new TextChunkDecoder(sniffed);
   return new Transform({
     readableObjectMode: false,
     decodeStrings: true,
     transform(chunk: Buffer, _encoding, callback: TransformCallback) {
-      let bytes: Uint8Array = chunk;
-      if (skip > 0) {
-        const cut = Math.min(skip, bytes.length);
-        bytes = bytes.subarray(cut);
-        skip -= cut;
-      }
-      const lenient = twin.decode(bytes, { stream: true });
       try {
-        callback(null, fold(decoder.decode(bytes, { stream: true })));
-      } catch {
-        const badLine = lineOfBadByte(lenient);
-        callback(new EncodingError(badLine, `the bytes on line ${badLine} are not valid ${sniffed.encoding}`));
+        callback(null, decoder.decode(chunk));
+      } catch (error) {
+        callback(error as Error);
       }
     },
     flush(callback: TransformCallback) {
       try {
-        callback(null, fold(decoder.decode()));
-      } catch {
-        callback(new EncodingError(line, `the file ends inside an incomplete ${sniffed.encoding} character (line ${line})`));
+        callback(null, decoder.end());
+      } catch (error) {
+        callback(error as Error);
       }
     },
   });

@@ -6,16 +6,22 @@
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
-import { parse } from 'csv-parse';
 import type { Config } from '../config/types.js';
 import { FileAlreadyStoredError, type Store, type StoredFile } from '../store/store.js';
-import { BinaryContentError, decodeHead, decodeStream, EncodingError, sniffEncoding } from './decode.js';
+import { UnclosedQuoteError } from './csvRecords.js';
+import { BinaryContentError, decodeHead, EncodingError, sniffEncoding } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
-import { mapResultRow, mapRopeRow, type PlannedIdCheck, type ResultRow, type RopeRow } from './rows.js';
+import { mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
+import { plannedIdChecker } from './plannedIds.js';
+import { workerBatches } from './workerBatches.js';
 
-export const BATCH_ROWS = 2000;
 const HEAD_BYTES = 64 * 1024;
+/**
+ * Files at least this big are read and mapped on a worker thread while this one stores: below
+ * it, starting a worker costs more than it saves.
+ */
+export const PARSE_IN_WORKER_FROM_BYTES = 4 * 1024 * 1024;
 /** Rejected rows listed in full in a receipt; the rest are counted (all are in the store). */
 const RECEIPT_ROW_LIMIT = 500;
 /** Rejected files up to this size keep their bytes in the store too. */
@@ -48,12 +54,13 @@ export interface IngestDeps {
   config: Config;
   store: Store;
   now: () => Date;
-  plannedIdCheck: PlannedIdCheck;
   /**
    * Rewrites the outputs of these sites from the store, inside the file's transaction: if it
    * throws (read-only or full outbox), the file is rolled back and stays in the inbox.
    */
   regenerate: (siteIds: readonly string[]) => void;
+  /** Read and map files of at least this many bytes on a worker thread (default PARSE_IN_WORKER_FROM_BYTES). */
+  parseInWorkerFromBytes?: number;
 }
 
 /** Thrown when outputs could not be written: the store is unchanged and the file stays put. */
@@ -80,15 +87,6 @@ function readHead(file: string): Buffer {
   } finally {
     fs.closeSync(handle);
   }
-}
-
-/** Line breaks inside the fields of a record (quoted multi-line cells). */
-function lineBreaksInside(record: readonly string[]): number {
-  let breaks = 0;
-  for (const field of record) {
-    for (let i = field.indexOf('\n'); i !== -1; i = field.indexOf('\n', i + 1)) breaks++;
-  }
-  return breaks;
 }
 
 function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt {
@@ -188,9 +186,6 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
   receipt.lab = kind.kind === 'results' ? kind.lab.id : null;
   receipt.encoding = sniffed.note;
 
-  // Last line of the last record read: an unclosed quote opens on the record after it, while
-  // csv-parse reports the line where the file ended.
-  let lastRecordEnd = kind.headerLine;
   let fileId: number;
   try {
     fileId = deps.store.beginFile({
@@ -208,24 +203,6 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     throw error;
   }
   try {
-    const parser = parse({
-      delimiter: kind.delimiter,
-      from_line: kind.headerLine + 1,
-      relax_column_count: true,
-      relax_quotes: true,
-      // Empty lines come through as records and are skipped below. Line endings are folded to LF
-      // before parsing, so a record spans one line plus one per line break inside its fields:
-      // exact line numbers without csv-parse's costly info and raw options.
-      skip_empty_lines: false,
-    });
-    const source = fs.createReadStream(file).pipe(decodeStream(sniffed));
-    source.on('error', (error) => parser.destroy(error));
-    source.pipe(parser);
-
-    const width = kind.header.length;
-    let resultBatch: ResultRow[] = [];
-    let ropeBatch: RopeRow[] = [];
-    const rejections: RowRejection[] = [];
     const addRejections = (list: readonly RowRejection[]) => {
       if (list.length === 0) return;
       deps.store.insertRejections(fileId, list);
@@ -235,54 +212,19 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
         else receipt.rejectedRowsNotListed++;
       }
     };
-    const flush = () => {
-      const counts = kind.kind === 'results' ? deps.store.insertResults(fileId, resultBatch) : deps.store.insertRopes(fileId, ropeBatch);
+    const store = (batch: MappedBatch) => {
+      const counts = kind.kind === 'results' ? deps.store.insertResults(fileId, batch.results) : deps.store.insertRopes(fileId, batch.ropes);
       receipt.rows.accepted += counts.inserted;
       receipt.rows.duplicate += counts.duplicates;
       receipt.rows.superseded += counts.superseded;
       receipt.warnings.push(...counts.warnings);
-      addRejections(rejections.splice(0));
+      addRejections(batch.rejections);
       addRejections(counts.rejections);
-      resultBatch = [];
-      ropeBatch = [];
     };
 
-    const resultContext =
-      kind.kind === 'results'
-        ? { fileName: name, lab: kind.lab, columnIndex: kind.columnIndex, assayById: deps.config.assayById, sites: deps.config.sites, plannedIdCheck: deps.plannedIdCheck }
-        : undefined;
-    const ropeContext = { fileName: name, columnIndex: kind.columnIndex, sites: deps.config.sites, plannedIdCheck: deps.plannedIdCheck };
-
-    for await (const record of parser as AsyncIterable<string[]>) {
-      const line = lastRecordEnd + 1;
-      lastRecordEnd = line + lineBreaksInside(record);
-      if (record.length === 1 && record[0]!.trim() === '') continue;
-      if (record.length !== width) {
-        // Trailing empty cells (a common export habit) do not make a row ragged.
-        const trimmed = record.length > width && record.slice(width).every((cell) => cell.trim() === '');
-        if (!trimmed) {
-          rejections.push({
-            line,
-            field: undefined,
-            code: 'ragged-row',
-            value: record.join(kind.delimiter).slice(0, 200),
-            message: `the row has ${record.length} fields, the header ${width}`,
-          });
-          continue;
-        }
-      }
-      if (resultContext) {
-        const outcome = mapResultRow(record, line, resultContext);
-        if (outcome.ok) resultBatch.push(outcome.row);
-        else rejections.push(outcome.rejection);
-      } else {
-        const outcome = mapRopeRow(record, line, ropeContext);
-        if (outcome.ok) ropeBatch.push(outcome.row);
-        else rejections.push(outcome.rejection);
-      }
-      if (resultBatch.length + ropeBatch.length + rejections.length >= BATCH_ROWS) flush();
-    }
-    flush();
+    const input: MappingInput = { file, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById };
+    const batches = size >= (deps.parseInWorkerFromBytes ?? PARSE_IN_WORKER_FROM_BYTES) ? workerBatches(input) : mappedBatches(input, plannedIdChecker(deps.config));
+    for await (const batch of batches) store(batch);
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
       return reject(new IngestError('empty-file', name, kind.headerLine, undefined, undefined, 'the file has a header but no data rows'), receipt.lab);
@@ -310,11 +252,9 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     if (error instanceof EncodingError) {
       return reject(new IngestError('invalid-encoding', name, error.line, undefined, undefined, `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`), receipt.lab);
     }
-    const code = (error as { code?: string }).code;
-    if (typeof code === 'string' && code.startsWith('CSV_')) {
-      const csvLine = code === 'CSV_QUOTE_NOT_CLOSED' ? lastRecordEnd + 1 : (error as { lines?: number }).lines;
+    if (error instanceof UnclosedQuoteError) {
       return reject(
-        new IngestError('malformed-csv', name, csvLine, undefined, undefined, `the file is not well-formed CSV (${(error as Error).message.split(':')[0]}); rows after it cannot be trusted`),
+        new IngestError('malformed-csv', name, error.line, undefined, undefined, `the file is not well-formed CSV (${error.message}); rows after it cannot be trusted`),
         receipt.lab,
       );
     }

@@ -2,14 +2,14 @@
  * One parsed CSV record to one stored row, or to a refusal naming the line and field. Pure: all
  * context (lab profile, sites, header index, the planned-ID check) is passed in.
  */
-import { createHash } from 'node:crypto';
+import { hash } from 'node:crypto';
 import { format as formatDate, isValid, parse as parseDate } from 'date-fns';
 import { foldToken } from '../config/load.js';
 import { canonicalPenKey } from '../domain/layout.js';
-import type { Assay, LabProfile, Site } from '../config/types.js';
-import { classify, type ResultClass } from '../interpret/classify.js';
-import { readCt } from '../interpret/ct.js';
-import { rowRejection, type RowRejection } from './errors.js';
+import type { Assay, LabAssay, LabProfile, Site } from '../config/types.js';
+import { classify, type Interpretation, type ResultClass } from '../interpret/classify.js';
+import { readCt, type CtReading } from '../interpret/ct.js';
+import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
 
 /** How a sample ID is compared: capitals, no spaces. */
 export function normaliseSampleId(raw: string): string {
@@ -96,7 +96,8 @@ export interface ResultRow {
   markedReissue: boolean;
   /** The lab's own call disagrees with the class from the cutoffs (kept for review). */
   callDiffers: boolean;
-  naturalKey: string;
+  /** Identifies what the lab reported for this sample, assay and lab (see contentKey). */
+  contentKey: number;
   /** Location carried by the sample ID itself (site sample pattern). */
   encodedRope: RopeLocation | undefined;
 }
@@ -114,17 +115,37 @@ export interface ResultContext {
 export type RowOutcome<T> = { ok: true; row: T } | { ok: false; rejection: RowRejection };
 
 type ColumnName = keyof LabProfile['columns'];
-/** Header positions of a lab's columns, resolved once per file (context), not once per row. */
-const positionsByContext = new WeakMap<ResultContext, Readonly<Record<ColumnName, number | undefined>>>();
+type ColumnPositions = Readonly<Record<ColumnName, number | undefined>>;
 
-function columnPositions(context: ResultContext): Readonly<Record<ColumnName, number | undefined>> {
-  let positions = positionsByContext.get(context);
-  if (!positions) {
+/** Ct cell read and classified, for one lab assay and one cell text (no control failure). */
+interface CtMeaning {
+  reading: CtReading;
+  interpretation: Interpretation;
+}
+
+/**
+ * What one file's rows share, resolved once per file (per context) rather than once per row:
+ * header positions, and the meaning of each Ct text per lab assay (an export repeats
+ * "Undetermined" and a few hundred Ct values over its rows). Bounded.
+ */
+interface FileMemo {
+  positions: ColumnPositions;
+  ctMeanings: Map<LabAssay, Map<string, CtMeaning>>;
+  ctMeaningCount: number;
+  /** The last sample ID placed by pattern: a sample's assays come on neighbouring rows. */
+  lastLocated: { sampleId: string; fallbackDate: string | undefined; located: ReturnType<typeof locationFromPattern> } | undefined;
+}
+const CT_MEANING_LIMIT = 20_000;
+const memoByContext = new WeakMap<ResultContext, FileMemo>();
+
+function fileMemo(context: ResultContext): FileMemo {
+  let memo = memoByContext.get(context);
+  if (!memo) {
     const entries = Object.entries(context.lab.columns).map(([name, column]) => [name, column === undefined ? undefined : context.columnIndex.get(foldToken(column))]);
-    positions = Object.fromEntries(entries) as Record<ColumnName, number | undefined>;
-    positionsByContext.set(context, positions);
+    memo = { positions: Object.fromEntries(entries) as Record<ColumnName, number | undefined>, ctMeanings: new Map(), ctMeaningCount: 0, lastLocated: undefined };
+    memoByContext.set(context, memo);
   }
-  return positions;
+  return memo;
 }
 
 const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
@@ -157,72 +178,116 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
 
+function locateOnce(memo: FileMemo, sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): ReturnType<typeof locationFromPattern> {
+  const last = memo.lastLocated;
+  if (last !== undefined && last.sampleId === sampleId && last.fallbackDate === fallbackDate) return last.located;
+  const located = locationFromPattern(sampleId, sites, fallbackDate);
+  memo.lastLocated = { sampleId, fallbackDate, located };
+  return located;
+}
+
+/** A trimmed cell, or undefined when the lab has no such column. */
+function cellAt(cells: readonly string[], position: number | undefined): string | undefined {
+  return position === undefined ? undefined : (cells[position] ?? '').trim();
+}
+
+function refuse(code: RejectionCode, line: number, field: string | undefined, value: string | undefined, detail?: string): { ok: false; rejection: RowRejection } {
+  return { ok: false, rejection: rowRejection(code, line, field, value, detail) };
+}
+
+/** A date column: null when the lab has none or left it blank, undefined when it is not a date. */
+function dateAt(cells: readonly string[], position: number | undefined, dateFormat: string): string | null | undefined {
+  const text = cellAt(cells, position);
+  return text === undefined || text === '' ? null : parseDateCell(text, dateFormat);
+}
+
+function ctMeaning(memo: FileMemo, ctRaw: string, lab: LabProfile, labAssay: LabAssay, assay: Assay): CtMeaning {
+  let byText = memo.ctMeanings.get(labAssay);
+  const cached = byText?.get(ctRaw);
+  if (cached !== undefined) return cached;
+  const reading = readCt(ctRaw, lab, labAssay);
+  const meaning = { reading, interpretation: classify(reading, labAssay, assay, undefined) };
+  if (memo.ctMeaningCount >= CT_MEANING_LIMIT) {
+    memo.ctMeanings.clear();
+    memo.ctMeaningCount = 0;
+    byText = undefined;
+  }
+  if (byText === undefined) memo.ctMeanings.set(labAssay, (byText = new Map()));
+  byText.set(ctRaw, meaning);
+  memo.ctMeaningCount++;
+  return meaning;
+}
+
+/** The value of `cell` (internal control or lab call) when it is one of the lab's control-failure words. */
+function controlFailureWord(lab: LabProfile, ...cells: (string | null)[]): string | undefined {
+  for (const value of cells) if (value !== null && lab.controlFailedTokens.has(foldToken(value))) return value;
+  return undefined;
+}
+
+/**
+ * The key that makes a re-sent report idempotent: 52 bits of SHA-1 over what the lab reported
+ * (assay name, Ct, call, case, report date, status, control). Stored beside sample, assay and lab
+ * under one UNIQUE index, so a clash would need two different reports of the same sample and
+ * assay from the same lab to share 52 bits (about 1 in 4.5e15 for a pair).
+ */
+export function contentKey(parts: readonly string[]): number {
+  return Number.parseInt(hash('sha1', parts.join('\u001f'), 'hex').slice(0, 13), 16);
+}
+
 /** Maps one lab-export record. `line` is the 1-based line where the record starts. */
 export function mapResultRow(cells: readonly string[], line: number, context: ResultContext): RowOutcome<ResultRow> {
   const { lab } = context;
   const columns = lab.columns;
-  const positions = columnPositions(context);
-  const cell = (name: ColumnName) => {
-    const position = positions[name];
-    return position === undefined ? undefined : (cells[position] ?? '').trim();
-  };
-  const reject = (code: Parameters<typeof rowRejection>[0], field: string | undefined, value: string | undefined, detail?: string) =>
-    ({ ok: false, rejection: rowRejection(code, line, field, value, detail) }) as const;
+  const memo = fileMemo(context);
+  const at = memo.positions;
 
-  const rawSample = cell('sampleId') ?? '';
-  if (rawSample === '') return reject('missing-value', columns.sampleId, rawSample, 'the sample ID is empty');
-  const checked = context.plannedIdCheck(normaliseSampleId(rawSample));
+  const rawSample = cellAt(cells, at.sampleId) ?? '';
+  if (rawSample === '') return refuse('missing-value', line, columns.sampleId, rawSample, 'the sample ID is empty');
+  const normalised = normaliseSampleId(rawSample);
+  const checked = context.plannedIdCheck(normalised);
   if (checked.kind === 'bad-check') {
-    return reject('bad-check-character', columns.sampleId, rawSample, `sample ID ${rawSample} fails its check character: probably mistyped on the tube or at the lab`);
+    return refuse('bad-check-character', line, columns.sampleId, rawSample, `sample ID ${rawSample} fails its check character: probably mistyped on the tube or at the lab`);
   }
-  const sampleId = checked.kind === 'planned' ? checked.canonical : normaliseSampleId(rawSample);
-  const labAssayName = cell('assay') ?? '';
-  if (labAssayName === '') return reject('missing-value', columns.assay, labAssayName, 'the assay is empty');
+  const sampleId = checked.kind === 'planned' ? checked.canonical : normalised;
+  const labAssayName = cellAt(cells, at.assay) ?? '';
+  if (labAssayName === '') return refuse('missing-value', line, columns.assay, labAssayName, 'the assay is empty');
   const labAssay = lab.assays.get(foldToken(labAssayName));
-  if (!labAssay) return reject('unknown-assay', columns.assay, labAssayName, `lab ${lab.id} profile has no assay "${labAssayName}"; add it under assays: with its cutoffs`);
+  if (!labAssay) return refuse('unknown-assay', line, columns.assay, labAssayName, `lab ${lab.id} profile has no assay "${labAssayName}"; add it under assays: with its cutoffs`);
   const assay = context.assayById.get(labAssay.assayId)!;
 
-  const dateOf = (name: ColumnName) => {
-    const text = cell(name);
-    if (text === undefined || text === '') return { value: null } as const;
-    const parsed = parseDateCell(text, lab.dateFormat);
-    return parsed === undefined ? ({ error: text } as const) : ({ value: parsed } as const);
-  };
-  const collected = dateOf('collectedOn');
-  if ('error' in collected) return reject('bad-date', columns.collectedOn, collected.error, `"${collected.error}" does not match date format ${lab.dateFormat}`);
-  const reported = dateOf('reportedOn');
-  if ('error' in reported) return reject('bad-date', columns.reportedOn, reported.error, `"${reported.error}" does not match date format ${lab.dateFormat}`);
+  const collectedOn = dateAt(cells, at.collectedOn, lab.dateFormat);
+  if (collectedOn === undefined) {
+    const text = cellAt(cells, at.collectedOn)!;
+    return refuse('bad-date', line, columns.collectedOn, text, `"${text}" does not match date format ${lab.dateFormat}`);
+  }
+  const reportedOn = dateAt(cells, at.reportedOn, lab.dateFormat);
+  if (reportedOn === undefined) {
+    const text = cellAt(cells, at.reportedOn)!;
+    return refuse('bad-date', line, columns.reportedOn, text, `"${text}" does not match date format ${lab.dateFormat}`);
+  }
 
-  const ctRaw = cell('ct') ?? '';
-  const reading = readCt(ctRaw, lab, labAssay);
-  if (reading.kind === 'error') return reject(reading.code, columns.ct, ctRaw, reading.detail);
+  const ctRaw = cellAt(cells, at.ct) ?? '';
+  const meaning = ctMeaning(memo, ctRaw, lab, labAssay, assay);
+  const reading = meaning.reading;
+  if (reading.kind === 'error') return refuse(reading.code, line, columns.ct, ctRaw, reading.detail);
 
-  const labCall = cell('call') || null;
-  const control = cell('internalControl') || null;
-  const controlFailed = [control, labCall].find((value) => value !== null && lab.controlFailedTokens.has(foldToken(value)));
-  const interpretation = classify(reading, labAssay, assay, controlFailed ?? undefined);
-  const reportStatus = cell('reportStatus') || null;
+  const labCall = cellAt(cells, at.call) || null;
+  const control = cellAt(cells, at.internalControl) || null;
+  const controlFailed = controlFailureWord(lab, control, labCall);
+  const interpretation = controlFailed === undefined ? meaning.interpretation : classify(reading, labAssay, assay, controlFailed);
+  const reportStatus = cellAt(cells, at.reportStatus) || null;
   const markedReissue = reportStatus !== null && lab.reissueTokens.has(foldToken(reportStatus));
   const labCallClass = labCall === null ? undefined : LAB_CALL_WORDS[foldToken(labCall)];
   const callDiffers = labCallClass !== undefined && labCallClass !== interpretation.resultClass;
-  const accession = cell('accession') || null;
+  const accession = cellAt(cells, at.accession) || null;
 
-  let encodedRope: RopeLocation | undefined;
-  const located = locationFromPattern(sampleId, context.sites, collected.value ?? undefined);
+  const located = locateOnce(memo, sampleId, context.sites, collectedOn ?? undefined);
   if (located === 'no-date') {
-    return reject('no-collection-date', columns.sampleId, rawSample, `sample ID ${rawSample} names its pen but no date, and the row has no collection date`);
+    return refuse('no-collection-date', line, columns.sampleId, rawSample, `sample ID ${rawSample} names its pen but no date, and the row has no collection date`);
   }
   if (located === 'bad-date') {
-    return reject('bad-date', columns.sampleId, rawSample, `sample ID ${rawSample} carries a date that does not exist (yyyymmdd expected)`);
+    return refuse('bad-date', line, columns.sampleId, rawSample, `sample ID ${rawSample} carries a date that does not exist (yyyymmdd expected)`);
   }
-  if (located) encodedRope = located;
-
-  // The key starts with sample, assay and lab so that rows of one sample sit together in the
-  // unique index (inserts stay local as the store grows); the hash covers everything reported.
-  const naturalKey = `${sampleId}|${labAssay.assayId}|${lab.id}|${createHash('sha1')
-    .update([foldToken(labAssayName), ctRaw, labCall ?? '', accession ?? '', reported.value ?? '', reportStatus ?? '', control ?? ''].join('\u001f'))
-    .digest('hex')
-    .slice(0, 24)}`;
 
   return {
     ok: true,
@@ -236,8 +301,8 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       ctRaw,
       labCall,
       accession,
-      collectedOn: collected.value,
-      reportedOn: reported.value,
+      collectedOn,
+      reportedOn,
       reportStatus,
       control,
       resultClass: interpretation.resultClass,
@@ -248,8 +313,8 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       cycleLimit: labAssay.cycleLimit,
       markedReissue,
       callDiffers,
-      naturalKey,
-      encodedRope,
+      contentKey: contentKey([foldToken(labAssayName), ctRaw, labCall ?? '', accession ?? '', reportedOn ?? '', reportStatus ?? '', control ?? '']),
+      encodedRope: located,
     },
   };
 }

@@ -6,8 +6,24 @@
  * (ON CONFLICT DO NOTHING), supersession as a linking row rather than an UPDATE that erases, and
  * every refused row kept with its file, line, field and code.
  */
-export const MIGRATIONS: readonly string[] = [
-  `
+export interface Migration {
+  sql: string;
+  /**
+   * The migration rebuilds a table that others reference: foreign keys are switched off around
+   * it and checked before it commits (the SQLite procedure for altering a table, "Making Other
+   * Kinds Of Table Schema Changes", sqlite.org/lang_altertable.html).
+   */
+  rebuildsTables?: boolean;
+}
+
+/** SQL functions the migrations call; registered on the connection before migrating. */
+export const MIGRATION_FUNCTIONS = {
+  /** A hexadecimal text of at most 13 digits (52 bits) as an integer. */
+  ropewatch_hex_to_int: (text: string): number => Number.parseInt(text, 16),
+} as const;
+
+export const MIGRATIONS: readonly Migration[] = [
+  { sql: `
   CREATE TABLE meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 
   CREATE TABLE files (
@@ -106,5 +122,85 @@ export const MIGRATIONS: readonly string[] = [
     after_round INTEGER NOT NULL
   );
   CREATE INDEX planned_ropes_site ON planned_ropes(site_id, due_on);
+  ` },
+  {
+    // 2: sample IDs are stored once, in `samples`, and results and ropes refer to them by
+    // number; so are the reasons given for a result's class, in `reasons`. A result's natural key becomes (sample, assay, lab, content key) under one UNIQUE
+    // index, which also serves look-ups by sample; the wide text key and the separate sample
+    // indexes are gone. Integer keys keep the indexes small, and a sample seen for the first time
+    // needs no look-up for earlier reports. The content key is the first 13 hex digits (52 bits)
+    // of the hash the text key ended with, so rows already stored still match when re-sent.
+    rebuildsTables: true,
+    sql: `
+  CREATE TABLE samples (
+    id INTEGER PRIMARY KEY,
+    sample_id TEXT NOT NULL UNIQUE
+  );
+  INSERT INTO samples (sample_id)
+    SELECT sample_id FROM results UNION SELECT sample_id FROM ropes UNION SELECT sample_id FROM planned_ropes ORDER BY 1;
+
+  -- The reason given for a result's class repeats on most rows ("Undetermined" is this lab's
+  -- word for not detected): each text once.
+  CREATE TABLE reasons (
+    id INTEGER PRIMARY KEY,
+    text TEXT NOT NULL UNIQUE
+  );
+  INSERT INTO reasons (text) SELECT DISTINCT reason FROM results ORDER BY 1;
+
+  CREATE TABLE results_next (
+    id INTEGER PRIMARY KEY,
+    file_id INTEGER NOT NULL REFERENCES files(id),
+    line INTEGER NOT NULL,
+    sample INTEGER NOT NULL REFERENCES samples(id),
+    lab_id TEXT NOT NULL,
+    assay_id TEXT NOT NULL,
+    lab_assay TEXT NOT NULL,
+    ct REAL,
+    ct_raw TEXT NOT NULL,
+    lab_call TEXT,
+    accession TEXT,
+    collected_on TEXT,
+    reported_on TEXT,
+    report_status TEXT,
+    control TEXT,
+    class TEXT NOT NULL CHECK (class IN ('positive', 'suspect', 'negative', 'invalid')),
+    reason INTEGER NOT NULL REFERENCES reasons(id),
+    load_band TEXT,
+    positive_below REAL NOT NULL,
+    suspect_below REAL NOT NULL,
+    cycle_limit REAL NOT NULL,
+    call_differs INTEGER NOT NULL DEFAULT 0,
+    content_key INTEGER NOT NULL,
+    UNIQUE (sample, assay_id, lab_id, content_key)
+  );
+  INSERT INTO results_next
+    SELECT r.id, r.file_id, r.line, s.id, r.lab_id, r.assay_id, r.lab_assay, r.ct, r.ct_raw, r.lab_call, r.accession, r.collected_on, r.reported_on,
+           r.report_status, r.control, r.class, x.id, r.load_band, r.positive_below, r.suspect_below, r.cycle_limit, r.call_differs,
+           ropewatch_hex_to_int(substr(r.natural_key, -24, 13))
+    FROM results r JOIN samples s ON s.sample_id = r.sample_id JOIN reasons x ON x.text = r.reason
+    ORDER BY r.id;
+  DROP TABLE results;
+  ALTER TABLE results_next RENAME TO results;
+
+  CREATE TABLE ropes_next (
+    id INTEGER PRIMARY KEY,
+    sample INTEGER NOT NULL UNIQUE REFERENCES samples(id),
+    site_id TEXT NOT NULL,
+    barn_id TEXT NOT NULL,
+    pen_id TEXT NOT NULL,
+    hung_on TEXT NOT NULL,
+    source TEXT NOT NULL CHECK (source IN ('sheet', 'sample-pattern')),
+    file_id INTEGER NOT NULL REFERENCES files(id),
+    line INTEGER NOT NULL,
+    note TEXT
+  );
+  INSERT INTO ropes_next
+    SELECT h.id, s.id, h.site_id, h.barn_id, h.pen_id, h.hung_on, h.source, h.file_id, h.line, h.note
+    FROM ropes h JOIN samples s ON s.sample_id = h.sample_id
+    ORDER BY h.id;
+  DROP TABLE ropes;
+  ALTER TABLE ropes_next RENAME TO ropes;
+  CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, barn_id, pen_id, hung_on);
   `,
+  },
 ];

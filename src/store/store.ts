@@ -11,7 +11,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { RowRejection } from '../ingest/errors.js';
 import type { ResultRow, RopeRow } from '../ingest/rows.js';
-import { MIGRATIONS } from './migrations.js';
+import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
 
 export interface StoredFile {
   id: number;
@@ -74,6 +74,23 @@ export class FileAlreadyStoredError extends Error {
   }
 }
 
+/** What the open file knows of one sample. */
+interface SampleInFile {
+  key: number;
+  /** The store held results for it before this file. */
+  hadResults: boolean;
+  /** "assay|lab" of the rows this file has stored for it (a sample has a few assays). */
+  reported: string[];
+  /** Where this file has placed its encoded rope ("site/barn/pen/day"). */
+  ropedAt: string | undefined;
+  /** Noted in temp.file_samples (the file stored a result for it). */
+  listed: boolean;
+}
+/** Samples remembered per file; rows of one sample usually sit together. */
+const SAMPLES_REMEMBERED = 10_000;
+/** Reason texts remembered: a few per Ct value and assay. */
+const REASONS_REMEMBERED = 50_000;
+
 export interface StoreOptions {
   busyTimeoutMs?: number;
 }
@@ -83,8 +100,15 @@ export class Store {
   private inFile = false;
   /** Highest result and rope row ids before the open file: its own rows are the ones above. */
   private fileStart = { result: 0, rope: 0 };
-  /** Encoded ropes already placed by the open file (sample ID -> location), bounded. */
-  private readonly encodedRopesThisFile = new Map<string, string>();
+  /**
+   * Samples the open file has met (sample ID -> state), bounded: a sample's rows usually sit
+   * together. A sample dropped from here is looked up again, never assumed new.
+   */
+  private readonly samplesThisFile = new Map<string, SampleInFile>();
+  /** Whether the last sample met was new to the store: files are mostly one or the other. */
+  private lastSampleWasNew = false;
+  /** Reason text -> id in \`reasons\`; forgotten on rollback (the rows it names may be gone). */
+  private readonly reasonIds = new Map<string, number>();
   private readonly statements;
 
   constructor(file: string, options: StoreOptions = {}) {
@@ -99,6 +123,8 @@ export class Store {
     this.db.pragma('cache_size = -16384');
     this.db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
     this.migrate();
+    // The samples with results stored by the open file (for its receipt), this connection only.
+    this.db.exec('CREATE TEMP TABLE IF NOT EXISTS file_samples (sample INTEGER PRIMARY KEY)');
     const db = this.db;
     this.statements = {
       fileByHash: db.prepare('SELECT id, name, sha256, kind, lab_id AS labId, received_at AS receivedAt, status, reason_code AS reasonCode, reason FROM files WHERE sha256 = ?'),
@@ -108,26 +134,30 @@ export class Store {
       ),
       finishFile: db.prepare('UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id'),
       // Positional parameters: binding 22 named values per row costs more than the insert itself.
+      sampleByText: db.prepare('SELECT id, EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id) AS hasResults FROM samples s WHERE s.sample_id = ?'),
+      insertSample: db.prepare('INSERT INTO samples (sample_id) VALUES (?) ON CONFLICT (sample_id) DO NOTHING'),
+      noteFileSample: db.prepare('INSERT INTO temp.file_samples (sample) VALUES (?) ON CONFLICT DO NOTHING'),
+      reasonByText: db.prepare('SELECT id FROM reasons WHERE text = ?').pluck(),
+      insertReason: db.prepare('INSERT INTO reasons (text) VALUES (?)'),
       insertResult: db.prepare(
-        `INSERT INTO results (file_id, line, lab_id, sample_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
-           report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, natural_key)
+        `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
+           report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key)
          VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
-         ON CONFLICT (natural_key) DO NOTHING`,
+         ON CONFLICT (sample, assay_id, lab_id, content_key) DO NOTHING`,
       ),
-      samplesWithResults: db.prepare(
-        `SELECT j.value AS sampleId FROM json_each(?) j
-         WHERE EXISTS (SELECT 1 FROM results r WHERE r.sample_id = j.value AND r.lab_id = ?)`,
-      ),
-      currentForSample: db.prepare(
+      currentBefore: db.prepare(
         `SELECT r.id, r.reported_on AS reportedOn FROM results r
-         WHERE r.sample_id = ? AND r.lab_id = ? AND r.assay_id = ? AND r.id <> ?
+         WHERE r.sample = ? AND r.assay_id = ? AND r.lab_id = ? AND r.id < ?
            AND NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)`,
       ),
       insertSupersession: db.prepare('INSERT INTO supersessions (old_result_id, new_result_id, reason) VALUES (?, ?, ?)'),
-      ropeBySample: db.prepare('SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn FROM ropes WHERE sample_id = ?'),
-      ropeInPenOnDay: db.prepare('SELECT sample_id AS sampleId FROM ropes WHERE site_id = ? AND barn_id = ? AND pen_id = ? AND hung_on = ? AND sample_id <> ?'),
+      ropeBySample: db.prepare('SELECT site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn FROM ropes WHERE sample = ?'),
+      ropeInPenOnDay: db.prepare(
+        `SELECT s.sample_id AS sampleId FROM ropes h JOIN samples s ON s.id = h.sample
+         WHERE h.site_id = ? AND h.barn_id = ? AND h.pen_id = ? AND h.hung_on = ? AND h.sample <> ?`,
+      ),
       insertRope: db.prepare(
-        `INSERT INTO ropes (sample_id, site_id, barn_id, pen_id, hung_on, source, file_id, line, note)
+        `INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line, note)
          VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT DO NOTHING`,
       ),
@@ -143,11 +173,24 @@ export class Store {
 
   private migrate(): void {
     const version = this.db.pragma('user_version', { simple: true }) as number;
+    if (version >= MIGRATIONS.length) return;
+    for (const [name, fn] of Object.entries(MIGRATION_FUNCTIONS)) this.db.function(name, { deterministic: true }, fn);
     for (let next = version; next < MIGRATIONS.length; next++) {
-      this.db.transaction(() => {
-        this.db.exec(MIGRATIONS[next]!);
-        this.db.pragma(`user_version = ${next + 1}`);
-      }).immediate();
+      const migration = MIGRATIONS[next]!;
+      // PRAGMA foreign_keys is a no-op inside a transaction: switch it off before BEGIN.
+      if (migration.rebuildsTables) this.db.pragma('foreign_keys = OFF');
+      try {
+        this.db.transaction(() => {
+          this.db.exec(migration.sql);
+          if (migration.rebuildsTables) {
+            const broken = this.db.pragma('foreign_key_check') as unknown[];
+            if (broken.length > 0) throw new Error(`store migration ${next + 1} would break ${broken.length} foreign key reference(s); the store is left at version ${next}`);
+          }
+          this.db.pragma(`user_version = ${next + 1}`);
+        }).immediate();
+      } finally {
+        if (migration.rebuildsTables) this.db.pragma('foreign_keys = ON');
+      }
     }
   }
 
@@ -176,9 +219,20 @@ export class Store {
    */
   beginFile(file: { name: string; sha256: string; kind: 'results' | 'ropes'; labId: string | null; receivedAt: string; encodingNote: string; byteLength: number }): number {
     if (this.inFile) throw new Error('a file transaction is already open');
-    this.db.exec('BEGIN IMMEDIATE');
+    // Inside a file's transaction every parent row (file, sample, reason) is written before the
+    // rows that name it, so SQLite's per-row foreign-key look-ups (a fifth of the cost of
+    // storing a row) are switched off for it; every other write is checked, and the tests run
+    // PRAGMA foreign_key_check after ingesting. The pragma cannot change inside a transaction.
+    this.db.pragma('foreign_keys = OFF');
+    try {
+      this.db.exec('BEGIN IMMEDIATE');
+    } catch (error) {
+      this.db.pragma('foreign_keys = ON');
+      throw error;
+    }
     this.inFile = true;
-    this.encodedRopesThisFile.clear();
+    this.samplesThisFile.clear();
+    this.db.exec('DELETE FROM temp.file_samples');
     this.fileStart = {
       result: (this.db.prepare('SELECT COALESCE(MAX(id), 0) AS id FROM results').get() as { id: number }).id,
       rope: (this.db.prepare('SELECT COALESCE(MAX(id), 0) AS id FROM ropes').get() as { id: number }).id,
@@ -202,75 +256,109 @@ export class Store {
     return Number(info.lastInsertRowid);
   }
 
+  /**
+   * The open file's record of a sample, creating the sample when it is new to the store. A sample
+   * new to the store has no earlier report to supersede, which spares the look-up on most rows.
+   */
+  private sampleInFile(sampleId: string): SampleInFile {
+    const known = this.samplesThisFile.get(sampleId);
+    if (known) return known;
+    // One statement for the common case: after a new sample try inserting first, after a known
+    // one look it up first (a lab export of new samples; results for ropes already on a sheet).
+    let created = this.lastSampleWasNew ? this.createSample(sampleId) : undefined;
+    let stored: { id: number; hasResults: number } | undefined;
+    if (created === undefined) {
+      stored = this.statements.sampleByText.get(sampleId) as { id: number; hasResults: number } | undefined;
+      if (stored === undefined) created = this.createSample(sampleId)!;
+    }
+    this.lastSampleWasNew = created !== undefined;
+    const sample: SampleInFile = { key: created ?? stored!.id, hadResults: stored?.hasResults === 1, reported: [], ropedAt: undefined, listed: false };
+    if (this.samplesThisFile.size >= SAMPLES_REMEMBERED) this.samplesThisFile.clear();
+    this.samplesThisFile.set(sampleId, sample);
+    return sample;
+  }
+
+  /** Creates the sample and returns its key, or undefined when it exists already. */
+  private createSample(sampleId: string): number | undefined {
+    const info = this.statements.insertSample.run(sampleId);
+    return info.changes === 1 ? Number(info.lastInsertRowid) : undefined;
+  }
+
+  private reasonId(text: string): number {
+    let id = this.reasonIds.get(text);
+    if (id === undefined) {
+      id = (this.statements.reasonByText.get(text) as number | undefined) ?? Number(this.statements.insertReason.run(text).lastInsertRowid);
+      if (this.reasonIds.size >= REASONS_REMEMBERED) this.reasonIds.clear();
+      this.reasonIds.set(text, id);
+    }
+    return id;
+  }
+
   /** Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`. */
   insertResults(fileId: number, rows: readonly ResultRow[]): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
-    // One query per batch finds the samples that already have results; only their rows can
-    // supersede anything, so the per-row look-up runs for those alone.
-    const mayHaveEarlier = new Set<string>();
-    const samplesByLab = new Map<string, Set<string>>();
     for (const row of rows) {
-      const samples = samplesByLab.get(row.labId) ?? new Set<string>();
-      samples.add(row.sampleId);
-      samplesByLab.set(row.labId, samples);
-    }
-    for (const [labId, samples] of samplesByLab) {
-      for (const { sampleId } of this.statements.samplesWithResults.all(JSON.stringify([...samples]), labId) as { sampleId: string }[]) mayHaveEarlier.add(`${labId}|${sampleId}`);
-    }
-    for (const row of rows) {
-      const sampleKey = `${row.labId}|${row.sampleId}`;
+      const sample = this.sampleInFile(row.sampleId);
       const info = this.statements.insertResult.run(
-        fileId, row.line, row.labId, row.sampleId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
-        row.reportStatus, row.control, row.resultClass, row.reason, row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.naturalKey,
+        fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
+        row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.contentKey,
       );
       if (info.changes === 0) {
         counts.duplicates++;
         continue;
       }
       counts.inserted++;
-      const newId = Number(info.lastInsertRowid);
-      const earlier = mayHaveEarlier.has(sampleKey)
-        ? (this.statements.currentForSample.all(row.sampleId, row.labId, row.assayId, newId) as { id: number; reportedOn: string | null }[])
-        : [];
-      mayHaveEarlier.add(sampleKey);
-      for (const old of earlier) {
-        // The newest report is current: a later report date wins; on the same date the later file does.
-        const oldIsNewer = old.reportedOn !== null && row.reportedOn !== null && old.reportedOn > row.reportedOn;
-        const reason = row.markedReissue
-          ? `reissued by the lab (report status "${row.reportStatus}")`
-          : old.reportedOn !== row.reportedOn && !oldIsNewer
-            ? `later report (${row.reportedOn ?? 'undated'} after ${old.reportedOn ?? 'undated'})`
-            : 'a later file reports this sample and assay again';
-        counts.superseded++;
-        if (oldIsNewer && !row.markedReissue) {
-          this.statements.insertSupersession.run(newId, old.id, `an earlier-dated report (${row.reportedOn}) arrived after ${old.reportedOn}`);
-          break;
-        }
-        this.statements.insertSupersession.run(old.id, newId, reason);
+      if (!sample.listed) {
+        this.statements.noteFileSample.run(sample.key);
+        sample.listed = true;
       }
+      // Only a sample with earlier results in the store, or an earlier row of this assay and
+      // lab in this file, can have a report for this row to supersede.
+      const assayAndLab = `${row.assayId}|${row.labId}`;
+      if (sample.hadResults || sample.reported.includes(assayAndLab)) this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, counts);
+      else sample.reported.push(assayAndLab);
       if (row.encodedRope) {
-        // A sample's other assays carry the same encoded rope: look it up once per file.
-        const location = `${row.encodedRope.siteId}/${row.encodedRope.barnId}/${row.encodedRope.penId}/${row.encodedRope.hungOn}`;
-        if (this.encodedRopesThisFile.get(row.sampleId) === location) continue;
+        // A sample's other assays carry the same encoded rope: place it once per file.
         const rope = row.encodedRope;
-        this.insertRopeRow(fileId, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
-        if (this.encodedRopesThisFile.size >= 10_000) this.encodedRopesThisFile.clear();
-        this.encodedRopesThisFile.set(row.sampleId, location);
+        const location = `${rope.siteId}/${rope.barnId}/${rope.penId}/${rope.hungOn}`;
+        if (sample.ropedAt === location) continue;
+        this.insertRopeRow(fileId, sample.key, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
+        sample.ropedAt = location;
       }
     }
     return counts;
   }
 
-  private insertRopeRow(fileId: number, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
+  /** Links a new row to the current rows of the same sample, assay and lab stored before it. */
+  private linkSupersessions(newId: number, sampleKey: number, row: ResultRow, counts: InsertCounts): void {
+    const earlier = this.statements.currentBefore.all(sampleKey, row.assayId, row.labId, newId) as { id: number; reportedOn: string | null }[];
+    for (const old of earlier) {
+      // The newest report is current: a later report date wins; on the same date the later file does.
+      const oldIsNewer = old.reportedOn !== null && row.reportedOn !== null && old.reportedOn > row.reportedOn;
+      const reason = row.markedReissue
+        ? `reissued by the lab (report status "${row.reportStatus}")`
+        : old.reportedOn !== row.reportedOn && !oldIsNewer
+          ? `later report (${row.reportedOn ?? 'undated'} after ${old.reportedOn ?? 'undated'})`
+          : 'a later file reports this sample and assay again';
+      counts.superseded++;
+      if (oldIsNewer && !row.markedReissue) {
+        this.statements.insertSupersession.run(newId, old.id, `an earlier-dated report (${row.reportedOn}) arrived after ${old.reportedOn}`);
+        break;
+      }
+      this.statements.insertSupersession.run(old.id, newId, reason);
+    }
+  }
+
+  private insertRopeRow(fileId: number, sampleKey: number, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
-    const info = this.statements.insertRope.run(row.sampleId, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note);
+    const info = this.statements.insertRope.run(sampleKey, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note);
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
       return;
     }
-    const existing = this.statements.ropeBySample.get(row.sampleId) as StoredRope | undefined;
+    const existing = this.statements.ropeBySample.get(sampleKey) as Omit<StoredRope, 'sampleId' | 'source'> | undefined;
     if (existing) {
       const same = existing.siteId === row.siteId && existing.barnId === row.barnId && existing.penId === row.penId && existing.hungOn === row.hungOn;
       if (same) counts.duplicates += source === 'sheet' ? 1 : 0;
@@ -285,7 +373,7 @@ export class Store {
       }
       return;
     }
-    const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, row.sampleId) as { sampleId: string } | undefined;
+    const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, sampleKey) as { sampleId: string } | undefined;
     counts.rejections.push({
       line: row.line,
       field: 'pen',
@@ -299,7 +387,7 @@ export class Store {
   insertRopes(fileId: number, rows: readonly RopeRow[]): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
-    for (const row of rows) this.insertRopeRow(fileId, row, 'sheet', counts);
+    for (const row of rows) this.insertRopeRow(fileId, this.sampleInFile(row.sampleId).key, row, 'sheet', counts);
     return counts;
   }
 
@@ -320,21 +408,27 @@ export class Store {
   openFileEffects(limit: number): { unresolved: string[]; unresolvedCount: number; resolved: string[]; sites: string[] } {
     this.requireFile();
     const range = { result: this.fileStart.result, rope: this.fileStart.rope, limit };
-    const unresolvedSql = `FROM results r WHERE r.id > @result
-         AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = r.sample_id)
-         AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = r.sample_id)`;
     const ids = (sql: string) => (this.db.prepare(sql).all(range) as { id: string }[]).map((row) => row.id);
+    // temp.file_samples holds each sample the file stored a result for, once.
+    const unresolved = this.db
+      .prepare(
+        `SELECT s.sample_id AS id, COUNT(*) OVER () AS n FROM temp.file_samples f JOIN samples s ON s.id = f.sample
+         WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = f.sample)
+           AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = s.sample_id)
+         ORDER BY s.sample_id LIMIT @limit`,
+      )
+      .all(range) as { id: string; n: number }[];
     return {
-      unresolved: ids(`SELECT DISTINCT r.sample_id AS id ${unresolvedSql} ORDER BY 1 LIMIT @limit`),
-      unresolvedCount: (this.db.prepare(`SELECT COUNT(DISTINCT r.sample_id) AS n ${unresolvedSql}`).get(range) as { n: number }).n,
+      unresolved: unresolved.map((row) => row.id),
+      unresolvedCount: unresolved[0]?.n ?? 0,
       resolved: ids(
-        `SELECT DISTINCT h.sample_id AS id FROM ropes h JOIN results r ON r.sample_id = h.sample_id
-         WHERE h.id > @rope AND r.id <= @result ORDER BY 1 LIMIT @limit`,
+        `SELECT s.sample_id AS id FROM ropes h JOIN samples s ON s.id = h.sample
+         WHERE h.id > @rope AND EXISTS (SELECT 1 FROM results r WHERE r.sample = h.sample AND r.id <= @result) ORDER BY 1 LIMIT @limit`,
       ),
       sites: ids(
         `SELECT site_id AS id FROM ropes WHERE id > @rope
-         UNION SELECT h.site_id FROM results r JOIN ropes h ON h.sample_id = r.sample_id WHERE r.id > @result
-         UNION SELECT p.site_id FROM results r JOIN planned_ropes p ON p.sample_id = r.sample_id WHERE r.id > @result
+         UNION SELECT h.site_id FROM temp.file_samples f JOIN ropes h ON h.sample = f.sample
+         UNION SELECT p.site_id FROM temp.file_samples f JOIN samples s ON s.id = f.sample JOIN planned_ropes p ON p.sample_id = s.sample_id
          ORDER BY 1`,
       ),
     };
@@ -343,13 +437,21 @@ export class Store {
   commit(): void {
     this.requireFile();
     this.db.exec('COMMIT');
-    this.inFile = false;
+    this.endFile();
   }
 
   rollback(): void {
     if (!this.inFile) return;
     this.db.exec('ROLLBACK');
+    // Reasons first stored by the rolled-back file are gone with it.
+    this.reasonIds.clear();
+    this.endFile();
+  }
+
+  private endFile(): void {
     this.inFile = false;
+    this.samplesThisFile.clear();
+    this.db.pragma('foreign_keys = ON');
   }
 
   get fileOpen(): boolean {
@@ -406,7 +508,7 @@ export class Store {
       const current = this.db
         .prepare(
           `SELECT sample_id AS sampleId FROM planned_ropes p WHERE site_id = ? AND after_round = ?
-             AND NOT EXISTS (SELECT 1 FROM results r WHERE r.sample_id = p.sample_id)`,
+             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)`,
         )
         .all(siteId, afterRound) as { sampleId: string }[];
       const remove = this.db.prepare('DELETE FROM planned_ropes WHERE sample_id = ?');
@@ -421,24 +523,26 @@ export class Store {
 
   /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
   ropes(siteId?: string): StoredRope[] {
-    const where = siteId === undefined ? '' : 'WHERE site_id = @siteId';
+    const where = siteId === undefined ? '' : 'WHERE h.site_id = @siteId';
     const hung = this.db
-      .prepare(`SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn, source FROM ropes ${where}`)
+      .prepare(
+        `SELECT s.sample_id AS sampleId, h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn, h.source
+         FROM ropes h JOIN samples s ON s.id = h.sample ${where} ORDER BY h.id`,
+      )
       .all({ siteId }) as StoredRope[];
     // A planned rope counts as hung once a result for it arrives: on its collection date, else its due date.
     const planned = this.db
       .prepare(
         `SELECT p.sample_id AS sampleId, p.site_id AS siteId, p.barn_id AS barnId, p.pen_id AS penId,
                 COALESCE(MIN(r.collected_on), p.due_on) AS hungOn, 'plan' AS source
-         FROM planned_ropes p JOIN results r ON r.sample_id = p.sample_id
-         WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = p.sample_id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
+         FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id JOIN results r ON r.sample = s.id
+         WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
          GROUP BY p.sample_id`,
       )
       .all({ siteId }) as StoredRope[];
     return [...hung, ...planned];
   }
 
-  /** Results that no later report supersedes. */
   /**
    * Results that no later report supersedes; with a site, only those whose sample is one of the
    * site's ropes or planned ropes (so rewriting one site's outputs never reads the whole store).
@@ -447,14 +551,16 @@ export class Store {
     const ofSite =
       siteId === undefined
         ? ''
-        : 'AND r.sample_id IN (SELECT sample_id FROM ropes WHERE site_id = @siteId UNION SELECT sample_id FROM planned_ropes WHERE site_id = @siteId)';
+        : `AND r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId
+             UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id WHERE p.site_id = @siteId)`;
     return this.db
       .prepare(
-        `SELECT id, file_id AS fileId, lab_id AS labId, sample_id AS sampleId, assay_id AS assayId, ct, ct_raw AS ctRaw, lab_call AS labCall,
-                accession, collected_on AS collectedOn, reported_on AS reportedOn, class AS resultClass, reason, load_band AS loadBand,
-                cycle_limit AS cycleLimit, call_differs AS callDiffers
-         FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id) ${ofSite}
-         ORDER BY id`,
+        `SELECT r.id, r.file_id AS fileId, r.lab_id AS labId, s.sample_id AS sampleId, r.assay_id AS assayId, r.ct, r.ct_raw AS ctRaw, r.lab_call AS labCall,
+                r.accession, r.collected_on AS collectedOn, r.reported_on AS reportedOn, r.class AS resultClass, x.text AS reason, r.load_band AS loadBand,
+                r.cycle_limit AS cycleLimit, r.call_differs AS callDiffers
+         FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
+         WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
+         ORDER BY r.id`,
       )
       .all(siteId === undefined ? {} : { siteId })
       .map((row) => ({ ...(row as StoredResult), callDiffers: Boolean((row as { callDiffers: number }).callDiffers) }));
@@ -469,10 +575,11 @@ export class Store {
     return (
       this.db
         .prepare(
-          `SELECT DISTINCT r.sample_id AS sampleId FROM results r
-           WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample_id = r.sample_id)
-             AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = r.sample_id)
-           ORDER BY r.sample_id`,
+          `SELECT s.sample_id AS sampleId FROM samples s
+           WHERE EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id)
+             AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id)
+             AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = s.sample_id)
+           ORDER BY s.sample_id`,
         )
         .all() as { sampleId: string }[]
     ).map((row) => row.sampleId);
@@ -493,7 +600,7 @@ export class Store {
       .prepare(
         `SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, side, reason, due_on AS dueOn,
                 planned_at AS plannedAt, after_round AS afterRound
-         FROM planned_ropes p WHERE site_id = ? AND NOT EXISTS (SELECT 1 FROM results r WHERE r.sample_id = p.sample_id)
+         FROM planned_ropes p WHERE site_id = ? AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)
          ORDER BY sample_id`,
       )
       .all(siteId) as PlannedRope[];

@@ -8,7 +8,6 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
 import { ingestFile, OutputError } from '../../src/ingest/ingestFile.js';
-import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { treeHashes, workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -161,7 +160,7 @@ describe('pipeline end to end', () => {
     const file = path.join(ws.paths.inbox, 'hollow-creek_ropes.csv');
     fs.writeFileSync(file, sheet(ws));
     const open = ws.ws();
-    const deps = { config: open.config, store: open.store, now: () => new Date('2026-12-01T12:00:00Z'), plannedIdCheck: plannedIdChecker(open.config) };
+    const deps = { config: open.config, store: open.store, now: () => new Date('2026-12-01T12:00:00Z') };
     await expect(ingestFile(file, { ...deps, regenerate: () => { throw new Error('disk full'); } })).rejects.toBeInstanceOf(OutputError);
     expect(open.store.counts()).toMatchObject({ files: 0, ropes: 0 });
     expect(open.store.fileOpen).toBe(false);

@@ -312,7 +312,7 @@ async function ingestBytes(bytes: Buffer, name = 'nvdl_prop.csv'): Promise<{ rec
   fs.writeFileSync(file, bytes);
   const store = new Store(':memory:');
   try {
-    const receipt = await ingestFile(file, { config, store, now: () => new Date('2026-12-01T12:00:00Z'), plannedIdCheck: check, regenerate: () => {} });
+    const receipt = await ingestFile(file, { config, store, now: () => new Date('2026-12-01T12:00:00Z'), regenerate: () => {} });
     return { receipt, store };
   } finally {
     fs.rmSync(file, { force: true });
@@ -322,6 +322,10 @@ async function ingestBytes(bytes: Buffer, name = 'nvdl_prop.csv'): Promise<{ rec
 function storedCtsInRange(store: Store): void {
   const outside = store.db.prepare('SELECT COUNT(*) AS n FROM results WHERE ct IS NOT NULL AND NOT (ct > 0 AND ct < cycle_limit)').get() as { n: number };
   expect(outside.n).toBe(0);
+  // The file transaction writes with foreign-key enforcement off (parents first, by
+  // construction): SQLite's own check must find nothing wrong afterwards.
+  expect(store.db.pragma('foreign_key_check')).toEqual([]);
+  expect(store.db.pragma('foreign_keys', { simple: true })).toBe(1);
 }
 
 describe('ingestFile on whole generated exports', () => {
@@ -335,7 +339,7 @@ describe('ingestFile on whole generated exports', () => {
           const junk = rows.filter((row) => row.expect !== null);
           expect(receipt.rows.accepted + receipt.rows.rejected).toBe(rows.length);
           expect(receipt.rows.accepted).toBe(valid.length);
-          const stored = store.db.prepare('SELECT line, sample_id AS sampleId FROM results ORDER BY line').all() as { line: number; sampleId: string }[];
+          const stored = store.db.prepare('SELECT r.line, s.sample_id AS sampleId FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line').all() as { line: number; sampleId: string }[];
           expect(stored).toEqual(valid.map((row) => ({ line: row.line, sampleId: normaliseSampleId(row.cells[1]!) })));
           const refused = store.db.prepare('SELECT line, code, length(value) AS valueLength FROM rejected_rows ORDER BY line').all() as { line: number; code: string; valueLength: number | null }[];
           expect(refused.map(({ line, code }) => ({ line, code }))).toEqual(junk.map((row) => ({ line: row.line, code: row.expect })));

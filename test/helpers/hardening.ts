@@ -82,7 +82,10 @@ export function lookIntoStore(dbFile: string): StoreLook {
   const db = new Database(dbFile, { readonly: true });
   try {
     const tables = new Set((db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as { name: string }[]).map((row) => row.name));
-    const integrity = (db.pragma('integrity_check', { simple: true }) as string) ?? 'unknown';
+    // 'ok' only when both SQLite's structural check and its foreign-key check find nothing.
+    const structure = (db.pragma('integrity_check', { simple: true }) as string) ?? 'unknown';
+    const brokenReferences = (db.pragma('foreign_key_check') as unknown[]).length;
+    const integrity = brokenReferences === 0 ? structure : `${structure}; ${brokenReferences} broken foreign key reference(s)`;
     if (!tables.has('files')) return { integrity, files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
     const files = db
       .prepare('SELECT name, status, reason_code AS reasonCode, rows_accepted AS rowsAccepted, rows_rejected AS rowsRejected FROM files ORDER BY id')

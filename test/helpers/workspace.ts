@@ -11,7 +11,6 @@ import { afterEach } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { processFile, type ProcessOutcome } from '../../src/pipeline.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
 
@@ -71,7 +70,7 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
       const file = path.join(paths.inbox, name);
       fs.writeFileSync(file, bytes);
       const workspace = ws();
-      return processFile(workspace, file, plannedIdChecker(workspace.config));
+      return processFile(workspace, file);
     },
     closeStore,
     cleanup: () => {

@@ -2,7 +2,9 @@
  * The hostile-input corpus (test/fixtures/exports/): every file beside `<name>.expected.json`,
  * checked against the corpus config (a copy of the demo config in test/fixtures/exports/config).
  * Expectations were written by hand from the bytes of each file before running the code; the
- * binary, Latin-1, UTF-16 and BOM files come from make-fixtures.ts in the same folder.
+ * binary, Latin-1, UTF-16 and BOM files come from make-fixtures.ts in the same folder. Each
+ * file is read twice: on this thread, and on the parse worker that large files use; the
+ * outcome must be the same.
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -10,7 +12,6 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
-import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { Store } from '../../src/store/store.js';
 
 const CORPUS = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../fixtures/exports');
@@ -33,17 +34,17 @@ describe('hostile-input corpus', () => {
     expect(expectations.map((name) => name.replace(/\.expected\.json$/, '')).sort()).toEqual(inputs.map((name) => name.replace(/\.[^.]+$/, '')).sort());
   });
 
-  for (const name of inputs) {
+  for (const [name, thread] of inputs.flatMap((input) => [[input, 'main thread'], [input, 'parse worker']] as const)) {
     const expected = JSON.parse(fs.readFileSync(path.join(CORPUS, `${name.replace(/\.[^.]+$/, '')}.expected.json`), 'utf8')) as Expected;
-    it(`${name}: ${expected.status === 'accepted' ? `accepted with ${expected.rows} rows and ${expected.rejected.length} refused` : `refused as ${expected.code}`}`, async () => {
+    it(`${name} (${thread}): ${expected.status === 'accepted' ? `accepted with ${expected.rows} rows and ${expected.rejected.length} refused` : `refused as ${expected.code}`}`, async () => {
       const store = new Store(':memory:');
       try {
         const receipt = await ingestFile(path.join(CORPUS, name), {
           config,
           store,
           now: () => new Date('2026-12-01T12:00:00Z'),
-          plannedIdCheck: plannedIdChecker(config),
           regenerate: () => {},
+          parseInWorkerFromBytes: thread === 'parse worker' ? 0 : Number.POSITIVE_INFINITY,
         });
         if (expected.status === 'accepted') {
           expect(receipt.status, receipt.reason?.message).toBe('accepted');

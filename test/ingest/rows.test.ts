@@ -42,7 +42,7 @@ const ropeBase: RopeCells = { sample_id: 'HC-0803-F1-01', site: 'hollow-creek', 
 const rope = (overrides: RopeCells = {}, line = 2) => mapRopeRow(ROPE_COLUMNS.map((column) => ({ ...ropeBase, ...overrides })[column] ?? ''), line, ropeContext);
 
 describe('mapResultRow', () => {
-  it('maps a well-formed row with the lab cutoffs and a natural key', () => {
+  it('maps a well-formed row with the lab cutoffs and a content key', () => {
     const outcome = nf();
     expect(outcome.ok).toBe(true);
     if (!outcome.ok) return;
@@ -61,10 +61,18 @@ describe('mapResultRow', () => {
       callDiffers: false,
       markedReissue: false,
     });
-    // Sample, assay and lab first (so one sample's rows sit together in the index), then a hash of the rest.
-    expect(outcome.row.naturalKey).toMatch(/^HC-0803-F1-01\|PRRSV\|northfield\|[0-9a-f]{24}$/);
-    // The same row in another file has the same natural key (what makes re-drops idempotent).
-    expect(nf({}, 99).ok && (nf({}, 99) as { row: { naturalKey: string } }).row.naturalKey).toBe(outcome.row.naturalKey);
+    // The content key is an integer of 52 bits (it must fit a double exactly, IEEE 754).
+    expect(Number.isSafeInteger(outcome.row.contentKey)).toBe(true);
+    expect(outcome.row.contentKey).toBeGreaterThanOrEqual(0);
+    expect(outcome.row.contentKey).toBeLessThan(2 ** 52);
+    // The same row in another file, on another line, has the same key (what makes re-drops idempotent)...
+    const again = nf({}, 99);
+    expect(again.ok && again.row.contentKey).toBe(outcome.row.contentKey);
+    // ...and any change to what the lab reported gives another one (a reissue is a new row).
+    for (const change of [{ 'Ct Value': '31.3' }, { 'Report Date': '2026-08-07' }, { 'Report Status': 'Corrected' }, { 'Case No': 'NV26-01001' }, { Interpretation: 'Suspect' }]) {
+      const changed = nf(change);
+      expect(changed.ok && changed.row.contentKey).not.toBe(outcome.row.contentKey);
+    }
   });
 
   it('refuses an assay the lab profile does not name', () => {

@@ -1,0 +1,96 @@
+/**
+ * One file's data rows, read and mapped in bounded batches: bytes -> text (decode.ts) ->
+ * records (csvRecords.ts) -> stored rows or coded refusals (rows.ts). No store, no clock: the
+ * same generator runs on the main thread for small files and in a worker for large ones.
+ */
+import fs from 'node:fs';
+import type { Assay, Site } from '../config/types.js';
+import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
+import { TextChunkDecoder, type Sniffed } from './decode.js';
+import type { FileKind } from './detect.js';
+import type { RowRejection } from './errors.js';
+import { mapResultRow, mapRopeRow, type PlannedIdCheck, type ResultContext, type ResultRow, type RopeContext, type RopeRow } from './rows.js';
+
+/** Rows per batch: what one store call takes, and what bounds memory while a file streams. */
+export const BATCH_ROWS = 2000;
+/** Bytes read at a time. */
+const READ_CHUNK_BYTES = 256 * 1024;
+
+export interface MappedBatch {
+  results: ResultRow[];
+  ropes: RopeRow[];
+  /** Rows refused before the store saw them (ragged rows, bad cells), with line and field. */
+  rejections: RowRejection[];
+}
+
+export interface MappingInput {
+  file: string;
+  fileName: string;
+  sniffed: Sniffed;
+  kind: FileKind;
+  sites: readonly Site[];
+  assayById: ReadonlyMap<string, Assay>;
+}
+
+/**
+ * Yields the file's rows in batches of about `batchRows`.
+ * @throws EncodingError, UnclosedQuoteError (the file cannot be trusted past that line)
+ */
+export async function* mappedBatches(input: MappingInput, plannedIdCheck: PlannedIdCheck, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch> {
+  const { kind } = input;
+  const width = kind.header.length;
+  const resultContext: ResultContext | undefined =
+    kind.kind === 'results' ? { fileName: input.fileName, lab: kind.lab, columnIndex: kind.columnIndex, assayById: input.assayById, sites: input.sites, plannedIdCheck } : undefined;
+  const ropeContext: RopeContext = { fileName: input.fileName, columnIndex: kind.columnIndex, sites: input.sites, plannedIdCheck };
+  let batch: MappedBatch = { results: [], ropes: [], rejections: [] };
+  const size = () => batch.results.length + batch.ropes.length + batch.rejections.length;
+
+  const take = ({ cells, line }: CsvRecord): void => {
+    if (cells.length === 1 && cells[0]!.trim() === '') return;
+    if (cells.length !== width) {
+      // Trailing empty cells (a common export habit) do not make a row ragged.
+      const trimmed = cells.length > width && cells.slice(width).every((cell) => cell.trim() === '');
+      if (!trimmed) {
+        batch.rejections.push({
+          line,
+          field: undefined,
+          code: 'ragged-row',
+          value: cells.join(kind.delimiter).slice(0, 200),
+          message: `the row has ${cells.length} fields, the header ${width}`,
+        });
+        return;
+      }
+    }
+    if (resultContext) {
+      const outcome = mapResultRow(cells, line, resultContext);
+      if (outcome.ok) batch.results.push(outcome.row);
+      else batch.rejections.push(outcome.rejection);
+    } else {
+      const outcome = mapRopeRow(cells, line, ropeContext);
+      if (outcome.ok) batch.ropes.push(outcome.row);
+      else batch.rejections.push(outcome.rejection);
+    }
+  };
+
+  const decoder = new TextChunkDecoder(input.sniffed);
+  const reader = new CsvRecordReader(kind.delimiter, kind.headerLine);
+  const records: CsvRecord[] = [];
+  const takeAll = function* (): Generator<MappedBatch> {
+    for (const record of records) {
+      take(record);
+      if (size() >= batchRows) {
+        yield batch;
+        batch = { results: [], ropes: [], rejections: [] };
+      }
+    }
+    records.length = 0;
+  };
+  for await (const chunk of fs.createReadStream(input.file, { highWaterMark: READ_CHUNK_BYTES })) {
+    reader.push(decoder.decode(chunk as Buffer), records);
+    yield* takeAll();
+  }
+  reader.push(decoder.end(), records);
+  reader.end(records);
+  yield* takeAll();
+  if (size() > 0) yield batch;
+}
