@@ -10,6 +10,7 @@ import {
   programSchema,
   sitesFileSchema,
 } from './schema.js';
+import { foldToken } from '../util/fold.js';
 import type { AnalysisSettings, Assay, Barn, Config, DesignPrevalence, LabAssay, LabProfile, PerAssayValue, Program, Site } from './types.js';
 
 /** A configuration problem, naming the file and the key path (e.g. `sites[0].barns[1].layout.rows`). */
@@ -204,19 +205,6 @@ function loadAssays(file: string): Assay[] {
   });
 }
 
-/** Lower-cased, trimmed, inner whitespace folded: how tokens and names are compared. */
-export function foldToken(text: string): string {
-  // Exports repeat the same few words (assay names, "Undetermined", "PASS") on every row.
-  const cached = foldedTokens.get(text);
-  if (cached !== undefined) return cached;
-  const folded = text.trim().replace(/\s+/g, ' ').toLowerCase();
-  if (text.length <= 64) {
-    if (foldedTokens.size >= 4096) foldedTokens.clear();
-    foldedTokens.set(text, folded);
-  }
-  return folded;
-}
-const foldedTokens = new Map<string, string>();
 
 function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfile {
   const raw = validate(labProfileSchema, readYaml(file), file);
@@ -306,3 +294,5 @@ export function loadConfig(dir: string): Config {
     labById: new Map(labs.map((lab) => [lab.id, lab])),
   });
 }
+
+export { foldToken };

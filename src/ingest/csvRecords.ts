@@ -20,6 +20,17 @@ export interface CsvRecord {
   line: number;
 }
 
+/** More characters than any lab export's row holds (a whole export of a round is smaller). */
+export const MAX_RECORD_CHARS = 4_000_000;
+
+/** A record longer than MAX_RECORD_CHARS: almost always a quote that is never closed. */
+export class RecordTooLongError extends Error {
+  override readonly name = 'RecordTooLongError';
+  constructor(readonly line: number) {
+    super(`the record starting on line ${line} runs past ${MAX_RECORD_CHARS.toLocaleString('en')} characters (a quote that is never closed?)`);
+  }
+}
+
 /** A quoted field still open at the end of the text. */
 export class UnclosedQuoteError extends Error {
   override readonly name = 'UnclosedQuoteError';
@@ -84,8 +95,18 @@ export class CsvRecordReader {
     this.recordLine = this.line;
   }
 
-  /** Reads the next piece of text; complete records are appended to `out`. */
+  /**
+   * Reads the next piece of text; complete records are appended to `out`.
+   * @throws RecordTooLongError: memory stays bounded whatever the text holds
+   */
   push(text: string, out: CsvRecord[]): void {
+    this.read(text, out);
+    if (this.inRecord && this.field.length + this.cells.reduce((sum, cell) => sum + cell.length, 0) > MAX_RECORD_CHARS) {
+      throw new RecordTooLongError(this.recordLine);
+    }
+  }
+
+  private read(text: string, out: CsvRecord[]): void {
     let at = 0;
     const length = text.length;
     while (this.skipping > 0 && at < length) {

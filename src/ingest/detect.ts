@@ -3,7 +3,7 @@
  * file name and the header row alone, before any row is read.
  */
 import { parse as parseSync } from 'csv-parse/sync';
-import { foldToken } from '../config/load.js';
+import { foldToken } from '../util/fold.js';
 import type { LabProfile } from '../config/types.js';
 import { IngestError } from './errors.js';
 

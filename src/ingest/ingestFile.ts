@@ -8,13 +8,13 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/types.js';
 import { FileAlreadyStoredError, type Store, type StoredFile } from '../store/store.js';
-import { UnclosedQuoteError } from './csvRecords.js';
+import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
 import { mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { plannedIdChecker } from './plannedIds.js';
-import { workerBatches } from './workerBatches.js';
+import { ParseWorker } from './workerBatches.js';
 
 const HEAD_BYTES = 64 * 1024;
 /**
@@ -116,6 +116,20 @@ function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt
  * and re-throws unexpected errors after rolling back.
  */
 export async function ingestFile(file: string, deps: IngestDeps): Promise<Receipt> {
+  let worker: ParseWorker | undefined;
+  try {
+    if (fs.statSync(file).size >= (deps.parseInWorkerFromBytes ?? PARSE_IN_WORKER_FROM_BYTES)) worker = new ParseWorker();
+  } catch {
+    // Unreadable: hashing reports it.
+  }
+  try {
+    return await ingestWith(file, deps, worker);
+  } finally {
+    await worker?.stop();
+  }
+}
+
+async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | undefined): Promise<Receipt> {
   const name = path.basename(file);
   const receivedAt = deps.now().toISOString();
   let sha256: string;
@@ -223,7 +237,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     };
 
     const input: MappingInput = { file, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById };
-    const batches = size >= (deps.parseInWorkerFromBytes ?? PARSE_IN_WORKER_FROM_BYTES) ? workerBatches(input) : mappedBatches(input, plannedIdChecker(deps.config));
+    const batches = worker ? worker.batches(input) : mappedBatches(input, plannedIdChecker(deps.config));
     for await (const batch of batches) store(batch);
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
@@ -231,7 +245,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     }
     deps.store.finishFile(fileId, { accepted: receipt.rows.accepted, rejected: receipt.rows.rejected, duplicate: receipt.rows.duplicate });
 
-    const effects = deps.store.openFileEffects(RECEIPT_ROW_LIMIT);
+    const effects = deps.store.openFileEffects();
     if (kind.kind === 'results') {
       receipt.unresolvedSampleIds = effects.unresolved;
       receipt.unresolvedNotListed = effects.unresolvedCount - effects.unresolved.length;
@@ -252,7 +266,7 @@ export async function ingestFile(file: string, deps: IngestDeps): Promise<Receip
     if (error instanceof EncodingError) {
       return reject(new IngestError('invalid-encoding', name, error.line, undefined, undefined, `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`), receipt.lab);
     }
-    if (error instanceof UnclosedQuoteError) {
+    if (error instanceof UnclosedQuoteError || error instanceof RecordTooLongError) {
       return reject(
         new IngestError('malformed-csv', name, error.line, undefined, undefined, `the file is not well-formed CSV (${error.message}); rows after it cannot be trusted`),
         receipt.lab,

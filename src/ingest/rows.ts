@@ -3,8 +3,11 @@
  * context (lab profile, sites, header index, the planned-ID check) is passed in.
  */
 import { hash } from 'node:crypto';
-import { format as formatDate, isValid, parse as parseDate } from 'date-fns';
-import { foldToken } from '../config/load.js';
+// Subpath imports: the package index loads every date-fns function (slow to start a worker).
+import { format as formatDate } from 'date-fns/format';
+import { isValid } from 'date-fns/isValid';
+import { parse as parseDate } from 'date-fns/parse';
+import { foldToken } from '../util/fold.js';
 import { canonicalPenKey } from '../domain/layout.js';
 import type { Assay, LabAssay, LabProfile, Site } from '../config/types.js';
 import { classify, type Interpretation, type ResultClass } from '../interpret/classify.js';

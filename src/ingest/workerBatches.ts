@@ -1,48 +1,66 @@
 /**
  * The main thread's side of the parse worker: the same batches as mappedBatches(), read and
- * mapped on a second core while this thread stores the previous ones. Each batch is
- * acknowledged when the consumer asks for the next, i.e. once it is stored.
+ * mapped on a second core while this thread stores the previous ones. The worker is started as
+ * soon as a file is known to be large, so that it loads its modules while this thread hashes the
+ * file; it reads once it is told what the file is. Each batch is acknowledged when the consumer
+ * asks for the next, i.e. once it is stored.
  */
 import { Worker } from 'node:worker_threads';
 import { decodeBatch } from './batchWire.js';
 import type { MappedBatch, MappingInput } from './mappedBatches.js';
-import { failureAsError, type FromWorker } from './workerProtocol.js';
+import { failureAsError, type FromWorker, type ToWorker } from './workerProtocol.js';
 
 const WORKER_ENTRY = new URL('./parseWorkerBoot.mjs', import.meta.url);
 
-export async function* workerBatches(input: MappingInput): AsyncGenerator<MappedBatch> {
-  const worker = new Worker(WORKER_ENTRY, { workerData: input });
-  const inbox: FromWorker[] = [];
-  let crash: Error | undefined;
-  let wake: (() => void) | undefined;
-  const notify = () => {
-    wake?.();
-    wake = undefined;
-  };
-  worker.on('message', (message: FromWorker) => {
-    inbox.push(message);
-    notify();
-  });
-  worker.on('error', (error) => {
-    crash ??= error;
-    notify();
-  });
-  worker.on('exit', (code) => {
-    crash ??= new Error(`parse worker stopped (exit code ${code}) before the file was read`);
-    notify();
-  });
-  try {
+export class ParseWorker {
+  private readonly worker = new Worker(WORKER_ENTRY);
+  private readonly inbox: FromWorker[] = [];
+  private crash: Error | undefined;
+  private wake: (() => void) | undefined;
+  private started = false;
+
+  constructor() {
+    const notify = () => {
+      this.wake?.();
+      this.wake = undefined;
+    };
+    this.worker.on('message', (message: FromWorker) => {
+      this.inbox.push(message);
+      notify();
+    });
+    this.worker.on('error', (error) => {
+      this.crash ??= error;
+      notify();
+    });
+    this.worker.on('exit', (code) => {
+      this.crash ??= new Error(`parse worker stopped (exit code ${code}) before the file was read`);
+      notify();
+    });
+  }
+
+  /** Reads and maps one file (a worker reads one file only). */
+  async *batches(input: MappingInput): AsyncGenerator<MappedBatch> {
+    if (this.started) throw new Error('a parse worker reads one file only');
+    this.started = true;
+    this.send({ type: 'start', input });
     for (;;) {
-      while (inbox.length === 0 && crash === undefined) await new Promise<void>((resolve) => (wake = resolve));
-      const message = inbox.shift();
-      if (message === undefined) throw crash!;
+      while (this.inbox.length === 0 && this.crash === undefined) await new Promise<void>((resolve) => (this.wake = resolve));
+      const message = this.inbox.shift();
+      if (message === undefined) throw this.crash!;
       if (message.type === 'done') return;
       if (message.type === 'failed') throw failureAsError(message.failure);
       yield decodeBatch(message.batch);
-      worker.postMessage('taken');
+      this.send({ type: 'taken' });
     }
-  } finally {
-    worker.removeAllListeners();
-    await worker.terminate();
+  }
+
+  async stop(): Promise<void> {
+    this.worker.removeAllListeners();
+    this.worker.on('error', () => {});
+    await this.worker.terminate();
+  }
+
+  private send(message: ToWorker): void {
+    this.worker.postMessage(message);
   }
 }

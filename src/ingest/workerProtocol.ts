@@ -1,7 +1,8 @@
 /** Messages between the main thread and the parse worker, and how failures cross over. */
-import { UnclosedQuoteError } from './csvRecords.js';
+import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { EncodingError } from './decode.js';
 import type { WireBatch } from './batchWire.js';
+import type { MappingInput } from './mappedBatches.js';
 
 /** Batches posted but not yet stored. */
 export const BATCHES_IN_FLIGHT = 4;
@@ -9,13 +10,17 @@ export const BATCHES_IN_FLIGHT = 4;
 export type WorkerFailure =
   | { kind: 'encoding'; line: number; message: string }
   | { kind: 'unclosed-quote'; line: number }
+  | { kind: 'record-too-long'; line: number }
   | { kind: 'unexpected'; name: string; message: string; stack: string | undefined };
+
+export type ToWorker = { type: 'start'; input: MappingInput } | { type: 'taken' };
 
 export type FromWorker = { type: 'batch'; batch: WireBatch } | { type: 'done' } | { type: 'failed'; failure: WorkerFailure };
 
 export function describeWorkerFailure(error: unknown): WorkerFailure {
   if (error instanceof EncodingError) return { kind: 'encoding', line: error.line, message: error.message };
   if (error instanceof UnclosedQuoteError) return { kind: 'unclosed-quote', line: error.line };
+  if (error instanceof RecordTooLongError) return { kind: 'record-too-long', line: error.line };
   const { name, message, stack } = error instanceof Error ? error : { name: 'Error', message: String(error), stack: undefined };
   return { kind: 'unexpected', name, message, stack };
 }
@@ -27,6 +32,8 @@ export function failureAsError(failure: WorkerFailure): Error {
       return new EncodingError(failure.line, failure.message);
     case 'unclosed-quote':
       return new UnclosedQuoteError(failure.line);
+    case 'record-too-long':
+      return new RecordTooLongError(failure.line);
     case 'unexpected': {
       const error = new Error(`parse worker: ${failure.name}: ${failure.message}`);
       if (failure.stack) error.stack = failure.stack;

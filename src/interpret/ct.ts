@@ -3,7 +3,7 @@
  * an empty cell, a word, the cycle limit, or a numeric code such as 0. A Ct of 0 is never read as
  * a strong positive: either the profile declares it a not-detected code or the row is refused.
  */
-import { foldToken } from '../config/load.js';
+import { foldToken } from '../util/fold.js';
 import type { LabAssay, LabProfile } from '../config/types.js';
 
 /** Cycles a PCR run can have: no real run goes beyond 60 (common practice, no source). */

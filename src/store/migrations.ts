@@ -182,9 +182,10 @@ export const MIGRATIONS: readonly Migration[] = [
   DROP TABLE results;
   ALTER TABLE results_next RENAME TO results;
 
+  -- A sample hangs in at most one pen: the rope is keyed by its sample (the table's own key, so
+  -- no separate index).
   CREATE TABLE ropes_next (
-    id INTEGER PRIMARY KEY,
-    sample INTEGER NOT NULL UNIQUE REFERENCES samples(id),
+    sample INTEGER PRIMARY KEY REFERENCES samples(id),
     site_id TEXT NOT NULL,
     barn_id TEXT NOT NULL,
     pen_id TEXT NOT NULL,
@@ -195,9 +196,9 @@ export const MIGRATIONS: readonly Migration[] = [
     note TEXT
   );
   INSERT INTO ropes_next
-    SELECT h.id, s.id, h.site_id, h.barn_id, h.pen_id, h.hung_on, h.source, h.file_id, h.line, h.note
+    SELECT s.id, h.site_id, h.barn_id, h.pen_id, h.hung_on, h.source, h.file_id, h.line, h.note
     FROM ropes h JOIN samples s ON s.sample_id = h.sample_id
-    ORDER BY h.id;
+    ORDER BY s.id;
   DROP TABLE ropes;
   ALTER TABLE ropes_next RENAME TO ropes;
   CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, barn_id, pen_id, hung_on);

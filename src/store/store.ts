@@ -74,6 +74,16 @@ export class FileAlreadyStoredError extends Error {
   }
 }
 
+/** A sample as the store holds it, with its rope if it hangs in a pen. */
+interface StoredSample {
+  id: number;
+  hasResults: number;
+  siteId: string | null;
+  barnId: string | null;
+  penId: string | null;
+  hungOn: string | null;
+}
+
 /** What the open file knows of one sample. */
 interface SampleInFile {
   key: number;
@@ -81,13 +91,26 @@ interface SampleInFile {
   hadResults: boolean;
   /** "assay|lab" of the rows this file has stored for it (a sample has a few assays). */
   reported: string[];
-  /** Where this file has placed its encoded rope ("site/barn/pen/day"). */
+  /** Where its rope hangs ("site/barn/pen/day"), stored before or placed by this file. */
   ropedAt: string | undefined;
-  /** Noted in temp.file_samples (the file stored a result for it). */
-  listed: boolean;
+  ropeSiteId: string | undefined;
+  /** The location its sample ID encodes that this file tried to place it at. */
+  patternTriedAt: string | undefined;
+  /** The file stored a result for it, and counted it for the receipt. */
+  counted: boolean;
+}
+
+/** What the open file changed, gathered while it is stored (for its receipt and outputs). */
+interface FileEffects {
+  sites: Set<string>;
+  /** Samples with results before this file that its ropes placed: the first ones, and how many. */
+  resolved: string[];
+  resolvedCount: number;
 }
 /** Samples remembered per file; rows of one sample usually sit together. */
 const SAMPLES_REMEMBERED = 10_000;
+/** Sample IDs listed in a receipt (all are counted). */
+export const RECEIPT_LIST_LIMIT = 500;
 /** Reason texts remembered: a few per Ct value and assay. */
 const REASONS_REMEMBERED = 50_000;
 
@@ -99,7 +122,7 @@ export class Store {
   readonly db: Database.Database;
   private inFile = false;
   /** Highest result and rope row ids before the open file: its own rows are the ones above. */
-  private fileStart = { result: 0, rope: 0 };
+  private effects: FileEffects = { sites: new Set(), resolved: [], resolvedCount: 0 };
   /**
    * Samples the open file has met (sample ID -> state), bounded: a sample's rows usually sit
    * together. A sample dropped from here is looked up again, never assumed new.
@@ -123,8 +146,9 @@ export class Store {
     this.db.pragma('cache_size = -16384');
     this.db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
     this.migrate();
-    // The samples with results stored by the open file (for its receipt), this connection only.
-    this.db.exec('CREATE TEMP TABLE IF NOT EXISTS file_samples (sample INTEGER PRIMARY KEY)');
+    // Samples the open file stored results for and that hang in no pen yet (for its receipt);
+    // this connection only.
+    this.db.exec('CREATE TEMP TABLE IF NOT EXISTS file_unplaced (sample INTEGER PRIMARY KEY)');
     const db = this.db;
     this.statements = {
       fileByHash: db.prepare('SELECT id, name, sha256, kind, lab_id AS labId, received_at AS receivedAt, status, reason_code AS reasonCode, reason FROM files WHERE sha256 = ?'),
@@ -134,9 +158,13 @@ export class Store {
       ),
       finishFile: db.prepare('UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id'),
       // Positional parameters: binding 22 named values per row costs more than the insert itself.
-      sampleByText: db.prepare('SELECT id, EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id) AS hasResults FROM samples s WHERE s.sample_id = ?'),
+      sampleByText: db.prepare(
+        `SELECT s.id, EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id) AS hasResults,
+                h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn
+         FROM samples s LEFT JOIN ropes h ON h.sample = s.id WHERE s.sample_id = ?`,
+      ),
       insertSample: db.prepare('INSERT INTO samples (sample_id) VALUES (?) ON CONFLICT (sample_id) DO NOTHING'),
-      noteFileSample: db.prepare('INSERT INTO temp.file_samples (sample) VALUES (?) ON CONFLICT DO NOTHING'),
+      noteUnplaced: db.prepare('INSERT INTO temp.file_unplaced (sample) VALUES (?) ON CONFLICT DO NOTHING'),
       reasonByText: db.prepare('SELECT id FROM reasons WHERE text = ?').pluck(),
       insertReason: db.prepare('INSERT INTO reasons (text) VALUES (?)'),
       insertResult: db.prepare(
@@ -232,11 +260,8 @@ export class Store {
     }
     this.inFile = true;
     this.samplesThisFile.clear();
-    this.db.exec('DELETE FROM temp.file_samples');
-    this.fileStart = {
-      result: (this.db.prepare('SELECT COALESCE(MAX(id), 0) AS id FROM results').get() as { id: number }).id,
-      rope: (this.db.prepare('SELECT COALESCE(MAX(id), 0) AS id FROM ropes').get() as { id: number }).id,
-    };
+    this.db.exec('DELETE FROM temp.file_unplaced');
+    this.effects = { sites: new Set(), resolved: [], resolvedCount: 0 };
     // The caller's hash look-up ran before the lock; a second process ingesting the same file
     // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
     const known = this.findFileByHash(file.sha256);
@@ -266,13 +291,21 @@ export class Store {
     // One statement for the common case: after a new sample try inserting first, after a known
     // one look it up first (a lab export of new samples; results for ropes already on a sheet).
     let created = this.lastSampleWasNew ? this.createSample(sampleId) : undefined;
-    let stored: { id: number; hasResults: number } | undefined;
+    let stored: StoredSample | undefined;
     if (created === undefined) {
-      stored = this.statements.sampleByText.get(sampleId) as { id: number; hasResults: number } | undefined;
+      stored = this.statements.sampleByText.get(sampleId) as StoredSample | undefined;
       if (stored === undefined) created = this.createSample(sampleId)!;
     }
     this.lastSampleWasNew = created !== undefined;
-    const sample: SampleInFile = { key: created ?? stored!.id, hadResults: stored?.hasResults === 1, reported: [], ropedAt: undefined, listed: false };
+    const sample: SampleInFile = {
+      key: created ?? stored!.id,
+      hadResults: stored?.hasResults === 1,
+      reported: [],
+      ropedAt: stored?.siteId == null ? undefined : `${stored.siteId}/${stored.barnId}/${stored.penId}/${stored.hungOn}`,
+      ropeSiteId: stored?.siteId ?? undefined,
+      patternTriedAt: undefined,
+      counted: false,
+    };
     if (this.samplesThisFile.size >= SAMPLES_REMEMBERED) this.samplesThisFile.clear();
     this.samplesThisFile.set(sampleId, sample);
     return sample;
@@ -309,22 +342,24 @@ export class Store {
         continue;
       }
       counts.inserted++;
-      if (!sample.listed) {
-        this.statements.noteFileSample.run(sample.key);
-        sample.listed = true;
-      }
       // Only a sample with earlier results in the store, or an earlier row of this assay and
       // lab in this file, can have a report for this row to supersede.
       const assayAndLab = `${row.assayId}|${row.labId}`;
       if (sample.hadResults || sample.reported.includes(assayAndLab)) this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, counts);
       else sample.reported.push(assayAndLab);
-      if (row.encodedRope) {
-        // A sample's other assays carry the same encoded rope: place it once per file.
-        const rope = row.encodedRope;
+      const rope = row.encodedRope;
+      if (rope) {
+        // A sample's other assays carry the same encoded rope: it is placed (or refused) once.
         const location = `${rope.siteId}/${rope.barnId}/${rope.penId}/${rope.hungOn}`;
-        if (sample.ropedAt === location) continue;
-        this.insertRopeRow(fileId, sample.key, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
-        sample.ropedAt = location;
+        if (sample.ropedAt !== location && sample.patternTriedAt !== location) {
+          sample.patternTriedAt = location;
+          this.insertRopeRow(fileId, sample, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
+        }
+      }
+      if (!sample.counted) {
+        sample.counted = true;
+        if (sample.ropeSiteId !== undefined) this.effects.sites.add(sample.ropeSiteId);
+        else this.statements.noteUnplaced.run(sample.key);
       }
     }
     return counts;
@@ -350,12 +385,21 @@ export class Store {
     }
   }
 
-  private insertRopeRow(fileId: number, sampleKey: number, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
+  private insertRopeRow(fileId: number, sample: SampleInFile, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
+    const sampleKey = sample.key;
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
     const info = this.statements.insertRope.run(sampleKey, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note);
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
+      sample.ropedAt = `${row.siteId}/${row.barnId}/${row.penId}/${row.hungOn}`;
+      sample.ropeSiteId = row.siteId;
+      this.effects.sites.add(row.siteId);
+      if (sample.hadResults) {
+        this.effects.resolvedCount++;
+        this.effects.resolved.push(row.sampleId);
+        if (this.effects.resolved.length >= 2 * RECEIPT_LIST_LIMIT) this.effects.resolved = this.effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT);
+      }
       return;
     }
     const existing = this.statements.ropeBySample.get(sampleKey) as Omit<StoredRope, 'sampleId' | 'source'> | undefined;
@@ -387,7 +431,7 @@ export class Store {
   insertRopes(fileId: number, rows: readonly RopeRow[]): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
-    for (const row of rows) this.insertRopeRow(fileId, this.sampleInFile(row.sampleId).key, row, 'sheet', counts);
+    for (const row of rows) this.insertRopeRow(fileId, this.sampleInFile(row.sampleId), row, 'sheet', counts);
     return counts;
   }
 
@@ -403,34 +447,30 @@ export class Store {
 
   /**
    * What the open file changed, for its receipt: its result samples with no rope yet (at most
-   * `limit` listed, all counted), earlier results its ropes now place, and the sites it touched.
+   * RECEIPT_LIST_LIMIT listed, all counted), earlier results its ropes now place, and the sites
+   * it touched (gathered while storing; the samples that hang nowhere are looked up here).
    */
-  openFileEffects(limit: number): { unresolved: string[]; unresolvedCount: number; resolved: string[]; sites: string[] } {
+  openFileEffects(): { unresolved: string[]; unresolvedCount: number; resolved: string[]; resolvedCount: number; sites: string[] } {
     this.requireFile();
-    const range = { result: this.fileStart.result, rope: this.fileStart.rope, limit };
-    const ids = (sql: string) => (this.db.prepare(sql).all(range) as { id: string }[]).map((row) => row.id);
-    // temp.file_samples holds each sample the file stored a result for, once.
     const unresolved = this.db
       .prepare(
-        `SELECT s.sample_id AS id, COUNT(*) OVER () AS n FROM temp.file_samples f JOIN samples s ON s.id = f.sample
+        `SELECT s.sample_id AS id, COUNT(*) OVER () AS n FROM temp.file_unplaced f JOIN samples s ON s.id = f.sample
          WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = f.sample)
            AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = s.sample_id)
-         ORDER BY s.sample_id LIMIT @limit`,
+         ORDER BY s.sample_id LIMIT ?`,
       )
-      .all(range) as { id: string; n: number }[];
+      .all(RECEIPT_LIST_LIMIT) as { id: string; n: number }[];
+    // Planned sample IDs resolve to the plan's pen: their sites are touched too.
+    const plannedSites = this.db
+      .prepare('SELECT DISTINCT p.site_id AS id FROM temp.file_unplaced f JOIN samples s ON s.id = f.sample JOIN planned_ropes p ON p.sample_id = s.sample_id')
+      .pluck()
+      .all() as string[];
     return {
       unresolved: unresolved.map((row) => row.id),
       unresolvedCount: unresolved[0]?.n ?? 0,
-      resolved: ids(
-        `SELECT s.sample_id AS id FROM ropes h JOIN samples s ON s.id = h.sample
-         WHERE h.id > @rope AND EXISTS (SELECT 1 FROM results r WHERE r.sample = h.sample AND r.id <= @result) ORDER BY 1 LIMIT @limit`,
-      ),
-      sites: ids(
-        `SELECT site_id AS id FROM ropes WHERE id > @rope
-         UNION SELECT h.site_id FROM temp.file_samples f JOIN ropes h ON h.sample = f.sample
-         UNION SELECT p.site_id FROM temp.file_samples f JOIN samples s ON s.id = f.sample JOIN planned_ropes p ON p.sample_id = s.sample_id
-         ORDER BY 1`,
-      ),
+      resolved: this.effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT),
+      resolvedCount: this.effects.resolvedCount,
+      sites: [...new Set([...this.effects.sites, ...plannedSites])].sort(),
     };
   }
 
@@ -527,7 +567,7 @@ export class Store {
     const hung = this.db
       .prepare(
         `SELECT s.sample_id AS sampleId, h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn, h.source
-         FROM ropes h JOIN samples s ON s.id = h.sample ${where} ORDER BY h.id`,
+         FROM ropes h JOIN samples s ON s.id = h.sample ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
       )
       .all({ siteId }) as StoredRope[];
     // A planned rope counts as hung once a result for it arrives: on its collection date, else its due date.

@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
-import type { Receipt } from '../../src/ingest/ingestFile.js';
+import { PARSE_IN_WORKER_FROM_BYTES, type Receipt } from '../../src/ingest/ingestFile.js';
 import { formatSampleId, mod37CheckCharacter } from '../../src/plan/sampleId.js';
 import { lookIntoStore, NORTHFIELD_HEADER, northfieldLine } from '../helpers/hardening.js';
 import { runCli } from '../helpers/runCli.js';
@@ -145,6 +145,17 @@ describe('bad inputs through ropewatch ingest', () => {
     // The first bytes of a PNG image (PNG specification, file signature) and some binary noise.
     const png = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 0x0d]), Buffer.alloc(200, 0x07)]);
     expectFileRefused(ws, await ingestOne(ws, 'nvdl_picture.csv', png), 'not-csv');
+  });
+
+  it('refuses a large export whose quote never closes (malformed-csv, the line the record starts on) instead of reading the rest as one field', async () => {
+    const ws = workspace();
+    // Line 4 opens a quote that never closes; six megabytes follow (read on the parse worker).
+    const filler = `${'x'.repeat(99)}\n`.repeat(60_000);
+    const text = lines(northfieldLine('NV-1', 'Q-1', 'PRRSV', '31.0'), northfieldLine('NV-2', 'Q-2', 'PRRSV', 'Undetermined'), 'NV-3,"Q-3,PRRSV NA/EU RT-PCR,30.1') + filler;
+    expect(Buffer.byteLength(text)).toBeGreaterThanOrEqual(PARSE_IN_WORKER_FROM_BYTES);
+    const out = await ingestOne(ws, 'nvdl_unclosed_big.csv', text);
+    expectFileRefused(ws, out, 'malformed-csv');
+    expect(out.receipt.reason?.line).toBe(4);
   });
 
   it('refuses prose that is text but no lab export or rope sheet (unknown-format)', async () => {

@@ -4,30 +4,43 @@
  * (BEGIN IMMEDIATE ... COMMIT), so after any crash it holds all rows of the file or none, and the
  * file moves out of the inbox only after the commit (src/pipeline.ts), so a second run finishes it.
  * SQLite's WAL recovery discards frames of a transaction that never committed (SQLite
- * documentation, "Write-Ahead Logging", section on recovery).
+ * documentation, "Write-Ahead Logging", section on recovery). Large files are read on a parse
+ * worker thread and smaller ones on the main thread: both are killed mid-file.
  */
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
+import { PARSE_IN_WORKER_FROM_BYTES } from '../../src/ingest/ingestFile.js';
 import { bigNorthfieldExport, lookIntoStore, processWorkspace, spawnCli } from '../helpers/hardening.js';
 
-/** Rows of the export: enough that storing takes well over a second on a slow CI core. */
-const ROWS = 40_000;
+/**
+ * Rows of the exports: enough that storing takes well over a second on a slow CI core; the
+ * larger is read on the parse worker, the smaller on the main thread (checked below).
+ */
+const WORKER_ROWS = 60_000;
+const MAIN_THREAD_ROWS = 30_000;
 /**
  * Where to kill, as the share of the export the child has read since it took the store's write
  * lock (its file transaction began): early, halfway, and near the end of the rows. Progress is
  * the child's `rchar` in /proc/<pid>/io (proc(5)); the parser reads with back-pressure, so what
  * has been read is at most a few chunks ahead of what has been stored.
  */
-const KILL_AT_SHARE = [0.15, 0.5, 0.85];
+const CASES = [
+  { rows: WORKER_ROWS, share: 0.15 },
+  { rows: WORKER_ROWS, share: 0.5 },
+  { rows: WORKER_ROWS, share: 0.85 },
+  { rows: MAIN_THREAD_ROWS, share: 0.5 },
+];
 
 let root: string;
-let bytes: Buffer;
+const exports = new Map<number, Buffer>();
 beforeAll(() => {
   root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-crash-'));
-  bytes = bigNorthfieldExport(ROWS);
+  for (const rows of [WORKER_ROWS, MAIN_THREAD_ROWS]) exports.set(rows, bigNorthfieldExport(rows));
+  expect(exports.get(WORKER_ROWS)!.length).toBeGreaterThanOrEqual(PARSE_IN_WORKER_FROM_BYTES);
+  expect(exports.get(MAIN_THREAD_ROWS)!.length).toBeLessThan(PARSE_IN_WORKER_FROM_BYTES);
 });
 afterAll(() => fs.rmSync(root, { recursive: true, force: true }));
 
@@ -80,8 +93,9 @@ async function waitForBytesRead(pid: number, atLeast: number, timeoutMs: number)
 }
 
 describe('a crash (SIGKILL) while an export is being stored', () => {
-  it.each(KILL_AT_SHARE)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely (killed after reading %s of the rows)', async (share) => {
-    const ws = workspace(`kill-${share}`);
+  it.each(CASES)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely ($rows rows, killed after reading $share of them)', async ({ rows: ROWS, share }) => {
+    const bytes = exports.get(ROWS)!;
+    const ws = workspace(`kill-${ROWS}-${share}`);
     const file = path.join(ws.paths.inbox, 'nvdl_big.csv');
     fs.writeFileSync(file, bytes);
 

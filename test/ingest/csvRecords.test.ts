@@ -9,7 +9,7 @@
 import { parse } from 'csv-parse/sync';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { CsvRecordReader, UnclosedQuoteError, type CsvRecord } from '../../src/ingest/csvRecords.js';
+import { CsvRecordReader, MAX_RECORD_CHARS, RecordTooLongError, UnclosedQuoteError, type CsvRecord } from '../../src/ingest/csvRecords.js';
 
 const SEED = 20261202;
 
@@ -91,13 +91,36 @@ describe('CsvRecordReader against csv-parse', () => {
     expect(() => readInChunks('a,b\nc,"d\ne\nf', ',', 0, [3])).toThrow(expect.objectContaining({ line: 2 }));
   });
 
-  it('reads a field far longer than a chunk in linear time (a 5 MB quoted field in 1 KB chunks)', () => {
-    const big = 'x'.repeat(5_000_000);
+  it('reads a field far longer than a chunk in linear time (a 3.9 million character quoted field in 1 KB chunks)', () => {
+    const big = 'x'.repeat(3_900_000);
     const read = readInChunks(`id,note\n1,"${big}"\n2,ok\n`, ',', 1, [1024]);
     expect(read.map((record) => [record.cells[0], record.cells[1]!.length, record.line])).toEqual([
-      ['1', 5_000_000, 2],
+      ['1', 3_900_000, 2],
       ['2', 2, 3],
     ]);
+  });
+
+  it('refuses a record longer than MAX_RECORD_CHARS, naming the line it starts on, before holding it all', () => {
+    // A quote opened on line 3 and never closed: the rest of a large file would become one field.
+    const reader = new CsvRecordReader(',', 1);
+    const out: CsvRecord[] = [];
+    reader.push('id,note\n1,ok\n2,"never closed\n', out);
+    const line = 'y'.repeat(999) + '\n';
+    let thrown: unknown;
+    let fed = 0;
+    try {
+      while (fed < 2 * MAX_RECORD_CHARS) {
+        reader.push(line.repeat(64), out);
+        fed += 64_000;
+      }
+    } catch (error) {
+      thrown = error;
+    }
+    expect(thrown).toBeInstanceOf(RecordTooLongError);
+    expect((thrown as RecordTooLongError).line).toBe(3);
+    // Refused within one chunk of the limit, not at the end of the text.
+    expect(fed).toBeLessThanOrEqual(MAX_RECORD_CHARS + 64_000);
+    expect(out.map((record) => record.line)).toEqual([2]);
   });
 
   it('refuses a delimiter that is not one plain character', () => {
