@@ -201,7 +201,10 @@ export const MIGRATIONS: readonly Migration[] = [
     ORDER BY s.id;
   DROP TABLE ropes;
   ALTER TABLE ropes_next RENAME TO ropes;
-  CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, barn_id, pen_id, hung_on);
+  -- One rope per pen per day. Site first (look-ups by site), then the day: a round's new ropes
+  -- carry the newest days, so they go in at the end of each site's part of the index instead of
+  -- between the ropes of every earlier round.
+  CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, hung_on, barn_id, pen_id);
   `,
   },
 ];
