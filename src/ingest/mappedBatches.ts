@@ -13,11 +13,21 @@ import { mapResultRow, mapRopeRow, type PlannedIdCheck, type ResultContext, type
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */
 export const BATCH_ROWS = 2000;
-/** Bytes read at a time. */
-const READ_CHUNK_BYTES = 256 * 1024;
+/**
+ * Bytes read at a time: small enough that a chunk's text is an ordinary young object (V8 puts a
+ * string over 128 KB straight into the old generation, where only a full collection frees it,
+ * and the heap would grow with the file).
+ */
+const READ_CHUNK_BYTES = 64 * 1024;
 
-export interface MappedBatch {
-  results: ResultRow[];
+/** What the store reads a batch's rows through: an array, or rows decoded on demand. */
+export interface RowList<T> {
+  readonly length: number;
+  at(index: number): T | undefined;
+}
+
+export interface MappedBatch<Rows extends RowList<ResultRow> = RowList<ResultRow>> {
+  results: Rows;
   ropes: RopeRow[];
   /** Rows refused before the store saw them (ragged rows, bad cells), with line and field. */
   rejections: RowRejection[];
@@ -36,13 +46,13 @@ export interface MappingInput {
  * Yields the file's rows in batches of about `batchRows`.
  * @throws EncodingError, UnclosedQuoteError (the file cannot be trusted past that line)
  */
-export async function* mappedBatches(input: MappingInput, plannedIdCheck: PlannedIdCheck, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch> {
+export async function* mappedBatches(input: MappingInput, plannedIdCheck: PlannedIdCheck, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
   const { kind } = input;
   const width = kind.header.length;
   const resultContext: ResultContext | undefined =
     kind.kind === 'results' ? { fileName: input.fileName, lab: kind.lab, columnIndex: kind.columnIndex, assayById: input.assayById, sites: input.sites, plannedIdCheck } : undefined;
   const ropeContext: RopeContext = { fileName: input.fileName, columnIndex: kind.columnIndex, sites: input.sites, plannedIdCheck };
-  let batch: MappedBatch = { results: [], ropes: [], rejections: [] };
+  let batch: MappedBatch<ResultRow[]> = { results: [], ropes: [], rejections: [] };
   const size = () => batch.results.length + batch.ropes.length + batch.rejections.length;
 
   const take = ({ cells, line }: CsvRecord): void => {
@@ -75,7 +85,7 @@ export async function* mappedBatches(input: MappingInput, plannedIdCheck: Planne
   const decoder = new TextChunkDecoder(input.sniffed);
   const reader = new CsvRecordReader(kind.delimiter, kind.headerLine);
   const records: CsvRecord[] = [];
-  const takeAll = function* (): Generator<MappedBatch> {
+  const takeAll = function* (): Generator<MappedBatch<ResultRow[]>> {
     for (const record of records) {
       take(record);
       if (size() >= batchRows) {

@@ -10,6 +10,7 @@ import Database from 'better-sqlite3';
 import fs from 'node:fs';
 import path from 'node:path';
 import type { RowRejection } from '../ingest/errors.js';
+import type { RowList } from '../ingest/mappedBatches.js';
 import type { ResultRow, RopeRow } from '../ingest/rows.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
 
@@ -328,10 +329,11 @@ export class Store {
   }
 
   /** Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`. */
-  insertResults(fileId: number, rows: readonly ResultRow[]): InsertCounts {
+  insertResults(fileId: number, rows: RowList<ResultRow>): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
-    for (const row of rows) {
+    for (let index = 0; index < rows.length; index++) {
+      const row = rows.at(index)!;
       const sample = this.sampleInFile(row.sampleId);
       const info = this.statements.insertResult.run(
         fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
