@@ -1,0 +1,70 @@
+/**
+ * The form in which the parse worker hands rows to the store thread: whatever a batch holds, the
+ * rows read back are the rows sent, field for field (the oracle is the batch itself), and the
+ * typed arrays listed for transfer are exactly the ones the batch owns.
+ */
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { encodeBatch, transferables, WireRows, decodeBatch } from '../../src/ingest/batchWire.js';
+import type { ResultRow } from '../../src/ingest/rows.js';
+
+const SEED = 20261203;
+const text = fc.string({ unit: 'binary', maxLength: 12 });
+const maybe = <T>(arbitrary: fc.Arbitrary<T>) => fc.option(arbitrary, { nil: null });
+
+const resultRow: fc.Arbitrary<ResultRow> = fc.record({
+  line: fc.integer({ min: 2, max: 10_000_000 }),
+  labId: fc.constantFrom('northfield', 'ostermark'),
+  sampleId: text,
+  assayId: fc.constantFrom('PRRSV', 'IAV'),
+  labAssay: text,
+  ct: maybe(fc.double({ min: 0.01, max: 60, noNaN: true })),
+  ctRaw: text,
+  labCall: maybe(text),
+  accession: maybe(text),
+  collectedOn: maybe(fc.constantFrom('2026-08-03', '2026-08-17')),
+  reportedOn: maybe(fc.constantFrom('2026-08-06', '2026-08-20')),
+  reportStatus: maybe(fc.constantFrom('Final', 'Corrected')),
+  control: maybe(fc.constantFrom('PASS', 'FAIL')),
+  resultClass: fc.constantFrom('positive', 'suspect', 'negative', 'invalid'),
+  reason: text,
+  loadBand: maybe(fc.constantFrom('high', 'moderate', 'low')),
+  positiveBelow: fc.integer({ min: 30, max: 38 }),
+  suspectBelow: fc.integer({ min: 36, max: 40 }),
+  cycleLimit: fc.constantFrom(40, 45),
+  markedReissue: fc.boolean(),
+  callDiffers: fc.boolean(),
+  contentKey: fc.integer({ min: 0, max: 2 ** 52 - 1 }),
+  encodedRope: fc.option(fc.record({ siteId: text, barnId: text, penId: text, hungOn: fc.constantFrom('2026-08-03', '2026-08-04') }), { nil: undefined }),
+});
+
+describe('batch wire format', () => {
+  it('gives back every row field for field, in order', () => {
+    fc.assert(
+      fc.property(fc.array(resultRow, { maxLength: 40 }), (rows) => {
+        const wire = encodeBatch({ results: rows, ropes: [], rejections: [] });
+        // Through structured clone with the listed buffers moved, as postMessage does.
+        const arrived = structuredClone(wire, { transfer: transferables(wire) });
+        const decoded = decodeBatch(arrived).results;
+        expect(decoded.length).toBe(rows.length);
+        const back = Array.from({ length: decoded.length }, (_, i) => decoded.at(i));
+        // toEqual treats an absent key and an undefined one alike: compare the rope explicitly.
+        expect(back).toEqual(rows);
+        expect(back.map((row) => row?.encodedRope === undefined)).toEqual(rows.map((row) => row.encodedRope === undefined));
+      }),
+      { seed: SEED, numRuns: 300 },
+    );
+  });
+
+  it('stores each distinct text of a column once per batch', () => {
+    const row = (i: number): ResultRow => ({
+      line: i + 2, labId: 'northfield', sampleId: `S-${i}`, assayId: 'PRRSV', labAssay: 'PRRSV NA/EU RT-PCR', ct: null, ctRaw: 'Undetermined', labCall: 'Negative',
+      accession: `NV-${i}`, collectedOn: '2026-08-03', reportedOn: '2026-08-06', reportStatus: 'Final', control: 'PASS', resultClass: 'negative',
+      reason: 'not detected', loadBand: null, positiveBelow: 36, suspectBelow: 38, cycleLimit: 40, markedReissue: false, callDiffers: false, contentKey: i, encodedRope: undefined,
+    });
+    const wire = encodeBatch({ results: Array.from({ length: 100 }, (_, i) => row(i)), ropes: [], rejections: [] });
+    expect(wire.texts.ctRaw.values).toEqual(['Undetermined']);
+    expect(wire.texts.sampleId.values).toHaveLength(100);
+    expect(new WireRows(wire).at(42)).toEqual(row(42));
+  });
+});
