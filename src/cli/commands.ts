@@ -52,6 +52,15 @@ export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Wo
   }
 }
 
+/** Sample IDs printed by `status` before "and N more" (--json lists them all). */
+const STATUS_LIST_LIMIT = 20;
+
+function listSome(ids: readonly string[], limit: number): string {
+  if (ids.length === 0) return 'none';
+  const shown = ids.slice(0, limit).join(', ');
+  return ids.length > limit ? `${ids.length}: ${shown} and ${ids.length - limit} more (--json lists them all)` : shown;
+}
+
 function receiptLine(receipt: Receipt): string {
   if (receipt.status === 'rejected') return `rejected ${receipt.file}: ${receipt.reason?.message ?? 'see receipt'}`;
   if (receipt.status === 'duplicate') return `skipped  ${receipt.file}: the same bytes were ingested before`;
@@ -150,7 +159,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           nextRound: planned.length > 0 ? { ropes: planned.length, dueOn: planned[0]!.dueOn } : null,
         };
       });
-      const status = { store: ws.dbFile, ...counts, unresolvedSamples: unresolved, sites };
+      const status = { store: ws.dbFile, ...counts, unresolvedSampleCount: unresolved.length, unresolvedSamples: unresolved, sites };
       if (options.json) {
         printJson(io, status);
         return;
@@ -162,7 +171,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           `results: ${counts.results} stored, ${counts.currentResults} current (others superseded by reissues)`,
           `ropes: ${counts.ropes} on sheets, ${counts.planned} planned`,
           `refused rows: ${counts.rejectedRows}`,
-          `unresolved samples (no rope sheet yet): ${unresolved.length ? unresolved.join(', ') : 'none'}`,
+          `unresolved samples (no rope sheet yet): ${listSome(unresolved, STATUS_LIST_LIMIT)}`,
           ...sites.map(
             (site) =>
               `site ${site.site} (${site.name}): ${site.rounds} round${site.rounds === 1 ? '' : 's'}` +

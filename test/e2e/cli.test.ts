@@ -82,9 +82,23 @@ describe('ropewatch status and report', () => {
     const run = await runCli(['status', '--json', ...ws.cliFlags]);
     expect(run.code).toBe(0);
     const status = JSON.parse(run.stdout);
-    expect(status).toMatchObject({ files: 2, rejectedFiles: 0, results: 3, currentResults: 3, ropes: 2, rejectedRows: 0, unresolvedSamples: ['UNKNOWN-1'] });
+    expect(status).toMatchObject({ files: 2, rejectedFiles: 0, results: 3, currentResults: 3, ropes: 2, rejectedRows: 0, unresolvedSampleCount: 1, unresolvedSamples: ['UNKNOWN-1'] });
+    const text = await runCli(['status', ...ws.cliFlags]);
+    expect(text.stdout).toContain('unresolved samples (no rope sheet yet): UNKNOWN-1\n');
     expect(status.sites.find((site: { site: string }) => site.site === 'hollow-creek')).toMatchObject({ rounds: 1, lastRound: { number: 1, id: 'r01-2026-08-03' } });
     expect(status.sites.find((site: { site: string }) => site.site === 'tamsin-ridge')).toMatchObject({ rounds: 0, lastRound: null });
+  });
+
+  it('prints at most 20 unresolved samples as text, with how many there are; --json lists all', async () => {
+    const ws = workspace();
+    const rows = Array.from({ length: 25 }, (_, i) => ({ sampleId: `LOOSE-${String(i).padStart(2, '0')}`, assay: 'PRRSV' as const, ct: null, collectedOn: '2026-08-03' }));
+    expect((await runCli(['ingest', writeInbox(ws, 'nvdl_loose.csv', northfieldExport(rows, '2026-08-06', 1)), ...ws.cliFlags])).code).toBe(0);
+    const text = await runCli(['status', ...ws.cliFlags]);
+    expect(text.stdout).toContain('unresolved samples (no rope sheet yet): 25: LOOSE-00, LOOSE-01,');
+    expect(text.stdout).toContain('LOOSE-19 and 5 more (--json lists them all)');
+    expect(text.stdout).not.toContain('LOOSE-20');
+    const json = JSON.parse((await runCli(['status', '--json', ...ws.cliFlags])).stdout);
+    expect(json.unresolvedSamples).toHaveLength(25);
   });
 
   it('regenerates one site’s outputs with report --site and refuses an unknown site with exit 2', async () => {
