@@ -205,7 +205,6 @@ function loadAssays(file: string): Assay[] {
   });
 }
 
-
 function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfile {
   const raw = validate(labProfileSchema, readYaml(file), file);
   const assays = new Map<string, LabAssay>();
@@ -294,5 +293,3 @@ export function loadConfig(dir: string): Config {
     labById: new Map(labs.map((lab) => [lab.id, lab])),
   });
 }
-
-export { foldToken };

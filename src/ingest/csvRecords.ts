@@ -7,8 +7,9 @@
  * exports need: a quote inside an unquoted field is kept as text, and a quoted field followed by
  * text other than a delimiter or line end is kept as written, quotes included, and runs on
  * unquoted. These are csv-parse's rules with `relax_quotes`, which the tests use as the oracle.
- * The one refusal is a quote still open when the file ends: the rest of the file cannot be
- * trusted, so the caller refuses the file.
+ * Two refusals, after which the rest of the file cannot be trusted: a quote still open when the
+ * text ends, and a record longer than MAX_RECORD_CHARS (reading on would hold the rest of the
+ * file as one field).
  *
  * Lines without any quote are split in one step; the state machine handles the rest and carries
  * its state across chunks, so a huge field costs linear time.
@@ -124,12 +125,7 @@ export class CsvRecordReader {
       if (this.mode === Mode.FieldStart && !this.inRecord) {
         // A whole line with no quote in it: one split.
         const lineEnd = text.indexOf('\n', at);
-        if (lineEnd === -1) {
-          if (nextQuote === length) {
-            this.readUnquotedTail(text, at);
-            return;
-          }
-        } else if (nextQuote > lineEnd) {
+        if (lineEnd !== -1 && nextQuote > lineEnd) {
           out.push({ cells: text.slice(at, lineEnd).split(delimiter), line: this.line });
           at = lineEnd + 1;
           this.line++;
@@ -206,20 +202,6 @@ export class CsvRecordReader {
     this.field = '';
     this.inRecord = false;
     this.mode = Mode.FieldStart;
-  }
-
-  /** Text with no quote and no line end left in this chunk: the start of an unquoted field. */
-  private readUnquotedTail(text: string, at: number): void {
-    this.inRecord = true;
-    let start = at;
-    for (let end = text.indexOf(this.delimiter, start); end !== -1; end = text.indexOf(this.delimiter, start)) {
-      this.cells.push(this.field + text.slice(start, end));
-      this.field = '';
-      start = end + 1;
-    }
-    this.field += text.slice(start);
-    // Right after a delimiter the next field has not begun: a quote there would open it.
-    this.mode = this.field === '' ? Mode.FieldStart : Mode.Unquoted;
   }
 
   /** Ends the current field at `at` (a delimiter or LF); returns where reading goes on. */

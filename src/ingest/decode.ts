@@ -2,7 +2,6 @@
  * Bytes to text: byte-order marks, the declared or sniffed encoding, and line endings folded to
  * LF so that line numbers count the way a person counts them in an editor.
  */
-import { Transform, type TransformCallback } from 'node:stream';
 
 export type TextEncoding = 'utf-8' | 'latin1' | 'utf-16le' | 'utf-16be';
 
@@ -110,7 +109,7 @@ export class TextChunkDecoder {
       const badLine = this.lineOfBadByte(this.twin.decode(bytes, { stream: true }));
       throw new EncodingError(badLine, `the bytes on line ${badLine} are not valid ${this.sniffed.encoding}`);
     }
-    // The twin must see every chunk to stay in step; it only runs the strict decoder's course.
+    // The twin must see every chunk to stay in step with the strict decoder (Latin-1 never fails).
     if (this.sniffed.encoding !== 'latin1') this.twin.decode(bytes, { stream: true });
     return this.fold(text);
   }
@@ -146,32 +145,6 @@ export class TextChunkDecoder {
     for (let i = out.indexOf('\n'); i !== -1; i = out.indexOf('\n', i + 1)) this.line++;
     return out;
   }
-}
-
-/**
- * A stream of bytes to a stream of text with CRLF and lone CR folded to LF (TextChunkDecoder).
- * @throws EncodingError (through the stream) naming the line of the first invalid byte.
- */
-export function decodeStream(sniffed: Sniffed): Transform {
-  const decoder = new TextChunkDecoder(sniffed);
-  return new Transform({
-    readableObjectMode: false,
-    decodeStrings: true,
-    transform(chunk: Buffer, _encoding, callback: TransformCallback) {
-      try {
-        callback(null, decoder.decode(chunk));
-      } catch (error) {
-        callback(error as Error);
-      }
-    },
-    flush(callback: TransformCallback) {
-      try {
-        callback(null, decoder.end());
-      } catch (error) {
-        callback(error as Error);
-      }
-    },
-  });
 }
 
 /** Decodes a whole (small) buffer the same way, for sniffing headers. Invalid bytes become U+FFFD. */

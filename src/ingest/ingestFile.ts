@@ -7,13 +7,12 @@ import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/types.js';
-import { FileAlreadyStoredError, type Store, type StoredFile } from '../store/store.js';
+import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type Store, type StoredFile } from '../store/store.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
 import { mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
-import { plannedIdChecker } from './plannedIds.js';
 import { ParseWorker } from './workerBatches.js';
 
 const HEAD_BYTES = 64 * 1024;
@@ -22,8 +21,6 @@ const HEAD_BYTES = 64 * 1024;
  * it, starting a worker costs more than it saves.
  */
 export const PARSE_IN_WORKER_FROM_BYTES = 4 * 1024 * 1024;
-/** Rejected rows listed in full in a receipt; the rest are counted (all are in the store). */
-const RECEIPT_ROW_LIMIT = 500;
 /** Rejected files up to this size keep their bytes in the store too. */
 const KEEP_BYTES_LIMIT = 16 * 1024 * 1024;
 
@@ -222,7 +219,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       deps.store.insertRejections(fileId, list);
       receipt.rows.rejected += list.length;
       for (const rejection of list) {
-        if (receipt.rejectedRows.length < RECEIPT_ROW_LIMIT) receipt.rejectedRows.push(rejection);
+        if (receipt.rejectedRows.length < RECEIPT_LIST_LIMIT) receipt.rejectedRows.push(rejection);
         else receipt.rejectedRowsNotListed++;
       }
     };
@@ -237,7 +234,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     };
 
     const input: MappingInput = { file, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById };
-    const batches = worker ? worker.batches(input) : mappedBatches(input, plannedIdChecker(deps.config));
+    const batches = worker ? worker.batches(input) : mappedBatches(input);
     for await (const batch of batches) store(batch);
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {

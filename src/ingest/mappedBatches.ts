@@ -9,7 +9,8 @@ import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
 import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
 import type { RowRejection } from './errors.js';
-import { mapResultRow, mapRopeRow, type PlannedIdCheck, type ResultContext, type ResultRow, type RopeContext, type RopeRow } from './rows.js';
+import { plannedIdChecker } from './plannedIds.js';
+import { mapResultRow, mapRopeRow, type ResultContext, type ResultRow, type RopeContext, type RopeRow } from './rows.js';
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */
 export const BATCH_ROWS = 2000;
@@ -44,10 +45,11 @@ export interface MappingInput {
 
 /**
  * Yields the file's rows in batches of about `batchRows`.
- * @throws EncodingError, UnclosedQuoteError (the file cannot be trusted past that line)
+ * @throws EncodingError, UnclosedQuoteError, RecordTooLongError (the file cannot be trusted past that line)
  */
-export async function* mappedBatches(input: MappingInput, plannedIdCheck: PlannedIdCheck, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
+export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
   const { kind } = input;
+  const plannedIdCheck = plannedIdChecker(input);
   const width = kind.header.length;
   const resultContext: ResultContext | undefined =
     kind.kind === 'results' ? { fileName: input.fileName, lab: kind.lab, columnIndex: kind.columnIndex, assayById: input.assayById, sites: input.sites, plannedIdCheck } : undefined;

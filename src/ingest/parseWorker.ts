@@ -4,10 +4,8 @@
  * store to take one before it posts more, so memory stays bounded whatever the file's size.
  */
 import { parentPort } from 'node:worker_threads';
-import type { Config } from '../config/types.js';
 import { encodeBatch, transferables } from './batchWire.js';
 import { mappedBatches, type MappingInput } from './mappedBatches.js';
-import { plannedIdChecker } from './plannedIds.js';
 import { BATCHES_IN_FLIGHT, describeWorkerFailure, type FromWorker, type ToWorker } from './workerProtocol.js';
 
 const port = parentPort!;
@@ -18,9 +16,7 @@ const post = (message: FromWorker, transfer: ArrayBuffer[] = []) => port.postMes
 
 async function read(input: MappingInput): Promise<void> {
   try {
-    // The planned-ID check needs only the sites' codes, which travel with the input.
-    const check = plannedIdChecker({ sites: input.sites } as Config);
-    for await (const batch of mappedBatches(input, check)) {
+    for await (const batch of mappedBatches(input)) {
       // Encode before waiting: the row objects then die young instead of being promoted while
       // the batch waits for the store, which keeps this thread's heap from growing with the file.
       const wire = encodeBatch(batch);

@@ -6,7 +6,7 @@ import type { PlannedIdCheck } from './rows.js';
  * The planned-ID check for a configuration: only IDs that start with a configured site code are
  * held to the check character, so a lab's or farm's own numbering is never refused by it.
  */
-export function plannedIdChecker(config: Config): PlannedIdCheck {
+export function plannedIdChecker(config: Pick<Config, 'sites'>): PlannedIdCheck {
   const codes = config.sites.map((site) => site.code);
   return (sampleId) => {
     if (!looksLikePlannedId(sampleId)) return { kind: 'other' };

@@ -11,7 +11,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { RowRejection } from '../ingest/errors.js';
 import type { RowList } from '../ingest/mappedBatches.js';
-import type { ResultRow, RopeRow } from '../ingest/rows.js';
+import type { ResultRow, RopeLocation, RopeRow } from '../ingest/rows.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
 
 export interface StoredFile {
@@ -75,6 +75,11 @@ export class FileAlreadyStoredError extends Error {
   }
 }
 
+/** One string per place and day, to tell whether two ropes hang in the same place. */
+function locationKey(rope: RopeLocation): string {
+  return `${rope.siteId}/${rope.barnId}/${rope.penId}/${rope.hungOn}`;
+}
+
 /** A sample as the store holds it, with its rope if it hangs in a pen. */
 interface StoredSample {
   id: number;
@@ -104,13 +109,12 @@ interface SampleInFile {
 /** What the open file changed, gathered while it is stored (for its receipt and outputs). */
 interface FileEffects {
   sites: Set<string>;
-  /** Samples with results before this file that its ropes placed: the first ones, and how many. */
+  /** Samples with results before this file that its ropes placed (the first ones by ID, bounded). */
   resolved: string[];
-  resolvedCount: number;
 }
 /** Samples remembered per file; rows of one sample usually sit together. */
 const SAMPLES_REMEMBERED = 10_000;
-/** Sample IDs listed in a receipt (all are counted). */
+/** Sample IDs and refused rows listed in a receipt (all are counted, and all are in the store). */
 export const RECEIPT_LIST_LIMIT = 500;
 /** Reason texts remembered: a few per Ct value and assay. */
 const REASONS_REMEMBERED = 50_000;
@@ -122,8 +126,7 @@ export interface StoreOptions {
 export class Store {
   readonly db: Database.Database;
   private inFile = false;
-  /** Highest result and rope row ids before the open file: its own rows are the ones above. */
-  private effects: FileEffects = { sites: new Set(), resolved: [], resolvedCount: 0 };
+  private effects: FileEffects = { sites: new Set(), resolved: [] };
   /**
    * Samples the open file has met (sample ID -> state), bounded: a sample's rows usually sit
    * together. A sample dropped from here is looked up again, never assumed new.
@@ -158,7 +161,6 @@ export class Store {
          VALUES (@name, @sha256, @kind, @labId, @receivedAt, @status, @reasonCode, @reason, @reasonLine, @reasonField, @encodingNote, @byteLength, @bytes)`,
       ),
       finishFile: db.prepare('UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id'),
-      // Positional parameters: binding 22 named values per row costs more than the insert itself.
       sampleByText: db.prepare(
         `SELECT s.id, EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id) AS hasResults,
                 h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn
@@ -168,6 +170,7 @@ export class Store {
       noteUnplaced: db.prepare('INSERT INTO temp.file_unplaced (sample) VALUES (?) ON CONFLICT DO NOTHING'),
       reasonByText: db.prepare('SELECT id FROM reasons WHERE text = ?').pluck(),
       insertReason: db.prepare('INSERT INTO reasons (text) VALUES (?)'),
+      // Positional parameters: binding 22 named values per row costs more than the insert itself.
       insertResult: db.prepare(
         `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
            report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key)
@@ -262,7 +265,7 @@ export class Store {
     this.inFile = true;
     this.samplesThisFile.clear();
     this.db.exec('DELETE FROM temp.file_unplaced');
-    this.effects = { sites: new Set(), resolved: [], resolvedCount: 0 };
+    this.effects = { sites: new Set(), resolved: [] };
     // The caller's hash look-up ran before the lock; a second process ingesting the same file
     // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
     const known = this.findFileByHash(file.sha256);
@@ -302,7 +305,7 @@ export class Store {
       key: created ?? stored!.id,
       hadResults: stored?.hasResults === 1,
       reported: [],
-      ropedAt: stored?.siteId == null ? undefined : `${stored.siteId}/${stored.barnId}/${stored.penId}/${stored.hungOn}`,
+      ropedAt: stored?.siteId == null ? undefined : locationKey(stored as RopeLocation),
       ropeSiteId: stored?.siteId ?? undefined,
       patternTriedAt: undefined,
       counted: false,
@@ -352,7 +355,7 @@ export class Store {
       const rope = row.encodedRope;
       if (rope) {
         // A sample's other assays carry the same encoded rope: it is placed (or refused) once.
-        const location = `${rope.siteId}/${rope.barnId}/${rope.penId}/${rope.hungOn}`;
+        const location = locationKey(rope);
         if (sample.ropedAt !== location && sample.patternTriedAt !== location) {
           sample.patternTriedAt = location;
           this.insertRopeRow(fileId, sample, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
@@ -394,11 +397,10 @@ export class Store {
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
-      sample.ropedAt = `${row.siteId}/${row.barnId}/${row.penId}/${row.hungOn}`;
+      sample.ropedAt = locationKey(row);
       sample.ropeSiteId = row.siteId;
       this.effects.sites.add(row.siteId);
       if (sample.hadResults) {
-        this.effects.resolvedCount++;
         this.effects.resolved.push(row.sampleId);
         if (this.effects.resolved.length >= 2 * RECEIPT_LIST_LIMIT) this.effects.resolved = this.effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT);
       }
@@ -452,7 +454,7 @@ export class Store {
    * RECEIPT_LIST_LIMIT listed, all counted), earlier results its ropes now place, and the sites
    * it touched (gathered while storing; the samples that hang nowhere are looked up here).
    */
-  openFileEffects(): { unresolved: string[]; unresolvedCount: number; resolved: string[]; resolvedCount: number; sites: string[] } {
+  openFileEffects(): { unresolved: string[]; unresolvedCount: number; resolved: string[]; sites: string[] } {
     this.requireFile();
     const unresolved = this.db
       .prepare(
@@ -471,7 +473,6 @@ export class Store {
       unresolved: unresolved.map((row) => row.id),
       unresolvedCount: unresolved[0]?.n ?? 0,
       resolved: this.effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT),
-      resolvedCount: this.effects.resolvedCount,
       sites: [...new Set([...this.effects.sites, ...plannedSites])].sort(),
     };
   }

@@ -12,13 +12,12 @@
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { Readable } from 'node:stream';
 import fc from 'fast-check';
 import { afterAll, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import type { LabAssay, LabProfile } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { BinaryContentError, decodeStream, EncodingError, sniffEncoding } from '../../src/ingest/decode.js';
+import { BinaryContentError, EncodingError, sniffEncoding, TextChunkDecoder } from '../../src/ingest/decode.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { IngestError, REJECTION_CODES } from '../../src/ingest/errors.js';
 import { ingestFile, type Receipt } from '../../src/ingest/ingestFile.js';
@@ -154,7 +153,7 @@ describe('detectFileKind on arbitrary heads', () => {
   });
 });
 
-/** Runs bytes through decodeStream in the given chunk sizes; returns the text or the error. */
+/** Runs bytes through TextChunkDecoder in the given chunk sizes; returns the text or the error. */
 async function decodeChunks(bytes: Uint8Array, chunkSizes: readonly number[], declared: 'utf-8' | 'latin1' | 'auto'): Promise<{ text: string } | { error: unknown }> {
   let sniffed;
   try {
@@ -172,14 +171,16 @@ async function decodeChunks(bytes: Uint8Array, chunkSizes: readonly number[], de
   }
   let text = '';
   try {
-    for await (const part of Readable.from(chunks, { objectMode: false }).pipe(decodeStream(sniffed))) text += (part as Buffer).toString('utf8');
+    const decoder = new TextChunkDecoder(sniffed);
+    for (const chunk of chunks) text += decoder.decode(chunk);
+    text += decoder.end();
     return { text };
   } catch (error) {
     return { error };
   }
 }
 
-describe('sniffEncoding and decodeStream on arbitrary bytes', () => {
+describe('sniffEncoding and TextChunkDecoder on arbitrary bytes', () => {
   it('yield text or a typed error (BinaryContentError, EncodingError) and do not depend on how the bytes are chunked', async () => {
     await fc.assert(
       fc.asyncProperty(fc.uint8Array({ maxLength: 300 }), fc.array(fc.integer({ min: 1, max: 7 }), { minLength: 1, maxLength: 5 }), fc.constantFrom('utf-8' as const, 'latin1' as const, 'auto' as const), async (bytes, sizes, declared) => {

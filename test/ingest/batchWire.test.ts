@@ -45,6 +45,9 @@ describe('batch wire format', () => {
         const wire = encodeBatch({ results: rows, ropes: [], rejections: [] });
         // Through structured clone with the listed buffers moved, as postMessage does.
         const arrived = structuredClone(wire, { transfer: transferables(wire) });
+        // Every buffer the batch owns was listed: a moved buffer is left empty behind (WHATWG
+        // HTML, structured serialize with transfer: the source ArrayBuffer is detached).
+        expect([wire.numbers, ...Object.values(wire.texts).map((text) => text.index)].map((array) => array.byteLength)).toEqual(new Array(1 + Object.keys(wire.texts).length).fill(0));
         const decoded = decodeBatch(arrived).results;
         expect(decoded.length).toBe(rows.length);
         const back = Array.from({ length: decoded.length }, (_, i) => decoded.at(i));

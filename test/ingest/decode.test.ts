@@ -3,14 +3,12 @@
  * EF BB BF for UTF-8, FF FE for UTF-16LE) and the WHATWG Encoding Standard (TextDecoder); the
  * expected bytes here are produced by Node's Buffer encoders, an oracle outside the project.
  */
-import { Readable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
-import { BinaryContentError, decodeHead, decodeStream, EncodingError, sniffEncoding, type Sniffed } from '../../src/ingest/decode.js';
+import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, TextChunkDecoder, type Sniffed } from '../../src/ingest/decode.js';
 
 async function decodeChunks(chunks: readonly Buffer[], sniffed: Sniffed): Promise<string> {
-  let out = '';
-  for await (const piece of Readable.from(chunks, { objectMode: false }).pipe(decodeStream(sniffed))) out += String(piece);
-  return out;
+  const decoder = new TextChunkDecoder(sniffed);
+  return chunks.map((chunk) => decoder.decode(chunk)).join('') + decoder.end();
 }
 
 async function decodeError(chunks: readonly Buffer[], sniffed: Sniffed): Promise<unknown> {
@@ -57,7 +55,7 @@ describe('sniffEncoding', () => {
   });
 });
 
-describe('decodeStream', () => {
+describe('TextChunkDecoder', () => {
   const utf8: Sniffed = { encoding: 'utf-8', bomLength: 0, note: '' };
 
   it('folds CRLF, LF and lone CR to LF, also when CRLF is split across chunks', async () => {

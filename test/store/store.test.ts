@@ -10,7 +10,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
-import { foldToken } from '../../src/config/load.js';
+import { foldToken } from '../../src/util/fold.js';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
 import { MIGRATIONS } from '../../src/store/migrations.js';
 import { Store } from '../../src/store/store.js';
