@@ -122,7 +122,7 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
   const receipt =
     mode === 'pipeline'
       ? (await processFile(ws, target)).receipt
-      : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now, regenerate: () => {} });
+      : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now });
   const ms = performance.now() - started;
   const siteRounds = mode === 'pipeline' ? ws.config.sites.reduce((sum, site) => sum + (fs.existsSync(path.join(paths.outbox, site.id)) ? fs.readdirSync(path.join(paths.outbox, site.id)).filter((entry) => /^r\d+-/.test(entry)).length : 0), 0) : 0;
   const stored = ws.store.counts().results;

@@ -35,7 +35,7 @@ export async function benchRecompute(sites = 200): Promise<BenchRow[]> {
     writeBigExport(file, rows, shape, EVERY);
     const ws = openWorkspace(paths, () => new Date('2026-12-01T12:00:00Z'), () => {});
     try {
-      const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now, regenerate: () => {} });
+      const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now });
       if (receipt.status !== 'accepted') throw new Error(`recompute export refused: ${JSON.stringify(receipt.reason)}`);
       const started = performance.now();
       const analyses = regenerateOutputs(ws);

@@ -1,8 +1,11 @@
 /**
  * Rewrites a site's outputs from the store: every round's summary and cluster review, and the
  * next round's rope list (which is also stored as the expected rope sheet, so its sample IDs
- * resolve on ingest). Reads through the workspace's store connection, so inside an ingest
- * transaction it sees the file being ingested; a write failure aborts that transaction.
+ * resolve on ingest). Runs after a file's commit, never inside it: outputs show committed data
+ * only. The analysis reads one snapshot of the store; the files are staged under temporary names
+ * and renamed together; the store then records which site version and configuration the outbox
+ * shows, so a run that finds outputs behind the store (a crash or a full disk between commit and
+ * outputs) rebuilds them.
  */
 import { format } from 'date-fns';
 import path from 'node:path';
@@ -13,7 +16,7 @@ import { OutbreakCache, siteSpatial, type RoundSpatial } from './analysis/spatia
 import type { Site } from './config/types.js';
 import { buildSiteRounds, type SiteRound } from './interpret/roundModel.js';
 import { clustersCsv } from './report/clustersCsv.js';
-import { removeStaleFolders, writeFileAtomic, writeJson } from './report/files.js';
+import { removeStaleFolders, removeStrayTemps, StagedOutputs, type OutputWriter } from './report/files.js';
 import { nextRoundCsv, nextRoundJson } from './report/nextRoundFiles.js';
 import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
@@ -85,34 +88,114 @@ export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
   );
 }
 
-/** Writes one site's outputs under outbox/<site>/. */
-export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis): void {
+const json = (value: unknown): string => JSON.stringify(value, null, 2) + '\n';
+
+/** Writes one site's outputs under outbox/<site>/ through `writer`. */
+export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: OutputWriter): void {
   const siteDir = path.join(ws.outbox, analysis.site.id);
   analysis.summaries.forEach((summary, index) => {
     const roundDir = path.join(siteDir, summary.round.id);
-    writeJson(path.join(roundDir, 'summary.json'), summary);
-    writeFileAtomic(path.join(roundDir, 'summary.csv'), summaryCsv(summary));
+    writer.write(path.join(roundDir, 'summary.json'), json(summary));
+    writer.write(path.join(roundDir, 'summary.csv'), summaryCsv(summary));
     const spatial = analysis.spatial[index]!;
-    writeJson(path.join(roundDir, 'clusters.json'), spatial);
-    writeFileAtomic(path.join(roundDir, 'clusters.csv'), clustersCsv(spatial));
+    writer.write(path.join(roundDir, 'clusters.json'), json(spatial));
+    writer.write(path.join(roundDir, 'clusters.csv'), clustersCsv(spatial));
   });
-  writeJson(path.join(siteDir, 'next-round.json'), nextRoundJson(analysis.plan));
-  writeFileAtomic(path.join(siteDir, 'next-round.csv'), nextRoundCsv(analysis.plan));
-  writeSitePages(ws.outbox, ws.config, analysis);
-  // A late rope sheet can renumber rounds; folders of rounds that no longer exist go.
-  removeStaleFolders(siteDir, ROUND_FOLDER, new Set(analysis.summaries.map((summary) => summary.round.id)));
+  writer.write(path.join(siteDir, 'next-round.json'), json(nextRoundJson(analysis.plan)));
+  writer.write(path.join(siteDir, 'next-round.csv'), nextRoundCsv(analysis.plan));
+  writeSitePages(ws.outbox, ws.config, analysis, writer);
 }
 
-/** Regenerates the outputs of the named sites (all sites when none are named) and stores their plans. */
+/** Analyses, plans and writes one site, and records what the outbox now shows. */
+function rebuildSite(ws: Workspace, site: Site, cache: OutbreakCache, options: AnalyseOptions): SiteAnalysis {
+  // Another process may commit for this site while the outputs are written: build again from
+  // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).
+  for (let attempt = 1; ; attempt++) {
+    const { version, analysis } = ws.store.snapshot(() => ({
+      version: ws.store.siteVersion(site.id),
+      analysis: analyseSite(ws, site, ws.store.currentResults(site.id), cache, options),
+    }));
+    storePlan(ws, analysis);
+    const staged = new StagedOutputs();
+    try {
+      writeSiteOutputs(ws, analysis, staged);
+      staged.publish();
+    } catch (error) {
+      staged.discard();
+      throw error;
+    }
+    // A late rope sheet can renumber rounds; folders of rounds that no longer exist go.
+    removeStaleFolders(path.join(ws.outbox, site.id), ROUND_FOLDER, new Set(analysis.summaries.map((summary) => summary.round.id)));
+    ws.store.markOutputsBuilt(ws.outbox, site.id, version, ws.configDigest);
+    if (attempt >= 3 || ws.store.siteVersion(site.id) === version) return analysis;
+  }
+}
+
+/** Thrown when outputs could not be written: the store holds the data, the outbox is behind it. */
+export class OutputError extends Error {
+  override readonly name = 'OutputError';
+  constructor(
+    readonly siteIds: readonly string[],
+    reason: unknown,
+  ) {
+    super(
+      `the outputs of ${siteIds.join(', ')} could not be written (${reason instanceof Error ? reason.message : String(reason)}); ` +
+        'the store holds the data, and the outputs are rebuilt on the next run (or with `ropewatch report`)',
+      { cause: reason },
+    );
+  }
+}
+
+/**
+ * Regenerates the outputs of the named sites (all sites when none are named) from committed
+ * data and stores their plans.
+ * @throws OutputError when a site's outputs cannot be written (the others are still written)
+ */
 export function regenerateOutputs(ws: Workspace, siteIds?: readonly string[], options: AnalyseOptions = {}): SiteAnalysis[] {
   const sites = siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
   if (sites.length === 0) return [];
   const cache = new OutbreakCache(ws.config.analysis);
-  const analyses = sites.map((site) => analyseSite(ws, site, ws.store.currentResults(site.id), cache, options));
-  for (const analysis of analyses) {
-    storePlan(ws, analysis);
-    writeSiteOutputs(ws, analysis);
+  const analyses: SiteAnalysis[] = [];
+  const failed: { siteId: string; error: unknown }[] = [];
+  for (const site of sites) {
+    try {
+      analyses.push(rebuildSite(ws, site, cache, options));
+    } catch (error) {
+      failed.push({ siteId: site.id, error });
+    }
   }
-  writeIndex(ws.outbox, ws.config);
+  try {
+    writeIndex(ws.outbox, ws.config);
+  } catch (error) {
+    failed.push({ siteId: 'the index page', error });
+  }
+  if (failed.length > 0) throw new OutputError(failed.map((failure) => failure.siteId), failed[0]!.error);
   return analyses;
+}
+
+/**
+ * Sites whose outputs are behind the store or were built under another configuration (sites
+ * no file ever touched have nothing to show and are not listed).
+ */
+export function staleSites(ws: Workspace): string[] {
+  return ws.config.sites
+    .filter((site) => {
+      const version = ws.store.siteVersion(site.id);
+      if (version === 0) return false;
+      const built = ws.store.outputsBuilt(ws.outbox, site.id);
+      return built === undefined || built.siteVersion !== version || built.configDigest !== ws.configDigest;
+    })
+    .map((site) => site.id);
+}
+
+/**
+ * Brings outputs up to date at the start of a run: removes temporary files of writers that died,
+ * then rebuilds the sites that are behind. Returns the sites rebuilt.
+ * @throws OutputError when they still cannot be written
+ */
+export function catchUpOutputs(ws: Workspace): string[] {
+  removeStrayTemps(ws.outbox);
+  const behind = staleSites(ws);
+  if (behind.length > 0) regenerateOutputs(ws, behind);
+  return behind;
 }

@@ -1,13 +1,15 @@
 /**
- * One drop through the whole pipeline: ingest into the store, rewrite the outputs of the sites it
- * touched, then move the file (archive/ or rejected/ with a .reason.txt) and write its receipt.
- * The file moves only after the store has committed: a crash before that leaves it in the inbox,
- * and the content hash makes the retry safe.
+ * One drop through the whole pipeline: ingest into the store (one transaction), write its
+ * receipt, move the file (archive/ or rejected/ with a .reason.txt), then rewrite the outputs of
+ * the sites it touched from the committed store. The file moves only after the store has
+ * committed: a crash before that leaves it in the inbox, and the content hash makes the retry
+ * safe. Outputs come last and show committed data only; if they cannot be written the store
+ * remembers that they are behind, and the next run rebuilds them.
  */
 import fs from 'node:fs';
 import path from 'node:path';
-import { ingestFile, OutputError, type Receipt } from './ingest/ingestFile.js';
-import { regenerateOutputs } from './outputs.js';
+import { FileStillChangingError, ingestFile, type Receipt } from './ingest/ingestFile.js';
+import { OutputError, regenerateOutputs } from './outputs.js';
 import { writeFileAtomic, writeJson } from './report/files.js';
 import type { Workspace } from './workspace.js';
 
@@ -65,21 +67,17 @@ export function receiptText(receipt: Receipt): string {
 export interface ProcessOutcome {
   receipt: Receipt;
   movedTo: string;
+  /** Set when the file was stored but the outputs of its sites could not be written. */
+  outputError?: OutputError;
 }
 
 /**
  * Processes one inbox file end to end.
- * @throws OutputError when outputs cannot be written: nothing stored, the file stays where it is.
+ * @throws FileStillChangingError when the file changed while it was read: nothing stored, the
+ *   file stays where it is for the next run.
  */
 export async function processFile(ws: Workspace, file: string): Promise<ProcessOutcome> {
-  const receipt = await ingestFile(file, {
-    config: ws.config,
-    store: ws.store,
-    now: ws.now,
-    regenerate: (siteIds) => {
-      regenerateOutputs(ws, siteIds);
-    },
-  });
+  const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now });
   const name = path.basename(file);
   const stamp = receipt.sha256.slice(0, 8) || 'unread';
   try {
@@ -101,7 +99,14 @@ export async function processFile(ws: Workspace, file: string): Promise<ProcessO
       moveFile(file, movedTo);
     }
   }
+  if (receipt.status !== 'accepted' || receipt.sites.length === 0) return { receipt, movedTo };
+  try {
+    regenerateOutputs(ws, receipt.sites);
+  } catch (error) {
+    if (error instanceof OutputError) return { receipt, movedTo, outputError: error };
+    throw error;
+  }
   return { receipt, movedTo };
 }
 
-export { OutputError };
+export { FileStillChangingError, OutputError };

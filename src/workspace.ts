@@ -4,6 +4,7 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
+import { configDigest } from './config/digest.js';
 import { loadConfig } from './config/load.js';
 import type { Config } from './config/types.js';
 import { Store } from './store/store.js';
@@ -17,6 +18,8 @@ export interface WorkspacePaths {
 
 export interface Workspace extends WorkspacePaths {
   config: Config;
+  /** Digest of the configuration files as loaded (outputs record it). */
+  configDigest: string;
   store: Store;
   now: () => Date;
   log: (line: string) => void;
@@ -43,7 +46,8 @@ export function resolvePaths(cwd: string, options: PathOptions): WorkspacePaths 
 
 export function openWorkspace(paths: WorkspacePaths, now: () => Date, log: (line: string) => void): Workspace {
   const config = loadConfig(paths.configDir);
+  const digest = configDigest(paths.configDir);
   fs.mkdirSync(path.dirname(paths.dbFile), { recursive: true });
   const store = new Store(paths.dbFile);
-  return { ...paths, config, store, now, log, close: () => store.close() };
+  return { ...paths, config, configDigest: digest, store, now, log, close: () => store.close() };
 }

@@ -6,11 +6,12 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ConfigError } from '../config/load.js';
-import { OutputError, type Receipt } from '../ingest/ingestFile.js';
+import type { Receipt } from '../ingest/ingestFile.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
-import { regenerateOutputs } from '../outputs.js';
+import { catchUpOutputs, OutputError, regenerateOutputs } from '../outputs.js';
+import { removeStrayTemps } from '../report/files.js';
 import { planText } from '../report/planText.js';
-import { processFile } from '../pipeline.js';
+import { FileStillChangingError, processFile, type ProcessOutcome } from '../pipeline.js';
 import { runDemo } from '../demo/runDemo.js';
 import { watchInbox } from '../watch/index.js';
 import { openWorkspace, resolvePaths, type PathOptions, type Workspace } from '../workspace.js';
@@ -73,21 +74,52 @@ function receiptLine(receipt: Receipt): string {
   return `accepted ${receipt.file} (${receipt.kind}${receipt.lab ? `, ${receipt.lab}` : ''}): ${parts.join(', ')}`;
 }
 
+/**
+ * Rebuilds outputs left behind the store by an earlier run (a crash or a full disk between a
+ * commit and its outputs). Returns false when they still cannot be written.
+ */
+export function catchUp(ws: Workspace, io: CliIo): boolean {
+  try {
+    const rebuilt = catchUpOutputs(ws);
+    if (rebuilt.length > 0) io.stderr(`ropewatch: the outputs of ${rebuilt.join(', ')} were behind the store (an earlier run stopped before writing them); rebuilt\n`);
+    return true;
+  } catch (error) {
+    if (!(error instanceof OutputError)) throw error;
+    io.stderr(`ropewatch: ${error.message}\n`);
+    return false;
+  }
+}
+
+/**
+ * Runs one file through the pipeline and tells the user. Returns the outcome, or undefined when
+ * the file was still being written (nothing stored, left in the inbox).
+ */
+async function processAndTell(ws: Workspace, file: string, io: CliIo, json: boolean): Promise<ProcessOutcome | undefined> {
+  let outcome: ProcessOutcome;
+  try {
+    outcome = await processFile(ws, file);
+  } catch (error) {
+    if (!(error instanceof FileStillChangingError)) throw error;
+    io.stderr(`ropewatch: not read yet: ${error.message}\n`);
+    return undefined;
+  }
+  if (!json) io.stdout(`${receiptLine(outcome.receipt)}\n`);
+  if (outcome.outputError) io.stderr(`ropewatch: ${path.basename(file)} stored, but ${outcome.outputError.message}\n`);
+  return outcome;
+}
+
 /** Runs files through the pipeline in order; returns receipts. Exit 1 follows from refusals. */
 export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<{ receipts: Receipt[]; failed: boolean }> {
   const receipts: Receipt[] = [];
-  let failed = false;
+  let failed = !catchUp(ws, io);
   for (const file of files) {
-    try {
-      const { receipt } = await processFile(ws, file);
-      receipts.push(receipt);
-      if (receipt.status === 'rejected' || receipt.rows.rejected > 0) failed = true;
-      if (!json) io.stdout(`${receiptLine(receipt)}\n`);
-    } catch (error) {
-      if (!(error instanceof OutputError)) throw error;
+    const outcome = await processAndTell(ws, file, io, json);
+    if (outcome === undefined) {
       failed = true;
-      io.stderr(`ropewatch: ${error.message}\n`);
+      continue;
     }
+    receipts.push(outcome.receipt);
+    if (outcome.receipt.status === 'rejected' || outcome.receipt.rows.rejected > 0 || outcome.outputError) failed = true;
   }
   return { receipts, failed };
 }
@@ -118,6 +150,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
     if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
     await withWorkspace(io, options, async (ws) => {
       fs.mkdirSync(ws.inbox, { recursive: true });
+      catchUp(ws, io);
       io.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
       await watchInbox({
         inbox: ws.inbox,
@@ -127,13 +160,8 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         log: (line) => io.stdout(`${line}\n`),
         onError: (error, file) => io.stderr(`ropewatch: ${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}\n`),
         onFile: async (file) => {
-          try {
-            const { receipt } = await processFile(ws, file);
-            io.stdout(`${receiptLine(receipt)}\n`);
-          } catch (error) {
-            if (error instanceof OutputError) io.stderr(`ropewatch: ${error.message}\n`);
-            else throw error;
-          }
+          // A file still being written is read again when it settles (the watcher saw it change).
+          await processAndTell(ws, file, io, false);
         },
       });
       io.stdout('stopped\n');
@@ -199,7 +227,14 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         if (!site) throw new UsageError(`no site ${JSON.stringify(options.site)} in ${ws.configDir}/sites.yaml`);
         siteIds = [site.id];
       }
-      const analyses = regenerateOutputs(ws, siteIds);
+      removeStrayTemps(ws.outbox);
+      let analyses;
+      try {
+        analyses = regenerateOutputs(ws, siteIds);
+      } catch (error) {
+        if (error instanceof OutputError) throw new InputRejectedError(error.message);
+        throw error;
+      }
       if (options.round !== undefined) {
         const number = Number(options.round);
         const exists = analyses[0]?.rounds.some((round) => round.number === number);

@@ -12,7 +12,7 @@ import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
-import { mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
+import { FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { ParseWorker } from './workerBatches.js';
 
 const HEAD_BYTES = 64 * 1024;
@@ -51,18 +51,42 @@ export interface IngestDeps {
   config: Config;
   store: Store;
   now: () => Date;
-  /**
-   * Rewrites the outputs of these sites from the store, inside the file's transaction: if it
-   * throws (read-only or full outbox), the file is rolled back and stays in the inbox.
-   */
-  regenerate: (siteIds: readonly string[]) => void;
   /** Read and map files of at least this many bytes on a worker thread (default PARSE_IN_WORKER_FROM_BYTES). */
   parseInWorkerFromBytes?: number;
 }
 
-/** Thrown when outputs could not be written: the store is unchanged and the file stays put. */
-export class OutputError extends Error {
-  override readonly name = 'OutputError';
+/** What identifies one version of a file on disk: it changes when a writer touches it. */
+interface FileIdentity {
+  size: number;
+  mtimeMs: number;
+  ino: number;
+}
+
+function fileIdentity(file: string): FileIdentity {
+  const stats = fs.statSync(file);
+  return { size: stats.size, mtimeMs: stats.mtimeMs, ino: stats.ino };
+}
+
+/** Why the file on disk is no longer the one that was read, or undefined when it is the same. */
+function changedSince(file: string, before: FileIdentity, name: string): string | undefined {
+  let now: FileIdentity;
+  try {
+    now = fileIdentity(file);
+  } catch (error) {
+    return `${name} was moved or removed while it was read (${(error as NodeJS.ErrnoException).code ?? String(error)})`;
+  }
+  if (now.ino !== before.ino) return `${name} was replaced by another file while it was read`;
+  if (now.size !== before.size) return `${name} changed while it was read (${before.size} bytes when reading began, ${now.size} now)`;
+  if (now.mtimeMs !== before.mtimeMs) return `${name} was written to while it was read (its modification time moved)`;
+  return undefined;
+}
+
+/**
+ * The file was still being written while it was read: nothing of it is stored, it stays in the
+ * inbox, and the next run (or the watcher, once the file settles) reads it again.
+ */
+export class FileStillChangingError extends Error {
+  override readonly name = 'FileStillChangingError';
 }
 
 async function hashFile(file: string): Promise<{ sha256: string; size: number }> {
@@ -109,8 +133,8 @@ function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt
 
 /**
  * Ingests one file. Never throws for bad input: a refused file comes back as a receipt with
- * status `rejected`. Throws OutputError when outputs could not be written (nothing stored),
- * and re-throws unexpected errors after rolling back.
+ * status `rejected`. Throws FileStillChangingError when the file changed between the start of
+ * reading and the commit (nothing stored), and re-throws unexpected errors after rolling back.
  */
 export async function ingestFile(file: string, deps: IngestDeps): Promise<Receipt> {
   let worker: ParseWorker | undefined;
@@ -131,7 +155,10 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   const receivedAt = deps.now().toISOString();
   let sha256: string;
   let size: number;
+  let before: FileIdentity;
   try {
+    // Taken before the first byte is read: any write after it shows in size, mtime or inode.
+    before = fileIdentity(file);
     ({ sha256, size } = await hashFile(file));
   } catch (error) {
     const receipt = emptyReceipt(name, '', receivedAt);
@@ -140,6 +167,13 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     return receipt;
   }
   const receipt = emptyReceipt(name, sha256, receivedAt);
+  /** Throws FileStillChangingError (after rolling back) when the file moved on since `before`. */
+  const requireUnchanged = (): void => {
+    const why = size !== before.size ? `${name} grew while it was hashed (${before.size} bytes, then ${size})` : changedSince(file, before, name);
+    if (why === undefined) return;
+    deps.store.rollback();
+    throw new FileStillChangingError(`${why}; nothing was stored and the file stays in the inbox for the next run`);
+  };
 
   const alreadyStored = (known: StoredFile): Receipt => {
     receipt.status = known.status === 'rejected' ? 'rejected' : 'duplicate';
@@ -156,6 +190,9 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
 
   const reject = (error: IngestError, labId: string | null): Receipt => {
     deps.store.rollback();
+    // A file cut off by a writer still at work looks malformed (an open quote, a ragged last
+    // row): it is not refused for that, it is read again once it is whole.
+    requireUnchanged();
     receipt.status = 'rejected';
     receipt.rows = { accepted: 0, rejected: 0, duplicate: 0, superseded: 0 };
     receipt.rejectedRows = [];
@@ -233,7 +270,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       addRejections(counts.rejections);
     };
 
-    const input: MappingInput = { file, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById };
+    const input: MappingInput = { file, expected: { bytes: size, sha256 }, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById };
     const batches = worker ? worker.batches(input) : mappedBatches(input);
     for await (const batch of batches) store(batch);
 
@@ -249,17 +286,17 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     }
     receipt.resolvedSampleIds = effects.resolved;
     receipt.sites = effects.sites;
+    deps.store.bumpSiteVersions(receipt.sites);
 
-    try {
-      deps.regenerate(receipt.sites);
-    } catch (error) {
-      deps.store.rollback();
-      throw new OutputError(`${name}: outputs could not be written (${(error as Error).message}); nothing was stored and the file stays in the inbox`);
-    }
+    requireUnchanged();
     deps.store.commit();
     return receipt;
   } catch (error) {
-    if (error instanceof OutputError) throw error;
+    if (error instanceof FileStillChangingError) throw error;
+    if (error instanceof FileChangedError) {
+      deps.store.rollback();
+      throw new FileStillChangingError(`${error.message}; nothing was stored and the file stays in the inbox for the next run`);
+    }
     if (error instanceof EncodingError) {
       return reject(new IngestError('invalid-encoding', name, error.line, undefined, undefined, `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`), receipt.lab);
     }

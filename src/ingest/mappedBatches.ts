@@ -3,6 +3,7 @@
  * records (csvRecords.ts) -> stored rows or coded refusals (rows.ts). No store, no clock: the
  * same generator runs on the main thread for small files and in a worker for large ones.
  */
+import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import type { Assay, Site } from '../config/types.js';
 import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
@@ -34,8 +35,24 @@ export interface MappedBatch<Rows extends RowList<ResultRow> = RowList<ResultRow
   rejections: RowRejection[];
 }
 
+/**
+ * The bytes the file held when it was hashed. Reading stops at `bytes` and the bytes read are
+ * hashed again: a file that a writer is still changing is caught, never stored as far as the
+ * writer had got.
+ */
+export interface ExpectedContent {
+  bytes: number;
+  sha256: string;
+}
+
+/** The file's bytes differ from those hashed before reading: a writer is still at work on it. */
+export class FileChangedError extends Error {
+  override readonly name = 'FileChangedError';
+}
+
 export interface MappingInput {
   file: string;
+  expected: ExpectedContent;
   fileName: string;
   sniffed: Sniffed;
   kind: FileKind;
@@ -45,7 +62,8 @@ export interface MappingInput {
 
 /**
  * Yields the file's rows in batches of about `batchRows`.
- * @throws EncodingError, UnclosedQuoteError, RecordTooLongError (the file cannot be trusted past that line)
+ * @throws EncodingError, UnclosedQuoteError, RecordTooLongError (the file cannot be trusted past that line);
+ *   FileChangedError when the bytes read are not the bytes expected
  */
 export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
   const { kind } = input;
@@ -97,9 +115,22 @@ export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS
     }
     records.length = 0;
   };
-  for await (const chunk of fs.createReadStream(input.file, { highWaterMark: READ_CHUNK_BYTES })) {
+  const parsedHash = createHash('sha256');
+  let parsedBytes = 0;
+  const { expected } = input;
+  // `end` is inclusive (Node fs.createReadStream); bytes appended after hashing are not read.
+  for await (const chunk of fs.createReadStream(input.file, { highWaterMark: READ_CHUNK_BYTES, start: 0, end: Math.max(expected.bytes - 1, 0) })) {
+    parsedHash.update(chunk as Buffer);
+    parsedBytes += (chunk as Buffer).length;
     reader.push(decoder.decode(chunk as Buffer), records);
     yield* takeAll();
+  }
+  if (parsedBytes !== expected.bytes || parsedHash.digest('hex') !== expected.sha256) {
+    throw new FileChangedError(
+      parsedBytes !== expected.bytes
+        ? `${input.fileName} changed while it was read (${expected.bytes} bytes when hashed, ${parsedBytes} read)`
+        : `${input.fileName} changed while it was read (its bytes no longer match the hash taken before reading)`,
+    );
   }
   reader.push(decoder.end(), records);
   reader.end(records);

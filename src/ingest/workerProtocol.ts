@@ -2,7 +2,7 @@
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { EncodingError } from './decode.js';
 import type { WireBatch } from './batchWire.js';
-import type { MappingInput } from './mappedBatches.js';
+import { FileChangedError, type MappingInput } from './mappedBatches.js';
 
 /** Batches posted but not yet stored. */
 export const BATCHES_IN_FLIGHT = 4;
@@ -11,6 +11,7 @@ export type WorkerFailure =
   | { kind: 'encoding'; line: number; message: string }
   | { kind: 'unclosed-quote'; line: number }
   | { kind: 'record-too-long'; line: number }
+  | { kind: 'changed'; message: string }
   | { kind: 'unexpected'; name: string; message: string; stack: string | undefined };
 
 export type ToWorker = { type: 'start'; input: MappingInput } | { type: 'taken' };
@@ -21,6 +22,7 @@ export function describeWorkerFailure(error: unknown): WorkerFailure {
   if (error instanceof EncodingError) return { kind: 'encoding', line: error.line, message: error.message };
   if (error instanceof UnclosedQuoteError) return { kind: 'unclosed-quote', line: error.line };
   if (error instanceof RecordTooLongError) return { kind: 'record-too-long', line: error.line };
+  if (error instanceof FileChangedError) return { kind: 'changed', message: error.message };
   const { name, message, stack } = error instanceof Error ? error : { name: 'Error', message: String(error), stack: undefined };
   return { kind: 'unexpected', name, message, stack };
 }
@@ -34,6 +36,8 @@ export function failureAsError(failure: WorkerFailure): Error {
       return new UnclosedQuoteError(failure.line);
     case 'record-too-long':
       return new RecordTooLongError(failure.line);
+    case 'changed':
+      return new FileChangedError(failure.message);
     case 'unexpected': {
       const error = new Error(`parse worker: ${failure.name}: ${failure.message}`);
       if (failure.stack) error.stack = failure.stack;

@@ -9,7 +9,7 @@ import path from 'node:path';
 import type { Config } from '../config/types.js';
 import type { SiteAnalysis } from '../outputs.js';
 import { notifiableNotice } from './cautions.js';
-import { writeFileAtomic } from './files.js';
+import { atomicWriter, type OutputWriter } from './files.js';
 import { roundAlerts } from './html/alerts.js';
 import { renderClustersPage } from './html/clustersPage.js';
 import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPage.js';
@@ -60,9 +60,10 @@ export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
  * @param outbox the outbox folder (absolute or relative to the process)
  * @param config the normalised configuration (assay names, cutoffs, notifiable flags, alpha)
  * @param analysis the site's analysis from analyseSite
- * @throws whatever the file system throws; the writes are atomic per file
+ * @param writer where the files go (default: each atomically to its name)
+ * @throws whatever the file system throws
  */
-export function writeSitePages(outbox: string, config: Config, analysis: SiteAnalysis): void {
+export function writeSitePages(outbox: string, config: Config, analysis: SiteAnalysis, writer: OutputWriter = atomicWriter): void {
   const { site, summaries, spatial, plan } = analysis;
   const siteDir = path.join(outbox, site.id);
   const lastIndex = summaries.length - 1;
@@ -70,15 +71,15 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
     const roundDir = path.join(siteDir, summary.round.id);
     const alerts = roundAlerts(summaries, spatial, index, index === lastIndex ? plan : undefined);
     const notices = noticesFor(config, summary.assays.map((assay) => assay.id));
-    writeFileAtomic(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices }));
-    writeFileAtomic(
+    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices }));
+    writer.write(
       path.join(roundDir, 'clusters.html'),
       renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices }),
     );
   });
   const digest = siteDigest(config, analysis);
-  writeFileAtomic(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices }));
-  writeFileAtomic(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
+  writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices }));
+  writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
 }
 
 function readDigest(file: string): SiteDigest | null {
@@ -110,5 +111,5 @@ export function writeIndex(outbox: string, config: Config): void {
   }
   const rank = new Map(config.sites.map((site, index) => [site.id, index]));
   digests.sort((a, b) => (rank.get(a.site.id) ?? Infinity) - (rank.get(b.site.id) ?? Infinity) || (a.site.id < b.site.id ? -1 : a.site.id > b.site.id ? 1 : 0));
-  writeFileAtomic(path.join(outbox, 'index.html'), renderIndexPage(digests, config.organisation));
+  atomicWriter.write(path.join(outbox, 'index.html'), renderIndexPage(digests, config.organisation));
 }

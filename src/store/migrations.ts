@@ -207,4 +207,23 @@ export const MIGRATIONS: readonly Migration[] = [
   CREATE UNIQUE INDEX ropes_pen_day ON ropes(site_id, hung_on, barn_id, pen_id);
   `,
   },
+  {
+    sql: `
+  -- Outputs are written after the commit, outside the write lock. Each committed file counts up
+  -- the version of the sites it touched; a site's outputs record the version (and configuration)
+  -- they were built from, so a run that finds them behind (a crash between commit and outputs,
+  -- a full disk) rebuilds them.
+  CREATE TABLE site_versions (
+    site_id TEXT PRIMARY KEY,
+    version INTEGER NOT NULL
+  );
+  CREATE TABLE outputs_built (
+    outbox TEXT NOT NULL,
+    site_id TEXT NOT NULL,
+    site_version INTEGER NOT NULL,
+    config_digest TEXT NOT NULL,
+    PRIMARY KEY (outbox, site_id)
+  );
+  `,
+  },
 ];

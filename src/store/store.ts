@@ -477,6 +477,13 @@ export class Store {
     };
   }
 
+  /** Counts up the version of each site the open file changed: their outputs are now behind. */
+  bumpSiteVersions(siteIds: readonly string[]): void {
+    this.requireFile();
+    const bump = this.db.prepare('INSERT INTO site_versions (site_id, version) VALUES (?, 1) ON CONFLICT (site_id) DO UPDATE SET version = version + 1');
+    for (const siteId of siteIds) bump.run(siteId);
+  }
+
   commit(): void {
     this.requireFile();
     this.db.exec('COMMIT');
@@ -562,7 +569,38 @@ export class Store {
     else run.immediate();
   }
 
+  /** Records that `outbox` now shows the site as of `siteVersion` under the configuration `configDigest`. */
+  markOutputsBuilt(outbox: string, siteId: string, siteVersion: number, configDigest: string): void {
+    this.db
+      .prepare(
+        `INSERT INTO outputs_built (outbox, site_id, site_version, config_digest) VALUES (?, ?, ?, ?)
+         ON CONFLICT (outbox, site_id) DO UPDATE SET site_version = excluded.site_version, config_digest = excluded.config_digest`,
+      )
+      .run(outbox, siteId, siteVersion, configDigest);
+  }
+
   // ---- Queries -------------------------------------------------------------------------------
+
+  /**
+   * Runs `read` in one read transaction: every query in it sees the same committed state, while
+   * other processes go on writing (SQLite WAL readers never block the writer).
+   */
+  snapshot<T>(read: () => T): T {
+    if (this.inFile) return read();
+    return this.db.transaction(read).deferred();
+  }
+
+  /** How many committed files have changed the site (0 for none). */
+  siteVersion(siteId: string): number {
+    return (this.db.prepare('SELECT version FROM site_versions WHERE site_id = ?').pluck().get(siteId) as number | undefined) ?? 0;
+  }
+
+  /** What `outbox` shows of the site, or undefined when its outputs were never built there. */
+  outputsBuilt(outbox: string, siteId: string): { siteVersion: number; configDigest: string } | undefined {
+    return this.db.prepare('SELECT site_version AS siteVersion, config_digest AS configDigest FROM outputs_built WHERE outbox = ? AND site_id = ?').get(outbox, siteId) as
+      | { siteVersion: number; configDigest: string }
+      | undefined;
+  }
 
   /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
   ropes(siteId?: string): StoredRope[] {

@@ -7,7 +7,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
-import { ingestFile, OutputError } from '../../src/ingest/ingestFile.js';
+import { catchUpOutputs, staleSites } from '../../src/outputs.js';
 import { treeHashes, workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -155,17 +155,30 @@ describe('pipeline end to end', () => {
     expect(roundFolders(siteDir)).toEqual(['r01-2026-08-03', 'r02-2026-08-17']);
   });
 
-  it('stores nothing and leaves the file in place when its outputs cannot be written, so a retry works', async () => {
+  it('stores and archives the file when its outputs cannot be written, keeps the old outputs whole, and the next run rebuilds them', async () => {
     const ws = workspace();
-    const file = path.join(ws.paths.inbox, 'hollow-creek_ropes.csv');
-    fs.writeFileSync(file, sheet(ws));
-    const open = ws.ws();
-    const deps = { config: open.config, store: open.store, now: () => new Date('2026-12-01T12:00:00Z') };
-    await expect(ingestFile(file, { ...deps, regenerate: () => { throw new Error('disk full'); } })).rejects.toBeInstanceOf(OutputError);
-    expect(open.store.counts()).toMatchObject({ files: 0, ropes: 0 });
-    expect(open.store.fileOpen).toBe(false);
-    expect(fs.existsSync(file)).toBe(true);
-    const retry = await ws.drop('hollow-creek_ropes.csv', sheet(ws));
-    expect(retry.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 4 } });
+    await ws.drop('hollow-creek_ropes.csv', sheet(ws));
+    const before = readSummary(ws);
+    // A folder where the rope list should go: renaming the new next-round.csv over it fails (EISDIR, rename(2)).
+    const nextRound = path.join(ws.paths.outbox, 'hollow-creek', 'next-round.csv');
+    fs.rmSync(nextRound);
+    fs.mkdirSync(nextRound);
+    fs.writeFileSync(path.join(nextRound, 'keep.txt'), 'not ours\n');
+
+    const outcome = await ws.drop('nvdl_results_2026-08-06.csv', results());
+    expect(outcome.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 3 } });
+    expect(outcome.outputError?.message).toContain('hollow-creek');
+    expect(outcome.movedTo).toBe(path.join(ws.paths.inbox, 'archive', 'nvdl_results_2026-08-06.csv'));
+    expect(ws.ws().store.counts()).toMatchObject({ results: 3 });
+    // Nothing of the new set was swapped in: the summary is the one from before, and no temp file is left.
+    expect(readSummary(ws)).toEqual(before);
+    expect(fs.readdirSync(path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03')).filter((name) => name.endsWith('.tmp'))).toEqual([]);
+    expect(staleSites(ws.ws())).toEqual(['hollow-creek']);
+
+    fs.rmSync(nextRound, { recursive: true });
+    expect(catchUpOutputs(ws.ws())).toEqual(['hollow-creek']);
+    expect(staleSites(ws.ws())).toEqual([]);
+    const f1 = readSummary(ws).barns.find((barn: { barnId: string }) => barn.barnId === 'F1');
+    expect(f1.assays.find((assay: { assayId: string }) => assay.assayId === 'PRRSV')).toMatchObject({ positive: 1, positivePens: ['A1'] });
   });
 });

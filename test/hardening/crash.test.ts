@@ -128,3 +128,64 @@ describe('a crash (SIGKILL) while an export is being stored', () => {
     expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(true);
   });
 });
+
+/**
+ * A crash while outputs are written. Outputs are written after the file's commit (src/pipeline.ts,
+ * src/outputs.ts), so whatever the moment of the kill, no output shows a result the store does
+ * not hold; a run after the crash brings the outputs up to date.
+ */
+describe('a crash (SIGKILL) around the outputs of a file', () => {
+  const KILL_AFTER_LOCK_MS = [0, 40, 120, 300];
+
+  it('never leaves an output showing a result the store does not hold, and the next run brings outputs up to date', async () => {
+    const { loadConfig } = await import('../../src/config/load.js');
+    const { northfieldExport, ropeSheet } = await import('../../src/demo/scenario.js');
+    const outcomes: string[] = [];
+    let betweenCommitAndOutputs = 0;
+    for (const delay of KILL_AFTER_LOCK_MS) {
+      const ws = workspace(`outputs-${delay}`);
+      const site = loadConfig(ws.paths.config).siteById.get('HOLLOW-CREEK')!;
+      const ropes = site.barns[0]!.pens.slice(0, 30).map((pen, index) => ({ sampleId: `CR-${String(index).padStart(3, '0')}`, barnId: site.barns[0]!.id, penId: pen.id, hungOn: '2026-08-03' }));
+      const sheet = path.join(ws.paths.inbox, 'ropes.csv');
+      fs.writeFileSync(sheet, ropeSheet(site, ropes));
+      expect((await spawnCli(['ingest', sheet, ...ws.flags]).done).code).toBe(0);
+
+      // The marker: one positive, CR-007; every other rope negative.
+      const results = path.join(ws.paths.inbox, 'nvdl_results.csv');
+      fs.writeFileSync(results, northfieldExport(ropes.map((rope) => ({ sampleId: rope.sampleId, assay: 'PRRSV' as const, ct: rope.sampleId === 'CR-007' ? 24.2 : null, collectedOn: '2026-08-03' })), '2026-08-06', 1));
+      const run = spawnCli(['ingest', results, ...ws.flags]);
+      await waitForWriteLock(ws.paths.db, 30_000).catch(() => undefined);
+      await sleep(delay);
+      run.child.kill('SIGKILL');
+      await run.done;
+
+      const db = new Database(ws.paths.db, { readonly: true });
+      const stored = (db.prepare("SELECT COUNT(*) AS n FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = 'CR-007'").get() as { n: number }).n;
+      db.close();
+      const positivePensShown = (): string[] => {
+        const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
+        if (!fs.existsSync(siteDir)) return [];
+        return (fs.readdirSync(siteDir, { recursive: true, encoding: 'utf8' }) as string[])
+          .filter((entry) => entry.endsWith('summary.json'))
+          .flatMap((entry) => {
+            const summary = JSON.parse(fs.readFileSync(path.join(siteDir, entry), 'utf8')) as { barns: { assays: { positivePens: string[] }[] }[] };
+            return summary.barns.flatMap((barn) => barn.assays.flatMap((assay) => assay.positivePens));
+          });
+      };
+      const shown = positivePensShown().length > 0;
+      outcomes.push(`${delay} ms: stored ${stored}, shown ${shown}`);
+      if (stored === 1 && !shown) betweenCommitAndOutputs++;
+      // Nothing shown that is not stored.
+      if (stored === 0) expect(shown, outcomes.join('; ')).toBe(false);
+
+      // Any later run brings the outbox up to the store (here: the same file again).
+      const again = await spawnCli(['ingest', ...(fs.existsSync(results) ? [results] : [sheet.replace('ropes.csv', 'archive/ropes.csv')]), ...ws.flags]).done;
+      expect(again.code, again.stderr).toBe(0);
+      const positivePens = positivePensShown();
+      expect(positivePens, outcomes.join('; ')).toEqual([ropes[7]!.penId]);
+    }
+    // At least one kill must land after the commit and before the outputs (the analysis of the
+    // site takes far longer than the commit of 30 rows), or the catch-up is not exercised.
+    expect(betweenCommitAndOutputs, outcomes.join('; ')).toBeGreaterThan(0);
+  });
+});

@@ -4,10 +4,10 @@
  * bits do not stop writes) and a full disk (the output's temp file is a symlink to /dev/full,
  * where every write fails with ENOSPC: Linux null(4) / full(4) man page).
  *
- * Documented outcome (src/ingest/ingestFile.ts IngestDeps.regenerate, src/pipeline.ts): outputs
- * are rewritten inside the file's transaction, so a write failure rolls the file back: exit 1,
- * a message naming the cause, the store holds exactly what it held before, the file stays in
- * the inbox for the next run.
+ * Documented outcome (src/pipeline.ts, src/outputs.ts): outputs are written after the file's
+ * commit, from committed data only. A write failure leaves the file stored and archived: exit 1,
+ * a message naming the cause, the outputs as they were (no half-written set), and the store
+ * knows the site's outputs are behind, so the next run rebuilds them.
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -45,7 +45,7 @@ async function storedWorkspace(): Promise<{ ws: TestWorkspace; second: string }>
 }
 
 describe('an outbox that cannot be written', () => {
-  it('exits 1 with ENOTDIR when the outbox lies under a regular file, leaves the store unchanged and the file in the inbox', async () => {
+  it('exits 1 with ENOTDIR when the outbox lies under a regular file; the file is stored and archived, and the next run writes its outputs', async () => {
     const { ws, second } = await storedWorkspace();
     const before = lookIntoStore(ws.paths.dbFile);
     const plainFile = path.join(ws.root, 'not-a-folder.txt');
@@ -53,20 +53,26 @@ describe('an outbox that cannot be written', () => {
 
     const run = await runCli(['ingest', second, ...flagsWithOutbox(ws, path.join(plainFile, 'outbox'))]);
     expect(run.code).toBe(1);
-    expect(run.stderr).toContain('outputs could not be written');
+    expect(run.stderr).toContain('could not be written');
     expect(run.stderr).toContain('ENOTDIR');
-    expect(run.stderr).toContain('the file stays in the inbox');
-    expect(lookIntoStore(ws.paths.dbFile)).toEqual(before);
-    expect(fs.existsSync(second)).toBe(true);
-    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'ropes_2.csv'))).toBe(false);
-
-    // Once the outbox is writable again, the same file goes through.
-    const retry = await runCli(['ingest', second, ...ws.cliFlags]);
-    expect(retry.code, retry.stderr).toBe(0);
+    expect(run.stderr).toContain('rebuilt on the next run');
     expect(lookIntoStore(ws.paths.dbFile).ropes).toBe(before.ropes + 1);
+    expect(fs.existsSync(second)).toBe(false);
+    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'ropes_2.csv'))).toBe(true);
+
+    // The real outbox still shows the first drop only; any run on it brings it up to date.
+    const summary = path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03', 'summary.json');
+    const ropesIn = () => (JSON.parse(fs.readFileSync(summary, 'utf8')) as { barns: { ropesHung: number }[] }).barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
+    expect(ropesIn()).toBe(1);
+    const third = path.join(ws.paths.inbox, 'ropes_3.csv');
+    fs.writeFileSync(third, ropeSheet(ws.config().siteById.get('TAMSIN-RIDGE')!, [{ sampleId: 'T9', barnId: ws.config().siteById.get('TAMSIN-RIDGE')!.barns[0]!.id, penId: ws.config().siteById.get('TAMSIN-RIDGE')!.barns[0]!.pens[0]!.id, hungOn: '2026-08-03' }]));
+    const next = await runCli(['ingest', third, ...ws.cliFlags]);
+    expect(next.code, next.stderr).toBe(0);
+    expect(next.stderr).toContain('hollow-creek were behind the store');
+    expect(ropesIn()).toBe(2);
   });
 
-  it('exits 1 with ENOSPC when the disk is full, leaves the store unchanged and the file in the inbox', async () => {
+  it('exits 1 with ENOSPC when the disk is full; the file is stored, the earlier outputs stay whole, no temp file is left', async () => {
     const { ws, second } = await storedWorkspace();
     const before = lookIntoStore(ws.paths.dbFile);
     const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
@@ -76,16 +82,19 @@ describe('an outbox that cannot be written', () => {
     // first output of the site is its first round's summary.json. Every temp name this process
     // can use for it becomes a symlink to /dev/full, so the write itself fails with ENOSPC.
     const roundDir = path.join(siteDir, roundDirs[0]!);
+    const summaryBefore = fs.readFileSync(path.join(roundDir, 'summary.json'));
     for (let counter = 0; counter < 5000; counter++) fs.symlinkSync('/dev/full', path.join(roundDir, `.summary.json.${process.pid}.${counter}.tmp`));
 
     const run = await runCli(['ingest', second, ...ws.cliFlags]);
     expect(run.code).toBe(1);
-    expect(run.stderr).toContain('outputs could not be written');
+    expect(run.stderr).toContain('could not be written');
     expect(run.stderr).toContain('ENOSPC');
-    expect(lookIntoStore(ws.paths.dbFile)).toEqual(before);
-    expect(fs.existsSync(second)).toBe(true);
-    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'ropes_2.csv'))).toBe(false);
-    // The summary that was there before is not replaced by a half-written one.
-    expect(JSON.parse(fs.readFileSync(path.join(roundDir, 'summary.json'), 'utf8'))).toBeTypeOf('object');
+    expect(lookIntoStore(ws.paths.dbFile).ropes).toBe(before.ropes + 1);
+    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'ropes_2.csv'))).toBe(true);
+    // The summary that was there before is not replaced, and the staged files of the failed set are gone.
+    expect(fs.readFileSync(path.join(roundDir, 'summary.json'))).toEqual(summaryBefore);
+    for (const entry of fs.readdirSync(siteDir, { recursive: true, encoding: 'utf8' })) {
+      if (entry.endsWith('.tmp')) expect(fs.lstatSync(path.join(siteDir, entry)).isSymbolicLink(), entry).toBe(true);
+    }
   });
 });

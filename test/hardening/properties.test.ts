@@ -313,7 +313,7 @@ async function ingestBytes(bytes: Buffer, name = 'nvdl_prop.csv'): Promise<{ rec
   fs.writeFileSync(file, bytes);
   const store = new Store(':memory:');
   try {
-    const receipt = await ingestFile(file, { config, store, now: () => new Date('2026-12-01T12:00:00Z'), regenerate: () => {} });
+    const receipt = await ingestFile(file, { config, store, now: () => new Date('2026-12-01T12:00:00Z') });
     return { receipt, store };
   } finally {
     fs.rmSync(file, { force: true });

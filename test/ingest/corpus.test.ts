@@ -43,7 +43,6 @@ describe('hostile-input corpus', () => {
           config,
           store,
           now: () => new Date('2026-12-01T12:00:00Z'),
-          regenerate: () => {},
           parseInWorkerFromBytes: thread === 'parse worker' ? 0 : Number.POSITIVE_INFINITY,
         });
         if (expected.status === 'accepted') {
