@@ -176,17 +176,19 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   };
 
   const alreadyStored = (known: StoredFile): Receipt => {
-    receipt.status = known.status === 'rejected' ? 'rejected' : 'duplicate';
+    receipt.status = 'duplicate';
     receipt.kind = known.kind;
     receipt.lab = known.labId;
     receipt.warnings.push(`the same bytes arrived before as ${known.name} on ${known.receivedAt}; nothing stored twice`);
-    if (known.status === 'rejected') {
-      receipt.reason = { code: (known.reasonCode as RejectionCode) ?? 'duplicate-file', message: `${name}: ${known.reason ?? 'rejected before'} (the same bytes were rejected before)`, line: null, field: null };
-    }
     return receipt;
   };
+  // Bytes refused before are read again with the configuration of today: the refusal may have
+  // come from a mistake in a lab profile that has since been put right.
   const known = deps.store.findFileByHash(sha256);
-  if (known) return alreadyStored(known);
+  if (known?.status === 'accepted') return alreadyStored(known);
+  if (known?.status === 'rejected') {
+    receipt.warnings.push(`the same bytes were refused before (as ${known.name} on ${known.receivedAt}: ${known.reasonCode ?? 'no code'}); read again with the current configuration`);
+  }
 
   const reject = (error: IngestError, labId: string | null): Receipt => {
     deps.store.rollback();

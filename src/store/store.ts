@@ -245,6 +245,7 @@ export class Store {
 
   /**
    * Opens the file's transaction (taking the write lock) and records the file. Returns its id.
+   * Bytes refused before take over their earlier record.
    * @throws FileAlreadyStoredError when, once the lock is held, the same bytes are found stored:
    *   another process committed them while this one waited on the lock (the transaction is
    *   rolled back; the caller reports a duplicate).
@@ -269,9 +270,20 @@ export class Store {
     // The caller's hash look-up ran before the lock; a second process ingesting the same file
     // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
     const known = this.findFileByHash(file.sha256);
-    if (known) {
+    if (known?.status === 'accepted') {
       this.rollback();
       throw new FileAlreadyStoredError(known);
+    }
+    if (known) {
+      // Refused before, accepted now (the configuration was put right): the file's one record
+      // becomes the accepted one; its refusal is told in the receipt.
+      this.db
+        .prepare(
+          `UPDATE files SET name = @name, kind = @kind, lab_id = @labId, received_at = @receivedAt, status = 'accepted', reason_code = NULL, reason = NULL,
+             reason_line = NULL, reason_field = NULL, encoding_note = @encodingNote, byte_length = @byteLength, bytes = NULL WHERE id = @id`,
+        )
+        .run({ ...file, id: known.id });
+      return known.id;
     }
     const info = this.statements.insertFile.run({
       ...file,
@@ -512,7 +524,7 @@ export class Store {
     if (!this.inFile) throw new Error('no file transaction is open: call beginFile first');
   }
 
-  /** Records a refused file with its bytes and reason, in a transaction of its own. */
+  /** Records a refused file with its bytes and reason (or a new refusal of bytes refused before), in a transaction of its own. */
   recordRejectedFile(file: {
     name: string;
     /** What the file was recognised as before it was refused, when it got that far. */
@@ -528,8 +540,29 @@ export class Store {
     labId: string | null;
   }): void {
     this.db.transaction(() => {
-      // Another process may have recorded the same bytes since the caller looked: keep the first.
-      if (this.findFileByHash(file.sha256)) return;
+      const known = this.findFileByHash(file.sha256);
+      // Another process may have stored the same bytes since the caller looked: keep them.
+      if (known?.status === 'accepted') return;
+      if (known) {
+        // Refused again: the record tells the latest refusal (its bytes are kept from the first).
+        this.db
+          .prepare(
+            `UPDATE files SET name = @name, kind = @kind, lab_id = @labId, received_at = @receivedAt, reason_code = @reasonCode, reason = @reason,
+               reason_line = @reasonLine, reason_field = @reasonField WHERE id = @id`,
+          )
+          .run({
+            id: known.id,
+            name: file.name,
+            kind: file.kind ?? 'unknown',
+            labId: file.labId,
+            receivedAt: file.receivedAt,
+            reasonCode: file.reasonCode,
+            reason: file.reason,
+            reasonLine: file.line ?? null,
+            reasonField: file.field ?? null,
+          });
+        return;
+      }
       this.statements.insertFile.run({
         name: file.name,
         sha256: file.sha256,

@@ -22,8 +22,8 @@ import { FIXED_NOW, workspacesPerTest } from '../helpers/workspace.js';
 const workspace = workspacesPerTest();
 
 function rows(from: number, to: number): { sampleId: string; assay: 'PRRSV'; ct: number | null; collectedOn: string }[] {
-  const list = [];
-  for (let i = from; i <= to; i++) list.push({ sampleId: `GROW-${String(i).padStart(4, '0')}`, assay: 'PRRSV', ct: i === 700 ? 24.5 : null, collectedOn: '2026-08-03' });
+  const list: { sampleId: string; assay: 'PRRSV'; ct: number | null; collectedOn: string }[] = [];
+  for (let i = from; i <= to; i++) list.push({ sampleId: `GROW-${String(i).padStart(4, '0')}`, assay: 'PRRSV' as const, ct: i === 700 ? 24.5 : null, collectedOn: '2026-08-03' });
   return list;
 }
 
