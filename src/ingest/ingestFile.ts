@@ -9,13 +9,15 @@ import path from 'node:path';
 import type { Config } from '../config/types.js';
 import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type Store, type StoredFile } from '../store/store.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
-import { BinaryContentError, decodeHead, EncodingError, sniffEncoding } from './decode.js';
+import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, type Sniffed } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
 import { FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { ParseWorker } from './workerBatches.js';
 
 const HEAD_BYTES = 64 * 1024;
+/** The head never grows past this: a header this long is refused by the record reader anyway. */
+const HEAD_LIMIT_BYTES = 16 * 1024 * 1024;
 /**
  * Files at least this big are read and mapped on a worker thread while this one stores: below
  * it, starting a worker costs more than it saves.
@@ -99,12 +101,22 @@ async function hashFile(file: string): Promise<{ sha256: string; size: number }>
   return { sha256: hash.digest('hex'), size };
 }
 
-function readHead(file: string): Buffer {
+/**
+ * The head of the file, enough to hold its title lines and its header whole: 64 KB, grown (up
+ * to the longest record the reader accepts) while the header line is not yet complete.
+ */
+function readHead(file: string, size: number, linesNeeded: number): { head: Buffer; sniffed: Sniffed; text: string } {
   const handle = fs.openSync(file, 'r');
   try {
-    const buffer = Buffer.alloc(HEAD_BYTES);
-    const read = fs.readSync(handle, buffer, 0, HEAD_BYTES, 0);
-    return buffer.subarray(0, read);
+    for (let window = HEAD_BYTES; ; window *= 4) {
+      const buffer = Buffer.alloc(Math.min(window, size, HEAD_LIMIT_BYTES));
+      const head = buffer.subarray(0, fs.readSync(handle, buffer, 0, buffer.length, 0));
+      const sniffed = sniffEncoding(head, 'auto');
+      const text = decodeHead(head, sniffed);
+      let lines = 0;
+      for (let at = text.indexOf('\n'); at !== -1 && lines < linesNeeded; at = text.indexOf('\n', at + 1)) lines++;
+      if (lines >= linesNeeded || head.length >= size || head.length >= HEAD_LIMIT_BYTES) return { head, sniffed, text };
+    }
   } finally {
     fs.closeSync(handle);
   }
@@ -220,9 +232,12 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   let kind: FileKind;
   let sniffed;
   try {
-    const head = readHead(file);
-    sniffed = sniffEncoding(head, 'auto');
-    const text = decodeHead(head, sniffed);
+    // Title lines above the header (the most any lab profile skips), the header, and one more line.
+    const linesNeeded = Math.max(0, ...deps.config.labs.map((lab) => lab.skipLines)) + 2;
+    const read = readHead(file, size, linesNeeded);
+    const head = read.head;
+    sniffed = read.sniffed;
+    const text = read.text;
     kind = detectFileKind(name, text, deps.config.labs);
     if (kind.kind === 'results' && kind.lab.encoding !== 'auto' && sniffed.bomLength === 0 && !sniffed.note.includes('byte pattern')) {
       sniffed = sniffEncoding(head, kind.lab.encoding);

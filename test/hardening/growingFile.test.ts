@@ -125,3 +125,19 @@ describe('a file that grows while it is read', () => {
     expect(JSON.parse(again.stdout)[0]).toMatchObject({ status: 'accepted', rows: { accepted: 1000 } });
   });
 });
+
+describe('a header longer than the first block read', () => {
+  it('is read whole: a 100,000-character column name before the required columns does not hide them', async () => {
+    const ws = workspace();
+    const open = ws.ws();
+    const file = path.join(ws.paths.inbox, 'nvdl_wide_header.csv');
+    const base = northfieldExport(rows(1, 3), '2026-08-06', 1).toString('utf8').split('\n');
+    // An extra first column whose name is longer than 64 KB, and an empty cell for it in each row.
+    const longName = `Remarks ${'x'.repeat(100_000)}`;
+    const lines = [`${longName},${base[0]}`, ...base.slice(1).filter((line) => line !== '').map((line) => `,${line}`)];
+    fs.writeFileSync(file, lines.join('\n') + '\n');
+    const receipt = await ingestFile(file, { config: open.config, store: open.store, now: () => FIXED_NOW });
+    expect(receipt.reason).toBeNull();
+    expect(receipt).toMatchObject({ status: 'accepted', kind: 'results', lab: 'northfield', rows: { accepted: 3, rejected: 0 } });
+  });
+});
