@@ -181,4 +181,17 @@ describe('pipeline end to end', () => {
     const f1 = readSummary(ws).barns.find((barn: { barnId: string }) => barn.barnId === 'F1');
     expect(f1.assays.find((assay: { assayId: string }) => assay.assayId === 'PRRSV')).toMatchObject({ positive: 1, positivePens: ['A1'] });
   });
+
+  it('counts outputs built under another configuration as behind, and only sites that hold data', async () => {
+    const ws = workspace();
+    await ws.drop('hollow-creek_ropes.csv', sheet(ws));
+    expect(staleSites(ws.ws())).toEqual([]);
+    ws.closeStore();
+    // A changed cutoff changes what the outputs say: the site with data is rebuilt, the empty one is not.
+    const assays = path.join(ws.paths.configDir, 'assays.yaml');
+    fs.appendFileSync(assays, '# cutoffs reviewed\n');
+    expect(staleSites(ws.ws())).toEqual(['hollow-creek']);
+    expect(catchUpOutputs(ws.ws())).toEqual(['hollow-creek']);
+    expect(staleSites(ws.ws())).toEqual([]);
+  });
 });
