@@ -121,6 +121,50 @@ const REASONS_REMEMBERED = 50_000;
 
 export interface StoreOptions {
   busyTimeoutMs?: number;
+  /** Create the file when it does not exist (default). Commands that only read pass false. */
+  create?: boolean;
+}
+
+/** The store file cannot be used: missing, a folder, not SQLite, damaged. The message names the file. */
+export class StoreOpenError extends Error {
+  override readonly name = 'StoreOpenError';
+  constructor(
+    readonly file: string,
+    detail: string,
+  ) {
+    super(`store ${file}: ${detail}`);
+  }
+}
+
+/** SQLite result codes that mean the bytes are not a usable database (sqlite.org/rescode.html). */
+function damageDetail(error: unknown): string | undefined {
+  const code = error instanceof Database.SqliteError ? error.code : undefined;
+  if (code === undefined) return undefined;
+  if (code === 'SQLITE_NOTADB') return 'is not a SQLite database (another program\'s file, or not a ropewatch store); point --db at the store file';
+  if (code.startsWith('SQLITE_CORRUPT')) {
+    return `is damaged (SQLite: ${error instanceof Error ? error.message : code}); a store cut short by a copy or a full disk reads like this: restore it from a backup, or point --db at another file`;
+  }
+  if (code.startsWith('SQLITE_CANTOPEN')) return `cannot be opened (SQLite: ${error instanceof Error ? error.message : code}); check the path and its permissions`;
+  return undefined;
+}
+
+/** Checks the path before SQLite sees it: a folder, or a missing file that may not be created. */
+function checkStoreFile(file: string, create: boolean): void {
+  let stat: fs.Stats | undefined;
+  try {
+    stat = fs.statSync(file);
+  } catch {
+    stat = undefined;
+  }
+  if (stat?.isDirectory()) throw new StoreOpenError(file, 'is a folder; --db takes the store file (for example data/ropewatch.db)');
+  if (stat === undefined && !create) {
+    throw new StoreOpenError(file, 'does not exist; check --db (ingest, watch, report, plan and demo create a new store, this command only reads one)');
+  }
+  try {
+    fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
+  } catch (error) {
+    throw new StoreOpenError(file, `its folder cannot be created (${(error as Error).message})`);
+  }
 }
 
 export class Store {
@@ -138,18 +182,40 @@ export class Store {
   private readonly reasonIds = new Map<string, number>();
   private readonly statements;
 
+  /**
+   * Opens (or, unless `create` is false, creates) the store and brings its schema up to date.
+   * @throws StoreOpenError naming the file when it is missing (and may not be created), a folder,
+   *   not SQLite, damaged, or a SQLite database of another program.
+   */
   constructor(file: string, options: StoreOptions = {}) {
-    if (file !== ':memory:') fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
-    this.db = new Database(file);
-    this.db.pragma('journal_mode = WAL');
-    // A file is archived only after its commit, so the commit must survive a power cut.
-    this.db.pragma('synchronous = FULL');
-    this.db.pragma('foreign_keys = ON');
-    // A 16 MB page cache (default 2 MB) keeps the hot index pages of a large export in memory
-    // while it is stored, and bounds what the store adds to the process.
-    this.db.pragma('cache_size = -16384');
-    this.db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
-    this.migrate();
+    const create = options.create ?? true;
+    if (file !== ':memory:') checkStoreFile(file, create);
+    let opened: Database.Database | undefined;
+    try {
+      opened = new Database(file, { fileMustExist: !create });
+      opened.pragma('journal_mode = WAL');
+      // A file is archived only after its commit, so the commit must survive a power cut.
+      opened.pragma('synchronous = FULL');
+      opened.pragma('foreign_keys = ON');
+      // A 16 MB page cache (default 2 MB) keeps the hot index pages of a large export in memory
+      // while it is stored, and bounds what the store adds to the process.
+      opened.pragma('cache_size = -16384');
+      opened.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
+      // A cheap probe that reads the header and the whole schema, not the data (PRAGMA quick_check
+      // reads every page): SQLite refuses a file shorter than its header's page count here
+      // (SQLITE_CORRUPT), and a file that is not SQLite at all (SQLITE_NOTADB).
+      const tables = opened.prepare("SELECT count(*) FROM sqlite_schema WHERE type = 'table'").pluck().get() as number;
+      const version = opened.pragma('user_version', { simple: true }) as number;
+      // Tables without a schema version were made by another program: never add ours beside them.
+      if (version === 0 && tables > 0) throw new StoreOpenError(file, 'is a SQLite database of another program (it has tables but no ropewatch schema version); point --db at the store file');
+      this.db = opened;
+      this.migrate();
+    } catch (error) {
+      opened?.close();
+      if (error instanceof StoreOpenError) throw error;
+      const detail = damageDetail(error);
+      throw detail === undefined ? error : new StoreOpenError(file, detail);
+    }
     // Samples the open file stored results for and that hang in no pen yet (for its receipt);
     // this connection only.
     this.db.exec('CREATE TEMP TABLE IF NOT EXISTS file_unplaced (sample INTEGER PRIMARY KEY)');
