@@ -102,6 +102,8 @@ interface SampleInFile {
   ropeSiteId: string | undefined;
   /** The location its sample ID encodes that this file tried to place it at. */
   patternTriedAt: string | undefined;
+  /** Why its encoded location was refused, when it was: every row of the sample is refused alike. */
+  patternRefusal: Omit<RowRejection, 'line'> | undefined;
   /** The file stored a result for it, and counted it for the receipt. */
   counted: boolean;
 }
@@ -374,6 +376,7 @@ export class Store {
       ropedAt: stored?.siteId == null ? undefined : locationKey(stored as RopeLocation),
       ropeSiteId: stored?.siteId ?? undefined,
       patternTriedAt: undefined,
+      patternRefusal: undefined,
       counted: false,
     };
     if (this.samplesThisFile.size >= SAMPLES_REMEMBERED) this.samplesThisFile.clear();
@@ -397,13 +400,27 @@ export class Store {
     return id;
   }
 
-  /** Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`. */
-  insertResults(fileId: number, rows: RowList<ResultRow>): InsertCounts {
+  /**
+   * Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`.
+   *
+   * A row whose sample ID encodes its pen and day (site sample pattern) is placed before it is
+   * stored, so that each row is counted once: stored and placed, or refused and not stored. The
+   * rope goes in when the pen is free that day; a pen that already holds another sample's rope
+   * that day refuses the row (`pen-twice-same-day`: one rope per pen per day, and two sample IDs
+   * for it are the lab's or the farm's to settle), as it refuses every row of that sample. A
+   * sample that already hangs somewhere (a rope sheet says where) is placed there: the sheet
+   * records what was hung, the encoded location is only what the label was printed for, so the
+   * row is stored with a warning.
+   * @param sampleIdField the file's header for the sample ID, named in refusals.
+   */
+  insertResults(fileId: number, rows: RowList<ResultRow>, sampleIdField = 'sample ID'): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
     for (let index = 0; index < rows.length; index++) {
       const row = rows.at(index)!;
       const sample = this.sampleInFile(row.sampleId);
+      const rope = row.encodedRope;
+      if (rope !== undefined && !this.placeEncodedRope(fileId, sample, row, rope, sampleIdField, counts)) continue;
       const info = this.statements.insertResult.run(
         fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
         row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.contentKey,
@@ -418,15 +435,6 @@ export class Store {
       const assayAndLab = `${row.assayId}|${row.labId}`;
       if (sample.hadResults || sample.reported.includes(assayAndLab)) this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, counts);
       else sample.reported.push(assayAndLab);
-      const rope = row.encodedRope;
-      if (rope) {
-        // A sample's other assays carry the same encoded rope: it is placed (or refused) once.
-        const location = locationKey(rope);
-        if (sample.ropedAt !== location && sample.patternTriedAt !== location) {
-          sample.patternTriedAt = location;
-          this.insertRopeRow(fileId, sample, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
-        }
-      }
       if (!sample.counted) {
         sample.counted = true;
         if (sample.ropeSiteId !== undefined) this.effects.sites.add(sample.ropeSiteId);
@@ -434,6 +442,37 @@ export class Store {
       }
     }
     return counts;
+  }
+
+  /**
+   * Places the rope a result row's sample ID encodes, or refuses the row (pushed to `counts`).
+   * Returns whether the row may be stored. A sample's other assays carry the same location: it
+   * is tried once per file, and its outcome repeated for them.
+   */
+  private placeEncodedRope(fileId: number, sample: SampleInFile, row: ResultRow, rope: RopeLocation, sampleIdField: string, counts: InsertCounts): boolean {
+    const location = locationKey(rope);
+    if (sample.ropedAt === location) return true;
+    if (sample.patternTriedAt === location) {
+      if (sample.patternRefusal === undefined) return true;
+      counts.rejections.push({ ...sample.patternRefusal, line: row.line });
+      return false;
+    }
+    sample.patternTriedAt = location;
+    if (sample.ropedAt !== undefined) {
+      counts.warnings.push(
+        `line ${row.line}: sample ${row.sampleId} hangs in ${sample.ropedAt} by an earlier rope; its ID names ${location}: the result is placed where the rope hangs`,
+      );
+      return true;
+    }
+    const before = counts.rejections.length;
+    const ropeRow: RopeRow = { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined };
+    this.insertRopeRow(fileId, sample, ropeRow, 'sample-pattern', counts);
+    if (counts.rejections.length === before) return true;
+    // The refusal names the file's sample ID column: that is the cell that carries the location.
+    const refusal = { ...counts.rejections[before]!, field: sampleIdField, value: row.sampleId };
+    counts.rejections[before] = refusal;
+    sample.patternRefusal = { field: refusal.field, code: refusal.code, value: refusal.value, message: refusal.message };
+    return false;
   }
 
   /** Links a new row to the current rows of the same sample, assay and lab stored before it. */
@@ -488,12 +527,16 @@ export class Store {
       return;
     }
     const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, sampleKey) as { sampleId: string } | undefined;
+    const other = clash?.sampleId ?? '(another sample)';
     counts.rejections.push({
       line: row.line,
       field: 'pen',
       code: 'pen-twice-same-day',
       value: row.penId,
-      message: `pen ${row.barnId}/${row.penId} already has sample ${clash?.sampleId ?? '(another sample)'} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`,
+      message:
+        source === 'sheet'
+          ? `pen ${row.barnId}/${row.penId} already has sample ${other} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`
+          : `sample ${row.sampleId} names pen ${row.barnId}/${row.penId} on ${row.hungOn}, which already has sample ${other}; one rope per pen per day, so two sample IDs name one rope: the result is not stored (ask the lab which ID the tube carries)`,
     });
   }
 
