@@ -2,7 +2,6 @@
  * The edge where ropewatch meets the world: which config, store, inbox and outbox a command works
  * on, opened once per command and passed to everything that needs them.
  */
-import fs from 'node:fs';
 import path from 'node:path';
 import { configDigest } from './config/digest.js';
 import { loadConfig } from './config/load.js';
@@ -44,10 +43,22 @@ export function resolvePaths(cwd: string, options: PathOptions): WorkspacePaths 
   };
 }
 
-export function openWorkspace(paths: WorkspacePaths, now: () => Date, log: (line: string) => void): Workspace {
+export interface OpenOptions {
+  /**
+   * Create the store when it does not exist (default). Only commands that write (ingest, watch,
+   * demo, report, plan) do: a command that only reads a mistyped --db must say so, not create an
+   * empty store and report nothing.
+   */
+  createStore?: boolean;
+}
+
+/**
+ * Loads the configuration, then opens the store.
+ * @throws ConfigError for the configuration, StoreOpenError for the store (both name the file).
+ */
+export function openWorkspace(paths: WorkspacePaths, now: () => Date, log: (line: string) => void, options: OpenOptions = {}): Workspace {
   const config = loadConfig(paths.configDir);
   const digest = configDigest(paths.configDir);
-  fs.mkdirSync(path.dirname(paths.dbFile), { recursive: true });
-  const store = new Store(paths.dbFile);
+  const store = new Store(paths.dbFile, { create: options.createStore ?? true });
   return { ...paths, config, configDigest: digest, store, now, log, close: () => store.close() };
 }

@@ -14,7 +14,8 @@ import { planText } from '../report/planText.js';
 import { FileStillChangingError, processFile, type ProcessOutcome } from '../pipeline.js';
 import { runDemo } from '../demo/runDemo.js';
 import { watchInbox } from '../watch/index.js';
-import { openWorkspace, resolvePaths, type PathOptions, type Workspace } from '../workspace.js';
+import { StoreOpenError } from '../store/store.js';
+import { openWorkspace, resolvePaths, type OpenOptions, type PathOptions, type Workspace } from '../workspace.js';
 import { InputRejectedError, printJson, UsageError, type CliIo } from './io.js';
 import { parseIntegerOption } from './parseArgs.js';
 
@@ -31,13 +32,14 @@ export function addCommonOptions(command: Command): Command {
     .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
 }
 
-/** Opens the workspace, turning configuration problems into usage errors (exit 2). */
-export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T): T {
+/** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
+export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T, open: OpenOptions = {}): T {
   let ws: Workspace;
   try {
-    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`));
+    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), open);
   } catch (error) {
     if (error instanceof ConfigError) throw new UsageError(`configuration: ${error.message}`);
+    if (error instanceof StoreOpenError) throw new UsageError(error.message);
     throw error;
   }
   let closeNow = true;
@@ -209,7 +211,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           ),
         ].join('\n') + '\n',
       );
-    });
+    }, { createStore: false });
   });
 
   addCommonOptions(
@@ -247,8 +249,11 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   addCommonOptions(
     program
       .command('demo')
-      .description('run the invented demo scenario end to end: writes config/, drops files into inbox/ and processes them into outbox/ (resets the demo store first)')
-      .option('--force', 'also reset a store that holds files the demo did not make'),
+      .description(
+        'run the invented demo scenario end to end: writes config/, drops files into inbox/ and processes them into outbox/ (resets the demo store first); ' +
+          'refuses a config folder holding files it did not write (use --config <other dir>)',
+      )
+      .option('--force', 'also reset a store that holds files the demo did not make (a configuration the demo did not write is never replaced)'),
   ).action(async (options: CommonOptions & { force?: boolean }) => {
     await runDemo(io, resolvePaths(io.cwd, options), options.force === true);
   });

@@ -3,7 +3,9 @@
  * into inbox/ one by one on the scenario's clock, and runs each through the same pipeline a real
  * drop takes. Processed files end in inbox/archive/, the refused one in inbox/rejected/, outputs
  * in outbox/. Running it twice gives the same outputs: it starts from an empty store each time.
+ * It never replaces a configuration or a store it did not make (see guardConfig, guardStore).
  */
+import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -11,23 +13,95 @@ import { UsageError, type CliIo } from '../cli/io.js';
 import { loadConfig } from '../config/load.js';
 import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
-import { Store } from '../store/store.js';
+import { Store, StoreOpenError } from '../store/store.js';
 import { openWorkspace, type WorkspacePaths } from '../workspace.js';
 import { DEMO_TODAY, HOLLOW_CREEK_ROUNDS, hollowCreekRound, tamsinRidgeRound, TAMSIN_RIDGE_ROUNDS, type DemoDrop, type RopeChoice } from './scenario.js';
 
 export const DEMO_CONFIG_DIR = path.join(path.dirname(fileURLToPath(import.meta.url)), 'config');
 const DEMO_MARKER = 'demo-store';
-
+/**
+ * Written beside the demo's configuration: the SHA-256 of each file the demo wrote, so that a
+ * later demo (perhaps of another version, with other files) knows them from files a person wrote.
+ */
+export const DEMO_CONFIG_MARK = '.ropewatch-demo.json';
+/** Files of a config folder the demo neither writes nor removes. */
+const CONFIG_KEPT = ['README.md', '.gitkeep'];
 
 function emptyDir(dir: string, keep: readonly string[] = ['.gitkeep']): void {
   fs.mkdirSync(dir, { recursive: true });
   for (const entry of fs.readdirSync(dir)) if (!keep.includes(entry)) fs.rmSync(path.join(dir, entry), { recursive: true, force: true });
 }
 
+const sha256 = (bytes: Buffer) => createHash('sha256').update(bytes).digest('hex');
+
+/** Every file under `dir`, as paths relative to it with forward slashes, sorted. */
+function filesUnder(dir: string): string[] {
+  const out: string[] = [];
+  const walk = (current: string, rel: string) => {
+    for (const entry of fs.readdirSync(current, { withFileTypes: true })) {
+      const relPath = rel === '' ? entry.name : `${rel}/${entry.name}`;
+      if (entry.isDirectory()) walk(path.join(current, entry.name), relPath);
+      else out.push(relPath);
+    }
+  };
+  walk(dir, '');
+  return out.sort();
+}
+
+/** The demo's configuration files with their hashes. */
+function demoConfigHashes(): Record<string, string> {
+  return Object.fromEntries(filesUnder(DEMO_CONFIG_DIR).map((rel) => [rel, sha256(fs.readFileSync(path.join(DEMO_CONFIG_DIR, rel)))]));
+}
+
+/**
+ * Refuses to replace a configuration a person wrote: the demo writes into a config folder only
+ * when it is absent, empty, or holds nothing but files the demo wrote itself (byte-equal to the
+ * demo's own, or to what an earlier demo recorded in DEMO_CONFIG_MARK). --force does not lift
+ * this: it concerns the store.
+ */
+export function guardConfig(configDir: string): void {
+  if (!fs.existsSync(configDir)) return;
+  if (!fs.statSync(configDir).isDirectory()) throw new UsageError(`${configDir} is a file, not a configuration folder; run the demo with --config <another folder>`);
+  const current = demoConfigHashes();
+  let recorded: Record<string, unknown> = {};
+  try {
+    recorded = JSON.parse(fs.readFileSync(path.join(configDir, DEMO_CONFIG_MARK), 'utf8')) as Record<string, unknown>;
+  } catch {
+    recorded = {};
+  }
+  const foreign = filesUnder(configDir).filter((rel) => {
+    if (CONFIG_KEPT.includes(rel) || rel === DEMO_CONFIG_MARK) return false;
+    const hash = sha256(fs.readFileSync(path.join(configDir, rel)));
+    return hash !== current[rel] && hash !== recorded[rel];
+  });
+  if (foreign.length > 0) {
+    const shown = foreign.slice(0, 5).join(', ') + (foreign.length > 5 ? ` and ${foreign.length - 5} more` : '');
+    throw new UsageError(
+      `${configDir} holds configuration the demo did not write (${shown}); the demo would replace it, so it stops here. ` +
+        'Run it with --config <another folder> (and --db, --inbox, --outbox elsewhere), or move those files away',
+    );
+  }
+}
+
+/** Writes the demo's configuration and records what it wrote. */
+function writeDemoConfig(configDir: string): void {
+  emptyDir(configDir, CONFIG_KEPT);
+  fs.cpSync(DEMO_CONFIG_DIR, configDir, { recursive: true });
+  fs.writeFileSync(path.join(configDir, DEMO_CONFIG_MARK), JSON.stringify(demoConfigHashes(), null, 2) + '\n');
+}
+
 /** Refuses to wipe a store that holds real data: only a store the demo made may be reset. */
 function guardStore(dbFile: string, force: boolean): void {
-  if (force || !fs.existsSync(dbFile)) return;
-  const store = new Store(dbFile);
+  if (!fs.existsSync(dbFile)) return;
+  if (fs.statSync(dbFile).isDirectory()) throw new UsageError(`store ${dbFile} is a folder; --db takes the store file`);
+  if (force) return;
+  let store: Store;
+  try {
+    store = new Store(dbFile);
+  } catch (error) {
+    if (error instanceof StoreOpenError) throw new UsageError(`${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace the file`);
+    throw error;
+  }
   try {
     const isDemo = store.getMeta(DEMO_MARKER) === 'true';
     const files = store.counts().files;
@@ -44,12 +118,12 @@ export interface DemoOutcome {
 }
 
 export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean): Promise<DemoOutcome> {
+  guardConfig(paths.configDir);
   guardStore(paths.dbFile, force);
   for (const suffix of ['', '-wal', '-shm']) fs.rmSync(`${paths.dbFile}${suffix}`, { force: true });
   emptyDir(paths.inbox);
   emptyDir(paths.outbox);
-  emptyDir(paths.configDir, ['README.md']);
-  fs.cpSync(DEMO_CONFIG_DIR, paths.configDir, { recursive: true });
+  writeDemoConfig(paths.configDir);
   const config = loadConfig(paths.configDir);
 
   let clock = new Date(DEMO_TODAY);

@@ -278,7 +278,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       }
     };
     const store = (batch: MappedBatch) => {
-      const counts = kind.kind === 'results' ? deps.store.insertResults(fileId, batch.results) : deps.store.insertRopes(fileId, batch.ropes);
+      const counts = kind.kind === 'results' ? deps.store.insertResults(fileId, batch.results, kind.lab.columns.sampleId) : deps.store.insertRopes(fileId, batch.ropes);
       receipt.rows.accepted += counts.inserted;
       receipt.rows.duplicate += counts.duplicates;
       receipt.rows.superseded += counts.superseded;

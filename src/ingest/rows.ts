@@ -158,17 +158,33 @@ const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
   invalid: 'invalid',
 };
 
-/** Finds the site, barn and pen a sample ID encodes through a site's configured pattern. */
-export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | 'no-date' | 'bad-date' | undefined {
+/** A sample ID that a site's pattern reads as a barn of that site and a pen the barn's layout lacks. */
+export interface UnknownEncodedPen {
+  unknownPen: string;
+  siteId: string;
+  barnId: string;
+}
+
+/**
+ * Finds the site, barn and pen a sample ID encodes through a site's configured pattern. The pen
+ * is the layout's own label (`07` and `7` name pen 7), so two spellings of one pen are one place.
+ * A pen the barn lacks is returned as such (when no other site places the ID), never read as
+ * "no location": the label names a place, and that place does not exist.
+ */
+export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | UnknownEncodedPen | 'no-date' | 'bad-date' | undefined {
   // Exports come a site at a time: try the site that matched last before the others.
   const last = lastPatternSite.get(sites);
+  let unknown: UnknownEncodedPen | undefined;
   for (const site of last === undefined ? sites : [last, ...sites]) {
     const match = site.samplePattern?.exec(sampleId);
     if (!match?.groups) continue;
     const barn = site.barnById.get(match.groups['barn']!.toUpperCase());
     if (!barn) continue;
     const pen = barn.penByKey.get(canonicalPenKey(match.groups['pen']!));
-    if (!pen) continue;
+    if (!pen) {
+      unknown ??= { unknownPen: match.groups['pen']!, siteId: site.id, barnId: barn.id };
+      continue;
+    }
     const encodedDate = match.groups['date'] ? parseDateCell(match.groups['date'], 'yyyyMMdd') : undefined;
     // A date the tube label claims but the calendar lacks (20261345) is a mistyped label, not a reason to guess.
     if (match.groups['date'] && encodedDate === undefined) return 'bad-date';
@@ -177,7 +193,7 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
     if (last !== site) lastPatternSite.set(sites, site);
     return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
   }
-  return undefined;
+  return unknown;
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
 
@@ -290,6 +306,15 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   }
   if (located === 'bad-date') {
     return refuse('bad-date', line, columns.sampleId, rawSample, `sample ID ${rawSample} carries a date that does not exist (yyyymmdd expected)`);
+  }
+  if (located !== undefined && 'unknownPen' in located) {
+    return refuse(
+      'unknown-pen',
+      line,
+      columns.sampleId,
+      rawSample,
+      `sample ID ${rawSample} names pen "${located.unknownPen}", which barn ${located.barnId} on site ${located.siteId} does not have (check the tube label, or the barn layout in sites.yaml)`,
+    );
   }
 
   return {

@@ -102,6 +102,8 @@ interface SampleInFile {
   ropeSiteId: string | undefined;
   /** The location its sample ID encodes that this file tried to place it at. */
   patternTriedAt: string | undefined;
+  /** Why its encoded location was refused, when it was: every row of the sample is refused alike. */
+  patternRefusal: Omit<RowRejection, 'line'> | undefined;
   /** The file stored a result for it, and counted it for the receipt. */
   counted: boolean;
 }
@@ -121,6 +123,50 @@ const REASONS_REMEMBERED = 50_000;
 
 export interface StoreOptions {
   busyTimeoutMs?: number;
+  /** Create the file when it does not exist (default). Commands that only read pass false. */
+  create?: boolean;
+}
+
+/** The store file cannot be used: missing, a folder, not SQLite, damaged. The message names the file. */
+export class StoreOpenError extends Error {
+  override readonly name = 'StoreOpenError';
+  constructor(
+    readonly file: string,
+    detail: string,
+  ) {
+    super(`store ${file}: ${detail}`);
+  }
+}
+
+/** SQLite result codes that mean the bytes are not a usable database (sqlite.org/rescode.html). */
+function damageDetail(error: unknown): string | undefined {
+  const code = error instanceof Database.SqliteError ? error.code : undefined;
+  if (code === undefined) return undefined;
+  if (code === 'SQLITE_NOTADB') return 'is not a SQLite database (another program\'s file, or not a ropewatch store); point --db at the store file';
+  if (code.startsWith('SQLITE_CORRUPT')) {
+    return `is damaged (SQLite: ${error instanceof Error ? error.message : code}); a store cut short by a copy or a full disk reads like this: restore it from a backup, or point --db at another file`;
+  }
+  if (code.startsWith('SQLITE_CANTOPEN')) return `cannot be opened (SQLite: ${error instanceof Error ? error.message : code}); check the path and its permissions`;
+  return undefined;
+}
+
+/** Checks the path before SQLite sees it: a folder, or a missing file that may not be created. */
+function checkStoreFile(file: string, create: boolean): void {
+  let stat: fs.Stats | undefined;
+  try {
+    stat = fs.statSync(file);
+  } catch {
+    stat = undefined;
+  }
+  if (stat?.isDirectory()) throw new StoreOpenError(file, 'is a folder; --db takes the store file (for example data/ropewatch.db)');
+  if (stat === undefined && !create) {
+    throw new StoreOpenError(file, 'does not exist; check --db (ingest, watch, report, plan and demo create a new store, this command only reads one)');
+  }
+  try {
+    fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
+  } catch (error) {
+    throw new StoreOpenError(file, `its folder cannot be created (${(error as Error).message})`);
+  }
 }
 
 export class Store {
@@ -138,18 +184,40 @@ export class Store {
   private readonly reasonIds = new Map<string, number>();
   private readonly statements;
 
+  /**
+   * Opens (or, unless `create` is false, creates) the store and brings its schema up to date.
+   * @throws StoreOpenError naming the file when it is missing (and may not be created), a folder,
+   *   not SQLite, damaged, or a SQLite database of another program.
+   */
   constructor(file: string, options: StoreOptions = {}) {
-    if (file !== ':memory:') fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
-    this.db = new Database(file);
-    this.db.pragma('journal_mode = WAL');
-    // A file is archived only after its commit, so the commit must survive a power cut.
-    this.db.pragma('synchronous = FULL');
-    this.db.pragma('foreign_keys = ON');
-    // A 16 MB page cache (default 2 MB) keeps the hot index pages of a large export in memory
-    // while it is stored, and bounds what the store adds to the process.
-    this.db.pragma('cache_size = -16384');
-    this.db.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
-    this.migrate();
+    const create = options.create ?? true;
+    if (file !== ':memory:') checkStoreFile(file, create);
+    let opened: Database.Database | undefined;
+    try {
+      opened = new Database(file, { fileMustExist: !create });
+      opened.pragma('journal_mode = WAL');
+      // A file is archived only after its commit, so the commit must survive a power cut.
+      opened.pragma('synchronous = FULL');
+      opened.pragma('foreign_keys = ON');
+      // A 16 MB page cache (default 2 MB) keeps the hot index pages of a large export in memory
+      // while it is stored, and bounds what the store adds to the process.
+      opened.pragma('cache_size = -16384');
+      opened.pragma(`busy_timeout = ${options.busyTimeoutMs ?? 120_000}`);
+      // A cheap probe that reads the header and the whole schema, not the data (PRAGMA quick_check
+      // reads every page): SQLite refuses a file shorter than its header's page count here
+      // (SQLITE_CORRUPT), and a file that is not SQLite at all (SQLITE_NOTADB).
+      const tables = opened.prepare("SELECT count(*) FROM sqlite_schema WHERE type = 'table'").pluck().get() as number;
+      const version = opened.pragma('user_version', { simple: true }) as number;
+      // Tables without a schema version were made by another program: never add ours beside them.
+      if (version === 0 && tables > 0) throw new StoreOpenError(file, 'is a SQLite database of another program (it has tables but no ropewatch schema version); point --db at the store file');
+      this.db = opened;
+      this.migrate();
+    } catch (error) {
+      opened?.close();
+      if (error instanceof StoreOpenError) throw error;
+      const detail = damageDetail(error);
+      throw detail === undefined ? error : new StoreOpenError(file, detail);
+    }
     // Samples the open file stored results for and that hang in no pen yet (for its receipt);
     // this connection only.
     this.db.exec('CREATE TEMP TABLE IF NOT EXISTS file_unplaced (sample INTEGER PRIMARY KEY)');
@@ -320,6 +388,7 @@ export class Store {
       ropedAt: stored?.siteId == null ? undefined : locationKey(stored as RopeLocation),
       ropeSiteId: stored?.siteId ?? undefined,
       patternTriedAt: undefined,
+      patternRefusal: undefined,
       counted: false,
     };
     if (this.samplesThisFile.size >= SAMPLES_REMEMBERED) this.samplesThisFile.clear();
@@ -343,13 +412,27 @@ export class Store {
     return id;
   }
 
-  /** Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`. */
-  insertResults(fileId: number, rows: RowList<ResultRow>): InsertCounts {
+  /**
+   * Stores a batch of result rows; links reissues to what they supersede. Call inside `beginFile`.
+   *
+   * A row whose sample ID encodes its pen and day (site sample pattern) is placed before it is
+   * stored, so that each row is counted once: stored and placed, or refused and not stored. The
+   * rope goes in when the pen is free that day; a pen that already holds another sample's rope
+   * that day refuses the row (`pen-twice-same-day`: one rope per pen per day, and two sample IDs
+   * for it are the lab's or the farm's to settle), as it refuses every row of that sample. A
+   * sample that already hangs somewhere (a rope sheet says where) is placed there: the sheet
+   * records what was hung, the encoded location is only what the label was printed for, so the
+   * row is stored with a warning.
+   * @param sampleIdField the file's header for the sample ID, named in refusals.
+   */
+  insertResults(fileId: number, rows: RowList<ResultRow>, sampleIdField = 'sample ID'): InsertCounts {
     this.requireFile();
     const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
     for (let index = 0; index < rows.length; index++) {
       const row = rows.at(index)!;
       const sample = this.sampleInFile(row.sampleId);
+      const rope = row.encodedRope;
+      if (rope !== undefined && !this.placeEncodedRope(fileId, sample, row, rope, sampleIdField, counts)) continue;
       const info = this.statements.insertResult.run(
         fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
         row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.contentKey,
@@ -364,15 +447,6 @@ export class Store {
       const assayAndLab = `${row.assayId}|${row.labId}`;
       if (sample.hadResults || sample.reported.includes(assayAndLab)) this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, counts);
       else sample.reported.push(assayAndLab);
-      const rope = row.encodedRope;
-      if (rope) {
-        // A sample's other assays carry the same encoded rope: it is placed (or refused) once.
-        const location = locationKey(rope);
-        if (sample.ropedAt !== location && sample.patternTriedAt !== location) {
-          sample.patternTriedAt = location;
-          this.insertRopeRow(fileId, sample, { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined }, 'sample-pattern', counts);
-        }
-      }
       if (!sample.counted) {
         sample.counted = true;
         if (sample.ropeSiteId !== undefined) this.effects.sites.add(sample.ropeSiteId);
@@ -380,6 +454,37 @@ export class Store {
       }
     }
     return counts;
+  }
+
+  /**
+   * Places the rope a result row's sample ID encodes, or refuses the row (pushed to `counts`).
+   * Returns whether the row may be stored. A sample's other assays carry the same location: it
+   * is tried once per file, and its outcome repeated for them.
+   */
+  private placeEncodedRope(fileId: number, sample: SampleInFile, row: ResultRow, rope: RopeLocation, sampleIdField: string, counts: InsertCounts): boolean {
+    const location = locationKey(rope);
+    if (sample.ropedAt === location) return true;
+    if (sample.patternTriedAt === location) {
+      if (sample.patternRefusal === undefined) return true;
+      counts.rejections.push({ ...sample.patternRefusal, line: row.line });
+      return false;
+    }
+    sample.patternTriedAt = location;
+    if (sample.ropedAt !== undefined) {
+      counts.warnings.push(
+        `line ${row.line}: sample ${row.sampleId} hangs in ${sample.ropedAt} by an earlier rope; its ID names ${location}: the result is placed where the rope hangs`,
+      );
+      return true;
+    }
+    const before = counts.rejections.length;
+    const ropeRow: RopeRow = { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined };
+    this.insertRopeRow(fileId, sample, ropeRow, 'sample-pattern', counts);
+    if (counts.rejections.length === before) return true;
+    // The refusal names the file's sample ID column: that is the cell that carries the location.
+    const refusal = { ...counts.rejections[before]!, field: sampleIdField, value: row.sampleId };
+    counts.rejections[before] = refusal;
+    sample.patternRefusal = { field: refusal.field, code: refusal.code, value: refusal.value, message: refusal.message };
+    return false;
   }
 
   /** Links a new row to the current rows of the same sample, assay and lab stored before it. */
@@ -434,12 +539,16 @@ export class Store {
       return;
     }
     const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, sampleKey) as { sampleId: string } | undefined;
+    const other = clash?.sampleId ?? '(another sample)';
     counts.rejections.push({
       line: row.line,
       field: 'pen',
       code: 'pen-twice-same-day',
       value: row.penId,
-      message: `pen ${row.barnId}/${row.penId} already has sample ${clash?.sampleId ?? '(another sample)'} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`,
+      message:
+        source === 'sheet'
+          ? `pen ${row.barnId}/${row.penId} already has sample ${other} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`
+          : `sample ${row.sampleId} names pen ${row.barnId}/${row.penId} on ${row.hungOn}, which already has sample ${other}; one rope per pen per day, so two sample IDs name one rope: the result is not stored (ask the lab which ID the tube carries)`,
     });
   }
 

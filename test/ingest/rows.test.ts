@@ -129,8 +129,20 @@ describe('mapResultRow', () => {
       ok: true,
       row: { sampleId: 'TR-N1-07-20260805', encodedRope: { siteId: 'tamsin-ridge', barnId: 'N1', penId: '7', hungOn: '2026-08-05' } },
     });
-    // A pen the barn does not have is not a location; the result is kept as unresolved.
-    expect(nf({ 'Sample ID': 'TR-N1-99-20260805' })).toMatchObject({ ok: true, row: { encodedRope: undefined } });
+    // "1" and "01" name one pen (pens match as painted: canonicalPenKey), so both spellings place the same rope.
+    expect(nf({ 'Sample ID': 'TR-N1-1-20260805' })).toMatchObject({ ok: true, row: { encodedRope: { barnId: 'N1', penId: '1' } } });
+    expect(nf({ 'Sample ID': 'TR-N1-01-20260805' })).toMatchObject({ ok: true, row: { encodedRope: { barnId: 'N1', penId: '1' } } });
+  });
+
+  it('refuses a pattern sample ID naming a pen its barn does not have (unknown-pen), instead of keeping it unplaceable', () => {
+    // Demo layout: barn N1 of Tamsin Ridge has 2 rows of 12 pens numbered continuously, 1..24; 99 and 25 are not pens.
+    for (const id of ['TR-N1-99-20260805', 'TR-N1-25-20260805']) {
+      expect(nf({ 'Sample ID': id }, 5)).toMatchObject({ ok: false, rejection: { code: 'unknown-pen', line: 5, field: 'Sample ID', value: id } });
+    }
+    const outcome = nf({ 'Sample ID': 'TR-N1-99-20260805' });
+    expect(!outcome.ok && outcome.rejection.message).toMatch(/pen "99".*barn N1.*tamsin-ridge/);
+    // The last pen of the barn is a pen.
+    expect(nf({ 'Sample ID': 'TR-N1-24-20260805' })).toMatchObject({ ok: true, row: { encodedRope: { penId: '24' } } });
   });
 
   it('refuses a pattern sample ID that names its pen but has no date anywhere', () => {
