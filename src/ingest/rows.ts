@@ -9,6 +9,7 @@ import { isValid } from 'date-fns/isValid';
 import { parse as parseDate } from 'date-fns/parse';
 import { foldToken } from '../util/fold.js';
 import { canonicalPenKey } from '../domain/layout.js';
+import { compilePatternSet, type PatternSet } from '../config/pattern.js';
 import type { Assay, LabAssay, LabProfile, Site } from '../config/types.js';
 import { classify, type Interpretation, type ResultClass } from '../interpret/classify.js';
 import { readCt, type CtReading } from '../interpret/ct.js';
@@ -158,28 +159,63 @@ const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
   invalid: 'invalid',
 };
 
+/** The sites with a sample pattern, and one automaton that tells which of their patterns match an ID. */
+interface PatternSites {
+  sites: readonly Site[];
+  set: PatternSet;
+}
+const patternSitesOf = new WeakMap<readonly Site[], PatternSites>();
+
+function patternSites(sites: readonly Site[]): PatternSites {
+  let found = patternSitesOf.get(sites);
+  if (found === undefined) {
+    const withPattern = sites.filter((site) => site.samplePattern !== undefined);
+    // Built from the patterns' sources, so it works as well on sites that crossed to the parse worker.
+    found = { sites: withPattern, set: compilePatternSet(withPattern.map((site) => site.samplePattern!)) };
+    patternSitesOf.set(sites, found);
+  }
+  return found;
+}
+
 /** Finds the site, barn and pen a sample ID encodes through a site's configured pattern. */
 export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | 'no-date' | 'bad-date' | undefined {
-  // Exports come a site at a time: try the site that matched last before the others.
+  // One pass over the ID finds the sites whose pattern matches (usually none or one); only
+  // those are asked for their groups.
+  const candidates = patternSites(sites);
+  const matching = candidates.set.matching(sampleId);
+  if (matching.length === 0) return undefined;
+  if (matching.length === 1) return locationInSite(candidates.sites[matching[0]!]!, sampleId, fallbackDate, sites);
+  // Several sites' patterns match: exports come a site at a time, so the site that matched
+  // last goes first, then the others in configuration order.
+  const matched = [...matching].sort((a, b) => a - b).map((index) => candidates.sites[index]!);
   const last = lastPatternSite.get(sites);
-  for (const site of last === undefined ? sites : [last, ...sites]) {
-    const match = site.samplePattern?.exec(sampleId);
-    if (!match?.groups) continue;
-    const barn = site.barnById.get(match.groups['barn']!.toUpperCase());
-    if (!barn) continue;
-    const pen = barn.penByKey.get(canonicalPenKey(match.groups['pen']!));
-    if (!pen) continue;
-    const encodedDate = match.groups['date'] ? parseDateCell(match.groups['date'], 'yyyyMMdd') : undefined;
-    // A date the tube label claims but the calendar lacks (20261345) is a mistyped label, not a reason to guess.
-    if (match.groups['date'] && encodedDate === undefined) return 'bad-date';
-    const hungOn = encodedDate ?? fallbackDate;
-    if (!hungOn) return 'no-date';
-    if (last !== site) lastPatternSite.set(sites, site);
-    return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
+  for (const site of last !== undefined && matched.includes(last) ? [last, ...matched.filter((other) => other !== last)] : matched) {
+    const located = locationInSite(site, sampleId, fallbackDate, sites);
+    if (located !== undefined) return located;
   }
   return undefined;
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
+
+function locationInSite(site: Site, sampleId: string, fallbackDate: string | undefined, sites: readonly Site[]): RopeLocation | 'no-date' | 'bad-date' | undefined {
+  const groups = site.samplePattern?.exec(sampleId);
+  // An optional group (barn or pen) that took no part in the match places nothing.
+  const barnText = groups?.['barn'];
+  const penText = groups?.['pen'];
+  if (barnText === undefined || penText === undefined) return undefined;
+  const barn = site.barnById.get(barnText.toUpperCase());
+  if (!barn) return undefined;
+  const pen = barn.penByKey.get(canonicalPenKey(penText));
+  if (!pen) return undefined;
+  const dateText = groups?.['date'];
+  const encodedDate = dateText ? parseDateCell(dateText, 'yyyyMMdd') : undefined;
+  // A date the tube label claims but the calendar lacks (20261345) is a mistyped label, not a reason to guess.
+  if (dateText && encodedDate === undefined) return 'bad-date';
+  const hungOn = encodedDate ?? fallbackDate;
+  if (!hungOn) return 'no-date';
+  if (lastPatternSite.get(sites) !== site) lastPatternSite.set(sites, site);
+  return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
+}
 
 function locateOnce(memo: FileMemo, sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): ReturnType<typeof locationFromPattern> {
   const last = memo.lastLocated;
