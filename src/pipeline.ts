@@ -8,6 +8,7 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
+import { RECEIPTS_FOLDER } from './config/names.js';
 import { FileStillChangingError, ingestFile, type Receipt } from './ingest/ingestFile.js';
 import { OutputError, regenerateOutputs } from './outputs.js';
 import { writeFileAtomic, writeJson } from './report/files.js';
@@ -81,8 +82,8 @@ export async function processFile(ws: Workspace, file: string): Promise<ProcessO
   const name = path.basename(file);
   const stamp = receipt.sha256.slice(0, 8) || 'unread';
   try {
-    writeJson(path.join(ws.outbox, 'receipts', `${name}.${stamp}.receipt.json`), receipt);
-    writeFileAtomic(path.join(ws.outbox, 'receipts', `${name}.${stamp}.receipt.txt`), receiptText(receipt));
+    writeJson(path.join(ws.outbox, RECEIPTS_FOLDER, `${name}.${stamp}.receipt.json`), receipt);
+    writeFileAtomic(path.join(ws.outbox, RECEIPTS_FOLDER, `${name}.${stamp}.receipt.txt`), receiptText(receipt));
   } catch (error) {
     // The store has committed; the receipt is a courtesy copy of what the store holds.
     ws.log(`warning: receipt for ${name} could not be written (${(error as Error).message})`);

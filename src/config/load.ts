@@ -2,7 +2,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import YAML from 'yaml';
 import type { z } from 'zod';
-import { expandLayout, penContacts, pensByKey, type BarnLayout } from '../domain/layout.js';
+import { canonicalPenKey, expandLayout, penContacts, pensByKey, type BarnLayout, type Pen } from '../domain/layout.js';
 import {
   assaysFileSchema,
   labProfileSchema,
@@ -11,6 +11,9 @@ import {
   sitesFileSchema,
 } from './schema.js';
 import { foldToken } from '../util/fold.js';
+import { dateFormatProblem } from './dateFormat.js';
+import { folderNameProblem, matchKey } from './names.js';
+import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } from './pattern.js';
 import type { AnalysisSettings, Assay, Barn, Config, DesignPrevalence, LabAssay, LabProfile, PerAssayValue, Program, Site } from './types.js';
 
 /** A configuration problem, naming the file and the key path (e.g. `sites[0].barns[1].layout.rows`). */
@@ -31,6 +34,14 @@ function formatPath(segments: readonly PropertyKey[]): string {
     .join('');
 }
 
+/**
+ * How far one YAML anchor may be expanded: its uses times the aliases nested in it (the yaml
+ * package's maxAliasCount). The package's default, 100, would refuse one barn layout shared by
+ * a hundred barns; a thousand still stops nested aliases that multiply ("billion laughs") at
+ * the second or third level.
+ */
+const MAX_YAML_ALIASES = 1000;
+
 function readYaml(file: string): unknown {
   let text: string;
   try {
@@ -44,7 +55,21 @@ function readYaml(file: string): unknown {
     const where = first.linePos?.[0] ? `line ${first.linePos[0].line}, column ${first.linePos[0].col}` : '';
     throw new ConfigError(file, where, `is not valid YAML: ${first.message.split('\n')[0]}`);
   }
-  return doc.toJS();
+  try {
+    // Aliases are expanded here; past the limit the yaml package throws a ReferenceError
+    // (yaml 2 docs, ToJSOptions.maxAliasCount).
+    return doc.toJS({ maxAliasCount: MAX_YAML_ALIASES });
+  } catch (error) {
+    const detail = (error as Error).message;
+    if (/alias/i.test(detail)) {
+      throw new ConfigError(
+        file,
+        '',
+        `expands YAML aliases (*name) too far: an anchor's uses times the aliases inside it exceed ${MAX_YAML_ALIASES}, as in a "billion laughs" file; write the values out or use fewer nested aliases`,
+      );
+    }
+    throw new ConfigError(file, '', `cannot be read as YAML data: ${detail}`);
+  }
 }
 
 function validate<S extends z.ZodType>(schema: S, value: unknown, file: string, prefix: readonly PropertyKey[] = []): z.output<S> {
@@ -96,36 +121,94 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
   });
 }
 
-function compilePattern(source: string, file: string, keyPath: string, groups: string[]): RegExp {
-  let pattern: RegExp;
+function compilePattern(source: string, file: string, keyPath: string, groups: readonly string[]): ConfiguredPattern {
   try {
-    pattern = new RegExp(source, 'i');
+    return compileConfiguredPattern(source, groups);
   } catch (error) {
-    throw new ConfigError(file, keyPath, `is not a valid regular expression: ${(error as Error).message}`);
+    if (error instanceof PatternSyntaxError) throw new ConfigError(file, keyPath, error.message);
+    throw error;
   }
-  for (const group of groups) {
-    if (!source.includes(`(?<${group}>`)) throw new ConfigError(file, keyPath, `needs a named group (?<${group}>...)`);
-  }
-  return pattern;
 }
 
-function loadSites(file: string): { organisation: string | undefined; analysis: AnalysisSettings; sites: Site[] } {
+/**
+ * Refuses the second of two names that the code would take for the same thing (compared as
+ * matchKey compares them), at the key path of the second. One owner may repeat its own name
+ * (a barn whose name is its id).
+ */
+class NameRegistry {
+  private readonly seen = new Map<string, { owner: unknown; what: string; value: string; keyPath: string }>();
+  constructor(private readonly file: string) {}
+
+  claim(owner: unknown, what: string, value: string, keyPath: string): void {
+    const key = matchKey(value);
+    const earlier = this.seen.get(key);
+    if (earlier === undefined) {
+      this.seen.set(key, { owner, what, value, keyPath });
+    } else if (earlier.owner !== owner) {
+      const detail =
+        earlier.value === value && earlier.what === what
+          ? `${what} ${value} is used twice (also at ${earlier.keyPath})`
+          : `${what} ${JSON.stringify(value)} is the same name as ${earlier.what} ${JSON.stringify(earlier.value)} at ${earlier.keyPath}: names are matched ignoring case and spacing`;
+      throw new ConfigError(this.file, keyPath, detail);
+    }
+  }
+}
+
+/**
+ * Refuses per-assay keys (ropeSensitivity, ropeSpecificity) that name no assay: they are looked
+ * up by exact assay id, so a misspelt key would silently leave the default in force. An
+ * age-group key that differs from a barn's age group only in case or spacing is refused too.
+ */
+function checkPerAssayKeys(
+  raw: unknown,
+  prefix: readonly PropertyKey[],
+  file: string,
+  assayIds: ReadonlySet<string>,
+  ageGroups: ReadonlySet<string>,
+): void {
+  if (raw === null || typeof raw !== 'object') return;
+  const assayByKey = new Map([...assayIds].map((id) => [matchKey(id), id]));
+  const ageGroupByKey = new Map([...ageGroups].map((group) => [matchKey(group), group]));
+  for (const [key, value] of Object.entries(raw)) {
+    if (key === 'default') continue;
+    if (!assayIds.has(key)) {
+      const near = assayByKey.get(matchKey(key));
+      throw new ConfigError(file, formatPath([...prefix, key]), `names assay ${key}, which is not in assays.yaml${near ? ` (assay ids match exactly: write ${near})` : ''}`);
+    }
+    if (value === null || typeof value !== 'object') continue;
+    for (const group of Object.keys(value)) {
+      const near = ageGroupByKey.get(matchKey(group));
+      if (group !== 'default' && !ageGroups.has(group) && near !== undefined) {
+        throw new ConfigError(file, formatPath([...prefix, key, group]), `age group ${JSON.stringify(group)} differs from the barns' age group ${JSON.stringify(near)}; age groups match exactly`);
+      }
+    }
+  }
+}
+
+function loadSites(file: string, assayIds: ReadonlySet<string>): { organisation: string | undefined; analysis: AnalysisSettings; sites: Site[] } {
   const raw = validate(sitesFileSchema, readYaml(file), file);
   const defaults = raw.programDefaults;
-  const siteIds = new Set<string>();
-  const codes = new Set<string>();
+  const allAgeGroups = new Set(raw.sites.flatMap((site) => site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup]))));
+  for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(defaults[key], ['programDefaults', key], file, assayIds, allAgeGroups);
+  // A rope sheet's site cell and --site match a site's id, code or name (rows.ts findSite,
+  // cli/commands.ts): all three share one namespace across sites.
+  const siteNames = new NameRegistry(file);
   const sites = raw.sites.map((site, siteIndex): Site => {
     const at = (...rest: PropertyKey[]) => formatPath(['sites', siteIndex, ...rest]);
-    if (siteIds.has(site.id)) throw new ConfigError(file, at('id'), `site id ${site.id} is used twice`);
-    if (codes.has(site.code)) throw new ConfigError(file, at('code'), `site code ${site.code} is used twice`);
-    siteIds.add(site.id);
-    codes.add(site.code);
+    const folderProblem = folderNameProblem(site.id);
+    if (folderProblem !== undefined) throw new ConfigError(file, at('id'), `site id ${folderProblem}`);
+    siteNames.claim(site, 'site id', site.id, at('id'));
+    siteNames.claim(site, 'site code', site.code, at('code'));
+    siteNames.claim(site, 'site name', site.name, at('name'));
     const overrides = validate(programOverridesSchema, site.program ?? {}, file, ['sites', siteIndex, 'program']);
+    const siteAgeGroups = new Set(site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup])));
+    for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(overrides[key], ['sites', siteIndex, 'program', key], file, assayIds, siteAgeGroups);
     const program = normaliseProgram({ ...defaults, ...overrides });
-    const barnIds = new Set<string>();
+    // Barns are found by id (upper case: barnById) and, on rope sheets, by name (foldToken).
+    const barnNames = new NameRegistry(file);
     const barns = site.barns.map((barn, barnIndex): Barn => {
-      if (barnIds.has(barn.id)) throw new ConfigError(file, at('barns', barnIndex, 'id'), `barn id ${barn.id} is used twice on site ${site.id}`);
-      barnIds.add(barn.id);
+      barnNames.claim(barn, 'barn id', barn.id, at('barns', barnIndex, 'id'));
+      if (barn.name !== undefined) barnNames.claim(barn, 'barn name', barn.name, at('barns', barnIndex, 'name'));
       const rawLayout = barn.layout;
       const defaultLabels = ['A', 'B', 'C', 'D'].slice(0, rawLayout.rows);
       const layout: BarnLayout = {
@@ -149,6 +232,7 @@ function loadSites(file: string): { organisation: string | undefined; analysis: 
       } catch (error) {
         throw new ConfigError(file, at('barns', barnIndex, 'layout'), (error as Error).message);
       }
+      checkPenKeys(pens, layout, file, (...rest) => at('barns', barnIndex, 'layout', ...rest));
       if (!pens.some((pen) => pen.status === 'in-use')) {
         throw new ConfigError(file, at('barns', barnIndex, 'layout'), 'has no pen in use');
       }
@@ -177,13 +261,46 @@ function loadSites(file: string): { organisation: string | undefined; analysis: 
   return { organisation: raw.organisation, analysis: Object.freeze({ ...raw.analysis }), sites };
 }
 
+/**
+ * Refuses row labels, and pens, that the code would take for one another: results and rope
+ * sheets find a pen by its canonical key (canonicalPenKey: "a01" is A1), so rows labelled A and
+ * a, or A and A0 (A01 and A1), would put ropes in the wrong pen. Head counts must name pens.
+ */
+function checkPenKeys(pens: readonly Pen[], layout: BarnLayout, file: string, at: (...rest: PropertyKey[]) => string): void {
+  const labels = new Map<string, number>();
+  layout.rowLabels.forEach((label, row) => {
+    const earlier = labels.get(matchKey(label));
+    if (earlier !== undefined) {
+      throw new ConfigError(file, at('rowLabels', row), `row label ${JSON.stringify(label)} is the same as row label ${JSON.stringify(layout.rowLabels[earlier])} when matched (case and spacing are ignored)`);
+    }
+    labels.set(matchKey(label), row);
+  });
+  const byKey = new Map<string, Pen>();
+  for (const pen of pens) {
+    const key = canonicalPenKey(pen.id);
+    const earlier = byKey.get(key);
+    if (earlier !== undefined) {
+      throw new ConfigError(
+        file,
+        layout.numbering === 'per-row' ? at('rowLabels', pen.row) : at('numbering'),
+        `pens ${earlier.id} and ${pen.id} are the same pen when matched (${key}: case, spaces and leading zeros are ignored); choose row labels that do not end in a digit`,
+      );
+    }
+    byKey.set(key, pen);
+  }
+  const ids = new Set(pens.map((pen) => pen.id));
+  for (const id of Object.keys(layout.headCount?.pens ?? {})) {
+    if (!ids.has(id)) throw new ConfigError(file, at('headCount', 'pens', id), `names pen ${id}, which is not in the layout`);
+  }
+}
+
 function loadAssays(file: string): Assay[] {
   const raw = validate(assaysFileSchema, readYaml(file), file);
-  const ids = new Set<string>();
+  // Assay ids match exactly, but two that differ in case only would read as one in every report.
+  const ids = new NameRegistry(file);
   return raw.assays.map((assay, index) => {
     const at = (key: string) => formatPath(['assays', index, key]);
-    if (ids.has(assay.id)) throw new ConfigError(file, at('id'), `assay id ${assay.id} is used twice`);
-    ids.add(assay.id);
+    ids.claim(assay, 'assay id', assay.id, at('id'));
     if (!(assay.positiveBelow <= assay.suspectBelow)) throw new ConfigError(file, at('suspectBelow'), 'must be at or above positiveBelow');
     if (!(assay.suspectBelow <= assay.cycleLimit)) throw new ConfigError(file, at('suspectBelow'), 'must be at or below cycleLimit');
     const bands = [...assay.loadBands];
@@ -207,9 +324,14 @@ function loadAssays(file: string): Assay[] {
 
 function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfile {
   const raw = validate(labProfileSchema, readYaml(file), file);
+  const dateProblem = dateFormatProblem(raw.format.dateFormat);
+  if (dateProblem !== undefined) throw new ConfigError(file, 'format.dateFormat', dateProblem);
   const assays = new Map<string, LabAssay>();
+  // An export's assay cell is looked up folded (foldToken): two names that fold alike are one.
+  const labAssayNames = new NameRegistry(file);
   for (const [labAssayName, entry] of Object.entries(raw.assays)) {
     const at = formatPath(['assays', labAssayName]);
+    labAssayNames.claim(labAssayName, 'lab assay name', labAssayName, at);
     const assay = assayById.get(entry.assay);
     if (!assay) throw new ConfigError(file, `${at}.assay`, `names assay ${entry.assay}, which is not in assays.yaml`);
     const labAssay: LabAssay = {
@@ -262,9 +384,9 @@ export function loadConfig(dir: string): Config {
   const sitesFile = path.join(dir, 'sites.yaml');
   const assaysFile = path.join(dir, 'assays.yaml');
   const labsDir = path.join(dir, 'labs');
-  const { organisation, analysis, sites } = loadSites(sitesFile);
   const assays = loadAssays(assaysFile);
   const assayById = new Map(assays.map((assay) => [assay.id, assay]));
+  const { organisation, analysis, sites } = loadSites(sitesFile, new Set(assayById.keys()));
   let labFiles: string[] = [];
   try {
     labFiles = fs
@@ -276,10 +398,17 @@ export function loadConfig(dir: string): Config {
   }
   if (labFiles.length === 0) throw new ConfigError(labsDir, '', 'holds no lab profile (*.yaml)');
   const labs = labFiles.map((name) => loadLab(path.join(labsDir, name), assayById));
-  const labIds = new Set<string>();
+  // Lab ids are stored with every result and printed in receipts: two that differ in case only
+  // would read as one lab.
+  const labIds = new Map<string, { id: string; name: string }>();
   for (const [index, lab] of labs.entries()) {
-    if (labIds.has(lab.id)) throw new ConfigError(path.join(labsDir, labFiles[index]!), 'id', `lab id ${lab.id} is used twice`);
-    labIds.add(lab.id);
+    const name = labFiles[index]!;
+    const earlier = labIds.get(matchKey(lab.id));
+    if (earlier !== undefined) {
+      const detail = earlier.id === lab.id ? `lab id ${lab.id} is used twice (also in ${earlier.name})` : `lab id ${lab.id} differs from lab id ${earlier.id} (${earlier.name}) in case only`;
+      throw new ConfigError(path.join(labsDir, name), 'id', detail);
+    }
+    labIds.set(matchKey(lab.id), { id: lab.id, name });
   }
   return Object.freeze({
     dir,

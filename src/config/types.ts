@@ -1,5 +1,6 @@
 /** Normalised configuration: what the rest of ropewatch reads. Built once by `loadConfig`, frozen. */
 import type { BarnLayout, Pen, PenContacts } from '../domain/layout.js';
+import type { ConfiguredPattern } from './pattern.js';
 
 export type DesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'pens'; value: number };
 
@@ -52,7 +53,8 @@ export interface Site {
   name: string;
   code: string;
   program: Program;
-  samplePattern: RegExp | undefined;
+  /** Sample IDs that carry their barn, pen and date (named groups), matched in linear time. */
+  samplePattern: ConfiguredPattern | undefined;
   barns: readonly Barn[];
   barnById: ReadonlyMap<string, Barn>;
 }
@@ -87,7 +89,7 @@ export interface LabAssay {
 export interface LabProfile {
   id: string;
   name: string;
-  fileNamePattern: RegExp | undefined;
+  fileNamePattern: ConfiguredPattern | undefined;
   delimiter: ',' | ';' | '\t' | '|' | 'auto';
   decimal: '.' | ',';
   encoding: 'utf-8' | 'latin1' | 'utf-16le' | 'auto';

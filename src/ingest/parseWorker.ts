@@ -4,6 +4,7 @@
  * store to take one before it posts more, so memory stays bounded whatever the file's size.
  */
 import { parentPort } from 'node:worker_threads';
+import { revivePattern } from '../config/pattern.js';
 import { encodeBatch, transferables } from './batchWire.js';
 import { mappedBatches, type MappingInput } from './mappedBatches.js';
 import { BATCHES_IN_FLIGHT, describeWorkerFailure, type FromWorker, type ToWorker } from './workerProtocol.js';
@@ -14,9 +15,21 @@ let wake: (() => void) | undefined;
 
 const post = (message: FromWorker, transfer: ArrayBuffer[] = []) => port.postMessage(message, transfer);
 
+/**
+ * The input as the main thread meant it: sites and the lab profile cross by structured clone,
+ * which keeps a configured pattern's source but drops its compiled automaton (a class instance
+ * arrives as a plain object), so the patterns are compiled again here.
+ */
+function withPatterns(input: MappingInput): MappingInput {
+  const sites = input.sites.map((site) => ({ ...site, samplePattern: revivePattern(site.samplePattern) }));
+  const { kind } = input;
+  if (kind.kind !== 'results') return { ...input, sites };
+  return { ...input, sites, kind: { ...kind, lab: { ...kind.lab, fileNamePattern: revivePattern(kind.lab.fileNamePattern) } } };
+}
+
 async function read(input: MappingInput): Promise<void> {
   try {
-    for await (const batch of mappedBatches(input)) {
+    for await (const batch of mappedBatches(withPatterns(input))) {
       // Encode before waiting: the row objects then die young instead of being promoted while
       // the batch waits for the store, which keeps this thread's heap from growing with the file.
       const wire = encodeBatch(batch);

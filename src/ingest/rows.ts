@@ -9,6 +9,7 @@ import { isValid } from 'date-fns/isValid';
 import { parse as parseDate } from 'date-fns/parse';
 import { foldToken } from '../util/fold.js';
 import { canonicalPenKey } from '../domain/layout.js';
+import { compilePatternSet, type PatternSet } from '../config/pattern.js';
 import type { Assay, LabAssay, LabProfile, Site } from '../config/types.js';
 import { classify, type Interpretation, type ResultClass } from '../interpret/classify.js';
 import { readCt, type CtReading } from '../interpret/ct.js';
@@ -158,6 +159,24 @@ const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
   invalid: 'invalid',
 };
 
+/** The sites with a sample pattern, and one automaton that tells which of their patterns match an ID. */
+interface PatternSites {
+  sites: readonly Site[];
+  set: PatternSet;
+}
+const patternSitesOf = new WeakMap<readonly Site[], PatternSites>();
+
+function patternSites(sites: readonly Site[]): PatternSites {
+  let found = patternSitesOf.get(sites);
+  if (found === undefined) {
+    const withPattern = sites.filter((site) => site.samplePattern !== undefined);
+    // Built from the patterns' sources, so it works as well on sites that crossed to the parse worker.
+    found = { sites: withPattern, set: compilePatternSet(withPattern.map((site) => site.samplePattern!)) };
+    patternSitesOf.set(sites, found);
+  }
+  return found;
+}
+
 /** A sample ID that a site's pattern reads as a barn of that site and a pen the barn's layout lacks. */
 export interface UnknownEncodedPen {
   unknownPen: string;
@@ -165,37 +184,54 @@ export interface UnknownEncodedPen {
   barnId: string;
 }
 
+type EncodedLocation = RopeLocation | UnknownEncodedPen | 'no-date' | 'bad-date' | undefined;
+
 /**
  * Finds the site, barn and pen a sample ID encodes through a site's configured pattern. The pen
  * is the layout's own label (`07` and `7` name pen 7), so two spellings of one pen are one place.
  * A pen the barn lacks is returned as such (when no other site places the ID), never read as
  * "no location": the label names a place, and that place does not exist.
  */
-export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): RopeLocation | UnknownEncodedPen | 'no-date' | 'bad-date' | undefined {
-  // Exports come a site at a time: try the site that matched last before the others.
+export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): EncodedLocation {
+  // One pass over the ID finds the sites whose pattern matches (usually none or one); only
+  // those are asked for their groups.
+  const candidates = patternSites(sites);
+  const matching = candidates.set.matching(sampleId);
+  if (matching.length === 0) return undefined;
+  if (matching.length === 1) return locationInSite(candidates.sites[matching[0]!]!, sampleId, fallbackDate, sites);
+  // Several sites' patterns match: exports come a site at a time, so the site that matched
+  // last goes first, then the others in configuration order.
+  const matched = [...matching].sort((a, b) => a - b).map((index) => candidates.sites[index]!);
   const last = lastPatternSite.get(sites);
   let unknown: UnknownEncodedPen | undefined;
-  for (const site of last === undefined ? sites : [last, ...sites]) {
-    const match = site.samplePattern?.exec(sampleId);
-    if (!match?.groups) continue;
-    const barn = site.barnById.get(match.groups['barn']!.toUpperCase());
-    if (!barn) continue;
-    const pen = barn.penByKey.get(canonicalPenKey(match.groups['pen']!));
-    if (!pen) {
-      unknown ??= { unknownPen: match.groups['pen']!, siteId: site.id, barnId: barn.id };
-      continue;
-    }
-    const encodedDate = match.groups['date'] ? parseDateCell(match.groups['date'], 'yyyyMMdd') : undefined;
-    // A date the tube label claims but the calendar lacks (20261345) is a mistyped label, not a reason to guess.
-    if (match.groups['date'] && encodedDate === undefined) return 'bad-date';
-    const hungOn = encodedDate ?? fallbackDate;
-    if (!hungOn) return 'no-date';
-    if (last !== site) lastPatternSite.set(sites, site);
-    return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
+  for (const site of last !== undefined && matched.includes(last) ? [last, ...matched.filter((other) => other !== last)] : matched) {
+    const located = locationInSite(site, sampleId, fallbackDate, sites);
+    if (located !== undefined && typeof located === 'object' && 'unknownPen' in located) unknown ??= located;
+    else if (located !== undefined) return located;
   }
   return unknown;
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
+
+function locationInSite(site: Site, sampleId: string, fallbackDate: string | undefined, sites: readonly Site[]): EncodedLocation {
+  const groups = site.samplePattern?.exec(sampleId);
+  // An optional group (barn or pen) that took no part in the match places nothing.
+  const barnText = groups?.['barn'];
+  const penText = groups?.['pen'];
+  if (barnText === undefined || penText === undefined) return undefined;
+  const barn = site.barnById.get(barnText.toUpperCase());
+  if (!barn) return undefined;
+  const pen = barn.penByKey.get(canonicalPenKey(penText));
+  if (!pen) return { unknownPen: penText, siteId: site.id, barnId: barn.id };
+  const dateText = groups?.['date'];
+  const encodedDate = dateText ? parseDateCell(dateText, 'yyyyMMdd') : undefined;
+  // A date the tube label claims but the calendar lacks (20261345) is a mistyped label, not a reason to guess.
+  if (dateText && encodedDate === undefined) return 'bad-date';
+  const hungOn = encodedDate ?? fallbackDate;
+  if (!hungOn) return 'no-date';
+  if (lastPatternSite.get(sites) !== site) lastPatternSite.set(sites, site);
+  return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
+}
 
 function locateOnce(memo: FileMemo, sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): ReturnType<typeof locationFromPattern> {
   const last = memo.lastLocated;

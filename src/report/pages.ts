@@ -6,6 +6,7 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
+import { INDEX_PAGE } from '../config/names.js';
 import type { Config } from '../config/types.js';
 import type { SiteAnalysis } from '../outputs.js';
 import { notifiableNotice } from './cautions.js';
@@ -111,5 +112,5 @@ export function writeIndex(outbox: string, config: Config): void {
   }
   const rank = new Map(config.sites.map((site, index) => [site.id, index]));
   digests.sort((a, b) => (rank.get(a.site.id) ?? Infinity) - (rank.get(b.site.id) ?? Infinity) || (a.site.id < b.site.id ? -1 : a.site.id > b.site.id ? 1 : 0));
-  atomicWriter.write(path.join(outbox, 'index.html'), renderIndexPage(digests, config.organisation));
+  atomicWriter.write(path.join(outbox, INDEX_PAGE), renderIndexPage(digests, config.organisation));
 }

@@ -5,6 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
+import { compileConfiguredPattern } from '../../src/config/pattern.js';
 import type { LabProfile } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind, guessDelimiter } from '../../src/ingest/detect.js';
@@ -39,7 +40,7 @@ describe('detectFileKind: lab exports', () => {
   });
 
   it('uses the file name to choose between two labs whose headers both fit', () => {
-    const twin: LabProfile = { ...northfield, id: 'northfield-west', fileNamePattern: /^nvdlw_/i };
+    const twin: LabProfile = { ...northfield, id: 'northfield-west', fileNamePattern: compileConfiguredPattern('^nvdlw_') };
     const both = [northfield, twin];
     const byName = detectFileKind('nvdlw_2026-08-06.csv', `${NF_HEADER}\n`, both);
     expect(byName.kind === 'results' && byName.lab.id).toBe('northfield-west');

@@ -6,6 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
+import { compileConfiguredPattern } from '../../src/config/pattern.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
@@ -147,7 +148,7 @@ describe('mapResultRow', () => {
 
   it('refuses a pattern sample ID that names its pen but has no date anywhere', () => {
     const tamsin = config.siteById.get('TAMSIN-RIDGE')!;
-    const noDate = { ...tamsin, samplePattern: /^TR-(?<barn>N[12])-(?<pen>\d{1,2})$/i };
+    const noDate = { ...tamsin, samplePattern: compileConfiguredPattern('^TR-(?<barn>N[12])-(?<pen>\\d{1,2})$') };
     expect(locationFromPattern('TR-N2-03', [noDate], undefined)).toBe('no-date');
     expect(locationFromPattern('TR-N2-03', [noDate], '2026-08-05')).toMatchObject({ barnId: 'N2', penId: '3', hungOn: '2026-08-05' });
     const context = { ...nfContext, sites: [noDate] };
