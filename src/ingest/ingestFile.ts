@@ -148,6 +148,8 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     receipt.warnings.push(`the same bytes arrived before as ${known.name} on ${known.receivedAt}; nothing stored twice`);
     if (known.status === 'rejected') {
       receipt.reason = { code: (known.reasonCode as RejectionCode) ?? 'duplicate-file', message: `${name}: ${known.reason ?? 'rejected before'} (the same bytes were rejected before)`, line: null, field: null };
+    } else {
+      receipt.reason = { code: 'duplicate-file', message: `${name}: the same bytes were stored before as ${known.name} on ${known.receivedAt}; nothing stored twice`, line: null, field: null };
     }
     return receipt;
   };
