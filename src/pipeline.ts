@@ -1,40 +1,33 @@
 /**
  * One drop through the whole pipeline: ingest into the store (one transaction), write its
- * receipt, move the file (archive/ or rejected/ with a .reason.txt), then rewrite the outputs of
- * the sites it touched from the committed store. The file moves only after the store has
- * committed: a crash before that leaves it in the inbox, and the content hash makes the retry
- * safe. Outputs come last and show committed data only; if they cannot be written the store
- * remembers that they are behind, and the next run rebuilds them.
+ * receipt, move the file into the inbox's archive/ (or rejected/ with a .reason.txt), then
+ * rewrite the outputs of the sites it touched from the committed store. The file moves only
+ * after the store has committed: a crash before that leaves it in the inbox, and the content
+ * hash makes the retry safe. Outputs come last and show committed data only; if they cannot be
+ * written the store remembers that they are behind, and the next run rebuilds them. Names,
+ * moves and special-file checks are in inboxFiles.ts.
  */
-import fs from 'node:fs';
 import path from 'node:path';
 import { RECEIPTS_FOLDER } from './config/names.js';
 import { FileStillChangingError, ingestFile, type Receipt } from './ingest/ingestFile.js';
+import {
+  ARCHIVE_DIR,
+  FileTakenError,
+  inspectInput,
+  isGone,
+  moveInto,
+  notRegularFileReceipt,
+  reasonPath,
+  receiptNames,
+  REJECTED_DIR,
+  takenByAnother,
+} from './inboxFiles.js';
 import { OutputError, regenerateOutputs } from './outputs.js';
 import { writeFileAtomic, writeJson } from './report/files.js';
+import { terminalText } from './util/terminalText.js';
 import type { Workspace } from './workspace.js';
 
-export const ARCHIVE_DIR = 'archive';
-export const REJECTED_DIR = 'rejected';
-
-/** A destination path that does not overwrite an earlier file of the same name. */
-function freeDestination(dir: string, name: string, sha256: string): string {
-  const target = path.join(dir, name);
-  if (!fs.existsSync(target)) return target;
-  const ext = path.extname(name);
-  return path.join(dir, `${path.basename(name, ext)}.${sha256.slice(0, 8)}${ext}`);
-}
-
-function moveFile(from: string, to: string): void {
-  fs.mkdirSync(path.dirname(to), { recursive: true });
-  try {
-    fs.renameSync(from, to);
-  } catch (error) {
-    if ((error as NodeJS.ErrnoException).code !== 'EXDEV') throw error;
-    fs.copyFileSync(from, to);
-    fs.rmSync(from);
-  }
-}
+export { ARCHIVE_DIR, REJECTED_DIR };
 
 export function receiptText(receipt: Receipt): string {
   const lines = [
@@ -62,7 +55,8 @@ export function receiptText(receipt: Receipt): string {
   }
   if (receipt.resolvedSampleIds.length > 0) lines.push('', `earlier results now placed in their pens: ${receipt.resolvedSampleIds.join(', ')}`);
   for (const warning of receipt.warnings) lines.push(`note: ${warning}`);
-  return lines.join('\n') + '\n';
+  // Names, sample IDs and quoted cells come from the file: escaped so a text viewer shows them.
+  return lines.map(terminalText).join('\n') + '\n';
 }
 
 export interface ProcessOutcome {
@@ -73,33 +67,26 @@ export interface ProcessOutcome {
 }
 
 /**
- * Processes one inbox file end to end.
+ * Processes one inbox file end to end. An entry that is not a regular file (FIFO, socket, device,
+ * folder) is refused from its stat, never opened, and left where it is.
  * @throws FileStillChangingError when the file changed while it was read: nothing stored, the
  *   file stays where it is for the next run.
+ * @throws FileTakenError when the file left before this process read it (another process took it).
  */
 export async function processFile(ws: Workspace, file: string): Promise<ProcessOutcome> {
+  // Only regular files are opened: opening a FIFO blocks until a writer comes.
+  const entry = inspectInput(file);
+  if (entry.kind === 'missing') throw new FileTakenError(file);
+  if (entry.kind === 'special') {
+    const receipt = notRegularFileReceipt(path.basename(file), entry.what, ws.now().toISOString());
+    writeReceipts(ws, receipt);
+    return { receipt, movedTo: file };
+  }
   const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now });
-  const name = path.basename(file);
-  const stamp = receipt.sha256.slice(0, 8) || 'unread';
-  try {
-    writeJson(path.join(ws.outbox, RECEIPTS_FOLDER, `${name}.${stamp}.receipt.json`), receipt);
-    writeFileAtomic(path.join(ws.outbox, RECEIPTS_FOLDER, `${name}.${stamp}.receipt.txt`), receiptText(receipt));
-  } catch (error) {
-    // The store has committed; the receipt is a courtesy copy of what the store holds.
-    ws.log(`warning: receipt for ${name} could not be written (${(error as Error).message})`);
-  }
-  const inboxOf = path.dirname(file);
-  let movedTo = file;
-  if (fs.existsSync(file)) {
-    if (receipt.status === 'rejected') {
-      movedTo = freeDestination(path.join(inboxOf, REJECTED_DIR), name, receipt.sha256 || stamp);
-      moveFile(file, movedTo);
-      writeFileAtomic(`${movedTo}.reason.txt`, receiptText(receipt));
-    } else {
-      movedTo = freeDestination(path.join(inboxOf, ARCHIVE_DIR), name, receipt.sha256);
-      moveFile(file, movedTo);
-    }
-  }
+  // Unreadable because another process archived it meanwhile: nothing was stored for it here.
+  if (receipt.status === 'rejected' && receipt.reason?.code === 'file-read-error' && isGone(file)) throw new FileTakenError(file);
+  writeReceipts(ws, receipt);
+  const movedTo = fileAway(ws, file, receipt);
   if (receipt.status !== 'accepted' || receipt.sites.length === 0) return { receipt, movedTo };
   try {
     regenerateOutputs(ws, receipt.sites);
@@ -108,6 +95,45 @@ export async function processFile(ws: Workspace, file: string): Promise<ProcessO
     throw error;
   }
   return { receipt, movedTo };
+}
+
+function writeReceipts(ws: Workspace, receipt: Receipt): void {
+  const names = receiptNames(receipt.file, receipt.sha256);
+  try {
+    writeJson(path.join(ws.outbox, RECEIPTS_FOLDER, names.json), receipt);
+    writeFileAtomic(path.join(ws.outbox, RECEIPTS_FOLDER, names.txt), receiptText(receipt));
+  } catch (error) {
+    // The store has committed; the receipt is a courtesy copy of what the store holds.
+    ws.log(terminalText(`warning: receipt for ${receipt.file} could not be written (${(error as Error).message})`));
+  }
+}
+
+/**
+ * Moves a processed file into the inbox's archive/ (or rejected/, with its reason), wherever it
+ * was named from. The store has committed, so a failed move is told, never thrown: the file
+ * stays where it is and a later run finds it a duplicate.
+ */
+function fileAway(ws: Workspace, file: string, receipt: Receipt): string {
+  const dir = path.join(ws.inbox, receipt.status === 'rejected' ? REJECTED_DIR : ARCHIVE_DIR);
+  let movedTo: string;
+  try {
+    movedTo = moveInto(dir, file, receipt.sha256, receipt.status === 'rejected');
+  } catch (error) {
+    // Another process moved it first: it is in its folder already.
+    if (takenByAnother(error, file)) return file;
+    const code = (error as NodeJS.ErrnoException).code;
+    const why = code === 'EEXIST' || code === 'ENOTDIR' ? `${dir} is not a folder: rename or move whatever is there` : (error as Error).message;
+    ws.log(terminalText(`warning: ${receipt.file} (${receipt.status}) stays at ${file}: it cannot be moved into ${dir} (${why})`));
+    return file;
+  }
+  if (receipt.status === 'rejected') {
+    try {
+      writeFileAtomic(reasonPath(movedTo), receiptText(receipt));
+    } catch (error) {
+      ws.log(terminalText(`warning: the reason beside ${movedTo} could not be written (${(error as Error).message}); the receipt holds it`));
+    }
+  }
+  return movedTo;
 }
 
 export { FileStillChangingError, OutputError };

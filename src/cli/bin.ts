@@ -2,12 +2,15 @@ import { main } from './main.js';
 
 /** The only place that touches process: argv, streams, signals, exit. */
 export async function runFromProcess(): Promise<void> {
-  let resolveStop!: () => void;
-  const stopSignal = new Promise<void>((resolve) => {
+  let resolveStop!: (signal: NodeJS.Signals) => void;
+  const stopSignal = new Promise<NodeJS.Signals>((resolve) => {
     resolveStop = resolve;
   });
-  process.once('SIGINT', () => resolveStop());
-  process.once('SIGTERM', () => resolveStop());
+  // Once: the first signal asks for a clean stop (watch and ingest finish the file in hand); a
+  // second one of the same kind meets Node's default action and ends the process at once, which
+  // the store survives (one transaction per file, the file stays in the inbox).
+  process.once('SIGINT', () => resolveStop('SIGINT'));
+  process.once('SIGTERM', () => resolveStop('SIGTERM'));
   const code = await main(process.argv.slice(2), {
     stdout: (text) => process.stdout.write(text),
     stderr: (text) => process.stderr.write(text),

@@ -3,20 +3,23 @@
  * runs, closes it, and reports through the injected io.
  */
 import fs from 'node:fs';
+import os from 'node:os';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { ConfigError } from '../config/load.js';
 import type { Receipt } from '../ingest/ingestFile.js';
+import { FileTakenError, inboxProblem, takenByAnother } from '../inboxFiles.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
 import { catchUpOutputs, OutputError, regenerateOutputs } from '../outputs.js';
 import { removeStrayTemps } from '../report/files.js';
 import { planText } from '../report/planText.js';
 import { FileStillChangingError, processFile, type ProcessOutcome } from '../pipeline.js';
 import { runDemo } from '../demo/runDemo.js';
+import { terminalText } from '../util/terminalText.js';
 import { watchInbox } from '../watch/index.js';
 import { StoreOpenError } from '../store/store.js';
 import { openWorkspace, resolvePaths, type OpenOptions, type PathOptions, type Workspace } from '../workspace.js';
-import { InputRejectedError, printJson, UsageError, type CliIo } from './io.js';
+import { InputRejectedError, InterruptedError, printJson, UsageError, type CliIo } from './io.js';
 import { parseIntegerOption } from './parseArgs.js';
 
 export interface CommonOptions extends PathOptions {
@@ -64,7 +67,12 @@ function listSome(ids: readonly string[], limit: number): string {
   return ids.length > limit ? `${ids.length}: ${shown} and ${ids.length - limit} more (--json lists them all)` : shown;
 }
 
+/** One line per receipt for the terminal; names and messages from the file are escaped. */
 function receiptLine(receipt: Receipt): string {
+  return terminalText(receiptSummary(receipt));
+}
+
+function receiptSummary(receipt: Receipt): string {
   if (receipt.status === 'rejected') return `rejected ${receipt.file}: ${receipt.reason?.message ?? 'see receipt'}`;
   if (receipt.status === 'duplicate') return `skipped  ${receipt.file}: the same bytes were ingested before`;
   const parts = [`${receipt.rows.accepted} rows stored`];
@@ -87,43 +95,91 @@ export function catchUp(ws: Workspace, io: CliIo): boolean {
     return true;
   } catch (error) {
     if (!(error instanceof OutputError)) throw error;
-    io.stderr(`ropewatch: ${error.message}\n`);
+    io.stderr(`ropewatch: ${terminalText(error.message)}\n`);
     return false;
   }
 }
 
+/** The line for a file another process took first: no receipt, not a refusal. */
+function takenLine(file: string): string {
+  return terminalText(`skipped  ${path.basename(file)}: already taken by another process`);
+}
+
 /**
- * Runs one file through the pipeline and tells the user. Returns the outcome, or undefined when
- * the file was still being written (nothing stored, left in the inbox).
+ * Runs one file through the pipeline and tells the user. Returns the outcome; 'changing' when
+ * the file was still being written (nothing stored, left in the inbox); 'taken' when another
+ * process took it first (it stored or refused it and wrote its receipt).
  */
-async function processAndTell(ws: Workspace, file: string, io: CliIo, json: boolean): Promise<ProcessOutcome | undefined> {
+export async function processAndTell(ws: Workspace, file: string, io: CliIo, json: boolean): Promise<ProcessOutcome | 'changing' | 'taken'> {
   let outcome: ProcessOutcome;
   try {
     outcome = await processFile(ws, file);
   } catch (error) {
+    if (error instanceof FileTakenError || takenByAnother(error, file)) {
+      if (json) io.stderr(`ropewatch: ${takenLine(file)}\n`);
+      else io.stdout(`${takenLine(file)}\n`);
+      return 'taken';
+    }
     if (!(error instanceof FileStillChangingError)) throw error;
-    io.stderr(`ropewatch: not read yet: ${error.message}\n`);
-    return undefined;
+    io.stderr(`ropewatch: not read yet: ${terminalText(error.message)}\n`);
+    return 'changing';
   }
   if (!json) io.stdout(`${receiptLine(outcome.receipt)}\n`);
-  if (outcome.outputError) io.stderr(`ropewatch: ${path.basename(file)} stored, but ${outcome.outputError.message}\n`);
+  if (outcome.outputError) io.stderr(`ropewatch: ${terminalText(`${path.basename(file)} stored, but ${outcome.outputError.message}`)}\n`);
   return outcome;
 }
 
-/** Runs files through the pipeline in order; returns receipts. Exit 1 follows from refusals. */
-export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<{ receipts: Receipt[]; failed: boolean }> {
+/**
+ * Exit code of a command stopped by a signal: 128 + its number (signal(7): SIGINT 2 -> 130,
+ * SIGTERM 15 -> 143), the shell's convention (POSIX Shell Command Language 2.8.2: above 128).
+ * A stop with no signal named counts as an interrupt.
+ */
+export function signalExitCode(signal: string): number {
+  const number = (os.constants.signals as Record<string, number | undefined>)[signal];
+  return 128 + (number ?? os.constants.signals.SIGINT);
+}
+
+export interface IngestRun {
+  receipts: Receipt[];
+  failed: boolean;
+  /** The signal that stopped the run (`a stop request` when it came without a name), or null. */
+  stoppedBy: string | null;
+  /** Files not started because of the stop: still where they were. */
+  left: string[];
+}
+
+/**
+ * Runs files through the pipeline in order; returns receipts. Exit 1 follows from refusals, from
+ * files still being written and from outputs that could not be written. A stop request lets the
+ * file in hand finish (its transaction commits or rolls back whole) and leaves the others untouched.
+ */
+export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<IngestRun> {
   const receipts: Receipt[] = [];
   let failed = !catchUp(ws, io);
-  for (const file of files) {
+  const stop: { by: string | null } = { by: null };
+  void io.stopSignal?.then((signal) => {
+    stop.by = signal ?? 'a stop request';
+  });
+  for (const [index, file] of files.entries()) {
+    // A signal is delivered through the event loop: give it a turn before taking the next file.
+    await new Promise<void>((resolve) => setImmediate(resolve));
+    if (stop.by !== null) return { receipts, failed, stoppedBy: stop.by, left: files.slice(index) };
     const outcome = await processAndTell(ws, file, io, json);
-    if (outcome === undefined) {
+    if (outcome === 'taken') continue;
+    if (outcome === 'changing') {
       failed = true;
       continue;
     }
     receipts.push(outcome.receipt);
     if (outcome.receipt.status === 'rejected' || outcome.receipt.rows.rejected > 0 || outcome.outputError) failed = true;
   }
-  return { receipts, failed };
+  return { receipts, failed, stoppedBy: null, left: [] };
+}
+
+/** Refuses to start (exit 2) when processed files could not be moved out of the inbox. */
+function checkInbox(io: CliIo, options: CommonOptions): void {
+  const problem = inboxProblem(resolvePaths(io.cwd, options).inbox);
+  if (problem !== null) throw new UsageError(terminalText(problem));
 }
 
 export function registerPipelineCommands(program: Command, io: CliIo): void {
@@ -135,9 +191,18 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .option('--json', 'print the receipts as JSON'),
   ).action(async (files: string[], options: CommonOptions) => {
     const resolved = files.map((file) => path.resolve(io.cwd, file));
-    for (const file of resolved) if (!fs.existsSync(file)) throw new UsageError(`no such file: ${file}`);
+    for (const file of resolved) if (!fs.existsSync(file)) throw new UsageError(terminalText(`no such file: ${file}`));
+    checkInbox(io, options);
     const outcome = await withWorkspace(io, options, (ws) => ingestFiles(ws, resolved, io, options.json === true));
     if (options.json) printJson(io, outcome.receipts);
+    if (outcome.stoppedBy !== null) {
+      const done = resolved.length - outcome.left.length;
+      throw new InterruptedError(
+        terminalText(`stopped by ${outcome.stoppedBy} after ${done} of ${resolved.length} file(s); ${outcome.left.length} not started, left where they are for the next run:`) +
+          outcome.left.map((file) => `\n  ${terminalText(file)}`).join(''),
+        signalExitCode(outcome.stoppedBy),
+      );
+    }
     if (outcome.failed) throw new InputRejectedError('some input was refused: see the receipts in outbox/receipts/');
   });
 
@@ -150,6 +215,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   ).action(async (options: CommonOptions & { poll?: boolean; stableMs: string }) => {
     const stableMs = Number(options.stableMs);
     if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
+    checkInbox(io, options);
     await withWorkspace(io, options, async (ws) => {
       fs.mkdirSync(ws.inbox, { recursive: true });
       catchUp(ws, io);
@@ -158,15 +224,15 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         inbox: ws.inbox,
         poll: options.poll === true,
         stableMs,
-        stop: io.stopSignal ?? new Promise<void>(() => {}),
-        log: (line) => io.stdout(`${line}\n`),
-        onError: (error, file) => io.stderr(`ropewatch: ${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}\n`),
+        stop: (io.stopSignal ?? new Promise<void>(() => {})).then(() => undefined),
+        // watchInbox logs file names as found in the folder; the watcher itself says "stopped".
+        log: (line) => io.stdout(`${terminalText(line)}\n`),
+        onError: (error, file) => io.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
         onFile: async (file) => {
           // A file still being written is read again when it settles (the watcher saw it change).
           await processAndTell(ws, file, io, false);
         },
       });
-      io.stdout('stopped\n');
     });
   });
 
@@ -209,7 +275,10 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
               (site.missingRopesLastRound.length ? ` (${site.missingRopesLastRound.length} ropes missing: ${site.missingRopesLastRound.join(', ')})` : '') +
               (site.nextRound ? `; next round: ${site.nextRound.ropes} ropes planned, due ${site.nextRound.dueOn}` : ''),
           ),
-        ].join('\n') + '\n',
+        ]
+          // Sample IDs and names come from lab files: escaped for the terminal.
+          .map(terminalText)
+          .join('\n') + '\n',
       );
     }, { createStore: false });
   });

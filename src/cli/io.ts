@@ -10,8 +10,12 @@ export interface CliIo {
   /** The clock; never `new Date()` inside a command. */
   now: () => Date;
   env: Readonly<Record<string, string | undefined>>;
-  /** Resolves when the user asks a long-running command (watch) to stop. Tests pass their own. */
-  stopSignal?: Promise<void>;
+  /**
+   * Resolves when the user asks a command to stop, with the signal's name when one came
+   * (`SIGINT`, `SIGTERM`). `watch` stops and exits 0; `ingest` finishes the file in hand and exits
+   * 128 + the signal number. Tests pass their own.
+   */
+  stopSignal?: Promise<NodeJS.Signals | void>;
 }
 
 /** Bad arguments or a bad request: exit code 2. The message names the option and the value. */
@@ -22,6 +26,20 @@ export class UsageError extends Error {
 /** An input was rejected (a file, a row): exit code 1, the work on other inputs went ahead. */
 export class InputRejectedError extends Error {
   override readonly name = 'InputRejectedError';
+}
+
+/**
+ * The command was stopped by a signal before its work was done: the exit code is 128 + the
+ * signal number (130 for SIGINT, 143 for SIGTERM), the shell's convention for "ended by a signal".
+ */
+export class InterruptedError extends Error {
+  override readonly name = 'InterruptedError';
+  constructor(
+    message: string,
+    readonly exitCode: number,
+  ) {
+    super(message);
+  }
 }
 
 export const EXIT = Object.freeze({ ok: 0, rejected: 1, usage: 2 });

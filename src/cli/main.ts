@@ -1,5 +1,5 @@
 import { Command, CommanderError } from 'commander';
-import { EXIT, InputRejectedError, UsageError, type CliIo } from './io.js';
+import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } from './io.js';
 import { registerCalc } from './calc.js';
 import { registerPipelineCommands } from './commands.js';
 
@@ -42,6 +42,10 @@ export async function main(argv: readonly string[], io: CliIo): Promise<number> 
     if (error instanceof RangeError) {
       io.stderr(`ropewatch: ${error.message}\n`);
       return EXIT.usage;
+    }
+    if (error instanceof InterruptedError) {
+      io.stderr(`ropewatch: ${error.message}\n`);
+      return error.exitCode;
     }
     if (error instanceof InputRejectedError) {
       io.stderr(`ropewatch: ${error.message}\n`);

@@ -13,6 +13,7 @@ export const REJECTION_CODES = {
   'missing-column': 'a column the lab profile or rope sheet requires is not in the header',
   'duplicate-header': 'two header cells carry the same name',
   'file-read-error': 'the file could not be read',
+  'not-a-regular-file': 'a FIFO, socket, device, folder or a link to one of them: refused from its type, never opened, left where it is',
   'malformed-csv': 'broken quoting or structure: the rows after it cannot be trusted, so the file is refused whole',
   // Rows
   'ragged-row': 'the row has a different number of fields from the header',

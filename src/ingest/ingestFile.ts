@@ -192,6 +192,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     receipt.kind = known.kind;
     receipt.lab = known.labId;
     receipt.warnings.push(`the same bytes arrived before as ${known.name} on ${known.receivedAt}; nothing stored twice`);
+    receipt.reason = { code: 'duplicate-file', message: `${name}: the same bytes were stored before as ${known.name} on ${known.receivedAt}; nothing stored twice`, line: null, field: null };
     return receipt;
   };
   // Bytes refused before are read again with the configuration of today: the refusal may have

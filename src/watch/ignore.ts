@@ -105,7 +105,7 @@ export interface EntryKind {
  * stats and again with them (chokidar 5 README, "Path filtering"); it also asks about the watched
  * folder itself, which must never be ignored or nothing is watched. Subfolders are ignored
  * outright: processed files live in `archive/` and `rejected/`, and with `depth: 0` nothing below
- * the inbox is input.
+ * the inbox is input. Other non-regular entries are judged by name only; the watcher skips them.
  * @throws RangeError when `extensions` is malformed (checked once, here, not per event).
  */
 export function inboxMatcher(
@@ -117,7 +117,8 @@ export function inboxMatcher(
   return (candidate, stats) => {
     if (path.resolve(candidate) === root) return false;
     if (stats?.isDirectory()) return true;
-    if (stats !== undefined && !stats.isFile()) return true;
+    // A FIFO, socket or device with an accepted name passes: the watcher logs it as skipped
+    // (from its stat, never opening it) rather than leaving the operator to wonder.
     return ignoreReason(candidate, { inbox: root, extensions: accepted }) !== null;
   };
 }

@@ -13,6 +13,7 @@ import { promises as fsp } from 'node:fs';
 import path from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { watch, type FSWatcher } from 'chokidar';
+import { inspectInput } from '../inboxFiles.js';
 import { DEFAULT_EXTENSIONS, ignoreReason, inboxMatcher, normaliseExtensions } from './ignore.js';
 import { createSerialQueue } from './queue.js';
 import { sameStamp, stabilitySettings, waitUntilStable, type FileStamp } from './stability.js';
@@ -68,6 +69,8 @@ async function statFile(filePath: string): Promise<FileStamp | null> {
  *
  * - chokidar with `depth: 0`, `ignoreInitial: true`, the name rules of `ignoreReason`, `add` and
  *   `change` handled, `unlink` ignored (a vanished file is a no-op), `error` reported.
+ * - An entry that is not a regular file (FIFO, socket, device, a link to one) is logged once as
+ *   skipped and never opened; a link to a regular file is read like the file.
  * - After chokidar is ready, a sweep (readdir) passes files already present through the same
  *   gate; a file seen by both the sweep and an event is gated once.
  * - A path already gating, queued or running is not taken twice. An event for the running path
@@ -155,6 +158,13 @@ export async function watchInbox(options: WatchInboxOptions): Promise<void> {
 
   const gate = async (filePath: string): Promise<void> => {
     try {
+      // A FIFO, socket or device is never gated or read (opening a FIFO blocks until a writer
+      // comes, fifo(7)); a link is judged by its target.
+      const entry = inspectInput(filePath);
+      if (entry.kind === 'special') {
+        log(`skip ${name(filePath)}: not a regular file but ${entry.what}; not read`);
+        return;
+      }
       const result = await waitUntilStable(filePath, probe, settings);
       if (result.kind === 'ready' && !stopping) {
         readyStamps.set(filePath, result.stamp);
@@ -213,8 +223,9 @@ export async function watchInbox(options: WatchInboxOptions): Promise<void> {
       log(`watching ${inbox}${options.poll ? ' (polling)' : ''}, quiet period ${settings.stableMs} ms`);
       try {
         const entries = await fsp.readdir(inbox, { withFileTypes: true });
+        // Everything but folders: the gate logs a FIFO, socket or device as skipped.
         const names = entries
-          .filter((entry) => entry.isFile() || entry.isSymbolicLink())
+          .filter((entry) => !entry.isDirectory())
           .map((entry) => entry.name)
           .sort();
         for (const entry of names) consider(path.join(inbox, entry), 'present at start');
