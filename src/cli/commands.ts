@@ -1,62 +1,27 @@
 /**
- * The pipeline commands: ingest, watch, status, report. Each opens the workspace at the edge,
- * runs, closes it, and reports through the injected io.
+ * The pipeline commands: ingest, watch, status, report, plan, demo. Each opens the workspace at
+ * the edge, runs, closes it, and reports through the injected io.
  */
 import fs from 'node:fs';
-import os from 'node:os';
 import path from 'node:path';
 import type { Command } from 'commander';
-import { ConfigError } from '../config/load.js';
-import type { Receipt } from '../ingest/ingestFile.js';
-import { FileTakenError, inboxProblem, takenByAnother } from '../inboxFiles.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
-import { catchUpOutputs, OutputError, regenerateOutputs } from '../outputs.js';
+import { OutputError, regenerateOutputs } from '../outputs.js';
 import { removeStrayTemps } from '../report/files.js';
 import { planText } from '../report/planText.js';
-import { FileStillChangingError, processFile, type ProcessOutcome } from '../pipeline.js';
 import { runDemo } from '../demo/runDemo.js';
 import { terminalText } from '../util/terminalText.js';
 import { watchInbox } from '../watch/index.js';
-import { StoreOpenError } from '../store/store.js';
-import { openWorkspace, resolvePaths, type OpenOptions, type PathOptions, type Workspace } from '../workspace.js';
+import { watchConfig } from '../watch/configWatch.js';
+import { reloadConfiguration } from './retry.js';
+import { resolvePaths } from '../workspace.js';
 import { InputRejectedError, InterruptedError, printJson, UsageError, type CliIo } from './io.js';
 import { parseIntegerOption } from './parseArgs.js';
+import { catchUp, ingestFiles, processAndTell, signalExitCode } from './runFiles.js';
+import { addCommonOptions, checkInbox, withWorkspace, type CommonOptions } from './workspaceOptions.js';
 
-export interface CommonOptions extends PathOptions {
-  json?: boolean;
-}
-
-/** --config, --db, --inbox, --outbox: the same on every command that touches the workspace. */
-export function addCommonOptions(command: Command): Command {
-  return command
-    .option('--config <dir>', 'configuration folder (sites.yaml, assays.yaml, labs/)', 'config')
-    .option('--db <file>', 'SQLite store', 'data/ropewatch.db')
-    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', 'inbox')
-    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
-}
-
-/** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
-export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T, open: OpenOptions = {}): T {
-  let ws: Workspace;
-  try {
-    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), open);
-  } catch (error) {
-    if (error instanceof ConfigError) throw new UsageError(`configuration: ${error.message}`);
-    if (error instanceof StoreOpenError) throw new UsageError(error.message);
-    throw error;
-  }
-  let closeNow = true;
-  try {
-    const result = run(ws);
-    if (result instanceof Promise) {
-      closeNow = false;
-      return result.finally(() => ws.close()) as T;
-    }
-    return result;
-  } finally {
-    if (closeNow) ws.close();
-  }
-}
+export type { CommonOptions };
+export { addCommonOptions, withWorkspace };
 
 /** Sample IDs printed by `status` before "and N more" (--json lists them all). */
 const STATUS_LIST_LIMIT = 20;
@@ -65,121 +30,6 @@ function listSome(ids: readonly string[], limit: number): string {
   if (ids.length === 0) return 'none';
   const shown = ids.slice(0, limit).join(', ');
   return ids.length > limit ? `${ids.length}: ${shown} and ${ids.length - limit} more (--json lists them all)` : shown;
-}
-
-/** One line per receipt for the terminal; names and messages from the file are escaped. */
-function receiptLine(receipt: Receipt): string {
-  return terminalText(receiptSummary(receipt));
-}
-
-function receiptSummary(receipt: Receipt): string {
-  if (receipt.status === 'rejected') return `rejected ${receipt.file}: ${receipt.reason?.message ?? 'see receipt'}`;
-  if (receipt.status === 'duplicate') return `skipped  ${receipt.file}: the same bytes were ingested before`;
-  const parts = [`${receipt.rows.accepted} rows stored`];
-  if (receipt.rows.rejected) parts.push(`${receipt.rows.rejected} refused`);
-  if (receipt.rows.duplicate) parts.push(`${receipt.rows.duplicate} already stored`);
-  if (receipt.rows.superseded) parts.push(`${receipt.rows.superseded} superseding earlier reports`);
-  if (receipt.unresolvedSampleIds.length) parts.push(`${receipt.unresolvedSampleIds.length + receipt.unresolvedNotListed} samples awaiting a rope sheet`);
-  if (receipt.resolvedSampleIds.length) parts.push(`${receipt.resolvedSampleIds.length} earlier results now placed`);
-  return `accepted ${receipt.file} (${receipt.kind}${receipt.lab ? `, ${receipt.lab}` : ''}): ${parts.join(', ')}`;
-}
-
-/**
- * Rebuilds outputs left behind the store by an earlier run (a crash or a full disk between a
- * commit and its outputs). Returns false when they still cannot be written.
- */
-export function catchUp(ws: Workspace, io: CliIo): boolean {
-  try {
-    const rebuilt = catchUpOutputs(ws);
-    if (rebuilt.length > 0) io.stderr(`ropewatch: the outputs of ${rebuilt.join(', ')} were behind the store (an earlier run stopped before writing them); rebuilt\n`);
-    return true;
-  } catch (error) {
-    if (!(error instanceof OutputError)) throw error;
-    io.stderr(`ropewatch: ${terminalText(error.message)}\n`);
-    return false;
-  }
-}
-
-/** The line for a file another process took first: no receipt, not a refusal. */
-function takenLine(file: string): string {
-  return terminalText(`skipped  ${path.basename(file)}: already taken by another process`);
-}
-
-/**
- * Runs one file through the pipeline and tells the user. Returns the outcome; 'changing' when
- * the file was still being written (nothing stored, left in the inbox); 'taken' when another
- * process took it first (it stored or refused it and wrote its receipt).
- */
-export async function processAndTell(ws: Workspace, file: string, io: CliIo, json: boolean): Promise<ProcessOutcome | 'changing' | 'taken'> {
-  let outcome: ProcessOutcome;
-  try {
-    outcome = await processFile(ws, file);
-  } catch (error) {
-    if (error instanceof FileTakenError || takenByAnother(error, file)) {
-      if (json) io.stderr(`ropewatch: ${takenLine(file)}\n`);
-      else io.stdout(`${takenLine(file)}\n`);
-      return 'taken';
-    }
-    if (!(error instanceof FileStillChangingError)) throw error;
-    io.stderr(`ropewatch: not read yet: ${terminalText(error.message)}\n`);
-    return 'changing';
-  }
-  if (!json) io.stdout(`${receiptLine(outcome.receipt)}\n`);
-  if (outcome.outputError) io.stderr(`ropewatch: ${terminalText(`${path.basename(file)} stored, but ${outcome.outputError.message}`)}\n`);
-  return outcome;
-}
-
-/**
- * Exit code of a command stopped by a signal: 128 + its number (signal(7): SIGINT 2 -> 130,
- * SIGTERM 15 -> 143), the shell's convention (POSIX Shell Command Language 2.8.2: above 128).
- * A stop with no signal named counts as an interrupt.
- */
-export function signalExitCode(signal: string): number {
-  const number = (os.constants.signals as Record<string, number | undefined>)[signal];
-  return 128 + (number ?? os.constants.signals.SIGINT);
-}
-
-export interface IngestRun {
-  receipts: Receipt[];
-  failed: boolean;
-  /** The signal that stopped the run (`a stop request` when it came without a name), or null. */
-  stoppedBy: string | null;
-  /** Files not started because of the stop: still where they were. */
-  left: string[];
-}
-
-/**
- * Runs files through the pipeline in order; returns receipts. Exit 1 follows from refusals, from
- * files still being written and from outputs that could not be written. A stop request lets the
- * file in hand finish (its transaction commits or rolls back whole) and leaves the others untouched.
- */
-export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<IngestRun> {
-  const receipts: Receipt[] = [];
-  let failed = !catchUp(ws, io);
-  const stop: { by: string | null } = { by: null };
-  void io.stopSignal?.then((signal) => {
-    stop.by = signal ?? 'a stop request';
-  });
-  for (const [index, file] of files.entries()) {
-    // A signal is delivered through the event loop: give it a turn before taking the next file.
-    await new Promise<void>((resolve) => setImmediate(resolve));
-    if (stop.by !== null) return { receipts, failed, stoppedBy: stop.by, left: files.slice(index) };
-    const outcome = await processAndTell(ws, file, io, json);
-    if (outcome === 'taken') continue;
-    if (outcome === 'changing') {
-      failed = true;
-      continue;
-    }
-    receipts.push(outcome.receipt);
-    if (outcome.receipt.status === 'rejected' || outcome.receipt.rows.rejected > 0 || outcome.outputError) failed = true;
-  }
-  return { receipts, failed, stoppedBy: null, left: [] };
-}
-
-/** Refuses to start (exit 2) when processed files could not be moved out of the inbox. */
-function checkInbox(io: CliIo, options: CommonOptions): void {
-  const problem = inboxProblem(resolvePaths(io.cwd, options).inbox);
-  if (problem !== null) throw new UsageError(terminalText(problem));
 }
 
 export function registerPipelineCommands(program: Command, io: CliIo): void {
@@ -209,7 +59,10 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   addCommonOptions(
     program
       .command('watch')
-      .description('watch the inbox and process each file as it arrives, one at a time, until stopped (SIGINT/SIGTERM)')
+      .description(
+        'watch the inbox and process each file as it arrives, one at a time, until stopped (SIGINT/SIGTERM); ' +
+          'reloads the configuration when its files change and then tries refused files again',
+      )
       .option('--poll', 'poll the folder instead of file-system events (network shares)')
       .option('--stable-ms <ms>', 'quiet time before a file counts as completely written', '2000'),
   ).action(async (options: CommonOptions & { poll?: boolean; stableMs: string }) => {
@@ -220,19 +73,44 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       fs.mkdirSync(ws.inbox, { recursive: true });
       catchUp(ws, io);
       io.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
-      await watchInbox({
-        inbox: ws.inbox,
+      // One thing at a time on the workspace: a dropped file, or a reload of the configuration
+      // (with the retry of refused files it brings).
+      let last: Promise<unknown> = Promise.resolve();
+      const inTurn = <T>(task: () => Promise<T>): Promise<T> => {
+        const run = last.then(task);
+        last = run.catch(() => undefined);
+        return run;
+      };
+      const stamp = () => io.now().toISOString();
+      const configWatch = watchConfig({
+        dir: ws.configDir,
         poll: options.poll === true,
-        stableMs,
-        stop: (io.stopSignal ?? new Promise<void>(() => {})).then(() => undefined),
-        // watchInbox logs file names as found in the folder; the watcher itself says "stopped".
-        log: (line) => io.stdout(`${terminalText(line)}\n`),
-        onError: (error, file) => io.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
-        onFile: async (file) => {
-          // A file still being written is read again when it settles (the watcher saw it change).
-          await processAndTell(ws, file, io, false);
+        onChange: () => {
+          void inTurn(() => reloadConfiguration(ws, io, stamp)).catch((error: unknown) =>
+            io.stderr(`${stamp()} ropewatch: reloading the configuration failed: ${terminalText((error as Error).message ?? String(error))}\n`),
+          );
         },
+        onError: (error) => io.stderr(`${stamp()} ropewatch: the configuration folder cannot be watched: ${terminalText((error as Error).message ?? String(error))}\n`),
       });
+      await configWatch.ready;
+      try {
+        await watchInbox({
+          inbox: ws.inbox,
+          poll: options.poll === true,
+          stableMs,
+          stop: (io.stopSignal ?? new Promise<void>(() => {})).then(() => undefined),
+          // watchInbox logs file names as found in the folder; the watcher itself says "stopped".
+          log: (line) => io.stdout(`${terminalText(line)}\n`),
+          onError: (error, file) => io.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
+          onFile: async (file) => {
+            // A file still being written is read again when it settles (the watcher saw it change).
+            await inTurn(() => processAndTell(ws, file, io, false));
+          },
+        });
+      } finally {
+        await configWatch.close();
+        await last;
+      }
     });
   });
 

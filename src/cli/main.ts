@@ -2,6 +2,7 @@ import { Command, CommanderError } from 'commander';
 import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } from './io.js';
 import { registerCalc } from './calc.js';
 import { registerPipelineCommands } from './commands.js';
+import { registerRetry } from './retry.js';
 
 /**
  * Builds the command tree. Each command's action throws UsageError (exit 2) or
@@ -14,6 +15,7 @@ export function buildProgram(io: CliIo): Command {
     .showHelpAfterError()
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr });
   registerPipelineCommands(program, io);
+  registerRetry(program, io);
   registerCalc(program, io);
   return program;
 }

@@ -1,0 +1,56 @@
+/**
+ * What every workspace command shares: the --config, --db, --inbox and --outbox options, opening
+ * the workspace at the edge (configuration and store problems become usage errors, exit 2), and
+ * the inbox check before anything is stored.
+ */
+import type { Command } from 'commander';
+import { ConfigError } from '../config/load.js';
+import { inboxProblem } from '../inboxFiles.js';
+import { StoreOpenError } from '../store/store.js';
+import { terminalText } from '../util/terminalText.js';
+import { openWorkspace, resolvePaths, type OpenOptions, type PathOptions, type Workspace } from '../workspace.js';
+import { UsageError, type CliIo } from './io.js';
+
+export interface CommonOptions extends PathOptions {
+  json?: boolean;
+}
+
+/** --config, --db, --inbox, --outbox: the same on every command that touches the workspace. */
+export function addCommonOptions(command: Command): Command {
+  return command
+    .option('--config <dir>', 'configuration folder (sites.yaml, assays.yaml, labs/)', 'config')
+    .option('--db <file>', 'SQLite store', 'data/ropewatch.db')
+    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', 'inbox')
+    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
+}
+
+/** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
+export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T, open: OpenOptions = {}): T {
+  let ws: Workspace;
+  try {
+    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), open);
+  } catch (error) {
+    if (error instanceof ConfigError) throw new UsageError(`configuration: ${error.message}`);
+    if (error instanceof StoreOpenError) throw new UsageError(error.message);
+    throw error;
+  }
+  let closeNow = true;
+  try {
+    const result = run(ws);
+    if (result instanceof Promise) {
+      closeNow = false;
+      return result.finally(() => ws.close()) as T;
+    }
+    return result;
+  } finally {
+    if (closeNow) ws.close();
+  }
+}
+
+
+/** Refuses to start (exit 2) when processed files could not be moved out of the inbox. */
+export function checkInbox(io: CliIo, options: CommonOptions): void {
+  const problem = inboxProblem(resolvePaths(io.cwd, options).inbox);
+  if (problem !== null) throw new UsageError(terminalText(problem));
+}
+
