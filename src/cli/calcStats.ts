@@ -11,7 +11,10 @@ import {
   falseAlarmProbability,
   freedomAcrossRounds,
   sampleSize,
+  pooledDetection,
+  poolSizes,
   siteDetection,
+  twoStageSiteDetection,
   type FreedomOrder,
   type FreedomRound,
 } from '../stats/index.js';
@@ -34,9 +37,19 @@ function plural(count: number, one: string, many: string): string {
   return `${count} ${count === 1 ? one : many}`;
 }
 
-interface DetectOptions { pens?: string; sampled?: string; infected?: string; sensitivity?: string; specificity?: string; json?: boolean }
+interface DetectOptions {
+  pens?: string;
+  sampled?: string;
+  infected?: string;
+  sensitivity?: string;
+  specificity?: string;
+  poolSize?: string;
+  poolSensitivity?: string;
+  poolSpecificity?: string;
+  json?: boolean;
+}
 interface SampleSizeOptions { pens?: string; infected?: string; prevalence?: string; confidence?: string; sensitivity?: string; json?: boolean }
-interface SiteOptions { barn?: string; json?: boolean }
+interface SiteOptions { barn?: string; infectedBarns?: string; json?: boolean }
 interface FreedomCliOptions {
   prior?: string;
   roundSensitivity?: string;
@@ -49,6 +62,30 @@ interface FreedomCliOptions {
 }
 
 const ORDERS: readonly FreedomOrder[] = ['update-then-discount', 'discount-then-update'];
+
+/**
+ * `calc detect --pool-size k`: the pooled detection (exact over the barn's pens, pools filled at
+ * random) beside the same ropes tested one by one at the rope sensitivity.
+ */
+function printPooled(io: CliIo, options: DetectOptions, barn: { pens: number; sampled: number; infected: number; sensitivity: number }): void {
+  const poolSize = parseIntegerOption('--pool-size', options.poolSize, 1);
+  if (options.poolSensitivity === undefined) throw new UsageError('--pool-size needs --pool-sensitivity (the sensitivity of a pool, lower than a single rope\'s as the sample is diluted)');
+  const poolSensitivity = parseProbabilityOption('--pool-sensitivity', options.poolSensitivity);
+  const poolSpecificity = options.poolSpecificity === undefined ? 1 : parseProbabilityOption('--pool-specificity', options.poolSpecificity);
+  const { pens, sampled, infected, sensitivity } = barn;
+  const probability = pooledDetection(pens, sampled, infected, poolSize, poolSensitivity, poolSpecificity);
+  const unpooledProbability = detectionFor({ pens, infected, sensitivity })(sampled);
+  const pools = poolSizes(sampled, poolSize).length;
+  const falseAlarm = 1 - Math.pow(poolSpecificity, pools);
+  if (options.json) {
+    printJson(io, { pens, sampled, infected, poolSize, pools, poolSensitivity, poolSpecificity, probability, falseAlarm, sensitivity, unpooledProbability });
+    return;
+  }
+  io.stdout(
+    `${plural(sampled, 'rope', 'ropes')} in ${plural(pools, 'pool', 'pools')} of up to ${poolSize} (pool Se ${poolSensitivity}) in ${pens} pens with ${plural(infected, 'infected pen', 'infected pens')} ` +
+      `find at least one positive pool with probability ${short(probability)} (${percent(probability)}); tested one by one (Se ${sensitivity}) ${short(unpooledProbability)} (${percent(unpooledProbability)}).\n`,
+  );
+}
 
 /**
  * Registers `calc detect`, `calc sample-size`, `calc site` and `calc freedom` on the `calc` command.
@@ -69,6 +106,9 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
     .option('--infected <d>', 'infected pens at the design prevalence')
     .option('--sensitivity <Se>', 'rope (pen-level) sensitivity, default 1')
     .option('--specificity <Sp>', 'rope specificity; adds the false-alarm probability 1 - Sp^n')
+    .option('--pool-size <k>', 'ropes tested together in one PCR (pools of k; the last pool takes what is left)')
+    .option('--pool-sensitivity <PSe>', 'sensitivity of a pool holding at least one infected rope (needed with --pool-size)')
+    .option('--pool-specificity <PSp>', 'specificity of a pool of clean ropes, default 1')
     .option('--json', 'print JSON')
     .action((options: DetectOptions) => {
       const pens = parsePens(options.pens, false);
@@ -76,6 +116,11 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
       const infected = parseIntegerOption('--infected', options.infected, 0, pens);
       const sensitivity = options.sensitivity === undefined ? 1 : parseProbabilityOption('--sensitivity', options.sensitivity);
       const specificity = options.specificity === undefined ? undefined : parseProbabilityOption('--specificity', options.specificity);
+      if (options.poolSize !== undefined) {
+        printPooled(io, options, { pens, sampled, infected, sensitivity });
+        return;
+      }
+      if (options.poolSensitivity !== undefined || options.poolSpecificity !== undefined) throw new UsageError('--pool-sensitivity and --pool-specificity need --pool-size');
       const probability = detectionFor({ pens, infected, sensitivity })(sampled);
       const falseAlarm = specificity === undefined ? undefined : falseAlarmProbability(sampled, specificity);
       if (options.json) {
@@ -147,10 +192,23 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
   calc
     .command('site')
     .description('site-level detection from barn-level detection probabilities, 1 - prod(1 - p)')
-    .option('--barn <list>', 'comma-separated barn detection probabilities')
+    .option('--barn <list>', 'comma-separated barn detection probabilities (0 for a barn not surveyed)')
+    .option('--infected-barns <D>', 'barns infection is assumed to reach, chosen at random (two-stage design); default every barn')
     .option('--json', 'print JSON')
     .action((options: SiteOptions) => {
       const barns = parseProbabilityList('--barn', options.barn);
+      if (options.infectedBarns !== undefined) {
+        const infectedBarns = parseIntegerOption('--infected-barns', options.infectedBarns, 1, barns.length);
+        const probability = twoStageSiteDetection(barns, infectedBarns);
+        if (options.json) {
+          printJson(io, { barns, infectedBarns, probability });
+          return;
+        }
+        io.stdout(
+          `If ${plural(infectedBarns, 'barn', 'barns')} of ${barns.length} were infected (at random), the site would detect it with probability ${short(probability)} (${percent(probability)}).\n`,
+        );
+        return;
+      }
       const probability = siteDetection(barns);
       if (options.json) {
         printJson(io, { barns, probability });
