@@ -10,7 +10,7 @@
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
-import type { Receipt } from './ingest/ingestFile.js';
+import { emptyReceipt, type Receipt } from './ingest/ingestFile.js';
 
 export const ARCHIVE_DIR = 'archive';
 export const REJECTED_DIR = 'rejected';
@@ -170,22 +170,9 @@ export function inspectInput(file: string): InputEntry {
 /** A receipt for an entry that is not a regular file: refused unread, left where it is. */
 export function notRegularFileReceipt(name: string, what: string, receivedAt: string): Receipt {
   return {
-    file: name,
-    sha256: '',
-    receivedAt,
+    ...emptyReceipt(name, '', receivedAt),
     status: 'rejected',
-    kind: 'unknown',
-    lab: null,
-    encoding: null,
-    rows: { accepted: 0, rejected: 0, duplicate: 0, superseded: 0 },
-    rejectedRows: [],
-    rejectedRowsNotListed: 0,
-    unresolvedSampleIds: [],
-    unresolvedNotListed: 0,
-    resolvedSampleIds: [],
-    warnings: [],
     reason: { code: 'not-a-regular-file', message: `${name}: not a regular file but ${what}; not read, and left where it is (remove it from the inbox)`, line: null, field: null },
-    sites: [],
   };
 }
 

@@ -122,7 +122,8 @@ function readHead(file: string, size: number, linesNeeded: number): { head: Buff
   }
 }
 
-function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt {
+/** A receipt with nothing stored, refused or noted yet (status `accepted` until told otherwise). */
+export function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt {
   return {
     file,
     sha256,
