@@ -18,6 +18,15 @@ export interface ResultInput {
   cycleLimit: number;
   callDiffers: boolean;
   labCall: string | null;
+  /** The lab's cutoffs this result was read with (stored per row); absent in older callers. */
+  positiveBelow?: number;
+  suspectBelow?: number;
+  /** The Ct cell as the lab wrote it. */
+  ctRaw?: string;
+  /** The lab's case number (accession) and the dates on its report. */
+  accession?: string | null;
+  collectedOn?: string | null;
+  reportedOn?: string | null;
 }
 
 export interface PenAssayResult {
@@ -32,6 +41,16 @@ export interface PenAssayResult {
   labId: string;
   labCall: string | null;
   callDiffers: boolean;
+  /** The Ct cell as the lab wrote it (null when not known). */
+  ctRaw: string | null;
+  /** The cutoffs of the lab that reported this result, as stored with it (null when not known). */
+  positiveBelow: number | null;
+  suspectBelow: number | null;
+  cycleLimit: number;
+  /** The lab's case number (accession), collection and report dates, as on the lab's report. */
+  accession: string | null;
+  collectedOn: string | null;
+  reportedOn: string | null;
   /** Other results for this pen and assay in the round (a second rope), worst one shown above. */
   otherSampleIds: string[];
 }
@@ -70,6 +89,50 @@ export interface BarnRound {
   plannedMissing: string[];
   pens: PenRound[];
   byAssay: Record<string, AssayTally>;
+  /** The lab reports behind this barn's results, one per lab and report date. */
+  sources: ResultSource[];
+}
+
+/** One lab report (a lab and its report date) behind some results of a round. */
+export interface ResultSource {
+  labId: string;
+  /** The report date on the lab's rows; null when the export had none. */
+  reportedOn: string | null;
+  /** The lab's case numbers (accessions) on those rows, sorted. */
+  accessions: string[];
+  assays: string[];
+  /** Results of this report in the round (every rope, not only those standing for a pen). */
+  results: number;
+  /** First and last collection dates on the lab's rows (null when none was given). */
+  collectedFrom: string | null;
+  collectedTo: string | null;
+}
+
+/** The cutoffs one lab used for one assay in a round, as stored with its results. */
+export interface RoundCutoff {
+  labId: string;
+  assayId: string;
+  positiveBelow: number;
+  suspectBelow: number;
+  cycleLimit: number;
+  results: number;
+}
+
+/** A result whose lab call names another class than the lab's cutoffs give for its Ct. */
+export interface CallDisagreement {
+  barnId: string;
+  penId: string;
+  sampleId: string;
+  assayId: string;
+  labId: string;
+  accession: string | null;
+  labCall: string;
+  ct: number | null;
+  ctRaw: string | null;
+  resultClass: ResultClass;
+  reason: string;
+  /** This result stands for the pen (the worst of its ropes); false for a second rope. */
+  standsForPen: boolean;
 }
 
 export interface SiteRound {
@@ -80,6 +143,12 @@ export interface SiteRound {
   endOn: string;
   assays: string[];
   barns: BarnRound[];
+  /** Lab reports behind the round, by lab and report date, with the barns they cover. */
+  sources: (ResultSource & { barnIds: string[] })[];
+  /** Distinct cutoffs (lab, assay) the round's results were read with. */
+  cutoffs: RoundCutoff[];
+  /** Every result of the round whose lab call disagrees with its reading, in barn and pen order. */
+  disagreements: CallDisagreement[];
 }
 
 export interface RopeInput extends DatedRope {
@@ -101,6 +170,36 @@ function layoutOrder(barn: Barn, penId: string): number {
   return pen.row * barn.layout.pensPerRow + pen.position;
 }
 
+/** The earlier (or later) of two ISO dates, either of which may be missing. */
+const earliest = (a: string | null, b: string | null | undefined): string | null => (b === null || b === undefined ? a : a === null || b < a ? b : a);
+const latest = (a: string | null, b: string | null | undefined): string | null => (b === null || b === undefined ? a : a === null || b > a ? b : a);
+const compareText = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
+
+const sourceKey = (labId: string, reportedOn: string | null) => `${labId}\u0000${reportedOn ?? ''}`;
+
+/** Adds one result to the sources, keyed by lab and report date. */
+function addSource(sources: Map<string, ResultSource>, result: ResultInput): void {
+  const reportedOn = result.reportedOn ?? null;
+  const key = sourceKey(result.labId, reportedOn);
+  let source = sources.get(key);
+  if (!source) {
+    source = { labId: result.labId, reportedOn, accessions: [], assays: [], results: 0, collectedFrom: null, collectedTo: null };
+    sources.set(key, source);
+  }
+  const accession = result.accession ?? null;
+  if (accession !== null && !source.accessions.includes(accession)) source.accessions.push(accession);
+  if (!source.assays.includes(result.assayId)) source.assays.push(result.assayId);
+  source.results++;
+  source.collectedFrom = earliest(source.collectedFrom, result.collectedOn);
+  source.collectedTo = latest(source.collectedTo, result.collectedOn);
+}
+
+function sortedSources<S extends ResultSource>(sources: Iterable<S>): S[] {
+  return [...sources]
+    .map((source) => ({ ...source, accessions: [...source.accessions].sort(), assays: [...source.assays].sort() }))
+    .sort((a, b) => compareText(a.labId, b.labId) || compareText(a.reportedOn ?? '', b.reportedOn ?? ''));
+}
+
 function emptyTally(): AssayTally {
   return { positive: 0, suspect: 0, negative: 0, invalid: 0, positivePens: [], suspectPens: [], invalidPens: [], testedPens: [] };
 }
@@ -120,9 +219,13 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
   const rounds = formRounds(site.id, ropes.filter((rope) => rope.siteId === site.id), site.program.roundWindowDays);
   return rounds.map((round) => {
     const assays = new Set<string>();
+    const cutoffs = new Map<string, RoundCutoff>();
+    const disagreements: CallDisagreement[] = [];
     const barns: BarnRound[] = site.barns.map((barn) => {
       const barnRopes = round.ropes.filter((rope) => rope.barnId === barn.id);
       const pens = new Map<string, PenRound>();
+      const barnSources = new Map<string, ResultSource>();
+      const barnDisagreements: CallDisagreement[] = [];
       const missing: string[] = [];
       let returned = 0;
       for (const rope of barnRopes) {
@@ -143,6 +246,29 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         penRound.returned = true;
         for (const result of ropeResults) {
           assays.add(result.assayId);
+          addSource(barnSources, result);
+          if (result.positiveBelow !== undefined && result.suspectBelow !== undefined) {
+            const key = `${result.labId}\u0000${result.assayId}\u0000${result.positiveBelow}\u0000${result.suspectBelow}\u0000${result.cycleLimit}`;
+            const cutoff = cutoffs.get(key);
+            if (cutoff) cutoff.results++;
+            else cutoffs.set(key, { labId: result.labId, assayId: result.assayId, positiveBelow: result.positiveBelow, suspectBelow: result.suspectBelow, cycleLimit: result.cycleLimit, results: 1 });
+          }
+          if (result.callDiffers && result.labCall !== null) {
+            barnDisagreements.push({
+              barnId: barn.id,
+              penId: pen.id,
+              sampleId: result.sampleId,
+              assayId: result.assayId,
+              labId: result.labId,
+              accession: result.accession ?? null,
+              labCall: result.labCall,
+              ct: result.ct,
+              ctRaw: result.ctRaw ?? null,
+              resultClass: result.resultClass,
+              reason: result.reason,
+              standsForPen: false,
+            });
+          }
           const candidate: PenAssayResult = {
             assayId: result.assayId,
             resultClass: result.resultClass,
@@ -154,6 +280,13 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
             labId: result.labId,
             labCall: result.labCall,
             callDiffers: result.callDiffers,
+            ctRaw: result.ctRaw ?? null,
+            positiveBelow: result.positiveBelow ?? null,
+            suspectBelow: result.suspectBelow ?? null,
+            cycleLimit: result.cycleLimit,
+            accession: result.accession ?? null,
+            collectedOn: result.collectedOn ?? null,
+            reportedOn: result.reportedOn ?? null,
             otherSampleIds: [],
           };
           const existing = penRound.results[result.assayId];
@@ -187,6 +320,12 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           else tally.testedPens.push(pen.penId);
         }
       }
+      // Pen order of the barn's layout, then sample and assay: every disagreeing result is listed.
+      barnDisagreements.sort(
+        (a, b) => layoutOrder(barn, a.penId) - layoutOrder(barn, b.penId) || compareText(a.sampleId, b.sampleId) || compareText(a.assayId, b.assayId),
+      );
+      for (const entry of barnDisagreements) entry.standsForPen = pens.get(entry.penId)?.results[entry.assayId]?.sampleId === entry.sampleId;
+      disagreements.push(...barnDisagreements);
       return {
         barnId: barn.id,
         pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
@@ -196,11 +335,40 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         plannedMissing: plannedMissing.sort(),
         pens: penList,
         byAssay,
+        sources: sortedSources(barnSources.values()),
       };
     });
     const assayList = [...assays].sort();
     for (const barn of barns) for (const assay of assayList) barn.byAssay[assay] ??= emptyTally();
-    return { siteId: site.id, number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, assays: assayList, barns };
+    const sources = new Map<string, ResultSource & { barnIds: string[] }>();
+    for (const barn of barns) {
+      for (const source of barn.sources) {
+        const key = sourceKey(source.labId, source.reportedOn);
+        const merged = sources.get(key);
+        if (!merged) {
+          sources.set(key, { ...source, accessions: [...source.accessions], assays: [...source.assays], barnIds: [barn.barnId] });
+          continue;
+        }
+        merged.barnIds.push(barn.barnId);
+        for (const accession of source.accessions) if (!merged.accessions.includes(accession)) merged.accessions.push(accession);
+        for (const assay of source.assays) if (!merged.assays.includes(assay)) merged.assays.push(assay);
+        merged.results += source.results;
+        merged.collectedFrom = earliest(merged.collectedFrom, source.collectedFrom);
+        merged.collectedTo = latest(merged.collectedTo, source.collectedTo);
+      }
+    }
+    return {
+      siteId: site.id,
+      number: round.number,
+      id: round.id,
+      startOn: round.startOn,
+      endOn: round.endOn,
+      assays: assayList,
+      barns,
+      sources: sortedSources(sources.values()),
+      cutoffs: [...cutoffs.values()].sort((a, b) => compareText(a.labId, b.labId) || compareText(a.assayId, b.assayId) || a.positiveBelow - b.positiveBelow || a.cycleLimit - b.cycleLimit),
+      disagreements,
+    };
   });
 }
 
@@ -210,6 +378,10 @@ export interface CtHistoryPoint {
   startOn: string;
   resultClass: ResultClass;
   ct: number | null;
+  /** The lab that reported it, and that lab's positive cutoff and cycle limit for the assay. */
+  labId: string;
+  positiveBelow: number | null;
+  cycleLimit: number;
 }
 
 /** Per pen and assay, the Ct across rounds (only rounds where the pen had a result). */
@@ -218,7 +390,18 @@ export function ctHistory(rounds: readonly SiteRound[], barnId: string, penId: s
   for (const round of rounds) {
     const pen = round.barns.find((barn) => barn.barnId === barnId)?.pens.find((candidate) => candidate.penId === penId);
     const result = pen?.results[assayId];
-    if (result) points.push({ round: round.number, roundId: round.id, startOn: round.startOn, resultClass: result.resultClass, ct: result.ct });
+    if (result) {
+      points.push({
+        round: round.number,
+        roundId: round.id,
+        startOn: round.startOn,
+        resultClass: result.resultClass,
+        ct: result.ct,
+        labId: result.labId,
+        positiveBelow: result.positiveBelow,
+        cycleLimit: result.cycleLimit,
+      });
+    }
   }
   return points;
 }
