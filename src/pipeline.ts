@@ -10,6 +10,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { FileStillChangingError, ingestFile, type Receipt } from './ingest/ingestFile.js';
 import { OutputError, regenerateOutputs } from './outputs.js';
+import { disagreementLines, type ReceiptDisagreements } from './report/callDisagreements.js';
 import { writeFileAtomic, writeJson } from './report/files.js';
 import type { Workspace } from './workspace.js';
 
@@ -35,7 +36,7 @@ function moveFile(from: string, to: string): void {
   }
 }
 
-export function receiptText(receipt: Receipt): string {
+export function receiptText(receipt: Receipt & ReceiptDisagreements): string {
   const lines = [
     `ropewatch receipt for ${receipt.file}`,
     `status: ${receipt.status}${receipt.kind !== 'unknown' ? ` (${receipt.kind}${receipt.lab ? `, lab ${receipt.lab}` : ''})` : ''}`,
@@ -60,6 +61,7 @@ export function receiptText(receipt: Receipt): string {
     );
   }
   if (receipt.resolvedSampleIds.length > 0) lines.push('', `earlier results now placed in their pens: ${receipt.resolvedSampleIds.join(', ')}`);
+  lines.push(...disagreementLines(receipt));
   for (const warning of receipt.warnings) lines.push(`note: ${warning}`);
   return lines.join('\n') + '\n';
 }
