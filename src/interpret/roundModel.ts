@@ -177,26 +177,56 @@ const compareText = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
 
 const sourceKey = (labId: string, reportedOn: string | null) => `${labId}\u0000${reportedOn ?? ''}`;
 
-/** Adds one result to the sources, keyed by lab and report date. */
-function addSource(sources: Map<string, ResultSource>, result: ResultInput): void {
-  const reportedOn = result.reportedOn ?? null;
-  const key = sourceKey(result.labId, reportedOn);
-  let source = sources.get(key);
-  if (!source) {
-    source = { labId: result.labId, reportedOn, accessions: [], assays: [], results: 0, collectedFrom: null, collectedTo: null };
-    sources.set(key, source);
-  }
-  const accession = result.accession ?? null;
-  if (accession !== null && !source.accessions.includes(accession)) source.accessions.push(accession);
-  if (!source.assays.includes(result.assayId)) source.assays.push(result.assayId);
-  source.results++;
-  source.collectedFrom = earliest(source.collectedFrom, result.collectedOn);
-  source.collectedTo = latest(source.collectedTo, result.collectedOn);
+/** A source being gathered: sets, so that a report with many case numbers stays linear. */
+interface SourceDraft {
+  labId: string;
+  reportedOn: string | null;
+  accessions: Set<string>;
+  assays: Set<string>;
+  results: number;
+  collectedFrom: string | null;
+  collectedTo: string | null;
+  barnIds: string[];
 }
 
-function sortedSources<S extends ResultSource>(sources: Iterable<S>): S[] {
-  return [...sources]
-    .map((source) => ({ ...source, accessions: [...source.accessions].sort(), assays: [...source.assays].sort() }))
+/** Adds one result (or a barn's gathered source) to the sources, keyed by lab and report date. */
+function addSource(
+  sources: Map<string, SourceDraft>,
+  entry: { labId: string; reportedOn: string | null; accessions: Iterable<string>; assays: Iterable<string>; results: number; collectedFrom: string | null; collectedTo: string | null },
+  barnId?: string,
+): void {
+  const key = sourceKey(entry.labId, entry.reportedOn);
+  let source = sources.get(key);
+  if (!source) {
+    source = { labId: entry.labId, reportedOn: entry.reportedOn, accessions: new Set(), assays: new Set(), results: 0, collectedFrom: null, collectedTo: null, barnIds: [] };
+    sources.set(key, source);
+  }
+  for (const accession of entry.accessions) source.accessions.add(accession);
+  for (const assay of entry.assays) source.assays.add(assay);
+  source.results += entry.results;
+  source.collectedFrom = earliest(source.collectedFrom, entry.collectedFrom);
+  source.collectedTo = latest(source.collectedTo, entry.collectedTo);
+  if (barnId !== undefined && !source.barnIds.includes(barnId)) source.barnIds.push(barnId);
+}
+
+/** One result as a source entry. */
+function resultEntry(result: ResultInput) {
+  const collectedOn = result.collectedOn ?? null;
+  return {
+    labId: result.labId,
+    reportedOn: result.reportedOn ?? null,
+    accessions: result.accession === null || result.accession === undefined ? [] : [result.accession],
+    assays: [result.assayId],
+    results: 1,
+    collectedFrom: collectedOn,
+    collectedTo: collectedOn,
+  };
+}
+
+/** The gathered sources in lab and report-date order, case numbers and assays sorted. */
+function sortedSources(sources: Map<string, SourceDraft>): (ResultSource & { barnIds: string[] })[] {
+  return [...sources.values()]
+    .map((source) => ({ ...source, accessions: [...source.accessions].sort(compareText), assays: [...source.assays].sort(compareText) }))
     .sort((a, b) => compareText(a.labId, b.labId) || compareText(a.reportedOn ?? '', b.reportedOn ?? ''));
 }
 
@@ -224,7 +254,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
     const barns: BarnRound[] = site.barns.map((barn) => {
       const barnRopes = round.ropes.filter((rope) => rope.barnId === barn.id);
       const pens = new Map<string, PenRound>();
-      const barnSources = new Map<string, ResultSource>();
+      const barnSources = new Map<string, SourceDraft>();
       const barnDisagreements: CallDisagreement[] = [];
       const missing: string[] = [];
       let returned = 0;
@@ -246,7 +276,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         penRound.returned = true;
         for (const result of ropeResults) {
           assays.add(result.assayId);
-          addSource(barnSources, result);
+          addSource(barnSources, resultEntry(result));
           if (result.positiveBelow !== undefined && result.suspectBelow !== undefined) {
             const key = `${result.labId}\u0000${result.assayId}\u0000${result.positiveBelow}\u0000${result.suspectBelow}\u0000${result.cycleLimit}`;
             const cutoff = cutoffs.get(key);
@@ -335,28 +365,14 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         plannedMissing: plannedMissing.sort(),
         pens: penList,
         byAssay,
-        sources: sortedSources(barnSources.values()),
+        // A barn's sources cover that barn only.
+        sources: sortedSources(barnSources).map(({ barnIds: _barns, ...source }) => source),
       };
     });
     const assayList = [...assays].sort();
     for (const barn of barns) for (const assay of assayList) barn.byAssay[assay] ??= emptyTally();
-    const sources = new Map<string, ResultSource & { barnIds: string[] }>();
-    for (const barn of barns) {
-      for (const source of barn.sources) {
-        const key = sourceKey(source.labId, source.reportedOn);
-        const merged = sources.get(key);
-        if (!merged) {
-          sources.set(key, { ...source, accessions: [...source.accessions], assays: [...source.assays], barnIds: [barn.barnId] });
-          continue;
-        }
-        merged.barnIds.push(barn.barnId);
-        for (const accession of source.accessions) if (!merged.accessions.includes(accession)) merged.accessions.push(accession);
-        for (const assay of source.assays) if (!merged.assays.includes(assay)) merged.assays.push(assay);
-        merged.results += source.results;
-        merged.collectedFrom = earliest(merged.collectedFrom, source.collectedFrom);
-        merged.collectedTo = latest(merged.collectedTo, source.collectedTo);
-      }
-    }
+    const sources = new Map<string, SourceDraft>();
+    for (const barn of barns) for (const source of barn.sources) addSource(sources, source, barn.barnId);
     return {
       siteId: site.id,
       number: round.number,
@@ -365,7 +381,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
       endOn: round.endOn,
       assays: assayList,
       barns,
-      sources: sortedSources(sources.values()),
+      sources: sortedSources(sources),
       cutoffs: [...cutoffs.values()].sort((a, b) => compareText(a.labId, b.labId) || compareText(a.assayId, b.assayId) || a.positiveBelow - b.positiveBelow || a.cycleLimit - b.cycleLimit),
       disagreements,
     };

@@ -55,7 +55,7 @@ describe('a lab with its own cutoffs, through the pipeline', () => {
     expect(summary).toContain('<tr data-disagreement="E2">');
     expect(summary).toContain('data-alert="call-differs"');
 
-    // Ct 31.0 at the lab's 45-cycle limit: load 14, ramp step 3, labelled Ct 30-35 (FIELD.md load score).
+    // Ct 31.0 at the lab's 45-cycle limit: load 14, ramp step 3, labelled Ct 30-35 (load score L = C_max - Ct: common practice, no source).
     const clusters = fs.readFileSync(path.join(round, 'clusters.html'), 'utf8');
     const a1 = clusters.slice(clusters.indexOf('data-pen="A1"'));
     expect(a1.slice(0, a1.indexOf('</g>'))).toContain(`fill="${LOAD_RAMP[3]!.fill}"`);

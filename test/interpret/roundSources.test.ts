@@ -16,7 +16,7 @@ describe('the round model keeps how each result was read', () => {
     // By hand: A1 in round 2 is ostermark's Ct 31.0, read with that lab's 37 / 40 / 45.
     const a1 = second!.barns[0]!.pens.find((pen) => pen.penId === 'A1')!.results['PRRSV']!;
     expect(a1).toMatchObject({ labId: 'ostermark', positiveBelow: 37, suspectBelow: 40, cycleLimit: 45, accession: 'OA-0817', collectedOn: '2026-08-17', reportedOn: '2026-08-20' });
-    // FIELD.md load score with the lab's own cycle limit: L = 45 - 31 = 14.
+    // Load score L = C_max - Ct with the lab's own cycle limit (common practice, no source): L = 45 - 31 = 14.
     expect(a1.load).toBe(14);
     const a3r1 = first!.barns[0]!.pens.find((pen) => pen.penId === 'A3')!.results['PRRSV']!;
     expect(a3r1).toMatchObject({ labId: 'northfield', positiveBelow: 36, cycleLimit: 40 });

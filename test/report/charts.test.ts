@@ -1,8 +1,7 @@
 /**
  * The Ct trend chart: each point with the mark of what it is (a Ct, not detected, invalid), the
- * positive cutoffs of the labs as dashed lines, and the legend. Invalid (a failed control) is
- * neither negative nor a Ct (FIELD.md: "An internal or extraction control that failed makes the
- * result invalid (retest), never negative"; common practice, no source).
+ * positive cutoffs of the labs as dashed lines, and the legend. Invalid (a failed internal or
+ * extraction control) is a retest, neither negative nor a Ct (common practice, no source).
  */
 import { describe, expect, it } from 'vitest';
 import { ctAxis, pointKind, renderCtTrend, trendLegend, type TrendPoint } from '../../src/report/html/charts.js';

@@ -49,7 +49,7 @@ describe('summary.csv', () => {
 
   it('writes an invalid result as invalid in the history, whatever Ct came with it', () => {
     // A1 round 1: control failed, no Ct; A2 round 2: control failed beside a Ct of 30. An invalid
-    // result is a retest, never a negative (FIELD.md, common practice, no source).
+    // result is a retest, never a negative (common practice, no source).
     expect(penRow('A1').ct_history).toBe('r1:invalid r2:31');
     expect(penRow('A2').ct_history).toBe('r1:ND r2:invalid');
     expect(penRow('A3').ct_history).toBe('r1:28 r2:36.5');
@@ -156,7 +156,7 @@ describe('the cluster review draws each result with its own lab cutoffs', () => 
   const section = f1.slice(0, f1.indexOf('</section>'));
 
   it('labels the shade of Ct 31.0 from a 45-cycle lab as Ct 30-35, not 25-30', () => {
-    // FIELD.md load score L = C_max - Ct with the lab's C_max = 45: L = 14, step ceil(14 / 5) = 3,
+    // Load score L = C_max - Ct (common practice, no source) with the lab's C_max = 45: L = 14, step ceil(14 / 5) = 3,
     // which covers Ct [45 - 15, 45 - 10) = [30, 35). With the assay default of 40 the same step reads 25-30.
     const step = loadStep(45 - 31);
     expect(step).toBe(3);
