@@ -4,7 +4,16 @@
  * in src/report turn it into summary.json and summary.csv without computing anything.
  */
 import type { Config, Site } from '../config/types.js';
-import { ctHistory, type AssayTally, type CtHistoryPoint, type PenAssayResult, type SiteRound } from '../interpret/roundModel.js';
+import {
+  ctHistory,
+  type AssayTally,
+  type CallDisagreement,
+  type CtHistoryPoint,
+  type PenAssayResult,
+  type ResultSource,
+  type RoundCutoff,
+  type SiteRound,
+} from '../interpret/roundModel.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
 import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
 
@@ -17,7 +26,32 @@ export interface PenSummary {
   sampleIds: string[];
   returned: boolean;
   /** Per assay: the result standing for the pen this round, and its Ct across rounds so far. */
-  results: Record<string, Omit<PenAssayResult, 'assayId' | 'otherSampleIds'> & { history: CtHistoryPoint[] }>;
+  results: Record<string, PenResultSummary>;
+}
+
+export type PenResultSummary = Omit<PenAssayResult, 'assayId' | 'otherSampleIds'> & {
+  /** The name of the lab that reported it (its id when the lab is no longer configured). */
+  labName: string;
+  /** Positive with a Ct below the assay's `sequencingBelow`. */
+  sequencingCandidate: boolean;
+  history: (CtHistoryPoint & { labName: string })[];
+};
+
+/** A lab report behind the round, with the lab's name. */
+export type SourceSummary = ResultSource & { labName: string; barnIds: string[] };
+
+/** Cutoffs a lab used for an assay this round, beside the assay's defaults in assays.yaml. */
+export type CutoffSummary = RoundCutoff & {
+  labName: string;
+  defaults: { positiveBelow: number; suspectBelow: number; cycleLimit: number } | null;
+};
+
+/** A sequencing candidate: a positive pen whose Ct is below the assay's sequencing threshold. */
+export interface SequencingCandidates {
+  assayId: string;
+  sequencingBelow: number;
+  reading: string;
+  pens: { barnId: string; penId: string; sampleId: string; ct: number; labId: string; labName: string }[];
 }
 
 /** The round model's tally of one assay in a barn, with the tested count and what it proved. */
@@ -36,6 +70,8 @@ export interface BarnSummary {
   missingSampleIds: string[];
   sampledPens: string[];
   assays: BarnAssaySummary[];
+  /** The lab reports behind this barn's results. */
+  sources: (ResultSource & { labName: string })[];
 }
 
 export interface RoundSummary {
@@ -53,6 +89,14 @@ export interface RoundSummary {
   assays: { id: string; name: string; notifiable: boolean; site: SiteConfidence }[];
   barns: BarnSummary[];
   pens: PenSummary[];
+  /** Where the results came from: lab, case number, collection and report dates. */
+  sources: SourceSummary[];
+  /** The cutoffs each lab's results were read with. */
+  cutoffs: CutoffSummary[];
+  /** Every result whose lab call differs from its reading with the lab's cutoffs. */
+  disagreements: (CallDisagreement & { labName: string })[];
+  /** Per assay with a sequencing threshold configured. */
+  sequencing: SequencingCandidates[];
   notices: string[];
   cautions: readonly string[];
 }
@@ -62,8 +106,22 @@ export function describeDesignPrevalence(site: Site): string {
   return design.kind === 'pens' ? `${design.value} pen${design.value === 1 ? '' : 's'}` : `${Math.round(design.value * 1000) / 10}% of pens`;
 }
 
+/**
+ * The plain reading of a sequencing candidate. Labs commonly attempt sequencing only below a Ct
+ * threshold: common practice, no published source; the lab's own threshold governs.
+ */
+export function sequencingReading(below: number): string {
+  return `Ct below ${below}: enough viral RNA that sequencing is likely to succeed (common practice, no published source).`;
+}
+
+/** Positive, with a Ct below the assay's sequencing threshold (when one is configured). */
+export function isSequencingCandidate(result: { resultClass: string; ct: number | null }, sequencingBelow: number | undefined): boolean {
+  return sequencingBelow !== undefined && result.resultClass === 'positive' && result.ct !== null && result.ct < sequencingBelow;
+}
+
 /** Builds the summaries of every round of a site. */
 export function summariseSite(config: Config, site: Site, rounds: readonly SiteRound[], confidence: readonly RoundConfidence[]): RoundSummary[] {
+  const labName = (labId: string) => config.labById.get(labId)?.name ?? labId;
   return rounds.map((round, index) => {
     const roundConfidence = confidence[index]!;
     const assayIds = round.assays;
@@ -97,6 +155,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
             confidence: roundConfidence.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)!,
           };
         }),
+        sources: barnRound.sources.map((source) => ({ ...source, labName: labName(source.labId) })),
       };
     });
     const pens: PenSummary[] = round.barns.flatMap((barnRound) =>
@@ -109,14 +168,27 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         results: Object.fromEntries(
           Object.entries(pen.results).map(([assayId, result]) => [
             assayId,
-            (({ assayId: _assay, otherSampleIds: _others, ...kept }) => ({
+            (({ assayId: _assay, otherSampleIds: _others, ...kept }): PenResultSummary => ({
               ...kept,
-              history: ctHistory(rounds.slice(0, index + 1), barnRound.barnId, pen.penId, assayId),
+              labName: labName(result.labId),
+              sequencingCandidate: isSequencingCandidate(result, config.assayById.get(assayId)?.sequencingBelow),
+              history: ctHistory(rounds.slice(0, index + 1), barnRound.barnId, pen.penId, assayId).map((point) => ({ ...point, labName: labName(point.labId) })),
             }))(result),
           ]),
         ),
       })),
     );
+    const sequencing = assayIds.flatMap((assayId): SequencingCandidates[] => {
+      const below = config.assayById.get(assayId)?.sequencingBelow;
+      if (below === undefined) return [];
+      const candidates = pens.flatMap((pen) => {
+        const result = pen.results[assayId];
+        return result?.sequencingCandidate
+          ? [{ barnId: pen.barnId, penId: pen.penId, sampleId: result.sampleId, ct: result.ct!, labId: result.labId, labName: result.labName }]
+          : [];
+      });
+      return [{ assayId, sequencingBelow: below, reading: sequencingReading(below), pens: candidates }];
+    });
     return {
       schema: SUMMARY_SCHEMA,
       site: { id: site.id, name: site.name },
@@ -135,6 +207,17 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       }),
       barns,
       pens,
+      sources: round.sources.map((source) => ({ ...source, labName: labName(source.labId) })),
+      cutoffs: round.cutoffs.map((cutoff) => {
+        const assay = config.assayById.get(cutoff.assayId);
+        return {
+          ...cutoff,
+          labName: labName(cutoff.labId),
+          defaults: assay ? { positiveBelow: assay.positiveBelow, suspectBelow: assay.suspectBelow, cycleLimit: assay.cycleLimit } : null,
+        };
+      }),
+      disagreements: round.disagreements.map((entry) => ({ ...entry, labName: labName(entry.labId) })),
+      sequencing,
       notices,
       cautions: CAUTIONS,
     };

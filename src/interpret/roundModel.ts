@@ -18,6 +18,15 @@ export interface ResultInput {
   cycleLimit: number;
   callDiffers: boolean;
   labCall: string | null;
+  /** The lab's cutoffs this result was read with (stored per row); absent in older callers. */
+  positiveBelow?: number;
+  suspectBelow?: number;
+  /** The Ct cell as the lab wrote it. */
+  ctRaw?: string;
+  /** The lab's case number (accession) and the dates on its report. */
+  accession?: string | null;
+  collectedOn?: string | null;
+  reportedOn?: string | null;
 }
 
 export interface PenAssayResult {
@@ -32,6 +41,16 @@ export interface PenAssayResult {
   labId: string;
   labCall: string | null;
   callDiffers: boolean;
+  /** The Ct cell as the lab wrote it (null when not known). */
+  ctRaw: string | null;
+  /** The cutoffs of the lab that reported this result, as stored with it (null when not known). */
+  positiveBelow: number | null;
+  suspectBelow: number | null;
+  cycleLimit: number;
+  /** The lab's case number (accession), collection and report dates, as on the lab's report. */
+  accession: string | null;
+  collectedOn: string | null;
+  reportedOn: string | null;
   /** Other results for this pen and assay in the round (a second rope), worst one shown above. */
   otherSampleIds: string[];
 }
@@ -70,6 +89,50 @@ export interface BarnRound {
   plannedMissing: string[];
   pens: PenRound[];
   byAssay: Record<string, AssayTally>;
+  /** The lab reports behind this barn's results, one per lab and report date. */
+  sources: ResultSource[];
+}
+
+/** One lab report (a lab and its report date) behind some results of a round. */
+export interface ResultSource {
+  labId: string;
+  /** The report date on the lab's rows; null when the export had none. */
+  reportedOn: string | null;
+  /** The lab's case numbers (accessions) on those rows, sorted. */
+  accessions: string[];
+  assays: string[];
+  /** Results of this report in the round (every rope, not only those standing for a pen). */
+  results: number;
+  /** First and last collection dates on the lab's rows (null when none was given). */
+  collectedFrom: string | null;
+  collectedTo: string | null;
+}
+
+/** The cutoffs one lab used for one assay in a round, as stored with its results. */
+export interface RoundCutoff {
+  labId: string;
+  assayId: string;
+  positiveBelow: number;
+  suspectBelow: number;
+  cycleLimit: number;
+  results: number;
+}
+
+/** A result whose lab call names another class than the lab's cutoffs give for its Ct. */
+export interface CallDisagreement {
+  barnId: string;
+  penId: string;
+  sampleId: string;
+  assayId: string;
+  labId: string;
+  accession: string | null;
+  labCall: string;
+  ct: number | null;
+  ctRaw: string | null;
+  resultClass: ResultClass;
+  reason: string;
+  /** This result stands for the pen (the worst of its ropes); false for a second rope. */
+  standsForPen: boolean;
 }
 
 export interface SiteRound {
@@ -80,6 +143,12 @@ export interface SiteRound {
   endOn: string;
   assays: string[];
   barns: BarnRound[];
+  /** Lab reports behind the round, by lab and report date, with the barns they cover. */
+  sources: (ResultSource & { barnIds: string[] })[];
+  /** Distinct cutoffs (lab, assay) the round's results were read with. */
+  cutoffs: RoundCutoff[];
+  /** Every result of the round whose lab call disagrees with its reading, in barn and pen order. */
+  disagreements: CallDisagreement[];
 }
 
 export interface RopeInput extends DatedRope {
@@ -101,6 +170,66 @@ function layoutOrder(barn: Barn, penId: string): number {
   return pen.row * barn.layout.pensPerRow + pen.position;
 }
 
+/** The earlier (or later) of two ISO dates, either of which may be missing. */
+const earliest = (a: string | null, b: string | null | undefined): string | null => (b === null || b === undefined ? a : a === null || b < a ? b : a);
+const latest = (a: string | null, b: string | null | undefined): string | null => (b === null || b === undefined ? a : a === null || b > a ? b : a);
+const compareText = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
+
+const sourceKey = (labId: string, reportedOn: string | null) => `${labId}\u0000${reportedOn ?? ''}`;
+
+/** A source being gathered: sets, so that a report with many case numbers stays linear. */
+interface SourceDraft {
+  labId: string;
+  reportedOn: string | null;
+  accessions: Set<string>;
+  assays: Set<string>;
+  results: number;
+  collectedFrom: string | null;
+  collectedTo: string | null;
+  barnIds: string[];
+}
+
+/** Adds one result (or a barn's gathered source) to the sources, keyed by lab and report date. */
+function addSource(
+  sources: Map<string, SourceDraft>,
+  entry: { labId: string; reportedOn: string | null; accessions: Iterable<string>; assays: Iterable<string>; results: number; collectedFrom: string | null; collectedTo: string | null },
+  barnId?: string,
+): void {
+  const key = sourceKey(entry.labId, entry.reportedOn);
+  let source = sources.get(key);
+  if (!source) {
+    source = { labId: entry.labId, reportedOn: entry.reportedOn, accessions: new Set(), assays: new Set(), results: 0, collectedFrom: null, collectedTo: null, barnIds: [] };
+    sources.set(key, source);
+  }
+  for (const accession of entry.accessions) source.accessions.add(accession);
+  for (const assay of entry.assays) source.assays.add(assay);
+  source.results += entry.results;
+  source.collectedFrom = earliest(source.collectedFrom, entry.collectedFrom);
+  source.collectedTo = latest(source.collectedTo, entry.collectedTo);
+  if (barnId !== undefined && !source.barnIds.includes(barnId)) source.barnIds.push(barnId);
+}
+
+/** One result as a source entry. */
+function resultEntry(result: ResultInput) {
+  const collectedOn = result.collectedOn ?? null;
+  return {
+    labId: result.labId,
+    reportedOn: result.reportedOn ?? null,
+    accessions: result.accession === null || result.accession === undefined ? [] : [result.accession],
+    assays: [result.assayId],
+    results: 1,
+    collectedFrom: collectedOn,
+    collectedTo: collectedOn,
+  };
+}
+
+/** The gathered sources in lab and report-date order, case numbers and assays sorted. */
+function sortedSources(sources: Map<string, SourceDraft>): (ResultSource & { barnIds: string[] })[] {
+  return [...sources.values()]
+    .map((source) => ({ ...source, accessions: [...source.accessions].sort(compareText), assays: [...source.assays].sort(compareText) }))
+    .sort((a, b) => compareText(a.labId, b.labId) || compareText(a.reportedOn ?? '', b.reportedOn ?? ''));
+}
+
 function emptyTally(): AssayTally {
   return { positive: 0, suspect: 0, negative: 0, invalid: 0, positivePens: [], suspectPens: [], invalidPens: [], testedPens: [] };
 }
@@ -120,9 +249,13 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
   const rounds = formRounds(site.id, ropes.filter((rope) => rope.siteId === site.id), site.program.roundWindowDays);
   return rounds.map((round) => {
     const assays = new Set<string>();
+    const cutoffs = new Map<string, RoundCutoff>();
+    const disagreements: CallDisagreement[] = [];
     const barns: BarnRound[] = site.barns.map((barn) => {
       const barnRopes = round.ropes.filter((rope) => rope.barnId === barn.id);
       const pens = new Map<string, PenRound>();
+      const barnSources = new Map<string, SourceDraft>();
+      const barnDisagreements: CallDisagreement[] = [];
       const missing: string[] = [];
       let returned = 0;
       for (const rope of barnRopes) {
@@ -143,6 +276,29 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         penRound.returned = true;
         for (const result of ropeResults) {
           assays.add(result.assayId);
+          addSource(barnSources, resultEntry(result));
+          if (result.positiveBelow !== undefined && result.suspectBelow !== undefined) {
+            const key = `${result.labId}\u0000${result.assayId}\u0000${result.positiveBelow}\u0000${result.suspectBelow}\u0000${result.cycleLimit}`;
+            const cutoff = cutoffs.get(key);
+            if (cutoff) cutoff.results++;
+            else cutoffs.set(key, { labId: result.labId, assayId: result.assayId, positiveBelow: result.positiveBelow, suspectBelow: result.suspectBelow, cycleLimit: result.cycleLimit, results: 1 });
+          }
+          if (result.callDiffers && result.labCall !== null) {
+            barnDisagreements.push({
+              barnId: barn.id,
+              penId: pen.id,
+              sampleId: result.sampleId,
+              assayId: result.assayId,
+              labId: result.labId,
+              accession: result.accession ?? null,
+              labCall: result.labCall,
+              ct: result.ct,
+              ctRaw: result.ctRaw ?? null,
+              resultClass: result.resultClass,
+              reason: result.reason,
+              standsForPen: false,
+            });
+          }
           const candidate: PenAssayResult = {
             assayId: result.assayId,
             resultClass: result.resultClass,
@@ -154,6 +310,13 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
             labId: result.labId,
             labCall: result.labCall,
             callDiffers: result.callDiffers,
+            ctRaw: result.ctRaw ?? null,
+            positiveBelow: result.positiveBelow ?? null,
+            suspectBelow: result.suspectBelow ?? null,
+            cycleLimit: result.cycleLimit,
+            accession: result.accession ?? null,
+            collectedOn: result.collectedOn ?? null,
+            reportedOn: result.reportedOn ?? null,
             otherSampleIds: [],
           };
           const existing = penRound.results[result.assayId];
@@ -187,6 +350,12 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           else tally.testedPens.push(pen.penId);
         }
       }
+      // Pen order of the barn's layout, then sample and assay: every disagreeing result is listed.
+      barnDisagreements.sort(
+        (a, b) => layoutOrder(barn, a.penId) - layoutOrder(barn, b.penId) || compareText(a.sampleId, b.sampleId) || compareText(a.assayId, b.assayId),
+      );
+      for (const entry of barnDisagreements) entry.standsForPen = pens.get(entry.penId)?.results[entry.assayId]?.sampleId === entry.sampleId;
+      disagreements.push(...barnDisagreements);
       return {
         barnId: barn.id,
         pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
@@ -196,11 +365,26 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         plannedMissing: plannedMissing.sort(),
         pens: penList,
         byAssay,
+        // A barn's sources cover that barn only.
+        sources: sortedSources(barnSources).map(({ barnIds: _barns, ...source }) => source),
       };
     });
     const assayList = [...assays].sort();
     for (const barn of barns) for (const assay of assayList) barn.byAssay[assay] ??= emptyTally();
-    return { siteId: site.id, number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, assays: assayList, barns };
+    const sources = new Map<string, SourceDraft>();
+    for (const barn of barns) for (const source of barn.sources) addSource(sources, source, barn.barnId);
+    return {
+      siteId: site.id,
+      number: round.number,
+      id: round.id,
+      startOn: round.startOn,
+      endOn: round.endOn,
+      assays: assayList,
+      barns,
+      sources: sortedSources(sources),
+      cutoffs: [...cutoffs.values()].sort((a, b) => compareText(a.labId, b.labId) || compareText(a.assayId, b.assayId) || a.positiveBelow - b.positiveBelow || a.cycleLimit - b.cycleLimit),
+      disagreements,
+    };
   });
 }
 
@@ -210,6 +394,10 @@ export interface CtHistoryPoint {
   startOn: string;
   resultClass: ResultClass;
   ct: number | null;
+  /** The lab that reported it, and that lab's positive cutoff and cycle limit for the assay. */
+  labId: string;
+  positiveBelow: number | null;
+  cycleLimit: number;
 }
 
 /** Per pen and assay, the Ct across rounds (only rounds where the pen had a result). */
@@ -218,7 +406,18 @@ export function ctHistory(rounds: readonly SiteRound[], barnId: string, penId: s
   for (const round of rounds) {
     const pen = round.barns.find((barn) => barn.barnId === barnId)?.pens.find((candidate) => candidate.penId === penId);
     const result = pen?.results[assayId];
-    if (result) points.push({ round: round.number, roundId: round.id, startOn: round.startOn, resultClass: result.resultClass, ct: result.ct });
+    if (result) {
+      points.push({
+        round: round.number,
+        roundId: round.id,
+        startOn: round.startOn,
+        resultClass: result.resultClass,
+        ct: result.ct,
+        labId: result.labId,
+        positiveBelow: result.positiveBelow,
+        cycleLimit: result.cycleLimit,
+      });
+    }
   }
   return points;
 }

@@ -3,7 +3,8 @@
  * level. Column names are stable and documented in the README; new columns go at the end.
  */
 import { csvTable, type CsvRow } from './csvTable.js';
-import type { RoundSummary } from '../analysis/roundSummary.js';
+import type { RoundSummary, SourceSummary } from '../analysis/roundSummary.js';
+import type { CtHistoryPoint } from '../interpret/roundModel.js';
 
 export const SUMMARY_COLUMNS = [
   'level',
@@ -43,6 +44,16 @@ export const SUMMARY_COLUMNS = [
   'load_band',
   'reason',
   'ct_history',
+  'lab_call',
+  'call_differs',
+  'lab',
+  'accession',
+  'collected_on',
+  'reported_on',
+  'positive_below',
+  'suspect_below',
+  'cycle_limit',
+  'sequencing_candidate',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -51,6 +62,35 @@ type Row = CsvRow<Column>;
 /** Probabilities to six decimals: enough to compare, short enough to read. */
 export function formatProbability(value: number): string {
   return value.toFixed(6);
+}
+
+/**
+ * Dates as one cell: the date when first and last agree, else an ISO 8601 time interval
+ * "first/last" (ISO 8601-1:2019, time intervals); empty when none is known.
+ */
+export function dateSpan(first: string | null, last: string | null): string | null {
+  if (first === null || last === null) return first ?? last;
+  return first === last ? first : `${first}/${last}`;
+}
+
+/** One point of a pen's history: its Ct, `ND` for not detected, `invalid` for a result that says nothing. */
+export function historyCell(point: Pick<CtHistoryPoint, 'round' | 'ct' | 'resultClass'>): string {
+  return `r${point.round}:${point.resultClass === 'invalid' ? 'invalid' : (point.ct ?? 'ND')}`;
+}
+
+/** The provenance cells of a site or barn row: labs, case numbers, collection and report dates of the reports behind it. */
+function provenance(sources: readonly Pick<SourceSummary, 'labName' | 'accessions' | 'reportedOn' | 'collectedFrom' | 'collectedTo' | 'assays'>[], assayId: string): Row {
+  const of = sources.filter((source) => source.assays.includes(assayId));
+  if (of.length === 0) return {};
+  const sorted = (values: Iterable<string>) => [...new Set(values)].sort();
+  const collected = sorted(of.flatMap((source) => [source.collectedFrom, source.collectedTo].filter((date): date is string => date !== null)));
+  const reported = sorted(of.flatMap((source) => (source.reportedOn === null ? [] : [source.reportedOn])));
+  return {
+    lab: sorted(of.map((source) => source.labName)).join('; '),
+    accession: sorted(of.flatMap((source) => source.accessions)).join(' '),
+    collected_on: dateSpan(collected[0] ?? null, collected.at(-1) ?? null),
+    reported_on: dateSpan(reported[0] ?? null, reported.at(-1) ?? null),
+  };
 }
 
 export function summaryCsv(summary: RoundSummary): string {
@@ -90,6 +130,7 @@ export function summaryCsv(summary: RoundSummary): string {
       target_confidence: summary.program.targetConfidence,
       freedom: formatProbability(assay.site.freedom),
       freedom_reset: assay.site.freedomReset,
+      ...provenance(summary.sources, assay.id),
     });
   }
   for (const barn of summary.barns) {
@@ -120,6 +161,7 @@ export function summaryCsv(summary: RoundSummary): string {
         apparent_prevalence_low95: c.prevalence ? formatProbability(c.prevalence.lower95) : null,
         apparent_prevalence_high95: c.prevalence ? formatProbability(c.prevalence.upper95) : null,
         true_prevalence: c.prevalence ? formatProbability(c.prevalence.trueEstimate) : null,
+        ...provenance(barn.sources, entry.assayId),
       });
     }
   }
@@ -137,7 +179,17 @@ export function summaryCsv(summary: RoundSummary): string {
         ct: result.ct,
         load_band: result.loadBand,
         reason: result.reason,
-        ct_history: result.history.map((point) => `r${point.round}:${point.ct ?? 'ND'}`).join(' '),
+        ct_history: result.history.map(historyCell).join(' '),
+        lab_call: result.labCall,
+        call_differs: result.callDiffers,
+        lab: result.labName,
+        accession: result.accession,
+        collected_on: result.collectedOn,
+        reported_on: result.reportedOn,
+        positive_below: result.positiveBelow,
+        suspect_below: result.suspectBelow,
+        cycle_limit: result.cycleLimit,
+        sequencing_candidate: result.sequencingCandidate,
       });
     }
   }

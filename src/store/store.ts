@@ -38,7 +38,22 @@ export interface StoredRope {
 /** A current result as the analysis reads it: the stored row's fields plus its ids. */
 export type StoredResult = Pick<
   ResultRow,
-  'labId' | 'sampleId' | 'assayId' | 'ct' | 'ctRaw' | 'labCall' | 'accession' | 'collectedOn' | 'reportedOn' | 'resultClass' | 'reason' | 'loadBand' | 'cycleLimit' | 'callDiffers'
+  | 'labId'
+  | 'sampleId'
+  | 'assayId'
+  | 'ct'
+  | 'ctRaw'
+  | 'labCall'
+  | 'accession'
+  | 'collectedOn'
+  | 'reportedOn'
+  | 'resultClass'
+  | 'reason'
+  | 'loadBand'
+  | 'positiveBelow'
+  | 'suspectBelow'
+  | 'cycleLimit'
+  | 'callDiffers'
 > & { id: number; fileId: number };
 
 export interface PlannedRope {
@@ -780,7 +795,7 @@ export class Store {
       .prepare(
         `SELECT r.id, r.file_id AS fileId, r.lab_id AS labId, s.sample_id AS sampleId, r.assay_id AS assayId, r.ct, r.ct_raw AS ctRaw, r.lab_call AS labCall,
                 r.accession, r.collected_on AS collectedOn, r.reported_on AS reportedOn, r.class AS resultClass, x.text AS reason, r.load_band AS loadBand,
-                r.cycle_limit AS cycleLimit, r.call_differs AS callDiffers
+                r.positive_below AS positiveBelow, r.suspect_below AS suspectBelow, r.cycle_limit AS cycleLimit, r.call_differs AS callDiffers
          FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
          WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
          ORDER BY r.id`,

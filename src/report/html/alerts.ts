@@ -18,7 +18,8 @@ export type AlertKind =
   | 'overdue'
   | 'invalid'
   | 'suspect'
-  | 'freedom-reset';
+  | 'freedom-reset'
+  | 'call-differs';
 
 export interface PageAlert {
   kind: AlertKind;
@@ -32,8 +33,9 @@ const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
 
 /**
  * The alerts of round `index` of a site. Order: first positive on the site, new positive barn,
- * significant cluster / spread / new focus, freedom reset, invalid, suspect, missing ropes, a
- * late round, and (for the latest round, with the plan) an overdue next round.
+ * significant cluster / spread / new focus, freedom reset, the lab's call differing from the
+ * reading, invalid, suspect, missing ropes, a late round, and (for the latest round, with the
+ * plan) an overdue next round.
  * @param summaries every round summary of the site, in order
  * @param spatial the spatial analysis of the same rounds (same order)
  * @param index the round to describe, an integer in [0, summaries.length - 1]
@@ -89,6 +91,18 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         message: `Freedom reset for ${assay.name}: the probability of freedom was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior after a positive round.`,
       });
     }
+  }
+  const differing = summary.disagreements;
+  if (differing.length > 0) {
+    const perBarn = [...new Set(differing.map((entry) => entry.barnId))].map((barnId) => `${barnId}: ${differing.filter((entry) => entry.barnId === barnId).length}`);
+    alerts.push({
+      kind: 'call-differs',
+      assayId: null,
+      barnId: null,
+      message:
+        `${plural(differing.length, 'result')} where the lab's own call differs from the reading with the lab's cutoffs in the configuration (${perBarn.join(', ')}): ` +
+        `each sample is listed with both readings under "Lab call and reading disagree"; check the cutoffs in the lab profile against the lab's report before acting on either.`,
+    });
   }
   for (const barn of summary.barns) {
     for (const tally of barn.assays) {

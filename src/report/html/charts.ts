@@ -1,6 +1,10 @@
 /**
  * Ct trend of one pen across rounds as a small plain-SVG line chart. The Ct axis runs downward
  * in value (low Ct at the top) so that "up" means more virus, and the axis says so in words.
+ * Each point is drawn with the reading of the lab that reported it: not detected sits on the
+ * cycle-limit line, an invalid result (a failed control: no reading at all) is a cross on a strip
+ * of its own below the axis, never on the not-detected line, and each lab's positive cutoff is a
+ * dashed line with its value.
  */
 import { COLOURS } from './palette.js';
 import { escapeHtml } from './escape.js';
@@ -14,12 +18,18 @@ export interface TrendPoint {
   resultClass: string;
 }
 
+/** A positive cutoff drawn as a dashed line, with what it is (e.g. "36, Northfield"). */
+export interface TrendCutoff {
+  value: number;
+  label: string;
+}
+
 export interface TrendOptions {
   title: string;
-  /** The run's cycle limit (the bottom of the axis: not detected). */
+  /** The cycle limit of the runs shown (the bottom of the axis: not detected); the highest when labs differ. */
   cycleLimit: number;
-  /** Positive cutoff, drawn as a dashed line; null for none. */
-  positiveBelow: number | null;
+  /** The positive cutoffs of the labs that reported the points, one dashed line each. */
+  cutoffs: readonly TrendCutoff[];
   /** Every round of the site up to this one, for the x axis. */
   rounds: readonly { round: number; label: string }[];
   width?: number;
@@ -43,26 +53,43 @@ export function ctAxis(cts: readonly number[], cycleLimit: number): { top: numbe
   return { top, bottom: Math.max(cycleLimit, ...cts) };
 }
 
+/** The mark of a point: a Ct, not detected, or invalid (whatever Ct the lab wrote beside a failed control). */
+export function pointKind(point: Pick<TrendPoint, 'ct' | 'resultClass'>): 'ct' | 'nd' | 'invalid' {
+  if (point.resultClass === 'invalid') return 'invalid';
+  return point.ct === null ? 'nd' : 'ct';
+}
+
+/** The path of a cross (two strokes): a shape of its own in greyscale, unlike either dot. */
+function cross(cx: number, cy: number, r: number): string {
+  return `M${fmt(cx - r)},${fmt(cy - r)} L${fmt(cx + r)},${fmt(cy + r)} M${fmt(cx - r)},${fmt(cy + r)} L${fmt(cx + r)},${fmt(cy - r)}`;
+}
+
 /**
  * Renders a Ct trend chart (line through detected Ct values, rounds on the x axis, Ct inverted
  * on the y axis). Filled dot: detected; hollow dot on the bottom line: not detected (n.d.);
- * the dashed line is the positive cutoff.
+ * cross on the strip below: invalid (retest); dashed lines: the labs' positive cutoffs.
  * @throws RangeError as ctAxis
  */
 export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptions): string {
   const width = options.width ?? 230;
-  const height = options.height ?? 130;
-  const left = 34;
-  const right = 10;
+  const anyInvalid = points.some((point) => pointKind(point) === 'invalid');
+  // The invalid strip needs room of its own below the not-detected line.
+  const height = (options.height ?? 130) + (anyInvalid ? 12 : 0);
+  const detected = points.filter((point) => pointKind(point) === 'ct');
+  const axis = ctAxis(detected.map((point) => point.ct!), options.cycleLimit);
+  const shown = [...options.cutoffs].filter((cutoff) => cutoff.value > axis.top && cutoff.value < axis.bottom).sort((a, b) => a.value - b.value);
+  // Room on the left for the "invalid" strip's label, on the right for the cutoff values (clear of the last point).
+  const left = anyInvalid ? 40 : 34;
+  const right = shown.length > 0 ? 22 : 10;
   const top = 20;
-  const bottom = 30;
-  const axis = ctAxis(points.flatMap((point) => (point.ct === null ? [] : [point.ct])), options.cycleLimit);
+  const bottom = 30 + (anyInvalid ? 12 : 0);
   const rounds = options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
   const index = new Map(rounds.map((entry, i) => [entry.round, i]));
   const plotW = width - left - right;
   const plotH = height - top - bottom;
   const xAt = (round: number) => left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
   const yAt = (ct: number) => top + ((ct - axis.top) / (axis.bottom - axis.top)) * plotH;
+  const invalidY = yAt(axis.bottom) + 11;
   const parts: string[] = [];
   parts.push(`<svg xmlns="http://www.w3.org/2000/svg" class="trend" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" role="img" data-trend="">`);
   parts.push(`<title>${escapeHtml(options.title)}</title>`);
@@ -73,31 +100,64 @@ export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptio
     parts.push(`<text x="${left - 4}" y="${fmt(yAt(ct))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${ct}</text>`);
   }
   parts.push(`<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">Ct (up = more virus)</text>`);
-  if (options.positiveBelow !== null && options.positiveBelow > axis.top && options.positiveBelow < axis.bottom) {
-    const y = fmt(yAt(options.positiveBelow));
-    parts.push(`<line x1="${left}" x2="${width - right}" y1="${y}" y2="${y}" stroke="#000000" stroke-width="1" stroke-dasharray="4 3" data-cutoff=""/>`);
-  }
+  shown.forEach((cutoff, i) => {
+    const y = yAt(cutoff.value);
+    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(y)}" y2="${fmt(y)}" stroke="#000000" stroke-width="1" stroke-dasharray="4 3" data-cutoff="${fmt(cutoff.value)}"><title>${escapeHtml(`positive cutoff ${cutoff.label}`)}</title></line>`);
+    // Close lines take turns: the value of the first above its line, the next below, so they never overprint.
+    const below = i % 2 === 1 && Math.abs(y - yAt(shown[i - 1]!.value)) < 10;
+    parts.push(`<text x="${width - right + 3}" y="${fmt(below ? y + 3 + 7 : y + 3)}" font-size="8" fill="${COLOURS.ink}">${escapeHtml(fmt(cutoff.value))}</text>`);
+  });
   parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
+  if (anyInvalid) {
+    parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
+  }
   const step = Math.max(1, Math.ceil(rounds.length / 7));
+  const labelsY = height - bottom + 13 + (anyInvalid ? 12 : 0);
   rounds.forEach((entry, i) => {
     if (i % step !== 0 && i !== rounds.length - 1) return;
-    parts.push(`<text x="${fmt(xAt(entry.round))}" y="${height - bottom + 13}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
+    parts.push(`<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
   });
-  parts.push(`<text x="${width - right}" y="${height - 3}" text-anchor="end" font-size="8.5" fill="${COLOURS.muted}">bottom line: not detected (n.d.)</text>`);
-  const detected = points.filter((point) => point.ct !== null);
+  parts.push(
+    `<text x="${width - right}" y="${height - 3}" text-anchor="end" font-size="8.5" fill="${COLOURS.muted}">bottom line: not detected (n.d.)${anyInvalid ? '; \u00d7 invalid' : ''}</text>`,
+  );
   if (detected.length >= 2) {
     const path = detected.map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.ct!))}`).join(' ');
     parts.push(`<path d="${path}" fill="none" stroke="${COLOURS.ink}" stroke-width="1.6"/>`);
   }
   for (const point of points) {
-    const x = fmt(xAt(point.round));
-    if (point.ct === null) {
-      parts.push(`<circle cx="${x}" cy="${fmt(yAt(axis.bottom))}" r="3.2" fill="#ffffff" stroke="${COLOURS.ink}" stroke-width="1.3" data-point="nd"><title>${escapeHtml(`${point.label}: not detected`)}</title></circle>`);
-    } else {
-      parts.push(`<circle cx="${x}" cy="${fmt(yAt(point.ct))}" r="3.4" fill="${COLOURS.ink}" data-point="ct"><title>${escapeHtml(`${point.label}: Ct ${point.ct} (${point.resultClass})`)}</title></circle>`);
-      parts.push(`<text x="${x}" y="${fmt(yAt(point.ct) - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${fmt(point.ct)}</text>`);
+    const x = xAt(point.round);
+    switch (pointKind(point)) {
+      case 'invalid':
+        parts.push(
+          `<path d="${cross(x, invalidY, 3.6)}" stroke="${COLOURS.ink}" stroke-width="2" fill="none" data-point="invalid"><title>${escapeHtml(`${point.label}: invalid, retest (no reading)`)}</title></path>`,
+        );
+        break;
+      case 'nd':
+        parts.push(`<circle cx="${fmt(x)}" cy="${fmt(yAt(axis.bottom))}" r="3.2" fill="#ffffff" stroke="${COLOURS.ink}" stroke-width="1.3" data-point="nd"><title>${escapeHtml(`${point.label}: not detected`)}</title></circle>`);
+        break;
+      case 'ct':
+        parts.push(`<circle cx="${fmt(x)}" cy="${fmt(yAt(point.ct!))}" r="3.4" fill="${COLOURS.ink}" data-point="ct"><title>${escapeHtml(`${point.label}: Ct ${point.ct} (${point.resultClass})`)}</title></circle>`);
+        parts.push(`<text x="${fmt(x)}" y="${fmt(yAt(point.ct!) - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${fmt(point.ct!)}</text>`);
+        break;
     }
   }
   parts.push('</svg>');
   return parts.join('');
+}
+
+/**
+ * The legend of the trend charts: one entry per mark, the same shapes as in the charts.
+ * @param heading leading text (already escaped HTML)
+ * @param cutoffs what the dashed lines are, e.g. "36" or "36 (lab A); 37 (lab B)" (already escaped HTML)
+ */
+export function trendLegend(heading = '', cutoffs = ''): string {
+  const icon = (inner: string) => `<svg width="22" height="14" viewBox="0 0 22 14" aria-hidden="true">${inner}</svg>`;
+  return (
+    `<div class="legend" data-trend-legend="">${heading ? `<span class="item">${heading}</span>` : ''}` +
+    `<span class="item">${icon(`<circle cx="11" cy="7" r="3.4" fill="${COLOURS.ink}"/>`)}Ct</span>` +
+    `<span class="item">${icon(`<line x1="1" x2="21" y1="7" y2="7" stroke="#6b7280" stroke-width="1"/><circle cx="11" cy="7" r="3.2" fill="#ffffff" stroke="${COLOURS.ink}" stroke-width="1.3"/>`)}not detected</span>` +
+    `<span class="item">${icon(`<path d="${cross(11, 7, 3.6)}" stroke="${COLOURS.ink}" stroke-width="2" fill="none"/>`)}invalid (retest)</span>` +
+    `<span class="item">${icon(`<line x1="1" x2="21" y1="7" y2="7" stroke="#000000" stroke-width="1" stroke-dasharray="4 3"/>`)}the lab\u2019s positive cutoff${cutoffs ? `, ${cutoffs}` : ''}</span>` +
+    `</div>`
+  );
 }

@@ -10,9 +10,9 @@ import type { Assay, Barn, Site } from '../../config/types.js';
 import type { BarnSpatialReport } from '../../spatial/analyse.js';
 import type { PageAlert } from './alerts.js';
 import { renderBarnMap, type PenMark } from './barnMap.js';
-import { renderCtTrend } from './charts.js';
+import { renderCtTrend, trendLegend, type TrendCutoff } from './charts.js';
 import { escapeHtml } from './escape.js';
-import { count, num, pct, pValue, renderPage, resultsLegend } from './page.js';
+import { count, legendShades, num, pct, pValue, renderPage, resultsLegend, type LegendLimit } from './page.js';
 
 export interface ClustersPageInput {
   site: Site;
@@ -32,6 +32,12 @@ export const MAIN_SCALE = 34;
 export const MINI_SCALE = 10;
 export const QUIET_SCALE = 12;
 
+/** How a pen's result was read: the lab, and its cutoffs for the assay ("Northfield: positive below 36, cycle limit 40"). */
+export function readingNote(result: { labName: string; positiveBelow: number | null; suspectBelow: number | null; cycleLimit: number }): string {
+  const cut = result.positiveBelow === null ? '' : `positive below ${result.positiveBelow}, `;
+  return `${result.labName}: ${cut}cycle limit ${result.cycleLimit}`;
+}
+
 /** The marks of one barn and assay in one round, from the summary's pens (every roped pen). */
 export function resultMarks(summary: RoundSummary, barnId: string, assayId: string, report?: BarnSpatialReport): Map<string, PenMark> {
   const newPositive = new Set((report?.pens ?? []).filter((pen) => pen.newPositive).map((pen) => pen.id));
@@ -43,14 +49,34 @@ export function resultMarks(summary: RoundSummary, barnId: string, assayId: stri
       if (!pen.returned) marks.set(pen.penId, { resultClass: 'missing', load: 0, note: 'rope hung, no result' });
       continue;
     }
+    const value = result.resultClass === 'invalid' ? 'invalid, retest' : result.ct === null ? 'not detected' : `Ct ${result.ct}`;
     marks.set(pen.penId, {
       resultClass: result.resultClass,
       load: result.load,
       newPositive: newPositive.has(pen.penId),
-      note: result.ct === null ? 'not detected' : `Ct ${result.ct}`,
+      note: `${value} (${readingNote(result)})`,
     });
   }
   return marks;
+}
+
+/**
+ * The cycle limits the shading of a barn's maps used (this round and the earlier ones drawn),
+ * each with the labs read at it; the assay's default when no result is drawn.
+ */
+export function legendLimits(summaries: readonly RoundSummary[], barnIds: readonly string[], assayId: string, fallback: number): LegendLimit[] {
+  const byLimit = new Map<number, Set<string>>();
+  for (const summary of summaries) {
+    for (const pen of summary.pens) {
+      const result = barnIds.includes(pen.barnId) ? pen.results[assayId] : undefined;
+      if (!result) continue;
+      const labs = byLimit.get(result.cycleLimit) ?? new Set<string>();
+      labs.add(result.labName);
+      byLimit.set(result.cycleLimit, labs);
+    }
+  }
+  if (byLimit.size === 0) return [{ cycleLimit: fallback, labs: [] }];
+  return [...byLimit.entries()].sort((a, b) => a[0] - b[0]).map(([cycleLimit, labs]) => ({ cycleLimit, labs: [...labs].sort() }));
 }
 
 function statsTable(report: BarnSpatialReport, detection: AssaySpatial['detection'][number] | undefined, alpha: number): string {
@@ -150,16 +176,41 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
     : '';
   const positivePens = tally?.positivePens ?? [];
   const rounds = input.summaries.slice(0, input.index + 1).map((s) => ({ round: s.round.number, label: `r${String(s.round.number).padStart(2, '0')}` }));
+  const cutoffsDrawn = new Map<number, Set<string>>();
   const trends = positivePens
     .map((penId) => {
       const pen = summary.pens.find((entry) => entry.barnId === barn.id && entry.penId === penId);
-      const history = pen?.results[assay.assayId]?.history ?? [];
+      const result = pen?.results[assay.assayId];
+      const history = result?.history ?? [];
+      // Each point as its own lab read it: the axis ends at the highest cycle limit among them,
+      // and the positive cutoff of each lab whose Ct is drawn is a dashed line (a not-detected or
+      // invalid result was not read against a cutoff).
+      const cutoffs = new Map<number, Set<string>>();
+      for (const point of history) {
+        if (point.positiveBelow === null || point.ct === null || point.resultClass === 'invalid') continue;
+        const labs = cutoffs.get(point.positiveBelow) ?? new Set<string>();
+        labs.add(point.labName);
+        cutoffs.set(point.positiveBelow, labs);
+        const drawn = cutoffsDrawn.get(point.positiveBelow) ?? new Set<string>();
+        drawn.add(point.labName);
+        cutoffsDrawn.set(point.positiveBelow, drawn);
+      }
+      const lines: TrendCutoff[] = [...cutoffs.entries()].sort((a, b) => a[0] - b[0]).map(([value, labs]) => ({ value, label: `${value} (${[...labs].sort().join(', ')})` }));
+      const limit = Math.max(...history.map((point) => point.cycleLimit), result?.cycleLimit ?? cycleLimit);
       return renderCtTrend(
         history.map((point) => ({ round: point.round, label: `r${String(point.round).padStart(2, '0')}`, ct: point.ct, resultClass: point.resultClass })),
-        { title: `Pen ${penId}`, cycleLimit, positiveBelow: assayConfig?.positiveBelow ?? null, rounds },
+        { title: `Pen ${penId}`, cycleLimit: limit, cutoffs: lines, rounds },
       );
     })
     .join('');
+  // One cutoff is named with the page's cutoffs line; several are named here with their labs.
+  const cutoffText =
+    cutoffsDrawn.size === 1
+      ? String([...cutoffsDrawn.keys()][0])
+      : [...cutoffsDrawn.entries()]
+          .sort((a, b) => a[0] - b[0])
+          .map(([value, labs]) => `${value} (${escapeHtml([...labs].sort().join(', '))})`)
+          .join('; ');
   const clusterList = (report?.clusters ?? [])
     .filter((cluster) => cluster.size >= 2)
     .map((cluster) => `<li>C${cluster.index}: ${escapeHtml(cluster.pens.join(', '))}; ${cluster.size} pens over ${num(cluster.alleyLength, 1)} pen units along the alley; lowest Ct ${num(cluster.minCt, 1)}${cluster.newPens.length > 0 ? `; new: ${escapeHtml(cluster.newPens.join(', '))}` : ''}</li>`)
@@ -178,13 +229,55 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
     return `<figure class="quiet" data-barn="${escapeHtml(barn.id)}">${small}<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested; no positive, suspect or invalid rope so far.</figcaption></figure>`;
   }
   return (
-    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${resultsLegend(key, cycleLimit)}` +
+    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${resultsLegend(key, legendLimits([...earlier, summary], [barn.id], assay.assayId, cycleLimit))}` +
     (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
     (clusterList ? `<ul>${clusterList}</ul>` : '') +
     (report ? statsTable(report, assay.detection.find((entry) => entry.barnId === barn.id), input.alpha) : '<p>No spatial statistics for this barn.</p>') +
-    (trends ? `<p><strong>Ct trend per positive pen</strong> (lower Ct = more virus, drawn higher; dashed line: positive cutoff ${assayConfig?.positiveBelow ?? ''}):</p><div class="trends">${trends}</div>` : '') +
+    (trends ? `${trendLegend('<strong>Ct trend per positive pen:</strong>', cutoffText)}<div class="trends">${trends}</div>` : '') +
     `</section>`
   );
+}
+
+/**
+ * The sequencing candidates of one assay: positive pens below the assay's `sequencingBelow`,
+ * with the plain reading; nothing when the assay has no threshold or the round no positive.
+ */
+export function sequencingBlock(summary: RoundSummary, assayId: string): string {
+  const entry = summary.sequencing.find((candidate) => candidate.assayId === assayId);
+  const positives = summary.barns.reduce((sum, barn) => sum + (barn.assays.find((a) => a.assayId === assayId)?.positive ?? 0), 0);
+  if (!entry || positives === 0) return '';
+  const labs = [...new Set(entry.pens.map((pen) => pen.labName))];
+  const byBarn = [...new Set(entry.pens.map((pen) => pen.barnId))].map(
+    (barnId) =>
+      `${escapeHtml(barnId)}: ${entry.pens
+        .filter((pen) => pen.barnId === barnId)
+        .map((pen) => `${escapeHtml(pen.penId)} (${num(pen.ct, 1)}${labs.length > 1 ? `, ${escapeHtml(pen.labName)}` : ''})`)
+        .join(', ')}`,
+  );
+  return (
+    `<p data-sequencing="${escapeHtml(assayId)}"><strong>Sequencing candidates</strong> (pen, Ct): ` +
+    (byBarn.length > 0 ? `${byBarn.join('; ')}. ` : `none: no positive pen this round has a Ct below ${entry.sequencingBelow}. `) +
+    `<span class="muted">${escapeHtml(entry.reading)}</span></p>`
+  );
+}
+
+/** The cutoffs this round's results were read with, lab by lab (the labs' own, from their profiles). */
+export function cutoffsSentence(summary: RoundSummary): string {
+  const byLab = new Map<string, RoundSummary['cutoffs']>();
+  for (const cutoff of summary.cutoffs) byLab.set(cutoff.labName, [...(byLab.get(cutoff.labName) ?? []), cutoff]);
+  if (byLab.size === 0) return '';
+  const labText = (cutoffs: RoundSummary['cutoffs']) => {
+    // Assays sharing the suspect cutoff and cycle limit are named together.
+    const groups = new Map<string, RoundSummary['cutoffs']>();
+    for (const cutoff of cutoffs) {
+      const key = `${cutoff.suspectBelow}/${cutoff.cycleLimit}`;
+      groups.set(key, [...(groups.get(key) ?? []), cutoff]);
+    }
+    return [...groups.values()]
+      .map((group) => `${group.map((cutoff) => `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}`).join(', ')}; suspect below ${group[0]!.suspectBelow}, cycle limit ${group[0]!.cycleLimit}`)
+      .join('; ');
+  };
+  return ` Cutoffs of the reporting lab: ${[...byLab.entries()].map(([lab, cutoffs]) => `<span data-read-with="">${escapeHtml(lab)}: ${labText(cutoffs)}</span>`).join('; ')}.`;
 }
 
 function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
@@ -192,9 +285,14 @@ function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
   const quiet = rendered.filter((html) => html.startsWith('<figure class="quiet"'));
   const busy = rendered.filter((html) => !html.startsWith('<figure class="quiet"'));
   const cycleLimit = input.assays.get(assay.assayId)?.cycleLimit ?? 40;
+  const quietIds = input.site.barns.filter((_, i) => rendered[i]!.startsWith('<figure class="quiet"')).map((barn) => barn.id);
+  const limits = legendLimits([input.summaries[input.index]!], quietIds, assay.assayId, cycleLimit);
+  const legend = resultsLegend(`${input.summaries[input.index]!.round.id}-${assay.assayId}-quiet`, limits);
+  // The legend a busy barn above already gave, with the same limits, is not printed twice.
+  const shown = busy.some((html) => html.includes(legendShades(limits)));
   const quietBlock =
     quiet.length > 0
-      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${resultsLegend(`${input.summaries[input.index]!.round.id}-${assay.assayId}-quiet`, cycleLimit)}</section>`
+      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${shown ? '' : legend}</section>`
       : '';
   return busy.join('') + quietBlock;
 }
@@ -220,6 +318,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
         `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
         (alerts.length > 0 ? `<div class="alerts"><ul>${alerts.map((alert) => `<li>${escapeHtml(alert.message)}</li>`).join('')}</ul></div>` : '') +
         siteLine +
+        sequencingBlock(summary, assay.assayId) +
         quietAndBusy(input, assay)
       );
     })
@@ -227,7 +326,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
   return renderPage({
     title: `${summary.site.name}, round ${summary.round.number}: cluster review`,
     heading: `${summary.site.name}: cluster review, round ${summary.round.number}`,
-    subheading: `Round ${escapeHtml(summary.round.id)} (${escapeHtml(summary.round.startOn)} to ${escapeHtml(summary.round.endOn)}). Significance level ${input.alpha}; Monte Carlo seed ${spatial.seed}. Spread model: transmission ${spatial.model.transmission} per contact and step, background ${spatial.model.background}, ${spatial.model.realisations} simulated outbreaks.`,
+    subheading: `Round ${escapeHtml(summary.round.id)} (${escapeHtml(summary.round.startOn)} to ${escapeHtml(summary.round.endOn)}). Significance level ${input.alpha}; Monte Carlo seed ${spatial.seed}. Spread model: transmission ${spatial.model.transmission} per contact and step, background ${spatial.model.background}, ${spatial.model.realisations} simulated outbreaks.${cutoffsSentence(summary)}`,
     notices: input.notices,
     nav: [
       { href: '../../index.html', label: 'All sites' },

@@ -127,26 +127,58 @@ function swatch(fill: string, stroke: string, strokeWidth: number, symbol = '', 
 const hatch = (id: string, cross: boolean) =>
   `<svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><defs><pattern id="${id}" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#6f6f6f" stroke-width="1.6"/>${cross ? '<line x1="0" y1="0" x2="6" y2="0" stroke="#5f5f5f" stroke-width="1.6"/>' : ''}</pattern></defs><rect x="1.5" y="1.5" width="17" height="17" fill="url(#${id})" stroke="${COLOURS.penStroke}"/></svg>`;
 
-/**
- * Legend of a results map: the load ramp with the Ct each step stands for at this cycle limit,
- * the symbols, the outlines, hatching and cluster boxes.
- * @param key unique within the page (pattern ids)
- * @param cycleLimit the assay's cycle limit C_max, cycles
- */
-export function resultsLegend(rawKey: string, cycleLimit: number): string {
-  const key = safeId(rawKey);
+/** A cycle limit the shading of a map used, and the labs whose results were read with it. */
+export interface LegendLimit {
+  cycleLimit: number;
+  labs: readonly string[];
+}
+
+/** The Ct range a load step stands for at one cycle limit: step k covers loads (5(k-1), 5k]. */
+function stepRange(index: number, cycleLimit: number): string {
   const band = LOAD_BAND_CYCLES;
-  const ramp = LOAD_RAMP.map((step, index) => {
+  return index === LOAD_RAMP.length - 1 ? `&lt; ${cycleLimit - band * (index - 1)}` : `${cycleLimit - band * index}\u2013${cycleLimit - band * (index - 1)}`;
+}
+
+/**
+ * Legend of a results map: the load ramp with the Ct each step stands for at the cycle limit of
+ * the lab that reported each rope (one range per limit when labs differ), the symbols, the
+ * outlines, hatching and cluster boxes.
+ * @param key unique within the page (pattern ids)
+ * @param limits the cycle limits C_max of the results drawn, with their labs (a bare number: one limit, no lab named)
+ */
+export function resultsLegend(rawKey: string, limits: number | readonly LegendLimit[]): string {
+  const key = safeId(rawKey);
+  const list: readonly LegendLimit[] = typeof limits === 'number' ? [{ cycleLimit: limits, labs: [] }] : limits;
+  return legendShades(list) + legendSymbols(key);
+}
+
+/** The shade part of a results legend (the same limits give the same text). */
+export function legendShades(list: readonly LegendLimit[]): string {
+  const ramp = LOAD_RAMP.map((_, index) => {
+    const step = LOAD_RAMP[index]!;
     const label =
       index === 0
         ? 'not detected'
-        : index === LOAD_RAMP.length - 1
-          ? `Ct &lt; ${cycleLimit - band * (index - 1)}`
-          : `Ct ${cycleLimit - band * index}\u2013${cycleLimit - band * (index - 1)}`;
+        : list.length === 1
+          ? `Ct ${stepRange(index, list[0]!.cycleLimit)}`
+          : `Ct ${list.map((limit) => `${stepRange(index, limit.cycleLimit)} (limit ${limit.cycleLimit})`).join(' or ')}`;
     return `<span class="item">${swatch(step.fill, '#4b5563', 1.2)}${label}</span>`;
   }).join('');
+  // Several limits on one map: say whose each is (one limit is named with the page's cutoffs).
+  const named = list.length > 1 ? list.filter((limit) => limit.labs.length > 0) : [];
+  const whose =
+    named.length === 0
+      ? ''
+      : ` Cycle limit of the lab that reported each rope: ${named.map((limit) => `${limit.cycleLimit} (${escapeHtml(limit.labs.join(', '))})`).join('; ')}.`;
+  const cmax = list.length === 1 ? String(list[0]!.cycleLimit) : 'cycle limit';
   return (
-    `<div class="legend" data-legend=""><span class="item"><strong>Shade = load (${cycleLimit} \u2212 Ct), darker = more virus:</strong></span>${ramp}</div>` +
+    `<div class="legend" data-legend=""><span class="item"><strong>Shade = load (${cmax} \u2212 Ct), darker = more virus:</strong>${whose}</span>${ramp}</div>`
+  );
+}
+
+/** The symbol part of a results legend. */
+function legendSymbols(key: string): string {
+  return (
     `<div class="legend">` +
     `<span class="item">${swatch(LOAD_RAMP[3]!.fill, '#000000', 3.2, '+', LOAD_RAMP[3]!.ink)}positive (heavy outline)</span>` +
     `<span class="item">${swatch(LOAD_RAMP[1]!.fill, '#4b5563', 1.2, '?')}suspect</span>` +

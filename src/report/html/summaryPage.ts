@@ -1,8 +1,10 @@
 /**
  * Site round summary, for clinic staff: per barn the ropes hung and returned, missing ropes,
  * results by class, detection confidence against the target, the prevalence estimate when
- * positives exist; per assay the site's detection and the probability of freedom so far; the
- * alerts in plain words with the number behind each.
+ * positives exist, and the pens with a finding with the lab and cutoffs each was read with; per
+ * assay the site's detection and the probability of freedom so far; every sample whose lab call
+ * differs from its reading; where the results came from (lab, case numbers, dates), to file
+ * against the lab's report; the alerts in plain words with the number behind each.
  */
 import type { RoundSummary } from '../../analysis/roundSummary.js';
 import type { PageAlert } from './alerts.js';
@@ -31,6 +33,140 @@ function siteTable(summary: RoundSummary): string {
     })
     .join('');
   return `<table data-site-table=""><thead><tr><th>Assay</th><th class="num">Site detection confidence</th><th>Result</th><th>Probability of freedom so far</th></tr></thead><tbody>${rows}</tbody></table>`;
+}
+
+type PenResult = RoundSummary['pens'][number]['results'][string];
+
+/** The cutoffs a result was read with, in short: "+ below 36, ? below 40, limit 40". */
+export function cutoffText(result: Pick<PenResult, 'positiveBelow' | 'suspectBelow' | 'cycleLimit'>): string {
+  const parts = [
+    result.positiveBelow === null ? '' : `positive below ${result.positiveBelow}`,
+    result.suspectBelow === null ? '' : `suspect below ${result.suspectBelow}`,
+    `cycle limit ${result.cycleLimit}`,
+  ];
+  return parts.filter((part) => part !== '').join(', ');
+}
+
+const ctCell = (ct: number | null, resultClass: string) => (resultClass === 'invalid' ? 'invalid' : ct === null ? 'n.d.' : String(ct));
+
+/**
+ * The results of a round were not all read alike: more than one lab, or one lab with more than
+ * one set of cutoffs for an assay. Then each finding names its lab and cutoffs; otherwise the
+ * one set is named once, under "Where the results came from".
+ */
+export function mixedReadings(summary: RoundSummary): boolean {
+  const labs = new Set(summary.cutoffs.map((cutoff) => cutoff.labId));
+  const assays = new Set(summary.cutoffs.map((cutoff) => cutoff.assayId));
+  return labs.size > 1 || summary.cutoffs.length > assays.size;
+}
+
+/**
+ * The pens of a barn with something to act on (positive, suspect, invalid, or a lab call that
+ * differs), with the lab's case number, and the lab and cutoffs when the round mixes readings.
+ */
+function findingsTable(summary: RoundSummary, barnId: string): string {
+  const mixed = mixedReadings(summary);
+  const rows = summary.pens
+    .filter((pen) => pen.barnId === barnId)
+    .flatMap((pen) =>
+      Object.entries(pen.results)
+        .filter(([, result]) => result.resultClass !== 'negative' || result.callDiffers)
+        .map(([assayId, result]) => {
+          const call = result.labCall === null ? '<span class="muted">none</span>' : `${escapeHtml(result.labCall)}${result.callDiffers ? ' <strong>(differs)</strong>' : ''}`;
+          return (
+            `<tr data-pen="${escapeHtml(pen.penId)}" data-assay="${escapeHtml(assayId)}"><td>${escapeHtml(pen.penId)}</td><td>${escapeHtml(assayId)}</td><td>${escapeHtml(result.sampleId)}</td>` +
+            `<td class="num">${ctCell(result.ct, result.resultClass)}</td><td>${escapeHtml(result.resultClass)}${result.sequencingCandidate ? ', sequencing candidate' : ''}</td><td>${call}</td>` +
+            `<td>${escapeHtml(result.accession ?? '')}</td>` +
+            (mixed ? `<td>${escapeHtml(result.labName)}: ${escapeHtml(cutoffText(result))}</td>` : '') +
+            `</tr>`
+          );
+        }),
+    );
+  if (rows.length === 0) return '';
+  return (
+    `<table data-findings=""><thead><tr><th>Pen</th><th>Assay</th><th>Sample</th><th class="num">Ct</th><th>Reading</th><th>Lab\u2019s call</th><th>Lab case</th>` +
+    (mixed ? '<th>Read with (lab: cutoffs)</th>' : '') +
+    `</tr></thead><tbody>${rows.join('')}</tbody></table>`
+  );
+}
+
+/** Every sample of the round whose lab call differs from its reading, with both readings. */
+function disagreementsBlock(summary: RoundSummary): string {
+  if (summary.disagreements.length === 0) return '';
+  const rows = summary.disagreements
+    .map(
+      (entry) =>
+        `<tr data-disagreement="${escapeHtml(entry.sampleId)}"><td>${escapeHtml(entry.barnId)} ${escapeHtml(entry.penId)}</td><td>${escapeHtml(entry.sampleId)}</td><td>${escapeHtml(entry.assayId)}</td>` +
+        `<td class="num">${escapeHtml(entry.ctRaw ?? ctCell(entry.ct, entry.resultClass))}</td><td><strong>${escapeHtml(entry.labCall)}</strong></td>` +
+        `<td><strong>${escapeHtml(entry.resultClass)}</strong>: ${escapeHtml(entry.reason)}${entry.standsForPen ? '' : ' (a second rope of the pen; another result stands for it)'}</td>` +
+        `<td>${escapeHtml(entry.labName)}${entry.accession ? `, case ${escapeHtml(entry.accession)}` : ''}</td></tr>`,
+    )
+    .join('');
+  return (
+    `<h2>Lab call and reading disagree</h2><p>For these samples the lab\u2019s own call names another class than the lab\u2019s cutoffs in the configuration give for the Ct it reported. ` +
+    `ropewatch counts the reading from the cutoffs; check the cutoffs in the lab profile against the lab\u2019s report, and ask the lab when they agree.</p>` +
+    `<table data-disagreements="${summary.disagreements.length}"><thead><tr><th>Pen</th><th>Sample</th><th>Assay</th><th class="num">Ct as reported</th><th>Lab\u2019s call</th><th>ropewatch reading</th><th>Lab, case</th></tr></thead><tbody>${rows}</tbody></table>`
+  );
+}
+
+/** A date, or "first to last" when they differ. */
+const span = (first: string | null, last: string | null) => (first === null || last === null ? (first ?? last ?? 'not given') : first === last ? first : `${first} to ${last}`);
+
+/** Where the round's results came from: per lab report, the case numbers and dates; the cutoffs each lab's results were read with. */
+function sourcesBlock(summary: RoundSummary): string {
+  if (summary.sources.length === 0) return '';
+  const rows = summary.sources
+    .map(
+      (source) =>
+        `<tr data-source="${escapeHtml(source.labId)}"><td>${escapeHtml(source.labName)}</td><td>${escapeHtml(source.reportedOn ?? 'not given')}</td>` +
+        `<td>${source.accessions.length > 0 ? escapeHtml(caseList(source.accessions)) : '<span class="muted">none given</span>'}</td>` +
+        `<td>${escapeHtml(span(source.collectedFrom, source.collectedTo))}</td><td>${escapeHtml(source.barnIds.join(', '))}</td><td>${escapeHtml(source.assays.join(', '))}</td><td class="num">${source.results}</td></tr>`,
+    )
+    .join('');
+  const byLab = new Map<string, string[]>();
+  for (const cutoff of summary.cutoffs) {
+    const d = cutoff.defaults;
+    const differs = d !== null && (d.positiveBelow !== cutoff.positiveBelow || d.suspectBelow !== cutoff.suspectBelow || d.cycleLimit !== cutoff.cycleLimit);
+    const text =
+      `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}, suspect below ${cutoff.suspectBelow}, cycle limit ${cutoff.cycleLimit}` +
+      (differs ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${d!.positiveBelow}, ${d!.suspectBelow}, ${d!.cycleLimit})</span>` : '');
+    byLab.set(cutoff.labName, [...(byLab.get(cutoff.labName) ?? []), text]);
+  }
+  const cutoffs = [...byLab.entries()].map(([lab, texts]) => `<li data-cutoffs-of="${escapeHtml(lab)}">${escapeHtml(lab)}: ${texts.join('; ')}</li>`).join('');
+  return (
+    `<h2>Where the results came from</h2>` +
+    `<table data-sources=""><thead><tr><th>Lab</th><th>Reported</th><th>Case numbers</th><th>Collected</th><th>Barns</th><th>Assays</th><th class="num">Results</th></tr></thead><tbody>${rows}</tbody></table>` +
+    (cutoffs ? `<p>Each result is read with the cutoffs of the lab that reported it:</p><ul data-cutoffs="">${cutoffs}</ul>` : '') +
+    (summary.disagreements.length === 0 ? `<p class="muted">No result this round has a lab call that differs from its reading.</p>` : '')
+  );
+}
+
+/**
+ * Case numbers in short: runs of consecutive numbers with the same prefix and width collapse to
+ * "first to last" (NV26-01000 to NV26-01017); the rest are listed.
+ */
+export function caseList(accessions: readonly string[]): string {
+  const parsed = [...new Set(accessions)].sort().map((text) => {
+    const match = /^(.*?)(\d+)$/.exec(text);
+    return match ? { text, prefix: match[1]!, digits: match[2]!.length, value: Number(match[2]) } : { text, prefix: null, digits: 0, value: Number.NaN };
+  });
+  const out: string[] = [];
+  for (let i = 0; i < parsed.length; ) {
+    let j = i;
+    const first = parsed[i]!;
+    while (
+      first.prefix !== null &&
+      j + 1 < parsed.length &&
+      parsed[j + 1]!.prefix === first.prefix &&
+      parsed[j + 1]!.digits === first.digits &&
+      parsed[j + 1]!.value === parsed[j]!.value + 1
+    ) {
+      j++;
+    }
+    out.push(j - i >= 2 ? `${first.text} to ${parsed[j]!.text}` : parsed.slice(i, j + 1).map((entry) => entry.text).join(', '));
+    i = j + 1;
+  }
+  return out.join(', ');
 }
 
 function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): string {
@@ -68,7 +204,7 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
     (missing > 0 ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(barn.missingSampleIds.join(', '))}` : '; none missing') +
     `.</p>` +
     `<table><thead><tr><th>Assay</th><th class="num">Tested</th><th class="num">Positive</th><th class="num">Suspect</th><th class="num">Negative</th><th class="num">Invalid</th><th>Pens (+ positive, ? suspect, \u00d7 invalid)</th>` +
-    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table></section>`
+    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${findingsTable(summary, barn.barnId)}</section>`
   );
 }
 
@@ -81,8 +217,10 @@ export function renderSummaryPage(input: SummaryPageInput): string {
   const round = summary.round;
   const body =
     `<h2>Alerts</h2>${alertsBlock(input.alerts)}` +
+    disagreementsBlock(summary) +
     `<h2>Site</h2><p class="explain">${confidenceSentence(summary.program.designPrevalence, summary.program.targetConfidence)}</p>${siteTable(summary)}` +
-    `<h2>Barns</h2>${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}`;
+    `<h2>Barns</h2>${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}` +
+    sourcesBlock(summary);
   return renderPage({
     title: `${summary.site.name}, round ${round.number}: summary`,
     heading: `${summary.site.name}: round ${round.number} summary`,

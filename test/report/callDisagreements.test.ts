@@ -1,0 +1,47 @@
+/**
+ * The receipt names each row whose lab call differs from the reading with the lab's cutoffs, with
+ * both readings, so a disagreement is never silent (common practice, no source: a result whose
+ * reading and lab call disagree goes back to a person).
+ */
+import { describe, expect, it } from 'vitest';
+import type { Receipt } from '../../src/ingest/ingestFile.js';
+import { receiptText } from '../../src/pipeline.js';
+import { disagreementLines } from '../../src/report/callDisagreements.js';
+
+const receipt: Receipt = {
+  file: 'nvdl_results.csv',
+  sha256: 'ab'.repeat(32),
+  receivedAt: '2026-08-06T14:00:00.000Z',
+  status: 'accepted',
+  kind: 'results',
+  lab: 'northfield',
+  encoding: 'utf-8',
+  rows: { accepted: 2, rejected: 0, duplicate: 0, superseded: 0 },
+  rejectedRows: [],
+  rejectedRowsNotListed: 0,
+  unresolvedSampleIds: [],
+  unresolvedNotListed: 0,
+  resolvedSampleIds: [],
+  warnings: [],
+  reason: null,
+  sites: ['hollow-creek'],
+};
+
+describe('call disagreements on the receipt', () => {
+  it('lists each disagreeing row with the lab call and the reading', () => {
+    const text = receiptText({
+      ...receipt,
+      callDisagreements: [{ line: 3, sampleId: 'S-1', assayId: 'PRRSV', ctRaw: '35.50', labCall: 'Negative', resultClass: 'positive', reason: 'Ct 35.5 below the positive cutoff 36' }],
+      callDisagreementsNotListed: 2,
+    });
+    expect(text).toContain("the lab's call differs from the reading with the lab's cutoffs in the configuration (3 rows;");
+    expect(text).toContain('  line 3, sample S-1, PRRSV, Ct "35.50": lab says "Negative", read as positive (Ct 35.5 below the positive cutoff 36)');
+    expect(text).toContain('  ... and 2 more');
+  });
+
+  it('adds nothing when no row disagrees', () => {
+    expect(disagreementLines({})).toEqual([]);
+    expect(disagreementLines({ callDisagreements: [], callDisagreementsNotListed: 0 })).toEqual([]);
+    expect(receiptText(receipt)).not.toContain('differs');
+  });
+});
