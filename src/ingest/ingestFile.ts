@@ -376,9 +376,17 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       }
       return rejection;
     };
-    const addRejections = (given: readonly RowRejection[]) => {
+    // Mistyped IDs wait for the whole file: the planned ID meant is the one whose rope still
+    // has no result once every other row is stored.
+    const mistyped: RowRejection[] = [];
+    const addRejections = (given: readonly RowRejection[], deferMistyped = true) => {
       if (given.length === 0) return;
-      const list = given.map(withSuggestion);
+      let list = given;
+      if (deferMistyped && given.some((rejection) => rejection.code === 'bad-check-character')) {
+        for (const rejection of given) if (rejection.code === 'bad-check-character') mistyped.push(rejection);
+        list = given.filter((rejection) => rejection.code !== 'bad-check-character');
+        if (list.length === 0) return;
+      }
       deps.store.insertRejections(fileId, list);
       receipt.rows.rejected += list.length;
       for (const rejection of list) {
@@ -406,6 +414,10 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     const input: MappingInput = { file, expected: { bytes: size, sha256 }, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById, corrections };
     const batches = worker ? worker.batches(input) : mappedBatches(input);
     for await (const batch of batches) store(batch);
+    if (mistyped.length > 0) {
+      addRejections(mistyped.map(withSuggestion), false);
+      receipt.rejectedRows.sort((a, b) => a.line - b.line);
+    }
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
       return reject(new IngestError('empty-file', name, kind.headerLine, undefined, undefined, 'the file has a header but no data rows'), receipt.lab);
