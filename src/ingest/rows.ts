@@ -150,6 +150,8 @@ interface FileMemo {
   /** Positions of the lab's status columns that this file has. */
   statusPositions: readonly number[];
   words: LabWords;
+  /** Scratch for one row's words, reused row after row. */
+  rowWords: RowWords;
   ctMeanings: Map<LabAssay, Map<string, CtMeaning>>;
   ctMeaningCount: number;
   /** The last sample ID placed by pattern: a sample's assays come on neighbouring rows. */
@@ -167,6 +169,7 @@ function fileMemo(context: ResultContext): FileMemo {
       positions: Object.fromEntries(entries) as Record<ColumnName, number | undefined>,
       statusPositions,
       words: labWords(context.lab),
+      rowWords: { controlCell: null, controlFailed: undefined, status: undefined, statusWord: undefined },
       ctMeanings: new Map(),
       ctMeaningCount: 0,
       lastLocated: undefined,
@@ -293,7 +296,7 @@ function ctMeaning(memo: FileMemo, ctRaw: string, lab: LabProfile, labAssay: Lab
 /**
  * The lab's words across the row's internal-control, call and status cells: a control failure
  * in any of them, the call from the call cell, the report state from the status cells (corrected
- * over preliminary over final). Filled in place: no object per row.
+ * over preliminary over final). One per file (FileMemo), filled in place row after row.
  */
 interface RowWords {
   controlCell: string | null;
@@ -372,7 +375,11 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const words = memo.words;
   const callRead = labCall === null ? undefined : words.read(labCall);
   const controlRead = control === null ? undefined : words.read(control);
-  const rowWords: RowWords = { controlCell: null, controlFailed: undefined, status: undefined, statusWord: undefined };
+  const rowWords = memo.rowWords;
+  rowWords.controlCell = null;
+  rowWords.controlFailed = undefined;
+  rowWords.status = undefined;
+  rowWords.statusWord = undefined;
   if (controlRead?.controlFailed !== undefined) {
     rowWords.controlFailed = controlRead.controlFailed;
     rowWords.controlCell = control;
