@@ -400,7 +400,7 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
 export const DEFAULT_CALL_WORDS: Readonly<Record<CallClass, readonly string[]>> = {
   positive: ['positive', 'pos', 'detected'],
   suspect: ['suspect', 'inconclusive', 'equivocal', 'indeterminate'],
-  negative: ['negative', 'neg', 'not detected'],
+  negative: ['negative', 'neg', 'not detected', 'none detected'],
   invalid: ['invalid'],
 };
 

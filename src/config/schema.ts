@@ -230,7 +230,7 @@ export const labProfileSchema = z
     /**
      * The lab's words for its own call, per class, found as whole words in the call cell (the
      * longest phrase wins: "not detected" over "detected"). A class left out keeps the English
-     * words: positive, pos, detected; negative, neg, not detected; suspect, inconclusive,
+     * words: positive, pos, detected; negative, neg, not detected, none detected; suspect, inconclusive,
      * equivocal, indeterminate; invalid.
      */
     callWords: z

@@ -80,6 +80,7 @@ describe('LabWords', () => {
     // English defaults: "not detected" (2 words, negative) over "detected" (1 word, positive).
     expect(english.read('Not Detected').call).toBe('negative');
     expect(english.read('Detected').call).toBe('positive');
+    expect(english.read('None detected').call).toBe('negative');
     expect(english.read('positive/negative').call).toBeUndefined();
     expect(english.read('Pending').call).toBeUndefined();
     expect(english.read('Pending').status).toBe('preliminary');
