@@ -47,6 +47,36 @@ export function receiptText(receipt: Receipt & ReceiptDisagreements): string {
     for (const row of receipt.rejectedRows) lines.push(`  line ${row.line}${row.field ? `, ${row.field}` : ''}: [${row.code}] ${row.message}${row.value ? ` (value ${JSON.stringify(row.value)})` : ''}`);
     if (receipt.rejectedRowsNotListed > 0) lines.push(`  ... and ${receipt.rejectedRowsNotListed} more`);
   }
+  const more = (count: number | undefined) => {
+    if ((count ?? 0) > 0) lines.push(`  ... and ${count} more`);
+  };
+  if ((receipt.invalidRows ?? []).length > 0) {
+    lines.push('', 'rows read as invalid (retest; never counted as negative):');
+    for (const row of receipt.invalidRows!) lines.push(`  line ${row.line}, ${row.sampleId} ${row.assayId}: ${row.reason}`);
+    more(receipt.invalidRowsNotListed);
+  }
+  if ((receipt.callDisagreements ?? []).length > 0) {
+    lines.push('', "the lab's call differs from ropewatch's reading of the value (both kept; review with the lab):");
+    for (const row of receipt.callDisagreements!) {
+      lines.push(`  line ${row.line}, ${row.sampleId} ${row.assayId}: lab "${row.labCall}" (${row.labCallClass}), ropewatch ${row.resultClass} from ${row.ctRaw === '' ? 'a blank value' : `"${row.ctRaw}"`}`);
+    }
+    more(receipt.callDisagreementsNotListed);
+  }
+  if ((receipt.supersessions ?? []).length > 0) {
+    lines.push('', 'reports replaced (old reading -> current reading):');
+    for (const note of receipt.supersessions!) {
+      const reading = (r: (typeof note)['current']) =>
+        `${r.resultClass} (${r.ctRaw === '' ? 'blank value' : r.ctRaw}${r.labCall ? `, lab "${r.labCall}"` : ''}; reported ${r.reportedOn ?? 'undated'}${r.status ? `, ${r.status}` : ''})`;
+      lines.push(
+        `  line ${note.line}, ${note.sampleId} ${note.assayId}: ${reading(note.replaced)} -> ${reading(note.current)}${note.thisFileCurrent ? '' : ' [the earlier report stays current]'}: ${note.reason}`,
+      );
+    }
+    more(receipt.supersessionsNotListed);
+  }
+  if ((receipt.sampleIdCorrections ?? []).length > 0) {
+    lines.push('', 'sample IDs read as confirmed in corrections.yaml:');
+    for (const note of receipt.sampleIdCorrections!) lines.push(`  line ${note.line}: ${note.written} read as ${note.meant}`);
+  }
   if (receipt.unresolvedSampleIds.length > 0) {
     lines.push(
       '',

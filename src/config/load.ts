@@ -5,16 +5,36 @@ import type { z } from 'zod';
 import { canonicalPenKey, expandLayout, penContacts, pensByKey, type BarnLayout, type Pen } from '../domain/layout.js';
 import {
   assaysFileSchema,
+  correctionsFileSchema,
   labProfileSchema,
   programOverridesSchema,
   programSchema,
   sitesFileSchema,
 } from './schema.js';
 import { foldToken } from '../util/fold.js';
+import { wordKey } from '../util/words.js';
+import { looksLikePlannedId, parseSampleId } from '../plan/sampleId.js';
 import { dateFormatProblem } from './dateFormat.js';
 import { folderNameProblem, matchKey } from './names.js';
 import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } from './pattern.js';
-import type { AnalysisSettings, Assay, Barn, Config, DesignPrevalence, LabAssay, LabProfile, PerAssayValue, Program, Site } from './types.js';
+import type {
+  AnalysisSettings,
+  Assay,
+  Barn,
+  CallClass,
+  Config,
+  DesignPrevalence,
+  LabAssay,
+  LabProfile,
+  PerAssayValue,
+  Program,
+  ReportStatusKind,
+  SampleIdCorrection,
+  Site,
+} from './types.js';
+
+/** Confirmed sample-ID corrections, beside sites.yaml (optional). */
+export const CORRECTIONS_FILE = 'corrections.yaml';
 
 /** A configuration problem, naming the file and the key path (e.g. `sites[0].barns[1].layout.rows`). */
 export class ConfigError extends Error {
@@ -346,6 +366,7 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
     }
     assays.set(foldToken(labAssayName), Object.freeze(labAssay));
   }
+  const words = labWords(raw, file);
   return Object.freeze({
     id: raw.id,
     name: raw.name,
@@ -370,9 +391,110 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
     blankIsNotDetected: raw.notDetected.blankIsNotDetected,
     notDetectedCodes: raw.notDetected.numericCodes,
     cycleLimitIsNotDetected: raw.notDetected.cycleLimitIsNotDetected,
-    controlFailedTokens: new Set(raw.controlFailedTokens.map(foldToken)),
-    reissueTokens: new Set(raw.reissueTokens.map(foldToken)),
+    ...words,
     assays,
+  });
+}
+
+/** English call words, used for each class a lab profile does not list (common practice, no source). */
+export const DEFAULT_CALL_WORDS: Readonly<Record<CallClass, readonly string[]>> = {
+  positive: ['positive', 'pos', 'detected'],
+  suspect: ['suspect', 'inconclusive', 'equivocal', 'indeterminate'],
+  negative: ['negative', 'neg', 'not detected', 'none detected'],
+  invalid: ['invalid'],
+};
+
+/** English report-state words, used for each state a lab profile does not list (common practice, no source). */
+export const DEFAULT_STATUS_WORDS: Readonly<Record<ReportStatusKind, readonly string[]>> = {
+  preliminary: ['preliminary', 'pending', 'interim', 'partial'],
+  final: ['final'],
+  corrected: ['corrected', 'amended', 'revised', 'reissued'],
+};
+
+type RawLab = z.output<typeof labProfileSchema>;
+
+/**
+ * The lab's call, control and status words, checked so that no word can mean two things: the
+ * same words (as matched: case, accents and punctuation ignored) under two call classes, two
+ * report states, a call and a state, or a control failure and any call but invalid, are refused
+ * at the second, naming where each comes from.
+ */
+function labWords(raw: RawLab, file: string): Pick<LabProfile, 'controlFailedTokens' | 'callWords' | 'statusWords' | 'statusColumns'> {
+  const callWords = {} as Record<CallClass, readonly string[]>;
+  for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const) callWords[cls] = raw.callWords?.[cls] ?? DEFAULT_CALL_WORDS[cls];
+  const statusWords = {} as Record<ReportStatusKind, readonly string[]>;
+  for (const kind of ['preliminary', 'final', 'corrected'] as const) statusWords[kind] = raw.statusWords?.[kind] ?? DEFAULT_STATUS_WORDS[kind];
+  statusWords.corrected = [...new Set([...statusWords.corrected, ...raw.reissueTokens])];
+
+  /** What a word means, and where it was configured (or that it is an English default). */
+  type Meaning = { what: string; where: string };
+  const seen = new Map<string, Meaning>();
+  const claim = (word: string, what: string, where: string, compatible: (other: string) => boolean) => {
+    const key = wordKey(word);
+    if (key === '') throw new ConfigError(file, where, `${JSON.stringify(word)} has no letter or digit, so it can never be found in a cell`);
+    const earlier = seen.get(key);
+    if (earlier === undefined) {
+      seen.set(key, { what, where });
+    } else if (earlier.what !== what && !compatible(earlier.what)) {
+      throw new ConfigError(
+        file,
+        where,
+        `${JSON.stringify(word)} would mean ${what}, but the same word (case, accents and punctuation ignored) means ${earlier.what} at ${earlier.where}; give each word one meaning`,
+      );
+    }
+  };
+  const origin = (key: string, index: number, given: boolean, word: string) => (given ? `${key}[${index}]` : `${key} (English default ${JSON.stringify(word)})`);
+  raw.controlFailedTokens.forEach((word, index) => claim(word, 'a failed control', `controlFailedTokens[${index}]`, (other) => other === 'call invalid'));
+  for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const) {
+    const given = raw.callWords?.[cls] !== undefined;
+    callWords[cls].forEach((word, index) =>
+      claim(word, `call ${cls}`, origin(`callWords.${cls}`, index, given, word), (other) => cls === 'invalid' && other === 'a failed control'),
+    );
+  }
+  for (const kind of ['preliminary', 'final', 'corrected'] as const) {
+    const given = raw.statusWords?.[kind] !== undefined;
+    const listed = raw.statusWords?.[kind] ?? DEFAULT_STATUS_WORDS[kind];
+    statusWords[kind].forEach((word, index) => {
+      const where = index < listed.length ? origin(`statusWords.${kind}`, index, given, word) : `reissueTokens[${raw.reissueTokens.indexOf(word)}]`;
+      claim(word, `a ${kind} report`, where, () => false);
+    });
+  }
+  const statusColumns = raw.statusColumns ?? [raw.columns.reportStatus, raw.columns.call].filter((column): column is string => column !== undefined);
+  return {
+    controlFailedTokens: raw.controlFailedTokens.map((word) => word.trim()),
+    callWords: Object.freeze(callWords),
+    statusWords: Object.freeze(statusWords),
+    statusColumns,
+  };
+}
+
+/**
+ * Reads config/corrections.yaml when there is one: sample IDs a person confirmed as mistyped.
+ * A meant ID with the shape of a planned ID must carry its right check character (ISO/IEC 7064
+ * MOD 37-2), or the correction would only swap one refusal for another.
+ */
+function loadCorrections(file: string): SampleIdCorrection[] {
+  if (!fs.existsSync(file)) return [];
+  const raw = validate(correctionsFileSchema, readYaml(file) ?? {}, file);
+  const seen = new Map<string, number>();
+  return raw.sampleIds.map((entry, index): SampleIdCorrection => {
+    const at = (key: string) => formatPath(['sampleIds', index, key]);
+    const written = entry.written.replace(/\s+/g, '').toUpperCase();
+    let meant = entry.meant.replace(/\s+/g, '').toUpperCase();
+    if (written === '') throw new ConfigError(file, at('written'), 'is empty once spaces are removed');
+    if (meant === '') throw new ConfigError(file, at('meant'), 'is empty once spaces are removed');
+    if (looksLikePlannedId(meant)) {
+      const parsed = parseSampleId(meant);
+      if (!parsed.ok) throw new ConfigError(file, at('meant'), `${parsed.message}; write the planned ID as printed on the rope list`);
+      meant = parsed.id;
+    }
+    if (meant === written) throw new ConfigError(file, at('meant'), `is the same ID as written (${written}): nothing to correct`);
+    if (entry.line !== undefined && entry.file === undefined) throw new ConfigError(file, at('line'), 'a line needs the file it is in: add file');
+    const key = `${written}\u001f${entry.file ?? ''}\u001f${entry.line ?? ''}`;
+    const earlier = seen.get(key);
+    if (earlier !== undefined) throw new ConfigError(file, at('written'), `corrects the same ID in the same place as sampleIds[${earlier}]`);
+    seen.set(key, index);
+    return Object.freeze({ written, meant, file: entry.file, line: entry.line, note: entry.note });
   });
 }
 
@@ -420,5 +542,6 @@ export function loadConfig(dir: string): Config {
     assayById,
     labs,
     labById: new Map(labs.map((lab) => [lab.id, lab])),
+    corrections: loadCorrections(path.join(dir, CORRECTIONS_FILE)),
   });
 }

@@ -203,7 +203,7 @@ export const labProfileSchema = z
         collectedOn: z.string().min(1).optional(),
         reportedOn: z.string().min(1).optional(),
         internalControl: z.string().min(1).optional(),
-        /** A column that marks a corrected / reissued report. */
+        /** A column that says whether a report is preliminary, final or corrected. */
         reportStatus: z.string().min(1).optional(),
       })
       .strict(),
@@ -220,11 +220,71 @@ export const labProfileSchema = z
       })
       .strict()
       .default({ tokens: [], blankIsNotDetected: true, numericCodes: [], cycleLimitIsNotDetected: true }),
-    /** Values of the internal-control column (or of the lab's call) that make the result invalid. */
+    /**
+     * Words that mean the internal control failed, found as whole words (case and accents
+     * ignored) in the internal-control, call and status cells: "ungültig" finds "IK ungültig".
+     */
     controlFailedTokens: z.array(z.string()).default([]),
-    /** Values of the report-status column that mark a reissue superseding an earlier report. */
+    /** Words that mark a corrected report superseding an earlier one (added to statusWords.corrected). */
     reissueTokens: z.array(z.string()).default([]),
+    /**
+     * The lab's words for its own call, per class, found as whole words in the call cell (the
+     * longest phrase wins: "not detected" over "detected"). A class left out keeps the English
+     * words: positive, pos, detected; negative, neg, not detected, none detected; suspect, inconclusive,
+     * equivocal, indeterminate; invalid.
+     */
+    callWords: z
+      .object({
+        positive: z.array(z.string()).min(1).optional(),
+        suspect: z.array(z.string()).min(1).optional(),
+        negative: z.array(z.string()).min(1).optional(),
+        invalid: z.array(z.string()).min(1).optional(),
+      })
+      .strict()
+      .optional(),
+    /**
+     * The lab's words for the state of a report, found as whole words in the status columns. A
+     * state left out keeps the English words: preliminary, pending, interim, partial; final;
+     * corrected, amended, revised, reissued.
+     */
+    statusWords: z
+      .object({
+        preliminary: z.array(z.string()).min(1).optional(),
+        final: z.array(z.string()).min(1).optional(),
+        corrected: z.array(z.string()).min(1).optional(),
+      })
+      .strict()
+      .optional(),
+    /** Header names of the columns that carry status words (default: columns.reportStatus and columns.call). */
+    statusColumns: z.array(z.string().min(1)).min(1).optional(),
     /** The lab's assay names mapped to ropewatch assays, with this lab's validated cutoffs. */
     assays: z.record(z.string(), labAssaySchema),
+  })
+  .strict();
+
+/**
+ * Sample IDs a person confirmed as mistyped (config/corrections.yaml, optional), each with the ID
+ * it meant: ingest reads the row under the meant ID and records the ID as written.
+ */
+export const correctionsFileSchema = z
+  .object({
+    sampleIds: z
+      .array(
+        z
+          .object({
+            /** The sample ID as the file writes it (case and spaces ignored). */
+            written: z.string().min(1),
+            /** The ID it meant (a planned ID must carry its right check character). */
+            meant: z.string().min(1),
+            /** Only in files of this name (as received: the receipt's `file`). */
+            file: z.string().min(1).optional(),
+            /** Only on this line of that file (the receipt's line). */
+            line: z.number().int().min(1).optional(),
+            /** Who confirmed it and how: kept for the record. */
+            note: z.string().optional(),
+          })
+          .strict(),
+      )
+      .default([]),
   })
   .strict();

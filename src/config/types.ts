@@ -77,6 +77,30 @@ export interface Assay {
   source: string | undefined;
 }
 
+/** The classes a lab's own call can name (the same as ropewatch's result classes). */
+export type CallClass = 'positive' | 'suspect' | 'negative' | 'invalid';
+
+/**
+ * The state of a lab report: a preliminary report never replaces a final one; a corrected
+ * report replaces what it corrects.
+ */
+export type ReportStatusKind = 'preliminary' | 'final' | 'corrected';
+
+/**
+ * A sample ID that a person confirmed as mistyped (config/corrections.yaml), and the ID it meant.
+ * Applies to rows whose sample ID, normalised, is `written`; only in `file` when given, and only
+ * on `line` of it when given.
+ */
+export interface SampleIdCorrection {
+  /** Normalised (capitals, no spaces). */
+  written: string;
+  /** Canonical: a planned ID in its canonical spelling, any other ID normalised. */
+  meant: string;
+  file: string | undefined;
+  line: number | undefined;
+  note: string | undefined;
+}
+
 /** One lab's validated reading of one of its assays. */
 export interface LabAssay {
   labAssayName: string;
@@ -110,8 +134,17 @@ export interface LabProfile {
   blankIsNotDetected: boolean;
   notDetectedCodes: readonly number[];
   cycleLimitIsNotDetected: boolean;
-  controlFailedTokens: ReadonlySet<string>;
-  reissueTokens: ReadonlySet<string>;
+  /**
+   * Words that mean the internal (or extraction) control failed: found as whole words in the
+   * internal-control, call and status cells, the result is invalid, never negative.
+   */
+  controlFailedTokens: readonly string[];
+  /** The lab's words for its own call, per class (English words unless the profile gives its own). */
+  callWords: Readonly<Record<CallClass, readonly string[]>>;
+  /** The lab's words for the state of a report (reissueTokens count as corrected). */
+  statusWords: Readonly<Record<ReportStatusKind, readonly string[]>>;
+  /** Header names of the columns searched for status words (default: report status and call). */
+  statusColumns: readonly string[];
   /** Keyed by the lab's assay name, lower-cased and trimmed. */
   assays: ReadonlyMap<string, LabAssay>;
 }
@@ -126,4 +159,6 @@ export interface Config {
   assayById: ReadonlyMap<string, Assay>;
   labs: readonly LabProfile[];
   labById: ReadonlyMap<string, LabProfile>;
+  /** Confirmed sample-ID corrections (config/corrections.yaml; empty without it). */
+  corrections: readonly SampleIdCorrection[];
 }

@@ -9,10 +9,11 @@ import type { RowRejection } from './errors.js';
 import type { MappedBatch, RowList } from './mappedBatches.js';
 import type { ResultRow, RopeRow } from './rows.js';
 import type { ResultClass } from '../interpret/classify.js';
+import type { CallClass, ReportStatusKind } from '../config/types.js';
 
 const TEXT_COLUMNS = [
   'labId', 'sampleId', 'assayId', 'labAssay', 'ctRaw', 'labCall', 'accession', 'collectedOn', 'reportedOn', 'reportStatus', 'control', 'resultClass', 'reason', 'loadBand',
-  'ropeSiteId', 'ropeBarnId', 'ropePenId', 'ropeHungOn',
+  'statusKind', 'statusWord', 'labCallClass', 'sampleIdAsWritten', 'ropeSiteId', 'ropeBarnId', 'ropePenId', 'ropeHungOn',
 ] as const;
 type TextColumn = (typeof TEXT_COLUMNS)[number];
 
@@ -128,7 +129,11 @@ export class WireRows implements RowList<ResultRow> {
       suspectBelow: numbers[at + 3]!,
       cycleLimit: numbers[at + 4]!,
       markedReissue: (flags & FLAG_REISSUE) !== 0,
+      statusKind: textAt(texts, 'statusKind', i) as ReportStatusKind | null,
+      statusWord: textAt(texts, 'statusWord', i),
+      labCallClass: textAt(texts, 'labCallClass', i) as CallClass | null,
       callDiffers: (flags & FLAG_CALL_DIFFERS) !== 0,
+      sampleIdAsWritten: textAt(texts, 'sampleIdAsWritten', i),
       contentKey: numbers[at + 5]!,
       encodedRope: ropeSiteId === null ? undefined : { siteId: ropeSiteId, barnId: textAt(texts, 'ropeBarnId', i)!, penId: textAt(texts, 'ropePenId', i)!, hungOn: textAt(texts, 'ropeHungOn', i)! },
     };

@@ -58,6 +58,10 @@ export interface RowRejection {
   code: RejectionCode;
   value: string | undefined;
   message: string;
+  /** For a sample ID that fails its check character: the planned ID it most likely meant. */
+  suggestedId?: string;
+  /** For a sample ID that fails its check character: every planned ID one keying error away (when there are several). */
+  candidateIds?: readonly string[];
 }
 
 export function rowRejection(code: RejectionCode, line: number, field: string | undefined, value: string | undefined, detail?: string): RowRejection {

@@ -7,12 +7,25 @@ import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/types.js';
-import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type Store, type StoredFile } from '../store/store.js';
+import {
+  FileAlreadyStoredError,
+  RECEIPT_LIST_LIMIT,
+  type CallDisagreement,
+  type IdCorrectionNote,
+  type InvalidNote,
+  type PlannedRope,
+  type Store,
+  type StoredFile,
+  type SupersessionNote,
+} from '../store/store.js';
+import { CORRECTIONS_FILE } from '../config/load.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, type Sniffed } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
 import { FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
+import { correctionsForFile, likelyMeantIds, type MeantId } from './plannedIds.js';
+import { normaliseSampleId } from './rows.js';
 import { ParseWorker } from './workerBatches.js';
 
 const HEAD_BYTES = 64 * 1024;
@@ -47,6 +60,18 @@ export interface Receipt {
   reason: { code: RejectionCode; message: string; line: number | null; field: string | null } | null;
   /** Sites whose outputs this file changed. */
   sites: string[];
+  // The lists below are on every receipt that ingest writes (first RECEIPT_LIST_LIMIT of each, all counted).
+  /** Rows read as invalid (retest, never negative), each with the reason. */
+  invalidRows?: InvalidNote[];
+  invalidRowsNotListed?: number;
+  /** Rows whose lab call names another class than ropewatch reads from the value: both readings. */
+  callDisagreements?: CallDisagreement[];
+  callDisagreementsNotListed?: number;
+  /** Reports of this file that replaced earlier ones, or that earlier ones kept out: both readings and report dates. */
+  supersessions?: SupersessionNote[];
+  supersessionsNotListed?: number;
+  /** Rows read under the sample ID a person confirmed in config/corrections.yaml. */
+  sampleIdCorrections?: IdCorrectionNote[];
 }
 
 export interface IngestDeps {
@@ -141,7 +166,39 @@ export function emptyReceipt(file: string, sha256: string, receivedAt: string): 
     warnings: [],
     reason: null,
     sites: [],
+    invalidRows: [],
+    invalidRowsNotListed: 0,
+    callDisagreements: [],
+    callDisagreementsNotListed: 0,
+    supersessions: [],
+    supersessionsNotListed: 0,
+    sampleIdCorrections: [],
   };
+}
+
+/** Appends to a receipt list up to RECEIPT_LIST_LIMIT; returns how many did not fit. */
+function listInto<T>(list: T[], items: readonly T[]): number {
+  const room = Math.max(0, RECEIPT_LIST_LIMIT - list.length);
+  for (let i = 0; i < items.length && i < room; i++) list.push(items[i]!);
+  return Math.max(0, items.length - room);
+}
+
+/**
+ * The planned ID a sample ID that fails its check character most likely meant: among the planned
+ * IDs one keying error away (plannedIds.ts), those of the round and site the ID as written names,
+ * then those whose rope has no result yet. Undefined when no planned ID is near.
+ */
+function meantFor(written: string, planned: ReadonlyMap<string, PlannedRope>, awaiting: (rope: PlannedRope) => boolean): { best: MeantId | undefined; all: MeantId[] } {
+  const all = likelyMeantIds(written, (id) => planned.has(id));
+  if (all.length <= 1) return { best: all[0], all };
+  const roundAndSite = /^([A-Z0-9]{1,4}[A-Z][0-9]{2,4})-/.exec(written)?.[1];
+  let narrowed = roundAndSite === undefined ? all : all.filter((candidate) => candidate.id.startsWith(`${roundAndSite}-`));
+  if (narrowed.length === 0) narrowed = all;
+  if (narrowed.length > 1) {
+    const open = narrowed.filter((candidate) => awaiting(planned.get(candidate.id)!));
+    if (open.length > 0) narrowed = open;
+  }
+  return { best: narrowed.length === 1 ? narrowed[0] : undefined, all };
 }
 
 /**
@@ -199,7 +256,23 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   // Bytes refused before are read again with the configuration of today: the refusal may have
   // come from a mistake in a lab profile that has since been put right.
   const known = deps.store.findFileByHash(sha256);
-  if (known?.status === 'accepted') return alreadyStored(known);
+  const corrections = correctionsForFile(deps.config.corrections, known ? [name, known.name] : [name]);
+  let reopen: number | undefined;
+  if (known?.status === 'accepted') {
+    // Stored before: read again only for refused rows a confirmed correction now covers.
+    const covered =
+      corrections.length === 0
+        ? []
+        : deps.store.openRefusals(known.id).filter((refusal) => {
+            const id = refusal.value === null ? '' : normaliseSampleId(refusal.value);
+            return corrections.some((correction) => correction.written === id && (correction.line === undefined || correction.line === refusal.line));
+          });
+    if (covered.length === 0) return alreadyStored(known);
+    reopen = known.id;
+    receipt.warnings.push(
+      `the same bytes were stored as ${known.name} on ${known.receivedAt}; read again because ${CORRECTIONS_FILE} now gives the sample ID meant on line ${covered.map((refusal) => refusal.line).join(', ')}; rows stored before are not stored twice`,
+    );
+  }
   if (known?.status === 'rejected') {
     receipt.warnings.push(`the same bytes were refused before (as ${known.name} on ${known.receivedAt}: ${known.reasonCode ?? 'no code'}); read again with the current configuration`);
   }
@@ -263,15 +336,58 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       receivedAt,
       encodingNote: sniffed.note,
       byteLength: size,
-    });
+    }, reopen === undefined ? {} : { reopen });
   } catch (error) {
     // Another process stored the same bytes while this one waited for the write lock.
     if (error instanceof FileAlreadyStoredError) return alreadyStored(error.known);
     throw error;
   }
   try {
-    const addRejections = (list: readonly RowRejection[]) => {
-      if (list.length === 0) return;
+    let planned: Map<string, PlannedRope> | undefined;
+    const awaitingBySite = new Map<string, Set<string>>();
+    const awaiting = (rope: PlannedRope): boolean => {
+      let ids = awaitingBySite.get(rope.siteId);
+      if (ids === undefined) awaitingBySite.set(rope.siteId, (ids = new Set(deps.store.plannedWithoutResults(rope.siteId).map((open) => open.sampleId))));
+      return ids.has(rope.sampleId);
+    };
+    /** Names the planned ID a mistyped one most likely meant (refusals are few: looked up on demand). */
+    const withSuggestion = (rejection: RowRejection): RowRejection => {
+      if (rejection.code !== 'bad-check-character' || rejection.value === undefined) return rejection;
+      planned ??= new Map(deps.store.plannedRopes().map((rope) => [rope.sampleId, rope]));
+      const written = normaliseSampleId(rejection.value);
+      const { best, all } = meantFor(written, planned, awaiting);
+      if (best !== undefined) {
+        const rope = planned.get(best.id)!;
+        const how = best.kind === 'substitution' ? 'one character differs' : 'two neighbouring characters swapped';
+        return {
+          ...rejection,
+          suggestedId: best.id,
+          ...(all.length > 1 ? { candidateIds: all.map((candidate) => candidate.id) } : {}),
+          message:
+            `${rejection.message}; most likely ${best.id} (planned for ${rope.siteId} barn ${rope.barnId} pen ${rope.penId}, due ${rope.dueOn}; ${how}). ` +
+            `If so, confirm it in ${CORRECTIONS_FILE} (written: ${written}, meant: ${best.id}, file: ${name}, line: ${rejection.line}) and ingest this file again`,
+        };
+      }
+      if (all.length > 1) {
+        return {
+          ...rejection,
+          candidateIds: all.map((candidate) => candidate.id),
+          message: `${rejection.message}; planned IDs one keying error away: ${all.map((candidate) => candidate.id).join(', ')} (ask the lab or the barn which one the tube carries)`,
+        };
+      }
+      return rejection;
+    };
+    // Mistyped IDs wait for the whole file: the planned ID meant is the one whose rope still
+    // has no result once every other row is stored.
+    const mistyped: RowRejection[] = [];
+    const addRejections = (given: readonly RowRejection[], deferMistyped = true) => {
+      if (given.length === 0) return;
+      let list = given;
+      if (deferMistyped && given.some((rejection) => rejection.code === 'bad-check-character')) {
+        for (const rejection of given) if (rejection.code === 'bad-check-character') mistyped.push(rejection);
+        list = given.filter((rejection) => rejection.code !== 'bad-check-character');
+        if (list.length === 0) return;
+      }
       deps.store.insertRejections(fileId, list);
       receipt.rows.rejected += list.length;
       for (const rejection of list) {
@@ -285,13 +401,24 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       receipt.rows.duplicate += counts.duplicates;
       receipt.rows.superseded += counts.superseded;
       receipt.warnings.push(...counts.warnings);
+      receipt.invalidRowsNotListed! += listInto(receipt.invalidRows!, counts.invalid);
+      receipt.callDisagreementsNotListed! += listInto(receipt.callDisagreements!, counts.callDisagreements);
+      receipt.supersessionsNotListed! += listInto(receipt.supersessions!, counts.supersessions);
+      listInto(receipt.sampleIdCorrections!, counts.idCorrections);
+      for (const rope of batch.ropes) {
+        if (rope.sampleIdAsWritten !== null) listInto(receipt.sampleIdCorrections!, [{ line: rope.line, written: rope.sampleIdAsWritten, meant: rope.sampleId }]);
+      }
       addRejections(batch.rejections);
       addRejections(counts.rejections);
     };
 
-    const input: MappingInput = { file, expected: { bytes: size, sha256 }, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById };
+    const input: MappingInput = { file, expected: { bytes: size, sha256 }, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById, corrections };
     const batches = worker ? worker.batches(input) : mappedBatches(input);
     for await (const batch of batches) store(batch);
+    if (mistyped.length > 0) {
+      addRejections(mistyped.map(withSuggestion), false);
+      receipt.rejectedRows.sort((a, b) => a.line - b.line);
+    }
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
       return reject(new IngestError('empty-file', name, kind.headerLine, undefined, undefined, 'the file has a header but no data rows'), receipt.lab);

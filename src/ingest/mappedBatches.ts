@@ -5,7 +5,7 @@
  */
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
-import type { Assay, Site } from '../config/types.js';
+import type { Assay, SampleIdCorrection, Site } from '../config/types.js';
 import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
 import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
@@ -58,6 +58,8 @@ export interface MappingInput {
   kind: FileKind;
   sites: readonly Site[];
   assayById: ReadonlyMap<string, Assay>;
+  /** Confirmed sample-ID corrections that apply to this file (config/corrections.yaml). */
+  corrections?: readonly SampleIdCorrection[];
 }
 
 /**

@@ -10,10 +10,11 @@ import { parse as parseDate } from 'date-fns/parse';
 import { foldToken } from '../util/fold.js';
 import { canonicalPenKey } from '../domain/layout.js';
 import { compilePatternSet, type PatternSet } from '../config/pattern.js';
-import type { Assay, LabAssay, LabProfile, Site } from '../config/types.js';
+import type { Assay, CallClass, LabAssay, LabProfile, ReportStatusKind, Site } from '../config/types.js';
 import { classify, type Interpretation, type ResultClass } from '../interpret/classify.js';
 import { readCt, type CtReading } from '../interpret/ct.js';
 import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
+import { labWords, type LabWords } from './labWords.js';
 
 /** How a sample ID is compared: capitals, no spaces. */
 export function normaliseSampleId(raw: string): string {
@@ -24,10 +25,14 @@ export { canonicalPenKey };
 
 /**
  * Checks a sample ID against the planned-ID grammar: `planned` with its canonical spelling,
- * `bad-check` when it has the planned shape for a configured site but a wrong check character
- * (mistyped), `other` for any other ID (a lab's or a farm's own numbering).
+ * `corrected` when a person confirmed (config/corrections.yaml) that the ID as written on this
+ * line meant another, `bad-check` when it has the planned shape for a configured site but a
+ * wrong check character (mistyped), `other` for any other ID (a lab's or a farm's own numbering).
  */
-export type PlannedIdCheck = (sampleId: string) => { kind: 'planned'; canonical: string } | { kind: 'bad-check' } | { kind: 'other' };
+export type PlannedIdCheck = (
+  sampleId: string,
+  line: number,
+) => { kind: 'planned'; canonical: string } | { kind: 'corrected'; canonical: string; written: string } | { kind: 'bad-check' } | { kind: 'other' };
 
 const ISO_DATE = 'yyyy-MM-dd';
 const REFERENCE_DATE = new Date(2000, 0, 1);
@@ -96,10 +101,18 @@ export interface ResultRow {
   positiveBelow: number;
   suspectBelow: number;
   cycleLimit: number;
-  /** The lab marked this row as a corrected or reissued report. */
+  /** The lab marked this row as a corrected or reissued report (statusKind is corrected). */
   markedReissue: boolean;
+  /** The state of the report, from the lab's status words in its status columns; null when none is found. */
+  statusKind: ReportStatusKind | null;
+  /** The status word found (as configured), for the receipt. */
+  statusWord: string | null;
+  /** The class the lab's own call names (its call words), null when the call names none. */
+  labCallClass: CallClass | null;
   /** The lab's own call disagrees with the class from the cutoffs (kept for review). */
   callDiffers: boolean;
+  /** The sample ID as the file wrote it, when a confirmed correction (config/corrections.yaml) replaced it. */
+  sampleIdAsWritten: string | null;
   /** Identifies what the lab reported for this sample, assay and lab (see contentKey). */
   contentKey: number;
   /** Location carried by the sample ID itself (site sample pattern). */
@@ -134,6 +147,11 @@ interface CtMeaning {
  */
 interface FileMemo {
   positions: ColumnPositions;
+  /** Positions of the lab's status columns that this file has. */
+  statusPositions: readonly number[];
+  words: LabWords;
+  /** Scratch for one row's words, reused row after row. */
+  rowWords: RowWords;
   ctMeanings: Map<LabAssay, Map<string, CtMeaning>>;
   ctMeaningCount: number;
   /** The last sample ID placed by pattern: a sample's assays come on neighbouring rows. */
@@ -146,18 +164,20 @@ function fileMemo(context: ResultContext): FileMemo {
   let memo = memoByContext.get(context);
   if (!memo) {
     const entries = Object.entries(context.lab.columns).map(([name, column]) => [name, column === undefined ? undefined : context.columnIndex.get(foldToken(column))]);
-    memo = { positions: Object.fromEntries(entries) as Record<ColumnName, number | undefined>, ctMeanings: new Map(), ctMeaningCount: 0, lastLocated: undefined };
+    const statusPositions = [...new Set(context.lab.statusColumns.map((column) => context.columnIndex.get(foldToken(column))).filter((at): at is number => at !== undefined))];
+    memo = {
+      positions: Object.fromEntries(entries) as Record<ColumnName, number | undefined>,
+      statusPositions,
+      words: labWords(context.lab),
+      rowWords: { controlCell: null, controlFailed: undefined, status: undefined, statusWord: undefined },
+      ctMeanings: new Map(),
+      ctMeaningCount: 0,
+      lastLocated: undefined,
+    };
     memoByContext.set(context, memo);
   }
   return memo;
 }
-
-const LAB_CALL_WORDS: Readonly<Record<string, ResultClass>> = {
-  positive: 'positive', pos: 'positive', detected: 'positive',
-  negative: 'negative', neg: 'negative', 'not detected': 'negative',
-  suspect: 'suspect', inconclusive: 'suspect', equivocal: 'suspect', indeterminate: 'suspect',
-  invalid: 'invalid',
-};
 
 /** The sites with a sample pattern, and one automaton that tells which of their patterns match an ID. */
 interface PatternSites {
@@ -273,10 +293,34 @@ function ctMeaning(memo: FileMemo, ctRaw: string, lab: LabProfile, labAssay: Lab
   return meaning;
 }
 
-/** The value of `cell` (internal control or lab call) when it is one of the lab's control-failure words. */
-function controlFailureWord(lab: LabProfile, ...cells: (string | null)[]): string | undefined {
-  for (const value of cells) if (value !== null && lab.controlFailedTokens.has(foldToken(value))) return value;
-  return undefined;
+/**
+ * The lab's words across the row's internal-control, call and status cells: a control failure
+ * in any of them, the call from the call cell, the report state from the status cells (corrected
+ * over preliminary over final). One per file (FileMemo), filled in place row after row.
+ */
+interface RowWords {
+  controlCell: string | null;
+  controlFailed: string | undefined;
+  status: ReportStatusKind | undefined;
+  statusWord: string | undefined;
+}
+
+const STATUS_RANK: Readonly<Record<ReportStatusKind, number>> = { final: 1, preliminary: 2, corrected: 3 };
+
+function readStatusCells(cells: readonly string[], memo: FileMemo, into: RowWords): void {
+  for (const position of memo.statusPositions) {
+    const cell = (cells[position] ?? '').trim();
+    if (cell === '') continue;
+    const read = memo.words.read(cell);
+    if (read.controlFailed !== undefined && into.controlFailed === undefined) {
+      into.controlFailed = read.controlFailed;
+      into.controlCell = cell;
+    }
+    if (read.status !== undefined && (into.status === undefined || STATUS_RANK[read.status] > STATUS_RANK[into.status])) {
+      into.status = read.status;
+      into.statusWord = read.statusWord;
+    }
+  }
 }
 
 /**
@@ -299,11 +343,11 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const rawSample = cellAt(cells, at.sampleId) ?? '';
   if (rawSample === '') return refuse('missing-value', line, columns.sampleId, rawSample, 'the sample ID is empty');
   const normalised = normaliseSampleId(rawSample);
-  const checked = context.plannedIdCheck(normalised);
+  const checked = context.plannedIdCheck(normalised, line);
   if (checked.kind === 'bad-check') {
     return refuse('bad-check-character', line, columns.sampleId, rawSample, `sample ID ${rawSample} fails its check character: probably mistyped on the tube or at the lab`);
   }
-  const sampleId = checked.kind === 'planned' ? checked.canonical : normalised;
+  const sampleId = checked.kind === 'planned' || checked.kind === 'corrected' ? checked.canonical : normalised;
   const labAssayName = cellAt(cells, at.assay) ?? '';
   if (labAssayName === '') return refuse('missing-value', line, columns.assay, labAssayName, 'the assay is empty');
   const labAssay = lab.assays.get(foldToken(labAssayName));
@@ -328,11 +372,44 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
 
   const labCall = cellAt(cells, at.call) || null;
   const control = cellAt(cells, at.internalControl) || null;
-  const controlFailed = controlFailureWord(lab, control, labCall);
-  const interpretation = controlFailed === undefined ? meaning.interpretation : classify(reading, labAssay, assay, controlFailed);
+  const words = memo.words;
+  const callRead = labCall === null ? undefined : words.read(labCall);
+  const controlRead = control === null ? undefined : words.read(control);
+  const rowWords = memo.rowWords;
+  rowWords.controlCell = null;
+  rowWords.controlFailed = undefined;
+  rowWords.status = undefined;
+  rowWords.statusWord = undefined;
+  if (controlRead?.controlFailed !== undefined) {
+    rowWords.controlFailed = controlRead.controlFailed;
+    rowWords.controlCell = control;
+  } else if (callRead?.controlFailed !== undefined) {
+    rowWords.controlFailed = callRead.controlFailed;
+    rowWords.controlCell = labCall;
+  }
+  readStatusCells(cells, memo, rowWords);
+  const labCallClass = callRead?.call;
+  let interpretation = meaning.interpretation;
+  if (rowWords.controlFailed !== undefined) {
+    // The control failed: invalid (retest), never negative, whatever the Ct cell says.
+    interpretation = classify(reading, labAssay, assay, rowWords.controlCell === rowWords.controlFailed ? rowWords.controlFailed : `"${rowWords.controlFailed}" in "${rowWords.controlCell}"`);
+  } else if (labCallClass === 'invalid') {
+    interpretation = { resultClass: 'invalid', reason: `the lab called it invalid ("${labCall}"): retest, not a result`, loadBand: undefined, load: 0 };
+  } else if (reading.kind === 'not-detected' && ctRaw === '' && at.call !== undefined && labCallClass !== 'negative') {
+    // A blank Ct is "not detected" for this lab only when its own call says negative: a blank
+    // beside a call that is not a negative word (a pending row, a call ropewatch cannot read)
+    // is no evidence of absence.
+    interpretation = {
+      resultClass: 'invalid',
+      reason:
+        labCall === null
+          ? 'no Ct and no call from the lab: held as invalid, not read as not detected (ask the lab or retest)'
+          : `no Ct, and the lab's call "${labCall}" is not one of its negative words: held as invalid, not read as not detected (ask the lab or retest)`,
+      loadBand: undefined,
+      load: 0,
+    };
+  }
   const reportStatus = cellAt(cells, at.reportStatus) || null;
-  const markedReissue = reportStatus !== null && lab.reissueTokens.has(foldToken(reportStatus));
-  const labCallClass = labCall === null ? undefined : LAB_CALL_WORDS[foldToken(labCall)];
   const callDiffers = labCallClass !== undefined && labCallClass !== interpretation.resultClass;
   const accession = cellAt(cells, at.accession) || null;
 
@@ -375,8 +452,12 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       positiveBelow: labAssay.positiveBelow,
       suspectBelow: labAssay.suspectBelow,
       cycleLimit: labAssay.cycleLimit,
-      markedReissue,
+      markedReissue: rowWords.status === 'corrected',
+      statusKind: rowWords.status ?? null,
+      statusWord: rowWords.statusWord ?? null,
+      labCallClass: labCallClass ?? null,
       callDiffers,
+      sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
       contentKey: contentKey([foldToken(labAssayName), ctRaw, labCall ?? '', accession ?? '', reportedOn ?? '', reportStatus ?? '', control ?? '']),
       encodedRope: located,
     },
@@ -387,6 +468,8 @@ export interface RopeRow extends RopeLocation {
   line: number;
   sampleId: string;
   note: string | null;
+  /** The sample ID as the sheet wrote it, when a confirmed correction (config/corrections.yaml) replaced it. */
+  sampleIdAsWritten: string | null;
   /** A warning that did not stop the row (e.g. a rope in a pen the layout lists as empty). */
   warning: string | undefined;
 }
@@ -413,11 +496,11 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
     ({ ok: false, rejection: rowRejection(code, line, field, value, detail) }) as const;
   const rawSample = get('sample_id');
   if (rawSample === '') return reject('missing-value', 'sample_id', rawSample, 'the sample ID is empty');
-  const checked = context.plannedIdCheck(normaliseSampleId(rawSample));
+  const checked = context.plannedIdCheck(normaliseSampleId(rawSample), line);
   if (checked.kind === 'bad-check') {
     return reject('bad-check-character', 'sample_id', rawSample, `sample ID ${rawSample} fails its check character: probably mistyped`);
   }
-  const sampleId = checked.kind === 'planned' ? checked.canonical : normaliseSampleId(rawSample);
+  const sampleId = checked.kind === 'planned' || checked.kind === 'corrected' ? checked.canonical : normaliseSampleId(rawSample);
   const siteText = get('site');
   const site = findSite(context.sites, siteText);
   if (!site) return reject(siteText === '' ? 'missing-value' : 'unknown-site', 'site', siteText, siteText === '' ? 'the site is empty' : `no site "${siteText}" in sites.yaml`);
@@ -442,6 +525,7 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
       penId: pen.id,
       hungOn,
       note: notes === '' ? null : notes,
+      sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
       warning: pen.status === 'in-use' ? undefined : `pen ${pen.id} is listed as ${pen.status} in the layout; the rope is kept`,
     },
   };

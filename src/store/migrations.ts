@@ -226,4 +226,41 @@ export const MIGRATIONS: readonly Migration[] = [
   );
   `,
   },
+  {
+    sql: `
+  -- 4: each result keeps what the lab said of it: the state of the report (preliminary, final,
+  -- corrected: a preliminary report never replaces a final one), the status word found, the
+  -- class the lab's own call names, and the sample ID as written when a person confirmed a
+  -- correction (config/corrections.yaml). Columns added, nothing rebuilt: rows stored before
+  -- read NULL (no state found, no call class).
+  ALTER TABLE results ADD COLUMN status_kind TEXT CHECK (status_kind IN ('preliminary', 'final', 'corrected'));
+  ALTER TABLE results ADD COLUMN status_word TEXT;
+  ALTER TABLE results ADD COLUMN lab_call_class TEXT CHECK (lab_call_class IN ('positive', 'suspect', 'negative', 'invalid'));
+  ALTER TABLE results ADD COLUMN sample_id_as_written TEXT;
+
+  -- Why one report replaced another, as a code beside the reason text: correction,
+  -- correction-kept, final-over-preliminary, preliminary-after-final, later-report,
+  -- earlier-report-kept, same-date-later-file (NULL for links stored before).
+  ALTER TABLE supersessions ADD COLUMN kind TEXT;
+
+  -- A refused sample ID that fails its check character: the planned ID it most likely meant
+  -- (one substitution or one swap of neighbours away), or the candidates when there are several.
+  ALTER TABLE rejected_rows ADD COLUMN suggested_id TEXT;
+  ALTER TABLE rejected_rows ADD COLUMN candidate_ids TEXT;
+
+  -- Every supersession with both readings side by side: old_* is the report no longer current,
+  -- new_* the one current in its place (for a preliminary report that arrived after a final
+  -- one, the preliminary is old_* and the final new_*).
+  CREATE VIEW supersession_readings AS
+    SELECT s.old_result_id, s.new_result_id, s.kind, s.reason, sm.sample_id, o.assay_id, o.lab_id,
+           o.class AS old_class, o.ct AS old_ct, o.ct_raw AS old_ct_raw, o.lab_call AS old_lab_call, o.reported_on AS old_reported_on,
+           o.report_status AS old_report_status, o.status_kind AS old_status_kind, o.file_id AS old_file_id, o.line AS old_line,
+           n.class AS new_class, n.ct AS new_ct, n.ct_raw AS new_ct_raw, n.lab_call AS new_lab_call, n.reported_on AS new_reported_on,
+           n.report_status AS new_report_status, n.status_kind AS new_status_kind, n.status_word AS new_status_word, n.file_id AS new_file_id, n.line AS new_line
+    FROM supersessions s
+    JOIN results o ON o.id = s.old_result_id
+    JOIN results n ON n.id = s.new_result_id
+    JOIN samples sm ON sm.id = o.sample;
+  `,
+  },
 ];

@@ -12,7 +12,10 @@ import path from 'node:path';
 import type { RowRejection } from '../ingest/errors.js';
 import type { RowList } from '../ingest/mappedBatches.js';
 import type { ResultRow, RopeLocation, RopeRow } from '../ingest/rows.js';
+import type { CallClass, ReportStatusKind } from '../config/types.js';
+import type { ResultClass } from '../interpret/classify.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
+import { decideSupersession, type SupersessionKind } from './supersede.js';
 
 export interface StoredFile {
   id: number;
@@ -74,12 +77,72 @@ export interface Supersession {
   reason: string;
 }
 
+/** One report as a receipt names it. */
+export interface ReportReading {
+  resultClass: ResultClass;
+  ctRaw: string;
+  labCall: string | null;
+  reportedOn: string | null;
+  status: ReportStatusKind | null;
+}
+
+/** One report that replaced another, with both readings (for the receipt). */
+export interface SupersessionNote {
+  /** The line of this file whose row took part. */
+  line: number;
+  sampleId: string;
+  assayId: string;
+  labId: string;
+  kind: SupersessionKind;
+  /** Whether this file's row is the one now current (false: a report stored before stays current). */
+  thisFileCurrent: boolean;
+  /** The report no longer current. */
+  replaced: ReportReading;
+  /** The report current in its place. */
+  current: ReportReading;
+  reason: string;
+}
+
+/** A row this file's batch read as invalid, with the reason (for the receipt). */
+export interface InvalidNote {
+  line: number;
+  sampleId: string;
+  assayId: string;
+  reason: string;
+}
+
+/** A row whose lab call names another class than its value gives (for the receipt). */
+export interface CallDisagreement {
+  line: number;
+  sampleId: string;
+  assayId: string;
+  labCall: string;
+  labCallClass: CallClass;
+  resultClass: ResultClass;
+  ctRaw: string;
+}
+
+/** A row read under another sample ID because a person confirmed the correction (config/corrections.yaml). */
+export interface IdCorrectionNote {
+  line: number;
+  written: string;
+  meant: string;
+}
+
 export interface InsertCounts {
   inserted: number;
   duplicates: number;
   superseded: number;
   rejections: RowRejection[];
   warnings: string[];
+  supersessions: SupersessionNote[];
+  invalid: InvalidNote[];
+  callDisagreements: CallDisagreement[];
+  idCorrections: IdCorrectionNote[];
+}
+
+function emptyCounts(): InsertCounts {
+  return { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [], supersessions: [], invalid: [], callDisagreements: [], idCorrections: [] };
 }
 
 /** The same bytes were stored (by another process) while this one waited for the write lock. */
@@ -187,6 +250,8 @@ function checkStoreFile(file: string, create: boolean): void {
 export class Store {
   readonly db: Database.Database;
   private inFile = false;
+  /** The open file was stored before and is read again (beginFile's `reopen`). */
+  private reopened = false;
   private effects: FileEffects = { sites: new Set(), resolved: [] };
   /**
    * Samples the open file has met (sample ID -> state), bounded: a sample's rows usually sit
@@ -256,16 +321,18 @@ export class Store {
       // Positional parameters: binding 22 named values per row costs more than the insert itself.
       insertResult: db.prepare(
         `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
-           report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+           report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key,
+           status_kind, status_word, lab_call_class, sample_id_as_written)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT (sample, assay_id, lab_id, content_key) DO NOTHING`,
       ),
       currentBefore: db.prepare(
-        `SELECT r.id, r.reported_on AS reportedOn FROM results r
+        `SELECT r.id, r.reported_on AS reportedOn, r.status_kind AS status, r.status_word AS statusWord, r.class AS resultClass, r.ct_raw AS ctRaw, r.lab_call AS labCall
+         FROM results r
          WHERE r.sample = ? AND r.assay_id = ? AND r.lab_id = ? AND r.id < ?
            AND NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)`,
       ),
-      insertSupersession: db.prepare('INSERT INTO supersessions (old_result_id, new_result_id, reason) VALUES (?, ?, ?)'),
+      insertSupersession: db.prepare('INSERT INTO supersessions (old_result_id, new_result_id, reason, kind) VALUES (?, ?, ?, ?)'),
       ropeBySample: db.prepare('SELECT site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn FROM ropes WHERE sample = ?'),
       ropeInPenOnDay: db.prepare(
         `SELECT s.sample_id AS sampleId FROM ropes h JOIN samples s ON s.id = h.sample
@@ -276,7 +343,8 @@ export class Store {
          VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT DO NOTHING`,
       ),
-      insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message) VALUES (?, ?, ?, ?, ?, ?)'),
+      rejectionExists: db.prepare('SELECT 1 FROM rejected_rows WHERE file_id = ? AND line = ? AND code = ?').pluck(),
+      insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message, suggested_id, candidate_ids) VALUES (?, ?, ?, ?, ?, ?, ?, ?)'),
       upsertPlanned: db.prepare(
         `INSERT INTO planned_ropes (sample_id, site_id, barn_id, pen_id, side, reason, due_on, planned_at, after_round)
          VALUES (@sampleId, @siteId, @barnId, @penId, @side, @reason, @dueOn, @plannedAt, @afterRound)
@@ -333,7 +401,10 @@ export class Store {
    *   another process committed them while this one waited on the lock (the transaction is
    *   rolled back; the caller reports a duplicate).
    */
-  beginFile(file: { name: string; sha256: string; kind: 'results' | 'ropes'; labId: string | null; receivedAt: string; encodingNote: string; byteLength: number }): number {
+  beginFile(
+    file: { name: string; sha256: string; kind: 'results' | 'ropes'; labId: string | null; receivedAt: string; encodingNote: string; byteLength: number },
+    options: { reopen?: number } = {},
+  ): number {
     if (this.inFile) throw new Error('a file transaction is already open');
     // Inside a file's transaction every parent row (file, sample, reason) is written before the
     // rows that name it, so SQLite's per-row foreign-key look-ups (a fifth of the cost of
@@ -353,6 +424,14 @@ export class Store {
     // The caller's hash look-up ran before the lock; a second process ingesting the same file
     // at the same time waits here and must see the first one's commit, not hit UNIQUE(sha256).
     const known = this.findFileByHash(file.sha256);
+    this.reopened = false;
+    if (known?.status === 'accepted' && known.id === options.reopen) {
+      // Read again for the refused rows a confirmed correction now covers: the file keeps its
+      // record; rows stored before come back as duplicates, refusals stored before are not
+      // stored twice.
+      this.reopened = true;
+      return known.id;
+    }
     if (known?.status === 'accepted') {
       this.rollback();
       throw new FileAlreadyStoredError(known);
@@ -442,15 +521,23 @@ export class Store {
    */
   insertResults(fileId: number, rows: RowList<ResultRow>, sampleIdField = 'sample ID'): InsertCounts {
     this.requireFile();
-    const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
+    const counts = emptyCounts();
     for (let index = 0; index < rows.length; index++) {
       const row = rows.at(index)!;
       const sample = this.sampleInFile(row.sampleId);
       const rope = row.encodedRope;
       if (rope !== undefined && !this.placeEncodedRope(fileId, sample, row, rope, sampleIdField, counts)) continue;
+      // What the receipt names row by row: the few rows read as invalid, called otherwise by the
+      // lab, or read under a corrected sample ID (stored now or before).
+      if (row.resultClass === 'invalid') counts.invalid.push({ line: row.line, sampleId: row.sampleId, assayId: row.assayId, reason: row.reason });
+      if (row.callDiffers && row.labCall !== null && row.labCallClass !== null) {
+        counts.callDisagreements.push({ line: row.line, sampleId: row.sampleId, assayId: row.assayId, labCall: row.labCall, labCallClass: row.labCallClass, resultClass: row.resultClass, ctRaw: row.ctRaw });
+      }
+      if (row.sampleIdAsWritten !== null) counts.idCorrections.push({ line: row.line, written: row.sampleIdAsWritten, meant: row.sampleId });
       const info = this.statements.insertResult.run(
         fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
         row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.contentKey,
+        row.statusKind, row.statusWord, row.labCallClass, row.sampleIdAsWritten,
       );
       if (info.changes === 0) {
         counts.duplicates++;
@@ -492,7 +579,9 @@ export class Store {
       return true;
     }
     const before = counts.rejections.length;
-    const ropeRow: RopeRow = { siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, warning: undefined };
+    const ropeRow: RopeRow = {
+      siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, sampleIdAsWritten: null, warning: undefined,
+    };
     this.insertRopeRow(fileId, sample, ropeRow, 'sample-pattern', counts);
     if (counts.rejections.length === before) return true;
     // The refusal names the file's sample ID column: that is the cell that carries the location.
@@ -502,23 +591,38 @@ export class Store {
     return false;
   }
 
-  /** Links a new row to the current rows of the same sample, assay and lab stored before it. */
+  /**
+   * Links a new row to the current rows of the same sample, assay and lab stored before it:
+   * which stays current is decided by the reports' states and dates (supersede.ts): a
+   * correction replaces, a preliminary report never replaces a final one, otherwise the later
+   * report date wins. Every link is named in the receipt with both readings.
+   */
   private linkSupersessions(newId: number, sampleKey: number, row: ResultRow, counts: InsertCounts): void {
-    const earlier = this.statements.currentBefore.all(sampleKey, row.assayId, row.labId, newId) as { id: number; reportedOn: string | null }[];
+    type Earlier = { id: number; reportedOn: string | null; status: ReportStatusKind | null; statusWord: string | null; resultClass: ResultClass; ctRaw: string; labCall: string | null };
+    const earlier = this.statements.currentBefore.all(sampleKey, row.assayId, row.labId, newId) as Earlier[];
+    const next = { reportedOn: row.reportedOn, status: row.statusKind, statusWord: row.statusWord ?? row.reportStatus };
+    const nextReading: ReportReading = { resultClass: row.resultClass, ctRaw: row.ctRaw, labCall: row.labCall, reportedOn: row.reportedOn, status: row.statusKind };
     for (const old of earlier) {
-      // The newest report is current: a later report date wins; on the same date the later file does.
-      const oldIsNewer = old.reportedOn !== null && row.reportedOn !== null && old.reportedOn > row.reportedOn;
-      const reason = row.markedReissue
-        ? `reissued by the lab (report status "${row.reportStatus}")`
-        : old.reportedOn !== row.reportedOn && !oldIsNewer
-          ? `later report (${row.reportedOn ?? 'undated'} after ${old.reportedOn ?? 'undated'})`
-          : 'a later file reports this sample and assay again';
+      const decision = decideSupersession(old, next);
+      const oldReading: ReportReading = { resultClass: old.resultClass, ctRaw: old.ctRaw, labCall: old.labCall, reportedOn: old.reportedOn, status: old.status };
       counts.superseded++;
-      if (oldIsNewer && !row.markedReissue) {
-        this.statements.insertSupersession.run(newId, old.id, `an earlier-dated report (${row.reportedOn}) arrived after ${old.reportedOn}`);
+      const keepOld = decision.current === 'old';
+      counts.supersessions.push({
+        line: row.line,
+        sampleId: row.sampleId,
+        assayId: row.assayId,
+        labId: row.labId,
+        kind: decision.kind,
+        thisFileCurrent: !keepOld,
+        replaced: keepOld ? nextReading : oldReading,
+        current: keepOld ? oldReading : nextReading,
+        reason: decision.reason,
+      });
+      if (keepOld) {
+        this.statements.insertSupersession.run(newId, old.id, decision.reason, decision.kind);
         break;
       }
-      this.statements.insertSupersession.run(old.id, newId, reason);
+      this.statements.insertSupersession.run(old.id, newId, decision.reason, decision.kind);
     }
   }
 
@@ -570,19 +674,40 @@ export class Store {
   /** Stores a batch of rope-sheet rows. Call inside `beginFile`. */
   insertRopes(fileId: number, rows: readonly RopeRow[]): InsertCounts {
     this.requireFile();
-    const counts: InsertCounts = { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [] };
+    const counts = emptyCounts();
     for (const row of rows) this.insertRopeRow(fileId, this.sampleInFile(row.sampleId), row, 'sheet', counts);
     return counts;
   }
 
   insertRejections(fileId: number, rejections: readonly RowRejection[]): void {
     this.requireFile();
-    for (const r of rejections) this.statements.insertRejection.run(fileId, r.line, r.field ?? null, r.code, r.value ?? null, r.message);
+    for (const r of rejections) {
+      if (this.reopened && this.statements.rejectionExists.get(fileId, r.line, r.code) !== undefined) continue;
+      this.statements.insertRejection.run(fileId, r.line, r.field ?? null, r.code, r.value ?? null, r.message, r.suggestedId ?? null, r.candidateIds?.join(' ') ?? null);
+    }
   }
 
   finishFile(fileId: number, counts: { accepted: number; rejected: number; duplicate: number }): void {
     this.requireFile();
-    this.statements.finishFile.run({ id: fileId, ...counts });
+    // A file read again adds the rows its corrections let in; its first counts stand.
+    if (this.reopened) this.db.prepare('UPDATE files SET rows_accepted = rows_accepted + ? WHERE id = ?').run(counts.accepted, fileId);
+    else this.statements.finishFile.run({ id: fileId, ...counts });
+  }
+
+  /**
+   * The refused rows of a stored file that no result or rope of that file has taken the place
+   * of since: what a confirmed sample-ID correction may let in when the file is read again.
+   */
+  openRefusals(fileId: number): { line: number; code: string; value: string | null }[] {
+    return this.db
+      .prepare(
+        `SELECT j.line, j.code, j.value FROM rejected_rows j
+         WHERE j.file_id = ?
+           AND NOT EXISTS (SELECT 1 FROM results r WHERE r.file_id = j.file_id AND r.line = j.line)
+           AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.file_id = j.file_id AND h.line = j.line)
+         ORDER BY j.line`,
+      )
+      .all(fileId) as { line: number; code: string; value: string | null }[];
   }
 
   /**
@@ -636,6 +761,7 @@ export class Store {
 
   private endFile(): void {
     this.inFile = false;
+    this.reopened = false;
     this.samplesThisFile.clear();
     this.db.pragma('foreign_keys = ON');
   }

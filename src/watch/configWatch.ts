@@ -1,5 +1,5 @@
 /**
- * Tells when the configuration folder changes (sites.yaml, assays.yaml, labs/*.yaml), once per
+ * Tells when the configuration folder changes (sites.yaml, assays.yaml, corrections.yaml, labs/*.yaml), once per
  * burst of writes: an editor saving a file writes, renames and touches it in quick succession,
  * and the configuration is reloaded after the folder has been quiet for `quietMs`.
  */
@@ -28,7 +28,7 @@ export interface ConfigWatch {
 /** Only the files loadConfig reads count; editor swap and backup files do not. */
 function isConfigFile(dir: string, file: string): boolean {
   const relative = path.relative(dir, file).split(path.sep);
-  if (relative.length === 1) return relative[0] === 'sites.yaml' || relative[0] === 'assays.yaml';
+  if (relative.length === 1) return relative[0] === 'sites.yaml' || relative[0] === 'assays.yaml' || relative[0] === 'corrections.yaml';
   return relative.length === 2 && relative[0] === 'labs' && /^[^.].*\.ya?ml$/i.test(relative[1]!);
 }
 

@@ -33,7 +33,11 @@ const resultRow: fc.Arbitrary<ResultRow> = fc.record({
   suspectBelow: fc.integer({ min: 36, max: 40 }),
   cycleLimit: fc.constantFrom(40, 45),
   markedReissue: fc.boolean(),
+  statusKind: maybe(fc.constantFrom('preliminary', 'final', 'corrected')),
+  statusWord: maybe(text),
+  labCallClass: maybe(fc.constantFrom('positive', 'suspect', 'negative', 'invalid')),
   callDiffers: fc.boolean(),
+  sampleIdAsWritten: maybe(text),
   contentKey: fc.integer({ min: 0, max: 2 ** 52 - 1 }),
   encodedRope: fc.option(fc.record({ siteId: text, barnId: text, penId: text, hungOn: fc.constantFrom('2026-08-03', '2026-08-04') }), { nil: undefined }),
 });
@@ -63,7 +67,8 @@ describe('batch wire format', () => {
     const row = (i: number): ResultRow => ({
       line: i + 2, labId: 'northfield', sampleId: `S-${i}`, assayId: 'PRRSV', labAssay: 'PRRSV NA/EU RT-PCR', ct: null, ctRaw: 'Undetermined', labCall: 'Negative',
       accession: `NV-${i}`, collectedOn: '2026-08-03', reportedOn: '2026-08-06', reportStatus: 'Final', control: 'PASS', resultClass: 'negative',
-      reason: 'not detected', loadBand: null, positiveBelow: 36, suspectBelow: 38, cycleLimit: 40, markedReissue: false, callDiffers: false, contentKey: i, encodedRope: undefined,
+      reason: 'not detected', loadBand: null, positiveBelow: 36, suspectBelow: 38, cycleLimit: 40, markedReissue: false,
+      statusKind: 'final', statusWord: 'Final', labCallClass: 'negative', callDiffers: false, sampleIdAsWritten: null, contentKey: i, encodedRope: undefined,
     });
     const wire = encodeBatch({ results: Array.from({ length: 100 }, (_, i) => row(i)), ropes: [], rejections: [] });
     expect(wire.texts.ctRaw.values).toEqual(['Undetermined']);

@@ -133,7 +133,7 @@ describe('Store schema', () => {
     const store = new Store(':memory:');
     expect(() => store.insertRopes(1, [])).toThrow(/beginFile/);
     const id = store.beginFile({ name: 'x.csv', sha256: 'ab', kind: 'ropes', labId: null, receivedAt: '2026-08-03T00:00:00Z', encodingNote: '', byteLength: 1 });
-    store.insertRopes(id, [{ line: 2, sampleId: 'R1', siteId: 'hollow-creek', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03', note: null, warning: undefined }]);
+    store.insertRopes(id, [{ line: 2, sampleId: 'R1', siteId: 'hollow-creek', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03', note: null, sampleIdAsWritten: null, warning: undefined }]);
     store.rollback();
     expect(store.counts()).toMatchObject({ files: 0, ropes: 0 });
     store.close();
