@@ -23,14 +23,13 @@ import {
   takenByAnother,
 } from './inboxFiles.js';
 import { OutputError, regenerateOutputs } from './outputs.js';
-import { disagreementLines, type ReceiptDisagreements } from './report/callDisagreements.js';
 import { writeFileAtomic, writeJson } from './report/files.js';
 import { terminalText } from './util/terminalText.js';
 import type { Workspace } from './workspace.js';
 
 export { ARCHIVE_DIR, REJECTED_DIR };
 
-export function receiptText(receipt: Receipt & ReceiptDisagreements): string {
+export function receiptText(receipt: Receipt): string {
   const lines = [
     `ropewatch receipt for ${receipt.file}`,
     `status: ${receipt.status}${receipt.kind !== 'unknown' ? ` (${receipt.kind}${receipt.lab ? `, lab ${receipt.lab}` : ''})` : ''}`,
@@ -85,7 +84,6 @@ export function receiptText(receipt: Receipt & ReceiptDisagreements): string {
     );
   }
   if (receipt.resolvedSampleIds.length > 0) lines.push('', `earlier results now placed in their pens: ${receipt.resolvedSampleIds.join(', ')}`);
-  lines.push(...disagreementLines(receipt));
   for (const warning of receipt.warnings) lines.push(`note: ${warning}`);
   // Names, sample IDs and quoted cells come from the file: escaped so a text viewer shows them.
   return lines.map(terminalText).join('\n') + '\n';

@@ -6,7 +6,6 @@
 import { describe, expect, it } from 'vitest';
 import type { Receipt } from '../../src/ingest/ingestFile.js';
 import { receiptText } from '../../src/pipeline.js';
-import { disagreementLines } from '../../src/report/callDisagreements.js';
 
 const receipt: Receipt = {
   file: 'nvdl_results.csv',
@@ -31,17 +30,16 @@ describe('call disagreements on the receipt', () => {
   it('lists each disagreeing row with the lab call and the reading', () => {
     const text = receiptText({
       ...receipt,
-      callDisagreements: [{ line: 3, sampleId: 'S-1', assayId: 'PRRSV', ctRaw: '35.50', labCall: 'Negative', resultClass: 'positive', reason: 'Ct 35.5 below the positive cutoff 36' }],
+      callDisagreements: [{ line: 3, sampleId: 'S-1', assayId: 'PRRSV', ctRaw: '35.50', labCall: 'Negative', labCallClass: 'negative', resultClass: 'positive' }],
       callDisagreementsNotListed: 2,
     });
-    expect(text).toContain("the lab's call differs from the reading with the lab's cutoffs in the configuration (3 rows;");
-    expect(text).toContain('  line 3, sample S-1, PRRSV, Ct "35.50": lab says "Negative", read as positive (Ct 35.5 below the positive cutoff 36)');
+    expect(text).toContain("the lab's call differs from ropewatch's reading of the value (both kept; review with the lab):");
+    expect(text).toContain('  line 3, S-1 PRRSV: lab "Negative" (negative), ropewatch positive from "35.50"');
     expect(text).toContain('  ... and 2 more');
   });
 
   it('adds nothing when no row disagrees', () => {
-    expect(disagreementLines({})).toEqual([]);
-    expect(disagreementLines({ callDisagreements: [], callDisagreementsNotListed: 0 })).toEqual([]);
+    expect(receiptText({ ...receipt, callDisagreements: [], callDisagreementsNotListed: 0 })).not.toContain('differs');
     expect(receiptText(receipt)).not.toContain('differs');
   });
 });
