@@ -7,7 +7,6 @@ import {
   assaysFileSchema,
   correctionsFileSchema,
   labProfileSchema,
-  programOverridesSchema,
   programSchema,
   sitesFileSchema,
 } from './schema.js';
@@ -16,7 +15,11 @@ import { wordKey } from '../util/words.js';
 import { looksLikePlannedId, parseSampleId } from '../plan/sampleId.js';
 import { dateFormatProblem } from './dateFormat.js';
 import { folderNameProblem, matchKey } from './names.js';
+import { didYouMean } from './nearest.js';
 import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } from './pattern.js';
+import { ConfigError, ProblemList } from './problems.js';
+import { ROPE_SHEET_COLUMN_ORDER, ROPE_SHEET_MEANING, ropeColumnNames, ropeHeaderKey } from './ropeSheet.js';
+import { formatPath, schemaProblems } from './schemaProblems.js';
 import type {
   AnalysisSettings,
   Assay,
@@ -29,30 +32,16 @@ import type {
   PerAssayValue,
   Program,
   ReportStatusKind,
+  RopeSheetColumn,
+  RopeSheetColumns,
   SampleIdCorrection,
   Site,
 } from './types.js';
 
+export { ConfigError, formatProblem, type ConfigProblem } from './problems.js';
+
 /** Confirmed sample-ID corrections, beside sites.yaml (optional). */
 export const CORRECTIONS_FILE = 'corrections.yaml';
-
-/** A configuration problem, naming the file and the key path (e.g. `sites[0].barns[1].layout.rows`). */
-export class ConfigError extends Error {
-  override readonly name = 'ConfigError';
-  constructor(
-    readonly file: string,
-    readonly keyPath: string,
-    readonly detail: string,
-  ) {
-    super(`${file}${keyPath ? ` at ${keyPath}` : ''}: ${detail}`);
-  }
-}
-
-function formatPath(segments: readonly PropertyKey[]): string {
-  return segments
-    .map((segment, index) => (typeof segment === 'number' ? `[${segment}]` : `${index === 0 ? '' : '.'}${String(segment)}`))
-    .join('');
-}
 
 /**
  * How far one YAML anchor may be expanded: its uses times the aliases nested in it (the yaml
@@ -92,13 +81,30 @@ function readYaml(file: string): unknown {
   }
 }
 
-function validate<S extends z.ZodType>(schema: S, value: unknown, file: string, prefix: readonly PropertyKey[] = []): z.output<S> {
-  const result = schema.safeParse(value);
-  if (!result.success) {
-    const issue = result.error.issues[0]!;
-    throw new ConfigError(file, formatPath([...prefix, ...issue.path]), issue.message);
+/**
+ * Reads one file and checks it against `schema`: its data, or undefined with every problem
+ * recorded. An empty file is `empty` when given (an optional file may be empty).
+ */
+function readValid<S extends z.ZodType>(schema: S, file: string, problems: ProblemList, empty?: unknown): z.output<S> | undefined {
+  let value: unknown;
+  try {
+    value = readYaml(file);
+  } catch (error) {
+    if (!(error instanceof ConfigError)) throw error;
+    problems.addAll(error.problems);
+    return undefined;
   }
-  return result.data;
+  if (value === null || value === undefined) {
+    if (empty === undefined) {
+      problems.add(file, '', 'is empty');
+      return undefined;
+    }
+    value = empty;
+  }
+  const result = schema.safeParse(value);
+  if (result.success) return result.data;
+  problems.addAll(schemaProblems(schema, value, result.error.issues, file));
+  return undefined;
 }
 
 function normaliseDesignPrevalence(raw: z.output<typeof programSchema>['designPrevalence']): DesignPrevalence {
@@ -157,7 +163,10 @@ function compilePattern(source: string, file: string, keyPath: string, groups: r
  */
 class NameRegistry {
   private readonly seen = new Map<string, { owner: unknown; what: string; value: string; keyPath: string }>();
-  constructor(private readonly file: string) {}
+  constructor(
+    private readonly file: string,
+    private readonly problems: ProblemList,
+  ) {}
 
   claim(owner: unknown, what: string, value: string, keyPath: string): void {
     const key = matchKey(value);
@@ -169,7 +178,7 @@ class NameRegistry {
         earlier.value === value && earlier.what === what
           ? `${what} ${value} is used twice (also at ${earlier.keyPath})`
           : `${what} ${JSON.stringify(value)} is the same name as ${earlier.what} ${JSON.stringify(earlier.value)} at ${earlier.keyPath}: names are matched ignoring case and spacing`;
-      throw new ConfigError(this.file, keyPath, detail);
+      this.problems.add(this.file, keyPath, detail);
     }
   }
 }
@@ -183,102 +192,215 @@ function checkPerAssayKeys(
   raw: unknown,
   prefix: readonly PropertyKey[],
   file: string,
-  assayIds: ReadonlySet<string>,
+  assayIds: ReadonlySet<string> | undefined,
   ageGroups: ReadonlySet<string>,
+  problems: ProblemList,
 ): void {
-  if (raw === null || typeof raw !== 'object') return;
+  // Without a readable assays.yaml there is nothing to check the keys against.
+  if (raw === null || typeof raw !== 'object' || assayIds === undefined) return;
   const assayByKey = new Map([...assayIds].map((id) => [matchKey(id), id]));
   const ageGroupByKey = new Map([...ageGroups].map((group) => [matchKey(group), group]));
   for (const [key, value] of Object.entries(raw)) {
     if (key === 'default') continue;
     if (!assayIds.has(key)) {
       const near = assayByKey.get(matchKey(key));
-      throw new ConfigError(file, formatPath([...prefix, key]), `names assay ${key}, which is not in assays.yaml${near ? ` (assay ids match exactly: write ${near})` : ''}`);
+      const hint = near ? ` (assay ids match exactly: write ${near})` : didYouMean(key, assayIds) ? `: ${didYouMean(key, assayIds)}` : '';
+      problems.add(file, formatPath([...prefix, key]), `names assay ${key}, which is not in assays.yaml${hint}`);
+      continue;
     }
     if (value === null || typeof value !== 'object') continue;
     for (const group of Object.keys(value)) {
       const near = ageGroupByKey.get(matchKey(group));
       if (group !== 'default' && !ageGroups.has(group) && near !== undefined) {
-        throw new ConfigError(file, formatPath([...prefix, key, group]), `age group ${JSON.stringify(group)} differs from the barns' age group ${JSON.stringify(near)}; age groups match exactly`);
+        problems.add(file, formatPath([...prefix, key, group]), `age group ${JSON.stringify(group)} differs from the barns' age group ${JSON.stringify(near)}; age groups match exactly`);
       }
     }
   }
 }
 
-function loadSites(file: string, assayIds: ReadonlySet<string>): { organisation: string | undefined; analysis: AnalysisSettings; sites: Site[] } {
-  const raw = validate(sitesFileSchema, readYaml(file), file);
+interface SitesPart {
+  organisation: string | undefined;
+  analysis: AnalysisSettings;
+  sites: Site[];
+  ropeSheet: { columns: RopeSheetColumns };
+}
+
+function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, problems: ProblemList): SitesPart | undefined {
+  const raw = readValid(sitesFileSchema, file, problems);
+  if (raw === undefined) return undefined;
   const defaults = raw.programDefaults;
   const allAgeGroups = new Set(raw.sites.flatMap((site) => site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup]))));
-  for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(defaults[key], ['programDefaults', key], file, assayIds, allAgeGroups);
+  for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(defaults[key], ['programDefaults', key], file, assayIds, allAgeGroups, problems);
   // A rope sheet's site cell and --site match a site's id, code or name (rows.ts findSite,
   // cli/commands.ts): all three share one namespace across sites.
-  const siteNames = new NameRegistry(file);
+  const siteNames = new NameRegistry(file, problems);
   const sites = raw.sites.map((site, siteIndex): Site => {
     const at = (...rest: PropertyKey[]) => formatPath(['sites', siteIndex, ...rest]);
     const folderProblem = folderNameProblem(site.id);
-    if (folderProblem !== undefined) throw new ConfigError(file, at('id'), `site id ${folderProblem}`);
+    if (folderProblem !== undefined) problems.add(file, at('id'), `site id ${folderProblem}`);
     siteNames.claim(site, 'site id', site.id, at('id'));
     siteNames.claim(site, 'site code', site.code, at('code'));
     siteNames.claim(site, 'site name', site.name, at('name'));
-    const overrides = validate(programOverridesSchema, site.program ?? {}, file, ['sites', siteIndex, 'program']);
+    const overrides = site.program ?? {};
     const siteAgeGroups = new Set(site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup])));
-    for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(overrides[key], ['sites', siteIndex, 'program', key], file, assayIds, siteAgeGroups);
+    for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(overrides[key], ['sites', siteIndex, 'program', key], file, assayIds, siteAgeGroups, problems);
     const program = normaliseProgram({ ...defaults, ...overrides });
     // Barns are found by id (upper case: barnById) and, on rope sheets, by name (foldToken).
-    const barnNames = new NameRegistry(file);
-    const barns = site.barns.map((barn, barnIndex): Barn => {
+    const barnNames = new NameRegistry(file, problems);
+    const barns = site.barns.flatMap((barn, barnIndex): Barn[] => {
       barnNames.claim(barn, 'barn id', barn.id, at('barns', barnIndex, 'id'));
       if (barn.name !== undefined) barnNames.claim(barn, 'barn name', barn.name, at('barns', barnIndex, 'name'));
-      const rawLayout = barn.layout;
-      const defaultLabels = ['A', 'B', 'C', 'D'].slice(0, rawLayout.rows);
-      const layout: BarnLayout = {
-        rows: rawLayout.rows,
-        pensPerRow: rawLayout.pensPerRow,
-        numbering: rawLayout.numbering,
-        rowLabels: rawLayout.rowLabels ?? defaultLabels,
-        padDigits: rawLayout.padDigits,
-        penWidth: rawLayout.penWidth,
-        penDepth: rawLayout.penDepth,
-        alleyWidth: rawLayout.alleyWidth,
-        gapsAfter: rawLayout.gapsAfter,
-        gapWidth: rawLayout.gapWidth,
-        empty: rawLayout.empty,
-        outOfUse: rawLayout.outOfUse,
-        ...(rawLayout.headCount ? { headCount: rawLayout.headCount } : {}),
-      };
-      let pens;
-      try {
-        pens = expandLayout(layout);
-      } catch (error) {
-        throw new ConfigError(file, at('barns', barnIndex, 'layout'), (error as Error).message);
-      }
-      checkPenKeys(pens, layout, file, (...rest) => at('barns', barnIndex, 'layout', ...rest));
-      if (!pens.some((pen) => pen.status === 'in-use')) {
-        throw new ConfigError(file, at('barns', barnIndex, 'layout'), 'has no pen in use');
-      }
-      return Object.freeze({
-        id: barn.id,
-        name: barn.name ?? barn.id,
-        position: barn.position,
-        ageGroup: barn.ageGroup,
-        layout,
-        pens,
-        penById: new Map(pens.map((pen) => [pen.id.toUpperCase(), pen])),
-        penByKey: pensByKey(pens),
-        contacts: penContacts(layout, pens),
-      });
+      const built = problems.guard(() => loadBarn(barn, file, (...rest) => at('barns', barnIndex, ...rest), problems));
+      return built === undefined ? [] : [built];
     });
+    const samplePattern = site.samplePattern === undefined ? undefined : problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen']));
     return Object.freeze({
       id: site.id,
       name: site.name,
       code: site.code,
       program,
-      samplePattern: site.samplePattern ? compilePattern(site.samplePattern, file, at('samplePattern'), ['barn', 'pen']) : undefined,
+      samplePattern,
       barns,
       barnById: new Map(barns.map((barn) => [barn.id.toUpperCase(), barn])),
     });
   });
-  return { organisation: raw.organisation, analysis: Object.freeze({ ...raw.analysis }), sites };
+  return {
+    organisation: raw.organisation,
+    analysis: Object.freeze({ ...raw.analysis }),
+    sites,
+    ropeSheet: Object.freeze({ columns: ropeSheetColumns(raw.ropeSheet?.columns, file, problems) }),
+  };
+}
+
+type RawBarn = z.output<typeof sitesFileSchema>['sites'][number]['barns'][number];
+
+/** One barn: its layout expanded and checked. @throws ConfigError when the layout cannot be expanded. */
+function loadBarn(barn: RawBarn, file: string, at: (...rest: PropertyKey[]) => string, problems: ProblemList): Barn {
+  const rawLayout = barn.layout;
+  const defaultLabels = ['A', 'B', 'C', 'D'].slice(0, rawLayout.rows);
+  const layout: BarnLayout = {
+    rows: rawLayout.rows,
+    pensPerRow: rawLayout.pensPerRow,
+    numbering: rawLayout.numbering,
+    rowLabels: rawLayout.rowLabels ?? defaultLabels,
+    padDigits: rawLayout.padDigits,
+    penWidth: rawLayout.penWidth,
+    penDepth: rawLayout.penDepth,
+    alleyWidth: rawLayout.alleyWidth,
+    gapsAfter: rawLayout.gapsAfter,
+    gapWidth: rawLayout.gapWidth,
+    empty: [],
+    outOfUse: [],
+    ...(rawLayout.headCount ? { headCount: rawLayout.headCount } : {}),
+  };
+  let pens: Pen[];
+  try {
+    // First without statuses, to know the pens the lists may name.
+    const allPens = expandLayout(layout);
+    layout.empty = resolvePenRefs(rawLayout.empty, allPens, layout, (index) => at('layout', 'empty', index), file, problems);
+    layout.outOfUse = resolvePenRefs(rawLayout.outOfUse, allPens, layout, (index) => at('layout', 'outOfUse', index), file, problems);
+    pens = expandLayout(layout);
+  } catch (error) {
+    if (error instanceof RangeError) throw new ConfigError(file, at('layout'), error.message);
+    throw error;
+  }
+  checkPenKeys(pens, layout, file, (...rest) => at('layout', ...rest), problems);
+  if (!pens.some((pen) => pen.status === 'in-use')) problems.add(file, at('layout'), 'has no pen in use');
+  return Object.freeze({
+    id: barn.id,
+    name: barn.name ?? barn.id,
+    position: barn.position,
+    ageGroup: barn.ageGroup,
+    layout,
+    pens,
+    penById: new Map(pens.map((pen) => [pen.id.toUpperCase(), pen])),
+    penByKey: pensByKey(pens),
+    contacts: penContacts(layout, pens),
+  });
+}
+
+/**
+ * The pen ids an `empty` or `outOfUse` list names. A number (written without quotes, which YAML
+ * reads as a number) is the pen of that number as painted: 7 is pen 07 in a padded layout. A
+ * text must be the pen's label as the layout writes it, like head counts.
+ */
+function resolvePenRefs(
+  refs: readonly (string | number)[],
+  pens: readonly Pen[],
+  layout: BarnLayout,
+  at: (index: number) => string,
+  file: string,
+  problems: ProblemList,
+): string[] {
+  const ids = new Set(pens.map((pen) => pen.id));
+  const byKey = pensByKey(pens);
+  const resolved: string[] = [];
+  refs.forEach((ref, index) => {
+    const text = String(ref);
+    if (typeof ref === 'string' && ids.has(ref)) {
+      resolved.push(ref);
+      return;
+    }
+    const pen = byKey.get(canonicalPenKey(text));
+    if (typeof ref === 'number' && pen !== undefined) {
+      resolved.push(pen.id);
+      return;
+    }
+    const hint =
+      pen !== undefined
+        ? ` (write ${pen.id}, as the layout labels it)`
+        : layout.numbering === 'per-row' && /^\d+$/.test(text)
+          ? ` (pens are numbered per row: write the row label too, e.g. ${layout.rowLabels[0] ?? 'A'}${text})`
+          : '';
+    problems.add(file, at(index), `names pen ${text}, which is not in the layout${hint}`);
+  });
+  return resolved;
+}
+
+/**
+ * The header names each rope-sheet column accepts: its own name, then the configured names or
+ * the default synonyms. A name (as compared: case, spaces and punctuation ignored) may belong to
+ * one column only, or a header cell could be read as either; a clash is told at the configured
+ * name.
+ */
+function ropeSheetColumns(
+  configured: Partial<Record<RopeSheetColumn, string | readonly string[]>> | undefined,
+  file: string,
+  problems: ProblemList,
+): RopeSheetColumns {
+  type Claim = { column: RopeSheetColumn; name: string; keyPath: string | undefined };
+  const claims = new Map<string, Claim>();
+  const columns = {} as Record<RopeSheetColumn, readonly string[]>;
+  for (const column of ROPE_SHEET_COLUMN_ORDER) {
+    const given = configured?.[column];
+    const list = given === undefined ? undefined : typeof given === 'string' ? [given] : given;
+    const names = ropeColumnNames(column, list);
+    columns[column] = Object.freeze(names);
+    for (const name of names) {
+      const index = list?.indexOf(name) ?? -1;
+      const keyPath = index < 0 ? undefined : typeof given === 'string' ? `ropeSheet.columns.${column}` : `ropeSheet.columns.${column}[${index}]`;
+      const key = ropeHeaderKey(name);
+      if (key === '') {
+        problems.add(file, keyPath ?? `ropeSheet.columns.${column}`, `${JSON.stringify(name)} has no letter or digit, so no header cell can match it`);
+        continue;
+      }
+      const earlier = claims.get(key);
+      if (earlier === undefined) {
+        claims.set(key, { column, name, keyPath });
+        continue;
+      }
+      if (earlier.column === column) continue;
+      const describe = (claim: Claim) => (claim.keyPath === undefined ? `a default name of the ${claim.column} column (${ROPE_SHEET_MEANING[claim.column]})` : `the ${claim.column} column's name at ${claim.keyPath}`);
+      const [told, other] = keyPath !== undefined ? [{ column, name, keyPath }, earlier] : [earlier, { column, name, keyPath }];
+      const remedy = other.keyPath === undefined ? `; to use it for ${told.column}, give ropeSheet.columns.${other.column} names of its own` : '';
+      problems.add(
+        file,
+        told.keyPath ?? `ropeSheet.columns.${told.column}`,
+        `${JSON.stringify(told.name)} is also ${describe(other)}: a header name may belong to one column only (case, spaces and punctuation ignored)${remedy}`,
+      );
+    }
+  }
+  return Object.freeze(columns);
 }
 
 /**
@@ -286,46 +408,54 @@ function loadSites(file: string, assayIds: ReadonlySet<string>): { organisation:
  * sheets find a pen by its canonical key (canonicalPenKey: "a01" is A1), so rows labelled A and
  * a, or A and A0 (A01 and A1), would put ropes in the wrong pen. Head counts must name pens.
  */
-function checkPenKeys(pens: readonly Pen[], layout: BarnLayout, file: string, at: (...rest: PropertyKey[]) => string): void {
+function checkPenKeys(pens: readonly Pen[], layout: BarnLayout, file: string, at: (...rest: PropertyKey[]) => string, problems: ProblemList): void {
   const labels = new Map<string, number>();
+  let labelsClash = false;
   layout.rowLabels.forEach((label, row) => {
     const earlier = labels.get(matchKey(label));
     if (earlier !== undefined) {
-      throw new ConfigError(file, at('rowLabels', row), `row label ${JSON.stringify(label)} is the same as row label ${JSON.stringify(layout.rowLabels[earlier])} when matched (case and spacing are ignored)`);
+      problems.add(file, at('rowLabels', row), `row label ${JSON.stringify(label)} is the same as row label ${JSON.stringify(layout.rowLabels[earlier])} when matched (case and spacing are ignored)`);
+      labelsClash = true;
+      return;
     }
     labels.set(matchKey(label), row);
   });
+  // Rows that match give pens that match: told once, at the row label.
+  if (labelsClash) return;
   const byKey = new Map<string, Pen>();
   for (const pen of pens) {
     const key = canonicalPenKey(pen.id);
     const earlier = byKey.get(key);
     if (earlier !== undefined) {
-      throw new ConfigError(
+      problems.add(
         file,
         layout.numbering === 'per-row' ? at('rowLabels', pen.row) : at('numbering'),
         `pens ${earlier.id} and ${pen.id} are the same pen when matched (${key}: case, spaces and leading zeros are ignored); choose row labels that do not end in a digit`,
       );
+      // One such clash per barn tells the cause; the rest of the row would repeat it.
+      return;
     }
     byKey.set(key, pen);
   }
   const ids = new Set(pens.map((pen) => pen.id));
   for (const id of Object.keys(layout.headCount?.pens ?? {})) {
-    if (!ids.has(id)) throw new ConfigError(file, at('headCount', 'pens', id), `names pen ${id}, which is not in the layout`);
+    if (!ids.has(id)) problems.add(file, at('headCount', 'pens', id), `names pen ${id}, which is not in the layout`);
   }
 }
 
-function loadAssays(file: string): Assay[] {
-  const raw = validate(assaysFileSchema, readYaml(file), file);
+function loadAssays(file: string, problems: ProblemList): Assay[] | undefined {
+  const raw = readValid(assaysFileSchema, file, problems);
+  if (raw === undefined) return undefined;
   // Assay ids match exactly, but two that differ in case only would read as one in every report.
-  const ids = new NameRegistry(file);
+  const ids = new NameRegistry(file, problems);
   return raw.assays.map((assay, index) => {
     const at = (key: string) => formatPath(['assays', index, key]);
     ids.claim(assay, 'assay id', assay.id, at('id'));
-    if (!(assay.positiveBelow <= assay.suspectBelow)) throw new ConfigError(file, at('suspectBelow'), 'must be at or above positiveBelow');
-    if (!(assay.suspectBelow <= assay.cycleLimit)) throw new ConfigError(file, at('suspectBelow'), 'must be at or below cycleLimit');
+    if (!(assay.positiveBelow <= assay.suspectBelow)) problems.add(file, at('suspectBelow'), 'must be at or above positiveBelow');
+    if (!(assay.suspectBelow <= assay.cycleLimit)) problems.add(file, at('suspectBelow'), 'must be at or below cycleLimit');
     const bands = [...assay.loadBands];
     for (let i = 1; i < bands.length; i++) {
-      if (!(bands[i]!.below > bands[i - 1]!.below)) throw new ConfigError(file, formatPath(['assays', index, 'loadBands', i, 'below']), 'bands must be in increasing Ct order');
+      if (!(bands[i]!.below > bands[i - 1]!.below)) problems.add(file, formatPath(['assays', index, 'loadBands', i, 'below']), 'bands must be in increasing Ct order');
     }
     return Object.freeze({
       id: assay.id,
@@ -342,18 +472,25 @@ function loadAssays(file: string): Assay[] {
   });
 }
 
-function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfile {
-  const raw = validate(labProfileSchema, readYaml(file), file);
+function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined, problems: ProblemList): LabProfile | undefined {
+  const raw = readValid(labProfileSchema, file, problems);
+  if (raw === undefined) return undefined;
   const dateProblem = dateFormatProblem(raw.format.dateFormat);
-  if (dateProblem !== undefined) throw new ConfigError(file, 'format.dateFormat', dateProblem);
+  if (dateProblem !== undefined) problems.add(file, 'format.dateFormat', dateProblem);
   const assays = new Map<string, LabAssay>();
   // An export's assay cell is looked up folded (foldToken): two names that fold alike are one.
-  const labAssayNames = new NameRegistry(file);
+  const labAssayNames = new NameRegistry(file, problems);
   for (const [labAssayName, entry] of Object.entries(raw.assays)) {
     const at = formatPath(['assays', labAssayName]);
     labAssayNames.claim(labAssayName, 'lab assay name', labAssayName, at);
+    // Without a readable assays.yaml there is nothing to check the reference against.
+    if (assayById === undefined) continue;
     const assay = assayById.get(entry.assay);
-    if (!assay) throw new ConfigError(file, `${at}.assay`, `names assay ${entry.assay}, which is not in assays.yaml`);
+    if (!assay) {
+      const near = didYouMean(entry.assay, assayById.keys());
+      problems.add(file, `${at}.assay`, `names assay ${entry.assay}, which is not in assays.yaml${near === '' ? '' : `: ${near}`}`);
+      continue;
+    }
     const labAssay: LabAssay = {
       labAssayName,
       assayId: assay.id,
@@ -362,15 +499,15 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
       cycleLimit: entry.cycleLimit ?? assay.cycleLimit,
     };
     if (!(labAssay.positiveBelow <= labAssay.suspectBelow && labAssay.suspectBelow <= labAssay.cycleLimit)) {
-      throw new ConfigError(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
+      problems.add(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
     }
     assays.set(foldToken(labAssayName), Object.freeze(labAssay));
   }
-  const words = labWords(raw, file);
+  const words = labWords(raw, file, problems);
   return Object.freeze({
     id: raw.id,
     name: raw.name,
-    fileNamePattern: raw.fileNamePattern ? compilePattern(raw.fileNamePattern, file, 'fileNamePattern', []) : undefined,
+    fileNamePattern: raw.fileNamePattern ? problems.guard(() => compilePattern(raw.fileNamePattern!, file, 'fileNamePattern', [])) : undefined,
     delimiter: raw.format.delimiter,
     decimal: raw.format.decimal,
     encoding: raw.format.encoding,
@@ -419,7 +556,7 @@ type RawLab = z.output<typeof labProfileSchema>;
  * report states, a call and a state, or a control failure and any call but invalid, are refused
  * at the second, naming where each comes from.
  */
-function labWords(raw: RawLab, file: string): Pick<LabProfile, 'controlFailedTokens' | 'callWords' | 'statusWords' | 'statusColumns'> {
+function labWords(raw: RawLab, file: string, problems: ProblemList): Pick<LabProfile, 'controlFailedTokens' | 'callWords' | 'statusWords' | 'statusColumns'> {
   const callWords = {} as Record<CallClass, readonly string[]>;
   for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const) callWords[cls] = raw.callWords?.[cls] ?? DEFAULT_CALL_WORDS[cls];
   const statusWords = {} as Record<ReportStatusKind, readonly string[]>;
@@ -431,12 +568,15 @@ function labWords(raw: RawLab, file: string): Pick<LabProfile, 'controlFailedTok
   const seen = new Map<string, Meaning>();
   const claim = (word: string, what: string, where: string, compatible: (other: string) => boolean) => {
     const key = wordKey(word);
-    if (key === '') throw new ConfigError(file, where, `${JSON.stringify(word)} has no letter or digit, so it can never be found in a cell`);
+    if (key === '') {
+      problems.add(file, where, `${JSON.stringify(word)} has no letter or digit, so it can never be found in a cell`);
+      return;
+    }
     const earlier = seen.get(key);
     if (earlier === undefined) {
       seen.set(key, { what, where });
     } else if (earlier.what !== what && !compatible(earlier.what)) {
-      throw new ConfigError(
+      problems.add(
         file,
         where,
         `${JSON.stringify(word)} would mean ${what}, but the same word (case, accents and punctuation ignored) means ${earlier.what} at ${earlier.where}; give each word one meaning`,
@@ -473,75 +613,97 @@ function labWords(raw: RawLab, file: string): Pick<LabProfile, 'controlFailedTok
  * A meant ID with the shape of a planned ID must carry its right check character (ISO/IEC 7064
  * MOD 37-2), or the correction would only swap one refusal for another.
  */
-function loadCorrections(file: string): SampleIdCorrection[] {
+function loadCorrections(file: string, problems: ProblemList): SampleIdCorrection[] {
   if (!fs.existsSync(file)) return [];
-  const raw = validate(correctionsFileSchema, readYaml(file) ?? {}, file);
+  const raw = readValid(correctionsFileSchema, file, problems, {});
+  if (raw === undefined) return [];
   const seen = new Map<string, number>();
-  return raw.sampleIds.map((entry, index): SampleIdCorrection => {
-    const at = (key: string) => formatPath(['sampleIds', index, key]);
-    const written = entry.written.replace(/\s+/g, '').toUpperCase();
-    let meant = entry.meant.replace(/\s+/g, '').toUpperCase();
-    if (written === '') throw new ConfigError(file, at('written'), 'is empty once spaces are removed');
-    if (meant === '') throw new ConfigError(file, at('meant'), 'is empty once spaces are removed');
-    if (looksLikePlannedId(meant)) {
-      const parsed = parseSampleId(meant);
-      if (!parsed.ok) throw new ConfigError(file, at('meant'), `${parsed.message}; write the planned ID as printed on the rope list`);
-      meant = parsed.id;
-    }
-    if (meant === written) throw new ConfigError(file, at('meant'), `is the same ID as written (${written}): nothing to correct`);
-    if (entry.line !== undefined && entry.file === undefined) throw new ConfigError(file, at('line'), 'a line needs the file it is in: add file');
-    const key = `${written}\u001f${entry.file ?? ''}\u001f${entry.line ?? ''}`;
-    const earlier = seen.get(key);
-    if (earlier !== undefined) throw new ConfigError(file, at('written'), `corrects the same ID in the same place as sampleIds[${earlier}]`);
-    seen.set(key, index);
-    return Object.freeze({ written, meant, file: entry.file, line: entry.line, note: entry.note });
+  return raw.sampleIds.flatMap((entry, index): SampleIdCorrection[] => {
+    const corrected = problems.guard(() => loadCorrection(entry, index, seen, file));
+    return corrected === undefined ? [] : [corrected];
   });
 }
 
+function loadCorrection(
+  entry: z.output<typeof correctionsFileSchema>['sampleIds'][number],
+  index: number,
+  seen: Map<string, number>,
+  file: string,
+): SampleIdCorrection {
+  const at = (key: string) => formatPath(['sampleIds', index, key]);
+  const written = entry.written.replace(/\s+/g, '').toUpperCase();
+  let meant = entry.meant.replace(/\s+/g, '').toUpperCase();
+  if (written === '') throw new ConfigError(file, at('written'), 'is empty once spaces are removed');
+  if (meant === '') throw new ConfigError(file, at('meant'), 'is empty once spaces are removed');
+  if (looksLikePlannedId(meant)) {
+    const parsed = parseSampleId(meant);
+    if (!parsed.ok) throw new ConfigError(file, at('meant'), `${parsed.message}; write the planned ID as printed on the rope list`);
+    meant = parsed.id;
+  }
+  if (meant === written) throw new ConfigError(file, at('meant'), `is the same ID as written (${written}): nothing to correct`);
+  if (entry.line !== undefined && entry.file === undefined) throw new ConfigError(file, at('line'), 'a line needs the file it is in: add file');
+  const key = `${written}\u001f${entry.file ?? ''}\u001f${entry.line ?? ''}`;
+  const earlier = seen.get(key);
+  if (earlier !== undefined) throw new ConfigError(file, at('written'), `corrects the same ID in the same place as sampleIds[${earlier}]`);
+  seen.set(key, index);
+  return Object.freeze({ written, meant, file: entry.file, line: entry.line, note: entry.note });
+}
+
 /**
- * Loads `sites.yaml`, `assays.yaml` and every `labs/*.yaml` from a config folder.
- * @throws ConfigError naming the file and the key path of the first problem.
+ * Loads `sites.yaml`, `assays.yaml`, every `labs/*.yaml` and `corrections.yaml` (optional) from
+ * a config folder. Every file is checked, as far as its own problems allow, before anything is
+ * refused: a person fixes all there is in one go.
+ * @throws ConfigError with every problem found, each naming its file and key path.
  */
 export function loadConfig(dir: string): Config {
   const sitesFile = path.join(dir, 'sites.yaml');
   const assaysFile = path.join(dir, 'assays.yaml');
   const labsDir = path.join(dir, 'labs');
-  const assays = loadAssays(assaysFile);
-  const assayById = new Map(assays.map((assay) => [assay.id, assay]));
-  const { organisation, analysis, sites } = loadSites(sitesFile, new Set(assayById.keys()));
+  const problems = new ProblemList();
+  const assays = loadAssays(assaysFile, problems);
+  const assayById = assays === undefined ? undefined : new Map(assays.map((assay) => [assay.id, assay]));
+  const sitesPart = loadSites(sitesFile, assayById === undefined ? undefined : new Set(assayById.keys()), problems);
   let labFiles: string[] = [];
   try {
     labFiles = fs
       .readdirSync(labsDir)
       .filter((name) => /\.ya?ml$/i.test(name))
       .sort();
+    if (labFiles.length === 0) problems.add(labsDir, '', 'holds no lab profile (*.yaml)');
   } catch {
-    throw new ConfigError(labsDir, '', 'folder is missing: add one lab profile per YAML file');
+    problems.add(labsDir, '', 'folder is missing: add one lab profile per YAML file');
   }
-  if (labFiles.length === 0) throw new ConfigError(labsDir, '', 'holds no lab profile (*.yaml)');
-  const labs = labFiles.map((name) => loadLab(path.join(labsDir, name), assayById));
+  const labs: LabProfile[] = [];
   // Lab ids are stored with every result and printed in receipts: two that differ in case only
   // would read as one lab.
   const labIds = new Map<string, { id: string; name: string }>();
-  for (const [index, lab] of labs.entries()) {
-    const name = labFiles[index]!;
+  for (const name of labFiles) {
+    const lab = loadLab(path.join(labsDir, name), assayById, problems);
+    if (lab === undefined) continue;
+    labs.push(lab);
     const earlier = labIds.get(matchKey(lab.id));
     if (earlier !== undefined) {
       const detail = earlier.id === lab.id ? `lab id ${lab.id} is used twice (also in ${earlier.name})` : `lab id ${lab.id} differs from lab id ${earlier.id} (${earlier.name}) in case only`;
-      throw new ConfigError(path.join(labsDir, name), 'id', detail);
+      problems.add(path.join(labsDir, name), 'id', detail);
+      continue;
     }
     labIds.set(matchKey(lab.id), { id: lab.id, name });
   }
+  const corrections = loadCorrections(path.join(dir, CORRECTIONS_FILE), problems);
+  problems.throwIfAny();
+  // Every part loaded: a part that did not recorded a problem, and problems were thrown above.
+  const { organisation, analysis, sites, ropeSheet } = sitesPart!;
   return Object.freeze({
     dir,
     organisation,
     analysis,
     sites,
     siteById: new Map(sites.map((site) => [site.id.toUpperCase(), site])),
-    assays,
-    assayById,
+    assays: assays!,
+    assayById: assayById!,
     labs,
     labById: new Map(labs.map((lab) => [lab.id, lab])),
-    corrections: loadCorrections(path.join(dir, CORRECTIONS_FILE)),
+    corrections,
+    ropeSheet,
   });
 }

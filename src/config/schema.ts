@@ -6,6 +6,8 @@ import { z } from 'zod';
 
 const probability = z.number().min(0).max(1);
 const penId = z.string().min(1);
+/** A pen as the layout names it, or its number unquoted (YAML reads `7` as a number): 7 is pen 07. */
+const penRef = z.union([penId, z.number().int().min(0)]);
 const identifier = z
   .string()
   .regex(/^[A-Za-z0-9][A-Za-z0-9_-]*$/, 'letters, digits, "-" and "_" only, starting with a letter or digit');
@@ -66,8 +68,8 @@ export const layoutSchema = z
     alleyWidth: z.number().min(0).default(0.5),
     gapsAfter: z.array(z.number().int().min(1)).default([]),
     gapWidth: z.number().min(0).default(1),
-    empty: z.array(penId).default([]),
-    outOfUse: z.array(penId).default([]),
+    empty: z.array(penRef).default([]),
+    outOfUse: z.array(penRef).default([]),
     headCount: z
       .object({ default: z.number().int().min(0).optional(), pens: z.record(z.string(), z.number().int().min(0)).optional() })
       .strict()
@@ -122,9 +124,30 @@ export const analysisSchema = z
   })
   .strict();
 
+/** Header names of one rope-sheet column: one name or a list (they replace the default synonyms). */
+const ropeColumnNames = z.union([z.string().min(1), z.array(z.string().min(1)).min(1)]);
+
+/** What a rope sheet's header may call each column, besides its own name (sample_id, site, ...). */
+export const ropeSheetSchema = z
+  .object({
+    columns: z
+      .object({
+        sampleId: ropeColumnNames.optional(),
+        site: ropeColumnNames.optional(),
+        barn: ropeColumnNames.optional(),
+        pen: ropeColumnNames.optional(),
+        hungOn: ropeColumnNames.optional(),
+        notes: ropeColumnNames.optional(),
+      })
+      .strict()
+      .optional(),
+  })
+  .strict();
+
 export const sitesFileSchema = z
   .object({
     organisation: z.string().optional(),
+    ropeSheet: ropeSheetSchema.optional(),
     analysis: analysisSchema.default({
       seed: 1,
       permutations: 999,

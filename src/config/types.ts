@@ -149,6 +149,16 @@ export interface LabProfile {
   assays: ReadonlyMap<string, LabAssay>;
 }
 
+/** The columns of a rope sheet (`notes` is optional; the others are required). */
+export type RopeSheetColumn = 'sampleId' | 'site' | 'barn' | 'pen' | 'hungOn' | 'notes';
+
+/**
+ * The header names a rope sheet may give each column, as configured (matched ignoring case,
+ * spaces and punctuation): the column's own name first, then the configured names or the
+ * default synonyms.
+ */
+export type RopeSheetColumns = Readonly<Record<RopeSheetColumn, readonly string[]>>;
+
 export interface Config {
   dir: string;
   organisation: string | undefined;
@@ -161,4 +171,6 @@ export interface Config {
   labById: ReadonlyMap<string, LabProfile>;
   /** Confirmed sample-ID corrections (config/corrections.yaml; empty without it). */
   corrections: readonly SampleIdCorrection[];
+  /** Which header names a rope sheet's columns may carry (sites.yaml `ropeSheet.columns`). */
+  ropeSheet: { columns: RopeSheetColumns };
 }
