@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { configDigest } from '../config/digest.js';
-import { ConfigError, loadConfig } from '../config/load.js';
+import { ConfigError, formatProblem, loadConfig } from '../config/load.js';
 import { reasonPath, REJECTED_DIR } from '../inboxFiles.js';
 import { terminalText } from '../util/terminalText.js';
 import type { Workspace } from '../workspace.js';
@@ -61,7 +61,9 @@ export async function reloadConfiguration(ws: Workspace, io: CliIo, stamp: () =>
     config = loadConfig(ws.configDir);
   } catch (error) {
     if (!(error instanceof ConfigError)) throw error;
-    io.stderr(`${stamp()} ropewatch: the configuration changed but cannot be loaded (${terminalText(error.message)}); the previous configuration stays in force\n`);
+    // One log line: the problems side by side, not the multi-line message.
+    const problems = error.problems.map((problem) => terminalText(formatProblem(problem))).join('; ');
+    io.stderr(`${stamp()} ropewatch: the configuration changed but cannot be loaded (${problems}); the previous configuration stays in force\n`);
     return;
   }
   const digest = configDigest(ws.configDir);

@@ -4,23 +4,37 @@
  */
 import { parse as parseSync } from 'csv-parse/sync';
 import { foldToken } from '../util/fold.js';
-import type { LabProfile } from '../config/types.js';
+import {
+  DEFAULT_ROPE_SHEET_COLUMNS,
+  REQUIRED_ROPE_SHEET_COLUMNS,
+  ROPE_SHEET_COLUMN_ORDER,
+  ROPE_SHEET_MEANING,
+  ROPE_SHEET_OWN_NAME,
+  ropeHeaderKey,
+} from '../config/ropeSheet.js';
+import type { LabProfile, RopeSheetColumn, RopeSheetColumns } from '../config/types.js';
 import { IngestError } from './errors.js';
 
 export type Delimiter = ',' | ';' | '\t' | '|';
 
-/** Rope-sheet columns, as written in the header (case and spacing are folded). */
-export const ROPE_SHEET_COLUMNS = {
-  sampleId: 'sample_id',
-  site: 'site',
-  barn: 'barn',
-  pen: 'pen',
-  hungOn: 'hung_on',
-} as const;
+/**
+ * The key under which a rope sheet's `columnIndex` holds each column (its own name), whatever
+ * the header calls it.
+ */
+export const ROPE_SHEET_COLUMNS = ROPE_SHEET_OWN_NAME;
 
 export type FileKind =
   | { kind: 'results'; lab: LabProfile; delimiter: Delimiter; headerLine: number; header: string[]; columnIndex: Map<string, number> }
-  | { kind: 'ropes'; delimiter: Delimiter; headerLine: number; header: string[]; columnIndex: Map<string, number> };
+  | {
+      kind: 'ropes';
+      delimiter: Delimiter;
+      headerLine: number;
+      header: string[];
+      /** Position of each column found, under its own name (`sample_id`, `hung_on`, ...). */
+      columnIndex: Map<string, number>;
+      /** The header cell of each column found, as written (refusals name the field so). */
+      columnNames: Map<string, string>;
+    };
 
 function foldHeader(cell: string): string {
   return foldToken(cell.replace(/^\uFEFF/, '')).replace(/[\s-]+/g, '_');
@@ -66,34 +80,69 @@ function requiredLabColumns(lab: LabProfile): string[] {
   return [lab.columns.sampleId, lab.columns.assay, lab.columns.ct];
 }
 
+/** Where each rope-sheet column appears in a header: every cell that carries one of its names. */
+type RopeMatch = Record<RopeSheetColumn, number[]>;
+
+function matchRopeHeader(header: readonly string[], columns: RopeSheetColumns): RopeMatch {
+  const owner = new Map<string, RopeSheetColumn>();
+  for (const column of ROPE_SHEET_COLUMN_ORDER) for (const name of columns[column]) owner.set(ropeHeaderKey(name), column);
+  const match = Object.fromEntries(ROPE_SHEET_COLUMN_ORDER.map((column) => [column, [] as number[]])) as RopeMatch;
+  header.forEach((cell, position) => {
+    const column = owner.get(ropeHeaderKey(cell));
+    if (column !== undefined) match[column].push(position);
+  });
+  return match;
+}
+
 /**
- * Decides what a file is from its name and first block of text.
+ * The rope sheet a header describes, checked: no column named twice (two cells for the hanging
+ * date could each be the right one, so neither is taken), no header cell repeated.
+ */
+function ropeSheetKind(fileName: string, delimiter: Delimiter, header: string[], match: RopeMatch, columns: RopeSheetColumns): FileKind {
+  for (const column of ROPE_SHEET_COLUMN_ORDER) {
+    const cells = match[column];
+    if (cells.length > 1) {
+      const names = cells.map((position) => `"${header[position]}"`).join(' and ');
+      throw new IngestError(
+        'duplicate-header',
+        fileName,
+        1,
+        header[cells[1]!],
+        header[cells[1]!],
+        `the header cells ${names} both name the column for ${ROPE_SHEET_MEANING[column]} (${columns[column].join(', ')}); keep one, or list the one to read under ropeSheet.columns.${column} in sites.yaml`,
+      );
+    }
+  }
+  indexHeader(fileName, 1, header, ropeHeaderKey);
+  const columnIndex = new Map<string, number>();
+  const columnNames = new Map<string, string>();
+  for (const column of ROPE_SHEET_COLUMN_ORDER) {
+    const position = match[column][0];
+    if (position === undefined) continue;
+    columnIndex.set(ROPE_SHEET_OWN_NAME[column], position);
+    columnNames.set(ROPE_SHEET_OWN_NAME[column], header[position]!);
+  }
+  return { kind: 'ropes', delimiter, headerLine: 1, header, columnIndex, columnNames };
+}
+
+/**
+ * Decides what a file is from its name and first block of text. A rope sheet is told by its
+ * columns under any of their accepted names (`ropeColumns`: sites.yaml `ropeSheet.columns`, or
+ * the defaults); a header that reads both as a rope sheet and as a lab's export is refused
+ * unless the lab's fileNamePattern names the file.
  * @throws IngestError unknown-format, ambiguous-lab, missing-column, duplicate-header, empty-file.
  */
-export function detectFileKind(fileName: string, head: string, labs: readonly LabProfile[]): FileKind {
+export function detectFileKind(fileName: string, head: string, labs: readonly LabProfile[], ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS): FileKind {
   if (head.replace(/\uFEFF/g, '').trim() === '') throw new IngestError('empty-file', fileName, undefined, undefined, undefined);
 
   const firstLine = head.split('\n')[0] ?? '';
   const ropeDelimiter = guessDelimiter(firstLine);
   const ropeHeader = headerCells(head, 0, ropeDelimiter);
-  if (ropeHeader) {
-    const folded = new Set(ropeHeader.map(foldHeader));
-    const required = Object.values(ROPE_SHEET_COLUMNS);
-    const present = required.filter((column) => folded.has(column));
-    if (present.length === required.length) {
-      return {
-        kind: 'ropes',
-        delimiter: ropeDelimiter,
-        headerLine: 1,
-        header: ropeHeader,
-        columnIndex: indexHeader(fileName, 1, ropeHeader, foldHeader),
-      };
-    }
-    if (folded.has(ROPE_SHEET_COLUMNS.sampleId) && folded.has(ROPE_SHEET_COLUMNS.pen)) {
-      const missing = required.find((column) => !folded.has(column))!;
-      throw new IngestError('missing-column', fileName, 1, missing, undefined, `this looks like a rope sheet but has no "${missing}" column`);
-    }
-  }
+  const ropeMatch = ropeHeader ? matchRopeHeader(ropeHeader, ropeColumns) : undefined;
+  // A sample ID and a pen column make a header look like a rope sheet; all required columns make it one.
+  const ropeLike = ropeMatch !== undefined && ropeMatch.sampleId.length > 0 && ropeMatch.pen.length > 0;
+  const ropeMissing = ropeMatch === undefined ? [] : REQUIRED_ROPE_SHEET_COLUMNS.filter((column) => ropeMatch[column].length === 0);
+  const ropeComplete = ropeLike && ropeMissing.length === 0;
 
   type Candidate = { lab: LabProfile; delimiter: Delimiter; header: string[]; byName: boolean; missing: string[] };
   const candidates: Candidate[] = [];
@@ -110,11 +159,39 @@ export function detectFileKind(fileName: string, head: string, labs: readonly La
   }
   const complete = candidates.filter((candidate) => candidate.missing.length === 0);
   const named = complete.filter((candidate) => candidate.byName);
+
+  if (ropeComplete) {
+    // The lab's own file name settles it; a header alone that fits both is not guessed at.
+    if (named.length === 0 && complete.length > 0) {
+      const ids = complete.map((candidate) => candidate.lab.id).join(', ');
+      throw new IngestError(
+        'ambiguous-lab',
+        fileName,
+        1,
+        undefined,
+        undefined,
+        `the header reads both as a rope sheet and as an export of lab profile ${ids}; give the lab a fileNamePattern that names its files, or drop the columns that do not belong`,
+      );
+    }
+    if (named.length === 0) return ropeSheetKind(fileName, ropeDelimiter, ropeHeader!, ropeMatch!, ropeColumns);
+  }
+
   const chosen = named.length === 1 ? named[0] : complete.length === 1 ? complete[0] : undefined;
   if (!chosen) {
     if (named.length > 1 || complete.length > 1) {
       const ids = (named.length > 1 ? named : complete).map((candidate) => candidate.lab.id).join(', ');
       throw new IngestError('ambiguous-lab', fileName, undefined, undefined, undefined, `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`);
+    }
+    if (ropeLike) {
+      const column = ropeMissing[0]!;
+      throw new IngestError(
+        'missing-column',
+        fileName,
+        1,
+        ROPE_SHEET_OWN_NAME[column],
+        undefined,
+        `this looks like a rope sheet but has no column for ${ROPE_SHEET_MEANING[column]} (a header cell named ${ropeColumns[column].map((name) => `"${name}"`).join(', ')}; other names go under ropeSheet.columns.${column} in sites.yaml)`,
+      );
     }
     // A file named like a lab's exports but sharing none of its required columns (an invoice,
     // a wrong report template) is not that lab's export with columns missing: unknown format.

@@ -313,7 +313,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     const head = read.head;
     sniffed = read.sniffed;
     const text = read.text;
-    kind = detectFileKind(name, text, deps.config.labs);
+    kind = detectFileKind(name, text, deps.config.labs, deps.config.ropeSheet.columns);
     if (kind.kind === 'results' && kind.lab.encoding !== 'auto' && sniffed.bomLength === 0 && !sniffed.note.includes('byte pattern')) {
       sniffed = sniffEncoding(head, kind.lab.encoding);
     }

@@ -73,7 +73,7 @@ export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS
   const width = kind.header.length;
   const resultContext: ResultContext | undefined =
     kind.kind === 'results' ? { fileName: input.fileName, lab: kind.lab, columnIndex: kind.columnIndex, assayById: input.assayById, sites: input.sites, plannedIdCheck } : undefined;
-  const ropeContext: RopeContext = { fileName: input.fileName, columnIndex: kind.columnIndex, sites: input.sites, plannedIdCheck };
+  const ropeContext: RopeContext = { fileName: input.fileName, columnIndex: kind.columnIndex, columnNames: kind.kind === 'ropes' ? kind.columnNames : undefined, sites: input.sites, plannedIdCheck };
   let batch: MappedBatch<ResultRow[]> = { results: [], ropes: [], rejections: [] };
   const size = () => batch.results.length + batch.ropes.length + batch.rejections.length;
 

@@ -476,7 +476,10 @@ export interface RopeRow extends RopeLocation {
 
 export interface RopeContext {
   fileName: string;
+  /** Position of each column under its own name (sample_id, site, barn, pen, hung_on, notes). */
   columnIndex: ReadonlyMap<string, number>;
+  /** The header cell of each column as the sheet writes it ("Collected on"): refusals name the field so. */
+  columnNames?: ReadonlyMap<string, string>;
   sites: readonly Site[];
   plannedIdCheck: PlannedIdCheck;
 }
@@ -486,14 +489,15 @@ function findSite(sites: readonly Site[], text: string): Site | undefined {
   return sites.find((site) => foldToken(site.id) === folded || foldToken(site.code) === folded || foldToken(site.name) === folded);
 }
 
-/** Maps one rope-sheet record (sample_id, site, barn, pen, hung_on). */
+/** Maps one rope-sheet record (sample_id, site, barn, pen, hung_on, under whatever header names the sheet gives them). */
 export function mapRopeRow(cells: readonly string[], line: number, context: RopeContext): RowOutcome<RopeRow> {
   const get = (column: string) => {
     const position = context.columnIndex.get(column);
     return position === undefined ? '' : (cells[position] ?? '').trim();
   };
-  const reject = (code: Parameters<typeof rowRejection>[0], field: string, value: string, detail?: string) =>
-    ({ ok: false, rejection: rowRejection(code, line, field, value, detail) }) as const;
+  // Only a refused row looks up its field's header name: nothing per accepted row.
+  const reject = (code: Parameters<typeof rowRejection>[0], column: string, value: string, detail?: string) =>
+    ({ ok: false, rejection: rowRejection(code, line, context.columnNames?.get(column) ?? column, value, detail) }) as const;
   const rawSample = get('sample_id');
   if (rawSample === '') return reject('missing-value', 'sample_id', rawSample, 'the sample ID is empty');
   const checked = context.plannedIdCheck(normaliseSampleId(rawSample), line);
