@@ -70,24 +70,43 @@ function unwrap(schema: unknown, depth = 0): unknown[] {
   return [schema];
 }
 
-function schemasAt(schema: unknown, path: readonly PropertyKey[]): unknown[] {
-  let current = unwrap(schema);
+/** The schemas, as declared (wrappers and unions kept), that check the value at `path`. */
+function declaredAt(schema: unknown, path: readonly PropertyKey[]): unknown[] {
+  let current = [schema];
   for (const segment of path) {
     const next: unknown[] = [];
-    for (const candidate of current) {
+    for (const candidate of current.flatMap((declared) => unwrap(declared))) {
       const def = defOf(candidate)!;
       if (def.type === 'object') {
         const child = def.shape?.[String(segment)] ?? (defOf(def.catchall)?.type === 'never' ? undefined : def.catchall);
-        if (child !== undefined) next.push(...unwrap(child));
+        if (child !== undefined) next.push(child);
       } else if (def.type === 'array' && typeof segment === 'number') {
-        next.push(...unwrap(def.element));
+        next.push(def.element);
       } else if (def.type === 'record') {
-        next.push(...unwrap(def.valueType));
+        next.push(def.valueType);
       }
     }
     current = next;
   }
   return current;
+}
+
+function schemasAt(schema: unknown, path: readonly PropertyKey[]): unknown[] {
+  return declaredAt(schema, path).flatMap((declared) => unwrap(declared));
+}
+
+/** The options of the union that checks the value at `path`, in the order the schema gives them. */
+function unionOptionsAt(schema: unknown, path: readonly PropertyKey[]): readonly unknown[] | undefined {
+  for (let declared of declaredAt(schema, path)) {
+    for (let depth = 0; depth < 20; depth++) {
+      const def = defOf(declared);
+      if (def === undefined) break;
+      if (def.type === 'union') return def.options;
+      if (!WRAPPERS.has(def.type)) break;
+      declared = def.innerType;
+    }
+  }
+  return undefined;
 }
 
 /** The keys an object at `path` may have (empty when no object schema is found there). */
@@ -100,13 +119,18 @@ export function knownKeys(schema: z.ZodType, path: readonly PropertyKey[]): stri
   return [...keys];
 }
 
-/** The object at `path` in `root`, when there is one. */
-function objectAt(root: unknown, path: readonly PropertyKey[]): Record<string, unknown> | undefined {
+function valueAt(root: unknown, path: readonly PropertyKey[]): unknown {
   let current: unknown = root;
   for (const segment of path) {
     if (current === null || typeof current !== 'object') return undefined;
     current = (current as Record<PropertyKey, unknown>)[segment];
   }
+  return current;
+}
+
+/** The object at `path` in `root`, when there is one. */
+function objectAt(root: unknown, path: readonly PropertyKey[]): Record<string, unknown> | undefined {
+  const current = valueAt(root, path);
   return current !== null && typeof current === 'object' && !Array.isArray(current) ? (current as Record<string, unknown>) : undefined;
 }
 
@@ -117,9 +141,22 @@ function isMissing(root: unknown, path: readonly PropertyKey[]): boolean {
   return parent !== undefined && !Object.hasOwn(parent, String(path[path.length - 1]));
 }
 
-function issueDetail(issue: z.core.$ZodIssue): string {
+/**
+ * A union's issue names what each of its forms found wrong, each told as a problem of its own
+ * would be (an unknown key inside `{ pens: 1 }` names the nearest key too).
+ */
+function issueDetail(schema: z.ZodType, root: unknown, issue: z.core.$ZodIssue): string {
   if (issue.code === 'invalid_union' && issue.errors.length > 0) {
-    const forms = issue.errors.map((errors) => errors.map((inner) => `${inner.path.length > 0 ? `${formatPath(inner.path)}: ` : ''}${inner.message}`).join(', '));
+    const options = unionOptionsAt(schema, issue.path);
+    const value = valueAt(root, issue.path);
+    const forms = issue.errors.map((errors, index) => {
+      const option = options?.[index] as z.ZodType | undefined;
+      const told =
+        option === undefined
+          ? errors.map((inner) => ({ keyPath: formatPath(inner.path), detail: inner.message }))
+          : schemaProblems(option, value, errors, '');
+      return told.map((problem) => `${problem.keyPath === '' ? '' : `${problem.keyPath}: `}${problem.detail}`).join(', ');
+    });
     return `matches none of its forms: ${forms.join('; or ')}`;
   }
   return issue.message;
@@ -151,10 +188,14 @@ export function schemaProblems(
       issue.keys.map((key) => {
         const near = nearestNames(key, absent);
         if (near.length === 1 && isMissing(value, [...issue.path, near[0]!])) explained.add(at([...issue.path, near[0]!]));
+        // A key near one that is given too ("Barns" beside "barns") is most likely a leftover.
+        const given = near.length === 0 ? nearestNames(key, present) : [];
         const detail =
           near.length > 0
             ? `unknown key ${JSON.stringify(key)}: ${didYouMean(key, absent)}`
-            : `unknown key ${JSON.stringify(key)}${known.length > 0 ? `; the keys here are ${known.join(', ')}` : ''}`;
+            : given.length > 0
+              ? `unknown key ${JSON.stringify(key)}: ${didYouMean(key, given)} (given too: keep one)`
+              : `unknown key ${JSON.stringify(key)}${known.length > 0 ? `; the keys here are ${known.join(', ')}` : ''}`;
         return { file, keyPath: at([...issue.path, key]), detail };
       }),
     );
@@ -175,7 +216,7 @@ export function schemaProblems(
       problems.push({ file, keyPath, detail: `is missing${help === undefined ? '' : `: ${help}`}` });
       continue;
     }
-    problems.push({ file, keyPath, detail: issueDetail(issue) });
+    problems.push({ file, keyPath, detail: issueDetail(schema, value, issue) });
   }
   return problems;
 }

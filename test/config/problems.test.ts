@@ -62,6 +62,19 @@ describe('unknown keys', () => {
     expect(configError(lab).problems).toEqual([expect.objectContaining({ keyPath: 'format.dateFromat', detail: 'unknown key "dateFromat": did you mean dateFormat?' })]);
   });
 
+  it('names the nearest key inside one form of a setting that has two', () => {
+    // designPrevalence is a proportion or { pens: n }; "pen" -> "pens" is one insertion, by hand.
+    const dir = configEdited('sites.yaml', (doc) => (doc.programDefaults.designPrevalence = { pen: 1 }));
+    expect(configError(dir).problems).toEqual([
+      expect.objectContaining({ keyPath: 'programDefaults.designPrevalence', detail: expect.stringMatching(/; or pen: unknown key "pen": did you mean pens\?$/) }),
+    ]);
+  });
+
+  it('says so when the near key is given too', () => {
+    const dir = configEdited('sites.yaml', (doc) => (doc.sites[0].Barns = []));
+    expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'sites[0].Barns', detail: 'unknown key "Barns": did you mean barns? (given too: keep one)' })]);
+  });
+
   it('lists the keys of the place when no key is near', () => {
     const dir = configEdited('sites.yaml', (doc) => (doc.sites[0].barns[0].position.elevation = 3));
     expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'sites[0].barns[0].position.elevation', detail: 'unknown key "elevation"; the keys here are x, y' })]);

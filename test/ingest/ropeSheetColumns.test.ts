@@ -10,6 +10,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
+import { ROPE_SHEET_OWN_NAME, ROPE_SHEET_SYNONYMS } from '../../src/config/ropeSheet.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { IngestError } from '../../src/ingest/errors.js';
@@ -76,6 +77,18 @@ describe('rope-sheet headers under other names', () => {
     expect(error).toMatchObject({ code: 'missing-column', field: 'hung_on' });
     expect(error.message).toContain('"hung_on", "hung", "date_hung"');
     expect(error.message).toContain('ropeSheet.columns.hungOn');
+  });
+});
+
+describe('the default synonyms in the README', () => {
+  it('lists exactly the synonyms the code accepts, column by column', () => {
+    const readme = fs.readFileSync(new URL('../../README.md', import.meta.url), 'utf8');
+    const inputs = readme.slice(readme.indexOf('## Inputs'), readme.indexOf('### Files still being written'));
+    const documented = Object.fromEntries(
+      [...inputs.matchAll(/^ {2}\| `([a-z_]+)` \| (.+) \|$/gm)].map((match) => [match[1]!, [...match[2]!.matchAll(/`([a-z_]+)`/g)].map((name) => name[1]!)]),
+    );
+    const coded = Object.fromEntries(Object.entries(ROPE_SHEET_SYNONYMS).map(([column, names]) => [ROPE_SHEET_OWN_NAME[column as keyof typeof ROPE_SHEET_OWN_NAME], [...names]]));
+    expect(documented).toEqual(coded);
   });
 });
 
