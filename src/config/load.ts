@@ -60,6 +60,7 @@ function readYaml(file: string): unknown {
   }
   const doc = YAML.parseDocument(text, { prettyErrors: true });
   if (doc.errors.length > 0) {
+    // The first syntax error only: the parser's later errors mostly follow from it.
     const first = doc.errors[0]!;
     const where = first.linePos?.[0] ? `line ${first.linePos[0].line}, column ${first.linePos[0].col}` : '';
     throw new ConfigError(file, where, `is not valid YAML: ${first.message.split('\n')[0]}`);
@@ -253,7 +254,7 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       const built = problems.guard(() => loadBarn(barn, file, (...rest) => at('barns', barnIndex, ...rest), problems));
       return built === undefined ? [] : [built];
     });
-    const samplePattern = site.samplePattern === undefined ? undefined : problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen']));
+    const samplePattern = site.samplePattern ? problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen'])) : undefined;
     return Object.freeze({
       id: site.id,
       name: site.name,
@@ -433,13 +434,15 @@ function checkPenKeys(pens: readonly Pen[], layout: BarnLayout, file: string, at
         `pens ${earlier.id} and ${pen.id} are the same pen when matched (${key}: case, spaces and leading zeros are ignored); choose row labels that do not end in a digit`,
       );
       // One such clash per barn tells the cause; the rest of the row would repeat it.
-      return;
+      break;
     }
     byKey.set(key, pen);
   }
   const ids = new Set(pens.map((pen) => pen.id));
   for (const id of Object.keys(layout.headCount?.pens ?? {})) {
-    if (!ids.has(id)) problems.add(file, at('headCount', 'pens', id), `names pen ${id}, which is not in the layout`);
+    if (ids.has(id)) continue;
+    const near = byKey.get(canonicalPenKey(id));
+    problems.add(file, at('headCount', 'pens', id), `names pen ${id}, which is not in the layout${near === undefined ? '' : ` (write ${near.id}, as the layout labels it)`}`);
   }
 }
 

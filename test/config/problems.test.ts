@@ -180,6 +180,14 @@ describe('pen numbers without quotes', () => {
     ]);
   });
 
+  it('names the label to write for a head count keyed unlike the layout', () => {
+    // Hollow Creek F1 is numbered per row, A1..A20: "a01" is A1 as matched, but keys match exactly.
+    const dir = configEdited('sites.yaml', (doc) => (doc.sites[0].barns[0].layout.headCount = { default: 26, pens: { a01: 20 } }));
+    expect(configError(dir).problems).toEqual([
+      expect.objectContaining({ keyPath: 'sites[0].barns[0].layout.headCount.pens.a01', detail: 'names pen a01, which is not in the layout (write A1, as the layout labels it)' }),
+    ]);
+  });
+
   it('still refuses a number that is not a whole pen number', () => {
     const dir = configEdited('sites.yaml', (doc) => (doc.sites[1].barns[1].layout.empty = [2.5]));
     expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'sites[1].barns[1].layout.empty[0]' })]);
