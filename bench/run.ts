@@ -19,6 +19,7 @@ async function loadParts(only: readonly string[]): Promise<Part[]> {
   const extra = [
     ['ingest', './ingest.js', 'benchIngest'],
     ['recompute', './recompute.js', 'benchRecompute'],
+    ['cli', './cli.js', 'benchCli'],
   ] as const;
   const here = path.dirname(fileURLToPath(import.meta.url));
   for (const [name, module, exported] of extra) {

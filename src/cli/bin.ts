@@ -1,3 +1,6 @@
+#!/usr/bin/env node
+import { realpathSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { main } from './main.js';
 
 /** The only place that touches process: argv, streams, signals, exit. */
@@ -24,5 +27,18 @@ export async function runFromProcess(): Promise<void> {
   process.stdout.write('', () => process.exit(code));
 }
 
-const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWith(process.argv[1].replace(/\\/g, '/'));
-if (invokedDirectly) await runFromProcess();
+/**
+ * Whether node was started with this file, directly or through a link to it (npm links the
+ * package's `bin` into node_modules/.bin); not when a test imports it.
+ */
+function startedAsProgram(): boolean {
+  const script = process.argv[1];
+  if (script === undefined) return false;
+  try {
+    return realpathSync(script) === fileURLToPath(import.meta.url);
+  } catch {
+    return false;
+  }
+}
+
+if (startedAsProgram()) await runFromProcess();

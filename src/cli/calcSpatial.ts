@@ -1,6 +1,5 @@
 import { readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
-import type { Command } from 'commander';
 import { z } from 'zod';
 import { UsageError, printJson, type CliIo } from './io.js';
 import { seededRng, deriveSeed } from '../util/random.js';
@@ -139,38 +138,31 @@ export function computeSpatialCase(c: SpatialCase) {
 const fmt = (v: number | null, digits = 4) => (v === null ? 'n/a' : Number(v.toFixed(digits)).toString());
 
 /**
- * `ropewatch calc spatial --input CASE.json [--json]`: join counts (non-free moments, exact or
- * Monte Carlo permutation p), Moran's I (Cliff & Ord moments), Gi* (self included) and the
- * Bernoulli scan for one set of pens. Bad input is a UsageError (exit 2).
+ * `ropewatch calc spatial --input CASE.json [--json]` (declared in calc.ts): join counts
+ * (non-free moments, exact or Monte Carlo permutation p), Moran's I (Cliff & Ord moments), Gi*
+ * (self included) and the Bernoulli scan for one set of pens. Bad input is a UsageError (exit 2).
  */
-export function addSpatialCalcCommand(calc: Command, io: CliIo): void {
-  calc
-    .command('spatial')
-    .description('spatial clustering of positive pens: join counts, Moran\'s I, Gi*, Bernoulli scan')
-    .requiredOption('--input <file>', 'case JSON: { pens: [{ id, x, y, positive, load }], neighbours | k | band, style, permutations, seed }')
-    .option('--json', 'print the result as JSON')
-    .action((opts: { input: string; json?: boolean }) => {
-      const c = readCase(io, opts.input);
-      let result: ReturnType<typeof computeSpatialCase>;
-      try {
-        result = computeSpatialCase(c);
-      } catch (error) {
-        if (error instanceof RangeError) throw new UsageError(`--input: ${error.message}`);
-        throw error;
-      }
-      if (opts.json) {
-        printJson(io, result);
-        return;
-      }
-      const jc = result.joinCount;
-      const m = result.moran;
-      const lines = [
-        `weights: ${result.weights.description}${result.weights.isolates.length ? `; isolates: ${result.weights.isolates.join(', ')}` : ''}`,
-        `join count: BB=${fmt(jc.bb)} (expected ${fmt(jc.expectedBB)}, z ${fmt(jc.zBB, 2)}), p=${fmt(jc.pPermutation)} (${jc.pMethod})`,
-        `Moran's I: ${fmt(m.I)} (expected ${fmt(m.expected)}, z ${fmt(m.zRandomisation, 2)}), p=${fmt(m.pPermutation)}${m.reason ? ` (${m.reason})` : ''}`,
-        `scan: ${result.scan.pens.length ? `${result.scan.pens.join(', ')} LLR=${fmt(result.scan.llr)} p=${fmt(result.scan.p)}` : 'no window with excess positives'}`,
-        `seed ${result.seed}, ${result.permutations} permutations`,
-      ];
-      io.stdout(lines.join('\n') + '\n');
-    });
+export function runSpatialCalc(io: CliIo, opts: { input: string; json?: boolean }): void {
+  const c = readCase(io, opts.input);
+  let result: ReturnType<typeof computeSpatialCase>;
+  try {
+    result = computeSpatialCase(c);
+  } catch (error) {
+    if (error instanceof RangeError) throw new UsageError(`--input: ${error.message}`);
+    throw error;
+  }
+  if (opts.json) {
+    printJson(io, result);
+    return;
+  }
+  const jc = result.joinCount;
+  const m = result.moran;
+  const lines = [
+    `weights: ${result.weights.description}${result.weights.isolates.length ? `; isolates: ${result.weights.isolates.join(', ')}` : ''}`,
+    `join count: BB=${fmt(jc.bb)} (expected ${fmt(jc.expectedBB)}, z ${fmt(jc.zBB, 2)}), p=${fmt(jc.pPermutation)} (${jc.pMethod})`,
+    `Moran's I: ${fmt(m.I)} (expected ${fmt(m.expected)}, z ${fmt(m.zRandomisation, 2)}), p=${fmt(m.pPermutation)}${m.reason ? ` (${m.reason})` : ''}`,
+    `scan: ${result.scan.pens.length ? `${result.scan.pens.join(', ')} LLR=${fmt(result.scan.llr)} p=${fmt(result.scan.p)}` : 'no window with excess positives'}`,
+    `seed ${result.seed}, ${result.permutations} permutations`,
+  ];
+  io.stdout(lines.join('\n') + '\n');
 }

@@ -1,27 +1,30 @@
 /**
  * The pipeline commands: ingest, watch, status, report, plan, demo. Each opens the workspace at
- * the edge, runs, closes it, and reports through the injected io.
+ * the edge, runs, closes it, and reports through the injected io. The modules a command runs with
+ * are imported when it runs (commandModules.ts), so declaring the commands costs next to nothing.
  */
 import fs from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
-import { buildSiteRounds } from '../interpret/roundModel.js';
-import { OutputError, regenerateOutputs } from '../outputs.js';
-import { removeStrayTemps } from '../report/files.js';
-import { planText } from '../report/planText.js';
-import { runDemo } from '../demo/runDemo.js';
 import { terminalText } from '../util/terminalText.js';
-import { watchInbox } from '../watch/index.js';
-import { watchConfig } from '../watch/configWatch.js';
-import { reloadConfiguration } from './retry.js';
-import { resolvePaths } from '../workspace.js';
+import { addCommonOptions, type CommonOptions } from './commonOptions.js';
 import { InputRejectedError, InterruptedError, printJson, UsageError, type CliIo } from './io.js';
 import { parseIntegerOption } from './parseArgs.js';
-import { catchUp, ingestFiles, processAndTell, signalExitCode } from './runFiles.js';
-import { addCommonOptions, checkInbox, withWorkspace, type CommonOptions } from './workspaceOptions.js';
+import { stampLines } from './stampLines.js';
 
 export type { CommonOptions };
-export { addCommonOptions, withWorkspace };
+export { addCommonOptions };
+
+const commandModules = () => import('./commandModules.js');
+
+/** Every file under `dir`, relative to `base` with `/` between folders, sorted. */
+function filesUnder(dir: string, base: string): string[] {
+  const entries = fs.readdirSync(dir, { withFileTypes: true, recursive: true });
+  return entries
+    .filter((entry) => entry.isFile())
+    .map((entry) => path.relative(base, path.join(entry.parentPath, entry.name)).split(path.sep).join('/'))
+    .sort();
+}
 
 /** Sample IDs printed by `status` before "and N more" (--json lists them all). */
 const STATUS_LIST_LIMIT = 20;
@@ -40,6 +43,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .argument('<files...>', 'files to ingest (usually in the inbox)')
       .option('--json', 'print the receipts as JSON'),
   ).action(async (files: string[], options: CommonOptions) => {
+    const { checkInbox, ingestFiles, signalExitCode, withWorkspace } = await commandModules();
     const resolved = files.map((file) => path.resolve(io.cwd, file));
     for (const file of resolved) if (!fs.existsSync(file)) throw new UsageError(terminalText(`no such file: ${file}`));
     checkInbox(io, options);
@@ -68,11 +72,15 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   ).action(async (options: CommonOptions & { poll?: boolean; stableMs: string }) => {
     const stableMs = Number(options.stableMs);
     if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
+    const { catchUp, checkInbox, processAndTell, reloadConfiguration, watchConfig, watchInbox, withWorkspace } = await commandModules();
     checkInbox(io, options);
-    await withWorkspace(io, options, async (ws) => {
+    // A watch runs for days and its output is a log: every line it writes begins with the time
+    // (ISO 8601, UTC, from the injected clock).
+    const log = stampLines(io);
+    await withWorkspace(log, options, async (ws) => {
       fs.mkdirSync(ws.inbox, { recursive: true });
-      catchUp(ws, io);
-      io.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
+      catchUp(ws, log);
+      log.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
       // One thing at a time on the workspace: a dropped file, or a reload of the configuration
       // (with the retry of refused files it brings).
       let last: Promise<unknown> = Promise.resolve();
@@ -81,16 +89,15 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         last = run.catch(() => undefined);
         return run;
       };
-      const stamp = () => io.now().toISOString();
       const configWatch = watchConfig({
         dir: ws.configDir,
         poll: options.poll === true,
         onChange: () => {
-          void inTurn(() => reloadConfiguration(ws, io, stamp)).catch((error: unknown) =>
-            io.stderr(`${stamp()} ropewatch: reloading the configuration failed: ${terminalText((error as Error).message ?? String(error))}\n`),
+          void inTurn(() => reloadConfiguration(ws, log)).catch((error: unknown) =>
+            log.stderr(`ropewatch: reloading the configuration failed: ${terminalText((error as Error).message ?? String(error))}\n`),
           );
         },
-        onError: (error) => io.stderr(`${stamp()} ropewatch: the configuration folder cannot be watched: ${terminalText((error as Error).message ?? String(error))}\n`),
+        onError: (error) => log.stderr(`ropewatch: the configuration folder cannot be watched: ${terminalText((error as Error).message ?? String(error))}\n`),
       });
       await configWatch.ready;
       try {
@@ -100,11 +107,11 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           stableMs,
           stop: (io.stopSignal ?? new Promise<void>(() => {})).then(() => undefined),
           // watchInbox logs file names as found in the folder; the watcher itself says "stopped".
-          log: (line) => io.stdout(`${terminalText(line)}\n`),
-          onError: (error, file) => io.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
+          log: (line) => log.stdout(`${terminalText(line)}\n`),
+          onError: (error, file) => log.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
           onFile: async (file) => {
             // A file still being written is read again when it settles (the watcher saw it change).
-            await inTurn(() => processAndTell(ws, file, io, false));
+            await inTurn(() => processAndTell(ws, file, log, false));
           },
         });
       } finally {
@@ -116,7 +123,8 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
 
   addCommonOptions(
     program.command('status').description('what the store holds: files, rows, unresolved samples, sites and their last round').option('--json', 'print as JSON'),
-  ).action((options: CommonOptions) => {
+  ).action(async (options: CommonOptions) => {
+    const { buildSiteRounds, withWorkspace } = await commandModules();
     withWorkspace(io, options, (ws) => {
       const counts = ws.store.counts();
       const unresolved = ws.store.unresolvedSampleIds();
@@ -166,8 +174,10 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .command('report')
       .description('regenerate outputs (summaries, cluster reviews, rope lists, pages) from the store')
       .option('--site <site>', 'only this site')
-      .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole'),
-  ).action((options: CommonOptions & { site?: string; round?: string }) => {
+      .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole')
+      .option('--json', 'print what was written as JSON: per site its rounds and files'),
+  ).action(async (options: CommonOptions & { site?: string; round?: string }) => {
+    const { OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } = await commandModules();
     withWorkspace(io, options, (ws) => {
       if (options.round !== undefined && options.site === undefined) throw new UsageError('--round needs --site');
       let siteIds: string[] | undefined;
@@ -189,6 +199,21 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         const exists = analyses[0]?.rounds.some((round) => round.number === number);
         if (!exists) throw new UsageError(`site ${options.site} has no round ${options.round}`);
       }
+      if (options.json) {
+        // A site's folder is staged and swapped in whole, stale round folders removed: what it
+        // holds now is what this run wrote.
+        printJson(io, {
+          outbox: ws.outbox,
+          index: fs.existsSync(path.join(ws.outbox, 'index.html')) ? 'index.html' : null,
+          sites: analyses.map((analysis) => ({
+            site: analysis.site.id,
+            name: analysis.site.name,
+            rounds: analysis.rounds.map((round) => ({ number: round.number, id: round.id, startOn: round.startOn })),
+            files: fs.existsSync(path.join(ws.outbox, analysis.site.id)) ? filesUnder(path.join(ws.outbox, analysis.site.id), ws.outbox) : [],
+          })),
+        });
+        return;
+      }
       for (const analysis of analyses) io.stdout(`wrote ${analysis.site.id}: ${analysis.rounds.length} round(s)\n`);
     });
   });
@@ -202,6 +227,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       )
       .option('--force', 'also reset a store that holds files the demo did not make (a configuration the demo did not write is never replaced)'),
   ).action(async (options: CommonOptions & { force?: boolean }) => {
+    const { resolvePaths, runDemo } = await commandModules();
     await runDemo(io, resolvePaths(io.cwd, options), options.force === true);
   });
 
@@ -212,8 +238,9 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .requiredOption('--site <site>', 'site id, code or name')
       .option('--budget <ropes>', "ropes the producer will hang this round (overrides the site's ropeBudget)")
       .option('--json', 'print the plan as JSON'),
-  ).action((options: CommonOptions & { site: string; budget?: string }) => {
+  ).action(async (options: CommonOptions & { site: string; budget?: string }) => {
     const budget = options.budget === undefined ? undefined : parseIntegerOption('--budget', options.budget, 0, 100_000);
+    const { planText, regenerateOutputs, withWorkspace } = await commandModules();
     withWorkspace(io, options, (ws) => {
       const wanted = options.site.toUpperCase();
       const site = ws.config.sites.find((candidate) => [candidate.id, candidate.code, candidate.name].some((name) => name.toUpperCase() === wanted));

@@ -1,11 +1,21 @@
+import { readFileSync } from 'node:fs';
 import { Command, CommanderError } from 'commander';
 import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } from './io.js';
 import { registerCalc } from './calc.js';
 import { registerPipelineCommands } from './commands.js';
-import { registerRetry } from './retry.js';
+import { registerRetry } from './retryCommand.js';
 
 /**
- * Builds the command tree. Each command's action throws UsageError (exit 2) or
+ * The version in package.json, two folders up from this file both in src/cli (tests, tsx) and in
+ * dist/cli (the installed program).
+ */
+export function packageVersion(): string {
+  return (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string }).version;
+}
+
+/**
+ * Builds the command tree. Declaring it loads only commander and small modules: each command
+ * imports what it runs with when it runs, so `--help` and `--version` start quickly. Each command's action throws UsageError (exit 2) or
  * InputRejectedError (exit 1), or returns normally (exit 0).
  */
 export function buildProgram(io: CliIo): Command {
@@ -13,7 +23,9 @@ export function buildProgram(io: CliIo): Command {
   program
     .description('Oral-fluid PCR surveillance: map lab results to pens and rounds, measure what each round proved, plan the next ropes.')
     .showHelpAfterError()
-    .configureOutput({ writeOut: io.stdout, writeErr: io.stderr });
+    .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
+    // GNU Coding Standards 4.8.1: --version prints the program's name and version on its first line.
+    .version(`ropewatch ${packageVersion()}`, '-V, --version', 'print the program name and version, then exit');
   registerPipelineCommands(program, io);
   registerRetry(program, io);
   registerCalc(program, io);
@@ -29,12 +41,20 @@ function applyExitOverride(command: Command): void {
 export async function main(argv: readonly string[], io: CliIo): Promise<number> {
   const program = buildProgram(io);
   applyExitOverride(program);
+  if (argv.length === 0) {
+    // No command is a usage error: the help goes to stderr, exit 2 (`ropewatch --help` is exit 0).
+    io.stderr(program.helpInformation());
+    return EXIT.usage;
+  }
   try {
     await program.parseAsync([...argv], { from: 'user' });
     return EXIT.ok;
   } catch (error) {
     if (error instanceof CommanderError) {
-      if (error.code === 'commander.helpDisplayed' || error.code === 'commander.help' || error.code === 'commander.version') return EXIT.ok;
+      if (error.code === 'commander.helpDisplayed' || error.code === 'commander.version') return EXIT.ok;
+      // `ropewatch help` exits 0; a command group named without its subcommand (`ropewatch calc`)
+      // prints the help as an error, which commander marks with a non-zero exit code.
+      if (error.code === 'commander.help') return error.exitCode === 0 ? EXIT.ok : EXIT.usage;
       return EXIT.usage;
     }
     if (error instanceof UsageError) {

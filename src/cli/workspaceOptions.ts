@@ -1,28 +1,18 @@
 /**
- * What every workspace command shares: the --config, --db, --inbox and --outbox options, opening
- * the workspace at the edge (configuration and store problems become usage errors, exit 2), and
- * the inbox check before anything is stored.
+ * What every workspace command shares when it runs: opening the workspace at the edge
+ * (configuration and store problems become usage errors, exit 2), and the inbox check before
+ * anything is stored. The --config, --db, --inbox and --outbox options are declared in
+ * `commonOptions.ts`.
  */
-import type { Command } from 'commander';
 import { ConfigError } from '../config/load.js';
 import { inboxProblem } from '../inboxFiles.js';
 import { StoreOpenError } from '../store/store.js';
 import { terminalText } from '../util/terminalText.js';
-import { openWorkspace, resolvePaths, type OpenOptions, type PathOptions, type Workspace } from '../workspace.js';
+import { openWorkspace, resolvePaths, type OpenOptions, type Workspace } from '../workspace.js';
+import type { CommonOptions } from './commonOptions.js';
 import { UsageError, type CliIo } from './io.js';
 
-export interface CommonOptions extends PathOptions {
-  json?: boolean;
-}
-
-/** --config, --db, --inbox, --outbox: the same on every command that touches the workspace. */
-export function addCommonOptions(command: Command): Command {
-  return command
-    .option('--config <dir>', 'configuration folder (sites.yaml, assays.yaml, labs/)', 'config')
-    .option('--db <file>', 'SQLite store', 'data/ropewatch.db')
-    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', 'inbox')
-    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
-}
+export { addCommonOptions, type CommonOptions } from './commonOptions.js';
 
 /** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
 export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T, open: OpenOptions = {}): T {

@@ -43,8 +43,8 @@ describe('several configuration problems through the CLI', () => {
     const ws = workspace({ configFiles: BROKEN });
     let stderr = '';
     const io = { stdout: () => {}, stderr: (text: string) => (stderr += text), cwd: ws.root, now: () => new Date(0), env: {} };
-    await reloadConfiguration({ configDir: ws.paths.configDir } as Workspace, io, () => 'T');
-    expect(stderr.split('\n')).toEqual([expect.stringMatching(/^T ropewatch: the configuration changed but cannot be loaded \(.*\); the previous configuration stays in force$/), '']);
+    await reloadConfiguration({ configDir: ws.paths.configDir } as Workspace, io);
+    expect(stderr.split('\n')).toEqual([expect.stringMatching(/^ropewatch: the configuration changed but cannot be loaded \(.*\); the previous configuration stays in force$/), '']);
     for (const key of ['assays[1].suspectBelow', 'programDefaults.designPrevalance', 'sites[0].barns[1].layout.rows', 'at nmae']) expect(stderr).toContain(key);
   });
 });

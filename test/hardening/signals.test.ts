@@ -90,6 +90,7 @@ describe('watch stopped by a signal', () => {
     });
     const run = await running;
     expect(run.code, run.stderr).toBe(0);
-    expect(stdout.match(/^stopped$/gm)).toEqual(['stopped']);
+    // Each line of a watch begins with its ISO 8601 time (runCli's fixed clock).
+    expect(stdout.match(/^2026-12-01T12:00:00\.000Z stopped$/gm)).toEqual(['2026-12-01T12:00:00.000Z stopped']);
   });
 });

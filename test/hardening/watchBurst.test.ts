@@ -86,8 +86,8 @@ describe('ropewatch watch with a burst of drops', () => {
     expect(look.files.every((file) => file.status === 'accepted' && file.rowsAccepted === ROWS_PER_FILE)).toBe(true);
     expect(look.results).toBe(FILES * ROWS_PER_FILE);
     // Each file was read once: one "accepted" line per file, no "skipped" (a second read).
-    expect(stdout.match(/^accepted nvdl_burst_/gm)).toHaveLength(FILES);
-    expect(stdout).not.toMatch(/^skipped/m);
+    expect(stdout.match(/^\S+Z accepted nvdl_burst_/gm)).toHaveLength(FILES);
+    expect(stdout).not.toMatch(/^\S+Z skipped/m);
     const archived = fs.readdirSync(path.join(ws.paths.inbox, 'archive')).sort();
     expect(archived).toHaveLength(FILES);
     // No "name.<hash>.csv" second copies: nothing was archived twice.

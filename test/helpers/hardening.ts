@@ -9,6 +9,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
 import { Store } from '../../src/store/store.js';
+import { compiledBin } from './compiledCli.js';
 
 export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
 
@@ -49,9 +50,9 @@ export interface CliResult {
   stderr: string;
 }
 
-/** `node --import tsx src/cli/bin.ts ...args` from the repository root. */
+/** `node dist/cli/bin.js ...args` (the compiled program, as installed) from the repository root. */
 export function spawnCli(args: readonly string[]): { child: ChildProcess; done: Promise<CliResult> } {
-  const child = spawn(process.execPath, ['--import', 'tsx', path.join(REPO_ROOT, 'src', 'cli', 'bin.ts'), ...args], {
+  const child = spawn(process.execPath, [compiledBin(), ...args], {
     cwd: REPO_ROOT,
     stdio: ['ignore', 'pipe', 'pipe'],
   });

@@ -1,0 +1,20 @@
+/**
+ * The options every workspace command declares. Kept apart from `workspaceOptions.ts` (which
+ * opens the workspace, and so loads the configuration and store modules) so that declaring the
+ * commands for `--help` loads nothing but commander.
+ */
+import type { Command } from 'commander';
+import type { PathOptions } from '../workspace.js';
+
+export interface CommonOptions extends PathOptions {
+  json?: boolean;
+}
+
+/** --config, --db, --inbox, --outbox: the same on every command that touches the workspace. */
+export function addCommonOptions(command: Command): Command {
+  return command
+    .option('--config <dir>', 'configuration folder (sites.yaml, assays.yaml, labs/)', 'config')
+    .option('--db <file>', 'SQLite store', 'data/ropewatch.db')
+    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', 'inbox')
+    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
+}
