@@ -10,7 +10,6 @@
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
-import { emptyReceipt, type Receipt } from './ingest/ingestFile.js';
 
 export const ARCHIVE_DIR = 'archive';
 export const REJECTED_DIR = 'rejected';
@@ -167,14 +166,6 @@ export function inspectInput(file: string): InputEntry {
   }
 }
 
-/** A receipt for an entry that is not a regular file: refused unread, left where it is. */
-export function notRegularFileReceipt(name: string, what: string, receivedAt: string): Receipt {
-  return {
-    ...emptyReceipt(name, '', receivedAt),
-    status: 'rejected',
-    reason: { code: 'not-a-regular-file', message: `${name}: not a regular file but ${what}; not read, and left where it is (remove it from the inbox)`, line: null, field: null },
-  };
-}
 
 /**
  * The file left its folder between the moment this process was asked to take it and the moment

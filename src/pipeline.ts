@@ -9,14 +9,13 @@
  */
 import path from 'node:path';
 import { RECEIPTS_FOLDER } from './config/names.js';
-import { FileStillChangingError, ingestFile, type Receipt } from './ingest/ingestFile.js';
+import { emptyReceipt, FileStillChangingError, ingestFile, type Receipt } from './ingest/ingestFile.js';
 import {
   ARCHIVE_DIR,
   FileTakenError,
   inspectInput,
   isGone,
   moveInto,
-  notRegularFileReceipt,
   reasonPath,
   receiptNames,
   REJECTED_DIR,
@@ -87,6 +86,15 @@ export function receiptText(receipt: Receipt): string {
   for (const warning of receipt.warnings) lines.push(`note: ${warning}`);
   // Names, sample IDs and quoted cells come from the file: escaped so a text viewer shows them.
   return lines.map(terminalText).join('\n') + '\n';
+}
+
+/** A receipt for an entry that is not a regular file: refused unread, left where it is. */
+export function notRegularFileReceipt(name: string, what: string, receivedAt: string): Receipt {
+  return {
+    ...emptyReceipt(name, '', receivedAt),
+    status: 'rejected',
+    reason: { code: 'not-a-regular-file', message: `${name}: not a regular file but ${what}; not read, and left where it is (remove it from the inbox)`, line: null, field: null },
+  };
 }
 
 export interface ProcessOutcome {

@@ -27,6 +27,9 @@ import { FileChangedError, mappedBatches, type MappedBatch, type MappingInput } 
 import { correctionsForFile, likelyMeantIds, type MeantId } from './plannedIds.js';
 import { normaliseSampleId } from './rows.js';
 import { ParseWorker } from './workerBatches.js';
+import { emptyReceipt, type Receipt } from './receipt.js';
+
+export { emptyReceipt, type Receipt };
 
 const HEAD_BYTES = 64 * 1024;
 /** The head never grows past this: a header this long is refused by the record reader anyway. */
@@ -39,40 +42,6 @@ export const PARSE_IN_WORKER_FROM_BYTES = 4 * 1024 * 1024;
 /** Rejected files up to this size keep their bytes in the store too. */
 const KEEP_BYTES_LIMIT = 16 * 1024 * 1024;
 
-export interface Receipt {
-  file: string;
-  sha256: string;
-  receivedAt: string;
-  status: 'accepted' | 'rejected' | 'duplicate';
-  kind: 'results' | 'ropes' | 'unknown';
-  lab: string | null;
-  encoding: string | null;
-  rows: { accepted: number; rejected: number; duplicate: number; superseded: number };
-  rejectedRows: RowRejection[];
-  rejectedRowsNotListed: number;
-  /** Result sample IDs of this file with no rope yet: kept, and resolved when the sheet arrives (first 500). */
-  unresolvedSampleIds: string[];
-  /** Unresolved sample IDs beyond those listed. */
-  unresolvedNotListed: number;
-  /** Earlier results that this rope sheet (or pattern) has now placed in a pen. */
-  resolvedSampleIds: string[];
-  warnings: string[];
-  reason: { code: RejectionCode; message: string; line: number | null; field: string | null } | null;
-  /** Sites whose outputs this file changed. */
-  sites: string[];
-  // The lists below are on every receipt that ingest writes (first RECEIPT_LIST_LIMIT of each, all counted).
-  /** Rows read as invalid (retest, never negative), each with the reason. */
-  invalidRows?: InvalidNote[];
-  invalidRowsNotListed?: number;
-  /** Rows whose lab call names another class than ropewatch reads from the value: both readings. */
-  callDisagreements?: CallDisagreement[];
-  callDisagreementsNotListed?: number;
-  /** Reports of this file that replaced earlier ones, or that earlier ones kept out: both readings and report dates. */
-  supersessions?: SupersessionNote[];
-  supersessionsNotListed?: number;
-  /** Rows read under the sample ID a person confirmed in config/corrections.yaml. */
-  sampleIdCorrections?: IdCorrectionNote[];
-}
 
 export interface IngestDeps {
   config: Config;
@@ -147,34 +116,6 @@ function readHead(file: string, size: number, linesNeeded: number): { head: Buff
   }
 }
 
-/** A receipt with nothing stored, refused or noted yet (status `accepted` until told otherwise). */
-export function emptyReceipt(file: string, sha256: string, receivedAt: string): Receipt {
-  return {
-    file,
-    sha256,
-    receivedAt,
-    status: 'accepted',
-    kind: 'unknown',
-    lab: null,
-    encoding: null,
-    rows: { accepted: 0, rejected: 0, duplicate: 0, superseded: 0 },
-    rejectedRows: [],
-    rejectedRowsNotListed: 0,
-    unresolvedSampleIds: [],
-    unresolvedNotListed: 0,
-    resolvedSampleIds: [],
-    warnings: [],
-    reason: null,
-    sites: [],
-    invalidRows: [],
-    invalidRowsNotListed: 0,
-    callDisagreements: [],
-    callDisagreementsNotListed: 0,
-    supersessions: [],
-    supersessionsNotListed: 0,
-    sampleIdCorrections: [],
-  };
-}
 
 /** Appends to a receipt list up to RECEIPT_LIST_LIMIT; returns how many did not fit. */
 function listInto<T>(list: T[], items: readonly T[]): number {
