@@ -6,6 +6,7 @@ import { canonicalPenKey, expandLayout, penContacts, pensByKey, type BarnLayout,
 import {
   assaysFileSchema,
   correctionsFileSchema,
+  labAssaySchema,
   labProfileSchema,
   programOverridesSchema,
   programSchema,
@@ -31,6 +32,7 @@ import type {
   ReportStatusKind,
   SampleIdCorrection,
   Site,
+  SpAssay,
 } from './types.js';
 
 /** Confirmed sample-ID corrections, beside sites.yaml (optional). */
@@ -318,28 +320,68 @@ function loadAssays(file: string): Assay[] {
   const raw = validate(assaysFileSchema, readYaml(file), file);
   // Assay ids match exactly, but two that differ in case only would read as one in every report.
   const ids = new NameRegistry(file);
-  return raw.assays.map((assay, index) => {
+  const assays = raw.assays.map((assay, index): Assay => {
     const at = (key: string) => formatPath(['assays', index, key]);
     ids.claim(assay, 'assay id', assay.id, at('id'));
-    if (!(assay.positiveBelow <= assay.suspectBelow)) throw new ConfigError(file, at('suspectBelow'), 'must be at or above positiveBelow');
-    if (!(assay.suspectBelow <= assay.cycleLimit)) throw new ConfigError(file, at('suspectBelow'), 'must be at or below cycleLimit');
-    const bands = [...assay.loadBands];
+    const common = { id: assay.id, name: assay.name, target: assay.target, notifiable: assay.notifiable, source: assay.source };
+    if (assay.measure === 'sp-ratio') return Object.freeze(spAssay(assay, common, file, index));
+    // The schema requires these for a Ct assay (measure ct).
+    const positiveBelow = assay.positiveBelow!;
+    const suspectBelow = assay.suspectBelow!;
+    const cycleLimit = assay.cycleLimit!;
+    if (!(positiveBelow <= suspectBelow)) throw new ConfigError(file, at('suspectBelow'), 'must be at or above positiveBelow');
+    if (!(suspectBelow <= cycleLimit)) throw new ConfigError(file, at('suspectBelow'), 'must be at or below cycleLimit');
+    const bands = assay.loadBands!.map((band) => ({ name: band.name, below: band.below! }));
     for (let i = 1; i < bands.length; i++) {
       if (!(bands[i]!.below > bands[i - 1]!.below)) throw new ConfigError(file, formatPath(['assays', index, 'loadBands', i, 'below']), 'bands must be in increasing Ct order');
     }
-    return Object.freeze({
-      id: assay.id,
-      name: assay.name,
-      target: assay.target,
-      positiveBelow: assay.positiveBelow,
-      suspectBelow: assay.suspectBelow,
-      cycleLimit: assay.cycleLimit,
-      loadBands: bands,
-      sequencingBelow: assay.sequencingBelow,
-      notifiable: assay.notifiable,
-      source: assay.source,
-    });
+    return Object.freeze({ ...common, measure: 'ct', positiveBelow, suspectBelow, cycleLimit, loadBands: bands, sequencingBelow: assay.sequencingBelow });
   });
+  checkPairs(assays, file);
+  return assays;
+}
+
+/** An antibody ELISA (measure sp-ratio): S/P cutoffs, optional S/P bands (highest first). */
+function spAssay(assay: z.output<typeof assaysFileSchema>['assays'][number], common: Omit<SpAssay, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove' | 'loadBands' | 'pairedWith'>, file: string, index: number): SpAssay {
+  const positiveAtOrAbove = assay.positiveAtOrAbove!;
+  if (assay.suspectAtOrAbove !== undefined && !(assay.suspectAtOrAbove <= positiveAtOrAbove)) {
+    throw new ConfigError(file, formatPath(['assays', index, 'suspectAtOrAbove']), 'must be at or below positiveAtOrAbove (the suspect band lies just below the positive cutoff)');
+  }
+  const bands = (assay.loadBands ?? []).map((band) => ({ name: band.name, atOrAbove: band.atOrAbove! }));
+  for (let i = 1; i < bands.length; i++) {
+    if (!(bands[i]!.atOrAbove < bands[i - 1]!.atOrAbove)) throw new ConfigError(file, formatPath(['assays', index, 'loadBands', i, 'atOrAbove']), 'S/P bands must be in decreasing S/P order');
+  }
+  return { ...common, measure: 'sp-ratio', positiveAtOrAbove, suspectAtOrAbove: assay.suspectAtOrAbove, loadBands: bands, pairedWith: assay.pairedWith };
+}
+
+/** `pairedWith` names a Ct assay of the same file: the PCR assay whose results stand beside the antibody's. */
+function checkPairs(assays: readonly Assay[], file: string): void {
+  assays.forEach((assay, index) => {
+    if (assay.measure !== 'sp-ratio' || assay.pairedWith === undefined) return;
+    const other = assays.find((candidate) => candidate.id === assay.pairedWith);
+    const at = formatPath(['assays', index, 'pairedWith']);
+    if (other === undefined) throw new ConfigError(file, at, `names assay ${assay.pairedWith}, which is not in assays.yaml`);
+    if (other.measure !== 'ct') throw new ConfigError(file, at, `names assay ${other.id}, which is not a Ct (PCR) assay: an antibody assay pairs with the PCR assay of the same pathogen`);
+  });
+}
+
+/**
+ * An antibody assay needs a rope sensitivity of its own: the chance that the rope of an exposed
+ * pen tests antibody positive is not the chance that an infected pen's rope tests PCR positive,
+ * so the program default (set for PCR) is never used for it silently.
+ */
+function checkAntibodySensitivity(sites: readonly Site[], assays: readonly Assay[], file: string): void {
+  for (const assay of assays) {
+    if (assay.measure !== 'sp-ratio') continue;
+    const missing = sites.filter((site) => site.program.ropeSensitivity.byAssay[assay.id] === undefined);
+    if (missing.length === 0) continue;
+    const keyPath = missing.length === sites.length ? formatPath(['programDefaults', 'ropeSensitivity', assay.id]) : formatPath(['sites', sites.indexOf(missing[0]!), 'program', 'ropeSensitivity', assay.id]);
+    throw new ConfigError(
+      file,
+      keyPath,
+      `is missing: ${assay.id} is an antibody assay (measure sp-ratio) and needs its own rope sensitivity, the chance that the rope of a pen exposed at the design prevalence tests antibody positive; the PCR default does not apply`,
+    );
+  }
 }
 
 function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfile {
@@ -354,17 +396,7 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
     labAssayNames.claim(labAssayName, 'lab assay name', labAssayName, at);
     const assay = assayById.get(entry.assay);
     if (!assay) throw new ConfigError(file, `${at}.assay`, `names assay ${entry.assay}, which is not in assays.yaml`);
-    const labAssay: LabAssay = {
-      labAssayName,
-      assayId: assay.id,
-      positiveBelow: entry.positiveBelow ?? assay.positiveBelow,
-      suspectBelow: entry.suspectBelow ?? assay.suspectBelow,
-      cycleLimit: entry.cycleLimit ?? assay.cycleLimit,
-    };
-    if (!(labAssay.positiveBelow <= labAssay.suspectBelow && labAssay.suspectBelow <= labAssay.cycleLimit)) {
-      throw new ConfigError(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
-    }
-    assays.set(foldToken(labAssayName), Object.freeze(labAssay));
+    assays.set(foldToken(labAssayName), Object.freeze(labAssayOf(labAssayName, entry, assay, file, at)));
   }
   const words = labWords(raw, file);
   return Object.freeze({
@@ -379,7 +411,8 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
     columns: {
       sampleId: raw.columns.sampleId,
       assay: raw.columns.assay,
-      ct: raw.columns.ct,
+      // The schema requires one of the two.
+      result: (raw.columns.result ?? raw.columns.ct)!,
       call: raw.columns.call,
       accession: raw.columns.accession,
       collectedOn: raw.columns.collectedOn,
@@ -394,6 +427,46 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay>): LabProfil
     ...words,
     assays,
   });
+}
+
+/**
+ * A lab's reading of one assay: the assay's cutoffs, each overridden by the lab's own. Cutoffs
+ * of the other measure (positiveBelow for an S/P assay, positiveAtOrAbove for a Ct assay) are
+ * refused: they would be read the wrong way round.
+ */
+function labAssayOf(labAssayName: string, entry: z.output<typeof labAssaySchema>, assay: Assay, file: string, at: string): LabAssay {
+  const foreign = assay.measure === 'ct' ? (['positiveAtOrAbove', 'suspectAtOrAbove'] as const) : (['positiveBelow', 'suspectBelow', 'cycleLimit'] as const);
+  for (const key of foreign) {
+    if (entry[key] !== undefined) {
+      const use = assay.measure === 'ct' ? 'positiveBelow, suspectBelow and cycleLimit (Ct)' : 'positiveAtOrAbove and suspectAtOrAbove (S/P)';
+      throw new ConfigError(file, `${at}.${key}`, `does not apply: assay ${assay.id} has measure ${assay.measure}; give ${use}`);
+    }
+  }
+  if (assay.measure === 'sp-ratio') {
+    const labAssay: LabAssay = {
+      labAssayName,
+      assayId: assay.id,
+      measure: 'sp-ratio',
+      positiveAtOrAbove: entry.positiveAtOrAbove ?? assay.positiveAtOrAbove,
+      suspectAtOrAbove: entry.suspectAtOrAbove ?? assay.suspectAtOrAbove,
+    };
+    if (labAssay.suspectAtOrAbove !== undefined && !(labAssay.suspectAtOrAbove <= labAssay.positiveAtOrAbove)) {
+      throw new ConfigError(file, at, 'cutoffs must satisfy suspectAtOrAbove <= positiveAtOrAbove');
+    }
+    return labAssay;
+  }
+  const labAssay: LabAssay = {
+    labAssayName,
+    assayId: assay.id,
+    measure: 'ct',
+    positiveBelow: entry.positiveBelow ?? assay.positiveBelow,
+    suspectBelow: entry.suspectBelow ?? assay.suspectBelow,
+    cycleLimit: entry.cycleLimit ?? assay.cycleLimit,
+  };
+  if (!(labAssay.positiveBelow <= labAssay.suspectBelow && labAssay.suspectBelow <= labAssay.cycleLimit)) {
+    throw new ConfigError(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
+  }
+  return labAssay;
 }
 
 /** English call words, used for each class a lab profile does not list (common practice, no source). */
@@ -509,6 +582,7 @@ export function loadConfig(dir: string): Config {
   const assays = loadAssays(assaysFile);
   const assayById = new Map(assays.map((assay) => [assay.id, assay]));
   const { organisation, analysis, sites } = loadSites(sitesFile, new Set(assayById.keys()));
+  checkAntibodySensitivity(sites, assays, sitesFile);
   let labFiles: string[] = [];
   try {
     labFiles = fs
