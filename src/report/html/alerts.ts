@@ -74,7 +74,7 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         kind: 'new-positive-barn',
         assayId: assay.id,
         barnId: barn.barnId,
-        message: `New positive barn: ${barn.name} (${barn.barnId}) has ${plural(tally.positive, `${assay.id} positive rope`)} (${tally.positivePens.join(', ')}) and had none in the previous round.${exposure}`,
+        message: `New positive barn: ${barn.name} (${barn.barnId}) has ${plural(tally.positive, `${assay.id} positive rope`)} (${tally.positivePens.join(', ')}) and ${previous?.assays.some((other) => other.id === assay.id) ? 'had none in the previous round' : `${assay.id} was not tested in the previous round`}.${exposure}`,
       });
     }
   }
