@@ -212,3 +212,32 @@ describe('a new positive barn after a round without the assay', () => {
     expect(alert.message).toContain('PRRSV-AB was not tested in the previous round');
   });
 });
+
+describe('earlier rounds on the cluster review', () => {
+  it('captions a small map of a round without the assay "not tested", never "0 +"', () => {
+    const config = smallConfig();
+    const site = config.sites[0]!;
+    const first = roundRopes('2026-08-03', 6, 'R1');
+    const second = roundRopes('2026-08-17', 6, 'R2');
+    const antibody: ResultInput[] = second.results.map((result, i) => ({
+      ...result,
+      id: 4000 + i,
+      assayId: 'PRRSV-AB',
+      measure: 'sp-ratio',
+      ct: null,
+      sp: i === 0 ? 1.2 : 0.1,
+      resultClass: i === 0 ? 'positive' : 'negative',
+      cycleLimit: null,
+      positiveAtOrAbove: 0.4,
+      suspectAtOrAbove: null,
+    }));
+    const rounds = buildSiteRounds(site, [...first.ropes, ...second.ropes], [...first.results, ...second.results, ...antibody]);
+    const confidence = siteConfidence(site, rounds);
+    const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
+    const summaries = summariseSite(config, site, rounds, confidence);
+    const html = renderClustersPage({ site, summaries, spatial, index: 1, assays: config.assayById, alpha: 0.05, alerts: [], notices: [] });
+    const antibodySection = html.slice(html.indexOf('data-assay-section="PRRSV-AB"'));
+    expect(antibodySection).toContain('r01 2026-08-03: not tested');
+    expect(html.slice(html.indexOf('data-assay-section="PRRSV"'), html.indexOf('data-assay-section="PRRSV-AB"'))).not.toContain('not tested');
+  });
+});

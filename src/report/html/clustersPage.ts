@@ -242,7 +242,9 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
             attributes: { 'data-map': 'mini', 'data-assay': assay.assayId, 'data-round': previous.round.id },
           });
           const n = previous.barns.find((b) => b.barnId === barn.id)?.assays.find((a) => a.assayId === assay.assayId)?.positive ?? 0;
-          return `<figure>${svg}<figcaption>r${String(previous.round.number).padStart(2, '0')} ${escapeHtml(previous.round.startOn)}: ${n} +</figcaption></figure>`;
+          // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
+          const tested = previous.assays.some((entry) => entry.id === assay.assayId);
+          return `<figure>${svg}<figcaption>r${String(previous.round.number).padStart(2, '0')} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}</figcaption></figure>`;
         })
         .join('')}<figure>${renderBarnMap(barn, { key: `${key}-mini-now`, scale: MINI_SCALE, detail: 'mini', title: `${barn.name}, ${assay.assayId}, this round`, results: marks, clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2) })}<figcaption><strong>this round: ${positives} +</strong></figcaption></figure></div>`
     : '';
