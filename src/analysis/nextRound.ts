@@ -268,6 +268,12 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     notes.push(`Follow-up ropes: at most ${program.followUpRopes} per barn, chosen one by one for the largest simulated gain in finding onward spread from the positives (greedy on a submodular objective: within 1 - 1/e of the best set; Nemhauser, Wolsey & Fisher 1978).`);
   }
 
+  const antibodyRetests = models.flatMap((model) => antibodyOnly(model.barn.id).map((pen) => `${model.barn.id} ${pen}`));
+  if (antibodyRetests.length > 0) {
+    notes.push(
+      `Antibody positive without virus in ${antibodyRetests.join(', ')}: a retest rope each, to be tested by PCR (antibody means exposure, not necessarily current infection; no follow-up ring is drawn around it).`,
+    );
+  }
   const plan = buildRoundPlan({
     siteCode: site.code,
     round: roundNumber,

@@ -94,6 +94,7 @@ describe('the next round after an antibody positive', () => {
     expect(plan.ropes.filter((rope) => rope.reason === 'retest').map((rope) => rope.penId)).toEqual(['A5']);
     expect(plan.ropes.filter((rope) => rope.reason === 'follow-up')).toEqual([]);
     expect(plan.barns[0]!.sizing).toMatchObject({ assayId: 'PRRSV', sensitivity: 0.9 });
+    expect(plan.notes.join('\n')).toContain('Antibody positive without virus in B1 A5: a retest rope each, to be tested by PCR');
   });
 
   it('still rings a PCR positive with follow-up ropes', () => {
