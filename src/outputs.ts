@@ -61,6 +61,7 @@ export function analyseSite(ws: Workspace, site: Site, results: readonly StoredR
     cache,
     today: format(ws.now(), 'yyyy-MM-dd'),
     existingIds,
+    measureOf: (assayId) => ws.config.assayById.get(assayId)?.measure ?? 'ct',
     ...(options.budget !== undefined ? { budget: options.budget } : {}),
   });
   return { site, rounds, confidence, summaries, spatial, plan };

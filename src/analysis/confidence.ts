@@ -4,7 +4,7 @@
  * probability of freedom across rounds. Pure: the round model and the program come in.
  */
 import { perAssayValue } from '../config/load.js';
-import type { Barn, Program, Site } from '../config/types.js';
+import type { Barn, Measure, Program, Site } from '../config/types.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import { daysBetween } from '../interpret/rounds.js';
 import {
@@ -22,6 +22,8 @@ import {
 export interface BarnConfidence {
   barnId: string;
   assayId: string;
+  /** `sp-ratio`: an antibody assay, whose figures are about exposure (see SiteConfidence). */
+  measure: Measure;
   /** N: pens in use. */
   pens: number;
   /** n: pens with a valid result for this assay (invalid results prove nothing). */
@@ -54,8 +56,15 @@ export interface PrevalenceEstimate {
   note: string | null;
 }
 
+/**
+ * Detection and freedom of one assay on a site. Each assay keeps its own: an antibody assay
+ * (measure sp-ratio) detects exposure (infection or vaccination, weeks back), so a negative
+ * antibody round adds to the probability of freedom from exposure and a positive one resets
+ * that, never the freedom of a PCR assay, which is about virus present now.
+ */
 export interface SiteConfidence {
   assayId: string;
+  measure: Measure;
   roundNumber: number;
   /** 1 - prod(1 - p_barn): the round's site-level sensitivity (SSe). */
   detectionConfidence: number;
@@ -121,6 +130,7 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
   return {
     barnId: barn.id,
     assayId,
+    measure: round.measures[assayId] ?? 'ct',
     pens,
     tested,
     designInfected,
@@ -140,7 +150,8 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
 /**
  * Confidence for every round of a site, per barn and assay, and freedom across rounds per assay.
  * A round in which an assay was not tested at all counts as a round of zero sensitivity: the
- * introduction risk still accrues, so a missed or late round lowers confidence.
+ * introduction risk still accrues, so a missed or late round lowers confidence. Assays never
+ * share a freedom: a positive of one (an antibody assay's above all) resets only its own.
  */
 export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundConfidence[] {
   const program = site.program;
@@ -172,6 +183,7 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
       const previousStep = freedom.rounds[index - 1];
       perRound[index]!.sites.push({
         assayId,
+        measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',
         roundNumber: rounds[index]!.number,
         detectionConfidence: round.sensitivity,
         positive: round.positive,

@@ -6,7 +6,7 @@
  * Pure: the round model, its confidence and spatial analysis, the clock value and the earlier
  * plan (for stable sample IDs) come in; a plain value goes out.
  */
-import type { AnalysisSettings, Barn, Site } from '../config/types.js';
+import type { AnalysisSettings, Barn, Measure, Site } from '../config/types.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import {
   allocateRopesBalanced,
@@ -103,6 +103,8 @@ export interface PlanInput {
   budget?: number;
   /** Sample IDs already planned for this round (pen -> ID), kept so a remade plan does not relabel tubes. */
   existingIds?: ReadonlyMap<string, string>;
+  /** The measure of an assay (assays.yaml); Ct when not given. Antibody assays do not size the plan. */
+  measureOf?: (assayId: string) => Measure;
 }
 
 interface BarnModel {
@@ -178,7 +180,13 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const last = rounds.at(-1);
   const roundNumber = (last?.number ?? 0) + 1;
   const due = last ? roundDue(last.startOn, program.intervalDays, input.today) : { dueDate: input.today, daysUntilDue: 0, overdue: false, daysOverdue: 0 };
-  const assays = last?.assays.length ? last.assays : Object.keys(program.ropeSensitivity.byAssay);
+  const measureOf = (assayId: string): Measure => last?.measures[assayId] ?? input.measureOf?.(assayId) ?? 'ct';
+  const candidates = last?.assays.length ? last.assays : Object.keys(program.ropeSensitivity.byAssay);
+  // The plan is for finding virus: PCR assays size it, and their positives draw follow-up ropes.
+  // An antibody assay sizes it only when no PCR assay is tested; an antibody positive pen
+  // without a PCR positive gets a retest rope (its rope is tested by PCR: common practice, no source).
+  const pcrAssays = candidates.filter((assayId) => measureOf(assayId) === 'ct');
+  const assays = pcrAssays.length > 0 ? pcrAssays : candidates;
   const models = barnModels(input, assays);
   const notes: string[] = [];
   const sizingNotes: string[] = [];
@@ -220,11 +228,24 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       : 'Ropes are sized with the hypergeometric model (infected pens at random; Cameron & Baldock 1998).',
   );
 
-  const pensWhere = (barnId: string, key: 'positivePens' | 'suspectPens' | 'invalidPens') =>
-    [...new Set(Object.values(last?.barns.find((barn) => barn.barnId === barnId)?.byAssay ?? {}).flatMap((tally) => tally[key]))];
+  const pensWhere = (barnId: string, key: 'positivePens' | 'suspectPens' | 'invalidPens', measure?: Measure) =>
+    [
+      ...new Set(
+        Object.entries(last?.barns.find((barn) => barn.barnId === barnId)?.byAssay ?? {})
+          .filter(([assayId]) => measure === undefined || measureOf(assayId) === measure)
+          .flatMap(([, tally]) => tally[key]),
+      ),
+    ];
   const lastSpatial = input.spatial.at(-1);
   const clustersOf = (barnId: string) =>
-    (lastSpatial?.assays ?? []).flatMap((assay) => assay.report.barns.find((barn) => barn.barn === barnId)?.clusters.map((cluster) => cluster.pens) ?? []);
+    (lastSpatial?.assays ?? [])
+      .filter((assay) => measureOf(assay.assayId) === 'ct')
+      .flatMap((assay) => assay.report.barns.find((barn) => barn.barn === barnId)?.clusters.map((cluster) => cluster.pens) ?? []);
+  /** Antibody-positive pens with no PCR positive: retested (by PCR), not ringed with follow-up ropes. */
+  const antibodyOnly = (barnId: string) => {
+    const virus = new Set(pensWhere(barnId, 'positivePens', 'ct'));
+    return pensWhere(barnId, 'positivePens', 'sp-ratio').filter((pen) => !virus.has(pen));
+  };
 
   // With a cap on follow-up ropes, the ring pens are chosen by simulated onward spread from the
   // positives (two steps of the spread model, about one interval): greedy on a submodular gain.
@@ -247,12 +268,18 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     notes.push(`Follow-up ropes: at most ${program.followUpRopes} per barn, chosen one by one for the largest simulated gain in finding onward spread from the positives (greedy on a submodular objective: within 1 - 1/e of the best set; Nemhauser, Wolsey & Fisher 1978).`);
   }
 
+  const antibodyRetests = models.flatMap((model) => antibodyOnly(model.barn.id).map((pen) => `${model.barn.id} ${pen}`));
+  if (antibodyRetests.length > 0) {
+    notes.push(
+      `Antibody positive without virus in ${antibodyRetests.join(', ')}: a retest rope each, to be tested by PCR (antibody means exposure, not necessarily current infection; no follow-up ring is drawn around it).`,
+    );
+  }
   const plan = buildRoundPlan({
     siteCode: site.code,
     round: roundNumber,
     dueDate: due.dueDate,
     barns: models.map((model, index) => {
-      const positives = pensWhere(model.barn.id, 'positivePens');
+      const positives = pensWhere(model.barn.id, 'positivePens', 'ct');
       const detectSet = onwardDetect(model, positives);
       return {
         barnId: model.barn.id,
@@ -260,7 +287,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
         roundIndex: rounds.length,
         routineRopes: routine[index]!,
         positives,
-        suspects: pensWhere(model.barn.id, 'suspectPens'),
+        suspects: [...new Set([...pensWhere(model.barn.id, 'suspectPens'), ...antibodyOnly(model.barn.id)])],
         invalids: pensWhere(model.barn.id, 'invalidPens'),
         clusters: clustersOf(model.barn.id),
         ringDistance: program.followUpRadius,

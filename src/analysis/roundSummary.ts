@@ -3,7 +3,7 @@
  * model (ropes, results, classes) with what the round proved (confidence, freedom). The writers
  * in src/report turn it into summary.json and summary.csv without computing anything.
  */
-import type { Config, Site } from '../config/types.js';
+import type { Assay, Config, Measure, Site } from '../config/types.js';
 import {
   ctHistory,
   type AssayTally,
@@ -40,11 +40,26 @@ export type PenResultSummary = Omit<PenAssayResult, 'assayId' | 'otherSampleIds'
 /** A lab report behind the round, with the lab's name. */
 export type SourceSummary = ResultSource & { labName: string; barnIds: string[] };
 
+/** The cutoffs of an assay in assays.yaml: those of its measure, null the others. */
+export interface CutoffDefaults {
+  positiveBelow: number | null;
+  suspectBelow: number | null;
+  cycleLimit: number | null;
+  positiveAtOrAbove: number | null;
+  suspectAtOrAbove: number | null;
+}
+
 /** Cutoffs a lab used for an assay this round, beside the assay's defaults in assays.yaml. */
 export type CutoffSummary = RoundCutoff & {
   labName: string;
-  defaults: { positiveBelow: number; suspectBelow: number; cycleLimit: number } | null;
+  defaults: CutoffDefaults | null;
 };
+
+/** An antibody assay of the round and the PCR assay of the same pathogen it pairs with (assays.yaml `pairedWith`). */
+export interface AssayPair {
+  antibody: string;
+  pcr: string;
+}
 
 /** A sequencing candidate: a positive pen whose Ct is below the assay's sequencing threshold. */
 export interface SequencingCandidates {
@@ -86,7 +101,18 @@ export interface RoundSummary {
     priorFreedom: number;
     introductionPerInterval: number;
   };
-  assays: { id: string; name: string; notifiable: boolean; site: SiteConfidence }[];
+  assays: {
+    id: string;
+    name: string;
+    notifiable: boolean;
+    /** `sp-ratio`: an antibody assay; its detection and freedom are of exposure, not of current infection. */
+    measure: Measure;
+    /** An antibody assay: the PCR assay it pairs with (assays.yaml `pairedWith`), else null. */
+    pairedWith: string | null;
+    site: SiteConfidence;
+  }[];
+  /** Antibody assays of the round paired with a PCR assay: both are shown per pen. */
+  pairs: AssayPair[];
   barns: BarnSummary[];
   pens: PenSummary[];
   /** Where the results came from: lab, case number, collection and report dates. */
@@ -114,6 +140,30 @@ export function sequencingReading(below: number): string {
   return `Ct below ${below}: enough viral RNA that sequencing is likely to succeed (common practice, no published source).`;
 }
 
+/** The defaults in assays.yaml of an assay's cutoffs, by its measure. */
+export function cutoffDefaults(assay: Assay): CutoffDefaults {
+  return assay.measure === 'ct'
+    ? { positiveBelow: assay.positiveBelow, suspectBelow: assay.suspectBelow, cycleLimit: assay.cycleLimit, positiveAtOrAbove: null, suspectAtOrAbove: null }
+    : { positiveBelow: null, suspectBelow: null, cycleLimit: null, positiveAtOrAbove: assay.positiveAtOrAbove, suspectAtOrAbove: assay.suspectAtOrAbove ?? null };
+}
+
+/** The sequencing threshold of a Ct assay; an antibody assay has none (an S/P says nothing of viral RNA). */
+function sequencingBelowOf(assay: Assay | undefined): number | undefined {
+  return assay?.measure === 'ct' ? assay.sequencingBelow : undefined;
+}
+
+/**
+ * What an antibody result means, printed with every antibody assay: an oral-fluid antibody
+ * positive means exposure (infection or vaccination), and an unexpected one is retested by PCR
+ * (common practice, no source).
+ */
+export function antibodyMeaning(assayName: string, pcrName: string | null): string {
+  return (
+    `${assayName} detects antibodies (S/P ratio, higher = more antibody): a positive means exposure (infection or vaccination), not necessarily current infection. ` +
+    `Its detection and freedom figures are of exposure; it never resets the freedom of ${pcrName ?? 'a PCR assay'}, and an unexpected positive is retested by PCR.`
+  );
+}
+
 /** Positive, with a Ct below the assay's sequencing threshold (when one is configured). */
 export function isSequencingCandidate(result: { resultClass: string; ct: number | null }, sequencingBelow: number | undefined): boolean {
   return sequencingBelow !== undefined && result.resultClass === 'positive' && result.ct !== null && result.ct < sequencingBelow;
@@ -130,6 +180,18 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       .filter((assay) => assay?.notifiable)
       .map((assay) => notifiableNotice(assay!.name));
     for (const entry of roundConfidence.sites) {
+      const assay = config.assayById.get(entry.assayId);
+      if (assay?.measure === 'sp-ratio') {
+        const pcr = assay.pairedWith === undefined ? null : (config.assayById.get(assay.pairedWith)?.name ?? assay.pairedWith);
+        notices.push(antibodyMeaning(assay.name, pcr));
+        if (entry.freedomReset) {
+          notices.push(
+            `${entry.assayId} antibody positive in barn${entry.positiveBarns.length === 1 ? '' : 's'} ${entry.positiveBarns.join(', ')}: exposure, not necessarily current infection. ` +
+              `The probability of freedom from exposure for ${site.name} is reset to 0; ${pcr === null ? 'the PCR freedom' : `the freedom of ${pcr}`} is not reset (retest the positive pens by PCR).`,
+          );
+        }
+        continue;
+      }
       if (entry.freedomReset) {
         notices.push(
           `${entry.assayId} positive in barn${entry.positiveBarns.length === 1 ? '' : 's'} ${entry.positiveBarns.join(', ')}: the probability of freedom for ${site.name} is reset to 0 and builds up again from the prior once rounds are negative.`,
@@ -171,7 +233,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
             (({ assayId: _assay, otherSampleIds: _others, ...kept }): PenResultSummary => ({
               ...kept,
               labName: labName(result.labId),
-              sequencingCandidate: isSequencingCandidate(result, config.assayById.get(assayId)?.sequencingBelow),
+              sequencingCandidate: isSequencingCandidate(result, sequencingBelowOf(config.assayById.get(assayId))),
               history: ctHistory(rounds.slice(0, index + 1), barnRound.barnId, pen.penId, assayId).map((point) => ({ ...point, labName: labName(point.labId) })),
             }))(result),
           ]),
@@ -179,7 +241,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       })),
     );
     const sequencing = assayIds.flatMap((assayId): SequencingCandidates[] => {
-      const below = config.assayById.get(assayId)?.sequencingBelow;
+      const below = sequencingBelowOf(config.assayById.get(assayId));
       if (below === undefined) return [];
       const candidates = pens.flatMap((pen) => {
         const result = pen.results[assayId];
@@ -203,7 +265,18 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       },
       assays: assayIds.map((id) => {
         const assay = config.assayById.get(id);
-        return { id, name: assay?.name ?? id, notifiable: assay?.notifiable ?? false, site: roundConfidence.sites.find((entry) => entry.assayId === id)! };
+        return {
+          id,
+          name: assay?.name ?? id,
+          notifiable: assay?.notifiable ?? false,
+          measure: assay?.measure ?? round.measures[id] ?? 'ct',
+          pairedWith: assay?.measure === 'sp-ratio' ? (assay.pairedWith ?? null) : null,
+          site: roundConfidence.sites.find((entry) => entry.assayId === id)!,
+        };
+      }),
+      pairs: assayIds.flatMap((id): AssayPair[] => {
+        const assay = config.assayById.get(id);
+        return assay?.measure === 'sp-ratio' && assay.pairedWith !== undefined ? [{ antibody: id, pcr: assay.pairedWith }] : [];
       }),
       barns,
       pens,
@@ -213,7 +286,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         return {
           ...cutoff,
           labName: labName(cutoff.labId),
-          defaults: assay ? { positiveBelow: assay.positiveBelow, suspectBelow: assay.suspectBelow, cycleLimit: assay.cycleLimit } : null,
+          defaults: assay ? cutoffDefaults(assay) : null,
         };
       }),
       disagreements: round.disagreements.map((entry) => ({ ...entry, labName: labName(entry.labId) })),

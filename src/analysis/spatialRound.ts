@@ -4,7 +4,7 @@
  * hypergeometric value, and alerts in plain words. Pure apart from the outbreak cache, which
  * only saves recomputing the same seeded simulation.
  */
-import type { AnalysisSettings, Barn, Site } from '../config/types.js';
+import type { AnalysisSettings, Barn, Measure, Site } from '../config/types.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import {
   analyseSiteRound,
@@ -27,8 +27,25 @@ export interface SpatialAlert {
   message: string;
 }
 
+/** The S/P ratios of a cluster of antibody-positive pens (the spatial report gives Ct summaries only). */
+export interface ClusterSp {
+  barnId: string;
+  cluster: number;
+  meanSp: number | null;
+  maxSp: number | null;
+}
+
 export interface AssaySpatial {
   assayId: string;
+  /**
+   * `sp-ratio`: the statistics are of antibody positives, Moran's I and Gi* of the S/P ratio
+   * (clipped at 0); the report's Ct fields are empty and the S/P values are below.
+   */
+  measure: Measure;
+  /** S/P of each sampled pen, `barn/pen` to S/P (antibody assays; empty for Ct). */
+  spByPen: Record<string, number | null>;
+  /** Per cluster of an antibody assay, its mean and highest S/P (empty for Ct). */
+  clusterSp: ClusterSp[];
   report: SiteSpatialReport;
   alerts: SpatialAlert[];
   /** Per barn: the hypergeometric detection confidence beside the spread-model one. */
@@ -116,6 +133,8 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
   return rounds.map((round, index) => {
     const seed = deriveSeed(settings.seed, site.id, round.number);
     const assays = round.assays.map((assayId): AssaySpatial => {
+      const measure = round.measures[assayId] ?? 'ct';
+      const spByPen: Record<string, number | null> = {};
       const barnInputs = round.barns.map((barnRound) => {
         const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
         const earlier = new Set<string>();
@@ -126,6 +145,8 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
           .filter((pen) => pen.results[assayId] !== undefined && barn.penById.get(pen.penId.toUpperCase())?.status === 'in-use')
           .map((pen) => {
             const result = pen.results[assayId]!;
+            if (measure === 'sp-ratio') spByPen[`${barn.id}/${pen.penId}`] = result.sp;
+            // The load of an S/P result is max(0, S/P): Moran's I and Gi* then read antibody level.
             return { id: pen.penId, positive: result.resultClass === 'positive', resultClass: result.resultClass, ct: result.ct, load: result.load };
           });
         return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: [...earlier] };
@@ -158,8 +179,24 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
         };
         return { barnId: barn.id, hypergeometric, spreadModel: comparison.actual.p, spreadModelSE: comparison.actual.standardError, randomRopes: comparison.random.p };
       });
-      const alerts = report.barns.flatMap((barnReport) => barnAlerts(barnReport, assayId, settings.alpha));
-      return { assayId, report, alerts, detection };
+      const alerts = report.barns
+        .flatMap((barnReport) => barnAlerts(barnReport, assayId, settings.alpha))
+        .map((alert) => (measure === 'sp-ratio' ? { ...alert, message: `${alert.message} (antibody positives: exposure, not necessarily current infection)` } : alert));
+      const clusterSp =
+        measure === 'sp-ratio'
+          ? report.barns.flatMap((barnReport) =>
+              barnReport.clusters.map((cluster): ClusterSp => {
+                const values = cluster.pens.map((pen) => spByPen[`${barnReport.barn}/${pen}`]).filter((sp): sp is number => sp !== null && sp !== undefined);
+                return {
+                  barnId: barnReport.barn,
+                  cluster: cluster.index,
+                  meanSp: values.length > 0 ? values.reduce((sum, sp) => sum + sp, 0) / values.length : null,
+                  maxSp: values.length > 0 ? Math.max(...values) : null,
+                };
+              }),
+            )
+          : [];
+      return { assayId, measure, spByPen, clusterSp, report, alerts, detection };
     });
     return {
       schema: CLUSTERS_SCHEMA,

@@ -6,6 +6,7 @@ import { canonicalPenKey, expandLayout, penContacts, pensByKey, type BarnLayout,
 import {
   assaysFileSchema,
   correctionsFileSchema,
+  labAssaySchema,
   labProfileSchema,
   programSchema,
   sitesFileSchema,
@@ -36,6 +37,7 @@ import type {
   RopeSheetColumns,
   SampleIdCorrection,
   Site,
+  SpAssay,
 } from './types.js';
 
 export { ConfigError, formatProblem, type ConfigProblem } from './problems.js';
@@ -451,28 +453,73 @@ function loadAssays(file: string, problems: ProblemList): Assay[] | undefined {
   if (raw === undefined) return undefined;
   // Assay ids match exactly, but two that differ in case only would read as one in every report.
   const ids = new NameRegistry(file, problems);
-  return raw.assays.map((assay, index) => {
+  const assays: Assay[] = [];
+  raw.assays.forEach((assay, index) => {
     const at = (key: string) => formatPath(['assays', index, key]);
     ids.claim(assay, 'assay id', assay.id, at('id'));
-    if (!(assay.positiveBelow <= assay.suspectBelow)) problems.add(file, at('suspectBelow'), 'must be at or above positiveBelow');
-    if (!(assay.suspectBelow <= assay.cycleLimit)) problems.add(file, at('suspectBelow'), 'must be at or below cycleLimit');
-    const bands = [...assay.loadBands];
+    const common = { id: assay.id, name: assay.name, target: assay.target, notifiable: assay.notifiable, source: assay.source };
+    if (assay.measure === 'sp-ratio') {
+      const sp = problems.guard(() => spAssay(assay, common, file, index));
+      if (sp !== undefined) assays.push(Object.freeze(sp));
+      return;
+    }
+    // The schema requires these for a Ct assay (measure ct).
+    const positiveBelow = assay.positiveBelow!;
+    const suspectBelow = assay.suspectBelow!;
+    const cycleLimit = assay.cycleLimit!;
+    if (!(positiveBelow <= suspectBelow)) problems.add(file, at('suspectBelow'), 'must be at or above positiveBelow');
+    if (!(suspectBelow <= cycleLimit)) problems.add(file, at('suspectBelow'), 'must be at or below cycleLimit');
+    const bands = assay.loadBands!.map((band) => ({ name: band.name, below: band.below! }));
     for (let i = 1; i < bands.length; i++) {
       if (!(bands[i]!.below > bands[i - 1]!.below)) problems.add(file, formatPath(['assays', index, 'loadBands', i, 'below']), 'bands must be in increasing Ct order');
     }
-    return Object.freeze({
-      id: assay.id,
-      name: assay.name,
-      target: assay.target,
-      positiveBelow: assay.positiveBelow,
-      suspectBelow: assay.suspectBelow,
-      cycleLimit: assay.cycleLimit,
-      loadBands: bands,
-      sequencingBelow: assay.sequencingBelow,
-      notifiable: assay.notifiable,
-      source: assay.source,
-    });
+    assays.push(Object.freeze({ ...common, measure: 'ct', positiveBelow, suspectBelow, cycleLimit, loadBands: bands, sequencingBelow: assay.sequencingBelow }));
   });
+  problems.guard(() => checkPairs(assays, file));
+  return assays;
+}
+
+/** An antibody ELISA (measure sp-ratio): S/P cutoffs, optional S/P bands (highest first). */
+function spAssay(assay: z.output<typeof assaysFileSchema>['assays'][number], common: Omit<SpAssay, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove' | 'loadBands' | 'pairedWith'>, file: string, index: number): SpAssay {
+  const positiveAtOrAbove = assay.positiveAtOrAbove!;
+  if (assay.suspectAtOrAbove !== undefined && !(assay.suspectAtOrAbove <= positiveAtOrAbove)) {
+    throw new ConfigError(file, formatPath(['assays', index, 'suspectAtOrAbove']), 'must be at or below positiveAtOrAbove (the suspect band lies just below the positive cutoff)');
+  }
+  const bands = (assay.loadBands ?? []).map((band) => ({ name: band.name, atOrAbove: band.atOrAbove! }));
+  for (let i = 1; i < bands.length; i++) {
+    if (!(bands[i]!.atOrAbove < bands[i - 1]!.atOrAbove)) throw new ConfigError(file, formatPath(['assays', index, 'loadBands', i, 'atOrAbove']), 'S/P bands must be in decreasing S/P order');
+  }
+  return { ...common, measure: 'sp-ratio', positiveAtOrAbove, suspectAtOrAbove: assay.suspectAtOrAbove, loadBands: bands, pairedWith: assay.pairedWith };
+}
+
+/** `pairedWith` names a Ct assay of the same file: the PCR assay whose results stand beside the antibody's. */
+function checkPairs(assays: readonly Assay[], file: string): void {
+  assays.forEach((assay, index) => {
+    if (assay.measure !== 'sp-ratio' || assay.pairedWith === undefined) return;
+    const other = assays.find((candidate) => candidate.id === assay.pairedWith);
+    const at = formatPath(['assays', index, 'pairedWith']);
+    if (other === undefined) throw new ConfigError(file, at, `names assay ${assay.pairedWith}, which is not in assays.yaml`);
+    if (other.measure !== 'ct') throw new ConfigError(file, at, `names assay ${other.id}, which is not a Ct (PCR) assay: an antibody assay pairs with the PCR assay of the same pathogen`);
+  });
+}
+
+/**
+ * An antibody assay needs a rope sensitivity of its own: the chance that the rope of an exposed
+ * pen tests antibody positive is not the chance that an infected pen's rope tests PCR positive,
+ * so the program default (set for PCR) is never used for it silently.
+ */
+function checkAntibodySensitivity(sites: readonly Site[], assays: readonly Assay[], file: string): void {
+  for (const assay of assays) {
+    if (assay.measure !== 'sp-ratio') continue;
+    const missing = sites.filter((site) => site.program.ropeSensitivity.byAssay[assay.id] === undefined);
+    if (missing.length === 0) continue;
+    const keyPath = missing.length === sites.length ? formatPath(['programDefaults', 'ropeSensitivity', assay.id]) : formatPath(['sites', sites.indexOf(missing[0]!), 'program', 'ropeSensitivity', assay.id]);
+    throw new ConfigError(
+      file,
+      keyPath,
+      `is missing: ${assay.id} is an antibody assay (measure sp-ratio) and needs its own rope sensitivity, the chance that the rope of a pen exposed at the design prevalence tests antibody positive; the PCR default does not apply`,
+    );
+  }
 }
 
 function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined, problems: ProblemList): LabProfile | undefined {
@@ -494,17 +541,8 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
       problems.add(file, `${at}.assay`, `names assay ${entry.assay}, which is not in assays.yaml${near === '' ? '' : `: ${near}`}`);
       continue;
     }
-    const labAssay: LabAssay = {
-      labAssayName,
-      assayId: assay.id,
-      positiveBelow: entry.positiveBelow ?? assay.positiveBelow,
-      suspectBelow: entry.suspectBelow ?? assay.suspectBelow,
-      cycleLimit: entry.cycleLimit ?? assay.cycleLimit,
-    };
-    if (!(labAssay.positiveBelow <= labAssay.suspectBelow && labAssay.suspectBelow <= labAssay.cycleLimit)) {
-      problems.add(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
-    }
-    assays.set(foldToken(labAssayName), Object.freeze(labAssay));
+    const labAssay = problems.guard(() => labAssayOf(labAssayName, entry, assay, file, at));
+    if (labAssay !== undefined) assays.set(foldToken(labAssayName), Object.freeze(labAssay));
   }
   const words = labWords(raw, file, problems);
   return Object.freeze({
@@ -519,7 +557,8 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     columns: {
       sampleId: raw.columns.sampleId,
       assay: raw.columns.assay,
-      ct: raw.columns.ct,
+      // The schema requires one of the two.
+      result: (raw.columns.result ?? raw.columns.ct)!,
       call: raw.columns.call,
       accession: raw.columns.accession,
       collectedOn: raw.columns.collectedOn,
@@ -534,6 +573,46 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     ...words,
     assays,
   });
+}
+
+/**
+ * A lab's reading of one assay: the assay's cutoffs, each overridden by the lab's own. Cutoffs
+ * of the other measure (positiveBelow for an S/P assay, positiveAtOrAbove for a Ct assay) are
+ * refused: they would be read the wrong way round.
+ */
+function labAssayOf(labAssayName: string, entry: z.output<typeof labAssaySchema>, assay: Assay, file: string, at: string): LabAssay {
+  const foreign = assay.measure === 'ct' ? (['positiveAtOrAbove', 'suspectAtOrAbove'] as const) : (['positiveBelow', 'suspectBelow', 'cycleLimit'] as const);
+  for (const key of foreign) {
+    if (entry[key] !== undefined) {
+      const use = assay.measure === 'ct' ? 'positiveBelow, suspectBelow and cycleLimit (Ct)' : 'positiveAtOrAbove and suspectAtOrAbove (S/P)';
+      throw new ConfigError(file, `${at}.${key}`, `does not apply: assay ${assay.id} has measure ${assay.measure}; give ${use}`);
+    }
+  }
+  if (assay.measure === 'sp-ratio') {
+    const labAssay: LabAssay = {
+      labAssayName,
+      assayId: assay.id,
+      measure: 'sp-ratio',
+      positiveAtOrAbove: entry.positiveAtOrAbove ?? assay.positiveAtOrAbove,
+      suspectAtOrAbove: entry.suspectAtOrAbove ?? assay.suspectAtOrAbove,
+    };
+    if (labAssay.suspectAtOrAbove !== undefined && !(labAssay.suspectAtOrAbove <= labAssay.positiveAtOrAbove)) {
+      throw new ConfigError(file, at, 'cutoffs must satisfy suspectAtOrAbove <= positiveAtOrAbove');
+    }
+    return labAssay;
+  }
+  const labAssay: LabAssay = {
+    labAssayName,
+    assayId: assay.id,
+    measure: 'ct',
+    positiveBelow: entry.positiveBelow ?? assay.positiveBelow,
+    suspectBelow: entry.suspectBelow ?? assay.suspectBelow,
+    cycleLimit: entry.cycleLimit ?? assay.cycleLimit,
+  };
+  if (!(labAssay.positiveBelow <= labAssay.suspectBelow && labAssay.suspectBelow <= labAssay.cycleLimit)) {
+    throw new ConfigError(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
+  }
+  return labAssay;
 }
 
 /** English call words, used for each class a lab profile does not list (common practice, no source). */
@@ -666,6 +745,7 @@ export function loadConfig(dir: string): Config {
   const assays = loadAssays(assaysFile, problems);
   const assayById = assays === undefined ? undefined : new Map(assays.map((assay) => [assay.id, assay]));
   const sitesPart = loadSites(sitesFile, assayById === undefined ? undefined : new Set(assayById.keys()), problems);
+  if (sitesPart !== undefined && assays !== undefined) problems.guard(() => checkAntibodySensitivity(sitesPart.sites, assays, sitesFile));
   let labFiles: string[] = [];
   try {
     labFiles = fs

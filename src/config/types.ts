@@ -64,18 +64,52 @@ export interface LoadBand {
   below: number;
 }
 
-export interface Assay {
+/** An S/P band: S/P at or above `atOrAbove` (bands highest first). */
+export interface SpLoadBand {
+  name: string;
+  atOrAbove: number;
+}
+
+/**
+ * What an assay's numeric result is: `ct`, a PCR cycle threshold (lower = more nucleic acid), or
+ * `sp-ratio`, an antibody ELISA's sample-to-positive ratio (higher = more antibody).
+ */
+export type Measure = 'ct' | 'sp-ratio';
+
+interface AssayBase {
   id: string;
   name: string;
   target: string | undefined;
+  notifiable: boolean;
+  source: string | undefined;
+}
+
+/** A PCR assay read by Ct. */
+export interface CtAssay extends AssayBase {
+  measure: 'ct';
   positiveBelow: number;
   suspectBelow: number;
   cycleLimit: number;
   loadBands: readonly LoadBand[];
   sequencingBelow: number | undefined;
-  notifiable: boolean;
-  source: string | undefined;
 }
+
+/**
+ * An antibody ELISA read by S/P ratio: positive at or above `positiveAtOrAbove`, suspect from
+ * `suspectAtOrAbove` (when given) up to it. A positive means exposure, not necessarily current
+ * infection.
+ */
+export interface SpAssay extends AssayBase {
+  measure: 'sp-ratio';
+  positiveAtOrAbove: number;
+  suspectAtOrAbove: number | undefined;
+  /** Optional S/P bands, highest first; empty when none is configured. */
+  loadBands: readonly SpLoadBand[];
+  /** The PCR assay of the same pathogen, shown beside this one per pen. */
+  pairedWith: string | undefined;
+}
+
+export type Assay = CtAssay | SpAssay;
 
 /** The classes a lab's own call can name (the same as ropewatch's result classes). */
 export type CallClass = 'positive' | 'suspect' | 'negative' | 'invalid';
@@ -101,14 +135,28 @@ export interface SampleIdCorrection {
   note: string | undefined;
 }
 
-/** One lab's validated reading of one of its assays. */
-export interface LabAssay {
+/** One lab's validated reading of one of its PCR assays. */
+export interface CtLabAssay {
   labAssayName: string;
   assayId: string;
+  measure: 'ct';
   positiveBelow: number;
   suspectBelow: number;
   cycleLimit: number;
 }
+
+/** One lab's validated reading of one of its antibody ELISAs (S/P ratio). */
+export interface SpLabAssay {
+  labAssayName: string;
+  assayId: string;
+  measure: 'sp-ratio';
+  positiveAtOrAbove: number;
+  /** Undefined: no suspect band (below the positive cutoff is negative). */
+  suspectAtOrAbove: number | undefined;
+}
+
+/** One lab's validated reading of one of its assays. */
+export type LabAssay = CtLabAssay | SpLabAssay;
 
 export interface LabProfile {
   id: string;
@@ -122,7 +170,8 @@ export interface LabProfile {
   columns: {
     sampleId: string;
     assay: string;
-    ct: string;
+    /** The numeric result column: a Ct or an S/P ratio, by the assay's measure (`result`, or `ct`, in the profile). */
+    result: string;
     call: string | undefined;
     accession: string | undefined;
     collectedOn: string | undefined;

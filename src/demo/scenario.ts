@@ -89,25 +89,55 @@ interface LabRow {
   collectedOn: string;
 }
 
-/** A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. */
-export function northfieldExport(rows: readonly LabRow[], reportedOn: string, firstCase: number): Buffer {
-  const testName = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR' } as const;
+/** An antibody ELISA row: the S/P ratio of the rope's oral fluid. */
+interface ElisaRow {
+  sampleId: string;
+  assay: 'PRRSV-AB';
+  sp: number;
+  collectedOn: string;
+}
+
+/** The S/P at or above which Northfield calls its PRRSV oral-fluid ELISA positive (its demo profile). */
+const NORTHFIELD_SP_POSITIVE = 0.4;
+
+/**
+ * A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. The lab
+ * has one export template: an ELISA's S/P ratio comes in the same numeric column as a Ct, and
+ * an ELISA has no internal control (the cell is left blank).
+ */
+export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedOn: string, firstCase: number): Buffer {
+  const testName = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR', 'PRRSV-AB': 'PRRSV Oral Fluid Antibody ELISA' } as const;
   const positiveBelow = { PRRSV: 36, IAV: 38 } as const;
   const header = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
   const lines = [header.join(',')];
   rows.forEach((row, index) => {
-    const call = row.controlFailed ? 'Invalid' : row.ct === null ? 'Negative' : row.ct < positiveBelow[row.assay] ? 'Positive' : 'Suspect';
+    const elisa = row.assay === 'PRRSV-AB';
+    const call =
+      row.assay === 'PRRSV-AB'
+        ? row.sp >= NORTHFIELD_SP_POSITIVE
+          ? 'Positive'
+          : 'Negative'
+        : row.controlFailed
+          ? 'Invalid'
+          : row.ct === null
+            ? 'Negative'
+            : row.ct < positiveBelow[row.assay]
+              ? 'Positive'
+              : 'Suspect';
+    const value = row.assay === 'PRRSV-AB' ? row.sp.toFixed(2) : row.controlFailed ? '' : row.ct === null ? 'Undetermined' : row.ct.toFixed(2);
+    const control = row.assay === 'PRRSV-AB' ? '' : row.controlFailed ? 'FAIL' : 'PASS';
+    const status = row.assay === 'PRRSV-AB' ? undefined : row.status;
     lines.push(
       [
-        `NV26-${String(firstCase + Math.floor(index / 2)).padStart(5, '0')}`,
+        `NV26-${String(firstCase + Math.floor(index / (elisa ? 1 : 2))).padStart(5, '0')}`,
         row.sampleId,
         testName[row.assay],
-        row.controlFailed ? '' : row.ct === null ? 'Undetermined' : row.ct.toFixed(2),
+        value,
         call,
-        row.controlFailed ? 'FAIL' : 'PASS',
+        control,
         row.collectedOn,
         reportedOn,
-        row.status ?? 'Final',
+        status ?? 'Final',
       ]
         .map(csvCell)
         .join(','),
@@ -138,6 +168,41 @@ export function ropeSheet(site: Site, ropes: readonly (RopeChoice & { hungOn: st
 
 const at = (date: string, hour: number) => `${date}T${String(hour).padStart(2, '0')}:00:00.000Z`;
 const plus = (date: string, days: number) => format(addDays(parseISO(date), days), 'yyyy-MM-dd');
+
+/** Hollow Creek rounds (0-based) whose ropes also go to the PRRSV antibody ELISA: about every four weeks. */
+export const HOLLOW_CREEK_ELISA_ROUNDS: readonly number[] = [1, 3, 5];
+/** Mean S/P of an infected pen's oral fluid by rounds since infection: none in the first round, then rising. */
+const SP_BY_AGE = [null, 0.9, 1.6, 2.0] as const;
+/** Probability that the rope of a pen with antibody comes back antibody positive. */
+const DEMO_ANTIBODY_SENSITIVITY = 0.9;
+
+/** What the ELISA would read on one rope: background without antibody, rising after infection. */
+function measureSp(rng: Rng, barnId: string, penId: string, roundIndex: number): number {
+  const background = () => Math.round(Math.min(0.3, Math.max(-0.05, 0.06 + 0.05 * gaussian(rng))) * 100) / 100;
+  const age = infectedAge(barnId, penId, roundIndex);
+  const mean = age === undefined ? null : SP_BY_AGE[Math.min(age, SP_BY_AGE.length - 1)]!;
+  if (mean === null || rng() >= DEMO_ANTIBODY_SENSITIVITY) return background();
+  return Math.round(Math.max(0.45, mean + 0.25 * gaussian(rng)) * 100) / 100;
+}
+
+/**
+ * The ELISA rows of one Hollow Creek round, drawn from the ground truth with a generator of its
+ * own (the PCR draws stay as they are). Round 2 carries the two cases a newcomer should see: an
+ * S/P of 0.21 the lab calls negative (below the 0.4 cutoff: negative, never a "Ct of 0.21"), and
+ * one antibody-positive rope in F3 with no virus anywhere (exposure: the PCR freedom is not reset).
+ */
+function elisaRows(ropes: readonly (RopeChoice & { hungOn: string })[], roundIndex: number): ElisaRow[] {
+  const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek-elisa', roundIndex));
+  const rows = ropes.map((rope): ElisaRow => ({ sampleId: rope.sampleId, assay: 'PRRSV-AB', sp: measureSp(rng, rope.barnId, rope.penId, roundIndex), collectedOn: rope.hungOn }));
+  if (roundIndex === 1) {
+    const f2 = ropes.findIndex((rope) => rope.barnId === 'F2');
+    const f3 = ropes.map((rope, index) => ({ rope, index })).filter((entry) => entry.rope.barnId === 'F3');
+    if (f2 >= 0) rows[f2]!.sp = 0.21;
+    const stray = f3[Math.floor(f3.length / 3)];
+    if (stray) rows[stray.index]!.sp = 0.52;
+  }
+  return rows;
+}
 
 /** What a lab would measure on one rope, from the ground truth. */
 function measure(rng: Rng, barnId: string, penId: string, roundIndex: number): number | null {
@@ -206,6 +271,15 @@ export function hollowCreekRound(config: Config, roundIndex: number, planned: re
   } else {
     drops.push({ at: at(reported, 11), name: `nvdl_prrsv_${reported}.csv`, bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100), note: 'PRRSV results' });
     drops.push({ at: at(reported, 15), name: `nvdl_influenza_${reported}.csv`, bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100), note: 'influenza results, a second file the same day' });
+  }
+  if (HOLLOW_CREEK_ELISA_ROUNDS.includes(roundIndex)) {
+    const tested = hung.filter((rope) => rope !== lost);
+    drops.push({
+      at: at(reported, 16),
+      name: `nvdl_elisa_${reported}.csv`,
+      bytes: northfieldExport(elisaRows(tested, roundIndex), reported, 1080 + roundIndex * 100),
+      note: roundIndex === 1 ? 'PRRSV antibody ELISA (S/P): 0.21 read negative; one antibody positive in F3 with no virus' : 'PRRSV antibody ELISA (S/P ratios) on the same ropes',
+    });
   }
   if (reissue) {
     const reissuedOn = plus(date, 4);

@@ -9,16 +9,16 @@ import type { RowRejection } from './errors.js';
 import type { MappedBatch, RowList } from './mappedBatches.js';
 import type { ResultRow, RopeRow } from './rows.js';
 import type { ResultClass } from '../interpret/classify.js';
-import type { CallClass, ReportStatusKind } from '../config/types.js';
+import type { CallClass, Measure, ReportStatusKind } from '../config/types.js';
 
 const TEXT_COLUMNS = [
-  'labId', 'sampleId', 'assayId', 'labAssay', 'ctRaw', 'labCall', 'accession', 'collectedOn', 'reportedOn', 'reportStatus', 'control', 'resultClass', 'reason', 'loadBand',
+  'labId', 'sampleId', 'assayId', 'labAssay', 'measure', 'ctRaw', 'labCall', 'accession', 'collectedOn', 'reportedOn', 'reportStatus', 'control', 'resultClass', 'reason', 'loadBand',
   'statusKind', 'statusWord', 'labCallClass', 'sampleIdAsWritten', 'ropeSiteId', 'ropeBarnId', 'ropePenId', 'ropeHungOn',
 ] as const;
 type TextColumn = (typeof TEXT_COLUMNS)[number];
 
-/** Numbers per row: line, ct (NaN: none), cutoffs, content key, flags. */
-const NUMBERS_PER_ROW = 7;
+/** Numbers per row: line, ct (NaN: none), Ct cutoffs, content key, flags, sp, S/P cutoffs (NaN: none). */
+const NUMBERS_PER_ROW = 10;
 const FLAG_REISSUE = 1;
 const FLAG_CALL_DIFFERS = 2;
 
@@ -59,11 +59,14 @@ export function encodeBatch(batch: MappedBatch<ResultRow[]>): WireBatch {
     const at = i * NUMBERS_PER_ROW;
     numbers[at] = row.line;
     numbers[at + 1] = row.ct ?? Number.NaN;
-    numbers[at + 2] = row.positiveBelow;
-    numbers[at + 3] = row.suspectBelow;
-    numbers[at + 4] = row.cycleLimit;
+    numbers[at + 2] = row.positiveBelow ?? Number.NaN;
+    numbers[at + 3] = row.suspectBelow ?? Number.NaN;
+    numbers[at + 4] = row.cycleLimit ?? Number.NaN;
     numbers[at + 5] = row.contentKey;
     numbers[at + 6] = (row.markedReissue ? FLAG_REISSUE : 0) | (row.callDiffers ? FLAG_CALL_DIFFERS : 0);
+    numbers[at + 7] = row.sp ?? Number.NaN;
+    numbers[at + 8] = row.positiveAtOrAbove ?? Number.NaN;
+    numbers[at + 9] = row.suspectAtOrAbove ?? Number.NaN;
   }
   const texts = {} as Record<TextColumn, WireText>;
   for (const column of TEXT_COLUMNS) {
@@ -114,7 +117,9 @@ export class WireRows implements RowList<ResultRow> {
       sampleId: textAt(texts, 'sampleId', i)!,
       assayId: textAt(texts, 'assayId', i)!,
       labAssay: textAt(texts, 'labAssay', i)!,
+      measure: textAt(texts, 'measure', i) as Measure,
       ct: Number.isNaN(ct) ? null : ct,
+      sp: orNull(numbers[at + 7]!),
       ctRaw: textAt(texts, 'ctRaw', i)!,
       labCall: textAt(texts, 'labCall', i),
       accession: textAt(texts, 'accession', i),
@@ -125,9 +130,11 @@ export class WireRows implements RowList<ResultRow> {
       resultClass: textAt(texts, 'resultClass', i) as ResultClass,
       reason: textAt(texts, 'reason', i)!,
       loadBand: textAt(texts, 'loadBand', i),
-      positiveBelow: numbers[at + 2]!,
-      suspectBelow: numbers[at + 3]!,
-      cycleLimit: numbers[at + 4]!,
+      positiveBelow: orNull(numbers[at + 2]!),
+      suspectBelow: orNull(numbers[at + 3]!),
+      cycleLimit: orNull(numbers[at + 4]!),
+      positiveAtOrAbove: orNull(numbers[at + 8]!),
+      suspectAtOrAbove: orNull(numbers[at + 9]!),
       markedReissue: (flags & FLAG_REISSUE) !== 0,
       statusKind: textAt(texts, 'statusKind', i) as ReportStatusKind | null,
       statusWord: textAt(texts, 'statusWord', i),
@@ -138,6 +145,11 @@ export class WireRows implements RowList<ResultRow> {
       encodedRope: ropeSiteId === null ? undefined : { siteId: ropeSiteId, barnId: textAt(texts, 'ropeBarnId', i)!, penId: textAt(texts, 'ropePenId', i)!, hungOn: textAt(texts, 'ropeHungOn', i)! },
     };
   }
+}
+
+/** NaN carries "none" across the wire. */
+function orNull(value: number): number | null {
+  return Number.isNaN(value) ? null : value;
 }
 
 function textAt(texts: Record<TextColumn, WireText>, column: TextColumn, i: number): string | null {

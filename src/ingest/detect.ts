@@ -77,7 +77,7 @@ function indexHeader(file: string, headerLine: number, header: string[], fold: (
 }
 
 function requiredLabColumns(lab: LabProfile): string[] {
-  return [lab.columns.sampleId, lab.columns.assay, lab.columns.ct];
+  return [lab.columns.sampleId, lab.columns.assay, lab.columns.result];
 }
 
 /** Where each rope-sheet column appears in a header: every cell that carries one of its names. */

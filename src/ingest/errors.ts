@@ -21,6 +21,8 @@ export const REJECTION_CODES = {
   'unknown-assay': 'the lab assay name is not in the lab profile',
   'bad-ct': 'the Ct cell is neither a number nor a configured not-detected token',
   'ct-out-of-range': 'the Ct is outside (0, 60] cycles, or a 0 the lab profile does not declare as not detected',
+  'bad-sp': 'the S/P cell of an antibody assay is not a number (an S/P ratio has no not-detected word)',
+  'sp-out-of-range': 'the S/P ratio is outside [-1, 10]',
   'bad-date': 'a date cell does not match the profile date format, or a location-coded sample ID carries an impossible date',
   'unknown-site': 'the site is not in sites.yaml',
   'unknown-barn': 'the barn is not on that site',

@@ -10,9 +10,10 @@ import { parse as parseDate } from 'date-fns/parse';
 import { foldToken } from '../util/fold.js';
 import { canonicalPenKey } from '../domain/layout.js';
 import { compilePatternSet, type PatternSet } from '../config/pattern.js';
-import type { Assay, CallClass, LabAssay, LabProfile, ReportStatusKind, Site } from '../config/types.js';
-import { classify, type Interpretation, type ResultClass } from '../interpret/classify.js';
-import { readCt, type CtReading } from '../interpret/ct.js';
+import type { Assay, CallClass, LabAssay, LabProfile, Measure, ReportStatusKind, Site } from '../config/types.js';
+import { classify, type Interpretation, type ResultClass, type ValueReading } from '../interpret/classify.js';
+import { readCt } from '../interpret/ct.js';
+import { readSp } from '../interpret/sp.js';
 import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
 import { labWords, type LabWords } from './labWords.js';
 
@@ -87,7 +88,13 @@ export interface ResultRow {
   sampleId: string;
   assayId: string;
   labAssay: string;
+  /** What the result cell holds: a Ct or an S/P ratio (the assay's measure). */
+  measure: Measure;
+  /** The Ct of a detected PCR result; null otherwise (and always for an S/P assay). */
   ct: number | null;
+  /** The S/P ratio of an antibody result; null otherwise (and always for a Ct assay). */
+  sp: number | null;
+  /** The result cell (Ct or S/P) as the lab wrote it. */
   ctRaw: string;
   labCall: string | null;
   accession: string | null;
@@ -98,9 +105,13 @@ export interface ResultRow {
   resultClass: ResultClass;
   reason: string;
   loadBand: string | null;
-  positiveBelow: number;
-  suspectBelow: number;
-  cycleLimit: number;
+  /** The lab's Ct cutoffs this row was read with; null for an S/P assay. */
+  positiveBelow: number | null;
+  suspectBelow: number | null;
+  cycleLimit: number | null;
+  /** The lab's S/P cutoffs this row was read with; null for a Ct assay (suspect: also without a suspect band). */
+  positiveAtOrAbove: number | null;
+  suspectAtOrAbove: number | null;
   /** The lab marked this row as a corrected or reissued report (statusKind is corrected). */
   markedReissue: boolean;
   /** The state of the report, from the lab's status words in its status columns; null when none is found. */
@@ -134,9 +145,9 @@ export type RowOutcome<T> = { ok: true; row: T } | { ok: false; rejection: RowRe
 type ColumnName = keyof LabProfile['columns'];
 type ColumnPositions = Readonly<Record<ColumnName, number | undefined>>;
 
-/** Ct cell read and classified, for one lab assay and one cell text (no control failure). */
+/** Result cell (Ct or S/P) read and classified, for one lab assay and one cell text (no control failure). */
 interface CtMeaning {
-  reading: CtReading;
+  reading: ValueReading;
   interpretation: Interpretation;
 }
 
@@ -280,7 +291,7 @@ function ctMeaning(memo: FileMemo, ctRaw: string, lab: LabProfile, labAssay: Lab
   let byText = memo.ctMeanings.get(labAssay);
   const cached = byText?.get(ctRaw);
   if (cached !== undefined) return cached;
-  const reading = readCt(ctRaw, lab, labAssay);
+  const reading = labAssay.measure === 'sp-ratio' ? readSp(ctRaw, lab) : readCt(ctRaw, lab, labAssay);
   const meaning = { reading, interpretation: classify(reading, labAssay, assay, undefined) };
   if (memo.ctMeaningCount >= CT_MEANING_LIMIT) {
     memo.ctMeanings.clear();
@@ -351,7 +362,15 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const labAssayName = cellAt(cells, at.assay) ?? '';
   if (labAssayName === '') return refuse('missing-value', line, columns.assay, labAssayName, 'the assay is empty');
   const labAssay = lab.assays.get(foldToken(labAssayName));
-  if (!labAssay) return refuse('unknown-assay', line, columns.assay, labAssayName, `lab ${lab.id} profile has no assay "${labAssayName}"; add it under assays: with its cutoffs`);
+  if (!labAssay) {
+    return refuse(
+      'unknown-assay',
+      line,
+      columns.assay,
+      labAssayName,
+      `lab ${lab.id} profile has no assay "${labAssayName}"; add it under assays: with its cutoffs (an antibody ELISA reporting S/P ratios maps to an assay with measure: sp-ratio in assays.yaml, never to a PCR assay, which would read its S/P as a Ct)`,
+    );
+  }
   const assay = context.assayById.get(labAssay.assayId)!;
 
   const collectedOn = dateAt(cells, at.collectedOn, lab.dateFormat);
@@ -365,10 +384,10 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
     return refuse('bad-date', line, columns.reportedOn, text, `"${text}" does not match date format ${lab.dateFormat}`);
   }
 
-  const ctRaw = cellAt(cells, at.ct) ?? '';
+  const ctRaw = cellAt(cells, at.result) ?? '';
   const meaning = ctMeaning(memo, ctRaw, lab, labAssay, assay);
   const reading = meaning.reading;
-  if (reading.kind === 'error') return refuse(reading.code, line, columns.ct, ctRaw, reading.detail);
+  if (reading.kind === 'error') return refuse(reading.code, line, columns.result, ctRaw, reading.detail);
 
   const labCall = cellAt(cells, at.call) || null;
   const control = cellAt(cells, at.internalControl) || null;
@@ -438,7 +457,9 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       sampleId,
       assayId: labAssay.assayId,
       labAssay: labAssayName,
+      measure: labAssay.measure,
       ct: reading.kind === 'detected' ? reading.ct : null,
+      sp: reading.kind === 'sp' ? reading.sp : null,
       ctRaw,
       labCall,
       accession,
@@ -449,9 +470,11 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       resultClass: interpretation.resultClass,
       reason: interpretation.reason,
       loadBand: interpretation.loadBand ?? null,
-      positiveBelow: labAssay.positiveBelow,
-      suspectBelow: labAssay.suspectBelow,
-      cycleLimit: labAssay.cycleLimit,
+      positiveBelow: labAssay.measure === 'ct' ? labAssay.positiveBelow : null,
+      suspectBelow: labAssay.measure === 'ct' ? labAssay.suspectBelow : null,
+      cycleLimit: labAssay.measure === 'ct' ? labAssay.cycleLimit : null,
+      positiveAtOrAbove: labAssay.measure === 'sp-ratio' ? labAssay.positiveAtOrAbove : null,
+      suspectAtOrAbove: labAssay.measure === 'sp-ratio' ? (labAssay.suspectAtOrAbove ?? null) : null,
       markedReissue: rowWords.status === 'corrected',
       statusKind: rowWords.status ?? null,
       statusWord: rowWords.statusWord ?? null,

@@ -4,7 +4,7 @@
  * a strong positive: either the profile declares it a not-detected code or the row is refused.
  */
 import { foldToken } from '../util/fold.js';
-import type { LabAssay, LabProfile } from '../config/types.js';
+import type { CtLabAssay, LabAssay, LabProfile } from '../config/types.js';
 
 /** Cycles a PCR run can have: no real run goes beyond 60 (common practice, no source). */
 export const MAX_PLAUSIBLE_CYCLES = 60;
@@ -37,7 +37,9 @@ export function parseDecimal(text: string, decimal: '.' | ','): number | undefin
  * - the cycle limit itself (or above) when the profile says so: not detected;
  * - a number in (0, 60]: detected; anything else is refused with a reason.
  */
-export function readCt(raw: string, lab: LabProfile, labAssay: LabAssay): CtReading {
+export function readCt(raw: string, lab: LabProfile, anyLabAssay: LabAssay): CtReading {
+  if (anyLabAssay.measure !== 'ct') throw new RangeError(`readCt reads Ct assays; ${anyLabAssay.labAssayName} has measure ${anyLabAssay.measure} (readSp)`);
+  const labAssay: CtLabAssay = anyLabAssay;
   const text = raw.trim();
   if (text === '') return lab.blankIsNotDetected ? { kind: 'not-detected', reason: 'empty Ct cell (this lab leaves not detected blank)' } : { kind: 'missing' };
   const token = foldToken(text);

@@ -2,7 +2,7 @@
  * The round model: for one site, every round with its barns, pens and per-assay results. This
  * plain value is what statistics, spatial analysis, planning and reports all read. Pure.
  */
-import type { Barn, Site } from '../config/types.js';
+import type { Barn, Measure, Site } from '../config/types.js';
 import { CLASS_SEVERITY, type ResultClass } from './classify.js';
 import { formRounds, type DatedRope } from './rounds.js';
 
@@ -11,17 +11,24 @@ export interface ResultInput {
   labId: string;
   sampleId: string;
   assayId: string;
+  /** Ct (the default) or S/P ratio: what `ct` or `sp` holds. */
+  measure?: Measure;
   ct: number | null;
+  /** The S/P ratio of an antibody result (measure sp-ratio). */
+  sp?: number | null;
   resultClass: ResultClass;
   reason: string;
   loadBand: string | null;
-  cycleLimit: number;
+  /** The lab's cycle limit; null for an S/P result. */
+  cycleLimit: number | null;
   callDiffers: boolean;
   labCall: string | null;
-  /** The lab's cutoffs this result was read with (stored per row); absent in older callers. */
-  positiveBelow?: number;
-  suspectBelow?: number;
-  /** The Ct cell as the lab wrote it. */
+  /** The lab's cutoffs this result was read with (stored per row); absent in older callers, null for the other measure. */
+  positiveBelow?: number | null;
+  suspectBelow?: number | null;
+  positiveAtOrAbove?: number | null;
+  suspectAtOrAbove?: number | null;
+  /** The result cell (Ct or S/P) as the lab wrote it. */
   ctRaw?: string;
   /** The lab's case number (accession) and the dates on its report. */
   accession?: string | null;
@@ -31,22 +38,28 @@ export interface ResultInput {
 
 export interface PenAssayResult {
   assayId: string;
+  /** `ct` (PCR, lower = more nucleic acid) or `sp-ratio` (antibody ELISA, higher = more antibody). */
+  measure: Measure;
   resultClass: ResultClass;
   ct: number | null;
+  /** The S/P ratio of an antibody result; null for a Ct result. */
+  sp: number | null;
   loadBand: string | null;
-  /** L = max(0, cycle limit - Ct); 0 when not detected (FIELD.md, load score). */
+  /** L = max(0, cycle limit - Ct); 0 when not detected (FIELD.md, load score). For an S/P: max(0, S/P). */
   load: number;
   reason: string;
   sampleId: string;
   labId: string;
   labCall: string | null;
   callDiffers: boolean;
-  /** The Ct cell as the lab wrote it (null when not known). */
+  /** The result cell (Ct or S/P) as the lab wrote it (null when not known). */
   ctRaw: string | null;
-  /** The cutoffs of the lab that reported this result, as stored with it (null when not known). */
+  /** The cutoffs of the lab that reported this result, as stored with it (null when not known or of the other measure). */
   positiveBelow: number | null;
   suspectBelow: number | null;
-  cycleLimit: number;
+  cycleLimit: number | null;
+  positiveAtOrAbove: number | null;
+  suspectAtOrAbove: number | null;
   /** The lab's case number (accession), collection and report dates, as on the lab's report. */
   accession: string | null;
   collectedOn: string | null;
@@ -108,13 +121,17 @@ export interface ResultSource {
   collectedTo: string | null;
 }
 
-/** The cutoffs one lab used for one assay in a round, as stored with its results. */
+/** The cutoffs one lab used for one assay in a round, as stored with its results (those of the assay's measure; null the others). */
 export interface RoundCutoff {
   labId: string;
   assayId: string;
-  positiveBelow: number;
-  suspectBelow: number;
-  cycleLimit: number;
+  measure: Measure;
+  positiveBelow: number | null;
+  suspectBelow: number | null;
+  cycleLimit: number | null;
+  positiveAtOrAbove: number | null;
+  /** Null also for an S/P assay without a suspect band. */
+  suspectAtOrAbove: number | null;
   results: number;
 }
 
@@ -127,7 +144,9 @@ export interface CallDisagreement {
   labId: string;
   accession: string | null;
   labCall: string;
+  measure: Measure;
   ct: number | null;
+  sp: number | null;
   ctRaw: string | null;
   resultClass: ResultClass;
   reason: string;
@@ -142,6 +161,8 @@ export interface SiteRound {
   startOn: string;
   endOn: string;
   assays: string[];
+  /** The measure of each assay of the round (Ct unless its results say S/P). */
+  measures: Record<string, Measure>;
   barns: BarnRound[];
   /** Lab reports behind the round, by lab and report date, with the barns they cover. */
   sources: (ResultSource & { barnIds: string[] })[];
@@ -234,6 +255,28 @@ function emptyTally(): AssayTally {
   return { positive: 0, suspect: 0, negative: 0, invalid: 0, positivePens: [], suspectPens: [], invalidPens: [], testedPens: [] };
 }
 
+const known = (value: number | null | undefined): value is number => value !== null && value !== undefined;
+
+/** The cutoffs a result was read with, when stored with it (older callers give none). */
+function roundCutoffOf(result: ResultInput): Omit<RoundCutoff, 'results'> | undefined {
+  const measure = result.measure ?? 'ct';
+  if (measure === 'sp-ratio') {
+    if (!known(result.positiveAtOrAbove)) return undefined;
+    return { labId: result.labId, assayId: result.assayId, measure, positiveBelow: null, suspectBelow: null, cycleLimit: null, positiveAtOrAbove: result.positiveAtOrAbove, suspectAtOrAbove: result.suspectAtOrAbove ?? null };
+  }
+  if (!known(result.positiveBelow) || !known(result.suspectBelow)) return undefined;
+  return { labId: result.labId, assayId: result.assayId, measure, positiveBelow: result.positiveBelow, suspectBelow: result.suspectBelow, cycleLimit: result.cycleLimit, positiveAtOrAbove: null, suspectAtOrAbove: null };
+}
+
+/**
+ * Of two results of one class, the one that stands for the pen: the lower Ct (more nucleic
+ * acid), or the higher S/P (more antibody).
+ */
+function strongerWithinClass(candidate: PenAssayResult, existing: PenAssayResult): boolean {
+  if (candidate.measure === 'sp-ratio') return (candidate.sp ?? -Infinity) > (existing.sp ?? -Infinity);
+  return (candidate.ct ?? Infinity) < (existing.ct ?? Infinity);
+}
+
 /**
  * Builds every round of a site.
  * @param ropes the site's ropes with locations (sheets, sample patterns, returned planned ropes)
@@ -249,6 +292,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
   const rounds = formRounds(site.id, ropes.filter((rope) => rope.siteId === site.id), site.program.roundWindowDays);
   return rounds.map((round) => {
     const assays = new Set<string>();
+    const measures: Record<string, Measure> = {};
     const cutoffs = new Map<string, RoundCutoff>();
     const disagreements: CallDisagreement[] = [];
     const barns: BarnRound[] = site.barns.map((barn) => {
@@ -276,12 +320,15 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         penRound.returned = true;
         for (const result of ropeResults) {
           assays.add(result.assayId);
+          const measure = result.measure ?? 'ct';
+          if (measures[result.assayId] === undefined || measure === 'sp-ratio') measures[result.assayId] = measure;
           addSource(barnSources, resultEntry(result));
-          if (result.positiveBelow !== undefined && result.suspectBelow !== undefined) {
-            const key = `${result.labId}\u0000${result.assayId}\u0000${result.positiveBelow}\u0000${result.suspectBelow}\u0000${result.cycleLimit}`;
+          const readWith = roundCutoffOf(result);
+          if (readWith !== undefined) {
+            const key = [readWith.labId, readWith.assayId, readWith.measure, readWith.positiveBelow, readWith.suspectBelow, readWith.cycleLimit, readWith.positiveAtOrAbove, readWith.suspectAtOrAbove].join('\u0000');
             const cutoff = cutoffs.get(key);
             if (cutoff) cutoff.results++;
-            else cutoffs.set(key, { labId: result.labId, assayId: result.assayId, positiveBelow: result.positiveBelow, suspectBelow: result.suspectBelow, cycleLimit: result.cycleLimit, results: 1 });
+            else cutoffs.set(key, { ...readWith, results: 1 });
           }
           if (result.callDiffers && result.labCall !== null) {
             barnDisagreements.push({
@@ -292,19 +339,31 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
               labId: result.labId,
               accession: result.accession ?? null,
               labCall: result.labCall,
+              measure,
               ct: result.ct,
+              sp: result.sp ?? null,
               ctRaw: result.ctRaw ?? null,
               resultClass: result.resultClass,
               reason: result.reason,
               standsForPen: false,
             });
           }
+          const sp = result.sp ?? null;
           const candidate: PenAssayResult = {
             assayId: result.assayId,
+            measure,
             resultClass: result.resultClass,
             ct: result.ct,
+            sp,
             loadBand: result.loadBand,
-            load: result.ct === null || result.resultClass === 'invalid' ? 0 : Math.max(0, result.cycleLimit - result.ct),
+            load:
+              result.resultClass === 'invalid'
+                ? 0
+                : measure === 'sp-ratio'
+                  ? Math.max(0, sp ?? 0)
+                  : result.ct === null || result.cycleLimit === null
+                    ? 0
+                    : Math.max(0, result.cycleLimit - result.ct),
             reason: result.reason,
             sampleId: result.sampleId,
             labId: result.labId,
@@ -314,6 +373,8 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
             positiveBelow: result.positiveBelow ?? null,
             suspectBelow: result.suspectBelow ?? null,
             cycleLimit: result.cycleLimit,
+            positiveAtOrAbove: result.positiveAtOrAbove ?? null,
+            suspectAtOrAbove: result.suspectAtOrAbove ?? null,
             accession: result.accession ?? null,
             collectedOn: result.collectedOn ?? null,
             reportedOn: result.reportedOn ?? null,
@@ -322,10 +383,11 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           const existing = penRound.results[result.assayId];
           if (!existing) penRound.results[result.assayId] = candidate;
           else {
-            // Worst class first; among equals the lower Ct (more nucleic acid) stands for the pen.
+            // Worst class first; among equals the lower Ct (more nucleic acid), or the higher S/P
+            // (more antibody), stands for the pen.
             const worse =
               CLASS_SEVERITY[candidate.resultClass] > CLASS_SEVERITY[existing.resultClass] ||
-              (candidate.resultClass === existing.resultClass && (candidate.ct ?? Infinity) < (existing.ct ?? Infinity));
+              (candidate.resultClass === existing.resultClass && strongerWithinClass(candidate, existing));
             const kept = worse ? candidate : existing;
             const other = worse ? existing : candidate;
             kept.otherSampleIds = [...existing.otherSampleIds, other.sampleId];
@@ -380,9 +442,18 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
       startOn: round.startOn,
       endOn: round.endOn,
       assays: assayList,
+      measures: Object.fromEntries(assayList.map((assayId) => [assayId, measures[assayId] ?? 'ct'])),
       barns,
       sources: sortedSources(sources),
-      cutoffs: [...cutoffs.values()].sort((a, b) => compareText(a.labId, b.labId) || compareText(a.assayId, b.assayId) || a.positiveBelow - b.positiveBelow || a.cycleLimit - b.cycleLimit),
+      cutoffs: [...cutoffs.values()].sort(
+        (a, b) =>
+          compareText(a.labId, b.labId) ||
+          compareText(a.assayId, b.assayId) ||
+          (a.positiveBelow ?? 0) - (b.positiveBelow ?? 0) ||
+          (a.cycleLimit ?? 0) - (b.cycleLimit ?? 0) ||
+          (a.positiveAtOrAbove ?? 0) - (b.positiveAtOrAbove ?? 0) ||
+          (a.suspectAtOrAbove ?? 0) - (b.suspectAtOrAbove ?? 0),
+      ),
       disagreements,
     };
   });
@@ -393,14 +464,18 @@ export interface CtHistoryPoint {
   roundId: string;
   startOn: string;
   resultClass: ResultClass;
+  measure: Measure;
   ct: number | null;
-  /** The lab that reported it, and that lab's positive cutoff and cycle limit for the assay. */
+  /** The S/P ratio (an antibody result); null for a Ct result. */
+  sp: number | null;
+  /** The lab that reported it, and that lab's positive cutoff and cycle limit for the assay (S/P: its positive cutoff). */
   labId: string;
   positiveBelow: number | null;
-  cycleLimit: number;
+  cycleLimit: number | null;
+  positiveAtOrAbove: number | null;
 }
 
-/** Per pen and assay, the Ct across rounds (only rounds where the pen had a result). */
+/** Per pen and assay, the Ct (or S/P) across rounds (only rounds where the pen had a result). */
 export function ctHistory(rounds: readonly SiteRound[], barnId: string, penId: string, assayId: string): CtHistoryPoint[] {
   const points: CtHistoryPoint[] = [];
   for (const round of rounds) {
@@ -412,10 +487,13 @@ export function ctHistory(rounds: readonly SiteRound[], barnId: string, penId: s
         roundId: round.id,
         startOn: round.startOn,
         resultClass: result.resultClass,
+        measure: result.measure,
         ct: result.ct,
+        sp: result.sp,
         labId: result.labId,
         positiveBelow: result.positiveBelow,
         cycleLimit: result.cycleLimit,
+        positiveAtOrAbove: result.positiveAtOrAbove,
       });
     }
   }

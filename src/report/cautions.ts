@@ -5,7 +5,7 @@
 export const CAUTIONS: readonly string[] = Object.freeze([
   'Decision support only: ropewatch computes from the data it was given and does not diagnose.',
   "Interpretation belongs to the herd's veterinarian, who knows the herd, its history and the clinical picture.",
-  "The lab's validated cutoffs govern: the Ct cutoffs in ropewatch's configuration must be the lab's own for that assay.",
+  "The lab's validated cutoffs govern: the Ct and S/P cutoffs in ropewatch's configuration must be the lab's own for that assay.",
   'Notifiable diseases are reported to the competent authorities under local rules, whatever ropewatch shows or does not show.',
 ]);
 

@@ -47,6 +47,10 @@ export const CLUSTERS_COLUMNS = [
   'detection_spread_model',
   'detection_random_ropes',
   'seed',
+  'measure',
+  'mean_sp',
+  'max_sp',
+  'sp',
 ] as const;
 
 type Column = (typeof CLUSTERS_COLUMNS)[number];
@@ -71,6 +75,7 @@ export function clustersCsv(spatial: RoundSpatial): string {
       p_method: site.joinCount?.inference.method ?? null,
       spread_pattern: site.spread.pattern,
       seed: site.seed,
+      measure: assay.measure,
     });
     for (const barn of site.barns) {
       const detection = assay.detection.find((entry) => entry.barnId === barn.barn);
@@ -99,8 +104,10 @@ export function clustersCsv(spatial: RoundSpatial): string {
         detection_spread_model: num(detection?.spreadModel),
         detection_random_ropes: num(detection?.randomRopes),
         seed: barn.seed,
+        measure: assay.measure,
       });
       for (const cluster of barn.clusters) {
+        const sp = assay.clusterSp.find((entry) => entry.barnId === barn.barn && entry.cluster === cluster.index);
         rows.push({
           ...base,
           level: 'cluster',
@@ -112,6 +119,9 @@ export function clustersCsv(spatial: RoundSpatial): string {
           mean_ct: num(cluster.meanCt, 2),
           min_ct: num(cluster.minCt, 2),
           new_pens: cluster.newPens.join(' '),
+          measure: assay.measure,
+          mean_sp: num(sp?.meanSp),
+          max_sp: num(sp?.maxSp),
         });
       }
       for (const pen of barn.pens) {
@@ -126,6 +136,8 @@ export function clustersCsv(spatial: RoundSpatial): string {
           gi_star: num(pen.giStar),
           local_bb: pen.localBB,
           local_p: num(pen.localP),
+          measure: assay.measure,
+          sp: assay.spByPen[`${barn.barn}/${pen.id}`] ?? null,
         });
       }
       for (const fresh of barn.spread.newPositives) {
@@ -138,6 +150,7 @@ export function clustersCsv(spatial: RoundSpatial): string {
           nearest_earlier_pen: fresh.nearestEarlierPen,
           nearest_earlier_distance: num(fresh.nearestEarlierDistance, 3),
           spread_pattern: fresh.kind,
+          measure: assay.measure,
         });
       }
     }

@@ -54,6 +54,11 @@ export const SUMMARY_COLUMNS = [
   'suspect_below',
   'cycle_limit',
   'sequencing_candidate',
+  'measure',
+  'sp',
+  'sp_history',
+  'positive_at_or_above',
+  'suspect_at_or_above',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -76,6 +81,11 @@ export function dateSpan(first: string | null, last: string | null): string | nu
 /** One point of a pen's history: its Ct, `ND` for not detected, `invalid` for a result that says nothing. */
 export function historyCell(point: Pick<CtHistoryPoint, 'round' | 'ct' | 'resultClass'>): string {
   return `r${point.round}:${point.resultClass === 'invalid' ? 'invalid' : (point.ct ?? 'ND')}`;
+}
+
+/** One point of an antibody pen's history: its S/P, `invalid` for a result that says nothing (an S/P has no "not detected"). */
+export function spHistoryCell(point: Pick<CtHistoryPoint, 'round' | 'sp' | 'resultClass'>): string {
+  return `r${point.round}:${point.resultClass === 'invalid' || point.sp === null ? 'invalid' : point.sp}`;
 }
 
 /** The provenance cells of a site or barn row: labs, case numbers, collection and report dates of the reports behind it. */
@@ -131,6 +141,7 @@ export function summaryCsv(summary: RoundSummary): string {
       freedom: formatProbability(assay.site.freedom),
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
+      measure: assay.measure,
     });
   }
   for (const barn of summary.barns) {
@@ -162,11 +173,13 @@ export function summaryCsv(summary: RoundSummary): string {
         apparent_prevalence_high95: c.prevalence ? formatProbability(c.prevalence.upper95) : null,
         true_prevalence: c.prevalence ? formatProbability(c.prevalence.trueEstimate) : null,
         ...provenance(barn.sources, entry.assayId),
+        measure: c.measure,
       });
     }
   }
   for (const pen of summary.pens) {
     for (const [assayId, result] of Object.entries(pen.results)) {
+      const antibody = result.measure === 'sp-ratio';
       rows.push({
         ...base,
         level: 'pen',
@@ -179,7 +192,7 @@ export function summaryCsv(summary: RoundSummary): string {
         ct: result.ct,
         load_band: result.loadBand,
         reason: result.reason,
-        ct_history: result.history.map(historyCell).join(' '),
+        ct_history: antibody ? null : result.history.map(historyCell).join(' '),
         lab_call: result.labCall,
         call_differs: result.callDiffers,
         lab: result.labName,
@@ -190,6 +203,11 @@ export function summaryCsv(summary: RoundSummary): string {
         suspect_below: result.suspectBelow,
         cycle_limit: result.cycleLimit,
         sequencing_candidate: result.sequencingCandidate,
+        measure: result.measure,
+        sp: result.sp,
+        sp_history: antibody ? result.history.map(spHistoryCell).join(' ') : null,
+        positive_at_or_above: result.positiveAtOrAbove,
+        suspect_at_or_above: result.suspectAtOrAbove,
       });
     }
   }

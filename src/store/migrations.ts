@@ -263,4 +263,35 @@ export const MIGRATIONS: readonly Migration[] = [
     JOIN samples sm ON sm.id = o.sample;
   `,
   },
+  {
+    sql: `
+  -- 5: antibody ELISA results (S/P ratio) beside PCR Ct. measure says what a row's result is:
+  -- a Ct row keeps ct and its Ct cutoffs as before; an S/P row stores its ratio in sp and the
+  -- lab's S/P cutoffs in positive_at_or_above and suspect_at_or_above (NULL: no suspect band),
+  -- leaves ct NULL and writes 0 in the Ct cutoff columns, which are NOT NULL since migration 1
+  -- (0 is no Ct cutoff: no Ct is 0). The CHECK keeps the two kinds apart. Columns added, nothing
+  -- rebuilt: rows stored before read as Ct rows (the default).
+  ALTER TABLE results ADD COLUMN sp REAL;
+  ALTER TABLE results ADD COLUMN positive_at_or_above REAL;
+  ALTER TABLE results ADD COLUMN suspect_at_or_above REAL;
+  ALTER TABLE results ADD COLUMN measure TEXT NOT NULL DEFAULT 'ct' CHECK (
+    (measure = 'ct' AND sp IS NULL AND positive_at_or_above IS NULL AND suspect_at_or_above IS NULL)
+    OR (measure = 'sp-ratio' AND ct IS NULL AND positive_at_or_above IS NOT NULL AND positive_below = 0 AND suspect_below = 0 AND cycle_limit = 0)
+  );
+
+  -- Both readings of a supersession, now with the measure and the S/P values.
+  DROP VIEW supersession_readings;
+  CREATE VIEW supersession_readings AS
+    SELECT s.old_result_id, s.new_result_id, s.kind, s.reason, sm.sample_id, o.assay_id, o.lab_id,
+           o.class AS old_class, o.ct AS old_ct, o.ct_raw AS old_ct_raw, o.lab_call AS old_lab_call, o.reported_on AS old_reported_on,
+           o.report_status AS old_report_status, o.status_kind AS old_status_kind, o.file_id AS old_file_id, o.line AS old_line,
+           n.class AS new_class, n.ct AS new_ct, n.ct_raw AS new_ct_raw, n.lab_call AS new_lab_call, n.reported_on AS new_reported_on,
+           n.report_status AS new_report_status, n.status_kind AS new_status_kind, n.status_word AS new_status_word, n.file_id AS new_file_id, n.line AS new_line,
+           o.measure AS measure, o.sp AS old_sp, n.sp AS new_sp
+    FROM supersessions s
+    JOIN results o ON o.id = s.old_result_id
+    JOIN results n ON n.id = s.new_result_id
+    JOIN samples sm ON sm.id = o.sample;
+  `,
+  },
 ];

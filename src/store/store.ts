@@ -44,7 +44,9 @@ export type StoredResult = Pick<
   | 'labId'
   | 'sampleId'
   | 'assayId'
+  | 'measure'
   | 'ct'
+  | 'sp'
   | 'ctRaw'
   | 'labCall'
   | 'accession'
@@ -56,6 +58,8 @@ export type StoredResult = Pick<
   | 'positiveBelow'
   | 'suspectBelow'
   | 'cycleLimit'
+  | 'positiveAtOrAbove'
+  | 'suspectAtOrAbove'
   | 'callDiffers'
 > & { id: number; fileId: number };
 
@@ -322,8 +326,8 @@ export class Store {
       insertResult: db.prepare(
         `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
            report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key,
-           status_kind, status_word, lab_call_class, sample_id_as_written)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+           status_kind, status_word, lab_call_class, sample_id_as_written, measure, sp, positive_at_or_above, suspect_at_or_above)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT (sample, assay_id, lab_id, content_key) DO NOTHING`,
       ),
       currentBefore: db.prepare(
@@ -536,8 +540,9 @@ export class Store {
       if (row.sampleIdAsWritten !== null) counts.idCorrections.push({ line: row.line, written: row.sampleIdAsWritten, meant: row.sampleId });
       const info = this.statements.insertResult.run(
         fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
-        row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow, row.suspectBelow, row.cycleLimit, row.callDiffers ? 1 : 0, row.contentKey,
-        row.statusKind, row.statusWord, row.labCallClass, row.sampleIdAsWritten,
+        // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (migration 5).
+        row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow ?? 0, row.suspectBelow ?? 0, row.cycleLimit ?? 0, row.callDiffers ? 1 : 0, row.contentKey,
+        row.statusKind, row.statusWord, row.labCallClass, row.sampleIdAsWritten, row.measure, row.sp, row.positiveAtOrAbove, row.suspectAtOrAbove,
       );
       if (info.changes === 0) {
         counts.duplicates++;
@@ -919,9 +924,11 @@ export class Store {
              UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id WHERE p.site_id = @siteId)`;
     return this.db
       .prepare(
-        `SELECT r.id, r.file_id AS fileId, r.lab_id AS labId, s.sample_id AS sampleId, r.assay_id AS assayId, r.ct, r.ct_raw AS ctRaw, r.lab_call AS labCall,
+        `SELECT r.id, r.file_id AS fileId, r.lab_id AS labId, s.sample_id AS sampleId, r.assay_id AS assayId, r.measure, r.ct, r.sp, r.ct_raw AS ctRaw, r.lab_call AS labCall,
                 r.accession, r.collected_on AS collectedOn, r.reported_on AS reportedOn, r.class AS resultClass, x.text AS reason, r.load_band AS loadBand,
-                r.positive_below AS positiveBelow, r.suspect_below AS suspectBelow, r.cycle_limit AS cycleLimit, r.call_differs AS callDiffers
+                CASE WHEN r.measure = 'ct' THEN r.positive_below END AS positiveBelow, CASE WHEN r.measure = 'ct' THEN r.suspect_below END AS suspectBelow,
+                CASE WHEN r.measure = 'ct' THEN r.cycle_limit END AS cycleLimit, r.positive_at_or_above AS positiveAtOrAbove, r.suspect_at_or_above AS suspectAtOrAbove,
+                r.call_differs AS callDiffers
          FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
          WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
          ORDER BY r.id`,

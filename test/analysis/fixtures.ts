@@ -10,7 +10,7 @@ export function smallConfig(program: Record<string, unknown> = {}, analysis: Rec
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-analysis-'));
   fs.mkdirSync(path.join(dir, 'labs'));
   for (const name of ['assays.yaml', 'labs/northfield.yaml']) fs.copyFileSync(path.join(DEMO_CONFIG_DIR, name), path.join(dir, name));
-  const programDefaults = {
+  const programDefaults: Record<string, unknown> = {
     designPrevalence: { pens: 1 },
     targetConfidence: 0.95,
     ropeSensitivity: 1,
@@ -21,6 +21,10 @@ export function smallConfig(program: Record<string, unknown> = {}, analysis: Rec
     introductionPerInterval: 0.01,
     ...program,
   };
+  // The demo assays include an antibody ELISA, which needs a rope sensitivity of its own: the
+  // one given applies to it as well here.
+  const se = programDefaults.ropeSensitivity;
+  if (typeof se === 'number') programDefaults.ropeSensitivity = { default: se, 'PRRSV-AB': se };
   const sites = {
     analysis: { seed: 3, sizingModel: 'hypergeometric', ...analysis },
     programDefaults,

@@ -13,7 +13,7 @@ import { workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
 const GOOD_PROFILE = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8');
-const WRONG_PROFILE = GOOD_PROFILE.replace('ct: Ct Value', 'ct: Ct Valeu');
+const WRONG_PROFILE = GOOD_PROFILE.replace('result: Ct Value', 'result: Ct Valeu');
 
 function dropInbox(ws: TestWorkspace): { sheet: string; results: string } {
   const site = ws.config().siteById.get('HOLLOW-CREEK')!;

@@ -70,7 +70,7 @@ describe('names that collide', () => {
     const assays = configError(
       configEdited('assays.yaml', (doc) => doc.assays.push({ ...doc.assays[0], id: 'prrsv' })),
     );
-    expect(assays).toMatchObject({ keyPath: 'assays[2].id' });
+    expect(assays).toMatchObject({ keyPath: 'assays[3].id' });
     const labs = configError(configWith({ 'labs/westfield.yaml': demoText('labs/northfield.yaml').replace('id: northfield', 'id: Northfield') }));
     expect(labs.file.endsWith('westfield.yaml')).toBe(true);
     expect(labs.keyPath).toBe('id');

@@ -15,7 +15,7 @@ import path from 'node:path';
 import fc from 'fast-check';
 import { afterAll, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
-import type { LabAssay, LabProfile } from '../../src/config/types.js';
+import type { CtLabAssay, LabProfile } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { BinaryContentError, EncodingError, sniffEncoding, TextChunkDecoder } from '../../src/ingest/decode.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
@@ -49,8 +49,9 @@ const ctText = fc.oneof(
   fc.constantFrom('1e3', '-5', 'NaN', '35,2', '>40', '> 45', '>30', '0', '0.0', '40', '45', '60', '60.01', 'Infinity', '0x1F', 'Undetermined', 'n/a', ''),
 );
 
-function assaysOf(lab: LabProfile): LabAssay[] {
-  return [...lab.assays.values()];
+/** The lab's PCR assays: readCt reads Ct cells (an S/P assay's cells go to readSp). */
+function assaysOf(lab: LabProfile): CtLabAssay[] {
+  return [...lab.assays.values()].filter((assay): assay is CtLabAssay => assay.measure === 'ct');
 }
 
 describe('readCt on arbitrary cell text', () => {
@@ -115,7 +116,7 @@ describe('mapResultRow on arbitrary records', () => {
           expect(outcome.row.line).toBe(line);
           if (outcome.row.ct !== null) {
             expect(outcome.row.ct).toBeGreaterThan(0);
-            expect(outcome.row.ct).toBeLessThan(outcome.row.cycleLimit);
+            expect(outcome.row.ct).toBeLessThan(outcome.row.cycleLimit!);
           }
         } else {
           expect(CODES.has(outcome.rejection.code)).toBe(true);

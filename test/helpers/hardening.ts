@@ -129,7 +129,7 @@ export function writeManySiteConfig(dir: string, options: ManySiteOptions): void
     'programDefaults:',
     '  designPrevalence: 0.1',
     '  targetConfidence: 0.95',
-    '  ropeSensitivity: { default: 0.85 }',
+    '  ropeSensitivity: { default: 0.85, PRRSV-AB: 0.9 }',
     '  ropeSpecificity: 1',
     '  roundWindowDays: 3',
     '  intervalDays: 14',

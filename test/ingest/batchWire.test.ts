@@ -18,7 +18,9 @@ const resultRow: fc.Arbitrary<ResultRow> = fc.record({
   sampleId: text,
   assayId: fc.constantFrom('PRRSV', 'IAV'),
   labAssay: text,
+  measure: fc.constantFrom('ct', 'sp-ratio'),
   ct: maybe(fc.double({ min: 0.01, max: 60, noNaN: true })),
+  sp: maybe(fc.double({ min: -1, max: 10, noNaN: true })),
   ctRaw: text,
   labCall: maybe(text),
   accession: maybe(text),
@@ -29,9 +31,11 @@ const resultRow: fc.Arbitrary<ResultRow> = fc.record({
   resultClass: fc.constantFrom('positive', 'suspect', 'negative', 'invalid'),
   reason: text,
   loadBand: maybe(fc.constantFrom('high', 'moderate', 'low')),
-  positiveBelow: fc.integer({ min: 30, max: 38 }),
-  suspectBelow: fc.integer({ min: 36, max: 40 }),
-  cycleLimit: fc.constantFrom(40, 45),
+  positiveBelow: maybe(fc.integer({ min: 30, max: 38 })),
+  suspectBelow: maybe(fc.integer({ min: 36, max: 40 })),
+  cycleLimit: maybe(fc.constantFrom(40, 45)),
+  positiveAtOrAbove: maybe(fc.constantFrom(0.4, 1)),
+  suspectAtOrAbove: maybe(fc.constantFrom(0.3, 0.8)),
   markedReissue: fc.boolean(),
   statusKind: maybe(fc.constantFrom('preliminary', 'final', 'corrected')),
   statusWord: maybe(text),
@@ -65,9 +69,9 @@ describe('batch wire format', () => {
 
   it('stores each distinct text of a column once per batch', () => {
     const row = (i: number): ResultRow => ({
-      line: i + 2, labId: 'northfield', sampleId: `S-${i}`, assayId: 'PRRSV', labAssay: 'PRRSV NA/EU RT-PCR', ct: null, ctRaw: 'Undetermined', labCall: 'Negative',
+      line: i + 2, labId: 'northfield', sampleId: `S-${i}`, assayId: 'PRRSV', labAssay: 'PRRSV NA/EU RT-PCR', measure: 'ct', ct: null, sp: null, ctRaw: 'Undetermined', labCall: 'Negative',
       accession: `NV-${i}`, collectedOn: '2026-08-03', reportedOn: '2026-08-06', reportStatus: 'Final', control: 'PASS', resultClass: 'negative',
-      reason: 'not detected', loadBand: null, positiveBelow: 36, suspectBelow: 38, cycleLimit: 40, markedReissue: false,
+      reason: 'not detected', loadBand: null, positiveBelow: 36, suspectBelow: 38, cycleLimit: 40, positiveAtOrAbove: null, suspectAtOrAbove: null, markedReissue: false,
       statusKind: 'final', statusWord: 'Final', labCallClass: 'negative', callDiffers: false, sampleIdAsWritten: null, contentKey: i, encodedRope: undefined,
     });
     const wire = encodeBatch({ results: Array.from({ length: 100 }, (_, i) => row(i)), ropes: [], rejections: [] });

@@ -13,7 +13,9 @@ import type { CtReading } from '../../src/interpret/ct.js';
 import { expectClose } from '../helpers/expectClose.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
-const prrsv = config.assayById.get('PRRSV')!;
+const prrsvAssay = config.assayById.get('PRRSV')!;
+if (prrsvAssay.measure !== 'ct') throw new Error('PRRSV is a Ct assay in the demo configuration');
+const prrsv = prrsvAssay;
 const nf = config.labById.get('northfield')!.assays.get('prrsv na/eu rt-pcr')!;
 const om = config.labById.get('ostermark')!.assays.get('prrsv rt-qpcr')!;
 const ct = (value: number): CtReading => ({ kind: 'detected', ct: value });

@@ -23,8 +23,9 @@ describe('the round model keeps how each result was read', () => {
   });
 
   it('lists the cutoffs each lab used in the round', () => {
-    expect(first!.cutoffs).toEqual([{ labId: 'northfield', assayId: 'PRRSV', positiveBelow: 36, suspectBelow: 40, cycleLimit: 40, results: 3 }]);
-    expect(second!.cutoffs).toEqual([{ labId: 'ostermark', assayId: 'PRRSV', positiveBelow: 37, suspectBelow: 40, cycleLimit: 45, results: 4 }]);
+    const ct = { measure: 'ct', positiveAtOrAbove: null, suspectAtOrAbove: null };
+    expect(first!.cutoffs).toEqual([{ labId: 'northfield', assayId: 'PRRSV', ...ct, positiveBelow: 36, suspectBelow: 40, cycleLimit: 40, results: 3 }]);
+    expect(second!.cutoffs).toEqual([{ labId: 'ostermark', assayId: 'PRRSV', ...ct, positiveBelow: 37, suspectBelow: 40, cycleLimit: 45, results: 4 }]);
   });
 
   it('names the lab reports behind a round: lab, report date, case numbers, first and last collection date', () => {

@@ -13,7 +13,7 @@ const workspace = workspacesPerTest();
 
 const GOOD_PROFILE = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8');
 // A typing mistake in the profile: the lab's Ct column is "Ct Value".
-const WRONG_PROFILE = GOOD_PROFILE.replace('ct: Ct Value', 'ct: Ct Valeu');
+const WRONG_PROFILE = GOOD_PROFILE.replace('result: Ct Value', 'result: Ct Valeu');
 
 const results = () =>
   northfieldExport(

@@ -54,12 +54,15 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
     if (positiveBarns.length === 0) continue;
     const ropes = positiveBarns.reduce((sum, barn) => sum + barn.assays.find((a) => a.assayId === assay.id)!.positive, 0);
     const earlier = summaries.slice(0, index).some((s) => s.barns.some((barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0));
+    // An antibody positive means exposure (infection or vaccination), not necessarily virus now;
+    // an unexpected one is retested by PCR (common practice, no source).
+    const exposure = assay.measure === 'sp-ratio' ? ' Antibody means exposure, not necessarily current infection: retest these pens by PCR.' : '';
     if (!earlier) {
       alerts.push({
         kind: 'first-positive',
         assayId: assay.id,
         barnId: null,
-        message: `First ${assay.name} positive on this site: ${plural(ropes, 'positive rope')} in ${positiveBarns.map((barn) => `barn ${barn.barnId} (${barn.assays.find((a) => a.assayId === assay.id)!.positivePens.join(', ')})`).join(', ')}.`,
+        message: `First ${assay.name} positive on this site: ${plural(ropes, 'positive rope')} in ${positiveBarns.map((barn) => `barn ${barn.barnId} (${barn.assays.find((a) => a.assayId === assay.id)!.positivePens.join(', ')})`).join(', ')}.${exposure}`,
       });
       continue;
     }
@@ -71,7 +74,7 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         kind: 'new-positive-barn',
         assayId: assay.id,
         barnId: barn.barnId,
-        message: `New positive barn: ${barn.name} (${barn.barnId}) has ${plural(tally.positive, `${assay.id} positive rope`)} (${tally.positivePens.join(', ')}) and had none in the previous round.`,
+        message: `New positive barn: ${barn.name} (${barn.barnId}) has ${plural(tally.positive, `${assay.id} positive rope`)} (${tally.positivePens.join(', ')}) and ${previous?.assays.some((other) => other.id === assay.id) ? 'had none in the previous round' : `${assay.id} was not tested in the previous round`}.${exposure}`,
       });
     }
   }
@@ -84,11 +87,15 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
   }
   for (const assay of summary.assays) {
     if (assay.site.freedomReset) {
+      const pcr = assay.pairedWith === null ? 'the PCR assay' : (summary.assays.find((other) => other.id === assay.pairedWith)?.name ?? assay.pairedWith);
       alerts.push({
         kind: 'freedom-reset',
         assayId: assay.id,
         barnId: null,
-        message: `Freedom reset for ${assay.name}: the probability of freedom was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior after a positive round.`,
+        message:
+          assay.measure === 'sp-ratio'
+            ? `Freedom from exposure reset for ${assay.name} (antibody): it was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior. The freedom of ${pcr} is not reset: antibody means exposure, not necessarily current infection.`
+            : `Freedom reset for ${assay.name}: the probability of freedom was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior after a positive round.`,
       });
     }
   }
@@ -115,11 +122,12 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         });
       }
       if (tally.suspect > 0) {
+        const near = tally.confidence.measure === 'sp-ratio' ? 'an S/P just below the positive cutoff' : 'a high Ct just above the positive cutoff';
         alerts.push({
           kind: 'suspect',
           assayId: tally.assayId,
           barnId: barn.barnId,
-          message: `${plural(tally.suspect, 'suspect result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.suspectPens.join(', ')}): a high Ct just above the positive cutoff; usually retested.`,
+          message: `${plural(tally.suspect, 'suspect result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.suspectPens.join(', ')}): ${near}; usually retested.`,
         });
       }
     }

@@ -113,6 +113,8 @@ export interface PenMark {
   resultClass: 'positive' | 'suspect' | 'negative' | 'invalid' | 'missing';
   /** Load score max(0, C_max - Ct), cycles. */
   load: number;
+  /** Ramp step to fill with instead of the load's (an S/P result: spStep); the tooltip then names no load. */
+  shade?: number;
   /** Positive now and never before (a small corner flag). */
   newPositive?: boolean;
   /** Text for the pen's tooltip. */
@@ -209,7 +211,8 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
     if (pen.status === 'empty') fill = `url(#${prefix}-empty)`;
     else if (pen.status === 'out-of-use') fill = `url(#${prefix}-out)`;
     if (result && result.resultClass !== 'missing') {
-      const step = LOAD_RAMP[loadStep(result.load)]!;
+      const step = LOAD_RAMP[result.shade ?? loadStep(result.load)];
+      if (step === undefined) throw new RangeError(`\`shade\` of pen ${pen.id} must be an integer in [0, ${LOAD_RAMP.length - 1}], got ${result.shade}`);
       fill = step.fill;
       ink = step.ink;
     }
@@ -224,7 +227,7 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
       ...(positive ? ['data-positive=""'] : []),
       ...(planned ? [`data-planned="${planned.reason}"`] : []),
     ].join(' ');
-    const tip = [pen.id, pen.status === 'in-use' ? '' : pen.status, result ? `${result.resultClass}${result.load > 0 ? `, load ${fmt(result.load)}` : ''}` : '', result?.note ?? '', planned ? `${planned.reason} rope #${planned.order}` : '']
+    const tip = [pen.id, pen.status === 'in-use' ? '' : pen.status, result ? `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}` : '', result?.note ?? '', planned ? `${planned.reason} rope #${planned.order}` : '']
       .filter((text) => text !== '')
       .join(', ');
     parts.push(`<g class="pen" ${data}><title>${escapeHtml(tip)}</title>`);

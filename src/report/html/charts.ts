@@ -161,3 +161,123 @@ export function trendLegend(heading = '', cutoffs = ''): string {
     `</div>`
   );
 }
+
+/** One point of an S/P trend: the S/P ratio (null only when the result is invalid). */
+export interface SpTrendPoint {
+  round: number;
+  label: string;
+  sp: number | null;
+  resultClass: string;
+}
+
+export interface SpTrendOptions {
+  title: string;
+  /** The positive S/P cutoffs of the labs that reported the points, one dashed line each. */
+  cutoffs: readonly TrendCutoff[];
+  rounds: readonly { round: number; label: string }[];
+  width?: number;
+  height?: number;
+}
+
+/**
+ * The y axis of an S/P trend: from 0 (or the lowest S/P, rounded down to 0.5) up to the highest
+ * S/P or cutoff shown, rounded up to 0.5 and at least 1; higher is more antibody, at the top.
+ * @param sps S/P ratios (finite)
+ * @param cutoffs positive cutoffs drawn (finite, > 0)
+ * @throws RangeError for a value that is not finite, or a cutoff not > 0
+ */
+export function spAxis(sps: readonly number[], cutoffs: readonly number[]): { bottom: number; top: number } {
+  for (const sp of sps) if (!Number.isFinite(sp)) throw new RangeError(`\`sp\` must be a finite number, got ${sp}`);
+  for (const cutoff of cutoffs) if (!Number.isFinite(cutoff) || cutoff <= 0) throw new RangeError(`\`cutoff\` must be a number > 0, got ${cutoff}`);
+  const bottom = Math.min(0, Math.floor(Math.min(0, ...sps) * 2) / 2);
+  const top = Math.max(1, Math.ceil(Math.max(...sps, ...cutoffs, 0) * 2) / 2);
+  return { bottom, top };
+}
+
+/**
+ * Renders an S/P trend chart of an antibody assay: rounds on the x axis, the S/P ratio on the y
+ * axis with more antibody at the top (the axis says so), a line through the S/P values, each
+ * lab's positive cutoff as a dashed line, and an invalid result as a cross on a strip of its own
+ * below the axis. There is no "not detected" in an S/P: a low S/P is a point like any other.
+ * @throws RangeError as spAxis
+ */
+export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendOptions): string {
+  const width = options.width ?? 230;
+  const valued = points.filter((point) => point.resultClass !== 'invalid' && point.sp !== null);
+  const anyInvalid = valued.length < points.length;
+  const height = (options.height ?? 130) + (anyInvalid ? 12 : 0);
+  const axis = spAxis(
+    valued.map((point) => point.sp!),
+    options.cutoffs.map((cutoff) => cutoff.value),
+  );
+  const shown = [...options.cutoffs].sort((a, b) => a.value - b.value);
+  const left = anyInvalid ? 40 : 34;
+  const right = shown.length > 0 ? 26 : 10;
+  const top = 20;
+  const bottom = 30 + (anyInvalid ? 12 : 0);
+  const rounds = options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
+  const index = new Map(rounds.map((entry, i) => [entry.round, i]));
+  const plotW = width - left - right;
+  const plotH = height - top - bottom;
+  const xAt = (round: number) => left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
+  const yAt = (sp: number) => top + ((axis.top - sp) / (axis.top - axis.bottom)) * plotH;
+  const invalidY = yAt(axis.bottom) + 11;
+  const spLabel = (sp: number) => String(Math.round(sp * 100) / 100);
+  const parts: string[] = [];
+  parts.push(`<svg xmlns="http://www.w3.org/2000/svg" class="trend" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" role="img" data-trend="" data-measure="sp-ratio">`);
+  parts.push(`<title>${escapeHtml(options.title)}</title>`);
+  parts.push(`<text x="${left}" y="12" font-size="11" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(options.title)}</text>`);
+  const grid = axis.top - axis.bottom <= 3 ? 0.5 : 1;
+  for (let k = Math.ceil(axis.bottom / grid); k * grid <= axis.top + 1e-9; k++) {
+    const value = k * grid;
+    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(value))}" y2="${fmt(yAt(value))}" stroke="#d4d4d4" stroke-width="0.8"/>`);
+    parts.push(`<text x="${left - 4}" y="${fmt(yAt(value))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${spLabel(value)}</text>`);
+  }
+  parts.push(`<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">S/P (up = more antibody)</text>`);
+  shown.forEach((cutoff, i) => {
+    const y = yAt(cutoff.value);
+    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(y)}" y2="${fmt(y)}" stroke="#000000" stroke-width="1" stroke-dasharray="4 3" data-cutoff="${spLabel(cutoff.value)}"><title>${escapeHtml(`positive cutoff ${cutoff.label}`)}</title></line>`);
+    const below = i % 2 === 1 && Math.abs(y - yAt(shown[i - 1]!.value)) < 10;
+    parts.push(`<text x="${width - right + 3}" y="${fmt(below ? y + 3 + 7 : y + 3)}" font-size="8" fill="${COLOURS.ink}">${escapeHtml(spLabel(cutoff.value))}</text>`);
+  });
+  parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
+  if (anyInvalid) parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
+  const step = Math.max(1, Math.ceil(rounds.length / 7));
+  const labelsY = height - bottom + 13 + (anyInvalid ? 12 : 0);
+  rounds.forEach((entry, i) => {
+    if (i % step !== 0 && i !== rounds.length - 1) return;
+    parts.push(`<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
+  });
+  if (valued.length >= 2) {
+    const path = valued.map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.sp!))}`).join(' ');
+    parts.push(`<path d="${path}" fill="none" stroke="${COLOURS.ink}" stroke-width="1.6"/>`);
+  }
+  for (const point of points) {
+    const x = xAt(point.round);
+    if (point.resultClass === 'invalid' || point.sp === null) {
+      parts.push(`<path d="${cross(x, invalidY, 3.6)}" stroke="${COLOURS.ink}" stroke-width="2" fill="none" data-point="invalid"><title>${escapeHtml(`${point.label}: invalid, retest (no reading)`)}</title></path>`);
+      continue;
+    }
+    const y = yAt(point.sp);
+    parts.push(`<circle cx="${fmt(x)}" cy="${fmt(y)}" r="3.4" fill="${COLOURS.ink}" data-point="sp"><title>${escapeHtml(`${point.label}: S/P ${point.sp} (${point.resultClass})`)}</title></circle>`);
+    parts.push(`<text x="${fmt(x)}" y="${fmt(y - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${spLabel(point.sp)}</text>`);
+  }
+  parts.push('</svg>');
+  return parts.join('');
+}
+
+/**
+ * The legend of the S/P trend charts: the same shapes as in the charts.
+ * @param heading leading text (already escaped HTML)
+ * @param cutoffs what the dashed lines are (already escaped HTML)
+ */
+export function spTrendLegend(heading = '', cutoffs = ''): string {
+  const icon = (inner: string) => `<svg width="22" height="14" viewBox="0 0 22 14" aria-hidden="true">${inner}</svg>`;
+  return (
+    `<div class="legend" data-trend-legend="" data-measure="sp-ratio">${heading ? `<span class="item">${heading}</span>` : ''}` +
+    `<span class="item">${icon(`<circle cx="11" cy="7" r="3.4" fill="${COLOURS.ink}"/>`)}S/P ratio (higher = more antibody)</span>` +
+    `<span class="item">${icon(`<path d="${cross(11, 7, 3.6)}" stroke="${COLOURS.ink}" stroke-width="2" fill="none"/>`)}invalid (retest)</span>` +
+    `<span class="item">${icon(`<line x1="1" x2="21" y1="7" y2="7" stroke="#000000" stroke-width="1" stroke-dasharray="4 3"/>`)}the lab\u2019s positive cutoff (positive at or above)${cutoffs ? `, ${cutoffs}` : ''}</span>` +
+    `</div>`
+  );
+}

@@ -4,15 +4,16 @@
  * the spatial statistics with their p-values and a one-line reading of each, and a Ct trend
  * per positive pen. Reads the analysis; computes no statistic.
  */
-import type { RoundSummary } from '../../analysis/roundSummary.js';
+import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { BarnSpatialReport } from '../../spatial/analyse.js';
 import type { PageAlert } from './alerts.js';
 import { renderBarnMap, type PenMark } from './barnMap.js';
-import { renderCtTrend, trendLegend, type TrendCutoff } from './charts.js';
+import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { escapeHtml } from './escape.js';
-import { count, legendShades, num, pct, pValue, renderPage, resultsLegend, type LegendLimit } from './page.js';
+import { count, legendShades, num, pct, pValue, renderPage, resultsLegend, spLegendShades, spResultsLegend, type LegendLimit, type SpLegendCutoff } from './page.js';
+import { spStep } from './palette.js';
 
 export interface ClustersPageInput {
   site: Site;
@@ -32,15 +33,46 @@ export const MAIN_SCALE = 34;
 export const MINI_SCALE = 10;
 export const QUIET_SCALE = 12;
 
-/** How a pen's result was read: the lab, and its cutoffs for the assay ("Northfield: positive below 36, cycle limit 40"). */
-export function readingNote(result: { labName: string; positiveBelow: number | null; suspectBelow: number | null; cycleLimit: number }): string {
+type ReadResult = {
+  labName: string;
+  measure?: 'ct' | 'sp-ratio';
+  positiveBelow: number | null;
+  suspectBelow: number | null;
+  cycleLimit: number | null;
+  positiveAtOrAbove?: number | null;
+  suspectAtOrAbove?: number | null;
+};
+
+/**
+ * How a pen's result was read: the lab, and its cutoffs for the assay ("Northfield: positive
+ * below 36, cycle limit 40"; for an antibody assay "Northfield: positive at S/P ≥ 0.4").
+ */
+export function readingNote(result: ReadResult): string {
+  if (result.measure === 'sp-ratio') {
+    const suspect = result.suspectAtOrAbove === null || result.suspectAtOrAbove === undefined ? '' : `, suspect from ${result.suspectAtOrAbove}`;
+    return `${result.labName}: positive at S/P \u2265 ${result.positiveAtOrAbove ?? 'n/a'}${suspect}`;
+  }
   const cut = result.positiveBelow === null ? '' : `positive below ${result.positiveBelow}, `;
-  return `${result.labName}: ${cut}cycle limit ${result.cycleLimit}`;
+  return `${result.labName}: ${cut}cycle limit ${result.cycleLimit ?? 'n/a'}`;
 }
 
-/** The marks of one barn and assay in one round, from the summary's pens (every roped pen). */
+type PenResult = RoundSummary['pens'][number]['results'][string];
+
+/** A result's value in words: "Ct 28.1", "not detected", "S/P 0.52" or "invalid, retest". */
+export function valueText(result: Pick<PenResult, 'resultClass' | 'measure' | 'ct' | 'sp'>): string {
+  if (result.resultClass === 'invalid') return 'invalid, retest';
+  if (result.measure === 'sp-ratio') return result.sp === null ? 'no S/P' : `S/P ${result.sp}`;
+  return result.ct === null ? 'not detected' : `Ct ${result.ct}`;
+}
+
+/**
+ * The marks of one barn and assay in one round, from the summary's pens (every roped pen). An
+ * antibody result is shaded by its S/P against its lab's positive cutoff; its tooltip also names
+ * the paired PCR result of the pen, when the round has one.
+ */
 export function resultMarks(summary: RoundSummary, barnId: string, assayId: string, report?: BarnSpatialReport): Map<string, PenMark> {
   const newPositive = new Set((report?.pens ?? []).filter((pen) => pen.newPositive).map((pen) => pen.id));
+  const pcr = summary.pairs?.find((pair) => pair.antibody === assayId)?.pcr;
   const marks = new Map<string, PenMark>();
   for (const pen of summary.pens) {
     if (pen.barnId !== barnId) continue;
@@ -49,15 +81,50 @@ export function resultMarks(summary: RoundSummary, barnId: string, assayId: stri
       if (!pen.returned) marks.set(pen.penId, { resultClass: 'missing', load: 0, note: 'rope hung, no result' });
       continue;
     }
-    const value = result.resultClass === 'invalid' ? 'invalid, retest' : result.ct === null ? 'not detected' : `Ct ${result.ct}`;
+    const paired = pcr === undefined ? undefined : pen.results[pcr];
+    const pairNote = pcr === undefined ? '' : `; ${pcr}: ${paired ? `${valueText(paired)} (${paired.resultClass})` : 'not tested'}`;
+    const shade =
+      result.measure === 'sp-ratio'
+        ? result.resultClass === 'invalid' || result.sp === null || result.positiveAtOrAbove === null
+          ? 0
+          : spStep(result.sp, result.positiveAtOrAbove)
+        : undefined;
     marks.set(pen.penId, {
       resultClass: result.resultClass,
       load: result.load,
+      ...(shade !== undefined ? { shade } : {}),
       newPositive: newPositive.has(pen.penId),
-      note: `${value} (${readingNote(result)})`,
+      note: `${valueText(result)} (${readingNote(result)})${pairNote}`,
     });
   }
   return marks;
+}
+
+/** The positive S/P cutoffs the shading of a barn's antibody maps used, each with its labs; the assay's default when none is drawn. */
+export function legendSpCutoffs(summaries: readonly RoundSummary[], barnIds: readonly string[], assayId: string, fallback: number): SpLegendCutoff[] {
+  const byCutoff = new Map<number, Set<string>>();
+  for (const summary of summaries) {
+    for (const pen of summary.pens) {
+      const result = barnIds.includes(pen.barnId) ? pen.results[assayId] : undefined;
+      if (!result || result.positiveAtOrAbove === null) continue;
+      const labs = byCutoff.get(result.positiveAtOrAbove) ?? new Set<string>();
+      labs.add(result.labName);
+      byCutoff.set(result.positiveAtOrAbove, labs);
+    }
+  }
+  if (byCutoff.size === 0) return [{ positiveAtOrAbove: fallback, labs: [] }];
+  return [...byCutoff.entries()].sort((a, b) => a[0] - b[0]).map(([positiveAtOrAbove, labs]) => ({ positiveAtOrAbove, labs: [...labs].sort() }));
+}
+
+/** The map legend of an assay's barns: load by Ct, or S/P for an antibody assay. */
+function mapLegend(input: ClustersPageInput, summaries: readonly RoundSummary[], barnIds: readonly string[], assayId: string, key: string): { html: string; shades: string } {
+  const assay = input.assays.get(assayId);
+  if (assay?.measure === 'sp-ratio') {
+    const cutoffs = legendSpCutoffs(summaries, barnIds, assayId, assay.positiveAtOrAbove);
+    return { html: spResultsLegend(key, cutoffs), shades: spLegendShades(cutoffs) };
+  }
+  const limits = legendLimits(summaries, barnIds, assayId, assay?.cycleLimit ?? 40);
+  return { html: resultsLegend(key, limits), shades: legendShades(limits) };
 }
 
 /**
@@ -69,7 +136,7 @@ export function legendLimits(summaries: readonly RoundSummary[], barnIds: readon
   for (const summary of summaries) {
     for (const pen of summary.pens) {
       const result = barnIds.includes(pen.barnId) ? pen.results[assayId] : undefined;
-      if (!result) continue;
+      if (!result || result.cycleLimit === null) continue;
       const labs = byLimit.get(result.cycleLimit) ?? new Set<string>();
       labs.add(result.labName);
       byLimit.set(result.cycleLimit, labs);
@@ -79,7 +146,7 @@ export function legendLimits(summaries: readonly RoundSummary[], barnIds: readon
   return [...byLimit.entries()].sort((a, b) => a[0] - b[0]).map(([cycleLimit, labs]) => ({ cycleLimit, labs: [...labs].sort() }));
 }
 
-function statsTable(report: BarnSpatialReport, detection: AssaySpatial['detection'][number] | undefined, alpha: number): string {
+function statsTable(report: BarnSpatialReport, detection: AssaySpatial['detection'][number] | undefined, alpha: number, antibody = false): string {
   const rows: string[] = [];
   const jc = report.joinCount;
   if (jc) {
@@ -101,10 +168,14 @@ function statsTable(report: BarnSpatialReport, detection: AssaySpatial['detectio
       moran.I === null
         ? escapeHtml(moran.reason ?? 'Undefined for these values.')
         : moran.pPermutation !== null && moran.pPermutation <= alpha
-          ? 'Ropes with a high load sit near other ropes with a high load.'
-          : 'No spatial pattern in load beyond chance.';
+          ? antibody
+            ? 'Ropes with a high S/P sit near other ropes with a high S/P.'
+            : 'Ropes with a high load sit near other ropes with a high load.'
+          : antibody
+            ? 'No spatial pattern in S/P beyond chance.'
+            : 'No spatial pattern in load beyond chance.';
     rows.push(
-      `<tr><td>Moran\u2019s I on load</td><td>I = ${num(moran.I, 3)} (expected ${num(moran.expected, 3)}); permutation p = <strong>${pValue(moran.pPermutation)}</strong>` +
+      `<tr><td>Moran\u2019s I on ${antibody ? 'S/P' : 'load'}</td><td>I = ${num(moran.I, 3)} (expected ${num(moran.expected, 3)}); permutation p = <strong>${pValue(moran.pPermutation)}</strong>` +
         `${moran.zRandomisation !== null ? `; z = ${num(moran.zRandomisation)} (shown for reference)` : ''}</td><td>${reading}</td></tr>`,
     );
   }
@@ -137,7 +208,8 @@ function statsTable(report: BarnSpatialReport, detection: AssaySpatial['detectio
 function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial): string {
   const summary = input.summaries[input.index]!;
   const assayConfig = input.assays.get(assay.assayId);
-  const cycleLimit = assayConfig?.cycleLimit ?? 40;
+  const antibody = assay.measure === 'sp-ratio';
+  const cycleLimit = assayConfig?.measure === 'ct' ? assayConfig.cycleLimit : 40;
   const report = assay.report.barns.find((entry) => entry.barn === barn.id);
   const tally = summary.barns.find((entry) => entry.barnId === barn.id)?.assays.find((entry) => entry.assayId === assay.assayId);
   const key = `${summary.round.id}-${assay.assayId}-${barn.id}`;
@@ -170,7 +242,9 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
             attributes: { 'data-map': 'mini', 'data-assay': assay.assayId, 'data-round': previous.round.id },
           });
           const n = previous.barns.find((b) => b.barnId === barn.id)?.assays.find((a) => a.assayId === assay.assayId)?.positive ?? 0;
-          return `<figure>${svg}<figcaption>r${String(previous.round.number).padStart(2, '0')} ${escapeHtml(previous.round.startOn)}: ${n} +</figcaption></figure>`;
+          // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
+          const tested = previous.assays.some((entry) => entry.id === assay.assayId);
+          return `<figure>${svg}<figcaption>r${String(previous.round.number).padStart(2, '0')} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}</figcaption></figure>`;
         })
         .join('')}<figure>${renderBarnMap(barn, { key: `${key}-mini-now`, scale: MINI_SCALE, detail: 'mini', title: `${barn.name}, ${assay.assayId}, this round`, results: marks, clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2) })}<figcaption><strong>this round: ${positives} +</strong></figcaption></figure></div>`
     : '';
@@ -182,6 +256,19 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
       const pen = summary.pens.find((entry) => entry.barnId === barn.id && entry.penId === penId);
       const result = pen?.results[assay.assayId];
       const history = result?.history ?? [];
+      if (antibody) {
+        // Every S/P was read against its lab's positive cutoff: one dashed line per cutoff drawn.
+        const cutoffs = new Map<number, Set<string>>();
+        for (const point of history) {
+          if (point.positiveAtOrAbove === null || point.sp === null || point.resultClass === 'invalid') continue;
+          for (const into of [cutoffs, cutoffsDrawn]) into.set(point.positiveAtOrAbove, (into.get(point.positiveAtOrAbove) ?? new Set<string>()).add(point.labName));
+        }
+        const lines: TrendCutoff[] = [...cutoffs.entries()].sort((a, b) => a[0] - b[0]).map(([value, labs]) => ({ value, label: `S/P ${value} (${[...labs].sort().join(', ')})` }));
+        return renderSpTrend(
+          history.map((point) => ({ round: point.round, label: `r${String(point.round).padStart(2, '0')}`, sp: point.sp, resultClass: point.resultClass })),
+          { title: `Pen ${penId}`, cutoffs: lines, rounds },
+        );
+      }
       // Each point as its own lab read it: the axis ends at the highest cycle limit among them,
       // and the positive cutoff of each lab whose Ct is drawn is a dashed line (a not-detected or
       // invalid result was not read against a cutoff).
@@ -196,7 +283,7 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
         cutoffsDrawn.set(point.positiveBelow, drawn);
       }
       const lines: TrendCutoff[] = [...cutoffs.entries()].sort((a, b) => a[0] - b[0]).map(([value, labs]) => ({ value, label: `${value} (${[...labs].sort().join(', ')})` }));
-      const limit = Math.max(...history.map((point) => point.cycleLimit), result?.cycleLimit ?? cycleLimit);
+      const limit = Math.max(...history.map((point) => point.cycleLimit ?? cycleLimit), result?.cycleLimit ?? cycleLimit);
       return renderCtTrend(
         history.map((point) => ({ round: point.round, label: `r${String(point.round).padStart(2, '0')}`, ct: point.ct, resultClass: point.resultClass })),
         { title: `Pen ${penId}`, cycleLimit: limit, cutoffs: lines, rounds },
@@ -211,9 +298,14 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
           .sort((a, b) => a[0] - b[0])
           .map(([value, labs]) => `${value} (${escapeHtml([...labs].sort().join(', '))})`)
           .join('; ');
+  const strength = (cluster: { index: number; minCt: number | null }) => {
+    if (!antibody) return `lowest Ct ${num(cluster.minCt, 1)}`;
+    const sp = assay.clusterSp.find((entry) => entry.barnId === barn.id && entry.cluster === cluster.index);
+    return `highest S/P ${num(sp?.maxSp, 2)}, mean S/P ${num(sp?.meanSp, 2)}`;
+  };
   const clusterList = (report?.clusters ?? [])
     .filter((cluster) => cluster.size >= 2)
-    .map((cluster) => `<li>C${cluster.index}: ${escapeHtml(cluster.pens.join(', '))}; ${cluster.size} pens over ${num(cluster.alleyLength, 1)} pen units along the alley; lowest Ct ${num(cluster.minCt, 1)}${cluster.newPens.length > 0 ? `; new: ${escapeHtml(cluster.newPens.join(', '))}` : ''}</li>`)
+    .map((cluster) => `<li>C${cluster.index}: ${escapeHtml(cluster.pens.join(', '))}; ${cluster.size} pens over ${num(cluster.alleyLength, 1)} pen units along the alley; ${strength(cluster)}${cluster.newPens.length > 0 ? `; new: ${escapeHtml(cluster.newPens.join(', '))}` : ''}</li>`)
     .join('');
   const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested</h3>`;
   if (!busy) {
@@ -229,11 +321,13 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
     return `<figure class="quiet" data-barn="${escapeHtml(barn.id)}">${small}<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested; no positive, suspect or invalid rope so far.</figcaption></figure>`;
   }
   return (
-    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${resultsLegend(key, legendLimits([...earlier, summary], [barn.id], assay.assayId, cycleLimit))}` +
+    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${mapLegend(input, [...earlier, summary], [barn.id], assay.assayId, key).html}` +
     (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
     (clusterList ? `<ul>${clusterList}</ul>` : '') +
-    (report ? statsTable(report, assay.detection.find((entry) => entry.barnId === barn.id), input.alpha) : '<p>No spatial statistics for this barn.</p>') +
-    (trends ? `${trendLegend('<strong>Ct trend per positive pen:</strong>', cutoffText)}<div class="trends">${trends}</div>` : '') +
+    (report ? statsTable(report, assay.detection.find((entry) => entry.barnId === barn.id), input.alpha, antibody) : '<p>No spatial statistics for this barn.</p>') +
+    (trends
+      ? `${antibody ? spTrendLegend('<strong>S/P trend per antibody-positive pen:</strong>', cutoffText) : trendLegend('<strong>Ct trend per positive pen:</strong>', cutoffText)}<div class="trends">${trends}</div>`
+      : '') +
     `</section>`
   );
 }
@@ -270,12 +364,18 @@ export function cutoffsSentence(summary: RoundSummary): string {
     // Assays sharing the suspect cutoff and cycle limit are named together.
     const groups = new Map<string, RoundSummary['cutoffs']>();
     for (const cutoff of cutoffs) {
+      if (cutoff.measure === 'sp-ratio') continue;
       const key = `${cutoff.suspectBelow}/${cutoff.cycleLimit}`;
       groups.set(key, [...(groups.get(key) ?? []), cutoff]);
     }
-    return [...groups.values()]
-      .map((group) => `${group.map((cutoff) => `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}`).join(', ')}; suspect below ${group[0]!.suspectBelow}, cycle limit ${group[0]!.cycleLimit}`)
-      .join('; ');
+    const ct = [...groups.values()].map(
+      (group) => `${group.map((cutoff) => `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}`).join(', ')}; suspect below ${group[0]!.suspectBelow}, cycle limit ${group[0]!.cycleLimit}`,
+    );
+    // An antibody assay reads the other way: positive at or above its S/P cutoff.
+    const sp = cutoffs
+      .filter((cutoff) => cutoff.measure === 'sp-ratio')
+      .map((cutoff) => `${escapeHtml(cutoff.assayId)} positive at S/P \u2265 ${cutoff.positiveAtOrAbove}${cutoff.suspectAtOrAbove === null ? '' : `, suspect from ${cutoff.suspectAtOrAbove}`}`);
+    return [...ct, ...sp].join('; ');
   };
   return ` Cutoffs of the reporting lab: ${[...byLab.entries()].map(([lab, cutoffs]) => `<span data-read-with="">${escapeHtml(lab)}: ${labText(cutoffs)}</span>`).join('; ')}.`;
 }
@@ -284,15 +384,13 @@ function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
   const rendered = input.site.barns.map((barn) => barnSection(input, barn, assay));
   const quiet = rendered.filter((html) => html.startsWith('<figure class="quiet"'));
   const busy = rendered.filter((html) => !html.startsWith('<figure class="quiet"'));
-  const cycleLimit = input.assays.get(assay.assayId)?.cycleLimit ?? 40;
   const quietIds = input.site.barns.filter((_, i) => rendered[i]!.startsWith('<figure class="quiet"')).map((barn) => barn.id);
-  const limits = legendLimits([input.summaries[input.index]!], quietIds, assay.assayId, cycleLimit);
-  const legend = resultsLegend(`${input.summaries[input.index]!.round.id}-${assay.assayId}-quiet`, limits);
+  const legend = mapLegend(input, [input.summaries[input.index]!], quietIds, assay.assayId, `${input.summaries[input.index]!.round.id}-${assay.assayId}-quiet`);
   // The legend a busy barn above already gave, with the same limits, is not printed twice.
-  const shown = busy.some((html) => html.includes(legendShades(limits)));
+  const shown = busy.some((html) => html.includes(legend.shades));
   const quietBlock =
     quiet.length > 0
-      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${shown ? '' : legend}</section>`
+      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${shown ? '' : legend.html}</section>`
       : '';
   return busy.join('') + quietBlock;
 }
@@ -308,14 +406,18 @@ export function renderClustersPage(input: ClustersPageInput): string {
   const spatialAlerts = input.alerts.filter((alert) => ['significant-cluster', 'spread', 'new-focus', 'first-positive', 'new-positive-barn'].includes(alert.kind));
   const sections = spatial.assays
     .map((assay) => {
-      const name = input.assays.get(assay.assayId)?.name ?? assay.assayId;
+      const config = input.assays.get(assay.assayId);
+      const name = config?.name ?? assay.assayId;
       const site = assay.report.joinCount;
+      const pcr = config?.measure === 'sp-ratio' && config.pairedWith !== undefined ? (input.assays.get(config.pairedWith)?.name ?? config.pairedWith) : null;
+      const meaning = assay.measure === 'sp-ratio' ? `<p class="explain" data-antibody="${escapeHtml(assay.assayId)}">${escapeHtml(antibodyMeaning(name, pcr))}</p>` : '';
       const alerts = spatialAlerts.filter((alert) => alert.assayId === assay.assayId);
       const siteLine = site
         ? `<p>Site join count (barns as separate blocks, positives permuted within barns): BB = ${site.bb}, ${num(site.expectedBB)} expected, ${site.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${pValue(site.pPermutation)}. Spread across the site: ${escapeHtml(assay.report.spread.explanation)}.</p>`
         : '';
       return (
         `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
+        meaning +
         (alerts.length > 0 ? `<div class="alerts"><ul>${alerts.map((alert) => `<li>${escapeHtml(alert.message)}</li>`).join('')}</ul></div>` : '') +
         siteLine +
         sequencingBlock(summary, assay.assayId) +

@@ -5,7 +5,7 @@
  */
 import { CAUTIONS } from '../cautions.js';
 import { escapeHtml, safeId } from './escape.js';
-import { COLOURS, LOAD_BAND_CYCLES, LOAD_RAMP } from './palette.js';
+import { COLOURS, LOAD_BAND_CYCLES, LOAD_RAMP, SP_STEP_MULTIPLES } from './palette.js';
 
 export interface PageInput {
   /** The <title>. */
@@ -174,6 +174,50 @@ export function legendShades(list: readonly LegendLimit[]): string {
   return (
     `<div class="legend" data-legend=""><span class="item"><strong>Shade = load (${cmax} \u2212 Ct), darker = more virus:</strong>${whose}</span>${ramp}</div>`
   );
+}
+
+/** A positive S/P cutoff the shading of a map used, and the labs whose results were read with it. */
+export interface SpLegendCutoff {
+  positiveAtOrAbove: number;
+  labs: readonly string[];
+}
+
+/** An S/P value as a legend writes it: at most three decimals, no trailing zeros. */
+const spText = (value: number) => String(Math.round(value * 1000) / 1000);
+
+/** The S/P range a ramp step stands for at one positive cutoff c (see spStep). */
+function spStepRange(index: number, cutoff: number): string {
+  const bounds = SP_STEP_MULTIPLES.map((multiple) => multiple * cutoff);
+  if (index === 0) return `&lt; ${spText(bounds[0]!)}`;
+  if (index === bounds.length) return `\u2265 ${spText(bounds[index - 1]!)}`;
+  return `${spText(bounds[index - 1]!)}\u2013${spText(bounds[index]!)}`;
+}
+
+/**
+ * Legend of a results map of an antibody assay: the ramp with the S/P range each step stands
+ * for at the positive cutoff of the lab that reported each rope (one range per cutoff when labs
+ * differ), then the same symbols as a Ct map.
+ * @param key unique within the page (pattern ids)
+ * @param cutoffs the positive S/P cutoffs of the results drawn, with their labs
+ */
+export function spResultsLegend(rawKey: string, cutoffs: readonly SpLegendCutoff[]): string {
+  return spLegendShades(cutoffs) + legendSymbols(safeId(rawKey));
+}
+
+/** The shade part of an S/P results legend (the same cutoffs give the same text). */
+export function spLegendShades(list: readonly SpLegendCutoff[]): string {
+  const ramp = LOAD_RAMP.map((step, index) => {
+    const label =
+      list.length === 1
+        ? `S/P ${spStepRange(index, list[0]!.positiveAtOrAbove)}`
+        : `S/P ${list.map((cutoff) => `${spStepRange(index, cutoff.positiveAtOrAbove)} (cutoff ${spText(cutoff.positiveAtOrAbove)})`).join(' or ')}`;
+    return `<span class="item">${swatch(step.fill, '#4b5563', 1.2)}${label}</span>`;
+  }).join('');
+  const named = list.length > 1 ? list.filter((cutoff) => cutoff.labs.length > 0) : [];
+  const whose =
+    named.length === 0 ? '' : ` Positive cutoff of the lab that reported each rope: ${named.map((cutoff) => `${spText(cutoff.positiveAtOrAbove)} (${escapeHtml(cutoff.labs.join(', '))})`).join('; ')}.`;
+  const cut = list.length === 1 ? `positive at S/P \u2265 ${spText(list[0]!.positiveAtOrAbove)}` : 'shades at multiples of each lab\u2019s positive cutoff';
+  return `<div class="legend" data-legend="" data-measure="sp-ratio"><span class="item"><strong>Shade = S/P ratio (antibody), darker = more antibody; ${cut}:</strong>${whose}</span>${ramp}</div>`;
 }
 
 /** The symbol part of a results legend. */

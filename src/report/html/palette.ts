@@ -51,6 +51,27 @@ export function loadStep(load: number): number {
   return Math.min(LOAD_RAMP.length - 1, Math.ceil(load / LOAD_BAND_CYCLES));
 }
 
+/**
+ * S/P shading: the ramp's steps at multiples of the lab's positive cutoff c, doubling (an ELISA's
+ * S/P grows roughly with the logarithm of the antibody level): step 0 below c/2, 1 up to c,
+ * 2 up to 2c, 3 up to 4c, 4 from 4c. Common practice, no source: a reading aid, not a call.
+ */
+export const SP_STEP_MULTIPLES: readonly number[] = Object.freeze([0.5, 1, 2, 4]);
+
+/**
+ * Ramp step for an S/P ratio read against a positive cutoff (see SP_STEP_MULTIPLES).
+ * @param sp S/P ratio, finite
+ * @param positiveAtOrAbove the lab's positive cutoff, > 0
+ * @throws RangeError when `sp` is not finite or the cutoff is not > 0
+ */
+export function spStep(sp: number, positiveAtOrAbove: number): number {
+  if (!Number.isFinite(sp)) throw new RangeError(`\`sp\` must be a finite number, got ${sp}`);
+  if (!Number.isFinite(positiveAtOrAbove) || positiveAtOrAbove <= 0) throw new RangeError(`\`positiveAtOrAbove\` must be a number > 0, got ${positiveAtOrAbove}`);
+  let step = 0;
+  for (const multiple of SP_STEP_MULTIPLES) if (sp >= multiple * positiveAtOrAbove) step++;
+  return step;
+}
+
 function channel(hex: string, offset: number): number {
   return parseInt(hex.slice(offset, offset + 2), 16) / 255;
 }

@@ -6,7 +6,7 @@
  * differs from its reading; where the results came from (lab, case numbers, dates), to file
  * against the lab's report; the alerts in plain words with the number behind each.
  */
-import type { RoundSummary } from '../../analysis/roundSummary.js';
+import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
 import type { PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { confidenceSentence, count, pct, renderPage } from './page.js';
@@ -23,31 +23,62 @@ function alertsBlock(alerts: readonly PageAlert[]): string {
 }
 
 function siteTable(summary: RoundSummary): string {
+  const nameOf = (id: string) => summary.assays.find((assay) => assay.id === id)?.name ?? id;
   const rows = summary.assays
     .map((assay) => {
       const site = assay.site;
+      const antibody = assay.measure === 'sp-ratio';
+      // An antibody assay's figures are of exposure: its reset never touches a PCR assay's freedom.
       const freedom = site.freedomReset
-        ? `reset by a positive round (was ${pct(site.priorFreedom)} before it)`
-        : `${pct(site.priorFreedom)} before this round \u2192 <strong>${pct(site.freedom)}</strong> after it (repeated rounds like this level off at ${pct(site.levelsOffAt)})`;
-      return `<tr><td>${escapeHtml(assay.name)}</td><td class="num">${pct(site.detectionConfidence)}</td><td>${site.positive ? `positive in ${escapeHtml(site.positiveBarns.join(', '))}` : 'no positive rope'}</td><td>${freedom}</td></tr>`;
+        ? antibody
+          ? `freedom from exposure reset by an antibody positive round (was ${pct(site.priorFreedom)} before it); the PCR freedom is not reset`
+          : `reset by a positive round (was ${pct(site.priorFreedom)} before it)`
+        : `${antibody ? 'freedom from exposure: ' : ''}${pct(site.priorFreedom)} before this round \u2192 <strong>${pct(site.freedom)}</strong> after it (repeated rounds like this level off at ${pct(site.levelsOffAt)})`;
+      const result = site.positive ? `${antibody ? 'antibody ' : ''}positive in ${escapeHtml(site.positiveBarns.join(', '))}` : antibody ? 'no antibody-positive rope' : 'no positive rope';
+      const name = antibody ? `${escapeHtml(assay.name)} <span class="muted">(antibody, S/P: exposure)</span>` : escapeHtml(assay.name);
+      return `<tr data-assay="${escapeHtml(assay.id)}" data-measure="${assay.measure}"><td>${name}</td><td class="num">${pct(site.detectionConfidence)}</td><td>${result}</td><td>${freedom}</td></tr>`;
     })
     .join('');
-  return `<table data-site-table=""><thead><tr><th>Assay</th><th class="num">Site detection confidence</th><th>Result</th><th>Probability of freedom so far</th></tr></thead><tbody>${rows}</tbody></table>`;
+  const meanings = summary.assays
+    .filter((assay) => assay.measure === 'sp-ratio')
+    .map((assay) => `<p class="explain" data-antibody="${escapeHtml(assay.id)}">${escapeHtml(antibodyMeaning(assay.name, assay.pairedWith === null ? null : nameOf(assay.pairedWith)))}</p>`)
+    .join('');
+  return `<table data-site-table=""><thead><tr><th>Assay</th><th class="num">Site detection confidence</th><th>Result</th><th>Probability of freedom so far</th></tr></thead><tbody>${rows}</tbody></table>${meanings}`;
 }
 
 type PenResult = RoundSummary['pens'][number]['results'][string];
 
-/** The cutoffs a result was read with, in short: "+ below 36, ? below 40, limit 40". */
-export function cutoffText(result: Pick<PenResult, 'positiveBelow' | 'suspectBelow' | 'cycleLimit'>): string {
+/**
+ * The cutoffs a result was read with, in short: "positive below 36, suspect below 40, cycle
+ * limit 40"; for an antibody result "positive at S/P ≥ 0.4, suspect from 0.3".
+ */
+export function cutoffText(
+  result: Pick<PenResult, 'positiveBelow' | 'suspectBelow' | 'cycleLimit'> & Partial<Pick<PenResult, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove'>>,
+): string {
+  if (result.measure === 'sp-ratio') {
+    return [
+      result.positiveAtOrAbove === null || result.positiveAtOrAbove === undefined ? '' : `positive at S/P \u2265 ${result.positiveAtOrAbove}`,
+      result.suspectAtOrAbove === null || result.suspectAtOrAbove === undefined ? '' : `suspect from ${result.suspectAtOrAbove}`,
+    ]
+      .filter((part) => part !== '')
+      .join(', ');
+  }
   const parts = [
     result.positiveBelow === null ? '' : `positive below ${result.positiveBelow}`,
     result.suspectBelow === null ? '' : `suspect below ${result.suspectBelow}`,
-    `cycle limit ${result.cycleLimit}`,
+    result.cycleLimit === null ? '' : `cycle limit ${result.cycleLimit}`,
   ];
   return parts.filter((part) => part !== '').join(', ');
 }
 
 const ctCell = (ct: number | null, resultClass: string) => (resultClass === 'invalid' ? 'invalid' : ct === null ? 'n.d.' : String(ct));
+
+/** The value cell of a result: its Ct (n.d. when not detected), or "S/P 0.52" for an antibody result. */
+const valueCell = (result: { measure?: string; ct: number | null; sp?: number | null; resultClass: string }) =>
+  result.measure === 'sp-ratio' ? (result.resultClass === 'invalid' || result.sp === null || result.sp === undefined ? 'invalid' : `S/P ${result.sp}`) : ctCell(result.ct, result.resultClass);
+
+/** The round has an antibody assay: value columns hold a Ct or an S/P. */
+const hasAntibody = (summary: RoundSummary) => summary.assays.some((assay) => assay.measure === 'sp-ratio');
 
 /**
  * The results of a round were not all read alike: more than one lab, or one lab with more than
@@ -75,7 +106,7 @@ function findingsTable(summary: RoundSummary, barnId: string): string {
           const call = result.labCall === null ? '<span class="muted">none</span>' : `${escapeHtml(result.labCall)}${result.callDiffers ? ' <strong>(differs)</strong>' : ''}`;
           return (
             `<tr data-pen="${escapeHtml(pen.penId)}" data-assay="${escapeHtml(assayId)}"><td>${escapeHtml(pen.penId)}</td><td>${escapeHtml(assayId)}</td><td>${escapeHtml(result.sampleId)}</td>` +
-            `<td class="num">${ctCell(result.ct, result.resultClass)}</td><td>${escapeHtml(result.resultClass)}${result.sequencingCandidate ? ', sequencing candidate' : ''}</td><td>${call}</td>` +
+            `<td class="num">${valueCell(result)}</td><td>${escapeHtml(result.resultClass)}${result.sequencingCandidate ? ', sequencing candidate' : ''}</td><td>${call}</td>` +
             `<td>${escapeHtml(result.accession ?? '')}</td>` +
             (mixed ? `<td>${escapeHtml(result.labName)}: ${escapeHtml(cutoffText(result))}</td>` : '') +
             `</tr>`
@@ -84,7 +115,7 @@ function findingsTable(summary: RoundSummary, barnId: string): string {
     );
   if (rows.length === 0) return '';
   return (
-    `<table data-findings=""><thead><tr><th>Pen</th><th>Assay</th><th>Sample</th><th class="num">Ct</th><th>Reading</th><th>Lab\u2019s call</th><th>Lab case</th>` +
+    `<table data-findings=""><thead><tr><th>Pen</th><th>Assay</th><th>Sample</th><th class="num">${hasAntibody(summary) ? 'Ct or S/P' : 'Ct'}</th><th>Reading</th><th>Lab\u2019s call</th><th>Lab case</th>` +
     (mixed ? '<th>Read with (lab: cutoffs)</th>' : '') +
     `</tr></thead><tbody>${rows.join('')}</tbody></table>`
   );
@@ -97,7 +128,7 @@ function disagreementsBlock(summary: RoundSummary): string {
     .map(
       (entry) =>
         `<tr data-disagreement="${escapeHtml(entry.sampleId)}"><td>${escapeHtml(entry.barnId)} ${escapeHtml(entry.penId)}</td><td>${escapeHtml(entry.sampleId)}</td><td>${escapeHtml(entry.assayId)}</td>` +
-        `<td class="num">${escapeHtml(entry.ctRaw ?? ctCell(entry.ct, entry.resultClass))}</td><td><strong>${escapeHtml(entry.labCall)}</strong></td>` +
+        `<td class="num">${escapeHtml(entry.ctRaw ?? valueCell(entry))}</td><td><strong>${escapeHtml(entry.labCall)}</strong></td>` +
         `<td><strong>${escapeHtml(entry.resultClass)}</strong>: ${escapeHtml(entry.reason)}${entry.standsForPen ? '' : ' (a second rope of the pen; another result stands for it)'}</td>` +
         `<td>${escapeHtml(entry.labName)}${entry.accession ? `, case ${escapeHtml(entry.accession)}` : ''}</td></tr>`,
     )
@@ -105,7 +136,7 @@ function disagreementsBlock(summary: RoundSummary): string {
   return (
     `<h2>Lab call and reading disagree</h2><p>For these samples the lab\u2019s own call names another class than the lab\u2019s cutoffs in the configuration give for the Ct it reported. ` +
     `ropewatch counts the reading from the cutoffs; check the cutoffs in the lab profile against the lab\u2019s report, and ask the lab when they agree.</p>` +
-    `<table data-disagreements="${summary.disagreements.length}"><thead><tr><th>Pen</th><th>Sample</th><th>Assay</th><th class="num">Ct as reported</th><th>Lab\u2019s call</th><th>ropewatch reading</th><th>Lab, case</th></tr></thead><tbody>${rows}</tbody></table>`
+    `<table data-disagreements="${summary.disagreements.length}"><thead><tr><th>Pen</th><th>Sample</th><th>Assay</th><th class="num">${hasAntibody(summary) ? 'Ct or S/P' : 'Ct'} as reported</th><th>Lab\u2019s call</th><th>ropewatch reading</th><th>Lab, case</th></tr></thead><tbody>${rows}</tbody></table>`
   );
 }
 
@@ -126,10 +157,18 @@ function sourcesBlock(summary: RoundSummary): string {
   const byLab = new Map<string, string[]>();
   for (const cutoff of summary.cutoffs) {
     const d = cutoff.defaults;
-    const differs = d !== null && (d.positiveBelow !== cutoff.positiveBelow || d.suspectBelow !== cutoff.suspectBelow || d.cycleLimit !== cutoff.cycleLimit);
+    const differs =
+      d !== null &&
+      (d.positiveBelow !== cutoff.positiveBelow ||
+        d.suspectBelow !== cutoff.suspectBelow ||
+        d.cycleLimit !== cutoff.cycleLimit ||
+        d.positiveAtOrAbove !== cutoff.positiveAtOrAbove ||
+        d.suspectAtOrAbove !== cutoff.suspectAtOrAbove);
     const text =
-      `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}, suspect below ${cutoff.suspectBelow}, cycle limit ${cutoff.cycleLimit}` +
-      (differs ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${d!.positiveBelow}, ${d!.suspectBelow}, ${d!.cycleLimit})</span>` : '');
+      cutoff.measure === 'sp-ratio'
+        ? `${escapeHtml(cutoff.assayId)} ${cutoffText(cutoff)}` + (differs ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${cutoffText({ ...d!, measure: 'sp-ratio' })})</span>` : '')
+        : `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}, suspect below ${cutoff.suspectBelow}, cycle limit ${cutoff.cycleLimit}` +
+          (differs ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${d!.positiveBelow}, ${d!.suspectBelow}, ${d!.cycleLimit})</span>` : '');
     byLab.set(cutoff.labName, [...(byLab.get(cutoff.labName) ?? []), text]);
   }
   const cutoffs = [...byLab.entries()].map(([lab, texts]) => `<li data-cutoffs-of="${escapeHtml(lab)}">${escapeHtml(lab)}: ${texts.join('; ')}</li>`).join('');
@@ -169,6 +208,45 @@ export function caseList(accessions: readonly string[]): string {
   return out.join(', ');
 }
 
+/**
+ * What a pen's PCR and antibody results say together, in the vet's words: virus now, antibody
+ * from exposure a while back (common practice, no source; the herd's veterinarian interprets).
+ */
+export function pairReading(pcr: Pick<PenResult, 'resultClass'> | undefined, antibody: Pick<PenResult, 'resultClass'> | undefined): string {
+  const p = pcr?.resultClass;
+  const a = antibody?.resultClass;
+  if (p === 'invalid' || a === 'invalid' || p === 'suspect' || a === 'suspect') return 'a suspect or invalid result: retest before reading the pair';
+  if (p === 'positive' && a === 'positive') return 'virus and antibody: an infection under way, antibody already up';
+  if (p === 'positive') return a === undefined ? 'virus; antibody not tested' : 'virus, no antibody yet: likely an early infection';
+  if (a === 'positive') return p === undefined ? 'antibody, no PCR result: exposure; retest the pen by PCR' : 'antibody without virus: earlier exposure (or vaccination); no virus found now';
+  return 'neither virus nor antibody';
+}
+
+/**
+ * Per antibody assay paired with a PCR assay (assays.yaml pairedWith): the pens of a barn with a
+ * finding in either, both results side by side.
+ */
+function pairsTable(summary: RoundSummary, barnId: string): string {
+  return summary.pairs
+    .map((pair) => {
+      const rows = summary.pens
+        .filter((pen) => pen.barnId === barnId)
+        .filter((pen) => [pen.results[pair.pcr], pen.results[pair.antibody]].some((result) => result !== undefined && result.resultClass !== 'negative'))
+        .map((pen) => {
+          const pcr = pen.results[pair.pcr];
+          const antibody = pen.results[pair.antibody];
+          const cell = (result: PenResult | undefined) => (result === undefined ? '<span class="muted">not tested</span>' : `${valueCell(result)} (${escapeHtml(result.resultClass)})`);
+          return `<tr data-pair-pen="${escapeHtml(pen.penId)}"><td>${escapeHtml(pen.penId)}</td><td>${cell(pcr)}</td><td>${cell(antibody)}</td><td>${escapeHtml(pairReading(pcr, antibody))}</td></tr>`;
+        });
+      if (rows.length === 0) return `<p class="muted" data-pairs="${escapeHtml(pair.antibody)}">${escapeHtml(pair.pcr)} and ${escapeHtml(pair.antibody)}: no pen with virus or antibody this round.</p>`;
+      return (
+        `<table data-pairs="${escapeHtml(pair.antibody)}"><thead><tr><th>Pen</th><th>${escapeHtml(pair.pcr)} (PCR, Ct)</th><th>${escapeHtml(pair.antibody)} (antibody, S/P)</th><th>Together</th></tr></thead>` +
+        `<tbody>${rows.join('')}</tbody></table>`
+      );
+    })
+    .join('');
+}
+
 function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): string {
   const target = summary.program.targetConfidence;
   const missing = barn.missingSampleIds.length;
@@ -192,7 +270,7 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
         .filter((text) => text !== '')
         .join('<br>');
       return (
-        `<tr data-assay="${escapeHtml(tally.assayId)}"><td>${escapeHtml(tally.assayId)}</td><td class="num">${tally.tested}</td><td class="num">${tally.positive}</td><td class="num">${tally.suspect}</td><td class="num">${tally.negative}</td><td class="num">${tally.invalid}</td>` +
+        `<tr data-assay="${escapeHtml(tally.assayId)}"><td>${escapeHtml(tally.assayId)}${c.measure === 'sp-ratio' ? ' <span class="muted">(antibody: exposure)</span>' : ''}</td><td class="num">${tally.tested}</td><td class="num">${tally.positive}</td><td class="num">${tally.suspect}</td><td class="num">${tally.negative}</td><td class="num">${tally.invalid}</td>` +
         `<td>${pens || '<span class="muted">none</span>'}</td>` +
         `<td class="num ${met ? 'met' : 'below'}">${pct(c.detectionConfidence)}</td><td>${need}</td><td>${prevalence}</td></tr>`
       );
@@ -204,7 +282,7 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
     (missing > 0 ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(barn.missingSampleIds.join(', '))}` : '; none missing') +
     `.</p>` +
     `<table><thead><tr><th>Assay</th><th class="num">Tested</th><th class="num">Positive</th><th class="num">Suspect</th><th class="num">Negative</th><th class="num">Invalid</th><th>Pens (+ positive, ? suspect, \u00d7 invalid)</th>` +
-    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${findingsTable(summary, barn.barnId)}</section>`
+    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${findingsTable(summary, barn.barnId)}${pairsTable(summary, barn.barnId)}</section>`
   );
 }
 
