@@ -3,6 +3,7 @@
  * validates, reports errors with the file and the key path, and normalises once.
  */
 import { z } from 'zod';
+import { REQUIRED_KEY_HELP } from './schemaProblems.js';
 
 const probability = z.number().min(0).max(1);
 const penId = z.string().min(1);
@@ -211,7 +212,10 @@ export const assaySchema = z
   .superRefine((assay, ctx) => {
     const required = assay.measure === 'ct' ? (['positiveBelow', 'suspectBelow', 'cycleLimit', 'loadBands'] as const) : (['positiveAtOrAbove'] as const);
     for (const key of required) {
-      if (assay[key] === undefined) ctx.addIssue({ code: 'custom', path: [key], message: `is required for an assay with measure ${assay.measure}` });
+      if (assay[key] === undefined) {
+        const help = REQUIRED_KEY_HELP[key];
+        ctx.addIssue({ code: 'custom', path: [key], message: `is missing${help === undefined ? '' : `: ${help}`} (required for an assay with measure ${assay.measure})` });
+      }
     }
     const foreign = assay.measure === 'ct' ? SP_ONLY_KEYS : CT_ONLY_KEYS;
     for (const key of foreign) {

@@ -81,7 +81,7 @@ describe('unknown keys', () => {
   });
 
   it('names the nearest assay id for a per-assay key that names no assay', () => {
-    const dir = configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity = { default: 0.85, PRRS: 0.9 }));
+    const dir = configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity.PRRS = 0.9));
     expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'programDefaults.ropeSensitivity.PRRS', detail: expect.stringContaining('did you mean PRRSV?') })]);
   });
 });
