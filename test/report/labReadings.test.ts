@@ -38,7 +38,7 @@ describe('summary.csv', () => {
   it('adds the new columns at the end, after the existing ones', () => {
     // README: columns are stable and new ones are added at the end (common practice, no source).
     expect(SUMMARY_COLUMNS.indexOf('ct_history')).toBe(36);
-    expect(SUMMARY_COLUMNS.slice(37)).toEqual(['lab_call', 'call_differs', 'lab', 'accession', 'collected_on', 'reported_on', 'positive_below', 'suspect_below', 'cycle_limit', 'sequencing_candidate']);
+    expect(SUMMARY_COLUMNS.slice(37, 47)).toEqual(['lab_call', 'call_differs', 'lab', 'accession', 'collected_on', 'reported_on', 'positive_below', 'suspect_below', 'cycle_limit', 'sequencing_candidate']);
   });
 
   it('gives a pen row the lab call and whether it differs from the reading', () => {
