@@ -1010,19 +1010,26 @@ export class Store {
   }
 
   /**
-   * Refused rows whose sample ID failed its check character and that name a planned rope of the
-   * site as the ID they most likely meant (`suggested_id`), and that no row of their file has
-   * taken the place of since (a confirmed correction read in again stores a result on that
-   * line). By file and line.
+   * Refused rows whose sample ID failed its check character and that name, as the ID they most
+   * likely meant (`suggested_id`), a planned rope of the site still without a result, and that
+   * no row of their file has taken the place of since (a confirmed correction read in again
+   * stores a result on that line, possibly under another planned ID). By file and line.
    */
   mistypedRefusals(siteId: string): MistypedRefusal[] {
+    // The planned rope's result is looked up by sample (indexed) first; results have no index by
+    // file and line, so that scan runs only for the few refusals still waiting.
     return this.db
       .prepare(
-        `SELECT COALESCE(j.value, '') AS written, j.suggested_id AS suggestedId, f.name AS fileName, j.line
-         FROM rejected_rows j JOIN files f ON f.id = j.file_id JOIN planned_ropes p ON p.sample_id = j.suggested_id
-         WHERE j.code = 'bad-check-character' AND p.site_id = ?
-           AND NOT EXISTS (SELECT 1 FROM results r WHERE r.file_id = j.file_id AND r.line = j.line)
-         ORDER BY j.file_id, j.line, j.id`,
+        `WITH waiting AS MATERIALIZED (
+           SELECT j.id, j.file_id, j.line, j.value, j.suggested_id
+           FROM rejected_rows j JOIN planned_ropes p ON p.sample_id = j.suggested_id
+           WHERE j.code = 'bad-check-character' AND p.site_id = ?
+             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)
+         )
+         SELECT COALESCE(w.value, '') AS written, w.suggested_id AS suggestedId, f.name AS fileName, w.line
+         FROM waiting w JOIN files f ON f.id = w.file_id
+         WHERE NOT EXISTS (SELECT 1 FROM results r WHERE r.file_id = w.file_id AND r.line = w.line)
+         ORDER BY w.file_id, w.line, w.id`,
       )
       .all(siteId) as MistypedRefusal[];
   }

@@ -30,8 +30,8 @@ const written = meant.replace('-012', '-013');
 const RESULTS = 'nvdl_results_2026-09-02.csv';
 const CORRECTED = 'nvdl_corrected_2026-09-04.csv';
 
-const plan = (): PlannedRope[] =>
-  ids.map((sampleId, index) => ({
+const plan = (planned: readonly string[] = ids): PlannedRope[] =>
+  planned.map((sampleId, index) => ({
     sampleId,
     siteId: 'hollow-creek',
     barnId: 'F1',
@@ -57,8 +57,8 @@ const text = (html: string) =>
     .replaceAll('&gt;', '>')
     .replaceAll('&amp;', '&');
 
-async function roundWithNotes(ws: TestWorkspace): Promise<void> {
-  ws.ws().store.replacePlan('hollow-creek', 0, plan());
+async function roundWithNotes(ws: TestWorkspace, planned: readonly string[] = ids): Promise<void> {
+  ws.ws().store.replacePlan('hollow-creek', 0, plan(planned));
   const results = [HEADER, line(first, 'Undetermined', 'Negative', '2026-09-02', 'Final'), line(written, '27.40', 'Positive', '2026-09-02', 'Final'), line(third, 'Undetermined', 'Negative', '2026-09-02', 'Final')];
   const a = await ws.drop(RESULTS, results.join('\n') + '\n');
   expect(a.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 2, rejected: 1 } });
@@ -153,5 +153,24 @@ describe('a corrected report and a mistyped planned ID on the round outputs', ()
     const html = read(ws, 'summary.html');
     expect(html).not.toContain('data-mistyped');
     expect(html).not.toContain('data-alert="mistyped-id"');
+  });
+
+  it('no longer names the refusal once its row is read under another planned ID a person confirmed', async () => {
+    const ws = workspace();
+    // A fourth planned rope, F1 A4, whose result never came back under its own ID.
+    const fourth = formatSampleId({ siteCode: 'HCF', round: 1, sequence: 14 });
+    await roundWithNotes(ws, [...ids, fourth]);
+    expect(JSON.parse(read(ws, 'summary.json')).barns[0].mistyped.map((rope: { sampleId: string }) => rope.sampleId)).toEqual([meant]);
+    // The lab reads the tube again: it was the fourth rope, not the one suggested.
+    fs.writeFileSync(path.join(ws.paths.configDir, 'corrections.yaml'), `sampleIds:\n  - { written: "${written}", meant: "${fourth}", file: "${RESULTS}" }\n`);
+    ws.closeStore();
+    const run = await runCli(['ingest', path.join('inbox', 'archive', RESULTS), ...ws.cliFlags], { cwd: ws.root });
+    expect(run.code).toBe(0);
+    const f1 = JSON.parse(read(ws, 'summary.json')).barns[0];
+    // By hand: A4 has its result now; A2's rope has none and nothing refused names it any more.
+    expect(f1).toMatchObject({ barnId: 'F1', missingSampleIds: [meant], mistyped: [] });
+    const barnRow = csvRows(ws).find((row) => row.level === 'barn' && row.barn === 'F1' && row.assay === 'PRRSV')!;
+    expect(barnRow).toMatchObject({ missing_sample_ids: meant, refused_mistyped_id: '', likely_meant_id: '' });
+    expect(read(ws, 'summary.html')).toContain(`<strong>1 rope missing</strong>: ${meant}.`);
   });
 });
