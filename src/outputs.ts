@@ -41,7 +41,10 @@ export interface AnalyseOptions {
 /** Builds a site's analysis from the store (no writing). */
 export function analyseSite(ws: Workspace, site: Site, results: readonly StoredResult[], cache: OutbreakCache, options: AnalyseOptions = {}): SiteAnalysis {
   const ropes = ws.store.ropes(site.id);
-  const rounds = buildSiteRounds(site, ropes, results, ws.store.plannedWithoutResults(site.id));
+  const rounds = buildSiteRounds(site, ropes, results, ws.store.plannedWithoutResults(site.id), {
+    replaced: ws.store.replacedReports(site.id),
+    mistyped: ws.store.mistypedRefusals(site.id),
+  });
   const confidence = siteConfidence(site, rounds);
   const summaries = summariseSite(ws.config, site, rounds, confidence);
   const spatial = siteSpatial(site, rounds, confidence, ws.config.analysis, cache);

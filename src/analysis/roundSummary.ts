@@ -9,9 +9,11 @@ import {
   type AssayTally,
   type CallDisagreement,
   type CtHistoryPoint,
+  type MistypedRope,
   type PenAssayResult,
   type ResultSource,
   type RoundCutoff,
+  type RoundReplacement,
   type SiteRound,
 } from '../interpret/roundModel.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
@@ -82,7 +84,10 @@ export interface BarnSummary {
   pensInUse: number;
   ropesHung: number;
   ropesReturned: number;
+  /** Every rope without a result stored, including those in `mistyped`. */
   missingSampleIds: string[];
+  /** Ropes without a result for which a row came back under a mistyped sample ID (refused, waiting for a person to confirm the ID). */
+  mistyped: MistypedRope[];
   sampledPens: string[];
   assays: BarnAssaySummary[];
   /** The lab reports behind this barn's results. */
@@ -121,6 +126,8 @@ export interface RoundSummary {
   cutoffs: CutoffSummary[];
   /** Every result whose lab call differs from its reading with the lab's cutoffs. */
   disagreements: (CallDisagreement & { labName: string })[];
+  /** Every report of the round's ropes that a correction or a later report took the place of, with both readings. */
+  replaced: (RoundReplacement & { labName: string })[];
   /** Per assay with a sequencing threshold configured. */
   sequencing: SequencingCandidates[];
   notices: string[];
@@ -207,6 +214,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         ropesHung: barnRound.ropesHung,
         ropesReturned: barnRound.ropesReturned,
         missingSampleIds: barnRound.missingSampleIds,
+        mistyped: barnRound.mistyped,
         sampledPens: barnRound.pens.map((pen) => pen.penId),
         assays: assayIds.map((assayId) => {
           const { testedPens, ...tally } = barnRound.byAssay[assayId]!;
@@ -290,6 +298,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         };
       }),
       disagreements: round.disagreements.map((entry) => ({ ...entry, labName: labName(entry.labId) })),
+      replaced: round.replaced.map((entry) => ({ ...entry, labName: labName(entry.labId) })),
       sequencing,
       notices,
       cautions: CAUTIONS,

@@ -100,6 +100,8 @@ export interface BarnRound {
   missingSampleIds: string[];
   /** Of those, ropes planned for this round whose pen no other rope covered. */
   plannedMissing: string[];
+  /** Of the missing ropes, those for which a row came back under a mistyped sample ID and was refused. */
+  mistyped: MistypedRope[];
   pens: PenRound[];
   byAssay: Record<string, AssayTally>;
   /** The lab reports behind this barn's results, one per lab and report date. */
@@ -170,6 +172,61 @@ export interface SiteRound {
   cutoffs: RoundCutoff[];
   /** Every result of the round whose lab call disagrees with its reading, in barn and pen order. */
   disagreements: CallDisagreement[];
+  /** Every report of the round's ropes that another took the place of, in barn and pen order. */
+  replaced: RoundReplacement[];
+}
+
+/** One report of a link between two reports of a sample, assay and lab (as stored). */
+export interface ReadingInput {
+  resultClass: ResultClass;
+  ct: number | null;
+  /** The Ct cell as the lab wrote it ('' for a blank). */
+  ctRaw: string;
+  labCall: string | null;
+  reportedOn: string | null;
+  /** preliminary, final or corrected, when the report said. */
+  status: string | null;
+  /** The lab's own word for the report's state. */
+  statusWord: string | null;
+}
+
+/** A report that another took the place of: `replaced` is no longer current, `inPlace` took its place. */
+export interface ReplacedInput {
+  sampleId: string;
+  assayId: string;
+  labId: string;
+  /** Why, as a code (correction, final-over-preliminary, later-report, ...); null when not recorded. */
+  kind: string | null;
+  reason: string;
+  replaced: ReadingInput;
+  inPlace: ReadingInput;
+}
+
+/** A replaced report of one of the round's ropes, with the pen the rope hangs in. */
+export type RoundReplacement = ReplacedInput & { barnId: string; penId: string };
+
+/** A refused row whose sample ID failed its check character, naming the planned ID it most likely meant. */
+export interface MistypedInput {
+  written: string;
+  suggestedId: string;
+  fileName: string;
+  line: number;
+}
+
+/** A rope without a result for which a row came back under a mistyped ID: the result is refused, not lost. */
+export interface MistypedRope {
+  /** The rope's sample ID: the planned ID the refused rows most likely meant. */
+  sampleId: string;
+  penId: string;
+  side: string;
+  /** Each refused row: the ID as written, its file and line. */
+  refusals: { written: string; fileName: string; line: number }[];
+}
+
+/** What the store holds beside current results that the round shows: replaced reports, refusals under a mistyped ID. */
+export interface RoundNotesInput {
+  replaced?: readonly ReplacedInput[];
+  mistyped?: readonly MistypedInput[];
 }
 
 export interface RopeInput extends DatedRope {
@@ -189,6 +246,21 @@ export interface PlannedInput {
 function layoutOrder(barn: Barn, penId: string): number {
   const pen = barn.penById.get(penId.toUpperCase())!;
   return pen.row * barn.layout.pensPerRow + pen.position;
+}
+
+/** A pen's layout order, or after every pen of the layout when the layout does not have it. */
+function penOrder(barn: Barn, penId: string): number {
+  return barn.penById.has(penId.toUpperCase()) ? layoutOrder(barn, penId) : Number.MAX_SAFE_INTEGER;
+}
+
+function groupBy<T>(items: readonly T[], key: (item: T) => string): Map<string, T[]> {
+  const groups = new Map<string, T[]>();
+  for (const item of items) {
+    const list = groups.get(key(item));
+    if (list) list.push(item);
+    else groups.set(key(item), [item]);
+  }
+  return groups;
 }
 
 /** The earlier (or later) of two ISO dates, either of which may be missing. */
@@ -282,25 +354,37 @@ function strongerWithinClass(candidate: PenAssayResult, existing: PenAssayResult
  * @param ropes the site's ropes with locations (sheets, sample patterns, returned planned ropes)
  * @param results current (not superseded) results, any site; those whose sample is not a rope here are ignored
  */
-export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results: readonly ResultInput[], plannedWithoutResults: readonly PlannedInput[] = []): SiteRound[] {
+export function buildSiteRounds(
+  site: Site,
+  ropes: readonly RopeInput[],
+  results: readonly ResultInput[],
+  plannedWithoutResults: readonly PlannedInput[] = [],
+  notes: RoundNotesInput = {},
+): SiteRound[] {
   const resultsBySample = new Map<string, ResultInput[]>();
   for (const result of results) {
     const list = resultsBySample.get(result.sampleId);
     if (list) list.push(result);
     else resultsBySample.set(result.sampleId, [result]);
   }
+  const replacedBySample = groupBy(notes.replaced ?? [], (entry) => entry.sampleId);
+  const mistypedByMeant = groupBy(notes.mistyped ?? [], (entry) => entry.suggestedId);
   const rounds = formRounds(site.id, ropes.filter((rope) => rope.siteId === site.id), site.program.roundWindowDays);
   return rounds.map((round) => {
     const assays = new Set<string>();
     const measures: Record<string, Measure> = {};
     const cutoffs = new Map<string, RoundCutoff>();
     const disagreements: CallDisagreement[] = [];
+    const replaced: RoundReplacement[] = [];
     const barns: BarnRound[] = site.barns.map((barn) => {
       const barnRopes = round.ropes.filter((rope) => rope.barnId === barn.id);
       const pens = new Map<string, PenRound>();
       const barnSources = new Map<string, SourceDraft>();
       const barnDisagreements: CallDisagreement[] = [];
       const missing: string[] = [];
+      /** The pen of each rope without a result (sample ID -> pen id as the layout writes it). */
+      const missingPen = new Map<string, string>();
+      const barnReplaced: RoundReplacement[] = [];
       let returned = 0;
       for (const rope of barnRopes) {
         const pen = barn.penById.get(rope.penId.toUpperCase());
@@ -311,9 +395,11 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           pens.set(pen.id, penRound);
         }
         penRound.sampleIds.push(rope.sampleId);
+        for (const entry of replacedBySample.get(rope.sampleId) ?? []) barnReplaced.push({ ...entry, barnId: barn.id, penId: pen.id });
         const ropeResults = resultsBySample.get(rope.sampleId) ?? [];
         if (ropeResults.length === 0) {
           missing.push(rope.sampleId);
+          missingPen.set(rope.sampleId, pen.id);
           continue;
         }
         returned++;
@@ -395,10 +481,24 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           }
         }
       }
-      const plannedMissing = plannedWithoutResults
-        .filter((rope) => rope.afterRound === round.number - 1 && rope.barnId === barn.id && !pens.get(rope.penId)?.returned)
-        .map((rope) => rope.sampleId);
+      const plannedMissingRopes = plannedWithoutResults.filter((rope) => rope.afterRound === round.number - 1 && rope.barnId === barn.id && !pens.get(rope.penId)?.returned);
+      const plannedMissing = plannedMissingRopes.map((rope) => rope.sampleId);
+      for (const rope of plannedMissingRopes) missingPen.set(rope.sampleId, barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId);
       missing.push(...plannedMissing);
+      // A rope without a result whose planned ID a refused row most likely meant: its result came
+      // back under a mistyped ID (ISO/IEC 7064 check character) and waits for a person to confirm it.
+      const mistyped: MistypedRope[] = [...new Set(missing)]
+        .filter((sampleId) => mistypedByMeant.has(sampleId))
+        .map((sampleId) => {
+          const penId = missingPen.get(sampleId)!;
+          return {
+            sampleId,
+            penId,
+            side: barn.penById.get(penId.toUpperCase())?.rowLabel ?? '',
+            refusals: mistypedByMeant.get(sampleId)!.map(({ written, fileName, line }) => ({ written, fileName, line })),
+          };
+        })
+        .sort((a, b) => penOrder(barn, a.penId) - penOrder(barn, b.penId) || compareText(a.sampleId, b.sampleId));
       // Layout order (row, then position along the alley), as the barn's pens are listed.
       const penList = [...pens.values()].sort((a, b) => layoutOrder(barn, a.penId) - layoutOrder(barn, b.penId));
       const byAssay: Record<string, AssayTally> = {};
@@ -418,6 +518,13 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
       );
       for (const entry of barnDisagreements) entry.standsForPen = pens.get(entry.penId)?.results[entry.assayId]?.sampleId === entry.sampleId;
       disagreements.push(...barnDisagreements);
+      // Pen order of the layout, then sample and assay; links of one report in the order made.
+      replaced.push(
+        ...barnReplaced
+          .map((entry, order) => ({ entry, order }))
+          .sort((a, b) => layoutOrder(barn, a.entry.penId) - layoutOrder(barn, b.entry.penId) || compareText(a.entry.sampleId, b.entry.sampleId) || compareText(a.entry.assayId, b.entry.assayId) || a.order - b.order)
+          .map(({ entry }) => entry),
+      );
       return {
         barnId: barn.id,
         pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
@@ -425,6 +532,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
         ropesReturned: returned,
         missingSampleIds: missing.sort(),
         plannedMissing: plannedMissing.sort(),
+        mistyped,
         pens: penList,
         byAssay,
         // A barn's sources cover that barn only.
@@ -455,6 +563,7 @@ export function buildSiteRounds(site: Site, ropes: readonly RopeInput[], results
           (a.suspectAtOrAbove ?? 0) - (b.suspectAtOrAbove ?? 0),
       ),
       disagreements,
+      replaced,
     };
   });
 }

@@ -4,7 +4,8 @@
  */
 import { csvTable, type CsvRow } from './csvTable.js';
 import type { RoundSummary, SourceSummary } from '../analysis/roundSummary.js';
-import type { CtHistoryPoint } from '../interpret/roundModel.js';
+import type { CtHistoryPoint, MistypedRope } from '../interpret/roundModel.js';
+import { refusalGroups, replacementCell, simplyMissing } from './roundNotes.js';
 
 export const SUMMARY_COLUMNS = [
   'level',
@@ -59,6 +60,9 @@ export const SUMMARY_COLUMNS = [
   'sp_history',
   'positive_at_or_above',
   'suspect_at_or_above',
+  'corrections',
+  'refused_mistyped_id',
+  'likely_meant_id',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -103,6 +107,16 @@ function provenance(sources: readonly Pick<SourceSummary, 'labName' | 'accession
   };
 }
 
+/**
+ * The refused rows of some ropes as two aligned cells: each distinct ID as written, and the
+ * planned ID it most likely meant at the same place in the other cell.
+ */
+function mistypedCells(ropes: readonly MistypedRope[]): Row {
+  if (ropes.length === 0) return {};
+  const pairs = ropes.flatMap((rope) => [...new Set(refusalGroups(rope).map((group) => group.written))].map((written) => ({ written, meant: rope.sampleId })));
+  return { refused_mistyped_id: pairs.map((pair) => pair.written).join(' '), likely_meant_id: pairs.map((pair) => pair.meant).join(' ') };
+}
+
 export function summaryCsv(summary: RoundSummary): string {
   const base: Row = { site: summary.site.id, round: summary.round.number, round_start: summary.round.startOn, round_end: summary.round.endOn };
   const rows: Row[] = [];
@@ -130,7 +144,7 @@ export function summaryCsv(summary: RoundSummary): string {
       pens_in_use: totals.pens,
       ropes_hung: totals.hung,
       ropes_returned: totals.returned,
-      missing_sample_ids: summary.barns.flatMap((barn) => barn.missingSampleIds).join(' '),
+      missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' '),
       tested: totals.tested,
       positive: totals.positive,
       suspect: totals.suspect,
@@ -142,6 +156,7 @@ export function summaryCsv(summary: RoundSummary): string {
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
       measure: assay.measure,
+      ...mistypedCells(summary.barns.flatMap((barn) => barn.mistyped)),
     });
   }
   for (const barn of summary.barns) {
@@ -155,7 +170,7 @@ export function summaryCsv(summary: RoundSummary): string {
         pens_in_use: barn.pensInUse,
         ropes_hung: barn.ropesHung,
         ropes_returned: barn.ropesReturned,
-        missing_sample_ids: barn.missingSampleIds.join(' '),
+        missing_sample_ids: simplyMissing(barn).join(' '),
         tested: entry.tested,
         positive: entry.positive,
         suspect: entry.suspect,
@@ -174,6 +189,7 @@ export function summaryCsv(summary: RoundSummary): string {
         true_prevalence: c.prevalence ? formatProbability(c.prevalence.trueEstimate) : null,
         ...provenance(barn.sources, entry.assayId),
         measure: c.measure,
+        ...mistypedCells(barn.mistyped),
       });
     }
   }
@@ -208,6 +224,25 @@ export function summaryCsv(summary: RoundSummary): string {
         sp_history: antibody ? result.history.map(spHistoryCell).join(' ') : null,
         positive_at_or_above: result.positiveAtOrAbove,
         suspect_at_or_above: result.suspectAtOrAbove,
+        corrections: summary.replaced
+          .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
+          .map(replacementCell)
+          .join('; '),
+      });
+    }
+  }
+  // A pen whose result came back under a mistyped ID has no result to show: one row, no assay.
+  for (const barn of summary.barns) {
+    for (const rope of barn.mistyped) {
+      rows.push({
+        ...base,
+        level: 'pen',
+        barn: barn.barnId,
+        pen: rope.penId,
+        side: rope.side,
+        sample_ids: rope.sampleId,
+        reason: 'result refused: mistyped ID?',
+        ...mistypedCells([rope]),
       });
     }
   }

@@ -81,6 +81,41 @@ export interface Supersession {
   reason: string;
 }
 
+/** One report of a link between two, as the pages and summary.csv name it. */
+export interface StoredReading {
+  resultClass: ResultClass;
+  ct: number | null;
+  /** The Ct cell as the lab wrote it ('' for a blank). */
+  ctRaw: string;
+  labCall: string | null;
+  reportedOn: string | null;
+  status: ReportStatusKind | null;
+  /** The lab's word for the report's state: the status word found, else the report-status cell. */
+  statusWord: string | null;
+}
+
+/** A report of a site's sample that another took the place of (view supersession_readings). */
+export interface ReplacedReport {
+  sampleId: string;
+  assayId: string;
+  labId: string;
+  /** Null for links stored before kinds were recorded. */
+  kind: SupersessionKind | null;
+  reason: string;
+  replaced: StoredReading;
+  inPlace: StoredReading;
+}
+
+/** A refused row whose sample ID failed its check character, with the planned ID it most likely meant. */
+export interface MistypedRefusal {
+  /** The sample ID cell as the file wrote it. */
+  written: string;
+  suggestedId: string;
+  /** The file's name as received (its name in inbox/archive/, unless a file of that name was there). */
+  fileName: string;
+  line: number;
+}
+
 /** One report as a receipt names it. */
 export interface ReportReading {
   resultClass: ResultClass;
@@ -939,6 +974,71 @@ export class Store {
 
   supersessions(): Supersession[] {
     return this.db.prepare('SELECT old_result_id AS oldResultId, new_result_id AS newResultId, reason FROM supersessions').all() as Supersession[];
+  }
+
+  /**
+   * Every link between two reports of one of the site's samples (a rope or a planned rope of the
+   * site), with both readings, from the view `supersession_readings`: `replaced` is the report
+   * no longer current, `inPlace` the one current in its place at the time of the link. In the
+   * order the links were made.
+   */
+  replacedReports(siteId: string): ReplacedReport[] {
+    const rows = this.db
+      .prepare(
+        `SELECT v.sample_id AS sampleId, v.assay_id AS assayId, v.lab_id AS labId, v.kind, v.reason,
+                v.old_class AS oldClass, v.old_ct AS oldCt, v.old_ct_raw AS oldCtRaw, v.old_lab_call AS oldLabCall, v.old_reported_on AS oldReportedOn,
+                v.old_report_status AS oldReportStatus, v.old_status_kind AS oldStatus, (SELECT o.status_word FROM results o WHERE o.id = v.old_result_id) AS oldStatusWord,
+                v.new_class AS newClass, v.new_ct AS newCt, v.new_ct_raw AS newCtRaw, v.new_lab_call AS newLabCall, v.new_reported_on AS newReportedOn,
+                v.new_report_status AS newReportStatus, v.new_status_kind AS newStatus, v.new_status_word AS newStatusWord
+         FROM supersession_readings v
+         WHERE v.sample_id IN (SELECT s.sample_id FROM ropes h JOIN samples s ON s.id = h.sample WHERE h.site_id = @siteId
+                               UNION SELECT sample_id FROM planned_ropes WHERE site_id = @siteId)
+         ORDER BY MAX(v.old_result_id, v.new_result_id), MIN(v.old_result_id, v.new_result_id)`,
+      )
+      .all({ siteId }) as Record<string, string | number | null>[];
+    const reading = (row: Record<string, string | number | null>, side: 'old' | 'new'): StoredReading => ({
+      resultClass: row[`${side}Class`] as ResultClass,
+      ct: row[`${side}Ct`] as number | null,
+      ctRaw: (row[`${side}CtRaw`] as string | null) ?? '',
+      labCall: row[`${side}LabCall`] as string | null,
+      reportedOn: row[`${side}ReportedOn`] as string | null,
+      status: row[`${side}Status`] as ReportStatusKind | null,
+      statusWord: (row[`${side}StatusWord`] as string | null) ?? (row[`${side}ReportStatus`] as string | null),
+    });
+    return rows.map((row) => ({
+      sampleId: row.sampleId as string,
+      assayId: row.assayId as string,
+      labId: row.labId as string,
+      kind: row.kind as SupersessionKind | null,
+      reason: row.reason as string,
+      replaced: reading(row, 'old'),
+      inPlace: reading(row, 'new'),
+    }));
+  }
+
+  /**
+   * Refused rows whose sample ID failed its check character and that name, as the ID they most
+   * likely meant (`suggested_id`), a planned rope of the site still without a result, and that
+   * no row of their file has taken the place of since (a confirmed correction read in again
+   * stores a result on that line, possibly under another planned ID). By file and line.
+   */
+  mistypedRefusals(siteId: string): MistypedRefusal[] {
+    // The planned rope's result is looked up by sample (indexed) first; results have no index by
+    // file and line, so that scan runs only for the few refusals still waiting.
+    return this.db
+      .prepare(
+        `WITH waiting AS MATERIALIZED (
+           SELECT j.id, j.file_id, j.line, j.value, j.suggested_id
+           FROM rejected_rows j JOIN planned_ropes p ON p.sample_id = j.suggested_id
+           WHERE j.code = 'bad-check-character' AND p.site_id = ?
+             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)
+         )
+         SELECT COALESCE(w.value, '') AS written, w.suggested_id AS suggestedId, f.name AS fileName, w.line
+         FROM waiting w JOIN files f ON f.id = w.file_id
+         WHERE NOT EXISTS (SELECT 1 FROM results r WHERE r.file_id = w.file_id AND r.line = w.line)
+         ORDER BY w.file_id, w.line, w.id`,
+      )
+      .all(siteId) as MistypedRefusal[];
   }
 
   /** Sample IDs of current results with no known rope (not on any sheet, pattern or plan). */

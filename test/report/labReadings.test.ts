@@ -40,7 +40,7 @@ describe('summary.csv', () => {
     expect(SUMMARY_COLUMNS.indexOf('ct_history')).toBe(36);
     expect(SUMMARY_COLUMNS.slice(37, 47)).toEqual(['lab_call', 'call_differs', 'lab', 'accession', 'collected_on', 'reported_on', 'positive_below', 'suspect_below', 'cycle_limit', 'sequencing_candidate']);
     // The S/P columns of antibody assays came later still.
-    expect(SUMMARY_COLUMNS.slice(47)).toEqual(['measure', 'sp', 'sp_history', 'positive_at_or_above', 'suspect_at_or_above']);
+    expect(SUMMARY_COLUMNS.slice(47, 52)).toEqual(['measure', 'sp', 'sp_history', 'positive_at_or_above', 'suspect_at_or_above']);
   });
 
   it('gives a pen row the lab call and whether it differs from the reading', () => {

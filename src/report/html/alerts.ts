@@ -6,6 +6,7 @@
 import type { RoundSummary } from '../../analysis/roundSummary.js';
 import type { RoundSpatial } from '../../analysis/spatialRound.js';
 import type { NextRoundPlan } from '../../analysis/nextRound.js';
+import { MISTYPED_ACTION, refusalGroups, simplyMissing } from '../roundNotes.js';
 
 export type AlertKind =
   | 'first-positive'
@@ -14,6 +15,7 @@ export type AlertKind =
   | 'spread'
   | 'new-focus'
   | 'missing-ropes'
+  | 'mistyped-id'
   | 'late-round'
   | 'overdue'
   | 'invalid'
@@ -34,8 +36,8 @@ const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
 /**
  * The alerts of round `index` of a site. Order: first positive on the site, new positive barn,
  * significant cluster / spread / new focus, freedom reset, the lab's call differing from the
- * reading, invalid, suspect, missing ropes, a late round, and (for the latest round, with the
- * plan) an overdue next round.
+ * reading, invalid, suspect, results refused under a mistyped ID, missing ropes (without those),
+ * a late round, and (for the latest round, with the plan) an overdue next round.
  * @param summaries every round summary of the site, in order
  * @param spatial the spatial analysis of the same rounds (same order)
  * @param index the round to describe, an integer in [0, summaries.length - 1]
@@ -131,12 +133,27 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         });
       }
     }
-    if (barn.missingSampleIds.length > 0) {
+    if (barn.mistyped.length > 0) {
+      // The rope is not lost: a row came back under an ID one keying error from its planned ID.
+      const ropes = barn.mistyped.map(
+        (rope) => `pen ${rope.penId}, planned ${rope.sampleId}, came back as ${refusalGroups(rope).map((group) => `${group.written} (${group.fileName}, line${group.lines.length === 1 ? '' : 's'} ${group.lines.join(', ')})`).join(' and ')}`,
+      );
+      alerts.push({
+        kind: 'mistyped-id',
+        assayId: null,
+        barnId: barn.barnId,
+        message:
+          `${plural(barn.mistyped.length, 'result')} in barn ${barn.barnId} refused under a mistyped ID (${ropes.join('; ')}): not counted until a person confirms the ID. ` +
+          `To count it, ${MISTYPED_ACTION}; the line to add is under barn ${barn.barnId}.`,
+      });
+    }
+    const missing = simplyMissing(barn);
+    if (missing.length > 0) {
       alerts.push({
         kind: 'missing-ropes',
         assayId: null,
         barnId: barn.barnId,
-        message: `${plural(barn.missingSampleIds.length, 'rope')} in barn ${barn.barnId} without a result (${barn.missingSampleIds.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} hung ropes came back; missing ropes lower the detection confidence.`,
+        message: `${plural(missing.length, 'rope')} in barn ${barn.barnId} without a result (${missing.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} hung ropes came back; missing ropes lower the detection confidence.`,
       });
     }
   }

@@ -3,13 +3,16 @@
  * results by class, detection confidence against the target, the prevalence estimate when
  * positives exist, and the pens with a finding with the lab and cutoffs each was read with; per
  * assay the site's detection and the probability of freedom so far; every sample whose lab call
- * differs from its reading; where the results came from (lab, case numbers, dates), to file
- * against the lab's report; the alerts in plain words with the number behind each.
+ * differs from its reading; every report the lab corrected or reported again, with both
+ * readings; the pens whose result was refused under a mistyped ID, with the one-line fix; where
+ * the results came from (lab, case numbers, dates), to file against the lab's report; the alerts
+ * in plain words with the number behind each.
  */
 import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
 import type { PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { confidenceSentence, count, pct, renderPage } from './page.js';
+import { correctionsEntry, ingestAgainCommand, MISTYPED_ACTION, readingText, refusalGroups, replacementWhy, reportDates, simplyMissing } from '../roundNotes.js';
 
 export interface SummaryPageInput {
   summary: RoundSummary;
@@ -113,6 +116,18 @@ function findingsTable(summary: RoundSummary, barnId: string): string {
           );
         }),
     );
+  // A planned rope whose result was refused under a mistyped ID: named, never shown as missing.
+  const barn = summary.barns.find((entry) => entry.barnId === barnId);
+  for (const rope of barn?.mistyped ?? []) {
+    const written = refusalGroups(rope)
+      .map((group) => `${escapeHtml(group.written)} (${escapeHtml(group.fileName)}, line${group.lines.length === 1 ? '' : 's'} ${group.lines.join(', ')})`)
+      .join(' and ');
+    rows.push(
+      `<tr data-pen="${escapeHtml(rope.penId)}" data-mistyped="${escapeHtml(rope.sampleId)}"><td>${escapeHtml(rope.penId)}</td><td class="muted">\u2014</td><td>${escapeHtml(rope.sampleId)}</td>` +
+        `<td class="num muted">\u2014</td><td><strong>result refused: mistyped ID?</strong></td>` +
+        `<td colspan="${mixed ? 3 : 2}">written ${written}; most likely meant ${escapeHtml(rope.sampleId)}</td></tr>`,
+    );
+  }
   if (rows.length === 0) return '';
   return (
     `<table data-findings=""><thead><tr><th>Pen</th><th>Assay</th><th>Sample</th><th class="num">${hasAntibody(summary) ? 'Ct or S/P' : 'Ct'}</th><th>Reading</th><th>Lab\u2019s call</th><th>Lab case</th>` +
@@ -138,6 +153,47 @@ function disagreementsBlock(summary: RoundSummary): string {
     `ropewatch counts the reading from the cutoffs; check the cutoffs in the lab profile against the lab\u2019s report, and ask the lab when they agree.</p>` +
     `<table data-disagreements="${summary.disagreements.length}"><thead><tr><th>Pen</th><th>Sample</th><th>Assay</th><th class="num">${hasAntibody(summary) ? 'Ct or S/P' : 'Ct'} as reported</th><th>Lab\u2019s call</th><th>ropewatch reading</th><th>Lab, case</th></tr></thead><tbody>${rows}</tbody></table>`
   );
+}
+
+/**
+ * Every report of the round's ropes that another took the place of (a correction, a final report
+ * over a preliminary one, a later report), with both readings and the lab's dates and words.
+ */
+function replacedBlock(summary: RoundSummary): string {
+  if (summary.replaced.length === 0) return '';
+  // The lab is named when the round's results come from more than one.
+  const severalLabs = new Set(summary.sources.map((source) => source.labId)).size > 1;
+  const words = (entry: RoundSummary['replaced'][number]) => {
+    const before = entry.replaced.statusWord;
+    const after = entry.inPlace.statusWord;
+    const lab = severalLabs ? `${escapeHtml(entry.labName)}: ` : '';
+    if (before === null && after === null) return `${lab}<span class="muted">none</span>`;
+    return `${lab}${escapeHtml(before ?? '\u2014')} \u2192 ${escapeHtml(after ?? '\u2014')}`;
+  };
+  const rows = summary.replaced
+    .map(
+      (entry) =>
+        `<tr data-replaced="${escapeHtml(entry.sampleId)}" data-kind="${escapeHtml(entry.kind ?? '')}"><td>${escapeHtml(entry.barnId)} ${escapeHtml(entry.penId)}</td><td>${escapeHtml(entry.sampleId)}</td><td>${escapeHtml(entry.assayId)}</td>` +
+        `<td>${escapeHtml(readingText(entry.replaced))} \u2192 <strong>${escapeHtml(readingText(entry.inPlace))}</strong></td><td>${escapeHtml(reportDates(entry))}</td>` +
+        `<td>${words(entry)}</td><td>${escapeHtml(replacementWhy(entry))}</td></tr>`,
+    )
+    .join('');
+  return (
+    `<h2>Corrected and replaced reports</h2><p>Reports of this round\u2019s ropes that the lab corrected or reported again. The reading in its place is the one counted; both stay in the store, and the receipt of each file names them.</p>` +
+    `<table data-replaced-reports="${summary.replaced.length}"><thead><tr><th>Pen</th><th>Sample</th><th>Assay</th><th>Reading set aside \u2192 reading in its place</th><th>Report dates</th><th>Lab\u2019s word</th><th>Why</th></tr></thead><tbody>${rows}</tbody></table>`
+  );
+}
+
+/** What to do about a barn's results refused under a mistyped ID, with the line to add and the command. */
+function mistypedFix(barn: RoundSummary['barns'][number]): string {
+  if (barn.mistyped.length === 0) return '';
+  const steps = barn.mistyped.flatMap((rope) =>
+    refusalGroups(rope).map(
+      (group) =>
+        `<li data-fix="${escapeHtml(rope.sampleId)}">pen ${escapeHtml(rope.penId)}: if the tube is ${escapeHtml(rope.sampleId)}, add <code>${escapeHtml(correctionsEntry(group.written, rope.sampleId, group.fileName))}</code> under <code>sampleIds:</code>, then run <code>${escapeHtml(ingestAgainCommand(group.fileName))}</code></li>`,
+    ),
+  );
+  return `<p>Result refused under a mistyped ID: ${escapeHtml(MISTYPED_ACTION)}:</p><ul data-mistyped-fix="${escapeHtml(barn.barnId)}">${steps.join('')}</ul>`;
 }
 
 /** A date, or "first to last" when they differ. */
@@ -249,7 +305,9 @@ function pairsTable(summary: RoundSummary, barnId: string): string {
 
 function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): string {
   const target = summary.program.targetConfidence;
-  const missing = barn.missingSampleIds.length;
+  const missingIds = simplyMissing(barn);
+  const missing = missingIds.length;
+  const mistyped = barn.mistyped.length;
   const rows = barn.assays
     .map((tally) => {
       const c = tally.confidence;
@@ -279,10 +337,11 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
   return (
     `<section class="barn" data-barn="${escapeHtml(barn.barnId)}"><h3>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})</h3>` +
     `<p>${count(barn.pensInUse, 'pen')} in use; ${count(barn.ropesHung, 'rope')} hung, ${barn.ropesReturned} returned` +
-    (missing > 0 ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(barn.missingSampleIds.join(', '))}` : '; none missing') +
+    (missing > 0 ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(missingIds.join(', '))}` : '; none missing') +
+    (mistyped > 0 ? `; <strong>${count(mistyped, 'result')} refused under a mistyped ID</strong> (pen ${escapeHtml(barn.mistyped.map((rope) => rope.penId).join(', '))}; not missing, not counted)` : '') +
     `.</p>` +
     `<table><thead><tr><th>Assay</th><th class="num">Tested</th><th class="num">Positive</th><th class="num">Suspect</th><th class="num">Negative</th><th class="num">Invalid</th><th>Pens (+ positive, ? suspect, \u00d7 invalid)</th>` +
-    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${findingsTable(summary, barn.barnId)}${pairsTable(summary, barn.barnId)}</section>`
+    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${findingsTable(summary, barn.barnId)}${pairsTable(summary, barn.barnId)}${mistypedFix(barn)}</section>`
   );
 }
 
@@ -296,6 +355,7 @@ export function renderSummaryPage(input: SummaryPageInput): string {
   const body =
     `<h2>Alerts</h2>${alertsBlock(input.alerts)}` +
     disagreementsBlock(summary) +
+    replacedBlock(summary) +
     `<h2>Site</h2><p class="explain">${confidenceSentence(summary.program.designPrevalence, summary.program.targetConfidence)}</p>${siteTable(summary)}` +
     `<h2>Barns</h2>${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}` +
     sourcesBlock(summary);
