@@ -197,8 +197,8 @@ describe('a rope whose result was refused under a mistyped ID', () => {
 describe('summary.csv columns', () => {
   it('adds the three new columns at the end, after the existing ones', () => {
     // README: columns are stable and new ones are added at the end (common practice, no source).
-    expect(SUMMARY_COLUMNS.indexOf('sequencing_candidate')).toBe(46);
-    expect(SUMMARY_COLUMNS.slice(47)).toEqual(['corrections', 'refused_mistyped_id', 'likely_meant_id']);
+    expect(SUMMARY_COLUMNS.indexOf('suspect_at_or_above')).toBe(51);
+    expect(SUMMARY_COLUMNS.slice(52)).toEqual(['corrections', 'refused_mistyped_id', 'likely_meant_id']);
   });
 });
 
