@@ -507,6 +507,7 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     assays.set(foldToken(labAssayName), Object.freeze(labAssay));
   }
   const words = labWords(raw, file, problems);
+  checkLayout(raw, file, problems);
   return Object.freeze({
     id: raw.id,
     name: raw.name,
@@ -516,6 +517,9 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     encoding: raw.format.encoding,
     dateFormat: raw.format.dateFormat,
     skipLines: raw.format.skipLines,
+    layout: raw.layout,
+    notTestedTokens: new Set((raw.notTestedTokens ?? []).map(foldToken)),
+    workbook: { sheet: raw.workbook?.sheet, headerRow: raw.workbook?.headerRow ?? raw.format.skipLines + 1 },
     columns: {
       sampleId: raw.columns.sampleId,
       assay: raw.columns.assay,
@@ -533,6 +537,31 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     cycleLimitIsNotDetected: raw.notDetected.cycleLimitIsNotDetected,
     ...words,
     assays,
+  });
+}
+
+/**
+ * The columns a layout reads: a long export names its assay and Ct columns; a wide one has a
+ * value column per lab assay instead, and no call column (one call cannot speak for several
+ * assays). Words for "not tested" belong to wide exports and may not also mean not detected.
+ */
+function checkLayout(raw: RawLab, file: string, problems: ProblemList): void {
+  if (raw.layout === 'long') {
+    if (raw.columns.assay === undefined) problems.add(file, 'columns.assay', 'is required: the header of the column that names the assay (an export with one value column per assay says layout: wide)');
+    if (raw.columns.ct === undefined) problems.add(file, 'columns.ct', 'is required: the header of the Ct column (an export with one value column per assay says layout: wide)');
+    if (raw.notTestedTokens !== undefined) problems.add(file, 'notTestedTokens', 'applies to layout: wide only (in a long export an assay that was not run has no row)');
+    return;
+  }
+  for (const key of ['assay', 'ct', 'call'] as const) {
+    if (raw.columns[key] !== undefined) {
+      problems.add(file, `columns.${key}`, `a wide export (layout: wide) has no ${key === 'call' ? 'call column: one call cannot speak for several assays' : `${key} column: each value column is headed by a lab assay name under assays`}; remove it`);
+    }
+  }
+  if (Object.keys(raw.assays).length === 0) problems.add(file, 'assays', 'names no lab assay: in a wide export each is the header of a value column');
+  const notDetected = new Set(raw.notDetected.tokens.map(foldToken));
+  (raw.notTestedTokens ?? []).forEach((token, index) => {
+    if (foldToken(token) === '') problems.add(file, `notTestedTokens[${index}]`, 'is blank: a blank value cell always means not tested');
+    else if (notDetected.has(foldToken(token))) problems.add(file, `notTestedTokens[${index}]`, `${JSON.stringify(token)} is also in notDetected.tokens: a cell cannot mean both not tested and not detected`);
   });
 }
 

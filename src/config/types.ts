@@ -119,10 +119,21 @@ export interface LabProfile {
   encoding: 'utf-8' | 'latin1' | 'utf-16le' | 'auto';
   dateFormat: string;
   skipLines: number;
+  /**
+   * `long`: one row per sample and assay (assay and Ct columns). `wide`: one row per sample and
+   * one value column per lab assay, headed by its name (the keys of `assays`).
+   */
+  layout: 'long' | 'wide';
+  /** Wide exports: value cells (folded) that mean the assay was not run; a blank cell always does. */
+  notTestedTokens: ReadonlySet<string>;
+  /** Excel workbooks from this lab: the sheet (undefined: the first visible one) and the header's row number. */
+  workbook: { sheet: string | undefined; headerRow: number };
   columns: {
     sampleId: string;
-    assay: string;
-    ct: string;
+    /** Long layout: the assay column (undefined in a wide layout). */
+    assay: string | undefined;
+    /** Long layout: the Ct column (undefined in a wide layout). */
+    ct: string | undefined;
     call: string | undefined;
     accession: string | undefined;
     collectedOn: string | undefined;
