@@ -9,6 +9,7 @@
 import { addDays, format, parseISO } from 'date-fns';
 import type { Barn, Config, Site } from '../config/types.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
+import { demoWorkbook } from './workbook.js';
 
 export const DEMO_SEED = 20260803;
 
@@ -89,16 +90,18 @@ interface LabRow {
   collectedOn: string;
 }
 
-/** A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. */
-export function northfieldExport(rows: readonly LabRow[], reportedOn: string, firstCase: number): Buffer {
+const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
+
+/** Northfield's cells for each row: the Ct as a number (null when the cell says something else), its text otherwise. */
+function northfieldCells(rows: readonly LabRow[], reportedOn: string, firstCase: number): { cells: string[]; ct: number | null }[] {
   const testName = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR' } as const;
   const positiveBelow = { PRRSV: 36, IAV: 38 } as const;
-  const header = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
-  const lines = [header.join(',')];
-  rows.forEach((row, index) => {
+  return rows.map((row, index) => {
     const call = row.controlFailed ? 'Invalid' : row.ct === null ? 'Negative' : row.ct < positiveBelow[row.assay] ? 'Positive' : 'Suspect';
-    lines.push(
-      [
+    const ct = row.controlFailed ? null : row.ct;
+    return {
+      ct,
+      cells: [
         `NV26-${String(firstCase + Math.floor(index / 2)).padStart(5, '0')}`,
         row.sampleId,
         testName[row.assay],
@@ -108,12 +111,33 @@ export function northfieldExport(rows: readonly LabRow[], reportedOn: string, fi
         row.collectedOn,
         reportedOn,
         row.status ?? 'Final',
-      ]
-        .map(csvCell)
-        .join(','),
-    );
+      ],
+    };
   });
+}
+
+/** A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. */
+export function northfieldExport(rows: readonly LabRow[], reportedOn: string, firstCase: number): Buffer {
+  const lines = [NORTHFIELD_HEADER.join(',')];
+  for (const { cells } of northfieldCells(rows, reportedOn, firstCase)) lines.push(cells.map(csvCell).join(','));
   return Buffer.from(lines.join('\n') + '\n', 'utf8');
+}
+
+/**
+ * The same export as a Northfield workbook: sheet "Results", a title and a blank row above the
+ * header (the demo profile's workbook.headerRow: 3), Ct values as numbers, dates as date cells.
+ * `at` is the moment it was saved: the same rows and moment give the same bytes.
+ */
+export async function northfieldWorkbook(rows: readonly LabRow[], reportedOn: string, firstCase: number, at: string): Promise<Buffer> {
+  const dateCell = (iso: string) => parseISO(`${iso}T00:00:00Z`);
+  const body = northfieldCells(rows, reportedOn, firstCase).map(({ cells, ct }) =>
+    cells.map((cell, column) => (column === 3 && ct !== null ? ct : column === 6 || column === 7 ? dateCell(cell) : cell === '' ? null : cell)),
+  );
+  return demoWorkbook(
+    [{ name: 'Results', rows: [[`Results report ${reportedOn} (invented)`], [], NORTHFIELD_HEADER, ...body], dateColumns: [7, 8], widths: [12, 26, 26, 10, 14, 16, 16, 14, 14] }],
+    parseISO(at),
+    'Northfield Veterinary Diagnostic Laboratory (invented)',
+  );
 }
 
 /** An Ostermark export: a title line, semicolons, decimal commas, dd.MM.yyyy, Latin-1, CRLF, 0 for no signal. */
@@ -151,7 +175,7 @@ function measure(rng: Rng, barnId: string, penId: string, roundIndex: number): n
  * The files of one Hollow Creek round. `planned` are the ropes ropewatch planned for this round
  * (empty before the first plan): when present the farm hangs those tubes and sends no sheet.
  */
-export function hollowCreekRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): DemoDrop[] {
+export async function hollowCreekRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): Promise<DemoDrop[]> {
   const site = config.siteById.get('HOLLOW-CREEK')!;
   const date = HOLLOW_CREEK_ROUNDS[roundIndex]!;
   const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek', roundIndex));
@@ -201,7 +225,15 @@ export function hollowCreekRound(config: Config, roundIndex: number, planned: re
     }
   }
   const reported = plus(date, 3);
-  if (roundIndex % 2 === 0) {
+  if (roundIndex === HOLLOW_CREEK_ROUNDS.length - 1) {
+    // The last round's results come as the lab's Excel workbook.
+    drops.push({
+      at: at(reported, 14),
+      name: `nvdl_results_${reported}.xlsx`,
+      bytes: await northfieldWorkbook([...prrsv, ...iav], reported, 1000 + roundIndex * 100, at(reported, 13)),
+      note: 'PRRSV and influenza results as an Excel workbook: sheet "Results", header on row 3',
+    });
+  } else if (roundIndex % 2 === 0) {
     drops.push({ at: at(reported, 14), name: `nvdl_results_${reported}.csv`, bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100), note: 'PRRSV and influenza results in one export' });
   } else {
     drops.push({ at: at(reported, 11), name: `nvdl_prrsv_${reported}.csv`, bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100), note: 'PRRSV results' });

@@ -110,12 +110,13 @@ const DAY_MS = 86_400_000;
 const EPOCH_1900_MS = Date.UTC(1899, 11, 30);
 /** In the 1904 system serial 0 is 1904-01-01 (ECMA-376 Part 1, 18.17.4.1). */
 const EPOCH_1904_MS = Date.UTC(1904, 0, 1);
-/** Excel's last date, 9999-12-31, in the 1900 system (Excel specifications and limits). */
-const LAST_SERIAL = 2_958_465;
+/** Excel's last date, 9999-12-31, in the 1900 system (Excel specifications and limits); the 1904 system counts 1,462 days fewer (ECMA-376 Part 1, 18.17.4.1). */
+const LAST_SERIAL_1900 = 2_958_465;
+const LAST_SERIAL_1904 = LAST_SERIAL_1900 - 1462;
 
 /** The day an Excel serial number names, as yyyy-MM-dd; undefined outside Excel's dates (and for the 29 February 1900 it counts). */
 export function serialDay(serial: number, date1904: boolean): string | undefined {
-  if (!Number.isFinite(serial) || serial < 1 || serial > LAST_SERIAL) return undefined;
+  if (!Number.isFinite(serial) || serial < (date1904 ? 0 : 1) || serial >= (date1904 ? LAST_SERIAL_1904 : LAST_SERIAL_1900) + 1) return undefined;
   const day = Math.floor(serial);
   if (date1904) return isoDay(new Date(EPOCH_1904_MS + day * DAY_MS));
   if (day === 60) return undefined;

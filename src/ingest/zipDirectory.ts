@@ -18,6 +18,8 @@ export interface ZipEntry {
   compressedSize: number;
   uncompressedSize: number;
   localHeaderOffset: number;
+  /** Where the entry's central directory header starts. */
+  directoryOffset: number;
 }
 
 /** Why the bytes cannot be taken as a zip archive whose parts may be unpacked. */
@@ -96,6 +98,7 @@ export function zipEntries(bytes: Buffer, maxEntries: number): ZipEntry[] {
       compressedSize: bytes.readUInt32LE(at + 20),
       uncompressedSize: bytes.readUInt32LE(at + 24),
       localHeaderOffset: bytes.readUInt32LE(at + 42),
+      directoryOffset: at,
     };
     readZip64Extra(bytes.subarray(at + 46 + nameLength, at + 46 + nameLength + extraLength), entry);
     entries.push(entry);

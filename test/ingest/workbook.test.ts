@@ -23,7 +23,10 @@ const workspace = workspacesPerTest();
 const HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
 const PRRSV = 'PRRSV NA/EU RT-PCR';
 const day = (iso: string) => new Date(`${iso}T00:00:00Z`);
-const NORTHFIELD = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8');
+/** The demo Northfield profile without its workbook block (sheet "Results", header on row 3). */
+const NORTHFIELD = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8').replace(/^workbook:\n(?: {2}.*\n)+/m, '');
+/** A sheet as the demo Northfield profile reads it: "Results", a title and a blank row above the header. */
+const results = (rows: ExcelJS.CellValue[][]) => ({ Results: [['Results report (invented)'], [], HEADER, ...rows] });
 
 async function workbookBytes(sheets: Record<string, ExcelJS.CellValue[][]>): Promise<Buffer> {
   const book = new ExcelJS.Workbook();
@@ -99,15 +102,18 @@ describe('a lab workbook read through its lab profile', () => {
     const fromCsv = workspace();
     const fromBook = workspace();
     const csvReceipt = (await fromCsv.drop('nvdl_same.csv', csv)).receipt;
-    const bookReceipt = (await fromBook.drop('nvdl_same.xlsx', await workbookBytes({ Sheet1: cells }))).receipt;
+    const bookReceipt = (await fromBook.drop('nvdl_same.xlsx', await workbookBytes(results(cells.slice(1))))).receipt;
     expect(bookReceipt.rows).toEqual(csvReceipt.rows);
-    expect(bookReceipt.invalidRows).toEqual(csvReceipt.invalidRows);
-    expect(stored(fromBook)).toEqual(stored(fromCsv));
+    // The sheet's rows start on row 4, the CSV's on line 2.
+    const shifted = (list: { line: number }[] | undefined) => (list ?? []).map((item) => ({ ...item, line: item.line - 2 }));
+    expect(shifted(bookReceipt.invalidRows)).toEqual(csvReceipt.invalidRows);
+    expect(stored(fromBook).map((row) => ({ ...row, line: row.line - 2 }))).toEqual(stored(fromCsv));
     expect(stored(fromBook)).toHaveLength(4);
   });
 
   it('refuses a workbook from a lab whose sheet is not in it, listing the sheets it has, and stores nothing of it', async () => {
-    const ws = workspace({ configFiles: { 'labs/northfield.yaml': `${NORTHFIELD}workbook:\n  sheet: Results\n` } });
+    // The demo Northfield profile reads sheet "Results".
+    const ws = workspace();
     const bytes = await workbookBytes({ Summary: [HEADER, ['NV26-1', 'X-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']], Raw: [['x']] });
     const { receipt } = await ws.drop('nvdl_results.xlsx', bytes);
     expect(receipt.status).toBe('rejected');
@@ -121,16 +127,16 @@ describe('a lab workbook read through its lab profile', () => {
     const ws = workspace();
     const renamed = await ws.drop('nvdl_renamed.xlsx', `${HEADER.join(',')}\nNV26-1,X-1,${PRRSV},30,Positive,PASS,2026-08-03,2026-08-06,Final\n`);
     expect(renamed.receipt.reason?.code).toBe('not-a-workbook');
-    const empty = await ws.drop('nvdl_empty.xlsx', await workbookBytes({ Sheet1: [] }));
+    const empty = await ws.drop('nvdl_empty.xlsx', await workbookBytes({ Results: [] }));
     expect(empty.receipt.reason?.code).toBe('empty-file');
-    const headerOnly = await ws.drop('nvdl_header.xlsx', await workbookBytes({ Sheet1: [HEADER] }));
-    expect(headerOnly.receipt.reason).toMatchObject({ code: 'empty-file', line: 1 });
+    const headerOnly = await ws.drop('nvdl_header.xlsx', await workbookBytes(results([])));
+    expect(headerOnly.receipt.reason).toMatchObject({ code: 'empty-file', line: 3 });
     expect(ws.ws().store.counts()).toMatchObject({ results: 0, rejectedFiles: 3 });
   });
 
   it('takes the same workbook bytes twice as a duplicate', async () => {
     const ws = workspace();
-    const bytes = await workbookBytes({ Sheet1: [HEADER, ['NV26-1', 'D-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']] });
+    const bytes = await workbookBytes(results([['NV26-1', 'D-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']]));
     expect((await ws.drop('nvdl_a.xlsx', bytes)).receipt.status).toBe('accepted');
     expect((await ws.drop('nvdl_b.xlsx', bytes)).receipt).toMatchObject({ status: 'duplicate', reason: { code: 'duplicate-file' } });
   });
@@ -174,7 +180,7 @@ describe('the file protocol for workbooks', () => {
   it('stores nothing of a workbook rewritten between its hash and its reading, and leaves it in the inbox', async () => {
     const ws = workspace();
     const file = path.join(ws.paths.inbox, 'nvdl_moving.xlsx');
-    const bytes = await workbookBytes({ Sheet1: [HEADER, ['NV26-1', 'M-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']] });
+    const bytes = await workbookBytes(results([['NV26-1', 'M-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']]));
     fs.writeFileSync(file, bytes);
     const real = ws.ws().store;
     // A writer rewrites one byte (same size) while ingest looks the hash up, after hashing and before reading.
