@@ -6,11 +6,24 @@
  * limits": number precision 15 digits). Workbooks are written with exceljs; the expected texts
  * were worked out from those rules by hand.
  */
+import { inflateRawSync } from 'node:zlib';
 import ExcelJS from 'exceljs';
 import { describe, expect, it } from 'vitest';
 import { IngestError } from '../../src/ingest/errors.js';
 import { cellText, isWorkbookFile, numberText, openWorkbook, serialDay, WORKBOOK_MAX_BYTES, type CellReading } from '../../src/ingest/xlsxReader.js';
-import { zipFile } from '../helpers/zipFile.js';
+import { entryDataOffset, zipEntries } from '../../src/ingest/zipDirectory.js';
+import { zipFile, type ZipPart } from '../helpers/zipFile.js';
+
+/** The parts of a zip, unpacked (a workbook exceljs wrote, to be altered and packed again). */
+function unpack(bytes: Buffer): ZipPart[] {
+  return zipEntries(bytes, 100)
+    .filter((entry) => !entry.name.endsWith('/'))
+    .map((entry) => {
+      const start = entryDataOffset(bytes, entry);
+      const packed = bytes.subarray(start, start + entry.compressedSize);
+      return { name: entry.name, data: entry.method === 8 ? inflateRawSync(packed) : Buffer.from(packed) };
+    });
+}
 
 const asText: CellReading = { decimal: '.', asDate: false, date1904: false };
 const asDate: CellReading = { decimal: '.', asDate: true, date1904: false };
@@ -160,6 +173,22 @@ describe('openWorkbook', () => {
     const refused = await refusal(bomb);
     expect(refused.code).toBe('workbook-too-large');
     expect(refused.message).toMatch(/unpack to 66 MB \(at most 64 MB/);
+  });
+
+  it('refuses a workbook whose XML declares entities that expand ("billion laughs") instead of expanding them', async () => {
+    const book = new ExcelJS.Workbook();
+    book.addWorksheet('Results').addRow(['Sample ID']);
+    const parts = unpack(Buffer.from(await book.xlsx.writeBuffer()));
+    expect(parts.map((part) => part.name)).toContain('xl/sharedStrings.xml');
+    // Packed again unaltered, the parts open: what is refused below is the entities alone.
+    expect((await openWorkbook(zipFile(parts), 'book.xlsx')).sheetNames).toEqual(['Results']);
+    // Nine levels of ten: 10^9 copies of "lol" if a parser expanded them (the classic form of the attack).
+    const levels = Array.from({ length: 8 }, (_, index) => `<!ENTITY l${index + 2} "${`&l${index + 1};`.repeat(10)}">`).join('');
+    const strings = `<?xml version="1.0"?><!DOCTYPE sst [<!ENTITY l1 "lol">${levels}]><sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" count="1" uniqueCount="1"><si><t>&l9;</t></si></sst>`;
+    const evil = zipFile(parts.map((part) => (part.name === 'xl/sharedStrings.xml' ? { ...part, data: strings } : part)));
+    const refused = await refusal(evil);
+    expect(refused.code).toBe('not-a-workbook');
+    expect(refused.message).toMatch(/entity/);
   });
 
   it('refuses a zip whose sizes lie as damaged, and a workbook part exceljs cannot parse', async () => {
