@@ -175,8 +175,8 @@ export class OpenedWorkbook {
   }
 
   /**
-   * The sheet of that name (Excel keeps sheet names unique ignoring case, so case is ignored),
-   * or without a name the first sheet a person sees (the first visible one).
+   * The sheet of that name, case ignored (Excel keeps sheet names unique ignoring case; from
+   * memory), or without a name the first sheet a person sees (the first visible one).
    */
   sheet(name: string | undefined): Worksheet | undefined {
     if (name === undefined) return this.sheets.find((sheet) => sheet.state === 'visible') ?? this.sheets[0];
@@ -222,9 +222,12 @@ export class OpenedWorkbook {
         const cell: Cell | undefined = column < row.cellCount ? row.findCell(column + 1) : undefined;
         const how = read.dateColumns.has(column) ? read.asDate : read.asText;
         const text = cellText(cell?.value, how);
-        if (text === undefined && read.needed.has(column)) uncalculated.push(column);
+        if (text === undefined && read.needed.has(column)) {
+          uncalculated.push(column);
+          blank = false;
+        }
         cells[column] = text ?? '';
-        if (blank && (text === undefined || text.trim() !== '')) blank = false;
+        if (blank && text !== undefined && text.trim() !== '') blank = false;
       }
       if (!blank) yield { line: rowNumber, cells, uncalculated };
     }
