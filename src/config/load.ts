@@ -545,6 +545,7 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     if (labAssay !== undefined) assays.set(foldToken(labAssayName), Object.freeze(labAssay));
   }
   const words = labWords(raw, file, problems);
+  checkLayout(raw, file, problems);
   return Object.freeze({
     id: raw.id,
     name: raw.name,
@@ -554,11 +555,14 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     encoding: raw.format.encoding,
     dateFormat: raw.format.dateFormat,
     skipLines: raw.format.skipLines,
+    layout: raw.layout,
+    notTestedTokens: new Set((raw.notTestedTokens ?? []).map(foldToken)),
+    workbook: { sheet: raw.workbook?.sheet, headerRow: raw.workbook?.headerRow ?? raw.format.skipLines + 1 },
     columns: {
       sampleId: raw.columns.sampleId,
       assay: raw.columns.assay,
       // The schema requires one of the two.
-      result: (raw.columns.result ?? raw.columns.ct)!,
+      result: raw.columns.result ?? raw.columns.ct,
       call: raw.columns.call,
       accession: raw.columns.accession,
       collectedOn: raw.columns.collectedOn,
@@ -613,6 +617,31 @@ function labAssayOf(labAssayName: string, entry: z.output<typeof labAssaySchema>
     throw new ConfigError(file, at, 'cutoffs must satisfy positiveBelow <= suspectBelow <= cycleLimit');
   }
   return labAssay;
+}
+
+/**
+ * The columns a layout reads: a long export names its assay and Ct columns; a wide one has a
+ * value column per lab assay instead, and no call column (one call cannot speak for several
+ * assays). Words for "not tested" belong to wide exports and may not also mean not detected.
+ */
+function checkLayout(raw: RawLab, file: string, problems: ProblemList): void {
+  if (raw.layout === 'long') {
+    if (raw.columns.assay === undefined) problems.add(file, 'columns.assay', 'is required: the header of the column that names the assay (an export with one value column per assay says layout: wide)');
+    if (raw.columns.result === undefined && raw.columns.ct === undefined) problems.add(file, 'columns.result', 'is required: the header of the numeric result column, a Ct or an S/P ratio (an export with one value column per assay says layout: wide)');
+    if (raw.notTestedTokens !== undefined) problems.add(file, 'notTestedTokens', 'applies to layout: wide only (in a long export an assay that was not run has no row)');
+    return;
+  }
+  for (const key of ['assay', 'result', 'ct', 'call'] as const) {
+    if (raw.columns[key] !== undefined) {
+      problems.add(file, `columns.${key}`, `a wide export (layout: wide) has no ${key === 'call' ? 'call column: one call cannot speak for several assays' : `${key} column: each value column is headed by a lab assay name under assays`}; remove it`);
+    }
+  }
+  if (Object.keys(raw.assays).length === 0) problems.add(file, 'assays', 'names no lab assay: in a wide export each is the header of a value column');
+  const notDetected = new Set(raw.notDetected.tokens.map(foldToken));
+  (raw.notTestedTokens ?? []).forEach((token, index) => {
+    if (foldToken(token) === '') problems.add(file, `notTestedTokens[${index}]`, 'is blank: a blank value cell always means not tested');
+    else if (notDetected.has(foldToken(token))) problems.add(file, `notTestedTokens[${index}]`, `${JSON.stringify(token)} is also in notDetected.tokens: a cell cannot mean both not tested and not detected`);
+  });
 }
 
 /** English call words, used for each class a lab profile does not list (common practice, no source). */

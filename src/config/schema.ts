@@ -262,11 +262,28 @@ export const labProfileSchema = z
         skipLines: z.number().int().min(0).default(0),
       })
       .strict(),
+    /**
+     * `long`: one row per sample and assay, with an assay and a Ct column. `wide`: one row per
+     * sample and one value column per assay, each headed by a lab assay name under `assays`.
+     */
+    layout: z.enum(['long', 'wide']).default('long'),
+    /** Wide exports: the words in a value cell that mean the assay was not run (a blank cell always means so). */
+    notTestedTokens: z.array(z.string()).optional(),
+    /** Excel workbooks (.xlsx) from this lab: the sheet to read (default the first visible one) and the header's row (default format.skipLines + 1). */
+    workbook: z
+      .object({
+        sheet: z.string().min(1).optional(),
+        // Excel's last row (Excel specifications and limits).
+        headerRow: z.number().int().min(1).max(1_048_576).optional(),
+      })
+      .strict()
+      .optional(),
     columns: z
       .object({
         sampleId: z.string().min(1),
-        assay: z.string().min(1),
-        /** The numeric result column (a Ct or an S/P ratio); `ct` is the older name of the same key. */
+        /** Long exports only (a wide export's value columns name their assays). */
+        assay: z.string().min(1).optional(),
+        /** Long exports only: the numeric result column (a Ct or an S/P ratio); `ct` is the older name of the same key. */
         result: z.string().min(1).optional(),
         ct: z.string().min(1).optional(),
         call: z.string().min(1).optional(),
@@ -279,7 +296,6 @@ export const labProfileSchema = z
       })
       .strict()
       .superRefine((columns, ctx) => {
-        if (columns.result === undefined && columns.ct === undefined) ctx.addIssue({ code: 'custom', path: ['result'], message: 'is required: the header of the numeric result column (Ct or S/P)' });
         if (columns.result !== undefined && columns.ct !== undefined) ctx.addIssue({ code: 'custom', path: ['ct'], message: 'names the result column a second time: keep result and remove ct' });
       }),
     notDetected: z

@@ -167,11 +167,21 @@ export interface LabProfile {
   encoding: 'utf-8' | 'latin1' | 'utf-16le' | 'auto';
   dateFormat: string;
   skipLines: number;
+  /**
+   * `long`: one row per sample and assay (assay and Ct columns). `wide`: one row per sample and
+   * one value column per lab assay, headed by its name (the keys of `assays`).
+   */
+  layout: 'long' | 'wide';
+  /** Wide exports: value cells (folded) that mean the assay was not run; a blank cell always does. */
+  notTestedTokens: ReadonlySet<string>;
+  /** Excel workbooks from this lab: the sheet (undefined: the first visible one) and the header's row number. */
+  workbook: { sheet: string | undefined; headerRow: number };
   columns: {
     sampleId: string;
-    assay: string;
-    /** The numeric result column: a Ct or an S/P ratio, by the assay's measure (`result`, or `ct`, in the profile). */
-    result: string;
+    /** Long layout: the assay column (undefined in a wide layout). */
+    assay: string | undefined;
+    /** Long layout: the numeric result column, a Ct or an S/P ratio by the assay's measure (`result`, or `ct`, in the profile); undefined in a wide layout. */
+    result: string | undefined;
     call: string | undefined;
     accession: string | undefined;
     collectedOn: string | undefined;

@@ -136,7 +136,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
       ...TAMSIN_RIDGE_ROUNDS.map((date, index) => ({ date, make: () => tamsinRidgeRound(config, index, plannedFor(ws.store, 'tamsin-ridge', index)) })),
     ].sort((a, b) => (a.date < b.date ? -1 : 1));
     for (const event of events) {
-      const drops: DemoDrop[] = event.make().sort((a, b) => (a.at < b.at ? -1 : 1));
+      const drops: DemoDrop[] = (await event.make()).sort((a, b) => (a.at < b.at ? -1 : 1));
       for (const drop of drops) {
         clock = new Date(drop.at);
         const file = path.join(paths.inbox, drop.name);

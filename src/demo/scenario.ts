@@ -9,6 +9,7 @@
 import { addDays, format, parseISO } from 'date-fns';
 import type { Barn, Config, Site } from '../config/types.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
+import { demoWorkbook } from './workbook.js';
 
 export const DEMO_SEED = 20260803;
 
@@ -100,17 +101,17 @@ interface ElisaRow {
 /** The S/P at or above which Northfield calls its PRRSV oral-fluid ELISA positive (its demo profile). */
 const NORTHFIELD_SP_POSITIVE = 0.4;
 
+const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
+
 /**
- * A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. The lab
- * has one export template: an ELISA's S/P ratio comes in the same numeric column as a Ct, and
- * an ELISA has no internal control (the cell is left blank).
+ * Northfield's cells for each row, and its numeric result as a number (null when the cell says
+ * something else). The lab has one export template: an ELISA's S/P ratio comes in the same
+ * numeric column as a Ct, and an ELISA has no internal control (the cell is left blank).
  */
-export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedOn: string, firstCase: number): Buffer {
+function northfieldCells(rows: readonly (LabRow | ElisaRow)[], reportedOn: string, firstCase: number): { cells: string[]; ct: number | null }[] {
   const testName = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR', 'PRRSV-AB': 'PRRSV Oral Fluid Antibody ELISA' } as const;
   const positiveBelow = { PRRSV: 36, IAV: 38 } as const;
-  const header = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
-  const lines = [header.join(',')];
-  rows.forEach((row, index) => {
+  return rows.map((row, index) => {
     const elisa = row.assay === 'PRRSV-AB';
     const call =
       row.assay === 'PRRSV-AB'
@@ -125,10 +126,12 @@ export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedO
               ? 'Positive'
               : 'Suspect';
     const value = row.assay === 'PRRSV-AB' ? row.sp.toFixed(2) : row.controlFailed ? '' : row.ct === null ? 'Undetermined' : row.ct.toFixed(2);
+    const numeric = row.assay === 'PRRSV-AB' ? Number(row.sp.toFixed(2)) : row.controlFailed ? null : row.ct;
     const control = row.assay === 'PRRSV-AB' ? '' : row.controlFailed ? 'FAIL' : 'PASS';
     const status = row.assay === 'PRRSV-AB' ? undefined : row.status;
-    lines.push(
-      [
+    return {
+      ct: numeric,
+      cells: [
         `NV26-${String(firstCase + Math.floor(index / (elisa ? 1 : 2))).padStart(5, '0')}`,
         row.sampleId,
         testName[row.assay],
@@ -138,12 +141,33 @@ export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedO
         row.collectedOn,
         reportedOn,
         status ?? 'Final',
-      ]
-        .map(csvCell)
-        .join(','),
-    );
+      ],
+    };
   });
+}
+
+/** A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. */
+export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedOn: string, firstCase: number): Buffer {
+  const lines = [NORTHFIELD_HEADER.join(',')];
+  for (const { cells } of northfieldCells(rows, reportedOn, firstCase)) lines.push(cells.map(csvCell).join(','));
   return Buffer.from(lines.join('\n') + '\n', 'utf8');
+}
+
+/**
+ * The same export as a Northfield workbook: sheet "Results", a title and a blank row above the
+ * header (the demo profile's workbook.headerRow: 3), Ct values as numbers, dates as date cells.
+ * `at` is the moment it was saved: the same rows and moment give the same bytes.
+ */
+export async function northfieldWorkbook(rows: readonly LabRow[], reportedOn: string, firstCase: number, at: string): Promise<Buffer> {
+  const dateCell = (iso: string) => parseISO(`${iso}T00:00:00Z`);
+  const body = northfieldCells(rows, reportedOn, firstCase).map(({ cells, ct }) =>
+    cells.map((cell, column) => (column === 3 && ct !== null ? ct : column === 6 || column === 7 ? dateCell(cell) : cell === '' ? null : cell)),
+  );
+  return demoWorkbook(
+    [{ name: 'Results', rows: [[`Results report ${reportedOn} (invented)`], [], NORTHFIELD_HEADER, ...body], dateColumns: [7, 8], widths: [12, 26, 26, 10, 14, 16, 16, 14, 14] }],
+    parseISO(at),
+    'Northfield Veterinary Diagnostic Laboratory (invented)',
+  );
 }
 
 /** An Ostermark export: a title line, semicolons, decimal commas, dd.MM.yyyy, Latin-1, CRLF, 0 for no signal. */
@@ -216,7 +240,7 @@ function measure(rng: Rng, barnId: string, penId: string, roundIndex: number): n
  * The files of one Hollow Creek round. `planned` are the ropes ropewatch planned for this round
  * (empty before the first plan): when present the farm hangs those tubes and sends no sheet.
  */
-export function hollowCreekRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): DemoDrop[] {
+export async function hollowCreekRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): Promise<DemoDrop[]> {
   const site = config.siteById.get('HOLLOW-CREEK')!;
   const date = HOLLOW_CREEK_ROUNDS[roundIndex]!;
   const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek', roundIndex));
@@ -266,7 +290,15 @@ export function hollowCreekRound(config: Config, roundIndex: number, planned: re
     }
   }
   const reported = plus(date, 3);
-  if (roundIndex % 2 === 0) {
+  if (roundIndex === HOLLOW_CREEK_ROUNDS.length - 1) {
+    // The last round's results come as the lab's Excel workbook.
+    drops.push({
+      at: at(reported, 14),
+      name: `nvdl_results_${reported}.xlsx`,
+      bytes: await northfieldWorkbook([...prrsv, ...iav], reported, 1000 + roundIndex * 100, at(reported, 13)),
+      note: 'PRRSV and influenza results as an Excel workbook: sheet "Results", header on row 3',
+    });
+  } else if (roundIndex % 2 === 0) {
     drops.push({ at: at(reported, 14), name: `nvdl_results_${reported}.csv`, bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100), note: 'PRRSV and influenza results in one export' });
   } else {
     drops.push({ at: at(reported, 11), name: `nvdl_prrsv_${reported}.csv`, bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100), note: 'PRRSV results' });

@@ -76,8 +76,29 @@ function indexHeader(file: string, headerLine: number, header: string[], fold: (
   return index;
 }
 
-function requiredLabColumns(lab: LabProfile): string[] {
-  return [lab.columns.sampleId, lab.columns.assay, lab.columns.result];
+/** A required column the header lacks: the name a refusal gives as its field, and what the lab profile needs. */
+interface MissingColumn {
+  field: string;
+  needs: string;
+}
+
+/**
+ * The required columns a header lacks, and how many a complete header has: a long export's
+ * sample ID, assay and Ct; a wide export's sample ID and at least one value column.
+ */
+function missingLabColumns(lab: LabProfile, header: readonly string[]): { missing: MissingColumn[]; required: number } {
+  const folded = new Set(header.map(foldToken));
+  const column = (name: string): MissingColumn => ({ field: name, needs: `a "${name}" column` });
+  if (lab.layout === 'wide') {
+    const missing = folded.has(foldToken(lab.columns.sampleId)) ? [] : [column(lab.columns.sampleId)];
+    const names = [...lab.assays.values()].map((assay) => assay.labAssayName);
+    if (!names.some((name) => folded.has(foldToken(name)))) {
+      missing.push({ field: names[0] ?? '', needs: `at least one of its value columns (${names.map((name) => `"${name}"`).join(', ')})` });
+    }
+    return { missing, required: 2 };
+  }
+  const required = [lab.columns.sampleId, lab.columns.assay ?? '', lab.columns.result ?? ''];
+  return { missing: required.filter((name) => !folded.has(foldToken(name))).map(column), required: required.length };
 }
 
 /** Where each rope-sheet column appears in a header: every cell that carries one of its names. */
@@ -125,6 +146,23 @@ function ropeSheetKind(fileName: string, delimiter: Delimiter, header: string[],
   return { kind: 'ropes', delimiter, headerLine: 1, header, columnIndex, columnNames };
 }
 
+/** A header row as detection sees it: its cells (undefined when the row is blank or absent), its line (row number) and delimiter. */
+export interface FoundHeader {
+  header: string[] | undefined;
+  line: number;
+  delimiter: Delimiter;
+  /** Why the lab's header could not be looked for at all (a workbook without the lab's sheet). */
+  problem?: string;
+}
+
+/** Where detection reads a file's header rows: the first row (as a rope sheet), and the row each lab profile puts its header on. */
+export interface HeaderSource {
+  first: FoundHeader;
+  /** The first row's text, shown when nothing matches. */
+  excerpt: string;
+  forLab(lab: LabProfile): FoundHeader;
+}
+
 /**
  * Decides what a file is from its name and first block of text. A rope sheet is told by its
  * columns under any of their accepted names (`ropeColumns`: sites.yaml `ropeSheet.columns`, or
@@ -134,28 +172,45 @@ function ropeSheetKind(fileName: string, delimiter: Delimiter, header: string[],
  */
 export function detectFileKind(fileName: string, head: string, labs: readonly LabProfile[], ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS): FileKind {
   if (head.replace(/\uFEFF/g, '').trim() === '') throw new IngestError('empty-file', fileName, undefined, undefined, undefined);
+  const lines = head.split('\n');
+  const firstLine = lines[0] ?? '';
+  const firstDelimiter = guessDelimiter(firstLine);
+  const source: HeaderSource = {
+    first: { header: headerCells(head, 0, firstDelimiter), line: 1, delimiter: firstDelimiter },
+    excerpt: firstLine,
+    forLab: (lab) => {
+      const delimiter = lab.delimiter === 'auto' ? guessDelimiter(lines[lab.skipLines] ?? '') : lab.delimiter;
+      return { header: headerCells(head, lab.skipLines, delimiter), line: lab.skipLines + 1, delimiter };
+    },
+  };
+  return detectKind(fileName, source, labs, ropeColumns);
+}
 
-  const firstLine = head.split('\n')[0] ?? '';
-  const ropeDelimiter = guessDelimiter(firstLine);
-  const ropeHeader = headerCells(head, 0, ropeDelimiter);
+/**
+ * Decides what a file is from its name and its header rows, wherever they come from (a CSV's
+ * lines, a workbook's sheets).
+ * @throws IngestError unknown-format, ambiguous-lab, missing-column, duplicate-header, no-such-sheet.
+ */
+export function detectKind(fileName: string, source: HeaderSource, labs: readonly LabProfile[], ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS): FileKind {
+  const ropeDelimiter = source.first.delimiter;
+  const ropeHeader = source.first.header;
   const ropeMatch = ropeHeader ? matchRopeHeader(ropeHeader, ropeColumns) : undefined;
   // A sample ID and a pen column make a header look like a rope sheet; all required columns make it one.
   const ropeLike = ropeMatch !== undefined && ropeMatch.sampleId.length > 0 && ropeMatch.pen.length > 0;
   const ropeMissing = ropeMatch === undefined ? [] : REQUIRED_ROPE_SHEET_COLUMNS.filter((column) => ropeMatch[column].length === 0);
   const ropeComplete = ropeLike && ropeMissing.length === 0;
 
-  type Candidate = { lab: LabProfile; delimiter: Delimiter; header: string[]; byName: boolean; missing: string[] };
+  type Candidate = { lab: LabProfile; delimiter: Delimiter; header: string[]; headerLine: number; byName: boolean; missing: MissingColumn[]; required: number };
   const candidates: Candidate[] = [];
   for (const lab of labs) {
-    const lines = head.split('\n');
-    const line = lines[lab.skipLines] ?? '';
-    const delimiter = lab.delimiter === 'auto' ? guessDelimiter(line) : lab.delimiter;
-    const header = headerCells(head, lab.skipLines, delimiter);
-    if (!header) continue;
-    const folded = new Set(header.map(foldToken));
-    const missing = requiredLabColumns(lab).filter((column) => !folded.has(foldToken(column)));
+    const found = source.forLab(lab);
     const byName = lab.fileNamePattern?.test(fileName) ?? false;
-    if (byName || missing.length < requiredLabColumns(lab).length - 1) candidates.push({ lab, delimiter, header, byName, missing });
+    // The lab's own file name with the lab's sheet missing: told as such, not as an unknown format.
+    if (found.problem !== undefined && byName) throw new IngestError('no-such-sheet', fileName, undefined, undefined, undefined, found.problem);
+    const header = found.header;
+    if (!header) continue;
+    const { missing, required } = missingLabColumns(lab, header);
+    if (byName || missing.length < required - 1) candidates.push({ lab, delimiter: found.delimiter, header, headerLine: found.line, byName, missing, required });
   }
   const complete = candidates.filter((candidate) => candidate.missing.length === 0);
   const named = complete.filter((candidate) => candidate.byName);
@@ -195,15 +250,15 @@ export function detectFileKind(fileName: string, head: string, labs: readonly La
     }
     // A file named like a lab's exports but sharing none of its required columns (an invoice,
     // a wrong report template) is not that lab's export with columns missing: unknown format.
-    const plausible = candidates.filter((candidate) => candidate.missing.length < requiredLabColumns(candidate.lab).length);
+    const plausible = candidates.filter((candidate) => candidate.missing.length < candidate.required);
     const partial = plausible.find((candidate) => candidate.byName) ?? plausible[0];
     if (partial) {
       const column = partial.missing[0]!;
-      throw new IngestError('missing-column', fileName, partial.lab.skipLines + 1, column, undefined, `lab profile ${partial.lab.id} needs a "${column}" column, which the header lacks`);
+      throw new IngestError('missing-column', fileName, partial.headerLine, column.field, undefined, `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`);
     }
-    throw new IngestError('unknown-format', fileName, 1, undefined, firstLine.slice(0, 120));
+    throw new IngestError('unknown-format', fileName, 1, undefined, source.excerpt.slice(0, 120));
   }
-  const headerLine = chosen.lab.skipLines + 1;
+  const headerLine = chosen.headerLine;
   return {
     kind: 'results',
     lab: chosen.lab,

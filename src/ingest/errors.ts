@@ -15,8 +15,13 @@ export const REJECTION_CODES = {
   'file-read-error': 'the file could not be read',
   'not-a-regular-file': 'a FIFO, socket, device, folder or a link to one of them: refused from its type, never opened, left where it is',
   'malformed-csv': 'broken quoting or structure: the rows after it cannot be trusted, so the file is refused whole',
+  'not-a-workbook': 'named or shaped like a spreadsheet but not an Office Open XML workbook (.xlsx) that can be opened: not a zip, a damaged one, or another spreadsheet format',
+  'workbook-encrypted': 'a password-protected workbook: ropewatch cannot open it without the password',
+  'workbook-too-large': 'a workbook beyond the size ropewatch reads whole (file or unpacked parts)',
+  'no-such-sheet': 'the lab profile names a sheet the workbook does not have',
   // Rows
   'ragged-row': 'the row has a different number of fields from the header',
+  'formula-without-value': 'a workbook cell the row needs holds a formula saved without its calculated value',
   'missing-value': 'a required cell is empty',
   'unknown-assay': 'the lab assay name is not in the lab profile',
   'bad-ct': 'the Ct cell is neither a number nor a configured not-detected token',

@@ -23,11 +23,13 @@ import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, type Sniffed } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
-import { FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
+import { BATCH_ROWS, FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { correctionsForFile, likelyMeantIds, type MeantId } from './plannedIds.js';
 import { normaliseSampleId } from './rows.js';
 import { ParseWorker } from './workerBatches.js';
 import { emptyReceipt, type Receipt } from './receipt.js';
+import { detectWorkbook, readHashedBytes, workbookBatches, workbookNote, type WorkbookKind } from './workbookInput.js';
+import { isWorkbookFile, openWorkbook, WORKBOOK_MAX_BYTES, type OpenedWorkbook } from './xlsxReader.js';
 
 export { emptyReceipt, type Receipt };
 
@@ -117,6 +119,17 @@ function readHead(file: string, size: number, linesNeeded: number): { head: Buff
 }
 
 
+/** The first bytes of a file (fewer when it is shorter): enough for a format's signature. */
+function firstBytes(file: string, count: number): Buffer {
+  const handle = fs.openSync(file, 'r');
+  try {
+    const buffer = Buffer.alloc(count);
+    return buffer.subarray(0, fs.readSync(handle, buffer, 0, count, 0));
+  } finally {
+    fs.closeSync(handle);
+  }
+}
+
 /** Appends to a receipt list up to RECEIPT_LIST_LIMIT; returns how many did not fit. */
 function listInto<T>(list: T[], items: readonly T[]): number {
   const room = Math.max(0, RECEIPT_LIST_LIMIT - list.length);
@@ -150,7 +163,9 @@ function meantFor(written: string, planned: ReadonlyMap<string, PlannedRope>, aw
 export async function ingestFile(file: string, deps: IngestDeps): Promise<Receipt> {
   let worker: ParseWorker | undefined;
   try {
-    if (fs.statSync(file).size >= (deps.parseInWorkerFromBytes ?? PARSE_IN_WORKER_FROM_BYTES)) worker = new ParseWorker();
+    // A workbook is read whole on this thread (workbookInput.ts): no worker for a spreadsheet's name.
+    const large = fs.statSync(file).size >= (deps.parseInWorkerFromBytes ?? PARSE_IN_WORKER_FROM_BYTES);
+    if (large && !isWorkbookFile(path.basename(file), new Uint8Array())) worker = new ParseWorker();
   } catch {
     // Unreadable: hashing reports it.
   }
@@ -246,22 +261,41 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   if (size === 0) return reject(new IngestError('empty-file', name, undefined, undefined, undefined, 'the file is empty (0 bytes)'), null);
 
   let kind: FileKind;
-  let sniffed;
-  try {
-    // Title lines above the header (the most any lab profile skips), the header, and one more line.
-    const linesNeeded = Math.max(0, ...deps.config.labs.map((lab) => lab.skipLines)) + 2;
-    const read = readHead(file, size, linesNeeded);
-    const head = read.head;
-    sniffed = read.sniffed;
-    const text = read.text;
-    kind = detectFileKind(name, text, deps.config.labs, deps.config.ropeSheet.columns);
-    if (kind.kind === 'results' && kind.lab.encoding !== 'auto' && sniffed.bomLength === 0 && !sniffed.note.includes('byte pattern')) {
-      sniffed = sniffEncoding(head, kind.lab.encoding);
+  let sniffed: Sniffed;
+  let workbook: { opened: OpenedWorkbook; found: WorkbookKind } | undefined;
+  if (isWorkbookFile(name, firstBytes(file, 8))) {
+    if (size > WORKBOOK_MAX_BYTES) {
+      return reject(new IngestError('workbook-too-large', name, undefined, undefined, undefined, `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`), null);
     }
-  } catch (error) {
-    if (error instanceof IngestError) return reject(error, null);
-    if (error instanceof BinaryContentError) return reject(new IngestError('not-csv', name, undefined, undefined, undefined, error.message), null);
-    throw error;
+    try {
+      // Read from exactly the bytes hashed: the workbook parsed is the one the hash names.
+      const opened = await openWorkbook(readHashedBytes(file, name, { bytes: size, sha256 }), name);
+      workbook = { opened, found: detectWorkbook(name, opened, deps.config.labs, deps.config.ropeSheet.columns) };
+    } catch (error) {
+      if (error instanceof IngestError) return reject(error, null);
+      if (error instanceof FileChangedError) throw new FileStillChangingError(`${error.message}; nothing was stored and the file stays in the inbox for the next run`);
+      throw error;
+    }
+    kind = workbook.found.kind;
+    sniffed = { encoding: 'utf-8', bomLength: 0, note: workbookNote(workbook.found) };
+    receipt.sheet = workbook.found.sheet.name;
+  } else {
+    try {
+      // Title lines above the header (the most any lab profile skips), the header, and one more line.
+      const linesNeeded = Math.max(0, ...deps.config.labs.map((lab) => lab.skipLines)) + 2;
+      const read = readHead(file, size, linesNeeded);
+      const head = read.head;
+      sniffed = read.sniffed;
+      const text = read.text;
+      kind = detectFileKind(name, text, deps.config.labs, deps.config.ropeSheet.columns);
+      if (kind.kind === 'results' && kind.lab.encoding !== 'auto' && sniffed.bomLength === 0 && !sniffed.note.includes('byte pattern')) {
+        sniffed = sniffEncoding(head, kind.lab.encoding);
+      }
+    } catch (error) {
+      if (error instanceof IngestError) return reject(error, null);
+      if (error instanceof BinaryContentError) return reject(new IngestError('not-csv', name, undefined, undefined, undefined, error.message), null);
+      throw error;
+    }
   }
   receipt.kind = kind.kind;
   receipt.lab = kind.kind === 'results' ? kind.lab.id : null;
@@ -354,7 +388,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     };
 
     const input: MappingInput = { file, expected: { bytes: size, sha256 }, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById, corrections };
-    const batches = worker ? worker.batches(input) : mappedBatches(input);
+    const batches = workbook ? workbookBatches(input, workbook.opened, workbook.found, BATCH_ROWS) : worker ? worker.batches(input) : mappedBatches(input);
     for await (const batch of batches) store(batch);
     if (mistyped.length > 0) {
       addRejections(mistyped.map(withSuggestion), false);

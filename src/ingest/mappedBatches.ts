@@ -12,6 +12,7 @@ import type { FileKind } from './detect.js';
 import type { RowRejection } from './errors.js';
 import { plannedIdChecker } from './plannedIds.js';
 import { mapResultRow, mapRopeRow, type ResultContext, type ResultRow, type RopeContext, type RopeRow } from './rows.js';
+import { mapWideRow, wideLayout, type WideLayout } from './wideRows.js';
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */
 export const BATCH_ROWS = 2000;
@@ -62,18 +63,29 @@ export interface MappingInput {
   corrections?: readonly SampleIdCorrection[];
 }
 
-/**
- * Yields the file's rows in batches of about `batchRows`.
- * @throws EncodingError, UnclosedQuoteError, RecordTooLongError (the file cannot be trusted past that line);
- *   FileChangedError when the bytes read are not the bytes expected
- */
-export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
+/** What mapping a file's records needs besides the records: the file's kind and the configuration. */
+export type MappingSetup = Pick<MappingInput, 'fileName' | 'kind' | 'sites' | 'assayById' | 'corrections'>;
+
+/** Records in, batches out: the same for a CSV file's records and a workbook sheet's rows. */
+export interface RecordTaker {
+  take(record: CsvRecord): void;
+  /** A row refused before it could be mapped (a workbook cell without its value). */
+  refuse(rejection: RowRejection): void;
+  /** Rows taken since the last batch. */
+  size(): number;
+  /** The rows taken since the last batch, as a batch; the next one starts empty. */
+  batch(): MappedBatch<ResultRow[]>;
+}
+
+/** One file's row mapping: its contexts are built once, then each record is mapped into the current batch. */
+export function recordTaker(input: MappingSetup): RecordTaker {
   const { kind } = input;
   const plannedIdCheck = plannedIdChecker(input);
   const width = kind.header.length;
   const resultContext: ResultContext | undefined =
     kind.kind === 'results' ? { fileName: input.fileName, lab: kind.lab, columnIndex: kind.columnIndex, assayById: input.assayById, sites: input.sites, plannedIdCheck } : undefined;
   const ropeContext: RopeContext = { fileName: input.fileName, columnIndex: kind.columnIndex, columnNames: kind.kind === 'ropes' ? kind.columnNames : undefined, sites: input.sites, plannedIdCheck };
+  const wide: WideLayout | undefined = resultContext !== undefined && resultContext.lab.layout === 'wide' ? wideLayout(resultContext, kind.header) : undefined;
   let batch: MappedBatch<ResultRow[]> = { results: [], ropes: [], rejections: [] };
   const size = () => batch.results.length + batch.ropes.length + batch.rejections.length;
 
@@ -93,7 +105,9 @@ export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS
         return;
       }
     }
-    if (resultContext) {
+    if (wide) {
+      mapWideRow(cells, line, wide, batch.results, batch.rejections);
+    } else if (resultContext) {
       const outcome = mapResultRow(cells, line, resultContext);
       if (outcome.ok) batch.results.push(outcome.row);
       else batch.rejections.push(outcome.rejection);
@@ -103,17 +117,33 @@ export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS
       else batch.rejections.push(outcome.rejection);
     }
   };
+  return {
+    take,
+    refuse: (rejection) => batch.rejections.push(rejection),
+    size,
+    batch: () => {
+      const full = batch;
+      batch = { results: [], ropes: [], rejections: [] };
+      return full;
+    },
+  };
+}
 
+/**
+ * Yields the file's rows in batches of about `batchRows`.
+ * @throws EncodingError, UnclosedQuoteError, RecordTooLongError (the file cannot be trusted past that line);
+ *   FileChangedError when the bytes read are not the bytes expected
+ */
+export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
+  const { kind } = input;
+  const taker = recordTaker(input);
   const decoder = new TextChunkDecoder(input.sniffed);
   const reader = new CsvRecordReader(kind.delimiter, kind.headerLine);
   const records: CsvRecord[] = [];
   const takeAll = function* (): Generator<MappedBatch<ResultRow[]>> {
     for (const record of records) {
-      take(record);
-      if (size() >= batchRows) {
-        yield batch;
-        batch = { results: [], ropes: [], rejections: [] };
-      }
+      taker.take(record);
+      if (taker.size() >= batchRows) yield taker.batch();
     }
     records.length = 0;
   };
@@ -137,5 +167,5 @@ export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS
   reader.push(decoder.end(), records);
   reader.end(records);
   yield* takeAll();
-  if (size() > 0) yield batch;
+  if (taker.size() > 0) yield taker.batch();
 }

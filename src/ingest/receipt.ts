@@ -14,6 +14,8 @@ export interface Receipt {
   kind: 'results' | 'ropes' | 'unknown';
   lab: string | null;
   encoding: string | null;
+  /** The sheet a workbook's rows were read from (their lines are its row numbers); absent for a text file. */
+  sheet?: string;
   rows: { accepted: number; rejected: number; duplicate: number; superseded: number };
   rejectedRows: RowRejection[];
   rejectedRowsNotListed: number;

@@ -5,8 +5,13 @@
  */
 import path from 'node:path';
 
-/** Extensions accepted by default: the text exports labs send (comma, tab, or "text"). */
-export const DEFAULT_EXTENSIONS: readonly string[] = Object.freeze(['.csv', '.tsv', '.txt']);
+/**
+ * Extensions accepted by default: the text exports labs send (comma, tab, or "text"), Excel
+ * workbooks (.xlsx, and .xlsm, the same format with macros, which are never run), and the
+ * spreadsheet formats ropewatch does not read (.xls, .xlsb, .ods): those are taken too, so that
+ * they are refused with the reason (save as .xlsx or CSV) rather than left in the inbox unseen.
+ */
+export const DEFAULT_EXTENSIONS: readonly string[] = Object.freeze(['.csv', '.tsv', '.txt', '.xlsx', '.xlsm', '.xls', '.xlsb', '.ods']);
 
 /**
  * Subfolders of the inbox that hold files already handled by the pipeline. A file there is

@@ -36,7 +36,7 @@ export interface WatchInboxOptions {
   gatePollMs?: number;
   /** chokidar polling interval with `poll`, ms. Default 1000 (a share is slow, drops are rare). */
   pollIntervalMs?: number;
-  /** Accepted extensions. Default `.csv`, `.tsv`, `.txt`. */
+  /** Accepted extensions. Default DEFAULT_EXTENSIONS (ignore.ts): text exports and spreadsheets. */
   extensions?: readonly string[];
   /** Resolves (or rejects) when the watcher should stop. */
   stop: Promise<void>;

@@ -2,7 +2,8 @@
  * The hostile-input corpus (test/fixtures/exports/): every file beside `<name>.expected.json`,
  * checked against the corpus config (a copy of the demo config in test/fixtures/exports/config).
  * Expectations were written by hand from the bytes of each file before running the code; the
- * binary, Latin-1, UTF-16 and BOM files come from make-fixtures.ts in the same folder. Each
+ * binary, Latin-1, UTF-16 and BOM files come from make-fixtures.ts in the same folder, the
+ * workbooks (.xlsx) from make-workbooks.ts. Each
  * file is read twice: on this thread, and on the parse worker that large files use; the
  * outcome must be the same.
  */

@@ -21,9 +21,20 @@ describe('isIgnoredName', () => {
   });
 
   it('ignores files whose extension is not accepted, and a bare extension with no name', () => {
-    for (const name of ['results.xlsx', 'report.pdf', 'README', 'Thumbs.db', 'csv', '.csv']) {
+    for (const name of ['report.pdf', 'README', 'Thumbs.db', 'csv', '.csv', 'results.xlsx.bak']) {
       expect(isIgnoredName(name), name).toBe(true);
     }
+  });
+
+  it('takes spreadsheets by default: workbooks to read, and the formats ropewatch refuses with a reason rather than leaves unseen', () => {
+    // .xlsx/.xlsm are Office Open XML workbooks (ECMA-376); .xls (BIFF), .xlsb and .ods reach
+    // ingest, which refuses them as not-a-workbook with the reason.
+    for (const name of ['results.xlsx', 'RESULTS.XLSX', 'book.xlsm', 'old.xls', 'binary.xlsb', 'calc.ods']) {
+      expect(isIgnoredName(name), name).toBe(false);
+    }
+    // The lock file an office suite writes beside an open workbook stays ignored (common practice, no source).
+    expect(ignoreReason('~$results.xlsx')).toBe('office lock file');
+    expect(isIgnoredName('.~lock.results.xlsx#')).toBe(true);
   });
 
   it('takes a configurable extension list', () => {
