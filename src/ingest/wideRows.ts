@@ -47,7 +47,7 @@ export function wideLayout(base: ResultContext, header: readonly string[]): Wide
     if (position === undefined) continue;
     const columnIndex = new Map(base.columnIndex);
     columnIndex.set(foldToken(ASSAY_KEY), width);
-    const lab = { ...base.lab, columns: { ...base.lab.columns, assay: ASSAY_KEY, ct: header[position]! } };
+    const lab = { ...base.lab, columns: { ...base.lab.columns, assay: ASSAY_KEY, result: header[position]! } };
     columns.push({ position, header: header[position]!, labAssayName: labAssay.labAssayName, context: { ...base, lab, columnIndex } });
   }
   columns.sort((a, b) => a.position - b.position);

@@ -171,7 +171,7 @@ describe('lab profile keys of the wide layout', () => {
     const long = WIDE_LAB.replace('layout: wide\n', '');
     expect(problems(long)).toEqual([
       expect.stringMatching(/^columns\.assay: is required/),
-      expect.stringMatching(/^columns\.ct: is required/),
+      expect.stringMatching(/^columns\.result: is required/),
       expect.stringMatching(/^notTestedTokens: applies to layout: wide only/),
     ]);
   });
