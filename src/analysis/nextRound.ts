@@ -194,7 +194,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const budget = input.budget ?? program.ropeBudget ?? null;
 
   const chosenDetect = (model: BarnModel) => model.spread ?? model.hyper;
-  // Site-level sizing (FIELD.md method 5, converse): each of k barns needs 1 - (1 - C)^(1/k).
+  // Site-level sizing (Martin, Cameron & Greiner 2007, the all-barns form inverted): each of k barns needs 1 - (1 - C)^(1/k).
   const barnTarget = program.sizeFor === 'site' ? barnTargetForSite(target, models.length) : target;
   const perBarn = models.map((model) => {
     const reach = smallestRopes(model.hyper, barnTarget, model.pensInUse);

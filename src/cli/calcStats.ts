@@ -93,7 +93,7 @@ function printPooled(io: CliIo, options: DetectOptions, barn: { pens: number; sa
  * size, 1 - prod(1 - p) across barns, Martin, Cameron & Greiner 2007 freedom) and prints JSON with
  * --json or one sentence without. Freedom rounds follow the textbook order by default: rounds[i] =
  * { posterior after round i's result, nextPrior = posterior (1 - PI) }; --order discount-then-update
- * discounts the configured prior before round 1 (FIELD.md check value 0.495 -> 0.8305369).
+ * discounts the configured prior before round 1 (Martin, Cameron & Greiner 2007; by hand the prior 0.495 gives 0.8305369).
  * @throws UsageError (exit 2) naming the option for a missing or out-of-range argument.
  * @see Cameron AR, Baldock FC 1998, Prev Vet Med 34:1-17; Martin PAJ, Cameron AR, Greiner M 2007, Prev Vet Med 79:71-97.
  */

@@ -45,7 +45,7 @@ export interface PenAssayResult {
   /** The S/P ratio of an antibody result; null for a Ct result. */
   sp: number | null;
   loadBand: string | null;
-  /** L = max(0, cycle limit - Ct); 0 when not detected (FIELD.md, load score). For an S/P: max(0, S/P). */
+  /** L = max(0, cycle limit - Ct); 0 when not detected (load score: common practice, no source). For an S/P: max(0, S/P). */
   load: number;
   reason: string;
   sampleId: string;

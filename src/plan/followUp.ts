@@ -5,7 +5,7 @@
  *
  * Ring: every in-use pen in physical contact with a cluster pen (fence line, facing across the
  * alley, diagonal) and every in-use pen within `ringDistance` (pen units, centre to centre) of
- * one. Priority order, for the highest risk first (FIELD.md method 9): fence-line neighbours,
+ * one. Priority order, for the highest risk first (Martin et al. 2007; Cameron 2012, Prev Vet Med 105:280): fence-line neighbours,
  * then facing, then diagonal, then the others by distance; ties by distance, then barn order.
  * The positive pens themselves get no follow-up rope: their status is known this round.
  *

@@ -1,6 +1,6 @@
 /**
  * Round frequency: when the next round is due, whether it is overdue, and what a negative
- * round on time is worth against a missed one, in probability of freedom (FIELD.md method 6).
+ * round on time is worth against a missed one, in probability of freedom (Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97).
  */
 import { addDays, differenceInCalendarDays, format, isValid, parseISO } from 'date-fns';
 import { requireNumber } from './checks.js';

@@ -172,7 +172,7 @@ function placeAtPhase(grid: Grid, ropes: number, phase: number): PlacedRope[] {
  * @param penIds the roped pens (ids of `pens`)
  * @returns null values when there are no ropes or no in-use pens (never NaN)
  * @throws RangeError if an id is not a pen of `pens`
- * @see Cochran WG (1977) Sampling Techniques, ch. 8; FIELD.md method 9.
+ * @see Cochran WG (1977) Sampling Techniques, ch. 8.
  */
 export function placementDistances(
   pens: readonly Pen[],

@@ -1,7 +1,7 @@
 /**
  * Sampling schedules compared: the same ropes per month spent as fewer ropes more often or more
  * ropes less often. Under a static prevalence the cumulative detection is the same; the gain of
- * sampling often is timeliness while an infection grows (FIELD.md method 10).
+ * sampling often is timeliness while an infection grows (common practice, no source).
  */
 import type { Rng } from '../util/random.js';
 import { requireInteger, requireNumber, requireProbability } from './checks.js';
@@ -14,7 +14,8 @@ import { requireInteger, requireNumber, requireProbability } from './checks.js';
  * @param intervalDays D > 0 (days, or any time unit; the result is in the same unit)
  * @param perRound p in (0, 1]
  * @throws RangeError for D <= 0 or p outside (0, 1]
- * @see FIELD.md method 10 (check value D = 1 week, p = 0.246429 -> 3.5580 weeks).
+ * Derived by hand: an introduction at a uniform time within a round interval, then a geometric
+ * number of rounds to the first detection (no published source; D = 1 week, p = 0.246429 gives 3.5580 weeks).
  * @example expectedDelay(7, 0.5) === 10.5
  */
 export function expectedDelay(intervalDays: number, perRound: number): number {
@@ -74,7 +75,7 @@ function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): string[
  * Compares the current schedule (n ropes every D days) with n/2 every D/2 and 2n every 2D:
  * per-round detection and expected time to detection D (1/p - 1/2) under a static prevalence.
  * @throws RangeError for ropes outside [1, maxRopes], D <= 0, or detect outside [0, 1]
- * @see FIELD.md method 10.
+ * Expected delay as above (derived by hand; no published source).
  */
 export function compareSchedules(input: ScheduleInput): { options: ScheduleOption[]; notes: string[] } {
   validateSchedule(input);
@@ -131,7 +132,7 @@ function validateGrowth(model: GrowthModel): void {
  * @param rng seeded uniform generator on [0, 1) (the caller records the seed)
  * @param replicates integer in [1, 10^7]; @param maxRounds rounds before a replicate is censored
  * @throws RangeError for bad schedule or growth parameters, or detectAt outside [0, 1]
- * @see FIELD.md method 10; Martin, Cameron & Greiner (2007) Prev Vet Med 79:71-97.
+ * @see Martin, Cameron & Greiner (2007) Prev Vet Med 79:71-97 (freedom); the expected delay is derived by hand.
  */
 export function simulateDelay(
   schedule: { ropes: number; intervalDays: number },

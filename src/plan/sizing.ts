@@ -29,7 +29,7 @@ export interface Unreachable {
 /**
  * Rounds needed to reach a cumulative detection target when each round detects with
  * probability `perRound`, independently: the smallest k with 1 - (1 - perRound)^k >= target
- * (FIELD.md methods 5 and 11). Computed from the logarithm and then confirmed by counting, with a
+ * (Martin, Cameron & Greiner 2007; with one infected pen the ceiling is Se, Cameron & Baldock 1998). Computed from the logarithm and then confirmed by counting, with a
  * slack of 1e-12 so that an exact decimal target such as 0.99 is not missed by rounding.
  * @param perRound per-round detection in [0, 1]
  * @param target cumulative target in (0, 1)
@@ -63,7 +63,7 @@ function unreachable(ceiling: number, target: number, what: string): Unreachable
 
 /**
  * Sample size for a detection target, finite barn: the smallest n in [0, maxRopes] with
- * detect(n) >= target, by bisection on the monotone `detect` (FIELD.md method 4). When even
+ * detect(n) >= target, by bisection on the monotone `detect` (Cameron & Baldock 1998, Prev Vet Med 34:1-17, exact search). When even
  * detect(maxRopes) falls short (e.g. Se = 0.9 < target 0.95 with one infected pen, method 11),
  * returns the ceiling and the number of rounds that would reach the target instead.
  * @param detect non-decreasing detection probability of n ropes, n in [0, maxRopes]
@@ -94,7 +94,7 @@ export function smallestRopes(detect: DetectFn, target: number, maxRopes: number
 
 /**
  * Barn-level detection needed in each of k similar barns for a site target C:
- * 1 - (1 - C)^(1/k) (FIELD.md method 5).
+ * 1 - (1 - C)^(1/k) (Martin, Cameron & Greiner 2007).
  * @param siteTarget C in (0, 1); @param barns k, integer >= 1
  * @throws RangeError outside those domains
  * @example barnTargetForSite(0.95, 3) // 0.631597...
@@ -258,7 +258,7 @@ function smallestBudgetFor(log: readonly number[], value: number, limit: number)
 
 /**
  * Allocates a site's rope budget across barns to maximise site detection
- * 1 - prod_b (1 - p_b(n_b)) (FIELD.md method 5), i.e. to minimise sum_b log(1 - p_b(n_b)).
+ * 1 - prod_b (1 - p_b(n_b)) (Martin, Cameron & Greiner 2007), i.e. to minimise sum_b log(1 - p_b(n_b)).
  * Greedy marginal allocation when every barn has diminishing returns (then optimal: Fox 1966);
  * otherwise exact dynamic programming (the finite hypergeometric model has increasing returns,
  * where greedy can miss the optimum). Ropes that add nothing are left `unused`.
@@ -338,7 +338,7 @@ export interface SiteSizing {
  * total is found as in {@link allocateRopes}, so this is never more than sizing every barn alone
  * to 1 - (1 - C)^(1/k), and usually fewer when barns differ.
  * @throws RangeError for a target outside (0, 1) or a bad budget
- * @see FIELD.md method 5; Fox B (1966) Management Science 13:210-216 (from memory).
+ * @see Martin, Cameron & Greiner (2007) Prev Vet Med 79:71-97; Fox B (1966) Management Science 13:210-216 (from memory).
  */
 export function sizeSite(barns: readonly BarnSizing[], siteTarget: number, budget?: number): SiteSizing {
   requireNumber('siteTarget', siteTarget, 0, 1, { openMin: true, openMax: true });

@@ -306,7 +306,7 @@ export function analyseBarnRound(input: BarnRoundInput & { options: SpatialOptio
  * spread summary with distances across barns through their site offsets.
  *
  * @throws RangeError on duplicate barn ids or any error of analyseBarnRound.
- * @see Cliff A.D., Ord J.K. (1981) Spatial Processes (join counts); FIELD.md method 8 (stratified permutation).
+ * @see Cliff A.D., Ord J.K. (1981) Spatial Processes (join counts) (permutation inference; stratifying within barns is common practice, no source).
  */
 export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
   checkOptions(input.options);

@@ -19,7 +19,7 @@ export interface LocalGiStar {
  * row-standardising with the self weight gives the same z. General (distance) weights are used
  * as stored with w_ii = 1.
  *
- * @example localGiStar(fenceRowOf6, [0,1,1,0,0,0])[1].z // 1.581139 (FIELD.md; test/spatial/getisOrd.test.ts)
+ * @example localGiStar(fenceRowOf6, [0,1,1,0,0,0])[1].z // 1.581139 (by hand; test/spatial/getisOrd.test.ts)
  * @param values one finite value per pen (the load score).
  * @throws RangeError on mismatched lengths or non-finite values.
  * @see Ord J.K., Getis A. (1995) Local spatial autocorrelation statistics: distributional issues

@@ -135,7 +135,7 @@ function falling(n: number, k: number): number {
  * E(BW) = S0 n1 (n - n1) / n^(2); E(WW) = 1/2 S0 n0^(2)/n^(2).
  *
  * @param positives n1, integer in [0, n].
- * @example joinCountMoments(fenceRowOf6, 2) // { expectedBB: 1/3, varianceBB: 2/9, ... } (FIELD.md; test/spatial/joinCount.test.ts)
+ * @example joinCountMoments(fenceRowOf6, 2) // { expectedBB: 1/3, varianceBB: 2/9, ... } (by hand; test/spatial/joinCount.test.ts)
  * @throws RangeError on bad n1.
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes: Models and Applications, ch. 1-2.
  */
@@ -267,7 +267,7 @@ export function bbOfPlacement(g: JoinGraph, mark: Uint8Array, chosen: Int32Array
  * each stratum when `strata` is given). Exact enumeration of all placements when there are at
  * most `exactLimit` (default 1e6); otherwise Monte Carlo p = (1 + b)/(1 + m), b = permutations
  * with BB >= observed. Why exact: with few positives the normal approximation is badly
- * anti-conservative (FIELD.md method 8).
+ * anti-conservative (Cliff & Ord 1981; by enumeration, a 20-pen barn with 4 positives).
  *
  * @param positive one flag per pen of `w`.
  * @throws RangeError on mismatched lengths or a bad permutation count.

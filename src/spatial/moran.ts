@@ -41,7 +41,7 @@ export interface MoranOptions {
  * z under randomisation; permutation p = (1 + #{I_perm >= I}) / (1 + m), values shuffled
  * over the pens. Constant values (e.g. every load 0) leave I undefined: null with a reason.
  *
- * @example moranTest(fenceRowOf6, [0,1,1,0,0,0], { rng, permutations: 0 }) // I = 0.2, varianceNormality = 0.128 (FIELD.md)
+ * @example moranTest(fenceRowOf6, [0,1,1,0,0,0], { rng, permutations: 0 }) // I = 0.2, varianceNormality = 0.128 (by hand, Cliff & Ord 1981 moments)
  * @param values one finite value per pen of `w` (load = max(0, cycle limit - Ct), 0 if not detected).
  * @throws RangeError for fewer than 2 pens, mismatched lengths, non-finite values or a bad permutation count.
  * @see Moran P.A.P. (1950) Notes on continuous stochastic phenomena, Biometrika 37:17-23.

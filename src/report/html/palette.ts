@@ -43,7 +43,7 @@ export const LOAD_BAND_CYCLES = 5;
  * Ramp step for a load score L = max(0, C_max - Ct): 0 for L = 0, else ceil(L / 5) capped at 4.
  * @param load load score in cycles, finite and >= 0
  * @throws RangeError when `load` is negative or not finite
- * @see FIELD.md, load score L = max(0, C_max - Ct) (common practice, no source for the 5-cycle bands).
+ * Load score L = max(0, C_max - Ct) (common practice, no source; nor for the 5-cycle bands).
  */
 export function loadStep(load: number): number {
   if (!Number.isFinite(load) || load < 0) throw new RangeError(`\`load\` must be a finite number >= 0, got ${load}`);
