@@ -65,35 +65,69 @@ function cross(cx: number, cy: number, r: number): string {
 }
 
 /**
+ * The frame both trend charts share: margins (room on the left for the invalid strip's label, on
+ * the right for the cutoff values), the round positions on the x axis, and the SVG head.
+ */
+interface TrendFrame {
+  width: number;
+  height: number;
+  left: number;
+  right: number;
+  top: number;
+  plotH: number;
+  xAt: (round: number) => number;
+  head: (extraAttributes: string) => string[];
+  /** The round labels under the axis (at most about seven, the last always). */
+  roundLabels: () => string[];
+}
+
+function trendFrame(
+  points: readonly { round: number; label: string }[],
+  options: { width?: number; height?: number; rounds: readonly { round: number; label: string }[]; title: string },
+  layout: { anyInvalid: boolean; rightWithCutoffs: number | null },
+): TrendFrame {
+  const width = options.width ?? 230;
+  // The invalid strip needs room of its own below the lowest line.
+  const height = (options.height ?? 130) + (layout.anyInvalid ? 12 : 0);
+  const left = layout.anyInvalid ? 40 : 34;
+  const right = layout.rightWithCutoffs ?? 10;
+  const top = 20;
+  const bottom = 30 + (layout.anyInvalid ? 12 : 0);
+  const rounds = options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
+  const index = new Map(rounds.map((entry, i) => [entry.round, i]));
+  const plotW = width - left - right;
+  const plotH = height - top - bottom;
+  const xAt = (round: number) => left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
+  const head = (extraAttributes: string) => [
+    `<svg xmlns="http://www.w3.org/2000/svg" class="trend" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" role="img" data-trend=""${extraAttributes}>`,
+    `<title>${escapeHtml(options.title)}</title>`,
+    `<text x="${left}" y="12" font-size="11" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(options.title)}</text>`,
+  ];
+  const roundLabels = () => {
+    const step = Math.max(1, Math.ceil(rounds.length / 7));
+    const labelsY = height - bottom + 13 + (layout.anyInvalid ? 12 : 0);
+    return rounds
+      .filter((_, i) => i % step === 0 || i === rounds.length - 1)
+      .map((entry) => `<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
+  };
+  return { width, height, left, right, top, plotH, xAt, head, roundLabels };
+}
+
+/**
  * Renders a Ct trend chart (line through detected Ct values, rounds on the x axis, Ct inverted
  * on the y axis). Filled dot: detected; hollow dot on the bottom line: not detected (n.d.);
  * cross on the strip below: invalid (retest); dashed lines: the labs' positive cutoffs.
  * @throws RangeError as ctAxis
  */
 export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptions): string {
-  const width = options.width ?? 230;
   const anyInvalid = points.some((point) => pointKind(point) === 'invalid');
-  // The invalid strip needs room of its own below the not-detected line.
-  const height = (options.height ?? 130) + (anyInvalid ? 12 : 0);
   const detected = points.filter((point) => pointKind(point) === 'ct');
   const axis = ctAxis(detected.map((point) => point.ct!), options.cycleLimit);
   const shown = [...options.cutoffs].filter((cutoff) => cutoff.value > axis.top && cutoff.value < axis.bottom).sort((a, b) => a.value - b.value);
-  // Room on the left for the "invalid" strip's label, on the right for the cutoff values (clear of the last point).
-  const left = anyInvalid ? 40 : 34;
-  const right = shown.length > 0 ? 22 : 10;
-  const top = 20;
-  const bottom = 30 + (anyInvalid ? 12 : 0);
-  const rounds = options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
-  const index = new Map(rounds.map((entry, i) => [entry.round, i]));
-  const plotW = width - left - right;
-  const plotH = height - top - bottom;
-  const xAt = (round: number) => left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
+  const { width, height, left, right, top, plotH, xAt, head, roundLabels } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 22 : null });
   const yAt = (ct: number) => top + ((ct - axis.top) / (axis.bottom - axis.top)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
-  const parts: string[] = [];
-  parts.push(`<svg xmlns="http://www.w3.org/2000/svg" class="trend" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" role="img" data-trend="">`);
-  parts.push(`<title>${escapeHtml(options.title)}</title>`);
-  parts.push(`<text x="${left}" y="12" font-size="11" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(options.title)}</text>`);
+  const parts: string[] = head('');
   // Gridlines every 5 cycles, labelled on the left.
   for (let ct = Math.ceil(axis.top / 5) * 5; ct <= axis.bottom; ct += 5) {
     parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(ct))}" y2="${fmt(yAt(ct))}" stroke="#d4d4d4" stroke-width="0.8"/>`);
@@ -111,12 +145,7 @@ export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptio
   if (anyInvalid) {
     parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
   }
-  const step = Math.max(1, Math.ceil(rounds.length / 7));
-  const labelsY = height - bottom + 13 + (anyInvalid ? 12 : 0);
-  rounds.forEach((entry, i) => {
-    if (i % step !== 0 && i !== rounds.length - 1) return;
-    parts.push(`<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
-  });
+  parts.push(...roundLabels());
   parts.push(
     `<text x="${width - right}" y="${height - 3}" text-anchor="end" font-size="8.5" fill="${COLOURS.muted}">bottom line: not detected (n.d.)${anyInvalid ? '; \u00d7 invalid' : ''}</text>`,
   );
@@ -202,31 +231,18 @@ export function spAxis(sps: readonly number[], cutoffs: readonly number[]): { bo
  * @throws RangeError as spAxis
  */
 export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendOptions): string {
-  const width = options.width ?? 230;
   const valued = points.filter((point) => point.resultClass !== 'invalid' && point.sp !== null);
   const anyInvalid = valued.length < points.length;
-  const height = (options.height ?? 130) + (anyInvalid ? 12 : 0);
   const axis = spAxis(
     valued.map((point) => point.sp!),
     options.cutoffs.map((cutoff) => cutoff.value),
   );
   const shown = [...options.cutoffs].sort((a, b) => a.value - b.value);
-  const left = anyInvalid ? 40 : 34;
-  const right = shown.length > 0 ? 26 : 10;
-  const top = 20;
-  const bottom = 30 + (anyInvalid ? 12 : 0);
-  const rounds = options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
-  const index = new Map(rounds.map((entry, i) => [entry.round, i]));
-  const plotW = width - left - right;
-  const plotH = height - top - bottom;
-  const xAt = (round: number) => left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
+  const { width, height, left, right, top, plotH, xAt, head, roundLabels } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 26 : null });
   const yAt = (sp: number) => top + ((axis.top - sp) / (axis.top - axis.bottom)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
   const spLabel = (sp: number) => String(Math.round(sp * 100) / 100);
-  const parts: string[] = [];
-  parts.push(`<svg xmlns="http://www.w3.org/2000/svg" class="trend" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" role="img" data-trend="" data-measure="sp-ratio">`);
-  parts.push(`<title>${escapeHtml(options.title)}</title>`);
-  parts.push(`<text x="${left}" y="12" font-size="11" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(options.title)}</text>`);
+  const parts: string[] = head(' data-measure="sp-ratio"');
   const grid = axis.top - axis.bottom <= 3 ? 0.5 : 1;
   for (let k = Math.ceil(axis.bottom / grid); k * grid <= axis.top + 1e-9; k++) {
     const value = k * grid;
@@ -242,12 +258,7 @@ export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendO
   });
   parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
   if (anyInvalid) parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
-  const step = Math.max(1, Math.ceil(rounds.length / 7));
-  const labelsY = height - bottom + 13 + (anyInvalid ? 12 : 0);
-  rounds.forEach((entry, i) => {
-    if (i % step !== 0 && i !== rounds.length - 1) return;
-    parts.push(`<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
-  });
+  parts.push(...roundLabels());
   if (valued.length >= 2) {
     const path = valued.map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.sp!))}`).join(' ');
     parts.push(`<path d="${path}" fill="none" stroke="${COLOURS.ink}" stroke-width="1.6"/>`);
