@@ -182,6 +182,25 @@ describe('PCR and antibody together', () => {
   });
 });
 
+/**
+ * The ELISA results on the same ropes as `results`: the first rope antibody positive (S/P 1.2),
+ * the others negative (S/P 0.1), against the cutoff 0.4 (Kittawornrat et al. 2012).
+ */
+function antibodyResults(results: readonly ResultInput[], firstId: number): ResultInput[] {
+  return results.map((result, i) => ({
+    ...result,
+    id: firstId + i,
+    assayId: 'PRRSV-AB',
+    measure: 'sp-ratio',
+    ct: null,
+    sp: i === 0 ? 1.2 : 0.1,
+    resultClass: i === 0 ? 'positive' : 'negative',
+    cycleLimit: null,
+    positiveAtOrAbove: 0.4,
+    suspectAtOrAbove: null,
+  }));
+}
+
 describe('a new positive barn after a round without the assay', () => {
   it('says the assay was not tested in the previous round, rather than that the barn had none', () => {
     // Two rounds; the antibody ELISA only in the second (as every four weeks beside fortnightly PCR).
@@ -189,18 +208,7 @@ describe('a new positive barn after a round without the assay', () => {
     const site = config.sites[0]!;
     const first = roundRopes('2026-08-03', 6, 'R1');
     const second = roundRopes('2026-08-17', 6, 'R2');
-    const antibody: ResultInput[] = second.results.map((result, i) => ({
-      ...result,
-      id: 2000 + i,
-      assayId: 'PRRSV-AB',
-      measure: 'sp-ratio',
-      ct: null,
-      sp: i === 0 ? 1.2 : 0.1,
-      resultClass: i === 0 ? 'positive' : 'negative',
-      cycleLimit: null,
-      positiveAtOrAbove: 0.4,
-      suspectAtOrAbove: null,
-    }));
+    const antibody = antibodyResults(second.results, 2000);
     // An earlier antibody positive elsewhere makes this one a "new barn" rather than a "first" positive.
     const earlier = roundRopes('2026-07-20', 1, 'R0');
     const earlierAntibody: ResultInput = { ...antibody[0]!, id: 3000, sampleId: earlier.ropes[0]!.sampleId };
@@ -219,18 +227,7 @@ describe('earlier rounds on the cluster review', () => {
     const site = config.sites[0]!;
     const first = roundRopes('2026-08-03', 6, 'R1');
     const second = roundRopes('2026-08-17', 6, 'R2');
-    const antibody: ResultInput[] = second.results.map((result, i) => ({
-      ...result,
-      id: 4000 + i,
-      assayId: 'PRRSV-AB',
-      measure: 'sp-ratio',
-      ct: null,
-      sp: i === 0 ? 1.2 : 0.1,
-      resultClass: i === 0 ? 'positive' : 'negative',
-      cycleLimit: null,
-      positiveAtOrAbove: 0.4,
-      suspectAtOrAbove: null,
-    }));
+    const antibody = antibodyResults(second.results, 4000);
     const rounds = buildSiteRounds(site, [...first.ropes, ...second.ropes], [...first.results, ...second.results, ...antibody]);
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));

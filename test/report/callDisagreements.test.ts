@@ -4,25 +4,15 @@
  * reading and lab call disagree goes back to a person).
  */
 import { describe, expect, it } from 'vitest';
-import type { Receipt } from '../../src/ingest/ingestFile.js';
+import { emptyReceipt, type Receipt } from '../../src/ingest/receipt.js';
 import { receiptText } from '../../src/pipeline.js';
 
 const receipt: Receipt = {
-  file: 'nvdl_results.csv',
-  sha256: 'ab'.repeat(32),
-  receivedAt: '2026-08-06T14:00:00.000Z',
-  status: 'accepted',
+  ...emptyReceipt('nvdl_results.csv', 'ab'.repeat(32), '2026-08-06T14:00:00.000Z'),
   kind: 'results',
   lab: 'northfield',
   encoding: 'utf-8',
   rows: { accepted: 2, rejected: 0, duplicate: 0, superseded: 0 },
-  rejectedRows: [],
-  rejectedRowsNotListed: 0,
-  unresolvedSampleIds: [],
-  unresolvedNotListed: 0,
-  resolvedSampleIds: [],
-  warnings: [],
-  reason: null,
   sites: ['hollow-creek'],
 };
 
