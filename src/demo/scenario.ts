@@ -101,7 +101,8 @@ interface ElisaRow {
 /** The S/P at or above which Northfield calls its PRRSV oral-fluid ELISA positive (its demo profile). */
 const NORTHFIELD_SP_POSITIVE = 0.4;
 
-const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
+/** The header of the (invented) Northfield lab export, as src/demo/config/labs/northfield.yaml names it. */
+export const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
 
 /**
  * Northfield's cells for each row, and its numeric result as a number (null when the cell says

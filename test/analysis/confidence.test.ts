@@ -5,7 +5,7 @@ import { expectClose } from '../helpers/expectClose.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
 describe('what each round proved, per barn and site', () => {
-  it('gives 1/6 for six negative ropes in a barn of 36 pens at one infected pen (FIELD.md check value; common practice)', () => {
+  it('gives 1/6 for six negative ropes in a barn of 36 pens at one infected pen (Cameron & Baldock 1998 hypergeometric check value)', () => {
     const config = smallConfig();
     const site = config.sites[0]!;
     const { ropes, results } = roundRopes('2026-08-03', 6, 'R1');
@@ -19,7 +19,7 @@ describe('what each round proved, per barn and site', () => {
     expect(barn.prevalence).toBeNull();
   });
 
-  it('gives 0.848028 with nine infected pens of 36 and six ropes (FIELD.md check value; common practice)', () => {
+  it('gives 0.848028 with nine infected pens of 36 and six ropes (Cameron & Baldock 1998 hypergeometric check value)', () => {
     const config = smallConfig({ designPrevalence: 0.25 });
     const site = config.sites[0]!;
     const { ropes, results } = roundRopes('2026-08-03', 6, 'R1');

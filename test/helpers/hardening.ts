@@ -8,13 +8,13 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
+import { NORTHFIELD_HEADER } from '../../src/demo/scenario.js';
 import { Store } from '../../src/store/store.js';
 import { compiledBin } from './compiledCli.js';
 
 export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
 
-/** The header of the (invented) Northfield lab export, as src/demo/config/labs/northfield.yaml names it. */
-export const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'] as const;
+export { NORTHFIELD_HEADER };
 export const NORTHFIELD_ASSAYS = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR' } as const;
 
 function csvCell(value: string): string {

@@ -2,8 +2,8 @@
  * Ct to a class. Cutoffs: common practice, no source; the lab's validated cutoffs govern (the
  * demo lab profiles carry them: Northfield PRRSV positive below 36, suspect below 40, 40 cycles;
  * Ostermark PRRSV positive below 35, suspect below 38, 45 cycles). Load bands are a program
- * setting (assays.yaml: high below 25, moderate below 30). Load score L = max(0, C_max - Ct)
- * (FIELD.md, "a load score for continuous statistics").
+ * setting (assays.yaml: high below 25, moderate below 30). Load score L = max(0, C_max - Ct), a load
+ * score for continuous statistics (common practice, no source).
  */
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
@@ -38,7 +38,7 @@ describe('classify: cutoff boundaries', () => {
   });
 
   it('uses the lab profile cutoffs, not the assay defaults: the same Ct reads differently at two labs', () => {
-    // Ct is comparable only within one lab and assay (FIELD.md); 35.5 is positive at one, suspect at the other.
+    // Ct is comparable only within one lab and assay (common practice, no source); 35.5 is positive at one, suspect at the other.
     expect(classify(ct(35.5), nf, prrsv, undefined).resultClass).toBe('positive');
     expect(classify(ct(35.5), om, prrsv, undefined).resultClass).toBe('suspect');
   });
@@ -55,7 +55,7 @@ describe('classify: cutoff boundaries', () => {
 
 describe('classify: internal control', () => {
   it('calls a failed internal control invalid whatever the Ct says, never negative', () => {
-    // Common practice, no source: a failed extraction/internal control means retest (FIELD.md).
+    // Common practice, no source: a failed extraction/internal control means retest.
     for (const reading of [ct(22), ct(37), { kind: 'not-detected', reason: 'blank' } as CtReading]) {
       const result = classify(reading, nf, prrsv, 'FAIL');
       expect(result.resultClass).toBe('invalid');
@@ -82,14 +82,14 @@ describe('classify: load', () => {
   });
 
   it('scores load as the cycle limit minus Ct, per lab', () => {
-    // FIELD.md: L = max(0, C_max - Ct). By hand: 40 - 22 = 18 (Northfield), 45 - 22 = 23 (Ostermark).
+    // Common practice, no source: L = max(0, C_max - Ct). By hand: 40 - 22 = 18 (Northfield), 45 - 22 = 23 (Ostermark).
     expectClose(classify(ct(22), nf, prrsv, undefined).load, 18, { abs: 1e-12 }, 'northfield Ct 22');
     expectClose(classify(ct(22), om, prrsv, undefined).load, 23, { abs: 1e-12 }, 'ostermark Ct 22');
     expectClose(classify(ct(38.5), om, prrsv, undefined).load, 6.5, { abs: 1e-12 }, 'ostermark late Ct 38.5');
   });
 
   it('a tenfold difference in template is about 3.32 cycles at 100% efficiency', () => {
-    // FIELD.md: cycles per tenfold = 1 / log10(1 + E); E = 1 gives log2(10) = 3.3219 (MIQE, Bustin et al. 2009).
+    // Cycles per tenfold = 1 / log10(1 + E); E = 1 gives log2(10) = 3.3219 (MIQE, Bustin et al. 2009).
     // So two ropes whose load scores differ by 3.32 differ about tenfold in nucleic acid.
     const high = classify(ct(24), nf, prrsv, undefined).load;
     const low = classify(ct(24 + 1 / Math.log10(2)), nf, prrsv, undefined).load;

@@ -2,7 +2,7 @@
  * Reading a Ct cell the way each lab writes it. The demo lab profiles (src/demo/config/labs) are
  * the two dialects: Northfield writes "." decimals, words for not detected and a 40-cycle run;
  * Ostermark writes "," decimals, 0 for not detected and a 45-cycle run. How labs write "not
- * detected" (blank, a word, the cycle limit, ">40", 0) is common practice, no source (FIELD.md).
+ * detected" (blank, a word, the cycle limit, ">40", 0) is common practice, no source.
  */
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
@@ -86,7 +86,7 @@ describe('readCt: not detected', () => {
   });
 
   it('reads 0 as not detected when the lab declares it, and refuses it otherwise: never a strong positive', () => {
-    // FIELD.md: "a Ct of 0 is never a strong positive"; some labs publish 0 as "not detected".
+    // A Ct of 0 is never a strong positive (common practice, no source); some labs publish 0 as "not detected".
     expect(readCt('0', ostermark, omPrrsv).kind).toBe('not-detected');
     expect(readCt('0,0', ostermark, omPrrsv).kind).toBe('not-detected');
     for (const raw of ['0', '0.0', '0.00']) {

@@ -69,7 +69,7 @@ describe('buildSiteRounds', () => {
     const a1 = f1.pens.find((pen) => pen.penId === 'A1')!;
     expect(a1.sampleIds).toEqual(['S1', 'S2']);
     expect(a1.results['PRRSV']).toMatchObject({ resultClass: 'positive', sampleId: 'S2', otherSampleIds: ['S1'] });
-    // FIELD.md load score: L = max(0, 40 - 30) = 10.
+    // Load score (common practice, no source): L = max(0, 40 - 30) = 10.
     expectClose(a1.results['PRRSV']!.load, 10, { abs: 1e-12 }, 'load of Ct 30 at a 40-cycle limit');
   });
 

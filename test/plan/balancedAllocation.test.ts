@@ -3,7 +3,7 @@ import { allocateRopesBalanced, type BarnSizing } from '../../src/plan/sizing.js
 import { seededRng } from '../../src/util/random.js';
 import { expectClose } from '../helpers/expectClose.js';
 
-/** Perfect-test hypergeometric detection 1 - C(N-d,n)/C(N,n) (FIELD.md method 1), inline as an independent check. */
+/** Perfect-test hypergeometric detection 1 - C(N-d,n)/C(N,n) (Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form)), inline as an independent check. */
 function hypergeometric(N: number, d: number) {
   return (n: number) => {
     let miss = 1;

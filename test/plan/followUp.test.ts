@@ -48,7 +48,8 @@ describe('follow-up ring', () => {
 /**
  * A detection model that is monotone submodular by construction: scenarios s with weights w_s,
  * each a set of infected pens; P(detect S) = sum_s w_s [1 - (1 - Se)^{|S n I_s|}], a non-negative
- * sum of concave functions of a modular count (FIELD.md method 9, spread-model form).
+ * sum of concave functions of a modular count (spread-model form, by hand; fixed spatial sampling
+ * as in Cochran 1977, Sampling Techniques ch. 8).
  */
 function scenarioModel(rng: Rng, candidates: readonly string[], scenarios: number, se: number) {
   const sets = Array.from({ length: scenarios }, () => new Set(candidates.filter(() => rng() < 0.35)));

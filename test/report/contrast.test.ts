@@ -50,7 +50,7 @@ describe('the load ramp', () => {
   });
 
   it('maps load to steps of 5 cycles, with not detected on its own step', () => {
-    // Load L = C_max - Ct (FIELD.md); with C_max = 40: Ct 38 -> L 2 -> step 1; Ct 32 -> 8 -> 2; Ct 27 -> 13 -> 3; Ct 22 -> 18 -> 4.
+    // Load L = C_max - Ct (common practice, no source); with C_max = 40: Ct 38 -> L 2 -> step 1; Ct 32 -> 8 -> 2; Ct 27 -> 13 -> 3; Ct 22 -> 18 -> 4.
     expect([0, 2, 5, 5.01, 8, 10, 13, 15, 18, 40].map(loadStep)).toEqual([0, 1, 1, 2, 2, 2, 3, 3, 4, 4]);
     expect(() => loadStep(-1)).toThrow('`load` must be a finite number >= 0, got -1');
     expect(() => loadStep(Number.NaN)).toThrow(RangeError);

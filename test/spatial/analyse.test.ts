@@ -62,8 +62,9 @@ describe('barn-round and site-round analysis', () => {
     expect(r.scan!.mostLikely).toBeNull();
   });
 
-  it('uses the FIELD.md hand values when asked for fence contacts on a fully roped row', () => {
-    // Row of six pens roped, positives 2 and 3, fence weights: BB = 1, E(BB) = 1/3, exact p = 5/15 (FIELD.md).
+  it('uses the hand-derived values when asked for fence contacts on a fully roped row', () => {
+    // Row of six pens roped, positives 2 and 3, fence weights: BB = 1, E(BB) = 1/3, exact p = 5/15
+    // (Cliff & Ord 1981, Spatial Processes (non-free sampling moments); exact p by enumeration of the C(6,2) placements).
     const row: BarnLayout = { ...layout, rows: 1, pensPerRow: 6, rowLabels: ['A'], empty: [], outOfUse: [] };
     const sampled = [1, 2, 3, 4, 5, 6].map((p) => ({ id: `A${p}`, positive: p === 2 || p === 3, load: p === 2 || p === 3 ? 1 : 0 }));
     const r = analyseBarnRound({ barn: 'R', layout: row, sampled, options: { seed: 1, weights: { kind: 'contact', convention: 'fence' }, detection: false } });

@@ -7,7 +7,7 @@ const row6 = (style: 'binary' | 'row') => knnWeights([0, 1, 2, 3, 4, 5].map((x) 
 
 describe('local Gi*', () => {
   it('gives 1.581139 for pen 2 of x = (0,1,1,0,0,0) on a fence row of six', () => {
-    // FIELD.md check value (method 8, by hand): window {1,2,3} with w_ii = 1: sum = 2, W = 3,
+    // Getis & Ord 1992; Ord & Getis 1995, by hand: window {1,2,3} with w_ii = 1: sum = 2, W = 3,
     // mean 1/3, s^2 = 2/6 - 1/9 = 2/9; (2 - 1) / (sqrt(2/9) sqrt((6*3 - 9)/5)) = sqrt(2.5) = 1.581139.
     const gi = localGiStar(row6('binary'), [0, 1, 1, 0, 0, 0]);
     expectClose(gi[1]!.z!, 1.581139, { rel: 1e-6 }, 'Gi* pen 2');

@@ -44,13 +44,13 @@ function labels(n: number, positives: readonly number[]): boolean[] {
 
 describe('join counts', () => {
   it('counts BB=1, BW=2, WW=2 on a row of six pens with positives at pens 2 and 3', () => {
-    // FIELD.md check value (method 8, by hand): fence joins 1-2, 2-3, 3-4, 4-5, 5-6.
+    // By hand (Cliff & Ord 1981, Spatial Processes): fence joins 1-2, 2-3, 3-4, 4-5, 5-6.
     const jc = joinCounts(row6, labels(6, [1, 2]));
     expect(jc).toEqual({ bb: 1, bw: 2, ww: 2, joins: 5 });
   });
 
   it('gives E(BB)=1/3, Var(BB)=2/9 and exact P(BB>=1)=5/15 under non-free sampling for that row', () => {
-    // FIELD.md check value. By hand: E = 1/2 S0 n1(n1-1)/(n(n-1)) = 1/2 * 10 * 2/30 = 1/3;
+    // Cliff & Ord 1981, Spatial Processes (non-free sampling moments). By hand: E = 1/2 S0 n1(n1-1)/(n(n-1)) = 1/2 * 10 * 2/30 = 1/3;
     // with n1 = 2 only the S1 term survives: Var = 1/4 * 20 * 2/30 - 1/9 = 1/3 - 1/9 = 2/9.
     // BB >= 1 exactly when the two positives share a fence: 5 adjacent pairs of C(6,2) = 15 placements.
     const t = joinCountTest(row6, labels(6, [1, 2]), { rng: seededRng(1), permutations: 99 });
@@ -62,7 +62,7 @@ describe('join counts', () => {
   });
 
   it('gives BB=10, BW=4, WW=10, E(BB)=5.6 and exact P(BB>=10)=22/12870 on a 4x4 rook lattice with cells 8-15 positive', () => {
-    // FIELD.md check value (method 8; enumeration of C(16,8) = 12870 placements).
+    // Cliff & Ord 1981, Spatial Processes (non-free sampling moments); exact p by enumeration of the C(16,8) = 12870 placements.
     const w = lattice(4, 4);
     const positive = labels(16, [8, 9, 10, 11, 12, 13, 14, 15]);
     const t = joinCountTest(w, positive, { rng: seededRng(1), permutations: 99 });

@@ -26,7 +26,7 @@ function grid(r: number, c: number): SpatialWeights {
 
 describe("Moran's I", () => {
   it('gives I = 0.2 and Var_normality = 0.128 for x = (0,1,1,0,0,0) on a fence row of six', () => {
-    // FIELD.md check values (method 8, by hand): z = x - 1/3, sum z^2 = 4/3, sum_ij w z z = 4/9,
+    // Moran 1950; Cliff & Ord 1981 (moments), by hand: z = x - 1/3, sum z^2 = 4/3, sum_ij w z z = 4/9,
     // I = (6/10)(4/9)/(4/3) = 0.2; Var_N = (36*20 - 6*72 + 3*100)/(35*100) - 1/25 = 0.168 - 0.04 = 0.128.
     const m = moranTest(row6, x6, { rng: seededRng(1), permutations: 0 });
     expectClose(m.I!, 0.2, { rel: 1e-12 }, 'I row of 6');

