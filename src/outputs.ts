@@ -7,7 +7,6 @@
  * shows, so a run that finds outputs behind the store (a crash or a full disk between commit and
  * outputs) rebuilds them.
  */
-import { format } from 'date-fns';
 import path from 'node:path';
 import { siteConfidence, type RoundConfidence } from './analysis/confidence.js';
 import { planNextRound, type NextRoundPlan } from './analysis/nextRound.js';
@@ -15,6 +14,7 @@ import { summariseSite, type RoundSummary } from './analysis/roundSummary.js';
 import { OutbreakCache, siteSpatial, type RoundSpatial } from './analysis/spatialRound.js';
 import type { Site } from './config/types.js';
 import { buildSiteRounds, type SiteRound } from './interpret/roundModel.js';
+import { clockDay } from './interpret/rounds.js';
 import { clustersCsv } from './report/clustersCsv.js';
 import { removeStaleFolders, removeStrayTemps, StagedOutputs, type OutputWriter } from './report/files.js';
 import { nextRoundCsv, nextRoundJson } from './report/nextRoundFiles.js';
@@ -41,10 +41,15 @@ export interface AnalyseOptions {
 /** Builds a site's analysis from the store (no writing). */
 export function analyseSite(ws: Workspace, site: Site, results: readonly StoredResult[], cache: OutbreakCache, options: AnalyseOptions = {}): SiteAnalysis {
   const ropes = ws.store.ropes(site.id);
-  const rounds = buildSiteRounds(site, ropes, results, ws.store.plannedWithoutResults(site.id), {
-    replaced: ws.store.replacedReports(site.id),
-    mistyped: ws.store.mistypedRefusals(site.id),
-  });
+  const today = clockDay(ws.now());
+  const rounds = buildSiteRounds(
+    site,
+    ropes,
+    results,
+    ws.store.plannedWithoutResults(site.id),
+    { replaced: ws.store.replacedReports(site.id), mistyped: ws.store.mistypedRefusals(site.id) },
+    today,
+  );
   const confidence = siteConfidence(site, rounds);
   const summaries = summariseSite(ws.config, site, rounds, confidence);
   const spatial = siteSpatial(site, rounds, confidence, ws.config.analysis, cache);
@@ -62,7 +67,7 @@ export function analyseSite(ws: Workspace, site: Site, results: readonly StoredR
     spatial,
     settings: ws.config.analysis,
     cache,
-    today: format(ws.now(), 'yyyy-MM-dd'),
+    today,
     existingIds,
     measureOf: (assayId) => ws.config.assayById.get(assayId)?.measure ?? 'ct',
     ...(options.budget !== undefined ? { budget: options.budget } : {}),

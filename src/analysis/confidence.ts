@@ -161,11 +161,15 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
     barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId))),
     sites: [],
   }));
+  // A round awaiting its results has proved nothing yet, nor failed to: it has no detection
+  // figure and stays out of the freedom chain until results come back (or their grace period
+  // ends and it counts as a round with missing ropes).
+  const counted = rounds.map((round, index) => ({ round, index })).filter(({ round }) => round.state !== 'awaiting-results');
   for (const assayId of assays) {
-    const freedomRounds = rounds.map((round, index) => {
+    const freedomRounds = counted.map(({ round, index }, position) => {
       const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
       const sensitivity = barns.length === 0 ? 0 : siteDetection(barns.map((barn) => barn.detectionConfidence));
-      const previous = rounds[index - 1];
+      const previous = counted[position - 1]?.round;
       return {
         sensitivity,
         positive: barns.some((barn) => barn.positives > 0),
@@ -178,9 +182,10 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
       { prior: program.priorFreedom, introduction: program.introductionPerInterval, order: 'update-then-discount', intervalDays: program.intervalDays },
       freedomRounds,
     );
-    freedomRounds.forEach((round, index) => {
-      const step = freedom.rounds[index]!;
-      const previousStep = freedom.rounds[index - 1];
+    freedomRounds.forEach((round, position) => {
+      const step = freedom.rounds[position]!;
+      const previousStep = freedom.rounds[position - 1];
+      const index = counted[position]!.index;
       perRound[index]!.sites.push({
         assayId,
         measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',

@@ -180,8 +180,19 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const last = rounds.at(-1);
   const roundNumber = (last?.number ?? 0) + 1;
   const due = last ? roundDue(last.startOn, program.intervalDays, input.today) : { dueDate: input.today, daysUntilDue: 0, overdue: false, daysOverdue: 0 };
-  const measureOf = (assayId: string): Measure => last?.measures[assayId] ?? input.measureOf?.(assayId) ?? 'ct';
-  const candidates = last?.assays.length ? last.assays : Object.keys(program.ropeSensitivity.byAssay);
+  // Follow-ups and retests come from the last round with results: a round whose ropes are out
+  // and whose results are not yet due (or never came) has nothing to follow up. The freedom
+  // forecast starts from the last round in the freedom chain (an awaiting round is not in it).
+  const lastIndexWhere = (keep: (round: SiteRound) => boolean) => {
+    let index = rounds.length - 1;
+    while (index >= 0 && !keep(rounds[index]!)) index--;
+    return index;
+  };
+  const basisIndex = lastIndexWhere((round) => round.barns.some((barn) => barn.ropesReturned > 0));
+  const freedomIndex = lastIndexWhere((round) => round.state !== 'awaiting-results');
+  const basis = basisIndex < 0 ? undefined : rounds[basisIndex];
+  const measureOf = (assayId: string): Measure => basis?.measures[assayId] ?? input.measureOf?.(assayId) ?? 'ct';
+  const candidates = basis?.assays.length ? basis.assays : Object.keys(program.ropeSensitivity.byAssay);
   // The plan is for finding virus: PCR assays size it, and their positives draw follow-up ropes.
   // An antibody assay sizes it only when no PCR assay is tested; an antibody positive pen
   // without a PCR positive gets a retest rope (its rope is tested by PCR: common practice, no source).
@@ -231,12 +242,18 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const pensWhere = (barnId: string, key: 'positivePens' | 'suspectPens' | 'invalidPens', measure?: Measure) =>
     [
       ...new Set(
-        Object.entries(last?.barns.find((barn) => barn.barnId === barnId)?.byAssay ?? {})
+        Object.entries(basis?.barns.find((barn) => barn.barnId === barnId)?.byAssay ?? {})
           .filter(([assayId]) => measure === undefined || measureOf(assayId) === measure)
           .flatMap(([, tally]) => tally[key]),
       ),
     ];
-  const lastSpatial = input.spatial.at(-1);
+  const lastSpatial = basisIndex < 0 ? undefined : input.spatial[basisIndex];
+  if (last && basis !== last) {
+    notes.push(
+      (last.state === 'awaiting-results' ? `Round ${last.number} is awaiting its results (due by ${last.resultsDueOn}): ` : `Round ${last.number} brought no result back: `) +
+        (basis ? `follow-up and retest ropes come from round ${basis.number}, the last round with results.` : 'no round has results to follow up yet.'),
+    );
+  }
   const clustersOf = (barnId: string) =>
     (lastSpatial?.assays ?? [])
       .filter((assay) => measureOf(assay.assayId) === 'ct')
@@ -337,7 +354,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
 
   const siteDetectionIfNegative = siteDetection(barns.map((barn) => barn.sizing.plannedSpreadModel ?? barn.sizing.plannedHypergeometric));
   let freedom: NextRoundPlan['freedom'] = null;
-  const lastConfidence = input.confidence.at(-1);
+  const lastConfidence = freedomIndex < 0 ? undefined : input.confidence[freedomIndex];
   const freedomAssay = models[0]?.assayId;
   const lastSite = lastConfidence?.sites.find((entry) => entry.assayId === freedomAssay);
   if (lastSite && freedomAssay && lastSite.freedomReset) {

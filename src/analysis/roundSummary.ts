@@ -16,6 +16,7 @@ import {
   type RoundReplacement,
   type SiteRound,
 } from '../interpret/roundModel.js';
+import type { RoundState } from '../interpret/rounds.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
 import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
 
@@ -84,8 +85,10 @@ export interface BarnSummary {
   pensInUse: number;
   ropesHung: number;
   ropesReturned: number;
-  /** Every rope without a result stored, including those in `mistyped`. */
+  /** Every rope without a result stored once the round is closed, including those in `mistyped`. */
   missingSampleIds: string[];
+  /** Before the round is closed: ropes out whose results are not yet due (not missing). */
+  awaitingSampleIds: string[];
   /** Ropes without a result for which a row came back under a mistyped sample ID (refused, waiting for a person to confirm the ID). */
   mistyped: MistypedRope[];
   sampledPens: string[];
@@ -97,7 +100,17 @@ export interface BarnSummary {
 export interface RoundSummary {
   schema: typeof SUMMARY_SCHEMA;
   site: { id: string; name: string };
-  round: { number: number; id: string; startOn: string; endOn: string; roundsOnSite: number };
+  round: {
+    number: number;
+    id: string;
+    startOn: string;
+    endOn: string;
+    roundsOnSite: number;
+    /** `awaiting-results` (no detection figure yet), `partial`, or `complete` (closed: ropes still without a result are missing). */
+    state: RoundState;
+    /** The last day results are awaited (last rope date plus the program's `resultGraceDays`). */
+    resultsDueOn: string;
+  };
   program: {
     designPrevalence: string;
     targetConfidence: number;
@@ -214,6 +227,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         ropesHung: barnRound.ropesHung,
         ropesReturned: barnRound.ropesReturned,
         missingSampleIds: barnRound.missingSampleIds,
+        awaitingSampleIds: barnRound.awaitingSampleIds,
         mistyped: barnRound.mistyped,
         sampledPens: barnRound.pens.map((pen) => pen.penId),
         assays: assayIds.map((assayId) => {
@@ -262,7 +276,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
     return {
       schema: SUMMARY_SCHEMA,
       site: { id: site.id, name: site.name },
-      round: { number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, roundsOnSite: rounds.length },
+      round: { number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, roundsOnSite: rounds.length, state: round.state, resultsDueOn: round.resultsDueOn },
       program: {
         designPrevalence: describeDesignPrevalence(site),
         targetConfidence: site.program.targetConfidence,

@@ -6,6 +6,7 @@
  * (`npm run bench -- cli`).
  */
 export { buildSiteRounds } from '../interpret/roundModel.js';
+export { clockDay } from '../interpret/rounds.js';
 export { OutputError, regenerateOutputs } from '../outputs.js';
 export { removeStrayTemps } from '../report/files.js';
 export { planText } from '../report/planText.js';

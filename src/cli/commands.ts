@@ -124,12 +124,12 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   addCommonOptions(
     program.command('status').description('what the store holds: files, rows, unresolved samples, sites and their last round').option('--json', 'print as JSON'),
   ).action(async (options: CommonOptions) => {
-    const { buildSiteRounds, withWorkspace } = await commandModules();
+    const { buildSiteRounds, clockDay, withWorkspace } = await commandModules();
     withWorkspace(io, options, (ws) => {
       const counts = ws.store.counts();
       const unresolved = ws.store.unresolvedSampleIds();
       const sites = ws.config.sites.map((site) => {
-        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), ws.store.currentResults(site.id), ws.store.plannedWithoutResults(site.id));
+        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), ws.store.currentResults(site.id), ws.store.plannedWithoutResults(site.id), {}, clockDay(ws.now()));
         const last = rounds.at(-1);
         const planned = ws.store.plannedRopes(site.id).filter((rope) => rope.afterRound === (last?.number ?? 0));
         return {

@@ -133,6 +133,9 @@ export function perAssayValue(value: PerAssayValue, assayId: string, ageGroup?: 
   return (ageGroup !== undefined ? entry.byAgeGroup[ageGroup] : undefined) ?? entry.default ?? value.default;
 }
 
+/** Days after a round's last rope date until its results are due, when the program does not say. */
+export const DEFAULT_RESULT_GRACE_DAYS = 7;
+
 function normaliseProgram(raw: z.output<typeof programSchema>): Program {
   return Object.freeze({
     designPrevalence: normaliseDesignPrevalence(raw.designPrevalence),
@@ -147,6 +150,9 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     followUpRadius: raw.followUpRadius ?? 1.5,
     followUpRopes: raw.followUpRopes,
     sizeFor: raw.sizeFor ?? 'barn',
+    // Shipping to the lab and a PCR run take a few days (common practice, no source); the
+    // program sets its own.
+    resultGraceDays: raw.resultGraceDays ?? DEFAULT_RESULT_GRACE_DAYS,
   });
 }
 

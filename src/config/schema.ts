@@ -52,6 +52,8 @@ export const programSchema = z
     followUpRopes: z.number().int().min(0).optional(),
     /** Size routine ropes so that each barn reaches the target, or so that the site does across barns. */
     sizeFor: z.enum(['barn', 'site']).optional(),
+    /** Days after a round's last rope date within which its results are still awaited (ropes are not missing yet). */
+    resultGraceDays: z.number().int().min(0).max(120).optional(),
   })
   .strict();
 

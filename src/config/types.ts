@@ -23,6 +23,8 @@ export interface Program {
   followUpRadius: number;
   followUpRopes: number | undefined;
   sizeFor: 'barn' | 'site';
+  /** Days after a round's last rope date until its results are due: before then a rope without a result is awaited, not missing. */
+  resultGraceDays: number;
 }
 
 export interface AnalysisSettings {

@@ -4,7 +4,7 @@
  */
 import type { Barn, Measure, Site } from '../config/types.js';
 import { CLASS_SEVERITY, type ResultClass } from './classify.js';
-import { formRounds, type DatedRope } from './rounds.js';
+import { formRounds, resultsDueOn, roundForDueDate, roundState, type DatedRope, type RoundState } from './rounds.js';
 
 export interface ResultInput {
   id: number;
@@ -94,13 +94,20 @@ export interface BarnRound {
   barnId: string;
   /** Pens in use: the survey population N. */
   pensInUse: number;
+  /**
+   * Ropes on sheets or plans: those placed in a pen of the layout, and the ropes planned for the
+   * round (by due date) that no sheet or result placed and whose pen no other rope covered.
+   * Always `ropesReturned` plus the missing (or, before the round is closed, the awaited) ropes.
+   */
   ropesHung: number;
   ropesReturned: number;
-  /** Ropes hung (or planned) with no result back. */
+  /** Ropes hung (or planned) with no result back, once the round is closed (`complete`); empty before. */
   missingSampleIds: string[];
   /** Of those, ropes planned for this round whose pen no other rope covered. */
   plannedMissing: string[];
-  /** Of the missing ropes, those for which a row came back under a mistyped sample ID and was refused. */
+  /** Before the round is closed: ropes out (hung or planned) whose results are not yet due. Empty once closed. */
+  awaitingSampleIds: string[];
+  /** Of the ropes without a result (missing or awaited), those for which a row came back under a mistyped sample ID and was refused. */
   mistyped: MistypedRope[];
   pens: PenRound[];
   byAssay: Record<string, AssayTally>;
@@ -162,6 +169,10 @@ export interface SiteRound {
   id: string;
   startOn: string;
   endOn: string;
+  /** Awaiting results, partial, or complete (closed): see RoundState. */
+  state: RoundState;
+  /** The last day results are awaited: the last rope date plus the program's `resultGraceDays`. */
+  resultsDueOn: string;
   assays: string[];
   /** The measure of each assay of the round (Ct unless its results say S/P). */
   measures: Record<string, Measure>;
@@ -233,13 +244,16 @@ export interface RopeInput extends DatedRope {
   source: string;
 }
 
-/** A planned rope with no result: missing in the round it was planned for, unless its pen was roped anyway. */
+/**
+ * A planned rope with no result: missing in the round it was planned for, unless its pen was
+ * roped anyway. Its round is the one whose date window holds its due date (roundForDueDate).
+ */
 export interface PlannedInput {
   sampleId: string;
   barnId: string;
   penId: string;
-  /** The plan was made after this round number; it is for the next one. */
-  afterRound: number;
+  /** The date the plan gave it (yyyy-MM-dd). */
+  dueOn: string;
 }
 
 /** A pen's index in its barn's layout order (pens are listed row by row along the alley). */
@@ -353,6 +367,8 @@ function strongerWithinClass(candidate: PenAssayResult, existing: PenAssayResult
  * Builds every round of a site.
  * @param ropes the site's ropes with locations (sheets, sample patterns, returned planned ropes)
  * @param results current (not superseded) results, any site; those whose sample is not a rope here are ignored
+ * @param today the clock's date (yyyy-MM-dd): a round whose results are not yet due awaits them
+ *   and has no missing ropes; without it every round is judged closed
  */
 export function buildSiteRounds(
   site: Site,
@@ -360,6 +376,7 @@ export function buildSiteRounds(
   results: readonly ResultInput[],
   plannedWithoutResults: readonly PlannedInput[] = [],
   notes: RoundNotesInput = {},
+  today?: string,
 ): SiteRound[] {
   const resultsBySample = new Map<string, ResultInput[]>();
   for (const result of results) {
@@ -369,8 +386,16 @@ export function buildSiteRounds(
   }
   const replacedBySample = groupBy(notes.replaced ?? [], (entry) => entry.sampleId);
   const mistypedByMeant = groupBy(notes.mistyped ?? [], (entry) => entry.suggestedId);
-  const rounds = formRounds(site.id, ropes.filter((rope) => rope.siteId === site.id), site.program.roundWindowDays);
-  return rounds.map((round) => {
+  const siteRopes = ropes.filter((rope) => rope.siteId === site.id);
+  const rounds = formRounds(site.id, siteRopes, site.program.roundWindowDays);
+  // A planned rope that a sheet or a result placed is a rope of its own round already.
+  const placed = new Set(siteRopes.map((rope) => rope.sampleId));
+  const plannedByRound = groupBy(
+    plannedWithoutResults.filter((rope) => !placed.has(rope.sampleId)),
+    (rope) => String(roundForDueDate(rope.dueOn, rounds, site.program.roundWindowDays)),
+  );
+  return rounds.map((round, roundIndex) => {
+    const plannedHere = plannedByRound.get(String(roundIndex)) ?? [];
     const assays = new Set<string>();
     const measures: Record<string, Measure> = {};
     const cutoffs = new Map<string, RoundCutoff>();
@@ -386,9 +411,11 @@ export function buildSiteRounds(
       const missingPen = new Map<string, string>();
       const barnReplaced: RoundReplacement[] = [];
       let returned = 0;
+      let hung = 0;
       for (const rope of barnRopes) {
         const pen = barn.penById.get(rope.penId.toUpperCase());
         if (!pen) continue;
+        hung++;
         let penRound = pens.get(pen.id);
         if (!penRound) {
           penRound = { penId: pen.id, rowLabel: pen.rowLabel, position: pen.position, sampleIds: [], returned: false, results: {} };
@@ -481,7 +508,7 @@ export function buildSiteRounds(
           }
         }
       }
-      const plannedMissingRopes = plannedWithoutResults.filter((rope) => rope.afterRound === round.number - 1 && rope.barnId === barn.id && !pens.get(rope.penId)?.returned);
+      const plannedMissingRopes = plannedHere.filter((rope) => rope.barnId === barn.id && !pens.get(barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId)?.returned);
       const plannedMissing = plannedMissingRopes.map((rope) => rope.sampleId);
       for (const rope of plannedMissingRopes) missingPen.set(rope.sampleId, barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId);
       missing.push(...plannedMissing);
@@ -528,10 +555,11 @@ export function buildSiteRounds(
       return {
         barnId: barn.id,
         pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
-        ropesHung: barnRopes.length,
+        ropesHung: hung + plannedMissing.length,
         ropesReturned: returned,
         missingSampleIds: missing.sort(),
         plannedMissing: plannedMissing.sort(),
+        awaitingSampleIds: [],
         mistyped,
         pens: penList,
         byAssay,
@@ -539,6 +567,21 @@ export function buildSiteRounds(
         sources: sortedSources(barnSources).map(({ barnIds: _barns, ...source }) => source),
       };
     });
+    const dueOn = resultsDueOn(round.endOn, site.program.resultGraceDays);
+    const state = roundState(
+      barns.reduce((sum, barn) => sum + barn.ropesHung, 0),
+      barns.reduce((sum, barn) => sum + barn.ropesReturned, 0),
+      dueOn,
+      today,
+    );
+    // Before the round is closed a rope without a result is awaited, not missing.
+    if (state !== 'complete') {
+      for (const barn of barns) {
+        barn.awaitingSampleIds = barn.missingSampleIds;
+        barn.missingSampleIds = [];
+        barn.plannedMissing = [];
+      }
+    }
     const assayList = [...assays].sort();
     for (const barn of barns) for (const assay of assayList) barn.byAssay[assay] ??= emptyTally();
     const sources = new Map<string, SourceDraft>();
@@ -549,6 +592,8 @@ export function buildSiteRounds(
       id: round.id,
       startOn: round.startOn,
       endOn: round.endOn,
+      state,
+      resultsDueOn: dueOn,
       assays: assayList,
       measures: Object.fromEntries(assayList.map((assayId) => [assayId, measures[assayId] ?? 'ct'])),
       barns,

@@ -63,6 +63,8 @@ export const SUMMARY_COLUMNS = [
   'corrections',
   'refused_mistyped_id',
   'likely_meant_id',
+  'round_state',
+  'results_due_on',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -118,8 +120,24 @@ function mistypedCells(ropes: readonly MistypedRope[]): Row {
 }
 
 export function summaryCsv(summary: RoundSummary): string {
-  const base: Row = { site: summary.site.id, round: summary.round.number, round_start: summary.round.startOn, round_end: summary.round.endOn };
+  const base: Row = {
+    site: summary.site.id,
+    round: summary.round.number,
+    round_start: summary.round.startOn,
+    round_end: summary.round.endOn,
+    round_state: summary.round.state,
+    results_due_on: summary.round.resultsDueOn,
+  };
   const rows: Row[] = [];
+  // A round with no result back has no assay to give a row: one site row and one row per barn,
+  // without an assay, say how many ropes are out (and, once closed, which are missing).
+  if (summary.assays.length === 0) {
+    const hung = summary.barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
+    rows.push({ ...base, level: 'site', pens_in_use: summary.barns.reduce((sum, barn) => sum + barn.pensInUse, 0), ropes_hung: hung, ropes_returned: 0, missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' ') });
+    for (const barn of summary.barns) {
+      rows.push({ ...base, level: 'barn', barn: barn.barnId, pens_in_use: barn.pensInUse, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, missing_sample_ids: simplyMissing(barn).join(' ') });
+    }
+  }
   for (const assay of summary.assays) {
     const totals = summary.barns.reduce(
       (sum, barn) => {

@@ -45,7 +45,7 @@ const replaced = (sampleId: string, assayId: string, kind: string, before: Retur
   replaced: before,
   inPlace: after,
 });
-const planned = (sampleId: string, barnId: string, penId: string, afterRound: number): PlannedInput => ({ sampleId, barnId, penId, afterRound });
+const planned = (sampleId: string, barnId: string, penId: string, dueOn: string): PlannedInput => ({ sampleId, barnId, penId, dueOn });
 const refused = (written: string, suggestedId: string, line: number): MistypedInput => ({ written, suggestedId, fileName: 'lab.csv', line });
 
 describe('buildSiteRounds with replaced reports', () => {
@@ -85,7 +85,7 @@ describe('buildSiteRounds with results refused under a mistyped ID', () => {
   // Round 1 from sheets; the plan after round 1 is for round 2 (F1 A3, A4, A5; F2 pen 01).
   const ropes = [rope('S1', 'F1', 'A1', '2026-08-03'), rope('S2', 'F1', 'A2', '2026-08-17'), rope('P2', 'F1', 'A4', '2026-08-17')];
   const results = [result('S1', 'negative', null), result('S2', 'negative', null), result('P2', 'negative', null)];
-  const plannedWithoutResults = [planned('P1', 'F1', 'a3', 1), planned('P3', 'F1', 'A5', 1), planned('Q1', 'F2', '01', 1), planned('LATER', 'F1', 'A6', 2)];
+  const plannedWithoutResults = [planned('P1', 'F1', 'a3', '2026-08-17'), planned('P3', 'F1', 'A5', '2026-08-17'), planned('Q1', 'F2', '01', '2026-08-17'), planned('LATER', 'F1', 'A6', '2026-08-31')];
   const mistyped = [
     refused('P1X', 'P1', 3),
     refused('p1x ', 'P1', 4), // the same tube's second assay, written another way

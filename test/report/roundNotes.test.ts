@@ -74,8 +74,8 @@ function summaries(notes: RoundNotesInput, extraResults: ResultInput[] = []): Ro
     { sampleId: 'S1', siteId: site.id, barnId: 'F1', penId: 'B2', hungOn: '2026-08-03', source: 'sheet' },
   ];
   const planned = [
-    { sampleId: 'P1', barnId: 'F1', penId: 'A3', afterRound: 0 },
-    { sampleId: 'P3', barnId: 'F1', penId: 'A5', afterRound: 0 },
+    { sampleId: 'P1', barnId: 'F1', penId: 'A3', dueOn: '2026-08-03' },
+    { sampleId: 'P3', barnId: 'F1', penId: 'A5', dueOn: '2026-08-03' },
   ];
   const rounds = buildSiteRounds(site, ropes, [result('P0', 'negative', null), result('S1', 'positive', 30), ...extraResults], planned, notes);
   return summariseSite(config, site, rounds, siteConfidence(site, rounds));
@@ -151,8 +151,10 @@ describe('a rope whose result was refused under a mistyped ID', () => {
   it('is named in an alert that says what to do, and left out of the missing-rope alert', () => {
     const alerts = roundAlerts([summary], [], 0);
     const missing = alerts.filter((alert) => alert.kind === 'missing-ropes');
-    // By hand: P3 alone is missing; P0 and S1 came back of the 2 ropes hung.
-    expect(missing.map((alert) => alert.message)).toEqual(['1 rope in barn F1 without a result (P3): 2 of 2 hung ropes came back; missing ropes lower the detection confidence.']);
+    // By hand: P3 alone is missing; P0 and S1 came back, P1 under a mistyped ID, of the 4 ropes on the sheet and the plan.
+    expect(missing.map((alert) => alert.message)).toEqual([
+      '1 rope in barn F1 without a result (P3): 2 of 4 ropes on sheets or plans came back and 1 under a mistyped ID; missing ropes lower the detection confidence.',
+    ]);
     const mistyped = alerts.filter((alert) => alert.kind === 'mistyped-id');
     expect(mistyped).toHaveLength(1);
     expect(mistyped[0]).toMatchObject({ barnId: 'F1' });
@@ -165,7 +167,8 @@ describe('a rope whose result was refused under a mistyped ID', () => {
   it('without the refusals, is a missing rope like any other (as before refusals were shown)', () => {
     const plain = summaries({}).at(-1)!;
     expect(roundAlerts([plain], [], 0).filter((alert) => alert.kind === 'missing-ropes').map((alert) => alert.message)).toEqual([
-      '2 ropes in barn F1 without a result (P1, P3): 2 of 2 hung ropes came back; missing ropes lower the detection confidence.',
+      // By hand: P0 and S1 came back of the 4 ropes on the sheet (P0, S1) and the plan (P1, P3).
+      '2 ropes in barn F1 without a result (P1, P3): 2 of 4 ropes on sheets or plans came back; missing ropes lower the detection confidence.',
     ]);
     expect(page(plain)).not.toContain('mistyped');
   });
@@ -198,7 +201,7 @@ describe('summary.csv columns', () => {
   it('adds the three new columns at the end, after the existing ones', () => {
     // README: columns are stable and new ones are added at the end (common practice, no source).
     expect(SUMMARY_COLUMNS.indexOf('suspect_at_or_above')).toBe(51);
-    expect(SUMMARY_COLUMNS.slice(52)).toEqual(['corrections', 'refused_mistyped_id', 'likely_meant_id']);
+    expect(SUMMARY_COLUMNS.slice(52, 55)).toEqual(['corrections', 'refused_mistyped_id', 'likely_meant_id']);
   });
 });
 

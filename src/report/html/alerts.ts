@@ -153,7 +153,10 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         kind: 'missing-ropes',
         assayId: null,
         barnId: barn.barnId,
-        message: `${plural(missing.length, 'rope')} in barn ${barn.barnId} without a result (${missing.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} hung ropes came back; missing ropes lower the detection confidence.`,
+        // ropesHung counts the planned ropes too: returned + missing + mistyped = hung, so the numbers add up.
+        message:
+          `${plural(missing.length, 'rope')} in barn ${barn.barnId} without a result (${missing.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} ropes on sheets or plans came back` +
+          `${barn.mistyped.length > 0 ? ` and ${barn.mistyped.length} under a mistyped ID` : ''}; missing ropes lower the detection confidence.`,
       });
     }
   }

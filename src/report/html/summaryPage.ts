@@ -25,6 +25,22 @@ function alertsBlock(alerts: readonly PageAlert[]): string {
   return `<div class="alerts" data-alerts="${alerts.length}"><strong>Needs attention (${alerts.length})</strong><ul>${alerts.map((alert) => `<li data-alert="${alert.kind}">${escapeHtml(alert.message)}</li>`).join('')}</ul></div>`;
 }
 
+/**
+ * Where the round stands when it is not closed: its ropes are out and the results not yet due,
+ * so nothing is missing and no detection figure is given yet.
+ */
+function stateBlock(summary: RoundSummary): string {
+  const { state, resultsDueOn } = summary.round;
+  if (state === 'complete') return '';
+  const hung = summary.barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
+  const returned = summary.barns.reduce((sum, barn) => sum + barn.ropesReturned, 0);
+  const text =
+    state === 'awaiting-results'
+      ? `Awaiting results, due by ${escapeHtml(resultsDueOn)}: ${count(hung, 'rope')} out, none back yet. No detection figure until results come back; a rope becomes missing only after that date.`
+      : `Partial: ${returned} of ${count(hung, 'rope')} back; the others are awaited until ${escapeHtml(resultsDueOn)} and become missing only after that date. The figures below count the results back so far.`;
+  return `<p class="explain" data-round-state="${state}"><strong>${text}</strong></p>`;
+}
+
 function siteTable(summary: RoundSummary): string {
   const nameOf = (id: string) => summary.assays.find((assay) => assay.id === id)?.name ?? id;
   const rows = summary.assays
@@ -308,6 +324,8 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
   const missingIds = simplyMissing(barn);
   const missing = missingIds.length;
   const mistyped = barn.mistyped.length;
+  const refused = new Set(barn.mistyped.map((rope) => rope.sampleId));
+  const awaiting = barn.awaitingSampleIds.filter((sampleId) => !refused.has(sampleId)).length;
   const rows = barn.assays
     .map((tally) => {
       const c = tally.confidence;
@@ -337,7 +355,11 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
   return (
     `<section class="barn" data-barn="${escapeHtml(barn.barnId)}"><h3>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})</h3>` +
     `<p>${count(barn.pensInUse, 'pen')} in use; ${count(barn.ropesHung, 'rope')} hung, ${barn.ropesReturned} returned` +
-    (missing > 0 ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(missingIds.join(', '))}` : '; none missing') +
+    (missing > 0
+      ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(missingIds.join(', '))}`
+      : awaiting > 0
+        ? `; ${awaiting} awaiting results, due by ${escapeHtml(summary.round.resultsDueOn)}`
+        : '; none missing') +
     (mistyped > 0 ? `; <strong>${count(mistyped, 'result')} refused under a mistyped ID</strong> (pen ${escapeHtml(barn.mistyped.map((rope) => rope.penId).join(', '))}; not missing, not counted)` : '') +
     `.</p>` +
     `<table><thead><tr><th>Assay</th><th class="num">Tested</th><th class="num">Positive</th><th class="num">Suspect</th><th class="num">Negative</th><th class="num">Invalid</th><th>Pens (+ positive, ? suspect, \u00d7 invalid)</th>` +
@@ -356,6 +378,7 @@ export function renderSummaryPage(input: SummaryPageInput): string {
     `<h2>Alerts</h2>${alertsBlock(input.alerts)}` +
     disagreementsBlock(summary) +
     replacedBlock(summary) +
+    stateBlock(summary) +
     `<h2>Site</h2><p class="explain">${confidenceSentence(summary.program.designPrevalence, summary.program.targetConfidence)}</p>${siteTable(summary)}` +
     `<h2>Barns</h2>${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}` +
     sourcesBlock(summary);
