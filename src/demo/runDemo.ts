@@ -14,7 +14,9 @@ import { loadConfig } from '../config/load.js';
 import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
 import { Store, StoreOpenError } from '../store/store.js';
-import { openWorkspace, type WorkspacePaths } from '../workspace.js';
+import { openWorkspace, type Workspace, type WorkspacePaths } from '../workspace.js';
+import { buildSiteRounds } from '../interpret/roundModel.js';
+import { clockDay } from '../interpret/rounds.js';
 import { DEMO_TODAY, HOLLOW_CREEK_ROUNDS, hollowCreekRound, tamsinRidgeRound, TAMSIN_RIDGE_ROUNDS, type DemoDrop, type RopeChoice } from './scenario.js';
 
 export const DEMO_CONFIG_DIR = path.join(path.dirname(fileURLToPath(import.meta.url)), 'config');
@@ -144,6 +146,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
         const { receipt } = await processFile(ws, file);
         outcome.drops.push({ name: drop.name, status: receipt.status, note: drop.note });
         io.stdout(`${drop.at.slice(0, 10)}  ${receipt.status.padEnd(9)} ${drop.name}  (${drop.note})\n`);
+        if (receipt.kind === 'ropes') for (const line of roundsAwaiting(ws, receipt.sites, clock)) io.stdout(line);
       }
     }
     clock = new Date(DEMO_TODAY);
@@ -153,6 +156,20 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
   }
   io.stdout(`\nDemo done. Open ${path.join(paths.outbox, 'index.html')} or browse ${paths.outbox}/; inbox/archive/ holds the processed drops, inbox/rejected/ the refused one.\n`);
   return outcome;
+}
+
+/**
+ * A rope sheet usually arrives days before its results: where the latest round of each site the
+ * sheet touched stands when it arrives (awaiting results: nothing missing yet).
+ */
+function roundsAwaiting(ws: Workspace, siteIds: readonly string[], now: Date): string[] {
+  return ws.config.sites
+    .filter((site) => siteIds.includes(site.id))
+    .flatMap((site) => {
+      const last = buildSiteRounds(site, ws.store.ropes(site.id), ws.store.currentResults(site.id), ws.store.plannedWithoutResults(site.id), {}, clockDay(now)).at(-1);
+      if (!last || last.state === 'complete') return [];
+      return [`            ${site.id} ${last.id}: ${last.state === 'awaiting-results' ? 'awaiting results' : 'partial results'}, due by ${last.resultsDueOn}; no rope is missing before then\n`];
+    });
 }
 
 /** The ropes ropewatch planned for a site's round (index 0-based), as the farm will hang them. */
