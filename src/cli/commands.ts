@@ -136,7 +136,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           site: site.id,
           name: site.name,
           rounds: rounds.length,
-          lastRound: last ? { number: last.number, id: last.id, startOn: last.startOn } : null,
+          lastRound: last ? { number: last.number, id: last.id, startOn: last.startOn, state: last.state, resultsDueOn: last.resultsDueOn } : null,
           missingRopesLastRound: last ? last.barns.flatMap((barn) => barn.missingSampleIds) : [],
           nextRound: planned.length > 0 ? { ropes: planned.length, dueOn: planned[0]!.dueOn } : null,
         };
@@ -157,7 +157,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           ...sites.map(
             (site) =>
               `site ${site.site} (${site.name}): ${site.rounds} round${site.rounds === 1 ? '' : 's'}` +
-              (site.lastRound ? `, last ${site.lastRound.id}` : '') +
+              (site.lastRound ? `, last ${site.lastRound.id}${site.lastRound.state === 'complete' ? '' : ` (${site.lastRound.state === 'awaiting-results' ? 'awaiting results' : 'partial results'}, due by ${site.lastRound.resultsDueOn})`}` : '') +
               (site.missingRopesLastRound.length ? ` (${site.missingRopesLastRound.length} ropes missing: ${site.missingRopesLastRound.join(', ')})` : '') +
               (site.nextRound ? `; next round: ${site.nextRound.ropes} ropes planned, due ${site.nextRound.dueOn}` : ''),
           ),

@@ -17,6 +17,7 @@ import { regenerateOutputs, type SiteAnalysis } from '../../src/outputs.js';
 import { processFile } from '../../src/pipeline.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { openWorkspace } from '../../src/workspace.js';
+import { runCli } from '../helpers/runCli.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -132,5 +133,22 @@ describe('a rope sheet that arrives before its results', () => {
     } finally {
       run.close();
     }
+  });
+});
+
+describe('ropewatch status after a rope sheet dated today', () => {
+  it('names the last round as awaiting results, with no rope missing', async () => {
+    // The in-process CLI's clock reads 2026-12-01 (test/helpers/runCli.ts).
+    const ws = workspace();
+    const ropes = ROUND_1.map((rope) => ({ ...rope, sampleId: rope.sampleId.replace('1102', '1201'), hungOn: '2026-12-01' }));
+    fs.writeFileSync(path.join(ws.paths.inbox, 'hollow-creek_ropes_2026-12-01.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ropes));
+    expect((await runCli(['ingest', path.join(ws.paths.inbox, 'hollow-creek_ropes_2026-12-01.csv'), ...ws.cliFlags])).code).toBe(0);
+    const status = JSON.parse((await runCli(['status', '--json', ...ws.cliFlags])).stdout);
+    // By hand: results due 2026-12-01 + 7 = 2026-12-08.
+    expect(status.sites.find((site: { site: string }) => site.site === 'hollow-creek')).toMatchObject({
+      lastRound: { id: 'r01-2026-12-01', state: 'awaiting-results', resultsDueOn: '2026-12-08' },
+      missingRopesLastRound: [],
+    });
+    expect((await runCli(['status', ...ws.cliFlags])).stdout).toContain('last r01-2026-12-01 (awaiting results, due by 2026-12-08)');
   });
 });
