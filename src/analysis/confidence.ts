@@ -9,6 +9,7 @@ import type { SiteRound } from '../interpret/roundModel.js';
 import { daysBetween } from '../interpret/rounds.js';
 import {
   apparentPrevalence,
+  designInfectedBarns,
   designInfectedPens,
   detectionFor,
   falseAlarmProbability,
@@ -93,6 +94,14 @@ export interface RoundConfidence {
 
 export function designInfectedFor(program: Program, pens: number): number {
   return program.designPrevalence.kind === 'pens' ? Math.min(pens, program.designPrevalence.value) : designInfectedPens(program.designPrevalence.value, pens);
+}
+
+/**
+ * D, the barns assumed infected when a site of `barns` barns is judged as a whole: the program's
+ * barn-level design value (a proportion rounded up, or a number), or every barn without one.
+ */
+export function designBarnsFor(program: Program, barns: number): number {
+  return program.barnDesignPrevalence === undefined ? barns : designInfectedBarns(program.barnDesignPrevalence, barns);
 }
 
 /** Rope sensitivity and specificity of an assay in a barn (by its age group). */

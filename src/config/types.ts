@@ -4,6 +4,9 @@ import type { ConfiguredPattern } from './pattern.js';
 
 export type DesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'pens'; value: number };
 
+/** Barn-level design value: a proportion of the site's barns (rounded up) or a number of barns. */
+export type BarnDesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'barns'; value: number };
+
 /** Per-assay (and per-age-group) probability with a default. */
 export interface PerAssayValue {
   default: number;
@@ -23,6 +26,11 @@ export interface Program {
   followUpRadius: number;
   followUpRopes: number | undefined;
   sizeFor: 'barn' | 'site';
+  /**
+   * Infected barns at the site's design value (Cameron & Baldock 1998, two-stage); undefined:
+   * every barn infected at the design prevalence.
+   */
+  barnDesignPrevalence: BarnDesignPrevalence | undefined;
 }
 
 export interface AnalysisSettings {
