@@ -18,6 +18,7 @@ import {
   sampleSize,
   siteDetection,
   truePrevalence,
+  twoStageSiteDetection,
 } from '../stats/index.js';
 
 export interface BarnConfidence {
@@ -67,8 +68,22 @@ export interface SiteConfidence {
   assayId: string;
   measure: Measure;
   roundNumber: number;
-  /** 1 - prod(1 - p_barn): the round's site-level sensitivity (SSe). */
+  /**
+   * The round's site-level sensitivity (SSe) at the program's design: with D of the H barns
+   * infected (barnDesignPrevalence; every barn without it), 1 - e_D({1 - p_barn}) / C(H, D),
+   * which is 1 - prod(1 - p_barn) when D = H. Freedom is built on this figure.
+   */
   detectionConfidence: number;
+  /** H: the site's barns (a barn without a valid rope counts with p = 0). */
+  barns: number;
+  /** D behind `detectionConfidence`. */
+  infectedBarns: number;
+  /** 1 - prod(1 - p_barn): every barn infected at the design prevalence. */
+  detectionIfEveryBarn: number;
+  /** The barns of the second figure: D when the program sets fewer than H, else 1. */
+  fewInfectedBarns: number;
+  /** Two-stage site sensitivity with only `fewInfectedBarns` barns infected, at random. */
+  detectionIfFewBarns: number;
   positive: boolean;
   positiveBarns: string[];
   /** Days since the previous round started (null for the first round). */
@@ -157,6 +172,33 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
 }
 
 /**
+ * The site figures of one round from its barns' detection probabilities. Barns of the site that
+ * are not among `barnProbabilities` (no rope this round) count with p = 0 (two-stage design:
+ * Cameron & Baldock 1998; the same as epiR's rsu.sep.rs2st with an unsampled herd).
+ */
+export function siteFigures(
+  program: Program,
+  siteBarns: number,
+  barnProbabilities: readonly number[],
+): Pick<SiteConfidence, 'detectionConfidence' | 'barns' | 'infectedBarns' | 'detectionIfEveryBarn' | 'fewInfectedBarns' | 'detectionIfFewBarns'> {
+  const barns = Math.max(siteBarns, barnProbabilities.length);
+  if (barnProbabilities.length === 0) return { detectionConfidence: 0, barns, infectedBarns: barns, detectionIfEveryBarn: 0, fewInfectedBarns: 1, detectionIfFewBarns: 0 };
+  const probabilities = [...barnProbabilities, ...Array.from({ length: barns - barnProbabilities.length }, () => 0)];
+  const infectedBarns = designBarnsFor(program, barns);
+  const fewInfectedBarns = infectedBarns < barns ? infectedBarns : 1;
+  const detectionIfEveryBarn = siteDetection(probabilities);
+  const detectionIfFewBarns = twoStageSiteDetection(probabilities, fewInfectedBarns);
+  return {
+    detectionConfidence: infectedBarns === barns ? detectionIfEveryBarn : detectionIfFewBarns,
+    barns,
+    infectedBarns,
+    detectionIfEveryBarn,
+    fewInfectedBarns,
+    detectionIfFewBarns,
+  };
+}
+
+/**
  * Confidence for every round of a site, per barn and assay, and freedom across rounds per assay.
  * A round in which an assay was not tested at all counts as a round of zero sensitivity: the
  * introduction risk still accrues, so a missed or late round lowers confidence. Assays never
@@ -173,10 +215,12 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
   for (const assayId of assays) {
     const freedomRounds = rounds.map((round, index) => {
       const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
-      const sensitivity = barns.length === 0 ? 0 : siteDetection(barns.map((barn) => barn.detectionConfidence));
+      const figures = siteFigures(program, site.barns.length, barns.map((barn) => barn.detectionConfidence));
+      const sensitivity = figures.detectionConfidence;
       const previous = rounds[index - 1];
       return {
         sensitivity,
+        figures,
         positive: barns.some((barn) => barn.positives > 0),
         positiveBarns: barns.filter((barn) => barn.positives > 0).map((barn) => barn.barnId),
         elapsedDays: previous ? Math.max(0, daysBetween(previous.startOn, round.startOn)) : program.intervalDays,
@@ -194,7 +238,7 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
         assayId,
         measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',
         roundNumber: rounds[index]!.number,
-        detectionConfidence: round.sensitivity,
+        ...round.figures,
         positive: round.positive,
         positiveBarns: round.positiveBarns,
         daysSincePrevious: round.daysSincePrevious,
