@@ -32,6 +32,7 @@ import { contactWeights, detectionProbability, simulateOnwardSpread, type Detect
 import { detectionFor, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designBarnsFor, designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
+import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
 import { formatPercent } from '../util/format.js';
 
@@ -83,6 +84,8 @@ export interface NextRoundPlan {
     sizeFor: 'barn' | 'site';
     /** D: barns assumed infected at the site's design value (all of them unless barnDesignPrevalence says fewer). */
     infectedBarns: number;
+    /** What the routine ropes prove if they come back negative on time, in one sentence, by the model that sized them. */
+    ifNegative: string;
     target: number;
     budget: number | null;
     allocation: Allocation | null;
@@ -253,7 +256,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     );
   }
   const spreadAssumptions =
-    `infection passed pen to pen over fence, facing and diagonal contacts from randomly placed first pens, transmission ${settings.spreadTransmission} per contact and step, ` +
+    `infection passed pen to pen over fence, facing and diagonal contacts from one pen chosen at random until the design number of pens is infected, transmission ${settings.spreadTransmission} per contact and step, ` +
     `background ${settings.spreadBackground} per pen and step, ${settings.spreadRealisations} simulated outbreaks per barn (seed ${settings.seed})`;
   sizingNotes.push(
     spatialSizing
@@ -394,6 +397,14 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     barns.map((barn) => barn.sizing.plannedDetection),
     infectedBarns,
   );
+  const modelName = spatialSizing ? 'spread model' : 'hypergeometric model';
+  const siteWords =
+    infectedBarns === models.length ? `if every barn were infected at ${describeDesign(site)}` : infectedBarns === 1 ? 'if only one barn were infected' : `if only ${infectedBarns} of the ${models.length} barns were infected`;
+  const weakestBarn = Math.min(...barns.map((barn) => barn.sizing.plannedDetection));
+  const ifNegative =
+    program.sizeFor === 'barn'
+      ? `If they all come back negative on time, each barn has at least ${formatPercent(weakestBarn)} detection confidence at the design prevalence (target ${formatPercent(target)} per barn, ${modelName}); the site ${formatPercent(siteDetectionIfNegative)} ${siteWords}.`
+      : `If they all come back negative on time, the site has ${formatPercent(siteDetectionIfNegative)} detection confidence ${siteWords} (target ${formatPercent(target)} for the site, ${modelName}).`;
   let freedom: NextRoundPlan['freedom'] = null;
   const lastConfidence = input.confidence.at(-1);
   const freedomAssay = models[0]?.assayId;
@@ -441,7 +452,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     daysUntilDue: due.daysUntilDue,
     ropes: rows,
     barns,
-    sizing: { sizingModel: settings.sizingModel, sizeFor: program.sizeFor, infectedBarns, target, budget, allocation, notes: sizingNotes },
+    sizing: { sizingModel: settings.sizingModel, sizeFor: program.sizeFor, infectedBarns, ifNegative, target, budget, allocation, notes: sizingNotes },
     siteDetectionIfNegative,
     freedom,
     schedules,

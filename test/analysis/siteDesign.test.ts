@@ -10,6 +10,7 @@ import { ConfigError, loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { renderSummaryPage } from '../../src/report/html/summaryPage.js';
 import { SUMMARY_COLUMNS, summaryCsv } from '../../src/report/summaryCsv.js';
 import { detectionFor } from '../../src/stats/detection.js';
 import { expectClose } from '../helpers/expectClose.js';
@@ -109,6 +110,11 @@ describe('site detection when not every barn is infected (two-stage design)', ()
     const figures = summary!.assays.find((assay) => assay.id === 'PRRSV')!.siteFigures;
     expect(figures.map((figure) => figure.label)).toEqual(['if every barn were infected at 10% of pens', 'if only one barn were infected']);
     expect(figures.map((figure) => figure.freedom)).toEqual([true, false]);
+    // The page shows both, each with its label; the one freedom is built on is marked.
+    const html = renderSummaryPage({ summary: summary!, alerts: [], notices: [] });
+    const row = html.slice(html.indexOf('<tr data-assay="PRRSV" data-measure="ct">'));
+    expect(row).toMatch(/<span data-site-figure="3" data-freedom=""><strong>\d+\.\d%<\/strong> if every barn were infected at 10% of pens \(freedom is built on this\)<\/span>/);
+    expect(row).toMatch(/<span data-site-figure="1">\d+\.\d% if only one barn were infected<\/span>/);
     const csv = summaryCsv(summary!).split('\n');
     const header = csv[0]!.split(',');
     expect(header.slice(-4)).toEqual(['site_barns', 'infected_barns', 'detection_if_every_barn', 'detection_if_infected_barns']);
@@ -144,6 +150,7 @@ describe('site-level sizing with a barn-level design value', () => {
     }
     // Alike barns: the two-stage figure with D = 1 is the barn figure (mean of equal values).
     expectClose(plan.siteDetectionIfNegative, detect(plan.barns[0]!.sizing.routineRopes), { rel: 1e-12 }, 'D = 1, alike barns');
+    expect(plan.sizing.ifNegative).toMatch(/the site has \d+\.\d% detection confidence if only one barn were infected \(target 95\.0% for the site, hypergeometric model\)/);
     // Sizing as if every barn were infected (k = 3) would ask each barn for only 1 - 0.05^(1/3) = 0.6316 (by hand): fewer ropes.
     const everyBarn = threeBarnConfig({ designPrevalence: 0.1, ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.9 }, sizeFor: 'site' });
     const planAll = planNextRound({ site: everyBarn.sites[0]!, rounds, confidence, spatial, settings: everyBarn.analysis, cache: new OutbreakCache(everyBarn.analysis), today: '2026-08-10' });

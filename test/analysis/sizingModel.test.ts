@@ -7,6 +7,7 @@ import { buildSiteRounds } from '../../src/interpret/roundModel.js';
 import { placeSystematic, smallestRopesConservative } from '../../src/plan/index.js';
 import { detectionProbability } from '../../src/spatial/index.js';
 import { detectionFor } from '../../src/stats/detection.js';
+import { formatPercent } from '../../src/util/format.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
@@ -41,6 +42,9 @@ describe('which model sizes the plan', () => {
     expect(plan.sizing.notes.join(' ')).toMatch(/transmission 0\.3 per contact and step, background 0\.01/);
     // The site figure the plan promises is of the same model (one barn: the barn's figure).
     expectClose(plan.siteDetectionIfNegative, detect(barn.routineRopes), { rel: 1e-12 }, 'site figure = hypergeometric detection of the planned ropes');
+    // The plan's promise names the model and the figure of the ropes it sized, never the spread model's.
+    expect(plan.sizing.ifNegative).toContain(`each barn has at least ${formatPercent(detect(barn.routineRopes))} detection confidence at the design prevalence (target 95.0% per barn, hypergeometric model)`);
+    expect(plan.sizing.ifNegative).not.toContain(formatPercent(barn.plannedSpreadModel!));
   });
 
   it("gives the summary's ropes needed and the plan's routine count from the same model, and they agree", () => {
