@@ -4,7 +4,9 @@
  * probability of freedom across rounds. Pure: the round model and the program come in.
  */
 import { perAssayValue } from '../config/load.js';
-import type { Barn, Measure, Program, Site } from '../config/types.js';
+import type { AnalysisSettings, Barn, Measure, Program, Site } from '../config/types.js';
+import { placeSystematic, smallestRopesConservative } from '../plan/index.js';
+import { detectionProbability, type DetectionEstimate, type Outbreaks } from '../spatial/index.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import { daysBetween } from '../interpret/rounds.js';
 import {
@@ -38,8 +40,14 @@ export interface BarnConfidence {
   detectionConfidence: number;
   /** Chance of at least one false positive from an uninfected barn: 1 - Sp^n. */
   falseAlarm: number;
-  /** Ropes one round needs to reach the target; null when no single round can. */
+  /**
+   * Ropes one round needs to reach the target, by the model that sizes the next plan
+   * (analysis.sizingModel): the hypergeometric count, or the spread model's (estimate less two
+   * standard errors, ropes laid out as the round after this one lays them); null when no
+   * single round can.
+   */
   ropesNeeded: number | null;
+  ropesNeededModel: 'hypergeometric' | 'spatial';
   targetReachable: boolean;
   /** Best confidence a rope in every pen gives, when the target is unreachable in one round. */
   censusConfidence: number | null;
@@ -127,7 +135,30 @@ export function ropeAccuracy(program: Program, assayId: string, barn: Barn): { s
   };
 }
 
-function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: string): BarnConfidence {
+/** The simulated outbreaks a spread-model sizing draws on (OutbreakCache). */
+export interface SpreadSizing {
+  settings: AnalysisSettings;
+  outbreaks: { outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null };
+}
+
+/**
+ * The spread model's detection of n ropes laid out by fixed spatial sampling in round
+ * `roundIndex` (placeSystematic), memoised: the plan and the summary read the same estimates.
+ */
+export function spreadEstimator(outbreaks: Outbreaks, barn: Barn, sensitivity: number, roundIndex: number): (ropes: number) => DetectionEstimate {
+  const memo = new Map<number, DetectionEstimate>();
+  return (ropes: number): DetectionEstimate => {
+    if (ropes === 0) return { p: 0, standardError: 0, realisations: outbreaks.realisations };
+    let value = memo.get(ropes);
+    if (value === undefined) {
+      value = detectionProbability(outbreaks, placeSystematic(barn.pens, { ropes, roundIndex }).penIds, sensitivity);
+      memo.set(ropes, value);
+    }
+    return value;
+  };
+}
+
+function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: string, spread: { sizing: SpreadSizing; roundIndex: number } | undefined): BarnConfidence {
   const program = site.program;
   const barnRound = round.barns.find((candidate) => candidate.barnId === barn.id)!;
   const tally = barnRound.byAssay[assayId]!;
@@ -138,6 +169,9 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
   const { sensitivity, specificity } = ropeAccuracy(program, assayId, barn);
   const detectionConfidence = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
   const size = sampleSize({ pens, infected: designInfected, confidence: program.targetConfidence, sensitivity });
+  // With the spread model sizing the plans, "ropes needed" is its count, so that the summary and the plan agree.
+  const outbreaks = spread && spread.sizing.settings.sizingModel === 'spatial' ? spread.sizing.outbreaks.outbreaksFor(site, barn, designInfected) : null;
+  const spreadNeeded = outbreaks ? smallestRopesConservative(spreadEstimator(outbreaks, barn, sensitivity, spread!.roundIndex), program.targetConfidence, pens).ropes : undefined;
   let prevalence: PrevalenceEstimate | null = null;
   if (tally.positive > 0 && tested > 0) {
     const apparent = apparentPrevalence(Math.min(tally.positive, tested), tested);
@@ -162,8 +196,9 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
     specificity,
     detectionConfidence,
     falseAlarm: falseAlarmProbability(tested, specificity),
-    ropesNeeded: size.sampled,
-    targetReachable: size.reachable,
+    ropesNeeded: spreadNeeded === undefined ? size.sampled : spreadNeeded,
+    ropesNeededModel: spreadNeeded === undefined ? 'hypergeometric' : 'spatial',
+    targetReachable: spreadNeeded === undefined ? size.reachable : spreadNeeded !== null,
     censusConfidence: size.reachable ? null : size.censusConfidence,
     roundsNeededIfUnreachable: size.reachable ? null : size.roundsNeeded,
     positives: tally.positive,
@@ -204,12 +239,13 @@ export function siteFigures(
  * introduction risk still accrues, so a missed or late round lowers confidence. Assays never
  * share a freedom: a positive of one (an antibody assay's above all) resets only its own.
  */
-export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundConfidence[] {
+export function siteConfidence(site: Site, rounds: readonly SiteRound[], spread?: SpreadSizing): RoundConfidence[] {
   const program = site.program;
   const assays = [...new Set(rounds.flatMap((round) => round.assays))].sort();
-  const perRound: RoundConfidence[] = rounds.map((round) => ({
+  const perRound: RoundConfidence[] = rounds.map((round, index) => ({
     roundNumber: round.number,
-    barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId))),
+    // The plan after round `index` lays its ropes out as round index + 1 (nextRound.ts).
+    barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId, spread ? { sizing: spread, roundIndex: index + 1 } : undefined))),
     sites: [],
   }));
   for (const assayId of assays) {

@@ -17,7 +17,6 @@ import {
   formatSampleId,
   isWriteFriendlyCheck,
   onTimeVersusMissed,
-  placeSystematic,
   roundDue,
   smallestRopes,
   smallestRopesConservative,
@@ -31,7 +30,7 @@ import {
 import { contactWeights, detectionProbability, simulateOnwardSpread, type DetectionEstimate } from '../spatial/index.js';
 import { detectionFor, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
-import { designBarnsFor, designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
+import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
 import { formatPercent } from '../util/format.js';
@@ -149,19 +148,7 @@ function barnModels(input: PlanInput, assays: readonly string[]): BarnModel[] {
     // The spread model is always evaluated, whichever model sizes: it is shown beside the
     // hypergeometric figure as what fixed spatial placement buys under contagious spread.
     const outbreaks = cache.outbreaksFor(site, barn, designInfected);
-    const spreadMemo = new Map<number, DetectionEstimate>();
-    const spread = outbreaks
-      ? (ropes: number): DetectionEstimate => {
-          if (ropes === 0) return { p: 0, standardError: 0, realisations: outbreaks.realisations };
-          let value = spreadMemo.get(ropes);
-          if (value === undefined) {
-            const placement = placeSystematic(barn.pens, { ropes, roundIndex });
-            value = detectionProbability(outbreaks, placement.penIds, sensitivity);
-            spreadMemo.set(ropes, value);
-          }
-          return value;
-        }
-      : null;
+    const spread = outbreaks ? spreadEstimator(outbreaks, barn, sensitivity, roundIndex) : null;
     return {
       barn,
       assayId,

@@ -7,7 +7,7 @@ import type { NextRoundPlan } from '../../analysis/nextRound.js';
 import type { Site } from '../../config/types.js';
 import { renderBarnMap, type PlannedMark } from './barnMap.js';
 import { escapeHtml } from './escape.js';
-import { count, pct, renderPage, sheetLegend } from './page.js';
+import { count, renderPage, sheetLegend } from './page.js';
 
 export interface RopeSheetInput {
   site: Site;
