@@ -50,7 +50,7 @@ export function analyseSite(ws: Workspace, site: Site, results: readonly StoredR
     { replaced: ws.store.replacedReports(site.id), mistyped: ws.store.mistypedRefusals(site.id) },
     today,
   );
-  const confidence = siteConfidence(site, rounds);
+  const confidence = siteConfidence(site, rounds, { settings: ws.config.analysis, outbreaks: cache });
   const summaries = summariseSite(ws.config, site, rounds, confidence);
   const spatial = siteSpatial(site, rounds, confidence, ws.config.analysis, cache);
   const lastNumber = rounds.at(-1)?.number ?? 0;

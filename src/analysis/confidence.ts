@@ -4,11 +4,14 @@
  * probability of freedom across rounds. Pure: the round model and the program come in.
  */
 import { perAssayValue } from '../config/load.js';
-import type { Barn, Measure, Program, Site } from '../config/types.js';
+import type { AnalysisSettings, Barn, Measure, Program, Site } from '../config/types.js';
+import { placeSystematic, smallestRopesConservative } from '../plan/index.js';
+import { detectionProbability, type DetectionEstimate, type Outbreaks } from '../spatial/index.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import { daysBetween } from '../interpret/rounds.js';
 import {
   apparentPrevalence,
+  designInfectedBarns,
   designInfectedPens,
   detectionFor,
   falseAlarmProbability,
@@ -17,6 +20,7 @@ import {
   sampleSize,
   siteDetection,
   truePrevalence,
+  twoStageSiteDetection,
 } from '../stats/index.js';
 
 export interface BarnConfidence {
@@ -36,8 +40,14 @@ export interface BarnConfidence {
   detectionConfidence: number;
   /** Chance of at least one false positive from an uninfected barn: 1 - Sp^n. */
   falseAlarm: number;
-  /** Ropes one round needs to reach the target; null when no single round can. */
+  /**
+   * Ropes one round needs to reach the target, by the model that sizes the next plan
+   * (analysis.sizingModel): the hypergeometric count, or the spread model's (estimate less two
+   * standard errors, ropes laid out as the round after this one lays them); null when no
+   * single round can.
+   */
   ropesNeeded: number | null;
+  ropesNeededModel: 'hypergeometric' | 'spatial';
   targetReachable: boolean;
   /** Best confidence a rope in every pen gives, when the target is unreachable in one round. */
   censusConfidence: number | null;
@@ -66,8 +76,22 @@ export interface SiteConfidence {
   assayId: string;
   measure: Measure;
   roundNumber: number;
-  /** 1 - prod(1 - p_barn): the round's site-level sensitivity (SSe). */
+  /**
+   * The round's site-level sensitivity (SSe) at the program's design: with D of the H barns
+   * infected (barnDesignPrevalence; every barn without it), 1 - e_D({1 - p_barn}) / C(H, D),
+   * which is 1 - prod(1 - p_barn) when D = H. Freedom is built on this figure.
+   */
   detectionConfidence: number;
+  /** H: the site's barns (a barn without a valid rope counts with p = 0). */
+  barns: number;
+  /** D behind `detectionConfidence`. */
+  infectedBarns: number;
+  /** 1 - prod(1 - p_barn): every barn infected at the design prevalence. */
+  detectionIfEveryBarn: number;
+  /** The barns of the second figure: D when the program sets fewer than H, else 1. */
+  fewInfectedBarns: number;
+  /** Two-stage site sensitivity with only `fewInfectedBarns` barns infected, at random. */
+  detectionIfFewBarns: number;
   positive: boolean;
   positiveBarns: string[];
   /** Days since the previous round started (null for the first round). */
@@ -95,6 +119,14 @@ export function designInfectedFor(program: Program, pens: number): number {
   return program.designPrevalence.kind === 'pens' ? Math.min(pens, program.designPrevalence.value) : designInfectedPens(program.designPrevalence.value, pens);
 }
 
+/**
+ * D, the barns assumed infected when a site of `barns` barns is judged as a whole: the program's
+ * barn-level design value (a proportion rounded up, or a number), or every barn without one.
+ */
+export function designBarnsFor(program: Program, barns: number): number {
+  return program.barnDesignPrevalence === undefined ? barns : designInfectedBarns(program.barnDesignPrevalence, barns);
+}
+
 /** Rope sensitivity and specificity of an assay in a barn (by its age group). */
 export function ropeAccuracy(program: Program, assayId: string, barn: Barn): { sensitivity: number; specificity: number } {
   return {
@@ -103,7 +135,30 @@ export function ropeAccuracy(program: Program, assayId: string, barn: Barn): { s
   };
 }
 
-function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: string): BarnConfidence {
+/** The simulated outbreaks a spread-model sizing draws on (OutbreakCache). */
+export interface SpreadSizing {
+  settings: AnalysisSettings;
+  outbreaks: { outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null };
+}
+
+/**
+ * The spread model's detection of n ropes laid out by fixed spatial sampling in round
+ * `roundIndex` (placeSystematic), memoised: the plan and the summary read the same estimates.
+ */
+export function spreadEstimator(outbreaks: Outbreaks, barn: Barn, sensitivity: number, roundIndex: number): (ropes: number) => DetectionEstimate {
+  const memo = new Map<number, DetectionEstimate>();
+  return (ropes: number): DetectionEstimate => {
+    if (ropes === 0) return { p: 0, standardError: 0, realisations: outbreaks.realisations };
+    let value = memo.get(ropes);
+    if (value === undefined) {
+      value = detectionProbability(outbreaks, placeSystematic(barn.pens, { ropes, roundIndex }).penIds, sensitivity);
+      memo.set(ropes, value);
+    }
+    return value;
+  };
+}
+
+function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: string, spread: { sizing: SpreadSizing; roundIndex: number } | undefined): BarnConfidence {
   const program = site.program;
   const barnRound = round.barns.find((candidate) => candidate.barnId === barn.id)!;
   const tally = barnRound.byAssay[assayId]!;
@@ -114,6 +169,9 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
   const { sensitivity, specificity } = ropeAccuracy(program, assayId, barn);
   const detectionConfidence = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
   const size = sampleSize({ pens, infected: designInfected, confidence: program.targetConfidence, sensitivity });
+  // With the spread model sizing the plans, "ropes needed" is its count, so that the summary and the plan agree.
+  const outbreaks = spread && spread.sizing.settings.sizingModel === 'spatial' ? spread.sizing.outbreaks.outbreaksFor(site, barn, designInfected) : null;
+  const spreadNeeded = outbreaks ? smallestRopesConservative(spreadEstimator(outbreaks, barn, sensitivity, spread!.roundIndex), program.targetConfidence, pens).ropes : undefined;
   let prevalence: PrevalenceEstimate | null = null;
   if (tally.positive > 0 && tested > 0) {
     const apparent = apparentPrevalence(Math.min(tally.positive, tested), tested);
@@ -138,12 +196,40 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
     specificity,
     detectionConfidence,
     falseAlarm: falseAlarmProbability(tested, specificity),
-    ropesNeeded: size.sampled,
-    targetReachable: size.reachable,
+    ropesNeeded: spreadNeeded === undefined ? size.sampled : spreadNeeded,
+    ropesNeededModel: spreadNeeded === undefined ? 'hypergeometric' : 'spatial',
+    targetReachable: spreadNeeded === undefined ? size.reachable : spreadNeeded !== null,
     censusConfidence: size.reachable ? null : size.censusConfidence,
     roundsNeededIfUnreachable: size.reachable ? null : size.roundsNeeded,
     positives: tally.positive,
     prevalence,
+  };
+}
+
+/**
+ * The site figures of one round from its barns' detection probabilities. Barns of the site that
+ * are not among `barnProbabilities` (no rope this round) count with p = 0 (two-stage design:
+ * Cameron & Baldock 1998; the same as epiR's rsu.sep.rs2st with an unsampled herd).
+ */
+export function siteFigures(
+  program: Program,
+  siteBarns: number,
+  barnProbabilities: readonly number[],
+): Pick<SiteConfidence, 'detectionConfidence' | 'barns' | 'infectedBarns' | 'detectionIfEveryBarn' | 'fewInfectedBarns' | 'detectionIfFewBarns'> {
+  const barns = Math.max(siteBarns, barnProbabilities.length);
+  if (barnProbabilities.length === 0) return { detectionConfidence: 0, barns, infectedBarns: barns, detectionIfEveryBarn: 0, fewInfectedBarns: 1, detectionIfFewBarns: 0 };
+  const probabilities = [...barnProbabilities, ...Array.from({ length: barns - barnProbabilities.length }, () => 0)];
+  const infectedBarns = designBarnsFor(program, barns);
+  const fewInfectedBarns = infectedBarns < barns ? infectedBarns : 1;
+  const detectionIfEveryBarn = siteDetection(probabilities);
+  const detectionIfFewBarns = twoStageSiteDetection(probabilities, fewInfectedBarns);
+  return {
+    detectionConfidence: infectedBarns === barns ? detectionIfEveryBarn : detectionIfFewBarns,
+    barns,
+    infectedBarns,
+    detectionIfEveryBarn,
+    fewInfectedBarns,
+    detectionIfFewBarns,
   };
 }
 
@@ -153,12 +239,13 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
  * introduction risk still accrues, so a missed or late round lowers confidence. Assays never
  * share a freedom: a positive of one (an antibody assay's above all) resets only its own.
  */
-export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundConfidence[] {
+export function siteConfidence(site: Site, rounds: readonly SiteRound[], spread?: SpreadSizing): RoundConfidence[] {
   const program = site.program;
   const assays = [...new Set(rounds.flatMap((round) => round.assays))].sort();
-  const perRound: RoundConfidence[] = rounds.map((round) => ({
+  const perRound: RoundConfidence[] = rounds.map((round, index) => ({
     roundNumber: round.number,
-    barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId))),
+    // The plan after round `index` lays its ropes out as round index + 1 (nextRound.ts).
+    barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId, spread ? { sizing: spread, roundIndex: index + 1 } : undefined))),
     sites: [],
   }));
   // A round awaiting its results has proved nothing yet, nor failed to: it has no detection
@@ -168,10 +255,12 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
   for (const assayId of assays) {
     const freedomRounds = counted.map(({ round, index }, position) => {
       const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
-      const sensitivity = barns.length === 0 ? 0 : siteDetection(barns.map((barn) => barn.detectionConfidence));
+      const figures = siteFigures(program, site.barns.length, barns.map((barn) => barn.detectionConfidence));
+      const sensitivity = figures.detectionConfidence;
       const previous = counted[position - 1]?.round;
       return {
         sensitivity,
+        figures,
         positive: barns.some((barn) => barn.positives > 0),
         positiveBarns: barns.filter((barn) => barn.positives > 0).map((barn) => barn.barnId),
         elapsedDays: previous ? Math.max(0, daysBetween(previous.startOn, round.startOn)) : program.intervalDays,
@@ -190,7 +279,7 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[]): RoundC
         assayId,
         measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',
         roundNumber: rounds[index]!.number,
-        detectionConfidence: round.sensitivity,
+        ...round.figures,
         positive: round.positive,
         positiveBarns: round.positiveBarns,
         daysSincePrevious: round.daysSincePrevious,

@@ -17,9 +17,9 @@ import {
   formatSampleId,
   isWriteFriendlyCheck,
   onTimeVersusMissed,
-  placeSystematic,
   roundDue,
   smallestRopes,
+  smallestRopesConservative,
   type Allocation,
   type BarnPlanSummary,
   type OnTimeVersusMissed,
@@ -27,10 +27,11 @@ import {
   type ScheduleOption,
   type SimulatedDelay,
 } from '../plan/index.js';
-import { contactWeights, detectionProbability, simulateOnwardSpread } from '../spatial/index.js';
-import { detectionFor, siteDetection } from '../stats/index.js';
+import { contactWeights, detectionProbability, simulateOnwardSpread, type DetectionEstimate } from '../spatial/index.js';
+import { detectionFor, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
-import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
+import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
+import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
 import { formatPercent } from '../util/format.js';
 
@@ -47,16 +48,22 @@ export interface BarnSizingReport {
   /** Which detection model sized the routine ropes. */
   model: 'spread model (fixed spatial sampling under contagious spread)' | 'hypergeometric (random placement)';
   routineRopes: number;
-  /** Ropes the hypergeometric model alone would ask for (for comparison). */
+  /** Ropes the hypergeometric model asks for; null when no single round reaches the target. */
   hypergeometricRopes: number | null;
+  /** Ropes the spread model asks for (estimate less two standard errors); null unless it sizes the plan, or when it cannot reach the target. */
+  spreadModelRopes: number | null;
   reachable: boolean;
   /** When one round cannot reach the target: the best one round can do, and the rounds that would. */
   ceiling: number | null;
   roundsNeeded: number | null;
   statement: string;
+  /** Detection confidence of the planned routine ropes by the model that sized them. */
+  plannedDetection: number;
   /** Detection confidence of the planned routine ropes, by both models. */
   plannedHypergeometric: number;
   plannedSpreadModel: number | null;
+  /** The spread model behind `plannedSpreadModel`: its Monte Carlo standard error, outbreaks simulated, their seed and assumptions. */
+  spreadModel: { standardError: number; realisations: number; seed: number; transmission: number; background: number } | null;
 }
 
 export interface NextRoundPlan {
@@ -71,13 +78,19 @@ export interface NextRoundPlan {
   ropes: PlanRow[];
   barns: (BarnPlanSummary & { sizing: BarnSizingReport })[];
   sizing: {
+    /** The detection model that sized the routine ropes (analysis.sizingModel). */
+    sizingModel: 'hypergeometric' | 'spatial';
     sizeFor: 'barn' | 'site';
+    /** D: barns assumed infected at the site's design value (all of them unless barnDesignPrevalence says fewer). */
+    infectedBarns: number;
+    /** What the routine ropes prove if they come back negative on time, in one sentence, by the model that sized them. */
+    ifNegative: string;
     target: number;
     budget: number | null;
     allocation: Allocation | null;
     notes: string[];
   };
-  /** Site detection of the routine ropes if the round comes back negative. */
+  /** Site detection of the routine ropes if the round comes back negative, with `sizing.infectedBarns` of the barns infected (two-stage). */
   siteDetectionIfNegative: number;
   freedom: (OnTimeVersusMissed & { assayId: string; currentFreedom: number }) | null;
   schedules: {
@@ -114,11 +127,15 @@ interface BarnModel {
   designInfected: number;
   sensitivity: number;
   hyper: (ropes: number) => number;
-  spread: ((ropes: number) => number) | null;
+  /** The spread model's estimate for n fixed spatial ropes; null when it cannot run (no in-use pen, or fewer than d). */
+  spread: ((ropes: number) => DetectionEstimate) | null;
+  /** The seed of the simulated outbreaks, and how many there are. */
+  spreadSeed: number | null;
+  spreadRealisations: number | null;
 }
 
 function barnModels(input: PlanInput, assays: readonly string[]): BarnModel[] {
-  const { site, settings, cache } = input;
+  const { site, cache } = input;
   const roundIndex = input.rounds.length;
   return site.barns.map((barn) => {
     const inUse = barn.pens.filter((pen) => pen.status === 'in-use');
@@ -128,28 +145,22 @@ function barnModels(input: PlanInput, assays: readonly string[]): BarnModel[] {
     const assayId = [...assays].sort((a, b) => ropeAccuracy(site.program, a, barn).sensitivity - ropeAccuracy(site.program, b, barn).sensitivity || (a < b ? -1 : 1))[0] ?? 'default';
     const sensitivity = ropeAccuracy(site.program, assayId, barn).sensitivity;
     const hyperKernel = detectionFor({ pens: pensInUse, infected: designInfected, sensitivity });
-    const outbreaks = settings.sizingModel === 'spatial' ? cache.outbreaksFor(site, barn, designInfected) : null;
-    const spreadMemo = new Map<number, number>();
-    const spread = outbreaks
-      ? (ropes: number) => {
-          if (ropes === 0) return 0;
-          let value = spreadMemo.get(ropes);
-          if (value === undefined) {
-            const placement = placeSystematic(barn.pens, { ropes, roundIndex });
-            value = detectionProbability(outbreaks, placement.penIds, sensitivity).p;
-            spreadMemo.set(ropes, value);
-          }
-          return value;
-        }
-      : null;
-    return { barn, assayId, pensInUse, designInfected, sensitivity, hyper: (ropes: number) => hyperKernel(Math.min(ropes, pensInUse)), spread };
+    // The spread model is always evaluated, whichever model sizes: it is shown beside the
+    // hypergeometric figure as what fixed spatial placement buys under contagious spread.
+    const outbreaks = cache.outbreaksFor(site, barn, designInfected);
+    const spread = outbreaks ? spreadEstimator(outbreaks, barn, sensitivity, roundIndex) : null;
+    return {
+      barn,
+      assayId,
+      pensInUse,
+      designInfected,
+      sensitivity,
+      hyper: (ropes: number) => hyperKernel(Math.min(ropes, pensInUse)),
+      spread,
+      spreadSeed: outbreaks ? cache.seedFor(site, barn, designInfected) : null,
+      spreadRealisations: outbreaks ? outbreaks.realisations : null,
+    };
   });
-}
-
-/** Smallest n reaching the target by a linear scan: the Monte Carlo estimate need not be exactly monotone. */
-function smallestByScan(detect: (n: number) => number, target: number, max: number): number | null {
-  for (let n = 1; n <= max; n++) if (detect(n) >= target) return n;
-  return null;
 }
 
 /** Relabels rows with the IDs an earlier version of this plan gave the same pens; new pens get fresh, unused sequences. */
@@ -204,22 +215,31 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const target = program.targetConfidence;
   const budget = input.budget ?? program.ropeBudget ?? null;
 
-  const chosenDetect = (model: BarnModel) => model.spread ?? model.hyper;
-  // Site-level sizing (Martin, Cameron & Greiner 2007, the all-barns form inverted): each of k barns needs 1 - (1 - C)^(1/k).
-  const barnTarget = program.sizeFor === 'site' ? barnTargetForSite(target, models.length) : target;
+  const spatialSizing = settings.sizingModel === 'spatial';
+  const chosenDetect = (model: BarnModel) => (spatialSizing && model.spread ? (n: number) => model.spread!(n).p : model.hyper);
+  // Site-level sizing with D of the site's H barns infected (two-stage; Cameron & Baldock 1998):
+  // barns alike at p each give 1 - (1 - p)^D, so each barn is sized to p = 1 - (1 - C)^(1/D).
+  // Every infected set then detects with at least C, so the two-stage site figure does too.
+  const infectedBarns = designBarnsFor(program, models.length);
+  const barnTarget = program.sizeFor === 'site' ? barnTargetForSite(target, infectedBarns) : target;
   const perBarn = models.map((model) => {
     const reach = smallestRopes(model.hyper, barnTarget, model.pensInUse);
     const hyperRopes = reach.reachable ? reach.ropes : null;
-    const spreadRopes = model.spread ? smallestByScan(model.spread, barnTarget, model.pensInUse) : null;
-    return { model, reach, hyperRopes, ropes: model.spread ? (spreadRopes ?? model.pensInUse) : (hyperRopes ?? model.pensInUse), reachable: model.spread ? spreadRopes !== null : reach.reachable };
+    // The spread model sizes only when chosen, and then by its estimate less two Monte Carlo
+    // standard errors, so that another seed does not move the count.
+    const spreadReach = spatialSizing && model.spread ? smallestRopesConservative(model.spread, barnTarget, model.pensInUse) : null;
+    return spreadReach
+      ? { model, reach, hyperRopes, spreadRopes: spreadReach.ropes, ropes: spreadReach.ropes ?? model.pensInUse, reachable: spreadReach.ropes !== null }
+      : { model, reach, hyperRopes, spreadRopes: null, ropes: hyperRopes ?? model.pensInUse, reachable: reach.reachable };
   });
 
   let allocation: Allocation | null = null;
   let routine = perBarn.map((entry) => entry.ropes);
   const total = routine.reduce((sum, n) => sum + n, 0);
+  const infectedWords = infectedBarns === models.length ? `every one of its ${models.length} barns infected` : `${infectedBarns} of its ${models.length} barns infected (barns at random)`;
   sizingNotes.push(
     program.sizeFor === 'site'
-      ? `The site target ${formatPercent(target)} is met across ${models.length} barns when each reaches ${formatPercent(barnTarget)} (1 - (1 - C)^(1/k)): ${total} routine ropes.`
+      ? `The site target ${formatPercent(target)} with ${infectedWords} is met when each barn reaches ${formatPercent(barnTarget)} (1 - (1 - C)^(1/D), D = ${infectedBarns}): ${total} routine ropes.`
       : `Each barn is sized to reach ${formatPercent(target)} on its own: ${total} routine ropes.`,
   );
   if (budget !== null && total > budget) {
@@ -233,10 +253,15 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
         'Maximising site detection alone would put every rope in one barn and leave the others unwatched.',
     );
   }
+  const spreadAssumptions =
+    `infection passed pen to pen over fence, facing and diagonal contacts from one pen chosen at random until the design number of pens is infected, transmission ${settings.spreadTransmission} per contact and step, ` +
+    `background ${settings.spreadBackground} per pen and step, ${settings.spreadRealisations} simulated outbreaks per barn (seed ${settings.seed})`;
   sizingNotes.push(
-    settings.sizingModel === 'spatial'
-      ? `Ropes are sized with the spread model (infection passed pen to pen, transmission ${settings.spreadTransmission} per contact and step, ${settings.spreadRealisations} simulated outbreaks): it credits fixed spatial sampling for covering the barn evenly. The hypergeometric count, which assumes infected pens fall at random, is shown beside it.`
-      : 'Ropes are sized with the hypergeometric model (infected pens at random; Cameron & Baldock 1998).',
+    spatialSizing
+      ? `Ropes are sized with the spread model (${spreadAssumptions}), by its estimate less two Monte Carlo standard errors, so the count does not depend on the seed. ` +
+          'It holds only if infection spreads between neighbouring pens as modelled; the hypergeometric count, which holds wherever infection first lands, is shown beside it.'
+      : 'Ropes are sized with the hypergeometric model (Cameron & Baldock 1998): the infected pens may be any pens of the barn, so the count holds whatever places infection first. ' +
+          `Beside it, the spread model (${spreadAssumptions}) shows what fixed, evenly spaced ropes buy when infection spreads pen to pen.`,
   );
 
   const pensWhere = (barnId: string, key: 'positivePens' | 'suspectPens' | 'invalidPens', measure?: Measure) =>
@@ -325,34 +350,65 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     const entry = perBarn[index]!;
     const ropes = routine[index]!;
     const plannedHypergeometric = model.hyper(ropes);
-    const plannedSpreadModel = model.spread ? model.spread(ropes) : null;
+    const spreadEstimate = model.spread ? model.spread(ropes) : null;
+    const plannedChosen = spatialSizing && spreadEstimate ? spreadEstimate.p : plannedHypergeometric;
     const ceiling = entry.reach.reachable ? null : entry.reach.ceiling;
     const design = `${model.designInfected} infected pen${model.designInfected === 1 ? '' : 's'} of ${model.pensInUse}`;
-    const statement = entry.reachable || ropes < model.pensInUse
-      ? `The systematic layer of ${ropes} ropes gives ${formatPercent(plannedSpreadModel ?? plannedHypergeometric)} detection at ${design} (${model.assayId}, rope sensitivity ${model.sensitivity})` +
-        (entry.reachable ? '.' : `; ${formatPercent(target)} is out of reach in one round even with a rope in every pen.`)
-      : `No single round reaches ${formatPercent(target)} in barn ${model.barn.id}: even a rope in every pen gives ${formatPercent(ceiling ?? plannedSpreadModel ?? plannedHypergeometric)} at ${design}` +
-        (!entry.reach.reachable && entry.reach.roundsNeeded !== null ? `; ${entry.reach.roundsNeeded} negative rounds in a row would.` : '.');
+    const modelWords = spatialSizing && spreadEstimate ? 'by the spread model' : 'infected pens anywhere in the barn';
+    const beside = spreadEstimate
+      ? spatialSizing
+        ? ` The hypergeometric model gives the same ropes ${formatPercent(plannedHypergeometric)}${entry.hyperRopes !== null ? ` and would ask for ${entry.hyperRopes}` : ''}.`
+        : ` Under contagious spread (spread model) these evenly spaced ropes would detect ${formatPercent(spreadEstimate.p)} (Monte Carlo standard error ${formatPercent(spreadEstimate.standardError)}).`
+      : '';
+    const statement =
+      entry.reachable || ropes < model.pensInUse
+        ? `The systematic layer of ${ropes} ropes gives ${formatPercent(plannedChosen)} detection at ${design}, ${modelWords} (${model.assayId}, rope sensitivity ${model.sensitivity})` +
+          (entry.reachable ? '.' : `; ${formatPercent(target)} is out of reach in one round even with a rope in every pen.`) +
+          beside
+        : `No single round reaches ${formatPercent(target)} in barn ${model.barn.id}: even a rope in every pen gives ${formatPercent(ceiling ?? plannedChosen)} at ${design}` +
+          (!entry.reach.reachable && entry.reach.roundsNeeded !== null ? `; ${entry.reach.roundsNeeded} negative rounds in a row would.` : '.');
     const sizing: BarnSizingReport = {
       barnId: model.barn.id,
       assayId: model.assayId,
       pensInUse: model.pensInUse,
       designInfected: model.designInfected,
       sensitivity: model.sensitivity,
-      model: model.spread ? 'spread model (fixed spatial sampling under contagious spread)' : 'hypergeometric (random placement)',
+      model: spatialSizing && spreadEstimate ? 'spread model (fixed spatial sampling under contagious spread)' : 'hypergeometric (random placement)',
       routineRopes: ropes,
       hypergeometricRopes: entry.hyperRopes,
+      spreadModelRopes: entry.spreadRopes,
       reachable: entry.reachable,
       ceiling,
       roundsNeeded: entry.reach.reachable ? null : entry.reach.roundsNeeded,
       statement,
+      plannedDetection: plannedChosen,
       plannedHypergeometric,
-      plannedSpreadModel,
+      plannedSpreadModel: spreadEstimate ? spreadEstimate.p : null,
+      spreadModel: spreadEstimate
+        ? {
+            standardError: spreadEstimate.standardError,
+            realisations: model.spreadRealisations ?? spreadEstimate.realisations,
+            seed: model.spreadSeed!,
+            transmission: settings.spreadTransmission,
+            background: settings.spreadBackground,
+          }
+        : null,
     };
     return { ...summary, sizing };
   });
 
-  const siteDetectionIfNegative = siteDetection(barns.map((barn) => barn.sizing.plannedSpreadModel ?? barn.sizing.plannedHypergeometric));
+  const siteDetectionIfNegative = twoStageSiteDetection(
+    barns.map((barn) => barn.sizing.plannedDetection),
+    infectedBarns,
+  );
+  const modelName = spatialSizing ? 'spread model' : 'hypergeometric model';
+  const siteWords =
+    infectedBarns === models.length ? `if every barn were infected at ${describeDesign(site)}` : infectedBarns === 1 ? 'if only one barn were infected' : `if only ${infectedBarns} of the ${models.length} barns were infected`;
+  const weakestBarn = Math.min(...barns.map((barn) => barn.sizing.plannedDetection));
+  const ifNegative =
+    program.sizeFor === 'barn'
+      ? `If they all come back negative on time, each barn has at least ${formatPercent(weakestBarn)} detection confidence at the design prevalence (target ${formatPercent(target)} per barn, ${modelName}); the site ${formatPercent(siteDetectionIfNegative)} ${siteWords}.`
+      : `If they all come back negative on time, the site has ${formatPercent(siteDetectionIfNegative)} detection confidence ${siteWords} (target ${formatPercent(target)} for the site, ${modelName}).`;
   let freedom: NextRoundPlan['freedom'] = null;
   const lastConfidence = freedomIndex < 0 ? undefined : input.confidence[freedomIndex];
   const freedomAssay = models[0]?.assayId;
@@ -400,7 +456,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     daysUntilDue: due.daysUntilDue,
     ropes: rows,
     barns,
-    sizing: { sizeFor: program.sizeFor, target, budget, allocation, notes: sizingNotes },
+    sizing: { sizingModel: settings.sizingModel, sizeFor: program.sizeFor, infectedBarns, ifNegative, target, budget, allocation, notes: sizingNotes },
     siteDetectionIfNegative,
     freedom,
     schedules,

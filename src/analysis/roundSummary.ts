@@ -113,6 +113,8 @@ export interface RoundSummary {
   };
   program: {
     designPrevalence: string;
+    /** Barns assumed infected when the site is judged as a whole (barnDesignPrevalence). */
+    barnDesignPrevalence: string;
     targetConfidence: number;
     roundWindowDays: number;
     intervalDays: number;
@@ -128,6 +130,8 @@ export interface RoundSummary {
     /** An antibody assay: the PCR assay it pairs with (assays.yaml `pairedWith`), else null. */
     pairedWith: string | null;
     site: SiteConfidence;
+    /** The site's detection read two ways, each with its plain label; `freedom` marks the one the probability of freedom is built on. */
+    siteFigures: SiteFigure[];
   }[];
   /** Antibody assays of the round paired with a PCR assay: both are shown per pen. */
   pairs: AssayPair[];
@@ -145,6 +149,40 @@ export interface RoundSummary {
   sequencing: SequencingCandidates[];
   notices: string[];
   cautions: readonly string[];
+}
+
+/** One reading of the site's detection: with every barn infected, or with only a few. */
+export interface SiteFigure {
+  /** "if every barn were infected at 10% of pens", "if only one barn were infected", ... */
+  label: string;
+  detection: number;
+  infectedBarns: number;
+  freedom: boolean;
+}
+
+const SMALL_NUMBERS = ['no', 'one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten'];
+
+/**
+ * The two site figures of an assay in plain words: every barn infected at the design prevalence
+ * (1 - prod(1 - p)), and only D barns infected (two-stage; D from barnDesignPrevalence, one barn
+ * without it). The first figure drives freedom unless the program sets fewer barns.
+ */
+export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigure[] {
+  const within = describeDesignPrevalence(site);
+  const few = confidence.fewInfectedBarns;
+  const fewWords =
+    few === 1 ? 'if only one barn were infected' : `if only ${SMALL_NUMBERS[few] ?? String(few)} of the ${confidence.barns} barns were infected`;
+  return [
+    { label: `if every barn were infected at ${within}`, detection: confidence.detectionIfEveryBarn, infectedBarns: confidence.barns, freedom: confidence.infectedBarns === confidence.barns },
+    { label: fewWords, detection: confidence.detectionIfFewBarns, infectedBarns: few, freedom: confidence.infectedBarns !== confidence.barns },
+  ];
+}
+
+/** The barn-level design value in words: "every barn", "1 barn", "20% of barns". */
+export function describeBarnDesignPrevalence(site: Site): string {
+  const design = site.program.barnDesignPrevalence;
+  if (design === undefined) return 'every barn';
+  return design.kind === 'barns' ? `${design.value} barn${design.value === 1 ? '' : 's'}` : `${Math.round(design.value * 1000) / 10}% of barns`;
 }
 
 export function describeDesignPrevalence(site: Site): string {
@@ -279,6 +317,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       round: { number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, roundsOnSite: rounds.length, state: round.state, resultsDueOn: round.resultsDueOn },
       program: {
         designPrevalence: describeDesignPrevalence(site),
+        barnDesignPrevalence: describeBarnDesignPrevalence(site),
         targetConfidence: site.program.targetConfidence,
         roundWindowDays: site.program.roundWindowDays,
         intervalDays: site.program.intervalDays,
@@ -287,13 +326,15 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       },
       assays: assayIds.map((id) => {
         const assay = config.assayById.get(id);
+        const siteEntry = roundConfidence.sites.find((entry) => entry.assayId === id)!;
         return {
           id,
           name: assay?.name ?? id,
           notifiable: assay?.notifiable ?? false,
           measure: assay?.measure ?? round.measures[id] ?? 'ct',
           pairedWith: assay?.measure === 'sp-ratio' ? (assay.pairedWith ?? null) : null,
-          site: roundConfidence.sites.find((entry) => entry.assayId === id)!,
+          site: siteEntry,
+          siteFigures: siteFiguresOf(site, siteEntry),
         };
       }),
       pairs: assayIds.flatMap((id): AssayPair[] => {

@@ -66,6 +66,11 @@ export class OutbreakCache {
   private readonly cache = new Map<string, Outbreaks>();
   constructor(private readonly settings: AnalysisSettings) {}
 
+  /** The seed of a barn's simulated outbreaks with `infected` pens (written into the outputs). */
+  seedFor(site: Site, barn: Barn, infected: number): number {
+    return deriveSeed(this.settings.seed, 'outbreaks', site.id, barn.id, infected);
+  }
+
   outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null {
     const inUse = barn.pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id);
     if (infected < 1 || infected > inUse.length) return null;
@@ -77,7 +82,7 @@ export class OutbreakCache {
         beta: this.settings.spreadTransmission,
         background: this.settings.spreadBackground,
         realisations: this.settings.spreadRealisations,
-        rng: seededRng(deriveSeed(this.settings.seed, 'outbreaks', site.id, barn.id, infected)),
+        rng: seededRng(this.seedFor(site, barn, infected)),
       });
       this.cache.set(key, outbreaks);
     }

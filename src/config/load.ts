@@ -153,6 +153,12 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     // Shipping to the lab and a PCR run take a few days (common practice, no source); the
     // program sets its own.
     resultGraceDays: raw.resultGraceDays ?? DEFAULT_RESULT_GRACE_DAYS,
+    barnDesignPrevalence:
+      raw.barnDesignPrevalence === undefined
+        ? undefined
+        : typeof raw.barnDesignPrevalence === 'number'
+          ? { kind: 'proportion' as const, value: raw.barnDesignPrevalence }
+          : { kind: 'barns' as const, value: raw.barnDesignPrevalence.barns },
   });
 }
 
@@ -262,6 +268,15 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       const built = problems.guard(() => loadBarn(barn, file, (...rest) => at('barns', barnIndex, ...rest), problems));
       return built === undefined ? [] : [built];
     });
+    // A number of infected barns cannot exceed the site's barns (a proportion always fits).
+    if (program.barnDesignPrevalence?.kind === 'barns' && program.barnDesignPrevalence.value > site.barns.length) {
+      const fromSite = site.program?.barnDesignPrevalence !== undefined;
+      problems.add(
+        file,
+        fromSite ? at('program', 'barnDesignPrevalence', 'barns') : formatPath(['programDefaults', 'barnDesignPrevalence', 'barns']),
+        `${program.barnDesignPrevalence.value} infected barns, but site ${site.id} has ${site.barns.length} barn${site.barns.length === 1 ? '' : 's'}: give at most ${site.barns.length}, or a proportion of the barns`,
+      );
+    }
     const samplePattern = site.samplePattern ? problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen'])) : undefined;
     return Object.freeze({
       id: site.id,

@@ -19,6 +19,16 @@ export const designPrevalenceSchema = z.union([
   z.object({ pens: z.number().int().min(1) }).strict(),
 ]);
 
+/**
+ * Barn-level design value: the barns of a site assumed infected when the site is judged as a
+ * whole, a proportion of the barns (0.2, rounded up to whole barns) or a number of barns
+ * ({ barns: 1 }). Left out: every barn is infected at the design prevalence.
+ */
+export const barnDesignPrevalenceSchema = z.union([
+  z.number().gt(0).max(1),
+  z.object({ barns: z.number().int().min(1) }).strict(),
+]);
+
 /** Rope sensitivity per assay (and optionally per age group), with a default. */
 const perAssayProbability = z.union([
   probability,
@@ -54,6 +64,8 @@ export const programSchema = z
     sizeFor: z.enum(['barn', 'site']).optional(),
     /** Days after a round's last rope date within which its results are still awaited (ropes are not missing yet). */
     resultGraceDays: z.number().int().min(0).max(120).optional(),
+    /** Infected barns at the site's design value (two-stage design); left out: every barn. */
+    barnDesignPrevalence: barnDesignPrevalenceSchema.optional(),
   })
   .strict();
 
@@ -122,8 +134,11 @@ export const analysisSchema = z
     spreadTransmission: probability.default(0.3),
     /** Per-step background infection of any pen in the spread model. */
     spreadBackground: probability.default(0.01),
-    /** Which detection model sizes the plan: the spread model where available, or the hypergeometric. */
-    sizingModel: z.enum(['spatial', 'hypergeometric']).default('spatial'),
+    /**
+     * Which detection model sizes the plan: the hypergeometric (infected pens anywhere: holds
+     * whatever places infection first), or the spread model (contagious spread from a seed pen).
+     */
+    sizingModel: z.enum(['spatial', 'hypergeometric']).default('hypergeometric'),
   })
   .strict();
 
@@ -158,7 +173,7 @@ export const sitesFileSchema = z
       spreadRealisations: 2000,
       spreadTransmission: 0.3,
       spreadBackground: 0.01,
-      sizingModel: 'spatial',
+      sizingModel: 'hypergeometric',
     }),
     programDefaults: programSchema,
     sites: z.array(siteSchema).min(1),

@@ -4,6 +4,9 @@ import type { ConfiguredPattern } from './pattern.js';
 
 export type DesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'pens'; value: number };
 
+/** Barn-level design value: a proportion of the site's barns (rounded up) or a number of barns. */
+export type BarnDesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'barns'; value: number };
+
 /** Per-assay (and per-age-group) probability with a default. */
 export interface PerAssayValue {
   default: number;
@@ -25,6 +28,11 @@ export interface Program {
   sizeFor: 'barn' | 'site';
   /** Days after a round's last rope date until its results are due: before then a rope without a result is awaited, not missing. */
   resultGraceDays: number;
+  /**
+   * Infected barns at the site's design value (Cameron & Baldock 1998, two-stage); undefined:
+   * every barn infected at the design prevalence.
+   */
+  barnDesignPrevalence: BarnDesignPrevalence | undefined;
 }
 
 export interface AnalysisSettings {

@@ -366,3 +366,45 @@ export function sizeSite(barns: readonly BarnSizing[], siteTarget: number, budge
   const what = budget !== undefined && budget < available ? `the best use of the budget of ${budget} ropes` : `a rope in every in-use pen of the site`;
   return { reachable: false, allocation, equalShareTotal, unreachable: unreachable(allocation.siteDetection, siteTarget, what) };
 }
+
+/** A Monte Carlo detection estimate of n ropes: the mean over simulated outbreaks and its standard error. */
+export interface EstimatedDetection {
+  p: number;
+  standardError: number;
+}
+
+export interface ConservativeReach {
+  /** The smallest n whose estimate minus `margin` standard errors reaches the target; null when none does. */
+  ropes: number | null;
+  /** The estimate at that n (or at maxRopes when none reaches). */
+  estimate: EstimatedDetection;
+}
+
+/**
+ * Sample size from a Monte Carlo detection model whose answer must not hang on the random seed:
+ * the smallest n in [1, maxRopes] with p(n) - margin * SE(n) >= target. Requiring the lower end
+ * of an approximate one-sided interval (margin 2: about 97.7% under the normal approximation of
+ * the mean of the simulated outbreaks) rather than the point estimate moves the chosen count
+ * away from the boundary where a different seed would flip it by one rope. Scanned upwards, not
+ * bisected: an estimate need not be exactly monotone in n.
+ * @param estimate the estimate and its standard error for n ropes
+ * @param target detection target in (0, 1)
+ * @param maxRopes ropes available, integer >= 0
+ * @param margin standard errors to subtract, >= 0 (2 by default)
+ * @throws RangeError for a target outside (0, 1), a bad maxRopes or margin, or an estimate outside [0, 1]
+ * @see Koehler E, Brown E, Haneuse SJ-PA (2009) On the assessment of Monte Carlo error in
+ *   simulation-based statistical analyses. Am Stat 63:155-162 (from memory).
+ */
+export function smallestRopesConservative(estimate: (ropes: number) => EstimatedDetection, target: number, maxRopes: number, margin = 2): ConservativeReach {
+  requireNumber('target', target, 0, 1, { openMin: true, openMax: true });
+  requireInteger('maxRopes', maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
+  requireNumber('margin', margin, 0, Number.MAX_VALUE);
+  let last: EstimatedDetection = { p: 0, standardError: 0 };
+  for (let n = 1; n <= maxRopes; n++) {
+    last = estimate(n);
+    requireProbability('estimate', last.p);
+    requireNumber('standardError', last.standardError, 0, 1);
+    if (last.p - margin * last.standardError >= target - TARGET_SLACK) return { ropes: n, estimate: last };
+  }
+  return { ropes: null, estimate: last };
+}

@@ -1,7 +1,6 @@
 /** The plan as a few lines of text for the terminal (`ropewatch plan`). */
 import type { NextRoundPlan } from '../analysis/nextRound.js';
 import { CAUTIONS } from './cautions.js';
-import { formatPercent } from '../util/format.js';
 
 export function planText(plan: NextRoundPlan): string {
   const lines = [
@@ -11,7 +10,7 @@ export function planText(plan: NextRoundPlan): string {
     lines.push(`  ${barn.barnId}: ${barn.ropes} ropes (${barn.routine} routine, ${barn.followUp} follow-up, ${barn.retest} retest). ${barn.sizing.statement}`);
   }
   lines.push(...plan.sizing.notes.map((note) => `  ${note}`));
-  lines.push(`  If the round comes back negative, the site's round sensitivity is ${formatPercent(plan.siteDetectionIfNegative)}.`);
+  lines.push(`  ${plan.sizing.ifNegative}`);
   if (plan.freedom) lines.push(`  ${plan.freedom.sentence}`);
   lines.push(...plan.notes.map((note) => `  ${note}`));
   lines.push('', 'sample_id   barn  pen   side  reason');

@@ -65,6 +65,10 @@ export const SUMMARY_COLUMNS = [
   'likely_meant_id',
   'round_state',
   'results_due_on',
+  'site_barns',
+  'infected_barns',
+  'detection_if_every_barn',
+  'detection_if_infected_barns',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -173,6 +177,10 @@ export function summaryCsv(summary: RoundSummary): string {
       freedom: formatProbability(assay.site.freedom),
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
+      site_barns: assay.site.barns,
+      infected_barns: assay.site.fewInfectedBarns,
+      detection_if_every_barn: formatProbability(assay.site.detectionIfEveryBarn),
+      detection_if_infected_barns: formatProbability(assay.site.detectionIfFewBarns),
       measure: assay.measure,
       ...mistypedCells(summary.barns.flatMap((barn) => barn.mistyped)),
     });

@@ -8,6 +8,7 @@ import {
   roundsToReach,
   sizeSite,
   smallestRopes,
+  smallestRopesConservative,
   type BarnSizing,
 } from '../../src/plan/index.js';
 import { seededRng } from '../../src/util/random.js';
@@ -182,5 +183,25 @@ describe('site sizing and budget allocation', () => {
   it('rejects a budget that is not a whole number of ropes', () => {
     expect(() => allocateRopes([], 2.5)).toThrow('`budget` must be an integer in [0, infinity), got 2.5');
     expect(() => sizeSite([], 0.95)).toThrow(RangeError);
+  });
+});
+
+describe('smallestRopesConservative (a Monte Carlo estimate less a margin of standard errors)', () => {
+  // Hand table: p(n) = n / 10, SE(n) = 0.01 for every n. Target 0.5: the point estimate reaches
+  // it at n = 5; with two standard errors 0.5 - 0.02 falls short, 0.6 - 0.02 = 0.58 reaches (by hand).
+  const estimate = (n: number) => ({ p: n / 10, standardError: 0.01 });
+  it('asks the estimate less `margin` standard errors to reach the target', () => {
+    expect(smallestRopesConservative(estimate, 0.5, 10, 0).ropes).toBe(5); // by hand
+    expect(smallestRopesConservative(estimate, 0.5, 10).ropes).toBe(6); // by hand: margin 2 by default
+    expect(smallestRopesConservative(estimate, 0.5, 10).estimate).toEqual({ p: 0.6, standardError: 0.01 });
+  });
+  it('says null when even every rope falls short, and scans past a dip (an estimate need not be monotone)', () => {
+    expect(smallestRopesConservative(estimate, 0.99, 10).ropes).toBeNull(); // 1 - 0.02 < 0.99, by hand
+    const dip = (n: number) => ({ p: [0, 0.2, 0.97, 0.5, 0.99][n]!, standardError: 0 });
+    expect(smallestRopesConservative(dip, 0.95, 4).ropes).toBe(2); // the first n reaching it, by hand
+  });
+  it('refuses an estimate outside [0, 1] and a negative margin', () => {
+    expect(() => smallestRopesConservative(() => ({ p: 1.2, standardError: 0 }), 0.5, 3)).toThrow(RangeError);
+    expect(() => smallestRopesConservative(estimate, 0.5, 3, -1)).toThrow(/margin/);
   });
 });

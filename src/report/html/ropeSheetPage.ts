@@ -7,7 +7,7 @@ import type { NextRoundPlan } from '../../analysis/nextRound.js';
 import type { Site } from '../../config/types.js';
 import { renderBarnMap, type PlannedMark } from './barnMap.js';
 import { escapeHtml } from './escape.js';
-import { count, pct, renderPage, sheetLegend } from './page.js';
+import { count, renderPage, sheetLegend } from './page.js';
 
 export interface RopeSheetInput {
   site: Site;
@@ -30,7 +30,7 @@ export function sizingLine(plan: NextRoundPlan): string {
   const retest = plan.barns.reduce((sum, barn) => sum + barn.retest, 0);
   return (
     `${count(plan.ropes.length, 'rope')} in ${count(plan.barns.length, 'barn')}: ${routine} routine, ${followUp} follow-up, ${retest} retest. ` +
-    `If they all come back negative on time, the site has ${pct(plan.siteDetectionIfNegative)} detection confidence at the design prevalence (target ${pct(plan.sizing.target)} per ${plan.sizing.sizeFor}).`
+    plan.sizing.ifNegative
   );
 }
 

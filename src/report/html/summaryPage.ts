@@ -55,7 +55,11 @@ function siteTable(summary: RoundSummary): string {
         : `${antibody ? 'freedom from exposure: ' : ''}${pct(site.priorFreedom)} before this round \u2192 <strong>${pct(site.freedom)}</strong> after it (repeated rounds like this level off at ${pct(site.levelsOffAt)})`;
       const result = site.positive ? `${antibody ? 'antibody ' : ''}positive in ${escapeHtml(site.positiveBarns.join(', '))}` : antibody ? 'no antibody-positive rope' : 'no positive rope';
       const name = antibody ? `${escapeHtml(assay.name)} <span class="muted">(antibody, S/P: exposure)</span>` : escapeHtml(assay.name);
-      return `<tr data-assay="${escapeHtml(assay.id)}" data-measure="${assay.measure}"><td>${name}</td><td class="num">${pct(site.detectionConfidence)}</td><td>${result}</td><td>${freedom}</td></tr>`;
+      // Both site figures, each in plain words; the one freedom is built on is marked.
+      const figures = assay.siteFigures
+        .map((figure) => `<span data-site-figure="${figure.infectedBarns}"${figure.freedom ? ' data-freedom=""' : ''}>${figure.freedom ? '<strong>' : ''}${pct(figure.detection)}${figure.freedom ? '</strong>' : ''} ${escapeHtml(figure.label)}${figure.freedom ? ' (freedom is built on this)' : ''}</span>`)
+        .join('<br>');
+      return `<tr data-assay="${escapeHtml(assay.id)}" data-measure="${assay.measure}"><td>${name}</td><td>${figures}</td><td>${result}</td><td>${freedom}</td></tr>`;
     })
     .join('');
   const meanings = summary.assays
