@@ -32,6 +32,7 @@ import { detectionFor, siteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
+import { monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
 import { formatPercent } from '../util/format.js';
 
 export const PLAN_SCHEMA = 'ropewatch.next-round/1';
@@ -69,7 +70,8 @@ export interface NextRoundPlan {
   daysOverdue: number;
   daysUntilDue: number;
   ropes: PlanRow[];
-  barns: (BarnPlanSummary & { sizing: BarnSizingReport })[];
+  /** `monitoring`: the barn is positive and monitored instead of surveyed (src/analysis/monitoredPlan.ts). */
+  barns: (BarnPlanSummary & { sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
   sizing: {
     sizeFor: 'barn' | 'site';
     target: number;
@@ -188,6 +190,8 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const pcrAssays = candidates.filter((assayId) => measureOf(assayId) === 'ct');
   const assays = pcrAssays.length > 0 ? pcrAssays : candidates;
   const models = barnModels(input, assays);
+  // Barns positive after the last round are monitored, not sized for detection.
+  const monitored = monitoredBarns(input.confidence.at(-1), rounds, assays);
   const notes: string[] = [];
   const sizingNotes: string[] = [];
   const target = program.targetConfidence;
@@ -204,7 +208,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   });
 
   let allocation: Allocation | null = null;
-  let routine = perBarn.map((entry) => entry.ropes);
+  let routine = perBarn.map((entry) => (monitored.has(entry.model.barn.id) ? 0 : entry.ropes));
   const total = routine.reduce((sum, n) => sum + n, 0);
   sizingNotes.push(
     program.sizeFor === 'site'
@@ -212,9 +216,9 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       : `Each barn is sized to reach ${formatPercent(target)} on its own: ${total} routine ropes.`,
   );
   if (budget !== null && total > budget) {
-    const barnSizing = models.map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
+    const barnSizing = models.filter((model) => !monitored.has(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
     allocation = allocateRopesBalanced(barnSizing, budget);
-    routine = allocation.ropes.map((entry) => entry.ropes);
+    routine = models.map((model) => allocation!.ropes.find((entry) => entry.barnId === model.barn.id)?.ropes ?? 0);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
     sizingNotes.push(
       `That is more than the budget of ${budget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
@@ -293,6 +297,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
         ringDistance: program.followUpRadius,
         ...(program.followUpRopes !== undefined ? { maxExtraRopes: program.followUpRopes } : {}),
         ...(detectSet ? { detectSet } : {}),
+        ...(monitored.has(model.barn.id) ? { monitoring: { reRope: monitored.get(model.barn.id)!.reRope, trackingRopes: program.trackingRopes } } : {}),
       };
     }),
   });
@@ -340,12 +345,17 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const lastConfidence = input.confidence.at(-1);
   const freedomAssay = models[0]?.assayId;
   const lastSite = lastConfidence?.sites.find((entry) => entry.assayId === freedomAssay);
-  if (lastSite && freedomAssay && lastSite.freedomReset) {
+  if (lastSite && freedomAssay && lastSite.status?.state === 'positive') {
+    notes.push(
+      `The site is positive for ${freedomAssay} since round ${lastSite.status.sinceRound}: it is not free, so no probability of freedom is forecast. ` +
+        `It leaves the positive state once every positive barn has had ${program.clearAfterNegativeRounds} negative round${program.clearAfterNegativeRounds === 1 ? '' : 's'} in a row; from there freedom builds up again from the prior ${formatPercent(program.priorFreedom)}.`,
+    );
+  } else if (lastSite && freedomAssay && (lastSite.freedomReset || lastSite.freedom === null)) {
     notes.push(
       `The last round was positive for ${freedomAssay}: the site is not free, so no probability of freedom is forecast. ` +
         `Once the herd's veterinarian judges the outbreak over, negative rounds build freedom up again from the prior ${formatPercent(program.priorFreedom)}.`,
     );
-  } else if (lastSite && freedomAssay) {
+  } else if (lastSite && freedomAssay && lastSite.freedom !== null) {
     const currentFreedom = lastSite.freedom;
     freedom = {
       assayId: freedomAssay,
@@ -372,7 +382,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     return { barnId: model.barn.id, static: statics.options, growing: growing.options, notes: [...statics.notes, ...growing.notes, `Infected pens double every ${GROWTH_DOUBLING_DAYS} days in the growing comparison (a modelling assumption).`] };
   });
 
-  return {
+  return withMonitoring({
     schema: PLAN_SCHEMA,
     site: { id: site.id, name: site.name, code: site.code },
     basedOn: last ? { round: last.number, id: last.id, startOn: last.startOn } : null,
@@ -389,5 +399,5 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     schedules,
     seed,
     notes,
-  };
+  }, monitored, program.clearAfterNegativeRounds);
 }

@@ -133,6 +133,15 @@ export function perAssayValue(value: PerAssayValue, assayId: string, ageGroup?: 
   return (ageGroup !== undefined ? entry.byAgeGroup[ageGroup] : undefined) ?? entry.default ?? value.default;
 }
 
+/**
+ * Two negative rounds in a row before a positive barn is monitored no more: one negative round
+ * after positives is too easily a gap in shedding (common practice, no source). The program may
+ * say otherwise (`clearAfterNegativeRounds`).
+ */
+export const DEFAULT_CLEAR_AFTER_NEGATIVE_ROUNDS = 2;
+/** Four fixed tracking ropes per positive barn: one in each quarter of a one-alley barn (a setting, not a sample size). */
+export const DEFAULT_TRACKING_ROPES = 4;
+
 function normaliseProgram(raw: z.output<typeof programSchema>): Program {
   return Object.freeze({
     designPrevalence: normaliseDesignPrevalence(raw.designPrevalence),
@@ -147,6 +156,8 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     followUpRadius: raw.followUpRadius ?? 1.5,
     followUpRopes: raw.followUpRopes,
     sizeFor: raw.sizeFor ?? 'barn',
+    clearAfterNegativeRounds: raw.clearAfterNegativeRounds ?? DEFAULT_CLEAR_AFTER_NEGATIVE_ROUNDS,
+    trackingRopes: raw.trackingRopes ?? DEFAULT_TRACKING_ROPES,
   });
 }
 

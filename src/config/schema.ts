@@ -52,6 +52,13 @@ export const programSchema = z
     followUpRopes: z.number().int().min(0).optional(),
     /** Size routine ropes so that each barn reaches the target, or so that the site does across barns. */
     sizeFor: z.enum(['barn', 'site']).optional(),
+    /**
+     * A barn positive for a PCR assay stays positive (monitored, not surveyed) until this many
+     * rounds in a row come back negative for that assay.
+     */
+    clearAfterNegativeRounds: z.number().int().min(1).max(52).optional(),
+    /** Ropes of the fixed set that tracks spread and clearance in a positive barn (same pens every round). */
+    trackingRopes: z.number().int().min(0).optional(),
   })
   .strict();
 

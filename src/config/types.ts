@@ -23,6 +23,10 @@ export interface Program {
   followUpRadius: number;
   followUpRopes: number | undefined;
   sizeFor: 'barn' | 'site';
+  /** Negative rounds in a row that end a barn's positive state for a PCR assay (default 2). */
+  clearAfterNegativeRounds: number;
+  /** Ropes of the fixed tracking set in a positive barn (default 4). */
+  trackingRopes: number;
 }
 
 export interface AnalysisSettings {
