@@ -13,7 +13,7 @@ import { summaryCsv } from '../../src/report/summaryCsv.js';
 import { parse } from 'csv-parse/sync';
 import { roundRopes, smallConfig } from './fixtures.js';
 
-type Rounds = ReturnType<typeof roundRopes>[];
+type Rounds = { ropes: ReturnType<typeof roundRopes>['ropes']; results: ResultInput[] }[];
 
 function build(config: ReturnType<typeof smallConfig>, parts: Rounds) {
   const site = config.sites[0]!;
