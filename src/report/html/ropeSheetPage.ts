@@ -35,7 +35,10 @@ export function sizingLine(plan: NextRoundPlan): string {
   const monitoring = reRope + tracking > 0 ? `, ${reRope} re-rope, ${tracking} tracking (positive barns, monitored)` : '';
   return (
     `${count(plan.ropes.length, 'rope')} in ${count(plan.barns.length, 'barn')}: ${routine} routine, ${followUp} follow-up, ${retest} retest${monitoring}. ` +
-    `If they all come back negative on time, the site has ${pct(plan.siteDetectionIfNegative)} detection confidence at the design prevalence (target ${pct(plan.sizing.target)} per ${plan.sizing.sizeFor}).`
+    // A monitored barn is known to be infected: the detection figure speaks of the surveyed barns only.
+    (monitoring === ''
+      ? `If they all come back negative on time, the site has ${pct(plan.siteDetectionIfNegative)} detection confidence at the design prevalence (target ${pct(plan.sizing.target)} per ${plan.sizing.sizeFor}).`
+      : `If the routine ropes all come back negative on time, the surveyed barns have ${pct(plan.siteDetectionIfNegative)} detection confidence at the design prevalence (target ${pct(plan.sizing.target)} per ${plan.sizing.sizeFor}); the positive barns are not counted.`)
   );
 }
 
