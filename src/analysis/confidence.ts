@@ -9,6 +9,7 @@ import { placeSystematic, smallestRopesConservative } from '../plan/index.js';
 import { detectionProbability, type DetectionEstimate, type Outbreaks } from '../spatial/index.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import { daysBetween } from '../interpret/rounds.js';
+import { negativeRoundsRule, statusOverRounds, type ClearanceRule, type PositiveState } from './barnStatus.js';
 import {
   apparentPrevalence,
   designInfectedBarns,
@@ -54,6 +55,11 @@ export interface BarnConfidence {
   roundsNeededIfUnreachable: number | null;
   positives: number;
   prevalence: PrevalenceEstimate | null;
+  /**
+   * A PCR assay: whether the barn is positive after this round (and since when) or clear, by the
+   * program's clearance rule (src/analysis/barnStatus.ts). Null for an antibody assay.
+   */
+  status: PositiveState | null;
 }
 
 export interface PrevalenceEstimate {
@@ -100,8 +106,14 @@ export interface SiteConfidence {
   introductionApplied: number;
   /** Probability of freedom the round started from. */
   priorFreedom: number;
-  /** Probability of freedom after this round (0 after a positive round: reset). */
-  freedom: number;
+  /**
+   * Probability of freedom after this round; null while the site is positive for a PCR assay
+   * (`status`): a probability of freedom means nothing for a site known to be infected. An
+   * antibody assay keeps a number (0 after a positive round: reset).
+   */
+  freedom: number | null;
+  /** A PCR assay: positive since a round, or clear, by the program's clearance rule. Null for an antibody assay. */
+  status: PositiveState | null;
   /** What the next round starts from if nothing else is learned. */
   nextPrior: number;
   /** Where repeated rounds like this one level off. */
@@ -203,6 +215,7 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
     roundsNeededIfUnreachable: size.reachable ? null : size.roundsNeeded,
     positives: tally.positive,
     prevalence,
+    status: null,
   };
 }
 
@@ -239,13 +252,24 @@ export function siteFigures(
  * introduction risk still accrues, so a missed or late round lowers confidence. Assays never
  * share a freedom: a positive of one (an antibody assay's above all) resets only its own.
  */
-export function siteConfidence(site: Site, rounds: readonly SiteRound[], spread?: SpreadSizing): RoundConfidence[] {
+export function siteConfidence(
+  site: Site,
+  rounds: readonly SiteRound[],
+  spread?: SpreadSizing,
+  rule: ClearanceRule = negativeRoundsRule(site.program.clearAfterNegativeRounds),
+): RoundConfidence[] {
   const program = site.program;
+  const statuses = statusOverRounds({ rounds, barnIds: site.barns.map((barn) => barn.id), rule });
   const assays = [...new Set(rounds.flatMap((round) => round.assays))].sort();
   const perRound: RoundConfidence[] = rounds.map((round, index) => ({
     roundNumber: round.number,
     // The plan after round `index` lays its ropes out as round index + 1 (nextRound.ts).
-    barns: round.assays.flatMap((assayId) => site.barns.map((barn) => barnConfidence(site, round, barn, assayId, spread ? { sizing: spread, roundIndex: index + 1 } : undefined))),
+    barns: round.assays.flatMap((assayId) =>
+      site.barns.map((barn) => ({
+        ...barnConfidence(site, round, barn, assayId, spread ? { sizing: spread, roundIndex: index + 1 } : undefined),
+        status: statuses[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)?.status ?? null,
+      })),
+    ),
     sites: [],
   }));
   // A round awaiting its results has proved nothing yet, nor failed to: it has no detection
@@ -275,6 +299,7 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[], spread?
       const step = freedom.rounds[position]!;
       const previousStep = freedom.rounds[position - 1];
       const index = counted[position]!.index;
+      const status = statuses[index]!.sites.find((entry) => entry.assayId === assayId)?.status ?? null;
       perRound[index]!.sites.push({
         assayId,
         measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',
@@ -285,7 +310,11 @@ export function siteConfidence(site: Site, rounds: readonly SiteRound[], spread?
         daysSincePrevious: round.daysSincePrevious,
         introductionApplied: previousStep ? previousStep.introduction : 0,
         priorFreedom: step.prior,
-        freedom: step.posterior,
+        // The negative rounds that clear a site count as evidence from the prior on (Martin,
+        // Cameron & Greiner 2007 restart after a positive round); only the number is withheld
+        // while the site is positive.
+        freedom: status?.state === 'positive' ? null : step.posterior,
+        status,
         nextPrior: step.nextPrior,
         levelsOffAt: freedomEquilibrium(round.sensitivity, program.introductionPerInterval).posterior,
         freedomReset: round.positive,

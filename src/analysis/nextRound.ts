@@ -33,6 +33,7 @@ import { deriveSeed, seededRng } from '../util/random.js';
 import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
+import { monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
 import { formatPercent } from '../util/format.js';
 
 export const PLAN_SCHEMA = 'ropewatch.next-round/1';
@@ -76,7 +77,8 @@ export interface NextRoundPlan {
   daysOverdue: number;
   daysUntilDue: number;
   ropes: PlanRow[];
-  barns: (BarnPlanSummary & { sizing: BarnSizingReport })[];
+  /** `monitoring`: the barn is positive and monitored instead of surveyed (src/analysis/monitoredPlan.ts). */
+  barns: (BarnPlanSummary & { sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
   sizing: {
     /** The detection model that sized the routine ropes (analysis.sizingModel). */
     sizingModel: 'hypergeometric' | 'spatial';
@@ -210,6 +212,8 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const pcrAssays = candidates.filter((assayId) => measureOf(assayId) === 'ct');
   const assays = pcrAssays.length > 0 ? pcrAssays : candidates;
   const models = barnModels(input, assays);
+  // Barns positive after the last round are monitored, not sized for detection.
+  const monitored = monitoredBarns(input.confidence.at(-1), rounds, assays);
   const notes: string[] = [];
   const sizingNotes: string[] = [];
   const target = program.targetConfidence;
@@ -234,7 +238,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   });
 
   let allocation: Allocation | null = null;
-  let routine = perBarn.map((entry) => entry.ropes);
+  let routine = perBarn.map((entry) => (monitored.has(entry.model.barn.id) ? 0 : entry.ropes));
   const total = routine.reduce((sum, n) => sum + n, 0);
   const infectedWords = infectedBarns === models.length ? `every one of its ${models.length} barns infected` : `${infectedBarns} of its ${models.length} barns infected (barns at random)`;
   sizingNotes.push(
@@ -243,9 +247,9 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       : `Each barn is sized to reach ${formatPercent(target)} on its own: ${total} routine ropes.`,
   );
   if (budget !== null && total > budget) {
-    const barnSizing = models.map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
+    const barnSizing = models.filter((model) => !monitored.has(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
     allocation = allocateRopesBalanced(barnSizing, budget);
-    routine = allocation.ropes.map((entry) => entry.ropes);
+    routine = models.map((model) => allocation!.ropes.find((entry) => entry.barnId === model.barn.id)?.ropes ?? 0);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
     sizingNotes.push(
       `That is more than the budget of ${budget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
@@ -335,6 +339,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
         ringDistance: program.followUpRadius,
         ...(program.followUpRopes !== undefined ? { maxExtraRopes: program.followUpRopes } : {}),
         ...(detectSet ? { detectSet } : {}),
+        ...(monitored.has(model.barn.id) ? { monitoring: { reRope: monitored.get(model.barn.id)!.reRope, trackingRopes: program.trackingRopes } } : {}),
       };
     }),
   });
@@ -404,21 +409,30 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const modelName = spatialSizing ? 'spread model' : 'hypergeometric model';
   const siteWords =
     infectedBarns === models.length ? `if every barn were infected at ${describeDesign(site)}` : infectedBarns === 1 ? 'if only one barn were infected' : `if only ${infectedBarns} of the ${models.length} barns were infected`;
-  const weakestBarn = Math.min(...barns.map((barn) => barn.sizing.plannedDetection));
+  // A monitored barn is known to be infected: the least detection is that of the surveyed barns.
+  const surveyed = barns.filter((barn) => !monitored.has(barn.barnId));
+  const weakestBarn = Math.min(...surveyed.map((barn) => barn.sizing.plannedDetection));
   const ifNegative =
-    program.sizeFor === 'barn'
+    surveyed.length === 0
+      ? 'Every barn is positive and monitored: the ropes follow the infection, no detection figure applies.'
+      : program.sizeFor === 'barn'
       ? `If they all come back negative on time, each barn has at least ${formatPercent(weakestBarn)} detection confidence at the design prevalence (target ${formatPercent(target)} per barn, ${modelName}); the site ${formatPercent(siteDetectionIfNegative)} ${siteWords}.`
       : `If they all come back negative on time, the site has ${formatPercent(siteDetectionIfNegative)} detection confidence ${siteWords} (target ${formatPercent(target)} for the site, ${modelName}).`;
   let freedom: NextRoundPlan['freedom'] = null;
   const lastConfidence = freedomIndex < 0 ? undefined : input.confidence[freedomIndex];
   const freedomAssay = models[0]?.assayId;
   const lastSite = lastConfidence?.sites.find((entry) => entry.assayId === freedomAssay);
-  if (lastSite && freedomAssay && lastSite.freedomReset) {
+  if (lastSite && freedomAssay && lastSite.status?.state === 'positive') {
+    notes.push(
+      `The site is positive for ${freedomAssay} since round ${lastSite.status.sinceRound}: it is not free, so no probability of freedom is forecast. ` +
+        `It leaves the positive state once every positive barn has had ${program.clearAfterNegativeRounds} negative round${program.clearAfterNegativeRounds === 1 ? '' : 's'} in a row; from there freedom builds up again from the prior ${formatPercent(program.priorFreedom)}.`,
+    );
+  } else if (lastSite && freedomAssay && (lastSite.freedomReset || lastSite.freedom === null)) {
     notes.push(
       `The last round was positive for ${freedomAssay}: the site is not free, so no probability of freedom is forecast. ` +
         `Once the herd's veterinarian judges the outbreak over, negative rounds build freedom up again from the prior ${formatPercent(program.priorFreedom)}.`,
     );
-  } else if (lastSite && freedomAssay) {
+  } else if (lastSite && freedomAssay && lastSite.freedom !== null) {
     const currentFreedom = lastSite.freedom;
     freedom = {
       assayId: freedomAssay,
@@ -445,7 +459,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     return { barnId: model.barn.id, static: statics.options, growing: growing.options, notes: [...statics.notes, ...growing.notes, `Infected pens double every ${GROWTH_DOUBLING_DAYS} days in the growing comparison (a modelling assumption).`] };
   });
 
-  return {
+  return withMonitoring({
     schema: PLAN_SCHEMA,
     site: { id: site.id, name: site.name, code: site.code },
     basedOn: last ? { round: last.number, id: last.id, startOn: last.startOn } : null,
@@ -462,5 +476,5 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     schedules,
     seed,
     notes,
-  };
+  }, monitored, program.clearAfterNegativeRounds);
 }

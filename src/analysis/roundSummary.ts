@@ -120,6 +120,8 @@ export interface RoundSummary {
     intervalDays: number;
     priorFreedom: number;
     introductionPerInterval: number;
+    /** Negative rounds in a row that clear a positive barn (per PCR assay). */
+    clearAfterNegativeRounds: number;
   };
   assays: {
     id: string;
@@ -251,8 +253,11 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         continue;
       }
       if (entry.freedomReset) {
+        const rounds = site.program.clearAfterNegativeRounds;
         notices.push(
-          `${entry.assayId} positive in barn${entry.positiveBarns.length === 1 ? '' : 's'} ${entry.positiveBarns.join(', ')}: the probability of freedom for ${site.name} is reset to 0 and builds up again from the prior once rounds are negative.`,
+          `${entry.assayId} positive in barn${entry.positiveBarns.length === 1 ? '' : 's'} ${entry.positiveBarns.join(', ')}: ${site.name} is positive` +
+            (entry.status?.state === 'positive' ? ` since round ${entry.status.sinceRound}` : '') +
+            `. Positive barns are monitored, not surveyed, until ${rounds} negative round${rounds === 1 ? '' : 's'} in a row clear them; the probability of freedom then builds up again from the prior.`,
         );
       }
     }
@@ -323,6 +328,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         intervalDays: site.program.intervalDays,
         priorFreedom: site.program.priorFreedom,
         introductionPerInterval: site.program.introductionPerInterval,
+        clearAfterNegativeRounds: site.program.clearAfterNegativeRounds,
       },
       assays: assayIds.map((id) => {
         const assay = config.assayById.get(id);

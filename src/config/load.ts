@@ -135,6 +135,14 @@ export function perAssayValue(value: PerAssayValue, assayId: string, ageGroup?: 
 
 /** Days after a round's last rope date until its results are due, when the program does not say. */
 export const DEFAULT_RESULT_GRACE_DAYS = 7;
+/**
+ * Two negative rounds in a row before a positive barn is monitored no more: one negative round
+ * after positives is too easily a gap in shedding (common practice, no source). The program may
+ * say otherwise (`clearAfterNegativeRounds`).
+ */
+export const DEFAULT_CLEAR_AFTER_NEGATIVE_ROUNDS = 2;
+/** Four fixed tracking ropes per positive barn: one in each quarter of a one-alley barn (a setting, not a sample size). */
+export const DEFAULT_TRACKING_ROPES = 4;
 
 function normaliseProgram(raw: z.output<typeof programSchema>): Program {
   return Object.freeze({
@@ -159,6 +167,8 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
         : typeof raw.barnDesignPrevalence === 'number'
           ? { kind: 'proportion' as const, value: raw.barnDesignPrevalence }
           : { kind: 'barns' as const, value: raw.barnDesignPrevalence.barns },
+    clearAfterNegativeRounds: raw.clearAfterNegativeRounds ?? DEFAULT_CLEAR_AFTER_NEGATIVE_ROUNDS,
+    trackingRopes: raw.trackingRopes ?? DEFAULT_TRACKING_ROPES,
   });
 }
 

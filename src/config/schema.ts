@@ -66,6 +66,13 @@ export const programSchema = z
     resultGraceDays: z.number().int().min(0).max(120).optional(),
     /** Infected barns at the site's design value (two-stage design); left out: every barn. */
     barnDesignPrevalence: barnDesignPrevalenceSchema.optional(),
+    /**
+     * A barn positive for a PCR assay stays positive (monitored, not surveyed) until this many
+     * rounds in a row come back negative for that assay.
+     */
+    clearAfterNegativeRounds: z.number().int().min(1).max(52).optional(),
+    /** Ropes of the fixed set that tracks spread and clearance in a positive barn (same pens every round). */
+    trackingRopes: z.number().int().min(0).optional(),
   })
   .strict();
 

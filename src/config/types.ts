@@ -33,6 +33,10 @@ export interface Program {
    * every barn infected at the design prevalence.
    */
   barnDesignPrevalence: BarnDesignPrevalence | undefined;
+  /** Negative rounds in a row that end a barn's positive state for a PCR assay (default 2). */
+  clearAfterNegativeRounds: number;
+  /** Ropes of the fixed tracking set in a positive barn (default 4). */
+  trackingRopes: number;
 }
 
 export interface AnalysisSettings {

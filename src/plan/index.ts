@@ -5,3 +5,4 @@ export * from './schedule.js';
 export * from './frequency.js';
 export * from './sampleId.js';
 export * from './roundPlan.js';
+export * from './monitoring.js';

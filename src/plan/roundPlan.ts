@@ -10,7 +10,8 @@
  */
 import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/layout.js';
 import { requireInteger } from './checks.js';
-import { planFollowUp, type RopeReason } from './followUp.js';
+import { planFollowUp } from './followUp.js';
+import { planMonitoredBarn, type PlanReason } from './monitoring.js';
 import { coverageRounds, placeSystematic, placementDistances } from './placement.js';
 import { formatSampleId, isWriteFriendlyCheck } from './sampleId.js';
 
@@ -32,6 +33,11 @@ export interface BarnRoundInput {
   detectSet?: (penIds: readonly string[]) => number;
   /** A periodicity along the rows in pens (e.g. 4: every fourth pen a hospital pen). */
   period?: number;
+  /**
+   * The barn is positive: monitored instead of surveyed (src/plan/monitoring.ts). Its routine
+   * ropes are then 0; positive pens are re-roped and a fixed tracking set replaces the rotation.
+   */
+  monitoring?: { reRope: readonly string[]; trackingRopes: number };
 }
 
 export interface RoundPlanInput {
@@ -49,7 +55,7 @@ export interface PlanRow {
   penId: string;
   /** The row's label: the side of the alley. */
   side: string;
-  reason: RopeReason;
+  reason: PlanReason;
   dueDate: string;
 }
 
@@ -59,6 +65,9 @@ export interface BarnPlanSummary {
   routine: number;
   followUp: number;
   retest: number;
+  /** A positive (monitored) barn: positive pens re-roped and ropes of the fixed tracking set. */
+  reRope: number;
+  tracking: number;
   /** Of all ropes in the barn, pen units; null without ropes. */
   coveringRadius: number | null;
   meanDistance: number | null;
@@ -121,6 +130,43 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
   const barns: BarnPlanSummary[] = [];
   for (const barn of input.barns) {
     const pens = expandLayout(barn.layout);
+    if (barn.monitoring) {
+      const monitored = planMonitoredBarn({
+        pens,
+        contacts: penContacts(barn.layout, pens),
+        reRope: barn.monitoring.reRope,
+        clusters: clustersOf(barn),
+        retest: [...new Set([...(barn.suspects ?? []), ...(barn.invalids ?? [])])],
+        trackingRopes: barn.monitoring.trackingRopes,
+        ringDistance: barn.ringDistance ?? 0,
+        ...(barn.maxExtraRopes !== undefined ? { maxExtraRopes: barn.maxExtraRopes } : {}),
+        ...(barn.detectSet ? { detectSet: barn.detectSet } : {}),
+      });
+      const reasonOf = new Map(monitored.ropes.map((r) => [r.penId, r.reason]));
+      for (const pen of walkingOrder(pens)) {
+        const reason = reasonOf.get(pen.id);
+        if (!reason) continue;
+        rows.push({ sampleId: nextId(), siteId: input.siteCode.toUpperCase(), barnId: barn.barnId, penId: pen.id, side: pen.rowLabel, reason, dueDate: input.dueDate });
+      }
+      const count = (reason: PlanReason) => monitored.ropes.filter((r) => r.reason === reason).length;
+      const all = placementDistances(pens, monitored.ropes.map((r) => r.penId));
+      barns.push({
+        barnId: barn.barnId,
+        ropes: monitored.ropes.length,
+        routine: 0,
+        followUp: count('follow-up'),
+        retest: count('retest'),
+        reRope: count('re-rope'),
+        tracking: count('tracking'),
+        coveringRadius: all.coveringRadius,
+        meanDistance: all.meanDistance,
+        routineCoveringRadius: monitored.trackingCoveringRadius,
+        coverageRounds: null,
+        cycleLength: 1,
+        notes: monitored.notes,
+      });
+      continue;
+    }
     const placement = placeSystematic(pens, {
       ropes: barn.routineRopes,
       roundIndex: barn.roundIndex,
@@ -142,7 +188,7 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
       if (!reason) continue;
       rows.push({ sampleId: nextId(), siteId: input.siteCode.toUpperCase(), barnId: barn.barnId, penId: pen.id, side: pen.rowLabel, reason, dueDate: input.dueDate });
     }
-    const count = (reason: RopeReason) => followUp.ropes.filter((r) => r.reason === reason).length;
+    const count = (reason: PlanReason) => followUp.ropes.filter((r) => r.reason === reason).length;
     const all = placementDistances(pens, followUp.ropes.map((r) => r.penId));
     const coverage = barn.routineRopes > 0 ? coverageRounds(pens, barn.routineRopes, barn.roundIndex) : null;
     barns.push({
@@ -151,6 +197,8 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
       routine: count('routine'),
       followUp: count('follow-up'),
       retest: count('retest'),
+      reRope: 0,
+      tracking: 0,
       coveringRadius: all.coveringRadius,
       meanDistance: all.meanDistance,
       routineCoveringRadius: placement.coveringRadius,

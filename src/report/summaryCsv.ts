@@ -69,6 +69,7 @@ export const SUMMARY_COLUMNS = [
   'infected_barns',
   'detection_if_every_barn',
   'detection_if_infected_barns',
+  'positive_since',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -174,7 +175,9 @@ export function summaryCsv(summary: RoundSummary): string {
       invalid: totals.invalid,
       detection_confidence: formatProbability(assay.site.detectionConfidence),
       target_confidence: summary.program.targetConfidence,
-      freedom: formatProbability(assay.site.freedom),
+      // A site positive for a PCR assay has a status, not a probability of freedom.
+      freedom: assay.site.status?.state === 'positive' || assay.site.freedom === null ? 'positive' : formatProbability(assay.site.freedom),
+      positive_since: assay.site.status?.state === 'positive' ? assay.site.status.sinceRound : null,
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
       site_barns: assay.site.barns,
@@ -213,6 +216,8 @@ export function summaryCsv(summary: RoundSummary): string {
         apparent_prevalence_low95: c.prevalence ? formatProbability(c.prevalence.lower95) : null,
         apparent_prevalence_high95: c.prevalence ? formatProbability(c.prevalence.upper95) : null,
         true_prevalence: c.prevalence ? formatProbability(c.prevalence.trueEstimate) : null,
+        freedom: c.status?.state === 'positive' ? 'positive' : null,
+        positive_since: c.status?.state === 'positive' ? c.status.sinceRound : null,
         ...provenance(barn.sources, entry.assayId),
         measure: c.measure,
         ...mistypedCells(barn.mistyped),

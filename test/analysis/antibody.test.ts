@@ -53,7 +53,7 @@ describe('an antibody positive beside negative PCR', () => {
   it('never resets the PCR freedom: it builds as after any negative round', () => {
     // 18 of 36 pens, d = 1, Se = 1: SSe = 1/2; PF' = 0.5 / (1 - 0.5 * 0.5) = 2/3 (method 6, by hand).
     expect(pcr).toMatchObject({ measure: 'ct', positive: false, freedomReset: false });
-    expectClose(pcr.freedom, 2 / 3, { rel: 1e-12 }, 'PCR posterior after a negative round');
+    expectClose(pcr.freedom!, 2 / 3, { rel: 1e-12 }, 'PCR posterior after a negative round');
   });
 
   it("resets the antibody assay's own freedom from exposure", () => {
@@ -80,8 +80,8 @@ describe('an antibody round with negative results', () => {
     const { confidence } = analyse(config, []);
     const antibody = confidence[0]!.sites.find((entry) => entry.assayId === 'PRRSV-AB')!;
     expectClose(antibody.detectionConfidence, 0.25, { rel: 1e-12 }, 'antibody SSe with Se 0.5');
-    expectClose(antibody.freedom, 4 / 7, { rel: 1e-12 }, 'antibody posterior');
-    expectClose(confidence[0]!.sites.find((entry) => entry.assayId === 'PRRSV')!.freedom, 2 / 3, { rel: 1e-12 }, 'PCR posterior');
+    expectClose(antibody.freedom!, 4 / 7, { rel: 1e-12 }, 'antibody posterior');
+    expectClose(confidence[0]!.sites.find((entry) => entry.assayId === 'PRRSV')!.freedom!, 2 / 3, { rel: 1e-12 }, 'PCR posterior');
   });
 });
 

@@ -29,7 +29,8 @@ describe('what each round proved, per barn and site', () => {
   });
 
   it('updates freedom round by round and resets it after a positive round (Martin, Cameron & Greiner 2007, method 6)', () => {
-    const config = smallConfig();
+    // One negative round clears the site here, so that round 4 shows the restarted probability.
+    const config = smallConfig({ clearAfterNegativeRounds: 1 });
     const site = config.sites[0]!;
     const r1 = roundRopes('2026-08-03', 18, 'R1');
     const r2 = roundRopes('2026-08-17', 18, 'R2');
@@ -41,14 +42,15 @@ describe('what each round proved, per barn and site', () => {
     const steps = confidence.map((round) => round.sites[0]!);
     expectClose(steps[0]!.detectionConfidence, sse, { rel: 1e-12 }, 'SSe round 1');
     // Round 1: PF' = 0.5 / (1 - 0.5 * 0.5) = 2/3.
-    expectClose(steps[0]!.freedom, 2 / 3, { rel: 1e-12 }, 'posterior round 1');
+    expectClose(steps[0]!.freedom!, 2 / 3, { rel: 1e-12 }, 'posterior round 1');
     // Round 2, 14 days later: prior 2/3 * (1 - 0.01) = 0.66; PF' = 0.66 / (1 - 0.5 * 0.34) = 0.66 / 0.83.
     expectClose(steps[1]!.priorFreedom, 0.66, { rel: 1e-12 }, 'prior round 2');
-    expectClose(steps[1]!.freedom, 0.66 / 0.83, { rel: 1e-12 }, 'posterior round 2');
-    // Round 3 is positive: freedom 0, reset.
-    expect(steps[2]!).toMatchObject({ positive: true, freedom: 0, freedomReset: true });
+    expectClose(steps[1]!.freedom!, 0.66 / 0.83, { rel: 1e-12 }, 'posterior round 2');
+    // Round 3 is positive: the site is positive, so no probability of freedom (status instead).
+    expect(steps[2]!).toMatchObject({ positive: true, freedom: null, freedomReset: true, status: { state: 'positive', sinceRound: 3 } });
     // Round 4 restarts from the prior 0.5; 28 days gap does not matter for the restart in update-then-discount order.
-    expectClose(steps[3]!.freedom, 2 / 3, { rel: 1e-12 }, 'posterior after the restart');
+    expect(steps[3]!.status).toEqual({ state: 'clear', clearedAtRound: 4 });
+    expectClose(steps[3]!.freedom!, 2 / 3, { rel: 1e-12 }, 'posterior after the restart');
     // The positive round's prevalence: 1 of 18 sampled, exact 95% interval (Clopper-Pearson) upper bound 0.2729 (from memory, checked by the oracle tests of src/stats).
     const barn = confidence[2]!.barns[0]!;
     expectClose(barn.prevalence!.apparent, 1 / 18, { rel: 1e-12 }, 'apparent prevalence');
@@ -66,6 +68,6 @@ describe('what each round proved, per barn and site', () => {
     const freedomLate = siteConfidence(site, buildSiteRounds(site, [...first.ropes, ...late.ropes], [...first.results, ...late.results]))[1]!.sites[0]!;
     // 42 days (2026-08-03 to 2026-09-14) = three intervals: 1 - PI = 0.99^3 (method 6 with elapsed-days scaling).
     expectClose(freedomLate.priorFreedom, (2 / 3) * 0.99 ** 3, { rel: 1e-12 }, 'prior after 42 days');
-    expect(freedomLate.freedom).toBeLessThan(freedomOnTime.freedom);
+    expect(freedomLate.freedom!).toBeLessThan(freedomOnTime.freedom!);
   });
 });

@@ -6,7 +6,7 @@ import { loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 
-export function smallConfig(program: Record<string, unknown> = {}, analysis: Record<string, unknown> = {}): Config {
+export function smallConfig(program: Record<string, unknown> = {}, analysis: Record<string, unknown> = {}, layout: Record<string, unknown> = { rows: 2, pensPerRow: 18 }): Config {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-analysis-'));
   fs.mkdirSync(path.join(dir, 'labs'));
   for (const name of ['assays.yaml', 'labs/northfield.yaml']) fs.copyFileSync(path.join(DEMO_CONFIG_DIR, name), path.join(dir, name));
@@ -28,7 +28,7 @@ export function smallConfig(program: Record<string, unknown> = {}, analysis: Rec
   const sites = {
     analysis: { seed: 3, sizingModel: 'hypergeometric', ...analysis },
     programDefaults,
-    sites: [{ id: 'test-site', name: 'Test Site', code: 'TST', barns: [{ id: 'B1', layout: { rows: 2, pensPerRow: 18 } }] }],
+    sites: [{ id: 'test-site', name: 'Test Site', code: 'TST', barns: [{ id: 'B1', layout }] }],
   };
   fs.writeFileSync(path.join(dir, 'sites.yaml'), JSON.stringify(sites));
   return loadConfig(dir);

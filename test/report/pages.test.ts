@@ -106,7 +106,7 @@ describe('the pages of the demo', () => {
 describe('roundAlerts on the demo scenario', () => {
   // Expected alerts follow the scenario's own summary.json counts, checked by reading those files:
   // Hollow Creek r04 has the first PRRSV positive (F1), a suspect in F3 and a rope missing in F2;
-  // r07 has a significant F1 cluster; Tamsin Ridge r02 has an invalid PRRSV result in N2, and r04
+  // r07 has spread in F1; Tamsin Ridge r02 has an invalid PRRSV result in N2, and r04
   // started 42 days after r03 with a 21-day interval.
   const kinds = (siteIndex: number, round: number) => {
     const analysis = demo.analyses[siteIndex]!;
@@ -122,8 +122,10 @@ describe('roundAlerts on the demo scenario', () => {
     expect(alerts).toContain('freedom-reset:-');
   });
 
-  it('reports the significant cluster of the last Hollow Creek round', () => {
-    expect(kinds(0, 7)).toContain('significant-cluster:F1');
+  it('reports the spread in the last Hollow Creek round', () => {
+    // F1 is positive from r04 on and monitored: its ropes follow the positive pens (re-roped,
+    // ring, fixed tracking set), so r05 to r07 show spread, not a cluster against negative pens.
+    expect(kinds(0, 7)).toContain('spread:F1');
     expect(kinds(0, 7)).not.toContain('first-positive:-');
   });
 

@@ -7,6 +7,7 @@
 import { expandLayout, type BarnLayout, type PenStatus } from '../../domain/layout.js';
 import { COLOURS, LOAD_RAMP, loadStep } from './palette.js';
 import { escapeHtml, safeId } from './escape.js';
+import type { PlanReason } from '../../plan/monitoring.js';
 
 export interface MapMargin {
   left: number;
@@ -123,7 +124,7 @@ export interface PenMark {
 
 /** A planned rope on the rope sheet. */
 export interface PlannedMark {
-  reason: 'routine' | 'follow-up' | 'retest';
+  reason: PlanReason;
   /** 1-based line of the checklist. */
   order: number;
 }
@@ -164,6 +165,10 @@ function plannedSymbol(mark: PlannedMark, cx: number, cy: number, r: number): st
       return `<polygon points="${s(cx)},${s(cy - r * 1.2)} ${s(cx + r * 1.15)},${s(cy + r * 0.85)} ${s(cx - r * 1.15)},${s(cy + r * 0.85)}" fill="#ffffff" stroke="#000000" stroke-width="2.4"/>`;
     case 'retest':
       return `<rect x="${s(cx - r)}" y="${s(cy - r)}" width="${s(2 * r)}" height="${s(2 * r)}" fill="#ffffff" stroke="#000000" stroke-width="2.4" transform="rotate(45 ${s(cx)} ${s(cy)})"/>`;
+    case 're-rope':
+      return `<rect x="${s(cx - r * 0.9)}" y="${s(cy - r * 0.9)}" width="${s(1.8 * r)}" height="${s(1.8 * r)}" fill="#ffffff" stroke="#000000" stroke-width="3"/>`;
+    case 'tracking':
+      return `<circle cx="${s(cx)}" cy="${s(cy)}" r="${s(r)}" fill="#ffffff" stroke="#000000" stroke-width="2" stroke-dasharray="3 2"/>`;
   }
 }
 

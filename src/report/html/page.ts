@@ -238,7 +238,7 @@ function legendSymbols(key: string): string {
 }
 
 /** Legend of a rope-sheet map: the reason shapes. */
-export function sheetLegend(rawKey: string): string {
+export function sheetLegend(rawKey: string, monitored = false): string {
   const key = safeId(rawKey);
   const shape = (inner: string) => `<svg width="22" height="22" viewBox="0 0 22 22" aria-hidden="true">${inner}</svg>`;
   return (
@@ -246,6 +246,10 @@ export function sheetLegend(rawKey: string): string {
     `<span class="item">${shape('<circle cx="11" cy="11" r="8" fill="#ffffff" stroke="#000000" stroke-width="2"/>')}routine rope</span>` +
     `<span class="item">${shape('<polygon points="11,2 20.5,18.5 1.5,18.5" fill="#ffffff" stroke="#000000" stroke-width="2.4"/>')}follow-up rope (next to a positive)</span>` +
     `<span class="item">${shape('<rect x="5" y="5" width="12" height="12" fill="#ffffff" stroke="#000000" stroke-width="2.4" transform="rotate(45 11 11)"/>')}retest rope</span>` +
+    (monitored
+      ? `<span class="item">${shape('<rect x="3" y="3" width="16" height="16" fill="#ffffff" stroke="#000000" stroke-width="3"/>')}re-rope (positive pen: its Ct series goes on)</span>` +
+        `<span class="item">${shape('<circle cx="11" cy="11" r="8" fill="#ffffff" stroke="#000000" stroke-width="2" stroke-dasharray="3 2"/>')}tracking rope (same pens every round)</span>`
+      : '') +
     `<span class="item">number = line on the checklist</span>` +
     `<span class="item">${hatch(`${key}-lg-e`, false)}empty</span>` +
     `<span class="item">${hatch(`${key}-lg-o`, true)}out of use</span>` +

@@ -21,6 +21,8 @@ const REASON_WORD: Readonly<Record<PlannedMark['reason'], string>> = {
   routine: 'routine',
   'follow-up': 'follow-up (next to a positive)',
   retest: 'retest',
+  're-rope': 're-rope (positive pen: Ct series)',
+  tracking: 'tracking (fixed set: spread, clearance)',
 };
 
 /** The one-line sizing statement of the sheet. */
@@ -28,9 +30,14 @@ export function sizingLine(plan: NextRoundPlan): string {
   const routine = plan.barns.reduce((sum, barn) => sum + barn.routine, 0);
   const followUp = plan.barns.reduce((sum, barn) => sum + barn.followUp, 0);
   const retest = plan.barns.reduce((sum, barn) => sum + barn.retest, 0);
+  const reRope = plan.barns.reduce((sum, barn) => sum + barn.reRope, 0);
+  const tracking = plan.barns.reduce((sum, barn) => sum + barn.tracking, 0);
+  const monitoring = reRope + tracking > 0 ? `, ${reRope} re-rope, ${tracking} tracking (positive barns, monitored)` : '';
   return (
-    `${count(plan.ropes.length, 'rope')} in ${count(plan.barns.length, 'barn')}: ${routine} routine, ${followUp} follow-up, ${retest} retest. ` +
-    plan.sizing.ifNegative
+    `${count(plan.ropes.length, 'rope')} in ${count(plan.barns.length, 'barn')}: ${routine} routine, ${followUp} follow-up, ${retest} retest${monitoring}. ` +
+    plan.sizing.ifNegative +
+    // A monitored barn is known to be infected: the detection figures speak of the surveyed barns only.
+    (monitoring === '' ? '' : ' The positive barns are monitored and not counted in these figures.')
   );
 }
 
@@ -74,7 +81,7 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
       const checklist = compact ? `<div class="checklist-pair">${table(ropes.slice(0, half))}${table(ropes.slice(half))}</div>` : table(ropes);
       return (
         `<section class="barn" data-barn="${escapeHtml(barn.id)}"><h2>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${count(ropes.length, 'rope')}</h2>` +
-        `<figure>${map}</figure>${sheetLegend(`sheet-${barn.id}`)}` +
+        `<figure>${map}</figure>${sheetLegend(`sheet-${barn.id}`, ropes.some((rope) => rope.reason === 're-rope' || rope.reason === 'tracking'))}` +
         `${checklist}</section>`
       );
     })

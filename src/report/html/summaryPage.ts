@@ -48,7 +48,10 @@ function siteTable(summary: RoundSummary): string {
       const site = assay.site;
       const antibody = assay.measure === 'sp-ratio';
       // An antibody assay's figures are of exposure: its reset never touches a PCR assay's freedom.
-      const freedom = site.freedomReset
+      const freedom = site.status?.state === 'positive'
+        ? `<strong data-status="positive">positive</strong> since round ${site.status.sinceRound}: no probability of freedom while a barn is positive; ` +
+          `the site clears after ${count(summary.program.clearAfterNegativeRounds, 'negative round')} in a row in every positive barn (${site.status.negativeRoundsInARow} so far)`
+        : site.freedomReset
         ? antibody
           ? `freedom from exposure reset by an antibody positive round (was ${pct(site.priorFreedom)} before it); the PCR freedom is not reset`
           : `reset by a positive round (was ${pct(site.priorFreedom)} before it)`
@@ -334,7 +337,10 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
     .map((tally) => {
       const c = tally.confidence;
       const met = c.detectionConfidence >= target;
-      const need = met
+      // A positive barn is monitored, not surveyed: a detection target at the design prevalence says nothing there.
+      const need = c.status?.state === 'positive'
+        ? `<strong data-status="positive">positive</strong> since round ${c.status.sinceRound}: monitored (${c.status.negativeRoundsInARow} of ${summary.program.clearAfterNegativeRounds} negative rounds in a row to clear)`
+        : met
         ? 'target met'
         : c.targetReachable
           ? `below target: ${c.ropesNeeded ?? 'n/a'} valid ropes would reach it`

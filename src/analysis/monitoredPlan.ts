@@ -1,0 +1,72 @@
+/**
+ * Which barns the next round monitors instead of surveying, and how the plan says so. A barn
+ * positive for a PCR assay after the last round (src/analysis/barnStatus.ts) gets no ropes sized
+ * for detection at the design prevalence: infection there is known, and a detection size for it
+ * (a rope in most pens of a barn with eight positive pens) answers nothing. It gets the ropes of
+ * src/plan/monitoring.ts instead. Pure.
+ */
+import type { SiteRound } from '../interpret/roundModel.js';
+import { pensToReRope } from '../plan/monitoring.js';
+import type { RoundConfidence } from './confidence.js';
+import type { NextRoundPlan } from './nextRound.js';
+
+export interface MonitoredBarn {
+  barnId: string;
+  /** PCR assays the barn is positive for. */
+  assays: string[];
+  /** The earliest round of the current positive period over those assays. */
+  sinceRound: number;
+  /** Negative rounds in a row so far (the fewest over those assays). */
+  negativeRoundsInARow: number;
+  /** Pens to re-rope (pensToReRope). */
+  reRope: string[];
+}
+
+/** The barns positive for one of `assays` after the last round, by barn id. */
+export function monitoredBarns(lastConfidence: RoundConfidence | undefined, rounds: readonly SiteRound[], assays: readonly string[]): Map<string, MonitoredBarn> {
+  const byBarn = new Map<string, MonitoredBarn>();
+  for (const entry of lastConfidence?.barns ?? []) {
+    if (!assays.includes(entry.assayId) || entry.status?.state !== 'positive') continue;
+    const status = entry.status;
+    const current = byBarn.get(entry.barnId);
+    byBarn.set(entry.barnId, {
+      barnId: entry.barnId,
+      assays: [...(current?.assays ?? []), entry.assayId],
+      sinceRound: Math.min(current?.sinceRound ?? status.sinceRound, status.sinceRound),
+      negativeRoundsInARow: Math.min(current?.negativeRoundsInARow ?? status.negativeRoundsInARow, status.negativeRoundsInARow),
+      reRope: [],
+    });
+  }
+  for (const barn of byBarn.values()) barn.reRope = pensToReRope(rounds, barn.barnId, barn.assays, barn.sinceRound);
+  return byBarn;
+}
+
+/**
+ * The plan with its monitored barns said as such: their sizing statement replaced (no detection
+ * figure for a positive barn), their schedule comparison dropped (it compares detection), a
+ * `monitoring` entry per barn, and a note.
+ */
+export function withMonitoring(plan: NextRoundPlan, monitored: ReadonlyMap<string, MonitoredBarn>, clearAfterNegativeRounds: number): NextRoundPlan {
+  if (monitored.size === 0) return plan;
+  const rounds = (n: number) => `${n} negative round${n === 1 ? '' : 's'}`;
+  const barns = plan.barns.map((barn) => {
+    const entry = monitored.get(barn.barnId);
+    if (!entry) return barn;
+    const statement =
+      `Barn ${barn.barnId} is positive for ${entry.assays.join(', ')} since round ${entry.sinceRound}: monitored, not sized for detection ` +
+      `(${barn.reRope} re-rope, ${barn.tracking} tracking, ${barn.followUp} follow-up, ${barn.retest} retest). ` +
+      `It leaves the positive state after ${rounds(clearAfterNegativeRounds)} in a row (${entry.negativeRoundsInARow} so far) or when a new group of pigs is placed.`;
+    return { ...barn, sizing: { ...barn.sizing, statement }, monitoring: entry };
+  });
+  const ids = [...monitored.keys()];
+  return {
+    ...plan,
+    barns,
+    schedules: plan.schedules.filter((entry) => !monitored.has(entry.barnId)),
+    notes: [
+      ...plan.notes,
+      `Positive barn${ids.length === 1 ? '' : 's'} ${ids.join(', ')}: monitored, not surveyed. Positive pens are re-roped so that their Ct series go on, and a small fixed set of tracking pens (the same every round) follows spread and clearance; ` +
+        `the detection figures of this plan count no ropes there.`,
+    ],
+  };
+}

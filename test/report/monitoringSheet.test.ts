@@ -1,0 +1,51 @@
+/**
+ * The rope list of a positive barn: each row with its reason in next-round.csv and on the rope
+ * sheet, the sheet's legend for the two monitoring shapes, and a sizing line that does not count
+ * the positive barn as surveyed. The barn: 2 x 18 pens, pen A5 positive in the last round.
+ */
+import { parse } from 'csv-parse/sync';
+import { describe, expect, it } from 'vitest';
+import { siteConfidence } from '../../src/analysis/confidence.js';
+import { planNextRound } from '../../src/analysis/nextRound.js';
+import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
+import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { renderRopeSheetPage, sizingLine } from '../../src/report/html/ropeSheetPage.js';
+import { nextRoundCsv } from '../../src/report/nextRoundFiles.js';
+import { roundRopes, smallConfig } from '../analysis/fixtures.js';
+
+function planAfter(positive: readonly number[]) {
+  const config = smallConfig({ designPrevalence: 0.1, ropeSensitivity: 0.9 });
+  const site = config.sites[0]!;
+  const { ropes, results } = roundRopes('2026-08-03', 18, 'R1', positive);
+  const rounds = buildSiteRounds(site, ropes, results);
+  const confidence = siteConfidence(site, rounds);
+  const cache = new OutbreakCache(config.analysis);
+  const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
+  return { site, plan: planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }) };
+}
+
+describe('the rope list of a positive barn', () => {
+  const { site, plan } = planAfter([4]);
+
+  it('gives each row its reason in next-round.csv', () => {
+    // csv-parse reads the file as a reader would.
+    const rows = parse(nextRoundCsv(plan), { columns: true }) as Record<string, string>[];
+    expect(rows.find((row) => row.pen === 'A5')!.reason).toBe('re-rope');
+    expect(rows.some((row) => row.reason === 'tracking')).toBe(true);
+    expect(rows.some((row) => row.reason === 'routine')).toBe(false);
+  });
+
+  it('says why on the sheet and in its legend, and counts no detection for the positive barn', () => {
+    const html = renderRopeSheetPage({ site, plan, notices: [] });
+    expect(html).toContain('re-rope (positive pen: Ct series)');
+    expect(html).toContain('tracking rope (same pens every round)');
+    expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. If the routine ropes all come back negative on time, the surveyed barns have .*the positive barns are not counted\.$/);
+  });
+
+  it('keeps the sheet of a negative site as it was', () => {
+    const negative = planAfter([]);
+    const html = renderRopeSheetPage({ site: negative.site, plan: negative.plan, notices: [] });
+    expect(html).not.toContain('tracking rope');
+    expect(sizingLine(negative.plan)).toMatch(/retest\. If they all come back negative on time, the site has /);
+  });
+});
