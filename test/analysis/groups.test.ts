@@ -5,48 +5,13 @@
  */
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
-import type { BarnGroup, Site } from '../../src/config/types.js';
+import { planNextRound } from '../../src/analysis/nextRound.js';
+import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
+import type { BarnGroup } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/interpret/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
-import { roundRopes, smallConfig } from './fixtures.js';
-
-const G1: BarnGroup = { id: 'G1', label: 'Summer', placedOn: '2026-08-01', closedOn: '2026-08-20' };
-const G2: BarnGroup = { id: 'G2', label: 'Autumn', placedOn: '2026-09-01', closedOn: null };
-
-/** The small site with a second barn B2 (same layout, not run by groups) and B1 given `groups`. */
-function siteWith(groups: readonly BarnGroup[]): Site {
-  const site = smallConfig().sites[0]!;
-  const b1 = { ...site.barns[0]!, groups };
-  const b2 = { ...site.barns[0]!, id: 'B2', name: 'B2', groups: [] };
-  return { ...site, barns: [b1, b2], barnById: new Map([['B1', b1], ['B2', b2]]) };
-}
-
-/** 18 negative ropes on the first 18 pens of each barn named, on `date`. */
-function round(date: string, prefix: string, barns: readonly string[]) {
-  const parts = barns.map((barnId) => {
-    const { ropes, results } = roundRopes(date, 18, `${prefix}${barnId}`);
-    return { ropes: ropes.map((rope) => ({ ...rope, barnId })), results };
-  });
-  return { ropes: parts.flatMap((part) => part.ropes), results: parts.flatMap((part) => part.results) };
-}
-
-function scenario(groups: readonly BarnGroup[]) {
-  const site = siteWith(groups);
-  const r1 = round('2026-08-03', 'R1', ['B1', 'B2']);
-  const r2 = round('2026-08-17', 'R2', ['B1', 'B2']);
-  // Round 3: barn B1 is between G1's close-out (20 Aug) and G2's placement (1 Sep); its planned ropes never came back.
-  const r3 = round('2026-08-24', 'R3', ['B2']);
-  const r4 = round('2026-09-07', 'R4', ['B1', 'B2']);
-  const planned = [{ sampleId: 'TST-PLANNED-1', barnId: 'B1', penId: 'A1', afterRound: 2 }];
-  const all = [r1, r2, r3, r4];
-  const rounds = buildSiteRounds(
-    site,
-    all.flatMap((part) => part.ropes),
-    all.flatMap((part) => part.results),
-    planned,
-  );
-  return { site, rounds, confidence: siteConfidence(site, rounds) };
-}
+import { smallConfig } from './fixtures.js';
+import { G1, G2, round, scenario, siteWith } from './groupScenario.js';
 
 const barnOf = (confidence: ReturnType<typeof siteConfidence>, index: number, barnId: string) => confidence[index]!.barns.find((entry) => entry.barnId === barnId)!;
 
@@ -104,5 +69,34 @@ describe('groups of pigs in the round model and confidence', () => {
     expectClose(confidence[2]!.sites[0]!.detectionConfidence, 0.5, { rel: 1e-12 }, 'site SSe round 3');
     // Rounds 1, 2, 4: two barns, 1 - 0.5^2 = 0.75.
     expectClose(confidence[3]!.sites[0]!.detectionConfidence, 0.75, { rel: 1e-12 }, 'site SSe round 4');
+  });
+});
+
+describe('the next round\u2019s plan and an empty barn', () => {
+  /** Plans after two rounds (3 and 17 Aug): due one interval (14 days) after the last, on 31 Aug. */
+  function planWith(groups: readonly BarnGroup[]) {
+    const site = siteWith(groups);
+    const config = smallConfig();
+    const parts = [round('2026-08-03', 'R1', ['B1', 'B2']), round('2026-08-17', 'R2', ['B1', 'B2'])];
+    const rounds = buildSiteRounds(site, parts.flatMap((part) => part.ropes), parts.flatMap((part) => part.results));
+    const confidence = siteConfidence(site, rounds);
+    const cache = new OutbreakCache(config.analysis);
+    const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
+    return planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-18' });
+  }
+
+  it('plans no rope in a barn that will be empty on the due date, and says so', () => {
+    const plan = planWith([G1, G2]);
+    expect(plan.dueDate).toBe('2026-08-31');
+    // 31 Aug: G1 closed out on 20 Aug, G2 placed on 1 Sep: B1 stands empty.
+    expect(plan.ropes.filter((rope) => rope.barnId === 'B1')).toEqual([]);
+    expect(plan.ropes.filter((rope) => rope.barnId === 'B2').length).toBeGreaterThan(0);
+    expect(plan.barns.find((barn) => barn.barnId === 'B1')!.sizing.routineRopes).toBe(0);
+    expect(plan.notes.join(' ')).toMatch(/Barn B1 will be empty on 2026-08-31/);
+  });
+
+  it('plans ropes in the barn when the next group is placed by the due date', () => {
+    const plan = planWith([G1, { ...G2, placedOn: '2026-08-31' }]);
+    expect(plan.ropes.filter((rope) => rope.barnId === 'B1').length).toBeGreaterThan(0);
   });
 });
