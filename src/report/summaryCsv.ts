@@ -129,7 +129,8 @@ export function summaryCsv(summary: RoundSummary): string {
       (sum, barn) => {
         const entry = barn.assays.find((a) => a.assayId === assay.id)!;
         return {
-          pens: sum.pens + barn.pensInUse,
+          // An empty barn (between two groups of pigs) holds no pen in use that round.
+          pens: sum.pens + (barn.empty ? 0 : barn.pensInUse),
           hung: sum.hung + barn.ropesHung,
           returned: sum.returned + barn.ropesReturned,
           tested: sum.tested + entry.tested,
@@ -169,7 +170,7 @@ export function summaryCsv(summary: RoundSummary): string {
       const c = entry.confidence;
       if (barn.empty) {
         // An empty barn (between a group's close-out and the next placement): no figure, nothing missing.
-        rows.push({ ...base, level: 'barn', barn: barn.barnId, assay: entry.assayId, pens_in_use: barn.pensInUse, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, measure: c.measure, barn_empty: true });
+        rows.push({ ...base, level: 'barn', barn: barn.barnId, assay: entry.assayId, pens_in_use: 0, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, measure: c.measure, barn_empty: true });
         continue;
       }
       rows.push({

@@ -46,6 +46,10 @@ describe('groups on summary.csv', () => {
     // Round 3 (24 Aug): B1 between G1's close-out (20 Aug) and G2's placement (1 Sep).
     expect(barnRow(2, 'B1')).toMatchObject({ barn_empty: 'true', group: '', detection_confidence: '', missing_sample_ids: '', barn_freedom: '', ropes_needed: '' });
     expect(csv(2).find((row) => row.level === 'site')!.missing_sample_ids).toBe('');
+    // No pen of the empty barn is in use: the site's N that round is B2's 36 pens alone (72 in round 1).
+    expect(barnRow(2, 'B1').pens_in_use).toBe('0');
+    expect(csv(2).find((row) => row.level === 'site')!.pens_in_use).toBe('36');
+    expect(csv(0).find((row) => row.level === 'site')!.pens_in_use).toBe('72');
   });
 
   it('restarts the barn freedom at the new group: round 4 equals round 1 (0.5 / (1 - 0.5 * 0.5) = 2/3, Martin, Cameron & Greiner 2007)', () => {
