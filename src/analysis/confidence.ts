@@ -7,6 +7,7 @@ import { perAssayValue } from '../config/load.js';
 import type { AnalysisSettings, Barn, Measure, Program, Site } from '../config/types.js';
 import { placeSystematic, smallestRopesConservative } from '../plan/index.js';
 import { detectionProbability, type DetectionEstimate, type Outbreaks } from '../spatial/index.js';
+import type { GroupRef } from '../interpret/groups.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import { daysBetween } from '../interpret/rounds.js';
 import { negativeRoundsRule, statusOverRounds, type ClearanceRule, type PositiveState } from './barnStatus.js';
@@ -60,6 +61,23 @@ export interface BarnConfidence {
    * program's clearance rule (src/analysis/barnStatus.ts). Null for an antibody assay.
    */
   status: PositiveState | null;
+  /** The group of pigs in the barn this round (null: not run by groups, or empty). */
+  group: GroupRef | null;
+  /**
+   * The barn was empty (between a group's close-out and the next placement): nothing to detect,
+   * so the detection figures above are 0 and stand for no figure; not a missed round.
+   */
+  empty: boolean;
+  /**
+   * Probability of freedom of this barn and assay, built from this group's rounds only (Martin,
+   * Cameron & Greiner 2007): a new group restarts it from the configured prior, since the pigs
+   * the earlier rounds tested have left. Null for an empty barn.
+   */
+  freedom: number | null;
+  /** The probability of freedom this barn's round started from (null for an empty barn). */
+  priorFreedom: number | null;
+  /** This is the first round of a new group: the barn's freedom started again from the prior. */
+  freedomRestart: boolean;
 }
 
 export interface PrevalenceEstimate {
@@ -176,7 +194,8 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
   const tally = barnRound.byAssay[assayId]!;
   const pens = barnRound.pensInUse;
   // A rope hung in a pen the layout lists as empty still tested pigs; never count more than N.
-  const tested = Math.min(pens, tally.testedPens.length);
+  // An empty barn tested no pigs whatever ropes say: it proves nothing this round.
+  const tested = barnRound.empty ? 0 : Math.min(pens, tally.testedPens.length);
   const designInfected = designInfectedFor(program, pens);
   const { sensitivity, specificity } = ropeAccuracy(program, assayId, barn);
   const detectionConfidence = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
@@ -216,6 +235,11 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
     positives: tally.positive,
     prevalence,
     status: null,
+    group: barnRound.group,
+    empty: barnRound.empty,
+    freedom: null,
+    priorFreedom: null,
+    freedomRestart: false,
   };
 }
 
@@ -244,6 +268,51 @@ export function siteFigures(
     fewInfectedBarns,
     detectionIfFewBarns,
   };
+}
+
+/**
+ * Per barn and assay, the probability of freedom across the rounds of the barn's current group
+ * (Martin, Cameron & Greiner 2007, update then discount, introduction scaled to the days
+ * between the group's rounds). A round of another group starts a new chain from the configured
+ * prior (all-in/all-out: the earlier group's pigs, and what their rounds proved, have left; common
+ * practice, no source); a round in which the barn is empty is left out of the chain.
+ */
+function barnFreedom(site: Site, rounds: readonly SiteRound[], perRound: readonly RoundConfidence[]): void {
+  const program = site.program;
+  for (const barn of site.barns) {
+    const assays = [...new Set(rounds.flatMap((round) => round.assays))];
+    for (const assayId of assays) {
+      type Link = { entry: BarnConfidence; startOn: string };
+      const chains: Link[][] = [];
+      let chainKey: string | undefined;
+      rounds.forEach((round, index) => {
+        const entry = perRound[index]!.barns.find((candidate) => candidate.barnId === barn.id && candidate.assayId === assayId);
+        if (entry === undefined || entry.empty || round.state === 'awaiting-results') return;
+        const key = entry.group?.id ?? '';
+        if (chainKey === undefined || key !== chainKey) {
+          chains.push([]);
+          chainKey = key;
+        }
+        chains.at(-1)!.push({ entry, startOn: round.startOn });
+      });
+      chains.forEach((chain, chainIndex) => {
+        const steps = freedomAcrossRounds(
+          { prior: program.priorFreedom, introduction: program.introductionPerInterval, order: 'update-then-discount', intervalDays: program.intervalDays },
+          chain.map((link, index) => ({
+            sensitivity: link.entry.detectionConfidence,
+            positive: link.entry.positives > 0,
+            elapsedDays: index === 0 ? program.intervalDays : Math.max(0, daysBetween(chain[index - 1]!.startOn, link.startOn)),
+          })),
+        ).rounds;
+        chain.forEach((link, index) => {
+          link.entry.priorFreedom = steps[index]!.prior;
+          link.entry.freedom = steps[index]!.posterior;
+          // A chain after the first began with a change of group (the first may too, when it is a group).
+          link.entry.freedomRestart = index === 0 && (chainIndex > 0 || link.entry.group !== null);
+        });
+      });
+    }
+  }
 }
 
 /**
@@ -278,8 +347,12 @@ export function siteConfidence(
   const counted = rounds.map((round, index) => ({ round, index })).filter(({ round }) => round.state !== 'awaiting-results');
   for (const assayId of assays) {
     const freedomRounds = counted.map(({ round, index }, position) => {
+      // An empty barn has no pigs to find: it adds nothing to the site's detection (not a missed barn),
+      // and it cannot be one of the infected barns of the two-stage figure.
+      // A positive is never set aside, even from a barn the configuration calls empty.
       const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
-      const figures = siteFigures(program, site.barns.length, barns.map((barn) => barn.detectionConfidence));
+      const stocked = barns.filter((barn) => !barn.empty);
+      const figures = siteFigures(program, site.barns.length - (barns.length - stocked.length), stocked.map((barn) => barn.detectionConfidence));
       const sensitivity = figures.detectionConfidence;
       const previous = counted[position - 1]?.round;
       return {
@@ -321,5 +394,6 @@ export function siteConfidence(
       });
     });
   }
+  barnFreedom(site, rounds, perRound);
   return perRound;
 }

@@ -35,6 +35,7 @@ import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
 import { monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
 import { formatPercent } from '../util/format.js';
+import { barnStatusOn } from '../interpret/groups.js';
 
 export const PLAN_SCHEMA = 'ropewatch.next-round/1';
 /** Doubling time of infected pens in the growing-infection comparison: a modelling assumption. */
@@ -320,11 +321,17 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       `Antibody positive without virus in ${antibodyRetests.join(', ')}: a retest rope each, to be tested by PCR (antibody means exposure, not necessarily current infection; no follow-up ring is drawn around it).`,
     );
   }
+  // A barn run all-in/all-out that will stand empty on the due date (closed out, next group not
+  // yet placed) gets no rope: there are no pigs to find.
+  const emptyOnDue = new Set(models.filter((model) => barnStatusOn(model.barn.groups, due.dueDate).kind === 'empty').map((model) => model.barn.id));
+  for (const barnId of emptyOnDue) notes.push(`Barn ${barnId} will be empty on ${due.dueDate} (its group closed out, the next not yet placed): no rope is planned there.`);
+  routine = routine.map((ropes, index) => (emptyOnDue.has(models[index]!.barn.id) ? 0 : ropes));
   const plan = buildRoundPlan({
     siteCode: site.code,
     round: roundNumber,
     dueDate: due.dueDate,
     barns: models.map((model, index) => {
+      if (emptyOnDue.has(model.barn.id)) return { barnId: model.barn.id, layout: model.barn.layout, roundIndex: rounds.length, routineRopes: 0, positives: [], suspects: [], invalids: [], clusters: [], ringDistance: program.followUpRadius };
       const positives = pensWhere(model.barn.id, 'positivePens', 'ct');
       const detectSet = onwardDetect(model, positives);
       return {

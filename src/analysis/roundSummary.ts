@@ -17,6 +17,7 @@ import {
   type SiteRound,
 } from '../interpret/roundModel.js';
 import type { RoundState } from '../interpret/rounds.js';
+import type { GroupRef } from '../interpret/groups.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
 import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
 
@@ -82,6 +83,10 @@ export interface BarnAssaySummary extends Omit<AssayTally, 'testedPens'> {
 export interface BarnSummary {
   barnId: string;
   name: string;
+  /** The group of pigs in the barn this round (null: not run by groups, or empty). */
+  group: GroupRef | null;
+  /** Empty this round (between a group's close-out and the next placement): no figure, nothing missing. */
+  empty: boolean;
   pensInUse: number;
   ropesHung: number;
   ropesReturned: number;
@@ -266,6 +271,8 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       return {
         barnId: barn.id,
         name: barn.name,
+        group: barnRound.group,
+        empty: barnRound.empty,
         pensInUse: barnRound.pensInUse,
         ropesHung: barnRound.ropesHung,
         ropesReturned: barnRound.ropesReturned,
@@ -285,8 +292,13 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         sources: barnRound.sources.map((source) => ({ ...source, labName: labName(source.labId) })),
       };
     });
-    const pens: PenSummary[] = round.barns.flatMap((barnRound) =>
-      barnRound.pens.map((pen) => ({
+    const pens: PenSummary[] = round.barns.flatMap((barnRound) => {
+      // A pen's history is that of the pigs now in the barn: rounds of the same group only (a new group starts it afresh).
+      const sameGroup = rounds.slice(0, index + 1).filter((earlier) => {
+        const then = earlier.barns.find((barn) => barn.barnId === barnRound.barnId);
+        return then !== undefined && !then.empty && (then.group?.id ?? null) === (barnRound.group?.id ?? null);
+      });
+      return barnRound.pens.map((pen) => ({
         barnId: barnRound.barnId,
         penId: pen.penId,
         side: pen.rowLabel,
@@ -299,12 +311,12 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
               ...kept,
               labName: labName(result.labId),
               sequencingCandidate: isSequencingCandidate(result, sequencingBelowOf(config.assayById.get(assayId))),
-              history: ctHistory(rounds.slice(0, index + 1), barnRound.barnId, pen.penId, assayId).map((point) => ({ ...point, labName: labName(point.labId) })),
+              history: ctHistory(sameGroup, barnRound.barnId, pen.penId, assayId).map((point) => ({ ...point, labName: labName(point.labId) })),
             }))(result),
           ]),
         ),
-      })),
-    );
+      }));
+    });
     const sequencing = assayIds.flatMap((assayId): SequencingCandidates[] => {
       const below = sequencingBelowOf(config.assayById.get(assayId));
       if (below === undefined) return [];

@@ -21,6 +21,7 @@ import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } 
 import { ConfigError, ProblemList } from './problems.js';
 import { ROPE_SHEET_COLUMN_ORDER, ROPE_SHEET_MEANING, ropeColumnNames, ropeHeaderKey } from './ropeSheet.js';
 import { formatPath, schemaProblems } from './schemaProblems.js';
+import { groupProblems, inPlacementOrder } from '../interpret/groups.js';
 import type {
   AnalysisSettings,
   Assay,
@@ -340,12 +341,15 @@ function loadBarn(barn: RawBarn, file: string, at: (...rest: PropertyKey[]) => s
   }
   checkPenKeys(pens, layout, file, (...rest) => at('layout', ...rest), problems);
   if (!pens.some((pen) => pen.status === 'in-use')) problems.add(file, at('layout'), 'has no pen in use');
+  const groups = (barn.groups ?? []).map((group) => Object.freeze({ id: group.id, label: group.label ?? group.id, placedOn: group.placedOn, closedOn: group.closedOn ?? null }));
+  for (const problem of groupProblems(groups)) problems.add(file, at('groups', problem.index, problem.key), problem.detail);
   return Object.freeze({
     id: barn.id,
     name: barn.name ?? barn.id,
     position: barn.position,
     ageGroup: barn.ageGroup,
     layout,
+    groups: Object.freeze(inPlacementOrder(groups)),
     pens,
     penById: new Map(pens.map((pen) => [pen.id.toUpperCase(), pen])),
     penByKey: pensByKey(pens),

@@ -99,6 +99,29 @@ export const layoutSchema = z
   })
   .strict();
 
+/** A calendar date written yyyy-MM-dd (YAML reads an unquoted 2026-03-02 as this text). */
+const isoDate = z
+  .string()
+  .regex(/^\d{4}-\d{2}-\d{2}$/, 'a date written yyyy-MM-dd')
+  .refine((text) => {
+    const [year, month, day] = text.split('-').map(Number) as [number, number, number];
+    // Gregorian leap years: divisible by 4, except centuries not divisible by 400.
+    const leap = year % 4 === 0 && (year % 100 !== 0 || year % 400 === 0);
+    const days = [31, leap ? 29 : 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31][month - 1];
+    return days !== undefined && day >= 1 && day <= days;
+  }, 'not a day of the calendar');
+
+/** One group of pigs in an all-in/all-out barn: placed on a day, closed out (emptied) on a later one. */
+export const groupSchema = z
+  .object({
+    id: identifier,
+    label: z.string().min(1).optional(),
+    placedOn: isoDate,
+    /** Absent: the group is still in the barn. */
+    closedOn: isoDate.optional(),
+  })
+  .strict();
+
 export const barnSchema = z
   .object({
     id: identifier,
@@ -108,6 +131,8 @@ export const barnSchema = z
     /** Age group of the pigs (nursery, grow-finish...): selects a rope sensitivity when configured. */
     ageGroup: z.string().optional(),
     layout: layoutSchema,
+    /** Groups of pigs, for a barn filled and emptied as one (all-in/all-out). */
+    groups: z.array(groupSchema).optional(),
   })
   .strict();
 

@@ -49,12 +49,26 @@ export interface AnalysisSettings {
   sizingModel: 'spatial' | 'hypergeometric';
 }
 
+/**
+ * One group of pigs in a barn run all-in/all-out: the barn is filled on `placedOn` and emptied on
+ * `closedOn` (null: still in the barn). Dates are yyyy-MM-dd, both days inside the group.
+ */
+export interface BarnGroup {
+  id: string;
+  /** As printed on pages (the id when the configuration gives none). */
+  label: string;
+  placedOn: string;
+  closedOn: string | null;
+}
+
 export interface Barn {
   id: string;
   name: string;
   position: { x: number; y: number };
   ageGroup: string | undefined;
   layout: BarnLayout;
+  /** Groups of pigs in placement order (empty: the barn is not run by groups). They never overlap. */
+  groups: readonly BarnGroup[];
   pens: readonly Pen[];
   penById: ReadonlyMap<string, Pen>;
   /** Pens by canonical label key ("A01" and "a1" both find A1). */

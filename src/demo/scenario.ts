@@ -10,6 +10,7 @@ import { addDays, format, parseISO } from 'date-fns';
 import type { Barn, Config, Site } from '../config/types.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
 import { demoWorkbook } from './workbook.js';
+import { isEmptyOn } from '../interpret/groups.js';
 
 export const DEMO_SEED = 20260803;
 
@@ -343,6 +344,8 @@ export function tamsinRidgeRound(config: Config, roundIndex: number, planned: re
   const compact = date.replace(/-/g, '');
   const rows: LabRow[] = [];
   for (const barn of site.barns) {
+    // Groups: a barn emptied between two groups of pigs gets no rope (N2 on 16 September).
+    if (isEmptyOn(barn.groups, date)) continue;
     const fromPlan = planned.filter((rope) => rope.barnId === barn.id);
     const ropes = fromPlan.length > 0 ? fromPlan : farmRopes(barn, roundIndex, 3, () => '');
     for (const rope of ropes) {

@@ -5,6 +5,7 @@
 import type { Barn, Measure, Site } from '../config/types.js';
 import { CLASS_SEVERITY, type ResultClass } from './classify.js';
 import { formRounds, resultsDueOn, roundForDueDate, roundState, type DatedRope, type RoundState } from './rounds.js';
+import { barnStatusOn, groupRef, type GroupRef } from './groups.js';
 
 export interface ResultInput {
   id: number;
@@ -92,6 +93,15 @@ export interface AssayTally {
 
 export interface BarnRound {
   barnId: string;
+  /** The day the barn's group is judged on: its first rope of the round, else the round's first day. */
+  onDate: string;
+  /** The group of pigs in the barn that day (null: the barn is not run by groups, or is empty). */
+  group: GroupRef | null;
+  /**
+   * Empty that day: a group was closed out and the next not yet placed. Nothing to find, so no
+   * rope planned for it is missing and the round proves nothing there (not a missed round).
+   */
+  empty: boolean;
   /** Pens in use: the survey population N. */
   pensInUse: number;
   /**
@@ -508,7 +518,12 @@ export function buildSiteRounds(
           }
         }
       }
-      const plannedMissingRopes = plannedHere.filter((rope) => rope.barnId === barn.id && !pens.get(barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId)?.returned);
+      const onDate = barnRopes.reduce((first, rope) => (rope.hungOn < first ? rope.hungOn : first), barnRopes[0]?.hungOn ?? round.startOn);
+      const status = barnStatusOn(barn.groups, onDate);
+      const plannedMissingRopes =
+        status.kind === 'empty'
+          ? []
+          : plannedHere.filter((rope) => rope.barnId === barn.id && !pens.get(barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId)?.returned);
       const plannedMissing = plannedMissingRopes.map((rope) => rope.sampleId);
       for (const rope of plannedMissingRopes) missingPen.set(rope.sampleId, barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId);
       missing.push(...plannedMissing);
@@ -554,6 +569,9 @@ export function buildSiteRounds(
       );
       return {
         barnId: barn.id,
+        onDate,
+        group: status.kind === 'group' ? groupRef(status.group) : null,
+        empty: status.kind === 'empty',
         pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
         ropesHung: hung + plannedMissing.length,
         ropesReturned: returned,

@@ -70,6 +70,10 @@ export const SUMMARY_COLUMNS = [
   'detection_if_every_barn',
   'detection_if_infected_barns',
   'positive_since',
+  'group',
+  'group_placed_on',
+  'barn_empty',
+  'barn_freedom',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -148,7 +152,8 @@ export function summaryCsv(summary: RoundSummary): string {
       (sum, barn) => {
         const entry = barn.assays.find((a) => a.assayId === assay.id)!;
         return {
-          pens: sum.pens + barn.pensInUse,
+          // An empty barn (between two groups of pigs) holds no pen in use that round.
+          pens: sum.pens + (barn.empty ? 0 : barn.pensInUse),
           hung: sum.hung + barn.ropesHung,
           returned: sum.returned + barn.ropesReturned,
           tested: sum.tested + entry.tested,
@@ -189,8 +194,14 @@ export function summaryCsv(summary: RoundSummary): string {
     });
   }
   for (const barn of summary.barns) {
+    const group: Row = barn.group === null ? {} : { group: barn.group.id, group_placed_on: barn.group.placedOn };
     for (const entry of barn.assays) {
       const c = entry.confidence;
+      if (barn.empty) {
+        // An empty barn (between a group's close-out and the next placement): no figure, nothing missing.
+        rows.push({ ...base, level: 'barn', barn: barn.barnId, assay: entry.assayId, pens_in_use: 0, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, measure: c.measure, barn_empty: true });
+        continue;
+      }
       rows.push({
         ...base,
         level: 'barn',
@@ -221,10 +232,15 @@ export function summaryCsv(summary: RoundSummary): string {
         ...provenance(barn.sources, entry.assayId),
         measure: c.measure,
         ...mistypedCells(barn.mistyped),
+        ...group,
+        barn_empty: false,
+        barn_freedom: c.status?.state === 'positive' ? 'positive' : c.freedom === null ? null : formatProbability(c.freedom),
       });
     }
   }
+  const groupOfBarn = new Map(summary.barns.map((barn) => [barn.barnId, barn.group]));
   for (const pen of summary.pens) {
+    const group = groupOfBarn.get(pen.barnId) ?? null;
     for (const [assayId, result] of Object.entries(pen.results)) {
       const antibody = result.measure === 'sp-ratio';
       rows.push({
@@ -259,6 +275,7 @@ export function summaryCsv(summary: RoundSummary): string {
           .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
           .map(replacementCell)
           .join('; '),
+        ...(group === null ? {} : { group: group.id, group_placed_on: group.placedOn }),
       });
     }
   }

@@ -10,6 +10,7 @@ import type { Assay, Barn, Site } from '../../config/types.js';
 import type { BarnSpatialReport } from '../../spatial/analyse.js';
 import type { PageAlert } from './alerts.js';
 import { renderBarnMap, type PenMark } from './barnMap.js';
+import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { escapeHtml } from './escape.js';
 import { count, legendShades, num, pct, pValue, renderPage, resultsLegend, spLegendShades, spResultsLegend, type LegendLimit, type SpLegendCutoff } from './page.js';
@@ -213,13 +214,18 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
   const report = assay.report.barns.find((entry) => entry.barn === barn.id);
   const tally = summary.barns.find((entry) => entry.barnId === barn.id)?.assays.find((entry) => entry.assayId === assay.assayId);
   const key = `${summary.round.id}-${assay.assayId}-${barn.id}`;
+  // The group of pigs the map shows (barns run all-in/all-out), or that the barn stood empty.
+  const groupOf = (of: RoundSummary) => {
+    const text = groupText(of.barns.find((entry) => entry.barnId === barn.id));
+    return text === '' ? '' : `, ${text}`;
+  };
   const marks = resultMarks(summary, barn.id, assay.assayId, report);
   const positives = tally?.positive ?? 0;
   const main = renderBarnMap(barn, {
     key,
     scale: MAIN_SCALE,
     detail: 'full',
-    title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}`,
+    title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}${groupOf(summary)}`,
     results: marks,
     clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
     attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
@@ -244,7 +250,7 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
           const n = previous.barns.find((b) => b.barnId === barn.id)?.assays.find((a) => a.assayId === assay.assayId)?.positive ?? 0;
           // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
           const tested = previous.assays.some((entry) => entry.id === assay.assayId);
-          return `<figure>${svg}<figcaption>r${String(previous.round.number).padStart(2, '0')} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}</figcaption></figure>`;
+          return `<figure>${svg}<figcaption>r${String(previous.round.number).padStart(2, '0')} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}${escapeHtml(groupOf(previous))}</figcaption></figure>`;
         })
         .join('')}<figure>${renderBarnMap(barn, { key: `${key}-mini-now`, scale: MINI_SCALE, detail: 'mini', title: `${barn.name}, ${assay.assayId}, this round`, results: marks, clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2) })}<figcaption><strong>this round: ${positives} +</strong></figcaption></figure></div>`
     : '';
@@ -307,18 +313,18 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
     .filter((cluster) => cluster.size >= 2)
     .map((cluster) => `<li>C${cluster.index}: ${escapeHtml(cluster.pens.join(', '))}; ${cluster.size} pens over ${num(cluster.alleyLength, 1)} pen units along the alley; ${strength(cluster)}${cluster.newPens.length > 0 ? `; new: ${escapeHtml(cluster.newPens.join(', '))}` : ''}</li>`)
     .join('');
-  const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested</h3>`;
+  const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary))}</h3>`;
   if (!busy) {
     // A quiet barn gets a small map (still to scale, every pen drawn) and one line: the page is for the barns that need review.
     const small = renderBarnMap(barn, {
       key: `${key}-quiet`,
       scale: QUIET_SCALE,
       detail: 'mini',
-      title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}`,
+      title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}${groupOf(summary)}`,
       results: marks,
       attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
     });
-    return `<figure class="quiet" data-barn="${escapeHtml(barn.id)}">${small}<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested; no positive, suspect or invalid rope so far.</figcaption></figure>`;
+    return `<figure class="quiet" data-barn="${escapeHtml(barn.id)}">${small}<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary))}; no positive, suspect or invalid rope so far.</figcaption></figure>`;
   }
   return (
     `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${mapLegend(input, [...earlier, summary], [barn.id], assay.assayId, key).html}` +

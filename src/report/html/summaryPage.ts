@@ -12,6 +12,7 @@ import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.
 import type { PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { confidenceSentence, count, pct, renderPage } from './page.js';
+import { EMPTY_BARN, groupText } from '../groupText.js';
 import { correctionsEntry, ingestAgainCommand, MISTYPED_ACTION, readingText, refusalGroups, replacementWhy, reportDates, simplyMissing } from '../roundNotes.js';
 
 export interface SummaryPageInput {
@@ -362,8 +363,26 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
       );
     })
     .join('');
+  const group = groupText(barn);
+  const heading = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})${group === '' ? '' : `: ${escapeHtml(group)}`}</h3>`;
+  if (barn.empty) {
+    // Between a group's close-out and the next placement there are no pigs: no figure, nothing missing, not a missed round.
+    return (
+      `<section class="barn" data-barn="${escapeHtml(barn.barnId)}" data-empty="">${heading}` +
+      `<p>${escapeHtml(EMPTY_BARN[0]!.toUpperCase() + EMPTY_BARN.slice(1))} this round: the barn was emptied and not yet restocked, so there was nothing to find. No detection figure; ropes not hung here are not missing, and the round is not a missed round for this barn.` +
+      (barn.ropesHung > 0 ? ` ${count(barn.ropesHung, 'rope')} hung here anyway: check the group’s dates in sites.yaml.` : '') +
+      `</p></section>`
+    );
+  }
+  // The freedom of a barn run by groups is of its current group: it restarted from the prior at the placement.
+  const groupFreedom =
+    barn.group === null
+      ? ''
+      : `<p data-group-freedom="${escapeHtml(barn.group.id)}">Probability of freedom of this group so far: ${barn.assays
+          .map((tally) => `${escapeHtml(tally.assayId)} ${tally.confidence.freedom === null ? 'n/a' : pct(tally.confidence.freedom)}${tally.confidence.freedomRestart ? ' (first round of the group: started from the prior)' : ''}`)
+          .join('; ')}. Rounds of earlier groups do not count: their pigs have left.</p>`;
   return (
-    `<section class="barn" data-barn="${escapeHtml(barn.barnId)}"><h3>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})</h3>` +
+    `<section class="barn" data-barn="${escapeHtml(barn.barnId)}"${barn.group === null ? '' : ` data-group="${escapeHtml(barn.group.id)}"`}>${heading}` +
     `<p>${count(barn.pensInUse, 'pen')} in use; ${count(barn.ropesHung, 'rope')} hung, ${barn.ropesReturned} returned` +
     (missing > 0
       ? `; <strong>${count(missing, 'rope')} missing</strong>: ${escapeHtml(missingIds.join(', '))}`
@@ -373,7 +392,7 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
     (mistyped > 0 ? `; <strong>${count(mistyped, 'result')} refused under a mistyped ID</strong> (pen ${escapeHtml(barn.mistyped.map((rope) => rope.penId).join(', '))}; not missing, not counted)` : '') +
     `.</p>` +
     `<table><thead><tr><th>Assay</th><th class="num">Tested</th><th class="num">Positive</th><th class="num">Suspect</th><th class="num">Negative</th><th class="num">Invalid</th><th>Pens (+ positive, ? suspect, \u00d7 invalid)</th>` +
-    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${findingsTable(summary, barn.barnId)}${pairsTable(summary, barn.barnId)}${mistypedFix(barn)}</section>`
+    `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${groupFreedom}${findingsTable(summary, barn.barnId)}${pairsTable(summary, barn.barnId)}${mistypedFix(barn)}</section>`
   );
 }
 
