@@ -147,6 +147,10 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     followUpRadius: raw.followUpRadius ?? 1.5,
     followUpRopes: raw.followUpRopes,
     sizeFor: raw.sizeFor ?? 'barn',
+    pooling:
+      raw.pooling === undefined
+        ? undefined
+        : Object.freeze({ poolSize: raw.pooling.poolSize, poolSensitivity: raw.pooling.poolSensitivity, poolSpecificity: raw.pooling.poolSpecificity ?? 1 }),
   });
 }
 

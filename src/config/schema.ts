@@ -52,6 +52,18 @@ export const programSchema = z
     followUpRopes: z.number().int().min(0).optional(),
     /** Size routine ropes so that each barn reaches the target, or so that the site does across barns. */
     sizeFor: z.enum(['barn', 'site']).optional(),
+    /**
+     * Ropes tested together in one PCR: how many ropes of one barn the plan puts in a pool, and
+     * the pool-level sensitivity and specificity (a pool's accuracy, dilution included).
+     */
+    pooling: z
+      .object({
+        poolSize: z.number().int().min(1).max(50),
+        poolSensitivity: probability,
+        poolSpecificity: probability.optional(),
+      })
+      .strict()
+      .optional(),
   })
   .strict();
 
@@ -139,6 +151,7 @@ export const ropeSheetSchema = z
         pen: ropeColumnNames.optional(),
         hungOn: ropeColumnNames.optional(),
         notes: ropeColumnNames.optional(),
+        pool: ropeColumnNames.optional(),
       })
       .strict()
       .optional(),

@@ -63,6 +63,11 @@ export const SUMMARY_COLUMNS = [
   'corrections',
   'refused_mistyped_id',
   'likely_meant_id',
+  'pool',
+  'pools',
+  'positive_pool_pens',
+  'pool_sensitivity',
+  'unpooled_detection_confidence',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -152,6 +157,7 @@ export function summaryCsv(summary: RoundSummary): string {
       invalid: totals.invalid,
       detection_confidence: formatProbability(assay.site.detectionConfidence),
       target_confidence: summary.program.targetConfidence,
+      unpooled_detection_confidence: assay.site.unpooledDetectionConfidence === undefined ? null : formatProbability(assay.site.unpooledDetectionConfidence),
       freedom: formatProbability(assay.site.freedom),
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
@@ -187,6 +193,10 @@ export function summaryCsv(summary: RoundSummary): string {
         apparent_prevalence_low95: c.prevalence ? formatProbability(c.prevalence.lower95) : null,
         apparent_prevalence_high95: c.prevalence ? formatProbability(c.prevalence.upper95) : null,
         true_prevalence: c.prevalence ? formatProbability(c.prevalence.trueEstimate) : null,
+        pools: c.pooled?.pools ?? null,
+        positive_pool_pens: c.pooled === undefined ? null : (entry.positivePoolPens ?? []).join(' '),
+        pool_sensitivity: c.pooled?.poolSensitivity ?? null,
+        unpooled_detection_confidence: c.pooled === undefined ? null : formatProbability(c.pooled.unpooledDetectionConfidence),
         ...provenance(barn.sources, entry.assayId),
         measure: c.measure,
         ...mistypedCells(barn.mistyped),
@@ -205,6 +215,7 @@ export function summaryCsv(summary: RoundSummary): string {
         assay: assayId,
         sample_ids: pen.sampleIds.join(' '),
         class: result.resultClass,
+        pool: result.pool?.poolId ?? null,
         ct: result.ct,
         load_band: result.loadBand,
         reason: result.reason,
