@@ -16,6 +16,7 @@ import {
   compareSchedulesGrowing,
   formatSampleId,
   isWriteFriendlyCheck,
+  parseSampleId,
   onTimeVersusMissed,
   placeSystematic,
   roundDue,
@@ -68,7 +69,8 @@ export interface NextRoundPlan {
   overdue: boolean;
   daysOverdue: number;
   daysUntilDue: number;
-  ropes: PlanRow[];
+  /** `poolId`: the pool the rope goes into (program `pooling`), absent for a rope tested on its own. */
+  ropes: PooledPlanRow[];
   barns: (BarnPlanSummary & { sizing: BarnSizingReport })[];
   sizing: {
     sizeFor: 'barn' | 'site';
@@ -171,6 +173,47 @@ function keepEarlierIds(rows: readonly PlanRow[], site: Site, round: number, exi
     taken.add(sampleId);
     return { ...row, sampleId };
   });
+}
+
+/** A planned rope, with the pool it is tested in when the program pools ropes. */
+export type PooledPlanRow = PlanRow & { poolId?: string };
+
+/**
+ * Puts each barn's routine ropes, in walking order, into pools of `poolSize` (the last pool of a
+ * barn takes what is left; a pool of one is no pool). Retest and follow-up ropes are tested on
+ * their own: their point is to name the pen. Pool IDs have the sample-ID grammar with its check
+ * character (ISO/IEC 7064 MOD 37-2), on sequences after every rope's, so a mistyped pool ID is
+ * caught on ingest like a mistyped sample ID.
+ */
+function assignPools(rows: readonly PlanRow[], site: Site, round: number, poolSize: number, existing: ReadonlyMap<string, string> | undefined): PooledPlanRow[] {
+  if (poolSize < 2) return [...rows];
+  const taken = new Set([...rows.map((row) => row.sampleId), ...(existing?.values() ?? [])]);
+  let sequence = 0;
+  for (const id of taken) {
+    const parsed = parseSampleId(id);
+    if (parsed.ok) sequence = Math.max(sequence, parsed.sequence);
+  }
+  const nextPoolId = (): string | undefined => {
+    while (sequence < 999) {
+      sequence++;
+      const id = formatSampleId({ siteCode: site.code, round, sequence });
+      if (isWriteFriendlyCheck(id) && !taken.has(id)) return id;
+    }
+    return undefined;
+  };
+  const poolOf = new Map<PlanRow, string>();
+  for (const barn of site.barns) {
+    const routine = rows.filter((row) => row.barnId === barn.id && row.reason === 'routine');
+    for (let start = 0; start + 1 < routine.length; start += poolSize) {
+      const members = routine.slice(start, start + poolSize);
+      if (members.length < 2) break;
+      const poolId = nextPoolId();
+      // Out of sequences (999 per round): the rest are tested on their own.
+      if (poolId === undefined) return rows.map((row) => (poolOf.has(row) ? { ...row, poolId: poolOf.get(row)! } : row));
+      for (const member of members) poolOf.set(member, poolId);
+    }
+  }
+  return rows.map((row) => (poolOf.has(row) ? { ...row, poolId: poolOf.get(row)! } : row));
 }
 
 /** Plans the next round of a site. */
@@ -296,12 +339,29 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       };
     }),
   });
-  const rows = keepEarlierIds(
-    plan.rows.map((row) => ({ ...row, siteId: site.id })),
+  const rows = assignPools(
+    keepEarlierIds(
+      plan.rows.map((row) => ({ ...row, siteId: site.id })),
+      site,
+      roundNumber,
+      input.existingIds,
+    ),
     site,
     roundNumber,
+    program.pooling?.poolSize ?? 1,
     input.existingIds,
   );
+  const positivePools = models.flatMap((model) =>
+    Object.values(last?.barns.find((barn) => barn.barnId === model.barn.id)?.byAssay ?? {}).flatMap((tally) => (tally.positivePoolPens ?? []).map((pen) => `${model.barn.id} ${pen}`)),
+  );
+  if (positivePools.length > 0) {
+    notes.push(`Positive pool in ${[...new Set(positivePools)].join(', ')}: a retest rope each, tested on its own, to find which pens of the pool carry the infection.`);
+  }
+  if ((program.pooling?.poolSize ?? 1) > 1) {
+    notes.push(
+      `Routine ropes go into pools of ${program.pooling!.poolSize} ropes of one barn (column pool); the lab tests each pool in one PCR and reports it under the pool ID. Retest and follow-up ropes are tested on their own.`,
+    );
+  }
 
   const barns = plan.barns.map((summary, index) => {
     const model = models[index]!;
