@@ -964,14 +964,15 @@ export class Store {
          FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
       )
       .all({ siteId }) as StoredRope[];
-    // A planned rope counts as hung once a result for it (or for the pool the plan put it in)
-    // arrives: on its collection date, else its due date.
+    // A planned rope counts as hung once a result for it (or for the pool the plan put it in,
+    // unless a rope sheet names that pool) arrives: on its collection date, else its due date.
     const planned = this.db
       .prepare(
         `SELECT p.sample_id AS sampleId, p.site_id AS siteId, p.barn_id AS barnId, p.pen_id AS penId,
                 COALESCE(MIN(r.collected_on), p.due_on) AS hungOn, 'plan' AS source, p.pool_id AS poolId
          FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id LEFT JOIN samples ps ON ps.sample_id = p.pool_id
-           JOIN results r ON r.sample = s.id OR r.sample = ps.id
+           -- A pool that a rope sheet names holds the sheet's ropes: the sheet says what was hung.
+           JOIN results r ON r.sample = s.id OR (r.sample = ps.id AND NOT EXISTS (SELECT 1 FROM ropes h2 WHERE h2.pool = ps.id))
          WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
          GROUP BY p.sample_id`,
       )
