@@ -6,6 +6,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { northfieldExport } from '../../src/demo/scenario.js';
+import { SUMMARY_COLUMNS } from '../../src/report/summaryCsv.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -64,6 +65,8 @@ describe('pooled ropes end to end', () => {
     const a2 = summary.pens.find((pen: { barnId: string; penId: string }) => pen.barnId === 'F1' && pen.penId === 'A2');
     expect(a2.results.PRRSV).toMatchObject({ resultClass: 'suspect', sampleId: 'HC-P1', pool: { poolId: 'HC-P1', poolClass: 'positive' } });
 
+    // New columns go at the end (README: summary.csv columns are stable; common practice, no source).
+    expect(SUMMARY_COLUMNS.slice(SUMMARY_COLUMNS.indexOf('likely_meant_id') + 1)).toEqual(['pool', 'pools', 'positive_pool_pens', 'pool_sensitivity', 'unpooled_detection_confidence']);
     const csv = fs.readFileSync(path.join(roundDir(ws.paths.outbox), 'summary.csv'), 'utf8').split('\n');
     const header = csv[0]!.split(',');
     const cell = (line: string, column: string) => line.split(',')[header.indexOf(column)];

@@ -198,7 +198,7 @@ describe('summary.csv columns', () => {
   it('adds the three new columns at the end, after the existing ones', () => {
     // README: columns are stable and new ones are added at the end (common practice, no source).
     expect(SUMMARY_COLUMNS.indexOf('suspect_at_or_above')).toBe(51);
-    expect(SUMMARY_COLUMNS.slice(52)).toEqual(['corrections', 'refused_mistyped_id', 'likely_meant_id']);
+    expect(SUMMARY_COLUMNS.slice(52, 55)).toEqual(['corrections', 'refused_mistyped_id', 'likely_meant_id']);
   });
 });
 
