@@ -304,6 +304,8 @@ export const MIGRATIONS: readonly Migration[] = [
   ALTER TABLE ropes ADD COLUMN pool INTEGER REFERENCES samples(id);
   CREATE INDEX ropes_pool ON ropes(pool) WHERE pool IS NOT NULL;
   ALTER TABLE planned_ropes ADD COLUMN pool_id TEXT;
+  -- A result under a planned pool's ID finds the pool's planned ropes without a scan per sample.
+  CREATE INDEX planned_ropes_pool ON planned_ropes(pool_id) WHERE pool_id IS NOT NULL;
   `,
   },
 ];

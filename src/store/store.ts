@@ -911,7 +911,7 @@ export class Store {
       const current = this.db
         .prepare(
           `SELECT sample_id AS sampleId FROM planned_ropes p WHERE site_id = ? AND after_round = ?
-             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)`,
+             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id OR s.sample_id = p.pool_id)`,
         )
         .all(siteId, afterRound) as { sampleId: string }[];
       const remove = this.db.prepare('DELETE FROM planned_ropes WHERE sample_id = ?');
@@ -970,7 +970,7 @@ export class Store {
       .prepare(
         `SELECT p.sample_id AS sampleId, p.site_id AS siteId, p.barn_id AS barnId, p.pen_id AS penId,
                 COALESCE(MIN(r.collected_on), p.due_on) AS hungOn, 'plan' AS source, p.pool_id AS poolId
-         FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id LEFT JOIN samples ps ON ps.sample_id = p.pool_id
+         FROM planned_ropes p LEFT JOIN samples s ON s.sample_id = p.sample_id LEFT JOIN samples ps ON ps.sample_id = p.pool_id
            -- A pool that a rope sheet names holds the sheet's ropes: the sheet says what was hung.
            JOIN results r ON r.sample = s.id OR (r.sample = ps.id AND NOT EXISTS (SELECT 1 FROM ropes h2 WHERE h2.pool = ps.id))
          WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
