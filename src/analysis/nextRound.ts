@@ -29,7 +29,7 @@ import {
   type SimulatedDelay,
 } from '../plan/index.js';
 import { contactWeights, detectionProbability, simulateOnwardSpread } from '../spatial/index.js';
-import { detectionFor, siteDetection } from '../stats/index.js';
+import { detectionFor, pooledDetection, siteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
@@ -357,9 +357,17 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   if (positivePools.length > 0) {
     notes.push(`Positive pool in ${[...new Set(positivePools)].join(', ')}: a retest rope each, tested on its own, to find which pens of the pool carry the infection.`);
   }
-  if ((program.pooling?.poolSize ?? 1) > 1) {
+  const pooling = program.pooling;
+  if (pooling !== undefined && pooling.poolSize > 1) {
+    // The routine ropes are sized as if tested one by one; pooled, they detect less (hypergeometric, exact over the barn's pens).
+    const pooledFigures = models.map((model, index) => {
+      const ropes = Math.min(routine[index]!, model.pensInUse);
+      const pooled = model.pensInUse === 0 || model.designInfected === 0 ? 0 : pooledDetection(model.pensInUse, ropes, model.designInfected, pooling.poolSize, pooling.poolSensitivity, pooling.poolSpecificity);
+      return `${model.barn.id} ${formatPercent(pooled)} pooled against ${formatPercent(model.hyper(ropes))} one by one`;
+    });
     notes.push(
-      `Routine ropes go into pools of ${program.pooling!.poolSize} ropes of one barn (column pool); the lab tests each pool in one PCR and reports it under the pool ID. Retest and follow-up ropes are tested on their own.`,
+      `Routine ropes go into pools of ${pooling.poolSize} ropes of one barn (column pool); the lab tests each pool in one PCR and reports it under the pool ID. Retest and follow-up ropes are tested on their own. ` +
+        `At pool sensitivity ${pooling.poolSensitivity}, random placement: ${pooledFigures.join(', ')}.`,
     );
   }
 

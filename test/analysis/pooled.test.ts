@@ -9,6 +9,7 @@ import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
 import { parseSampleId } from '../../src/plan/sampleId.js';
+import { formatPercent } from '../../src/util/format.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { smallConfig } from './fixtures.js';
 
@@ -131,6 +132,9 @@ describe('pooled ropes in a round', () => {
     expect([...sizes.values()]).toEqual([4, 4, 4, 4, 4, 4, 4, 4, 3]);
     // Pools follow the walking order: consecutive ropes share a pool.
     expect(routine.slice(0, 4).every((row) => row.poolId === routine[0]!.poolId)).toBe(true);
+    // By hand, d = 1: the infected pen is roped with probability 35/36, and its pool detects it with 0.9: 0.875; one by one 35/36 = 0.972.
+    const note = plan.notes.find((text) => text.startsWith('Routine ropes go into pools of 4'))!;
+    expect(note).toContain(`B1 ${formatPercent(0.875)} pooled against ${formatPercent(35 / 36)} one by one`);
     const ropeIds = new Set(plan.ropes.map((row) => row.sampleId));
     for (const poolId of sizes.keys()) {
       // ISO/IEC 7064 MOD 37-2: each pool ID parses with a valid check character, and names no rope.
