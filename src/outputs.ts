@@ -93,6 +93,7 @@ export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
       dueOn: rope.dueDate,
       plannedAt,
       afterRound,
+      poolId: rope.poolId ?? null,
     })),
   );
 }

@@ -18,6 +18,7 @@ import {
   detectionFor,
   falseAlarmProbability,
   freedomAcrossRounds,
+  pooledDetectionOfPools,
   freedomEquilibrium,
   sampleSize,
   siteDetection,
@@ -78,6 +79,25 @@ export interface BarnConfidence {
   priorFreedom: number | null;
   /** This is the first round of a new group: the barn's freedom started again from the prior. */
   freedomRestart: boolean;
+  /**
+   * Only when some pens were tested in pools: `detectionConfidence` above is then the pooled
+   * figure, and this holds the pools and the figure the same pens would give tested one by one.
+   */
+  pooled?: PooledConfidence;
+}
+
+/** Detection of a round in which some ropes were tested in pools, beside the unpooled figure. */
+export interface PooledConfidence {
+  /** Pools of two or more of the barn's ropes (a pool of one is a rope tested on its own). */
+  pools: number;
+  /** Pens whose result is a pool's. */
+  pooledPens: number;
+  /** Pools that tested positive (their pens are held as suspect and retested one by one). */
+  positivePools: number;
+  poolSensitivity: number;
+  poolSpecificity: number;
+  /** The detection confidence if every tested pen had been tested on its own (Cameron & Baldock 1998). */
+  unpooledDetectionConfidence: number;
 }
 
 export interface PrevalenceEstimate {
@@ -116,6 +136,8 @@ export interface SiteConfidence {
   fewInfectedBarns: number;
   /** Two-stage site sensitivity with only `fewInfectedBarns` barns infected, at random. */
   detectionIfFewBarns: number;
+  /** Only when some barn's ropes were pooled: the site figure had every tested pen been tested on its own. */
+  unpooledDetectionConfidence?: number;
   positive: boolean;
   positiveBarns: string[];
   /** Days since the previous round started (null for the first round). */
@@ -198,7 +220,9 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
   const tested = barnRound.empty ? 0 : Math.min(pens, tally.testedPens.length);
   const designInfected = designInfectedFor(program, pens);
   const { sensitivity, specificity } = ropeAccuracy(program, assayId, barn);
-  const detectionConfidence = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
+  const unpooled = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
+  const pooled = pooledConfidence(program, tally, tested, pens, designInfected, sensitivity, unpooled);
+  const detectionConfidence = pooled === undefined ? unpooled : pooled.detection;
   const size = sampleSize({ pens, infected: designInfected, confidence: program.targetConfidence, sensitivity });
   // With the spread model sizing the plans, "ropes needed" is its count, so that the summary and the plan agree.
   const outbreaks = spread && spread.sizing.settings.sizingModel === 'spatial' ? spread.sizing.outbreaks.outbreaksFor(site, barn, designInfected) : null;
@@ -240,6 +264,52 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
     freedom: null,
     priorFreedom: null,
     freedomRestart: false,
+    ...(pooled === undefined ? {} : { pooled: pooled.report }),
+  };
+}
+
+/**
+ * The pooled detection of a barn's round: the tested pens' ropes fell into the pools the round
+ * shows (valid pools only) and the rest were tested one by one, each a pool of one with the
+ * rope's sensitivity; exact over the finite barn (`pooledDetectionOfPools`). The pool-level
+ * accuracy is the program's (`pooling`), else the rope's own with specificity 1. Undefined when
+ * no pen's result is a pool's.
+ */
+function pooledConfidence(
+  program: Program,
+  tally: SiteRound['barns'][number]['byAssay'][string],
+  tested: number,
+  pens: number,
+  designInfected: number,
+  sensitivity: number,
+  unpooled: number,
+): { detection: number; report: PooledConfidence } | undefined {
+  const valid = (tally.pools ?? []).filter((pool) => pool.poolClass !== 'invalid');
+  if (valid.length === 0) return undefined;
+  const poolSensitivity = program.pooling?.poolSensitivity ?? sensitivity;
+  const poolSpecificity = program.pooling?.poolSpecificity ?? 1;
+  // Never count more pens than the barn has in use (a rope in a pen listed as empty, see `tested`).
+  let left = tested;
+  const pools = valid.map((pool) => {
+    const size = Math.min(pool.pens.length, left);
+    left -= size;
+    return { size, sensitivity: poolSensitivity, specificity: poolSpecificity };
+  });
+  const pooledPens = tested - left;
+  // The other tested pens' ropes were tested on their own: pools of one with the rope's accuracy.
+  const singles = left;
+  const tests = [...pools.filter((pool) => pool.size > 0), ...Array.from({ length: singles }, () => ({ size: 1, sensitivity, specificity: 1 }))];
+  const detection = designInfected === 0 ? 0 : pooledDetectionOfPools(pens, designInfected, tests);
+  return {
+    detection,
+    report: {
+      pools: valid.filter((pool) => pool.pens.length > 1).length,
+      pooledPens,
+      positivePools: valid.filter((pool) => pool.poolClass === 'positive').length,
+      poolSensitivity,
+      poolSpecificity,
+      unpooledDetectionConfidence: unpooled,
+    },
   };
 }
 
@@ -352,14 +422,19 @@ export function siteConfidence(
       // A positive is never set aside, even from a barn the configuration calls empty.
       const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
       const stocked = barns.filter((barn) => !barn.empty);
-      const figures = siteFigures(program, site.barns.length - (barns.length - stocked.length), stocked.map((barn) => barn.detectionConfidence));
+      const siteBarns = site.barns.length - (barns.length - stocked.length);
+      const figures = siteFigures(program, siteBarns, stocked.map((barn) => barn.detectionConfidence));
       const sensitivity = figures.detectionConfidence;
+      const pooled = stocked.some((barn) => barn.pooled !== undefined);
+      const unpooled = pooled ? siteFigures(program, siteBarns, stocked.map((barn) => barn.pooled?.unpooledDetectionConfidence ?? barn.detectionConfidence)).detectionConfidence : undefined;
       const previous = counted[position - 1]?.round;
       return {
         sensitivity,
         figures,
-        positive: barns.some((barn) => barn.positives > 0),
-        positiveBarns: barns.filter((barn) => barn.positives > 0).map((barn) => barn.barnId),
+        unpooled,
+        // A positive pool says the barn holds infection even though no single pen is named.
+        positive: barns.some((barn) => barn.positives > 0 || (barn.pooled?.positivePools ?? 0) > 0),
+        positiveBarns: barns.filter((barn) => barn.positives > 0 || (barn.pooled?.positivePools ?? 0) > 0).map((barn) => barn.barnId),
         elapsedDays: previous ? Math.max(0, daysBetween(previous.startOn, round.startOn)) : program.intervalDays,
         daysSincePrevious: previous ? daysBetween(previous.startOn, round.startOn) : null,
       };
@@ -378,6 +453,7 @@ export function siteConfidence(
         measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',
         roundNumber: rounds[index]!.number,
         ...round.figures,
+        ...(round.unpooled === undefined ? {} : { unpooledDetectionConfidence: round.unpooled }),
         positive: round.positive,
         positiveBarns: round.positiveBarns,
         daysSincePrevious: round.daysSincePrevious,

@@ -16,6 +16,7 @@ import {
   compareSchedulesGrowing,
   formatSampleId,
   isWriteFriendlyCheck,
+  parseSampleId,
   onTimeVersusMissed,
   roundDue,
   smallestRopes,
@@ -28,7 +29,7 @@ import {
   type SimulatedDelay,
 } from '../plan/index.js';
 import { contactWeights, detectionProbability, simulateOnwardSpread, type DetectionEstimate } from '../spatial/index.js';
-import { detectionFor, twoStageSiteDetection } from '../stats/index.js';
+import { detectionFor, pooledDetection, siteDetection, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
@@ -77,7 +78,8 @@ export interface NextRoundPlan {
   overdue: boolean;
   daysOverdue: number;
   daysUntilDue: number;
-  ropes: PlanRow[];
+  /** `poolId`: the pool the rope goes into (program `pooling`), absent for a rope tested on its own. */
+  ropes: PooledPlanRow[];
   /** `monitoring`: the barn is positive and monitored instead of surveyed (src/analysis/monitoredPlan.ts). */
   barns: (BarnPlanSummary & { sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
   sizing: {
@@ -185,6 +187,47 @@ function keepEarlierIds(rows: readonly PlanRow[], site: Site, round: number, exi
     taken.add(sampleId);
     return { ...row, sampleId };
   });
+}
+
+/** A planned rope, with the pool it is tested in when the program pools ropes. */
+export type PooledPlanRow = PlanRow & { poolId?: string };
+
+/**
+ * Puts each barn's routine ropes, in walking order, into pools of `poolSize` (the last pool of a
+ * barn takes what is left; a pool of one is no pool). Retest and follow-up ropes are tested on
+ * their own: their point is to name the pen. Pool IDs have the sample-ID grammar with its check
+ * character (ISO/IEC 7064 MOD 37-2), on sequences after every rope's, so a mistyped pool ID is
+ * caught on ingest like a mistyped sample ID.
+ */
+function assignPools(rows: readonly PlanRow[], site: Site, round: number, poolSize: number, existing: ReadonlyMap<string, string> | undefined): PooledPlanRow[] {
+  if (poolSize < 2) return [...rows];
+  const taken = new Set([...rows.map((row) => row.sampleId), ...(existing?.values() ?? [])]);
+  let sequence = 0;
+  for (const id of taken) {
+    const parsed = parseSampleId(id);
+    if (parsed.ok) sequence = Math.max(sequence, parsed.sequence);
+  }
+  const nextPoolId = (): string | undefined => {
+    while (sequence < 999) {
+      sequence++;
+      const id = formatSampleId({ siteCode: site.code, round, sequence });
+      if (isWriteFriendlyCheck(id) && !taken.has(id)) return id;
+    }
+    return undefined;
+  };
+  const poolOf = new Map<PlanRow, string>();
+  for (const barn of site.barns) {
+    const routine = rows.filter((row) => row.barnId === barn.id && row.reason === 'routine');
+    for (let start = 0; start + 1 < routine.length; start += poolSize) {
+      const members = routine.slice(start, start + poolSize);
+      if (members.length < 2) break;
+      const poolId = nextPoolId();
+      // Out of sequences (999 per round): the rest are tested on their own.
+      if (poolId === undefined) return rows.map((row) => (poolOf.has(row) ? { ...row, poolId: poolOf.get(row)! } : row));
+      for (const member of members) poolOf.set(member, poolId);
+    }
+  }
+  return rows.map((row) => (poolOf.has(row) ? { ...row, poolId: poolOf.get(row)! } : row));
 }
 
 /** Plans the next round of a site. */
@@ -350,12 +393,37 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       };
     }),
   });
-  const rows = keepEarlierIds(
-    plan.rows.map((row) => ({ ...row, siteId: site.id })),
+  const rows = assignPools(
+    keepEarlierIds(
+      plan.rows.map((row) => ({ ...row, siteId: site.id })),
+      site,
+      roundNumber,
+      input.existingIds,
+    ),
     site,
     roundNumber,
+    program.pooling?.poolSize ?? 1,
     input.existingIds,
   );
+  const positivePools = models.flatMap((model) =>
+    Object.values(last?.barns.find((barn) => barn.barnId === model.barn.id)?.byAssay ?? {}).flatMap((tally) => (tally.positivePoolPens ?? []).map((pen) => `${model.barn.id} ${pen}`)),
+  );
+  if (positivePools.length > 0) {
+    notes.push(`Positive pool in ${[...new Set(positivePools)].join(', ')}: a retest rope each, tested on its own, to find which pens of the pool carry the infection.`);
+  }
+  const pooling = program.pooling;
+  if (pooling !== undefined && pooling.poolSize > 1) {
+    // The routine ropes are sized as if tested one by one; pooled, they detect less (hypergeometric, exact over the barn's pens).
+    const pooledFigures = models.map((model, index) => {
+      const ropes = Math.min(routine[index]!, model.pensInUse);
+      const pooled = model.pensInUse === 0 || model.designInfected === 0 ? 0 : pooledDetection(model.pensInUse, ropes, model.designInfected, pooling.poolSize, pooling.poolSensitivity, pooling.poolSpecificity);
+      return `${model.barn.id} ${formatPercent(pooled)} pooled against ${formatPercent(model.hyper(ropes))} one by one`;
+    });
+    notes.push(
+      `Routine ropes go into pools of ${pooling.poolSize} ropes of one barn (column pool); the lab tests each pool in one PCR and reports it under the pool ID. Retest and follow-up ropes are tested on their own. ` +
+        `At pool sensitivity ${pooling.poolSensitivity}, random placement: ${pooledFigures.join(', ')}.`,
+    );
+  }
 
   const barns = plan.barns.map((summary, index) => {
     const model = models[index]!;

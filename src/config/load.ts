@@ -170,6 +170,10 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
           : { kind: 'barns' as const, value: raw.barnDesignPrevalence.barns },
     clearAfterNegativeRounds: raw.clearAfterNegativeRounds ?? DEFAULT_CLEAR_AFTER_NEGATIVE_ROUNDS,
     trackingRopes: raw.trackingRopes ?? DEFAULT_TRACKING_ROPES,
+    pooling:
+      raw.pooling === undefined
+        ? undefined
+        : Object.freeze({ poolSize: raw.pooling.poolSize, poolSensitivity: raw.pooling.poolSensitivity, poolSpecificity: raw.pooling.poolSpecificity ?? 1 }),
   });
 }
 

@@ -11,8 +11,8 @@
  */
 import type { RopeSheetColumn, RopeSheetColumns } from './types.js';
 
-/** Every column, in the order ropewatch prints them; all but `notes` are required. */
-export const ROPE_SHEET_COLUMN_ORDER: readonly RopeSheetColumn[] = ['sampleId', 'site', 'barn', 'pen', 'hungOn', 'notes'];
+/** Every column, in the order ropewatch prints them; all but `notes` and `pool` are required. */
+export const ROPE_SHEET_COLUMN_ORDER: readonly RopeSheetColumn[] = ['sampleId', 'site', 'barn', 'pen', 'hungOn', 'notes', 'pool'];
 
 export const REQUIRED_ROPE_SHEET_COLUMNS: readonly RopeSheetColumn[] = ['sampleId', 'site', 'barn', 'pen', 'hungOn'];
 
@@ -24,6 +24,7 @@ export const ROPE_SHEET_OWN_NAME: Readonly<Record<RopeSheetColumn, string>> = {
   pen: 'pen',
   hungOn: 'hung_on',
   notes: 'notes',
+  pool: 'pool',
 };
 
 /** Synonyms accepted when sites.yaml names none for the column (common practice, no source). */
@@ -34,6 +35,8 @@ export const ROPE_SHEET_SYNONYMS: Readonly<Record<RopeSheetColumn, readonly stri
   pen: ['pen_id', 'pen_no', 'pen_number'],
   hungOn: ['hung', 'date_hung', 'hanging_date', 'collected_on', 'collection_date', 'sampled_on', 'sampling_date'],
   notes: ['note', 'comment', 'comments', 'remarks'],
+  // Ropes that share a pool ID were tested together in one PCR; the lab reports under the pool ID.
+  pool: ['pool_id', 'pool_no', 'pool_number', 'pooled_as'],
 };
 
 /** What each column holds, for messages. */
@@ -44,6 +47,7 @@ export const ROPE_SHEET_MEANING: Readonly<Record<RopeSheetColumn, string>> = {
   pen: 'the pen',
   hungOn: 'the date the rope was hung',
   notes: 'notes',
+  pool: 'the pool the rope was tested in',
 };
 
 /** The accepted names of a column: its own name, then `configured` when given, else the synonyms. */

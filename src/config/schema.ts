@@ -73,6 +73,18 @@ export const programSchema = z
     clearAfterNegativeRounds: z.number().int().min(1).max(52).optional(),
     /** Ropes of the fixed set that tracks spread and clearance in a positive barn (same pens every round). */
     trackingRopes: z.number().int().min(0).optional(),
+    /**
+     * Ropes tested together in one PCR: how many ropes of one barn the plan puts in a pool, and
+     * the pool-level sensitivity and specificity (a pool's accuracy, dilution included).
+     */
+    pooling: z
+      .object({
+        poolSize: z.number().int().min(1).max(50),
+        poolSensitivity: probability,
+        poolSpecificity: probability.optional(),
+      })
+      .strict()
+      .optional(),
   })
   .strict();
 
@@ -188,6 +200,7 @@ export const ropeSheetSchema = z
         pen: ropeColumnNames.optional(),
         hungOn: ropeColumnNames.optional(),
         notes: ropeColumnNames.optional(),
+        pool: ropeColumnNames.optional(),
       })
       .strict()
       .optional(),

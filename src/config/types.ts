@@ -37,6 +37,16 @@ export interface Program {
   clearAfterNegativeRounds: number;
   /** Ropes of the fixed tracking set in a positive barn (default 4). */
   trackingRopes: number;
+  /** Pooled testing: undefined when the program plans no pools (pools on a rope sheet then count with the rope's own accuracy). */
+  pooling: Pooling | undefined;
+}
+
+/** Several ropes tested in one PCR: the plan's pool size and the pool-level accuracy. */
+export interface Pooling {
+  poolSize: number;
+  poolSensitivity: number;
+  /** 1 unless configured. */
+  poolSpecificity: number;
 }
 
 export interface AnalysisSettings {
@@ -236,8 +246,8 @@ export interface LabProfile {
   assays: ReadonlyMap<string, LabAssay>;
 }
 
-/** The columns of a rope sheet (`notes` is optional; the others are required). */
-export type RopeSheetColumn = 'sampleId' | 'site' | 'barn' | 'pen' | 'hungOn' | 'notes';
+/** The columns of a rope sheet (`notes` and `pool` are optional; the others are required). */
+export type RopeSheetColumn = 'sampleId' | 'site' | 'barn' | 'pen' | 'hungOn' | 'notes' | 'pool';
 
 /**
  * The header names a rope sheet may give each column, as configured (matched ignoring case,

@@ -177,5 +177,5 @@ function plannedFor(store: Store, siteId: string, roundIndex: number): RopeChoic
   return store
     .plannedRopes(siteId)
     .filter((rope) => rope.afterRound === roundIndex)
-    .map((rope) => ({ sampleId: rope.sampleId, barnId: rope.barnId, penId: rope.penId }));
+    .map((rope) => ({ sampleId: rope.sampleId, barnId: rope.barnId, penId: rope.penId, ...(rope.poolId === null || rope.poolId === undefined ? {} : { poolId: rope.poolId }) }));
 }

@@ -8,6 +8,7 @@
  */
 import { addDays, format, parseISO } from 'date-fns';
 import type { Barn, Config, Site } from '../config/types.js';
+import { formatSampleId, isWriteFriendlyCheck } from '../plan/sampleId.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
 import { demoWorkbook } from './workbook.js';
 import { isEmptyOn } from '../interpret/groups.js';
@@ -27,6 +28,8 @@ export interface RopeChoice {
   sampleId: string;
   barnId: string;
   penId: string;
+  /** The pool the plan put the rope in, when the program pools ropes. */
+  poolId?: string;
 }
 
 /** Rounds of each site: the day the ropes go up (F3 and N2 a day later than the rest). */
@@ -339,6 +342,7 @@ export async function hollowCreekRound(config: Config, roundIndex: number, plann
  * The farm ropes the pens of ropewatch's plan (when there is one) but labels tubes its own way.
  */
 export function tamsinRidgeRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): DemoDrop[] {
+  if (roundIndex === TAMSIN_RIDGE_ROUNDS.length - 1) return tamsinRidgePooledRound(config, roundIndex, planned);
   const site = config.siteById.get('TAMSIN-RIDGE')!;
   const date = TAMSIN_RIDGE_ROUNDS[roundIndex]!;
   const compact = date.replace(/-/g, '');
@@ -357,6 +361,47 @@ export function tamsinRidgeRound(config: Config, roundIndex: number, planned: re
   }
   const reported = plus(date, 2);
   return [{ at: at(reported, 13), name: `oahl_befund_${reported}.csv`, bytes: ostermarkExport(rows, reported, `OA-${compact}`), note: 'Latin-1, semicolons, decimal commas, 0 for not detected' }];
+}
+
+/**
+ * Tamsin Ridge's last round goes to the lab in pools: the farm ropes the planned pens with its
+ * own tube labels, sends a rope sheet whose pool column puts three ropes of a barn in each pool
+ * (the plan's pool IDs when it gave them), and the lab reports one result per pool under the pool
+ * ID. All negative: the summary shows the pooled detection beside the unpooled figure.
+ */
+function tamsinRidgePooledRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): DemoDrop[] {
+  const site = config.siteById.get('TAMSIN-RIDGE')!;
+  const date = TAMSIN_RIDGE_ROUNDS[roundIndex]!;
+  const compact = date.replace(/-/g, '');
+  const sheet = ['sample_id,site,barn,pen,hung_on,pool'];
+  const pools = new Set<string>();
+  let sequence = 900;
+  for (const barn of site.barns) {
+    const fromPlan = planned.filter((rope) => rope.barnId === barn.id);
+    const ropes = fromPlan.length > 0 ? fromPlan : farmRopes(barn, roundIndex, 3, () => '');
+    let poolId = '';
+    ropes.forEach((rope, index) => {
+      // The plan's pool when it gave one; otherwise the farm makes pools of three in its walking order.
+      if (rope.poolId !== undefined) poolId = rope.poolId;
+      else if (index % 3 === 0) {
+        do sequence++;
+        while (!isWriteFriendlyCheck(formatSampleId({ siteCode: site.code, round: roundIndex + 1, sequence })));
+        poolId = formatSampleId({ siteCode: site.code, round: roundIndex + 1, sequence });
+      }
+      pools.add(poolId);
+      const sampleId = `TR-${barn.id}-${String(Number(rope.penId)).padStart(2, '0')}-${compact}`;
+      sheet.push([sampleId, site.id, barn.id, rope.penId, date, poolId].map(csvCell).join(','));
+    });
+  }
+  const rows: LabRow[] = [...pools].flatMap((poolId) => [
+    { sampleId: poolId, assay: 'PRRSV' as const, ct: null, collectedOn: date },
+    { sampleId: poolId, assay: 'IAV' as const, ct: null, collectedOn: date },
+  ]);
+  const reported = plus(date, 2);
+  return [
+    { at: at(plus(date, 1), 9), name: `tamsin-ridge_ropes_${date}.csv`, bytes: Buffer.from(sheet.join('\n') + '\n', 'utf8'), note: 'a rope sheet with a pool column: three ropes per PCR' },
+    { at: at(reported, 13), name: `oahl_befund_${reported}.csv`, bytes: ostermarkExport(rows, reported, `OA-${compact}`), note: 'one result per pool, under the pool ID' },
+  ];
 }
 
 export { plus as addDaysIso };

@@ -35,6 +35,7 @@ export const REJECTION_CODES = {
   'bad-check-character': 'a planned sample ID whose check character does not match (mistyped)',
   'pen-twice-same-day': 'a second sample in the same pen on the same day',
   'sample-id-reused': 'the sample ID already names a rope in another pen or on another day',
+  'bad-pool': 'a rope-sheet pool ID that is the rope\'s own sample ID or names a rope, or a rope whose sample ID names a pool',
   'no-collection-date': 'a sample ID that encodes its pen carries no date and the row has none',
 } as const;
 

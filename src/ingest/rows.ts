@@ -495,6 +495,11 @@ export interface RopeRow extends RopeLocation {
   sampleIdAsWritten: string | null;
   /** A warning that did not stop the row (e.g. a rope in a pen the layout lists as empty). */
   warning: string | undefined;
+  /**
+   * The pool the rope was tested in (normalised), or null: ropes sharing a pool ID went into one
+   * PCR, and the lab reports the pool's result under that ID.
+   */
+  poolId?: string | null;
 }
 
 export interface RopeContext {
@@ -512,7 +517,7 @@ function findSite(sites: readonly Site[], text: string): Site | undefined {
   return sites.find((site) => foldToken(site.id) === folded || foldToken(site.code) === folded || foldToken(site.name) === folded);
 }
 
-/** Maps one rope-sheet record (sample_id, site, barn, pen, hung_on, under whatever header names the sheet gives them). */
+/** Maps one rope-sheet record (sample_id, site, barn, pen, hung_on, optional notes and pool, under whatever header names the sheet gives them). */
 export function mapRopeRow(cells: readonly string[], line: number, context: RopeContext): RowOutcome<RopeRow> {
   const get = (column: string) => {
     const position = context.columnIndex.get(column);
@@ -542,6 +547,15 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
   const hungOn = parseDateCell(dateText, 'dd.MM.yyyy');
   if (!hungOn) return reject('bad-date', 'hung_on', dateText, `"${dateText}" is not a date (write yyyy-mm-dd)`);
   const notes = get('notes');
+  const poolText = get('pool');
+  let poolId: string | null = null;
+  if (poolText !== '') {
+    const pool = context.plannedIdCheck(normaliseSampleId(poolText), line);
+    if (pool.kind === 'bad-check') return reject('bad-check-character', 'pool', poolText, `pool ID ${poolText} fails its check character: probably mistyped`);
+    poolId = pool.kind === 'planned' || pool.kind === 'corrected' ? pool.canonical : normaliseSampleId(poolText);
+    // A pool ID names the pool's tube: the rope's own ID would make one tube two things.
+    if (poolId === sampleId) return reject('bad-pool', 'pool', poolText, `pool ID ${poolText} is the rope's own sample ID; a pool gets an ID of its own`);
+  }
   return {
     ok: true,
     row: {
@@ -554,6 +568,7 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
       note: notes === '' ? null : notes,
       sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
       warning: pen.status === 'in-use' ? undefined : `pen ${pen.id} is listed as ${pen.status} in the layout; the rope is kept`,
+      poolId,
     },
   };
 }

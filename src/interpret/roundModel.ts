@@ -67,6 +67,30 @@ export interface PenAssayResult {
   reportedOn: string | null;
   /** Other results for this pen and assay in the round (a second rope), worst one shown above. */
   otherSampleIds: string[];
+  /**
+   * Set when the result is a pool's (the pen's rope was tested with others in one PCR): the
+   * pool's ID and whether it was positive. A positive pool says that at least one of its pens
+   * is infected, not which: its pens read "positive pool" (class suspect, retested one by one),
+   * never positive. Absent for a rope tested on its own.
+   */
+  pool?: PoolReading;
+}
+
+/** The pool a pen's result came from. */
+export interface PoolReading {
+  poolId: string;
+  /** The pool's own class (a positive pool's pens are held as suspect, see PenAssayResult.pool). */
+  poolClass: ResultClass;
+  /** The pens (barn/pen) whose ropes were in the pool, in this round. */
+  pens: string[];
+}
+
+/** A pool of a barn's ropes tested in one PCR, as it stands for the barn's pens for one assay. */
+export interface BarnPool {
+  poolId: string;
+  poolClass: ResultClass;
+  /** The barn's pens whose result for the assay is this pool's (the pool may hold other barns' ropes too). */
+  pens: string[];
 }
 
 export interface PenRound {
@@ -89,6 +113,13 @@ export interface AssayTally {
   invalidPens: string[];
   /** Pens with a valid result for this assay (positive, suspect or negative). */
   testedPens: string[];
+  /**
+   * Only when some pen's result for this assay is a pool's: the pools, and the pens of a positive
+   * pool ("positive pool": counted as suspect above, each retested in the next plan). Absent in
+   * a round without pools, so its outputs are as before.
+   */
+  pools?: BarnPool[];
+  positivePoolPens?: string[];
 }
 
 export interface BarnRound {
@@ -252,6 +283,8 @@ export interface RoundNotesInput {
 
 export interface RopeInput extends DatedRope {
   source: string;
+  /** The pool the rope was tested in: its results are the pool ID's. */
+  poolId?: string | null;
 }
 
 /**
@@ -406,6 +439,15 @@ export function buildSiteRounds(
   );
   return rounds.map((round, roundIndex) => {
     const plannedHere = plannedByRound.get(String(roundIndex)) ?? [];
+    // Pools of the round: which pens each pool ID covers (a pool's result applies to every rope in it).
+    const poolPens = new Map<string, string[]>();
+    for (const rope of round.ropes) {
+      if (rope.poolId === undefined || rope.poolId === null) continue;
+      const pens = poolPens.get(rope.poolId);
+      const pen = `${rope.barnId}/${rope.penId}`;
+      if (pens === undefined) poolPens.set(rope.poolId, [pen]);
+      else if (!pens.includes(pen)) pens.push(pen);
+    }
     const assays = new Set<string>();
     const measures: Record<string, Measure> = {};
     const cutoffs = new Map<string, RoundCutoff>();
@@ -420,6 +462,8 @@ export function buildSiteRounds(
       /** The pen of each rope without a result (sample ID -> pen id as the layout writes it). */
       const missingPen = new Map<string, string>();
       const barnReplaced: RoundReplacement[] = [];
+      /** A pool's results are counted once per barn in its sources, cutoffs and disagreements, however many pens they stand for. */
+      const poolResultsSeen = new Set<number>();
       let returned = 0;
       let hung = 0;
       for (const rope of barnRopes) {
@@ -433,7 +477,10 @@ export function buildSiteRounds(
         }
         penRound.sampleIds.push(rope.sampleId);
         for (const entry of replacedBySample.get(rope.sampleId) ?? []) barnReplaced.push({ ...entry, barnId: barn.id, penId: pen.id });
-        const ropeResults = resultsBySample.get(rope.sampleId) ?? [];
+        const ownResults = resultsBySample.get(rope.sampleId) ?? [];
+        const poolId = rope.poolId ?? null;
+        const pooledResults = poolId === null ? [] : (resultsBySample.get(poolId) ?? []);
+        const ropeResults = pooledResults.length === 0 ? ownResults : [...ownResults, ...pooledResults];
         if (ropeResults.length === 0) {
           missing.push(rope.sampleId);
           missingPen.set(rope.sampleId, pen.id);
@@ -445,15 +492,18 @@ export function buildSiteRounds(
           assays.add(result.assayId);
           const measure = result.measure ?? 'ct';
           if (measures[result.assayId] === undefined || measure === 'sp-ratio') measures[result.assayId] = measure;
-          addSource(barnSources, resultEntry(result));
-          const readWith = roundCutoffOf(result);
+          const fromPool = poolId !== null && result.sampleId === poolId;
+          const firstReading = !fromPool || !poolResultsSeen.has(result.id);
+          if (fromPool) poolResultsSeen.add(result.id);
+          if (firstReading) addSource(barnSources, resultEntry(result));
+          const readWith = firstReading ? roundCutoffOf(result) : undefined;
           if (readWith !== undefined) {
             const key = [readWith.labId, readWith.assayId, readWith.measure, readWith.positiveBelow, readWith.suspectBelow, readWith.cycleLimit, readWith.positiveAtOrAbove, readWith.suspectAtOrAbove].join('\u0000');
             const cutoff = cutoffs.get(key);
             if (cutoff) cutoff.results++;
             else cutoffs.set(key, { ...readWith, results: 1 });
           }
-          if (result.callDiffers && result.labCall !== null) {
+          if (firstReading && result.callDiffers && result.labCall !== null) {
             barnDisagreements.push({
               barnId: barn.id,
               penId: pen.id,
@@ -503,6 +553,15 @@ export function buildSiteRounds(
             reportedOn: result.reportedOn ?? null,
             otherSampleIds: [],
           };
+          if (fromPool) {
+            candidate.pool = { poolId, poolClass: result.resultClass, pens: poolPens.get(poolId) ?? [] };
+            // A positive pool says one or more of its pens is infected, not which: each of its pens
+            // is held for a retest on its own (suspect), never counted as a positive pen.
+            if (result.resultClass === 'positive') {
+              candidate.resultClass = 'suspect';
+              candidate.reason = `positive pool ${poolId} (${result.reason}): at least one of its ${candidate.pool.pens.length} pens is infected, not necessarily this one; retest the pen on its own`;
+            }
+          }
           const existing = penRound.results[result.assayId];
           if (!existing) penRound.results[result.assayId] = candidate;
           else {
@@ -552,6 +611,15 @@ export function buildSiteRounds(
           if (result.resultClass === 'suspect') tally.suspectPens.push(pen.penId);
           if (result.resultClass === 'invalid') tally.invalidPens.push(pen.penId);
           else tally.testedPens.push(pen.penId);
+          const pool = result.pool;
+          if (pool !== undefined) {
+            const pools = (tally.pools ??= []);
+            const entry = pools.find((candidate) => candidate.poolId === pool.poolId);
+            if (entry) entry.pens.push(pen.penId);
+            else pools.push({ poolId: pool.poolId, poolClass: pool.poolClass, pens: [pen.penId] });
+            tally.positivePoolPens ??= [];
+            if (pool.poolClass === 'positive') tally.positivePoolPens.push(pen.penId);
+          }
         }
       }
       // Pen order of the barn's layout, then sample and assay: every disagreeing result is listed.

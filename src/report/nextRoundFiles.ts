@@ -8,10 +8,15 @@ import { csvTable } from './csvTable.js';
 
 export const NEXT_ROUND_COLUMNS = ['sample_id', 'site', 'barn', 'pen', 'side', 'reason', 'due_date'] as const;
 
+/** The column a plan with pools adds at the end: the rope sheet's own name for it, so the list reads back as a rope sheet. */
+export const NEXT_ROUND_POOL_COLUMN = 'pool';
+
 export function nextRoundCsv(plan: NextRoundPlan): string {
+  const rows = plan.ropes.map((rope) => ({ sample_id: rope.sampleId, site: rope.siteId, barn: rope.barnId, pen: rope.penId, side: rope.side, reason: rope.reason, due_date: rope.dueDate }));
+  if (!plan.ropes.some((rope) => rope.poolId !== undefined)) return csvTable(NEXT_ROUND_COLUMNS, rows);
   return csvTable(
-    NEXT_ROUND_COLUMNS,
-    plan.ropes.map((rope) => ({ sample_id: rope.sampleId, site: rope.siteId, barn: rope.barnId, pen: rope.penId, side: rope.side, reason: rope.reason, due_date: rope.dueDate })),
+    [...NEXT_ROUND_COLUMNS, NEXT_ROUND_POOL_COLUMN] as const,
+    rows.map((row, index) => ({ ...row, pool: plan.ropes[index]!.poolId ?? null })),
   );
 }
 

@@ -74,6 +74,11 @@ export const SUMMARY_COLUMNS = [
   'group_placed_on',
   'barn_empty',
   'barn_freedom',
+  'pool',
+  'pools',
+  'positive_pool_pens',
+  'pool_sensitivity',
+  'unpooled_detection_confidence',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -183,6 +188,7 @@ export function summaryCsv(summary: RoundSummary): string {
       // A site positive for a PCR assay has a status, not a probability of freedom.
       freedom: assay.site.status?.state === 'positive' || assay.site.freedom === null ? 'positive' : formatProbability(assay.site.freedom),
       positive_since: assay.site.status?.state === 'positive' ? assay.site.status.sinceRound : null,
+      unpooled_detection_confidence: assay.site.unpooledDetectionConfidence === undefined ? null : formatProbability(assay.site.unpooledDetectionConfidence),
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
       site_barns: assay.site.barns,
@@ -229,6 +235,10 @@ export function summaryCsv(summary: RoundSummary): string {
         true_prevalence: c.prevalence ? formatProbability(c.prevalence.trueEstimate) : null,
         freedom: c.status?.state === 'positive' ? 'positive' : null,
         positive_since: c.status?.state === 'positive' ? c.status.sinceRound : null,
+        pools: c.pooled?.pools ?? null,
+        positive_pool_pens: c.pooled === undefined ? null : (entry.positivePoolPens ?? []).join(' '),
+        pool_sensitivity: c.pooled?.poolSensitivity ?? null,
+        unpooled_detection_confidence: c.pooled === undefined ? null : formatProbability(c.pooled.unpooledDetectionConfidence),
         ...provenance(barn.sources, entry.assayId),
         measure: c.measure,
         ...mistypedCells(barn.mistyped),
@@ -252,6 +262,7 @@ export function summaryCsv(summary: RoundSummary): string {
         assay: assayId,
         sample_ids: pen.sampleIds.join(' '),
         class: result.resultClass,
+        pool: result.pool?.poolId ?? null,
         ct: result.ct,
         load_band: result.loadBand,
         reason: result.reason,

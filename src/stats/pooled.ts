@@ -39,19 +39,27 @@ export function poolSizes(sampled: number, poolSize: number): number[] {
   return sizes;
 }
 
+/** One pool of a round: how many ropes it holds and its accuracy as a pool. */
+export interface PoolTest {
+  size: number;
+  sensitivity: number;
+  specificity: number;
+}
+
 /**
  * Probability that every pool tests negative when `infectedRopes` of the ropes come from
- * infected pens and the ropes are pooled at random into pools of the given sizes. Pools are
- * filled one after another: the infected ropes in the next pool are hypergeometric among the
- * ropes still unpooled; a pool with an infected rope misses with 1 - PSe, a clean one with PSp.
+ * infected pens and the ropes are pooled at random into the given pools. Pools are filled one
+ * after another: the infected ropes in the next pool are hypergeometric among the ropes still
+ * unpooled (the partition is exchangeable, so the order does not matter); a pool with an
+ * infected rope misses with 1 - PSe, a clean one with PSp.
  */
-function allPoolsNegative(sizes: readonly number[], infectedRopes: number, poolSensitivity: number, poolSpecificity: number): number {
-  const ropes = sizes.reduce((sum, size) => sum + size, 0);
+function allPoolsNegative(pools: readonly PoolTest[], infectedRopes: number): number {
+  const ropes = pools.reduce((sum, pool) => sum + pool.size, 0);
   // missing[t]: probability that the pools filled so far all tested negative and took t infected ropes.
   let missing = new Float64Array(infectedRopes + 1);
   missing[0] = 1;
   let used = 0;
-  for (const size of sizes) {
+  for (const { size, sensitivity, specificity } of pools) {
     const next = new Float64Array(infectedRopes + 1);
     const remaining = ropes - used;
     for (let taken = 0; taken <= infectedRopes; taken++) {
@@ -60,13 +68,44 @@ function allPoolsNegative(sizes: readonly number[], infectedRopes: number, poolS
       const infectedLeft = infectedRopes - taken;
       for (let inPool = Math.max(0, size - (remaining - infectedLeft)); inPool <= Math.min(size, infectedLeft); inPool++) {
         const share = Math.exp(logHypergeometricPmf(inPool, remaining, infectedLeft, size));
-        next[taken + inPool]! += weight * share * (inPool === 0 ? poolSpecificity : 1 - poolSensitivity);
+        next[taken + inPool]! += weight * share * (inPool === 0 ? specificity : 1 - sensitivity);
       }
     }
     missing = next;
     used += size;
   }
   return missing[infectedRopes]!;
+}
+
+/**
+ * Detection in a finite barn (exact) when the tested ropes, one per pen in n pens chosen at
+ * random, were tested in the given pools: pools of several ropes with the pool-level accuracy,
+ * ropes tested on their own as pools of one with the rope's. The same mixture as
+ * `pooledDetection`, with pools of any sizes and accuracies:
+ *
+ *   P(detect) = 1 - sum_x Hyp(x; N, d, n) P(every pool negative | x),   n = sum of pool sizes.
+ *
+ * @param pens N >= 1; @param infected d in [0, N]; @param pools sizes >= 1 (summing to at most N),
+ *   sensitivities and specificities in [0, 1]
+ * @throws RangeError when an argument is out of its domain
+ * @see Cameron AR, Baldock FC 1998, Prev Vet Med 34:1-17 (the finite-population mixture).
+ */
+export function pooledDetectionOfPools(pens: number, infected: number, pools: readonly PoolTest[]): number {
+  requireInteger('pens', pens, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
+  requireInteger('infected', infected, 0, pens, '[0, pens]');
+  let sampled = 0;
+  for (const pool of pools) {
+    requireInteger('pool size', pool.size, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
+    requireProbability('pool sensitivity', pool.sensitivity);
+    requireNumber('pool specificity', pool.specificity, 0, 1);
+    sampled += pool.size;
+  }
+  requireInteger('sampled', sampled, 0, pens, '[0, pens]');
+  let miss = 0;
+  for (let x = Math.max(0, sampled - (pens - infected)); x <= Math.min(sampled, infected); x++) {
+    miss += Math.exp(logHypergeometricPmf(x, pens, infected, sampled)) * allPoolsNegative(pools, x);
+  }
+  return Math.min(1, Math.max(0, 1 - miss));
 }
 
 /**
@@ -94,10 +133,9 @@ export function pooledDetection(pens: number, sampled: number, infected: number,
   requireInteger('poolSize', poolSize, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
   requireProbability('poolSensitivity', poolSensitivity);
   requireNumber('poolSpecificity', poolSpecificity, 0, 1);
-  const sizes = poolSizes(sampled, poolSize);
-  let miss = 0;
-  for (let x = Math.max(0, sampled - (pens - infected)); x <= Math.min(sampled, infected); x++) {
-    miss += Math.exp(logHypergeometricPmf(x, pens, infected, sampled)) * allPoolsNegative(sizes, x, poolSensitivity, poolSpecificity);
-  }
-  return Math.min(1, Math.max(0, 1 - miss));
+  return pooledDetectionOfPools(
+    pens,
+    infected,
+    poolSizes(sampled, poolSize).map((size) => ({ size, sensitivity: poolSensitivity, specificity: poolSpecificity })),
+  );
 }

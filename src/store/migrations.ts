@@ -294,4 +294,18 @@ export const MIGRATIONS: readonly Migration[] = [
     JOIN samples sm ON sm.id = o.sample;
   `,
   },
+  {
+    sql: `
+  -- 6: pooled ropes. Ropes that share a pool went into one PCR, and the lab reports the pool's
+  -- result under the pool's ID: the rope names its pool's sample (NULL: tested on its own), and
+  -- a planned rope the pool the plan puts it in. Columns added, nothing rebuilt: ropes stored
+  -- before read as tested on their own. The partial index finds a pool's ropes when its result
+  -- arrives (and costs nothing for ropes without a pool).
+  ALTER TABLE ropes ADD COLUMN pool INTEGER REFERENCES samples(id);
+  CREATE INDEX ropes_pool ON ropes(pool) WHERE pool IS NOT NULL;
+  ALTER TABLE planned_ropes ADD COLUMN pool_id TEXT;
+  -- A result under a planned pool's ID finds the pool's planned ropes without a scan per sample.
+  CREATE INDEX planned_ropes_pool ON planned_ropes(pool_id) WHERE pool_id IS NOT NULL;
+  `,
+  },
 ];

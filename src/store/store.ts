@@ -36,6 +36,8 @@ export interface StoredRope {
   penId: string;
   hungOn: string;
   source: 'sheet' | 'sample-pattern' | 'plan';
+  /** The pool the rope was tested in (its results come under this ID); null when tested on its own. */
+  poolId?: string | null;
 }
 
 /** A current result as the analysis reads it: the stored row's fields plus its ids. */
@@ -73,6 +75,8 @@ export interface PlannedRope {
   dueOn: string;
   plannedAt: string;
   afterRound: number;
+  /** The pool the plan puts the rope in (pooled testing), or null. */
+  poolId?: string | null;
 }
 
 export interface Supersession {
@@ -378,17 +382,19 @@ export class Store {
          WHERE h.site_id = ? AND h.barn_id = ? AND h.pen_id = ? AND h.hung_on = ? AND h.sample <> ?`,
       ),
       insertRope: db.prepare(
-        `INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line, note)
-         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)
+        `INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line, note, pool)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
          ON CONFLICT DO NOTHING`,
       ),
+      ropeInPool: db.prepare('SELECT 1 FROM ropes WHERE pool = ?').pluck(),
       rejectionExists: db.prepare('SELECT 1 FROM rejected_rows WHERE file_id = ? AND line = ? AND code = ?').pluck(),
       insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message, suggested_id, candidate_ids) VALUES (?, ?, ?, ?, ?, ?, ?, ?)'),
       upsertPlanned: db.prepare(
-        `INSERT INTO planned_ropes (sample_id, site_id, barn_id, pen_id, side, reason, due_on, planned_at, after_round)
-         VALUES (@sampleId, @siteId, @barnId, @penId, @side, @reason, @dueOn, @plannedAt, @afterRound)
+        `INSERT INTO planned_ropes (sample_id, site_id, barn_id, pen_id, side, reason, due_on, planned_at, after_round, pool_id)
+         VALUES (@sampleId, @siteId, @barnId, @penId, @side, @reason, @dueOn, @plannedAt, @afterRound, @poolId)
          ON CONFLICT (sample_id) DO UPDATE SET site_id = excluded.site_id, barn_id = excluded.barn_id, pen_id = excluded.pen_id,
-           side = excluded.side, reason = excluded.reason, due_on = excluded.due_on, planned_at = excluded.planned_at, after_round = excluded.after_round`,
+           side = excluded.side, reason = excluded.reason, due_on = excluded.due_on, planned_at = excluded.planned_at, after_round = excluded.after_round,
+           pool_id = excluded.pool_id`,
       ),
     };
   }
@@ -666,10 +672,10 @@ export class Store {
     }
   }
 
-  private insertRopeRow(fileId: number, sample: SampleInFile, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts): void {
+  private insertRopeRow(fileId: number, sample: SampleInFile, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts, poolKey: number | null = null): void {
     const sampleKey = sample.key;
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
-    const info = this.statements.insertRope.run(sampleKey, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note);
+    const info = this.statements.insertRope.run(sampleKey, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note, poolKey);
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
@@ -715,7 +721,27 @@ export class Store {
   insertRopes(fileId: number, rows: readonly RopeRow[]): InsertCounts {
     this.requireFile();
     const counts = emptyCounts();
-    for (const row of rows) this.insertRopeRow(fileId, this.sampleInFile(row.sampleId), row, 'sheet', counts);
+    for (const row of rows) {
+      const sample = this.sampleInFile(row.sampleId);
+      const poolId = row.poolId ?? null;
+      if (poolId === null) {
+        // A rope tested on its own whose ID already names a pool: one tube cannot be both.
+        if (this.statements.ropeInPool.get(sample.key) !== undefined) {
+          counts.rejections.push({ line: row.line, field: 'sample_id', code: 'bad-pool', value: row.sampleId, message: `sample ${row.sampleId} is the ID of a pool of earlier ropes, so it cannot name a rope` });
+          continue;
+        }
+        this.insertRopeRow(fileId, sample, row, 'sheet', counts);
+        continue;
+      }
+      const pool = this.sampleInFile(poolId);
+      if (pool.ropedAt !== undefined) {
+        counts.rejections.push({ line: row.line, field: 'pool', code: 'bad-pool', value: poolId, message: `pool ID ${poolId} names the rope hung in ${pool.ropedAt}; a pool gets an ID of its own` });
+        continue;
+      }
+      this.insertRopeRow(fileId, sample, row, 'sheet', counts, pool.key);
+      // Results reported under the pool ID before this sheet now have their ropes.
+      if (pool.hadResults && !this.effects.resolved.includes(poolId)) this.effects.resolved.push(poolId);
+    }
     return counts;
   }
 
@@ -761,13 +787,17 @@ export class Store {
       .prepare(
         `SELECT s.sample_id AS id, COUNT(*) OVER () AS n FROM temp.file_unplaced f JOIN samples s ON s.id = f.sample
          WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = f.sample)
-           AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = s.sample_id)
+           AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.pool = f.sample)
+           AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = s.sample_id OR p.pool_id = s.sample_id)
          ORDER BY s.sample_id LIMIT ?`,
       )
       .all(RECEIPT_LIST_LIMIT) as { id: string; n: number }[];
-    // Planned sample IDs resolve to the plan's pen: their sites are touched too.
+    // Planned sample IDs resolve to the plan's pen, a pool's result to its ropes' pens: their sites are touched too.
     const plannedSites = this.db
-      .prepare('SELECT DISTINCT p.site_id AS id FROM temp.file_unplaced f JOIN samples s ON s.id = f.sample JOIN planned_ropes p ON p.sample_id = s.sample_id')
+      .prepare(
+        `SELECT p.site_id AS id FROM temp.file_unplaced f JOIN samples s ON s.id = f.sample JOIN planned_ropes p ON p.sample_id = s.sample_id OR p.pool_id = s.sample_id
+         UNION SELECT h.site_id FROM temp.file_unplaced f JOIN ropes h ON h.pool = f.sample`,
+      )
       .pluck()
       .all() as string[];
     return {
@@ -881,12 +911,12 @@ export class Store {
       const current = this.db
         .prepare(
           `SELECT sample_id AS sampleId FROM planned_ropes p WHERE site_id = ? AND after_round = ?
-             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)`,
+             AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id OR s.sample_id = p.pool_id)`,
         )
         .all(siteId, afterRound) as { sampleId: string }[];
       const remove = this.db.prepare('DELETE FROM planned_ropes WHERE sample_id = ?');
       for (const { sampleId } of current) if (!keep.has(sampleId)) remove.run(sampleId);
-      for (const rope of ropes) this.statements.upsertPlanned.run(rope);
+      for (const rope of ropes) this.statements.upsertPlanned.run({ ...rope, poolId: rope.poolId ?? null });
     });
     if (this.inFile) run();
     else run.immediate();
@@ -930,16 +960,19 @@ export class Store {
     const where = siteId === undefined ? '' : 'WHERE h.site_id = @siteId';
     const hung = this.db
       .prepare(
-        `SELECT s.sample_id AS sampleId, h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn, h.source
-         FROM ropes h JOIN samples s ON s.id = h.sample ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
+        `SELECT s.sample_id AS sampleId, h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn, h.source, ps.sample_id AS poolId
+         FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
       )
       .all({ siteId }) as StoredRope[];
-    // A planned rope counts as hung once a result for it arrives: on its collection date, else its due date.
+    // A planned rope counts as hung once a result for it (or for the pool the plan put it in,
+    // unless a rope sheet names that pool) arrives: on its collection date, else its due date.
     const planned = this.db
       .prepare(
         `SELECT p.sample_id AS sampleId, p.site_id AS siteId, p.barn_id AS barnId, p.pen_id AS penId,
-                COALESCE(MIN(r.collected_on), p.due_on) AS hungOn, 'plan' AS source
-         FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id JOIN results r ON r.sample = s.id
+                COALESCE(MIN(r.collected_on), p.due_on) AS hungOn, 'plan' AS source, p.pool_id AS poolId
+         FROM planned_ropes p LEFT JOIN samples s ON s.sample_id = p.sample_id LEFT JOIN samples ps ON ps.sample_id = p.pool_id
+           -- A pool that a rope sheet names holds the sheet's ropes: the sheet says what was hung.
+           JOIN results r ON r.sample = s.id OR (r.sample = ps.id AND NOT EXISTS (SELECT 1 FROM ropes h2 WHERE h2.pool = ps.id))
          WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
          GROUP BY p.sample_id`,
       )
@@ -956,7 +989,8 @@ export class Store {
       siteId === undefined
         ? ''
         : `AND r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId
-             UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id WHERE p.site_id = @siteId)`;
+             UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL
+             UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = @siteId)`;
     return this.db
       .prepare(
         `SELECT r.id, r.file_id AS fileId, r.lab_id AS labId, s.sample_id AS sampleId, r.assay_id AS assayId, r.measure, r.ct, r.sp, r.ct_raw AS ctRaw, r.lab_call AS labCall,
@@ -1060,7 +1094,7 @@ export class Store {
     return this.db
       .prepare(
         `SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, side, reason, due_on AS dueOn,
-                planned_at AS plannedAt, after_round AS afterRound FROM planned_ropes ${siteId === undefined ? '' : 'WHERE site_id = ?'} ORDER BY sample_id`,
+                planned_at AS plannedAt, after_round AS afterRound, pool_id AS poolId FROM planned_ropes ${siteId === undefined ? '' : 'WHERE site_id = ?'} ORDER BY sample_id`,
       )
       .all(...(siteId === undefined ? [] : [siteId])) as PlannedRope[];
   }
@@ -1070,8 +1104,8 @@ export class Store {
     return this.db
       .prepare(
         `SELECT sample_id AS sampleId, site_id AS siteId, barn_id AS barnId, pen_id AS penId, side, reason, due_on AS dueOn,
-                planned_at AS plannedAt, after_round AS afterRound
-         FROM planned_ropes p WHERE site_id = ? AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)
+                planned_at AS plannedAt, after_round AS afterRound, pool_id AS poolId
+         FROM planned_ropes p WHERE site_id = ? AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id OR s.sample_id = p.pool_id)
          ORDER BY sample_id`,
       )
       .all(siteId) as PlannedRope[];

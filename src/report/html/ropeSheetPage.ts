@@ -51,6 +51,8 @@ const LONG_LIST = 10;
 export function renderRopeSheetPage(input: RopeSheetInput): string {
   const { plan, site } = input;
   const order = new Map(plan.ropes.map((rope, index) => [`${rope.barnId}/${rope.penId}`, index + 1]));
+  // Pooled ropes: the pool each tube goes into, in a column of its own (only when the plan pools).
+  const pooled = plan.ropes.some((rope) => rope.poolId !== undefined);
   const due = plan.overdue
     ? `<div class="overdue" data-overdue="">Overdue: this round was due on ${escapeHtml(plan.dueDate)} (${count(plan.daysOverdue, 'day')} ago). Hang the ropes as soon as possible.</div>`
     : `<p class="due">Hang these ropes by ${escapeHtml(plan.dueDate)}.</p>`;
@@ -73,10 +75,10 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
       const rowOf = (rope: (typeof ropes)[number]) => {
         const line = order.get(`${rope.barnId}/${rope.penId}`)!;
         const why = compact ? rope.reason : REASON_WORD[rope.reason];
-        return `<tr data-rope="${escapeHtml(rope.sampleId)}"><td class="num">${line}</td><td><strong>${escapeHtml(rope.penId)}</strong></td><td>${escapeHtml(rope.side)}</td><td><strong>${escapeHtml(rope.sampleId)}</strong></td><td>${escapeHtml(why)}</td><td class="tick"><span class="box" aria-label="done"></span></td></tr>`;
+        return `<tr data-rope="${escapeHtml(rope.sampleId)}"><td class="num">${line}</td><td><strong>${escapeHtml(rope.penId)}</strong></td><td>${escapeHtml(rope.side)}</td><td><strong>${escapeHtml(rope.sampleId)}</strong></td><td>${escapeHtml(why)}</td>${pooled ? `<td data-pool="">${escapeHtml(rope.poolId ?? '')}</td>` : ''}<td class="tick"><span class="box" aria-label="done"></span></td></tr>`;
       };
       const table = (part: typeof ropes) =>
-        `<table class="checklist"><thead><tr><th class="num">#</th><th>Pen</th><th>Side</th><th>${compact ? 'Sample ID' : 'Sample ID (tube label)'}</th><th>Why</th><th>Done</th></tr></thead><tbody>${part.map(rowOf).join('')}</tbody></table>`;
+        `<table class="checklist"><thead><tr><th class="num">#</th><th>Pen</th><th>Side</th><th>${compact ? 'Sample ID' : 'Sample ID (tube label)'}</th><th>Why</th>${pooled ? '<th>Pool</th>' : ''}<th>Done</th></tr></thead><tbody>${part.map(rowOf).join('')}</tbody></table>`;
       const half = Math.ceil(ropes.length / 2);
       const checklist = compact ? `<div class="checklist-pair">${table(ropes.slice(0, half))}${table(ropes.slice(half))}</div>` : table(ropes);
       return (

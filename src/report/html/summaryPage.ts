@@ -63,7 +63,7 @@ function siteTable(summary: RoundSummary): string {
       const figures = assay.siteFigures
         .map((figure) => `<span data-site-figure="${figure.infectedBarns}"${figure.freedom ? ' data-freedom=""' : ''}>${figure.freedom ? '<strong>' : ''}${pct(figure.detection)}${figure.freedom ? '</strong>' : ''} ${escapeHtml(figure.label)}${figure.freedom ? ' (freedom is built on this)' : ''}</span>`)
         .join('<br>');
-      return `<tr data-assay="${escapeHtml(assay.id)}" data-measure="${assay.measure}"><td>${name}</td><td>${figures}</td><td>${result}</td><td>${freedom}</td></tr>`;
+      return `<tr data-assay="${escapeHtml(assay.id)}" data-measure="${assay.measure}"><td>${name}</td><td>${figures}${site.unpooledDetectionConfidence === undefined ? '' : `<br><span class="muted" data-unpooled="">(pooled; ${pct(site.unpooledDetectionConfidence)} unpooled)</span>`}</td><td>${result}</td><td>${freedom}</td></tr>`;
     })
     .join('');
   const meanings = summary.assays
@@ -133,7 +133,7 @@ function findingsTable(summary: RoundSummary, barnId: string): string {
           const call = result.labCall === null ? '<span class="muted">none</span>' : `${escapeHtml(result.labCall)}${result.callDiffers ? ' <strong>(differs)</strong>' : ''}`;
           return (
             `<tr data-pen="${escapeHtml(pen.penId)}" data-assay="${escapeHtml(assayId)}"><td>${escapeHtml(pen.penId)}</td><td>${escapeHtml(assayId)}</td><td>${escapeHtml(result.sampleId)}</td>` +
-            `<td class="num">${valueCell(result)}</td><td>${escapeHtml(result.resultClass)}${result.sequencingCandidate ? ', sequencing candidate' : ''}</td><td>${call}</td>` +
+            `<td class="num">${valueCell(result)}</td><td>${result.pool !== undefined && result.pool.poolClass === 'positive' && result.resultClass === 'suspect' ? `positive pool ${escapeHtml(result.pool.poolId)}: retest on its own` : `${escapeHtml(result.resultClass)}${result.pool !== undefined ? ` (pool ${escapeHtml(result.pool.poolId)})` : ''}`}${result.sequencingCandidate ? ', sequencing candidate' : ''}</td><td>${call}</td>` +
             `<td>${escapeHtml(result.accession ?? '')}</td>` +
             (mixed ? `<td>${escapeHtml(result.labName)}: ${escapeHtml(cutoffText(result))}</td>` : '') +
             `</tr>`
@@ -349,8 +349,13 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
       const prevalence = c.prevalence
         ? `${pct(c.prevalence.apparent)} of tested pens (95% CI ${pct(c.prevalence.lower95)}\u2013${pct(c.prevalence.upper95)}); corrected for rope sensitivity ${c.sensitivity}: ${pct(c.prevalence.trueEstimate)}${c.prevalence.note ? ` (${escapeHtml(c.prevalence.note)})` : ''}`
         : '<span class="muted">no positives</span>';
+      const pooled = c.pooled;
+      const poolNote = pooled
+        ? `<br><span class="muted" data-pooled="">${count(pooled.pools, 'pool')} (pool sensitivity ${pooled.poolSensitivity}); ${pct(pooled.unpooledDetectionConfidence)} had each pen been tested on its own</span>`
+        : '';
       const pens = [
         tally.positivePens.length > 0 ? `+ ${escapeHtml(tally.positivePens.join(', '))}` : '',
+        (tally.positivePoolPens ?? []).length > 0 ? `positive pool: ${escapeHtml(tally.positivePoolPens!.join(', '))}` : '',
         tally.suspectPens.length > 0 ? `? ${escapeHtml(tally.suspectPens.join(', '))}` : '',
         tally.invalidPens.length > 0 ? `\u00d7 ${escapeHtml(tally.invalidPens.join(', '))}` : '',
       ]
@@ -359,7 +364,7 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
       return (
         `<tr data-assay="${escapeHtml(tally.assayId)}"><td>${escapeHtml(tally.assayId)}${c.measure === 'sp-ratio' ? ' <span class="muted">(antibody: exposure)</span>' : ''}</td><td class="num">${tally.tested}</td><td class="num">${tally.positive}</td><td class="num">${tally.suspect}</td><td class="num">${tally.negative}</td><td class="num">${tally.invalid}</td>` +
         `<td>${pens || '<span class="muted">none</span>'}</td>` +
-        `<td class="num ${met ? 'met' : 'below'}">${pct(c.detectionConfidence)}</td><td>${need}</td><td>${prevalence}</td></tr>`
+        `<td class="num ${met ? 'met' : 'below'}">${pct(c.detectionConfidence)}${poolNote}</td><td>${need}</td><td>${prevalence}</td></tr>`
       );
     })
     .join('');
