@@ -398,7 +398,15 @@ export function siteConfidence(
   rule: ClearanceRule = negativeRoundsRule(site.program.clearAfterNegativeRounds),
 ): RoundConfidence[] {
   const program = site.program;
-  const statuses = statusOverRounds({ rounds, barnIds: site.barns.map((barn) => barn.id), rule });
+  // All-in/all-out: a new group of pigs in a positive barn ends its positive state (the infected
+  // pigs have left), whatever the run of negative rounds (common practice, no source).
+  const groupOf = (roundIndex: number, barnId: string) => rounds[roundIndex]?.barns.find((barn) => barn.barnId === barnId)?.group?.id ?? null;
+  const groupPlaced = (barnId: string, roundNumber: number) => {
+    const index = rounds.findIndex((round) => round.number === roundNumber);
+    const group = groupOf(index, barnId);
+    return group !== null && index > 0 && group !== groupOf(index - 1, barnId);
+  };
+  const statuses = statusOverRounds({ rounds, barnIds: site.barns.map((barn) => barn.id), rule, groupPlaced });
   const assays = [...new Set(rounds.flatMap((round) => round.assays))].sort();
   const perRound: RoundConfidence[] = rounds.map((round, index) => ({
     roundNumber: round.number,

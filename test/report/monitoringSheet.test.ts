@@ -39,13 +39,13 @@ describe('the rope list of a positive barn', () => {
     const html = renderRopeSheetPage({ site, plan, notices: [] });
     expect(html).toContain('re-rope (positive pen: Ct series)');
     expect(html).toContain('tracking rope (same pens every round)');
-    expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. If the routine ropes all come back negative on time, the surveyed barns have .*the positive barns are not counted\.$/);
+    expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. (If they all come back negative on time, each barn has at least |Every barn is positive and monitored).* The positive barns are monitored and not counted in these figures\.$/);
   });
 
   it('keeps the sheet of a negative site as it was', () => {
     const negative = planAfter([]);
     const html = renderRopeSheetPage({ site: negative.site, plan: negative.plan, notices: [] });
     expect(html).not.toContain('tracking rope');
-    expect(sizingLine(negative.plan)).toMatch(/retest\. If they all come back negative on time, the site has /);
+    expect(sizingLine(negative.plan)).toMatch(/retest\. If they all come back negative on time, each barn has at least /);
   });
 });
