@@ -101,7 +101,7 @@ function css(layout: LabelLayout): string {
     `.sheet{position:relative;width:${u(layout.paperWidth)};height:${u(layout.paperHeight)};margin:12px auto;background:#fff;overflow:hidden}` +
     `.label{position:absolute;width:${u(layout.labelWidth)};height:${u(layout.labelHeight)};padding:1.2mm 2mm;overflow:hidden;display:flex;flex-direction:column;align-items:center;justify-content:center;gap:0.6mm;text-align:center}` +
     `.label .id{font-size:11pt;font-weight:700;letter-spacing:.04em;line-height:1}` +
-    `.label .where{font-size:7pt;line-height:1.1;white-space:nowrap}` +
+    `.label .where{font-size:7pt;line-height:1.1;white-space:nowrap;max-width:100%;overflow:hidden;text-overflow:ellipsis}` +
     `.label svg.barcode{display:block}` +
     `@media screen{.label{outline:1px dashed #9ca3af}}` +
     `@media print{@page{size:${layout.page};margin:0}html{background:none}.screen-only{display:none}.sheet{margin:0;break-after:page;page-break-after:always}.sheet:last-child{break-after:auto;page-break-after:auto}}`
@@ -123,7 +123,8 @@ export function renderLabelSheetPage(plan: NextRoundPlan, layout: LabelLayout, n
     return (
       `<div class="label" data-label="${escapeHtml(rope.sampleId)}" style="left:${u(layout.left + column * layout.pitchX)};top:${u(layout.top + row * layout.pitchY)}">` +
       `<span class="id">${escapeHtml(rope.sampleId)}</span>${code128Svg(rope.sampleId, { heightMm: layout.barcodeHeightMm })}` +
-      `<span class="where">${escapeHtml(plan.site.name)} \u00b7 ${escapeHtml(rope.barnId)} pen ${escapeHtml(rope.penId)} \u00b7 #${index + 1} \u00b7 by ${escapeHtml(rope.dueDate)}</span></div>`
+      `<span class="where">${escapeHtml(rope.barnId)} \u00b7 pen ${escapeHtml(rope.penId)} \u00b7 #${index + 1} \u00b7 by ${escapeHtml(rope.dueDate)}</span>` +
+      `<span class="where site">${escapeHtml(plan.site.name)}</span></div>`
     );
   });
   const sheets: string[] = [];
