@@ -44,7 +44,7 @@ export interface SkippedSequence {
  * (src/plan/roundPlan.ts) or that an earlier version of the plan handed out
  * (src/analysis/nextRound.ts): any other gap is one of the latter.
  */
-export function skippedSequences(plan: Pick<NextRoundPlan, 'ropes'>): SkippedSequence[] {
+export function skippedSequences(plan: { ropes: readonly { sampleId: string }[] }): SkippedSequence[] {
   const parsed = plan.ropes.map((rope) => parseSampleId(rope.sampleId)).flatMap((id) => (id.ok ? [id] : []));
   const first = parsed[0];
   if (!first) return [];
