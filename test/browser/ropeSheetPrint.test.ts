@@ -110,6 +110,22 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
       for (const analysis of demo.analyses) {
         const site = analysis.site.id;
         const page = await open(`${site}/next-round.html`);
+        // Each checklist line carries the barcode of its own sample ID, within its cell.
+        const lines = await page.locator('tr[data-rope]').evaluateAll((rows) =>
+          rows.map((row) => {
+            const svg = row.querySelector('td.sample svg.barcode');
+            const cell = row.querySelector('td.sample')!.getBoundingClientRect();
+            const box = svg?.getBoundingClientRect();
+            return { id: row.getAttribute('data-rope'), code: svg?.getAttribute('data-code128') ?? null, inside: !!box && box.left >= cell.left && box.right <= cell.right };
+          }),
+        );
+        expect(lines.map((line) => line.code), `${site}: a barcode per line`).toEqual(analysis.plan.ropes.map((rope) => rope.sampleId));
+        expect(lines.every((line) => line.inside), `${site}: barcodes inside their cells`).toBe(true);
+        // Every sequence number below the highest that no rope carries is named on the sheet.
+        const sequences = new Set(analysis.plan.ropes.map((rope) => Number(/-(\d{3})/.exec(rope.sampleId)![1])));
+        const missing = Array.from({ length: Math.max(...sequences) }, (_, i) => i + 1).filter((n) => !sequences.has(n));
+        const skippedText = missing.length > 0 ? await page.locator('[data-skipped]').innerText() : '';
+        for (const n of missing) expect(skippedText, `${site}: skipped ${n} named`).toContain(String(n).padStart(3, '0'));
         await page.evaluate(MARK);
         const pdf = await page.pdf({ format, printBackground: true });
         fs.writeFileSync(path.join(ARTIFACTS, 'pdf', `${site}__next-round__${format}.pdf`), pdf);
