@@ -74,6 +74,7 @@ svg.map{max-width:100%;height:auto;display:block}
 .overdue{border:3px solid ${COLOURS.alertInk};background:${COLOURS.alertPaper};color:${COLOURS.alertInk};padding:6px 12px;font-weight:700}
 .stats td:first-child{white-space:nowrap}
 .checklist svg.barcode{display:inline-block;vertical-align:middle;margin-left:6px}
+.checklist td.sample{white-space:nowrap}
 .checklist td.write{min-width:90px}
 .checklist td.notes{min-width:170px}
 .checklist .barn-row{display:none}
