@@ -1,10 +1,12 @@
 /**
  * The producer's rope list as data: next-round.csv (one row per rope, the columns a barn crew
- * and a lab need) and next-round.json (the plan with its reasons and numbers).
+ * and a lab need) and next-round.json (the plan with its reasons and numbers); and its tube
+ * labels, one page per common label sheet (next-round-labels-letter.html, next-round-labels-a4.html).
  */
 import type { NextRoundPlan } from '../analysis/nextRound.js';
 import { CAUTIONS } from './cautions.js';
 import { csvTable } from './csvTable.js';
+import { LABEL_LAYOUTS, renderLabelSheetPage } from './html/labelSheetPage.js';
 
 export const NEXT_ROUND_COLUMNS = ['sample_id', 'site', 'barn', 'pen', 'side', 'reason', 'due_date'] as const;
 
@@ -22,4 +24,9 @@ export function nextRoundCsv(plan: NextRoundPlan): string {
 
 export function nextRoundJson(plan: NextRoundPlan): NextRoundPlan & { cautions: readonly string[] } {
   return { ...plan, cautions: CAUTIONS };
+}
+
+/** The tube-label pages of the plan: file name (beside next-round.html) and HTML, one per label layout. */
+export function nextRoundLabelPages(plan: NextRoundPlan, notices: readonly string[]): { file: string; html: string }[] {
+  return LABEL_LAYOUTS.map((layout) => ({ file: layout.file, html: renderLabelSheetPage(plan, layout, notices) }));
 }

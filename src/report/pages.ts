@@ -15,6 +15,7 @@ import { roundAlerts } from './html/alerts.js';
 import { renderClustersPage } from './html/clustersPage.js';
 import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPage.js';
 import { renderRopeSheetPage } from './html/ropeSheetPage.js';
+import { nextRoundLabelPages } from './nextRoundFiles.js';
 import { renderSummaryPage } from './html/summaryPage.js';
 
 export type { SiteDigest } from './html/indexPage.js';
@@ -57,7 +58,7 @@ export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
 
 /**
  * Writes a site's pages: outbox/<site>/<round>/summary.html and clusters.html for every round,
- * outbox/<site>/next-round.html, and outbox/<site>/site.json (the digest writeIndex reads).
+ * outbox/<site>/next-round.html with its tube-label pages, and outbox/<site>/site.json (the digest writeIndex reads).
  * @param outbox the outbox folder (absolute or relative to the process)
  * @param config the normalised configuration (assay names, cutoffs, notifiable flags, alpha)
  * @param analysis the site's analysis from analyseSite
@@ -80,6 +81,7 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
   });
   const digest = siteDigest(config, analysis);
   writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices }));
+  for (const page of nextRoundLabelPages(plan, digest.notices)) writer.write(path.join(siteDir, page.file), page.html);
   writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
 }
 

@@ -140,7 +140,7 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
     }
   }, 60_000);
 
-  it('prints the latest round summary, cluster review and rope sheet of every site on at most two A4 sheets, none wider than the sheet', async () => {
+  it('prints the latest round summary and cluster review of every site on at most two A4 sheets, and none of them or the rope sheet wider than the sheet', async () => {
     const latest = demo.analyses.flatMap((site) => {
       const round = site.summaries.at(-1)!.round.id;
       return [`${site.site.id}/${round}/summary.html`, `${site.site.id}/${round}/clusters.html`, `${site.site.id}/next-round.html`];
@@ -155,7 +155,8 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
       expect(printed, `${relative} printed width (screen width ${width})`).toBeLessThanOrEqual(703);
       const pdf = await page.pdf({ format: 'A4', printBackground: true });
       const pagesInPdf = (pdf.toString('latin1').match(/\/Type\s*\/Page[^s]/g) ?? []).length;
-      expect(pagesInPdf, `${relative} A4 pages`).toBeLessThanOrEqual(2);
+      // The rope sheet gives each barn a page of its own (test/browser/ropeSheetPrint.test.ts).
+      if (!relative.endsWith('next-round.html')) expect(pagesInPdf, `${relative} A4 pages`).toBeLessThanOrEqual(2);
       await page.close();
     }
   }, 60_000);

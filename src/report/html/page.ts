@@ -21,6 +21,8 @@ export interface PageInput {
   body: string;
   /** Larger type, for the producer's rope sheet. */
   large?: boolean;
+  /** The cautions right after the notices instead of at the end (the rope sheet: printed, they share the first page instead of trailing alone onto a last one). */
+  cautionsFirst?: boolean;
 }
 
 const CSS = `
@@ -71,6 +73,13 @@ svg.map{max-width:100%;height:auto;display:block}
 .due{font-size:1.35em;font-weight:700;margin:6px 0}
 .overdue{border:3px solid ${COLOURS.alertInk};background:${COLOURS.alertPaper};color:${COLOURS.alertInk};padding:6px 12px;font-weight:700}
 .stats td:first-child{white-space:nowrap}
+.checklist svg.barcode{display:inline-block;vertical-align:middle;margin-left:6px}
+.checklist td.sample{white-space:nowrap}
+.checklist td.write{min-width:90px}
+.checklist td.notes{min-width:170px}
+.checklist .barn-row{display:none}
+.checklist .barn-row th{background:none;border:none;border-bottom:2px solid ${COLOURS.ink};padding:0 0 2px;font-size:1.05em}
+body.large>.cautions{margin-top:8px}
 @media print{
   @page{margin:12mm}
   html{font-size:10.5pt}
@@ -92,6 +101,19 @@ svg.map{max-width:100%;height:auto;display:block}
   .box{width:16px;height:16px}
   .barn{break-inside:auto;page-break-inside:auto}
   figure,.legend{break-inside:avoid;page-break-inside:avoid}
+  .sheet-barn+.sheet-barn{break-before:page;page-break-before:always}
+  .barn-top{break-inside:avoid;page-break-inside:avoid;break-after:avoid;page-break-after:avoid}
+  .sheet-barn svg.map{max-height:95mm;width:auto;margin:0 auto}
+  .checklist .barn-row{display:table-row}
+  .checklist{width:100%}
+  .checklist td.write{width:20mm;min-width:20mm}
+  .checklist td.initials{width:14mm;min-width:14mm}
+  .checklist td.notes,.checklist th.notes{width:30%}
+  .sheet-barn .checklist{font-size:10.5pt}
+  .sheet-barn .checklist td,.sheet-barn .checklist th{padding:2px 5px;vertical-align:middle}
+  body.large>.cautions{font-size:9pt}
+  .checklist td,.checklist th{overflow-wrap:normal}
+  .checklist td{white-space:nowrap}
 }
 `;
 
@@ -112,7 +134,7 @@ export function renderPage(input: PageInput): string {
     `<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n<meta name="viewport" content="width=device-width, initial-scale=1">\n` +
     `<title>${escapeHtml(input.title)}</title>\n<style>${CSS}</style>\n</head>\n<body${input.large ? ' class="large"' : ''}>\n` +
     `${nav}<header><h1>${escapeHtml(input.heading)}</h1>${input.subheading ? `<p class="sub">${input.subheading}</p>` : ''}</header>\n` +
-    `${noticesBlock(input.notices)}\n<main>\n${input.body}\n</main>\n${cautionsBlock()}\n</body>\n</html>\n`
+    `${noticesBlock(input.notices)}\n${input.cautionsFirst ? `${cautionsBlock()}\n` : ''}<main>\n${input.body}\n</main>\n${input.cautionsFirst ? '' : `${cautionsBlock()}\n`}</body>\n</html>\n`
   );
 }
 
