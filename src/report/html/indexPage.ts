@@ -2,6 +2,7 @@
  * The index of all sites (outbox/index.html), built from the per-site digests (site.json) so
  * that regenerating one site keeps the others listed.
  */
+import { alertItem } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { renderPage } from './page.js';
 
@@ -11,7 +12,8 @@ export interface SiteDigest {
   schema: typeof DIGEST_SCHEMA;
   site: { id: string; name: string };
   latestRound: { number: number; id: string; startOn: string; endOn: string } | null;
-  alerts: { kind: string; assayId: string | null; barnId: string | null; message: string }[];
+  /** `action` and `detail` are absent from digests written before alerts had two lines. */
+  alerts: { kind: string; assayId: string | null; barnId: string | null; message: string; action?: string; detail?: string }[];
   notices: string[];
   nextRound: { round: number; dueDate: string; overdue: boolean; daysOverdue: number };
   /** Paths relative to the outbox. */
@@ -36,7 +38,7 @@ export function renderIndexPage(digests: readonly SiteDigest[], organisation: st
       const alerts =
         digest.alerts.length === 0
           ? '<span class="muted">none</span>'
-          : `<ul>${digest.alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}">${escapeHtml(alert.message)}</li>`).join('')}</ul>`;
+          : `<ul>${digest.alerts.map((alert) => (alert.action !== undefined && alert.detail !== undefined ? alertItem({ kind: alert.kind, action: alert.action, detail: alert.detail }) : `<li data-alert="${escapeHtml(alert.kind)}">${escapeHtml(alert.message)}</li>`)).join('')}</ul>`;
       const next = digest.nextRound.overdue
         ? `<strong class="below">overdue since ${escapeHtml(digest.nextRound.dueDate)} (${digest.nextRound.daysOverdue} days)</strong>`
         : `due ${escapeHtml(digest.nextRound.dueDate)}`;

@@ -9,7 +9,7 @@
  * in plain words with the number behind each.
  */
 import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
-import type { PageAlert } from './alerts.js';
+import { alertItem, type PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { confidenceSentence, count, pct, renderPage } from './page.js';
 import { correctionsEntry, ingestAgainCommand, MISTYPED_ACTION, readingText, refusalGroups, replacementWhy, reportDates, simplyMissing } from '../roundNotes.js';
@@ -22,7 +22,7 @@ export interface SummaryPageInput {
 
 function alertsBlock(alerts: readonly PageAlert[]): string {
   if (alerts.length === 0) return `<div class="calm" data-alerts="0"><strong>No alerts this round.</strong></div>`;
-  return `<div class="alerts" data-alerts="${alerts.length}"><strong>Needs attention (${alerts.length})</strong><ul>${alerts.map((alert) => `<li data-alert="${alert.kind}">${escapeHtml(alert.message)}</li>`).join('')}</ul></div>`;
+  return `<div class="alerts" data-alerts="${alerts.length}"><strong>Needs attention (${alerts.length})</strong><ul>${alerts.map(alertItem).join('')}</ul></div>`;
 }
 
 function siteTable(summary: RoundSummary): string {
