@@ -86,6 +86,8 @@ export interface BarnSummary {
   ropesReturned: number;
   /** Every rope without a result stored, including those in `mistyped`. */
   missingSampleIds: string[];
+  /** The pen of each rope without a result (sample ID to pen). */
+  missingPens: Record<string, string>;
   /** Ropes without a result for which a row came back under a mistyped sample ID (refused, waiting for a person to confirm the ID). */
   mistyped: MistypedRope[];
   sampledPens: string[];
@@ -214,6 +216,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         ropesHung: barnRound.ropesHung,
         ropesReturned: barnRound.ropesReturned,
         missingSampleIds: barnRound.missingSampleIds,
+        missingPens: barnRound.missingPens,
         mistyped: barnRound.mistyped,
         sampledPens: barnRound.pens.map((pen) => pen.penId),
         assays: assayIds.map((assayId) => {

@@ -100,6 +100,8 @@ export interface BarnRound {
   missingSampleIds: string[];
   /** Of those, ropes planned for this round whose pen no other rope covered. */
   plannedMissing: string[];
+  /** The pen of each rope without a result (sample ID to pen), so that maps can mark it. */
+  missingPens: Record<string, string>;
   /** Of the missing ropes, those for which a row came back under a mistyped sample ID and was refused. */
   mistyped: MistypedRope[];
   pens: PenRound[];
@@ -532,6 +534,7 @@ export function buildSiteRounds(
         ropesReturned: returned,
         missingSampleIds: missing.sort(),
         plannedMissing: plannedMissing.sort(),
+        missingPens: Object.fromEntries([...missingPen.entries()].filter(([sampleId]) => missing.includes(sampleId)).sort((a, b) => compareText(a[0], b[0]))),
         mistyped,
         pens: penList,
         byAssay,

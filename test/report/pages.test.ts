@@ -45,6 +45,7 @@ describe('the pages of the demo', () => {
         for (const page of ['summary.html', 'clusters.html']) expect(fs.existsSync(path.join(outbox, analysis.site.id, summary.round.id, page)), `${summary.round.id}/${page}`).toBe(true);
       }
       expect(fs.existsSync(path.join(outbox, analysis.site.id, 'next-round.html'))).toBe(true);
+      expect(fs.existsSync(path.join(outbox, analysis.site.id, 'plan.html'))).toBe(true);
       expect(fs.existsSync(path.join(outbox, analysis.site.id, 'site.json'))).toBe(true);
     }
     expect(fs.existsSync(path.join(outbox, 'index.html'))).toBe(true);

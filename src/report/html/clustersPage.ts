@@ -97,6 +97,13 @@ export function resultMarks(summary: RoundSummary, barnId: string, assayId: stri
       note: `${valueText(result)} (${readingNote(result)})${pairNote}`,
     });
   }
+  // Ropes planned for the round (or hung) with no result: their pens are marked, not left blank.
+  const barn = summary.barns.find((entry) => entry.barnId === barnId);
+  const mistyped = new Set((barn?.mistyped ?? []).map((rope) => rope.sampleId));
+  for (const [sampleId, penId] of Object.entries(barn?.missingPens ?? {})) {
+    if (marks.has(penId)) continue;
+    marks.set(penId, { resultClass: 'missing', load: 0, note: mistyped.has(sampleId) ? `rope ${sampleId}: result refused under a mistyped ID` : `rope ${sampleId} planned, no result` });
+  }
   return marks;
 }
 

@@ -21,6 +21,8 @@ export interface SiteDigest {
     summary: string | null;
     clusters: string | null;
     nextRound: string;
+    /** The plan's reasoning (absent from digests written before the page existed). */
+    plan?: string;
     rounds: { id: string; startOn: string; summary: string; clusters: string }[];
   };
 }
@@ -46,6 +48,7 @@ export function renderIndexPage(digests: readonly SiteDigest[], organisation: st
         digest.links.summary ? `<a href="${escapeHtml(digest.links.summary)}">Round summary</a>` : '',
         digest.links.clusters ? `<a href="${escapeHtml(digest.links.clusters)}">Cluster review</a>` : '',
         `<a href="${escapeHtml(digest.links.nextRound)}">Rope sheet, round ${digest.nextRound.round}</a>`,
+        digest.links.plan ? `<a href="${escapeHtml(digest.links.plan)}">Plan and its reasoning (vet)</a>` : '',
       ]
         .filter((text) => text !== '')
         .join('<br>');
