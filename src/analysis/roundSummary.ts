@@ -94,6 +94,8 @@ export interface BarnSummary {
   missingSampleIds: string[];
   /** Before the round is closed: ropes out whose results are not yet due (not missing). */
   awaitingSampleIds: string[];
+  /** The pen of each rope without a result (sample ID to pen). */
+  missingPens: Record<string, string>;
   /** Ropes without a result for which a row came back under a mistyped sample ID (refused, waiting for a person to confirm the ID). */
   mistyped: MistypedRope[];
   sampledPens: string[];
@@ -278,6 +280,7 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
         ropesReturned: barnRound.ropesReturned,
         missingSampleIds: barnRound.missingSampleIds,
         awaitingSampleIds: barnRound.awaitingSampleIds,
+        missingPens: barnRound.missingPens,
         mistyped: barnRound.mistyped,
         sampledPens: barnRound.pens.map((pen) => pen.penId),
         assays: assayIds.map((assayId) => {

@@ -148,6 +148,8 @@ export interface BarnRound {
   plannedMissing: string[];
   /** Before the round is closed: ropes out (hung or planned) whose results are not yet due. Empty once closed. */
   awaitingSampleIds: string[];
+  /** The pen of each rope without a result (sample ID to pen), so that maps can mark it. */
+  missingPens: Record<string, string>;
   /** Of the ropes without a result (missing or awaited), those for which a row came back under a mistyped sample ID and was refused. */
   mistyped: MistypedRope[];
   pens: PenRound[];
@@ -646,6 +648,7 @@ export function buildSiteRounds(
         missingSampleIds: missing.sort(),
         plannedMissing: plannedMissing.sort(),
         awaitingSampleIds: [],
+        missingPens: Object.fromEntries([...missingPen.entries()].filter(([sampleId]) => missing.includes(sampleId)).sort((a, b) => compareText(a[0], b[0]))),
         mistyped,
         pens: penList,
         byAssay,

@@ -9,11 +9,13 @@ import path from 'node:path';
 import { INDEX_PAGE } from '../config/names.js';
 import type { Config } from '../config/types.js';
 import type { SiteAnalysis } from '../outputs.js';
+import { sinceLastRound } from '../analysis/sinceLastRound.js';
 import { notifiableNotice } from './cautions.js';
 import { atomicWriter, type OutputWriter } from './files.js';
 import { roundAlerts } from './html/alerts.js';
 import { renderClustersPage } from './html/clustersPage.js';
 import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPage.js';
+import { renderPlanPage } from './html/planPage.js';
 import { renderRopeSheetPage } from './html/ropeSheetPage.js';
 import { nextRoundLabelPages } from './nextRoundFiles.js';
 import { renderSummaryPage } from './html/summaryPage.js';
@@ -51,6 +53,7 @@ export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
       summary: rounds.at(-1)?.summary ?? null,
       clusters: rounds.at(-1)?.clusters ?? null,
       nextRound: `${site.id}/next-round.html`,
+      plan: `${site.id}/plan.html`,
       rounds,
     },
   };
@@ -58,7 +61,7 @@ export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
 
 /**
  * Writes a site's pages: outbox/<site>/<round>/summary.html and clusters.html for every round,
- * outbox/<site>/next-round.html with its tube-label pages, and outbox/<site>/site.json (the digest writeIndex reads).
+ * outbox/<site>/next-round.html (the rope sheet) with its tube-label pages, outbox/<site>/plan.html (the plan's reasoning), and outbox/<site>/site.json (the digest writeIndex reads).
  * @param outbox the outbox folder (absolute or relative to the process)
  * @param config the normalised configuration (assay names, cutoffs, notifiable flags, alpha)
  * @param analysis the site's analysis from analyseSite
@@ -73,7 +76,10 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
     const roundDir = path.join(siteDir, summary.round.id);
     const alerts = roundAlerts(summaries, spatial, index, index === lastIndex ? plan : undefined);
     const notices = noticesFor(config, summary.assays.map((assay) => assay.id));
-    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices }));
+    const current = analysis.rounds.find((round) => round.id === summary.round.id);
+    const before = index > 0 ? analysis.rounds.find((round) => round.id === summaries[index - 1]!.round.id) : undefined;
+    const since = current ? sinceLastRound(before ?? null, current) : undefined;
+    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices, ...(since ? { since } : {}) }));
     writer.write(
       path.join(roundDir, 'clusters.html'),
       renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices }),
@@ -82,6 +88,7 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
   const digest = siteDigest(config, analysis);
   writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices }));
   for (const page of nextRoundLabelPages(plan, digest.notices)) writer.write(path.join(siteDir, page.file), page.html);
+  writer.write(path.join(siteDir, 'plan.html'), renderPlanPage({ plan, notices: digest.notices }));
   writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
 }
 

@@ -121,7 +121,7 @@ describe('a corrected report and a mistyped planned ID on the round outputs', ()
     const pen = /<tr data-pen="A2" data-mistyped="[^"]+">[^]*?<\/tr>/.exec(html)?.[0];
     expect(text(pen!)).toContain(`result refused: mistyped ID?written ${written} (${RESULTS}, line 3); most likely meant ${meant}`);
     expect(html).toContain('none missing; <strong>1 result refused under a mistyped ID</strong> (pen A2; not missing, not counted)');
-    const alerts = [...html.matchAll(/<li data-alert="([a-z-]+)">([^<]*)<\/li>/g)].map((match) => ({ kind: match[1], message: text(match[2]!) }));
+    const alerts = [...html.matchAll(/<li data-alert="([a-z-]+)">([^]*?)<\/li>/g)].map((match) => ({ kind: match[1], message: text(match[2]!) }));
     expect(alerts.map((alert) => alert.kind)).not.toContain('missing-ropes');
     const alert = alerts.find((entry) => entry.kind === 'mistyped-id')!;
     expect(alert.message).toContain(`pen A2, planned ${meant}, came back as ${written} (${RESULTS}, line 3)`);

@@ -90,7 +90,9 @@ describe('the lab call differing from the reading', () => {
   it('is counted by an alert of its own', () => {
     const differs = alerts.filter((alert) => alert.kind === 'call-differs');
     expect(differs).toHaveLength(1);
-    expect(differs[0]!.message).toMatch(/^2 results where the lab's own call differs/);
+    expect(differs[0]!.action).toMatch(/^Check the cutoffs in the lab profile/);
+    expect(differs[0]!.detail).toMatch(/^2 results where the lab's own call differs/);
+    expect(differs[0]!.numbers.results).toBe(2);
     expect(differs[0]!.message).toContain('F1: 2');
     expect(roundAlerts(summaries, spatial, 0).some((alert) => alert.kind === 'call-differs')).toBe(false);
   });

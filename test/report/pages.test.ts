@@ -45,6 +45,7 @@ describe('the pages of the demo', () => {
         for (const page of ['summary.html', 'clusters.html']) expect(fs.existsSync(path.join(outbox, analysis.site.id, summary.round.id, page)), `${summary.round.id}/${page}`).toBe(true);
       }
       expect(fs.existsSync(path.join(outbox, analysis.site.id, 'next-round.html'))).toBe(true);
+      expect(fs.existsSync(path.join(outbox, analysis.site.id, 'plan.html'))).toBe(true);
       expect(fs.existsSync(path.join(outbox, analysis.site.id, 'site.json'))).toBe(true);
     }
     expect(fs.existsSync(path.join(outbox, 'index.html'))).toBe(true);
@@ -116,7 +117,7 @@ describe('roundAlerts on the demo scenario', () => {
 
   it('names the first positive on a site, a suspect and a missing rope', () => {
     const alerts = kinds(0, 4);
-    expect(alerts).toContain('first-positive:-');
+    expect(alerts).toContain('first-positive:F1');
     expect(alerts).toContain('suspect:F3');
     expect(alerts).toContain('missing-ropes:F2');
     expect(alerts).toContain('freedom-reset:-');
@@ -127,6 +128,28 @@ describe('roundAlerts on the demo scenario', () => {
     // ring, fixed tracking set), so r05 to r07 show spread, not a cluster against negative pens.
     expect(kinds(0, 7)).toContain('spread:F1');
     expect(kinds(0, 7)).not.toContain('first-positive:-');
+  });
+
+  it('opens the positive alert of the last Hollow Creek round with what to do', () => {
+    expect(kinds(0, 7)).toContain('positive-again:F1');
+    expect(kinds(0, 7)).not.toContain('first-positive:F1');
+    const analysis = demo.analyses[0]!;
+    const index = analysis.summaries.findIndex((summary) => summary.round.number === 7);
+    const f1 = roundAlerts(analysis.summaries, analysis.spatial, index).find((alert) => alert.kind === 'positive-again')!;
+    const tally = analysis.summaries[index]!.barns.find((barn) => barn.barnId === 'F1')!.assays.find((assay) => assay.assayId === 'PRRSV')!;
+    // The action names the barn, the count and the place; the statistic and its p-value follow on the detail line.
+    expect(f1.action).toMatch(new RegExp(`^Positive .+ in Finisher 1 again: ${tally.positive} pens(, clustered around \\w+\u2013\\w+)?; tell the herd veterinarian today`));
+    expect(f1.numbers.positive).toBe(tally.positive);
+  });
+
+  it('says the freedom reset in the round that lost it, not in every positive round after', () => {
+    const analysis = demo.analyses[0]!;
+    const resets = analysis.summaries.map((_, index) => roundAlerts(analysis.summaries, analysis.spatial, index).filter((alert) => alert.kind === 'freedom-reset' && alert.assayId === 'PRRSV').length);
+    const positiveRounds = analysis.summaries.map((summary) => summary.assays.find((assay) => assay.id === 'PRRSV')?.site.freedomReset ?? false);
+    // Each run of consecutive positive rounds is told once, at its start.
+    const starts = positiveRounds.map((reset, index) => (reset && !(positiveRounds[index - 1] ?? false) ? 1 : 0));
+    expect(resets).toEqual(starts);
+    expect(positiveRounds.filter(Boolean).length).toBeGreaterThan(starts.reduce((a: number, b) => a + b, 0));
   });
 
   it('asks for a retest of an invalid result and flags a late round', () => {

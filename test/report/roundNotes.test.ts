@@ -152,21 +152,22 @@ describe('a rope whose result was refused under a mistyped ID', () => {
     const alerts = roundAlerts([summary], [], 0);
     const missing = alerts.filter((alert) => alert.kind === 'missing-ropes');
     // By hand: P3 alone is missing; P0 and S1 came back, P1 under a mistyped ID, of the 4 ropes on the sheet and the plan.
-    expect(missing.map((alert) => alert.message)).toEqual([
+    expect(missing.map((alert) => alert.detail)).toEqual([
       '1 rope in barn F1 without a result (P3): 2 of 4 ropes on sheets or plans came back and 1 under a mistyped ID; missing ropes lower the detection confidence.',
     ]);
+    expect(missing[0]!.action).toMatch(/^Ask the producer and the lab about 1 rope of .+ without a result$/);
     const mistyped = alerts.filter((alert) => alert.kind === 'mistyped-id');
     expect(mistyped).toHaveLength(1);
     expect(mistyped[0]).toMatchObject({ barnId: 'F1' });
-    expect(mistyped[0]!.message).toBe(
-      '1 result in barn F1 refused under a mistyped ID (pen A3, planned P1, came back as P1X (lab results.csv, lines 3, 4)): not counted until a person confirms the ID. ' +
-        'To count it, confirm the ID with the lab or the producer, then add it to config/corrections.yaml and ingest the file again; the line to add is under barn F1.',
+    expect(mistyped[0]!.action).toMatch(/^Confirm a sample ID in .+: to count it, confirm the ID with the lab or the producer, then add it to config\/corrections.yaml and ingest the file again$/);
+    expect(mistyped[0]!.detail).toBe(
+      '1 result in barn F1 refused under a mistyped ID (pen A3, planned P1, came back as P1X (lab results.csv, lines 3, 4)): not counted until a person confirms the ID; the line to add is under barn F1.',
     );
   });
 
   it('without the refusals, is a missing rope like any other (as before refusals were shown)', () => {
     const plain = summaries({}).at(-1)!;
-    expect(roundAlerts([plain], [], 0).filter((alert) => alert.kind === 'missing-ropes').map((alert) => alert.message)).toEqual([
+    expect(roundAlerts([plain], [], 0).filter((alert) => alert.kind === 'missing-ropes').map((alert) => alert.detail)).toEqual([
       // By hand: P0 and S1 came back of the 4 ropes on the sheet (P0, S1) and the plan (P1, P3).
       '2 ropes in barn F1 without a result (P1, P3): 2 of 4 ropes on sheets or plans came back; missing ropes lower the detection confidence.',
     ]);

@@ -144,6 +144,23 @@ export interface MapOptions {
   attributes?: Readonly<Record<string, string>>;
 }
 
+const ROW_LABEL_SIZE = 12;
+const CLUSTER_LABEL_SIZE = 10;
+
+/**
+ * A generous estimate of the width of bold text in a sans-serif face, in pixels: wide letters
+ * (M, W, m, w) 1.05 em, other capitals 0.8 em, the rest 0.65 em. Common practice, no source: the
+ * maps place labels with it before any browser measures them, so it errs wide.
+ */
+export function textWidth(text: string, fontSize: number): number {
+  let em = 0;
+  for (const char of text) em += /[MWmw]/.test(char) ? 1.05 : char !== char.toLowerCase() ? 0.8 : 0.65;
+  return em * fontSize;
+}
+
+const overlaps = (a: { x: number; y: number; width: number; height: number }, b: { x: number; y: number; width: number; height: number }) =>
+  a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
+
 const SYMBOL: Readonly<Record<PenMark['resultClass'], string>> = { positive: '+', suspect: '?', negative: '\u2212', invalid: '\u00d7', missing: 'M' };
 const fmt = (value: number) => String(Math.round(value * 10) / 10);
 
@@ -183,7 +200,9 @@ function plannedSymbol(mark: PlannedMark, cx: number, cy: number, r: number): st
  */
 export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayout }, options: MapOptions): string {
   const full = options.detail === 'full';
-  const margin = full ? { left: 26, top: 18, right: 8, bottom: 8 } : { left: 10, top: 4, right: 4, bottom: 4 };
+  // The left margin holds the row labels whole ("West", "Middle"), 5 px either side.
+  const labelRoom = Math.max(...barn.layout.rowLabels.map((label) => textWidth(label, ROW_LABEL_SIZE))) + 10;
+  const margin = full ? { left: Math.max(26, Math.ceil(labelRoom)), top: 18, right: 8, bottom: 8 } : { left: 10, top: 4, right: 4, bottom: 4 };
   const geometry = barnGeometry(barn.layout, options.scale, margin);
   const prefix = safeId(options.key);
   const parts: string[] = [];
@@ -198,13 +217,33 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   for (const band of geometry.bands) {
     parts.push(`<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`);
   }
+  const byId = new Map(geometry.pens.map((pen) => [pen.id, pen]));
+  const clusterBoxes = (options.clusters ?? []).flatMap((cluster) => {
+    const members = cluster.pens.map((id) => byId.get(id)).filter((pen): pen is PenRect => pen !== undefined);
+    if (members.length === 0) return [];
+    const pad = full ? 3 : 1.5;
+    const x0 = Math.min(...members.map((pen) => pen.x)) - pad;
+    const y0 = Math.min(...members.map((pen) => pen.y)) - pad;
+    const x1 = Math.max(...members.map((pen) => pen.x + pen.width)) + pad;
+    const y1 = Math.max(...members.map((pen) => pen.y + pen.height)) + pad;
+    const label = `C${cluster.index}`;
+    const labelY = Math.max(9, y0 - 3);
+    return [{ index: cluster.index, x0, y0, x1, y1, label, labelX: x0 + 2, labelY, labelBox: { x: x0 + 2, y: labelY - CLUSTER_LABEL_SIZE, width: textWidth(label, CLUSTER_LABEL_SIZE), height: CLUSTER_LABEL_SIZE + 3 } }];
+  });
   if (full) {
-    const alley = geometry.bands.find((band) => band.kind === 'alley');
-    if (alley && alley.height >= 9) {
-      parts.push(`<text x="${fmt(alley.x + 4)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(Math.min(10, alley.height * 0.75))}" fill="${COLOURS.muted}">alley</text>`);
+    for (const alley of geometry.bands.filter((band) => band.kind === 'alley')) {
+      if (alley.height < 9) continue;
+      const size = Math.min(10, alley.height * 0.75);
+      const width = textWidth('alley', size);
+      // Left end first, then the right end, then the middle: the first place no cluster label covers.
+      const candidates = [alley.x + 4, alley.x + alley.width - 4 - width, alley.x + (alley.width - width) / 2];
+      const box = (x: number) => ({ x, y: alley.y + alley.height / 2 - size / 2, width, height: size });
+      const x = candidates.find((candidate) => clusterBoxes.every((cluster) => !overlaps(box(candidate), cluster.labelBox))) ?? null;
+      if (x === null) continue;
+      parts.push(`<text class="alley-label" x="${fmt(x)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(size)}" fill="${COLOURS.muted}">alley</text>`);
     }
     for (const label of geometry.rowLabels) {
-      parts.push(`<text x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="12" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`);
+      parts.push(`<text class="row-label" x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="${ROW_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`);
     }
   }
   const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
@@ -261,18 +300,10 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
     }
     parts.push(`</g>`);
   }
-  const byId = new Map(geometry.pens.map((pen) => [pen.id, pen]));
-  for (const cluster of options.clusters ?? []) {
-    const members = cluster.pens.map((id) => byId.get(id)).filter((pen): pen is PenRect => pen !== undefined);
-    if (members.length === 0) continue;
-    const pad = full ? 3 : 1.5;
-    const x0 = Math.min(...members.map((pen) => pen.x)) - pad;
-    const y0 = Math.min(...members.map((pen) => pen.y)) - pad;
-    const x1 = Math.max(...members.map((pen) => pen.x + pen.width)) + pad;
-    const y1 = Math.max(...members.map((pen) => pen.y + pen.height)) + pad;
+  for (const cluster of clusterBoxes) {
     parts.push(
-      `<g class="cluster" data-cluster="${cluster.index}"><rect x="${fmt(x0)}" y="${fmt(y0)}" width="${fmt(x1 - x0)}" height="${fmt(y1 - y0)}" rx="${full ? 8 : 3}" fill="none" stroke="${COLOURS.cluster}" stroke-width="${full ? 2 : 1.2}" stroke-dasharray="${full ? '7 3' : '3 2'}"/>` +
-        (full ? `<text x="${fmt(x0 + 2)}" y="${fmt(Math.max(9, y0 - 3))}" font-size="10" font-weight="700" fill="${COLOURS.ink}">C${cluster.index}</text>` : '') +
+      `<g class="cluster" data-cluster="${cluster.index}"><rect x="${fmt(cluster.x0)}" y="${fmt(cluster.y0)}" width="${fmt(cluster.x1 - cluster.x0)}" height="${fmt(cluster.y1 - cluster.y0)}" rx="${full ? 8 : 3}" fill="none" stroke="${COLOURS.cluster}" stroke-width="${full ? 2 : 1.2}" stroke-dasharray="${full ? '7 3' : '3 2'}"/>` +
+        (full ? `<text class="cluster-label" x="${fmt(cluster.labelX)}" y="${fmt(cluster.labelY)}" font-size="${CLUSTER_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${cluster.label}</text>` : '') +
         `</g>`,
     );
   }

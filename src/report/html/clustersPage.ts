@@ -8,7 +8,7 @@ import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { BarnSpatialReport } from '../../spatial/analyse.js';
-import type { PageAlert } from './alerts.js';
+import { alertItem, type PageAlert } from './alerts.js';
 import { renderBarnMap, type PenMark } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
@@ -97,6 +97,13 @@ export function resultMarks(summary: RoundSummary, barnId: string, assayId: stri
       newPositive: newPositive.has(pen.penId),
       note: `${valueText(result)} (${readingNote(result)})${pairNote}`,
     });
+  }
+  // Ropes planned for the round (or hung) with no result: their pens are marked, not left blank.
+  const barn = summary.barns.find((entry) => entry.barnId === barnId);
+  const mistyped = new Set((barn?.mistyped ?? []).map((rope) => rope.sampleId));
+  for (const [sampleId, penId] of Object.entries(barn?.missingPens ?? {})) {
+    if (marks.has(penId)) continue;
+    marks.set(penId, { resultClass: 'missing', load: 0, note: mistyped.has(sampleId) ? `rope ${sampleId}: result refused under a mistyped ID` : `rope ${sampleId} planned, no result` });
   }
   return marks;
 }
@@ -409,7 +416,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
   const summary = input.summaries[input.index];
   const spatial = input.spatial[input.index];
   if (!summary || !spatial) throw new RangeError(`\`index\` must be an integer in [0, ${input.summaries.length - 1}], got ${input.index}`);
-  const spatialAlerts = input.alerts.filter((alert) => ['significant-cluster', 'spread', 'new-focus', 'first-positive', 'new-positive-barn'].includes(alert.kind));
+  const spatialAlerts = input.alerts.filter((alert) => ['significant-cluster', 'spread', 'new-focus', 'first-positive', 'new-positive-barn', 'positive-again'].includes(alert.kind));
   const sections = spatial.assays
     .map((assay) => {
       const config = input.assays.get(assay.assayId);
@@ -424,7 +431,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
       return (
         `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
         meaning +
-        (alerts.length > 0 ? `<div class="alerts"><ul>${alerts.map((alert) => `<li>${escapeHtml(alert.message)}</li>`).join('')}</ul></div>` : '') +
+        (alerts.length > 0 ? `<div class="alerts"><ul>${alerts.map(alertItem).join('')}</ul></div>` : '') +
         siteLine +
         sequencingBlock(summary, assay.assayId) +
         quietAndBusy(input, assay)

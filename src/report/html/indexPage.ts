@@ -2,6 +2,7 @@
  * The index of all sites (outbox/index.html), built from the per-site digests (site.json) so
  * that regenerating one site keeps the others listed.
  */
+import { alertItem } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { renderPage } from './page.js';
 
@@ -11,7 +12,8 @@ export interface SiteDigest {
   schema: typeof DIGEST_SCHEMA;
   site: { id: string; name: string };
   latestRound: { number: number; id: string; startOn: string; endOn: string } | null;
-  alerts: { kind: string; assayId: string | null; barnId: string | null; message: string }[];
+  /** `action` and `detail` are absent from digests written before alerts had two lines. */
+  alerts: { kind: string; assayId: string | null; barnId: string | null; message: string; action?: string; detail?: string }[];
   notices: string[];
   nextRound: { round: number; dueDate: string; overdue: boolean; daysOverdue: number };
   /** Paths relative to the outbox. */
@@ -19,6 +21,8 @@ export interface SiteDigest {
     summary: string | null;
     clusters: string | null;
     nextRound: string;
+    /** The plan's reasoning (absent from digests written before the page existed). */
+    plan?: string;
     rounds: { id: string; startOn: string; summary: string; clusters: string }[];
   };
 }
@@ -36,7 +40,7 @@ export function renderIndexPage(digests: readonly SiteDigest[], organisation: st
       const alerts =
         digest.alerts.length === 0
           ? '<span class="muted">none</span>'
-          : `<ul>${digest.alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}">${escapeHtml(alert.message)}</li>`).join('')}</ul>`;
+          : `<ul>${digest.alerts.map((alert) => (alert.action !== undefined && alert.detail !== undefined ? alertItem({ kind: alert.kind, action: alert.action, detail: alert.detail }) : `<li data-alert="${escapeHtml(alert.kind)}">${escapeHtml(alert.message)}</li>`)).join('')}</ul>`;
       const next = digest.nextRound.overdue
         ? `<strong class="below">overdue since ${escapeHtml(digest.nextRound.dueDate)} (${digest.nextRound.daysOverdue} days)</strong>`
         : `due ${escapeHtml(digest.nextRound.dueDate)}`;
@@ -44,6 +48,7 @@ export function renderIndexPage(digests: readonly SiteDigest[], organisation: st
         digest.links.summary ? `<a href="${escapeHtml(digest.links.summary)}">Round summary</a>` : '',
         digest.links.clusters ? `<a href="${escapeHtml(digest.links.clusters)}">Cluster review</a>` : '',
         `<a href="${escapeHtml(digest.links.nextRound)}">Rope sheet, round ${digest.nextRound.round}</a>`,
+        digest.links.plan ? `<a href="${escapeHtml(digest.links.plan)}">Plan and its reasoning (vet)</a>` : '',
       ]
         .filter((text) => text !== '')
         .join('<br>');

@@ -9,7 +9,8 @@
  * in plain words with the number behind each.
  */
 import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
-import type { PageAlert } from './alerts.js';
+import type { SinceLastRound } from '../../analysis/sinceLastRound.js';
+import { alertItem, type PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { confidenceSentence, count, pct, renderPage } from './page.js';
 import { EMPTY_BARN, groupText } from '../groupText.js';
@@ -19,11 +20,40 @@ export interface SummaryPageInput {
   summary: RoundSummary;
   alerts: readonly PageAlert[];
   notices: readonly string[];
+  /** What changed since the round before (src/analysis/sinceLastRound); no table without it. */
+  since?: SinceLastRound;
+}
+
+/**
+ * The pens that changed since the last round, one row per barn with a change: newly positive,
+ * cleared (positive then, negative now), ropes without a result, invalid results. The assay is
+ * named beside each pen when the round has more than one.
+ */
+export function sinceBlock(summary: RoundSummary, since: SinceLastRound): string {
+  const several = summary.assays.length > 1;
+  const pens = (list: readonly { penId: string | null; assayId?: string; sampleId: string }[]) =>
+    list.length === 0
+      ? '<span class="muted">none</span>'
+      : escapeHtml(list.map((entry) => `${entry.penId ?? entry.sampleId}${several && entry.assayId !== undefined ? ` (${entry.assayId})` : ''}`).join(', '));
+  const rows = summary.barns
+    .map((barn) => {
+      const of = <T extends { barnId: string }>(list: readonly T[]) => list.filter((entry) => entry.barnId === barn.barnId);
+      const parts = [of(since.newlyPositive), of(since.cleared), of(since.missing), of(since.invalid)];
+      if (parts.every((part) => part.length === 0)) return '';
+      return `<tr data-since="${escapeHtml(barn.barnId)}"><td>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})</td>${parts.map((part) => `<td>${pens(part)}</td>`).join('')}</tr>`;
+    })
+    .join('');
+  const against = since.previous === null ? 'This is the first round on the site: no pen is newly positive or cleared.' : `Against round ${since.previous.number}.`;
+  if (rows === '') return `<h2>Since last round</h2><p data-since-none="">${against} No pen changed, and no rope is missing or invalid.</p>`;
+  return (
+    `<h2>Since last round</h2><p>${against} Cleared: positive in the last round, negative now for the same assay (a pen not tested again is not cleared).</p>` +
+    `<table data-since-table=""><thead><tr><th>Barn</th><th>Newly positive</th><th>Cleared</th><th>Missing ropes</th><th>Invalid</th></tr></thead><tbody>${rows}</tbody></table>`
+  );
 }
 
 function alertsBlock(alerts: readonly PageAlert[]): string {
   if (alerts.length === 0) return `<div class="calm" data-alerts="0"><strong>No alerts this round.</strong></div>`;
-  return `<div class="alerts" data-alerts="${alerts.length}"><strong>Needs attention (${alerts.length})</strong><ul>${alerts.map((alert) => `<li data-alert="${alert.kind}">${escapeHtml(alert.message)}</li>`).join('')}</ul></div>`;
+  return `<div class="alerts" data-alerts="${alerts.length}"><strong>Needs attention (${alerts.length})</strong><ul>${alerts.map(alertItem).join('')}</ul></div>`;
 }
 
 /**
@@ -327,6 +357,33 @@ function pairsTable(summary: RoundSummary, barnId: string): string {
     .join('');
 }
 
+/**
+ * A barn's detection confidence against the target, in three states: met; below target because
+ * ropes were lost (missing, refused under a mistyped ID, or invalid for the assay): something to
+ * act on, shaded; below target with every rope hung counted: as the round was sized (a site
+ * budget, a barn too small for one round), not shaded.
+ * @param tally the barn's tally of one assay with its confidence
+ * @param notBack ropes of the barn without a counted result (missing and mistyped)
+ * @param target the program's target confidence
+ */
+export function againstTarget(
+  tally: Pick<RoundSummary['barns'][number]['assays'][number], 'invalid' | 'confidence'>,
+  notBack: number,
+  target: number,
+): { state: 'met' | 'lost' | 'as-sized'; text: string } {
+  const c = tally.confidence;
+  if (c.detectionConfidence >= target) return { state: 'met', text: 'target met' };
+  const reach = c.targetReachable
+    ? `${c.ropesNeeded ?? 'n/a'} valid ropes would reach it`
+    : `one round cannot reach it (best ${pct(c.censusConfidence)}); ${c.roundsNeededIfUnreachable ?? 'n/a'} rounds would`;
+  const lost = notBack + tally.invalid;
+  if (lost > 0) {
+    const what = [notBack > 0 ? `${count(notBack, 'rope')} without a result` : '', tally.invalid > 0 ? `${tally.invalid} invalid` : ''].filter((text) => text !== '').join(', ');
+    return { state: 'lost', text: `below target because ropes were lost (${what}): ${reach}` };
+  }
+  return { state: 'as-sized', text: `below target as the round was sized (every rope hung came back valid): ${reach}` };
+}
+
 function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): string {
   const target = summary.program.targetConfidence;
   const missingIds = simplyMissing(barn);
@@ -337,15 +394,13 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
   const rows = barn.assays
     .map((tally) => {
       const c = tally.confidence;
-      const met = c.detectionConfidence >= target;
+      const against = againstTarget(tally, missing + mistyped, target);
       // A positive barn is monitored, not surveyed: a detection target at the design prevalence says nothing there.
+      const monitored = c.status?.state === 'positive';
+      const met = against.state === 'met';
       const need = c.status?.state === 'positive'
         ? `<strong data-status="positive">positive</strong> since round ${c.status.sinceRound}: monitored (${c.status.negativeRoundsInARow} of ${summary.program.clearAfterNegativeRounds} negative rounds in a row to clear)`
-        : met
-        ? 'target met'
-        : c.targetReachable
-          ? `below target: ${c.ropesNeeded ?? 'n/a'} valid ropes would reach it`
-          : `below target: one round cannot reach it (best ${pct(c.censusConfidence)}); ${c.roundsNeededIfUnreachable ?? 'n/a'} rounds would`;
+        : escapeHtml(against.text);
       const prevalence = c.prevalence
         ? `${pct(c.prevalence.apparent)} of tested pens (95% CI ${pct(c.prevalence.lower95)}\u2013${pct(c.prevalence.upper95)}); corrected for rope sensitivity ${c.sensitivity}: ${pct(c.prevalence.trueEstimate)}${c.prevalence.note ? ` (${escapeHtml(c.prevalence.note)})` : ''}`
         : '<span class="muted">no positives</span>';
@@ -364,7 +419,7 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
       return (
         `<tr data-assay="${escapeHtml(tally.assayId)}"><td>${escapeHtml(tally.assayId)}${c.measure === 'sp-ratio' ? ' <span class="muted">(antibody: exposure)</span>' : ''}</td><td class="num">${tally.tested}</td><td class="num">${tally.positive}</td><td class="num">${tally.suspect}</td><td class="num">${tally.negative}</td><td class="num">${tally.invalid}</td>` +
         `<td>${pens || '<span class="muted">none</span>'}</td>` +
-        `<td class="num ${met ? 'met' : 'below'}">${pct(c.detectionConfidence)}${poolNote}</td><td>${need}</td><td>${prevalence}</td></tr>`
+        `<td class="num${met ? ' met' : against.state === 'lost' && !monitored ? ' below' : ''}" data-against="${monitored ? 'monitored' : against.state}">${pct(c.detectionConfidence)}${poolNote}</td><td>${need}</td><td>${prevalence}</td></tr>`
       );
     })
     .join('');
@@ -410,11 +465,13 @@ export function renderSummaryPage(input: SummaryPageInput): string {
   const round = summary.round;
   const body =
     `<h2>Alerts</h2>${alertsBlock(input.alerts)}` +
+    (input.since ? sinceBlock(summary, input.since) : '') +
     disagreementsBlock(summary) +
     replacedBlock(summary) +
     stateBlock(summary) +
     `<h2>Site</h2><p class="explain">${confidenceSentence(summary.program.designPrevalence, summary.program.targetConfidence)}</p>${siteTable(summary)}` +
-    `<h2>Barns</h2>${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}` +
+    `<h2>Barns</h2><p class="explain" data-target-key="">Detection confidence: <span class="met">&nbsp;target met&nbsp;</span>; <span class="below">&nbsp;below target because ropes were missing or invalid&nbsp;</span> (act on it: find the ropes, retest); unshaded: below target as the round was sized (the plan page says why).</p>` +
+    `${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}` +
     sourcesBlock(summary);
   return renderPage({
     title: `${summary.site.name}, round ${round.number}: summary`,
@@ -425,6 +482,7 @@ export function renderSummaryPage(input: SummaryPageInput): string {
       { href: '../../index.html', label: 'All sites' },
       { href: 'clusters.html', label: 'Cluster review (vet)' },
       { href: '../next-round.html', label: 'Next round rope sheet' },
+      { href: '../plan.html', label: 'Plan and its reasoning' },
     ],
     body,
   });

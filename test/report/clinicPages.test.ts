@@ -1,0 +1,125 @@
+/**
+ * The clinic-facing parts of the pages, on the demo scenario and on hand-made values: the three
+ * states of a barn's detection against the target, the "since last round" table, the plan page
+ * (everything next-round.json says of the schedules, the freedom forecast and the coverage), and
+ * the missing planned ropes on the maps and in the legend.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { BarnConfidence } from '../../src/analysis/confidence.js';
+import { sinceLastRound } from '../../src/analysis/sinceLastRound.js';
+import { renderBarnMap, textWidth } from '../../src/report/html/barnMap.js';
+import { resultMarks } from '../../src/report/html/clustersPage.js';
+import { resultsLegend } from '../../src/report/html/page.js';
+import { renderPlanPage } from '../../src/report/html/planPage.js';
+import { againstTarget, renderSummaryPage, sinceBlock } from '../../src/report/html/summaryPage.js';
+import { buildDemoPages, type DemoPages } from '../helpers/browser.js';
+import { twoRowLayout } from '../helpers/layouts.js';
+
+let demo: DemoPages;
+beforeAll(async () => {
+  demo = await buildDemoPages();
+}, 120_000);
+afterAll(() => demo?.cleanup());
+
+const confidence = (detectionConfidence: number, ropesNeeded: number | null = 20): BarnConfidence =>
+  ({ detectionConfidence, ropesNeeded, targetReachable: ropesNeeded !== null, censusConfidence: 0.9, roundsNeededIfUnreachable: 2 }) as BarnConfidence;
+
+describe('a barn against the target', () => {
+  it('is met, below because ropes were lost, or below as sized', () => {
+    expect(againstTarget({ invalid: 0, confidence: confidence(0.96) }, 0, 0.95).state).toBe('met');
+    expect(againstTarget({ invalid: 0, confidence: confidence(0.96) }, 3, 0.95).state).toBe('met');
+    const lost = againstTarget({ invalid: 1, confidence: confidence(0.8) }, 2, 0.95);
+    expect(lost).toEqual({ state: 'lost', text: 'below target because ropes were lost (2 ropes without a result, 1 invalid): 20 valid ropes would reach it' });
+    expect(againstTarget({ invalid: 0, confidence: confidence(0.8, null) }, 0, 0.95)).toEqual({
+      state: 'as-sized',
+      text: 'below target as the round was sized (every rope hung came back valid): one round cannot reach it (best 90.0%); 2 rounds would',
+    });
+  });
+
+  it('shades on the demo pages only the barns that lost ropes, the actionable ones', () => {
+    let shaded = 0;
+    let rows = 0;
+    for (const analysis of demo.analyses) {
+      analysis.summaries.forEach((summary) => {
+        const html = renderSummaryPage({ summary, alerts: [], notices: [] });
+        for (const barn of summary.barns) {
+          const lostRopes = barn.missingSampleIds.length;
+          for (const tally of barn.assays) {
+            rows++;
+            const cell = new RegExp(`data-barn="${barn.barnId}"[^]*?<tr data-assay="${tally.assayId}">[^]*?data-against="([a-z-]+)"`).exec(html)![1];
+            const below = tally.confidence.detectionConfidence < summary.program.targetConfidence;
+            // By the definition above: below target and some rope lost (no result or invalid) is the shaded state.
+            expect(cell, `${summary.round.id} ${barn.barnId} ${tally.assayId}`).toBe(!below ? 'met' : lostRopes + tally.invalid > 0 ? 'lost' : 'as-sized');
+            if (cell === 'lost') shaded++;
+          }
+        }
+      });
+    }
+    expect(shaded).toBeGreaterThan(0);
+    expect(shaded).toBeLessThan(rows / 4);
+  });
+});
+
+describe('the since-last-round table', () => {
+  it('lists per barn the pens newly positive, cleared, missing and invalid, as sinceLastRound gives them', () => {
+    const analysis = demo.analyses[0]!;
+    for (let index = 1; index < analysis.rounds.length; index++) {
+      const since = sinceLastRound(analysis.rounds[index - 1]!, analysis.rounds[index]!);
+      const html = sinceBlock(analysis.summaries[index]!, since);
+      for (const entry of since.newlyPositive) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"><td>[^<]*</td><td>[^<]*\\b${entry.penId}\\b`));
+      for (const entry of since.missing) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"[^]*?${entry.penId ?? entry.sampleId}`));
+      const changed = new Set([...since.newlyPositive, ...since.cleared, ...since.missing, ...since.invalid].map((entry) => entry.barnId));
+      expect((html.match(/data-since="/g) ?? []).length).toBe(changed.size);
+    }
+  });
+
+  it('marks the missing planned ropes of a round on its maps, and the legend explains the mark', () => {
+    const analysis = demo.analyses[0]!;
+    const index = analysis.summaries.findIndex((summary) => summary.barns.some((barn) => barn.missingSampleIds.length > 0));
+    expect(index).toBeGreaterThanOrEqual(0);
+    const summary = analysis.summaries[index]!;
+    const barn = summary.barns.find((entry) => entry.missingSampleIds.length > 0)!;
+    const marks = resultMarks(summary, barn.barnId, 'PRRSV');
+    for (const sampleId of barn.missingSampleIds) expect(marks.get(barn.missingPens[sampleId]!)?.resultClass, sampleId).toBe('missing');
+    const layoutBarn = analysis.site.barns.find((entry) => entry.id === barn.barnId)!;
+    const svg = renderBarnMap(layoutBarn, { key: 'k', scale: 30, detail: 'full', title: 't', results: marks });
+    expect((svg.match(/data-result="missing"/g) ?? []).length).toBe(new Set(Object.values(barn.missingPens)).size);
+    expect(resultsLegend('k', 40)).toContain('missing: rope planned or hung, no result');
+  });
+});
+
+describe('the plan page', () => {
+  it('shows the sizing, the freedom forecast, the schedule comparison and the coverage of next-round.json', () => {
+    for (const analysis of demo.analyses) {
+      const plan = analysis.plan;
+      const html = renderPlanPage({ plan, notices: [] });
+      for (const barn of plan.barns) {
+        expect(html).toContain(`data-plan-barn="${barn.barnId}"`);
+        expect(html).toContain(`data-plan-coverage="${barn.barnId}"`);
+      }
+      for (const schedule of plan.schedules) {
+        expect(html).toContain(`data-plan-schedules="${schedule.barnId}"`);
+        for (const option of schedule.static) expect(html).toContain(`data-schedule="${option.label}"`);
+      }
+      if (plan.freedom) {
+        // The forecast's three values, as the page formats percentages (one decimal).
+        for (const value of [plan.freedom.onTime, plan.freedom.withoutRound, plan.freedom.missed]) expect(html).toContain((100 * value).toFixed(1) === '100.0' ? '> 99.9%' : `${(100 * value).toFixed(1)}%`);
+        expect(html).toContain('data-case="on-time"');
+        expect(html).toContain('data-case="missed"');
+      } else {
+        expect(html).toContain('data-plan-freedom="none"');
+      }
+    }
+    expect(demo.analyses.some((analysis) => analysis.plan.freedom !== null)).toBe(true);
+  });
+});
+
+describe('map labels', () => {
+  it('widens the left margin to hold long row labels', () => {
+    const barn = { id: 'W', name: 'Wide', layout: twoRowLayout({ rowLabels: ['West', 'Middle'] }) };
+    const svg = renderBarnMap(barn, { key: 'w', scale: 30, detail: 'full', title: 't' });
+    // The label is centred in the margin: the margin must exceed the estimated width of "Middle".
+    const x = Number(/<text class="row-label" x="([\d.]+)"[^>]*>Middle</.exec(svg)![1]);
+    expect(2 * x).toBeGreaterThanOrEqual(textWidth('Middle', 12) + 10);
+  });
+});
