@@ -21,6 +21,7 @@ import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } 
 import { ConfigError, ProblemList } from './problems.js';
 import { ROPE_SHEET_COLUMN_ORDER, ROPE_SHEET_MEANING, ropeColumnNames, ropeHeaderKey } from './ropeSheet.js';
 import { formatPath, schemaProblems } from './schemaProblems.js';
+import { normaliseAlerts, normaliseHerdStatus } from './siteNotices.js';
 import type {
   AnalysisSettings,
   Assay,
@@ -257,6 +258,7 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       return built === undefined ? [] : [built];
     });
     const samplePattern = site.samplePattern ? problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen'])) : undefined;
+    const herdStatus = problems.guard(() => normaliseHerdStatus(site.herdStatus, raw.herdStatusCategories, file, at('herdStatus')));
     return Object.freeze({
       id: site.id,
       name: site.name,
@@ -265,6 +267,8 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       samplePattern,
       barns,
       barnById: new Map(barns.map((barn) => [barn.id.toUpperCase(), barn])),
+      alerts: normaliseAlerts(site.alerts),
+      herdStatus,
     });
   });
   return {

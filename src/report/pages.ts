@@ -13,6 +13,7 @@ import { notifiableNotice } from './cautions.js';
 import { atomicWriter, type OutputWriter } from './files.js';
 import { roundAlerts } from './html/alerts.js';
 import { renderClustersPage } from './html/clustersPage.js';
+import { herdStatusBlock } from './html/herdStatus.js';
 import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPage.js';
 import { renderRopeSheetPage } from './html/ropeSheetPage.js';
 import { renderSummaryPage } from './html/summaryPage.js';
@@ -72,14 +73,15 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
     const roundDir = path.join(siteDir, summary.round.id);
     const alerts = roundAlerts(summaries, spatial, index, index === lastIndex ? plan : undefined);
     const notices = noticesFor(config, summary.assays.map((assay) => assay.id));
-    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices }));
+    const herdStatus = herdStatusBlock(site.herdStatus, summary);
+    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices, herdStatus }));
     writer.write(
       path.join(roundDir, 'clusters.html'),
-      renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices }),
+      renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices, herdStatus }),
     );
   });
   const digest = siteDigest(config, analysis);
-  writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices }));
+  writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));
   writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
 }
 

@@ -4,6 +4,7 @@
  */
 import { csvTable, type CsvRow } from './csvTable.js';
 import type { RoundSummary, SourceSummary } from '../analysis/roundSummary.js';
+import type { HerdStatus } from '../config/types.js';
 import type { CtHistoryPoint, MistypedRope } from '../interpret/roundModel.js';
 import { refusalGroups, replacementCell, simplyMissing } from './roundNotes.js';
 
@@ -63,6 +64,9 @@ export const SUMMARY_COLUMNS = [
   'corrections',
   'refused_mistyped_id',
   'likely_meant_id',
+  'herd_status',
+  'herd_status_set_on',
+  'herd_status_note',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -117,7 +121,12 @@ function mistypedCells(ropes: readonly MistypedRope[]): Row {
   return { refused_mistyped_id: pairs.map((pair) => pair.written).join(' '), likely_meant_id: pairs.map((pair) => pair.meant).join(' ') };
 }
 
-export function summaryCsv(summary: RoundSummary): string {
+/**
+ * @param herdStatus the veterinarian's status of the herd (sites.yaml `herdStatus`): on the site
+ *   rows, beside the numbers of the round
+ */
+export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): string {
+  const herd: Row = herdStatus === undefined ? {} : { herd_status: herdStatus.category, herd_status_set_on: herdStatus.setOn, herd_status_note: herdStatus.note ?? null };
   const base: Row = { site: summary.site.id, round: summary.round.number, round_start: summary.round.startOn, round_end: summary.round.endOn };
   const rows: Row[] = [];
   for (const assay of summary.assays) {
@@ -157,6 +166,7 @@ export function summaryCsv(summary: RoundSummary): string {
       ...provenance(summary.sources, assay.id),
       measure: assay.measure,
       ...mistypedCells(summary.barns.flatMap((barn) => barn.mistyped)),
+      ...herd,
     });
   }
   for (const barn of summary.barns) {

@@ -11,6 +11,8 @@ import { count, pct, renderPage, sheetLegend } from './page.js';
 
 export interface RopeSheetInput {
   site: Site;
+  /** The site's herd-status block (html/herdStatus.ts), when it has one. */
+  herdStatus?: string;
   plan: NextRoundPlan;
   notices: readonly string[];
 }
@@ -87,5 +89,6 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
     nav: [{ href: '../index.html', label: 'All sites' }],
     body: `${due}<p>Hang one rope per listed pen, on the side of the alley given, for 20 to 30 minutes; write the sample ID on the tube. Walk in the order of the list.</p>${barns}`,
     large: true,
+    herdStatus: input.herdStatus,
   });
 }

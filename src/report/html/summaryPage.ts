@@ -16,6 +16,8 @@ import { correctionsEntry, ingestAgainCommand, MISTYPED_ACTION, readingText, ref
 
 export interface SummaryPageInput {
   summary: RoundSummary;
+  /** The site's herd-status block (html/herdStatus.ts), when it has one. */
+  herdStatus?: string;
   alerts: readonly PageAlert[];
   notices: readonly string[];
 }
@@ -370,5 +372,6 @@ export function renderSummaryPage(input: SummaryPageInput): string {
       { href: '../next-round.html', label: 'Next round rope sheet' },
     ],
     body,
+    herdStatus: input.herdStatus,
   });
 }
