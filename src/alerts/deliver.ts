@@ -125,6 +125,9 @@ async function deliverLocked(ws: Workspace, options: DeliverOptions, stateFile: 
     }
     for (const record of records) {
       if (state.alerts[record.key] !== undefined) continue;
+      // A rope sheet comes before its results: until one result is back, the round's ropes are
+      // not missing, and the alert is taken (with the counts it has then) once results come.
+      if (record.kind === 'missing-ropes' && record.awaitingResults) continue;
       const channels: DeliveryState['alerts'][string]['channels'] = { feed: pendingState() };
       for (const channel of externalChannels(site)) channels[channel] = pendingState();
       state.alerts[record.key] = { firstSeenAt: now(), alert: record, channels };

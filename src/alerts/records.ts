@@ -33,6 +33,8 @@ export interface AlertRecord {
   key: string;
   site: { id: string; name: string };
   round: { number: number; id: string; startOn: string; endOn: string };
+  /** No result of the round has come back yet (only its rope sheet): its ropes are not missing, they are on their way. */
+  awaitingResults: boolean;
   assay: string | null;
   barn: string | null;
   kind: PageAlert['kind'];
@@ -117,6 +119,7 @@ export function siteAlertRecords(source: AlertSource): AlertRecord[] {
         key: times === 1 ? base : `${base}#${times}`,
         site: { id: source.site.id, name: source.site.name },
         round: { number: summary.round.number, id: summary.round.id, startOn: summary.round.startOn, endOn: summary.round.endOn },
+        awaitingResults: summary.barns.every((barn) => barn.ropesReturned === 0) && summary.barns.every((barn) => barn.mistyped.length === 0),
         assay: alert.assayId,
         barn: alert.barnId,
         kind: alert.kind,

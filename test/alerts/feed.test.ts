@@ -13,7 +13,8 @@ import { feedKeys } from '../../src/alerts/feed.js';
 import { alertKey } from '../../src/alerts/records.js';
 import { regenerateOutputs } from '../../src/outputs.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
-import { dropRound } from './scenario.js';
+import { ropeSheet } from '../../src/demo/scenario.js';
+import { dropRound, ROPES } from './scenario.js';
 
 const workspace = workspacesPerTest();
 const feedOf = (outbox: string) =>
@@ -111,6 +112,19 @@ describe('alert feed', () => {
     fs.writeFileSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`, String(process.pid));
     expect(await deliverAlerts(ws.ws(), { env: {} })).toMatchObject({ busy: true, appended: 0 });
     expect(fs.existsSync(path.join(ws.paths.outbox, 'alerts.jsonl'))).toBe(false);
+  });
+
+  it('takes no missing-rope alert from a rope sheet whose results have not come back yet', async () => {
+    const ws = workspace();
+    await ws.drop('hollow-creek_ropes.csv', ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES));
+    await deliverAlerts(ws.ws(), { env: {} });
+    const early = fs.existsSync(path.join(ws.paths.outbox, 'alerts.jsonl')) ? feedOf(ws.paths.outbox) : [];
+    // The pages say "0 of 3 hung ropes came back" for F1 at this point: true, but not news.
+    expect(early.filter((line) => line.kind === 'missing-ropes')).toEqual([]);
+    await dropRound(ws);
+    await deliverAlerts(ws.ws(), { env: {} });
+    // By hand: once F1's results are back, F3's one rope is missing, and F1's are not.
+    expect(feedOf(ws.paths.outbox).filter((line) => line.kind === 'missing-ropes').map((line) => line.barn)).toEqual(['F3']);
   });
 
   it('builds keys from site, round id, assay, kind and subject', () => {
