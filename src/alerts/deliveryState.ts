@@ -67,17 +67,29 @@ export function writeDeliveryState(file: string, state: DeliveryState): void {
  */
 export function takeDeliveryLock(stateFile: string): (() => void) | null {
   const lock = `${stateFile}.lock`;
-  for (let attempt = 0; attempt < 2; attempt++) {
-    try {
-      fs.writeFileSync(lock, String(process.pid), { flag: 'wx' });
-      return () => fs.rmSync(lock, { force: true });
-    } catch (error) {
-      if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
-      const holder = Number.parseInt(fs.readFileSync(lock, 'utf8'), 10);
-      // A lock being written has no pid yet: treat it as held.
-      if (!Number.isInteger(holder) || processIsAlive(holder)) return null;
-      fs.rmSync(lock, { force: true });
+  // The pid is written under a name of this process's own, then linked to the lock's name:
+  // link(2) fails with EEXIST when the lock exists, so a lock is never seen without its pid.
+  const mine = `${lock}.${process.pid}`;
+  fs.writeFileSync(mine, String(process.pid));
+  try {
+    for (let attempt = 0; attempt < 2; attempt++) {
+      try {
+        fs.linkSync(mine, lock);
+        return () => fs.rmSync(lock, { force: true });
+      } catch (error) {
+        if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
+        let holder: number;
+        try {
+          holder = Number.parseInt(fs.readFileSync(lock, 'utf8'), 10);
+        } catch {
+          continue; // released meanwhile
+        }
+        if (Number.isInteger(holder) && processIsAlive(holder)) return null;
+        fs.rmSync(lock, { force: true });
+      }
     }
+    return null;
+  } finally {
+    fs.rmSync(mine, { force: true });
   }
-  return null;
 }

@@ -4,6 +4,7 @@
  * the rows written (test/alerts/scenario.ts) and the demo's PRRSV cutoffs (positive below Ct 36,
  * suspect below 40).
  */
+import { spawnSync } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -112,6 +113,18 @@ describe('alert feed', () => {
     fs.writeFileSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`, String(process.pid));
     expect(await deliverAlerts(ws.ws(), { env: {} })).toMatchObject({ busy: true, appended: 0 });
     expect(fs.existsSync(path.join(ws.paths.outbox, 'alerts.jsonl'))).toBe(false);
+  });
+
+  it('takes over a lock left by a process that is gone', async () => {
+    const ws = workspace();
+    await dropRound(ws);
+    // The pid of a process that has exited (kill(2) with signal 0 then fails with ESRCH).
+    const gone = spawnSync(process.execPath, ['-e', '0']).pid!;
+    fs.writeFileSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`, String(gone));
+    const report = await deliverAlerts(ws.ws(), { env: {} });
+    expect(report.busy).toBe(false);
+    expect(report.appended).toBeGreaterThan(0);
+    expect(fs.existsSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`)).toBe(false);
   });
 
   it('takes no missing-rope alert from a rope sheet whose results have not come back yet', async () => {
