@@ -114,4 +114,38 @@ describe('alerts given to a command', () => {
     expect(received(ws)).toHaveLength(count);
     expect(fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8')).toBe(feed);
   });
+
+  it('delivers from `watch` after each file, logging a failure with the time and retrying after the next file', async () => {
+    const ws = commandWorkspace(hookCommand);
+    fs.writeFileSync(path.join(ws.paths.configDir, 'fail'), 'relay unreachable');
+    let stop!: () => void;
+    const stopSignal = new Promise<void>((resolve) => (stop = resolve));
+    let stderr = '';
+    const running = runCli(['watch', '--stable-ms', '50', ...ws.cliFlags], { stopSignal, stderr: (text) => (stderr += text) });
+    const waitFor = async (condition: () => boolean, label: string) => {
+      const deadline = Date.now() + 30_000;
+      while (!condition()) {
+        if (Date.now() > deadline) throw new Error(`timed out waiting for ${label}\n${stderr}`);
+        await new Promise((resolve) => setTimeout(resolve, 20));
+      }
+    };
+    try {
+      fs.writeFileSync(path.join(ws.paths.inbox, 'hollow-creek_ropes.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES));
+      await waitFor(() => fs.existsSync(path.join(ws.paths.inbox, 'archive', 'hollow-creek_ropes.csv')), 'the rope sheet stored');
+      fs.writeFileSync(path.join(ws.paths.inbox, 'nvdl_results_2026-08-06.csv'), RESULTS);
+      await waitFor(() => stderr.includes('not delivered by command'), 'the failed delivery logged');
+      // One line, beginning with the time of the injected clock (ISO 8601).
+      expect(stderr).toMatch(/^2026-12-01T12:00:00\.000Z warning: alert \S+ not delivered by command \(attempt 1\): the command \S+ exited with status 3: relay unreachable; retried on the next run$/m);
+      expect(received(ws)).toEqual([]);
+      fs.rmSync(path.join(ws.paths.configDir, 'fail'));
+      // Any next file brings the next delivery run (a duplicate of the sheet: nothing stored twice).
+      fs.writeFileSync(path.join(ws.paths.inbox, 'again.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES));
+      await waitFor(() => received(ws).some((line) => line.kind === 'first-positive'), 'the alerts given to the command');
+    } finally {
+      stop();
+    }
+    const run = await running;
+    expect(run.code, run.stderr).toBe(0);
+    expect(new Set(received(ws).map((line) => line.key)).size).toBe(received(ws).length);
+  });
 });
