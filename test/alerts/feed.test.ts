@@ -115,6 +115,21 @@ describe('alert feed', () => {
     expect(fs.existsSync(path.join(ws.paths.outbox, 'alerts.jsonl'))).toBe(false);
   });
 
+  it('keeps a damaged delivery record aside, says so in one line, and still appends nothing twice', async () => {
+    const ws = workspace();
+    await dropRound(ws);
+    await deliverAlerts(ws.ws(), { env: {} });
+    const before = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8');
+    const state = deliveryStateFile(ws.paths.dbFile);
+    fs.writeFileSync(state, '{"schema": "ropewatch.alert-deliveries/1", "alerts": {');
+    const lines: string[] = [];
+    const again = await deliverAlerts({ ...ws.ws(), log: (line: string) => lines.push(line) }, { env: {} });
+    expect(lines).toEqual([expect.stringMatching(/-alerts\.json cannot be read \(.*\); moved to ropewatch\.db-alerts\.json\.damaged, starting a new delivery record$/)]);
+    expect(fs.readFileSync(`${state}.damaged`, 'utf8')).toContain('"alerts": {');
+    expect(again.appended).toBe(0);
+    expect(fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8')).toBe(before);
+  });
+
   it('takes over a lock left by a process that is gone', async () => {
     const ws = workspace();
     await dropRound(ws);
