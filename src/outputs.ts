@@ -12,6 +12,7 @@ import { siteConfidence, type RoundConfidence } from './analysis/confidence.js';
 import { planNextRound, type NextRoundPlan } from './analysis/nextRound.js';
 import { summariseSite, type RoundSummary } from './analysis/roundSummary.js';
 import { OutbreakCache, siteSpatial, type RoundSpatial } from './analysis/spatialRound.js';
+import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
 import type { Site } from './config/types.js';
 import { buildSiteRounds, type SiteRound } from './interpret/roundModel.js';
 import { clockDay } from './interpret/rounds.js';
@@ -106,13 +107,15 @@ export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: 
   analysis.summaries.forEach((summary, index) => {
     const roundDir = path.join(siteDir, summary.round.id);
     writer.write(path.join(roundDir, 'summary.json'), json(summary));
-    writer.write(path.join(roundDir, 'summary.csv'), summaryCsv(summary));
+    writer.write(path.join(roundDir, 'summary.csv'), summaryCsv(summary, analysis.site.herdStatus));
     const spatial = analysis.spatial[index]!;
     writer.write(path.join(roundDir, 'clusters.json'), json(spatial));
     writer.write(path.join(roundDir, 'clusters.csv'), clustersCsv(spatial));
   });
   writer.write(path.join(siteDir, 'next-round.json'), json(nextRoundJson(analysis.plan)));
   writer.write(path.join(siteDir, 'next-round.csv'), nextRoundCsv(analysis.plan));
+  // Read by the delivery after the outputs (src/alerts/deliver.ts).
+  writer.write(path.join(siteDir, SITE_ALERTS_FILE), json(siteAlertsFile(analysis)));
   writeSitePages(ws.outbox, ws.config, analysis, writer);
 }
 

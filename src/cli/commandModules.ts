@@ -15,5 +15,5 @@ export { watchInbox } from '../watch/index.js';
 export { watchConfig } from '../watch/configWatch.js';
 export { resolvePaths } from '../workspace.js';
 export { rejectedFiles, reloadConfiguration, retryFiles } from './retry.js';
-export { catchUp, ingestFiles, processAndTell, signalExitCode } from './runFiles.js';
+export { catchUp, deliverOwedAlerts, ingestFiles, processAndTell, signalExitCode } from './runFiles.js';
 export { checkInbox, withWorkspace } from './workspaceOptions.js';

@@ -72,7 +72,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   ).action(async (options: CommonOptions & { poll?: boolean; stableMs: string }) => {
     const stableMs = Number(options.stableMs);
     if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
-    const { catchUp, checkInbox, processAndTell, reloadConfiguration, watchConfig, watchInbox, withWorkspace } = await commandModules();
+    const { catchUp, checkInbox, deliverOwedAlerts, processAndTell, reloadConfiguration, watchConfig, watchInbox, withWorkspace } = await commandModules();
     checkInbox(io, options);
     // A watch runs for days and its output is a log: every line it writes begins with the time
     // (ISO 8601, UTC, from the injected clock).
@@ -80,6 +80,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
     await withWorkspace(log, options, async (ws) => {
       fs.mkdirSync(ws.inbox, { recursive: true });
       catchUp(ws, log);
+      await deliverOwedAlerts(ws, log);
       log.stdout(`watching ${ws.inbox} (stop with Ctrl-C)\n`);
       // One thing at a time on the workspace: a dropped file, or a reload of the configuration
       // (with the retry of refused files it brings).
@@ -111,7 +112,10 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           onError: (error, file) => log.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
           onFile: async (file) => {
             // A file still being written is read again when it settles (the watcher saw it change).
-            await inTurn(() => processAndTell(ws, file, log, false));
+            await inTurn(async () => {
+              await processAndTell(ws, file, log, false);
+              await deliverOwedAlerts(ws, log);
+            });
           },
         });
       } finally {
@@ -177,8 +181,8 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole')
       .option('--json', 'print what was written as JSON: per site its rounds and files'),
   ).action(async (options: CommonOptions & { site?: string; round?: string }) => {
-    const { OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } = await commandModules();
-    withWorkspace(io, options, (ws) => {
+    const { deliverOwedAlerts, OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } = await commandModules();
+    await withWorkspace(io, options, async (ws) => {
       if (options.round !== undefined && options.site === undefined) throw new UsageError('--round needs --site');
       let siteIds: string[] | undefined;
       if (options.site !== undefined) {
@@ -194,6 +198,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         if (error instanceof OutputError) throw new InputRejectedError(error.message);
         throw error;
       }
+      await deliverOwedAlerts(ws, io);
       if (options.round !== undefined) {
         const number = Number(options.round);
         const exists = analyses[0]?.rounds.some((round) => round.number === number);

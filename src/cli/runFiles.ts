@@ -4,6 +4,7 @@
  * from refusals, and a stop signal honoured between files.
  */
 import os from 'node:os';
+import { deliverAlerts } from '../alerts/deliver.js';
 import path from 'node:path';
 import type { Receipt } from '../ingest/ingestFile.js';
 import { FileTakenError, takenByAnother } from '../inboxFiles.js';
@@ -43,6 +44,19 @@ export function catchUp(ws: Workspace, io: CliIo): boolean {
     if (!(error instanceof OutputError)) throw error;
     io.stderr(`ropewatch: ${terminalText(error.message)}\n`);
     return false;
+  }
+}
+
+/**
+ * Delivers the alerts of the outputs written so far (outbox/alerts.jsonl, e-mail, commands): after
+ * the outputs, outside the store's write lock. Failures are logged (one line each) and wait for
+ * the next run; nothing here fails the command.
+ */
+export async function deliverOwedAlerts(ws: Workspace, io: CliIo): Promise<void> {
+  try {
+    await deliverAlerts(ws, { env: io.env });
+  } catch (error) {
+    ws.log(terminalText(`warning: alerts not delivered (${(error as Error).message ?? String(error)}); retried on the next run`));
   }
 }
 
@@ -119,6 +133,7 @@ export async function ingestFiles(ws: Workspace, files: readonly string[], io: C
     receipts.push(outcome.receipt);
     if (outcome.receipt.status === 'rejected' || outcome.receipt.rows.rejected > 0 || outcome.outputError) failed = true;
   }
+  await deliverOwedAlerts(ws, io);
   return { receipts, failed, stoppedBy: null, left: [] };
 }
 

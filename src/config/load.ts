@@ -22,6 +22,7 @@ import { ConfigError, ProblemList } from './problems.js';
 import { ROPE_SHEET_COLUMN_ORDER, ROPE_SHEET_MEANING, ropeColumnNames, ropeHeaderKey } from './ropeSheet.js';
 import { formatPath, schemaProblems } from './schemaProblems.js';
 import { groupProblems, inPlacementOrder } from '../interpret/groups.js';
+import { normaliseAlerts, normaliseHerdStatus } from './siteNotices.js';
 import type {
   AnalysisSettings,
   Assay,
@@ -293,6 +294,7 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       );
     }
     const samplePattern = site.samplePattern ? problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen'])) : undefined;
+    const herdStatus = problems.guard(() => normaliseHerdStatus(site.herdStatus, raw.herdStatusCategories, file, at('herdStatus')));
     return Object.freeze({
       id: site.id,
       name: site.name,
@@ -301,6 +303,8 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       samplePattern,
       barns,
       barnById: new Map(barns.map((barn) => [barn.id.toUpperCase(), barn])),
+      alerts: normaliseAlerts(site.alerts),
+      herdStatus,
     });
   });
   return {

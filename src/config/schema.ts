@@ -4,6 +4,7 @@
  */
 import { z } from 'zod';
 import { REQUIRED_KEY_HELP } from './schemaProblems.js';
+import { herdStatusCategoriesSchema, herdStatusSchema, siteAlertsSchema } from './siteNotices.js';
 
 const probability = z.number().min(0).max(1);
 const penId = z.string().min(1);
@@ -161,6 +162,10 @@ export const siteSchema = z
      */
     samplePattern: z.string().optional(),
     barns: z.array(barnSchema).min(1),
+    /** Where the site's alerts go besides outbox/alerts.jsonl (src/config/siteNotices.ts). */
+    alerts: siteAlertsSchema.optional(),
+    /** The veterinarian's status of the herd, with the day it was set. */
+    herdStatus: herdStatusSchema.optional(),
   })
   .strict();
 
@@ -211,6 +216,8 @@ export const sitesFileSchema = z
   .object({
     organisation: z.string().optional(),
     ropeSheet: ropeSheetSchema.optional(),
+    /** The veterinarian's categories of herd status; without it a site's category is free text. */
+    herdStatusCategories: herdStatusCategoriesSchema.optional(),
     analysis: analysisSchema.default({
       seed: 1,
       permutations: 999,

@@ -1,6 +1,9 @@
 /** Normalised configuration: what the rest of ropewatch reads. Built once by `loadConfig`, frozen. */
 import type { BarnLayout, Pen, PenContacts } from '../domain/layout.js';
 import type { ConfiguredPattern } from './pattern.js';
+import type { HerdStatus, SiteAlerts } from './siteNotices.js';
+
+export type { HerdStatus, SiteAlerts } from './siteNotices.js';
 
 export type DesignPrevalence = { kind: 'proportion'; value: number } | { kind: 'pens'; value: number };
 
@@ -95,6 +98,10 @@ export interface Site {
   samplePattern: ConfiguredPattern | undefined;
   barns: readonly Barn[];
   barnById: ReadonlyMap<string, Barn>;
+  /** Where alerts go besides outbox/alerts.jsonl (undefined: the feed only). */
+  alerts: SiteAlerts | undefined;
+  /** The veterinarian's status of the herd (undefined: none configured). */
+  herdStatus: HerdStatus | undefined;
 }
 
 export interface LoadBand {

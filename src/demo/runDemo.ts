@@ -11,6 +11,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { UsageError, type CliIo } from '../cli/io.js';
 import { loadConfig } from '../config/load.js';
+import { deliverAlerts } from '../alerts/deliver.js';
 import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
 import { Store, StoreOpenError } from '../store/store.js';
@@ -122,7 +123,7 @@ export interface DemoOutcome {
 export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean): Promise<DemoOutcome> {
   guardConfig(paths.configDir);
   guardStore(paths.dbFile, force);
-  for (const suffix of ['', '-wal', '-shm']) fs.rmSync(`${paths.dbFile}${suffix}`, { force: true });
+  for (const suffix of ['', '-wal', '-shm', '-alerts.json']) fs.rmSync(`${paths.dbFile}${suffix}`, { force: true });
   emptyDir(paths.inbox);
   emptyDir(paths.outbox);
   writeDemoConfig(paths.configDir);
@@ -144,6 +145,8 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
         const file = path.join(paths.inbox, drop.name);
         fs.writeFileSync(file, drop.bytes);
         const { receipt } = await processFile(ws, file);
+        // Alerts reach the feed as each drop is processed (outbox/alerts.jsonl, seen at the drop's time).
+        await deliverAlerts(ws, { env: io.env });
         outcome.drops.push({ name: drop.name, status: receipt.status, note: drop.note });
         io.stdout(`${drop.at.slice(0, 10)}  ${receipt.status.padEnd(9)} ${drop.name}  (${drop.note})\n`);
         if (receipt.kind === 'ropes') for (const line of roundsAwaiting(ws, receipt.sites, clock)) io.stdout(line);
@@ -151,6 +154,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
     }
     clock = new Date(DEMO_TODAY);
     regenerateOutputs(ws);
+    await deliverAlerts(ws, { env: io.env });
   } finally {
     ws.close();
   }

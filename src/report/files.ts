@@ -86,7 +86,8 @@ export class StagedOutputs implements OutputWriter {
   }
 }
 
-function processIsAlive(pid: number): boolean {
+/** Whether a process of that id runs (signal 0 probes it, kill(2)). */
+export function processIsAlive(pid: number): boolean {
   try {
     process.kill(pid, 0);
     return true;

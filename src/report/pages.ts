@@ -14,6 +14,7 @@ import { notifiableNotice } from './cautions.js';
 import { atomicWriter, type OutputWriter } from './files.js';
 import { roundAlerts } from './html/alerts.js';
 import { renderClustersPage } from './html/clustersPage.js';
+import { herdStatusBlock } from './html/herdStatus.js';
 import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPage.js';
 import { renderPlanPage } from './html/planPage.js';
 import { renderRopeSheetPage } from './html/ropeSheetPage.js';
@@ -79,16 +80,17 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
     const current = analysis.rounds.find((round) => round.id === summary.round.id);
     const before = index > 0 ? analysis.rounds.find((round) => round.id === summaries[index - 1]!.round.id) : undefined;
     const since = current ? sinceLastRound(before ?? null, current) : undefined;
-    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices, ...(since ? { since } : {}) }));
+    const herdStatus = herdStatusBlock(site.herdStatus, summary);
+    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices, herdStatus, ...(since ? { since } : {}) }));
     writer.write(
       path.join(roundDir, 'clusters.html'),
-      renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices }),
+      renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices, herdStatus }),
     );
   });
   const digest = siteDigest(config, analysis);
-  writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices }));
+  writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));
   for (const page of nextRoundLabelPages(plan, digest.notices)) writer.write(path.join(siteDir, page.file), page.html);
-  writer.write(path.join(siteDir, 'plan.html'), renderPlanPage({ plan, notices: digest.notices }));
+  writer.write(path.join(siteDir, 'plan.html'), renderPlanPage({ plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));
   writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
 }
 

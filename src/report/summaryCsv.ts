@@ -4,6 +4,7 @@
  */
 import { csvTable, type CsvRow } from './csvTable.js';
 import type { RoundSummary, SourceSummary } from '../analysis/roundSummary.js';
+import type { HerdStatus } from '../config/types.js';
 import type { CtHistoryPoint, MistypedRope } from '../interpret/roundModel.js';
 import { refusalGroups, replacementCell, simplyMissing } from './roundNotes.js';
 
@@ -79,6 +80,9 @@ export const SUMMARY_COLUMNS = [
   'positive_pool_pens',
   'pool_sensitivity',
   'unpooled_detection_confidence',
+  'herd_status',
+  'herd_status_set_on',
+  'herd_status_note',
 ] as const;
 
 type Column = (typeof SUMMARY_COLUMNS)[number];
@@ -133,7 +137,12 @@ function mistypedCells(ropes: readonly MistypedRope[]): Row {
   return { refused_mistyped_id: pairs.map((pair) => pair.written).join(' '), likely_meant_id: pairs.map((pair) => pair.meant).join(' ') };
 }
 
-export function summaryCsv(summary: RoundSummary): string {
+/**
+ * @param herdStatus the veterinarian's status of the herd (sites.yaml `herdStatus`): on the site
+ *   rows, beside the numbers of the round
+ */
+export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): string {
+  const herd: Row = herdStatus === undefined ? {} : { herd_status: herdStatus.category, herd_status_set_on: herdStatus.setOn, herd_status_note: herdStatus.note ?? null };
   const base: Row = {
     site: summary.site.id,
     round: summary.round.number,
@@ -147,7 +156,7 @@ export function summaryCsv(summary: RoundSummary): string {
   // without an assay, say how many ropes are out (and, once closed, which are missing).
   if (summary.assays.length === 0) {
     const hung = summary.barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
-    rows.push({ ...base, level: 'site', pens_in_use: summary.barns.reduce((sum, barn) => sum + barn.pensInUse, 0), ropes_hung: hung, ropes_returned: 0, missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' ') });
+    rows.push({ ...base, ...herd, level: 'site', pens_in_use: summary.barns.reduce((sum, barn) => sum + barn.pensInUse, 0), ropes_hung: hung, ropes_returned: 0, missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' ') });
     for (const barn of summary.barns) {
       rows.push({ ...base, level: 'barn', barn: barn.barnId, pens_in_use: barn.pensInUse, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, missing_sample_ids: simplyMissing(barn).join(' ') });
     }
@@ -197,6 +206,7 @@ export function summaryCsv(summary: RoundSummary): string {
       detection_if_infected_barns: formatProbability(assay.site.detectionIfFewBarns),
       measure: assay.measure,
       ...mistypedCells(summary.barns.flatMap((barn) => barn.mistyped)),
+      ...herd,
     });
   }
   for (const barn of summary.barns) {

@@ -18,6 +18,8 @@ import { spStep } from './palette.js';
 
 export interface ClustersPageInput {
   site: Site;
+  /** The site's herd-status block (html/herdStatus.ts), when it has one. */
+  herdStatus?: string;
   summaries: readonly RoundSummary[];
   spatial: readonly RoundSpatial[];
   /** The round to show, an index into summaries. */
@@ -449,5 +451,6 @@ export function renderClustersPage(input: ClustersPageInput): string {
       { href: '../next-round.html', label: 'Next round rope sheet' },
     ],
     body: sections,
+    herdStatus: input.herdStatus,
   });
 }

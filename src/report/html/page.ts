@@ -23,6 +23,8 @@ export interface PageInput {
   large?: boolean;
   /** The cautions right after the notices instead of at the end (the rope sheet: printed, they share the first page instead of trailing alone onto a last one). */
   cautionsFirst?: boolean;
+  /** The site's herd-status block under the heading (already escaped HTML; see herdStatus.ts). */
+  herdStatus?: string;
 }
 
 const CSS = `
@@ -134,7 +136,7 @@ export function renderPage(input: PageInput): string {
     `<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n<meta name="viewport" content="width=device-width, initial-scale=1">\n` +
     `<title>${escapeHtml(input.title)}</title>\n<style>${CSS}</style>\n</head>\n<body${input.large ? ' class="large"' : ''}>\n` +
     `${nav}<header><h1>${escapeHtml(input.heading)}</h1>${input.subheading ? `<p class="sub">${input.subheading}</p>` : ''}</header>\n` +
-    `${noticesBlock(input.notices)}\n${input.cautionsFirst ? `${cautionsBlock()}\n` : ''}<main>\n${input.body}\n</main>\n${input.cautionsFirst ? '' : `${cautionsBlock()}\n`}</body>\n</html>\n`
+    `${input.herdStatus ?? ''}${noticesBlock(input.notices)}\n${input.cautionsFirst ? `${cautionsBlock()}\n` : ''}<main>\n${input.body}\n</main>\n${input.cautionsFirst ? '' : `${cautionsBlock()}\n`}</body>\n</html>\n`
   );
 }
 

@@ -12,6 +12,8 @@ import { num, pct, renderPage } from './page.js';
 export interface PlanPageInput {
   plan: NextRoundPlan;
   notices: readonly string[];
+  /** The site's herd-status block (already escaped HTML; see herdStatus.ts). */
+  herdStatus?: string | undefined;
 }
 
 const days = (value: number | null | undefined) => (value === null || value === undefined || !Number.isFinite(value) ? 'n/a' : `${num(value, 1)} days`);
@@ -117,6 +119,7 @@ export function renderPlanPage(input: PlanPageInput): string {
     heading: `${plan.site.name}: the plan for round ${plan.round}, and why`,
     subheading: plan.basedOn ? `After round ${plan.basedOn.round} (${escapeHtml(plan.basedOn.startOn)}).` : 'No round yet: the first round.',
     notices: input.notices,
+    herdStatus: input.herdStatus,
     nav: [
       { href: '../index.html', label: 'All sites' },
       { href: 'next-round.html', label: 'Rope sheet' },

@@ -17,6 +17,8 @@ import { count, pct, renderPage, sheetLegend } from './page.js';
 
 export interface RopeSheetInput {
   site: Site;
+  /** The site's herd-status block (html/herdStatus.ts), when it has one. */
+  herdStatus?: string;
   plan: NextRoundPlan;
   notices: readonly string[];
 }
@@ -161,5 +163,6 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
       barns,
     large: true,
     cautionsFirst: true,
+    herdStatus: input.herdStatus,
   });
 }

@@ -18,6 +18,8 @@ import { correctionsEntry, ingestAgainCommand, MISTYPED_ACTION, readingText, ref
 
 export interface SummaryPageInput {
   summary: RoundSummary;
+  /** The site's herd-status block (html/herdStatus.ts), when it has one. */
+  herdStatus?: string;
   alerts: readonly PageAlert[];
   notices: readonly string[];
   /** What changed since the round before (src/analysis/sinceLastRound); no table without it. */
@@ -485,5 +487,6 @@ export function renderSummaryPage(input: SummaryPageInput): string {
       { href: '../plan.html', label: 'Plan and its reasoning' },
     ],
     body,
+    herdStatus: input.herdStatus,
   });
 }

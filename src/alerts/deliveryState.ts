@@ -1,0 +1,95 @@
+/**
+ * What was already done with each alert: appended to outbox/alerts.jsonl, sent by e-mail, given
+ * to the command. Kept beside the store (`<store>-alerts.json`, as SQLite keeps `<store>-wal`)
+ * so that outputs rebuilt many times (catch-up, a changed configuration) deliver each alert once,
+ * and a failed delivery waits, with its alert, for the next run. One process delivers at a time:
+ * a lock file beside the state names its pid; a lock whose process is gone is taken over.
+ */
+import fs from 'node:fs';
+import { processIsAlive, writeFileAtomic } from '../report/files.js';
+import type { AlertRecord } from './records.js';
+
+export const DELIVERY_STATE_SCHEMA = 'ropewatch.alert-deliveries/1';
+
+export type Channel = 'feed' | 'email' | 'command';
+
+export interface ChannelState {
+  done: boolean;
+  attempts: number;
+  /** The last failure, one line; null once delivered or before any attempt. */
+  lastError: string | null;
+  lastAttemptAt: string | null;
+  doneAt: string | null;
+}
+
+export interface DeliveryEntry {
+  firstSeenAt: string;
+  alert: AlertRecord;
+  channels: Partial<Record<Channel, ChannelState>>;
+}
+
+export interface DeliveryState {
+  schema: typeof DELIVERY_STATE_SCHEMA;
+  alerts: Record<string, DeliveryEntry>;
+}
+
+/** The state file of a store. */
+export function deliveryStateFile(dbFile: string): string {
+  return `${dbFile}-alerts.json`;
+}
+
+export const emptyState = (): DeliveryState => ({ schema: DELIVERY_STATE_SCHEMA, alerts: {} });
+
+/**
+ * Reads the state; a missing file is an empty state.
+ * @throws Error when the file exists but is not a state this version wrote
+ */
+export function readDeliveryState(file: string): DeliveryState {
+  let text: string;
+  try {
+    text = fs.readFileSync(file, 'utf8');
+  } catch (error) {
+    if ((error as NodeJS.ErrnoException).code === 'ENOENT') return emptyState();
+    throw error;
+  }
+  const value = JSON.parse(text) as Partial<DeliveryState>;
+  if (value.schema !== DELIVERY_STATE_SCHEMA || typeof value.alerts !== 'object' || value.alerts === null) throw new Error(`${file} is not a delivery state (${DELIVERY_STATE_SCHEMA})`);
+  return value as DeliveryState;
+}
+
+export function writeDeliveryState(file: string, state: DeliveryState): void {
+  writeFileAtomic(file, JSON.stringify(state, null, 1) + '\n');
+}
+
+/**
+ * Takes the delivery lock (an exclusively created file holding the pid). Returns the function
+ * that releases it, or null when a live process holds it.
+ */
+export function takeDeliveryLock(stateFile: string): (() => void) | null {
+  const lock = `${stateFile}.lock`;
+  // The pid is written under a name of this process's own, then linked to the lock's name:
+  // link(2) fails with EEXIST when the lock exists, so a lock is never seen without its pid.
+  const mine = `${lock}.${process.pid}`;
+  fs.writeFileSync(mine, String(process.pid));
+  try {
+    for (let attempt = 0; attempt < 2; attempt++) {
+      try {
+        fs.linkSync(mine, lock);
+        return () => fs.rmSync(lock, { force: true });
+      } catch (error) {
+        if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
+        let holder: number;
+        try {
+          holder = Number.parseInt(fs.readFileSync(lock, 'utf8'), 10);
+        } catch {
+          continue; // released meanwhile
+        }
+        if (Number.isInteger(holder) && processIsAlive(holder)) return null;
+        fs.rmSync(lock, { force: true });
+      }
+    }
+    return null;
+  } finally {
+    fs.rmSync(mine, { force: true });
+  }
+}
