@@ -7,6 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { BarnConfidence } from '../../src/analysis/confidence.js';
 import { sinceLastRound } from '../../src/analysis/sinceLastRound.js';
+import { alertItem, penSpan, roundAlerts } from '../../src/report/html/alerts.js';
 import { renderBarnMap, textWidth } from '../../src/report/html/barnMap.js';
 import { resultMarks } from '../../src/report/html/clustersPage.js';
 import { resultsLegend } from '../../src/report/html/page.js';
@@ -124,5 +125,27 @@ describe('map labels', () => {
     // The label is centred in the margin: the margin must exceed the estimated width of "Middle".
     const x = Number(/<text class="row-label" x="([\d.]+)"[^>]*>Middle</.exec(svg)![1]);
     expect(2 * x).toBeGreaterThanOrEqual(textWidth('Middle', 12) + 10);
+  });
+});
+
+describe('alert texts', () => {
+  it('spans a cluster from its first to its last pen in layout order', () => {
+    // By hand: of the positives in layout order A3, A4, B3, B9, the cluster {B9, A3, B3} runs A3 to B9.
+    expect(penSpan(['B9', 'A3', 'B3'], ['A3', 'A4', 'B3', 'B9'])).toBe('A3\u2013B9');
+    expect(penSpan(['A4'], ['A3', 'A4'])).toBe('A4');
+  });
+
+  it('opens every alert of the demo with its action and keeps the detail for the second line', () => {
+    for (const analysis of demo.analyses) {
+      analysis.summaries.forEach((_, index) => {
+        for (const alert of roundAlerts(analysis.summaries, analysis.spatial, index)) {
+          expect(alert.message).toBe(`${alert.action}. ${alert.detail}`);
+          expect(alert.action.length, alert.action).toBeGreaterThan(0);
+          expect(alert.detail.length, alert.kind).toBeGreaterThan(0);
+          // Rendered: the action in bold first, the detail after a line break.
+          expect(alertItem(alert)).toMatch(/^<li data-alert="[a-z-]+"><strong class="action">[^<]+<\/strong><br><span class="detail">[^<]+<\/span><\/li>$/);
+        }
+      });
+    }
   });
 });
