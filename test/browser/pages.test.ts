@@ -68,7 +68,7 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
   it('opens every page without console errors or network requests, and screenshots it', async () => {
     const pages = ['index.html'];
     for (const analysis of demo.analyses) {
-      pages.push(`${analysis.site.id}/next-round.html`);
+      pages.push(`${analysis.site.id}/next-round.html`, `${analysis.site.id}/plan.html`);
       for (const summary of analysis.summaries) pages.push(`${analysis.site.id}/${summary.round.id}/summary.html`, `${analysis.site.id}/${summary.round.id}/clusters.html`);
     }
     for (const relative of pages) {

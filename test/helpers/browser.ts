@@ -70,6 +70,19 @@ function escapeXml(text: string): string {
   return text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
 }
 
+/** A fontconfig file naming only the fonts unpacked under `home` (a real path, no symbolic link in it). */
+function fontconfigText(home: string): string {
+  return [
+    '<?xml version="1.0"?>',
+    '<!DOCTYPE fontconfig SYSTEM "fonts.dtd">',
+    '<fontconfig>',
+    `  <dir>${escapeXml(path.join(home, 'fonts'))}</dir>`,
+    `  <cachedir>${escapeXml(path.join(home, 'fontconfig-cache'))}</cachedir>`,
+    '</fontconfig>',
+    '',
+  ].join('\n');
+}
+
 function alive(pid: number): boolean {
   try {
     process.kill(pid, 0);
@@ -95,7 +108,19 @@ export async function unpackBundledChromium(cacheRoot = BUNDLED_CACHE, packageDi
   const version = (JSON.parse(fs.readFileSync(manifest, 'utf8')) as { version: string }).version;
   const home = path.join(cacheRoot, version);
   const found: BundledChromium = { executablePath: path.join(home, 'chromium'), fontconfigFile: path.join(home, 'fonts.conf') };
-  if (fs.existsSync(home)) return found;
+  if (fs.existsSync(home)) {
+    // The cache may sit behind a symbolic link (node_modules shared by several checkouts): a
+    // fontconfig file naming a folder that is gone draws no text at all, so it is written again,
+    // under a name of its own and renamed into place.
+    const conf = fs.readFileSync(found.fontconfigFile, 'utf8');
+    const fontsDir = /<dir>([^<]*)<\/dir>/.exec(conf)?.[1];
+    if (fontsDir === undefined || !fs.existsSync(fontsDir.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&amp;/g, '&'))) {
+      const temporary = `${found.fontconfigFile}.${process.pid}`;
+      fs.writeFileSync(temporary, fontconfigText(fs.realpathSync(home)));
+      fs.renameSync(temporary, found.fontconfigFile);
+    }
+    return found;
+  }
 
   fs.mkdirSync(cacheRoot, { recursive: true });
   // Leftovers of runs that were killed while unpacking (their process is gone).
@@ -109,18 +134,7 @@ export async function unpackBundledChromium(cacheRoot = BUNDLED_CACHE, packageDi
   await pipeline(fs.createReadStream(path.join(packageDir, 'bin', 'chromium.br')), zlib.createBrotliDecompress(), fs.createWriteStream(path.join(partial, 'chromium'), { mode: 0o755 }));
   // fonts.tar.br holds fonts/Open_Sans/*.ttf and a fonts.conf for the package's own paths; ours names this folder.
   execFileSync('tar', ['-x', '-f', '-', '-C', path.join(partial, 'fonts')], { input: zlib.brotliDecompressSync(fs.readFileSync(path.join(packageDir, 'bin', 'fonts.tar.br'))) });
-  fs.writeFileSync(
-    path.join(partial, 'fonts.conf'),
-    [
-      '<?xml version="1.0"?>',
-      '<!DOCTYPE fontconfig SYSTEM "fonts.dtd">',
-      '<fontconfig>',
-      `  <dir>${escapeXml(path.join(home, 'fonts'))}</dir>`,
-      `  <cachedir>${escapeXml(path.join(home, 'fontconfig-cache'))}</cachedir>`,
-      '</fontconfig>',
-      '',
-    ].join('\n'),
-  );
+  fs.writeFileSync(path.join(partial, 'fonts.conf'), fontconfigText(path.join(fs.realpathSync(cacheRoot), version)));
   try {
     fs.renameSync(partial, home);
   } catch (error) {

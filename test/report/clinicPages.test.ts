@@ -7,6 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { BarnConfidence } from '../../src/analysis/confidence.js';
 import { sinceLastRound } from '../../src/analysis/sinceLastRound.js';
+import { alertItem, penSpan, roundAlerts } from '../../src/report/html/alerts.js';
 import { renderBarnMap, textWidth } from '../../src/report/html/barnMap.js';
 import { resultMarks } from '../../src/report/html/clustersPage.js';
 import { resultsLegend } from '../../src/report/html/page.js';
@@ -29,10 +30,10 @@ describe('a barn against the target', () => {
     expect(againstTarget({ invalid: 0, confidence: confidence(0.96) }, 0, 0.95).state).toBe('met');
     expect(againstTarget({ invalid: 0, confidence: confidence(0.96) }, 3, 0.95).state).toBe('met');
     const lost = againstTarget({ invalid: 1, confidence: confidence(0.8) }, 2, 0.95);
-    expect(lost).toEqual({ state: 'lost', text: 'below target because ropes were lost (2 ropes without a result, 1 invalid): 20 valid ropes would reach it' });
+    expect(lost).toEqual({ state: 'lost', text: 'ropes lost (2 ropes without a result, 1 invalid): 20 valid ropes would reach it' });
     expect(againstTarget({ invalid: 0, confidence: confidence(0.8, null) }, 0, 0.95)).toEqual({
       state: 'as-sized',
-      text: 'below target as the round was sized (every rope hung came back valid): one round cannot reach it (best 90.0%); 2 rounds would',
+      text: 'as sized: one round cannot reach it (best 90.0%); 2 rounds would',
     });
   });
 
@@ -66,10 +67,13 @@ describe('the since-last-round table', () => {
     for (let index = 1; index < analysis.rounds.length; index++) {
       const since = sinceLastRound(analysis.rounds[index - 1]!, analysis.rounds[index]!);
       const html = sinceBlock(analysis.summaries[index]!, since);
-      for (const entry of since.newlyPositive) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"><td>[^<]*</td><td>[^<]*\\b${entry.penId}\\b`));
+      for (const entry of since.newlyPositive) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}" data-since-assay="${entry.assayId}"><td>[^<]*</td><td>[^<]*</td><td>[^<]*\\b${entry.penId}\\b`));
+      for (const entry of since.cleared) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}" data-since-assay="${entry.assayId}">(<td>[^<]*</td>){3}<td>[^<]*\\b${entry.penId}\\b`));
       for (const entry of since.missing) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"[^]*?${entry.penId ?? entry.sampleId}`));
-      const changed = new Set([...since.newlyPositive, ...since.cleared, ...since.missing, ...since.invalid].map((entry) => entry.barnId));
-      expect((html.match(/data-since="/g) ?? []).length).toBe(changed.size);
+      // One row per barn and assay with a change, or one row for a barn with missing ropes only.
+      const keys = new Set([...since.newlyPositive, ...since.cleared, ...since.invalid].map((entry) => `${entry.barnId}/${entry.assayId}`));
+      const onlyMissing = new Set(since.missing.map((entry) => entry.barnId).filter((barnId) => ![...keys].some((key) => key.startsWith(`${barnId}/`))));
+      expect((html.match(/data-since="/g) ?? []).length).toBe(keys.size + onlyMissing.size);
     }
   });
 
@@ -84,7 +88,7 @@ describe('the since-last-round table', () => {
     const layoutBarn = analysis.site.barns.find((entry) => entry.id === barn.barnId)!;
     const svg = renderBarnMap(layoutBarn, { key: 'k', scale: 30, detail: 'full', title: 't', results: marks });
     expect((svg.match(/data-result="missing"/g) ?? []).length).toBe(new Set(Object.values(barn.missingPens)).size);
-    expect(resultsLegend('k', 40)).toContain('missing: rope planned or hung, no result');
+    expect(resultsLegend('k', 40)).toMatch(/data-legend-missing=""[^]*?stroke-dasharray="3 2"[^]*?>M<\/text><\/svg>no result \(missing\)/);
   });
 });
 
@@ -121,5 +125,27 @@ describe('map labels', () => {
     // The label is centred in the margin: the margin must exceed the estimated width of "Middle".
     const x = Number(/<text class="row-label" x="([\d.]+)"[^>]*>Middle</.exec(svg)![1]);
     expect(2 * x).toBeGreaterThanOrEqual(textWidth('Middle', 12) + 10);
+  });
+});
+
+describe('alert texts', () => {
+  it('spans a cluster from its first to its last pen in layout order', () => {
+    // By hand: of the positives in layout order A3, A4, B3, B9, the cluster {B9, A3, B3} runs A3 to B9.
+    expect(penSpan(['B9', 'A3', 'B3'], ['A3', 'A4', 'B3', 'B9'])).toBe('A3\u2013B9');
+    expect(penSpan(['A4'], ['A3', 'A4'])).toBe('A4');
+  });
+
+  it('opens every alert of the demo with its action and keeps the detail for the second line', () => {
+    for (const analysis of demo.analyses) {
+      analysis.summaries.forEach((_, index) => {
+        for (const alert of roundAlerts(analysis.summaries, analysis.spatial, index)) {
+          expect(alert.message).toBe(`${alert.action}. ${alert.detail}`);
+          expect(alert.action.length, alert.action).toBeGreaterThan(0);
+          expect(alert.detail.length, alert.kind).toBeGreaterThan(0);
+          // Rendered: the action in bold first, the detail after a line break.
+          expect(alertItem(alert)).toMatch(/^<li data-alert="[a-z-]+"><strong class="action">[^<]+<\/strong><br><span class="detail">[^<]+<\/span><\/li>$/);
+        }
+      });
+    }
   });
 });

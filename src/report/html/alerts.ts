@@ -79,7 +79,8 @@ function positiveWhere(positivePens: readonly string[], report: BarnReport | und
     Object.assign(numbers, { joinCountBB: jc.bb, joinCountExpected: jc.expectedBB, joinCountP: jc.pPermutation });
   }
   const scan = report?.scan?.mostLikely ?? null;
-  if (scan && positivePens.length >= 2) {
+  // The scan statistic only where the join count could not be computed: one statistic per alert, the cluster review has both.
+  if (scan && positivePens.length >= 2 && !jc) {
     stats.push(`scan statistic: ${scan.positives} positive in ${plural(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${pText(scan.p)}`);
     Object.assign(numbers, { scanPositives: scan.positives, scanExpected: scan.expected, scanP: scan.p });
   }
@@ -141,7 +142,7 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
               ? 'had none in the previous round'
               : `${assay.id} was not tested in the previous round`;
       const exposure = antibody ? ' Antibody means exposure, not necessarily current infection: retest these pens by PCR.' : '';
-      const detail = `${tally.positive} of ${plural(tally.tested, 'tested pen')} ${assay.id} positive (${tally.positivePens.join(', ')}); ${history}${stats.length > 0 ? `; ${stats.join('; ')}` : ''}.${exposure}`;
+      const detail = `${tally.positive} of ${plural(tally.tested, 'tested pen')} ${assay.id} positive${where === '' || where.startsWith(', scattered') ? ` (${tally.positivePens.join(', ')})` : ''}; ${history}${stats.length > 0 ? `; ${stats.join('; ')}` : ''}.${exposure}`;
       alerts.push(alert(kind, assay.id, barn.barnId, action, detail, { positive: tally.positive, tested: tally.tested, previousPositive: before, ...numbers }, tally.positivePens));
     }
   }

@@ -8,7 +8,7 @@ import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { BarnSpatialReport } from '../../spatial/analyse.js';
-import { alertItem, type PageAlert } from './alerts.js';
+import type { PageAlert } from './alerts.js';
 import { renderBarnMap, type PenMark } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
@@ -433,7 +433,8 @@ export function renderClustersPage(input: ClustersPageInput): string {
       return (
         `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
         meaning +
-        (alerts.length > 0 ? `<div class="alerts"><ul>${alerts.map(alertItem).join('')}</ul></div>` : '') +
+        // What to do only: the statistics table below holds each number with its p-value.
+        (alerts.length > 0 ? `<div class="alerts"><ul>${alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong></li>`).join('')}</ul></div>` : '') +
         siteLine +
         sequencingBlock(summary, assay.assayId) +
         quietAndBusy(input, assay)

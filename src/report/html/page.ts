@@ -91,6 +91,8 @@ body.large>.cautions{margin-top:8px}
   a{color:${COLOURS.ink};text-decoration:none}
   h2{break-after:avoid;page-break-after:avoid}
   .notice,.alerts,.calm,.overdue{-webkit-print-color-adjust:exact;print-color-adjust:exact}
+  .alerts{padding:3px 10px}
+  .alerts li .detail{font-size:.9em}
   svg{-webkit-print-color-adjust:exact;print-color-adjust:exact}
   tr{break-inside:avoid;page-break-inside:avoid}
   table{font-size:8.5pt;max-width:100%}
@@ -252,7 +254,7 @@ function legendSymbols(key: string): string {
     `<span class="item">${swatch(LOAD_RAMP[1]!.fill, '#4b5563', 1.2, '?')}suspect</span>` +
     `<span class="item">${swatch(LOAD_RAMP[0]!.fill, '#4b5563', 1.2, '\u2212')}negative</span>` +
     `<span class="item">${swatch(LOAD_RAMP[0]!.fill, '#4b5563', 1.2, '\u00d7')}invalid (retest)</span>` +
-    `<span class="item" data-legend-missing=""><svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><rect x="1.5" y="1.5" width="17" height="17" fill="#ffffff" stroke="#4b5563" stroke-width="1.2" stroke-dasharray="3 2"/><text x="10" y="10.5" text-anchor="middle" dominant-baseline="central" font-size="13" font-weight="700" fill="${COLOURS.ink}">M</text></svg>missing: rope planned or hung, no result</span>` +
+    `<span class="item" data-legend-missing=""><svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><rect x="1.5" y="1.5" width="17" height="17" fill="#ffffff" stroke="#4b5563" stroke-width="1.2" stroke-dasharray="3 2"/><text x="10" y="10.5" text-anchor="middle" dominant-baseline="central" font-size="13" font-weight="700" fill="${COLOURS.ink}">M</text></svg>no result (missing)</span>` +
     `<span class="item">${swatch('#ffffff', COLOURS.penStroke, 0.8)}no rope</span>` +
     `<span class="item">${hatch(`${key}-lg-e`, false)}empty</span>` +
     `<span class="item">${hatch(`${key}-lg-o`, true)}out of use</span>` +

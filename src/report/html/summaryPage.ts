@@ -27,29 +27,36 @@ export interface SummaryPageInput {
 }
 
 /**
- * The pens that changed since the last round, one row per barn with a change: newly positive,
- * cleared (positive then, negative now), ropes without a result, invalid results. The assay is
- * named beside each pen when the round has more than one.
+ * The pens that changed since the last round, one row per barn and assay with a change: newly
+ * positive, cleared (positive then, negative now), ropes without a result (the barn's, for every
+ * assay), invalid results.
  */
 export function sinceBlock(summary: RoundSummary, since: SinceLastRound): string {
-  const several = summary.assays.length > 1;
-  const pens = (list: readonly { penId: string | null; assayId?: string; sampleId: string }[]) =>
-    list.length === 0
-      ? '<span class="muted">none</span>'
-      : escapeHtml(list.map((entry) => `${entry.penId ?? entry.sampleId}${several && entry.assayId !== undefined ? ` (${entry.assayId})` : ''}`).join(', '));
+  const pens = (list: readonly { penId: string | null; sampleId: string }[]) => (list.length === 0 ? '<span class="muted">none</span>' : escapeHtml(list.map((entry) => entry.penId ?? entry.sampleId).join(', ')));
+  // One row per barn and assay with a change; missing ropes (no result for any assay) on the barn's first row.
   const rows = summary.barns
-    .map((barn) => {
-      const of = <T extends { barnId: string }>(list: readonly T[]) => list.filter((entry) => entry.barnId === barn.barnId);
-      const parts = [of(since.newlyPositive), of(since.cleared), of(since.missing), of(since.invalid)];
-      if (parts.every((part) => part.length === 0)) return '';
-      return `<tr data-since="${escapeHtml(barn.barnId)}"><td>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})</td>${parts.map((part) => `<td>${pens(part)}</td>`).join('')}</tr>`;
+    .flatMap((barn) => {
+      const of = <T extends { barnId: string; assayId?: string }>(list: readonly T[], assayId: string) => list.filter((entry) => entry.barnId === barn.barnId && entry.assayId === assayId);
+      const missing = since.missing.filter((entry) => entry.barnId === barn.barnId);
+      const lines = summary.assays
+        .map((assay) => ({ assayId: assay.id, parts: [of(since.newlyPositive, assay.id), of(since.cleared, assay.id), of(since.invalid, assay.id)] }))
+        .filter((line) => line.parts.some((part) => part.length > 0));
+      if (lines.length === 0 && missing.length > 0) lines.push({ assayId: '', parts: [[], [], []] });
+      return lines.map(
+        (line, index) =>
+          `<tr data-since="${escapeHtml(barn.barnId)}"${line.assayId ? ` data-since-assay="${escapeHtml(line.assayId)}"` : ''}><td>${escapeHtml(barn.name)} (${escapeHtml(barn.barnId)})</td><td>${line.assayId ? escapeHtml(line.assayId) : '<span class="muted">all</span>'}</td>` +
+          `<td>${pens(line.parts[0]!)}</td><td>${pens(line.parts[1]!)}</td><td>${index === 0 ? pens(missing) : '<span class="muted">(above)</span>'}</td><td>${pens(line.parts[2]!)}</td></tr>`,
+      );
     })
     .join('');
-  const against = since.previous === null ? 'This is the first round on the site: no pen is newly positive or cleared.' : `Against round ${since.previous.number}.`;
-  if (rows === '') return `<h2>Since last round</h2><p data-since-none="">${against} No pen changed, and no rope is missing or invalid.</p>`;
+  const heading = since.previous === null ? 'Since last round' : `Since round ${since.previous.number}`;
+  if (rows === '') {
+    const first = since.previous === null ? 'The first round on the site: nothing to compare. ' : '';
+    return `<h2>${heading}</h2><p data-since-none="">${first}No pen newly positive or cleared, no rope missing or invalid.</p>`;
+  }
   return (
-    `<h2>Since last round</h2><p>${against} Cleared: positive in the last round, negative now for the same assay (a pen not tested again is not cleared).</p>` +
-    `<table data-since-table=""><thead><tr><th>Barn</th><th>Newly positive</th><th>Cleared</th><th>Missing ropes</th><th>Invalid</th></tr></thead><tbody>${rows}</tbody></table>`
+    `<h2>${heading}</h2>` +
+    `<table data-since-table=""><thead><tr><th>Barn</th><th>Assay</th><th>Newly positive</th><th>Cleared (now negative)</th><th>Missing ropes</th><th>Invalid</th></tr></thead><tbody>${rows}</tbody></table>`
   );
 }
 
@@ -381,9 +388,9 @@ export function againstTarget(
   const lost = notBack + tally.invalid;
   if (lost > 0) {
     const what = [notBack > 0 ? `${count(notBack, 'rope')} without a result` : '', tally.invalid > 0 ? `${tally.invalid} invalid` : ''].filter((text) => text !== '').join(', ');
-    return { state: 'lost', text: `below target because ropes were lost (${what}): ${reach}` };
+    return { state: 'lost', text: `ropes lost (${what}): ${reach}` };
   }
-  return { state: 'as-sized', text: `below target as the round was sized (every rope hung came back valid): ${reach}` };
+  return { state: 'as-sized', text: `as sized: ${reach}` };
 }
 
 function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): string {
@@ -472,7 +479,7 @@ export function renderSummaryPage(input: SummaryPageInput): string {
     replacedBlock(summary) +
     stateBlock(summary) +
     `<h2>Site</h2><p class="explain">${confidenceSentence(summary.program.designPrevalence, summary.program.targetConfidence)}</p>${siteTable(summary)}` +
-    `<h2>Barns</h2><p class="explain" data-target-key="">Detection confidence: <span class="met">&nbsp;target met&nbsp;</span>; <span class="below">&nbsp;below target because ropes were missing or invalid&nbsp;</span> (act on it: find the ropes, retest); unshaded: below target as the round was sized (the plan page says why).</p>` +
+    `<h2>Barns <small data-target-key="" style="font-weight:400">\u2014 detection <span class="below">&nbsp;shaded&nbsp;</span>: below target, ropes missing or invalid; unshaded: as sized</small></h2>` +
     `${summary.barns.map((barn) => barnBlock(summary, barn)).join('')}` +
     sourcesBlock(summary);
   return renderPage({
