@@ -84,7 +84,7 @@ function numbersOf(alert: PageAlert, summary: RoundSummary, spatial: RoundSpatia
   if (siteAssay !== undefined) {
     Object.assign(numbers, { siteDetectionConfidence: siteAssay.site.detectionConfidence, priorFreedom: siteAssay.site.priorFreedom, freedom: siteAssay.site.freedom });
   }
-  if (alert.kind === 'significant-cluster' && alert.barnId !== null) {
+  if ((alert.kind === 'significant-cluster' || alert.kind === 'positive-again') && alert.barnId !== null) {
     const report = spatial?.assays.find((assay) => assay.assayId === alert.assayId)?.report.barns.find((entry) => entry.barn === alert.barnId);
     const jc = report?.joinCount ?? null;
     if (jc !== null) Object.assign(numbers, { joinsPositivePositive: jc.bb, joinsExpected: jc.expectedBB, joinCountP: jc.pPermutation });
@@ -124,7 +124,8 @@ export function siteAlertRecords(source: AlertSource): AlertRecord[] {
         barn: alert.barnId,
         kind: alert.kind,
         message: alert.message,
-        numbers: numbersOf(alert, summary, source.spatial[index], plan),
+        // The page's alert carries the numbers its words quote; the round's context is added around them.
+        numbers: { ...numbersOf(alert, summary, source.spatial[index], plan), ...alert.numbers },
       });
     }
   });

@@ -256,8 +256,9 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const pcrAssays = candidates.filter((assayId) => measureOf(assayId) === 'ct');
   const assays = pcrAssays.length > 0 ? pcrAssays : candidates;
   const models = barnModels(input, assays);
-  // Barns positive after the last round are monitored, not sized for detection.
-  const monitored = monitoredBarns(input.confidence.at(-1), rounds, assays);
+  // Barns positive after the last round with results are monitored, not sized for detection (a
+  // round still awaiting its results says nothing about them yet).
+  const monitored = monitoredBarns(basisIndex < 0 ? undefined : input.confidence[basisIndex], rounds.slice(0, basisIndex + 1), assays);
   const notes: string[] = [];
   const sizingNotes: string[] = [];
   const target = program.targetConfidence;

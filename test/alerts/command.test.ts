@@ -53,7 +53,7 @@ describe('alerts given to a command', () => {
     expect(report).toMatchObject({ failed: 0, waiting: 0 });
     const lines = received(ws);
     expect(lines).toHaveLength(report.recorded);
-    expect(lines.find((line) => line.kind === 'first-positive')).toMatchObject({ key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/-', site: 'hollow-creek', round: 1, assay: 'PRRSV', numbers: { positive: 1 } });
+    expect(lines.find((line) => line.kind === 'first-positive')).toMatchObject({ key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1', site: 'hollow-creek', round: 1, assay: 'PRRSV', numbers: { positive: 1 } });
     // What the command reads is what the feed holds.
     const feed = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8').split('\n').filter((line) => line !== '').map((line) => JSON.parse(line));
     expect(lines).toEqual(feed);

@@ -89,9 +89,9 @@ describe('alerts by e-mail', () => {
     // RFC 5321 3.3: the envelope carries the sender and each recipient's address (display names dropped).
     expect(mail.received[0]).toMatchObject({ from: 'ropewatch@clinic.example', to: ['vet@clinic.example', 'office@farm.example'] });
     const subjects = mail.received.map((message) => subjectOf(message.data));
-    expect(subjects).toContain('ropewatch alert: Hollow Creek Finisher, round 1: first-positive (PRRSV)');
+    expect(subjects).toContain('ropewatch alert: Hollow Creek Finisher, round 1: first-positive (PRRSV), barn F1');
     const firstPositive = mail.received.find((message) => subjectOf(message.data)?.includes('first-positive'))!;
-    expect(firstPositive.data).toContain('Alert key: hollow-creek/r01-2026-08-03/PRRSV/first-positive/-');
+    expect(firstPositive.data).toContain('Alert key: hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1');
     expect(firstPositive.data).toContain('positive: 1');
     const again = await deliverAlerts(ws.ws(), { env: {} });
     expect(again).toMatchObject({ recorded: 0, delivered: 0 });

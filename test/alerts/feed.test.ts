@@ -35,10 +35,10 @@ describe('alert feed', () => {
     const kinds = feed.map((line) => `${line.kind}/${line.assay ?? '-'}/${line.barn ?? '-'}`);
     // By hand: Ct 28.4 < 36 is the site's first PRRSV positive; 37.1 in [36, 40) is suspect;
     // HC-0803-F3-01 has no result.
-    expect(kinds).toEqual(expect.arrayContaining(['first-positive/PRRSV/-', 'suspect/PRRSV/F1', 'missing-ropes/-/F3']));
+    expect(kinds).toEqual(expect.arrayContaining(['first-positive/PRRSV/F1', 'suspect/PRRSV/F1', 'missing-ropes/-/F3']));
     const first = feed.find((line) => line.kind === 'first-positive')!;
     expect(first).toMatchObject({
-      key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/-',
+      key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1',
       site: 'hollow-creek',
       round: 1,
       roundId: 'r01-2026-08-03',
@@ -47,9 +47,9 @@ describe('alert feed', () => {
     });
     expect(first.message).toEqual(expect.any(String));
     // By hand: three results in F1, one positive; F3's rope never came back.
-    expect(first.numbers).toMatchObject({ tested: 3, positive: 1, positiveBarns: 1 });
-    // A positive round resets freedom to 0 (Martin, Cameron & Greiner 2007: the posterior after a positive is 0).
-    expect(first.numbers.freedom).toBe(0);
+    expect(first.numbers).toMatchObject({ tested: 3, positive: 1 });
+    // A site positive for a PCR assay is not free: it has a status, not a probability of freedom.
+    expect(first.numbers.freedom).toBeNull();
     expect(feed.find((line) => line.kind === 'missing-ropes')!.numbers).toMatchObject({ ropesHung: 1, ropesReturned: 0, missingRopes: 1 });
     expect(new Set(feed.map((line) => line.key)).size).toBe(feed.length);
   });

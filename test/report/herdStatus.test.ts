@@ -26,7 +26,7 @@ describe('herd status', () => {
       // The note is text from the configuration: escaped (HTML Living Standard, 13.1.2.6 text).
       expect(block).toContain('Two clean rounds &lt;before&gt;.');
       // By hand: 3 PRRSV ropes tested in F1, 1 positive; the round's positive resets freedom to 0.
-      expect(block).toMatch(/PRRSV[^:]*: 1 positive of 3 tested ropes \(barn F1\); detection confidence [\d.]+%, probability of freedom 0\.0%\./);
+      expect(block).toMatch(/PRRSV[^:]*: 1 positive of 3 tested ropes \(barn F1\); detection confidence [\d.]+%, positive since round 1\./);
       // Shown under the heading, before the page's body.
       expect(html.indexOf('data-herd-status')).toBeLessThan(html.indexOf('<main>'));
     }

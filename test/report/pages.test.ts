@@ -138,7 +138,7 @@ describe('roundAlerts on the demo scenario', () => {
     const f1 = roundAlerts(analysis.summaries, analysis.spatial, index).find((alert) => alert.kind === 'positive-again')!;
     const tally = analysis.summaries[index]!.barns.find((barn) => barn.barnId === 'F1')!.assays.find((assay) => assay.assayId === 'PRRSV')!;
     // The action names the barn, the count and the place; the statistic and its p-value follow on the detail line.
-    expect(f1.action).toMatch(new RegExp(`^Positive .+ in Finisher 1 again: ${tally.positive} pens(, clustered around \\w+\u2013\\w+)?; tell the herd veterinarian today`));
+    expect(f1.action).toMatch(new RegExp(`^Positive .+ in Finisher 1 again: ${tally.positive} pens, (clustered around \\w+\u2013\\w+|scattered through the barn); tell the herd veterinarian today`));
     expect(f1.numbers.positive).toBe(tally.positive);
   });
 

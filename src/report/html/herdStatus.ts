@@ -20,7 +20,9 @@ export function numbersSay(summary: RoundSummary): string[] {
         ? `${positive} positive of ${tested} tested rope${tested === 1 ? '' : 's'} (barn${barns.length === 1 ? '' : 's'} ${barns.join(', ')})`
         : `no positive in ${tested} tested rope${tested === 1 ? '' : 's'}`;
     const freedom = assay.measure === 'sp-ratio' ? 'probability of freedom from exposure' : 'probability of freedom';
-    return `${assay.name}: ${found}; detection confidence ${pct(assay.site.detectionConfidence)}, ${freedom} ${pct(assay.site.freedom)}.`;
+    // A site positive for a PCR assay is not free: its status, not a probability, is what the numbers say.
+    const standing = assay.site.status?.state === 'positive' ? `positive since round ${assay.site.status.sinceRound}` : `${freedom} ${pct(assay.site.freedom)}`;
+    return `${assay.name}: ${found}; detection confidence ${pct(assay.site.detectionConfidence)}, ${standing}.`;
   });
 }
 
