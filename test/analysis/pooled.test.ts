@@ -9,6 +9,7 @@ import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
 import { parseSampleId } from '../../src/plan/sampleId.js';
+import { renderRopeSheetPage } from '../../src/report/html/ropeSheetPage.js';
 import { formatPercent } from '../../src/util/format.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { smallConfig } from './fixtures.js';
@@ -141,6 +142,9 @@ describe('pooled ropes in a round', () => {
       expect(parseSampleId(poolId)).toMatchObject({ ok: true, siteCode: 'TST', round: 1 });
       expect(ropeIds.has(poolId)).toBe(false);
     }
+    // The printed sheet tells the producer which pool each tube goes into, under its sample ID.
+    const html = renderRopeSheetPage({ site, plan, notices: [] });
+    for (const row of routine) expect(html).toMatch(new RegExp(`data-rope="${row.sampleId}"[^]*?into pool <strong>${row.poolId}</strong>`));
   });
 
   it('leaves a round without pools as before: no pool fields in its tallies, results or confidence', () => {

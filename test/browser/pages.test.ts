@@ -140,7 +140,7 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
     }
   }, 60_000);
 
-  it('prints the latest cluster review of every site on at most two A4 sheets and its round summary on at most three, and none of them or the rope sheet wider than the sheet', async () => {
+  it('prints the latest round summary and cluster review of every site on at most three A4 sheets, and none of them or the rope sheet wider than the sheet', async () => {
     const latest = demo.analyses.flatMap((site) => {
       const round = site.summaries.at(-1)!.round.id;
       return [`${site.site.id}/${round}/summary.html`, `${site.site.id}/${round}/clusters.html`, `${site.site.id}/next-round.html`];
@@ -156,9 +156,9 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
       const pdf = await page.pdf({ format: 'A4', printBackground: true });
       const pagesInPdf = (pdf.toString('latin1').match(/\/Type\s*\/Page[^s]/g) ?? []).length;
       // The rope sheet gives each barn a page of its own (test/browser/ropeSheetPrint.test.ts).
-      // A round summary lists every pen with a finding: the demo's last round has a monitored barn
-      // with 13 positive pens re-roped, one line each, so it may take a third sheet.
-      if (!relative.endsWith('next-round.html')) expect(pagesInPdf, `${relative} A4 pages`).toBeLessThanOrEqual(relative.endsWith('summary.html') ? 3 : 2);
+      // The demo's last round has a monitored barn with 13 positive pens re-roped: the summary lists
+      // each on a line and the review draws a Ct trend for each, so either may take a third sheet.
+      if (!relative.endsWith('next-round.html')) expect(pagesInPdf, `${relative} A4 pages`).toBeLessThanOrEqual(3);
       await page.close();
     }
   }, 60_000);

@@ -37,7 +37,9 @@ describe('the rope list of a positive barn', () => {
 
   it('says why on the sheet and in its legend, and counts no detection for the positive barn', () => {
     const html = renderRopeSheetPage({ site, plan, notices: [] });
-    expect(html).toContain('re-rope (positive pen: Ct series)');
+    // The checklist says the reason in one word; the legend says what it means.
+    expect(html).toMatch(/<td>re-rope<\/td>/);
+    expect(html).toContain('re-rope (positive pen: its Ct series goes on)');
     expect(html).toContain('tracking rope (same pens every round)');
     expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. (If they all come back negative on time, each barn has at least |Every barn is positive and monitored).* The positive barns are monitored and not counted in these figures\.$/);
   });

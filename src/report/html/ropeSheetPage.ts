@@ -25,14 +25,6 @@ export interface RopeSheetInput {
 
 export const SHEET_SCALE = 46;
 
-const REASON_WORD: Readonly<Record<PlannedMark['reason'], string>> = {
-  routine: 'routine',
-  'follow-up': 'follow-up (next to a positive)',
-  retest: 'retest',
-  're-rope': 're-rope (positive pen: Ct series)',
-  tracking: 'tracking (fixed set: spread, clearance)',
-};
-
 /** Bar height of the checklist barcodes: a scanner needs a few millimetres; the line stays short (common practice, no source). */
 const CHECKLIST_BARCODE_MM = 6;
 
@@ -100,8 +92,8 @@ export function sizingLine(plan: NextRoundPlan): string {
 }
 
 /** The checklist's column heads; the barn row above them repeats on every printed page. */
-const columns = (pooled: boolean) =>
-  `<th class="num">#</th><th>Pen</th><th>Side</th><th>Sample ID</th><th>Why</th>${pooled ? '<th>Pool</th>' : ''}<th class="write">Date hung</th><th class="write initials">Initials</th><th class="write notes">Notes: hung elsewhere (pen) / pen empty</th>`;
+// A pooled rope's pool is written under its sample ID (a column of its own would not fit the printed width).
+const COLUMNS = '<th class="num">#</th><th>Pen</th><th>Side</th><th>Sample ID</th><th>Why</th><th class="write">Date hung</th><th class="write initials">Initials</th><th class="write notes">Notes: hung elsewhere (pen) / pen empty</th>';
 
 /**
  * Renders the rope sheet (next-round.html). Checklist lines keep the plan's order, which is
@@ -110,8 +102,6 @@ const columns = (pooled: boolean) =>
 export function renderRopeSheetPage(input: RopeSheetInput): string {
   const { plan, site } = input;
   const order = new Map(plan.ropes.map((rope, index) => [`${rope.barnId}/${rope.penId}`, index + 1]));
-  // Pooled ropes: the pool each tube goes into, in a column of its own (only when the plan pools).
-  const pooled = plan.ropes.some((rope) => rope.poolId !== undefined);
   const due = plan.overdue
     ? `<div class="overdue" data-overdue="">Overdue: this round was due on ${escapeHtml(plan.dueDate)} (${count(plan.daysOverdue, 'day')} ago). Hang the ropes as soon as possible.</div>`
     : `<p class="due">Hang these ropes by ${escapeHtml(plan.dueDate)}.</p>`;
@@ -136,14 +126,14 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
           const id = escapeHtml(rope.sampleId);
           return (
             `<tr data-rope="${id}"><td class="num">${line}</td><td><strong>${escapeHtml(rope.penId)}</strong></td><td>${escapeHtml(rope.side)}</td>` +
-            `<td class="sample"><strong>${id}</strong>${code128Svg(rope.sampleId, { heightMm: CHECKLIST_BARCODE_MM })}</td><td>${escapeHtml(REASON_WORD[rope.reason])}</td>${pooled ? `<td data-pool="">${escapeHtml(rope.poolId ?? '')}</td>` : ''}` +
+            `<td class="sample"><strong>${id}</strong>${code128Svg(rope.sampleId, { heightMm: CHECKLIST_BARCODE_MM })}${rope.poolId === undefined ? '' : `<br><span data-pool="">into pool <strong>${escapeHtml(rope.poolId)}</strong></span>`}</td><td>${escapeHtml(rope.reason)}</td>` +
             `<td class="write"></td><td class="write initials"></td><td class="write notes"></td></tr>`
           );
         })
         .join('');
       const table =
-        `<table class="checklist" data-checklist="${escapeHtml(barn.id)}"><thead><tr class="barn-row"><th colspan="${pooled ? 9 : 8}" data-barn-head="">${title}, ${count(ropes.length, 'rope')}: checklist</th></tr>` +
-        `<tr>${columns(pooled)}</tr></thead><tbody>${rows}</tbody></table>`;
+        `<table class="checklist" data-checklist="${escapeHtml(barn.id)}"><thead><tr class="barn-row"><th colspan="8" data-barn-head="">${title}, ${count(ropes.length, 'rope')}: checklist</th></tr>` +
+        `<tr>${COLUMNS}</tr></thead><tbody>${rows}</tbody></table>`;
       return (
         `<section class="barn sheet-barn" data-barn="${escapeHtml(barn.id)}"><div class="barn-top"><h2>${title}: ${count(ropes.length, 'rope')}</h2>` +
         `<figure>${map}</figure>${sheetLegend(`sheet-${barn.id}`, ropes.some((rope) => rope.reason === 're-rope' || rope.reason === 'tracking'))}</div>${table}</section>`
