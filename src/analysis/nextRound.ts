@@ -32,7 +32,7 @@ import { detectionFor, siteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
-import { monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
+import { budgetForSurveyed, monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
 import { formatPercent } from '../util/format.js';
 
 export const PLAN_SCHEMA = 'ropewatch.next-round/1';
@@ -191,7 +191,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const assays = pcrAssays.length > 0 ? pcrAssays : candidates;
   const models = barnModels(input, assays);
   // Barns positive after the last round are monitored, not sized for detection.
-  const monitored = monitoredBarns(input.confidence.at(-1), rounds, assays);
+  const monitored = monitoredBarns(site, input.confidence.at(-1), rounds, assays);
   const notes: string[] = [];
   const sizingNotes: string[] = [];
   const target = program.targetConfidence;
@@ -215,13 +215,14 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       ? `The site target ${formatPercent(target)} is met across ${models.length} barns when each reaches ${formatPercent(barnTarget)} (1 - (1 - C)^(1/k)): ${total} routine ropes.`
       : `Each barn is sized to reach ${formatPercent(target)} on its own: ${total} routine ropes.`,
   );
-  if (budget !== null && total > budget) {
+  const surveyBudget = budgetForSurveyed(budget, monitored);
+  if (surveyBudget !== null && total > surveyBudget) {
     const barnSizing = models.filter((model) => !monitored.has(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
-    allocation = allocateRopesBalanced(barnSizing, budget);
+    allocation = allocateRopesBalanced(barnSizing, surveyBudget);
     routine = models.map((model) => allocation!.ropes.find((entry) => entry.barnId === model.barn.id)?.ropes ?? 0);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
     sizingNotes.push(
-      `That is more than the budget of ${budget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
+      `That is more than the budget of ${surveyBudget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
         `then to the highest site detection (${formatPercent(allocation.siteDetection)}), both exactly by dynamic programming. ` +
         'Maximising site detection alone would put every rope in one barn and leave the others unwatched.',
     );

@@ -88,6 +88,7 @@ svg.map{max-width:100%;height:auto;display:block}
   .checklist td,.checklist th{padding:3px 8px}
   .checklist-pair .checklist{font-size:10.5pt}
   .trends svg.trend{width:168px;height:auto}
+  .trends.many svg.trend{width:110px}
   .checklist-pair .checklist td,.checklist-pair .checklist th{padding:2px 3px;overflow-wrap:normal}
   .box{width:16px;height:16px}
   .barn{break-inside:auto;page-break-inside:auto}
