@@ -97,7 +97,7 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         message:
           assay.measure === 'sp-ratio'
             ? `Freedom from exposure reset for ${assay.name} (antibody): it was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior. The freedom of ${pcr} is not reset: antibody means exposure, not necessarily current infection.`
-            : `Freedom reset for ${assay.name}: the probability of freedom was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior after a positive round.`,
+            : `Freedom reset for ${assay.name}: the probability of freedom was ${pct(assay.site.priorFreedom)} before this round; the site is positive${assay.site.status?.state === 'positive' ? ` since round ${assay.site.status.sinceRound}` : ''} and its freedom starts again from the prior once every positive barn has had ${summary.program.clearAfterNegativeRounds} negative round${summary.program.clearAfterNegativeRounds === 1 ? '' : 's'} in a row.`,
       });
     }
   }
