@@ -5,8 +5,9 @@
  * (a rope in most pens of a barn with eight positive pens) answers nothing. It gets the ropes of
  * src/plan/monitoring.ts instead. Pure.
  */
+import type { Site } from '../config/types.js';
 import type { SiteRound } from '../interpret/roundModel.js';
-import { pensToReRope } from '../plan/monitoring.js';
+import { monitoringBaseRopes, pensToReRope } from '../plan/monitoring.js';
 import type { RoundConfidence } from './confidence.js';
 import type { NextRoundPlan } from './nextRound.js';
 
@@ -20,10 +21,12 @@ export interface MonitoredBarn {
   negativeRoundsInARow: number;
   /** Pens to re-rope (pensToReRope). */
   reRope: string[];
+  /** Re-rope and tracking ropes, each pen once: what the barn hangs in place of routine ropes (counted in the rope budget). */
+  baseRopes: number;
 }
 
 /** The barns positive for one of `assays` after the last round, by barn id. */
-export function monitoredBarns(lastConfidence: RoundConfidence | undefined, rounds: readonly SiteRound[], assays: readonly string[]): Map<string, MonitoredBarn> {
+export function monitoredBarns(site: Site, lastConfidence: RoundConfidence | undefined, rounds: readonly SiteRound[], assays: readonly string[]): Map<string, MonitoredBarn> {
   const byBarn = new Map<string, MonitoredBarn>();
   for (const entry of lastConfidence?.barns ?? []) {
     if (!assays.includes(entry.assayId) || entry.status?.state !== 'positive') continue;
@@ -35,10 +38,21 @@ export function monitoredBarns(lastConfidence: RoundConfidence | undefined, roun
       sinceRound: Math.min(current?.sinceRound ?? status.sinceRound, status.sinceRound),
       negativeRoundsInARow: Math.min(current?.negativeRoundsInARow ?? status.negativeRoundsInARow, status.negativeRoundsInARow),
       reRope: [],
+      baseRopes: 0,
     });
   }
-  for (const barn of byBarn.values()) barn.reRope = pensToReRope(rounds, barn.barnId, barn.assays, barn.sinceRound);
+  for (const entry of byBarn.values()) {
+    entry.reRope = pensToReRope(rounds, entry.barnId, entry.assays, entry.sinceRound);
+    const barn = site.barns.find((candidate) => candidate.id === entry.barnId);
+    entry.baseRopes = barn ? monitoringBaseRopes(barn.pens, entry.reRope, site.program.trackingRopes) : 0;
+  }
   return byBarn;
+}
+
+/** What a rope budget leaves for the routine ropes of the surveyed barns: the monitored barns' re-rope and tracking ropes come out of it first. */
+export function budgetForSurveyed(budget: number | null, monitored: ReadonlyMap<string, MonitoredBarn>): number | null {
+  if (budget === null) return null;
+  return Math.max(0, budget - [...monitored.values()].reduce((sum, entry) => sum + entry.baseRopes, 0));
 }
 
 /**
@@ -59,10 +73,16 @@ export function withMonitoring(plan: NextRoundPlan, monitored: ReadonlyMap<strin
     return { ...barn, sizing: { ...barn.sizing, statement }, monitoring: entry };
   });
   const ids = [...monitored.keys()];
+  const base = [...monitored.values()].reduce((sum, entry) => sum + entry.baseRopes, 0);
+  const budgetNote =
+    plan.sizing.budget === null
+      ? []
+      : [`The re-rope and tracking ropes of the positive barn${ids.length === 1 ? '' : 's'} (${base}) come out of the rope budget of ${plan.sizing.budget}: the surveyed barns share the other ${budgetForSurveyed(plan.sizing.budget, monitored)}. Follow-up and retest ropes come on top, as in any barn.`];
   return {
     ...plan,
     barns,
     schedules: plan.schedules.filter((entry) => !monitored.has(entry.barnId)),
+    sizing: { ...plan.sizing, notes: [...plan.sizing.notes, ...budgetNote] },
     notes: [
       ...plan.notes,
       `Positive barn${ids.length === 1 ? '' : 's'} ${ids.join(', ')}: monitored, not surveyed. Positive pens are re-roped so that their Ct series go on, and a small fixed set of tracking pens (the same every round) follows spread and clearance; ` +

@@ -34,7 +34,7 @@ import { deriveSeed, seededRng } from '../util/random.js';
 import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
-import { monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
+import { budgetForSurveyed, monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
 import { formatPercent } from '../util/format.js';
 import { barnStatusOn } from '../interpret/groups.js';
 
@@ -258,7 +258,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const models = barnModels(input, assays);
   // Barns positive after the last round with results are monitored, not sized for detection (a
   // round still awaiting its results says nothing about them yet).
-  const monitored = monitoredBarns(basisIndex < 0 ? undefined : input.confidence[basisIndex], rounds.slice(0, basisIndex + 1), assays);
+  const monitored = monitoredBarns(site, basisIndex < 0 ? undefined : input.confidence[basisIndex], rounds.slice(0, basisIndex + 1), assays);
   const notes: string[] = [];
   const sizingNotes: string[] = [];
   const target = program.targetConfidence;
@@ -291,13 +291,14 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       ? `The site target ${formatPercent(target)} with ${infectedWords} is met when each barn reaches ${formatPercent(barnTarget)} (1 - (1 - C)^(1/D), D = ${infectedBarns}): ${total} routine ropes.`
       : `Each barn is sized to reach ${formatPercent(target)} on its own: ${total} routine ropes.`,
   );
-  if (budget !== null && total > budget) {
+  const surveyBudget = budgetForSurveyed(budget, monitored);
+  if (surveyBudget !== null && total > surveyBudget) {
     const barnSizing = models.filter((model) => !monitored.has(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
-    allocation = allocateRopesBalanced(barnSizing, budget);
+    allocation = allocateRopesBalanced(barnSizing, surveyBudget);
     routine = models.map((model) => allocation!.ropes.find((entry) => entry.barnId === model.barn.id)?.ropes ?? 0);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
     sizingNotes.push(
-      `That is more than the budget of ${budget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
+      `That is more than the budget of ${surveyBudget} ropes, so the budget is shared so that the least-watched barn is as well watched as possible (${formatPercent(weakest)}), ` +
         `then to the highest site detection (${formatPercent(allocation.siteDetection)}), both exactly by dynamic programming. ` +
         'Maximising site detection alone would put every rope in one barn and leave the others unwatched.',
     );

@@ -123,3 +123,14 @@ export function pensToReRope(rounds: readonly SiteRound[], barnId: string, assay
   };
   return [...pens].sort((a, b) => rank(a) - rank(b) || (a < b ? -1 : a > b ? 1 : 0));
 }
+
+/**
+ * Ropes a positive barn hangs in place of its routine ropes: the re-roped pens and the tracking
+ * set, each pen once (in-use pens only). Follow-up and retest ropes come on top, as in any barn.
+ */
+export function monitoringBaseRopes(pens: readonly Pen[], reRope: readonly string[], trackingRopes: number): number {
+  requireInteger('trackingRopes', trackingRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
+  const inUse = new Set(pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id));
+  const tracking = placeSystematic(pens, { ropes: Math.min(trackingRopes, inUse.size), roundIndex: 0 }).penIds;
+  return new Set([...reRope.filter((id) => inUse.has(id)), ...tracking]).size;
+}

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { expandLayout, penContacts } from '../../src/domain/layout.js';
 import { buildSiteRounds, type ResultInput } from '../../src/interpret/roundModel.js';
-import { pensToReRope, planMonitoredBarn } from '../../src/plan/monitoring.js';
+import { budgetForSurveyed, type MonitoredBarn } from '../../src/analysis/monitoredPlan.js';
+import { monitoringBaseRopes, pensToReRope, planMonitoredBarn } from '../../src/plan/monitoring.js';
 import { roundRopes, smallConfig } from '../analysis/fixtures.js';
 import { layout } from './helpers.js';
 
@@ -57,5 +58,16 @@ describe('pens to re-rope', () => {
     expect(pensToReRope(rounds, 'B1', ['PRRSV'], 1)).toEqual(['A2', 'A3']);
     // Counted only from the round the positive period began.
     expect(pensToReRope(rounds, 'B1', ['PRRSV'], 2)).toEqual(['A2']);
+  });
+});
+
+describe('the rope budget with a positive barn', () => {
+  it('counts re-rope and tracking ropes once per pen, and takes them out of the budget first', () => {
+    // Tracking A3, A8, A13, A18 (above) and re-rope A8, A15: 5 distinct pens (counted by hand).
+    expect(monitoringBaseRopes(pens, ['A8', 'A15'], 4)).toBe(5);
+    const monitored = new Map<string, MonitoredBarn>([['B1', { barnId: 'B1', assays: ['PRRSV'], sinceRound: 1, negativeRoundsInARow: 0, reRope: ['A8', 'A15'], baseRopes: 5 }]]);
+    expect(budgetForSurveyed(45, monitored)).toBe(40);
+    expect(budgetForSurveyed(3, monitored)).toBe(0);
+    expect(budgetForSurveyed(null, monitored)).toBeNull();
   });
 });

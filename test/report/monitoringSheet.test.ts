@@ -9,6 +9,8 @@ import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderRopeSheetPage, sizingLine } from '../../src/report/html/ropeSheetPage.js';
 import { nextRoundCsv } from '../../src/report/nextRoundFiles.js';
 import { roundRopes, smallConfig } from '../analysis/fixtures.js';
@@ -49,5 +51,19 @@ describe('the rope list of a positive barn', () => {
     const html = renderRopeSheetPage({ site: negative.site, plan: negative.plan, notices: [] });
     expect(html).not.toContain('tracking rope');
     expect(sizingLine(negative.plan)).toMatch(/retest\. If they all come back negative on time, each barn has at least /);
+  });
+});
+
+describe('the freedom-reset alert of a positive round', () => {
+  it('says the site is positive and when its freedom starts again (the program rule, 2 negative rounds)', () => {
+    const config = smallConfig();
+    const site = config.sites[0]!;
+    const { ropes, results } = roundRopes('2026-08-03', 18, 'R1', [4]);
+    const rounds = buildSiteRounds(site, ropes, results);
+    const confidence = siteConfidence(site, rounds);
+    const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
+    const alert = roundAlerts(summariseSite(config, site, rounds, confidence), spatial, 0).find((entry) => entry.kind === 'freedom-reset')!;
+    expect(alert.action).toContain('the site is positive since round 1');
+    expect(alert.detail).toMatch(/it starts again from the prior [\d.]+% once every positive barn has had 2 negative rounds in a row\.$/);
   });
 });

@@ -185,8 +185,8 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
           'freedom-reset',
           assay.id,
           null,
-          `Freedom from ${assay.name} is lost with this round: negative rounds build it up again once the herd veterinarian judges the outbreak over`,
-          `The probability of freedom was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior ${pct(summary.program.priorFreedom)} after a positive round.`,
+          `Freedom from ${assay.name} is lost with this round: the site is positive${assay.site.status?.state === 'positive' ? ` since round ${assay.site.status.sinceRound}` : ''}`,
+          `The probability of freedom was ${pct(assay.site.priorFreedom)} before this round; it starts again from the prior ${pct(summary.program.priorFreedom)} once every positive barn has had ${summary.program.clearAfterNegativeRounds} negative round${summary.program.clearAfterNegativeRounds === 1 ? '' : 's'} in a row.`,
           numbers,
         ),
       );

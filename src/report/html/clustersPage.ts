@@ -16,6 +16,9 @@ import { escapeHtml } from './escape.js';
 import { count, legendShades, num, pct, pValue, renderPage, resultsLegend, spLegendShades, spResultsLegend, type LegendLimit, type SpLegendCutoff } from './page.js';
 import { spStep } from './palette.js';
 
+/** Trend charts above which they print smaller, six to a row: a positive barn whose pens are re-roped every round keeps one series per pen. */
+const MANY_TRENDS = 8;
+
 export interface ClustersPageInput {
   site: Site;
   /** The site's herd-status block (html/herdStatus.ts), when it has one. */
@@ -341,7 +344,7 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
     (clusterList ? `<ul>${clusterList}</ul>` : '') +
     (report ? statsTable(report, assay.detection.find((entry) => entry.barnId === barn.id), input.alpha, antibody) : '<p>No spatial statistics for this barn.</p>') +
     (trends
-      ? `${antibody ? spTrendLegend('<strong>S/P trend per antibody-positive pen:</strong>', cutoffText) : trendLegend('<strong>Ct trend per positive pen:</strong>', cutoffText)}<div class="trends">${trends}</div>`
+      ? `${antibody ? spTrendLegend('<strong>S/P trend per antibody-positive pen:</strong>', cutoffText) : trendLegend('<strong>Ct trend per positive pen:</strong>', cutoffText)}<div class="trends${positivePens.length > MANY_TRENDS ? ' many' : ''}">${trends}</div>`
       : '') +
     `</section>`
   );

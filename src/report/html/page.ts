@@ -101,6 +101,7 @@ body.large>.cautions{margin-top:8px}
   .checklist td,.checklist th{padding:3px 8px}
   .checklist-pair .checklist{font-size:10.5pt}
   .trends svg.trend{width:168px;height:auto}
+  .trends.many svg.trend{width:110px}
   .checklist-pair .checklist td,.checklist-pair .checklist th{padding:2px 3px;overflow-wrap:normal}
   .box{width:16px;height:16px}
   .barn{break-inside:auto;page-break-inside:auto}
