@@ -8,13 +8,13 @@
  * outputs) rebuilds them.
  */
 import path from 'node:path';
-import { siteConfidence, type RoundConfidence } from './analysis/confidence.js';
-import { planNextRound, type NextRoundPlan } from './analysis/nextRound.js';
-import { summariseSite, type RoundSummary } from './analysis/roundSummary.js';
-import { OutbreakCache, siteSpatial, type RoundSpatial } from './analysis/spatialRound.js';
+import { siteConfidence } from './analysis/confidence.js';
+import { planNextRound } from './analysis/nextRound.js';
+import { summariseSite } from './analysis/roundSummary.js';
+import { OutbreakCache, siteSpatial } from './analysis/spatialRound.js';
 import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
 import type { Site } from './config/types.js';
-import { buildSiteRounds, type SiteRound } from './interpret/roundModel.js';
+import { buildSiteRounds } from './interpret/roundModel.js';
 import { clockDay } from './interpret/rounds.js';
 import { clustersCsv } from './report/clustersCsv.js';
 import { removeStaleFolders, removeStrayTemps, StagedOutputs, type OutputWriter } from './report/files.js';
@@ -23,15 +23,9 @@ import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
 import type { StoredResult } from './store/store.js';
 import type { Workspace } from './workspace.js';
+import type { SiteAnalysis } from './analysis/siteAnalysis.js';
 
-export interface SiteAnalysis {
-  site: Site;
-  rounds: SiteRound[];
-  confidence: RoundConfidence[];
-  summaries: RoundSummary[];
-  spatial: RoundSpatial[];
-  plan: NextRoundPlan;
-}
+export type { SiteAnalysis } from './analysis/siteAnalysis.js';
 
 const ROUND_FOLDER = /^r\d{2,}-\d{4}-\d{2}-\d{2}$/;
 

@@ -9,21 +9,8 @@ import type { Site } from '../config/types.js';
 import type { SiteRound } from '../interpret/roundModel.js';
 import { monitoringBaseRopes, pensToReRope } from '../plan/monitoring.js';
 import type { RoundConfidence } from './confidence.js';
-import type { NextRoundPlan } from './nextRound.js';
+import type { MonitoredBarn, NextRoundPlan } from './planTypes.js';
 
-export interface MonitoredBarn {
-  barnId: string;
-  /** PCR assays the barn is positive for. */
-  assays: string[];
-  /** The earliest round of the current positive period over those assays. */
-  sinceRound: number;
-  /** Negative rounds in a row so far (the fewest over those assays). */
-  negativeRoundsInARow: number;
-  /** Pens to re-rope (pensToReRope). */
-  reRope: string[];
-  /** Re-rope and tracking ropes, each pen once: what the barn hangs in place of routine ropes (counted in the rope budget). */
-  baseRopes: number;
-}
 
 /** The barns positive for one of `assays` after the last round, by barn id. */
 export function monitoredBarns(site: Site, lastConfidence: RoundConfidence | undefined, rounds: readonly SiteRound[], assays: readonly string[]): Map<string, MonitoredBarn> {

@@ -34,79 +34,15 @@ import { deriveSeed, seededRng } from '../util/random.js';
 import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
-import { budgetForSurveyed, monitoredBarns, withMonitoring, type MonitoredBarn } from './monitoredPlan.js';
+import { budgetForSurveyed, monitoredBarns, withMonitoring } from './monitoredPlan.js';
+import { PLAN_SCHEMA, type BarnSizingReport, type MonitoredBarn, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
+
+export { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
 import { formatPercent } from '../util/format.js';
 import { barnStatusOn } from '../interpret/groups.js';
 
-export const PLAN_SCHEMA = 'ropewatch.next-round/1';
 /** Doubling time of infected pens in the growing-infection comparison: a modelling assumption. */
 export const GROWTH_DOUBLING_DAYS = 7;
-
-export interface BarnSizingReport {
-  barnId: string;
-  assayId: string;
-  pensInUse: number;
-  designInfected: number;
-  sensitivity: number;
-  /** Which detection model sized the routine ropes. */
-  model: 'spread model (fixed spatial sampling under contagious spread)' | 'hypergeometric (random placement)';
-  routineRopes: number;
-  /** Ropes the hypergeometric model asks for; null when no single round reaches the target. */
-  hypergeometricRopes: number | null;
-  /** Ropes the spread model asks for (estimate less two standard errors); null unless it sizes the plan, or when it cannot reach the target. */
-  spreadModelRopes: number | null;
-  reachable: boolean;
-  /** When one round cannot reach the target: the best one round can do, and the rounds that would. */
-  ceiling: number | null;
-  roundsNeeded: number | null;
-  statement: string;
-  /** Detection confidence of the planned routine ropes by the model that sized them. */
-  plannedDetection: number;
-  /** Detection confidence of the planned routine ropes, by both models. */
-  plannedHypergeometric: number;
-  plannedSpreadModel: number | null;
-  /** The spread model behind `plannedSpreadModel`: its Monte Carlo standard error, outbreaks simulated, their seed and assumptions. */
-  spreadModel: { standardError: number; realisations: number; seed: number; transmission: number; background: number } | null;
-}
-
-export interface NextRoundPlan {
-  schema: typeof PLAN_SCHEMA;
-  site: { id: string; name: string; code: string };
-  basedOn: { round: number; id: string; startOn: string } | null;
-  round: number;
-  dueDate: string;
-  overdue: boolean;
-  daysOverdue: number;
-  daysUntilDue: number;
-  /** `poolId`: the pool the rope goes into (program `pooling`), absent for a rope tested on its own. */
-  ropes: PooledPlanRow[];
-  /** `monitoring`: the barn is positive and monitored instead of surveyed (src/analysis/monitoredPlan.ts). */
-  barns: (BarnPlanSummary & { sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
-  sizing: {
-    /** The detection model that sized the routine ropes (analysis.sizingModel). */
-    sizingModel: 'hypergeometric' | 'spatial';
-    sizeFor: 'barn' | 'site';
-    /** D: barns assumed infected at the site's design value (all of them unless barnDesignPrevalence says fewer). */
-    infectedBarns: number;
-    /** What the routine ropes prove if they come back negative on time, in one sentence, by the model that sized them. */
-    ifNegative: string;
-    target: number;
-    budget: number | null;
-    allocation: Allocation | null;
-    notes: string[];
-  };
-  /** Site detection of the routine ropes if the round comes back negative, with `sizing.infectedBarns` of the barns infected (two-stage). */
-  siteDetectionIfNegative: number;
-  freedom: (OnTimeVersusMissed & { assayId: string; currentFreedom: number }) | null;
-  schedules: {
-    barnId: string;
-    static: ScheduleOption[];
-    growing: (ScheduleOption & { simulated: SimulatedDelay })[];
-    notes: string[];
-  }[];
-  seed: number;
-  notes: string[];
-}
 
 export interface PlanInput {
   site: Site;
@@ -189,8 +125,6 @@ function keepEarlierIds(rows: readonly PlanRow[], site: Site, round: number, exi
   });
 }
 
-/** A planned rope, with the pool it is tested in when the program pools ropes. */
-export type PooledPlanRow = PlanRow & { poolId?: string };
 
 /**
  * Puts each barn's routine ropes, in walking order, into pools of `poolSize` (the last pool of a

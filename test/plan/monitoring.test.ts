@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { expandLayout, penContacts } from '../../src/domain/layout.js';
 import { buildSiteRounds, type ResultInput } from '../../src/interpret/roundModel.js';
-import { budgetForSurveyed, type MonitoredBarn } from '../../src/analysis/monitoredPlan.js';
+import { budgetForSurveyed } from '../../src/analysis/monitoredPlan.js';
+import type { MonitoredBarn } from '../../src/analysis/planTypes.js';
 import { monitoringBaseRopes, pensToReRope, planMonitoredBarn } from '../../src/plan/monitoring.js';
 import { roundRopes, smallConfig } from '../analysis/fixtures.js';
 import { layout } from './helpers.js';
