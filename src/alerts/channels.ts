@@ -14,9 +14,13 @@ export function oneLine(text: string): string {
   return first.length > 300 ? `${first.slice(0, 299)}\u2026` : first;
 }
 
-/** The subject of an alert's e-mail: the site, the round and what happened. */
+/**
+ * The subject of an alert's e-mail: the site, the round and what to do (a reader acts on the
+ * subject line; the statistic is in the body), or what happened for a line recorded without it.
+ */
 export function mailSubject(line: FeedLine): string {
-  return `ropewatch alert: ${line.siteName}, round ${line.round}: ${line.kind}${line.assay === null ? '' : ` (${line.assay})`}${line.barn === null ? '' : `, barn ${line.barn}`}`;
+  const what = line.action ?? `${line.kind}${line.assay === null ? '' : ` (${line.assay})`}${line.barn === null ? '' : `, barn ${line.barn}`}`;
+  return `ropewatch alert: ${line.siteName}, round ${line.round}: ${what}`;
 }
 
 /** The body of an alert's e-mail: the message, the numbers behind it, and its key. */

@@ -20,6 +20,9 @@ export interface FeedLine {
   assay: string | null;
   barn: string | null;
   kind: string;
+  /** What to do (absent in lines written before it was recorded). */
+  action?: string;
+  detail?: string;
   message: string;
   numbers: AlertRecord['numbers'];
   /** When ropewatch first saw the alert (ISO 8601, UTC). */
@@ -38,6 +41,8 @@ export function feedLine(record: AlertRecord, seenAt: string): FeedLine {
     assay: record.assay,
     barn: record.barn,
     kind: record.kind,
+    action: record.action,
+    detail: record.detail,
     message: record.message,
     numbers: record.numbers,
     seenAt,

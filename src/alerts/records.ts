@@ -38,6 +38,9 @@ export interface AlertRecord {
   assay: string | null;
   barn: string | null;
   kind: PageAlert['kind'];
+  /** What to do, in plain words; `detail` gives the statistic or the counts behind it; `message` is both. */
+  action: string;
+  detail: string;
   message: string;
   numbers: AlertNumbers;
 }
@@ -123,6 +126,8 @@ export function siteAlertRecords(source: AlertSource): AlertRecord[] {
         assay: alert.assayId,
         barn: alert.barnId,
         kind: alert.kind,
+        action: alert.action,
+        detail: alert.detail,
         message: alert.message,
         // The page's alert carries the numbers its words quote; the round's context is added around them.
         numbers: { ...numbersOf(alert, summary, source.spatial[index], plan), ...alert.numbers },

@@ -4,7 +4,9 @@
  * checked against RFC 5321 (SMTP) and RFC 5322 (message format): the envelope sender and
  * recipients, and the Subject header.
  */
+import fs from 'node:fs';
 import net from 'node:net';
+import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { SMTPServer } from 'smtp-server';
 import { deliverAlerts } from '../../src/alerts/deliver.js';
@@ -75,7 +77,26 @@ const emailSite = (port: number, extra: Record<string, unknown> = {}, timeoutSec
   });
 
 /** The Subject header, unfolded (RFC 5322 2.2.3: a long header is folded before whitespace; unfolding removes the line breaks). */
-const subjectOf = (data: string) => /^Subject: (.*)$/m.exec(data.replace(/\r?\n(?=[ \t])/g, ''))?.[1]?.trim();
+const rawSubject = (data: string) => /^Subject: (.*)$/m.exec(data.replace(/\r?\n(?=[ \t])/g, ''))?.[1]?.trim();
+
+/**
+ * Decodes RFC 2047 encoded-words (4.1 B = base64, 4.2 Q = quoted-printable with _ for space);
+ * whitespace between two adjacent encoded-words is dropped (6.2).
+ */
+function decodeWords(header: string): string {
+  return header
+    .replace(/(\?=)\s+(=\?)/g, '$1$2')
+    .replace(/=\?utf-8\?([bq])\?([^?]*)\?=/gi, (_, encoding: string, text: string) =>
+      encoding.toLowerCase() === 'b'
+        ? Buffer.from(text, 'base64').toString('utf8')
+        : Buffer.from(text.replace(/_/g, ' ').replace(/=([0-9a-f]{2})/gi, (__, hex: string) => String.fromCharCode(parseInt(hex, 16))), 'latin1').toString('utf8'),
+    );
+}
+
+const subjectOf = (data: string) => {
+  const raw = rawSubject(data);
+  return raw === undefined ? undefined : decodeWords(raw);
+};
 
 describe('alerts by e-mail', () => {
   it('sends one e-mail per alert to every recipient, and none again on the next run', async () => {
@@ -89,8 +110,12 @@ describe('alerts by e-mail', () => {
     // RFC 5321 3.3: the envelope carries the sender and each recipient's address (display names dropped).
     expect(mail.received[0]).toMatchObject({ from: 'ropewatch@clinic.example', to: ['vet@clinic.example', 'office@farm.example'] });
     const subjects = mail.received.map((message) => subjectOf(message.data));
-    expect(subjects).toContain('ropewatch alert: Hollow Creek Finisher, round 1: first-positive (PRRSV), barn F1');
-    const firstPositive = mail.received.find((message) => subjectOf(message.data)?.includes('first-positive'))!;
+    // The subject says what to do: the alert's action line, as the feed holds it.
+    const feed = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8').trim().split('\n').map((line) => JSON.parse(line) as { kind: string; action: string });
+    const action = feed.find((line) => line.kind === 'first-positive')!.action;
+    expect(action).toMatch(/^Positive PRRSV/);
+    expect(subjects).toContain(`ropewatch alert: Hollow Creek Finisher, round 1: ${action}`);
+    const firstPositive = mail.received.find((message) => subjectOf(message.data) === `ropewatch alert: Hollow Creek Finisher, round 1: ${action}`)!;
     expect(firstPositive.data).toContain('Alert key: hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1');
     expect(firstPositive.data).toContain('positive: 1');
     const again = await deliverAlerts(ws.ws(), { env: {} });
