@@ -216,8 +216,12 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       : { model, reach, hyperRopes, spreadRopes: null, ropes: hyperRopes ?? model.pensInUse, reachable: reach.reachable };
   });
 
+  // A barn run all-in/all-out that will stand empty on the due date (closed out, next group not
+  // yet placed) gets no rope, and no share of a budget: there are no pigs to find.
+  const emptyOnDue = new Set(models.filter((model) => barnStatusOn(model.barn.groups, due.dueDate).kind === 'empty').map((model) => model.barn.id));
+  const isSurveyed = (barnId: string) => !monitored.has(barnId) && !emptyOnDue.has(barnId);
   let allocation: Allocation | null = null;
-  let routine = perBarn.map((entry) => (monitored.has(entry.model.barn.id) ? 0 : entry.ropes));
+  let routine = perBarn.map((entry) => (isSurveyed(entry.model.barn.id) ? entry.ropes : 0));
   const total = routine.reduce((sum, n) => sum + n, 0);
   const infectedWords = infectedBarns === models.length ? `every one of its ${models.length} barns infected` : `${infectedBarns} of its ${models.length} barns infected (barns at random)`;
   sizingNotes.push(
@@ -227,7 +231,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   );
   const surveyBudget = budgetForSurveyed(budget, monitored);
   if (surveyBudget !== null && total > surveyBudget) {
-    const barnSizing = models.filter((model) => !monitored.has(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
+    const barnSizing = models.filter((model) => isSurveyed(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
     allocation = allocateRopesBalanced(barnSizing, surveyBudget);
     routine = models.map((model) => allocation!.ropes.find((entry) => entry.barnId === model.barn.id)?.ropes ?? 0);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
@@ -242,7 +246,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     `background ${settings.spreadBackground} per pen and step, ${settings.spreadRealisations} simulated outbreaks per barn (seed ${settings.seed})`;
   sizingNotes.push(
     spatialSizing
-      ? `Ropes are sized with the spread model (${spreadAssumptions}), by its estimate less two Monte Carlo standard errors, so the count does not depend on the seed. ` +
+      ? `Ropes are sized with the spread model (${spreadAssumptions}), by its estimate less two Monte Carlo standard errors, so that another seed seldom moves the count (near the boundary it still can: more outbreaks make that rarer). ` +
           'It holds only if infection spreads between neighbouring pens as modelled; the hypergeometric count, which holds wherever infection first lands, is shown beside it.'
       : 'Ropes are sized with the hypergeometric model (Cameron & Baldock 1998): the infected pens may be any pens of the barn, so the count holds whatever places infection first. ' +
           `Beside it, the spread model (${spreadAssumptions}) shows what fixed, evenly spaced ropes buy when infection spreads pen to pen.`,
@@ -300,11 +304,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       `Antibody positive without virus in ${antibodyRetests.join(', ')}: a retest rope each, to be tested by PCR (antibody means exposure, not necessarily current infection; no follow-up ring is drawn around it).`,
     );
   }
-  // A barn run all-in/all-out that will stand empty on the due date (closed out, next group not
-  // yet placed) gets no rope: there are no pigs to find.
-  const emptyOnDue = new Set(models.filter((model) => barnStatusOn(model.barn.groups, due.dueDate).kind === 'empty').map((model) => model.barn.id));
   for (const barnId of emptyOnDue) notes.push(`Barn ${barnId} will be empty on ${due.dueDate} (its group closed out, the next not yet placed): no rope is planned there.`);
-  routine = routine.map((ropes, index) => (emptyOnDue.has(models[index]!.barn.id) ? 0 : ropes));
   const plan = buildRoundPlan({
     siteCode: site.code,
     round: roundNumber,
@@ -420,12 +420,12 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const modelName = spatialSizing ? 'spread model' : 'hypergeometric model';
   const siteWords =
     infectedBarns === models.length ? `if every barn were infected at ${describeDesign(site)}` : infectedBarns === 1 ? 'if only one barn were infected' : `if only ${infectedBarns} of the ${models.length} barns were infected`;
-  // A monitored barn is known to be infected: the least detection is that of the surveyed barns.
-  const surveyed = barns.filter((barn) => !monitored.has(barn.barnId));
+  // A monitored barn is known to be infected and an empty one holds no pigs: the least detection is that of the surveyed barns.
+  const surveyed = barns.filter((barn) => isSurveyed(barn.barnId));
   const weakestBarn = Math.min(...surveyed.map((barn) => barn.sizing.plannedDetection));
   const ifNegative =
     surveyed.length === 0
-      ? 'Every barn is positive and monitored: the ropes follow the infection, no detection figure applies.'
+      ? 'No barn is surveyed for detection this round (every barn is positive and monitored, or empty): no detection figure applies.'
       : program.sizeFor === 'barn'
       ? `If they all come back negative on time, each barn has at least ${formatPercent(weakestBarn)} detection confidence at the design prevalence (target ${formatPercent(target)} per barn, ${modelName}); the site ${formatPercent(siteDetectionIfNegative)} ${siteWords}.`
       : `If they all come back negative on time, the site has ${formatPercent(siteDetectionIfNegative)} detection confidence ${siteWords} (target ${formatPercent(target)} for the site, ${modelName}).`;

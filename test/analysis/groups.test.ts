@@ -74,7 +74,7 @@ describe('groups of pigs in the round model and confidence', () => {
 
 describe('the next round\u2019s plan and an empty barn', () => {
   /** Plans after two rounds (3 and 17 Aug): due one interval (14 days) after the last, on 31 Aug. */
-  function planWith(groups: readonly BarnGroup[]) {
+  function planWith(groups: readonly BarnGroup[], budget?: number) {
     const site = siteWith(groups);
     const config = smallConfig();
     const parts = [round('2026-08-03', 'R1', ['B1', 'B2']), round('2026-08-17', 'R2', ['B1', 'B2'])];
@@ -82,7 +82,7 @@ describe('the next round\u2019s plan and an empty barn', () => {
     const confidence = siteConfidence(site, rounds);
     const cache = new OutbreakCache(config.analysis);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    return planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-18' });
+    return planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-18', ...(budget === undefined ? {} : { budget }) });
   }
 
   it('plans no rope in a barn that will be empty on the due date, and says so', () => {
@@ -93,6 +93,16 @@ describe('the next round\u2019s plan and an empty barn', () => {
     expect(plan.ropes.filter((rope) => rope.barnId === 'B2').length).toBeGreaterThan(0);
     expect(plan.barns.find((barn) => barn.barnId === 'B1')!.sizing.routineRopes).toBe(0);
     expect(plan.notes.join(' ')).toMatch(/Barn B1 will be empty on 2026-08-31/);
+  });
+
+  it('gives a barn that will be empty no share of the rope budget', () => {
+    const need = planWith([G1, G2]).barns.find((barn) => barn.barnId === 'B2')!.sizing.routineRopes;
+    // A budget of exactly B2's own count: the empty B1 needs none, so nothing is shared out.
+    const plan = planWith([G1, G2], need);
+    expect(plan.sizing.allocation).toBeNull();
+    expect(plan.barns.find((barn) => barn.barnId === 'B2')!.sizing.routineRopes).toBe(need);
+    // Without groups both barns are surveyed and the same budget must be shared.
+    expect(planWith([], need).sizing.allocation).not.toBeNull();
   });
 
   it('plans ropes in the barn when the next group is placed by the due date', () => {

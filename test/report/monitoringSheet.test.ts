@@ -43,7 +43,7 @@ describe('the rope list of a positive barn', () => {
     expect(html).toMatch(/<td>re-rope<\/td>/);
     expect(html).toContain('re-rope (positive pen: its Ct series goes on)');
     expect(html).toContain('tracking rope (same pens every round)');
-    expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. (If they all come back negative on time, each barn has at least |Every barn is positive and monitored).* The positive barns are monitored and not counted in these figures\.$/);
+    expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. (If they all come back negative on time, each barn has at least |No barn is surveyed for detection).* The positive barns are monitored and not counted in these figures\.$/);
   });
 
   it('keeps the sheet of a negative site as it was', () => {
