@@ -11,6 +11,7 @@ import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds } from '../../src/interpret/roundModel.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
+import { renderClustersPage } from '../../src/report/html/clustersPage.js';
 import { renderRopeSheetPage, sizingLine } from '../../src/report/html/ropeSheetPage.js';
 import { nextRoundCsv } from '../../src/report/nextRoundFiles.js';
 import { roundRopes, smallConfig } from '../analysis/fixtures.js';
@@ -65,5 +66,23 @@ describe('the freedom-reset alert of a positive round', () => {
     const alert = roundAlerts(summariseSite(config, site, rounds, confidence), spatial, 0).find((entry) => entry.kind === 'freedom-reset')!;
     expect(alert.action).toContain('the site is positive since round 1');
     expect(alert.detail).toMatch(/it starts again from the prior [\d.]+% once every positive barn has had 2 negative rounds in a row\.$/);
+  });
+});
+
+describe('the cluster review of a monitored barn', () => {
+  it('says beside the statistics that the ropes were chosen around the positives, from the round after the barn became positive', () => {
+    const config = smallConfig();
+    const site = config.sites[0]!;
+    const first = roundRopes('2026-08-03', 18, 'R1', [2, 3, 4]);
+    const second = roundRopes('2026-08-17', 18, 'R2', [3, 4]);
+    const rounds = buildSiteRounds(site, [...first.ropes, ...second.ropes], [...first.results, ...second.results.map((result) => ({ ...result, id: result.id + 100 }))]);
+    const confidence = siteConfidence(site, rounds);
+    const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
+    const summaries = summariseSite(config, site, rounds, confidence);
+    const page = (index: number) => renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: 0.05, alerts: [], notices: [] });
+    // Round 1 found the barn: its ropes were placed by the layout, so its tests stand as tests.
+    expect(page(0)).not.toContain('data-monitored');
+    // Round 2 followed a positive round: the selection of ropes is not by chance (common practice, no source).
+    expect(page(1)).toMatch(/data-monitored="">Monitored barn \(positive since round 1\)/);
   });
 });

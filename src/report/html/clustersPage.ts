@@ -218,6 +218,23 @@ function statsTable(report: BarnSpatialReport, detection: AssaySpatial['detectio
   );
 }
 
+/**
+ * A barn positive after the round before is monitored: this round's ropes went to its positive
+ * pens, around them and to a fixed tracking set, not by the layout alone. Join counts, Moran's I
+ * and the scan compare the positives with chance over the roped pens; with ropes chosen for
+ * being positive they describe the pattern but do not test it (a selection bias), so the page
+ * says so beside them.
+ */
+function monitoredNote(input: ClustersPageInput, barn: Barn, assayId: string): string {
+  const before = input.summaries[input.index - 1];
+  const status = before?.barns.find((entry) => entry.barnId === barn.id)?.assays.find((entry) => entry.assayId === assayId)?.confidence.status;
+  if (status?.state !== 'positive') return '';
+  return (
+    `<p class="explain" data-monitored="">Monitored barn (positive since round ${status.sinceRound}): this round's ropes went to the positive pens, around them and to a fixed tracking set, ` +
+    'not where the layout alone would put them. The statistics below describe the pattern of these ropes; their p-values do not test clustering against chance placement.</p>'
+  );
+}
+
 function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial): string {
   const summary = input.summaries[input.index]!;
   const assayConfig = input.assays.get(assay.assayId);
@@ -342,6 +359,7 @@ function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial):
     `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${mapLegend(input, [...earlier, summary], [barn.id], assay.assayId, key).html}` +
     (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
     (clusterList ? `<ul>${clusterList}</ul>` : '') +
+    monitoredNote(input, barn, assay.assayId) +
     (report ? statsTable(report, assay.detection.find((entry) => entry.barnId === barn.id), input.alpha, antibody) : '<p>No spatial statistics for this barn.</p>') +
     (trends
       ? `${antibody ? spTrendLegend('<strong>S/P trend per antibody-positive pen:</strong>', cutoffText) : trendLegend('<strong>Ct trend per positive pen:</strong>', cutoffText)}<div class="trends${positivePens.length > MANY_TRENDS ? ' many' : ''}">${trends}</div>`
