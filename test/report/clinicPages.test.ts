@@ -106,7 +106,12 @@ describe('the plan page', () => {
       for (const barn of plan.barns) {
         expect(html).toContain(`data-plan-barn="${barn.barnId}"`);
         expect(html).toContain(`data-plan-coverage="${barn.barnId}"`);
+        // The detection planned is the figure of the model that sized the ropes (the one the plan promises); a positive barn is monitored.
+        const row = new RegExp(`<tr data-plan-barn="${barn.barnId}">(.*?)</tr>`).exec(html)![1]!;
+        if (barn.monitoring) expect(row).toContain('monitored');
+        else expect(row).toContain((100 * barn.sizing.plannedDetection).toFixed(1) === '100.0' ? '> 99.9%' : `${(100 * barn.sizing.plannedDetection).toFixed(1)}%`);
       }
+      expect(html).toContain(plan.sizing.ifNegative.replace(/&/g, '&amp;'));
       for (const schedule of plan.schedules) {
         expect(html).toContain(`data-plan-schedules="${schedule.barnId}"`);
         for (const option of schedule.static) expect(html).toContain(`data-schedule="${option.label}"`);

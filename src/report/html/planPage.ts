@@ -19,22 +19,32 @@ export interface PlanPageInput {
 const days = (value: number | null | undefined) => (value === null || value === undefined || !Number.isFinite(value) ? 'n/a' : `${num(value, 1)} days`);
 
 function sizingBlock(plan: NextRoundPlan): string {
+  const spatial = plan.sizing.sizingModel === 'spatial';
   const rows = plan.barns
     .map((barn) => {
       const s = barn.sizing;
+      const other = spatial ? s.plannedHypergeometric : s.plannedSpreadModel;
+      // A monitored barn is positive: its ropes follow the infection and no detection figure applies.
+      const detection = barn.monitoring
+        ? '<td class="num" colspan="2">monitored</td>'
+        : `<td class="num">${pct(s.plannedDetection)}</td><td class="num">${other === null ? 'n/a' : pct(other)}</td>`;
       return (
         `<tr data-plan-barn="${escapeHtml(barn.barnId)}"><td>${escapeHtml(barn.barnId)}</td><td>${escapeHtml(s.assayId)}</td><td class="num">${s.pensInUse}</td><td class="num">${s.designInfected}</td><td class="num">${num(s.sensitivity)}</td>` +
-        `<td class="num">${barn.routine}</td><td class="num">${barn.followUp}</td><td class="num">${barn.retest}</td>` +
-        `<td class="num">${pct(s.plannedSpreadModel ?? s.plannedHypergeometric)}</td><td class="num">${pct(s.plannedHypergeometric)}</td><td>${escapeHtml(s.statement)}</td></tr>`
+        `<td class="num">${barn.routine}</td><td class="num">${barn.followUp}</td><td class="num">${barn.retest}</td><td class="num">${barn.reRope + barn.tracking}</td>${detection}</tr>` +
+        // The reading is a sentence: a row of its own, the width of the table, so the numbers stay one line.
+        `<tr data-plan-reading="${escapeHtml(barn.barnId)}"><td></td><td colspan="10">${escapeHtml(s.statement)}</td></tr>`
       );
     })
     .join('');
+  const sizedBy = spatial ? 'the spread model' : 'the hypergeometric model';
+  const besideIt = spatial ? 'the hypergeometric model' : 'the spread model (what evenly spaced ropes buy under pen-to-pen spread)';
   return (
     `<h2>How many ropes, and why</h2>` +
-    `<table data-plan-sizing=""><thead><tr><th>Barn</th><th>Sized for</th><th class="num">Pens in use</th><th class="num">Infected pens at the design prevalence</th><th class="num">Rope sensitivity</th>` +
-    `<th class="num">Routine</th><th class="num">Follow-up</th><th class="num">Retest</th><th class="num">Detection planned (model used)</th><th class="num">Hypergeometric</th><th>Reading</th></tr></thead><tbody>${rows}</tbody></table>` +
+    `<p class="muted">Infected pens: at the design prevalence. Planned: the detection of the routine ropes by ${sizedBy}, which sized them; beside it: ${besideIt}.</p>` +
+    `<table data-plan-sizing=""><thead><tr><th>Barn</th><th>Sized for</th><th class="num">Pens in use</th><th class="num">Infected pens</th><th class="num">Rope Se</th>` +
+    `<th class="num">Routine</th><th class="num">Follow-up</th><th class="num">Retest</th><th class="num">Re-rope, tracking</th><th class="num">Planned</th><th class="num">Beside it</th></tr></thead><tbody>${rows}</tbody></table>` +
     (plan.sizing.notes.length > 0 ? `<ul data-plan-notes="sizing">${plan.sizing.notes.map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>` : '') +
-    `<p>If the round comes back negative, the site\u2019s round sensitivity is <strong>${pct(plan.siteDetectionIfNegative)}</strong> (target ${pct(plan.sizing.target)} per ${plan.sizing.sizeFor}).</p>`
+    `<p data-plan-if-negative="">${escapeHtml(plan.sizing.ifNegative)}</p>`
   );
 }
 
