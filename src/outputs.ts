@@ -19,6 +19,7 @@ import { clockDay } from './interpret/rounds.js';
 import { clustersCsv } from './report/clustersCsv.js';
 import { removeStaleFolders, removeStrayTemps, StagedOutputs, type OutputWriter } from './report/files.js';
 import { nextRoundCsv, nextRoundJson } from './report/nextRoundFiles.js';
+import { alertsOfRounds } from './report/html/alerts.js';
 import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
 import type { StoredResult } from './store/store.js';
@@ -109,8 +110,10 @@ export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: 
   writer.write(path.join(siteDir, 'next-round.json'), json(nextRoundJson(analysis.plan)));
   writer.write(path.join(siteDir, 'next-round.csv'), nextRoundCsv(analysis.plan));
   // Read by the delivery after the outputs (src/alerts/deliver.ts).
-  writer.write(path.join(siteDir, SITE_ALERTS_FILE), json(siteAlertsFile(analysis)));
-  writeSitePages(ws.outbox, ws.config, analysis, writer);
+  // Each round's alerts look back over the rounds before it: built once for the pages, the digest and the records.
+  const alertsByRound = alertsOfRounds(analysis);
+  writer.write(path.join(siteDir, SITE_ALERTS_FILE), json(siteAlertsFile(analysis, alertsByRound)));
+  writeSitePages(ws.outbox, ws.config, analysis, writer, alertsByRound);
 }
 
 /** Analyses, plans and writes one site, and records what the outbox now shows. */

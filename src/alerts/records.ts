@@ -11,7 +11,7 @@
 import type { NextRoundPlan } from '../analysis/nextRound.js';
 import type { RoundSummary } from '../analysis/roundSummary.js';
 import type { RoundSpatial } from '../analysis/spatialRound.js';
-import { roundAlerts, type PageAlert } from '../report/html/alerts.js';
+import { alertsOfRounds, type PageAlert } from '../report/html/alerts.js';
 
 export const ALERT_RECORD_SCHEMA = 'ropewatch.alert/1';
 
@@ -20,8 +20,8 @@ export const SITE_ALERTS_FILE = 'alerts.json';
 export const SITE_ALERTS_SCHEMA = 'ropewatch.site-alerts/1';
 
 /** The content of outbox/<site>/alerts.json. */
-export function siteAlertsFile(source: AlertSource): { schema: typeof SITE_ALERTS_SCHEMA; site: string; alerts: AlertRecord[] } {
-  return { schema: SITE_ALERTS_SCHEMA, site: source.site.id, alerts: siteAlertRecords(source) };
+export function siteAlertsFile(source: AlertSource, alertsByRound?: readonly PageAlert[][]): { schema: typeof SITE_ALERTS_SCHEMA; site: string; alerts: AlertRecord[] } {
+  return { schema: SITE_ALERTS_SCHEMA, site: source.site.id, alerts: siteAlertRecords(source, alertsByRound) };
 }
 
 /** What a number behind an alert is: a count, a probability, a day count or a date. */
@@ -107,13 +107,14 @@ function numbersOf(alert: PageAlert, summary: RoundSummary, spatial: RoundSpatia
  * order the pages show them. Two alerts of one round that would share a key (none do today)
  * get `#2`, `#3` after it rather than hiding one another.
  */
-export function siteAlertRecords(source: AlertSource): AlertRecord[] {
+export function siteAlertRecords(source: AlertSource, alertsByRound: readonly PageAlert[][] = alertsOfRounds(source)): AlertRecord[] {
   const records: AlertRecord[] = [];
   const last = source.summaries.length - 1;
   source.summaries.forEach((summary, index) => {
     const plan = index === last ? source.plan : undefined;
     const seen = new Map<string, number>();
-    for (const alert of roundAlerts(source.summaries, source.spatial, index, plan)) {
+    const awaitingResults = summary.barns.every((barn) => barn.ropesReturned === 0) && summary.barns.every((barn) => barn.mistyped.length === 0);
+    for (const alert of alertsByRound[index]!) {
       const base = alertKey(source.site.id, summary.round.id, alert.assayId, alert.kind, alert.barnId);
       const times = (seen.get(base) ?? 0) + 1;
       seen.set(base, times);
@@ -122,7 +123,7 @@ export function siteAlertRecords(source: AlertSource): AlertRecord[] {
         key: times === 1 ? base : `${base}#${times}`,
         site: { id: source.site.id, name: source.site.name },
         round: { number: summary.round.number, id: summary.round.id, startOn: summary.round.startOn, endOn: summary.round.endOn },
-        awaitingResults: summary.barns.every((barn) => barn.ropesReturned === 0) && summary.barns.every((barn) => barn.mistyped.length === 0),
+        awaitingResults,
         assay: alert.assayId,
         barn: alert.barnId,
         kind: alert.kind,

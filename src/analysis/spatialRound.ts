@@ -17,6 +17,7 @@ import {
 } from '../spatial/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
+import { formatPValue } from '../util/format.js';
 
 export const CLUSTERS_SCHEMA = 'ropewatch.clusters/1';
 
@@ -90,7 +91,6 @@ export class OutbreakCache {
   }
 }
 
-const pValue = (p: number) => (p < 0.001 ? '< 0.001' : p.toFixed(3));
 
 function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): SpatialAlert[] {
   const alerts: SpatialAlert[] = [];
@@ -103,7 +103,7 @@ function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): 
       assayId,
       message:
         `${assayId} positives in barn ${report.barn} sit next to each other more than chance allows: ${jc.bb} positive-positive joins against ` +
-        `${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${pValue(jc.pPermutation)}` +
+        `${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(jc.pPermutation)}` +
         (jc.zBB !== null ? ` (z = ${jc.zBB.toFixed(2)}, shown for reference; the decision rests on the p-value)` : ''),
     });
   } else if (report.positives >= 2 && scan && scan.p <= alpha) {
@@ -111,14 +111,14 @@ function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): 
       kind: 'significant-cluster',
       barnId: report.barn,
       assayId,
-      message: `${assayId}: the scan statistic finds a cluster of ${scan.pens.length} ropes in barn ${report.barn} (${scan.pens.join(', ')}), p = ${pValue(scan.p)}`,
+      message: `${assayId}: the scan statistic finds a cluster of ${scan.pens.length} ropes in barn ${report.barn} (${scan.pens.join(', ')}), p = ${formatPValue(scan.p)}`,
     });
   } else if (report.positives >= 2) {
     alerts.push({
       kind: 'scattered-positives',
       barnId: report.barn,
       assayId,
-      message: `${assayId}: ${report.positives} positive ropes in barn ${report.barn} without significant clustering (join-count p = ${jc ? pValue(jc.pPermutation) : 'n/a'}): consider introduction by people, feed or transport, or false positives`,
+      message: `${assayId}: ${report.positives} positive ropes in barn ${report.barn} without significant clustering (join-count p = ${jc ? formatPValue(jc.pPermutation) : 'n/a'}): consider introduction by people, feed or transport, or false positives`,
     });
   }
   const spread = report.spread;

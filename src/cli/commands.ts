@@ -12,8 +12,6 @@ import { InputRejectedError, InterruptedError, printJson, UsageError, type CliIo
 import { parseIntegerOption } from './parseArgs.js';
 import { stampLines } from './stampLines.js';
 
-export type { CommonOptions };
-export { addCommonOptions };
 
 const commandModules = () => import('./commandModules.js');
 

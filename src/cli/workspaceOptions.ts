@@ -12,7 +12,6 @@ import { openWorkspace, resolvePaths, type OpenOptions, type Workspace } from '.
 import type { CommonOptions } from './commonOptions.js';
 import { UsageError, type CliIo } from './io.js';
 
-export { addCommonOptions, type CommonOptions } from './commonOptions.js';
 
 /** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
 export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T, open: OpenOptions = {}): T {

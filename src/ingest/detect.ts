@@ -36,10 +36,6 @@ export type FileKind =
       columnNames: Map<string, string>;
     };
 
-function foldHeader(cell: string): string {
-  return foldToken(cell.replace(/^\uFEFF/, '')).replace(/[\s-]+/g, '_');
-}
-
 /** The delimiter that splits a header line into the most fields, outside quotes. */
 export function guessDelimiter(line: string): Delimiter {
   const counts: Record<Delimiter, number> = { ',': 0, ';': 0, '\t': 0, '|': 0 };
@@ -269,4 +265,3 @@ export function detectKind(fileName: string, source: HeaderSource, labs: readonl
   };
 }
 
-export { foldHeader as foldRopeSheetHeader };

@@ -24,22 +24,19 @@ export function inPlacementOrder(groups: readonly BarnGroup[]): BarnGroup[] {
   return [...groups].sort((a, b) => (a.placedOn < b.placedOn ? -1 : a.placedOn > b.placedOn ? 1 : 0));
 }
 
-/** What a barn with these (checked, non-overlapping) groups holds on `date`. */
+/**
+ * What a barn with these (checked, non-overlapping) groups holds on `date`. The groups come in
+ * placement order, as the configuration stores them (`inPlacementOrder` at load): this runs once
+ * per barn and round.
+ */
 export function barnStatusOn(groups: readonly BarnGroup[], date: string): BarnStatus {
-  const ordered = inPlacementOrder(groups);
   let closed: BarnGroup | null = null;
-  for (const group of ordered) {
+  for (const group of groups) {
     if (date < group.placedOn) return closed === null ? { kind: 'ungrouped' } : { kind: 'empty', closed, next: group };
     if (group.closedOn === null || date <= group.closedOn) return { kind: 'group', group };
     closed = group;
   }
   return closed === null ? { kind: 'ungrouped' } : { kind: 'empty', closed, next: null };
-}
-
-/** The group in the barn on `date`, or null (empty, or no group known). */
-export function groupOn(groups: readonly BarnGroup[], date: string): BarnGroup | null {
-  const status = barnStatusOn(groups, date);
-  return status.kind === 'group' ? status.group : null;
 }
 
 /** True when the barn is empty on `date`: a group was closed out and the next is not yet placed. */

@@ -68,8 +68,7 @@ export interface MonitoredBarnPlan {
  */
 export function planMonitoredBarn(input: MonitoredBarnInput): MonitoredBarnPlan {
   requireInteger('trackingRopes', input.trackingRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const inUse = input.pens.filter((pen) => pen.status === 'in-use').length;
-  const tracking = placeSystematic(input.pens, { ropes: Math.min(input.trackingRopes, inUse), roundIndex: 0 });
+  const tracking = trackingPlacement(input.pens, input.trackingRopes);
   const reRope = new Set(input.reRope);
   // Re-roped pens go in with the retests: base ropes of the greedy choice, never ring extras.
   const followUp = planFollowUp({
@@ -131,6 +130,11 @@ export function pensToReRope(rounds: readonly SiteRound[], barnId: string, assay
 export function monitoringBaseRopes(pens: readonly Pen[], reRope: readonly string[], trackingRopes: number): number {
   requireInteger('trackingRopes', trackingRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   const inUse = new Set(pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id));
-  const tracking = placeSystematic(pens, { ropes: Math.min(trackingRopes, inUse.size), roundIndex: 0 }).penIds;
-  return new Set([...reRope.filter((id) => inUse.has(id)), ...tracking]).size;
+  return new Set([...reRope.filter((id) => inUse.has(id)), ...trackingPlacement(pens, trackingRopes).penIds]).size;
+}
+
+/** The fixed tracking set: evenly spaced with the rotation held still (round 0), so the same pens every round. */
+function trackingPlacement(pens: readonly Pen[], trackingRopes: number): ReturnType<typeof placeSystematic> {
+  const inUse = pens.filter((pen) => pen.status === 'in-use').length;
+  return placeSystematic(pens, { ropes: Math.min(trackingRopes, inUse), roundIndex: 0 });
 }

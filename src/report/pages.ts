@@ -12,7 +12,7 @@ import type { SiteAnalysis } from '../analysis/siteAnalysis.js';
 import { sinceLastRound } from '../analysis/sinceLastRound.js';
 import { notifiableNotice } from './cautions.js';
 import { atomicWriter, type OutputWriter } from './files.js';
-import { roundAlerts } from './html/alerts.js';
+import { alertsOfRounds, type PageAlert } from './html/alerts.js';
 import { renderClustersPage } from './html/clustersPage.js';
 import { herdStatusBlock } from './html/herdStatus.js';
 import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPage.js';
@@ -32,7 +32,7 @@ function noticesFor(config: Config, assayIds: readonly string[]): string[] {
 }
 
 /** The digest of one site for the index (also written as site.json). */
-export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
+export function siteDigest(config: Config, analysis: SiteAnalysis, alerts: readonly PageAlert[][] = alertsOfRounds(analysis)): SiteDigest {
   const { site, summaries, plan } = analysis;
   const lastIndex = summaries.length - 1;
   const latest = summaries[lastIndex];
@@ -47,7 +47,7 @@ export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
     schema: DIGEST_SCHEMA,
     site: { id: site.id, name: site.name },
     latestRound: latest ? { number: latest.round.number, id: latest.round.id, startOn: latest.round.startOn, endOn: latest.round.endOn } : null,
-    alerts: latest ? roundAlerts(summaries, analysis.spatial, lastIndex, plan) : [],
+    alerts: latest ? [...alerts[lastIndex]!] : [],
     notices: noticesFor(config, siteAssays),
     nextRound: { round: plan.round, dueDate: plan.dueDate, overdue: plan.overdue, daysOverdue: plan.daysOverdue },
     links: {
@@ -67,15 +67,15 @@ export function siteDigest(config: Config, analysis: SiteAnalysis): SiteDigest {
  * @param config the normalised configuration (assay names, cutoffs, notifiable flags, alpha)
  * @param analysis the site's analysis from analyseSite
  * @param writer where the files go (default: each atomically to its name)
+ * @param alertsByRound every round's alerts (alertsOfRounds), when the caller has them already
  * @throws whatever the file system throws
  */
-export function writeSitePages(outbox: string, config: Config, analysis: SiteAnalysis, writer: OutputWriter = atomicWriter): void {
+export function writeSitePages(outbox: string, config: Config, analysis: SiteAnalysis, writer: OutputWriter = atomicWriter, alertsByRound: readonly PageAlert[][] = alertsOfRounds(analysis)): void {
   const { site, summaries, spatial, plan } = analysis;
   const siteDir = path.join(outbox, site.id);
-  const lastIndex = summaries.length - 1;
   summaries.forEach((summary, index) => {
     const roundDir = path.join(siteDir, summary.round.id);
-    const alerts = roundAlerts(summaries, spatial, index, index === lastIndex ? plan : undefined);
+    const alerts = alertsByRound[index]!;
     const notices = noticesFor(config, summary.assays.map((assay) => assay.id));
     const current = analysis.rounds.find((round) => round.id === summary.round.id);
     const before = index > 0 ? analysis.rounds.find((round) => round.id === summaries[index - 1]!.round.id) : undefined;
@@ -87,7 +87,7 @@ export function writeSitePages(outbox: string, config: Config, analysis: SiteAna
       renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices, herdStatus }),
     );
   });
-  const digest = siteDigest(config, analysis);
+  const digest = siteDigest(config, analysis, alertsByRound);
   writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));
   for (const page of nextRoundLabelPages(plan, digest.notices)) writer.write(path.join(siteDir, page.file), page.html);
   writer.write(path.join(siteDir, 'plan.html'), renderPlanPage({ plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));

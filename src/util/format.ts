@@ -7,3 +7,8 @@ export function formatPercent(p: number): string {
   if (p > 0 && p < 0.001) return '<0.1%';
   return `${(100 * p).toFixed(1)}%`;
 }
+
+/** A p-value as the pages write it: three decimals, or "< 0.001" below that. */
+export function formatPValue(p: number): string {
+  return p < 0.001 ? '< 0.001' : p.toFixed(3);
+}

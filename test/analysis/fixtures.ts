@@ -5,6 +5,7 @@ import path from 'node:path';
 import { loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
+import { resultInput } from '../helpers/results.js';
 
 export function smallConfig(program: Record<string, unknown> = {}, analysis: Record<string, unknown> = {}, layout: Record<string, unknown> = { rows: 2, pensPerRow: 18 }): Config {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-analysis-'));
@@ -37,18 +38,11 @@ export function smallConfig(program: Record<string, unknown> = {}, analysis: Rec
 /** n ropes on the first n pens of barn B1, all negative for PRRSV unless `positive` names them. */
 export function roundRopes(date: string, n: number, prefix: string, positive: readonly number[] = []) {
   const ropes = Array.from({ length: n }, (_, i) => ({ sampleId: `${prefix}-${i}`, siteId: 'test-site', barnId: 'B1', penId: i < 18 ? `A${i + 1}` : `B${i - 17}`, hungOn: date, source: 'sheet' }));
-  const results = ropes.map((rope, i) => ({
+  const results = ropes.map((rope, i) => resultInput({
     id: i,
-    labId: 'northfield',
     sampleId: rope.sampleId,
-    assayId: 'PRRSV',
     ct: positive.includes(i) ? 28 : null,
     resultClass: (positive.includes(i) ? 'positive' : 'negative') as 'positive' | 'negative',
-    reason: 'test',
-    loadBand: null,
-    cycleLimit: 40,
-    callDiffers: false,
-    labCall: null,
   }));
   return { ropes, results };
 }

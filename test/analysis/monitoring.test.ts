@@ -11,6 +11,7 @@ import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
 import { imperfectDetect } from '../plan/helpers.js';
 import { roundRopes, smallConfig } from './fixtures.js';
+import { resultInput } from '../helpers/results.js';
 
 const FINISHER = { rows: 2, pensPerRow: 20, empty: ['B20'], outOfUse: ['A10'] };
 const PROGRAM = { designPrevalence: 0.1, ropeSensitivity: 0.8, followUpRopes: 8 };
@@ -19,18 +20,11 @@ const POSITIVE = ['A3', 'A4', 'A5', 'A6', 'A7', 'A8', 'B4', 'B6'];
 /** One rope in each pen named, on one day; PRRSV positive (Ct 28) in the pens of `positive`. */
 function roundIn(date: string, prefix: string, pens: readonly string[], positive: readonly string[]) {
   const ropes: RopeInput[] = pens.map((penId, i) => ({ sampleId: `${prefix}-${i}`, siteId: 'test-site', barnId: 'B1', penId, hungOn: date, source: 'sheet' }));
-  const results: ResultInput[] = ropes.map((rope, i) => ({
+  const results: ResultInput[] = ropes.map((rope, i) => resultInput({
     id: i,
-    labId: 'northfield',
     sampleId: rope.sampleId,
-    assayId: 'PRRSV',
     ct: positive.includes(rope.penId) ? 28 : null,
     resultClass: positive.includes(rope.penId) ? 'positive' : 'negative',
-    reason: 'test',
-    loadBand: null,
-    cycleLimit: 40,
-    callDiffers: false,
-    labCall: null,
   }));
   return { ropes, results };
 }

@@ -13,22 +13,16 @@ import { renderRopeSheetPage } from '../../src/report/html/ropeSheetPage.js';
 import { formatPercent } from '../../src/util/format.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { smallConfig } from './fixtures.js';
+import { resultInput } from '../helpers/results.js';
 
 const pen = (i: number) => (i < 18 ? `A${i + 1}` : `B${i - 17}`);
 const rope = (i: number, poolId: string | null, hungOn = '2026-08-03'): RopeInput => ({ sampleId: `R-${i}`, siteId: 'test-site', barnId: 'B1', penId: pen(i), hungOn, source: 'sheet', poolId });
 let nextId = 1;
-const result = (sampleId: string, resultClass: ResultInput['resultClass']): ResultInput => ({
+const result = (sampleId: string, resultClass: ResultInput['resultClass']): ResultInput => resultInput({
   id: nextId++,
-  labId: 'northfield',
   sampleId,
-  assayId: 'PRRSV',
   ct: resultClass === 'positive' ? 29 : null,
   resultClass,
-  reason: 'test',
-  loadBand: null,
-  cycleLimit: 40,
-  callDiffers: false,
-  labCall: null,
 });
 
 /**

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import type { BarnGroup } from '../../src/config/types.js';
-import { barnStatusOn, groupOn, groupProblems, isEmptyOn } from '../../src/interpret/groups.js';
+import { barnStatusOn, groupProblems, inPlacementOrder, isEmptyOn } from '../../src/interpret/groups.js';
 
 const g1: BarnGroup = { id: 'G1', label: 'G1', placedOn: '2026-01-05', closedOn: '2026-04-20' };
 const g2: BarnGroup = { id: 'G2', label: 'G2', placedOn: '2026-05-04', closedOn: null };
@@ -12,16 +12,16 @@ const g2: BarnGroup = { id: 'G2', label: 'G2', placedOn: '2026-05-04', closedOn:
 describe('the group of a barn on a day', () => {
   it('counts the placement and close-out days inside the group, the days between as empty', () => {
     // By hand: 05 Jan to 20 Apr is G1, 21 Apr to 03 May nobody, from 04 May G2.
-    expect(groupOn([g1, g2], '2026-01-05')).toBe(g1);
-    expect(groupOn([g1, g2], '2026-04-20')).toBe(g1);
+    expect(barnStatusOn([g1, g2], '2026-01-05')).toEqual({ kind: 'group', group: g1 });
+    expect(barnStatusOn([g1, g2], '2026-04-20')).toEqual({ kind: 'group', group: g1 });
     expect(barnStatusOn([g1, g2], '2026-04-21')).toEqual({ kind: 'empty', closed: g1, next: g2 });
     expect(isEmptyOn([g1, g2], '2026-05-03')).toBe(true);
-    expect(groupOn([g1, g2], '2026-05-04')).toBe(g2);
-    expect(groupOn([g1, g2], '2027-01-01')).toBe(g2);
+    expect(barnStatusOn([g1, g2], '2026-05-04')).toEqual({ kind: 'group', group: g2 });
+    expect(barnStatusOn([g1, g2], '2027-01-01')).toEqual({ kind: 'group', group: g2 });
   });
 
-  it('takes groups in any order, and says nothing of the days before the first placement', () => {
-    expect(groupOn([g2, g1], '2026-02-01')).toBe(g1);
+  it('takes groups in any order once put in placement order, and says nothing of the days before the first placement', () => {
+    expect(barnStatusOn(inPlacementOrder([g2, g1]), '2026-02-01')).toEqual({ kind: 'group', group: g1 });
     expect(barnStatusOn([g1, g2], '2025-12-31')).toEqual({ kind: 'ungrouped' });
     expect(barnStatusOn([], '2026-02-01')).toEqual({ kind: 'ungrouped' });
   });

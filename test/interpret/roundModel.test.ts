@@ -8,24 +8,19 @@ import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
 const rope = (sampleId: string, barnId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId, penId, hungOn, source: 'sheet' });
 let nextId = 1;
-const result = (sampleId: string, assayId: string, resultClass: ResultInput['resultClass'], ct: number | null): ResultInput => ({
+const result = (sampleId: string, assayId: string, resultClass: ResultInput['resultClass'], ct: number | null): ResultInput => resultInput({
   id: nextId++,
-  labId: 'northfield',
   sampleId,
   assayId,
   ct,
   resultClass,
-  reason: 'test',
-  loadBand: null,
-  cycleLimit: 40,
-  callDiffers: false,
-  labCall: null,
 });
 
 describe('buildSiteRounds', () => {

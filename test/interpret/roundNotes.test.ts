@@ -8,24 +8,18 @@ import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { buildSiteRounds, type MistypedInput, type PlannedInput, type ReplacedInput, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
 const rope = (sampleId: string, barnId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId, penId, hungOn, source: 'sheet' });
 let nextId = 1;
-const result = (sampleId: string, resultClass: ResultInput['resultClass'], ct: number | null): ResultInput => ({
+const result = (sampleId: string, resultClass: ResultInput['resultClass'], ct: number | null): ResultInput => resultInput({
   id: nextId++,
-  labId: 'northfield',
   sampleId,
-  assayId: 'PRRSV',
   ct,
   resultClass,
-  reason: 'test',
-  loadBand: null,
-  cycleLimit: 40,
-  callDiffers: false,
-  labCall: null,
 });
 const reading = (resultClass: ResultInput['resultClass'], ctRaw: string, reportedOn: string, status: string | null) => ({
   resultClass,

@@ -10,24 +10,18 @@ import { DEFAULT_RESULT_GRACE_DAYS, loadConfig } from '../../src/config/load.js'
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { buildSiteRounds, type PlannedInput, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
 import { resultsDueOn, roundForDueDate, roundState } from '../../src/interpret/rounds.js';
+import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
 const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId: 'F1', penId, hungOn, source: 'sheet' });
 let nextId = 1;
-const negative = (sampleId: string): ResultInput => ({
+const negative = (sampleId: string): ResultInput => resultInput({
   id: nextId++,
-  labId: 'northfield',
   sampleId,
-  assayId: 'PRRSV',
   ct: null,
   resultClass: 'negative',
-  reason: 'test',
-  loadBand: null,
-  cycleLimit: 40,
-  callDiffers: false,
-  labCall: null,
 });
 const planned = (sampleId: string, penId: string, dueOn: string): PlannedInput => ({ sampleId, barnId: 'F1', penId, dueOn });
 

@@ -32,23 +32,18 @@ import {
   simplyMissing,
 } from '../../src/report/roundNotes.js';
 import { SUMMARY_COLUMNS, summaryCsv } from '../../src/report/summaryCsv.js';
+import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
 let nextId = 1;
-const result = (sampleId: string, resultClass: ResultInput['resultClass'], ct: number | null, labId = 'northfield'): ResultInput => ({
+const result = (sampleId: string, resultClass: ResultInput['resultClass'], ct: number | null, labId = 'northfield'): ResultInput => resultInput({
   id: nextId++,
   labId,
   sampleId,
-  assayId: 'PRRSV',
   ct,
   resultClass,
-  reason: 'test',
-  loadBand: null,
-  cycleLimit: 40,
-  callDiffers: false,
-  labCall: null,
   reportedOn: '2026-08-06',
 });
 const correction: ReplacedInput = {

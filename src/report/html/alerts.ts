@@ -8,6 +8,7 @@ import type { RoundSpatial } from '../../analysis/spatialRound.js';
 import type { NextRoundPlan } from '../../analysis/nextRound.js';
 import { MISTYPED_ACTION, refusalGroups, simplyMissing } from '../roundNotes.js';
 import { escapeHtml } from './escape.js';
+import { formatPValue } from '../../util/format.js';
 
 export type AlertKind =
   | 'first-positive'
@@ -49,7 +50,6 @@ export function alertItem(alert: { kind: string; action: string; detail: string 
 const pct = (p: number) => `${(100 * p).toFixed(1)}%`;
 const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
 /** A p-value as the statistics modules word it: "< 0.001" or three decimals. */
-const pText = (p: number) => (p < 0.001 ? '< 0.001' : p.toFixed(3));
 
 function alert(kind: AlertKind, assayId: string | null, barnId: string | null, action: string, detail: string, numbers: Record<string, number | null> = {}, pens: readonly string[] = []): PageAlert {
   return { kind, assayId, barnId, action, detail, message: `${action}. ${detail}`, numbers, pens };
@@ -75,13 +75,13 @@ function positiveWhere(positivePens: readonly string[], report: BarnReport | und
   const numbers: Record<string, number | null> = {};
   const jc = report?.joinCount ?? null;
   if (jc && positivePens.length >= 2) {
-    stats.push(`join count ${jc.bb} positive\u2013positive joins against ${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${pText(jc.pPermutation)}`);
+    stats.push(`join count ${jc.bb} positive\u2013positive joins against ${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(jc.pPermutation)}`);
     Object.assign(numbers, { joinCountBB: jc.bb, joinCountExpected: jc.expectedBB, joinCountP: jc.pPermutation });
   }
   const scan = report?.scan?.mostLikely ?? null;
   // The scan statistic only where the join count could not be computed: one statistic per alert, the cluster review has both.
   if (scan && positivePens.length >= 2 && !jc) {
-    stats.push(`scan statistic: ${scan.positives} positive in ${plural(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${pText(scan.p)}`);
+    stats.push(`scan statistic: ${scan.positives} positive in ${plural(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${formatPValue(scan.p)}`);
     Object.assign(numbers, { scanPositives: scan.positives, scanExpected: scan.expected, scanP: scan.p });
   }
   const largest = [...(report?.clusters ?? [])].filter((cluster) => cluster.size >= 2).sort((a, b) => b.size - a.size || a.index - b.index)[0];
@@ -290,4 +290,14 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
     );
   }
   return alerts;
+}
+
+/**
+ * Every round's alerts of a site, in round order: the pages, the digest and the alert records
+ * read the same list, built once (each round's alerts look back over the rounds before it). The
+ * plan's overdue alert belongs to the latest round.
+ */
+export function alertsOfRounds(analysis: { summaries: readonly RoundSummary[]; spatial: readonly RoundSpatial[]; plan: NextRoundPlan }): PageAlert[][] {
+  const last = analysis.summaries.length - 1;
+  return analysis.summaries.map((_, index) => roundAlerts(analysis.summaries, analysis.spatial, index, index === last ? analysis.plan : undefined));
 }

@@ -79,6 +79,8 @@ interface TrendFrame {
   head: (extraAttributes: string) => string[];
   /** The round labels under the axis (at most about seven, the last always). */
   roundLabels: () => string[];
+  /** A dashed line per lab cutoff with its value on the right; close lines take turns above and below, so values never overprint. */
+  cutoffLines: (shown: readonly { value: number; label: string }[], yAt: (value: number) => number, valueText: (value: number) => string) => string[];
 }
 
 function trendFrame(
@@ -110,7 +112,16 @@ function trendFrame(
       .filter((_, i) => i % step === 0 || i === rounds.length - 1)
       .map((entry) => `<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
   };
-  return { width, height, left, right, top, plotH, xAt, head, roundLabels };
+  const cutoffLines = (shown: readonly { value: number; label: string }[], yAt: (value: number) => number, valueText: (value: number) => string) =>
+    shown.flatMap((cutoff, i) => {
+      const y = yAt(cutoff.value);
+      const below = i % 2 === 1 && Math.abs(y - yAt(shown[i - 1]!.value)) < 10;
+      return [
+        `<line x1="${left}" x2="${width - right}" y1="${fmt(y)}" y2="${fmt(y)}" stroke="#000000" stroke-width="1" stroke-dasharray="4 3" data-cutoff="${valueText(cutoff.value)}"><title>${escapeHtml(`positive cutoff ${cutoff.label}`)}</title></line>`,
+        `<text x="${width - right + 3}" y="${fmt(below ? y + 3 + 7 : y + 3)}" font-size="8" fill="${COLOURS.ink}">${escapeHtml(valueText(cutoff.value))}</text>`,
+      ];
+    });
+  return { width, height, left, right, top, plotH, xAt, head, roundLabels, cutoffLines };
 }
 
 /**
@@ -124,7 +135,7 @@ export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptio
   const detected = points.filter((point) => pointKind(point) === 'ct');
   const axis = ctAxis(detected.map((point) => point.ct!), options.cycleLimit);
   const shown = [...options.cutoffs].filter((cutoff) => cutoff.value > axis.top && cutoff.value < axis.bottom).sort((a, b) => a.value - b.value);
-  const { width, height, left, right, top, plotH, xAt, head, roundLabels } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 22 : null });
+  const { width, height, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 22 : null });
   const yAt = (ct: number) => top + ((ct - axis.top) / (axis.bottom - axis.top)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
   const parts: string[] = head('');
@@ -134,13 +145,7 @@ export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptio
     parts.push(`<text x="${left - 4}" y="${fmt(yAt(ct))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${ct}</text>`);
   }
   parts.push(`<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">Ct (up = more virus)</text>`);
-  shown.forEach((cutoff, i) => {
-    const y = yAt(cutoff.value);
-    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(y)}" y2="${fmt(y)}" stroke="#000000" stroke-width="1" stroke-dasharray="4 3" data-cutoff="${fmt(cutoff.value)}"><title>${escapeHtml(`positive cutoff ${cutoff.label}`)}</title></line>`);
-    // Close lines take turns: the value of the first above its line, the next below, so they never overprint.
-    const below = i % 2 === 1 && Math.abs(y - yAt(shown[i - 1]!.value)) < 10;
-    parts.push(`<text x="${width - right + 3}" y="${fmt(below ? y + 3 + 7 : y + 3)}" font-size="8" fill="${COLOURS.ink}">${escapeHtml(fmt(cutoff.value))}</text>`);
-  });
+  parts.push(...cutoffLines(shown, yAt, fmt));
   parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
   if (anyInvalid) {
     parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
@@ -238,7 +243,7 @@ export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendO
     options.cutoffs.map((cutoff) => cutoff.value),
   );
   const shown = [...options.cutoffs].sort((a, b) => a.value - b.value);
-  const { width, height, left, right, top, plotH, xAt, head, roundLabels } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 26 : null });
+  const { width, height, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 26 : null });
   const yAt = (sp: number) => top + ((axis.top - sp) / (axis.top - axis.bottom)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
   const spLabel = (sp: number) => String(Math.round(sp * 100) / 100);
@@ -250,12 +255,7 @@ export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendO
     parts.push(`<text x="${left - 4}" y="${fmt(yAt(value))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${spLabel(value)}</text>`);
   }
   parts.push(`<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">S/P (up = more antibody)</text>`);
-  shown.forEach((cutoff, i) => {
-    const y = yAt(cutoff.value);
-    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(y)}" y2="${fmt(y)}" stroke="#000000" stroke-width="1" stroke-dasharray="4 3" data-cutoff="${spLabel(cutoff.value)}"><title>${escapeHtml(`positive cutoff ${cutoff.label}`)}</title></line>`);
-    const below = i % 2 === 1 && Math.abs(y - yAt(shown[i - 1]!.value)) < 10;
-    parts.push(`<text x="${width - right + 3}" y="${fmt(below ? y + 3 + 7 : y + 3)}" font-size="8" fill="${COLOURS.ink}">${escapeHtml(spLabel(cutoff.value))}</text>`);
-  });
+  parts.push(...cutoffLines(shown, yAt, spLabel));
   parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
   if (anyInvalid) parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
   parts.push(...roundLabels());
