@@ -131,7 +131,7 @@ function naiveSpreadDetection(A: number[][], d: number, beta: number, eps: numbe
         if (infected[j]) continue;
         let k = 0;
         for (let i = 0; i < n; i++) if (infected[i] && A[i]![j]! > 0) k++;
-        if (rng() < 1 - Math.pow(1 - beta, k) * (1 - eps)) fresh.push(j);
+        if (rng() < 1 - (1 - beta) ** k * (1 - eps)) fresh.push(j);
       }
       for (const j of shuffled(fresh, rng).slice(0, d - count)) next[j] = true;
       count = next.filter(Boolean).length;

@@ -22,7 +22,7 @@ function detectionGrid(size: number, maxPens: number): Triple[] {
   const rng = seededRng(SEED);
   const grid: Triple[] = [];
   for (let i = 0; i < size; i++) {
-    const N = Math.max(1, Math.round(10 * Math.pow(maxPens / 10, rng())));
+    const N = Math.max(1, Math.round(10 * (maxPens / 10) ** rng()));
     const n = randomInt(rng, N + 1);
     const d = randomInt(rng, N + 1);
     grid.push({ N, n, d });
@@ -88,7 +88,7 @@ export async function benchStats(): Promise<BenchRow[]> {
     for (let p = 0; p < imperfectPasses; p++) {
       for (const t of small) {
         let s = 0;
-        for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++) s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - Math.pow(0.2, x));
+        for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++) s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
         sum += s;
       }
     }
@@ -100,7 +100,7 @@ export async function benchStats(): Promise<BenchRow[]> {
   const rng = seededRng(SEED + 1);
   const questions: { N: number; d: number; C: number }[] = [];
   for (let i = 0; i < 20_000; i++) {
-    const N = Math.max(2, Math.round(10 * Math.pow(1000, rng())));
+    const N = Math.max(2, Math.round(10 * 1000 ** rng()));
     questions.push({ N, d: 1 + randomInt(rng, Math.max(1, Math.floor(N / 5))), C: [0.9, 0.95, 0.99][randomInt(rng, 3)]! });
   }
   const oursSize = time(() => {

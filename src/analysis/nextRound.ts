@@ -22,20 +22,16 @@ import {
   smallestRopes,
   smallestRopesConservative,
   type Allocation,
-  type BarnPlanSummary,
-  type OnTimeVersusMissed,
   type PlanRow,
-  type ScheduleOption,
-  type SimulatedDelay,
 } from '../plan/index.js';
 import { contactWeights, detectionProbability, simulateOnwardSpread, type DetectionEstimate } from '../spatial/index.js';
-import { detectionFor, pooledDetection, siteDetection, twoStageSiteDetection } from '../stats/index.js';
+import { detectionFor, pooledDetection, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
 import { budgetForSurveyed, monitoredBarns, withMonitoring } from './monitoredPlan.js';
-import { PLAN_SCHEMA, type BarnSizingReport, type MonitoredBarn, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
+import { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
 
 export { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
 import { formatPercent } from '../util/format.js';

@@ -76,7 +76,7 @@ function printPooled(io: CliIo, options: DetectOptions, barn: { pens: number; sa
   const probability = pooledDetection(pens, sampled, infected, poolSize, poolSensitivity, poolSpecificity);
   const unpooledProbability = detectionFor({ pens, infected, sensitivity })(sampled);
   const pools = poolSizes(sampled, poolSize).length;
-  const falseAlarm = 1 - Math.pow(poolSpecificity, pools);
+  const falseAlarm = 1 - poolSpecificity ** pools;
   if (options.json) {
     printJson(io, { pens, sampled, infected, poolSize, pools, poolSensitivity, poolSpecificity, probability, falseAlarm, sensitivity, unpooledProbability });
     return;

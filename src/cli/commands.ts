@@ -189,7 +189,7 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         siteIds = [site.id];
       }
       removeStrayTemps(ws.outbox);
-      let analyses;
+      let analyses: ReturnType<typeof regenerateOutputs>;
       try {
         analyses = regenerateOutputs(ws, siteIds);
       } catch (error) {

@@ -55,7 +55,7 @@ export async function retryFiles(ws: Workspace, files: readonly string[], io: Cl
  * and the previous one kept. (`watch` passes an io that puts the time before each line.)
  */
 export async function reloadConfiguration(ws: Workspace, io: CliIo): Promise<void> {
-  let config;
+  let config: ReturnType<typeof loadConfig>;
   try {
     config = loadConfig(ws.configDir);
   } catch (error) {

@@ -6,9 +6,9 @@ import { canonicalPenKey, expandLayout, penContacts, pensByKey, type BarnLayout,
 import {
   assaysFileSchema,
   correctionsFileSchema,
-  labAssaySchema,
+  type labAssaySchema,
   labProfileSchema,
-  programSchema,
+  type programSchema,
   sitesFileSchema,
 } from './schema.js';
 import { foldToken } from '../util/fold.js';

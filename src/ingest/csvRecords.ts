@@ -43,6 +43,7 @@ export class UnclosedQuoteError extends Error {
 const QUOTE = 34;
 const LF = 10;
 
+// biome-ignore lint/suspicious/noConstEnum: inlined by the compiler on the per-byte path of the CSV reader
 const enum Mode {
   /** At the start of a field. */
   FieldStart,

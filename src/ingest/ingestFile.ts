@@ -10,19 +10,15 @@ import type { Config } from '../config/types.js';
 import {
   FileAlreadyStoredError,
   RECEIPT_LIST_LIMIT,
-  type CallDisagreement,
-  type IdCorrectionNote,
-  type InvalidNote,
   type PlannedRope,
   type Store,
   type StoredFile,
-  type SupersessionNote,
 } from '../store/store.js';
 import { CORRECTIONS_FILE } from '../config/load.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, type Sniffed } from './decode.js';
 import { detectFileKind, type FileKind } from './detect.js';
-import { IngestError, REJECTION_CODES, type RejectionCode, type RowRejection } from './errors.js';
+import { IngestError, REJECTION_CODES, type RowRejection } from './errors.js';
 import { BATCH_ROWS, FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { correctionsForFile, likelyMeantIds, type MeantId } from './plannedIds.js';
 import { normaliseSampleId } from './rows.js';

@@ -103,7 +103,7 @@ export function correctionsEntry(written: string, meant: string, fileName: strin
 
 /** A POSIX shell word: as it is when it holds only safe characters, else in single quotes (POSIX.1-2017, Shell Command Language 2.2.3). */
 function shellWord(text: string): string {
-  return /^[A-Za-z0-9._\/-]+$/.test(text) ? text : `'${text.replaceAll("'", `'\\''`)}'`;
+  return /^[A-Za-z0-9._/-]+$/.test(text) ? text : `'${text.replaceAll("'", `'\\''`)}'`;
 }
 
 /** The command that reads an archived file again once the correction is in place. */

@@ -48,19 +48,19 @@ export function simulateOnwardSpread(graph: SpatialWeights, options: OnwardSprea
   const words = Math.ceil(n / 32);
   const bits = new Uint32Array(words * options.realisations);
   const state = new Uint8Array(n);
-  const escape = new Float64Array(n);
+  const escapeProbability = new Float64Array(n);
   const transmit = Float64Array.from(graph.weights, (w) => 1 - Math.min(1, options.beta * w));
   for (let r = 0; r < options.realisations; r++) {
     state.fill(0);
     for (const i of seeds) state[i] = 1;
     for (let step = 0; step < options.steps; step++) {
-      escape.fill(1 - options.background);
+      escapeProbability.fill(1 - options.background);
       for (let i = 0; i < n; i++) {
         if (!state[i]) continue;
-        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++) escape[graph.neighbours[a]!]! *= transmit[a]!;
+        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++) escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
       }
       const fresh: number[] = [];
-      for (let j = 0; j < n; j++) if (!state[j] && options.rng() >= escape[j]!) fresh.push(j);
+      for (let j = 0; j < n; j++) if (!state[j] && options.rng() >= escapeProbability[j]!) fresh.push(j);
       for (const j of fresh) state[j] = 2;
     }
     const base = r * words;

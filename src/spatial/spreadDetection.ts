@@ -73,7 +73,7 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
   const words = Math.ceil(n / 32);
   const bits = new Uint32Array(words * realisations);
   const state = new Uint8Array(n);
-  const escape = new Float64Array(n);
+  const escapeProbability = new Float64Array(n);
   const list = new Int32Array(n);
   const fresh = new Int32Array(n);
   const transmit = Float64Array.from(graph.weights, (w) => 1 - Math.min(1, beta * w));
@@ -85,16 +85,16 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
     state[first] = 1;
     list[count++] = first;
     while (count < d) {
-      escape.fill(1 - background);
+      escapeProbability.fill(1 - background);
       for (let c = 0; c < count; c++) {
         const i = list[c]!;
-        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++) escape[graph.neighbours[a]!]! *= transmit[a]!;
+        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++) escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
       }
       let added = 0;
       let reachable = false;
       for (let j = 0; j < n; j++) {
         if (state[j]) continue;
-        const e = escape[j]!;
+        const e = escapeProbability[j]!;
         if (e < 1) reachable = true;
         if (rng() >= e) fresh[added++] = j;
       }

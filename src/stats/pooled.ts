@@ -24,7 +24,7 @@ export function pooledBinomialDetection(pools: number, poolSize: number, prevale
   requireProbability('prevalence', prevalence);
   requireProbability('poolSensitivity', poolSensitivity);
   requireProbability('poolSpecificity', poolSpecificity);
-  const cleanPool = Math.pow(1 - prevalence, poolSize);
+  const cleanPool = (1 - prevalence) ** poolSize;
   const poolNegative = (1 - cleanPool) * (1 - poolSensitivity) + cleanPool * poolSpecificity;
   // -expm1(r log q) keeps the digits of a detection probability near 0.
   return poolNegative === 0 ? (pools === 0 ? 0 : 1) : -Math.expm1(pools * Math.log(poolNegative));

@@ -13,7 +13,7 @@ const SRC = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../sr
 
 /** Relative specifiers of `import ... from`, `export ... from` and `import('...')` in a module's text (comments left out). */
 export function relativeImports(text: string): string[] {
-  const code = text.replace(/\/\*[^]*?\*\//g, '').replace(/^\s*\/\/.*$/gm, '');
+  const code = text.replace(/\/\*[\s\S]*?\*\//g, '').replace(/^\s*\/\/.*$/gm, '');
   const found: string[] = [];
   const pattern = /(?:import|export)\s[^;]*?from\s+'(\.[^']+)'|import\(\s*'(\.[^']+)'\s*\)/g;
   for (const match of code.matchAll(pattern)) found.push((match[1] ?? match[2])!);

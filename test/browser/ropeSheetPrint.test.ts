@@ -124,7 +124,7 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
         // Every sequence number below the highest that no rope carries is named on the sheet.
         const sequences = new Set(analysis.plan.ropes.map((rope) => Number(/-(\d{3})/.exec(rope.sampleId)![1])));
         const missing = Array.from({ length: Math.max(...sequences) }, (_, i) => i + 1).filter((n) => !sequences.has(n));
-        const skippedText = missing.length > 0 ? await page.locator('[data-skipped]').innerText() : '';
+        const skippedText = missing.length > 0 ? await page.locator('[data-skipped]').textContent() : '';
         for (const n of missing) expect(skippedText, `${site}: skipped ${n} named`).toContain(String(n).padStart(3, '0'));
         await page.evaluate(MARK);
         const pdf = await page.pdf({ format, printBackground: true });

@@ -84,7 +84,7 @@ describe('ropewatch retry', () => {
 describe('watch and a changed configuration', () => {
   it('reloads it, says so, keeps the old one when the new one is broken, and tries refused files again', async () => {
     const ws = workspace({ configFiles: { 'labs/northfield.yaml': WRONG_PROFILE } });
-    const { sheet, results } = dropInbox(ws);
+    dropInbox(ws);
     let stop!: () => void;
     const stopSignal = new Promise<void>((resolve) => (stop = resolve));
     let stdout = '';

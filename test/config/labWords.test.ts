@@ -27,7 +27,7 @@ describe('lab words', () => {
   });
 
   it("takes a lab's own words per class, keeping the English words for a class it leaves out", () => {
-    const dir = configWith({ 'labs/ostermark.yaml': ostermark.replace(/callWords:\n(  .*\n)+/, 'callWords:\n  positive: [positiv]\n') });
+    const dir = configWith({ 'labs/ostermark.yaml': ostermark.replace(/callWords:\n( {2}.*\n)+/, 'callWords:\n  positive: [positiv]\n') });
     const lab = loadConfig(dir).labById.get('ostermark')!;
     expect(lab.callWords.positive).toEqual(['positiv']);
     expect(lab.callWords.negative).toEqual(DEFAULT_CALL_WORDS.negative);

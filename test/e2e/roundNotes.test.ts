@@ -93,7 +93,7 @@ describe('a corrected report and a mistyped planned ID on the round outputs', ()
     expect(a3.corrections).toBe('');
     const html = read(ws, 'summary.html');
     // Common practice, no source: the page's wording is the project's own.
-    const table = /<table data-replaced-reports="1">[^]*?<\/table>/.exec(html)?.[0];
+    const table = /<table data-replaced-reports="1">[\s\S]*?<\/table>/.exec(html)?.[0];
     expect(table).toBeDefined();
     expect(text(table!)).toContain(`F1 A1${first}PRRSVnegative (Undetermined) \u2192 positive (30.10)reported 2026-09-02, corrected 2026-09-04`);
     expect(html).toContain('<h2>Corrected and replaced reports</h2>');
@@ -118,10 +118,10 @@ describe('a corrected report and a mistyped planned ID on the round outputs', ()
     ]);
 
     const html = read(ws, 'summary.html');
-    const pen = /<tr data-pen="A2" data-mistyped="[^"]+">[^]*?<\/tr>/.exec(html)?.[0];
+    const pen = /<tr data-pen="A2" data-mistyped="[^"]+">[\s\S]*?<\/tr>/.exec(html)?.[0];
     expect(text(pen!)).toContain(`result refused: mistyped ID?written ${written} (${RESULTS}, line 3); most likely meant ${meant}`);
     expect(html).toContain('none missing; <strong>1 result refused under a mistyped ID</strong> (pen A2; not missing, not counted)');
-    const alerts = [...html.matchAll(/<li data-alert="([a-z-]+)">([^]*?)<\/li>/g)].map((match) => ({ kind: match[1], message: text(match[2]!) }));
+    const alerts = [...html.matchAll(/<li data-alert="([a-z-]+)">([\s\S]*?)<\/li>/g)].map((match) => ({ kind: match[1], message: text(match[2]!) }));
     expect(alerts.map((alert) => alert.kind)).not.toContain('missing-ropes');
     const alert = alerts.find((entry) => entry.kind === 'mistyped-id')!;
     expect(alert.message).toContain(`pen A2, planned ${meant}, came back as ${written} (${RESULTS}, line 3)`);
@@ -133,7 +133,7 @@ describe('a corrected report and a mistyped planned ID on the round outputs', ()
   it('lets the result in with the line and the command the page gives, and then shows the pen as positive', async () => {
     const ws = workspace();
     await roundWithNotes(ws);
-    const fix = /<ul data-mistyped-fix="F1">[^]*?<\/ul>/.exec(read(ws, 'summary.html'))?.[0];
+    const fix = /<ul data-mistyped-fix="F1">[\s\S]*?<\/ul>/.exec(read(ws, 'summary.html'))?.[0];
     const codes = [...fix!.matchAll(/<code>([^<]*)<\/code>/g)].map((match) => text(match[1]!));
     expect(codes).toEqual([`- { written: "${written}", meant: "${meant}", file: "${RESULTS}" }`, 'sampleIds:', `ropewatch ingest inbox/archive/${RESULTS}`]);
     fs.writeFileSync(path.join(ws.paths.configDir, 'corrections.yaml'), `${codes[1]}\n  ${codes[0]}\n`);

@@ -156,7 +156,7 @@ describe('detectFileKind on arbitrary heads', () => {
 
 /** Runs bytes through TextChunkDecoder in the given chunk sizes; returns the text or the error. */
 async function decodeChunks(bytes: Uint8Array, chunkSizes: readonly number[], declared: 'utf-8' | 'latin1' | 'auto'): Promise<{ text: string } | { error: unknown }> {
-  let sniffed;
+  let sniffed: ReturnType<typeof sniffEncoding>;
   try {
     sniffed = sniffEncoding(bytes.subarray(0, 64 * 1024), declared);
   } catch (error) {

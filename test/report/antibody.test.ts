@@ -51,7 +51,7 @@ describe('S/P shading', () => {
 
   it('fills a pen with the step given for it, not with its load', () => {
     const svg = renderBarnMap({ id: 'X', name: 'X', layout: twoRowLayout() }, { key: 'k', scale: 20, detail: 'full', title: 't', results: new Map([['A1', { resultClass: 'positive', load: 1.2, shade: 3 }]]) });
-    expect(svg).toMatch(new RegExp(`data-pen="A1"[^]*?fill="${LOAD_RAMP[3]!.fill}"`));
+    expect(svg).toMatch(new RegExp(`data-pen="A1"[\\s\\S]*?fill="${LOAD_RAMP[3]!.fill}"`));
     // The load of an S/P is no Ct load: the tooltip names none.
     expect(svg).not.toContain('load 1.2');
     expect(() => renderBarnMap({ id: 'X', name: 'X', layout: twoRowLayout() }, { key: 'k', scale: 20, detail: 'full', title: 't', results: new Map([['A1', { resultClass: 'positive', load: 1, shade: 5 }]]) })).toThrow(RangeError);
@@ -128,7 +128,7 @@ describe('summary of a round with an antibody assay', () => {
     expect(html).toContain('data-antibody="PRRSV-AB"');
     expect(html).toContain('not necessarily current infection');
     expect(html).toContain('it never resets the freedom of PRRSV RT-PCR');
-    expect(html).toMatch(/data-assay="PRRSV-AB" data-measure="sp-ratio"[^]*?freedom from exposure reset by an antibody positive round/);
+    expect(html).toMatch(/data-assay="PRRSV-AB" data-measure="sp-ratio"[\s\S]*?freedom from exposure reset by an antibody positive round/);
     // Pens with virus or antibody, both results side by side (A2 both, A1 and A3 antibody only).
     expect(html).toMatch(/data-pair-pen="A1"><td>A1<\/td><td>n\.d\. \(negative\)<\/td><td>S\/P 1\.2 \(positive\)<\/td><td>antibody without virus/);
     expect(html).toMatch(/data-pair-pen="A2"><td>A2<\/td><td>28 \(positive\)<\/td><td>S\/P 1\.2 \(positive\)<\/td><td>virus and antibody/);

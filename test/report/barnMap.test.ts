@@ -104,14 +104,14 @@ describe('renderBarnMap', () => {
   });
 
   it('hatches empty pens and cross-hatches out-of-use pens', () => {
-    expect(svg).toMatch(/data-pen="B4" data-status="empty"[^]*?fill="url\(#test-empty\)"/);
-    expect(svg).toMatch(/data-pen="A2" data-status="out-of-use"[^]*?fill="url\(#test-out\)"/);
+    expect(svg).toMatch(/data-pen="B4" data-status="empty"[\s\S]*?fill="url\(#test-empty\)"/);
+    expect(svg).toMatch(/data-pen="A2" data-status="out-of-use"[\s\S]*?fill="url\(#test-out\)"/);
   });
 
   it('gives positives a heavy outline and suspect and invalid pens a symbol', () => {
-    expect(svg).toMatch(/data-pen="A1"[^]*?stroke="#000000" stroke-width="3\.2"/);
-    expect(svg).toMatch(/data-pen="B1"[^]*?>\?<\/text>/);
-    expect(svg).toMatch(/data-pen="B2"[^]*?>\u00d7<\/text>/);
+    expect(svg).toMatch(/data-pen="A1"[\s\S]*?stroke="#000000" stroke-width="3\.2"/);
+    expect(svg).toMatch(/data-pen="B1"[\s\S]*?>\?<\/text>/);
+    expect(svg).toMatch(/data-pen="B2"[\s\S]*?>\u00d7<\/text>/);
   });
 
   it('draws a box around each cluster', () => {

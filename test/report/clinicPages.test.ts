@@ -49,7 +49,7 @@ describe('a barn against the target', () => {
           const lostRopes = barn.missingSampleIds.length;
           for (const tally of barn.assays) {
             rows++;
-            const match = new RegExp(`data-barn="${barn.barnId}"[^]*?<tr data-assay="${tally.assayId}">[^]*?data-against="([a-z-]+)"`).exec(html);
+            const match = new RegExp(`data-barn="${barn.barnId}"[\\s\\S]*?<tr data-assay="${tally.assayId}">[\\s\\S]*?data-against="([a-z-]+)"`).exec(html);
             expect(match, `${summary.round.id} ${barn.barnId} ${tally.assayId}: a row against the target`).not.toBeNull();
             const cell = match![1];
             const below = tally.confidence.detectionConfidence < summary.program.targetConfidence;
@@ -75,7 +75,7 @@ describe('the since-last-round table', () => {
       const html = sinceBlock(analysis.summaries[index]!, since);
       for (const entry of since.newlyPositive) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}" data-since-assay="${entry.assayId}"><td>[^<]*</td><td>[^<]*</td><td>[^<]*\\b${entry.penId}\\b`));
       for (const entry of since.cleared) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}" data-since-assay="${entry.assayId}">(<td>[^<]*</td>){3}<td>[^<]*\\b${entry.penId}\\b`));
-      for (const entry of since.missing) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"[^]*?${entry.penId ?? entry.sampleId}`));
+      for (const entry of since.missing) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"[\\s\\S]*?${entry.penId ?? entry.sampleId}`));
       // One row per barn and assay with a change, or one row for a barn with missing ropes only.
       const keys = new Set([...since.newlyPositive, ...since.cleared, ...since.invalid].map((entry) => `${entry.barnId}/${entry.assayId}`));
       const onlyMissing = new Set(since.missing.map((entry) => entry.barnId).filter((barnId) => ![...keys].some((key) => key.startsWith(`${barnId}/`))));
@@ -94,7 +94,7 @@ describe('the since-last-round table', () => {
     const layoutBarn = analysis.site.barns.find((entry) => entry.id === barn.barnId)!;
     const svg = renderBarnMap(layoutBarn, { key: 'k', scale: 30, detail: 'full', title: 't', results: marks });
     expect((svg.match(/data-result="missing"/g) ?? []).length).toBe(new Set(Object.values(barn.missingPens)).size);
-    expect(resultsLegend('k', 40)).toMatch(/data-legend-missing=""[^]*?stroke-dasharray="3 2"[^]*?>M<\/text><\/svg>no result \(missing\)/);
+    expect(resultsLegend('k', 40)).toMatch(/data-legend-missing=""[\s\S]*?stroke-dasharray="3 2"[\s\S]*?>M<\/text><\/svg>no result \(missing\)/);
   });
 });
 

@@ -28,7 +28,7 @@ beforeAll(async () => {
     editConfig: (dir) => {
       const file = path.join(dir, 'assays.yaml');
       const text = fs.readFileSync(file, 'utf8');
-      const edited = text.replace(/(id: PRRSV[^]*?notifiable: )false/, '$1true');
+      const edited = text.replace(/(id: PRRSV[\s\S]*?notifiable: )false/, '$1true');
       expect(edited).not.toBe(text);
       fs.writeFileSync(file, edited);
     },

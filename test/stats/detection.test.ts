@@ -106,7 +106,7 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
       const d = randomInt(rng, N + 1);
       const se = rng();
       let expected = 0;
-      for (let x = Math.max(0, n + d - N); x <= Math.min(n, d); x++) expected += hypergeometricPmf(x, N, d, n) * (1 - Math.pow(1 - se, x));
+      for (let x = Math.max(0, n + d - N); x <= Math.min(n, d); x++) expected += hypergeometricPmf(x, N, d, n) * (1 - (1 - se) ** x);
       expectClose(imperfectDetection(N, n, d, se), expected, { abs: 1e-12 }, `N=${N} n=${n} d=${d} Se=${se}`);
     }
   });

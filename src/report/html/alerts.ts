@@ -284,7 +284,7 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
       ),
     );
   }
-  if (plan && plan.overdue) {
+  if (plan?.overdue) {
     alerts.push(
       alert('overdue', null, null, `Hang the ropes of round ${plan.round} now: it is overdue`, `Round ${plan.round} was due on ${plan.dueDate}, ${plural(plan.daysOverdue, 'day')} ago.`, { daysOverdue: plan.daysOverdue }),
     );

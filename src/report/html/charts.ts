@@ -243,7 +243,7 @@ export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendO
     options.cutoffs.map((cutoff) => cutoff.value),
   );
   const shown = [...options.cutoffs].sort((a, b) => a.value - b.value);
-  const { width, height, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 26 : null });
+  const { width, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 26 : null });
   const yAt = (sp: number) => top + ((axis.top - sp) / (axis.top - axis.bottom)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
   const spLabel = (sp: number) => String(Math.round(sp * 100) / 100);

@@ -13,7 +13,7 @@ import { code128Svg } from './barcode.js';
 import { renderBarnMap, type PlannedMark } from './barnMap.js';
 import { escapeHtml } from './escape.js';
 import { LABEL_LAYOUTS } from './labelSheetPage.js';
-import { count, pct, renderPage, sheetLegend } from './page.js';
+import { count, renderPage, sheetLegend } from './page.js';
 
 export interface RopeSheetInput {
   site: Site;
