@@ -57,7 +57,8 @@ export async function benchCli(): Promise<BenchRow[]> {
     // falls on all of them alike.
     for (const args of Object.values(commands)) once(args, hook);
     for (let run = 0; run < RUNS; run++) {
-      for (const [name, args] of Object.entries(commands) as [keyof typeof commands, string[]][]) samples[name].push(once(args, hook));
+      for (const [name, args] of Object.entries(commands) as [keyof typeof commands, string[]][])
+        samples[name].push(once(args, hook));
     }
   } finally {
     fs.rmSync(dir, { recursive: true, force: true });

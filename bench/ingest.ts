@@ -39,7 +39,12 @@ const FIRST_ROUND = new Date(2026, 0, 5);
  * 14 days apart, the start moving one pen per round), one row per rope and assay, sample IDs in each site's pattern (no rope sheet needed).
  * Streams to disk in blocks; returns the number of rounds.
  */
-export function writeBigExport(file: string, rows: number, shape: { sites: number; barnsPerSite: number; pensPerRow: number } = SHAPE, every = 1): number {
+export function writeBigExport(
+  file: string,
+  rows: number,
+  shape: { sites: number; barnsPerSite: number; pensPerRow: number } = SHAPE,
+  every = 1,
+): number {
   const pensPerBarn = 2 * shape.pensPerRow;
   const perRound = shape.sites * shape.barnsPerSite * Math.ceil(pensPerBarn / every) * ASSAYS.length;
   const rounds = Math.ceil(rows / perRound);
@@ -66,7 +71,16 @@ export function writeBigExport(file: string, rows: number, shape: { sites: numbe
               if (written >= rows) break;
               // About one rope in 40 positive, with a Ct between 24 and 36.
               const positive = (site * 7 + barn * 3 + pen * 11 + round * 5) % 40 === 0 && assay === 'PRRSV';
-              block.push(northfieldLine(`NV-${written}`, sampleId, assay, positive ? (24 + ((pen + round) % 120) / 10).toFixed(1) : 'Undetermined', iso, reported));
+              block.push(
+                northfieldLine(
+                  `NV-${written}`,
+                  sampleId,
+                  assay,
+                  positive ? (24 + ((pen + round) % 120) / 10).toFixed(1) : 'Undetermined',
+                  iso,
+                  reported,
+                ),
+              );
               written++;
               if (block.length >= 10_000) flush();
             }
@@ -110,21 +124,42 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
   if (mode === 'baseline') {
     fs.mkdirSync(dir, { recursive: true });
     const { ms, stored } = await baselineIngest(file, path.join(dir, 'baseline.db'));
-    process.stdout.write(JSON.stringify({ mode, rows, stored, ms, siteRounds: 0, peakRssMb: peakRssMb() } satisfies ChildReport) + '\n');
+    process.stdout.write(
+      JSON.stringify({ mode, rows, stored, ms, siteRounds: 0, peakRssMb: peakRssMb() } satisfies ChildReport) + '\n',
+    );
     return;
   }
-  const paths = { configDir: path.join(dir, 'config'), dbFile: path.join(dir, 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
+  const paths = {
+    configDir: path.join(dir, 'config'),
+    dbFile: path.join(dir, 'store.db'),
+    inbox: path.join(dir, 'inbox'),
+    outbox: path.join(dir, 'outbox'),
+  };
   fs.mkdirSync(paths.inbox, { recursive: true });
   const target = path.join(paths.inbox, path.basename(file));
   fs.copyFileSync(file, target);
-  const ws = openWorkspace(paths, () => new Date('2026-12-01T12:00:00Z'), () => {});
+  const ws = openWorkspace(
+    paths,
+    () => new Date('2026-12-01T12:00:00Z'),
+    () => {},
+  );
   const started = performance.now();
   const receipt =
     mode === 'pipeline'
       ? (await processFile(ws, target)).receipt
       : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now });
   const ms = performance.now() - started;
-  const siteRounds = mode === 'pipeline' ? ws.config.sites.reduce((sum, site) => sum + (fs.existsSync(path.join(paths.outbox, site.id)) ? fs.readdirSync(path.join(paths.outbox, site.id)).filter((entry) => /^r\d+-/.test(entry)).length : 0), 0) : 0;
+  const siteRounds =
+    mode === 'pipeline'
+      ? ws.config.sites.reduce(
+          (sum, site) =>
+            sum +
+            (fs.existsSync(path.join(paths.outbox, site.id))
+              ? fs.readdirSync(path.join(paths.outbox, site.id)).filter((entry) => /^r\d+-/.test(entry)).length
+              : 0),
+          0,
+        )
+      : 0;
   const stored = ws.store.counts().results;
   ws.close();
   if (receipt.status !== 'accepted') throw new Error(`bench export refused: ${JSON.stringify(receipt.reason)}`);
@@ -133,7 +168,11 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
 }
 
 function spawnChild(mode: ChildMode, file: string, dir: string, rows: number): ChildReport {
-  const run = spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url), '--child', mode, file, dir, String(rows)], { cwd: REPO, encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+  const run = spawnSync(
+    process.execPath,
+    ['--import', 'tsx', fileURLToPath(import.meta.url), '--child', mode, file, dir, String(rows)],
+    { cwd: REPO, encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 },
+  );
   if (run.status !== 0) throw new Error(`bench child failed (${run.status}): ${run.stderr}`);
   return JSON.parse(run.stdout.trim().split('\n').at(-1)!) as ChildReport;
 }
@@ -144,7 +183,9 @@ export async function baselineIngest(file: string, dbFile: string): Promise<{ ms
   const db = new Database(dbFile);
   db.pragma('journal_mode = WAL');
   db.pragma('synchronous = FULL');
-  db.exec('CREATE TABLE rows (case_no TEXT, sample_id TEXT, test TEXT, ct TEXT, call TEXT, control TEXT, collected TEXT, reported TEXT, status TEXT)');
+  db.exec(
+    'CREATE TABLE rows (case_no TEXT, sample_id TEXT, test TEXT, ct TEXT, call TEXT, control TEXT, collected TEXT, reported TEXT, status TEXT)',
+  );
   const insert = db.prepare('INSERT INTO rows VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)');
   db.exec('BEGIN IMMEDIATE');
   let stored = 0;
@@ -179,7 +220,9 @@ export async function benchIngest(): Promise<BenchRow[]> {
     const write = (rows: number, every: number) => {
       const file = path.join(root, `nvdl_bench_${rows}_${every}.csv`);
       const rounds = writeBigExport(file, rows, SHAPE, every);
-      process.stderr.write(`bench ingest: wrote ${rows} rows (${rounds} rounds x ${SHAPE.sites} sites), ${(fs.statSync(file).size / 1e6).toFixed(1)} MB\n`);
+      process.stderr.write(
+        `bench ingest: wrote ${rows} rows (${rounds} rounds x ${SHAPE.sites} sites), ${(fs.statSync(file).size / 1e6).toFixed(1)} MB\n`,
+      );
       return file;
     };
     let runs = 0;
@@ -260,4 +303,3 @@ if (invokedDirectly) {
   if (flag === '--child') await runChild(mode as ChildMode, file!, dir!, Number(rows));
   else process.stdout.write(JSON.stringify(await benchIngest(), null, 2) + '\n');
 }
-

@@ -27,13 +27,22 @@ export async function benchRecompute(sites = 200): Promise<BenchRow[]> {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-bench-recompute-'));
   try {
     const shape = { sites, ...SHAPE };
-    const paths = { configDir: path.join(root, 'config'), dbFile: path.join(root, 'store.db'), inbox: path.join(root, 'inbox'), outbox: path.join(root, 'outbox') };
+    const paths = {
+      configDir: path.join(root, 'config'),
+      dbFile: path.join(root, 'store.db'),
+      inbox: path.join(root, 'inbox'),
+      outbox: path.join(root, 'outbox'),
+    };
     writeManySiteConfig(paths.configDir, shape);
     fs.mkdirSync(paths.inbox, { recursive: true });
     const rows = sites * SHAPE.barnsPerSite * Math.ceil((2 * SHAPE.pensPerRow) / EVERY) * 2 * ROUNDS;
     const file = path.join(paths.inbox, 'nvdl_recompute.csv');
     writeBigExport(file, rows, shape, EVERY);
-    const ws = openWorkspace(paths, () => new Date('2026-12-01T12:00:00Z'), () => {});
+    const ws = openWorkspace(
+      paths,
+      () => new Date('2026-12-01T12:00:00Z'),
+      () => {},
+    );
     try {
       const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now });
       if (receipt.status !== 'accepted') throw new Error(`recompute export refused: ${JSON.stringify(receipt.reason)}`);
@@ -42,9 +51,16 @@ export async function benchRecompute(sites = 200): Promise<BenchRow[]> {
       const ms = performance.now() - started;
       const siteRounds = analyses.reduce((sum, analysis) => sum + analysis.rounds.length, 0);
       const ropes = analyses.reduce((sum, analysis) => sum + analysis.plan.ropes.length, 0);
-      process.stderr.write(`bench recompute: ${siteRounds} site-rounds from ${receipt.rows.accepted} rows in ${(ms / 1000).toFixed(1)} s\n`);
+      process.stderr.write(
+        `bench recompute: ${siteRounds} site-rounds from ${receipt.rows.accepted} rows in ${(ms / 1000).toFixed(1)} s\n`,
+      );
       return [
-        { name: `regenerateOutputs, ${siteRounds} site-rounds (${sites} sites)`, value: ms / 1000, unit: 's', note: `checksum ${siteRounds} site-rounds, ${ropes} ropes planned, ${receipt.rows.accepted} rows` },
+        {
+          name: `regenerateOutputs, ${siteRounds} site-rounds (${sites} sites)`,
+          value: ms / 1000,
+          unit: 's',
+          note: `checksum ${siteRounds} site-rounds, ${ropes} ropes planned, ${receipt.rows.accepted} rows`,
+        },
         { name: 'regenerateOutputs per site-round', value: ms / siteRounds, unit: 'ms' },
       ];
     } finally {
@@ -56,4 +72,7 @@ export async function benchRecompute(sites = 200): Promise<BenchRow[]> {
 }
 
 const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWith(process.argv[1].replace(/\\/g, '/'));
-if (invokedDirectly) process.stdout.write(JSON.stringify(await benchRecompute(process.argv[2] ? Number(process.argv[2]) : undefined), null, 2) + '\n');
+if (invokedDirectly)
+  process.stdout.write(
+    JSON.stringify(await benchRecompute(process.argv[2] ? Number(process.argv[2]) : undefined), null, 2) + '\n',
+  );

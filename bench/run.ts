@@ -24,7 +24,10 @@ async function loadParts(only: readonly string[]): Promise<Part[]> {
   const here = path.dirname(fileURLToPath(import.meta.url));
   for (const [name, module, exported] of extra) {
     if (fs.existsSync(path.join(here, module.replace('.js', '.ts')))) {
-      parts.push({ name, run: async () => ((await import(module)) as Record<string, () => Promise<BenchRow[]>>)[exported]!() });
+      parts.push({
+        name,
+        run: async () => ((await import(module)) as Record<string, () => Promise<BenchRow[]>>)[exported]!(),
+      });
     }
   }
   return only.length === 0 ? parts : parts.filter((part) => only.includes(part.name));
@@ -47,7 +50,10 @@ async function main(): Promise<void> {
   }
   const lines = ['part       | measure | value | unit | baseline | ratio', '---|---|---|---|---|---'];
   for (const { part, rows } of results) {
-    for (const row of rows) lines.push(`${part} | ${row.name} | ${formatNumber(row.value)} | ${row.unit} | ${formatNumber(row.baseline)} | ${formatNumber(row.ratio)}`);
+    for (const row of rows)
+      lines.push(
+        `${part} | ${row.name} | ${formatNumber(row.value)} | ${row.unit} | ${formatNumber(row.baseline)} | ${formatNumber(row.ratio)}`,
+      );
   }
   process.stdout.write(lines.join('\n') + '\n');
   const report = {

@@ -27,8 +27,18 @@ const PERMUTATIONS = 999;
 const REALISATIONS = 10_000;
 
 const layout: BarnLayout = {
-  rows: 2, pensPerRow: 40, numbering: 'per-row', rowLabels: ['A', 'B'], padDigits: 0,
-  penWidth: 1, penDepth: 1, alleyWidth: 0.5, gapsAfter: [], gapWidth: 1, empty: [], outOfUse: [],
+  rows: 2,
+  pensPerRow: 40,
+  numbering: 'per-row',
+  rowLabels: ['A', 'B'],
+  padDigits: 0,
+  penWidth: 1,
+  penDepth: 1,
+  alleyWidth: 0.5,
+  gapsAfter: [],
+  gapWidth: 1,
+  empty: [],
+  outOfUse: [],
 };
 
 function time(run: () => number): { ms: number; checksum: number } {
@@ -38,7 +48,12 @@ function time(run: () => number): { ms: number; checksum: number } {
   return { ms: Number(process.hrtime.bigint() - start) / 1e6, checksum };
 }
 
-function row(name: string, ours: { ms: number; checksum: number }, base: { ms: number; checksum: number }, note: string): BenchRow {
+function row(
+  name: string,
+  ours: { ms: number; checksum: number },
+  base: { ms: number; checksum: number },
+  note: string,
+): BenchRow {
   return {
     name,
     value: ours.ms,
@@ -79,10 +94,11 @@ function naiveMoranP(W: number[][], x: number[], m: number, rng: Rng): number {
     const z = v.map((t) => t - mean);
     let num = 0;
     let s0 = 0;
-    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-      num += W[i]![j]! * z[i]! * z[j]!;
-      s0 += W[i]![j]!;
-    }
+    for (let i = 0; i < n; i++)
+      for (let j = 0; j < n; j++) {
+        num += W[i]![j]! * z[i]! * z[j]!;
+        s0 += W[i]![j]!;
+      }
     return (n / s0) * (num / z.reduce((s, t) => s + t * t, 0));
   };
   const obs = I(x);
@@ -93,7 +109,9 @@ function naiveMoranP(W: number[][], x: number[], m: number, rng: Rng): number {
 
 function naiveScanP(points: { x: number; y: number }[], x: number[], m: number, rng: Rng): number {
   const n = points.length;
-  const orders = points.map((p) => points.map((q, j) => ({ j, d: Math.hypot(q.x - p.x, q.y - p.y) })).sort((a, b) => a.d - b.d || a.j - b.j));
+  const orders = points.map((p) =>
+    points.map((q, j) => ({ j, d: Math.hypot(q.x - p.x, q.y - p.y) })).sort((a, b) => a.d - b.d || a.j - b.j),
+  );
   const xlx = (a: number, b: number) => (a === 0 ? 0 : a * Math.log(a / b));
   const maxLlr = (v: number[]) => {
     const C = v.reduce((s, t) => s + t, 0);
@@ -117,7 +135,16 @@ function naiveScanP(points: { x: number; y: number }[], x: number[], m: number, 
   return (1 + b) / (1 + m);
 }
 
-function naiveSpreadDetection(A: number[][], d: number, beta: number, eps: number, ropes: number[], se: number, realisations: number, rng: Rng): number {
+function naiveSpreadDetection(
+  A: number[][],
+  d: number,
+  beta: number,
+  eps: number,
+  ropes: number[],
+  se: number,
+  realisations: number,
+  rng: Rng,
+): number {
   const n = A.length;
   let sum = 0;
   for (let r = 0; r < realisations; r++) {
@@ -158,30 +185,71 @@ export async function benchSpatial(): Promise<BenchRow[]> {
   const points = pens.map((p) => ({ id: p.id, x: p.x, y: p.y }));
   const rows: BenchRow[] = [];
 
-  const jcOurs = time(() => joinCountTest(w, positive, { rng: seededRng(SEED), permutations: PERMUTATIONS }).pPermutation);
+  const jcOurs = time(
+    () => joinCountTest(w, positive, { rng: seededRng(SEED), permutations: PERMUTATIONS }).pPermutation,
+  );
   const jcBase = time(() => naiveJoinCountP(W, x01, PERMUTATIONS, seededRng(SEED)));
-  rows.push(row('spatial: join-count test, 999 permutations, 2 x 40 barn', jcOurs, jcBase, 'sparse CSR, partial shuffle vs dense n^2 per permutation'));
+  rows.push(
+    row(
+      'spatial: join-count test, 999 permutations, 2 x 40 barn',
+      jcOurs,
+      jcBase,
+      'sparse CSR, partial shuffle vs dense n^2 per permutation',
+    ),
+  );
 
   const moOurs = time(() => moranTest(w, loads, { rng: seededRng(SEED), permutations: PERMUTATIONS }).pPermutation!);
   const moBase = time(() => naiveMoranP(W, loads, PERMUTATIONS, seededRng(SEED)));
-  rows.push(row("spatial: Moran's I test, 999 permutations, 2 x 40 barn", moOurs, moBase, 'sparse lag vs dense n^2 with array copies'));
+  rows.push(
+    row(
+      "spatial: Moran's I test, 999 permutations, 2 x 40 barn",
+      moOurs,
+      moBase,
+      'sparse lag vs dense n^2 with array copies',
+    ),
+  );
 
-  const scOurs = time(() => bernoulliScan(points, positive, { rng: seededRng(SEED), permutations: PERMUTATIONS }).mostLikely?.p ?? 1);
+  const scOurs = time(
+    () => bernoulliScan(points, positive, { rng: seededRng(SEED), permutations: PERMUTATIONS }).mostLikely?.p ?? 1,
+  );
   const scBase = time(() => naiveScanP(points, x01, PERMUTATIONS, seededRng(SEED)));
-  rows.push(row('spatial: Bernoulli scan, 999 replicates, 2 x 40 barn', scOurs, scBase, 'prefix counts + k ln k table vs recount per window'));
+  rows.push(
+    row(
+      'spatial: Bernoulli scan, 999 replicates, 2 x 40 barn',
+      scOurs,
+      scBase,
+      'prefix counts + k ln k table vs recount per window',
+    ),
+  );
 
   const ropes = ids.filter((_, i) => i % 4 === 0);
   const ropeIndex = ropes.map((id) => ids.indexOf(id));
   const spOurs = time(() => {
-    const o = simulateOutbreaks(w, { infected: 8, beta: 0.3, background: 0.01, realisations: REALISATIONS, rng: seededRng(SEED) });
+    const o = simulateOutbreaks(w, {
+      infected: 8,
+      beta: 0.3,
+      background: 0.01,
+      realisations: REALISATIONS,
+      rng: seededRng(SEED),
+    });
     return detectionProbability(o, ropes, 0.9).p;
   });
   const spBase = time(() => naiveSpreadDetection(W, 8, 0.3, 0.01, ropeIndex, 0.9, REALISATIONS, seededRng(SEED)));
-  rows.push(row('spatial: 10,000 SI outbreaks + detection of 20 ropes, 2 x 40 barn', spOurs, spBase, 'bitsets + sparse escape products vs dense neighbour scan and array copies'));
+  rows.push(
+    row(
+      'spatial: 10,000 SI outbreaks + detection of 20 ropes, 2 x 40 barn',
+      spOurs,
+      spBase,
+      'bitsets + sparse escape products vs dense neighbour scan and array copies',
+    ),
+  );
   return rows;
 }
 
 if (import.meta.url === pathToFileURL(process.argv[1] ?? '').href) {
   const rows = await benchSpatial();
-  for (const r of rows) console.log(`${r.name}: ${r.value.toFixed(1)} ${r.unit} (baseline ${r.baseline?.toFixed(1)}, ratio ${r.ratio?.toFixed(3)}) ${r.note ?? ''}`);
+  for (const r of rows)
+    console.log(
+      `${r.name}: ${r.value.toFixed(1)} ${r.unit} (baseline ${r.baseline?.toFixed(1)}, ratio ${r.ratio?.toFixed(3)}) ${r.note ?? ''}`,
+    );
 }

@@ -15,7 +15,11 @@ import type { BenchRow } from './types.js';
 const SEED = 4242;
 const EVALUATIONS = 1_000_000;
 
-interface Triple { N: number; n: number; d: number }
+interface Triple {
+  N: number;
+  n: number;
+  d: number;
+}
 
 /** Barns from 10 to 100,000 pens, log-uniform, with n and d anywhere in [0, N]. */
 function detectionGrid(size: number, maxPens: number): Triple[] {
@@ -38,7 +42,13 @@ function time(run: () => number): { ns: number; checksum: number } {
   return { ns, checksum };
 }
 
-function row(name: string, unit: string, ours: { ns: number; checksum: number }, base: { ns: number; checksum: number } | null, count: number): BenchRow {
+function row(
+  name: string,
+  unit: string,
+  ours: { ns: number; checksum: number },
+  base: { ns: number; checksum: number } | null,
+  count: number,
+): BenchRow {
   const value = ours.ns / count;
   const out: BenchRow = { name, value, unit, note: `checksum ${ours.checksum.toPrecision(12)}` };
   if (base !== null) {
@@ -88,20 +98,33 @@ export async function benchStats(): Promise<BenchRow[]> {
     for (let p = 0; p < imperfectPasses; p++) {
       for (const t of small) {
         let s = 0;
-        for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++) s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
+        for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++)
+          s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
         sum += s;
       }
     }
     return sum;
   });
-  rows.push(row('detection, imperfect rope Se=0.8 (Cameron & Baldock), N <= 1,000', 'ns/eval', oursImperfect, stdlibImperfect, imperfectCount));
+  rows.push(
+    row(
+      'detection, imperfect rope Se=0.8 (Cameron & Baldock), N <= 1,000',
+      'ns/eval',
+      oursImperfect,
+      stdlibImperfect,
+      imperfectCount,
+    ),
+  );
 
   // 3. Sample size: ours vs the same binary search on @stdlib, over barns, designs and targets.
   const rng = seededRng(SEED + 1);
   const questions: { N: number; d: number; C: number }[] = [];
   for (let i = 0; i < 20_000; i++) {
     const N = Math.max(2, Math.round(10 * 1000 ** rng()));
-    questions.push({ N, d: 1 + randomInt(rng, Math.max(1, Math.floor(N / 5))), C: [0.9, 0.95, 0.99][randomInt(rng, 3)]! });
+    questions.push({
+      N,
+      d: 1 + randomInt(rng, Math.max(1, Math.floor(N / 5))),
+      C: [0.9, 0.95, 0.99][randomInt(rng, 3)]!,
+    });
   }
   const oursSize = time(() => {
     let sum = 0;
@@ -124,7 +147,13 @@ export async function benchStats(): Promise<BenchRow[]> {
   });
   // The checksums may differ by a few ropes: @stdlib rounds some exact ties below the target
   // (N=20, d=1, n=18: 18/20 = 0.9 exactly, @stdlib 0.899999999999999), where ropewatch is exact.
-  const sizeRow = row('sample size, perfect rope, N <= 10,000 (binary search)', 'us/question', { ns: oursSize.ns / 1000, checksum: oursSize.checksum }, { ns: stdlibSize.ns / 1000, checksum: stdlibSize.checksum }, questions.length);
+  const sizeRow = row(
+    'sample size, perfect rope, N <= 10,000 (binary search)',
+    'us/question',
+    { ns: oursSize.ns / 1000, checksum: oursSize.checksum },
+    { ns: stdlibSize.ns / 1000, checksum: stdlibSize.checksum },
+    questions.length,
+  );
   rows.push(sizeRow);
   return rows;
 }

@@ -11,8 +11,15 @@ const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const dist = path.join(root, 'dist');
 
 fs.rmSync(dist, { recursive: true, force: true });
-execFileSync(process.execPath, [path.join(root, 'node_modules', 'typescript', 'bin', 'tsc'), '-p', path.join(root, 'tsconfig.build.json')], { stdio: 'inherit' });
-fs.copyFileSync(path.join(root, 'src', 'ingest', 'parseWorkerBoot.mjs'), path.join(dist, 'ingest', 'parseWorkerBoot.mjs'));
+execFileSync(
+  process.execPath,
+  [path.join(root, 'node_modules', 'typescript', 'bin', 'tsc'), '-p', path.join(root, 'tsconfig.build.json')],
+  { stdio: 'inherit' },
+);
+fs.copyFileSync(
+  path.join(root, 'src', 'ingest', 'parseWorkerBoot.mjs'),
+  path.join(dist, 'ingest', 'parseWorkerBoot.mjs'),
+);
 fs.cpSync(path.join(root, 'src', 'demo', 'config'), path.join(dist, 'demo', 'config'), { recursive: true });
 fs.chmodSync(path.join(dist, 'cli', 'bin.js'), 0o755);
 // Written last: a dist/ without it is incomplete (test/helpers/compiledCli.ts checks it).

@@ -78,7 +78,8 @@ export function splitExtension(name: string): { stem: string; ext: string } {
 export function fitName(stem: string, tail: string, maxBytes: number): string {
   if (utf8Bytes(stem) + utf8Bytes(tail) <= maxBytes) return stem + tail;
   const room = maxBytes - utf8Bytes(tail) - FRAGMENT_BYTES;
-  if (room < 4) throw new RangeError(`\`tail\` must leave room for a stem in ${maxBytes} bytes, got ${JSON.stringify(tail)}`);
+  if (room < 4)
+    throw new RangeError(`\`tail\` must leave room for a stem in ${maxBytes} bytes, got ${JSON.stringify(tail)}`);
   return `${cutToBytes(stem, room)}~${nameFragment(stem)}${tail}`;
 }
 
@@ -159,13 +160,15 @@ export function inspectInput(file: string): InputEntry {
   if (!own.isSymbolicLink()) return { kind: 'special', what: describeEntry(own) };
   try {
     const target = fs.statSync(file);
-    return target.isFile() ? { kind: 'regular' } : { kind: 'special', what: `a symbolic link to ${describeEntry(target)}` };
+    return target.isFile()
+      ? { kind: 'regular' }
+      : { kind: 'special', what: `a symbolic link to ${describeEntry(target)}` };
   } catch (error) {
-    if (errorCode(error) === 'ENOENT' || errorCode(error) === 'ELOOP') return { kind: 'special', what: 'a symbolic link to nothing' };
+    if (errorCode(error) === 'ENOENT' || errorCode(error) === 'ELOOP')
+      return { kind: 'special', what: 'a symbolic link to nothing' };
     throw error;
   }
 }
-
 
 /**
  * The file left its folder between the moment this process was asked to take it and the moment

@@ -35,7 +35,13 @@ export interface AnalyseOptions {
 }
 
 /** Builds a site's analysis from the store (no writing). */
-export function analyseSite(ws: Workspace, site: Site, results: readonly StoredResult[], cache: OutbreakCache, options: AnalyseOptions = {}): SiteAnalysis {
+export function analyseSite(
+  ws: Workspace,
+  site: Site,
+  results: readonly StoredResult[],
+  cache: OutbreakCache,
+  options: AnalyseOptions = {},
+): SiteAnalysis {
   const ropes = ws.store.ropes(site.id);
   const today = clockDay(ws.now());
   const rounds = buildSiteRounds(
@@ -135,7 +141,11 @@ function rebuildSite(ws: Workspace, site: Site, cache: OutbreakCache, options: A
       throw error;
     }
     // A late rope sheet can renumber rounds; folders of rounds that no longer exist go.
-    removeStaleFolders(path.join(ws.outbox, site.id), ROUND_FOLDER, new Set(analysis.summaries.map((summary) => summary.round.id)));
+    removeStaleFolders(
+      path.join(ws.outbox, site.id),
+      ROUND_FOLDER,
+      new Set(analysis.summaries.map((summary) => summary.round.id)),
+    );
     ws.store.markOutputsBuilt(ws.outbox, site.id, version, ws.configDigest);
     if (attempt >= 3 || ws.store.siteVersion(site.id) === version) return analysis;
   }
@@ -161,7 +171,11 @@ export class OutputError extends Error {
  * data and stores their plans.
  * @throws OutputError when a site's outputs cannot be written (the others are still written)
  */
-export function regenerateOutputs(ws: Workspace, siteIds?: readonly string[], options: AnalyseOptions = {}): SiteAnalysis[] {
+export function regenerateOutputs(
+  ws: Workspace,
+  siteIds?: readonly string[],
+  options: AnalyseOptions = {},
+): SiteAnalysis[] {
   const sites = siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
   if (sites.length === 0) return [];
   const cache = new OutbreakCache(ws.config.analysis);
@@ -179,7 +193,11 @@ export function regenerateOutputs(ws: Workspace, siteIds?: readonly string[], op
   } catch (error) {
     failed.push({ siteId: 'the index page', error });
   }
-  if (failed.length > 0) throw new OutputError(failed.map((failure) => failure.siteId), failed[0]!.error);
+  if (failed.length > 0)
+    throw new OutputError(
+      failed.map((failure) => failure.siteId),
+      failed[0]!.error,
+    );
   return analyses;
 }
 

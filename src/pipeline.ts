@@ -38,11 +38,17 @@ export function receiptText(receipt: Receipt): string {
   if (receipt.encoding) lines.push(`encoding: ${receipt.encoding}`);
   if (receipt.reason) lines.push('', `reason: ${receipt.reason.message}`, `code: ${receipt.reason.code}`);
   if (receipt.status === 'accepted') {
-    lines.push('', `rows stored: ${receipt.rows.accepted}, refused: ${receipt.rows.rejected}, already stored: ${receipt.rows.duplicate}, superseding earlier reports: ${receipt.rows.superseded}`);
+    lines.push(
+      '',
+      `rows stored: ${receipt.rows.accepted}, refused: ${receipt.rows.rejected}, already stored: ${receipt.rows.duplicate}, superseding earlier reports: ${receipt.rows.superseded}`,
+    );
   }
   if (receipt.rejectedRows.length > 0) {
     lines.push('', 'refused rows (kept in the store with their reason):');
-    for (const row of receipt.rejectedRows) lines.push(`  line ${row.line}${row.field ? `, ${row.field}` : ''}: [${row.code}] ${row.message}${row.value ? ` (value ${JSON.stringify(row.value)})` : ''}`);
+    for (const row of receipt.rejectedRows)
+      lines.push(
+        `  line ${row.line}${row.field ? `, ${row.field}` : ''}: [${row.code}] ${row.message}${row.value ? ` (value ${JSON.stringify(row.value)})` : ''}`,
+      );
     if (receipt.rejectedRowsNotListed > 0) lines.push(`  ... and ${receipt.rejectedRowsNotListed} more`);
   }
   const more = (count: number | undefined) => {
@@ -50,13 +56,16 @@ export function receiptText(receipt: Receipt): string {
   };
   if ((receipt.invalidRows ?? []).length > 0) {
     lines.push('', 'rows read as invalid (retest; never counted as negative):');
-    for (const row of receipt.invalidRows!) lines.push(`  line ${row.line}, ${row.sampleId} ${row.assayId}: ${row.reason}`);
+    for (const row of receipt.invalidRows!)
+      lines.push(`  line ${row.line}, ${row.sampleId} ${row.assayId}: ${row.reason}`);
     more(receipt.invalidRowsNotListed);
   }
   if ((receipt.callDisagreements ?? []).length > 0) {
     lines.push('', "the lab's call differs from ropewatch's reading of the value (both kept; review with the lab):");
     for (const row of receipt.callDisagreements!) {
-      lines.push(`  line ${row.line}, ${row.sampleId} ${row.assayId}: lab "${row.labCall}" (${row.labCallClass}), ropewatch ${row.resultClass} from ${row.ctRaw === '' ? 'a blank value' : `"${row.ctRaw}"`}`);
+      lines.push(
+        `  line ${row.line}, ${row.sampleId} ${row.assayId}: lab "${row.labCall}" (${row.labCallClass}), ropewatch ${row.resultClass} from ${row.ctRaw === '' ? 'a blank value' : `"${row.ctRaw}"`}`,
+      );
     }
     more(receipt.callDisagreementsNotListed);
   }
@@ -73,7 +82,8 @@ export function receiptText(receipt: Receipt): string {
   }
   if ((receipt.sampleIdCorrections ?? []).length > 0) {
     lines.push('', 'sample IDs read as confirmed in corrections.yaml:');
-    for (const note of receipt.sampleIdCorrections!) lines.push(`  line ${note.line}: ${note.written} read as ${note.meant}`);
+    for (const note of receipt.sampleIdCorrections!)
+      lines.push(`  line ${note.line}: ${note.written} read as ${note.meant}`);
   }
   if (receipt.unresolvedSampleIds.length > 0) {
     lines.push(
@@ -82,7 +92,8 @@ export function receiptText(receipt: Receipt): string {
         (receipt.unresolvedNotListed > 0 ? `, and ${receipt.unresolvedNotListed} more` : ''),
     );
   }
-  if (receipt.resolvedSampleIds.length > 0) lines.push('', `earlier results now placed in their pens: ${receipt.resolvedSampleIds.join(', ')}`);
+  if (receipt.resolvedSampleIds.length > 0)
+    lines.push('', `earlier results now placed in their pens: ${receipt.resolvedSampleIds.join(', ')}`);
   for (const warning of receipt.warnings) lines.push(`note: ${warning}`);
   // Names, sample IDs and quoted cells come from the file: escaped so a text viewer shows them.
   return lines.map(terminalText).join('\n') + '\n';
@@ -93,7 +104,12 @@ export function notRegularFileReceipt(name: string, what: string, receivedAt: st
   return {
     ...emptyReceipt(name, '', receivedAt),
     status: 'rejected',
-    reason: { code: 'not-a-regular-file', message: `${name}: not a regular file but ${what}; not read, and left where it is (remove it from the inbox)`, line: null, field: null },
+    reason: {
+      code: 'not-a-regular-file',
+      message: `${name}: not a regular file but ${what}; not read, and left where it is (remove it from the inbox)`,
+      line: null,
+      field: null,
+    },
   };
 }
 
@@ -122,7 +138,8 @@ export async function processFile(ws: Workspace, file: string): Promise<ProcessO
   }
   const receipt = await ingestFile(file, { config: ws.config, store: ws.store, now: ws.now });
   // Unreadable because another process archived it meanwhile: nothing was stored for it here.
-  if (receipt.status === 'rejected' && receipt.reason?.code === 'file-read-error' && isGone(file)) throw new FileTakenError(file);
+  if (receipt.status === 'rejected' && receipt.reason?.code === 'file-read-error' && isGone(file))
+    throw new FileTakenError(file);
   writeReceipts(ws, receipt);
   const movedTo = fileAway(ws, file, receipt);
   if (receipt.status !== 'accepted' || receipt.sites.length === 0) return { receipt, movedTo };
@@ -160,15 +177,26 @@ function fileAway(ws: Workspace, file: string, receipt: Receipt): string {
     // Another process moved it first: it is in its folder already.
     if (takenByAnother(error, file)) return file;
     const code = (error as NodeJS.ErrnoException).code;
-    const why = code === 'EEXIST' || code === 'ENOTDIR' ? `${dir} is not a folder: rename or move whatever is there` : (error as Error).message;
-    ws.log(terminalText(`warning: ${receipt.file} (${receipt.status}) stays at ${file}: it cannot be moved into ${dir} (${why})`));
+    const why =
+      code === 'EEXIST' || code === 'ENOTDIR'
+        ? `${dir} is not a folder: rename or move whatever is there`
+        : (error as Error).message;
+    ws.log(
+      terminalText(
+        `warning: ${receipt.file} (${receipt.status}) stays at ${file}: it cannot be moved into ${dir} (${why})`,
+      ),
+    );
     return file;
   }
   if (receipt.status === 'rejected') {
     try {
       writeFileAtomic(reasonPath(movedTo), receiptText(receipt));
     } catch (error) {
-      ws.log(terminalText(`warning: the reason beside ${movedTo} could not be written (${(error as Error).message}); the receipt holds it`));
+      ws.log(
+        terminalText(
+          `warning: the reason beside ${movedTo} could not be written (${(error as Error).message}); the receipt holds it`,
+        ),
+      );
     }
   }
   return movedTo;

@@ -32,7 +32,12 @@ export interface PathOptions {
   outbox?: string;
 }
 
-export const DEFAULT_PATHS = Object.freeze({ config: 'config', db: 'data/ropewatch.db', inbox: 'inbox', outbox: 'outbox' });
+export const DEFAULT_PATHS = Object.freeze({
+  config: 'config',
+  db: 'data/ropewatch.db',
+  inbox: 'inbox',
+  outbox: 'outbox',
+});
 
 export function resolvePaths(cwd: string, options: PathOptions): WorkspacePaths {
   return {
@@ -56,7 +61,12 @@ export interface OpenOptions {
  * Loads the configuration, then opens the store.
  * @throws ConfigError for the configuration, StoreOpenError for the store (both name the file).
  */
-export function openWorkspace(paths: WorkspacePaths, now: () => Date, log: (line: string) => void, options: OpenOptions = {}): Workspace {
+export function openWorkspace(
+  paths: WorkspacePaths,
+  now: () => Date,
+  log: (line: string) => void,
+  options: OpenOptions = {},
+): Workspace {
   const config = loadConfig(paths.configDir);
   const digest = configDigest(paths.configDir);
   const store = new Store(paths.dbFile, { create: options.createStore ?? true });

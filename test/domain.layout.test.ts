@@ -21,9 +21,24 @@ describe('barn layout', () => {
 
   it('finds fence, facing and diagonal contacts, and a cross-alley gap breaks the fence line', () => {
     const contacts = penContacts({ ...twoRows, gapsAfter: [2] });
-    expect(contacts.fence).toEqual([['A1', 'A2'], ['A3', 'A4'], ['B1', 'B2'], ['B3', 'B4']]);
-    expect(contacts.facing).toEqual([['A1', 'B1'], ['A2', 'B2'], ['A3', 'B3'], ['A4', 'B4']]);
-    expect(contacts.diagonal).toEqual([['A1', 'B2'], ['A2', 'B1'], ['A3', 'B4'], ['A4', 'B3']]);
+    expect(contacts.fence).toEqual([
+      ['A1', 'A2'],
+      ['A3', 'A4'],
+      ['B1', 'B2'],
+      ['B3', 'B4'],
+    ]);
+    expect(contacts.facing).toEqual([
+      ['A1', 'B1'],
+      ['A2', 'B2'],
+      ['A3', 'B3'],
+      ['A4', 'B4'],
+    ]);
+    expect(contacts.diagonal).toEqual([
+      ['A1', 'B2'],
+      ['A2', 'B1'],
+      ['A3', 'B4'],
+      ['A4', 'B3'],
+    ]);
   });
 
   it('rejects an empty-pen list naming a pen the layout does not have', () => {

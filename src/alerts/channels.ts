@@ -19,7 +19,9 @@ export function oneLine(text: string): string {
  * subject line; the statistic is in the body), or what happened for a line recorded without it.
  */
 export function mailSubject(line: FeedLine): string {
-  const what = line.action ?? `${line.kind}${line.assay === null ? '' : ` (${line.assay})`}${line.barn === null ? '' : `, barn ${line.barn}`}`;
+  const what =
+    line.action ??
+    `${line.kind}${line.assay === null ? '' : ` (${line.assay})`}${line.barn === null ? '' : `, barn ${line.barn}`}`;
   return `ropewatch alert: ${line.siteName}, round ${line.round}: ${what}`;
 }
 
@@ -41,12 +43,18 @@ type Email = NonNullable<SiteAlerts['email']>;
  * @param env where the password is read from (`smtp.passwordEnv`)
  * @throws Error (one line) when the server refuses, cannot be reached, or takes longer than `timeoutMs`
  */
-export async function sendEmail(email: Email, line: FeedLine, timeoutMs: number, env: Readonly<Record<string, string | undefined>>): Promise<void> {
+export async function sendEmail(
+  email: Email,
+  line: FeedLine,
+  timeoutMs: number,
+  env: Readonly<Record<string, string | undefined>>,
+): Promise<void> {
   const { smtp } = email;
   let pass: string | undefined;
   if (smtp.passwordEnv !== undefined) {
     pass = env[smtp.passwordEnv];
-    if (pass === undefined || pass === '') throw new Error(`the environment variable ${smtp.passwordEnv} (smtp.passwordEnv) is not set`);
+    if (pass === undefined || pass === '')
+      throw new Error(`the environment variable ${smtp.passwordEnv} (smtp.passwordEnv) is not set`);
   }
   const nodemailer = (await import('nodemailer')).default;
   const transport = nodemailer.createTransport({
@@ -63,7 +71,11 @@ export async function sendEmail(email: Email, line: FeedLine, timeoutMs: number,
     await Promise.race([
       transport.sendMail({ from: email.from, to: [...email.to], subject: mailSubject(line), text: mailText(line) }),
       new Promise<never>((_, reject) => {
-        timer = setTimeout(() => reject(new Error(`the SMTP server ${smtp.host}:${smtp.port} did not answer within ${timeoutMs / 1000} s`)), timeoutMs);
+        timer = setTimeout(
+          () =>
+            reject(new Error(`the SMTP server ${smtp.host}:${smtp.port} did not answer within ${timeoutMs / 1000} s`)),
+          timeoutMs,
+        );
       }),
     ]);
   } catch (error) {
@@ -79,7 +91,13 @@ export async function sendEmail(email: Email, line: FeedLine, timeoutMs: number,
  * delivered. The command runs without a shell, in `cwd` (the configuration folder).
  * @throws Error (one line) when it cannot start, exits with another status, or outlives `timeoutMs` (it is killed)
  */
-export function runCommand(argv: readonly string[], line: FeedLine, timeoutMs: number, cwd: string, env: Readonly<Record<string, string | undefined>>): Promise<void> {
+export function runCommand(
+  argv: readonly string[],
+  line: FeedLine,
+  timeoutMs: number,
+  cwd: string,
+  env: Readonly<Record<string, string | undefined>>,
+): Promise<void> {
   return new Promise<void>((resolve, reject) => {
     let settled = false;
     const finish = (error?: Error) => {
@@ -95,7 +113,9 @@ export function runCommand(argv: readonly string[], line: FeedLine, timeoutMs: n
       child.kill('SIGKILL');
       finish(new Error(`the command ${argv[0]} did not finish within ${timeoutMs / 1000} s and was stopped`));
     }, timeoutMs);
-    child.on('error', (error: NodeJS.ErrnoException) => finish(new Error(`the command ${argv[0]} cannot be run (${error.code ?? error.message})`)));
+    child.on('error', (error: NodeJS.ErrnoException) =>
+      finish(new Error(`the command ${argv[0]} cannot be run (${error.code ?? error.message})`)),
+    );
     child.stderr.setEncoding('utf8');
     child.stderr.on('data', (chunk: string) => {
       if (stderr.length < 4096) stderr += chunk;
@@ -105,7 +125,12 @@ export function runCommand(argv: readonly string[], line: FeedLine, timeoutMs: n
     child.stdin.end(JSON.stringify(line) + '\n');
     child.on('close', (code, signal) => {
       if (code === 0) finish();
-      else finish(new Error(`the command ${argv[0]} ${code === null ? `was ended by ${signal}` : `exited with status ${code}`}${stderr.trim() === '' ? '' : `: ${oneLine(stderr)}`}`));
+      else
+        finish(
+          new Error(
+            `the command ${argv[0]} ${code === null ? `was ended by ${signal}` : `exited with status ${code}`}${stderr.trim() === '' ? '' : `: ${oneLine(stderr)}`}`,
+          ),
+        );
     });
   });
 }

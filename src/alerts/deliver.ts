@@ -52,13 +52,22 @@ export interface DeliveryReport {
   busy: boolean;
 }
 
-const pendingState = (): ChannelState => ({ done: false, attempts: 0, lastError: null, lastAttemptAt: null, doneAt: null });
+const pendingState = (): ChannelState => ({
+  done: false,
+  attempts: 0,
+  lastError: null,
+  lastAttemptAt: null,
+  doneAt: null,
+});
 
 /** The channels a site sends alerts through besides the feed. */
 function externalChannels(site: Site | undefined): Channel[] {
   const alerts = site?.alerts;
   if (alerts === undefined) return [];
-  return [...(alerts.email === undefined ? [] : (['email'] as const)), ...(alerts.command === undefined ? [] : (['command'] as const))];
+  return [
+    ...(alerts.email === undefined ? [] : (['email'] as const)),
+    ...(alerts.command === undefined ? [] : (['command'] as const)),
+  ];
 }
 
 /** A site's alert records from its outputs (none when its outputs were never written). */
@@ -71,7 +80,8 @@ function readSiteAlerts(outbox: string, siteId: string): AlertRecord[] {
     throw error;
   }
   const value = JSON.parse(text) as { schema?: unknown; alerts?: unknown };
-  if (value.schema !== SITE_ALERTS_SCHEMA || !Array.isArray(value.alerts)) throw new Error(`${path.join(siteId, SITE_ALERTS_FILE)} is not a list of alerts (${SITE_ALERTS_SCHEMA})`);
+  if (value.schema !== SITE_ALERTS_SCHEMA || !Array.isArray(value.alerts))
+    throw new Error(`${path.join(siteId, SITE_ALERTS_FILE)} is not a list of alerts (${SITE_ALERTS_SCHEMA})`);
   return value.alerts as AlertRecord[];
 }
 
@@ -87,7 +97,9 @@ export async function deliverAlerts(ws: Workspace, options: DeliverOptions): Pro
   try {
     release = takeDeliveryLock(stateFile);
   } catch (error) {
-    warn(`alerts not delivered: the lock beside ${stateFile} cannot be taken (${oneLine((error as Error).message)}); retried on the next run`);
+    warn(
+      `alerts not delivered: the lock beside ${stateFile} cannot be taken (${oneLine((error as Error).message)}); retried on the next run`,
+    );
     return report;
   }
   if (release === null) return { ...report, busy: true };
@@ -99,7 +111,13 @@ export async function deliverAlerts(ws: Workspace, options: DeliverOptions): Pro
   return report;
 }
 
-async function deliverLocked(ws: Workspace, options: DeliverOptions, stateFile: string, report: DeliveryReport, warn: (text: string) => void): Promise<void> {
+async function deliverLocked(
+  ws: Workspace,
+  options: DeliverOptions,
+  stateFile: string,
+  report: DeliveryReport,
+  warn: (text: string) => void,
+): Promise<void> {
   const now = () => ws.now().toISOString();
   let state: DeliveryState;
   try {
@@ -108,7 +126,9 @@ async function deliverLocked(ws: Workspace, options: DeliverOptions, stateFile: 
     // What was delivered is unknown: the feed's own keys keep it from doubling; an e-mail or a
     // command may be repeated, which is better than lost. The damaged file is kept beside.
     const aside = `${stateFile}.damaged`;
-    warn(`${stateFile} cannot be read (${oneLine((error as Error).message)}); moved to ${path.basename(aside)}, starting a new delivery record`);
+    warn(
+      `${stateFile} cannot be read (${oneLine((error as Error).message)}); moved to ${path.basename(aside)}, starting a new delivery record`,
+    );
     fs.renameSync(stateFile, aside);
     state = emptyState();
   }
@@ -120,7 +140,9 @@ async function deliverLocked(ws: Workspace, options: DeliverOptions, stateFile: 
     try {
       records = readSiteAlerts(ws.outbox, site.id);
     } catch (error) {
-      warn(`the alerts of ${site.id} cannot be read (${oneLine((error as Error).message)}); they are read again on the next run`);
+      warn(
+        `the alerts of ${site.id} cannot be read (${oneLine((error as Error).message)}); they are read again on the next run`,
+      );
       continue;
     }
     for (const record of records) {
@@ -140,15 +162,26 @@ async function deliverLocked(ws: Workspace, options: DeliverOptions, stateFile: 
   const lineOf = (key: string): FeedLine => feedLine(state.alerts[key]!.alert, state.alerts[key]!.firstSeenAt);
 
   // 2. The feed.
-  const forFeed = entries.filter(([, entry]) => entry.channels.feed !== undefined && !entry.channels.feed.done).map(([key]) => key);
+  const forFeed = entries
+    .filter(([, entry]) => entry.channels.feed !== undefined && !entry.channels.feed.done)
+    .map(([key]) => key);
   if (forFeed.length > 0) {
     try {
       report.appended = appendToFeed(path.join(ws.outbox, FEED_FILE), forFeed.map(lineOf));
       const at = now();
-      for (const key of forFeed) Object.assign(state.alerts[key]!.channels.feed!, { done: true, attempts: state.alerts[key]!.channels.feed!.attempts + 1, lastError: null, lastAttemptAt: at, doneAt: at });
+      for (const key of forFeed)
+        Object.assign(state.alerts[key]!.channels.feed!, {
+          done: true,
+          attempts: state.alerts[key]!.channels.feed!.attempts + 1,
+          lastError: null,
+          lastAttemptAt: at,
+          doneAt: at,
+        });
       save();
     } catch (error) {
-      warn(`${forFeed.length} alert(s) not appended to ${path.join(ws.outbox, FEED_FILE)} (${oneLine((error as Error).message)}); retried on the next run`);
+      warn(
+        `${forFeed.length} alert(s) not appended to ${path.join(ws.outbox, FEED_FILE)} (${oneLine((error as Error).message)}); retried on the next run`,
+      );
     }
   }
 
@@ -180,7 +213,9 @@ async function deliverLocked(ws: Workspace, options: DeliverOptions, stateFile: 
         report.failed++;
         report.waiting++;
         resting.add(`${entry.alert.site.id}/${channel}`);
-        warn(`alert ${key} not delivered by ${channel === 'email' ? 'e-mail' : 'command'} (attempt ${owed.attempts}): ${owed.lastError}; retried on the next run`);
+        warn(
+          `alert ${key} not delivered by ${channel === 'email' ? 'e-mail' : 'command'} (attempt ${owed.attempts}): ${owed.lastError}; retried on the next run`,
+        );
       }
       try {
         save();

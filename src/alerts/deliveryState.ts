@@ -53,7 +53,8 @@ export function readDeliveryState(file: string): DeliveryState {
     throw error;
   }
   const value = JSON.parse(text) as Partial<DeliveryState>;
-  if (value.schema !== DELIVERY_STATE_SCHEMA || typeof value.alerts !== 'object' || value.alerts === null) throw new Error(`${file} is not a delivery state (${DELIVERY_STATE_SCHEMA})`);
+  if (value.schema !== DELIVERY_STATE_SCHEMA || typeof value.alerts !== 'object' || value.alerts === null)
+    throw new Error(`${file} is not a delivery state (${DELIVERY_STATE_SCHEMA})`);
   return value as DeliveryState;
 }
 

@@ -20,7 +20,10 @@ export const SITE_ALERTS_FILE = 'alerts.json';
 export const SITE_ALERTS_SCHEMA = 'ropewatch.site-alerts/1';
 
 /** The content of outbox/<site>/alerts.json. */
-export function siteAlertsFile(source: AlertSource, alertsByRound?: readonly PageAlert[][]): { schema: typeof SITE_ALERTS_SCHEMA; site: string; alerts: AlertRecord[] } {
+export function siteAlertsFile(
+  source: AlertSource,
+  alertsByRound?: readonly PageAlert[][],
+): { schema: typeof SITE_ALERTS_SCHEMA; site: string; alerts: AlertRecord[] } {
   return { schema: SITE_ALERTS_SCHEMA, site: source.site.id, alerts: siteAlertRecords(source, alertsByRound) };
 }
 
@@ -54,17 +57,32 @@ export interface AlertSource {
 }
 
 /** The stable key of an alert (see the module comment). */
-export function alertKey(siteId: string, roundId: string, assayId: string | null, kind: string, subject: string | null): string {
+export function alertKey(
+  siteId: string,
+  roundId: string,
+  assayId: string | null,
+  kind: string,
+  subject: string | null,
+): string {
   return [siteId, roundId, assayId ?? '-', kind, subject ?? '-'].join('/');
 }
 
 /** The numbers the alert's words rest on, read from the round's summary and spatial analysis. */
-function numbersOf(alert: PageAlert, summary: RoundSummary, spatial: RoundSpatial | undefined, plan: NextRoundPlan | undefined): AlertNumbers {
+function numbersOf(
+  alert: PageAlert,
+  summary: RoundSummary,
+  spatial: RoundSpatial | undefined,
+  plan: NextRoundPlan | undefined,
+): AlertNumbers {
   const numbers: AlertNumbers = {};
   const siteAssay = alert.assayId === null ? undefined : summary.assays.find((assay) => assay.id === alert.assayId);
   const barn = alert.barnId === null ? undefined : summary.barns.find((entry) => entry.barnId === alert.barnId);
   if (barn !== undefined) {
-    Object.assign(numbers, { ropesHung: barn.ropesHung, ropesReturned: barn.ropesReturned, missingRopes: barn.missingSampleIds.length });
+    Object.assign(numbers, {
+      ropesHung: barn.ropesHung,
+      ropesReturned: barn.ropesReturned,
+      missingRopes: barn.missingSampleIds.length,
+    });
     const tally = barn.assays.find((entry) => entry.assayId === alert.assayId);
     if (tally !== undefined) {
       Object.assign(numbers, {
@@ -85,20 +103,34 @@ function numbersOf(alert: PageAlert, summary: RoundSummary, spatial: RoundSpatia
     });
   }
   if (siteAssay !== undefined) {
-    Object.assign(numbers, { siteDetectionConfidence: siteAssay.site.detectionConfidence, priorFreedom: siteAssay.site.priorFreedom, freedom: siteAssay.site.freedom });
+    Object.assign(numbers, {
+      siteDetectionConfidence: siteAssay.site.detectionConfidence,
+      priorFreedom: siteAssay.site.priorFreedom,
+      freedom: siteAssay.site.freedom,
+    });
   }
   if ((alert.kind === 'significant-cluster' || alert.kind === 'positive-again') && alert.barnId !== null) {
-    const report = spatial?.assays.find((assay) => assay.assayId === alert.assayId)?.report.barns.find((entry) => entry.barn === alert.barnId);
+    const report = spatial?.assays
+      .find((assay) => assay.assayId === alert.assayId)
+      ?.report.barns.find((entry) => entry.barn === alert.barnId);
     const jc = report?.joinCount ?? null;
-    if (jc !== null) Object.assign(numbers, { joinsPositivePositive: jc.bb, joinsExpected: jc.expectedBB, joinCountP: jc.pPermutation });
-    if (report?.scan?.mostLikely) Object.assign(numbers, { scanP: report.scan.mostLikely.p, scanRopes: report.scan.mostLikely.pens.length });
+    if (jc !== null)
+      Object.assign(numbers, {
+        joinsPositivePositive: jc.bb,
+        joinsExpected: jc.expectedBB,
+        joinCountP: jc.pPermutation,
+      });
+    if (report?.scan?.mostLikely)
+      Object.assign(numbers, { scanP: report.scan.mostLikely.p, scanRopes: report.scan.mostLikely.pens.length });
   }
   if (alert.kind === 'call-differs') numbers.resultsDiffering = summary.disagreements.length;
   if (alert.kind === 'late-round') {
-    numbers.daysSincePrevious = summary.assays.map((assay) => assay.site.daysSincePrevious).find((value) => value !== null) ?? null;
+    numbers.daysSincePrevious =
+      summary.assays.map((assay) => assay.site.daysSincePrevious).find((value) => value !== null) ?? null;
     numbers.intervalDays = summary.program.intervalDays;
   }
-  if (alert.kind === 'overdue' && plan !== undefined) Object.assign(numbers, { nextRound: plan.round, dueDate: plan.dueDate, daysOverdue: plan.daysOverdue });
+  if (alert.kind === 'overdue' && plan !== undefined)
+    Object.assign(numbers, { nextRound: plan.round, dueDate: plan.dueDate, daysOverdue: plan.daysOverdue });
   return numbers;
 }
 
@@ -107,13 +139,18 @@ function numbersOf(alert: PageAlert, summary: RoundSummary, spatial: RoundSpatia
  * order the pages show them. Two alerts of one round that would share a key (none do today)
  * get `#2`, `#3` after it rather than hiding one another.
  */
-export function siteAlertRecords(source: AlertSource, alertsByRound: readonly PageAlert[][] = alertsOfRounds(source)): AlertRecord[] {
+export function siteAlertRecords(
+  source: AlertSource,
+  alertsByRound: readonly PageAlert[][] = alertsOfRounds(source),
+): AlertRecord[] {
   const records: AlertRecord[] = [];
   const last = source.summaries.length - 1;
   source.summaries.forEach((summary, index) => {
     const plan = index === last ? source.plan : undefined;
     const seen = new Map<string, number>();
-    const awaitingResults = summary.barns.every((barn) => barn.ropesReturned === 0) && summary.barns.every((barn) => barn.mistyped.length === 0);
+    const awaitingResults =
+      summary.barns.every((barn) => barn.ropesReturned === 0) &&
+      summary.barns.every((barn) => barn.mistyped.length === 0);
     for (const alert of alertsByRound[index]!) {
       const base = alertKey(source.site.id, summary.round.id, alert.assayId, alert.kind, alert.barnId);
       const times = (seen.get(base) ?? 0) + 1;
@@ -122,7 +159,12 @@ export function siteAlertRecords(source: AlertSource, alertsByRound: readonly Pa
         schema: ALERT_RECORD_SCHEMA,
         key: times === 1 ? base : `${base}#${times}`,
         site: { id: source.site.id, name: source.site.name },
-        round: { number: summary.round.number, id: summary.round.id, startOn: summary.round.startOn, endOn: summary.round.endOn },
+        round: {
+          number: summary.round.number,
+          id: summary.round.id,
+          startOn: summary.round.startOn,
+          endOn: summary.round.endOn,
+        },
         awaitingResults,
         assay: alert.assayId,
         barn: alert.barnId,

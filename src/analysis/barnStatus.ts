@@ -40,7 +40,8 @@ export type ClearanceRule = (evidence: ClearanceEvidence) => boolean;
  * pigs left the barn: all in, all out; common practice, no source).
  */
 export function negativeRoundsRule(n: number): ClearanceRule {
-  if (!Number.isInteger(n) || n < 1) throw new RangeError(`\`clearAfterNegativeRounds\` must be an integer in [1, infinity), got ${n}`);
+  if (!Number.isInteger(n) || n < 1)
+    throw new RangeError(`\`clearAfterNegativeRounds\` must be an integer in [1, infinity), got ${n}`);
   return (evidence) => evidence.newGroupPlaced || evidence.negativeRoundsInARow >= n;
 }
 
@@ -84,8 +85,13 @@ function evidenceOf(round: SiteRound, barnId: string, assayId: string): Evidence
 
 /** The status of every barn and of the site after each round, per PCR assay (see the module comment). */
 export function statusOverRounds(input: StatusInput): RoundStatus[] {
-  const measureOf = (assayId: string): Measure => input.rounds.find((round) => round.measures[assayId] !== undefined)?.measures[assayId] ?? input.measureOf?.(assayId) ?? 'ct';
-  const assays = [...new Set(input.rounds.flatMap((round) => round.assays))].filter((assayId) => measureOf(assayId) === 'ct').sort();
+  const measureOf = (assayId: string): Measure =>
+    input.rounds.find((round) => round.measures[assayId] !== undefined)?.measures[assayId] ??
+    input.measureOf?.(assayId) ??
+    'ct';
+  const assays = [...new Set(input.rounds.flatMap((round) => round.assays))]
+    .filter((assayId) => measureOf(assayId) === 'ct')
+    .sort();
   const current = new Map<string, PositiveState & { groupPlaced?: boolean }>();
   const siteCurrent = new Map<string, PositiveState>();
   const key = (barnId: string, assayId: string) => `${barnId}\u0000${assayId}`;
@@ -97,7 +103,10 @@ export function statusOverRounds(input: StatusInput): RoundStatus[] {
         const evidence = evidenceOf(round, barnId, assayId);
         let after: PositiveState & { groupPlaced?: boolean };
         if (evidence === 'positive') {
-          after = before.state === 'positive' ? { ...before, negativeRoundsInARow: 0, groupPlaced: false } : { state: 'positive', sinceRound: round.number, negativeRoundsInARow: 0 };
+          after =
+            before.state === 'positive'
+              ? { ...before, negativeRoundsInARow: 0, groupPlaced: false }
+              : { state: 'positive', sinceRound: round.number, negativeRoundsInARow: 0 };
         } else if (before.state === 'positive') {
           const groupPlaced = (before.groupPlaced ?? false) || (input.groupPlaced?.(barnId, round.number) ?? false);
           const negativeRoundsInARow = before.negativeRoundsInARow + (evidence === 'negative' ? 1 : 0);
@@ -116,8 +125,14 @@ export function statusOverRounds(input: StatusInput): RoundStatus[] {
       const before = siteCurrent.get(assayId) ?? { state: 'clear', clearedAtRound: null };
       let status: PositiveState;
       if (positives.length > 0) {
-        const fewest = Math.min(...positives.map((entry) => (entry.status.state === 'positive' ? entry.status.negativeRoundsInARow : 0)));
-        status = { state: 'positive', sinceRound: before.state === 'positive' ? before.sinceRound : round.number, negativeRoundsInARow: fewest };
+        const fewest = Math.min(
+          ...positives.map((entry) => (entry.status.state === 'positive' ? entry.status.negativeRoundsInARow : 0)),
+        );
+        status = {
+          state: 'positive',
+          sinceRound: before.state === 'positive' ? before.sinceRound : round.number,
+          negativeRoundsInARow: fewest,
+        };
       } else {
         status = before.state === 'positive' ? { state: 'clear', clearedAtRound: round.number } : before;
       }

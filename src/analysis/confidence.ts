@@ -168,7 +168,9 @@ export interface RoundConfidence {
 }
 
 export function designInfectedFor(program: Program, pens: number): number {
-  return program.designPrevalence.kind === 'pens' ? Math.min(pens, program.designPrevalence.value) : designInfectedPens(program.designPrevalence.value, pens);
+  return program.designPrevalence.kind === 'pens'
+    ? Math.min(pens, program.designPrevalence.value)
+    : designInfectedPens(program.designPrevalence.value, pens);
 }
 
 /**
@@ -180,7 +182,11 @@ export function designBarnsFor(program: Program, barns: number): number {
 }
 
 /** Rope sensitivity and specificity of an assay in a barn (by its age group). */
-export function ropeAccuracy(program: Program, assayId: string, barn: Barn): { sensitivity: number; specificity: number } {
+export function ropeAccuracy(
+  program: Program,
+  assayId: string,
+  barn: Barn,
+): { sensitivity: number; specificity: number } {
   return {
     sensitivity: perAssayValue(program.ropeSensitivity, assayId, barn.ageGroup),
     specificity: perAssayValue(program.ropeSpecificity, assayId, barn.ageGroup),
@@ -197,7 +203,12 @@ export interface SpreadSizing {
  * The spread model's detection of n ropes laid out by fixed spatial sampling in round
  * `roundIndex` (placeSystematic), memoised: the plan and the summary read the same estimates.
  */
-export function spreadEstimator(outbreaks: Outbreaks, barn: Barn, sensitivity: number, roundIndex: number): (ropes: number) => DetectionEstimate {
+export function spreadEstimator(
+  outbreaks: Outbreaks,
+  barn: Barn,
+  sensitivity: number,
+  roundIndex: number,
+): (ropes: number) => DetectionEstimate {
   const memo = new Map<number, DetectionEstimate>();
   return (ropes: number): DetectionEstimate => {
     if (ropes === 0) return { p: 0, standardError: 0, realisations: outbreaks.realisations };
@@ -210,7 +221,13 @@ export function spreadEstimator(outbreaks: Outbreaks, barn: Barn, sensitivity: n
   };
 }
 
-function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: string, spread: { sizing: SpreadSizing; roundIndex: number } | undefined): BarnConfidence {
+function barnConfidence(
+  site: Site,
+  round: SiteRound,
+  barn: Barn,
+  assayId: string,
+  spread: { sizing: SpreadSizing; roundIndex: number } | undefined,
+): BarnConfidence {
   const program = site.program;
   const barnRound = round.barns.find((candidate) => candidate.barnId === barn.id)!;
   const tally = barnRound.byAssay[assayId]!;
@@ -225,8 +242,17 @@ function barnConfidence(site: Site, round: SiteRound, barn: Barn, assayId: strin
   const detectionConfidence = pooled === undefined ? unpooled : pooled.detection;
   const size = sampleSize({ pens, infected: designInfected, confidence: program.targetConfidence, sensitivity });
   // With the spread model sizing the plans, "ropes needed" is its count, so that the summary and the plan agree.
-  const outbreaks = spread && spread.sizing.settings.sizingModel === 'spatial' ? spread.sizing.outbreaks.outbreaksFor(site, barn, designInfected) : null;
-  const spreadNeeded = outbreaks ? smallestRopesConservative(spreadEstimator(outbreaks, barn, sensitivity, spread!.roundIndex), program.targetConfidence, pens).ropes : undefined;
+  const outbreaks =
+    spread && spread.sizing.settings.sizingModel === 'spatial'
+      ? spread.sizing.outbreaks.outbreaksFor(site, barn, designInfected)
+      : null;
+  const spreadNeeded = outbreaks
+    ? smallestRopesConservative(
+        spreadEstimator(outbreaks, barn, sensitivity, spread!.roundIndex),
+        program.targetConfidence,
+        pens,
+      ).ropes
+    : undefined;
   let prevalence: PrevalenceEstimate | null = null;
   if (tally.positive > 0 && tested > 0) {
     const apparent = apparentPrevalence(Math.min(tally.positive, tested), tested);
@@ -298,7 +324,10 @@ function pooledConfidence(
   const pooledPens = tested - left;
   // The other tested pens' ropes were tested on their own: pools of one with the rope's accuracy.
   const singles = left;
-  const tests = [...pools.filter((pool) => pool.size > 0), ...Array.from({ length: singles }, () => ({ size: 1, sensitivity, specificity: 1 }))];
+  const tests = [
+    ...pools.filter((pool) => pool.size > 0),
+    ...Array.from({ length: singles }, () => ({ size: 1, sensitivity, specificity: 1 })),
+  ];
   const detection = designInfected === 0 ? 0 : pooledDetectionOfPools(pens, designInfected, tests);
   return {
     detection,
@@ -322,9 +351,25 @@ export function siteFigures(
   program: Program,
   siteBarns: number,
   barnProbabilities: readonly number[],
-): Pick<SiteConfidence, 'detectionConfidence' | 'barns' | 'infectedBarns' | 'detectionIfEveryBarn' | 'fewInfectedBarns' | 'detectionIfFewBarns'> {
+): Pick<
+  SiteConfidence,
+  | 'detectionConfidence'
+  | 'barns'
+  | 'infectedBarns'
+  | 'detectionIfEveryBarn'
+  | 'fewInfectedBarns'
+  | 'detectionIfFewBarns'
+> {
   const barns = Math.max(siteBarns, barnProbabilities.length);
-  if (barnProbabilities.length === 0) return { detectionConfidence: 0, barns, infectedBarns: barns, detectionIfEveryBarn: 0, fewInfectedBarns: 1, detectionIfFewBarns: 0 };
+  if (barnProbabilities.length === 0)
+    return {
+      detectionConfidence: 0,
+      barns,
+      infectedBarns: barns,
+      detectionIfEveryBarn: 0,
+      fewInfectedBarns: 1,
+      detectionIfFewBarns: 0,
+    };
   const probabilities = [...barnProbabilities, ...Array.from({ length: barns - barnProbabilities.length }, () => 0)];
   const infectedBarns = designBarnsFor(program, barns);
   const fewInfectedBarns = infectedBarns < barns ? infectedBarns : 1;
@@ -356,7 +401,9 @@ function barnFreedom(site: Site, rounds: readonly SiteRound[], perRound: readonl
       const chains: Link[][] = [];
       let chainKey: string | undefined;
       rounds.forEach((round, index) => {
-        const entry = perRound[index]!.barns.find((candidate) => candidate.barnId === barn.id && candidate.assayId === assayId);
+        const entry = perRound[index]!.barns.find(
+          (candidate) => candidate.barnId === barn.id && candidate.assayId === assayId,
+        );
         if (entry === undefined || entry.empty || round.state === 'awaiting-results') return;
         const key = entry.group?.id ?? '';
         if (chainKey === undefined || key !== chainKey) {
@@ -367,11 +414,17 @@ function barnFreedom(site: Site, rounds: readonly SiteRound[], perRound: readonl
       });
       chains.forEach((chain, chainIndex) => {
         const steps = freedomAcrossRounds(
-          { prior: program.priorFreedom, introduction: program.introductionPerInterval, order: 'update-then-discount', intervalDays: program.intervalDays },
+          {
+            prior: program.priorFreedom,
+            introduction: program.introductionPerInterval,
+            order: 'update-then-discount',
+            intervalDays: program.intervalDays,
+          },
           chain.map((link, index) => ({
             sensitivity: link.entry.detectionConfidence,
             positive: link.entry.positives > 0,
-            elapsedDays: index === 0 ? program.intervalDays : Math.max(0, daysBetween(chain[index - 1]!.startOn, link.startOn)),
+            elapsedDays:
+              index === 0 ? program.intervalDays : Math.max(0, daysBetween(chain[index - 1]!.startOn, link.startOn)),
           })),
         ).rounds;
         chain.forEach((link, index) => {
@@ -400,7 +453,8 @@ export function siteConfidence(
   const program = site.program;
   // All-in/all-out: a new group of pigs in a positive barn ends its positive state (the infected
   // pigs have left), whatever the run of negative rounds (common practice, no source).
-  const groupOf = (roundIndex: number, barnId: string) => rounds[roundIndex]?.barns.find((barn) => barn.barnId === barnId)?.group?.id ?? null;
+  const groupOf = (roundIndex: number, barnId: string) =>
+    rounds[roundIndex]?.barns.find((barn) => barn.barnId === barnId)?.group?.id ?? null;
   const groupPlaced = (barnId: string, roundNumber: number) => {
     const index = rounds.findIndex((round) => round.number === roundNumber);
     const group = groupOf(index, barnId);
@@ -414,7 +468,8 @@ export function siteConfidence(
     barns: round.assays.flatMap((assayId) =>
       site.barns.map((barn) => ({
         ...barnConfidence(site, round, barn, assayId, spread ? { sizing: spread, roundIndex: index + 1 } : undefined),
-        status: statuses[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)?.status ?? null,
+        status:
+          statuses[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)?.status ?? null,
       })),
     ),
     sites: [],
@@ -422,7 +477,9 @@ export function siteConfidence(
   // A round awaiting its results has proved nothing yet, nor failed to: it has no detection
   // figure and stays out of the freedom chain until results come back (or their grace period
   // ends and it counts as a round with missing ropes).
-  const counted = rounds.map((round, index) => ({ round, index })).filter(({ round }) => round.state !== 'awaiting-results');
+  const counted = rounds
+    .map((round, index) => ({ round, index }))
+    .filter(({ round }) => round.state !== 'awaiting-results');
   for (const assayId of assays) {
     const freedomRounds = counted.map(({ round, index }, position) => {
       // An empty barn has no pigs to find: it adds nothing to the site's detection (not a missed barn),
@@ -431,10 +488,20 @@ export function siteConfidence(
       const barns = perRound[index]!.barns.filter((barn) => barn.assayId === assayId);
       const stocked = barns.filter((barn) => !barn.empty);
       const siteBarns = site.barns.length - (barns.length - stocked.length);
-      const figures = siteFigures(program, siteBarns, stocked.map((barn) => barn.detectionConfidence));
+      const figures = siteFigures(
+        program,
+        siteBarns,
+        stocked.map((barn) => barn.detectionConfidence),
+      );
       const sensitivity = figures.detectionConfidence;
       const pooled = stocked.some((barn) => barn.pooled !== undefined);
-      const unpooled = pooled ? siteFigures(program, siteBarns, stocked.map((barn) => barn.pooled?.unpooledDetectionConfidence ?? barn.detectionConfidence)).detectionConfidence : undefined;
+      const unpooled = pooled
+        ? siteFigures(
+            program,
+            siteBarns,
+            stocked.map((barn) => barn.pooled?.unpooledDetectionConfidence ?? barn.detectionConfidence),
+          ).detectionConfidence
+        : undefined;
       const previous = counted[position - 1]?.round;
       return {
         sensitivity,
@@ -442,13 +509,20 @@ export function siteConfidence(
         unpooled,
         // A positive pool says the barn holds infection even though no single pen is named.
         positive: barns.some((barn) => barn.positives > 0 || (barn.pooled?.positivePools ?? 0) > 0),
-        positiveBarns: barns.filter((barn) => barn.positives > 0 || (barn.pooled?.positivePools ?? 0) > 0).map((barn) => barn.barnId),
+        positiveBarns: barns
+          .filter((barn) => barn.positives > 0 || (barn.pooled?.positivePools ?? 0) > 0)
+          .map((barn) => barn.barnId),
         elapsedDays: previous ? Math.max(0, daysBetween(previous.startOn, round.startOn)) : program.intervalDays,
         daysSincePrevious: previous ? daysBetween(previous.startOn, round.startOn) : null,
       };
     });
     const freedom = freedomAcrossRounds(
-      { prior: program.priorFreedom, introduction: program.introductionPerInterval, order: 'update-then-discount', intervalDays: program.intervalDays },
+      {
+        prior: program.priorFreedom,
+        introduction: program.introductionPerInterval,
+        order: 'update-then-discount',
+        intervalDays: program.intervalDays,
+      },
       freedomRounds,
     );
     freedomRounds.forEach((round, position) => {

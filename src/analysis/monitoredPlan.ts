@@ -11,9 +11,13 @@ import { monitoringBaseRopes, pensToReRope } from '../plan/monitoring.js';
 import type { RoundConfidence } from './confidence.js';
 import type { MonitoredBarn, NextRoundPlan } from './planTypes.js';
 
-
 /** The barns positive for one of `assays` after the last round, by barn id. */
-export function monitoredBarns(site: Site, lastConfidence: RoundConfidence | undefined, rounds: readonly SiteRound[], assays: readonly string[]): Map<string, MonitoredBarn> {
+export function monitoredBarns(
+  site: Site,
+  lastConfidence: RoundConfidence | undefined,
+  rounds: readonly SiteRound[],
+  assays: readonly string[],
+): Map<string, MonitoredBarn> {
   const byBarn = new Map<string, MonitoredBarn>();
   for (const entry of lastConfidence?.barns ?? []) {
     if (!assays.includes(entry.assayId) || entry.status?.state !== 'positive') continue;
@@ -23,7 +27,10 @@ export function monitoredBarns(site: Site, lastConfidence: RoundConfidence | und
       barnId: entry.barnId,
       assays: [...(current?.assays ?? []), entry.assayId],
       sinceRound: Math.min(current?.sinceRound ?? status.sinceRound, status.sinceRound),
-      negativeRoundsInARow: Math.min(current?.negativeRoundsInARow ?? status.negativeRoundsInARow, status.negativeRoundsInARow),
+      negativeRoundsInARow: Math.min(
+        current?.negativeRoundsInARow ?? status.negativeRoundsInARow,
+        status.negativeRoundsInARow,
+      ),
       reRope: [],
       baseRopes: 0,
     });
@@ -47,7 +54,11 @@ export function budgetForSurveyed(budget: number | null, monitored: ReadonlyMap<
  * figure for a positive barn), their schedule comparison dropped (it compares detection), a
  * `monitoring` entry per barn, and a note.
  */
-export function withMonitoring(plan: NextRoundPlan, monitored: ReadonlyMap<string, MonitoredBarn>, clearAfterNegativeRounds: number): NextRoundPlan {
+export function withMonitoring(
+  plan: NextRoundPlan,
+  monitored: ReadonlyMap<string, MonitoredBarn>,
+  clearAfterNegativeRounds: number,
+): NextRoundPlan {
   if (monitored.size === 0) return plan;
   const rounds = (n: number) => `${n} negative round${n === 1 ? '' : 's'}`;
   const barns = plan.barns.map((barn) => {
@@ -64,7 +75,9 @@ export function withMonitoring(plan: NextRoundPlan, monitored: ReadonlyMap<strin
   const budgetNote =
     plan.sizing.budget === null
       ? []
-      : [`The re-rope and tracking ropes of the positive barn${ids.length === 1 ? '' : 's'} (${base}) come out of the rope budget of ${plan.sizing.budget}: the surveyed barns share the other ${budgetForSurveyed(plan.sizing.budget, monitored)}. Follow-up and retest ropes come on top, as in any barn.`];
+      : [
+          `The re-rope and tracking ropes of the positive barn${ids.length === 1 ? '' : 's'} (${base}) come out of the rope budget of ${plan.sizing.budget}: the surveyed barns share the other ${budgetForSurveyed(plan.sizing.budget, monitored)}. Follow-up and retest ropes come on top, as in any barn.`,
+        ];
   return {
     ...plan,
     barns,

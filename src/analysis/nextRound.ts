@@ -24,10 +24,21 @@ import {
   type Allocation,
   type PlanRow,
 } from '../plan/index.js';
-import { contactWeights, detectionProbability, simulateOnwardSpread, type DetectionEstimate } from '../spatial/index.js';
+import {
+  contactWeights,
+  detectionProbability,
+  simulateOnwardSpread,
+  type DetectionEstimate,
+} from '../spatial/index.js';
 import { detectionFor, pooledDetection, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
-import { designBarnsFor, designInfectedFor, ropeAccuracy, spreadEstimator, type RoundConfidence } from './confidence.js';
+import {
+  designBarnsFor,
+  designInfectedFor,
+  ropeAccuracy,
+  spreadEstimator,
+  type RoundConfidence,
+} from './confidence.js';
 import { describeDesignPrevalence as describeDesign } from './roundSummary.js';
 import type { OutbreakCache, RoundSpatial } from './spatialRound.js';
 import { budgetForSurveyed, monitoredBarns, withMonitoring } from './monitoredPlan.js';
@@ -79,7 +90,12 @@ function barnModels(input: PlanInput, assays: readonly string[]): BarnModel[] {
     const pensInUse = inUse.length;
     const designInfected = designInfectedFor(site.program, pensInUse);
     // Size for the assay that needs the most ropes: the one with the lowest rope sensitivity.
-    const assayId = [...assays].sort((a, b) => ropeAccuracy(site.program, a, barn).sensitivity - ropeAccuracy(site.program, b, barn).sensitivity || (a < b ? -1 : 1))[0] ?? 'default';
+    const assayId =
+      [...assays].sort(
+        (a, b) =>
+          ropeAccuracy(site.program, a, barn).sensitivity - ropeAccuracy(site.program, b, barn).sensitivity ||
+          (a < b ? -1 : 1),
+      )[0] ?? 'default';
     const sensitivity = ropeAccuracy(site.program, assayId, barn).sensitivity;
     const hyperKernel = detectionFor({ pens: pensInUse, infected: designInfected, sensitivity });
     // The spread model is always evaluated, whichever model sizes: it is shown beside the
@@ -101,7 +117,12 @@ function barnModels(input: PlanInput, assays: readonly string[]): BarnModel[] {
 }
 
 /** Relabels rows with the IDs an earlier version of this plan gave the same pens; new pens get fresh, unused sequences. */
-function keepEarlierIds(rows: readonly PlanRow[], site: Site, round: number, existing: ReadonlyMap<string, string> | undefined): PlanRow[] {
+function keepEarlierIds(
+  rows: readonly PlanRow[],
+  site: Site,
+  round: number,
+  existing: ReadonlyMap<string, string> | undefined,
+): PlanRow[] {
   if (!existing || existing.size === 0) return [...rows];
   const earlierIds = new Set(existing.values());
   const withEarlier = rows.map((row) => ({ row, earlier: existing.get(`${row.barnId}/${row.penId}`) }));
@@ -121,7 +142,6 @@ function keepEarlierIds(rows: readonly PlanRow[], site: Site, round: number, exi
   });
 }
 
-
 /**
  * Puts each barn's routine ropes, in walking order, into pools of `poolSize` (the last pool of a
  * barn takes what is left; a pool of one is no pool). Retest and follow-up ropes are tested on
@@ -129,7 +149,13 @@ function keepEarlierIds(rows: readonly PlanRow[], site: Site, round: number, exi
  * character (ISO/IEC 7064 MOD 37-2), on sequences after every rope's, so a mistyped pool ID is
  * caught on ingest like a mistyped sample ID.
  */
-function assignPools(rows: readonly PlanRow[], site: Site, round: number, poolSize: number, existing: ReadonlyMap<string, string> | undefined): PooledPlanRow[] {
+function assignPools(
+  rows: readonly PlanRow[],
+  site: Site,
+  round: number,
+  poolSize: number,
+  existing: ReadonlyMap<string, string> | undefined,
+): PooledPlanRow[] {
   if (poolSize < 2) return [...rows];
   const taken = new Set([...rows.map((row) => row.sampleId), ...(existing?.values() ?? [])]);
   let sequence = 0;
@@ -153,7 +179,8 @@ function assignPools(rows: readonly PlanRow[], site: Site, round: number, poolSi
       if (members.length < 2) break;
       const poolId = nextPoolId();
       // Out of sequences (999 per round): the rest are tested on their own.
-      if (poolId === undefined) return rows.map((row) => (poolOf.has(row) ? { ...row, poolId: poolOf.get(row)! } : row));
+      if (poolId === undefined)
+        return rows.map((row) => (poolOf.has(row) ? { ...row, poolId: poolOf.get(row)! } : row));
       for (const member of members) poolOf.set(member, poolId);
     }
   }
@@ -166,7 +193,9 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const program = site.program;
   const last = rounds.at(-1);
   const roundNumber = (last?.number ?? 0) + 1;
-  const due = last ? roundDue(last.startOn, program.intervalDays, input.today) : { dueDate: input.today, daysUntilDue: 0, overdue: false, daysOverdue: 0 };
+  const due = last
+    ? roundDue(last.startOn, program.intervalDays, input.today)
+    : { dueDate: input.today, daysUntilDue: 0, overdue: false, daysOverdue: 0 };
   // Follow-ups and retests come from the last round with results: a round whose ropes are out
   // and whose results are not yet due (or never came) has nothing to follow up. The freedom
   // forecast starts from the last round in the freedom chain (an awaiting round is not in it).
@@ -188,14 +217,20 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   const models = barnModels(input, assays);
   // Barns positive after the last round with results are monitored, not sized for detection (a
   // round still awaiting its results says nothing about them yet).
-  const monitored = monitoredBarns(site, basisIndex < 0 ? undefined : input.confidence[basisIndex], rounds.slice(0, basisIndex + 1), assays);
+  const monitored = monitoredBarns(
+    site,
+    basisIndex < 0 ? undefined : input.confidence[basisIndex],
+    rounds.slice(0, basisIndex + 1),
+    assays,
+  );
   const notes: string[] = [];
   const sizingNotes: string[] = [];
   const target = program.targetConfidence;
   const budget = input.budget ?? program.ropeBudget ?? null;
 
   const spatialSizing = settings.sizingModel === 'spatial';
-  const chosenDetect = (model: BarnModel) => (spatialSizing && model.spread ? (n: number) => model.spread!(n).p : model.hyper);
+  const chosenDetect = (model: BarnModel) =>
+    spatialSizing && model.spread ? (n: number) => model.spread!(n).p : model.hyper;
   // Site-level sizing with D of the site's H barns infected (two-stage; Cameron & Baldock 1998):
   // barns alike at p each give 1 - (1 - p)^D, so each barn is sized to p = 1 - (1 - C)^(1/D).
   // Every infected set then detects with at least C, so the two-stage site figure does too.
@@ -206,20 +241,42 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     const hyperRopes = reach.reachable ? reach.ropes : null;
     // The spread model sizes only when chosen, and then by its estimate less two Monte Carlo
     // standard errors, so that another seed does not move the count.
-    const spreadReach = spatialSizing && model.spread ? smallestRopesConservative(model.spread, barnTarget, model.pensInUse) : null;
+    const spreadReach =
+      spatialSizing && model.spread ? smallestRopesConservative(model.spread, barnTarget, model.pensInUse) : null;
     return spreadReach
-      ? { model, reach, hyperRopes, spreadRopes: spreadReach.ropes, ropes: spreadReach.ropes ?? model.pensInUse, reachable: spreadReach.ropes !== null }
-      : { model, reach, hyperRopes, spreadRopes: null, ropes: hyperRopes ?? model.pensInUse, reachable: reach.reachable };
+      ? {
+          model,
+          reach,
+          hyperRopes,
+          spreadRopes: spreadReach.ropes,
+          ropes: spreadReach.ropes ?? model.pensInUse,
+          reachable: spreadReach.ropes !== null,
+        }
+      : {
+          model,
+          reach,
+          hyperRopes,
+          spreadRopes: null,
+          ropes: hyperRopes ?? model.pensInUse,
+          reachable: reach.reachable,
+        };
   });
 
   // A barn run all-in/all-out that will stand empty on the due date (closed out, next group not
   // yet placed) gets no rope, and no share of a budget: there are no pigs to find.
-  const emptyOnDue = new Set(models.filter((model) => barnStatusOn(model.barn.groups, due.dueDate).kind === 'empty').map((model) => model.barn.id));
+  const emptyOnDue = new Set(
+    models
+      .filter((model) => barnStatusOn(model.barn.groups, due.dueDate).kind === 'empty')
+      .map((model) => model.barn.id),
+  );
   const isSurveyed = (barnId: string) => !monitored.has(barnId) && !emptyOnDue.has(barnId);
   let allocation: Allocation | null = null;
   let routine = perBarn.map((entry) => (isSurveyed(entry.model.barn.id) ? entry.ropes : 0));
   const total = routine.reduce((sum, n) => sum + n, 0);
-  const infectedWords = infectedBarns === models.length ? `every one of its ${models.length} barns infected` : `${infectedBarns} of its ${models.length} barns infected (barns at random)`;
+  const infectedWords =
+    infectedBarns === models.length
+      ? `every one of its ${models.length} barns infected`
+      : `${infectedBarns} of its ${models.length} barns infected (barns at random)`;
   sizingNotes.push(
     program.sizeFor === 'site'
       ? `The site target ${formatPercent(target)} with ${infectedWords} is met when each barn reaches ${formatPercent(barnTarget)} (1 - (1 - C)^(1/D), D = ${infectedBarns}): ${total} routine ropes.`
@@ -227,7 +284,9 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   );
   const surveyBudget = budgetForSurveyed(budget, monitored);
   if (surveyBudget !== null && total > surveyBudget) {
-    const barnSizing = models.filter((model) => isSurveyed(model.barn.id)).map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
+    const barnSizing = models
+      .filter((model) => isSurveyed(model.barn.id))
+      .map((model) => ({ barnId: model.barn.id, maxRopes: model.pensInUse, detect: chosenDetect(model) }));
     allocation = allocateRopesBalanced(barnSizing, surveyBudget);
     routine = models.map((model) => allocation!.ropes.find((entry) => entry.barnId === model.barn.id)?.ropes ?? 0);
     const weakest = Math.min(...allocation.ropes.map((entry) => entry.detection));
@@ -248,25 +307,31 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
           `Beside it, the spread model (${spreadAssumptions}) shows what fixed, evenly spaced ropes buy when infection spreads pen to pen.`,
   );
 
-  const pensWhere = (barnId: string, key: 'positivePens' | 'suspectPens' | 'invalidPens', measure?: Measure) =>
-    [
-      ...new Set(
-        Object.entries(basis?.barns.find((barn) => barn.barnId === barnId)?.byAssay ?? {})
-          .filter(([assayId]) => measure === undefined || measureOf(assayId) === measure)
-          .flatMap(([, tally]) => tally[key]),
-      ),
-    ];
+  const pensWhere = (barnId: string, key: 'positivePens' | 'suspectPens' | 'invalidPens', measure?: Measure) => [
+    ...new Set(
+      Object.entries(basis?.barns.find((barn) => barn.barnId === barnId)?.byAssay ?? {})
+        .filter(([assayId]) => measure === undefined || measureOf(assayId) === measure)
+        .flatMap(([, tally]) => tally[key]),
+    ),
+  ];
   const lastSpatial = basisIndex < 0 ? undefined : input.spatial[basisIndex];
   if (last && basis !== last) {
     notes.push(
-      (last.state === 'awaiting-results' ? `Round ${last.number} is awaiting its results (due by ${last.resultsDueOn}): ` : `Round ${last.number} brought no result back: `) +
-        (basis ? `follow-up and retest ropes come from round ${basis.number}, the last round with results.` : 'no round has results to follow up yet.'),
+      (last.state === 'awaiting-results'
+        ? `Round ${last.number} is awaiting its results (due by ${last.resultsDueOn}): `
+        : `Round ${last.number} brought no result back: `) +
+        (basis
+          ? `follow-up and retest ropes come from round ${basis.number}, the last round with results.`
+          : 'no round has results to follow up yet.'),
     );
   }
   const clustersOf = (barnId: string) =>
     (lastSpatial?.assays ?? [])
       .filter((assay) => measureOf(assay.assayId) === 'ct')
-      .flatMap((assay) => assay.report.barns.find((barn) => barn.barn === barnId)?.clusters.map((cluster) => cluster.pens) ?? []);
+      .flatMap(
+        (assay) =>
+          assay.report.barns.find((barn) => barn.barn === barnId)?.clusters.map((cluster) => cluster.pens) ?? [],
+      );
   /** Antibody-positive pens with no PCR positive: retested (by PCR), not ringed with follow-up ropes. */
   const antibodyOnly = (barnId: string) => {
     const virus = new Set(pensWhere(barnId, 'positivePens', 'ct'));
@@ -288,25 +353,48 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
       realisations: Math.min(2000, settings.spreadRealisations),
       rng: seededRng(deriveSeed(settings.seed, site.id, model.barn.id, 'onward', roundNumber)),
     });
-    return (pens: readonly string[]) => detectionProbability(onward, pens.filter((id) => inUse.includes(id)), model.sensitivity).p;
+    return (pens: readonly string[]) =>
+      detectionProbability(
+        onward,
+        pens.filter((id) => inUse.includes(id)),
+        model.sensitivity,
+      ).p;
   };
   if (program.followUpRopes !== undefined) {
-    notes.push(`Follow-up ropes: at most ${program.followUpRopes} per barn, chosen one by one for the largest simulated gain in finding onward spread from the positives (greedy on a submodular objective: within 1 - 1/e of the best set; Nemhauser, Wolsey & Fisher 1978).`);
+    notes.push(
+      `Follow-up ropes: at most ${program.followUpRopes} per barn, chosen one by one for the largest simulated gain in finding onward spread from the positives (greedy on a submodular objective: within 1 - 1/e of the best set; Nemhauser, Wolsey & Fisher 1978).`,
+    );
   }
 
-  const antibodyRetests = models.flatMap((model) => antibodyOnly(model.barn.id).map((pen) => `${model.barn.id} ${pen}`));
+  const antibodyRetests = models.flatMap((model) =>
+    antibodyOnly(model.barn.id).map((pen) => `${model.barn.id} ${pen}`),
+  );
   if (antibodyRetests.length > 0) {
     notes.push(
       `Antibody positive without virus in ${antibodyRetests.join(', ')}: a retest rope each, to be tested by PCR (antibody means exposure, not necessarily current infection; no follow-up ring is drawn around it).`,
     );
   }
-  for (const barnId of emptyOnDue) notes.push(`Barn ${barnId} will be empty on ${due.dueDate} (its group closed out, the next not yet placed): no rope is planned there.`);
+  for (const barnId of emptyOnDue)
+    notes.push(
+      `Barn ${barnId} will be empty on ${due.dueDate} (its group closed out, the next not yet placed): no rope is planned there.`,
+    );
   const plan = buildRoundPlan({
     siteCode: site.code,
     round: roundNumber,
     dueDate: due.dueDate,
     barns: models.map((model, index) => {
-      if (emptyOnDue.has(model.barn.id)) return { barnId: model.barn.id, layout: model.barn.layout, roundIndex: rounds.length, routineRopes: 0, positives: [], suspects: [], invalids: [], clusters: [], ringDistance: program.followUpRadius };
+      if (emptyOnDue.has(model.barn.id))
+        return {
+          barnId: model.barn.id,
+          layout: model.barn.layout,
+          roundIndex: rounds.length,
+          routineRopes: 0,
+          positives: [],
+          suspects: [],
+          invalids: [],
+          clusters: [],
+          ringDistance: program.followUpRadius,
+        };
       const positives = pensWhere(model.barn.id, 'positivePens', 'ct');
       const detectSet = onwardDetect(model, positives);
       return {
@@ -321,7 +409,9 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
         ringDistance: program.followUpRadius,
         ...(program.followUpRopes !== undefined ? { maxExtraRopes: program.followUpRopes } : {}),
         ...(detectSet ? { detectSet } : {}),
-        ...(monitored.has(model.barn.id) ? { monitoring: { reRope: monitored.get(model.barn.id)!.reRope, trackingRopes: program.trackingRopes } } : {}),
+        ...(monitored.has(model.barn.id)
+          ? { monitoring: { reRope: monitored.get(model.barn.id)!.reRope, trackingRopes: program.trackingRopes } }
+          : {}),
       };
     }),
   });
@@ -338,17 +428,31 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     input.existingIds,
   );
   const positivePools = models.flatMap((model) =>
-    Object.values(last?.barns.find((barn) => barn.barnId === model.barn.id)?.byAssay ?? {}).flatMap((tally) => (tally.positivePoolPens ?? []).map((pen) => `${model.barn.id} ${pen}`)),
+    Object.values(last?.barns.find((barn) => barn.barnId === model.barn.id)?.byAssay ?? {}).flatMap((tally) =>
+      (tally.positivePoolPens ?? []).map((pen) => `${model.barn.id} ${pen}`),
+    ),
   );
   if (positivePools.length > 0) {
-    notes.push(`Positive pool in ${[...new Set(positivePools)].join(', ')}: a retest rope each, tested on its own, to find which pens of the pool carry the infection.`);
+    notes.push(
+      `Positive pool in ${[...new Set(positivePools)].join(', ')}: a retest rope each, tested on its own, to find which pens of the pool carry the infection.`,
+    );
   }
   const pooling = program.pooling;
   if (pooling !== undefined && pooling.poolSize > 1) {
     // The routine ropes are sized as if tested one by one; pooled, they detect less (hypergeometric, exact over the barn's pens).
     const pooledFigures = models.map((model, index) => {
       const ropes = Math.min(routine[index]!, model.pensInUse);
-      const pooled = model.pensInUse === 0 || model.designInfected === 0 ? 0 : pooledDetection(model.pensInUse, ropes, model.designInfected, pooling.poolSize, pooling.poolSensitivity, pooling.poolSpecificity);
+      const pooled =
+        model.pensInUse === 0 || model.designInfected === 0
+          ? 0
+          : pooledDetection(
+              model.pensInUse,
+              ropes,
+              model.designInfected,
+              pooling.poolSize,
+              pooling.poolSensitivity,
+              pooling.poolSpecificity,
+            );
       return `${model.barn.id} ${formatPercent(pooled)} pooled against ${formatPercent(model.hyper(ropes))} one by one`;
     });
     notes.push(
@@ -375,17 +479,24 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     const statement =
       entry.reachable || ropes < model.pensInUse
         ? `The systematic layer of ${ropes} ropes gives ${formatPercent(plannedChosen)} detection at ${design}, ${modelWords} (${model.assayId}, rope sensitivity ${model.sensitivity})` +
-          (entry.reachable ? '.' : `; ${formatPercent(target)} is out of reach in one round even with a rope in every pen.`) +
+          (entry.reachable
+            ? '.'
+            : `; ${formatPercent(target)} is out of reach in one round even with a rope in every pen.`) +
           beside
         : `No single round reaches ${formatPercent(target)} in barn ${model.barn.id}: even a rope in every pen gives ${formatPercent(ceiling ?? plannedChosen)} at ${design}` +
-          (!entry.reach.reachable && entry.reach.roundsNeeded !== null ? `; ${entry.reach.roundsNeeded} negative rounds in a row would.` : '.');
+          (!entry.reach.reachable && entry.reach.roundsNeeded !== null
+            ? `; ${entry.reach.roundsNeeded} negative rounds in a row would.`
+            : '.');
     const sizing: BarnSizingReport = {
       barnId: model.barn.id,
       assayId: model.assayId,
       pensInUse: model.pensInUse,
       designInfected: model.designInfected,
       sensitivity: model.sensitivity,
-      model: spatialSizing && spreadEstimate ? 'spread model (fixed spatial sampling under contagious spread)' : 'hypergeometric (random placement)',
+      model:
+        spatialSizing && spreadEstimate
+          ? 'spread model (fixed spatial sampling under contagious spread)'
+          : 'hypergeometric (random placement)',
       routineRopes: ropes,
       hypergeometricRopes: entry.hyperRopes,
       spreadModelRopes: entry.spreadRopes,
@@ -415,7 +526,11 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   );
   const modelName = spatialSizing ? 'spread model' : 'hypergeometric model';
   const siteWords =
-    infectedBarns === models.length ? `if every barn were infected at ${describeDesign(site)}` : infectedBarns === 1 ? 'if only one barn were infected' : `if only ${infectedBarns} of the ${models.length} barns were infected`;
+    infectedBarns === models.length
+      ? `if every barn were infected at ${describeDesign(site)}`
+      : infectedBarns === 1
+        ? 'if only one barn were infected'
+        : `if only ${infectedBarns} of the ${models.length} barns were infected`;
   // A monitored barn is known to be infected and an empty one holds no pigs: the least detection is that of the surveyed barns.
   const surveyed = barns.filter((barn) => isSurveyed(barn.barnId));
   const weakestBarn = Math.min(...surveyed.map((barn) => barn.sizing.plannedDetection));
@@ -423,8 +538,8 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     surveyed.length === 0
       ? 'No barn is surveyed for detection this round (every barn is positive and monitored, or empty): no detection figure applies.'
       : program.sizeFor === 'barn'
-      ? `If they all come back negative on time, each barn has at least ${formatPercent(weakestBarn)} detection confidence at the design prevalence (target ${formatPercent(target)} per barn, ${modelName}); the site ${formatPercent(siteDetectionIfNegative)} ${siteWords}.`
-      : `If they all come back negative on time, the site has ${formatPercent(siteDetectionIfNegative)} detection confidence ${siteWords} (target ${formatPercent(target)} for the site, ${modelName}).`;
+        ? `If they all come back negative on time, each barn has at least ${formatPercent(weakestBarn)} detection confidence at the design prevalence (target ${formatPercent(target)} per barn, ${modelName}); the site ${formatPercent(siteDetectionIfNegative)} ${siteWords}.`
+        : `If they all come back negative on time, the site has ${formatPercent(siteDetectionIfNegative)} detection confidence ${siteWords} (target ${formatPercent(target)} for the site, ${modelName}).`;
   let freedom: NextRoundPlan['freedom'] = null;
   const lastConfidence = freedomIndex < 0 ? undefined : input.confidence[freedomIndex];
   const freedomAssay = models[0]?.assayId;
@@ -444,44 +559,84 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
     freedom = {
       assayId: freedomAssay,
       currentFreedom,
-      ...onTimeVersusMissed({ currentFreedom, roundSensitivity: siteDetectionIfNegative, introductionPerInterval: program.introductionPerInterval, intervalDays: program.intervalDays }),
+      ...onTimeVersusMissed({
+        currentFreedom,
+        roundSensitivity: siteDetectionIfNegative,
+        introductionPerInterval: program.introductionPerInterval,
+        intervalDays: program.intervalDays,
+      }),
     };
   }
-  if (due.overdue) notes.push(`The round was due on ${due.dueDate}: ${due.daysOverdue} days overdue. Every day late adds introduction risk.`);
+  if (due.overdue)
+    notes.push(
+      `The round was due on ${due.dueDate}: ${due.daysOverdue} days overdue. Every day late adds introduction risk.`,
+    );
 
   const seed = deriveSeed(settings.seed, site.id, 'plan', roundNumber);
   const schedules = models.map((model, index) => {
     const ropes = Math.max(1, routine[index]!);
-    const statics = compareSchedules({ ropes, intervalDays: program.intervalDays, maxRopes: model.pensInUse, detect: model.hyper });
+    const statics = compareSchedules({
+      ropes,
+      intervalDays: program.intervalDays,
+      maxRopes: model.pensInUse,
+      detect: model.hyper,
+    });
     const growing = compareSchedulesGrowing(
       { ropes, intervalDays: program.intervalDays, maxRopes: model.pensInUse },
       {
         initialInfected: 1,
         doublingDays: GROWTH_DOUBLING_DAYS,
         maxInfected: model.pensInUse,
-        detectAt: (n, infected) => detectionFor({ pens: model.pensInUse, infected: Math.min(infected, model.pensInUse), sensitivity: model.sensitivity })(Math.min(n, model.pensInUse)),
+        detectAt: (n, infected) =>
+          detectionFor({
+            pens: model.pensInUse,
+            infected: Math.min(infected, model.pensInUse),
+            sensitivity: model.sensitivity,
+          })(Math.min(n, model.pensInUse)),
       },
       { replicates: 2000, rng: seededRng(deriveSeed(seed, model.barn.id, 'schedules')) },
     );
-    return { barnId: model.barn.id, static: statics.options, growing: growing.options, notes: [...statics.notes, ...growing.notes, `Infected pens double every ${GROWTH_DOUBLING_DAYS} days in the growing comparison (a modelling assumption).`] };
+    return {
+      barnId: model.barn.id,
+      static: statics.options,
+      growing: growing.options,
+      notes: [
+        ...statics.notes,
+        ...growing.notes,
+        `Infected pens double every ${GROWTH_DOUBLING_DAYS} days in the growing comparison (a modelling assumption).`,
+      ],
+    };
   });
 
-  return withMonitoring({
-    schema: PLAN_SCHEMA,
-    site: { id: site.id, name: site.name, code: site.code },
-    basedOn: last ? { round: last.number, id: last.id, startOn: last.startOn } : null,
-    round: roundNumber,
-    dueDate: due.dueDate,
-    overdue: due.overdue,
-    daysOverdue: due.daysOverdue,
-    daysUntilDue: due.daysUntilDue,
-    ropes: rows,
-    barns,
-    sizing: { sizingModel: settings.sizingModel, sizeFor: program.sizeFor, infectedBarns, ifNegative, target, budget, allocation, notes: sizingNotes },
-    siteDetectionIfNegative,
-    freedom,
-    schedules,
-    seed,
-    notes,
-  }, monitored, program.clearAfterNegativeRounds);
+  return withMonitoring(
+    {
+      schema: PLAN_SCHEMA,
+      site: { id: site.id, name: site.name, code: site.code },
+      basedOn: last ? { round: last.number, id: last.id, startOn: last.startOn } : null,
+      round: roundNumber,
+      dueDate: due.dueDate,
+      overdue: due.overdue,
+      daysOverdue: due.daysOverdue,
+      daysUntilDue: due.daysUntilDue,
+      ropes: rows,
+      barns,
+      sizing: {
+        sizingModel: settings.sizingModel,
+        sizeFor: program.sizeFor,
+        infectedBarns,
+        ifNegative,
+        target,
+        budget,
+        allocation,
+        notes: sizingNotes,
+      },
+      siteDetectionIfNegative,
+      freedom,
+      schedules,
+      seed,
+      notes,
+    },
+    monitored,
+    program.clearAfterNegativeRounds,
+  );
 }

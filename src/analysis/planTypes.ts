@@ -3,7 +3,14 @@
  * the code that makes it (nextRound.ts, monitoredPlan.ts), so that readers of a plan (the writers
  * in src/report, the monitoring step) need not import the planner.
  */
-import type { Allocation, BarnPlanSummary, OnTimeVersusMissed, PlanRow, ScheduleOption, SimulatedDelay } from '../plan/index.js';
+import type {
+  Allocation,
+  BarnPlanSummary,
+  OnTimeVersusMissed,
+  PlanRow,
+  ScheduleOption,
+  SimulatedDelay,
+} from '../plan/index.js';
 
 export const PLAN_SCHEMA = 'ropewatch.next-round/1';
 
@@ -31,7 +38,13 @@ export interface BarnSizingReport {
   plannedHypergeometric: number;
   plannedSpreadModel: number | null;
   /** The spread model behind `plannedSpreadModel`: its Monte Carlo standard error, outbreaks simulated, their seed and assumptions. */
-  spreadModel: { standardError: number; realisations: number; seed: number; transmission: number; background: number } | null;
+  spreadModel: {
+    standardError: number;
+    realisations: number;
+    seed: number;
+    transmission: number;
+    background: number;
+  } | null;
 }
 
 export interface NextRoundPlan {

@@ -180,10 +180,22 @@ export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigur
   const within = describeDesignPrevalence(site);
   const few = confidence.fewInfectedBarns;
   const fewWords =
-    few === 1 ? 'if only one barn were infected' : `if only ${SMALL_NUMBERS[few] ?? String(few)} of the ${confidence.barns} barns were infected`;
+    few === 1
+      ? 'if only one barn were infected'
+      : `if only ${SMALL_NUMBERS[few] ?? String(few)} of the ${confidence.barns} barns were infected`;
   return [
-    { label: `if every barn were infected at ${within}`, detection: confidence.detectionIfEveryBarn, infectedBarns: confidence.barns, freedom: confidence.infectedBarns === confidence.barns },
-    { label: fewWords, detection: confidence.detectionIfFewBarns, infectedBarns: few, freedom: confidence.infectedBarns !== confidence.barns },
+    {
+      label: `if every barn were infected at ${within}`,
+      detection: confidence.detectionIfEveryBarn,
+      infectedBarns: confidence.barns,
+      freedom: confidence.infectedBarns === confidence.barns,
+    },
+    {
+      label: fewWords,
+      detection: confidence.detectionIfFewBarns,
+      infectedBarns: few,
+      freedom: confidence.infectedBarns !== confidence.barns,
+    },
   ];
 }
 
@@ -191,12 +203,16 @@ export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigur
 export function describeBarnDesignPrevalence(site: Site): string {
   const design = site.program.barnDesignPrevalence;
   if (design === undefined) return 'every barn';
-  return design.kind === 'barns' ? `${design.value} barn${design.value === 1 ? '' : 's'}` : `${Math.round(design.value * 1000) / 10}% of barns`;
+  return design.kind === 'barns'
+    ? `${design.value} barn${design.value === 1 ? '' : 's'}`
+    : `${Math.round(design.value * 1000) / 10}% of barns`;
 }
 
 export function describeDesignPrevalence(site: Site): string {
   const design = site.program.designPrevalence;
-  return design.kind === 'pens' ? `${design.value} pen${design.value === 1 ? '' : 's'}` : `${Math.round(design.value * 1000) / 10}% of pens`;
+  return design.kind === 'pens'
+    ? `${design.value} pen${design.value === 1 ? '' : 's'}`
+    : `${Math.round(design.value * 1000) / 10}% of pens`;
 }
 
 /**
@@ -210,8 +226,20 @@ export function sequencingReading(below: number): string {
 /** The defaults in assays.yaml of an assay's cutoffs, by its measure. */
 export function cutoffDefaults(assay: Assay): CutoffDefaults {
   return assay.measure === 'ct'
-    ? { positiveBelow: assay.positiveBelow, suspectBelow: assay.suspectBelow, cycleLimit: assay.cycleLimit, positiveAtOrAbove: null, suspectAtOrAbove: null }
-    : { positiveBelow: null, suspectBelow: null, cycleLimit: null, positiveAtOrAbove: assay.positiveAtOrAbove, suspectAtOrAbove: assay.suspectAtOrAbove ?? null };
+    ? {
+        positiveBelow: assay.positiveBelow,
+        suspectBelow: assay.suspectBelow,
+        cycleLimit: assay.cycleLimit,
+        positiveAtOrAbove: null,
+        suspectAtOrAbove: null,
+      }
+    : {
+        positiveBelow: null,
+        suspectBelow: null,
+        cycleLimit: null,
+        positiveAtOrAbove: assay.positiveAtOrAbove,
+        suspectAtOrAbove: assay.suspectAtOrAbove ?? null,
+      };
 }
 
 /** The sequencing threshold of a Ct assay; an antibody assay has none (an S/P says nothing of viral RNA). */
@@ -232,12 +260,25 @@ export function antibodyMeaning(assayName: string, pcrName: string | null): stri
 }
 
 /** Positive, with a Ct below the assay's sequencing threshold (when one is configured). */
-export function isSequencingCandidate(result: { resultClass: string; ct: number | null }, sequencingBelow: number | undefined): boolean {
-  return sequencingBelow !== undefined && result.resultClass === 'positive' && result.ct !== null && result.ct < sequencingBelow;
+export function isSequencingCandidate(
+  result: { resultClass: string; ct: number | null },
+  sequencingBelow: number | undefined,
+): boolean {
+  return (
+    sequencingBelow !== undefined &&
+    result.resultClass === 'positive' &&
+    result.ct !== null &&
+    result.ct < sequencingBelow
+  );
 }
 
 /** Builds the summaries of every round of a site. */
-export function summariseSite(config: Config, site: Site, rounds: readonly SiteRound[], confidence: readonly RoundConfidence[]): RoundSummary[] {
+export function summariseSite(
+  config: Config,
+  site: Site,
+  rounds: readonly SiteRound[],
+  confidence: readonly RoundConfidence[],
+): RoundSummary[] {
   const labName = (labId: string) => config.labById.get(labId)?.name ?? labId;
   return rounds.map((round, index) => {
     const roundConfidence = confidence[index]!;
@@ -249,7 +290,8 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
     for (const entry of roundConfidence.sites) {
       const assay = config.assayById.get(entry.assayId);
       if (assay?.measure === 'sp-ratio') {
-        const pcr = assay.pairedWith === undefined ? null : (config.assayById.get(assay.pairedWith)?.name ?? assay.pairedWith);
+        const pcr =
+          assay.pairedWith === undefined ? null : (config.assayById.get(assay.pairedWith)?.name ?? assay.pairedWith);
         notices.push(antibodyMeaning(assay.name, pcr));
         if (entry.freedomReset) {
           notices.push(
@@ -314,7 +356,10 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
               ...kept,
               labName: labName(result.labId),
               sequencingCandidate: isSequencingCandidate(result, sequencingBelowOf(config.assayById.get(assayId))),
-              history: ctHistory(sameGroup, barnRound.barnId, pen.penId, assayId).map((point) => ({ ...point, labName: labName(point.labId) })),
+              history: ctHistory(sameGroup, barnRound.barnId, pen.penId, assayId).map((point) => ({
+                ...point,
+                labName: labName(point.labId),
+              })),
             }))(result),
           ]),
         ),
@@ -326,7 +371,16 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       const candidates = pens.flatMap((pen) => {
         const result = pen.results[assayId];
         return result?.sequencingCandidate
-          ? [{ barnId: pen.barnId, penId: pen.penId, sampleId: result.sampleId, ct: result.ct!, labId: result.labId, labName: result.labName }]
+          ? [
+              {
+                barnId: pen.barnId,
+                penId: pen.penId,
+                sampleId: result.sampleId,
+                ct: result.ct!,
+                labId: result.labId,
+                labName: result.labName,
+              },
+            ]
           : [];
       });
       return [{ assayId, sequencingBelow: below, reading: sequencingReading(below), pens: candidates }];
@@ -334,7 +388,15 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
     return {
       schema: SUMMARY_SCHEMA,
       site: { id: site.id, name: site.name },
-      round: { number: round.number, id: round.id, startOn: round.startOn, endOn: round.endOn, roundsOnSite: rounds.length, state: round.state, resultsDueOn: round.resultsDueOn },
+      round: {
+        number: round.number,
+        id: round.id,
+        startOn: round.startOn,
+        endOn: round.endOn,
+        roundsOnSite: rounds.length,
+        state: round.state,
+        resultsDueOn: round.resultsDueOn,
+      },
       program: {
         designPrevalence: describeDesignPrevalence(site),
         barnDesignPrevalence: describeBarnDesignPrevalence(site),
@@ -360,7 +422,9 @@ export function summariseSite(config: Config, site: Site, rounds: readonly SiteR
       }),
       pairs: assayIds.flatMap((id): AssayPair[] => {
         const assay = config.assayById.get(id);
-        return assay?.measure === 'sp-ratio' && assay.pairedWith !== undefined ? [{ antibody: id, pcr: assay.pairedWith }] : [];
+        return assay?.measure === 'sp-ratio' && assay.pairedWith !== undefined
+          ? [{ antibody: id, pcr: assay.pairedWith }]
+          : [];
       }),
       barns,
       pens,

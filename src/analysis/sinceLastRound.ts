@@ -37,14 +37,19 @@ function positives(round: SiteRound | null): Set<string> {
   const keys = new Set<string>();
   for (const barn of round?.barns ?? []) {
     for (const pen of barn.pens) {
-      for (const result of Object.values(pen.results)) if (result.resultClass === 'positive') keys.add(`${barn.barnId}/${pen.penId}/${result.assayId}`);
+      for (const result of Object.values(pen.results))
+        if (result.resultClass === 'positive') keys.add(`${barn.barnId}/${pen.penId}/${result.assayId}`);
     }
   }
   return keys;
 }
 
 function missingRopes(barn: BarnRound): MissingRope[] {
-  return barn.missingSampleIds.map((sampleId) => ({ barnId: barn.barnId, penId: barn.missingPens[sampleId] ?? null, sampleId }));
+  return barn.missingSampleIds.map((sampleId) => ({
+    barnId: barn.barnId,
+    penId: barn.missingPens[sampleId] ?? null,
+    sampleId,
+  }));
 }
 
 /**
@@ -54,8 +59,10 @@ function missingRopes(barn: BarnRound): MissingRope[] {
  * @throws RangeError when the two rounds are of different sites or `previous` does not come before `current`
  */
 export function sinceLastRound(previous: SiteRound | null, current: SiteRound): SinceLastRound {
-  if (previous && previous.siteId !== current.siteId) throw new RangeError(`\`previous\` must be a round of site ${current.siteId}, got one of ${previous.siteId}`);
-  if (previous && previous.number >= current.number) throw new RangeError(`\`previous\` must come before round ${current.number}, got round ${previous.number}`);
+  if (previous && previous.siteId !== current.siteId)
+    throw new RangeError(`\`previous\` must be a round of site ${current.siteId}, got one of ${previous.siteId}`);
+  if (previous && previous.number >= current.number)
+    throw new RangeError(`\`previous\` must come before round ${current.number}, got round ${previous.number}`);
   const before = positives(previous);
   const result: SinceLastRound = {
     previous: previous ? { number: previous.number, id: previous.id } : null,

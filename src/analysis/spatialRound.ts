@@ -50,7 +50,13 @@ export interface AssaySpatial {
   report: SiteSpatialReport;
   alerts: SpatialAlert[];
   /** Per barn: the hypergeometric detection confidence beside the spread-model one. */
-  detection: { barnId: string; hypergeometric: number; spreadModel: number | null; spreadModelSE: number | null; randomRopes: number | null }[];
+  detection: {
+    barnId: string;
+    hypergeometric: number;
+    spreadModel: number | null;
+    spreadModelSE: number | null;
+    randomRopes: number | null;
+  }[];
 }
 
 export interface RoundSpatial {
@@ -91,7 +97,6 @@ export class OutbreakCache {
   }
 }
 
-
 function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): SpatialAlert[] {
   const alerts: SpatialAlert[] = [];
   const jc = report.joinCount;
@@ -123,9 +128,19 @@ function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): 
   }
   const spread = report.spread;
   if (spread.pattern === 'adjacent-spread') {
-    alerts.push({ kind: 'spread', barnId: report.barn, assayId, message: `${assayId} in barn ${report.barn}: ${spread.explanation}` });
+    alerts.push({
+      kind: 'spread',
+      barnId: report.barn,
+      assayId,
+      message: `${assayId} in barn ${report.barn}: ${spread.explanation}`,
+    });
   } else if (spread.pattern === 'distant-new-focus') {
-    alerts.push({ kind: 'new-focus', barnId: report.barn, assayId, message: `${assayId} in barn ${report.barn}: ${spread.explanation}` });
+    alerts.push({
+      kind: 'new-focus',
+      barnId: report.barn,
+      assayId,
+      message: `${assayId} in barn ${report.barn}: ${spread.explanation}`,
+    });
   }
   return alerts;
 }
@@ -134,7 +149,13 @@ function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): 
  * Spatial analysis of each round of a site, per assay tested in that round.
  * @param confidence the round confidence from siteConfidence (for the hypergeometric value beside)
  */
-export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence: readonly RoundConfidence[], settings: AnalysisSettings, cache: OutbreakCache): RoundSpatial[] {
+export function siteSpatial(
+  site: Site,
+  rounds: readonly SiteRound[],
+  confidence: readonly RoundConfidence[],
+  settings: AnalysisSettings,
+  cache: OutbreakCache,
+): RoundSpatial[] {
   return rounds.map((round, index) => {
     const seed = deriveSeed(settings.seed, site.id, round.number);
     const assays = round.assays.map((assayId): AssaySpatial => {
@@ -144,15 +165,25 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
         const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
         const earlier = new Set<string>();
         for (const previous of rounds.slice(0, index)) {
-          for (const pen of previous.barns.find((b) => b.barnId === barn.id)?.byAssay[assayId]?.positivePens ?? []) earlier.add(pen);
+          for (const pen of previous.barns.find((b) => b.barnId === barn.id)?.byAssay[assayId]?.positivePens ?? [])
+            earlier.add(pen);
         }
         const sampled = barnRound.pens
-          .filter((pen) => pen.results[assayId] !== undefined && barn.penById.get(pen.penId.toUpperCase())?.status === 'in-use')
+          .filter(
+            (pen) =>
+              pen.results[assayId] !== undefined && barn.penById.get(pen.penId.toUpperCase())?.status === 'in-use',
+          )
           .map((pen) => {
             const result = pen.results[assayId]!;
             if (measure === 'sp-ratio') spByPen[`${barn.id}/${pen.penId}`] = result.sp;
             // The load of an S/P result is max(0, S/P): Moran's I and Gi* then read antibody level.
-            return { id: pen.penId, positive: result.resultClass === 'positive', resultClass: result.resultClass, ct: result.ct, load: result.load };
+            return {
+              id: pen.penId,
+              positive: result.resultClass === 'positive',
+              resultClass: result.resultClass,
+              ct: result.ct,
+              load: result.load,
+            };
           });
         return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: [...earlier] };
       });
@@ -163,15 +194,23 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
       });
       const detection = report.barns.map((barnReport) => {
         const barn = site.barnById.get(barnReport.barn.toUpperCase())!;
-        const hypergeometric = confidence[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)?.detectionConfidence ?? 0;
+        const hypergeometric =
+          confidence[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)
+            ?.detectionConfidence ?? 0;
         const pensInUse = barn.pens.filter((pen) => pen.status === 'in-use').length;
         const infected = designInfectedFor(site.program, pensInUse);
         const outbreaks = cache.outbreaksFor(site, barn, infected);
         // Invalid results prove nothing: only pens with a valid result count as ropes that looked.
         const ropes = barnReport.pens.map((pen) => pen.id);
-        if (!outbreaks || ropes.length === 0) return { barnId: barn.id, hypergeometric, spreadModel: null, spreadModelSE: null, randomRopes: null };
+        if (!outbreaks || ropes.length === 0)
+          return { barnId: barn.id, hypergeometric, spreadModel: null, spreadModelSE: null, randomRopes: null };
         const se = ropeAccuracy(site.program, assayId, barn).sensitivity;
-        const comparison = compareWithRandomPlacement(outbreaks, ropes, se, seededRng(deriveSeed(seed, assayId, barn.id, 'random-ropes')));
+        const comparison = compareWithRandomPlacement(
+          outbreaks,
+          ropes,
+          se,
+          seededRng(deriveSeed(seed, assayId, barn.id, 'random-ropes')),
+        );
         barnReport.detection = {
           ...comparison,
           se,
@@ -182,16 +221,31 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
           reseeded: outbreaks.reseeded,
           seed: deriveSeed(settings.seed, 'outbreaks', site.id, barn.id, infected),
         };
-        return { barnId: barn.id, hypergeometric, spreadModel: comparison.actual.p, spreadModelSE: comparison.actual.standardError, randomRopes: comparison.random.p };
+        return {
+          barnId: barn.id,
+          hypergeometric,
+          spreadModel: comparison.actual.p,
+          spreadModelSE: comparison.actual.standardError,
+          randomRopes: comparison.random.p,
+        };
       });
       const alerts = report.barns
         .flatMap((barnReport) => barnAlerts(barnReport, assayId, settings.alpha))
-        .map((alert) => (measure === 'sp-ratio' ? { ...alert, message: `${alert.message} (antibody positives: exposure, not necessarily current infection)` } : alert));
+        .map((alert) =>
+          measure === 'sp-ratio'
+            ? {
+                ...alert,
+                message: `${alert.message} (antibody positives: exposure, not necessarily current infection)`,
+              }
+            : alert,
+        );
       const clusterSp =
         measure === 'sp-ratio'
           ? report.barns.flatMap((barnReport) =>
               barnReport.clusters.map((cluster): ClusterSp => {
-                const values = cluster.pens.map((pen) => spByPen[`${barnReport.barn}/${pen}`]).filter((sp): sp is number => sp !== null && sp !== undefined);
+                const values = cluster.pens
+                  .map((pen) => spByPen[`${barnReport.barn}/${pen}`])
+                  .filter((sp): sp is number => sp !== null && sp !== undefined);
                 return {
                   barnId: barnReport.barn,
                   cluster: cluster.index,
@@ -209,7 +263,12 @@ export function siteSpatial(site: Site, rounds: readonly SiteRound[], confidence
       round: { number: round.number, id: round.id, startOn: round.startOn },
       seed,
       assays,
-      model: { transmission: settings.spreadTransmission, background: settings.spreadBackground, realisations: settings.spreadRealisations, contacts: 'queen' },
+      model: {
+        transmission: settings.spreadTransmission,
+        background: settings.spreadBackground,
+        realisations: settings.spreadRealisations,
+        contacts: 'queen',
+      },
     };
   });
 }

@@ -70,16 +70,23 @@ function readCase(io: CliIo, path: string): SpatialCase {
   if (c.neighbours) {
     for (const [from, tos] of Object.entries(c.neighbours)) {
       if (!ids.has(from)) throw new UsageError(`--input: neighbours names unknown pen ${from}`);
-      for (const to of tos) if (!ids.has(to)) throw new UsageError(`--input: neighbours of ${from} names unknown pen ${to}`);
+      for (const to of tos)
+        if (!ids.has(to)) throw new UsageError(`--input: neighbours of ${from} names unknown pen ${to}`);
     }
   }
-  if (c.k !== undefined && c.k > c.pens.length - 1) throw new UsageError(`--input: k must be at most ${c.pens.length - 1} (pens - 1), got ${c.k}`);
+  if (c.k !== undefined && c.k > c.pens.length - 1)
+    throw new UsageError(`--input: k must be at most ${c.pens.length - 1} (pens - 1), got ${c.k}`);
   return c;
 }
 
 function weightsFor(c: SpatialCase): SpatialWeights {
   const points = c.pens.map((p) => ({ id: p.id, x: p.x, y: p.y }));
-  if (c.neighbours) return listWeights(points.map((p) => p.id), c.neighbours, c.style);
+  if (c.neighbours)
+    return listWeights(
+      points.map((p) => p.id),
+      c.neighbours,
+      c.style,
+    );
   if (c.k !== undefined) return knnWeights(points, c.k, c.style);
   if (c.band !== undefined) return distanceBandWeights(points, c.band, c.style);
   // No weights given: the pipeline default, 2 nearest pens symmetrised (see defaultWeights).
@@ -91,9 +98,15 @@ export function computeSpatialCase(c: SpatialCase) {
   const w = weightsFor(c);
   const positive = c.pens.map((p) => p.positive);
   const loads = c.pens.map((p) => p.load);
-  const jc = joinCountTest(w, positive, { rng: seededRng(deriveSeed(c.seed, 'join-count')), permutations: c.permutations });
+  const jc = joinCountTest(w, positive, {
+    rng: seededRng(deriveSeed(c.seed, 'join-count')),
+    permutations: c.permutations,
+  });
   const moran = moranTest(w, loads, { rng: seededRng(deriveSeed(c.seed, 'moran')), permutations: c.permutations });
-  const scan = bernoulliScan(c.pens, positive, { rng: seededRng(deriveSeed(c.seed, 'scan')), permutations: c.permutations });
+  const scan = bernoulliScan(c.pens, positive, {
+    rng: seededRng(deriveSeed(c.seed, 'scan')),
+    permutations: c.permutations,
+  });
   const ml = scan.mostLikely;
   return {
     seed: c.seed,

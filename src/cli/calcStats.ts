@@ -48,8 +48,19 @@ interface DetectOptions {
   poolSpecificity?: string;
   json?: boolean;
 }
-interface SampleSizeOptions { pens?: string; infected?: string; prevalence?: string; confidence?: string; sensitivity?: string; json?: boolean }
-interface SiteOptions { barn?: string; infectedBarns?: string; json?: boolean }
+interface SampleSizeOptions {
+  pens?: string;
+  infected?: string;
+  prevalence?: string;
+  confidence?: string;
+  sensitivity?: string;
+  json?: boolean;
+}
+interface SiteOptions {
+  barn?: string;
+  infectedBarns?: string;
+  json?: boolean;
+}
 interface FreedomCliOptions {
   prior?: string;
   roundSensitivity?: string;
@@ -67,18 +78,38 @@ const ORDERS: readonly FreedomOrder[] = ['update-then-discount', 'discount-then-
  * `calc detect --pool-size k`: the pooled detection (exact over the barn's pens, pools filled at
  * random) beside the same ropes tested one by one at the rope sensitivity.
  */
-function printPooled(io: CliIo, options: DetectOptions, barn: { pens: number; sampled: number; infected: number; sensitivity: number }): void {
+function printPooled(
+  io: CliIo,
+  options: DetectOptions,
+  barn: { pens: number; sampled: number; infected: number; sensitivity: number },
+): void {
   const poolSize = parseIntegerOption('--pool-size', options.poolSize, 1);
-  if (options.poolSensitivity === undefined) throw new UsageError('--pool-size needs --pool-sensitivity (the sensitivity of a pool, lower than a single rope\'s as the sample is diluted)');
+  if (options.poolSensitivity === undefined)
+    throw new UsageError(
+      "--pool-size needs --pool-sensitivity (the sensitivity of a pool, lower than a single rope's as the sample is diluted)",
+    );
   const poolSensitivity = parseProbabilityOption('--pool-sensitivity', options.poolSensitivity);
-  const poolSpecificity = options.poolSpecificity === undefined ? 1 : parseProbabilityOption('--pool-specificity', options.poolSpecificity);
+  const poolSpecificity =
+    options.poolSpecificity === undefined ? 1 : parseProbabilityOption('--pool-specificity', options.poolSpecificity);
   const { pens, sampled, infected, sensitivity } = barn;
   const probability = pooledDetection(pens, sampled, infected, poolSize, poolSensitivity, poolSpecificity);
   const unpooledProbability = detectionFor({ pens, infected, sensitivity })(sampled);
   const pools = poolSizes(sampled, poolSize).length;
   const falseAlarm = 1 - poolSpecificity ** pools;
   if (options.json) {
-    printJson(io, { pens, sampled, infected, poolSize, pools, poolSensitivity, poolSpecificity, probability, falseAlarm, sensitivity, unpooledProbability });
+    printJson(io, {
+      pens,
+      sampled,
+      infected,
+      poolSize,
+      pools,
+      poolSensitivity,
+      poolSpecificity,
+      probability,
+      falseAlarm,
+      sensitivity,
+      unpooledProbability,
+    });
     return;
   }
   io.stdout(
@@ -107,27 +138,43 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
     .option('--sensitivity <Se>', 'rope (pen-level) sensitivity, default 1')
     .option('--specificity <Sp>', 'rope specificity; adds the false-alarm probability 1 - Sp^n')
     .option('--pool-size <k>', 'ropes tested together in one PCR (pools of k; the last pool takes what is left)')
-    .option('--pool-sensitivity <PSe>', 'sensitivity of a pool holding at least one infected rope (needed with --pool-size)')
+    .option(
+      '--pool-sensitivity <PSe>',
+      'sensitivity of a pool holding at least one infected rope (needed with --pool-size)',
+    )
     .option('--pool-specificity <PSp>', 'specificity of a pool of clean ropes, default 1')
     .option('--json', 'print JSON')
     .action((options: DetectOptions) => {
       const pens = parsePens(options.pens, false);
       const sampled = parseIntegerOption('--sampled', options.sampled, 0, pens);
       const infected = parseIntegerOption('--infected', options.infected, 0, pens);
-      const sensitivity = options.sensitivity === undefined ? 1 : parseProbabilityOption('--sensitivity', options.sensitivity);
-      const specificity = options.specificity === undefined ? undefined : parseProbabilityOption('--specificity', options.specificity);
+      const sensitivity =
+        options.sensitivity === undefined ? 1 : parseProbabilityOption('--sensitivity', options.sensitivity);
+      const specificity =
+        options.specificity === undefined ? undefined : parseProbabilityOption('--specificity', options.specificity);
       if (options.poolSize !== undefined) {
         printPooled(io, options, { pens, sampled, infected, sensitivity });
         return;
       }
-      if (options.poolSensitivity !== undefined || options.poolSpecificity !== undefined) throw new UsageError('--pool-sensitivity and --pool-specificity need --pool-size');
+      if (options.poolSensitivity !== undefined || options.poolSpecificity !== undefined)
+        throw new UsageError('--pool-sensitivity and --pool-specificity need --pool-size');
       const probability = detectionFor({ pens, infected, sensitivity })(sampled);
       const falseAlarm = specificity === undefined ? undefined : falseAlarmProbability(sampled, specificity);
       if (options.json) {
-        printJson(io, { pens, sampled, infected, sensitivity, ...(specificity === undefined ? {} : { specificity, falseAlarm }), probability });
+        printJson(io, {
+          pens,
+          sampled,
+          infected,
+          sensitivity,
+          ...(specificity === undefined ? {} : { specificity, falseAlarm }),
+          probability,
+        });
         return;
       }
-      const alarm = falseAlarm === undefined ? '' : `; an uninfected barn would give a false alarm with probability ${short(falseAlarm)} (Sp ${specificity})`;
+      const alarm =
+        falseAlarm === undefined
+          ? ''
+          : `; an uninfected barn would give a false alarm with probability ${short(falseAlarm)} (Sp ${specificity})`;
       io.stdout(
         `${plural(sampled, 'rope', 'ropes')} in ${pens} pens with ${plural(infected, 'infected pen', 'infected pens')} (Se ${sensitivity}) ` +
           `find at least one positive with probability ${short(probability)} (${percent(probability)})${alarm}.\n`,
@@ -149,15 +196,28 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
         throw new UsageError('give exactly one of --infected or --prevalence');
       }
       if (pens === Infinity && options.infected !== undefined) {
-        throw new UsageError('--pens inf needs --prevalence (a number of infected pens means nothing in an infinite population)');
+        throw new UsageError(
+          '--pens inf needs --prevalence (a number of infected pens means nothing in an infinite population)',
+        );
       }
-      const infected = options.infected === undefined ? undefined : parseIntegerOption('--infected', options.infected, 1, pens);
-      const prevalence = options.prevalence === undefined ? undefined : parseProbabilityOption('--prevalence', options.prevalence);
-      if (prevalence === 0) throw new UsageError('--prevalence must be above 0 (a design prevalence of 0 cannot be detected)');
+      const infected =
+        options.infected === undefined ? undefined : parseIntegerOption('--infected', options.infected, 1, pens);
+      const prevalence =
+        options.prevalence === undefined ? undefined : parseProbabilityOption('--prevalence', options.prevalence);
+      if (prevalence === 0)
+        throw new UsageError('--prevalence must be above 0 (a design prevalence of 0 cannot be detected)');
       const confidence = parseProbabilityOption('--confidence', options.confidence);
-      if (pens === Infinity && confidence === 1) throw new UsageError('--confidence 1 cannot be reached in an infinite population; give a value below 1');
-      const sensitivity = options.sensitivity === undefined ? 1 : parseProbabilityOption('--sensitivity', options.sensitivity);
-      const result = sampleSize({ pens, confidence, sensitivity, ...(infected === undefined ? {} : { infected }), ...(prevalence === undefined ? {} : { prevalence }) });
+      if (pens === Infinity && confidence === 1)
+        throw new UsageError('--confidence 1 cannot be reached in an infinite population; give a value below 1');
+      const sensitivity =
+        options.sensitivity === undefined ? 1 : parseProbabilityOption('--sensitivity', options.sensitivity);
+      const result = sampleSize({
+        pens,
+        confidence,
+        sensitivity,
+        ...(infected === undefined ? {} : { infected }),
+        ...(prevalence === undefined ? {} : { prevalence }),
+      });
       if (options.json) {
         printJson(io, {
           pens: pens === Infinity ? 'inf' : pens,
@@ -174,14 +234,20 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
         return;
       }
       const population = pens === Infinity ? 'a large population' : `${pens} pens`;
-      const design = result.infected === null ? `a design prevalence of ${prevalence}` : plural(result.infected, 'infected pen', 'infected pens');
+      const design =
+        result.infected === null
+          ? `a design prevalence of ${prevalence}`
+          : plural(result.infected, 'infected pen', 'infected pens');
       if (result.reachable) {
         io.stdout(
           `${plural(result.sampled!, 'rope', 'ropes')} in ${population} reach ${percent(confidence)} detection confidence for ${design} ` +
             `(Se ${sensitivity}; achieved ${short(result.achievedConfidence)}).\n`,
         );
       } else {
-        const rounds = result.roundsNeeded === null ? 'no number of rounds would' : `${result.roundsNeeded} independent negative rounds would`;
+        const rounds =
+          result.roundsNeeded === null
+            ? 'no number of rounds would'
+            : `${result.roundsNeeded} independent negative rounds would`;
         io.stdout(
           `No number of ropes reaches ${percent(confidence)} in one round for ${design} in ${population} (Se ${sensitivity}): ` +
             `a rope in every pen gives ${short(result.censusConfidence ?? 0)}; ${rounds}.\n`,
@@ -193,7 +259,10 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
     .command('site')
     .description('site-level detection from barn-level detection probabilities, 1 - prod(1 - p)')
     .option('--barn <list>', 'comma-separated barn detection probabilities (0 for a barn not surveyed)')
-    .option('--infected-barns <D>', 'barns infection is assumed to reach, chosen at random (two-stage design); default every barn')
+    .option(
+      '--infected-barns <D>',
+      'barns infection is assumed to reach, chosen at random (two-stage design); default every barn',
+    )
     .option('--json', 'print JSON')
     .action((options: SiteOptions) => {
       const barns = parseProbabilityList('--barn', options.barn);
@@ -214,7 +283,9 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
         printJson(io, { barns, probability });
         return;
       }
-      io.stdout(`${plural(barns.length, 'barn', 'barns')} together detect with probability ${short(probability)} (${percent(probability)}).\n`);
+      io.stdout(
+        `${plural(barns.length, 'barn', 'barns')} together detect with probability ${short(probability)} (${percent(probability)}).\n`,
+      );
     });
 
   calc
@@ -233,7 +304,8 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
       const sensitivities = parseProbabilityList('--round-sensitivity', options.roundSensitivity);
       const introduction = parseProbabilityOption('--introduction', options.introduction);
       const order = (options.order ?? 'update-then-discount') as FreedomOrder;
-      if (!ORDERS.includes(order)) throw new UsageError(`--order must be one of ${ORDERS.join(', ')}, got ${JSON.stringify(options.order)}`);
+      if (!ORDERS.includes(order))
+        throw new UsageError(`--order must be one of ${ORDERS.join(', ')}, got ${JSON.stringify(options.order)}`);
       const positives = new Set<number>();
       if (options.positiveRounds !== undefined) {
         for (const part of options.positiveRounds.split(',')) {
@@ -244,17 +316,21 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
       let elapsed: number[] | undefined;
       if (options.intervalDays !== undefined) {
         intervalDays = parseNumberOption('--interval-days', options.intervalDays);
-        if (!(intervalDays > 0)) throw new UsageError(`--interval-days must be above 0, got ${JSON.stringify(options.intervalDays)}`);
+        if (!(intervalDays > 0))
+          throw new UsageError(`--interval-days must be above 0, got ${JSON.stringify(options.intervalDays)}`);
       }
       if (options.elapsedDays !== undefined) {
         if (intervalDays === undefined) throw new UsageError('--elapsed-days needs --interval-days');
         elapsed = options.elapsedDays.split(',').map((part, i) => {
           const days = parseNumberOption(`--elapsed-days item ${i + 1}`, part.trim());
-          if (days < 0) throw new UsageError(`--elapsed-days item ${i + 1} must be 0 or more days, got ${JSON.stringify(part)}`);
+          if (days < 0)
+            throw new UsageError(`--elapsed-days item ${i + 1} must be 0 or more days, got ${JSON.stringify(part)}`);
           return days;
         });
         if (elapsed.length !== sensitivities.length) {
-          throw new UsageError(`--elapsed-days needs one value per round (${sensitivities.length}), got ${elapsed.length}`);
+          throw new UsageError(
+            `--elapsed-days needs one value per round (${sensitivities.length}), got ${elapsed.length}`,
+          );
         }
       }
       const rounds: FreedomRound[] = sensitivities.map((sensitivity, i) => ({
@@ -262,7 +338,10 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
         positive: positives.has(i + 1),
         ...(elapsed === undefined ? {} : { elapsedDays: elapsed[i]! }),
       }));
-      const result = freedomAcrossRounds({ prior, introduction, order, ...(intervalDays === undefined ? {} : { intervalDays }) }, rounds);
+      const result = freedomAcrossRounds(
+        { prior, introduction, order, ...(intervalDays === undefined ? {} : { intervalDays }) },
+        rounds,
+      );
       if (options.json) {
         printJson(io, {
           prior,
@@ -276,8 +355,13 @@ export function addDetectionCalcCommands(calc: Command, io: CliIo): void {
         return;
       }
       const last = result.rounds[result.rounds.length - 1]!;
-      const status = last.positive ? 'the last round was positive: not free' : `probability of freedom ${short(last.posterior)}`;
-      const level = result.equilibrium === null ? '' : `; repeated rounds like the last level off at ${short(result.equilibrium.posterior)}`;
+      const status = last.positive
+        ? 'the last round was positive: not free'
+        : `probability of freedom ${short(last.posterior)}`;
+      const level =
+        result.equilibrium === null
+          ? ''
+          : `; repeated rounds like the last level off at ${short(result.equilibrium.posterior)}`;
       io.stdout(
         `After ${plural(result.rounds.length, 'round', 'rounds')}, ${status} (next round starts from ${short(last.nextPrior)})${level}.\n`,
       );

@@ -12,7 +12,6 @@ import { InputRejectedError, InterruptedError, printJson, UsageError, type CliIo
 import { parseIntegerOption } from './parseArgs.js';
 import { stampLines } from './stampLines.js';
 
-
 const commandModules = () => import('./commandModules.js');
 
 /** Every file under `dir`, relative to `base` with `/` between folders, sorted. */
@@ -37,7 +36,9 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   addCommonOptions(
     program
       .command('ingest')
-      .description('process lab exports and rope sheets once, then exit (processed files move to inbox/archive/, refused ones to inbox/rejected/)')
+      .description(
+        'process lab exports and rope sheets once, then exit (processed files move to inbox/archive/, refused ones to inbox/rejected/)',
+      )
       .argument('<files...>', 'files to ingest (usually in the inbox)')
       .option('--json', 'print the receipts as JSON'),
   ).action(async (files: string[], options: CommonOptions) => {
@@ -50,8 +51,9 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
     if (outcome.stoppedBy !== null) {
       const done = resolved.length - outcome.left.length;
       throw new InterruptedError(
-        terminalText(`stopped by ${outcome.stoppedBy} after ${done} of ${resolved.length} file(s); ${outcome.left.length} not started, left where they are for the next run:`) +
-          outcome.left.map((file) => `\n  ${terminalText(file)}`).join(''),
+        terminalText(
+          `stopped by ${outcome.stoppedBy} after ${done} of ${resolved.length} file(s); ${outcome.left.length} not started, left where they are for the next run:`,
+        ) + outcome.left.map((file) => `\n  ${terminalText(file)}`).join(''),
         signalExitCode(outcome.stoppedBy),
       );
     }
@@ -69,8 +71,20 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .option('--stable-ms <ms>', 'quiet time before a file counts as completely written', '2000'),
   ).action(async (options: CommonOptions & { poll?: boolean; stableMs: string }) => {
     const stableMs = Number(options.stableMs);
-    if (!Number.isFinite(stableMs) || stableMs < 0) throw new UsageError(`--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`);
-    const { catchUp, checkInbox, deliverOwedAlerts, processAndTell, reloadConfiguration, watchConfig, watchInbox, withWorkspace } = await commandModules();
+    if (!Number.isFinite(stableMs) || stableMs < 0)
+      throw new UsageError(
+        `--stable-ms must be a number of milliseconds >= 0, got ${JSON.stringify(options.stableMs)}`,
+      );
+    const {
+      catchUp,
+      checkInbox,
+      deliverOwedAlerts,
+      processAndTell,
+      reloadConfiguration,
+      watchConfig,
+      watchInbox,
+      withWorkspace,
+    } = await commandModules();
     checkInbox(io, options);
     // A watch runs for days and its output is a log: every line it writes begins with the time
     // (ISO 8601, UTC, from the injected clock).
@@ -93,10 +107,15 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         poll: options.poll === true,
         onChange: () => {
           void inTurn(() => reloadConfiguration(ws, log)).catch((error: unknown) =>
-            log.stderr(`ropewatch: reloading the configuration failed: ${terminalText((error as Error).message ?? String(error))}\n`),
+            log.stderr(
+              `ropewatch: reloading the configuration failed: ${terminalText((error as Error).message ?? String(error))}\n`,
+            ),
           );
         },
-        onError: (error) => log.stderr(`ropewatch: the configuration folder cannot be watched: ${terminalText((error as Error).message ?? String(error))}\n`),
+        onError: (error) =>
+          log.stderr(
+            `ropewatch: the configuration folder cannot be watched: ${terminalText((error as Error).message ?? String(error))}\n`,
+          ),
       });
       await configWatch.ready;
       try {
@@ -107,7 +126,10 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
           stop: (io.stopSignal ?? new Promise<void>(() => {})).then(() => undefined),
           // watchInbox logs file names as found in the folder; the watcher itself says "stopped".
           log: (line) => log.stdout(`${terminalText(line)}\n`),
-          onError: (error, file) => log.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`),
+          onError: (error, file) =>
+            log.stderr(
+              `ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${(error as Error).message ?? String(error)}`)}\n`,
+            ),
           onFile: async (file) => {
             // A file still being written is read again when it settles (the watcher saw it change).
             await inTurn(async () => {
@@ -124,51 +146,86 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   });
 
   addCommonOptions(
-    program.command('status').description('what the store holds: files, rows, unresolved samples, sites and their last round').option('--json', 'print as JSON'),
+    program
+      .command('status')
+      .description('what the store holds: files, rows, unresolved samples, sites and their last round')
+      .option('--json', 'print as JSON'),
   ).action(async (options: CommonOptions) => {
     const { buildSiteRounds, clockDay, withWorkspace } = await commandModules();
-    withWorkspace(io, options, (ws) => {
-      const counts = ws.store.counts();
-      const unresolved = ws.store.unresolvedSampleIds();
-      const sites = ws.config.sites.map((site) => {
-        const rounds = buildSiteRounds(site, ws.store.ropes(site.id), ws.store.currentResults(site.id), ws.store.plannedWithoutResults(site.id), {}, clockDay(ws.now()));
-        const last = rounds.at(-1);
-        const planned = ws.store.plannedRopes(site.id).filter((rope) => rope.afterRound === (last?.number ?? 0));
-        return {
-          site: site.id,
-          name: site.name,
-          rounds: rounds.length,
-          lastRound: last ? { number: last.number, id: last.id, startOn: last.startOn, state: last.state, resultsDueOn: last.resultsDueOn } : null,
-          missingRopesLastRound: last ? last.barns.flatMap((barn) => barn.missingSampleIds) : [],
-          nextRound: planned.length > 0 ? { ropes: planned.length, dueOn: planned[0]!.dueOn } : null,
+    withWorkspace(
+      io,
+      options,
+      (ws) => {
+        const counts = ws.store.counts();
+        const unresolved = ws.store.unresolvedSampleIds();
+        const sites = ws.config.sites.map((site) => {
+          const rounds = buildSiteRounds(
+            site,
+            ws.store.ropes(site.id),
+            ws.store.currentResults(site.id),
+            ws.store.plannedWithoutResults(site.id),
+            {},
+            clockDay(ws.now()),
+          );
+          const last = rounds.at(-1);
+          const planned = ws.store.plannedRopes(site.id).filter((rope) => rope.afterRound === (last?.number ?? 0));
+          return {
+            site: site.id,
+            name: site.name,
+            rounds: rounds.length,
+            lastRound: last
+              ? {
+                  number: last.number,
+                  id: last.id,
+                  startOn: last.startOn,
+                  state: last.state,
+                  resultsDueOn: last.resultsDueOn,
+                }
+              : null,
+            missingRopesLastRound: last ? last.barns.flatMap((barn) => barn.missingSampleIds) : [],
+            nextRound: planned.length > 0 ? { ropes: planned.length, dueOn: planned[0]!.dueOn } : null,
+          };
+        });
+        const status = {
+          store: ws.dbFile,
+          ...counts,
+          unresolvedSampleCount: unresolved.length,
+          unresolvedSamples: unresolved,
+          sites,
         };
-      });
-      const status = { store: ws.dbFile, ...counts, unresolvedSampleCount: unresolved.length, unresolvedSamples: unresolved, sites };
-      if (options.json) {
-        printJson(io, status);
-        return;
-      }
-      io.stdout(
-        [
-          `store ${ws.dbFile}`,
-          `files: ${counts.files} (${counts.rejectedFiles} rejected)`,
-          `results: ${counts.results} stored, ${counts.currentResults} current (others superseded by reissues)`,
-          `ropes: ${counts.ropes} on sheets, ${counts.planned} planned`,
-          `refused rows: ${counts.rejectedRows}`,
-          `unresolved samples (no rope sheet yet): ${listSome(unresolved, STATUS_LIST_LIMIT)}`,
-          ...sites.map(
-            (site) =>
-              `site ${site.site} (${site.name}): ${site.rounds} round${site.rounds === 1 ? '' : 's'}` +
-              (site.lastRound ? `, last ${site.lastRound.id}${site.lastRound.state === 'complete' ? '' : ` (${site.lastRound.state === 'awaiting-results' ? 'awaiting results' : 'partial results'}, due by ${site.lastRound.resultsDueOn})`}` : '') +
-              (site.missingRopesLastRound.length ? ` (${site.missingRopesLastRound.length} ropes missing: ${site.missingRopesLastRound.join(', ')})` : '') +
-              (site.nextRound ? `; next round: ${site.nextRound.ropes} ropes planned, due ${site.nextRound.dueOn}` : ''),
-          ),
-        ]
-          // Sample IDs and names come from lab files: escaped for the terminal.
-          .map(terminalText)
-          .join('\n') + '\n',
-      );
-    }, { createStore: false });
+        if (options.json) {
+          printJson(io, status);
+          return;
+        }
+        io.stdout(
+          [
+            `store ${ws.dbFile}`,
+            `files: ${counts.files} (${counts.rejectedFiles} rejected)`,
+            `results: ${counts.results} stored, ${counts.currentResults} current (others superseded by reissues)`,
+            `ropes: ${counts.ropes} on sheets, ${counts.planned} planned`,
+            `refused rows: ${counts.rejectedRows}`,
+            `unresolved samples (no rope sheet yet): ${listSome(unresolved, STATUS_LIST_LIMIT)}`,
+            ...sites.map(
+              (site) =>
+                `site ${site.site} (${site.name}): ${site.rounds} round${site.rounds === 1 ? '' : 's'}` +
+                (site.lastRound
+                  ? `, last ${site.lastRound.id}${site.lastRound.state === 'complete' ? '' : ` (${site.lastRound.state === 'awaiting-results' ? 'awaiting results' : 'partial results'}, due by ${site.lastRound.resultsDueOn})`}`
+                  : '') +
+                (site.missingRopesLastRound.length
+                  ? ` (${site.missingRopesLastRound.length} ropes missing: ${site.missingRopesLastRound.join(', ')})`
+                  : '') +
+                (site.nextRound
+                  ? `; next round: ${site.nextRound.ropes} ropes planned, due ${site.nextRound.dueOn}`
+                  : ''),
+            ),
+          ]
+            // Sample IDs and names come from lab files: escaped for the terminal.
+            .map(terminalText)
+            .join('\n') + '\n',
+        );
+      },
+      { createStore: false },
+    );
   });
 
   addCommonOptions(
@@ -179,7 +236,8 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
       .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole')
       .option('--json', 'print what was written as JSON: per site its rounds and files'),
   ).action(async (options: CommonOptions & { site?: string; round?: string }) => {
-    const { deliverOwedAlerts, OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } = await commandModules();
+    const { deliverOwedAlerts, OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } =
+      await commandModules();
     await withWorkspace(io, options, async (ws) => {
       if (options.round !== undefined && options.site === undefined) throw new UsageError('--round needs --site');
       let siteIds: string[] | undefined;
@@ -212,7 +270,9 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
             site: analysis.site.id,
             name: analysis.site.name,
             rounds: analysis.rounds.map((round) => ({ number: round.number, id: round.id, startOn: round.startOn })),
-            files: fs.existsSync(path.join(ws.outbox, analysis.site.id)) ? filesUnder(path.join(ws.outbox, analysis.site.id), ws.outbox) : [],
+            files: fs.existsSync(path.join(ws.outbox, analysis.site.id))
+              ? filesUnder(path.join(ws.outbox, analysis.site.id), ws.outbox)
+              : [],
           })),
         });
         return;
@@ -228,7 +288,10 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
         'run the invented demo scenario end to end: writes config/, drops files into inbox/ and processes them into outbox/ (resets the demo store first); ' +
           'refuses a config folder holding files it did not write (use --config <other dir>)',
       )
-      .option('--force', 'also reset a store that holds files the demo did not make (a configuration the demo did not write is never replaced)'),
+      .option(
+        '--force',
+        'also reset a store that holds files the demo did not make (a configuration the demo did not write is never replaced)',
+      ),
   ).action(async (options: CommonOptions & { force?: boolean }) => {
     const { resolvePaths, runDemo } = await commandModules();
     await runDemo(io, resolvePaths(io.cwd, options), options.force === true);
@@ -237,16 +300,21 @@ export function registerPipelineCommands(program: Command, io: CliIo): void {
   addCommonOptions(
     program
       .command('plan')
-      .description("make or remake a site's next-round rope list (outbox/<site>/next-round.csv and .json); its sample IDs become the expected rope sheet")
+      .description(
+        "make or remake a site's next-round rope list (outbox/<site>/next-round.csv and .json); its sample IDs become the expected rope sheet",
+      )
       .requiredOption('--site <site>', 'site id, code or name')
       .option('--budget <ropes>', "ropes the producer will hang this round (overrides the site's ropeBudget)")
       .option('--json', 'print the plan as JSON'),
   ).action(async (options: CommonOptions & { site: string; budget?: string }) => {
-    const budget = options.budget === undefined ? undefined : parseIntegerOption('--budget', options.budget, 0, 100_000);
+    const budget =
+      options.budget === undefined ? undefined : parseIntegerOption('--budget', options.budget, 0, 100_000);
     const { planText, regenerateOutputs, withWorkspace } = await commandModules();
     withWorkspace(io, options, (ws) => {
       const wanted = options.site.toUpperCase();
-      const site = ws.config.sites.find((candidate) => [candidate.id, candidate.code, candidate.name].some((name) => name.toUpperCase() === wanted));
+      const site = ws.config.sites.find((candidate) =>
+        [candidate.id, candidate.code, candidate.name].some((name) => name.toUpperCase() === wanted),
+      );
       if (!site) throw new UsageError(`no site ${JSON.stringify(options.site)} in ${ws.configDir}/sites.yaml`);
       const [analysis] = regenerateOutputs(ws, [site.id], budget === undefined ? {} : { budget });
       if (options.json) printJson(io, analysis!.plan);

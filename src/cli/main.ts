@@ -10,7 +10,8 @@ import { registerRetry } from './retryCommand.js';
  * dist/cli (the installed program).
  */
 export function packageVersion(): string {
-  return (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string }).version;
+  return (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string })
+    .version;
 }
 
 /**
@@ -21,7 +22,9 @@ export function packageVersion(): string {
 export function buildProgram(io: CliIo): Command {
   const program = new Command('ropewatch');
   program
-    .description('Oral-fluid PCR surveillance: map lab results to pens and rounds, measure what each round proved, plan the next ropes.')
+    .description(
+      'Oral-fluid PCR surveillance: map lab results to pens and rounds, measure what each round proved, plan the next ropes.',
+    )
     .showHelpAfterError()
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     // GNU Coding Standards 4.8.1: --version prints the program's name and version on its first line.

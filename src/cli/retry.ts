@@ -37,7 +37,12 @@ export function rejectedFiles(inbox: string): string[] {
  * the reason of each one that left rejected/ (accepted, a duplicate now, or taken by another
  * process). Returns whether any is still refused.
  */
-export async function retryFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<{ stillRefused: number; accepted: number; receipts: unknown[] }> {
+export async function retryFiles(
+  ws: Workspace,
+  files: readonly string[],
+  io: CliIo,
+  json: boolean,
+): Promise<{ stillRefused: number; accepted: number; receipts: unknown[] }> {
   const run = await ingestFiles(ws, files, io, json);
   let accepted = 0;
   for (const file of files) {
@@ -62,7 +67,9 @@ export async function reloadConfiguration(ws: Workspace, io: CliIo): Promise<voi
     if (!(error instanceof ConfigError)) throw error;
     // One log line: the problems side by side, not the multi-line message.
     const problems = error.problems.map((problem) => terminalText(formatProblem(problem))).join('; ');
-    io.stderr(`ropewatch: the configuration changed but cannot be loaded (${problems}); the previous configuration stays in force\n`);
+    io.stderr(
+      `ropewatch: the configuration changed but cannot be loaded (${problems}); the previous configuration stays in force\n`,
+    );
     return;
   }
   const digest = configDigest(ws.configDir);

@@ -34,7 +34,8 @@ export function registerRetry(program: Command, io: CliIo): void {
       const outcome = await retryFiles(ws, targets, io, options.json === true);
       if (options.json) printJson(io, outcome.receipts);
       else io.stdout(`${outcome.accepted} of ${targets.length} accepted now; ${outcome.stillRefused} still refused\n`);
-      if (outcome.stillRefused > 0) throw new InputRejectedError('some files are still refused: see their .reason.txt in inbox/rejected/');
+      if (outcome.stillRefused > 0)
+        throw new InputRejectedError('some files are still refused: see their .reason.txt in inbox/rejected/');
     });
   });
 }

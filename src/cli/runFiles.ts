@@ -26,7 +26,8 @@ function receiptSummary(receipt: Receipt): string {
   if (receipt.rows.rejected) parts.push(`${receipt.rows.rejected} refused`);
   if (receipt.rows.duplicate) parts.push(`${receipt.rows.duplicate} already stored`);
   if (receipt.rows.superseded) parts.push(`${receipt.rows.superseded} superseding earlier reports`);
-  if (receipt.unresolvedSampleIds.length) parts.push(`${receipt.unresolvedSampleIds.length + receipt.unresolvedNotListed} samples awaiting a rope sheet`);
+  if (receipt.unresolvedSampleIds.length)
+    parts.push(`${receipt.unresolvedSampleIds.length + receipt.unresolvedNotListed} samples awaiting a rope sheet`);
   if (receipt.resolvedSampleIds.length) parts.push(`${receipt.resolvedSampleIds.length} earlier results now placed`);
   return `accepted ${receipt.file} (${receipt.kind}${receipt.lab ? `, ${receipt.lab}` : ''}): ${parts.join(', ')}`;
 }
@@ -38,7 +39,10 @@ function receiptSummary(receipt: Receipt): string {
 export function catchUp(ws: Workspace, io: CliIo): boolean {
   try {
     const rebuilt = catchUpOutputs(ws);
-    if (rebuilt.length > 0) io.stderr(`ropewatch: the outputs of ${rebuilt.join(', ')} were behind the store (an earlier run stopped before writing them); rebuilt\n`);
+    if (rebuilt.length > 0)
+      io.stderr(
+        `ropewatch: the outputs of ${rebuilt.join(', ')} were behind the store (an earlier run stopped before writing them); rebuilt\n`,
+      );
     return true;
   } catch (error) {
     if (!(error instanceof OutputError)) throw error;
@@ -56,7 +60,11 @@ export async function deliverOwedAlerts(ws: Workspace, io: CliIo): Promise<void>
   try {
     await deliverAlerts(ws, { env: io.env });
   } catch (error) {
-    ws.log(terminalText(`warning: alerts not delivered (${(error as Error).message ?? String(error)}); retried on the next run`));
+    ws.log(
+      terminalText(
+        `warning: alerts not delivered (${(error as Error).message ?? String(error)}); retried on the next run`,
+      ),
+    );
   }
 }
 
@@ -70,7 +78,12 @@ function takenLine(file: string): string {
  * the file was still being written (nothing stored, left in the inbox); 'taken' when another
  * process took it first (it stored or refused it and wrote its receipt).
  */
-export async function processAndTell(ws: Workspace, file: string, io: CliIo, json: boolean): Promise<ProcessOutcome | 'changing' | 'taken'> {
+export async function processAndTell(
+  ws: Workspace,
+  file: string,
+  io: CliIo,
+  json: boolean,
+): Promise<ProcessOutcome | 'changing' | 'taken'> {
   let outcome: ProcessOutcome;
   try {
     outcome = await processFile(ws, file);
@@ -85,7 +98,8 @@ export async function processAndTell(ws: Workspace, file: string, io: CliIo, jso
     return 'changing';
   }
   if (!json) io.stdout(`${receiptLine(outcome.receipt)}\n`);
-  if (outcome.outputError) io.stderr(`ropewatch: ${terminalText(`${path.basename(file)} stored, but ${outcome.outputError.message}`)}\n`);
+  if (outcome.outputError)
+    io.stderr(`ropewatch: ${terminalText(`${path.basename(file)} stored, but ${outcome.outputError.message}`)}\n`);
   return outcome;
 }
 
@@ -113,7 +127,12 @@ export interface IngestRun {
  * files still being written and from outputs that could not be written. A stop request lets the
  * file in hand finish (its transaction commits or rolls back whole) and leaves the others untouched.
  */
-export async function ingestFiles(ws: Workspace, files: readonly string[], io: CliIo, json: boolean): Promise<IngestRun> {
+export async function ingestFiles(
+  ws: Workspace,
+  files: readonly string[],
+  io: CliIo,
+  json: boolean,
+): Promise<IngestRun> {
   const receipts: Receipt[] = [];
   let failed = !catchUp(ws, io);
   const stop: { by: string | null } = { by: null };
@@ -131,9 +150,9 @@ export async function ingestFiles(ws: Workspace, files: readonly string[], io: C
       continue;
     }
     receipts.push(outcome.receipt);
-    if (outcome.receipt.status === 'rejected' || outcome.receipt.rows.rejected > 0 || outcome.outputError) failed = true;
+    if (outcome.receipt.status === 'rejected' || outcome.receipt.rows.rejected > 0 || outcome.outputError)
+      failed = true;
   }
   await deliverOwedAlerts(ws, io);
   return { receipts, failed, stoppedBy: null, left: [] };
 }
-

@@ -12,9 +12,13 @@ import { openWorkspace, resolvePaths, type OpenOptions, type Workspace } from '.
 import type { CommonOptions } from './commonOptions.js';
 import { UsageError, type CliIo } from './io.js';
 
-
 /** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
-export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Workspace) => T, open: OpenOptions = {}): T {
+export function withWorkspace<T>(
+  io: CliIo,
+  options: CommonOptions,
+  run: (ws: Workspace) => T,
+  open: OpenOptions = {},
+): T {
   let ws: Workspace;
   try {
     ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), open);
@@ -36,10 +40,8 @@ export function withWorkspace<T>(io: CliIo, options: CommonOptions, run: (ws: Wo
   }
 }
 
-
 /** Refuses to start (exit 2) when processed files could not be moved out of the inbox. */
 export function checkInbox(io: CliIo, options: CommonOptions): void {
   const problem = inboxProblem(resolvePaths(io.cwd, options).inbox);
   if (problem !== null) throw new UsageError(terminalText(problem));
 }
-

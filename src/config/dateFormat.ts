@@ -28,7 +28,9 @@ const iso = (year: number, month: number, day: number) =>
 
 /** Rewrites day-of-year (D) and week-numbering-year (Y) tokens as day-of-month and calendar year, outside quoted text. */
 function withCalendarTokens(format: string): string {
-  return format.replace(TOKENS, (token) => (/^D+$/.test(token) ? token.replace(/D/g, 'd') : /^Y+$/.test(token) ? token.replace(/Y/g, 'y') : token));
+  return format.replace(TOKENS, (token) =>
+    /^D+$/.test(token) ? token.replace(/D/g, 'd') : /^Y+$/.test(token) ? token.replace(/Y/g, 'y') : token,
+  );
 }
 
 /**

@@ -90,7 +90,12 @@ function readYaml(file: string): unknown {
  * Reads one file and checks it against `schema`: its data, or undefined with every problem
  * recorded. An empty file is `empty` when given (an optional file may be empty).
  */
-function readValid<S extends z.ZodType>(schema: S, file: string, problems: ProblemList, empty?: unknown): z.output<S> | undefined {
+function readValid<S extends z.ZodType>(
+  schema: S,
+  file: string,
+  problems: ProblemList,
+  empty?: unknown,
+): z.output<S> | undefined {
   let value: unknown;
   try {
     value = readYaml(file);
@@ -122,7 +127,12 @@ function normalisePerAssay(raw: z.output<typeof programSchema>['ropeSensitivity'
   for (const [key, value] of Object.entries(raw)) {
     if (key === 'default') continue;
     (byAssay as Record<string, unknown>)[key] =
-      typeof value === 'number' ? value : { default: value['default'], byAgeGroup: Object.fromEntries(Object.entries(value).filter(([k]) => k !== 'default')) };
+      typeof value === 'number'
+        ? value
+        : {
+            default: value['default'],
+            byAgeGroup: Object.fromEntries(Object.entries(value).filter(([k]) => k !== 'default')),
+          };
   }
   return { default: raw.default, byAssay };
 }
@@ -174,7 +184,11 @@ function normaliseProgram(raw: z.output<typeof programSchema>): Program {
     pooling:
       raw.pooling === undefined
         ? undefined
-        : Object.freeze({ poolSize: raw.pooling.poolSize, poolSensitivity: raw.pooling.poolSensitivity, poolSpecificity: raw.pooling.poolSpecificity ?? 1 }),
+        : Object.freeze({
+            poolSize: raw.pooling.poolSize,
+            poolSensitivity: raw.pooling.poolSensitivity,
+            poolSpecificity: raw.pooling.poolSpecificity ?? 1,
+          }),
   });
 }
 
@@ -235,7 +249,11 @@ function checkPerAssayKeys(
     if (key === 'default') continue;
     if (!assayIds.has(key)) {
       const near = assayByKey.get(matchKey(key));
-      const hint = near ? ` (assay ids match exactly: write ${near})` : didYouMean(key, assayIds) ? `: ${didYouMean(key, assayIds)}` : '';
+      const hint = near
+        ? ` (assay ids match exactly: write ${near})`
+        : didYouMean(key, assayIds)
+          ? `: ${didYouMean(key, assayIds)}`
+          : '';
       problems.add(file, formatPath([...prefix, key]), `names assay ${key}, which is not in assays.yaml${hint}`);
       continue;
     }
@@ -243,7 +261,11 @@ function checkPerAssayKeys(
     for (const group of Object.keys(value)) {
       const near = ageGroupByKey.get(matchKey(group));
       if (group !== 'default' && !ageGroups.has(group) && near !== undefined) {
-        problems.add(file, formatPath([...prefix, key, group]), `age group ${JSON.stringify(group)} differs from the barns' age group ${JSON.stringify(near)}; age groups match exactly`);
+        problems.add(
+          file,
+          formatPath([...prefix, key, group]),
+          `age group ${JSON.stringify(group)} differs from the barns' age group ${JSON.stringify(near)}; age groups match exactly`,
+        );
       }
     }
   }
@@ -256,12 +278,19 @@ interface SitesPart {
   ropeSheet: { columns: RopeSheetColumns };
 }
 
-function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, problems: ProblemList): SitesPart | undefined {
+function loadSites(
+  file: string,
+  assayIds: ReadonlySet<string> | undefined,
+  problems: ProblemList,
+): SitesPart | undefined {
   const raw = readValid(sitesFileSchema, file, problems);
   if (raw === undefined) return undefined;
   const defaults = raw.programDefaults;
-  const allAgeGroups = new Set(raw.sites.flatMap((site) => site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup]))));
-  for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(defaults[key], ['programDefaults', key], file, assayIds, allAgeGroups, problems);
+  const allAgeGroups = new Set(
+    raw.sites.flatMap((site) => site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup]))),
+  );
+  for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const)
+    checkPerAssayKeys(defaults[key], ['programDefaults', key], file, assayIds, allAgeGroups, problems);
   // A rope sheet's site cell and --site match a site's id, code or name (rows.ts findSite,
   // cli/commands.ts): all three share one namespace across sites.
   const siteNames = new NameRegistry(file, problems);
@@ -274,7 +303,8 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
     siteNames.claim(site, 'site name', site.name, at('name'));
     const overrides = site.program ?? {};
     const siteAgeGroups = new Set(site.barns.flatMap((barn) => (barn.ageGroup === undefined ? [] : [barn.ageGroup])));
-    for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const) checkPerAssayKeys(overrides[key], ['sites', siteIndex, 'program', key], file, assayIds, siteAgeGroups, problems);
+    for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const)
+      checkPerAssayKeys(overrides[key], ['sites', siteIndex, 'program', key], file, assayIds, siteAgeGroups, problems);
     const program = normaliseProgram({ ...defaults, ...overrides });
     // Barns are found by id (upper case: barnById) and, on rope sheets, by name (foldToken).
     const barnNames = new NameRegistry(file, problems);
@@ -289,12 +319,18 @@ function loadSites(file: string, assayIds: ReadonlySet<string> | undefined, prob
       const fromSite = site.program?.barnDesignPrevalence !== undefined;
       problems.add(
         file,
-        fromSite ? at('program', 'barnDesignPrevalence', 'barns') : formatPath(['programDefaults', 'barnDesignPrevalence', 'barns']),
+        fromSite
+          ? at('program', 'barnDesignPrevalence', 'barns')
+          : formatPath(['programDefaults', 'barnDesignPrevalence', 'barns']),
         `${program.barnDesignPrevalence.value} infected barns, but site ${site.id} has ${site.barns.length} barn${site.barns.length === 1 ? '' : 's'}: give at most ${site.barns.length}, or a proportion of the barns`,
       );
     }
-    const samplePattern = site.samplePattern ? problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen'])) : undefined;
-    const herdStatus = problems.guard(() => normaliseHerdStatus(site.herdStatus, raw.herdStatusCategories, file, at('herdStatus')));
+    const samplePattern = site.samplePattern
+      ? problems.guard(() => compilePattern(site.samplePattern!, file, at('samplePattern'), ['barn', 'pen']))
+      : undefined;
+    const herdStatus = problems.guard(() =>
+      normaliseHerdStatus(site.herdStatus, raw.herdStatusCategories, file, at('herdStatus')),
+    );
     return Object.freeze({
       id: site.id,
       name: site.name,
@@ -340,8 +376,22 @@ function loadBarn(barn: RawBarn, file: string, at: (...rest: PropertyKey[]) => s
   try {
     // First without statuses, to know the pens the lists may name.
     const allPens = expandLayout(layout);
-    layout.empty = resolvePenRefs(rawLayout.empty, allPens, layout, (index) => at('layout', 'empty', index), file, problems);
-    layout.outOfUse = resolvePenRefs(rawLayout.outOfUse, allPens, layout, (index) => at('layout', 'outOfUse', index), file, problems);
+    layout.empty = resolvePenRefs(
+      rawLayout.empty,
+      allPens,
+      layout,
+      (index) => at('layout', 'empty', index),
+      file,
+      problems,
+    );
+    layout.outOfUse = resolvePenRefs(
+      rawLayout.outOfUse,
+      allPens,
+      layout,
+      (index) => at('layout', 'outOfUse', index),
+      file,
+      problems,
+    );
     pens = expandLayout(layout);
   } catch (error) {
     if (error instanceof RangeError) throw new ConfigError(file, at('layout'), error.message);
@@ -349,8 +399,16 @@ function loadBarn(barn: RawBarn, file: string, at: (...rest: PropertyKey[]) => s
   }
   checkPenKeys(pens, layout, file, (...rest) => at('layout', ...rest), problems);
   if (!pens.some((pen) => pen.status === 'in-use')) problems.add(file, at('layout'), 'has no pen in use');
-  const groups = (barn.groups ?? []).map((group) => Object.freeze({ id: group.id, label: group.label ?? group.id, placedOn: group.placedOn, closedOn: group.closedOn ?? null }));
-  for (const problem of groupProblems(groups)) problems.add(file, at('groups', problem.index, problem.key), problem.detail);
+  const groups = (barn.groups ?? []).map((group) =>
+    Object.freeze({
+      id: group.id,
+      label: group.label ?? group.id,
+      placedOn: group.placedOn,
+      closedOn: group.closedOn ?? null,
+    }),
+  );
+  for (const problem of groupProblems(groups))
+    problems.add(file, at('groups', problem.index, problem.key), problem.detail);
   return Object.freeze({
     id: barn.id,
     name: barn.name ?? barn.id,
@@ -424,10 +482,19 @@ function ropeSheetColumns(
     columns[column] = Object.freeze(names);
     for (const name of names) {
       const index = list?.indexOf(name) ?? -1;
-      const keyPath = index < 0 ? undefined : typeof given === 'string' ? `ropeSheet.columns.${column}` : `ropeSheet.columns.${column}[${index}]`;
+      const keyPath =
+        index < 0
+          ? undefined
+          : typeof given === 'string'
+            ? `ropeSheet.columns.${column}`
+            : `ropeSheet.columns.${column}[${index}]`;
       const key = ropeHeaderKey(name);
       if (key === '') {
-        problems.add(file, keyPath ?? `ropeSheet.columns.${column}`, `${JSON.stringify(name)} has no letter or digit, so no header cell can match it`);
+        problems.add(
+          file,
+          keyPath ?? `ropeSheet.columns.${column}`,
+          `${JSON.stringify(name)} has no letter or digit, so no header cell can match it`,
+        );
         continue;
       }
       const earlier = claims.get(key);
@@ -436,9 +503,16 @@ function ropeSheetColumns(
         continue;
       }
       if (earlier.column === column) continue;
-      const describe = (claim: Claim) => (claim.keyPath === undefined ? `a default name of the ${claim.column} column (${ROPE_SHEET_MEANING[claim.column]})` : `the ${claim.column} column's name at ${claim.keyPath}`);
-      const [told, other] = keyPath !== undefined ? [{ column, name, keyPath }, earlier] : [earlier, { column, name, keyPath }];
-      const remedy = other.keyPath === undefined ? `; to use it for ${told.column}, give ropeSheet.columns.${other.column} names of its own` : '';
+      const describe = (claim: Claim) =>
+        claim.keyPath === undefined
+          ? `a default name of the ${claim.column} column (${ROPE_SHEET_MEANING[claim.column]})`
+          : `the ${claim.column} column's name at ${claim.keyPath}`;
+      const [told, other] =
+        keyPath !== undefined ? [{ column, name, keyPath }, earlier] : [earlier, { column, name, keyPath }];
+      const remedy =
+        other.keyPath === undefined
+          ? `; to use it for ${told.column}, give ropeSheet.columns.${other.column} names of its own`
+          : '';
       problems.add(
         file,
         told.keyPath ?? `ropeSheet.columns.${told.column}`,
@@ -454,13 +528,23 @@ function ropeSheetColumns(
  * sheets find a pen by its canonical key (canonicalPenKey: "a01" is A1), so rows labelled A and
  * a, or A and A0 (A01 and A1), would put ropes in the wrong pen. Head counts must name pens.
  */
-function checkPenKeys(pens: readonly Pen[], layout: BarnLayout, file: string, at: (...rest: PropertyKey[]) => string, problems: ProblemList): void {
+function checkPenKeys(
+  pens: readonly Pen[],
+  layout: BarnLayout,
+  file: string,
+  at: (...rest: PropertyKey[]) => string,
+  problems: ProblemList,
+): void {
   const labels = new Map<string, number>();
   let labelsClash = false;
   layout.rowLabels.forEach((label, row) => {
     const earlier = labels.get(matchKey(label));
     if (earlier !== undefined) {
-      problems.add(file, at('rowLabels', row), `row label ${JSON.stringify(label)} is the same as row label ${JSON.stringify(layout.rowLabels[earlier])} when matched (case and spacing are ignored)`);
+      problems.add(
+        file,
+        at('rowLabels', row),
+        `row label ${JSON.stringify(label)} is the same as row label ${JSON.stringify(layout.rowLabels[earlier])} when matched (case and spacing are ignored)`,
+      );
       labelsClash = true;
       return;
     }
@@ -487,7 +571,11 @@ function checkPenKeys(pens: readonly Pen[], layout: BarnLayout, file: string, at
   for (const id of Object.keys(layout.headCount?.pens ?? {})) {
     if (ids.has(id)) continue;
     const near = byKey.get(canonicalPenKey(id));
-    problems.add(file, at('headCount', 'pens', id), `names pen ${id}, which is not in the layout${near === undefined ? '' : ` (write ${near.id}, as the layout labels it)`}`);
+    problems.add(
+      file,
+      at('headCount', 'pens', id),
+      `names pen ${id}, which is not in the layout${near === undefined ? '' : ` (write ${near.id}, as the layout labels it)`}`,
+    );
   }
 }
 
@@ -500,7 +588,13 @@ function loadAssays(file: string, problems: ProblemList): Assay[] | undefined {
   raw.assays.forEach((assay, index) => {
     const at = (key: string) => formatPath(['assays', index, key]);
     ids.claim(assay, 'assay id', assay.id, at('id'));
-    const common = { id: assay.id, name: assay.name, target: assay.target, notifiable: assay.notifiable, source: assay.source };
+    const common = {
+      id: assay.id,
+      name: assay.name,
+      target: assay.target,
+      notifiable: assay.notifiable,
+      source: assay.source,
+    };
     if (assay.measure === 'sp-ratio') {
       const sp = problems.guard(() => spAssay(assay, common, file, index));
       if (sp !== undefined) assays.push(Object.freeze(sp));
@@ -514,25 +608,61 @@ function loadAssays(file: string, problems: ProblemList): Assay[] | undefined {
     if (!(suspectBelow <= cycleLimit)) problems.add(file, at('suspectBelow'), 'must be at or below cycleLimit');
     const bands = assay.loadBands!.map((band) => ({ name: band.name, below: band.below! }));
     for (let i = 1; i < bands.length; i++) {
-      if (!(bands[i]!.below > bands[i - 1]!.below)) problems.add(file, formatPath(['assays', index, 'loadBands', i, 'below']), 'bands must be in increasing Ct order');
+      if (!(bands[i]!.below > bands[i - 1]!.below))
+        problems.add(
+          file,
+          formatPath(['assays', index, 'loadBands', i, 'below']),
+          'bands must be in increasing Ct order',
+        );
     }
-    assays.push(Object.freeze({ ...common, measure: 'ct', positiveBelow, suspectBelow, cycleLimit, loadBands: bands, sequencingBelow: assay.sequencingBelow }));
+    assays.push(
+      Object.freeze({
+        ...common,
+        measure: 'ct',
+        positiveBelow,
+        suspectBelow,
+        cycleLimit,
+        loadBands: bands,
+        sequencingBelow: assay.sequencingBelow,
+      }),
+    );
   });
   problems.guard(() => checkPairs(assays, file));
   return assays;
 }
 
 /** An antibody ELISA (measure sp-ratio): S/P cutoffs, optional S/P bands (highest first). */
-function spAssay(assay: z.output<typeof assaysFileSchema>['assays'][number], common: Omit<SpAssay, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove' | 'loadBands' | 'pairedWith'>, file: string, index: number): SpAssay {
+function spAssay(
+  assay: z.output<typeof assaysFileSchema>['assays'][number],
+  common: Omit<SpAssay, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove' | 'loadBands' | 'pairedWith'>,
+  file: string,
+  index: number,
+): SpAssay {
   const positiveAtOrAbove = assay.positiveAtOrAbove!;
   if (assay.suspectAtOrAbove !== undefined && !(assay.suspectAtOrAbove <= positiveAtOrAbove)) {
-    throw new ConfigError(file, formatPath(['assays', index, 'suspectAtOrAbove']), 'must be at or below positiveAtOrAbove (the suspect band lies just below the positive cutoff)');
+    throw new ConfigError(
+      file,
+      formatPath(['assays', index, 'suspectAtOrAbove']),
+      'must be at or below positiveAtOrAbove (the suspect band lies just below the positive cutoff)',
+    );
   }
   const bands = (assay.loadBands ?? []).map((band) => ({ name: band.name, atOrAbove: band.atOrAbove! }));
   for (let i = 1; i < bands.length; i++) {
-    if (!(bands[i]!.atOrAbove < bands[i - 1]!.atOrAbove)) throw new ConfigError(file, formatPath(['assays', index, 'loadBands', i, 'atOrAbove']), 'S/P bands must be in decreasing S/P order');
+    if (!(bands[i]!.atOrAbove < bands[i - 1]!.atOrAbove))
+      throw new ConfigError(
+        file,
+        formatPath(['assays', index, 'loadBands', i, 'atOrAbove']),
+        'S/P bands must be in decreasing S/P order',
+      );
   }
-  return { ...common, measure: 'sp-ratio', positiveAtOrAbove, suspectAtOrAbove: assay.suspectAtOrAbove, loadBands: bands, pairedWith: assay.pairedWith };
+  return {
+    ...common,
+    measure: 'sp-ratio',
+    positiveAtOrAbove,
+    suspectAtOrAbove: assay.suspectAtOrAbove,
+    loadBands: bands,
+    pairedWith: assay.pairedWith,
+  };
 }
 
 /** `pairedWith` names a Ct assay of the same file: the PCR assay whose results stand beside the antibody's. */
@@ -541,8 +671,14 @@ function checkPairs(assays: readonly Assay[], file: string): void {
     if (assay.measure !== 'sp-ratio' || assay.pairedWith === undefined) return;
     const other = assays.find((candidate) => candidate.id === assay.pairedWith);
     const at = formatPath(['assays', index, 'pairedWith']);
-    if (other === undefined) throw new ConfigError(file, at, `names assay ${assay.pairedWith}, which is not in assays.yaml`);
-    if (other.measure !== 'ct') throw new ConfigError(file, at, `names assay ${other.id}, which is not a Ct (PCR) assay: an antibody assay pairs with the PCR assay of the same pathogen`);
+    if (other === undefined)
+      throw new ConfigError(file, at, `names assay ${assay.pairedWith}, which is not in assays.yaml`);
+    if (other.measure !== 'ct')
+      throw new ConfigError(
+        file,
+        at,
+        `names assay ${other.id}, which is not a Ct (PCR) assay: an antibody assay pairs with the PCR assay of the same pathogen`,
+      );
   });
 }
 
@@ -556,7 +692,10 @@ function checkAntibodySensitivity(sites: readonly Site[], assays: readonly Assay
     if (assay.measure !== 'sp-ratio') continue;
     const missing = sites.filter((site) => site.program.ropeSensitivity.byAssay[assay.id] === undefined);
     if (missing.length === 0) continue;
-    const keyPath = missing.length === sites.length ? formatPath(['programDefaults', 'ropeSensitivity', assay.id]) : formatPath(['sites', sites.indexOf(missing[0]!), 'program', 'ropeSensitivity', assay.id]);
+    const keyPath =
+      missing.length === sites.length
+        ? formatPath(['programDefaults', 'ropeSensitivity', assay.id])
+        : formatPath(['sites', sites.indexOf(missing[0]!), 'program', 'ropeSensitivity', assay.id]);
     throw new ConfigError(
       file,
       keyPath,
@@ -565,7 +704,11 @@ function checkAntibodySensitivity(sites: readonly Site[], assays: readonly Assay
   }
 }
 
-function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined, problems: ProblemList): LabProfile | undefined {
+function loadLab(
+  file: string,
+  assayById: ReadonlyMap<string, Assay> | undefined,
+  problems: ProblemList,
+): LabProfile | undefined {
   const raw = readValid(labProfileSchema, file, problems);
   if (raw === undefined) return undefined;
   const dateProblem = dateFormatProblem(raw.format.dateFormat);
@@ -581,7 +724,11 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
     const assay = assayById.get(entry.assay);
     if (!assay) {
       const near = didYouMean(entry.assay, assayById.keys());
-      problems.add(file, `${at}.assay`, `names assay ${entry.assay}, which is not in assays.yaml${near === '' ? '' : `: ${near}`}`);
+      problems.add(
+        file,
+        `${at}.assay`,
+        `names assay ${entry.assay}, which is not in assays.yaml${near === '' ? '' : `: ${near}`}`,
+      );
       continue;
     }
     const labAssay = problems.guard(() => labAssayOf(labAssayName, entry, assay, file, at));
@@ -592,7 +739,9 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
   return Object.freeze({
     id: raw.id,
     name: raw.name,
-    fileNamePattern: raw.fileNamePattern ? problems.guard(() => compilePattern(raw.fileNamePattern!, file, 'fileNamePattern', [])) : undefined,
+    fileNamePattern: raw.fileNamePattern
+      ? problems.guard(() => compilePattern(raw.fileNamePattern!, file, 'fileNamePattern', []))
+      : undefined,
     delimiter: raw.format.delimiter,
     decimal: raw.format.decimal,
     encoding: raw.format.encoding,
@@ -627,12 +776,28 @@ function loadLab(file: string, assayById: ReadonlyMap<string, Assay> | undefined
  * of the other measure (positiveBelow for an S/P assay, positiveAtOrAbove for a Ct assay) are
  * refused: they would be read the wrong way round.
  */
-function labAssayOf(labAssayName: string, entry: z.output<typeof labAssaySchema>, assay: Assay, file: string, at: string): LabAssay {
-  const foreign = assay.measure === 'ct' ? (['positiveAtOrAbove', 'suspectAtOrAbove'] as const) : (['positiveBelow', 'suspectBelow', 'cycleLimit'] as const);
+function labAssayOf(
+  labAssayName: string,
+  entry: z.output<typeof labAssaySchema>,
+  assay: Assay,
+  file: string,
+  at: string,
+): LabAssay {
+  const foreign =
+    assay.measure === 'ct'
+      ? (['positiveAtOrAbove', 'suspectAtOrAbove'] as const)
+      : (['positiveBelow', 'suspectBelow', 'cycleLimit'] as const);
   for (const key of foreign) {
     if (entry[key] !== undefined) {
-      const use = assay.measure === 'ct' ? 'positiveBelow, suspectBelow and cycleLimit (Ct)' : 'positiveAtOrAbove and suspectAtOrAbove (S/P)';
-      throw new ConfigError(file, `${at}.${key}`, `does not apply: assay ${assay.id} has measure ${assay.measure}; give ${use}`);
+      const use =
+        assay.measure === 'ct'
+          ? 'positiveBelow, suspectBelow and cycleLimit (Ct)'
+          : 'positiveAtOrAbove and suspectAtOrAbove (S/P)';
+      throw new ConfigError(
+        file,
+        `${at}.${key}`,
+        `does not apply: assay ${assay.id} has measure ${assay.measure}; give ${use}`,
+      );
     }
   }
   if (assay.measure === 'sp-ratio') {
@@ -669,21 +834,47 @@ function labAssayOf(labAssayName: string, entry: z.output<typeof labAssaySchema>
  */
 function checkLayout(raw: RawLab, file: string, problems: ProblemList): void {
   if (raw.layout === 'long') {
-    if (raw.columns.assay === undefined) problems.add(file, 'columns.assay', 'is required: the header of the column that names the assay (an export with one value column per assay says layout: wide)');
-    if (raw.columns.result === undefined && raw.columns.ct === undefined) problems.add(file, 'columns.result', 'is required: the header of the numeric result column, a Ct or an S/P ratio (an export with one value column per assay says layout: wide)');
-    if (raw.notTestedTokens !== undefined) problems.add(file, 'notTestedTokens', 'applies to layout: wide only (in a long export an assay that was not run has no row)');
+    if (raw.columns.assay === undefined)
+      problems.add(
+        file,
+        'columns.assay',
+        'is required: the header of the column that names the assay (an export with one value column per assay says layout: wide)',
+      );
+    if (raw.columns.result === undefined && raw.columns.ct === undefined)
+      problems.add(
+        file,
+        'columns.result',
+        'is required: the header of the numeric result column, a Ct or an S/P ratio (an export with one value column per assay says layout: wide)',
+      );
+    if (raw.notTestedTokens !== undefined)
+      problems.add(
+        file,
+        'notTestedTokens',
+        'applies to layout: wide only (in a long export an assay that was not run has no row)',
+      );
     return;
   }
   for (const key of ['assay', 'result', 'ct', 'call'] as const) {
     if (raw.columns[key] !== undefined) {
-      problems.add(file, `columns.${key}`, `a wide export (layout: wide) has no ${key === 'call' ? 'call column: one call cannot speak for several assays' : `${key} column: each value column is headed by a lab assay name under assays`}; remove it`);
+      problems.add(
+        file,
+        `columns.${key}`,
+        `a wide export (layout: wide) has no ${key === 'call' ? 'call column: one call cannot speak for several assays' : `${key} column: each value column is headed by a lab assay name under assays`}; remove it`,
+      );
     }
   }
-  if (Object.keys(raw.assays).length === 0) problems.add(file, 'assays', 'names no lab assay: in a wide export each is the header of a value column');
+  if (Object.keys(raw.assays).length === 0)
+    problems.add(file, 'assays', 'names no lab assay: in a wide export each is the header of a value column');
   const notDetected = new Set(raw.notDetected.tokens.map(foldToken));
   (raw.notTestedTokens ?? []).forEach((token, index) => {
-    if (foldToken(token) === '') problems.add(file, `notTestedTokens[${index}]`, 'is blank: a blank value cell always means not tested');
-    else if (notDetected.has(foldToken(token))) problems.add(file, `notTestedTokens[${index}]`, `${JSON.stringify(token)} is also in notDetected.tokens: a cell cannot mean both not tested and not detected`);
+    if (foldToken(token) === '')
+      problems.add(file, `notTestedTokens[${index}]`, 'is blank: a blank value cell always means not tested');
+    else if (notDetected.has(foldToken(token)))
+      problems.add(
+        file,
+        `notTestedTokens[${index}]`,
+        `${JSON.stringify(token)} is also in notDetected.tokens: a cell cannot mean both not tested and not detected`,
+      );
   });
 }
 
@@ -710,11 +901,17 @@ type RawLab = z.output<typeof labProfileSchema>;
  * report states, a call and a state, or a control failure and any call but invalid, are refused
  * at the second, naming where each comes from.
  */
-function labWords(raw: RawLab, file: string, problems: ProblemList): Pick<LabProfile, 'controlFailedTokens' | 'callWords' | 'statusWords' | 'statusColumns'> {
+function labWords(
+  raw: RawLab,
+  file: string,
+  problems: ProblemList,
+): Pick<LabProfile, 'controlFailedTokens' | 'callWords' | 'statusWords' | 'statusColumns'> {
   const callWords = {} as Record<CallClass, readonly string[]>;
-  for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const) callWords[cls] = raw.callWords?.[cls] ?? DEFAULT_CALL_WORDS[cls];
+  for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const)
+    callWords[cls] = raw.callWords?.[cls] ?? DEFAULT_CALL_WORDS[cls];
   const statusWords = {} as Record<ReportStatusKind, readonly string[]>;
-  for (const kind of ['preliminary', 'final', 'corrected'] as const) statusWords[kind] = raw.statusWords?.[kind] ?? DEFAULT_STATUS_WORDS[kind];
+  for (const kind of ['preliminary', 'final', 'corrected'] as const)
+    statusWords[kind] = raw.statusWords?.[kind] ?? DEFAULT_STATUS_WORDS[kind];
   statusWords.corrected = [...new Set([...statusWords.corrected, ...raw.reissueTokens])];
 
   /** What a word means, and where it was configured (or that it is an English default). */
@@ -737,23 +934,36 @@ function labWords(raw: RawLab, file: string, problems: ProblemList): Pick<LabPro
       );
     }
   };
-  const origin = (key: string, index: number, given: boolean, word: string) => (given ? `${key}[${index}]` : `${key} (English default ${JSON.stringify(word)})`);
-  raw.controlFailedTokens.forEach((word, index) => claim(word, 'a failed control', `controlFailedTokens[${index}]`, (other) => other === 'call invalid'));
+  const origin = (key: string, index: number, given: boolean, word: string) =>
+    given ? `${key}[${index}]` : `${key} (English default ${JSON.stringify(word)})`;
+  raw.controlFailedTokens.forEach((word, index) =>
+    claim(word, 'a failed control', `controlFailedTokens[${index}]`, (other) => other === 'call invalid'),
+  );
   for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const) {
     const given = raw.callWords?.[cls] !== undefined;
     callWords[cls].forEach((word, index) =>
-      claim(word, `call ${cls}`, origin(`callWords.${cls}`, index, given, word), (other) => cls === 'invalid' && other === 'a failed control'),
+      claim(
+        word,
+        `call ${cls}`,
+        origin(`callWords.${cls}`, index, given, word),
+        (other) => cls === 'invalid' && other === 'a failed control',
+      ),
     );
   }
   for (const kind of ['preliminary', 'final', 'corrected'] as const) {
     const given = raw.statusWords?.[kind] !== undefined;
     const listed = raw.statusWords?.[kind] ?? DEFAULT_STATUS_WORDS[kind];
     statusWords[kind].forEach((word, index) => {
-      const where = index < listed.length ? origin(`statusWords.${kind}`, index, given, word) : `reissueTokens[${raw.reissueTokens.indexOf(word)}]`;
+      const where =
+        index < listed.length
+          ? origin(`statusWords.${kind}`, index, given, word)
+          : `reissueTokens[${raw.reissueTokens.indexOf(word)}]`;
       claim(word, `a ${kind} report`, where, () => false);
     });
   }
-  const statusColumns = raw.statusColumns ?? [raw.columns.reportStatus, raw.columns.call].filter((column): column is string => column !== undefined);
+  const statusColumns =
+    raw.statusColumns ??
+    [raw.columns.reportStatus, raw.columns.call].filter((column): column is string => column !== undefined);
   return {
     controlFailedTokens: raw.controlFailedTokens.map((word) => word.trim()),
     callWords: Object.freeze(callWords),
@@ -791,14 +1001,18 @@ function loadCorrection(
   if (meant === '') throw new ConfigError(file, at('meant'), 'is empty once spaces are removed');
   if (looksLikePlannedId(meant)) {
     const parsed = parseSampleId(meant);
-    if (!parsed.ok) throw new ConfigError(file, at('meant'), `${parsed.message}; write the planned ID as printed on the rope list`);
+    if (!parsed.ok)
+      throw new ConfigError(file, at('meant'), `${parsed.message}; write the planned ID as printed on the rope list`);
     meant = parsed.id;
   }
-  if (meant === written) throw new ConfigError(file, at('meant'), `is the same ID as written (${written}): nothing to correct`);
-  if (entry.line !== undefined && entry.file === undefined) throw new ConfigError(file, at('line'), 'a line needs the file it is in: add file');
+  if (meant === written)
+    throw new ConfigError(file, at('meant'), `is the same ID as written (${written}): nothing to correct`);
+  if (entry.line !== undefined && entry.file === undefined)
+    throw new ConfigError(file, at('line'), 'a line needs the file it is in: add file');
   const key = `${written}\u001f${entry.file ?? ''}\u001f${entry.line ?? ''}`;
   const earlier = seen.get(key);
-  if (earlier !== undefined) throw new ConfigError(file, at('written'), `corrects the same ID in the same place as sampleIds[${earlier}]`);
+  if (earlier !== undefined)
+    throw new ConfigError(file, at('written'), `corrects the same ID in the same place as sampleIds[${earlier}]`);
   seen.set(key, index);
   return Object.freeze({ written, meant, file: entry.file, line: entry.line, note: entry.note });
 }
@@ -817,7 +1031,8 @@ export function loadConfig(dir: string): Config {
   const assays = loadAssays(assaysFile, problems);
   const assayById = assays === undefined ? undefined : new Map(assays.map((assay) => [assay.id, assay]));
   const sitesPart = loadSites(sitesFile, assayById === undefined ? undefined : new Set(assayById.keys()), problems);
-  if (sitesPart !== undefined && assays !== undefined) problems.guard(() => checkAntibodySensitivity(sitesPart.sites, assays, sitesFile));
+  if (sitesPart !== undefined && assays !== undefined)
+    problems.guard(() => checkAntibodySensitivity(sitesPart.sites, assays, sitesFile));
   let labFiles: string[] = [];
   try {
     labFiles = fs
@@ -838,7 +1053,10 @@ export function loadConfig(dir: string): Config {
     labs.push(lab);
     const earlier = labIds.get(matchKey(lab.id));
     if (earlier !== undefined) {
-      const detail = earlier.id === lab.id ? `lab id ${lab.id} is used twice (also in ${earlier.name})` : `lab id ${lab.id} differs from lab id ${earlier.id} (${earlier.name}) in case only`;
+      const detail =
+        earlier.id === lab.id
+          ? `lab id ${lab.id} is used twice (also in ${earlier.name})`
+          : `lab id ${lab.id} differs from lab id ${earlier.id} (${earlier.name}) in case only`;
       problems.add(path.join(labsDir, name), 'id', detail);
       continue;
     }

@@ -38,14 +38,17 @@ const CONTROL_CHARACTER = /[\u0000-\u001f\u007f]/;
  */
 export function folderNameProblem(id: string): string | undefined {
   if (id.length === 0) return 'is empty';
-  if (id.length > MAX_FOLDER_ID_LENGTH) return `is ${id.length} characters long; at most ${MAX_FOLDER_ID_LENGTH} (it names a folder under outbox/)`;
+  if (id.length > MAX_FOLDER_ID_LENGTH)
+    return `is ${id.length} characters long; at most ${MAX_FOLDER_ID_LENGTH} (it names a folder under outbox/)`;
   if (id === '.' || id === '..') return `"${id}" is not a folder name`;
   if (CONTROL_CHARACTER.test(id)) return 'contains a control character';
   const invalid = INVALID_CHARACTER.exec(id);
-  if (invalid) return `contains "${invalid[0]}", which cannot be part of a folder name (path separators and < > : " / \\ | ? * are refused)`;
+  if (invalid)
+    return `contains "${invalid[0]}", which cannot be part of a folder name (path separators and < > : " / \\ | ? * are refused)`;
   if (/[ .]$/.test(id)) return 'ends in a space or a dot, which Windows drops from folder names';
   const fixed = OUTBOX_FIXED_NAMES.find((name) => name.toLowerCase() === id.toLowerCase());
   if (fixed !== undefined) return `"${id}" is a name ropewatch writes in outbox/ itself (${fixed}); choose another id`;
-  if (WINDOWS_DEVICE.test(id)) return `"${id}" is a device name Windows reserves (CON, PRN, AUX, NUL, COM0-9, LPT0-9); choose another id`;
+  if (WINDOWS_DEVICE.test(id))
+    return `"${id}" is a device name Windows reserves (CON, PRN, AUX, NUL, COM0-9, LPT0-9); choose another id`;
   return undefined;
 }

@@ -81,7 +81,11 @@ export function nearestNames(name: string, known: Iterable<string>): string[] {
 }
 
 /** "did you mean x?", "did you mean x or y?", or "" when nothing is near. */
-export function didYouMean(name: string, known: Iterable<string>, quote: (text: string) => string = (text) => text): string {
+export function didYouMean(
+  name: string,
+  known: Iterable<string>,
+  quote: (text: string) => string = (text) => text,
+): string {
   const near = nearestNames(name, known);
   if (near.length === 0) return '';
   const listed = near.map(quote);

@@ -84,7 +84,9 @@ export function compileConfiguredPattern(source: string, requiredGroups: readonl
         `uses lookaround or a backreference, which are not supported: patterns are matched in linear time (RE2 syntax), so (?=...), (?!...), (?<=...), (?<!...), \\1 and \\k<name> cannot be used (${detail})`,
       );
     }
-    throw new PatternSyntaxError(`is not a regular expression ropewatch can use (RE2 syntax; lookaround and backreferences are not supported): ${detail}`);
+    throw new PatternSyntaxError(
+      `is not a regular expression ropewatch can use (RE2 syntax; lookaround and backreferences are not supported): ${detail}`,
+    );
   }
   for (const group of requiredGroups) {
     if (!pattern.groupNames.includes(group)) throw new PatternSyntaxError(`needs a named group (?<${group}>...)`);

@@ -12,7 +12,15 @@
 import type { RopeSheetColumn, RopeSheetColumns } from './types.js';
 
 /** Every column, in the order ropewatch prints them; all but `notes` and `pool` are required. */
-export const ROPE_SHEET_COLUMN_ORDER: readonly RopeSheetColumn[] = ['sampleId', 'site', 'barn', 'pen', 'hungOn', 'notes', 'pool'];
+export const ROPE_SHEET_COLUMN_ORDER: readonly RopeSheetColumn[] = [
+  'sampleId',
+  'site',
+  'barn',
+  'pen',
+  'hungOn',
+  'notes',
+  'pool',
+];
 
 export const REQUIRED_ROPE_SHEET_COLUMNS: readonly RopeSheetColumn[] = ['sampleId', 'site', 'barn', 'pen', 'hungOn'];
 
@@ -63,7 +71,9 @@ export function ropeColumnNames(column: RopeSheetColumn, configured?: readonly s
 }
 
 export const DEFAULT_ROPE_SHEET_COLUMNS: RopeSheetColumns = Object.freeze(
-  Object.fromEntries(ROPE_SHEET_COLUMN_ORDER.map((column) => [column, Object.freeze(ropeColumnNames(column))])) as Record<RopeSheetColumn, readonly string[]>,
+  Object.fromEntries(
+    ROPE_SHEET_COLUMN_ORDER.map((column) => [column, Object.freeze(ropeColumnNames(column))]),
+  ) as Record<RopeSheetColumn, readonly string[]>,
 );
 
 /**
@@ -71,5 +81,9 @@ export const DEFAULT_ROPE_SHEET_COLUMNS: RopeSheetColumns = Object.freeze(
  * letters and digits kept, so "Sample ID", "sample_id", "SAMPLE-ID" and "Sample id:" are one name.
  */
 export function ropeHeaderKey(cell: string): string {
-  return cell.replace(/^\uFEFF/, '').normalize('NFC').toLowerCase().replace(/[^\p{L}\p{N}]+/gu, '');
+  return cell
+    .replace(/^\uFEFF/, '')
+    .normalize('NFC')
+    .toLowerCase()
+    .replace(/[^\p{L}\p{N}]+/gu, '');
 }

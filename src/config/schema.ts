@@ -33,9 +33,7 @@ export const barnDesignPrevalenceSchema = z.union([
 /** Rope sensitivity per assay (and optionally per age group), with a default. */
 const perAssayProbability = z.union([
   probability,
-  z
-    .object({ default: probability })
-    .catchall(z.union([probability, z.record(z.string(), probability)])),
+  z.object({ default: probability }).catchall(z.union([probability, z.record(z.string(), probability)])),
 ]);
 
 export const programSchema = z
@@ -106,7 +104,10 @@ export const layoutSchema = z
     empty: z.array(penRef).default([]),
     outOfUse: z.array(penRef).default([]),
     headCount: z
-      .object({ default: z.number().int().min(0).optional(), pens: z.record(z.string(), z.number().int().min(0)).optional() })
+      .object({
+        default: z.number().int().min(0).optional(),
+        pens: z.record(z.string(), z.number().int().min(0)).optional(),
+      })
       .strict()
       .optional(),
   })
@@ -249,7 +250,9 @@ const spCutoffs = {
 };
 
 /** A Ct band (`below`, lowest Ct first) or, for an S/P assay, an S/P band (`atOrAbove`, highest first). */
-export const loadBandSchema = z.object({ name: z.string().min(1), below: z.number().gt(0).optional(), atOrAbove: z.number().optional() }).strict();
+export const loadBandSchema = z
+  .object({ name: z.string().min(1), below: z.number().gt(0).optional(), atOrAbove: z.number().optional() })
+  .strict();
 
 /** Keys that belong to one measure only: named in the refusal of the other. */
 const CT_ONLY_KEYS = ['positiveBelow', 'suspectBelow', 'cycleLimit', 'sequencingBelow'] as const;
@@ -279,23 +282,38 @@ export const assaySchema = z
   })
   .strict()
   .superRefine((assay, ctx) => {
-    const required = assay.measure === 'ct' ? (['positiveBelow', 'suspectBelow', 'cycleLimit', 'loadBands'] as const) : (['positiveAtOrAbove'] as const);
+    const required =
+      assay.measure === 'ct'
+        ? (['positiveBelow', 'suspectBelow', 'cycleLimit', 'loadBands'] as const)
+        : (['positiveAtOrAbove'] as const);
     for (const key of required) {
       if (assay[key] === undefined) {
         const help = REQUIRED_KEY_HELP[key];
-        ctx.addIssue({ code: 'custom', path: [key], message: `is missing${help === undefined ? '' : `: ${help}`} (required for an assay with measure ${assay.measure})` });
+        ctx.addIssue({
+          code: 'custom',
+          path: [key],
+          message: `is missing${help === undefined ? '' : `: ${help}`} (required for an assay with measure ${assay.measure})`,
+        });
       }
     }
     const foreign = assay.measure === 'ct' ? SP_ONLY_KEYS : CT_ONLY_KEYS;
     for (const key of foreign) {
       if (assay[key] !== undefined) {
-        ctx.addIssue({ code: 'custom', path: [key], message: `belongs to ${assay.measure === 'ct' ? 'an S/P assay (measure: sp-ratio)' : 'a Ct assay'}, not to one with measure ${assay.measure}` });
+        ctx.addIssue({
+          code: 'custom',
+          path: [key],
+          message: `belongs to ${assay.measure === 'ct' ? 'an S/P assay (measure: sp-ratio)' : 'a Ct assay'}, not to one with measure ${assay.measure}`,
+        });
       }
     }
     const bandKey = assay.measure === 'ct' ? 'below' : 'atOrAbove';
     (assay.loadBands ?? []).forEach((band, index) => {
       if (band[bandKey] === undefined || band[bandKey === 'below' ? 'atOrAbove' : 'below'] !== undefined) {
-        ctx.addIssue({ code: 'custom', path: ['loadBands', index], message: `a band of an assay with measure ${assay.measure} gives ${bandKey} (and only that)` });
+        ctx.addIssue({
+          code: 'custom',
+          path: ['loadBands', index],
+          message: `a band of an assay with measure ${assay.measure} gives ${bandKey} (and only that)`,
+        });
       }
     });
   });
@@ -365,7 +383,12 @@ export const labProfileSchema = z
       })
       .strict()
       .superRefine((columns, ctx) => {
-        if (columns.result !== undefined && columns.ct !== undefined) ctx.addIssue({ code: 'custom', path: ['ct'], message: 'names the result column a second time: keep result and remove ct' });
+        if (columns.result !== undefined && columns.ct !== undefined)
+          ctx.addIssue({
+            code: 'custom',
+            path: ['ct'],
+            message: 'names the result column a second time: keep result and remove ct',
+          });
       }),
     notDetected: z
       .object({

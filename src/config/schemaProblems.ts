@@ -9,7 +9,9 @@ import type { ConfigProblem } from './problems.js';
 
 export function formatPath(segments: readonly PropertyKey[]): string {
   return segments
-    .map((segment, index) => (typeof segment === 'number' ? `[${segment}]` : `${index === 0 ? '' : '.'}${String(segment)}`))
+    .map((segment, index) =>
+      typeof segment === 'number' ? `[${segment}]` : `${index === 0 ? '' : '.'}${String(segment)}`,
+    )
     .join('');
 }
 
@@ -24,9 +26,11 @@ export const REQUIRED_KEY_HELP: Readonly<Record<string, string>> = {
   barns: 'the barns of the site, each with its layout',
   layout: 'the barn layout: rows and pensPerRow at least',
   assays: 'the assays ropewatch reads, with their cutoffs and load bands',
-  designPrevalence: 'the smallest share of infected pens a round is meant to find: a proportion such as 0.1, or { pens: 1 }',
+  designPrevalence:
+    'the smallest share of infected pens a round is meant to find: a proportion such as 0.1, or { pens: 1 }',
   targetConfidence: 'the detection confidence the program aims for in each barn and round, such as 0.95',
-  ropeSensitivity: 'the probability that the rope of an infected pen tests positive: a number, or per assay with a default',
+  ropeSensitivity:
+    'the probability that the rope of an infected pen tests positive: a number, or per assay with a default',
   ropeSpecificity: 'the probability that the rope of a free pen tests negative (1 when positives are confirmed)',
   roundWindowDays: "ropes hung within this many days of a round's first rope belong to that round",
   intervalDays: 'the days between rounds the program intends',
@@ -34,7 +38,8 @@ export const REQUIRED_KEY_HELP: Readonly<Record<string, string>> = {
     "the probability that the herd was free before the first round (Martin, Cameron & Greiner 2007): the herd veterinarian's judgement; 0.5 leans neither way",
   introductionPerInterval:
     "the probability that the disease enters the herd between two rounds (Martin, Cameron & Greiner 2007): the herd veterinarian's judgement of its biosecurity and neighbourhood",
-  loadBands: "Ct bands for the load of a detected sample, lowest Ct first, from the lab's validated curve, e.g. [{ name: high, below: 25 }, { name: moderate, below: 30 }]",
+  loadBands:
+    "Ct bands for the load of a detected sample, lowest Ct first, from the lab's validated curve, e.g. [{ name: high, below: 25 }, { name: moderate, below: 30 }]",
   positiveBelow: 'a Ct strictly below this is positive',
   suspectBelow: 'a Ct from positiveBelow up to (not including) this is suspect',
   cycleLimit: "the assay's last cycle",
@@ -78,7 +83,8 @@ function declaredAt(schema: unknown, path: readonly PropertyKey[]): unknown[] {
     for (const candidate of current.flatMap((declared) => unwrap(declared))) {
       const def = defOf(candidate)!;
       if (def.type === 'object') {
-        const child = def.shape?.[String(segment)] ?? (defOf(def.catchall)?.type === 'never' ? undefined : def.catchall);
+        const child =
+          def.shape?.[String(segment)] ?? (defOf(def.catchall)?.type === 'never' ? undefined : def.catchall);
         if (child !== undefined) next.push(child);
       } else if (def.type === 'array' && typeof segment === 'number') {
         next.push(def.element);
@@ -131,7 +137,9 @@ function valueAt(root: unknown, path: readonly PropertyKey[]): unknown {
 /** The object at `path` in `root`, when there is one. */
 function objectAt(root: unknown, path: readonly PropertyKey[]): Record<string, unknown> | undefined {
   const current = valueAt(root, path);
-  return current !== null && typeof current === 'object' && !Array.isArray(current) ? (current as Record<string, unknown>) : undefined;
+  return current !== null && typeof current === 'object' && !Array.isArray(current)
+    ? (current as Record<string, unknown>)
+    : undefined;
 }
 
 /** True when the key at `path` is absent from an object that is present. */
@@ -155,7 +163,9 @@ function issueDetail(schema: z.ZodType, root: unknown, issue: z.core.$ZodIssue):
         option === undefined
           ? errors.map((inner) => ({ keyPath: formatPath(inner.path), detail: inner.message }))
           : schemaProblems(option, value, errors, '');
-      return told.map((problem) => `${problem.keyPath === '' ? '' : `${problem.keyPath}: `}${problem.detail}`).join(', ');
+      return told
+        .map((problem) => `${problem.keyPath === '' ? '' : `${problem.keyPath}: `}${problem.detail}`)
+        .join(', ');
     });
     return `matches none of its forms: ${forms.join('; or ')}`;
   }
@@ -187,7 +197,8 @@ export function schemaProblems(
       issue,
       issue.keys.map((key) => {
         const near = nearestNames(key, absent);
-        if (near.length === 1 && isMissing(value, [...issue.path, near[0]!])) explained.add(at([...issue.path, near[0]!]));
+        if (near.length === 1 && isMissing(value, [...issue.path, near[0]!]))
+          explained.add(at([...issue.path, near[0]!]));
         // A key near one that is given too ("Barns" beside "barns") is most likely a leftover.
         const given = near.length === 0 ? nearestNames(key, present) : [];
         const detail =

@@ -13,14 +13,21 @@ import { ConfigError } from './problems.js';
 export const DEFAULT_ALERT_TIMEOUT_SECONDS = 20;
 
 /** An environment variable's name (POSIX.1-2017, 8.1: letters, digits and underscores, not starting with a digit). */
-const envName = z.string().regex(/^[A-Za-z_][A-Za-z0-9_]*$/, 'the name of an environment variable: letters, digits and "_", not starting with a digit');
+const envName = z
+  .string()
+  .regex(
+    /^[A-Za-z_][A-Za-z0-9_]*$/,
+    'the name of an environment variable: letters, digits and "_", not starting with a digit',
+  );
 
 /**
  * An address as SMTP carries it (RFC 5321, 4.1.2: local-part "@" domain), optionally with a
  * display name before it in angle brackets (RFC 5322, 3.4). A loose check: catches a missing
  * "@" or a space, leaves the rest to the server.
  */
-const mailbox = z.string().regex(/^(?:[^<>]*<[^\s@<>]+@[^\s@<>]+>|[^\s@<>]+@[^\s@<>]+)$/, 'an e-mail address such as vet@clinic.example');
+const mailbox = z
+  .string()
+  .regex(/^(?:[^<>]*<[^\s@<>]+@[^\s@<>]+>|[^\s@<>]+@[^\s@<>]+)$/, 'an e-mail address such as vet@clinic.example');
 
 export const smtpSchema = z
   .object({
@@ -35,7 +42,8 @@ export const smtpSchema = z
   })
   .strict()
   .superRefine((smtp, ctx) => {
-    if (smtp.passwordEnv !== undefined && smtp.user === undefined) ctx.addIssue({ code: 'custom', path: ['user'], message: 'is missing: passwordEnv needs the user it logs in as' });
+    if (smtp.passwordEnv !== undefined && smtp.user === undefined)
+      ctx.addIssue({ code: 'custom', path: ['user'], message: 'is missing: passwordEnv needs the user it logs in as' });
   });
 
 export const siteAlertsSchema = z
@@ -96,8 +104,19 @@ type RawHerdStatus = z.output<typeof herdStatusSchema>;
 /** The alert settings, frozen. */
 export function normaliseAlerts(raw: RawAlerts | undefined): SiteAlerts | undefined {
   if (raw === undefined) return undefined;
-  const email = raw.email === undefined ? undefined : Object.freeze({ smtp: Object.freeze({ user: undefined, passwordEnv: undefined, ...raw.email.smtp }), from: raw.email.from, to: Object.freeze([...raw.email.to]) });
-  return Object.freeze({ email, command: raw.command === undefined ? undefined : Object.freeze([...raw.command]), timeoutSeconds: raw.timeoutSeconds });
+  const email =
+    raw.email === undefined
+      ? undefined
+      : Object.freeze({
+          smtp: Object.freeze({ user: undefined, passwordEnv: undefined, ...raw.email.smtp }),
+          from: raw.email.from,
+          to: Object.freeze([...raw.email.to]),
+        });
+  return Object.freeze({
+    email,
+    command: raw.command === undefined ? undefined : Object.freeze([...raw.command]),
+    timeoutSeconds: raw.timeoutSeconds,
+  });
 }
 
 /**
@@ -107,7 +126,12 @@ export function normaliseAlerts(raw: RawAlerts | undefined): SiteAlerts | undefi
  * @param at the key path of the site's herdStatus, for messages
  * @throws ConfigError naming the file and key path
  */
-export function normaliseHerdStatus(raw: RawHerdStatus | undefined, categories: readonly string[] | undefined, file: string, at: string): HerdStatus | undefined {
+export function normaliseHerdStatus(
+  raw: RawHerdStatus | undefined,
+  categories: readonly string[] | undefined,
+  file: string,
+  at: string,
+): HerdStatus | undefined {
   if (raw === undefined) return undefined;
   if (!/^\d{4}-\d{2}-\d{2}$/.test(raw.setOn) || !isMatch(raw.setOn, 'yyyy-MM-dd')) {
     throw new ConfigError(file, `${at}.setOn`, `must be a date written yyyy-MM-dd, got ${JSON.stringify(raw.setOn)}`);
@@ -117,9 +141,17 @@ export function normaliseHerdStatus(raw: RawHerdStatus | undefined, categories: 
     const known = categories.find((name) => name.toLowerCase() === raw.category.toLowerCase());
     if (known === undefined) {
       const hint = didYouMean(raw.category, categories, (text) => JSON.stringify(text));
-      throw new ConfigError(file, `${at}.category`, `${JSON.stringify(raw.category)} is not in herdStatusCategories (${categories.map((name) => JSON.stringify(name)).join(', ')})${hint ? `: ${hint}` : ''}`);
+      throw new ConfigError(
+        file,
+        `${at}.category`,
+        `${JSON.stringify(raw.category)} is not in herdStatusCategories (${categories.map((name) => JSON.stringify(name)).join(', ')})${hint ? `: ${hint}` : ''}`,
+      );
     }
     category = known;
   }
-  return Object.freeze({ category, setOn: raw.setOn, note: raw.note === undefined || raw.note.trim() === '' ? undefined : raw.note.trim() });
+  return Object.freeze({
+    category,
+    setOn: raw.setOn,
+    note: raw.note === undefined || raw.note.trim() === '' ? undefined : raw.note.trim(),
+  });
 }

@@ -18,7 +18,15 @@ import { Store, StoreOpenError } from '../store/store.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../workspace.js';
 import { buildSiteRounds } from '../interpret/roundModel.js';
 import { clockDay } from '../interpret/rounds.js';
-import { DEMO_TODAY, HOLLOW_CREEK_ROUNDS, hollowCreekRound, tamsinRidgeRound, TAMSIN_RIDGE_ROUNDS, type DemoDrop, type RopeChoice } from './scenario.js';
+import {
+  DEMO_TODAY,
+  HOLLOW_CREEK_ROUNDS,
+  hollowCreekRound,
+  tamsinRidgeRound,
+  TAMSIN_RIDGE_ROUNDS,
+  type DemoDrop,
+  type RopeChoice,
+} from './scenario.js';
 
 export const DEMO_CONFIG_DIR = path.join(path.dirname(fileURLToPath(import.meta.url)), 'config');
 const DEMO_MARKER = 'demo-store';
@@ -32,7 +40,8 @@ const CONFIG_KEPT = ['README.md', '.gitkeep'];
 
 function emptyDir(dir: string, keep: readonly string[] = ['.gitkeep']): void {
   fs.mkdirSync(dir, { recursive: true });
-  for (const entry of fs.readdirSync(dir)) if (!keep.includes(entry)) fs.rmSync(path.join(dir, entry), { recursive: true, force: true });
+  for (const entry of fs.readdirSync(dir))
+    if (!keep.includes(entry)) fs.rmSync(path.join(dir, entry), { recursive: true, force: true });
 }
 
 const sha256 = (bytes: Buffer) => createHash('sha256').update(bytes).digest('hex');
@@ -53,7 +62,9 @@ function filesUnder(dir: string): string[] {
 
 /** The demo's configuration files with their hashes. */
 function demoConfigHashes(): Record<string, string> {
-  return Object.fromEntries(filesUnder(DEMO_CONFIG_DIR).map((rel) => [rel, sha256(fs.readFileSync(path.join(DEMO_CONFIG_DIR, rel)))]));
+  return Object.fromEntries(
+    filesUnder(DEMO_CONFIG_DIR).map((rel) => [rel, sha256(fs.readFileSync(path.join(DEMO_CONFIG_DIR, rel)))]),
+  );
 }
 
 /**
@@ -64,7 +75,10 @@ function demoConfigHashes(): Record<string, string> {
  */
 export function guardConfig(configDir: string): void {
   if (!fs.existsSync(configDir)) return;
-  if (!fs.statSync(configDir).isDirectory()) throw new UsageError(`${configDir} is a file, not a configuration folder; run the demo with --config <another folder>`);
+  if (!fs.statSync(configDir).isDirectory())
+    throw new UsageError(
+      `${configDir} is a file, not a configuration folder; run the demo with --config <another folder>`,
+    );
   const current = demoConfigHashes();
   let recorded: Record<string, unknown> = {};
   try {
@@ -102,14 +116,19 @@ function guardStore(dbFile: string, force: boolean): void {
   try {
     store = new Store(dbFile);
   } catch (error) {
-    if (error instanceof StoreOpenError) throw new UsageError(`${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace the file`);
+    if (error instanceof StoreOpenError)
+      throw new UsageError(
+        `${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace the file`,
+      );
     throw error;
   }
   try {
     const isDemo = store.getMeta(DEMO_MARKER) === 'true';
     const files = store.counts().files;
     if (!isDemo && files > 0) {
-      throw new UsageError(`${dbFile} holds ${files} files that the demo did not make; run the demo with --db elsewhere, or --force to wipe it`);
+      throw new UsageError(
+        `${dbFile} holds ${files} files that the demo did not make; run the demo with --db elsewhere, or --force to wipe it`,
+      );
     }
   } finally {
     store.close();
@@ -130,13 +149,23 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
   const config = loadConfig(paths.configDir);
 
   let clock = new Date(DEMO_TODAY);
-  const ws = openWorkspace(paths, () => clock, (line) => io.stderr(`${line}\n`));
+  const ws = openWorkspace(
+    paths,
+    () => clock,
+    (line) => io.stderr(`${line}\n`),
+  );
   const outcome: DemoOutcome = { drops: [] };
   try {
     ws.store.setMeta(DEMO_MARKER, 'true');
     const events = [
-      ...HOLLOW_CREEK_ROUNDS.map((date, index) => ({ date, make: () => hollowCreekRound(config, index, plannedFor(ws.store, 'hollow-creek', index)) })),
-      ...TAMSIN_RIDGE_ROUNDS.map((date, index) => ({ date, make: () => tamsinRidgeRound(config, index, plannedFor(ws.store, 'tamsin-ridge', index)) })),
+      ...HOLLOW_CREEK_ROUNDS.map((date, index) => ({
+        date,
+        make: () => hollowCreekRound(config, index, plannedFor(ws.store, 'hollow-creek', index)),
+      })),
+      ...TAMSIN_RIDGE_ROUNDS.map((date, index) => ({
+        date,
+        make: () => tamsinRidgeRound(config, index, plannedFor(ws.store, 'tamsin-ridge', index)),
+      })),
     ].sort((a, b) => (a.date < b.date ? -1 : 1));
     for (const event of events) {
       const drops: DemoDrop[] = (await event.make()).sort((a, b) => (a.at < b.at ? -1 : 1));
@@ -158,7 +187,9 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
   } finally {
     ws.close();
   }
-  io.stdout(`\nDemo done. Open ${path.join(paths.outbox, 'index.html')} or browse ${paths.outbox}/; inbox/archive/ holds the processed drops, inbox/rejected/ the refused one.\n`);
+  io.stdout(
+    `\nDemo done. Open ${path.join(paths.outbox, 'index.html')} or browse ${paths.outbox}/; inbox/archive/ holds the processed drops, inbox/rejected/ the refused one.\n`,
+  );
   return outcome;
 }
 
@@ -170,9 +201,18 @@ function roundsAwaiting(ws: Workspace, siteIds: readonly string[], now: Date): s
   return ws.config.sites
     .filter((site) => siteIds.includes(site.id))
     .flatMap((site) => {
-      const last = buildSiteRounds(site, ws.store.ropes(site.id), ws.store.currentResults(site.id), ws.store.plannedWithoutResults(site.id), {}, clockDay(now)).at(-1);
+      const last = buildSiteRounds(
+        site,
+        ws.store.ropes(site.id),
+        ws.store.currentResults(site.id),
+        ws.store.plannedWithoutResults(site.id),
+        {},
+        clockDay(now),
+      ).at(-1);
       if (!last || last.state === 'complete') return [];
-      return [`            ${site.id} ${last.id}: ${last.state === 'awaiting-results' ? 'awaiting results' : 'partial results'}, due by ${last.resultsDueOn}; no rope is missing before then\n`];
+      return [
+        `            ${site.id} ${last.id}: ${last.state === 'awaiting-results' ? 'awaiting results' : 'partial results'}, due by ${last.resultsDueOn}; no rope is missing before then\n`,
+      ];
     });
 }
 
@@ -181,5 +221,10 @@ function plannedFor(store: Store, siteId: string, roundIndex: number): RopeChoic
   return store
     .plannedRopes(siteId)
     .filter((rope) => rope.afterRound === roundIndex)
-    .map((rope) => ({ sampleId: rope.sampleId, barnId: rope.barnId, penId: rope.penId, ...(rope.poolId === null || rope.poolId === undefined ? {} : { poolId: rope.poolId }) }));
+    .map((rope) => ({
+      sampleId: rope.sampleId,
+      barnId: rope.barnId,
+      penId: rope.penId,
+      ...(rope.poolId === null || rope.poolId === undefined ? {} : { poolId: rope.poolId }),
+    }));
 }

@@ -33,7 +33,15 @@ export interface RopeChoice {
 }
 
 /** Rounds of each site: the day the ropes go up (F3 and N2 a day later than the rest). */
-export const HOLLOW_CREEK_ROUNDS = ['2026-08-03', '2026-08-17', '2026-08-31', '2026-09-14', '2026-09-28', '2026-10-12', '2026-10-26'];
+export const HOLLOW_CREEK_ROUNDS = [
+  '2026-08-03',
+  '2026-08-17',
+  '2026-08-31',
+  '2026-09-14',
+  '2026-09-28',
+  '2026-10-12',
+  '2026-10-26',
+];
 /** Tamsin Ridge skips its October round: the gap shows what a missed round costs. */
 export const TAMSIN_RIDGE_ROUNDS = ['2026-08-05', '2026-08-26', '2026-09-16', '2026-10-28'];
 /** The demo's "today": after the last results, before the next round is due. */
@@ -106,15 +114,33 @@ interface ElisaRow {
 const NORTHFIELD_SP_POSITIVE = 0.4;
 
 /** The header of the (invented) Northfield lab export, as src/demo/config/labs/northfield.yaml names it. */
-export const NORTHFIELD_HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
+export const NORTHFIELD_HEADER = [
+  'Case No',
+  'Sample ID',
+  'Test Name',
+  'Ct Value',
+  'Interpretation',
+  'Internal Control',
+  'Collection Date',
+  'Report Date',
+  'Report Status',
+];
 
 /**
  * Northfield's cells for each row, and its numeric result as a number (null when the cell says
  * something else). The lab has one export template: an ELISA's S/P ratio comes in the same
  * numeric column as a Ct, and an ELISA has no internal control (the cell is left blank).
  */
-function northfieldCells(rows: readonly (LabRow | ElisaRow)[], reportedOn: string, firstCase: number): { cells: string[]; ct: number | null }[] {
-  const testName = { PRRSV: 'PRRSV NA/EU RT-PCR', IAV: 'Influenza A Matrix RT-PCR', 'PRRSV-AB': 'PRRSV Oral Fluid Antibody ELISA' } as const;
+function northfieldCells(
+  rows: readonly (LabRow | ElisaRow)[],
+  reportedOn: string,
+  firstCase: number,
+): { cells: string[]; ct: number | null }[] {
+  const testName = {
+    PRRSV: 'PRRSV NA/EU RT-PCR',
+    IAV: 'Influenza A Matrix RT-PCR',
+    'PRRSV-AB': 'PRRSV Oral Fluid Antibody ELISA',
+  } as const;
   const positiveBelow = { PRRSV: 36, IAV: 38 } as const;
   return rows.map((row, index) => {
     const elisa = row.assay === 'PRRSV-AB';
@@ -130,7 +156,14 @@ function northfieldCells(rows: readonly (LabRow | ElisaRow)[], reportedOn: strin
             : row.ct < positiveBelow[row.assay]
               ? 'Positive'
               : 'Suspect';
-    const value = row.assay === 'PRRSV-AB' ? row.sp.toFixed(2) : row.controlFailed ? '' : row.ct === null ? 'Undetermined' : row.ct.toFixed(2);
+    const value =
+      row.assay === 'PRRSV-AB'
+        ? row.sp.toFixed(2)
+        : row.controlFailed
+          ? ''
+          : row.ct === null
+            ? 'Undetermined'
+            : row.ct.toFixed(2);
     const numeric = row.assay === 'PRRSV-AB' ? Number(row.sp.toFixed(2)) : row.controlFailed ? null : row.ct;
     const control = row.assay === 'PRRSV-AB' ? '' : row.controlFailed ? 'FAIL' : 'PASS';
     const status = row.assay === 'PRRSV-AB' ? undefined : row.status;
@@ -163,13 +196,27 @@ export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedO
  * header (the demo profile's workbook.headerRow: 3), Ct values as numbers, dates as date cells.
  * `at` is the moment it was saved: the same rows and moment give the same bytes.
  */
-export async function northfieldWorkbook(rows: readonly LabRow[], reportedOn: string, firstCase: number, at: string): Promise<Buffer> {
+export async function northfieldWorkbook(
+  rows: readonly LabRow[],
+  reportedOn: string,
+  firstCase: number,
+  at: string,
+): Promise<Buffer> {
   const dateCell = (iso: string) => parseISO(`${iso}T00:00:00Z`);
   const body = northfieldCells(rows, reportedOn, firstCase).map(({ cells, ct }) =>
-    cells.map((cell, column) => (column === 3 && ct !== null ? ct : column === 6 || column === 7 ? dateCell(cell) : cell === '' ? null : cell)),
+    cells.map((cell, column) =>
+      column === 3 && ct !== null ? ct : column === 6 || column === 7 ? dateCell(cell) : cell === '' ? null : cell,
+    ),
   );
   return demoWorkbook(
-    [{ name: 'Results', rows: [[`Results report ${reportedOn} (invented)`], [], NORTHFIELD_HEADER, ...body], dateColumns: [7, 8], widths: [12, 26, 26, 10, 14, 16, 16, 14, 14] }],
+    [
+      {
+        name: 'Results',
+        rows: [[`Results report ${reportedOn} (invented)`], [], NORTHFIELD_HEADER, ...body],
+        dateColumns: [7, 8],
+        widths: [12, 26, 26, 10, 14, 16, 16, 14, 14],
+      },
+    ],
     parseISO(at),
     'Northfield Veterinary Diagnostic Laboratory (invented)',
   );
@@ -183,15 +230,33 @@ export function ostermarkExport(rows: readonly LabRow[], reportedOn: string, ord
   for (const row of rows) {
     const befund = row.controlFailed ? 'ungültig' : row.ct === null ? 'negativ' : 'positiv';
     const ct = row.controlFailed ? '' : row.ct === null ? '0' : row.ct.toFixed(1).replace('.', ',');
-    lines.push([order, row.sampleId, test[row.assay], ct, befund, row.controlFailed ? 'fehlerhaft' : 'ok', day(row.collectedOn), day(reportedOn)].join(';'));
+    lines.push(
+      [
+        order,
+        row.sampleId,
+        test[row.assay],
+        ct,
+        befund,
+        row.controlFailed ? 'fehlerhaft' : 'ok',
+        day(row.collectedOn),
+        day(reportedOn),
+      ].join(';'),
+    );
   }
   return Buffer.from(lines.join('\r\n') + '\r\n', 'latin1');
 }
 
 /** A rope sheet in ropewatch's own layout. */
-export function ropeSheet(site: Site, ropes: readonly (RopeChoice & { hungOn: string })[], notes: Record<string, string> = {}): Buffer {
+export function ropeSheet(
+  site: Site,
+  ropes: readonly (RopeChoice & { hungOn: string })[],
+  notes: Record<string, string> = {},
+): Buffer {
   const lines = ['sample_id,site,barn,pen,hung_on,notes'];
-  for (const rope of ropes) lines.push([rope.sampleId, site.id, rope.barnId, rope.penId, rope.hungOn, notes[rope.sampleId] ?? ''].map(csvCell).join(','));
+  for (const rope of ropes)
+    lines.push(
+      [rope.sampleId, site.id, rope.barnId, rope.penId, rope.hungOn, notes[rope.sampleId] ?? ''].map(csvCell).join(','),
+    );
   return Buffer.from(lines.join('\n') + '\n', 'utf8');
 }
 
@@ -222,7 +287,14 @@ function measureSp(rng: Rng, barnId: string, penId: string, roundIndex: number):
  */
 function elisaRows(ropes: readonly (RopeChoice & { hungOn: string })[], roundIndex: number): ElisaRow[] {
   const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek-elisa', roundIndex));
-  const rows = ropes.map((rope): ElisaRow => ({ sampleId: rope.sampleId, assay: 'PRRSV-AB', sp: measureSp(rng, rope.barnId, rope.penId, roundIndex), collectedOn: rope.hungOn }));
+  const rows = ropes.map(
+    (rope): ElisaRow => ({
+      sampleId: rope.sampleId,
+      assay: 'PRRSV-AB',
+      sp: measureSp(rng, rope.barnId, rope.penId, roundIndex),
+      collectedOn: rope.hungOn,
+    }),
+  );
   if (roundIndex === 1) {
     const f2 = ropes.findIndex((rope) => rope.barnId === 'F2');
     const f3 = ropes.map((rope, index) => ({ rope, index })).filter((entry) => entry.rope.barnId === 'F3');
@@ -238,14 +310,20 @@ function measure(rng: Rng, barnId: string, penId: string, roundIndex: number): n
   const age = infectedAge(barnId, penId, roundIndex);
   if (age === undefined) return null;
   if (rng() >= DEMO_ROPE_SENSITIVITY) return null;
-  return round1(Math.min(39, Math.max(18, (CT_BY_AGE[Math.min(age, CT_BY_AGE.length - 1)] ?? 31) + 1.2 * gaussian(rng))));
+  return round1(
+    Math.min(39, Math.max(18, (CT_BY_AGE[Math.min(age, CT_BY_AGE.length - 1)] ?? 31) + 1.2 * gaussian(rng))),
+  );
 }
 
 /**
  * The files of one Hollow Creek round. `planned` are the ropes ropewatch planned for this round
  * (empty before the first plan): when present the farm hangs those tubes and sends no sheet.
  */
-export async function hollowCreekRound(config: Config, roundIndex: number, planned: readonly RopeChoice[]): Promise<DemoDrop[]> {
+export async function hollowCreekRound(
+  config: Config,
+  roundIndex: number,
+  planned: readonly RopeChoice[],
+): Promise<DemoDrop[]> {
   const site = config.siteById.get('HOLLOW-CREEK')!;
   const date = HOLLOW_CREEK_ROUNDS[roundIndex]!;
   const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek', roundIndex));
@@ -265,18 +343,31 @@ export async function hollowCreekRound(config: Config, roundIndex: number, plann
   const late = roundIndex === 5;
   const onTimeSheet = late ? fromSheet.filter((rope) => rope.barnId !== 'F3') : fromSheet;
   if (onTimeSheet.length > 0) {
-    drops.push({ at: at(plus(date, 1), 17), name: `hollow-creek_ropes_${date}.csv`, bytes: ropeSheet(site, onTimeSheet), note: 'rope sheet from the barn staff' });
+    drops.push({
+      at: at(plus(date, 1), 17),
+      name: `hollow-creek_ropes_${date}.csv`,
+      bytes: ropeSheet(site, onTimeSheet),
+      note: 'rope sheet from the barn staff',
+    });
   }
 
   // One planned tube breaks in transit in the first planned round: it never comes back.
-  const lost = planned.length > 0 && roundIndex === 3 ? hung.find((rope) => !rope.sampleId.startsWith('HC-') && rope.barnId === 'F2') : undefined;
+  const lost =
+    planned.length > 0 && roundIndex === 3
+      ? hung.find((rope) => !rope.sampleId.startsWith('HC-') && rope.barnId === 'F2')
+      : undefined;
   const prrsv: LabRow[] = [];
   const iav: LabRow[] = [];
   for (const rope of hung) {
     if (rope === lost) continue;
     let ct = measure(rng, rope.barnId, rope.penId, roundIndex);
     // Round 4: one stray suspect in F3, never seen again (a high Ct in a dirty matrix).
-    if (roundIndex === 3 && rope.barnId === 'F3' && ct === null && !prrsv.some((row) => row.ct !== null && row.sampleId.includes('F3'))) {
+    if (
+      roundIndex === 3 &&
+      rope.barnId === 'F3' &&
+      ct === null &&
+      !prrsv.some((row) => row.ct !== null && row.sampleId.includes('F3'))
+    ) {
       const f3 = hung.filter((candidate) => candidate.barnId === 'F3');
       if (rope === f3[Math.floor(f3.length / 2)]) ct = 36.8;
     }
@@ -287,7 +378,9 @@ export async function hollowCreekRound(config: Config, roundIndex: number, plann
   // Round 5: the first F1 positive comes back as an internal-control failure, then is reissued.
   let reissue: LabRow | undefined;
   if (roundIndex === 4) {
-    const target = prrsv.find((row) => row.ct !== null && hung.find((rope) => rope.sampleId === row.sampleId)?.barnId === 'F1');
+    const target = prrsv.find(
+      (row) => row.ct !== null && hung.find((rope) => rope.sampleId === row.sampleId)?.barnId === 'F1',
+    );
     if (target) {
       reissue = { ...target, status: 'Corrected' };
       target.ct = null;
@@ -304,10 +397,25 @@ export async function hollowCreekRound(config: Config, roundIndex: number, plann
       note: 'PRRSV and influenza results as an Excel workbook: sheet "Results", header on row 3',
     });
   } else if (roundIndex % 2 === 0) {
-    drops.push({ at: at(reported, 14), name: `nvdl_results_${reported}.csv`, bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100), note: 'PRRSV and influenza results in one export' });
+    drops.push({
+      at: at(reported, 14),
+      name: `nvdl_results_${reported}.csv`,
+      bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100),
+      note: 'PRRSV and influenza results in one export',
+    });
   } else {
-    drops.push({ at: at(reported, 11), name: `nvdl_prrsv_${reported}.csv`, bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100), note: 'PRRSV results' });
-    drops.push({ at: at(reported, 15), name: `nvdl_influenza_${reported}.csv`, bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100), note: 'influenza results, a second file the same day' });
+    drops.push({
+      at: at(reported, 11),
+      name: `nvdl_prrsv_${reported}.csv`,
+      bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100),
+      note: 'PRRSV results',
+    });
+    drops.push({
+      at: at(reported, 15),
+      name: `nvdl_influenza_${reported}.csv`,
+      bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100),
+      note: 'influenza results, a second file the same day',
+    });
   }
   if (HOLLOW_CREEK_ELISA_ROUNDS.includes(roundIndex)) {
     const tested = hung.filter((rope) => rope !== lost);
@@ -315,16 +423,29 @@ export async function hollowCreekRound(config: Config, roundIndex: number, plann
       at: at(reported, 16),
       name: `nvdl_elisa_${reported}.csv`,
       bytes: northfieldExport(elisaRows(tested, roundIndex), reported, 1080 + roundIndex * 100),
-      note: roundIndex === 1 ? 'PRRSV antibody ELISA (S/P): 0.21 read negative; one antibody positive in F3 with no virus' : 'PRRSV antibody ELISA (S/P ratios) on the same ropes',
+      note:
+        roundIndex === 1
+          ? 'PRRSV antibody ELISA (S/P): 0.21 read negative; one antibody positive in F3 with no virus'
+          : 'PRRSV antibody ELISA (S/P ratios) on the same ropes',
     });
   }
   if (reissue) {
     const reissuedOn = plus(date, 4);
-    drops.push({ at: at(reissuedOn, 10), name: `nvdl_corrected_${reissuedOn}.csv`, bytes: northfieldExport([reissue], reissuedOn, 1000 + roundIndex * 100), note: 'a reissued result after re-extraction' });
+    drops.push({
+      at: at(reissuedOn, 10),
+      name: `nvdl_corrected_${reissuedOn}.csv`,
+      bytes: northfieldExport([reissue], reissuedOn, 1000 + roundIndex * 100),
+      note: 'a reissued result after re-extraction',
+    });
   }
   if (late) {
     const f3 = fromSheet.filter((rope) => rope.barnId === 'F3');
-    drops.push({ at: at(plus(date, 4), 9), name: `hollow-creek_ropes_F3_${date}.csv`, bytes: ropeSheet(site, f3, { [f3[0]!.sampleId]: 'sheet found in the truck' }), note: 'a late rope sheet: its results arrived first' });
+    drops.push({
+      at: at(plus(date, 4), 9),
+      name: `hollow-creek_ropes_F3_${date}.csv`,
+      bytes: ropeSheet(site, f3, { [f3[0]!.sampleId]: 'sheet found in the truck' }),
+      note: 'a late rope sheet: its results arrived first',
+    });
   }
   if (roundIndex === 3) {
     drops.push({
@@ -360,7 +481,14 @@ export function tamsinRidgeRound(config: Config, roundIndex: number, planned: re
     }
   }
   const reported = plus(date, 2);
-  return [{ at: at(reported, 13), name: `oahl_befund_${reported}.csv`, bytes: ostermarkExport(rows, reported, `OA-${compact}`), note: 'Latin-1, semicolons, decimal commas, 0 for not detected' }];
+  return [
+    {
+      at: at(reported, 13),
+      name: `oahl_befund_${reported}.csv`,
+      bytes: ostermarkExport(rows, reported, `OA-${compact}`),
+      note: 'Latin-1, semicolons, decimal commas, 0 for not detected',
+    },
+  ];
 }
 
 /**
@@ -399,8 +527,18 @@ function tamsinRidgePooledRound(config: Config, roundIndex: number, planned: rea
   ]);
   const reported = plus(date, 2);
   return [
-    { at: at(plus(date, 1), 9), name: `tamsin-ridge_ropes_${date}.csv`, bytes: Buffer.from(sheet.join('\n') + '\n', 'utf8'), note: 'a rope sheet with a pool column: three ropes per PCR' },
-    { at: at(reported, 13), name: `oahl_befund_${reported}.csv`, bytes: ostermarkExport(rows, reported, `OA-${compact}`), note: 'one result per pool, under the pool ID' },
+    {
+      at: at(plus(date, 1), 9),
+      name: `tamsin-ridge_ropes_${date}.csv`,
+      bytes: Buffer.from(sheet.join('\n') + '\n', 'utf8'),
+      note: 'a rope sheet with a pool column: three ropes per PCR',
+    },
+    {
+      at: at(reported, 13),
+      name: `oahl_befund_${reported}.csv`,
+      bytes: ostermarkExport(rows, reported, `OA-${compact}`),
+      note: 'one result per pool, under the pool ID',
+    },
   ];
 }
 

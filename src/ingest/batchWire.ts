@@ -12,8 +12,29 @@ import type { ResultClass } from '../interpret/classify.js';
 import type { CallClass, Measure, ReportStatusKind } from '../config/types.js';
 
 const TEXT_COLUMNS = [
-  'labId', 'sampleId', 'assayId', 'labAssay', 'measure', 'ctRaw', 'labCall', 'accession', 'collectedOn', 'reportedOn', 'reportStatus', 'control', 'resultClass', 'reason', 'loadBand',
-  'statusKind', 'statusWord', 'labCallClass', 'sampleIdAsWritten', 'ropeSiteId', 'ropeBarnId', 'ropePenId', 'ropeHungOn',
+  'labId',
+  'sampleId',
+  'assayId',
+  'labAssay',
+  'measure',
+  'ctRaw',
+  'labCall',
+  'accession',
+  'collectedOn',
+  'reportedOn',
+  'reportStatus',
+  'control',
+  'resultClass',
+  'reason',
+  'loadBand',
+  'statusKind',
+  'statusWord',
+  'labCallClass',
+  'sampleIdAsWritten',
+  'ropeSiteId',
+  'ropeBarnId',
+  'ropePenId',
+  'ropeHungOn',
 ] as const;
 type TextColumn = (typeof TEXT_COLUMNS)[number];
 
@@ -90,7 +111,10 @@ export function encodeBatch(batch: MappedBatch<ResultRow[]>): WireBatch {
 
 /** The buffers to move (not copy) with postMessage. */
 export function transferables(wire: WireBatch): ArrayBuffer[] {
-  return [wire.numbers.buffer as ArrayBuffer, ...TEXT_COLUMNS.map((column) => wire.texts[column].index.buffer as ArrayBuffer)];
+  return [
+    wire.numbers.buffer as ArrayBuffer,
+    ...TEXT_COLUMNS.map((column) => wire.texts[column].index.buffer as ArrayBuffer),
+  ];
 }
 
 /**
@@ -142,7 +166,15 @@ export class WireRows implements RowList<ResultRow> {
       callDiffers: (flags & FLAG_CALL_DIFFERS) !== 0,
       sampleIdAsWritten: textAt(texts, 'sampleIdAsWritten', i),
       contentKey: numbers[at + 5]!,
-      encodedRope: ropeSiteId === null ? undefined : { siteId: ropeSiteId, barnId: textAt(texts, 'ropeBarnId', i)!, penId: textAt(texts, 'ropePenId', i)!, hungOn: textAt(texts, 'ropeHungOn', i)! },
+      encodedRope:
+        ropeSiteId === null
+          ? undefined
+          : {
+              siteId: ropeSiteId,
+              barnId: textAt(texts, 'ropeBarnId', i)!,
+              penId: textAt(texts, 'ropePenId', i)!,
+              hungOn: textAt(texts, 'ropeHungOn', i)!,
+            },
     };
   }
 }

@@ -28,7 +28,9 @@ export const MAX_RECORD_CHARS = 4_000_000;
 export class RecordTooLongError extends Error {
   override readonly name = 'RecordTooLongError';
   constructor(readonly line: number) {
-    super(`the record starting on line ${line} runs past ${MAX_RECORD_CHARS.toLocaleString('en')} characters (a quote that is never closed?)`);
+    super(
+      `the record starting on line ${line} runs past ${MAX_RECORD_CHARS.toLocaleString('en')} characters (a quote that is never closed?)`,
+    );
   }
 }
 
@@ -90,7 +92,10 @@ export class CsvRecordReader {
     private readonly delimiter: string,
     skipLines: number,
   ) {
-    if (delimiter.length !== 1 || delimiter === '"' || delimiter === '\n') throw new RangeError(`\`delimiter\` must be one character other than a quote or a line break, got ${JSON.stringify(delimiter)}`);
+    if (delimiter.length !== 1 || delimiter === '"' || delimiter === '\n')
+      throw new RangeError(
+        `\`delimiter\` must be one character other than a quote or a line break, got ${JSON.stringify(delimiter)}`,
+      );
     this.delimiterCode = delimiter.charCodeAt(0);
     this.skipping = skipLines;
     this.line = skipLines + 1;
@@ -103,7 +108,10 @@ export class CsvRecordReader {
    */
   push(text: string, out: CsvRecord[]): void {
     this.read(text, out);
-    if (this.inRecord && this.field.length + this.cells.reduce((sum, cell) => sum + cell.length, 0) > MAX_RECORD_CHARS) {
+    if (
+      this.inRecord &&
+      this.field.length + this.cells.reduce((sum, cell) => sum + cell.length, 0) > MAX_RECORD_CHARS
+    ) {
       throw new RecordTooLongError(this.recordLine);
     }
   }

@@ -59,11 +59,15 @@ export class BinaryContentError extends Error {
  * @throws BinaryContentError when the bytes are not text at all.
  */
 export function sniffEncoding(head: Uint8Array, declared: TextEncoding | 'auto'): Sniffed {
-  if (head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf) return { encoding: 'utf-8', bomLength: 3, note: 'UTF-8 byte-order mark' };
-  if (head[0] === 0xff && head[1] === 0xfe) return { encoding: 'utf-16le', bomLength: 2, note: 'UTF-16LE byte-order mark' };
-  if (head[0] === 0xfe && head[1] === 0xff) return { encoding: 'utf-16be', bomLength: 2, note: 'UTF-16BE byte-order mark' };
+  if (head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf)
+    return { encoding: 'utf-8', bomLength: 3, note: 'UTF-8 byte-order mark' };
+  if (head[0] === 0xff && head[1] === 0xfe)
+    return { encoding: 'utf-16le', bomLength: 2, note: 'UTF-16LE byte-order mark' };
+  if (head[0] === 0xfe && head[1] === 0xff)
+    return { encoding: 'utf-16be', bomLength: 2, note: 'UTF-16BE byte-order mark' };
   const wide = nulPattern(head);
-  if (wide) return { encoding: wide, bomLength: 0, note: `${wide.toUpperCase()} by its byte pattern (no byte-order mark)` };
+  if (wide)
+    return { encoding: wide, bomLength: 0, note: `${wide.toUpperCase()} by its byte pattern (no byte-order mark)` };
   if (looksBinary(head)) throw new BinaryContentError('the file holds binary content, not delimited text');
   if (declared !== 'auto') return { encoding: declared, bomLength: 0, note: `${declared} as the lab profile declares` };
   try {
@@ -118,7 +122,10 @@ export class TextChunkDecoder {
     try {
       return this.fold(this.decoder.decode());
     } catch {
-      throw new EncodingError(this.line, `the file ends inside an incomplete ${this.sniffed.encoding} character (line ${this.line})`);
+      throw new EncodingError(
+        this.line,
+        `the file ends inside an incomplete ${this.sniffed.encoding} character (line ${this.line})`,
+      );
     }
   }
 
@@ -149,9 +156,9 @@ export class TextChunkDecoder {
 
 /** Decodes a whole (small) buffer the same way, for sniffing headers. Invalid bytes become U+FFFD. */
 export function decodeHead(head: Uint8Array, sniffed: Sniffed): string {
-  const text = new TextDecoder(sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding, { fatal: false, ignoreBOM: true }).decode(
-    head.subarray(sniffed.bomLength),
-    { stream: true },
-  );
+  const text = new TextDecoder(sniffed.encoding === 'latin1' ? 'latin1' : sniffed.encoding, {
+    fatal: false,
+    ignoreBOM: true,
+  }).decode(head.subarray(sniffed.bomLength), { stream: true });
   return text.replace(/\r\n?/g, '\n');
 }

@@ -24,7 +24,14 @@ export type Delimiter = ',' | ';' | '\t' | '|';
 export const ROPE_SHEET_COLUMNS = ROPE_SHEET_OWN_NAME;
 
 export type FileKind =
-  | { kind: 'results'; lab: LabProfile; delimiter: Delimiter; headerLine: number; header: string[]; columnIndex: Map<string, number> }
+  | {
+      kind: 'results';
+      lab: LabProfile;
+      delimiter: Delimiter;
+      headerLine: number;
+      header: string[];
+      columnIndex: Map<string, number>;
+    }
   | {
       kind: 'ropes';
       delimiter: Delimiter;
@@ -61,12 +68,25 @@ function headerCells(text: string, lineIndex: number, delimiter: Delimiter): str
   }
 }
 
-function indexHeader(file: string, headerLine: number, header: string[], fold: (cell: string) => string): Map<string, number> {
+function indexHeader(
+  file: string,
+  headerLine: number,
+  header: string[],
+  fold: (cell: string) => string,
+): Map<string, number> {
   const index = new Map<string, number>();
   header.forEach((cell, position) => {
     const key = fold(cell);
     if (key === '') return;
-    if (index.has(key)) throw new IngestError('duplicate-header', file, headerLine, cell, cell, `the header names column "${cell}" twice`);
+    if (index.has(key))
+      throw new IngestError(
+        'duplicate-header',
+        file,
+        headerLine,
+        cell,
+        cell,
+        `the header names column "${cell}" twice`,
+      );
     index.set(key, position);
   });
   return index;
@@ -89,7 +109,10 @@ function missingLabColumns(lab: LabProfile, header: readonly string[]): { missin
     const missing = folded.has(foldToken(lab.columns.sampleId)) ? [] : [column(lab.columns.sampleId)];
     const names = [...lab.assays.values()].map((assay) => assay.labAssayName);
     if (!names.some((name) => folded.has(foldToken(name)))) {
-      missing.push({ field: names[0] ?? '', needs: `at least one of its value columns (${names.map((name) => `"${name}"`).join(', ')})` });
+      missing.push({
+        field: names[0] ?? '',
+        needs: `at least one of its value columns (${names.map((name) => `"${name}"`).join(', ')})`,
+      });
     }
     return { missing, required: 2 };
   }
@@ -102,7 +125,8 @@ type RopeMatch = Record<RopeSheetColumn, number[]>;
 
 function matchRopeHeader(header: readonly string[], columns: RopeSheetColumns): RopeMatch {
   const owner = new Map<string, RopeSheetColumn>();
-  for (const column of ROPE_SHEET_COLUMN_ORDER) for (const name of columns[column]) owner.set(ropeHeaderKey(name), column);
+  for (const column of ROPE_SHEET_COLUMN_ORDER)
+    for (const name of columns[column]) owner.set(ropeHeaderKey(name), column);
   const match = Object.fromEntries(ROPE_SHEET_COLUMN_ORDER.map((column) => [column, [] as number[]])) as RopeMatch;
   header.forEach((cell, position) => {
     const column = owner.get(ropeHeaderKey(cell));
@@ -115,7 +139,13 @@ function matchRopeHeader(header: readonly string[], columns: RopeSheetColumns): 
  * The rope sheet a header describes, checked: no column named twice (two cells for the hanging
  * date could each be the right one, so neither is taken), no header cell repeated.
  */
-function ropeSheetKind(fileName: string, delimiter: Delimiter, header: string[], match: RopeMatch, columns: RopeSheetColumns): FileKind {
+function ropeSheetKind(
+  fileName: string,
+  delimiter: Delimiter,
+  header: string[],
+  match: RopeMatch,
+  columns: RopeSheetColumns,
+): FileKind {
   for (const column of ROPE_SHEET_COLUMN_ORDER) {
     const cells = match[column];
     if (cells.length > 1) {
@@ -166,8 +196,14 @@ export interface HeaderSource {
  * unless the lab's fileNamePattern names the file.
  * @throws IngestError unknown-format, ambiguous-lab, missing-column, duplicate-header, empty-file.
  */
-export function detectFileKind(fileName: string, head: string, labs: readonly LabProfile[], ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS): FileKind {
-  if (head.replace(/\uFEFF/g, '').trim() === '') throw new IngestError('empty-file', fileName, undefined, undefined, undefined);
+export function detectFileKind(
+  fileName: string,
+  head: string,
+  labs: readonly LabProfile[],
+  ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS,
+): FileKind {
+  if (head.replace(/\uFEFF/g, '').trim() === '')
+    throw new IngestError('empty-file', fileName, undefined, undefined, undefined);
   const lines = head.split('\n');
   const firstLine = lines[0] ?? '';
   const firstDelimiter = guessDelimiter(firstLine);
@@ -187,26 +223,42 @@ export function detectFileKind(fileName: string, head: string, labs: readonly La
  * lines, a workbook's sheets).
  * @throws IngestError unknown-format, ambiguous-lab, missing-column, duplicate-header, no-such-sheet.
  */
-export function detectKind(fileName: string, source: HeaderSource, labs: readonly LabProfile[], ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS): FileKind {
+export function detectKind(
+  fileName: string,
+  source: HeaderSource,
+  labs: readonly LabProfile[],
+  ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS,
+): FileKind {
   const ropeDelimiter = source.first.delimiter;
   const ropeHeader = source.first.header;
   const ropeMatch = ropeHeader ? matchRopeHeader(ropeHeader, ropeColumns) : undefined;
   // A sample ID and a pen column make a header look like a rope sheet; all required columns make it one.
   const ropeLike = ropeMatch !== undefined && ropeMatch.sampleId.length > 0 && ropeMatch.pen.length > 0;
-  const ropeMissing = ropeMatch === undefined ? [] : REQUIRED_ROPE_SHEET_COLUMNS.filter((column) => ropeMatch[column].length === 0);
+  const ropeMissing =
+    ropeMatch === undefined ? [] : REQUIRED_ROPE_SHEET_COLUMNS.filter((column) => ropeMatch[column].length === 0);
   const ropeComplete = ropeLike && ropeMissing.length === 0;
 
-  type Candidate = { lab: LabProfile; delimiter: Delimiter; header: string[]; headerLine: number; byName: boolean; missing: MissingColumn[]; required: number };
+  type Candidate = {
+    lab: LabProfile;
+    delimiter: Delimiter;
+    header: string[];
+    headerLine: number;
+    byName: boolean;
+    missing: MissingColumn[];
+    required: number;
+  };
   const candidates: Candidate[] = [];
   for (const lab of labs) {
     const found = source.forLab(lab);
     const byName = lab.fileNamePattern?.test(fileName) ?? false;
     // The lab's own file name with the lab's sheet missing: told as such, not as an unknown format.
-    if (found.problem !== undefined && byName) throw new IngestError('no-such-sheet', fileName, undefined, undefined, undefined, found.problem);
+    if (found.problem !== undefined && byName)
+      throw new IngestError('no-such-sheet', fileName, undefined, undefined, undefined, found.problem);
     const header = found.header;
     if (!header) continue;
     const { missing, required } = missingLabColumns(lab, header);
-    if (byName || missing.length < required - 1) candidates.push({ lab, delimiter: found.delimiter, header, headerLine: found.line, byName, missing, required });
+    if (byName || missing.length < required - 1)
+      candidates.push({ lab, delimiter: found.delimiter, header, headerLine: found.line, byName, missing, required });
   }
   const complete = candidates.filter((candidate) => candidate.missing.length === 0);
   const named = complete.filter((candidate) => candidate.byName);
@@ -231,7 +283,14 @@ export function detectKind(fileName: string, source: HeaderSource, labs: readonl
   if (!chosen) {
     if (named.length > 1 || complete.length > 1) {
       const ids = (named.length > 1 ? named : complete).map((candidate) => candidate.lab.id).join(', ');
-      throw new IngestError('ambiguous-lab', fileName, undefined, undefined, undefined, `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`);
+      throw new IngestError(
+        'ambiguous-lab',
+        fileName,
+        undefined,
+        undefined,
+        undefined,
+        `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`,
+      );
     }
     if (ropeLike) {
       const column = ropeMissing[0]!;
@@ -250,7 +309,14 @@ export function detectKind(fileName: string, source: HeaderSource, labs: readonl
     const partial = plausible.find((candidate) => candidate.byName) ?? plausible[0];
     if (partial) {
       const column = partial.missing[0]!;
-      throw new IngestError('missing-column', fileName, partial.headerLine, column.field, undefined, `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`);
+      throw new IngestError(
+        'missing-column',
+        fileName,
+        partial.headerLine,
+        column.field,
+        undefined,
+        `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`,
+      );
     }
     throw new IngestError('unknown-format', fileName, 1, undefined, source.excerpt.slice(0, 120));
   }
@@ -264,4 +330,3 @@ export function detectKind(fileName: string, source: HeaderSource, labs: readonl
     columnIndex: indexHeader(fileName, headerLine, chosen.header, foldToken),
   };
 }
-

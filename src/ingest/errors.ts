@@ -9,13 +9,16 @@ export const REJECTION_CODES = {
   'not-csv': 'the file is not delimited text (binary content or no usable header)',
   'invalid-encoding': 'the bytes are not valid in the declared text encoding',
   'unknown-format': 'the header matches no lab profile and is not a rope sheet',
-  'ambiguous-lab': 'the header or name matches more than one lab profile, or the header reads both as a rope sheet and as a lab export',
+  'ambiguous-lab':
+    'the header or name matches more than one lab profile, or the header reads both as a rope sheet and as a lab export',
   'missing-column': 'a column the lab profile or rope sheet requires is not in the header',
   'duplicate-header': 'two header cells carry the same name, or name the same rope-sheet column',
   'file-read-error': 'the file could not be read',
-  'not-a-regular-file': 'a FIFO, socket, device, folder or a link to one of them: refused from its type, never opened, left where it is',
+  'not-a-regular-file':
+    'a FIFO, socket, device, folder or a link to one of them: refused from its type, never opened, left where it is',
   'malformed-csv': 'broken quoting or structure: the rows after it cannot be trusted, so the file is refused whole',
-  'not-a-workbook': 'named or shaped like a spreadsheet but not an Office Open XML workbook (.xlsx) that can be opened: not a zip, a damaged one, or another spreadsheet format',
+  'not-a-workbook':
+    'named or shaped like a spreadsheet but not an Office Open XML workbook (.xlsx) that can be opened: not a zip, a damaged one, or another spreadsheet format',
   'workbook-encrypted': 'a password-protected workbook: ropewatch cannot open it without the password',
   'workbook-too-large': 'a workbook beyond the size ropewatch reads whole (file or unpacked parts)',
   'no-such-sheet': 'the lab profile names a sheet the workbook does not have',
@@ -28,14 +31,16 @@ export const REJECTION_CODES = {
   'ct-out-of-range': 'the Ct is outside (0, 60] cycles, or a 0 the lab profile does not declare as not detected',
   'bad-sp': 'the S/P cell of an antibody assay is not a number (an S/P ratio has no not-detected word)',
   'sp-out-of-range': 'the S/P ratio is outside [-1, 10]',
-  'bad-date': 'a date cell does not match the profile date format, or a location-coded sample ID carries an impossible date',
+  'bad-date':
+    'a date cell does not match the profile date format, or a location-coded sample ID carries an impossible date',
   'unknown-site': 'the site is not in sites.yaml',
   'unknown-barn': 'the barn is not on that site',
   'unknown-pen': 'the pen is not in that barn layout',
   'bad-check-character': 'a planned sample ID whose check character does not match (mistyped)',
   'pen-twice-same-day': 'a second sample in the same pen on the same day',
   'sample-id-reused': 'the sample ID already names a rope in another pen or on another day',
-  'bad-pool': 'a rope-sheet pool ID that is the rope\'s own sample ID or names a rope, or a rope whose sample ID names a pool',
+  'bad-pool':
+    "a rope-sheet pool ID that is the rope's own sample ID or names a rope, or a rope whose sample ID names a pool",
   'no-collection-date': 'a sample ID that encodes its pen carries no date and the row has none',
 } as const;
 
@@ -54,7 +59,9 @@ export class IngestError extends Error {
   ) {
     super(
       `${file}${line !== undefined ? `, line ${line}` : ''}${field ? `, field "${field}"` : ''}: ${detail ?? REJECTION_CODES[code]}` +
-        (value !== undefined && value !== '' ? ` (value ${JSON.stringify(value.length > 80 ? `${value.slice(0, 80)}...` : value)})` : ''),
+        (value !== undefined && value !== ''
+          ? ` (value ${JSON.stringify(value.length > 80 ? `${value.slice(0, 80)}...` : value)})`
+          : ''),
     );
   }
 }
@@ -72,6 +79,18 @@ export interface RowRejection {
   candidateIds?: readonly string[];
 }
 
-export function rowRejection(code: RejectionCode, line: number, field: string | undefined, value: string | undefined, detail?: string): RowRejection {
-  return { line, field, code, value: value === undefined ? undefined : value.slice(0, 200), message: detail ?? REJECTION_CODES[code] };
+export function rowRejection(
+  code: RejectionCode,
+  line: number,
+  field: string | undefined,
+  value: string | undefined,
+  detail?: string,
+): RowRejection {
+  return {
+    line,
+    field,
+    code,
+    value: value === undefined ? undefined : value.slice(0, 200),
+    message: detail ?? REJECTION_CODES[code],
+  };
 }

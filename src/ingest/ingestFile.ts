@@ -40,7 +40,6 @@ export const PARSE_IN_WORKER_FROM_BYTES = 4 * 1024 * 1024;
 /** Rejected files up to this size keep their bytes in the store too. */
 const KEEP_BYTES_LIMIT = 16 * 1024 * 1024;
 
-
 export interface IngestDeps {
   config: Config;
   store: Store;
@@ -70,7 +69,8 @@ function changedSince(file: string, before: FileIdentity, name: string): string 
     return `${name} was moved or removed while it was read (${(error as NodeJS.ErrnoException).code ?? String(error)})`;
   }
   if (now.ino !== before.ino) return `${name} was replaced by another file while it was read`;
-  if (now.size !== before.size) return `${name} changed while it was read (${before.size} bytes when reading began, ${now.size} now)`;
+  if (now.size !== before.size)
+    return `${name} changed while it was read (${before.size} bytes when reading began, ${now.size} now)`;
   if (now.mtimeMs !== before.mtimeMs) return `${name} was written to while it was read (its modification time moved)`;
   return undefined;
 }
@@ -107,13 +107,13 @@ function readHead(file: string, size: number, linesNeeded: number): { head: Buff
       const text = decodeHead(head, sniffed);
       let lines = 0;
       for (let at = text.indexOf('\n'); at !== -1 && lines < linesNeeded; at = text.indexOf('\n', at + 1)) lines++;
-      if (lines >= linesNeeded || head.length >= size || head.length >= HEAD_LIMIT_BYTES) return { head, sniffed, text };
+      if (lines >= linesNeeded || head.length >= size || head.length >= HEAD_LIMIT_BYTES)
+        return { head, sniffed, text };
     }
   } finally {
     fs.closeSync(handle);
   }
 }
-
 
 /** The first bytes of a file (fewer when it is shorter): enough for a format's signature. */
 function firstBytes(file: string, count: number): Buffer {
@@ -138,11 +138,16 @@ function listInto<T>(list: T[], items: readonly T[]): number {
  * IDs one keying error away (plannedIds.ts), those of the round and site the ID as written names,
  * then those whose rope has no result yet. Undefined when no planned ID is near.
  */
-function meantFor(written: string, planned: ReadonlyMap<string, PlannedRope>, awaiting: (rope: PlannedRope) => boolean): { best: MeantId | undefined; all: MeantId[] } {
+function meantFor(
+  written: string,
+  planned: ReadonlyMap<string, PlannedRope>,
+  awaiting: (rope: PlannedRope) => boolean,
+): { best: MeantId | undefined; all: MeantId[] } {
   const all = likelyMeantIds(written, (id) => planned.has(id));
   if (all.length <= 1) return { best: all[0], all };
   const roundAndSite = /^([A-Z0-9]{1,4}[A-Z][0-9]{2,4})-/.exec(written)?.[1];
-  let narrowed = roundAndSite === undefined ? all : all.filter((candidate) => candidate.id.startsWith(`${roundAndSite}-`));
+  let narrowed =
+    roundAndSite === undefined ? all : all.filter((candidate) => candidate.id.startsWith(`${roundAndSite}-`));
   if (narrowed.length === 0) narrowed = all;
   if (narrowed.length > 1) {
     const open = narrowed.filter((candidate) => awaiting(planned.get(candidate.id)!));
@@ -185,13 +190,21 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   } catch (error) {
     const receipt = emptyReceipt(name, '', receivedAt);
     receipt.status = 'rejected';
-    receipt.reason = { code: 'file-read-error', message: `${name}: cannot be read (${(error as NodeJS.ErrnoException).code ?? String(error)})`, line: null, field: null };
+    receipt.reason = {
+      code: 'file-read-error',
+      message: `${name}: cannot be read (${(error as NodeJS.ErrnoException).code ?? String(error)})`,
+      line: null,
+      field: null,
+    };
     return receipt;
   }
   const receipt = emptyReceipt(name, sha256, receivedAt);
   /** Throws FileStillChangingError (after rolling back) when the file moved on since `before`. */
   const requireUnchanged = (): void => {
-    const why = size !== before.size ? `${name} grew while it was hashed (${before.size} bytes, then ${size})` : changedSince(file, before, name);
+    const why =
+      size !== before.size
+        ? `${name} grew while it was hashed (${before.size} bytes, then ${size})`
+        : changedSince(file, before, name);
     if (why === undefined) return;
     deps.store.rollback();
     throw new FileStillChangingError(`${why}; nothing was stored and the file stays in the inbox for the next run`);
@@ -201,8 +214,15 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     receipt.status = 'duplicate';
     receipt.kind = known.kind;
     receipt.lab = known.labId;
-    receipt.warnings.push(`the same bytes arrived before as ${known.name} on ${known.receivedAt}; nothing stored twice`);
-    receipt.reason = { code: 'duplicate-file', message: `${name}: the same bytes were stored before as ${known.name} on ${known.receivedAt}; nothing stored twice`, line: null, field: null };
+    receipt.warnings.push(
+      `the same bytes arrived before as ${known.name} on ${known.receivedAt}; nothing stored twice`,
+    );
+    receipt.reason = {
+      code: 'duplicate-file',
+      message: `${name}: the same bytes were stored before as ${known.name} on ${known.receivedAt}; nothing stored twice`,
+      line: null,
+      field: null,
+    };
     return receipt;
   };
   // Bytes refused before are read again with the configuration of today: the refusal may have
@@ -217,7 +237,10 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
         ? []
         : deps.store.openRefusals(known.id).filter((refusal) => {
             const id = refusal.value === null ? '' : normaliseSampleId(refusal.value);
-            return corrections.some((correction) => correction.written === id && (correction.line === undefined || correction.line === refusal.line));
+            return corrections.some(
+              (correction) =>
+                correction.written === id && (correction.line === undefined || correction.line === refusal.line),
+            );
           });
     if (covered.length === 0) return alreadyStored(known);
     reopen = known.id;
@@ -226,7 +249,9 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     );
   }
   if (known?.status === 'rejected') {
-    receipt.warnings.push(`the same bytes were refused before (as ${known.name} on ${known.receivedAt}: ${known.reasonCode ?? 'no code'}); read again with the current configuration`);
+    receipt.warnings.push(
+      `the same bytes were refused before (as ${known.name} on ${known.receivedAt}: ${known.reasonCode ?? 'no code'}); read again with the current configuration`,
+    );
   }
 
   const reject = (error: IngestError, labId: string | null): Receipt => {
@@ -254,14 +279,28 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     return receipt;
   };
 
-  if (size === 0) return reject(new IngestError('empty-file', name, undefined, undefined, undefined, 'the file is empty (0 bytes)'), null);
+  if (size === 0)
+    return reject(
+      new IngestError('empty-file', name, undefined, undefined, undefined, 'the file is empty (0 bytes)'),
+      null,
+    );
 
   let kind: FileKind;
   let sniffed: Sniffed;
   let workbook: { opened: OpenedWorkbook; found: WorkbookKind } | undefined;
   if (isWorkbookFile(name, firstBytes(file, 8))) {
     if (size > WORKBOOK_MAX_BYTES) {
-      return reject(new IngestError('workbook-too-large', name, undefined, undefined, undefined, `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`), null);
+      return reject(
+        new IngestError(
+          'workbook-too-large',
+          name,
+          undefined,
+          undefined,
+          undefined,
+          `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
+        ),
+        null,
+      );
     }
     try {
       // Read from exactly the bytes hashed: the workbook parsed is the one the hash names.
@@ -269,7 +308,10 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       workbook = { opened, found: detectWorkbook(name, opened, deps.config.labs, deps.config.ropeSheet.columns) };
     } catch (error) {
       if (error instanceof IngestError) return reject(error, null);
-      if (error instanceof FileChangedError) throw new FileStillChangingError(`${error.message}; nothing was stored and the file stays in the inbox for the next run`);
+      if (error instanceof FileChangedError)
+        throw new FileStillChangingError(
+          `${error.message}; nothing was stored and the file stays in the inbox for the next run`,
+        );
       throw error;
     }
     kind = workbook.found.kind;
@@ -284,12 +326,18 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       sniffed = read.sniffed;
       const text = read.text;
       kind = detectFileKind(name, text, deps.config.labs, deps.config.ropeSheet.columns);
-      if (kind.kind === 'results' && kind.lab.encoding !== 'auto' && sniffed.bomLength === 0 && !sniffed.note.includes('byte pattern')) {
+      if (
+        kind.kind === 'results' &&
+        kind.lab.encoding !== 'auto' &&
+        sniffed.bomLength === 0 &&
+        !sniffed.note.includes('byte pattern')
+      ) {
         sniffed = sniffEncoding(head, kind.lab.encoding);
       }
     } catch (error) {
       if (error instanceof IngestError) return reject(error, null);
-      if (error instanceof BinaryContentError) return reject(new IngestError('not-csv', name, undefined, undefined, undefined, error.message), null);
+      if (error instanceof BinaryContentError)
+        return reject(new IngestError('not-csv', name, undefined, undefined, undefined, error.message), null);
       throw error;
     }
   }
@@ -299,15 +347,18 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
 
   let fileId: number;
   try {
-    fileId = deps.store.beginFile({
-      name,
-      sha256,
-      kind: kind.kind,
-      labId: receipt.lab,
-      receivedAt,
-      encodingNote: sniffed.note,
-      byteLength: size,
-    }, reopen === undefined ? {} : { reopen });
+    fileId = deps.store.beginFile(
+      {
+        name,
+        sha256,
+        kind: kind.kind,
+        labId: receipt.lab,
+        receivedAt,
+        encodingNote: sniffed.note,
+        byteLength: size,
+      },
+      reopen === undefined ? {} : { reopen },
+    );
   } catch (error) {
     // Another process stored the same bytes while this one waited for the write lock.
     if (error instanceof FileAlreadyStoredError) return alreadyStored(error.known);
@@ -318,7 +369,11 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     const awaitingBySite = new Map<string, Set<string>>();
     const awaiting = (rope: PlannedRope): boolean => {
       let ids = awaitingBySite.get(rope.siteId);
-      if (ids === undefined) awaitingBySite.set(rope.siteId, (ids = new Set(deps.store.plannedWithoutResults(rope.siteId).map((open) => open.sampleId))));
+      if (ids === undefined)
+        awaitingBySite.set(
+          rope.siteId,
+          (ids = new Set(deps.store.plannedWithoutResults(rope.siteId).map((open) => open.sampleId))),
+        );
       return ids.has(rope.sampleId);
     };
     /** Names the planned ID a mistyped one most likely meant (refusals are few: looked up on demand). */
@@ -367,7 +422,10 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       }
     };
     const store = (batch: MappedBatch) => {
-      const counts = kind.kind === 'results' ? deps.store.insertResults(fileId, batch.results, kind.lab.columns.sampleId) : deps.store.insertRopes(fileId, batch.ropes);
+      const counts =
+        kind.kind === 'results'
+          ? deps.store.insertResults(fileId, batch.results, kind.lab.columns.sampleId)
+          : deps.store.insertRopes(fileId, batch.ropes);
       receipt.rows.accepted += counts.inserted;
       receipt.rows.duplicate += counts.duplicates;
       receipt.rows.superseded += counts.superseded;
@@ -377,14 +435,30 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
       receipt.supersessionsNotListed! += listInto(receipt.supersessions!, counts.supersessions);
       listInto(receipt.sampleIdCorrections!, counts.idCorrections);
       for (const rope of batch.ropes) {
-        if (rope.sampleIdAsWritten !== null) listInto(receipt.sampleIdCorrections!, [{ line: rope.line, written: rope.sampleIdAsWritten, meant: rope.sampleId }]);
+        if (rope.sampleIdAsWritten !== null)
+          listInto(receipt.sampleIdCorrections!, [
+            { line: rope.line, written: rope.sampleIdAsWritten, meant: rope.sampleId },
+          ]);
       }
       addRejections(batch.rejections);
       addRejections(counts.rejections);
     };
 
-    const input: MappingInput = { file, expected: { bytes: size, sha256 }, fileName: name, sniffed, kind, sites: deps.config.sites, assayById: deps.config.assayById, corrections };
-    const batches = workbook ? workbookBatches(input, workbook.opened, workbook.found, BATCH_ROWS) : worker ? worker.batches(input) : mappedBatches(input);
+    const input: MappingInput = {
+      file,
+      expected: { bytes: size, sha256 },
+      fileName: name,
+      sniffed,
+      kind,
+      sites: deps.config.sites,
+      assayById: deps.config.assayById,
+      corrections,
+    };
+    const batches = workbook
+      ? workbookBatches(input, workbook.opened, workbook.found, BATCH_ROWS)
+      : worker
+        ? worker.batches(input)
+        : mappedBatches(input);
     for await (const batch of batches) store(batch);
     if (mistyped.length > 0) {
       addRejections(mistyped.map(withSuggestion), false);
@@ -392,9 +466,23 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     }
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
-      return reject(new IngestError('empty-file', name, kind.headerLine, undefined, undefined, 'the file has a header but no data rows'), receipt.lab);
+      return reject(
+        new IngestError(
+          'empty-file',
+          name,
+          kind.headerLine,
+          undefined,
+          undefined,
+          'the file has a header but no data rows',
+        ),
+        receipt.lab,
+      );
     }
-    deps.store.finishFile(fileId, { accepted: receipt.rows.accepted, rejected: receipt.rows.rejected, duplicate: receipt.rows.duplicate });
+    deps.store.finishFile(fileId, {
+      accepted: receipt.rows.accepted,
+      rejected: receipt.rows.rejected,
+      duplicate: receipt.rows.duplicate,
+    });
 
     const effects = deps.store.openFileEffects();
     if (kind.kind === 'results') {
@@ -412,14 +500,33 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     if (error instanceof FileStillChangingError) throw error;
     if (error instanceof FileChangedError) {
       deps.store.rollback();
-      throw new FileStillChangingError(`${error.message}; nothing was stored and the file stays in the inbox for the next run`);
+      throw new FileStillChangingError(
+        `${error.message}; nothing was stored and the file stays in the inbox for the next run`,
+      );
     }
     if (error instanceof EncodingError) {
-      return reject(new IngestError('invalid-encoding', name, error.line, undefined, undefined, `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`), receipt.lab);
+      return reject(
+        new IngestError(
+          'invalid-encoding',
+          name,
+          error.line,
+          undefined,
+          undefined,
+          `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`,
+        ),
+        receipt.lab,
+      );
     }
     if (error instanceof UnclosedQuoteError || error instanceof RecordTooLongError) {
       return reject(
-        new IngestError('malformed-csv', name, error.line, undefined, undefined, `the file is not well-formed CSV (${error.message}); rows after it cannot be trusted`),
+        new IngestError(
+          'malformed-csv',
+          name,
+          error.line,
+          undefined,
+          undefined,
+          `the file is not well-formed CSV (${error.message}); rows after it cannot be trusted`,
+        ),
         receipt.lab,
       );
     }

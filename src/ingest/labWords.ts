@@ -26,7 +26,12 @@ type Meaning = { kind: 'call'; cls: CallClass } | { kind: 'control' } | { kind: 
 
 const STATUS_RANK: Readonly<Record<ReportStatusKind, number>> = { final: 1, preliminary: 2, corrected: 3 };
 const CACHE_LIMIT = 10_000;
-const NOTHING: CellWords = Object.freeze({ call: undefined, controlFailed: undefined, status: undefined, statusWord: undefined });
+const NOTHING: CellWords = Object.freeze({
+  call: undefined,
+  controlFailed: undefined,
+  status: undefined,
+  statusWord: undefined,
+});
 
 export class LabWords {
   private readonly matcher: WordMatcher<Meaning>;
@@ -35,8 +40,10 @@ export class LabWords {
   constructor(lab: Pick<LabProfile, 'callWords' | 'statusWords' | 'controlFailedTokens'>) {
     const entries: [string, Meaning][] = [];
     for (const word of lab.controlFailedTokens) entries.push([word, { kind: 'control' }]);
-    for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const) for (const word of lab.callWords[cls]) entries.push([word, { kind: 'call', cls }]);
-    for (const status of ['preliminary', 'final', 'corrected'] as const) for (const word of lab.statusWords[status]) entries.push([word, { kind: 'status', status }]);
+    for (const cls of ['positive', 'suspect', 'negative', 'invalid'] as const)
+      for (const word of lab.callWords[cls]) entries.push([word, { kind: 'call', cls }]);
+    for (const status of ['preliminary', 'final', 'corrected'] as const)
+      for (const word of lab.statusWords[status]) entries.push([word, { kind: 'status', status }]);
     this.matcher = new WordMatcher(entries);
   }
 

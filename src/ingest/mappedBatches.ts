@@ -11,7 +11,14 @@ import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
 import type { RowRejection } from './errors.js';
 import { plannedIdChecker } from './plannedIds.js';
-import { mapResultRow, mapRopeRow, type ResultContext, type ResultRow, type RopeContext, type RopeRow } from './rows.js';
+import {
+  mapResultRow,
+  mapRopeRow,
+  type ResultContext,
+  type ResultRow,
+  type RopeContext,
+  type RopeRow,
+} from './rows.js';
 import { mapWideRow, wideLayout, type WideLayout } from './wideRows.js';
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */
@@ -83,9 +90,27 @@ export function recordTaker(input: MappingSetup): RecordTaker {
   const plannedIdCheck = plannedIdChecker(input);
   const width = kind.header.length;
   const resultContext: ResultContext | undefined =
-    kind.kind === 'results' ? { fileName: input.fileName, lab: kind.lab, columnIndex: kind.columnIndex, assayById: input.assayById, sites: input.sites, plannedIdCheck } : undefined;
-  const ropeContext: RopeContext = { fileName: input.fileName, columnIndex: kind.columnIndex, columnNames: kind.kind === 'ropes' ? kind.columnNames : undefined, sites: input.sites, plannedIdCheck };
-  const wide: WideLayout | undefined = resultContext !== undefined && resultContext.lab.layout === 'wide' ? wideLayout(resultContext, kind.header) : undefined;
+    kind.kind === 'results'
+      ? {
+          fileName: input.fileName,
+          lab: kind.lab,
+          columnIndex: kind.columnIndex,
+          assayById: input.assayById,
+          sites: input.sites,
+          plannedIdCheck,
+        }
+      : undefined;
+  const ropeContext: RopeContext = {
+    fileName: input.fileName,
+    columnIndex: kind.columnIndex,
+    columnNames: kind.kind === 'ropes' ? kind.columnNames : undefined,
+    sites: input.sites,
+    plannedIdCheck,
+  };
+  const wide: WideLayout | undefined =
+    resultContext !== undefined && resultContext.lab.layout === 'wide'
+      ? wideLayout(resultContext, kind.header)
+      : undefined;
   let batch: MappedBatch<ResultRow[]> = { results: [], ropes: [], rejections: [] };
   const size = () => batch.results.length + batch.ropes.length + batch.rejections.length;
 
@@ -134,7 +159,10 @@ export function recordTaker(input: MappingSetup): RecordTaker {
  * @throws EncodingError, UnclosedQuoteError, RecordTooLongError (the file cannot be trusted past that line);
  *   FileChangedError when the bytes read are not the bytes expected
  */
-export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS): AsyncGenerator<MappedBatch<ResultRow[]>> {
+export async function* mappedBatches(
+  input: MappingInput,
+  batchRows = BATCH_ROWS,
+): AsyncGenerator<MappedBatch<ResultRow[]>> {
   const { kind } = input;
   const taker = recordTaker(input);
   const decoder = new TextChunkDecoder(input.sniffed);
@@ -151,7 +179,11 @@ export async function* mappedBatches(input: MappingInput, batchRows = BATCH_ROWS
   let parsedBytes = 0;
   const { expected } = input;
   // `end` is inclusive (Node fs.createReadStream); bytes appended after hashing are not read.
-  for await (const chunk of fs.createReadStream(input.file, { highWaterMark: READ_CHUNK_BYTES, start: 0, end: Math.max(expected.bytes - 1, 0) })) {
+  for await (const chunk of fs.createReadStream(input.file, {
+    highWaterMark: READ_CHUNK_BYTES,
+    start: 0,
+    end: Math.max(expected.bytes - 1, 0),
+  })) {
     parsedHash.update(chunk as Buffer);
     parsedBytes += (chunk as Buffer).length;
     reader.push(decoder.decode(chunk as Buffer), records);

@@ -24,7 +24,11 @@ function withPatterns(input: MappingInput): MappingInput {
   const sites = input.sites.map((site) => ({ ...site, samplePattern: revivePattern(site.samplePattern) }));
   const { kind } = input;
   if (kind.kind !== 'results') return { ...input, sites };
-  return { ...input, sites, kind: { ...kind, lab: { ...kind.lab, fileNamePattern: revivePattern(kind.lab.fileNamePattern) } } };
+  return {
+    ...input,
+    sites,
+    kind: { ...kind, lab: { ...kind.lab, fileNamePattern: revivePattern(kind.lab.fileNamePattern) } },
+  };
 }
 
 async function read(input: MappingInput): Promise<void> {

@@ -9,7 +9,9 @@ import type { PlannedIdCheck } from './rows.js';
  * an ID a person confirmed as mistyped is read as the ID it meant, on the line named or on every
  * line when none is.
  */
-export function plannedIdChecker(config: Pick<Config, 'sites'> & { corrections?: readonly SampleIdCorrection[] | undefined }): PlannedIdCheck {
+export function plannedIdChecker(
+  config: Pick<Config, 'sites'> & { corrections?: readonly SampleIdCorrection[] | undefined },
+): PlannedIdCheck {
   const codes = config.sites.map((site) => site.code);
   const corrections = new Map<string, SampleIdCorrection[]>();
   for (const correction of config.corrections ?? []) {
@@ -22,14 +24,18 @@ export function plannedIdChecker(config: Pick<Config, 'sites'> & { corrections?:
       const listed = corrections.get(sampleId);
       if (listed !== undefined) {
         // A correction for this very line wins over one for the ID anywhere in the file.
-        const correction = listed.find((entry) => entry.line === line) ?? listed.find((entry) => entry.line === undefined);
+        const correction =
+          listed.find((entry) => entry.line === line) ?? listed.find((entry) => entry.line === undefined);
         if (correction !== undefined) return { kind: 'corrected', canonical: correction.meant, written: sampleId };
       }
     }
     if (!looksLikePlannedId(sampleId)) return { kind: 'other' };
     const parsed = parseSampleId(sampleId);
-    if (parsed.ok) return codes.includes(parsed.siteCode) ? { kind: 'planned', canonical: parsed.id } : { kind: 'other' };
-    return codes.some((code) => sampleId.startsWith(code) && /^\d/.test(sampleId.slice(code.length))) ? { kind: 'bad-check' } : { kind: 'other' };
+    if (parsed.ok)
+      return codes.includes(parsed.siteCode) ? { kind: 'planned', canonical: parsed.id } : { kind: 'other' };
+    return codes.some((code) => sampleId.startsWith(code) && /^\d/.test(sampleId.slice(code.length)))
+      ? { kind: 'bad-check' }
+      : { kind: 'other' };
   };
 }
 
@@ -38,7 +44,10 @@ export function plannedIdChecker(config: Pick<Config, 'sites'> & { corrections?:
  * arrived under or by the name its bytes were first stored as (a file read again from
  * inbox/archive/ may carry a hash in its name there).
  */
-export function correctionsForFile(corrections: readonly SampleIdCorrection[], names: readonly string[]): SampleIdCorrection[] {
+export function correctionsForFile(
+  corrections: readonly SampleIdCorrection[],
+  names: readonly string[],
+): SampleIdCorrection[] {
   return corrections.filter((correction) => correction.file === undefined || names.includes(correction.file));
 }
 

@@ -33,7 +33,11 @@ export { canonicalPenKey };
 export type PlannedIdCheck = (
   sampleId: string,
   line: number,
-) => { kind: 'planned'; canonical: string } | { kind: 'corrected'; canonical: string; written: string } | { kind: 'bad-check' } | { kind: 'other' };
+) =>
+  | { kind: 'planned'; canonical: string }
+  | { kind: 'corrected'; canonical: string; written: string }
+  | { kind: 'bad-check' }
+  | { kind: 'other' };
 
 const ISO_DATE = 'yyyy-MM-dd';
 const REFERENCE_DATE = new Date(2000, 0, 1);
@@ -65,9 +69,16 @@ function parseDateUncached(text: string, dateFormat: string): string | undefined
     return real && year >= 1990 && year <= 2200 ? trimmed : undefined;
   }
   if (trimmed === '') return undefined;
-  for (const candidate of [dateFormat, ISO_DATE, `${ISO_DATE}'T'HH:mm:ss`, `${ISO_DATE} HH:mm:ss`, `${ISO_DATE} HH:mm`]) {
+  for (const candidate of [
+    dateFormat,
+    ISO_DATE,
+    `${ISO_DATE}'T'HH:mm:ss`,
+    `${ISO_DATE} HH:mm:ss`,
+    `${ISO_DATE} HH:mm`,
+  ]) {
     const parsed = parseDate(trimmed, candidate, REFERENCE_DATE);
-    if (isValid(parsed) && parsed.getFullYear() >= 1990 && parsed.getFullYear() <= 2200) return formatDate(parsed, ISO_DATE);
+    if (isValid(parsed) && parsed.getFullYear() >= 1990 && parsed.getFullYear() <= 2200)
+      return formatDate(parsed, ISO_DATE);
   }
   // Date-times written with the profile's date format and a time after it.
   const firstPart = trimmed.split(/[ T]/)[0]!;
@@ -166,7 +177,9 @@ interface FileMemo {
   ctMeanings: Map<LabAssay, Map<string, CtMeaning>>;
   ctMeaningCount: number;
   /** The last sample ID placed by pattern: a sample's assays come on neighbouring rows. */
-  lastLocated: { sampleId: string; fallbackDate: string | undefined; located: ReturnType<typeof locationFromPattern> } | undefined;
+  lastLocated:
+    | { sampleId: string; fallbackDate: string | undefined; located: ReturnType<typeof locationFromPattern> }
+    | undefined;
 }
 const CT_MEANING_LIMIT = 20_000;
 const memoByContext = new WeakMap<ResultContext, FileMemo>();
@@ -174,8 +187,17 @@ const memoByContext = new WeakMap<ResultContext, FileMemo>();
 function fileMemo(context: ResultContext): FileMemo {
   let memo = memoByContext.get(context);
   if (!memo) {
-    const entries = Object.entries(context.lab.columns).map(([name, column]) => [name, column === undefined ? undefined : context.columnIndex.get(foldToken(column))]);
-    const statusPositions = [...new Set(context.lab.statusColumns.map((column) => context.columnIndex.get(foldToken(column))).filter((at): at is number => at !== undefined))];
+    const entries = Object.entries(context.lab.columns).map(([name, column]) => [
+      name,
+      column === undefined ? undefined : context.columnIndex.get(foldToken(column)),
+    ]);
+    const statusPositions = [
+      ...new Set(
+        context.lab.statusColumns
+          .map((column) => context.columnIndex.get(foldToken(column)))
+          .filter((at): at is number => at !== undefined),
+      ),
+    ];
     memo = {
       positions: Object.fromEntries(entries) as Record<ColumnName, number | undefined>,
       statusPositions,
@@ -223,7 +245,11 @@ type EncodedLocation = RopeLocation | UnknownEncodedPen | 'no-date' | 'bad-date'
  * A pen the barn lacks is returned as such (when no other site places the ID), never read as
  * "no location": the label names a place, and that place does not exist.
  */
-export function locationFromPattern(sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): EncodedLocation {
+export function locationFromPattern(
+  sampleId: string,
+  sites: readonly Site[],
+  fallbackDate: string | undefined,
+): EncodedLocation {
   // One pass over the ID finds the sites whose pattern matches (usually none or one); only
   // those are asked for their groups.
   const candidates = patternSites(sites);
@@ -235,7 +261,9 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
   const matched = [...matching].sort((a, b) => a - b).map((index) => candidates.sites[index]!);
   const last = lastPatternSite.get(sites);
   let unknown: UnknownEncodedPen | undefined;
-  for (const site of last !== undefined && matched.includes(last) ? [last, ...matched.filter((other) => other !== last)] : matched) {
+  for (const site of last !== undefined && matched.includes(last)
+    ? [last, ...matched.filter((other) => other !== last)]
+    : matched) {
     const located = locationInSite(site, sampleId, fallbackDate, sites);
     if (located !== undefined && typeof located === 'object' && 'unknownPen' in located) unknown ??= located;
     else if (located !== undefined) return located;
@@ -244,7 +272,12 @@ export function locationFromPattern(sampleId: string, sites: readonly Site[], fa
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
 
-function locationInSite(site: Site, sampleId: string, fallbackDate: string | undefined, sites: readonly Site[]): EncodedLocation {
+function locationInSite(
+  site: Site,
+  sampleId: string,
+  fallbackDate: string | undefined,
+  sites: readonly Site[],
+): EncodedLocation {
   const groups = site.samplePattern?.exec(sampleId);
   // An optional group (barn or pen) that took no part in the match places nothing.
   const barnText = groups?.['barn'];
@@ -264,7 +297,12 @@ function locationInSite(site: Site, sampleId: string, fallbackDate: string | und
   return { siteId: site.id, barnId: barn.id, penId: pen.id, hungOn };
 }
 
-function locateOnce(memo: FileMemo, sampleId: string, sites: readonly Site[], fallbackDate: string | undefined): ReturnType<typeof locationFromPattern> {
+function locateOnce(
+  memo: FileMemo,
+  sampleId: string,
+  sites: readonly Site[],
+  fallbackDate: string | undefined,
+): ReturnType<typeof locationFromPattern> {
   const last = memo.lastLocated;
   if (last !== undefined && last.sampleId === sampleId && last.fallbackDate === fallbackDate) return last.located;
   const located = locationFromPattern(sampleId, sites, fallbackDate);
@@ -277,7 +315,13 @@ function cellAt(cells: readonly string[], position: number | undefined): string 
   return position === undefined ? undefined : (cells[position] ?? '').trim();
 }
 
-function refuse(code: RejectionCode, line: number, field: string | undefined, value: string | undefined, detail?: string): { ok: false; rejection: RowRejection } {
+function refuse(
+  code: RejectionCode,
+  line: number,
+  field: string | undefined,
+  value: string | undefined,
+  detail?: string,
+): { ok: false; rejection: RowRejection } {
   return { ok: false, rejection: rowRejection(code, line, field, value, detail) };
 }
 
@@ -327,7 +371,10 @@ function readStatusCells(cells: readonly string[], memo: FileMemo, into: RowWord
       into.controlFailed = read.controlFailed;
       into.controlCell = cell;
     }
-    if (read.status !== undefined && (into.status === undefined || STATUS_RANK[read.status] > STATUS_RANK[into.status])) {
+    if (
+      read.status !== undefined &&
+      (into.status === undefined || STATUS_RANK[read.status] > STATUS_RANK[into.status])
+    ) {
       into.status = read.status;
       into.statusWord = read.statusWord;
     }
@@ -356,7 +403,13 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const normalised = normaliseSampleId(rawSample);
   const checked = context.plannedIdCheck(normalised, line);
   if (checked.kind === 'bad-check') {
-    return refuse('bad-check-character', line, columns.sampleId, rawSample, `sample ID ${rawSample} fails its check character: probably mistyped on the tube or at the lab`);
+    return refuse(
+      'bad-check-character',
+      line,
+      columns.sampleId,
+      rawSample,
+      `sample ID ${rawSample} fails its check character: probably mistyped on the tube or at the lab`,
+    );
   }
   const sampleId = checked.kind === 'planned' || checked.kind === 'corrected' ? checked.canonical : normalised;
   const labAssayName = cellAt(cells, at.assay) ?? '';
@@ -376,7 +429,13 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const collectedOn = dateAt(cells, at.collectedOn, lab.dateFormat);
   if (collectedOn === undefined) {
     const text = cellAt(cells, at.collectedOn)!;
-    return refuse('bad-date', line, columns.collectedOn, text, `"${text}" does not match date format ${lab.dateFormat}`);
+    return refuse(
+      'bad-date',
+      line,
+      columns.collectedOn,
+      text,
+      `"${text}" does not match date format ${lab.dateFormat}`,
+    );
   }
   const reportedOn = dateAt(cells, at.reportedOn, lab.dateFormat);
   if (reportedOn === undefined) {
@@ -411,9 +470,21 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   let interpretation = meaning.interpretation;
   if (rowWords.controlFailed !== undefined) {
     // The control failed: invalid (retest), never negative, whatever the Ct cell says.
-    interpretation = classify(reading, labAssay, assay, rowWords.controlCell === rowWords.controlFailed ? rowWords.controlFailed : `"${rowWords.controlFailed}" in "${rowWords.controlCell}"`);
+    interpretation = classify(
+      reading,
+      labAssay,
+      assay,
+      rowWords.controlCell === rowWords.controlFailed
+        ? rowWords.controlFailed
+        : `"${rowWords.controlFailed}" in "${rowWords.controlCell}"`,
+    );
   } else if (labCallClass === 'invalid') {
-    interpretation = { resultClass: 'invalid', reason: `the lab called it invalid ("${labCall}"): retest, not a result`, loadBand: undefined, load: 0 };
+    interpretation = {
+      resultClass: 'invalid',
+      reason: `the lab called it invalid ("${labCall}"): retest, not a result`,
+      loadBand: undefined,
+      load: 0,
+    };
   } else if (reading.kind === 'not-detected' && ctRaw === '' && at.call !== undefined && labCallClass !== 'negative') {
     // A blank Ct is "not detected" for this lab only when its own call says negative: a blank
     // beside a call that is not a negative word (a pending row, a call ropewatch cannot read)
@@ -434,10 +505,22 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
 
   const located = locateOnce(memo, sampleId, context.sites, collectedOn ?? undefined);
   if (located === 'no-date') {
-    return refuse('no-collection-date', line, columns.sampleId, rawSample, `sample ID ${rawSample} names its pen but no date, and the row has no collection date`);
+    return refuse(
+      'no-collection-date',
+      line,
+      columns.sampleId,
+      rawSample,
+      `sample ID ${rawSample} names its pen but no date, and the row has no collection date`,
+    );
   }
   if (located === 'bad-date') {
-    return refuse('bad-date', line, columns.sampleId, rawSample, `sample ID ${rawSample} carries a date that does not exist (yyyymmdd expected)`);
+    return refuse(
+      'bad-date',
+      line,
+      columns.sampleId,
+      rawSample,
+      `sample ID ${rawSample} carries a date that does not exist (yyyymmdd expected)`,
+    );
   }
   if (located !== undefined && 'unknownPen' in located) {
     return refuse(
@@ -481,7 +564,15 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       labCallClass: labCallClass ?? null,
       callDiffers,
       sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
-      contentKey: contentKey([foldToken(labAssayName), ctRaw, labCall ?? '', accession ?? '', reportedOn ?? '', reportStatus ?? '', control ?? '']),
+      contentKey: contentKey([
+        foldToken(labAssayName),
+        ctRaw,
+        labCall ?? '',
+        accession ?? '',
+        reportedOn ?? '',
+        reportStatus ?? '',
+        control ?? '',
+      ]),
       encodedRope: located,
     },
   };
@@ -514,7 +605,9 @@ export interface RopeContext {
 
 function findSite(sites: readonly Site[], text: string): Site | undefined {
   const folded = foldToken(text);
-  return sites.find((site) => foldToken(site.id) === folded || foldToken(site.code) === folded || foldToken(site.name) === folded);
+  return sites.find(
+    (site) => foldToken(site.id) === folded || foldToken(site.code) === folded || foldToken(site.name) === folded,
+  );
 }
 
 /** Maps one rope-sheet record (sample_id, site, barn, pen, hung_on, optional notes and pool, under whatever header names the sheet gives them). */
@@ -525,23 +618,52 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
   };
   // Only a refused row looks up its field's header name: nothing per accepted row.
   const reject = (code: Parameters<typeof rowRejection>[0], column: string, value: string, detail?: string) =>
-    ({ ok: false, rejection: rowRejection(code, line, context.columnNames?.get(column) ?? column, value, detail) }) as const;
+    ({
+      ok: false,
+      rejection: rowRejection(code, line, context.columnNames?.get(column) ?? column, value, detail),
+    }) as const;
   const rawSample = get('sample_id');
   if (rawSample === '') return reject('missing-value', 'sample_id', rawSample, 'the sample ID is empty');
   const checked = context.plannedIdCheck(normaliseSampleId(rawSample), line);
   if (checked.kind === 'bad-check') {
-    return reject('bad-check-character', 'sample_id', rawSample, `sample ID ${rawSample} fails its check character: probably mistyped`);
+    return reject(
+      'bad-check-character',
+      'sample_id',
+      rawSample,
+      `sample ID ${rawSample} fails its check character: probably mistyped`,
+    );
   }
-  const sampleId = checked.kind === 'planned' || checked.kind === 'corrected' ? checked.canonical : normaliseSampleId(rawSample);
+  const sampleId =
+    checked.kind === 'planned' || checked.kind === 'corrected' ? checked.canonical : normaliseSampleId(rawSample);
   const siteText = get('site');
   const site = findSite(context.sites, siteText);
-  if (!site) return reject(siteText === '' ? 'missing-value' : 'unknown-site', 'site', siteText, siteText === '' ? 'the site is empty' : `no site "${siteText}" in sites.yaml`);
+  if (!site)
+    return reject(
+      siteText === '' ? 'missing-value' : 'unknown-site',
+      'site',
+      siteText,
+      siteText === '' ? 'the site is empty' : `no site "${siteText}" in sites.yaml`,
+    );
   const barnText = get('barn');
-  const barn = site.barnById.get(barnText.toUpperCase()) ?? site.barns.find((candidate) => foldToken(candidate.name) === foldToken(barnText));
-  if (!barn) return reject(barnText === '' ? 'missing-value' : 'unknown-barn', 'barn', barnText, `site ${site.id} has no barn "${barnText}"`);
+  const barn =
+    site.barnById.get(barnText.toUpperCase()) ??
+    site.barns.find((candidate) => foldToken(candidate.name) === foldToken(barnText));
+  if (!barn)
+    return reject(
+      barnText === '' ? 'missing-value' : 'unknown-barn',
+      'barn',
+      barnText,
+      `site ${site.id} has no barn "${barnText}"`,
+    );
   const penText = get('pen');
   const pen = barn.penByKey.get(canonicalPenKey(penText));
-  if (!pen) return reject(penText === '' ? 'missing-value' : 'unknown-pen', 'pen', penText, `barn ${barn.id} on site ${site.id} has no pen "${penText}"`);
+  if (!pen)
+    return reject(
+      penText === '' ? 'missing-value' : 'unknown-pen',
+      'pen',
+      penText,
+      `barn ${barn.id} on site ${site.id} has no pen "${penText}"`,
+    );
   const dateText = get('hung_on');
   if (dateText === '') return reject('missing-value', 'hung_on', dateText, 'the date the rope was hung is empty');
   const hungOn = parseDateCell(dateText, 'dd.MM.yyyy');
@@ -551,10 +673,22 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
   let poolId: string | null = null;
   if (poolText !== '') {
     const pool = context.plannedIdCheck(normaliseSampleId(poolText), line);
-    if (pool.kind === 'bad-check') return reject('bad-check-character', 'pool', poolText, `pool ID ${poolText} fails its check character: probably mistyped`);
+    if (pool.kind === 'bad-check')
+      return reject(
+        'bad-check-character',
+        'pool',
+        poolText,
+        `pool ID ${poolText} fails its check character: probably mistyped`,
+      );
     poolId = pool.kind === 'planned' || pool.kind === 'corrected' ? pool.canonical : normaliseSampleId(poolText);
     // A pool ID names the pool's tube: the rope's own ID would make one tube two things.
-    if (poolId === sampleId) return reject('bad-pool', 'pool', poolText, `pool ID ${poolText} is the rope's own sample ID; a pool gets an ID of its own`);
+    if (poolId === sampleId)
+      return reject(
+        'bad-pool',
+        'pool',
+        poolText,
+        `pool ID ${poolText} is the rope's own sample ID; a pool gets an ID of its own`,
+      );
   }
   return {
     ok: true,
@@ -567,7 +701,10 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
       hungOn,
       note: notes === '' ? null : notes,
       sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
-      warning: pen.status === 'in-use' ? undefined : `pen ${pen.id} is listed as ${pen.status} in the layout; the rope is kept`,
+      warning:
+        pen.status === 'in-use'
+          ? undefined
+          : `pen ${pen.id} is listed as ${pen.status} in the layout; the rope is kept`,
       poolId,
     },
   };

@@ -48,7 +48,12 @@ export function wideLayout(base: ResultContext, header: readonly string[]): Wide
     const columnIndex = new Map(base.columnIndex);
     columnIndex.set(foldToken(ASSAY_KEY), width);
     const lab = { ...base.lab, columns: { ...base.lab.columns, assay: ASSAY_KEY, result: header[position]! } };
-    columns.push({ position, header: header[position]!, labAssayName: labAssay.labAssayName, context: { ...base, lab, columnIndex } });
+    columns.push({
+      position,
+      header: header[position]!,
+      labAssayName: labAssay.labAssayName,
+      context: { ...base, lab, columnIndex },
+    });
   }
   columns.sort((a, b) => a.position - b.position);
   return { width, columns, notTested: base.lab.notTestedTokens };
@@ -59,7 +64,13 @@ export function wideLayout(base: ResultContext, header: readonly string[]): Wide
  * concerns the sample rather than one value (an empty or mistyped sample ID, a bad collection
  * date) is told once for the row.
  */
-export function mapWideRow(cells: readonly string[], line: number, layout: WideLayout, results: ResultRow[], rejections: RowRejection[]): void {
+export function mapWideRow(
+  cells: readonly string[],
+  line: number,
+  layout: WideLayout,
+  results: ResultRow[],
+  rejections: RowRejection[],
+): void {
   let long: string[] | undefined;
   let toldForRow: string[] | undefined;
   for (const column of layout.columns) {

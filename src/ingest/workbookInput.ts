@@ -12,7 +12,13 @@ import type { LabProfile, RopeSheetColumns } from '../config/types.js';
 import { foldToken } from '../util/fold.js';
 import { detectKind, ROPE_SHEET_COLUMNS, type FileKind, type FoundHeader } from './detect.js';
 import { IngestError, rowRejection } from './errors.js';
-import { FileChangedError, recordTaker, type ExpectedContent, type MappedBatch, type MappingSetup } from './mappedBatches.js';
+import {
+  FileChangedError,
+  recordTaker,
+  type ExpectedContent,
+  type MappedBatch,
+  type MappingSetup,
+} from './mappedBatches.js';
 import type { ResultRow } from './rows.js';
 import type { OpenedWorkbook, SheetReading } from './xlsxReader.js';
 
@@ -34,9 +40,14 @@ export function readHashedBytes(file: string, fileName: string, expected: Expect
   } finally {
     fs.closeSync(handle);
   }
-  if (read !== expected.bytes) throw new FileChangedError(`${fileName} changed while it was read (${expected.bytes} bytes when hashed, ${read} read)`);
+  if (read !== expected.bytes)
+    throw new FileChangedError(
+      `${fileName} changed while it was read (${expected.bytes} bytes when hashed, ${read} read)`,
+    );
   if (createHash('sha256').update(bytes).digest('hex') !== expected.sha256) {
-    throw new FileChangedError(`${fileName} changed while it was read (its bytes no longer match the hash taken before reading)`);
+    throw new FileChangedError(
+      `${fileName} changed while it was read (its bytes no longer match the hash taken before reading)`,
+    );
   }
   return bytes;
 }
@@ -60,8 +71,21 @@ function headerOf(workbook: OpenedWorkbook, sheet: Worksheet, row: number): stri
  * profile names) or a rope sheet (header on the first row of the first visible sheet).
  * @throws IngestError empty-file, no-such-sheet, and detection's codes (unknown-format, missing-column, ...)
  */
-export function detectWorkbook(fileName: string, workbook: OpenedWorkbook, labs: readonly LabProfile[], ropeColumns: RopeSheetColumns | undefined): WorkbookKind {
-  if (workbook.isBlank()) throw new IngestError('empty-file', fileName, undefined, undefined, undefined, 'no sheet of the workbook holds a value');
+export function detectWorkbook(
+  fileName: string,
+  workbook: OpenedWorkbook,
+  labs: readonly LabProfile[],
+  ropeColumns: RopeSheetColumns | undefined,
+): WorkbookKind {
+  if (workbook.isBlank())
+    throw new IngestError(
+      'empty-file',
+      fileName,
+      undefined,
+      undefined,
+      undefined,
+      'no sheet of the workbook holds a value',
+    );
   const first = workbook.sheet(undefined)!;
   const sheetList = workbook.sheetNames.map((name) => `"${name}"`).join(', ');
   const firstHeader = headerOf(workbook, first, 1);
@@ -74,7 +98,12 @@ export function detectWorkbook(fileName: string, workbook: OpenedWorkbook, labs:
         const line = lab.workbook.headerRow;
         const sheet = workbook.sheet(lab.workbook.sheet);
         if (sheet === undefined) {
-          return { header: undefined, line, delimiter: SHEET_DELIMITER, problem: `lab profile ${lab.id} reads sheet "${lab.workbook.sheet}", which the workbook does not have (its sheets: ${sheetList})` };
+          return {
+            header: undefined,
+            line,
+            delimiter: SHEET_DELIMITER,
+            problem: `lab profile ${lab.id} reads sheet "${lab.workbook.sheet}", which the workbook does not have (its sheets: ${sheetList})`,
+          };
         }
         return { header: headerOf(workbook, sheet, line), line, delimiter: SHEET_DELIMITER };
       },
@@ -89,7 +118,15 @@ export function detectWorkbook(fileName: string, workbook: OpenedWorkbook, labs:
 /** Which columns hold dates (a number there is a serial date), and which the mapping reads. */
 function sheetReading(kind: FileKind, date1904: boolean): SheetReading {
   const positions = (names: readonly (string | undefined)[]) =>
-    new Set(names.flatMap((name) => (name === undefined ? [] : [kind.columnIndex.get(kind.kind === 'results' ? foldToken(name) : name)].filter((at): at is number => at !== undefined))));
+    new Set(
+      names.flatMap((name) =>
+        name === undefined
+          ? []
+          : [kind.columnIndex.get(kind.kind === 'results' ? foldToken(name) : name)].filter(
+              (at): at is number => at !== undefined,
+            ),
+      ),
+    );
   if (kind.kind === 'ropes') {
     return {
       dateColumns: positions([ROPE_SHEET_COLUMNS.hungOn]),
@@ -99,7 +136,11 @@ function sheetReading(kind: FileKind, date1904: boolean): SheetReading {
     };
   }
   const { lab } = kind;
-  const read = [...Object.values(lab.columns), ...lab.statusColumns, ...(lab.layout === 'wide' ? [...lab.assays.values()].map((assay) => assay.labAssayName) : [])];
+  const read = [
+    ...Object.values(lab.columns),
+    ...lab.statusColumns,
+    ...(lab.layout === 'wide' ? [...lab.assays.values()].map((assay) => assay.labAssayName) : []),
+  ];
   return {
     dateColumns: positions([lab.columns.collectedOn, lab.columns.reportedOn]),
     needed: positions(read),
@@ -113,10 +154,20 @@ function sheetReading(kind: FileKind, date1904: boolean): SheetReading {
  * A row whose needed cell holds a formula saved without its value is refused
  * (formula-without-value), naming the column.
  */
-export function* workbookBatches(setup: MappingSetup, workbook: OpenedWorkbook, found: WorkbookKind, batchRows: number): Generator<MappedBatch<ResultRow[]>> {
+export function* workbookBatches(
+  setup: MappingSetup,
+  workbook: OpenedWorkbook,
+  found: WorkbookKind,
+  batchRows: number,
+): Generator<MappedBatch<ResultRow[]>> {
   const taker = recordTaker(setup);
   const { kind } = found;
-  for (const row of workbook.rows(found.sheet, found.headerRow, kind.header.length, sheetReading(kind, workbook.date1904))) {
+  for (const row of workbook.rows(
+    found.sheet,
+    found.headerRow,
+    kind.header.length,
+    sheetReading(kind, workbook.date1904),
+  )) {
     const first = row.uncalculated[0];
     if (first === undefined) {
       taker.take(row);
@@ -141,4 +192,3 @@ export function* workbookBatches(setup: MappingSetup, workbook: OpenedWorkbook, 
 export function workbookNote(found: WorkbookKind): string {
   return `Office Open XML workbook (.xlsx), sheet "${found.sheet.name}", header on row ${found.headerRow}`;
 }
-

@@ -44,7 +44,8 @@ export class ParseWorker {
     this.started = true;
     this.send({ type: 'start', input });
     for (;;) {
-      while (this.inbox.length === 0 && this.crash === undefined) await new Promise<void>((resolve) => (this.wake = resolve));
+      while (this.inbox.length === 0 && this.crash === undefined)
+        await new Promise<void>((resolve) => (this.wake = resolve));
       const message = this.inbox.shift();
       if (message === undefined) throw this.crash!;
       if (message.type === 'done') return;

@@ -16,14 +16,18 @@ export type WorkerFailure =
 
 export type ToWorker = { type: 'start'; input: MappingInput } | { type: 'taken' };
 
-export type FromWorker = { type: 'batch'; batch: WireBatch } | { type: 'done' } | { type: 'failed'; failure: WorkerFailure };
+export type FromWorker =
+  | { type: 'batch'; batch: WireBatch }
+  | { type: 'done' }
+  | { type: 'failed'; failure: WorkerFailure };
 
 export function describeWorkerFailure(error: unknown): WorkerFailure {
   if (error instanceof EncodingError) return { kind: 'encoding', line: error.line, message: error.message };
   if (error instanceof UnclosedQuoteError) return { kind: 'unclosed-quote', line: error.line };
   if (error instanceof RecordTooLongError) return { kind: 'record-too-long', line: error.line };
   if (error instanceof FileChangedError) return { kind: 'changed', message: error.message };
-  const { name, message, stack } = error instanceof Error ? error : { name: 'Error', message: String(error), stack: undefined };
+  const { name, message, stack } =
+    error instanceof Error ? error : { name: 'Error', message: String(error), stack: undefined };
   return { kind: 'unexpected', name, message, stack };
 }
 

@@ -47,9 +47,23 @@ export function isWorkbookFile(name: string, head: Uint8Array): boolean {
 function compoundFileRefusal(bytes: Buffer, fileName: string): IngestError {
   // Directory entry names are UTF-16LE ([MS-CFB] 2.6.1).
   if (bytes.includes(Buffer.from('EncryptedPackage', 'utf16le'))) {
-    return new IngestError('workbook-encrypted', fileName, undefined, undefined, undefined, 'the workbook is protected with a password; save it again without one (or export CSV) and drop that file');
+    return new IngestError(
+      'workbook-encrypted',
+      fileName,
+      undefined,
+      undefined,
+      undefined,
+      'the workbook is protected with a password; save it again without one (or export CSV) and drop that file',
+    );
   }
-  return new IngestError('not-a-workbook', fileName, undefined, undefined, undefined, 'an Excel 97-2003 workbook (.xls) or another binary Office file, not .xlsx; save it as .xlsx or CSV');
+  return new IngestError(
+    'not-a-workbook',
+    fileName,
+    undefined,
+    undefined,
+    undefined,
+    'an Excel 97-2003 workbook (.xls) or another binary Office file, not .xlsx; save it as .xlsx or CSV',
+  );
 }
 
 /** The refusal for a zip archive that is not an .xlsx workbook, from the parts it holds. */
@@ -68,11 +82,16 @@ function otherPackageRefusal(entries: readonly ZipEntry[], fileName: string): In
  * @throws IngestError not-a-workbook, workbook-encrypted, workbook-too-large
  */
 export async function openWorkbook(bytes: Buffer, fileName: string): Promise<OpenedWorkbook> {
-  const refuse = (code: 'not-a-workbook' | 'workbook-too-large', detail: string) => new IngestError(code, fileName, undefined, undefined, undefined, detail);
+  const refuse = (code: 'not-a-workbook' | 'workbook-too-large', detail: string) =>
+    new IngestError(code, fileName, undefined, undefined, undefined, detail);
   if (bytes.length > WORKBOOK_MAX_BYTES) {
-    throw refuse('workbook-too-large', `the workbook has ${bytes.length} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`);
+    throw refuse(
+      'workbook-too-large',
+      `the workbook has ${bytes.length} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
+    );
   }
-  if (bytes.subarray(0, COMPOUND_FILE_MAGIC.length).equals(COMPOUND_FILE_MAGIC)) throw compoundFileRefusal(bytes, fileName);
+  if (bytes.subarray(0, COMPOUND_FILE_MAGIC.length).equals(COMPOUND_FILE_MAGIC))
+    throw compoundFileRefusal(bytes, fileName);
   let entries: ZipEntry[];
   try {
     entries = zipEntries(bytes, WORKBOOK_MAX_PARTS);
@@ -80,8 +99,13 @@ export async function openWorkbook(bytes: Buffer, fileName: string): Promise<Ope
     checkUnpackedSizes(bytes, entries, WORKBOOK_MAX_UNPACKED_BYTES);
   } catch (error) {
     if (!(error instanceof ZipProblem)) throw error;
-    if (error.kind === 'too-large') throw refuse('workbook-too-large', `the workbook is too large to read whole: ${error.message}; split it, or export CSV`);
-    if (error.kind === 'not-zip') throw refuse('not-a-workbook', `not an .xlsx workbook (${error.message}); an .xlsx file is a zip archive`);
+    if (error.kind === 'too-large')
+      throw refuse(
+        'workbook-too-large',
+        `the workbook is too large to read whole: ${error.message}; split it, or export CSV`,
+      );
+    if (error.kind === 'not-zip')
+      throw refuse('not-a-workbook', `not an .xlsx workbook (${error.message}); an .xlsx file is a zip archive`);
     throw refuse('not-a-workbook', `the workbook is damaged: ${error.message}`);
   }
   const { default: ExcelJS } = await import('exceljs');
@@ -117,7 +141,12 @@ const LAST_SERIAL_1904 = LAST_SERIAL_1900 - 1462;
 
 /** The day an Excel serial number names, as yyyy-MM-dd; undefined outside Excel's dates (and for the 29 February 1900 it counts). */
 export function serialDay(serial: number, date1904: boolean): string | undefined {
-  if (!Number.isFinite(serial) || serial < (date1904 ? 0 : 1) || serial >= (date1904 ? LAST_SERIAL_1904 : LAST_SERIAL_1900) + 1) return undefined;
+  if (
+    !Number.isFinite(serial) ||
+    serial < (date1904 ? 0 : 1) ||
+    serial >= (date1904 ? LAST_SERIAL_1904 : LAST_SERIAL_1900) + 1
+  )
+    return undefined;
   const day = Math.floor(serial);
   if (date1904) return isoDay(new Date(EPOCH_1904_MS + day * DAY_MS));
   if (day === 60) return undefined;
@@ -147,7 +176,8 @@ export function numberText(value: number, decimal: '.' | ','): string {
 export function cellText(value: CellValue, how: CellReading): string | undefined {
   if (value === null || value === undefined) return '';
   if (typeof value === 'string') return value;
-  if (typeof value === 'number') return (how.asDate ? serialDay(value, how.date1904) : undefined) ?? numberText(value, how.decimal);
+  if (typeof value === 'number')
+    return (how.asDate ? serialDay(value, how.date1904) : undefined) ?? numberText(value, how.decimal);
   if (typeof value === 'boolean') return value ? 'TRUE' : 'FALSE';
   if (value instanceof Date) {
     if (Number.isNaN(value.getTime())) return '';
@@ -156,7 +186,8 @@ export function cellText(value: CellValue, how: CellReading): string | undefined
   }
   if ('richText' in value) return value.richText.map((run) => run.text).join('');
   if ('error' in value) return value.error;
-  if ('formula' in value || 'sharedFormula' in value) return value.result === undefined ? undefined : cellText(value.result, how);
+  if ('formula' in value || 'sharedFormula' in value)
+    return value.result === undefined ? undefined : cellText(value.result, how);
   if ('hyperlink' in value) return cellText(value.text as CellValue, how);
   return '';
 }
@@ -200,7 +231,8 @@ export class OpenedWorkbook {
     if (row === undefined) return undefined;
     const cells: string[] = [];
     const how: CellReading = { decimal: '.', asDate: false, date1904: this.date1904 };
-    for (let column = 1; column <= row.cellCount; column++) cells.push(cellText(row.findCell(column)?.value, how) ?? '');
+    for (let column = 1; column <= row.cellCount; column++)
+      cells.push(cellText(row.findCell(column)?.value, how) ?? '');
     return cells;
   }
 

@@ -46,7 +46,8 @@ const MAX_COMMENT_BYTES = 0xffff;
 function findEndRecord(bytes: Buffer): number {
   const lowest = Math.max(0, bytes.length - EOCD_BYTES - MAX_COMMENT_BYTES);
   for (let at = bytes.length - EOCD_BYTES; at >= lowest; at--) {
-    if (bytes.readUInt32LE(at) === EOCD_SIGNATURE && at + EOCD_BYTES + bytes.readUInt16LE(at + 20) === bytes.length) return at;
+    if (bytes.readUInt32LE(at) === EOCD_SIGNATURE && at + EOCD_BYTES + bytes.readUInt16LE(at + 20) === bytes.length)
+      return at;
   }
   // A comment that does not reach the end exactly (trailing bytes): take the last signature.
   for (let at = bytes.length - EOCD_BYTES; at >= lowest; at--) if (bytes.readUInt32LE(at) === EOCD_SIGNATURE) return at;
@@ -54,7 +55,8 @@ function findEndRecord(bytes: Buffer): number {
 }
 
 function safeNumber(value: bigint, what: string): number {
-  if (value > BigInt(Number.MAX_SAFE_INTEGER)) throw new ZipProblem('too-large', `${what} is beyond any file ropewatch reads`);
+  if (value > BigInt(Number.MAX_SAFE_INTEGER))
+    throw new ZipProblem('too-large', `${what} is beyond any file ropewatch reads`);
   return Number(value);
 }
 
@@ -74,23 +76,28 @@ export function zipEntries(bytes: Buffer, maxEntries: number): ZipEntry[] {
   if (count === 0xffff || directorySize === 0xffffffff || directoryOffset === 0xffffffff) {
     // Zip64: the locator sits just before the classic record and points at the zip64 record.
     const locator = end - 20;
-    if (locator < 0 || bytes.readUInt32LE(locator) !== ZIP64_LOCATOR_SIGNATURE) throw new ZipProblem('damaged', 'its zip64 directory locator is missing');
+    if (locator < 0 || bytes.readUInt32LE(locator) !== ZIP64_LOCATOR_SIGNATURE)
+      throw new ZipProblem('damaged', 'its zip64 directory locator is missing');
     const record = safeNumber(bytes.readBigUInt64LE(locator + 8), 'the zip64 directory offset');
-    if (record + 56 > bytes.length || bytes.readUInt32LE(record) !== ZIP64_EOCD_SIGNATURE) throw new ZipProblem('damaged', 'its zip64 directory record is missing');
+    if (record + 56 > bytes.length || bytes.readUInt32LE(record) !== ZIP64_EOCD_SIGNATURE)
+      throw new ZipProblem('damaged', 'its zip64 directory record is missing');
     count = safeNumber(bytes.readBigUInt64LE(record + 32), 'the number of zip entries');
     directorySize = safeNumber(bytes.readBigUInt64LE(record + 40), 'the zip directory size');
     directoryOffset = safeNumber(bytes.readBigUInt64LE(record + 48), 'the zip directory offset');
   }
   if (count > maxEntries) throw new ZipProblem('too-large', `it holds ${count} parts (at most ${maxEntries} are read)`);
-  if (directoryOffset + directorySize > bytes.length) throw new ZipProblem('damaged', 'its zip directory runs past the end of the file');
+  if (directoryOffset + directorySize > bytes.length)
+    throw new ZipProblem('damaged', 'its zip directory runs past the end of the file');
   const entries: ZipEntry[] = [];
   let at = directoryOffset;
   for (let index = 0; index < count; index++) {
-    if (at + 46 > bytes.length || bytes.readUInt32LE(at) !== CENTRAL_SIGNATURE) throw new ZipProblem('damaged', `zip directory entry ${index + 1} is damaged`);
+    if (at + 46 > bytes.length || bytes.readUInt32LE(at) !== CENTRAL_SIGNATURE)
+      throw new ZipProblem('damaged', `zip directory entry ${index + 1} is damaged`);
     const nameLength = bytes.readUInt16LE(at + 28);
     const extraLength = bytes.readUInt16LE(at + 30);
     const commentLength = bytes.readUInt16LE(at + 32);
-    if (at + 46 + nameLength + extraLength + commentLength > bytes.length) throw new ZipProblem('damaged', `zip directory entry ${index + 1} runs past the end of the file`);
+    if (at + 46 + nameLength + extraLength + commentLength > bytes.length)
+      throw new ZipProblem('damaged', `zip directory entry ${index + 1} runs past the end of the file`);
     const entry: ZipEntry = {
       name: bytes.toString('utf8', at + 46, at + 46 + nameLength),
       flags: bytes.readUInt16LE(at + 8),
@@ -115,7 +122,8 @@ function readZip64Extra(extra: Buffer, entry: ZipEntry): void {
     if (id === 0x0001) {
       let field = at + 4;
       const next = (what: string): number => {
-        if (field + 8 > at + 4 + size || field + 8 > extra.length) throw new ZipProblem('damaged', `the zip64 field of ${entry.name} is too short`);
+        if (field + 8 > at + 4 + size || field + 8 > extra.length)
+          throw new ZipProblem('damaged', `the zip64 field of ${entry.name} is too short`);
         const value = safeNumber(extra.readBigUInt64LE(field), what);
         field += 8;
         return value;
@@ -132,9 +140,11 @@ function readZip64Extra(extra: Buffer, entry: ZipEntry): void {
 /** Where an entry's packed bytes start: after its local header's name and extra field (their lengths may differ from the directory's). */
 export function entryDataOffset(bytes: Buffer, entry: ZipEntry): number {
   const at = entry.localHeaderOffset;
-  if (at + 30 > bytes.length || bytes.readUInt32LE(at) !== LOCAL_SIGNATURE) throw new ZipProblem('damaged', `the local header of ${entry.name} is missing`);
+  if (at + 30 > bytes.length || bytes.readUInt32LE(at) !== LOCAL_SIGNATURE)
+    throw new ZipProblem('damaged', `the local header of ${entry.name} is missing`);
   const start = at + 30 + bytes.readUInt16LE(at + 26) + bytes.readUInt16LE(at + 28);
-  if (start + entry.compressedSize > bytes.length) throw new ZipProblem('damaged', `${entry.name} runs past the end of the file`);
+  if (start + entry.compressedSize > bytes.length)
+    throw new ZipProblem('damaged', `${entry.name} runs past the end of the file`);
   return start;
 }
 
@@ -148,11 +158,15 @@ export function checkUnpackedSizes(bytes: Buffer, entries: readonly ZipEntry[], 
   let total = 0;
   for (const entry of entries) total += entry.uncompressedSize;
   if (total > maxUnpackedBytes) {
-    throw new ZipProblem('too-large', `its parts unpack to ${megabytes(total)} (at most ${megabytes(maxUnpackedBytes)} are read)`);
+    throw new ZipProblem(
+      'too-large',
+      `its parts unpack to ${megabytes(total)} (at most ${megabytes(maxUnpackedBytes)} are read)`,
+    );
   }
   for (const entry of entries) {
     if (entry.name.endsWith('/') && entry.uncompressedSize === 0) continue;
-    if ((entry.flags & 1) !== 0) throw new ZipProblem('damaged', `its part ${entry.name} is encrypted at the zip level`);
+    if ((entry.flags & 1) !== 0)
+      throw new ZipProblem('damaged', `its part ${entry.name} is encrypted at the zip level`);
     const start = entryDataOffset(bytes, entry);
     const packed = bytes.subarray(start, start + entry.compressedSize);
     let unpacked: number;
@@ -167,10 +181,16 @@ export function checkUnpackedSizes(bytes: Buffer, entries: readonly ZipEntry[], 
         else throw new ZipProblem('damaged', `its part ${entry.name} cannot be unpacked (${(error as Error).message})`);
       }
     } else {
-      throw new ZipProblem('damaged', `its part ${entry.name} is packed with method ${entry.method}, which workbooks do not use`);
+      throw new ZipProblem(
+        'damaged',
+        `its part ${entry.name} is packed with method ${entry.method}, which workbooks do not use`,
+      );
     }
     if (unpacked !== entry.uncompressedSize) {
-      throw new ZipProblem('damaged', `its part ${entry.name} unpacks to ${unpacked > entry.uncompressedSize ? 'more' : 'fewer'} bytes than its declared ${entry.uncompressedSize}`);
+      throw new ZipProblem(
+        'damaged',
+        `its part ${entry.name} unpacks to ${unpacked > entry.uncompressedSize ? 'more' : 'fewer'} bytes than its declared ${entry.uncompressedSize}`,
+      );
     }
   }
 }

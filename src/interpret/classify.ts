@@ -24,7 +24,12 @@ export interface Interpretation {
 }
 
 /** The worst-first order used when a pen has several results for one assay in a round. */
-export const CLASS_SEVERITY: Readonly<Record<ResultClass, number>> = { positive: 3, suspect: 2, invalid: 1, negative: 0 };
+export const CLASS_SEVERITY: Readonly<Record<ResultClass, number>> = {
+  positive: 3,
+  suspect: 2,
+  invalid: 1,
+  negative: 0,
+};
 
 /** Band of a detected Ct: the first band whose `below` exceeds it, else "low". Lower Ct, more nucleic acid. */
 export function loadBandOf(ct: number, bands: readonly LoadBand[]): string {
@@ -44,39 +49,82 @@ export function spBandOf(sp: number, bands: readonly SpLoadBand[]): string | und
  * @param controlFailed the internal or extraction control failed: invalid (retest), never negative
  * @throws RangeError when the reading and the lab assay are of different measures
  */
-export function classify(reading: ValueReading, cutoffs: LabAssay, assay: Assay, controlFailed: string | undefined): Interpretation {
+export function classify(
+  reading: ValueReading,
+  cutoffs: LabAssay,
+  assay: Assay,
+  controlFailed: string | undefined,
+): Interpretation {
   if (controlFailed !== undefined) {
-    return { resultClass: 'invalid', reason: `internal control failed (${controlFailed}): retest, not a negative`, loadBand: undefined, load: 0 };
+    return {
+      resultClass: 'invalid',
+      reason: `internal control failed (${controlFailed}): retest, not a negative`,
+      loadBand: undefined,
+      load: 0,
+    };
   }
   switch (reading.kind) {
     case 'missing':
       return cutoffs.measure === 'sp-ratio'
-        ? { resultClass: 'invalid', reason: 'no S/P value: an antibody result has no "not detected", so a blank is no reading (retest or ask the lab)', loadBand: undefined, load: 0 }
-        : { resultClass: 'invalid', reason: 'no Ct and this lab does not use blank for not detected: retest', loadBand: undefined, load: 0 };
+        ? {
+            resultClass: 'invalid',
+            reason:
+              'no S/P value: an antibody result has no "not detected", so a blank is no reading (retest or ask the lab)',
+            loadBand: undefined,
+            load: 0,
+          }
+        : {
+            resultClass: 'invalid',
+            reason: 'no Ct and this lab does not use blank for not detected: retest',
+            loadBand: undefined,
+            load: 0,
+          };
     case 'error':
       return { resultClass: 'invalid', reason: reading.detail, loadBand: undefined, load: 0 };
     case 'not-detected':
       return { resultClass: 'negative', reason: reading.reason, loadBand: undefined, load: 0 };
     case 'sp': {
-      if (cutoffs.measure !== 'sp-ratio' || assay.measure !== 'sp-ratio') throw new RangeError(`an S/P reading needs an S/P assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
+      if (cutoffs.measure !== 'sp-ratio' || assay.measure !== 'sp-ratio')
+        throw new RangeError(`an S/P reading needs an S/P assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
       const { sp } = reading;
       const load = Math.max(0, sp);
       const band = spBandOf(sp, assay.loadBands);
       if (sp >= cutoffs.positiveAtOrAbove) {
-        return { resultClass: 'positive', reason: `S/P ${sp} at or above the positive cutoff ${cutoffs.positiveAtOrAbove}: antibody found (exposure, not necessarily current infection)`, loadBand: band, load };
+        return {
+          resultClass: 'positive',
+          reason: `S/P ${sp} at or above the positive cutoff ${cutoffs.positiveAtOrAbove}: antibody found (exposure, not necessarily current infection)`,
+          loadBand: band,
+          load,
+        };
       }
       if (cutoffs.suspectAtOrAbove !== undefined && sp >= cutoffs.suspectAtOrAbove) {
-        return { resultClass: 'suspect', reason: `S/P ${sp} in the suspect band [${cutoffs.suspectAtOrAbove}, ${cutoffs.positiveAtOrAbove}): retest advised`, loadBand: band, load };
+        return {
+          resultClass: 'suspect',
+          reason: `S/P ${sp} in the suspect band [${cutoffs.suspectAtOrAbove}, ${cutoffs.positiveAtOrAbove}): retest advised`,
+          loadBand: band,
+          load,
+        };
       }
-      return { resultClass: 'negative', reason: `S/P ${sp} below the ${cutoffs.suspectAtOrAbove !== undefined ? 'suspect' : 'positive'} cutoff ${cutoffs.suspectAtOrAbove ?? cutoffs.positiveAtOrAbove}: no antibody found`, loadBand: band, load };
+      return {
+        resultClass: 'negative',
+        reason: `S/P ${sp} below the ${cutoffs.suspectAtOrAbove !== undefined ? 'suspect' : 'positive'} cutoff ${cutoffs.suspectAtOrAbove ?? cutoffs.positiveAtOrAbove}: no antibody found`,
+        loadBand: band,
+        load,
+      };
     }
     case 'detected': {
-      if (cutoffs.measure !== 'ct' || assay.measure !== 'ct') throw new RangeError(`a Ct reading needs a Ct assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
+      if (cutoffs.measure !== 'ct' || assay.measure !== 'ct')
+        throw new RangeError(`a Ct reading needs a Ct assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
       const { ct } = reading;
       const load = Math.max(0, cutoffs.cycleLimit - ct);
       const band = loadBandOf(ct, assay.loadBands);
       if (ct < cutoffs.positiveBelow) {
-        return { resultClass: 'positive', reason: `Ct ${ct} below the positive cutoff ${cutoffs.positiveBelow}`, loadBand: band, load };
+        return {
+          resultClass: 'positive',
+          reason: `Ct ${ct} below the positive cutoff ${cutoffs.positiveBelow}`,
+          loadBand: band,
+          load,
+        };
       }
       if (ct < cutoffs.suspectBelow) {
         return {
@@ -86,7 +134,12 @@ export function classify(reading: ValueReading, cutoffs: LabAssay, assay: Assay,
           load,
         };
       }
-      return { resultClass: 'negative', reason: `late signal Ct ${ct} at or above ${cutoffs.suspectBelow}: read as negative`, loadBand: band, load };
+      return {
+        resultClass: 'negative',
+        reason: `late signal Ct ${ct} at or above ${cutoffs.suspectBelow}: read as negative`,
+        loadBand: band,
+        load,
+      };
     }
   }
 }

@@ -61,13 +61,26 @@ export function groupProblems(groups: readonly BarnGroup[]): GroupProblem[] {
   const seen = new Map<string, number>();
   groups.forEach((group, index) => {
     const earlier = seen.get(group.id.toUpperCase());
-    if (earlier !== undefined) problems.push({ index, key: 'id', detail: `group id ${group.id} is already used by groups[${earlier}] of this barn` });
+    if (earlier !== undefined)
+      problems.push({
+        index,
+        key: 'id',
+        detail: `group id ${group.id} is already used by groups[${earlier}] of this barn`,
+      });
     else seen.set(group.id.toUpperCase(), index);
     if (group.closedOn !== null && group.closedOn < group.placedOn) {
-      problems.push({ index, key: 'closedOn', detail: `${group.closedOn} is before the group's placement on ${group.placedOn}` });
+      problems.push({
+        index,
+        key: 'closedOn',
+        detail: `${group.closedOn} is before the group's placement on ${group.placedOn}`,
+      });
     }
   });
-  const ordered = groups.map((group, index) => ({ group, index })).sort((a, b) => (a.group.placedOn < b.group.placedOn ? -1 : a.group.placedOn > b.group.placedOn ? 1 : a.index - b.index));
+  const ordered = groups
+    .map((group, index) => ({ group, index }))
+    .sort((a, b) =>
+      a.group.placedOn < b.group.placedOn ? -1 : a.group.placedOn > b.group.placedOn ? 1 : a.index - b.index,
+    );
   for (let i = 1; i < ordered.length; i++) {
     const before = ordered[i - 1]!;
     const after = ordered[i]!;

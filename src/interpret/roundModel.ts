@@ -323,8 +323,10 @@ function groupBy<T>(items: readonly T[], key: (item: T) => string): Map<string, 
 }
 
 /** The earlier (or later) of two ISO dates, either of which may be missing. */
-const earliest = (a: string | null, b: string | null | undefined): string | null => (b === null || b === undefined ? a : a === null || b < a ? b : a);
-const latest = (a: string | null, b: string | null | undefined): string | null => (b === null || b === undefined ? a : a === null || b > a ? b : a);
+const earliest = (a: string | null, b: string | null | undefined): string | null =>
+  b === null || b === undefined ? a : a === null || b < a ? b : a;
+const latest = (a: string | null, b: string | null | undefined): string | null =>
+  b === null || b === undefined ? a : a === null || b > a ? b : a;
 const compareText = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
 
 const sourceKey = (labId: string, reportedOn: string | null) => `${labId}\u0000${reportedOn ?? ''}`;
@@ -344,13 +346,30 @@ interface SourceDraft {
 /** Adds one result (or a barn's gathered source) to the sources, keyed by lab and report date. */
 function addSource(
   sources: Map<string, SourceDraft>,
-  entry: { labId: string; reportedOn: string | null; accessions: Iterable<string>; assays: Iterable<string>; results: number; collectedFrom: string | null; collectedTo: string | null },
+  entry: {
+    labId: string;
+    reportedOn: string | null;
+    accessions: Iterable<string>;
+    assays: Iterable<string>;
+    results: number;
+    collectedFrom: string | null;
+    collectedTo: string | null;
+  },
   barnId?: string,
 ): void {
   const key = sourceKey(entry.labId, entry.reportedOn);
   let source = sources.get(key);
   if (!source) {
-    source = { labId: entry.labId, reportedOn: entry.reportedOn, accessions: new Set(), assays: new Set(), results: 0, collectedFrom: null, collectedTo: null, barnIds: [] };
+    source = {
+      labId: entry.labId,
+      reportedOn: entry.reportedOn,
+      accessions: new Set(),
+      assays: new Set(),
+      results: 0,
+      collectedFrom: null,
+      collectedTo: null,
+      barnIds: [],
+    };
     sources.set(key, source);
   }
   for (const accession of entry.accessions) source.accessions.add(accession);
@@ -378,12 +397,25 @@ function resultEntry(result: ResultInput) {
 /** The gathered sources in lab and report-date order, case numbers and assays sorted. */
 function sortedSources(sources: Map<string, SourceDraft>): (ResultSource & { barnIds: string[] })[] {
   return [...sources.values()]
-    .map((source) => ({ ...source, accessions: [...source.accessions].sort(compareText), assays: [...source.assays].sort(compareText) }))
+    .map((source) => ({
+      ...source,
+      accessions: [...source.accessions].sort(compareText),
+      assays: [...source.assays].sort(compareText),
+    }))
     .sort((a, b) => compareText(a.labId, b.labId) || compareText(a.reportedOn ?? '', b.reportedOn ?? ''));
 }
 
 function emptyTally(): AssayTally {
-  return { positive: 0, suspect: 0, negative: 0, invalid: 0, positivePens: [], suspectPens: [], invalidPens: [], testedPens: [] };
+  return {
+    positive: 0,
+    suspect: 0,
+    negative: 0,
+    invalid: 0,
+    positivePens: [],
+    suspectPens: [],
+    invalidPens: [],
+    testedPens: [],
+  };
 }
 
 const known = (value: number | null | undefined): value is number => value !== null && value !== undefined;
@@ -393,10 +425,28 @@ function roundCutoffOf(result: ResultInput): Omit<RoundCutoff, 'results'> | unde
   const measure = result.measure ?? 'ct';
   if (measure === 'sp-ratio') {
     if (!known(result.positiveAtOrAbove)) return undefined;
-    return { labId: result.labId, assayId: result.assayId, measure, positiveBelow: null, suspectBelow: null, cycleLimit: null, positiveAtOrAbove: result.positiveAtOrAbove, suspectAtOrAbove: result.suspectAtOrAbove ?? null };
+    return {
+      labId: result.labId,
+      assayId: result.assayId,
+      measure,
+      positiveBelow: null,
+      suspectBelow: null,
+      cycleLimit: null,
+      positiveAtOrAbove: result.positiveAtOrAbove,
+      suspectAtOrAbove: result.suspectAtOrAbove ?? null,
+    };
   }
   if (!known(result.positiveBelow) || !known(result.suspectBelow)) return undefined;
-  return { labId: result.labId, assayId: result.assayId, measure, positiveBelow: result.positiveBelow, suspectBelow: result.suspectBelow, cycleLimit: result.cycleLimit, positiveAtOrAbove: null, suspectAtOrAbove: null };
+  return {
+    labId: result.labId,
+    assayId: result.assayId,
+    measure,
+    positiveBelow: result.positiveBelow,
+    suspectBelow: result.suspectBelow,
+    cycleLimit: result.cycleLimit,
+    positiveAtOrAbove: null,
+    suspectAtOrAbove: null,
+  };
 }
 
 /**
@@ -474,11 +524,19 @@ export function buildSiteRounds(
         hung++;
         let penRound = pens.get(pen.id);
         if (!penRound) {
-          penRound = { penId: pen.id, rowLabel: pen.rowLabel, position: pen.position, sampleIds: [], returned: false, results: {} };
+          penRound = {
+            penId: pen.id,
+            rowLabel: pen.rowLabel,
+            position: pen.position,
+            sampleIds: [],
+            returned: false,
+            results: {},
+          };
           pens.set(pen.id, penRound);
         }
         penRound.sampleIds.push(rope.sampleId);
-        for (const entry of replacedBySample.get(rope.sampleId) ?? []) barnReplaced.push({ ...entry, barnId: barn.id, penId: pen.id });
+        for (const entry of replacedBySample.get(rope.sampleId) ?? [])
+          barnReplaced.push({ ...entry, barnId: barn.id, penId: pen.id });
         const ownResults = resultsBySample.get(rope.sampleId) ?? [];
         const poolId = rope.poolId ?? null;
         const pooledResults = poolId === null ? [] : (resultsBySample.get(poolId) ?? []);
@@ -500,7 +558,16 @@ export function buildSiteRounds(
           if (firstReading) addSource(barnSources, resultEntry(result));
           const readWith = firstReading ? roundCutoffOf(result) : undefined;
           if (readWith !== undefined) {
-            const key = [readWith.labId, readWith.assayId, readWith.measure, readWith.positiveBelow, readWith.suspectBelow, readWith.cycleLimit, readWith.positiveAtOrAbove, readWith.suspectAtOrAbove].join('\u0000');
+            const key = [
+              readWith.labId,
+              readWith.assayId,
+              readWith.measure,
+              readWith.positiveBelow,
+              readWith.suspectBelow,
+              readWith.cycleLimit,
+              readWith.positiveAtOrAbove,
+              readWith.suspectAtOrAbove,
+            ].join('\u0000');
             const cutoff = cutoffs.get(key);
             if (cutoff) cutoff.results++;
             else cutoffs.set(key, { ...readWith, results: 1 });
@@ -579,14 +646,22 @@ export function buildSiteRounds(
           }
         }
       }
-      const onDate = barnRopes.reduce((first, rope) => (rope.hungOn < first ? rope.hungOn : first), barnRopes[0]?.hungOn ?? round.startOn);
+      const onDate = barnRopes.reduce(
+        (first, rope) => (rope.hungOn < first ? rope.hungOn : first),
+        barnRopes[0]?.hungOn ?? round.startOn,
+      );
       const status = barnStatusOn(barn.groups, onDate);
       const plannedMissingRopes =
         status.kind === 'empty'
           ? []
-          : plannedHere.filter((rope) => rope.barnId === barn.id && !pens.get(barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId)?.returned);
+          : plannedHere.filter(
+              (rope) =>
+                rope.barnId === barn.id &&
+                !pens.get(barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId)?.returned,
+            );
       const plannedMissing = plannedMissingRopes.map((rope) => rope.sampleId);
-      for (const rope of plannedMissingRopes) missingPen.set(rope.sampleId, barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId);
+      for (const rope of plannedMissingRopes)
+        missingPen.set(rope.sampleId, barn.penById.get(rope.penId.toUpperCase())?.id ?? rope.penId);
       missing.push(...plannedMissing);
       // A rope without a result whose planned ID a refused row most likely meant: its result came
       // back under a mistyped ID (ISO/IEC 7064 check character) and waits for a person to confirm it.
@@ -598,7 +673,9 @@ export function buildSiteRounds(
             sampleId,
             penId,
             side: barn.penById.get(penId.toUpperCase())?.rowLabel ?? '',
-            refusals: mistypedByMeant.get(sampleId)!.map(({ written, fileName, line }) => ({ written, fileName, line })),
+            refusals: mistypedByMeant
+              .get(sampleId)!
+              .map(({ written, fileName, line }) => ({ written, fileName, line })),
           };
         })
         .sort((a, b) => penOrder(barn, a.penId) - penOrder(barn, b.penId) || compareText(a.sampleId, b.sampleId));
@@ -626,15 +703,25 @@ export function buildSiteRounds(
       }
       // Pen order of the barn's layout, then sample and assay: every disagreeing result is listed.
       barnDisagreements.sort(
-        (a, b) => layoutOrder(barn, a.penId) - layoutOrder(barn, b.penId) || compareText(a.sampleId, b.sampleId) || compareText(a.assayId, b.assayId),
+        (a, b) =>
+          layoutOrder(barn, a.penId) - layoutOrder(barn, b.penId) ||
+          compareText(a.sampleId, b.sampleId) ||
+          compareText(a.assayId, b.assayId),
       );
-      for (const entry of barnDisagreements) entry.standsForPen = pens.get(entry.penId)?.results[entry.assayId]?.sampleId === entry.sampleId;
+      for (const entry of barnDisagreements)
+        entry.standsForPen = pens.get(entry.penId)?.results[entry.assayId]?.sampleId === entry.sampleId;
       disagreements.push(...barnDisagreements);
       // Pen order of the layout, then sample and assay; links of one report in the order made.
       replaced.push(
         ...barnReplaced
           .map((entry, order) => ({ entry, order }))
-          .sort((a, b) => layoutOrder(barn, a.entry.penId) - layoutOrder(barn, b.entry.penId) || compareText(a.entry.sampleId, b.entry.sampleId) || compareText(a.entry.assayId, b.entry.assayId) || a.order - b.order)
+          .sort(
+            (a, b) =>
+              layoutOrder(barn, a.entry.penId) - layoutOrder(barn, b.entry.penId) ||
+              compareText(a.entry.sampleId, b.entry.sampleId) ||
+              compareText(a.entry.assayId, b.entry.assayId) ||
+              a.order - b.order,
+          )
           .map(({ entry }) => entry),
       );
       return {
@@ -648,7 +735,11 @@ export function buildSiteRounds(
         missingSampleIds: missing.sort(),
         plannedMissing: plannedMissing.sort(),
         awaitingSampleIds: [],
-        missingPens: Object.fromEntries([...missingPen.entries()].filter(([sampleId]) => missing.includes(sampleId)).sort((a, b) => compareText(a[0], b[0]))),
+        missingPens: Object.fromEntries(
+          [...missingPen.entries()]
+            .filter(([sampleId]) => missing.includes(sampleId))
+            .sort((a, b) => compareText(a[0], b[0])),
+        ),
         mistyped,
         pens: penList,
         byAssay,
@@ -719,7 +810,12 @@ export interface CtHistoryPoint {
 }
 
 /** Per pen and assay, the Ct (or S/P) across rounds (only rounds where the pen had a result). */
-export function ctHistory(rounds: readonly SiteRound[], barnId: string, penId: string, assayId: string): CtHistoryPoint[] {
+export function ctHistory(
+  rounds: readonly SiteRound[],
+  barnId: string,
+  penId: string,
+  assayId: string,
+): CtHistoryPoint[] {
   const points: CtHistoryPoint[] = [];
   for (const round of rounds) {
     const pen = round.barns.find((barn) => barn.barnId === barnId)?.pens.find((candidate) => candidate.penId === penId);

@@ -30,17 +30,28 @@ export function roundFolderName(number: number, startOn: string): string {
 
 /** Groups one site's ropes into rounds. Ropes of other sites are an error: call per site. */
 export function formRounds<R extends DatedRope>(siteId: string, ropes: readonly R[], windowDays: number): Round<R>[] {
-  if (!Number.isInteger(windowDays) || windowDays < 1) throw new RangeError(`windowDays must be a positive integer, got ${windowDays}`);
-  const sorted = [...ropes].sort((a, b) => (a.hungOn < b.hungOn ? -1 : a.hungOn > b.hungOn ? 1 : a.sampleId < b.sampleId ? -1 : 1));
+  if (!Number.isInteger(windowDays) || windowDays < 1)
+    throw new RangeError(`windowDays must be a positive integer, got ${windowDays}`);
+  const sorted = [...ropes].sort((a, b) =>
+    a.hungOn < b.hungOn ? -1 : a.hungOn > b.hungOn ? 1 : a.sampleId < b.sampleId ? -1 : 1,
+  );
   const rounds: Round<R>[] = [];
   let current: Round<R> | undefined;
   let currentStart: Date | undefined;
   for (const rope of sorted) {
-    if (rope.siteId !== siteId) throw new RangeError(`rope ${rope.sampleId} belongs to site ${rope.siteId}, not ${siteId}`);
+    if (rope.siteId !== siteId)
+      throw new RangeError(`rope ${rope.sampleId} belongs to site ${rope.siteId}, not ${siteId}`);
     const date = parseISO(rope.hungOn);
     if (!current || !currentStart || differenceInCalendarDays(date, currentStart) >= windowDays) {
       const number = rounds.length + 1;
-      current = { siteId, number, id: roundFolderName(number, rope.hungOn), startOn: rope.hungOn, endOn: rope.hungOn, ropes: [] };
+      current = {
+        siteId,
+        number,
+        id: roundFolderName(number, rope.hungOn),
+        startOn: rope.hungOn,
+        endOn: rope.hungOn,
+        ropes: [],
+      };
       currentStart = date;
       rounds.push(current);
     }
@@ -65,7 +76,8 @@ export type RoundState = 'awaiting-results' | 'partial' | 'complete';
 
 /** The last day a round's results are awaited: its last rope date plus the program's grace days. */
 export function resultsDueOn(endOn: string, graceDays: number): string {
-  if (!Number.isInteger(graceDays) || graceDays < 0) throw new RangeError(`\`graceDays\` must be a non-negative integer, got ${graceDays}`);
+  if (!Number.isInteger(graceDays) || graceDays < 0)
+    throw new RangeError(`\`graceDays\` must be a non-negative integer, got ${graceDays}`);
   return format(addDays(parseISO(endOn), graceDays), 'yyyy-MM-dd');
 }
 
@@ -75,8 +87,10 @@ export function resultsDueOn(endOn: string, graceDays: number): string {
  * undefined) a round is judged closed: nothing is awaited any more.
  */
 export function roundState(ropes: number, returned: number, dueOn: string, today: string | undefined): RoundState {
-  if (!Number.isInteger(ropes) || ropes < 0) throw new RangeError(`\`ropes\` must be a non-negative integer, got ${ropes}`);
-  if (!Number.isInteger(returned) || returned < 0 || returned > ropes) throw new RangeError(`\`returned\` must be an integer in [0, ${ropes}], got ${returned}`);
+  if (!Number.isInteger(ropes) || ropes < 0)
+    throw new RangeError(`\`ropes\` must be a non-negative integer, got ${ropes}`);
+  if (!Number.isInteger(returned) || returned < 0 || returned > ropes)
+    throw new RangeError(`\`returned\` must be an integer in [0, ${ropes}], got ${returned}`);
   if (returned === ropes || today === undefined || today > dueOn) return 'complete';
   return returned === 0 ? 'awaiting-results' : 'partial';
 }
@@ -88,7 +102,11 @@ export function roundState(ropes: number, returned: number, dueOn: string, today
  * was hung far from the plan's date). Round numbers are never used: a late rope sheet renumbers
  * rounds, and a plan is for a date.
  */
-export function roundForDueDate(dueOn: string, rounds: readonly Pick<Round, 'startOn' | 'endOn'>[], windowDays: number): number {
+export function roundForDueDate(
+  dueOn: string,
+  rounds: readonly Pick<Round, 'startOn' | 'endOn'>[],
+  windowDays: number,
+): number {
   let best = -1;
   let bestDistance = Infinity;
   rounds.forEach((round, index) => {

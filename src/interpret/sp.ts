@@ -15,7 +15,10 @@ import type { LabProfile } from '../config/types.js';
  */
 export const SP_RANGE = Object.freeze({ min: -1, max: 10 });
 
-export type SpReading = { kind: 'sp'; sp: number } | { kind: 'missing' } | { kind: 'error'; code: 'bad-sp' | 'sp-out-of-range'; detail: string };
+export type SpReading =
+  | { kind: 'sp'; sp: number }
+  | { kind: 'missing' }
+  | { kind: 'error'; code: 'bad-sp' | 'sp-out-of-range'; detail: string };
 
 const NUMBER_WITH_DOT = /^[+-]?(\d+(\.\d*)?|\.\d+)$/;
 const NUMBER_WITH_COMMA = /^[+-]?(\d+(,\d*)?|,\d+)$/;
@@ -40,8 +43,15 @@ export function readSp(raw: string, lab: Pick<LabProfile, 'id' | 'decimal'>): Sp
   const value = parseSigned(text, lab.decimal);
   if (value === undefined) {
     const other = parseSigned(text, lab.decimal === '.' ? ',' : '.');
-    const hint = other !== undefined ? ` (it would read as ${other} with a "${lab.decimal === '.' ? ',' : '.'}" decimal mark; check the lab profile's format.decimal)` : '';
-    return { kind: 'error', code: 'bad-sp', detail: `"${text}" is not an S/P ratio of lab ${lab.id}: an antibody ELISA result is a number, with no not-detected word${hint}` };
+    const hint =
+      other !== undefined
+        ? ` (it would read as ${other} with a "${lab.decimal === '.' ? ',' : '.'}" decimal mark; check the lab profile's format.decimal)`
+        : '';
+    return {
+      kind: 'error',
+      code: 'bad-sp',
+      detail: `"${text}" is not an S/P ratio of lab ${lab.id}: an antibody ELISA result is a number, with no not-detected word${hint}`,
+    };
   }
   if (value < SP_RANGE.min || value > SP_RANGE.max) {
     return {

@@ -97,7 +97,10 @@ export function ringCandidates(
   const tier = new Map<string, ContactTier>();
   const mark = (pairs: [string, string][], t: ContactTier) => {
     for (const [a, b] of pairs) {
-      for (const [from, to] of [[a, b], [b, a]] as const) {
+      for (const [from, to] of [
+        [a, b],
+        [b, a],
+      ] as const) {
         if (!clusterPens.has(from) || clusterPens.has(to)) continue;
         const current = tier.get(to);
         if (current === undefined || TIER_RANK[t] < TIER_RANK[current]) tier.set(to, t);
@@ -171,7 +174,8 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
       throw new RangeError(`\`routine\` must name in-use pens of the barn, got ${JSON.stringify(id)}`);
     }
   }
-  if (input.maxExtraRopes !== undefined) requireInteger('maxExtraRopes', input.maxExtraRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
+  if (input.maxExtraRopes !== undefined)
+    requireInteger('maxExtraRopes', input.maxExtraRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   const notes: string[] = [];
   const retest = new Set<string>();
   for (const id of input.retest) {
@@ -187,7 +191,8 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
   const limit = Math.min(input.maxExtraRopes ?? extras.length, extras.length);
   const base = [...retest, ...input.routine.filter((id) => !retest.has(id))];
   const added = input.detectSet ? lazyGreedy(input.detectSet, base, extras, limit) : extras.slice(0, limit);
-  if (limit < extras.length) notes.push(`${extras.length - limit} ring pens left without a follow-up rope (limit ${limit}).`);
+  if (limit < extras.length)
+    notes.push(`${extras.length - limit} ring pens left without a follow-up rope (limit ${limit}).`);
   const followUp = new Set([...free, ...added]);
   const ropes: PlannedRope[] = [];
   for (const pen of input.pens) {
@@ -200,6 +205,8 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
           : undefined;
     if (reason) ropes.push({ penId: pen.id, reason });
   }
-  const detection = input.detectSet ? requireProbability('detectSet', input.detectSet(ropes.map((r) => r.penId))) : null;
+  const detection = input.detectSet
+    ? requireProbability('detectSet', input.detectSet(ropes.map((r) => r.penId)))
+    : null;
   return { ropes, ring, added, detection, notes };
 }

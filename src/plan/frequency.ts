@@ -36,7 +36,12 @@ export function roundDue(lastRoundDate: string, intervalDays: number, today: str
   }
   const due = addDays(last, intervalDays);
   const daysUntilDue = differenceInCalendarDays(due, now);
-  return { dueDate: format(due, 'yyyy-MM-dd'), daysUntilDue, overdue: daysUntilDue < 0, daysOverdue: Math.max(0, -daysUntilDue) };
+  return {
+    dueDate: format(due, 'yyyy-MM-dd'),
+    daysUntilDue,
+    overdue: daysUntilDue < 0,
+    daysOverdue: Math.max(0, -daysUntilDue),
+  };
 }
 
 /**
@@ -63,7 +68,12 @@ export function freedomAfterNegative(prior: number, sensitivity: number): number
  * @throws RangeError for freedom or PI outside [0, 1], days < 0, or D <= 0
  * @see Martin, Cameron & Greiner (2007) Prev Vet Med 79:71-97.
  */
-export function discountForIntroduction(freedom: number, introductionPerInterval: number, days: number, intervalDays: number): number {
+export function discountForIntroduction(
+  freedom: number,
+  introductionPerInterval: number,
+  days: number,
+  intervalDays: number,
+): number {
   requireNumber('freedom', freedom, 0, 1);
   requireNumber('introductionPerInterval', introductionPerInterval, 0, 1);
   requireNumber('days', days, 0, Infinity, { range: '[0, infinity)' });
@@ -99,13 +109,18 @@ export function onTimeVersusMissed(input: {
   intervalDays: number;
   freedomAfter?: (daysElapsed: number, roundSensitivity: number) => number;
 }): OnTimeVersusMissed {
-  const discount = (days: number) => discountForIntroduction(input.currentFreedom, input.introductionPerInterval, days, input.intervalDays);
+  const discount = (days: number) =>
+    discountForIntroduction(input.currentFreedom, input.introductionPerInterval, days, input.intervalDays);
   const freedomAfter = input.freedomAfter ?? ((days: number, sse: number) => freedomAfterNegative(discount(days), sse));
   requireNumber('roundSensitivity', input.roundSensitivity, 0, 1);
   const onTime = freedomAfter(input.intervalDays, input.roundSensitivity);
   const missed = freedomAfter(2 * input.intervalDays, input.roundSensitivity);
   const withoutRound = discount(input.intervalDays);
-  for (const [name, v] of [['onTime', onTime], ['missed', missed]] as const) requireNumber(`freedomAfter (${name})`, v, 0, 1);
+  for (const [name, v] of [
+    ['onTime', onTime],
+    ['missed', missed],
+  ] as const)
+    requireNumber(`freedomAfter (${name})`, v, 0, 1);
   return {
     onTime,
     withoutRound,

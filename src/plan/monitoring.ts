@@ -81,16 +81,23 @@ export function planMonitoredBarn(input: MonitoredBarnInput): MonitoredBarnPlan 
     ...(input.maxExtraRopes !== undefined ? { maxExtraRopes: input.maxExtraRopes } : {}),
     ...(input.detectSet ? { detectSet: input.detectSet } : {}),
   });
-  const ropes = followUp.ropes.map((rope): MonitoredRope => ({
-    penId: rope.penId,
-    reason: reRope.has(rope.penId) ? 're-rope' : rope.reason === 'routine' ? 'tracking' : rope.reason,
-  }));
+  const ropes = followUp.ropes.map(
+    (rope): MonitoredRope => ({
+      penId: rope.penId,
+      reason: reRope.has(rope.penId) ? 're-rope' : rope.reason === 'routine' ? 'tracking' : rope.reason,
+    }),
+  );
   const notes = [
     `Positive barn: monitored, not surveyed. ${input.reRope.length} positive pen${input.reRope.length === 1 ? '' : 's'} re-roped so that their Ct series continue; ` +
       `${tracking.penIds.length} fixed tracking rope${tracking.penIds.length === 1 ? '' : 's'} (${tracking.penIds.join(', ') || 'none'}), the same pens every round, spread evenly along the barn to follow spread and clearance.`,
     ...followUp.notes,
   ];
-  return { ropes, tracking: tracking.penIds, trackingCoveringRadius: tracking.penIds.length > 0 ? tracking.coveringRadius : null, notes };
+  return {
+    ropes,
+    tracking: tracking.penIds,
+    trackingCoveringRadius: tracking.penIds.length > 0 ? tracking.coveringRadius : null,
+    notes,
+  };
 }
 
 /**
@@ -99,7 +106,12 @@ export function planMonitoredBarn(input: MonitoredBarnInput): MonitoredBarnPlan 
  * pen that tested negative after its positive has its series; a pen whose later rope failed or
  * was not hung still needs one). In pen order of the barn's layout.
  */
-export function pensToReRope(rounds: readonly SiteRound[], barnId: string, assays: readonly string[], sinceRound: number): string[] {
+export function pensToReRope(
+  rounds: readonly SiteRound[],
+  barnId: string,
+  assays: readonly string[],
+  sinceRound: number,
+): string[] {
   const latest = new Map<string, string>();
   for (const round of rounds) {
     if (round.number < sinceRound) continue;
@@ -115,7 +127,11 @@ export function pensToReRope(rounds: readonly SiteRound[], barnId: string, assay
     }
   }
   const pens = new Set([...latest].filter(([, state]) => state === 'positive').map(([key]) => key.split('\u0000')[0]!));
-  const order = rounds.at(-1)?.barns.find((entry) => entry.barnId === barnId)?.pens.map((pen) => pen.penId) ?? [];
+  const order =
+    rounds
+      .at(-1)
+      ?.barns.find((entry) => entry.barnId === barnId)
+      ?.pens.map((pen) => pen.penId) ?? [];
   const rank = (penId: string) => {
     const index = order.indexOf(penId);
     return index === -1 ? order.length : index;

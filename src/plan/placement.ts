@@ -203,7 +203,10 @@ function bestStartPhase(grid: Grid, ropes: number): number {
   let bestRadius = Infinity;
   let bestMean = Infinity;
   for (let phase = 0; phase < cycle; phase++) {
-    const { coveringRadius, meanDistance } = placementDistances(grid.pens, placeAtPhase(grid, ropes, phase).map((r) => r.penId));
+    const { coveringRadius, meanDistance } = placementDistances(
+      grid.pens,
+      placeAtPhase(grid, ropes, phase).map((r) => r.penId),
+    );
     const radius = coveringRadius ?? Infinity;
     const mean = meanDistance ?? Infinity;
     if (radius < bestRadius - EPS || (Math.abs(radius - bestRadius) <= EPS && mean < bestMean - EPS)) {
@@ -228,7 +231,10 @@ function gcd(a: number, b: number): number {
 function periodNotes(grid: Grid, ropes: PlacedRope[], period: number): string[] {
   const notes: string[] = [];
   for (let row = 0; row < grid.rows; row++) {
-    const positions = ropes.filter((r) => r.targetRow === row).map((r) => r.targetPosition).sort((a, b) => a - b);
+    const positions = ropes
+      .filter((r) => r.targetRow === row)
+      .map((r) => r.targetPosition)
+      .sort((a, b) => a - b);
     if (positions.length < 2) continue;
     const gaps = new Set(positions.slice(1).map((p, i) => p - positions[i]!));
     if (gaps.size !== 1) continue;
@@ -270,7 +276,8 @@ export function placeSystematic(pens: readonly Pen[], options: SystematicOptions
   const distances = placementDistances(pens, penIds);
   const notes = options.period !== undefined ? periodNotes(grid, ropes, options.period) : [];
   const snapped = ropes.filter((r) => r.snapped).length;
-  if (snapped > 0) notes.push(`${snapped} of ${ropes.length} ropes moved to the nearest in-use pen (target empty or out of use).`);
+  if (snapped > 0)
+    notes.push(`${snapped} of ${ropes.length} ropes moved to the nearest in-use pen (target empty or out of use).`);
   return { ropes, penIds, phase, startPhase, cycleLength, ...distances, notes };
 }
 

@@ -109,12 +109,14 @@ function clustersOf(barn: BarnRoundInput): string[][] {
  * @see Cochran WG (1977) Sampling Techniques, ch. 8; ISO/IEC 7064:2003 MOD 37-2.
  */
 export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
-  if (!/^\d{4}-\d{2}-\d{2}$/.test(input.dueDate)) throw new RangeError(`\`dueDate\` must be a date yyyy-mm-dd, got ${JSON.stringify(input.dueDate)}`);
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(input.dueDate))
+    throw new RangeError(`\`dueDate\` must be a date yyyy-mm-dd, got ${JSON.stringify(input.dueDate)}`);
   requireInteger('round', input.round, 0, 9999);
   formatSampleId({ siteCode: input.siteCode, round: input.round, sequence: 1 }); // validates the site code
   const seen = new Set<string>();
   for (const barn of input.barns) {
-    if (seen.has(barn.barnId)) throw new RangeError(`\`barnId\` must be unique within the site, got ${JSON.stringify(barn.barnId)} twice`);
+    if (seen.has(barn.barnId))
+      throw new RangeError(`\`barnId\` must be unique within the site, got ${JSON.stringify(barn.barnId)} twice`);
     seen.add(barn.barnId);
   }
   let sequence = 0;
@@ -146,10 +148,21 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
       for (const pen of walkingOrder(pens)) {
         const reason = reasonOf.get(pen.id);
         if (!reason) continue;
-        rows.push({ sampleId: nextId(), siteId: input.siteCode.toUpperCase(), barnId: barn.barnId, penId: pen.id, side: pen.rowLabel, reason, dueDate: input.dueDate });
+        rows.push({
+          sampleId: nextId(),
+          siteId: input.siteCode.toUpperCase(),
+          barnId: barn.barnId,
+          penId: pen.id,
+          side: pen.rowLabel,
+          reason,
+          dueDate: input.dueDate,
+        });
       }
       const count = (reason: PlanReason) => monitored.ropes.filter((r) => r.reason === reason).length;
-      const all = placementDistances(pens, monitored.ropes.map((r) => r.penId));
+      const all = placementDistances(
+        pens,
+        monitored.ropes.map((r) => r.penId),
+      );
       barns.push({
         barnId: barn.barnId,
         ropes: monitored.ropes.length,
@@ -186,10 +199,21 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
     for (const pen of walkingOrder(pens)) {
       const reason = reasonOf.get(pen.id);
       if (!reason) continue;
-      rows.push({ sampleId: nextId(), siteId: input.siteCode.toUpperCase(), barnId: barn.barnId, penId: pen.id, side: pen.rowLabel, reason, dueDate: input.dueDate });
+      rows.push({
+        sampleId: nextId(),
+        siteId: input.siteCode.toUpperCase(),
+        barnId: barn.barnId,
+        penId: pen.id,
+        side: pen.rowLabel,
+        reason,
+        dueDate: input.dueDate,
+      });
     }
     const count = (reason: PlanReason) => followUp.ropes.filter((r) => r.reason === reason).length;
-    const all = placementDistances(pens, followUp.ropes.map((r) => r.penId));
+    const all = placementDistances(
+      pens,
+      followUp.ropes.map((r) => r.penId),
+    );
     const coverage = barn.routineRopes > 0 ? coverageRounds(pens, barn.routineRopes, barn.roundIndex) : null;
     barns.push({
       barnId: barn.barnId,

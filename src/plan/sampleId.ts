@@ -60,7 +60,8 @@ export function pureSystemCheckValue(values: readonly number[], modulus: number)
 function mod37Values(text: string): number[] {
   return [...text].map((ch) => {
     const value = MOD37_ALPHABET.indexOf(ch);
-    if (value < 0 || value === 36) throw new RangeError(`\`text\` must contain only 0-9 and A-Z, got ${JSON.stringify(text)}`);
+    if (value < 0 || value === 36)
+      throw new RangeError(`\`text\` must contain only 0-9 and A-Z, got ${JSON.stringify(text)}`);
     return value;
   });
 }
@@ -93,7 +94,9 @@ export interface SampleIdParts {
 export function formatSampleId(parts: SampleIdParts): string {
   const siteCode = parts.siteCode.toUpperCase();
   if (!SITE_PATTERN.test(siteCode)) {
-    throw new RangeError(`\`siteCode\` must be 2 to 5 characters A-Z or 0-9 ending in a letter, got ${JSON.stringify(parts.siteCode)}`);
+    throw new RangeError(
+      `\`siteCode\` must be 2 to 5 characters A-Z or 0-9 ending in a letter, got ${JSON.stringify(parts.siteCode)}`,
+    );
   }
   requireInteger('round', parts.round, 0, 9999);
   requireInteger('sequence', parts.sequence, 1, 999);
@@ -115,7 +118,12 @@ function normalise(text: string): string {
   return text.replace(/\s+/g, '').toUpperCase();
 }
 
-interface GrammarMatch { siteCode: string; roundText: string; sequenceText: string; check: string }
+interface GrammarMatch {
+  siteCode: string;
+  roundText: string;
+  sequenceText: string;
+  check: string;
+}
 
 function matchGrammar(text: string): GrammarMatch | null {
   const match = ID_PATTERN.exec(normalise(text));

@@ -52,8 +52,16 @@ export interface ScheduleInput {
 function scheduleShapes(input: ScheduleInput): { label: ScheduleLabel; ropes: number; intervalDays: number }[] {
   return [
     { label: 'current', ropes: input.ropes, intervalDays: input.intervalDays },
-    { label: 'half the ropes, twice as often', ropes: Math.ceil(input.ropes / 2), intervalDays: input.intervalDays / 2 },
-    { label: 'twice the ropes, half as often', ropes: Math.min(2 * input.ropes, input.maxRopes), intervalDays: 2 * input.intervalDays },
+    {
+      label: 'half the ropes, twice as often',
+      ropes: Math.ceil(input.ropes / 2),
+      intervalDays: input.intervalDays / 2,
+    },
+    {
+      label: 'twice the ropes, half as often',
+      ropes: Math.min(2 * input.ropes, input.maxRopes),
+      intervalDays: 2 * input.intervalDays,
+    },
   ];
 }
 
@@ -65,9 +73,16 @@ function validateSchedule(input: ScheduleInput): void {
 
 function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): string[] {
   const notes: string[] = [];
-  if (input.ropes % 2 === 1) notes.push(`${input.ropes} ropes do not halve; the more-often schedule uses ${Math.ceil(input.ropes / 2)} (slightly more ropes per month).`);
-  if (2 * input.ropes > input.maxRopes) notes.push(`Twice ${input.ropes} ropes exceeds the ${input.maxRopes} pens in use; the less-often schedule is capped (fewer ropes per month).`);
-  for (const o of options) if (o.expectedDelayDays === null) notes.push(`${o.label}: a round detects nothing at this prevalence.`);
+  if (input.ropes % 2 === 1)
+    notes.push(
+      `${input.ropes} ropes do not halve; the more-often schedule uses ${Math.ceil(input.ropes / 2)} (slightly more ropes per month).`,
+    );
+  if (2 * input.ropes > input.maxRopes)
+    notes.push(
+      `Twice ${input.ropes} ropes exceeds the ${input.maxRopes} pens in use; the less-often schedule is capped (fewer ropes per month).`,
+    );
+  for (const o of options)
+    if (o.expectedDelayDays === null) notes.push(`${o.label}: a round detects nothing at this prevalence.`);
   return notes;
 }
 
@@ -114,7 +129,9 @@ export interface SimulatedDelay {
 
 /** Infected pens a days after introduction: min(N, floor(d0 2^(a/T))), at least d0. */
 export function infectedAfter(model: GrowthModel, days: number): number {
-  const grown = Number.isFinite(model.doublingDays) ? Math.floor(model.initialInfected * 2 ** (days / model.doublingDays)) : model.initialInfected;
+  const grown = Number.isFinite(model.doublingDays)
+    ? Math.floor(model.initialInfected * 2 ** (days / model.doublingDays))
+    : model.initialInfected;
   return Math.min(model.maxInfected, Math.max(model.initialInfected, grown));
 }
 
@@ -193,6 +210,9 @@ export function compareSchedulesGrowing(
   const statics = compareSchedules({ ...input, detect: atIntroduction });
   return {
     options: statics.options.map((option) => ({ ...option, simulated: simulateDelay(option, model, options) })),
-    notes: [...statics.notes, 'Per-round detection and expected delay are at the introduced prevalence; the simulated delay lets it grow.'],
+    notes: [
+      ...statics.notes,
+      'Per-round detection and expected delay are at the introduced prevalence; the simulated delay lets it grow.',
+    ],
   };
 }

@@ -80,7 +80,8 @@ export function smallestRopes(detect: DetectFn, target: number, maxRopes: number
   requireInteger('maxRopes', maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   const at = (n: number) => requireProbability('detect', detect(n));
   const ceiling = at(maxRopes);
-  if (ceiling < target - TARGET_SLACK) return unreachable(ceiling, target, `a rope in every one of the ${maxRopes} pens`);
+  if (ceiling < target - TARGET_SLACK)
+    return unreachable(ceiling, target, `a rope in every one of the ${maxRopes} pens`);
   let low = 0; // detect(low) may fall short
   let high = maxRopes; // detect(high) reaches the target
   if (at(0) >= target - TARGET_SLACK) return { reachable: true, ropes: 0, achieved: at(0) };
@@ -135,7 +136,9 @@ function logMiss(p: number): number {
 
 function logMissTable(barn: BarnSizing): number[] {
   requireInteger(`maxRopes of ${barn.barnId}`, barn.maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  return Array.from({ length: barn.maxRopes + 1 }, (_, n) => logMiss(requireProbability(`detect of ${barn.barnId}`, barn.detect(n))));
+  return Array.from({ length: barn.maxRopes + 1 }, (_, n) =>
+    logMiss(requireProbability(`detect of ${barn.barnId}`, barn.detect(n))),
+  );
 }
 
 /** Gain in -log-miss from the (n+1)th rope; 0 once the barn already detects with certainty. */
@@ -160,11 +163,21 @@ export function hasDiminishingReturns(table: readonly number[]): boolean {
   return true;
 }
 
-function summarise(barns: readonly BarnSizing[], tables: number[][], ropes: number[], method: Allocation['method'], budget: number): Allocation {
+function summarise(
+  barns: readonly BarnSizing[],
+  tables: number[][],
+  ropes: number[],
+  method: Allocation['method'],
+  budget: number,
+): Allocation {
   const total = ropes.reduce((a, b) => a + b, 0);
   const log = ropes.reduce((sum, n, b) => sum + tables[b]![n]!, 0);
   return {
-    ropes: barns.map((barn, b) => ({ barnId: barn.barnId, ropes: ropes[b]!, detection: -Math.expm1(tables[b]![ropes[b]!]!) })),
+    ropes: barns.map((barn, b) => ({
+      barnId: barn.barnId,
+      ropes: ropes[b]!,
+      detection: -Math.expm1(tables[b]![ropes[b]!]!),
+    })),
     total,
     siteDetection: -Math.expm1(log),
     method,
@@ -187,7 +200,12 @@ export function greedyAllocation(barns: readonly BarnSizing[], budget: number): 
   return greedyOnTables(barns, tables, budget, () => false);
 }
 
-function greedyOnTables(barns: readonly BarnSizing[], tables: number[][], budget: number, stop: (log: number) => boolean): Allocation {
+function greedyOnTables(
+  barns: readonly BarnSizing[],
+  tables: number[][],
+  budget: number,
+  stop: (log: number) => boolean,
+): Allocation {
   const ropes = barns.map(() => 0);
   let log = tables.reduce((sum, t) => sum + t[0]!, 0);
   for (let spent = 0; spent < budget && log !== -Infinity && !stop(log); spent++) {
@@ -213,7 +231,11 @@ function greedyOnTables(barns: readonly BarnSizing[], tables: number[][], budget
  * the first b barns with m ropes, O(barns * budget^2). Among equal optima the smaller total, then
  * the earlier barns get more ropes.
  */
-function dynamicProgramming(barns: readonly BarnSizing[], tables: number[][], budget: number): { log: number[]; choice: number[][] } {
+function dynamicProgramming(
+  barns: readonly BarnSizing[],
+  tables: number[][],
+  budget: number,
+): { log: number[]; choice: number[][] } {
   let best: number[] = Array.from({ length: budget + 1 }, () => 0);
   const choice: number[][] = [];
   for (let b = 0; b < barns.length; b++) {
@@ -271,8 +293,15 @@ function smallestBudgetFor(log: readonly number[], value: number, limit: number)
 export function allocateRopes(barns: readonly BarnSizing[], budget: number): Allocation {
   requireInteger('budget', budget, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   const tables = barns.map(logMissTable);
-  const capped = Math.min(budget, barns.reduce((sum, barn) => sum + barn.maxRopes, 0));
-  if (tables.every(hasDiminishingReturns)) return withUnused(greedyOnTables(barns, tables, capped, () => false), budget);
+  const capped = Math.min(
+    budget,
+    barns.reduce((sum, barn) => sum + barn.maxRopes, 0),
+  );
+  if (tables.every(hasDiminishingReturns))
+    return withUnused(
+      greedyOnTables(barns, tables, capped, () => false),
+      budget,
+    );
   const { log, choice } = dynamicProgramming(barns, tables, capped);
   const needed = smallestBudgetFor(log, log[capped]!, capped);
   const { choice: neededChoice } = needed === capped ? { choice } : dynamicProgramming(barns, tables, needed);
@@ -298,15 +327,21 @@ export function allocateRopes(barns: readonly BarnSizing[], budget: number): All
  */
 export function allocateRopesBalanced(barns: readonly BarnSizing[], budget: number): Allocation {
   requireInteger('budget', budget, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const capped = Math.min(budget, barns.reduce((sum, barn) => sum + barn.maxRopes, 0));
-  const detections = barns.map((barn) => Array.from({ length: barn.maxRopes + 1 }, (_, n) => requireProbability(`detect of ${barn.barnId}`, barn.detect(n))));
+  const capped = Math.min(
+    budget,
+    barns.reduce((sum, barn) => sum + barn.maxRopes, 0),
+  );
+  const detections = barns.map((barn) =>
+    Array.from({ length: barn.maxRopes + 1 }, (_, n) => requireProbability(`detect of ${barn.barnId}`, barn.detect(n))),
+  );
   // Stage 1: best[m] = the largest min_b p_b over the barns so far with m ropes.
   let best: number[] = Array.from({ length: capped + 1 }, () => 1);
   for (let b = 0; b < barns.length; b++) {
     const table = detections[b]!;
     best = best.map((_, m) => {
       let value = -1;
-      for (let n = 0; n <= Math.min(m, barns[b]!.maxRopes); n++) value = Math.max(value, Math.min(best[m - n]!, table[n]!));
+      for (let n = 0; n <= Math.min(m, barns[b]!.maxRopes); n++)
+        value = Math.max(value, Math.min(best[m - n]!, table[n]!));
       return value;
     });
   }
@@ -316,7 +351,13 @@ export function allocateRopesBalanced(barns: readonly BarnSizing[], budget: numb
   const { log, choice } = dynamicProgramming(barns, tables, capped);
   const needed = smallestBudgetFor(log, log[capped]!, capped);
   const { choice: neededChoice } = needed === capped ? { choice } : dynamicProgramming(barns, tables, needed);
-  return summarise(barns, detections.map((table) => table.map(logMiss)), traceBack(barns, neededChoice, needed), 'balanced', budget);
+  return summarise(
+    barns,
+    detections.map((table) => table.map(logMiss)),
+    traceBack(barns, neededChoice, needed),
+    'balanced',
+    budget,
+  );
 }
 
 function withUnused(allocation: Allocation, budget: number): Allocation {
@@ -350,10 +391,15 @@ export function sizeSite(barns: readonly BarnSizing[], siteTarget: number, budge
   const targetLog = Math.log1p(-(siteTarget - TARGET_SLACK));
   const barnTarget = barnTargetForSite(siteTarget, barns.length);
   const shares = barns.map((barn) => smallestRopes(barn.detect, barnTarget, barn.maxRopes));
-  const equalShareTotal = shares.every((s) => s.reachable) ? shares.reduce((sum, s) => sum + (s as Reached).ropes, 0) : null;
+  const equalShareTotal = shares.every((s) => s.reachable)
+    ? shares.reduce((sum, s) => sum + (s as Reached).ropes, 0)
+    : null;
   let allocation: Allocation;
   if (tables.every(hasDiminishingReturns)) {
-    allocation = withUnused(greedyOnTables(barns, tables, limit, (log) => log <= targetLog), limit);
+    allocation = withUnused(
+      greedyOnTables(barns, tables, limit, (log) => log <= targetLog),
+      limit,
+    );
   } else {
     const { log, choice } = dynamicProgramming(barns, tables, limit);
     let m = 0;
@@ -363,8 +409,16 @@ export function sizeSite(barns: readonly BarnSizing[], siteTarget: number, budge
   }
   allocation = withUnused(allocation, budget ?? allocation.total);
   if (allocation.siteDetection >= siteTarget - TARGET_SLACK) return { reachable: true, allocation, equalShareTotal };
-  const what = budget !== undefined && budget < available ? `the best use of the budget of ${budget} ropes` : `a rope in every in-use pen of the site`;
-  return { reachable: false, allocation, equalShareTotal, unreachable: unreachable(allocation.siteDetection, siteTarget, what) };
+  const what =
+    budget !== undefined && budget < available
+      ? `the best use of the budget of ${budget} ropes`
+      : `a rope in every in-use pen of the site`;
+  return {
+    reachable: false,
+    allocation,
+    equalShareTotal,
+    unreachable: unreachable(allocation.siteDetection, siteTarget, what),
+  };
 }
 
 /** A Monte Carlo detection estimate of n ropes: the mean over simulated outbreaks and its standard error. */
@@ -395,7 +449,12 @@ export interface ConservativeReach {
  * @see Koehler E, Brown E, Haneuse SJ-PA (2009) On the assessment of Monte Carlo error in
  *   simulation-based statistical analyses. Am Stat 63:155-162 (from memory).
  */
-export function smallestRopesConservative(estimate: (ropes: number) => EstimatedDetection, target: number, maxRopes: number, margin = 2): ConservativeReach {
+export function smallestRopesConservative(
+  estimate: (ropes: number) => EstimatedDetection,
+  target: number,
+  maxRopes: number,
+  margin = 2,
+): ConservativeReach {
   requireNumber('target', target, 0, 1, { openMin: true, openMax: true });
   requireInteger('maxRopes', maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   requireNumber('margin', margin, 0, Number.MAX_VALUE);

@@ -56,7 +56,8 @@ export const CLUSTERS_COLUMNS = [
 type Column = (typeof CLUSTERS_COLUMNS)[number];
 type Row = CsvRow<Column>;
 
-const num = (value: number | null | undefined, digits = 6) => (value === null || value === undefined ? null : Number(value.toFixed(digits)));
+const num = (value: number | null | undefined, digits = 6) =>
+  value === null || value === undefined ? null : Number(value.toFixed(digits));
 
 export function clustersCsv(spatial: RoundSpatial): string {
   const rows: Row[] = [];

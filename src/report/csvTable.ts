@@ -21,7 +21,14 @@ const PLAIN_NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
  * text (OWASP, "CSV Injection").
  */
 export function csvCell(value: string | number | boolean | null | undefined): string {
-  const text = value === null || value === undefined ? '' : typeof value === 'boolean' ? (value ? 'true' : 'false') : String(value);
+  const text =
+    value === null || value === undefined
+      ? ''
+      : typeof value === 'boolean'
+        ? value
+          ? 'true'
+          : 'false'
+        : String(value);
   return FORMULA_START.test(text) && !PLAIN_NUMBER.test(text) ? `'${text}` : text;
 }
 

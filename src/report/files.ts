@@ -32,7 +32,8 @@ export function writeJson(file: string, value: unknown): void {
 export function removeStaleFolders(dir: string, pattern: RegExp, keep: ReadonlySet<string>): void {
   if (!fs.existsSync(dir)) return;
   for (const entry of fs.readdirSync(dir, { withFileTypes: true })) {
-    if (entry.isDirectory() && pattern.test(entry.name) && !keep.has(entry.name)) fs.rmSync(path.join(dir, entry.name), { recursive: true, force: true });
+    if (entry.isDirectory() && pattern.test(entry.name) && !keep.has(entry.name))
+      fs.rmSync(path.join(dir, entry.name), { recursive: true, force: true });
   }
 }
 

@@ -14,7 +14,15 @@ export const NEXT_ROUND_COLUMNS = ['sample_id', 'site', 'barn', 'pen', 'side', '
 export const NEXT_ROUND_POOL_COLUMN = 'pool';
 
 export function nextRoundCsv(plan: NextRoundPlan): string {
-  const rows = plan.ropes.map((rope) => ({ sample_id: rope.sampleId, site: rope.siteId, barn: rope.barnId, pen: rope.penId, side: rope.side, reason: rope.reason, due_date: rope.dueDate }));
+  const rows = plan.ropes.map((rope) => ({
+    sample_id: rope.sampleId,
+    site: rope.siteId,
+    barn: rope.barnId,
+    pen: rope.penId,
+    side: rope.side,
+    reason: rope.reason,
+    due_date: rope.dueDate,
+  }));
   if (!plan.ropes.some((rope) => rope.poolId !== undefined)) return csvTable(NEXT_ROUND_COLUMNS, rows);
   return csvTable(
     [...NEXT_ROUND_COLUMNS, NEXT_ROUND_POOL_COLUMN] as const,

@@ -32,7 +32,11 @@ function noticesFor(config: Config, assayIds: readonly string[]): string[] {
 }
 
 /** The digest of one site for the index (also written as site.json). */
-export function siteDigest(config: Config, analysis: SiteAnalysis, alerts: readonly PageAlert[][] = alertsOfRounds(analysis)): SiteDigest {
+export function siteDigest(
+  config: Config,
+  analysis: SiteAnalysis,
+  alerts: readonly PageAlert[][] = alertsOfRounds(analysis),
+): SiteDigest {
   const { site, summaries, plan } = analysis;
   const lastIndex = summaries.length - 1;
   const latest = summaries[lastIndex];
@@ -42,11 +46,16 @@ export function siteDigest(config: Config, analysis: SiteAnalysis, alerts: reado
     summary: `${site.id}/${summary.round.id}/summary.html`,
     clusters: `${site.id}/${summary.round.id}/clusters.html`,
   }));
-  const siteAssays = summaries.length > 0 ? summaries.flatMap((summary) => summary.assays.map((assay) => assay.id)) : config.assays.map((assay) => assay.id);
+  const siteAssays =
+    summaries.length > 0
+      ? summaries.flatMap((summary) => summary.assays.map((assay) => assay.id))
+      : config.assays.map((assay) => assay.id);
   return {
     schema: DIGEST_SCHEMA,
     site: { id: site.id, name: site.name },
-    latestRound: latest ? { number: latest.round.number, id: latest.round.id, startOn: latest.round.startOn, endOn: latest.round.endOn } : null,
+    latestRound: latest
+      ? { number: latest.round.number, id: latest.round.id, startOn: latest.round.startOn, endOn: latest.round.endOn }
+      : null,
     alerts: latest ? [...alerts[lastIndex]!] : [],
     notices: noticesFor(config, siteAssays),
     nextRound: { round: plan.round, dueDate: plan.dueDate, overdue: plan.overdue, daysOverdue: plan.daysOverdue },
@@ -70,27 +79,60 @@ export function siteDigest(config: Config, analysis: SiteAnalysis, alerts: reado
  * @param alertsByRound every round's alerts (alertsOfRounds), when the caller has them already
  * @throws whatever the file system throws
  */
-export function writeSitePages(outbox: string, config: Config, analysis: SiteAnalysis, writer: OutputWriter = atomicWriter, alertsByRound: readonly PageAlert[][] = alertsOfRounds(analysis)): void {
+export function writeSitePages(
+  outbox: string,
+  config: Config,
+  analysis: SiteAnalysis,
+  writer: OutputWriter = atomicWriter,
+  alertsByRound: readonly PageAlert[][] = alertsOfRounds(analysis),
+): void {
   const { site, summaries, spatial, plan } = analysis;
   const siteDir = path.join(outbox, site.id);
   summaries.forEach((summary, index) => {
     const roundDir = path.join(siteDir, summary.round.id);
     const alerts = alertsByRound[index]!;
-    const notices = noticesFor(config, summary.assays.map((assay) => assay.id));
+    const notices = noticesFor(
+      config,
+      summary.assays.map((assay) => assay.id),
+    );
     const current = analysis.rounds.find((round) => round.id === summary.round.id);
     const before = index > 0 ? analysis.rounds.find((round) => round.id === summaries[index - 1]!.round.id) : undefined;
     const since = current ? sinceLastRound(before ?? null, current) : undefined;
     const herdStatus = herdStatusBlock(site.herdStatus, summary);
-    writer.write(path.join(roundDir, 'summary.html'), renderSummaryPage({ summary, alerts, notices, herdStatus, ...(since ? { since } : {}) }));
+    writer.write(
+      path.join(roundDir, 'summary.html'),
+      renderSummaryPage({ summary, alerts, notices, herdStatus, ...(since ? { since } : {}) }),
+    );
     writer.write(
       path.join(roundDir, 'clusters.html'),
-      renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: config.analysis.alpha, alerts, notices, herdStatus }),
+      renderClustersPage({
+        site,
+        summaries,
+        spatial,
+        index,
+        assays: config.assayById,
+        alpha: config.analysis.alpha,
+        alerts,
+        notices,
+        herdStatus,
+      }),
     );
   });
   const digest = siteDigest(config, analysis, alertsByRound);
-  writer.write(path.join(siteDir, 'next-round.html'), renderRopeSheetPage({ site, plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));
+  writer.write(
+    path.join(siteDir, 'next-round.html'),
+    renderRopeSheetPage({
+      site,
+      plan,
+      notices: digest.notices,
+      herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)),
+    }),
+  );
   for (const page of nextRoundLabelPages(plan, digest.notices)) writer.write(path.join(siteDir, page.file), page.html);
-  writer.write(path.join(siteDir, 'plan.html'), renderPlanPage({ plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }));
+  writer.write(
+    path.join(siteDir, 'plan.html'),
+    renderPlanPage({ plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }),
+  );
   writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
 }
 
@@ -122,6 +164,10 @@ export function writeIndex(outbox: string, config: Config): void {
     }
   }
   const rank = new Map(config.sites.map((site, index) => [site.id, index]));
-  digests.sort((a, b) => (rank.get(a.site.id) ?? Infinity) - (rank.get(b.site.id) ?? Infinity) || (a.site.id < b.site.id ? -1 : a.site.id > b.site.id ? 1 : 0));
+  digests.sort(
+    (a, b) =>
+      (rank.get(a.site.id) ?? Infinity) - (rank.get(b.site.id) ?? Infinity) ||
+      (a.site.id < b.site.id ? -1 : a.site.id > b.site.id ? 1 : 0),
+  );
   atomicWriter.write(path.join(outbox, INDEX_PAGE), renderIndexPage(digests, config.organisation));
 }

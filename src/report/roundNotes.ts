@@ -79,7 +79,9 @@ export function comparableId(raw: string): string {
  * A rope's refused rows by the ID as written (compared as ingest compares it) and file, with their
  * lines: one correction covers each group, and corrections.yaml refuses two for the same ID and file.
  */
-export function refusalGroups(rope: Pick<MistypedRope, 'refusals'>): { written: string; fileName: string; lines: number[] }[] {
+export function refusalGroups(
+  rope: Pick<MistypedRope, 'refusals'>,
+): { written: string; fileName: string; lines: number[] }[] {
   const groups: { written: string; fileName: string; lines: number[] }[] = [];
   for (const refusal of rope.refusals) {
     const written = comparableId(refusal.written);
@@ -112,10 +114,14 @@ export function ingestAgainCommand(fileName: string): string {
 }
 
 /** What clinic staff do about a result refused under a mistyped ID. */
-export const MISTYPED_ACTION = 'confirm the ID with the lab or the producer, then add it to config/corrections.yaml and ingest the file again';
+export const MISTYPED_ACTION =
+  'confirm the ID with the lab or the producer, then add it to config/corrections.yaml and ingest the file again';
 
 /** The IDs of a barn's ropes without a result for which no row came back under a mistyped ID. */
-export function simplyMissing(barn: { missingSampleIds: readonly string[]; mistyped: readonly Pick<MistypedRope, 'sampleId'>[] }): string[] {
+export function simplyMissing(barn: {
+  missingSampleIds: readonly string[];
+  mistyped: readonly Pick<MistypedRope, 'sampleId'>[];
+}): string[] {
   const refused = new Set(barn.mistyped.map((rope) => rope.sampleId));
   return barn.missingSampleIds.filter((sampleId) => !refused.has(sampleId));
 }

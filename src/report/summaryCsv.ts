@@ -113,11 +113,19 @@ export function spHistoryCell(point: Pick<CtHistoryPoint, 'round' | 'sp' | 'resu
 }
 
 /** The provenance cells of a site or barn row: labs, case numbers, collection and report dates of the reports behind it. */
-function provenance(sources: readonly Pick<SourceSummary, 'labName' | 'accessions' | 'reportedOn' | 'collectedFrom' | 'collectedTo' | 'assays'>[], assayId: string): Row {
+function provenance(
+  sources: readonly Pick<
+    SourceSummary,
+    'labName' | 'accessions' | 'reportedOn' | 'collectedFrom' | 'collectedTo' | 'assays'
+  >[],
+  assayId: string,
+): Row {
   const of = sources.filter((source) => source.assays.includes(assayId));
   if (of.length === 0) return {};
   const sorted = (values: Iterable<string>) => [...new Set(values)].sort();
-  const collected = sorted(of.flatMap((source) => [source.collectedFrom, source.collectedTo].filter((date): date is string => date !== null)));
+  const collected = sorted(
+    of.flatMap((source) => [source.collectedFrom, source.collectedTo].filter((date): date is string => date !== null)),
+  );
   const reported = sorted(of.flatMap((source) => (source.reportedOn === null ? [] : [source.reportedOn])));
   return {
     lab: sorted(of.map((source) => source.labName)).join('; '),
@@ -133,8 +141,16 @@ function provenance(sources: readonly Pick<SourceSummary, 'labName' | 'accession
  */
 function mistypedCells(ropes: readonly MistypedRope[]): Row {
   if (ropes.length === 0) return {};
-  const pairs = ropes.flatMap((rope) => [...new Set(refusalGroups(rope).map((group) => group.written))].map((written) => ({ written, meant: rope.sampleId })));
-  return { refused_mistyped_id: pairs.map((pair) => pair.written).join(' '), likely_meant_id: pairs.map((pair) => pair.meant).join(' ') };
+  const pairs = ropes.flatMap((rope) =>
+    [...new Set(refusalGroups(rope).map((group) => group.written))].map((written) => ({
+      written,
+      meant: rope.sampleId,
+    })),
+  );
+  return {
+    refused_mistyped_id: pairs.map((pair) => pair.written).join(' '),
+    likely_meant_id: pairs.map((pair) => pair.meant).join(' '),
+  };
 }
 
 /**
@@ -142,7 +158,14 @@ function mistypedCells(ropes: readonly MistypedRope[]): Row {
  *   rows, beside the numbers of the round
  */
 export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): string {
-  const herd: Row = herdStatus === undefined ? {} : { herd_status: herdStatus.category, herd_status_set_on: herdStatus.setOn, herd_status_note: herdStatus.note ?? null };
+  const herd: Row =
+    herdStatus === undefined
+      ? {}
+      : {
+          herd_status: herdStatus.category,
+          herd_status_set_on: herdStatus.setOn,
+          herd_status_note: herdStatus.note ?? null,
+        };
   const base: Row = {
     site: summary.site.id,
     round: summary.round.number,
@@ -156,9 +179,25 @@ export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): stri
   // without an assay, say how many ropes are out (and, once closed, which are missing).
   if (summary.assays.length === 0) {
     const hung = summary.barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
-    rows.push({ ...base, ...herd, level: 'site', pens_in_use: summary.barns.reduce((sum, barn) => sum + barn.pensInUse, 0), ropes_hung: hung, ropes_returned: 0, missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' ') });
+    rows.push({
+      ...base,
+      ...herd,
+      level: 'site',
+      pens_in_use: summary.barns.reduce((sum, barn) => sum + barn.pensInUse, 0),
+      ropes_hung: hung,
+      ropes_returned: 0,
+      missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' '),
+    });
     for (const barn of summary.barns) {
-      rows.push({ ...base, level: 'barn', barn: barn.barnId, pens_in_use: barn.pensInUse, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, missing_sample_ids: simplyMissing(barn).join(' ') });
+      rows.push({
+        ...base,
+        level: 'barn',
+        barn: barn.barnId,
+        pens_in_use: barn.pensInUse,
+        ropes_hung: barn.ropesHung,
+        ropes_returned: barn.ropesReturned,
+        missing_sample_ids: simplyMissing(barn).join(' '),
+      });
     }
   }
   for (const assay of summary.assays) {
@@ -195,9 +234,15 @@ export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): stri
       detection_confidence: formatProbability(assay.site.detectionConfidence),
       target_confidence: summary.program.targetConfidence,
       // A site positive for a PCR assay has a status, not a probability of freedom.
-      freedom: assay.site.status?.state === 'positive' || assay.site.freedom === null ? 'positive' : formatProbability(assay.site.freedom),
+      freedom:
+        assay.site.status?.state === 'positive' || assay.site.freedom === null
+          ? 'positive'
+          : formatProbability(assay.site.freedom),
       positive_since: assay.site.status?.state === 'positive' ? assay.site.status.sinceRound : null,
-      unpooled_detection_confidence: assay.site.unpooledDetectionConfidence === undefined ? null : formatProbability(assay.site.unpooledDetectionConfidence),
+      unpooled_detection_confidence:
+        assay.site.unpooledDetectionConfidence === undefined
+          ? null
+          : formatProbability(assay.site.unpooledDetectionConfidence),
       freedom_reset: assay.site.freedomReset,
       ...provenance(summary.sources, assay.id),
       site_barns: assay.site.barns,
@@ -215,7 +260,17 @@ export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): stri
       const c = entry.confidence;
       if (barn.empty) {
         // An empty barn (between a group's close-out and the next placement): no figure, nothing missing.
-        rows.push({ ...base, level: 'barn', barn: barn.barnId, assay: entry.assayId, pens_in_use: 0, ropes_hung: barn.ropesHung, ropes_returned: barn.ropesReturned, measure: c.measure, barn_empty: true });
+        rows.push({
+          ...base,
+          level: 'barn',
+          barn: barn.barnId,
+          assay: entry.assayId,
+          pens_in_use: 0,
+          ropes_hung: barn.ropesHung,
+          ropes_returned: barn.ropesReturned,
+          measure: c.measure,
+          barn_empty: true,
+        });
         continue;
       }
       rows.push({
@@ -248,13 +303,15 @@ export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): stri
         pools: c.pooled?.pools ?? null,
         positive_pool_pens: c.pooled === undefined ? null : (entry.positivePoolPens ?? []).join(' '),
         pool_sensitivity: c.pooled?.poolSensitivity ?? null,
-        unpooled_detection_confidence: c.pooled === undefined ? null : formatProbability(c.pooled.unpooledDetectionConfidence),
+        unpooled_detection_confidence:
+          c.pooled === undefined ? null : formatProbability(c.pooled.unpooledDetectionConfidence),
         ...provenance(barn.sources, entry.assayId),
         measure: c.measure,
         ...mistypedCells(barn.mistyped),
         ...group,
         barn_empty: false,
-        barn_freedom: c.status?.state === 'positive' ? 'positive' : c.freedom === null ? null : formatProbability(c.freedom),
+        barn_freedom:
+          c.status?.state === 'positive' ? 'positive' : c.freedom === null ? null : formatProbability(c.freedom),
       });
     }
   }

@@ -123,7 +123,17 @@ export interface BarnSpatialReport {
   clusters: PenCluster[];
   clusterLinkDistance: number;
   spread: SpreadSummary;
-  detection: (PlacementComparison & { se: number; infected: number; beta: number; background: number; inUsePens: number; reseeded: number; seed: number }) | null;
+  detection:
+    | (PlacementComparison & {
+        se: number;
+        infected: number;
+        beta: number;
+        background: number;
+        inUsePens: number;
+        reseeded: number;
+        seed: number;
+      })
+    | null;
   notes: string[];
 }
 
@@ -156,37 +166,61 @@ function prepare(input: BarnRoundInput): Prepared {
   const pens = expandLayout(input.layout);
   const byId = new Map(pens.map((p) => [p.id, p]));
   const offset = input.offset ?? { x: 0, y: 0 };
-  if (!Number.isFinite(offset.x) || !Number.isFinite(offset.y)) throw new RangeError(`\`offset\` of barn ${input.barn} must be finite, got ${offset.x}, ${offset.y}`);
+  if (!Number.isFinite(offset.x) || !Number.isFinite(offset.y))
+    throw new RangeError(`\`offset\` of barn ${input.barn} must be finite, got ${offset.x}, ${offset.y}`);
   const excluded: { id: string; reason: string }[] = [];
   const used: Prepared['used'] = [];
   const seen = new Set<string>();
   for (const s of input.sampled) {
     const pen = byId.get(s.id);
     if (!pen) throw new RangeError(`\`sampled\` must name pens of barn ${input.barn}, got ${s.id}`);
-    if (seen.has(s.id)) throw new RangeError(`\`sampled\` must list each pen once, got ${s.id} twice in barn ${input.barn}`);
+    if (seen.has(s.id))
+      throw new RangeError(`\`sampled\` must list each pen once, got ${s.id} twice in barn ${input.barn}`);
     seen.add(s.id);
-    if (!Number.isFinite(s.load) || s.load < 0) throw new RangeError(`\`load\` of pen ${s.id} must be a finite number >= 0, got ${s.load}`);
+    if (!Number.isFinite(s.load) || s.load < 0)
+      throw new RangeError(`\`load\` of pen ${s.id} must be a finite number >= 0, got ${s.load}`);
     if (pen.status !== 'in-use') excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
-    else if (s.resultClass === 'invalid') excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
+    else if (s.resultClass === 'invalid')
+      excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
     else used.push({ ...s, x: pen.x, y: pen.y });
   }
-  for (const id of input.earlierPositive ?? []) if (!byId.has(id)) throw new RangeError(`\`earlierPositive\` must name pens of barn ${input.barn}, got ${id}`);
+  for (const id of input.earlierPositive ?? [])
+    if (!byId.has(id)) throw new RangeError(`\`earlierPositive\` must name pens of barn ${input.barn}, got ${id}`);
   return { input, offset, pens, used, excluded };
 }
 
-function buildWeights(p: Prepared, choice: WeightChoice, style: WeightStyle): { w: SpatialWeights; band: number | null } {
+function buildWeights(
+  p: Prepared,
+  choice: WeightChoice,
+  style: WeightStyle,
+): { w: SpatialWeights; band: number | null } {
   const points: SpatialPoint[] = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
   switch (choice.kind) {
     case 'default':
       return { w: defaultWeights(points, style), band: null };
     case 'contact':
-      return { w: contactWeights(p.input.layout, points.map((q) => q.id), choice.convention, style), band: null };
+      return {
+        w: contactWeights(
+          p.input.layout,
+          points.map((q) => q.id),
+          choice.convention,
+          style,
+        ),
+        band: null,
+      };
     case 'knn':
       return { w: knnWeights(points, choice.k, style), band: null };
     case 'band':
       return { w: distanceBandWeights(points, choice.band, style, choice.power ?? 0), band: choice.band };
     case 'lists':
-      return { w: listWeights(points.map((q) => q.id), choice.neighbours, style), band: null };
+      return {
+        w: listWeights(
+          points.map((q) => q.id),
+          choice.neighbours,
+          style,
+        ),
+        band: null,
+      };
   }
 }
 
@@ -239,10 +273,21 @@ function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): Ba
   if (n >= 2) {
     const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
     report.weights = { description: w.description, style: w.style, isolates: [...w.isolates], band };
-    if (w.isolates.length > 0) notes.push(`${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`);
-    report.joinCount = joinCountTest(w, positive, { rng: seededRng(deriveSeed(seed, 'join-count')), permutations, exactLimit: options.exactLimit ?? 1e6 });
+    if (w.isolates.length > 0)
+      notes.push(
+        `${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`,
+      );
+    report.joinCount = joinCountTest(w, positive, {
+      rng: seededRng(deriveSeed(seed, 'join-count')),
+      permutations,
+      exactLimit: options.exactLimit ?? 1e6,
+    });
     report.moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
-    report.scan = bernoulliScan(points, positive, { rng: seededRng(deriveSeed(seed, 'scan')), permutations, ...(options.scan ?? {}) });
+    report.scan = bernoulliScan(points, positive, {
+      rng: seededRng(deriveSeed(seed, 'scan')),
+      permutations,
+      ...(options.scan ?? {}),
+    });
     const gi = localGiStar(w, loads);
     const local = new Map(localJoinCounts(w, positive).map((l) => [l.id, l]));
     report.pens = p.used.map((u, i) => ({
@@ -279,7 +324,12 @@ function runDetection(p: Prepared, settings: DetectionSettings, seed: number): B
   const graph = contactWeights(p.input.layout, ids, settings.convention ?? 'queen', 'binary');
   const rng = seededRng(seed);
   const outbreaks = simulateOutbreaks(graph, { infected, beta, background, realisations, rng });
-  const cmp = compareWithRandomPlacement(outbreaks, p.used.map((u) => u.id), se, rng);
+  const cmp = compareWithRandomPlacement(
+    outbreaks,
+    p.used.map((u) => u.id),
+    se,
+    rng,
+  );
   return { ...cmp, se, infected, beta, background, inUsePens: N, reseeded: outbreaks.reseeded, seed };
 }
 
@@ -316,7 +366,9 @@ export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
     barnIds.add(b.barn);
   }
   const prepared = input.barns.map(prepare);
-  const barns = prepared.map((p) => analysePrepared(p, input.options, deriveSeed(input.options.seed, 'barn', p.input.barn)));
+  const barns = prepared.map((p) =>
+    analysePrepared(p, input.options, deriveSeed(input.options.seed, 'barn', p.input.barn)),
+  );
   const notes: string[] = [];
   const ids: string[] = [];
   const strata: number[] = [];
@@ -332,7 +384,9 @@ export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
       strata.push(s);
       positive.push(u.positive);
     });
-    for (let i = 0; i < w.ids.length; i++) for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) edges.push([base + i, base + w.neighbours[a]!, w.weights[a]!]);
+    for (let i = 0; i < w.ids.length; i++)
+      for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++)
+        edges.push([base + i, base + w.neighbours[a]!, w.weights[a]!]);
   });
   let joinCount: JoinCountTest | null = null;
   if (ids.length >= 2) {
@@ -347,9 +401,12 @@ export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
   const current: SpreadPoint[] = [];
   const earlier: SpreadPoint[] = [];
   for (const p of prepared) {
-    for (const u of p.used) if (u.positive) current.push({ id: u.id, x: u.x + p.offset.x, y: u.y + p.offset.y, barn: p.input.barn });
+    for (const u of p.used)
+      if (u.positive) current.push({ id: u.id, x: u.x + p.offset.x, y: u.y + p.offset.y, barn: p.input.barn });
     const set = new Set(p.input.earlierPositive ?? []);
-    for (const pen of p.pens) if (set.has(pen.id)) earlier.push({ id: pen.id, x: pen.x + p.offset.x, y: pen.y + p.offset.y, barn: p.input.barn });
+    for (const pen of p.pens)
+      if (set.has(pen.id))
+        earlier.push({ id: pen.id, x: pen.x + p.offset.x, y: pen.y + p.offset.y, barn: p.input.barn });
   }
   // Same default as per barn: at least the next rope, taking the widest rope spacing of the site.
   const spacings = prepared.filter((p) => p.used.length >= 2).map((p) => ropeSpacing(p.used));

@@ -39,13 +39,19 @@ export interface PenCluster {
  * @see Gower J.C., Ross G.J.S. (1969) Minimum spanning trees and single linkage cluster analysis,
  *   Applied Statistics 18:54-64.
  */
-export function linkClusters(positives: readonly ClusterPen[], linkDistance: number, earlierPositive: ReadonlySet<string> = new Set()): PenCluster[] {
-  if (!(Number.isFinite(linkDistance) && linkDistance > 0)) throw new RangeError(`\`linkDistance\` must be a finite number > 0, got ${linkDistance}`);
+export function linkClusters(
+  positives: readonly ClusterPen[],
+  linkDistance: number,
+  earlierPositive: ReadonlySet<string> = new Set(),
+): PenCluster[] {
+  if (!(Number.isFinite(linkDistance) && linkDistance > 0))
+    throw new RangeError(`\`linkDistance\` must be a finite number > 0, got ${linkDistance}`);
   const seen = new Set<string>();
   for (const p of positives) {
     if (seen.has(p.id)) throw new RangeError(`\`positives\` must have unique ids, got ${p.id} twice`);
     seen.add(p.id);
-    if (!Number.isFinite(p.x) || !Number.isFinite(p.y)) throw new RangeError(`\`x, y\` of pen ${p.id} must be finite numbers, got ${p.x}, ${p.y}`);
+    if (!Number.isFinite(p.x) || !Number.isFinite(p.y))
+      throw new RangeError(`\`x, y\` of pen ${p.id} must be finite numbers, got ${p.x}, ${p.y}`);
   }
   const n = positives.length;
   const parent = Int32Array.from({ length: n }, (_, i) => i);

@@ -36,9 +36,12 @@ export function logChoose(n: number, k: number): number {
  * @see Johnson N.L., Kemp A.W., Kotz S. (2005) Univariate Discrete Distributions, ch. 6.
  */
 export function hypergeometricUpperTail(x: number, population: number, successes: number, draws: number): number {
-  if (!Number.isInteger(population) || population < 0) throw new RangeError(`\`population\` must be an integer >= 0, got ${population}`);
-  if (!Number.isInteger(successes) || successes < 0 || successes > population) throw new RangeError(`\`successes\` must be an integer in [0, population], got ${successes}`);
-  if (!Number.isInteger(draws) || draws < 0 || draws > population) throw new RangeError(`\`draws\` must be an integer in [0, population], got ${draws}`);
+  if (!Number.isInteger(population) || population < 0)
+    throw new RangeError(`\`population\` must be an integer >= 0, got ${population}`);
+  if (!Number.isInteger(successes) || successes < 0 || successes > population)
+    throw new RangeError(`\`successes\` must be an integer in [0, population], got ${successes}`);
+  if (!Number.isInteger(draws) || draws < 0 || draws > population)
+    throw new RangeError(`\`draws\` must be an integer in [0, population], got ${draws}`);
   if (!Number.isInteger(x)) throw new RangeError(`\`x\` must be an integer, got ${x}`);
   const lo = Math.max(0, draws - (population - successes));
   const hi = Math.min(successes, draws);
@@ -46,6 +49,7 @@ export function hypergeometricUpperTail(x: number, population: number, successes
   if (x > hi) return 0;
   const logTotal = logChoose(population, draws);
   let sum = 0;
-  for (let t = x; t <= hi; t++) sum += Math.exp(logChoose(successes, t) + logChoose(population - successes, draws - t) - logTotal);
+  for (let t = x; t <= hi; t++)
+    sum += Math.exp(logChoose(successes, t) + logChoose(population - successes, draws - t) - logTotal);
   return Math.min(1, sum);
 }

@@ -92,7 +92,8 @@ export function joinGraph(w: SpatialWeights): JoinGraph {
 }
 
 function checkLabels(n: number, positive: readonly boolean[]): void {
-  if (positive.length !== n) throw new RangeError(`\`positive\` must have one flag per pen (${n}), got ${positive.length}`);
+  if (positive.length !== n)
+    throw new RangeError(`\`positive\` must have one flag per pen (${n}), got ${positive.length}`);
 }
 
 /**
@@ -141,7 +142,8 @@ function falling(n: number, k: number): number {
  */
 export function joinCountMoments(w: SpatialWeights, positives: number): JoinCountMoments {
   const n = w.ids.length;
-  if (!Number.isInteger(positives) || positives < 0 || positives > n) throw new RangeError(`\`positives\` must be an integer in [0, ${n}], got ${positives}`);
+  if (!Number.isInteger(positives) || positives < 0 || positives > n)
+    throw new RangeError(`\`positives\` must be an integer in [0, ${n}], got ${positives}`);
   const { s0, s1, s2 } = weightConstants(w);
   const ratio = (k: number) => (n < k ? 0 : falling(positives, k) / falling(n, k));
   const expectedBB = 0.5 * s0 * ratio(2);
@@ -165,7 +167,11 @@ function zeroIfTiny(variance: number, scale: number): number {
  * non-free moments, which is what is computed then.
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes, ch. 2 (moments of join counts by inclusion probabilities).
  */
-export function stratifiedJoinCountMoments(w: SpatialWeights, strata: readonly number[], positive: readonly boolean[]): { expectedBB: number; varianceBB: number } {
+export function stratifiedJoinCountMoments(
+  w: SpatialWeights,
+  strata: readonly number[],
+  positive: readonly boolean[],
+): { expectedBB: number; varianceBB: number } {
   const n = w.ids.length;
   checkLabels(n, positive);
   if (strata.length !== n) throw new RangeError(`\`strata\` must have one entry per pen (${n}), got ${strata.length}`);
@@ -178,7 +184,9 @@ export function stratifiedJoinCountMoments(w: SpatialWeights, strata: readonly n
   // Block-diagonal weights (no join between strata, the usual site case): strata are independent,
   // so the moments are sums of the per-stratum non-free moments, without the O(joins^2) sum.
   let crossJoins = false;
-  for (let i = 0; i < n && !crossJoins; i++) for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) if (strata[w.neighbours[a]!] !== strata[i]) crossJoins = true;
+  for (let i = 0; i < n && !crossJoins; i++)
+    for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++)
+      if (strata[w.neighbours[a]!] !== strata[i]) crossJoins = true;
   if (!crossJoins) {
     let expectedBB = 0;
     let varianceBB = 0;
@@ -192,7 +200,9 @@ export function stratifiedJoinCountMoments(w: SpatialWeights, strata: readonly n
   }
   const g = joinGraph(w);
   const edges: [number, number, number][] = [];
-  for (let i = 0; i < n; i++) for (let a = g.offsets[i]!; a < g.offsets[i + 1]!; a++) if (g.neighbours[a]! > i) edges.push([i, g.neighbours[a]!, g.weights[a]!]);
+  for (let i = 0; i < n; i++)
+    for (let a = g.offsets[i]!; a < g.offsets[i + 1]!; a++)
+      if (g.neighbours[a]! > i) edges.push([i, g.neighbours[a]!, g.weights[a]!]);
   const inclusion = (pens: number[]): number => {
     const count = new Map<number, number>();
     for (const p of new Set(pens)) count.set(strata[p]!, (count.get(strata[p]!) ?? 0) + 1);
@@ -274,12 +284,17 @@ export function bbOfPlacement(g: JoinGraph, mark: Uint8Array, chosen: Int32Array
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes: Models and Applications.
  * @see Besag J., Clifford P. (1989) Generalized Monte Carlo significance tests, Biometrika 76:633.
  */
-export function joinCountTest(w: SpatialWeights, positive: readonly boolean[], options: JoinCountOptions): JoinCountTest {
+export function joinCountTest(
+  w: SpatialWeights,
+  positive: readonly boolean[],
+  options: JoinCountOptions,
+): JoinCountTest {
   const n = w.ids.length;
   checkLabels(n, positive);
   const { permutations, rng } = options;
   const exactLimit = options.exactLimit ?? 1e6;
-  if (!Number.isInteger(permutations) || permutations < 1) throw new RangeError(`\`permutations\` must be an integer >= 1, got ${permutations}`);
+  if (!Number.isInteger(permutations) || permutations < 1)
+    throw new RangeError(`\`permutations\` must be an integer >= 1, got ${permutations}`);
   const counts = joinCounts(w, positive);
   const n1 = positive.filter(Boolean).length;
   const groups = groupStrata(n, options.strata);

@@ -29,7 +29,8 @@ export interface LocalJoinCount {
  */
 export function localJoinCounts(w: SpatialWeights, positive: readonly boolean[]): LocalJoinCount[] {
   const n = w.ids.length;
-  if (positive.length !== n) throw new RangeError(`\`positive\` must have one flag per pen (${n}), got ${positive.length}`);
+  if (positive.length !== n)
+    throw new RangeError(`\`positive\` must have one flag per pen (${n}), got ${positive.length}`);
   const n1 = positive.filter(Boolean).length;
   const out: LocalJoinCount[] = [];
   for (let i = 0; i < n; i++) {

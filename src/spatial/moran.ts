@@ -55,7 +55,8 @@ export function moranTest(w: SpatialWeights, values: readonly number[], options:
     if (!Number.isFinite(v)) throw new RangeError(`\`values[${i}]\` must be a finite number, got ${v}`);
   });
   const { permutations, rng } = options;
-  if (!Number.isInteger(permutations) || permutations < 0) throw new RangeError(`\`permutations\` must be an integer >= 0, got ${permutations}`);
+  if (!Number.isInteger(permutations) || permutations < 0)
+    throw new RangeError(`\`permutations\` must be an integer >= 0, got ${permutations}`);
   const { s0, s1, s2 } = weightConstants(w);
   const expected = -1 / (n - 1);
   let mean = 0;
@@ -70,13 +71,33 @@ export function moranTest(w: SpatialWeights, values: readonly number[], options:
   }
   const base = { n, expected, permutations };
   if (s0 === 0) {
-    return { ...base, I: null, varianceNormality: null, varianceRandomisation: null, zNormality: null, zRandomisation: null, pPermutation: null, kurtosis: null, reason: 'no pen has a neighbour (S0 = 0)' };
+    return {
+      ...base,
+      I: null,
+      varianceNormality: null,
+      varianceRandomisation: null,
+      zNormality: null,
+      zRandomisation: null,
+      pPermutation: null,
+      kurtosis: null,
+      reason: 'no pen has a neighbour (S0 = 0)',
+    };
   }
   const varianceNormality = (n * n * s1 - n * s2 + 3 * s0 * s0) / ((n * n - 1) * s0 * s0) - expected * expected;
   // Relative to the spread of the values: all equal up to rounding counts as constant.
   const scale = values.reduce((m, v) => Math.max(m, Math.abs(v)), 0);
   if (m2 <= 1e-24 * Math.max(1, scale * scale) * n) {
-    return { ...base, I: null, varianceNormality, varianceRandomisation: null, zNormality: null, zRandomisation: null, pPermutation: null, kurtosis: null, reason: 'all values are equal (no variance), Moran\'s I is undefined' };
+    return {
+      ...base,
+      I: null,
+      varianceNormality,
+      varianceRandomisation: null,
+      zNormality: null,
+      zRandomisation: null,
+      pPermutation: null,
+      kurtosis: null,
+      reason: "all values are equal (no variance), Moran's I is undefined",
+    };
   }
   const cross = (zz: Float64Array) => {
     let s = 0;
@@ -92,10 +113,12 @@ export function moranTest(w: SpatialWeights, values: readonly number[], options:
   const b2 = (n * m4) / (m2 * m2);
   let varianceRandomisation: number | null = null;
   if (n >= 4) {
-    const num = n * ((n * n - 3 * n + 3) * s1 - n * s2 + 3 * s0 * s0) - b2 * ((n * n - n) * s1 - 2 * n * s2 + 6 * s0 * s0);
+    const num =
+      n * ((n * n - 3 * n + 3) * s1 - n * s2 + 3 * s0 * s0) - b2 * ((n * n - n) * s1 - 2 * n * s2 + 6 * s0 * s0);
     varianceRandomisation = num / ((n - 1) * (n - 2) * (n - 3) * s0 * s0) - expected * expected;
   }
-  const zOf = (variance: number | null) => (variance !== null && variance > 1e-15 ? (I - expected) / Math.sqrt(variance) : null);
+  const zOf = (variance: number | null) =>
+    variance !== null && variance > 1e-15 ? (I - expected) / Math.sqrt(variance) : null;
   let pPermutation: number | null = null;
   if (permutations > 0) {
     const perm = Float64Array.from(z);

@@ -40,11 +40,16 @@ export function simulateOnwardSpread(graph: SpatialWeights, options: OnwardSprea
     if (i === undefined) throw new RangeError(`\`seeds\` must name pens of the graph, got ${id}`);
     return i;
   });
-  for (const [name, value] of [['beta', options.beta], ['background', options.background]] as const) {
+  for (const [name, value] of [
+    ['beta', options.beta],
+    ['background', options.background],
+  ] as const) {
     if (!(value >= 0 && value <= 1)) throw new RangeError(`\`${name}\` must be a number in [0, 1], got ${value}`);
   }
-  if (!Number.isInteger(options.steps) || options.steps < 1) throw new RangeError(`\`steps\` must be an integer >= 1, got ${options.steps}`);
-  if (!Number.isInteger(options.realisations) || options.realisations < 1) throw new RangeError(`\`realisations\` must be an integer >= 1, got ${options.realisations}`);
+  if (!Number.isInteger(options.steps) || options.steps < 1)
+    throw new RangeError(`\`steps\` must be an integer >= 1, got ${options.steps}`);
+  if (!Number.isInteger(options.realisations) || options.realisations < 1)
+    throw new RangeError(`\`realisations\` must be an integer >= 1, got ${options.realisations}`);
   const words = Math.ceil(n / 32);
   const bits = new Uint32Array(words * options.realisations);
   const state = new Uint8Array(n);
@@ -57,7 +62,8 @@ export function simulateOnwardSpread(graph: SpatialWeights, options: OnwardSprea
       escapeProbability.fill(1 - options.background);
       for (let i = 0; i < n; i++) {
         if (!state[i]) continue;
-        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++) escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
+        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++)
+          escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
       }
       const fresh: number[] = [];
       for (let j = 0; j < n; j++) if (!state[j] && options.rng() >= escapeProbability[j]!) fresh.push(j);

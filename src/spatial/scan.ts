@@ -64,7 +64,9 @@ export function scanWindows(points: readonly SpatialPoint[], maxPens: number, ma
   const radii: Float64Array[] = [];
   for (let c = 0; c < n; c++) {
     const p = points[c]!;
-    const d = points.map((q, j) => [j, Math.hypot(q.x - p.x, q.y - p.y)] as const).sort((a, b) => a[1] - b[1] || (a[0] === c ? -1 : b[0] === c ? 1 : a[0] - b[0]));
+    const d = points
+      .map((q, j) => [j, Math.hypot(q.x - p.x, q.y - p.y)] as const)
+      .sort((a, b) => a[1] - b[1] || (a[0] === c ? -1 : b[0] === c ? 1 : a[0] - b[0]));
     order.push(Int32Array.from(d, (e) => e[0]));
     const s: number[] = [];
     const r: number[] = [];
@@ -133,14 +135,21 @@ function maxLlr(win: ScanWindows, label: Uint8Array, C: number, t: Float64Array,
  * @see Kulldorff M. (1997) A spatial scan statistic, Communications in Statistics - Theory and
  *   Methods 26:1481-1496.
  */
-export function bernoulliScan(points: readonly SpatialPoint[], positive: readonly boolean[], options: ScanOptions): ScanResult {
+export function bernoulliScan(
+  points: readonly SpatialPoint[],
+  positive: readonly boolean[],
+  options: ScanOptions,
+): ScanResult {
   const n = points.length;
   if (n < 2) throw new RangeError(`\`pens\` must be an integer in [2, Infinity), got ${n}`);
-  if (positive.length !== n) throw new RangeError(`\`positive\` must have one flag per pen (${n}), got ${positive.length}`);
+  if (positive.length !== n)
+    throw new RangeError(`\`positive\` must have one flag per pen (${n}), got ${positive.length}`);
   const { permutations, rng } = options;
-  if (!Number.isInteger(permutations) || permutations < 1) throw new RangeError(`\`permutations\` must be an integer >= 1, got ${permutations}`);
+  if (!Number.isInteger(permutations) || permutations < 1)
+    throw new RangeError(`\`permutations\` must be an integer >= 1, got ${permutations}`);
   const maxFraction = options.maxFraction ?? 0.5;
-  if (!(maxFraction > 0 && maxFraction <= 0.5)) throw new RangeError(`\`maxFraction\` must be a number in (0, 0.5], got ${maxFraction}`);
+  if (!(maxFraction > 0 && maxFraction <= 0.5))
+    throw new RangeError(`\`maxFraction\` must be a number in (0, 0.5], got ${maxFraction}`);
   const maxRadius = options.maxRadius ?? Infinity;
   if (!(maxRadius > 0)) throw new RangeError(`\`maxRadius\` must be a number > 0, got ${maxRadius}`);
   const maxSecondary = options.maxSecondary ?? 5;

@@ -56,8 +56,13 @@ export interface SpreadSummary {
  * @see Knox E.G. (1964) The detection of space-time interactions, Applied Statistics 13:25-29
  *   (closeness in space of cases that are close in time).
  */
-export function summariseSpread(current: readonly SpreadPoint[], earlier: readonly SpreadPoint[], adjacentDistance = 2.5): SpreadSummary {
-  if (!(Number.isFinite(adjacentDistance) && adjacentDistance > 0)) throw new RangeError(`\`adjacentDistance\` must be a finite number > 0, got ${adjacentDistance}`);
+export function summariseSpread(
+  current: readonly SpreadPoint[],
+  earlier: readonly SpreadPoint[],
+  adjacentDistance = 2.5,
+): SpreadSummary {
+  if (!(Number.isFinite(adjacentDistance) && adjacentDistance > 0))
+    throw new RangeError(`\`adjacentDistance\` must be a finite number > 0, got ${adjacentDistance}`);
   const earlierKeys = new Set(earlier.map((p) => `${p.barn}\u0000${p.id}`));
   const fresh = current.filter((p) => !earlierKeys.has(`${p.barn}\u0000${p.id}`));
   const newPositives: NewPositive[] = fresh.map((p) => {
@@ -70,7 +75,15 @@ export function summariseSpread(current: readonly SpreadPoint[], earlier: readon
         best = q;
       }
     }
-    if (!best) return { id: p.id, barn: p.barn, nearestEarlierDistance: null, nearestEarlierPen: null, sameBarn: null, kind: null };
+    if (!best)
+      return {
+        id: p.id,
+        barn: p.barn,
+        nearestEarlierDistance: null,
+        nearestEarlierPen: null,
+        sameBarn: null,
+        kind: null,
+      };
     return {
       id: p.id,
       barn: p.barn,

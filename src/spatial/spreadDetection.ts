@@ -42,7 +42,8 @@ export interface DetectionEstimate {
 }
 
 function checkProbability(name: string, v: number): void {
-  if (!(Number.isFinite(v) && v >= 0 && v <= 1)) throw new RangeError(`\`${name}\` must be a number in [0, 1], got ${v}`);
+  if (!(Number.isFinite(v) && v >= 0 && v <= 1))
+    throw new RangeError(`\`${name}\` must be a number in [0, 1], got ${v}`);
 }
 
 /**
@@ -66,10 +67,12 @@ function checkProbability(name: string, v: number): void {
 export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOptions): Outbreaks {
   const n = graph.ids.length;
   const { infected: d, beta, background, realisations, rng } = options;
-  if (!Number.isInteger(d) || d < 1 || d > n) throw new RangeError(`\`infected\` must be an integer in [1, ${n}], got ${d}`);
+  if (!Number.isInteger(d) || d < 1 || d > n)
+    throw new RangeError(`\`infected\` must be an integer in [1, ${n}], got ${d}`);
   checkProbability('beta', beta);
   checkProbability('background', background);
-  if (!Number.isInteger(realisations) || realisations < 1) throw new RangeError(`\`realisations\` must be an integer >= 1, got ${realisations}`);
+  if (!Number.isInteger(realisations) || realisations < 1)
+    throw new RangeError(`\`realisations\` must be an integer >= 1, got ${realisations}`);
   const words = Math.ceil(n / 32);
   const bits = new Uint32Array(words * realisations);
   const state = new Uint8Array(n);
@@ -88,7 +91,8 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
       escapeProbability.fill(1 - background);
       for (let c = 0; c < count; c++) {
         const i = list[c]!;
-        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++) escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
+        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++)
+          escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
       }
       let added = 0;
       let reachable = false;
@@ -128,7 +132,16 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
     }
   }
   const index = new Map(graph.ids.map((id, i) => [id, i] as const));
-  return Object.freeze({ ids: graph.ids, index, realisations, infected: d, words, bits, reseeded, model: { beta, background, graph: graph.description } });
+  return Object.freeze({
+    ids: graph.ids,
+    index,
+    realisations,
+    infected: d,
+    words,
+    bits,
+    reseeded,
+    model: { beta, background, graph: graph.description },
+  });
 }
 
 function resolveSampled(outbreaks: Outbreaks, sampledPenIds: readonly string[]): Int32Array {
@@ -142,7 +155,11 @@ function resolveSampled(outbreaks: Outbreaks, sampledPenIds: readonly string[]):
   });
 }
 
-function sensitivities(outbreaks: Outbreaks, sampled: Int32Array, se: number | Readonly<Record<string, number>>): Float64Array {
+function sensitivities(
+  outbreaks: Outbreaks,
+  sampled: Int32Array,
+  se: number | Readonly<Record<string, number>>,
+): Float64Array {
   return Float64Array.from(sampled, (i) => {
     const v = typeof se === 'number' ? se : (se[outbreaks.ids[i]!] ?? NaN);
     checkProbability(`se of ${outbreaks.ids[i]}`, v);
@@ -167,7 +184,11 @@ function summarise(sum: number, sumSq: number, r: number): DetectionEstimate {
  * @see Cameron A.R., Baldock F.C. (1998) A new probability formula for surveys to substantiate
  *   freedom from disease, Prev. Vet. Med. 34:1-17 (the same per-unit miss product).
  */
-export function detectionProbability(outbreaks: Outbreaks, sampledPenIds: readonly string[], se: number | Readonly<Record<string, number>>): DetectionEstimate {
+export function detectionProbability(
+  outbreaks: Outbreaks,
+  sampledPenIds: readonly string[],
+  se: number | Readonly<Record<string, number>>,
+): DetectionEstimate {
   const sampled = resolveSampled(outbreaks, sampledPenIds);
   const miss = sensitivities(outbreaks, sampled, se);
   const { bits, words, realisations } = outbreaks;
@@ -206,7 +227,12 @@ export interface PlacementComparison {
  * @throws RangeError on an unknown pen or a bad sensitivity.
  * @see Cochran W.G. (1977) Sampling Techniques, 3rd ed., ch. 8 (systematic versus simple random sampling).
  */
-export function compareWithRandomPlacement(outbreaks: Outbreaks, sampledPenIds: readonly string[], se: number, rng: Rng): PlacementComparison {
+export function compareWithRandomPlacement(
+  outbreaks: Outbreaks,
+  sampledPenIds: readonly string[],
+  se: number,
+  rng: Rng,
+): PlacementComparison {
   const sampled = resolveSampled(outbreaks, sampledPenIds);
   checkProbability('se', se);
   const n = outbreaks.ids.length;

@@ -75,8 +75,10 @@ export function weightsFromEdges(
   for (const edge of edges) {
     const [i, j] = edge;
     const w = edge.length === 3 ? edge[2] : 1;
-    if (!Number.isInteger(i) || i < 0 || i >= n) throw new RangeError(`\`edge index\` must be an integer in [0, ${n - 1}], got ${i}`);
-    if (!Number.isInteger(j) || j < 0 || j >= n) throw new RangeError(`\`edge index\` must be an integer in [0, ${n - 1}], got ${j}`);
+    if (!Number.isInteger(i) || i < 0 || i >= n)
+      throw new RangeError(`\`edge index\` must be an integer in [0, ${n - 1}], got ${i}`);
+    if (!Number.isInteger(j) || j < 0 || j >= n)
+      throw new RangeError(`\`edge index\` must be an integer in [0, ${n - 1}], got ${j}`);
     if (!(Number.isFinite(w) && w > 0)) throw new RangeError(`\`edge weight\` must be a finite number > 0, got ${w}`);
     if (i === j) continue;
     rows[i]!.set(j, w);
@@ -85,7 +87,12 @@ export function weightsFromEdges(
   return packRows(ids, rows, style, description);
 }
 
-function packRows(ids: readonly string[], rows: Map<number, number>[], style: WeightStyle, description: string): SpatialWeights {
+function packRows(
+  ids: readonly string[],
+  rows: Map<number, number>[],
+  style: WeightStyle,
+  description: string,
+): SpatialWeights {
   const n = ids.length;
   const offsets = new Int32Array(n + 1);
   let total = 0;
@@ -122,13 +129,24 @@ function packRows(ids: readonly string[], rows: Map<number, number>[], style: We
  * @throws RangeError when a sampled id is not a pen of the layout, or ids repeat.
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes: Models and Applications (rook/queen contiguity).
  */
-export function contactWeights(layout: BarnLayout, sampled: readonly string[], convention: BarnConvention, style: WeightStyle): SpatialWeights {
+export function contactWeights(
+  layout: BarnLayout,
+  sampled: readonly string[],
+  convention: BarnConvention,
+  style: WeightStyle,
+): SpatialWeights {
   const index = checkIds(sampled);
   const pens = expandLayout(layout);
   const known = new Set(pens.map((pen) => pen.id));
-  for (const id of sampled) if (!known.has(id)) throw new RangeError(`\`sampled\` must name pens of the layout, got ${id}`);
+  for (const id of sampled)
+    if (!known.has(id)) throw new RangeError(`\`sampled\` must name pens of the layout, got ${id}`);
   const contacts = penContacts(layout, pens);
-  const kinds = convention === 'fence' ? [contacts.fence] : convention === 'rook' ? [contacts.fence, contacts.facing] : [contacts.fence, contacts.facing, contacts.diagonal];
+  const kinds =
+    convention === 'fence'
+      ? [contacts.fence]
+      : convention === 'rook'
+        ? [contacts.fence, contacts.facing]
+        : [contacts.fence, contacts.facing, contacts.diagonal];
   const edges: [number, number][] = [];
   for (const pairs of kinds) {
     for (const [a, b] of pairs) {
@@ -146,7 +164,11 @@ export function contactWeights(layout: BarnLayout, sampled: readonly string[], c
  *
  * @throws RangeError naming an unknown id.
  */
-export function listWeights(ids: readonly string[], lists: Readonly<Record<string, readonly string[]>>, style: WeightStyle): SpatialWeights {
+export function listWeights(
+  ids: readonly string[],
+  lists: Readonly<Record<string, readonly string[]>>,
+  style: WeightStyle,
+): SpatialWeights {
   const index = checkIds(ids);
   const edges: [number, number][] = [];
   for (const [from, tos] of Object.entries(lists)) {
@@ -164,7 +186,8 @@ export function listWeights(ids: readonly string[], lists: Readonly<Record<strin
 function checkPoints(points: readonly SpatialPoint[]): void {
   checkIds(points.map((p) => p.id));
   for (const p of points) {
-    if (!Number.isFinite(p.x) || !Number.isFinite(p.y)) throw new RangeError(`\`x, y\` of pen ${p.id} must be finite numbers, got ${p.x}, ${p.y}`);
+    if (!Number.isFinite(p.x) || !Number.isFinite(p.y))
+      throw new RangeError(`\`x, y\` of pen ${p.id} must be finite numbers, got ${p.x}, ${p.y}`);
   }
 }
 
@@ -179,7 +202,8 @@ function checkPoints(points: readonly SpatialPoint[]): void {
 export function knnWeights(points: readonly SpatialPoint[], k: number, style: WeightStyle): SpatialWeights {
   checkPoints(points);
   const n = points.length;
-  if (!Number.isInteger(k) || k < 1 || k > Math.max(1, n - 1)) throw new RangeError(`\`k\` must be an integer in [1, ${Math.max(1, n - 1)}], got ${k}`);
+  if (!Number.isInteger(k) || k < 1 || k > Math.max(1, n - 1))
+    throw new RangeError(`\`k\` must be an integer in [1, ${Math.max(1, n - 1)}], got ${k}`);
   const edges: [number, number][] = [];
   for (let i = 0; i < n; i++) {
     const others: [number, number][] = [];
@@ -189,7 +213,12 @@ export function knnWeights(points: readonly SpatialPoint[], k: number, style: We
     const kth = others[Math.min(k, others.length) - 1]![1];
     for (const [j, d] of others) if (d <= kth + 1e-9) edges.push([i, j]);
   }
-  return weightsFromEdges(points.map((p) => p.id), edges, style, `${k} nearest sampled pens (symmetrised by union, ties included), ${style}`);
+  return weightsFromEdges(
+    points.map((p) => p.id),
+    edges,
+    style,
+    `${k} nearest sampled pens (symmetrised by union, ties included), ${style}`,
+  );
 }
 
 function dist(a: SpatialPoint, b: SpatialPoint): number {
@@ -204,10 +233,16 @@ function dist(a: SpatialPoint, b: SpatialPoint): number {
  * @param power optional decay exponent >= 0 (0 means binary).
  * @throws RangeError on a bad band, power or coordinates.
  */
-export function distanceBandWeights(points: readonly SpatialPoint[], band: number, style: WeightStyle, power = 0): SpatialWeights {
+export function distanceBandWeights(
+  points: readonly SpatialPoint[],
+  band: number,
+  style: WeightStyle,
+  power = 0,
+): SpatialWeights {
   checkPoints(points);
   if (!(Number.isFinite(band) && band > 0)) throw new RangeError(`\`band\` must be a finite number > 0, got ${band}`);
-  if (!(Number.isFinite(power) && power >= 0)) throw new RangeError(`\`power\` must be a finite number >= 0, got ${power}`);
+  if (!(Number.isFinite(power) && power >= 0))
+    throw new RangeError(`\`power\` must be a finite number >= 0, got ${power}`);
   const edges: [number, number, number][] = [];
   for (let i = 0; i < points.length; i++) {
     for (let j = i + 1; j < points.length; j++) {
@@ -217,7 +252,12 @@ export function distanceBandWeights(points: readonly SpatialPoint[], band: numbe
     }
   }
   const kind = power === 0 ? 'binary band' : `inverse distance^${power}`;
-  return weightsFromEdges(points.map((p) => p.id), edges, style, `distance band ${round(band)} pen units (${kind}), ${style}`);
+  return weightsFromEdges(
+    points.map((p) => p.id),
+    edges,
+    style,
+    `distance band ${round(band)} pen units (${kind}), ${style}`,
+  );
 }
 
 function round(x: number): number {
@@ -262,7 +302,13 @@ export function defaultBand(points: readonly SpatialPoint[]): number {
  */
 export function defaultWeights(points: readonly SpatialPoint[], style: WeightStyle): SpatialWeights {
   checkPoints(points);
-  if (points.length < 2) return weightsFromEdges(points.map((p) => p.id), [], style, 'one pen, no neighbours');
+  if (points.length < 2)
+    return weightsFromEdges(
+      points.map((p) => p.id),
+      [],
+      style,
+      'one pen, no neighbours',
+    );
   const w = knnWeights(points, Math.min(2, points.length - 1), style);
   return Object.freeze({ ...w, description: `default: ${w.description}` });
 }
@@ -278,10 +324,15 @@ export function ropeSpacing(points: readonly SpatialPoint[]): number {
   checkPoints(points);
   if (points.length < 2) throw new RangeError(`\`pens\` must be an integer in [2, Infinity), got ${points.length}`);
   const rank = Math.min(2, points.length - 1);
-  const values = points.map((p, i) => {
-    const d = points.filter((_, j) => j !== i).map((q) => dist(p, q)).sort((a, b) => a - b);
-    return d[rank - 1]!;
-  }).sort((a, b) => a - b);
+  const values = points
+    .map((p, i) => {
+      const d = points
+        .filter((_, j) => j !== i)
+        .map((q) => dist(p, q))
+        .sort((a, b) => a - b);
+      return d[rank - 1]!;
+    })
+    .sort((a, b) => a - b);
   const mid = values.length >> 1;
   const median = values.length % 2 ? values[mid]! : (values[mid - 1]! + values[mid]!) / 2;
   return median > 0 ? median : 1;
@@ -333,7 +384,8 @@ export function subWeights(w: SpatialWeights, indices: readonly number[]): Spati
   const n = w.ids.length;
   const local = new Map<number, number>();
   indices.forEach((i, k) => {
-    if (!Number.isInteger(i) || i < 0 || i >= n || local.has(i)) throw new RangeError(`\`indices\` must be distinct integers in [0, ${n - 1}], got ${i}`);
+    if (!Number.isInteger(i) || i < 0 || i >= n || local.has(i))
+      throw new RangeError(`\`indices\` must be distinct integers in [0, ${n - 1}], got ${i}`);
     local.set(i, k);
   });
   const rows: Map<number, number>[] = indices.map((i) => {
@@ -344,7 +396,12 @@ export function subWeights(w: SpatialWeights, indices: readonly number[]): Spati
     }
     return row;
   });
-  const packed = packRows(indices.map((i) => w.ids[i]!), rows, 'binary', `${w.description} (subset)`);
+  const packed = packRows(
+    indices.map((i) => w.ids[i]!),
+    rows,
+    'binary',
+    `${w.description} (subset)`,
+  );
   return Object.freeze({ ...packed, style: w.style });
 }
 
@@ -352,7 +409,7 @@ export function subWeights(w: SpatialWeights, indices: readonly number[]): Spati
 export function denseWeights(w: SpatialWeights): number[][] {
   const n = w.ids.length;
   const dense = Array.from({ length: n }, () => new Array<number>(n).fill(0));
-  for (let i = 0; i < n; i++) for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) dense[i]![w.neighbours[a]!] = w.weights[a]!;
+  for (let i = 0; i < n; i++)
+    for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) dense[i]![w.neighbours[a]!] = w.weights[a]!;
   return dense;
 }
-

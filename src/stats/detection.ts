@@ -173,7 +173,8 @@ export function detectionFor(setting: DetectionSetting): (sampled: number) => nu
   const q = 1 - sensitivity;
   const logQ = Math.log1p(-sensitivity);
   const check = (sampled: number): void => {
-    if (!Number.isInteger(sampled) || sampled < 0 || sampled > pens) requireInteger('sampled', sampled, 0, pens, '[0, pens]');
+    if (!Number.isInteger(sampled) || sampled < 0 || sampled > pens)
+      requireInteger('sampled', sampled, 0, pens, '[0, pens]');
   };
   if (sensitivity === 0 || infected === 0) {
     return (sampled) => {

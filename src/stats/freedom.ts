@@ -138,12 +138,15 @@ export function freedomAcrossRounds(options: FreedomOptions, rounds: readonly Fr
   requireProbability('prior', prior);
   requireProbability('introduction', introduction);
   if (order !== 'update-then-discount' && order !== 'discount-then-update') {
-    throw new RangeError(`\`order\` must be one of [update-then-discount, discount-then-update], got ${JSON.stringify(order)}`);
+    throw new RangeError(
+      `\`order\` must be one of [update-then-discount, discount-then-update], got ${JSON.stringify(order)}`,
+    );
   }
   if (intervalDays !== undefined) requireNumber('intervalDays', intervalDays, 0, Number.MAX_VALUE, { openMin: true });
   rounds.forEach((round, i) => {
     requireProbability(`rounds[${i}].sensitivity`, round.sensitivity);
-    if (round.elapsedDays !== undefined) requireNumber(`rounds[${i}].elapsedDays`, round.elapsedDays, 0, Number.MAX_VALUE);
+    if (round.elapsedDays !== undefined)
+      requireNumber(`rounds[${i}].elapsedDays`, round.elapsedDays, 0, Number.MAX_VALUE);
   });
 
   // PI for the interval that ends at round i (i = rounds.length: the nominal next interval).
@@ -153,7 +156,8 @@ export function freedomAcrossRounds(options: FreedomOptions, rounds: readonly Fr
     return introductionOver(introduction, days, intervalDays);
   };
   // The prior a round starts from when nothing before it counts (start, or after a positive).
-  const restart = (i: number): number => (order === 'discount-then-update' ? prior * (1 - introductionBefore(i)) : prior);
+  const restart = (i: number): number =>
+    order === 'discount-then-update' ? prior * (1 - introductionBefore(i)) : prior;
 
   const steps: FreedomStep[] = [];
   let current = restart(0);

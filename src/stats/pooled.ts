@@ -18,7 +18,13 @@ import { requireInteger, requireNumber, requireProbability } from './validate.js
  *   epiR, `rsu.sep.rspool`.
  * @example pooledBinomialDetection(5, 3, 0.1, 0.9) // 0.752887 (epiR 2.0.57 rsu.sep.rspool)
  */
-export function pooledBinomialDetection(pools: number, poolSize: number, prevalence: number, poolSensitivity: number, poolSpecificity = 1): number {
+export function pooledBinomialDetection(
+  pools: number,
+  poolSize: number,
+  prevalence: number,
+  poolSensitivity: number,
+  poolSpecificity = 1,
+): number {
   requireInteger('pools', pools, 0, Number.MAX_SAFE_INTEGER, '[0, 2^53)');
   requireInteger('poolSize', poolSize, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
   requireProbability('prevalence', prevalence);
@@ -66,7 +72,11 @@ function allPoolsNegative(pools: readonly PoolTest[], infectedRopes: number): nu
       const weight = missing[taken]!;
       if (weight === 0) continue;
       const infectedLeft = infectedRopes - taken;
-      for (let inPool = Math.max(0, size - (remaining - infectedLeft)); inPool <= Math.min(size, infectedLeft); inPool++) {
+      for (
+        let inPool = Math.max(0, size - (remaining - infectedLeft));
+        inPool <= Math.min(size, infectedLeft);
+        inPool++
+      ) {
         const share = Math.exp(logHypergeometricPmf(inPool, remaining, infectedLeft, size));
         next[taken + inPool]! += weight * share * (inPool === 0 ? specificity : 1 - sensitivity);
       }
@@ -126,7 +136,14 @@ export function pooledDetectionOfPools(pens: number, infected: number, pools: re
  *   from disease, Prev Vet Med 34:1-17 (the finite-population mixture); Christensen J, Gardner IA
  *   2000, Prev Vet Med 45:83-106 (pooled testing, from memory).
  */
-export function pooledDetection(pens: number, sampled: number, infected: number, poolSize: number, poolSensitivity: number, poolSpecificity = 1): number {
+export function pooledDetection(
+  pens: number,
+  sampled: number,
+  infected: number,
+  poolSize: number,
+  poolSensitivity: number,
+  poolSpecificity = 1,
+): number {
   requireInteger('pens', pens, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
   requireInteger('sampled', sampled, 0, pens, '[0, pens]');
   requireInteger('infected', infected, 0, pens, '[0, pens]');

@@ -71,10 +71,20 @@ export function truePrevalence(apparent: number, sensitivity: number, specificit
   }
   const raw = (apparent + specificity - 1) / informative;
   if (raw < 0) {
-    return { estimate: 0, raw, clipped: true, note: `clipped to 0: apparent prevalence ${apparent} is below the false-positive rate 1 - Sp = ${1 - specificity}` };
+    return {
+      estimate: 0,
+      raw,
+      clipped: true,
+      note: `clipped to 0: apparent prevalence ${apparent} is below the false-positive rate 1 - Sp = ${1 - specificity}`,
+    };
   }
   if (raw > 1) {
-    return { estimate: 1, raw, clipped: true, note: `clipped to 1: apparent prevalence ${apparent} is above the sensitivity ${sensitivity}` };
+    return {
+      estimate: 1,
+      raw,
+      clipped: true,
+      note: `clipped to 1: apparent prevalence ${apparent} is above the sensitivity ${sensitivity}`,
+    };
   }
   return { estimate: raw, raw, clipped: false, note: null };
 }

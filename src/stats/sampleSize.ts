@@ -99,8 +99,10 @@ export function sampleSize(question: SampleSizeQuestion): SampleSizeResult {
   requireProbability('confidence', confidence);
   requireProbability('sensitivity', sensitivity);
   if ((question.infected === undefined) === (question.prevalence === undefined)) {
-    throw new RangeError('`infected` or `prevalence` must be given (exactly one), got ' +
-      (question.infected === undefined ? 'neither' : 'both'));
+    throw new RangeError(
+      '`infected` or `prevalence` must be given (exactly one), got ' +
+        (question.infected === undefined ? 'neither' : 'both'),
+    );
   }
   if (pens === Infinity) {
     if (question.prevalence === undefined) {
@@ -151,7 +153,14 @@ function sampleSizeInfinite(prevalence: number, confidence: number, sensitivity:
   const pSe = prevalence * sensitivity;
   if (pSe === 0) {
     // Se = 0: no ropes ever detect; repeated rounds do not help either.
-    return { sampled: confidence === 0 ? 0 : null, reachable: confidence === 0, achievedConfidence: 0, censusConfidence: null, roundsNeeded: null, infected: null };
+    return {
+      sampled: confidence === 0 ? 0 : null,
+      reachable: confidence === 0,
+      achievedConfidence: 0,
+      censusConfidence: null,
+      roundsNeeded: null,
+      infected: null,
+    };
   }
   const reaches = (n: number): boolean => binomialDetection(prevalence, n, sensitivity) >= confidence;
   let n = pSe === 1 ? 1 : Math.max(0, Math.ceil(Math.log1p(-confidence) / Math.log1p(-pSe)));

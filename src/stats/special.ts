@@ -33,7 +33,10 @@ export function stirlingError(m: number): number {
   if (m < STIRLING_TABLE_SIZE) return STIRLING_TABLE[m]!;
   const inv = 1 / m;
   const inv2 = inv * inv;
-  return inv * (1 / 12 - inv2 * (1 / 360 - inv2 * (1 / 1260 - inv2 * (1 / 1680 - inv2 * (1 / 1188 - inv2 * (691 / 360360))))));
+  return (
+    inv *
+    (1 / 12 - inv2 * (1 / 360 - inv2 * (1 / 1260 - inv2 * (1 / 1680 - inv2 * (1 / 1188 - inv2 * (691 / 360360))))))
+  );
 }
 
 /**
@@ -77,7 +80,9 @@ function stirlingTerm(m: number, base: number): number {
  */
 export function logHypergeometricZero(N: number, d: number, n: number): number {
   const rest = N - d - n;
-  return stirlingTerm(N - d, N) - (rest === 0 ? 0 : stirlingTerm(rest, N)) - stirlingTerm(N, N) + stirlingTerm(N - n, N);
+  return (
+    stirlingTerm(N - d, N) - (rest === 0 ? 0 : stirlingTerm(rest, N)) - stirlingTerm(N, N) + stirlingTerm(N - n, N)
+  );
 }
 
 /**

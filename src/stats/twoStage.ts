@@ -49,13 +49,17 @@ export function twoStageSiteDetection(barnProbabilities: readonly number[], infe
  * the site's barns is rounded up (at least one barn).
  * @throws RangeError for a count outside [1, barns] or a proportion outside (0, 1]
  */
-export function designInfectedBarns(design: { kind: 'barns'; value: number } | { kind: 'proportion'; value: number }, barns: number): number {
+export function designInfectedBarns(
+  design: { kind: 'barns'; value: number } | { kind: 'proportion'; value: number },
+  barns: number,
+): number {
   requireInteger('barns', barns, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
   if (design.kind === 'barns') {
     requireInteger('infectedBarns', design.value, 1, barns, '[1, barns]');
     return design.value;
   }
-  if (!(design.value > 0 && design.value <= 1)) throw new RangeError(`\`barn design prevalence\` must be a number in (0, 1], got ${String(design.value)}`);
+  if (!(design.value > 0 && design.value <= 1))
+    throw new RangeError(`\`barn design prevalence\` must be a number in (0, 1], got ${String(design.value)}`);
   // A proportion of the barns stands for whole barns: round up, so that 0.1 of 3 barns is 1 barn.
   return Math.max(1, Math.ceil(design.value * barns - 1e-9));
 }

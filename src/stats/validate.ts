@@ -14,7 +14,13 @@ function shown(value: unknown): string {
  * `range` is the bound as the reader should see it, e.g. "[0, pens]".
  * @throws RangeError "`name` must be an integer in range, got value"
  */
-export function requireInteger(name: string, value: number, min: number, max: number, range = `[${min}, ${max}]`): void {
+export function requireInteger(
+  name: string,
+  value: number,
+  min: number,
+  max: number,
+  range = `[${min}, ${max}]`,
+): void {
   if (typeof value !== 'number' || !Number.isInteger(value) || value < min || value > max) {
     throw new RangeError(`\`${name}\` must be an integer in ${range}, got ${shown(value)}`);
   }

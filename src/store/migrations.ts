@@ -23,7 +23,8 @@ export const MIGRATION_FUNCTIONS = {
 } as const;
 
 export const MIGRATIONS: readonly Migration[] = [
-  { sql: `
+  {
+    sql: `
   CREATE TABLE meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
 
   CREATE TABLE files (
@@ -122,7 +123,8 @@ export const MIGRATIONS: readonly Migration[] = [
     after_round INTEGER NOT NULL
   );
   CREATE INDEX planned_ropes_site ON planned_ropes(site_id, due_on);
-  ` },
+  `,
+  },
   {
     // 2: sample IDs are stored once, in `samples`, and results and ropes refer to them by
     // number; so are the reasons given for a result's class, in `reasons`. A result's natural key becomes (sample, assay, lab, content key) under one UNIQUE

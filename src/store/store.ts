@@ -185,7 +185,17 @@ export interface InsertCounts {
 }
 
 function emptyCounts(): InsertCounts {
-  return { inserted: 0, duplicates: 0, superseded: 0, rejections: [], warnings: [], supersessions: [], invalid: [], callDisagreements: [], idCorrections: [] };
+  return {
+    inserted: 0,
+    duplicates: 0,
+    superseded: 0,
+    rejections: [],
+    warnings: [],
+    supersessions: [],
+    invalid: [],
+    callDisagreements: [],
+    idCorrections: [],
+  };
 }
 
 /** The same bytes were stored (by another process) while this one waited for the write lock. */
@@ -263,11 +273,13 @@ export class StoreOpenError extends Error {
 function damageDetail(error: unknown): string | undefined {
   const code = error instanceof Database.SqliteError ? error.code : undefined;
   if (code === undefined) return undefined;
-  if (code === 'SQLITE_NOTADB') return 'is not a SQLite database (another program\'s file, or not a ropewatch store); point --db at the store file';
+  if (code === 'SQLITE_NOTADB')
+    return "is not a SQLite database (another program's file, or not a ropewatch store); point --db at the store file";
   if (code.startsWith('SQLITE_CORRUPT')) {
     return `is damaged (SQLite: ${error instanceof Error ? error.message : code}); a store cut short by a copy or a full disk reads like this: restore it from a backup, or point --db at another file`;
   }
-  if (code.startsWith('SQLITE_CANTOPEN')) return `cannot be opened (SQLite: ${error instanceof Error ? error.message : code}); check the path and its permissions`;
+  if (code.startsWith('SQLITE_CANTOPEN'))
+    return `cannot be opened (SQLite: ${error instanceof Error ? error.message : code}); check the path and its permissions`;
   return undefined;
 }
 
@@ -279,9 +291,13 @@ function checkStoreFile(file: string, create: boolean): void {
   } catch {
     stat = undefined;
   }
-  if (stat?.isDirectory()) throw new StoreOpenError(file, 'is a folder; --db takes the store file (for example data/ropewatch.db)');
+  if (stat?.isDirectory())
+    throw new StoreOpenError(file, 'is a folder; --db takes the store file (for example data/ropewatch.db)');
   if (stat === undefined && !create) {
-    throw new StoreOpenError(file, 'does not exist; check --db (ingest, watch, report, plan and demo create a new store, this command only reads one)');
+    throw new StoreOpenError(
+      file,
+      'does not exist; check --db (ingest, watch, report, plan and demo create a new store, this command only reads one)',
+    );
   }
   try {
     fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true });
@@ -332,7 +348,11 @@ export class Store {
       const tables = opened.prepare("SELECT count(*) FROM sqlite_schema WHERE type = 'table'").pluck().get() as number;
       const version = opened.pragma('user_version', { simple: true }) as number;
       // Tables without a schema version were made by another program: never add ours beside them.
-      if (version === 0 && tables > 0) throw new StoreOpenError(file, 'is a SQLite database of another program (it has tables but no ropewatch schema version); point --db at the store file');
+      if (version === 0 && tables > 0)
+        throw new StoreOpenError(
+          file,
+          'is a SQLite database of another program (it has tables but no ropewatch schema version); point --db at the store file',
+        );
       this.db = opened;
       this.migrate();
     } catch (error) {
@@ -346,12 +366,16 @@ export class Store {
     this.db.exec('CREATE TEMP TABLE IF NOT EXISTS file_unplaced (sample INTEGER PRIMARY KEY)');
     const db = this.db;
     this.statements = {
-      fileByHash: db.prepare('SELECT id, name, sha256, kind, lab_id AS labId, received_at AS receivedAt, status, reason_code AS reasonCode, reason FROM files WHERE sha256 = ?'),
+      fileByHash: db.prepare(
+        'SELECT id, name, sha256, kind, lab_id AS labId, received_at AS receivedAt, status, reason_code AS reasonCode, reason FROM files WHERE sha256 = ?',
+      ),
       insertFile: db.prepare(
         `INSERT INTO files (name, sha256, kind, lab_id, received_at, status, reason_code, reason, reason_line, reason_field, encoding_note, byte_length, bytes)
          VALUES (@name, @sha256, @kind, @labId, @receivedAt, @status, @reasonCode, @reason, @reasonLine, @reasonField, @encodingNote, @byteLength, @bytes)`,
       ),
-      finishFile: db.prepare('UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id'),
+      finishFile: db.prepare(
+        'UPDATE files SET rows_accepted = @accepted, rows_rejected = @rejected, rows_duplicate = @duplicate WHERE id = @id',
+      ),
       sampleByText: db.prepare(
         `SELECT s.id, EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id) AS hasResults,
                 h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn
@@ -375,8 +399,12 @@ export class Store {
          WHERE r.sample = ? AND r.assay_id = ? AND r.lab_id = ? AND r.id < ?
            AND NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)`,
       ),
-      insertSupersession: db.prepare('INSERT INTO supersessions (old_result_id, new_result_id, reason, kind) VALUES (?, ?, ?, ?)'),
-      ropeBySample: db.prepare('SELECT site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn FROM ropes WHERE sample = ?'),
+      insertSupersession: db.prepare(
+        'INSERT INTO supersessions (old_result_id, new_result_id, reason, kind) VALUES (?, ?, ?, ?)',
+      ),
+      ropeBySample: db.prepare(
+        'SELECT site_id AS siteId, barn_id AS barnId, pen_id AS penId, hung_on AS hungOn FROM ropes WHERE sample = ?',
+      ),
       ropeInPenOnDay: db.prepare(
         `SELECT s.sample_id AS sampleId FROM ropes h JOIN samples s ON s.id = h.sample
          WHERE h.site_id = ? AND h.barn_id = ? AND h.pen_id = ? AND h.hung_on = ? AND h.sample <> ?`,
@@ -388,7 +416,9 @@ export class Store {
       ),
       ropeInPool: db.prepare('SELECT 1 FROM ropes WHERE pool = ?').pluck(),
       rejectionExists: db.prepare('SELECT 1 FROM rejected_rows WHERE file_id = ? AND line = ? AND code = ?').pluck(),
-      insertRejection: db.prepare('INSERT INTO rejected_rows (file_id, line, field, code, value, message, suggested_id, candidate_ids) VALUES (?, ?, ?, ?, ?, ?, ?, ?)'),
+      insertRejection: db.prepare(
+        'INSERT INTO rejected_rows (file_id, line, field, code, value, message, suggested_id, candidate_ids) VALUES (?, ?, ?, ?, ?, ?, ?, ?)',
+      ),
       upsertPlanned: db.prepare(
         `INSERT INTO planned_ropes (sample_id, site_id, barn_id, pen_id, side, reason, due_on, planned_at, after_round, pool_id)
          VALUES (@sampleId, @siteId, @barnId, @penId, @side, @reason, @dueOn, @plannedAt, @afterRound, @poolId)
@@ -408,14 +438,19 @@ export class Store {
       // PRAGMA foreign_keys is a no-op inside a transaction: switch it off before BEGIN.
       if (migration.rebuildsTables) this.db.pragma('foreign_keys = OFF');
       try {
-        this.db.transaction(() => {
-          this.db.exec(migration.sql);
-          if (migration.rebuildsTables) {
-            const broken = this.db.pragma('foreign_key_check') as unknown[];
-            if (broken.length > 0) throw new Error(`store migration ${next + 1} would break ${broken.length} foreign key reference(s); the store is left at version ${next}`);
-          }
-          this.db.pragma(`user_version = ${next + 1}`);
-        }).immediate();
+        this.db
+          .transaction(() => {
+            this.db.exec(migration.sql);
+            if (migration.rebuildsTables) {
+              const broken = this.db.pragma('foreign_key_check') as unknown[];
+              if (broken.length > 0)
+                throw new Error(
+                  `store migration ${next + 1} would break ${broken.length} foreign key reference(s); the store is left at version ${next}`,
+                );
+            }
+            this.db.pragma(`user_version = ${next + 1}`);
+          })
+          .immediate();
       } finally {
         if (migration.rebuildsTables) this.db.pragma('foreign_keys = ON');
       }
@@ -432,7 +467,9 @@ export class Store {
   }
 
   setMeta(key: string, value: string): void {
-    this.db.prepare('INSERT INTO meta (key, value) VALUES (?, ?) ON CONFLICT (key) DO UPDATE SET value = excluded.value').run(key, value);
+    this.db
+      .prepare('INSERT INTO meta (key, value) VALUES (?, ?) ON CONFLICT (key) DO UPDATE SET value = excluded.value')
+      .run(key, value);
   }
 
   findFileByHash(sha256: string): StoredFile | undefined {
@@ -447,7 +484,15 @@ export class Store {
    *   rolled back; the caller reports a duplicate).
    */
   beginFile(
-    file: { name: string; sha256: string; kind: 'results' | 'ropes'; labId: string | null; receivedAt: string; encodingNote: string; byteLength: number },
+    file: {
+      name: string;
+      sha256: string;
+      kind: 'results' | 'ropes';
+      labId: string | null;
+      receivedAt: string;
+      encodingNote: string;
+      byteLength: number;
+    },
     options: { reopen?: number } = {},
   ): number {
     if (this.inFile) throw new Error('a file transaction is already open');
@@ -544,7 +589,9 @@ export class Store {
   private reasonId(text: string): number {
     let id = this.reasonIds.get(text);
     if (id === undefined) {
-      id = (this.statements.reasonByText.get(text) as number | undefined) ?? Number(this.statements.insertReason.run(text).lastInsertRowid);
+      id =
+        (this.statements.reasonByText.get(text) as number | undefined) ??
+        Number(this.statements.insertReason.run(text).lastInsertRowid);
       if (this.reasonIds.size >= REASONS_REMEMBERED) this.reasonIds.clear();
       this.reasonIds.set(text, id);
     }
@@ -574,16 +621,53 @@ export class Store {
       if (rope !== undefined && !this.placeEncodedRope(fileId, sample, row, rope, sampleIdField, counts)) continue;
       // What the receipt names row by row: the few rows read as invalid, called otherwise by the
       // lab, or read under a corrected sample ID (stored now or before).
-      if (row.resultClass === 'invalid') counts.invalid.push({ line: row.line, sampleId: row.sampleId, assayId: row.assayId, reason: row.reason });
+      if (row.resultClass === 'invalid')
+        counts.invalid.push({ line: row.line, sampleId: row.sampleId, assayId: row.assayId, reason: row.reason });
       if (row.callDiffers && row.labCall !== null && row.labCallClass !== null) {
-        counts.callDisagreements.push({ line: row.line, sampleId: row.sampleId, assayId: row.assayId, labCall: row.labCall, labCallClass: row.labCallClass, resultClass: row.resultClass, ctRaw: row.ctRaw });
+        counts.callDisagreements.push({
+          line: row.line,
+          sampleId: row.sampleId,
+          assayId: row.assayId,
+          labCall: row.labCall,
+          labCallClass: row.labCallClass,
+          resultClass: row.resultClass,
+          ctRaw: row.ctRaw,
+        });
       }
-      if (row.sampleIdAsWritten !== null) counts.idCorrections.push({ line: row.line, written: row.sampleIdAsWritten, meant: row.sampleId });
+      if (row.sampleIdAsWritten !== null)
+        counts.idCorrections.push({ line: row.line, written: row.sampleIdAsWritten, meant: row.sampleId });
       const info = this.statements.insertResult.run(
-        fileId, row.line, sample.key, row.labId, row.assayId, row.labAssay, row.ct, row.ctRaw, row.labCall, row.accession, row.collectedOn, row.reportedOn,
+        fileId,
+        row.line,
+        sample.key,
+        row.labId,
+        row.assayId,
+        row.labAssay,
+        row.ct,
+        row.ctRaw,
+        row.labCall,
+        row.accession,
+        row.collectedOn,
+        row.reportedOn,
         // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (migration 5).
-        row.reportStatus, row.control, row.resultClass, this.reasonId(row.reason), row.loadBand, row.positiveBelow ?? 0, row.suspectBelow ?? 0, row.cycleLimit ?? 0, row.callDiffers ? 1 : 0, row.contentKey,
-        row.statusKind, row.statusWord, row.labCallClass, row.sampleIdAsWritten, row.measure, row.sp, row.positiveAtOrAbove, row.suspectAtOrAbove,
+        row.reportStatus,
+        row.control,
+        row.resultClass,
+        this.reasonId(row.reason),
+        row.loadBand,
+        row.positiveBelow ?? 0,
+        row.suspectBelow ?? 0,
+        row.cycleLimit ?? 0,
+        row.callDiffers ? 1 : 0,
+        row.contentKey,
+        row.statusKind,
+        row.statusWord,
+        row.labCallClass,
+        row.sampleIdAsWritten,
+        row.measure,
+        row.sp,
+        row.positiveAtOrAbove,
+        row.suspectAtOrAbove,
       );
       if (info.changes === 0) {
         counts.duplicates++;
@@ -593,7 +677,8 @@ export class Store {
       // Only a sample with earlier results in the store, or an earlier row of this assay and
       // lab in this file, can have a report for this row to supersede.
       const assayAndLab = `${row.assayId}|${row.labId}`;
-      if (sample.hadResults || sample.reported.includes(assayAndLab)) this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, counts);
+      if (sample.hadResults || sample.reported.includes(assayAndLab))
+        this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, counts);
       else sample.reported.push(assayAndLab);
       if (!sample.counted) {
         sample.counted = true;
@@ -609,7 +694,14 @@ export class Store {
    * Returns whether the row may be stored. A sample's other assays carry the same location: it
    * is tried once per file, and its outcome repeated for them.
    */
-  private placeEncodedRope(fileId: number, sample: SampleInFile, row: ResultRow, rope: RopeLocation, sampleIdField: string, counts: InsertCounts): boolean {
+  private placeEncodedRope(
+    fileId: number,
+    sample: SampleInFile,
+    row: ResultRow,
+    rope: RopeLocation,
+    sampleIdField: string,
+    counts: InsertCounts,
+  ): boolean {
     const location = locationKey(rope);
     if (sample.ropedAt === location) return true;
     if (sample.patternTriedAt === location) {
@@ -626,14 +718,27 @@ export class Store {
     }
     const before = counts.rejections.length;
     const ropeRow: RopeRow = {
-      siteId: rope.siteId, barnId: rope.barnId, penId: rope.penId, hungOn: rope.hungOn, sampleId: row.sampleId, line: row.line, note: null, sampleIdAsWritten: null, warning: undefined,
+      siteId: rope.siteId,
+      barnId: rope.barnId,
+      penId: rope.penId,
+      hungOn: rope.hungOn,
+      sampleId: row.sampleId,
+      line: row.line,
+      note: null,
+      sampleIdAsWritten: null,
+      warning: undefined,
     };
     this.insertRopeRow(fileId, sample, ropeRow, 'sample-pattern', counts);
     if (counts.rejections.length === before) return true;
     // The refusal names the file's sample ID column: that is the cell that carries the location.
     const refusal = { ...counts.rejections[before]!, field: sampleIdField, value: row.sampleId };
     counts.rejections[before] = refusal;
-    sample.patternRefusal = { field: refusal.field, code: refusal.code, value: refusal.value, message: refusal.message };
+    sample.patternRefusal = {
+      field: refusal.field,
+      code: refusal.code,
+      value: refusal.value,
+      message: refusal.message,
+    };
     return false;
   }
 
@@ -644,13 +749,33 @@ export class Store {
    * report date wins. Every link is named in the receipt with both readings.
    */
   private linkSupersessions(newId: number, sampleKey: number, row: ResultRow, counts: InsertCounts): void {
-    type Earlier = { id: number; reportedOn: string | null; status: ReportStatusKind | null; statusWord: string | null; resultClass: ResultClass; ctRaw: string; labCall: string | null };
+    type Earlier = {
+      id: number;
+      reportedOn: string | null;
+      status: ReportStatusKind | null;
+      statusWord: string | null;
+      resultClass: ResultClass;
+      ctRaw: string;
+      labCall: string | null;
+    };
     const earlier = this.statements.currentBefore.all(sampleKey, row.assayId, row.labId, newId) as Earlier[];
     const next = { reportedOn: row.reportedOn, status: row.statusKind, statusWord: row.statusWord ?? row.reportStatus };
-    const nextReading: ReportReading = { resultClass: row.resultClass, ctRaw: row.ctRaw, labCall: row.labCall, reportedOn: row.reportedOn, status: row.statusKind };
+    const nextReading: ReportReading = {
+      resultClass: row.resultClass,
+      ctRaw: row.ctRaw,
+      labCall: row.labCall,
+      reportedOn: row.reportedOn,
+      status: row.statusKind,
+    };
     for (const old of earlier) {
       const decision = decideSupersession(old, next);
-      const oldReading: ReportReading = { resultClass: old.resultClass, ctRaw: old.ctRaw, labCall: old.labCall, reportedOn: old.reportedOn, status: old.status };
+      const oldReading: ReportReading = {
+        resultClass: old.resultClass,
+        ctRaw: old.ctRaw,
+        labCall: old.labCall,
+        reportedOn: old.reportedOn,
+        status: old.status,
+      };
       counts.superseded++;
       const keepOld = decision.current === 'old';
       counts.supersessions.push({
@@ -672,10 +797,28 @@ export class Store {
     }
   }
 
-  private insertRopeRow(fileId: number, sample: SampleInFile, row: RopeRow, source: 'sheet' | 'sample-pattern', counts: InsertCounts, poolKey: number | null = null): void {
+  private insertRopeRow(
+    fileId: number,
+    sample: SampleInFile,
+    row: RopeRow,
+    source: 'sheet' | 'sample-pattern',
+    counts: InsertCounts,
+    poolKey: number | null = null,
+  ): void {
     const sampleKey = sample.key;
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
-    const info = this.statements.insertRope.run(sampleKey, row.siteId, row.barnId, row.penId, row.hungOn, source, fileId, row.line, row.note, poolKey);
+    const info = this.statements.insertRope.run(
+      sampleKey,
+      row.siteId,
+      row.barnId,
+      row.penId,
+      row.hungOn,
+      source,
+      fileId,
+      row.line,
+      row.note,
+      poolKey,
+    );
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
@@ -684,13 +827,18 @@ export class Store {
       this.effects.sites.add(row.siteId);
       if (sample.hadResults) {
         this.effects.resolved.push(row.sampleId);
-        if (this.effects.resolved.length >= 2 * RECEIPT_LIST_LIMIT) this.effects.resolved = this.effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT);
+        if (this.effects.resolved.length >= 2 * RECEIPT_LIST_LIMIT)
+          this.effects.resolved = this.effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT);
       }
       return;
     }
     const existing = this.statements.ropeBySample.get(sampleKey) as Omit<StoredRope, 'sampleId' | 'source'> | undefined;
     if (existing) {
-      const same = existing.siteId === row.siteId && existing.barnId === row.barnId && existing.penId === row.penId && existing.hungOn === row.hungOn;
+      const same =
+        existing.siteId === row.siteId &&
+        existing.barnId === row.barnId &&
+        existing.penId === row.penId &&
+        existing.hungOn === row.hungOn;
       if (same) counts.duplicates += source === 'sheet' ? 1 : 0;
       else {
         counts.rejections.push({
@@ -703,7 +851,9 @@ export class Store {
       }
       return;
     }
-    const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, sampleKey) as { sampleId: string } | undefined;
+    const clash = this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, sampleKey) as
+      | { sampleId: string }
+      | undefined;
     const other = clash?.sampleId ?? '(another sample)';
     counts.rejections.push({
       line: row.line,
@@ -727,7 +877,13 @@ export class Store {
       if (poolId === null) {
         // A rope tested on its own whose ID already names a pool: one tube cannot be both.
         if (this.statements.ropeInPool.get(sample.key) !== undefined) {
-          counts.rejections.push({ line: row.line, field: 'sample_id', code: 'bad-pool', value: row.sampleId, message: `sample ${row.sampleId} is the ID of a pool of earlier ropes, so it cannot name a rope` });
+          counts.rejections.push({
+            line: row.line,
+            field: 'sample_id',
+            code: 'bad-pool',
+            value: row.sampleId,
+            message: `sample ${row.sampleId} is the ID of a pool of earlier ropes, so it cannot name a rope`,
+          });
           continue;
         }
         this.insertRopeRow(fileId, sample, row, 'sheet', counts);
@@ -735,7 +891,13 @@ export class Store {
       }
       const pool = this.sampleInFile(poolId);
       if (pool.ropedAt !== undefined) {
-        counts.rejections.push({ line: row.line, field: 'pool', code: 'bad-pool', value: poolId, message: `pool ID ${poolId} names the rope hung in ${pool.ropedAt}; a pool gets an ID of its own` });
+        counts.rejections.push({
+          line: row.line,
+          field: 'pool',
+          code: 'bad-pool',
+          value: poolId,
+          message: `pool ID ${poolId} names the rope hung in ${pool.ropedAt}; a pool gets an ID of its own`,
+        });
         continue;
       }
       this.insertRopeRow(fileId, sample, row, 'sheet', counts, pool.key);
@@ -749,14 +911,24 @@ export class Store {
     this.requireFile();
     for (const r of rejections) {
       if (this.reopened && this.statements.rejectionExists.get(fileId, r.line, r.code) !== undefined) continue;
-      this.statements.insertRejection.run(fileId, r.line, r.field ?? null, r.code, r.value ?? null, r.message, r.suggestedId ?? null, r.candidateIds?.join(' ') ?? null);
+      this.statements.insertRejection.run(
+        fileId,
+        r.line,
+        r.field ?? null,
+        r.code,
+        r.value ?? null,
+        r.message,
+        r.suggestedId ?? null,
+        r.candidateIds?.join(' ') ?? null,
+      );
     }
   }
 
   finishFile(fileId: number, counts: { accepted: number; rejected: number; duplicate: number }): void {
     this.requireFile();
     // A file read again adds the rows its corrections let in; its first counts stand.
-    if (this.reopened) this.db.prepare('UPDATE files SET rows_accepted = rows_accepted + ? WHERE id = ?').run(counts.accepted, fileId);
+    if (this.reopened)
+      this.db.prepare('UPDATE files SET rows_accepted = rows_accepted + ? WHERE id = ?').run(counts.accepted, fileId);
     else this.statements.finishFile.run({ id: fileId, ...counts });
   }
 
@@ -811,7 +983,9 @@ export class Store {
   /** Counts up the version of each site the open file changed: their outputs are now behind. */
   bumpSiteVersions(siteIds: readonly string[]): void {
     this.requireFile();
-    const bump = this.db.prepare('INSERT INTO site_versions (site_id, version) VALUES (?, 1) ON CONFLICT (site_id) DO UPDATE SET version = version + 1');
+    const bump = this.db.prepare(
+      'INSERT INTO site_versions (site_id, version) VALUES (?, 1) ON CONFLICT (site_id) DO UPDATE SET version = version + 1',
+    );
     for (const siteId of siteIds) bump.run(siteId);
   }
 
@@ -859,46 +1033,48 @@ export class Store {
     byteLength: number;
     labId: string | null;
   }): void {
-    this.db.transaction(() => {
-      const known = this.findFileByHash(file.sha256);
-      // Another process may have stored the same bytes since the caller looked: keep them.
-      if (known?.status === 'accepted') return;
-      if (known) {
-        // Refused again: the record tells the latest refusal (its bytes are kept from the first).
-        this.db
-          .prepare(
-            `UPDATE files SET name = @name, kind = @kind, lab_id = @labId, received_at = @receivedAt, reason_code = @reasonCode, reason = @reason,
+    this.db
+      .transaction(() => {
+        const known = this.findFileByHash(file.sha256);
+        // Another process may have stored the same bytes since the caller looked: keep them.
+        if (known?.status === 'accepted') return;
+        if (known) {
+          // Refused again: the record tells the latest refusal (its bytes are kept from the first).
+          this.db
+            .prepare(
+              `UPDATE files SET name = @name, kind = @kind, lab_id = @labId, received_at = @receivedAt, reason_code = @reasonCode, reason = @reason,
                reason_line = @reasonLine, reason_field = @reasonField WHERE id = @id`,
-          )
-          .run({
-            id: known.id,
-            name: file.name,
-            kind: file.kind ?? 'unknown',
-            labId: file.labId,
-            receivedAt: file.receivedAt,
-            reasonCode: file.reasonCode,
-            reason: file.reason,
-            reasonLine: file.line ?? null,
-            reasonField: file.field ?? null,
-          });
-        return;
-      }
-      this.statements.insertFile.run({
-        name: file.name,
-        sha256: file.sha256,
-        kind: file.kind ?? 'unknown',
-        labId: file.labId,
-        receivedAt: file.receivedAt,
-        status: 'rejected',
-        reasonCode: file.reasonCode,
-        reason: file.reason,
-        reasonLine: file.line ?? null,
-        reasonField: file.field ?? null,
-        encodingNote: null,
-        byteLength: file.byteLength,
-        bytes: file.bytes ?? null,
-      });
-    }).immediate();
+            )
+            .run({
+              id: known.id,
+              name: file.name,
+              kind: file.kind ?? 'unknown',
+              labId: file.labId,
+              receivedAt: file.receivedAt,
+              reasonCode: file.reasonCode,
+              reason: file.reason,
+              reasonLine: file.line ?? null,
+              reasonField: file.field ?? null,
+            });
+          return;
+        }
+        this.statements.insertFile.run({
+          name: file.name,
+          sha256: file.sha256,
+          kind: file.kind ?? 'unknown',
+          labId: file.labId,
+          receivedAt: file.receivedAt,
+          status: 'rejected',
+          reasonCode: file.reasonCode,
+          reason: file.reason,
+          reasonLine: file.line ?? null,
+          reasonField: file.field ?? null,
+          encodingNote: null,
+          byteLength: file.byteLength,
+          bytes: file.bytes ?? null,
+        });
+      })
+      .immediate();
   }
 
   /**
@@ -945,14 +1121,20 @@ export class Store {
 
   /** How many committed files have changed the site (0 for none). */
   siteVersion(siteId: string): number {
-    return (this.db.prepare('SELECT version FROM site_versions WHERE site_id = ?').pluck().get(siteId) as number | undefined) ?? 0;
+    return (
+      (this.db.prepare('SELECT version FROM site_versions WHERE site_id = ?').pluck().get(siteId) as
+        | number
+        | undefined) ?? 0
+    );
   }
 
   /** What `outbox` shows of the site, or undefined when its outputs were never built there. */
   outputsBuilt(outbox: string, siteId: string): { siteVersion: number; configDigest: string } | undefined {
-    return this.db.prepare('SELECT site_version AS siteVersion, config_digest AS configDigest FROM outputs_built WHERE outbox = ? AND site_id = ?').get(outbox, siteId) as
-      | { siteVersion: number; configDigest: string }
-      | undefined;
+    return this.db
+      .prepare(
+        'SELECT site_version AS siteVersion, config_digest AS configDigest FROM outputs_built WHERE outbox = ? AND site_id = ?',
+      )
+      .get(outbox, siteId) as { siteVersion: number; configDigest: string } | undefined;
   }
 
   /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
@@ -1007,7 +1189,9 @@ export class Store {
   }
 
   supersessions(): Supersession[] {
-    return this.db.prepare('SELECT old_result_id AS oldResultId, new_result_id AS newResultId, reason FROM supersessions').all() as Supersession[];
+    return this.db
+      .prepare('SELECT old_result_id AS oldResultId, new_result_id AS newResultId, reason FROM supersessions')
+      .all() as Supersession[];
   }
 
   /**
@@ -1121,16 +1305,28 @@ export class Store {
   }
 
   rejectedRows(fileId: number): RowRejection[] {
-    return this.db.prepare('SELECT line, field, code, value, message FROM rejected_rows WHERE file_id = ? ORDER BY line').all(fileId) as RowRejection[];
+    return this.db
+      .prepare('SELECT line, field, code, value, message FROM rejected_rows WHERE file_id = ? ORDER BY line')
+      .all(fileId) as RowRejection[];
   }
 
-  counts(): { files: number; rejectedFiles: number; results: number; currentResults: number; ropes: number; rejectedRows: number; planned: number } {
+  counts(): {
+    files: number;
+    rejectedFiles: number;
+    results: number;
+    currentResults: number;
+    ropes: number;
+    rejectedRows: number;
+    planned: number;
+  } {
     const one = (sql: string) => (this.db.prepare(sql).get() as { n: number }).n;
     return {
       files: one('SELECT COUNT(*) AS n FROM files'),
       rejectedFiles: one("SELECT COUNT(*) AS n FROM files WHERE status = 'rejected'"),
       results: one('SELECT COUNT(*) AS n FROM results'),
-      currentResults: one('SELECT COUNT(*) AS n FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)'),
+      currentResults: one(
+        'SELECT COUNT(*) AS n FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)',
+      ),
       ropes: one('SELECT COUNT(*) AS n FROM ropes'),
       rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows'),
       planned: one('SELECT COUNT(*) AS n FROM planned_ropes'),

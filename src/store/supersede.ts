@@ -70,7 +70,11 @@ export function decideSupersession(old: ReportFacts, next: ReportFacts): Superse
   }
   // The report arriving is final, or says nothing of its state (read as final).
   if (oldPreliminary) {
-    return { current: 'next', kind: 'final-over-preliminary', reason: `the final report (${dated(next.reportedOn)}) replaces the preliminary one (${dated(old.reportedOn)})` };
+    return {
+      current: 'next',
+      kind: 'final-over-preliminary',
+      reason: `the final report (${dated(next.reportedOn)}) replaces the preliminary one (${dated(old.reportedOn)})`,
+    };
   }
   if (old.status === 'corrected' && !laterThan(next.reportedOn, old.reportedOn)) {
     return {
@@ -84,10 +88,18 @@ export function decideSupersession(old: ReportFacts, next: ReportFacts): Superse
 
 function byDate(old: ReportFacts, next: ReportFacts): SupersessionDecision {
   if (laterThan(old.reportedOn, next.reportedOn)) {
-    return { current: 'old', kind: 'earlier-report-kept', reason: `an earlier-dated report (${next.reportedOn}) arrived after ${old.reportedOn}` };
+    return {
+      current: 'old',
+      kind: 'earlier-report-kept',
+      reason: `an earlier-dated report (${next.reportedOn}) arrived after ${old.reportedOn}`,
+    };
   }
   if (old.reportedOn !== next.reportedOn) {
-    return { current: 'next', kind: 'later-report', reason: `later report (${dated(next.reportedOn)} after ${dated(old.reportedOn)})` };
+    return {
+      current: 'next',
+      kind: 'later-report',
+      reason: `later report (${dated(next.reportedOn)} after ${dated(old.reportedOn)})`,
+    };
   }
   return { current: 'next', kind: 'same-date-later-file', reason: 'a later file reports this sample and assay again' };
 }

@@ -13,7 +13,12 @@
  * @see The Unicode Standard, Annex #15 (Unicode Normalization Forms), canonical decomposition.
  */
 export function wordKey(text: string): string {
-  return text.normalize('NFD').replace(/\p{M}+/gu, '').toLowerCase().replace(/[^\p{L}\p{N}]+/gu, ' ').trim();
+  return text
+    .normalize('NFD')
+    .replace(/\p{M}+/gu, '')
+    .toLowerCase()
+    .replace(/[^\p{L}\p{N}]+/gu, ' ')
+    .trim();
 }
 
 /** One configured phrase found in a text. */

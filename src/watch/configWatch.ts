@@ -28,7 +28,8 @@ export interface ConfigWatch {
 /** Only the files loadConfig reads count; editor swap and backup files do not. */
 function isConfigFile(dir: string, file: string): boolean {
   const relative = path.relative(dir, file).split(path.sep);
-  if (relative.length === 1) return relative[0] === 'sites.yaml' || relative[0] === 'assays.yaml' || relative[0] === 'corrections.yaml';
+  if (relative.length === 1)
+    return relative[0] === 'sites.yaml' || relative[0] === 'assays.yaml' || relative[0] === 'corrections.yaml';
   return relative.length === 2 && relative[0] === 'labs' && /^[^.].*\.ya?ml$/i.test(relative[1]!);
 }
 
@@ -44,7 +45,13 @@ export function watchConfig(options: ConfigWatchOptions): ConfigWatch {
       if (!closed) options.onChange();
     }, quietMs);
   };
-  const watcher: FSWatcher = watch(dir, { depth: 1, ignoreInitial: true, usePolling: options.poll ?? false, interval: 500, persistent: true });
+  const watcher: FSWatcher = watch(dir, {
+    depth: 1,
+    ignoreInitial: true,
+    usePolling: options.poll ?? false,
+    interval: 500,
+    persistent: true,
+  });
   for (const event of ['add', 'change', 'unlink'] as const) watcher.on(event, changed);
   watcher.on('error', (error) => options.onError?.(error));
   const ready = new Promise<void>((resolve) => watcher.once('ready', () => resolve()));

@@ -11,7 +11,16 @@ import path from 'node:path';
  * spreadsheet formats ropewatch does not read (.xls, .xlsb, .ods): those are taken too, so that
  * they are refused with the reason (save as .xlsx or CSV) rather than left in the inbox unseen.
  */
-export const DEFAULT_EXTENSIONS: readonly string[] = Object.freeze(['.csv', '.tsv', '.txt', '.xlsx', '.xlsm', '.xls', '.xlsb', '.ods']);
+export const DEFAULT_EXTENSIONS: readonly string[] = Object.freeze([
+  '.csv',
+  '.tsv',
+  '.txt',
+  '.xlsx',
+  '.xlsm',
+  '.xls',
+  '.xlsb',
+  '.ods',
+]);
 
 /**
  * Subfolders of the inbox that hold files already handled by the pipeline. A file there is

@@ -116,7 +116,12 @@ export async function waitUntilStable(
     const at = probe.now();
     if (sameStamp(current, last)) {
       if (at - since >= stableMs) {
-        return { kind: 'ready', stamp: { size: current.size, mtimeMs: current.mtimeMs }, polls, waitedMs: at - started };
+        return {
+          kind: 'ready',
+          stamp: { size: current.size, mtimeMs: current.mtimeMs },
+          polls,
+          waitedMs: at - started,
+        };
       }
     } else {
       last = current;

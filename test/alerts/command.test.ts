@@ -41,7 +41,13 @@ function commandWorkspace(command: string[], timeoutSeconds = 5): TestWorkspace 
 const hookCommand = [process.execPath, 'hook.cjs'];
 const received = (ws: TestWorkspace) => {
   const file = path.join(ws.paths.configDir, 'received.jsonl');
-  return fs.existsSync(file) ? fs.readFileSync(file, 'utf8').split('\n').filter((line) => line !== '').map((line) => JSON.parse(line) as Record<string, any>) : [];
+  return fs.existsSync(file)
+    ? fs
+        .readFileSync(file, 'utf8')
+        .split('\n')
+        .filter((line) => line !== '')
+        .map((line) => JSON.parse(line) as Record<string, any>)
+    : [];
 };
 
 describe('alerts given to a command', () => {
@@ -53,9 +59,19 @@ describe('alerts given to a command', () => {
     expect(report).toMatchObject({ failed: 0, waiting: 0 });
     const lines = received(ws);
     expect(lines).toHaveLength(report.recorded);
-    expect(lines.find((line) => line.kind === 'first-positive')).toMatchObject({ key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1', site: 'hollow-creek', round: 1, assay: 'PRRSV', numbers: { positive: 1 } });
+    expect(lines.find((line) => line.kind === 'first-positive')).toMatchObject({
+      key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1',
+      site: 'hollow-creek',
+      round: 1,
+      assay: 'PRRSV',
+      numbers: { positive: 1 },
+    });
     // What the command reads is what the feed holds.
-    const feed = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8').split('\n').filter((line) => line !== '').map((line) => JSON.parse(line));
+    const feed = fs
+      .readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8')
+      .split('\n')
+      .filter((line) => line !== '')
+      .map((line) => JSON.parse(line));
     expect(lines).toEqual(feed);
     await deliverAlerts(ws.ws(), { env: {} });
     expect(received(ws)).toHaveLength(report.recorded);
@@ -69,7 +85,11 @@ describe('alerts given to a command', () => {
     const open = { ...ws.ws(), log: (line: string) => lines.push(line) };
     const failed = await deliverAlerts(open, { env: {} });
     expect(failed).toMatchObject({ delivered: 0, failed: 1, waiting: failed.recorded });
-    expect(lines).toEqual([expect.stringMatching(/^warning: alert \S+ not delivered by command \(attempt 1\): the command \S+ exited with status 3: relay unreachable; retried on the next run$/)]);
+    expect(lines).toEqual([
+      expect.stringMatching(
+        /^warning: alert \S+ not delivered by command \(attempt 1\): the command \S+ exited with status 3: relay unreachable; retried on the next run$/,
+      ),
+    ]);
     fs.rmSync(path.join(ws.paths.configDir, 'fail'));
     const next = await deliverAlerts(open, { env: {} });
     expect(next).toMatchObject({ delivered: failed.recorded, failed: 0, waiting: 0 });
@@ -121,7 +141,10 @@ describe('alerts given to a command', () => {
     let stop!: () => void;
     const stopSignal = new Promise<void>((resolve) => (stop = resolve));
     let stderr = '';
-    const running = runCli(['watch', '--stable-ms', '50', ...ws.cliFlags], { stopSignal, stderr: (text) => (stderr += text) });
+    const running = runCli(['watch', '--stable-ms', '50', ...ws.cliFlags], {
+      stopSignal,
+      stderr: (text) => (stderr += text),
+    });
     const waitFor = async (condition: () => boolean, label: string) => {
       const deadline = Date.now() + 30_000;
       while (!condition()) {
@@ -130,17 +153,31 @@ describe('alerts given to a command', () => {
       }
     };
     try {
-      fs.writeFileSync(path.join(ws.paths.inbox, 'hollow-creek_ropes.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES));
-      await waitFor(() => fs.existsSync(path.join(ws.paths.inbox, 'archive', 'hollow-creek_ropes.csv')), 'the rope sheet stored');
+      fs.writeFileSync(
+        path.join(ws.paths.inbox, 'hollow-creek_ropes.csv'),
+        ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES),
+      );
+      await waitFor(
+        () => fs.existsSync(path.join(ws.paths.inbox, 'archive', 'hollow-creek_ropes.csv')),
+        'the rope sheet stored',
+      );
       fs.writeFileSync(path.join(ws.paths.inbox, 'nvdl_results_2026-08-06.csv'), RESULTS);
       await waitFor(() => stderr.includes('not delivered by command'), 'the failed delivery logged');
       // One line, beginning with the time of the injected clock (ISO 8601).
-      expect(stderr).toMatch(/^2026-12-01T12:00:00\.000Z warning: alert \S+ not delivered by command \(attempt 1\): the command \S+ exited with status 3: relay unreachable; retried on the next run$/m);
+      expect(stderr).toMatch(
+        /^2026-12-01T12:00:00\.000Z warning: alert \S+ not delivered by command \(attempt 1\): the command \S+ exited with status 3: relay unreachable; retried on the next run$/m,
+      );
       expect(received(ws)).toEqual([]);
       fs.rmSync(path.join(ws.paths.configDir, 'fail'));
       // Any next file brings the next delivery run (a duplicate of the sheet: nothing stored twice).
-      fs.writeFileSync(path.join(ws.paths.inbox, 'again.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES));
-      await waitFor(() => received(ws).some((line) => line.kind === 'first-positive'), 'the alerts given to the command');
+      fs.writeFileSync(
+        path.join(ws.paths.inbox, 'again.csv'),
+        ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES),
+      );
+      await waitFor(
+        () => received(ws).some((line) => line.kind === 'first-positive'),
+        'the alerts given to the command',
+      );
     } finally {
       stop();
     }

@@ -71,7 +71,11 @@ async function startMailServer(password?: string): Promise<MailServer> {
 const emailSite = (port: number, extra: Record<string, unknown> = {}, timeoutSeconds = 5) =>
   withSite((site) => {
     site.alerts = {
-      email: { smtp: { host: '127.0.0.1', port, secure: false, ...extra }, from: 'ropewatch@clinic.example', to: ['vet@clinic.example', 'Herd Office <office@farm.example>'] },
+      email: {
+        smtp: { host: '127.0.0.1', port, secure: false, ...extra },
+        from: 'ropewatch@clinic.example',
+        to: ['vet@clinic.example', 'Herd Office <office@farm.example>'],
+      },
       timeoutSeconds,
     };
   });
@@ -89,7 +93,12 @@ function decodeWords(header: string): string {
     .replace(/=\?utf-8\?([bq])\?([^?]*)\?=/gi, (_, encoding: string, text: string) =>
       encoding.toLowerCase() === 'b'
         ? Buffer.from(text, 'base64').toString('utf8')
-        : Buffer.from(text.replace(/_/g, ' ').replace(/=([0-9a-f]{2})/gi, (__, hex: string) => String.fromCharCode(parseInt(hex, 16))), 'latin1').toString('utf8'),
+        : Buffer.from(
+            text
+              .replace(/_/g, ' ')
+              .replace(/=([0-9a-f]{2})/gi, (__, hex: string) => String.fromCharCode(parseInt(hex, 16))),
+            'latin1',
+          ).toString('utf8'),
     );
 }
 
@@ -108,14 +117,23 @@ describe('alerts by e-mail', () => {
     expect(first.delivered).toBe(first.recorded);
     expect(mail.received).toHaveLength(first.recorded);
     // RFC 5321 3.3: the envelope carries the sender and each recipient's address (display names dropped).
-    expect(mail.received[0]).toMatchObject({ from: 'ropewatch@clinic.example', to: ['vet@clinic.example', 'office@farm.example'] });
+    expect(mail.received[0]).toMatchObject({
+      from: 'ropewatch@clinic.example',
+      to: ['vet@clinic.example', 'office@farm.example'],
+    });
     const subjects = mail.received.map((message) => subjectOf(message.data));
     // The subject says what to do: the alert's action line, as the feed holds it.
-    const feed = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8').trim().split('\n').map((line) => JSON.parse(line) as { kind: string; action: string });
+    const feed = fs
+      .readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8')
+      .trim()
+      .split('\n')
+      .map((line) => JSON.parse(line) as { kind: string; action: string });
     const action = feed.find((line) => line.kind === 'first-positive')!.action;
     expect(action).toMatch(/^Positive PRRSV/);
     expect(subjects).toContain(`ropewatch alert: Hollow Creek Finisher, round 1: ${action}`);
-    const firstPositive = mail.received.find((message) => subjectOf(message.data) === `ropewatch alert: Hollow Creek Finisher, round 1: ${action}`)!;
+    const firstPositive = mail.received.find(
+      (message) => subjectOf(message.data) === `ropewatch alert: Hollow Creek Finisher, round 1: ${action}`,
+    )!;
     expect(firstPositive.data).toContain('Alert key: hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1');
     expect(firstPositive.data).toContain('positive: 1');
     const again = await deliverAlerts(ws.ws(), { env: {} });
@@ -132,7 +150,11 @@ describe('alerts by e-mail', () => {
     // Without the variable: nothing sent, one line logged, every alert still owed.
     const missing = await deliverAlerts(open, { env: {} });
     expect(missing).toMatchObject({ delivered: 0, failed: 1, waiting: missing.recorded });
-    expect(lines).toEqual([expect.stringMatching(/^warning: alert \S+ not delivered by e-mail \(attempt 1\): the environment variable ROPEWATCH_SMTP_PASSWORD \(smtp\.passwordEnv\) is not set; retried on the next run$/)]);
+    expect(lines).toEqual([
+      expect.stringMatching(
+        /^warning: alert \S+ not delivered by e-mail \(attempt 1\): the environment variable ROPEWATCH_SMTP_PASSWORD \(smtp\.passwordEnv\) is not set; retried on the next run$/,
+      ),
+    ]);
     // A wrong password: the server refuses the login (RFC 4954 6: 535).
     const wrong = await deliverAlerts(open, { env: { ROPEWATCH_SMTP_PASSWORD: 'guess' } });
     expect(wrong).toMatchObject({ delivered: 0, failed: 1 });
@@ -153,7 +175,9 @@ describe('alerts by e-mail', () => {
     // One attempt: a refusing server is not asked again for each alert in the same run.
     expect(refused).toMatchObject({ delivered: 0, failed: 1, waiting: refused.recorded });
     expect(lines).toHaveLength(1);
-    expect(lines[0]).toMatch(/^warning: alert \S+ not delivered by e-mail \(attempt 1\): .*451.*Mailbox temporarily unavailable; retried on the next run$/);
+    expect(lines[0]).toMatch(
+      /^warning: alert \S+ not delivered by e-mail \(attempt 1\): .*451.*Mailbox temporarily unavailable; retried on the next run$/,
+    );
     const state = readDeliveryState(deliveryStateFile(ws.paths.dbFile));
     const owed = Object.values(state.alerts).filter((entry) => entry.channels.email?.done === false);
     expect(owed).toHaveLength(refused.recorded);

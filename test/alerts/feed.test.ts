@@ -35,7 +35,9 @@ describe('alert feed', () => {
     const kinds = feed.map((line) => `${line.kind}/${line.assay ?? '-'}/${line.barn ?? '-'}`);
     // By hand: Ct 28.4 < 36 is the site's first PRRSV positive; 37.1 in [36, 40) is suspect;
     // HC-0803-F3-01 has no result.
-    expect(kinds).toEqual(expect.arrayContaining(['first-positive/PRRSV/F1', 'suspect/PRRSV/F1', 'missing-ropes/-/F3']));
+    expect(kinds).toEqual(
+      expect.arrayContaining(['first-positive/PRRSV/F1', 'suspect/PRRSV/F1', 'missing-ropes/-/F3']),
+    );
     const first = feed.find((line) => line.kind === 'first-positive')!;
     expect(first).toMatchObject({
       key: 'hollow-creek/r01-2026-08-03/PRRSV/first-positive/F1',
@@ -50,7 +52,11 @@ describe('alert feed', () => {
     expect(first.numbers).toMatchObject({ tested: 3, positive: 1 });
     // A site positive for a PCR assay is not free: it has a status, not a probability of freedom.
     expect(first.numbers.freedom).toBeNull();
-    expect(feed.find((line) => line.kind === 'missing-ropes')!.numbers).toMatchObject({ ropesHung: 1, ropesReturned: 0, missingRopes: 1 });
+    expect(feed.find((line) => line.kind === 'missing-ropes')!.numbers).toMatchObject({
+      ropesHung: 1,
+      ropesReturned: 0,
+      missingRopes: 1,
+    });
     expect(new Set(feed.map((line) => line.key)).size).toBe(feed.length);
   });
 
@@ -86,7 +92,12 @@ describe('alert feed', () => {
     await deliverAlerts(ws.ws(), { env: {} });
     const lines = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8').split('\n');
     expect(lines[0]).toBe('{"key":"cut sh');
-    expect(() => lines.slice(1).filter((line) => line !== '').map((line) => JSON.parse(line))).not.toThrow();
+    expect(() =>
+      lines
+        .slice(1)
+        .filter((line) => line !== '')
+        .map((line) => JSON.parse(line)),
+    ).not.toThrow();
   });
 
   it('leaves the alerts owed when the feed cannot be written, logs one line, and appends them on the next run', async () => {
@@ -99,7 +110,9 @@ describe('alert feed', () => {
     const failed = await deliverAlerts(open, { env: {} });
     expect(failed.appended).toBe(0);
     expect(lines).toHaveLength(1);
-    expect(lines[0]).toMatch(/^warning: \d+ alert\(s\) not appended to .*alerts\.jsonl \(.*\); retried on the next run$/);
+    expect(lines[0]).toMatch(
+      /^warning: \d+ alert\(s\) not appended to .*alerts\.jsonl \(.*\); retried on the next run$/,
+    );
     fs.rmdirSync(feed);
     const next = await deliverAlerts(open, { env: {} });
     expect(next.appended).toBe(failed.recorded);
@@ -124,7 +137,11 @@ describe('alert feed', () => {
     fs.writeFileSync(state, '{"schema": "ropewatch.alert-deliveries/1", "alerts": {');
     const lines: string[] = [];
     const again = await deliverAlerts({ ...ws.ws(), log: (line: string) => lines.push(line) }, { env: {} });
-    expect(lines).toEqual([expect.stringMatching(/-alerts\.json cannot be read \(.*\); moved to ropewatch\.db-alerts\.json\.damaged, starting a new delivery record$/)]);
+    expect(lines).toEqual([
+      expect.stringMatching(
+        /-alerts\.json cannot be read \(.*\); moved to ropewatch\.db-alerts\.json\.damaged, starting a new delivery record$/,
+      ),
+    ]);
     expect(fs.readFileSync(`${state}.damaged`, 'utf8')).toContain('"alerts": {');
     expect(again.appended).toBe(0);
     expect(fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8')).toBe(before);
@@ -152,7 +169,11 @@ describe('alert feed', () => {
     await dropRound(ws);
     await deliverAlerts(ws.ws(), { env: {} });
     // By hand: once F1's results are back, F3's one rope is missing, and F1's are not.
-    expect(feedOf(ws.paths.outbox).filter((line) => line.kind === 'missing-ropes').map((line) => line.barn)).toEqual(['F3']);
+    expect(
+      feedOf(ws.paths.outbox)
+        .filter((line) => line.kind === 'missing-ropes')
+        .map((line) => line.barn),
+    ).toEqual(['F3']);
   });
 
   it('builds keys from site, round id, assay, kind and subject', () => {

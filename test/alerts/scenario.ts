@@ -27,7 +27,9 @@ export const RESULTS = northfieldExport(
 );
 
 /** Workspace options: the demo config with `edit` applied to the first site (hollow-creek) of sites.yaml. */
-export function withSite(edit: (site: Record<string, unknown>, doc: Record<string, unknown>) => void): TestWorkspaceOptions {
+export function withSite(
+  edit: (site: Record<string, unknown>, doc: Record<string, unknown>) => void,
+): TestWorkspaceOptions {
   const doc = YAML.parse(demoText('sites.yaml')) as { sites: Record<string, unknown>[] };
   edit(doc.sites[0]!, doc);
   return { configFiles: { 'sites.yaml': YAML.stringify(doc) } };

@@ -40,7 +40,16 @@ function analyse(config: Config, positiveAntibody: readonly number[], positivePc
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  const plan = planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10', measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct' });
+  const plan = planNextRound({
+    site,
+    rounds,
+    confidence,
+    spatial,
+    settings: config.analysis,
+    cache,
+    today: '2026-08-10',
+    measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct',
+  });
   return { site, rounds, confidence, spatial, plan, summaries: summariseSite(config, site, rounds, confidence) };
 }
 
@@ -57,14 +66,23 @@ describe('an antibody positive beside negative PCR', () => {
   });
 
   it("resets the antibody assay's own freedom from exposure", () => {
-    expect(antibody).toMatchObject({ measure: 'sp-ratio', positive: true, freedomReset: true, freedom: 0, positiveBarns: ['B1'] });
+    expect(antibody).toMatchObject({
+      measure: 'sp-ratio',
+      positive: true,
+      freedomReset: true,
+      freedom: 0,
+      positiveBarns: ['B1'],
+    });
     // Its detection uses its own rope sensitivity (1 here): the same 1/2 as the PCR's.
     expectClose(antibody.detectionConfidence, 0.5, { rel: 1e-12 }, 'antibody SSe');
   });
 
   it('says in the summary that antibody means exposure and that the PCR freedom is not reset', () => {
     const summary = summaries[0]!;
-    expect(summary.assays.find((assay) => assay.id === 'PRRSV-AB')).toMatchObject({ measure: 'sp-ratio', pairedWith: 'PRRSV' });
+    expect(summary.assays.find((assay) => assay.id === 'PRRSV-AB')).toMatchObject({
+      measure: 'sp-ratio',
+      pairedWith: 'PRRSV',
+    });
     expect(summary.pairs).toEqual([{ antibody: 'PRRSV-AB', pcr: 'PRRSV' }]);
     expect(summary.notices.join('\n')).toContain('not necessarily current infection');
     expect(summary.notices.join('\n')).toContain('the freedom of PRRSV RT-PCR is not reset');
@@ -81,20 +99,31 @@ describe('an antibody round with negative results', () => {
     const antibody = confidence[0]!.sites.find((entry) => entry.assayId === 'PRRSV-AB')!;
     expectClose(antibody.detectionConfidence, 0.25, { rel: 1e-12 }, 'antibody SSe with Se 0.5');
     expectClose(antibody.freedom!, 4 / 7, { rel: 1e-12 }, 'antibody posterior');
-    expectClose(confidence[0]!.sites.find((entry) => entry.assayId === 'PRRSV')!.freedom!, 2 / 3, { rel: 1e-12 }, 'PCR posterior');
+    expectClose(
+      confidence[0]!.sites.find((entry) => entry.assayId === 'PRRSV')!.freedom!,
+      2 / 3,
+      { rel: 1e-12 },
+      'PCR posterior',
+    );
   });
 });
 
 describe('the next round after an antibody positive', () => {
   it('retests the antibody-positive pen and draws no follow-up ring around it; the PCR assay sizes the plan', () => {
     // A lower antibody sensitivity would size the plan if antibody assays counted: they do not.
-    const config = smallConfig({ designPrevalence: 0.1, ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.5 }, followUpRadius: 1.5 });
+    const config = smallConfig({
+      designPrevalence: 0.1,
+      ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.5 },
+      followUpRadius: 1.5,
+    });
     const { plan } = analyse(config, [4]);
     // Rope 4 of roundRopes hangs in pen A5.
     expect(plan.ropes.filter((rope) => rope.reason === 'retest').map((rope) => rope.penId)).toEqual(['A5']);
     expect(plan.ropes.filter((rope) => rope.reason === 'follow-up')).toEqual([]);
     expect(plan.barns[0]!.sizing).toMatchObject({ assayId: 'PRRSV', sensitivity: 0.9 });
-    expect(plan.notes.join('\n')).toContain('Antibody positive without virus in B1 A5: a retest rope each, to be tested by PCR');
+    expect(plan.notes.join('\n')).toContain(
+      'Antibody positive without virus in B1 A5: a retest rope each, to be tested by PCR',
+    );
   });
 
   it('still rings a PCR positive with follow-up ropes', () => {

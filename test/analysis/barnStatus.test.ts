@@ -17,7 +17,14 @@ type Rounds = { ropes: ReturnType<typeof roundRopes>['ropes']; results: ResultIn
 
 function build(config: ReturnType<typeof smallConfig>, parts: Rounds) {
   const site = config.sites[0]!;
-  return { site, rounds: buildSiteRounds(site, parts.flatMap((part) => part.ropes), parts.flatMap((part) => part.results)) };
+  return {
+    site,
+    rounds: buildSiteRounds(
+      site,
+      parts.flatMap((part) => part.ropes),
+      parts.flatMap((part) => part.results),
+    ),
+  };
 }
 
 /** Rounds every 14 days from 2026-08-03; `positive[i]` names the positive ropes of round i + 1. */
@@ -64,7 +71,12 @@ describe('a barn positive for a PCR assay', () => {
     const config = smallConfig();
     const parts = series([[4], [], [], []]);
     // Round 3: rope 2 reads suspect.
-    parts[2] = { ...parts[2]!, results: parts[2]!.results.map((result, i): ResultInput => (i === 2 ? { ...result, ct: 36, resultClass: 'suspect' } : result)) };
+    parts[2] = {
+      ...parts[2]!,
+      results: parts[2]!.results.map(
+        (result, i): ResultInput => (i === 2 ? { ...result, ct: 36, resultClass: 'suspect' } : result),
+      ),
+    };
     const { site, rounds } = build(config, parts);
     const statuses = siteConfidence(site, rounds).map((round) => round.barns[0]!.status);
     expect(statuses[2]).toEqual({ state: 'positive', sinceRound: 1, negativeRoundsInARow: 1 });
@@ -74,13 +86,20 @@ describe('a barn positive for a PCR assay', () => {
   it('clears when the rule says a new group of pigs was placed, whatever the count', () => {
     const config = smallConfig({ clearAfterNegativeRounds: 5 });
     const { site, rounds } = build(config, series([[4], [], []]));
-    const statuses = statusOverRounds({ rounds, barnIds: ['B1'], rule: negativeRoundsRule(5), groupPlaced: (barnId, round) => barnId === 'B1' && round === 3 });
+    const statuses = statusOverRounds({
+      rounds,
+      barnIds: ['B1'],
+      rule: negativeRoundsRule(5),
+      groupPlaced: (barnId, round) => barnId === 'B1' && round === 3,
+    });
     expect(statuses.map((round) => round.barns[0]!.status.state)).toEqual(['positive', 'positive', 'clear']);
     expect(site.program.clearAfterNegativeRounds).toBe(5);
   });
 
   it('refuses a rule of no rounds', () => {
-    expect(() => negativeRoundsRule(0)).toThrow('`clearAfterNegativeRounds` must be an integer in [1, infinity), got 0');
+    expect(() => negativeRoundsRule(0)).toThrow(
+      '`clearAfterNegativeRounds` must be an integer in [1, infinity), got 0',
+    );
   });
 });
 
@@ -89,22 +108,31 @@ describe('an antibody-only positive', () => {
     const config = smallConfig();
     const site = config.sites[0]!;
     const { ropes, results } = roundRopes('2026-08-03', 18, 'R1');
-    const antibody = results.map((result, i): ResultInput => ({
-      ...result,
-      id: 1000 + i,
-      assayId: 'PRRSV-AB',
-      measure: 'sp-ratio',
-      ct: null,
-      sp: i === 4 ? 1.2 : 0.1,
-      resultClass: i === 4 ? 'positive' : 'negative',
-      cycleLimit: null,
-      positiveAtOrAbove: 0.4,
-      suspectAtOrAbove: null,
-    }));
+    const antibody = results.map(
+      (result, i): ResultInput => ({
+        ...result,
+        id: 1000 + i,
+        assayId: 'PRRSV-AB',
+        measure: 'sp-ratio',
+        ct: null,
+        sp: i === 4 ? 1.2 : 0.1,
+        resultClass: i === 4 ? 'positive' : 'negative',
+        cycleLimit: null,
+        positiveAtOrAbove: 0.4,
+        suspectAtOrAbove: null,
+      }),
+    );
     const [round] = siteConfidence(site, buildSiteRounds(site, ropes, [...results, ...antibody]));
-    expect(round!.barns.find((entry) => entry.assayId === 'PRRSV')!.status).toEqual({ state: 'clear', clearedAtRound: null });
+    expect(round!.barns.find((entry) => entry.assayId === 'PRRSV')!.status).toEqual({
+      state: 'clear',
+      clearedAtRound: null,
+    });
     expect(round!.barns.find((entry) => entry.assayId === 'PRRSV-AB')!.status).toBeNull();
-    expect(round!.sites.find((entry) => entry.assayId === 'PRRSV-AB')).toMatchObject({ status: null, freedom: 0, freedomReset: true });
+    expect(round!.sites.find((entry) => entry.assayId === 'PRRSV-AB')).toMatchObject({
+      status: null,
+      freedom: 0,
+      freedomReset: true,
+    });
   });
 });
 
@@ -122,6 +150,9 @@ describe('the summary of a positive site', () => {
     const before = parse(summaryCsv(summaries[0]!), { columns: true }) as Record<string, string>[];
     expect(before.find((row) => row.level === 'site')!.freedom).toMatch(/^0\.\d{6}$/);
     expect(before.find((row) => row.level === 'site')!.positive_since).toBe('');
-    expect(summaries[2]!.assays.find((assay) => assay.id === 'PRRSV')!.site).toMatchObject({ freedom: null, status: { state: 'positive', sinceRound: 2 } });
+    expect(summaries[2]!.assays.find((assay) => assay.id === 'PRRSV')!.site).toMatchObject({
+      freedom: null,
+      status: { state: 'positive', sinceRound: 2 },
+    });
   });
 });

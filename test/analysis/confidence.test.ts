@@ -36,7 +36,11 @@ describe('what each round proved, per barn and site', () => {
     const r2 = roundRopes('2026-08-17', 18, 'R2');
     const r3 = roundRopes('2026-08-31', 18, 'R3', [4]);
     const r4 = roundRopes('2026-09-28', 18, 'R4');
-    const rounds = buildSiteRounds(site, [...r1.ropes, ...r2.ropes, ...r3.ropes, ...r4.ropes], [...r1.results, ...r2.results, ...r3.results, ...r4.results]);
+    const rounds = buildSiteRounds(
+      site,
+      [...r1.ropes, ...r2.ropes, ...r3.ropes, ...r4.ropes],
+      [...r1.results, ...r2.results, ...r3.results, ...r4.results],
+    );
     const confidence = siteConfidence(site, rounds);
     const sse = 0.5; // 18 of 36 pens, d = 1, Se = 1: P = 18/36 (method 1 by hand)
     const steps = confidence.map((round) => round.sites[0]!);
@@ -47,7 +51,12 @@ describe('what each round proved, per barn and site', () => {
     expectClose(steps[1]!.priorFreedom, 0.66, { rel: 1e-12 }, 'prior round 2');
     expectClose(steps[1]!.freedom!, 0.66 / 0.83, { rel: 1e-12 }, 'posterior round 2');
     // Round 3 is positive: the site is positive, so no probability of freedom (status instead).
-    expect(steps[2]!).toMatchObject({ positive: true, freedom: null, freedomReset: true, status: { state: 'positive', sinceRound: 3 } });
+    expect(steps[2]!).toMatchObject({
+      positive: true,
+      freedom: null,
+      freedomReset: true,
+      status: { state: 'positive', sinceRound: 3 },
+    });
     // Round 4 restarts from the prior 0.5; 28 days gap does not matter for the restart in update-then-discount order.
     expect(steps[3]!.status).toEqual({ state: 'clear', clearedAtRound: 4 });
     expectClose(steps[3]!.freedom!, 2 / 3, { rel: 1e-12 }, 'posterior after the restart');
@@ -64,8 +73,14 @@ describe('what each round proved, per barn and site', () => {
     const onTime = roundRopes('2026-08-17', 18, 'B');
     const late = roundRopes('2026-09-14', 18, 'B');
     const first = roundRopes('2026-08-03', 18, 'A');
-    const freedomOnTime = siteConfidence(site, buildSiteRounds(site, [...first.ropes, ...onTime.ropes], [...first.results, ...onTime.results]))[1]!.sites[0]!;
-    const freedomLate = siteConfidence(site, buildSiteRounds(site, [...first.ropes, ...late.ropes], [...first.results, ...late.results]))[1]!.sites[0]!;
+    const freedomOnTime = siteConfidence(
+      site,
+      buildSiteRounds(site, [...first.ropes, ...onTime.ropes], [...first.results, ...onTime.results]),
+    )[1]!.sites[0]!;
+    const freedomLate = siteConfidence(
+      site,
+      buildSiteRounds(site, [...first.ropes, ...late.ropes], [...first.results, ...late.results]),
+    )[1]!.sites[0]!;
     // 42 days (2026-08-03 to 2026-09-14) = three intervals: 1 - PI = 0.99^3 (method 6 with elapsed-days scaling).
     expectClose(freedomLate.priorFreedom, (2 / 3) * 0.99 ** 3, { rel: 1e-12 }, 'prior after 42 days');
     expect(freedomLate.freedom!).toBeLessThan(freedomOnTime.freedom!);

@@ -7,10 +7,15 @@ import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { resultInput } from '../helpers/results.js';
 
-export function smallConfig(program: Record<string, unknown> = {}, analysis: Record<string, unknown> = {}, layout: Record<string, unknown> = { rows: 2, pensPerRow: 18 }): Config {
+export function smallConfig(
+  program: Record<string, unknown> = {},
+  analysis: Record<string, unknown> = {},
+  layout: Record<string, unknown> = { rows: 2, pensPerRow: 18 },
+): Config {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-analysis-'));
   fs.mkdirSync(path.join(dir, 'labs'));
-  for (const name of ['assays.yaml', 'labs/northfield.yaml']) fs.copyFileSync(path.join(DEMO_CONFIG_DIR, name), path.join(dir, name));
+  for (const name of ['assays.yaml', 'labs/northfield.yaml'])
+    fs.copyFileSync(path.join(DEMO_CONFIG_DIR, name), path.join(dir, name));
   const programDefaults: Record<string, unknown> = {
     designPrevalence: { pens: 1 },
     targetConfidence: 0.95,
@@ -37,12 +42,21 @@ export function smallConfig(program: Record<string, unknown> = {}, analysis: Rec
 
 /** n ropes on the first n pens of barn B1, all negative for PRRSV unless `positive` names them. */
 export function roundRopes(date: string, n: number, prefix: string, positive: readonly number[] = []) {
-  const ropes = Array.from({ length: n }, (_, i) => ({ sampleId: `${prefix}-${i}`, siteId: 'test-site', barnId: 'B1', penId: i < 18 ? `A${i + 1}` : `B${i - 17}`, hungOn: date, source: 'sheet' }));
-  const results = ropes.map((rope, i) => resultInput({
-    id: i,
-    sampleId: rope.sampleId,
-    ct: positive.includes(i) ? 28 : null,
-    resultClass: (positive.includes(i) ? 'positive' : 'negative') as 'positive' | 'negative',
+  const ropes = Array.from({ length: n }, (_, i) => ({
+    sampleId: `${prefix}-${i}`,
+    siteId: 'test-site',
+    barnId: 'B1',
+    penId: i < 18 ? `A${i + 1}` : `B${i - 17}`,
+    hungOn: date,
+    source: 'sheet',
   }));
+  const results = ropes.map((rope, i) =>
+    resultInput({
+      id: i,
+      sampleId: rope.sampleId,
+      ct: positive.includes(i) ? 28 : null,
+      resultClass: (positive.includes(i) ? 'positive' : 'negative') as 'positive' | 'negative',
+    }),
+  );
   return { ropes, results };
 }

@@ -8,7 +8,7 @@ import { buildSiteRounds } from '../../src/interpret/roundModel.js';
 import { roundRopes } from './fixtures.js';
 import { G1, G2, siteWith } from './groupScenario.js';
 
-function positiveThenRestocked(groups: typeof G1[]) {
+function positiveThenRestocked(groups: (typeof G1)[]) {
   const base = siteWith(groups);
   // Five negative rounds in a row would be needed without a new group.
   const site = { ...base, program: { ...base.program, clearAfterNegativeRounds: 5 } };
@@ -33,7 +33,8 @@ function positiveThenRestocked(groups: typeof G1[]) {
   return siteConfidence(site, rounds);
 }
 
-const b1Status = (confidence: ReturnType<typeof siteConfidence>, index: number) => confidence[index]!.barns.find((barn) => barn.barnId === 'B1' && barn.assayId === 'PRRSV')!.status;
+const b1Status = (confidence: ReturnType<typeof siteConfidence>, index: number) =>
+  confidence[index]!.barns.find((barn) => barn.barnId === 'B1' && barn.assayId === 'PRRSV')!.status;
 
 describe('a new group of pigs clears a positive barn', () => {
   it('is clear at the first round of the new group, though only two negative rounds came', () => {

@@ -16,7 +16,14 @@ export function siteWith(groups: readonly BarnGroup[]): Site {
   const site = smallConfig().sites[0]!;
   const b1 = { ...site.barns[0]!, groups };
   const b2 = { ...site.barns[0]!, id: 'B2', name: 'B2', groups: [] };
-  return { ...site, barns: [b1, b2], barnById: new Map([['B1', b1], ['B2', b2]]) };
+  return {
+    ...site,
+    barns: [b1, b2],
+    barnById: new Map([
+      ['B1', b1],
+      ['B2', b2],
+    ]),
+  };
 }
 
 /** 18 negative ropes on the first 18 pens of each barn named, on `date`. */
@@ -45,4 +52,3 @@ export function scenario(groups: readonly BarnGroup[]) {
   );
   return { site, rounds, confidence: siteConfidence(site, rounds) };
 }
-

@@ -13,7 +13,8 @@ import { expectClose } from '../helpers/expectClose.js';
 import { smallConfig } from './fixtures.js';
 import { G1, G2, round, scenario, siteWith } from './groupScenario.js';
 
-const barnOf = (confidence: ReturnType<typeof siteConfidence>, index: number, barnId: string) => confidence[index]!.barns.find((entry) => entry.barnId === barnId)!;
+const barnOf = (confidence: ReturnType<typeof siteConfidence>, index: number, barnId: string) =>
+  confidence[index]!.barns.find((entry) => entry.barnId === barnId)!;
 
 describe('groups of pigs in the round model and confidence', () => {
   it('names the group of each barn in each round, and the empty barn as empty, no group', () => {
@@ -43,7 +44,14 @@ describe('groups of pigs in the round model and confidence', () => {
     expectClose(r2.freedom!, 0.66 / 0.83, { rel: 1e-12 }, 'B1 round 2');
     expect(r2.freedomRestart).toBe(false);
     const empty = barnOf(confidence, 2, 'B1');
-    expect(empty).toMatchObject({ empty: true, tested: 0, detectionConfidence: 0, freedom: null, priorFreedom: null, group: null });
+    expect(empty).toMatchObject({
+      empty: true,
+      tested: 0,
+      detectionConfidence: 0,
+      freedom: null,
+      priorFreedom: null,
+      group: null,
+    });
     const r4 = barnOf(confidence, 3, 'B1');
     // G2's first round starts again from the prior 0.5: the same 2/3 as round 1.
     expect(r4.group?.id).toBe('G2');
@@ -78,11 +86,24 @@ describe('the next round\u2019s plan and an empty barn', () => {
     const site = siteWith(groups);
     const config = smallConfig();
     const parts = [round('2026-08-03', 'R1', ['B1', 'B2']), round('2026-08-17', 'R2', ['B1', 'B2'])];
-    const rounds = buildSiteRounds(site, parts.flatMap((part) => part.ropes), parts.flatMap((part) => part.results));
+    const rounds = buildSiteRounds(
+      site,
+      parts.flatMap((part) => part.ropes),
+      parts.flatMap((part) => part.results),
+    );
     const confidence = siteConfidence(site, rounds);
     const cache = new OutbreakCache(config.analysis);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    return planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-18', ...(budget === undefined ? {} : { budget }) });
+    return planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial,
+      settings: config.analysis,
+      cache,
+      today: '2026-08-18',
+      ...(budget === undefined ? {} : { budget }),
+    });
   }
 
   it('plans no rope in a barn that will be empty on the due date, and says so', () => {

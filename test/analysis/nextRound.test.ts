@@ -16,7 +16,16 @@ function planFor(config: Config, options: { budget?: number } = {}) {
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  return planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10', ...options });
+  return planNextRound({
+    site,
+    rounds,
+    confidence,
+    spatial,
+    settings: config.analysis,
+    cache,
+    today: '2026-08-10',
+    ...options,
+  });
 }
 
 describe('the next-round plan', () => {
@@ -59,7 +68,12 @@ describe('the next-round plan', () => {
   });
 
   it('credits fixed spatial sampling with the spread model and shows the hypergeometric count beside it', () => {
-    const plan = planFor(smallConfig({ designPrevalence: 0.1, ropeSensitivity: 0.9 }, { sizingModel: 'spatial', spreadRealisations: 1000 }));
+    const plan = planFor(
+      smallConfig(
+        { designPrevalence: 0.1, ropeSensitivity: 0.9 },
+        { sizingModel: 'spatial', spreadRealisations: 1000 },
+      ),
+    );
     const barn = plan.barns[0]!.sizing;
     expect(barn.model).toMatch(/spread model/);
     expect(barn.plannedSpreadModel!).toBeGreaterThanOrEqual(0.95);

@@ -16,21 +16,34 @@ import { smallConfig } from './fixtures.js';
 import { resultInput } from '../helpers/results.js';
 
 const pen = (i: number) => (i < 18 ? `A${i + 1}` : `B${i - 17}`);
-const rope = (i: number, poolId: string | null, hungOn = '2026-08-03'): RopeInput => ({ sampleId: `R-${i}`, siteId: 'test-site', barnId: 'B1', penId: pen(i), hungOn, source: 'sheet', poolId });
-let nextId = 1;
-const result = (sampleId: string, resultClass: ResultInput['resultClass']): ResultInput => resultInput({
-  id: nextId++,
-  sampleId,
-  ct: resultClass === 'positive' ? 29 : null,
-  resultClass,
+const rope = (i: number, poolId: string | null, hungOn = '2026-08-03'): RopeInput => ({
+  sampleId: `R-${i}`,
+  siteId: 'test-site',
+  barnId: 'B1',
+  penId: pen(i),
+  hungOn,
+  source: 'sheet',
+  poolId,
 });
+let nextId = 1;
+const result = (sampleId: string, resultClass: ResultInput['resultClass']): ResultInput =>
+  resultInput({
+    id: nextId++,
+    sampleId,
+    ct: resultClass === 'positive' ? 29 : null,
+    resultClass,
+  });
 
 /**
  * Detection by its definition, enumerated: every set of d infected pens among the N is equally
  * likely; the round detects when some test is positive; a test (a pool, or a rope on its own)
  * holding an infected pen is positive with its sensitivity, a clean one with 1 - specificity.
  */
-function enumerated(pens: number, infected: number, tests: readonly { pens: readonly number[]; se: number; sp: number }[]): number {
+function enumerated(
+  pens: number,
+  infected: number,
+  tests: readonly { pens: readonly number[]; se: number; sp: number }[],
+): number {
   let sets = 0;
   let miss = 0;
   const chosen: number[] = [];
@@ -62,7 +75,11 @@ describe('pooled ropes in a round', () => {
     // Each pool's result applies to its three pens.
     expect(barnRound).toMatchObject({ ropesHung: 6, ropesReturned: 6, missingSampleIds: [] });
     expect(barnRound.byAssay['PRRSV']).toMatchObject({ negative: 6, testedPens: ['A1', 'A2', 'A3', 'A4', 'A5', 'A6'] });
-    expect(barnRound.pens.find((p) => p.penId === 'A2')!.results['PRRSV']!.pool).toEqual({ poolId: 'P-1', poolClass: 'negative', pens: ['B1/A1', 'B1/A2', 'B1/A3'] });
+    expect(barnRound.pens.find((p) => p.penId === 'A2')!.results['PRRSV']!.pool).toEqual({
+      poolId: 'P-1',
+      poolClass: 'negative',
+      pens: ['B1/A1', 'B1/A2', 'B1/A3'],
+    });
     // A pool's result is one report: its source counts it once, not once per pen.
     expect(barnRound.sources[0]!.results).toBe(2);
     const barn = siteConfidence(site, rounds)[0]!.barns[0]!;
@@ -70,16 +87,32 @@ describe('pooled ropes in a round', () => {
     expectClose(barn.detectionConfidence, (6 / 36) * 0.9, { rel: 1e-12 }, 'pooled N=36 n=6 d=1 PSe=0.9');
     // Unpooled: rope sensitivity 1, so n/N = 6/36 (Cameron & Baldock 1998 with d = 1).
     expectClose(barn.pooled!.unpooledDetectionConfidence, 6 / 36, { rel: 1e-12 }, 'unpooled N=36 n=6 d=1 Se=1');
-    expect(barn.pooled).toMatchObject({ pools: 2, pooledPens: 6, positivePools: 0, poolSensitivity: 0.9, poolSpecificity: 1 });
+    expect(barn.pooled).toMatchObject({
+      pools: 2,
+      pooledPens: 6,
+      positivePools: 0,
+      poolSensitivity: 0.9,
+      poolSpecificity: 1,
+    });
   });
 
   it('agrees with enumeration over every pair of infected pens for pools and ropes tested on their own in one barn', () => {
-    const config = smallConfig({ designPrevalence: { pens: 2 }, ropeSensitivity: 0.8, pooling: { poolSize: 3, poolSensitivity: 0.7, poolSpecificity: 0.98 } });
+    const config = smallConfig({
+      designPrevalence: { pens: 2 },
+      ropeSensitivity: 0.8,
+      pooling: { poolSize: 3, poolSensitivity: 0.7, poolSpecificity: 0.98 },
+    });
     const site = config.sites[0]!;
     // Pools of 3, 3 and 2 ropes and two ropes tested on their own: ten pens tested.
     const poolOf = (i: number) => (i < 3 ? 'P-1' : i < 6 ? 'P-2' : i < 8 ? 'P-3' : null);
     const ropes = Array.from({ length: 10 }, (_, i) => rope(i, poolOf(i)));
-    const results = [result('P-1', 'negative'), result('P-2', 'negative'), result('P-3', 'negative'), result('R-8', 'negative'), result('R-9', 'negative')];
+    const results = [
+      result('P-1', 'negative'),
+      result('P-2', 'negative'),
+      result('P-3', 'negative'),
+      result('R-8', 'negative'),
+      result('R-9', 'negative'),
+    ];
     const barn = siteConfidence(site, buildSiteRounds(site, ropes, results))[0]!.barns[0]!;
     const tests = [
       { pens: [0, 1, 2], se: 0.7, sp: 0.98 },
@@ -89,8 +122,22 @@ describe('pooled ropes in a round', () => {
       { pens: [8], se: 0.8, sp: 1 },
       { pens: [9], se: 0.8, sp: 1 },
     ];
-    expectClose(barn.detectionConfidence, enumerated(36, 2, tests), { abs: 1e-12 }, 'N=36 d=2, pools 3+3+2 and 2 singles');
-    expectClose(barn.pooled!.unpooledDetectionConfidence, enumerated(36, 2, Array.from({ length: 10 }, (_, i) => ({ pens: [i], se: 0.8, sp: 1 }))), { abs: 1e-12 }, 'N=36 d=2, 10 singles');
+    expectClose(
+      barn.detectionConfidence,
+      enumerated(36, 2, tests),
+      { abs: 1e-12 },
+      'N=36 d=2, pools 3+3+2 and 2 singles',
+    );
+    expectClose(
+      barn.pooled!.unpooledDetectionConfidence,
+      enumerated(
+        36,
+        2,
+        Array.from({ length: 10 }, (_, i) => ({ pens: [i], se: 0.8, sp: 1 })),
+      ),
+      { abs: 1e-12 },
+      'N=36 d=2, 10 singles',
+    );
     expect(barn.pooled).toMatchObject({ pools: 3, pooledPens: 8 });
   });
 
@@ -100,15 +147,38 @@ describe('pooled ropes in a round', () => {
     const ropes = [0, 1, 2, 3, 4, 5].map((i) => rope(i, i < 3 ? 'P-1' : 'P-2'));
     const rounds = buildSiteRounds(site, ropes, [result('P-1', 'positive'), result('P-2', 'negative')]);
     const tally = rounds[0]!.barns[0]!.byAssay['PRRSV']!;
-    expect(tally).toMatchObject({ positive: 0, suspect: 3, negative: 3, positivePens: [], suspectPens: ['A1', 'A2', 'A3'], positivePoolPens: ['A1', 'A2', 'A3'] });
+    expect(tally).toMatchObject({
+      positive: 0,
+      suspect: 3,
+      negative: 3,
+      positivePens: [],
+      suspectPens: ['A1', 'A2', 'A3'],
+      positivePoolPens: ['A1', 'A2', 'A3'],
+    });
     const a1 = rounds[0]!.barns[0]!.pens[0]!.results['PRRSV']!;
     expect(a1).toMatchObject({ resultClass: 'suspect', pool: { poolId: 'P-1', poolClass: 'positive' } });
     expect(a1.reason).toMatch(/^positive pool P-1/);
     const confidence = siteConfidence(site, rounds);
     expect(confidence[0]!.barns[0]).toMatchObject({ positives: 0, pooled: { positivePools: 1 } });
-    expect(confidence[0]!.sites[0]).toMatchObject({ positive: true, positiveBarns: ['B1'], freedom: 0, freedomReset: true });
-    const plan = planNextRound({ site, rounds, confidence, spatial: [], settings: config.analysis, cache: new OutbreakCache(config.analysis), today: '2026-08-10' });
-    const retests = plan.ropes.filter((row) => row.reason === 'retest').map((row) => row.penId).sort();
+    expect(confidence[0]!.sites[0]).toMatchObject({
+      positive: true,
+      positiveBarns: ['B1'],
+      freedom: 0,
+      freedomReset: true,
+    });
+    const plan = planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial: [],
+      settings: config.analysis,
+      cache: new OutbreakCache(config.analysis),
+      today: '2026-08-10',
+    });
+    const retests = plan.ropes
+      .filter((row) => row.reason === 'retest')
+      .map((row) => row.penId)
+      .sort();
     expect(retests).toEqual(['A1', 'A2', 'A3']);
     // A retest names its pen: it is tested on its own.
     expect(plan.ropes.filter((row) => row.reason === 'retest').every((row) => row.poolId === undefined)).toBe(true);
@@ -118,7 +188,15 @@ describe('pooled ropes in a round', () => {
   it('pools the routine ropes of a barn in groups of the pool size under IDs that pass their check character', () => {
     const config = smallConfig({ pooling: { poolSize: 4, poolSensitivity: 0.9 } });
     const site = config.sites[0]!;
-    const plan = planNextRound({ site, rounds: [], confidence: [], spatial: [], settings: config.analysis, cache: new OutbreakCache(config.analysis), today: '2026-08-10' });
+    const plan = planNextRound({
+      site,
+      rounds: [],
+      confidence: [],
+      spatial: [],
+      settings: config.analysis,
+      cache: new OutbreakCache(config.analysis),
+      today: '2026-08-10',
+    });
     const routine = plan.ropes.filter((row) => row.reason === 'routine');
     // 35 routine ropes at d = 1, Se = 1, 95% (ceil(0.95 x 36), by hand): pools of 4, the last of 3.
     expect(routine).toHaveLength(35);
@@ -138,13 +216,18 @@ describe('pooled ropes in a round', () => {
     }
     // The printed sheet tells the producer which pool each tube goes into, under its sample ID.
     const html = renderRopeSheetPage({ site, plan, notices: [] });
-    for (const row of routine) expect(html).toMatch(new RegExp(`data-rope="${row.sampleId}"[\\s\\S]*?into pool <strong>${row.poolId}</strong>`));
+    for (const row of routine)
+      expect(html).toMatch(new RegExp(`data-rope="${row.sampleId}"[\\s\\S]*?into pool <strong>${row.poolId}</strong>`));
   });
 
   it('leaves a round without pools as before: no pool fields in its tallies, results or confidence', () => {
     const config = smallConfig();
     const site = config.sites[0]!;
-    const rounds = buildSiteRounds(site, [rope(0, null), rope(1, null)], [result('R-0', 'negative'), result('R-1', 'negative')]);
+    const rounds = buildSiteRounds(
+      site,
+      [rope(0, null), rope(1, null)],
+      [result('R-0', 'negative'), result('R-1', 'negative')],
+    );
     const tally = rounds[0]!.barns[0]!.byAssay['PRRSV']!;
     expect('pools' in tally || 'positivePoolPens' in tally).toBe(false);
     expect('pool' in rounds[0]!.barns[0]!.pens[0]!.results['PRRSV']!).toBe(false);

@@ -17,7 +17,13 @@ const site = config.sites[0]!;
 const first = roundRopes('2026-08-03', 6, 'R1', [0, 1, 3]);
 const second = roundRopes('2026-08-17', 6, 'R2', [1, 2]);
 const secondResults = second.results
-  .map((result, i) => (i === 3 ? { ...result, id: 100 + i, ct: 38, resultClass: 'suspect' as const } : i === 4 ? { ...result, id: 100 + i, ct: null, resultClass: 'invalid' as const } : { ...result, id: 100 + i }))
+  .map((result, i) =>
+    i === 3
+      ? { ...result, id: 100 + i, ct: 38, resultClass: 'suspect' as const }
+      : i === 4
+        ? { ...result, id: 100 + i, ct: null, resultClass: 'invalid' as const }
+        : { ...result, id: 100 + i },
+  )
   .filter((_, i) => i !== 5);
 const rounds = buildSiteRounds(site, [...first.ropes, ...second.ropes], [...first.results, ...secondResults]);
 
@@ -32,14 +38,23 @@ describe('sinceLastRound', () => {
     expect(change.missing).toEqual([{ barnId: 'B1', penId: 'A6', sampleId: 'R2-5' }]);
   });
 
-  it('calls nothing new or cleared in a site\'s first round, but still lists its missing and invalid ropes', () => {
+  it("calls nothing new or cleared in a site's first round, but still lists its missing and invalid ropes", () => {
     const change = sinceLastRound(null, rounds[0]!);
-    expect(change).toEqual({ previous: null, round: { number: 1, id: rounds[0]!.id }, newlyPositive: [], cleared: [], missing: [], invalid: [] });
+    expect(change).toEqual({
+      previous: null,
+      round: { number: 1, id: rounds[0]!.id },
+      newlyPositive: [],
+      cleared: [],
+      missing: [],
+      invalid: [],
+    });
     expect(sinceLastRound(null, rounds[1]!).invalid.map((entry) => entry.penId)).toEqual(['A5']);
   });
 
   it('refuses rounds of another site or in the wrong order', () => {
     expect(() => sinceLastRound(rounds[1]!, rounds[0]!)).toThrow(/`previous` must come before round 1, got round 2/);
-    expect(() => sinceLastRound({ ...rounds[0]!, siteId: 'other' }, rounds[1]!)).toThrow(/`previous` must be a round of site/);
+    expect(() => sinceLastRound({ ...rounds[0]!, siteId: 'other' }, rounds[1]!)).toThrow(
+      /`previous` must be a round of site/,
+    );
   });
 });

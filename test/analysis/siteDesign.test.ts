@@ -20,7 +20,8 @@ import { roundRopes } from './fixtures.js';
 function threeBarnConfig(program: Record<string, unknown> = {}): Config {
   const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-site-design-'));
   fs.mkdirSync(path.join(dir, 'labs'));
-  for (const name of ['assays.yaml', 'labs/northfield.yaml']) fs.copyFileSync(path.join(DEMO_CONFIG_DIR, name), path.join(dir, name));
+  for (const name of ['assays.yaml', 'labs/northfield.yaml'])
+    fs.copyFileSync(path.join(DEMO_CONFIG_DIR, name), path.join(dir, name));
   const sites = {
     analysis: { seed: 3 },
     programDefaults: {
@@ -89,7 +90,12 @@ describe('site detection when not every barn is infected (two-stage design)', ()
       const { siteEntry } = firstRound(threeBarnConfig({ barnDesignPrevalence }), counts);
       expect(siteEntry).toMatchObject({ infectedBarns: 2, fewInfectedBarns: 2 });
       // By hand over the C(3, 2) = 3 equally likely pairs: misses 0.5*0.75 + 0.5*1 + 0.75*1 = 1.625; 1 - 1.625/3.
-      expectClose(siteEntry.detectionConfidence, 1 - 1.625 / 3, { rel: 1e-12 }, `D = 2 from ${JSON.stringify(barnDesignPrevalence)}`);
+      expectClose(
+        siteEntry.detectionConfidence,
+        1 - 1.625 / 3,
+        { rel: 1e-12 },
+        `D = 2 from ${JSON.stringify(barnDesignPrevalence)}`,
+      );
       // Freedom after a negative round with prior 0.5: 0.5 / (1 - 0.5 SSe) (Martin, Cameron & Greiner 2007).
       const sse = 1 - 1.625 / 3;
       expectClose(siteEntry.freedom ?? Number.NaN, 0.5 / (1 - 0.5 * sse), { rel: 1e-12 }, 'posterior freedom');
@@ -98,7 +104,11 @@ describe('site detection when not every barn is infected (two-stage design)', ()
 
   it('gives 1 - (1 - p)^D for D of k alike barns (epiR rsu.sep.rs2st with equal herd sensitivities)', () => {
     // Every barn 18 ropes: p = 0.5; D = 2: 1 - 0.5^2 = 0.75 (by hand).
-    const { siteEntry } = firstRound(threeBarnConfig({ barnDesignPrevalence: { barns: 2 } }), { B1: 18, B2: 18, B3: 18 });
+    const { siteEntry } = firstRound(threeBarnConfig({ barnDesignPrevalence: { barns: 2 } }), {
+      B1: 18,
+      B2: 18,
+      B3: 18,
+    });
     expectClose(siteEntry.detectionConfidence, 0.75, { rel: 1e-12 }, '1 - (1 - 0.5)^2');
     expectClose(siteEntry.detectionIfEveryBarn, 0.875, { rel: 1e-12 }, '1 - 0.5^3');
   });
@@ -108,17 +118,27 @@ describe('site detection when not every barn is infected (two-stage design)', ()
     const { site, rounds, confidence } = firstRound(config, counts);
     const [summary] = summariseSite(config, site, rounds, confidence);
     const figures = summary!.assays.find((assay) => assay.id === 'PRRSV')!.siteFigures;
-    expect(figures.map((figure) => figure.label)).toEqual(['if every barn were infected at 10% of pens', 'if only one barn were infected']);
+    expect(figures.map((figure) => figure.label)).toEqual([
+      'if every barn were infected at 10% of pens',
+      'if only one barn were infected',
+    ]);
     expect(figures.map((figure) => figure.freedom)).toEqual([true, false]);
     // The page shows both, each with its label; the one freedom is built on is marked.
     const html = renderSummaryPage({ summary: summary!, alerts: [], notices: [] });
     const row = html.slice(html.indexOf('<tr data-assay="PRRSV" data-measure="ct">'));
-    expect(row).toMatch(/<span data-site-figure="3" data-freedom=""><strong>\d+\.\d%<\/strong> if every barn were infected at 10% of pens \(freedom is built on this\)<\/span>/);
+    expect(row).toMatch(
+      /<span data-site-figure="3" data-freedom=""><strong>\d+\.\d%<\/strong> if every barn were infected at 10% of pens \(freedom is built on this\)<\/span>/,
+    );
     expect(row).toMatch(/<span data-site-figure="1">\d+\.\d% if only one barn were infected<\/span>/);
     const csv = summaryCsv(summary!).split('\n');
     const header = csv[0]!.split(',');
     const at = header.indexOf('site_barns');
-    expect(header.slice(at, at + 4)).toEqual(['site_barns', 'infected_barns', 'detection_if_every_barn', 'detection_if_infected_barns']);
+    expect(header.slice(at, at + 4)).toEqual([
+      'site_barns',
+      'infected_barns',
+      'detection_if_every_barn',
+      'detection_if_infected_barns',
+    ]);
     expect(SUMMARY_COLUMNS).toContain('detection_if_infected_barns');
     const siteRow = csv.find((line) => line.startsWith('site,') && line.includes(',PRRSV,'))!.split(',');
     expect(siteRow[at]).toBe('3');
@@ -127,20 +147,35 @@ describe('site detection when not every barn is infected (two-stage design)', ()
 
   it('names the key when more barns are set than the site has', () => {
     expect(() => threeBarnConfig({ barnDesignPrevalence: { barns: 4 } })).toThrow(ConfigError);
-    expect(() => threeBarnConfig({ barnDesignPrevalence: { barns: 4 } })).toThrow(/programDefaults\.barnDesignPrevalence\.barns.*4 infected barns.*3 barns/);
+    expect(() => threeBarnConfig({ barnDesignPrevalence: { barns: 4 } })).toThrow(
+      /programDefaults\.barnDesignPrevalence\.barns.*4 infected barns.*3 barns/,
+    );
   });
 });
 
 describe('site-level sizing with a barn-level design value', () => {
   it('sizes each barn to 1 - (1 - C)^(1/D), and the planned two-stage site figure reaches C', () => {
-    const config = threeBarnConfig({ designPrevalence: 0.1, ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.9 }, sizeFor: 'site', barnDesignPrevalence: { barns: 1 } });
+    const config = threeBarnConfig({
+      designPrevalence: 0.1,
+      ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.9 },
+      sizeFor: 'site',
+      barnDesignPrevalence: { barns: 1 },
+    });
     const site = config.sites[0]!;
     const { ropes, results } = ropesIn({ B1: 10, B2: 10, B3: 10 });
     const rounds = buildSiteRounds(site, ropes, results);
     const confidence = siteConfidence(site, rounds);
     const cache = new OutbreakCache(config.analysis);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    const plan = planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' });
+    const plan = planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial,
+      settings: config.analysis,
+      cache,
+      today: '2026-08-10',
+    });
     expect(plan.sizing).toMatchObject({ sizeFor: 'site', infectedBarns: 1, sizingModel: 'hypergeometric' });
     // D = 1: each barn must reach C itself, 1 - (1 - 0.95)^(1/1) = 0.95 (Martin, Cameron & Greiner 2007 inverted, D = 1).
     // Cameron & Baldock 1998: N = 36, d = 4, Se = 0.9.
@@ -150,11 +185,30 @@ describe('site-level sizing with a barn-level design value', () => {
       expect(detect(barn.sizing.routineRopes - 1)).toBeLessThan(0.95);
     }
     // Alike barns: the two-stage figure with D = 1 is the barn figure (mean of equal values).
-    expectClose(plan.siteDetectionIfNegative, detect(plan.barns[0]!.sizing.routineRopes), { rel: 1e-12 }, 'D = 1, alike barns');
-    expect(plan.sizing.ifNegative).toMatch(/the site has \d+\.\d% detection confidence if only one barn were infected \(target 95\.0% for the site, hypergeometric model\)/);
+    expectClose(
+      plan.siteDetectionIfNegative,
+      detect(plan.barns[0]!.sizing.routineRopes),
+      { rel: 1e-12 },
+      'D = 1, alike barns',
+    );
+    expect(plan.sizing.ifNegative).toMatch(
+      /the site has \d+\.\d% detection confidence if only one barn were infected \(target 95\.0% for the site, hypergeometric model\)/,
+    );
     // Sizing as if every barn were infected (k = 3) would ask each barn for only 1 - 0.05^(1/3) = 0.6316 (by hand): fewer ropes.
-    const everyBarn = threeBarnConfig({ designPrevalence: 0.1, ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.9 }, sizeFor: 'site' });
-    const planAll = planNextRound({ site: everyBarn.sites[0]!, rounds, confidence, spatial, settings: everyBarn.analysis, cache: new OutbreakCache(everyBarn.analysis), today: '2026-08-10' });
+    const everyBarn = threeBarnConfig({
+      designPrevalence: 0.1,
+      ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.9 },
+      sizeFor: 'site',
+    });
+    const planAll = planNextRound({
+      site: everyBarn.sites[0]!,
+      rounds,
+      confidence,
+      spatial,
+      settings: everyBarn.analysis,
+      cache: new OutbreakCache(everyBarn.analysis),
+      today: '2026-08-10',
+    });
     expect(planAll.sizing.infectedBarns).toBe(3);
     expect(detect(planAll.barns[0]!.sizing.routineRopes)).toBeGreaterThanOrEqual(0.631597);
     expect(planAll.barns[0]!.sizing.routineRopes).toBeLessThan(plan.barns[0]!.sizing.routineRopes);

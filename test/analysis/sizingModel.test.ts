@@ -18,14 +18,24 @@ function planAndConfidence(config: Config) {
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  const plan = planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' });
+  const plan = planNextRound({
+    site,
+    rounds,
+    confidence,
+    spatial,
+    settings: config.analysis,
+    cache,
+    today: '2026-08-10',
+  });
   return { plan, confidence, cache, site };
 }
 
 describe('which model sizes the plan', () => {
   it('is the hypergeometric model unless the program chooses otherwise, with the spread model beside it and its assumptions stated', () => {
     // sizingModel left out of the configuration (undefined is dropped when the fixture writes it).
-    const { plan } = planAndConfidence(smallConfig({ designPrevalence: 0.1, ropeSensitivity: 0.9 }, { sizingModel: undefined }));
+    const { plan } = planAndConfidence(
+      smallConfig({ designPrevalence: 0.1, ropeSensitivity: 0.9 }, { sizingModel: undefined }),
+    );
     expect(plan.sizing.sizingModel).toBe('hypergeometric');
     const barn = plan.barns[0]!.sizing;
     // Cameron & Baldock 1998 (hypergeometric with Se): N = 36, d = ceil(0.1 * 36) = 4, Se = 0.9, target 0.95.
@@ -41,17 +51,33 @@ describe('which model sizes the plan', () => {
     expect(barn.statement).toMatch(/infected pens anywhere in the barn.*Under contagious spread/);
     expect(plan.sizing.notes.join(' ')).toMatch(/transmission 0\.3 per contact and step, background 0\.01/);
     // The site figure the plan promises is of the same model (one barn: the barn's figure).
-    expectClose(plan.siteDetectionIfNegative, detect(barn.routineRopes), { rel: 1e-12 }, 'site figure = hypergeometric detection of the planned ropes');
+    expectClose(
+      plan.siteDetectionIfNegative,
+      detect(barn.routineRopes),
+      { rel: 1e-12 },
+      'site figure = hypergeometric detection of the planned ropes',
+    );
     // The plan's promise names the model and the figure of the ropes it sized, never the spread model's.
-    expect(plan.sizing.ifNegative).toContain(`each barn has at least ${formatPercent(detect(barn.routineRopes))} detection confidence at the design prevalence (target 95.0% per barn, hypergeometric model)`);
+    expect(plan.sizing.ifNegative).toContain(
+      `each barn has at least ${formatPercent(detect(barn.routineRopes))} detection confidence at the design prevalence (target 95.0% per barn, hypergeometric model)`,
+    );
     expect(plan.sizing.ifNegative).not.toContain(formatPercent(barn.plannedSpreadModel!));
   });
 
   it("gives the summary's ropes needed and the plan's routine count from the same model, and they agree", () => {
-    for (const [designPrevalence, ropeSensitivity] of [[0.1, 0.9], [0.05, 0.85], [{ pens: 3 }, 0.8]] as const) {
-      const { plan, confidence } = planAndConfidence(smallConfig({ designPrevalence, ropeSensitivity }, { sizingModel: undefined }));
+    for (const [designPrevalence, ropeSensitivity] of [
+      [0.1, 0.9],
+      [0.05, 0.85],
+      [{ pens: 3 }, 0.8],
+    ] as const) {
+      const { plan, confidence } = planAndConfidence(
+        smallConfig({ designPrevalence, ropeSensitivity }, { sizingModel: undefined }),
+      );
       const needed = confidence.at(-1)!.barns.find((barn) => barn.assayId === 'PRRSV')!.ropesNeeded;
-      expect(plan.barns[0]!.sizing.routineRopes, `design ${JSON.stringify(designPrevalence)}, Se ${ropeSensitivity}`).toBe(needed);
+      expect(
+        plan.barns[0]!.sizing.routineRopes,
+        `design ${JSON.stringify(designPrevalence)}, Se ${ropeSensitivity}`,
+      ).toBe(needed);
     }
   });
 });
@@ -69,7 +95,9 @@ describe('sizing by the spread model, when a program chooses it', () => {
       const counts = new Set<number>();
       const pointCounts = new Set<number | null>();
       for (const seed of seeds) {
-        const { plan, cache, site } = planAndConfidence(smallConfig({ designPrevalence, ropeSensitivity }, { sizingModel: 'spatial', seed }));
+        const { plan, cache, site } = planAndConfidence(
+          smallConfig({ designPrevalence, ropeSensitivity }, { sizingModel: 'spatial', seed }),
+        );
         const barn = plan.barns[0]!.sizing;
         expect(plan.sizing.sizingModel).toBe('spatial');
         counts.add(barn.routineRopes);
@@ -80,7 +108,12 @@ describe('sizing by the spread model, when a program chooses it', () => {
         // count, p - 2 SE >= target; one rope fewer falls short of it.
         expect(barn.plannedDetection - 2 * barn.spreadModel!.standardError).toBeGreaterThanOrEqual(0.95);
         const outbreaks = cache.outbreaksFor(site, site.barns[0]!, infected)!;
-        const estimate = (n: number) => detectionProbability(outbreaks, placeSystematic(site.barns[0]!.pens, { ropes: n, roundIndex: 1 }).penIds, ropeSensitivity);
+        const estimate = (n: number) =>
+          detectionProbability(
+            outbreaks,
+            placeSystematic(site.barns[0]!.pens, { ropes: n, roundIndex: 1 }).penIds,
+            ropeSensitivity,
+          );
         const fewer = estimate(barn.routineRopes - 1);
         expect(fewer.p - 2 * fewer.standardError).toBeLessThan(0.95);
         pointCounts.add(smallestRopesConservative(estimate, 0.95, 36, 0).ropes);
@@ -101,7 +134,15 @@ describe('sizing by the spread model, when a program chooses it', () => {
       const cache = new OutbreakCache(config.analysis);
       const confidence = siteConfidence(site, rounds, { settings: config.analysis, outbreaks: cache });
       const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-      const plan = planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' });
+      const plan = planNextRound({
+        site,
+        rounds,
+        confidence,
+        spatial,
+        settings: config.analysis,
+        cache,
+        today: '2026-08-10',
+      });
       const barn = confidence.at(-1)!.barns.find((entry) => entry.assayId === 'PRRSV')!;
       expect(barn.ropesNeededModel).toBe('spatial');
       expect(barn.ropesNeeded, `design ${JSON.stringify(designPrevalence)}`).toBe(plan.barns[0]!.sizing.routineRopes);
@@ -112,12 +153,19 @@ describe('sizing by the spread model, when a program chooses it', () => {
   });
 
   it("shows the hypergeometric figure of the same ropes beside the spread model's, and sizes the site figure with the spread model", () => {
-    const { plan } = planAndConfidence(smallConfig({ designPrevalence: { pens: 3 }, ropeSensitivity: 0.9 }, { sizingModel: 'spatial' }));
+    const { plan } = planAndConfidence(
+      smallConfig({ designPrevalence: { pens: 3 }, ropeSensitivity: 0.9 }, { sizingModel: 'spatial' }),
+    );
     const barn = plan.barns[0]!.sizing;
     expect(barn.model).toMatch(/spread model/);
     expect(barn.plannedDetection).toBe(barn.plannedSpreadModel);
     expect(barn.statement).toMatch(/by the spread model.*hypergeometric model gives the same ropes/);
     expect(plan.sizing.notes.join(' ')).toMatch(/less two Monte Carlo standard errors/);
-    expectClose(plan.siteDetectionIfNegative, barn.plannedSpreadModel!, { rel: 1e-12 }, 'one barn: the site figure is the barn figure');
+    expectClose(
+      plan.siteDetectionIfNegative,
+      barn.plannedSpreadModel!,
+      { rel: 1e-12 },
+      'one barn: the site figure is the barn figure',
+    );
   });
 });

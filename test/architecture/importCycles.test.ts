@@ -63,7 +63,9 @@ function sourceGraph(): Map<string, string[]> {
       const full = path.join(dir, entry.name);
       if (entry.isDirectory()) walk(full);
       else if (entry.name.endsWith('.ts')) {
-        const targets = relativeImports(fs.readFileSync(full, 'utf8')).map((specifier) => path.resolve(dir, specifier).replace(/\.js$/, '.ts'));
+        const targets = relativeImports(fs.readFileSync(full, 'utf8')).map((specifier) =>
+          path.resolve(dir, specifier).replace(/\.js$/, '.ts'),
+        );
         graph.set(full, targets);
       }
     }
@@ -74,9 +76,29 @@ function sourceGraph(): Map<string, string[]> {
 
 describe('the import graph of src/', () => {
   it('finds a cycle where there is one, type-only and dynamic imports included (hand-made graphs)', () => {
-    expect(relativeImports("import type { A } from './a.js';\nexport { B } from './b.js';\nconst c = await import('./c.js');\nimport fs from 'node:fs';\n/** runs `await import('./d.js')` */\n// import { e } from './e.js';")).toEqual(['./a.js', './b.js', './c.js']);
-    expect(cycles(new Map([['a', ['b']], ['b', ['c']], ['c', ['a']], ['d', ['a']]]))).toEqual([['a', 'b', 'c']]);
-    expect(cycles(new Map([['a', ['b']], ['b', []]]))).toEqual([]);
+    expect(
+      relativeImports(
+        "import type { A } from './a.js';\nexport { B } from './b.js';\nconst c = await import('./c.js');\nimport fs from 'node:fs';\n/** runs `await import('./d.js')` */\n// import { e } from './e.js';",
+      ),
+    ).toEqual(['./a.js', './b.js', './c.js']);
+    expect(
+      cycles(
+        new Map([
+          ['a', ['b']],
+          ['b', ['c']],
+          ['c', ['a']],
+          ['d', ['a']],
+        ]),
+      ),
+    ).toEqual([['a', 'b', 'c']]);
+    expect(
+      cycles(
+        new Map([
+          ['a', ['b']],
+          ['b', []],
+        ]),
+      ),
+    ).toEqual([]);
     expect(cycles(new Map([['a', ['a']]]))).toEqual([['a']]);
   });
 

@@ -29,9 +29,16 @@ describe('choosing the browser', () => {
   });
 
   it('refuses ROPEWATCH_CHROMIUM=system without a system browser, and any other value, naming the variable', () => {
-    expect(() => chooseChromium({ ROPEWATCH_CHROMIUM: 'system' }, absent)).toThrow(/ROPEWATCH_CHROMIUM=system, but \/usr\/bin\/chromium is not there/);
-    expect(chooseChromium({ ROPEWATCH_CHROMIUM: 'system' }, present)).toEqual({ kind: 'system', executablePath: SYSTEM_CHROMIUM });
-    expect(() => chooseChromium({ ROPEWATCH_CHROMIUM: 'chrome' }, present)).toThrow(/ROPEWATCH_CHROMIUM must be "bundled", "system" or unset, got "chrome"/);
+    expect(() => chooseChromium({ ROPEWATCH_CHROMIUM: 'system' }, absent)).toThrow(
+      /ROPEWATCH_CHROMIUM=system, but \/usr\/bin\/chromium is not there/,
+    );
+    expect(chooseChromium({ ROPEWATCH_CHROMIUM: 'system' }, present)).toEqual({
+      kind: 'system',
+      executablePath: SYSTEM_CHROMIUM,
+    });
+    expect(() => chooseChromium({ ROPEWATCH_CHROMIUM: 'chrome' }, present)).toThrow(
+      /ROPEWATCH_CHROMIUM must be "bundled", "system" or unset, got "chrome"/,
+    );
   });
 });
 
@@ -47,7 +54,10 @@ describe('unpacking the packaged browser', () => {
     temps.push(root);
     const packageDir = path.join(root, 'package');
     fs.mkdirSync(path.join(packageDir, 'bin'), { recursive: true });
-    fs.writeFileSync(path.join(packageDir, 'package.json'), JSON.stringify({ name: '@sparticuz/chromium', version: '1.2.3' }));
+    fs.writeFileSync(
+      path.join(packageDir, 'package.json'),
+      JSON.stringify({ name: '@sparticuz/chromium', version: '1.2.3' }),
+    );
     const binary = Buffer.from('#!/bin/sh\necho fake chromium\n');
     fs.writeFileSync(path.join(packageDir, 'bin', 'chromium.br'), zlib.brotliCompressSync(binary));
     const fontSource = path.join(root, 'font-source');
@@ -66,8 +76,12 @@ describe('unpacking the packaged browser', () => {
     // Oracle: Node's zlib brotli round trip (RFC 7932) of the bytes put in.
     expect(fs.readFileSync(unpacked.executablePath)).toEqual(binary);
     expect(spawnSync(unpacked.executablePath, { encoding: 'utf8' }).stdout).toBe('fake chromium\n');
-    expect(fs.readFileSync(path.join(cacheRoot, '1.2.3', 'fonts', 'fonts', 'Sans', 'Sans.ttf'), 'utf8')).toBe('not really a font');
-    expect(fs.readFileSync(unpacked.fontconfigFile, 'utf8')).toContain(`<dir>${path.join(cacheRoot, '1.2.3', 'fonts')}</dir>`);
+    expect(fs.readFileSync(path.join(cacheRoot, '1.2.3', 'fonts', 'fonts', 'Sans', 'Sans.ttf'), 'utf8')).toBe(
+      'not really a font',
+    );
+    expect(fs.readFileSync(unpacked.fontconfigFile, 'utf8')).toContain(
+      `<dir>${path.join(cacheRoot, '1.2.3', 'fonts')}</dir>`,
+    );
     expect(fs.readdirSync(cacheRoot)).toEqual(['1.2.3']);
   });
 
@@ -105,16 +119,22 @@ describe('the packaged Chromium', () => {
       const packageMajor = (JSON.parse(fs.readFileSync(manifest, 'utf8')) as { version: string }).version.split('.')[0];
       expect(context.browser()!.version().split('.')[0]).toBe(packageMajor);
       const page = await context.newPage();
-      await page.setContent('<p id="sum"></p><script>document.getElementById("sum").textContent = String(6 * 7);</script>');
+      await page.setContent(
+        '<p id="sum"></p><script>document.getElementById("sum").textContent = String(6 * 7);</script>',
+      );
       expect(await page.textContent('#sum')).toBe('42');
       // Text is drawn with the font the package carries (fonts.tar.br: Open Sans), whatever fonts
       // this machine has: the fontconfig file took effect. Chrome DevTools Protocol,
       // CSS.getPlatformFontsForNode, names the font that drew each node's glyphs.
       const cdp = await context.newCDPSession(page);
       const { root } = (await cdp.send('DOM.getDocument')) as { root: { nodeId: number } };
-      const { nodeId } = (await cdp.send('DOM.querySelector', { nodeId: root.nodeId, selector: '#sum' })) as { nodeId: number };
+      const { nodeId } = (await cdp.send('DOM.querySelector', { nodeId: root.nodeId, selector: '#sum' })) as {
+        nodeId: number;
+      };
       await cdp.send('CSS.enable');
-      const { fonts } = (await cdp.send('CSS.getPlatformFontsForNode', { nodeId })) as { fonts: { familyName: string; glyphCount: number }[] };
+      const { fonts } = (await cdp.send('CSS.getPlatformFontsForNode', { nodeId })) as {
+        fonts: { familyName: string; glyphCount: number }[];
+      };
       expect(fonts.map((font) => font.familyName)).toEqual(['Open Sans']);
     } finally {
       await context.close();

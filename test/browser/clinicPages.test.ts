@@ -23,7 +23,8 @@ import { twoRowLayout } from '../helpers/layouts.js';
 const SHOTS = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../test-artifacts/screenshots/clinic');
 
 type Box = { x: number; y: number; width: number; height: number };
-const intersects = (a: Box, b: Box) => a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
+const intersects = (a: Box, b: Box) =>
+  a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
 
 /** A barn of `rows` rows with long row labels, pens 1 x 1, alley 0.6 pen units. */
 const wideBarn = (rows: number, labels: string[], overrides: Partial<BarnLayout> = {}) => ({
@@ -40,7 +41,10 @@ describe('maps and pages in the packaged Chromium', () => {
   beforeAll(async () => {
     demo = await buildDemoPages();
     userDataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-clinic-'));
-    ({ context } = await launchChromium(userDataDir, { viewport: { width: 1100, height: 900 }, env: { ...process.env, ROPEWATCH_CHROMIUM: 'bundled' } }));
+    ({ context } = await launchChromium(userDataDir, {
+      viewport: { width: 1100, height: 900 },
+      env: { ...process.env, ROPEWATCH_CHROMIUM: 'bundled' },
+    }));
     fs.mkdirSync(SHOTS, { recursive: true });
   }, 180_000);
 
@@ -77,7 +81,10 @@ describe('maps and pages in the packaged Chromium', () => {
       [3, ['West', 'Middle', 'East']],
       [4, ['North', 'Middle', 'WWMM', 'South']],
     ] as const) {
-      const page = await show(renderBarnMap(wideBarn(rows, [...labels]), { key: `l${rows}`, scale: 34, detail: 'full', title: 'labels' }), `row-labels-${rows}`);
+      const page = await show(
+        renderBarnMap(wideBarn(rows, [...labels]), { key: `l${rows}`, scale: 34, detail: 'full', title: 'labels' }),
+        `row-labels-${rows}`,
+      );
       const { view, items } = await boxes(page, 'text.row-label');
       expect(items.map((item) => item.text)).toEqual([...labels]);
       for (const item of items) {
@@ -85,8 +92,13 @@ describe('maps and pages in the packaged Chromium', () => {
         expect(item.x, `${item.text} left edge`).toBeGreaterThanOrEqual(view.x);
         expect(item.x + item.width, `${item.text} right edge`).toBeLessThanOrEqual(view.x + view.width);
       }
-      const firstPen = await page.evaluate(() => Math.min(...[...document.querySelectorAll('g.pen rect')].map((node) => (node as SVGGraphicsElement).getBBox().x)));
-      for (const item of items) expect(item.x + item.width, `${item.text} against the pens`).toBeLessThanOrEqual(firstPen);
+      const firstPen = await page.evaluate(() =>
+        Math.min(
+          ...[...document.querySelectorAll('g.pen rect')].map((node) => (node as SVGGraphicsElement).getBBox().x),
+        ),
+      );
+      for (const item of items)
+        expect(item.x + item.width, `${item.text} against the pens`).toBeLessThanOrEqual(firstPen);
       await page.close();
     }
   });
@@ -98,7 +110,10 @@ describe('maps and pages in the packaged Chromium', () => {
       [4, 2],
     ] as const) {
       const barn = wideBarn(rows, ['A', 'B', 'C', 'D'].slice(0, rows));
-      const page = await show(renderBarnMap(barn, { key: `a${rows}`, scale: 34, detail: 'full', title: 'alleys' }), `alleys-${rows}`);
+      const page = await show(
+        renderBarnMap(barn, { key: `a${rows}`, scale: 34, detail: 'full', title: 'alleys' }),
+        `alleys-${rows}`,
+      );
       const bands = await boxes(page, 'rect[data-alley]');
       expect(bands.items, `${rows} rows`).toHaveLength(alleys);
       expect((await boxes(page, 'text.alley-label')).items).toHaveLength(alleys);
@@ -138,12 +153,17 @@ describe('maps and pages in the packaged Chromium', () => {
       { index: 1, pens: ['B1', 'B2'] },
       { index: 2, pens: ['D1', 'D2'] },
     ];
-    const page = await show(renderBarnMap(barn, { key: 'c', scale: 34, detail: 'full', title: 'clusters', results, clusters }), 'cluster-labels');
+    const page = await show(
+      renderBarnMap(barn, { key: 'c', scale: 34, detail: 'full', title: 'clusters', results, clusters }),
+      'cluster-labels',
+    );
     const labels = (await boxes(page, 'text.cluster-label')).items;
     const alleys = (await boxes(page, 'text.alley-label')).items;
     expect(labels).toHaveLength(2);
     expect(alleys).toHaveLength(2);
-    for (const label of labels) for (const alley of alleys) expect(intersects(label, alley), `${label.text} against alley label at x ${alley.x}`).toBe(false);
+    for (const label of labels)
+      for (const alley of alleys)
+        expect(intersects(label, alley), `${label.text} against alley label at x ${alley.x}`).toBe(false);
     await page.close();
   });
 
@@ -156,18 +176,26 @@ describe('maps and pages in the packaged Chromium', () => {
     };
     let measured = 0;
     for (const summary of analysis.summaries) {
-      await page.goto(pathToFileURL(path.join(demo.paths.outbox, analysis.site.id, summary.round.id, 'summary.html')).href);
+      await page.goto(
+        pathToFileURL(path.join(demo.paths.outbox, analysis.site.id, summary.round.id, 'summary.html')).href,
+      );
       const pairs = await page.evaluate(() =>
-        [...document.querySelectorAll('td.below, td.met, span.below, span.met, .alerts li strong, .alerts li .detail')].map((node) => {
+        [
+          ...document.querySelectorAll('td.below, td.met, span.below, span.met, .alerts li strong, .alerts li .detail'),
+        ].map((node) => {
           const style = getComputedStyle(node);
           let back = style.backgroundColor;
-          for (let el: Element | null = node; el && /rgba\(0, 0, 0, 0\)|transparent/.test(back); el = el.parentElement) back = getComputedStyle(el).backgroundColor;
+          for (let el: Element | null = node; el && /rgba\(0, 0, 0, 0\)|transparent/.test(back); el = el.parentElement)
+            back = getComputedStyle(el).backgroundColor;
           return { text: node.textContent ?? '', ink: style.color, paper: back };
         }),
       );
       for (const pair of pairs) {
         // WCAG 2.1 SC 1.4.3 (contrast minimum): 4.5:1 for normal text.
-        expect(contrastRatio(toHex(pair.ink), toHex(pair.paper)), `${summary.round.id} "${pair.text.slice(0, 40)}" ${pair.ink} on ${pair.paper}`).toBeGreaterThanOrEqual(4.5);
+        expect(
+          contrastRatio(toHex(pair.ink), toHex(pair.paper)),
+          `${summary.round.id} "${pair.text.slice(0, 40)}" ${pair.ink} on ${pair.paper}`,
+        ).toBeGreaterThanOrEqual(4.5);
         measured++;
       }
     }
@@ -178,11 +206,19 @@ describe('maps and pages in the packaged Chromium', () => {
   it('shows the cautions on every page kind, and screenshots one of each', async () => {
     const site = demo.analyses[0]!;
     const round = site.summaries.at(-1)!.round.id;
-    const kinds = { index: 'index.html', summary: `${site.site.id}/${round}/summary.html`, clusters: `${site.site.id}/${round}/clusters.html`, 'rope-sheet': `${site.site.id}/next-round.html`, plan: `${site.site.id}/plan.html` };
+    const kinds = {
+      index: 'index.html',
+      summary: `${site.site.id}/${round}/summary.html`,
+      clusters: `${site.site.id}/${round}/clusters.html`,
+      'rope-sheet': `${site.site.id}/next-round.html`,
+      plan: `${site.site.id}/plan.html`,
+    };
     const page = await context.newPage();
     for (const [kind, relative] of Object.entries(kinds)) {
       await page.goto(pathToFileURL(path.join(demo.paths.outbox, relative)).href);
-      const shown = await page.locator('[data-cautions] li').evaluateAll((nodes) => nodes.map((node) => node.textContent));
+      const shown = await page
+        .locator('[data-cautions] li')
+        .evaluateAll((nodes) => nodes.map((node) => node.textContent));
       expect(shown, kind).toEqual([...CAUTIONS]);
       // Visible: laid out with a size, not hidden.
       expect(await page.locator('[data-cautions]').isVisible(), kind).toBe(true);

@@ -60,16 +60,24 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
   }
 
   async function shoot(page: Page, relative: string): Promise<void> {
-    await page.screenshot({ path: path.join(SCREENSHOTS, relative.replaceAll('/', '__').replace(/\.html$/, '.png')), fullPage: true });
+    await page.screenshot({
+      path: path.join(SCREENSHOTS, relative.replaceAll('/', '__').replace(/\.html$/, '.png')),
+      fullPage: true,
+    });
   }
 
-  const readJson = <T>(relative: string): T => JSON.parse(fs.readFileSync(path.join(demo.paths.outbox, relative), 'utf8')) as T;
+  const readJson = <T>(relative: string): T =>
+    JSON.parse(fs.readFileSync(path.join(demo.paths.outbox, relative), 'utf8')) as T;
 
   it('opens every page without console errors or network requests, and screenshots it', async () => {
     const pages = ['index.html'];
     for (const analysis of demo.analyses) {
       pages.push(`${analysis.site.id}/next-round.html`, `${analysis.site.id}/plan.html`);
-      for (const summary of analysis.summaries) pages.push(`${analysis.site.id}/${summary.round.id}/summary.html`, `${analysis.site.id}/${summary.round.id}/clusters.html`);
+      for (const summary of analysis.summaries)
+        pages.push(
+          `${analysis.site.id}/${summary.round.id}/summary.html`,
+          `${analysis.site.id}/${summary.round.id}/clusters.html`,
+        );
     }
     for (const relative of pages) {
       const page = await open(relative);
@@ -92,11 +100,21 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
           for (const assay of summary.assays) {
             const map = page.locator(`svg[data-map="main"][data-barn="${barn.id}"][data-assay="${assay.id}"]`);
             expect(await map.count(), `${relative} ${barn.id} ${assay.id} map`).toBe(1);
-            const tally = summary.barns.find((entry) => entry.barnId === barn.id)!.assays.find((entry) => entry.assayId === assay.id)!;
-            expect(await map.locator('[data-pen]').count(), `${relative} ${barn.id} pens`).toBe(barn.layout.rowLabels.length * barn.layout.pensPerRow);
-            expect(await map.locator('[data-status="empty"]').count(), `${relative} ${barn.id} empty`).toBe(barn.layout.empty.length);
-            expect(await map.locator('[data-status="out-of-use"]').count(), `${relative} ${barn.id} out of use`).toBe(barn.layout.outOfUse.length);
-            const positives = await map.locator('[data-positive]').evaluateAll((nodes) => nodes.map((node) => node.getAttribute('data-pen')).sort());
+            const tally = summary.barns
+              .find((entry) => entry.barnId === barn.id)!
+              .assays.find((entry) => entry.assayId === assay.id)!;
+            expect(await map.locator('[data-pen]').count(), `${relative} ${barn.id} pens`).toBe(
+              barn.layout.rowLabels.length * barn.layout.pensPerRow,
+            );
+            expect(await map.locator('[data-status="empty"]').count(), `${relative} ${barn.id} empty`).toBe(
+              barn.layout.empty.length,
+            );
+            expect(await map.locator('[data-status="out-of-use"]').count(), `${relative} ${barn.id} out of use`).toBe(
+              barn.layout.outOfUse.length,
+            );
+            const positives = await map
+              .locator('[data-positive]')
+              .evaluateAll((nodes) => nodes.map((node) => node.getAttribute('data-pen')).sort());
             expect(positives, `${relative} ${barn.id} ${assay.id} positives`).toEqual([...tally.positivePens].sort());
           }
         }
@@ -107,13 +125,24 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
 
   it('marks on the rope sheet exactly the pens of next-round.json, with one checklist line each', async () => {
     for (const analysis of demo.analyses) {
-      const plan = readJson<{ ropes: { barnId: string; penId: string; sampleId: string }[] }>(`${analysis.site.id}/next-round.json`);
+      const plan = readJson<{ ropes: { barnId: string; penId: string; sampleId: string }[] }>(
+        `${analysis.site.id}/next-round.json`,
+      );
       const page = await open(`${analysis.site.id}/next-round.html`);
       for (const barn of analysis.site.barns) {
-        const planned = await page.locator(`svg[data-map="sheet"][data-barn="${barn.id}"] [data-planned]`).evaluateAll((nodes) => nodes.map((node) => node.getAttribute('data-pen')).sort());
-        expect(planned, `${analysis.site.id} ${barn.id}`).toEqual(plan.ropes.filter((rope) => rope.barnId === barn.id).map((rope) => rope.penId).sort());
+        const planned = await page
+          .locator(`svg[data-map="sheet"][data-barn="${barn.id}"] [data-planned]`)
+          .evaluateAll((nodes) => nodes.map((node) => node.getAttribute('data-pen')).sort());
+        expect(planned, `${analysis.site.id} ${barn.id}`).toEqual(
+          plan.ropes
+            .filter((rope) => rope.barnId === barn.id)
+            .map((rope) => rope.penId)
+            .sort(),
+        );
       }
-      const lines = await page.locator('tr[data-rope]').evaluateAll((nodes) => nodes.map((node) => node.getAttribute('data-rope')));
+      const lines = await page
+        .locator('tr[data-rope]')
+        .evaluateAll((nodes) => nodes.map((node) => node.getAttribute('data-rope')));
       // Checklist order is the plan's order (its walking order).
       expect(lines).toEqual(plan.ropes.map((rope) => rope.sampleId));
       await page.close();
@@ -122,18 +151,27 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
 
   it('links from the index and from every page resolve to files that exist', async () => {
     const index = await open('index.html');
-    const hrefs = await index.locator('a[href]').evaluateAll((nodes) => nodes.map((node) => (node as HTMLAnchorElement).href));
+    const hrefs = await index
+      .locator('a[href]')
+      .evaluateAll((nodes) => nodes.map((node) => (node as HTMLAnchorElement).href));
     expect(hrefs.length).toBeGreaterThan(0);
     for (const href of hrefs) {
       expect(href.startsWith('file:'), href).toBe(true);
       expect(fs.existsSync(fileURLToPath(href)), href).toBe(true);
     }
-    for (const site of demo.analyses) expect(hrefs.some((href) => href.endsWith(`${site.site.id}/next-round.html`))).toBe(true);
+    for (const site of demo.analyses)
+      expect(hrefs.some((href) => href.endsWith(`${site.site.id}/next-round.html`))).toBe(true);
     await index.close();
     const latest = demo.analyses[0]!.summaries.at(-1)!;
-    for (const relative of [`${demo.analyses[0]!.site.id}/${latest.round.id}/summary.html`, `${demo.analyses[0]!.site.id}/${latest.round.id}/clusters.html`, `${demo.analyses[0]!.site.id}/next-round.html`]) {
+    for (const relative of [
+      `${demo.analyses[0]!.site.id}/${latest.round.id}/summary.html`,
+      `${demo.analyses[0]!.site.id}/${latest.round.id}/clusters.html`,
+      `${demo.analyses[0]!.site.id}/next-round.html`,
+    ]) {
       const page = await open(relative);
-      for (const href of await page.locator('a[href]').evaluateAll((nodes) => nodes.map((node) => (node as HTMLAnchorElement).href))) {
+      for (const href of await page
+        .locator('a[href]')
+        .evaluateAll((nodes) => nodes.map((node) => (node as HTMLAnchorElement).href))) {
         expect(fs.existsSync(fileURLToPath(href)), `${relative} -> ${href}`).toBe(true);
       }
       await page.close();
@@ -143,7 +181,11 @@ describe(`the pages in headless Chromium (${choice.kind === 'system' ? choice.ex
   it('prints the latest round summary and cluster review of every site on at most three A4 sheets, and none of them or the rope sheet wider than the sheet', async () => {
     const latest = demo.analyses.flatMap((site) => {
       const round = site.summaries.at(-1)!.round.id;
-      return [`${site.site.id}/${round}/summary.html`, `${site.site.id}/${round}/clusters.html`, `${site.site.id}/next-round.html`];
+      return [
+        `${site.site.id}/${round}/summary.html`,
+        `${site.site.id}/${round}/clusters.html`,
+        `${site.site.id}/next-round.html`,
+      ];
     });
     for (const relative of latest) {
       const page = await open(relative);

@@ -87,7 +87,9 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
     demo = await buildDemoPages();
     userDataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-print-'));
     ({ context } = await launchChromium(userDataDir, { viewport: { width: 1100, height: 900 } }));
-    await context.route('**/*', async (route) => (route.request().url().startsWith('file:') ? route.continue() : route.abort()));
+    await context.route('**/*', async (route) =>
+      route.request().url().startsWith('file:') ? route.continue() : route.abort(),
+    );
     fs.mkdirSync(path.join(ARTIFACTS, 'pdf'), { recursive: true });
     fs.mkdirSync(path.join(ARTIFACTS, 'screenshots'), { recursive: true });
   }, 120_000);
@@ -116,30 +118,50 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
             const svg = row.querySelector('td.sample svg.barcode');
             const cell = row.querySelector('td.sample')!.getBoundingClientRect();
             const box = svg?.getBoundingClientRect();
-            return { id: row.getAttribute('data-rope'), code: svg?.getAttribute('data-code128') ?? null, inside: !!box && box.left >= cell.left && box.right <= cell.right };
+            return {
+              id: row.getAttribute('data-rope'),
+              code: svg?.getAttribute('data-code128') ?? null,
+              inside: !!box && box.left >= cell.left && box.right <= cell.right,
+            };
           }),
         );
-        expect(lines.map((line) => line.code), `${site}: a barcode per line`).toEqual(analysis.plan.ropes.map((rope) => rope.sampleId));
-        expect(lines.every((line) => line.inside), `${site}: barcodes inside their cells`).toBe(true);
+        expect(
+          lines.map((line) => line.code),
+          `${site}: a barcode per line`,
+        ).toEqual(analysis.plan.ropes.map((rope) => rope.sampleId));
+        expect(
+          lines.every((line) => line.inside),
+          `${site}: barcodes inside their cells`,
+        ).toBe(true);
         // Every sequence number below the highest that no rope carries is named on the sheet.
         const sequences = new Set(analysis.plan.ropes.map((rope) => Number(/-(\d{3})/.exec(rope.sampleId)![1])));
-        const missing = Array.from({ length: Math.max(...sequences) }, (_, i) => i + 1).filter((n) => !sequences.has(n));
+        const missing = Array.from({ length: Math.max(...sequences) }, (_, i) => i + 1).filter(
+          (n) => !sequences.has(n),
+        );
         const skippedText = missing.length > 0 ? await page.locator('[data-skipped]').textContent() : '';
-        for (const n of missing) expect(skippedText, `${site}: skipped ${n} named`).toContain(String(n).padStart(3, '0'));
+        for (const n of missing)
+          expect(skippedText, `${site}: skipped ${n} named`).toContain(String(n).padStart(3, '0'));
         await page.evaluate(MARK);
         const pdf = await page.pdf({ format, printBackground: true });
         fs.writeFileSync(path.join(ARTIFACTS, 'pdf', `${site}__next-round__${format}.pdf`), pdf);
         await page.close();
         const text = pdf.toString('latin1');
         const pages = markersByPage(text);
-        expect(pages.length, `${site} ${format}: pages in the tree = page objects`).toBe((text.match(/\/Type\s*\/Page[^s]/g) ?? []).length);
-        const pagesOf = (kind: string, barn = '-') => pages.flatMap((markers, index) => (markers.some((m) => m.kind === kind && m.barn === barn) ? [index] : []));
+        expect(pages.length, `${site} ${format}: pages in the tree = page objects`).toBe(
+          (text.match(/\/Type\s*\/Page[^s]/g) ?? []).length,
+        );
+        const pagesOf = (kind: string, barn = '-') =>
+          pages.flatMap((markers, index) => (markers.some((m) => m.kind === kind && m.barn === barn) ? [index] : []));
         const barns = analysis.site.barns.filter((barn) => analysis.plan.ropes.some((rope) => rope.barnId === barn.id));
         let previousLast = -1;
         for (const barn of barns) {
           const label = `${site} ${format} ${barn.id}`;
-          const rows = pages.flatMap((markers, index) => markers.filter((m) => m.kind === 'row' && m.barn === barn.id).map(() => index));
-          expect(rows, `${label}: every checklist line printed once`).toHaveLength(analysis.plan.ropes.filter((rope) => rope.barnId === barn.id).length);
+          const rows = pages.flatMap((markers, index) =>
+            markers.filter((m) => m.kind === 'row' && m.barn === barn.id).map(() => index),
+          );
+          expect(rows, `${label}: every checklist line printed once`).toHaveLength(
+            analysis.plan.ropes.filter((rope) => rope.barnId === barn.id).length,
+          );
           const [heading] = pagesOf('heading', barn.id);
           // The barn's heading, its map and its first checklist line share a page.
           expect(pagesOf('heading', barn.id), `${label}: heading`).toHaveLength(1);
@@ -148,13 +170,20 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
           // Page breaks between barns: a barn starts on a page after the last line of the one before.
           expect(heading!, `${label}: starts on a page of its own`).toBeGreaterThan(previousLast);
           // Every page that carries lines of the barn names the barn: its heading or the repeated checklist head.
-          for (const index of new Set(rows)) expect(pagesOf('head', barn.id), `${label}: named on page ${index + 1}`).toContain(index);
+          for (const index of new Set(rows))
+            expect(pagesOf('head', barn.id), `${label}: named on page ${index + 1}`).toContain(index);
           previousLast = rows.at(-1)!;
         }
         // The cautions are printed, all of them, and never on a page by themselves.
-        expect(pages.flat().filter((m) => m.kind === 'caution'), `${site} ${format}: cautions`).toHaveLength(4);
+        expect(
+          pages.flat().filter((m) => m.kind === 'caution'),
+          `${site} ${format}: cautions`,
+        ).toHaveLength(4);
         pages.forEach((markers, index) => {
-          expect(markers.some((m) => m.kind !== 'caution'), `${site} ${format}: page ${index + 1} holds more than cautions`).toBe(true);
+          expect(
+            markers.some((m) => m.kind !== 'caution'),
+            `${site} ${format}: page ${index + 1} holds more than cautions`,
+          ).toBe(true);
         });
         // The demo's barns each fit on at most two pages.
         expect(pages.length, `${site} ${format}: pages`).toBeLessThanOrEqual(2 * barns.length);
@@ -169,7 +198,10 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
       for (const analysis of demo.analyses) {
         const site = analysis.site.id;
         const page = await open(`${site}/${layout.file}`);
-        await page.screenshot({ path: path.join(ARTIFACTS, 'screenshots', `${site}__${layout.file.replace(/\.html$/, '')}__print.png`), fullPage: true });
+        await page.screenshot({
+          path: path.join(ARTIFACTS, 'screenshots', `${site}__${layout.file.replace(/\.html$/, '')}__print.png`),
+          fullPage: true,
+        });
         const boxes = await page.locator('[data-label]').evaluateAll((nodes) =>
           nodes.map((node) => {
             const box = node.getBoundingClientRect();
@@ -190,7 +222,10 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
             };
           }),
         );
-        expect(boxes.map((box) => box.id), `${site} ${layout.id}: a label per rope, in walking order`).toEqual(analysis.plan.ropes.map((rope) => rope.sampleId));
+        expect(
+          boxes.map((box) => box.id),
+          `${site} ${layout.id}: a label per rope, in walking order`,
+        ).toEqual(analysis.plan.ropes.map((rope) => rope.sampleId));
         const perSheet = layout.columns * layout.rows;
         boxes.forEach((box, index) => {
           const label = `${site} ${layout.id} label ${index + 1}`;
@@ -199,8 +234,14 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
           expect(box.sheetIndex, label).toBe(Math.floor(index / perSheet));
           expect(Math.abs(box.sheetWidth - px(layout.paperWidth)), `${label} sheet width`).toBeLessThan(1);
           expect(Math.abs(box.sheetHeight - px(layout.paperHeight)), `${label} sheet height`).toBeLessThan(1);
-          expect(Math.abs(box.left - px(layout.left + (slot % layout.columns) * layout.pitchX)), `${label} left`).toBeLessThan(1);
-          expect(Math.abs(box.top - px(layout.top + Math.floor(slot / layout.columns) * layout.pitchY)), `${label} top`).toBeLessThan(1);
+          expect(
+            Math.abs(box.left - px(layout.left + (slot % layout.columns) * layout.pitchX)),
+            `${label} left`,
+          ).toBeLessThan(1);
+          expect(
+            Math.abs(box.top - px(layout.top + Math.floor(slot / layout.columns) * layout.pitchY)),
+            `${label} top`,
+          ).toBeLessThan(1);
           expect(Math.abs(box.width - px(layout.labelWidth)), `${label} width`).toBeLessThan(1);
           expect(Math.abs(box.height - px(layout.labelHeight)), `${label} height`).toBeLessThan(1);
           expect(box.fits, `${label}: text and barcode fit inside the label`).toBe(true);
@@ -210,13 +251,21 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
         fs.writeFileSync(path.join(ARTIFACTS, 'pdf', `${site}__${layout.file.replace(/\.html$/, '')}.pdf`), pdf);
         await page.close();
         const text = pdf.toString('latin1');
-        const mediaBoxes = pageObjects(text).map((object) => /\/MediaBox \[([^\]]*)\]/.exec(object)![1]!.split(/\s+/).map(Number));
+        const mediaBoxes = pageObjects(text).map((object) =>
+          /\/MediaBox \[([^\]]*)\]/.exec(object)![1]!.split(/\s+/).map(Number),
+        );
         expect(mediaBoxes, `${site} ${layout.id}: sheets`).toHaveLength(Math.ceil(boxes.length / perSheet));
         // PDF units are 1/72 in (ISO 32000-1 section 8.3.2.3): Letter 612 x 792, A4 about 595.3 x 841.9.
         const points = (value: number) => (layout.unit === 'in' ? value * 72 : (value * 72) / 25.4);
         for (const box of mediaBoxes) {
-          expect(Math.abs(box[2]! - box[0]! - points(layout.paperWidth)), `${site} ${layout.id} paper width`).toBeLessThan(1.5);
-          expect(Math.abs(box[3]! - box[1]! - points(layout.paperHeight)), `${site} ${layout.id} paper height`).toBeLessThan(1.5);
+          expect(
+            Math.abs(box[2]! - box[0]! - points(layout.paperWidth)),
+            `${site} ${layout.id} paper width`,
+          ).toBeLessThan(1.5);
+          expect(
+            Math.abs(box[3]! - box[1]! - points(layout.paperHeight)),
+            `${site} ${layout.id} paper height`,
+          ).toBeLessThan(1.5);
         }
       }
     }, 120_000);
@@ -225,8 +274,14 @@ describe(`the rope sheet and its labels printed by headless Chromium (${choice.k
   it('uses label templates whose labels, gaps and margins add up to the paper', () => {
     // Letter is 8.5 x 11 in, A4 210 x 297 mm (ISO 216); symmetric margins (common practice, no source).
     for (const layout of [LETTER_30, A4_24]) {
-      expect(2 * layout.left + (layout.columns - 1) * layout.pitchX + layout.labelWidth, layout.id).toBeCloseTo(layout.paperWidth, 6);
-      expect(2 * layout.top + (layout.rows - 1) * layout.pitchY + layout.labelHeight, layout.id).toBeCloseTo(layout.paperHeight, 6);
+      expect(2 * layout.left + (layout.columns - 1) * layout.pitchX + layout.labelWidth, layout.id).toBeCloseTo(
+        layout.paperWidth,
+        6,
+      );
+      expect(2 * layout.top + (layout.rows - 1) * layout.pitchY + layout.labelHeight, layout.id).toBeCloseTo(
+        layout.paperHeight,
+        6,
+      );
     }
     expect([LETTER_30.paperWidth, LETTER_30.paperHeight]).toEqual([8.5, 11]);
     expect([A4_24.paperWidth, A4_24.paperHeight]).toEqual([210, 297]);

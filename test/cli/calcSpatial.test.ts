@@ -12,8 +12,16 @@ function write(name: string, value: unknown): string {
 }
 
 // Row of six pens, positives at pens 2 and 3 (hand-derived check values), fence neighbours listed.
-const row = [1, 2, 3, 4, 5, 6].map((p) => ({ id: `P${p}`, x: p - 1, y: 0, positive: p === 2 || p === 3, load: p === 2 || p === 3 ? 1 : 0 }));
-const fence = Object.fromEntries(row.map((p, i) => [p.id, [row[i - 1]?.id, row[i + 1]?.id].filter((x): x is string => x !== undefined)]));
+const row = [1, 2, 3, 4, 5, 6].map((p) => ({
+  id: `P${p}`,
+  x: p - 1,
+  y: 0,
+  positive: p === 2 || p === 3,
+  load: p === 2 || p === 3 ? 1 : 0,
+}));
+const fence = Object.fromEntries(
+  row.map((p, i) => [p.id, [row[i - 1]?.id, row[i + 1]?.id].filter((x): x is string => x !== undefined)]),
+);
 
 describe('ropewatch calc spatial', () => {
   it('prints the hand-derived values for a row of six pens with fence neighbours', async () => {
@@ -28,12 +36,13 @@ describe('ropewatch calc spatial', () => {
     expectClose(out.joinCount.expectedBB, 1 / 3, { rel: 1e-12 }, 'E(BB)');
     expectClose(out.joinCount.varianceBB, 2 / 9, { rel: 1e-12 }, 'Var(BB)');
     expectClose(out.joinCount.pPermutation, 5 / 15, { rel: 1e-12 }, 'exact p');
-    expectClose(out.joinCount.zBB, (2 / 3) / Math.sqrt(2 / 9), { rel: 1e-12 }, 'zBB');
+    expectClose(out.joinCount.zBB, 2 / 3 / Math.sqrt(2 / 9), { rel: 1e-12 }, 'zBB');
     // Moran 1950; Cliff & Ord 1981 (moments), by hand: I = 0.2, Var_normality = 0.128, E[I] = -1/(n-1) = -0.2.
     expectClose(out.moran.I, 0.2, { rel: 1e-12 }, 'I');
     expectClose(out.moran.expected, -0.2, { rel: 1e-12 }, 'E[I]');
     expectClose(out.moran.varianceNormality, 0.128, { rel: 1e-12 }, 'Var_N');
-    for (const key of ['varianceRandomisation', 'zRandomisation', 'pPermutation']) expect(typeof out.moran[key]).toBe('number');
+    for (const key of ['varianceRandomisation', 'zRandomisation', 'pPermutation'])
+      expect(typeof out.moran[key]).toBe('number');
     // Getis & Ord 1992; Ord & Getis 1995, by hand: Gi* pen 2 = 1.581139 (self included).
     expectClose(out.localGiStar[1].z, 1.581139, { rel: 1e-6 }, 'Gi* pen 2');
     expect(out.localGiStar[1].id).toBe('P2');
@@ -49,7 +58,12 @@ describe('ropewatch calc spatial', () => {
       const file = write('kb.json', { pens: row, ...extra, style: 'binary', permutations: 99, seed: 2 });
       const run = await runCli(['calc', 'spatial', '--input', file, '--json'], { cwd: dir });
       expect(run.code).toBe(0);
-      expectClose(JSON.parse(run.stdout).joinCount.varianceBB, 2 / 9, { rel: 1e-12 }, `Var(BB) ${JSON.stringify(extra)}`);
+      expectClose(
+        JSON.parse(run.stdout).joinCount.varianceBB,
+        2 / 9,
+        { rel: 1e-12 },
+        `Var(BB) ${JSON.stringify(extra)}`,
+      );
     }
   });
 
@@ -93,7 +107,9 @@ describe('ropewatch calc spatial', () => {
     const missing = await runCli(['calc', 'spatial', '--input', 'nope.json', '--json'], { cwd: dir });
     expect(missing.code).toBe(2);
     expect(missing.stderr).toContain(join(dir, 'nope.json'));
-    const bad = await runCli(['calc', 'spatial', '--input', write('broken.json', '{ "pens": [ '), '--json'], { cwd: dir });
+    const bad = await runCli(['calc', 'spatial', '--input', write('broken.json', '{ "pens": [ '), '--json'], {
+      cwd: dir,
+    });
     expect(bad.code).toBe(2);
     expect(bad.stderr).toMatch(/not valid JSON/);
   });

@@ -15,8 +15,13 @@ import { workspacesPerTest } from '../helpers/workspace.js';
 const workspace = workspacesPerTest();
 
 const BROKEN = {
-  'sites.yaml': demoText('sites.yaml').replace('  designPrevalence: 0.1\n', '  designPrevalance: 0.1\n').replace('rows: 2\n          pensPerRow: 24', 'rows: 7\n          pensPerRow: 24'),
-  'assays.yaml': demoText('assays.yaml').replace('positiveBelow: 38\n    suspectBelow: 40', 'positiveBelow: 41\n    suspectBelow: 40'),
+  'sites.yaml': demoText('sites.yaml')
+    .replace('  designPrevalence: 0.1\n', '  designPrevalance: 0.1\n')
+    .replace('rows: 2\n          pensPerRow: 24', 'rows: 7\n          pensPerRow: 24'),
+  'assays.yaml': demoText('assays.yaml').replace(
+    'positiveBelow: 38\n    suspectBelow: 40',
+    'positiveBelow: 41\n    suspectBelow: 40',
+  ),
   'labs/ostermark.yaml': demoText('labs/ostermark.yaml').replace(/^name:/m, 'nmae:'),
 };
 
@@ -34,7 +39,9 @@ describe('several configuration problems through the CLI', () => {
     ];
     for (const line of expected) expect(run.stderr).toContain(line);
     // The first problem heads the message; the others follow, one a line.
-    expect(run.stderr.startsWith(`ropewatch: configuration: ${expected[0]}\nand 3 more configuration problems:\n`)).toBe(true);
+    expect(
+      run.stderr.startsWith(`ropewatch: configuration: ${expected[0]}\nand 3 more configuration problems:\n`),
+    ).toBe(true);
     expect(run.stderr.trimEnd().split('\n')).toHaveLength(5);
     expect(run.stdout).toBe('');
   });
@@ -42,9 +49,26 @@ describe('several configuration problems through the CLI', () => {
   it('tells a watcher every problem on one log line', async () => {
     const ws = workspace({ configFiles: BROKEN });
     let stderr = '';
-    const io = { stdout: () => {}, stderr: (text: string) => (stderr += text), cwd: ws.root, now: () => new Date(0), env: {} };
+    const io = {
+      stdout: () => {},
+      stderr: (text: string) => (stderr += text),
+      cwd: ws.root,
+      now: () => new Date(0),
+      env: {},
+    };
     await reloadConfiguration({ configDir: ws.paths.configDir } as Workspace, io);
-    expect(stderr.split('\n')).toEqual([expect.stringMatching(/^ropewatch: the configuration changed but cannot be loaded \(.*\); the previous configuration stays in force$/), '']);
-    for (const key of ['assays[1].suspectBelow', 'programDefaults.designPrevalance', 'sites[0].barns[1].layout.rows', 'at nmae']) expect(stderr).toContain(key);
+    expect(stderr.split('\n')).toEqual([
+      expect.stringMatching(
+        /^ropewatch: the configuration changed but cannot be loaded \(.*\); the previous configuration stays in force$/,
+      ),
+      '',
+    ]);
+    for (const key of [
+      'assays[1].suspectBelow',
+      'programDefaults.designPrevalance',
+      'sites[0].barns[1].layout.rows',
+      'at nmae',
+    ])
+      expect(stderr).toContain(key);
   });
 });

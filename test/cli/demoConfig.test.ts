@@ -69,7 +69,10 @@ describe('demo and a configuration it did not write', () => {
     const older = 'id: old-demo-lab\n';
     fs.writeFileSync(path.join(labs, 'retired.yaml'), older);
     expect(() => guardConfig(ws.paths.configDir)).toThrow(/labs\/retired\.yaml/);
-    fs.writeFileSync(path.join(ws.paths.configDir, DEMO_CONFIG_MARK), JSON.stringify({ 'labs/retired.yaml': createHash('sha256').update(older).digest('hex') }));
+    fs.writeFileSync(
+      path.join(ws.paths.configDir, DEMO_CONFIG_MARK),
+      JSON.stringify({ 'labs/retired.yaml': createHash('sha256').update(older).digest('hex') }),
+    );
     expect(() => guardConfig(ws.paths.configDir)).not.toThrow();
   });
 

@@ -81,7 +81,11 @@ describe('ropewatch report --json', () => {
     expect((await runCli(['ingest', ...files, ...ws.cliFlags])).code).toBe(0);
     const run = await runCli(['report', '--json', ...ws.cliFlags]);
     expect(run.code, run.stderr).toBe(0);
-    const report = JSON.parse(run.stdout) as { outbox: string; index: string | null; sites: { site: string; rounds: { number: number; id: string; startOn: string }[]; files: string[] }[] };
+    const report = JSON.parse(run.stdout) as {
+      outbox: string;
+      index: string | null;
+      sites: { site: string; rounds: { number: number; id: string; startOn: string }[]; files: string[] }[];
+    };
     expect(report.outbox).toBe(ws.paths.outbox);
     expect(report.index).toBe('index.html');
     expect(report.sites.map((site) => site.site)).toEqual(ws.config().sites.map((site) => site.id));
@@ -91,7 +95,9 @@ describe('ropewatch report --json', () => {
     expect(hollow.files).toContain('hollow-creek/r01-2026-08-03/summary.json');
     expect(hollow.files).toEqual(walk(path.join(ws.paths.outbox, 'hollow-creek'), ws.paths.outbox).sort());
 
-    const one = JSON.parse((await runCli(['report', '--site', 'hollow-creek', '--json', ...ws.cliFlags])).stdout) as typeof report;
+    const one = JSON.parse(
+      (await runCli(['report', '--site', 'hollow-creek', '--json', ...ws.cliFlags])).stdout,
+    ) as typeof report;
     expect(one.sites.map((site) => site.site)).toEqual(['hollow-creek']);
     expect(one.sites[0]!.files).toEqual(hollow.files);
   });
@@ -107,7 +113,12 @@ describe('ropewatch report --json', () => {
 describe('the log of ropewatch watch', () => {
   it('begins every line with the time from the injected clock, and says "stopped" once', async () => {
     const ws = workspace();
-    fs.writeFileSync(path.join(ws.paths.inbox, 'ropes.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, [{ sampleId: 'C1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' }]));
+    fs.writeFileSync(
+      path.join(ws.paths.inbox, 'ropes.csv'),
+      ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, [
+        { sampleId: 'C1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
+      ]),
+    );
     let stop!: () => void;
     const stopSignal = new Promise<void>((resolve) => (stop = resolve));
     let stdout = '';
@@ -138,7 +149,13 @@ describe('the log of ropewatch watch', () => {
   it('stamps each line of a chunk, and a line written in pieces once', () => {
     let out = '';
     let seconds = 0;
-    const io = stampLines({ stdout: (text) => (out += text), stderr: () => {}, cwd: '/', now: () => new Date(Date.UTC(2026, 0, 2, 3, 4, seconds++)), env: {} });
+    const io = stampLines({
+      stdout: (text) => (out += text),
+      stderr: () => {},
+      cwd: '/',
+      now: () => new Date(Date.UTC(2026, 0, 2, 3, 4, seconds++)),
+      env: {},
+    });
     io.stdout('one\ntwo\n');
     io.stdout('thr');
     io.stdout('');
@@ -146,7 +163,13 @@ describe('the log of ropewatch watch', () => {
     io.stdout('\n');
     expect(out).toBe(
       // Hand-written: the first chunk read the clock at 03:04:00, the third at 03:04:02.
-      ['2026-01-02T03:04:00.000Z one', '2026-01-02T03:04:00.000Z two', '2026-01-02T03:04:01.000Z three', '2026-01-02T03:04:02.000Z four', ''].join('\n'),
+      [
+        '2026-01-02T03:04:00.000Z one',
+        '2026-01-02T03:04:00.000Z two',
+        '2026-01-02T03:04:01.000Z three',
+        '2026-01-02T03:04:02.000Z four',
+        '',
+      ].join('\n'),
     );
   });
 });
@@ -163,9 +186,18 @@ describe('what declaring the commands loads', () => {
     const visit = (file: string): void => {
       if (modules.has(file)) return;
       modules.add(file);
-      const source = ts.createSourceFile(file, fs.readFileSync(file, 'utf8'), ts.ScriptTarget.ES2022, false, ts.ScriptKind.JS);
+      const source = ts.createSourceFile(
+        file,
+        fs.readFileSync(file, 'utf8'),
+        ts.ScriptTarget.ES2022,
+        false,
+        ts.ScriptKind.JS,
+      );
       for (const statement of source.statements) {
-        const from = ts.isImportDeclaration(statement) || ts.isExportDeclaration(statement) ? statement.moduleSpecifier : undefined;
+        const from =
+          ts.isImportDeclaration(statement) || ts.isExportDeclaration(statement)
+            ? statement.moduleSpecifier
+            : undefined;
         if (from === undefined || !ts.isStringLiteral(from)) continue;
         if (from.text.startsWith('.')) visit(path.resolve(path.dirname(file), from.text));
         else if (!from.text.startsWith('node:')) packages.add(from.text);
@@ -182,8 +214,12 @@ describe('what declaring the commands loads', () => {
     expect(graph.modules).not.toContain('outputs.js');
     expect(graph.modules).not.toContain('pipeline.js');
     expect(graph.modules).not.toContain('workspace.js');
-    expect(graph.modules.filter((file) => /^(config|store|ingest|report|analysis|watch|demo)\//.test(file))).toEqual([]);
+    expect(graph.modules.filter((file) => /^(config|store|ingest|report|analysis|watch|demo)\//.test(file))).toEqual(
+      [],
+    );
     // The walk does see what a command imports when it runs.
-    expect(staticGraph(path.join(path.dirname(compiledBin()), 'commandModules.js')).packages).toEqual(expect.arrayContaining(['better-sqlite3', 'chokidar', 'yaml', 'zod']));
+    expect(staticGraph(path.join(path.dirname(compiledBin()), 'commandModules.js')).packages).toEqual(
+      expect.arrayContaining(['better-sqlite3', 'chokidar', 'yaml', 'zod']),
+    );
   });
 });

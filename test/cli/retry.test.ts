@@ -18,7 +18,13 @@ const WRONG_PROFILE = GOOD_PROFILE.replace('result: Ct Value', 'result: Ct Valeu
 function dropInbox(ws: TestWorkspace): { sheet: string; results: string } {
   const site = ws.config().siteById.get('HOLLOW-CREEK')!;
   const sheet = path.join(ws.paths.inbox, 'ropes.csv');
-  fs.writeFileSync(sheet, ropeSheet(site, [{ sampleId: 'RY-01', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' }, { sampleId: 'RY-02', barnId: 'F1', penId: 'A4', hungOn: '2026-08-03' }]));
+  fs.writeFileSync(
+    sheet,
+    ropeSheet(site, [
+      { sampleId: 'RY-01', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
+      { sampleId: 'RY-02', barnId: 'F1', penId: 'A4', hungOn: '2026-08-03' },
+    ]),
+  );
   const results = path.join(ws.paths.inbox, 'nvdl_0806.csv');
   fs.writeFileSync(
     results,
@@ -51,18 +57,26 @@ describe('ropewatch retry', () => {
     expect(early.code).toBe(1);
     expect(early.stdout).toContain('0 of 1 accepted now; 1 still refused');
     expect(fs.existsSync(rejectedPath(ws, 'nvdl_0806.csv'))).toBe(true);
-    expect(fs.readFileSync(rejectedPath(ws, 'nvdl_0806.csv.reason.txt'), 'utf8')).toContain(firstReason.split('\n').find((line) => line.startsWith('code:'))!);
+    expect(fs.readFileSync(rejectedPath(ws, 'nvdl_0806.csv.reason.txt'), 'utf8')).toContain(
+      firstReason.split('\n').find((line) => line.startsWith('code:'))!,
+    );
 
     fs.writeFileSync(path.join(ws.paths.configDir, 'labs', 'northfield.yaml'), GOOD_PROFILE);
     const fixed = await runCli(['retry', '--json', ...ws.cliFlags]);
     expect(fixed.code, fixed.stderr).toBe(0);
-    expect(JSON.parse(fixed.stdout)).toMatchObject([{ status: 'accepted', rows: { accepted: 2 }, sites: ['hollow-creek'] }]);
+    expect(JSON.parse(fixed.stdout)).toMatchObject([
+      { status: 'accepted', rows: { accepted: 2 }, sites: ['hollow-creek'] },
+    ]);
     expect(fs.existsSync(rejectedPath(ws, 'nvdl_0806.csv'))).toBe(false);
     expect(fs.existsSync(rejectedPath(ws, 'nvdl_0806.csv.reason.txt'))).toBe(false);
     expect(fs.existsSync(archivedPath(ws, 'nvdl_0806.csv'))).toBe(true);
     // The outputs now show the positive (Ct 27.5 < the lab's cutoff 36: positive).
-    const summary = JSON.parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03', 'summary.json'), 'utf8'));
-    expect(summary.barns.find((barn: { barnId: string }) => barn.barnId === 'F1').assays[0].positivePens).toEqual(['A1']);
+    const summary = JSON.parse(
+      fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03', 'summary.json'), 'utf8'),
+    );
+    expect(summary.barns.find((barn: { barnId: string }) => barn.barnId === 'F1').assays[0].positivePens).toEqual([
+      'A1',
+    ]);
 
     const nothing = await runCli(['retry', ...ws.cliFlags]);
     expect(nothing.code).toBe(0);
@@ -102,7 +116,10 @@ describe('watch and a changed configuration', () => {
       }
     };
     try {
-      await waitFor(() => fs.existsSync(rejectedPath(ws, 'nvdl_0806.csv')) && fs.existsSync(archivedPath(ws, 'ropes.csv')), 'the sheet stored and the export refused');
+      await waitFor(
+        () => fs.existsSync(rejectedPath(ws, 'nvdl_0806.csv')) && fs.existsSync(archivedPath(ws, 'ropes.csv')),
+        'the sheet stored and the export refused',
+      );
       // A broken edit: told, and the previous configuration stays in force.
       fs.writeFileSync(path.join(ws.paths.configDir, 'labs', 'northfield.yaml'), 'id: [unclosed\n');
       await waitFor(() => stderr.includes('cannot be loaded'), 'the broken configuration reported');

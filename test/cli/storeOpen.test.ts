@@ -19,13 +19,25 @@ import { workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 const workspace = workspacesPerTest();
 
 /** CLI flags with another --db. */
-const withDb = (ws: TestWorkspace, db: string) => ['--config', ws.paths.configDir, '--db', db, '--inbox', ws.paths.inbox, '--outbox', ws.paths.outbox];
+const withDb = (ws: TestWorkspace, db: string) => [
+  '--config',
+  ws.paths.configDir,
+  '--db',
+  db,
+  '--inbox',
+  ws.paths.inbox,
+  '--outbox',
+  ws.paths.outbox,
+];
 
 /** A store holding one rope sheet and one lab export, closed (so its WAL is checkpointed into the file). */
 async function realStore(ws: TestWorkspace): Promise<Buffer> {
   const site = ws.config().siteById.get('HOLLOW-CREEK')!;
   await ws.drop('ropes.csv', ropeSheet(site, [{ sampleId: 'C1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' }]));
-  await ws.drop('nvdl_r.csv', northfieldExport([{ sampleId: 'C1', assay: 'PRRSV', ct: 30, collectedOn: '2026-08-03' }], '2026-08-06', 1));
+  await ws.drop(
+    'nvdl_r.csv',
+    northfieldExport([{ sampleId: 'C1', assay: 'PRRSV', ct: 30, collectedOn: '2026-08-03' }], '2026-08-06', 1),
+  );
   ws.closeStore();
   expect(fs.existsSync(`${ws.paths.dbFile}-wal`)).toBe(false);
   return fs.readFileSync(ws.paths.dbFile);

@@ -18,7 +18,13 @@ describe('an antibody assay in assays.yaml', () => {
   it('loads with measure sp-ratio, its S/P cutoff and its PCR pair; other assays stay Ct by default', () => {
     const config = loadConfig(DEMO_CONFIG_DIR);
     // Kittawornrat et al. 2012: positive at S/P >= 0.4.
-    expect(config.assayById.get('PRRSV-AB')).toMatchObject({ measure: 'sp-ratio', positiveAtOrAbove: 0.4, suspectAtOrAbove: undefined, pairedWith: 'PRRSV', loadBands: [] });
+    expect(config.assayById.get('PRRSV-AB')).toMatchObject({
+      measure: 'sp-ratio',
+      positiveAtOrAbove: 0.4,
+      suspectAtOrAbove: undefined,
+      pairedWith: 'PRRSV',
+      loadBands: [],
+    });
     expect(config.assayById.get('PRRSV')).toMatchObject({ measure: 'ct', positiveBelow: 36 });
     expect(config.labById.get('northfield')!.assays.get('prrsv oral fluid antibody elisa')).toEqual({
       labAssayName: 'PRRSV Oral Fluid Antibody ELISA',
@@ -38,25 +44,59 @@ describe('an antibody assay in assays.yaml', () => {
   });
 
   it('requires positiveAtOrAbove of an S/P assay, and a suspect cutoff at or below it', () => {
-    expect(configError(configEdited('assays.yaml', (doc) => delete doc.assays[antibodyIndex(doc)].positiveAtOrAbove))).toMatchObject({ keyPath: 'assays[2].positiveAtOrAbove' });
-    const above = configError(configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].suspectAtOrAbove = 0.5)));
+    expect(
+      configError(configEdited('assays.yaml', (doc) => delete doc.assays[antibodyIndex(doc)].positiveAtOrAbove)),
+    ).toMatchObject({ keyPath: 'assays[2].positiveAtOrAbove' });
+    const above = configError(
+      configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].suspectAtOrAbove = 0.5)),
+    );
     expect(above).toMatchObject({ keyPath: 'assays[2].suspectAtOrAbove' });
   });
 
   it('reads S/P bands highest first, and refuses Ct bands on an S/P assay', () => {
-    const dir = configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].loadBands = [{ name: 'high', atOrAbove: 2 }, { name: 'moderate', atOrAbove: 1 }]));
-    expect(loadConfig(dir).assayById.get('PRRSV-AB')).toMatchObject({ loadBands: [{ name: 'high', atOrAbove: 2 }, { name: 'moderate', atOrAbove: 1 }] });
-    const rising = configError(configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].loadBands = [{ name: 'moderate', atOrAbove: 1 }, { name: 'high', atOrAbove: 2 }])));
+    const dir = configEdited(
+      'assays.yaml',
+      (doc) =>
+        (doc.assays[antibodyIndex(doc)].loadBands = [
+          { name: 'high', atOrAbove: 2 },
+          { name: 'moderate', atOrAbove: 1 },
+        ]),
+    );
+    expect(loadConfig(dir).assayById.get('PRRSV-AB')).toMatchObject({
+      loadBands: [
+        { name: 'high', atOrAbove: 2 },
+        { name: 'moderate', atOrAbove: 1 },
+      ],
+    });
+    const rising = configError(
+      configEdited(
+        'assays.yaml',
+        (doc) =>
+          (doc.assays[antibodyIndex(doc)].loadBands = [
+            { name: 'moderate', atOrAbove: 1 },
+            { name: 'high', atOrAbove: 2 },
+          ]),
+      ),
+    );
     expect(rising).toMatchObject({ keyPath: 'assays[2].loadBands[1].atOrAbove' });
-    const ctBand = configError(configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].loadBands = [{ name: 'high', below: 25 }])));
+    const ctBand = configError(
+      configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].loadBands = [{ name: 'high', below: 25 }])),
+    );
     expect(ctBand).toMatchObject({ keyPath: 'assays[2].loadBands[0]' });
   });
 
   it('refuses a pair with an unknown assay or with another antibody assay', () => {
-    expect(configError(configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].pairedWith = 'PRRSV2')))).toMatchObject({ keyPath: 'assays[2].pairedWith' });
+    expect(
+      configError(configEdited('assays.yaml', (doc) => (doc.assays[antibodyIndex(doc)].pairedWith = 'PRRSV2'))),
+    ).toMatchObject({ keyPath: 'assays[2].pairedWith' });
     const twoAntibody = configError(
       configEdited('assays.yaml', (doc) => {
-        doc.assays.push({ ...doc.assays[antibodyIndex(doc)], id: 'IAV-AB', name: 'IAV antibody ELISA', pairedWith: undefined });
+        doc.assays.push({
+          ...doc.assays[antibodyIndex(doc)],
+          id: 'IAV-AB',
+          name: 'IAV antibody ELISA',
+          pairedWith: undefined,
+        });
         doc.assays[antibodyIndex(doc)].pairedWith = 'IAV-AB';
       }),
     );
@@ -65,30 +105,57 @@ describe('an antibody assay in assays.yaml', () => {
   });
 
   it('refuses an antibody assay without a rope sensitivity of its own: the PCR default does not apply', () => {
-    const error = configError(configEdited('sites.yaml', (doc) => delete doc.programDefaults.ropeSensitivity['PRRSV-AB']));
+    const error = configError(
+      configEdited('sites.yaml', (doc) => delete doc.programDefaults.ropeSensitivity['PRRSV-AB']),
+    );
     expect(error.file.endsWith('sites.yaml')).toBe(true);
     expect(error.keyPath).toBe('programDefaults.ropeSensitivity.PRRSV-AB');
     // A single number for every assay is no rope sensitivity of its own either.
-    expect(configError(configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity = 0.85))).keyPath).toBe('programDefaults.ropeSensitivity.PRRSV-AB');
+    expect(configError(configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity = 0.85))).keyPath).toBe(
+      'programDefaults.ropeSensitivity.PRRSV-AB',
+    );
   });
 });
 
 describe('an antibody assay in a lab profile', () => {
   it("takes the lab's own S/P cutoff over the assay's (a program at S/P >= 1.0, Henao-Diaz et al. 2021)", () => {
-    const dir = configEdited('labs/northfield.yaml', (lab) => (lab.assays['PRRSV Oral Fluid Antibody ELISA'] = { assay: 'PRRSV-AB', positiveAtOrAbove: 1.0, suspectAtOrAbove: 0.4 }));
-    expect(loadConfig(dir).labById.get('northfield')!.assays.get('prrsv oral fluid antibody elisa')).toMatchObject({ positiveAtOrAbove: 1.0, suspectAtOrAbove: 0.4 });
+    const dir = configEdited(
+      'labs/northfield.yaml',
+      (lab) =>
+        (lab.assays['PRRSV Oral Fluid Antibody ELISA'] = {
+          assay: 'PRRSV-AB',
+          positiveAtOrAbove: 1.0,
+          suspectAtOrAbove: 0.4,
+        }),
+    );
+    expect(loadConfig(dir).labById.get('northfield')!.assays.get('prrsv oral fluid antibody elisa')).toMatchObject({
+      positiveAtOrAbove: 1.0,
+      suspectAtOrAbove: 0.4,
+    });
   });
 
   it('refuses Ct cutoffs on a mapping to an S/P assay, which would be read the wrong way round', () => {
-    const error = configError(configEdited('labs/northfield.yaml', (lab) => (lab.assays['PRRSV Oral Fluid Antibody ELISA'] = { assay: 'PRRSV-AB', positiveBelow: 0.4 })));
+    const error = configError(
+      configEdited(
+        'labs/northfield.yaml',
+        (lab) => (lab.assays['PRRSV Oral Fluid Antibody ELISA'] = { assay: 'PRRSV-AB', positiveBelow: 0.4 }),
+      ),
+    );
     expect(error.file.endsWith('northfield.yaml')).toBe(true);
     expect(error.keyPath).toBe('assays.PRRSV Oral Fluid Antibody ELISA.positiveBelow');
-    const ctWithSp = configError(configEdited('labs/northfield.yaml', (lab) => (lab.assays['PRRSV NA/EU RT-PCR'].positiveAtOrAbove = 0.4)));
+    const ctWithSp = configError(
+      configEdited('labs/northfield.yaml', (lab) => (lab.assays['PRRSV NA/EU RT-PCR'].positiveAtOrAbove = 0.4)),
+    );
     expect(ctWithSp.keyPath).toBe('assays.PRRSV NA/EU RT-PCR.positiveAtOrAbove');
   });
 
   it('refuses a suspect cutoff above the positive one', () => {
-    const error = configError(configEdited('labs/northfield.yaml', (lab) => (lab.assays['PRRSV Oral Fluid Antibody ELISA'] = { assay: 'PRRSV-AB', suspectAtOrAbove: 0.6 })));
+    const error = configError(
+      configEdited(
+        'labs/northfield.yaml',
+        (lab) => (lab.assays['PRRSV Oral Fluid Antibody ELISA'] = { assay: 'PRRSV-AB', suspectAtOrAbove: 0.6 }),
+      ),
+    );
     expect(error.keyPath).toBe('assays.PRRSV Oral Fluid Antibody ELISA');
   });
 

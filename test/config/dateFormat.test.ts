@@ -39,7 +39,16 @@ describe('dateFormatProblem', () => {
   });
 
   it('accepts the formats labs write (common practice, no source), including the ones the code uses itself', () => {
-    for (const format of ['yyyy-MM-dd', 'dd.MM.yyyy', 'd.M.yyyy', 'MM/dd/yyyy', 'd/M/yy', 'dd-MMM-yyyy', 'yyyyMMdd', 'dd.MM.yyyy HH:mm']) {
+    for (const format of [
+      'yyyy-MM-dd',
+      'dd.MM.yyyy',
+      'd.M.yyyy',
+      'MM/dd/yyyy',
+      'd/M/yy',
+      'dd-MMM-yyyy',
+      'yyyyMMdd',
+      'dd.MM.yyyy HH:mm',
+    ]) {
       expect(dateFormatProblem(format), format).toBeUndefined();
     }
     // What a format that passes reads at ingest (hand-checked).

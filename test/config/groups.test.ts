@@ -28,7 +28,12 @@ describe('barn groups in sites.yaml', () => {
 
   it('refuses a close-out before the placement, at the key path of closedOn', () => {
     const error = configError(withGroups([{ id: 'G1', placedOn: '2026-03-10', closedOn: '2026-03-01' }]));
-    expect(error.problems).toContainEqual(expect.objectContaining({ keyPath: 'sites[0].barns[0].groups[0].closedOn', detail: expect.stringContaining("before the group's placement") }));
+    expect(error.problems).toContainEqual(
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].groups[0].closedOn',
+        detail: expect.stringContaining("before the group's placement"),
+      }),
+    );
   });
 
   it('refuses overlapping groups at the later placement, and a same-day close-out and placement', () => {
@@ -38,7 +43,12 @@ describe('barn groups in sites.yaml', () => {
         { id: 'G2', placedOn: '2026-04-01', closedOn: '2026-08-01' },
       ]),
     );
-    expect(overlap.problems).toContainEqual(expect.objectContaining({ keyPath: 'sites[0].barns[0].groups[1].placedOn', detail: expect.stringContaining('overlaps group G1') }));
+    expect(overlap.problems).toContainEqual(
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].groups[1].placedOn',
+        detail: expect.stringContaining('overlaps group G1'),
+      }),
+    );
     // One day cannot belong to two groups: placement on the close-out day is an overlap too.
     const sameDay = configError(
       withGroups([
@@ -56,7 +66,12 @@ describe('barn groups in sites.yaml', () => {
         { id: 'G2', placedOn: '2026-05-04' },
       ]),
     );
-    expect(open.problems).toContainEqual(expect.objectContaining({ keyPath: 'sites[0].barns[0].groups[0].closedOn', detail: expect.stringContaining('is missing') }));
+    expect(open.problems).toContainEqual(
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].groups[0].closedOn',
+        detail: expect.stringContaining('is missing'),
+      }),
+    );
     const twice = configError(
       withGroups([
         { id: 'G1', placedOn: '2026-01-05', closedOn: '2026-02-01' },
@@ -68,9 +83,19 @@ describe('barn groups in sites.yaml', () => {
 
   it('refuses a date that is not yyyy-MM-dd or not a calendar day (2026 is no leap year; Gregorian calendar)', () => {
     const written = configError(withGroups([{ id: 'G1', placedOn: '5.1.2026' }]));
-    expect(written.problems).toContainEqual(expect.objectContaining({ keyPath: 'sites[0].barns[0].groups[0].placedOn', detail: expect.stringContaining('yyyy-MM-dd') }));
+    expect(written.problems).toContainEqual(
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].groups[0].placedOn',
+        detail: expect.stringContaining('yyyy-MM-dd'),
+      }),
+    );
     const noDay = configError(withGroups([{ id: 'G1', placedOn: '2026-02-29' }]));
-    expect(noDay.problems).toContainEqual(expect.objectContaining({ keyPath: 'sites[0].barns[0].groups[0].placedOn', detail: expect.stringContaining('not a day of the calendar') }));
+    expect(noDay.problems).toContainEqual(
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].groups[0].placedOn',
+        detail: expect.stringContaining('not a day of the calendar'),
+      }),
+    );
     // 2028 is a leap year (divisible by 4, not a century): 29 February loads.
     expect(() => loadConfig(withGroups([{ id: 'G1', placedOn: '2028-02-29' }]))).not.toThrow();
   });

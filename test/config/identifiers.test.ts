@@ -7,7 +7,13 @@
  */
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
-import { folderNameProblem, INDEX_PAGE, matchKey, MAX_FOLDER_ID_LENGTH, RECEIPTS_FOLDER } from '../../src/config/names.js';
+import {
+  folderNameProblem,
+  INDEX_PAGE,
+  matchKey,
+  MAX_FOLDER_ID_LENGTH,
+  RECEIPTS_FOLDER,
+} from '../../src/config/names.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { canonicalPenKey, locationFromPattern } from '../../src/ingest/rows.js';
 import { foldToken } from '../../src/util/fold.js';
@@ -30,37 +36,56 @@ describe('names that collide', () => {
   });
 
   it('still refuses a site id used twice, at the second', () => {
-    expect(configError(configEdited('sites.yaml', (doc) => (doc.sites[1].id = 'hollow-creek')))).toMatchObject({ keyPath: 'sites[1].id' });
+    expect(configError(configEdited('sites.yaml', (doc) => (doc.sites[1].id = 'hollow-creek')))).toMatchObject({
+      keyPath: 'sites[1].id',
+    });
   });
 
   it('refuses barns F1 and f1, and a barn name that is another barn’s id', () => {
-    expect(configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[1].id = 'f1')))).toMatchObject({ keyPath: 'sites[0].barns[1].id' });
+    expect(configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[1].id = 'f1')))).toMatchObject({
+      keyPath: 'sites[0].barns[1].id',
+    });
     const named = configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[2].name = 'F2')));
     expect(named).toMatchObject({ keyPath: 'sites[0].barns[2].name' });
     expect(named.detail).toContain('"F2" at sites[0].barns[1].id');
     // Two barn names that fold alike ("Finisher 1" written with two spaces).
-    expect(configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[1].name = 'finisher  1')))).toMatchObject({ keyPath: 'sites[0].barns[1].name' });
+    expect(
+      configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[1].name = 'finisher  1'))),
+    ).toMatchObject({ keyPath: 'sites[0].barns[1].name' });
   });
 
   it('refuses row labels A and a, and labels whose pens share a key (A01 and A1)', () => {
     // Barn F3 of the demo: two rows labelled N and S, no pen listed as empty or out of use.
-    const rows = configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[2].layout.rowLabels = ['N', 'n'])));
+    const rows = configError(
+      configEdited('sites.yaml', (doc) => (doc.sites[0].barns[2].layout.rowLabels = ['N', 'n'])),
+    );
     expect(rows).toMatchObject({ keyPath: 'sites[0].barns[2].layout.rowLabels[1]' });
     // Hand-checked: row A0's first pen is A01, row A's is A1; canonicalPenKey reads both as A1.
     expect(canonicalPenKey('A01')).toBe(canonicalPenKey('A1'));
-    const pens = configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[2].layout.rowLabels = ['A', 'A0'])));
+    const pens = configError(
+      configEdited('sites.yaml', (doc) => (doc.sites[0].barns[2].layout.rowLabels = ['A', 'A0'])),
+    );
     expect(pens).toMatchObject({ keyPath: 'sites[0].barns[2].layout.rowLabels[1]' });
     expect(pens.detail).toContain('pens A1 and A01 are the same pen');
   });
 
   it('refuses a head count for a pen the layout does not have', () => {
-    const error = configError(configEdited('sites.yaml', (doc) => (doc.sites[0].barns[0].layout.headCount = { default: 26, pens: { a01: 20 } })));
+    const error = configError(
+      configEdited(
+        'sites.yaml',
+        (doc) => (doc.sites[0].barns[0].layout.headCount = { default: 26, pens: { a01: 20 } }),
+      ),
+    );
     expect(error).toMatchObject({ keyPath: 'sites[0].barns[0].layout.headCount.pens.a01' });
   });
 
   it('refuses two lab assay names that fold alike', () => {
     const error = configError(
-      configEdited('labs/northfield.yaml', (lab) => (lab.assays['prrsv na/eu  rt-pcr'] = { assay: 'PRRSV', positiveBelow: 30, suspectBelow: 35, cycleLimit: 40 })),
+      configEdited(
+        'labs/northfield.yaml',
+        (lab) =>
+          (lab.assays['prrsv na/eu  rt-pcr'] = { assay: 'PRRSV', positiveBelow: 30, suspectBelow: 35, cycleLimit: 40 }),
+      ),
     );
     expect(error.file.endsWith('northfield.yaml')).toBe(true);
     expect(error.keyPath).toBe('assays.prrsv na/eu  rt-pcr');
@@ -71,24 +96,39 @@ describe('names that collide', () => {
       configEdited('assays.yaml', (doc) => doc.assays.push({ ...doc.assays[0], id: 'prrsv' })),
     );
     expect(assays).toMatchObject({ keyPath: 'assays[3].id' });
-    const labs = configError(configWith({ 'labs/westfield.yaml': demoText('labs/northfield.yaml').replace('id: northfield', 'id: Northfield') }));
+    const labs = configError(
+      configWith({
+        'labs/westfield.yaml': demoText('labs/northfield.yaml').replace('id: northfield', 'id: Northfield'),
+      }),
+    );
     expect(labs.file.endsWith('westfield.yaml')).toBe(true);
     expect(labs.keyPath).toBe('id');
   });
 
   it('refuses a rope sensitivity keyed by an assay id that is not in assays.yaml', () => {
     // perAssayValue looks assays up by exact id: "prrsv" would silently leave the default in force.
-    const error = configError(configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity = { default: 0.85, prrsv: 0.9 })));
+    const error = configError(
+      configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity = { default: 0.85, prrsv: 0.9 })),
+    );
     expect(error).toMatchObject({ keyPath: 'programDefaults.ropeSensitivity.prrsv' });
     expect(error.detail).toContain('write PRRSV');
-    const ageGroup = configError(configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity.PRRSV = { default: 0.85, Nursery: 0.9 })));
+    const ageGroup = configError(
+      configEdited(
+        'sites.yaml',
+        (doc) => (doc.programDefaults.ropeSensitivity.PRRSV = { default: 0.85, Nursery: 0.9 }),
+      ),
+    );
     expect(ageGroup).toMatchObject({ keyPath: 'programDefaults.ropeSensitivity.PRRSV.Nursery' });
   });
 
   it('keeps the demo, and matching through the loaded maps, as before', () => {
     const config = loadConfig(DEMO_CONFIG_DIR);
     expect(config.siteById.get(matchKey('Tamsin-Ridge'))?.id).toBe('tamsin-ridge');
-    expect(locationFromPattern('TR-N1-07-20260805', config.sites, undefined)).toMatchObject({ siteId: 'tamsin-ridge', barnId: 'N1', penId: '7' });
+    expect(locationFromPattern('TR-N1-07-20260805', config.sites, undefined)).toMatchObject({
+      siteId: 'tamsin-ridge',
+      barnId: 'N1',
+      penId: '7',
+    });
   });
 });
 
@@ -116,7 +156,9 @@ describe('site ids as folder names', () => {
 
   it('refuses ids over 64 characters and accepts 64', () => {
     expect(refused('s'.repeat(MAX_FOLDER_ID_LENGTH + 1))).toMatchObject({ keyPath: 'sites[0].id' });
-    const config = loadConfig(configEdited('sites.yaml', (doc) => (doc.sites[0].id = 's'.repeat(MAX_FOLDER_ID_LENGTH))));
+    const config = loadConfig(
+      configEdited('sites.yaml', (doc) => (doc.sites[0].id = 's'.repeat(MAX_FOLDER_ID_LENGTH))),
+    );
     expect(config.sites[0]!.id).toHaveLength(64);
   });
 

@@ -27,7 +27,9 @@ describe('lab words', () => {
   });
 
   it("takes a lab's own words per class, keeping the English words for a class it leaves out", () => {
-    const dir = configWith({ 'labs/ostermark.yaml': ostermark.replace(/callWords:\n( {2}.*\n)+/, 'callWords:\n  positive: [positiv]\n') });
+    const dir = configWith({
+      'labs/ostermark.yaml': ostermark.replace(/callWords:\n( {2}.*\n)+/, 'callWords:\n  positive: [positiv]\n'),
+    });
     const lab = loadConfig(dir).labById.get('ostermark')!;
     expect(lab.callWords.positive).toEqual(['positiv']);
     expect(lab.callWords.negative).toEqual(DEFAULT_CALL_WORDS.negative);
@@ -37,15 +39,30 @@ describe('lab words', () => {
 
   it('refuses one word with two meanings, naming where each comes from', () => {
     // "negativ" as a positive word beside "negativ" as a negative one (case and accents ignored).
-    const twoCalls = configWith({ 'labs/ostermark.yaml': ostermark.replace('positive: [positiv]', 'positive: [positiv, NEGATIV]') });
+    const twoCalls = configWith({
+      'labs/ostermark.yaml': ostermark.replace('positive: [positiv]', 'positive: [positiv, NEGATIV]'),
+    });
     const error = configError(twoCalls);
-    expect(error).toMatchObject({ file: path.join(twoCalls, 'labs', 'ostermark.yaml'), keyPath: 'callWords.negative[0]' });
+    expect(error).toMatchObject({
+      file: path.join(twoCalls, 'labs', 'ostermark.yaml'),
+      keyPath: 'callWords.negative[0]',
+    });
     expect(error.detail).toMatch(/means call positive at callWords\.positive\[1\]/);
     // A control-failure word that the lab also uses as a negative call.
-    const controlNegative = configWith({ 'labs/ostermark.yaml': ostermark.replace('controlFailedTokens: [ungültig, fehlerhaft]', 'controlFailedTokens: [ungültig, fehlerhaft, negativ]') });
+    const controlNegative = configWith({
+      'labs/ostermark.yaml': ostermark.replace(
+        'controlFailedTokens: [ungültig, fehlerhaft]',
+        'controlFailedTokens: [ungültig, fehlerhaft, negativ]',
+      ),
+    });
     expect(configError(controlNegative)).toMatchObject({ keyPath: 'callWords.negative[0]' });
     // A status word against an English default call word.
-    const statusCall = configWith({ 'labs/northfield.yaml': northfield.replace('reissueTokens: [Corrected, Amended]', 'reissueTokens: [Corrected, Amended]\nstatusWords:\n  final: [Final, Negative]\n') });
+    const statusCall = configWith({
+      'labs/northfield.yaml': northfield.replace(
+        'reissueTokens: [Corrected, Amended]',
+        'reissueTokens: [Corrected, Amended]\nstatusWords:\n  final: [Final, Negative]\n',
+      ),
+    });
     const defaultClash = configError(statusCall);
     expect(defaultClash.keyPath).toBe('statusWords.final[1]');
     expect(defaultClash.detail).toMatch(/English default "negative"/);
@@ -57,7 +74,12 @@ describe('lab words', () => {
   });
 
   it('refuses a word with no letter or digit, which could never be found in a cell', () => {
-    const dir = configWith({ 'labs/northfield.yaml': northfield.replace('controlFailedTokens: [FAIL, Failed]', "controlFailedTokens: [FAIL, '--']") });
+    const dir = configWith({
+      'labs/northfield.yaml': northfield.replace(
+        'controlFailedTokens: [FAIL, Failed]',
+        "controlFailedTokens: [FAIL, '--']",
+      ),
+    });
     expect(configError(dir)).toMatchObject({ keyPath: 'controlFailedTokens[1]' });
   });
 });
@@ -72,7 +94,9 @@ describe('config/corrections.yaml', () => {
     const dir = configWith({
       'corrections.yaml': `sampleIds:\n  - written: ' ${written.toLowerCase()} '\n    meant: ${meant.toLowerCase()}\n    file: nvdl_results_2026-08-20.csv\n    line: 14\n    note: confirmed with the lab by phone\n`,
     });
-    expect(loadConfig(dir).corrections).toEqual([{ written, meant, file: 'nvdl_results_2026-08-20.csv', line: 14, note: 'confirmed with the lab by phone' }]);
+    expect(loadConfig(dir).corrections).toEqual([
+      { written, meant, file: 'nvdl_results_2026-08-20.csv', line: 14, note: 'confirmed with the lab by phone' },
+    ]);
   });
 
   it('refuses a meant planned ID with a wrong check character, a line without its file, and a correction to itself', () => {
@@ -80,8 +104,17 @@ describe('config/corrections.yaml', () => {
     const error = configError(wrongCheck);
     expect(error).toMatchObject({ file: path.join(wrongCheck, 'corrections.yaml'), keyPath: 'sampleIds[0].meant' });
     expect(error.detail).toMatch(/check character/);
-    expect(configError(configWith({ 'corrections.yaml': `sampleIds:\n  - written: ${written}\n    meant: ${meant}\n    line: 3\n` }))).toMatchObject({ keyPath: 'sampleIds[0].line' });
-    expect(configError(configWith({ 'corrections.yaml': `sampleIds:\n  - written: ${meant}\n    meant: ' ${meant}'\n` }))).toMatchObject({ keyPath: 'sampleIds[0].meant' });
-    expect(configError(configWith({ 'corrections.yaml': `sampleIds:\n  - written: ${written}\n    mean: ${meant}\n` })).keyPath).toMatch(/^sampleIds\[0\]/);
+    expect(
+      configError(
+        configWith({ 'corrections.yaml': `sampleIds:\n  - written: ${written}\n    meant: ${meant}\n    line: 3\n` }),
+      ),
+    ).toMatchObject({ keyPath: 'sampleIds[0].line' });
+    expect(
+      configError(configWith({ 'corrections.yaml': `sampleIds:\n  - written: ${meant}\n    meant: ' ${meant}'\n` })),
+    ).toMatchObject({ keyPath: 'sampleIds[0].meant' });
+    expect(
+      configError(configWith({ 'corrections.yaml': `sampleIds:\n  - written: ${written}\n    mean: ${meant}\n` }))
+        .keyPath,
+    ).toMatch(/^sampleIds\[0\]/);
   });
 });

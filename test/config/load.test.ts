@@ -36,7 +36,11 @@ describe('loadConfig', () => {
     expect(Object.isFrozen(config)).toBe(true);
     // Site overrides merge over the program defaults.
     const tamsin = config.siteById.get('TAMSIN-RIDGE')!;
-    expect(tamsin.program).toMatchObject({ designPrevalence: { kind: 'proportion', value: 0.2 }, intervalDays: 21, roundWindowDays: 3 });
+    expect(tamsin.program).toMatchObject({
+      designPrevalence: { kind: 'proportion', value: 0.2 },
+      intervalDays: 21,
+      roundWindowDays: 3,
+    });
     // Per assay and age group, falling back to the assay's then the program's default.
     const sensitivity = tamsin.program.ropeSensitivity;
     expect(perAssayValue(sensitivity, 'PRRSV', 'nursery')).toBe(0.9);
@@ -45,7 +49,9 @@ describe('loadConfig', () => {
   });
 
   it('names the file and the key path of a value outside its schema', () => {
-    const dir = configWith({ 'sites.yaml': demoSites.replace('rows: 2\n          pensPerRow: 24', 'rows: 7\n          pensPerRow: 24') });
+    const dir = configWith({
+      'sites.yaml': demoSites.replace('rows: 2\n          pensPerRow: 24', 'rows: 7\n          pensPerRow: 24'),
+    });
     const error = configError(dir);
     expect(error.file).toBe(path.join(dir, 'sites.yaml'));
     expect(error.keyPath).toBe('sites[0].barns[1].layout.rows');
@@ -64,7 +70,12 @@ describe('loadConfig', () => {
   });
 
   it('refuses lab cutoffs out of order', () => {
-    const dir = configWith({ 'labs/northfield.yaml': demoNorthfield.replace('positiveBelow: 36, suspectBelow: 40', 'positiveBelow: 39, suspectBelow: 37') });
+    const dir = configWith({
+      'labs/northfield.yaml': demoNorthfield.replace(
+        'positiveBelow: 36, suspectBelow: 40',
+        'positiveBelow: 39, suspectBelow: 37',
+      ),
+    });
     expect(configError(dir).detail).toContain('positiveBelow <= suspectBelow');
   });
 

@@ -16,16 +16,27 @@ const withSites = (text: string) => workspace({ configFiles: { 'sites.yaml': tex
 
 describe('monitoring settings', () => {
   it('defaults to 2 negative rounds and 4 tracking ropes', () => {
-    expect(loadConfig(withSites(demoSites)).sites[0]!.program).toMatchObject({ clearAfterNegativeRounds: 2, trackingRopes: 4 });
+    expect(loadConfig(withSites(demoSites)).sites[0]!.program).toMatchObject({
+      clearAfterNegativeRounds: 2,
+      trackingRopes: 4,
+    });
   });
 
   it('takes the program values, an explicit 0 tracking ropes included', () => {
-    const text = demoSites.replace('followUpRadius: 1.5', 'followUpRadius: 1.5\n  clearAfterNegativeRounds: 3\n  trackingRopes: 0');
-    expect(loadConfig(withSites(text)).sites[0]!.program).toMatchObject({ clearAfterNegativeRounds: 3, trackingRopes: 0 });
+    const text = demoSites.replace(
+      'followUpRadius: 1.5',
+      'followUpRadius: 1.5\n  clearAfterNegativeRounds: 3\n  trackingRopes: 0',
+    );
+    expect(loadConfig(withSites(text)).sites[0]!.program).toMatchObject({
+      clearAfterNegativeRounds: 3,
+      trackingRopes: 0,
+    });
   });
 
   it('refuses 0 rounds to clear, naming the file and key path', () => {
-    const dir = withSites(demoSites.replace('followUpRadius: 1.5', 'followUpRadius: 1.5\n  clearAfterNegativeRounds: 0'));
+    const dir = withSites(
+      demoSites.replace('followUpRadius: 1.5', 'followUpRadius: 1.5\n  clearAfterNegativeRounds: 0'),
+    );
     let error: unknown;
     try {
       loadConfig(dir);

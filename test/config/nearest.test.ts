@@ -38,11 +38,13 @@ describe('damerauLevenshtein', () => {
     const alphabet = ['a', 'b', 'c'];
     const strings: string[] = [''];
     for (let length = 1; length <= 3; length++) {
-      for (const prefix of strings.filter((s) => s.length === length - 1)) for (const letter of alphabet) strings.push(prefix + letter);
+      for (const prefix of strings.filter((s) => s.length === length - 1))
+        for (const letter of alphabet) strings.push(prefix + letter);
     }
     const neighbours = (s: string): string[] => {
       const out: string[] = [];
-      for (let i = 0; i <= s.length; i++) for (const letter of alphabet) if (s.length < 5) out.push(s.slice(0, i) + letter + s.slice(i));
+      for (let i = 0; i <= s.length; i++)
+        for (const letter of alphabet) if (s.length < 5) out.push(s.slice(0, i) + letter + s.slice(i));
       for (let i = 0; i < s.length; i++) {
         out.push(s.slice(0, i) + s.slice(i + 1));
         for (const letter of alphabet) if (letter !== s[i]) out.push(s.slice(0, i) + letter + s.slice(i + 1));
@@ -75,7 +77,15 @@ describe('damerauLevenshtein', () => {
 });
 
 describe('nearestNames', () => {
-  const programKeys = ['designPrevalence', 'targetConfidence', 'ropeSensitivity', 'ropeSpecificity', 'roundWindowDays', 'intervalDays', 'priorFreedom'];
+  const programKeys = [
+    'designPrevalence',
+    'targetConfidence',
+    'ropeSensitivity',
+    'ropeSpecificity',
+    'roundWindowDays',
+    'intervalDays',
+    'priorFreedom',
+  ];
 
   it('names the key one slip away, ignoring case', () => {
     expect(nearestNames('designPrevalance', programKeys)).toEqual(['designPrevalence']);

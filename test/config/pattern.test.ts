@@ -5,9 +5,19 @@
  */
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
-import { compileConfiguredPattern, compilePatternSet, PatternSyntaxError, revivePattern } from '../../src/config/pattern.js';
+import {
+  compileConfiguredPattern,
+  compilePatternSet,
+  PatternSyntaxError,
+  revivePattern,
+} from '../../src/config/pattern.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { HOLLOW_CREEK_ROUNDS, TAMSIN_RIDGE_ROUNDS, hollowCreekRound, tamsinRidgeRound } from '../../src/demo/scenario.js';
+import {
+  HOLLOW_CREEK_ROUNDS,
+  TAMSIN_RIDGE_ROUNDS,
+  hollowCreekRound,
+  tamsinRidgeRound,
+} from '../../src/demo/scenario.js';
 import { locationFromPattern } from '../../src/ingest/rows.js';
 import { configCases, configError, demoText } from './configCases.js';
 
@@ -51,13 +61,20 @@ describe('compileConfiguredPattern', () => {
     // code path (locationFromPattern) with an ID that matches no split.
     const demo = "'^TR-(?<barn>N[12])-(?<pen>\\d{1,2})-(?<date>\\d{8})$'";
     expect(demoText('sites.yaml')).toContain(demo);
-    const dir = configWith({ 'sites.yaml': demoText('sites.yaml').replace(demo, () => "'^(?<barn>(N+)+1)-(?<pen>\\d+)$'") });
+    const dir = configWith({
+      'sites.yaml': demoText('sites.yaml').replace(demo, () => "'^(?<barn>(N+)+1)-(?<pen>\\d+)$'"),
+    });
     const config = loadConfig(dir);
     const started = performance.now();
     expect(locationFromPattern(`${'N'.repeat(33)}!`, config.sites, '2026-08-05')).toBeUndefined();
     expect(performance.now() - started).toBeLessThan(2000);
     // Hand-checked: N1-7 is barn N1, pen 7 of Tamsin Ridge.
-    expect(locationFromPattern('N1-7', config.sites, '2026-08-05')).toMatchObject({ siteId: 'tamsin-ridge', barnId: 'N1', penId: '7', hungOn: '2026-08-05' });
+    expect(locationFromPattern('N1-7', config.sites, '2026-08-05')).toMatchObject({
+      siteId: 'tamsin-ridge',
+      barnId: 'N1',
+      penId: '7',
+      hungOn: '2026-08-05',
+    });
   });
 
   it('gives named groups, case-insensitively, and undefined for a group that took no part', () => {
@@ -94,7 +111,10 @@ describe('compilePatternSet', () => {
     // Oracle: each pattern's own test(). Patterns: the generated sites' shape (test/helpers/
     // hardening.ts), the demo's, an unanchored one, an alternation, one anchored at the end only.
     const sources = [
-      ...Array.from({ length: 12 }, (_, i) => `^G${String(i + 1).padStart(3, '0')}-(?<barn>B\\d+)-(?<pen>\\d{1,3})-(?<date>\\d{8})$`),
+      ...Array.from(
+        { length: 12 },
+        (_, i) => `^G${String(i + 1).padStart(3, '0')}-(?<barn>B\\d+)-(?<pen>\\d{1,3})-(?<date>\\d{8})$`,
+      ),
       '^TR-(?<barn>N[12])-(?<pen>\\d{1,2})-(?<date>\\d{8})$',
       '(?<barn>N\\d)/(?<pen>\\d+)',
       '^(?:west|east)-(?<barn>\\w+)-(?<pen>\\d+)$',
@@ -104,18 +124,34 @@ describe('compilePatternSet', () => {
     const patterns = sources.map((source) => compileConfiguredPattern(source));
     const set = compilePatternSet(patterns);
     const texts = [
-      'G001-B1-7-20260805', 'g012-b4-250-20260805', 'G013-B1-7-20260805', 'G001-B1-7-2026080', 'xG001-B1-7-20260805',
-      'TR-N1-07-20260805', 'tr-n2-3-20260805', 'a N1/4 b', 'WEST-F1-3', 'north-F1-3', 'lab-X1', 'lab-X12',
-      HOSTILE_ID, 'aaaa', '', 'HCF08-0146',
+      'G001-B1-7-20260805',
+      'g012-b4-250-20260805',
+      'G013-B1-7-20260805',
+      'G001-B1-7-2026080',
+      'xG001-B1-7-20260805',
+      'TR-N1-07-20260805',
+      'tr-n2-3-20260805',
+      'a N1/4 b',
+      'WEST-F1-3',
+      'north-F1-3',
+      'lab-X1',
+      'lab-X12',
+      HOSTILE_ID,
+      'aaaa',
+      '',
+      'HCF08-0146',
     ];
     for (const text of texts) {
       const expected = patterns.flatMap((pattern, index) => (pattern.test(text) ? [index] : []));
-      expect([...set.matching(text)].sort((a, b) => a - b), text).toEqual(expected);
+      expect(
+        [...set.matching(text)].sort((a, b) => a - b),
+        text,
+      ).toEqual(expected);
     }
     expect(compilePatternSet([]).matching('anything')).toEqual([]);
   });
 
-  it('places an ID that two sites\' patterns match in the site that has the barn and pen', () => {
+  it("places an ID that two sites' patterns match in the site that has the barn and pen", () => {
     // Both sites take any X-<barn>-<pen>; only Hollow Creek has barn F1 (pen A3), only Tamsin
     // Ridge barn N1 (pen 7): the demo layouts, hand-checked.
     const generic = "'^X-(?<barn>\\w+)-(?<pen>\\w+)$'";
@@ -123,10 +159,25 @@ describe('compilePatternSet', () => {
       .replace('    code: HCF\n', () => `    code: HCF\n    samplePattern: ${generic}\n`)
       .replace("'^TR-(?<barn>N[12])-(?<pen>\\d{1,2})-(?<date>\\d{8})$'", () => generic);
     const config = loadConfig(configWith({ 'sites.yaml': sites }));
-    expect(config.sites.map((site) => site.samplePattern?.source)).toEqual([generic.slice(1, -1), generic.slice(1, -1)]);
-    expect(locationFromPattern('X-F1-A3', config.sites, '2026-08-05')).toMatchObject({ siteId: 'hollow-creek', barnId: 'F1', penId: 'A3' });
-    expect(locationFromPattern('X-N1-7', config.sites, '2026-08-05')).toMatchObject({ siteId: 'tamsin-ridge', barnId: 'N1', penId: '7' });
-    expect(locationFromPattern('x-f1-a03', config.sites, '2026-08-05')).toMatchObject({ siteId: 'hollow-creek', barnId: 'F1', penId: 'A3' });
+    expect(config.sites.map((site) => site.samplePattern?.source)).toEqual([
+      generic.slice(1, -1),
+      generic.slice(1, -1),
+    ]);
+    expect(locationFromPattern('X-F1-A3', config.sites, '2026-08-05')).toMatchObject({
+      siteId: 'hollow-creek',
+      barnId: 'F1',
+      penId: 'A3',
+    });
+    expect(locationFromPattern('X-N1-7', config.sites, '2026-08-05')).toMatchObject({
+      siteId: 'tamsin-ridge',
+      barnId: 'N1',
+      penId: '7',
+    });
+    expect(locationFromPattern('x-f1-a03', config.sites, '2026-08-05')).toMatchObject({
+      siteId: 'hollow-creek',
+      barnId: 'F1',
+      penId: 'A3',
+    });
     expect(locationFromPattern('X-Q9-1', config.sites, '2026-08-05')).toBeUndefined();
   });
 });
@@ -140,7 +191,12 @@ describe('patterns at load', () => {
   });
 
   it('refuses a file-name pattern with a backreference at its key path', () => {
-    const dir = configWith({ 'labs/northfield.yaml': demoText('labs/northfield.yaml').replace("fileNamePattern: '^nvdl_'", "fileNamePattern: '^(nv)dl_\\1'") });
+    const dir = configWith({
+      'labs/northfield.yaml': demoText('labs/northfield.yaml').replace(
+        "fileNamePattern: '^nvdl_'",
+        "fileNamePattern: '^(nv)dl_\\1'",
+      ),
+    });
     const error = configError(dir);
     expect(error.file.endsWith('northfield.yaml')).toBe(true);
     expect(error.keyPath).toBe('fileNamePattern');
@@ -156,8 +212,16 @@ describe('patterns at load', () => {
       ...TAMSIN_RIDGE_ROUNDS.flatMap((_, round) => tamsinRidgeRound(config, round, [])),
     ];
     const names = [...drops.map((drop) => drop.name), 'NVDL_upper.csv', 'x_nvdl_.csv', 'oahl.csv', 'OAHL_befund.csv'];
-    const cells = new Set(drops.flatMap((drop) => drop.bytes.toString('latin1').split(/[\n;,]/).map((cell) => cell.trim())));
-    for (const variant of ['tr-n1-07-20260805', 'TR-N3-07-20260805', 'TR-N1-7-2026080', 'xTR-N1-07-20260805']) cells.add(variant);
+    const cells = new Set(
+      drops.flatMap((drop) =>
+        drop.bytes
+          .toString('latin1')
+          .split(/[\n;,]/)
+          .map((cell) => cell.trim()),
+      ),
+    );
+    for (const variant of ['tr-n1-07-20260805', 'TR-N3-07-20260805', 'TR-N1-7-2026080', 'xTR-N1-07-20260805'])
+      cells.add(variant);
     let located = 0;
     for (const lab of config.labs) {
       const native = new RegExp(lab.fileNamePattern!.source, 'i');

@@ -45,7 +45,11 @@ describe('unknown keys', () => {
     const error = configError(dir);
     // designPrevalance -> designPrevalence: one substitution (a -> e), by hand.
     expect(error.problems).toEqual([
-      { file: path.join(dir, 'sites.yaml'), keyPath: 'programDefaults.designPrevalance', detail: 'unknown key "designPrevalance": did you mean designPrevalence?' },
+      {
+        file: path.join(dir, 'sites.yaml'),
+        keyPath: 'programDefaults.designPrevalance',
+        detail: 'unknown key "designPrevalance": did you mean designPrevalence?',
+      },
     ]);
   });
 
@@ -53,36 +57,62 @@ describe('unknown keys', () => {
     // Hollow Creek F2 gives no rowLabels: the misspelt key is the one it meant.
     const layout = configEdited('sites.yaml', (doc) => (doc.sites[0].barns[1].layout.rowLable = ['A', 'B']));
     expect(configError(layout).problems).toEqual([
-      expect.objectContaining({ keyPath: 'sites[0].barns[1].layout.rowLable', detail: 'unknown key "rowLable": did you mean rowLabels?' }),
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[1].layout.rowLable',
+        detail: 'unknown key "rowLable": did you mean rowLabels?',
+      }),
     ]);
     const lab = configEdited('labs/northfield.yaml', (doc) => {
       doc.format.dateFromat = doc.format.dateFormat;
       delete doc.format.dateFormat;
     });
-    expect(configError(lab).problems).toEqual([expect.objectContaining({ keyPath: 'format.dateFromat', detail: 'unknown key "dateFromat": did you mean dateFormat?' })]);
+    expect(configError(lab).problems).toEqual([
+      expect.objectContaining({
+        keyPath: 'format.dateFromat',
+        detail: 'unknown key "dateFromat": did you mean dateFormat?',
+      }),
+    ]);
   });
 
   it('names the nearest key inside one form of a setting that has two', () => {
     // designPrevalence is a proportion or { pens: n }; "pen" -> "pens" is one insertion, by hand.
     const dir = configEdited('sites.yaml', (doc) => (doc.programDefaults.designPrevalence = { pen: 1 }));
     expect(configError(dir).problems).toEqual([
-      expect.objectContaining({ keyPath: 'programDefaults.designPrevalence', detail: expect.stringMatching(/; or pen: unknown key "pen": did you mean pens\?$/) }),
+      expect.objectContaining({
+        keyPath: 'programDefaults.designPrevalence',
+        detail: expect.stringMatching(/; or pen: unknown key "pen": did you mean pens\?$/),
+      }),
     ]);
   });
 
   it('says so when the near key is given too', () => {
     const dir = configEdited('sites.yaml', (doc) => (doc.sites[0].Barns = []));
-    expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'sites[0].Barns', detail: 'unknown key "Barns": did you mean barns? (given too: keep one)' })]);
+    expect(configError(dir).problems).toEqual([
+      expect.objectContaining({
+        keyPath: 'sites[0].Barns',
+        detail: 'unknown key "Barns": did you mean barns? (given too: keep one)',
+      }),
+    ]);
   });
 
   it('lists the keys of the place when no key is near', () => {
     const dir = configEdited('sites.yaml', (doc) => (doc.sites[0].barns[0].position.elevation = 3));
-    expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'sites[0].barns[0].position.elevation', detail: 'unknown key "elevation"; the keys here are x, y' })]);
+    expect(configError(dir).problems).toEqual([
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].position.elevation',
+        detail: 'unknown key "elevation"; the keys here are x, y',
+      }),
+    ]);
   });
 
   it('names the nearest assay id for a per-assay key that names no assay', () => {
     const dir = configEdited('sites.yaml', (doc) => (doc.programDefaults.ropeSensitivity.PRRS = 0.9));
-    expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'programDefaults.ropeSensitivity.PRRS', detail: expect.stringContaining('did you mean PRRSV?') })]);
+    expect(configError(dir).problems).toEqual([
+      expect.objectContaining({
+        keyPath: 'programDefaults.ropeSensitivity.PRRS',
+        detail: expect.stringContaining('did you mean PRRSV?'),
+      }),
+    ]);
   });
 });
 
@@ -92,7 +122,10 @@ describe('several problems at once', () => {
       .replace('rows: 2\n          pensPerRow: 24', 'rows: 7\n          pensPerRow: 24')
       .replace('  intervalDays: 14\n', '  intervalDay: 14\n')
       .replace("empty: ['20']", 'empty: [21]');
-    const assays = demoText('assays.yaml').replace('positiveBelow: 38\n    suspectBelow: 40', 'positiveBelow: 41\n    suspectBelow: 40');
+    const assays = demoText('assays.yaml').replace(
+      'positiveBelow: 38\n    suspectBelow: 40',
+      'positiveBelow: 41\n    suspectBelow: 40',
+    );
     const lab = demoText('labs/northfield.yaml').replace('{ assay: IAV,', '{ assay: IAVV,');
     const dir = configWith({ 'sites.yaml': sites, 'assays.yaml': assays, 'labs/northfield.yaml': lab });
     const error = configError(dir);
@@ -129,15 +162,29 @@ describe('missing settings', () => {
       delete doc.programDefaults.introductionPerInterval;
     });
     const problems = configError(dir).problems;
-    expect(problems.map((problem) => problem.keyPath)).toEqual(['programDefaults.priorFreedom', 'programDefaults.introductionPerInterval']);
-    expect(problems[0]!.detail).toMatch(/^is missing: the probability that the herd was free before the first round \(Martin, Cameron & Greiner 2007\)/);
-    expect(problems[1]!.detail).toMatch(/^is missing: the probability that the disease enters the herd between two rounds/);
+    expect(problems.map((problem) => problem.keyPath)).toEqual([
+      'programDefaults.priorFreedom',
+      'programDefaults.introductionPerInterval',
+    ]);
+    expect(problems[0]!.detail).toMatch(
+      /^is missing: the probability that the herd was free before the first round \(Martin, Cameron & Greiner 2007\)/,
+    );
+    expect(problems[1]!.detail).toMatch(
+      /^is missing: the probability that the disease enters the herd between two rounds/,
+    );
   });
 
   it('says so for a missing load-band list, and for an empty file', () => {
     const bands = configEdited('assays.yaml', (doc) => delete doc.assays[0].loadBands);
-    expect(configError(bands).problems).toEqual([expect.objectContaining({ keyPath: 'assays[0].loadBands', detail: expect.stringMatching(/^is missing: Ct bands/) })]);
-    expect(configError(configWith({ 'assays.yaml': '# nothing yet\n' })).problems).toEqual([expect.objectContaining({ keyPath: '', detail: 'is empty' })]);
+    expect(configError(bands).problems).toEqual([
+      expect.objectContaining({
+        keyPath: 'assays[0].loadBands',
+        detail: expect.stringMatching(/^is missing: Ct bands/),
+      }),
+    ]);
+    expect(configError(configWith({ 'assays.yaml': '# nothing yet\n' })).problems).toEqual([
+      expect.objectContaining({ keyPath: '', detail: 'is empty' }),
+    ]);
   });
 
   it('fills the settings that have defaults', () => {
@@ -175,22 +222,36 @@ describe('pen numbers without quotes', () => {
       doc.sites[0].barns[1].layout.empty = ['7'];
     });
     expect(configError(dir).problems).toEqual([
-      expect.objectContaining({ keyPath: 'sites[0].barns[0].layout.empty[0]', detail: 'names pen 7, which is not in the layout (pens are numbered per row: write the row label too, e.g. A7)' }),
-      expect.objectContaining({ keyPath: 'sites[0].barns[1].layout.empty[0]', detail: 'names pen 7, which is not in the layout (write 07, as the layout labels it)' }),
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].layout.empty[0]',
+        detail: 'names pen 7, which is not in the layout (pens are numbered per row: write the row label too, e.g. A7)',
+      }),
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[1].layout.empty[0]',
+        detail: 'names pen 7, which is not in the layout (write 07, as the layout labels it)',
+      }),
     ]);
   });
 
   it('names the label to write for a head count keyed unlike the layout', () => {
     // Hollow Creek F1 is numbered per row, A1..A20: "a01" is A1 as matched, but keys match exactly.
-    const dir = configEdited('sites.yaml', (doc) => (doc.sites[0].barns[0].layout.headCount = { default: 26, pens: { a01: 20 } }));
+    const dir = configEdited(
+      'sites.yaml',
+      (doc) => (doc.sites[0].barns[0].layout.headCount = { default: 26, pens: { a01: 20 } }),
+    );
     expect(configError(dir).problems).toEqual([
-      expect.objectContaining({ keyPath: 'sites[0].barns[0].layout.headCount.pens.a01', detail: 'names pen a01, which is not in the layout (write A1, as the layout labels it)' }),
+      expect.objectContaining({
+        keyPath: 'sites[0].barns[0].layout.headCount.pens.a01',
+        detail: 'names pen a01, which is not in the layout (write A1, as the layout labels it)',
+      }),
     ]);
   });
 
   it('still refuses a number that is not a whole pen number', () => {
     const dir = configEdited('sites.yaml', (doc) => (doc.sites[1].barns[1].layout.empty = [2.5]));
-    expect(configError(dir).problems).toEqual([expect.objectContaining({ keyPath: 'sites[1].barns[1].layout.empty[0]' })]);
+    expect(configError(dir).problems).toEqual([
+      expect.objectContaining({ keyPath: 'sites[1].barns[1].layout.empty[0]' }),
+    ]);
   });
 });
 
@@ -200,11 +261,18 @@ describe('rope-sheet column names', () => {
     expect(configError(dir).problems).toEqual([
       expect.objectContaining({
         keyPath: 'ropeSheet.columns.hungOn[1]',
-        detail: expect.stringMatching(/^"house" is also a default name of the barn column .*give ropeSheet\.columns\.barn names of its own$/),
+        detail: expect.stringMatching(
+          /^"house" is also a default name of the barn column .*give ropeSheet\.columns\.barn names of its own$/,
+        ),
       }),
     ]);
     const both = configEdited('sites.yaml', (doc) => (doc.ropeSheet = { columns: { barn: 'Stall', pen: ['STALL'] } }));
-    expect(configError(both).problems).toEqual([expect.objectContaining({ keyPath: 'ropeSheet.columns.pen[0]', detail: expect.stringContaining('ropeSheet.columns.barn') })]);
+    expect(configError(both).problems).toEqual([
+      expect.objectContaining({
+        keyPath: 'ropeSheet.columns.pen[0]',
+        detail: expect.stringContaining('ropeSheet.columns.barn'),
+      }),
+    ]);
   });
 
   it('keeps each column its own name and replaces only the synonyms of a configured column', () => {

@@ -15,12 +15,23 @@ describe('site alerts in sites.yaml', () => {
   it('loads e-mail and command settings with their defaults', () => {
     const config = loadConfig(
       firstSite((site) => {
-        site.alerts = { email: { smtp: { host: 'mail.clinic.example', user: 'clinic', passwordEnv: 'SMTP_PASSWORD' }, from: 'ropewatch@clinic.example', to: ['vet@clinic.example'] }, command: ['notify', '--site'] };
+        site.alerts = {
+          email: {
+            smtp: { host: 'mail.clinic.example', user: 'clinic', passwordEnv: 'SMTP_PASSWORD' },
+            from: 'ropewatch@clinic.example',
+            to: ['vet@clinic.example'],
+          },
+          command: ['notify', '--site'],
+        };
       }),
     );
     // RFC 6409: 587 is the message submission port, upgraded with STARTTLS rather than TLS from the start.
     expect(config.sites[0]!.alerts).toEqual({
-      email: { smtp: { host: 'mail.clinic.example', port: 587, secure: false, user: 'clinic', passwordEnv: 'SMTP_PASSWORD' }, from: 'ropewatch@clinic.example', to: ['vet@clinic.example'] },
+      email: {
+        smtp: { host: 'mail.clinic.example', port: 587, secure: false, user: 'clinic', passwordEnv: 'SMTP_PASSWORD' },
+        from: 'ropewatch@clinic.example',
+        to: ['vet@clinic.example'],
+      },
       command: ['notify', '--site'],
       timeoutSeconds: DEFAULT_ALERT_TIMEOUT_SECONDS,
     });
@@ -28,33 +39,84 @@ describe('site alerts in sites.yaml', () => {
   });
 
   it('refuses a password written in the YAML, naming the key path', () => {
-    const error = configError(firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail', user: 'clinic', password: 'x' }, from: 'a@b.example', to: ['c@d.example'] } })));
+    const error = configError(
+      firstSite(
+        (site) =>
+          (site.alerts = {
+            email: { smtp: { host: 'mail', user: 'clinic', password: 'x' }, from: 'a@b.example', to: ['c@d.example'] },
+          }),
+      ),
+    );
     expect(error.keyPath).toBe('sites[0].alerts.email.smtp.password');
   });
 
   it('names the key path of a misspelt key with the nearest known key', () => {
-    const error = configError(firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail', prot: 25 }, from: 'a@b.example', to: ['c@d.example'] } })));
+    const error = configError(
+      firstSite(
+        (site) =>
+          (site.alerts = { email: { smtp: { host: 'mail', prot: 25 }, from: 'a@b.example', to: ['c@d.example'] } }),
+      ),
+    );
     expect(error.keyPath).toBe('sites[0].alerts.email.smtp.prot');
     expect(error.detail).toContain('port');
   });
 
   it('refuses an address without "@", an empty recipient list, an empty command and a password variable without a user', () => {
     // RFC 5321 4.1.2: a mailbox is local-part "@" domain.
-    expect(configError(firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail' }, from: 'ropewatch', to: ['c@d.example'] } }))).keyPath).toBe('sites[0].alerts.email.from');
-    expect(configError(firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail' }, from: 'a@b.example', to: [] } }))).keyPath).toBe('sites[0].alerts.email.to');
+    expect(
+      configError(
+        firstSite(
+          (site) => (site.alerts = { email: { smtp: { host: 'mail' }, from: 'ropewatch', to: ['c@d.example'] } }),
+        ),
+      ).keyPath,
+    ).toBe('sites[0].alerts.email.from');
+    expect(
+      configError(
+        firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail' }, from: 'a@b.example', to: [] } })),
+      ).keyPath,
+    ).toBe('sites[0].alerts.email.to');
     expect(configError(firstSite((site) => (site.alerts = { command: [] }))).keyPath).toBe('sites[0].alerts.command');
-    expect(configError(firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail', passwordEnv: 'P' }, from: 'a@b.example', to: ['c@d.example'] } }))).keyPath).toBe('sites[0].alerts.email.smtp.user');
+    expect(
+      configError(
+        firstSite(
+          (site) =>
+            (site.alerts = {
+              email: { smtp: { host: 'mail', passwordEnv: 'P' }, from: 'a@b.example', to: ['c@d.example'] },
+            }),
+        ),
+      ).keyPath,
+    ).toBe('sites[0].alerts.email.smtp.user');
     // POSIX.1-2017 8.1: an environment variable's name does not begin with a digit.
-    expect(configError(firstSite((site) => (site.alerts = { email: { smtp: { host: 'mail', user: 'u', passwordEnv: '1PASS' }, from: 'a@b.example', to: ['c@d.example'] } }))).keyPath).toBe(
-      'sites[0].alerts.email.smtp.passwordEnv',
-    );
+    expect(
+      configError(
+        firstSite(
+          (site) =>
+            (site.alerts = {
+              email: {
+                smtp: { host: 'mail', user: 'u', passwordEnv: '1PASS' },
+                from: 'a@b.example',
+                to: ['c@d.example'],
+              },
+            }),
+        ),
+      ).keyPath,
+    ).toBe('sites[0].alerts.email.smtp.passwordEnv');
   });
 });
 
 describe('herd status in sites.yaml', () => {
   it('loads free text when no categories are configured', () => {
-    const config = loadConfig(firstSite((site) => (site.herdStatus = { category: 'provisionally negative', setOn: '2026-07-30', note: ' two clean rounds ' })));
-    expect(config.sites[0]!.herdStatus).toEqual({ category: 'provisionally negative', setOn: '2026-07-30', note: 'two clean rounds' });
+    const config = loadConfig(
+      firstSite(
+        (site) =>
+          (site.herdStatus = { category: 'provisionally negative', setOn: '2026-07-30', note: ' two clean rounds ' }),
+      ),
+    );
+    expect(config.sites[0]!.herdStatus).toEqual({
+      category: 'provisionally negative',
+      setOn: '2026-07-30',
+      note: 'two clean rounds',
+    });
   });
 
   it('takes a configured category in the list spelling, whatever the case written', () => {
@@ -83,6 +145,8 @@ describe('herd status in sites.yaml', () => {
     // ISO 8601 calendar dates: February 2026 has 28 days.
     const error = configError(firstSite((site) => (site.herdStatus = { category: 'negative', setOn: '2026-02-30' })));
     expect(error.keyPath).toBe('sites[0].herdStatus.setOn');
-    expect(configError(firstSite((site) => (site.herdStatus = { category: 'negative', setOn: '30.07.2026' }))).keyPath).toBe('sites[0].herdStatus.setOn');
+    expect(
+      configError(firstSite((site) => (site.herdStatus = { category: 'negative', setOn: '30.07.2026' }))).keyPath,
+    ).toBe('sites[0].herdStatus.setOn');
   });
 });

@@ -19,7 +19,8 @@ const { configWith, workspaceWith } = configCases();
  */
 function aliasBomb(): string {
   const lines = ['l0: &l0 ["lol", "lol", "lol", "lol", "lol", "lol", "lol", "lol", "lol", "lol"]'];
-  for (let level = 1; level <= 9; level++) lines.push(`l${level}: &l${level} [${Array.from({ length: 10 }, () => `*l${level - 1}`).join(', ')}]`);
+  for (let level = 1; level <= 9; level++)
+    lines.push(`l${level}: &l${level} [${Array.from({ length: 10 }, () => `*l${level - 1}`).join(', ')}]`);
   return lines.join('\n') + '\n';
 }
 

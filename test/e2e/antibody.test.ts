@@ -28,7 +28,12 @@ describe('antibody ELISA results beside PCR, end to end', () => {
     await ws.drop('hollow-creek_ropes.csv', ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES));
     const exported = northfieldExport(
       [
-        ...ROPES.map((rope) => ({ sampleId: rope.sampleId, assay: 'PRRSV' as const, ct: null, collectedOn: rope.hungOn })),
+        ...ROPES.map((rope) => ({
+          sampleId: rope.sampleId,
+          assay: 'PRRSV' as const,
+          ct: null,
+          collectedOn: rope.hungOn,
+        })),
         { sampleId: 'HC-0803-F1-01', assay: 'PRRSV-AB', sp: 0.21, collectedOn: '2026-08-03' },
         { sampleId: 'HC-0803-F1-02', assay: 'PRRSV-AB', sp: 0.05, collectedOn: '2026-08-03' },
         { sampleId: 'HC-0803-F3-01', assay: 'PRRSV-AB', sp: 0.52, collectedOn: '2026-08-04' },
@@ -45,17 +50,37 @@ describe('antibody ELISA results beside PCR, end to end', () => {
     const site = (id: string) => summary.assays.find((assay: { id: string }) => assay.id === id).site;
     expect(site('PRRSV')).toMatchObject({ measure: 'ct', positive: false, freedomReset: false });
     expect(site('PRRSV').freedom).toBeGreaterThan(0.5);
-    expect(site('PRRSV-AB')).toMatchObject({ measure: 'sp-ratio', positive: true, freedomReset: true, freedom: 0, positiveBarns: ['F3'] });
-    const rows = parse(fs.readFileSync(path.join(round, 'summary.csv'), 'utf8'), { columns: true }) as Record<string, string>[];
-    expect(rows.find((row) => row.level === 'pen' && row.pen === 'A1' && row.assay === 'PRRSV-AB')).toMatchObject({ class: 'negative', sp: '0.21', ct: '', lab_call: 'Negative', call_differs: 'false' });
-    expect(rows.find((row) => row.level === 'pen' && row.pen === 'N2' && row.assay === 'PRRSV-AB')).toMatchObject({ class: 'positive', sp: '0.52' });
+    expect(site('PRRSV-AB')).toMatchObject({
+      measure: 'sp-ratio',
+      positive: true,
+      freedomReset: true,
+      freedom: 0,
+      positiveBarns: ['F3'],
+    });
+    const rows = parse(fs.readFileSync(path.join(round, 'summary.csv'), 'utf8'), { columns: true }) as Record<
+      string,
+      string
+    >[];
+    expect(rows.find((row) => row.level === 'pen' && row.pen === 'A1' && row.assay === 'PRRSV-AB')).toMatchObject({
+      class: 'negative',
+      sp: '0.21',
+      ct: '',
+      lab_call: 'Negative',
+      call_differs: 'false',
+    });
+    expect(rows.find((row) => row.level === 'pen' && row.pen === 'N2' && row.assay === 'PRRSV-AB')).toMatchObject({
+      class: 'positive',
+      sp: '0.52',
+    });
     const html = fs.readFileSync(path.join(round, 'summary.html'), 'utf8');
     expect(html).toContain('not necessarily current infection');
     expect(html).toContain('data-pairs="PRRSV-AB"');
     // The next round retests the antibody-positive pen (by PCR) instead of ringing it.
     const plan = JSON.parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', 'next-round.json'), 'utf8'));
     const f3 = plan.ropes.filter((rope: { barnId: string }) => rope.barnId === 'F3');
-    expect(f3.filter((rope: { reason: string }) => rope.reason === 'retest').map((rope: { penId: string }) => rope.penId)).toEqual(['N2']);
+    expect(
+      f3.filter((rope: { reason: string }) => rope.reason === 'retest').map((rope: { penId: string }) => rope.penId),
+    ).toEqual(['N2']);
     expect(f3.filter((rope: { reason: string }) => rope.reason === 'follow-up')).toEqual([]);
   });
 
@@ -69,6 +94,11 @@ describe('antibody ELISA results beside PCR, end to end', () => {
     );
     const { receipt } = await ws.drop('nvdl_elisa.csv', bytes);
     expect(receipt.rows).toMatchObject({ accepted: 1, rejected: 1 });
-    expect(receipt.rejectedRows[0]).toMatchObject({ line: 2, field: 'Ct Value', code: 'bad-sp', value: 'Undetermined' });
+    expect(receipt.rejectedRows[0]).toMatchObject({
+      line: 2,
+      field: 'Ct Value',
+      code: 'bad-sp',
+      value: 'Undetermined',
+    });
   });
 });

@@ -59,7 +59,14 @@ describe('ropewatch CLI exit codes', () => {
   it('exits 1 when a row inside an accepted file was refused', async () => {
     const ws = workspace();
     const site = ws.config().siteById.get('HOLLOW-CREEK')!;
-    const file = writeInbox(ws, 'ropes.csv', ropeSheet(site, [{ sampleId: 'C1', barnId: 'F1', penId: 'Z99', hungOn: '2026-08-03' }, { sampleId: 'C2', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' }]));
+    const file = writeInbox(
+      ws,
+      'ropes.csv',
+      ropeSheet(site, [
+        { sampleId: 'C1', barnId: 'F1', penId: 'Z99', hungOn: '2026-08-03' },
+        { sampleId: 'C2', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' },
+      ]),
+    );
     const run = await runCli(['ingest', file, ...ws.cliFlags]);
     expect(run.code).toBe(1);
   });
@@ -82,17 +89,45 @@ describe('ropewatch status and report', () => {
     const run = await runCli(['status', '--json', ...ws.cliFlags]);
     expect(run.code).toBe(0);
     const status = JSON.parse(run.stdout);
-    expect(status).toMatchObject({ files: 2, rejectedFiles: 0, results: 3, currentResults: 3, ropes: 2, rejectedRows: 0, unresolvedSampleCount: 1, unresolvedSamples: ['UNKNOWN-1'] });
+    expect(status).toMatchObject({
+      files: 2,
+      rejectedFiles: 0,
+      results: 3,
+      currentResults: 3,
+      ropes: 2,
+      rejectedRows: 0,
+      unresolvedSampleCount: 1,
+      unresolvedSamples: ['UNKNOWN-1'],
+    });
     const text = await runCli(['status', ...ws.cliFlags]);
     expect(text.stdout).toContain('unresolved samples (no rope sheet yet): UNKNOWN-1\n');
-    expect(status.sites.find((site: { site: string }) => site.site === 'hollow-creek')).toMatchObject({ rounds: 1, lastRound: { number: 1, id: 'r01-2026-08-03' } });
-    expect(status.sites.find((site: { site: string }) => site.site === 'tamsin-ridge')).toMatchObject({ rounds: 0, lastRound: null });
+    expect(status.sites.find((site: { site: string }) => site.site === 'hollow-creek')).toMatchObject({
+      rounds: 1,
+      lastRound: { number: 1, id: 'r01-2026-08-03' },
+    });
+    expect(status.sites.find((site: { site: string }) => site.site === 'tamsin-ridge')).toMatchObject({
+      rounds: 0,
+      lastRound: null,
+    });
   });
 
   it('prints at most 20 unresolved samples as text, with how many there are; --json lists all', async () => {
     const ws = workspace();
-    const rows = Array.from({ length: 25 }, (_, i) => ({ sampleId: `LOOSE-${String(i).padStart(2, '0')}`, assay: 'PRRSV' as const, ct: null, collectedOn: '2026-08-03' }));
-    expect((await runCli(['ingest', writeInbox(ws, 'nvdl_loose.csv', northfieldExport(rows, '2026-08-06', 1)), ...ws.cliFlags])).code).toBe(0);
+    const rows = Array.from({ length: 25 }, (_, i) => ({
+      sampleId: `LOOSE-${String(i).padStart(2, '0')}`,
+      assay: 'PRRSV' as const,
+      ct: null,
+      collectedOn: '2026-08-03',
+    }));
+    expect(
+      (
+        await runCli([
+          'ingest',
+          writeInbox(ws, 'nvdl_loose.csv', northfieldExport(rows, '2026-08-06', 1)),
+          ...ws.cliFlags,
+        ])
+      ).code,
+    ).toBe(0);
     const text = await runCli(['status', ...ws.cliFlags]);
     expect(text.stdout).toContain('unresolved samples (no rope sheet yet): 25: LOOSE-00, LOOSE-01,');
     expect(text.stdout).toContain('LOOSE-19 and 5 more (--json lists them all)');

@@ -14,7 +14,10 @@ import { bigNorthfieldExport } from '../helpers/hardening.js';
 import { runCli } from '../helpers/runCli.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
-const PACKAGE = JSON.parse(fs.readFileSync(path.join(REPO_ROOT, 'package.json'), 'utf8')) as { version: string; bin: Record<string, string> };
+const PACKAGE = JSON.parse(fs.readFileSync(path.join(REPO_ROOT, 'package.json'), 'utf8')) as {
+  version: string;
+  bin: Record<string, string>;
+};
 const workspace = workspacesPerTest();
 const temps: string[] = [];
 afterEach(() => {
@@ -27,8 +30,16 @@ function tempDir(): string {
   return dir;
 }
 
-function run(command: string, args: readonly string[], cwd: string): Promise<{ code: number | null; stdout: string; stderr: string }> {
-  const child = spawn(command, args, { cwd, stdio: ['ignore', 'pipe', 'pipe'], env: { ...process.env, PATH: `${path.dirname(process.execPath)}${path.delimiter}${process.env.PATH ?? ''}` } });
+function run(
+  command: string,
+  args: readonly string[],
+  cwd: string,
+): Promise<{ code: number | null; stdout: string; stderr: string }> {
+  const child = spawn(command, args, {
+    cwd,
+    stdio: ['ignore', 'pipe', 'pipe'],
+    env: { ...process.env, PATH: `${path.dirname(process.execPath)}${path.delimiter}${process.env.PATH ?? ''}` },
+  });
   let stdout = '';
   let stderr = '';
   child.stdout.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
@@ -69,7 +80,9 @@ describe('the compiled ropewatch', () => {
     expect(compiled.code, compiled.stderr).toBe(0);
     // The configuration it wrote is the demo's own, byte for byte.
     for (const rel of ['sites.yaml', 'assays.yaml', 'labs/northfield.yaml']) {
-      expect(fs.readFileSync(path.join(dir, 'config', rel)), rel).toEqual(fs.readFileSync(path.join(REPO_ROOT, 'src', 'demo', 'config', rel)));
+      expect(fs.readFileSync(path.join(dir, 'config', rel)), rel).toEqual(
+        fs.readFileSync(path.join(REPO_ROOT, 'src', 'demo', 'config', rel)),
+      );
     }
     expect(fs.existsSync(path.join(dir, 'outbox', 'index.html'))).toBe(true);
     // The same drops with the same outcomes as the TypeScript sources, run in-process (the

@@ -40,8 +40,14 @@ describe('the demo workbook', () => {
     const entries = zipEntries(first, 100);
     expect(entries.length).toBeGreaterThan(5);
     for (const entry of entries) {
-      expect([first.readUInt16LE(entry.localHeaderOffset + 10), first.readUInt16LE(entry.localHeaderOffset + 12)], entry.name).toEqual([26624, 23901]);
-      expect([first.readUInt16LE(entry.directoryOffset + 12), first.readUInt16LE(entry.directoryOffset + 14)], entry.name).toEqual([26624, 23901]);
+      expect(
+        [first.readUInt16LE(entry.localHeaderOffset + 10), first.readUInt16LE(entry.localHeaderOffset + 12)],
+        entry.name,
+      ).toEqual([26624, 23901]);
+      expect(
+        [first.readUInt16LE(entry.directoryOffset + 12), first.readUInt16LE(entry.directoryOffset + 14)],
+        entry.name,
+      ).toEqual([26624, 23901]);
     }
     // The workbook's own dates (docProps/core.xml) are the moment given, not the clock's.
     vi.useRealTimers();
@@ -63,7 +69,15 @@ describe('the demo workbook', () => {
     const { receipt } = await ws.drop(book.name, book.bytes);
     // Two assays per rope on the sheet; rows from row 4 (title, blank, header above).
     const ropes = sheet.bytes.toString('utf8').trim().split('\n').length - 1;
-    expect(receipt).toMatchObject({ status: 'accepted', lab: 'northfield', sheet: 'Results', rows: { accepted: 2 * ropes, rejected: 0 } });
-    expect(ws.ws().store.db.prepare('SELECT MIN(line), MAX(line) FROM results').raw().get()).toEqual([4, 3 + 2 * ropes]);
+    expect(receipt).toMatchObject({
+      status: 'accepted',
+      lab: 'northfield',
+      sheet: 'Results',
+      rows: { accepted: 2 * ropes, rejected: 0 },
+    });
+    expect(ws.ws().store.db.prepare('SELECT MIN(line), MAX(line) FROM results').raw().get()).toEqual([
+      4,
+      3 + 2 * ropes,
+    ]);
   });
 });

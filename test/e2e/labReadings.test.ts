@@ -18,7 +18,10 @@ const workspace = workspacesPerTest();
 
 const profile = fs
   .readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8')
-  .replace('PRRSV NA/EU RT-PCR: { assay: PRRSV, positiveBelow: 36, suspectBelow: 40, cycleLimit: 40 }', 'PRRSV NA/EU RT-PCR: { assay: PRRSV, positiveBelow: 37, suspectBelow: 40, cycleLimit: 45 }');
+  .replace(
+    'PRRSV NA/EU RT-PCR: { assay: PRRSV, positiveBelow: 36, suspectBelow: 40, cycleLimit: 40 }',
+    'PRRSV NA/EU RT-PCR: { assay: PRRSV, positiveBelow: 37, suspectBelow: 40, cycleLimit: 45 }',
+  );
 
 const EXPORT = [
   'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status',
@@ -44,11 +47,28 @@ describe('a lab with its own cutoffs, through the pipeline', () => {
     expect(outcome.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 3 } });
     const round = path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03');
 
-    const rows = parse(fs.readFileSync(path.join(round, 'summary.csv'), 'utf8'), { columns: true }) as Record<string, string>[];
+    const rows = parse(fs.readFileSync(path.join(round, 'summary.csv'), 'utf8'), { columns: true }) as Record<
+      string,
+      string
+    >[];
     const pen = (id: string) => rows.find((row) => row.level === 'pen' && row.pen === id)!;
     // By hand: 36.5 < 37 is positive with this lab's cutoff; the lab called it "Negative".
-    expect(pen('A2')).toMatchObject({ class: 'positive', lab_call: 'Negative', call_differs: 'true', positive_below: '37', cycle_limit: '45', accession: 'NV26-00002', reported_on: '2026-08-06' });
-    expect(pen('A1')).toMatchObject({ class: 'positive', lab_call: 'Positive', call_differs: 'false', sequencing_candidate: 'true', lab: 'Northfield Veterinary Diagnostic Laboratory (invented)' });
+    expect(pen('A2')).toMatchObject({
+      class: 'positive',
+      lab_call: 'Negative',
+      call_differs: 'true',
+      positive_below: '37',
+      cycle_limit: '45',
+      accession: 'NV26-00002',
+      reported_on: '2026-08-06',
+    });
+    expect(pen('A1')).toMatchObject({
+      class: 'positive',
+      lab_call: 'Positive',
+      call_differs: 'false',
+      sequencing_candidate: 'true',
+      lab: 'Northfield Veterinary Diagnostic Laboratory (invented)',
+    });
     expect(pen('A3')).toMatchObject({ class: 'invalid', ct_history: 'r1:invalid' });
 
     const summary = fs.readFileSync(path.join(round, 'summary.html'), 'utf8');

@@ -32,7 +32,11 @@ const results = () =>
 const sheet = (ws: TestWorkspace) => ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ROPES);
 const summaryPath = (ws: TestWorkspace) => path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03', 'summary.json');
 const readSummary = (ws: TestWorkspace) => JSON.parse(fs.readFileSync(summaryPath(ws), 'utf8'));
-const roundFolders = (dir: string) => fs.readdirSync(dir).filter((name) => /^r\d{2,}-/.test(name)).sort();
+const roundFolders = (dir: string) =>
+  fs
+    .readdirSync(dir)
+    .filter((name) => /^r\d{2,}-/.test(name))
+    .sort();
 const siteOutputs = (ws: TestWorkspace) => treeHashes(ws.paths.outbox, ['receipts']);
 
 describe('pipeline end to end', () => {
@@ -41,12 +45,23 @@ describe('pipeline end to end', () => {
     const a = await ws.drop('hollow-creek_ropes.csv', sheet(ws));
     const b = await ws.drop('nvdl_results_2026-08-06.csv', results());
     expect(a.receipt).toMatchObject({ status: 'accepted', kind: 'ropes', rows: { accepted: 4 } });
-    expect(b.receipt).toMatchObject({ status: 'accepted', kind: 'results', lab: 'northfield', rows: { accepted: 3 }, sites: ['hollow-creek'] });
+    expect(b.receipt).toMatchObject({
+      status: 'accepted',
+      kind: 'results',
+      lab: 'northfield',
+      rows: { accepted: 3 },
+      sites: ['hollow-creek'],
+    });
     expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_results_2026-08-06.csv'))).toBe(true);
     expect(fs.existsSync(path.join(ws.paths.inbox, 'nvdl_results_2026-08-06.csv'))).toBe(false);
     expect(fs.existsSync(summaryPath(ws).replace('.json', '.csv'))).toBe(true);
     const summary = readSummary(ws);
-    expect(summary.round).toMatchObject({ number: 1, id: 'r01-2026-08-03', startOn: '2026-08-03', endOn: '2026-08-04' });
+    expect(summary.round).toMatchObject({
+      number: 1,
+      id: 'r01-2026-08-03',
+      startOn: '2026-08-03',
+      endOn: '2026-08-04',
+    });
     const f1 = summary.barns.find((barn: { barnId: string }) => barn.barnId === 'F1');
     // By hand: 3 ropes in F1, all back; Ct 28.4 < 36 positive, 37.1 in [36, 40) suspect, one negative.
     expect(f1).toMatchObject({ pensInUse: 38, ropesHung: 3, ropesReturned: 3, missingSampleIds: [] });
@@ -60,7 +75,15 @@ describe('pipeline end to end', () => {
     });
     const f3 = summary.barns.find((barn: { barnId: string }) => barn.barnId === 'F3');
     expect(f3).toMatchObject({ ropesHung: 1, ropesReturned: 0, missingSampleIds: ['HC-0803-F3-01'] });
-    expect(fs.existsSync(path.join(ws.paths.outbox, 'receipts', `nvdl_results_2026-08-06.csv.${b.receipt.sha256.slice(0, 8)}.receipt.json`))).toBe(true);
+    expect(
+      fs.existsSync(
+        path.join(
+          ws.paths.outbox,
+          'receipts',
+          `nvdl_results_2026-08-06.csv.${b.receipt.sha256.slice(0, 8)}.receipt.json`,
+        ),
+      ),
+    ).toBe(true);
   });
 
   it('keeps results that arrive before their rope sheet as unresolved and places them when the sheet arrives', async () => {
@@ -74,7 +97,9 @@ describe('pipeline end to end', () => {
     const late = await ws.drop('hollow-creek_ropes.csv', sheet(ws));
     expect(late.receipt.resolvedSampleIds).toEqual(['HC-0803-F1-01', 'HC-0803-F1-02', 'HC-0803-F1-03']);
     expect(ws.ws().store.unresolvedSampleIds()).toEqual([]);
-    expect(readSummary(ws).barns.find((barn: { barnId: string }) => barn.barnId === 'F1')).toMatchObject({ ropesReturned: 3 });
+    expect(readSummary(ws).barns.find((barn: { barnId: string }) => barn.barnId === 'F1')).toMatchObject({
+      ropesReturned: 3,
+    });
   });
 
   it('moves a malformed file to inbox/rejected with a reason and harms nothing else', async () => {
@@ -83,11 +108,18 @@ describe('pipeline end to end', () => {
     await ws.drop('nvdl_results_2026-08-06.csv', results());
     const countsBefore = ws.ws().store.counts();
     const outputsBefore = siteOutputs(ws);
-    const { receipt, movedTo } = await ws.drop('nvdl_invoice.csv', 'Invoice,Client,Samples,Amount\nINV-2291,Someone,36,412.00\n');
+    const { receipt, movedTo } = await ws.drop(
+      'nvdl_invoice.csv',
+      'Invoice,Client,Samples,Amount\nINV-2291,Someone,36,412.00\n',
+    );
     expect(receipt).toMatchObject({ status: 'rejected', reason: { code: 'unknown-format' } });
     expect(movedTo).toBe(path.join(ws.paths.inbox, 'rejected', 'nvdl_invoice.csv'));
     expect(fs.readFileSync(`${movedTo}.reason.txt`, 'utf8')).toContain('unknown-format');
-    expect(ws.ws().store.counts()).toEqual({ ...countsBefore, files: countsBefore.files + 1, rejectedFiles: countsBefore.rejectedFiles + 1 });
+    expect(ws.ws().store.counts()).toEqual({
+      ...countsBefore,
+      files: countsBefore.files + 1,
+      rejectedFiles: countsBefore.rejectedFiles + 1,
+    });
     expect(siteOutputs(ws)).toEqual(outputsBefore);
   });
 
@@ -107,12 +139,17 @@ describe('pipeline end to end', () => {
 
   it('stores no row of a file whose quoting breaks halfway, even after earlier batches were written', async () => {
     const ws = workspace();
-    const header = 'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
+    const header =
+      'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
     const lines = [header];
     // 5000 rows: more than two batches of 2000 (BATCH_ROWS) before the break at line 4500.
     for (let i = 1; i <= 5000; i++) {
       const sample = `LAB-${String(i).padStart(5, '0')}`;
-      lines.push(i === 4499 ? `NV26-1,"${sample},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,2026-08-03,2026-08-06,Final` : `NV26-1,${sample},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,2026-08-03,2026-08-06,Final`);
+      lines.push(
+        i === 4499
+          ? `NV26-1,"${sample},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,2026-08-03,2026-08-06,Final`
+          : `NV26-1,${sample},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,2026-08-03,2026-08-06,Final`,
+      );
     }
     const { receipt, movedTo } = await ws.drop('nvdl_big.csv', lines.join('\n') + '\n');
     expect(receipt.status).toBe('rejected');
@@ -125,12 +162,15 @@ describe('pipeline end to end', () => {
 
   it('stores no row of a file with invalid UTF-8 after the first 64 KB and names the line', async () => {
     const ws = workspace();
-    const header = 'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
+    const header =
+      'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
     const rows: Buffer[] = [Buffer.from(header + '\n')];
     let size = 0;
     let badLine = 0;
     for (let i = 1; i <= 4000; i++) {
-      let row = Buffer.from(`NV26-1,LAB-${String(i).padStart(5, '0')},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,2026-08-03,2026-08-06,Final\n`);
+      let row = Buffer.from(
+        `NV26-1,LAB-${String(i).padStart(5, '0')},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,2026-08-03,2026-08-06,Final\n`,
+      );
       if (i === 3000) {
         // 0xFF is never valid in UTF-8 (RFC 3629); placed well past the 64 KB sniffed block.
         row = Buffer.concat([row.subarray(0, 10), Buffer.from([0xff]), row.subarray(10)]);
@@ -148,10 +188,16 @@ describe('pipeline end to end', () => {
   it('renumbers a site’s round folders when a late sheet brings an earlier round, and removes the stale folder', async () => {
     const ws = workspace();
     const site = ws.config().siteById.get('HOLLOW-CREEK')!;
-    await ws.drop('ropes_0817.csv', ropeSheet(site, [{ sampleId: 'L1', barnId: 'F1', penId: 'A2', hungOn: '2026-08-17' }]));
+    await ws.drop(
+      'ropes_0817.csv',
+      ropeSheet(site, [{ sampleId: 'L1', barnId: 'F1', penId: 'A2', hungOn: '2026-08-17' }]),
+    );
     const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
     expect(roundFolders(siteDir)).toEqual(['r01-2026-08-17']);
-    await ws.drop('ropes_0803.csv', ropeSheet(site, [{ sampleId: 'E1', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' }]));
+    await ws.drop(
+      'ropes_0803.csv',
+      ropeSheet(site, [{ sampleId: 'E1', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' }]),
+    );
     expect(roundFolders(siteDir)).toEqual(['r01-2026-08-03', 'r02-2026-08-17']);
   });
 
@@ -172,14 +218,21 @@ describe('pipeline end to end', () => {
     expect(ws.ws().store.counts()).toMatchObject({ results: 3 });
     // Nothing of the new set was swapped in: the summary is the one from before, and no temp file is left.
     expect(readSummary(ws)).toEqual(before);
-    expect(fs.readdirSync(path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03')).filter((name) => name.endsWith('.tmp'))).toEqual([]);
+    expect(
+      fs
+        .readdirSync(path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03'))
+        .filter((name) => name.endsWith('.tmp')),
+    ).toEqual([]);
     expect(staleSites(ws.ws())).toEqual(['hollow-creek']);
 
     fs.rmSync(nextRound, { recursive: true });
     expect(catchUpOutputs(ws.ws())).toEqual(['hollow-creek']);
     expect(staleSites(ws.ws())).toEqual([]);
     const f1 = readSummary(ws).barns.find((barn: { barnId: string }) => barn.barnId === 'F1');
-    expect(f1.assays.find((assay: { assayId: string }) => assay.assayId === 'PRRSV')).toMatchObject({ positive: 1, positivePens: ['A1'] });
+    expect(f1.assays.find((assay: { assayId: string }) => assay.assayId === 'PRRSV')).toMatchObject({
+      positive: 1,
+      positivePens: ['A1'],
+    });
   });
 
   it('counts outputs built under another configuration as behind, and only sites that hold data', async () => {

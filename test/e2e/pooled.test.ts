@@ -50,8 +50,19 @@ describe('pooled ropes end to end', () => {
     ]);
     const lab = await ws.drop('nvdl_results_2026-08-06.csv', results());
     // The pool IDs are no unresolved samples: their ropes are on the sheet, and the site is rebuilt.
-    expect(lab.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 3 }, unresolvedSampleIds: [], sites: ['hollow-creek'] });
-    expect(ws.ws().store.ropes('hollow-creek').filter((rope) => rope.poolId === 'HC-P1').map((rope) => rope.penId)).toEqual(['A1', 'A2', 'A3']);
+    expect(lab.receipt).toMatchObject({
+      status: 'accepted',
+      rows: { accepted: 3 },
+      unresolvedSampleIds: [],
+      sites: ['hollow-creek'],
+    });
+    expect(
+      ws
+        .ws()
+        .store.ropes('hollow-creek')
+        .filter((rope) => rope.poolId === 'HC-P1')
+        .map((rope) => rope.penId),
+    ).toEqual(['A1', 'A2', 'A3']);
     // Foreign keys hold after the file's transaction (they are not checked row by row inside it).
     expect(ws.ws().store.db.pragma('foreign_key_check')).toEqual([]);
 
@@ -60,21 +71,44 @@ describe('pooled ropes end to end', () => {
     // By hand: 6 ropes, all back through 2 pools and 1 rope; Ct 29.5 below the positive cutoff 36 makes HC-P1 positive.
     expect(f1).toMatchObject({ ropesHung: 6, ropesReturned: 6, missingSampleIds: [] });
     const prrsv = f1.assays.find((assay: { assayId: string }) => assay.assayId === 'PRRSV');
-    expect(prrsv).toMatchObject({ positive: 0, suspect: 3, negative: 3, positivePens: [], positivePoolPens: ['A1', 'A2', 'A3'] });
+    expect(prrsv).toMatchObject({
+      positive: 0,
+      suspect: 3,
+      negative: 3,
+      positivePens: [],
+      positivePoolPens: ['A1', 'A2', 'A3'],
+    });
     expect(prrsv.confidence.pooled).toMatchObject({ pools: 2, pooledPens: 5, positivePools: 1 });
     const a2 = summary.pens.find((pen: { barnId: string; penId: string }) => pen.barnId === 'F1' && pen.penId === 'A2');
-    expect(a2.results.PRRSV).toMatchObject({ resultClass: 'suspect', sampleId: 'HC-P1', pool: { poolId: 'HC-P1', poolClass: 'positive' } });
+    expect(a2.results.PRRSV).toMatchObject({
+      resultClass: 'suspect',
+      sampleId: 'HC-P1',
+      pool: { poolId: 'HC-P1', poolClass: 'positive' },
+    });
 
     // New columns go at the end (README: summary.csv columns are stable; common practice, no source).
-    expect(SUMMARY_COLUMNS.slice(SUMMARY_COLUMNS.indexOf('pool'), SUMMARY_COLUMNS.indexOf('pool') + 5)).toEqual(['pool', 'pools', 'positive_pool_pens', 'pool_sensitivity', 'unpooled_detection_confidence']);
+    expect(SUMMARY_COLUMNS.slice(SUMMARY_COLUMNS.indexOf('pool'), SUMMARY_COLUMNS.indexOf('pool') + 5)).toEqual([
+      'pool',
+      'pools',
+      'positive_pool_pens',
+      'pool_sensitivity',
+      'unpooled_detection_confidence',
+    ]);
     const csv = fs.readFileSync(path.join(roundDir(ws.paths.outbox), 'summary.csv'), 'utf8').split('\n');
     const header = csv[0]!.split(',');
     const cell = (line: string, column: string) => line.split(',')[header.indexOf(column)];
-    const barnRow = csv.find((line) => line.startsWith('barn,') && cell(line, 'barn') === 'F1' && cell(line, 'assay') === 'PRRSV')!;
+    const barnRow = csv.find(
+      (line) => line.startsWith('barn,') && cell(line, 'barn') === 'F1' && cell(line, 'assay') === 'PRRSV',
+    )!;
     expect(cell(barnRow, 'pools')).toBe('2');
     expect(cell(barnRow, 'positive_pool_pens')).toBe('A1 A2 A3');
-    expect(Number(cell(barnRow, 'unpooled_detection_confidence'))).toBeCloseTo(prrsv.confidence.pooled.unpooledDetectionConfidence, 6);
-    const penRow = csv.find((line) => line.startsWith('pen,') && cell(line, 'pen') === 'A4' && cell(line, 'assay') === 'PRRSV')!;
+    expect(Number(cell(barnRow, 'unpooled_detection_confidence'))).toBeCloseTo(
+      prrsv.confidence.pooled.unpooledDetectionConfidence,
+      6,
+    );
+    const penRow = csv.find(
+      (line) => line.startsWith('pen,') && cell(line, 'pen') === 'A4' && cell(line, 'assay') === 'PRRSV',
+    )!;
     expect([cell(penRow, 'class'), cell(penRow, 'pool')]).toEqual(['negative', 'HC-P2']);
 
     const page = fs.readFileSync(path.join(roundDir(ws.paths.outbox), 'summary.html'), 'utf8');
@@ -83,7 +117,9 @@ describe('pooled ropes end to end', () => {
 
     // The next plan retests each pen of the positive pool on its own.
     const plan = JSON.parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', 'next-round.json'), 'utf8'));
-    const retests = plan.ropes.filter((rope: { barnId: string; reason: string }) => rope.barnId === 'F1' && rope.reason === 'retest').map((rope: { penId: string }) => rope.penId);
+    const retests = plan.ropes
+      .filter((rope: { barnId: string; reason: string }) => rope.barnId === 'F1' && rope.reason === 'retest')
+      .map((rope: { penId: string }) => rope.penId);
     expect(retests).toEqual(expect.arrayContaining(['A1', 'A2', 'A3']));
   });
 

@@ -40,13 +40,24 @@ const ROUND_1_RESULTS = northfieldExport(
   1,
 );
 
-type Clocked = { at: (iso: string) => void; drop: (name: string, bytes: Buffer) => Promise<void>; analyse: () => SiteAnalysis; close: () => void; outbox: string; site: Site };
+type Clocked = {
+  at: (iso: string) => void;
+  drop: (name: string, bytes: Buffer) => Promise<void>;
+  analyse: () => SiteAnalysis;
+  close: () => void;
+  outbox: string;
+  site: Site;
+};
 
 /** A workspace whose clock the test sets. */
 function clockedWorkspace(): Clocked {
   const made = workspace();
   let clock = new Date('2026-11-06T08:00:00Z');
-  const ws = openWorkspace(made.paths, () => clock, () => {});
+  const ws = openWorkspace(
+    made.paths,
+    () => clock,
+    () => {},
+  );
   return {
     at: (iso) => {
       clock = new Date(iso);
@@ -84,7 +95,12 @@ describe('a rope sheet that arrives before its results', () => {
       expect(followUps).toContain('F1 B7 retest');
 
       // The farm hangs the planned ropes on their due date (2026-11-02 + 14) and sends the sheet that day.
-      const hung = afterRound1.plan.ropes.map((rope) => ({ sampleId: rope.sampleId, barnId: rope.barnId, penId: rope.penId, hungOn: '2026-11-16' }));
+      const hung = afterRound1.plan.ropes.map((rope) => ({
+        sampleId: rope.sampleId,
+        barnId: rope.barnId,
+        penId: rope.penId,
+        hungOn: '2026-11-16',
+      }));
       expect(afterRound1.plan.dueDate).toBe('2026-11-16');
       run.at('2026-11-16T17:00:00Z');
       await run.drop('hollow-creek_ropes_2026-11-16.csv', ropeSheet(site, hung));
@@ -94,13 +110,17 @@ describe('a rope sheet that arrives before its results', () => {
       expect(round2.round).toMatchObject({ number: 2, state: 'awaiting-results', resultsDueOn: '2026-11-23' });
       expect(round2.barns.flatMap((barn) => barn.missingSampleIds)).toEqual([]);
       expect(round2.barns.reduce((sum, barn) => sum + barn.awaitingSampleIds.length, 0)).toBe(hung.length);
-      expect(roundAlerts(awaiting.summaries, awaiting.spatial, 1, awaiting.plan).map((alert) => alert.kind)).not.toContain('missing-ropes');
+      expect(
+        roundAlerts(awaiting.summaries, awaiting.spatial, 1, awaiting.plan).map((alert) => alert.kind),
+      ).not.toContain('missing-ropes');
       // No detection figure yet: the round is neither evidence of freedom nor a missed round.
       expect(awaiting.confidence[1]).toMatchObject({ barns: [], sites: [] });
       expect(round2.assays).toEqual([]);
       // The plan keeps the follow-ups and retests of round 1, the last round with results.
       expect(extraRopes(awaiting)).toEqual(followUps);
-      expect(awaiting.plan.notes.join(' ')).toContain('Round 2 is awaiting its results (due by 2026-11-23): follow-up and retest ropes come from round 1');
+      expect(awaiting.plan.notes.join(' ')).toContain(
+        'Round 2 is awaiting its results (due by 2026-11-23): follow-up and retest ropes come from round 1',
+      );
 
       const roundDir = path.join(run.outbox, 'hollow-creek', 'r02-2026-11-16');
       const page = fs.readFileSync(path.join(roundDir, 'summary.html'), 'utf8');
@@ -108,9 +128,18 @@ describe('a rope sheet that arrives before its results', () => {
       expect(page).not.toContain('without a result');
       const json = JSON.parse(fs.readFileSync(path.join(roundDir, 'summary.json'), 'utf8'));
       expect(json.round).toMatchObject({ state: 'awaiting-results', resultsDueOn: '2026-11-23' });
-      const rows = parse(fs.readFileSync(path.join(roundDir, 'summary.csv'), 'utf8'), { columns: true }) as Record<string, string>[];
+      const rows = parse(fs.readFileSync(path.join(roundDir, 'summary.csv'), 'utf8'), { columns: true }) as Record<
+        string,
+        string
+      >[];
       const siteRow = rows.find((row) => row.level === 'site')!;
-      expect(siteRow).toMatchObject({ round_state: 'awaiting-results', results_due_on: '2026-11-23', ropes_hung: String(hung.length), ropes_returned: '0', missing_sample_ids: '' });
+      expect(siteRow).toMatchObject({
+        round_state: 'awaiting-results',
+        results_due_on: '2026-11-23',
+        ropes_hung: String(hung.length),
+        ropes_returned: '0',
+        missing_sample_ids: '',
+      });
 
       // The last day of the grace period still awaits; the day after, the ropes are missing.
       run.at('2026-11-23T20:00:00Z');
@@ -118,13 +147,19 @@ describe('a rope sheet that arrives before its results', () => {
       run.at('2026-11-24T08:00:00Z');
       const late = run.analyse();
       expect(late.summaries[1]!.round.state).toBe('complete');
-      expect(late.summaries[1]!.barns.flatMap((barn) => barn.missingSampleIds).sort()).toEqual(hung.map((rope) => rope.sampleId).sort());
-      const missingAlerts = roundAlerts(late.summaries, late.spatial, 1, late.plan).filter((alert) => alert.kind === 'missing-ropes');
+      expect(late.summaries[1]!.barns.flatMap((barn) => barn.missingSampleIds).sort()).toEqual(
+        hung.map((rope) => rope.sampleId).sort(),
+      );
+      const missingAlerts = roundAlerts(late.summaries, late.spatial, 1, late.plan).filter(
+        (alert) => alert.kind === 'missing-ropes',
+      );
       expect(missingAlerts.length).toBeGreaterThan(0);
       for (const alert of missingAlerts) {
         const barn = late.summaries[1]!.barns.find((entry) => entry.barnId === alert.barnId)!;
         // The words add up: returned + missing = ropes on sheets or plans.
-        expect(alert.message).toContain(`${barn.missingSampleIds.length} rope${barn.missingSampleIds.length === 1 ? '' : 's'} in barn ${barn.barnId} without a result`);
+        expect(alert.message).toContain(
+          `${barn.missingSampleIds.length} rope${barn.missingSampleIds.length === 1 ? '' : 's'} in barn ${barn.barnId} without a result`,
+        );
         expect(alert.message).toContain(`0 of ${barn.missingSampleIds.length} ropes on sheets or plans came back`);
       }
       // A round that brought nothing back proves nothing: 0 detection, and freedom decays over it.
@@ -140,15 +175,26 @@ describe('ropewatch status after a rope sheet dated today', () => {
   it('names the last round as awaiting results, with no rope missing', async () => {
     // The in-process CLI's clock reads 2026-12-01 (test/helpers/runCli.ts).
     const ws = workspace();
-    const ropes = ROUND_1.map((rope) => ({ ...rope, sampleId: rope.sampleId.replace('1102', '1201'), hungOn: '2026-12-01' }));
-    fs.writeFileSync(path.join(ws.paths.inbox, 'hollow-creek_ropes_2026-12-01.csv'), ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ropes));
-    expect((await runCli(['ingest', path.join(ws.paths.inbox, 'hollow-creek_ropes_2026-12-01.csv'), ...ws.cliFlags])).code).toBe(0);
+    const ropes = ROUND_1.map((rope) => ({
+      ...rope,
+      sampleId: rope.sampleId.replace('1102', '1201'),
+      hungOn: '2026-12-01',
+    }));
+    fs.writeFileSync(
+      path.join(ws.paths.inbox, 'hollow-creek_ropes_2026-12-01.csv'),
+      ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, ropes),
+    );
+    expect(
+      (await runCli(['ingest', path.join(ws.paths.inbox, 'hollow-creek_ropes_2026-12-01.csv'), ...ws.cliFlags])).code,
+    ).toBe(0);
     const status = JSON.parse((await runCli(['status', '--json', ...ws.cliFlags])).stdout);
     // By hand: results due 2026-12-01 + 7 = 2026-12-08.
     expect(status.sites.find((site: { site: string }) => site.site === 'hollow-creek')).toMatchObject({
       lastRound: { id: 'r01-2026-12-01', state: 'awaiting-results', resultsDueOn: '2026-12-08' },
       missingRopesLastRound: [],
     });
-    expect((await runCli(['status', ...ws.cliFlags])).stdout).toContain('last r01-2026-12-01 (awaiting results, due by 2026-12-08)');
+    expect((await runCli(['status', ...ws.cliFlags])).stdout).toContain(
+      'last r01-2026-12-01 (awaiting results, due by 2026-12-08)',
+    );
   });
 });

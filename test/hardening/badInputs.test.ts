@@ -32,7 +32,9 @@ async function ingestOne(ws: TestWorkspace, name: string, bytes: Buffer | string
   fs.writeFileSync(file, bytes);
   const run = await runCli(['ingest', file, ...ws.cliFlags]);
   const receiptsDir = path.join(ws.paths.outbox, 'receipts');
-  const receiptFile = fs.readdirSync(receiptsDir).find((entry) => entry.startsWith(`${name}.`) && entry.endsWith('.receipt.json'));
+  const receiptFile = fs
+    .readdirSync(receiptsDir)
+    .find((entry) => entry.startsWith(`${name}.`) && entry.endsWith('.receipt.json'));
   expect(receiptFile, `receipt for ${name}`).toBeDefined();
   const receipt = JSON.parse(fs.readFileSync(path.join(receiptsDir, receiptFile!), 'utf8')) as Receipt;
   return { file, run, receipt, look: lookIntoStore(ws.paths.dbFile) };
@@ -51,7 +53,9 @@ function expectFileRefused(ws: TestWorkspace, outcome: Awaited<ReturnType<typeof
   const name = path.basename(outcome.file);
   expect(fs.existsSync(outcome.file)).toBe(false);
   expect(fs.existsSync(path.join(ws.paths.inbox, 'rejected', name))).toBe(true);
-  expect(fs.readFileSync(path.join(ws.paths.inbox, 'rejected', `${name}.reason.txt`), 'utf8')).toContain(`code: ${code}`);
+  expect(fs.readFileSync(path.join(ws.paths.inbox, 'rejected', `${name}.reason.txt`), 'utf8')).toContain(
+    `code: ${code}`,
+  );
 }
 
 describe('bad inputs through ropewatch ingest', () => {
@@ -60,12 +64,18 @@ describe('bad inputs through ropewatch ingest', () => {
     const out = await ingestOne(
       ws,
       'nvdl_assay.csv',
-      lines(northfieldLine('C1', 'S-1', 'PRRSV', '30.1'), 'C2,S-2,PEDV RT-PCR,28.0,Positive,PASS,2026-08-03,2026-08-06,Final', northfieldLine('C3', 'S-3', 'IAV', 'Undetermined')),
+      lines(
+        northfieldLine('C1', 'S-1', 'PRRSV', '30.1'),
+        'C2,S-2,PEDV RT-PCR,28.0,Positive,PASS,2026-08-03,2026-08-06,Final',
+        northfieldLine('C3', 'S-3', 'IAV', 'Undetermined'),
+      ),
     );
     expect(out.run.code).toBe(1);
     expect(out.receipt.status).toBe('accepted');
     expect(out.receipt.rows).toMatchObject({ accepted: 2, rejected: 1 });
-    expect(out.receipt.rejectedRows).toEqual([expect.objectContaining({ code: 'unknown-assay', line: 3, field: 'Test Name', value: 'PEDV RT-PCR' })]);
+    expect(out.receipt.rejectedRows).toEqual([
+      expect.objectContaining({ code: 'unknown-assay', line: 3, field: 'Test Name', value: 'PEDV RT-PCR' }),
+    ]);
     expect(out.look.results).toBe(2);
     expect(out.look.rejectedRows).toBe(1);
     expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_assay.csv'))).toBe(true);
@@ -73,7 +83,13 @@ describe('bad inputs through ropewatch ingest', () => {
 
   it('refuses rope-sheet rows naming an unknown site or an unknown pen (unknown-site, unknown-pen), keeps the good row and exits 1', async () => {
     const ws = workspace();
-    const sheet = ['sample_id,site,barn,pen,hung_on', 'R1,hollow-creek,F1,A1,2026-08-03', 'R2,Nowhere Farm,F1,A2,2026-08-03', 'R3,hollow-creek,F1,A99,2026-08-03'].join('\n') + '\n';
+    const sheet =
+      [
+        'sample_id,site,barn,pen,hung_on',
+        'R1,hollow-creek,F1,A1,2026-08-03',
+        'R2,Nowhere Farm,F1,A2,2026-08-03',
+        'R3,hollow-creek,F1,A99,2026-08-03',
+      ].join('\n') + '\n';
     const out = await ingestOne(ws, 'ropes_bad-place.csv', sheet);
     expect(out.run.code).toBe(1);
     expect(out.receipt.kind).toBe('ropes');
@@ -86,7 +102,11 @@ describe('bad inputs through ropewatch ingest', () => {
 
   it('refuses a whole file whose header names a column twice (duplicate-header, line 1) and moves it to inbox/rejected', async () => {
     const ws = workspace();
-    const out = await ingestOne(ws, 'nvdl_dup.csv', `${NORTHFIELD_HEADER.join(',')},Ct Value\n${northfieldLine('C1', 'S-1', 'PRRSV', '30.1')},30.1\n`);
+    const out = await ingestOne(
+      ws,
+      'nvdl_dup.csv',
+      `${NORTHFIELD_HEADER.join(',')},Ct Value\n${northfieldLine('C1', 'S-1', 'PRRSV', '30.1')},30.1\n`,
+    );
     expectFileRefused(ws, out, 'duplicate-header');
     expect(out.receipt.reason).toMatchObject({ line: 1, field: 'Ct Value' });
   });
@@ -94,7 +114,11 @@ describe('bad inputs through ropewatch ingest', () => {
   it('refuses a whole file that lacks a required column (missing-column, naming the column)', async () => {
     const ws = workspace();
     const header = NORTHFIELD_HEADER.filter((cell) => cell !== 'Ct Value').join(',');
-    const out = await ingestOne(ws, 'nvdl_noct.csv', `${header}\nC1,S-1,PRRSV NA/EU RT-PCR,Positive,PASS,2026-08-03,2026-08-06,Final\n`);
+    const out = await ingestOne(
+      ws,
+      'nvdl_noct.csv',
+      `${header}\nC1,S-1,PRRSV NA/EU RT-PCR,Positive,PASS,2026-08-03,2026-08-06,Final\n`,
+    );
     expectFileRefused(ws, out, 'missing-column');
     expect(out.receipt.reason).toMatchObject({ field: 'Ct Value' });
   });
@@ -112,7 +136,9 @@ describe('bad inputs through ropewatch ingest', () => {
     );
     expect(out.run.code).toBe(1);
     expect(out.receipt.rows).toMatchObject({ accepted: 1, rejected: 1 });
-    expect(out.receipt.rejectedRows).toEqual([expect.objectContaining({ code: 'pen-twice-same-day', line: 3, field: 'pen', value: 'A4' })]);
+    expect(out.receipt.rejectedRows).toEqual([
+      expect.objectContaining({ code: 'pen-twice-same-day', line: 3, field: 'pen', value: 'A4' }),
+    ]);
     expect(out.look.ropes).toBe(1);
   });
 
@@ -124,9 +150,15 @@ describe('bad inputs through ropewatch ingest', () => {
     const check = mod37CheckCharacter('HCF01005');
     expect(good).toBe(`HCF01-005${check}`);
     const wrong = `HCF01-005${check === 'X' ? 'Y' : 'X'}`;
-    const out = await ingestOne(ws, 'nvdl_check.csv', lines(northfieldLine('C1', good, 'PRRSV', '30.1'), northfieldLine('C2', wrong, 'PRRSV', '29.0')));
+    const out = await ingestOne(
+      ws,
+      'nvdl_check.csv',
+      lines(northfieldLine('C1', good, 'PRRSV', '30.1'), northfieldLine('C2', wrong, 'PRRSV', '29.0')),
+    );
     expect(out.run.code).toBe(1);
-    expect(out.receipt.rejectedRows).toEqual([expect.objectContaining({ code: 'bad-check-character', line: 3, field: 'Sample ID', value: wrong })]);
+    expect(out.receipt.rejectedRows).toEqual([
+      expect.objectContaining({ code: 'bad-check-character', line: 3, field: 'Sample ID', value: wrong }),
+    ]);
     expect(out.look.results).toBe(1);
   });
 
@@ -143,7 +175,10 @@ describe('bad inputs through ropewatch ingest', () => {
   it('refuses binary content that is not CSV at all (not-csv)', async () => {
     const ws = workspace();
     // The first bytes of a PNG image (PNG specification, file signature) and some binary noise.
-    const png = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 0x0d]), Buffer.alloc(200, 0x07)]);
+    const png = Buffer.concat([
+      Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 0x0d]),
+      Buffer.alloc(200, 0x07),
+    ]);
     expectFileRefused(ws, await ingestOne(ws, 'nvdl_picture.csv', png), 'not-csv');
   });
 
@@ -151,7 +186,12 @@ describe('bad inputs through ropewatch ingest', () => {
     const ws = workspace();
     // Line 4 opens a quote that never closes; six megabytes follow (read on the parse worker).
     const filler = `${'x'.repeat(99)}\n`.repeat(60_000);
-    const text = lines(northfieldLine('NV-1', 'Q-1', 'PRRSV', '31.0'), northfieldLine('NV-2', 'Q-2', 'PRRSV', 'Undetermined'), 'NV-3,"Q-3,PRRSV NA/EU RT-PCR,30.1') + filler;
+    const text =
+      lines(
+        northfieldLine('NV-1', 'Q-1', 'PRRSV', '31.0'),
+        northfieldLine('NV-2', 'Q-2', 'PRRSV', 'Undetermined'),
+        'NV-3,"Q-3,PRRSV NA/EU RT-PCR,30.1',
+      ) + filler;
     expect(Buffer.byteLength(text)).toBeGreaterThanOrEqual(PARSE_IN_WORKER_FROM_BYTES);
     const out = await ingestOne(ws, 'nvdl_unclosed_big.csv', text);
     expectFileRefused(ws, out, 'malformed-csv');
@@ -160,13 +200,20 @@ describe('bad inputs through ropewatch ingest', () => {
 
   it('refuses prose that is text but no lab export or rope sheet (unknown-format)', async () => {
     const ws = workspace();
-    expectFileRefused(ws, await ingestOne(ws, 'notes.txt', 'Dear clinic,\nplease find the results attached.\nRegards\n'), 'unknown-format');
+    expectFileRefused(
+      ws,
+      await ingestOne(ws, 'notes.txt', 'Dear clinic,\nplease find the results attached.\nRegards\n'),
+      'unknown-format',
+    );
   });
 
   it('stores a good export completely next to refused files in the same run, and exits 1 for the refusals', async () => {
     const ws = workspace();
     const good = path.join(ws.paths.inbox, 'nvdl_good.csv');
-    fs.writeFileSync(good, northfieldExport([{ sampleId: 'G-1', assay: 'PRRSV', ct: 30, collectedOn: '2026-08-03' }], '2026-08-06', 1));
+    fs.writeFileSync(
+      good,
+      northfieldExport([{ sampleId: 'G-1', assay: 'PRRSV', ct: 30, collectedOn: '2026-08-03' }], '2026-08-06', 1),
+    );
     const bad = path.join(ws.paths.inbox, 'nvdl_bad.csv');
     fs.writeFileSync(bad, '');
     const run = await runCli(['ingest', bad, good, ...ws.cliFlags]);

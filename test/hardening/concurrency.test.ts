@@ -28,7 +28,10 @@ describe('two ingest processes on the same store', () => {
     const b = path.join(ws.paths.inbox, 'nvdl_b.csv');
     fs.writeFileSync(a, bigNorthfieldExport(ROWS, 'LABA'));
     fs.writeFileSync(b, bigNorthfieldExport(ROWS, 'LABB'));
-    const [first, second] = await Promise.all([spawnCli(['ingest', a, ...ws.flags]).done, spawnCli(['ingest', b, ...ws.flags]).done]);
+    const [first, second] = await Promise.all([
+      spawnCli(['ingest', a, ...ws.flags]).done,
+      spawnCli(['ingest', b, ...ws.flags]).done,
+    ]);
     expect(first.code, first.stderr).toBe(0);
     expect(second.code, second.stderr).toBe(0);
     const look = lookIntoStore(ws.paths.db);
@@ -42,7 +45,10 @@ describe('two ingest processes on the same store', () => {
     const ws = workspace('same');
     const file = path.join(ws.paths.inbox, 'nvdl_same.csv');
     fs.writeFileSync(file, bigNorthfieldExport(ROWS, 'LABS'));
-    const runs = await Promise.all([spawnCli(['ingest', file, ...ws.flags]).done, spawnCli(['ingest', file, ...ws.flags]).done]);
+    const runs = await Promise.all([
+      spawnCli(['ingest', file, ...ws.flags]).done,
+      spawnCli(['ingest', file, ...ws.flags]).done,
+    ]);
     for (const run of runs) expect(run.code, run.stderr).toBe(0);
     const outputs = runs.map((run) => run.stdout).join('\n');
     expect(outputs).toContain(`accepted nvdl_same.csv`);

@@ -93,40 +93,43 @@ async function waitForBytesRead(pid: number, atLeast: number, timeoutMs: number)
 }
 
 describe('a crash (SIGKILL) while an export is being stored', () => {
-  it.each(CASES)('leaves all rows or none, keeps the file in the inbox, and a second run stores it completely ($rows rows, killed after reading $share of them)', async ({ rows: ROWS, share }) => {
-    const bytes = exports.get(ROWS)!;
-    const ws = workspace(`kill-${ROWS}-${share}`);
-    const file = path.join(ws.paths.inbox, 'nvdl_big.csv');
-    fs.writeFileSync(file, bytes);
+  it.each(CASES)(
+    'leaves all rows or none, keeps the file in the inbox, and a second run stores it completely ($rows rows, killed after reading $share of them)',
+    async ({ rows: ROWS, share }) => {
+      const bytes = exports.get(ROWS)!;
+      const ws = workspace(`kill-${ROWS}-${share}`);
+      const file = path.join(ws.paths.inbox, 'nvdl_big.csv');
+      fs.writeFileSync(file, bytes);
 
-    const first = spawnCli(['ingest', file, ...ws.flags]);
-    await waitForWriteLock(ws.paths.db, 30_000);
-    const readBefore = bytesRead(first.child.pid!) ?? 0;
-    await waitForBytesRead(first.child.pid!, readBefore + share * bytes.length, 30_000);
-    first.child.kill('SIGKILL');
-    const killed = await first.done;
-    // The kill must land while the child is still working, or the test proves nothing.
-    expect(killed.signal, killed.stdout + killed.stderr).toBe('SIGKILL');
+      const first = spawnCli(['ingest', file, ...ws.flags]);
+      await waitForWriteLock(ws.paths.db, 30_000);
+      const readBefore = bytesRead(first.child.pid!) ?? 0;
+      await waitForBytesRead(first.child.pid!, readBefore + share * bytes.length, 30_000);
+      first.child.kill('SIGKILL');
+      const killed = await first.done;
+      // The kill must land while the child is still working, or the test proves nothing.
+      expect(killed.signal, killed.stdout + killed.stderr).toBe('SIGKILL');
 
-    const afterCrash = lookIntoStore(ws.paths.db);
-    expect(afterCrash.integrity).toBe('ok');
-    const stored = afterCrash.resultsByFile['nvdl_big.csv'] ?? 0;
-    // All or nothing: one transaction per file.
-    expect([0, ROWS]).toContain(stored);
-    if (stored === 0) expect(afterCrash.files).toEqual([]);
-    // The file moves only after the commit: it is still waiting in the inbox.
-    expect(fs.existsSync(file)).toBe(true);
-    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(false);
+      const afterCrash = lookIntoStore(ws.paths.db);
+      expect(afterCrash.integrity).toBe('ok');
+      const stored = afterCrash.resultsByFile['nvdl_big.csv'] ?? 0;
+      // All or nothing: one transaction per file.
+      expect([0, ROWS]).toContain(stored);
+      if (stored === 0) expect(afterCrash.files).toEqual([]);
+      // The file moves only after the commit: it is still waiting in the inbox.
+      expect(fs.existsSync(file)).toBe(true);
+      expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(false);
 
-    const second = await spawnCli(['ingest', file, ...ws.flags]).done;
-    expect(second.code, second.stderr).toBe(0);
-    const afterRetry = lookIntoStore(ws.paths.db);
-    expect(afterRetry.integrity).toBe('ok');
-    expect(afterRetry.resultsByFile['nvdl_big.csv']).toBe(ROWS);
-    expect(afterRetry.files.filter((f) => f.name === 'nvdl_big.csv')).toHaveLength(1);
-    expect(fs.existsSync(file)).toBe(false);
-    expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(true);
-  });
+      const second = await spawnCli(['ingest', file, ...ws.flags]).done;
+      expect(second.code, second.stderr).toBe(0);
+      const afterRetry = lookIntoStore(ws.paths.db);
+      expect(afterRetry.integrity).toBe('ok');
+      expect(afterRetry.resultsByFile['nvdl_big.csv']).toBe(ROWS);
+      expect(afterRetry.files.filter((f) => f.name === 'nvdl_big.csv')).toHaveLength(1);
+      expect(fs.existsSync(file)).toBe(false);
+      expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'nvdl_big.csv'))).toBe(true);
+    },
+  );
 });
 
 /**
@@ -144,7 +147,9 @@ describe('a crash (SIGKILL) around the outputs of a file', () => {
       if (fs.existsSync(dbFile)) {
         const db = new Database(dbFile, { readonly: true, timeout: 0 });
         try {
-          const found = db.prepare('SELECT 1 FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = ?').get(sampleId);
+          const found = db
+            .prepare('SELECT 1 FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = ?')
+            .get(sampleId);
           if (found !== undefined) return;
         } catch {
           // The schema may not be there yet.
@@ -165,14 +170,31 @@ describe('a crash (SIGKILL) around the outputs of a file', () => {
     for (const delay of KILL_AFTER_COMMIT_MS) {
       const ws = workspace(`outputs-${delay}`);
       const site = loadConfig(ws.paths.config).siteById.get('HOLLOW-CREEK')!;
-      const ropes = site.barns[0]!.pens.slice(0, 30).map((pen, index) => ({ sampleId: `CR-${String(index).padStart(3, '0')}`, barnId: site.barns[0]!.id, penId: pen.id, hungOn: '2026-08-03' }));
+      const ropes = site.barns[0]!.pens.slice(0, 30).map((pen, index) => ({
+        sampleId: `CR-${String(index).padStart(3, '0')}`,
+        barnId: site.barns[0]!.id,
+        penId: pen.id,
+        hungOn: '2026-08-03',
+      }));
       const sheet = path.join(ws.paths.inbox, 'ropes.csv');
       fs.writeFileSync(sheet, ropeSheet(site, ropes));
       expect((await spawnCli(['ingest', sheet, ...ws.flags]).done).code).toBe(0);
 
       // The marker: one positive, CR-007; every other rope negative.
       const results = path.join(ws.paths.inbox, 'nvdl_results.csv');
-      fs.writeFileSync(results, northfieldExport(ropes.map((rope) => ({ sampleId: rope.sampleId, assay: 'PRRSV' as const, ct: rope.sampleId === 'CR-007' ? 24.2 : null, collectedOn: '2026-08-03' })), '2026-08-06', 1));
+      fs.writeFileSync(
+        results,
+        northfieldExport(
+          ropes.map((rope) => ({
+            sampleId: rope.sampleId,
+            assay: 'PRRSV' as const,
+            ct: rope.sampleId === 'CR-007' ? 24.2 : null,
+            collectedOn: '2026-08-03',
+          })),
+          '2026-08-06',
+          1,
+        ),
+      );
       const run = spawnCli(['ingest', results, ...ws.flags]);
       // Kill once the file's commit is visible (a read-only look: WAL readers never wait on the
       // writer), plus the delay: the kill lands while the outputs are being written.
@@ -182,7 +204,11 @@ describe('a crash (SIGKILL) around the outputs of a file', () => {
       await run.done;
 
       const db = new Database(ws.paths.db, { readonly: true });
-      const stored = (db.prepare("SELECT COUNT(*) AS n FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = 'CR-007'").get() as { n: number }).n;
+      const stored = (
+        db
+          .prepare("SELECT COUNT(*) AS n FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = 'CR-007'")
+          .get() as { n: number }
+      ).n;
       db.close();
       const positivePensShown = (): string[] => {
         const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
@@ -190,7 +216,9 @@ describe('a crash (SIGKILL) around the outputs of a file', () => {
         return (fs.readdirSync(siteDir, { recursive: true, encoding: 'utf8' }) as string[])
           .filter((entry) => entry.endsWith('summary.json'))
           .flatMap((entry) => {
-            const summary = JSON.parse(fs.readFileSync(path.join(siteDir, entry), 'utf8')) as { barns: { assays: { positivePens: string[] }[] }[] };
+            const summary = JSON.parse(fs.readFileSync(path.join(siteDir, entry), 'utf8')) as {
+              barns: { assays: { positivePens: string[] }[] }[];
+            };
             return summary.barns.flatMap((barn) => barn.assays.flatMap((assay) => assay.positivePens));
           });
       };
@@ -201,7 +229,11 @@ describe('a crash (SIGKILL) around the outputs of a file', () => {
       if (stored === 0) expect(shown, outcomes.join('; ')).toBe(false);
 
       // Any later run brings the outbox up to the store (here: the same file again).
-      const again = await spawnCli(['ingest', ...(fs.existsSync(results) ? [results] : [sheet.replace('ropes.csv', 'archive/ropes.csv')]), ...ws.flags]).done;
+      const again = await spawnCli([
+        'ingest',
+        ...(fs.existsSync(results) ? [results] : [sheet.replace('ropes.csv', 'archive/ropes.csv')]),
+        ...ws.flags,
+      ]).done;
       expect(again.code, again.stderr).toBe(0);
       const positivePens = positivePensShown();
       expect(positivePens, outcomes.join('; ')).toEqual([ropes[7]!.penId]);

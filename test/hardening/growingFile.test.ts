@@ -21,9 +21,18 @@ import { FIXED_NOW, workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
 
-function rows(from: number, to: number): { sampleId: string; assay: 'PRRSV'; ct: number | null; collectedOn: string }[] {
+function rows(
+  from: number,
+  to: number,
+): { sampleId: string; assay: 'PRRSV'; ct: number | null; collectedOn: string }[] {
   const list: { sampleId: string; assay: 'PRRSV'; ct: number | null; collectedOn: string }[] = [];
-  for (let i = from; i <= to; i++) list.push({ sampleId: `GROW-${String(i).padStart(4, '0')}`, assay: 'PRRSV' as const, ct: i === 700 ? 24.5 : null, collectedOn: '2026-08-03' });
+  for (let i = from; i <= to; i++)
+    list.push({
+      sampleId: `GROW-${String(i).padStart(4, '0')}`,
+      assay: 'PRRSV' as const,
+      ct: i === 700 ? 24.5 : null,
+      collectedOn: '2026-08-03',
+    });
   return list;
 }
 
@@ -56,13 +65,25 @@ describe('a file that grows while it is read', () => {
       const { first, rest } = exportInTwoParts((whole) => whole.split('\n').slice(0, 401).join('\n').length + 1);
       fs.writeFileSync(file, first);
       const parseInWorkerFromBytes = thread === 'parse worker' ? 0 : Number.POSITIVE_INFINITY;
-      await expect(ingestFile(file, { config: open.config, store: open.store, now: clockThatAppends(file, rest), parseInWorkerFromBytes })).rejects.toBeInstanceOf(FileStillChangingError);
+      await expect(
+        ingestFile(file, {
+          config: open.config,
+          store: open.store,
+          now: clockThatAppends(file, rest),
+          parseInWorkerFromBytes,
+        }),
+      ).rejects.toBeInstanceOf(FileStillChangingError);
       expect(open.store.fileOpen).toBe(false);
       expect(open.store.counts()).toMatchObject({ files: 0, results: 0, rejectedRows: 0 });
       expect(fs.existsSync(file)).toBe(true);
 
       // The writer has finished: the next read stores all 1,000 rows.
-      const receipt = await ingestFile(file, { config: open.config, store: open.store, now: () => FIXED_NOW, parseInWorkerFromBytes });
+      const receipt = await ingestFile(file, {
+        config: open.config,
+        store: open.store,
+        now: () => FIXED_NOW,
+        parseInWorkerFromBytes,
+      });
       expect(receipt).toMatchObject({ status: 'accepted', rows: { accepted: 1000, rejected: 0 } });
       expect(receipt.sha256).toBe(createHash('sha256').update(fs.readFileSync(file)).digest('hex'));
     });
@@ -76,7 +97,9 @@ describe('a file that grows while it is read', () => {
     const whole = northfieldExport(rows(1, 1000), '2026-08-06', 1).toString('utf8').replace('GROW-0300', '"GROW-0300"');
     const at = whole.indexOf('"GROW-0300"') + 1;
     fs.writeFileSync(file, whole.slice(0, at));
-    await expect(ingestFile(file, { config: open.config, store: open.store, now: clockThatAppends(file, whole.slice(at)) })).rejects.toBeInstanceOf(FileStillChangingError);
+    await expect(
+      ingestFile(file, { config: open.config, store: open.store, now: clockThatAppends(file, whole.slice(at)) }),
+    ).rejects.toBeInstanceOf(FileStillChangingError);
     expect(open.store.counts()).toMatchObject({ files: 0, rejectedFiles: 0 });
     expect(fs.readFileSync(file, 'utf8')).toBe(whole);
   });
@@ -91,7 +114,15 @@ describe('a file that grows while it is read', () => {
     const sha256 = createHash('sha256').update(bytes).digest('hex');
     const sniffed = sniffEncoding(bytes, 'auto');
     const kind = detectFileKind('nvdl_unit.csv', first, config.labs);
-    const input = { file, expected: { bytes: bytes.length, sha256 }, fileName: 'nvdl_unit.csv', sniffed, kind, sites: config.sites, assayById: config.assayById };
+    const input = {
+      file,
+      expected: { bytes: bytes.length, sha256 },
+      fileName: 'nvdl_unit.csv',
+      sniffed,
+      kind,
+      sites: config.sites,
+      assayById: config.assayById,
+    };
     let stored = 0;
     for await (const batch of mappedBatches(input)) stored += batch.results.length;
     expect(stored).toBe(100);
@@ -105,7 +136,8 @@ describe('a file that grows while it is read', () => {
     // Appended bytes are not read at all: the 100 rows hashed are what is parsed.
     fs.writeFileSync(file, first + rest);
     stored = 0;
-    for await (const batch of mappedBatches({ ...input, expected: { bytes: bytes.length, sha256 } })) stored += batch.results.length;
+    for await (const batch of mappedBatches({ ...input, expected: { bytes: bytes.length, sha256 } }))
+      stored += batch.results.length;
     expect(stored).toBe(100);
   });
 
@@ -134,10 +166,21 @@ describe('a header longer than the first block read', () => {
     const base = northfieldExport(rows(1, 3), '2026-08-06', 1).toString('utf8').split('\n');
     // An extra first column whose name is longer than 64 KB, and an empty cell for it in each row.
     const longName = `Remarks ${'x'.repeat(100_000)}`;
-    const lines = [`${longName},${base[0]}`, ...base.slice(1).filter((line) => line !== '').map((line) => `,${line}`)];
+    const lines = [
+      `${longName},${base[0]}`,
+      ...base
+        .slice(1)
+        .filter((line) => line !== '')
+        .map((line) => `,${line}`),
+    ];
     fs.writeFileSync(file, lines.join('\n') + '\n');
     const receipt = await ingestFile(file, { config: open.config, store: open.store, now: () => FIXED_NOW });
     expect(receipt.reason).toBeNull();
-    expect(receipt).toMatchObject({ status: 'accepted', kind: 'results', lab: 'northfield', rows: { accepted: 3, rejected: 0 } });
+    expect(receipt).toMatchObject({
+      status: 'accepted',
+      kind: 'results',
+      lab: 'northfield',
+      rows: { accepted: 3, rejected: 0 },
+    });
   });
 });

@@ -27,7 +27,8 @@ function writeAt(file: string, content: Buffer | string): string {
   fs.writeFileSync(file, content);
   return file;
 }
-const inboxFile = (ws: TestWorkspace, name: string, content: Buffer | string) => writeAt(path.join(ws.paths.inbox, name), content);
+const inboxFile = (ws: TestWorkspace, name: string, content: Buffer | string) =>
+  writeAt(path.join(ws.paths.inbox, name), content);
 const list = (dir: string) => (fs.existsSync(dir) ? fs.readdirSync(dir).sort() : []);
 const receiptsOf = (ws: TestWorkspace) => list(path.join(ws.paths.outbox, 'receipts'));
 const readReceipts = (ws: TestWorkspace): Receipt[] =>
@@ -55,10 +56,16 @@ describe('file names at the 255-byte limit', () => {
     expect(rejected).toHaveLength(2);
     const reason = rejected.find((name) => name.endsWith('.reason.txt'))!;
     expect(rejected).toContain(reason.slice(0, -'.reason.txt'.length));
-    expect(fs.readFileSync(path.join(ws.paths.inbox, 'rejected', reason), 'utf8')).toContain(`ropewatch receipt for ${longName}`);
+    expect(fs.readFileSync(path.join(ws.paths.inbox, 'rejected', reason), 'utf8')).toContain(
+      `ropewatch receipt for ${longName}`,
+    );
     expect(list(path.join(ws.paths.inbox, 'archive'))).toEqual(['ropes.csv']);
     expect(receiptsOf(ws)).toHaveLength(4);
-    expect(readReceipts(ws).map((receipt) => receipt.file).sort()).toEqual([longName, 'ropes.csv'].sort());
+    expect(
+      readReceipts(ws)
+        .map((receipt) => receipt.file)
+        .sort(),
+    ).toEqual([longName, 'ropes.csv'].sort());
     for (const name of [...rejected, ...receiptsOf(ws)]) expect(bytes(name)).toBeLessThanOrEqual(NAME_MAX);
     expect(fs.readdirSync(ws.paths.inbox).sort()).toEqual(['archive', 'rejected']);
   });
@@ -71,40 +78,53 @@ describe('file names at the 255-byte limit', () => {
     const second = inboxFile(
       ws,
       euros,
-      ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, [{ sampleId: 'C3', barnId: 'F1', penId: 'A3', hungOn: '2026-08-03' }]),
+      ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, [
+        { sampleId: 'C3', barnId: 'F1', penId: 'A3', hungOn: '2026-08-03' },
+      ]),
     );
     const run = await runCli(['ingest', first, second, ...ws.cliFlags]);
     expect(run.code, run.stderr).toBe(0);
     expect(run.stderr).toBe('');
     expect(receiptsOf(ws)).toHaveLength(4);
-    expect(readReceipts(ws).map((receipt) => receipt.file).sort()).toEqual([ascii, euros].sort());
+    expect(
+      readReceipts(ws)
+        .map((receipt) => receipt.file)
+        .sort(),
+    ).toEqual([ascii, euros].sort());
     for (const name of receiptsOf(ws)) expect(bytes(name)).toBeLessThanOrEqual(NAME_MAX);
     expect(list(path.join(ws.paths.inbox, 'archive'))).toEqual([ascii, euros].sort());
   });
 });
 
 describe('a plain file where inbox/archive or inbox/rejected must go', () => {
-  it.each(['archive', 'rejected'])('ingest and watch refuse to start (exit 2) naming inbox/%s, and store nothing', async (dir) => {
-    const ws = workspace();
-    writeAt(path.join(ws.paths.inbox, dir), 'not a folder\n');
-    const file = inboxFile(ws, 'ropes.csv', sheet(ws));
-    const run = await runCli(['ingest', file, ...ws.cliFlags]);
-    expect(run.code).toBe(2);
-    expect(run.stderr).toContain(path.join(ws.paths.inbox, dir));
-    expect(run.stderr).toMatch(/not a folder.*rename or move/);
-    expect(run.stderr.trim().split('\n')).toHaveLength(1);
-    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
-    expect(fs.existsSync(file)).toBe(true);
-    const watch = await runCli(['watch', ...ws.cliFlags], { stopSignal: Promise.resolve() });
-    expect(watch.code).toBe(2);
-    expect(watch.stderr).toContain(path.join(ws.paths.inbox, dir));
-    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
-  });
+  it.each(['archive', 'rejected'])(
+    'ingest and watch refuse to start (exit 2) naming inbox/%s, and store nothing',
+    async (dir) => {
+      const ws = workspace();
+      writeAt(path.join(ws.paths.inbox, dir), 'not a folder\n');
+      const file = inboxFile(ws, 'ropes.csv', sheet(ws));
+      const run = await runCli(['ingest', file, ...ws.cliFlags]);
+      expect(run.code).toBe(2);
+      expect(run.stderr).toContain(path.join(ws.paths.inbox, dir));
+      expect(run.stderr).toMatch(/not a folder.*rename or move/);
+      expect(run.stderr.trim().split('\n')).toHaveLength(1);
+      expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
+      expect(fs.existsSync(file)).toBe(true);
+      const watch = await runCli(['watch', ...ws.cliFlags], { stopSignal: Promise.resolve() });
+      expect(watch.code).toBe(2);
+      expect(watch.stderr).toContain(path.join(ws.paths.inbox, dir));
+      expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
+    },
+  );
 
   it('does not crash when the folder cannot be made after the commit: the file stays in the inbox and one line says why', async () => {
     const ws = workspace();
     const lines: string[] = [];
-    const open = openWorkspace(ws.paths, () => FIXED_NOW, (line) => lines.push(line));
+    const open = openWorkspace(
+      ws.paths,
+      () => FIXED_NOW,
+      (line) => lines.push(line),
+    );
     try {
       const file = inboxFile(ws, 'ropes.csv', sheet(ws));
       // Made after any start-up check could see it (a watcher running for days).
@@ -171,7 +191,11 @@ describe('control characters in names and cells', () => {
     // title sequence is common practice, no source); U+009B is the 8-bit CSI (ECMA-48 5.3).
     const name = 'nvdl_\u001b[2J\u001b]0;owned\u0007_\u009b31m.csv';
     const sample = 'X\u001b[1A\u001b[2KY';
-    const file = inboxFile(ws, name, northfieldExport([{ sampleId: sample, assay: 'PRRSV', ct: 31, collectedOn: '2026-08-03' }], '2026-08-06', 1));
+    const file = inboxFile(
+      ws,
+      name,
+      northfieldExport([{ sampleId: sample, assay: 'PRRSV', ct: 31, collectedOn: '2026-08-03' }], '2026-08-06', 1),
+    );
     const bad = inboxFile(ws, 'nvdl_\r\u001b[Kok.csv', INVOICE);
     const run = await runCli(['ingest', file, bad, ...ws.cliFlags]);
     const status = await runCli(['status', ...ws.cliFlags]);
@@ -182,7 +206,8 @@ describe('control characters in names and cells', () => {
     expect(status.stdout).toContain('X\\x1b[1A\\x1b[2KY');
     const texts = receiptsOf(ws).filter((entry) => entry.endsWith('.txt'));
     expect(texts).toHaveLength(2);
-    for (const entry of texts) expect(fs.readFileSync(path.join(ws.paths.outbox, 'receipts', entry), 'utf8')).not.toMatch(unsafe);
+    for (const entry of texts)
+      expect(fs.readFileSync(path.join(ws.paths.outbox, 'receipts', entry), 'utf8')).not.toMatch(unsafe);
     const reason = list(path.join(ws.paths.inbox, 'rejected')).find((entry) => entry.endsWith('.reason.txt'))!;
     expect(fs.readFileSync(path.join(ws.paths.inbox, 'rejected', reason), 'utf8')).not.toMatch(unsafe);
     const raw = readReceipts(ws).find((receipt) => receipt.status === 'accepted')!;

@@ -35,7 +35,10 @@ async function storedWorkspace(): Promise<{ ws: TestWorkspace; second: string }>
   const sheet = path.join(ws.paths.inbox, 'ropes_1.csv');
   fs.writeFileSync(sheet, ropeSheet(site, [{ sampleId: 'T1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' }]));
   const results = path.join(ws.paths.inbox, 'nvdl_1.csv');
-  fs.writeFileSync(results, northfieldExport([{ sampleId: 'T1', assay: 'PRRSV', ct: 31.2, collectedOn: '2026-08-03' }], '2026-08-06', 1));
+  fs.writeFileSync(
+    results,
+    northfieldExport([{ sampleId: 'T1', assay: 'PRRSV', ct: 31.2, collectedOn: '2026-08-03' }], '2026-08-06', 1),
+  );
   const first = await runCli(['ingest', sheet, results, ...ws.cliFlags]);
   expect(first.code, first.stderr).toBe(0);
   // The second drop touches the same site and round, so its outputs must be rewritten.
@@ -62,10 +65,24 @@ describe('an outbox that cannot be written', () => {
 
     // The real outbox still shows the first drop only; any run on it brings it up to date.
     const summary = path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03', 'summary.json');
-    const ropesIn = () => (JSON.parse(fs.readFileSync(summary, 'utf8')) as { barns: { ropesHung: number }[] }).barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
+    const ropesIn = () =>
+      (JSON.parse(fs.readFileSync(summary, 'utf8')) as { barns: { ropesHung: number }[] }).barns.reduce(
+        (sum, barn) => sum + barn.ropesHung,
+        0,
+      );
     expect(ropesIn()).toBe(1);
     const third = path.join(ws.paths.inbox, 'ropes_3.csv');
-    fs.writeFileSync(third, ropeSheet(ws.config().siteById.get('TAMSIN-RIDGE')!, [{ sampleId: 'T9', barnId: ws.config().siteById.get('TAMSIN-RIDGE')!.barns[0]!.id, penId: ws.config().siteById.get('TAMSIN-RIDGE')!.barns[0]!.pens[0]!.id, hungOn: '2026-08-03' }]));
+    fs.writeFileSync(
+      third,
+      ropeSheet(ws.config().siteById.get('TAMSIN-RIDGE')!, [
+        {
+          sampleId: 'T9',
+          barnId: ws.config().siteById.get('TAMSIN-RIDGE')!.barns[0]!.id,
+          penId: ws.config().siteById.get('TAMSIN-RIDGE')!.barns[0]!.pens[0]!.id,
+          hungOn: '2026-08-03',
+        },
+      ]),
+    );
     const next = await runCli(['ingest', third, ...ws.cliFlags]);
     expect(next.code, next.stderr).toBe(0);
     expect(next.stderr).toContain('hollow-creek were behind the store');
@@ -83,7 +100,8 @@ describe('an outbox that cannot be written', () => {
     // can use for it becomes a symlink to /dev/full, so the write itself fails with ENOSPC.
     const roundDir = path.join(siteDir, roundDirs[0]!);
     const summaryBefore = fs.readFileSync(path.join(roundDir, 'summary.json'));
-    for (let counter = 0; counter < 5000; counter++) fs.symlinkSync('/dev/full', path.join(roundDir, `.summary.json.${process.pid}.${counter}.tmp`));
+    for (let counter = 0; counter < 5000; counter++)
+      fs.symlinkSync('/dev/full', path.join(roundDir, `.summary.json.${process.pid}.${counter}.tmp`));
 
     const run = await runCli(['ingest', second, ...ws.cliFlags]);
     expect(run.code).toBe(1);

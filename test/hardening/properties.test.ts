@@ -46,7 +46,26 @@ const ctText = fc.oneof(
   fc.string({ unit: fc.constantFrom(...'0123456789.,-+eE> xXN'.split('')), maxLength: 8 }),
   fc.double({ noNaN: false }).map(String),
   fc.double({ min: 0, max: 70, noNaN: true }).map((value) => value.toFixed(2)),
-  fc.constantFrom('1e3', '-5', 'NaN', '35,2', '>40', '> 45', '>30', '0', '0.0', '40', '45', '60', '60.01', 'Infinity', '0x1F', 'Undetermined', 'n/a', ''),
+  fc.constantFrom(
+    '1e3',
+    '-5',
+    'NaN',
+    '35,2',
+    '>40',
+    '> 45',
+    '>30',
+    '0',
+    '0.0',
+    '40',
+    '45',
+    '60',
+    '60.01',
+    'Infinity',
+    '0x1F',
+    'Undetermined',
+    'n/a',
+    '',
+  ),
 );
 
 /** The lab's PCR assays: readCt reads Ct cells (an S/P assay's cells go to readSp). */
@@ -76,14 +95,19 @@ describe('readCt on arbitrary cell text', () => {
   it('reads a plain decimal below the cycle limit as the number JavaScript parses from it', () => {
     // Oracle: Number() on the text with the lab's decimal mark turned into a dot.
     fc.assert(
-      fc.property(fc.double({ min: 0.01, max: 39.99, noNaN: true }), fc.integer({ min: 0, max: 3 }), fc.constantFrom(northfield, ostermark), (value, digits, lab) => {
-        const text = value.toFixed(digits);
-        const expected = Number(text);
-        fc.pre(expected > 0 && expected < 40);
-        const written = lab.decimal === ',' ? text.replace('.', ',') : text;
-        const reading = readCt(written, lab, assaysOf(lab)[0]!);
-        expect(reading).toEqual({ kind: 'detected', ct: expected });
-      }),
+      fc.property(
+        fc.double({ min: 0.01, max: 39.99, noNaN: true }),
+        fc.integer({ min: 0, max: 3 }),
+        fc.constantFrom(northfield, ostermark),
+        (value, digits, lab) => {
+          const text = value.toFixed(digits);
+          const expected = Number(text);
+          fc.pre(expected > 0 && expected < 40);
+          const written = lab.decimal === ',' ? text.replace('.', ',') : text;
+          const reading = readCt(written, lab, assaysOf(lab)[0]!);
+          expect(reading).toEqual({ kind: 'detected', ct: expected });
+        },
+      ),
       { seed: SEED, numRuns: 500 },
     );
   });
@@ -91,7 +115,8 @@ describe('readCt on arbitrary cell text', () => {
   it('refuses exponents, signs, NaN and the wrong decimal mark instead of guessing', () => {
     // Each case by the profile (src/demo/config/labs/northfield.yaml: decimal ".", cycle limit 40).
     const prrsv = northfield.assays.get('prrsv na/eu rt-pcr')!;
-    for (const text of ['1e3', '-5', 'NaN', '35,2', 'Infinity', '0x1F', '>30']) expect(readCt(text, northfield, prrsv)).toMatchObject({ kind: 'error', code: 'bad-ct' });
+    for (const text of ['1e3', '-5', 'NaN', '35,2', 'Infinity', '0x1F', '>30'])
+      expect(readCt(text, northfield, prrsv)).toMatchObject({ kind: 'error', code: 'bad-ct' });
     expect(readCt('0', northfield, prrsv)).toMatchObject({ kind: 'error', code: 'ct-out-of-range' });
     expect(readCt('61', northfield, prrsv)).toMatchObject({ kind: 'error', code: 'ct-out-of-range' });
     expect(readCt('>40', northfield, prrsv).kind).toBe('not-detected');
@@ -104,11 +129,22 @@ describe('readCt on arbitrary cell text', () => {
 
 const nfKind = detectFileKind('nvdl_p.csv', NORTHFIELD_HEADER.join(',') + '\n', config.labs);
 if (nfKind.kind !== 'results') throw new Error('the Northfield header is not recognised');
-const nfContext: ResultContext = { fileName: 'nvdl_p.csv', lab: nfKind.lab, columnIndex: nfKind.columnIndex, assayById: config.assayById, sites: config.sites, plannedIdCheck: check };
+const nfContext: ResultContext = {
+  fileName: 'nvdl_p.csv',
+  lab: nfKind.lab,
+  columnIndex: nfKind.columnIndex,
+  assayById: config.assayById,
+  sites: config.sites,
+  plannedIdCheck: check,
+};
 
 describe('mapResultRow on arbitrary records', () => {
   it('returns a row or a coded refusal on the given line, never throws, never a Ct outside (0, limit)', () => {
-    const cell = fc.oneof(fc.string({ maxLength: 20 }), ctText, fc.constantFrom(...Object.values(NORTHFIELD_ASSAYS), '2026-08-03', 'HCF01-005X', 'TR-N1-07-20260805', 'TR-N1-07'));
+    const cell = fc.oneof(
+      fc.string({ maxLength: 20 }),
+      ctText,
+      fc.constantFrom(...Object.values(NORTHFIELD_ASSAYS), '2026-08-03', 'HCF01-005X', 'TR-N1-07-20260805', 'TR-N1-07'),
+    );
     fc.assert(
       fc.property(fc.array(cell, { maxLength: 12 }), fc.integer({ min: 2, max: 1_000_000 }), (cells, line) => {
         const outcome = mapResultRow(cells, line, nfContext);
@@ -133,29 +169,45 @@ describe('detectFileKind on arbitrary heads', () => {
   it('returns a kind or throws a coded IngestError, nothing else', () => {
     const headerish = fc.oneof(
       fc.string({ maxLength: 200 }),
-      fc.array(fc.oneof(fc.constantFrom(...NORTHFIELD_HEADER, 'sample_id', 'site', 'barn', 'pen', 'hung_on', 'Probe', 'Ct', ''), fc.string({ maxLength: 8 })), { maxLength: 12 }).chain((cells) =>
-        fc.constantFrom(',', ';', '\t', '|').map((delimiter) => cells.join(delimiter)),
-      ),
+      fc
+        .array(
+          fc.oneof(
+            fc.constantFrom(...NORTHFIELD_HEADER, 'sample_id', 'site', 'barn', 'pen', 'hung_on', 'Probe', 'Ct', ''),
+            fc.string({ maxLength: 8 }),
+          ),
+          { maxLength: 12 },
+        )
+        .chain((cells) => fc.constantFrom(',', ';', '\t', '|').map((delimiter) => cells.join(delimiter))),
     );
     fc.assert(
-      fc.property(headerish, fc.string({ maxLength: 60 }), fc.constantFrom('nvdl_x.csv', 'oahl_x.csv', 'ropes.csv', 'x.txt'), fc.boolean(), (first, rest, name, bom) => {
-        const head = `${bom ? '\uFEFF' : ''}${first}\n${rest}`;
-        try {
-          const kind = detectFileKind(name, head, config.labs);
-          expect(['results', 'ropes']).toContain(kind.kind);
-          expect(kind.header.length).toBeGreaterThan(0);
-        } catch (error) {
-          expect(error).toBeInstanceOf(IngestError);
-          expect(CODES.has((error as IngestError).code)).toBe(true);
-        }
-      }),
+      fc.property(
+        headerish,
+        fc.string({ maxLength: 60 }),
+        fc.constantFrom('nvdl_x.csv', 'oahl_x.csv', 'ropes.csv', 'x.txt'),
+        fc.boolean(),
+        (first, rest, name, bom) => {
+          const head = `${bom ? '\uFEFF' : ''}${first}\n${rest}`;
+          try {
+            const kind = detectFileKind(name, head, config.labs);
+            expect(['results', 'ropes']).toContain(kind.kind);
+            expect(kind.header.length).toBeGreaterThan(0);
+          } catch (error) {
+            expect(error).toBeInstanceOf(IngestError);
+            expect(CODES.has((error as IngestError).code)).toBe(true);
+          }
+        },
+      ),
       { seed: SEED, numRuns: 1500 },
     );
   });
 });
 
 /** Runs bytes through TextChunkDecoder in the given chunk sizes; returns the text or the error. */
-async function decodeChunks(bytes: Uint8Array, chunkSizes: readonly number[], declared: 'utf-8' | 'latin1' | 'auto'): Promise<{ text: string } | { error: unknown }> {
+async function decodeChunks(
+  bytes: Uint8Array,
+  chunkSizes: readonly number[],
+  declared: 'utf-8' | 'latin1' | 'auto',
+): Promise<{ text: string } | { error: unknown }> {
   let sniffed: ReturnType<typeof sniffEncoding>;
   try {
     sniffed = sniffEncoding(bytes.subarray(0, 64 * 1024), declared);
@@ -184,31 +236,55 @@ async function decodeChunks(bytes: Uint8Array, chunkSizes: readonly number[], de
 describe('sniffEncoding and TextChunkDecoder on arbitrary bytes', () => {
   it('yield text or a typed error (BinaryContentError, EncodingError) and do not depend on how the bytes are chunked', async () => {
     await fc.assert(
-      fc.asyncProperty(fc.uint8Array({ maxLength: 300 }), fc.array(fc.integer({ min: 1, max: 7 }), { minLength: 1, maxLength: 5 }), fc.constantFrom('utf-8' as const, 'latin1' as const, 'auto' as const), async (bytes, sizes, declared) => {
-        const chunked = await decodeChunks(bytes, sizes, declared);
-        const whole = await decodeChunks(bytes, [bytes.length || 1], declared);
-        if ('error' in chunked) {
-          expect(chunked.error instanceof BinaryContentError || chunked.error instanceof EncodingError).toBe(true);
-          expect('error' in whole).toBe(true);
-        } else {
-          expect(whole).toEqual(chunked);
-          expect(chunked.text).not.toMatch(/\r/);
-        }
-      }),
+      fc.asyncProperty(
+        fc.uint8Array({ maxLength: 300 }),
+        fc.array(fc.integer({ min: 1, max: 7 }), { minLength: 1, maxLength: 5 }),
+        fc.constantFrom('utf-8' as const, 'latin1' as const, 'auto' as const),
+        async (bytes, sizes, declared) => {
+          const chunked = await decodeChunks(bytes, sizes, declared);
+          const whole = await decodeChunks(bytes, [bytes.length || 1], declared);
+          if ('error' in chunked) {
+            expect(chunked.error instanceof BinaryContentError || chunked.error instanceof EncodingError).toBe(true);
+            expect('error' in whole).toBe(true);
+          } else {
+            expect(whole).toEqual(chunked);
+            expect(chunked.text).not.toMatch(/\r/);
+          }
+        },
+      ),
       { seed: SEED, numRuns: 400 },
     );
   });
 
   it('decode any text written as UTF-8 (with or without BOM) or UTF-16LE with BOM back to itself, line endings folded to LF', async () => {
     // Oracle: Node's Buffer encoders. Text without NUL and control characters, as a CSV holds.
-    const printable = fc.string({ unit: fc.oneof(fc.constantFrom('a', 'Z', '0', ',', ';', '"', ' ', '\n', '\r\n', 'ä', 'ß', 'µ', '€', '中', '😀'), anyChar), maxLength: 200 }).filter((text) => !/[\u0000-\u0008\u000b\u000c\u000e-\u001f\r]/.test(text.replace(/\r\n/g, '')));
+    const printable = fc
+      .string({
+        unit: fc.oneof(
+          fc.constantFrom('a', 'Z', '0', ',', ';', '"', ' ', '\n', '\r\n', 'ä', 'ß', 'µ', '€', '中', '😀'),
+          anyChar,
+        ),
+        maxLength: 200,
+      })
+      .filter((text) => !/[\u0000-\u0008\u000b\u000c\u000e-\u001f\r]/.test(text.replace(/\r\n/g, '')));
     await fc.assert(
-      fc.asyncProperty(printable, fc.constantFrom('utf-8', 'utf-8-bom', 'utf-16le-bom'), fc.array(fc.integer({ min: 1, max: 9 }), { minLength: 1, maxLength: 4 }), async (text, form, sizes) => {
-        fc.pre(text.length > 0);
-        const body = form === 'utf-16le-bom' ? Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(text, 'utf16le')]) : Buffer.concat([form === 'utf-8-bom' ? Buffer.from([0xef, 0xbb, 0xbf]) : Buffer.alloc(0), Buffer.from(text, 'utf8')]);
-        const decoded = await decodeChunks(body, sizes, 'auto');
-        expect(decoded).toEqual({ text: text.replace(/\r\n/g, '\n') });
-      }),
+      fc.asyncProperty(
+        printable,
+        fc.constantFrom('utf-8', 'utf-8-bom', 'utf-16le-bom'),
+        fc.array(fc.integer({ min: 1, max: 9 }), { minLength: 1, maxLength: 4 }),
+        async (text, form, sizes) => {
+          fc.pre(text.length > 0);
+          const body =
+            form === 'utf-16le-bom'
+              ? Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(text, 'utf16le')])
+              : Buffer.concat([
+                  form === 'utf-8-bom' ? Buffer.from([0xef, 0xbb, 0xbf]) : Buffer.alloc(0),
+                  Buffer.from(text, 'utf8'),
+                ]);
+          const decoded = await decodeChunks(body, sizes, 'auto');
+          expect(decoded).toEqual({ text: text.replace(/\r\n/g, '\n') });
+        },
+      ),
       { seed: SEED, numRuns: 300 },
     );
   });
@@ -242,21 +318,44 @@ const junkCt = fc.constantFrom(
   ['61', 'ct-out-of-range'],
   ['positive', 'bad-ct'],
 );
-const freeText = fc.string({ unit: fc.oneof(fc.constantFrom('a', 'B', '1', ' ', ',', '"', '\n', 'é', ';'), anyChar), maxLength: 12 }).filter((text) => !/[\u0000-\u0008\u000b-\u001f\u007f]/.test(text));
+const freeText = fc
+  .string({ unit: fc.oneof(fc.constantFrom('a', 'B', '1', ' ', ',', '"', '\n', 'é', ';'), anyChar), maxLength: 12 })
+  .filter((text) => !/[\u0000-\u0008\u000b-\u001f\u007f]/.test(text));
 
 function validRow(index: number): fc.Arbitrary<GeneratedRow> {
-  return fc.record({ assay: fc.constantFrom(...(Object.values(NORTHFIELD_ASSAYS) as string[])), ct: validCt, status: fc.oneof(freeText, fc.constant('Final')), caseNo: freeText, idSuffix: fc.constantFrom('', 'é', 'x y') }).map(({ assay, ct, status, caseNo, idSuffix }) => ({
-    // Unique sample IDs that no site pattern and no planned-ID grammar claims.
-    cells: [caseNo, `PB-${index}${idSuffix}`, assay, ct, 'Negative', 'PASS', '2026-08-03', '2026-08-06', status],
-    expect: null,
-  }));
+  return fc
+    .record({
+      assay: fc.constantFrom(...(Object.values(NORTHFIELD_ASSAYS) as string[])),
+      ct: validCt,
+      status: fc.oneof(freeText, fc.constant('Final')),
+      caseNo: freeText,
+      idSuffix: fc.constantFrom('', 'é', 'x y'),
+    })
+    .map(({ assay, ct, status, caseNo, idSuffix }) => ({
+      // Unique sample IDs that no site pattern and no planned-ID grammar claims.
+      cells: [caseNo, `PB-${index}${idSuffix}`, assay, ct, 'Negative', 'PASS', '2026-08-03', '2026-08-06', status],
+      expect: null,
+    }));
 }
 
 function junkRow(index: number): fc.Arbitrary<GeneratedRow> {
-  const base = (ct = '31.00'): string[] => [`J${index}`, `PJ-${index}`, NORTHFIELD_ASSAYS.PRRSV, ct, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final'];
+  const base = (ct = '31.00'): string[] => [
+    `J${index}`,
+    `PJ-${index}`,
+    NORTHFIELD_ASSAYS.PRRSV,
+    ct,
+    'Positive',
+    'PASS',
+    '2026-08-03',
+    '2026-08-06',
+    'Final',
+  ];
   return fc.oneof(
     junkCt.map(([ct, code]): GeneratedRow => ({ cells: base(ct), expect: code })),
-    fc.constant<GeneratedRow>({ cells: base().map((cell, i) => (i === 2 ? 'PEDV RT-PCR' : cell)), expect: 'unknown-assay' }),
+    fc.constant<GeneratedRow>({
+      cells: base().map((cell, i) => (i === 2 ? 'PEDV RT-PCR' : cell)),
+      expect: 'unknown-assay',
+    }),
     fc.constant<GeneratedRow>({ cells: base().map((cell, i) => (i === 1 ? '' : cell)), expect: 'missing-value' }),
     fc.constant<GeneratedRow>({ cells: base().map((cell, i) => (i === 6 ? '2026-13-45' : cell)), expect: 'bad-date' }),
     fc.constant<GeneratedRow>({ cells: base(), expect: 'ragged-row', short: true }),
@@ -281,7 +380,11 @@ const generatedFile: fc.Arbitrary<GeneratedFile> = fc
   .integer({ min: 1, max: 40 })
   .chain((count) =>
     fc.tuple(
-      fc.tuple(...Array.from({ length: count }, (_, i) => fc.oneof({ weight: 3, arbitrary: validRow(i) }, { weight: 2, arbitrary: junkRow(i) }))),
+      fc.tuple(
+        ...Array.from({ length: count }, (_, i) =>
+          fc.oneof({ weight: 3, arbitrary: validRow(i) }, { weight: 2, arbitrary: junkRow(i) }),
+        ),
+      ),
       fc.array(fc.boolean(), { minLength: count, maxLength: count }),
       fc.constantFrom('\n', '\r\n'),
       fc.constantFrom('utf-8', 'utf-8-bom', 'utf-16le-bom'),
@@ -304,7 +407,10 @@ const generatedFile: fc.Arbitrary<GeneratedFile> = fc
     const bytes =
       form === 'utf-16le-bom'
         ? Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(textBody, 'utf16le')])
-        : Buffer.concat([form === 'utf-8-bom' ? Buffer.from([0xef, 0xbb, 0xbf]) : Buffer.alloc(0), Buffer.from(textBody, 'utf8')]);
+        : Buffer.concat([
+            form === 'utf-8-bom' ? Buffer.from([0xef, 0xbb, 0xbf]) : Buffer.alloc(0),
+            Buffer.from(textBody, 'utf8'),
+          ]);
     return { bytes, rows: placed };
   });
 
@@ -322,7 +428,9 @@ async function ingestBytes(bytes: Buffer, name = 'nvdl_prop.csv'): Promise<{ rec
 }
 
 function storedCtsInRange(store: Store): void {
-  const outside = store.db.prepare('SELECT COUNT(*) AS n FROM results WHERE ct IS NOT NULL AND NOT (ct > 0 AND ct < cycle_limit)').get() as { n: number };
+  const outside = store.db
+    .prepare('SELECT COUNT(*) AS n FROM results WHERE ct IS NOT NULL AND NOT (ct > 0 AND ct < cycle_limit)')
+    .get() as { n: number };
   expect(outside.n).toBe(0);
   // The file transaction writes with foreign-key enforcement off (parents first, by
   // construction): SQLite's own check must find nothing wrong afterwards.
@@ -341,10 +449,18 @@ describe('ingestFile on whole generated exports', () => {
           const junk = rows.filter((row) => row.expect !== null);
           expect(receipt.rows.accepted + receipt.rows.rejected).toBe(rows.length);
           expect(receipt.rows.accepted).toBe(valid.length);
-          const stored = store.db.prepare('SELECT r.line, s.sample_id AS sampleId FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line').all() as { line: number; sampleId: string }[];
+          const stored = store.db
+            .prepare(
+              'SELECT r.line, s.sample_id AS sampleId FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line',
+            )
+            .all() as { line: number; sampleId: string }[];
           expect(stored).toEqual(valid.map((row) => ({ line: row.line, sampleId: normaliseSampleId(row.cells[1]!) })));
-          const refused = store.db.prepare('SELECT line, code, length(value) AS valueLength FROM rejected_rows ORDER BY line').all() as { line: number; code: string; valueLength: number | null }[];
-          expect(refused.map(({ line, code }) => ({ line, code }))).toEqual(junk.map((row) => ({ line: row.line, code: row.expect })));
+          const refused = store.db
+            .prepare('SELECT line, code, length(value) AS valueLength FROM rejected_rows ORDER BY line')
+            .all() as { line: number; code: string; valueLength: number | null }[];
+          expect(refused.map(({ line, code }) => ({ line, code }))).toEqual(
+            junk.map((row) => ({ line: row.line, code: row.expect })),
+          );
           for (const row of refused) expect(row.valueLength ?? 0).toBeLessThanOrEqual(200);
           storedCtsInRange(store);
         } finally {
@@ -364,20 +480,24 @@ describe('ingestFile on whole generated exports', () => {
       fc.string({ maxLength: 400 }).map((text) => Buffer.concat([header, Buffer.from(text)])),
     );
     await fc.assert(
-      fc.asyncProperty(bytes, fc.constantFrom('nvdl_bytes.csv', 'oahl_bytes.csv', 'bytes.csv'), async (content, name) => {
-        const { receipt, store } = await ingestBytes(content, name);
-        try {
-          expect(['accepted', 'rejected']).toContain(receipt.status);
-          if (receipt.status === 'rejected') expect(CODES.has(receipt.reason!.code)).toBe(true);
-          for (const row of receipt.rejectedRows) expect(CODES.has(row.code)).toBe(true);
-          const counts = store.counts();
-          if (receipt.status === 'rejected') expect(counts.results + counts.ropes).toBe(0);
-          else expect(counts.results + counts.ropes + counts.rejectedRows).toBeGreaterThan(0);
-          storedCtsInRange(store);
-        } finally {
-          store.close();
-        }
-      }),
+      fc.asyncProperty(
+        bytes,
+        fc.constantFrom('nvdl_bytes.csv', 'oahl_bytes.csv', 'bytes.csv'),
+        async (content, name) => {
+          const { receipt, store } = await ingestBytes(content, name);
+          try {
+            expect(['accepted', 'rejected']).toContain(receipt.status);
+            if (receipt.status === 'rejected') expect(CODES.has(receipt.reason!.code)).toBe(true);
+            for (const row of receipt.rejectedRows) expect(CODES.has(row.code)).toBe(true);
+            const counts = store.counts();
+            if (receipt.status === 'rejected') expect(counts.results + counts.ropes).toBe(0);
+            else expect(counts.results + counts.ropes + counts.rejectedRows).toBeGreaterThan(0);
+            storedCtsInRange(store);
+          } finally {
+            store.close();
+          }
+        },
+      ),
       { seed: SEED, numRuns: 300 },
     );
   });
@@ -387,7 +507,8 @@ describe('ingestFile on whole generated exports', () => {
     await fc.assert(
       fc.asyncProperty(fc.integer({ min: 1, max: 3000 }), fc.nat(), async (count, where) => {
         const lines = [NORTHFIELD_HEADER.join(',')];
-        for (let i = 0; i < count; i++) lines.push(`C${i},PU-${i},${NORTHFIELD_ASSAYS.PRRSV},31.00,Positive,PASS,2026-08-03,2026-08-06,Final`);
+        for (let i = 0; i < count; i++)
+          lines.push(`C${i},PU-${i},${NORTHFIELD_ASSAYS.PRRSV},31.00,Positive,PASS,2026-08-03,2026-08-06,Final`);
         const badLine = 2 + (where % count);
         const text = lines.join('\n') + '\n';
         const bytes = Buffer.from(text, 'utf8');

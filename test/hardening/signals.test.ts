@@ -48,7 +48,10 @@ describe('ingest stopped by a signal', () => {
     // Whole files only: each stored file holds all its rows.
     for (const name of stored) expect(look.resultsByFile[name], name).toBe(ROWS);
     expect(stored.length).toBeGreaterThanOrEqual(1);
-    const left = fs.readdirSync(ws.paths.inbox).filter((name) => name.endsWith('.csv')).sort();
+    const left = fs
+      .readdirSync(ws.paths.inbox)
+      .filter((name) => name.endsWith('.csv'))
+      .sort();
     expect(left.length, 'files left for the next run').toBeGreaterThan(0);
     expect([...stored, ...left].sort()).toEqual(names);
     expect(fs.readdirSync(path.join(ws.paths.inbox, 'archive')).sort()).toEqual(stored);

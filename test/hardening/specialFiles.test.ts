@@ -69,7 +69,11 @@ describe('special files named to ingest', () => {
     expect(receipts[0]!.reason!.message).toMatch(/FIFO/);
     expect(fs.lstatSync(fifo).isFIFO()).toBe(true);
     expect(fs.readdirSync(path.join(ws.paths.inbox, 'archive'))).toEqual(['ropes.csv']);
-    expect(receiptsIn(ws.paths.outbox).map((receipt) => receipt.reason?.code ?? null).sort()).toEqual(['not-a-regular-file', null]);
+    expect(
+      receiptsIn(ws.paths.outbox)
+        .map((receipt) => receipt.reason?.code ?? null)
+        .sort(),
+    ).toEqual(['not-a-regular-file', null]);
   });
 
   it('refuses a Unix socket, a folder and a link to a FIFO with not-a-regular-file and leaves them where they are', async () => {
@@ -85,7 +89,11 @@ describe('special files named to ingest', () => {
     const run = await runCli(['ingest', socket, folder, link, ...ws.cliFlags, '--json']);
     expect(run.code, run.stderr).toBe(1);
     const receipts = JSON.parse(run.stdout) as Receipt[];
-    expect(receipts.map((receipt) => receipt.reason?.code)).toEqual(['not-a-regular-file', 'not-a-regular-file', 'not-a-regular-file']);
+    expect(receipts.map((receipt) => receipt.reason?.code)).toEqual([
+      'not-a-regular-file',
+      'not-a-regular-file',
+      'not-a-regular-file',
+    ]);
     expect(receipts.map((receipt) => receipt.reason!.message)).toEqual([
       expect.stringMatching(/a socket/),
       expect.stringMatching(/a folder/),

@@ -82,7 +82,9 @@ describe('a file taken by another process part-way', () => {
     expect(run.code, run.stderr).toBe(0);
     expect(run.stdout).toContain('accepted ropes.csv');
     expect(receipts(ws).map((receipt) => receipt.status)).toEqual(['accepted']);
-    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([expect.objectContaining({ name: 'ropes.csv', status: 'accepted' })]);
+    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([
+      expect.objectContaining({ name: 'ropes.csv', status: 'accepted' }),
+    ]);
     expect(fs.readdirSync(path.join(ws.paths.inbox, 'archive'))).toEqual(['ropes.csv']);
   });
 });

@@ -37,7 +37,14 @@ function exportBytes(fileIndex: number): string {
   const lines: string[] = [NORTHFIELD_HEADER.join(',')];
   for (let row = 0; row < ROWS_PER_FILE; row++) {
     const sample = `W${String(fileIndex).padStart(3, '0')}-${row}`;
-    lines.push(northfieldLine(`NV26-${fileIndex}-${row}`, sample, row % 2 === 0 ? 'PRRSV' : 'IAV', row === 0 ? '31.5' : 'Undetermined'));
+    lines.push(
+      northfieldLine(
+        `NV26-${fileIndex}-${row}`,
+        sample,
+        row % 2 === 0 ? 'PRRSV' : 'IAV',
+        row === 0 ? '31.5' : 'Undetermined',
+      ),
+    );
   }
   return lines.join('\n') + '\n';
 }
@@ -70,7 +77,11 @@ describe('ropewatch watch with a burst of drops', () => {
         }
       }
       const archive = path.join(ws.paths.inbox, 'archive');
-      await until(() => fs.existsSync(archive) && fs.readdirSync(archive).length >= FILES, 45_000, `${FILES} archived files`);
+      await until(
+        () => fs.existsSync(archive) && fs.readdirSync(archive).length >= FILES,
+        45_000,
+        `${FILES} archived files`,
+      );
       // Give a late duplicate event the chance to show up before stopping.
       await sleep(500);
     } finally {
@@ -92,6 +103,8 @@ describe('ropewatch watch with a burst of drops', () => {
     expect(archived).toHaveLength(FILES);
     // No "name.<hash>.csv" second copies: nothing was archived twice.
     expect(archived.every((name) => /^nvdl_burst_\d{3}\.csv$/.test(name))).toBe(true);
-    expect(fs.readdirSync(ws.paths.inbox).filter((name) => name.endsWith('.csv') || name.endsWith('.part'))).toEqual([]);
+    expect(fs.readdirSync(ws.paths.inbox).filter((name) => name.endsWith('.csv') || name.endsWith('.part'))).toEqual(
+      [],
+    );
   });
 });

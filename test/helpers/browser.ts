@@ -26,7 +26,15 @@ export const SYSTEM_CHROMIUM = '/usr/bin/chromium';
  * `args` add `--single-process` and WebGL through SwiftShader, which these pages do not need:
  * with these flags alone it starts in its usual multi-process mode.
  */
-export const CHROMIUM_ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'];
+export const CHROMIUM_ARGS = [
+  '--headless',
+  '--no-sandbox',
+  '--disable-gpu',
+  '--no-first-run',
+  '--disable-background-networking',
+  '--disable-component-update',
+  '--disable-sync',
+];
 
 const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
 const PACKAGE_DIR = path.join(REPO_ROOT, 'node_modules', '@sparticuz', 'chromium');
@@ -40,14 +48,21 @@ export type ChromiumChoice = { kind: 'system'; executablePath: string } | { kind
  * the packaged one; `bundled` or `system` force one. Anything else, or `system` with no system
  * browser, is an error (a browser run never turns into a skip).
  */
-export function chooseChromium(env: Readonly<Record<string, string | undefined>>, systemPresent: (file: string) => boolean): ChromiumChoice {
+export function chooseChromium(
+  env: Readonly<Record<string, string | undefined>>,
+  systemPresent: (file: string) => boolean,
+): ChromiumChoice {
   const wanted = env.ROPEWATCH_CHROMIUM ?? '';
   if (wanted === 'bundled') return { kind: 'bundled' };
   if (wanted === 'system') {
-    if (!systemPresent(SYSTEM_CHROMIUM)) throw new Error(`ROPEWATCH_CHROMIUM=system, but ${SYSTEM_CHROMIUM} is not there (apt-get install chromium, or ROPEWATCH_CHROMIUM=bundled)`);
+    if (!systemPresent(SYSTEM_CHROMIUM))
+      throw new Error(
+        `ROPEWATCH_CHROMIUM=system, but ${SYSTEM_CHROMIUM} is not there (apt-get install chromium, or ROPEWATCH_CHROMIUM=bundled)`,
+      );
     return { kind: 'system', executablePath: SYSTEM_CHROMIUM };
   }
-  if (wanted !== '') throw new Error(`ROPEWATCH_CHROMIUM must be "bundled", "system" or unset, got ${JSON.stringify(wanted)}`);
+  if (wanted !== '')
+    throw new Error(`ROPEWATCH_CHROMIUM must be "bundled", "system" or unset, got ${JSON.stringify(wanted)}`);
   return systemPresent(SYSTEM_CHROMIUM) ? { kind: 'system', executablePath: SYSTEM_CHROMIUM } : { kind: 'bundled' };
 }
 
@@ -99,22 +114,36 @@ function alive(pid: number): boolean {
  * leave a cut-off binary behind where the next run looks. (The package's own `executablePath()`
  * writes straight to a fixed `/tmp/chromium` and takes any file there as finished.)
  */
-export async function unpackBundledChromium(cacheRoot = BUNDLED_CACHE, packageDir = PACKAGE_DIR): Promise<BundledChromium> {
+export async function unpackBundledChromium(
+  cacheRoot = BUNDLED_CACHE,
+  packageDir = PACKAGE_DIR,
+): Promise<BundledChromium> {
   if (process.platform !== 'linux' || process.arch !== 'x64') {
-    throw new Error(`the packaged Chromium runs on Linux x64 only (this is ${process.platform} ${process.arch}); install a Chromium at ${SYSTEM_CHROMIUM}`);
+    throw new Error(
+      `the packaged Chromium runs on Linux x64 only (this is ${process.platform} ${process.arch}); install a Chromium at ${SYSTEM_CHROMIUM}`,
+    );
   }
   const manifest = path.join(packageDir, 'package.json');
-  if (!fs.existsSync(manifest)) throw new Error(`${packageDir} is missing: run npm ci (the dev dependency @sparticuz/chromium carries the browser)`);
+  if (!fs.existsSync(manifest))
+    throw new Error(
+      `${packageDir} is missing: run npm ci (the dev dependency @sparticuz/chromium carries the browser)`,
+    );
   const version = (JSON.parse(fs.readFileSync(manifest, 'utf8')) as { version: string }).version;
   const home = path.join(cacheRoot, version);
-  const found: BundledChromium = { executablePath: path.join(home, 'chromium'), fontconfigFile: path.join(home, 'fonts.conf') };
+  const found: BundledChromium = {
+    executablePath: path.join(home, 'chromium'),
+    fontconfigFile: path.join(home, 'fonts.conf'),
+  };
   if (fs.existsSync(home)) {
     // The cache may sit behind a symbolic link (node_modules shared by several checkouts): a
     // fontconfig file naming a folder that is gone draws no text at all, so it is written again,
     // under a name of its own and renamed into place.
     const conf = fs.readFileSync(found.fontconfigFile, 'utf8');
     const fontsDir = /<dir>([^<]*)<\/dir>/.exec(conf)?.[1];
-    if (fontsDir === undefined || !fs.existsSync(fontsDir.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&amp;/g, '&'))) {
+    if (
+      fontsDir === undefined ||
+      !fs.existsSync(fontsDir.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&amp;/g, '&'))
+    ) {
       const temporary = `${found.fontconfigFile}.${process.pid}`;
       fs.writeFileSync(temporary, fontconfigText(fs.realpathSync(home)));
       fs.renameSync(temporary, found.fontconfigFile);
@@ -131,9 +160,15 @@ export async function unpackBundledChromium(cacheRoot = BUNDLED_CACHE, packageDi
   const partial = `${home}.partial-${process.pid}`;
   fs.rmSync(partial, { recursive: true, force: true });
   fs.mkdirSync(path.join(partial, 'fonts'), { recursive: true });
-  await pipeline(fs.createReadStream(path.join(packageDir, 'bin', 'chromium.br')), zlib.createBrotliDecompress(), fs.createWriteStream(path.join(partial, 'chromium'), { mode: 0o755 }));
+  await pipeline(
+    fs.createReadStream(path.join(packageDir, 'bin', 'chromium.br')),
+    zlib.createBrotliDecompress(),
+    fs.createWriteStream(path.join(partial, 'chromium'), { mode: 0o755 }),
+  );
   // fonts.tar.br holds fonts/Open_Sans/*.ttf and a fonts.conf for the package's own paths; ours names this folder.
-  execFileSync('tar', ['-x', '-f', '-', '-C', path.join(partial, 'fonts')], { input: zlib.brotliDecompressSync(fs.readFileSync(path.join(packageDir, 'bin', 'fonts.tar.br'))) });
+  execFileSync('tar', ['-x', '-f', '-', '-C', path.join(partial, 'fonts')], {
+    input: zlib.brotliDecompressSync(fs.readFileSync(path.join(packageDir, 'bin', 'fonts.tar.br'))),
+  });
   fs.writeFileSync(path.join(partial, 'fonts.conf'), fontconfigText(path.join(fs.realpathSync(cacheRoot), version)));
   try {
     fs.renameSync(partial, home);
@@ -155,7 +190,10 @@ export interface LaunchedChromium {
  * Starts the chosen browser with a user-data folder of our own (launchPersistentContext is how
  * playwright takes one).
  */
-export async function launchChromium(userDataDir: string, options: { viewport?: { width: number; height: number }; env?: Readonly<Record<string, string | undefined>> } = {}): Promise<LaunchedChromium> {
+export async function launchChromium(
+  userDataDir: string,
+  options: { viewport?: { width: number; height: number }; env?: Readonly<Record<string, string | undefined>> } = {},
+): Promise<LaunchedChromium> {
   const choice = chooseChromium(options.env ?? process.env, isExecutable);
   let executablePath: string;
   let env: Record<string, string | undefined> = { ...process.env };
@@ -166,7 +204,13 @@ export async function launchChromium(userDataDir: string, options: { viewport?: 
     executablePath = bundled.executablePath;
     env = { ...env, FONTCONFIG_FILE: bundled.fontconfigFile };
   }
-  const context = await chromium.launchPersistentContext(userDataDir, { executablePath, args: CHROMIUM_ARGS, headless: true, env, ...(options.viewport ? { viewport: options.viewport } : {}) });
+  const context = await chromium.launchPersistentContext(userDataDir, {
+    executablePath,
+    args: CHROMIUM_ARGS,
+    headless: true,
+    env,
+    ...(options.viewport ? { viewport: options.viewport } : {}),
+  });
   return { context, description: `${choice.kind} ${executablePath} ${context.browser()?.version() ?? ''}`.trim() };
 }
 
@@ -196,7 +240,11 @@ export async function buildDemoPages(options: { editConfig?: (configDir: string)
   };
   await runDemo(collectingIo(root), paths, false);
   options.editConfig?.(paths.configDir);
-  const ws = openWorkspace(paths, () => new Date(DEMO_TODAY), () => {});
+  const ws = openWorkspace(
+    paths,
+    () => new Date(DEMO_TODAY),
+    () => {},
+  );
   let analyses: SiteAnalysis[];
   try {
     // The same call a drop triggers: every site's outputs, pages and the index.

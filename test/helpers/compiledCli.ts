@@ -29,8 +29,14 @@ function newestUnder(dir: string): { file: string; mtimeMs: number } {
  */
 export function compiledBin(): string {
   const built = fs.statSync(BUILT_MARK, { throwIfNoEntry: false });
-  if (built === undefined) throw new Error(`${path.relative(REPO_ROOT, BUILT_MARK)} is missing: run \`npm run build\` (npm ci and npm test run it)`);
+  if (built === undefined)
+    throw new Error(
+      `${path.relative(REPO_ROOT, BUILT_MARK)} is missing: run \`npm run build\` (npm ci and npm test run it)`,
+    );
   const newest = newestUnder(path.join(REPO_ROOT, 'src'));
-  if (newest.mtimeMs > built.mtimeMs) throw new Error(`dist/ is older than ${path.relative(REPO_ROOT, newest.file)}: run \`npm run build\` (npm test runs it)`);
+  if (newest.mtimeMs > built.mtimeMs)
+    throw new Error(
+      `dist/ is older than ${path.relative(REPO_ROOT, newest.file)}: run \`npm run build\` (npm test runs it)`,
+    );
   return COMPILED_BIN;
 }

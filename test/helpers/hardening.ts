@@ -22,8 +22,25 @@ function csvCell(value: string): string {
 }
 
 /** One Northfield data line (no newline) for an unresolved lab sample ID. */
-export function northfieldLine(caseNo: string, sampleId: string, assay: keyof typeof NORTHFIELD_ASSAYS, ct: string, collectedOn = '2026-08-03', reportedOn = '2026-08-06'): string {
-  return [caseNo, sampleId, NORTHFIELD_ASSAYS[assay], ct, ct === '' || ct === 'Undetermined' ? 'Negative' : 'Positive', 'PASS', collectedOn, reportedOn, 'Final']
+export function northfieldLine(
+  caseNo: string,
+  sampleId: string,
+  assay: keyof typeof NORTHFIELD_ASSAYS,
+  ct: string,
+  collectedOn = '2026-08-03',
+  reportedOn = '2026-08-06',
+): string {
+  return [
+    caseNo,
+    sampleId,
+    NORTHFIELD_ASSAYS[assay],
+    ct,
+    ct === '' || ct === 'Undetermined' ? 'Negative' : 'Positive',
+    'PASS',
+    collectedOn,
+    reportedOn,
+    'Final',
+  ]
     .map(csvCell)
     .join(',');
 }
@@ -38,7 +55,9 @@ export function bigNorthfieldExport(rows: number, prefix = 'LAB'): Buffer {
   for (let i = 0; i < rows; i++) {
     const sample = `${prefix}-${String(Math.floor(i / 2)).padStart(7, '0')}`;
     const ct = i % 7 === 0 ? (20 + (i % 150) / 10).toFixed(1) : 'Undetermined';
-    lines.push(northfieldLine(`NV26-${String(Math.floor(i / 2)).padStart(7, '0')}`, sample, i % 2 === 0 ? 'PRRSV' : 'IAV', ct));
+    lines.push(
+      northfieldLine(`NV26-${String(Math.floor(i / 2)).padStart(7, '0')}`, sample, i % 2 === 0 ? 'PRRSV' : 'IAV', ct),
+    );
   }
   return Buffer.from(lines.join('\n') + '\n', 'utf8');
 }
@@ -79,24 +98,41 @@ export interface StoreLook {
 
 /** Opens a store file read-only (no migrations, no lock held after) and reports what it holds. */
 export function lookIntoStore(dbFile: string): StoreLook {
-  if (!fs.existsSync(dbFile)) return { integrity: 'ok', files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
+  if (!fs.existsSync(dbFile))
+    return { integrity: 'ok', files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
   const db = new Database(dbFile, { readonly: true });
   try {
-    const tables = new Set((db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as { name: string }[]).map((row) => row.name));
+    const tables = new Set(
+      (db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as { name: string }[]).map(
+        (row) => row.name,
+      ),
+    );
     // 'ok' only when both SQLite's structural check and its foreign-key check find nothing.
     const structure = (db.pragma('integrity_check', { simple: true }) as string) ?? 'unknown';
     const brokenReferences = (db.pragma('foreign_key_check') as unknown[]).length;
-    const integrity = brokenReferences === 0 ? structure : `${structure}; ${brokenReferences} broken foreign key reference(s)`;
+    const integrity =
+      brokenReferences === 0 ? structure : `${structure}; ${brokenReferences} broken foreign key reference(s)`;
     if (!tables.has('files')) return { integrity, files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
     const files = db
-      .prepare('SELECT name, status, reason_code AS reasonCode, rows_accepted AS rowsAccepted, rows_rejected AS rowsRejected FROM files ORDER BY id')
+      .prepare(
+        'SELECT name, status, reason_code AS reasonCode, rows_accepted AS rowsAccepted, rows_rejected AS rowsRejected FROM files ORDER BY id',
+      )
       .all() as StoreLook['files'];
     const resultsByFile: Record<string, number> = {};
-    for (const row of db.prepare('SELECT f.name AS name, COUNT(*) AS n FROM results r JOIN files f ON f.id = r.file_id GROUP BY f.name').all() as { name: string; n: number }[]) {
+    for (const row of db
+      .prepare('SELECT f.name AS name, COUNT(*) AS n FROM results r JOIN files f ON f.id = r.file_id GROUP BY f.name')
+      .all() as { name: string; n: number }[]) {
       resultsByFile[row.name] = row.n;
     }
     const one = (sql: string) => (db.prepare(sql).get() as { n: number }).n;
-    return { integrity, files, resultsByFile, results: one('SELECT COUNT(*) AS n FROM results'), ropes: one('SELECT COUNT(*) AS n FROM ropes'), rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows') };
+    return {
+      integrity,
+      files,
+      resultsByFile,
+      results: one('SELECT COUNT(*) AS n FROM results'),
+      ropes: one('SELECT COUNT(*) AS n FROM ropes'),
+      rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows'),
+    };
   } finally {
     db.close();
   }
@@ -123,7 +159,10 @@ export function generatedSite(index: number): { id: string; code: string; prefix
 export function writeManySiteConfig(dir: string, options: ManySiteOptions): void {
   fs.mkdirSync(path.join(dir, 'labs'), { recursive: true });
   fs.copyFileSync(path.join(REPO_ROOT, 'src', 'demo', 'config', 'assays.yaml'), path.join(dir, 'assays.yaml'));
-  fs.copyFileSync(path.join(REPO_ROOT, 'src', 'demo', 'config', 'labs', 'northfield.yaml'), path.join(dir, 'labs', 'northfield.yaml'));
+  fs.copyFileSync(
+    path.join(REPO_ROOT, 'src', 'demo', 'config', 'labs', 'northfield.yaml'),
+    path.join(dir, 'labs', 'northfield.yaml'),
+  );
   const lines = [
     '# Generated for the hardening tests and benchmarks: invented sites only.',
     'programDefaults:',
@@ -147,7 +186,14 @@ export function writeManySiteConfig(dir: string, options: ManySiteOptions): void
     lines.push(`  - id: ${site.id}`, `    name: Generated site ${s + 1}`, `    code: ${site.code}`);
     lines.push(`    samplePattern: '^${site.prefix}-(?<barn>B\\d+)-(?<pen>\\d{1,3})-(?<date>\\d{8})$'`, '    barns:');
     for (let b = 0; b < options.barnsPerSite; b++) {
-      lines.push(`      - id: B${b + 1}`, `        position: { x: 0, y: ${b * 6} }`, '        layout:', '          rows: 2', `          pensPerRow: ${options.pensPerRow}`, '          numbering: continuous');
+      lines.push(
+        `      - id: B${b + 1}`,
+        `        position: { x: 0, y: ${b * 6} }`,
+        '        layout:',
+        '          rows: 2',
+        `          pensPerRow: ${options.pensPerRow}`,
+        '          numbering: continuous',
+      );
     }
   }
   fs.writeFileSync(path.join(dir, 'sites.yaml'), lines.join('\n') + '\n');
@@ -164,7 +210,12 @@ export function patternSampleId(siteIndex: number, barn: number, pen: number, yy
  */
 export function processWorkspace(root: string, name: string) {
   const dir = path.join(root, name);
-  const paths = { config: path.join(dir, 'config'), db: path.join(dir, 'data', 'store.db'), inbox: path.join(dir, 'inbox'), outbox: path.join(dir, 'outbox') };
+  const paths = {
+    config: path.join(dir, 'config'),
+    db: path.join(dir, 'data', 'store.db'),
+    inbox: path.join(dir, 'inbox'),
+    outbox: path.join(dir, 'outbox'),
+  };
   fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
   fs.mkdirSync(paths.inbox, { recursive: true });
   new Store(paths.db).close();

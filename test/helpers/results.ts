@@ -6,6 +6,17 @@
  */
 import type { ResultInput } from '../../src/interpret/roundModel.js';
 
-export function resultInput(fields: Pick<ResultInput, 'id' | 'sampleId' | 'resultClass' | 'ct'> & Partial<ResultInput>): ResultInput {
-  return { labId: 'northfield', assayId: 'PRRSV', reason: 'test', loadBand: null, cycleLimit: 40, callDiffers: false, labCall: null, ...fields };
+export function resultInput(
+  fields: Pick<ResultInput, 'id' | 'sampleId' | 'resultClass' | 'ct'> & Partial<ResultInput>,
+): ResultInput {
+  return {
+    labId: 'northfield',
+    assayId: 'PRRSV',
+    reason: 'test',
+    loadBand: null,
+    cycleLimit: 40,
+    callDiffers: false,
+    labCall: null,
+    ...fields,
+  };
 }

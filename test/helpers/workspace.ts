@@ -38,7 +38,6 @@ export interface TestWorkspace {
   cleanup: () => void;
 }
 
-
 export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-test-'));
   const paths: WorkspacePaths = {
@@ -55,7 +54,12 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
   fs.mkdirSync(paths.inbox, { recursive: true });
   fs.mkdirSync(paths.outbox, { recursive: true });
   let open: Workspace | undefined;
-  const ws = () => (open ??= openWorkspace(paths, () => FIXED_NOW, () => {}));
+  const ws = () =>
+    (open ??= openWorkspace(
+      paths,
+      () => FIXED_NOW,
+      () => {},
+    ));
   const closeStore = () => {
     open?.close();
     open = undefined;

@@ -43,7 +43,10 @@ const resultRow: fc.Arbitrary<ResultRow> = fc.record({
   callDiffers: fc.boolean(),
   sampleIdAsWritten: maybe(text),
   contentKey: fc.integer({ min: 0, max: 2 ** 52 - 1 }),
-  encodedRope: fc.option(fc.record({ siteId: text, barnId: text, penId: text, hungOn: fc.constantFrom('2026-08-03', '2026-08-04') }), { nil: undefined }),
+  encodedRope: fc.option(
+    fc.record({ siteId: text, barnId: text, penId: text, hungOn: fc.constantFrom('2026-08-03', '2026-08-04') }),
+    { nil: undefined },
+  ),
 });
 
 describe('batch wire format', () => {
@@ -55,13 +58,17 @@ describe('batch wire format', () => {
         const arrived = structuredClone(wire, { transfer: transferables(wire) });
         // Every buffer the batch owns was listed: a moved buffer is left empty behind (WHATWG
         // HTML, structured serialize with transfer: the source ArrayBuffer is detached).
-        expect([wire.numbers, ...Object.values(wire.texts).map((text) => text.index)].map((array) => array.byteLength)).toEqual(new Array(1 + Object.keys(wire.texts).length).fill(0));
+        expect(
+          [wire.numbers, ...Object.values(wire.texts).map((text) => text.index)].map((array) => array.byteLength),
+        ).toEqual(new Array(1 + Object.keys(wire.texts).length).fill(0));
         const decoded = decodeBatch(arrived).results;
         expect(decoded.length).toBe(rows.length);
         const back = Array.from({ length: decoded.length }, (_, i) => decoded.at(i));
         // toEqual treats an absent key and an undefined one alike: compare the rope explicitly.
         expect(back).toEqual(rows);
-        expect(back.map((row) => row?.encodedRope === undefined)).toEqual(rows.map((row) => row.encodedRope === undefined));
+        expect(back.map((row) => row?.encodedRope === undefined)).toEqual(
+          rows.map((row) => row.encodedRope === undefined),
+        );
       }),
       { seed: SEED, numRuns: 300 },
     );
@@ -69,10 +76,37 @@ describe('batch wire format', () => {
 
   it('stores each distinct text of a column once per batch', () => {
     const row = (i: number): ResultRow => ({
-      line: i + 2, labId: 'northfield', sampleId: `S-${i}`, assayId: 'PRRSV', labAssay: 'PRRSV NA/EU RT-PCR', measure: 'ct', ct: null, sp: null, ctRaw: 'Undetermined', labCall: 'Negative',
-      accession: `NV-${i}`, collectedOn: '2026-08-03', reportedOn: '2026-08-06', reportStatus: 'Final', control: 'PASS', resultClass: 'negative',
-      reason: 'not detected', loadBand: null, positiveBelow: 36, suspectBelow: 38, cycleLimit: 40, positiveAtOrAbove: null, suspectAtOrAbove: null, markedReissue: false,
-      statusKind: 'final', statusWord: 'Final', labCallClass: 'negative', callDiffers: false, sampleIdAsWritten: null, contentKey: i, encodedRope: undefined,
+      line: i + 2,
+      labId: 'northfield',
+      sampleId: `S-${i}`,
+      assayId: 'PRRSV',
+      labAssay: 'PRRSV NA/EU RT-PCR',
+      measure: 'ct',
+      ct: null,
+      sp: null,
+      ctRaw: 'Undetermined',
+      labCall: 'Negative',
+      accession: `NV-${i}`,
+      collectedOn: '2026-08-03',
+      reportedOn: '2026-08-06',
+      reportStatus: 'Final',
+      control: 'PASS',
+      resultClass: 'negative',
+      reason: 'not detected',
+      loadBand: null,
+      positiveBelow: 36,
+      suspectBelow: 38,
+      cycleLimit: 40,
+      positiveAtOrAbove: null,
+      suspectAtOrAbove: null,
+      markedReissue: false,
+      statusKind: 'final',
+      statusWord: 'Final',
+      labCallClass: 'negative',
+      callDiffers: false,
+      sampleIdAsWritten: null,
+      contentKey: i,
+      encodedRope: undefined,
     });
     const wire = encodeBatch({ results: Array.from({ length: 100 }, (_, i) => row(i)), ropes: [], rejections: [] });
     expect(wire.texts.ctRaw.values).toEqual(['Undetermined']);

@@ -17,12 +17,16 @@ import { expectClose } from '../helpers/expectClose.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
-const AUENFELD = fs.readFileSync(path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../fixtures/exports/config/labs/auenfeld.yaml'), 'utf8');
+const AUENFELD = fs.readFileSync(
+  path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../fixtures/exports/config/labs/auenfeld.yaml'),
+  'utf8',
+);
 
 /** Cameron & Baldock 1998, exact form, with @stdlib's hypergeometric pmf(x; N, K, n). */
 function detection(pens: number, infected: number, sampled: number, sensitivity: number): number {
   let p = 0;
-  for (let x = 0; x <= Math.min(infected, sampled); x++) p += hypergeometricPmf(x, pens, infected, sampled) * (1 - (1 - sensitivity) ** x);
+  for (let x = 0; x <= Math.min(infected, sampled); x++)
+    p += hypergeometricPmf(x, pens, infected, sampled) * (1 - (1 - sensitivity) ** x);
   return p;
 }
 
@@ -33,14 +37,27 @@ describe('a failed control inside the call cell and the barn detection confidenc
     // Demo barn F3: 2 rows of 16 pens, all in use (N = 32); design prevalence 0.1 gives
     // d = ceil(3.2) = 4 pens; rope sensitivity for PRRSV in finishers 0.8 (demo sites.yaml).
     const pens = ['N1', 'N4', 'N7', 'N10', 'N13', 'S3'];
-    const ropes = pens.map((penId, index) => ({ sampleId: `CF-${index + 1}`, barnId: 'F3', penId, hungOn: '2026-08-03' }));
+    const ropes = pens.map((penId, index) => ({
+      sampleId: `CF-${index + 1}`,
+      barnId: 'F3',
+      penId,
+      hungOn: '2026-08-03',
+    }));
     await ws.drop('hollow-creek_ropes_2026-08-03.csv', ropeSheet(site, ropes));
-    const rows = ropes.map((rope, index) => `${rope.sampleId};PRRSV;;${index === 5 ? 'IK ungültig' : 'negativ'};endgültig;03.08.2026;06.08.2026`);
-    const { receipt } = await ws.drop('atd_befund_2026-08-06.csv', Buffer.from(['Probe;Test;Cq;Befund;Status;Entnahme;Befunddatum', ...rows].join('\r\n') + '\r\n', 'latin1'));
+    const rows = ropes.map(
+      (rope, index) =>
+        `${rope.sampleId};PRRSV;;${index === 5 ? 'IK ungültig' : 'negativ'};endgültig;03.08.2026;06.08.2026`,
+    );
+    const { receipt } = await ws.drop(
+      'atd_befund_2026-08-06.csv',
+      Buffer.from(['Probe;Test;Cq;Befund;Status;Entnahme;Befunddatum', ...rows].join('\r\n') + '\r\n', 'latin1'),
+    );
     expect(receipt.invalidRows!.map((row) => row.sampleId)).toEqual(['CF-6']);
 
     const round = fs.readdirSync(path.join(ws.paths.outbox, 'hollow-creek')).find((name) => name.startsWith('r01-'))!;
-    const table = parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', round, 'summary.csv'), 'utf8'), { columns: true }) as Record<string, string>[];
+    const table = parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', round, 'summary.csv'), 'utf8'), {
+      columns: true,
+    }) as Record<string, string>[];
     const f3 = table.find((row) => row['level'] === 'barn' && row['barn'] === 'F3' && row['assay'] === 'PRRSV')!;
     expect(f3).toMatchObject({ tested: '5', negative: '5', invalid: '1' });
 

@@ -32,11 +32,21 @@ describe('hostile-input corpus', () => {
   it('has an expectation beside every input, and an input for every expectation', () => {
     expect(inputs.length).toBeGreaterThanOrEqual(12);
     const expectations = fs.readdirSync(CORPUS).filter((name) => name.endsWith('.expected.json'));
-    expect(expectations.map((name) => name.replace(/\.expected\.json$/, '')).sort()).toEqual(inputs.map((name) => name.replace(/\.[^.]+$/, '')).sort());
+    expect(expectations.map((name) => name.replace(/\.expected\.json$/, '')).sort()).toEqual(
+      inputs.map((name) => name.replace(/\.[^.]+$/, '')).sort(),
+    );
   });
 
-  for (const [name, thread] of inputs.flatMap((input) => [[input, 'main thread'], [input, 'parse worker']] as const)) {
-    const expected = JSON.parse(fs.readFileSync(path.join(CORPUS, `${name.replace(/\.[^.]+$/, '')}.expected.json`), 'utf8')) as Expected;
+  for (const [name, thread] of inputs.flatMap(
+    (input) =>
+      [
+        [input, 'main thread'],
+        [input, 'parse worker'],
+      ] as const,
+  )) {
+    const expected = JSON.parse(
+      fs.readFileSync(path.join(CORPUS, `${name.replace(/\.[^.]+$/, '')}.expected.json`), 'utf8'),
+    ) as Expected;
     it(`${name} (${thread}): ${expected.status === 'accepted' ? `accepted with ${expected.rows} rows and ${expected.rejected.length} refused` : `refused as ${expected.code}`}`, async () => {
       const store = new Store(':memory:');
       try {
@@ -49,13 +59,18 @@ describe('hostile-input corpus', () => {
         if (expected.status === 'accepted') {
           expect(receipt.status, receipt.reason?.message).toBe('accepted');
           expect(receipt.rows.accepted).toBe(expected.rows);
-          const rejected = [...receipt.rejectedRows].sort((a, b) => a.line - b.line).map((row) => ({ line: row.line, code: row.code, field: row.field ?? null }));
+          const rejected = [...receipt.rejectedRows]
+            .sort((a, b) => a.line - b.line)
+            .map((row) => ({ line: row.line, code: row.code, field: row.field ?? null }));
           expect(rejected).toEqual(expected.rejected);
           // Nothing lost: every refused row is in the store with its file.
           expect(store.counts()).toMatchObject({ files: 1, rejectedFiles: 0, rejectedRows: expected.rejected.length });
         } else {
           expect(receipt.status).toBe('rejected');
-          expect({ code: receipt.reason?.code, line: receipt.reason?.line ?? null }).toEqual({ code: expected.code, line: expected.line });
+          expect({ code: receipt.reason?.code, line: receipt.reason?.line ?? null }).toEqual({
+            code: expected.code,
+            line: expected.line,
+          });
           if (expected.field !== undefined) expect(receipt.reason?.field).toBe(expected.field);
           // A refused file leaves only its own record (with its bytes) in the store.
           expect(store.counts()).toMatchObject({ files: 1, rejectedFiles: 1, results: 0, ropes: 0, rejectedRows: 0 });

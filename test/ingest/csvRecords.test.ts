@@ -9,7 +9,13 @@
 import { parse } from 'csv-parse/sync';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { CsvRecordReader, MAX_RECORD_CHARS, RecordTooLongError, UnclosedQuoteError, type CsvRecord } from '../../src/ingest/csvRecords.js';
+import {
+  CsvRecordReader,
+  MAX_RECORD_CHARS,
+  RecordTooLongError,
+  UnclosedQuoteError,
+  type CsvRecord,
+} from '../../src/ingest/csvRecords.js';
 
 const SEED = 20261202;
 
@@ -32,7 +38,14 @@ type Oracle = { records: string[][] } | { unclosed: true };
 
 function oracle(text: string, delimiter: string): Oracle {
   try {
-    return { records: parse(text, { delimiter, relax_quotes: true, relax_column_count: true, skip_empty_lines: false }) as string[][] };
+    return {
+      records: parse(text, {
+        delimiter,
+        relax_quotes: true,
+        relax_column_count: true,
+        skip_empty_lines: false,
+      }) as string[][],
+    };
   } catch (error) {
     expect((error as { code?: string }).code).toBe('CSV_QUOTE_NOT_CLOSED');
     return { unclosed: true };
@@ -57,16 +70,20 @@ describe('CsvRecordReader against csv-parse', () => {
   for (const delimiter of [',', ';', '\t', '|']) {
     it(`gives csv-parse's records and refusals for any text, in any chunking (delimiter ${JSON.stringify(delimiter)})`, () => {
       fc.assert(
-        fc.property(csvText(delimiter), fc.array(fc.integer({ min: 1, max: 9 }), { minLength: 1, maxLength: 4 }), (text, sizes) => {
-          const expected = oracle(text, delimiter);
-          if ('unclosed' in expected) {
-            expect(() => readInChunks(text, delimiter, 0, sizes)).toThrow(UnclosedQuoteError);
-            return;
-          }
-          const read = readInChunks(text, delimiter, 0, sizes);
-          expect(read.map((record) => record.cells)).toEqual(expected.records);
-          expect(read.map((record) => record.line)).toEqual(startLines(expected.records, 1));
-        }),
+        fc.property(
+          csvText(delimiter),
+          fc.array(fc.integer({ min: 1, max: 9 }), { minLength: 1, maxLength: 4 }),
+          (text, sizes) => {
+            const expected = oracle(text, delimiter);
+            if ('unclosed' in expected) {
+              expect(() => readInChunks(text, delimiter, 0, sizes)).toThrow(UnclosedQuoteError);
+              return;
+            }
+            const read = readInChunks(text, delimiter, 0, sizes);
+            expect(read.map((record) => record.cells)).toEqual(expected.records);
+            expect(read.map((record) => record.line)).toEqual(startLines(expected.records, 1));
+          },
+        ),
         { seed: SEED, numRuns: 3000 },
       );
     });
@@ -74,14 +91,22 @@ describe('CsvRecordReader against csv-parse', () => {
 
   it('skips title and header lines and numbers records from the line after them', () => {
     fc.assert(
-      fc.property(fc.array(fc.string({ unit: fc.constantFrom('x', ',', ' ', '"'), maxLength: 10 }), { minLength: 1, maxLength: 3 }), csvText(','), fc.array(fc.integer({ min: 1, max: 7 }), { minLength: 1, maxLength: 3 }), (titles, body, sizes) => {
-        const expected = oracle(body, ',');
-        fc.pre('records' in expected);
-        if (!('records' in expected)) return;
-        const read = readInChunks(titles.map((title) => `${title}\n`).join('') + body, ',', titles.length, sizes);
-        expect(read.map((record) => record.cells)).toEqual(expected.records);
-        expect(read.map((record) => record.line)).toEqual(startLines(expected.records, titles.length + 1));
-      }),
+      fc.property(
+        fc.array(fc.string({ unit: fc.constantFrom('x', ',', ' ', '"'), maxLength: 10 }), {
+          minLength: 1,
+          maxLength: 3,
+        }),
+        csvText(','),
+        fc.array(fc.integer({ min: 1, max: 7 }), { minLength: 1, maxLength: 3 }),
+        (titles, body, sizes) => {
+          const expected = oracle(body, ',');
+          fc.pre('records' in expected);
+          if (!('records' in expected)) return;
+          const read = readInChunks(titles.map((title) => `${title}\n`).join('') + body, ',', titles.length, sizes);
+          expect(read.map((record) => record.cells)).toEqual(expected.records);
+          expect(read.map((record) => record.line)).toEqual(startLines(expected.records, titles.length + 1));
+        },
+      ),
       { seed: SEED, numRuns: 1000 },
     );
   });

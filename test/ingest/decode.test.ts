@@ -4,7 +4,14 @@
  * expected bytes here are produced by Node's Buffer encoders, an oracle outside the project.
  */
 import { describe, expect, it } from 'vitest';
-import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, TextChunkDecoder, type Sniffed } from '../../src/ingest/decode.js';
+import {
+  BinaryContentError,
+  decodeHead,
+  EncodingError,
+  sniffEncoding,
+  TextChunkDecoder,
+  type Sniffed,
+} from '../../src/ingest/decode.js';
 
 async function decodeChunks(chunks: readonly Buffer[], sniffed: Sniffed): Promise<string> {
   const decoder = new TextChunkDecoder(sniffed);
@@ -34,7 +41,10 @@ describe('sniffEncoding', () => {
 
   it('reads UTF-16LE by its byte-order mark and by its NUL pattern', () => {
     const wide = Buffer.from(text, 'utf16le');
-    expect(sniffEncoding(Buffer.concat([Buffer.from([0xff, 0xfe]), wide]), 'auto')).toMatchObject({ encoding: 'utf-16le', bomLength: 2 });
+    expect(sniffEncoding(Buffer.concat([Buffer.from([0xff, 0xfe]), wide]), 'auto')).toMatchObject({
+      encoding: 'utf-16le',
+      bomLength: 2,
+    });
     expect(sniffEncoding(wide, 'auto')).toMatchObject({ encoding: 'utf-16le', bomLength: 0 });
   });
 
@@ -48,7 +58,9 @@ describe('sniffEncoding', () => {
   });
 
   it('refuses binary content', () => {
-    const png = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0x00, 0x00, 0x00, 0x0d, 0x49, 0x48, 0x44, 0x52]);
+    const png = Buffer.from([
+      0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0x00, 0x00, 0x00, 0x0d, 0x49, 0x48, 0x44, 0x52,
+    ]);
     expect(() => sniffEncoding(png, 'auto')).toThrow(BinaryContentError);
     const controls = Buffer.from(Array.from({ length: 200 }, (_, i) => (i % 3 === 0 ? 0x01 : 0x41)));
     expect(() => sniffEncoding(controls, 'utf-8')).toThrow(BinaryContentError);

@@ -15,7 +15,8 @@ const config = loadConfig(DEMO_CONFIG_DIR);
 const labs = config.labs;
 const northfield = config.labById.get('northfield')!;
 
-const NF_HEADER = 'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
+const NF_HEADER =
+  'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
 const OM_HEAD = 'Befundübersicht Oralflüssigkeiten\nAuftrag;Probe;Untersuchung;Ct;Befund;IK;Entnahme;Befunddatum\n';
 
 function refusal(run: () => unknown): IngestError {
@@ -30,7 +31,11 @@ function refusal(run: () => unknown): IngestError {
 
 describe('detectFileKind: lab exports', () => {
   it('recognises each demo lab by its header under any file name', () => {
-    const nf = detectFileKind('results.csv', `${NF_HEADER}\nNV26-1,X,PRRSV NA/EU RT-PCR,31.2,Positive,PASS,2026-08-03,2026-08-06,Final\n`, labs);
+    const nf = detectFileKind(
+      'results.csv',
+      `${NF_HEADER}\nNV26-1,X,PRRSV NA/EU RT-PCR,31.2,Positive,PASS,2026-08-03,2026-08-06,Final\n`,
+      labs,
+    );
     expect(nf).toMatchObject({ kind: 'results', delimiter: ',', headerLine: 1 });
     expect(nf.kind === 'results' && nf.lab.id).toBe('northfield');
     const om = detectFileKind('export.csv', OM_HEAD, labs);
@@ -40,7 +45,11 @@ describe('detectFileKind: lab exports', () => {
   });
 
   it('uses the file name to choose between two labs whose headers both fit', () => {
-    const twin: LabProfile = { ...northfield, id: 'northfield-west', fileNamePattern: compileConfiguredPattern('^nvdlw_') };
+    const twin: LabProfile = {
+      ...northfield,
+      id: 'northfield-west',
+      fileNamePattern: compileConfiguredPattern('^nvdlw_'),
+    };
     const both = [northfield, twin];
     const byName = detectFileKind('nvdlw_2026-08-06.csv', `${NF_HEADER}\n`, both);
     expect(byName.kind === 'results' && byName.lab.id).toBe('northfield-west');
@@ -65,7 +74,9 @@ describe('detectFileKind: lab exports', () => {
   });
 
   it('refuses a header that matches no lab and is not a rope sheet', () => {
-    const error = refusal(() => detectFileKind('nvdl_invoice.csv', 'Invoice,Client,Samples,Amount\nINV-1,Someone,36,412.00\n', labs));
+    const error = refusal(() =>
+      detectFileKind('nvdl_invoice.csv', 'Invoice,Client,Samples,Amount\nINV-1,Someone,36,412.00\n', labs),
+    );
     expect(error).toMatchObject({ code: 'unknown-format', line: 1 });
   });
 
@@ -77,8 +88,14 @@ describe('detectFileKind: lab exports', () => {
 
 describe('detectFileKind: rope sheets', () => {
   it('recognises a rope sheet by its columns, folding case, spaces and hyphens', () => {
-    expect(detectFileKind('ropes.csv', 'sample_id,site,barn,pen,hung_on,notes\n', labs)).toMatchObject({ kind: 'ropes', delimiter: ',' });
-    expect(detectFileKind('ropes.csv', 'Sample ID;Site;Barn;Pen;Hung-On\n', labs)).toMatchObject({ kind: 'ropes', delimiter: ';' });
+    expect(detectFileKind('ropes.csv', 'sample_id,site,barn,pen,hung_on,notes\n', labs)).toMatchObject({
+      kind: 'ropes',
+      delimiter: ',',
+    });
+    expect(detectFileKind('ropes.csv', 'Sample ID;Site;Barn;Pen;Hung-On\n', labs)).toMatchObject({
+      kind: 'ropes',
+      delimiter: ';',
+    });
   });
 
   it('names the missing column of a rope sheet', () => {
@@ -87,7 +104,9 @@ describe('detectFileKind: rope sheets', () => {
   });
 
   it('refuses a rope sheet with a duplicated column', () => {
-    expect(refusal(() => detectFileKind('ropes.csv', 'sample_id,site,barn,pen,hung_on,pen\n', labs)).code).toBe('duplicate-header');
+    expect(refusal(() => detectFileKind('ropes.csv', 'sample_id,site,barn,pen,hung_on,pen\n', labs)).code).toBe(
+      'duplicate-header',
+    );
   });
 });
 
@@ -102,8 +121,13 @@ describe('guessDelimiter', () => {
 describe('detectFileKind: regressions', () => {
   it('calls a file named like a lab export but sharing none of its columns unknown-format, not missing-column', () => {
     // Regression: an invoice named nvdl_invoice.csv was refused as "missing column Sample ID".
-    expect(refusal(() => detectFileKind('invoice.csv', 'Invoice,Client,Samples,Amount\n', labs)).code).toBe('unknown-format');
+    expect(refusal(() => detectFileKind('invoice.csv', 'Invoice,Client,Samples,Amount\n', labs)).code).toBe(
+      'unknown-format',
+    );
     // One required column present under the lab's name: a lab export with columns missing.
-    expect(refusal(() => detectFileKind('nvdl_x.csv', 'Sample ID,Client\n', labs))).toMatchObject({ code: 'missing-column', field: 'Test Name' });
+    expect(refusal(() => detectFileKind('nvdl_x.csv', 'Sample ID,Client\n', labs))).toMatchObject({
+      code: 'missing-column',
+      field: 'Test Name',
+    });
   });
 });

@@ -30,7 +30,11 @@ describe('WordMatcher', () => {
     ['not detected', 'negative'],
     ['detected', 'positive'],
   ]);
-  const found = (text: string) => matcher.find(text).map((match) => `${match.value}:${match.words}`).sort();
+  const found = (text: string) =>
+    matcher
+      .find(text)
+      .map((match) => `${match.value}:${match.words}`)
+      .sort();
 
   it('finds a word only as a whole word', () => {
     expect(found('IC FAIL')).toEqual(['control:1']);
@@ -53,21 +57,42 @@ describe('WordMatcher', () => {
 describe('LabWords', () => {
   const german = new LabWords({
     controlFailedTokens: ['ungültig', 'IK fehlerhaft'],
-    callWords: { positive: ['positiv'], negative: ['negativ', 'nicht nachweisbar'], suspect: ['fraglich'], invalid: ['ungültig'] },
+    callWords: {
+      positive: ['positiv'],
+      negative: ['negativ', 'nicht nachweisbar'],
+      suspect: ['fraglich'],
+      invalid: ['ungültig'],
+    },
     statusWords: { preliminary: ['vorläufig', 'ausstehend'], final: ['endgültig'], corrected: ['Korrektur'] },
   });
-  const english = new LabWords({ controlFailedTokens: ['FAIL'], callWords: DEFAULT_CALL_WORDS, statusWords: DEFAULT_STATUS_WORDS });
+  const english = new LabWords({
+    controlFailedTokens: ['FAIL'],
+    callWords: DEFAULT_CALL_WORDS,
+    statusWords: DEFAULT_STATUS_WORDS,
+  });
 
   it('reads a failed control written inside a longer cell, in any case and with or without accents', () => {
-    for (const cell of ['ungültig', 'IK ungültig', 'IK UNGÜLTIG', 'ik ungultig', 'Befund: IK ungültig, bitte wiederholen', 'IK fehlerhaft']) {
+    for (const cell of [
+      'ungültig',
+      'IK ungültig',
+      'IK UNGÜLTIG',
+      'ik ungultig',
+      'Befund: IK ungültig, bitte wiederholen',
+      'IK fehlerhaft',
+    ]) {
       expect(german.read(cell).controlFailed, cell).toBeDefined();
     }
     // A word that only contains the token is another word; "fehlerhaft" alone is not the phrase "IK fehlerhaft".
-    for (const cell of ['Ungültigkeit geprüft', 'fehlerhaft', 'IK ok']) expect(german.read(cell).controlFailed, cell).toBeUndefined();
+    for (const cell of ['Ungültigkeit geprüft', 'fehlerhaft', 'IK ok'])
+      expect(german.read(cell).controlFailed, cell).toBeUndefined();
   });
 
   it("reads the lab's call and the state of the report from one cell", () => {
-    expect(german.read('positiv (Korrektur)')).toMatchObject({ call: 'positive', status: 'corrected', statusWord: 'Korrektur' });
+    expect(german.read('positiv (Korrektur)')).toMatchObject({
+      call: 'positive',
+      status: 'corrected',
+      statusWord: 'Korrektur',
+    });
     expect(german.read('NEGATIV')).toMatchObject({ call: 'negative', status: undefined });
     expect(german.read('nicht nachweisbar')).toMatchObject({ call: 'negative' });
     expect(german.read('ausstehend')).toMatchObject({ call: undefined, status: 'preliminary' });

@@ -31,7 +31,9 @@ describe('likelyMeantIds', () => {
 
   it('finds the planned ID one substitution away, anywhere in the ID', () => {
     expect(likelyMeantIds('HCF03-013G', isPlanned).map((found) => found.id)).toContain('HCF03-012G');
-    expect(likelyMeantIds('HCF03-013G', isPlanned).find((found) => found.id === 'HCF03-012G')!.kind).toBe('substitution');
+    expect(likelyMeantIds('HCF03-013G', isPlanned).find((found) => found.id === 'HCF03-012G')!.kind).toBe(
+      'substitution',
+    );
     // The check character itself mistyped.
     expect(likelyMeantIds('HCF03-012H', isPlanned)).toEqual([{ id: 'HCF03-012G', kind: 'substitution' }]);
     // A letter of the site code mistyped, written in lower case with spaces.
@@ -52,7 +54,10 @@ describe('likelyMeantIds', () => {
 
 describe('plannedIdChecker with confirmed corrections', () => {
   it('reads a corrected ID on the line named, or on every line when none is', () => {
-    const config = { sites: [{ code: 'HCF' }] as never, corrections: [{ written: 'HCF03-013G', meant: 'HCF03-012G', file: 'a.csv', line: 4, note: undefined }] };
+    const config = {
+      sites: [{ code: 'HCF' }] as never,
+      corrections: [{ written: 'HCF03-013G', meant: 'HCF03-012G', file: 'a.csv', line: 4, note: undefined }],
+    };
     const check = plannedIdChecker(config);
     expect(check('HCF03-013G', 4)).toEqual({ kind: 'corrected', canonical: 'HCF03-012G', written: 'HCF03-013G' });
     expect(check('HCF03-013G', 5)).toEqual({ kind: 'bad-check' });
@@ -61,8 +66,10 @@ describe('plannedIdChecker with confirmed corrections', () => {
   });
 });
 
-const NF_HEADER = 'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
-const nfLine = (sample: string, ct: string, call: string) => `NV26-1,${sample},PRRSV NA/EU RT-PCR,${ct},${call},PASS,2026-08-31,2026-09-02,Final`;
+const NF_HEADER =
+  'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
+const nfLine = (sample: string, ct: string, call: string) =>
+  `NV26-1,${sample},PRRSV NA/EU RT-PCR,${ct},${call},PASS,2026-08-31,2026-09-02,Final`;
 
 function plan(ids: readonly string[]): PlannedRope[] {
   return ids.map((sampleId, index) => ({
@@ -87,19 +94,34 @@ describe('a mistyped planned ID through the pipeline', () => {
     const ws = workspace();
     const store = ws.ws().store;
     store.replacePlan('hollow-creek', 2, plan(ids));
-    const bytes = [NF_HEADER, nfLine(ids[0]!, 'Undetermined', 'Negative'), nfLine(written, '27.40', 'Positive'), nfLine(ids[2]!, 'Undetermined', 'Negative')].join('\n') + '\n';
+    const bytes =
+      [
+        NF_HEADER,
+        nfLine(ids[0]!, 'Undetermined', 'Negative'),
+        nfLine(written, '27.40', 'Positive'),
+        nfLine(ids[2]!, 'Undetermined', 'Negative'),
+      ].join('\n') + '\n';
     const first = await ws.drop('nvdl_results_2026-09-02.csv', bytes);
     // Two planned IDs are one error away (012 by the digit, 013 by its check character); 013 has
     // its result in this file, so the tube meant is 012, whose rope is still waiting.
-    expect(first.receipt.rejectedRows).toMatchObject([{ line: 3, code: 'bad-check-character', value: written, suggestedId: meant, candidateIds: [meant, ids[2]] }]);
-    expect(first.receipt.rejectedRows[0]!.message).toContain(`most likely ${meant} (planned for hollow-creek barn F1 pen A2, due 2026-08-31; one character differs)`);
-    expect(receiptText(first.receipt)).toContain(`confirm it in corrections.yaml (written: ${written}, meant: ${meant}, file: nvdl_results_2026-09-02.csv, line: 3)`);
-    // Stored with the refused row, for the pages.
-    expect(store.db.prepare('SELECT line, value, suggested_id AS suggestedId, candidate_ids AS candidates FROM rejected_rows').all()).toEqual([
-      { line: 3, value: written, suggestedId: meant, candidates: `${meant} ${ids[2]}` },
+    expect(first.receipt.rejectedRows).toMatchObject([
+      { line: 3, code: 'bad-check-character', value: written, suggestedId: meant, candidateIds: [meant, ids[2]] },
     ]);
+    expect(first.receipt.rejectedRows[0]!.message).toContain(
+      `most likely ${meant} (planned for hollow-creek barn F1 pen A2, due 2026-08-31; one character differs)`,
+    );
+    expect(receiptText(first.receipt)).toContain(
+      `confirm it in corrections.yaml (written: ${written}, meant: ${meant}, file: nvdl_results_2026-09-02.csv, line: 3)`,
+    );
+    // Stored with the refused row, for the pages.
+    expect(
+      store.db
+        .prepare('SELECT line, value, suggested_id AS suggestedId, candidate_ids AS candidates FROM rejected_rows')
+        .all(),
+    ).toEqual([{ line: 3, value: written, suggestedId: meant, candidates: `${meant} ${ids[2]}` }]);
     // (The pipeline adds its own next-round plan beside this one: only these IDs are looked at.)
-    const waiting = (ropes: readonly PlannedRope[]) => ropes.map((rope) => rope.sampleId).filter((id) => ids.includes(id));
+    const waiting = (ropes: readonly PlannedRope[]) =>
+      ropes.map((rope) => rope.sampleId).filter((id) => ids.includes(id));
     expect(waiting(store.plannedWithoutResults('hollow-creek'))).toEqual([meant]);
 
     // Before a correction is confirmed, the same bytes are a duplicate.
@@ -110,13 +132,26 @@ describe('a mistyped planned ID through the pipeline', () => {
     );
     ws.closeStore();
     const again = await ws.drop('nvdl_results_2026-09-02.csv', bytes);
-    expect(again.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 1, duplicate: 2, rejected: 0 }, sampleIdCorrections: [{ line: 3, written, meant }] });
-    expect(again.receipt.warnings.join(' ')).toMatch(/read again because corrections\.yaml now gives the sample ID meant on line 3/);
+    expect(again.receipt).toMatchObject({
+      status: 'accepted',
+      rows: { accepted: 1, duplicate: 2, rejected: 0 },
+      sampleIdCorrections: [{ line: 3, written, meant }],
+    });
+    expect(again.receipt.warnings.join(' ')).toMatch(
+      /read again because corrections\.yaml now gives the sample ID meant on line 3/,
+    );
     expect(receiptText(again.receipt)).toContain(`line 3: ${written} read as ${meant}`);
     const rescued = ws.ws().store;
     expect(waiting(rescued.plannedWithoutResults('hollow-creek'))).toEqual([]);
-    expect(rescued.currentResults().find((result) => result.sampleId === meant)).toMatchObject({ resultClass: 'positive', ct: 27.4 });
-    expect(rescued.db.prepare('SELECT sample_id_as_written AS written FROM results WHERE sample_id_as_written IS NOT NULL').all()).toEqual([{ written }]);
+    expect(rescued.currentResults().find((result) => result.sampleId === meant)).toMatchObject({
+      resultClass: 'positive',
+      ct: 27.4,
+    });
+    expect(
+      rescued.db
+        .prepare('SELECT sample_id_as_written AS written FROM results WHERE sample_id_as_written IS NOT NULL')
+        .all(),
+    ).toEqual([{ written }]);
     // The refusal stays on record (nothing lost), once; the file keeps one record with its rows counted once.
     expect(rescued.counts()).toMatchObject({ files: 1, results: 3, rejectedRows: 1 });
     expect(rescued.files()[0]).toMatchObject({ rowsAccepted: 3, rowsRejected: 1 });
@@ -126,13 +161,25 @@ describe('a mistyped planned ID through the pipeline', () => {
 
   for (const thread of ['main thread', 'parse worker'] as const) {
     it(`applies a correction named by ID alone to a file read for the first time (${thread})`, async () => {
-      const ws = workspace({ configFiles: { 'corrections.yaml': `sampleIds:\n  - written: ${written}\n    meant: ${meant}\n` } });
-      const deps = { config: ws.config(), store: ws.ws().store, now: () => FIXED_NOW, parseInWorkerFromBytes: thread === 'parse worker' ? 0 : Number.POSITIVE_INFINITY };
+      const ws = workspace({
+        configFiles: { 'corrections.yaml': `sampleIds:\n  - written: ${written}\n    meant: ${meant}\n` },
+      });
+      const deps = {
+        config: ws.config(),
+        store: ws.ws().store,
+        now: () => FIXED_NOW,
+        parseInWorkerFromBytes: thread === 'parse worker' ? 0 : Number.POSITIVE_INFINITY,
+      };
       deps.store.replacePlan('hollow-creek', 2, plan(ids));
       const file = path.join(ws.paths.inbox, 'nvdl_b.csv');
       fs.writeFileSync(file, [NF_HEADER, nfLine(written, '27.40', 'Positive')].join('\n') + '\n');
       const receipt = await ingestFile(file, deps);
-      expect(receipt).toMatchObject({ status: 'accepted', rows: { accepted: 1, rejected: 0 }, sampleIdCorrections: [{ line: 2, written, meant }], sites: ['hollow-creek'] });
+      expect(receipt).toMatchObject({
+        status: 'accepted',
+        rows: { accepted: 1, rejected: 0 },
+        sampleIdCorrections: [{ line: 2, written, meant }],
+        sites: ['hollow-creek'],
+      });
     });
   }
 });

@@ -25,24 +25,48 @@ function expectCountsAddUp(receipt: Receipt, dataRows: number): void {
 
 /** Results in the store that no rope places: none may be left behind. */
 function unplacedResults(ws: TestWorkspace): number {
-  return ws.ws().store.db.prepare('SELECT COUNT(*) FROM results r WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = r.sample)').pluck().get() as number;
+  return ws
+    .ws()
+    .store.db.prepare(
+      'SELECT COUNT(*) FROM results r WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = r.sample)',
+    )
+    .pluck()
+    .get() as number;
 }
 
 const storedSampleIds = (ws: TestWorkspace) =>
-  ws.ws().store.db.prepare('SELECT DISTINCT s.sample_id FROM results r JOIN samples s ON s.id = r.sample ORDER BY 1').pluck().all() as string[];
+  ws
+    .ws()
+    .store.db.prepare('SELECT DISTINCT s.sample_id FROM results r JOIN samples s ON s.id = r.sample ORDER BY 1')
+    .pluck()
+    .all() as string[];
 
 describe('location-coded sample IDs naming one pen twice on one day', () => {
   it('stores and places the first, refuses the second without storing it: 1 stored, 1 refused for 2 rows', async () => {
     const ws = workspace();
-    const { receipt } = await ws.drop('nvdl_tr.csv', northfieldExport([prrsv('TR-N1-01-20261101', null), prrsv('TR-N1-1-20261101', 29.5)], '2026-11-04', 1));
+    const { receipt } = await ws.drop(
+      'nvdl_tr.csv',
+      northfieldExport([prrsv('TR-N1-01-20261101', null), prrsv('TR-N1-1-20261101', 29.5)], '2026-11-04', 1),
+    );
     expect(receipt.rows).toMatchObject({ accepted: 1, rejected: 1, duplicate: 0 });
     expectCountsAddUp(receipt, 2);
     // Line 1 is the header: the second ID is on line 3, in the lab's "Sample ID" column.
     expect(receipt.rejectedRows).toEqual([
-      expect.objectContaining({ line: 3, code: 'pen-twice-same-day', field: 'Sample ID', value: 'TR-N1-1-20261101', message: expect.stringContaining('TR-N1-01-20261101') }),
+      expect.objectContaining({
+        line: 3,
+        code: 'pen-twice-same-day',
+        field: 'Sample ID',
+        value: 'TR-N1-1-20261101',
+        message: expect.stringContaining('TR-N1-01-20261101'),
+      }),
     ]);
     expect(storedSampleIds(ws)).toEqual(['TR-N1-01-20261101']);
-    expect(ws.ws().store.ropes('tamsin-ridge').map((rope) => [rope.sampleId, rope.barnId, rope.penId, rope.hungOn])).toEqual([['TR-N1-01-20261101', 'N1', '1', DAY]]);
+    expect(
+      ws
+        .ws()
+        .store.ropes('tamsin-ridge')
+        .map((rope) => [rope.sampleId, rope.barnId, rope.penId, rope.hungOn]),
+    ).toEqual([['TR-N1-01-20261101', 'N1', '1', DAY]]);
     expect(unplacedResults(ws)).toBe(0);
     expect(receipt.unresolvedSampleIds).toEqual([]);
     expect(ws.ws().store.unresolvedSampleIds()).toEqual([]);
@@ -52,7 +76,12 @@ describe('location-coded sample IDs naming one pen twice on one day', () => {
 
   it('refuses every assay row of the second sample, and counts each row once', async () => {
     const ws = workspace();
-    const rows = [prrsv('TR-N1-07-20261101', null), iav('TR-N1-07-20261101', null), prrsv('TR-N1-7-20261101', 30.1), iav('TR-N1-7-20261101', null)];
+    const rows = [
+      prrsv('TR-N1-07-20261101', null),
+      iav('TR-N1-07-20261101', null),
+      prrsv('TR-N1-7-20261101', 30.1),
+      iav('TR-N1-7-20261101', null),
+    ];
     const { receipt } = await ws.drop('nvdl_tr.csv', northfieldExport(rows, '2026-11-04', 1));
     expect(receipt.rows).toMatchObject({ accepted: 2, rejected: 2, duplicate: 0 });
     expectCountsAddUp(receipt, 4);
@@ -68,14 +97,22 @@ describe('location-coded sample IDs naming one pen twice on one day', () => {
     const ws = workspace();
     const first = northfieldExport([prrsv('TR-N2-03-20261101', null)], '2026-11-04', 1);
     expect((await ws.drop('nvdl_a.csv', first)).receipt.rows).toMatchObject({ accepted: 1, rejected: 0 });
-    const { receipt } = await ws.drop('nvdl_b.csv', northfieldExport([prrsv('TR-N2-3-20261101', 31), prrsv('TR-N2-04-20261101', null)], '2026-11-05', 7));
+    const { receipt } = await ws.drop(
+      'nvdl_b.csv',
+      northfieldExport([prrsv('TR-N2-3-20261101', 31), prrsv('TR-N2-04-20261101', null)], '2026-11-05', 7),
+    );
     expect(receipt.rows).toMatchObject({ accepted: 1, rejected: 1, duplicate: 0 });
     expectCountsAddUp(receipt, 2);
-    expect(receipt.rejectedRows).toEqual([expect.objectContaining({ line: 2, code: 'pen-twice-same-day', value: 'TR-N2-3-20261101' })]);
+    expect(receipt.rejectedRows).toEqual([
+      expect.objectContaining({ line: 2, code: 'pen-twice-same-day', value: 'TR-N2-3-20261101' }),
+    ]);
     expect(storedSampleIds(ws)).toEqual(['TR-N2-03-20261101', 'TR-N2-04-20261101']);
     expect(unplacedResults(ws)).toBe(0);
     // The first report again (same case, date and Ct) beside a new row: already stored, not refused.
-    const again = await ws.drop('nvdl_c.csv', northfieldExport([prrsv('TR-N2-03-20261101', null), prrsv('TR-N2-05-20261101', null)], '2026-11-04', 1));
+    const again = await ws.drop(
+      'nvdl_c.csv',
+      northfieldExport([prrsv('TR-N2-03-20261101', null), prrsv('TR-N2-05-20261101', null)], '2026-11-04', 1),
+    );
     expect(again.receipt.rows).toMatchObject({ accepted: 1, rejected: 0, duplicate: 1 });
     expectCountsAddUp(again.receipt, 2);
     expect(unplacedResults(ws)).toBe(0);
@@ -85,9 +122,15 @@ describe('location-coded sample IDs naming one pen twice on one day', () => {
     const ws = workspace();
     const site = ws.config().siteById.get('TAMSIN-RIDGE')!;
     await ws.drop('ropes.csv', ropeSheet(site, [{ sampleId: 'FARM-1', barnId: 'N1', penId: '5', hungOn: DAY }]));
-    const { receipt } = await ws.drop('nvdl_tr.csv', northfieldExport([prrsv('TR-N1-05-20261101', 28)], '2026-11-04', 1));
+    const { receipt } = await ws.drop(
+      'nvdl_tr.csv',
+      northfieldExport([prrsv('TR-N1-05-20261101', 28)], '2026-11-04', 1),
+    );
     expect(receipt.rows).toMatchObject({ accepted: 0, rejected: 1 });
-    expect(receipt.rejectedRows[0]).toMatchObject({ code: 'pen-twice-same-day', message: expect.stringContaining('FARM-1') });
+    expect(receipt.rejectedRows[0]).toMatchObject({
+      code: 'pen-twice-same-day',
+      message: expect.stringContaining('FARM-1'),
+    });
     expect(storedSampleIds(ws)).toEqual([]);
   });
 
@@ -95,13 +138,24 @@ describe('location-coded sample IDs naming one pen twice on one day', () => {
     const ws = workspace();
     const site = ws.config().siteById.get('TAMSIN-RIDGE')!;
     // The label was printed for 1 November; the farm hung it on the 2nd and said so on its sheet.
-    await ws.drop('ropes.csv', ropeSheet(site, [{ sampleId: 'TR-N1-09-20261101', barnId: 'N1', penId: '9', hungOn: '2026-11-02' }]));
-    const { receipt } = await ws.drop('nvdl_tr.csv', northfieldExport([prrsv('TR-N1-09-20261101', 33), iav('TR-N1-09-20261101', null)], '2026-11-05', 1));
+    await ws.drop(
+      'ropes.csv',
+      ropeSheet(site, [{ sampleId: 'TR-N1-09-20261101', barnId: 'N1', penId: '9', hungOn: '2026-11-02' }]),
+    );
+    const { receipt } = await ws.drop(
+      'nvdl_tr.csv',
+      northfieldExport([prrsv('TR-N1-09-20261101', 33), iav('TR-N1-09-20261101', null)], '2026-11-05', 1),
+    );
     expect(receipt.rows).toMatchObject({ accepted: 2, rejected: 0 });
     expectCountsAddUp(receipt, 2);
     // One warning for the sample, not one per assay row.
     expect(receipt.warnings.filter((text) => text.includes('TR-N1-09-20261101'))).toHaveLength(1);
-    expect(ws.ws().store.ropes('tamsin-ridge').map((rope) => [rope.penId, rope.hungOn])).toEqual([['9', '2026-11-02']]);
+    expect(
+      ws
+        .ws()
+        .store.ropes('tamsin-ridge')
+        .map((rope) => [rope.penId, rope.hungOn]),
+    ).toEqual([['9', '2026-11-02']]);
     expect(unplacedResults(ws)).toBe(0);
   });
 });
@@ -109,10 +163,15 @@ describe('location-coded sample IDs naming one pen twice on one day', () => {
 describe('location-coded sample IDs naming a pen the barn lacks', () => {
   it('refuses the row as unknown-pen and stores nothing for it; the other rows go ahead', async () => {
     const ws = workspace();
-    const { receipt } = await ws.drop('nvdl_tr.csv', northfieldExport([prrsv('TR-N1-77-20261101', 27), prrsv('TR-N1-02-20261101', null)], '2026-11-04', 1));
+    const { receipt } = await ws.drop(
+      'nvdl_tr.csv',
+      northfieldExport([prrsv('TR-N1-77-20261101', 27), prrsv('TR-N1-02-20261101', null)], '2026-11-04', 1),
+    );
     expect(receipt.rows).toMatchObject({ accepted: 1, rejected: 1, duplicate: 0 });
     expectCountsAddUp(receipt, 2);
-    expect(receipt.rejectedRows).toEqual([expect.objectContaining({ line: 2, code: 'unknown-pen', field: 'Sample ID', value: 'TR-N1-77-20261101' })]);
+    expect(receipt.rejectedRows).toEqual([
+      expect.objectContaining({ line: 2, code: 'unknown-pen', field: 'Sample ID', value: 'TR-N1-77-20261101' }),
+    ]);
     expect(storedSampleIds(ws)).toEqual(['TR-N1-02-20261101']);
     expect(receipt.unresolvedSampleIds).toEqual([]);
     expect(unplacedResults(ws)).toBe(0);

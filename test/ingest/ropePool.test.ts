@@ -15,8 +15,15 @@ const config = loadConfig(DEMO_CONFIG_DIR);
 const HEADER = ['sample_id', 'site', 'barn', 'pen', 'hung_on', 'Pool No'];
 const kind = detectFileKind('ropes.csv', HEADER.join(',') + '\n', config.labs, config.ropeSheet.columns);
 if (kind.kind !== 'ropes') throw new Error('rope sheet with a pool column not recognised');
-const context: RopeContext = { fileName: 'ropes.csv', columnIndex: kind.columnIndex, columnNames: kind.columnNames, sites: config.sites, plannedIdCheck: plannedIdChecker(config) };
-const rope = (pool: string, sampleId = 'HC-0803-F1-01') => mapRopeRow([sampleId, 'hollow-creek', 'F1', 'A1', '2026-08-03', pool], 2, context);
+const context: RopeContext = {
+  fileName: 'ropes.csv',
+  columnIndex: kind.columnIndex,
+  columnNames: kind.columnNames,
+  sites: config.sites,
+  plannedIdCheck: plannedIdChecker(config),
+};
+const rope = (pool: string, sampleId = 'HC-0803-F1-01') =>
+  mapRopeRow([sampleId, 'hollow-creek', 'F1', 'A1', '2026-08-03', pool], 2, context);
 
 describe('the pool column of a rope sheet', () => {
   it('reads the pool under a synonym of its name, normalised like a sample ID; a blank cell is no pool', () => {
@@ -29,7 +36,10 @@ describe('the pool column of a rope sheet', () => {
     expect(rope(planned.toLowerCase())).toMatchObject({ ok: true, row: { poolId: planned } });
     // One character changed in the sequence: MOD 37-2 catches every single substitution.
     const mistyped = planned.replace('-901', '-907');
-    expect(rope(mistyped)).toMatchObject({ ok: false, rejection: { code: 'bad-check-character', field: 'Pool No', line: 2 } });
+    expect(rope(mistyped)).toMatchObject({
+      ok: false,
+      rejection: { code: 'bad-check-character', field: 'Pool No', line: 2 },
+    });
   });
 
   it('refuses a pool ID that is the rope\u2019s own sample ID', () => {

@@ -14,10 +14,27 @@ import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { mapResultRow, type ResultContext } from '../../src/ingest/rows.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
-const NF_COLUMNS = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'] as const;
+const NF_COLUMNS = [
+  'Case No',
+  'Sample ID',
+  'Test Name',
+  'Ct Value',
+  'Interpretation',
+  'Internal Control',
+  'Collection Date',
+  'Report Date',
+  'Report Status',
+] as const;
 const nfKind = detectFileKind('nvdl_t.csv', NF_COLUMNS.join(',') + '\n', config.labs);
 if (nfKind.kind !== 'results') throw new Error('northfield header not recognised');
-const context: ResultContext = { fileName: 'nvdl_t.csv', lab: nfKind.lab, columnIndex: nfKind.columnIndex, assayById: config.assayById, sites: config.sites, plannedIdCheck: plannedIdChecker(config) };
+const context: ResultContext = {
+  fileName: 'nvdl_t.csv',
+  lab: nfKind.lab,
+  columnIndex: nfKind.columnIndex,
+  assayById: config.assayById,
+  sites: config.sites,
+  plannedIdCheck: plannedIdChecker(config),
+};
 
 type NfRow = Partial<Record<(typeof NF_COLUMNS)[number], string>>;
 const base: NfRow = {
@@ -31,7 +48,12 @@ const base: NfRow = {
   'Report Date': '2026-08-20',
   'Report Status': 'Final',
 };
-const row = (overrides: NfRow = {}) => mapResultRow(NF_COLUMNS.map((column) => ({ ...base, ...overrides })[column] ?? ''), 5, context);
+const row = (overrides: NfRow = {}) =>
+  mapResultRow(
+    NF_COLUMNS.map((column) => ({ ...base, ...overrides })[column] ?? ''),
+    5,
+    context,
+  );
 
 describe('an antibody ELISA row', () => {
   it('reads S/P 0.21, called negative by the lab, as negative: the calls agree', () => {

@@ -54,7 +54,8 @@ const ROWS: (string | number)[][] = [
   ['W-1', 'WD-8', '03/08/2026', 'PASS', 36, '-'], // line 9: PRRSV suspect; IAV not tested
 ];
 
-const csv = (rows: readonly (readonly (string | number)[])[]) => [HEADER, ...rows].map((row) => row.join(',')).join('\n') + '\n';
+const csv = (rows: readonly (readonly (string | number)[])[]) =>
+  [HEADER, ...rows].map((row) => row.join(',')).join('\n') + '\n';
 
 async function workbook(rows: readonly (readonly (string | number)[])[]): Promise<Buffer> {
   const book = new ExcelJS.Workbook();
@@ -68,7 +69,9 @@ type Stored = { id: string; line: number; assay: string; labAssay: string; ct: n
 const stored = (ws: TestWorkspace): Stored[] =>
   ws
     .ws()
-    .store.db.prepare('SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.lab_assay AS labAssay, r.ct, r.class FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id')
+    .store.db.prepare(
+      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.lab_assay AS labAssay, r.ct, r.class FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
+    )
     .all() as Stored[];
 
 const EXPECTED: Stored[] = [
@@ -91,13 +94,24 @@ describe('a wide export read through a lab profile with layout: wide', () => {
   for (const form of ['CSV', 'workbook'] as const) {
     it(`stores one result per value cell, none for a cell not tested, and names the value column of a refused value (${form})`, async () => {
       const ws = workspace({ configFiles: { 'labs/wrenfold.yaml': WIDE_LAB } });
-      const { receipt } = form === 'CSV' ? await ws.drop('wvl_2026-08-05.csv', csv(ROWS)) : await ws.drop('wvl_2026-08-05.xlsx', await workbook(ROWS));
-      expect(receipt).toMatchObject({ status: 'accepted', kind: 'results', lab: 'wrenfold', rows: { accepted: EXPECTED.length, rejected: EXPECTED_REFUSALS.length } });
+      const { receipt } =
+        form === 'CSV'
+          ? await ws.drop('wvl_2026-08-05.csv', csv(ROWS))
+          : await ws.drop('wvl_2026-08-05.xlsx', await workbook(ROWS));
+      expect(receipt).toMatchObject({
+        status: 'accepted',
+        kind: 'results',
+        lab: 'wrenfold',
+        rows: { accepted: EXPECTED.length, rejected: EXPECTED_REFUSALS.length },
+      });
       expect(receipt.rejectedRows.map(({ line, field, code }) => ({ line, field, code }))).toEqual(EXPECTED_REFUSALS);
       expect(stored(ws)).toEqual(EXPECTED);
       // WD-2 had no assay run: it is not in the store at all (not as negative, not as unresolved).
       expect(receipt.unresolvedSampleIds).not.toContain('WD-2');
-      expect(ws.ws().store.counts()).toMatchObject({ results: EXPECTED.length, rejectedRows: EXPECTED_REFUSALS.length });
+      expect(ws.ws().store.counts()).toMatchObject({
+        results: EXPECTED.length,
+        rejectedRows: EXPECTED_REFUSALS.length,
+      });
     });
   }
 
@@ -109,8 +123,16 @@ describe('a wide export read through a lab profile with layout: wide', () => {
     for (const parseInWorkerFromBytes of [Number.POSITIVE_INFINITY, 0]) {
       const store = new Store(':memory:');
       try {
-        const receipt = await ingestFile(file, { config: ws.config(), store, now: () => new Date('2026-12-01T12:00:00Z'), parseInWorkerFromBytes });
-        outcomes.push({ rows: receipt.rows, refused: receipt.rejectedRows.map(({ line, field, code }) => ({ line, field, code })) });
+        const receipt = await ingestFile(file, {
+          config: ws.config(),
+          store,
+          now: () => new Date('2026-12-01T12:00:00Z'),
+          parseInWorkerFromBytes,
+        });
+        outcomes.push({
+          rows: receipt.rows,
+          refused: receipt.rejectedRows.map(({ line, field, code }) => ({ line, field, code })),
+        });
       } finally {
         store.close();
       }
@@ -142,7 +164,10 @@ describe('lab profile keys of the wide layout', () => {
     try {
       loadConfig(ws.paths.configDir);
     } catch (error) {
-      if (error instanceof ConfigError) return error.problems.filter((problem) => problem.file.endsWith('wrenfold.yaml')).map((problem) => `${problem.keyPath}: ${problem.detail}`);
+      if (error instanceof ConfigError)
+        return error.problems
+          .filter((problem) => problem.file.endsWith('wrenfold.yaml'))
+          .map((problem) => `${problem.keyPath}: ${problem.detail}`);
       throw error;
     }
     return [];
@@ -159,10 +184,17 @@ describe('lab profile keys of the wide layout', () => {
   });
 
   it('refuses an assay, Ct or call column in a wide profile, and a word meaning both not tested and not detected', () => {
-    const found = problems(WIDE_LAB.replace('  internalControl: IC\n', '  internalControl: IC\n  ct: Ct\n  call: Result\n').replace('notTestedTokens: [n.t., \'-\']', "notTestedTokens: [n.t., nd]"));
+    const found = problems(
+      WIDE_LAB.replace('  internalControl: IC\n', '  internalControl: IC\n  ct: Ct\n  call: Result\n').replace(
+        "notTestedTokens: [n.t., '-']",
+        'notTestedTokens: [n.t., nd]',
+      ),
+    );
     expect(found).toEqual([
       expect.stringMatching(/^columns\.ct: a wide export \(layout: wide\) has no ct column/),
-      expect.stringMatching(/^columns\.call: a wide export \(layout: wide\) has no call column: one call cannot speak for several assays/),
+      expect.stringMatching(
+        /^columns\.call: a wide export \(layout: wide\) has no call column: one call cannot speak for several assays/,
+      ),
       expect.stringMatching(/^notTestedTokens\[1\]: "nd" is also in notDetected\.tokens/),
     ]);
   });

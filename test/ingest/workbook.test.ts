@@ -20,11 +20,23 @@ import type { Store } from '../../src/store/store.js';
 import { FIXED_NOW, workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
-const HEADER = ['Case No', 'Sample ID', 'Test Name', 'Ct Value', 'Interpretation', 'Internal Control', 'Collection Date', 'Report Date', 'Report Status'];
+const HEADER = [
+  'Case No',
+  'Sample ID',
+  'Test Name',
+  'Ct Value',
+  'Interpretation',
+  'Internal Control',
+  'Collection Date',
+  'Report Date',
+  'Report Status',
+];
 const PRRSV = 'PRRSV NA/EU RT-PCR';
 const day = (iso: string) => new Date(`${iso}T00:00:00Z`);
 /** The demo Northfield profile without its workbook block (sheet "Results", header on row 3). */
-const NORTHFIELD = fs.readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8').replace(/^workbook:\n(?: {2}.*\n)+/m, '');
+const NORTHFIELD = fs
+  .readFileSync(path.join(DEMO_CONFIG_DIR, 'labs', 'northfield.yaml'), 'utf8')
+  .replace(/^workbook:\n(?: {2}.*\n)+/m, '');
 /** A sheet as the demo Northfield profile reads it: "Results", a title and a blank row above the header. */
 const results = (rows: ExcelJS.CellValue[][]) => ({ Results: [['Results report (invented)'], [], HEADER, ...rows] });
 
@@ -37,7 +49,15 @@ async function workbookBytes(sheets: Record<string, ExcelJS.CellValue[][]>): Pro
   return Buffer.from(await book.xlsx.writeBuffer());
 }
 
-type Stored = { id: string; line: number; assay: string; ct: number | null; class: string; collected: string | null; reported: string | null };
+type Stored = {
+  id: string;
+  line: number;
+  assay: string;
+  ct: number | null;
+  class: string;
+  collected: string | null;
+  reported: string | null;
+};
 const stored = (ws: TestWorkspace): Stored[] =>
   ws
     .ws()
@@ -48,25 +68,63 @@ const stored = (ws: TestWorkspace): Stored[] =>
 
 describe('a lab workbook read through its lab profile', () => {
   it('reads the sheet and header row the profile names: sheet row numbers as lines, refusals naming the column, values as the lab wrote them', async () => {
-    const ws = workspace({ configFiles: { 'labs/northfield.yaml': `${NORTHFIELD}workbook:\n  sheet: Befunde\n  headerRow: 3\n` } });
+    const ws = workspace({
+      configFiles: { 'labs/northfield.yaml': `${NORTHFIELD}workbook:\n  sheet: Befunde\n  headerRow: 3\n` },
+    });
     const bytes = await workbookBytes({
       Cover: [['Northfield results, invented'], ['not data']],
       Befunde: [
         ['Results report'],
         [],
         HEADER,
-        ['NV26-1', 'WB-1', PRRSV, 31.499999999999996, 'Positive', 'PASS', day('2026-08-03'), day('2026-08-06'), 'Final'],
+        [
+          'NV26-1',
+          'WB-1',
+          PRRSV,
+          31.499999999999996,
+          'Positive',
+          'PASS',
+          day('2026-08-03'),
+          day('2026-08-06'),
+          'Final',
+        ],
         ['NV26-1', 'WB-2', PRRSV, 'Undetermined', 'Negative', 'PASS', day('2026-08-03'), day('2026-08-06'), 'Final'],
         [],
-        ['NV26-1', 'WB-3', PRRSV, { formula: 'D4+6.6', result: 38.1 }, 'Suspect', 'PASS', day('2026-08-03'), day('2026-08-06'), 'Final'],
+        [
+          'NV26-1',
+          'WB-3',
+          PRRSV,
+          { formula: 'D4+6.6', result: 38.1 },
+          'Suspect',
+          'PASS',
+          day('2026-08-03'),
+          day('2026-08-06'),
+          'Final',
+        ],
         ['NV26-1', 'WB-4', PRRSV, 'abc', 'Positive', 'PASS', day('2026-08-03'), day('2026-08-06'), 'Final'],
-        ['NV26-1', 'WB-5', PRRSV, { formula: 'D4/0' }, 'Positive', 'PASS', day('2026-08-03'), day('2026-08-06'), 'Final'],
+        [
+          'NV26-1',
+          'WB-5',
+          PRRSV,
+          { formula: 'D4/0' },
+          'Positive',
+          'PASS',
+          day('2026-08-03'),
+          day('2026-08-06'),
+          'Final',
+        ],
         // Dates as Excel serial numbers without a date format, and a date-time.
         ['NV26-1', 'WB-6', PRRSV, 33, 'Positive', 'PASS', 46237, new Date('2026-08-06T14:30:00Z'), 'Final'],
       ],
     });
     const { receipt } = await ws.drop('nvdl_results_2026-08-06.xlsx', bytes);
-    expect(receipt).toMatchObject({ status: 'accepted', kind: 'results', lab: 'northfield', sheet: 'Befunde', rows: { accepted: 4, rejected: 2 } });
+    expect(receipt).toMatchObject({
+      status: 'accepted',
+      kind: 'results',
+      lab: 'northfield',
+      sheet: 'Befunde',
+      rows: { accepted: 4, rejected: 2 },
+    });
     expect(receipt.encoding).toBe('Office Open XML workbook (.xlsx), sheet "Befunde", header on row 3');
     expect(receipt.rejectedRows.map(({ line, field, code, value }) => ({ line, field, code, value }))).toEqual([
       { line: 8, field: 'Ct Value', code: 'bad-ct', value: 'abc' },
@@ -74,10 +132,42 @@ describe('a lab workbook read through its lab profile', () => {
     ]);
     // 31.499999999999996 is shown as 31.5 (15 significant digits): positive below 36; 38.1 suspect; serial 46237 is 2026-08-03.
     expect(stored(ws)).toEqual([
-      { id: 'WB-1', line: 4, assay: 'PRRSV', ct: 31.5, class: 'positive', collected: '2026-08-03', reported: '2026-08-06' },
-      { id: 'WB-2', line: 5, assay: 'PRRSV', ct: null, class: 'negative', collected: '2026-08-03', reported: '2026-08-06' },
-      { id: 'WB-3', line: 7, assay: 'PRRSV', ct: 38.1, class: 'suspect', collected: '2026-08-03', reported: '2026-08-06' },
-      { id: 'WB-6', line: 10, assay: 'PRRSV', ct: 33, class: 'positive', collected: '2026-08-03', reported: '2026-08-06' },
+      {
+        id: 'WB-1',
+        line: 4,
+        assay: 'PRRSV',
+        ct: 31.5,
+        class: 'positive',
+        collected: '2026-08-03',
+        reported: '2026-08-06',
+      },
+      {
+        id: 'WB-2',
+        line: 5,
+        assay: 'PRRSV',
+        ct: null,
+        class: 'negative',
+        collected: '2026-08-03',
+        reported: '2026-08-06',
+      },
+      {
+        id: 'WB-3',
+        line: 7,
+        assay: 'PRRSV',
+        ct: 38.1,
+        class: 'suspect',
+        collected: '2026-08-03',
+        reported: '2026-08-06',
+      },
+      {
+        id: 'WB-6',
+        line: 10,
+        assay: 'PRRSV',
+        ct: 33,
+        class: 'positive',
+        collected: '2026-08-03',
+        reported: '2026-08-06',
+      },
     ]);
     // Nothing lost: both refused rows are kept with the file.
     expect(ws.ws().store.counts()).toMatchObject({ files: 1, rejectedRows: 2, results: 4 });
@@ -98,14 +188,21 @@ describe('a lab workbook read through its lab profile', () => {
       .trim()
       .split('\n')
       .map((line) => line.split(','))
-      .map((row, index) => (index === 0 ? row : row.map((cell, column) => (column === 3 && /^\d/.test(cell) ? Number(cell) : column >= 6 && column <= 7 ? day(cell) : cell))));
+      .map((row, index) =>
+        index === 0
+          ? row
+          : row.map((cell, column) =>
+              column === 3 && /^\d/.test(cell) ? Number(cell) : column >= 6 && column <= 7 ? day(cell) : cell,
+            ),
+      );
     const fromCsv = workspace();
     const fromBook = workspace();
     const csvReceipt = (await fromCsv.drop('nvdl_same.csv', csv)).receipt;
     const bookReceipt = (await fromBook.drop('nvdl_same.xlsx', await workbookBytes(results(cells.slice(1))))).receipt;
     expect(bookReceipt.rows).toEqual(csvReceipt.rows);
     // The sheet's rows start on row 4, the CSV's on line 2.
-    const shifted = (list: { line: number }[] | undefined) => (list ?? []).map((item) => ({ ...item, line: item.line - 2 }));
+    const shifted = (list: { line: number }[] | undefined) =>
+      (list ?? []).map((item) => ({ ...item, line: item.line - 2 }));
     expect(shifted(bookReceipt.invalidRows)).toEqual(csvReceipt.invalidRows);
     expect(stored(fromBook).map((row) => ({ ...row, line: row.line - 2 }))).toEqual(stored(fromCsv));
     expect(stored(fromBook)).toHaveLength(4);
@@ -114,18 +211,26 @@ describe('a lab workbook read through its lab profile', () => {
   it('refuses a workbook from a lab whose sheet is not in it, listing the sheets it has, and stores nothing of it', async () => {
     // The demo Northfield profile reads sheet "Results".
     const ws = workspace();
-    const bytes = await workbookBytes({ Summary: [HEADER, ['NV26-1', 'X-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']], Raw: [['x']] });
+    const bytes = await workbookBytes({
+      Summary: [HEADER, ['NV26-1', 'X-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']],
+      Raw: [['x']],
+    });
     const { receipt } = await ws.drop('nvdl_results.xlsx', bytes);
     expect(receipt.status).toBe('rejected');
     expect(receipt.reason).toMatchObject({ code: 'no-such-sheet', line: null });
-    expect(receipt.reason?.message).toContain('reads sheet "Results", which the workbook does not have (its sheets: "Summary", "Raw")');
+    expect(receipt.reason?.message).toContain(
+      'reads sheet "Results", which the workbook does not have (its sheets: "Summary", "Raw")',
+    );
     expect(ws.ws().store.counts()).toMatchObject({ files: 1, rejectedFiles: 1, results: 0, rejectedRows: 0 });
     expect(fs.existsSync(path.join(ws.paths.inbox, 'rejected', 'nvdl_results.xlsx'))).toBe(true);
   });
 
   it('refuses text named .xlsx, an empty workbook, and one with a header but no rows', async () => {
     const ws = workspace();
-    const renamed = await ws.drop('nvdl_renamed.xlsx', `${HEADER.join(',')}\nNV26-1,X-1,${PRRSV},30,Positive,PASS,2026-08-03,2026-08-06,Final\n`);
+    const renamed = await ws.drop(
+      'nvdl_renamed.xlsx',
+      `${HEADER.join(',')}\nNV26-1,X-1,${PRRSV},30,Positive,PASS,2026-08-03,2026-08-06,Final\n`,
+    );
     expect(renamed.receipt.reason?.code).toBe('not-a-workbook');
     const empty = await ws.drop('nvdl_empty.xlsx', await workbookBytes({ Results: [] }));
     expect(empty.receipt.reason?.code).toBe('empty-file');
@@ -136,9 +241,14 @@ describe('a lab workbook read through its lab profile', () => {
 
   it('takes the same workbook bytes twice as a duplicate', async () => {
     const ws = workspace();
-    const bytes = await workbookBytes(results([['NV26-1', 'D-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']]));
+    const bytes = await workbookBytes(
+      results([['NV26-1', 'D-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']]),
+    );
     expect((await ws.drop('nvdl_a.xlsx', bytes)).receipt.status).toBe('accepted');
-    expect((await ws.drop('nvdl_b.xlsx', bytes)).receipt).toMatchObject({ status: 'duplicate', reason: { code: 'duplicate-file' } });
+    expect((await ws.drop('nvdl_b.xlsx', bytes)).receipt).toMatchObject({
+      status: 'duplicate',
+      reason: { code: 'duplicate-file' },
+    });
   });
 
   it('reads a rope sheet kept in a workbook: header on the first row of the first sheet, dates and pen numbers as cells', async () => {
@@ -153,7 +263,12 @@ describe('a lab workbook read through its lab profile', () => {
     });
     const { receipt } = await ws.drop('ropes_2026-08-03.xlsx', bytes);
     expect(receipt).toMatchObject({ status: 'accepted', kind: 'ropes', sheet: 'Ropes', rows: { accepted: 2 } });
-    expect(ws.ws().store.ropes('hollow-creek').map((rope) => [rope.sampleId, rope.penId, rope.hungOn])).toEqual([
+    expect(
+      ws
+        .ws()
+        .store.ropes('hollow-creek')
+        .map((rope) => [rope.sampleId, rope.penId, rope.hungOn]),
+    ).toEqual([
       ['RS-1', 'A6', '2026-08-03'],
       ['RS-2', 'B7', '2026-08-03'],
     ]);
@@ -180,7 +295,9 @@ describe('the file protocol for workbooks', () => {
   it('stores nothing of a workbook rewritten between its hash and its reading, and leaves it in the inbox', async () => {
     const ws = workspace();
     const file = path.join(ws.paths.inbox, 'nvdl_moving.xlsx');
-    const bytes = await workbookBytes(results([['NV26-1', 'M-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']]));
+    const bytes = await workbookBytes(
+      results([['NV26-1', 'M-1', PRRSV, 30, 'Positive', 'PASS', '2026-08-03', '2026-08-06', 'Final']]),
+    );
     fs.writeFileSync(file, bytes);
     const real = ws.ws().store;
     // A writer rewrites one byte (same size) while ingest looks the hash up, after hashing and before reading.
@@ -198,7 +315,9 @@ describe('the file protocol for workbooks', () => {
         return typeof value === 'function' ? (value as (...args: unknown[]) => unknown).bind(target) : value;
       },
     }) as Store;
-    const outcome = await ingestFile(file, { config: ws.config(), store, now: () => FIXED_NOW }).catch((error: unknown) => error);
+    const outcome = await ingestFile(file, { config: ws.config(), store, now: () => FIXED_NOW }).catch(
+      (error: unknown) => error,
+    );
     expect(outcome).toBeInstanceOf(FileStillChangingError);
     // Caught where the workbook is read (the bytes differ from those hashed), before any row is mapped.
     expect((outcome as Error).message).toMatch(/no longer match the hash taken before reading\); nothing was stored/);

@@ -10,7 +10,15 @@ import { inflateRawSync } from 'node:zlib';
 import ExcelJS from 'exceljs';
 import { describe, expect, it } from 'vitest';
 import { IngestError } from '../../src/ingest/errors.js';
-import { cellText, isWorkbookFile, numberText, openWorkbook, serialDay, WORKBOOK_MAX_BYTES, type CellReading } from '../../src/ingest/xlsxReader.js';
+import {
+  cellText,
+  isWorkbookFile,
+  numberText,
+  openWorkbook,
+  serialDay,
+  WORKBOOK_MAX_BYTES,
+  type CellReading,
+} from '../../src/ingest/xlsxReader.js';
 import { entryDataOffset, zipEntries } from '../../src/ingest/zipDirectory.js';
 import { zipFile, type ZipPart } from '../helpers/zipFile.js';
 
@@ -97,7 +105,9 @@ describe('cellText', () => {
   });
 
   it('reads rich text, hyperlinks, errors, booleans and empty cells as a person sees them', () => {
-    expect(cellText({ richText: [{ text: 'PRRSV ' }, { text: 'RT-PCR', font: { bold: true } }] }, asText)).toBe('PRRSV RT-PCR');
+    expect(cellText({ richText: [{ text: 'PRRSV ' }, { text: 'RT-PCR', font: { bold: true } }] }, asText)).toBe(
+      'PRRSV RT-PCR',
+    );
     expect(cellText({ text: 'HC-0803-F1-01', hyperlink: 'https://lims.invalid/1' }, asText)).toBe('HC-0803-F1-01');
     expect(cellText({ error: '#DIV/0!' }, asText)).toBe('#DIV/0!');
     expect(cellText(true, asText)).toBe('TRUE');
@@ -145,7 +155,14 @@ describe('openWorkbook', () => {
     // [MS-CFB] 2.2 signature, then a directory entry name as [MS-OFFCRYPTO] 2.3.4.4 names the
     // encrypted package's stream (UTF-16LE, [MS-CFB] 2.6.1). A stand-in: no real cipher inside.
     const signature = Buffer.from([0xd0, 0xcf, 0x11, 0xe0, 0xa1, 0xb1, 0x1a, 0xe1]);
-    const encrypted = Buffer.concat([signature, Buffer.alloc(504), Buffer.from('EncryptionInfo', 'utf16le'), Buffer.alloc(50), Buffer.from('EncryptedPackage', 'utf16le'), Buffer.alloc(400)]);
+    const encrypted = Buffer.concat([
+      signature,
+      Buffer.alloc(504),
+      Buffer.from('EncryptionInfo', 'utf16le'),
+      Buffer.alloc(50),
+      Buffer.from('EncryptedPackage', 'utf16le'),
+      Buffer.alloc(400),
+    ]);
     expect((await refusal(encrypted)).code).toBe('workbook-encrypted');
     const oldXls = Buffer.concat([signature, Buffer.alloc(504), Buffer.from('Workbook', 'utf16le'), Buffer.alloc(400)]);
     const refused = await refusal(oldXls);
@@ -155,9 +172,15 @@ describe('openWorkbook', () => {
 
   it('names the format of a zip that is another spreadsheet or no workbook at all', async () => {
     // OpenDocument 1.2 Part 3, 3.3: an ODF package starts with a "mimetype" entry; content.xml holds the document.
-    const ods = zipFile([{ name: 'mimetype', data: 'application/vnd.oasis.opendocument.spreadsheet', method: 0 }, { name: 'content.xml', data: '<office:document-content/>' }]);
+    const ods = zipFile([
+      { name: 'mimetype', data: 'application/vnd.oasis.opendocument.spreadsheet', method: 0 },
+      { name: 'content.xml', data: '<office:document-content/>' },
+    ]);
     expect((await refusal(ods)).message).toMatch(/\.ods/);
-    const xlsb = zipFile([{ name: '[Content_Types].xml', data: '<Types/>' }, { name: 'xl/workbook.bin', data: Buffer.alloc(10) }]);
+    const xlsb = zipFile([
+      { name: '[Content_Types].xml', data: '<Types/>' },
+      { name: 'xl/workbook.bin', data: Buffer.alloc(10) },
+    ]);
     expect((await refusal(xlsb)).message).toMatch(/\.xlsb/);
     const other = zipFile([{ name: 'report.pdf', data: '%PDF-1.7' }]);
     const refused = await refusal(other);
@@ -168,7 +191,10 @@ describe('openWorkbook', () => {
   it('refuses a workbook over the size limit, and one whose parts unpack past it, before exceljs unpacks them', async () => {
     expect((await refusal(Buffer.alloc(WORKBOOK_MAX_BYTES + 1))).code).toBe('workbook-too-large');
     // 65 MB of one repeated XML text deflates to well under a megabyte.
-    const bomb = zipFile([{ name: 'xl/workbook.xml', data: '<workbook/>' }, { name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(65 * 1024 * 1024, 0x20) }]);
+    const bomb = zipFile([
+      { name: 'xl/workbook.xml', data: '<workbook/>' },
+      { name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(65 * 1024 * 1024, 0x20) },
+    ]);
     expect(bomb.length).toBeLessThan(1024 * 1024);
     const refused = await refusal(bomb);
     expect(refused.code).toBe('workbook-too-large');
@@ -183,9 +209,14 @@ describe('openWorkbook', () => {
     // Packed again unaltered, the parts open: what is refused below is the entities alone.
     expect((await openWorkbook(zipFile(parts), 'book.xlsx')).sheetNames).toEqual(['Results']);
     // Nine levels of ten: 10^9 copies of "lol" if a parser expanded them (the classic form of the attack).
-    const levels = Array.from({ length: 8 }, (_, index) => `<!ENTITY l${index + 2} "${`&l${index + 1};`.repeat(10)}">`).join('');
+    const levels = Array.from(
+      { length: 8 },
+      (_, index) => `<!ENTITY l${index + 2} "${`&l${index + 1};`.repeat(10)}">`,
+    ).join('');
     const strings = `<?xml version="1.0"?><!DOCTYPE sst [<!ENTITY l1 "lol">${levels}]><sst xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" count="1" uniqueCount="1"><si><t>&l9;</t></si></sst>`;
-    const evil = zipFile(parts.map((part) => (part.name === 'xl/sharedStrings.xml' ? { ...part, data: strings } : part)));
+    const evil = zipFile(
+      parts.map((part) => (part.name === 'xl/sharedStrings.xml' ? { ...part, data: strings } : part)),
+    );
     const refused = await refusal(evil);
     expect(refused.code).toBe('not-a-workbook');
     expect(refused.message).toMatch(/entity/);
@@ -194,7 +225,12 @@ describe('openWorkbook', () => {
   it('refuses a zip whose sizes lie as damaged, and a workbook part exceljs cannot parse', async () => {
     const lying = zipFile([{ name: 'xl/workbook.xml', data: Buffer.alloc(2 * 1024 * 1024, 0x20), declaredSize: 10 }]);
     expect(await refusal(lying)).toMatchObject({ code: 'not-a-workbook' });
-    const broken = zipFile([{ name: 'xl/workbook.xml', data: '<workbook><sheets><sheet name="x" sheetId="1" r:id="rId1"/></sheets></workbook>' }]);
+    const broken = zipFile([
+      {
+        name: 'xl/workbook.xml',
+        data: '<workbook><sheets><sheet name="x" sheetId="1" r:id="rId1"/></sheets></workbook>',
+      },
+    ]);
     expect((await refusal(broken)).code).toBe('not-a-workbook');
   });
 });

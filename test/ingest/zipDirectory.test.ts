@@ -43,9 +43,16 @@ describe('zipEntries', () => {
   });
 
   it('reads the sizes and offset from a zip64 extra field (APPNOTE 4.5.3)', () => {
-    const bytes = zipFile([{ name: 'first', data: 'x'.repeat(50), method: 0 }, { name: 'xl/workbook.xml', data: '<workbook/>', zip64: true }]);
+    const bytes = zipFile([
+      { name: 'first', data: 'x'.repeat(50), method: 0 },
+      { name: 'xl/workbook.xml', data: '<workbook/>', zip64: true },
+    ]);
     const [first, second] = zipEntries(bytes, 10);
-    expect(second).toMatchObject({ name: 'xl/workbook.xml', uncompressedSize: 11, localHeaderOffset: 30 + 'first'.length + 50 });
+    expect(second).toMatchObject({
+      name: 'xl/workbook.xml',
+      uncompressedSize: 11,
+      localHeaderOffset: 30 + 'first'.length + 50,
+    });
     expect(first!.uncompressedSize).toBe(50);
     expect(() => checkUnpackedSizes(bytes, [first!, second!], 1000)).not.toThrow();
   });
@@ -56,7 +63,9 @@ describe('zipEntries', () => {
     const bytes = Buffer.from(await workbook.xlsx.writeBuffer());
     const entries = zipEntries(bytes, 100);
     // ECMA-376 Part 1, 12.2 (package structure as exceljs lays it out): the workbook part and a worksheet.
-    expect(entries.map((entry) => entry.name)).toEqual(expect.arrayContaining(['[Content_Types].xml', 'xl/workbook.xml', 'xl/worksheets/sheet1.xml']));
+    expect(entries.map((entry) => entry.name)).toEqual(
+      expect.arrayContaining(['[Content_Types].xml', 'xl/workbook.xml', 'xl/worksheets/sheet1.xml']),
+    );
     expect(() => checkUnpackedSizes(bytes, entries, 64 * 1024 * 1024)).not.toThrow();
   });
 
@@ -79,14 +88,19 @@ describe('zipEntries', () => {
 
 describe('checkUnpackedSizes', () => {
   it('refuses parts that together declare more than the limit, before unpacking any', () => {
-    const bytes = zipFile([{ name: 'a', data: 'x'.repeat(600) }, { name: 'b', data: 'y'.repeat(600) }]);
+    const bytes = zipFile([
+      { name: 'a', data: 'x'.repeat(600) },
+      { name: 'b', data: 'y'.repeat(600) },
+    ]);
     const refused = problem(() => checkUnpackedSizes(bytes, zipEntries(bytes, 10), 1000));
     expect(refused.kind).toBe('too-large');
   });
 
   it('catches a part that unpacks to more than it declares (a zip bomb with a lying size)', () => {
     // 8 MB of zeros deflates to about 8 KB; the directory claims 100 bytes.
-    const bytes = zipFile([{ name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(8 * 1024 * 1024), declaredSize: 100 }]);
+    const bytes = zipFile([
+      { name: 'xl/worksheets/sheet1.xml', data: Buffer.alloc(8 * 1024 * 1024), declaredSize: 100 },
+    ]);
     const refused = problem(() => checkUnpackedSizes(bytes, zipEntries(bytes, 10), 1000));
     expect(refused.kind).toBe('damaged');
     expect(refused.message).toMatch(/unpacks to more bytes than its declared 100/);
@@ -94,7 +108,9 @@ describe('checkUnpackedSizes', () => {
 
   it('catches a part that unpacks to fewer bytes than it declares, and a stored part whose sizes differ', () => {
     const short = zipFile([{ name: 'a', data: 'abc', declaredSize: 10 }]);
-    expect(problem(() => checkUnpackedSizes(short, zipEntries(short, 10), 1000)).message).toMatch(/fewer bytes than its declared 10/);
+    expect(problem(() => checkUnpackedSizes(short, zipEntries(short, 10), 1000)).message).toMatch(
+      /fewer bytes than its declared 10/,
+    );
     const stored = zipFile([{ name: 'a', data: 'abc', method: 0, declaredSize: 4 }]);
     expect(problem(() => checkUnpackedSizes(stored, zipEntries(stored, 10), 1000)).kind).toBe('damaged');
   });

@@ -42,8 +42,12 @@ describe('checks of a barn\u2019s groups', () => {
   });
 
   it('names a close-out before placement and an open group before another', () => {
-    expect(groupProblems([{ ...g1, closedOn: '2026-01-04' }])).toEqual([expect.objectContaining({ index: 0, key: 'closedOn' })]);
-    expect(groupProblems([{ ...g1, closedOn: null }, g2])).toEqual([expect.objectContaining({ index: 0, key: 'closedOn' })]);
+    expect(groupProblems([{ ...g1, closedOn: '2026-01-04' }])).toEqual([
+      expect.objectContaining({ index: 0, key: 'closedOn' }),
+    ]);
+    expect(groupProblems([{ ...g1, closedOn: null }, g2])).toEqual([
+      expect.objectContaining({ index: 0, key: 'closedOn' }),
+    ]);
   });
 
   it('allows a group of one day (placed and closed out the same day)', () => {

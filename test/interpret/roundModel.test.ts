@@ -13,15 +13,28 @@ import { resultInput } from '../helpers/results.js';
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
-const rope = (sampleId: string, barnId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId, penId, hungOn, source: 'sheet' });
-let nextId = 1;
-const result = (sampleId: string, assayId: string, resultClass: ResultInput['resultClass'], ct: number | null): ResultInput => resultInput({
-  id: nextId++,
+const rope = (sampleId: string, barnId: string, penId: string, hungOn: string): RopeInput => ({
   sampleId,
-  assayId,
-  ct,
-  resultClass,
+  siteId: site.id,
+  barnId,
+  penId,
+  hungOn,
+  source: 'sheet',
 });
+let nextId = 1;
+const result = (
+  sampleId: string,
+  assayId: string,
+  resultClass: ResultInput['resultClass'],
+  ct: number | null,
+): ResultInput =>
+  resultInput({
+    id: nextId++,
+    sampleId,
+    assayId,
+    ct,
+    resultClass,
+  });
 
 describe('buildSiteRounds', () => {
   const ropes = [
@@ -92,11 +105,19 @@ describe('buildSiteRounds', () => {
       [rope('T1', 'F1', 'A3', '2026-08-03'), rope('T2', 'F1', 'A3', '2026-08-03')],
       [result('T1', 'PRRSV', 'positive', 31), result('T2', 'PRRSV', 'positive', 24)],
     );
-    expect(twin[0]!.barns[0]!.pens[0]!.results['PRRSV']).toMatchObject({ sampleId: 'T2', ct: 24, otherSampleIds: ['T1'] });
+    expect(twin[0]!.barns[0]!.pens[0]!.results['PRRSV']).toMatchObject({
+      sampleId: 'T2',
+      ct: 24,
+      otherSampleIds: ['T1'],
+    });
   });
 
   it('scores an invalid result with load 0 even when it carries a Ct', () => {
-    const [round] = buildSiteRounds(site, [rope('V1', 'F1', 'A4', '2026-08-03')], [result('V1', 'PRRSV', 'invalid', 22)]);
+    const [round] = buildSiteRounds(
+      site,
+      [rope('V1', 'F1', 'A4', '2026-08-03')],
+      [result('V1', 'PRRSV', 'invalid', 22)],
+    );
     expect(round!.barns[0]!.pens[0]!.results['PRRSV']!.load).toBe(0);
   });
 

@@ -11,7 +11,14 @@ import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '..
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
-const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId: 'F1', penId, hungOn, source: 'sheet' });
+const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
+  sampleId,
+  siteId: site.id,
+  barnId: 'F1',
+  penId,
+  hungOn,
+  source: 'sheet',
+});
 let nextId = 1;
 const antibody = (sampleId: string, sp: number | null, resultClass: ResultInput['resultClass']): ResultInput => ({
   id: nextId++,
@@ -49,7 +56,13 @@ const pcr = (sampleId: string, ct: number | null, resultClass: ResultInput['resu
 });
 
 describe('buildSiteRounds with an antibody assay', () => {
-  const ropes = [rope('S1', 'A1', '2026-08-03'), rope('S2', 'A1', '2026-08-04'), rope('S3', 'A2', '2026-08-03'), rope('S4', 'A3', '2026-08-03'), rope('S5', 'A1', '2026-08-17')];
+  const ropes = [
+    rope('S1', 'A1', '2026-08-03'),
+    rope('S2', 'A1', '2026-08-04'),
+    rope('S3', 'A2', '2026-08-03'),
+    rope('S4', 'A3', '2026-08-03'),
+    rope('S5', 'A1', '2026-08-17'),
+  ];
   const results = [
     antibody('S1', 0.62, 'positive'),
     antibody('S2', 1.45, 'positive'),
@@ -69,30 +82,69 @@ describe('buildSiteRounds with an antibody assay', () => {
 
   it('lets the higher S/P of two positive ropes stand for the pen, the other listed', () => {
     // By hand: A1 has S/P 0.62 and 1.45, both positive: 1.45 stands, S1 is the other rope.
-    expect(pen('A1').results['PRRSV-AB']).toMatchObject({ sampleId: 'S2', sp: 1.45, measure: 'sp-ratio', otherSampleIds: ['S1'] });
+    expect(pen('A1').results['PRRSV-AB']).toMatchObject({
+      sampleId: 'S2',
+      sp: 1.45,
+      measure: 'sp-ratio',
+      otherSampleIds: ['S1'],
+    });
     // The PCR result of the same pen is kept apart, under its own assay.
     expect(pen('A1').results['PRRSV']).toMatchObject({ sampleId: 'S1', ct: 30, measure: 'ct', sp: null });
   });
 
   it('gives an S/P result the load max(0, S/P), an invalid one 0, and no Ct cutoffs', () => {
     expect(pen('A1').results['PRRSV-AB']!.load).toBe(1.45);
-    expect(pen('A2').results['PRRSV-AB']).toMatchObject({ load: 0.21, resultClass: 'negative', cycleLimit: null, positiveBelow: null, positiveAtOrAbove: 0.4 });
+    expect(pen('A2').results['PRRSV-AB']).toMatchObject({
+      load: 0.21,
+      resultClass: 'negative',
+      cycleLimit: null,
+      positiveBelow: null,
+      positiveAtOrAbove: 0.4,
+    });
     expect(pen('A3').results['PRRSV-AB']).toMatchObject({ load: 0, resultClass: 'invalid' });
   });
 
   it('tallies antibody results like any assay: 1 positive pen, 1 negative, 1 invalid', () => {
-    expect(f1.byAssay['PRRSV-AB']).toMatchObject({ positive: 1, negative: 1, invalid: 1, positivePens: ['A1'], testedPens: ['A1', 'A2'] });
+    expect(f1.byAssay['PRRSV-AB']).toMatchObject({
+      positive: 1,
+      negative: 1,
+      invalid: 1,
+      positivePens: ['A1'],
+      testedPens: ['A1', 'A2'],
+    });
   });
 
   it('lists the S/P cutoffs the round was read with, apart from the Ct ones', () => {
     expect(rounds[0]!.cutoffs).toEqual([
-      { labId: 'northfield', assayId: 'PRRSV', measure: 'ct', positiveBelow: 36, suspectBelow: 40, cycleLimit: 40, positiveAtOrAbove: null, suspectAtOrAbove: null, results: 2 },
-      { labId: 'northfield', assayId: 'PRRSV-AB', measure: 'sp-ratio', positiveBelow: null, suspectBelow: null, cycleLimit: null, positiveAtOrAbove: 0.4, suspectAtOrAbove: null, results: 4 },
+      {
+        labId: 'northfield',
+        assayId: 'PRRSV',
+        measure: 'ct',
+        positiveBelow: 36,
+        suspectBelow: 40,
+        cycleLimit: 40,
+        positiveAtOrAbove: null,
+        suspectAtOrAbove: null,
+        results: 2,
+      },
+      {
+        labId: 'northfield',
+        assayId: 'PRRSV-AB',
+        measure: 'sp-ratio',
+        positiveBelow: null,
+        suspectBelow: null,
+        cycleLimit: null,
+        positiveAtOrAbove: 0.4,
+        suspectAtOrAbove: null,
+        results: 4,
+      },
     ]);
   });
 
   it('gives the S/P history of a pen across rounds', () => {
-    expect(ctHistory(rounds, 'F1', 'A1', 'PRRSV-AB').map((point) => [point.round, point.measure, point.sp, point.ct])).toEqual([
+    expect(
+      ctHistory(rounds, 'F1', 'A1', 'PRRSV-AB').map((point) => [point.round, point.measure, point.sp, point.ct]),
+    ).toEqual([
       [1, 'sp-ratio', 1.45, null],
       [2, 'sp-ratio', 1.8, null],
     ]);

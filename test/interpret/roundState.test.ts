@@ -8,22 +8,40 @@
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_RESULT_GRACE_DAYS, loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { buildSiteRounds, type PlannedInput, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import {
+  buildSiteRounds,
+  type PlannedInput,
+  type ResultInput,
+  type RopeInput,
+} from '../../src/interpret/roundModel.js';
 import { resultsDueOn, roundForDueDate, roundState } from '../../src/interpret/rounds.js';
 import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
-const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId: 'F1', penId, hungOn, source: 'sheet' });
-let nextId = 1;
-const negative = (sampleId: string): ResultInput => resultInput({
-  id: nextId++,
+const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
   sampleId,
-  ct: null,
-  resultClass: 'negative',
+  siteId: site.id,
+  barnId: 'F1',
+  penId,
+  hungOn,
+  source: 'sheet',
 });
-const planned = (sampleId: string, penId: string, dueOn: string): PlannedInput => ({ sampleId, barnId: 'F1', penId, dueOn });
+let nextId = 1;
+const negative = (sampleId: string): ResultInput =>
+  resultInput({
+    id: nextId++,
+    sampleId,
+    ct: null,
+    resultClass: 'negative',
+  });
+const planned = (sampleId: string, penId: string, dueOn: string): PlannedInput => ({
+  sampleId,
+  barnId: 'F1',
+  penId,
+  dueOn,
+});
 
 describe('resultsDueOn and roundState', () => {
   it('gives the results a grace period after the last rope date, then judges the round closed', () => {
@@ -41,7 +59,9 @@ describe('resultsDueOn and roundState', () => {
   });
 
   it('refuses counts that cannot be', () => {
-    expect(() => roundState(3, 4, '2026-12-07', '2026-12-01')).toThrow('`returned` must be an integer in [0, 3], got 4');
+    expect(() => roundState(3, 4, '2026-12-07', '2026-12-01')).toThrow(
+      '`returned` must be an integer in [0, 3], got 4',
+    );
     expect(() => resultsDueOn('2026-12-01', -1)).toThrow('`graceDays` must be a non-negative integer, got -1');
   });
 });
@@ -72,7 +92,14 @@ describe('a rope sheet dated today, before its results', () => {
   });
 
   it('is partial while some results are back and the rest not yet due', () => {
-    const rounds = buildSiteRounds(site, [...earlier, ...today], [...results, negative('T1'), negative('T2')], [], {}, '2026-12-03');
+    const rounds = buildSiteRounds(
+      site,
+      [...earlier, ...today],
+      [...results, negative('T1'), negative('T2')],
+      [],
+      {},
+      '2026-12-03',
+    );
     expect(rounds[1]!.state).toBe('partial');
     const f1 = rounds[1]!.barns.find((barn) => barn.barnId === 'F1')!;
     expect(f1).toMatchObject({ ropesHung: 16, ropesReturned: 2, missingSampleIds: [] });
@@ -87,7 +114,14 @@ describe('planned ropes join a round by due date, not by round number', () => {
 
   it('leaves a December plan out of the November round', () => {
     // Made in December after the November round, when it was round 2: never issued, never missing.
-    const rounds = buildSiteRounds(site, ropes, results, [planned('D1', 'B1', '2026-11-16'), planned('D2', 'B2', '2026-11-16')], {}, '2026-12-01');
+    const rounds = buildSiteRounds(
+      site,
+      ropes,
+      results,
+      [planned('D1', 'B1', '2026-11-16'), planned('D2', 'B2', '2026-11-16')],
+      {},
+      '2026-12-01',
+    );
     expect(rounds.map((round) => round.startOn)).toEqual(['2026-10-05', '2026-10-19', '2026-11-02']);
     expect(rounds.flatMap((round) => round.barns.flatMap((barn) => barn.missingSampleIds))).toEqual([]);
     expect(rounds[2]!.barns.find((barn) => barn.barnId === 'F1')!.ropesHung).toBe(1);

@@ -6,12 +6,22 @@
 import { describe, expect, it } from 'vitest';
 import { daysBetween, formRounds, roundFolderName, type DatedRope } from '../../src/interpret/rounds.js';
 
-const rope = (sampleId: string, hungOn: string, siteId = 's'): DatedRope => ({ sampleId, siteId, barnId: 'B', penId: 'P', hungOn });
+const rope = (sampleId: string, hungOn: string, siteId = 's'): DatedRope => ({
+  sampleId,
+  siteId,
+  barnId: 'B',
+  penId: 'P',
+  hungOn,
+});
 
 describe('formRounds', () => {
   it('groups ropes within the window of the first rope into one round and opens the next at the window', () => {
     // By hand, window 3: 08-03, 08-04, 08-05 are 0, 1, 2 days after 08-03; 08-06 is 3 days after: a new round.
-    const rounds = formRounds('s', [rope('d', '2026-08-06'), rope('a', '2026-08-03'), rope('c', '2026-08-05'), rope('b', '2026-08-04')], 3);
+    const rounds = formRounds(
+      's',
+      [rope('d', '2026-08-06'), rope('a', '2026-08-03'), rope('c', '2026-08-05'), rope('b', '2026-08-04')],
+      3,
+    );
     expect(rounds.map((round) => round.ropes.map((r) => r.sampleId))).toEqual([['a', 'b', 'c'], ['d']]);
     expect(rounds.map((round) => round.id)).toEqual(['r01-2026-08-03', 'r02-2026-08-06']);
     expect(rounds[0]).toMatchObject({ number: 1, startOn: '2026-08-03', endOn: '2026-08-05' });
@@ -19,8 +29,15 @@ describe('formRounds', () => {
 
   it('anchors the window on the round’s first rope, so ropes every two days do not chain into one long round', () => {
     // By hand, window 3: 08-07 is 4 days after the round's first rope (08-03), though only 2 after 08-05.
-    const rounds = formRounds('s', [rope('a', '2026-08-03'), rope('b', '2026-08-05'), rope('c', '2026-08-07'), rope('d', '2026-08-09')], 3);
-    expect(rounds.map((round) => round.ropes.map((r) => r.sampleId))).toEqual([['a', 'b'], ['c', 'd']]);
+    const rounds = formRounds(
+      's',
+      [rope('a', '2026-08-03'), rope('b', '2026-08-05'), rope('c', '2026-08-07'), rope('d', '2026-08-09')],
+      3,
+    );
+    expect(rounds.map((round) => round.ropes.map((r) => r.sampleId))).toEqual([
+      ['a', 'b'],
+      ['c', 'd'],
+    ]);
   });
 
   it('renumbers the rounds when a late sheet brings an earlier date', () => {

@@ -44,7 +44,8 @@ describe('readSp', () => {
   });
 
   it('refuses exponents, percentages and the wrong decimal mark instead of guessing', () => {
-    for (const text of ['4e-1', '40%', '0x1', 'NaN', '1.2.3']) expect(readSp(text, northfield)).toMatchObject({ kind: 'error', code: 'bad-sp' });
+    for (const text of ['4e-1', '40%', '0x1', 'NaN', '1.2.3'])
+      expect(readSp(text, northfield)).toMatchObject({ kind: 'error', code: 'bad-sp' });
     const comma = readSp('0,52', northfield);
     expect(comma).toMatchObject({ kind: 'error', code: 'bad-sp' });
     expect((comma as { detail: string }).detail).toContain('it would read as 0.52');

@@ -8,7 +8,15 @@
  */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { cutToBytes, destinationName, fitName, NAME_MAX_BYTES, reasonPath, receiptNames, splitExtension } from '../../src/inboxFiles.js';
+import {
+  cutToBytes,
+  destinationName,
+  fitName,
+  NAME_MAX_BYTES,
+  reasonPath,
+  receiptNames,
+  splitExtension,
+} from '../../src/inboxFiles.js';
 import { terminalText } from '../../src/util/terminalText.js';
 
 const bytes = (text: string) => Buffer.byteLength(text, 'utf8');
@@ -27,7 +35,10 @@ const nameChar = fc.oneof(
  */
 const fileName = fc
   .tuple(
-    fc.oneof(fc.array(nameChar, { minLength: 1, maxLength: 40 }), fc.array(nameChar, { minLength: 60, maxLength: 260, size: 'max' })),
+    fc.oneof(
+      fc.array(nameChar, { minLength: 1, maxLength: 40 }),
+      fc.array(nameChar, { minLength: 60, maxLength: 260, size: 'max' }),
+    ),
     fc.constantFrom('', '.csv', '.CSV', '.tsv', '.txt', '.tar.gz'),
   )
   .map(([chars, ext]) => {
@@ -39,7 +50,9 @@ const fileName = fc
     }
     return name + ext;
   })
-  .filter((name) => name !== '' && name !== '.' && name !== '..' && Buffer.from(name, 'utf8').toString('utf8') === name);
+  .filter(
+    (name) => name !== '' && name !== '.' && name !== '..' && Buffer.from(name, 'utf8').toString('utf8') === name,
+  );
 
 /** Length in bytes of the longest common prefix (whole code points) of two strings. */
 function commonPrefixBytes(a: string, b: string): number {
@@ -80,7 +93,8 @@ describe('derived file names stay within 255 bytes', () => {
         const { ext } = splitExtension(name);
         expect(moved.endsWith(taken ? `.${SHA.slice(0, 8)}${ext}` : ext)).toBe(true);
         if (!rejected && !taken) expect(moved).toBe(name); // any name the file system holds fits as it is
-        if (bytes(name) <= 190) expect(moved).toBe(taken ? `${splitExtension(name).stem}.${SHA.slice(0, 8)}${ext}` : name);
+        if (bytes(name) <= 190)
+          expect(moved).toBe(taken ? `${splitExtension(name).stem}.${SHA.slice(0, 8)}${ext}` : name);
         expect(commonPrefixBytes(moved, name)).toBeGreaterThanOrEqual(Math.min(bytes(splitExtension(name).stem), 150));
       }),
       { numRuns: 400 },
@@ -92,7 +106,9 @@ describe('derived file names stay within 255 bytes', () => {
       fc.property(fileName, fileName, (a, b) => {
         fc.pre(a !== b);
         expect(receiptNames(a, SHA).json).not.toBe(receiptNames(b, SHA).json);
-        expect(destinationName(a, SHA, { rejected: true, taken: false })).not.toBe(destinationName(b, SHA, { rejected: true, taken: false }));
+        expect(destinationName(a, SHA, { rejected: true, taken: false })).not.toBe(
+          destinationName(b, SHA, { rejected: true, taken: false }),
+        );
       }),
       { numRuns: 200 },
     );
@@ -100,7 +116,9 @@ describe('derived file names stay within 255 bytes', () => {
     const stem = '€'.repeat(80);
     const [a, b] = [`${stem}-1.csv`, `${stem}-2.csv`];
     expect(receiptNames(a, SHA).json).not.toBe(receiptNames(b, SHA).json);
-    expect(destinationName(a, SHA, { rejected: true, taken: false })).not.toBe(destinationName(b, SHA, { rejected: true, taken: false }));
+    expect(destinationName(a, SHA, { rejected: true, taken: false })).not.toBe(
+      destinationName(b, SHA, { rejected: true, taken: false }),
+    );
   });
 
   it('cuts at whole characters, never inside a multibyte one', () => {

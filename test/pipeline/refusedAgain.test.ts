@@ -29,10 +29,13 @@ describe('bytes refused before', () => {
   it('are read again with the corrected configuration, as the same name or a renamed copy', async () => {
     const ws = workspace({ configFiles: { 'labs/northfield.yaml': WRONG_PROFILE } });
     const site = ws.config().siteById.get('HOLLOW-CREEK')!;
-    await ws.drop('ropes.csv', ropeSheet(site, [
-      { sampleId: 'RT-01', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
-      { sampleId: 'RT-02', barnId: 'F1', penId: 'A4', hungOn: '2026-08-03' },
-    ]));
+    await ws.drop(
+      'ropes.csv',
+      ropeSheet(site, [
+        { sampleId: 'RT-01', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
+        { sampleId: 'RT-02', barnId: 'F1', penId: 'A4', hungOn: '2026-08-03' },
+      ]),
+    );
     const refused = await ws.drop('nvdl_0806.csv', results());
     expect(refused.receipt.status).toBe('rejected');
     const firstCode = refused.receipt.reason!.code;
@@ -41,7 +44,12 @@ describe('bytes refused before', () => {
     const again = await ws.drop('nvdl_0806_copy.csv', results());
     expect(again.receipt).toMatchObject({ status: 'rejected', reason: { code: firstCode } });
     expect(again.receipt.warnings.join(' ')).toContain('refused before');
-    expect(ws.ws().store.files().filter((file) => file.sha256 === refused.receipt.sha256)).toHaveLength(1);
+    expect(
+      ws
+        .ws()
+        .store.files()
+        .filter((file) => file.sha256 === refused.receipt.sha256),
+    ).toHaveLength(1);
 
     // The profile is put right: a renamed copy of the same bytes is accepted and stored.
     ws.closeStore();
@@ -49,8 +57,13 @@ describe('bytes refused before', () => {
     const fixed = await ws.drop('nvdl_0806_resent.csv', results());
     expect(fixed.receipt).toMatchObject({ status: 'accepted', rows: { accepted: 2 }, sites: ['hollow-creek'] });
     expect(fixed.receipt.warnings.join(' ')).toContain('refused before');
-    const records = ws.ws().store.files().filter((file) => file.sha256 === refused.receipt.sha256);
-    expect(records).toEqual([expect.objectContaining({ status: 'accepted', name: 'nvdl_0806_resent.csv', reasonCode: null, rowsAccepted: 2 })]);
+    const records = ws
+      .ws()
+      .store.files()
+      .filter((file) => file.sha256 === refused.receipt.sha256);
+    expect(records).toEqual([
+      expect.objectContaining({ status: 'accepted', name: 'nvdl_0806_resent.csv', reasonCode: null, rowsAccepted: 2 }),
+    ]);
 
     // From now on the same bytes are a duplicate, not a refusal.
     const duplicate = await ws.drop('nvdl_0806.csv', results());

@@ -18,7 +18,8 @@ function bruteForce(barns: BarnSizing[], budget: number): { min: number; site: n
     if (b === barns.length) {
       const min = Math.min(...ps);
       const site = 1 - ps.reduce((prod, p) => prod * (1 - p), 1);
-      if (min > best.min + 1e-12 || (Math.abs(min - best.min) <= 1e-12 && site > best.site + 1e-12)) best = { min, site };
+      if (min > best.min + 1e-12 || (Math.abs(min - best.min) <= 1e-12 && site > best.site + 1e-12))
+        best = { min, site };
       return;
     }
     for (let n = 0; n <= Math.min(left, barns[b]!.maxRopes); n++) walk(b + 1, left - n, [...ps, barns[b]!.detect(n)]);
@@ -50,7 +51,12 @@ describe('balanced rope allocation across barns', () => {
       const ours = allocateRopesBalanced(barns, budget);
       const brute = bruteForce(barns, budget);
       const label = `trial ${trial}, budget ${budget}, barns ${barns.map((b) => b.maxRopes).join('/')}`;
-      expectClose(Math.min(...ours.ropes.map((entry) => entry.detection)), brute.min, { abs: 1e-12 }, `${label}: least-watched barn`);
+      expectClose(
+        Math.min(...ours.ropes.map((entry) => entry.detection)),
+        brute.min,
+        { abs: 1e-12 },
+        `${label}: least-watched barn`,
+      );
       expectClose(ours.siteDetection, brute.site, { abs: 1e-12 }, `${label}: site detection`);
       expect(ours.total).toBeLessThanOrEqual(budget);
     }

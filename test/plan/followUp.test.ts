@@ -14,7 +14,12 @@ describe('follow-up ring', () => {
     // distance 2; diagonals B2, B4 at sqrt(5); within 2.5 also A1 (distance 2). By hand.
     const ring = ringCandidates(pens, contacts, [['A3']], 2.5);
     expect(ring.map((c) => [c.penId, c.tier])).toEqual([
-      ['A2', 'fence'], ['A4', 'fence'], ['B3', 'facing'], ['B2', 'diagonal'], ['B4', 'diagonal'], ['A1', 'distance'],
+      ['A2', 'fence'],
+      ['A4', 'fence'],
+      ['B3', 'facing'],
+      ['B2', 'diagonal'],
+      ['B4', 'diagonal'],
+      ['A1', 'distance'],
     ]);
     // A5 is empty: never in the ring, though 2 pens from A3.
     expect(ring.some((c) => c.penId === 'A5')).toBe(false);
@@ -22,8 +27,12 @@ describe('follow-up ring', () => {
 
   it('merges retest, follow-up and routine with precedence retest > follow-up > routine, one rope per pen', () => {
     const plan = planFollowUp({
-      pens, contacts, clusters: [['A3']], ringDistance: 0,
-      routine: ['A1', 'A4', 'B3', 'B6'], retest: ['B3', 'A6', 'A5'],
+      pens,
+      contacts,
+      clusters: [['A3']],
+      ringDistance: 0,
+      routine: ['A1', 'A4', 'B3', 'B6'],
+      retest: ['B3', 'A6', 'A5'],
     });
     expect(plan.ropes).toEqual([
       { penId: 'A1', reason: 'routine' },
@@ -39,7 +48,15 @@ describe('follow-up ring', () => {
   });
 
   it('takes the first ring pens in priority order when extra ropes are limited and no model is given', () => {
-    const plan = planFollowUp({ pens, contacts, clusters: [['A3']], ringDistance: 0, routine: ['A4'], retest: [], maxExtraRopes: 2 });
+    const plan = planFollowUp({
+      pens,
+      contacts,
+      clusters: [['A3']],
+      ringDistance: 0,
+      routine: ['A4'],
+      retest: [],
+      maxExtraRopes: 2,
+    });
     expect(plan.added).toEqual(['A2', 'B3']); // A4 already routine (free), then A2, then facing B3
     expect(plan.ropes.filter((r) => r.reason === 'follow-up').map((r) => r.penId)).toEqual(['A2', 'A4', 'B3']);
   });
@@ -110,7 +127,16 @@ describe('greedy follow-up choice with a detection model', () => {
     // Model: infection sits in B3 or in A2 (equal chance), ropes perfect; the best single extra
     // rope is therefore B3 or A2, never A4 (by hand). Routine ropes: none.
     const f = (ids: readonly string[]) => 0.5 * Number(ids.includes('B3')) + 0.5 * Number(ids.includes('A2'));
-    const plan = planFollowUp({ pens, contacts, clusters: [['A3']], ringDistance: 0, routine: [], retest: [], maxExtraRopes: 2, detectSet: f });
+    const plan = planFollowUp({
+      pens,
+      contacts,
+      clusters: [['A3']],
+      ringDistance: 0,
+      routine: [],
+      retest: [],
+      maxExtraRopes: 2,
+      detectSet: f,
+    });
     expect([...plan.added].sort()).toEqual(['A2', 'B3']);
     expect(plan.detection).toBe(1);
   });

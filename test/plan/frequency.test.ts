@@ -5,16 +5,30 @@ import { expectClose } from '../helpers/expectClose.js';
 describe('round due dates', () => {
   it('adds the interval in calendar days and flags an overdue round', () => {
     // By hand: 2 March + 14 days = 16 March; 20 March is 4 days later.
-    expect(roundDue('2026-03-02', 14, '2026-03-20')).toEqual({ dueDate: '2026-03-16', daysUntilDue: -4, overdue: true, daysOverdue: 4 });
+    expect(roundDue('2026-03-02', 14, '2026-03-20')).toEqual({
+      dueDate: '2026-03-16',
+      daysUntilDue: -4,
+      overdue: true,
+      daysOverdue: 4,
+    });
     // By hand: 2028 is a leap year, 20 Feb + 14 = 5 March (29 days in February).
-    expect(roundDue('2028-02-20', 14, '2028-03-01')).toEqual({ dueDate: '2028-03-05', daysUntilDue: 4, overdue: false, daysOverdue: 0 });
+    expect(roundDue('2028-02-20', 14, '2028-03-01')).toEqual({
+      dueDate: '2028-03-05',
+      daysUntilDue: 4,
+      overdue: false,
+      daysOverdue: 0,
+    });
     expect(roundDue('2026-12-25', 7, '2027-01-01').overdue).toBe(false); // due today is not overdue
   });
 
   it('rejects malformed dates and intervals', () => {
-    expect(() => roundDue('03/02/2026', 14, '2026-03-20')).toThrow('`lastRoundDate` must be a date yyyy-mm-dd, got "03/02/2026"');
+    expect(() => roundDue('03/02/2026', 14, '2026-03-20')).toThrow(
+      '`lastRoundDate` must be a date yyyy-mm-dd, got "03/02/2026"',
+    );
     expect(() => roundDue('2026-02-30', 14, '2026-03-20')).toThrow(RangeError);
-    expect(() => roundDue('2026-03-02', 0, '2026-03-20')).toThrow('`intervalDays` must be an integer in [1, infinity), got 0');
+    expect(() => roundDue('2026-03-02', 0, '2026-03-20')).toThrow(
+      '`intervalDays` must be an integer in [1, infinity), got 0',
+    );
   });
 });
 
@@ -32,7 +46,12 @@ describe('freedom on time versus a missed round', () => {
   });
 
   it('shows what a missed round costs', () => {
-    const result = onTimeVersusMissed({ currentFreedom: 0.5, roundSensitivity: 0.8, introductionPerInterval: 0.01, intervalDays: 14 });
+    const result = onTimeVersusMissed({
+      currentFreedom: 0.5,
+      roundSensitivity: 0.8,
+      introductionPerInterval: 0.01,
+      intervalDays: 14,
+    });
     expectClose(result.onTime, 0.8305369, { abs: 5e-8 }, 'on time (check by hand)');
     expectClose(result.withoutRound, 0.495, { rel: 1e-14 }, 'no round');
     // By hand: prior 0.5 * 0.99^2 = 0.49005; 0.49005 / (1 - 0.8 * 0.50995) = 0.8278 (a round later).
@@ -43,7 +62,10 @@ describe('freedom on time versus a missed round', () => {
 
   it('uses an injected freedom model when one is given', () => {
     const result = onTimeVersusMissed({
-      currentFreedom: 0.5, roundSensitivity: 0.8, introductionPerInterval: 0.01, intervalDays: 14,
+      currentFreedom: 0.5,
+      roundSensitivity: 0.8,
+      introductionPerInterval: 0.01,
+      intervalDays: 14,
       freedomAfter: (days) => (days <= 14 ? 0.9 : 0.7),
     });
     expect([result.onTime, result.missed]).toEqual([0.9, 0.7]);

@@ -41,9 +41,19 @@ describe('the ropes of a positive barn', () => {
   it('caps the tracking set at the pens in use and refuses a negative size', () => {
     const small = layout(1, 3);
     const smallPens = expandLayout(small);
-    const plan = planMonitoredBarn({ pens: smallPens, contacts: penContacts(small, smallPens), trackingRopes: 10, ringDistance: 0, reRope: [], clusters: [], retest: [] });
+    const plan = planMonitoredBarn({
+      pens: smallPens,
+      contacts: penContacts(small, smallPens),
+      trackingRopes: 10,
+      ringDistance: 0,
+      reRope: [],
+      clusters: [],
+      retest: [],
+    });
     expect(plan.tracking.sort()).toEqual(['A1', 'A2', 'A3']);
-    expect(() => planMonitoredBarn({ ...base, trackingRopes: -1, reRope: [], clusters: [], retest: [] })).toThrow('`trackingRopes` must be an integer in [0, infinity), got -1');
+    expect(() => planMonitoredBarn({ ...base, trackingRopes: -1, reRope: [], clusters: [], retest: [] })).toThrow(
+      '`trackingRopes` must be an integer in [0, infinity), got -1',
+    );
   });
 });
 
@@ -54,7 +64,9 @@ describe('pens to re-rope', () => {
     const r1 = roundRopes('2026-08-03', 6, 'R1', [1, 2, 3]);
     const r2 = roundRopes('2026-08-17', 6, 'R2', [1]);
     // Round 2: rope 2 (pen A3) comes back invalid, rope 3 (pen A4) negative.
-    const r2results = r2.results.map((result, i): ResultInput => (i === 2 ? { ...result, ct: null, resultClass: 'invalid' } : result));
+    const r2results = r2.results.map(
+      (result, i): ResultInput => (i === 2 ? { ...result, ct: null, resultClass: 'invalid' } : result),
+    );
     const rounds = buildSiteRounds(site, [...r1.ropes, ...r2.ropes], [...r1.results, ...r2results]);
     expect(pensToReRope(rounds, 'B1', ['PRRSV'], 1)).toEqual(['A2', 'A3']);
     // Counted only from the round the positive period began.
@@ -66,7 +78,19 @@ describe('the rope budget with a positive barn', () => {
   it('counts re-rope and tracking ropes once per pen, and takes them out of the budget first', () => {
     // Tracking A3, A8, A13, A18 (above) and re-rope A8, A15: 5 distinct pens (counted by hand).
     expect(monitoringBaseRopes(pens, ['A8', 'A15'], 4)).toBe(5);
-    const monitored = new Map<string, MonitoredBarn>([['B1', { barnId: 'B1', assays: ['PRRSV'], sinceRound: 1, negativeRoundsInARow: 0, reRope: ['A8', 'A15'], baseRopes: 5 }]]);
+    const monitored = new Map<string, MonitoredBarn>([
+      [
+        'B1',
+        {
+          barnId: 'B1',
+          assays: ['PRRSV'],
+          sinceRound: 1,
+          negativeRoundsInARow: 0,
+          reRope: ['A8', 'A15'],
+          baseRopes: 5,
+        },
+      ],
+    ]);
     expect(budgetForSurveyed(45, monitored)).toBe(40);
     expect(budgetForSurveyed(3, monitored)).toBe(0);
     expect(budgetForSurveyed(null, monitored)).toBeNull();

@@ -10,7 +10,8 @@ const byPosition = (pens: readonly Pen[], ids: readonly string[]) =>
 
 function unionOverRounds(pens: readonly Pen[], ropes: number, rounds: number, from = 0): Set<string> {
   const covered = new Set<string>();
-  for (let r = from; r < from + rounds; r++) for (const id of placeSystematic(pens, { ropes, roundIndex: r }).penIds) covered.add(id);
+  for (let r = from; r < from + rounds; r++)
+    for (const id of placeSystematic(pens, { ropes, roundIndex: r }).penIds) covered.add(id);
   return covered;
 }
 
@@ -79,7 +80,8 @@ describe('systematic placement', () => {
         expect(stated.rounds, label).toBeGreaterThanOrEqual(Math.ceil(inUse / ropes));
         expect(stated.rounds, label).toBeLessThanOrEqual(stated.cycleLength);
         expect(unionOverRounds(pens, ropes, stated.rounds, from).size, label).toBe(inUse);
-        if (stated.rounds > 1) expect(unionOverRounds(pens, ropes, stated.rounds - 1, from).size, label).toBeLessThan(inUse);
+        if (stated.rounds > 1)
+          expect(unionOverRounds(pens, ropes, stated.rounds - 1, from).size, label).toBeLessThan(inUse);
         expect(stated.statement).toContain(`after ${stated.rounds} round`);
       }
       if (ropes < inUse) {
@@ -95,7 +97,10 @@ describe('systematic placement', () => {
   it('alternates the two sides of each alley in a 4-row barn', () => {
     const pens = pensOf(4, 12);
     const placed = byPosition(pens, placeSystematic(pens, { ropes: 8, roundIndex: 0 }).penIds);
-    for (const alley of [[0, 1], [2, 3]]) {
+    for (const alley of [
+      [0, 1],
+      [2, 3],
+    ]) {
       const ropes = placed.filter((p) => alley.includes(p.row));
       expect(ropes.length).toBe(4);
       for (let i = 1; i < ropes.length; i++) expect(ropes[i]!.row).not.toBe(ropes[i - 1]!.row);
@@ -113,13 +118,18 @@ describe('systematic placement', () => {
         (rows, perRow, closed, ropeSeed, round) => {
           const all = pensOf(rows, perRow);
           const shut = all.filter((_, i) => closed[i]).map((p) => p.id);
-          const pens = pensOf(rows, perRow, { empty: shut.filter((_, i) => i % 2 === 0), outOfUse: shut.filter((_, i) => i % 2 === 1) });
+          const pens = pensOf(rows, perRow, {
+            empty: shut.filter((_, i) => i % 2 === 0),
+            outOfUse: shut.filter((_, i) => i % 2 === 1),
+          });
           const inUse = pens.filter((p) => p.status === 'in-use').length;
           const ropes = inUse === 0 ? 0 : 1 + (ropeSeed % inUse);
           const placed = placeSystematic(pens, { ropes, roundIndex: round });
           expect(new Set(placed.penIds).size).toBe(ropes);
           // Only ropes aimed at an empty or out-of-use pen move (two-pass snapping).
-          const offTarget = placed.ropes.filter((r) => pens.find((p) => p.row === r.targetRow && p.position === r.targetPosition)!.status !== 'in-use');
+          const offTarget = placed.ropes.filter(
+            (r) => pens.find((p) => p.row === r.targetRow && p.position === r.targetPosition)!.status !== 'in-use',
+          );
           expect(placed.ropes.filter((r) => r.snapped)).toEqual(offTarget);
           for (const id of placed.penIds) expect(pens.find((p) => p.id === id)!.status).toBe('in-use');
           if (ropes > 0) expect(unionOverRounds(pens, ropes, coverageRounds(pens, ropes).rounds).size).toBe(inUse);
@@ -135,15 +145,21 @@ describe('systematic placement', () => {
     const notes = placeSystematic(barn, { ropes: 10, roundIndex: 0, period: 4 }).notes;
     expect(notes.some((n) => n.includes('only 1 of the 4 positions'))).toBe(true);
     // 7 ropes: row B ropes 6 pens apart (gcd(6, 4) = 2, flagged), row A 5 or 6 apart (not constant).
-    const seven = placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 4 }).notes.filter((n) => n.includes('period'));
+    const seven = placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 4 }).notes.filter((n) =>
+      n.includes('period'),
+    );
     expect(seven).toEqual([expect.stringContaining('Row B: ropes every 6 pens share the factor 2')]);
     // A period of 5 shares no factor with 6: nothing to note.
-    expect(placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 5 }).notes.filter((n) => n.includes('period'))).toEqual([]);
+    expect(
+      placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 5 }).notes.filter((n) => n.includes('period')),
+    ).toEqual([]);
   });
 
   it('rejects more ropes than in-use pens with the shared error grammar', () => {
     const pens = pensOf(1, 5, { empty: ['A1'] });
-    expect(() => placeSystematic(pens, { ropes: 5, roundIndex: 0 })).toThrow('`ropes` must be an integer in [0, in-use pens], got 5');
+    expect(() => placeSystematic(pens, { ropes: 5, roundIndex: 0 })).toThrow(
+      '`ropes` must be an integer in [0, in-use pens], got 5',
+    );
     expect(() => placeSystematic(pens, { ropes: 2, roundIndex: -1 })).toThrow(RangeError);
     expect(() => placeSystematic(pens.slice(1), { ropes: 2, roundIndex: 0 })).toThrow(/every pen/);
   });

@@ -12,7 +12,16 @@ describe('round plan', () => {
     round: 7,
     dueDate: '2026-03-16',
     barns: [
-      { barnId: 'N', layout: north, roundIndex: 3, routineRopes: 7, positives: ['A10'], suspects: ['B2'], invalids: ['A17'], ringDistance: 0 },
+      {
+        barnId: 'N',
+        layout: north,
+        roundIndex: 3,
+        routineRopes: 7,
+        positives: ['A10'],
+        suspects: ['B2'],
+        invalids: ['A17'],
+        ringDistance: 0,
+      },
       { barnId: 'S', layout: south, roundIndex: 0, routineRopes: 6 },
     ],
   });
@@ -65,7 +74,11 @@ describe('round plan', () => {
 
   it('rejects duplicate barn ids and malformed due dates', () => {
     const barn = { barnId: 'N', layout: north, roundIndex: 0, routineRopes: 2 };
-    expect(() => buildRoundPlan({ siteCode: 'KES', round: 1, dueDate: '2026-03-16', barns: [barn, barn] })).toThrow(/unique/);
-    expect(() => buildRoundPlan({ siteCode: 'KES', round: 1, dueDate: '16.03.2026', barns: [barn] })).toThrow(/yyyy-mm-dd/);
+    expect(() => buildRoundPlan({ siteCode: 'KES', round: 1, dueDate: '2026-03-16', barns: [barn, barn] })).toThrow(
+      /unique/,
+    );
+    expect(() => buildRoundPlan({ siteCode: 'KES', round: 1, dueDate: '16.03.2026', barns: [barn] })).toThrow(
+      /yyyy-mm-dd/,
+    );
   });
 });

@@ -1,5 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { formatSampleId, isWriteFriendlyCheck, looksLikePlannedId, mod37CheckCharacter, parseSampleId, pureSystemCheckValue } from '../../src/plan/index.js';
+import {
+  formatSampleId,
+  isWriteFriendlyCheck,
+  looksLikePlannedId,
+  mod37CheckCharacter,
+  parseSampleId,
+  pureSystemCheckValue,
+} from '../../src/plan/index.js';
 
 const ALPHABET = '0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ';
 
@@ -65,7 +72,16 @@ describe('sample IDs', () => {
     const wrongCheck = id.slice(0, -1) + (id.endsWith('0') ? '1' : '0');
     expect(parseSampleId(wrongCheck)).toMatchObject({ ok: false, code: 'bad-check' });
     expect(looksLikePlannedId(wrongCheck)).toBe(true);
-    for (const text of ['', 'KES7-014X', 'KES007-014X', 'K07-014X', 'KES07-14X', 'KES07-000X', '12307-014X', 'KES07-014']) {
+    for (const text of [
+      '',
+      'KES7-014X',
+      'KES007-014X',
+      'K07-014X',
+      'KES07-14X',
+      'KES07-000X',
+      '12307-014X',
+      'KES07-014',
+    ]) {
       expect(parseSampleId(text), text).toMatchObject({ ok: false, code: 'malformed' });
       expect(looksLikePlannedId(text), text).toBe(false);
     }
@@ -74,7 +90,9 @@ describe('sample IDs', () => {
   it('rejects site codes, rounds and sequences outside the grammar', () => {
     expect(() => formatSampleId({ siteCode: 'K', round: 1, sequence: 1 })).toThrow(RangeError);
     expect(() => formatSampleId({ siteCode: 'KES1', round: 1, sequence: 1 })).toThrow(/ending in a letter/);
-    expect(() => formatSampleId({ siteCode: 'KES', round: 1, sequence: 1000 })).toThrow('`sequence` must be an integer in [1, 999], got 1000');
+    expect(() => formatSampleId({ siteCode: 'KES', round: 1, sequence: 1000 })).toThrow(
+      '`sequence` must be an integer in [1, 999], got 1000',
+    );
   });
 
   it('flags check characters I, O and L as hard to write', () => {

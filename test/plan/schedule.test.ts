@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { compareSchedules, compareSchedulesGrowing, expectedDelay, infectedAfter, simulateDelay } from '../../src/plan/index.js';
+import {
+  compareSchedules,
+  compareSchedulesGrowing,
+  expectedDelay,
+  infectedAfter,
+  simulateDelay,
+} from '../../src/plan/index.js';
 import { seededRng } from '../../src/util/random.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { hypergeometricDetect, imperfectDetect } from './helpers.js';
@@ -18,9 +24,15 @@ describe('expected delay to detection', () => {
     // Binomial model, p Se = 0.1 per rope (binomial form, by hand): p(n) = 1 - 0.9^n.
     const detect = (n: number) => 1 - 0.9 ** n;
     const { options, notes } = compareSchedules({ ropes: 10, intervalDays: 14, maxRopes: 40, detect });
-    expect(options.map((o) => [o.ropes, o.intervalDays])).toEqual([[10, 14], [5, 7], [20, 28]]);
-    for (const o of options) expectClose(o.ropesPer30Days, (10 * 30) / 14, { rel: 1e-12 }, `${o.label} ropes per 30 days`);
-    for (const o of options) expectClose(o.expectedDelayDays!, o.intervalDays * (1 / detect(o.ropes) - 0.5), { rel: 1e-12 }, o.label);
+    expect(options.map((o) => [o.ropes, o.intervalDays])).toEqual([
+      [10, 14],
+      [5, 7],
+      [20, 28],
+    ]);
+    for (const o of options)
+      expectClose(o.ropesPer30Days, (10 * 30) / 14, { rel: 1e-12 }, `${o.label} ropes per 30 days`);
+    for (const o of options)
+      expectClose(o.expectedDelayDays!, o.intervalDays * (1 / detect(o.ropes) - 0.5), { rel: 1e-12 }, o.label);
     // With a static prevalence the more frequent schedule is quicker on average (method 10):
     // 7 (1/0.40951 - 1/2) = 13.59 days < 14 (1/0.65132 - 1/2) = 14.49 < 28 (1/0.87842 - 1/2) = 17.88.
     expectClose(options[1]!.expectedDelayDays!, 13.5937, { abs: 5e-4 }, 'half every D/2 (by hand)');
@@ -33,7 +45,12 @@ describe('expected delay to detection', () => {
 
 describe('delay to detection while infection grows (Monte Carlo)', () => {
   it('converges to D (1/p - 1/2) when prevalence does not grow', () => {
-    const model = { initialInfected: 2, doublingDays: Infinity, maxInfected: 40, detectAt: (n: number, d: number) => hypergeometricDetect(40, d, n) };
+    const model = {
+      initialInfected: 2,
+      doublingDays: Infinity,
+      maxInfected: 40,
+      detectAt: (n: number, d: number) => hypergeometricDetect(40, d, n),
+    };
     const result = simulateDelay({ ropes: 6, intervalDays: 7 }, model, { replicates: 20_000, rng: seededRng(3) });
     const exact = expectedDelay(7, hypergeometricDetect(40, 2, 6));
     expect(result.censored).toBe(0);
@@ -63,7 +80,10 @@ describe('delay to detection while infection grows (Monte Carlo)', () => {
     const detectAt = (n: number, d: number) => imperfectDetect(40, d, n, 0.8);
     const model = (doublingDays: number) => ({ initialInfected: 1, doublingDays, maxInfected: 40, detectAt });
     const run = (doublingDays: number) =>
-      compareSchedulesGrowing({ ropes: 8, intervalDays: 14, maxRopes: 40 }, model(doublingDays), { replicates: 4000, rng: seededRng(99) });
+      compareSchedulesGrowing({ ropes: 8, intervalDays: 14, maxRopes: 40 }, model(doublingDays), {
+        replicates: 4000,
+        rng: seededRng(99),
+      });
     const fast = run(5);
     const slow = run(20);
     fast.options.forEach((option, i) => {
@@ -77,7 +97,11 @@ describe('delay to detection while infection grows (Monte Carlo)', () => {
 
   it('counts replicates never detected as censored instead of averaging them in', () => {
     const model = { initialInfected: 1, doublingDays: Infinity, maxInfected: 10, detectAt: () => 0 };
-    const result = simulateDelay({ ropes: 3, intervalDays: 7 }, model, { replicates: 10, rng: seededRng(1), maxRounds: 5 });
+    const result = simulateDelay({ ropes: 3, intervalDays: 7 }, model, {
+      replicates: 10,
+      rng: seededRng(1),
+      maxRounds: 5,
+    });
     expect(result).toEqual({ replicates: 10, meanDays: null, standardError: null, censored: 10 });
   });
 });

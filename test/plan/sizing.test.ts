@@ -25,8 +25,17 @@ describe('local detection helper (the model fed to the planner in tests)', () =>
     expectClose(imperfectDetect(36, 9, 6, 0.9), 0.807354, { abs: 5e-7 }, 'check: N=36 d=9 n=6 Se=0.9');
     expectClose(imperfectDetect(40, 4, 10, 0.9), 0.653525, { abs: 5e-7 }, 'check: N=40 d=4 n=10 Se=0.9');
     // Oracle: P(X = 0) = cdf(0; N, K=d, n) of @stdlib's hypergeometric.
-    for (const [N, d, n] of [[36, 9, 6], [100, 5, 45], [20, 3, 7]] as const) {
-      expectClose(hypergeometricDetect(N, d, n), 1 - hypergeometricCdf(0, N, d, n), { rel: 1e-12 }, `@stdlib oracle N=${N} d=${d} n=${n}`);
+    for (const [N, d, n] of [
+      [36, 9, 6],
+      [100, 5, 45],
+      [20, 3, 7],
+    ] as const) {
+      expectClose(
+        hypergeometricDetect(N, d, n),
+        1 - hypergeometricCdf(0, N, d, n),
+        { rel: 1e-12 },
+        `@stdlib oracle N=${N} d=${d} n=${n}`,
+      );
     }
   });
 });
@@ -34,7 +43,10 @@ describe('local detection helper (the model fed to the planner in tests)', () =>
 describe('smallest rope count for a target', () => {
   it('finds the finite-population sample sizes of the classic tables, one rope fewer falling short', () => {
     // Cameron & Baldock 1998 (exact search); MacDiarmid 1988 gives an approximation (from memory).
-    for (const [N, d, expected] of [[100, 5, 45], [100, 10, 25]] as const) {
+    for (const [N, d, expected] of [
+      [100, 5, 45],
+      [100, 10, 25],
+    ] as const) {
       const detect = (n: number) => hypergeometricDetect(N, d, n);
       const result = smallestRopes(detect, 0.95, N);
       expect(result).toMatchObject({ reachable: true, ropes: expected });
@@ -50,7 +62,14 @@ describe('smallest rope count for a target', () => {
 
   it('finds the binomial sample sizes 299, 149, 59, 29, 14, 5 at 95% confidence', () => {
     // Cannon & Roe 1982, Livestock disease surveys: a field manual for veterinarians (binomial form, from memory).
-    const cases = [[0.01, 299], [0.02, 149], [0.05, 59], [0.1, 29], [0.2, 14], [0.5, 5]] as const;
+    const cases = [
+      [0.01, 299],
+      [0.02, 149],
+      [0.05, 59],
+      [0.1, 29],
+      [0.2, 14],
+      [0.5, 5],
+    ] as const;
     for (const [p, expected] of cases) {
       const result = smallestRopes((n) => 1 - (1 - p) ** n, 0.95, 10_000);
       expect(result, `p=${p}`).toMatchObject({ reachable: true, ropes: expected });
@@ -86,12 +105,17 @@ describe('site sizing and budget allocation', () => {
     expectClose(barnTargetForSite(0.95, 3), 1 - 0.05 ** (1 / 3), { rel: 1e-14 }, 'C=0.95 k=3');
     expectClose(barnTargetForSite(0.95, 3), 0.631597, { abs: 5e-7 }, 'C=0.95 k=3 (6 digits)');
     // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97: three similar barns at p = 0.85 each -> 0.996625.
-    const barns = ['B1', 'B2', 'B3'].map((barnId) => ({ barnId, maxRopes: 1, detect: (n: number) => (n >= 1 ? 0.85 : 0) }));
+    const barns = ['B1', 'B2', 'B3'].map((barnId) => ({
+      barnId,
+      maxRopes: 1,
+      detect: (n: number) => (n >= 1 ? 0.85 : 0),
+    }));
     expectClose(allocateRopes(barns, 3).siteDetection, 0.996625, { abs: 5e-7 }, 'three barns at 0.85');
   });
 
   it('knows which detection models have diminishing returns, where greedy allocation is optimal', () => {
-    const table = (detect: (n: number) => number, max: number) => Array.from({ length: max + 1 }, (_, n) => Math.log1p(-detect(n)));
+    const table = (detect: (n: number) => number, max: number) =>
+      Array.from({ length: max + 1 }, (_, n) => Math.log1p(-detect(n)));
     // Binomial: log-miss n log(1 - p Se) is linear in n, hence convex (by hand).
     expect(hasDiminishingReturns(table((n) => 1 - 0.9 ** n, 30))).toBe(true);
     // Hypergeometric, d = 1: log-miss log(1 - n/N) is concave in n (by hand).
@@ -124,7 +148,8 @@ describe('site sizing and budget allocation', () => {
         } else if (Math.abs(p - best) <= 1e-12) fewest = Math.min(fewest, used);
         return;
       }
-      for (let n = 0; n <= Math.min(left, barns[b]!.maxRopes); n++) walk(b + 1, left - n, miss * (1 - barns[b]!.detect(n)), used + n);
+      for (let n = 0; n <= Math.min(left, barns[b]!.maxRopes); n++)
+        walk(b + 1, left - n, miss * (1 - barns[b]!.detect(n)), used + n);
     };
     walk(0, budget, 1, 0);
     return { best, fewest };
@@ -137,7 +162,10 @@ describe('site sizing and budget allocation', () => {
       const d = 1 + Math.floor(rng() * 3);
       const se = [1, 0.9, 0.7][Math.floor(rng() * 3)]!;
       const p = 0.05 + 0.3 * rng();
-      const detect = model === 'hypergeometric' ? (n: number) => imperfectDetect(N, Math.min(d, N), n, se) : (n: number) => 1 - (1 - p * se) ** n;
+      const detect =
+        model === 'hypergeometric'
+          ? (n: number) => imperfectDetect(N, Math.min(d, N), n, se)
+          : (n: number) => 1 - (1 - p * se) ** n;
       return { barnId: `B${b}`, maxRopes: N, detect };
     });
   }
@@ -151,7 +179,12 @@ describe('site sizing and budget allocation', () => {
       const budget = Math.floor(rng() * (total + 1));
       const result = allocateRopes(barns, budget);
       const oracle = bruteForce(barns, budget);
-      expectClose(result.siteDetection, oracle.best, { rel: 1e-9, abs: 1e-12 }, `trial ${trial} ${model} budget ${budget}`);
+      expectClose(
+        result.siteDetection,
+        oracle.best,
+        { rel: 1e-9, abs: 1e-12 },
+        `trial ${trial} ${model} budget ${budget}`,
+      );
       expect(result.total).toBeLessThanOrEqual(budget);
       expect(result.total + result.unused).toBe(budget);
       if (model === 'binomial') expect(result.method).toBe('greedy');
@@ -175,7 +208,8 @@ describe('site sizing and budget allocation', () => {
         expect(result.reachable, `trial ${trial}`).toBe(true);
         expect(result.allocation.total, `trial ${trial}`).toBe(fewest);
         expect(result.allocation.siteDetection).toBeGreaterThanOrEqual(target - 1e-12);
-        if (result.equalShareTotal !== null) expect(result.allocation.total).toBeLessThanOrEqual(result.equalShareTotal);
+        if (result.equalShareTotal !== null)
+          expect(result.allocation.total).toBeLessThanOrEqual(result.equalShareTotal);
       }
     }
   });

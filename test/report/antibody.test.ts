@@ -27,7 +27,9 @@ import { twoRowLayout } from '../helpers/layouts.js';
 describe('S/P shading', () => {
   it('steps at c/2, c, 2c and 4c of the positive cutoff, bounds in the upper step', () => {
     // c = 0.4: steps begin at 0.2, 0.4, 0.8 and 1.6.
-    expect([0.19, 0.2, 0.39, 0.4, 0.79, 0.8, 1.59, 1.6, 3].map((sp) => spStep(sp, 0.4))).toEqual([0, 1, 1, 2, 2, 3, 3, 4, 4]);
+    expect([0.19, 0.2, 0.39, 0.4, 0.79, 0.8, 1.59, 1.6, 3].map((sp) => spStep(sp, 0.4))).toEqual([
+      0, 1, 1, 2, 2, 3, 3, 4, 4,
+    ]);
     // c = 1.0 (Henao-Diaz et al. 2021, Prev Vet Med 188:105250): 0.4 is below c/2 = 0.5.
     expect(spStep(0.4, 1.0)).toBe(0);
     expect(spStep(-0.05, 0.4)).toBe(0);
@@ -39,7 +41,8 @@ describe('S/P shading', () => {
     const legend = spLegendShades([{ positiveAtOrAbove: 0.4, labs: [] }]);
     expect(legend).toContain('data-measure="sp-ratio"');
     expect(legend).toContain('darker = more antibody; positive at S/P \u2265 0.4');
-    for (const range of ['S/P &lt; 0.2', 'S/P 0.2\u20130.4', 'S/P 0.4\u20130.8', 'S/P 0.8\u20131.6', 'S/P \u2265 1.6']) expect(legend).toContain(range);
+    for (const range of ['S/P &lt; 0.2', 'S/P 0.2\u20130.4', 'S/P 0.4\u20130.8', 'S/P 0.8\u20131.6', 'S/P \u2265 1.6'])
+      expect(legend).toContain(range);
     // Two labs with two cutoffs: each range given per cutoff, and whose each is.
     const two = spLegendShades([
       { positiveAtOrAbove: 0.4, labs: ['Lab A'] },
@@ -50,11 +53,31 @@ describe('S/P shading', () => {
   });
 
   it('fills a pen with the step given for it, not with its load', () => {
-    const svg = renderBarnMap({ id: 'X', name: 'X', layout: twoRowLayout() }, { key: 'k', scale: 20, detail: 'full', title: 't', results: new Map([['A1', { resultClass: 'positive', load: 1.2, shade: 3 }]]) });
+    const svg = renderBarnMap(
+      { id: 'X', name: 'X', layout: twoRowLayout() },
+      {
+        key: 'k',
+        scale: 20,
+        detail: 'full',
+        title: 't',
+        results: new Map([['A1', { resultClass: 'positive', load: 1.2, shade: 3 }]]),
+      },
+    );
     expect(svg).toMatch(new RegExp(`data-pen="A1"[\\s\\S]*?fill="${LOAD_RAMP[3]!.fill}"`));
     // The load of an S/P is no Ct load: the tooltip names none.
     expect(svg).not.toContain('load 1.2');
-    expect(() => renderBarnMap({ id: 'X', name: 'X', layout: twoRowLayout() }, { key: 'k', scale: 20, detail: 'full', title: 't', results: new Map([['A1', { resultClass: 'positive', load: 1, shade: 5 }]]) })).toThrow(RangeError);
+    expect(() =>
+      renderBarnMap(
+        { id: 'X', name: 'X', layout: twoRowLayout() },
+        {
+          key: 'k',
+          scale: 20,
+          detail: 'full',
+          title: 't',
+          results: new Map([['A1', { resultClass: 'positive', load: 1, shade: 5 }]]),
+        },
+      ),
+    ).toThrow(RangeError);
   });
 });
 
@@ -75,7 +98,8 @@ describe('S/P trend', () => {
       ],
       { title: 'Pen A5', cutoffs: [{ value: 0.4, label: 'S/P 0.4 (Lab A)' }], rounds: [] },
     );
-    const cy = (label: string) => Number(new RegExp(`cy="([\\d.]+)"[^>]*data-point="sp"><title>${label}`).exec(svg)![1]);
+    const cy = (label: string) =>
+      Number(new RegExp(`cy="([\\d.]+)"[^>]*data-point="sp"><title>${label}`).exec(svg)![1]);
     expect(cy('r02')).toBeLessThan(cy('r01'));
     expect(svg).toContain('data-cutoff="0.4"');
     expect(svg).toContain('data-point="invalid"');
@@ -115,12 +139,25 @@ describe('summary of a round with an antibody assay', () => {
   it('writes the S/P columns of an antibody pen and leaves its Ct columns empty', () => {
     const rows = parse(summaryCsv(summary), { columns: true }) as Record<string, string>[];
     const pen = rows.find((row) => row.level === 'pen' && row.pen === 'A6' && row.assay === 'PRRSV-AB')!;
-    expect(pen).toMatchObject({ measure: 'sp-ratio', sp: '0.21', sp_history: 'r1:0.21', class: 'negative', positive_at_or_above: '0.4', suspect_at_or_above: '' });
+    expect(pen).toMatchObject({
+      measure: 'sp-ratio',
+      sp: '0.21',
+      sp_history: 'r1:0.21',
+      class: 'negative',
+      positive_at_or_above: '0.4',
+      suspect_at_or_above: '',
+    });
     expect(pen).toMatchObject({ ct: '', ct_history: '', positive_below: '', suspect_below: '', cycle_limit: '' });
     const pcrPen = rows.find((row) => row.level === 'pen' && row.pen === 'A6' && row.assay === 'PRRSV')!;
     expect(pcrPen).toMatchObject({ measure: 'ct', ct_history: 'r1:ND', sp: '', sp_history: '', cycle_limit: '40' });
-    expect(rows.find((row) => row.level === 'site' && row.assay === 'PRRSV-AB')).toMatchObject({ measure: 'sp-ratio', freedom_reset: 'true' });
-    expect(rows.find((row) => row.level === 'site' && row.assay === 'PRRSV')).toMatchObject({ measure: 'ct', freedom_reset: 'true' });
+    expect(rows.find((row) => row.level === 'site' && row.assay === 'PRRSV-AB')).toMatchObject({
+      measure: 'sp-ratio',
+      freedom_reset: 'true',
+    });
+    expect(rows.find((row) => row.level === 'site' && row.assay === 'PRRSV')).toMatchObject({
+      measure: 'ct',
+      freedom_reset: 'true',
+    });
   });
 
   it('says on the page that antibody means exposure and never resets the PCR freedom, and shows both per pen', () => {
@@ -128,10 +165,16 @@ describe('summary of a round with an antibody assay', () => {
     expect(html).toContain('data-antibody="PRRSV-AB"');
     expect(html).toContain('not necessarily current infection');
     expect(html).toContain('it never resets the freedom of PRRSV RT-PCR');
-    expect(html).toMatch(/data-assay="PRRSV-AB" data-measure="sp-ratio"[\s\S]*?freedom from exposure reset by an antibody positive round/);
+    expect(html).toMatch(
+      /data-assay="PRRSV-AB" data-measure="sp-ratio"[\s\S]*?freedom from exposure reset by an antibody positive round/,
+    );
     // Pens with virus or antibody, both results side by side (A2 both, A1 and A3 antibody only).
-    expect(html).toMatch(/data-pair-pen="A1"><td>A1<\/td><td>n\.d\. \(negative\)<\/td><td>S\/P 1\.2 \(positive\)<\/td><td>antibody without virus/);
-    expect(html).toMatch(/data-pair-pen="A2"><td>A2<\/td><td>28 \(positive\)<\/td><td>S\/P 1\.2 \(positive\)<\/td><td>virus and antibody/);
+    expect(html).toMatch(
+      /data-pair-pen="A1"><td>A1<\/td><td>n\.d\. \(negative\)<\/td><td>S\/P 1\.2 \(positive\)<\/td><td>antibody without virus/,
+    );
+    expect(html).toMatch(
+      /data-pair-pen="A2"><td>A2<\/td><td>28 \(positive\)<\/td><td>S\/P 1\.2 \(positive\)<\/td><td>virus and antibody/,
+    );
     expect(html).toContain('<th class="num">Ct or S/P</th>');
   });
 
@@ -140,7 +183,9 @@ describe('summary of a round with an antibody assay', () => {
     expect(reset.message).toContain('The freedom of PRRSV RT-PCR is not reset');
     const first = alerts.find((alert) => alert.kind === 'first-positive' && alert.assayId === 'PRRSV-AB')!;
     expect(first.message).toContain('retest these pens by PCR');
-    expect(alerts.find((alert) => alert.kind === 'first-positive' && alert.assayId === 'PRRSV')!.message).not.toContain('Antibody');
+    expect(alerts.find((alert) => alert.kind === 'first-positive' && alert.assayId === 'PRRSV')!.message).not.toContain(
+      'Antibody',
+    );
   });
 
   it('draws the antibody map by S/P with its own legend, the PCR result in the tooltip, and S/P trends', () => {
@@ -148,9 +193,20 @@ describe('summary of a round with an antibody assay', () => {
     // A1: S/P 1.2 at c = 0.4 is in [0.8, 1.6): step 3. A6: 0.21 in [0.2, 0.4): step 1.
     expect(marks.get('A1')).toMatchObject({ resultClass: 'positive', shade: 3 });
     expect(marks.get('A6')).toMatchObject({ resultClass: 'negative', shade: 1 });
-    expect(marks.get('A2')!.note).toBe('S/P 1.2 (Northfield Veterinary Diagnostic Laboratory (invented): positive at S/P \u2265 0.4); PRRSV: Ct 28 (positive)');
+    expect(marks.get('A2')!.note).toBe(
+      'S/P 1.2 (Northfield Veterinary Diagnostic Laboratory (invented): positive at S/P \u2265 0.4); PRRSV: Ct 28 (positive)',
+    );
     expect(resultMarks(summary, 'B1', 'PRRSV').get('A2')!.shade).toBeUndefined();
-    const html = renderClustersPage({ site, summaries, spatial, index: 0, assays: config.assayById, alpha: 0.05, alerts, notices: [] });
+    const html = renderClustersPage({
+      site,
+      summaries,
+      spatial,
+      index: 0,
+      assays: config.assayById,
+      alpha: 0.05,
+      alerts,
+      notices: [],
+    });
     const antibodySection = html.slice(html.indexOf('data-assay-section="PRRSV-AB"'));
     expect(antibodySection).toContain('data-legend="" data-measure="sp-ratio"');
     expect(antibodySection).toContain('S/P trend per antibody-positive pen');
@@ -159,15 +215,31 @@ describe('summary of a round with an antibody assay', () => {
     expect(antibodySection).toContain('Moran\u2019s I on S/P');
     expect(html).toContain('PRRSV-AB positive at S/P \u2265 0.4');
     // The PCR section keeps the Ct legend.
-    const pcrSection = html.slice(html.indexOf('data-assay-section="PRRSV"'), html.indexOf('data-assay-section="PRRSV-AB"'));
+    const pcrSection = html.slice(
+      html.indexOf('data-assay-section="PRRSV"'),
+      html.indexOf('data-assay-section="PRRSV-AB"'),
+    );
     expect(pcrSection).not.toContain('data-measure="sp-ratio"');
   });
 
   it('writes the S/P of antibody pens and clusters into clusters.csv', () => {
     const rows = parse(clustersCsv(spatial[0]!), { columns: true }) as Record<string, string>[];
-    expect(rows.find((row) => row.level === 'pen' && row.assay === 'PRRSV-AB' && row.pen === 'A1')).toMatchObject({ measure: 'sp-ratio', sp: '1.2', ct: '' });
-    expect(rows.find((row) => row.level === 'cluster' && row.assay === 'PRRSV-AB')).toMatchObject({ measure: 'sp-ratio', cluster_pens: 'A1 A2 A3', mean_sp: '1.2', max_sp: '1.2', min_ct: '' });
-    expect(rows.find((row) => row.level === 'pen' && row.assay === 'PRRSV' && row.pen === 'A1')).toMatchObject({ measure: 'ct', sp: '' });
+    expect(rows.find((row) => row.level === 'pen' && row.assay === 'PRRSV-AB' && row.pen === 'A1')).toMatchObject({
+      measure: 'sp-ratio',
+      sp: '1.2',
+      ct: '',
+    });
+    expect(rows.find((row) => row.level === 'cluster' && row.assay === 'PRRSV-AB')).toMatchObject({
+      measure: 'sp-ratio',
+      cluster_pens: 'A1 A2 A3',
+      mean_sp: '1.2',
+      max_sp: '1.2',
+      min_ct: '',
+    });
+    expect(rows.find((row) => row.level === 'pen' && row.assay === 'PRRSV' && row.pen === 'A1')).toMatchObject({
+      measure: 'ct',
+      sp: '',
+    });
   });
 });
 
@@ -212,7 +284,11 @@ describe('a new positive barn after a round without the assay', () => {
     // An earlier antibody positive elsewhere makes this one a "new barn" rather than a "first" positive.
     const earlier = roundRopes('2026-07-20', 1, 'R0');
     const earlierAntibody: ResultInput = { ...antibody[0]!, id: 3000, sampleId: earlier.ropes[0]!.sampleId };
-    const rounds = buildSiteRounds(site, [...earlier.ropes, ...first.ropes, ...second.ropes], [...earlier.results, earlierAntibody, ...first.results, ...second.results, ...antibody]);
+    const rounds = buildSiteRounds(
+      site,
+      [...earlier.ropes, ...first.ropes, ...second.ropes],
+      [...earlier.results, earlierAntibody, ...first.results, ...second.results, ...antibody],
+    );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
     const summaries = summariseSite(config, site, rounds, confidence);
@@ -228,13 +304,28 @@ describe('earlier rounds on the cluster review', () => {
     const first = roundRopes('2026-08-03', 6, 'R1');
     const second = roundRopes('2026-08-17', 6, 'R2');
     const antibody = antibodyResults(second.results, 4000);
-    const rounds = buildSiteRounds(site, [...first.ropes, ...second.ropes], [...first.results, ...second.results, ...antibody]);
+    const rounds = buildSiteRounds(
+      site,
+      [...first.ropes, ...second.ropes],
+      [...first.results, ...second.results, ...antibody],
+    );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
     const summaries = summariseSite(config, site, rounds, confidence);
-    const html = renderClustersPage({ site, summaries, spatial, index: 1, assays: config.assayById, alpha: 0.05, alerts: [], notices: [] });
+    const html = renderClustersPage({
+      site,
+      summaries,
+      spatial,
+      index: 1,
+      assays: config.assayById,
+      alpha: 0.05,
+      alerts: [],
+      notices: [],
+    });
     const antibodySection = html.slice(html.indexOf('data-assay-section="PRRSV-AB"'));
     expect(antibodySection).toContain('r01 2026-08-03: not tested');
-    expect(html.slice(html.indexOf('data-assay-section="PRRSV"'), html.indexOf('data-assay-section="PRRSV-AB"'))).not.toContain('not tested');
+    expect(
+      html.slice(html.indexOf('data-assay-section="PRRSV"'), html.indexOf('data-assay-section="PRRSV-AB"')),
+    ).not.toContain('not tested');
   });
 });

@@ -98,7 +98,10 @@ describe('Code 128 barcodes of sample IDs', () => {
     expect(new Set(PATTERNS).size).toBe(107);
     PATTERNS.forEach((pattern, value) => {
       const widths = [...pattern].map(Number);
-      expect(widths.reduce((a, b) => a + b, 0), `value ${value}`).toBe(value === 106 ? 13 : 11);
+      expect(
+        widths.reduce((a, b) => a + b, 0),
+        `value ${value}`,
+      ).toBe(value === 106 ? 13 : 11);
       expect(widths.filter((_, index) => index % 2 === 0).reduce((a, b) => a + b, 0) % 2, `value ${value}`).toBe(0);
     });
   });

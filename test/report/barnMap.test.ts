@@ -24,7 +24,8 @@ describe('barnGeometry', () => {
     expect(rect(g, 'B1')).toMatchObject({ x: 0, y: 15, width: 10, height: 10 });
     const alley = g.bands.filter((band) => band.kind === 'alley');
     expect(alley).toEqual([{ kind: 'alley', x: 0, y: 10, width: 40, height: 5 }]);
-    for (const pen of g.pens.filter((p) => p.rowLabel === 'B')) expect(pen.y).toBeGreaterThanOrEqual(alley[0]!.y + alley[0]!.height);
+    for (const pen of g.pens.filter((p) => p.rowLabel === 'B'))
+      expect(pen.y).toBeGreaterThanOrEqual(alley[0]!.y + alley[0]!.height);
     // Whole barn by hand: 4 pens long (40 px), 2 pens + alley deep (25 px).
     expect([g.width, g.height]).toEqual([40, 25]);
   });
@@ -34,8 +35,15 @@ describe('barnGeometry', () => {
     const gapped = barnGeometry(layout({ gapsAfter: [2], gapWidth: 1.5 }), 10);
     // By hand: a gap after position 2 moves pens 3 and 4 by 1.5 units = 15 px; pens 1 and 2 stay.
     for (const id of ['A1', 'A2', 'B1', 'B2']) expect(rect(gapped, id).x).toBe(rect(plain, id).x);
-    for (const id of ['A3', 'A4', 'B3', 'B4']) expectClose(rect(gapped, id).x - rect(plain, id).x, 15, { abs: 1e-9 }, `shift of ${id}`);
-    expect(gapped.bands.find((band) => band.kind === 'gap')).toEqual({ kind: 'gap', x: 20, y: 0, width: 15, height: 25 });
+    for (const id of ['A3', 'A4', 'B3', 'B4'])
+      expectClose(rect(gapped, id).x - rect(plain, id).x, 15, { abs: 1e-9 }, `shift of ${id}`);
+    expect(gapped.bands.find((band) => band.kind === 'gap')).toEqual({
+      kind: 'gap',
+      x: 20,
+      y: 0,
+      width: 15,
+      height: 25,
+    });
     expect(gapped.width).toBe(55);
   });
 
@@ -94,7 +102,14 @@ describe('renderBarnMap', () => {
     ['B1', { resultClass: 'suspect', load: 2 }],
     ['B2', { resultClass: 'invalid', load: 0 }],
   ]);
-  const svg = renderBarnMap(barn, { key: 'test', scale: 30, detail: 'full', title: 'test map', results, clusters: [{ index: 1, pens: ['A1', 'B1'] }] });
+  const svg = renderBarnMap(barn, {
+    key: 'test',
+    scale: 30,
+    detail: 'full',
+    title: 'test map',
+    results,
+    clusters: [{ index: 1, pens: ['A1', 'B1'] }],
+  });
   const count = (pattern: RegExp) => (svg.match(pattern) ?? []).length;
 
   it('draws one element per pen, with data attributes for positives and status', () => {

@@ -20,10 +20,22 @@ describe('call disagreements on the receipt', () => {
   it('lists each disagreeing row with the lab call and the reading', () => {
     const text = receiptText({
       ...receipt,
-      callDisagreements: [{ line: 3, sampleId: 'S-1', assayId: 'PRRSV', ctRaw: '35.50', labCall: 'Negative', labCallClass: 'negative', resultClass: 'positive' }],
+      callDisagreements: [
+        {
+          line: 3,
+          sampleId: 'S-1',
+          assayId: 'PRRSV',
+          ctRaw: '35.50',
+          labCall: 'Negative',
+          labCallClass: 'negative',
+          resultClass: 'positive',
+        },
+      ],
       callDisagreementsNotListed: 2,
     });
-    expect(text).toContain("the lab's call differs from ropewatch's reading of the value (both kept; review with the lab):");
+    expect(text).toContain(
+      "the lab's call differs from ropewatch's reading of the value (both kept; review with the lab):",
+    );
     expect(text).toContain('  line 3, S-1 PRRSV: lab "Negative" (negative), ropewatch positive from "35.50"');
     expect(text).toContain('  ... and 2 more');
   });

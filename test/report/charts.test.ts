@@ -13,11 +13,17 @@ const points: TrendPoint[] = [
   { round: 3, label: 'r03', ct: 24, resultClass: 'invalid' },
   { round: 4, label: 'r04', ct: 31, resultClass: 'positive' },
 ];
-const svg = renderCtTrend(points, { title: 'Pen A1', cycleLimit: 45, cutoffs: [{ value: 37, label: '37 (lab X)' }], rounds });
+const svg = renderCtTrend(points, {
+  title: 'Pen A1',
+  cycleLimit: 45,
+  cutoffs: [{ value: 37, label: '37 (lab X)' }],
+  rounds,
+});
 const marks = (kind: string) => svg.split(`data-point="${kind}"`).length - 1;
 
 /** The y of a circle mark with the given data-point. */
-const ys = (kind: string) => [...svg.matchAll(new RegExp(`cy="([0-9.]+)"[^>]*data-point="${kind}"`, 'g'))].map((match) => Number(match[1]));
+const ys = (kind: string) =>
+  [...svg.matchAll(new RegExp(`cy="([0-9.]+)"[^>]*data-point="${kind}"`, 'g'))].map((match) => Number(match[1]));
 
 describe('renderCtTrend', () => {
   it('marks an invalid result as invalid even when the lab wrote a Ct beside the failed control', () => {
@@ -32,7 +38,9 @@ describe('renderCtTrend', () => {
   it('draws the invalid crosses below the not-detected line, not on it', () => {
     // y grows downward in SVG: the not-detected mark sits on the cycle-limit line, the crosses lower still.
     const nd = ys('nd')[0]!;
-    const crosses = [...svg.matchAll(/<path d="M[0-9.]+,([0-9.]+) [^"]*"[^>]*data-point="invalid"/g)].map((match) => Number(match[1]) + 3.6);
+    const crosses = [...svg.matchAll(/<path d="M[0-9.]+,([0-9.]+) [^"]*"[^>]*data-point="invalid"/g)].map(
+      (match) => Number(match[1]) + 3.6,
+    );
     expect(crosses).toHaveLength(2);
     for (const y of crosses) expect(y).toBeGreaterThan(nd + 5);
   });

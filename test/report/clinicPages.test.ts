@@ -23,14 +23,23 @@ beforeAll(async () => {
 afterAll(() => demo?.cleanup());
 
 const confidence = (detectionConfidence: number, ropesNeeded: number | null = 20): BarnConfidence =>
-  ({ detectionConfidence, ropesNeeded, targetReachable: ropesNeeded !== null, censusConfidence: 0.9, roundsNeededIfUnreachable: 2 }) as BarnConfidence;
+  ({
+    detectionConfidence,
+    ropesNeeded,
+    targetReachable: ropesNeeded !== null,
+    censusConfidence: 0.9,
+    roundsNeededIfUnreachable: 2,
+  }) as BarnConfidence;
 
 describe('a barn against the target', () => {
   it('is met, below because ropes were lost, or below as sized', () => {
     expect(againstTarget({ invalid: 0, confidence: confidence(0.96) }, 0, 0.95).state).toBe('met');
     expect(againstTarget({ invalid: 0, confidence: confidence(0.96) }, 3, 0.95).state).toBe('met');
     const lost = againstTarget({ invalid: 1, confidence: confidence(0.8) }, 2, 0.95);
-    expect(lost).toEqual({ state: 'lost', text: 'ropes lost (2 ropes without a result, 1 invalid): 20 valid ropes would reach it' });
+    expect(lost).toEqual({
+      state: 'lost',
+      text: 'ropes lost (2 ropes without a result, 1 invalid): 20 valid ropes would reach it',
+    });
     expect(againstTarget({ invalid: 0, confidence: confidence(0.8, null) }, 0, 0.95)).toEqual({
       state: 'as-sized',
       text: 'as sized: one round cannot reach it (best 90.0%); 2 rounds would',
@@ -49,13 +58,25 @@ describe('a barn against the target', () => {
           const lostRopes = barn.missingSampleIds.length;
           for (const tally of barn.assays) {
             rows++;
-            const match = new RegExp(`data-barn="${barn.barnId}"[\\s\\S]*?<tr data-assay="${tally.assayId}">[\\s\\S]*?data-against="([a-z-]+)"`).exec(html);
-            expect(match, `${summary.round.id} ${barn.barnId} ${tally.assayId}: a row against the target`).not.toBeNull();
+            const match = new RegExp(
+              `data-barn="${barn.barnId}"[\\s\\S]*?<tr data-assay="${tally.assayId}">[\\s\\S]*?data-against="([a-z-]+)"`,
+            ).exec(html);
+            expect(
+              match,
+              `${summary.round.id} ${barn.barnId} ${tally.assayId}: a row against the target`,
+            ).not.toBeNull();
             const cell = match![1];
             const below = tally.confidence.detectionConfidence < summary.program.targetConfidence;
             // By the definition above: below target and some rope lost (no result or invalid) is the shaded state.
             // A positive barn is monitored, not held to the detection target (its page says so instead).
-            const expected = tally.confidence.status?.state === 'positive' ? 'monitored' : !below ? 'met' : lostRopes + tally.invalid > 0 ? 'lost' : 'as-sized';
+            const expected =
+              tally.confidence.status?.state === 'positive'
+                ? 'monitored'
+                : !below
+                  ? 'met'
+                  : lostRopes + tally.invalid > 0
+                    ? 'lost'
+                    : 'as-sized';
             expect(cell, `${summary.round.id} ${barn.barnId} ${tally.assayId}`).toBe(expected);
             if (cell === 'lost') shaded++;
           }
@@ -73,28 +94,50 @@ describe('the since-last-round table', () => {
     for (let index = 1; index < analysis.rounds.length; index++) {
       const since = sinceLastRound(analysis.rounds[index - 1]!, analysis.rounds[index]!);
       const html = sinceBlock(analysis.summaries[index]!, since);
-      for (const entry of since.newlyPositive) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}" data-since-assay="${entry.assayId}"><td>[^<]*</td><td>[^<]*</td><td>[^<]*\\b${entry.penId}\\b`));
-      for (const entry of since.cleared) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}" data-since-assay="${entry.assayId}">(<td>[^<]*</td>){3}<td>[^<]*\\b${entry.penId}\\b`));
-      for (const entry of since.missing) expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"[\\s\\S]*?${entry.penId ?? entry.sampleId}`));
+      for (const entry of since.newlyPositive)
+        expect(html).toMatch(
+          new RegExp(
+            `data-since="${entry.barnId}" data-since-assay="${entry.assayId}"><td>[^<]*</td><td>[^<]*</td><td>[^<]*\\b${entry.penId}\\b`,
+          ),
+        );
+      for (const entry of since.cleared)
+        expect(html).toMatch(
+          new RegExp(
+            `data-since="${entry.barnId}" data-since-assay="${entry.assayId}">(<td>[^<]*</td>){3}<td>[^<]*\\b${entry.penId}\\b`,
+          ),
+        );
+      for (const entry of since.missing)
+        expect(html).toMatch(new RegExp(`data-since="${entry.barnId}"[\\s\\S]*?${entry.penId ?? entry.sampleId}`));
       // One row per barn and assay with a change, or one row for a barn with missing ropes only.
-      const keys = new Set([...since.newlyPositive, ...since.cleared, ...since.invalid].map((entry) => `${entry.barnId}/${entry.assayId}`));
-      const onlyMissing = new Set(since.missing.map((entry) => entry.barnId).filter((barnId) => ![...keys].some((key) => key.startsWith(`${barnId}/`))));
+      const keys = new Set(
+        [...since.newlyPositive, ...since.cleared, ...since.invalid].map((entry) => `${entry.barnId}/${entry.assayId}`),
+      );
+      const onlyMissing = new Set(
+        since.missing
+          .map((entry) => entry.barnId)
+          .filter((barnId) => ![...keys].some((key) => key.startsWith(`${barnId}/`))),
+      );
       expect((html.match(/data-since="/g) ?? []).length).toBe(keys.size + onlyMissing.size);
     }
   });
 
   it('marks the missing planned ropes of a round on its maps, and the legend explains the mark', () => {
     const analysis = demo.analyses[0]!;
-    const index = analysis.summaries.findIndex((summary) => summary.barns.some((barn) => barn.missingSampleIds.length > 0));
+    const index = analysis.summaries.findIndex((summary) =>
+      summary.barns.some((barn) => barn.missingSampleIds.length > 0),
+    );
     expect(index).toBeGreaterThanOrEqual(0);
     const summary = analysis.summaries[index]!;
     const barn = summary.barns.find((entry) => entry.missingSampleIds.length > 0)!;
     const marks = resultMarks(summary, barn.barnId, 'PRRSV');
-    for (const sampleId of barn.missingSampleIds) expect(marks.get(barn.missingPens[sampleId]!)?.resultClass, sampleId).toBe('missing');
+    for (const sampleId of barn.missingSampleIds)
+      expect(marks.get(barn.missingPens[sampleId]!)?.resultClass, sampleId).toBe('missing');
     const layoutBarn = analysis.site.barns.find((entry) => entry.id === barn.barnId)!;
     const svg = renderBarnMap(layoutBarn, { key: 'k', scale: 30, detail: 'full', title: 't', results: marks });
     expect((svg.match(/data-result="missing"/g) ?? []).length).toBe(new Set(Object.values(barn.missingPens)).size);
-    expect(resultsLegend('k', 40)).toMatch(/data-legend-missing=""[\s\S]*?stroke-dasharray="3 2"[\s\S]*?>M<\/text><\/svg>no result \(missing\)/);
+    expect(resultsLegend('k', 40)).toMatch(
+      /data-legend-missing=""[\s\S]*?stroke-dasharray="3 2"[\s\S]*?>M<\/text><\/svg>no result \(missing\)/,
+    );
   });
 });
 
@@ -109,7 +152,12 @@ describe('the plan page', () => {
         // The detection planned is the figure of the model that sized the ropes (the one the plan promises); a positive barn is monitored.
         const row = new RegExp(`<tr data-plan-barn="${barn.barnId}">(.*?)</tr>`).exec(html)![1]!;
         if (barn.monitoring) expect(row).toContain('monitored');
-        else expect(row).toContain((100 * barn.sizing.plannedDetection).toFixed(1) === '100.0' ? '> 99.9%' : `${(100 * barn.sizing.plannedDetection).toFixed(1)}%`);
+        else
+          expect(row).toContain(
+            (100 * barn.sizing.plannedDetection).toFixed(1) === '100.0'
+              ? '> 99.9%'
+              : `${(100 * barn.sizing.plannedDetection).toFixed(1)}%`,
+          );
       }
       expect(html).toContain(plan.sizing.ifNegative.replace(/&/g, '&amp;'));
       for (const schedule of plan.schedules) {
@@ -118,7 +166,8 @@ describe('the plan page', () => {
       }
       if (plan.freedom) {
         // The forecast's three values, as the page formats percentages (one decimal).
-        for (const value of [plan.freedom.onTime, plan.freedom.withoutRound, plan.freedom.missed]) expect(html).toContain((100 * value).toFixed(1) === '100.0' ? '> 99.9%' : `${(100 * value).toFixed(1)}%`);
+        for (const value of [plan.freedom.onTime, plan.freedom.withoutRound, plan.freedom.missed])
+          expect(html).toContain((100 * value).toFixed(1) === '100.0' ? '> 99.9%' : `${(100 * value).toFixed(1)}%`);
         expect(html).toContain('data-case="on-time"');
         expect(html).toContain('data-case="missed"');
       } else {
@@ -154,7 +203,9 @@ describe('alert texts', () => {
           expect(alert.action.length, alert.action).toBeGreaterThan(0);
           expect(alert.detail.length, alert.kind).toBeGreaterThan(0);
           // Rendered: the action in bold first, the detail after a line break.
-          expect(alertItem(alert)).toMatch(/^<li data-alert="[a-z-]+"><strong class="action">[^<]+<\/strong><br><span class="detail">[^<]+<\/span><\/li>$/);
+          expect(alertItem(alert)).toMatch(
+            /^<li data-alert="[a-z-]+"><strong class="action">[^<]+<\/strong><br><span class="detail">[^<]+<\/span><\/li>$/,
+          );
         }
       });
     }

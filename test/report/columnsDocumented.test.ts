@@ -11,7 +11,9 @@ function documentedColumns(heading: string): string[] {
   const start = readme.indexOf(heading);
   const end = readme.indexOf('\n#', start + heading.length);
   const section = readme.slice(start, end);
-  return [...section.matchAll(/^\| ((?:`[a-z0-9_]+`(?:, )?)+) \|/gm)].flatMap((match) => [...match[1]!.matchAll(/`([a-z0-9_]+)`/g)].map((name) => name[1]!));
+  return [...section.matchAll(/^\| ((?:`[a-z0-9_]+`(?:, )?)+) \|/gm)].flatMap((match) =>
+    [...match[1]!.matchAll(/`([a-z0-9_]+)`/g)].map((name) => name[1]!),
+  );
 }
 
 describe('output columns in the README', () => {
@@ -22,7 +24,10 @@ describe('output columns in the README', () => {
     expect(documentedColumns('### clusters.csv columns').sort()).toEqual([...CLUSTERS_COLUMNS].sort());
   });
   it('gives the next-round.csv columns in their order', () => {
-    const line = readme.slice(readme.indexOf('### next-round.csv columns')).split('\n').find((text) => text.startsWith('`sample_id'))!;
+    const line = readme
+      .slice(readme.indexOf('### next-round.csv columns'))
+      .split('\n')
+      .find((text) => text.startsWith('`sample_id'))!;
     expect(line.split(':')[0]!.replace(/`/g, '').split(', ')).toEqual([...NEXT_ROUND_COLUMNS]);
   });
 });

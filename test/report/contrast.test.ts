@@ -34,9 +34,12 @@ describe('contrastRatio (WCAG 2.x)', () => {
     expect(contrastRatio('#ffffff', '#767676')).toBe(contrastRatio('#767676', '#ffffff'));
   });
 
-  it.each(TEXT_PAIRS.map((pair) => [pair.name, pair.ink, pair.paper] as const))('gives %s (%s on %s) at least 4.5:1 (WCAG 2.x SC 1.4.3, AA)', (_name, ink, paper) => {
-    expect(contrastRatio(ink, paper)).toBeGreaterThanOrEqual(4.5);
-  });
+  it.each(TEXT_PAIRS.map((pair) => [pair.name, pair.ink, pair.paper] as const))(
+    'gives %s (%s on %s) at least 4.5:1 (WCAG 2.x SC 1.4.3, AA)',
+    (_name, ink, paper) => {
+      expect(contrastRatio(ink, paper)).toBeGreaterThanOrEqual(4.5);
+    },
+  );
 });
 
 describe('the load ramp', () => {

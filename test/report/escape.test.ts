@@ -29,7 +29,10 @@ describe('hostile names on pages', () => {
   const layout = twoRowLayout({ pensPerRow: 2, rowLabels: ['<b>', 'x"&'] });
 
   it('shows a pen or barn name with <&"> as text in the map, never as markup', () => {
-    const svg = renderBarnMap({ id: 'B<1>', name: 'Barn "<script>"', layout }, { key: 'B<1>', scale: 30, detail: 'full', title: 'Barn "<script>" & co' });
+    const svg = renderBarnMap(
+      { id: 'B<1>', name: 'Barn "<script>"', layout },
+      { key: 'B<1>', scale: 30, detail: 'full', title: 'Barn "<script>" & co' },
+    );
     expect(svg).not.toContain('<b>');
     expect(svg).not.toContain('<script>');
     expect(svg).toContain('data-pen="&lt;b&gt;1"');

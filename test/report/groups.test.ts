@@ -40,13 +40,22 @@ describe('groups on summary.csv', () => {
   it('names the group and its placement on the barn and pen rows; none on a barn without groups', () => {
     expect(barnRow(0, 'B1')).toMatchObject({ group: 'G1', group_placed_on: '2026-08-01', barn_empty: 'false' });
     expect(barnRow(3, 'B1')).toMatchObject({ group: 'G2', group_placed_on: '2026-09-01' });
-    expect(csv(3).find((row) => row.level === 'pen' && row.barn === 'B1' && row.pen === 'A1')).toMatchObject({ group: 'G2' });
+    expect(csv(3).find((row) => row.level === 'pen' && row.barn === 'B1' && row.pen === 'A1')).toMatchObject({
+      group: 'G2',
+    });
     expect(barnRow(0, 'B2')).toMatchObject({ group: '', group_placed_on: '', barn_empty: 'false' });
   });
 
   it('gives the empty barn no detection figure and no missing rope', () => {
     // Round 3 (24 Aug): B1 between G1's close-out (20 Aug) and G2's placement (1 Sep).
-    expect(barnRow(2, 'B1')).toMatchObject({ barn_empty: 'true', group: '', detection_confidence: '', missing_sample_ids: '', barn_freedom: '', ropes_needed: '' });
+    expect(barnRow(2, 'B1')).toMatchObject({
+      barn_empty: 'true',
+      group: '',
+      detection_confidence: '',
+      missing_sample_ids: '',
+      barn_freedom: '',
+      ropes_needed: '',
+    });
     expect(csv(2).find((row) => row.level === 'site')!.missing_sample_ids).toBe('');
     // No pen of the empty barn is in use: the site's N that round is B2's 36 pens alone (72 in round 1).
     expect(barnRow(2, 'B1').pens_in_use).toBe('0');
@@ -62,7 +71,8 @@ describe('groups on summary.csv', () => {
   });
 
   it('starts a pen\u2019s history afresh with the group (by hand: pen A1 of B1 was roped in rounds 1, 2 and 4)', () => {
-    const pen = (rows: Record<string, string>[]) => rows.find((row) => row.level === 'pen' && row.barn === 'B1' && row.pen === 'A1')!;
+    const pen = (rows: Record<string, string>[]) =>
+      rows.find((row) => row.level === 'pen' && row.barn === 'B1' && row.pen === 'A1')!;
     expect(pen(csv(3)).ct_history).toBe('r4:ND');
     expect(pen(outputs([]).csv(3)).ct_history).toBe('r1:ND r2:ND r4:ND');
   });
@@ -70,8 +80,13 @@ describe('groups on summary.csv', () => {
 
 describe('groups on the pages', () => {
   const { site, summaries, spatial } = outputs();
-  const page = (index: number) => renderSummaryPage({ summary: summaries[index]!, alerts: roundAlerts(summaries, spatial, index), notices: [] });
-  const barnSection = (html: string, barnId: string) => html.slice(html.indexOf(`<section class="barn" data-barn="${barnId}"`), html.indexOf('</section>', html.indexOf(`data-barn="${barnId}"`)));
+  const page = (index: number) =>
+    renderSummaryPage({ summary: summaries[index]!, alerts: roundAlerts(summaries, spatial, index), notices: [] });
+  const barnSection = (html: string, barnId: string) =>
+    html.slice(
+      html.indexOf(`<section class="barn" data-barn="${barnId}"`),
+      html.indexOf('</section>', html.indexOf(`data-barn="${barnId}"`)),
+    );
 
   it('says the empty barn is empty, no group, with no figure and no missing-ropes alert', () => {
     const html = page(2);
@@ -91,7 +106,16 @@ describe('groups on the pages', () => {
   });
 
   it('names the group on the barn map', () => {
-    const html = renderClustersPage({ site, summaries, spatial, index: 3, assays: config.assayById, alpha: 0.05, alerts: [], notices: [] });
+    const html = renderClustersPage({
+      site,
+      summaries,
+      spatial,
+      index: 3,
+      assays: config.assayById,
+      alpha: 0.05,
+      alerts: [],
+      notices: [],
+    });
     expect(html).toContain('B1, PRRSV, round 4, group Autumn (G2, placed 2026-09-01)');
   });
 });

@@ -20,7 +20,16 @@ const { summaries, spatial } = analyseScenario();
 const OSTERMARK = 'Ostermark Animal Health Laboratory (invented)';
 const alerts = roundAlerts(summaries, spatial, 1);
 const summaryHtml = renderSummaryPage({ summary: summaries[1]!, alerts, notices: [] });
-const clustersHtml = renderClustersPage({ site, summaries, spatial, index: 1, assays: config.assayById, alpha: 0.05, alerts, notices: [] });
+const clustersHtml = renderClustersPage({
+  site,
+  summaries,
+  spatial,
+  index: 1,
+  assays: config.assayById,
+  alpha: 0.05,
+  alerts,
+  notices: [],
+});
 
 type CsvRecord = Record<string, string>;
 const rows = parse(summaryCsv(summaries[1]!), { columns: true }) as CsvRecord[];
@@ -38,9 +47,26 @@ describe('summary.csv', () => {
   it('adds the new columns at the end, after the existing ones', () => {
     // README: columns are stable and new ones are added at the end (common practice, no source).
     expect(SUMMARY_COLUMNS.indexOf('ct_history')).toBe(36);
-    expect(SUMMARY_COLUMNS.slice(37, 47)).toEqual(['lab_call', 'call_differs', 'lab', 'accession', 'collected_on', 'reported_on', 'positive_below', 'suspect_below', 'cycle_limit', 'sequencing_candidate']);
+    expect(SUMMARY_COLUMNS.slice(37, 47)).toEqual([
+      'lab_call',
+      'call_differs',
+      'lab',
+      'accession',
+      'collected_on',
+      'reported_on',
+      'positive_below',
+      'suspect_below',
+      'cycle_limit',
+      'sequencing_candidate',
+    ]);
     // The S/P columns of antibody assays came later still.
-    expect(SUMMARY_COLUMNS.slice(47, 52)).toEqual(['measure', 'sp', 'sp_history', 'positive_at_or_above', 'suspect_at_or_above']);
+    expect(SUMMARY_COLUMNS.slice(47, 52)).toEqual([
+      'measure',
+      'sp',
+      'sp_history',
+      'positive_at_or_above',
+      'suspect_at_or_above',
+    ]);
   });
 
   it('gives a pen row the lab call and whether it differs from the reading', () => {
@@ -72,8 +98,16 @@ describe('summary.csv', () => {
   it('gives site and barn rows every lab and case number, and the collection dates as an ISO 8601 interval', () => {
     // ISO 8601-1:2019 time interval "start/end": the round's ropes were collected on the 17th and the 18th.
     const site = rows.find((row) => row.level === 'site')!;
-    expect(site).toMatchObject({ lab: OSTERMARK, accession: 'OA-0817', collected_on: '2026-08-17/2026-08-18', reported_on: '2026-08-20' });
-    expect(rows.find((row) => row.level === 'barn' && row.barn === 'F1')).toMatchObject({ accession: 'OA-0817', collected_on: '2026-08-17/2026-08-18' });
+    expect(site).toMatchObject({
+      lab: OSTERMARK,
+      accession: 'OA-0817',
+      collected_on: '2026-08-17/2026-08-18',
+      reported_on: '2026-08-20',
+    });
+    expect(rows.find((row) => row.level === 'barn' && row.barn === 'F1')).toMatchObject({
+      accession: 'OA-0817',
+      collected_on: '2026-08-17/2026-08-18',
+    });
     expect(rows.find((row) => row.level === 'barn' && row.barn === 'F2')).toMatchObject({ lab: '', accession: '' });
     expect(dateSpan('2026-08-17', '2026-08-17')).toBe('2026-08-17');
     expect(dateSpan(null, null)).toBeNull();
@@ -82,7 +116,11 @@ describe('summary.csv', () => {
   it('flags a positive pen below the sequencing threshold, and no other', () => {
     // assays.yaml (demo): PRRSV sequencingBelow 32. A1 Ct 31.0 < 32: candidate; A3 Ct 36.5: not;
     // A2 invalid: not. Sequencing below a Ct threshold is common practice, no source.
-    expect([penRow('A1'), penRow('A2'), penRow('A3')].map((row) => row.sequencing_candidate)).toEqual(['true', 'false', 'false']);
+    expect([penRow('A1'), penRow('A2'), penRow('A3')].map((row) => row.sequencing_candidate)).toEqual([
+      'true',
+      'false',
+      'false',
+    ]);
   });
 });
 
@@ -128,7 +166,13 @@ describe('the summary page', () => {
     expect(row(summaryHtml, 'A2')).toContain('invalid');
     // The same round as if a second lab had read some of it: each finding names its lab and cutoffs.
     const mixed = structuredClone(summaries[1]!);
-    mixed.cutoffs.push({ ...mixed.cutoffs[0]!, labId: 'northfield', labName: 'Northfield', positiveBelow: 36, cycleLimit: 40 });
+    mixed.cutoffs.push({
+      ...mixed.cutoffs[0]!,
+      labId: 'northfield',
+      labName: 'Northfield',
+      positiveBelow: 36,
+      cycleLimit: 40,
+    });
     expect(mixedReadings(mixed)).toBe(true);
     const html = renderSummaryPage({ summary: mixed, alerts, notices: [] });
     expect(row(html, 'A1')).toContain(`${escapeHtml(OSTERMARK)}: positive below 37, suspect below 40, cycle limit 45`);
@@ -137,9 +181,12 @@ describe('the summary page', () => {
   it('lists where the results came from, to file against the lab report', () => {
     const start = summaryHtml.indexOf('<table data-sources="">');
     const table = summaryHtml.slice(start, summaryHtml.indexOf('</table>', start));
-    for (const text of [escapeHtml(OSTERMARK), '2026-08-20', 'OA-0817', '2026-08-17 to 2026-08-18']) expect(table).toContain(text);
+    for (const text of [escapeHtml(OSTERMARK), '2026-08-20', 'OA-0817', '2026-08-17 to 2026-08-18'])
+      expect(table).toContain(text);
     // The lab's cutoffs, beside the defaults of assays.yaml (PRRSV 36 / 40 / 40).
-    expect(summaryHtml).toContain(`${escapeHtml(OSTERMARK)}: PRRSV positive below 37, suspect below 40, cycle limit 45`);
+    expect(summaryHtml).toContain(
+      `${escapeHtml(OSTERMARK)}: PRRSV positive below 37, suspect below 40, cycle limit 45`,
+    );
     expect(summaryHtml).toContain('assays.yaml default 36, 40, 40');
   });
 
@@ -150,7 +197,9 @@ describe('the summary page', () => {
 
   it('writes runs of consecutive case numbers as first to last', () => {
     // By hand: 1000..1003 is one run; 1005 stands alone; two in a row stay listed.
-    expect(caseList(['NV26-01001', 'NV26-01000', 'NV26-01003', 'NV26-01002', 'NV26-01005'])).toBe('NV26-01000 to NV26-01003, NV26-01005');
+    expect(caseList(['NV26-01001', 'NV26-01000', 'NV26-01003', 'NV26-01002', 'NV26-01005'])).toBe(
+      'NV26-01000 to NV26-01003, NV26-01005',
+    );
     expect(caseList(['A-7', 'A-8', 'B'])).toBe('A-7, A-8, B');
   });
 });
@@ -184,7 +233,9 @@ describe('the cluster review draws each result with its own lab cutoffs', () => 
     // A3 has a northfield Ct (cutoff 36) and an ostermark Ct (cutoff 37).
     expect(trend('A3')).toContain('data-cutoff="36"');
     expect(trend('A3')).toContain('data-cutoff="37"');
-    expect(section).toContain(`the lab\u2019s positive cutoff, 36 (Northfield Veterinary Diagnostic Laboratory (invented)); 37 (${escapeHtml(OSTERMARK)})`);
+    expect(section).toContain(
+      `the lab\u2019s positive cutoff, 36 (Northfield Veterinary Diagnostic Laboratory (invented)); 37 (${escapeHtml(OSTERMARK)})`,
+    );
   });
 
   it('draws an invalid result as its own mark, never on the not-detected line, with a legend entry', () => {
@@ -200,10 +251,14 @@ describe('the cluster review draws each result with its own lab cutoffs', () => 
     const block = clustersHtml.slice(start, clustersHtml.indexOf('</p>', start));
     expect(block).toContain('F1: A1 (31.0)');
     expect(block).not.toContain('A3');
-    expect(block).toContain('Ct below 32: enough viral RNA that sequencing is likely to succeed (common practice, no published source)');
+    expect(block).toContain(
+      'Ct below 32: enough viral RNA that sequencing is likely to succeed (common practice, no published source)',
+    );
   });
 
   it('names on the page the lab and cutoffs the round was read with', () => {
-    expect(clustersHtml).toContain(`Cutoffs of the reporting lab: <span data-read-with="">${escapeHtml(OSTERMARK)}: PRRSV positive below 37; suspect below 40, cycle limit 45</span>`);
+    expect(clustersHtml).toContain(
+      `Cutoffs of the reporting lab: <span data-read-with="">${escapeHtml(OSTERMARK)}: PRRSV positive below 37; suspect below 40, cycle limit 45</span>`,
+    );
   });
 });

@@ -23,10 +23,22 @@ import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/int
 export const config = loadConfig(DEMO_CONFIG_DIR);
 export const site = config.siteById.get('HOLLOW-CREEK')!;
 
-const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({ sampleId, siteId: site.id, barnId: 'F1', penId, hungOn, source: 'sheet' });
+const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
+  sampleId,
+  siteId: site.id,
+  barnId: 'F1',
+  penId,
+  hungOn,
+  source: 'sheet',
+});
 
 let nextId = 1;
-const northfield = (sampleId: string, resultClass: ResultInput['resultClass'], ct: number | null, labCall: string): ResultInput => ({
+const northfield = (
+  sampleId: string,
+  resultClass: ResultInput['resultClass'],
+  ct: number | null,
+  labCall: string,
+): ResultInput => ({
   id: nextId++,
   labId: 'northfield',
   sampleId,
@@ -45,7 +57,14 @@ const northfield = (sampleId: string, resultClass: ResultInput['resultClass'], c
   collectedOn: '2026-08-03',
   reportedOn: '2026-08-06',
 });
-const ostermark = (sampleId: string, resultClass: ResultInput['resultClass'], ct: number | null, labCall: string, callDiffers: boolean, collectedOn = '2026-08-17'): ResultInput => ({
+const ostermark = (
+  sampleId: string,
+  resultClass: ResultInput['resultClass'],
+  ct: number | null,
+  labCall: string,
+  callDiffers: boolean,
+  collectedOn = '2026-08-17',
+): ResultInput => ({
   id: nextId++,
   labId: 'ostermark',
   sampleId,

@@ -24,7 +24,10 @@ function planAfter(positive: readonly number[]) {
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  return { site, plan: planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }) };
+  return {
+    site,
+    plan: planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }),
+  };
 }
 
 describe('the rope list of a positive barn', () => {
@@ -44,14 +47,18 @@ describe('the rope list of a positive barn', () => {
     expect(html).toMatch(/<td>re-rope<\/td>/);
     expect(html).toContain('re-rope (positive pen: its Ct series goes on)');
     expect(html).toContain('tracking rope (same pens every round)');
-    expect(sizingLine(plan)).toMatch(/ re-rope, \d+ tracking \(positive barns, monitored\)\. (If they all come back negative on time, each barn has at least |No barn is surveyed for detection).* The positive barns are monitored and not counted in these figures\.$/);
+    expect(sizingLine(plan)).toMatch(
+      / re-rope, \d+ tracking \(positive barns, monitored\)\. (If they all come back negative on time, each barn has at least |No barn is surveyed for detection).* The positive barns are monitored and not counted in these figures\.$/,
+    );
   });
 
   it('keeps the sheet of a negative site as it was', () => {
     const negative = planAfter([]);
     const html = renderRopeSheetPage({ site: negative.site, plan: negative.plan, notices: [] });
     expect(html).not.toContain('tracking rope');
-    expect(sizingLine(negative.plan)).toMatch(/retest\. If they all come back negative on time, each barn has at least /);
+    expect(sizingLine(negative.plan)).toMatch(
+      /retest\. If they all come back negative on time, each barn has at least /,
+    );
   });
 });
 
@@ -63,9 +70,13 @@ describe('the freedom-reset alert of a positive round', () => {
     const rounds = buildSiteRounds(site, ropes, results);
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const alert = roundAlerts(summariseSite(config, site, rounds, confidence), spatial, 0).find((entry) => entry.kind === 'freedom-reset')!;
+    const alert = roundAlerts(summariseSite(config, site, rounds, confidence), spatial, 0).find(
+      (entry) => entry.kind === 'freedom-reset',
+    )!;
     expect(alert.action).toContain('the site is positive since round 1');
-    expect(alert.detail).toMatch(/it starts again from the prior [\d.]+% once every positive barn has had 2 negative rounds in a row\.$/);
+    expect(alert.detail).toMatch(
+      /it starts again from the prior [\d.]+% once every positive barn has had 2 negative rounds in a row\.$/,
+    );
   });
 });
 
@@ -75,11 +86,25 @@ describe('the cluster review of a monitored barn', () => {
     const site = config.sites[0]!;
     const first = roundRopes('2026-08-03', 18, 'R1', [2, 3, 4]);
     const second = roundRopes('2026-08-17', 18, 'R2', [3, 4]);
-    const rounds = buildSiteRounds(site, [...first.ropes, ...second.ropes], [...first.results, ...second.results.map((result) => ({ ...result, id: result.id + 100 }))]);
+    const rounds = buildSiteRounds(
+      site,
+      [...first.ropes, ...second.ropes],
+      [...first.results, ...second.results.map((result) => ({ ...result, id: result.id + 100 }))],
+    );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
     const summaries = summariseSite(config, site, rounds, confidence);
-    const page = (index: number) => renderClustersPage({ site, summaries, spatial, index, assays: config.assayById, alpha: 0.05, alerts: [], notices: [] });
+    const page = (index: number) =>
+      renderClustersPage({
+        site,
+        summaries,
+        spatial,
+        index,
+        assays: config.assayById,
+        alpha: 0.05,
+        alerts: [],
+        notices: [],
+      });
     // Round 1 found the barn: its ropes were placed by the layout, so its tests stand as tests.
     expect(page(0)).not.toContain('data-monitored');
     // Round 2 followed a positive round: the selection of ropes is not by chance (common practice, no source).

@@ -42,7 +42,11 @@ describe('the pages of the demo', () => {
     const outbox = demo.paths.outbox;
     for (const analysis of demo.analyses) {
       for (const summary of analysis.summaries) {
-        for (const page of ['summary.html', 'clusters.html']) expect(fs.existsSync(path.join(outbox, analysis.site.id, summary.round.id, page)), `${summary.round.id}/${page}`).toBe(true);
+        for (const page of ['summary.html', 'clusters.html'])
+          expect(
+            fs.existsSync(path.join(outbox, analysis.site.id, summary.round.id, page)),
+            `${summary.round.id}/${page}`,
+          ).toBe(true);
       }
       expect(fs.existsSync(path.join(outbox, analysis.site.id, 'next-round.html'))).toBe(true);
       expect(fs.existsSync(path.join(outbox, analysis.site.id, 'plan.html'))).toBe(true);
@@ -64,7 +68,9 @@ describe('the pages of the demo', () => {
     for (const file of htmlFiles(demo.paths.outbox)) {
       const html = fs.readFileSync(path.join(demo.paths.outbox, file), 'utf8');
       // Every demo round tests PRRSV, so every page shows it.
-      expect(html, file).toContain(`<div class="notice" role="alert" data-notifiable="">${escapeHtml(notifiableNotice(PRRSV_NAME))}</div>`);
+      expect(html, file).toContain(
+        `<div class="notice" role="alert" data-notifiable="">${escapeHtml(notifiableNotice(PRRSV_NAME))}</div>`,
+      );
       expect(html, file).not.toContain(escapeHtml(notifiableNotice(IAV_NAME)));
     }
   });
@@ -74,7 +80,8 @@ describe('the pages of the demo', () => {
     const config = loadConfig(DEMO_CONFIG_DIR);
     const outbox = fs.mkdtempSync(path.join(demo.root, 'plain-'));
     writeSitePages(outbox, config, analysis);
-    for (const file of htmlFiles(outbox)) expect(fs.readFileSync(path.join(outbox, file), 'utf8'), file).not.toContain('data-notifiable');
+    for (const file of htmlFiles(outbox))
+      expect(fs.readFileSync(path.join(outbox, file), 'utf8'), file).not.toContain('data-notifiable');
   });
 
   it('writes the same bytes when the same analysis is written again', () => {
@@ -89,10 +96,15 @@ describe('the pages of the demo', () => {
 
   it('keeps sites in the index whose pages were not regenerated', () => {
     const config = loadConfig(demo.paths.configDir);
-    const other = JSON.parse(fs.readFileSync(path.join(demo.paths.outbox, 'tamsin-ridge', 'site.json'), 'utf8')) as SiteDigest;
+    const other = JSON.parse(
+      fs.readFileSync(path.join(demo.paths.outbox, 'tamsin-ridge', 'site.json'), 'utf8'),
+    ) as SiteDigest;
     const extra = path.join(demo.paths.outbox, 'zz-other');
     fs.mkdirSync(extra);
-    fs.writeFileSync(path.join(extra, 'site.json'), JSON.stringify({ ...other, site: { id: 'zz-other', name: 'Other <&> Site' } }));
+    fs.writeFileSync(
+      path.join(extra, 'site.json'),
+      JSON.stringify({ ...other, site: { id: 'zz-other', name: 'Other <&> Site' } }),
+    );
     writeIndex(demo.paths.outbox, config);
     const html = fs.readFileSync(path.join(demo.paths.outbox, 'index.html'), 'utf8');
     expect(html).toContain('Other &lt;&amp;&gt; Site');
@@ -112,7 +124,9 @@ describe('roundAlerts on the demo scenario', () => {
   const kinds = (siteIndex: number, round: number) => {
     const analysis = demo.analyses[siteIndex]!;
     const index = analysis.summaries.findIndex((summary) => summary.round.number === round);
-    return roundAlerts(analysis.summaries, analysis.spatial, index).map((alert) => `${alert.kind}:${alert.barnId ?? '-'}`);
+    return roundAlerts(analysis.summaries, analysis.spatial, index).map(
+      (alert) => `${alert.kind}:${alert.barnId ?? '-'}`,
+    );
   };
 
   it('names the first positive on a site, a suspect and a missing rope', () => {
@@ -135,17 +149,32 @@ describe('roundAlerts on the demo scenario', () => {
     expect(kinds(0, 7)).not.toContain('first-positive:F1');
     const analysis = demo.analyses[0]!;
     const index = analysis.summaries.findIndex((summary) => summary.round.number === 7);
-    const f1 = roundAlerts(analysis.summaries, analysis.spatial, index).find((alert) => alert.kind === 'positive-again')!;
-    const tally = analysis.summaries[index]!.barns.find((barn) => barn.barnId === 'F1')!.assays.find((assay) => assay.assayId === 'PRRSV')!;
+    const f1 = roundAlerts(analysis.summaries, analysis.spatial, index).find(
+      (alert) => alert.kind === 'positive-again',
+    )!;
+    const tally = analysis.summaries[index]!.barns.find((barn) => barn.barnId === 'F1')!.assays.find(
+      (assay) => assay.assayId === 'PRRSV',
+    )!;
     // The action names the barn, the count and the place; the statistic and its p-value follow on the detail line.
-    expect(f1.action).toMatch(new RegExp(`^Positive .+ in Finisher 1 again: ${tally.positive} pens, (clustered around \\w+\u2013\\w+|scattered through the barn); tell the herd veterinarian today`));
+    expect(f1.action).toMatch(
+      new RegExp(
+        `^Positive .+ in Finisher 1 again: ${tally.positive} pens, (clustered around \\w+\u2013\\w+|scattered through the barn); tell the herd veterinarian today`,
+      ),
+    );
     expect(f1.numbers.positive).toBe(tally.positive);
   });
 
   it('says the freedom reset in the round that lost it, not in every positive round after', () => {
     const analysis = demo.analyses[0]!;
-    const resets = analysis.summaries.map((_, index) => roundAlerts(analysis.summaries, analysis.spatial, index).filter((alert) => alert.kind === 'freedom-reset' && alert.assayId === 'PRRSV').length);
-    const positiveRounds = analysis.summaries.map((summary) => summary.assays.find((assay) => assay.id === 'PRRSV')?.site.freedomReset ?? false);
+    const resets = analysis.summaries.map(
+      (_, index) =>
+        roundAlerts(analysis.summaries, analysis.spatial, index).filter(
+          (alert) => alert.kind === 'freedom-reset' && alert.assayId === 'PRRSV',
+        ).length,
+    );
+    const positiveRounds = analysis.summaries.map(
+      (summary) => summary.assays.find((assay) => assay.id === 'PRRSV')?.site.freedomReset ?? false,
+    );
     // Each run of consecutive positive rounds is told once, at its start.
     const starts = positiveRounds.map((reset, index) => (reset && !(positiveRounds[index - 1] ?? false) ? 1 : 0));
     expect(resets).toEqual(starts);
@@ -160,6 +189,8 @@ describe('roundAlerts on the demo scenario', () => {
 
   it('refuses a round index outside the summaries', () => {
     const analysis = demo.analyses[0]!;
-    expect(() => roundAlerts(analysis.summaries, analysis.spatial, 99)).toThrow(`\`index\` must be an integer in [0, ${analysis.summaries.length - 1}], got 99`);
+    expect(() => roundAlerts(analysis.summaries, analysis.spatial, 99)).toThrow(
+      `\`index\` must be an integer in [0, ${analysis.summaries.length - 1}], got 99`,
+    );
   });
 });

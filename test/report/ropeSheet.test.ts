@@ -28,12 +28,22 @@ describe('skipped sample numbers on the rope sheet', () => {
     // and the first three others (by the oracle above).
     const all = Array.from({ length: 100 }, (_, i) => i + 1);
     const ambiguous = (n: number) => 'IOL*'.includes(isoCheck(`TRN05${String(n).padStart(3, '0')}`));
-    const left = [...all.filter(ambiguous).slice(0, 3), ...all.filter((n) => !ambiguous(n)).slice(0, 3)].sort((a, b) => a - b);
-    const skipped = skippedSequences(ropesOf('TRN', 5, all.filter((n) => !left.includes(n))));
+    const left = [...all.filter(ambiguous).slice(0, 3), ...all.filter((n) => !ambiguous(n)).slice(0, 3)].sort(
+      (a, b) => a - b,
+    );
+    const skipped = skippedSequences(
+      ropesOf(
+        'TRN',
+        5,
+        all.filter((n) => !left.includes(n)),
+      ),
+    );
     expect(skipped.map((entry) => entry.sequence)).toEqual(left);
     for (const entry of skipped) {
       const check = isoCheck(`TRN05${String(entry.sequence).padStart(3, '0')}`);
-      expect(entry.reason, `sequence ${entry.sequence} (check ${check})`).toBe('IOL*'.includes(check) ? 'check-character' : 'earlier-plan');
+      expect(entry.reason, `sequence ${entry.sequence} (check ${check})`).toBe(
+        'IOL*'.includes(check) ? 'check-character' : 'earlier-plan',
+      );
     }
     // Both reasons occur in this range (else the test above would not tell them apart).
     expect(new Set(skipped.map((entry) => entry.reason)).size).toBe(2);

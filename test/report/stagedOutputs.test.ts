@@ -33,7 +33,9 @@ describe('StagedOutputs', () => {
     staged.publish();
     expect(fs.readFileSync(path.join(dir, 'a.csv'), 'utf8')).toBe('new a\n');
     expect(fs.readFileSync(path.join(dir, 'sub', 'b.csv'), 'utf8')).toBe('new b\n');
-    expect(fs.readdirSync(dir, { recursive: true, encoding: 'utf8' }).filter((name) => name.endsWith('.tmp'))).toEqual([]);
+    expect(fs.readdirSync(dir, { recursive: true, encoding: 'utf8' }).filter((name) => name.endsWith('.tmp'))).toEqual(
+      [],
+    );
   });
 
   it('swaps in no file of the set when a folder stands where one of them goes, and leaves no temp file', () => {
@@ -51,7 +53,7 @@ describe('StagedOutputs', () => {
 });
 
 describe('removeStrayTemps', () => {
-  it("removes temp files of processes that have exited, keeps those of running ones and every other file", () => {
+  it('removes temp files of processes that have exited, keeps those of running ones and every other file', () => {
     const dir = tempDir();
     const exited = spawnSync(process.execPath, ['-e', '0']).pid!;
     const stray = path.join(dir, 'site', `.summary.json.${exited}.3.tmp`);

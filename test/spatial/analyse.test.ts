@@ -4,15 +4,30 @@ import { analyseBarnRound, analyseSiteRound, type RoundPen } from '../../src/spa
 import { expectClose } from '../helpers/expectClose.js';
 
 const layout: BarnLayout = {
-  rows: 2, pensPerRow: 20, numbering: 'per-row', rowLabels: ['A', 'B'], padDigits: 0,
-  penWidth: 1, penDepth: 1, alleyWidth: 0.5, gapsAfter: [], gapWidth: 1, empty: ['A13'], outOfUse: ['B20'],
+  rows: 2,
+  pensPerRow: 20,
+  numbering: 'per-row',
+  rowLabels: ['A', 'B'],
+  padDigits: 0,
+  penWidth: 1,
+  penDepth: 1,
+  alleyWidth: 0.5,
+  gapsAfter: [],
+  gapWidth: 1,
+  empty: ['A13'],
+  outOfUse: ['B20'],
 };
 
 /** Ropes every third pen in pairs across the alley: A1 B2, A4 B5, ..., A13 (empty) B14, ..., A19 B20 (out of use). */
 function systematicRound(positives: Set<string>): RoundPen[] {
   const pens: RoundPen[] = [];
-  for (let p = 1; p <= 20; p += 3) pens.push(...['A', 'B'].map((side) => ({ id: `${side}${p + (side === 'B' ? 1 : 0)}`, positive: false, load: 0 })));
-  return pens.map((pen) => (positives.has(pen.id) ? { ...pen, positive: true, ct: 28, load: 12, resultClass: 'positive' } : { ...pen, resultClass: 'negative' }));
+  for (let p = 1; p <= 20; p += 3)
+    pens.push(...['A', 'B'].map((side) => ({ id: `${side}${p + (side === 'B' ? 1 : 0)}`, positive: false, load: 0 })));
+  return pens.map((pen) =>
+    positives.has(pen.id)
+      ? { ...pen, positive: true, ct: 28, load: 12, resultClass: 'positive' }
+      : { ...pen, resultClass: 'negative' },
+  );
 }
 
 /** Fails on any NaN, Infinity or undefined anywhere in a report. */
@@ -20,13 +35,20 @@ function assertClean(value: unknown, path = 'report'): void {
   if (value === undefined) throw new Error(`${path} is undefined`);
   if (typeof value === 'number' && !Number.isFinite(value)) throw new Error(`${path} is ${value}`);
   if (Array.isArray(value)) value.forEach((v, i) => assertClean(v, `${path}[${i}]`));
-  else if (value && typeof value === 'object') for (const [k, v] of Object.entries(value)) assertClean(v, `${path}.${k}`);
+  else if (value && typeof value === 'object')
+    for (const [k, v] of Object.entries(value)) assertClean(v, `${path}.${k}`);
 }
 
 describe('barn-round and site-round analysis', () => {
   it('reports every statistic for a barn-round as clean JSON and leaves empty pens out', () => {
     const sampled = systematicRound(new Set(['A1', 'B2', 'A4', 'B5']));
-    const r = analyseBarnRound({ barn: 'N1', layout, sampled, earlierPositive: ['A1'], options: { seed: 7, permutations: 199, detection: { realisations: 2000 } } });
+    const r = analyseBarnRound({
+      barn: 'N1',
+      layout,
+      sampled,
+      earlierPositive: ['A1'],
+      options: { seed: 7, permutations: 199, detection: { realisations: 2000 } },
+    });
     assertClean(r);
     expect(JSON.parse(JSON.stringify(r))).toEqual(r);
     expect(r.excluded.map((e) => e.id)).toEqual(['A13', 'B20']);
@@ -48,12 +70,22 @@ describe('barn-round and site-round analysis', () => {
 
   it('gives the same report for the same seed', () => {
     const sampled = systematicRound(new Set(['A7', 'B8']));
-    const input = { barn: 'N1', layout, sampled, options: { seed: 3, permutations: 99, detection: { realisations: 500 } } };
+    const input = {
+      barn: 'N1',
+      layout,
+      sampled,
+      options: { seed: 3, permutations: 99, detection: { realisations: 500 } },
+    };
     expect(analyseBarnRound(input)).toEqual(analyseBarnRound(input));
   });
 
   it('reports a round without positives with null z and Moran I and no clusters, never NaN', () => {
-    const r = analyseBarnRound({ barn: 'N1', layout, sampled: systematicRound(new Set()), options: { seed: 1, permutations: 99, detection: false } });
+    const r = analyseBarnRound({
+      barn: 'N1',
+      layout,
+      sampled: systematicRound(new Set()),
+      options: { seed: 1, permutations: 99, detection: false },
+    });
     assertClean(r);
     expect(r.joinCount!.zBB).toBeNull();
     expect(r.moran!.I).toBeNull();
@@ -66,8 +98,17 @@ describe('barn-round and site-round analysis', () => {
     // Row of six pens roped, positives 2 and 3, fence weights: BB = 1, E(BB) = 1/3, exact p = 5/15
     // (Cliff & Ord 1981, Spatial Processes (non-free sampling moments); exact p by enumeration of the C(6,2) placements).
     const row: BarnLayout = { ...layout, rows: 1, pensPerRow: 6, rowLabels: ['A'], empty: [], outOfUse: [] };
-    const sampled = [1, 2, 3, 4, 5, 6].map((p) => ({ id: `A${p}`, positive: p === 2 || p === 3, load: p === 2 || p === 3 ? 1 : 0 }));
-    const r = analyseBarnRound({ barn: 'R', layout: row, sampled, options: { seed: 1, weights: { kind: 'contact', convention: 'fence' }, detection: false } });
+    const sampled = [1, 2, 3, 4, 5, 6].map((p) => ({
+      id: `A${p}`,
+      positive: p === 2 || p === 3,
+      load: p === 2 || p === 3 ? 1 : 0,
+    }));
+    const r = analyseBarnRound({
+      barn: 'R',
+      layout: row,
+      sampled,
+      options: { seed: 1, weights: { kind: 'contact', convention: 'fence' }, detection: false },
+    });
     expect(r.joinCount!.bb).toBe(1);
     expectClose(r.joinCount!.expectedBB, 1 / 3, { rel: 1e-12 }, 'E(BB)');
     expectClose(r.joinCount!.pPermutation, 5 / 15, { rel: 1e-12 }, 'exact p');
@@ -76,8 +117,20 @@ describe('barn-round and site-round analysis', () => {
   });
 
   it('permutes within barns on a site and measures spread across barns through the offsets', () => {
-    const a = { barn: 'N1', layout, offset: { x: 0, y: 0 }, sampled: systematicRound(new Set(['A1', 'B2'])), earlierPositive: [] };
-    const b = { barn: 'N2', layout: { ...layout, empty: [], outOfUse: [] }, offset: { x: 0, y: 10 }, sampled: systematicRound(new Set(['A1'])), earlierPositive: ['A4'] };
+    const a = {
+      barn: 'N1',
+      layout,
+      offset: { x: 0, y: 0 },
+      sampled: systematicRound(new Set(['A1', 'B2'])),
+      earlierPositive: [],
+    };
+    const b = {
+      barn: 'N2',
+      layout: { ...layout, empty: [], outOfUse: [] },
+      offset: { x: 0, y: 10 },
+      sampled: systematicRound(new Set(['A1'])),
+      earlierPositive: ['A4'],
+    };
     const r = analyseSiteRound({ site: 'S', barns: [a, b], options: { seed: 5, permutations: 199, detection: false } });
     assertClean(r);
     expect(r.barns.map((x) => x.barn)).toEqual(['N1', 'N2']);
@@ -93,6 +146,8 @@ describe('barn-round and site-round analysis', () => {
   });
 
   it('rejects a sampled pen that is not in the layout', () => {
-    expect(() => analyseBarnRound({ barn: 'N1', layout, sampled: [{ id: 'C1', positive: true, load: 1 }], options: { seed: 1 } })).toThrow(/C1/);
+    expect(() =>
+      analyseBarnRound({ barn: 'N1', layout, sampled: [{ id: 'C1', positive: true, load: 1 }], options: { seed: 1 } }),
+    ).toThrow(/C1/);
   });
 });

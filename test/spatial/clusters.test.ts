@@ -16,7 +16,13 @@ describe('cluster listing', () => {
       new Set(['A1']),
     );
     expect(c.map((k) => k.pens)).toEqual([['A1', 'A2', 'A3'], ['B10']]);
-    expect(c[0]).toMatchObject({ size: 3, alleyLength: 2, minCt: 24, newPens: ['A2', 'A3'], earlierPositivePens: ['A1'] });
+    expect(c[0]).toMatchObject({
+      size: 3,
+      alleyLength: 2,
+      minCt: 24,
+      newPens: ['A2', 'A3'],
+      earlierPositivePens: ['A1'],
+    });
     expectClose(c[0]!.meanCt!, 27, { rel: 1e-12 }, 'mean Ct (24+27+30)/3');
     expect(c[1]).toMatchObject({ meanCt: null, minCt: null, alleyLength: 0 });
   });

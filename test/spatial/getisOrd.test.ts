@@ -3,7 +3,12 @@ import { localGiStar } from '../../src/spatial/getisOrd.js';
 import { knnWeights } from '../../src/spatial/weights.js';
 import { expectClose } from '../helpers/expectClose.js';
 
-const row6 = (style: 'binary' | 'row') => knnWeights([0, 1, 2, 3, 4, 5].map((x) => ({ id: `P${x + 1}`, x, y: 0 })), 1, style);
+const row6 = (style: 'binary' | 'row') =>
+  knnWeights(
+    [0, 1, 2, 3, 4, 5].map((x) => ({ id: `P${x + 1}`, x, y: 0 })),
+    1,
+    style,
+  );
 
 describe('local Gi*', () => {
   it('gives 1.581139 for pen 2 of x = (0,1,1,0,0,0) on a fence row of six', () => {

@@ -9,7 +9,11 @@ import {
 import { knnWeights, weightConstants, weightsFromEdges, type SpatialWeights } from '../../src/spatial/weights.js';
 import { expectClose } from '../helpers/expectClose.js';
 
-const row6 = knnWeights([0, 1, 2, 3, 4, 5].map((x) => ({ id: `P${x + 1}`, x, y: 0 })), 1, 'binary');
+const row6 = knnWeights(
+  [0, 1, 2, 3, 4, 5].map((x) => ({ id: `P${x + 1}`, x, y: 0 })),
+  1,
+  'binary',
+);
 
 /** Rook (or queen) lattice of r x c cells numbered row by row. */
 function lattice(r: number, c: number, queen = false, style: 'binary' | 'row' = 'binary'): SpatialWeights {
@@ -158,8 +162,14 @@ describe('join counts', () => {
   it('gives a large positive z for clustered positives and a negative one for a checkerboard', () => {
     // Property (Cliff & Ord 1981): like-with-like raises BB above expectation; alternation lowers it.
     const w = lattice(6, 6);
-    const block = labels(36, Array.from({ length: 36 }, (_, i) => i).filter((i) => i % 6 < 3));
-    const checker = labels(36, Array.from({ length: 36 }, (_, i) => i).filter((i) => (Math.floor(i / 6) + (i % 6)) % 2 === 0));
+    const block = labels(
+      36,
+      Array.from({ length: 36 }, (_, i) => i).filter((i) => i % 6 < 3),
+    );
+    const checker = labels(
+      36,
+      Array.from({ length: 36 }, (_, i) => i).filter((i) => (Math.floor(i / 6) + (i % 6)) % 2 === 0),
+    );
     const a = joinCountTest(w, block, { rng: seededRng(5), permutations: 199 });
     const b = joinCountTest(w, checker, { rng: seededRng(5), permutations: 199 });
     expect(a.zBB!).toBeGreaterThan(4);
@@ -179,7 +189,10 @@ describe('join counts', () => {
     const hits = levels.map(() => 0);
     const runs = 300;
     for (let r = 0; r < runs; r++) {
-      const order = shuffleInPlace(Array.from({ length: 20 }, (_, i) => i), rng);
+      const order = shuffleInPlace(
+        Array.from({ length: 20 }, (_, i) => i),
+        rng,
+      );
       const t = joinCountTest(w, labels(20, order.slice(0, 5)), { rng, permutations: 199, exactLimit: 10 });
       levels.forEach((a, k) => {
         if (t.pPermutation <= a) hits[k]!++;
@@ -200,18 +213,32 @@ describe('stratified join counts without joins between strata', () => {
   it('match brute force over C(4,2) x C(5,2) placements for two separate blocks', () => {
     // Exhaustive enumeration: a row of 4 and a row of 5 (fence joins), positives permuted within rows.
     const ids = Array.from({ length: 9 }, (_, i) => `p${i}`);
-    const w = weightsFromEdges(ids, [[0, 1], [1, 2], [2, 3], [4, 5], [5, 6], [6, 7], [7, 8]], 'row', 'two rows');
+    const w = weightsFromEdges(
+      ids,
+      [
+        [0, 1],
+        [1, 2],
+        [2, 3],
+        [4, 5],
+        [5, 6],
+        [6, 7],
+        [7, 8],
+      ],
+      'row',
+      'two rows',
+    );
     const strata = [0, 0, 0, 0, 1, 1, 1, 1, 1];
     const positive = labels(9, [0, 1, 6, 8]);
     let sum = 0;
     let sumSq = 0;
     let count = 0;
-    for (const a of subsets(4, 2)) for (const b of subsets(5, 2)) {
-      const bb = joinCounts(w, labels(9, [...a, ...b.map((i) => i + 4)])).bb;
-      sum += bb;
-      sumSq += bb * bb;
-      count++;
-    }
+    for (const a of subsets(4, 2))
+      for (const b of subsets(5, 2)) {
+        const bb = joinCounts(w, labels(9, [...a, ...b.map((i) => i + 4)])).bb;
+        sum += bb;
+        sumSq += bb * bb;
+        count++;
+      }
     const m = stratifiedJoinCountMoments(w, strata, positive);
     expectClose(m.expectedBB, sum / count, { rel: 1e-12 }, 'block E(BB)');
     expectClose(m.varianceBB, sumSq / count - (sum / count) ** 2, { rel: 1e-9 }, 'block Var(BB)');

@@ -12,16 +12,24 @@ const x6 = [0, 1, 1, 0, 0, 0];
 
 function permutations<T>(items: T[]): T[][] {
   if (items.length <= 1) return [items];
-  return items.flatMap((item, i) => permutations([...items.slice(0, i), ...items.slice(i + 1)]).map((rest) => [item, ...rest]));
+  return items.flatMap((item, i) =>
+    permutations([...items.slice(0, i), ...items.slice(i + 1)]).map((rest) => [item, ...rest]),
+  );
 }
 
 function grid(r: number, c: number): SpatialWeights {
   const edges: [number, number][] = [];
-  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) {
-    if (j + 1 < c) edges.push([i * c + j, i * c + j + 1]);
-    if (i + 1 < r) edges.push([i * c + j, (i + 1) * c + j]);
-  }
-  return weightsFromEdges(Array.from({ length: r * c }, (_, i) => `g${i}`), edges, 'binary', 'grid');
+  for (let i = 0; i < r; i++)
+    for (let j = 0; j < c; j++) {
+      if (j + 1 < c) edges.push([i * c + j, i * c + j + 1]);
+      if (i + 1 < r) edges.push([i * c + j, (i + 1) * c + j]);
+    }
+  return weightsFromEdges(
+    Array.from({ length: r * c }, (_, i) => `g${i}`),
+    edges,
+    'binary',
+    'grid',
+  );
 }
 
 describe("Moran's I", () => {
@@ -62,8 +70,13 @@ describe("Moran's I", () => {
     // Oracle: turf default alpha -1 (weight d^-1), threshold 1e5 (all pairs), row standardisation;
     // the same weights here are distanceBandWeights(band 1e5, power 1, row).
     const pts = [
-      { id: 'a', x: 0, y: 0 }, { id: 'b', x: 1.5, y: 0.2 }, { id: 'c', x: 3, y: 1 }, { id: 'd', x: 0.5, y: 2 },
-      { id: 'e', x: 4, y: 2.5 }, { id: 'f', x: 2, y: 3 }, { id: 'g', x: 5, y: 0.5 },
+      { id: 'a', x: 0, y: 0 },
+      { id: 'b', x: 1.5, y: 0.2 },
+      { id: 'c', x: 3, y: 1 },
+      { id: 'd', x: 0.5, y: 2 },
+      { id: 'e', x: 4, y: 2.5 },
+      { id: 'f', x: 2, y: 3 },
+      { id: 'g', x: 5, y: 0.5 },
     ];
     const v = [10, 8.5, 2, 9, 0, 4, 0];
     const fc = featureCollection(pts.map((p, i) => point([p.x, p.y], { v: v[i] })));
@@ -81,17 +94,34 @@ describe("Moran's I", () => {
     const rng = seededRng(9);
     const loads = Array.from({ length: 20 }, () => (rng() < 0.4 ? 10 * rng() : 0));
     const base = moranTest(w, loads, { rng: seededRng(1), permutations: 0 });
-    const scaled = moranTest(w, loads.map((v) => 2.5 * v + 7), { rng: seededRng(1), permutations: 0 });
+    const scaled = moranTest(
+      w,
+      loads.map((v) => 2.5 * v + 7),
+      { rng: seededRng(1), permutations: 0 },
+    );
     expectClose(scaled.I!, base.I!, { rel: 1e-12 }, 'I under affine rescaling');
     expectClose(scaled.varianceRandomisation!, base.varianceRandomisation!, { rel: 1e-9 }, 'Var_R under rescaling');
     // Relabel: new index k holds old pen perm[k]; rebuild the same joins under the new indices.
-    const perm = shuffleInPlace(Array.from({ length: 20 }, (_, i) => i), seededRng(4));
+    const perm = shuffleInPlace(
+      Array.from({ length: 20 }, (_, i) => i),
+      seededRng(4),
+    );
     const where = new Array<number>(20);
     perm.forEach((old, k) => (where[old] = k));
     const edges: [number, number][] = [];
-    for (let i = 0; i < 20; i++) for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) edges.push([where[i]!, where[w.neighbours[a]!]!]);
-    const relabelled = weightsFromEdges(perm.map((old) => `g${old}`), edges, 'binary', 'relabelled');
-    const r = moranTest(relabelled, perm.map((old) => loads[old]!), { rng: seededRng(1), permutations: 0 });
+    for (let i = 0; i < 20; i++)
+      for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) edges.push([where[i]!, where[w.neighbours[a]!]!]);
+    const relabelled = weightsFromEdges(
+      perm.map((old) => `g${old}`),
+      edges,
+      'binary',
+      'relabelled',
+    );
+    const r = moranTest(
+      relabelled,
+      perm.map((old) => loads[old]!),
+      { rng: seededRng(1), permutations: 0 },
+    );
     expectClose(r.I!, base.I!, { rel: 1e-12 }, 'I under relabelling');
   });
 

@@ -31,7 +31,8 @@ describe('Bernoulli spatial scan', () => {
   it('finds a planted cluster in a 2 x 20 barn and lists a non-overlapping secondary cluster', () => {
     // Property: a block of 8 positive pens among 40 with 2 stray positives is the most likely cluster.
     const pens = [];
-    for (let row = 0; row < 2; row++) for (let p = 0; p < 20; p++) pens.push({ id: `${row ? 'B' : 'A'}${p + 1}`, x: p + 0.5, y: row ? 2 : 0.5 });
+    for (let row = 0; row < 2; row++)
+      for (let p = 0; p < 20; p++) pens.push({ id: `${row ? 'B' : 'A'}${p + 1}`, x: p + 0.5, y: row ? 2 : 0.5 });
     const planted = new Set(['A5', 'A6', 'A7', 'A8', 'B5', 'B6', 'B7', 'B8']);
     const positive = pens.map((p) => planted.has(p.id) || p.id === 'A18' || p.id === 'B19');
     const s = bernoulliScan(pens, positive, { rng: seededRng(7), permutations: 999 });
@@ -52,7 +53,11 @@ describe('Bernoulli spatial scan', () => {
 
   it('reports no cluster when no pen or every pen is positive', () => {
     for (const flag of [false, true]) {
-      const s = bernoulliScan(row6, row6.map(() => flag), { rng: seededRng(1), permutations: 9 });
+      const s = bernoulliScan(
+        row6,
+        row6.map(() => flag),
+        { rng: seededRng(1), permutations: 9 },
+      );
       expect(s.mostLikely).toBeNull();
     }
   });

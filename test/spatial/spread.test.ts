@@ -7,7 +7,9 @@ describe('spread across rounds', () => {
   it('calls a new positive next to an earlier one adjacent spread', () => {
     const s = summariseSpread([at('A2', 1), at('A3', 2)], [at('A2', 1)]);
     expect(s.pattern).toBe('adjacent-spread');
-    expect(s.newPositives).toEqual([{ id: 'A3', barn: 'B1', nearestEarlierDistance: 1, nearestEarlierPen: 'A2', sameBarn: true, kind: 'adjacent' }]);
+    expect(s.newPositives).toEqual([
+      { id: 'A3', barn: 'B1', nearestEarlierDistance: 1, nearestEarlierPen: 'A2', sameBarn: true, kind: 'adjacent' },
+    ]);
   });
 
   it('calls a new positive far from every earlier positive a distant new focus, even beside adjacent spread', () => {

@@ -1,20 +1,35 @@
 import { describe, expect, it } from 'vitest';
 import type { BarnLayout } from '../../src/domain/layout.js';
 import { seededRng } from '../../src/util/random.js';
-import { compareWithRandomPlacement, detectionProbability, simulateOutbreaks } from '../../src/spatial/spreadDetection.js';
+import {
+  compareWithRandomPlacement,
+  detectionProbability,
+  simulateOutbreaks,
+} from '../../src/spatial/spreadDetection.js';
 import { logChoose } from '../../src/spatial/combinatorics.js';
 import { contactWeights } from '../../src/spatial/weights.js';
 import { expandLayout } from '../../src/domain/layout.js';
 import { expectClose } from '../helpers/expectClose.js';
 
 const barn = (pensPerRow: number): BarnLayout => ({
-  rows: 2, pensPerRow, numbering: 'per-row', rowLabels: ['A', 'B'], padDigits: 0,
-  penWidth: 1, penDepth: 1, alleyWidth: 0.5, gapsAfter: [], gapWidth: 1, empty: [], outOfUse: [],
+  rows: 2,
+  pensPerRow,
+  numbering: 'per-row',
+  rowLabels: ['A', 'B'],
+  padDigits: 0,
+  penWidth: 1,
+  penDepth: 1,
+  alleyWidth: 0.5,
+  gapsAfter: [],
+  gapWidth: 1,
+  empty: [],
+  outOfUse: [],
 });
 const idsOf = (layout: BarnLayout) => expandLayout(layout).map((p) => p.id);
 
 /** Cameron & Baldock 1998, Prev Vet Med 34:1-17 (hypergeometric form), computed inline: 1 - C(N-d, n) / C(N, n). */
-const hypergeometricDetection = (N: number, d: number, n: number) => 1 - Math.exp(logChoose(N - d, n) - logChoose(N, n));
+const hypergeometricDetection = (N: number, d: number, n: number) =>
+  1 - Math.exp(logChoose(N - d, n) - logChoose(N, n));
 
 describe('spatially aware detection by simulated outbreaks', () => {
   it('converges to the hypergeometric 1 - C(N-d,n)/C(N,n) when spread has no spatial structure', () => {
@@ -25,9 +40,18 @@ describe('spatially aware detection by simulated outbreaks', () => {
     const ids = idsOf(layout);
     const graph = contactWeights(layout, ids, 'queen', 'binary');
     const ropes = ['A1', 'A4', 'A9', 'B2', 'B12', 'B18'];
-    for (const [d, expected] of [[9, 0.848028], [1, 1 / 6]] as const) {
+    for (const [d, expected] of [
+      [9, 0.848028],
+      [1, 1 / 6],
+    ] as const) {
       expectClose(hypergeometricDetection(36, d, 6), expected, { rel: 1e-6 }, `method 1 N=36 d=${d} n=6`);
-      const o = simulateOutbreaks(graph, { infected: d, beta: 0, background: 0.2, realisations: 20_000, rng: seededRng(d) });
+      const o = simulateOutbreaks(graph, {
+        infected: d,
+        beta: 0,
+        background: 0.2,
+        realisations: 20_000,
+        rng: seededRng(d),
+      });
       const est = detectionProbability(o, ropes, 1);
       expectClose(est.p, expected, { abs: 4 * est.standardError }, `Monte Carlo vs hypergeometric d=${d}`);
     }
@@ -58,7 +82,13 @@ describe('spatially aware detection by simulated outbreaks', () => {
     // (Cameron & Baldock 1998, Prev Vet Med 34:1-17), N=36 d=9 n=6 -> 0.807354.
     const layout = barn(18);
     const graph = contactWeights(layout, idsOf(layout), 'queen', 'binary');
-    const o = simulateOutbreaks(graph, { infected: 9, beta: 0, background: 0.3, realisations: 20_000, rng: seededRng(12) });
+    const o = simulateOutbreaks(graph, {
+      infected: 9,
+      beta: 0,
+      background: 0.3,
+      realisations: 20_000,
+      rng: seededRng(12),
+    });
     const est = detectionProbability(o, ['A1', 'A7', 'A13', 'B4', 'B10', 'B16'], 0.9);
     expectClose(est.p, 0.807354, { abs: 4 * est.standardError }, 'Monte Carlo vs method 2');
   });
@@ -68,7 +98,13 @@ describe('spatially aware detection by simulated outbreaks', () => {
     // the efficiency of systematic samples under positive autocorrelation. Compared on common outbreaks.
     const layout = barn(40);
     const graph = contactWeights(layout, idsOf(layout), 'queen', 'binary');
-    const o = simulateOutbreaks(graph, { infected: 6, beta: 0.5, background: 0, realisations: 5000, rng: seededRng(8) });
+    const o = simulateOutbreaks(graph, {
+      infected: 6,
+      beta: 0.5,
+      background: 0,
+      realisations: 5000,
+      rng: seededRng(8),
+    });
     const ropes = Array.from({ length: 10 }, (_, i) => `${i % 2 === 0 ? 'A' : 'B'}${1 + 4 * i}`);
     const cmp = compareWithRandomPlacement(o, ropes, 0.9, seededRng(9));
     expect(cmp.difference.value).toBeGreaterThan(3 * cmp.difference.standardError);
@@ -76,17 +112,32 @@ describe('spatially aware detection by simulated outbreaks', () => {
     // Random sets of 10 of 80 pens: spatial structure does not change the average over random
     // sets, which is method 2 with d = 6: sum_x Hyp(x; 80, 6, 10) (1 - 0.1^x), computed inline.
     let expected = 0;
-    for (let x = 0; x <= 6; x++) expected += Math.exp(logChoose(6, x) + logChoose(74, 10 - x) - logChoose(80, 10)) * (1 - 0.1 ** x);
+    for (let x = 0; x <= 6; x++)
+      expected += Math.exp(logChoose(6, x) + logChoose(74, 10 - x) - logChoose(80, 10)) * (1 - 0.1 ** x);
     expectClose(cmp.random.p, expected, { abs: 4 * cmp.random.standardError }, 'random placement = method 2');
   });
 
   it('repeats exactly with the same seed and rejects unknown pens', () => {
     const layout = barn(10);
     const graph = contactWeights(layout, idsOf(layout), 'rook', 'binary');
-    const a = simulateOutbreaks(graph, { infected: 3, beta: 0.3, background: 0.01, realisations: 100, rng: seededRng(5) });
-    const b = simulateOutbreaks(graph, { infected: 3, beta: 0.3, background: 0.01, realisations: 100, rng: seededRng(5) });
+    const a = simulateOutbreaks(graph, {
+      infected: 3,
+      beta: 0.3,
+      background: 0.01,
+      realisations: 100,
+      rng: seededRng(5),
+    });
+    const b = simulateOutbreaks(graph, {
+      infected: 3,
+      beta: 0.3,
+      background: 0.01,
+      realisations: 100,
+      rng: seededRng(5),
+    });
     expect(a.bits).toEqual(b.bits);
     expect(() => detectionProbability(a, ['Z9'], 0.9)).toThrow(/Z9/);
-    expect(() => simulateOutbreaks(graph, { infected: 0, beta: 0.3, background: 0, realisations: 1, rng: seededRng(1) })).toThrow(/infected/);
+    expect(() =>
+      simulateOutbreaks(graph, { infected: 0, beta: 0.3, background: 0, realisations: 1, rng: seededRng(1) }),
+    ).toThrow(/infected/);
   });
 });

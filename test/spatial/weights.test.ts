@@ -14,8 +14,18 @@ import { expectClose } from '../helpers/expectClose.js';
 import { expandLayout } from '../../src/domain/layout.js';
 
 const barn: BarnLayout = {
-  rows: 2, pensPerRow: 4, numbering: 'per-row', rowLabels: ['A', 'B'], padDigits: 0,
-  penWidth: 1, penDepth: 1, alleyWidth: 0.5, gapsAfter: [], gapWidth: 1, empty: [], outOfUse: [],
+  rows: 2,
+  pensPerRow: 4,
+  numbering: 'per-row',
+  rowLabels: ['A', 'B'],
+  padDigits: 0,
+  penWidth: 1,
+  penDepth: 1,
+  alleyWidth: 0.5,
+  gapsAfter: [],
+  gapWidth: 1,
+  empty: [],
+  outOfUse: [],
 };
 const all = ['A1', 'A2', 'A3', 'A4', 'B1', 'B2', 'B3', 'B4'];
 const row6 = [0, 1, 2, 3, 4, 5].map((x) => ({ id: `P${x + 1}`, x, y: 0 }));
@@ -45,12 +55,22 @@ describe('spatial weights', () => {
   it('row-standardises each row to sum 1', () => {
     const w = contactWeights(barn, all, 'queen', 'row');
     const dense = denseWeights(w);
-    for (const row of dense) expectClose(row.reduce((s, v) => s + v, 0), 1, { abs: 1e-12 }, 'row sum');
+    for (const row of dense)
+      expectClose(
+        row.reduce((s, v) => s + v, 0),
+        1,
+        { abs: 1e-12 },
+        'row sum',
+      );
   });
 
   it('symmetrises explicit neighbour lists and rejects unknown ids', () => {
     const w = listWeights(['a', 'b', 'c'], { a: ['b'] }, 'binary');
-    expect(denseWeights(w)).toEqual([[0, 1, 0], [1, 0, 0], [0, 0, 0]]);
+    expect(denseWeights(w)).toEqual([
+      [0, 1, 0],
+      [1, 0, 0],
+      [0, 0, 0],
+    ]);
     expect(w.isolates).toEqual(['c']);
     expect(() => listWeights(['a', 'b'], { a: ['z'] }, 'binary')).toThrow(/z/);
   });

@@ -46,7 +46,12 @@ describe('hypergeometric detection (perfect rope)', () => {
     // (its n=1 rows miss d/N by that much), so a tighter bound would test @stdlib, not this engine.
     expect(oracle.hypergeometric.length).toBeGreaterThan(300);
     for (const row of oracle.hypergeometric) {
-      expectClose(hypergeometricDetection(row.N, row.n, row.d), row.detect, { abs: 1e-9 }, `N=${row.N} n=${row.n} d=${row.d}`);
+      expectClose(
+        hypergeometricDetection(row.N, row.n, row.d),
+        row.detect,
+        { abs: 1e-9 },
+        `N=${row.N} n=${row.n} d=${row.d}`,
+      );
     }
   });
 
@@ -57,13 +62,20 @@ describe('hypergeometric detection (perfect rope)', () => {
       const N = 1 + randomInt(rng, 500);
       const n = randomInt(rng, N + 1);
       const d = randomInt(rng, N + 1);
-      expectClose(hypergeometricDetection(N, n, d), 1 - hypergeometricCdf(0, N, d, n), { abs: 1e-12 }, `N=${N} n=${n} d=${d}`);
+      expectClose(
+        hypergeometricDetection(N, n, d),
+        1 - hypergeometricCdf(0, N, d, n),
+        { abs: 1e-12 },
+        `N=${N} n=${n} d=${d}`,
+      );
     }
   });
 
   it('rejects ropes beyond the barn, fractional pens and an empty barn with the shared message grammar', () => {
     // Team rule: "`sampled` must be an integer in [0, pens], got 40".
-    expect(() => hypergeometricDetection(36, 40, 1)).toThrow(new RangeError('`sampled` must be an integer in [0, pens], got 40'));
+    expect(() => hypergeometricDetection(36, 40, 1)).toThrow(
+      new RangeError('`sampled` must be an integer in [0, pens], got 40'),
+    );
     expect(() => hypergeometricDetection(36, 6, 37)).toThrow(/`infected` must be an integer in \[0, pens\], got 37/);
     expect(() => hypergeometricDetection(36.5, 6, 1)).toThrow(RangeError);
     expect(() => hypergeometricDetection(0, 0, 0)).toThrow(/`pens` must be an integer/);
@@ -83,10 +95,20 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
   it('equals n Se / N for a single infected pen in any barn', () => {
     // Cameron & Baldock 1998 with d = 1: P = (n/N) Se, since X is 0 or 1 with P(X=1) = n/N.
     fc.assert(
-      fc.property(fc.integer({ min: 1, max: 100_000 }), fc.double({ min: 0.01, max: 0.99, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), (N, se, u) => {
-        const n = Math.floor(u * N);
-        expectClose(imperfectDetection(N, n, 1, se), (n / N) * se, { rel: 1e-11, abs: 1e-300 }, `N=${N} n=${n} d=1 Se=${se}`);
-      }),
+      fc.property(
+        fc.integer({ min: 1, max: 100_000 }),
+        fc.double({ min: 0.01, max: 0.99, noNaN: true }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        (N, se, u) => {
+          const n = Math.floor(u * N);
+          expectClose(
+            imperfectDetection(N, n, 1, se),
+            (n / N) * se,
+            { rel: 1e-11, abs: 1e-300 },
+            `N=${N} n=${n} d=1 Se=${se}`,
+          );
+        },
+      ),
       { numRuns: 200, seed: 11 },
     );
   });
@@ -94,7 +116,12 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
   it('agrees with the committed @stdlib fixture (sum of pmf terms) to 1e-9', () => {
     // Oracle: oracle.json "imperfect": sum_x @stdlib pmf(x) [1 - (1-Se)^x]; same 1e-9 reasoning as above.
     for (const row of oracle.imperfect) {
-      expectClose(imperfectDetection(row.N, row.n, row.d, row.se), row.detect, { abs: 1e-9 }, `N=${row.N} n=${row.n} d=${row.d} Se=${row.se}`);
+      expectClose(
+        imperfectDetection(row.N, row.n, row.d, row.se),
+        row.detect,
+        { abs: 1e-9 },
+        `N=${row.N} n=${row.n} d=${row.d} Se=${row.se}`,
+      );
     }
   });
 
@@ -106,37 +133,55 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
       const d = randomInt(rng, N + 1);
       const se = rng();
       let expected = 0;
-      for (let x = Math.max(0, n + d - N); x <= Math.min(n, d); x++) expected += hypergeometricPmf(x, N, d, n) * (1 - (1 - se) ** x);
+      for (let x = Math.max(0, n + d - N); x <= Math.min(n, d); x++)
+        expected += hypergeometricPmf(x, N, d, n) * (1 - (1 - se) ** x);
       expectClose(imperfectDetection(N, n, d, se), expected, { abs: 1e-12 }, `N=${N} n=${n} d=${d} Se=${se}`);
     }
   });
 
   it('reduces to the perfect-rope formula when Se = 1 and to zero when Se = 0', () => {
     // Definition: (1 - Se)^x is 0 for x >= 1 when Se = 1, and 1 when Se = 0.
-    expectClose(imperfectDetection(36, 6, 9, 1), hypergeometricDetection(36, 6, 9), { rel: 1e-15 }, 'N=36 n=6 d=9 Se=1');
+    expectClose(
+      imperfectDetection(36, 6, 9, 1),
+      hypergeometricDetection(36, 6, 9),
+      { rel: 1e-15 },
+      'N=36 n=6 d=9 Se=1',
+    );
     expect(imperfectDetection(36, 6, 9, 0)).toBe(0);
   });
 
   it('gives 1 - (1 - Se)^d for a census', () => {
     // By hand: with a rope in every pen, X = d surely.
-    expectClose(detectionFor({ pens: 40, infected: 3, sensitivity: 0.7 })(40), 1 - 0.3 ** 3, { rel: 1e-13 }, 'N=40 n=40 d=3 Se=0.7');
+    expectClose(
+      detectionFor({ pens: 40, infected: 3, sensitivity: 0.7 })(40),
+      1 - 0.3 ** 3,
+      { rel: 1e-13 },
+      'N=40 n=40 d=3 Se=0.7',
+    );
   });
 
   it('never decreases when ropes, infected pens or sensitivity increase', () => {
     // Invariant (STYLE.md): monotone in n, d, Se.
     fc.assert(
-      fc.property(fc.integer({ min: 1, max: 400 }), fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), (N, un, ud, se, bump) => {
-        const n = Math.min(N - 1, Math.floor(un * N));
-        const d = Math.min(N - 1, Math.floor(ud * N));
-        const p = imperfectDetection(N, n, d, se);
-        const label = `N=${N} n=${n} d=${d} Se=${se}`;
-        expect(p).toBeGreaterThanOrEqual(0);
-        expect(p).toBeLessThanOrEqual(1);
-        expect(imperfectDetection(N, n + 1, d, se), `n+1 ${label}`).toBeGreaterThanOrEqual(p - 1e-14);
-        expect(imperfectDetection(N, n, d + 1, se), `d+1 ${label}`).toBeGreaterThanOrEqual(p - 1e-14);
-        const higher = se + (1 - se) * bump;
-        expect(imperfectDetection(N, n, d, higher), `Se=${higher} ${label}`).toBeGreaterThanOrEqual(p - 1e-14);
-      }),
+      fc.property(
+        fc.integer({ min: 1, max: 400 }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        (N, un, ud, se, bump) => {
+          const n = Math.min(N - 1, Math.floor(un * N));
+          const d = Math.min(N - 1, Math.floor(ud * N));
+          const p = imperfectDetection(N, n, d, se);
+          const label = `N=${N} n=${n} d=${d} Se=${se}`;
+          expect(p).toBeGreaterThanOrEqual(0);
+          expect(p).toBeLessThanOrEqual(1);
+          expect(imperfectDetection(N, n + 1, d, se), `n+1 ${label}`).toBeGreaterThanOrEqual(p - 1e-14);
+          expect(imperfectDetection(N, n, d + 1, se), `d+1 ${label}`).toBeGreaterThanOrEqual(p - 1e-14);
+          const higher = se + (1 - se) * bump;
+          expect(imperfectDetection(N, n, d, higher), `Se=${higher} ${label}`).toBeGreaterThanOrEqual(p - 1e-14);
+        },
+      ),
       { numRuns: 300, seed: 12 },
     );
   });
@@ -155,7 +200,9 @@ describe('imperfect rope detection (Cameron & Baldock 1998)', () => {
     const detect = detectionFor({ pens: 36, infected: 9, sensitivity: 0.9 });
     expectClose(detect(6), 0.807354, { abs: 5e-7 }, 'N=36 n=6 d=9 Se=0.9 via factory'); // Cameron & Baldock 1998, Prev Vet Med 34:1-17
     expect(() => detect(37)).toThrow('`sampled` must be an integer in [0, pens], got 37');
-    expect(() => detectionFor({ pens: 36, infected: 9, sensitivity: 1.2 })).toThrow('`sensitivity` must be a number in [0, 1], got 1.2');
+    expect(() => detectionFor({ pens: 36, infected: 9, sensitivity: 1.2 })).toThrow(
+      '`sensitivity` must be a number in [0, 1], got 1.2',
+    );
   });
 });
 
@@ -169,7 +216,12 @@ describe('binomial detection and false alarms', () => {
   it('agrees with the committed @stdlib binomial fixture', () => {
     // Oracle: oracle.json "binomial", 1 - @stdlib binomial cdf(0; n, p Se).
     for (const row of oracle.binomial) {
-      expectClose(binomialDetection(row.p, row.n, row.se), row.detect, { rel: 1e-12, abs: 1e-15 }, `p=${row.p} n=${row.n} Se=${row.se}`);
+      expectClose(
+        binomialDetection(row.p, row.n, row.se),
+        row.detect,
+        { rel: 1e-12, abs: 1e-15 },
+        `p=${row.p} n=${row.n} Se=${row.se}`,
+      );
     }
   });
 

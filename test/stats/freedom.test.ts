@@ -13,7 +13,9 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
   it('discounting first gives the check value worked by hand: prior 0.495, posterior 0.8305369', () => {
     // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97 (by hand): SSe = 0.8, PI = 0.01, prior 0.5, discount first.
     // By hand: 0.5 * 0.99 = 0.495; 0.495 / (1 - 0.8 * 0.505) = 0.495 / 0.596 = 0.83053691.
-    const result = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'discount-then-update' }, [{ sensitivity: 0.8 }]);
+    const result = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'discount-then-update' }, [
+      { sensitivity: 0.8 },
+    ]);
     expectClose(result.rounds[0]!.prior, 0.495, { rel: 1e-14 }, 'discounted prior');
     expectClose(result.rounds[0]!.posterior, 0.8305369, { abs: 5e-8 }, 'posterior (7 digits)');
     expectClose(result.rounds[0]!.posterior, 0.495 / 0.596, { rel: 1e-14 }, 'posterior (by hand)');
@@ -24,7 +26,10 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
   it('updating first (textbook order) follows the hand computation over two rounds', () => {
     // By hand: 0.5 / (1 - 0.8 * 0.5) = 0.5 / 0.6 = 0.833333; * 0.99 = 0.825;
     // 0.825 / (1 - 0.8 * 0.175) = 0.825 / 0.86 = 0.959302; * 0.99 = 0.949709.
-    const result = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount' }, [{ sensitivity: 0.8 }, { sensitivity: 0.8 }]);
+    const result = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount' }, [
+      { sensitivity: 0.8 },
+      { sensitivity: 0.8 },
+    ]);
     const [first, second] = result.rounds;
     expectClose(first!.prior, 0.5, { rel: 1e-15 }, 'round 1 prior');
     expectClose(first!.posterior, 0.5 / 0.6, { rel: 1e-14 }, 'round 1 posterior');
@@ -59,10 +64,18 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
     expect(textbook.rounds[1]!.nextPrior).toBe(0.5);
     // By hand: round 3 repeats round 1, 0.5 / 0.6.
     expectClose(textbook.rounds[2]!.posterior, 0.5 / 0.6, { rel: 1e-14 }, 'after reset, update first');
-    const discountFirst = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'discount-then-update' }, rounds);
+    const discountFirst = freedomAcrossRounds(
+      { prior: 0.5, introduction: 0.01, order: 'discount-then-update' },
+      rounds,
+    );
     // By hand: the restart is discounted like the start: 0.495 -> 0.495 / 0.596.
     expectClose(discountFirst.rounds[2]!.prior, 0.495, { rel: 1e-14 }, 'after reset, discount first');
-    expectClose(discountFirst.rounds[2]!.posterior, 0.495 / 0.596, { rel: 1e-14 }, 'after reset, discount first posterior');
+    expectClose(
+      discountFirst.rounds[2]!.posterior,
+      0.495 / 0.596,
+      { rel: 1e-14 },
+      'after reset, discount first posterior',
+    );
   });
 
   it('scales the introduction risk with the days actually elapsed, so a late round lowers confidence', () => {
@@ -70,8 +83,14 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
     expectClose(introductionOver(0.01, 56, 28), 0.0199, { rel: 1e-13 }, '56 of 28 days');
     expectClose(introductionOver(0.01, 14, 28), 1 - Math.sqrt(0.99), { rel: 1e-13 }, '14 of 28 days');
     expect(introductionOver(0.01, 0, 28)).toBe(0);
-    const onTime = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount', intervalDays: 28 }, [{ sensitivity: 0.8 }, { sensitivity: 0.8, elapsedDays: 28 }]);
-    const late = freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount', intervalDays: 28 }, [{ sensitivity: 0.8 }, { sensitivity: 0.8, elapsedDays: 56 }]);
+    const onTime = freedomAcrossRounds(
+      { prior: 0.5, introduction: 0.01, order: 'update-then-discount', intervalDays: 28 },
+      [{ sensitivity: 0.8 }, { sensitivity: 0.8, elapsedDays: 28 }],
+    );
+    const late = freedomAcrossRounds(
+      { prior: 0.5, introduction: 0.01, order: 'update-then-discount', intervalDays: 28 },
+      [{ sensitivity: 0.8 }, { sensitivity: 0.8, elapsedDays: 56 }],
+    );
     // By hand: the late round starts from (0.5 / 0.6) * 0.99^2 = 0.81675.
     expectClose(late.rounds[1]!.prior, (0.5 / 0.6) * 0.9801, { rel: 1e-13 }, 'late prior');
     expectClose(onTime.rounds[1]!.prior, 0.825, { rel: 1e-13 }, 'on-time prior');
@@ -85,7 +104,10 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
     fc.assert(
       fc.property(
         fc.double({ min: 0, max: 1, noNaN: true }),
-        fc.array(fc.record({ sensitivity: fc.double({ min: 0, max: 1, noNaN: true }), positive: fc.boolean() }), { minLength: 1, maxLength: 12 }),
+        fc.array(fc.record({ sensitivity: fc.double({ min: 0, max: 1, noNaN: true }), positive: fc.boolean() }), {
+          minLength: 1,
+          maxLength: 12,
+        }),
         fc.double({ min: 0, max: 1, noNaN: true }),
         fc.double({ min: 0, max: 1, noNaN: true }),
         order,
@@ -98,8 +120,12 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
               expect(v).toBeGreaterThanOrEqual(0);
               expect(v).toBeLessThanOrEqual(1);
             }
-            expect(high.rounds[i]!.posterior, `round ${i} PI ${pi} -> ${higher}`).toBeLessThanOrEqual(step.posterior + 1e-15);
-            expect(high.rounds[i]!.nextPrior, `round ${i} PI ${pi} -> ${higher}`).toBeLessThanOrEqual(step.nextPrior + 1e-15);
+            expect(high.rounds[i]!.posterior, `round ${i} PI ${pi} -> ${higher}`).toBeLessThanOrEqual(
+              step.posterior + 1e-15,
+            );
+            expect(high.rounds[i]!.nextPrior, `round ${i} PI ${pi} -> ${higher}`).toBeLessThanOrEqual(
+              step.nextPrior + 1e-15,
+            );
           });
         },
       ),
@@ -114,9 +140,17 @@ describe('probability of freedom across rounds (Martin, Cameron & Greiner 2007)'
   });
 
   it('rejects an unknown order and out-of-range probabilities', () => {
-    expect(() => freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'sideways' as FreedomOrder }, [])).toThrow(/`order` must be one of/);
-    expect(() => freedomAcrossRounds({ prior: 1.5, introduction: 0.01, order: 'update-then-discount' }, [])).toThrow('`prior` must be a number in [0, 1], got 1.5');
-    expect(() => freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount' }, [{ sensitivity: -1 }])).toThrow('`rounds[0].sensitivity` must be a number in [0, 1], got -1');
-    expect(freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount' }, []).equilibrium).toBeNull();
+    expect(() =>
+      freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'sideways' as FreedomOrder }, []),
+    ).toThrow(/`order` must be one of/);
+    expect(() => freedomAcrossRounds({ prior: 1.5, introduction: 0.01, order: 'update-then-discount' }, [])).toThrow(
+      '`prior` must be a number in [0, 1], got 1.5',
+    );
+    expect(() =>
+      freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount' }, [{ sensitivity: -1 }]),
+    ).toThrow('`rounds[0].sensitivity` must be a number in [0, 1], got -1');
+    expect(
+      freedomAcrossRounds({ prior: 0.5, introduction: 0.01, order: 'update-then-discount' }, []).equilibrium,
+    ).toBeNull();
   });
 });

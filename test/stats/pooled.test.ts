@@ -1,6 +1,12 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { imperfectDetection, pooledBinomialDetection, pooledDetection, pooledDetectionOfPools, poolSizes } from '../../src/stats/index.js';
+import {
+  imperfectDetection,
+  pooledBinomialDetection,
+  pooledDetection,
+  pooledDetectionOfPools,
+  poolSizes,
+} from '../../src/stats/index.js';
 import { expectClose } from '../helpers/expectClose.js';
 
 /**
@@ -55,7 +61,12 @@ describe('pooled ropes', () => {
         [0.9, 1],
         [0.6, 0.95],
       ] as const) {
-        expectClose(pooledDetection(pens, sampled, infected, poolSize, se, sp), enumerated(pens, sampled, infected, poolSize, se, sp), { abs: 1e-13 }, `N=${pens} n=${sampled} d=${infected} k=${poolSize} Se=${se} Sp=${sp}`);
+        expectClose(
+          pooledDetection(pens, sampled, infected, poolSize, se, sp),
+          enumerated(pens, sampled, infected, poolSize, se, sp),
+          { abs: 1e-13 },
+          `N=${pens} n=${sampled} d=${infected} k=${poolSize} Se=${se} Sp=${sp}`,
+        );
       }
     }
   });
@@ -63,11 +74,22 @@ describe('pooled ropes', () => {
   it('is the imperfect-test detection when each pool holds one rope', () => {
     // Pools of one rope with PSe = Se, PSp = 1: Cameron & Baldock 1998's finite form.
     fc.assert(
-      fc.property(fc.integer({ min: 1, max: 60 }), fc.nat(), fc.nat(), fc.double({ min: 0, max: 1, noNaN: true }), (pens, n, d, se) => {
-        const sampled = n % (pens + 1);
-        const infected = d % (pens + 1);
-        expectClose(pooledDetection(pens, sampled, infected, 1, se, 1), imperfectDetection(pens, sampled, infected, se), { abs: 1e-12 }, `N=${pens} n=${sampled} d=${infected} Se=${se}`);
-      }),
+      fc.property(
+        fc.integer({ min: 1, max: 60 }),
+        fc.nat(),
+        fc.nat(),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        (pens, n, d, se) => {
+          const sampled = n % (pens + 1);
+          const infected = d % (pens + 1);
+          expectClose(
+            pooledDetection(pens, sampled, infected, 1, se, 1),
+            imperfectDetection(pens, sampled, infected, se),
+            { abs: 1e-12 },
+            `N=${pens} n=${sampled} d=${infected} Se=${se}`,
+          );
+        },
+      ),
       { seed: 11, numRuns: 300 },
     );
   });
@@ -89,13 +111,31 @@ describe('pooled ropes', () => {
   });
 
   it('takes pools of any sizes and accuracies: equal pools are pooledDetection, and in a very large barn the epiR check value', () => {
-    const pools = (sizes: readonly number[], se: number, sp: number) => sizes.map((size) => ({ size, sensitivity: se, specificity: sp }));
-    expectClose(pooledDetectionOfPools(40, 4, pools([5, 5, 5, 5], 0.7, 0.97)), pooledDetection(40, 20, 4, 5, 0.7, 0.97), { abs: 1e-14 }, 'N=40 d=4 four pools of 5');
+    const pools = (sizes: readonly number[], se: number, sp: number) =>
+      sizes.map((size) => ({ size, sensitivity: se, specificity: sp }));
+    expectClose(
+      pooledDetectionOfPools(40, 4, pools([5, 5, 5, 5], 0.7, 0.97)),
+      pooledDetection(40, 20, 4, 5, 0.7, 0.97),
+      { abs: 1e-14 },
+      'N=40 d=4 four pools of 5',
+    );
     // epiR 2.0.57 rsu.sep.rspool(r = 5, k = 3, pstar = 0.1, pse = 0.9, psp = 1) = 0.752887, approached as N grows (d/N = 0.1).
-    expectClose(pooledDetectionOfPools(1_000_000, 100_000, pools([3, 3, 3, 3, 3], 0.9, 1)), 0.752887, { abs: 1e-5 }, 'N=1e6 d=1e5 five pools of 3');
+    expectClose(
+      pooledDetectionOfPools(1_000_000, 100_000, pools([3, 3, 3, 3, 3], 0.9, 1)),
+      0.752887,
+      { abs: 1e-5 },
+      'N=1e6 d=1e5 five pools of 3',
+    );
     // The order of the pools does not matter (the partition of the roped pens is exchangeable).
     const mixed = [...pools([3, 2], 0.7, 0.98), ...pools([1, 1], 0.8, 1)];
-    expectClose(pooledDetectionOfPools(12, 3, mixed), pooledDetectionOfPools(12, 3, [...mixed].reverse()), { abs: 1e-14 }, 'order of pools');
-    expect(() => pooledDetectionOfPools(4, 1, pools([3, 2], 0.9, 1))).toThrow('`sampled` must be an integer in [0, pens], got 5');
+    expectClose(
+      pooledDetectionOfPools(12, 3, mixed),
+      pooledDetectionOfPools(12, 3, [...mixed].reverse()),
+      { abs: 1e-14 },
+      'order of pools',
+    );
+    expect(() => pooledDetectionOfPools(4, 1, pools([3, 2], 0.9, 1))).toThrow(
+      '`sampled` must be an integer in [0, pens], got 5',
+    );
   });
 });

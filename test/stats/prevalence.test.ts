@@ -18,11 +18,21 @@ describe('beta quantile and incomplete beta', () => {
   it('matches the binomial tail identity I_p(k, n-k+1) = P(Bin(n, p) >= k) against @stdlib', () => {
     // Identity: Abramowitz & Stegun 26.5.24; oracle @stdlib binomial cdf.
     fc.assert(
-      fc.property(fc.integer({ min: 1, max: 400 }), fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: 0.001, max: 0.999, noNaN: true }), (n, uk, p) => {
-        const k = 1 + Math.floor(uk * (n - 1));
-        const expected = 1 - binomialCdf(k - 1, n, p);
-        expectClose(regularizedIncompleteBeta(p, k, n - k + 1), expected, { rel: 1e-9, abs: 1e-13 }, `p=${p} k=${k} n=${n}`);
-      }),
+      fc.property(
+        fc.integer({ min: 1, max: 400 }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.double({ min: 0.001, max: 0.999, noNaN: true }),
+        (n, uk, p) => {
+          const k = 1 + Math.floor(uk * (n - 1));
+          const expected = 1 - binomialCdf(k - 1, n, p);
+          expectClose(
+            regularizedIncompleteBeta(p, k, n - k + 1),
+            expected,
+            { rel: 1e-9, abs: 1e-13 },
+            `p=${p} k=${k} n=${n}`,
+          );
+        },
+      ),
       { numRuns: 300, seed: 51 },
     );
   });
@@ -30,10 +40,15 @@ describe('beta quantile and incomplete beta', () => {
   it('agrees with @stdlib beta quantile over integer and fractional shapes', () => {
     // Oracle: @stdlib/stats-base-dists-beta-quantile at test time.
     fc.assert(
-      fc.property(fc.double({ min: 1e-6, max: 1 - 1e-6, noNaN: true }), fc.double({ min: 0.2, max: 500, noNaN: true }), fc.double({ min: 0.2, max: 500, noNaN: true }), (p, a, b) => {
-        const expected = stdlibBetaQuantile(p, a, b);
-        expectClose(betaQuantile(p, a, b), expected, { rel: 1e-9, abs: 1e-14 }, `p=${p} a=${a} b=${b}`);
-      }),
+      fc.property(
+        fc.double({ min: 1e-6, max: 1 - 1e-6, noNaN: true }),
+        fc.double({ min: 0.2, max: 500, noNaN: true }),
+        fc.double({ min: 0.2, max: 500, noNaN: true }),
+        (p, a, b) => {
+          const expected = stdlibBetaQuantile(p, a, b);
+          expectClose(betaQuantile(p, a, b), expected, { rel: 1e-9, abs: 1e-14 }, `p=${p} a=${a} b=${b}`);
+        },
+      ),
       { numRuns: 300, seed: 52 },
     );
   });
@@ -58,12 +73,27 @@ describe('apparent prevalence with a Clopper-Pearson interval', () => {
 
   it('agrees with @stdlib beta quantiles for the exact interval', () => {
     // Oracle: lower = Beta^-1(alpha/2; x, n-x+1), upper = Beta^-1(1-alpha/2; x+1, n-x), @stdlib.
-    for (const [x, n, level] of [[3, 20, 0.95], [1, 30, 0.9], [17, 36, 0.99], [250, 1000, 0.95]] as const) {
+    for (const [x, n, level] of [
+      [3, 20, 0.95],
+      [1, 30, 0.9],
+      [17, 36, 0.99],
+      [250, 1000, 0.95],
+    ] as const) {
       const alpha = 1 - level;
       const r = apparentPrevalence(x, n, level);
       expectClose(r.estimate, x / n, { rel: 1e-15 }, `x=${x} n=${n}`);
-      expectClose(r.lower, stdlibBetaQuantile(alpha / 2, x, n - x + 1), { rel: 1e-9 }, `lower x=${x} n=${n} level=${level}`);
-      expectClose(r.upper, stdlibBetaQuantile(1 - alpha / 2, x + 1, n - x), { rel: 1e-9 }, `upper x=${x} n=${n} level=${level}`);
+      expectClose(
+        r.lower,
+        stdlibBetaQuantile(alpha / 2, x, n - x + 1),
+        { rel: 1e-9 },
+        `lower x=${x} n=${n} level=${level}`,
+      );
+      expectClose(
+        r.upper,
+        stdlibBetaQuantile(1 - alpha / 2, x + 1, n - x),
+        { rel: 1e-9 },
+        `upper x=${x} n=${n} level=${level}`,
+      );
     }
   });
 
@@ -95,6 +125,8 @@ describe('true prevalence (Rogan & Gladen 1978)', () => {
   });
 
   it('refuses a test with Se + Sp <= 1', () => {
-    expect(() => truePrevalence(0.2, 0.5, 0.5)).toThrow('`sensitivity + specificity` must be a number in (1, 2], got 1');
+    expect(() => truePrevalence(0.2, 0.5, 0.5)).toThrow(
+      '`sensitivity + specificity` must be a number in (1, 2], got 1',
+    );
   });
 });

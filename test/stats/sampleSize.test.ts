@@ -23,7 +23,10 @@ describe('sample size, finite barn', () => {
     // Oracle: oracle.json "sampleSize", smallest n with 1 - @stdlib cdf(0; N, d, n) >= C, found by scanning.
     expect(oracle.sampleSize.length).toBeGreaterThan(20);
     for (const row of oracle.sampleSize) {
-      expect(sampleSize({ pens: row.N, infected: row.d, confidence: row.confidence }).sampled, `N=${row.N} d=${row.d} C=${row.confidence}`).toBe(row.sampled);
+      expect(
+        sampleSize({ pens: row.N, infected: row.d, confidence: row.confidence }).sampled,
+        `N=${row.N} d=${row.d} C=${row.confidence}`,
+      ).toBe(row.sampled);
     }
   });
 
@@ -46,7 +49,9 @@ describe('sample size, finite barn', () => {
       const c = [50, 75, 80, 90, 95, 99][randomInt(rng, 6)]!;
       let exact = 0;
       while (!reaches(N, d, exact, c)) exact++;
-      expect(sampleSize({ pens: N, infected: d, confidence: c / 100 }).sampled, `N=${N} d=${d} C=${c / 100}`).toBe(exact);
+      expect(sampleSize({ pens: N, infected: d, confidence: c / 100 }).sampled, `N=${N} d=${d} C=${c / 100}`).toBe(
+        exact,
+      );
     }
   });
 
@@ -112,16 +117,24 @@ describe('sample size, finite barn', () => {
   it('rejects a missing or doubled design prevalence and a zero design', () => {
     expect(() => sampleSize({ pens: 40, confidence: 0.95 })).toThrow(/exactly one/);
     expect(() => sampleSize({ pens: 40, infected: 2, prevalence: 0.05, confidence: 0.95 })).toThrow(/exactly one/);
-    expect(() => sampleSize({ pens: 40, infected: 0, confidence: 0.95 })).toThrow('`infected` must be an integer in [1, pens], got 0');
-    expect(() => sampleSize({ pens: 40, infected: 41, confidence: 0.95 })).toThrow('`infected` must be an integer in [1, pens], got 41');
-    expect(() => sampleSize({ pens: 40, infected: 1, confidence: 1.5 })).toThrow('`confidence` must be a number in [0, 1], got 1.5');
+    expect(() => sampleSize({ pens: 40, infected: 0, confidence: 0.95 })).toThrow(
+      '`infected` must be an integer in [1, pens], got 0',
+    );
+    expect(() => sampleSize({ pens: 40, infected: 41, confidence: 0.95 })).toThrow(
+      '`infected` must be an integer in [1, pens], got 41',
+    );
+    expect(() => sampleSize({ pens: 40, infected: 1, confidence: 1.5 })).toThrow(
+      '`confidence` must be a number in [0, 1], got 1.5',
+    );
   });
 });
 
 describe('sample size, infinite population (binomial)', () => {
   it('matches the published binomial rows', () => {
     // Cannon & Roe 1982, Livestock disease surveys: a field manual for veterinarians (binomial form, from memory).
-    const at95 = [0.01, 0.02, 0.05, 0.1, 0.2, 0.5].map((p) => sampleSize({ pens: Infinity, prevalence: p, confidence: 0.95 }).sampled);
+    const at95 = [0.01, 0.02, 0.05, 0.1, 0.2, 0.5].map(
+      (p) => sampleSize({ pens: Infinity, prevalence: p, confidence: 0.95 }).sampled,
+    );
     expect(at95).toEqual([299, 149, 59, 29, 14, 5]);
     // Same source: p = 0.05, C = 0.99 -> 90.
     expect(sampleSize({ pens: Infinity, prevalence: 0.05, confidence: 0.99 }).sampled).toBe(90);
@@ -149,17 +162,24 @@ describe('sample size, infinite population (binomial)', () => {
 
   it('is minimal for any prevalence, sensitivity and target', () => {
     fc.assert(
-      fc.property(fc.double({ min: 1e-4, max: 1, noNaN: true }), fc.double({ min: 0.01, max: 1, noNaN: true }), fc.double({ min: 0, max: 0.9999, noNaN: true }), (p, se, c) => {
-        const n = sampleSize({ pens: Infinity, prevalence: p, confidence: c, sensitivity: se }).sampled!;
-        expect(binomialDetection(p, n, se)).toBeGreaterThanOrEqual(c);
-        if (n > 0) expect(binomialDetection(p, n - 1, se)).toBeLessThan(c);
-      }),
+      fc.property(
+        fc.double({ min: 1e-4, max: 1, noNaN: true }),
+        fc.double({ min: 0.01, max: 1, noNaN: true }),
+        fc.double({ min: 0, max: 0.9999, noNaN: true }),
+        (p, se, c) => {
+          const n = sampleSize({ pens: Infinity, prevalence: p, confidence: c, sensitivity: se }).sampled!;
+          expect(binomialDetection(p, n, se)).toBeGreaterThanOrEqual(c);
+          if (n > 0) expect(binomialDetection(p, n - 1, se)).toBeLessThan(c);
+        },
+      ),
       { numRuns: 300, seed: 22 },
     );
   });
 
   it('refuses certainty and a number of infected pens in an infinite population', () => {
-    expect(() => sampleSize({ pens: Infinity, prevalence: 0.05, confidence: 1 })).toThrow('`confidence` must be a number in [0, 1), got 1');
+    expect(() => sampleSize({ pens: Infinity, prevalence: 0.05, confidence: 1 })).toThrow(
+      '`confidence` must be a number in [0, 1), got 1',
+    );
     expect(() => sampleSize({ pens: Infinity, infected: 3, confidence: 0.95 })).toThrow(/`prevalence` must be given/);
   });
 });

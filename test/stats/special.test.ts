@@ -21,22 +21,38 @@ describe('log-factorial and log-gamma helpers', () => {
     // By hand: ln(10!/(4! 6!)) = ln 210.
     expectClose(balancedLogFactorialSum([1, -1, -1], [10, 4, 6]), Math.log(210), { rel: 1e-14 }, 'ln C(10,4)');
     // By hand: ln(40!/(20! 20!)) = ln 137846528820.
-    expectClose(balancedLogFactorialSum([1, -1, -1], [40, 20, 20]), Math.log(137846528820), { rel: 1e-14 }, 'ln C(40,20)');
+    expectClose(
+      balancedLogFactorialSum([1, -1, -1], [40, 20, 20]),
+      Math.log(137846528820),
+      { rel: 1e-14 },
+      'ln C(40,20)',
+    );
   });
 
   it('the log hypergeometric pmf agrees with @stdlib for barns up to 100,000 pens', () => {
     // Oracle: @stdlib hypergeometric pmf; its own log-factorial error is ~1e-10 at N = 100,000.
     fc.assert(
-      fc.property(fc.integer({ min: 1, max: 100_000 }), fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: 0, max: 1, noNaN: true }), (N, uk, un, ux) => {
-        const K = Math.floor(uk * N);
-        const n = Math.floor(un * N);
-        const lo = Math.max(0, n + K - N);
-        const hi = Math.min(n, K);
-        const x = lo + Math.floor(ux * (hi - lo));
-        const expected = hypergeometricPmf(x, N, K, n);
-        if (expected < 1e-300) return;
-        expectClose(Math.exp(logHypergeometricPmf(x, N, K, n)), expected, { rel: 1e-9 }, `x=${x} N=${N} K=${K} n=${n}`);
-      }),
+      fc.property(
+        fc.integer({ min: 1, max: 100_000 }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        (N, uk, un, ux) => {
+          const K = Math.floor(uk * N);
+          const n = Math.floor(un * N);
+          const lo = Math.max(0, n + K - N);
+          const hi = Math.min(n, K);
+          const x = lo + Math.floor(ux * (hi - lo));
+          const expected = hypergeometricPmf(x, N, K, n);
+          if (expected < 1e-300) return;
+          expectClose(
+            Math.exp(logHypergeometricPmf(x, N, K, n)),
+            expected,
+            { rel: 1e-9 },
+            `x=${x} N=${N} K=${K} n=${n}`,
+          );
+        },
+      ),
       { numRuns: 300, seed: 62 },
     );
   });

@@ -32,10 +32,19 @@ describe('two-stage site detection', () => {
 
   it('agrees with enumeration of every set of infected barns', () => {
     fc.assert(
-      fc.property(fc.array(fc.double({ min: 0, max: 1, noNaN: true }), { minLength: 1, maxLength: 9 }), fc.nat(), (p, pick) => {
-        const infected = 1 + (pick % p.length);
-        expectClose(twoStageSiteDetection(p, infected), enumerated(p, infected), { abs: 1e-13 }, `p=${p.join(',')} D=${infected}`);
-      }),
+      fc.property(
+        fc.array(fc.double({ min: 0, max: 1, noNaN: true }), { minLength: 1, maxLength: 9 }),
+        fc.nat(),
+        (p, pick) => {
+          const infected = 1 + (pick % p.length);
+          expectClose(
+            twoStageSiteDetection(p, infected),
+            enumerated(p, infected),
+            { abs: 1e-13 },
+            `p=${p.join(',')} D=${infected}`,
+          );
+        },
+      ),
       { seed: 20261202, numRuns: 400 },
     );
   });
@@ -69,7 +78,9 @@ describe('two-stage site detection', () => {
   it('counts an unsampled barn as p = 0 and refuses a D outside [1, H]', () => {
     // Two barns surveyed at 0.9, one not: D = 1 gives 1.8 / 3 = 0.6 (by hand).
     expectClose(twoStageSiteDetection([0.9, 0.9, 0], 1), 0.6, { rel: 1e-14 }, 'unsampled barn');
-    expect(() => twoStageSiteDetection([0.5, 0.5], 3)).toThrow('`infectedBarns` must be an integer in [1, barns], got 3');
+    expect(() => twoStageSiteDetection([0.5, 0.5], 3)).toThrow(
+      '`infectedBarns` must be an integer in [1, barns], got 3',
+    );
     expect(() => twoStageSiteDetection([], 1)).toThrow(RangeError);
     expect(() => twoStageSiteDetection([1.5], 1)).toThrow(RangeError);
   });

@@ -18,7 +18,12 @@ const workspace = workspacesPerTest();
 describe('antibody results in the store', () => {
   it('stores the S/P, its measure and the lab S/P cutoff, and reads them back current', async () => {
     const ws = workspace();
-    await ws.drop('ropes.csv', ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, [{ sampleId: 'R1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' }]));
+    await ws.drop(
+      'ropes.csv',
+      ropeSheet(ws.config().siteById.get('HOLLOW-CREEK')!, [
+        { sampleId: 'R1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
+      ]),
+    );
     const bytes = northfieldExport(
       [
         { sampleId: 'R1', assay: 'PRRSV', ct: 30.1, collectedOn: '2026-08-03' },
@@ -42,19 +47,40 @@ describe('antibody results in the store', () => {
       suspectBelow: null,
       cycleLimit: null,
     });
-    expect(current.find((result) => result.assayId === 'PRRSV')).toMatchObject({ measure: 'ct', ct: 30.1, sp: null, positiveBelow: 36, cycleLimit: 40, positiveAtOrAbove: null });
+    expect(current.find((result) => result.assayId === 'PRRSV')).toMatchObject({
+      measure: 'ct',
+      ct: 30.1,
+      sp: null,
+      positiveBelow: 36,
+      cycleLimit: 40,
+      positiveAtOrAbove: null,
+    });
     // As stored: 0 in the Ct cutoff columns of the S/P row (migration 5).
-    const raw = ws.ws().store.db.prepare("SELECT positive_below AS p, suspect_below AS s, cycle_limit AS c FROM results WHERE measure = 'sp-ratio'").get();
+    const raw = ws
+      .ws()
+      .store.db.prepare(
+        "SELECT positive_below AS p, suspect_below AS s, cycle_limit AS c FROM results WHERE measure = 'sp-ratio'",
+      )
+      .get();
     expect(raw).toEqual({ p: 0, s: 0, c: 0 });
   });
 
   it('refuses, by CHECK, a row that mixes the measures', () => {
     const ws = workspace();
     const db = ws.ws().store.db;
-    db.prepare("INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'x.csv', 'x', 'results', '2026-08-03T00:00:00Z', 'accepted', 1)").run();
+    db.prepare(
+      "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'x.csv', 'x', 'results', '2026-08-03T00:00:00Z', 'accepted', 1)",
+    ).run();
     db.prepare("INSERT INTO samples (id, sample_id) VALUES (1, 'S1')").run();
     db.prepare("INSERT INTO reasons (id, text) VALUES (1, 'test')").run();
-    const insert = (measure: string, ct: number | null, sp: number | null, cutoffs: [number, number, number], spCutoff: number | null, key: number) =>
+    const insert = (
+      measure: string,
+      ct: number | null,
+      sp: number | null,
+      cutoffs: [number, number, number],
+      spCutoff: number | null,
+      key: number,
+    ) =>
       db
         .prepare(
           `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key, measure, sp, positive_at_or_above)
@@ -77,7 +103,9 @@ describe('antibody results in the store', () => {
     for (const [name, fn] of Object.entries(MIGRATION_FUNCTIONS)) v4.function(name, { deterministic: true }, fn);
     for (const migration of MIGRATIONS.slice(0, 4)) v4.exec(migration.sql);
     v4.pragma('user_version = 4');
-    v4.prepare("INSERT INTO files (id, name, sha256, kind, lab_id, received_at, status, byte_length) VALUES (1, 'nvdl_a.csv', 'a', 'results', 'northfield', '2026-08-06T00:00:00Z', 'accepted', 1)").run();
+    v4.prepare(
+      "INSERT INTO files (id, name, sha256, kind, lab_id, received_at, status, byte_length) VALUES (1, 'nvdl_a.csv', 'a', 'results', 'northfield', '2026-08-06T00:00:00Z', 'accepted', 1)",
+    ).run();
     v4.prepare("INSERT INTO samples (id, sample_id) VALUES (1, 'S1')").run();
     v4.prepare("INSERT INTO reasons (id, text) VALUES (1, 'Ct 30.1 below the positive cutoff 36')").run();
     v4.prepare(
@@ -90,9 +118,21 @@ describe('antibody results in the store', () => {
     expect(MIGRATIONS.length).toBeGreaterThanOrEqual(5);
     expect(store.db.pragma('integrity_check', { simple: true })).toBe('ok');
     expect(store.currentResults()).toEqual([
-      expect.objectContaining({ id: 9, measure: 'ct', ct: 30.1, sp: null, positiveBelow: 36, suspectBelow: 40, cycleLimit: 40, positiveAtOrAbove: null, suspectAtOrAbove: null }),
+      expect.objectContaining({
+        id: 9,
+        measure: 'ct',
+        ct: 30.1,
+        sp: null,
+        positiveBelow: 36,
+        suspectBelow: 40,
+        cycleLimit: 40,
+        positiveAtOrAbove: null,
+        suspectAtOrAbove: null,
+      }),
     ]);
-    const columns = (store.db.prepare("SELECT name FROM pragma_table_info('supersession_readings')").all() as { name: string }[]).map((column) => column.name);
+    const columns = (
+      store.db.prepare("SELECT name FROM pragma_table_info('supersession_readings')").all() as { name: string }[]
+    ).map((column) => column.name);
     expect(columns).toEqual(expect.arrayContaining(['old_ct', 'new_ct', 'measure', 'old_sp', 'new_sp']));
   });
 });

@@ -22,9 +22,13 @@ describe('pooled ropes in the store', () => {
     for (const [name, fn] of Object.entries(MIGRATION_FUNCTIONS)) v5.function(name, { deterministic: true }, fn);
     for (const migration of MIGRATIONS.slice(0, 5)) v5.exec(migration.sql);
     v5.pragma('user_version = 5');
-    v5.prepare("INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'ropes.csv', 'a', 'ropes', '2026-08-04T00:00:00Z', 'accepted', 1)").run();
+    v5.prepare(
+      "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'ropes.csv', 'a', 'ropes', '2026-08-04T00:00:00Z', 'accepted', 1)",
+    ).run();
     v5.prepare("INSERT INTO samples (id, sample_id) VALUES (1, 'S1')").run();
-    v5.prepare("INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line) VALUES (1, 'hollow-creek', 'F1', 'A1', '2026-08-03', 'sheet', 1, 2)").run();
+    v5.prepare(
+      "INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line) VALUES (1, 'hollow-creek', 'F1', 'A1', '2026-08-03', 'sheet', 1, 2)",
+    ).run();
     v5.close();
     const store = ws.ws().store;
     expect(store.db.pragma('user_version', { simple: true })).toBe(6);
@@ -37,11 +41,27 @@ describe('pooled ropes in the store', () => {
     const ws = workspace();
     const store = ws.ws().store;
     const planned = (sampleId: string, penId: string) => ({
-      sampleId, siteId: 'hollow-creek', barnId: 'F1', penId, side: 'A', reason: 'routine', dueOn: '2026-08-03', plannedAt: '2026-08-01T00:00:00Z', afterRound: 0, poolId: 'HCF01-901J',
+      sampleId,
+      siteId: 'hollow-creek',
+      barnId: 'F1',
+      penId,
+      side: 'A',
+      reason: 'routine',
+      dueOn: '2026-08-03',
+      plannedAt: '2026-08-01T00:00:00Z',
+      afterRound: 0,
+      poolId: 'HCF01-901J',
     });
     store.replacePlan('hollow-creek', 0, [planned('HCF01-001H', 'A1'), planned('HCF01-002F', 'A2')]);
     expect(store.plannedRopes('hollow-creek').map((rope) => rope.poolId)).toEqual(['HCF01-901J', 'HCF01-901J']);
-    const lab = await ws.drop('nvdl_results_2026-08-06.csv', northfieldExport([{ sampleId: 'HCF01-901J', assay: 'PRRSV', ct: null, collectedOn: '2026-08-03' }], '2026-08-06', 1));
+    const lab = await ws.drop(
+      'nvdl_results_2026-08-06.csv',
+      northfieldExport(
+        [{ sampleId: 'HCF01-901J', assay: 'PRRSV', ct: null, collectedOn: '2026-08-03' }],
+        '2026-08-06',
+        1,
+      ),
+    );
     // The pool ID is the plan's: no unresolved sample, and the site is rebuilt.
     expect(lab.receipt).toMatchObject({ unresolvedSampleIds: [], sites: ['hollow-creek'] });
     // The plan after round 1, made once the result arrived, is not the one this is about.
@@ -51,7 +71,10 @@ describe('pooled ropes in the store', () => {
       ['HCF01-002F', 'A2', '2026-08-03', 'HCF01-901J'],
     ]);
     // The farm hung its own tubes in those pens and says so on a sheet naming the pool: the sheet's ropes hold it.
-    await ws.drop('hollow-creek_ropes.csv', 'sample_id,site,barn,pen,hung_on,pool\nFARM-1,hollow-creek,F1,A1,2026-08-03,HCF01-901J\nFARM-2,hollow-creek,F1,A2,2026-08-03,HCF01-901J\n');
+    await ws.drop(
+      'hollow-creek_ropes.csv',
+      'sample_id,site,barn,pen,hung_on,pool\nFARM-1,hollow-creek,F1,A1,2026-08-03,HCF01-901J\nFARM-2,hollow-creek,F1,A2,2026-08-03,HCF01-901J\n',
+    );
     expect(store.ropes('hollow-creek').map((rope) => rope.sampleId)).toEqual(['FARM-1', 'FARM-2']);
   });
 });

@@ -14,8 +14,15 @@ describe('isIgnoredName', () => {
 
   it('ignores hidden, temporary, lock and backup files', () => {
     const names = [
-      '.hidden.csv', '.~lock.results.csv#', 'results.csv.part', 'results.tmp', 'results.csv.tmp',
-      'results.csv.crdownload', '~$results.csv', 'results.csv.swp', 'results.csv~',
+      '.hidden.csv',
+      '.~lock.results.csv#',
+      'results.csv.part',
+      'results.tmp',
+      'results.csv.tmp',
+      'results.csv.crdownload',
+      '~$results.csv',
+      'results.csv.swp',
+      'results.csv~',
     ];
     for (const name of names) expect(isIgnoredName(name), name).toBe(true);
   });

@@ -58,7 +58,10 @@ describe('watchInbox and special files', () => {
       servers.push(server);
       await new Promise<void>((resolve) => server.listen(path.join(inbox, 'socket.csv'), resolve));
       await fsp.writeFile(path.join(inbox, 'real.csv'), 'sample,ct\nR1,30\n');
-      await waitFor(() => calls.length === 1 && lines.some((line) => line.startsWith('skip socket.csv')), 'the regular file and the socket');
+      await waitFor(
+        () => calls.length === 1 && lines.some((line) => line.startsWith('skip socket.csv')),
+        'the regular file and the socket',
+      );
       await sleep(300);
     } finally {
       stop();
@@ -66,7 +69,11 @@ describe('watchInbox and special files', () => {
     }
     expect(calls).toEqual([path.join(inbox, 'real.csv')]);
     expect(errors).toEqual([]);
-    expect(lines.filter((line) => line.startsWith('skip pipe.csv'))).toEqual(['skip pipe.csv: not a regular file but a FIFO (named pipe); not read']);
-    expect(lines.filter((line) => line.startsWith('skip socket.csv'))).toEqual(['skip socket.csv: not a regular file but a socket; not read']);
+    expect(lines.filter((line) => line.startsWith('skip pipe.csv'))).toEqual([
+      'skip pipe.csv: not a regular file but a FIFO (named pipe); not read',
+    ]);
+    expect(lines.filter((line) => line.startsWith('skip socket.csv'))).toEqual([
+      'skip socket.csv: not a regular file but a socket; not read',
+    ]);
   });
 });

@@ -5,7 +5,10 @@ import { stabilitySettings, waitUntilStable, type FileStamp, type StabilityProbe
  * A fake clock and a scripted file: `history(t)` gives the file as it is at time t (ms), null when
  * absent. `sleep` advances the clock; nothing really waits.
  */
-function fakeProbe(history: (t: number) => FileStamp | null, stopAt = Infinity): StabilityProbe & { statTimes: number[] } {
+function fakeProbe(
+  history: (t: number) => FileStamp | null,
+  stopAt = Infinity,
+): StabilityProbe & { statTimes: number[] } {
   let t = 0;
   const statTimes: number[] = [];
   return {
@@ -69,15 +72,25 @@ describe('waitUntilStable', () => {
   });
 
   it('treats a file that vanished, at the first poll or later, as a no-op', async () => {
-    expect(await waitUntilStable('/inbox/a.csv', fakeProbe(() => null), { stableMs: 100, pollMs: 10 })).toEqual({
+    expect(
+      await waitUntilStable(
+        '/inbox/a.csv',
+        fakeProbe(() => null),
+        { stableMs: 100, pollMs: 10 },
+      ),
+    ).toEqual({
       kind: 'vanished',
       polls: 1,
     });
     // Present at 0 and 10, gone from 20: third poll sees nothing.
-    const later = await waitUntilStable('/inbox/a.csv', fakeProbe((t) => (t < 20 ? steady : null)), {
-      stableMs: 100,
-      pollMs: 10,
-    });
+    const later = await waitUntilStable(
+      '/inbox/a.csv',
+      fakeProbe((t) => (t < 20 ? steady : null)),
+      {
+        stableMs: 100,
+        pollMs: 10,
+      },
+    );
     expect(later).toEqual({ kind: 'vanished', polls: 3 });
   });
 
@@ -95,9 +108,19 @@ describe('waitUntilStable', () => {
   });
 
   it('rejects bad options with the RangeError grammar', async () => {
-    expect(() => stabilitySettings({ stableMs: -1 })).toThrow(new RangeError('`stableMs` must be a finite number >= 0, got -1'));
+    expect(() => stabilitySettings({ stableMs: -1 })).toThrow(
+      new RangeError('`stableMs` must be a finite number >= 0, got -1'),
+    );
     expect(() => stabilitySettings({ stableMs: Number.NaN })).toThrow(RangeError);
-    expect(() => stabilitySettings({ pollMs: 0 })).toThrow(new RangeError('`pollMs` must be a finite number > 0, got 0'));
-    await expect(waitUntilStable('/inbox/a.csv', fakeProbe(() => steady), { stableMs: -5 })).rejects.toThrow(RangeError);
+    expect(() => stabilitySettings({ pollMs: 0 })).toThrow(
+      new RangeError('`pollMs` must be a finite number > 0, got 0'),
+    );
+    await expect(
+      waitUntilStable(
+        '/inbox/a.csv',
+        fakeProbe(() => steady),
+        { stableMs: -5 },
+      ),
+    ).rejects.toThrow(RangeError);
   });
 });

@@ -31,8 +31,14 @@ describe('watch with spreadsheets in the inbox', () => {
       { sampleId: 'HC-1029-F1-01', assay: 'PRRSV' as const, ct: 27.5, collectedOn: '2026-10-26' },
       { sampleId: 'HC-1029-F1-01', assay: 'IAV' as const, ct: null, collectedOn: '2026-10-26' },
     ];
-    fs.writeFileSync(path.join(ws.paths.inbox, 'nvdl_results_2026-10-29.xlsx'), await northfieldWorkbook(rows, '2026-10-29', 1, '2026-10-29T13:00:00.000Z'));
-    fs.writeFileSync(path.join(ws.paths.inbox, 'nvdl_old.xls'), Buffer.concat([Buffer.from([0xd0, 0xcf, 0x11, 0xe0, 0xa1, 0xb1, 0x1a, 0xe1]), Buffer.alloc(504)]));
+    fs.writeFileSync(
+      path.join(ws.paths.inbox, 'nvdl_results_2026-10-29.xlsx'),
+      await northfieldWorkbook(rows, '2026-10-29', 1, '2026-10-29T13:00:00.000Z'),
+    );
+    fs.writeFileSync(
+      path.join(ws.paths.inbox, 'nvdl_old.xls'),
+      Buffer.concat([Buffer.from([0xd0, 0xcf, 0x11, 0xe0, 0xa1, 0xb1, 0x1a, 0xe1]), Buffer.alloc(504)]),
+    );
     const receipts: Receipt[] = [];
     let stop!: () => void;
     const stopped = new Promise<void>((resolve) => (stop = resolve));
@@ -52,10 +58,17 @@ describe('watch with spreadsheets in the inbox', () => {
     stop();
     await done;
     const byName = Object.fromEntries(receipts.map((receipt) => [receipt.file, receipt]));
-    expect(byName['nvdl_results_2026-10-29.xlsx']).toMatchObject({ status: 'accepted', sheet: 'Results', rows: { accepted: 2 } });
+    expect(byName['nvdl_results_2026-10-29.xlsx']).toMatchObject({
+      status: 'accepted',
+      sheet: 'Results',
+      rows: { accepted: 2 },
+    });
     expect(byName['nvdl_old.xls']).toMatchObject({ status: 'rejected', reason: { code: 'not-a-workbook' } });
     expect(byName['nvdl_old.xls']!.reason!.message).toMatch(/\.xls\) .*save it as \.xlsx or CSV/);
     expect(fs.readdirSync(path.join(ws.paths.inbox, 'archive'))).toEqual(['nvdl_results_2026-10-29.xlsx']);
-    expect(fs.readdirSync(path.join(ws.paths.inbox, 'rejected')).sort()).toEqual(['nvdl_old.xls', 'nvdl_old.xls.reason.txt']);
+    expect(fs.readdirSync(path.join(ws.paths.inbox, 'rejected')).sort()).toEqual([
+      'nvdl_old.xls',
+      'nvdl_old.xls.reason.txt',
+    ]);
   });
 });

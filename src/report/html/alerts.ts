@@ -51,7 +51,15 @@ const pct = (p: number) => `${(100 * p).toFixed(1)}%`;
 const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
 /** A p-value as the statistics modules word it: "< 0.001" or three decimals. */
 
-function alert(kind: AlertKind, assayId: string | null, barnId: string | null, action: string, detail: string, numbers: Record<string, number | null> = {}, pens: readonly string[] = []): PageAlert {
+function alert(
+  kind: AlertKind,
+  assayId: string | null,
+  barnId: string | null,
+  action: string,
+  detail: string,
+  numbers: Record<string, number | null> = {},
+  pens: readonly string[] = [],
+): PageAlert {
   return { kind, assayId, barnId, action, detail, message: `${action}. ${detail}`, numbers, pens };
 }
 
@@ -70,23 +78,39 @@ type BarnReport = RoundSpatial['assays'][number]['report']['barns'][number];
  * whether they cluster. A significant join count or scan window (alpha as the spatial analysis
  * used it: its alert says so) reads as "clustered around" the span of the largest cluster.
  */
-function positiveWhere(positivePens: readonly string[], report: BarnReport | undefined, clustered: boolean): { where: string; stats: string[]; numbers: Record<string, number | null> } {
+function positiveWhere(
+  positivePens: readonly string[],
+  report: BarnReport | undefined,
+  clustered: boolean,
+): { where: string; stats: string[]; numbers: Record<string, number | null> } {
   const stats: string[] = [];
   const numbers: Record<string, number | null> = {};
   const jc = report?.joinCount ?? null;
   if (jc && positivePens.length >= 2) {
-    stats.push(`join count ${jc.bb} positive\u2013positive joins against ${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(jc.pPermutation)}`);
+    stats.push(
+      `join count ${jc.bb} positive\u2013positive joins against ${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(jc.pPermutation)}`,
+    );
     Object.assign(numbers, { joinCountBB: jc.bb, joinCountExpected: jc.expectedBB, joinCountP: jc.pPermutation });
   }
   const scan = report?.scan?.mostLikely ?? null;
   // The scan statistic only where the join count could not be computed: one statistic per alert, the cluster review has both.
   if (scan && positivePens.length >= 2 && !jc) {
-    stats.push(`scan statistic: ${scan.positives} positive in ${plural(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${formatPValue(scan.p)}`);
+    stats.push(
+      `scan statistic: ${scan.positives} positive in ${plural(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${formatPValue(scan.p)}`,
+    );
     Object.assign(numbers, { scanPositives: scan.positives, scanExpected: scan.expected, scanP: scan.p });
   }
-  const largest = [...(report?.clusters ?? [])].filter((cluster) => cluster.size >= 2).sort((a, b) => b.size - a.size || a.index - b.index)[0];
-  if (clustered && largest) return { where: `, clustered around ${penSpan(largest.pens, positivePens)}`, stats, numbers };
-  if (positivePens.length >= 2 && jc && !clustered) return { where: positivePens.length <= 6 ? ` (${positivePens.join(', ')}), not clustered` : ', scattered through the barn', stats, numbers };
+  const largest = [...(report?.clusters ?? [])]
+    .filter((cluster) => cluster.size >= 2)
+    .sort((a, b) => b.size - a.size || a.index - b.index)[0];
+  if (clustered && largest)
+    return { where: `, clustered around ${penSpan(largest.pens, positivePens)}`, stats, numbers };
+  if (positivePens.length >= 2 && jc && !clustered)
+    return {
+      where: positivePens.length <= 6 ? ` (${positivePens.join(', ')}), not clustered` : ', scattered through the barn',
+      stats,
+      numbers,
+    };
   return { where: positivePens.length <= 6 ? ` (${positivePens.join(', ')})` : '', stats, numbers };
 }
 
@@ -103,7 +127,12 @@ function positiveWhere(positivePens: readonly string[], report: BarnReport | und
  * @param plan the next-round plan, given only for the latest round
  * @throws RangeError when `index` is out of range
  */
-export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonly RoundSpatial[], index: number, plan?: NextRoundPlan): PageAlert[] {
+export function roundAlerts(
+  summaries: readonly RoundSummary[],
+  spatial: readonly RoundSpatial[],
+  index: number,
+  plan?: NextRoundPlan,
+): PageAlert[] {
   if (!Number.isInteger(index) || index < 0 || index >= summaries.length) {
     throw new RangeError(`\`index\` must be an integer in [0, ${summaries.length - 1}], got ${index}`);
   }
@@ -112,23 +141,33 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
   const alerts: PageAlert[] = [];
   const told = new Set<string>();
   for (const assay of summary.assays) {
-    const positiveBarns = summary.barns.filter((barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0);
+    const positiveBarns = summary.barns.filter(
+      (barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0,
+    );
     if (positiveBarns.length === 0) continue;
-    const earlier = summaries.slice(0, index).some((s) => s.barns.some((barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0));
+    const earlier = summaries
+      .slice(0, index)
+      .some((s) => s.barns.some((barn) => (barn.assays.find((a) => a.assayId === assay.id)?.positive ?? 0) > 0));
     const antibody = assay.measure === 'sp-ratio';
     const assaySpatial = spatial[index]?.assays.find((entry) => entry.assayId === assay.id);
     for (const barn of positiveBarns) {
       const tally = barn.assays.find((a) => a.assayId === assay.id)!;
-      const before = previous?.barns.find((b) => b.barnId === barn.barnId)?.assays.find((a) => a.assayId === assay.id)?.positive ?? 0;
+      const before =
+        previous?.barns.find((b) => b.barnId === barn.barnId)?.assays.find((a) => a.assayId === assay.id)?.positive ??
+        0;
       const testedBefore = previous?.assays.some((other) => other.id === assay.id) ?? false;
       const kind: AlertKind = !earlier ? 'first-positive' : before > 0 ? 'positive-again' : 'new-positive-barn';
       const report = assaySpatial?.report.barns.find((entry) => entry.barn === barn.barnId);
-      const clustered = (assaySpatial?.alerts ?? []).some((entry) => entry.kind === 'significant-cluster' && entry.barnId === barn.barnId);
+      const clustered = (assaySpatial?.alerts ?? []).some(
+        (entry) => entry.kind === 'significant-cluster' && entry.barnId === barn.barnId,
+      );
       const { where, stats, numbers } = positiveWhere(tally.positivePens, report, clustered);
       if (clustered) told.add(`${assay.id}/${barn.barnId}`);
       // An antibody positive means exposure (infection or vaccination), not necessarily virus now;
       // an unexpected one is retested by PCR (common practice, no source).
-      const todo = antibody ? 'retest these pens by PCR and tell the herd veterinarian' : 'tell the herd veterinarian today';
+      const todo = antibody
+        ? 'retest these pens by PCR and tell the herd veterinarian'
+        : 'tell the herd veterinarian today';
       const notifiable = assay.notifiable ? '; notifiable: report it to the competent authority under local rules' : '';
       const label = antibody ? `Antibody to ${assay.name}` : `Positive ${assay.name}`;
       const first = kind === 'first-positive' ? ' (first on this site)' : kind === 'positive-again' ? ' again' : '';
@@ -141,20 +180,57 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
             : testedBefore
               ? 'had none in the previous round'
               : `${assay.id} was not tested in the previous round`;
-      const exposure = antibody ? ' Antibody means exposure, not necessarily current infection: retest these pens by PCR.' : '';
+      const exposure = antibody
+        ? ' Antibody means exposure, not necessarily current infection: retest these pens by PCR.'
+        : '';
       const detail = `${tally.positive} of ${plural(tally.tested, 'tested pen')} ${assay.id} positive${where === '' || where.startsWith(', scattered') ? ` (${tally.positivePens.join(', ')})` : ''}; ${history}${stats.length > 0 ? `; ${stats.join('; ')}` : ''}.${exposure}`;
-      alerts.push(alert(kind, assay.id, barn.barnId, action, detail, { positive: tally.positive, tested: tally.tested, previousPositive: before, ...numbers }, tally.positivePens));
+      alerts.push(
+        alert(
+          kind,
+          assay.id,
+          barn.barnId,
+          action,
+          detail,
+          { positive: tally.positive, tested: tally.tested, previousPositive: before, ...numbers },
+          tally.positivePens,
+        ),
+      );
     }
   }
   for (const assay of spatial[index]?.assays ?? []) {
-    const barnName = (barnId: string | null) => summary.barns.find((barn) => barn.barnId === barnId)?.name ?? `barn ${barnId ?? ''}`;
+    const barnName = (barnId: string | null) =>
+      summary.barns.find((barn) => barn.barnId === barnId)?.name ?? `barn ${barnId ?? ''}`;
     for (const entry of assay.alerts) {
       if (entry.kind === 'significant-cluster' && !told.has(`${entry.assayId}/${entry.barnId}`)) {
-        alerts.push(alert('significant-cluster', entry.assayId, entry.barnId, `${entry.assayId} positives cluster in ${barnName(entry.barnId)}: tell the herd veterinarian and look at the cluster review`, entry.message));
+        alerts.push(
+          alert(
+            'significant-cluster',
+            entry.assayId,
+            entry.barnId,
+            `${entry.assayId} positives cluster in ${barnName(entry.barnId)}: tell the herd veterinarian and look at the cluster review`,
+            entry.message,
+          ),
+        );
       } else if (entry.kind === 'spread') {
-        alerts.push(alert('spread', entry.assayId, entry.barnId, `${entry.assayId} is moving pen to pen in ${barnName(entry.barnId)}: tell the herd veterinarian; the next round follows it up`, entry.message));
+        alerts.push(
+          alert(
+            'spread',
+            entry.assayId,
+            entry.barnId,
+            `${entry.assayId} is moving pen to pen in ${barnName(entry.barnId)}: tell the herd veterinarian; the next round follows it up`,
+            entry.message,
+          ),
+        );
       } else if (entry.kind === 'new-focus') {
-        alerts.push(alert('new-focus', entry.assayId, entry.barnId, `New ${entry.assayId} focus in ${barnName(entry.barnId)}, away from earlier positives: ask how it got there (people, feed, transport)`, entry.message));
+        alerts.push(
+          alert(
+            'new-focus',
+            entry.assayId,
+            entry.barnId,
+            `New ${entry.assayId} focus in ${barnName(entry.barnId)}, away from earlier positives: ask how it got there (people, feed, transport)`,
+            entry.message,
+          ),
+        );
       }
     }
   }
@@ -168,7 +244,10 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
     if (lastTested?.assays.find((other) => other.id === assay.id)?.site.freedomReset) continue;
     const numbers = { priorFreedom: assay.site.priorFreedom, startsFrom: summary.program.priorFreedom };
     if (assay.measure === 'sp-ratio') {
-      const pcr = assay.pairedWith === null ? 'the PCR assay' : (summary.assays.find((other) => other.id === assay.pairedWith)?.name ?? assay.pairedWith);
+      const pcr =
+        assay.pairedWith === null
+          ? 'the PCR assay'
+          : (summary.assays.find((other) => other.id === assay.pairedWith)?.name ?? assay.pairedWith);
       alerts.push(
         alert(
           'freedom-reset',
@@ -194,7 +273,9 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
   }
   const differing = summary.disagreements;
   if (differing.length > 0) {
-    const perBarn = [...new Set(differing.map((entry) => entry.barnId))].map((barnId) => `${barnId}: ${differing.filter((entry) => entry.barnId === barnId).length}`);
+    const perBarn = [...new Set(differing.map((entry) => entry.barnId))].map(
+      (barnId) => `${barnId}: ${differing.filter((entry) => entry.barnId === barnId).length}`,
+    );
     alerts.push(
       alert(
         'call-differs',
@@ -224,7 +305,10 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
         );
       }
       if (tally.suspect > 0) {
-        const near = tally.confidence.measure === 'sp-ratio' ? 'an S/P just below the positive cutoff' : 'a high Ct just above the positive cutoff';
+        const near =
+          tally.confidence.measure === 'sp-ratio'
+            ? 'an S/P just below the positive cutoff'
+            : 'a high Ct just above the positive cutoff';
         alerts.push(
           alert(
             'suspect',
@@ -241,7 +325,13 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
     if (barn.mistyped.length > 0) {
       // The rope is not lost: a row came back under an ID one keying error from its planned ID.
       const ropes = barn.mistyped.map(
-        (rope) => `pen ${rope.penId}, planned ${rope.sampleId}, came back as ${refusalGroups(rope).map((group) => `${group.written} (${group.fileName}, line${group.lines.length === 1 ? '' : 's'} ${group.lines.join(', ')})`).join(' and ')}`,
+        (rope) =>
+          `pen ${rope.penId}, planned ${rope.sampleId}, came back as ${refusalGroups(rope)
+            .map(
+              (group) =>
+                `${group.written} (${group.fileName}, line${group.lines.length === 1 ? '' : 's'} ${group.lines.join(', ')})`,
+            )
+            .join(' and ')}`,
       );
       alerts.push(
         alert(
@@ -286,7 +376,14 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
   }
   if (plan?.overdue) {
     alerts.push(
-      alert('overdue', null, null, `Hang the ropes of round ${plan.round} now: it is overdue`, `Round ${plan.round} was due on ${plan.dueDate}, ${plural(plan.daysOverdue, 'day')} ago.`, { daysOverdue: plan.daysOverdue }),
+      alert(
+        'overdue',
+        null,
+        null,
+        `Hang the ropes of round ${plan.round} now: it is overdue`,
+        `Round ${plan.round} was due on ${plan.dueDate}, ${plural(plan.daysOverdue, 'day')} ago.`,
+        { daysOverdue: plan.daysOverdue },
+      ),
     );
   }
   return alerts;
@@ -297,7 +394,13 @@ export function roundAlerts(summaries: readonly RoundSummary[], spatial: readonl
  * read the same list, built once (each round's alerts look back over the rounds before it). The
  * plan's overdue alert belongs to the latest round.
  */
-export function alertsOfRounds(analysis: { summaries: readonly RoundSummary[]; spatial: readonly RoundSpatial[]; plan: NextRoundPlan }): PageAlert[][] {
+export function alertsOfRounds(analysis: {
+  summaries: readonly RoundSummary[];
+  spatial: readonly RoundSpatial[];
+  plan: NextRoundPlan;
+}): PageAlert[][] {
   const last = analysis.summaries.length - 1;
-  return analysis.summaries.map((_, index) => roundAlerts(analysis.summaries, analysis.spatial, index, index === last ? analysis.plan : undefined));
+  return analysis.summaries.map((_, index) =>
+    roundAlerts(analysis.summaries, analysis.spatial, index, index === last ? analysis.plan : undefined),
+  );
 }

@@ -57,8 +57,10 @@ function code128Elements(text: string): readonly number[] {
 export function code128Svg(text: string, options: BarcodeOptions = {}): string {
   const moduleMm = options.moduleMm ?? DEFAULT_MODULE_MM;
   const heightMm = options.heightMm ?? DEFAULT_HEIGHT_MM;
-  if (!(moduleMm > 0) || !(heightMm > 0)) throw new RangeError(`\`moduleMm\` and \`heightMm\` must be positive, got ${moduleMm} and ${heightMm}`);
-  if (!/^[\x20-\x7e]+$/.test(text)) throw new RangeError(`\`text\` must be printable ASCII, got ${JSON.stringify(text)}`);
+  if (!(moduleMm > 0) || !(heightMm > 0))
+    throw new RangeError(`\`moduleMm\` and \`heightMm\` must be positive, got ${moduleMm} and ${heightMm}`);
+  if (!/^[\x20-\x7e]+$/.test(text))
+    throw new RangeError(`\`text\` must be printable ASCII, got ${JSON.stringify(text)}`);
   const elements = code128Elements(text);
   let x = QUIET_ZONE_MODULES;
   let bars = '';

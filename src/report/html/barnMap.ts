@@ -63,14 +63,21 @@ export interface BarnGeometry {
  * @throws RangeError for a bad scale or margin, or any layout error of expandLayout
  * @see src/domain/layout.ts (the coordinates this draws)
  */
-export function barnGeometry(layout: BarnLayout, scale: number, margin: MapMargin = { left: 0, top: 0, right: 0, bottom: 0 }): BarnGeometry {
+export function barnGeometry(
+  layout: BarnLayout,
+  scale: number,
+  margin: MapMargin = { left: 0, top: 0, right: 0, bottom: 0 },
+): BarnGeometry {
   if (!Number.isFinite(scale) || scale <= 0) throw new RangeError(`\`scale\` must be a number > 0, got ${scale}`);
   for (const [side, value] of Object.entries(margin)) {
-    if (!Number.isFinite(value) || value < 0) throw new RangeError(`\`margin.${side}\` must be a number >= 0, got ${value}`);
+    if (!Number.isFinite(value) || value < 0)
+      throw new RangeError(`\`margin.${side}\` must be a number >= 0, got ${value}`);
   }
   const pens = expandLayout(layout);
   const { penWidth, penDepth, alleyWidth, gapWidth } = layout;
-  const gaps = [...new Set(layout.gapsAfter)].filter((after) => after >= 1 && after < layout.pensPerRow).sort((a, b) => a - b);
+  const gaps = [...new Set(layout.gapsAfter)]
+    .filter((after) => after >= 1 && after < layout.pensPerRow)
+    .sort((a, b) => a - b);
   const lengthUnits = layout.pensPerRow * penWidth + gaps.length * gapWidth;
   const alleys = Math.floor(layout.rows / 2);
   const depthUnits = layout.rows * penDepth + alleys * alleyWidth;
@@ -89,11 +96,23 @@ export function barnGeometry(layout: BarnLayout, scale: number, margin: MapMargi
   const bands: BandRect[] = [];
   for (let k = 1; k <= alleys; k++) {
     if (alleyWidth <= 0) break;
-    bands.push({ kind: 'alley', x: margin.left, y: margin.top + px((2 * k - 1) * penDepth + (k - 1) * alleyWidth), width: px(lengthUnits), height: px(alleyWidth) });
+    bands.push({
+      kind: 'alley',
+      x: margin.left,
+      y: margin.top + px((2 * k - 1) * penDepth + (k - 1) * alleyWidth),
+      width: px(lengthUnits),
+      height: px(alleyWidth),
+    });
   }
   gaps.forEach((after, index) => {
     if (gapWidth <= 0) return;
-    bands.push({ kind: 'gap', x: margin.left + px(after * penWidth + index * gapWidth), y: margin.top, width: px(gapWidth), height: px(depthUnits) });
+    bands.push({
+      kind: 'gap',
+      x: margin.left + px(after * penWidth + index * gapWidth),
+      y: margin.top,
+      width: px(gapWidth),
+      height: px(depthUnits),
+    });
   });
   const rowLabels = layout.rowLabels.map((label, row) => {
     const first = rects.find((rect) => rect.row === row)!;
@@ -158,10 +177,18 @@ export function textWidth(text: string, fontSize: number): number {
   return em * fontSize;
 }
 
-const overlaps = (a: { x: number; y: number; width: number; height: number }, b: { x: number; y: number; width: number; height: number }) =>
-  a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
+const overlaps = (
+  a: { x: number; y: number; width: number; height: number },
+  b: { x: number; y: number; width: number; height: number },
+) => a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
 
-const SYMBOL: Readonly<Record<PenMark['resultClass'], string>> = { positive: '+', suspect: '?', negative: '\u2212', invalid: '\u00d7', missing: 'M' };
+const SYMBOL: Readonly<Record<PenMark['resultClass'], string>> = {
+  positive: '+',
+  suspect: '?',
+  negative: '\u2212',
+  invalid: '\u00d7',
+  missing: 'M',
+};
 const fmt = (value: number) => String(Math.round(value * 10) / 10);
 
 function patternDefs(prefix: string): string {
@@ -202,7 +229,9 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   const full = options.detail === 'full';
   // The left margin holds the row labels whole ("West", "Middle"), 5 px either side.
   const labelRoom = Math.max(...barn.layout.rowLabels.map((label) => textWidth(label, ROW_LABEL_SIZE))) + 10;
-  const margin = full ? { left: Math.max(26, Math.ceil(labelRoom)), top: 18, right: 8, bottom: 8 } : { left: 10, top: 4, right: 4, bottom: 4 };
+  const margin = full
+    ? { left: Math.max(26, Math.ceil(labelRoom)), top: 18, right: 8, bottom: 8 }
+    : { left: 10, top: 4, right: 4, bottom: 4 };
   const geometry = barnGeometry(barn.layout, options.scale, margin);
   const prefix = safeId(options.key);
   const parts: string[] = [];
@@ -215,7 +244,9 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   parts.push(`<title id="${prefix}-title">${escapeHtml(options.title)}</title>`);
   parts.push(patternDefs(prefix));
   for (const band of geometry.bands) {
-    parts.push(`<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`);
+    parts.push(
+      `<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`,
+    );
   }
   const byId = new Map(geometry.pens.map((pen) => [pen.id, pen]));
   const clusterBoxes = (options.clusters ?? []).flatMap((cluster) => {
@@ -228,7 +259,24 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
     const y1 = Math.max(...members.map((pen) => pen.y + pen.height)) + pad;
     const label = `C${cluster.index}`;
     const labelY = Math.max(9, y0 - 3);
-    return [{ index: cluster.index, x0, y0, x1, y1, label, labelX: x0 + 2, labelY, labelBox: { x: x0 + 2, y: labelY - CLUSTER_LABEL_SIZE, width: textWidth(label, CLUSTER_LABEL_SIZE), height: CLUSTER_LABEL_SIZE + 3 } }];
+    return [
+      {
+        index: cluster.index,
+        x0,
+        y0,
+        x1,
+        y1,
+        label,
+        labelX: x0 + 2,
+        labelY,
+        labelBox: {
+          x: x0 + 2,
+          y: labelY - CLUSTER_LABEL_SIZE,
+          width: textWidth(label, CLUSTER_LABEL_SIZE),
+          height: CLUSTER_LABEL_SIZE + 3,
+        },
+      },
+    ];
   });
   if (full) {
     for (const alley of geometry.bands.filter((band) => band.kind === 'alley')) {
@@ -238,12 +286,18 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
       // Left end first, then the right end, then the middle: the first place no cluster label covers.
       const candidates = [alley.x + 4, alley.x + alley.width - 4 - width, alley.x + (alley.width - width) / 2];
       const box = (x: number) => ({ x, y: alley.y + alley.height / 2 - size / 2, width, height: size });
-      const x = candidates.find((candidate) => clusterBoxes.every((cluster) => !overlaps(box(candidate), cluster.labelBox))) ?? null;
+      const x =
+        candidates.find((candidate) => clusterBoxes.every((cluster) => !overlaps(box(candidate), cluster.labelBox))) ??
+        null;
       if (x === null) continue;
-      parts.push(`<text class="alley-label" x="${fmt(x)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(size)}" fill="${COLOURS.muted}">alley</text>`);
+      parts.push(
+        `<text class="alley-label" x="${fmt(x)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(size)}" fill="${COLOURS.muted}">alley</text>`,
+      );
     }
     for (const label of geometry.rowLabels) {
-      parts.push(`<text class="row-label" x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="${ROW_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`);
+      parts.push(
+        `<text class="row-label" x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="${ROW_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`,
+      );
     }
   }
   const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
@@ -256,7 +310,10 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
     else if (pen.status === 'out-of-use') fill = `url(#${prefix}-out)`;
     if (result && result.resultClass !== 'missing') {
       const step = LOAD_RAMP[result.shade ?? loadStep(result.load)];
-      if (step === undefined) throw new RangeError(`\`shade\` of pen ${pen.id} must be an integer in [0, ${LOAD_RAMP.length - 1}], got ${result.shade}`);
+      if (step === undefined)
+        throw new RangeError(
+          `\`shade\` of pen ${pen.id} must be an integer in [0, ${LOAD_RAMP.length - 1}], got ${result.shade}`,
+        );
       fill = step.fill;
       ink = step.ink;
     }
@@ -271,7 +328,15 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
       ...(positive ? ['data-positive=""'] : []),
       ...(planned ? [`data-planned="${planned.reason}"`] : []),
     ].join(' ');
-    const tip = [pen.id, pen.status === 'in-use' ? '' : pen.status, result ? `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}` : '', result?.note ?? '', planned ? `${planned.reason} rope #${planned.order}` : '']
+    const tip = [
+      pen.id,
+      pen.status === 'in-use' ? '' : pen.status,
+      result
+        ? `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`
+        : '',
+      result?.note ?? '',
+      planned ? `${planned.reason} rope #${planned.order}` : '',
+    ]
       .filter((text) => text !== '')
       .join(', ');
     parts.push(`<g class="pen" ${data}><title>${escapeHtml(tip)}</title>`);
@@ -281,21 +346,37 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
     if (full) {
       const cx = pen.x + pen.width / 2;
       const statusText = pen.status === 'empty' ? 'empty' : pen.status === 'out-of-use' ? 'out' : '';
-      const labelBox = statusText !== '' && !result ? `<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + 2)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>` : '';
+      const labelBox =
+        statusText !== '' && !result
+          ? `<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + 2)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`
+          : '';
       parts.push(labelBox);
-      parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + 3 + fontSize * 0.85)}" text-anchor="middle" font-size="${fmt(fontSize)}" fill="${ink}">${escapeHtml(pen.id)}</text>`);
+      parts.push(
+        `<text x="${fmt(cx)}" y="${fmt(pen.y + 3 + fontSize * 0.85)}" text-anchor="middle" font-size="${fmt(fontSize)}" fill="${ink}">${escapeHtml(pen.id)}</text>`,
+      );
       if (result) {
-        parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.72)}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(fontSize * 1.45)}" font-weight="700" fill="${ink}">${SYMBOL[result.resultClass]}</text>`);
-        if (result.newPositive) parts.push(`<polygon points="${fmt(pen.x + pen.width - 9)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 9)}" fill="#ffffff" stroke="#000000" stroke-width="1"/>`);
+        parts.push(
+          `<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.72)}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(fontSize * 1.45)}" font-weight="700" fill="${ink}">${SYMBOL[result.resultClass]}</text>`,
+        );
+        if (result.newPositive)
+          parts.push(
+            `<polygon points="${fmt(pen.x + pen.width - 9)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 9)}" fill="#ffffff" stroke="#000000" stroke-width="1"/>`,
+          );
       } else if (planned) {
         const cy = pen.y + pen.height * 0.66;
         const r = Math.min(pen.width, pen.height) * 0.24;
         parts.push(plannedSymbol(planned, cx, cy, r));
         // Two-digit numbers sit lower in the triangle, where it is wide enough.
-        parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + (planned.reason === 'follow-up' ? r * 0.3 : 0))}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(Math.max(7, r * (planned.order >= 10 ? 0.85 : 1.05)))}" font-weight="700" fill="#000000">${planned.order}</text>`);
+        parts.push(
+          `<text x="${fmt(cx)}" y="${fmt(cy + (planned.reason === 'follow-up' ? r * 0.3 : 0))}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(Math.max(7, r * (planned.order >= 10 ? 0.85 : 1.05)))}" font-weight="700" fill="#000000">${planned.order}</text>`,
+        );
       } else if (statusText !== '') {
-        parts.push(`<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + pen.height * 0.55)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`);
-        parts.push(`<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.55 + fontSize * 0.9)}" text-anchor="middle" font-size="${fmt(fontSize * 0.8)}" fill="${COLOURS.ink}">${statusText}</text>`);
+        parts.push(
+          `<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + pen.height * 0.55)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`,
+        );
+        parts.push(
+          `<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.55 + fontSize * 0.9)}" text-anchor="middle" font-size="${fmt(fontSize * 0.8)}" fill="${COLOURS.ink}">${statusText}</text>`,
+        );
       }
     }
     parts.push(`</g>`);
@@ -303,7 +384,9 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   for (const cluster of clusterBoxes) {
     parts.push(
       `<g class="cluster" data-cluster="${cluster.index}"><rect x="${fmt(cluster.x0)}" y="${fmt(cluster.y0)}" width="${fmt(cluster.x1 - cluster.x0)}" height="${fmt(cluster.y1 - cluster.y0)}" rx="${full ? 8 : 3}" fill="none" stroke="${COLOURS.cluster}" stroke-width="${full ? 2 : 1.2}" stroke-dasharray="${full ? '7 3' : '3 2'}"/>` +
-        (full ? `<text class="cluster-label" x="${fmt(cluster.labelX)}" y="${fmt(cluster.labelY)}" font-size="${CLUSTER_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${cluster.label}</text>` : '') +
+        (full
+          ? `<text class="cluster-label" x="${fmt(cluster.labelX)}" y="${fmt(cluster.labelY)}" font-size="${CLUSTER_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${cluster.label}</text>`
+          : '') +
         `</g>`,
     );
   }

@@ -46,8 +46,10 @@ const fmt = (value: number) => String(Math.round(value * 10) / 10);
  * @throws RangeError for a bad cycle limit or Ct
  */
 export function ctAxis(cts: readonly number[], cycleLimit: number): { top: number; bottom: number } {
-  if (!Number.isFinite(cycleLimit) || cycleLimit <= 0) throw new RangeError(`\`cycleLimit\` must be a number > 0, got ${cycleLimit}`);
-  for (const ct of cts) if (!Number.isFinite(ct) || ct <= 0) throw new RangeError(`\`ct\` must be a number > 0, got ${ct}`);
+  if (!Number.isFinite(cycleLimit) || cycleLimit <= 0)
+    throw new RangeError(`\`cycleLimit\` must be a number > 0, got ${cycleLimit}`);
+  for (const ct of cts)
+    if (!Number.isFinite(ct) || ct <= 0) throw new RangeError(`\`ct\` must be a number > 0, got ${ct}`);
   const lowest = Math.min(20, ...cts);
   const top = Math.max(0, Math.floor(lowest / 5) * 5);
   return { top, bottom: Math.max(cycleLimit, ...cts) };
@@ -80,7 +82,11 @@ interface TrendFrame {
   /** The round labels under the axis (at most about seven, the last always). */
   roundLabels: () => string[];
   /** A dashed line per lab cutoff with its value on the right; close lines take turns above and below, so values never overprint. */
-  cutoffLines: (shown: readonly { value: number; label: string }[], yAt: (value: number) => number, valueText: (value: number) => string) => string[];
+  cutoffLines: (
+    shown: readonly { value: number; label: string }[],
+    yAt: (value: number) => number,
+    valueText: (value: number) => string,
+  ) => string[];
 }
 
 function trendFrame(
@@ -95,11 +101,13 @@ function trendFrame(
   const right = layout.rightWithCutoffs ?? 10;
   const top = 20;
   const bottom = 30 + (layout.anyInvalid ? 12 : 0);
-  const rounds = options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
+  const rounds =
+    options.rounds.length > 0 ? options.rounds : points.map((point) => ({ round: point.round, label: point.label }));
   const index = new Map(rounds.map((entry, i) => [entry.round, i]));
   const plotW = width - left - right;
   const plotH = height - top - bottom;
-  const xAt = (round: number) => left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
+  const xAt = (round: number) =>
+    left + (rounds.length <= 1 ? plotW / 2 : ((index.get(round) ?? 0) * plotW) / (rounds.length - 1));
   const head = (extraAttributes: string) => [
     `<svg xmlns="http://www.w3.org/2000/svg" class="trend" viewBox="0 0 ${width} ${height}" width="${width}" height="${height}" role="img" data-trend=""${extraAttributes}>`,
     `<title>${escapeHtml(options.title)}</title>`,
@@ -110,9 +118,16 @@ function trendFrame(
     const labelsY = height - bottom + 13 + (layout.anyInvalid ? 12 : 0);
     return rounds
       .filter((_, i) => i % step === 0 || i === rounds.length - 1)
-      .map((entry) => `<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`);
+      .map(
+        (entry) =>
+          `<text x="${fmt(xAt(entry.round))}" y="${labelsY}" text-anchor="middle" font-size="9" fill="${COLOURS.muted}">${escapeHtml(entry.label)}</text>`,
+      );
   };
-  const cutoffLines = (shown: readonly { value: number; label: string }[], yAt: (value: number) => number, valueText: (value: number) => string) =>
+  const cutoffLines = (
+    shown: readonly { value: number; label: string }[],
+    yAt: (value: number) => number,
+    valueText: (value: number) => string,
+  ) =>
     shown.flatMap((cutoff, i) => {
       const y = yAt(cutoff.value);
       const below = i % 2 === 1 && Math.abs(y - yAt(shown[i - 1]!.value)) < 10;
@@ -133,29 +148,49 @@ function trendFrame(
 export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptions): string {
   const anyInvalid = points.some((point) => pointKind(point) === 'invalid');
   const detected = points.filter((point) => pointKind(point) === 'ct');
-  const axis = ctAxis(detected.map((point) => point.ct!), options.cycleLimit);
-  const shown = [...options.cutoffs].filter((cutoff) => cutoff.value > axis.top && cutoff.value < axis.bottom).sort((a, b) => a.value - b.value);
-  const { width, height, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 22 : null });
+  const axis = ctAxis(
+    detected.map((point) => point.ct!),
+    options.cycleLimit,
+  );
+  const shown = [...options.cutoffs]
+    .filter((cutoff) => cutoff.value > axis.top && cutoff.value < axis.bottom)
+    .sort((a, b) => a.value - b.value);
+  const { width, height, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, {
+    anyInvalid,
+    rightWithCutoffs: shown.length > 0 ? 22 : null,
+  });
   const yAt = (ct: number) => top + ((ct - axis.top) / (axis.bottom - axis.top)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
   const parts: string[] = head('');
   // Gridlines every 5 cycles, labelled on the left.
   for (let ct = Math.ceil(axis.top / 5) * 5; ct <= axis.bottom; ct += 5) {
-    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(ct))}" y2="${fmt(yAt(ct))}" stroke="#d4d4d4" stroke-width="0.8"/>`);
-    parts.push(`<text x="${left - 4}" y="${fmt(yAt(ct))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${ct}</text>`);
+    parts.push(
+      `<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(ct))}" y2="${fmt(yAt(ct))}" stroke="#d4d4d4" stroke-width="0.8"/>`,
+    );
+    parts.push(
+      `<text x="${left - 4}" y="${fmt(yAt(ct))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${ct}</text>`,
+    );
   }
-  parts.push(`<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">Ct (up = more virus)</text>`);
+  parts.push(
+    `<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">Ct (up = more virus)</text>`,
+  );
   parts.push(...cutoffLines(shown, yAt, fmt));
-  parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
+  parts.push(
+    `<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`,
+  );
   if (anyInvalid) {
-    parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
+    parts.push(
+      `<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`,
+    );
   }
   parts.push(...roundLabels());
   parts.push(
     `<text x="${width - right}" y="${height - 3}" text-anchor="end" font-size="8.5" fill="${COLOURS.muted}">bottom line: not detected (n.d.)${anyInvalid ? '; \u00d7 invalid' : ''}</text>`,
   );
   if (detected.length >= 2) {
-    const path = detected.map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.ct!))}`).join(' ');
+    const path = detected
+      .map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.ct!))}`)
+      .join(' ');
     parts.push(`<path d="${path}" fill="none" stroke="${COLOURS.ink}" stroke-width="1.6"/>`);
   }
   for (const point of points) {
@@ -167,11 +202,17 @@ export function renderCtTrend(points: readonly TrendPoint[], options: TrendOptio
         );
         break;
       case 'nd':
-        parts.push(`<circle cx="${fmt(x)}" cy="${fmt(yAt(axis.bottom))}" r="3.2" fill="#ffffff" stroke="${COLOURS.ink}" stroke-width="1.3" data-point="nd"><title>${escapeHtml(`${point.label}: not detected`)}</title></circle>`);
+        parts.push(
+          `<circle cx="${fmt(x)}" cy="${fmt(yAt(axis.bottom))}" r="3.2" fill="#ffffff" stroke="${COLOURS.ink}" stroke-width="1.3" data-point="nd"><title>${escapeHtml(`${point.label}: not detected`)}</title></circle>`,
+        );
         break;
       case 'ct':
-        parts.push(`<circle cx="${fmt(x)}" cy="${fmt(yAt(point.ct!))}" r="3.4" fill="${COLOURS.ink}" data-point="ct"><title>${escapeHtml(`${point.label}: Ct ${point.ct} (${point.resultClass})`)}</title></circle>`);
-        parts.push(`<text x="${fmt(x)}" y="${fmt(yAt(point.ct!) - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${fmt(point.ct!)}</text>`);
+        parts.push(
+          `<circle cx="${fmt(x)}" cy="${fmt(yAt(point.ct!))}" r="3.4" fill="${COLOURS.ink}" data-point="ct"><title>${escapeHtml(`${point.label}: Ct ${point.ct} (${point.resultClass})`)}</title></circle>`,
+        );
+        parts.push(
+          `<text x="${fmt(x)}" y="${fmt(yAt(point.ct!) - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${fmt(point.ct!)}</text>`,
+        );
         break;
     }
   }
@@ -222,7 +263,8 @@ export interface SpTrendOptions {
  */
 export function spAxis(sps: readonly number[], cutoffs: readonly number[]): { bottom: number; top: number } {
   for (const sp of sps) if (!Number.isFinite(sp)) throw new RangeError(`\`sp\` must be a finite number, got ${sp}`);
-  for (const cutoff of cutoffs) if (!Number.isFinite(cutoff) || cutoff <= 0) throw new RangeError(`\`cutoff\` must be a number > 0, got ${cutoff}`);
+  for (const cutoff of cutoffs)
+    if (!Number.isFinite(cutoff) || cutoff <= 0) throw new RangeError(`\`cutoff\` must be a number > 0, got ${cutoff}`);
   const bottom = Math.min(0, Math.floor(Math.min(0, ...sps) * 2) / 2);
   const top = Math.max(1, Math.ceil(Math.max(...sps, ...cutoffs, 0) * 2) / 2);
   return { bottom, top };
@@ -243,7 +285,10 @@ export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendO
     options.cutoffs.map((cutoff) => cutoff.value),
   );
   const shown = [...options.cutoffs].sort((a, b) => a.value - b.value);
-  const { width, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, { anyInvalid, rightWithCutoffs: shown.length > 0 ? 26 : null });
+  const { width, left, right, top, plotH, xAt, head, roundLabels, cutoffLines } = trendFrame(points, options, {
+    anyInvalid,
+    rightWithCutoffs: shown.length > 0 ? 26 : null,
+  });
   const yAt = (sp: number) => top + ((axis.top - sp) / (axis.top - axis.bottom)) * plotH;
   const invalidY = yAt(axis.bottom) + 11;
   const spLabel = (sp: number) => String(Math.round(sp * 100) / 100);
@@ -251,27 +296,46 @@ export function renderSpTrend(points: readonly SpTrendPoint[], options: SpTrendO
   const grid = axis.top - axis.bottom <= 3 ? 0.5 : 1;
   for (let k = Math.ceil(axis.bottom / grid); k * grid <= axis.top + 1e-9; k++) {
     const value = k * grid;
-    parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(value))}" y2="${fmt(yAt(value))}" stroke="#d4d4d4" stroke-width="0.8"/>`);
-    parts.push(`<text x="${left - 4}" y="${fmt(yAt(value))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${spLabel(value)}</text>`);
+    parts.push(
+      `<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(value))}" y2="${fmt(yAt(value))}" stroke="#d4d4d4" stroke-width="0.8"/>`,
+    );
+    parts.push(
+      `<text x="${left - 4}" y="${fmt(yAt(value))}" text-anchor="end" dominant-baseline="central" font-size="9" fill="${COLOURS.muted}">${spLabel(value)}</text>`,
+    );
   }
-  parts.push(`<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">S/P (up = more antibody)</text>`);
+  parts.push(
+    `<text x="4" y="${fmt(top + 2)}" font-size="8.5" fill="${COLOURS.muted}" transform="rotate(-90 4 ${fmt(top + 2)})" text-anchor="end" dominant-baseline="hanging">S/P (up = more antibody)</text>`,
+  );
   parts.push(...cutoffLines(shown, yAt, spLabel));
-  parts.push(`<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`);
-  if (anyInvalid) parts.push(`<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`);
+  parts.push(
+    `<line x1="${left}" x2="${width - right}" y1="${fmt(yAt(axis.bottom))}" y2="${fmt(yAt(axis.bottom))}" stroke="#6b7280" stroke-width="1"/>`,
+  );
+  if (anyInvalid)
+    parts.push(
+      `<text x="${left - 7}" y="${fmt(invalidY)}" text-anchor="end" dominant-baseline="central" font-size="8.5" fill="${COLOURS.muted}">invalid</text>`,
+    );
   parts.push(...roundLabels());
   if (valued.length >= 2) {
-    const path = valued.map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.sp!))}`).join(' ');
+    const path = valued
+      .map((point, i) => `${i === 0 ? 'M' : 'L'}${fmt(xAt(point.round))},${fmt(yAt(point.sp!))}`)
+      .join(' ');
     parts.push(`<path d="${path}" fill="none" stroke="${COLOURS.ink}" stroke-width="1.6"/>`);
   }
   for (const point of points) {
     const x = xAt(point.round);
     if (point.resultClass === 'invalid' || point.sp === null) {
-      parts.push(`<path d="${cross(x, invalidY, 3.6)}" stroke="${COLOURS.ink}" stroke-width="2" fill="none" data-point="invalid"><title>${escapeHtml(`${point.label}: invalid, retest (no reading)`)}</title></path>`);
+      parts.push(
+        `<path d="${cross(x, invalidY, 3.6)}" stroke="${COLOURS.ink}" stroke-width="2" fill="none" data-point="invalid"><title>${escapeHtml(`${point.label}: invalid, retest (no reading)`)}</title></path>`,
+      );
       continue;
     }
     const y = yAt(point.sp);
-    parts.push(`<circle cx="${fmt(x)}" cy="${fmt(y)}" r="3.4" fill="${COLOURS.ink}" data-point="sp"><title>${escapeHtml(`${point.label}: S/P ${point.sp} (${point.resultClass})`)}</title></circle>`);
-    parts.push(`<text x="${fmt(x)}" y="${fmt(y - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${spLabel(point.sp)}</text>`);
+    parts.push(
+      `<circle cx="${fmt(x)}" cy="${fmt(y)}" r="3.4" fill="${COLOURS.ink}" data-point="sp"><title>${escapeHtml(`${point.label}: S/P ${point.sp} (${point.resultClass})`)}</title></circle>`,
+    );
+    parts.push(
+      `<text x="${fmt(x)}" y="${fmt(y - 6)}" text-anchor="middle" font-size="8.5" fill="${COLOURS.ink}">${spLabel(point.sp)}</text>`,
+    );
   }
   parts.push('</svg>');
   return parts.join('');

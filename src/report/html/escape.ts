@@ -4,7 +4,13 @@
  * or quotes, and a page must show them as text, never as markup.
  */
 
-const ENTITIES: Readonly<Record<string, string>> = { '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' };
+const ENTITIES: Readonly<Record<string, string>> = {
+  '&': '&amp;',
+  '<': '&lt;',
+  '>': '&gt;',
+  '"': '&quot;',
+  "'": '&#39;',
+};
 
 /**
  * Escapes text for an HTML/SVG text node or a double- or single-quoted attribute value.

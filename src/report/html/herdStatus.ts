@@ -21,7 +21,10 @@ export function numbersSay(summary: RoundSummary): string[] {
         : `no positive in ${tested} tested rope${tested === 1 ? '' : 's'}`;
     const freedom = assay.measure === 'sp-ratio' ? 'probability of freedom from exposure' : 'probability of freedom';
     // A site positive for a PCR assay is not free: its status, not a probability, is what the numbers say.
-    const standing = assay.site.status?.state === 'positive' ? `positive since round ${assay.site.status.sinceRound}` : `${freedom} ${pct(assay.site.freedom)}`;
+    const standing =
+      assay.site.status?.state === 'positive'
+        ? `positive since round ${assay.site.status.sinceRound}`
+        : `${freedom} ${pct(assay.site.freedom)}`;
     return `${assay.name}: ${found}; detection confidence ${pct(assay.site.detectionConfidence)}, ${standing}.`;
   });
 }

@@ -13,7 +13,14 @@ export interface SiteDigest {
   site: { id: string; name: string };
   latestRound: { number: number; id: string; startOn: string; endOn: string } | null;
   /** `action` and `detail` are absent from digests written before alerts had two lines. */
-  alerts: { kind: string; assayId: string | null; barnId: string | null; message: string; action?: string; detail?: string }[];
+  alerts: {
+    kind: string;
+    assayId: string | null;
+    barnId: string | null;
+    message: string;
+    action?: string;
+    detail?: string;
+  }[];
   notices: string[];
   nextRound: { round: number; dueDate: string; overdue: boolean; daysOverdue: number };
   /** Paths relative to the outbox. */
@@ -55,7 +62,10 @@ export function renderIndexPage(digests: readonly SiteDigest[], organisation: st
       const earlier = digest.links.rounds
         .slice(0, -1)
         .reverse()
-        .map((round) => `<a href="${escapeHtml(round.summary)}">${escapeHtml(round.id)}</a> (<a href="${escapeHtml(round.clusters)}">clusters</a>)`)
+        .map(
+          (round) =>
+            `<a href="${escapeHtml(round.summary)}">${escapeHtml(round.id)}</a> (<a href="${escapeHtml(round.clusters)}">clusters</a>)`,
+        )
         .join(', ');
       return (
         `<tr data-site="${escapeHtml(digest.site.id)}"><td><strong>${escapeHtml(digest.site.name)}</strong><br><span class="muted">${escapeHtml(digest.site.id)}</span></td>` +

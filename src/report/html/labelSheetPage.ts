@@ -113,7 +113,11 @@ function css(layout: LabelLayout): string {
  * at its template position. On screen it says how to print and carries the notices and cautions;
  * in print only the labels remain.
  */
-export function renderLabelSheetPage(plan: NextRoundPlan, layout: LabelLayout, notices: readonly string[] = []): string {
+export function renderLabelSheetPage(
+  plan: NextRoundPlan,
+  layout: LabelLayout,
+  notices: readonly string[] = [],
+): string {
   const perSheet = layout.columns * layout.rows;
   const u = (value: number) => `${Math.round(value * 10000) / 10000}${layout.unit}`;
   const labels = plan.ropes.map((rope, index) => {
@@ -128,7 +132,8 @@ export function renderLabelSheetPage(plan: NextRoundPlan, layout: LabelLayout, n
     );
   });
   const sheets: string[] = [];
-  for (let start = 0; start < labels.length; start += perSheet) sheets.push(`<section class="sheet">${labels.slice(start, start + perSheet).join('')}</section>`);
+  for (let start = 0; start < labels.length; start += perSheet)
+    sheets.push(`<section class="sheet">${labels.slice(start, start + perSheet).join('')}</section>`);
   const title = `${plan.site.name}: tube labels for round ${plan.round}`;
   return (
     `<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n<meta name="viewport" content="width=device-width, initial-scale=1">\n` +

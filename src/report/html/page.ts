@@ -129,12 +129,17 @@ export function cautionsBlock(): string {
 
 /** The notifiable notices, one prominent box each. */
 export function noticesBlock(notices: readonly string[]): string {
-  return notices.map((text) => `<div class="notice" role="alert" data-notifiable="">${escapeHtml(text)}</div>`).join('');
+  return notices
+    .map((text) => `<div class="notice" role="alert" data-notifiable="">${escapeHtml(text)}</div>`)
+    .join('');
 }
 
 /** A whole HTML document: shell, CSS, notices first, the body, the cautions last. */
 export function renderPage(input: PageInput): string {
-  const nav = input.nav && input.nav.length > 0 ? `<nav>${input.nav.map((link) => `<a href="${escapeHtml(link.href)}">${escapeHtml(link.label)}</a>`).join('')}</nav>` : '';
+  const nav =
+    input.nav && input.nav.length > 0
+      ? `<nav>${input.nav.map((link) => `<a href="${escapeHtml(link.href)}">${escapeHtml(link.label)}</a>`).join('')}</nav>`
+      : '';
   return (
     `<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n<meta name="viewport" content="width=device-width, initial-scale=1">\n` +
     `<title>${escapeHtml(input.title)}</title>\n<style>${CSS}</style>\n</head>\n<body${input.large ? ' class="large"' : ''}>\n` +
@@ -146,7 +151,9 @@ export function renderPage(input: PageInput): string {
 function swatch(fill: string, stroke: string, strokeWidth: number, symbol = '', ink: string = COLOURS.ink): string {
   return (
     `<svg width="20" height="20" viewBox="0 0 20 20" aria-hidden="true"><rect x="1.5" y="1.5" width="17" height="17" fill="${fill}" stroke="${stroke}" stroke-width="${strokeWidth}"/>` +
-    (symbol ? `<text x="10" y="10.5" text-anchor="middle" dominant-baseline="central" font-size="13" font-weight="700" fill="${ink}">${symbol}</text>` : '') +
+    (symbol
+      ? `<text x="10" y="10.5" text-anchor="middle" dominant-baseline="central" font-size="13" font-weight="700" fill="${ink}">${symbol}</text>`
+      : '') +
     `</svg>`
   );
 }
@@ -163,7 +170,9 @@ export interface LegendLimit {
 /** The Ct range a load step stands for at one cycle limit: step k covers loads (5(k-1), 5k]. */
 function stepRange(index: number, cycleLimit: number): string {
   const band = LOAD_BAND_CYCLES;
-  return index === LOAD_RAMP.length - 1 ? `&lt; ${cycleLimit - band * (index - 1)}` : `${cycleLimit - band * index}\u2013${cycleLimit - band * (index - 1)}`;
+  return index === LOAD_RAMP.length - 1
+    ? `&lt; ${cycleLimit - band * (index - 1)}`
+    : `${cycleLimit - band * index}\u2013${cycleLimit - band * (index - 1)}`;
 }
 
 /**
@@ -198,9 +207,7 @@ export function legendShades(list: readonly LegendLimit[]): string {
       ? ''
       : ` Cycle limit of the lab that reported each rope: ${named.map((limit) => `${limit.cycleLimit} (${escapeHtml(limit.labs.join(', '))})`).join('; ')}.`;
   const cmax = list.length === 1 ? String(list[0]!.cycleLimit) : 'cycle limit';
-  return (
-    `<div class="legend" data-legend=""><span class="item"><strong>Shade = load (${cmax} \u2212 Ct), darker = more virus:</strong>${whose}</span>${ramp}</div>`
-  );
+  return `<div class="legend" data-legend=""><span class="item"><strong>Shade = load (${cmax} \u2212 Ct), darker = more virus:</strong>${whose}</span>${ramp}</div>`;
 }
 
 /** A positive S/P cutoff the shading of a map used, and the labs whose results were read with it. */
@@ -242,8 +249,13 @@ export function spLegendShades(list: readonly SpLegendCutoff[]): string {
   }).join('');
   const named = list.length > 1 ? list.filter((cutoff) => cutoff.labs.length > 0) : [];
   const whose =
-    named.length === 0 ? '' : ` Positive cutoff of the lab that reported each rope: ${named.map((cutoff) => `${spText(cutoff.positiveAtOrAbove)} (${escapeHtml(cutoff.labs.join(', '))})`).join('; ')}.`;
-  const cut = list.length === 1 ? `positive at S/P \u2265 ${spText(list[0]!.positiveAtOrAbove)}` : 'shades at multiples of each lab\u2019s positive cutoff';
+    named.length === 0
+      ? ''
+      : ` Positive cutoff of the lab that reported each rope: ${named.map((cutoff) => `${spText(cutoff.positiveAtOrAbove)} (${escapeHtml(cutoff.labs.join(', '))})`).join('; ')}.`;
+  const cut =
+    list.length === 1
+      ? `positive at S/P \u2265 ${spText(list[0]!.positiveAtOrAbove)}`
+      : 'shades at multiples of each lab\u2019s positive cutoff';
   return `<div class="legend" data-legend="" data-measure="sp-ratio"><span class="item"><strong>Shade = S/P ratio (antibody), darker = more antibody; ${cut}:</strong>${whose}</span>${ramp}</div>`;
 }
 

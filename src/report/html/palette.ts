@@ -66,7 +66,8 @@ export const SP_STEP_MULTIPLES: readonly number[] = Object.freeze([0.5, 1, 2, 4]
  */
 export function spStep(sp: number, positiveAtOrAbove: number): number {
   if (!Number.isFinite(sp)) throw new RangeError(`\`sp\` must be a finite number, got ${sp}`);
-  if (!Number.isFinite(positiveAtOrAbove) || positiveAtOrAbove <= 0) throw new RangeError(`\`positiveAtOrAbove\` must be a number > 0, got ${positiveAtOrAbove}`);
+  if (!Number.isFinite(positiveAtOrAbove) || positiveAtOrAbove <= 0)
+    throw new RangeError(`\`positiveAtOrAbove\` must be a number > 0, got ${positiveAtOrAbove}`);
   let step = 0;
   for (const multiple of SP_STEP_MULTIPLES) if (sp >= multiple * positiveAtOrAbove) step++;
   return step;

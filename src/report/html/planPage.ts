@@ -16,7 +16,8 @@ export interface PlanPageInput {
   herdStatus?: string | undefined;
 }
 
-const days = (value: number | null | undefined) => (value === null || value === undefined || !Number.isFinite(value) ? 'n/a' : `${num(value, 1)} days`);
+const days = (value: number | null | undefined) =>
+  value === null || value === undefined || !Number.isFinite(value) ? 'n/a' : `${num(value, 1)} days`;
 
 function sizingBlock(plan: NextRoundPlan): string {
   const spatial = plan.sizing.sizingModel === 'spatial';
@@ -37,13 +38,17 @@ function sizingBlock(plan: NextRoundPlan): string {
     })
     .join('');
   const sizedBy = spatial ? 'the spread model' : 'the hypergeometric model';
-  const besideIt = spatial ? 'the hypergeometric model' : 'the spread model (what evenly spaced ropes buy under pen-to-pen spread)';
+  const besideIt = spatial
+    ? 'the hypergeometric model'
+    : 'the spread model (what evenly spaced ropes buy under pen-to-pen spread)';
   return (
     `<h2>How many ropes, and why</h2>` +
     `<p class="muted">Infected pens: at the design prevalence. Planned: the detection of the routine ropes by ${sizedBy}, which sized them; beside it: ${besideIt}.</p>` +
     `<table data-plan-sizing=""><thead><tr><th>Barn</th><th>Sized for</th><th class="num">Pens in use</th><th class="num">Infected pens</th><th class="num">Rope Se</th>` +
     `<th class="num">Routine</th><th class="num">Follow-up</th><th class="num">Retest</th><th class="num">Re-rope, tracking</th><th class="num">Planned</th><th class="num">Beside it</th></tr></thead><tbody>${rows}</tbody></table>` +
-    (plan.sizing.notes.length > 0 ? `<ul data-plan-notes="sizing">${plan.sizing.notes.map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>` : '') +
+    (plan.sizing.notes.length > 0
+      ? `<ul data-plan-notes="sizing">${plan.sizing.notes.map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>`
+      : '') +
     `<p data-plan-if-negative="">${escapeHtml(plan.sizing.ifNegative)}</p>`
   );
 }
@@ -78,7 +83,10 @@ function schedulesBlock(plan: NextRoundPlan): string {
       const growing = schedule.growing
         .map((option) => {
           const sim = option.simulated;
-          const simulated = sim.meanDays === null ? 'never detected' : `${days(sim.meanDays)}${sim.standardError === null ? '' : ` \u00b1 ${num(sim.standardError, 2)}`}${sim.censored > 0 ? ` (${sim.censored} of ${sim.replicates} not detected)` : ''}`;
+          const simulated =
+            sim.meanDays === null
+              ? 'never detected'
+              : `${days(sim.meanDays)}${sim.standardError === null ? '' : ` \u00b1 ${num(sim.standardError, 2)}`}${sim.censored > 0 ? ` (${sim.censored} of ${sim.replicates} not detected)` : ''}`;
           return `<tr data-schedule-growing="${escapeHtml(option.label)}"><td>${escapeHtml(option.label)}</td><td class="num">${option.ropes}</td><td class="num">${option.intervalDays}</td><td class="num">${simulated}</td></tr>`;
         })
         .join('');
@@ -86,7 +94,9 @@ function schedulesBlock(plan: NextRoundPlan): string {
         `<section class="barn" data-plan-schedules="${escapeHtml(schedule.barnId)}"><h3>Barn ${escapeHtml(schedule.barnId)}</h3>` +
         `<table><thead><tr><th>Schedule (same ropes per month)</th><th class="num">Ropes</th><th class="num">Every (days)</th><th class="num">Ropes per 30 days</th><th class="num">Detection per round</th><th class="num">Expected delay to detection</th></tr></thead><tbody>${statics}</tbody></table>` +
         `<table><thead><tr><th>Growing infection</th><th class="num">Ropes</th><th class="num">Every (days)</th><th class="num">Mean days to detection (simulated, \u00b1 SE)</th></tr></thead><tbody>${growing}</tbody></table>` +
-        (schedule.notes.length > 0 ? `<ul class="muted">${[...new Set(schedule.notes)].map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>` : '') +
+        (schedule.notes.length > 0
+          ? `<ul class="muted">${[...new Set(schedule.notes)].map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>`
+          : '') +
         `</section>`
       );
     })
@@ -114,7 +124,9 @@ function coverageBlock(plan: NextRoundPlan): string {
  */
 export function renderPlanPage(input: PlanPageInput): string {
   const { plan } = input;
-  const due = plan.overdue ? `<p class="overdue">Round ${plan.round} was due on ${escapeHtml(plan.dueDate)}: ${plan.daysOverdue} days overdue.</p>` : `<p class="due">Round ${plan.round} is due on ${escapeHtml(plan.dueDate)}.</p>`;
+  const due = plan.overdue
+    ? `<p class="overdue">Round ${plan.round} was due on ${escapeHtml(plan.dueDate)}: ${plan.daysOverdue} days overdue.</p>`
+    : `<p class="due">Round ${plan.round} is due on ${escapeHtml(plan.dueDate)}.</p>`;
   const other = plan.notes.filter((note) => !(plan.freedom === null && note.includes('freedom')));
   const body =
     due +
@@ -122,12 +134,16 @@ export function renderPlanPage(input: PlanPageInput): string {
     freedomBlock(plan) +
     schedulesBlock(plan) +
     coverageBlock(plan) +
-    (other.length > 0 ? `<h2>Other notes</h2><ul data-plan-notes="plan">${other.map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>` : '') +
+    (other.length > 0
+      ? `<h2>Other notes</h2><ul data-plan-notes="plan">${other.map((note) => `<li>${escapeHtml(note)}</li>`).join('')}</ul>`
+      : '') +
     `<p class="muted">Seed of the simulations: ${plan.seed}. The same store gives the same plan.</p>`;
   return renderPage({
     title: `${plan.site.name}: plan for round ${plan.round}`,
     heading: `${plan.site.name}: the plan for round ${plan.round}, and why`,
-    subheading: plan.basedOn ? `After round ${plan.basedOn.round} (${escapeHtml(plan.basedOn.startOn)}).` : 'No round yet: the first round.',
+    subheading: plan.basedOn
+      ? `After round ${plan.basedOn.round} (${escapeHtml(plan.basedOn.startOn)}).`
+      : 'No round yet: the first round.',
     notices: input.notices,
     herdStatus: input.herdStatus,
     nav: [

@@ -66,12 +66,19 @@ const three = (sequence: number) => String(sequence).padStart(3, '0');
 /** The sentence under the instructions that says why numbers are missing ('' when none is). */
 export function skippedLine(skipped: readonly SkippedSequence[]): string {
   if (skipped.length === 0) return '';
-  const list = (reason: SkippedSequence['reason']) => skipped.filter((entry) => entry.reason === reason).map((entry) => three(entry.sequence));
+  const list = (reason: SkippedSequence['reason']) =>
+    skipped.filter((entry) => entry.reason === reason).map((entry) => three(entry.sequence));
   const parts: string[] = [];
   const check = list('check-character');
   const earlier = list('earlier-plan');
-  if (check.length > 0) parts.push(`${check.join(', ')}: never used, because the last character of the ID would be I, O, L or *, which are easily misread`);
-  if (earlier.length > 0) parts.push(`${earlier.join(', ')}: given to a pen by an earlier version of this sheet that no longer needs a rope, and never given to another pen`);
+  if (check.length > 0)
+    parts.push(
+      `${check.join(', ')}: never used, because the last character of the ID would be I, O, L or *, which are easily misread`,
+    );
+  if (earlier.length > 0)
+    parts.push(
+      `${earlier.join(', ')}: given to a pen by an earlier version of this sheet that no longer needs a rope, and never given to another pen`,
+    );
   return `Sample numbers skipped on purpose, no tube is missing: ${parts.join('; ')}.`;
 }
 
@@ -82,7 +89,8 @@ export function sizingLine(plan: NextRoundPlan): string {
   const retest = plan.barns.reduce((sum, barn) => sum + barn.retest, 0);
   const reRope = plan.barns.reduce((sum, barn) => sum + barn.reRope, 0);
   const tracking = plan.barns.reduce((sum, barn) => sum + barn.tracking, 0);
-  const monitoring = reRope + tracking > 0 ? `, ${reRope} re-rope, ${tracking} tracking (positive barns, monitored)` : '';
+  const monitoring =
+    reRope + tracking > 0 ? `, ${reRope} re-rope, ${tracking} tracking (positive barns, monitored)` : '';
   return (
     `${count(plan.ropes.length, 'rope')} in ${count(plan.barns.length, 'barn')}: ${routine} routine, ${followUp} follow-up, ${retest} retest${monitoring}. ` +
     plan.sizing.ifNegative +
@@ -93,7 +101,8 @@ export function sizingLine(plan: NextRoundPlan): string {
 
 /** The checklist's column heads; the barn row above them repeats on every printed page. */
 // A pooled rope's pool is written under its sample ID (a column of its own would not fit the printed width).
-const COLUMNS = '<th class="num">#</th><th>Pen</th><th>Side</th><th>Sample ID</th><th>Why</th><th class="write">Date hung</th><th class="write initials">Initials</th><th class="write notes">Notes: hung elsewhere (pen) / pen empty</th>';
+const COLUMNS =
+  '<th class="num">#</th><th>Pen</th><th>Side</th><th>Sample ID</th><th>Why</th><th class="write">Date hung</th><th class="write initials">Initials</th><th class="write notes">Notes: hung elsewhere (pen) / pen empty</th>';
 
 /**
  * Renders the rope sheet (next-round.html). Checklist lines keep the plan's order, which is
@@ -110,8 +119,11 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
     .map((barn) => {
       const ropes = plan.ropes.filter((rope) => rope.barnId === barn.id);
       const title = `${escapeHtml(barn.name)} (${escapeHtml(barn.id)})`;
-      if (ropes.length === 0) return `<section class="barn sheet-barn" data-barn="${escapeHtml(barn.id)}"><h2>${title}</h2><p>No ropes in this barn this round.</p></section>`;
-      const planned = new Map<string, PlannedMark>(ropes.map((rope) => [rope.penId, { reason: rope.reason, order: order.get(`${rope.barnId}/${rope.penId}`)! }]));
+      if (ropes.length === 0)
+        return `<section class="barn sheet-barn" data-barn="${escapeHtml(barn.id)}"><h2>${title}</h2><p>No ropes in this barn this round.</p></section>`;
+      const planned = new Map<string, PlannedMark>(
+        ropes.map((rope) => [rope.penId, { reason: rope.reason, order: order.get(`${rope.barnId}/${rope.penId}`)! }]),
+      );
       const map = renderBarnMap(barn, {
         key: `sheet-${barn.id}`,
         scale: SHEET_SCALE,
@@ -136,7 +148,10 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
         `<tr>${COLUMNS}</tr></thead><tbody>${rows}</tbody></table>`;
       return (
         `<section class="barn sheet-barn" data-barn="${escapeHtml(barn.id)}"><div class="barn-top"><h2>${title}: ${count(ropes.length, 'rope')}</h2>` +
-        `<figure>${map}</figure>${sheetLegend(`sheet-${barn.id}`, ropes.some((rope) => rope.reason === 're-rope' || rope.reason === 'tracking'))}</div>${table}</section>`
+        `<figure>${map}</figure>${sheetLegend(
+          `sheet-${barn.id}`,
+          ropes.some((rope) => rope.reason === 're-rope' || rope.reason === 'tracking'),
+        )}</div>${table}</section>`
       );
     })
     .join('');
@@ -145,7 +160,10 @@ export function renderRopeSheetPage(input: RopeSheetInput): string {
     heading: `${plan.site.name}: ropes for round ${plan.round}`,
     subheading: escapeHtml(sizingLine(plan)),
     notices: input.notices,
-    nav: [{ href: '../index.html', label: 'All sites' }, ...LABEL_LAYOUTS.map((layout) => ({ href: layout.file, label: layout.link }))],
+    nav: [
+      { href: '../index.html', label: 'All sites' },
+      ...LABEL_LAYOUTS.map((layout) => ({ href: layout.file, label: layout.link })),
+    ],
     body:
       `${due}<p class="instructions">Hang one rope per listed pen, on the side of the alley given, for 20 to 30 minutes. Stick the pen's label on the tube (or write the sample ID on it); ` +
       `the lab scans the barcode. Walk in the order of the list; write the date and your initials on each line, and in Notes if a rope went to another pen or the pen was empty.</p>` +

@@ -14,7 +14,16 @@ import { alertItem, type PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
 import { confidenceSentence, count, pct, renderPage } from './page.js';
 import { EMPTY_BARN, groupText } from '../groupText.js';
-import { correctionsEntry, ingestAgainCommand, MISTYPED_ACTION, readingText, refusalGroups, replacementWhy, reportDates, simplyMissing } from '../roundNotes.js';
+import {
+  correctionsEntry,
+  ingestAgainCommand,
+  MISTYPED_ACTION,
+  readingText,
+  refusalGroups,
+  replacementWhy,
+  reportDates,
+  simplyMissing,
+} from '../roundNotes.js';
 
 export interface SummaryPageInput {
   summary: RoundSummary;
@@ -32,14 +41,21 @@ export interface SummaryPageInput {
  * assay), invalid results.
  */
 export function sinceBlock(summary: RoundSummary, since: SinceLastRound): string {
-  const pens = (list: readonly { penId: string | null; sampleId: string }[]) => (list.length === 0 ? '<span class="muted">none</span>' : escapeHtml(list.map((entry) => entry.penId ?? entry.sampleId).join(', ')));
+  const pens = (list: readonly { penId: string | null; sampleId: string }[]) =>
+    list.length === 0
+      ? '<span class="muted">none</span>'
+      : escapeHtml(list.map((entry) => entry.penId ?? entry.sampleId).join(', '));
   // One row per barn and assay with a change; missing ropes (no result for any assay) on the barn's first row.
   const rows = summary.barns
     .flatMap((barn) => {
-      const of = <T extends { barnId: string; assayId?: string }>(list: readonly T[], assayId: string) => list.filter((entry) => entry.barnId === barn.barnId && entry.assayId === assayId);
+      const of = <T extends { barnId: string; assayId?: string }>(list: readonly T[], assayId: string) =>
+        list.filter((entry) => entry.barnId === barn.barnId && entry.assayId === assayId);
       const missing = since.missing.filter((entry) => entry.barnId === barn.barnId);
       const lines = summary.assays
-        .map((assay) => ({ assayId: assay.id, parts: [of(since.newlyPositive, assay.id), of(since.cleared, assay.id), of(since.invalid, assay.id)] }))
+        .map((assay) => ({
+          assayId: assay.id,
+          parts: [of(since.newlyPositive, assay.id), of(since.cleared, assay.id), of(since.invalid, assay.id)],
+        }))
         .filter((line) => line.parts.some((part) => part.length > 0));
       if (lines.length === 0 && missing.length > 0) lines.push({ assayId: '', parts: [[], [], []] });
       return lines.map(
@@ -88,26 +104,39 @@ function siteTable(summary: RoundSummary): string {
       const site = assay.site;
       const antibody = assay.measure === 'sp-ratio';
       // An antibody assay's figures are of exposure: its reset never touches a PCR assay's freedom.
-      const freedom = site.status?.state === 'positive'
-        ? `<strong data-status="positive">positive</strong> since round ${site.status.sinceRound}: no probability of freedom while a barn is positive; ` +
-          `the site clears after ${count(summary.program.clearAfterNegativeRounds, 'negative round')} in a row in every positive barn (${site.status.negativeRoundsInARow} so far)`
-        : site.freedomReset
-        ? antibody
-          ? `freedom from exposure reset by an antibody positive round (was ${pct(site.priorFreedom)} before it); the PCR freedom is not reset`
-          : `reset by a positive round (was ${pct(site.priorFreedom)} before it)`
-        : `${antibody ? 'freedom from exposure: ' : ''}${pct(site.priorFreedom)} before this round \u2192 <strong>${pct(site.freedom)}</strong> after it (repeated rounds like this level off at ${pct(site.levelsOffAt)})`;
-      const result = site.positive ? `${antibody ? 'antibody ' : ''}positive in ${escapeHtml(site.positiveBarns.join(', '))}` : antibody ? 'no antibody-positive rope' : 'no positive rope';
-      const name = antibody ? `${escapeHtml(assay.name)} <span class="muted">(antibody, S/P: exposure)</span>` : escapeHtml(assay.name);
+      const freedom =
+        site.status?.state === 'positive'
+          ? `<strong data-status="positive">positive</strong> since round ${site.status.sinceRound}: no probability of freedom while a barn is positive; ` +
+            `the site clears after ${count(summary.program.clearAfterNegativeRounds, 'negative round')} in a row in every positive barn (${site.status.negativeRoundsInARow} so far)`
+          : site.freedomReset
+            ? antibody
+              ? `freedom from exposure reset by an antibody positive round (was ${pct(site.priorFreedom)} before it); the PCR freedom is not reset`
+              : `reset by a positive round (was ${pct(site.priorFreedom)} before it)`
+            : `${antibody ? 'freedom from exposure: ' : ''}${pct(site.priorFreedom)} before this round \u2192 <strong>${pct(site.freedom)}</strong> after it (repeated rounds like this level off at ${pct(site.levelsOffAt)})`;
+      const result = site.positive
+        ? `${antibody ? 'antibody ' : ''}positive in ${escapeHtml(site.positiveBarns.join(', '))}`
+        : antibody
+          ? 'no antibody-positive rope'
+          : 'no positive rope';
+      const name = antibody
+        ? `${escapeHtml(assay.name)} <span class="muted">(antibody, S/P: exposure)</span>`
+        : escapeHtml(assay.name);
       // Both site figures, each in plain words; the one freedom is built on is marked.
       const figures = assay.siteFigures
-        .map((figure) => `<span data-site-figure="${figure.infectedBarns}"${figure.freedom ? ' data-freedom=""' : ''}>${figure.freedom ? '<strong>' : ''}${pct(figure.detection)}${figure.freedom ? '</strong>' : ''} ${escapeHtml(figure.label)}${figure.freedom ? ' (freedom is built on this)' : ''}</span>`)
+        .map(
+          (figure) =>
+            `<span data-site-figure="${figure.infectedBarns}"${figure.freedom ? ' data-freedom=""' : ''}>${figure.freedom ? '<strong>' : ''}${pct(figure.detection)}${figure.freedom ? '</strong>' : ''} ${escapeHtml(figure.label)}${figure.freedom ? ' (freedom is built on this)' : ''}</span>`,
+        )
         .join('<br>');
       return `<tr data-assay="${escapeHtml(assay.id)}" data-measure="${assay.measure}"><td>${name}</td><td>${figures}${site.unpooledDetectionConfidence === undefined ? '' : `<br><span class="muted" data-unpooled="">(pooled; ${pct(site.unpooledDetectionConfidence)} unpooled)</span>`}</td><td>${result}</td><td>${freedom}</td></tr>`;
     })
     .join('');
   const meanings = summary.assays
     .filter((assay) => assay.measure === 'sp-ratio')
-    .map((assay) => `<p class="explain" data-antibody="${escapeHtml(assay.id)}">${escapeHtml(antibodyMeaning(assay.name, assay.pairedWith === null ? null : nameOf(assay.pairedWith)))}</p>`)
+    .map(
+      (assay) =>
+        `<p class="explain" data-antibody="${escapeHtml(assay.id)}">${escapeHtml(antibodyMeaning(assay.name, assay.pairedWith === null ? null : nameOf(assay.pairedWith)))}</p>`,
+    )
     .join('');
   return `<table data-site-table=""><thead><tr><th>Assay</th><th class="num">Site detection confidence</th><th>Result</th><th>Probability of freedom so far</th></tr></thead><tbody>${rows}</tbody></table>${meanings}`;
 }
@@ -119,12 +148,17 @@ type PenResult = RoundSummary['pens'][number]['results'][string];
  * limit 40"; for an antibody result "positive at S/P ≥ 0.4, suspect from 0.3".
  */
 export function cutoffText(
-  result: Pick<PenResult, 'positiveBelow' | 'suspectBelow' | 'cycleLimit'> & Partial<Pick<PenResult, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove'>>,
+  result: Pick<PenResult, 'positiveBelow' | 'suspectBelow' | 'cycleLimit'> &
+    Partial<Pick<PenResult, 'measure' | 'positiveAtOrAbove' | 'suspectAtOrAbove'>>,
 ): string {
   if (result.measure === 'sp-ratio') {
     return [
-      result.positiveAtOrAbove === null || result.positiveAtOrAbove === undefined ? '' : `positive at S/P \u2265 ${result.positiveAtOrAbove}`,
-      result.suspectAtOrAbove === null || result.suspectAtOrAbove === undefined ? '' : `suspect from ${result.suspectAtOrAbove}`,
+      result.positiveAtOrAbove === null || result.positiveAtOrAbove === undefined
+        ? ''
+        : `positive at S/P \u2265 ${result.positiveAtOrAbove}`,
+      result.suspectAtOrAbove === null || result.suspectAtOrAbove === undefined
+        ? ''
+        : `suspect from ${result.suspectAtOrAbove}`,
     ]
       .filter((part) => part !== '')
       .join(', ');
@@ -137,11 +171,16 @@ export function cutoffText(
   return parts.filter((part) => part !== '').join(', ');
 }
 
-const ctCell = (ct: number | null, resultClass: string) => (resultClass === 'invalid' ? 'invalid' : ct === null ? 'n.d.' : String(ct));
+const ctCell = (ct: number | null, resultClass: string) =>
+  resultClass === 'invalid' ? 'invalid' : ct === null ? 'n.d.' : String(ct);
 
 /** The value cell of a result: its Ct (n.d. when not detected), or "S/P 0.52" for an antibody result. */
 const valueCell = (result: { measure?: string; ct: number | null; sp?: number | null; resultClass: string }) =>
-  result.measure === 'sp-ratio' ? (result.resultClass === 'invalid' || result.sp === null || result.sp === undefined ? 'invalid' : `S/P ${result.sp}`) : ctCell(result.ct, result.resultClass);
+  result.measure === 'sp-ratio'
+    ? result.resultClass === 'invalid' || result.sp === null || result.sp === undefined
+      ? 'invalid'
+      : `S/P ${result.sp}`
+    : ctCell(result.ct, result.resultClass);
 
 /** The round has an antibody assay: value columns hold a Ct or an S/P. */
 const hasAntibody = (summary: RoundSummary) => summary.assays.some((assay) => assay.measure === 'sp-ratio');
@@ -169,7 +208,10 @@ function findingsTable(summary: RoundSummary, barnId: string): string {
       Object.entries(pen.results)
         .filter(([, result]) => result.resultClass !== 'negative' || result.callDiffers)
         .map(([assayId, result]) => {
-          const call = result.labCall === null ? '<span class="muted">none</span>' : `${escapeHtml(result.labCall)}${result.callDiffers ? ' <strong>(differs)</strong>' : ''}`;
+          const call =
+            result.labCall === null
+              ? '<span class="muted">none</span>'
+              : `${escapeHtml(result.labCall)}${result.callDiffers ? ' <strong>(differs)</strong>' : ''}`;
           return (
             `<tr data-pen="${escapeHtml(pen.penId)}" data-assay="${escapeHtml(assayId)}"><td>${escapeHtml(pen.penId)}</td><td>${escapeHtml(assayId)}</td><td>${escapeHtml(result.sampleId)}</td>` +
             `<td class="num">${valueCell(result)}</td><td>${result.pool !== undefined && result.pool.poolClass === 'positive' && result.resultClass === 'suspect' ? `positive pool ${escapeHtml(result.pool.poolId)}: retest on its own` : `${escapeHtml(result.resultClass)}${result.pool !== undefined ? ` (pool ${escapeHtml(result.pool.poolId)})` : ''}`}${result.sequencingCandidate ? ', sequencing candidate' : ''}</td><td>${call}</td>` +
@@ -183,7 +225,10 @@ function findingsTable(summary: RoundSummary, barnId: string): string {
   const barn = summary.barns.find((entry) => entry.barnId === barnId);
   for (const rope of barn?.mistyped ?? []) {
     const written = refusalGroups(rope)
-      .map((group) => `${escapeHtml(group.written)} (${escapeHtml(group.fileName)}, line${group.lines.length === 1 ? '' : 's'} ${group.lines.join(', ')})`)
+      .map(
+        (group) =>
+          `${escapeHtml(group.written)} (${escapeHtml(group.fileName)}, line${group.lines.length === 1 ? '' : 's'} ${group.lines.join(', ')})`,
+      )
       .join(' and ');
     rows.push(
       `<tr data-pen="${escapeHtml(rope.penId)}" data-mistyped="${escapeHtml(rope.sampleId)}"><td>${escapeHtml(rope.penId)}</td><td class="muted">\u2014</td><td>${escapeHtml(rope.sampleId)}</td>` +
@@ -260,7 +305,8 @@ function mistypedFix(barn: RoundSummary['barns'][number]): string {
 }
 
 /** A date, or "first to last" when they differ. */
-const span = (first: string | null, last: string | null) => (first === null || last === null ? (first ?? last ?? 'not given') : first === last ? first : `${first} to ${last}`);
+const span = (first: string | null, last: string | null) =>
+  first === null || last === null ? (first ?? last ?? 'not given') : first === last ? first : `${first} to ${last}`;
 
 /** Where the round's results came from: per lab report, the case numbers and dates; the cutoffs each lab's results were read with. */
 function sourcesBlock(summary: RoundSummary): string {
@@ -285,17 +331,28 @@ function sourcesBlock(summary: RoundSummary): string {
         d.suspectAtOrAbove !== cutoff.suspectAtOrAbove);
     const text =
       cutoff.measure === 'sp-ratio'
-        ? `${escapeHtml(cutoff.assayId)} ${cutoffText(cutoff)}` + (differs ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${cutoffText({ ...d!, measure: 'sp-ratio' })})</span>` : '')
+        ? `${escapeHtml(cutoff.assayId)} ${cutoffText(cutoff)}` +
+          (differs
+            ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${cutoffText({ ...d!, measure: 'sp-ratio' })})</span>`
+            : '')
         : `${escapeHtml(cutoff.assayId)} positive below ${cutoff.positiveBelow}, suspect below ${cutoff.suspectBelow}, cycle limit ${cutoff.cycleLimit}` +
-          (differs ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${d!.positiveBelow}, ${d!.suspectBelow}, ${d!.cycleLimit})</span>` : '');
+          (differs
+            ? ` <span class="muted">(the lab\u2019s own; assays.yaml default ${d!.positiveBelow}, ${d!.suspectBelow}, ${d!.cycleLimit})</span>`
+            : '');
     byLab.set(cutoff.labName, [...(byLab.get(cutoff.labName) ?? []), text]);
   }
-  const cutoffs = [...byLab.entries()].map(([lab, texts]) => `<li data-cutoffs-of="${escapeHtml(lab)}">${escapeHtml(lab)}: ${texts.join('; ')}</li>`).join('');
+  const cutoffs = [...byLab.entries()]
+    .map(([lab, texts]) => `<li data-cutoffs-of="${escapeHtml(lab)}">${escapeHtml(lab)}: ${texts.join('; ')}</li>`)
+    .join('');
   return (
     `<h2>Where the results came from</h2>` +
     `<table data-sources=""><thead><tr><th>Lab</th><th>Reported</th><th>Case numbers</th><th>Collected</th><th>Barns</th><th>Assays</th><th class="num">Results</th></tr></thead><tbody>${rows}</tbody></table>` +
-    (cutoffs ? `<p>Each result is read with the cutoffs of the lab that reported it:</p><ul data-cutoffs="">${cutoffs}</ul>` : '') +
-    (summary.disagreements.length === 0 ? `<p class="muted">No result this round has a lab call that differs from its reading.</p>` : '')
+    (cutoffs
+      ? `<p>Each result is read with the cutoffs of the lab that reported it:</p><ul data-cutoffs="">${cutoffs}</ul>`
+      : '') +
+    (summary.disagreements.length === 0
+      ? `<p class="muted">No result this round has a lab call that differs from its reading.</p>`
+      : '')
   );
 }
 
@@ -306,7 +363,9 @@ function sourcesBlock(summary: RoundSummary): string {
 export function caseList(accessions: readonly string[]): string {
   const parsed = [...new Set(accessions)].sort().map((text) => {
     const match = /^(.*?)(\d+)$/.exec(text);
-    return match ? { text, prefix: match[1]!, digits: match[2]!.length, value: Number(match[2]) } : { text, prefix: null, digits: 0, value: Number.NaN };
+    return match
+      ? { text, prefix: match[1]!, digits: match[2]!.length, value: Number(match[2]) }
+      : { text, prefix: null, digits: 0, value: Number.NaN };
   });
   const out: string[] = [];
   for (let i = 0; i < parsed.length; ) {
@@ -321,7 +380,14 @@ export function caseList(accessions: readonly string[]): string {
     ) {
       j++;
     }
-    out.push(j - i >= 2 ? `${first.text} to ${parsed[j]!.text}` : parsed.slice(i, j + 1).map((entry) => entry.text).join(', '));
+    out.push(
+      j - i >= 2
+        ? `${first.text} to ${parsed[j]!.text}`
+        : parsed
+            .slice(i, j + 1)
+            .map((entry) => entry.text)
+            .join(', '),
+    );
     i = j + 1;
   }
   return out.join(', ');
@@ -331,13 +397,21 @@ export function caseList(accessions: readonly string[]): string {
  * What a pen's PCR and antibody results say together, in the vet's words: virus now, antibody
  * from exposure a while back (common practice, no source; the herd's veterinarian interprets).
  */
-export function pairReading(pcr: Pick<PenResult, 'resultClass'> | undefined, antibody: Pick<PenResult, 'resultClass'> | undefined): string {
+export function pairReading(
+  pcr: Pick<PenResult, 'resultClass'> | undefined,
+  antibody: Pick<PenResult, 'resultClass'> | undefined,
+): string {
   const p = pcr?.resultClass;
   const a = antibody?.resultClass;
-  if (p === 'invalid' || a === 'invalid' || p === 'suspect' || a === 'suspect') return 'a suspect or invalid result: retest before reading the pair';
+  if (p === 'invalid' || a === 'invalid' || p === 'suspect' || a === 'suspect')
+    return 'a suspect or invalid result: retest before reading the pair';
   if (p === 'positive' && a === 'positive') return 'virus and antibody: an infection under way, antibody already up';
-  if (p === 'positive') return a === undefined ? 'virus; antibody not tested' : 'virus, no antibody yet: likely an early infection';
-  if (a === 'positive') return p === undefined ? 'antibody, no PCR result: exposure; retest the pen by PCR' : 'antibody without virus: earlier exposure (or vaccination); no virus found now';
+  if (p === 'positive')
+    return a === undefined ? 'virus; antibody not tested' : 'virus, no antibody yet: likely an early infection';
+  if (a === 'positive')
+    return p === undefined
+      ? 'antibody, no PCR result: exposure; retest the pen by PCR'
+      : 'antibody without virus: earlier exposure (or vaccination); no virus found now';
   return 'neither virus nor antibody';
 }
 
@@ -350,14 +424,22 @@ function pairsTable(summary: RoundSummary, barnId: string): string {
     .map((pair) => {
       const rows = summary.pens
         .filter((pen) => pen.barnId === barnId)
-        .filter((pen) => [pen.results[pair.pcr], pen.results[pair.antibody]].some((result) => result !== undefined && result.resultClass !== 'negative'))
+        .filter((pen) =>
+          [pen.results[pair.pcr], pen.results[pair.antibody]].some(
+            (result) => result !== undefined && result.resultClass !== 'negative',
+          ),
+        )
         .map((pen) => {
           const pcr = pen.results[pair.pcr];
           const antibody = pen.results[pair.antibody];
-          const cell = (result: PenResult | undefined) => (result === undefined ? '<span class="muted">not tested</span>' : `${valueCell(result)} (${escapeHtml(result.resultClass)})`);
+          const cell = (result: PenResult | undefined) =>
+            result === undefined
+              ? '<span class="muted">not tested</span>'
+              : `${valueCell(result)} (${escapeHtml(result.resultClass)})`;
           return `<tr data-pair-pen="${escapeHtml(pen.penId)}"><td>${escapeHtml(pen.penId)}</td><td>${cell(pcr)}</td><td>${cell(antibody)}</td><td>${escapeHtml(pairReading(pcr, antibody))}</td></tr>`;
         });
-      if (rows.length === 0) return `<p class="muted" data-pairs="${escapeHtml(pair.antibody)}">${escapeHtml(pair.pcr)} and ${escapeHtml(pair.antibody)}: no pen with virus or antibody this round.</p>`;
+      if (rows.length === 0)
+        return `<p class="muted" data-pairs="${escapeHtml(pair.antibody)}">${escapeHtml(pair.pcr)} and ${escapeHtml(pair.antibody)}: no pen with virus or antibody this round.</p>`;
       return (
         `<table data-pairs="${escapeHtml(pair.antibody)}"><thead><tr><th>Pen</th><th>${escapeHtml(pair.pcr)} (PCR, Ct)</th><th>${escapeHtml(pair.antibody)} (antibody, S/P)</th><th>Together</th></tr></thead>` +
         `<tbody>${rows.join('')}</tbody></table>`
@@ -387,7 +469,12 @@ export function againstTarget(
     : `one round cannot reach it (best ${pct(c.censusConfidence)}); ${c.roundsNeededIfUnreachable ?? 'n/a'} rounds would`;
   const lost = notBack + tally.invalid;
   if (lost > 0) {
-    const what = [notBack > 0 ? `${count(notBack, 'rope')} without a result` : '', tally.invalid > 0 ? `${tally.invalid} invalid` : ''].filter((text) => text !== '').join(', ');
+    const what = [
+      notBack > 0 ? `${count(notBack, 'rope')} without a result` : '',
+      tally.invalid > 0 ? `${tally.invalid} invalid` : '',
+    ]
+      .filter((text) => text !== '')
+      .join(', ');
     return { state: 'lost', text: `ropes lost (${what}): ${reach}` };
   }
   return { state: 'as-sized', text: `as sized: ${reach}` };
@@ -407,9 +494,10 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
       // A positive barn is monitored, not surveyed: a detection target at the design prevalence says nothing there.
       const monitored = c.status?.state === 'positive';
       const met = against.state === 'met';
-      const need = c.status?.state === 'positive'
-        ? `<strong data-status="positive">positive</strong> since round ${c.status.sinceRound}: monitored (${c.status.negativeRoundsInARow} of ${summary.program.clearAfterNegativeRounds} negative rounds in a row to clear)`
-        : escapeHtml(against.text);
+      const need =
+        c.status?.state === 'positive'
+          ? `<strong data-status="positive">positive</strong> since round ${c.status.sinceRound}: monitored (${c.status.negativeRoundsInARow} of ${summary.program.clearAfterNegativeRounds} negative rounds in a row to clear)`
+          : escapeHtml(against.text);
       const prevalence = c.prevalence
         ? `${pct(c.prevalence.apparent)} of tested pens (95% CI ${pct(c.prevalence.lower95)}\u2013${pct(c.prevalence.upper95)}); corrected for rope sensitivity ${c.sensitivity}: ${pct(c.prevalence.trueEstimate)}${c.prevalence.note ? ` (${escapeHtml(c.prevalence.note)})` : ''}`
         : '<span class="muted">no positives</span>';
@@ -419,7 +507,9 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
         : '';
       const pens = [
         tally.positivePens.length > 0 ? `+ ${escapeHtml(tally.positivePens.join(', '))}` : '',
-        (tally.positivePoolPens ?? []).length > 0 ? `positive pool: ${escapeHtml(tally.positivePoolPens!.join(', '))}` : '',
+        (tally.positivePoolPens ?? []).length > 0
+          ? `positive pool: ${escapeHtml(tally.positivePoolPens!.join(', '))}`
+          : '',
         tally.suspectPens.length > 0 ? `? ${escapeHtml(tally.suspectPens.join(', '))}` : '',
         tally.invalidPens.length > 0 ? `\u00d7 ${escapeHtml(tally.invalidPens.join(', '))}` : '',
       ]
@@ -439,7 +529,9 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
     return (
       `<section class="barn" data-barn="${escapeHtml(barn.barnId)}" data-empty="">${heading}` +
       `<p>${escapeHtml(EMPTY_BARN[0]!.toUpperCase() + EMPTY_BARN.slice(1))} this round: the barn was emptied and not yet restocked, so there was nothing to find. No detection figure; ropes not hung here are not missing, and the round is not a missed round for this barn.` +
-      (barn.ropesHung > 0 ? ` ${count(barn.ropesHung, 'rope')} hung here anyway: check the group’s dates in sites.yaml.` : '') +
+      (barn.ropesHung > 0
+        ? ` ${count(barn.ropesHung, 'rope')} hung here anyway: check the group’s dates in sites.yaml.`
+        : '') +
       `</p></section>`
     );
   }
@@ -448,7 +540,10 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
     barn.group === null
       ? ''
       : `<p data-group-freedom="${escapeHtml(barn.group.id)}">Probability of freedom of this group so far: ${barn.assays
-          .map((tally) => `${escapeHtml(tally.assayId)} ${tally.confidence.freedom === null ? 'n/a' : pct(tally.confidence.freedom)}${tally.confidence.freedomRestart ? ' (first round of the group: started from the prior)' : ''}`)
+          .map(
+            (tally) =>
+              `${escapeHtml(tally.assayId)} ${tally.confidence.freedom === null ? 'n/a' : pct(tally.confidence.freedom)}${tally.confidence.freedomRestart ? ' (first round of the group: started from the prior)' : ''}`,
+          )
           .join('; ')}. Rounds of earlier groups do not count: their pigs have left.</p>`;
   return (
     `<section class="barn" data-barn="${escapeHtml(barn.barnId)}"${barn.group === null ? '' : ` data-group="${escapeHtml(barn.group.id)}"`}>${heading}` +
@@ -458,7 +553,9 @@ function barnBlock(summary: RoundSummary, barn: RoundSummary['barns'][number]): 
       : awaiting > 0
         ? `; ${awaiting} awaiting results, due by ${escapeHtml(summary.round.resultsDueOn)}`
         : '; none missing') +
-    (mistyped > 0 ? `; <strong>${count(mistyped, 'result')} refused under a mistyped ID</strong> (pen ${escapeHtml(barn.mistyped.map((rope) => rope.penId).join(', '))}; not missing, not counted)` : '') +
+    (mistyped > 0
+      ? `; <strong>${count(mistyped, 'result')} refused under a mistyped ID</strong> (pen ${escapeHtml(barn.mistyped.map((rope) => rope.penId).join(', '))}; not missing, not counted)`
+      : '') +
     `.</p>` +
     `<table><thead><tr><th>Assay</th><th class="num">Tested</th><th class="num">Positive</th><th class="num">Suspect</th><th class="num">Negative</th><th class="num">Invalid</th><th>Pens (+ positive, ? suspect, \u00d7 invalid)</th>` +
     `<th class="num">Detection confidence (target ${pct(target)})</th><th>Against target</th><th>Prevalence estimate</th></tr></thead><tbody>${rows}</tbody></table>${groupFreedom}${findingsTable(summary, barn.barnId)}${pairsTable(summary, barn.barnId)}${mistypedFix(barn)}</section>`
