@@ -22,7 +22,7 @@
  * unbroken run of positive barns began.
  */
 import type { Measure } from '../config/types.js';
-import type { SiteRound } from '../interpret/roundModel.js';
+import type { SiteRound } from '../rounds/roundModel.js';
 
 /** What the clearance rule sees of a positive barn after a round. */
 export interface ClearanceEvidence {

@@ -7,9 +7,9 @@ import { perAssayValue } from '../config/load.js';
 import type { AnalysisSettings, Barn, Measure, Program, Site } from '../config/types.js';
 import { placeSystematic, smallestRopesConservative } from '../plan/index.js';
 import { detectionProbability, type DetectionEstimate, type Outbreaks } from '../spatial/index.js';
-import type { GroupRef } from '../interpret/groups.js';
-import type { SiteRound } from '../interpret/roundModel.js';
-import { daysBetween } from '../interpret/rounds.js';
+import type { GroupRef } from '../rounds/pigGroups.js';
+import type { SiteRound } from '../rounds/roundModel.js';
+import { daysBetween } from '../rounds/rounds.js';
 import { negativeRoundsRule, statusOverRounds, type ClearanceRule, type PositiveState } from './barnStatus.js';
 import {
   apparentPrevalence,

@@ -6,7 +6,7 @@
  * src/plan/monitoring.ts instead. Pure.
  */
 import type { Site } from '../config/types.js';
-import type { SiteRound } from '../interpret/roundModel.js';
+import type { SiteRound } from '../rounds/roundModel.js';
 import { monitoringBaseRopes, pensToReRope } from '../plan/monitoring.js';
 import type { RoundConfidence } from './confidence.js';
 import type { MonitoredBarn, NextRoundPlan } from './planTypes.js';

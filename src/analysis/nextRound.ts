@@ -7,7 +7,7 @@
  * plan (for stable sample IDs) come in; a plain value goes out.
  */
 import type { AnalysisSettings, Barn, Measure, Site } from '../config/types.js';
-import type { SiteRound } from '../interpret/roundModel.js';
+import type { SiteRound } from '../rounds/roundModel.js';
 import {
   allocateRopesBalanced,
   barnTargetForSite,
@@ -46,7 +46,7 @@ import { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlan
 
 export { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
 import { formatPercent } from '../util/format.js';
-import { barnStatusOn } from '../interpret/groups.js';
+import { barnStatusOn } from '../rounds/pigGroups.js';
 
 /** Doubling time of infected pens in the growing-infection comparison: a modelling assumption. */
 export const GROWTH_DOUBLING_DAYS = 7;

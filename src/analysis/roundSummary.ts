@@ -15,9 +15,9 @@ import {
   type RoundCutoff,
   type RoundReplacement,
   type SiteRound,
-} from '../interpret/roundModel.js';
-import type { RoundState } from '../interpret/rounds.js';
-import type { GroupRef } from '../interpret/groups.js';
+} from '../rounds/roundModel.js';
+import type { RoundState } from '../rounds/rounds.js';
+import type { GroupRef } from '../rounds/pigGroups.js';
 import { CAUTIONS, notifiableNotice } from '../report/cautions.js';
 import type { BarnConfidence, RoundConfidence, SiteConfidence } from './confidence.js';
 

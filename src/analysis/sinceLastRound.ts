@@ -5,7 +5,7 @@
  * cleared only on a valid negative result for the same assay; a pen not tested again, or
  * suspect, is not cleared (nothing is known of it).
  */
-import type { BarnRound, SiteRound } from '../interpret/roundModel.js';
+import type { BarnRound, SiteRound } from '../rounds/roundModel.js';
 
 export interface PenChange {
   barnId: string;

@@ -1,6 +1,6 @@
 /** One site's analysis as a plain value: what the writers in src/report read, apart from the code that builds it (src/outputs.ts). */
 import type { Site } from '../config/types.js';
-import type { SiteRound } from '../interpret/roundModel.js';
+import type { SiteRound } from '../rounds/roundModel.js';
 import type { RoundConfidence } from './confidence.js';
 import type { NextRoundPlan } from './planTypes.js';
 import type { RoundSummary } from './roundSummary.js';

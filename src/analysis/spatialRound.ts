@@ -5,7 +5,7 @@
  * only saves recomputing the same seeded simulation.
  */
 import type { AnalysisSettings, Barn, Measure, Site } from '../config/types.js';
-import type { SiteRound } from '../interpret/roundModel.js';
+import type { SiteRound } from '../rounds/roundModel.js';
 import {
   analyseSiteRound,
   compareWithRandomPlacement,

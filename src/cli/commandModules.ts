@@ -5,8 +5,8 @@
  * modules of src/cli and nothing else: a start well under a second even on a loaded machine
  * (`npm run bench -- cli`).
  */
-export { buildSiteRounds } from '../interpret/roundModel.js';
-export { clockDay } from '../interpret/rounds.js';
+export { buildSiteRounds } from '../rounds/roundModel.js';
+export { clockDay } from '../rounds/rounds.js';
 export { OutputError, regenerateOutputs } from '../outputs.js';
 export { removeStrayTemps } from '../report/files.js';
 export { planText } from '../report/planText.js';

@@ -21,7 +21,7 @@ import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } 
 import { ConfigError, ProblemList } from './problems.js';
 import { ROPE_SHEET_COLUMN_ORDER, ROPE_SHEET_MEANING, ropeColumnNames, ropeHeaderKey } from './ropeSheet.js';
 import { formatPath, schemaProblems } from './schemaProblems.js';
-import { groupProblems, inPlacementOrder } from '../interpret/groups.js';
+import { groupProblems, inPlacementOrder } from '../rounds/pigGroups.js';
 import { normaliseAlerts, normaliseHerdStatus } from './siteNotices.js';
 import type {
   AnalysisSettings,

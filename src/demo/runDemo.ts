@@ -16,8 +16,8 @@ import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
 import { Store, StoreOpenError } from '../store/store.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../workspace.js';
-import { buildSiteRounds } from '../interpret/roundModel.js';
-import { clockDay } from '../interpret/rounds.js';
+import { buildSiteRounds } from '../rounds/roundModel.js';
+import { clockDay } from '../rounds/rounds.js';
 import {
   DEMO_TODAY,
   HOLLOW_CREEK_ROUNDS,

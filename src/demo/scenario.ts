@@ -11,7 +11,7 @@ import type { Barn, Config, Site } from '../config/types.js';
 import { formatSampleId, isWriteFriendlyCheck } from '../plan/sampleId.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
 import { demoWorkbook } from './workbook.js';
-import { isEmptyOn } from '../interpret/groups.js';
+import { isEmptyOn } from '../rounds/pigGroups.js';
 
 export const DEMO_SEED = 20260803;
 

@@ -21,7 +21,7 @@
  * @see Cochran WG (1977) Sampling Techniques, ch. 8 (systematic sampling).
  */
 import type { Pen, PenContacts } from '../domain/layout.js';
-import type { SiteRound } from '../interpret/roundModel.js';
+import type { SiteRound } from '../rounds/roundModel.js';
 import { requireInteger } from './checks.js';
 import { planFollowUp, type RopeReason } from './followUp.js';
 import { placeSystematic } from './placement.js';

@@ -2,7 +2,7 @@
  * How pages name a barn's group of pigs in a round (barns run all-in/all-out): "group Autumn
  * (G2, placed 2026-09-01)", "empty, no group", or nothing for a barn not run by groups.
  */
-import type { GroupRef } from '../interpret/groups.js';
+import type { GroupRef } from '../rounds/pigGroups.js';
 
 export const EMPTY_BARN = 'empty, no group';
 

@@ -5,7 +5,7 @@
  * character (ISO/IEC 7064 MOD 37-2), with the planned ID it most likely meant and the one-line
  * fix a person adds once the ID is confirmed. Pure text; no statistics.
  */
-import type { ReadingInput, MistypedRope, RoundReplacement } from '../interpret/roundModel.js';
+import type { ReadingInput, MistypedRope, RoundReplacement } from '../rounds/roundModel.js';
 
 /** A reading in short: its class and the value as the lab wrote it. */
 export function readingText(reading: Pick<ReadingInput, 'resultClass' | 'ctRaw'>): string {

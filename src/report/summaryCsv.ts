@@ -5,7 +5,7 @@
 import { csvTable, type CsvRow } from './csvTable.js';
 import type { RoundSummary, SourceSummary } from '../analysis/roundSummary.js';
 import type { HerdStatus } from '../config/types.js';
-import type { CtHistoryPoint, MistypedRope } from '../interpret/roundModel.js';
+import type { CtHistoryPoint, MistypedRope } from '../rounds/roundModel.js';
 import { refusalGroups, replacementCell, simplyMissing } from './roundNotes.js';
 
 export const SUMMARY_COLUMNS = [

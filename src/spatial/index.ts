@@ -8,5 +8,5 @@ export * from './scan.js';
 export * from './clusters.js';
 export * from './spread.js';
 export * from './spreadDetection.js';
-export * from './analyse.js';
+export * from './roundReview.js';
 export * from './onwardSpread.js';

@@ -13,7 +13,7 @@ import { planNextRound } from '../../src/analysis/nextRound.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
-import { buildSiteRounds, type ResultInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 

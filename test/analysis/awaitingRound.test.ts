@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 

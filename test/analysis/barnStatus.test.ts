@@ -8,7 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { negativeRoundsRule, statusOverRounds } from '../../src/analysis/barnStatus.js';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
-import { buildSiteRounds, type ResultInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { summaryCsv } from '../../src/report/summaryCsv.js';
 import { parse } from 'csv-parse/sync';
 import { roundRopes, smallConfig } from './fixtures.js';

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { roundRopes } from './fixtures.js';
 import { G1, G2, siteWith } from './groupScenario.js';
 

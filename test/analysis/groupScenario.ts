@@ -5,7 +5,7 @@
  */
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import type { BarnGroup, Site } from '../../src/config/types.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
 export const G1: BarnGroup = { id: 'G1', label: 'Summer', placedOn: '2026-08-01', closedOn: '2026-08-20' };

@@ -8,7 +8,7 @@ import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { BarnGroup } from '../../src/config/types.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { smallConfig } from './fixtures.js';
 import { G1, G2, round, scenario, siteWith } from './groupScenario.js';

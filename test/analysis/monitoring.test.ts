@@ -8,7 +8,7 @@ import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
-import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 import { imperfectDetect } from '../plan/helpers.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 import { resultInput } from '../helpers/results.js';

@@ -3,7 +3,7 @@ import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { parseSampleId } from '../../src/plan/sampleId.js';
 import { detectionFor } from '../../src/stats/detection.js';
 import { expectClose } from '../helpers/expectClose.js';

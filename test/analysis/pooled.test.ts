@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache } from '../../src/analysis/spatialRound.js';
-import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 import { parseSampleId } from '../../src/plan/sampleId.js';
 import { renderRopeSheetPage } from '../../src/report/html/ropeSheetPage.js';
 import { formatPercent } from '../../src/util/format.js';

@@ -9,7 +9,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { sinceLastRound } from '../../src/analysis/sinceLastRound.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
 const config = smallConfig();

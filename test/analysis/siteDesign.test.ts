@@ -9,7 +9,7 @@ import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { ConfigError, loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { renderSummaryPage } from '../../src/report/html/summaryPage.js';
 import { SUMMARY_COLUMNS, summaryCsv } from '../../src/report/summaryCsv.js';
 import { detectionFor } from '../../src/stats/detection.js';

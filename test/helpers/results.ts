@@ -1,10 +1,10 @@
 /**
- * A result as the round model takes it (src/interpret/roundModel.ts `ResultInput`), with what the
+ * A result as the round model takes it (src/rounds/roundModel.ts `ResultInput`), with what the
  * tests' rounds share: lab northfield, assay PRRSV, no load band, cycle limit 40 (a common PCR run
  * length; common practice, no source), the lab's call agreeing with the reading. A test gives the
  * sample, the class and the Ct, and whatever else it is about.
  */
-import type { ResultInput } from '../../src/interpret/roundModel.js';
+import type { ResultInput } from '../../src/rounds/roundModel.js';
 
 export function resultInput(
   fields: Pick<ResultInput, 'id' | 'sampleId' | 'resultClass' | 'ct'> & Partial<ResultInput>,

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { expandLayout, penContacts } from '../../src/domain/layout.js';
-import { buildSiteRounds, type ResultInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { budgetForSurveyed } from '../../src/analysis/monitoredPlan.js';
 import type { MonitoredBarn } from '../../src/analysis/planTypes.js';
 import { monitoringBaseRopes, pensToReRope, planMonitoredBarn } from '../../src/plan/monitoring.js';

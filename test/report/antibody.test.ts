@@ -11,7 +11,7 @@ import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
-import { buildSiteRounds, type ResultInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { clustersCsv } from '../../src/report/clustersCsv.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderBarnMap } from '../../src/report/html/barnMap.js';

@@ -18,7 +18,7 @@ import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
-import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 
 export const config = loadConfig(DEMO_CONFIG_DIR);
 export const site = config.siteById.get('HOLLOW-CREEK')!;

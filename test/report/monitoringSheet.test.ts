@@ -8,7 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
-import { buildSiteRounds } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderClustersPage } from '../../src/report/html/clustersPage.js';

@@ -21,7 +21,7 @@ import {
   type ReplacedInput,
   type ResultInput,
   type RoundNotesInput,
-} from '../../src/interpret/roundModel.js';
+} from '../../src/rounds/roundModel.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderSummaryPage } from '../../src/report/html/summaryPage.js';
 import { normaliseSampleId } from '../../src/ingest/rows.js';

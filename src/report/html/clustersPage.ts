@@ -7,7 +7,7 @@
 import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
-import type { BarnSpatialReport } from '../../spatial/analyse.js';
+import type { BarnSpatialReport } from '../../spatial/roundReview.js';
 import type { PageAlert } from './alerts.js';
 import { renderBarnMap, type PenMark } from './barnMap.js';
 import { groupText } from '../groupText.js';

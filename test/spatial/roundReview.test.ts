@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { BarnLayout } from '../../src/domain/layout.js';
-import { analyseBarnRound, analyseSiteRound, type RoundPen } from '../../src/spatial/analyse.js';
+import { analyseBarnRound, analyseSiteRound, type RoundPen } from '../../src/spatial/roundReview.js';
 import { expectClose } from '../helpers/expectClose.js';
 
 const layout: BarnLayout = {

@@ -7,7 +7,7 @@
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;

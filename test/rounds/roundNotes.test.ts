@@ -14,7 +14,7 @@ import {
   type ReplacedInput,
   type ResultInput,
   type RopeInput,
-} from '../../src/interpret/roundModel.js';
+} from '../../src/rounds/roundModel.js';
 import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);

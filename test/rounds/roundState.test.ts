@@ -8,13 +8,8 @@
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_RESULT_GRACE_DAYS, loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import {
-  buildSiteRounds,
-  type PlannedInput,
-  type ResultInput,
-  type RopeInput,
-} from '../../src/interpret/roundModel.js';
-import { resultsDueOn, roundForDueDate, roundState } from '../../src/interpret/rounds.js';
+import { buildSiteRounds, type PlannedInput, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
+import { resultsDueOn, roundForDueDate, roundState } from '../../src/rounds/rounds.js';
 import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);

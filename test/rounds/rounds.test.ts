@@ -1,10 +1,10 @@
 /**
  * Rounds: ropes of one site within `windowDays` of the round's first rope form one round,
- * numbered in date order (src/interpret/rounds.ts). Expected groupings are worked by hand from
+ * numbered in date order (src/rounds/rounds.ts). Expected groupings are worked by hand from
  * the dates; the window is a program setting (common practice, no source).
  */
 import { describe, expect, it } from 'vitest';
-import { daysBetween, formRounds, roundFolderName, type DatedRope } from '../../src/interpret/rounds.js';
+import { daysBetween, formRounds, roundFolderName, type DatedRope } from '../../src/rounds/rounds.js';
 
 const rope = (sampleId: string, hungOn: string, siteId = 's'): DatedRope => ({
   sampleId,

@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { resultInput } from '../helpers/results.js';
 

@@ -3,9 +3,9 @@
  * plain value is what statistics, spatial analysis, planning and reports all read. Pure.
  */
 import type { Barn, Measure, Site } from '../config/types.js';
-import { CLASS_SEVERITY, type ResultClass } from './classify.js';
+import { CLASS_SEVERITY, type ResultClass } from '../interpret/classify.js';
 import { formRounds, resultsDueOn, roundForDueDate, roundState, type DatedRope, type RoundState } from './rounds.js';
-import { barnStatusOn, groupRef, type GroupRef } from './groups.js';
+import { barnStatusOn, groupRef, type GroupRef } from './pigGroups.js';
 
 export interface ResultInput {
   id: number;

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import type { BarnGroup } from '../../src/config/types.js';
-import { barnStatusOn, groupProblems, inPlacementOrder, isEmptyOn } from '../../src/interpret/groups.js';
+import { barnStatusOn, groupProblems, inPlacementOrder, isEmptyOn } from '../../src/rounds/pigGroups.js';
 
 const g1: BarnGroup = { id: 'G1', label: 'G1', placedOn: '2026-01-05', closedOn: '2026-04-20' };
 const g2: BarnGroup = { id: 'G2', label: 'G2', placedOn: '2026-05-04', closedOn: null };

@@ -5,7 +5,7 @@
  * (test/report/labReadingsScenario.ts).
  */
 import { describe, expect, it } from 'vitest';
-import { buildSiteRounds, ctHistory } from '../../src/interpret/roundModel.js';
+import { buildSiteRounds, ctHistory } from '../../src/rounds/roundModel.js';
 import { results, ropes, site } from '../report/labReadingsScenario.js';
 
 const rounds = buildSiteRounds(site, ropes, results);
