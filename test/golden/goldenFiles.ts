@@ -7,6 +7,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { parse } from 'csv-parse/sync';
 
 export const GOLDEN_DIR = path.join(path.dirname(fileURLToPath(import.meta.url)), 'expected');
 
@@ -21,13 +22,40 @@ export function updatingGoldens(env: NodeJS.ProcessEnv = process.env): boolean {
 const CONTEXT_LINES = 2;
 /** Differing lines listed after the first. */
 const MORE_DIFFERENCES = 4;
+/** Context lines are cut to this many characters; differing lines are shown whole. */
+const CONTEXT_WIDTH = 100;
 
-const visible = (line: string | undefined) => (line === undefined ? '(no line: file ended)' : JSON.stringify(line));
+const visible = (line: string | undefined) => (line === undefined ? '(no line: the file ended)' : JSON.stringify(line));
+const shortened = (line: string | undefined) =>
+  line !== undefined && line.length > CONTEXT_WIDTH ? `${visible(line.slice(0, CONTEXT_WIDTH))}...` : visible(line);
+
+/** The cells of one CSV line (RFC 4180 quoting); a line that is not whole CSV on its own is split on commas. */
+function cellsOf(line: string | undefined): string[] {
+  if (line === undefined) return [];
+  try {
+    return (parse(line, { relax_column_count: true }) as string[][])[0] ?? [];
+  } catch {
+    return line.split(',');
+  }
+}
+
+/** The cells of a differing line that changed, named by the golden header's columns. */
+function changedCells(header: string | undefined, want: string | undefined, got: string | undefined): string[] {
+  const names = cellsOf(header);
+  const wantCells = cellsOf(want);
+  const gotCells = cellsOf(got);
+  const changed: string[] = [];
+  for (let c = 0; c < Math.max(wantCells.length, gotCells.length); c++)
+    if (wantCells[c] !== gotCells[c])
+      changed.push(`${names[c] ?? `cell ${c + 1}`}: ${visible(wantCells[c])} -> ${visible(gotCells[c])}`);
+  return changed;
+}
 
 /**
- * A readable account of how `actual` differs from `expected` (null when they are equal):
- * the first differing line with the lines around it, then the next few differing lines, and
- * the line counts. Lines are compared as written, end-of-line characters kept apart.
+ * A readable account of how `actual` differs from `expected` (null when they are equal): the
+ * first differing line with the lines before it, the cells that changed (named by the header,
+ * the golden's first line), the next few differing lines, and the line counts. Lines are
+ * compared as written: a carriage return shows as \r.
  */
 export function describeDifference(expected: string, actual: string, label: string): string | null {
   if (expected === actual) return null;
@@ -38,20 +66,16 @@ export function describeDifference(expected: string, actual: string, label: stri
   for (let i = 0; i < length && differing.length <= MORE_DIFFERENCES; i++) if (want[i] !== got[i]) differing.push(i);
   const first = differing[0]!;
   const out = [
-    `${label} differs from its golden file at line ${first + 1} (golden ${want.length} lines, output ${got.length}):`,
+    `${label} differs from its golden file at line ${first + 1} (golden ${want.length} lines, output ${got.length}; - golden, + output):`,
   ];
-  for (let i = Math.max(0, first - CONTEXT_LINES); i < first; i++) out.push(`    ${i + 1}  ${visible(want[i])}`);
+  for (let i = Math.max(0, first - CONTEXT_LINES); i < first; i++) out.push(`    ${i + 1}  ${shortened(want[i])}`);
   out.push(`  - ${first + 1}  ${visible(want[first])}`, `  + ${first + 1}  ${visible(got[first])}`);
-  const header = want[0]?.split(',');
-  const wantCells = want[first]?.split(',') ?? [];
-  const gotCells = got[first]?.split(',') ?? [];
-  const cells: string[] = [];
-  for (let c = 0; c < Math.max(wantCells.length, gotCells.length) && cells.length < 6; c++)
-    if (wantCells[c] !== gotCells[c])
-      cells.push(`${header?.[c] ?? `cell ${c + 1}`}: ${visible(wantCells[c])} -> ${visible(gotCells[c])}`);
-  if (first > 0 && cells.length > 0)
-    out.push(`    cells (by the golden header, naive split on commas): ${cells.join('; ')}`);
+  if (first > 0) {
+    const changed = changedCells(want[0], want[first], got[first]);
+    if (changed.length > 0) out.push(`    changed cells: ${changed.slice(0, 6).join('; ')}`);
+  }
   for (const i of differing.slice(1)) out.push(`  - ${i + 1}  ${visible(want[i])}`, `  + ${i + 1}  ${visible(got[i])}`);
+  if (differing.length > MORE_DIFFERENCES) out.push('    (further lines not compared here)');
   out.push(
     `If the change is intended, review it and rewrite the golden files: ${UPDATE_FLAG}=1 npx vitest run test/golden`,
   );
@@ -63,8 +87,13 @@ export function describeDifference(expected: string, actual: string, label: stri
  * update flag set, writes it instead. Returns the problem as text (null when the output matches
  * or was written).
  */
-export function checkGolden(relative: string, actual: Buffer, env: NodeJS.ProcessEnv = process.env): string | null {
-  const file = path.join(GOLDEN_DIR, relative);
+export function checkGolden(
+  relative: string,
+  actual: Buffer,
+  env: NodeJS.ProcessEnv = process.env,
+  goldenDir = GOLDEN_DIR,
+): string | null {
+  const file = path.join(goldenDir, relative);
   if (updatingGoldens(env)) {
     fs.mkdirSync(path.dirname(file), { recursive: true });
     fs.writeFileSync(file, actual);
