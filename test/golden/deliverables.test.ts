@@ -157,12 +157,15 @@ describe('summary.csv, key cells by hand', () => {
     for (const pen of ['A2', 'A3', 'B3'])
       expect(rowWhere(summary(1), { level: 'pen', barn: 'G1', pen, assay: 'PRRSV' }).class).toBe('positive');
 
-    // G2: four ropes hung, MEG-1123-14 (pen B3) never came back; its results were due by
-    // 2026-11-23 + 7 days of grace, before the clock's 2026-12-01, so it is missing, not awaited.
+    // G2: four ropes hung, MEG-1123-14 (pen B3) never came back; the round's results were due by
+    // 2026-11-23 + 7 days (the program's default resultGraceDays), before the clock's 2026-12-01,
+    // so the rope is missing and the round complete, not awaited.
     const g2 = rowWhere(summary(1), { level: 'barn', barn: 'G2', assay: 'PRRSV' });
     expect(g2).toMatchObject({ ropes_hung: '4', ropes_returned: '3', missing_sample_ids: 'MEG-1123-14', tested: '3' });
     const site = rowWhere(summary(1), { level: 'site', assay: 'PRRSV' });
     expect(site).toMatchObject({
+      pens_in_use: '18',
+      results_due_on: '2026-11-30',
       ropes_hung: '14',
       ropes_returned: '13',
       missing_sample_ids: 'MEG-1123-14',
