@@ -233,6 +233,19 @@ describe('clusters.csv, key cells by hand', () => {
     expect(g2).toMatchObject({ sampled: '3', positives: '0', bb: '0' });
     expectClose(numberIn(g2, 'p_join_count'), 1, PRINTED, 'G2 join-count p');
   });
+  it('round 1: no positive, and the figures every round carries', () => {
+    const g1 = rowWhere(clusters(0), { level: 'barn', barn: 'G1', assay: 'PRRSV' });
+    // No positive: BB = 0 in every placement, so E[BB] = 0 and p = 1.
+    expect(g1).toMatchObject({ sampled: '5', positives: '0', bb: '0', expected_bb: '0' });
+    expectClose(numberIn(g1, 'p_join_count'), 1, PRINTED, 'G1 round 1 join-count p');
+    // Moran's I has expectation -1/(n - 1) under randomisation (Cliff & Ord 1981): n = 5 gives -1/4;
+    // round 2, n = 10, gives -1/9.
+    expectClose(numberIn(g1, 'moran_expected'), -1 / 4, PRINTED, 'E[I], n = 5');
+    const g1Round2 = rowWhere(clusters(1), { level: 'barn', barn: 'G1', assay: 'PRRSV' });
+    expectClose(numberIn(g1Round2, 'moran_expected'), -1 / 9, PRINTED, 'E[I], n = 10');
+    // The hypergeometric detection beside the spread model's is the summary's: 7/9 (see above).
+    expectClose(numberIn(g1, 'detection_hypergeometric'), 7 / 9, PRINTED, 'G1 round 1 detection');
+  });
 });
 
 /** ISO/IEC 7064:2003 MOD 37-2 (pure system, radix 2) check character, written here from the standard. */
