@@ -152,7 +152,7 @@ export async function processFile(ws: Workspace, file: string): Promise<ProcessO
   return { receipt, movedTo };
 }
 
-function writeReceipts(ws: Workspace, receipt: Receipt): void {
+export function writeReceipts(ws: Workspace, receipt: Receipt): void {
   const names = receiptNames(receipt.file, receipt.sha256);
   try {
     writeJson(path.join(ws.outbox, RECEIPTS_FOLDER, names.json), receipt);

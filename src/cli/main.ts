@@ -4,6 +4,7 @@ import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } fr
 import { registerCalc } from './calc.js';
 import { registerPipelineCommands } from './commands.js';
 import { registerRetry } from './retryCommand.js';
+import { registerListen } from './commands/listen.js';
 
 /**
  * The version in package.json, two folders up from this file both in src/cli (tests, tsx) and in
@@ -32,6 +33,7 @@ export function buildProgram(io: CliIo): Command {
   registerPipelineCommands(program, io);
   registerRetry(program, io);
   registerCalc(program, io);
+  registerListen(program, io);
   return program;
 }
 

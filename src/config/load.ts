@@ -21,6 +21,7 @@ import { compileConfiguredPattern, PatternSyntaxError, type ConfiguredPattern } 
 import { ConfigError, ProblemList } from './problems.js';
 import { ROPE_SHEET_COLUMN_ORDER, ROPE_SHEET_MEANING, ropeColumnNames, ropeHeaderKey } from './ropeSheet.js';
 import { formatPath, schemaProblems } from './schemaProblems.js';
+import { normaliseHl7Sender } from './hl7Profile.js';
 import { groupProblems, inPlacementOrder } from '../rounds/pigGroups.js';
 import { normaliseAlerts, normaliseHerdStatus } from './siteNotices.js';
 import type {
@@ -768,6 +769,7 @@ function loadLab(
     cycleLimitIsNotDetected: raw.notDetected.cycleLimitIsNotDetected,
     ...words,
     assays,
+    hl7: normaliseHl7Sender(raw.hl7, Object.keys(raw.assays), assays, file, problems),
   });
 }
 

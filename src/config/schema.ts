@@ -3,6 +3,7 @@
  * validates, reports errors with the file and the key path, and normalises once.
  */
 import { z } from 'zod';
+import { hl7SenderSchema } from './hl7Profile.js';
 import { REQUIRED_KEY_HELP } from './schemaProblems.js';
 import { herdStatusCategoriesSchema, herdStatusSchema, siteAlertsSchema } from './siteNotices.js';
 
@@ -442,6 +443,8 @@ export const labProfileSchema = z
     statusColumns: z.array(z.string().min(1)).min(1).optional(),
     /** The lab's assay names mapped to ropewatch assays, with this lab's validated cutoffs. */
     assays: z.record(z.string(), labAssaySchema),
+    /** HL7 v2 result messages from this lab (ORU^R01): see hl7Profile.ts. */
+    hl7: hl7SenderSchema.optional(),
   })
   .strict();
 

@@ -1,5 +1,6 @@
 /** Normalised configuration: what the rest of ropewatch reads. Built once by `loadConfig`, frozen. */
 import type { BarnLayout, Pen, PenContacts } from '../domain/layout.js';
+import type { Hl7Profile } from './hl7Types.js';
 import type { ConfiguredPattern } from './pattern.js';
 import type { HerdStatus, SiteAlerts } from './siteNotices.js';
 
@@ -251,6 +252,8 @@ export interface LabProfile {
   statusColumns: readonly string[];
   /** Keyed by the lab's assay name, lower-cased and trimmed. */
   assays: ReadonlyMap<string, LabAssay>;
+  /** How the lab's HL7 v2 result messages read (undefined: the lab sends none). */
+  hl7: Hl7Profile | undefined;
 }
 
 /** The columns of a rope sheet (`notes` and `pool` are optional; the others are required). */

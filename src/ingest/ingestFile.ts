@@ -26,6 +26,7 @@ import { ParseWorker } from './workerBatches.js';
 import { emptyReceipt, type Receipt } from './receipt.js';
 import { detectWorkbook, readHashedBytes, workbookBatches, workbookNote, type WorkbookKind } from './workbookInput.js';
 import { isWorkbookFile, openWorkbook, WORKBOOK_MAX_BYTES, type OpenedWorkbook } from './xlsxReader.js';
+import { ingestHl7File, isHl7File } from '../hl7/fileInput.js';
 
 export { emptyReceipt, type Receipt };
 
@@ -162,6 +163,7 @@ function meantFor(
  * reading and the commit (nothing stored), and re-throws unexpected errors after rolling back.
  */
 export async function ingestFile(file: string, deps: IngestDeps): Promise<Receipt> {
+  if (isHl7File(file)) return ingestHl7File(file, deps, (why) => new FileStillChangingError(why));
   let worker: ParseWorker | undefined;
   try {
     // A workbook is read whole on this thread (workbookInput.ts): no worker for a spreadsheet's name.

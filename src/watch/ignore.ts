@@ -20,6 +20,7 @@ export const DEFAULT_EXTENSIONS: readonly string[] = Object.freeze([
   '.xls',
   '.xlsb',
   '.ods',
+  '.hl7',
 ]);
 
 /**

@@ -28,11 +28,11 @@ function configError(dir: string): ConfigError {
 }
 
 describe('loadConfig', () => {
-  it('loads the demo config with two sites, three assays and two labs, frozen', () => {
+  it('loads the demo config with two sites, three assays and three labs (one reporting by HL7), frozen', () => {
     const config = loadConfig(DEMO_CONFIG_DIR);
     expect(config.sites.map((site) => site.id)).toEqual(['hollow-creek', 'tamsin-ridge']);
     expect(config.assays.map((assay) => assay.id)).toEqual(['PRRSV', 'IAV', 'PRRSV-AB']);
-    expect(config.labs.map((lab) => lab.id)).toEqual(['northfield', 'ostermark']);
+    expect(config.labs.map((lab) => lab.id)).toEqual(['brackenridge', 'northfield', 'ostermark']);
     expect(Object.isFrozen(config)).toBe(true);
     // Site overrides merge over the program defaults.
     const tamsin = config.siteById.get('TAMSIN-RIDGE')!;
