@@ -11,6 +11,7 @@ import type { Barn, Config, Site } from '../config/types.js';
 import { formatSampleId, isWriteFriendlyCheck } from '../plan/sampleId.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
 import { demoWorkbook } from './workbook.js';
+import { brackenridgeMessage } from './hl7Results.js';
 import { isEmptyOn } from '../rounds/pigGroups.js';
 
 export const DEMO_SEED = 20260803;
@@ -410,12 +411,27 @@ export async function hollowCreekRound(
       bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100),
       note: 'PRRSV results',
     });
-    drops.push({
-      at: at(reported, 15),
-      name: `nvdl_influenza_${reported}.csv`,
-      bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100),
-      note: 'influenza results, a second file the same day',
-    });
+    // Round 2's influenza PCR went to a second lab, which reports by HL7 v2 (an ORU^R01 message).
+    drops.push(
+      roundIndex === 1
+        ? {
+            at: at(reported, 15),
+            name: `brahl_influenza_${reported}.hl7`,
+            bytes: brackenridgeMessage(iav, {
+              controlId: `BRAHL-${reported.replace(/-/g, '')}-001`,
+              reportedOn: reported,
+              at: at(reported, 15),
+              firstCase: 410,
+            }),
+            note: 'influenza results from a second lab as an HL7 v2 ORU^R01 message',
+          }
+        : {
+            at: at(reported, 15),
+            name: `nvdl_influenza_${reported}.csv`,
+            bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100),
+            note: 'influenza results, a second file the same day',
+          },
+    );
   }
   if (HOLLOW_CREEK_ELISA_ROUNDS.includes(roundIndex)) {
     const tested = hung.filter((rope) => rope !== lost);

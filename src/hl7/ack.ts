@@ -20,9 +20,9 @@ export interface AckError {
 
 /** Message-level refusals after which the message is not processed at all: AR. The others are AE. */
 const REJECTING: ReadonlySet<RejectionCode> = new Set<RejectionCode>([
-  'hl7-malformed',
-  'hl7-wrong-message-type',
-  'hl7-unknown-sender',
+  'malformed-message',
+  'wrong-message-type',
+  'unknown-sender',
   'invalid-encoding',
   'missing-value',
 ]);
@@ -41,8 +41,8 @@ export function messageRefusalAck(code: RejectionCode): AckCode {
  */
 export function errorCondition(error: AckError): string {
   switch (error.code) {
-    case 'hl7-malformed':
-    case 'hl7-missing-segment':
+    case 'malformed-message':
+    case 'missing-segment':
       return '100';
     case 'missing-value':
       return '101';
@@ -51,15 +51,15 @@ export function errorCondition(error: AckError): string {
     case 'ct-out-of-range':
     case 'sp-out-of-range':
     case 'bad-date':
-    case 'hl7-field-too-long':
+    case 'field-too-long':
     case 'invalid-encoding':
       return '102';
     case 'unknown-assay':
-    case 'hl7-result-status':
+    case 'unmapped-result-status':
       return '103';
-    case 'hl7-wrong-message-type':
+    case 'wrong-message-type':
       return error.location.field === 11 ? '202' : error.location.field === 12 ? '203' : '200';
-    case 'hl7-unknown-sender':
+    case 'unknown-sender':
       return '204';
     default:
       return '207';

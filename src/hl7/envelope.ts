@@ -79,7 +79,7 @@ const BATCH_SEGMENTS = new Set(['FHS', 'BHS', 'BTS', 'FTS']);
 /**
  * The messages of a text: each MSH starts one. A message over MLLP is one message, unwrapped;
  * a file is one message or a batch.
- * @throws Hl7Error hl7-malformed (nothing before the first MSH but batch headers; counts in BTS
+ * @throws Hl7Error malformed-message (nothing before the first MSH but batch headers; counts in BTS
  *   and FTS that do not match; a header without its trailer)
  */
 export function splitMessages(text: string, source: 'file' | 'mllp'): SegmentLine[][] {
@@ -107,7 +107,7 @@ export function splitMessages(text: string, source: 'file' | 'mllp'): SegmentLin
 
 function malformed(at: SegmentLine, detail: string): Hl7Error {
   return new Hl7Error({
-    code: 'hl7-malformed',
+    code: 'malformed-message',
     segment: at.text.slice(0, 3).replace(/[^A-Z0-9]/g, '') || 'MSH',
     sequence: undefined,
     field: undefined,

@@ -61,6 +61,6 @@ function refused(name: string, deps: ReceiveDeps, message: string): Receipt {
   const receipt = emptyReceipt(name, '', deps.now().toISOString());
   receipt.status = 'rejected';
   receipt.kind = 'results';
-  receipt.reason = { code: 'hl7-malformed', message: `${name}: ${message}`, line: null, field: null };
+  receipt.reason = { code: 'malformed-message', message: `${name}: ${message}`, line: null, field: null };
   return receipt;
 }

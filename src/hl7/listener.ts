@@ -90,7 +90,7 @@ export function startListener(options: ListenerOptions): Promise<RunningListener
           code: 'AR',
           errors: [
             {
-              code: 'hl7-malformed',
+              code: 'malformed-message',
               location: { segment: 'MSH', sequence: undefined, field: undefined, line: 1 },
               text: `the frame holds ${size} bytes; at most ${options.maxFrameBytes ?? MAX_FRAME_BYTES} are read`,
             },

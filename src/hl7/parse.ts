@@ -62,13 +62,13 @@ export function segmentLines(text: string, firstLine = 1): SegmentLine[] {
  * segment ID separates fields, and the next four are component, repetition, escape and
  * sub-component separators (2.5.1 takes exactly four). They must differ from each other and
  * from the field separator, and none may be a letter, a digit or white space.
- * @throws Hl7Error hl7-malformed naming `<ID>-1` or `<ID>-2`
+ * @throws Hl7Error malformed-message naming `<ID>-1` or `<ID>-2`
  */
 export function encodingOf(header: SegmentLine): EncodingCharacters {
   const id = header.text.slice(0, 3);
   const field = header.text.charAt(3);
   const bad = (fieldNo: number, detail: string) =>
-    new Hl7Error({ code: 'hl7-malformed', segment: id, sequence: 1, field: fieldNo, line: header.line, detail });
+    new Hl7Error({ code: 'malformed-message', segment: id, sequence: 1, field: fieldNo, line: header.line, detail });
   if (field === '' || /[\sA-Za-z0-9]/.test(field))
     throw bad(
       1,
@@ -94,14 +94,14 @@ const SEGMENT_ID = /^[A-Z][A-Z0-9]{2}$/;
 
 /**
  * Parses one message from its segment lines (the first must be MSH).
- * @throws Hl7Error hl7-malformed (no MSH first, bad encoding characters, a segment ID that is not
- *   one), hl7-field-too-long
+ * @throws Hl7Error malformed-message (no MSH first, bad encoding characters, a segment ID that is not
+ *   one), field-too-long
  */
 export function parseMessage(lines: readonly SegmentLine[]): Hl7Message {
   const first = lines[0];
   if (first === undefined || !first.text.startsWith('MSH'))
     throw new Hl7Error({
-      code: 'hl7-malformed',
+      code: 'malformed-message',
       segment: 'MSH',
       sequence: 1,
       field: undefined,
@@ -115,7 +115,7 @@ export function parseMessage(lines: readonly SegmentLine[]): Hl7Message {
     const id = text.slice(0, 3);
     if (!SEGMENT_ID.test(id) || (text.length > 3 && text.charAt(3) !== enc.field))
       throw new Hl7Error({
-        code: 'hl7-malformed',
+        code: 'malformed-message',
         segment: id,
         sequence: undefined,
         field: undefined,
@@ -130,7 +130,7 @@ export function parseMessage(lines: readonly SegmentLine[]): Hl7Message {
     fields.forEach((value, index) => {
       if (value.length > MAX_FIELD_CHARS)
         throw new Hl7Error({
-          code: 'hl7-field-too-long',
+          code: 'field-too-long',
           segment: id,
           sequence,
           field: index,

@@ -43,7 +43,7 @@ export function controlIdOf(message: Hl7Message): string {
 /**
  * Checks the header: an ORU^R01 of HL7 version 2, production processing, a control ID, from a
  * sending facility a lab profile names.
- * @throws Hl7Error hl7-wrong-message-type, missing-value (MSH-10), hl7-unknown-sender
+ * @throws Hl7Error wrong-message-type, missing-value (MSH-10), unknown-sender
  */
 export function readHeader(message: Hl7Message, labs: readonly LabProfile[]): MessageHeader {
   const header = msh(message);
@@ -52,17 +52,17 @@ export function readHeader(message: Hl7Message, labs: readonly LabProfile[]): Me
   const type = `${valueAt(message, header, 9, 1)}^${valueAt(message, header, 9, 2)}`;
   if (type !== 'ORU^R01')
     throw fail(
-      'hl7-wrong-message-type',
+      'wrong-message-type',
       9,
       `MSH-9 is ${JSON.stringify(type)}: ropewatch reads unsolicited observation results (ORU^R01) only`,
     );
   const version = valueAt(message, header, 12);
   if (!version.startsWith('2.'))
-    throw fail('hl7-wrong-message-type', 12, `MSH-12 is ${JSON.stringify(version)}: ropewatch reads HL7 version 2`);
+    throw fail('wrong-message-type', 12, `MSH-12 is ${JSON.stringify(version)}: ropewatch reads HL7 version 2`);
   const processing = valueAt(message, header, 11);
   if (processing !== 'P')
     throw fail(
-      'hl7-wrong-message-type',
+      'wrong-message-type',
       11,
       `MSH-11 processing ID is ${JSON.stringify(processing)}: only production messages (P) are stored, never training (T) or debugging (D) ones`,
     );
@@ -73,7 +73,7 @@ export function readHeader(message: Hl7Message, labs: readonly LabProfile[]): Me
   const senders = labs.filter((lab) => lab.hl7?.sendingFacilities.includes(folded));
   if (senders.length !== 1)
     throw fail(
-      'hl7-unknown-sender',
+      'unknown-sender',
       4,
       senders.length === 0
         ? `MSH-4 sending facility ${JSON.stringify(sendingFacility)} is in no lab profile's hl7.sendingFacility`
@@ -193,14 +193,14 @@ interface ResultParts {
 
 /**
  * The message's results, mapped as CSV rows are, and its refusals.
- * @throws Hl7Error hl7-missing-segment when the message has no OBR or no OBX at all
+ * @throws Hl7Error missing-segment when the message has no OBR or no OBX at all
  */
 export function messageRecords(message: Hl7Message, header: MessageHeader, context: RecordContext): MessageRecords {
   const groups = orderGroups(message);
   const line = msh(message).line;
   if (groups.length === 0)
     throw new Hl7Error({
-      code: 'hl7-missing-segment',
+      code: 'missing-segment',
       segment: 'OBR',
       sequence: undefined,
       field: undefined,
@@ -209,7 +209,7 @@ export function messageRecords(message: Hl7Message, header: MessageHeader, conte
     });
   if (groups.every((group) => group.observations.length === 0))
     throw new Hl7Error({
-      code: 'hl7-missing-segment',
+      code: 'missing-segment',
       segment: 'OBX',
       sequence: undefined,
       field: undefined,
@@ -287,7 +287,7 @@ function resultRecord(
     if (raw.length > MAX_VALUE_CHARS)
       return {
         rejection: rowRejection(
-          'hl7-field-too-long',
+          'field-too-long',
           obx.line,
           'OBX-5',
           raw.slice(0, 40),
@@ -299,7 +299,7 @@ function resultRecord(
   const state = hl7.resultStatus.get(status);
   if (state === undefined)
     return refuse(
-      'hl7-result-status',
+      'unmapped-result-status',
       'OBX-11',
       status,
       status === ''
@@ -309,7 +309,7 @@ function resultRecord(
   const spm = group.spm;
   if ((hl7.sampleId === 'SPM-2' || hl7.collectedOn === 'SPM-17') && spm === undefined)
     return refuse(
-      'hl7-missing-segment',
+      'missing-segment',
       'SPM',
       '',
       `the order (OBR at line ${group.obr.line}) has no SPM segment, where the lab profile reads the ${hl7.sampleId === 'SPM-2' ? 'sample ID (SPM-2)' : 'collection date (SPM-17)'}`,

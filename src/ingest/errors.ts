@@ -23,13 +23,13 @@ export const REJECTION_CODES = {
   'workbook-too-large': 'a workbook beyond the size ropewatch reads whole (file or unpacked parts)',
   'no-such-sheet': 'the lab profile names a sheet the workbook does not have',
   // HL7 v2 messages (files and MLLP): whole messages, then segments; see src/hl7/
-  'hl7-malformed':
+  'malformed-message':
     'not a well-formed HL7 v2 message: no MSH first, wrong encoding characters in MSH-2, a line that is not a segment, a batch cut off, or an MLLP frame over the size limit',
-  'hl7-wrong-message-type': 'MSH-9 is not an ORU^R01 result message (or MSH-12 is not HL7 version 2)',
-  'hl7-unknown-sender': 'MSH-4 (sending facility) names no lab profile with an hl7 section',
-  'hl7-missing-segment': 'a segment the result message needs is absent (OBR, OBX, or the SPM the profile reads)',
-  'hl7-field-too-long': 'a field longer than HL7 allows it (65,536 characters; 200 for an OBX-5 value ropewatch reads)',
-  'hl7-result-status': 'OBX-11 holds a result status the lab profile does not map to preliminary, final or corrected',
+  'wrong-message-type': 'MSH-9 is not an ORU^R01 result message (or MSH-12 is not HL7 version 2)',
+  'unknown-sender': 'MSH-4 (sending facility) names no lab profile with an hl7 section',
+  'missing-segment': 'a segment the result message needs is absent (OBR, OBX, or the SPM the profile reads)',
+  'field-too-long': 'a field longer than HL7 allows it (65,536 characters; 200 for an OBX-5 value ropewatch reads)',
+  'unmapped-result-status': 'OBX-11 holds a result status the lab profile does not map to preliminary, final or corrected',
   // Rows
   'ragged-row': 'the row has a different number of fields from the header',
   'formula-without-value': 'a workbook cell the row needs holds a formula saved without its calculated value',

@@ -105,7 +105,7 @@ describe('HL7 v2 parsing', () => {
     ['an encoding character twice', 'MSH|^^\\&|LIMS', 2],
     ['a letter as encoding character', 'MSH|^~\\A|LIMS', 2],
     ['a letter as field separator', 'MSHA^~\\&ALIMS', 1],
-  ])('refuses %s in MSH-2 as hl7-malformed, naming the field', (_label, header, field) => {
+  ])('refuses %s in MSH-2 as malformed-message, naming the field', (_label, header, field) => {
     const error = (() => {
       try {
         parse(`${header}\rOBR|1`);
@@ -115,7 +115,7 @@ describe('HL7 v2 parsing', () => {
       return undefined;
     })();
     expect(error).toBeInstanceOf(Hl7Error);
-    expect((error as Hl7Error).code).toBe('hl7-malformed');
+    expect((error as Hl7Error).code).toBe('malformed-message');
     expect((error as Hl7Error).location).toMatchObject({ segment: 'MSH', field });
   });
 
@@ -126,18 +126,18 @@ describe('HL7 v2 parsing', () => {
       parse(`${message}\rthis is not a segment`);
       expect.unreachable();
     } catch (error) {
-      expect((error as Hl7Error).code).toBe('hl7-malformed');
+      expect((error as Hl7Error).code).toBe('malformed-message');
       expect((error as Hl7Error).location.line).toBe(2);
     }
   });
 
-  it('refuses a field over 65,536 characters (the longest HL7 text field) as hl7-field-too-long', () => {
+  it('refuses a field over 65,536 characters (the longest HL7 text field) as field-too-long', () => {
     const text = `${oracleText({ controlId: 'C', orders: [] })}\rNTE|1||${'x'.repeat(70_000)}`;
     try {
       parse(text);
       expect.unreachable();
     } catch (error) {
-      expect((error as Hl7Error).code).toBe('hl7-field-too-long');
+      expect((error as Hl7Error).code).toBe('field-too-long');
       expect((error as Hl7Error).location).toMatchObject({ segment: 'NTE', field: 3 });
     }
   });

@@ -93,7 +93,7 @@ describe('HL7 result files in the inbox', () => {
     const batch = oracleBatch([spec('MSG-6'), spec('MSG-7')]).replace(/BTS\|2$/, 'BTS|3');
     const { receipt, movedTo } = await ws.drop('brahl_cut.hl7', batch);
     expect(receipt.status).toBe('rejected');
-    expect(receipt.reason).toMatchObject({ code: 'hl7-malformed', field: 'BTS' });
+    expect(receipt.reason).toMatchObject({ code: 'malformed-message', field: 'BTS' });
     expect(movedTo).toContain('rejected');
     expect(ws.ws().store.counts().results).toBe(0);
   });
@@ -102,15 +102,15 @@ describe('HL7 result files in the inbox', () => {
 describe('hostile messages: each refused with a coded reason and the right acknowledgement', () => {
   const good = oracleText(spec('H-1'));
   const cases: [string, () => string | Buffer, 'AE' | 'AR', string, string | undefined][] = [
-    ['truncated inside MSH', () => good.slice(0, 40), 'AR', 'hl7-wrong-message-type', 'MSH'],
+    ['truncated inside MSH', () => good.slice(0, 40), 'AR', 'wrong-message-type', 'MSH'],
     [
       'truncated before its observations',
       () => good.split('\r').slice(0, 2).join('\r'),
       'AE',
-      'hl7-missing-segment',
+      'missing-segment',
       'OBX',
     ],
-    ['wrong MSH-2', () => good.replace('MSH|^~\\&|', 'MSH|^~\\|'), 'AR', 'hl7-malformed', 'MSH'],
+    ['wrong MSH-2', () => good.replace('MSH|^~\\&|', 'MSH|^~\\|'), 'AR', 'malformed-message', 'MSH'],
     [
       'a missing SPM',
       () =>
@@ -119,14 +119,14 @@ describe('hostile messages: each refused with a coded reason and the right ackno
           .filter((line) => !line.startsWith('SPM'))
           .join('\r'),
       'AE',
-      'hl7-missing-segment',
+      'missing-segment',
       'SPM',
     ],
     [
       'a huge OBX-5',
       () => oracleText(spec('H-1', [{ code: 'BR-IAV-CT', type: 'NM', value: ['9'.repeat(10_000)] }])),
       'AE',
-      'hl7-field-too-long',
+      'field-too-long',
       'OBX',
     ],
     [
@@ -140,21 +140,21 @@ describe('hostile messages: each refused with a coded reason and the right ackno
       'a wrong message type (ADT^A01)',
       () => oracleText(spec('H-1', IAV_POSITIVE, { type: ['ADT', 'A01'] })),
       'AR',
-      'hl7-wrong-message-type',
+      'wrong-message-type',
       'MSH',
     ],
     [
       'a training message (MSH-11 T)',
       () => oracleText(spec('H-1', IAV_POSITIVE, { processing: 'T' })),
       'AR',
-      'hl7-wrong-message-type',
+      'wrong-message-type',
       'MSH',
     ],
     [
       'an unknown sender',
       () => oracleText(spec('H-1', IAV_POSITIVE, { facility: 'ELSEWHERE' })),
       'AR',
-      'hl7-unknown-sender',
+      'unknown-sender',
       'MSH',
     ],
     [
@@ -168,7 +168,7 @@ describe('hostile messages: each refused with a coded reason and the right ackno
       'a deleted result (OBX-11 D)',
       () => oracleText(spec('H-1', [{ code: 'BR-IAV-CT', type: 'NM', value: ['30'], status: 'D' }])),
       'AE',
-      'hl7-result-status',
+      'unmapped-result-status',
       'OBX',
     ],
   ];
