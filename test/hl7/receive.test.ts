@@ -99,6 +99,44 @@ describe('HL7 result files in the inbox', () => {
   });
 });
 
+describe('HL7 results read by the same rules as a CSV export', () => {
+  it("reads the Ct with the lab's cutoffs and lists an OBX-8 call that differs (Brackenridge IAV: positive below 37, suspect below 40)", () => {
+    const ws = workspace();
+    const { receipt } = receive(
+      ws,
+      oracleText(spec('R-1', [{ code: 'BR-IAV-CT', type: 'NM', value: ['38.2'], flag: 'A' }])),
+    );
+    expect(receipt.rows.accepted).toBe(1);
+    // 38.2 is at or above 37 and below 40: suspect by the lab's cutoffs; the flag A calls it positive.
+    expect(receipt.callDisagreements).toEqual([
+      expect.objectContaining({
+        sampleId: 'LAB-7781',
+        assayId: 'IAV',
+        labCallClass: 'positive',
+        resultClass: 'suspect',
+        ctRaw: '38.2',
+      }),
+    ]);
+  });
+
+  it('lets a corrected report (OBX-11 C) replace the preliminary one (P) it corrects, keeping both', () => {
+    const ws = workspace();
+    receive(ws, oracleText(spec('R-2', [{ code: 'BR-IAV-CT', type: 'NM', value: ['39.1'], status: 'P' }])));
+    const corrected = receive(
+      ws,
+      oracleText(spec('R-3', [{ code: 'BR-IAV-CT', type: 'NM', value: ['33.0'], status: 'C' }])),
+    );
+    expect(corrected.receipt.rows).toMatchObject({ accepted: 1, superseded: 1 });
+    expect(corrected.receipt.supersessions![0]).toMatchObject({
+      thisFileCurrent: true,
+      replaced: expect.objectContaining({ ctRaw: '39.1' }),
+      current: expect.objectContaining({ ctRaw: '33.0' }),
+    });
+    const counts = ws.ws().store.counts();
+    expect(counts).toMatchObject({ results: 2, currentResults: 1 });
+  });
+});
+
 describe('hostile messages: each refused with a coded reason and the right acknowledgement', () => {
   const good = oracleText(spec('H-1'));
   const cases: [string, () => string | Buffer, 'AE' | 'AR', string, string | undefined][] = [
