@@ -92,9 +92,10 @@ describe('ropewatch listen beside ropewatch watch on the same store', () => {
     const hl7 = drops.find((drop) => drop.name.endsWith('.hl7'))!;
     const csv = drops.find((drop) => drop.name.startsWith('nvdl_prrsv'))!;
     const listen = startCli(['listen', '--port', '0', ...ws.cliFlags], /listening for MLLP on 127\.0\.0\.1:(\d+)/);
+    // The listener first: it creates the store (two processes creating one store at the same moment would both migrate it).
+    const port = Number((await listen.ready)[1]);
     const watch = startCli(['watch', '--stable-ms', '200', ...ws.cliFlags], /watching /);
     try {
-      const port = Number((await listen.ready)[1]);
       await watch.ready;
       fs.writeFileSync(path.join(ws.paths.inbox, csv.name), csv.bytes);
       const { acks } = await exchange(port, [frame(hl7.bytes)]);
