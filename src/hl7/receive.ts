@@ -127,7 +127,7 @@ export function receiveHl7(
   const receipt = emptyReceipt(name, sha256, receivedAt);
   receipt.kind = 'results';
   const known = deps.store.findFileByHash(sha256);
-  if (known?.status === 'accepted') return repeatOfFile(receipt, known, bytes);
+  if (known?.status === 'accepted') return repeatOfFile(receipt, known, bytes, deps.store);
   if (known?.status === 'rejected')
     receipt.warnings.push(
       `the same bytes were refused before (as ${known.name} on ${known.receivedAt}: ${known.reasonCode ?? 'no code'}); read again with the current configuration`,
@@ -212,7 +212,7 @@ export function receiveHl7(
       byteLength: bytes.length,
     });
   } catch (error) {
-    if (error instanceof FileAlreadyStoredError) return repeatOfFile(receipt, error.known, bytes);
+    if (error instanceof FileAlreadyStoredError) return repeatOfFile(receipt, error.known, bytes, deps.store);
     throw error;
   }
   try {
@@ -293,8 +293,12 @@ function listInto<T>(list: T[], items: readonly T[]): void {
   for (const item of items) if (list.length < RECEIPT_LIST_LIMIT) list.push(item);
 }
 
-/** The same bytes were stored before: nothing stored twice, each message acknowledged AA. */
-function repeatOfFile(receipt: Receipt, known: StoredFile, bytes: Buffer): ReceiveResult {
+/**
+ * The same bytes were stored before: nothing stored twice. A message is acknowledged as it was
+ * the first time: AA, or AE again with the refusals stored with it (a resend does not turn an
+ * error into an acceptance).
+ */
+function repeatOfFile(receipt: Receipt, known: StoredFile, bytes: Buffer, store: Store): ReceiveResult {
   receipt.status = 'duplicate';
   receipt.lab = known.labId;
   receipt.reason = {
@@ -322,6 +326,13 @@ function repeatOfFile(receipt: Receipt, known: StoredFile, bytes: Buffer): Recei
     });
   } catch {
     outcomes = [];
+  }
+  const refusals = store.rejectedRows(known.id);
+  const only = outcomes.length === 1 ? outcomes[0]! : undefined;
+  if (only !== undefined && refusals.length > 0) {
+    const segmentAt = new Map((only.message?.segments ?? []).map((segment) => [segment.line, segment]));
+    only.ack = 'AE';
+    only.errors = refusals.map((refusal) => ackErrorOf(refusal, { segmentAt }));
   }
   return { receipt, outcomes };
 }

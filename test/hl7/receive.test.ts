@@ -245,6 +245,14 @@ describe('hostile messages: each refused with a coded reason and the right ackno
     });
     expect(text).toContain('MSA|AE|H-2\r');
     expect(text).toMatch(/\rERR\|\|OBX\^1\^5\|102\^\^HL70357\|E\|bad-ct\^\^ropewatch\|/);
+    // The same bytes again: stored once, and acknowledged AE again with the same ERR, not AA.
+    const again = receive(ws, oracleText(spec('H-2', [{ code: 'BR-IAV-CT', type: 'NM', value: ['abc'] }])));
+    expect(again.receipt.status).toBe('duplicate');
+    expect(again.outcomes[0]).toMatchObject({ ack: 'AE', repeat: true });
+    expect(again.outcomes[0]!.errors[0]).toMatchObject({
+      code: 'bad-ct',
+      location: { segment: 'OBX', sequence: 1, field: 5 },
+    });
   });
 
   it('acknowledges a repeat AA and stores it once', () => {
