@@ -44,6 +44,10 @@ export function messageName(bytes: Buffer): string {
   return `mllp_${clean(fields[3])}_${clean(fields[9])}.hl7`;
 }
 
+/**
+ * Starts listening. One function over 80 lines on purpose: its handlers share the open
+ * connections, the one queue of messages and the closing flag, which no other code may touch.
+ */
 export function startListener(options: ListenerOptions): Promise<RunningListener> {
   const sockets = new Set<net.Socket>();
   let last: Promise<unknown> = Promise.resolve();

@@ -200,15 +200,37 @@ export function receiveHl7(
     return { receipt, outcomes: read.map((entry) => entry.outcome) };
   }
 
+  return storeInOneTransaction(
+    { name, sha256, receivedAt, bytes, labId: firstLab, read, fresh, isRepeat },
+    receipt,
+    deps,
+  );
+}
+
+/** What receiveHl7 read before the store, handed to the transaction. */
+interface ReadUnit {
+  name: string;
+  sha256: string;
+  receivedAt: string;
+  bytes: Buffer;
+  labId: string | null;
+  read: ReadMessage[];
+  fresh: ReadMessage[];
+  isRepeat: (entry: ReadMessage) => boolean;
+}
+
+/** The one transaction: every new message's rows and refusals, the messages refused whole as refusals of the file. */
+function storeInOneTransaction(unit: ReadUnit, receipt: Receipt, deps: ReceiveDeps): ReceiveResult {
+  const { name, sha256, receivedAt, bytes, read, fresh, isRepeat } = unit;
   let fileId: number;
   try {
     fileId = deps.store.beginFile({
       name,
       sha256,
       kind: 'results',
-      labId: firstLab,
+      labId: unit.labId,
       receivedAt,
-      encodingNote: `${receipt.encoding}; ${units.length} message(s), MSH-10 ${read.map((entry) => entry.outcome.controlId || '?').join(', ')}`,
+      encodingNote: `${receipt.encoding}; ${read.length} message(s), MSH-10 ${read.map((entry) => entry.outcome.controlId || '?').join(', ')}`,
       byteLength: bytes.length,
     });
   } catch (error) {
