@@ -79,14 +79,14 @@ function indexHeader(
     const key = fold(cell);
     if (key === '') return;
     if (index.has(key))
-      throw new IngestError(
-        'duplicate-header',
+      throw new IngestError({
+        code: 'duplicate-header',
         file,
-        headerLine,
-        cell,
-        cell,
-        `the header names column "${cell}" twice`,
-      );
+        line: headerLine,
+        field: cell,
+        value: cell,
+        detail: `the header names column "${cell}" twice`,
+      });
     index.set(key, position);
   });
   return index;
@@ -150,14 +150,14 @@ function ropeSheetKind(
     const cells = match[column];
     if (cells.length > 1) {
       const names = cells.map((position) => `"${header[position]}"`).join(' and ');
-      throw new IngestError(
-        'duplicate-header',
-        fileName,
-        1,
-        header[cells[1]!],
-        header[cells[1]!],
-        `the header cells ${names} both name the column for ${ROPE_SHEET_MEANING[column]} (${columns[column].join(', ')}); keep one, or list the one to read under ropeSheet.columns.${column} in sites.yaml`,
-      );
+      throw new IngestError({
+        code: 'duplicate-header',
+        file: fileName,
+        line: 1,
+        field: header[cells[1]!],
+        value: header[cells[1]!],
+        detail: `the header cells ${names} both name the column for ${ROPE_SHEET_MEANING[column]} (${columns[column].join(', ')}); keep one, or list the one to read under ropeSheet.columns.${column} in sites.yaml`,
+      });
     }
   }
   indexHeader(fileName, 1, header, ropeHeaderKey);
@@ -202,8 +202,7 @@ export function detectFileKind(
   labs: readonly LabProfile[],
   ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS,
 ): FileKind {
-  if (head.replace(/\uFEFF/g, '').trim() === '')
-    throw new IngestError('empty-file', fileName, undefined, undefined, undefined);
+  if (head.replace(/\uFEFF/g, '').trim() === '') throw new IngestError({ code: 'empty-file', file: fileName });
   const lines = head.split('\n');
   const firstLine = lines[0] ?? '';
   const firstDelimiter = guessDelimiter(firstLine);
@@ -253,7 +252,7 @@ export function detectKind(
     const byName = lab.fileNamePattern?.test(fileName) ?? false;
     // The lab's own file name with the lab's sheet missing: told as such, not as an unknown format.
     if (found.problem !== undefined && byName)
-      throw new IngestError('no-such-sheet', fileName, undefined, undefined, undefined, found.problem);
+      throw new IngestError({ code: 'no-such-sheet', file: fileName, detail: found.problem });
     const header = found.header;
     if (!header) continue;
     const { missing, required } = missingLabColumns(lab, header);
@@ -267,14 +266,12 @@ export function detectKind(
     // The lab's own file name settles it; a header alone that fits both is not guessed at.
     if (named.length === 0 && complete.length > 0) {
       const ids = complete.map((candidate) => candidate.lab.id).join(', ');
-      throw new IngestError(
-        'ambiguous-lab',
-        fileName,
-        1,
-        undefined,
-        undefined,
-        `the header reads both as a rope sheet and as an export of lab profile ${ids}; give the lab a fileNamePattern that names its files, or drop the columns that do not belong`,
-      );
+      throw new IngestError({
+        code: 'ambiguous-lab',
+        file: fileName,
+        line: 1,
+        detail: `the header reads both as a rope sheet and as an export of lab profile ${ids}; give the lab a fileNamePattern that names its files, or drop the columns that do not belong`,
+      });
     }
     if (named.length === 0) return ropeSheetKind(fileName, ropeDelimiter, ropeHeader!, ropeMatch!, ropeColumns);
   }
@@ -283,25 +280,21 @@ export function detectKind(
   if (!chosen) {
     if (named.length > 1 || complete.length > 1) {
       const ids = (named.length > 1 ? named : complete).map((candidate) => candidate.lab.id).join(', ');
-      throw new IngestError(
-        'ambiguous-lab',
-        fileName,
-        undefined,
-        undefined,
-        undefined,
-        `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`,
-      );
+      throw new IngestError({
+        code: 'ambiguous-lab',
+        file: fileName,
+        detail: `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`,
+      });
     }
     if (ropeLike) {
       const column = ropeMissing[0]!;
-      throw new IngestError(
-        'missing-column',
-        fileName,
-        1,
-        ROPE_SHEET_OWN_NAME[column],
-        undefined,
-        `this looks like a rope sheet but has no column for ${ROPE_SHEET_MEANING[column]} (a header cell named ${ropeColumns[column].map((name) => `"${name}"`).join(', ')}; other names go under ropeSheet.columns.${column} in sites.yaml)`,
-      );
+      throw new IngestError({
+        code: 'missing-column',
+        file: fileName,
+        line: 1,
+        field: ROPE_SHEET_OWN_NAME[column],
+        detail: `this looks like a rope sheet but has no column for ${ROPE_SHEET_MEANING[column]} (a header cell named ${ropeColumns[column].map((name) => `"${name}"`).join(', ')}; other names go under ropeSheet.columns.${column} in sites.yaml)`,
+      });
     }
     // A file named like a lab's exports but sharing none of its required columns (an invoice,
     // a wrong report template) is not that lab's export with columns missing: unknown format.
@@ -309,16 +302,15 @@ export function detectKind(
     const partial = plausible.find((candidate) => candidate.byName) ?? plausible[0];
     if (partial) {
       const column = partial.missing[0]!;
-      throw new IngestError(
-        'missing-column',
-        fileName,
-        partial.headerLine,
-        column.field,
-        undefined,
-        `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`,
-      );
+      throw new IngestError({
+        code: 'missing-column',
+        file: fileName,
+        line: partial.headerLine,
+        field: column.field,
+        detail: `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`,
+      });
     }
-    throw new IngestError('unknown-format', fileName, 1, undefined, source.excerpt.slice(0, 120));
+    throw new IngestError({ code: 'unknown-format', file: fileName, line: 1, value: source.excerpt.slice(0, 120) });
   }
   const headerLine = chosen.headerLine;
   return {

@@ -21,7 +21,7 @@ import { detectFileKind, type FileKind } from './detect.js';
 import { IngestError, REJECTION_CODES, type RowRejection } from './errors.js';
 import { BATCH_ROWS, FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { correctionsForFile, likelyMeantIds, type MeantId } from './plannedIds.js';
-import { normaliseSampleId } from './rows.js';
+import { normaliseSampleId } from './recordCells.js';
 import { ParseWorker } from './workerBatches.js';
 import { emptyReceipt, type Receipt } from './receipt.js';
 import { detectWorkbook, readHashedBytes, workbookBatches, workbookNote, type WorkbookKind } from './workbookInput.js';
@@ -280,10 +280,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   };
 
   if (size === 0)
-    return reject(
-      new IngestError('empty-file', name, undefined, undefined, undefined, 'the file is empty (0 bytes)'),
-      null,
-    );
+    return reject(new IngestError({ code: 'empty-file', file: name, detail: 'the file is empty (0 bytes)' }), null);
 
   let kind: FileKind;
   let sniffed: Sniffed;
@@ -291,14 +288,11 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   if (isWorkbookFile(name, firstBytes(file, 8))) {
     if (size > WORKBOOK_MAX_BYTES) {
       return reject(
-        new IngestError(
-          'workbook-too-large',
-          name,
-          undefined,
-          undefined,
-          undefined,
-          `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
-        ),
+        new IngestError({
+          code: 'workbook-too-large',
+          file: name,
+          detail: `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
+        }),
         null,
       );
     }
@@ -337,7 +331,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     } catch (error) {
       if (error instanceof IngestError) return reject(error, null);
       if (error instanceof BinaryContentError)
-        return reject(new IngestError('not-csv', name, undefined, undefined, undefined, error.message), null);
+        return reject(new IngestError({ code: 'not-csv', file: name, detail: error.message }), null);
       throw error;
     }
   }
@@ -467,14 +461,12 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
 
     if (receipt.rows.accepted + receipt.rows.rejected + receipt.rows.duplicate === 0) {
       return reject(
-        new IngestError(
-          'empty-file',
-          name,
-          kind.headerLine,
-          undefined,
-          undefined,
-          'the file has a header but no data rows',
-        ),
+        new IngestError({
+          code: 'empty-file',
+          file: name,
+          line: kind.headerLine,
+          detail: 'the file has a header but no data rows',
+        }),
         receipt.lab,
       );
     }
@@ -506,27 +498,23 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
     }
     if (error instanceof EncodingError) {
       return reject(
-        new IngestError(
-          'invalid-encoding',
-          name,
-          error.line,
-          undefined,
-          undefined,
-          `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`,
-        ),
+        new IngestError({
+          code: 'invalid-encoding',
+          file: name,
+          line: error.line,
+          detail: `${error.message}; set format.encoding in the lab profile or re-export as UTF-8`,
+        }),
         receipt.lab,
       );
     }
     if (error instanceof UnclosedQuoteError || error instanceof RecordTooLongError) {
       return reject(
-        new IngestError(
-          'malformed-csv',
-          name,
-          error.line,
-          undefined,
-          undefined,
-          `the file is not well-formed CSV (${error.message}); rows after it cannot be trusted`,
-        ),
+        new IngestError({
+          code: 'malformed-csv',
+          file: name,
+          line: error.line,
+          detail: `the file is not well-formed CSV (${error.message}); rows after it cannot be trusted`,
+        }),
         receipt.lab,
       );
     }

@@ -11,7 +11,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { RowRejection } from '../ingest/errors.js';
 import type { RowList } from '../ingest/mappedBatches.js';
-import type { ResultRow, RopeLocation, RopeRow } from '../ingest/rows.js';
+import type { ResultRow, RopeLocation, RopeRow } from '../ingest/rowTypes.js';
 import type { CallClass, ReportStatusKind } from '../config/types.js';
 import type { ResultClass } from '../interpret/classify.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
