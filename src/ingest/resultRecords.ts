@@ -211,6 +211,27 @@ function locationRefusal(
   return undefined;
 }
 
+/** The content key of what the lab reported for a sample and assay (see contentKey). */
+function reportKey(
+  labAssayName: string,
+  ctRaw: string,
+  labCall: string | null,
+  accession: string | null,
+  reportedOn: string | null,
+  reportStatus: string | null,
+  control: string | null,
+): number {
+  return contentKey([
+    foldToken(labAssayName),
+    ctRaw,
+    labCall ?? '',
+    accession ?? '',
+    reportedOn ?? '',
+    reportStatus ?? '',
+    control ?? '',
+  ]);
+}
+
 /** Maps one lab-export record. `line` is the 1-based line where the record starts. */
 export function mapResultRow(cells: readonly string[], line: number, context: ResultContext): RowOutcome<ResultRow> {
   const { lab } = context;
@@ -287,15 +308,7 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       labCallClass: labCallClass ?? null,
       callDiffers: labCallClass !== undefined && labCallClass !== interpretation.resultClass,
       sampleIdAsWritten: subject.sampleIdAsWritten,
-      contentKey: contentKey([
-        foldToken(labAssayName),
-        ctRaw,
-        labCall ?? '',
-        accession ?? '',
-        reportedOn ?? '',
-        reportStatus ?? '',
-        control ?? '',
-      ]),
+      contentKey: reportKey(labAssayName, ctRaw, labCall, accession, reportedOn, reportStatus, control),
       // locationRefusal let through only a place or nothing.
       encodedRope: located as RopeLocation | undefined,
     },
