@@ -15,7 +15,7 @@ import type { ResultRow, RopeLocation, RopeRow } from '../ingest/rows.js';
 import type { CallClass, ReportStatusKind } from '../config/types.js';
 import type { ResultClass } from '../interpret/classify.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
-import { decideSupersession, type SupersessionKind } from './supersede.js';
+import { decideSupersession, type SupersessionKind } from '../ingest/supersession.js';
 
 export interface StoredFile {
   id: number;
