@@ -157,7 +157,7 @@ export class SqliteReader implements StoreReader {
 
   /**
    * Every link between two reports of one of the site's samples (a rope or a planned rope of the
-   * site), with both readings, from the view `supersession_readings`: `replaced` is the report
+   * site, or the pool one was tested in), with both readings, from the view `supersession_readings`: `replaced` is the report
    * no longer current, `inPlace` the one current in its place at the time of the link. In the
    * order the links were made.
    */
@@ -171,7 +171,9 @@ export class SqliteReader implements StoreReader {
                 v.new_report_status AS newReportStatus, v.new_status_kind AS newStatus, v.new_status_word AS newStatusWord
          FROM supersession_readings v
          WHERE v.sample_id IN (SELECT s.sample_id FROM ropes h JOIN samples s ON s.id = h.sample WHERE h.site_id = @siteId
-                               UNION SELECT sample_id FROM planned_ropes WHERE site_id = @siteId)
+                               UNION SELECT s.sample_id FROM ropes h JOIN samples s ON s.id = h.pool WHERE h.site_id = @siteId
+                               UNION SELECT sample_id FROM planned_ropes WHERE site_id = @siteId
+                               UNION SELECT pool_id FROM planned_ropes WHERE site_id = @siteId AND pool_id IS NOT NULL)
          ORDER BY MAX(v.old_result_id, v.new_result_id), MIN(v.old_result_id, v.new_result_id)`,
       )
       .all({ siteId }) as Record<string, string | number | null>[];
