@@ -1,3 +1,7 @@
+/**
+ * Refused files and rows as errors. The refusal codes are declared once in src/domain/rejections.ts
+ * (re-exported here), where the store reads them too.
+ */
 import { REJECTION_CODES, type RejectionCode, type RowRejection } from '../domain/rejections.js';
 
 export { REJECTION_CODES, type RejectionCode, type RowRejection };
