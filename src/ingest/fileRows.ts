@@ -3,7 +3,7 @@
  * with the lists a person reads kept to RECEIPT_LIST_LIMIT entries. Pure: the store's counts
  * come in, the receipt is filled.
  */
-import { type InsertCounts, RECEIPT_LIST_LIMIT } from '../store/store.js';
+import { type InsertCounts, RECEIPT_LIST_LIMIT } from '../domain/store.js';
 import type { RowRejection } from './errors.js';
 import type { Receipt } from './receipt.js';
 import type { RopeRow } from './rowTypes.js';

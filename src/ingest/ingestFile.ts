@@ -10,7 +10,8 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { CORRECTIONS_FILE } from '../config/load.js';
 import type { Config, SampleIdCorrection } from '../config/types.js';
-import { FileAlreadyStoredError, type PlannedRope, type Store, type StoredFile } from '../store/store.js';
+import type { PlannedRope, StoredFile } from '../domain/records.js';
+import { FileAlreadyStoredError, type StoreBackend } from '../domain/store.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { EncodingError } from './decode.js';
 import { IngestError, REJECTION_CODES, type RowRejection } from './errors.js';
@@ -26,6 +27,7 @@ import { detectInput, type InputKind } from './inputKind.js';
 import { BATCH_ROWS, FileChangedError, type MappedBatch, mappedBatches, type MappingInput } from './mappedBatches.js';
 import { type PlannedLookup, withSuggestion } from './mistypedIds.js';
 import { correctionsForFile } from './plannedIds.js';
+import { ingestRules } from './rowRules.js';
 import { emptyReceipt, type Receipt } from './receipt.js';
 import { normaliseSampleId } from './recordCells.js';
 import { workbookBatches } from './workbookInput.js';
@@ -44,7 +46,7 @@ const KEEP_BYTES_LIMIT = 16 * 1024 * 1024;
 
 export interface IngestDeps {
   config: Config;
-  store: Store;
+  store: StoreBackend;
   now: () => Date;
   /** Read and map files of at least this many bytes on a worker thread (default PARSE_IN_WORKER_FROM_BYTES). */
   parseInWorkerFromBytes?: number;
@@ -272,7 +274,7 @@ function rejectFile(inHand: FileInHand, error: IngestError, labId: string | null
 }
 
 /** The planned ropes a mistyped ID's suggestion is drawn from, read once per file when first asked. */
-function plannedLookup(store: Store): PlannedLookup {
+function plannedLookup(store: StoreBackend): PlannedLookup {
   let planned: Map<string, PlannedRope> | undefined;
   const awaitingBySite = new Map<string, Set<string>>();
   return {
@@ -330,6 +332,7 @@ async function storeFile(
         encodingNote: input.sniffed.note,
         byteLength: hashed.size,
       },
+      ingestRules,
       earlier.reopen === undefined ? {} : { reopen: earlier.reopen },
     );
   } catch (error) {

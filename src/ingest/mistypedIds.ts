@@ -4,7 +4,7 @@
  * written names, then to ropes still without a result. Pure: the planned ropes are passed in.
  */
 import { CORRECTIONS_FILE } from '../config/load.js';
-import type { PlannedRope } from '../store/store.js';
+import type { PlannedRope } from '../domain/records.js';
 import type { RowRejection } from './errors.js';
 import { likelyMeantIds, type MeantId } from './plannedIds.js';
 import { normaliseSampleId } from './recordCells.js';
