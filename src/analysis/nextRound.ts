@@ -10,7 +10,6 @@ import type { AnalysisSettings, Barn, Measure, Site } from '../config/types.js';
 import type { SiteRound } from '../rounds/roundModel.js';
 import {
   allocateRopesBalanced,
-  barnTargetForSite,
   buildRoundPlan,
   compareSchedules,
   compareSchedulesGrowing,
@@ -30,7 +29,7 @@ import {
   simulateOnwardSpread,
   type DetectionEstimate,
 } from '../spatial/index.js';
-import { detectionFor, pooledDetection, twoStageSiteDetection } from '../stats/index.js';
+import { barnTargetForSite, detectionFor, pooledDetection, twoStageSiteDetection } from '../stats/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import {
   designBarnsFor,
@@ -47,6 +46,7 @@ import { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlan
 export { PLAN_SCHEMA, type BarnSizingReport, type NextRoundPlan, type PooledPlanRow } from './planTypes.js';
 import { formatPercent } from '../util/format.js';
 import { barnStatusOn } from '../rounds/pigGroups.js';
+import { inUsePens } from '../domain/layout.js';
 
 /** Doubling time of infected pens in the growing-infection comparison: a modelling assumption. */
 export const GROWTH_DOUBLING_DAYS = 7;
@@ -86,7 +86,7 @@ function barnModels(input: PlanInput, assays: readonly string[]): BarnModel[] {
   const { site, cache } = input;
   const roundIndex = input.rounds.length;
   return site.barns.map((barn) => {
-    const inUse = barn.pens.filter((pen) => pen.status === 'in-use');
+    const inUse = inUsePens(barn.pens);
     const pensInUse = inUse.length;
     const designInfected = designInfectedFor(site.program, pensInUse);
     // Size for the assay that needs the most ropes: the one with the lowest rope sensitivity.
@@ -342,7 +342,7 @@ export function planNextRound(input: PlanInput): NextRoundPlan {
   // positives (two steps of the spread model, about one interval): greedy on a submodular gain.
   const onwardDetect = (model: BarnModel, positives: readonly string[]) => {
     if (program.followUpRopes === undefined || positives.length === 0) return undefined;
-    const inUse = model.barn.pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id);
+    const inUse = inUsePens(model.barn.pens).map((pen) => pen.id);
     const seeds = positives.filter((id) => inUse.includes(id));
     if (seeds.length === 0) return undefined;
     const onward = simulateOnwardSpread(contactWeights(model.barn.layout, inUse, 'queen', 'binary'), {

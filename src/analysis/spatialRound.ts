@@ -18,6 +18,7 @@ import {
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import { formatPValue } from '../util/format.js';
+import { inUsePens, isInUse } from '../domain/layout.js';
 
 export const CLUSTERS_SCHEMA = 'ropewatch.clusters/1';
 
@@ -79,7 +80,7 @@ export class OutbreakCache {
   }
 
   outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null {
-    const inUse = barn.pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id);
+    const inUse = inUsePens(barn.pens).map((pen) => pen.id);
     if (infected < 1 || infected > inUse.length) return null;
     const key = `${site.id}/${barn.id}/${infected}`;
     let outbreaks = this.cache.get(key);
@@ -169,10 +170,7 @@ export function siteSpatial(
             earlier.add(pen);
         }
         const sampled = barnRound.pens
-          .filter(
-            (pen) =>
-              pen.results[assayId] !== undefined && barn.penById.get(pen.penId.toUpperCase())?.status === 'in-use',
-          )
+          .filter((pen) => pen.results[assayId] !== undefined && isInUse(barn.penById.get(pen.penId.toUpperCase())))
           .map((pen) => {
             const result = pen.results[assayId]!;
             if (measure === 'sp-ratio') spByPen[`${barn.id}/${pen.penId}`] = result.sp;
@@ -197,7 +195,7 @@ export function siteSpatial(
         const hypergeometric =
           confidence[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)
             ?.detectionConfidence ?? 0;
-        const pensInUse = barn.pens.filter((pen) => pen.status === 'in-use').length;
+        const pensInUse = inUsePens(barn.pens).length;
         const infected = designInfectedFor(site.program, pensInUse);
         const outbreaks = cache.outbreaksFor(site, barn, infected);
         // Invalid results prove nothing: only pens with a valid result count as ropes that looked.

@@ -6,6 +6,7 @@ import type { Barn, Measure, Site } from '../config/types.js';
 import { CLASS_SEVERITY, type ResultClass } from '../interpret/classify.js';
 import { formRounds, resultsDueOn, roundForDueDate, roundState, type DatedRope, type RoundState } from './rounds.js';
 import { barnStatusOn, groupRef, type GroupRef } from './pigGroups.js';
+import { inUsePens } from '../domain/layout.js';
 
 export interface ResultInput {
   id: number;
@@ -729,7 +730,7 @@ export function buildSiteRounds(
         onDate,
         group: status.kind === 'group' ? groupRef(status.group) : null,
         empty: status.kind === 'empty',
-        pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
+        pensInUse: inUsePens(barn.pens).length,
         ropesHung: hung + plannedMissing.length,
         ropesReturned: returned,
         missingSampleIds: missing.sort(),

@@ -3,7 +3,7 @@
  * returned as one JSON-serialisable report (the pipeline writes clusters.json / clusters.csv
  * from it).
  */
-import { expandLayout, type BarnLayout, type Pen } from '../domain/layout.js';
+import { expandLayout, inUsePens, isInUse, type BarnLayout, type Pen } from '../domain/layout.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { linkClusters, type PenCluster } from './clusters.js';
 import { localGiStar } from './getisOrd.js';
@@ -179,7 +179,7 @@ function prepare(input: BarnRoundInput): Prepared {
     seen.add(s.id);
     if (!Number.isFinite(s.load) || s.load < 0)
       throw new RangeError(`\`load\` of pen ${s.id} must be a finite number >= 0, got ${s.load}`);
-    if (pen.status !== 'in-use') excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
+    if (!isInUse(pen)) excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
     else if (s.resultClass === 'invalid')
       excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
     else used.push({ ...s, x: pen.x, y: pen.y });
@@ -313,7 +313,7 @@ function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): Ba
 }
 
 function runDetection(p: Prepared, settings: DetectionSettings, seed: number): BarnSpatialReport['detection'] {
-  const inUse = p.pens.filter((pen) => pen.status === 'in-use');
+  const inUse = inUsePens(p.pens);
   const ids = inUse.map((pen) => pen.id);
   const N = ids.length;
   const se = settings.se ?? 0.9;
