@@ -188,7 +188,7 @@ export function siteSpatial(
       const report = analyseSiteRound({
         site: site.id,
         barns: barnInputs,
-        options: { seed: deriveSeed(seed, assayId), permutations: settings.permutations, detection: false },
+        options: { seed: deriveSeed(seed, assayId), permutations: settings.permutations },
       });
       const detection = report.barns.map((barnReport) => {
         const barn = site.barnById.get(barnReport.barn.toUpperCase())!;

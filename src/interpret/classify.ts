@@ -7,6 +7,7 @@
  */
 import type { Assay, LabAssay, LoadBand, SpLoadBand } from '../config/types.js';
 import type { CtReading } from './ct.js';
+import { loadScore } from './load.js';
 import type { SpReading } from './sp.js';
 
 /** A result cell as read: a Ct reading (readCt) or an S/P reading (readSp). */
@@ -87,7 +88,7 @@ export function classify(
       if (cutoffs.measure !== 'sp-ratio' || assay.measure !== 'sp-ratio')
         throw new RangeError(`an S/P reading needs an S/P assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
       const { sp } = reading;
-      const load = Math.max(0, sp);
+      const load = loadScore({ measure: 'sp-ratio', ct: null, sp, cycleLimit: null, invalid: false });
       const band = spBandOf(sp, assay.loadBands);
       if (sp >= cutoffs.positiveAtOrAbove) {
         return {
@@ -116,7 +117,7 @@ export function classify(
       if (cutoffs.measure !== 'ct' || assay.measure !== 'ct')
         throw new RangeError(`a Ct reading needs a Ct assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
       const { ct } = reading;
-      const load = Math.max(0, cutoffs.cycleLimit - ct);
+      const load = loadScore({ measure: 'ct', ct, sp: null, cycleLimit: cutoffs.cycleLimit, invalid: false });
       const band = loadBandOf(ct, assay.loadBands);
       if (ct < cutoffs.positiveBelow) {
         return {

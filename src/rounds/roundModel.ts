@@ -7,6 +7,7 @@ import { CLASS_SEVERITY, type ResultClass } from '../interpret/classify.js';
 import { formRounds, resultsDueOn, roundForDueDate, roundState, type DatedRope, type RoundState } from './rounds.js';
 import { barnStatusOn, groupRef, type GroupRef } from './pigGroups.js';
 import { inUsePens } from '../domain/layout.js';
+import { loadScore } from '../interpret/load.js';
 
 export interface ResultInput {
   id: number;
@@ -599,14 +600,13 @@ export function buildSiteRounds(
             ct: result.ct,
             sp,
             loadBand: result.loadBand,
-            load:
-              result.resultClass === 'invalid'
-                ? 0
-                : measure === 'sp-ratio'
-                  ? Math.max(0, sp ?? 0)
-                  : result.ct === null || result.cycleLimit === null
-                    ? 0
-                    : Math.max(0, result.cycleLimit - result.ct),
+            load: loadScore({
+              measure,
+              ct: result.ct,
+              sp,
+              cycleLimit: result.cycleLimit,
+              invalid: result.resultClass === 'invalid',
+            }),
             reason: result.reason,
             sampleId: result.sampleId,
             labId: result.labId,

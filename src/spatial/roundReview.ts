@@ -3,7 +3,7 @@
  * returned as one JSON-serialisable report (the pipeline writes clusters.json / clusters.csv
  * from it).
  */
-import { expandLayout, inUsePens, isInUse, type BarnLayout, type Pen } from '../domain/layout.js';
+import { expandLayout, isInUse, type BarnLayout, type Pen } from '../domain/layout.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { linkClusters, type PenCluster } from './clusters.js';
 import { localGiStar } from './getisOrd.js';
@@ -12,7 +12,7 @@ import { localJoinCounts } from './localJoinCount.js';
 import { moranTest, type MoranResult } from './moran.js';
 import { bernoulliScan, type ScanResult } from './scan.js';
 import { summariseSpread, type SpreadPoint, type SpreadSummary } from './spread.js';
-import { compareWithRandomPlacement, simulateOutbreaks, type PlacementComparison } from './spreadDetection.js';
+import type { PlacementComparison } from './spreadDetection.js';
 import {
   contactWeights,
   defaultWeights,
@@ -47,21 +47,6 @@ export type WeightChoice =
   | { kind: 'band'; band: number; power?: number }
   | { kind: 'lists'; neighbours: Record<string, string[]> };
 
-export interface DetectionSettings {
-  /** Rope sensitivity in [0, 1]; pass the assay's and age group's value. Default 0.9. */
-  se?: number;
-  /** Infected pens at the design prevalence; default ceil(0.1 N), N = in-use pens. */
-  infected?: number;
-  /** Per-step transmission over a contact; default 0.3. */
-  beta?: number;
-  /** Per-step background infection; default 0.01. */
-  background?: number;
-  /** Default 10,000. */
-  realisations?: number;
-  /** Contact graph for spread; default 'queen'. */
-  convention?: BarnConvention;
-}
-
 export interface SpatialOptions {
   /** Seed for every Monte Carlo part; written into the report. */
   seed: number;
@@ -77,8 +62,6 @@ export interface SpatialOptions {
   clusterLinkDistance?: number;
   /** Threshold between adjacent spread and a distant new focus, pen units; default max(2.5, rope spacing). */
   adjacentDistance?: number;
-  /** Spread-model detection of the ropes hung versus random ropes; false to skip. */
-  detection?: DetectionSettings | false;
 }
 
 export interface BarnRoundInput {
@@ -228,115 +211,128 @@ function checkOptions(o: SpatialOptions): void {
   if (!Number.isInteger(o.seed)) throw new RangeError(`\`seed\` must be an integer, got ${o.seed}`);
 }
 
-function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): BarnSpatialReport {
+/** Where the round's positives lie: clusters of neighbouring ropes, and spread from earlier positives. */
+function clustersAndSpread(
+  p: Prepared,
+  options: SpatialOptions,
+): Pick<BarnSpatialReport, 'clusters' | 'clusterLinkDistance' | 'spread'> {
   const { input } = p;
-  const permutations = options.permutations ?? 999;
-  const style = options.style ?? 'binary';
-  const notes: string[] = [];
-  const n = p.used.length;
-  const positive = p.used.map((u) => u.positive);
-  const loads = p.used.map((u) => u.load);
   const earlier = new Set(input.earlierPositive ?? []);
   const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
   // A cluster is a chain of neighbouring ropes; "adjacent" spread reaches at least the next rope,
   // since the pens between two ropes were not sampled (see summariseSpread for the 2.5 floor).
-  const spacing = n >= 2 ? ropeSpacing(points) : 1;
+  const spacing = p.used.length >= 2 ? ropeSpacing(points) : 1;
   const linkDistance = options.clusterLinkDistance ?? spacing;
   const adjacentDistance = options.adjacentDistance ?? Math.max(2.5, spacing);
+  const positives = p.used.filter((u) => u.positive);
   const clusters = linkClusters(
-    p.used.filter((u) => u.positive).map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
+    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
     linkDistance,
     earlier,
   );
   const spread = summariseSpread(
-    p.used.filter((u) => u.positive).map((u) => ({ id: u.id, x: u.x, y: u.y, barn: input.barn })),
+    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, barn: input.barn })),
     p.pens.filter((pen) => earlier.has(pen.id)).map((pen) => ({ id: pen.id, x: pen.x, y: pen.y, barn: input.barn })),
     adjacentDistance,
   );
-  const report: BarnSpatialReport = {
-    barn: input.barn,
-    seed,
-    n,
-    positives: positive.filter(Boolean).length,
+  return { clusters, clusterLinkDistance: linkDistance, spread };
+}
+
+/** The statistics over the weights among the usable ropes (at least 2): join counts, Moran's I, the scan, and Gi* and local join counts per pen. */
+function weightedStatistics(
+  p: Prepared,
+  options: SpatialOptions,
+  seed: number,
+  notes: string[],
+): Pick<BarnSpatialReport, 'weights' | 'joinCount' | 'moran' | 'scan' | 'pens'> {
+  const permutations = options.permutations ?? 999;
+  const style = options.style ?? 'binary';
+  const positive = p.used.map((u) => u.positive);
+  const loads = p.used.map((u) => u.load);
+  const earlier = new Set(p.input.earlierPositive ?? []);
+  const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
+  const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
+  if (w.isolates.length > 0)
+    notes.push(
+      `${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`,
+    );
+  const joinCount = joinCountTest(w, positive, {
+    rng: seededRng(deriveSeed(seed, 'join-count')),
+    permutations,
+    exactLimit: options.exactLimit ?? 1e6,
+  });
+  const moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
+  const scan = bernoulliScan(points, positive, {
+    rng: seededRng(deriveSeed(seed, 'scan')),
+    permutations,
+    ...(options.scan ?? {}),
+  });
+  const gi = localGiStar(w, loads);
+  const local = new Map(localJoinCounts(w, positive).map((l) => [l.id, l]));
+  const pens = p.used.map((u, i) => ({
+    id: u.id,
+    x: u.x,
+    y: u.y,
+    positive: u.positive,
+    resultClass: u.resultClass ?? null,
+    ct: u.ct ?? null,
+    load: u.load,
+    neighbours: w.offsets[i + 1]! - w.offsets[i]!,
+    giStar: gi[i]!.z,
+    localBB: local.get(u.id)?.bb ?? null,
+    localP: local.get(u.id)?.p ?? null,
+    newPositive: u.positive && !earlier.has(u.id),
+  }));
+  return {
+    weights: { description: w.description, style: w.style, isolates: [...w.isolates], band },
+    joinCount,
+    moran,
+    scan,
+    pens,
+  };
+}
+
+function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): BarnSpatialReport {
+  const notes: string[] = [];
+  const n = p.used.length;
+  const style = options.style ?? 'binary';
+  const none = {
     weights: { description: 'none (fewer than 2 usable pens)', style, isolates: [], band: null },
-    excluded: p.excluded,
     joinCount: null,
     moran: null,
-    pens: [],
     scan: null,
+    pens: [],
+  };
+  const statistics = n >= 2 ? weightedStatistics(p, options, seed, notes) : none;
+  if (n < 2) notes.push('fewer than 2 usable sampled pens: no spatial statistics');
+  // The detection of the ropes hung under contagious spread needs the site's spread model
+  // (src/analysis/spatialRound.ts fills `detection`); the review itself runs none, and says so.
+  notes.push('spread-model detection not requested');
+  const { clusters, clusterLinkDistance, spread } = clustersAndSpread(p, options);
+  return {
+    barn: p.input.barn,
+    seed,
+    n,
+    positives: p.used.filter((u) => u.positive).length,
+    weights: statistics.weights,
+    excluded: p.excluded,
+    joinCount: statistics.joinCount,
+    moran: statistics.moran,
+    pens: statistics.pens,
+    scan: statistics.scan,
     clusters,
-    clusterLinkDistance: linkDistance,
+    clusterLinkDistance,
     spread,
     detection: null,
     notes,
   };
-  if (n >= 2) {
-    const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
-    report.weights = { description: w.description, style: w.style, isolates: [...w.isolates], band };
-    if (w.isolates.length > 0)
-      notes.push(
-        `${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`,
-      );
-    report.joinCount = joinCountTest(w, positive, {
-      rng: seededRng(deriveSeed(seed, 'join-count')),
-      permutations,
-      exactLimit: options.exactLimit ?? 1e6,
-    });
-    report.moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
-    report.scan = bernoulliScan(points, positive, {
-      rng: seededRng(deriveSeed(seed, 'scan')),
-      permutations,
-      ...(options.scan ?? {}),
-    });
-    const gi = localGiStar(w, loads);
-    const local = new Map(localJoinCounts(w, positive).map((l) => [l.id, l]));
-    report.pens = p.used.map((u, i) => ({
-      id: u.id,
-      x: u.x,
-      y: u.y,
-      positive: u.positive,
-      resultClass: u.resultClass ?? null,
-      ct: u.ct ?? null,
-      load: u.load,
-      neighbours: w.offsets[i + 1]! - w.offsets[i]!,
-      giStar: gi[i]!.z,
-      localBB: local.get(u.id)?.bb ?? null,
-      localP: local.get(u.id)?.p ?? null,
-      newPositive: u.positive && !earlier.has(u.id),
-    }));
-  } else {
-    notes.push('fewer than 2 usable sampled pens: no spatial statistics');
-  }
-  if (options.detection === false) notes.push('spread-model detection not requested');
-  else if (n >= 1) report.detection = runDetection(p, options.detection ?? {}, deriveSeed(seed, 'detection'));
-  return report;
-}
-
-function runDetection(p: Prepared, settings: DetectionSettings, seed: number): BarnSpatialReport['detection'] {
-  const inUse = inUsePens(p.pens);
-  const ids = inUse.map((pen) => pen.id);
-  const N = ids.length;
-  const se = settings.se ?? 0.9;
-  const infected = settings.infected ?? Math.max(1, Math.ceil(0.1 * N));
-  const beta = settings.beta ?? 0.3;
-  const background = settings.background ?? 0.01;
-  const realisations = settings.realisations ?? 10_000;
-  const graph = contactWeights(p.input.layout, ids, settings.convention ?? 'queen', 'binary');
-  const rng = seededRng(seed);
-  const outbreaks = simulateOutbreaks(graph, { infected, beta, background, realisations, rng });
-  const cmp = compareWithRandomPlacement(
-    outbreaks,
-    p.used.map((u) => u.id),
-    se,
-    rng,
-  );
-  return { ...cmp, se, infected, beta, background, inUsePens: N, reseeded: outbreaks.reseeded, seed };
 }
 
 /**
  * Spatial analysis of one barn-round: join counts, Moran's I on load, local join counts and
- * Gi* per pen, the Bernoulli scan, cluster listing, spread against earlier rounds and the
- * detection of the ropes hung versus random ropes under contagious spread. Empty and
+ * Gi* per pen, the Bernoulli scan, cluster listing and spread against earlier rounds (the
+ * detection of the ropes hung under contagious spread is left null: it needs the site's spread
+ * model, which src/analysis/spatialRound.ts supplies). Empty and
  * out-of-use pens, and invalid results, are left out and listed in `excluded`.
  * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id.
  *

@@ -4,7 +4,7 @@
  * Every statistic in src/spatial reads weights through this one structure so that the hot
  * loops (permutations, scan, spread) walk typed arrays instead of dense n x n matrices.
  */
-import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/layout.js';
+import { expandLayout, penContacts, type BarnLayout } from '../domain/layout.js';
 
 /** A point in pen units (barn or site coordinates). */
 export interface SpatialPoint {
