@@ -10,6 +10,7 @@
 import path from 'node:path';
 import { siteConfidence } from './analysis/confidence.js';
 import { planNextRound } from './analysis/nextRound.js';
+import { wordPlan } from './report/planWording.js';
 import { summariseSite } from './analysis/roundSummary.js';
 import { OutbreakCache, siteSpatial } from './analysis/spatialRound.js';
 import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
@@ -62,18 +63,20 @@ export function analyseSite(
       .filter((rope) => rope.afterRound === lastNumber)
       .map((rope) => [`${rope.barnId}/${rope.penId}`, rope.sampleId] as const),
   );
-  const plan = planNextRound({
-    site,
-    rounds,
-    confidence,
-    spatial,
-    settings: ws.config.analysis,
-    cache,
-    today,
-    existingIds,
-    measureOf: (assayId) => ws.config.assayById.get(assayId)?.measure ?? 'ct',
-    ...(options.budget !== undefined ? { budget: options.budget } : {}),
-  });
+  const plan = wordPlan(
+    planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial,
+      settings: ws.config.analysis,
+      cache,
+      today,
+      existingIds,
+      measureOf: (assayId) => ws.config.assayById.get(assayId)?.measure ?? 'ct',
+      ...(options.budget !== undefined ? { budget: options.budget } : {}),
+    }),
+  );
   return { site, rounds, confidence, summaries, spatial, plan };
 }
 

@@ -7,6 +7,7 @@ import { parse } from 'csv-parse/sync';
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
@@ -26,7 +27,9 @@ function planAfter(positive: readonly number[]) {
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
   return {
     site,
-    plan: planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }),
+    plan: wordPlan(
+      planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }),
+    ),
   };
 }
 
