@@ -12,6 +12,7 @@ import { siteConfidence } from './analysis/confidence.js';
 import { planNextRound } from './analysis/nextRound.js';
 import { wordPlan } from './report/planWording.js';
 import { summariseSite } from './analysis/roundSummary.js';
+import { wordSummary } from './report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from './analysis/spatialRound.js';
 import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
 import type { Site } from './config/types.js';
@@ -54,7 +55,7 @@ export function analyseSite(
     today,
   );
   const confidence = siteConfidence(site, rounds, { settings: ws.config.analysis, outbreaks: cache });
-  const summaries = summariseSite(ws.config, site, rounds, confidence);
+  const summaries = summariseSite(ws.config, site, rounds, confidence).map(wordSummary);
   const spatial = siteSpatial(site, rounds, confidence, ws.config.analysis, cache);
   const lastNumber = rounds.at(-1)?.number ?? 0;
   const existingIds = new Map(

@@ -12,6 +12,7 @@ import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { wordPlan } from '../../src/report/planWording.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
@@ -53,7 +54,14 @@ function analyse(config: Config, positiveAntibody: readonly number[], positivePc
       measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct',
     }),
   );
-  return { site, rounds, confidence, spatial, plan, summaries: summariseSite(config, site, rounds, confidence) };
+  return {
+    site,
+    rounds,
+    confidence,
+    spatial,
+    plan,
+    summaries: summariseSite(config, site, rounds, confidence).map(wordSummary),
+  };
 }
 
 describe('an antibody positive beside negative PCR', () => {

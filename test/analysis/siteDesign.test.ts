@@ -6,6 +6,7 @@ import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
 import { wordPlan } from '../../src/report/planWording.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { ConfigError, loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
@@ -117,7 +118,7 @@ describe('site detection when not every barn is infected (two-stage design)', ()
   it('labels both site figures in plain words in the summary, and writes them to summary.csv', () => {
     const config = threeBarnConfig({ designPrevalence: 0.1 });
     const { site, rounds, confidence } = firstRound(config, counts);
-    const [summary] = summariseSite(config, site, rounds, confidence);
+    const [summary] = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const figures = summary!.assays.find((assay) => assay.id === 'PRRSV')!.siteFigures;
     expect(figures.map((figure) => figure.label)).toEqual([
       'if every barn were infected at 10% of pens',
