@@ -1,14 +1,15 @@
 /**
- * `ropewatch retry`: the command's declaration; what it runs with (retry.ts, the pipeline) is
+ * `ropewatch retry`: the command's declaration; what it runs with (src/cli/retry.ts, the pipeline) is
  * imported when it runs.
  */
 import fs from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
-import { REJECTED_DIR } from '../inboxFiles.js';
-import { terminalText } from '../util/terminalText.js';
-import { addCommonOptions, type CommonOptions } from './commonOptions.js';
-import { InputRejectedError, printJson, UsageError, type CliIo } from './io.js';
+import { commandModules } from '../command.js';
+import { REJECTED_DIR } from '../../inboxFiles.js';
+import { terminalText } from '../../util/terminalText.js';
+import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
+import { InputRejectedError, printJson, UsageError, type CliIo } from '../io.js';
 
 export function registerRetry(program: Command, io: CliIo): void {
   addCommonOptions(
@@ -21,7 +22,7 @@ export function registerRetry(program: Command, io: CliIo): void {
       .argument('[files...]', 'refused files to read again (default: all of inbox/rejected/)')
       .option('--json', 'print the receipts as JSON'),
   ).action(async (files: string[], options: CommonOptions) => {
-    const { checkInbox, rejectedFiles, retryFiles, withWorkspace } = await import('./commandModules.js');
+    const { checkInbox, rejectedFiles, retryFiles, withWorkspace } = await commandModules();
     checkInbox(io, options);
     await withWorkspace(io, options, async (ws) => {
       const targets = files.length > 0 ? files.map((file) => path.resolve(io.cwd, file)) : rejectedFiles(ws.inbox);
