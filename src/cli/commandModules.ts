@@ -16,4 +16,4 @@ export { watchConfig } from '../watch/configWatch.js';
 export { resolvePaths } from '../workspace.js';
 export { rejectedFiles, reloadConfiguration, retryFiles } from './retry.js';
 export { catchUp, deliverOwedAlerts, ingestFiles, processAndTell, signalExitCode } from './runFiles.js';
-export { checkInbox, withWorkspace } from './workspaceOptions.js';
+export { checkInbox, siteOption, withWorkspace } from './workspaceOptions.js';

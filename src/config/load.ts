@@ -11,6 +11,7 @@ import { loadLab } from './loadLab.js';
 import { loadSites } from './loadSites.js';
 import { matchKey } from './names.js';
 import { ProblemList } from './problems.js';
+import { CONFIG_FILES } from '../workspacePaths.js';
 import type { Config, LabProfile } from './types.js';
 
 export { ConfigError, formatProblem, type ConfigProblem } from './problems.js';
@@ -30,9 +31,9 @@ export {
  * @throws ConfigError with every problem found, each naming its file and key path.
  */
 export function loadConfig(dir: string): Config {
-  const sitesFile = path.join(dir, 'sites.yaml');
-  const assaysFile = path.join(dir, 'assays.yaml');
-  const labsDir = path.join(dir, 'labs');
+  const sitesFile = path.join(dir, CONFIG_FILES.sites);
+  const assaysFile = path.join(dir, CONFIG_FILES.assays);
+  const labsDir = path.join(dir, CONFIG_FILES.labsDir);
   const problems = new ProblemList();
   const assays = loadAssays(assaysFile, problems);
   const assayById = assays === undefined ? undefined : new Map(assays.map((assay) => [assay.id, assay]));

@@ -7,9 +7,10 @@ import { ConfigError, type ProblemList } from './problems.js';
 import { readValid } from './readYaml.js';
 import { formatPath } from './schemaProblems.js';
 import type { SampleIdCorrection } from './types.js';
+import { CONFIG_FILES } from '../workspacePaths.js';
 
 /** Confirmed sample-ID corrections, beside sites.yaml (optional). */
-export const CORRECTIONS_FILE = 'corrections.yaml';
+export const CORRECTIONS_FILE = CONFIG_FILES.corrections;
 
 /**
  * Reads config/corrections.yaml when there is one: sample IDs a person confirmed as mistyped.

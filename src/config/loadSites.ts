@@ -32,8 +32,8 @@ export function loadSites(
   );
   for (const key of ['ropeSensitivity', 'ropeSpecificity'] as const)
     checkPerAssayKeys(defaults[key], ['programDefaults', key], file, assayIds, allAgeGroups, problems);
-  // A rope sheet's site cell and --site match a site's id, code or name (rows.ts findSite,
-  // cli/commands.ts): all three share one namespace across sites.
+  // A rope sheet's site cell and --site match a site's id, code or name (findSite, names.ts):
+  // all three share one namespace across sites.
   const siteNames = new NameRegistry(file, problems);
   const sites = raw.sites.map((site, siteIndex): Site => {
     const at = (...rest: PropertyKey[]) => formatPath(['sites', siteIndex, ...rest]);

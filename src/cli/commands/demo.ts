@@ -3,13 +3,14 @@ import type { Command } from 'commander';
 import { commandModules } from '../command.js';
 import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
 import type { CliIo } from '../io.js';
+import { DEFAULT_PLACES } from '../../workspacePaths.js';
 
 export function registerDemo(program: Command, io: CliIo): void {
   addCommonOptions(
     program
       .command('demo')
       .description(
-        'run the invented demo scenario end to end: writes config/, drops files into inbox/ and processes them into outbox/ (resets the demo store first); ' +
+        `run the invented demo scenario end to end: writes ${DEFAULT_PLACES.config}, drops files into ${DEFAULT_PLACES.inbox} and processes them into ${DEFAULT_PLACES.outbox} (resets the demo store first); ` +
           'refuses a config folder holding files it did not write (use --config <other dir>)',
       )
       .option(

@@ -3,6 +3,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import { terminalText } from '../../util/terminalText.js';
+import { DEFAULT_PLACES } from '../../workspacePaths.js';
 import { commandModules } from '../command.js';
 import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
 import { InputRejectedError, InterruptedError, printJson, UsageError, type CliIo } from '../io.js';
@@ -12,7 +13,7 @@ export function registerIngest(program: Command, io: CliIo): void {
     program
       .command('ingest')
       .description(
-        'process lab exports and rope sheets once, then exit (processed files move to inbox/archive/, refused ones to inbox/rejected/)',
+        `process lab exports and rope sheets once, then exit (processed files move to ${DEFAULT_PLACES.archive}, refused ones to ${DEFAULT_PLACES.rejected})`,
       )
       .argument('<files...>', 'files to ingest (usually in the inbox)')
       .option('--json', 'print the receipts as JSON'),
@@ -32,6 +33,7 @@ export function registerIngest(program: Command, io: CliIo): void {
         signalExitCode(outcome.stoppedBy),
       );
     }
-    if (outcome.failed) throw new InputRejectedError('some input was refused: see the receipts in outbox/receipts/');
+    if (outcome.failed)
+      throw new InputRejectedError(`some input was refused: see the receipts in ${DEFAULT_PLACES.receipts}`);
   });
 }

@@ -3,6 +3,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { Command } from 'commander';
 import type { Workspace } from '../../workspace.js';
+import { OUTBOX_NAMES } from '../../workspacePaths.js';
 import { commandModules } from '../command.js';
 import type * as CommandModules from '../commandModules.js';
 import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
@@ -10,6 +11,7 @@ import { InputRejectedError, printJson, UsageError, type CliIo } from '../io.js'
 
 type ReportOptions = CommonOptions & { site?: string; round?: string };
 type Analyses = ReturnType<typeof CommandModules.regenerateOutputs>;
+type Modules = Pick<typeof CommandModules, 'siteOption'>;
 
 /** Every file under `dir`, relative to `base` with `/` between folders, sorted. */
 function filesUnder(dir: string, base: string): string[] {
@@ -21,12 +23,10 @@ function filesUnder(dir: string, base: string): string[] {
 }
 
 /** The site ids --site names (every site without it). */
-function chosenSites(ws: Workspace, options: ReportOptions): string[] | undefined {
+function chosenSites(ws: Workspace, options: ReportOptions, { siteOption }: Modules): string[] | undefined {
   if (options.round !== undefined && options.site === undefined) throw new UsageError('--round needs --site');
   if (options.site === undefined) return undefined;
-  const site = ws.config.siteById.get(options.site.toUpperCase());
-  if (!site) throw new UsageError(`no site ${JSON.stringify(options.site)} in ${ws.configDir}/sites.yaml`);
-  return [site.id];
+  return [siteOption(ws, options.site).id];
 }
 
 /** What was written, as --json prints it: per site its rounds and files. */
@@ -35,7 +35,7 @@ function printWritten(io: CliIo, ws: Workspace, analyses: Analyses): void {
   // holds now is what this run wrote.
   printJson(io, {
     outbox: ws.outbox,
-    index: fs.existsSync(path.join(ws.outbox, 'index.html')) ? 'index.html' : null,
+    index: fs.existsSync(path.join(ws.outbox, OUTBOX_NAMES.indexPage)) ? OUTBOX_NAMES.indexPage : null,
     sites: analyses.map((analysis) => ({
       site: analysis.site.id,
       name: analysis.site.name,
@@ -56,10 +56,10 @@ export function registerReport(program: Command, io: CliIo): void {
       .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole')
       .option('--json', 'print what was written as JSON: per site its rounds and files'),
   ).action(async (options: ReportOptions) => {
-    const { deliverOwedAlerts, OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } =
-      await commandModules();
+    const modules = await commandModules();
+    const { deliverOwedAlerts, OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } = modules;
     await withWorkspace(io, options, async (ws) => {
-      const siteIds = chosenSites(ws, options);
+      const siteIds = chosenSites(ws, options, modules);
       removeStrayTemps(ws.outbox);
       let analyses: Analyses;
       try {
