@@ -12,7 +12,9 @@ import type { Config } from '../config/types.js';
 import { correctionsForFile, plannedIdChecker } from '../ingest/plannedIds.js';
 import { emptyReceipt, type Receipt } from '../ingest/receipt.js';
 import { rowRejection, type RowRejection } from '../ingest/errors.js';
-import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type Store, type StoredFile } from '../store/store.js';
+import type { StoredFile } from '../domain/records.js';
+import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type StoreBackend } from '../domain/store.js';
+import { ingestRules } from '../ingest/rowRules.js';
 import { type AckCode, type AckError, messageRefusalAck } from './ack.js';
 import { fieldName, Hl7Error, type Hl7Location } from './hl7Error.js';
 import { type Hl7Message, parseMessage, type SegmentLine } from './parse.js';
@@ -21,7 +23,7 @@ import { decodeHl7, splitMessages } from './envelope.js';
 
 export interface ReceiveDeps {
   config: Config;
-  store: Store;
+  store: StoreBackend;
   now: () => Date;
 }
 
@@ -224,15 +226,18 @@ function storeInOneTransaction(unit: ReadUnit, receipt: Receipt, deps: ReceiveDe
   const { name, sha256, receivedAt, bytes, read, fresh, isRepeat } = unit;
   let fileId: number;
   try {
-    fileId = deps.store.beginFile({
-      name,
-      sha256,
-      kind: 'results',
-      labId: unit.labId,
-      receivedAt,
-      encodingNote: `${receipt.encoding}; ${read.length} message(s), MSH-10 ${read.map((entry) => entry.outcome.controlId || '?').join(', ')}`,
-      byteLength: bytes.length,
-    });
+    fileId = deps.store.beginFile(
+      {
+        name,
+        sha256,
+        kind: 'results',
+        labId: unit.labId,
+        receivedAt,
+        encodingNote: `${receipt.encoding}; ${read.length} message(s), MSH-10 ${read.map((entry) => entry.outcome.controlId || '?').join(', ')}`,
+        byteLength: bytes.length,
+      },
+      ingestRules,
+    );
   } catch (error) {
     if (error instanceof FileAlreadyStoredError) return repeatOfFile(receipt, error.known, bytes, deps.store);
     throw error;
@@ -249,7 +254,12 @@ function storeInOneTransaction(unit: ReadUnit, receipt: Receipt, deps: ReceiveDe
     for (const entry of read) {
       if (entry.refusal === undefined) continue;
       const where = entry.refusal.location;
-      const refusal = rowRejection(entry.refusal.code, where.line, fieldName(where), undefined, entry.refusal.message);
+      const refusal = rowRejection({
+        code: entry.refusal.code,
+        line: where.line,
+        field: fieldName(where),
+        detail: entry.refusal.message,
+      });
       deps.store.insertRejections(fileId, [refusal]);
       noteRejections(receipt, [refusal]);
     }
@@ -280,7 +290,7 @@ function markRepeat(entry: ReadMessage, repeat: boolean): void {
 }
 
 /** Stores one message's rows; remembers its MSH-10 when it was stored whole (a resend of an AE message is read again). */
-function storeMessage(entry: ReadMessage, fileId: number, store: Store, receipt: Receipt): void {
+function storeMessage(entry: ReadMessage, fileId: number, store: StoreBackend, receipt: Receipt): void {
   const records = entry.records!;
   const header = entry.header!;
   const counts = store.insertResults(fileId, records.rows, header.hl7.sampleId);
@@ -320,7 +330,7 @@ function listInto<T>(list: T[], items: readonly T[]): void {
  * the first time: AA, or AE again with the refusals stored with it (a resend does not turn an
  * error into an acceptance).
  */
-function repeatOfFile(receipt: Receipt, known: StoredFile, bytes: Buffer, store: Store): ReceiveResult {
+function repeatOfFile(receipt: Receipt, known: StoredFile, bytes: Buffer, store: StoreBackend): ReceiveResult {
   receipt.status = 'duplicate';
   receipt.lab = known.labId;
   receipt.reason = {

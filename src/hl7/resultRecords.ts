@@ -10,11 +10,13 @@
  * the SPM, not results: skipped). A Ct (or S/P) OBX and a coded-call OBX of the same assay in
  * one order make one result, as one CSV row carries both the value and the lab's call.
  */
-import { DEFAULT_CALL_WORDS, DEFAULT_STATUS_WORDS } from '../config/load.js';
+import { DEFAULT_CALL_WORDS, DEFAULT_STATUS_WORDS } from '../config/labWords.js';
 import type { LabProfile } from '../config/types.js';
 import type { Hl7Profile } from '../config/hl7Types.js';
 import { rowRejection, type RowRejection } from '../ingest/errors.js';
-import { mapResultRow, type PlannedIdCheck, type ResultContext, type ResultRow } from '../ingest/rows.js';
+import type { ResultRow } from '../domain/records.js';
+import type { PlannedIdCheck } from '../ingest/recordCells.js';
+import { mapResultRow, type ResultContext } from '../ingest/resultRecords.js';
 import type { Assay, Site } from '../config/types.js';
 import { foldToken } from '../util/fold.js';
 import { Hl7Error } from './hl7Error.js';
@@ -238,13 +240,13 @@ export function messageRecords(message: Hl7Message, header: MessageHeader, conte
         header.hl7.observations.get(code) ?? header.hl7.observations.get(valueAt(message, obx, 3, 4).trim());
       if (observation === undefined) {
         out.rejections.push(
-          rowRejection(
-            'unknown-assay',
-            obx.line,
-            'OBX-3',
-            code,
-            `lab ${header.lab.id} profile maps no observation code "${code}" under hl7.observations`,
-          ),
+          rowRejection({
+            code: 'unknown-assay',
+            line: obx.line,
+            field: 'OBX-3',
+            value: code,
+            detail: `lab ${header.lab.id} profile maps no observation code "${code}" under hl7.observations`,
+          }),
         );
         continue;
       }
@@ -279,20 +281,20 @@ function resultRecord(
 ): { cells: string[]; line: number } | { rejection: RowRejection } {
   const main = (parts.value ?? parts.call)!;
   const refuse = (code: RowRejection['code'], field: string, value: string, detail: string) => ({
-    rejection: rowRejection(code, main.line, field, value, detail),
+    rejection: rowRejection({ code, line: main.line, field, value, detail }),
   });
   for (const obx of [parts.value, parts.call]) {
     if (obx === undefined) continue;
     const raw = repetitions(message, obx, 5)[0] ?? '';
     if (raw.length > MAX_VALUE_CHARS)
       return {
-        rejection: rowRejection(
-          'field-too-long',
-          obx.line,
-          'OBX-5',
-          raw.slice(0, 40),
-          `OBX-5 holds ${raw.length} characters; a Ct, an S/P ratio or a code is at most ${MAX_VALUE_CHARS}`,
-        ),
+        rejection: rowRejection({
+          code: 'field-too-long',
+          line: obx.line,
+          field: 'OBX-5',
+          value: raw.slice(0, 40),
+          detail: `OBX-5 holds ${raw.length} characters; a Ct, an S/P ratio or a code is at most ${MAX_VALUE_CHARS}`,
+        }),
       };
   }
   const status = valueAt(message, main, 11).trim();

@@ -10,6 +10,7 @@ import { parse } from 'csv-parse/sync';
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { clustersCsv } from '../../src/report/clustersCsv.js';
@@ -127,7 +128,7 @@ function analyse(positiveAntibody: readonly number[], positivePcr: readonly numb
   const rounds = buildSiteRounds(site, ropes, [...results, ...antibody]);
   const confidence = siteConfidence(site, rounds);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-  const summaries = summariseSite(config, site, rounds, confidence);
+  const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
   return { config, site, summaries, spatial };
 }
 
@@ -291,7 +292,7 @@ describe('a new positive barn after a round without the assay', () => {
     );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const summaries = summariseSite(config, site, rounds, confidence);
+    const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const alert = roundAlerts(summaries, spatial, 2).find((entry) => entry.kind === 'new-positive-barn')!;
     expect(alert.message).toContain('PRRSV-AB was not tested in the previous round');
   });
@@ -311,7 +312,7 @@ describe('earlier rounds on the cluster review', () => {
     );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const summaries = summariseSite(config, site, rounds, confidence);
+    const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const html = renderClustersPage({
       site,
       summaries,

@@ -4,7 +4,8 @@
  * the spatial statistics with their p-values and a one-line reading of each, and a Ct trend
  * per positive pen. Reads the analysis; computes no statistic.
  */
-import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
+import type { RoundSummary } from '../../analysis/roundSummary.js';
+import { antibodyMeaning } from '../summaryNotices.js';
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { BarnSpatialReport } from '../../spatial/roundReview.js';

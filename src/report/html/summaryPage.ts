@@ -8,7 +8,8 @@
  * the results came from (lab, case numbers, dates), to file against the lab's report; the alerts
  * in plain words with the number behind each.
  */
-import { antibodyMeaning, type RoundSummary } from '../../analysis/roundSummary.js';
+import type { RoundSummary } from '../../analysis/roundSummary.js';
+import { antibodyMeaning } from '../summaryNotices.js';
 import type { SinceLastRound } from '../../analysis/sinceLastRound.js';
 import { alertItem, type PageAlert } from './alerts.js';
 import { escapeHtml } from './escape.js';
