@@ -8,7 +8,7 @@ import type { RoundSpatial } from '../../analysis/spatialRound.js';
 import type { NextRoundPlan } from '../../analysis/nextRound.js';
 import { MISTYPED_ACTION, refusalGroups, simplyMissing } from '../roundNotes.js';
 import { escapeHtml } from './escape.js';
-import { formatPValue } from '../../util/format.js';
+import { formatPValue, formatPercent } from '../../util/format.js';
 
 export type AlertKind =
   | 'first-positive'
@@ -47,9 +47,7 @@ export function alertItem(alert: { kind: string; action: string; detail: string 
   return `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong><br><span class="detail">${escapeHtml(alert.detail)}</span></li>`;
 }
 
-const pct = (p: number) => `${(100 * p).toFixed(1)}%`;
 const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
-/** A p-value as the statistics modules word it: "< 0.001" or three decimals. */
 
 function alert(
   kind: AlertKind,
@@ -254,7 +252,7 @@ export function roundAlerts(
           assay.id,
           null,
           `Freedom from exposure to ${assay.name} (antibody) is lost with this round`,
-          `It was ${pct(assay.site.priorFreedom)} before this round and starts again from the prior. The freedom of ${pcr} is not reset: antibody means exposure, not necessarily current infection.`,
+          `It was ${formatPercent(assay.site.priorFreedom)} before this round and starts again from the prior. The freedom of ${pcr} is not reset: antibody means exposure, not necessarily current infection.`,
           numbers,
         ),
       );
@@ -265,7 +263,7 @@ export function roundAlerts(
           assay.id,
           null,
           `Freedom from ${assay.name} is lost with this round: the site is positive${assay.site.status?.state === 'positive' ? ` since round ${assay.site.status.sinceRound}` : ''}`,
-          `The probability of freedom was ${pct(assay.site.priorFreedom)} before this round; it starts again from the prior ${pct(summary.program.priorFreedom)} once every positive barn has had ${summary.program.clearAfterNegativeRounds} negative round${summary.program.clearAfterNegativeRounds === 1 ? '' : 's'} in a row.`,
+          `The probability of freedom was ${formatPercent(assay.site.priorFreedom)} before this round; it starts again from the prior ${formatPercent(summary.program.priorFreedom)} once every positive barn has had ${summary.program.clearAfterNegativeRounds} negative round${summary.program.clearAfterNegativeRounds === 1 ? '' : 's'} in a row.`,
           numbers,
         ),
       );
