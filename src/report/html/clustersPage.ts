@@ -9,6 +9,7 @@ import type { AssaySpatial } from '../../analysis/spatialRound.js';
 import { barnSection, type ClustersPageInput } from './clusterBarn.js';
 import { escapeHtml } from './escape.js';
 import { mapLegend } from './mapMarks.js';
+import { siteTally } from '../siteTally.js';
 import { num, pValue, renderPage } from './page.js';
 
 export type { ClustersPageInput } from './clusterBarn.js';
@@ -19,10 +20,7 @@ export type { ClustersPageInput } from './clusterBarn.js';
  */
 export function sequencingBlock(summary: RoundSummary, assayId: string): string {
   const entry = summary.sequencing.find((candidate) => candidate.assayId === assayId);
-  const positives = summary.barns.reduce(
-    (sum, barn) => sum + (barn.assays.find((a) => a.assayId === assayId)?.positive ?? 0),
-    0,
-  );
+  const positives = siteTally(summary, assayId).positive;
   if (!entry || positives === 0) return '';
   const labs = [...new Set(entry.pens.map((pen) => pen.labName))];
   const byBarn = [...new Set(entry.pens.map((pen) => pen.barnId))].map(

@@ -16,6 +16,7 @@ import { confidenceSentence, count, pct, renderPage } from './page.js';
 import { cutoffText, hasAntibody, valueCell } from './resultCells.js';
 import { readingText, replacementWhy, reportDates } from '../roundNotes.js';
 import { barnBlock } from './summaryBarn.js';
+import { siteRopes } from '../siteTally.js';
 
 export interface SummaryPageInput {
   summary: RoundSummary;
@@ -80,8 +81,7 @@ function alertsBlock(alerts: readonly PageAlert[]): string {
 function stateBlock(summary: RoundSummary): string {
   const { state, resultsDueOn } = summary.round;
   if (state === 'complete') return '';
-  const hung = summary.barns.reduce((sum, barn) => sum + barn.ropesHung, 0);
-  const returned = summary.barns.reduce((sum, barn) => sum + barn.ropesReturned, 0);
+  const { hung, returned } = siteRopes(summary);
   const text =
     state === 'awaiting-results'
       ? `Awaiting results, due by ${escapeHtml(resultsDueOn)}: ${count(hung, 'rope')} out, none back yet. No detection figure until results come back; a rope becomes missing only after that date.`
