@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { formatPValue, formatPercent } from '../src/util/format.js';
+import { formatJoinCountP, formatPValue, formatPercent } from '../src/util/format.js';
 
 // Rounding half away from zero at one decimal is Number.prototype.toFixed (ECMA-262, 21.1.3.3);
 // the guard itself is common practice, no source: a freedom of 99.96% is not certainty.
@@ -38,5 +38,13 @@ describe('p-values for people', () => {
     expect(formatPValue(0.001)).toBe('0.001');
     expect(formatPValue(0.04567)).toBe('0.046');
     expect(formatPValue(null)).toBe('n/a');
+  });
+});
+
+describe('join-count p-values for people', () => {
+  it('names how the p-value was found: exact enumeration or permutation (Monte Carlo)', () => {
+    // The wording is common practice, no source; the two ways of finding the p-value are Cliff & Ord (1981), Spatial Processes: Models and Applications (from memory).
+    expect(formatJoinCountP('exact', 0.0123)).toBe('exact p = 0.012');
+    expect(formatJoinCountP('monte-carlo', 0.0004)).toBe('permutation p = < 0.001');
   });
 });

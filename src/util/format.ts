@@ -18,3 +18,11 @@ export function formatPValue(p: number | null | undefined): string {
   if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';
   return p < 0.001 ? '< 0.001' : p.toFixed(3);
 }
+
+/**
+ * A join count's p-value with how it was found: "exact p = 0.012" when every placement of the
+ * positives was counted, "permutation p = 0.012" when they were sampled (Monte Carlo).
+ */
+export function formatJoinCountP(method: 'exact' | 'monte-carlo', p: number | null | undefined): string {
+  return `${method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(p)}`;
+}

@@ -14,7 +14,8 @@ import {
   type SpatialRaised,
 } from '../../alerts/roundAlerts.js';
 import { escapeHtml } from './escape.js';
-import { formatPValue, formatPercent } from '../../util/format.js';
+import { count } from './page.js';
+import { formatJoinCountP, formatPValue, formatPercent } from '../../util/format.js';
 
 export type AlertKind =
   | 'first-positive'
@@ -53,8 +54,6 @@ export function alertItem(alert: { kind: string; action: string; detail: string 
   return `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong><br><span class="detail">${escapeHtml(alert.detail)}</span></li>`;
 }
 
-const plural = (n: number, word: string) => `${n} ${word}${n === 1 ? '' : 's'}`;
-
 function alert(
   kind: AlertKind,
   assayId: string | null,
@@ -90,7 +89,7 @@ function positiveWhere(
   const jc = report?.joinCount ?? null;
   if (jc && positivePens.length >= 2) {
     stats.push(
-      `join count ${jc.bb} positive\u2013positive joins against ${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(jc.pPermutation)}`,
+      `join count ${jc.bb} positive\u2013positive joins against ${jc.expectedBB.toFixed(2)} expected, ${formatJoinCountP(jc.inference.method, jc.pPermutation)}`,
     );
     Object.assign(numbers, { joinCountBB: jc.bb, joinCountExpected: jc.expectedBB, joinCountP: jc.pPermutation });
   }
@@ -98,7 +97,7 @@ function positiveWhere(
   // The scan statistic only where the join count could not be computed: one statistic per alert, the cluster review has both.
   if (scan && positivePens.length >= 2 && !jc) {
     stats.push(
-      `scan statistic: ${scan.positives} positive in ${plural(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${formatPValue(scan.p)}`,
+      `scan statistic: ${scan.positives} positive in ${count(scan.pens.length, 'rope')} around ${scan.centre}, ${scan.expected.toFixed(2)} expected, p = ${formatPValue(scan.p)}`,
     );
     Object.assign(numbers, { scanPositives: scan.positives, scanExpected: scan.expected, scanP: scan.p });
   }
@@ -129,7 +128,7 @@ function positiveAlert(raised: PositiveRaised): PageAlert {
   const notifiable = assay.notifiable ? '; notifiable: report it to the competent authority under local rules' : '';
   const label = antibody ? `Antibody to ${assay.name}` : `Positive ${assay.name}`;
   const first = kind === 'first-positive' ? ' (first on this site)' : kind === 'positive-again' ? ' again' : '';
-  const action = `${label} in ${barn.name}${first}: ${plural(tally.positive, 'pen')}${where}; ${todo}${notifiable}`;
+  const action = `${label} in ${barn.name}${first}: ${count(tally.positive, 'pen')}${where}; ${todo}${notifiable}`;
   const history =
     kind === 'first-positive'
       ? `first ${assay.name} positive on this site`
@@ -141,7 +140,7 @@ function positiveAlert(raised: PositiveRaised): PageAlert {
   const exposure = antibody
     ? ' Antibody means exposure, not necessarily current infection: retest these pens by PCR.'
     : '';
-  const detail = `${tally.positive} of ${plural(tally.tested, 'tested pen')} ${assay.id} positive${where === '' || where.startsWith(', scattered') ? ` (${tally.positivePens.join(', ')})` : ''}; ${history}${stats.length > 0 ? `; ${stats.join('; ')}` : ''}.${exposure}`;
+  const detail = `${tally.positive} of ${count(tally.tested, 'tested pen')} ${assay.id} positive${where === '' || where.startsWith(', scattered') ? ` (${tally.positivePens.join(', ')})` : ''}; ${history}${stats.length > 0 ? `; ${stats.join('; ')}` : ''}.${exposure}`;
   return alert(
     kind,
     assay.id,
@@ -200,7 +199,7 @@ function callDiffersAlert(differing: RoundSummary['disagreements']): PageAlert {
     null,
     null,
     `Check the cutoffs in the lab profile against the lab\u2019s report before acting on ${differing.length === 1 ? 'this result' : 'these results'}`,
-    `${plural(differing.length, 'result')} where the lab's own call differs from the reading with the lab's cutoffs in the configuration (${perBarn.join(', ')}): ` +
+    `${count(differing.length, 'result')} where the lab's own call differs from the reading with the lab's cutoffs in the configuration (${perBarn.join(', ')}): ` +
       `each sample is listed with both readings under "Lab call and reading disagree".`,
     { results: differing.length },
     differing.map((entry) => entry.penId),
@@ -215,7 +214,7 @@ function invalidAlert(barn: SummaryBarn, tally: SummaryBarn['assays'][number]): 
     tally.assayId,
     barn.barnId,
     `Retest ${tally.invalidPens.join(', ')} in ${barn.name} for ${tally.assayId}`,
-    `${plural(tally.invalid, 'invalid result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.invalidPens.join(', ')}): an invalid result is neither negative nor positive, and lowers the detection confidence.`,
+    `${count(tally.invalid, 'invalid result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.invalidPens.join(', ')}): an invalid result is neither negative nor positive, and lowers the detection confidence.`,
     { invalid: tally.invalid },
     tally.invalidPens,
   );
@@ -231,7 +230,7 @@ function suspectAlert(barn: SummaryBarn, tally: SummaryBarn['assays'][number]): 
     tally.assayId,
     barn.barnId,
     `Consider retesting ${tally.suspectPens.join(', ')} in ${barn.name} (suspect ${tally.assayId})`,
-    `${plural(tally.suspect, 'suspect result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.suspectPens.join(', ')}): ${near}; usually retested.`,
+    `${count(tally.suspect, 'suspect result')} for ${tally.assayId} in barn ${barn.barnId} (${tally.suspectPens.join(', ')}): ${near}; usually retested.`,
     { suspect: tally.suspect },
     tally.suspectPens,
   );
@@ -253,7 +252,7 @@ function mistypedAlert(barn: SummaryBarn): PageAlert {
     null,
     barn.barnId,
     `Confirm ${barn.mistyped.length === 1 ? 'a sample ID' : `${barn.mistyped.length} sample IDs`} in ${barn.name}: to count ${barn.mistyped.length === 1 ? 'it' : 'them'}, ${MISTYPED_ACTION}`,
-    `${plural(barn.mistyped.length, 'result')} in barn ${barn.barnId} refused under a mistyped ID (${ropes.join('; ')}): not counted until a person confirms the ID; the line to add is under barn ${barn.barnId}.`,
+    `${count(barn.mistyped.length, 'result')} in barn ${barn.barnId} refused under a mistyped ID (${ropes.join('; ')}): not counted until a person confirms the ID; the line to add is under barn ${barn.barnId}.`,
     { mistyped: barn.mistyped.length },
     barn.mistyped.map((rope) => rope.penId),
   );
@@ -264,9 +263,9 @@ function missingAlert(barn: SummaryBarn, missing: readonly string[]): PageAlert 
     'missing-ropes',
     null,
     barn.barnId,
-    `Ask the producer and the lab about ${plural(missing.length, 'rope')} of ${barn.name} without a result`,
+    `Ask the producer and the lab about ${count(missing.length, 'rope')} of ${barn.name} without a result`,
     // ropesHung counts the planned ropes too: returned + missing + mistyped = hung, so the numbers add up.
-    `${plural(missing.length, 'rope')} in barn ${barn.barnId} without a result (${missing.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} ropes on sheets or plans came back` +
+    `${count(missing.length, 'rope')} in barn ${barn.barnId} without a result (${missing.join(', ')}): ${barn.ropesReturned} of ${barn.ropesHung} ropes on sheets or plans came back` +
       `${barn.mistyped.length > 0 ? ` and ${barn.mistyped.length} under a mistyped ID` : ''}; missing ropes lower the detection confidence.`,
     { missing: missing.length, returned: barn.ropesReturned, hung: barn.ropesHung },
   );
@@ -289,7 +288,7 @@ function overdueAlert(plan: NextRoundPlan): PageAlert {
     null,
     null,
     `Hang the ropes of round ${plan.round} now: it is overdue`,
-    `Round ${plan.round} was due on ${plan.dueDate}, ${plural(plan.daysOverdue, 'day')} ago.`,
+    `Round ${plan.round} was due on ${plan.dueDate}, ${count(plan.daysOverdue, 'day')} ago.`,
     { daysOverdue: plan.daysOverdue },
   );
 }

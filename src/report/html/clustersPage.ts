@@ -10,7 +10,8 @@ import { barnSection, type ClustersPageInput } from './clusterBarn.js';
 import { escapeHtml } from './escape.js';
 import { mapLegend } from './mapMarks.js';
 import { siteTally } from '../siteTally.js';
-import { num, pValue, renderPage } from './page.js';
+import { formatJoinCountP } from '../../util/format.js';
+import { num, renderPage } from './page.js';
 
 export type { ClustersPageInput } from './clusterBarn.js';
 
@@ -123,7 +124,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
           : '';
       const alerts = spatialAlerts.filter((alert) => alert.assayId === assay.assayId);
       const siteLine = site
-        ? `<p>Site join count (barns as separate blocks, positives permuted within barns): BB = ${site.bb}, ${num(site.expectedBB)} expected, ${site.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${pValue(site.pPermutation)}. Spread across the site: ${escapeHtml(assay.report.spread.explanation)}.</p>`
+        ? `<p>Site join count (barns as separate blocks, positives permuted within barns): BB = ${site.bb}, ${num(site.expectedBB)} expected, ${escapeHtml(formatJoinCountP(site.inference.method, site.pPermutation))}. Spread across the site: ${escapeHtml(assay.report.spread.explanation)}.</p>`
         : '';
       return (
         `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
