@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { Command, CommanderError } from 'commander';
 import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } from './io.js';
 import { registerCalc } from './calc.js';
+import { registerExport } from './commands/export.js';
 import { registerPipelineCommands } from './commands.js';
 import { registerRetry } from './retryCommand.js';
 
@@ -32,6 +33,7 @@ export function buildProgram(io: CliIo): Command {
   registerPipelineCommands(program, io);
   registerRetry(program, io);
   registerCalc(program, io);
+  registerExport(program, io);
   return program;
 }
 
