@@ -37,13 +37,15 @@ const FIRST_ROUND = new Date(2026, 0, 5);
 /**
  * Writes an export of `rows` rows: every `every`-th pen of every barn roped each round (rounds
  * 14 days apart, the start moving one pen per round), one row per rope and assay, sample IDs in each site's pattern (no rope sheet needed).
- * Streams to disk in blocks; returns the number of rounds.
+ * `firstRound` shifts the dates (round k starts 14 k days after the first), so a later export
+ * continues an earlier one. Streams to disk in blocks; returns the number of rounds.
  */
 export function writeBigExport(
   file: string,
   rows: number,
   shape: { sites: number; barnsPerSite: number; pensPerRow: number } = SHAPE,
   every = 1,
+  firstRound = 0,
 ): number {
   const pensPerBarn = 2 * shape.pensPerRow;
   const perRound = shape.sites * shape.barnsPerSite * Math.ceil(pensPerBarn / every) * ASSAYS.length;
@@ -56,7 +58,7 @@ export function writeBigExport(
       fs.writeSync(fd, block.join('\n') + '\n');
       block = [];
     };
-    for (let round = 0; round < rounds && written < rows; round++) {
+    for (let round = firstRound; round < firstRound + rounds && written < rows; round++) {
       const day = addDays(FIRST_ROUND, 14 * round);
       const iso = format(day, 'yyyy-MM-dd');
       const compact = format(day, 'yyyyMMdd');

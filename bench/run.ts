@@ -20,6 +20,7 @@ async function loadParts(only: readonly string[]): Promise<Part[]> {
     ['ingest', './ingest.js', 'benchIngest'],
     ['recompute', './recompute.js', 'benchRecompute'],
     ['cli', './cli.js', 'benchCli'],
+    ['history', './history.js', 'benchHistory'],
   ] as const;
   const here = path.dirname(fileURLToPath(import.meta.url));
   for (const [name, module, exported] of extra) {

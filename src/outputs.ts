@@ -2,19 +2,17 @@
  * Rewrites a site's outputs from the store: every round's summary and cluster review, and the
  * next round's rope list (which is also stored as the expected rope sheet, so its sample IDs
  * resolve on ingest). Runs after a file's commit, never inside it: outputs show committed data
- * only. The analysis reads one snapshot of the store; the files are staged under temporary names
+ * only. A site's inputs are loaded in one snapshot of the store and analysed apart from it
+ * (src/analysis/analyseSite.ts); the files are staged under temporary names
  * and renamed together; the store then records which site version and configuration the outbox
  * shows, so a run that finds outputs behind the store (a crash or a full disk between commit and
  * outputs) rebuilds them.
  */
 import path from 'node:path';
-import { siteConfidence } from './analysis/confidence.js';
-import { planNextRound } from './analysis/nextRound.js';
-import { summariseSite } from './analysis/roundSummary.js';
-import { OutbreakCache, siteSpatial } from './analysis/spatialRound.js';
+import { analyseSite, type AnalyseOptions, type SiteAnalysis } from './analysis/analyseSite.js';
+import { OutbreakCache } from './analysis/spatialRound.js';
 import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
 import type { Site } from './config/types.js';
-import { buildSiteRounds } from './rounds/roundModel.js';
 import { clockDay } from './rounds/rounds.js';
 import { clustersCsv } from './report/clustersCsv.js';
 import { removeStaleFolders, removeStrayTemps, StagedOutputs, type OutputWriter } from './report/files.js';
@@ -24,60 +22,11 @@ import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
 import { jsonText } from './report/jsonText.js';
 import { writeTidyTables } from './report/tidy/tidyTables.js';
-import type { StoredResult } from './store/store.js';
 import type { Workspace } from './workspace.js';
-import type { SiteAnalysis } from './analysis/siteAnalysis.js';
 
-export type { SiteAnalysis } from './analysis/siteAnalysis.js';
+export type { AnalyseOptions, SiteAnalysis };
 
 const ROUND_FOLDER = /^r\d{2,}-\d{4}-\d{2}-\d{2}$/;
-
-export interface AnalyseOptions {
-  budget?: number;
-}
-
-/** Builds a site's analysis from the store (no writing). */
-export function analyseSite(
-  ws: Workspace,
-  site: Site,
-  results: readonly StoredResult[],
-  cache: OutbreakCache,
-  options: AnalyseOptions = {},
-): SiteAnalysis {
-  const ropes = ws.store.ropes(site.id);
-  const today = clockDay(ws.now());
-  const rounds = buildSiteRounds(
-    site,
-    ropes,
-    results,
-    ws.store.plannedWithoutResults(site.id),
-    { replaced: ws.store.replacedReports(site.id), mistyped: ws.store.mistypedRefusals(site.id) },
-    today,
-  );
-  const confidence = siteConfidence(site, rounds, { settings: ws.config.analysis, outbreaks: cache });
-  const summaries = summariseSite(ws.config, site, rounds, confidence);
-  const spatial = siteSpatial(site, rounds, confidence, ws.config.analysis, cache);
-  const lastNumber = rounds.at(-1)?.number ?? 0;
-  const existingIds = new Map(
-    ws.store
-      .plannedRopes(site.id)
-      .filter((rope) => rope.afterRound === lastNumber)
-      .map((rope) => [`${rope.barnId}/${rope.penId}`, rope.sampleId] as const),
-  );
-  const plan = planNextRound({
-    site,
-    rounds,
-    confidence,
-    spatial,
-    settings: ws.config.analysis,
-    cache,
-    today,
-    existingIds,
-    measureOf: (assayId) => ws.config.assayById.get(assayId)?.measure ?? 'ct',
-    ...(options.budget !== undefined ? { budget: options.budget } : {}),
-  });
-  return { site, rounds, confidence, summaries, spatial, plan };
-}
 
 /** Stores the plan as the next round's expected rope sheet. */
 export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
@@ -131,10 +80,9 @@ function rebuildSite(ws: Workspace, site: Site, cache: OutbreakCache, options: A
   // Another process may commit for this site while the outputs are written: build again from
   // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).
   for (let attempt = 1; ; attempt++) {
-    const { version, analysis } = ws.store.snapshot(() => ({
-      version: ws.store.siteVersion(site.id),
-      analysis: analyseSite(ws, site, ws.store.currentResults(site.id), cache, options),
-    }));
+    const inputs = ws.store.siteInputs(site.id);
+    const { version } = inputs;
+    const analysis = analyseSite(site, inputs, { config: ws.config, today: clockDay(ws.now()), cache }, options);
     storePlan(ws, analysis);
     const staged = new StagedOutputs();
     try {

@@ -7,13 +7,8 @@ import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import type { Config } from '../config/types.js';
-import {
-  FileAlreadyStoredError,
-  RECEIPT_LIST_LIMIT,
-  type PlannedRope,
-  type Store,
-  type StoredFile,
-} from '../store/store.js';
+import type { PlannedRope, StoredFile } from '../domain/records.js';
+import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type StoreBackend } from '../domain/store.js';
 import { CORRECTIONS_FILE } from '../config/load.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { BinaryContentError, decodeHead, EncodingError, sniffEncoding, type Sniffed } from './decode.js';
@@ -22,6 +17,7 @@ import { IngestError, REJECTION_CODES, type RowRejection } from './errors.js';
 import { BATCH_ROWS, FileChangedError, mappedBatches, type MappedBatch, type MappingInput } from './mappedBatches.js';
 import { correctionsForFile, likelyMeantIds, type MeantId } from './plannedIds.js';
 import { normaliseSampleId } from './rows.js';
+import { ingestRules } from './rowRules.js';
 import { ParseWorker } from './workerBatches.js';
 import { emptyReceipt, type Receipt } from './receipt.js';
 import { detectWorkbook, readHashedBytes, workbookBatches, workbookNote, type WorkbookKind } from './workbookInput.js';
@@ -42,7 +38,7 @@ const KEEP_BYTES_LIMIT = 16 * 1024 * 1024;
 
 export interface IngestDeps {
   config: Config;
-  store: Store;
+  store: StoreBackend;
   now: () => Date;
   /** Read and map files of at least this many bytes on a worker thread (default PARSE_IN_WORKER_FROM_BYTES). */
   parseInWorkerFromBytes?: number;
@@ -357,6 +353,7 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
         encodingNote: sniffed.note,
         byteLength: size,
       },
+      ingestRules,
       reopen === undefined ? {} : { reopen },
     );
   } catch (error) {

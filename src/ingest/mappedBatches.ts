@@ -9,6 +9,7 @@ import type { Assay, SampleIdCorrection, Site } from '../config/types.js';
 import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
 import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
+import type { RowList } from '../domain/records.js';
 import type { RowRejection } from './errors.js';
 import { plannedIdChecker } from './plannedIds.js';
 import {
@@ -31,10 +32,8 @@ export const BATCH_ROWS = 2000;
 const READ_CHUNK_BYTES = 64 * 1024;
 
 /** What the store reads a batch's rows through: an array, or rows decoded on demand. */
-export interface RowList<T> {
-  readonly length: number;
-  at(index: number): T | undefined;
-}
+
+export type { RowList };
 
 export interface MappedBatch<Rows extends RowList<ResultRow> = RowList<ResultRow>> {
   results: Rows;

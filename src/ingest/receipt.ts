@@ -3,7 +3,7 @@
  * ingest itself so that code which only names receipts (the inbox's refusals of special files,
  * the CLI's declarations) does not load the ingest.
  */
-import type { CallDisagreement, IdCorrectionNote, InvalidNote, SupersessionNote } from '../store/store.js';
+import type { CallDisagreement, IdCorrectionNote, InvalidNote, SupersessionNote } from '../domain/store.js';
 import type { RejectionCode, RowRejection } from './errors.js';
 
 export interface Receipt {

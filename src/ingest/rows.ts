@@ -10,12 +10,15 @@ import { parse as parseDate } from 'date-fns/parse';
 import { foldToken } from '../util/fold.js';
 import { canonicalPenKey } from '../domain/layout.js';
 import { compilePatternSet, type PatternSet } from '../config/pattern.js';
-import type { Assay, CallClass, LabAssay, LabProfile, Measure, ReportStatusKind, Site } from '../config/types.js';
-import { classify, type Interpretation, type ResultClass, type ValueReading } from '../interpret/classify.js';
+import type { Assay, LabAssay, LabProfile, ReportStatusKind, Site } from '../config/types.js';
+import { classify, type Interpretation, type ValueReading } from '../interpret/classify.js';
 import { readCt } from '../interpret/ct.js';
 import { readSp } from '../interpret/sp.js';
 import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
 import { labWords, type LabWords } from './labWords.js';
+import type { ResultRow, RopeLocation, RopeRow } from '../domain/records.js';
+
+export type { ResultRow, RopeLocation, RopeRow };
 
 /** How a sample ID is compared: capitals, no spaces. */
 export function normaliseSampleId(raw: string): string {
@@ -84,61 +87,6 @@ function parseDateUncached(text: string, dateFormat: string): string | undefined
   const firstPart = trimmed.split(/[ T]/)[0]!;
   if (firstPart !== trimmed) return parseDateUncached(firstPart, dateFormat);
   return undefined;
-}
-
-export interface RopeLocation {
-  siteId: string;
-  barnId: string;
-  penId: string;
-  hungOn: string;
-}
-
-export interface ResultRow {
-  line: number;
-  labId: string;
-  sampleId: string;
-  assayId: string;
-  labAssay: string;
-  /** What the result cell holds: a Ct or an S/P ratio (the assay's measure). */
-  measure: Measure;
-  /** The Ct of a detected PCR result; null otherwise (and always for an S/P assay). */
-  ct: number | null;
-  /** The S/P ratio of an antibody result; null otherwise (and always for a Ct assay). */
-  sp: number | null;
-  /** The result cell (Ct or S/P) as the lab wrote it. */
-  ctRaw: string;
-  labCall: string | null;
-  accession: string | null;
-  collectedOn: string | null;
-  reportedOn: string | null;
-  reportStatus: string | null;
-  control: string | null;
-  resultClass: ResultClass;
-  reason: string;
-  loadBand: string | null;
-  /** The lab's Ct cutoffs this row was read with; null for an S/P assay. */
-  positiveBelow: number | null;
-  suspectBelow: number | null;
-  cycleLimit: number | null;
-  /** The lab's S/P cutoffs this row was read with; null for a Ct assay (suspect: also without a suspect band). */
-  positiveAtOrAbove: number | null;
-  suspectAtOrAbove: number | null;
-  /** The lab marked this row as a corrected or reissued report (statusKind is corrected). */
-  markedReissue: boolean;
-  /** The state of the report, from the lab's status words in its status columns; null when none is found. */
-  statusKind: ReportStatusKind | null;
-  /** The status word found (as configured), for the receipt. */
-  statusWord: string | null;
-  /** The class the lab's own call names (its call words), null when the call names none. */
-  labCallClass: CallClass | null;
-  /** The lab's own call disagrees with the class from the cutoffs (kept for review). */
-  callDiffers: boolean;
-  /** The sample ID as the file wrote it, when a confirmed correction (config/corrections.yaml) replaced it. */
-  sampleIdAsWritten: string | null;
-  /** Identifies what the lab reported for this sample, assay and lab (see contentKey). */
-  contentKey: number;
-  /** Location carried by the sample ID itself (site sample pattern). */
-  encodedRope: RopeLocation | undefined;
 }
 
 export interface ResultContext {
@@ -576,21 +524,6 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       encodedRope: located,
     },
   };
-}
-
-export interface RopeRow extends RopeLocation {
-  line: number;
-  sampleId: string;
-  note: string | null;
-  /** The sample ID as the sheet wrote it, when a confirmed correction (config/corrections.yaml) replaced it. */
-  sampleIdAsWritten: string | null;
-  /** A warning that did not stop the row (e.g. a rope in a pen the layout lists as empty). */
-  warning: string | undefined;
-  /**
-   * The pool the rope was tested in (normalised), or null: ropes sharing a pool ID went into one
-   * PCR, and the lab reports the pool's result under that ID.
-   */
-  poolId?: string | null;
 }
 
 export interface RopeContext {

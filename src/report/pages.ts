@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { INDEX_PAGE } from '../config/names.js';
 import type { Config } from '../config/types.js';
-import type { SiteAnalysis } from '../analysis/siteAnalysis.js';
+import type { SiteAnalysis } from '../analysis/analyseSite.js';
 import { sinceLastRound } from '../analysis/sinceLastRound.js';
 import { notifiableNotice } from './cautions.js';
 import { atomicWriter, type OutputWriter } from './files.js';

@@ -219,6 +219,47 @@ describe('clusters.csv, key cells by hand', () => {
     expectClose(numberIn(g1, 'p_join_count'), 22 / 120, PRINTED, 'exact join-count p');
   });
 
+  it("G1 round 2: Moran's I on the load score and its permutation p-value against exact enumeration", () => {
+    const g1 = rowWhere(clusters(1), { level: 'barn', barn: 'G1', assay: 'PRRSV' });
+    // Load = cycle limit 40 - Ct: A2 12, A3 10, B3 8, the seven others 0; mean 3, so z = 9, 7, 5 and -3.
+    // Sum z^2 = 81 + 49 + 25 + 7 * 9 = 218. Over the 13 rook joins, sum z_i z_j: row A
+    // (-27 + 63 - 21 + 9) = 24, row B (9 - 15 - 15 + 9) = -12, across (9 - 27 + 35 + 9 + 9) = 35, so 47.
+    // Moran 1950: I = (n / S0) sum_ij w_ij z_i z_j / sum z^2 = (10 / 26) (2 * 47) / 218 = 940 / 5668.
+    expectClose(numberIn(g1, 'moran_i'), 940 / 5668, PRINTED, "Moran's I, G1 round 2");
+    // Exact permutation p (Besag & Clifford 1989): of the 10 * 9 * 8 = 720 placements of the loads
+    // 12, 10, 8 on the ten pens, 120 give I >= 940/5668 (enumerated below with the same rook joins),
+    // so p = 1/6. The printed p is a Monte Carlo estimate from 999 permutations: it must lie within
+    // 3.5 binomial standard errors, sqrt((1/6)(5/6)/999) = 0.0118, of 1/6.
+    const rook: [number, number][] = [];
+    for (let r = 0; r < 2; r++)
+      for (let c = 0; c < 5; c++) {
+        if (c < 4) rook.push([r * 5 + c, r * 5 + c + 1]);
+        if (r === 0) rook.push([c, 5 + c]);
+      }
+    const moranOf = (x: number[]) => {
+      const z = x.map((v) => v - x.reduce((a, b) => a + b, 0) / x.length);
+      const joins = rook.reduce((s, [i, j]) => s + z[i]! * z[j]!, 0);
+      return ((x.length / (2 * rook.length)) * 2 * joins) / z.reduce((s, v) => s + v * v, 0);
+    };
+    const observed = 940 / 5668;
+    let atLeast = 0;
+    let placements = 0;
+    for (let a = 0; a < 10; a++)
+      for (let b = 0; b < 10; b++)
+        for (let c = 0; c < 10; c++) {
+          if (a === b || b === c || a === c) continue;
+          const x = new Array<number>(10).fill(0);
+          x[a] = 12;
+          x[b] = 10;
+          x[c] = 8;
+          placements++;
+          if (moranOf(x) >= observed - 1e-9) atLeast++;
+        }
+    expect([atLeast, placements]).toEqual([120, 720]);
+    const se = Math.sqrt(((1 / 6) * (5 / 6)) / 999);
+    expect(Math.abs(numberIn(g1, 'moran_p') - 1 / 6)).toBeLessThan(3.5 * se);
+  });
+
   it('G1 round 2: one cluster of the three neighbouring positives, and their local join counts', () => {
     const cluster = rowWhere(clusters(1), { level: 'cluster', barn: 'G1', assay: 'PRRSV' });
     // Linked at the rope spacing (1 pen: every pen roped): A2-A3 and A3-B3 are 1 apart.

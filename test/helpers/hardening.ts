@@ -143,6 +143,11 @@ export interface ManySiteOptions {
   barnsPerSite: number;
   /** Pens per row; two rows per barn, numbered continuously (1..2*pensPerRow). */
   pensPerRow: number;
+  /**
+   * Permutations and simulated outbreaks of the spatial review; the tests' small figures (99 and
+   * 100) by default, the program's own defaults with `programDefaults: true`.
+   */
+  programDefaults?: boolean;
 }
 
 /** Site id, code and sample-pattern prefix of the i-th generated site (0-based). */
@@ -177,8 +182,7 @@ export function writeManySiteConfig(dir: string, options: ManySiteOptions): void
     '  followUpRadius: 1.5',
     'analysis:',
     '  seed: 1',
-    '  permutations: 99',
-    '  spreadRealisations: 100',
+    ...(options.programDefaults ? [] : ['  permutations: 99', '  spreadRealisations: 100']),
     'sites:',
   ];
   for (let s = 0; s < options.sites; s++) {

@@ -77,4 +77,32 @@ describe('pooled ropes in the store', () => {
     );
     expect(store.ropes('hollow-creek').map((rope) => rope.sampleId)).toEqual(['FARM-1', 'FARM-2']);
   });
+
+  it("names a pool's replaced report among the site's replaced reports, as the receipt names it", async () => {
+    // A later report of the same sample, assay and lab replaces the earlier one (common practice,
+    // no source); a pool's result is reported under the pool ID, so the replaced report is the pool's.
+    const ws = workspace();
+    const store = ws.ws().store;
+    await ws.drop(
+      'hollow-creek_ropes.csv',
+      'sample_id,site,barn,pen,hung_on,pool\nFARM-1,hollow-creek,F1,A1,2026-08-03,HCF01-901J\nFARM-2,hollow-creek,F1,A2,2026-08-03,HCF01-901J\n',
+    );
+    const pool = { sampleId: 'HCF01-901J', assay: 'PRRSV' as const, collectedOn: '2026-08-03' };
+    await ws.drop('nvdl_results_2026-08-06.csv', northfieldExport([{ ...pool, ct: null }], '2026-08-06', 1));
+    const later = await ws.drop(
+      'nvdl_results_2026-08-08.csv',
+      northfieldExport([{ ...pool, ct: 31.2 }], '2026-08-08', 2),
+    );
+    expect(later.receipt.supersessions).toEqual([
+      expect.objectContaining({ sampleId: 'HCF01-901J', kind: 'later-report', thisFileCurrent: true }),
+    ]);
+    expect(store.replacedReports('hollow-creek')).toEqual([
+      expect.objectContaining({
+        sampleId: 'HCF01-901J',
+        kind: 'later-report',
+        replaced: expect.objectContaining({ reportedOn: '2026-08-06' }),
+        inPlace: expect.objectContaining({ reportedOn: '2026-08-08', ct: 31.2 }),
+      }),
+    ]);
+  });
 });

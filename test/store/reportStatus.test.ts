@@ -11,7 +11,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { receiptText } from '../../src/pipeline.js';
-import { decideSupersession, type ReportFacts } from '../../src/store/supersede.js';
+import { decideSupersession, type ReportFacts } from '../../src/ingest/supersession.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();

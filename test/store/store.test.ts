@@ -14,6 +14,7 @@ import { foldToken } from '../../src/util/fold.js';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
 import { MIGRATIONS } from '../../src/store/migrations.js';
 import { Store } from '../../src/store/store.js';
+import { ingestRules } from '../../src/ingest/rowRules.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -148,15 +149,18 @@ describe('Store schema', () => {
   it('refuses to store rows outside a file transaction and leaves nothing after a rollback', () => {
     const store = new Store(':memory:');
     expect(() => store.insertRopes(1, [])).toThrow(/beginFile/);
-    const id = store.beginFile({
-      name: 'x.csv',
-      sha256: 'ab',
-      kind: 'ropes',
-      labId: null,
-      receivedAt: '2026-08-03T00:00:00Z',
-      encodingNote: '',
-      byteLength: 1,
-    });
+    const id = store.beginFile(
+      {
+        name: 'x.csv',
+        sha256: 'ab',
+        kind: 'ropes',
+        labId: null,
+        receivedAt: '2026-08-03T00:00:00Z',
+        encodingNote: '',
+        byteLength: 1,
+      },
+      ingestRules,
+    );
     store.insertRopes(id, [
       {
         line: 2,

@@ -7,7 +7,7 @@ import { z } from 'zod';
 import type { ReportStatusKind } from '../../config/types.js';
 import { REJECTION_CODES } from '../../ingest/errors.js';
 import type { Receipt } from '../../ingest/receipt.js';
-import type { SupersessionKind } from '../../store/supersede.js';
+import type { SupersessionKind } from '../../domain/records.js';
 import { count, fits, isoDate, isoTimestamp, resultClass, sameType } from './common.js';
 
 export const RECEIPT_SCHEMA = 'ropewatch.receipt/1';

@@ -5,7 +5,7 @@
  * store's `tidy_results` view; the outputs give the view each rope's pen and round (ropeRounds):
  * ropes on sheets and planned ropes whose results came back alike.
  */
-import type { SiteAnalysis } from '../../analysis/siteAnalysis.js';
+import type { SiteAnalysis } from '../../analysis/analyseSite.js';
 import type { Column, TidyTable } from './columns.js';
 
 export const RESULTS_FILE = 'results.csv';

@@ -3,7 +3,7 @@
  * one row per barn with an empty assay): ropes hung, returned and tested, pens by class, and what
  * the round proved there by each model, beside the target and the barn's probability of freedom.
  */
-import type { SiteAnalysis } from '../../analysis/siteAnalysis.js';
+import type { SiteAnalysis } from '../../analysis/analyseSite.js';
 import type { Column, TidyRow, TidyTable } from './columns.js';
 
 export const ROUNDS_FILE = 'rounds.csv';

@@ -7,7 +7,7 @@
 import path from 'node:path';
 import type Database from 'better-sqlite3';
 import type { AlertRecord } from '../../alerts/records.js';
-import type { SiteAnalysis } from '../../analysis/siteAnalysis.js';
+import type { SiteAnalysis } from '../../analysis/analyseSite.js';
 import { readTidyView, replaceSiteFacts } from '../../store/tidyFacts.js';
 import type { OutputWriter } from '../files.js';
 import { ALERTS_TABLE, alertRows } from './alertsTable.js';

@@ -9,30 +9,17 @@
  * - Otherwise the later report date wins; on the same date (or undated) the later file does.
  * - An unmarked report replaces a correction only when it is dated after it.
  */
-import type { ReportStatusKind } from '../config/types.js';
+import type { ReportReading, ResultRow } from '../domain/records.js';
+import type {
+  EarlierReport,
+  ReportFacts,
+  SupersessionDecision,
+  SupersessionLink,
+  SupersessionNote,
+} from '../domain/store.js';
 
-export type SupersessionKind =
-  | 'correction'
-  | 'correction-kept'
-  | 'final-over-preliminary'
-  | 'preliminary-after-final'
-  | 'later-report'
-  | 'earlier-report-kept'
-  | 'same-date-later-file';
-
-export interface ReportFacts {
-  reportedOn: string | null;
-  status: ReportStatusKind | null;
-  /** The word that gave the status (as configured), or the status cell. */
-  statusWord: string | null;
-}
-
-export interface SupersessionDecision {
-  /** Which report stays current: the one stored before (`old`) or the one arriving (`next`). */
-  current: 'old' | 'next';
-  kind: SupersessionKind;
-  reason: string;
-}
+export type { SupersessionKind } from '../domain/records.js';
+export type { ReportFacts, SupersessionDecision };
 
 const dated = (date: string | null) => date ?? 'undated';
 
@@ -102,4 +89,60 @@ function byDate(old: ReportFacts, next: ReportFacts): SupersessionDecision {
     };
   }
   return { current: 'next', kind: 'same-date-later-file', reason: 'a later file reports this sample and assay again' };
+}
+
+/**
+ * Links an arriving row to the reports of its sample, assay and lab that are current before it
+ * (oldest first): each is replaced in turn while the rule lets the arriving row govern; the first
+ * that stays current keeps it, and the arriving row is linked as replaced by that one. Every link
+ * comes with a note naming both readings (for the receipt).
+ */
+export function supersede(
+  earlier: readonly EarlierReport[],
+  row: ResultRow,
+  newResultId: number,
+): { links: SupersessionLink[]; notes: SupersessionNote[] } {
+  const links: SupersessionLink[] = [];
+  const notes: SupersessionNote[] = [];
+  const next: ReportFacts = {
+    reportedOn: row.reportedOn,
+    status: row.statusKind,
+    statusWord: row.statusWord ?? row.reportStatus,
+  };
+  const nextReading: ReportReading = {
+    resultClass: row.resultClass,
+    ctRaw: row.ctRaw,
+    labCall: row.labCall,
+    reportedOn: row.reportedOn,
+    status: row.statusKind,
+  };
+  for (const old of earlier) {
+    const decision = decideSupersession(old, next);
+    const oldReading: ReportReading = {
+      resultClass: old.resultClass,
+      ctRaw: old.ctRaw,
+      labCall: old.labCall,
+      reportedOn: old.reportedOn,
+      status: old.status,
+    };
+    const keepOld = decision.current === 'old';
+    notes.push({
+      line: row.line,
+      sampleId: row.sampleId,
+      assayId: row.assayId,
+      labId: row.labId,
+      kind: decision.kind,
+      thisFileCurrent: !keepOld,
+      replaced: keepOld ? nextReading : oldReading,
+      current: keepOld ? oldReading : nextReading,
+      reason: decision.reason,
+    });
+    const { reason, kind } = decision;
+    if (keepOld) {
+      links.push({ oldResultId: newResultId, newResultId: old.id, reason, kind });
+      break;
+    }
+    links.push({ oldResultId: old.id, newResultId, reason, kind });
+  }
+  return { links, notes };
 }

@@ -1,0 +1,337 @@
+/**
+ * What a store does, apart from how: a unit of work per input file (`StoreWriter`: beginFile ...
+ * commit) and the read queries (`StoreReader`), so that a second backend can take the SQLite
+ * one's place. The rules that decide a row (which report governs, where a rope may hang) are not
+ * the store's: ingest hands them to `beginFile` as `RowRules`, and the store applies them to what
+ * it finds stored.
+ */
+import type { RowRejection } from './rejections.js';
+import type {
+  MistypedRefusal,
+  PlannedRope,
+  ReplacedReport,
+  ReportReading,
+  ResultRow,
+  RopeLocation,
+  RopeRow,
+  RowList,
+  StoredFile,
+  StoredResult,
+  StoredRope,
+  Supersession,
+  SupersessionKind,
+} from './records.js';
+import type { CallClass, ReportStatusKind } from '../config/types.js';
+import type { ResultClass } from '../interpret/classify.js';
+
+/** Sample IDs and refused rows listed in a receipt (all are counted, and all are in the store). */
+export const RECEIPT_LIST_LIMIT = 500;
+
+/** One report that replaced another, with both readings (for the receipt). */
+export interface SupersessionNote {
+  /** The line of this file whose row took part. */
+  line: number;
+  sampleId: string;
+  assayId: string;
+  labId: string;
+  kind: SupersessionKind;
+  /** Whether this file's row is the one now current (false: a report stored before stays current). */
+  thisFileCurrent: boolean;
+  /** The report no longer current. */
+  replaced: ReportReading;
+  /** The report current in its place. */
+  current: ReportReading;
+  reason: string;
+}
+
+/** A row this file's batch read as invalid, with the reason (for the receipt). */
+export interface InvalidNote {
+  line: number;
+  sampleId: string;
+  assayId: string;
+  reason: string;
+}
+
+/** A row whose lab call names another class than its value gives (for the receipt). */
+export interface CallDisagreement {
+  line: number;
+  sampleId: string;
+  assayId: string;
+  labCall: string;
+  labCallClass: CallClass;
+  resultClass: ResultClass;
+  ctRaw: string;
+}
+
+/** A row read under another sample ID because a person confirmed the correction (config/corrections.yaml). */
+export interface IdCorrectionNote {
+  line: number;
+  written: string;
+  meant: string;
+}
+
+export interface InsertCounts {
+  inserted: number;
+  duplicates: number;
+  superseded: number;
+  rejections: RowRejection[];
+  warnings: string[];
+  supersessions: SupersessionNote[];
+  invalid: InvalidNote[];
+  callDisagreements: CallDisagreement[];
+  idCorrections: IdCorrectionNote[];
+}
+
+/** What storing one batch did, for the receipt. */
+export interface InsertCounts {
+  inserted: number;
+  duplicates: number;
+  superseded: number;
+  rejections: RowRejection[];
+  warnings: string[];
+  supersessions: SupersessionNote[];
+  invalid: InvalidNote[];
+  callDisagreements: CallDisagreement[];
+  idCorrections: IdCorrectionNote[];
+}
+
+export function emptyCounts(): InsertCounts {
+  return {
+    inserted: 0,
+    duplicates: 0,
+    superseded: 0,
+    rejections: [],
+    warnings: [],
+    supersessions: [],
+    invalid: [],
+    callDisagreements: [],
+    idCorrections: [],
+  };
+}
+
+/** The same bytes were stored (by another process) while this one waited for the write lock. */
+export class FileAlreadyStoredError extends Error {
+  override readonly name = 'FileAlreadyStoredError';
+  constructor(readonly known: StoredFile) {
+    super(`the same bytes were stored as ${known.name} on ${known.receivedAt}`);
+  }
+}
+
+// ---- The rules a file's rows are stored by (pure; ingest implements them) -----------------------
+
+/** A report as the supersession rule reads it. */
+export interface ReportFacts {
+  reportedOn: string | null;
+  status: ReportStatusKind | null;
+  /** The word that gave the status (as configured), or the status cell. */
+  statusWord: string | null;
+}
+
+export interface SupersessionDecision {
+  /** Which report stays current: the one stored before (`old`) or the one arriving (`next`). */
+  current: 'old' | 'next';
+  kind: SupersessionKind;
+  reason: string;
+}
+
+/** A stored report of the same sample, assay and lab that is still current when a row arrives. */
+export type EarlierReport = ReportFacts & ReportReading & { id: number };
+
+/** A link the store writes: `oldResultId` is no longer current, `newResultId` is in its place. */
+export interface SupersessionLink {
+  oldResultId: number;
+  newResultId: number;
+  reason: string;
+  kind: SupersessionKind;
+}
+
+/** What the open file knows of where a sample's rope hangs (for the placement rules). */
+export interface SampleRopeState {
+  /** Where its rope hangs ("site/barn/pen/day"), stored before or placed by this file. */
+  ropedAt: string | undefined;
+  /** The location its sample ID encodes that this file tried to place it at. */
+  patternTriedAt: string | undefined;
+  /** Why its encoded location was refused, when it was: every row of the sample is refused alike. */
+  patternRefusal: Omit<RowRejection, 'line'> | undefined;
+}
+
+/** What to do with a result row whose sample ID encodes its pen and day. */
+export type EncodedRopeStep =
+  /** The rope hangs there already (or its first row was placed): store the row. */
+  | { kind: 'store' }
+  /** The sample hangs elsewhere by an earlier rope: store the row there, with a warning. */
+  | { kind: 'store-elsewhere'; warning: string }
+  /** Place the rope first; store the row only if it goes in. */
+  | { kind: 'place' }
+  /** The location was refused for an earlier row of the sample: refuse this one alike. */
+  | { kind: 'refuse'; rejection: RowRejection };
+
+/** Why a rope could not go in, from what the store holds. */
+export type RopeConflict =
+  /** The same sample hangs in the same place already: nothing to add. */
+  { kind: 'already-hung' } | { kind: 'refused'; rejection: RowRejection };
+
+/** What the store found where a rope would not go in. */
+export interface RopeConflictFacts {
+  /** Where the same sample hangs already, if it does. */
+  existing: RopeLocation | undefined;
+  /** The sample whose rope holds the pen that day, if one does. */
+  clashSampleId: string | undefined;
+}
+
+/** What the store knows of a rope-sheet row's sample and pool. */
+export interface PoolFacts {
+  /** The row has no pool, and its sample ID is already the ID of a pool of earlier ropes. */
+  sampleNamesPool: boolean;
+  /** Where a rope whose sample ID is the row's pool ID hangs, if one does. */
+  poolRopedAt: string | undefined;
+}
+
+/** The decisions a file's rows are stored by. Pure functions of what the store finds. */
+export interface RowRules {
+  /** Links an arriving result to the current reports of its sample, assay and lab (oldest first). */
+  supersede(
+    earlier: readonly EarlierReport[],
+    row: ResultRow,
+    newResultId: number,
+  ): { links: SupersessionLink[]; notes: SupersessionNote[] };
+  /** The step for a result row whose sample ID encodes `location` (a locationKey). */
+  encodedRope(sample: SampleRopeState, row: ResultRow, location: string): EncodedRopeStep;
+  /** A refusal of the encoded rope, restated for the result row (it names the sample ID cell). */
+  encodedRopeRefusal(refusal: RowRejection, sampleIdField: string, sampleId: string): RowRejection;
+  /** Why a rope did not go in: it hangs there already, or a refusal. */
+  ropeConflict(row: RopeRow, source: 'sheet' | 'sample-pattern', found: RopeConflictFacts): RopeConflict;
+  /** A refusal of a rope-sheet row for its pool, or undefined when the pool is fine. */
+  poolRefusal(row: RopeRow, facts: PoolFacts): RowRejection | undefined;
+}
+
+// ---- The store's interfaces ---------------------------------------------------------------------
+
+/** An accepted file as `beginFile` records it. */
+export interface FileToStore {
+  name: string;
+  sha256: string;
+  kind: 'results' | 'ropes';
+  labId: string | null;
+  receivedAt: string;
+  encodingNote: string;
+  byteLength: number;
+}
+
+/** A refused file as it is recorded (with its bytes, when kept). */
+export interface RejectedFile {
+  name: string;
+  /** What the file was recognised as before it was refused, when it got that far. */
+  kind?: 'results' | 'ropes' | 'unknown';
+  sha256: string;
+  receivedAt: string;
+  reasonCode: string;
+  reason: string;
+  line: number | undefined;
+  field: string | undefined;
+  bytes: Buffer | undefined;
+  byteLength: number;
+  labId: string | null;
+}
+
+/** What the open file changed, for its receipt. */
+export interface OpenFileEffects {
+  /** Its result samples with no rope yet (the first RECEIPT_LIST_LIMIT by ID). */
+  unresolved: string[];
+  unresolvedCount: number;
+  /** Earlier results its ropes now place. */
+  resolved: string[];
+  /** The sites it touched. */
+  sites: string[];
+}
+
+/** A refused row of a stored file that nothing of that file has taken the place of. */
+export interface OpenRefusal {
+  line: number;
+  code: string;
+  value: string | null;
+}
+
+/** The work on one open file: everything goes in at `commit`, or nothing at `rollback`. */
+export interface FileWriter {
+  /** Stores a batch of result rows, placing encoded ropes and linking reissues by `rules`. */
+  insertResults(fileId: number, rows: RowList<ResultRow>, sampleIdField?: string): InsertCounts;
+  /** Stores a batch of rope-sheet rows. */
+  insertRopes(fileId: number, rows: readonly RopeRow[]): InsertCounts;
+  insertRejections(fileId: number, rejections: readonly RowRejection[]): void;
+  finishFile(fileId: number, counts: { accepted: number; rejected: number; duplicate: number }): void;
+  openFileEffects(): OpenFileEffects;
+  /** Counts up the version of each site the open file changed: their outputs are now behind. */
+  bumpSiteVersions(siteIds: readonly string[]): void;
+  commit(): void;
+  rollback(): void;
+}
+
+/** The writing side of a store: one file open at a time, plus the writes outside a file. */
+export interface StoreWriter extends FileWriter {
+  /**
+   * Opens the file's unit of work (taking the write lock) and records the file; returns its id.
+   * @throws FileAlreadyStoredError when the same bytes are found stored once the lock is held.
+   */
+  beginFile(file: FileToStore, rules: RowRules, options?: { reopen?: number }): number;
+  readonly fileOpen: boolean;
+  recordRejectedFile(file: RejectedFile): void;
+  /** Replaces a site's plan for the round after `afterRound` (ropes with results stay). */
+  replacePlan(siteId: string, afterRound: number, ropes: readonly PlannedRope[]): void;
+  markOutputsBuilt(outbox: string, siteId: string, siteVersion: number, configDigest: string): void;
+  setMeta(key: string, value: string): void;
+}
+
+/** Everything the analysis of one site reads, loaded at once from one committed state. */
+export interface SiteInputs {
+  /** How many committed files have changed the site (0 for none). */
+  version: number;
+  ropes: StoredRope[];
+  /** Current results of the site's ropes, pools and planned ropes. */
+  results: StoredResult[];
+  planned: PlannedRope[];
+  plannedWithoutResults: PlannedRope[];
+  replaced: ReplacedReport[];
+  mistyped: MistypedRefusal[];
+}
+
+/** A stored file with its row counts. */
+export type StoredFileCounts = StoredFile & { rowsAccepted: number; rowsRejected: number; rowsDuplicate: number };
+
+/** The read queries of a store. */
+export interface StoreReader {
+  /** Runs `read` against one committed state. */
+  snapshot<T>(read: () => T): T;
+  siteInputs(siteId: string): SiteInputs;
+  findFileByHash(sha256: string): StoredFile | undefined;
+  openRefusals(fileId: number): OpenRefusal[];
+  getMeta(key: string): string | undefined;
+  siteVersion(siteId: string): number;
+  outputsBuilt(outbox: string, siteId: string): { siteVersion: number; configDigest: string } | undefined;
+  ropes(siteId?: string): StoredRope[];
+  currentResults(siteId?: string): StoredResult[];
+  supersessions(): Supersession[];
+  replacedReports(siteId: string): ReplacedReport[];
+  mistypedRefusals(siteId: string): MistypedRefusal[];
+  unresolvedSampleIds(): string[];
+  plannedRopes(siteId?: string): PlannedRope[];
+  plannedWithoutResults(siteId: string): PlannedRope[];
+  files(): StoredFileCounts[];
+  rejectedRows(fileId: number): RowRejection[];
+  counts(): StoreCounts;
+}
+
+export interface StoreCounts {
+  files: number;
+  rejectedFiles: number;
+  results: number;
+  currentResults: number;
+  ropes: number;
+  rejectedRows: number;
+  planned: number;
+}
+
+/** A store: its writer and its reader over one connection. */
+export interface StoreBackend extends StoreWriter, StoreReader {
+  close(): void;
+}
