@@ -176,6 +176,7 @@ export function inspectInput(file: string): InputEntry {
  */
 export class FileTakenError extends Error {
   override readonly name = 'FileTakenError';
+  readonly code = 'file-taken';
   constructor(readonly file: string) {
     super(`${path.basename(file)}: already taken by another process (it is no longer at ${file}); nothing done here`);
   }

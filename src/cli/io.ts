@@ -21,11 +21,13 @@ export interface CliIo {
 /** Bad arguments or a bad request: exit code 2. The message names the option and the value. */
 export class UsageError extends Error {
   override readonly name = 'UsageError';
+  readonly code = 'usage';
 }
 
 /** An input was rejected (a file, a row): exit code 1, the work on other inputs went ahead. */
 export class InputRejectedError extends Error {
   override readonly name = 'InputRejectedError';
+  readonly code = 'input-rejected';
 }
 
 /**
@@ -34,6 +36,7 @@ export class InputRejectedError extends Error {
  */
 export class InterruptedError extends Error {
   override readonly name = 'InterruptedError';
+  readonly code = 'interrupted';
   constructor(
     message: string,
     readonly exitCode: number,

@@ -21,6 +21,7 @@ export function formatProblem(problem: ConfigProblem): string {
  */
 export class ConfigError extends Error {
   override readonly name = 'ConfigError';
+  readonly code = 'config';
   readonly file: string;
   readonly keyPath: string;
   readonly detail: string;

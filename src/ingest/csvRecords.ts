@@ -116,15 +116,25 @@ export class CsvRecordReader {
     }
   }
 
-  private read(text: string, out: CsvRecord[]): void {
+  /** Passes over the title lines still to skip; returns where the text after them begins (its length when none is left). */
+  private skipTitleLines(text: string): number {
     let at = 0;
-    const length = text.length;
-    while (this.skipping > 0 && at < length) {
+    while (this.skipping > 0 && at < text.length) {
       const end = text.indexOf('\n', at);
-      if (end === -1) return;
+      if (end === -1) return text.length;
       at = end + 1;
       this.skipping--;
     }
+    return at;
+  }
+
+  /**
+   * The record reader's state machine over one chunk. Kept as one loop on purpose: splitting the
+   * cases into methods would add a call per field on the hottest path of ingest.
+   */
+  private read(text: string, out: CsvRecord[]): void {
+    let at = this.skipTitleLines(text);
+    const length = text.length;
     // Position of the next quote at or after `at`; `length` when there is none in this chunk (a
     // number, never -1, keeps the comparisons below on one fast path in V8).
     let nextQuote = quoteFrom(text, at);

@@ -79,14 +79,14 @@ function indexHeader(
     const key = fold(cell);
     if (key === '') return;
     if (index.has(key))
-      throw new IngestError(
-        'duplicate-header',
+      throw new IngestError({
+        code: 'duplicate-header',
         file,
-        headerLine,
-        cell,
-        cell,
-        `the header names column "${cell}" twice`,
-      );
+        line: headerLine,
+        field: cell,
+        value: cell,
+        detail: `the header names column "${cell}" twice`,
+      });
     index.set(key, position);
   });
   return index;
@@ -150,14 +150,14 @@ function ropeSheetKind(
     const cells = match[column];
     if (cells.length > 1) {
       const names = cells.map((position) => `"${header[position]}"`).join(' and ');
-      throw new IngestError(
-        'duplicate-header',
-        fileName,
-        1,
-        header[cells[1]!],
-        header[cells[1]!],
-        `the header cells ${names} both name the column for ${ROPE_SHEET_MEANING[column]} (${columns[column].join(', ')}); keep one, or list the one to read under ropeSheet.columns.${column} in sites.yaml`,
-      );
+      throw new IngestError({
+        code: 'duplicate-header',
+        file: fileName,
+        line: 1,
+        field: header[cells[1]!],
+        value: header[cells[1]!],
+        detail: `the header cells ${names} both name the column for ${ROPE_SHEET_MEANING[column]} (${columns[column].join(', ')}); keep one, or list the one to read under ropeSheet.columns.${column} in sites.yaml`,
+      });
     }
   }
   indexHeader(fileName, 1, header, ropeHeaderKey);
@@ -202,8 +202,7 @@ export function detectFileKind(
   labs: readonly LabProfile[],
   ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS,
 ): FileKind {
-  if (head.replace(/\uFEFF/g, '').trim() === '')
-    throw new IngestError('empty-file', fileName, undefined, undefined, undefined);
+  if (head.replace(/\uFEFF/g, '').trim() === '') throw new IngestError({ code: 'empty-file', file: fileName });
   const lines = head.split('\n');
   const firstLine = lines[0] ?? '';
   const firstDelimiter = guessDelimiter(firstLine);
@@ -218,6 +217,53 @@ export function detectFileKind(
   return detectKind(fileName, source, labs, ropeColumns);
 }
 
+/** How a header fits a rope sheet: the columns it names, whether it looks like one, what it lacks. */
+interface RopeFit {
+  match: RopeMatch | undefined;
+  /** A sample ID and a pen column make a header look like a rope sheet. */
+  like: boolean;
+  missing: (typeof REQUIRED_ROPE_SHEET_COLUMNS)[number][];
+  /** All required columns make it one. */
+  complete: boolean;
+}
+
+function ropeFit(source: HeaderSource, ropeColumns: RopeSheetColumns): RopeFit {
+  const header = source.first.header;
+  const match = header ? matchRopeHeader(header, ropeColumns) : undefined;
+  const like = match !== undefined && match.sampleId.length > 0 && match.pen.length > 0;
+  const missing = match === undefined ? [] : REQUIRED_ROPE_SHEET_COLUMNS.filter((column) => match[column].length === 0);
+  return { match, like, missing, complete: like && missing.length === 0 };
+}
+
+/** A lab profile the header (or the file name) may belong to. */
+interface LabCandidate {
+  lab: LabProfile;
+  delimiter: Delimiter;
+  header: string[];
+  headerLine: number;
+  byName: boolean;
+  missing: MissingColumn[];
+  required: number;
+}
+
+/** The labs named by the file name, or whose header lacks at most one required column less than all. */
+function labCandidates(fileName: string, source: HeaderSource, labs: readonly LabProfile[]): LabCandidate[] {
+  const candidates: LabCandidate[] = [];
+  for (const lab of labs) {
+    const found = source.forLab(lab);
+    const byName = lab.fileNamePattern?.test(fileName) ?? false;
+    // The lab's own file name with the lab's sheet missing: told as such, not as an unknown format.
+    if (found.problem !== undefined && byName)
+      throw new IngestError({ code: 'no-such-sheet', file: fileName, detail: found.problem });
+    const header = found.header;
+    if (!header) continue;
+    const { missing, required } = missingLabColumns(lab, header);
+    if (byName || missing.length < required - 1)
+      candidates.push({ lab, delimiter: found.delimiter, header, headerLine: found.line, byName, missing, required });
+  }
+  return candidates;
+}
+
 /**
  * Decides what a file is from its name and its header rows, wherever they come from (a CSV's
  * lines, a workbook's sheets).
@@ -229,97 +275,28 @@ export function detectKind(
   labs: readonly LabProfile[],
   ropeColumns: RopeSheetColumns = DEFAULT_ROPE_SHEET_COLUMNS,
 ): FileKind {
-  const ropeDelimiter = source.first.delimiter;
-  const ropeHeader = source.first.header;
-  const ropeMatch = ropeHeader ? matchRopeHeader(ropeHeader, ropeColumns) : undefined;
-  // A sample ID and a pen column make a header look like a rope sheet; all required columns make it one.
-  const ropeLike = ropeMatch !== undefined && ropeMatch.sampleId.length > 0 && ropeMatch.pen.length > 0;
-  const ropeMissing =
-    ropeMatch === undefined ? [] : REQUIRED_ROPE_SHEET_COLUMNS.filter((column) => ropeMatch[column].length === 0);
-  const ropeComplete = ropeLike && ropeMissing.length === 0;
-
-  type Candidate = {
-    lab: LabProfile;
-    delimiter: Delimiter;
-    header: string[];
-    headerLine: number;
-    byName: boolean;
-    missing: MissingColumn[];
-    required: number;
-  };
-  const candidates: Candidate[] = [];
-  for (const lab of labs) {
-    const found = source.forLab(lab);
-    const byName = lab.fileNamePattern?.test(fileName) ?? false;
-    // The lab's own file name with the lab's sheet missing: told as such, not as an unknown format.
-    if (found.problem !== undefined && byName)
-      throw new IngestError('no-such-sheet', fileName, undefined, undefined, undefined, found.problem);
-    const header = found.header;
-    if (!header) continue;
-    const { missing, required } = missingLabColumns(lab, header);
-    if (byName || missing.length < required - 1)
-      candidates.push({ lab, delimiter: found.delimiter, header, headerLine: found.line, byName, missing, required });
-  }
+  const rope = ropeFit(source, ropeColumns);
+  const candidates = labCandidates(fileName, source, labs);
   const complete = candidates.filter((candidate) => candidate.missing.length === 0);
   const named = complete.filter((candidate) => candidate.byName);
 
-  if (ropeComplete) {
+  if (rope.complete) {
     // The lab's own file name settles it; a header alone that fits both is not guessed at.
     if (named.length === 0 && complete.length > 0) {
       const ids = complete.map((candidate) => candidate.lab.id).join(', ');
-      throw new IngestError(
-        'ambiguous-lab',
-        fileName,
-        1,
-        undefined,
-        undefined,
-        `the header reads both as a rope sheet and as an export of lab profile ${ids}; give the lab a fileNamePattern that names its files, or drop the columns that do not belong`,
-      );
+      throw new IngestError({
+        code: 'ambiguous-lab',
+        file: fileName,
+        line: 1,
+        detail: `the header reads both as a rope sheet and as an export of lab profile ${ids}; give the lab a fileNamePattern that names its files, or drop the columns that do not belong`,
+      });
     }
-    if (named.length === 0) return ropeSheetKind(fileName, ropeDelimiter, ropeHeader!, ropeMatch!, ropeColumns);
+    if (named.length === 0)
+      return ropeSheetKind(fileName, source.first.delimiter, source.first.header!, rope.match!, ropeColumns);
   }
 
   const chosen = named.length === 1 ? named[0] : complete.length === 1 ? complete[0] : undefined;
-  if (!chosen) {
-    if (named.length > 1 || complete.length > 1) {
-      const ids = (named.length > 1 ? named : complete).map((candidate) => candidate.lab.id).join(', ');
-      throw new IngestError(
-        'ambiguous-lab',
-        fileName,
-        undefined,
-        undefined,
-        undefined,
-        `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`,
-      );
-    }
-    if (ropeLike) {
-      const column = ropeMissing[0]!;
-      throw new IngestError(
-        'missing-column',
-        fileName,
-        1,
-        ROPE_SHEET_OWN_NAME[column],
-        undefined,
-        `this looks like a rope sheet but has no column for ${ROPE_SHEET_MEANING[column]} (a header cell named ${ropeColumns[column].map((name) => `"${name}"`).join(', ')}; other names go under ropeSheet.columns.${column} in sites.yaml)`,
-      );
-    }
-    // A file named like a lab's exports but sharing none of its required columns (an invoice,
-    // a wrong report template) is not that lab's export with columns missing: unknown format.
-    const plausible = candidates.filter((candidate) => candidate.missing.length < candidate.required);
-    const partial = plausible.find((candidate) => candidate.byName) ?? plausible[0];
-    if (partial) {
-      const column = partial.missing[0]!;
-      throw new IngestError(
-        'missing-column',
-        fileName,
-        partial.headerLine,
-        column.field,
-        undefined,
-        `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`,
-      );
-    }
-    throw new IngestError('unknown-format', fileName, 1, undefined, source.excerpt.slice(0, 120));
-  }
+  if (!chosen) throw noLabChosen(fileName, source, rope, candidates, ropeColumns);
   const headerLine = chosen.headerLine;
   return {
     kind: 'results',
@@ -329,4 +306,49 @@ export function detectKind(
     header: chosen.header,
     columnIndex: indexHeader(fileName, headerLine, chosen.header, foldToken),
   };
+}
+
+/** Why no single lab profile was chosen: several fit, a rope sheet or a lab's export lacks a column, or nothing fits. */
+function noLabChosen(
+  fileName: string,
+  source: HeaderSource,
+  rope: RopeFit,
+  candidates: readonly LabCandidate[],
+  ropeColumns: RopeSheetColumns,
+): IngestError {
+  const complete = candidates.filter((candidate) => candidate.missing.length === 0);
+  const named = complete.filter((candidate) => candidate.byName);
+  if (named.length > 1 || complete.length > 1) {
+    const ids = (named.length > 1 ? named : complete).map((candidate) => candidate.lab.id).join(', ');
+    return new IngestError({
+      code: 'ambiguous-lab',
+      file: fileName,
+      detail: `the file matches more than one lab profile (${ids}); give each lab a distinct fileNamePattern`,
+    });
+  }
+  if (rope.like) {
+    const column = rope.missing[0]!;
+    return new IngestError({
+      code: 'missing-column',
+      file: fileName,
+      line: 1,
+      field: ROPE_SHEET_OWN_NAME[column],
+      detail: `this looks like a rope sheet but has no column for ${ROPE_SHEET_MEANING[column]} (a header cell named ${ropeColumns[column].map((name) => `"${name}"`).join(', ')}; other names go under ropeSheet.columns.${column} in sites.yaml)`,
+    });
+  }
+  // A file named like a lab's exports but sharing none of its required columns (an invoice,
+  // a wrong report template) is not that lab's export with columns missing: unknown format.
+  const plausible = candidates.filter((candidate) => candidate.missing.length < candidate.required);
+  const partial = plausible.find((candidate) => candidate.byName) ?? plausible[0];
+  if (partial) {
+    const column = partial.missing[0]!;
+    return new IngestError({
+      code: 'missing-column',
+      file: fileName,
+      line: partial.headerLine,
+      field: column.field,
+      detail: `lab profile ${partial.lab.id} needs ${column.needs}, which the header lacks`,
+    });
+  }
+  return new IngestError({ code: 'unknown-format', file: fileName, line: 1, value: source.excerpt.slice(0, 120) });
 }

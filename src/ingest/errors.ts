@@ -6,33 +6,53 @@ import { REJECTION_CODES, type RejectionCode, type RowRejection } from '../domai
 
 export { REJECTION_CODES, type RejectionCode, type RowRejection };
 
-/** A refused file or row, with the context a person needs to fix it. */
+/** What names a refused file or row: the code, the file, and where in it (line, field, the value as written). */
+export interface IngestErrorOptions {
+  code: RejectionCode;
+  file: string;
+  line?: number | undefined;
+  field?: string | undefined;
+  value?: string | undefined;
+  /** The sentence a person reads; the code's description when absent. */
+  detail?: string | undefined;
+}
+
+/** A refused file (or a row that refuses its whole file), with the context a person needs to fix it. */
 export class IngestError extends Error {
   override readonly name = 'IngestError';
-  constructor(
-    readonly code: RejectionCode,
-    readonly file: string,
-    readonly line: number | undefined,
-    readonly field: string | undefined,
-    readonly value: string | undefined,
-    detail?: string,
-  ) {
+  readonly code: RejectionCode;
+  readonly file: string;
+  readonly line: number | undefined;
+  readonly field: string | undefined;
+  readonly value: string | undefined;
+
+  constructor({ code, file, line, field, value, detail }: IngestErrorOptions) {
     super(
       `${file}${line !== undefined ? `, line ${line}` : ''}${field ? `, field "${field}"` : ''}: ${detail ?? REJECTION_CODES[code]}` +
         (value !== undefined && value !== ''
           ? ` (value ${JSON.stringify(value.length > 80 ? `${value.slice(0, 80)}...` : value)})`
           : ''),
     );
+    this.code = code;
+    this.file = file;
+    this.line = line;
+    this.field = field;
+    this.value = value;
   }
 }
 
-export function rowRejection(
-  code: RejectionCode,
-  line: number,
-  field: string | undefined,
-  value: string | undefined,
-  detail?: string,
-): RowRejection {
+/** What names a refused row: the code, the line where its record starts, the field and the value as written. */
+export interface RowRejectionOptions {
+  code: RejectionCode;
+  line: number;
+  field?: string | undefined;
+  value?: string | undefined;
+  /** The sentence a person reads; the code's description when absent. */
+  detail?: string | undefined;
+}
+
+/** Builds every row refusal: the value is kept to its first 200 characters. */
+export function rowRejection({ code, line, field, value, detail }: RowRejectionOptions): RowRejection {
   return {
     line,
     field,

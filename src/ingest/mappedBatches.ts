@@ -10,16 +10,11 @@ import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
 import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
 import type { RowList } from '../domain/records.js';
-import type { RowRejection } from './errors.js';
+import { rowRejection, type RowRejection } from './errors.js';
 import { plannedIdChecker } from './plannedIds.js';
-import {
-  mapResultRow,
-  mapRopeRow,
-  type ResultContext,
-  type ResultRow,
-  type RopeContext,
-  type RopeRow,
-} from './rows.js';
+import { mapResultRow, type ResultContext } from './resultRecords.js';
+import { mapRopeRow, type RopeContext } from './ropeSheetRecords.js';
+import type { ResultRow, RopeRow } from './rowTypes.js';
 import { mapWideRow, wideLayout, type WideLayout } from './wideRows.js';
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */
@@ -119,13 +114,14 @@ export function recordTaker(input: MappingSetup): RecordTaker {
       // Trailing empty cells (a common export habit) do not make a row ragged.
       const trimmed = cells.length > width && cells.slice(width).every((cell) => cell.trim() === '');
       if (!trimmed) {
-        batch.rejections.push({
-          line,
-          field: undefined,
-          code: 'ragged-row',
-          value: cells.join(kind.delimiter).slice(0, 200),
-          message: `the row has ${cells.length} fields, the header ${width}`,
-        });
+        batch.rejections.push(
+          rowRejection({
+            code: 'ragged-row',
+            line,
+            value: cells.join(kind.delimiter),
+            detail: `the row has ${cells.length} fields, the header ${width}`,
+          }),
+        );
         return;
       }
     }

@@ -1,6 +1,6 @@
 import type { Config, SampleIdCorrection } from '../config/types.js';
 import { looksLikePlannedId, parseSampleId } from '../plan/sampleId.js';
-import type { PlannedIdCheck } from './rows.js';
+import type { PlannedIdCheck } from './recordCells.js';
 
 /**
  * The planned-ID check for a configuration: only IDs that start with a configured site code are

@@ -15,6 +15,7 @@
  */
 import type { ResultRow, RopeRow } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
+import { rowRejection } from './errors.js';
 import type { EncodedRopeStep, PoolFacts, RopeConflict, RopeConflictFacts, SampleRopeState } from '../domain/store.js';
 
 /**
@@ -53,28 +54,28 @@ export function ropeConflict(row: RopeRow, source: 'sheet' | 'sample-pattern', f
     if (same) return { kind: 'already-hung' };
     return {
       kind: 'refused',
-      rejection: {
+      rejection: rowRejection({
+        code: 'sample-id-reused',
         line: row.line,
         field: 'sample_id',
-        code: 'sample-id-reused',
         value: row.sampleId,
-        message: `sample ${row.sampleId} already hung in ${existing.siteId}/${existing.barnId}/${existing.penId} on ${existing.hungOn}`,
-      },
+        detail: `sample ${row.sampleId} already hung in ${existing.siteId}/${existing.barnId}/${existing.penId} on ${existing.hungOn}`,
+      }),
     };
   }
   const other = found.clashSampleId ?? '(another sample)';
   return {
     kind: 'refused',
-    rejection: {
+    rejection: rowRejection({
+      code: 'pen-twice-same-day',
       line: row.line,
       field: 'pen',
-      code: 'pen-twice-same-day',
       value: row.penId,
-      message:
+      detail:
         source === 'sheet'
           ? `pen ${row.barnId}/${row.penId} already has sample ${other} on ${row.hungOn}; one rope per pen per day (hang a retest on another day or correct the sheet)`
           : `sample ${row.sampleId} names pen ${row.barnId}/${row.penId} on ${row.hungOn}, which already has sample ${other}; one rope per pen per day, so two sample IDs name one rope: the result is not stored (ask the lab which ID the tube carries)`,
-    },
+    }),
   };
 }
 
@@ -84,20 +85,20 @@ export function poolRefusal(row: RopeRow, facts: PoolFacts): RowRejection | unde
   if (poolId === null) {
     // A rope tested on its own whose ID already names a pool: one tube cannot be both.
     if (!facts.sampleNamesPool) return undefined;
-    return {
+    return rowRejection({
+      code: 'bad-pool',
       line: row.line,
       field: 'sample_id',
-      code: 'bad-pool',
       value: row.sampleId,
-      message: `sample ${row.sampleId} is the ID of a pool of earlier ropes, so it cannot name a rope`,
-    };
+      detail: `sample ${row.sampleId} is the ID of a pool of earlier ropes, so it cannot name a rope`,
+    });
   }
   if (facts.poolRopedAt === undefined) return undefined;
-  return {
+  return rowRejection({
+    code: 'bad-pool',
     line: row.line,
     field: 'pool',
-    code: 'bad-pool',
     value: poolId,
-    message: `pool ID ${poolId} names the rope hung in ${facts.poolRopedAt}; a pool gets an ID of its own`,
-  };
+    detail: `pool ID ${poolId} names the rope hung in ${facts.poolRopedAt}; a pool gets an ID of its own`,
+  });
 }

@@ -14,7 +14,8 @@
  */
 import { foldToken } from '../util/fold.js';
 import type { RowRejection } from './errors.js';
-import { mapResultRow, type ResultContext, type ResultRow } from './rows.js';
+import { mapResultRow, type ResultContext } from './resultRecords.js';
+import type { ResultRow } from './rowTypes.js';
 
 /**
  * The header key under which each value column's context finds its assay name, in a cell

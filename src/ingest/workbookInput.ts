@@ -19,7 +19,7 @@ import {
   type MappedBatch,
   type MappingSetup,
 } from './mappedBatches.js';
-import type { ResultRow } from './rows.js';
+import type { ResultRow } from './rowTypes.js';
 import type { OpenedWorkbook, SheetReading } from './xlsxReader.js';
 
 /**
@@ -78,14 +78,7 @@ export function detectWorkbook(
   ropeColumns: RopeSheetColumns | undefined,
 ): WorkbookKind {
   if (workbook.isBlank())
-    throw new IngestError(
-      'empty-file',
-      fileName,
-      undefined,
-      undefined,
-      undefined,
-      'no sheet of the workbook holds a value',
-    );
+    throw new IngestError({ code: 'empty-file', file: fileName, detail: 'no sheet of the workbook holds a value' });
   const first = workbook.sheet(undefined)!;
   const sheetList = workbook.sheetNames.map((name) => `"${name}"`).join(', ');
   const firstHeader = headerOf(workbook, first, 1);
@@ -174,13 +167,12 @@ export function* workbookBatches(
     } else {
       const field = kind.header[first];
       taker.refuse(
-        rowRejection(
-          'formula-without-value',
-          row.line,
+        rowRejection({
+          code: 'formula-without-value',
+          line: row.line,
           field,
-          undefined,
-          `the cell under "${field}" holds a formula saved without its calculated value; open the workbook in its spreadsheet program, let it calculate, save it and drop it again`,
-        ),
+          detail: `the cell under "${field}" holds a formula saved without its calculated value; open the workbook in its spreadsheet program, let it calculate, save it and drop it again`,
+        }),
       );
     }
     if (taker.size() >= batchRows) yield taker.batch();

@@ -47,23 +47,17 @@ export function isWorkbookFile(name: string, head: Uint8Array): boolean {
 function compoundFileRefusal(bytes: Buffer, fileName: string): IngestError {
   // Directory entry names are UTF-16LE ([MS-CFB] 2.6.1).
   if (bytes.includes(Buffer.from('EncryptedPackage', 'utf16le'))) {
-    return new IngestError(
-      'workbook-encrypted',
-      fileName,
-      undefined,
-      undefined,
-      undefined,
-      'the workbook is protected with a password; save it again without one (or export CSV) and drop that file',
-    );
+    return new IngestError({
+      code: 'workbook-encrypted',
+      file: fileName,
+      detail: 'the workbook is protected with a password; save it again without one (or export CSV) and drop that file',
+    });
   }
-  return new IngestError(
-    'not-a-workbook',
-    fileName,
-    undefined,
-    undefined,
-    undefined,
-    'an Excel 97-2003 workbook (.xls) or another binary Office file, not .xlsx; save it as .xlsx or CSV',
-  );
+  return new IngestError({
+    code: 'not-a-workbook',
+    file: fileName,
+    detail: 'an Excel 97-2003 workbook (.xls) or another binary Office file, not .xlsx; save it as .xlsx or CSV',
+  });
 }
 
 /** The refusal for a zip archive that is not an .xlsx workbook, from the parts it holds. */
@@ -74,7 +68,7 @@ function otherPackageRefusal(entries: readonly ZipEntry[], fileName: string): In
     : names.has('content.xml') && names.has('mimetype')
       ? 'an OpenDocument spreadsheet (.ods), not .xlsx; save it as .xlsx or CSV'
       : 'a zip archive without an Excel workbook in it (no xl/workbook.xml)';
-  return new IngestError('not-a-workbook', fileName, undefined, undefined, undefined, detail);
+  return new IngestError({ code: 'not-a-workbook', file: fileName, detail });
 }
 
 /**
@@ -83,7 +77,7 @@ function otherPackageRefusal(entries: readonly ZipEntry[], fileName: string): In
  */
 export async function openWorkbook(bytes: Buffer, fileName: string): Promise<OpenedWorkbook> {
   const refuse = (code: 'not-a-workbook' | 'workbook-too-large', detail: string) =>
-    new IngestError(code, fileName, undefined, undefined, undefined, detail);
+    new IngestError({ code, file: fileName, detail });
   if (bytes.length > WORKBOOK_MAX_BYTES) {
     throw refuse(
       'workbook-too-large',

@@ -18,6 +18,7 @@ export interface StoreOptions {
 /** The store file cannot be used: missing, a folder, not SQLite, damaged. The message names the file. */
 export class StoreOpenError extends Error {
   override readonly name = 'StoreOpenError';
+  readonly code = 'store-open';
   constructor(
     readonly file: string,
     detail: string,

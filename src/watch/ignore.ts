@@ -100,14 +100,6 @@ export function ignoreReason(filePath: string, options: IgnoreOptions = {}): str
   return null;
 }
 
-/**
- * True when the drop-folder watcher must not read this path; see {@link ignoreReason} for the rules.
- * @throws RangeError when `options.extensions` is malformed.
- */
-export function isIgnoredName(filePath: string, options: IgnoreOptions = {}): boolean {
-  return ignoreReason(filePath, options) !== null;
-}
-
 /** The subset of `fs.Stats` the chokidar matcher looks at. */
 export interface EntryKind {
   isFile(): boolean;

@@ -43,83 +43,105 @@ export interface SerialQueue {
  * @see Knuth 1997, The Art of Computer Programming vol. 1, 2.2.1 (queues, FIFO order).
  */
 export function createSerialQueue(worker: (key: string) => Promise<void>, hooks: SerialQueueHooks = {}): SerialQueue {
+  return new SerialJobQueue(worker, hooks);
+}
+
+/** Runs a hook; a failing hook must not wedge the queue (the hook owner logs its own failures). */
+function safely(fn: () => void): void {
+  try {
+    fn();
+  } catch {
+    // Swallowed on purpose: see above.
+  }
+}
+
+class SerialJobQueue implements SerialQueue {
   // A Set iterates in insertion order: FIFO with O(1) membership and removal.
-  const waiting = new Set<string>();
-  let running: string | null = null;
-  let runningDone: Promise<void> = Promise.resolve();
-  let stopped = false;
-  let idleWaiters: (() => void)[] = [];
+  private readonly waiting = new Set<string>();
+  private running: string | null = null;
+  private runningDone: Promise<void> = Promise.resolve();
+  private stopped = false;
+  private idleWaiters: (() => void)[] = [];
+  private readonly pumpSoon = (): void => this.pump();
 
-  const settleIdle = (): void => {
-    if (running !== null || waiting.size > 0) return;
-    const waiters = idleWaiters;
-    idleWaiters = [];
+  constructor(
+    private readonly worker: (key: string) => Promise<void>,
+    private readonly hooks: SerialQueueHooks,
+  ) {}
+
+  offer(key: string): boolean {
+    if (this.stopped || this.waiting.has(key) || this.running === key) return false;
+    this.waiting.add(key);
+    // Start on a microtask so that a burst of offers from one event handler is queued first.
+    queueMicrotask(this.pumpSoon);
+    return true;
+  }
+
+  has(key: string): boolean {
+    return this.running === key || this.waiting.has(key);
+  }
+
+  isRunning(key: string): boolean {
+    return this.running === key;
+  }
+
+  get current(): string | null {
+    return this.running;
+  }
+
+  get pending(): number {
+    return this.waiting.size;
+  }
+
+  idle(): Promise<void> {
+    if (this.running === null && this.waiting.size === 0) return Promise.resolve();
+    return new Promise<void>((resolve) => this.idleWaiters.push(resolve));
+  }
+
+  async stop(): Promise<string[]> {
+    this.stopped = true;
+    const dropped = [...this.waiting];
+    this.waiting.clear();
+    await this.runningDone;
+    this.settleIdle();
+    return dropped;
+  }
+
+  private settleIdle(): void {
+    if (this.running !== null || this.waiting.size > 0) return;
+    const waiters = this.idleWaiters;
+    this.idleWaiters = [];
     for (const resolve of waiters) resolve();
-  };
+  }
 
-  const safely = (fn: () => void): void => {
-    try {
-      fn();
-    } catch {
-      // A failing hook must not wedge the queue; the hook owner logs its own failures.
-    }
-  };
-
-  const pump = (): void => {
-    if (running !== null) return;
-    if (stopped) {
-      waiting.clear();
-      settleIdle();
+  /** Starts the next waiting key unless one is running. */
+  private pump(): void {
+    if (this.running !== null) return;
+    if (this.stopped) {
+      this.waiting.clear();
+      this.settleIdle();
       return;
     }
-    const next = waiting.values().next();
+    const next = this.waiting.values().next();
     if (next.done) {
-      settleIdle();
+      this.settleIdle();
       return;
     }
     const key = next.value;
-    waiting.delete(key);
-    running = key;
-    runningDone = (async () => {
-      try {
-        await worker(key);
-      } catch (error) {
-        safely(() => hooks.onError?.(error, key));
-      } finally {
-        running = null;
-        safely(() => hooks.onSettled?.(key));
-        pump();
-      }
-    })();
-  };
+    this.waiting.delete(key);
+    this.running = key;
+    this.runningDone = this.run(key);
+  }
 
-  return {
-    offer(key) {
-      if (stopped || waiting.has(key) || running === key) return false;
-      waiting.add(key);
-      // Start on a microtask so that a burst of offers from one event handler is queued first.
-      queueMicrotask(pump);
-      return true;
-    },
-    has: (key) => running === key || waiting.has(key),
-    isRunning: (key) => running === key,
-    get current() {
-      return running;
-    },
-    get pending() {
-      return waiting.size;
-    },
-    idle() {
-      if (running === null && waiting.size === 0) return Promise.resolve();
-      return new Promise<void>((resolve) => idleWaiters.push(resolve));
-    },
-    async stop() {
-      stopped = true;
-      const dropped = [...waiting];
-      waiting.clear();
-      await runningDone;
-      settleIdle();
-      return dropped;
-    },
-  };
+  private async run(key: string): Promise<void> {
+    try {
+      await this.worker(key);
+    } catch (error) {
+      safely(() => this.hooks.onError?.(error, key));
+    } finally {
+      this.running = null;
+      safely(() => this.hooks.onSettled?.(key));
+      this.pump();
+    }
+  }
 }

@@ -12,10 +12,10 @@
 import { promises as fsp } from 'node:fs';
 import path from 'node:path';
 import { performance } from 'node:perf_hooks';
-import { watch, type FSWatcher } from 'chokidar';
+import { type FSWatcher, watch as chokidarWatch } from 'chokidar';
 import { inspectInput } from '../inboxFiles.js';
 import { DEFAULT_EXTENSIONS, ignoreReason, inboxMatcher, normaliseExtensions } from './ignore.js';
-import { createSerialQueue } from './queue.js';
+import { createSerialQueue, type SerialQueue } from './queue.js';
 import { sameStamp, stabilitySettings, waitUntilStable, type FileStamp } from './stability.js';
 
 export interface WatchInboxOptions {
@@ -86,6 +86,40 @@ async function statFile(filePath: string): Promise<FileStamp | null> {
  * @see chokidar 5 README (options `depth`, `ignoreInitial`, `ignored`, `usePolling`, `awaitWriteFinish`).
  */
 export async function watchInbox(options: WatchInboxOptions): Promise<void> {
+  const setup = await watchSetup(options);
+  const log = options.log ?? (() => {});
+  const inboxWatch = new InboxWatch(options.onFile, setup, log, errorReporter(options));
+  const stopRequested = new Promise<void>((resolve) => {
+    options.stop.then(
+      () => resolve(),
+      () => resolve(),
+    );
+  });
+  const watcher = openWatcher(setup, options.poll ?? false, inboxWatch);
+  try {
+    const ready = new Promise<void>((resolve) => watcher.once('ready', () => resolve()));
+    await Promise.race([ready, stopRequested]);
+    if (!inboxWatch.stopping) {
+      log(`watching ${setup.inbox}${options.poll ? ' (polling)' : ''}, quiet period ${setup.settings.stableMs} ms`);
+      await inboxWatch.sweep();
+    }
+    await stopRequested;
+  } finally {
+    await inboxWatch.stop();
+    await watcher.close();
+    log('stopped');
+  }
+}
+
+/** What a watch runs with, checked: the inbox (a folder), the gate's settings, the extensions, the poll interval. */
+interface WatchSetup {
+  inbox: string;
+  settings: ReturnType<typeof stabilitySettings>;
+  extensions: readonly string[];
+  pollIntervalMs: number;
+}
+
+async function watchSetup(options: WatchInboxOptions): Promise<WatchSetup> {
   const inbox = path.resolve(options.inbox);
   const settings = stabilitySettings({ stableMs: options.stableMs, pollMs: options.gatePollMs });
   const extensions = normaliseExtensions(options.extensions ?? DEFAULT_EXTENSIONS);
@@ -97,9 +131,14 @@ export async function watchInbox(options: WatchInboxOptions): Promise<void> {
     throw new Error(`inbox ${inbox} cannot be watched: ${describeError(error)}`, { cause: error });
   });
   if (!inboxStats.isDirectory()) throw new Error(`inbox ${inbox} is not a directory`);
+  return { inbox, settings, extensions, pollIntervalMs };
+}
 
-  const log = options.log ?? (() => {});
-  const report = (error: unknown, filePath?: string): void => {
+type ErrorReporter = (error: unknown, filePath?: string) => void;
+
+/** Where failures that do not stop the watcher go: `onError`, else a `log` line, else stderr. */
+function errorReporter(options: WatchInboxOptions): ErrorReporter {
+  return (error, filePath) => {
     try {
       if (options.onError) options.onError(error, filePath);
       else if (options.log) options.log(`error${filePath ? ` ${filePath}` : ''}: ${describeError(error)}`);
@@ -108,139 +147,163 @@ export async function watchInbox(options: WatchInboxOptions): Promise<void> {
       // An error handler that throws must not take the watcher down.
     }
   };
-  const name = (filePath: string): string => path.relative(inbox, filePath);
+}
 
-  let stopping = false;
-  // Pending gate sleeps, woken all at once on stop. (One AbortSignal listener per sleeping gate
-  // would trip Node's listener-leak warning on a burst of drops.)
-  const sleepers = new Set<() => void>();
-  const sleep = (ms: number): Promise<void> =>
-    new Promise<void>((resolve) => {
+/** chokidar on the inbox: `add` and `change` go to the watch, `error` to its reporter. */
+function openWatcher(setup: WatchSetup, poll: boolean, inboxWatch: InboxWatch): FSWatcher {
+  const watcher = chokidarWatch(setup.inbox, {
+    depth: 0,
+    ignoreInitial: true,
+    ignored: inboxMatcher(setup.inbox, setup.extensions),
+    usePolling: poll,
+    interval: setup.pollIntervalMs,
+    binaryInterval: setup.pollIntervalMs,
+    persistent: true,
+  });
+  watcher.on('add', (filePath) => inboxWatch.consider(filePath, 'added'));
+  watcher.on('change', (filePath) => inboxWatch.consider(filePath, 'changed'));
+  watcher.on('error', (error) => inboxWatch.report(error));
+  return watcher;
+}
+
+/**
+ * Pending gate sleeps, woken all at once on stop. (One AbortSignal listener per sleeping gate
+ * would trip Node's listener-leak warning on a burst of drops.)
+ */
+class Sleepers {
+  private readonly wakers = new Set<() => void>();
+
+  sleep(ms: number): Promise<void> {
+    return new Promise<void>((resolve) => {
       const wake = (): void => {
         clearTimeout(timer);
-        sleepers.delete(wake);
+        this.wakers.delete(wake);
         resolve();
       };
       const timer = setTimeout(wake, ms);
-      sleepers.add(wake);
+      this.wakers.add(wake);
     });
-  const probe = { stat: statFile, now: () => performance.now(), sleep, stopped: () => stopping };
+  }
 
-  const gating = new Set<string>();
-  const gates = new Set<Promise<void>>();
-  const again = new Set<string>();
-  const readyStamps = new Map<string, FileStamp>();
+  wakeAll(): void {
+    for (const wake of [...this.wakers]) wake();
+  }
+}
 
-  const queue = createSerialQueue(
-    async (filePath) => {
-      const expected = readyStamps.get(filePath);
-      readyStamps.delete(filePath);
-      const stamp = await statFile(filePath);
-      if (stamp === null) {
-        log(`skip ${name(filePath)}: gone before it was read`);
-        return;
-      }
-      if (expected !== undefined && !sameStamp(expected, stamp)) {
-        log(`wait ${name(filePath)}: changed while queued`);
-        again.add(filePath);
-        return;
-      }
-      log(`read ${name(filePath)} (${stamp.size} bytes)`);
-      await options.onFile(filePath);
-    },
-    {
-      onError: (error, filePath) => report(error, filePath),
+/** One watch of the inbox: the paths gating, queued and to look at again, and the queue to `onFile`. */
+class InboxWatch {
+  stopping = false;
+  private readonly gating = new Set<string>();
+  private readonly gates = new Set<Promise<void>>();
+  private readonly again = new Set<string>();
+  private readonly readyStamps = new Map<string, FileStamp>();
+  private readonly sleepers = new Sleepers();
+  private readonly probe = {
+    stat: statFile,
+    now: () => performance.now(),
+    sleep: (ms: number) => this.sleepers.sleep(ms),
+    stopped: () => this.stopping,
+  };
+  private readonly queue: SerialQueue;
+
+  constructor(
+    private readonly onFile: (path: string) => Promise<void>,
+    private readonly setup: WatchSetup,
+    private readonly log: (line: string) => void,
+    readonly report: ErrorReporter,
+  ) {
+    this.queue = createSerialQueue((filePath) => this.readQueued(filePath), {
+      onError: (error, filePath) => this.report(error, filePath),
       onSettled: (filePath) => {
-        if (again.delete(filePath)) consider(filePath, 'changed');
+        if (this.again.delete(filePath)) this.consider(filePath, 'changed');
       },
-    },
-  );
+    });
+  }
 
-  const gate = async (filePath: string): Promise<void> => {
+  private name(filePath: string): string {
+    return path.relative(this.setup.inbox, filePath);
+  }
+
+  /** A path seen by an event or the sweep: gated unless ignored, already gating, queued or running. */
+  consider(candidate: string, why: string): void {
+    if (this.stopping) return;
+    const filePath = path.resolve(this.setup.inbox, candidate);
+    if (ignoreReason(filePath, { inbox: this.setup.inbox, extensions: this.setup.extensions }) !== null) return;
+    if (this.gating.has(filePath)) return; // the running gate sees the change itself
+    if (this.queue.isRunning(filePath)) {
+      this.again.add(filePath);
+      return;
+    }
+    if (this.queue.has(filePath)) return; // the re-stat before onFile catches a change
+    this.gating.add(filePath);
+    this.log(`seen ${this.name(filePath)} (${why})`);
+    const running = this.gate(filePath);
+    this.gates.add(running);
+    void running.finally(() => this.gates.delete(running));
+  }
+
+  /** Passes the files already present (everything but folders) through the same gate. */
+  async sweep(): Promise<void> {
+    try {
+      const entries = await fsp.readdir(this.setup.inbox, { withFileTypes: true });
+      // Everything but folders: the gate logs a FIFO, socket or device as skipped.
+      const names = entries
+        .filter((entry) => !entry.isDirectory())
+        .map((entry) => entry.name)
+        .sort();
+      for (const entry of names) this.consider(path.join(this.setup.inbox, entry), 'present at start');
+    } catch (error) {
+      this.report(error);
+    }
+  }
+
+  /** Cancels the gates, lets the current file finish and drops the rest of the queue. */
+  async stop(): Promise<void> {
+    this.stopping = true;
+    this.sleepers.wakeAll();
+    const dropped = await this.queue.stop();
+    if (dropped.length > 0) this.log(`stop: ${dropped.length} file(s) left in the inbox for the next start`);
+    await Promise.allSettled([...this.gates]);
+  }
+
+  private async gate(filePath: string): Promise<void> {
     try {
       // A FIFO, socket or device is never gated or read (opening a FIFO blocks until a writer
       // comes, fifo(7)); a link is judged by its target.
       const entry = inspectInput(filePath);
       if (entry.kind === 'special') {
-        log(`skip ${name(filePath)}: not a regular file but ${entry.what}; not read`);
+        this.log(`skip ${this.name(filePath)}: not a regular file but ${entry.what}; not read`);
         return;
       }
-      const result = await waitUntilStable(filePath, probe, settings);
-      if (result.kind === 'ready' && !stopping) {
-        readyStamps.set(filePath, result.stamp);
-        queue.offer(filePath);
+      const result = await waitUntilStable(filePath, this.probe, this.setup.settings);
+      if (result.kind === 'ready' && !this.stopping) {
+        this.readyStamps.set(filePath, result.stamp);
+        this.queue.offer(filePath);
       } else if (result.kind === 'vanished') {
-        log(`skip ${name(filePath)}: gone before it settled`);
+        this.log(`skip ${this.name(filePath)}: gone before it settled`);
       }
     } catch (error) {
-      report(error, filePath);
+      this.report(error, filePath);
     } finally {
-      gating.delete(filePath);
+      this.gating.delete(filePath);
     }
-  };
-
-  function consider(candidate: string, why: string): void {
-    if (stopping) return;
-    const filePath = path.resolve(inbox, candidate);
-    if (ignoreReason(filePath, { inbox, extensions }) !== null) return;
-    if (gating.has(filePath)) return; // the running gate sees the change itself
-    if (queue.isRunning(filePath)) {
-      again.add(filePath);
-      return;
-    }
-    if (queue.has(filePath)) return; // the re-stat before onFile catches a change
-    gating.add(filePath);
-    log(`seen ${name(filePath)} (${why})`);
-    const running = gate(filePath);
-    gates.add(running);
-    void running.finally(() => gates.delete(running));
   }
 
-  const stopRequested = new Promise<void>((resolve) => {
-    options.stop.then(
-      () => resolve(),
-      () => resolve(),
-    );
-  });
-
-  const watcher: FSWatcher = watch(inbox, {
-    depth: 0,
-    ignoreInitial: true,
-    ignored: inboxMatcher(inbox, extensions),
-    usePolling: options.poll ?? false,
-    interval: pollIntervalMs,
-    binaryInterval: pollIntervalMs,
-    persistent: true,
-  });
-  watcher.on('add', (filePath) => consider(filePath, 'added'));
-  watcher.on('change', (filePath) => consider(filePath, 'changed'));
-  watcher.on('error', (error) => report(error));
-
-  try {
-    const ready = new Promise<void>((resolve) => watcher.once('ready', () => resolve()));
-    await Promise.race([ready, stopRequested]);
-    if (!stopping) {
-      log(`watching ${inbox}${options.poll ? ' (polling)' : ''}, quiet period ${settings.stableMs} ms`);
-      try {
-        const entries = await fsp.readdir(inbox, { withFileTypes: true });
-        // Everything but folders: the gate logs a FIFO, socket or device as skipped.
-        const names = entries
-          .filter((entry) => !entry.isDirectory())
-          .map((entry) => entry.name)
-          .sort();
-        for (const entry of names) consider(path.join(inbox, entry), 'present at start');
-      } catch (error) {
-        report(error);
-      }
+  /** Right before `onFile`: a file gone is skipped, one changed while queued goes back to the gate. */
+  private async readQueued(filePath: string): Promise<void> {
+    const expected = this.readyStamps.get(filePath);
+    this.readyStamps.delete(filePath);
+    const stamp = await statFile(filePath);
+    if (stamp === null) {
+      this.log(`skip ${this.name(filePath)}: gone before it was read`);
+      return;
     }
-    await stopRequested;
-  } finally {
-    stopping = true;
-    for (const wake of [...sleepers]) wake();
-    const dropped = await queue.stop();
-    if (dropped.length > 0) log(`stop: ${dropped.length} file(s) left in the inbox for the next start`);
-    await Promise.allSettled([...gates]);
-    await watcher.close();
-    log('stopped');
+    if (expected !== undefined && !sameStamp(expected, stamp)) {
+      this.log(`wait ${this.name(filePath)}: changed while queued`);
+      this.again.add(filePath);
+      return;
+    }
+    this.log(`read ${this.name(filePath)} (${stamp.size} bytes)`);
+    await this.onFile(filePath);
   }
 }

@@ -7,7 +7,7 @@ import { format as formatDate } from 'date-fns/format';
 import { parse as parseDate } from 'date-fns/parse';
 import { describe, expect, it } from 'vitest';
 import { dateFormatProblem } from '../../src/config/dateFormat.js';
-import { parseDateCell } from '../../src/ingest/rows.js';
+import { parseDateCell } from '../../src/ingest/recordCells.js';
 import { configCases, configError } from './configCases.js';
 
 const { configEdited } = configCases();

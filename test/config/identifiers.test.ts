@@ -15,7 +15,8 @@ import {
   RECEIPTS_FOLDER,
 } from '../../src/config/names.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { canonicalPenKey, locationFromPattern } from '../../src/ingest/rows.js';
+import { canonicalPenKey } from '../../src/ingest/recordCells.js';
+import { locationFromPattern } from '../../src/ingest/sampleLocation.js';
 import { foldToken } from '../../src/util/fold.js';
 import { configCases, configError, demoText } from './configCases.js';
 

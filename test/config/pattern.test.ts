@@ -18,7 +18,7 @@ import {
   hollowCreekRound,
   tamsinRidgeRound,
 } from '../../src/demo/scenario.js';
-import { locationFromPattern } from '../../src/ingest/rows.js';
+import { locationFromPattern } from '../../src/ingest/sampleLocation.js';
 import { configCases, configError, demoText } from './configCases.js';
 
 const { configWith } = configCases();

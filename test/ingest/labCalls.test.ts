@@ -15,7 +15,7 @@ import type { LabProfile } from '../../src/config/types.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { mapResultRow, type ResultContext } from '../../src/ingest/rows.js';
+import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
 import { receiptText } from '../../src/pipeline.js';
 import { Store } from '../../src/store/store.js';
 

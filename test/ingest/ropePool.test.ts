@@ -8,7 +8,7 @@ import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { mapRopeRow, type RopeContext } from '../../src/ingest/rows.js';
+import { mapRopeRow, type RopeContext } from '../../src/ingest/ropeSheetRecords.js';
 import { formatSampleId } from '../../src/plan/sampleId.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);

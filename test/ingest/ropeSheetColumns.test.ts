@@ -16,7 +16,7 @@ import { detectFileKind } from '../../src/ingest/detect.js';
 import { IngestError } from '../../src/ingest/errors.js';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { mapRopeRow } from '../../src/ingest/rows.js';
+import { mapRopeRow } from '../../src/ingest/ropeSheetRecords.js';
 import { demoText } from '../config/configCases.js';
 import { FIXED_NOW, workspacesPerTest } from '../helpers/workspace.js';
 

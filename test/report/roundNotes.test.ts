@@ -24,7 +24,7 @@ import {
 } from '../../src/rounds/roundModel.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderSummaryPage } from '../../src/report/html/summaryPage.js';
-import { normaliseSampleId } from '../../src/ingest/rows.js';
+import { normaliseSampleId } from '../../src/ingest/recordCells.js';
 import {
   comparableId,
   correctionsEntry,

@@ -1,14 +1,17 @@
 import { describe, expect, it } from 'vitest';
-import { ignoreReason, inboxMatcher, isIgnoredName, normaliseExtensions } from '../../src/watch/ignore.js';
+import { ignoreReason, inboxMatcher, normaliseExtensions } from '../../src/watch/ignore.js';
+
+/** True when the watcher must not read the path: ignoreReason gives a reason. */
+const ignored = (...args: Parameters<typeof ignoreReason>): boolean => ignoreReason(...args) !== null;
 
 // The naming conventions below are trade conventions of operating systems, browsers and
 // office suites (common practice, no source): dotfiles are hidden on Unix; Office writes an
 // owner file "~$name" beside an open document; editors leave "name~" backups and vim ".swp"
 // swap files; browsers download into ".crdownload" / ".part"; copy tools write ".tmp".
-describe('isIgnoredName', () => {
+describe('ignoreReason: read or not', () => {
   it('accepts lab exports with the default extensions, in any letter case', () => {
     for (const name of ['results.csv', 'RESULTS.CSV', 'run 12.tsv', 'export.txt', '/srv/inbox/a.b.csv']) {
-      expect(isIgnoredName(name), name).toBe(false);
+      expect(ignored(name), name).toBe(false);
     }
   });
 
@@ -24,12 +27,12 @@ describe('isIgnoredName', () => {
       'results.csv.swp',
       'results.csv~',
     ];
-    for (const name of names) expect(isIgnoredName(name), name).toBe(true);
+    for (const name of names) expect(ignored(name), name).toBe(true);
   });
 
   it('ignores files whose extension is not accepted, and a bare extension with no name', () => {
     for (const name of ['report.pdf', 'README', 'Thumbs.db', 'csv', '.csv', 'results.xlsx.bak']) {
-      expect(isIgnoredName(name), name).toBe(true);
+      expect(ignored(name), name).toBe(true);
     }
   });
 
@@ -37,23 +40,23 @@ describe('isIgnoredName', () => {
     // .xlsx/.xlsm are Office Open XML workbooks (ECMA-376); .xls (BIFF), .xlsb and .ods reach
     // ingest, which refuses them as not-a-workbook with the reason.
     for (const name of ['results.xlsx', 'RESULTS.XLSX', 'book.xlsm', 'old.xls', 'binary.xlsb', 'calc.ods']) {
-      expect(isIgnoredName(name), name).toBe(false);
+      expect(ignored(name), name).toBe(false);
     }
     // The lock file an office suite writes beside an open workbook stays ignored (common practice, no source).
     expect(ignoreReason('~$results.xlsx')).toBe('office lock file');
-    expect(isIgnoredName('.~lock.results.xlsx#')).toBe(true);
+    expect(ignored('.~lock.results.xlsx#')).toBe(true);
   });
 
   it('takes a configurable extension list', () => {
-    expect(isIgnoredName('export.xlsx', { extensions: ['.xlsx'] })).toBe(false);
-    expect(isIgnoredName('export.csv', { extensions: ['.XLSX'] })).toBe(true);
+    expect(ignored('export.xlsx', { extensions: ['.xlsx'] })).toBe(false);
+    expect(ignored('export.csv', { extensions: ['.XLSX'] })).toBe(true);
   });
 
   it('ignores anything inside archive/ and rejected/ but not an inbox that lives under a folder named archive', () => {
-    expect(isIgnoredName('archive/a.csv')).toBe(true);
-    expect(isIgnoredName('inbox\\Rejected\\a.csv')).toBe(true);
-    expect(isIgnoredName('/srv/archive/inbox/a.csv', { inbox: '/srv/archive/inbox' })).toBe(false);
-    expect(isIgnoredName('/srv/archive/inbox/archive/a.csv', { inbox: '/srv/archive/inbox' })).toBe(true);
+    expect(ignored('archive/a.csv')).toBe(true);
+    expect(ignored('inbox\\Rejected\\a.csv')).toBe(true);
+    expect(ignored('/srv/archive/inbox/a.csv', { inbox: '/srv/archive/inbox' })).toBe(false);
+    expect(ignored('/srv/archive/inbox/archive/a.csv', { inbox: '/srv/archive/inbox' })).toBe(true);
   });
 
   it('ignores paths outside the inbox when the inbox is given', () => {

@@ -11,7 +11,7 @@ import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { mapResultRow, type ResultContext } from '../../src/ingest/rows.js';
+import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const NF_COLUMNS = [

@@ -10,15 +10,10 @@ import { compileConfiguredPattern } from '../../src/config/pattern.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import {
-  canonicalPenKey,
-  locationFromPattern,
-  mapResultRow,
-  mapRopeRow,
-  parseDateCell,
-  type ResultContext,
-  type RopeContext,
-} from '../../src/ingest/rows.js';
+import { canonicalPenKey, parseDateCell } from '../../src/ingest/recordCells.js';
+import { locationFromPattern } from '../../src/ingest/sampleLocation.js';
+import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
+import { mapRopeRow, type RopeContext } from '../../src/ingest/ropeSheetRecords.js';
 import { formatSampleId } from '../../src/plan/sampleId.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
