@@ -10,9 +10,10 @@
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
+import { INBOX_FOLDERS } from './workspacePaths.js';
 
-export const ARCHIVE_DIR = 'archive';
-export const REJECTED_DIR = 'rejected';
+export const ARCHIVE_DIR = INBOX_FOLDERS.archive;
+export const REJECTED_DIR = INBOX_FOLDERS.rejected;
 
 /**
  * Longest file name, in bytes, on the file systems ropewatch meets: NAME_MAX of Linux ext4, XFS,

@@ -10,6 +10,7 @@
  */
 import path from 'node:path';
 import { analyseSite, type AnalyseOptions, type SiteAnalysis } from './analysis/analyseSite.js';
+import { wordSiteAnalysis } from './report/siteWording.js';
 import { OutbreakCache } from './analysis/spatialRound.js';
 import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
 import type { Site } from './config/types.js';
@@ -82,7 +83,9 @@ function rebuildSite(ws: Workspace, site: Site, cache: OutbreakCache, options: A
   for (let attempt = 1; ; attempt++) {
     const inputs = ws.store.siteInputs(site.id);
     const { version } = inputs;
-    const analysis = analyseSite(site, inputs, { config: ws.config, today: clockDay(ws.now()), cache }, options);
+    const analysis = wordSiteAnalysis(
+      analyseSite(site, inputs, { config: ws.config, today: clockDay(ws.now()), cache }, options),
+    );
     storePlan(ws, analysis);
     const staged = new StagedOutputs();
     try {

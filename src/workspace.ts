@@ -2,18 +2,18 @@
  * The edge where ropewatch meets the world: which config, store, inbox and outbox a command works
  * on, opened once per command and passed to everything that needs them.
  */
-import path from 'node:path';
 import { configDigest } from './config/digest.js';
 import { loadConfig } from './config/load.js';
 import type { Config } from './config/types.js';
 import { Store } from './store/store.js';
+import type { WorkspacePaths } from './workspacePaths.js';
 
-export interface WorkspacePaths {
-  configDir: string;
-  dbFile: string;
-  inbox: string;
-  outbox: string;
-}
+export {
+  DEFAULT_PATHS,
+  resolvePaths,
+  type PathOptions,
+  type WorkspacePaths,
+} from './workspacePaths.js';
 
 export interface Workspace extends WorkspacePaths {
   config: Config;
@@ -23,29 +23,6 @@ export interface Workspace extends WorkspacePaths {
   now: () => Date;
   log: (line: string) => void;
   close: () => void;
-}
-
-export interface PathOptions {
-  config?: string;
-  db?: string;
-  inbox?: string;
-  outbox?: string;
-}
-
-export const DEFAULT_PATHS = Object.freeze({
-  config: 'config',
-  db: 'data/ropewatch.db',
-  inbox: 'inbox',
-  outbox: 'outbox',
-});
-
-export function resolvePaths(cwd: string, options: PathOptions): WorkspacePaths {
-  return {
-    configDir: path.resolve(cwd, options.config ?? DEFAULT_PATHS.config),
-    dbFile: path.resolve(cwd, options.db ?? DEFAULT_PATHS.db),
-    inbox: path.resolve(cwd, options.inbox ?? DEFAULT_PATHS.inbox),
-    outbox: path.resolve(cwd, options.outbox ?? DEFAULT_PATHS.outbox),
-  };
 }
 
 export interface OpenOptions {

@@ -111,36 +111,44 @@ export async function deliverAlerts(ws: Workspace, options: DeliverOptions): Pro
   return report;
 }
 
-async function deliverLocked(
-  ws: Workspace,
-  options: DeliverOptions,
-  stateFile: string,
-  report: DeliveryReport,
-  warn: (text: string) => void,
-): Promise<void> {
-  const now = () => ws.now().toISOString();
-  let state: DeliveryState;
+/** One delivery run under the lock: the workspace, the delivery record, and what the run reports. */
+interface DeliveryRun {
+  ws: Workspace;
+  stateFile: string;
+  state: DeliveryState;
+  report: DeliveryReport;
+  warn: (text: string) => void;
+  now: () => string;
+  save: () => void;
+}
+
+/**
+ * The delivery record, or a new one when it cannot be read: what was delivered is then unknown;
+ * the feed's own keys keep it from doubling; an e-mail or a command may be repeated, which is
+ * better than lost. The damaged file is kept beside.
+ */
+function readStateOrStartAgain(stateFile: string, warn: (text: string) => void): DeliveryState {
   try {
-    state = readDeliveryState(stateFile);
+    return readDeliveryState(stateFile);
   } catch (error) {
-    // What was delivered is unknown: the feed's own keys keep it from doubling; an e-mail or a
-    // command may be repeated, which is better than lost. The damaged file is kept beside.
     const aside = `${stateFile}.damaged`;
     warn(
       `${stateFile} cannot be read (${oneLine((error as Error).message)}); moved to ${path.basename(aside)}, starting a new delivery record`,
     );
     fs.renameSync(stateFile, aside);
-    state = emptyState();
+    return emptyState();
   }
-  const save = () => writeDeliveryState(stateFile, state);
+}
 
-  // 1. New alerts, with the channels their site has now.
+/** Step 1: the alerts not seen before, each with the channels its site has now. */
+function recordNewAlerts(run: DeliveryRun): void {
+  const { ws, state, report } = run;
   for (const site of ws.config.sites) {
     let records: AlertRecord[];
     try {
       records = readSiteAlerts(ws.outbox, site.id);
     } catch (error) {
-      warn(
+      run.warn(
         `the alerts of ${site.id} cannot be read (${oneLine((error as Error).message)}); they are read again on the next run`,
       );
       continue;
@@ -152,43 +160,52 @@ async function deliverLocked(
       if (record.kind === 'missing-ropes' && record.awaitingResults) continue;
       const channels: DeliveryState['alerts'][string]['channels'] = { feed: pendingState() };
       for (const channel of externalChannels(site)) channels[channel] = pendingState();
-      state.alerts[record.key] = { firstSeenAt: now(), alert: record, channels };
+      state.alerts[record.key] = { firstSeenAt: run.now(), alert: record, channels };
       report.recorded++;
     }
   }
-  if (report.recorded > 0) save();
+  if (report.recorded > 0) run.save();
+}
 
-  const entries = Object.entries(state.alerts);
-  const lineOf = (key: string): FeedLine => feedLine(state.alerts[key]!.alert, state.alerts[key]!.firstSeenAt);
+/** The feed line of a recorded alert, as every channel sends it. */
+const lineOf = (state: DeliveryState, key: string): FeedLine =>
+  feedLine(state.alerts[key]!.alert, state.alerts[key]!.firstSeenAt);
 
-  // 2. The feed.
-  const forFeed = entries
+/** Step 2: every alert the feed still owes, appended in one write. */
+function appendOwedToFeed(run: DeliveryRun): void {
+  const { ws, state } = run;
+  const forFeed = Object.entries(state.alerts)
     .filter(([, entry]) => entry.channels.feed !== undefined && !entry.channels.feed.done)
     .map(([key]) => key);
-  if (forFeed.length > 0) {
-    try {
-      report.appended = appendToFeed(path.join(ws.outbox, FEED_FILE), forFeed.map(lineOf));
-      const at = now();
-      for (const key of forFeed)
-        Object.assign(state.alerts[key]!.channels.feed!, {
-          done: true,
-          attempts: state.alerts[key]!.channels.feed!.attempts + 1,
-          lastError: null,
-          lastAttemptAt: at,
-          doneAt: at,
-        });
-      save();
-    } catch (error) {
-      warn(
-        `${forFeed.length} alert(s) not appended to ${path.join(ws.outbox, FEED_FILE)} (${oneLine((error as Error).message)}); retried on the next run`,
-      );
-    }
+  if (forFeed.length === 0) return;
+  try {
+    run.report.appended = appendToFeed(
+      path.join(ws.outbox, FEED_FILE),
+      forFeed.map((key) => lineOf(state, key)),
+    );
+    const at = run.now();
+    for (const key of forFeed)
+      Object.assign(state.alerts[key]!.channels.feed!, {
+        done: true,
+        attempts: state.alerts[key]!.channels.feed!.attempts + 1,
+        lastError: null,
+        lastAttemptAt: at,
+        doneAt: at,
+      });
+    run.save();
+  } catch (error) {
+    run.warn(
+      `${forFeed.length} alert(s) not appended to ${path.join(ws.outbox, FEED_FILE)} (${oneLine((error as Error).message)}); retried on the next run`,
+    );
   }
+}
 
-  // 3. E-mail and command, one alert at a time; a channel that fails rests until the next run.
+/** Step 3: e-mail and command, one alert at a time; a channel that fails rests until the next run. */
+async function sendOwed(run: DeliveryRun, options: DeliverOptions): Promise<void> {
+  const { ws, state, report } = run;
   const senders: Senders = { email: sendEmail, command: runCommand, ...options.senders };
   const resting = new Set<string>();
-  for (const [key, entry] of entries) {
+  for (const [key, entry] of Object.entries(state.alerts)) {
     for (const channel of ['email', 'command'] as const) {
       const owed = entry.channels[channel];
       if (owed === undefined || owed.done) continue;
@@ -202,26 +219,48 @@ async function deliverLocked(
       }
       const timeoutMs = alerts.timeoutSeconds * 1000;
       owed.attempts++;
-      owed.lastAttemptAt = now();
+      owed.lastAttemptAt = run.now();
       try {
-        if (channel === 'email') await senders.email(alerts.email!, lineOf(key), timeoutMs, options.env);
-        else await senders.command(alerts.command!, lineOf(key), timeoutMs, ws.configDir, options.env);
-        Object.assign(owed, { done: true, lastError: null, doneAt: now() });
+        if (channel === 'email') await senders.email(alerts.email!, lineOf(state, key), timeoutMs, options.env);
+        else await senders.command(alerts.command!, lineOf(state, key), timeoutMs, ws.configDir, options.env);
+        Object.assign(owed, { done: true, lastError: null, doneAt: run.now() });
         report.delivered++;
       } catch (error) {
         owed.lastError = oneLine((error as Error).message ?? String(error));
         report.failed++;
         report.waiting++;
         resting.add(`${entry.alert.site.id}/${channel}`);
-        warn(
+        run.warn(
           `alert ${key} not delivered by ${channel === 'email' ? 'e-mail' : 'command'} (attempt ${owed.attempts}): ${owed.lastError}; retried on the next run`,
         );
       }
       try {
-        save();
+        run.save();
       } catch (error) {
-        warn(`the delivery record ${stateFile} cannot be written (${oneLine((error as Error).message)})`);
+        run.warn(`the delivery record ${run.stateFile} cannot be written (${oneLine((error as Error).message)})`);
       }
     }
   }
+}
+
+async function deliverLocked(
+  ws: Workspace,
+  options: DeliverOptions,
+  stateFile: string,
+  report: DeliveryReport,
+  warn: (text: string) => void,
+): Promise<void> {
+  const state = readStateOrStartAgain(stateFile, warn);
+  const run: DeliveryRun = {
+    ws,
+    stateFile,
+    state,
+    report,
+    warn,
+    now: () => ws.now().toISOString(),
+    save: () => writeDeliveryState(stateFile, state),
+  };
+  recordNewAlerts(run);
+  appendOwedToFeed(run);
+  await sendOwed(run, options);
 }

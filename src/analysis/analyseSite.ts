@@ -1,24 +1,33 @@
 /**
  * One site's analysis, from its inputs as a plain value (the store reader's `siteInputs`): its
  * rounds, each round's detection confidence, summary and spatial review, and the next round's
- * plan. Pure apart from the outbreak cache it is handed: no store, no files, no clock.
+ * plan. Pure apart from the outbreak cache it is handed: no store, no files, no clock. It returns
+ * numbers and coded notes (`SiteFindings`); the words come on the report side
+ * (src/report/siteWording.ts turns findings into the `SiteAnalysis` the writers read).
  */
 import type { Config, Site } from '../config/types.js';
 import type { SiteInputs } from '../domain/store.js';
 import { buildSiteRounds, type SiteRound } from '../rounds/roundModel.js';
 import { siteConfidence, type RoundConfidence } from './confidence.js';
 import { planNextRound } from './nextRound.js';
-import type { NextRoundPlan } from './planTypes.js';
-import { summariseSite, type RoundSummary } from './roundSummary.js';
+import type { NextRoundPlan, PlannedRound } from './planTypes.js';
+import { summariseSite } from './roundSummary.js';
+import type { RoundSummary, SummaryFacts } from './summaryTypes.js';
 import { siteSpatial, type OutbreakCache, type RoundSpatial } from './spatialRound.js';
 
-/** One site's analysis as a plain value: what the writers in src/report read. */
-export interface SiteAnalysis {
+/** One site's analysis as numbers and coded notes (kinds and their figures), no sentences. */
+export interface SiteFindings {
   site: Site;
   rounds: SiteRound[];
   confidence: RoundConfidence[];
-  summaries: RoundSummary[];
+  summaries: SummaryFacts[];
   spatial: RoundSpatial[];
+  plan: PlannedRound;
+}
+
+/** The findings with their notes worded: what the writers in src/report read. */
+export interface SiteAnalysis extends Omit<SiteFindings, 'summaries' | 'plan'> {
+  summaries: RoundSummary[];
   plan: NextRoundPlan;
 }
 
@@ -42,7 +51,7 @@ export function analyseSite(
   inputs: SiteInputs,
   context: AnalysisContext,
   options: AnalyseOptions = {},
-): SiteAnalysis {
+): SiteFindings {
   const { config, today, cache } = context;
   const rounds = buildSiteRounds(
     site,

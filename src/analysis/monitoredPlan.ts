@@ -9,7 +9,7 @@ import type { Site } from '../config/types.js';
 import type { SiteRound } from '../rounds/roundModel.js';
 import { monitoringBaseRopes, pensToReRope } from '../plan/monitoring.js';
 import type { RoundConfidence } from './confidence.js';
-import type { MonitoredBarn, NextRoundPlan } from './planTypes.js';
+import type { BarnReading, MonitoredBarn, PlannedRound, SizingNote } from './planTypes.js';
 
 /** The barns positive for one of `assays` after the last round, by barn id. */
 export function monitoredBarns(
@@ -50,43 +50,52 @@ export function budgetForSurveyed(budget: number | null, monitored: ReadonlyMap<
 }
 
 /**
- * The plan with its monitored barns said as such: their sizing statement replaced (no detection
+ * The plan with its monitored barns said as such: their sizing reading replaced (no detection
  * figure for a positive barn), their schedule comparison dropped (it compares detection), a
  * `monitoring` entry per barn, and a note.
  */
 export function withMonitoring(
-  plan: NextRoundPlan,
+  plan: PlannedRound,
   monitored: ReadonlyMap<string, MonitoredBarn>,
   clearAfterNegativeRounds: number,
-): NextRoundPlan {
+): PlannedRound {
   if (monitored.size === 0) return plan;
-  const rounds = (n: number) => `${n} negative round${n === 1 ? '' : 's'}`;
   const barns = plan.barns.map((barn) => {
     const entry = monitored.get(barn.barnId);
     if (!entry) return barn;
-    const statement =
-      `Barn ${barn.barnId} is positive for ${entry.assays.join(', ')} since round ${entry.sinceRound}: monitored, not sized for detection ` +
-      `(${barn.reRope} re-rope, ${barn.tracking} tracking, ${barn.followUp} follow-up, ${barn.retest} retest). ` +
-      `It leaves the positive state after ${rounds(clearAfterNegativeRounds)} in a row (${entry.negativeRoundsInARow} so far) or when a new group of pigs is placed.`;
+    const statement: BarnReading = {
+      kind: 'monitored',
+      barnId: barn.barnId,
+      assays: entry.assays,
+      sinceRound: entry.sinceRound,
+      reRope: barn.reRope,
+      tracking: barn.tracking,
+      followUp: barn.followUp,
+      retest: barn.retest,
+      clearAfter: clearAfterNegativeRounds,
+      negativeRoundsInARow: entry.negativeRoundsInARow,
+    };
     return { ...barn, sizing: { ...barn.sizing, statement }, monitoring: entry };
   });
   const ids = [...monitored.keys()];
   const base = [...monitored.values()].reduce((sum, entry) => sum + entry.baseRopes, 0);
-  const budgetNote =
+  const budgetNote: SizingNote[] =
     plan.sizing.budget === null
       ? []
       : [
-          `The re-rope and tracking ropes of the positive barn${ids.length === 1 ? '' : 's'} (${base}) come out of the rope budget of ${plan.sizing.budget}: the surveyed barns share the other ${budgetForSurveyed(plan.sizing.budget, monitored)}. Follow-up and retest ropes come on top, as in any barn.`,
+          {
+            kind: 'monitored-budget',
+            positiveBarns: ids.length,
+            baseRopes: base,
+            budget: plan.sizing.budget,
+            surveyedBudget: budgetForSurveyed(plan.sizing.budget, monitored) ?? 0,
+          },
         ];
   return {
     ...plan,
     barns,
     schedules: plan.schedules.filter((entry) => !monitored.has(entry.barnId)),
     sizing: { ...plan.sizing, notes: [...plan.sizing.notes, ...budgetNote] },
-    notes: [
-      ...plan.notes,
-      `Positive barn${ids.length === 1 ? '' : 's'} ${ids.join(', ')}: monitored, not surveyed. Positive pens are re-roped so that their Ct series go on, and a small fixed set of tracking pens (the same every round) follows spread and clearance; ` +
-        `the detection figures of this plan count no ropes there.`,
-    ],
+    notes: [...plan.notes, { kind: 'monitored-barns', barnIds: ids }],
   };
 }

@@ -1,8 +1,12 @@
 /**
- * The next round's plan as a plain value (next-round.json): its types and version tag, apart from
- * the code that makes it (nextRound.ts, monitoredPlan.ts), so that readers of a plan (the writers
- * in src/report, the monitoring step) need not import the planner.
+ * The next round's plan as a plain value: its types and version tag, apart from the code that
+ * makes it (nextRound.ts, monitoredPlan.ts), so that readers of a plan (the writers in
+ * src/report, the monitoring step) need not import the planner. The planner returns a
+ * `PlannedRound`, whose notes and readings are coded values (a kind and its numbers);
+ * src/report/planWording.ts words it into the `NextRoundPlan` that next-round.json and the pages
+ * show.
  */
+import type { DesignPrevalence } from '../config/types.js';
 import type {
   Allocation,
   BarnPlanSummary,
@@ -102,3 +106,110 @@ export interface MonitoredBarn {
 
 /** A planned rope, with the pool it is tested in when the program pools ropes. */
 export type PooledPlanRow = PlanRow & { poolId?: string };
+
+/** The facts of one note under the plan's sizing, in the order the plan gives them. */
+export type SizingNote =
+  | { kind: 'barn-target'; target: number; routineRopes: number }
+  | {
+      kind: 'site-target';
+      target: number;
+      infectedBarns: number;
+      barns: number;
+      barnTarget: number;
+      routineRopes: number;
+    }
+  | { kind: 'budget-shared'; budget: number; weakestBarn: number; siteDetection: number }
+  | {
+      kind: 'sizing-model';
+      model: 'spatial' | 'hypergeometric';
+      transmission: number;
+      background: number;
+      realisations: number;
+      seed: number;
+    }
+  | { kind: 'monitored-budget'; positiveBarns: number; baseRopes: number; budget: number; surveyedBudget: number };
+
+/** The facts of one note of the plan, in the order the plan gives them. */
+export type PlanNote =
+  | { kind: 'results-missing'; round: number; awaiting: boolean; resultsDueOn: string; basisRound: number | null }
+  | { kind: 'follow-up-cap'; ropes: number }
+  | { kind: 'antibody-retests'; pens: string[] }
+  | { kind: 'empty-on-due'; barnId: string; dueDate: string }
+  | { kind: 'positive-pools'; pens: string[] }
+  | {
+      kind: 'pooling';
+      poolSize: number;
+      poolSensitivity: number;
+      barns: { barnId: string; pooled: number; oneByOne: number }[];
+    }
+  | { kind: 'site-positive'; assayId: string; sinceRound: number; clearAfter: number; priorFreedom: number }
+  | { kind: 'last-round-positive'; assayId: string; priorFreedom: number }
+  | { kind: 'overdue'; dueDate: string; daysOverdue: number }
+  | { kind: 'monitored-barns'; barnIds: string[] };
+
+/** What one barn's routine ropes give, as facts. */
+export type BarnReading =
+  | {
+      kind: 'detection';
+      ropes: number;
+      detection: number;
+      designInfected: number;
+      pensInUse: number;
+      bySpreadModel: boolean;
+      assayId: string;
+      sensitivity: number;
+      reachable: boolean;
+      target: number;
+      /** The other model's figure for the same ropes, when the spread model ran. */
+      beside:
+        | { kind: 'hypergeometric'; detection: number; ropes: number | null }
+        | { kind: 'spread'; detection: number; standardError: number }
+        | null;
+    }
+  | {
+      kind: 'unreachable';
+      barnId: string;
+      target: number;
+      ceiling: number;
+      designInfected: number;
+      pensInUse: number;
+      roundsNeeded: number | null;
+    }
+  | {
+      kind: 'monitored';
+      barnId: string;
+      assays: string[];
+      sinceRound: number;
+      reRope: number;
+      tracking: number;
+      followUp: number;
+      retest: number;
+      clearAfter: number;
+      negativeRoundsInARow: number;
+    };
+
+/** What the routine ropes prove if they come back negative on time, as facts. */
+export type IfNegativeReading =
+  | { kind: 'none-surveyed' }
+  | {
+      kind: 'per-barn' | 'site';
+      weakestBarn: number;
+      siteDetection: number;
+      target: number;
+      model: 'spatial' | 'hypergeometric';
+      infectedBarns: number;
+      barns: number;
+      design: DesignPrevalence;
+    };
+
+type PlannedBarn = NextRoundPlan['barns'][number];
+
+/** The plan as the planner returns it: every sentence of a `NextRoundPlan` as its coded facts. */
+export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'notes'> & {
+  barns: (Omit<PlannedBarn, 'sizing'> & { sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading } })[];
+  sizing: Omit<NextRoundPlan['sizing'], 'ifNegative' | 'notes'> & {
+    ifNegative: IfNegativeReading;
+    notes: SizingNote[];
+  };
+  notes: PlanNote[];
+};

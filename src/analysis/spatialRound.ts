@@ -18,6 +18,7 @@ import {
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import { formatPValue } from '../util/format.js';
+import { inUsePens, isInUse } from '../domain/layout.js';
 
 export const CLUSTERS_SCHEMA = 'ropewatch.clusters/1';
 
@@ -79,7 +80,7 @@ export class OutbreakCache {
   }
 
   outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null {
-    const inUse = barn.pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id);
+    const inUse = inUsePens(barn.pens).map((pen) => pen.id);
     if (infected < 1 || infected > inUse.length) return null;
     const key = `${site.id}/${barn.id}/${infected}`;
     let outbreaks = this.cache.get(key);
@@ -145,6 +146,131 @@ function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): 
   return alerts;
 }
 
+/** What the spatial step of one round reads. */
+interface RoundContext {
+  site: Site;
+  rounds: readonly SiteRound[];
+  index: number;
+  confidence: readonly RoundConfidence[];
+  settings: AnalysisSettings;
+  cache: OutbreakCache;
+  seed: number;
+}
+
+/** Each barn's sampled in-use pens with a result for the assay, and the pens positive in earlier rounds; S/P values collected on the way. */
+function barnInputs(ctx: RoundContext, assayId: string, measure: Measure, spByPen: Record<string, number | null>) {
+  const { site, rounds, index } = ctx;
+  return rounds[index]!.barns.map((barnRound) => {
+    const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
+    const earlier = new Set<string>();
+    for (const previous of rounds.slice(0, index)) {
+      for (const pen of previous.barns.find((b) => b.barnId === barn.id)?.byAssay[assayId]?.positivePens ?? [])
+        earlier.add(pen);
+    }
+    const sampled = barnRound.pens
+      .filter((pen) => pen.results[assayId] !== undefined && isInUse(barn.penById.get(pen.penId.toUpperCase())))
+      .map((pen) => {
+        const result = pen.results[assayId]!;
+        if (measure === 'sp-ratio') spByPen[`${barn.id}/${pen.penId}`] = result.sp;
+        // The load of an S/P result is max(0, S/P): Moran's I and Gi* then read antibody level.
+        return {
+          id: pen.penId,
+          positive: result.resultClass === 'positive',
+          resultClass: result.resultClass,
+          ct: result.ct,
+          load: result.load,
+        };
+      });
+    return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: [...earlier] };
+  });
+}
+
+/**
+ * The spread-model detection of the ropes hung in one barn, beside the hypergeometric value and
+ * random ropes; written into the barn's report as well (the round review leaves it to this step).
+ */
+function barnDetection(
+  ctx: RoundContext,
+  assayId: string,
+  barnReport: BarnSpatialReport,
+): AssaySpatial['detection'][number] {
+  const { site, settings, cache } = ctx;
+  const barn = site.barnById.get(barnReport.barn.toUpperCase())!;
+  const hypergeometric =
+    ctx.confidence[ctx.index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)
+      ?.detectionConfidence ?? 0;
+  const pensInUse = inUsePens(barn.pens).length;
+  const infected = designInfectedFor(site.program, pensInUse);
+  const outbreaks = cache.outbreaksFor(site, barn, infected);
+  // Invalid results prove nothing: only pens with a valid result count as ropes that looked.
+  const ropes = barnReport.pens.map((pen) => pen.id);
+  if (!outbreaks || ropes.length === 0)
+    return { barnId: barn.id, hypergeometric, spreadModel: null, spreadModelSE: null, randomRopes: null };
+  const se = ropeAccuracy(site.program, assayId, barn).sensitivity;
+  const comparison = compareWithRandomPlacement(
+    outbreaks,
+    ropes,
+    se,
+    seededRng(deriveSeed(ctx.seed, assayId, barn.id, 'random-ropes')),
+  );
+  barnReport.detection = {
+    ...comparison,
+    se,
+    infected,
+    beta: settings.spreadTransmission,
+    background: settings.spreadBackground,
+    inUsePens: pensInUse,
+    reseeded: outbreaks.reseeded,
+    seed: deriveSeed(settings.seed, 'outbreaks', site.id, barn.id, infected),
+  };
+  return {
+    barnId: barn.id,
+    hypergeometric,
+    spreadModel: comparison.actual.p,
+    spreadModelSE: comparison.actual.standardError,
+    randomRopes: comparison.random.p,
+  };
+}
+
+/** The S/P ratios of each cluster of antibody-positive pens. */
+function clusterSpOf(report: SiteSpatialReport, spByPen: Record<string, number | null>): ClusterSp[] {
+  return report.barns.flatMap((barnReport) =>
+    barnReport.clusters.map((cluster): ClusterSp => {
+      const values = cluster.pens
+        .map((pen) => spByPen[`${barnReport.barn}/${pen}`])
+        .filter((sp): sp is number => sp !== null && sp !== undefined);
+      return {
+        barnId: barnReport.barn,
+        cluster: cluster.index,
+        meanSp: values.length > 0 ? values.reduce((sum, sp) => sum + sp, 0) / values.length : null,
+        maxSp: values.length > 0 ? Math.max(...values) : null,
+      };
+    }),
+  );
+}
+
+/** The spatial analysis of one assay in one round. */
+function assaySpatial(ctx: RoundContext, assayId: string): AssaySpatial {
+  const { site, settings } = ctx;
+  const measure = ctx.rounds[ctx.index]!.measures[assayId] ?? 'ct';
+  const spByPen: Record<string, number | null> = {};
+  const report = analyseSiteRound({
+    site: site.id,
+    barns: barnInputs(ctx, assayId, measure, spByPen),
+    options: { seed: deriveSeed(ctx.seed, assayId), permutations: settings.permutations },
+  });
+  const detection = report.barns.map((barnReport) => barnDetection(ctx, assayId, barnReport));
+  const alerts = report.barns
+    .flatMap((barnReport) => barnAlerts(barnReport, assayId, settings.alpha))
+    .map((alert) =>
+      measure === 'sp-ratio'
+        ? { ...alert, message: `${alert.message} (antibody positives: exposure, not necessarily current infection)` }
+        : alert,
+    );
+  const clusterSp = measure === 'sp-ratio' ? clusterSpOf(report, spByPen) : [];
+  return { assayId, measure, spByPen, clusterSp, report, alerts, detection };
+}
+
 /**
  * Spatial analysis of each round of a site, per assay tested in that round.
  * @param confidence the round confidence from siteConfidence (for the hypergeometric value beside)
@@ -158,111 +284,13 @@ export function siteSpatial(
 ): RoundSpatial[] {
   return rounds.map((round, index) => {
     const seed = deriveSeed(settings.seed, site.id, round.number);
-    const assays = round.assays.map((assayId): AssaySpatial => {
-      const measure = round.measures[assayId] ?? 'ct';
-      const spByPen: Record<string, number | null> = {};
-      const barnInputs = round.barns.map((barnRound) => {
-        const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
-        const earlier = new Set<string>();
-        for (const previous of rounds.slice(0, index)) {
-          for (const pen of previous.barns.find((b) => b.barnId === barn.id)?.byAssay[assayId]?.positivePens ?? [])
-            earlier.add(pen);
-        }
-        const sampled = barnRound.pens
-          .filter(
-            (pen) =>
-              pen.results[assayId] !== undefined && barn.penById.get(pen.penId.toUpperCase())?.status === 'in-use',
-          )
-          .map((pen) => {
-            const result = pen.results[assayId]!;
-            if (measure === 'sp-ratio') spByPen[`${barn.id}/${pen.penId}`] = result.sp;
-            // The load of an S/P result is max(0, S/P): Moran's I and Gi* then read antibody level.
-            return {
-              id: pen.penId,
-              positive: result.resultClass === 'positive',
-              resultClass: result.resultClass,
-              ct: result.ct,
-              load: result.load,
-            };
-          });
-        return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: [...earlier] };
-      });
-      const report = analyseSiteRound({
-        site: site.id,
-        barns: barnInputs,
-        options: { seed: deriveSeed(seed, assayId), permutations: settings.permutations, detection: false },
-      });
-      const detection = report.barns.map((barnReport) => {
-        const barn = site.barnById.get(barnReport.barn.toUpperCase())!;
-        const hypergeometric =
-          confidence[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)
-            ?.detectionConfidence ?? 0;
-        const pensInUse = barn.pens.filter((pen) => pen.status === 'in-use').length;
-        const infected = designInfectedFor(site.program, pensInUse);
-        const outbreaks = cache.outbreaksFor(site, barn, infected);
-        // Invalid results prove nothing: only pens with a valid result count as ropes that looked.
-        const ropes = barnReport.pens.map((pen) => pen.id);
-        if (!outbreaks || ropes.length === 0)
-          return { barnId: barn.id, hypergeometric, spreadModel: null, spreadModelSE: null, randomRopes: null };
-        const se = ropeAccuracy(site.program, assayId, barn).sensitivity;
-        const comparison = compareWithRandomPlacement(
-          outbreaks,
-          ropes,
-          se,
-          seededRng(deriveSeed(seed, assayId, barn.id, 'random-ropes')),
-        );
-        barnReport.detection = {
-          ...comparison,
-          se,
-          infected,
-          beta: settings.spreadTransmission,
-          background: settings.spreadBackground,
-          inUsePens: pensInUse,
-          reseeded: outbreaks.reseeded,
-          seed: deriveSeed(settings.seed, 'outbreaks', site.id, barn.id, infected),
-        };
-        return {
-          barnId: barn.id,
-          hypergeometric,
-          spreadModel: comparison.actual.p,
-          spreadModelSE: comparison.actual.standardError,
-          randomRopes: comparison.random.p,
-        };
-      });
-      const alerts = report.barns
-        .flatMap((barnReport) => barnAlerts(barnReport, assayId, settings.alpha))
-        .map((alert) =>
-          measure === 'sp-ratio'
-            ? {
-                ...alert,
-                message: `${alert.message} (antibody positives: exposure, not necessarily current infection)`,
-              }
-            : alert,
-        );
-      const clusterSp =
-        measure === 'sp-ratio'
-          ? report.barns.flatMap((barnReport) =>
-              barnReport.clusters.map((cluster): ClusterSp => {
-                const values = cluster.pens
-                  .map((pen) => spByPen[`${barnReport.barn}/${pen}`])
-                  .filter((sp): sp is number => sp !== null && sp !== undefined);
-                return {
-                  barnId: barnReport.barn,
-                  cluster: cluster.index,
-                  meanSp: values.length > 0 ? values.reduce((sum, sp) => sum + sp, 0) / values.length : null,
-                  maxSp: values.length > 0 ? Math.max(...values) : null,
-                };
-              }),
-            )
-          : [];
-      return { assayId, measure, spByPen, clusterSp, report, alerts, detection };
-    });
+    const ctx: RoundContext = { site, rounds, index, confidence, settings, cache, seed };
     return {
       schema: CLUSTERS_SCHEMA,
       site: site.id,
       round: { number: round.number, id: round.id, startOn: round.startOn },
       seed,
-      assays,
+      assays: round.assays.map((assayId) => assaySpatial(ctx, assayId)),
       model: {
         transmission: settings.spreadTransmission,
         background: settings.spreadBackground,

@@ -1,6 +1,6 @@
 /**
  * What the commands run with: the pipeline, outputs, watcher and workspace modules, imported by a
- * command when it runs (`await import('./commandModules.js')`), never when the command tree is
+ * command when it runs (`await commandModules()`, command.ts), never when the command tree is
  * only declared. `--help`, `--version` and a usage error then load commander and the few small
  * modules of src/cli and nothing else: a start well under a second even on a loaded machine
  * (`npm run bench -- cli`).
@@ -16,4 +16,4 @@ export { watchConfig } from '../watch/configWatch.js';
 export { resolvePaths } from '../workspace.js';
 export { rejectedFiles, reloadConfiguration, retryFiles } from './retry.js';
 export { catchUp, deliverOwedAlerts, ingestFiles, processAndTell, signalExitCode } from './runFiles.js';
-export { checkInbox, withWorkspace } from './workspaceOptions.js';
+export { checkInbox, siteOption, withWorkspace } from './workspaceOptions.js';

@@ -4,7 +4,7 @@
  * commands for `--help` loads nothing but commander.
  */
 import type { Command } from 'commander';
-import type { PathOptions } from '../workspace.js';
+import { CONFIG_FILES, DEFAULT_PATHS, type PathOptions } from '../workspacePaths.js';
 
 export interface CommonOptions extends PathOptions {
   json?: boolean;
@@ -13,8 +13,12 @@ export interface CommonOptions extends PathOptions {
 /** --config, --db, --inbox, --outbox: the same on every command that touches the workspace. */
 export function addCommonOptions(command: Command): Command {
   return command
-    .option('--config <dir>', 'configuration folder (sites.yaml, assays.yaml, labs/)', 'config')
-    .option('--db <file>', 'SQLite store', 'data/ropewatch.db')
-    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', 'inbox')
-    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', 'outbox');
+    .option(
+      '--config <dir>',
+      `configuration folder (${CONFIG_FILES.sites}, ${CONFIG_FILES.assays}, ${CONFIG_FILES.labsDir}/)`,
+      DEFAULT_PATHS.config,
+    )
+    .option('--db <file>', 'SQLite store', DEFAULT_PATHS.db)
+    .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', DEFAULT_PATHS.inbox)
+    .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', DEFAULT_PATHS.outbox);
 }

@@ -1,10 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { Command, CommanderError } from 'commander';
 import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } from './io.js';
-import { registerCalc } from './calc.js';
-import { registerExport } from './commands/export.js';
-import { registerPipelineCommands } from './commands.js';
-import { registerRetry } from './retryCommand.js';
+import { COMMANDS } from './commands/index.js';
 
 /**
  * The version in package.json, two folders up from this file both in src/cli (tests, tsx) and in
@@ -17,7 +14,8 @@ export function packageVersion(): string {
 
 /**
  * Builds the command tree. Declaring it loads only commander and small modules: each command
- * imports what it runs with when it runs, so `--help` and `--version` start quickly. Each command's action throws UsageError (exit 2) or
+ * (commands/, one file each) imports what it runs with when it runs, so `--help` and `--version`
+ * start quickly. Each command's action throws UsageError (exit 2) or
  * InputRejectedError (exit 1), or returns normally (exit 0).
  */
 export function buildProgram(io: CliIo): Command {
@@ -30,10 +28,7 @@ export function buildProgram(io: CliIo): Command {
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     // GNU Coding Standards 4.8.1: --version prints the program's name and version on its first line.
     .version(`ropewatch ${packageVersion()}`, '-V, --version', 'print the program name and version, then exit');
-  registerPipelineCommands(program, io);
-  registerRetry(program, io);
-  registerCalc(program, io);
-  registerExport(program, io);
+  for (const register of COMMANDS) register(program, io);
   return program;
 }
 

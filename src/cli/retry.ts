@@ -12,6 +12,7 @@ import { ConfigError, formatProblem, loadConfig } from '../config/load.js';
 import { reasonPath, REJECTED_DIR } from '../inboxFiles.js';
 import { terminalText } from '../util/terminalText.js';
 import type { Workspace } from '../workspace.js';
+import { DEFAULT_PLACES } from '../workspacePaths.js';
 import { catchUp, ingestFiles } from './runFiles.js';
 import type { CliIo } from './io.js';
 
@@ -82,5 +83,7 @@ export async function reloadConfiguration(ws: Workspace, io: CliIo): Promise<voi
   if (refused.length === 0) return;
   io.stdout(`trying ${refused.length} refused file(s) again with the new configuration\n`);
   const outcome = await retryFiles(ws, refused, io, false);
-  io.stdout(`${outcome.accepted} accepted now, ${outcome.stillRefused} still refused (see inbox/rejected/)\n`);
+  io.stdout(
+    `${outcome.accepted} accepted now, ${outcome.stillRefused} still refused (see ${DEFAULT_PLACES.rejected})\n`,
+  );
 }

@@ -5,10 +5,13 @@
  * `commonOptions.ts`.
  */
 import { ConfigError } from '../config/load.js';
+import { findSite } from '../config/names.js';
+import type { Site } from '../config/types.js';
 import { inboxProblem } from '../inboxFiles.js';
 import { StoreOpenError } from '../store/store.js';
 import { terminalText } from '../util/terminalText.js';
 import { openWorkspace, resolvePaths, type OpenOptions, type Workspace } from '../workspace.js';
+import { CONFIG_FILES } from '../workspacePaths.js';
 import type { CommonOptions } from './commonOptions.js';
 import { UsageError, type CliIo } from './io.js';
 
@@ -38,6 +41,13 @@ export function withWorkspace<T>(
   } finally {
     if (closeNow) ws.close();
   }
+}
+
+/** The site --site names by its id, code or name; a usage error (exit 2) when none has it. */
+export function siteOption(ws: Workspace, text: string): Site {
+  const site = findSite(ws.config.sites, text);
+  if (!site) throw new UsageError(`no site ${JSON.stringify(text)} in ${ws.configDir}/${CONFIG_FILES.sites}`);
+  return site;
 }
 
 /** Refuses to start (exit 2) when processed files could not be moved out of the inbox. */

@@ -5,18 +5,19 @@
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
+import { CONFIG_FILES } from '../workspacePaths.js';
 
 /** The files loadConfig reads, in a fixed order (names relative to the configuration folder). */
 function configFiles(dir: string): string[] {
-  const labsDir = path.join(dir, 'labs');
+  const labsDir = path.join(dir, CONFIG_FILES.labsDir);
   const labs = fs.existsSync(labsDir)
     ? fs
         .readdirSync(labsDir)
         .filter((name) => /\.ya?ml$/i.test(name))
         .sort()
-        .map((name) => path.join('labs', name))
+        .map((name) => path.join(CONFIG_FILES.labsDir, name))
     : [];
-  return ['sites.yaml', 'assays.yaml', ...labs];
+  return [CONFIG_FILES.sites, CONFIG_FILES.assays, ...labs];
 }
 
 /** sha256 over each file's name and bytes; a file that cannot be read counts as empty. */

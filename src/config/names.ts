@@ -4,11 +4,12 @@
  * the outbox's fixed names from here, so a site can never be configured onto one of them.
  */
 import { foldToken } from '../util/fold.js';
+import { OUTBOX_NAMES } from '../workspacePaths.js';
 
 /** outbox/receipts/: one receipt per file processed. */
-export const RECEIPTS_FOLDER = 'receipts';
+export const RECEIPTS_FOLDER = OUTBOX_NAMES.receipts;
 /** outbox/index.html: the page listing every site. */
-export const INDEX_PAGE = 'index.html';
+export const INDEX_PAGE = OUTBOX_NAMES.indexPage;
 /** Names ropewatch writes at the top of the outbox, beside the site folders. */
 export const OUTBOX_FIXED_NAMES: readonly string[] = [RECEIPTS_FOLDER, INDEX_PAGE];
 
@@ -22,6 +23,19 @@ export const MAX_FOLDER_ID_LENGTH = 64;
  */
 export function matchKey(text: string): string {
   return foldToken(text).toUpperCase();
+}
+
+/**
+ * The site a person or a rope sheet names by its id, its code or its name, compared as matchKey
+ * compares them (case and spacing ignored). sites.yaml refuses two sites whose id, code or name
+ * would match one another, so at most one site answers.
+ */
+export function findSite<S extends { id: string; code: string; name: string }>(
+  sites: readonly S[],
+  text: string,
+): S | undefined {
+  const key = matchKey(text);
+  return sites.find((site) => matchKey(site.id) === key || matchKey(site.code) === key || matchKey(site.name) === key);
 }
 
 // Device names Windows reserves in every folder, with or without an extension (Microsoft,

@@ -10,6 +10,7 @@
  * backtracking engine can run. Callers see the small interface below, not the library.
  */
 import { RE2JS, RE2Set, type Matcher } from 're2js';
+import { ConfigError } from './problems.js';
 
 /** Named groups of a match; a group that took no part in the match is undefined. */
 export type PatternGroups = Readonly<Record<string, string | undefined>>;
@@ -92,6 +93,21 @@ export function compileConfiguredPattern(source: string, requiredGroups: readonl
     if (!pattern.groupNames.includes(group)) throw new PatternSyntaxError(`needs a named group (?<${group}>...)`);
   }
   return pattern;
+}
+
+/** A pattern from a configuration file: a syntax error is a ConfigError at its key path. */
+export function compilePattern(
+  source: string,
+  file: string,
+  keyPath: string,
+  groups: readonly string[],
+): ConfiguredPattern {
+  try {
+    return compileConfiguredPattern(source, groups);
+  } catch (error) {
+    if (error instanceof PatternSyntaxError) throw new ConfigError(file, keyPath, error.message);
+    throw error;
+  }
 }
 
 /**

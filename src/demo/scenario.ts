@@ -10,8 +10,27 @@ import { addDays, format, parseISO } from 'date-fns';
 import type { Barn, Config, Site } from '../config/types.js';
 import { formatSampleId, isWriteFriendlyCheck } from '../plan/sampleId.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
-import { demoWorkbook } from './workbook.js';
+import { measure, measureSp } from './groundTruth.js';
+import {
+  csvCell,
+  northfieldExport,
+  northfieldWorkbook,
+  ostermarkExport,
+  ropeSheet,
+  type ElisaRow,
+  type LabRow,
+  type RopeChoice,
+} from './labFiles.js';
 import { isEmptyOn } from '../rounds/pigGroups.js';
+
+export {
+  NORTHFIELD_HEADER,
+  northfieldExport,
+  northfieldWorkbook,
+  ostermarkExport,
+  ropeSheet,
+  type RopeChoice,
+} from './labFiles.js';
 
 export const DEMO_SEED = 20260803;
 
@@ -22,14 +41,6 @@ export interface DemoDrop {
   bytes: Buffer;
   /** What this drop shows a newcomer. */
   note: string;
-}
-
-export interface RopeChoice {
-  sampleId: string;
-  barnId: string;
-  penId: string;
-  /** The pool the plan put the rope in, when the program pools ropes. */
-  poolId?: string;
 }
 
 /** Rounds of each site: the day the ropes go up (F3 and N2 a day later than the rest). */
@@ -47,39 +58,6 @@ export const TAMSIN_RIDGE_ROUNDS = ['2026-08-05', '2026-08-26', '2026-09-16', '2
 /** The demo's "today": after the last results, before the next round is due. */
 export const DEMO_TODAY = '2026-10-31T08:00:00.000Z';
 
-/** PRRSV ground truth in Hollow Creek barn F1, by round index: the infected pens. */
-const F1_INFECTED: readonly (readonly string[])[] = [
-  [],
-  [],
-  ['A6'],
-  ['A5', 'A6', 'A7', 'B6'],
-  ['A4', 'A5', 'A6', 'A7', 'A8', 'B5', 'B6', 'B7'],
-  ['A3', 'A4', 'A5', 'A6', 'A7', 'A8', 'A9', 'B4', 'B5', 'B6', 'B7', 'B8'],
-  ['A2', 'A3', 'A4', 'A5', 'A6', 'A7', 'A8', 'A9', 'A11', 'B3', 'B4', 'B5', 'B6', 'B7', 'B8', 'B9'],
-];
-
-/** Mean Ct of an infected pen's oral fluid by rounds since infection (load peaks, then wanes). */
-const CT_BY_AGE = [31.5, 26.5, 25.0, 27.5, 30.5];
-/** Probability that the rope of an infected pen comes back positive (finisher pigs). */
-const DEMO_ROPE_SENSITIVITY = 0.85;
-
-function infectedAge(barnId: string, penId: string, roundIndex: number): number | undefined {
-  if (barnId !== 'F1') return undefined;
-  if (!F1_INFECTED[roundIndex]?.includes(penId)) return undefined;
-  let first = roundIndex;
-  while (first > 0 && F1_INFECTED[first - 1]!.includes(penId)) first--;
-  return roundIndex - first;
-}
-
-function gaussian(rng: Rng): number {
-  // Box-Muller; 1 - u keeps the logarithm finite.
-  const u = 1 - rng();
-  const v = rng();
-  return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
-}
-
-const round1 = (value: number) => Math.round(value * 10) / 10;
-
 /** The farm's own rope list: every third pen in use, alternating sides, moving one pen each round. */
 export function farmRopes(barn: Barn, roundIndex: number, every: number, label: (n: number) => string): RopeChoice[] {
   const inUse = barn.pens.filter((pen) => pen.status === 'in-use');
@@ -89,196 +67,11 @@ export function farmRopes(barn: Barn, roundIndex: number, every: number, label: 
   return chosen.map((pen, index) => ({ sampleId: label(index + 1), barnId: barn.id, penId: pen.id }));
 }
 
-function csvCell(value: string): string {
-  return /[",;\n]/.test(value) ? `"${value.replace(/"/g, '""')}"` : value;
-}
-
-interface LabRow {
-  sampleId: string;
-  assay: 'PRRSV' | 'IAV';
-  ct: number | null;
-  controlFailed?: boolean;
-  status?: string;
-  collectedOn: string;
-}
-
-/** An antibody ELISA row: the S/P ratio of the rope's oral fluid. */
-interface ElisaRow {
-  sampleId: string;
-  assay: 'PRRSV-AB';
-  sp: number;
-  collectedOn: string;
-}
-
-/** The S/P at or above which Northfield calls its PRRSV oral-fluid ELISA positive (its demo profile). */
-const NORTHFIELD_SP_POSITIVE = 0.4;
-
-/** The header of the (invented) Northfield lab export, as src/demo/config/labs/northfield.yaml names it. */
-export const NORTHFIELD_HEADER = [
-  'Case No',
-  'Sample ID',
-  'Test Name',
-  'Ct Value',
-  'Interpretation',
-  'Internal Control',
-  'Collection Date',
-  'Report Date',
-  'Report Status',
-];
-
-/**
- * Northfield's cells for each row, and its numeric result as a number (null when the cell says
- * something else). The lab has one export template: an ELISA's S/P ratio comes in the same
- * numeric column as a Ct, and an ELISA has no internal control (the cell is left blank).
- */
-function northfieldCells(
-  rows: readonly (LabRow | ElisaRow)[],
-  reportedOn: string,
-  firstCase: number,
-): { cells: string[]; ct: number | null }[] {
-  const testName = {
-    PRRSV: 'PRRSV NA/EU RT-PCR',
-    IAV: 'Influenza A Matrix RT-PCR',
-    'PRRSV-AB': 'PRRSV Oral Fluid Antibody ELISA',
-  } as const;
-  const positiveBelow = { PRRSV: 36, IAV: 38 } as const;
-  return rows.map((row, index) => {
-    const elisa = row.assay === 'PRRSV-AB';
-    const call =
-      row.assay === 'PRRSV-AB'
-        ? row.sp >= NORTHFIELD_SP_POSITIVE
-          ? 'Positive'
-          : 'Negative'
-        : row.controlFailed
-          ? 'Invalid'
-          : row.ct === null
-            ? 'Negative'
-            : row.ct < positiveBelow[row.assay]
-              ? 'Positive'
-              : 'Suspect';
-    const value =
-      row.assay === 'PRRSV-AB'
-        ? row.sp.toFixed(2)
-        : row.controlFailed
-          ? ''
-          : row.ct === null
-            ? 'Undetermined'
-            : row.ct.toFixed(2);
-    const numeric = row.assay === 'PRRSV-AB' ? Number(row.sp.toFixed(2)) : row.controlFailed ? null : row.ct;
-    const control = row.assay === 'PRRSV-AB' ? '' : row.controlFailed ? 'FAIL' : 'PASS';
-    const status = row.assay === 'PRRSV-AB' ? undefined : row.status;
-    return {
-      ct: numeric,
-      cells: [
-        `NV26-${String(firstCase + Math.floor(index / (elisa ? 1 : 2))).padStart(5, '0')}`,
-        row.sampleId,
-        testName[row.assay],
-        value,
-        call,
-        control,
-        row.collectedOn,
-        reportedOn,
-        status ?? 'Final',
-      ],
-    };
-  });
-}
-
-/** A Northfield export: comma-separated UTF-8, ISO dates, "Undetermined" for no signal. */
-export function northfieldExport(rows: readonly (LabRow | ElisaRow)[], reportedOn: string, firstCase: number): Buffer {
-  const lines = [NORTHFIELD_HEADER.join(',')];
-  for (const { cells } of northfieldCells(rows, reportedOn, firstCase)) lines.push(cells.map(csvCell).join(','));
-  return Buffer.from(lines.join('\n') + '\n', 'utf8');
-}
-
-/**
- * The same export as a Northfield workbook: sheet "Results", a title and a blank row above the
- * header (the demo profile's workbook.headerRow: 3), Ct values as numbers, dates as date cells.
- * `at` is the moment it was saved: the same rows and moment give the same bytes.
- */
-export async function northfieldWorkbook(
-  rows: readonly LabRow[],
-  reportedOn: string,
-  firstCase: number,
-  at: string,
-): Promise<Buffer> {
-  const dateCell = (iso: string) => parseISO(`${iso}T00:00:00Z`);
-  const body = northfieldCells(rows, reportedOn, firstCase).map(({ cells, ct }) =>
-    cells.map((cell, column) =>
-      column === 3 && ct !== null ? ct : column === 6 || column === 7 ? dateCell(cell) : cell === '' ? null : cell,
-    ),
-  );
-  return demoWorkbook(
-    [
-      {
-        name: 'Results',
-        rows: [[`Results report ${reportedOn} (invented)`], [], NORTHFIELD_HEADER, ...body],
-        dateColumns: [7, 8],
-        widths: [12, 26, 26, 10, 14, 16, 16, 14, 14],
-      },
-    ],
-    parseISO(at),
-    'Northfield Veterinary Diagnostic Laboratory (invented)',
-  );
-}
-
-/** An Ostermark export: a title line, semicolons, decimal commas, dd.MM.yyyy, Latin-1, CRLF, 0 for no signal. */
-export function ostermarkExport(rows: readonly LabRow[], reportedOn: string, order: string): Buffer {
-  const test = { PRRSV: 'PRRSV RT-qPCR', IAV: 'Influenza A RT-qPCR' } as const;
-  const day = (iso: string) => format(parseISO(iso), 'dd.MM.yyyy');
-  const lines = ['Befundübersicht Oralflüssigkeiten', 'Auftrag;Probe;Untersuchung;Ct;Befund;IK;Entnahme;Befunddatum'];
-  for (const row of rows) {
-    const befund = row.controlFailed ? 'ungültig' : row.ct === null ? 'negativ' : 'positiv';
-    const ct = row.controlFailed ? '' : row.ct === null ? '0' : row.ct.toFixed(1).replace('.', ',');
-    lines.push(
-      [
-        order,
-        row.sampleId,
-        test[row.assay],
-        ct,
-        befund,
-        row.controlFailed ? 'fehlerhaft' : 'ok',
-        day(row.collectedOn),
-        day(reportedOn),
-      ].join(';'),
-    );
-  }
-  return Buffer.from(lines.join('\r\n') + '\r\n', 'latin1');
-}
-
-/** A rope sheet in ropewatch's own layout. */
-export function ropeSheet(
-  site: Site,
-  ropes: readonly (RopeChoice & { hungOn: string })[],
-  notes: Record<string, string> = {},
-): Buffer {
-  const lines = ['sample_id,site,barn,pen,hung_on,notes'];
-  for (const rope of ropes)
-    lines.push(
-      [rope.sampleId, site.id, rope.barnId, rope.penId, rope.hungOn, notes[rope.sampleId] ?? ''].map(csvCell).join(','),
-    );
-  return Buffer.from(lines.join('\n') + '\n', 'utf8');
-}
-
 const at = (date: string, hour: number) => `${date}T${String(hour).padStart(2, '0')}:00:00.000Z`;
 const plus = (date: string, days: number) => format(addDays(parseISO(date), days), 'yyyy-MM-dd');
 
 /** Hollow Creek rounds (0-based) whose ropes also go to the PRRSV antibody ELISA: about every four weeks. */
 export const HOLLOW_CREEK_ELISA_ROUNDS: readonly number[] = [1, 3, 5];
-/** Mean S/P of an infected pen's oral fluid by rounds since infection: none in the first round, then rising. */
-const SP_BY_AGE = [null, 0.9, 1.6, 2.0] as const;
-/** Probability that the rope of a pen with antibody comes back antibody positive. */
-const DEMO_ANTIBODY_SENSITIVITY = 0.9;
-
-/** What the ELISA would read on one rope: background without antibody, rising after infection. */
-function measureSp(rng: Rng, barnId: string, penId: string, roundIndex: number): number {
-  const background = () => Math.round(Math.min(0.3, Math.max(-0.05, 0.06 + 0.05 * gaussian(rng))) * 100) / 100;
-  const age = infectedAge(barnId, penId, roundIndex);
-  const mean = age === undefined ? null : SP_BY_AGE[Math.min(age, SP_BY_AGE.length - 1)]!;
-  if (mean === null || rng() >= DEMO_ANTIBODY_SENSITIVITY) return background();
-  return Math.round(Math.max(0.45, mean + 0.25 * gaussian(rng)) * 100) / 100;
-}
-
 /**
  * The ELISA rows of one Hollow Creek round, drawn from the ground truth with a generator of its
  * own (the PCR draws stay as they are). Round 2 carries the two cases a newcomer should see: an
@@ -305,14 +98,112 @@ function elisaRows(ropes: readonly (RopeChoice & { hungOn: string })[], roundInd
   return rows;
 }
 
-/** What a lab would measure on one rope, from the ground truth. */
-function measure(rng: Rng, barnId: string, penId: string, roundIndex: number): number | null {
-  const age = infectedAge(barnId, penId, roundIndex);
-  if (age === undefined) return null;
-  if (rng() >= DEMO_ROPE_SENSITIVITY) return null;
-  return round1(
-    Math.min(39, Math.max(18, (CT_BY_AGE[Math.min(age, CT_BY_AGE.length - 1)] ?? 31) + 1.2 * gaussian(rng))),
-  );
+type HungRope = RopeChoice & { hungOn: string };
+
+/**
+ * The ropes hung in each barn: the plan's tubes when there is a plan, else the farm's own choice
+ * and labels. Round 6: the F3 crew wrote their own labels (and sent the sheet late).
+ */
+function hollowCreekRopes(site: Site, date: string, roundIndex: number, planned: readonly RopeChoice[]): HungRope[] {
+  const mmdd = date.slice(5).replace('-', '');
+  const hung: HungRope[] = [];
+  for (const barn of site.barns) {
+    const hungOn = barn.id === 'F3' ? plus(date, 1) : date;
+    const usePlan = planned.length > 0 && !(roundIndex === 5 && barn.id === 'F3');
+    const choice = usePlan
+      ? planned.filter((rope) => rope.barnId === barn.id)
+      : farmRopes(barn, roundIndex, 3, (n) => `HC-${mmdd}-${barn.id}-${String(n).padStart(2, '0')}`);
+    for (const rope of choice) hung.push({ ...rope, hungOn });
+  }
+  return hung;
+}
+
+/**
+ * What the lab measures on the ropes that came back, PRRSV and IAV, from the ground truth. Round
+ * 4: one stray suspect in F3, never seen again (a high Ct in a dirty matrix). Round 5: the first
+ * F1 positive comes back as an internal-control failure, then is reissued (`reissue`).
+ */
+function hollowCreekPcr(
+  rng: Rng,
+  hung: readonly HungRope[],
+  lost: HungRope | undefined,
+  roundIndex: number,
+): { prrsv: LabRow[]; iav: LabRow[]; reissue: LabRow | undefined } {
+  const prrsv: LabRow[] = [];
+  const iav: LabRow[] = [];
+  for (const rope of hung) {
+    if (rope === lost) continue;
+    let ct = measure(rng, rope.barnId, rope.penId, roundIndex);
+    if (
+      roundIndex === 3 &&
+      rope.barnId === 'F3' &&
+      ct === null &&
+      !prrsv.some((row) => row.ct !== null && row.sampleId.includes('F3'))
+    ) {
+      const f3 = hung.filter((candidate) => candidate.barnId === 'F3');
+      if (rope === f3[Math.floor(f3.length / 2)]) ct = 36.8;
+    }
+    prrsv.push({ sampleId: rope.sampleId, assay: 'PRRSV', ct, collectedOn: rope.hungOn });
+    iav.push({ sampleId: rope.sampleId, assay: 'IAV', ct: null, collectedOn: rope.hungOn });
+  }
+  let reissue: LabRow | undefined;
+  if (roundIndex === 4) {
+    const target = prrsv.find(
+      (row) => row.ct !== null && hung.find((rope) => rope.sampleId === row.sampleId)?.barnId === 'F1',
+    );
+    if (target) {
+      reissue = { ...target, status: 'Corrected' };
+      target.ct = null;
+      target.controlFailed = true;
+    }
+  }
+  return { prrsv, iav, reissue };
+}
+
+/**
+ * The PCR result files of a round: the last round as the lab's Excel workbook, even rounds as
+ * one export, odd rounds as two files the same day.
+ */
+async function hollowCreekResults(
+  prrsv: readonly LabRow[],
+  iav: readonly LabRow[],
+  reported: string,
+  roundIndex: number,
+): Promise<DemoDrop[]> {
+  if (roundIndex === HOLLOW_CREEK_ROUNDS.length - 1) {
+    return [
+      {
+        at: at(reported, 14),
+        name: `nvdl_results_${reported}.xlsx`,
+        bytes: await northfieldWorkbook([...prrsv, ...iav], reported, 1000 + roundIndex * 100, at(reported, 13)),
+        note: 'PRRSV and influenza results as an Excel workbook: sheet "Results", header on row 3',
+      },
+    ];
+  }
+  if (roundIndex % 2 === 0) {
+    return [
+      {
+        at: at(reported, 14),
+        name: `nvdl_results_${reported}.csv`,
+        bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100),
+        note: 'PRRSV and influenza results in one export',
+      },
+    ];
+  }
+  return [
+    {
+      at: at(reported, 11),
+      name: `nvdl_prrsv_${reported}.csv`,
+      bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100),
+      note: 'PRRSV results',
+    },
+    {
+      at: at(reported, 15),
+      name: `nvdl_influenza_${reported}.csv`,
+      bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100),
+      note: 'influenza results, a second file the same day',
+    },
+  ];
 }
 
 /**
@@ -327,18 +218,8 @@ export async function hollowCreekRound(
   const site = config.siteById.get('HOLLOW-CREEK')!;
   const date = HOLLOW_CREEK_ROUNDS[roundIndex]!;
   const rng = seededRng(deriveSeed(DEMO_SEED, 'hollow-creek', roundIndex));
-  const mmdd = date.slice(5).replace('-', '');
   const drops: DemoDrop[] = [];
-  const hung: (RopeChoice & { hungOn: string })[] = [];
-  for (const barn of site.barns) {
-    const hungOn = barn.id === 'F3' ? plus(date, 1) : date;
-    // Round 6: the F3 crew wrote their own labels and sent the sheet late (results came first).
-    const usePlan = planned.length > 0 && !(roundIndex === 5 && barn.id === 'F3');
-    const choice = usePlan
-      ? planned.filter((rope) => rope.barnId === barn.id)
-      : farmRopes(barn, roundIndex, 3, (n) => `HC-${mmdd}-${barn.id}-${String(n).padStart(2, '0')}`);
-    for (const rope of choice) hung.push({ ...rope, hungOn });
-  }
+  const hung = hollowCreekRopes(site, date, roundIndex, planned);
   const fromSheet = hung.filter((rope) => rope.sampleId.startsWith('HC-'));
   const late = roundIndex === 5;
   const onTimeSheet = late ? fromSheet.filter((rope) => rope.barnId !== 'F3') : fromSheet;
@@ -350,73 +231,14 @@ export async function hollowCreekRound(
       note: 'rope sheet from the barn staff',
     });
   }
-
   // One planned tube breaks in transit in the first planned round: it never comes back.
   const lost =
     planned.length > 0 && roundIndex === 3
       ? hung.find((rope) => !rope.sampleId.startsWith('HC-') && rope.barnId === 'F2')
       : undefined;
-  const prrsv: LabRow[] = [];
-  const iav: LabRow[] = [];
-  for (const rope of hung) {
-    if (rope === lost) continue;
-    let ct = measure(rng, rope.barnId, rope.penId, roundIndex);
-    // Round 4: one stray suspect in F3, never seen again (a high Ct in a dirty matrix).
-    if (
-      roundIndex === 3 &&
-      rope.barnId === 'F3' &&
-      ct === null &&
-      !prrsv.some((row) => row.ct !== null && row.sampleId.includes('F3'))
-    ) {
-      const f3 = hung.filter((candidate) => candidate.barnId === 'F3');
-      if (rope === f3[Math.floor(f3.length / 2)]) ct = 36.8;
-    }
-    prrsv.push({ sampleId: rope.sampleId, assay: 'PRRSV', ct, collectedOn: rope.hungOn });
-    iav.push({ sampleId: rope.sampleId, assay: 'IAV', ct: null, collectedOn: rope.hungOn });
-  }
-
-  // Round 5: the first F1 positive comes back as an internal-control failure, then is reissued.
-  let reissue: LabRow | undefined;
-  if (roundIndex === 4) {
-    const target = prrsv.find(
-      (row) => row.ct !== null && hung.find((rope) => rope.sampleId === row.sampleId)?.barnId === 'F1',
-    );
-    if (target) {
-      reissue = { ...target, status: 'Corrected' };
-      target.ct = null;
-      target.controlFailed = true;
-    }
-  }
+  const { prrsv, iav, reissue } = hollowCreekPcr(rng, hung, lost, roundIndex);
   const reported = plus(date, 3);
-  if (roundIndex === HOLLOW_CREEK_ROUNDS.length - 1) {
-    // The last round's results come as the lab's Excel workbook.
-    drops.push({
-      at: at(reported, 14),
-      name: `nvdl_results_${reported}.xlsx`,
-      bytes: await northfieldWorkbook([...prrsv, ...iav], reported, 1000 + roundIndex * 100, at(reported, 13)),
-      note: 'PRRSV and influenza results as an Excel workbook: sheet "Results", header on row 3',
-    });
-  } else if (roundIndex % 2 === 0) {
-    drops.push({
-      at: at(reported, 14),
-      name: `nvdl_results_${reported}.csv`,
-      bytes: northfieldExport([...prrsv, ...iav], reported, 1000 + roundIndex * 100),
-      note: 'PRRSV and influenza results in one export',
-    });
-  } else {
-    drops.push({
-      at: at(reported, 11),
-      name: `nvdl_prrsv_${reported}.csv`,
-      bytes: northfieldExport(prrsv, reported, 1000 + roundIndex * 100),
-      note: 'PRRSV results',
-    });
-    drops.push({
-      at: at(reported, 15),
-      name: `nvdl_influenza_${reported}.csv`,
-      bytes: northfieldExport(iav, reported, 1050 + roundIndex * 100),
-      note: 'influenza results, a second file the same day',
-    });
-  }
+  drops.push(...(await hollowCreekResults(prrsv, iav, reported, roundIndex)));
   if (HOLLOW_CREEK_ELISA_ROUNDS.includes(roundIndex)) {
     const tested = hung.filter((rope) => rope !== lost);
     drops.push({

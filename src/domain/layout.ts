@@ -65,6 +65,19 @@ export interface PenContacts {
   diagonal: [string, string][];
 }
 
+/** True when the pen holds pigs now: an empty or out-of-use pen holds none, nor a pen not in the layout. */
+export function isInUse(pen: Pick<Pen, 'status'> | undefined): boolean {
+  return pen?.status === 'in-use';
+}
+
+/**
+ * The pens that hold pigs now, in their order: empty and out-of-use pens are no part of the
+ * sampling frame nor of the spatial lattice.
+ */
+export function inUsePens<T extends Pick<Pen, 'status'>>(pens: readonly T[]): T[] {
+  return pens.filter(isInUse);
+}
+
 function penNumber(layout: BarnLayout, row: number, position: number): number {
   const perRow = layout.pensPerRow;
   switch (layout.numbering) {

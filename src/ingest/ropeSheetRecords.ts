@@ -4,6 +4,7 @@
  */
 import type { Barn, Site } from '../config/types.js';
 import { canonicalPenKey, type Pen } from '../domain/layout.js';
+import { findSite } from '../config/names.js';
 import { foldToken } from '../util/fold.js';
 import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
 import { normaliseSampleId, parseDateCell, type PlannedIdCheck } from './recordCells.js';
@@ -40,13 +41,6 @@ function refuseColumn(
     ok: false,
     rejection: rowRejection({ code, line, field: context.columnNames?.get(column) ?? column, value, detail }),
   };
-}
-
-function findSite(sites: readonly Site[], text: string): Site | undefined {
-  const folded = foldToken(text);
-  return sites.find(
-    (site) => foldToken(site.id) === folded || foldToken(site.code) === folded || foldToken(site.name) === folded,
-  );
 }
 
 /** The site, barn and pen a record names, each by the sheet's text. */

@@ -7,6 +7,7 @@
  */
 import type { Assay, LabAssay, LoadBand, SpLoadBand } from '../config/types.js';
 import type { CtReading } from './ct.js';
+import { loadScore } from './load.js';
 import type { SpReading } from './sp.js';
 
 /** A result cell as read: a Ct reading (readCt) or an S/P reading (readSp). */
@@ -83,63 +84,69 @@ export function classify(
       return { resultClass: 'invalid', reason: reading.detail, loadBand: undefined, load: 0 };
     case 'not-detected':
       return { resultClass: 'negative', reason: reading.reason, loadBand: undefined, load: 0 };
-    case 'sp': {
-      if (cutoffs.measure !== 'sp-ratio' || assay.measure !== 'sp-ratio')
-        throw new RangeError(`an S/P reading needs an S/P assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
-      const { sp } = reading;
-      const load = Math.max(0, sp);
-      const band = spBandOf(sp, assay.loadBands);
-      if (sp >= cutoffs.positiveAtOrAbove) {
-        return {
-          resultClass: 'positive',
-          reason: `S/P ${sp} at or above the positive cutoff ${cutoffs.positiveAtOrAbove}: antibody found (exposure, not necessarily current infection)`,
-          loadBand: band,
-          load,
-        };
-      }
-      if (cutoffs.suspectAtOrAbove !== undefined && sp >= cutoffs.suspectAtOrAbove) {
-        return {
-          resultClass: 'suspect',
-          reason: `S/P ${sp} in the suspect band [${cutoffs.suspectAtOrAbove}, ${cutoffs.positiveAtOrAbove}): retest advised`,
-          loadBand: band,
-          load,
-        };
-      }
-      return {
-        resultClass: 'negative',
-        reason: `S/P ${sp} below the ${cutoffs.suspectAtOrAbove !== undefined ? 'suspect' : 'positive'} cutoff ${cutoffs.suspectAtOrAbove ?? cutoffs.positiveAtOrAbove}: no antibody found`,
-        loadBand: band,
-        load,
-      };
-    }
-    case 'detected': {
-      if (cutoffs.measure !== 'ct' || assay.measure !== 'ct')
-        throw new RangeError(`a Ct reading needs a Ct assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
-      const { ct } = reading;
-      const load = Math.max(0, cutoffs.cycleLimit - ct);
-      const band = loadBandOf(ct, assay.loadBands);
-      if (ct < cutoffs.positiveBelow) {
-        return {
-          resultClass: 'positive',
-          reason: `Ct ${ct} below the positive cutoff ${cutoffs.positiveBelow}`,
-          loadBand: band,
-          load,
-        };
-      }
-      if (ct < cutoffs.suspectBelow) {
-        return {
-          resultClass: 'suspect',
-          reason: `Ct ${ct} in the suspect band [${cutoffs.positiveBelow}, ${cutoffs.suspectBelow}): retest advised`,
-          loadBand: band,
-          load,
-        };
-      }
-      return {
-        resultClass: 'negative',
-        reason: `late signal Ct ${ct} at or above ${cutoffs.suspectBelow}: read as negative`,
-        loadBand: band,
-        load,
-      };
-    }
+    case 'sp':
+      return classifySp(reading.sp, cutoffs, assay);
+    case 'detected':
+      return classifyCt(reading.ct, cutoffs, assay);
   }
+}
+
+/** An S/P reading: positive at or above the positive cutoff, suspect in the band under it. */
+function classifySp(sp: number, cutoffs: LabAssay, assay: Assay): Interpretation {
+  if (cutoffs.measure !== 'sp-ratio' || assay.measure !== 'sp-ratio')
+    throw new RangeError(`an S/P reading needs an S/P assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
+  const load = loadScore({ measure: 'sp-ratio', ct: null, sp, cycleLimit: null, invalid: false });
+  const band = spBandOf(sp, assay.loadBands);
+  if (sp >= cutoffs.positiveAtOrAbove) {
+    return {
+      resultClass: 'positive',
+      reason: `S/P ${sp} at or above the positive cutoff ${cutoffs.positiveAtOrAbove}: antibody found (exposure, not necessarily current infection)`,
+      loadBand: band,
+      load,
+    };
+  }
+  if (cutoffs.suspectAtOrAbove !== undefined && sp >= cutoffs.suspectAtOrAbove) {
+    return {
+      resultClass: 'suspect',
+      reason: `S/P ${sp} in the suspect band [${cutoffs.suspectAtOrAbove}, ${cutoffs.positiveAtOrAbove}): retest advised`,
+      loadBand: band,
+      load,
+    };
+  }
+  return {
+    resultClass: 'negative',
+    reason: `S/P ${sp} below the ${cutoffs.suspectAtOrAbove !== undefined ? 'suspect' : 'positive'} cutoff ${cutoffs.suspectAtOrAbove ?? cutoffs.positiveAtOrAbove}: no antibody found`,
+    loadBand: band,
+    load,
+  };
+}
+
+/** A detected Ct: positive below the positive cutoff, suspect below the suspect cutoff, else a late signal read as negative. */
+function classifyCt(ct: number, cutoffs: LabAssay, assay: Assay): Interpretation {
+  if (cutoffs.measure !== 'ct' || assay.measure !== 'ct')
+    throw new RangeError(`a Ct reading needs a Ct assay; ${cutoffs.assayId} has measure ${cutoffs.measure}`);
+  const load = loadScore({ measure: 'ct', ct, sp: null, cycleLimit: cutoffs.cycleLimit, invalid: false });
+  const band = loadBandOf(ct, assay.loadBands);
+  if (ct < cutoffs.positiveBelow) {
+    return {
+      resultClass: 'positive',
+      reason: `Ct ${ct} below the positive cutoff ${cutoffs.positiveBelow}`,
+      loadBand: band,
+      load,
+    };
+  }
+  if (ct < cutoffs.suspectBelow) {
+    return {
+      resultClass: 'suspect',
+      reason: `Ct ${ct} in the suspect band [${cutoffs.positiveBelow}, ${cutoffs.suspectBelow}): retest advised`,
+      loadBand: band,
+      load,
+    };
+  }
+  return {
+    resultClass: 'negative',
+    reason: `late signal Ct ${ct} at or above ${cutoffs.suspectBelow}: read as negative`,
+    loadBand: band,
+    load,
+  };
 }

@@ -22,8 +22,8 @@
  * @see Leskovec J et al. (2007) Cost-effective outbreak detection in networks. KDD (lazy greedy).
  */
 import type { Pen, PenContacts } from '../domain/layout.js';
-import { penDistance } from '../domain/layout.js';
-import { requireInteger, requireNumber, requireProbability } from './checks.js';
+import { isInUse, penDistance } from '../domain/layout.js';
+import { requireInteger, requireNumber, requireReturnedProbability } from '../stats/validate.js';
 
 export type RopeReason = 'retest' | 'follow-up' | 'routine';
 
@@ -114,7 +114,7 @@ export function ringCandidates(
   const order = new Map(pens.map((p, i) => [p.id, i]));
   const ring: RingCandidate[] = [];
   for (const pen of pens) {
-    if (pen.status !== 'in-use' || clusterPens.has(pen.id)) continue;
+    if (!isInUse(pen) || clusterPens.has(pen.id)) continue;
     const distance = Math.min(...sources.map((s) => penDistance(s, pen)));
     const contact = tier.get(pen.id);
     if (contact !== undefined) ring.push({ penId: pen.id, tier: contact, distance });
@@ -143,14 +143,14 @@ export function lazyGreedy(
 ): string[] {
   requireInteger('k', k, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   const chosen: string[] = [];
-  let current = requireProbability('detectSet', f(base));
+  let current = requireReturnedProbability('detectSet', f(base));
   const entries = candidates.map((id, index) => ({ id, index, bound: Infinity, stamp: -1 }));
   while (chosen.length < k && entries.length > 0) {
     for (;;) {
       entries.sort((a, b) => b.bound - a.bound || a.index - b.index);
       const top = entries[0]!;
       if (top.stamp === chosen.length) break;
-      top.bound = requireProbability('detectSet', f([...base, ...chosen, top.id])) - current;
+      top.bound = requireReturnedProbability('detectSet', f([...base, ...chosen, top.id])) - current;
       top.stamp = chosen.length;
     }
     const top = entries.shift()!;
@@ -170,7 +170,7 @@ export function lazyGreedy(
 export function planFollowUp(input: FollowUpInput): FollowUpPlan {
   const byId = new Map(input.pens.map((p) => [p.id, p]));
   for (const id of input.routine) {
-    if (byId.get(id)?.status !== 'in-use') {
+    if (!isInUse(byId.get(id))) {
       throw new RangeError(`\`routine\` must name in-use pens of the barn, got ${JSON.stringify(id)}`);
     }
   }
@@ -181,7 +181,7 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
   for (const id of input.retest) {
     const pen = byId.get(id);
     if (!pen) throw new RangeError(`\`retest\` must name pens of the barn, got ${JSON.stringify(id)}`);
-    if (pen.status !== 'in-use') notes.push(`Pen ${id} is ${pen.status} now; its retest rope cannot be hung.`);
+    if (!isInUse(pen)) notes.push(`Pen ${id} is ${pen.status} now; its retest rope cannot be hung.`);
     else retest.add(id);
   }
   const routine = new Set(input.routine);
@@ -206,7 +206,7 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
     if (reason) ropes.push({ penId: pen.id, reason });
   }
   const detection = input.detectSet
-    ? requireProbability('detectSet', input.detectSet(ropes.map((r) => r.penId)))
+    ? requireReturnedProbability('detectSet', input.detectSet(ropes.map((r) => r.penId)))
     : null;
   return { ropes, ring, added, detection, notes };
 }

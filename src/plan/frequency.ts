@@ -3,7 +3,7 @@
  * round on time is worth against a missed one, in probability of freedom (Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97).
  */
 import { addDays, differenceInCalendarDays, format, isValid, parseISO } from 'date-fns';
-import { requireNumber } from './checks.js';
+import { requireNumber } from '../stats/validate.js';
 import { formatPercent } from '../util/format.js';
 
 function parseDay(name: string, text: string): Date {

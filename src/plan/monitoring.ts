@@ -20,9 +20,9 @@
  * Pure.
  * @see Cochran WG (1977) Sampling Techniques, ch. 8 (systematic sampling).
  */
-import type { Pen, PenContacts } from '../domain/layout.js';
+import { inUsePens, type Pen, type PenContacts } from '../domain/layout.js';
 import type { SiteRound } from '../rounds/roundModel.js';
-import { requireInteger } from './checks.js';
+import { requireInteger } from '../stats/validate.js';
 import { planFollowUp, type RopeReason } from './followUp.js';
 import { placeSystematic } from './placement.js';
 
@@ -145,12 +145,12 @@ export function pensToReRope(
  */
 export function monitoringBaseRopes(pens: readonly Pen[], reRope: readonly string[], trackingRopes: number): number {
   requireInteger('trackingRopes', trackingRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const inUse = new Set(pens.filter((pen) => pen.status === 'in-use').map((pen) => pen.id));
+  const inUse = new Set(inUsePens(pens).map((pen) => pen.id));
   return new Set([...reRope.filter((id) => inUse.has(id)), ...trackingPlacement(pens, trackingRopes).penIds]).size;
 }
 
 /** The fixed tracking set: evenly spaced with the rotation held still (round 0), so the same pens every round. */
 function trackingPlacement(pens: readonly Pen[], trackingRopes: number): ReturnType<typeof placeSystematic> {
-  const inUse = pens.filter((pen) => pen.status === 'in-use').length;
+  const inUse = inUsePens(pens).length;
   return placeSystematic(pens, { ropes: Math.min(trackingRopes, inUse), roundIndex: 0 });
 }

@@ -30,8 +30,8 @@
  * @see Cochran WG (1977) Sampling Techniques, 3rd ed., ch. 8 (systematic sampling).
  */
 import type { Pen } from '../domain/layout.js';
-import { penDistance } from '../domain/layout.js';
-import { requireInteger } from './checks.js';
+import { inUsePens, isInUse, penDistance } from '../domain/layout.js';
+import { requireInteger } from '../stats/validate.js';
 
 export interface PlacedRope {
   penId: string;
@@ -101,7 +101,7 @@ function buildGrid(pens: readonly Pen[]): Grid {
   }
   return {
     pens,
-    inUse: pens.filter((p) => p.status === 'in-use'),
+    inUse: inUsePens(pens),
     rows,
     positions,
     at: (row, position) => slots.get(`${row}:${position}`)!,
@@ -126,7 +126,7 @@ function placeAtPhase(grid: Grid, ropes: number, phase: number): PlacedRope[] {
   const taken = new Set<string>();
   const chosen: (Pen | undefined)[] = targets.map((t) => {
     const pen = grid.at(t.row, t.position);
-    if (pen.status !== 'in-use') return undefined;
+    if (!isInUse(pen)) return undefined;
     taken.add(pen.id);
     return pen;
   });
@@ -184,7 +184,7 @@ export function placementDistances(
     if (!pen) throw new RangeError(`\`penIds\` must name pens of the barn, got ${JSON.stringify(id)}`);
     return pen;
   });
-  const inUse = pens.filter((p) => p.status === 'in-use');
+  const inUse = inUsePens(pens);
   if (roped.length === 0 || inUse.length === 0) return { coveringRadius: null, meanDistance: null };
   let radius = 0;
   let total = 0;

@@ -9,7 +9,7 @@
  * whole plan in that order, skipping any sequence whose check character would be I, O or L.
  */
 import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/layout.js';
-import { requireInteger } from './checks.js';
+import { requireInteger } from '../stats/validate.js';
 import { planFollowUp } from './followUp.js';
 import { planMonitoredBarn, type PlanReason } from './monitoring.js';
 import { coverageRounds, placeSystematic, placementDistances } from './placement.js';

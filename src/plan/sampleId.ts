@@ -26,7 +26,7 @@
  * `JI0R4RUE` and `IJ0R4RUE` share a check character), so it cannot promise that a swap is caught.
  * @see ISO/IEC 7064:2003, Information technology - Security techniques - Check character systems.
  */
-import { requireInteger } from './checks.js';
+import { requireInteger } from '../stats/validate.js';
 
 /** The 37 character values of ISO/IEC 7064 MOD 37-2: 0-9 = 0..9, A-Z = 10..35, '*' = 36. */
 const MOD37_ALPHABET = '0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ*';

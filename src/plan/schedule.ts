@@ -4,7 +4,7 @@
  * sampling often is timeliness while an infection grows (common practice, no source).
  */
 import type { Rng } from '../util/random.js';
-import { requireInteger, requireNumber, requireProbability } from './checks.js';
+import { requireInteger, requireNumber, requireReturnedProbability } from '../stats/validate.js';
 
 /**
  * Expected delay to detection with rounds every D days and per-round detection p, for an
@@ -95,7 +95,7 @@ function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): string[
 export function compareSchedules(input: ScheduleInput): { options: ScheduleOption[]; notes: string[] } {
   validateSchedule(input);
   const options = scheduleShapes(input).map((shape) => {
-    const p = requireProbability('detect', input.detect(shape.ropes));
+    const p = requireReturnedProbability('detect', input.detect(shape.ropes));
     return {
       ...shape,
       ropesPer30Days: (shape.ropes * 30) / shape.intervalDays,
@@ -166,7 +166,7 @@ export function simulateDelay(
   const detect = (infected: number) => {
     let p = cache.get(infected);
     if (p === undefined) {
-      p = requireProbability('detectAt', model.detectAt(schedule.ropes, infected));
+      p = requireReturnedProbability('detectAt', model.detectAt(schedule.ropes, infected));
       cache.set(infected, p);
     }
     return p;

@@ -4,7 +4,8 @@
  * target in one round. The detection model is injected (`detect(ropes)`), so these kernels work
  * with the hypergeometric, the imperfect-rope or the binomial model alike.
  */
-import { requireInteger, requireNumber, requireProbability, TARGET_SLACK } from './checks.js';
+import { requireInteger, requireNumber, requireReturnedProbability, TARGET_SLACK } from '../stats/validate.js';
+import { roundsToReach } from '../stats/sampleSize.js';
 import { formatPercent } from '../util/format.js';
 
 /** Detection probability of one round with `ropes` ropes; must be non-decreasing in `ropes`. */
@@ -26,33 +27,8 @@ export interface Unreachable {
   message: string;
 }
 
-/**
- * Rounds needed to reach a cumulative detection target when each round detects with
- * probability `perRound`, independently: the smallest k with 1 - (1 - perRound)^k >= target
- * (Martin, Cameron & Greiner 2007; with one infected pen the ceiling is Se, Cameron & Baldock 1998). Computed from the logarithm and then confirmed by counting, with a
- * slack of 1e-12 so that an exact decimal target such as 0.99 is not missed by rounding.
- * @param perRound per-round detection in [0, 1]
- * @param target cumulative target in (0, 1)
- * @returns k >= 1, or null when perRound = 0 (never reached)
- * @throws RangeError when perRound is outside [0, 1] or target outside (0, 1)
- * @see Martin PAJ, Cameron AR, Greiner M (2007) Demonstrating freedom from disease using
- *   multiple complex data sources 1. Prev Vet Med 79:71-97.
- * @example roundsToReach(0.9, 0.95) === 2
- */
-export function roundsToReach(perRound: number, target: number): number | null {
-  requireNumber('perRound', perRound, 0, 1);
-  requireNumber('target', target, 0, 1, { openMin: true, openMax: true });
-  if (perRound === 0) return null;
-  if (perRound >= target - TARGET_SLACK) return 1;
-  const logMiss = Math.log1p(-perRound);
-  let k = Math.max(1, Math.floor(Math.log1p(-target) / logMiss) - 1);
-  // -expm1(k log(1-p)) rather than 1 - (1-p)^k: the same value without cancellation near 1.
-  while (-Math.expm1(k * logMiss) < target - TARGET_SLACK) k++;
-  return k;
-}
-
 function unreachable(ceiling: number, target: number, what: string): Unreachable {
-  const roundsNeeded = roundsToReach(ceiling, target);
+  const roundsNeeded = roundsToReach(target, ceiling);
   const message =
     roundsNeeded === null
       ? `No rope count reaches ${formatPercent(target)} detection: ${what} detects nothing (0%).`
@@ -78,7 +54,7 @@ function unreachable(ceiling: number, target: number, what: string): Unreachable
 export function smallestRopes(detect: DetectFn, target: number, maxRopes: number): Reached | Unreachable {
   requireNumber('target', target, 0, 1, { openMin: true, openMax: true });
   requireInteger('maxRopes', maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const at = (n: number) => requireProbability('detect', detect(n));
+  const at = (n: number) => requireReturnedProbability('detect', detect(n));
   const ceiling = at(maxRopes);
   if (ceiling < target - TARGET_SLACK)
     return unreachable(ceiling, target, `a rope in every one of the ${maxRopes} pens`);
@@ -91,20 +67,6 @@ export function smallestRopes(detect: DetectFn, target: number, maxRopes: number
     else low = mid;
   }
   return { reachable: true, ropes: high, achieved: at(high) };
-}
-
-/**
- * Barn-level detection needed in each of k similar barns for a site target C:
- * 1 - (1 - C)^(1/k) (Martin, Cameron & Greiner 2007).
- * @param siteTarget C in (0, 1); @param barns k, integer >= 1
- * @throws RangeError outside those domains
- * @example barnTargetForSite(0.95, 3) // 0.631597...
- */
-export function barnTargetForSite(siteTarget: number, barns: number): number {
-  requireNumber('siteTarget', siteTarget, 0, 1, { openMin: true, openMax: true });
-  requireInteger('barns', barns, 1, Number.MAX_SAFE_INTEGER, '[1, infinity)');
-  // -expm1(log1p(-C)/k) keeps the digits that 1 - (1-C)^(1/k) loses for small C.
-  return -Math.expm1(Math.log1p(-siteTarget) / barns);
 }
 
 export interface BarnSizing {
@@ -120,11 +82,8 @@ export interface Allocation {
   total: number;
   /** Site detection 1 - prod(1 - p_b(n_b)). */
   siteDetection: number;
-  /**
-   * 'greedy' when every barn's log-miss is convex (greedy is then optimal), else exact DP;
-   * 'balanced' for {@link allocateRopesBalanced} (max-min first, then site detection, both exact DP).
-   */
-  method: 'greedy' | 'dynamic-programming' | 'balanced';
+  /** 'balanced': {@link allocateRopesBalanced} (max-min first, then site detection, both exact DP). */
+  method: 'balanced';
   /** Budget left over because no further rope raises site detection. */
   unused: number;
 }
@@ -132,35 +91,6 @@ export interface Allocation {
 /** log(1 - p), the quantity that adds across barns; -Infinity when p = 1. */
 function logMiss(p: number): number {
   return Math.log1p(-p);
-}
-
-function logMissTable(barn: BarnSizing): number[] {
-  requireInteger(`maxRopes of ${barn.barnId}`, barn.maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  return Array.from({ length: barn.maxRopes + 1 }, (_, n) =>
-    logMiss(requireProbability(`detect of ${barn.barnId}`, barn.detect(n))),
-  );
-}
-
-/** Gain in -log-miss from the (n+1)th rope; 0 once the barn already detects with certainty. */
-function gainAt(table: readonly number[], n: number): number {
-  const before = table[n]!;
-  const after = table[n + 1]!;
-  if (before === -Infinity) return 0;
-  return before - after; // +Infinity when the rope makes detection certain
-}
-
-/**
- * True when a barn's log-miss log(1 - p(n)) is convex in n over [0, maxRopes], i.e. the gain
- * of each further rope never grows (diminishing returns). Under that condition the greedy
- * marginal allocation is optimal (Fox 1966). It holds for the binomial model (log-miss linear in
- * n) but NOT for the finite hypergeometric model, whose miss ratio (N-d-n)/(N-n) shrinks as n
- * grows, so each rope gains more than the last.
- */
-export function hasDiminishingReturns(table: readonly number[]): boolean {
-  for (let n = 0; n + 2 < table.length; n++) {
-    if (gainAt(table, n + 1) > gainAt(table, n) * (1 + 1e-12) + 1e-15) return false;
-  }
-  return true;
 }
 
 function summarise(
@@ -183,47 +113,6 @@ function summarise(
     method,
     unused: budget - total,
   };
-}
-
-/**
- * Greedy marginal allocation (marginal analysis for separable resource allocation): give each
- * next rope to the barn whose log-miss log(1 - p_b(n_b)) drops most; stop when the budget is
- * spent, every barn is full, or no rope gains anything. Optimal for every budget when each
- * barn's log-miss is convex in n (diminishing returns); otherwise only a heuristic. Ties go to
- * the barn listed first.
- * @see Gross O (1956) A class of discrete type minimization problems. RAND RM-1644 (from memory).
- * @see Fox B (1966) Discrete optimization via marginal analysis. Management Science 13:210-216 (from memory).
- */
-export function greedyAllocation(barns: readonly BarnSizing[], budget: number): Allocation {
-  requireInteger('budget', budget, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const tables = barns.map(logMissTable);
-  return greedyOnTables(barns, tables, budget, () => false);
-}
-
-function greedyOnTables(
-  barns: readonly BarnSizing[],
-  tables: number[][],
-  budget: number,
-  stop: (log: number) => boolean,
-): Allocation {
-  const ropes = barns.map(() => 0);
-  let log = tables.reduce((sum, t) => sum + t[0]!, 0);
-  for (let spent = 0; spent < budget && log !== -Infinity && !stop(log); spent++) {
-    let best = -1;
-    let bestGain = 0;
-    barns.forEach((barn, b) => {
-      if (ropes[b]! >= barn.maxRopes) return;
-      const gain = gainAt(tables[b]!, ropes[b]!);
-      if (gain > bestGain) {
-        best = b;
-        bestGain = gain;
-      }
-    });
-    if (best < 0) break;
-    ropes[best]!++;
-    log = ropes.reduce((sum, n, b) => sum + tables[b]![n]!, 0);
-  }
-  return summarise(barns, tables, ropes, 'greedy', budget);
 }
 
 /**
@@ -279,46 +168,16 @@ function smallestBudgetFor(log: readonly number[], value: number, limit: number)
 }
 
 /**
- * Allocates a site's rope budget across barns to maximise site detection
- * 1 - prod_b (1 - p_b(n_b)) (Martin, Cameron & Greiner 2007), i.e. to minimise sum_b log(1 - p_b(n_b)).
- * Greedy marginal allocation when every barn has diminishing returns (then optimal: Fox 1966);
- * otherwise exact dynamic programming (the finite hypergeometric model has increasing returns,
- * where greedy can miss the optimum). Ropes that add nothing are left `unused`.
- * @param barns per barn: id, ropes available (in-use pens), detect(n) non-decreasing
- * @param budget ropes for the site, integer >= 0
- * @throws RangeError for a bad budget or maxRopes, or detect returning a value outside [0, 1]
- * @see Fox B (1966) Discrete optimization via marginal analysis. Management Science 13:210-216 (from memory).
- * @see Bellman R (1957) Dynamic Programming (the allocation recursion).
- */
-export function allocateRopes(barns: readonly BarnSizing[], budget: number): Allocation {
-  requireInteger('budget', budget, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const tables = barns.map(logMissTable);
-  const capped = Math.min(
-    budget,
-    barns.reduce((sum, barn) => sum + barn.maxRopes, 0),
-  );
-  if (tables.every(hasDiminishingReturns))
-    return withUnused(
-      greedyOnTables(barns, tables, capped, () => false),
-      budget,
-    );
-  const { log, choice } = dynamicProgramming(barns, tables, capped);
-  const needed = smallestBudgetFor(log, log[capped]!, capped);
-  const { choice: neededChoice } = needed === capped ? { choice } : dynamicProgramming(barns, tables, needed);
-  return summarise(barns, tables, traceBack(barns, neededChoice, needed), 'dynamic-programming', budget);
-}
-
-/**
  * Allocates a site's rope budget so that the least-watched barn is watched as well as possible,
  * and then, among the allocations that achieve that, maximises site detection 1 - prod(1 - p_b).
  *
- * Why not maximise 1 - prod(1 - p_b) alone (allocateRopes): that objective assumes every barn is
+ * Why not maximise 1 - prod(1 - p_b) alone: that objective assumes every barn is
  * infected at the design prevalence at once, and because the finite hypergeometric model has
  * increasing returns it is often maximised by putting the whole budget into one barn and leaving
  * the others unwatched, which no surveillance program would accept: an introduction comes into
  * one barn, and nobody knows which. The max-min objective is exact by dynamic programming
- * (max-min is decomposable over barns), and the second stage is the DP of allocateRopes restricted
- * to per-barn counts that keep every barn at or above the max-min value.
+ * (max-min is decomposable over barns), and the second stage is the DP maximising site detection,
+ * restricted to per-barn counts that keep every barn at or above the max-min value.
  * @param barns per barn: id, ropes available (in-use pens), detect(n) non-decreasing
  * @param budget ropes for the site, integer >= 0
  * @throws RangeError for a bad budget or maxRopes, or detect returning a value outside [0, 1]
@@ -332,7 +191,9 @@ export function allocateRopesBalanced(barns: readonly BarnSizing[], budget: numb
     barns.reduce((sum, barn) => sum + barn.maxRopes, 0),
   );
   const detections = barns.map((barn) =>
-    Array.from({ length: barn.maxRopes + 1 }, (_, n) => requireProbability(`detect of ${barn.barnId}`, barn.detect(n))),
+    Array.from({ length: barn.maxRopes + 1 }, (_, n) =>
+      requireReturnedProbability(`detect of ${barn.barnId}`, barn.detect(n)),
+    ),
   );
   // Stage 1: best[m] = the largest min_b p_b over the barns so far with m ropes.
   let best: number[] = Array.from({ length: capped + 1 }, () => 1);
@@ -358,67 +219,6 @@ export function allocateRopesBalanced(barns: readonly BarnSizing[], budget: numb
     'balanced',
     budget,
   );
-}
-
-function withUnused(allocation: Allocation, budget: number): Allocation {
-  return { ...allocation, unused: budget - allocation.total };
-}
-
-export interface SiteSizing {
-  reachable: boolean;
-  allocation: Allocation;
-  /** For comparison: ropes when every barn is sized alone to 1 - (1 - C)^(1/k); null if some barn cannot. */
-  equalShareTotal: number | null;
-  /** When unreachable: the site ceiling, rounds needed and a sentence. */
-  unreachable?: Unreachable;
-}
-
-/**
- * The fewest ropes for a site target C across k barns: the smallest total whose best allocation
- * reaches 1 - prod(1 - p_b(n_b)) >= C (optional budget as a cap). The optimum allocation for each
- * total is found as in {@link allocateRopes}, so this is never more than sizing every barn alone
- * to 1 - (1 - C)^(1/k), and usually fewer when barns differ.
- * @throws RangeError for a target outside (0, 1) or a bad budget
- * @see Martin, Cameron & Greiner (2007) Prev Vet Med 79:71-97; Fox B (1966) Management Science 13:210-216 (from memory).
- */
-export function sizeSite(barns: readonly BarnSizing[], siteTarget: number, budget?: number): SiteSizing {
-  requireNumber('siteTarget', siteTarget, 0, 1, { openMin: true, openMax: true });
-  if (barns.length === 0) throw new RangeError('`barns` must hold at least one barn, got 0');
-  const available = barns.reduce((sum, barn) => sum + barn.maxRopes, 0);
-  if (budget !== undefined) requireInteger('budget', budget, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const limit = Math.min(available, budget ?? available);
-  const tables = barns.map(logMissTable);
-  const targetLog = Math.log1p(-(siteTarget - TARGET_SLACK));
-  const barnTarget = barnTargetForSite(siteTarget, barns.length);
-  const shares = barns.map((barn) => smallestRopes(barn.detect, barnTarget, barn.maxRopes));
-  const equalShareTotal = shares.every((s) => s.reachable)
-    ? shares.reduce((sum, s) => sum + (s as Reached).ropes, 0)
-    : null;
-  let allocation: Allocation;
-  if (tables.every(hasDiminishingReturns)) {
-    allocation = withUnused(
-      greedyOnTables(barns, tables, limit, (log) => log <= targetLog),
-      limit,
-    );
-  } else {
-    const { log, choice } = dynamicProgramming(barns, tables, limit);
-    let m = 0;
-    while (m < limit && log[m]! > targetLog) m++;
-    const { choice: atM } = m === limit ? { choice } : dynamicProgramming(barns, tables, m);
-    allocation = summarise(barns, tables, traceBack(barns, atM, m), 'dynamic-programming', m);
-  }
-  allocation = withUnused(allocation, budget ?? allocation.total);
-  if (allocation.siteDetection >= siteTarget - TARGET_SLACK) return { reachable: true, allocation, equalShareTotal };
-  const what =
-    budget !== undefined && budget < available
-      ? `the best use of the budget of ${budget} ropes`
-      : `a rope in every in-use pen of the site`;
-  return {
-    reachable: false,
-    allocation,
-    equalShareTotal,
-    unreachable: unreachable(allocation.siteDetection, siteTarget, what),
-  };
 }
 
 /** A Monte Carlo detection estimate of n ropes: the mean over simulated outbreaks and its standard error. */
@@ -461,7 +261,7 @@ export function smallestRopesConservative(
   let last: EstimatedDetection = { p: 0, standardError: 0 };
   for (let n = 1; n <= maxRopes; n++) {
     last = estimate(n);
-    requireProbability('estimate', last.p);
+    requireReturnedProbability('estimate', last.p);
     requireNumber('standardError', last.standardError, 0, 1);
     if (last.p - margin * last.standardError >= target - TARGET_SLACK) return { ropes: n, estimate: last };
   }

@@ -6,6 +6,8 @@ import type { Barn, Measure, Site } from '../config/types.js';
 import { CLASS_SEVERITY, type ResultClass } from '../interpret/classify.js';
 import { formRounds, resultsDueOn, roundForDueDate, roundState, type DatedRope, type RoundState } from './rounds.js';
 import { barnStatusOn, groupRef, type GroupRef } from './pigGroups.js';
+import { inUsePens } from '../domain/layout.js';
+import { loadScore } from '../interpret/load.js';
 
 export interface ResultInput {
   id: number;
@@ -598,14 +600,13 @@ export function buildSiteRounds(
             ct: result.ct,
             sp,
             loadBand: result.loadBand,
-            load:
-              result.resultClass === 'invalid'
-                ? 0
-                : measure === 'sp-ratio'
-                  ? Math.max(0, sp ?? 0)
-                  : result.ct === null || result.cycleLimit === null
-                    ? 0
-                    : Math.max(0, result.cycleLimit - result.ct),
+            load: loadScore({
+              measure,
+              ct: result.ct,
+              sp,
+              cycleLimit: result.cycleLimit,
+              invalid: result.resultClass === 'invalid',
+            }),
             reason: result.reason,
             sampleId: result.sampleId,
             labId: result.labId,
@@ -729,7 +730,7 @@ export function buildSiteRounds(
         onDate,
         group: status.kind === 'group' ? groupRef(status.group) : null,
         empty: status.kind === 'empty',
-        pensInUse: barn.pens.filter((pen) => pen.status === 'in-use').length,
+        pensInUse: inUsePens(barn.pens).length,
         ropesHung: hung + plannedMissing.length,
         ropesReturned: returned,
         missingSampleIds: missing.sort(),

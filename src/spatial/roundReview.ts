@@ -3,16 +3,15 @@
  * returned as one JSON-serialisable report (the pipeline writes clusters.json / clusters.csv
  * from it).
  */
-import { expandLayout, type BarnLayout, type Pen } from '../domain/layout.js';
+import { expandLayout, isInUse, type Pen } from '../domain/layout.js';
 import { deriveSeed, seededRng } from '../util/random.js';
-import { linkClusters, type PenCluster } from './clusters.js';
+import { linkClusters } from './clusters.js';
 import { localGiStar } from './getisOrd.js';
 import { joinCountTest, type JoinCountTest } from './joinCount.js';
 import { localJoinCounts } from './localJoinCount.js';
-import { moranTest, type MoranResult } from './moran.js';
-import { bernoulliScan, type ScanResult } from './scan.js';
-import { summariseSpread, type SpreadPoint, type SpreadSummary } from './spread.js';
-import { compareWithRandomPlacement, simulateOutbreaks, type PlacementComparison } from './spreadDetection.js';
+import { moranTest } from './moran.js';
+import { bernoulliScan } from './scan.js';
+import { summariseSpread, type SpreadPoint } from './spread.js';
 import {
   contactWeights,
   defaultWeights,
@@ -21,138 +20,31 @@ import {
   knnWeights,
   listWeights,
   weightsFromEdges,
-  type BarnConvention,
   type SpatialPoint,
   type SpatialWeights,
   type WeightStyle,
 } from './weights.js';
 
-/** One roped pen of the round, as interpreted. */
-export interface RoundPen {
-  id: string;
-  /** Positive rope (the interpreted call). */
-  positive: boolean;
-  /** Result class from interpretation, carried into the report; 'invalid' pens are left out of the statistics. */
-  resultClass?: string;
-  /** Ct of the rope; null or absent when not detected or not reported. */
-  ct?: number | null;
-  /** Load score max(0, cycle limit - Ct) for detected, 0 otherwise (computed by the caller). */
-  load: number;
-}
+import type {
+  RoundPen,
+  WeightChoice,
+  SpatialOptions,
+  BarnRoundInput,
+  BarnSpatialReport,
+  SiteRoundInput,
+  SiteSpatialReport,
+} from './roundReviewTypes.js';
 
-export type WeightChoice =
-  | { kind: 'default' }
-  | { kind: 'contact'; convention: BarnConvention }
-  | { kind: 'knn'; k: number }
-  | { kind: 'band'; band: number; power?: number }
-  | { kind: 'lists'; neighbours: Record<string, string[]> };
-
-export interface DetectionSettings {
-  /** Rope sensitivity in [0, 1]; pass the assay's and age group's value. Default 0.9. */
-  se?: number;
-  /** Infected pens at the design prevalence; default ceil(0.1 N), N = in-use pens. */
-  infected?: number;
-  /** Per-step transmission over a contact; default 0.3. */
-  beta?: number;
-  /** Per-step background infection; default 0.01. */
-  background?: number;
-  /** Default 10,000. */
-  realisations?: number;
-  /** Contact graph for spread; default 'queen'. */
-  convention?: BarnConvention;
-}
-
-export interface SpatialOptions {
-  /** Seed for every Monte Carlo part; written into the report. */
-  seed: number;
-  /** Monte Carlo permutations (join count, Moran, scan); default 999. */
-  permutations?: number;
-  /** Weights among the sampled pens; default: 2 nearest ropes, symmetrised (see defaultWeights). */
-  weights?: WeightChoice;
-  style?: WeightStyle;
-  /** Exact enumeration limit for join-count p-values; default 1e6. */
-  exactLimit?: number;
-  scan?: { maxFraction?: number; maxRadius?: number; maxSecondary?: number };
-  /** Single-linkage distance for cluster listing, pen units; default the rope spacing (see ropeSpacing). */
-  clusterLinkDistance?: number;
-  /** Threshold between adjacent spread and a distant new focus, pen units; default max(2.5, rope spacing). */
-  adjacentDistance?: number;
-  /** Spread-model detection of the ropes hung versus random ropes; false to skip. */
-  detection?: DetectionSettings | false;
-}
-
-export interface BarnRoundInput {
-  barn: string;
-  layout: BarnLayout;
-  /** Barn position on the site, pen units; default {0, 0}. */
-  offset?: { x: number; y: number };
-  /** Pens roped this round. */
-  sampled: RoundPen[];
-  /** Pens positive in earlier rounds (ids in this barn). */
-  earlierPositive?: string[];
-}
-
-export interface PenReport {
-  id: string;
-  /** Barn coordinates, pen units. */
-  x: number;
-  y: number;
-  positive: boolean;
-  resultClass: string | null;
-  ct: number | null;
-  load: number;
-  neighbours: number;
-  giStar: number | null;
-  /** Local join count (positive pens only; null otherwise). */
-  localBB: number | null;
-  localP: number | null;
-  newPositive: boolean;
-}
-
-export interface BarnSpatialReport {
-  barn: string;
-  seed: number;
-  n: number;
-  positives: number;
-  weights: { description: string; style: string; isolates: string[]; band: number | null };
-  excluded: { id: string; reason: string }[];
-  joinCount: JoinCountTest | null;
-  moran: MoranResult | null;
-  pens: PenReport[];
-  scan: ScanResult | null;
-  clusters: PenCluster[];
-  clusterLinkDistance: number;
-  spread: SpreadSummary;
-  detection:
-    | (PlacementComparison & {
-        se: number;
-        infected: number;
-        beta: number;
-        background: number;
-        inUsePens: number;
-        reseeded: number;
-        seed: number;
-      })
-    | null;
-  notes: string[];
-}
-
-export interface SiteRoundInput {
-  site: string;
-  barns: BarnRoundInput[];
-  options: SpatialOptions;
-}
-
-export interface SiteSpatialReport {
-  site: string;
-  seed: number;
-  barns: BarnSpatialReport[];
-  /** Join count over the site, barns as separate blocks, positives permuted within barns. */
-  joinCount: JoinCountTest | null;
-  /** Spread across the site: distances to earlier positives in any barn via the offsets. */
-  spread: SpreadSummary;
-  notes: string[];
-}
+export type {
+  RoundPen,
+  WeightChoice,
+  SpatialOptions,
+  BarnRoundInput,
+  PenReport,
+  BarnSpatialReport,
+  SiteRoundInput,
+  SiteSpatialReport,
+} from './roundReviewTypes.js';
 
 interface Prepared {
   input: BarnRoundInput;
@@ -179,7 +71,7 @@ function prepare(input: BarnRoundInput): Prepared {
     seen.add(s.id);
     if (!Number.isFinite(s.load) || s.load < 0)
       throw new RangeError(`\`load\` of pen ${s.id} must be a finite number >= 0, got ${s.load}`);
-    if (pen.status !== 'in-use') excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
+    if (!isInUse(pen)) excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
     else if (s.resultClass === 'invalid')
       excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
     else used.push({ ...s, x: pen.x, y: pen.y });
@@ -228,115 +120,128 @@ function checkOptions(o: SpatialOptions): void {
   if (!Number.isInteger(o.seed)) throw new RangeError(`\`seed\` must be an integer, got ${o.seed}`);
 }
 
-function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): BarnSpatialReport {
+/** Where the round's positives lie: clusters of neighbouring ropes, and spread from earlier positives. */
+function clustersAndSpread(
+  p: Prepared,
+  options: SpatialOptions,
+): Pick<BarnSpatialReport, 'clusters' | 'clusterLinkDistance' | 'spread'> {
   const { input } = p;
-  const permutations = options.permutations ?? 999;
-  const style = options.style ?? 'binary';
-  const notes: string[] = [];
-  const n = p.used.length;
-  const positive = p.used.map((u) => u.positive);
-  const loads = p.used.map((u) => u.load);
   const earlier = new Set(input.earlierPositive ?? []);
   const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
   // A cluster is a chain of neighbouring ropes; "adjacent" spread reaches at least the next rope,
   // since the pens between two ropes were not sampled (see summariseSpread for the 2.5 floor).
-  const spacing = n >= 2 ? ropeSpacing(points) : 1;
+  const spacing = p.used.length >= 2 ? ropeSpacing(points) : 1;
   const linkDistance = options.clusterLinkDistance ?? spacing;
   const adjacentDistance = options.adjacentDistance ?? Math.max(2.5, spacing);
+  const positives = p.used.filter((u) => u.positive);
   const clusters = linkClusters(
-    p.used.filter((u) => u.positive).map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
+    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
     linkDistance,
     earlier,
   );
   const spread = summariseSpread(
-    p.used.filter((u) => u.positive).map((u) => ({ id: u.id, x: u.x, y: u.y, barn: input.barn })),
+    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, barn: input.barn })),
     p.pens.filter((pen) => earlier.has(pen.id)).map((pen) => ({ id: pen.id, x: pen.x, y: pen.y, barn: input.barn })),
     adjacentDistance,
   );
-  const report: BarnSpatialReport = {
-    barn: input.barn,
-    seed,
-    n,
-    positives: positive.filter(Boolean).length,
+  return { clusters, clusterLinkDistance: linkDistance, spread };
+}
+
+/** The statistics over the weights among the usable ropes (at least 2): join counts, Moran's I, the scan, and Gi* and local join counts per pen. */
+function weightedStatistics(
+  p: Prepared,
+  options: SpatialOptions,
+  seed: number,
+  notes: string[],
+): Pick<BarnSpatialReport, 'weights' | 'joinCount' | 'moran' | 'scan' | 'pens'> {
+  const permutations = options.permutations ?? 999;
+  const style = options.style ?? 'binary';
+  const positive = p.used.map((u) => u.positive);
+  const loads = p.used.map((u) => u.load);
+  const earlier = new Set(p.input.earlierPositive ?? []);
+  const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
+  const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
+  if (w.isolates.length > 0)
+    notes.push(
+      `${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`,
+    );
+  const joinCount = joinCountTest(w, positive, {
+    rng: seededRng(deriveSeed(seed, 'join-count')),
+    permutations,
+    exactLimit: options.exactLimit ?? 1e6,
+  });
+  const moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
+  const scan = bernoulliScan(points, positive, {
+    rng: seededRng(deriveSeed(seed, 'scan')),
+    permutations,
+    ...(options.scan ?? {}),
+  });
+  const gi = localGiStar(w, loads);
+  const local = new Map(localJoinCounts(w, positive).map((l) => [l.id, l]));
+  const pens = p.used.map((u, i) => ({
+    id: u.id,
+    x: u.x,
+    y: u.y,
+    positive: u.positive,
+    resultClass: u.resultClass ?? null,
+    ct: u.ct ?? null,
+    load: u.load,
+    neighbours: w.offsets[i + 1]! - w.offsets[i]!,
+    giStar: gi[i]!.z,
+    localBB: local.get(u.id)?.bb ?? null,
+    localP: local.get(u.id)?.p ?? null,
+    newPositive: u.positive && !earlier.has(u.id),
+  }));
+  return {
+    weights: { description: w.description, style: w.style, isolates: [...w.isolates], band },
+    joinCount,
+    moran,
+    scan,
+    pens,
+  };
+}
+
+function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): BarnSpatialReport {
+  const notes: string[] = [];
+  const n = p.used.length;
+  const style = options.style ?? 'binary';
+  const none = {
     weights: { description: 'none (fewer than 2 usable pens)', style, isolates: [], band: null },
-    excluded: p.excluded,
     joinCount: null,
     moran: null,
-    pens: [],
     scan: null,
+    pens: [],
+  };
+  const statistics = n >= 2 ? weightedStatistics(p, options, seed, notes) : none;
+  if (n < 2) notes.push('fewer than 2 usable sampled pens: no spatial statistics');
+  // The detection of the ropes hung under contagious spread needs the site's spread model
+  // (src/analysis/spatialRound.ts fills `detection`); the review itself runs none, and says so.
+  notes.push('spread-model detection not requested');
+  const { clusters, clusterLinkDistance, spread } = clustersAndSpread(p, options);
+  return {
+    barn: p.input.barn,
+    seed,
+    n,
+    positives: p.used.filter((u) => u.positive).length,
+    weights: statistics.weights,
+    excluded: p.excluded,
+    joinCount: statistics.joinCount,
+    moran: statistics.moran,
+    pens: statistics.pens,
+    scan: statistics.scan,
     clusters,
-    clusterLinkDistance: linkDistance,
+    clusterLinkDistance,
     spread,
     detection: null,
     notes,
   };
-  if (n >= 2) {
-    const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
-    report.weights = { description: w.description, style: w.style, isolates: [...w.isolates], band };
-    if (w.isolates.length > 0)
-      notes.push(
-        `${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`,
-      );
-    report.joinCount = joinCountTest(w, positive, {
-      rng: seededRng(deriveSeed(seed, 'join-count')),
-      permutations,
-      exactLimit: options.exactLimit ?? 1e6,
-    });
-    report.moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
-    report.scan = bernoulliScan(points, positive, {
-      rng: seededRng(deriveSeed(seed, 'scan')),
-      permutations,
-      ...(options.scan ?? {}),
-    });
-    const gi = localGiStar(w, loads);
-    const local = new Map(localJoinCounts(w, positive).map((l) => [l.id, l]));
-    report.pens = p.used.map((u, i) => ({
-      id: u.id,
-      x: u.x,
-      y: u.y,
-      positive: u.positive,
-      resultClass: u.resultClass ?? null,
-      ct: u.ct ?? null,
-      load: u.load,
-      neighbours: w.offsets[i + 1]! - w.offsets[i]!,
-      giStar: gi[i]!.z,
-      localBB: local.get(u.id)?.bb ?? null,
-      localP: local.get(u.id)?.p ?? null,
-      newPositive: u.positive && !earlier.has(u.id),
-    }));
-  } else {
-    notes.push('fewer than 2 usable sampled pens: no spatial statistics');
-  }
-  if (options.detection === false) notes.push('spread-model detection not requested');
-  else if (n >= 1) report.detection = runDetection(p, options.detection ?? {}, deriveSeed(seed, 'detection'));
-  return report;
-}
-
-function runDetection(p: Prepared, settings: DetectionSettings, seed: number): BarnSpatialReport['detection'] {
-  const inUse = p.pens.filter((pen) => pen.status === 'in-use');
-  const ids = inUse.map((pen) => pen.id);
-  const N = ids.length;
-  const se = settings.se ?? 0.9;
-  const infected = settings.infected ?? Math.max(1, Math.ceil(0.1 * N));
-  const beta = settings.beta ?? 0.3;
-  const background = settings.background ?? 0.01;
-  const realisations = settings.realisations ?? 10_000;
-  const graph = contactWeights(p.input.layout, ids, settings.convention ?? 'queen', 'binary');
-  const rng = seededRng(seed);
-  const outbreaks = simulateOutbreaks(graph, { infected, beta, background, realisations, rng });
-  const cmp = compareWithRandomPlacement(
-    outbreaks,
-    p.used.map((u) => u.id),
-    se,
-    rng,
-  );
-  return { ...cmp, se, infected, beta, background, inUsePens: N, reseeded: outbreaks.reseeded, seed };
 }
 
 /**
  * Spatial analysis of one barn-round: join counts, Moran's I on load, local join counts and
- * Gi* per pen, the Bernoulli scan, cluster listing, spread against earlier rounds and the
- * detection of the ropes hung versus random ropes under contagious spread. Empty and
+ * Gi* per pen, the Bernoulli scan, cluster listing and spread against earlier rounds (the
+ * detection of the ropes hung under contagious spread is left null: it needs the site's spread
+ * model, which src/analysis/spatialRound.ts supplies). Empty and
  * out-of-use pens, and invalid results, are left out and listed in `excluded`.
  * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id.
  *

@@ -135,6 +135,9 @@ function maxLlr(win: ScanWindows, label: Uint8Array, C: number, t: Float64Array,
  * @see Kulldorff M. (1997) A spatial scan statistic, Communications in Statistics - Theory and
  *   Methods 26:1481-1496.
  */
+// Kept as one function (about 80 lines): the Monte Carlo replicate loop shares the candidate
+// circles and the running maxima with the observed pass, and splitting it would add a closure
+// call per circle per replicate in the hottest loop of the round review.
 export function bernoulliScan(
   points: readonly SpatialPoint[],
   positive: readonly boolean[],

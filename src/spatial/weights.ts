@@ -4,7 +4,7 @@
  * Every statistic in src/spatial reads weights through this one structure so that the hot
  * loops (permutations, scan, spread) walk typed arrays instead of dense n x n matrices.
  */
-import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/layout.js';
+import { expandLayout, penContacts, type BarnLayout } from '../domain/layout.js';
 
 /** A point in pen units (barn or site coordinates). */
 export interface SpatialPoint {
@@ -37,11 +37,6 @@ export interface WeightConstants {
   s0: number;
   s1: number;
   s2: number;
-}
-
-/** Drops empty and out-of-use pens: they hold no pigs, so they are not part of the lattice. */
-export function inUsePens<T extends Pick<Pen, 'status'>>(pens: readonly T[]): T[] {
-  return pens.filter((pen) => pen.status === 'in-use');
 }
 
 function checkIds(ids: readonly string[]): Map<string, number> {
@@ -262,29 +257,6 @@ export function distanceBandWeights(
 
 function round(x: number): number {
   return Math.round(x * 1000) / 1000;
-}
-
-/**
- * The smallest binary distance band that leaves no sampled pen isolated: the largest
- * nearest-neighbour distance among the pens, for callers who prefer one band for the whole
- * barn to defaultWeights.
- *
- * @see Getis A., Aldstadt J. (2004) Constructing the spatial weights matrix using a local
- *   statistic, Geographical Analysis 36:90-104 (a threshold distance that gives every unit a neighbour).
- */
-export function defaultBand(points: readonly SpatialPoint[]): number {
-  checkPoints(points);
-  let band = 0;
-  for (let i = 0; i < points.length; i++) {
-    let nearest = Infinity;
-    for (let j = 0; j < points.length; j++) {
-      if (j === i) continue;
-      const d = dist(points[i]!, points[j]!);
-      if (d > 0 && d < nearest) nearest = d;
-    }
-    if (Number.isFinite(nearest) && nearest > band) band = nearest;
-  }
-  return band > 0 ? band : 1;
 }
 
 /**

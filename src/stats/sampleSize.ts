@@ -3,7 +3,7 @@
  * say when no single round can.
  */
 import { detectionFor, binomialDetection } from './detection.js';
-import { requireInteger, requireNumber, requireProbability } from './validate.js';
+import { requireInteger, requireNumber, requireProbability, TARGET_SLACK } from './validate.js';
 
 /**
  * Design prevalence as pens: d = ceil(p N), at least 1 pen when p > 0.
@@ -29,7 +29,9 @@ export function designInfectedPens(prevalence: number, pens: number): number {
 /**
  * Number of independent rounds k that reach confidence C when one round reaches at most `perRound`:
  * the smallest k with 1 - (1 - perRound)^k >= C, i.e. k = ceil(ln(1-C) / ln(1-perRound)),
- * nudged by one when floating point lands on the wrong side of a whole number.
+ * nudged by one when floating point lands on the wrong side of a whole number. The comparison
+ * allows {@link TARGET_SLACK}, so that an exact decimal target such as 0.99 is not missed by
+ * rounding (1 - 0.1^2 is 0.9899999999999999 in binary floating point).
  * @returns k >= 1, or null when perRound = 0 (no number of rounds helps) or C = 1 with perRound < 1.
  * @throws RangeError when an argument is not a probability.
  * @see Martin PAJ, Cameron AR, Greiner M 2007, Prev Vet Med 79:71-97 (combining rounds, no introduction).
@@ -41,7 +43,7 @@ export function roundsToReach(confidence: number, perRound: number): number | nu
   if (confidence === 0) return 0;
   if (perRound === 1) return 1;
   if (perRound === 0 || confidence === 1) return null;
-  const reaches = (k: number): boolean => 0 - Math.expm1(k * Math.log1p(-perRound)) >= confidence;
+  const reaches = (k: number): boolean => 0 - Math.expm1(k * Math.log1p(-perRound)) >= confidence - TARGET_SLACK;
   let k = Math.max(1, Math.ceil(Math.log1p(-confidence) / Math.log1p(-perRound)));
   while (k > 1 && reaches(k - 1)) k--;
   while (!reaches(k)) k++;

@@ -27,14 +27,16 @@ export function siteDetection(barnProbabilities: readonly number[]): number {
 
 /**
  * Barn-level detection confidence needed in each of k similar barns for a site target C:
- * p = 1 - (1 - C)^(1/k), computed as -expm1(log1p(-C) / k).
+ * p = 1 - (1 - C)^(1/k), computed as -expm1(log1p(-C) / k), which keeps the digits that
+ * 1 - (1 - C)^(1/k) loses for small C. The planner sizes each barn to it when a site target
+ * is met with D of the site's barns infected (k = D).
  *
  * @param siteTarget C in [0, 1]. @param barns k (integer >= 1).
  * @throws RangeError when an argument is out of its domain.
  * @see Martin PAJ, Cameron AR, Greiner M 2007, Prev Vet Med 79:71-97.
- * @example barnSensitivityForSite(0.996625, 3) // 0.85
+ * @example barnTargetForSite(0.996625, 3) // 0.85
  */
-export function barnSensitivityForSite(siteTarget: number, barns: number): number {
+export function barnTargetForSite(siteTarget: number, barns: number): number {
   requireProbability('siteTarget', siteTarget);
   requireInteger('barns', barns, 1, Number.MAX_SAFE_INTEGER, '[1, 2^53)');
   if (siteTarget === 1) return 1;

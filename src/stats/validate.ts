@@ -1,5 +1,5 @@
 /**
- * Precondition checks shared by the statistics kernels. One grammar for every message:
+ * Precondition checks shared by the statistics and planning kernels. One grammar for every message:
  * "`sampled` must be an integer in [0, pens], got 40", so the CLI can pass them through unchanged.
  */
 
@@ -27,7 +27,9 @@ export function requireInteger(
 }
 
 /**
- * Throws RangeError unless `value` is a finite number in [min, max] (closed, or open at either end).
+ * Throws RangeError unless `value` is a number in [min, max] (closed, or open at either end).
+ * Infinite values pass only against an infinite, closed upper end (e.g. a doubling time of
+ * infinity: no growth). `range` is the bound as the reader should see it, e.g. "(0, infinity)".
  * @throws RangeError "`name` must be a number in (0, 1], got 1.5"
  */
 export function requireNumber(
@@ -35,16 +37,17 @@ export function requireNumber(
   value: number,
   min: number,
   max: number,
-  { openMin = false, openMax = false }: { openMin?: boolean; openMax?: boolean } = {},
+  { openMin = false, openMax = false, range }: { openMin?: boolean; openMax?: boolean; range?: string } = {},
 ): void {
   const ok =
     typeof value === 'number' &&
-    Number.isFinite(value) &&
+    !Number.isNaN(value) &&
+    (Number.isFinite(value) || !Number.isFinite(max)) &&
     (openMin ? value > min : value >= min) &&
     (openMax ? value < max : value <= max);
   if (!ok) {
-    const range = `${openMin ? '(' : '['}${min}, ${max}${openMax ? ')' : ']'}`;
-    throw new RangeError(`\`${name}\` must be a number in ${range}, got ${shown(value)}`);
+    const shownRange = range ?? `${openMin ? '(' : '['}${min}, ${max}${openMax ? ')' : ']'}`;
+    throw new RangeError(`\`${name}\` must be a number in ${shownRange}, got ${shown(value)}`);
   }
 }
 
@@ -52,3 +55,22 @@ export function requireNumber(
 export function requireProbability(name: string, value: number): void {
   requireNumber(name, value, 0, 1);
 }
+
+/**
+ * Throws RangeError unless a probability returned by an injected model (a `detect(n)`) is a
+ * number in [0, 1]; returns it, so a call can sit inside an expression.
+ * @throws RangeError "`detect` must return a probability in [0, 1], got 1.2"
+ */
+export function requireReturnedProbability(name: string, value: number): number {
+  if (typeof value !== 'number' || Number.isNaN(value) || value < 0 || value > 1) {
+    throw new RangeError(`\`${name}\` must return a probability in [0, 1], got ${shown(value)}`);
+  }
+  return value;
+}
+
+/**
+ * Slack for comparing a computed probability with a target such as 0.95 or 0.99: the exact
+ * value 1 - 0.1^2 evaluates to 0.9899999999999999 in binary floating point, and a planner that
+ * then asks for a third round is wrong for the user.
+ */
+export const TARGET_SLACK = 1e-12;

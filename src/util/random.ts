@@ -26,17 +26,6 @@ export function randomInt(rng: Rng, n: number): number {
   return Math.floor(rng() * n);
 }
 
-/** Fisher-Yates shuffle in place (Knuth 1969, Algorithm P). */
-export function shuffleInPlace<T>(items: T[], rng: Rng): T[] {
-  for (let i = items.length - 1; i > 0; i--) {
-    const j = randomInt(rng, i + 1);
-    const tmp = items[i]!;
-    items[i] = items[j]!;
-    items[j] = tmp;
-  }
-  return items;
-}
-
 /** Derives a child seed so that independent streams (per barn, per site) stay reproducible. */
 export function deriveSeed(seed: number, ...parts: (string | number)[]): number {
   let h = (seed ^ 0x9e3779b9) >>> 0;

@@ -5,6 +5,7 @@
  */
 import path from 'node:path';
 import { watch, type FSWatcher } from 'chokidar';
+import { CONFIG_FILES } from '../workspacePaths.js';
 
 export interface ConfigWatchOptions {
   /** The configuration folder. */
@@ -29,8 +30,10 @@ export interface ConfigWatch {
 function isConfigFile(dir: string, file: string): boolean {
   const relative = path.relative(dir, file).split(path.sep);
   if (relative.length === 1)
-    return relative[0] === 'sites.yaml' || relative[0] === 'assays.yaml' || relative[0] === 'corrections.yaml';
-  return relative.length === 2 && relative[0] === 'labs' && /^[^.].*\.ya?ml$/i.test(relative[1]!);
+    return ([CONFIG_FILES.sites, CONFIG_FILES.assays, CONFIG_FILES.corrections] as readonly string[]).includes(
+      relative[0]!,
+    );
+  return relative.length === 2 && relative[0] === CONFIG_FILES.labsDir && /^[^.].*\.ya?ml$/i.test(relative[1]!);
 }
 
 export function watchConfig(options: ConfigWatchOptions): ConfigWatch {

@@ -4,6 +4,7 @@
  * before it stats it, and the start-up sweep applies the very same rule.
  */
 import path from 'node:path';
+import { INBOX_FOLDERS } from '../workspacePaths.js';
 
 /**
  * Extensions accepted by default: the text exports labs send (comma, tab, or "text"), Excel
@@ -26,7 +27,7 @@ export const DEFAULT_EXTENSIONS: readonly string[] = Object.freeze([
  * Subfolders of the inbox that hold files already handled by the pipeline. A file there is
  * never new input, even if a user moves the watcher's depth or sweeps by hand.
  */
-export const HANDLED_SUBFOLDERS: readonly string[] = Object.freeze(['archive', 'rejected']);
+export const HANDLED_SUBFOLDERS: readonly string[] = Object.freeze([INBOX_FOLDERS.archive, INBOX_FOLDERS.rejected]);
 
 /** Endings written by copy tools and browsers while a transfer is in flight (common practice, no source). */
 const IN_FLIGHT_SUFFIXES = ['.part', '.partial', '.tmp', '.crdownload', '.download', '.swp', '.swx'];

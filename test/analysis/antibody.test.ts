@@ -10,7 +10,9 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
@@ -40,17 +42,26 @@ function analyse(config: Config, positiveAntibody: readonly number[], positivePc
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  const plan = planNextRound({
+  const plan = wordPlan(
+    planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial,
+      settings: config.analysis,
+      cache,
+      today: '2026-08-10',
+      measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct',
+    }),
+  );
+  return {
     site,
     rounds,
     confidence,
     spatial,
-    settings: config.analysis,
-    cache,
-    today: '2026-08-10',
-    measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct',
-  });
-  return { site, rounds, confidence, spatial, plan, summaries: summariseSite(config, site, rounds, confidence) };
+    plan,
+    summaries: summariseSite(config, site, rounds, confidence).map(wordSummary),
+  };
 }
 
 describe('an antibody positive beside negative PCR', () => {

@@ -8,6 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { negativeRoundsRule, statusOverRounds } from '../../src/analysis/barnStatus.js';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { summaryCsv } from '../../src/report/summaryCsv.js';
 import { parse } from 'csv-parse/sync';
@@ -140,7 +141,7 @@ describe('the summary of a positive site', () => {
   it('says "positive" and since when in summary.csv instead of a probability, at site and barn level', () => {
     const config = smallConfig();
     const { site, rounds } = build(config, series([[], [4], []]));
-    const summaries = summariseSite(config, site, rounds, siteConfidence(site, rounds));
+    const summaries = summariseSite(config, site, rounds, siteConfidence(site, rounds)).map(wordSummary);
     // csv-parse reads the file back as a reader would.
     const rows = parse(summaryCsv(summaries[2]!), { columns: true }) as Record<string, string>[];
     const siteRow = rows.find((row) => row.level === 'site' && row.assay === 'PRRSV')!;

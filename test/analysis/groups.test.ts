@@ -6,6 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { BarnGroup } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
@@ -94,16 +95,18 @@ describe('the next round\u2019s plan and an empty barn', () => {
     const confidence = siteConfidence(site, rounds);
     const cache = new OutbreakCache(config.analysis);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    return planNextRound({
-      site,
-      rounds,
-      confidence,
-      spatial,
-      settings: config.analysis,
-      cache,
-      today: '2026-08-18',
-      ...(budget === undefined ? {} : { budget }),
-    });
+    return wordPlan(
+      planNextRound({
+        site,
+        rounds,
+        confidence,
+        spatial,
+        settings: config.analysis,
+        cache,
+        today: '2026-08-18',
+        ...(budget === undefined ? {} : { budget }),
+      }),
+    );
   }
 
   it('plans no rope in a barn that will be empty on the due date, and says so', () => {

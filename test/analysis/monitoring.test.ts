@@ -6,6 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
@@ -48,7 +49,7 @@ function plan(config: Config, parts: { ropes: RopeInput[]; results: ResultInput[
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  return planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today });
+  return wordPlan(planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today }));
 }
 
 const ROPED = [

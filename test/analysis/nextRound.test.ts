@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
@@ -16,16 +17,18 @@ function planFor(config: Config, options: { budget?: number } = {}) {
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  return planNextRound({
-    site,
-    rounds,
-    confidence,
-    spatial,
-    settings: config.analysis,
-    cache,
-    today: '2026-08-10',
-    ...options,
-  });
+  return wordPlan(
+    planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial,
+      settings: config.analysis,
+      cache,
+      today: '2026-08-10',
+      ...options,
+    }),
+  );
 }
 
 describe('the next-round plan', () => {

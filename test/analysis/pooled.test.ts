@@ -6,6 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 import { parseSampleId } from '../../src/plan/sampleId.js';
@@ -166,15 +167,17 @@ describe('pooled ropes in a round', () => {
       freedom: 0,
       freedomReset: true,
     });
-    const plan = planNextRound({
-      site,
-      rounds,
-      confidence,
-      spatial: [],
-      settings: config.analysis,
-      cache: new OutbreakCache(config.analysis),
-      today: '2026-08-10',
-    });
+    const plan = wordPlan(
+      planNextRound({
+        site,
+        rounds,
+        confidence,
+        spatial: [],
+        settings: config.analysis,
+        cache: new OutbreakCache(config.analysis),
+        today: '2026-08-10',
+      }),
+    );
     const retests = plan.ropes
       .filter((row) => row.reason === 'retest')
       .map((row) => row.penId)
@@ -188,15 +191,17 @@ describe('pooled ropes in a round', () => {
   it('pools the routine ropes of a barn in groups of the pool size under IDs that pass their check character', () => {
     const config = smallConfig({ pooling: { poolSize: 4, poolSensitivity: 0.9 } });
     const site = config.sites[0]!;
-    const plan = planNextRound({
-      site,
-      rounds: [],
-      confidence: [],
-      spatial: [],
-      settings: config.analysis,
-      cache: new OutbreakCache(config.analysis),
-      today: '2026-08-10',
-    });
+    const plan = wordPlan(
+      planNextRound({
+        site,
+        rounds: [],
+        confidence: [],
+        spatial: [],
+        settings: config.analysis,
+        cache: new OutbreakCache(config.analysis),
+        today: '2026-08-10',
+      }),
+    );
     const routine = plan.ropes.filter((row) => row.reason === 'routine');
     // 35 routine ropes at d = 1, Se = 1, 95% (ceil(0.95 x 36), by hand): pools of 4, the last of 3.
     expect(routine).toHaveLength(35);

@@ -4,7 +4,9 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { ConfigError, loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
@@ -116,7 +118,7 @@ describe('site detection when not every barn is infected (two-stage design)', ()
   it('labels both site figures in plain words in the summary, and writes them to summary.csv', () => {
     const config = threeBarnConfig({ designPrevalence: 0.1 });
     const { site, rounds, confidence } = firstRound(config, counts);
-    const [summary] = summariseSite(config, site, rounds, confidence);
+    const [summary] = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const figures = summary!.assays.find((assay) => assay.id === 'PRRSV')!.siteFigures;
     expect(figures.map((figure) => figure.label)).toEqual([
       'if every barn were infected at 10% of pens',
@@ -167,15 +169,17 @@ describe('site-level sizing with a barn-level design value', () => {
     const confidence = siteConfidence(site, rounds);
     const cache = new OutbreakCache(config.analysis);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    const plan = planNextRound({
-      site,
-      rounds,
-      confidence,
-      spatial,
-      settings: config.analysis,
-      cache,
-      today: '2026-08-10',
-    });
+    const plan = wordPlan(
+      planNextRound({
+        site,
+        rounds,
+        confidence,
+        spatial,
+        settings: config.analysis,
+        cache,
+        today: '2026-08-10',
+      }),
+    );
     expect(plan.sizing).toMatchObject({ sizeFor: 'site', infectedBarns: 1, sizingModel: 'hypergeometric' });
     // D = 1: each barn must reach C itself, 1 - (1 - 0.95)^(1/1) = 0.95 (Martin, Cameron & Greiner 2007 inverted, D = 1).
     // Cameron & Baldock 1998: N = 36, d = 4, Se = 0.9.
@@ -200,15 +204,17 @@ describe('site-level sizing with a barn-level design value', () => {
       ropeSensitivity: { default: 0.9, 'PRRSV-AB': 0.9 },
       sizeFor: 'site',
     });
-    const planAll = planNextRound({
-      site: everyBarn.sites[0]!,
-      rounds,
-      confidence,
-      spatial,
-      settings: everyBarn.analysis,
-      cache: new OutbreakCache(everyBarn.analysis),
-      today: '2026-08-10',
-    });
+    const planAll = wordPlan(
+      planNextRound({
+        site: everyBarn.sites[0]!,
+        rounds,
+        confidence,
+        spatial,
+        settings: everyBarn.analysis,
+        cache: new OutbreakCache(everyBarn.analysis),
+        today: '2026-08-10',
+      }),
+    );
     expect(planAll.sizing.infectedBarns).toBe(3);
     expect(detect(planAll.barns[0]!.sizing.routineRopes)).toBeGreaterThanOrEqual(0.631597);
     expect(planAll.barns[0]!.sizing.routineRopes).toBeLessThan(plan.barns[0]!.sizing.routineRopes);

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
@@ -18,15 +19,17 @@ function planAndConfidence(config: Config) {
   const confidence = siteConfidence(site, rounds);
   const cache = new OutbreakCache(config.analysis);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  const plan = planNextRound({
-    site,
-    rounds,
-    confidence,
-    spatial,
-    settings: config.analysis,
-    cache,
-    today: '2026-08-10',
-  });
+  const plan = wordPlan(
+    planNextRound({
+      site,
+      rounds,
+      confidence,
+      spatial,
+      settings: config.analysis,
+      cache,
+      today: '2026-08-10',
+    }),
+  );
   return { plan, confidence, cache, site };
 }
 
@@ -134,15 +137,17 @@ describe('sizing by the spread model, when a program chooses it', () => {
       const cache = new OutbreakCache(config.analysis);
       const confidence = siteConfidence(site, rounds, { settings: config.analysis, outbreaks: cache });
       const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-      const plan = planNextRound({
-        site,
-        rounds,
-        confidence,
-        spatial,
-        settings: config.analysis,
-        cache,
-        today: '2026-08-10',
-      });
+      const plan = wordPlan(
+        planNextRound({
+          site,
+          rounds,
+          confidence,
+          spatial,
+          settings: config.analysis,
+          cache,
+          today: '2026-08-10',
+        }),
+      );
       const barn = confidence.at(-1)!.barns.find((entry) => entry.assayId === 'PRRSV')!;
       expect(barn.ropesNeededModel).toBe('spatial');
       expect(barn.ropesNeeded, `design ${JSON.stringify(designPrevalence)}`).toBe(plan.barns[0]!.sizing.routineRopes);

@@ -217,6 +217,15 @@ describe('what declaring the commands loads', () => {
     expect(graph.modules.filter((file) => /^(config|store|ingest|report|analysis|watch|demo)\//.test(file))).toEqual(
       [],
     );
+    // Every command's declaration is in the walk (one file each under cli/commands/), so the
+    // checks above cover all of them.
+    const commandsDir = path.join(path.dirname(compiledBin()), 'commands');
+    const commandFiles = fs
+      .readdirSync(commandsDir, { recursive: true, encoding: 'utf8' })
+      .filter((file) => file.endsWith('.js'))
+      .map((file) => `cli/commands/${file.split(path.sep).join('/')}`);
+    expect(commandFiles).toEqual(expect.arrayContaining(['cli/commands/index.js', 'cli/commands/calc/detect.js']));
+    expect(graph.modules).toEqual(expect.arrayContaining(commandFiles));
     // The walk does see what a command imports when it runs.
     expect(staticGraph(path.join(path.dirname(compiledBin()), 'commandModules.js')).packages).toEqual(
       expect.arrayContaining(['better-sqlite3', 'chokidar', 'yaml', 'zod']),

@@ -1,17 +1,7 @@
 import hypergeometricCdf from '@stdlib/stats-base-dists-hypergeometric-cdf';
 import { describe, expect, it } from 'vitest';
-import {
-  allocateRopes,
-  barnTargetForSite,
-  greedyAllocation,
-  hasDiminishingReturns,
-  roundsToReach,
-  sizeSite,
-  smallestRopes,
-  smallestRopesConservative,
-  type BarnSizing,
-} from '../../src/plan/index.js';
-import { seededRng } from '../../src/util/random.js';
+import { allocateRopesBalanced, smallestRopes, smallestRopesConservative } from '../../src/plan/index.js';
+import { barnTargetForSite, roundsToReach } from '../../src/stats/index.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { hypergeometricDetect, imperfectDetect } from './helpers.js';
 
@@ -92,10 +82,10 @@ describe('smallest rope count for a target', () => {
   it('counts rounds exactly at a decimal boundary where floating point rounds down', () => {
     // By hand: 1 - 0.31^2 = 1 - 0.0961 = 0.9039 exactly, but -expm1(2 log1p(-0.69)) evaluates
     // to 0.9038999999999999 in binary floating point: two rounds, not three.
-    expect(roundsToReach(0.69, 0.9039)).toBe(2);
-    expect(roundsToReach(0.9, 0.99)).toBe(2); // 1 - 0.1^2 = 0.99 (by hand)
-    expect(roundsToReach(0.5, 0.95)).toBe(5); // 1 - 0.5^4 = 0.9375 < 0.95 <= 1 - 0.5^5 = 0.96875
-    expect(() => roundsToReach(1.2, 0.95)).toThrow('`perRound` must be a number in [0, 1], got 1.2');
+    expect(roundsToReach(0.9039, 0.69)).toBe(2);
+    expect(roundsToReach(0.99, 0.9)).toBe(2); // 1 - 0.1^2 = 0.99 (by hand)
+    expect(roundsToReach(0.95, 0.5)).toBe(5); // 1 - 0.5^4 = 0.9375 < 0.95 <= 1 - 0.5^5 = 0.96875
+    expect(() => roundsToReach(0.95, 1.2)).toThrow('`perRound` must be a number in [0, 1], got 1.2');
   });
 });
 
@@ -110,113 +100,11 @@ describe('site sizing and budget allocation', () => {
       maxRopes: 1,
       detect: (n: number) => (n >= 1 ? 0.85 : 0),
     }));
-    expectClose(allocateRopes(barns, 3).siteDetection, 0.996625, { abs: 5e-7 }, 'three barns at 0.85');
-  });
-
-  it('knows which detection models have diminishing returns, where greedy allocation is optimal', () => {
-    const table = (detect: (n: number) => number, max: number) =>
-      Array.from({ length: max + 1 }, (_, n) => Math.log1p(-detect(n)));
-    // Binomial: log-miss n log(1 - p Se) is linear in n, hence convex (by hand).
-    expect(hasDiminishingReturns(table((n) => 1 - 0.9 ** n, 30))).toBe(true);
-    // Hypergeometric, d = 1: log-miss log(1 - n/N) is concave in n (by hand).
-    expect(hasDiminishingReturns(table((n) => hypergeometricDetect(20, 1, n), 20))).toBe(false);
-  });
-
-  it('shows that greedy alone misses the optimum when returns increase, and the allocator does not', () => {
-    // By hand: barn A (N=3, d=1) is found for certain with 3 ropes; barn X (N=10, d=5) gains more
-    // per rope at first (log 2 > log 1.5), so greedy spends all 3 there: 1 - C(5,3)/C(10,3) = 0.9167.
-    const barns: BarnSizing[] = [
-      { barnId: 'A', maxRopes: 3, detect: (n) => hypergeometricDetect(3, 1, n) },
-      { barnId: 'X', maxRopes: 10, detect: (n) => hypergeometricDetect(10, 5, n) },
-    ];
-    expectClose(greedyAllocation(barns, 3).siteDetection, 1 - 10 / 120, { rel: 1e-12 }, 'greedy A+X budget 3');
-    const best = allocateRopes(barns, 3);
-    expect(best.method).toBe('dynamic-programming');
-    expect(best.siteDetection).toBe(1);
-    expect(best.ropes.map((r) => r.ropes)).toEqual([3, 0]);
-  });
-
-  function bruteForce(barns: readonly BarnSizing[], budget: number): { best: number; fewest: number } {
-    let best = -1;
-    let fewest = Infinity;
-    const walk = (b: number, left: number, miss: number, used: number) => {
-      if (b === barns.length) {
-        const p = 1 - miss;
-        if (p > best + 1e-12) {
-          best = p;
-          fewest = used;
-        } else if (Math.abs(p - best) <= 1e-12) fewest = Math.min(fewest, used);
-        return;
-      }
-      for (let n = 0; n <= Math.min(left, barns[b]!.maxRopes); n++)
-        walk(b + 1, left - n, miss * (1 - barns[b]!.detect(n)), used + n);
-    };
-    walk(0, budget, 1, 0);
-    return { best, fewest };
-  }
-
-  function randomSite(rng: () => number, model: 'hypergeometric' | 'binomial'): BarnSizing[] {
-    const count = 2 + Math.floor(rng() * 2);
-    return Array.from({ length: count }, (_, b) => {
-      const N = 3 + Math.floor(rng() * 6);
-      const d = 1 + Math.floor(rng() * 3);
-      const se = [1, 0.9, 0.7][Math.floor(rng() * 3)]!;
-      const p = 0.05 + 0.3 * rng();
-      const detect =
-        model === 'hypergeometric'
-          ? (n: number) => imperfectDetect(N, Math.min(d, N), n, se)
-          : (n: number) => 1 - (1 - p * se) ** n;
-      return { barnId: `B${b}`, maxRopes: N, detect };
-    });
-  }
-
-  it('allocates a budget exactly as well as enumerating every allocation, on small random sites', () => {
-    const rng = seededRng(7);
-    for (let trial = 0; trial < 60; trial++) {
-      const model = trial % 2 === 0 ? 'hypergeometric' : 'binomial';
-      const barns = randomSite(rng, model);
-      const total = barns.reduce((s, b) => s + b.maxRopes, 0);
-      const budget = Math.floor(rng() * (total + 1));
-      const result = allocateRopes(barns, budget);
-      const oracle = bruteForce(barns, budget);
-      expectClose(
-        result.siteDetection,
-        oracle.best,
-        { rel: 1e-9, abs: 1e-12 },
-        `trial ${trial} ${model} budget ${budget}`,
-      );
-      expect(result.total).toBeLessThanOrEqual(budget);
-      expect(result.total + result.unused).toBe(budget);
-      if (model === 'binomial') expect(result.method).toBe('greedy');
-    }
-  });
-
-  it('sizes a site with the fewest ropes reaching the target, never more than sizing each barn alone', () => {
-    const rng = seededRng(11);
-    for (let trial = 0; trial < 30; trial++) {
-      const barns = randomSite(rng, trial % 2 === 0 ? 'hypergeometric' : 'binomial');
-      const target = 0.8;
-      const result = sizeSite(barns, target);
-      const total = barns.reduce((s, b) => s + b.maxRopes, 0);
-      // Oracle: the smallest budget whose brute-force optimum reaches the target.
-      let fewest: number | null = null;
-      for (let m = 0; m <= total && fewest === null; m++) if (bruteForce(barns, m).best >= target - 1e-12) fewest = m;
-      if (fewest === null) {
-        expect(result.reachable).toBe(false);
-        expect(result.unreachable?.roundsNeeded).toBe(roundsToReach(result.allocation.siteDetection, target));
-      } else {
-        expect(result.reachable, `trial ${trial}`).toBe(true);
-        expect(result.allocation.total, `trial ${trial}`).toBe(fewest);
-        expect(result.allocation.siteDetection).toBeGreaterThanOrEqual(target - 1e-12);
-        if (result.equalShareTotal !== null)
-          expect(result.allocation.total).toBeLessThanOrEqual(result.equalShareTotal);
-      }
-    }
+    expectClose(allocateRopesBalanced(barns, 3).siteDetection, 0.996625, { abs: 5e-7 }, 'three barns at 0.85');
   });
 
   it('rejects a budget that is not a whole number of ropes', () => {
-    expect(() => allocateRopes([], 2.5)).toThrow('`budget` must be an integer in [0, infinity), got 2.5');
-    expect(() => sizeSite([], 0.95)).toThrow(RangeError);
+    expect(() => allocateRopesBalanced([], 2.5)).toThrow('`budget` must be an integer in [0, infinity), got 2.5');
   });
 });
 

@@ -10,16 +10,19 @@ import { parse } from 'csv-parse/sync';
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { clustersCsv } from '../../src/report/clustersCsv.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderBarnMap } from '../../src/report/html/barnMap.js';
 import { renderSpTrend, spAxis } from '../../src/report/html/charts.js';
-import { renderClustersPage, resultMarks } from '../../src/report/html/clustersPage.js';
+import { renderClustersPage } from '../../src/report/html/clustersPage.js';
+import { resultMarks } from '../../src/report/html/mapMarks.js';
 import { spLegendShades } from '../../src/report/html/page.js';
 import { LOAD_RAMP, spStep } from '../../src/report/html/palette.js';
-import { pairReading, renderSummaryPage } from '../../src/report/html/summaryPage.js';
+import { pairReading } from '../../src/report/html/summaryBarn.js';
+import { renderSummaryPage } from '../../src/report/html/summaryPage.js';
 import { summaryCsv } from '../../src/report/summaryCsv.js';
 import { roundRopes, smallConfig } from '../analysis/fixtures.js';
 import { twoRowLayout } from '../helpers/layouts.js';
@@ -127,7 +130,7 @@ function analyse(positiveAntibody: readonly number[], positivePcr: readonly numb
   const rounds = buildSiteRounds(site, ropes, [...results, ...antibody]);
   const confidence = siteConfidence(site, rounds);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-  const summaries = summariseSite(config, site, rounds, confidence);
+  const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
   return { config, site, summaries, spatial };
 }
 
@@ -291,7 +294,7 @@ describe('a new positive barn after a round without the assay', () => {
     );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const summaries = summariseSite(config, site, rounds, confidence);
+    const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const alert = roundAlerts(summaries, spatial, 2).find((entry) => entry.kind === 'new-positive-barn')!;
     expect(alert.message).toContain('PRRSV-AB was not tested in the previous round');
   });
@@ -311,7 +314,7 @@ describe('earlier rounds on the cluster review', () => {
     );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const summaries = summariseSite(config, site, rounds, confidence);
+    const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const html = renderClustersPage({
       site,
       summaries,

@@ -9,10 +9,11 @@ import type { BarnConfidence } from '../../src/analysis/confidence.js';
 import { sinceLastRound } from '../../src/analysis/sinceLastRound.js';
 import { alertItem, penSpan, roundAlerts } from '../../src/report/html/alerts.js';
 import { renderBarnMap, textWidth } from '../../src/report/html/barnMap.js';
-import { resultMarks } from '../../src/report/html/clustersPage.js';
+import { resultMarks } from '../../src/report/html/mapMarks.js';
 import { resultsLegend } from '../../src/report/html/page.js';
 import { renderPlanPage } from '../../src/report/html/planPage.js';
-import { againstTarget, renderSummaryPage, sinceBlock } from '../../src/report/html/summaryPage.js';
+import { againstTarget } from '../../src/report/html/summaryBarn.js';
+import { renderSummaryPage, sinceBlock } from '../../src/report/html/summaryPage.js';
 import { buildDemoPages, type DemoPages } from '../helpers/browser.js';
 import { twoRowLayout } from '../helpers/layouts.js';
 

@@ -7,6 +7,7 @@
 import { parse } from 'csv-parse/sync';
 import { describe, expect, it } from 'vitest';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderClustersPage } from '../../src/report/html/clustersPage.js';
@@ -19,7 +20,7 @@ const config = smallConfig();
 
 function outputs(groups = [G1, G2]) {
   const { site, rounds, confidence } = scenario(groups);
-  const summaries = summariseSite(config, site, rounds, confidence);
+  const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
   const csv = (index: number) => parse(summaryCsv(summaries[index]!), { columns: true }) as Record<string, string>[];
   return { site, summaries, spatial, csv };

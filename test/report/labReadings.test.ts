@@ -12,7 +12,8 @@ import { roundAlerts } from '../../src/report/html/alerts.js';
 import { LOAD_RAMP, loadStep } from '../../src/report/html/palette.js';
 import { renderClustersPage } from '../../src/report/html/clustersPage.js';
 import { escapeHtml } from '../../src/report/html/escape.js';
-import { caseList, mixedReadings, renderSummaryPage } from '../../src/report/html/summaryPage.js';
+import { mixedReadings } from '../../src/report/html/resultCells.js';
+import { caseList, renderSummaryPage } from '../../src/report/html/summaryPage.js';
 import { dateSpan, SUMMARY_COLUMNS, summaryCsv } from '../../src/report/summaryCsv.js';
 import { analyseScenario, config, site } from './labReadingsScenario.js';
 

@@ -17,6 +17,7 @@ import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
 
@@ -108,7 +109,7 @@ export const results: ResultInput[] = [
 export function analyseScenario() {
   const rounds = buildSiteRounds(site, ropes, results);
   const confidence = siteConfidence(site, rounds);
-  const summaries = summariseSite(config, site, rounds, confidence);
+  const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
   return { rounds, confidence, summaries, spatial };
 }

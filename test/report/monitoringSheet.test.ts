@@ -7,9 +7,11 @@ import { parse } from 'csv-parse/sync';
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { planNextRound } from '../../src/analysis/nextRound.js';
+import { wordPlan } from '../../src/report/planWording.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { renderClustersPage } from '../../src/report/html/clustersPage.js';
 import { renderRopeSheetPage, sizingLine } from '../../src/report/html/ropeSheetPage.js';
@@ -26,7 +28,9 @@ function planAfter(positive: readonly number[]) {
   const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
   return {
     site,
-    plan: planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }),
+    plan: wordPlan(
+      planNextRound({ site, rounds, confidence, spatial, settings: config.analysis, cache, today: '2026-08-10' }),
+    ),
   };
 }
 
@@ -70,7 +74,7 @@ describe('the freedom-reset alert of a positive round', () => {
     const rounds = buildSiteRounds(site, ropes, results);
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const alert = roundAlerts(summariseSite(config, site, rounds, confidence), spatial, 0).find(
+    const alert = roundAlerts(summariseSite(config, site, rounds, confidence).map(wordSummary), spatial, 0).find(
       (entry) => entry.kind === 'freedom-reset',
     )!;
     expect(alert.action).toContain('the site is positive since round 1');
@@ -93,7 +97,7 @@ describe('the cluster review of a monitored barn', () => {
     );
     const confidence = siteConfidence(site, rounds);
     const spatial = siteSpatial(site, rounds, confidence, config.analysis, new OutbreakCache(config.analysis));
-    const summaries = summariseSite(config, site, rounds, confidence);
+    const summaries = summariseSite(config, site, rounds, confidence).map(wordSummary);
     const page = (index: number) =>
       renderClustersPage({
         site,

@@ -14,6 +14,7 @@ import { describe, expect, it } from 'vitest';
 import { parse as parseYaml } from 'yaml';
 import { siteConfidence } from '../../src/analysis/confidence.js';
 import { summariseSite, type RoundSummary } from '../../src/analysis/roundSummary.js';
+import { wordSummary } from '../../src/report/summaryNotices.js';
 import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import {
@@ -106,7 +107,7 @@ function summaries(notes: RoundNotesInput, extraResults: ResultInput[] = []): Ro
     planned,
     notes,
   );
-  return summariseSite(config, site, rounds, siteConfidence(site, rounds));
+  return summariseSite(config, site, rounds, siteConfidence(site, rounds)).map(wordSummary);
 }
 
 const page = (summary: RoundSummary) =>

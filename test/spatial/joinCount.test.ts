@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { seededRng, shuffleInPlace } from '../../src/util/random.js';
+import { seededRng } from '../../src/util/random.js';
+import { shuffleInPlace } from '../helpers/shuffle.js';
 import {
   joinCountMoments,
   joinCountTest,

@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { featureCollection, point } from '@turf/helpers';
 import { moranIndex } from '@turf/moran-index';
-import { seededRng, shuffleInPlace } from '../../src/util/random.js';
+import { seededRng } from '../../src/util/random.js';
+import { shuffleInPlace } from '../helpers/shuffle.js';
 import { moranTest } from '../../src/spatial/moran.js';
 import { distanceBandWeights, knnWeights, weightsFromEdges, type SpatialWeights } from '../../src/spatial/weights.js';
 import { expectClose } from '../helpers/expectClose.js';

@@ -1,11 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import type { BarnLayout } from '../../src/domain/layout.js';
+import { inUsePens, type BarnLayout } from '../../src/domain/layout.js';
 import {
   contactWeights,
-  defaultBand,
   denseWeights,
   distanceBandWeights,
-  inUsePens,
   knnWeights,
   listWeights,
   weightConstants,
@@ -81,14 +79,15 @@ describe('spatial weights', () => {
     expect(weightConstants(w).s0).toBe(10);
   });
 
-  it('derives a default band from the sampling spacing so a systematic sample has no isolates', () => {
+  it('leaves no isolate in a systematic sample at a band of its nearest-neighbour spacing', () => {
     // Every sixth pen on alternating sides of a 2 x 30 barn: a rope at x = 0.5, 6.5, 12.5 ... in row A
     // and x = 3.5, 9.5, ... in row B; nearest rope 3 along and 1.5 across, sqrt(9 + 2.25) = 3.354 (hand).
     const sampled = [];
     for (let i = 0; i < 10; i++) sampled.push({ id: `S${i}`, x: 0.5 + 3 * i, y: i % 2 === 0 ? 0.5 : 2 });
-    const band = defaultBand(sampled);
-    expectClose(band, Math.sqrt(9 + 2.25), { rel: 1e-12 }, 'band of a staggered every-sixth sample');
+    const band = Math.sqrt(9 + 2.25);
     expect(distanceBandWeights(sampled, band, 'binary').isolates).toEqual([]);
+    // Just under that spacing every rope is alone (by hand: the nearest rope is 3.354 away).
+    expect(distanceBandWeights(sampled, band * 0.99, 'binary').isolates).toHaveLength(10);
   });
 
   it('computes S0, S1, S2 for a row of six as by hand', () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { barnSensitivityForSite, siteDetection } from '../../src/stats/index.js';
+import { barnTargetForSite, siteDetection } from '../../src/stats/index.js';
 import { expectClose } from '../helpers/expectClose.js';
 
 describe('site-level detection', () => {
@@ -23,12 +23,12 @@ describe('site-level detection', () => {
 
   it('inverts: the barn-level confidence needed for a site target', () => {
     // Martin, Cameron & Greiner 2007, Prev Vet Med 79:71-97: 1 - (1 - C)^(1/k); with C = 0.996625, k = 3 back to 0.85 (by hand above).
-    expectClose(barnSensitivityForSite(0.996625, 3), 0.85, { rel: 1e-12 }, 'C=0.996625 k=3');
+    expectClose(barnTargetForSite(0.996625, 3), 0.85, { rel: 1e-12 }, 'C=0.996625 k=3');
     // By hand: 1 - 0.05^(1/2) = 0.776393.
-    expectClose(barnSensitivityForSite(0.95, 2), 1 - Math.sqrt(0.05), { rel: 1e-13 }, 'C=0.95 k=2');
+    expectClose(barnTargetForSite(0.95, 2), 1 - Math.sqrt(0.05), { rel: 1e-13 }, 'C=0.95 k=2');
     fc.assert(
       fc.property(fc.double({ min: 0, max: 0.999999, noNaN: true }), fc.integer({ min: 1, max: 50 }), (c, k) => {
-        const p = barnSensitivityForSite(c, k);
+        const p = barnTargetForSite(c, k);
         expectClose(siteDetection(new Array(k).fill(p)), c, { rel: 1e-10, abs: 1e-15 }, `C=${c} k=${k}`);
       }),
       { numRuns: 200, seed: 31 },
@@ -37,6 +37,6 @@ describe('site-level detection', () => {
 
   it('rejects probabilities outside [0, 1] naming the barn', () => {
     expect(() => siteDetection([0.5, 1.2])).toThrow('`barnProbabilities[1]` must be a number in [0, 1], got 1.2');
-    expect(() => barnSensitivityForSite(0.95, 0)).toThrow('`barns` must be an integer in [1, 2^53), got 0');
+    expect(() => barnTargetForSite(0.95, 0)).toThrow('`barns` must be an integer in [1, 2^53), got 0');
   });
 });

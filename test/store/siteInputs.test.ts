@@ -6,6 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { analyseSite } from '../../src/analysis/analyseSite.js';
+import { wordSiteAnalysis } from '../../src/report/siteWording.js';
 import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import { northfieldExport } from '../../src/demo/scenario.js';
 import { regenerateOutputs } from '../../src/outputs.js';
@@ -49,7 +50,9 @@ describe("a site's inputs", () => {
     const before = store.siteInputs(SITE);
     const context = { config: open.config, today: clockDay(open.now()) };
     ws.closeStore();
-    const again = analyseSite(site, before, { ...context, cache: new OutbreakCache(open.config.analysis) });
+    const again = wordSiteAnalysis(
+      analyseSite(site, before, { ...context, cache: new OutbreakCache(open.config.analysis) }),
+    );
     expect(again).toEqual(written);
   });
 });

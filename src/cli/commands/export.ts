@@ -6,6 +6,7 @@
  */
 import path from 'node:path';
 import type { Command } from 'commander';
+import { commandModules } from '../command.js';
 import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
 import { type CliIo, UsageError } from '../io.js';
 
@@ -62,20 +63,13 @@ export function registerExport(program: Command, io: CliIo): void {
       .option('--out <dir>', 'write <table>.csv or <table>.json into this folder instead of standard output'),
   ).action(async (options: ExportOptions) => {
     const { format, table, range } = parseOptions(options);
-    const [{ withWorkspace }, { regenerateOutputs, staleSites }, { exportText, writeExport }] = await Promise.all([
-      import('../workspaceOptions.js'),
-      import('../../outputs.js'),
-      import('../../report/tidy/exportTables.js'),
-    ]);
+    const [{ regenerateOutputs, siteOption, withWorkspace }, { staleSites }, { exportText, writeExport }] =
+      await Promise.all([commandModules(), import('../../outputs.js'), import('../../report/tidy/exportTables.js')]);
     withWorkspace(
       io,
       options,
       (ws) => {
-        const wanted = options.site.toUpperCase();
-        const site = ws.config.sites.find((candidate) =>
-          [candidate.id, candidate.code, candidate.name].some((name) => name.toUpperCase() === wanted),
-        );
-        if (!site) throw new UsageError(`no site ${JSON.stringify(options.site)} in ${ws.configDir}/sites.yaml`);
+        const site = siteOption(ws, options.site);
         // The views hold what the site's last build of outputs gave them: bring it up to date first.
         if (staleSites(ws).includes(site.id)) regenerateOutputs(ws, [site.id]);
         const request = { siteId: site.id, format, range, table };

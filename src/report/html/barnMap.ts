@@ -5,9 +5,12 @@
  * the layout (tested on its own); the renderer only paints it.
  */
 import { expandLayout, type BarnLayout, type PenStatus } from '../../domain/layout.js';
-import { COLOURS, LOAD_RAMP, loadStep } from './palette.js';
+import { COLOURS } from './palette.js';
+import { fmt, renderPen } from './mapPen.js';
 import { escapeHtml, safeId } from './escape.js';
-import type { PlanReason } from '../../plan/monitoring.js';
+import type { PenMark, PlannedMark } from './mapPen.js';
+
+export type { PenMark, PlannedMark } from './mapPen.js';
 
 export interface MapMargin {
   left: number;
@@ -128,26 +131,6 @@ export function barnGeometry(
   };
 }
 
-/** What a map shows for one pen. Pens without a mark are drawn as not roped. */
-export interface PenMark {
-  resultClass: 'positive' | 'suspect' | 'negative' | 'invalid' | 'missing';
-  /** Load score max(0, C_max - Ct), cycles. */
-  load: number;
-  /** Ramp step to fill with instead of the load's (an S/P result: spStep); the tooltip then names no load. */
-  shade?: number;
-  /** Positive now and never before (a small corner flag). */
-  newPositive?: boolean;
-  /** Text for the pen's tooltip. */
-  note?: string;
-}
-
-/** A planned rope on the rope sheet. */
-export interface PlannedMark {
-  reason: PlanReason;
-  /** 1-based line of the checklist. */
-  order: number;
-}
-
 export interface MapOptions {
   /** Unique within the page: used for pattern ids. */
   key: string;
@@ -182,15 +165,6 @@ const overlaps = (
   b: { x: number; y: number; width: number; height: number },
 ) => a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
 
-const SYMBOL: Readonly<Record<PenMark['resultClass'], string>> = {
-  positive: '+',
-  suspect: '?',
-  negative: '\u2212',
-  invalid: '\u00d7',
-  missing: 'M',
-};
-const fmt = (value: number) => String(Math.round(value * 10) / 10);
-
 function patternDefs(prefix: string): string {
   return (
     `<defs>` +
@@ -200,20 +174,84 @@ function patternDefs(prefix: string): string {
   );
 }
 
-function plannedSymbol(mark: PlannedMark, cx: number, cy: number, r: number): string {
-  const s = fmt;
-  switch (mark.reason) {
-    case 'routine':
-      return `<circle cx="${s(cx)}" cy="${s(cy)}" r="${s(r)}" fill="#ffffff" stroke="#000000" stroke-width="2"/>`;
-    case 'follow-up':
-      return `<polygon points="${s(cx)},${s(cy - r * 1.2)} ${s(cx + r * 1.15)},${s(cy + r * 0.85)} ${s(cx - r * 1.15)},${s(cy + r * 0.85)}" fill="#ffffff" stroke="#000000" stroke-width="2.4"/>`;
-    case 'retest':
-      return `<rect x="${s(cx - r)}" y="${s(cy - r)}" width="${s(2 * r)}" height="${s(2 * r)}" fill="#ffffff" stroke="#000000" stroke-width="2.4" transform="rotate(45 ${s(cx)} ${s(cy)})"/>`;
-    case 're-rope':
-      return `<rect x="${s(cx - r * 0.9)}" y="${s(cy - r * 0.9)}" width="${s(1.8 * r)}" height="${s(1.8 * r)}" fill="#ffffff" stroke="#000000" stroke-width="3"/>`;
-    case 'tracking':
-      return `<circle cx="${s(cx)}" cy="${s(cy)}" r="${s(r)}" fill="#ffffff" stroke="#000000" stroke-width="2" stroke-dasharray="3 2"/>`;
+/**
+ * Renders a barn map as an inline SVG string: alley and gaps in grey, pens to scale, roped pens
+ * filled by load on the single-hue ramp with a symbol (+ positive, ? suspect, × invalid,
+ * − negative), positives with a heavy black outline, empty pens hatched, out-of-use pens
+ * cross-hatched, clusters as rounded boxes around their pens, planned ropes as a shape by reason
+ * (circle routine, triangle follow-up, diamond retest) with the checklist number.
+ * Each pen carries data-pen, and data-positive / data-planned / data-status where they apply.
+ * @throws RangeError as barnGeometry, or for an unknown load
+ */
+type ClusterBox = {
+  index: number;
+  x0: number;
+  y0: number;
+  x1: number;
+  y1: number;
+  label: string;
+  labelX: number;
+  labelY: number;
+  labelBox: { x: number; y: number; width: number; height: number };
+};
+
+/** The rounded box around each cluster's pens, with where its label goes. */
+function clusterBoxes(geometry: BarnGeometry, clusters: MapOptions['clusters'], full: boolean): ClusterBox[] {
+  const byId = new Map(geometry.pens.map((pen) => [pen.id, pen]));
+  return (clusters ?? []).flatMap((cluster) => {
+    const members = cluster.pens.map((id) => byId.get(id)).filter((pen): pen is PenRect => pen !== undefined);
+    if (members.length === 0) return [];
+    const pad = full ? 3 : 1.5;
+    const x0 = Math.min(...members.map((pen) => pen.x)) - pad;
+    const y0 = Math.min(...members.map((pen) => pen.y)) - pad;
+    const x1 = Math.max(...members.map((pen) => pen.x + pen.width)) + pad;
+    const y1 = Math.max(...members.map((pen) => pen.y + pen.height)) + pad;
+    const label = `C${cluster.index}`;
+    const labelY = Math.max(9, y0 - 3);
+    const labelBox = {
+      x: x0 + 2,
+      y: labelY - CLUSTER_LABEL_SIZE,
+      width: textWidth(label, CLUSTER_LABEL_SIZE),
+      height: CLUSTER_LABEL_SIZE + 3,
+    };
+    return [{ index: cluster.index, x0, y0, x1, y1, label, labelX: x0 + 2, labelY, labelBox }];
+  });
+}
+
+/** "alley" in each alley tall enough for it, where no cluster label covers it; the row labels in the margin. */
+function alleyAndRowLabels(geometry: BarnGeometry, boxes: readonly ClusterBox[]): string[] {
+  const parts: string[] = [];
+  for (const alley of geometry.bands.filter((band) => band.kind === 'alley')) {
+    if (alley.height < 9) continue;
+    const size = Math.min(10, alley.height * 0.75);
+    const width = textWidth('alley', size);
+    // Left end first, then the right end, then the middle: the first place no cluster label covers.
+    const candidates = [alley.x + 4, alley.x + alley.width - 4 - width, alley.x + (alley.width - width) / 2];
+    const box = (x: number) => ({ x, y: alley.y + alley.height / 2 - size / 2, width, height: size });
+    const x =
+      candidates.find((candidate) => boxes.every((cluster) => !overlaps(box(candidate), cluster.labelBox))) ?? null;
+    if (x === null) continue;
+    parts.push(
+      `<text class="alley-label" x="${fmt(x)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(size)}" fill="${COLOURS.muted}">alley</text>`,
+    );
   }
+  for (const label of geometry.rowLabels) {
+    parts.push(
+      `<text class="row-label" x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="${ROW_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`,
+    );
+  }
+  return parts;
+}
+
+/** A cluster's dashed box, labelled on the full map. */
+function clusterBox(cluster: ClusterBox, full: boolean): string {
+  return (
+    `<g class="cluster" data-cluster="${cluster.index}"><rect x="${fmt(cluster.x0)}" y="${fmt(cluster.y0)}" width="${fmt(cluster.x1 - cluster.x0)}" height="${fmt(cluster.y1 - cluster.y0)}" rx="${full ? 8 : 3}" fill="none" stroke="${COLOURS.cluster}" stroke-width="${full ? 2 : 1.2}" stroke-dasharray="${full ? '7 3' : '3 2'}"/>` +
+    (full
+      ? `<text class="cluster-label" x="${fmt(cluster.labelX)}" y="${fmt(cluster.labelY)}" font-size="${CLUSTER_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${cluster.label}</text>`
+      : '') +
+    `</g>`
+  );
 }
 
 /**
@@ -248,148 +286,13 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
       `<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`,
     );
   }
-  const byId = new Map(geometry.pens.map((pen) => [pen.id, pen]));
-  const clusterBoxes = (options.clusters ?? []).flatMap((cluster) => {
-    const members = cluster.pens.map((id) => byId.get(id)).filter((pen): pen is PenRect => pen !== undefined);
-    if (members.length === 0) return [];
-    const pad = full ? 3 : 1.5;
-    const x0 = Math.min(...members.map((pen) => pen.x)) - pad;
-    const y0 = Math.min(...members.map((pen) => pen.y)) - pad;
-    const x1 = Math.max(...members.map((pen) => pen.x + pen.width)) + pad;
-    const y1 = Math.max(...members.map((pen) => pen.y + pen.height)) + pad;
-    const label = `C${cluster.index}`;
-    const labelY = Math.max(9, y0 - 3);
-    return [
-      {
-        index: cluster.index,
-        x0,
-        y0,
-        x1,
-        y1,
-        label,
-        labelX: x0 + 2,
-        labelY,
-        labelBox: {
-          x: x0 + 2,
-          y: labelY - CLUSTER_LABEL_SIZE,
-          width: textWidth(label, CLUSTER_LABEL_SIZE),
-          height: CLUSTER_LABEL_SIZE + 3,
-        },
-      },
-    ];
-  });
-  if (full) {
-    for (const alley of geometry.bands.filter((band) => band.kind === 'alley')) {
-      if (alley.height < 9) continue;
-      const size = Math.min(10, alley.height * 0.75);
-      const width = textWidth('alley', size);
-      // Left end first, then the right end, then the middle: the first place no cluster label covers.
-      const candidates = [alley.x + 4, alley.x + alley.width - 4 - width, alley.x + (alley.width - width) / 2];
-      const box = (x: number) => ({ x, y: alley.y + alley.height / 2 - size / 2, width, height: size });
-      const x =
-        candidates.find((candidate) => clusterBoxes.every((cluster) => !overlaps(box(candidate), cluster.labelBox))) ??
-        null;
-      if (x === null) continue;
-      parts.push(
-        `<text class="alley-label" x="${fmt(x)}" y="${fmt(alley.y + alley.height / 2)}" dominant-baseline="central" font-size="${fmt(size)}" fill="${COLOURS.muted}">alley</text>`,
-      );
-    }
-    for (const label of geometry.rowLabels) {
-      parts.push(
-        `<text class="row-label" x="${fmt(label.x)}" y="${fmt(label.y)}" text-anchor="middle" dominant-baseline="central" font-size="${ROW_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${escapeHtml(label.label)}</text>`,
-      );
-    }
-  }
+  const boxes = clusterBoxes(geometry, options.clusters, full);
+  if (full) parts.push(...alleyAndRowLabels(geometry, boxes));
   const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
   for (const pen of geometry.pens) {
-    const result = options.results?.get(pen.id);
-    const planned = options.planned?.get(pen.id);
-    let fill = '#ffffff';
-    let ink: string = COLOURS.ink;
-    if (pen.status === 'empty') fill = `url(#${prefix}-empty)`;
-    else if (pen.status === 'out-of-use') fill = `url(#${prefix}-out)`;
-    if (result && result.resultClass !== 'missing') {
-      const step = LOAD_RAMP[result.shade ?? loadStep(result.load)];
-      if (step === undefined)
-        throw new RangeError(
-          `\`shade\` of pen ${pen.id} must be an integer in [0, ${LOAD_RAMP.length - 1}], got ${result.shade}`,
-        );
-      fill = step.fill;
-      ink = step.ink;
-    }
-    const positive = result?.resultClass === 'positive';
-    const stroke = positive ? COLOURS.positiveStroke : result ? '#4b5563' : COLOURS.penStroke;
-    const strokeWidth = positive ? (full ? 3.2 : 2) : result ? 1.2 : 0.8;
-    const inset = positive ? strokeWidth / 2 : 0;
-    const data = [
-      `data-pen="${escapeHtml(pen.id)}"`,
-      `data-status="${pen.status}"`,
-      ...(result ? [`data-result="${result.resultClass}"`] : []),
-      ...(positive ? ['data-positive=""'] : []),
-      ...(planned ? [`data-planned="${planned.reason}"`] : []),
-    ].join(' ');
-    const tip = [
-      pen.id,
-      pen.status === 'in-use' ? '' : pen.status,
-      result
-        ? `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`
-        : '',
-      result?.note ?? '',
-      planned ? `${planned.reason} rope #${planned.order}` : '',
-    ]
-      .filter((text) => text !== '')
-      .join(', ');
-    parts.push(`<g class="pen" ${data}><title>${escapeHtml(tip)}</title>`);
-    parts.push(
-      `<rect x="${fmt(pen.x + inset)}" y="${fmt(pen.y + inset)}" width="${fmt(pen.width - 2 * inset)}" height="${fmt(pen.height - 2 * inset)}" fill="${fill}" stroke="${stroke}" stroke-width="${fmt(strokeWidth)}"${result?.resultClass === 'missing' ? ' stroke-dasharray="3 2"' : ''}/>`,
-    );
-    if (full) {
-      const cx = pen.x + pen.width / 2;
-      const statusText = pen.status === 'empty' ? 'empty' : pen.status === 'out-of-use' ? 'out' : '';
-      const labelBox =
-        statusText !== '' && !result
-          ? `<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + 2)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`
-          : '';
-      parts.push(labelBox);
-      parts.push(
-        `<text x="${fmt(cx)}" y="${fmt(pen.y + 3 + fontSize * 0.85)}" text-anchor="middle" font-size="${fmt(fontSize)}" fill="${ink}">${escapeHtml(pen.id)}</text>`,
-      );
-      if (result) {
-        parts.push(
-          `<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.72)}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(fontSize * 1.45)}" font-weight="700" fill="${ink}">${SYMBOL[result.resultClass]}</text>`,
-        );
-        if (result.newPositive)
-          parts.push(
-            `<polygon points="${fmt(pen.x + pen.width - 9)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 3)} ${fmt(pen.x + pen.width - 3)},${fmt(pen.y + 9)}" fill="#ffffff" stroke="#000000" stroke-width="1"/>`,
-          );
-      } else if (planned) {
-        const cy = pen.y + pen.height * 0.66;
-        const r = Math.min(pen.width, pen.height) * 0.24;
-        parts.push(plannedSymbol(planned, cx, cy, r));
-        // Two-digit numbers sit lower in the triangle, where it is wide enough.
-        parts.push(
-          `<text x="${fmt(cx)}" y="${fmt(cy + (planned.reason === 'follow-up' ? r * 0.3 : 0))}" text-anchor="middle" dominant-baseline="central" font-size="${fmt(Math.max(7, r * (planned.order >= 10 ? 0.85 : 1.05)))}" font-weight="700" fill="#000000">${planned.order}</text>`,
-        );
-      } else if (statusText !== '') {
-        parts.push(
-          `<rect x="${fmt(cx - pen.width * 0.42)}" y="${fmt(pen.y + pen.height * 0.55)}" width="${fmt(pen.width * 0.84)}" height="${fmt(fontSize + 2)}" fill="#ffffff"/>`,
-        );
-        parts.push(
-          `<text x="${fmt(cx)}" y="${fmt(pen.y + pen.height * 0.55 + fontSize * 0.9)}" text-anchor="middle" font-size="${fmt(fontSize * 0.8)}" fill="${COLOURS.ink}">${statusText}</text>`,
-        );
-      }
-    }
-    parts.push(`</g>`);
+    parts.push(renderPen(pen, options.results?.get(pen.id), options.planned?.get(pen.id), { full, prefix, fontSize }));
   }
-  for (const cluster of clusterBoxes) {
-    parts.push(
-      `<g class="cluster" data-cluster="${cluster.index}"><rect x="${fmt(cluster.x0)}" y="${fmt(cluster.y0)}" width="${fmt(cluster.x1 - cluster.x0)}" height="${fmt(cluster.y1 - cluster.y0)}" rx="${full ? 8 : 3}" fill="none" stroke="${COLOURS.cluster}" stroke-width="${full ? 2 : 1.2}" stroke-dasharray="${full ? '7 3' : '3 2'}"/>` +
-        (full
-          ? `<text class="cluster-label" x="${fmt(cluster.labelX)}" y="${fmt(cluster.labelY)}" font-size="${CLUSTER_LABEL_SIZE}" font-weight="700" fill="${COLOURS.ink}">${cluster.label}</text>`
-          : '') +
-        `</g>`,
-    );
-  }
+  for (const cluster of boxes) parts.push(clusterBox(cluster, full));
   parts.push('</svg>');
   return parts.join('');
 }

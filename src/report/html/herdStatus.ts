@@ -7,13 +7,12 @@ import type { RoundSummary } from '../../analysis/roundSummary.js';
 import type { HerdStatus } from '../../config/types.js';
 import { escapeHtml } from './escape.js';
 import { pct } from './page.js';
+import { siteTally } from '../siteTally.js';
 
 /** What one round's numbers say, per assay, in one plain sentence each. */
 export function numbersSay(summary: RoundSummary): string[] {
   return summary.assays.map((assay) => {
-    const tallies = summary.barns.flatMap((barn) => barn.assays.filter((tally) => tally.assayId === assay.id));
-    const tested = tallies.reduce((sum, tally) => sum + tally.tested, 0);
-    const positive = tallies.reduce((sum, tally) => sum + tally.positive, 0);
+    const { tested, positive } = siteTally(summary, assay.id);
     const barns = assay.site.positiveBarns;
     const found =
       positive > 0

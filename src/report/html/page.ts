@@ -5,6 +5,7 @@
  */
 import { CAUTIONS } from '../cautions.js';
 import { escapeHtml, safeId } from './escape.js';
+import { formatPValue, formatPercent } from '../../util/format.js';
 import { COLOURS, LOAD_BAND_CYCLES, LOAD_RAMP, SP_STEP_MULTIPLES } from './palette.js';
 
 export interface PageInput {
@@ -297,20 +298,12 @@ export function sheetLegend(rawKey: string, monitored = false): string {
   );
 }
 
-/** A probability as a percentage with one decimal ("95.0%"); never NaN. */
-export function pct(p: number | null | undefined): string {
-  if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';
-  const text = (100 * p).toFixed(1);
-  // 0.99994 must not read as a certainty, nor 0.00004 as an impossibility.
-  if (text === '100.0' && p < 1) return '> 99.9%';
-  if (text === '0.0' && p > 0) return '< 0.1%';
-  return `${text}%`;
-}
+/** A probability as a percentage with one decimal ("95.0%"), guarded as `formatPercent` is; never NaN. */
+export const pct = formatPercent;
 
-/** A p-value as the statistics modules word it: "< 0.001" or three decimals. */
+/** A p-value as the statistics modules word it ("< 0.001" or three decimals), escaped for HTML. */
 export function pValue(p: number | null | undefined): string {
-  if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';
-  return p < 0.001 ? '&lt; 0.001' : p.toFixed(3);
+  return escapeHtml(formatPValue(p));
 }
 
 /** A number with fixed decimals, or "n/a". */
