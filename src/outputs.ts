@@ -21,6 +21,8 @@ import { nextRoundCsv, nextRoundJson } from './report/nextRoundFiles.js';
 import { alertsOfRounds } from './report/html/alerts.js';
 import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
+import { jsonText } from './report/jsonText.js';
+import { writeTidyTables } from './report/tidy/tidyTables.js';
 import type { Workspace } from './workspace.js';
 
 export type { AnalyseOptions, SiteAnalysis };
@@ -50,7 +52,7 @@ export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
   );
 }
 
-const json = (value: unknown): string => JSON.stringify(value, null, 2) + '\n';
+const json = jsonText;
 
 /** Writes one site's outputs under outbox/<site>/ through `writer`. */
 export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: OutputWriter): void {
@@ -68,7 +70,9 @@ export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: 
   // Read by the delivery after the outputs (src/alerts/deliver.ts).
   // Each round's alerts look back over the rounds before it: built once for the pages, the digest and the records.
   const alertsByRound = alertsOfRounds(analysis);
-  writer.write(path.join(siteDir, SITE_ALERTS_FILE), json(siteAlertsFile(analysis, alertsByRound)));
+  const alertsFile = siteAlertsFile(analysis, alertsByRound);
+  writer.write(path.join(siteDir, SITE_ALERTS_FILE), json(alertsFile));
+  writeTidyTables(ws.store.db, analysis, alertsFile.alerts, siteDir, writer);
   writeSitePages(ws.outbox, ws.config, analysis, writer, alertsByRound);
 }
 

@@ -5,6 +5,7 @@
  */
 import fs from 'node:fs';
 import type { AlertRecord } from './records.js';
+import { jsonLine } from '../report/jsonText.js';
 
 export const FEED_FILE = 'alerts.jsonl';
 
@@ -81,7 +82,7 @@ export function appendToFeed(file: string, lines: readonly FeedLine[]): number {
   if (fresh.length > 0) {
     // A line cut short by a crash is ended first, so that the next line stands on its own.
     const lead = text.length > 0 && !text.endsWith('\n') ? '\n' : '';
-    fs.appendFileSync(file, lead + fresh.map((line) => JSON.stringify(line) + '\n').join(''));
+    fs.appendFileSync(file, lead + fresh.map((line) => jsonLine(line) + '\n').join(''));
   }
   return fresh.length;
 }

@@ -19,6 +19,7 @@ import { DIGEST_SCHEMA, renderIndexPage, type SiteDigest } from './html/indexPag
 import { renderPlanPage } from './html/planPage.js';
 import { renderRopeSheetPage } from './html/ropeSheetPage.js';
 import { nextRoundLabelPages } from './nextRoundFiles.js';
+import { jsonText } from './jsonText.js';
 import { renderSummaryPage } from './html/summaryPage.js';
 
 export type { SiteDigest } from './html/indexPage.js';
@@ -133,7 +134,7 @@ export function writeSitePages(
     path.join(siteDir, 'plan.html'),
     renderPlanPage({ plan, notices: digest.notices, herdStatus: herdStatusBlock(site.herdStatus, summaries.at(-1)) }),
   );
-  writer.write(path.join(siteDir, 'site.json'), JSON.stringify(digest, null, 2) + '\n');
+  writer.write(path.join(siteDir, 'site.json'), jsonText(digest));
 }
 
 function readDigest(file: string): SiteDigest | null {

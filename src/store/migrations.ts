@@ -310,4 +310,61 @@ export const MIGRATIONS: readonly Migration[] = [
   CREATE INDEX planned_ropes_pool ON planned_ropes(pool_id) WHERE pool_id IS NOT NULL;
   `,
   },
+  {
+    sql: `
+  -- 7: read-only views for analysts (R, Python): results with their pen and round, rounds, alerts
+  -- (src/store/tidyFacts.ts). Rounds are formed from the rope dates by the analysis, not stored:
+  -- each build of a site's outputs replaces its rows in the analysis_* tables (each rope's round,
+  -- the rounds' figures, the alerts), and the views join them with the stored results. Tables and
+  -- views added, nothing rebuilt.
+  CREATE TABLE analysis_rope_rounds (
+    site_id TEXT NOT NULL,
+    sample_id TEXT NOT NULL,
+    round INTEGER NOT NULL,
+    round_id TEXT NOT NULL,
+    round_start TEXT NOT NULL,
+    group_id TEXT,
+    barn_id TEXT NOT NULL,
+    pen_id TEXT NOT NULL,
+    pool_id TEXT,
+    PRIMARY KEY (site_id, sample_id)
+  ) WITHOUT ROWID;
+  CREATE INDEX analysis_rope_rounds_sample ON analysis_rope_rounds(sample_id);
+  CREATE INDEX analysis_rope_rounds_pool ON analysis_rope_rounds(pool_id) WHERE pool_id IS NOT NULL;
+  CREATE TABLE analysis_rounds (
+    site TEXT NOT NULL, barn TEXT NOT NULL, round INTEGER NOT NULL, round_id TEXT NOT NULL,
+    round_start TEXT NOT NULL, round_end TEXT NOT NULL, round_state TEXT NOT NULL, "group" TEXT,
+    barn_empty INTEGER NOT NULL, assay TEXT, measure TEXT, pens_in_use INTEGER NOT NULL,
+    ropes_hung INTEGER NOT NULL, ropes_returned INTEGER NOT NULL, ropes_missing INTEGER NOT NULL,
+    tested INTEGER, positive INTEGER, suspect INTEGER, negative INTEGER, invalid INTEGER,
+    design_infected_pens INTEGER, rope_sensitivity REAL, detection_hypergeometric REAL,
+    detection_spread_model REAL, detection_spread_model_se REAL, target_confidence REAL NOT NULL,
+    ropes_needed INTEGER, barn_positive INTEGER, positive_since INTEGER, barn_freedom REAL, prior_freedom REAL
+  );
+  CREATE INDEX analysis_rounds_site ON analysis_rounds(site, round);
+  CREATE TABLE analysis_alerts (
+    key TEXT NOT NULL, site TEXT NOT NULL, round INTEGER NOT NULL, round_id TEXT NOT NULL,
+    round_start TEXT NOT NULL, round_end TEXT NOT NULL, awaiting_results INTEGER NOT NULL,
+    assay TEXT, barn TEXT, kind TEXT NOT NULL, action TEXT NOT NULL, detail TEXT NOT NULL,
+    PRIMARY KEY (site, key)
+  );
+
+  -- One row per result and pen: a pool's result stands for each pen of the pool (pool names it);
+  -- superseded_by is the result that took its place (NULL: current).
+  CREATE VIEW tidy_results AS
+    SELECT rr.site_id AS site, rr.barn_id AS barn, rr.pen_id AS pen, rr.round AS round, rr.round_id AS round_id,
+           rr.round_start AS round_start, rr.group_id AS "group", r.collected_on AS date,
+           rr.sample_id AS sample_id, CASE WHEN s.sample_id = rr.sample_id THEN NULL ELSE s.sample_id END AS pool,
+           r.lab_id AS lab, r.accession AS case_number, r.assay_id AS assay, r.measure AS measure,
+           CASE WHEN r.measure = 'sp-ratio' THEN r.sp ELSE r.ct END AS value, r.ct_raw AS value_as_written,
+           r.class AS class, r.lab_call AS lab_call, r.call_differs AS call_differs, r.reported_on AS reported_on,
+           (SELECT MIN(x.new_result_id) FROM supersessions x WHERE x.old_result_id = r.id) AS superseded_by,
+           r.id AS result_id
+    FROM results r
+    JOIN samples s ON s.id = r.sample
+    JOIN analysis_rope_rounds rr ON rr.sample_id = s.sample_id OR rr.pool_id = s.sample_id;
+  CREATE VIEW tidy_rounds AS SELECT * FROM analysis_rounds;
+  CREATE VIEW tidy_alerts AS SELECT * FROM analysis_alerts;
+  `,
+  },
 ];

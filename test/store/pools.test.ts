@@ -31,7 +31,7 @@ describe('pooled ropes in the store', () => {
     ).run();
     v5.close();
     const store = ws.ws().store;
-    expect(store.db.pragma('user_version', { simple: true })).toBe(6);
+    expect(store.db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
     expect(store.db.pragma('integrity_check', { simple: true })).toBe('ok');
     expect(store.ropes()).toEqual([expect.objectContaining({ sampleId: 'S1', penId: 'A1', poolId: null })]);
     expect(store.db.pragma('foreign_key_check')).toEqual([]);

@@ -5,6 +5,7 @@
 import type { RegisterCommand } from '../command.js';
 import { registerCalc } from './calc.js';
 import { registerDemo } from './demo.js';
+import { registerExport } from './export.js';
 import { registerListen } from './listen.js';
 import { registerIngest } from './ingest.js';
 import { registerPlan } from './plan.js';
@@ -21,6 +22,7 @@ export const COMMANDS: readonly RegisterCommand[] = [
   registerReport,
   registerDemo,
   registerPlan,
+  registerExport,
   registerRetry,
   registerCalc,
 ];

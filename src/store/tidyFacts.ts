@@ -1,0 +1,89 @@
+/**
+ * The store's side of the tidy tables (migration 7): each build of a site's outputs replaces the
+ * site's rows in analysis_rope_rounds, analysis_rounds and analysis_alerts in one short write,
+ * and the read-only views tidy_results, tidy_rounds and tidy_alerts give them back, joined with
+ * the stored results, to the outputs, to `ropewatch export` and to analysts reading the store.
+ */
+import type Database from 'better-sqlite3';
+
+export type FactValue = string | number | boolean | null;
+
+export interface SiteFacts {
+  ropeRounds: readonly {
+    sampleId: string;
+    round: number;
+    roundId: string;
+    roundStart: string;
+    groupId: string | null;
+    barnId: string;
+    penId: string;
+    poolId: string | null;
+  }[];
+  rounds: readonly Record<string, FactValue>[];
+  alerts: readonly Record<string, FactValue>[];
+}
+
+export const TIDY_VIEWS = { results: 'tidy_results', rounds: 'tidy_rounds', alerts: 'tidy_alerts' } as const;
+export type TidyView = keyof typeof TIDY_VIEWS;
+
+/** The order rows come in: by round, then what the row is about. */
+const ORDER: Record<TidyView, string> = {
+  results: 'round, barn, pen, assay, result_id',
+  rounds: 'round, barn, assay',
+  alerts: 'round, key',
+};
+
+const sqlValue = (value: FactValue | undefined): string | number | null =>
+  value === undefined ? null : typeof value === 'boolean' ? (value ? 1 : 0) : value;
+
+function insertAll(db: Database.Database, table: string, rows: readonly Record<string, FactValue>[]): void {
+  if (rows.length === 0) return;
+  const columns = Object.keys(rows[0]!);
+  const insert = db.prepare(
+    `INSERT INTO ${table} (${columns.map((name) => `"${name}"`).join(', ')}) VALUES (${columns.map(() => '?').join(', ')})`,
+  );
+  for (const row of rows) insert.run(columns.map((name) => sqlValue(row[name])));
+}
+
+/** Replaces a site's facts in one transaction (the write lock taken up front). */
+export function replaceSiteFacts(db: Database.Database, siteId: string, facts: SiteFacts): void {
+  db.transaction(() => {
+    db.prepare('DELETE FROM analysis_rope_rounds WHERE site_id = ?').run(siteId);
+    db.prepare('DELETE FROM analysis_rounds WHERE site = ?').run(siteId);
+    db.prepare('DELETE FROM analysis_alerts WHERE site = ?').run(siteId);
+    const rope = db.prepare(
+      `INSERT OR IGNORE INTO analysis_rope_rounds (site_id, sample_id, round, round_id, round_start, group_id, barn_id, pen_id, pool_id)
+       VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+    );
+    for (const entry of facts.ropeRounds)
+      rope.run(
+        siteId,
+        entry.sampleId,
+        entry.round,
+        entry.roundId,
+        entry.roundStart,
+        entry.groupId,
+        entry.barnId,
+        entry.penId,
+        entry.poolId,
+      );
+    insertAll(db, 'analysis_rounds', facts.rounds);
+    insertAll(db, 'analysis_alerts', facts.alerts);
+  }).immediate();
+}
+
+/** Rows of a view for one site whose rounds began in [from, to] (ISO dates; either may be left open). */
+export function readTidyView(
+  db: Database.Database,
+  view: TidyView,
+  siteId: string,
+  range: { from?: string | undefined; to?: string | undefined } = {},
+): Record<string, unknown>[] {
+  return db
+    .prepare(
+      `SELECT * FROM ${TIDY_VIEWS[view]} WHERE site = @siteId
+         AND (@from IS NULL OR round_start >= @from) AND (@to IS NULL OR round_start <= @to)
+       ORDER BY ${ORDER[view]}`,
+    )
+    .all({ siteId, from: range.from ?? null, to: range.to ?? null }) as Record<string, unknown>[];
+}
