@@ -1,0 +1,66 @@
+/** The distinct cutoffs (lab, assay) a round's results were read with, as stored with each result. Pure. */
+import type { ResultInput, RoundCutoff } from './roundTypes.js';
+import { compareText } from './penOrder.js';
+
+const known = (value: number | null | undefined): value is number => value !== null && value !== undefined;
+
+/** The cutoffs a result was read with, when stored with it (older callers give none). */
+function roundCutoffOf(result: ResultInput): Omit<RoundCutoff, 'results'> | undefined {
+  const measure = result.measure ?? 'ct';
+  if (measure === 'sp-ratio') {
+    if (!known(result.positiveAtOrAbove)) return undefined;
+    return {
+      labId: result.labId,
+      assayId: result.assayId,
+      measure,
+      positiveBelow: null,
+      suspectBelow: null,
+      cycleLimit: null,
+      positiveAtOrAbove: result.positiveAtOrAbove,
+      suspectAtOrAbove: result.suspectAtOrAbove ?? null,
+    };
+  }
+  if (!known(result.positiveBelow) || !known(result.suspectBelow)) return undefined;
+  return {
+    labId: result.labId,
+    assayId: result.assayId,
+    measure,
+    positiveBelow: result.positiveBelow,
+    suspectBelow: result.suspectBelow,
+    cycleLimit: result.cycleLimit,
+    positiveAtOrAbove: null,
+    suspectAtOrAbove: null,
+  };
+}
+
+/** Counts one result under the cutoffs it was read with (keyed by lab, assay, measure and every cutoff). */
+export function countCutoff(cutoffs: Map<string, RoundCutoff>, result: ResultInput): void {
+  const readWith = roundCutoffOf(result);
+  if (readWith === undefined) return;
+  const key = [
+    readWith.labId,
+    readWith.assayId,
+    readWith.measure,
+    readWith.positiveBelow,
+    readWith.suspectBelow,
+    readWith.cycleLimit,
+    readWith.positiveAtOrAbove,
+    readWith.suspectAtOrAbove,
+  ].join('\u0000');
+  const cutoff = cutoffs.get(key);
+  if (cutoff) cutoff.results++;
+  else cutoffs.set(key, { ...readWith, results: 1 });
+}
+
+/** The counted cutoffs by lab, assay, then the cutoffs themselves. */
+export function sortedCutoffs(cutoffs: Map<string, RoundCutoff>): RoundCutoff[] {
+  return [...cutoffs.values()].sort(
+    (a, b) =>
+      compareText(a.labId, b.labId) ||
+      compareText(a.assayId, b.assayId) ||
+      (a.positiveBelow ?? 0) - (b.positiveBelow ?? 0) ||
+      (a.cycleLimit ?? 0) - (b.cycleLimit ?? 0) ||
+      (a.positiveAtOrAbove ?? 0) - (b.positiveAtOrAbove ?? 0) ||
+      (a.suspectAtOrAbove ?? 0) - (b.suspectAtOrAbove ?? 0),
+  );
+}
