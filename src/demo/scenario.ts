@@ -11,6 +11,7 @@ import type { Barn, Config, Site } from '../config/types.js';
 import { inUsePens } from '../domain/layout.js';
 import { formatSampleId, isWriteFriendlyCheck } from '../plan/sampleId.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
+import { DEFAULT_PATHS, INBOX_FOLDERS } from '../workspacePaths.js';
 import { measure, measureSp } from './groundTruth.js';
 import {
   csvCell,
@@ -275,7 +276,7 @@ export async function hollowCreekRound(
       at: at(plus(date, 3), 16),
       name: `nvdl_invoice_${plus(date, 3)}.csv`,
       bytes: Buffer.from('Invoice,Client,Samples,Amount\nINV-2291,Larkspur Valley,36,412.00\n', 'utf8'),
-      note: 'the wrong report template: refused, kept in inbox/rejected with its reason',
+      note: `the wrong report template: refused, kept in ${DEFAULT_PATHS.inbox}/${INBOX_FOLDERS.rejected} with its reason`,
     });
   }
   return drops;
