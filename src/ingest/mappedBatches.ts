@@ -9,12 +9,11 @@ import type { Assay, SampleIdCorrection, Site } from '../config/types.js';
 import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
 import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
-import type { RowList } from '../domain/records.js';
+import type { ResultRow, RopeRow, RowList } from '../domain/records.js';
 import { rowRejection, type RowRejection } from './errors.js';
 import { plannedIdChecker } from './plannedIds.js';
 import { mapResultRow, type ResultContext } from './resultRecords.js';
 import { mapRopeRow, type RopeContext } from './ropeSheetRecords.js';
-import type { ResultRow, RopeRow } from './rowTypes.js';
 import { mapWideRow, wideLayout, type WideLayout } from './wideRows.js';
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */

@@ -8,7 +8,8 @@ import { findSite } from '../config/names.js';
 import { foldToken } from '../util/fold.js';
 import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
 import { normaliseSampleId, parseDateCell, type PlannedIdCheck } from './recordCells.js';
-import type { RopeRow, RowOutcome } from './rowTypes.js';
+import type { RopeRow } from '../domain/records.js';
+import type { RowOutcome } from './rowTypes.js';
 
 export interface RopeContext {
   fileName: string;
