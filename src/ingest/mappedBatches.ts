@@ -1,7 +1,8 @@
 /**
  * One file's data rows, read and mapped in bounded batches: bytes -> text (decode.ts) ->
- * records (csvRecords.ts) -> stored rows or coded refusals (rows.ts). No store, no clock: the
- * same generator runs on the main thread for small files and in a worker for large ones.
+ * records (csvRecords.ts) -> stored rows or coded refusals (resultRecords.ts, ropeSheetRecords.ts).
+ * No store, no clock: the same generator runs on the main thread for small files and in a worker
+ * for large ones.
  */
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';

@@ -70,7 +70,7 @@ export function replacementCell(entry: Pick<RoundReplacement, 'sampleId' | 'kind
 
 /**
  * A sample ID as ingest and config/corrections.yaml compare it: spaces removed, upper case (the
- * rule of normaliseSampleId in src/ingest/rows.ts, which a test holds this to).
+ * rule of normaliseSampleId in src/ingest/recordCells.ts, which a test holds this to).
  */
 export function comparableId(raw: string): string {
   return raw.replace(/\s+/g, '').toUpperCase();
