@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { formatJoinCountP, formatPValue, formatPercent } from '../src/util/format.js';
+import { formatJoinCountP, formatPValue, formatPercent, formatPercentSignificant } from '../src/util/format.js';
 
 // Rounding half away from zero at one decimal is Number.prototype.toFixed (ECMA-262, 21.1.3.3);
 // the guard itself is common practice, no source: a freedom of 99.96% is not certainty.
@@ -46,5 +46,22 @@ describe('join-count p-values for people', () => {
     // The wording is common practice, no source; the two ways of finding the p-value are Cliff & Ord (1981), Spatial Processes: Models and Applications (from memory).
     expect(formatJoinCountP('exact', 0.0123)).toBe('exact p = 0.012');
     expect(formatJoinCountP('monte-carlo', 0.0004)).toBe('permutation p = < 0.001');
+  });
+});
+
+// Significant figures are Number.prototype.toPrecision (ECMA-262, 21.1.3.5), rounding half up
+// at the third figure; dropping trailing zeros through Number() is common practice, no source.
+describe('percentages to three significant figures', () => {
+  it('keeps three significant figures at any size and drops trailing zeros', () => {
+    expect(formatPercentSignificant(0.123456)).toBe('12.3%');
+    expect(formatPercentSignificant(0.000123456)).toBe('0.0123%');
+    expect(formatPercentSignificant(0.8305369)).toBe('83.1%');
+    expect(formatPercentSignificant(0.95)).toBe('95%');
+    expect(formatPercentSignificant(0)).toBe('0%');
+  });
+
+  it('rounds 0.99996 to "100%", where formatPercent says "> 99.9%"', () => {
+    expect(formatPercentSignificant(0.99996)).toBe('100%');
+    expect(formatPercent(0.99996)).toBe('> 99.9%');
   });
 });

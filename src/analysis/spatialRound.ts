@@ -17,7 +17,7 @@ import {
 } from '../spatial/index.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
-import { formatPValue } from '../util/format.js';
+import { formatJoinCountP, formatPValue } from '../util/format.js';
 import { inUsePens, isInUse } from '../domain/layout.js';
 
 export const CLUSTERS_SCHEMA = 'ropewatch.clusters/1';
@@ -109,7 +109,7 @@ function barnAlerts(report: BarnSpatialReport, assayId: string, alpha: number): 
       assayId,
       message:
         `${assayId} positives in barn ${report.barn} sit next to each other more than chance allows: ${jc.bb} positive-positive joins against ` +
-        `${jc.expectedBB.toFixed(2)} expected, ${jc.inference.method === 'exact' ? 'exact' : 'permutation'} p = ${formatPValue(jc.pPermutation)}` +
+        `${jc.expectedBB.toFixed(2)} expected, ${formatJoinCountP(jc.inference.method, jc.pPermutation)}` +
         (jc.zBB !== null ? ` (z = ${jc.zBB.toFixed(2)}, shown for reference; the decision rests on the p-value)` : ''),
     });
   } else if (report.positives >= 2 && scan && scan.p <= alpha) {

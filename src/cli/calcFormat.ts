@@ -6,10 +6,6 @@ export function short(value: number): string {
   return String(Number(value.toPrecision(6)));
 }
 
-export function percent(value: number): string {
-  return `${Number((value * 100).toPrecision(3))}%`;
-}
-
 export function plural(count: number, one: string, many: string): string {
   return `${count} ${count === 1 ? one : many}`;
 }

@@ -1,6 +1,6 @@
 /**
  * Refused files read again once their cause is put right (a lab profile's column name, a
- * missing assay mapping): `ropewatch retry` (retryCommand.ts), and the watcher after it reloads
+ * missing assay mapping): `ropewatch retry` (src/cli/commands/retry.ts), and the watcher after it reloads
  * its configuration.
  * A file accepted now moves from inbox/rejected/ to inbox/archive/ and its .reason.txt goes; a
  * file refused again stays, with the new reason beside it.

@@ -20,7 +20,7 @@ const PROBES: readonly (readonly [number, number, number])[] = [
   [1997, 2, 3],
   [2031, 11, 1],
 ];
-// The reference date ingest parses against (rows.ts): fields a format lacks come from it.
+// The reference date ingest parses against (src/ingest/recordCells.ts): fields a format lacks come from it.
 const REFERENCE_DATE = new Date(2000, 0, 1);
 
 const iso = (year: number, month: number, day: number) =>

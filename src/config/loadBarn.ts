@@ -1,6 +1,14 @@
 /** One barn of sites.yaml: its layout expanded into pens and checked, its groups of pigs. */
 import type { z } from 'zod';
-import { canonicalPenKey, expandLayout, penContacts, pensByKey, type BarnLayout, type Pen } from '../domain/layout.js';
+import {
+  canonicalPenKey,
+  expandLayout,
+  isInUse,
+  penContacts,
+  pensByKey,
+  type BarnLayout,
+  type Pen,
+} from '../domain/layout.js';
 import { groupProblems, inPlacementOrder } from '../rounds/pigGroups.js';
 import { matchKey } from './names.js';
 import { ConfigError, type ProblemList } from './problems.js';
@@ -59,7 +67,7 @@ export function loadBarn(
     throw error;
   }
   checkPenKeys(pens, layout, file, (...rest) => at('layout', ...rest), problems);
-  if (!pens.some((pen) => pen.status === 'in-use')) problems.add(file, at('layout'), 'has no pen in use');
+  if (!pens.some(isInUse)) problems.add(file, at('layout'), 'has no pen in use');
   const groups = (barn.groups ?? []).map((group) =>
     Object.freeze({
       id: group.id,

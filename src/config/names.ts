@@ -4,7 +4,7 @@
  * the outbox's fixed names from here, so a site can never be configured onto one of them.
  */
 import { foldToken } from '../util/fold.js';
-import { OUTBOX_NAMES } from '../workspacePaths.js';
+import { DEFAULT_PLACES, OUTBOX_NAMES } from '../workspacePaths.js';
 
 /** outbox/receipts/: one receipt per file processed. */
 export const RECEIPTS_FOLDER = OUTBOX_NAMES.receipts;
@@ -53,7 +53,7 @@ const CONTROL_CHARACTER = /[\u0000-\u001f\u007f]/;
 export function folderNameProblem(id: string): string | undefined {
   if (id.length === 0) return 'is empty';
   if (id.length > MAX_FOLDER_ID_LENGTH)
-    return `is ${id.length} characters long; at most ${MAX_FOLDER_ID_LENGTH} (it names a folder under outbox/)`;
+    return `is ${id.length} characters long; at most ${MAX_FOLDER_ID_LENGTH} (it names a folder under ${DEFAULT_PLACES.outbox})`;
   if (id === '.' || id === '..') return `"${id}" is not a folder name`;
   if (CONTROL_CHARACTER.test(id)) return 'contains a control character';
   const invalid = INVALID_CHARACTER.exec(id);
@@ -61,7 +61,8 @@ export function folderNameProblem(id: string): string | undefined {
     return `contains "${invalid[0]}", which cannot be part of a folder name (path separators and < > : " / \\ | ? * are refused)`;
   if (/[ .]$/.test(id)) return 'ends in a space or a dot, which Windows drops from folder names';
   const fixed = OUTBOX_FIXED_NAMES.find((name) => name.toLowerCase() === id.toLowerCase());
-  if (fixed !== undefined) return `"${id}" is a name ropewatch writes in outbox/ itself (${fixed}); choose another id`;
+  if (fixed !== undefined)
+    return `"${id}" is a name ropewatch writes in ${DEFAULT_PLACES.outbox} itself (${fixed}); choose another id`;
   if (WINDOWS_DEVICE.test(id))
     return `"${id}" is a device name Windows reserves (CON, PRN, AUX, NUL, COM0-9, LPT0-9); choose another id`;
   return undefined;

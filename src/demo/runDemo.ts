@@ -16,6 +16,7 @@ import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
 import { Store, StoreOpenError } from '../store/store.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../workspace.js';
+import { DEFAULT_PLACES, OUTBOX_NAMES } from '../workspacePaths.js';
 import { buildSiteRounds } from '../rounds/roundModel.js';
 import { clockDay } from '../rounds/rounds.js';
 import {
@@ -188,7 +189,7 @@ export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean):
     ws.close();
   }
   io.stdout(
-    `\nDemo done. Open ${path.join(paths.outbox, 'index.html')} or browse ${paths.outbox}/; inbox/archive/ holds the processed drops, inbox/rejected/ the refused one.\n`,
+    `\nDemo done. Open ${path.join(paths.outbox, OUTBOX_NAMES.indexPage)} or browse ${paths.outbox}/; ${DEFAULT_PLACES.archive} holds the processed drops, ${DEFAULT_PLACES.rejected} the refused one.\n`,
   );
   return outcome;
 }

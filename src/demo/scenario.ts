@@ -8,8 +8,10 @@
  */
 import { addDays, format, parseISO } from 'date-fns';
 import type { Barn, Config, Site } from '../config/types.js';
+import { inUsePens } from '../domain/layout.js';
 import { formatSampleId, isWriteFriendlyCheck } from '../plan/sampleId.js';
 import { deriveSeed, seededRng, type Rng } from '../util/random.js';
+import { DEFAULT_PATHS, INBOX_FOLDERS } from '../workspacePaths.js';
 import { measure, measureSp } from './groundTruth.js';
 import { brackenridgeMessage } from './hl7Results.js';
 import {
@@ -61,7 +63,7 @@ export const DEMO_TODAY = '2026-10-31T08:00:00.000Z';
 
 /** The farm's own rope list: every third pen in use, alternating sides, moving one pen each round. */
 export function farmRopes(barn: Barn, roundIndex: number, every: number, label: (n: number) => string): RopeChoice[] {
-  const inUse = barn.pens.filter((pen) => pen.status === 'in-use');
+  const inUse = inUsePens(barn.pens);
   const byPosition = [...inUse].sort((a, b) => a.position - b.position || a.row - b.row);
   // Sorted by position then row, every third index falls on alternating sides of a two-row barn.
   const chosen = byPosition.filter((_, index) => (index + roundIndex) % every === 0);
@@ -288,7 +290,7 @@ export async function hollowCreekRound(
       at: at(plus(date, 3), 16),
       name: `nvdl_invoice_${plus(date, 3)}.csv`,
       bytes: Buffer.from('Invoice,Client,Samples,Amount\nINV-2291,Larkspur Valley,36,412.00\n', 'utf8'),
-      note: 'the wrong report template: refused, kept in inbox/rejected with its reason',
+      note: `the wrong report template: refused, kept in ${DEFAULT_PATHS.inbox}/${INBOX_FOLDERS.rejected} with its reason`,
     });
   }
   return drops;

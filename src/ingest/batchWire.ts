@@ -7,7 +7,7 @@
  */
 import type { RowRejection } from './errors.js';
 import type { MappedBatch, RowList } from './mappedBatches.js';
-import type { ResultRow, RopeRow } from './rowTypes.js';
+import type { ResultRow, RopeRow } from '../domain/records.js';
 import type { ResultClass } from '../interpret/classify.js';
 import type { CallClass, Measure, ReportStatusKind } from '../config/types.js';
 

@@ -6,7 +6,7 @@
 import { type InsertCounts, RECEIPT_LIST_LIMIT } from '../domain/store.js';
 import type { RowRejection } from './errors.js';
 import type { Receipt } from './receipt.js';
-import type { RopeRow } from './rowTypes.js';
+import type { RopeRow } from '../domain/records.js';
 
 /** Appends to a receipt list up to RECEIPT_LIST_LIMIT; returns how many did not fit. */
 export function listInto<T>(list: T[], items: readonly T[]): number {

@@ -11,7 +11,7 @@ import { IngestError } from './errors.js';
 import { firstBytes, readHead, stillChanging } from './fileOnDisk.js';
 import { FileChangedError } from './mappedBatches.js';
 import { detectWorkbook, readHashedBytes, workbookNote, type WorkbookKind } from './workbookInput.js';
-import { isWorkbookFile, openWorkbook, WORKBOOK_MAX_BYTES, type OpenedWorkbook } from './xlsxReader.js';
+import { isWorkbookFile, openWorkbook, workbookSizeRefusal, type OpenedWorkbook } from './xlsxReader.js';
 
 export interface InputKind {
   kind: FileKind;
@@ -36,13 +36,8 @@ export async function detectInput(input: InputBytes, config: Config): Promise<In
 
 async function detectWorkbookInput(input: InputBytes, config: Config): Promise<InputKind | IngestError> {
   const { file, name, size, sha256 } = input;
-  if (size > WORKBOOK_MAX_BYTES) {
-    return new IngestError({
-      code: 'workbook-too-large',
-      file: name,
-      detail: `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
-    });
-  }
+  const tooLarge = workbookSizeRefusal(size, name);
+  if (tooLarge) return tooLarge;
   try {
     // Read from exactly the bytes hashed: the workbook parsed is the one the hash names.
     const opened = await openWorkbook(readHashedBytes(file, name, { bytes: size, sha256 }), name);

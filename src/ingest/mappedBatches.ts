@@ -1,7 +1,8 @@
 /**
  * One file's data rows, read and mapped in bounded batches: bytes -> text (decode.ts) ->
- * records (csvRecords.ts) -> stored rows or coded refusals (rows.ts). No store, no clock: the
- * same generator runs on the main thread for small files and in a worker for large ones.
+ * records (csvRecords.ts) -> stored rows or coded refusals (resultRecords.ts, ropeSheetRecords.ts).
+ * No store, no clock: the same generator runs on the main thread for small files and in a worker
+ * for large ones.
  */
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
@@ -9,12 +10,11 @@ import type { Assay, SampleIdCorrection, Site } from '../config/types.js';
 import { CsvRecordReader, type CsvRecord } from './csvRecords.js';
 import { TextChunkDecoder, type Sniffed } from './decode.js';
 import type { FileKind } from './detect.js';
-import type { RowList } from '../domain/records.js';
+import type { ResultRow, RopeRow, RowList } from '../domain/records.js';
 import { rowRejection, type RowRejection } from './errors.js';
 import { plannedIdChecker } from './plannedIds.js';
 import { mapResultRow, type ResultContext } from './resultRecords.js';
 import { mapRopeRow, type RopeContext } from './ropeSheetRecords.js';
-import type { ResultRow, RopeRow } from './rowTypes.js';
 import { mapWideRow, wideLayout, type WideLayout } from './wideRows.js';
 
 /** Rows per batch: what one store call takes, and what bounds memory while a file streams. */

@@ -16,7 +16,8 @@ import {
   type CtMeaningCache,
   type RowWords,
 } from './resultClass.js';
-import type { ResultRow, RopeLocation, RowOutcome } from './rowTypes.js';
+import type { ResultRow, RopeLocation } from '../domain/records.js';
+import type { RowOutcome } from './rowTypes.js';
 import { locationFromPattern, type EncodedLocation } from './sampleLocation.js';
 
 export interface ResultContext {

@@ -3,12 +3,13 @@
  * header for the field. Pure: the sites, the header index and the planned-ID check are passed in.
  */
 import type { Barn, Site } from '../config/types.js';
-import { canonicalPenKey, type Pen } from '../domain/layout.js';
+import { canonicalPenKey, isInUse, type Pen } from '../domain/layout.js';
 import { findSite } from '../config/names.js';
 import { foldToken } from '../util/fold.js';
 import { rowRejection, type RejectionCode, type RowRejection } from './errors.js';
 import { normaliseSampleId, parseDateCell, type PlannedIdCheck } from './recordCells.js';
-import type { RopeRow, RowOutcome } from './rowTypes.js';
+import type { RopeRow } from '../domain/records.js';
+import type { RowOutcome } from './rowTypes.js';
 
 export interface RopeContext {
   fileName: string;
@@ -163,10 +164,7 @@ export function mapRopeRow(cells: readonly string[], line: number, context: Rope
       hungOn,
       note: notes === '' ? null : notes,
       sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
-      warning:
-        pen.status === 'in-use'
-          ? undefined
-          : `pen ${pen.id} is listed as ${pen.status} in the layout; the rope is kept`,
+      warning: isInUse(pen) ? undefined : `pen ${pen.id} is listed as ${pen.status} in the layout; the rope is kept`,
       poolId,
     },
   };

@@ -6,7 +6,7 @@ import { compilePatternSet, type PatternSet } from '../config/pattern.js';
 import type { Site } from '../config/types.js';
 import { canonicalPenKey } from '../domain/layout.js';
 import { parseDateCell } from './recordCells.js';
-import type { RopeLocation } from './rowTypes.js';
+import type { RopeLocation } from '../domain/records.js';
 
 /** The sites with a sample pattern, and one automaton that tells which of their patterns match an ID. */
 interface PatternSites {

@@ -15,7 +15,7 @@
 import { foldToken } from '../util/fold.js';
 import type { RowRejection } from './errors.js';
 import { mapResultRow, type ResultContext } from './resultRecords.js';
-import type { ResultRow } from './rowTypes.js';
+import type { ResultRow } from '../domain/records.js';
 
 /**
  * The header key under which each value column's context finds its assay name, in a cell

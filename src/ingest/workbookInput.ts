@@ -19,7 +19,7 @@ import {
   type MappedBatch,
   type MappingSetup,
 } from './mappedBatches.js';
-import type { ResultRow } from './rowTypes.js';
+import type { ResultRow } from '../domain/records.js';
 import type { OpenedWorkbook, SheetReading } from './xlsxReader.js';
 
 /**

@@ -72,18 +72,27 @@ function otherPackageRefusal(entries: readonly ZipEntry[], fileName: string): In
 }
 
 /**
+ * The refusal of a workbook of `size` bytes, or undefined when it is small enough to read whole.
+ * Checked on the file's size before its bytes are read, and again on the bytes opened.
+ */
+export function workbookSizeRefusal(size: number, fileName: string): IngestError | undefined {
+  if (size <= WORKBOOK_MAX_BYTES) return undefined;
+  return new IngestError({
+    code: 'workbook-too-large',
+    file: fileName,
+    detail: `the workbook has ${size} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
+  });
+}
+
+/**
  * Checks the bytes and opens them as a workbook.
  * @throws IngestError not-a-workbook, workbook-encrypted, workbook-too-large
  */
 export async function openWorkbook(bytes: Buffer, fileName: string): Promise<OpenedWorkbook> {
   const refuse = (code: 'not-a-workbook' | 'workbook-too-large', detail: string) =>
     new IngestError({ code, file: fileName, detail });
-  if (bytes.length > WORKBOOK_MAX_BYTES) {
-    throw refuse(
-      'workbook-too-large',
-      `the workbook has ${bytes.length} bytes; at most ${WORKBOOK_MAX_BYTES} are read (a workbook is read whole): split it, or export CSV`,
-    );
-  }
+  const tooLarge = workbookSizeRefusal(bytes.length, fileName);
+  if (tooLarge) throw tooLarge;
   if (bytes.subarray(0, COMPOUND_FILE_MAGIC.length).equals(COMPOUND_FILE_MAGIC))
     throw compoundFileRefusal(bytes, fileName);
   let entries: ZipEntry[];

@@ -6,6 +6,7 @@
  * fix a person adds once the ID is confirmed. Pure text; no statistics.
  */
 import type { ReadingInput, MistypedRope, RoundReplacement } from '../rounds/roundModel.js';
+import { CONFIG_FILES, DEFAULT_PLACES } from '../workspacePaths.js';
 
 /** A reading in short: its class and the value as the lab wrote it. */
 export function readingText(reading: Pick<ReadingInput, 'resultClass' | 'ctRaw'>): string {
@@ -69,7 +70,7 @@ export function replacementCell(entry: Pick<RoundReplacement, 'sampleId' | 'kind
 
 /**
  * A sample ID as ingest and config/corrections.yaml compare it: spaces removed, upper case (the
- * rule of normaliseSampleId in src/ingest/rows.ts, which a test holds this to).
+ * rule of normaliseSampleId in src/ingest/recordCells.ts, which a test holds this to).
  */
 export function comparableId(raw: string): string {
   return raw.replace(/\s+/g, '').toUpperCase();
@@ -110,12 +111,11 @@ function shellWord(text: string): string {
 
 /** The command that reads an archived file again once the correction is in place. */
 export function ingestAgainCommand(fileName: string): string {
-  return `ropewatch ingest ${shellWord(`inbox/archive/${fileName}`)}`;
+  return `ropewatch ingest ${shellWord(`${DEFAULT_PLACES.archive}${fileName}`)}`;
 }
 
 /** What clinic staff do about a result refused under a mistyped ID. */
-export const MISTYPED_ACTION =
-  'confirm the ID with the lab or the producer, then add it to config/corrections.yaml and ingest the file again';
+export const MISTYPED_ACTION = `confirm the ID with the lab or the producer, then add it to ${DEFAULT_PLACES.config}${CONFIG_FILES.corrections} and ingest the file again`;
 
 /** The IDs of a barn's ropes without a result for which no row came back under a mistyped ID. */
 export function simplyMissing(barn: {

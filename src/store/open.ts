@@ -7,6 +7,7 @@
 import Database from 'better-sqlite3';
 import fs from 'node:fs';
 import path from 'node:path';
+import { DEFAULT_PATHS } from '../workspacePaths.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from './migrations.js';
 
 export interface StoreOptions {
@@ -50,7 +51,7 @@ function checkStoreFile(file: string, create: boolean): void {
     stat = undefined;
   }
   if (stat?.isDirectory())
-    throw new StoreOpenError(file, 'is a folder; --db takes the store file (for example data/ropewatch.db)');
+    throw new StoreOpenError(file, `is a folder; --db takes the store file (for example ${DEFAULT_PATHS.db})`);
   if (stat === undefined && !create) {
     throw new StoreOpenError(
       file,

@@ -13,6 +13,15 @@ export function formatPercent(p: number | null | undefined): string {
   return `${text}%`;
 }
 
+/**
+ * A fraction as a percentage to three significant figures, trailing zeros dropped ("95%", "12.3%",
+ * "0.0123%"), for the `calc` sentences, which print the exact value beside it. Unlike
+ * formatPercent it has no "> 99.9%" guard: 0.99996 reads "100%" next to its six-digit value.
+ */
+export function formatPercentSignificant(fraction: number): string {
+  return `${Number((fraction * 100).toPrecision(3))}%`;
+}
+
 /** A p-value as the pages and alerts word it: three decimals, "< 0.001" below that, or "n/a". */
 export function formatPValue(p: number | null | undefined): string {
   if (p === null || p === undefined || !Number.isFinite(p)) return 'n/a';

@@ -30,7 +30,7 @@ describe('names that collide', () => {
   });
 
   it("refuses a site name that is another site's code, as a rope sheet's site cell would match both", () => {
-    // rows.ts findSite compares foldToken of id, code and name: "hcf" finds the first site by code.
+    // src/config/names.ts findSite compares foldToken of id, code and name: "hcf" finds the first site by code.
     expect(foldToken('HCF')).toBe(foldToken('hcf'));
     const error = configError(configEdited('sites.yaml', (doc) => (doc.sites[1].name = 'hcf')));
     expect(error).toMatchObject({ keyPath: 'sites[1].name' });

@@ -1,6 +1,6 @@
 /**
  * Two `ropewatch ingest` processes on one store at the same time. How the store serialises them
- * (src/store/store.ts): every file is one transaction opened with BEGIN IMMEDIATE, which takes
+ * (src/store/writer.ts): every file is one transaction opened with BEGIN IMMEDIATE, which takes
  * SQLite's single write lock up front; a second writer waits on that lock for up to the busy
  * timeout (120 s) and then runs its own file whole. Rows of two files never interleave inside a
  * transaction, and WAL readers see only committed files (SQLite documentation, "Write-Ahead

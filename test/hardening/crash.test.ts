@@ -1,6 +1,6 @@
 /**
  * Crash mid-ingest: a real `ropewatch ingest` child process is killed with SIGKILL while it stores
- * the rows of a large export. The store's promise (src/store/store.ts): one transaction per file
+ * the rows of a large export. The store's promise (src/store/writer.ts): one transaction per file
  * (BEGIN IMMEDIATE ... COMMIT), so after any crash it holds all rows of the file or none, and the
  * file moves out of the inbox only after the commit (src/pipeline.ts), so a second run finishes it.
  * SQLite's WAL recovery discards frames of a transaction that never committed (SQLite

@@ -1,6 +1,6 @@
 /**
  * Stopping `ingest` and `watch` with a signal. `ingest` finishes the file in hand (one store
- * transaction, src/store/store.ts), leaves the rest in the inbox, names them, and exits 128 plus
+ * transaction, src/store/writer.ts), leaves the rest in the inbox, names them, and exits 128 plus
  * the signal number: 143 for SIGTERM (15), 130 for SIGINT (2). Signal numbers from signal(7);
  * 128 + n is the shell's convention for "ended by signal n" (POSIX Shell Command Language,
  * 2.8.2 "Exit Status for Commands": greater than 128; bash uses 128 + n, from memory).

@@ -6,7 +6,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { encodeBatch, transferables, WireRows, decodeBatch } from '../../src/ingest/batchWire.js';
-import type { ResultRow } from '../../src/ingest/rowTypes.js';
+import type { ResultRow } from '../../src/domain/records.js';
 
 const SEED = 20261203;
 const text = fc.string({ unit: 'binary', maxLength: 12 });

@@ -165,7 +165,7 @@ describe('the one-line fix for a mistyped ID', () => {
   });
 
   it('compares IDs as ingest does', () => {
-    // The ingest rule as the oracle (src/ingest/rows.ts, normaliseSampleId).
+    // The ingest rule as the oracle (src/ingest/recordCells.ts, normaliseSampleId).
     for (const raw of ['hcf03-013g', ' HCF03 - 013G ', 'hcf03\t013g', 'A b\u00a0c'])
       expect(comparableId(raw)).toBe(normaliseSampleId(raw));
   });

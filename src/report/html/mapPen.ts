@@ -2,7 +2,7 @@
  * One pen of a barn map: its fill (load or S/P step, hatching for empty and out-of-use pens),
  * outline, tooltip, label, and the result symbol or planned-rope shape with its checklist number.
  */
-import type { PenStatus } from '../../domain/layout.js';
+import { isInUse, type PenStatus } from '../../domain/layout.js';
 import type { PlanReason } from '../../plan/monitoring.js';
 import { escapeHtml } from './escape.js';
 import { COLOURS, LOAD_RAMP, loadStep } from './palette.js';
@@ -85,7 +85,7 @@ function penFill(pen: PenBox, result: PenMark | undefined, prefix: string): { fi
 function penTip(pen: PenBox, result: PenMark | undefined, planned: PlannedMark | undefined): string {
   return [
     pen.id,
-    pen.status === 'in-use' ? '' : pen.status,
+    isInUse(pen) ? '' : pen.status,
     result
       ? `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`
       : '',

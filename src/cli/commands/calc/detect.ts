@@ -5,7 +5,8 @@
  */
 import type { Command } from 'commander';
 import { detectionFor, falseAlarmProbability, pooledDetection, poolSizes } from '../../../stats/index.js';
-import { parsePens, percent, plural, short } from '../../calcFormat.js';
+import { parsePens, plural, short } from '../../calcFormat.js';
+import { formatPercentSignificant } from '../../../util/format.js';
 import { printJson, UsageError, type CliIo } from '../../io.js';
 import { parseIntegerOption, parseProbabilityOption } from '../../parseArgs.js';
 
@@ -64,7 +65,7 @@ function printPooled(io: CliIo, options: DetectOptions, barn: Barn): void {
   }
   io.stdout(
     `${plural(sampled, 'rope', 'ropes')} in ${plural(pools, 'pool', 'pools')} of up to ${poolSize} (pool Se ${poolSensitivity}) in ${pens} pens with ${plural(infected, 'infected pen', 'infected pens')} ` +
-      `find at least one positive pool with probability ${short(probability)} (${percent(probability)}); tested one by one (Se ${sensitivity}) ${short(unpooledProbability)} (${percent(unpooledProbability)}).\n`,
+      `find at least one positive pool with probability ${short(probability)} (${formatPercentSignificant(probability)}); tested one by one (Se ${sensitivity}) ${short(unpooledProbability)} (${formatPercentSignificant(unpooledProbability)}).\n`,
   );
 }
 
@@ -90,7 +91,7 @@ function printSingle(io: CliIo, json: boolean, barn: Barn, specificity: number |
       : `; an uninfected barn would give a false alarm with probability ${short(falseAlarm)} (Sp ${specificity})`;
   io.stdout(
     `${plural(sampled, 'rope', 'ropes')} in ${pens} pens with ${plural(infected, 'infected pen', 'infected pens')} (Se ${sensitivity}) ` +
-      `find at least one positive with probability ${short(probability)} (${percent(probability)})${alarm}.\n`,
+      `find at least one positive with probability ${short(probability)} (${formatPercentSignificant(probability)})${alarm}.\n`,
   );
 }
 

@@ -5,7 +5,8 @@
  */
 import type { Command } from 'commander';
 import { sampleSize } from '../../../stats/index.js';
-import { parsePens, percent, plural, short } from '../../calcFormat.js';
+import { parsePens, plural, short } from '../../calcFormat.js';
+import { formatPercentSignificant } from '../../../util/format.js';
 import { printJson, UsageError, type CliIo } from '../../io.js';
 import { parseIntegerOption, parseProbabilityOption } from '../../parseArgs.js';
 
@@ -54,7 +55,7 @@ function printSentence(io: CliIo, question: Question, result: ReturnType<typeof 
       : plural(result.infected, 'infected pen', 'infected pens');
   if (result.reachable) {
     io.stdout(
-      `${plural(result.sampled!, 'rope', 'ropes')} in ${population} reach ${percent(confidence)} detection confidence for ${design} ` +
+      `${plural(result.sampled!, 'rope', 'ropes')} in ${population} reach ${formatPercentSignificant(confidence)} detection confidence for ${design} ` +
         `(Se ${sensitivity}; achieved ${short(result.achievedConfidence)}).\n`,
     );
   } else {
@@ -63,7 +64,7 @@ function printSentence(io: CliIo, question: Question, result: ReturnType<typeof 
         ? 'no number of rounds would'
         : `${result.roundsNeeded} independent negative rounds would`;
     io.stdout(
-      `No number of ropes reaches ${percent(confidence)} in one round for ${design} in ${population} (Se ${sensitivity}): ` +
+      `No number of ropes reaches ${formatPercentSignificant(confidence)} in one round for ${design} in ${population} (Se ${sensitivity}): ` +
         `a rope in every pen gives ${short(result.censusConfidence ?? 0)}; ${rounds}.\n`,
     );
   }

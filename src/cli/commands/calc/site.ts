@@ -4,7 +4,8 @@
  */
 import type { Command } from 'commander';
 import { siteDetection, twoStageSiteDetection } from '../../../stats/index.js';
-import { percent, plural, short } from '../../calcFormat.js';
+import { plural, short } from '../../calcFormat.js';
+import { formatPercentSignificant } from '../../../util/format.js';
 import { printJson, type CliIo } from '../../io.js';
 import { parseIntegerOption, parseProbabilityList } from '../../parseArgs.js';
 
@@ -34,7 +35,7 @@ export function registerCalcSite(calc: Command, io: CliIo): void {
           return;
         }
         io.stdout(
-          `If ${plural(infectedBarns, 'barn', 'barns')} of ${barns.length} were infected (at random), the site would detect it with probability ${short(probability)} (${percent(probability)}).\n`,
+          `If ${plural(infectedBarns, 'barn', 'barns')} of ${barns.length} were infected (at random), the site would detect it with probability ${short(probability)} (${formatPercentSignificant(probability)}).\n`,
         );
         return;
       }
@@ -44,7 +45,7 @@ export function registerCalcSite(calc: Command, io: CliIo): void {
         return;
       }
       io.stdout(
-        `${plural(barns.length, 'barn', 'barns')} together detect with probability ${short(probability)} (${percent(probability)}).\n`,
+        `${plural(barns.length, 'barn', 'barns')} together detect with probability ${short(probability)} (${formatPercentSignificant(probability)}).\n`,
       );
     });
 }
