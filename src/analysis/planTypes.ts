@@ -12,6 +12,7 @@ import type {
   BarnPlanSummary,
   OnTimeVersusMissed,
   PlanRow,
+  ScheduleNote,
   ScheduleOption,
   SimulatedDelay,
 } from '../plan/index.js';
@@ -205,11 +206,12 @@ export type IfNegativeReading =
 type PlannedBarn = NextRoundPlan['barns'][number];
 
 /** The plan as the planner returns it: every sentence of a `NextRoundPlan` as its coded facts. */
-export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'notes'> & {
+export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'schedules' | 'notes'> & {
   barns: (Omit<PlannedBarn, 'sizing'> & { sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading } })[];
   sizing: Omit<NextRoundPlan['sizing'], 'ifNegative' | 'notes'> & {
     ifNegative: IfNegativeReading;
     notes: SizingNote[];
   };
+  schedules: (Omit<NextRoundPlan['schedules'][number], 'notes'> & { notes: ScheduleNote[] })[];
   notes: PlanNote[];
 };

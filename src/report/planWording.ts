@@ -13,6 +13,7 @@ import type {
 } from '../analysis/planTypes.js';
 import type { DesignPrevalence } from '../config/types.js';
 import { formatPercent } from '../util/format.js';
+import { scheduleNoteText } from './barnPlanNotes.js';
 
 const plural = (n: number, word: string): string => `${n} ${word}${n === 1 ? '' : 's'}`;
 
@@ -176,6 +177,7 @@ export function wordPlan(planned: PlannedRound): NextRoundPlan {
       ifNegative: ifNegativeText(planned.sizing.ifNegative),
       notes: planned.sizing.notes.map(sizingNoteText),
     },
+    schedules: planned.schedules.map((schedule) => ({ ...schedule, notes: schedule.notes.map(scheduleNoteText) })),
     notes: planned.notes.map(planNoteText),
   };
 }
