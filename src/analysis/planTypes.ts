@@ -9,6 +9,7 @@
 import type { DesignPrevalence } from '../config/types.js';
 import type {
   Allocation,
+  BarnPlanNote,
   BarnPlanSummary,
   OnTimeVersusMissed,
   PlanRow,
@@ -64,7 +65,7 @@ export interface NextRoundPlan {
   /** `poolId`: the pool the rope goes into (program `pooling`), absent for a rope tested on its own. */
   ropes: PooledPlanRow[];
   /** `monitoring`: the barn is positive and monitored instead of surveyed (src/analysis/monitoredPlan.ts). */
-  barns: (BarnPlanSummary & { sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
+  barns: (Omit<BarnPlanSummary, 'notes'> & { notes: string[]; sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
   sizing: {
     /** The detection model that sized the routine ropes (analysis.sizingModel). */
     sizingModel: 'hypergeometric' | 'spatial';
@@ -207,7 +208,10 @@ type PlannedBarn = NextRoundPlan['barns'][number];
 
 /** The plan as the planner returns it: every sentence of a `NextRoundPlan` as its coded facts. */
 export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'schedules' | 'notes'> & {
-  barns: (Omit<PlannedBarn, 'sizing'> & { sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading } })[];
+  barns: (Omit<PlannedBarn, 'sizing' | 'notes'> & {
+    notes: BarnPlanNote[];
+    sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading };
+  })[];
   sizing: Omit<NextRoundPlan['sizing'], 'ifNegative' | 'notes'> & {
     ifNegative: IfNegativeReading;
     notes: SizingNote[];

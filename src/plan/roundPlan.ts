@@ -12,7 +12,8 @@ import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/
 import { requireInteger } from '../stats/validate.js';
 import { planFollowUp } from './followUp.js';
 import { planMonitoredBarn, type PlanReason } from './monitoring.js';
-import { coverageRounds, placeSystematic, placementDistances } from './placement.js';
+import type { BarnPlanNote } from './barnNotes.js';
+import { type CoverageRounds, coverageRounds, placeSystematic, placementDistances } from './placement.js';
 import { formatSampleId, isWriteFriendlyCheck } from './sampleId.js';
 
 export interface BarnRoundInput {
@@ -76,7 +77,7 @@ export interface BarnPlanSummary {
   /** Rounds from this one until every in-use pen has had a routine rope; null without routine ropes. */
   coverageRounds: number | null;
   cycleLength: number;
-  notes: string[];
+  notes: BarnPlanNote[];
 }
 
 export interface RoundPlan {
@@ -218,6 +219,17 @@ function monitoredBarnPlan(
   };
 }
 
+/** The coverage of the rotation as a barn note. */
+function coverageNote(ropes: number, coverage: CoverageRounds): BarnPlanNote {
+  return {
+    kind: 'coverage',
+    ropes,
+    inUsePens: coverage.inUsePens,
+    rounds: coverage.rounds,
+    cycleLength: coverage.cycleLength,
+  };
+}
+
 /** A surveyed barn: the rotating systematic layer, then retest and follow-up ropes. */
 function surveyedBarnPlan(
   barn: BarnRoundInput,
@@ -246,7 +258,7 @@ function surveyedBarnPlan(
       routineCoveringRadius: placement.coveringRadius,
       coverageRounds: coverage?.rounds ?? null,
       cycleLength: placement.cycleLength,
-      notes: [...placement.notes, ...followUp.notes, ...(coverage ? [coverage.statement] : [])],
+      notes: [...placement.notes, ...followUp.notes, ...(coverage ? [coverageNote(barn.routineRopes, coverage)] : [])],
     },
   };
 }

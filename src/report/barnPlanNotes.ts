@@ -1,9 +1,10 @@
 /**
  * The plan kernels' coded notes in words: a detection target out of reach in one round
- * (src/plan/sizing.ts) and the notes on the schedule comparison (src/plan/schedule.ts). No
+ * (src/plan/sizing.ts), the notes on the schedule comparison (src/plan/schedule.ts) and the
+ * notes under each barn of the round plan (src/plan/barnNotes.ts). No
  * statistics in here: every figure arrives computed.
  */
-import type { ScheduleNote, Unreachable } from '../plan/index.js';
+import type { BarnPlanNote, ScheduleNote, Unreachable } from '../plan/index.js';
 import { formatPercent } from '../util/format.js';
 
 /** Why no rope count reaches the target in one round, and how many negative rounds would. */
@@ -28,5 +29,34 @@ export function scheduleNoteText(note: ScheduleNote): string {
       return 'Per-round detection and expected delay are at the introduced prevalence; the simulated delay lets it grow.';
     case 'growth-doubling':
       return `Infected pens double every ${note.days} days in the growing comparison (a modelling assumption).`;
+  }
+}
+
+const plural = (n: number, word: string): string => `${n} ${word}${n === 1 ? '' : 's'}`;
+
+/** One note under a barn of the round plan. */
+export function barnPlanNoteText(note: BarnPlanNote): string {
+  switch (note.kind) {
+    case 'period-shared':
+      return (
+        `Row ${note.row}: ropes every ${note.interval} pens share the factor ${note.shared} with the period of ${note.period} pens, ` +
+        `so each round samples only ${note.period / note.shared} of the ${note.period} positions of the period; the rotation moves them in later rounds.`
+      );
+    case 'snapped':
+      return `${note.snapped} of ${note.ropes} ropes moved to the nearest in-use pen (target empty or out of use).`;
+    case 'coverage':
+      return (
+        `With ${note.ropes} ropes a round, every one of the ${note.inUsePens} in-use pens has had a rope after ` +
+        `${plural(note.rounds, 'round')} (the rotation repeats every ${note.cycleLength}).`
+      );
+    case 'monitored-barn':
+      return (
+        `Positive barn: monitored, not surveyed. ${plural(note.reRope, 'positive pen')} re-roped so that their Ct series continue; ` +
+        `${plural(note.tracking.length, 'fixed tracking rope')} (${note.tracking.join(', ') || 'none'}), the same pens every round, spread evenly along the barn to follow spread and clearance.`
+      );
+    case 'retest-not-in-use':
+      return `Pen ${note.penId} is ${note.status} now; its retest rope cannot be hung.`;
+    case 'ring-left-out':
+      return `${note.left} ring pens left without a follow-up rope (limit ${note.limit}).`;
   }
 }

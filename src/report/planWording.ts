@@ -13,7 +13,7 @@ import type {
 } from '../analysis/planTypes.js';
 import type { DesignPrevalence } from '../config/types.js';
 import { formatPercent } from '../util/format.js';
-import { scheduleNoteText } from './barnPlanNotes.js';
+import { barnPlanNoteText, scheduleNoteText } from './barnPlanNotes.js';
 
 const plural = (n: number, word: string): string => `${n} ${word}${n === 1 ? '' : 's'}`;
 
@@ -170,6 +170,7 @@ export function wordPlan(planned: PlannedRound): NextRoundPlan {
     ...planned,
     barns: planned.barns.map((barn) => ({
       ...barn,
+      notes: barn.notes.map(barnPlanNoteText),
       sizing: { ...barn.sizing, statement: barnReadingText(barn.sizing.statement) },
     })),
     sizing: {
