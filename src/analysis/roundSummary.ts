@@ -15,7 +15,7 @@ import type {
   PenResultSummary,
   PenSummary,
   SequencingCandidates,
-  SiteFigure,
+  SiteFigureFacts,
   SummaryFacts,
   SummaryNotice,
 } from './summaryTypes.js';
@@ -23,29 +23,22 @@ import { SUMMARY_SCHEMA } from './summaryTypes.js';
 
 export * from './summaryTypes.js';
 
-const SMALL_NUMBERS = ['no', 'one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten'];
-
 /**
- * The two site figures of an assay in plain words: every barn infected at the design prevalence
+ * The two site figures of an assay, their labels coded: every barn infected at the design prevalence
  * (1 - prod(1 - p)), and only D barns infected (two-stage; D from barnDesignPrevalence, one barn
  * without it). The first figure drives freedom unless the program sets fewer barns.
  */
-export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigure[] {
-  const within = describeDesignPrevalence(site);
+export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigureFacts[] {
   const few = confidence.fewInfectedBarns;
-  const fewWords =
-    few === 1
-      ? 'if only one barn were infected'
-      : `if only ${SMALL_NUMBERS[few] ?? String(few)} of the ${confidence.barns} barns were infected`;
   return [
     {
-      label: `if every barn were infected at ${within}`,
+      label: { kind: 'every-barn', design: site.program.designPrevalence },
       detection: confidence.detectionIfEveryBarn,
       infectedBarns: confidence.barns,
       freedom: confidence.infectedBarns === confidence.barns,
     },
     {
-      label: fewWords,
+      label: { kind: 'few-barns', infectedBarns: few, barns: confidence.barns },
       detection: confidence.detectionIfFewBarns,
       infectedBarns: few,
       freedom: confidence.infectedBarns !== confidence.barns,
