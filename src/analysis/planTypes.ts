@@ -81,7 +81,8 @@ export interface NextRoundPlan {
   };
   /** Site detection of the routine ropes if the round comes back negative, with `sizing.infectedBarns` of the barns infected (two-stage). */
   siteDetectionIfNegative: number;
-  freedom: (OnTimeVersusMissed & { assayId: string; currentFreedom: number }) | null;
+  /** `sentence`: the forecast in words (src/report/planWording.ts). */
+  freedom: (OnTimeVersusMissed & { assayId: string; currentFreedom: number; sentence: string }) | null;
   schedules: {
     barnId: string;
     static: ScheduleOption[];
@@ -207,7 +208,8 @@ export type IfNegativeReading =
 type PlannedBarn = NextRoundPlan['barns'][number];
 
 /** The plan as the planner returns it: every sentence of a `NextRoundPlan` as its coded facts. */
-export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'schedules' | 'notes'> & {
+export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'schedules' | 'freedom' | 'notes'> & {
+  freedom: Omit<NonNullable<NextRoundPlan['freedom']>, 'sentence'> | null;
   barns: (Omit<PlannedBarn, 'sizing' | 'notes'> & {
     notes: BarnPlanNote[];
     sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading };
