@@ -14,7 +14,6 @@ import type {
   CutoffDefaults,
   PenResultSummary,
   PenSummary,
-  SequencingCandidates,
   SiteFigureFacts,
   SummaryFacts,
   SummaryNotice,
@@ -60,14 +59,6 @@ export function describeDesignPrevalence(site: Site): string {
   return design.kind === 'pens'
     ? `${design.value} pen${design.value === 1 ? '' : 's'}`
     : `${Math.round(design.value * 1000) / 10}% of pens`;
-}
-
-/**
- * The plain reading of a sequencing candidate. Labs commonly attempt sequencing only below a Ct
- * threshold: common practice, no published source; the lab's own threshold governs.
- */
-export function sequencingReading(below: number): string {
-  return `Ct below ${below}: enough viral RNA that sequencing is likely to succeed (common practice, no published source).`;
 }
 
 /** The defaults in assays.yaml of an assay's cutoffs, by its measure. */
@@ -217,8 +208,8 @@ function sequencingOf(
   config: Config,
   assayIds: readonly string[],
   pens: readonly PenSummary[],
-): SequencingCandidates[] {
-  return assayIds.flatMap((assayId): SequencingCandidates[] => {
+): SummaryFacts['sequencing'] {
+  return assayIds.flatMap((assayId): SummaryFacts['sequencing'] => {
     const below = sequencingBelowOf(config.assayById.get(assayId));
     if (below === undefined) return [];
     const candidates = pens.flatMap((pen) => {
@@ -236,7 +227,7 @@ function sequencingOf(
           ]
         : [];
     });
-    return [{ assayId, sequencingBelow: below, reading: sequencingReading(below), pens: candidates }];
+    return [{ assayId, sequencingBelow: below, pens: candidates }];
   });
 }
 

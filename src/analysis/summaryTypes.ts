@@ -66,6 +66,7 @@ export interface AssayPair {
 export interface SequencingCandidates {
   assayId: string;
   sequencingBelow: number;
+  /** The threshold in words (src/report/summaryNotices.ts). */
   reading: string;
   pens: { barnId: string; penId: string; sampleId: string; ct: number; labId: string; labName: string }[];
 }
@@ -172,7 +173,8 @@ export type SummaryNotice =
     };
 
 /** The round summary as summariseSite returns it: its notices coded, no cautions yet. */
-export type SummaryFacts = Omit<RoundSummary, 'notices' | 'cautions' | 'assays'> & {
+export type SummaryFacts = Omit<RoundSummary, 'notices' | 'cautions' | 'assays' | 'sequencing'> & {
+  sequencing: Omit<SequencingCandidates, 'reading'>[];
   assays: (Omit<RoundSummary['assays'][number], 'siteFigures'> & { siteFigures: SiteFigureFacts[] })[];
   notices: SummaryNotice[];
 };

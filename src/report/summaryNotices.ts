@@ -42,6 +42,14 @@ export function summaryNoticeText(notice: SummaryNotice): string {
   }
 }
 
+/**
+ * The plain reading of a sequencing candidate. Labs commonly attempt sequencing only below a Ct
+ * threshold: common practice, no published source; the lab's own threshold governs.
+ */
+export function sequencingReading(below: number): string {
+  return `Ct below ${below}: enough viral RNA that sequencing is likely to succeed (common practice, no published source).`;
+}
+
 const SMALL_NUMBERS = ['no', 'one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten'];
 
 /** The plain label of a site figure: "if every barn were infected at 10% of pens", "if only one barn were infected". */
@@ -59,6 +67,12 @@ export function wordSummary(facts: SummaryFacts): RoundSummary {
     assays: facts.assays.map((assay) => ({
       ...assay,
       siteFigures: assay.siteFigures.map((figure) => ({ ...figure, label: siteFigureLabelText(figure.label) })),
+    })),
+    sequencing: facts.sequencing.map(({ assayId, sequencingBelow, pens }) => ({
+      assayId,
+      sequencingBelow,
+      reading: sequencingReading(sequencingBelow),
+      pens,
     })),
     notices: facts.notices.map(summaryNoticeText),
     cautions: CAUTIONS,
