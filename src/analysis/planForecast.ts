@@ -80,11 +80,7 @@ export function scheduleComparisons(ctx: PlanContext, routine: Routine, seed: nu
       barnId: model.barn.id,
       static: statics.options,
       growing: growing.options,
-      notes: [
-        ...statics.notes,
-        ...growing.notes,
-        `Infected pens double every ${GROWTH_DOUBLING_DAYS} days in the growing comparison (a modelling assumption).`,
-      ],
+      notes: [...statics.notes, ...growing.notes, { kind: 'growth-doubling', days: GROWTH_DOUBLING_DAYS }],
     };
   });
 }

@@ -9,9 +9,11 @@
 import type { DesignPrevalence } from '../config/types.js';
 import type {
   Allocation,
+  BarnPlanNote,
   BarnPlanSummary,
   OnTimeVersusMissed,
   PlanRow,
+  ScheduleNote,
   ScheduleOption,
   SimulatedDelay,
 } from '../plan/index.js';
@@ -63,7 +65,7 @@ export interface NextRoundPlan {
   /** `poolId`: the pool the rope goes into (program `pooling`), absent for a rope tested on its own. */
   ropes: PooledPlanRow[];
   /** `monitoring`: the barn is positive and monitored instead of surveyed (src/analysis/monitoredPlan.ts). */
-  barns: (BarnPlanSummary & { sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
+  barns: (Omit<BarnPlanSummary, 'notes'> & { notes: string[]; sizing: BarnSizingReport; monitoring?: MonitoredBarn })[];
   sizing: {
     /** The detection model that sized the routine ropes (analysis.sizingModel). */
     sizingModel: 'hypergeometric' | 'spatial';
@@ -79,7 +81,8 @@ export interface NextRoundPlan {
   };
   /** Site detection of the routine ropes if the round comes back negative, with `sizing.infectedBarns` of the barns infected (two-stage). */
   siteDetectionIfNegative: number;
-  freedom: (OnTimeVersusMissed & { assayId: string; currentFreedom: number }) | null;
+  /** `sentence`: the forecast in words (src/report/planWording.ts). */
+  freedom: (OnTimeVersusMissed & { assayId: string; currentFreedom: number; sentence: string }) | null;
   schedules: {
     barnId: string;
     static: ScheduleOption[];
@@ -205,11 +208,16 @@ export type IfNegativeReading =
 type PlannedBarn = NextRoundPlan['barns'][number];
 
 /** The plan as the planner returns it: every sentence of a `NextRoundPlan` as its coded facts. */
-export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'notes'> & {
-  barns: (Omit<PlannedBarn, 'sizing'> & { sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading } })[];
+export type PlannedRound = Omit<NextRoundPlan, 'barns' | 'sizing' | 'schedules' | 'freedom' | 'notes'> & {
+  freedom: Omit<NonNullable<NextRoundPlan['freedom']>, 'sentence'> | null;
+  barns: (Omit<PlannedBarn, 'sizing' | 'notes'> & {
+    notes: BarnPlanNote[];
+    sizing: Omit<BarnSizingReport, 'statement'> & { statement: BarnReading };
+  })[];
   sizing: Omit<NextRoundPlan['sizing'], 'ifNegative' | 'notes'> & {
     ifNegative: IfNegativeReading;
     notes: SizingNote[];
   };
+  schedules: (Omit<NextRoundPlan['schedules'][number], 'notes'> & { notes: ScheduleNote[] })[];
   notes: PlanNote[];
 };

@@ -14,8 +14,7 @@ import type {
   CutoffDefaults,
   PenResultSummary,
   PenSummary,
-  SequencingCandidates,
-  SiteFigure,
+  SiteFigureFacts,
   SummaryFacts,
   SummaryNotice,
 } from './summaryTypes.js';
@@ -23,29 +22,22 @@ import { SUMMARY_SCHEMA } from './summaryTypes.js';
 
 export * from './summaryTypes.js';
 
-const SMALL_NUMBERS = ['no', 'one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten'];
-
 /**
- * The two site figures of an assay in plain words: every barn infected at the design prevalence
+ * The two site figures of an assay, their labels coded: every barn infected at the design prevalence
  * (1 - prod(1 - p)), and only D barns infected (two-stage; D from barnDesignPrevalence, one barn
  * without it). The first figure drives freedom unless the program sets fewer barns.
  */
-export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigure[] {
-  const within = describeDesignPrevalence(site);
+export function siteFiguresOf(site: Site, confidence: SiteConfidence): SiteFigureFacts[] {
   const few = confidence.fewInfectedBarns;
-  const fewWords =
-    few === 1
-      ? 'if only one barn were infected'
-      : `if only ${SMALL_NUMBERS[few] ?? String(few)} of the ${confidence.barns} barns were infected`;
   return [
     {
-      label: `if every barn were infected at ${within}`,
+      label: { kind: 'every-barn', design: site.program.designPrevalence },
       detection: confidence.detectionIfEveryBarn,
       infectedBarns: confidence.barns,
       freedom: confidence.infectedBarns === confidence.barns,
     },
     {
-      label: fewWords,
+      label: { kind: 'few-barns', infectedBarns: few, barns: confidence.barns },
       detection: confidence.detectionIfFewBarns,
       infectedBarns: few,
       freedom: confidence.infectedBarns !== confidence.barns,
@@ -67,14 +59,6 @@ export function describeDesignPrevalence(site: Site): string {
   return design.kind === 'pens'
     ? `${design.value} pen${design.value === 1 ? '' : 's'}`
     : `${Math.round(design.value * 1000) / 10}% of pens`;
-}
-
-/**
- * The plain reading of a sequencing candidate. Labs commonly attempt sequencing only below a Ct
- * threshold: common practice, no published source; the lab's own threshold governs.
- */
-export function sequencingReading(below: number): string {
-  return `Ct below ${below}: enough viral RNA that sequencing is likely to succeed (common practice, no published source).`;
 }
 
 /** The defaults in assays.yaml of an assay's cutoffs, by its measure. */
@@ -224,8 +208,8 @@ function sequencingOf(
   config: Config,
   assayIds: readonly string[],
   pens: readonly PenSummary[],
-): SequencingCandidates[] {
-  return assayIds.flatMap((assayId): SequencingCandidates[] => {
+): SummaryFacts['sequencing'] {
+  return assayIds.flatMap((assayId): SummaryFacts['sequencing'] => {
     const below = sequencingBelowOf(config.assayById.get(assayId));
     if (below === undefined) return [];
     const candidates = pens.flatMap((pen) => {
@@ -243,7 +227,7 @@ function sequencingOf(
           ]
         : [];
     });
-    return [{ assayId, sequencingBelow: below, reading: sequencingReading(below), pens: candidates }];
+    return [{ assayId, sequencingBelow: below, pens: candidates }];
   });
 }
 

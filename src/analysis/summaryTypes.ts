@@ -3,7 +3,7 @@
  * the code that builds it (roundSummary.ts), so that its readers (the writers and pages in
  * src/report) need not import the builder.
  */
-import type { Measure } from '../config/types.js';
+import type { DesignPrevalence, Measure } from '../config/types.js';
 import type {
   AssayTally,
   CallDisagreement,
@@ -66,6 +66,7 @@ export interface AssayPair {
 export interface SequencingCandidates {
   assayId: string;
   sequencingBelow: number;
+  /** The threshold in words (src/report/summaryNotices.ts). */
   reading: string;
   pens: { barnId: string; penId: string; sampleId: string; ct: number; labId: string; labName: string }[];
 }
@@ -172,7 +173,19 @@ export type SummaryNotice =
     };
 
 /** The round summary as summariseSite returns it: its notices coded, no cautions yet. */
-export type SummaryFacts = Omit<RoundSummary, 'notices' | 'cautions'> & { notices: SummaryNotice[] };
+export type SummaryFacts = Omit<RoundSummary, 'notices' | 'cautions' | 'assays' | 'sequencing'> & {
+  sequencing: Omit<SequencingCandidates, 'reading'>[];
+  assays: (Omit<RoundSummary['assays'][number], 'siteFigures'> & { siteFigures: SiteFigureFacts[] })[];
+  notices: SummaryNotice[];
+};
+
+/** Which reading of the site's detection a figure is, coded (src/report/summaryNotices.ts words it). */
+export type SiteFigureLabel =
+  | { kind: 'every-barn'; design: DesignPrevalence }
+  | { kind: 'few-barns'; infectedBarns: number; barns: number };
+
+/** A site figure as summariseSite returns it: its label coded. */
+export type SiteFigureFacts = Omit<SiteFigure, 'label'> & { label: SiteFigureLabel };
 
 /** One reading of the site's detection: with every barn infected, or with only a few. */
 export interface SiteFigure {

@@ -21,6 +21,7 @@
  *   submodular set functions I. Math Program 14:265-294.
  * @see Leskovec J et al. (2007) Cost-effective outbreak detection in networks. KDD (lazy greedy).
  */
+import type { BarnPlanNote } from './barnNotes.js';
 import type { Pen, PenContacts } from '../domain/layout.js';
 import { isInUse, penDistance } from '../domain/layout.js';
 import { requireInteger, requireNumber, requireReturnedProbability } from '../stats/validate.js';
@@ -69,7 +70,7 @@ export interface FollowUpPlan {
   added: string[];
   /** detectSet of all ropes, when the model was given. */
   detection: number | null;
-  notes: string[];
+  notes: BarnPlanNote[];
 }
 
 const TIER_RANK: Record<ContactTier, number> = { fence: 0, facing: 1, diagonal: 2, distance: 3 };
@@ -176,12 +177,12 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
   }
   if (input.maxExtraRopes !== undefined)
     requireInteger('maxExtraRopes', input.maxExtraRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
-  const notes: string[] = [];
+  const notes: BarnPlanNote[] = [];
   const retest = new Set<string>();
   for (const id of input.retest) {
     const pen = byId.get(id);
     if (!pen) throw new RangeError(`\`retest\` must name pens of the barn, got ${JSON.stringify(id)}`);
-    if (!isInUse(pen)) notes.push(`Pen ${id} is ${pen.status} now; its retest rope cannot be hung.`);
+    if (!isInUse(pen)) notes.push({ kind: 'retest-not-in-use', penId: id, status: pen.status });
     else retest.add(id);
   }
   const routine = new Set(input.routine);
@@ -191,8 +192,7 @@ export function planFollowUp(input: FollowUpInput): FollowUpPlan {
   const limit = Math.min(input.maxExtraRopes ?? extras.length, extras.length);
   const base = [...retest, ...input.routine.filter((id) => !retest.has(id))];
   const added = input.detectSet ? lazyGreedy(input.detectSet, base, extras, limit) : extras.slice(0, limit);
-  if (limit < extras.length)
-    notes.push(`${extras.length - limit} ring pens left without a follow-up rope (limit ${limit}).`);
+  if (limit < extras.length) notes.push({ kind: 'ring-left-out', left: extras.length - limit, limit });
   const followUp = new Set([...free, ...added]);
   const ropes: PlannedRope[] = [];
   for (const pen of input.pens) {

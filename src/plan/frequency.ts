@@ -4,7 +4,6 @@
  */
 import { addDays, differenceInCalendarDays, format, isValid, parseISO } from 'date-fns';
 import { requireNumber } from '../stats/validate.js';
-import { formatPercent } from '../util/format.js';
 
 function parseDay(name: string, text: string): Date {
   const date = /^\d{4}-\d{2}-\d{2}$/.test(text) ? parseISO(text) : new Date(NaN);
@@ -90,7 +89,6 @@ export interface OnTimeVersusMissed {
   missed: number;
   /** onTime - missed: what skipping the round costs, in probability of freedom. */
   cost: number;
-  sentence: string;
 }
 
 /**
@@ -126,8 +124,5 @@ export function onTimeVersusMissed(input: {
     withoutRound,
     missed,
     cost: onTime - missed,
-    sentence:
-      `A negative round on time brings the probability of freedom to ${formatPercent(onTime)}; ` +
-      `missing it leaves ${formatPercent(withoutRound)} on the due date, and a negative round one interval later reaches only ${formatPercent(missed)}.`,
   };
 }

@@ -6,3 +6,4 @@ export * from './frequency.js';
 export * from './sampleId.js';
 export * from './roundPlan.js';
 export * from './monitoring.js';
+export type { BarnPlanNote } from './barnNotes.js';

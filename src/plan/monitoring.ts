@@ -20,6 +20,7 @@
  * Pure.
  * @see Cochran WG (1977) Sampling Techniques, ch. 8 (systematic sampling).
  */
+import type { BarnPlanNote } from './barnNotes.js';
 import { inUsePens, type Pen, type PenContacts } from '../domain/layout.js';
 import type { SiteRound } from '../rounds/roundModel.js';
 import { requireInteger } from '../stats/validate.js';
@@ -58,7 +59,7 @@ export interface MonitoredBarnPlan {
   tracking: string[];
   /** Covering radius of the tracking set alone, pen units; null without tracking ropes. */
   trackingCoveringRadius: number | null;
-  notes: string[];
+  notes: BarnPlanNote[];
 }
 
 /**
@@ -87,9 +88,8 @@ export function planMonitoredBarn(input: MonitoredBarnInput): MonitoredBarnPlan 
       reason: reRope.has(rope.penId) ? 're-rope' : rope.reason === 'routine' ? 'tracking' : rope.reason,
     }),
   );
-  const notes = [
-    `Positive barn: monitored, not surveyed. ${input.reRope.length} positive pen${input.reRope.length === 1 ? '' : 's'} re-roped so that their Ct series continue; ` +
-      `${tracking.penIds.length} fixed tracking rope${tracking.penIds.length === 1 ? '' : 's'} (${tracking.penIds.join(', ') || 'none'}), the same pens every round, spread evenly along the barn to follow spread and clearance.`,
+  const notes: BarnPlanNote[] = [
+    { kind: 'monitored-barn', reRope: input.reRope.length, tracking: [...tracking.penIds] },
     ...followUp.notes,
   ];
   return {

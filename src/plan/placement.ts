@@ -29,6 +29,7 @@
  *   certain class of populations. Ann Math Stat 17:164-177.
  * @see Cochran WG (1977) Sampling Techniques, 3rd ed., ch. 8 (systematic sampling).
  */
+import type { BarnPlanNote } from './barnNotes.js';
 import type { Pen } from '../domain/layout.js';
 import { inUsePens, isInUse, penDistance } from '../domain/layout.js';
 import { requireInteger } from '../stats/validate.js';
@@ -58,7 +59,7 @@ export interface SystematicPlacement {
   coveringRadius: number | null;
   /** Mean distance from an in-use pen to its nearest rope, pen units; null without ropes. */
   meanDistance: number | null;
-  notes: string[];
+  notes: BarnPlanNote[];
 }
 
 export interface SystematicOptions {
@@ -228,8 +229,8 @@ function gcd(a: number, b: number): number {
  * (e.g. always the pen beside the hospital pen). A fractional interval (gaps of 5 and 6) breaks
  * the alignment and is not flagged.
  */
-function periodNotes(grid: Grid, ropes: PlacedRope[], period: number): string[] {
-  const notes: string[] = [];
+function periodNotes(grid: Grid, ropes: PlacedRope[], period: number): BarnPlanNote[] {
+  const notes: BarnPlanNote[] = [];
   for (let row = 0; row < grid.rows; row++) {
     const positions = ropes
       .filter((r) => r.targetRow === row)
@@ -241,10 +242,7 @@ function periodNotes(grid: Grid, ropes: PlacedRope[], period: number): string[] 
     const interval = [...gaps][0]!;
     const shared = gcd(interval, period);
     if (shared > 1) {
-      notes.push(
-        `Row ${grid.rowLabel(row)}: ropes every ${interval} pens share the factor ${shared} with the period of ${period} pens, ` +
-          `so each round samples only ${period / shared} of the ${period} positions of the period; the rotation moves them in later rounds.`,
-      );
+      notes.push({ kind: 'period-shared', row: grid.rowLabel(row), interval, shared, period });
     }
   }
   return notes;
@@ -276,8 +274,7 @@ export function placeSystematic(pens: readonly Pen[], options: SystematicOptions
   const distances = placementDistances(pens, penIds);
   const notes = options.period !== undefined ? periodNotes(grid, ropes, options.period) : [];
   const snapped = ropes.filter((r) => r.snapped).length;
-  if (snapped > 0)
-    notes.push(`${snapped} of ${ropes.length} ropes moved to the nearest in-use pen (target empty or out of use).`);
+  if (snapped > 0) notes.push({ kind: 'snapped', snapped, ropes: ropes.length });
   return { ropes, penIds, phase, startPhase, cycleLength, ...distances, notes };
 }
 
@@ -286,7 +283,8 @@ export interface CoverageRounds {
   rounds: number;
   /** The rotation's cycle length K (an upper bound for `rounds`). */
   cycleLength: number;
-  statement: string;
+  /** In-use pens of the barn, every one covered after `rounds`. */
+  inUsePens: number;
 }
 
 /**
@@ -309,14 +307,7 @@ export function coverageRounds(pens: readonly Pen[], ropes: number, fromRound = 
     const phase = (startPhase + ((fromRound + round) % cycleLength)) % cycleLength;
     for (const rope of placeAtPhase(grid, ropes, phase)) covered.add(rope.penId);
     if (covered.size === grid.inUse.length) {
-      const rounds = round + 1;
-      return {
-        rounds,
-        cycleLength,
-        statement:
-          `With ${ropes} ropes a round, every one of the ${grid.inUse.length} in-use pens has had a rope after ` +
-          `${rounds} round${rounds === 1 ? '' : 's'} (the rotation repeats every ${cycleLength}).`,
-      };
+      return { rounds: round + 1, cycleLength, inUsePens: grid.inUse.length };
     }
   }
   throw new Error(`rotation did not cover all in-use pens within ${cycleLength} rounds (placement rule broken)`);

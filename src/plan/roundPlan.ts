@@ -12,7 +12,8 @@ import { expandLayout, penContacts, type BarnLayout, type Pen } from '../domain/
 import { requireInteger } from '../stats/validate.js';
 import { planFollowUp } from './followUp.js';
 import { planMonitoredBarn, type PlanReason } from './monitoring.js';
-import { coverageRounds, placeSystematic, placementDistances } from './placement.js';
+import type { BarnPlanNote } from './barnNotes.js';
+import { type CoverageRounds, coverageRounds, placeSystematic, placementDistances } from './placement.js';
 import { formatSampleId, isWriteFriendlyCheck } from './sampleId.js';
 
 export interface BarnRoundInput {
@@ -76,7 +77,7 @@ export interface BarnPlanSummary {
   /** Rounds from this one until every in-use pen has had a routine rope; null without routine ropes. */
   coverageRounds: number | null;
   cycleLength: number;
-  notes: string[];
+  notes: BarnPlanNote[];
 }
 
 export interface RoundPlan {
@@ -101,14 +102,7 @@ function clustersOf(barn: BarnRoundInput): string[][] {
   return clusters;
 }
 
-/**
- * Assembles the plan of one round for a site (see the module comment for the walking order and
- * the numbering; {@link placeSystematic} and {@link planFollowUp} for the choices).
- * @throws RangeError for a duplicate barn id, a malformed due date, a bad round or site code,
- *   more than 999 ropes, or any precondition of the kernels it calls
- * @see Cochran WG (1977) Sampling Techniques, ch. 8; ISO/IEC 7064:2003 MOD 37-2.
- */
-export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
+function validatePlanInput(input: RoundPlanInput): void {
   if (!/^\d{4}-\d{2}-\d{2}$/.test(input.dueDate))
     throw new RangeError(`\`dueDate\` must be a date yyyy-mm-dd, got ${JSON.stringify(input.dueDate)}`);
   requireInteger('round', input.round, 0, 9999);
@@ -119,8 +113,12 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
       throw new RangeError(`\`barnId\` must be unique within the site, got ${JSON.stringify(barn.barnId)} twice`);
     seen.add(barn.barnId);
   }
+}
+
+/** The next write-friendly sample ID of the round, sequences 1, 2, ... (see the module comment). */
+function sampleIdSequence(input: RoundPlanInput): () => string {
   let sequence = 0;
-  const nextId = () => {
+  return () => {
     for (;;) {
       sequence++;
       if (sequence > 999) throw new RangeError('`ropes` must be an integer in [0, 999] per site and round, got more');
@@ -128,108 +126,162 @@ export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
       if (isWriteFriendlyCheck(id)) return id;
     }
   };
+}
+
+/** The options the follow-up kernels share: contacts, clusters, retests, ring and the optional limits. */
+function followUpOptions(barn: BarnRoundInput, pens: readonly Pen[]) {
+  return {
+    pens,
+    contacts: penContacts(barn.layout, pens),
+    clusters: clustersOf(barn),
+    retest: [...new Set([...(barn.suspects ?? []), ...(barn.invalids ?? [])])],
+    ringDistance: barn.ringDistance ?? 0,
+    ...(barn.maxExtraRopes !== undefined ? { maxExtraRopes: barn.maxExtraRopes } : {}),
+    ...(barn.detectSet ? { detectSet: barn.detectSet } : {}),
+  };
+}
+
+/** One barn's ropes, each with its reason. */
+interface BarnRopes {
+  ropes: readonly { penId: string; reason: PlanReason }[];
+}
+
+/** The plan rows of one barn's ropes, in walking order, each with the next sample ID. */
+function barnRows(
+  input: RoundPlanInput,
+  barn: BarnRoundInput,
+  pens: readonly Pen[],
+  planned: BarnRopes,
+  nextId: () => string,
+): PlanRow[] {
+  const reasonOf = new Map(planned.ropes.map((r) => [r.penId, r.reason]));
+  const rows: PlanRow[] = [];
+  for (const pen of walkingOrder(pens)) {
+    const reason = reasonOf.get(pen.id);
+    if (!reason) continue;
+    rows.push({
+      sampleId: nextId(),
+      siteId: input.siteCode.toUpperCase(),
+      barnId: barn.barnId,
+      penId: pen.id,
+      side: pen.rowLabel,
+      reason,
+      dueDate: input.dueDate,
+    });
+  }
+  return rows;
+}
+
+/** Rope counts by reason and the distances of all the barn's ropes. */
+function ropeFigures(pens: readonly Pen[], planned: BarnRopes) {
+  const count = (reason: PlanReason) => planned.ropes.filter((r) => r.reason === reason).length;
+  const all = placementDistances(
+    pens,
+    planned.ropes.map((r) => r.penId),
+  );
+  return {
+    ropes: planned.ropes.length,
+    count,
+    coveringRadius: all.coveringRadius,
+    meanDistance: all.meanDistance,
+  };
+}
+
+/** A positive barn: re-rope and tracking ropes instead of the rotation (src/plan/monitoring.ts). */
+function monitoredBarnPlan(
+  barn: BarnRoundInput,
+  monitoring: NonNullable<BarnRoundInput['monitoring']>,
+  pens: readonly Pen[],
+): { planned: BarnRopes; summary: BarnPlanSummary } {
+  const monitored = planMonitoredBarn({
+    ...followUpOptions(barn, pens),
+    reRope: monitoring.reRope,
+    trackingRopes: monitoring.trackingRopes,
+  });
+  const figures = ropeFigures(pens, monitored);
+  return {
+    planned: monitored,
+    summary: {
+      barnId: barn.barnId,
+      ropes: figures.ropes,
+      routine: 0,
+      followUp: figures.count('follow-up'),
+      retest: figures.count('retest'),
+      reRope: figures.count('re-rope'),
+      tracking: figures.count('tracking'),
+      coveringRadius: figures.coveringRadius,
+      meanDistance: figures.meanDistance,
+      routineCoveringRadius: monitored.trackingCoveringRadius,
+      coverageRounds: null,
+      cycleLength: 1,
+      notes: monitored.notes,
+    },
+  };
+}
+
+/** The coverage of the rotation as a barn note. */
+function coverageNote(ropes: number, coverage: CoverageRounds): BarnPlanNote {
+  return {
+    kind: 'coverage',
+    ropes,
+    inUsePens: coverage.inUsePens,
+    rounds: coverage.rounds,
+    cycleLength: coverage.cycleLength,
+  };
+}
+
+/** A surveyed barn: the rotating systematic layer, then retest and follow-up ropes. */
+function surveyedBarnPlan(
+  barn: BarnRoundInput,
+  pens: readonly Pen[],
+): { planned: BarnRopes; summary: BarnPlanSummary } {
+  const placement = placeSystematic(pens, {
+    ropes: barn.routineRopes,
+    roundIndex: barn.roundIndex,
+    ...(barn.period !== undefined ? { period: barn.period } : {}),
+  });
+  const followUp = planFollowUp({ ...followUpOptions(barn, pens), routine: placement.penIds });
+  const figures = ropeFigures(pens, followUp);
+  const coverage = barn.routineRopes > 0 ? coverageRounds(pens, barn.routineRopes, barn.roundIndex) : null;
+  return {
+    planned: followUp,
+    summary: {
+      barnId: barn.barnId,
+      ropes: figures.ropes,
+      routine: figures.count('routine'),
+      followUp: figures.count('follow-up'),
+      retest: figures.count('retest'),
+      reRope: 0,
+      tracking: 0,
+      coveringRadius: figures.coveringRadius,
+      meanDistance: figures.meanDistance,
+      routineCoveringRadius: placement.coveringRadius,
+      coverageRounds: coverage?.rounds ?? null,
+      cycleLength: placement.cycleLength,
+      notes: [...placement.notes, ...followUp.notes, ...(coverage ? [coverageNote(barn.routineRopes, coverage)] : [])],
+    },
+  };
+}
+
+/**
+ * Assembles the plan of one round for a site (see the module comment for the walking order and
+ * the numbering; {@link placeSystematic} and {@link planFollowUp} for the choices).
+ * @throws RangeError for a duplicate barn id, a malformed due date, a bad round or site code,
+ *   more than 999 ropes, or any precondition of the kernels it calls
+ * @see Cochran WG (1977) Sampling Techniques, ch. 8; ISO/IEC 7064:2003 MOD 37-2.
+ */
+export function buildRoundPlan(input: RoundPlanInput): RoundPlan {
+  validatePlanInput(input);
+  const nextId = sampleIdSequence(input);
   const rows: PlanRow[] = [];
   const barns: BarnPlanSummary[] = [];
   for (const barn of input.barns) {
     const pens = expandLayout(barn.layout);
-    if (barn.monitoring) {
-      const monitored = planMonitoredBarn({
-        pens,
-        contacts: penContacts(barn.layout, pens),
-        reRope: barn.monitoring.reRope,
-        clusters: clustersOf(barn),
-        retest: [...new Set([...(barn.suspects ?? []), ...(barn.invalids ?? [])])],
-        trackingRopes: barn.monitoring.trackingRopes,
-        ringDistance: barn.ringDistance ?? 0,
-        ...(barn.maxExtraRopes !== undefined ? { maxExtraRopes: barn.maxExtraRopes } : {}),
-        ...(barn.detectSet ? { detectSet: barn.detectSet } : {}),
-      });
-      const reasonOf = new Map(monitored.ropes.map((r) => [r.penId, r.reason]));
-      for (const pen of walkingOrder(pens)) {
-        const reason = reasonOf.get(pen.id);
-        if (!reason) continue;
-        rows.push({
-          sampleId: nextId(),
-          siteId: input.siteCode.toUpperCase(),
-          barnId: barn.barnId,
-          penId: pen.id,
-          side: pen.rowLabel,
-          reason,
-          dueDate: input.dueDate,
-        });
-      }
-      const count = (reason: PlanReason) => monitored.ropes.filter((r) => r.reason === reason).length;
-      const all = placementDistances(
-        pens,
-        monitored.ropes.map((r) => r.penId),
-      );
-      barns.push({
-        barnId: barn.barnId,
-        ropes: monitored.ropes.length,
-        routine: 0,
-        followUp: count('follow-up'),
-        retest: count('retest'),
-        reRope: count('re-rope'),
-        tracking: count('tracking'),
-        coveringRadius: all.coveringRadius,
-        meanDistance: all.meanDistance,
-        routineCoveringRadius: monitored.trackingCoveringRadius,
-        coverageRounds: null,
-        cycleLength: 1,
-        notes: monitored.notes,
-      });
-      continue;
-    }
-    const placement = placeSystematic(pens, {
-      ropes: barn.routineRopes,
-      roundIndex: barn.roundIndex,
-      ...(barn.period !== undefined ? { period: barn.period } : {}),
-    });
-    const followUp = planFollowUp({
-      pens,
-      contacts: penContacts(barn.layout, pens),
-      clusters: clustersOf(barn),
-      ringDistance: barn.ringDistance ?? 0,
-      routine: placement.penIds,
-      retest: [...new Set([...(barn.suspects ?? []), ...(barn.invalids ?? [])])],
-      ...(barn.maxExtraRopes !== undefined ? { maxExtraRopes: barn.maxExtraRopes } : {}),
-      ...(barn.detectSet ? { detectSet: barn.detectSet } : {}),
-    });
-    const reasonOf = new Map(followUp.ropes.map((r) => [r.penId, r.reason]));
-    for (const pen of walkingOrder(pens)) {
-      const reason = reasonOf.get(pen.id);
-      if (!reason) continue;
-      rows.push({
-        sampleId: nextId(),
-        siteId: input.siteCode.toUpperCase(),
-        barnId: barn.barnId,
-        penId: pen.id,
-        side: pen.rowLabel,
-        reason,
-        dueDate: input.dueDate,
-      });
-    }
-    const count = (reason: PlanReason) => followUp.ropes.filter((r) => r.reason === reason).length;
-    const all = placementDistances(
-      pens,
-      followUp.ropes.map((r) => r.penId),
-    );
-    const coverage = barn.routineRopes > 0 ? coverageRounds(pens, barn.routineRopes, barn.roundIndex) : null;
-    barns.push({
-      barnId: barn.barnId,
-      ropes: followUp.ropes.length,
-      routine: count('routine'),
-      followUp: count('follow-up'),
-      retest: count('retest'),
-      reRope: 0,
-      tracking: 0,
-      coveringRadius: all.coveringRadius,
-      meanDistance: all.meanDistance,
-      routineCoveringRadius: placement.coveringRadius,
-      coverageRounds: coverage?.rounds ?? null,
-      cycleLength: placement.cycleLength,
-      notes: [...placement.notes, ...followUp.notes, ...(coverage ? [coverage.statement] : [])],
-    });
+    const { planned, summary } = barn.monitoring
+      ? monitoredBarnPlan(barn, barn.monitoring, pens)
+      : surveyedBarnPlan(barn, pens);
+    rows.push(...barnRows(input, barn, pens, planned, nextId));
+    barns.push(summary);
   }
   return { rows, barns };
 }

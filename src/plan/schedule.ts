@@ -37,6 +37,19 @@ export interface ScheduleOption {
   expectedDelayDays: number | null;
 }
 
+/** A note on the schedule comparison, coded (src/report/barnPlanNotes.ts words it). */
+export type ScheduleNote =
+  /** An odd rope count: the more-often schedule rounds up to `halved`. */
+  | { kind: 'odd-halving'; ropes: number; halved: number }
+  /** Twice the ropes exceeds the pens in use: the less-often schedule is capped. */
+  | { kind: 'doubling-capped'; ropes: number; maxRopes: number }
+  /** A schedule whose rounds detect nothing at this prevalence. */
+  | { kind: 'never-detects'; label: ScheduleLabel }
+  /** The growing comparison: per-round figures at the introduced prevalence, the simulated delay grows. */
+  | { kind: 'introduced-prevalence' }
+  /** The growing comparison's doubling time, a modelling assumption. */
+  | { kind: 'growth-doubling'; days: number };
+
 export interface ScheduleInput {
   /** Ropes per round now, integer in [1, maxRopes]. */
   ropes: number;
@@ -71,18 +84,13 @@ function validateSchedule(input: ScheduleInput): void {
   requireNumber('intervalDays', input.intervalDays, 0, Infinity, { openMin: true, range: '(0, infinity)' });
 }
 
-function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): string[] {
-  const notes: string[] = [];
+function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): ScheduleNote[] {
+  const notes: ScheduleNote[] = [];
   if (input.ropes % 2 === 1)
-    notes.push(
-      `${input.ropes} ropes do not halve; the more-often schedule uses ${Math.ceil(input.ropes / 2)} (slightly more ropes per month).`,
-    );
+    notes.push({ kind: 'odd-halving', ropes: input.ropes, halved: Math.ceil(input.ropes / 2) });
   if (2 * input.ropes > input.maxRopes)
-    notes.push(
-      `Twice ${input.ropes} ropes exceeds the ${input.maxRopes} pens in use; the less-often schedule is capped (fewer ropes per month).`,
-    );
-  for (const o of options)
-    if (o.expectedDelayDays === null) notes.push(`${o.label}: a round detects nothing at this prevalence.`);
+    notes.push({ kind: 'doubling-capped', ropes: input.ropes, maxRopes: input.maxRopes });
+  for (const o of options) if (o.expectedDelayDays === null) notes.push({ kind: 'never-detects', label: o.label });
   return notes;
 }
 
@@ -92,7 +100,7 @@ function scheduleNotes(input: ScheduleInput, options: ScheduleOption[]): string[
  * @throws RangeError for ropes outside [1, maxRopes], D <= 0, or detect outside [0, 1]
  * Expected delay as above (derived by hand; no published source).
  */
-export function compareSchedules(input: ScheduleInput): { options: ScheduleOption[]; notes: string[] } {
+export function compareSchedules(input: ScheduleInput): { options: ScheduleOption[]; notes: ScheduleNote[] } {
   validateSchedule(input);
   const options = scheduleShapes(input).map((shape) => {
     const p = requireReturnedProbability('detect', input.detect(shape.ropes));
@@ -205,14 +213,11 @@ export function compareSchedulesGrowing(
   input: { ropes: number; intervalDays: number; maxRopes: number },
   model: GrowthModel,
   options: { replicates: number; rng: Rng; maxRounds?: number },
-): { options: (ScheduleOption & { simulated: SimulatedDelay })[]; notes: string[] } {
+): { options: (ScheduleOption & { simulated: SimulatedDelay })[]; notes: ScheduleNote[] } {
   const atIntroduction = (ropes: number) => model.detectAt(ropes, model.initialInfected);
   const statics = compareSchedules({ ...input, detect: atIntroduction });
   return {
     options: statics.options.map((option) => ({ ...option, simulated: simulateDelay(option, model, options) })),
-    notes: [
-      ...statics.notes,
-      'Per-round detection and expected delay are at the introduced prevalence; the simulated delay lets it grow.',
-    ],
+    notes: [...statics.notes, { kind: 'introduced-prevalence' }],
   };
 }

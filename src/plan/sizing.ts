@@ -1,12 +1,11 @@
 /**
  * How many ropes: the smallest rope count reaching a detection target in one barn, the
- * allocation of ropes across the barns of a site, and what to say when no rope count reaches the
+ * allocation of ropes across the barns of a site, and the figures of the case where no rope count reaches the
  * target in one round. The detection model is injected (`detect(ropes)`), so these kernels work
  * with the hypergeometric, the imperfect-rope or the binomial model alike.
  */
 import { requireInteger, requireNumber, requireReturnedProbability, TARGET_SLACK } from '../stats/validate.js';
 import { roundsToReach } from '../stats/sampleSize.js';
-import { formatPercent } from '../util/format.js';
 
 /** Detection probability of one round with `ropes` ropes; must be non-decreasing in `ropes`. */
 export type DetectFn = (ropes: number) => number;
@@ -24,17 +23,17 @@ export interface Unreachable {
   ceiling: number;
   /** Smallest k with 1 - (1 - ceiling)^k >= target; null when the ceiling is 0. */
   roundsNeeded: number | null;
-  message: string;
+  /** The target asked for and the pens a rope each went to (src/report/barnPlanNotes.ts words it). */
+  target: number;
+  maxRopes: number;
+  /** 1 - (1 - ceiling)^roundsNeeded: what that many negative rounds reach; null when the ceiling is 0. */
+  reachedInRounds: number | null;
 }
 
-function unreachable(ceiling: number, target: number, what: string): Unreachable {
+function unreachable(ceiling: number, target: number, maxRopes: number): Unreachable {
   const roundsNeeded = roundsToReach(target, ceiling);
-  const message =
-    roundsNeeded === null
-      ? `No rope count reaches ${formatPercent(target)} detection: ${what} detects nothing (0%).`
-      : `No rope count reaches ${formatPercent(target)} detection in one round: ${what} detects ${formatPercent(ceiling)}. ` +
-        `${roundsNeeded} negative rounds in a row would reach ${formatPercent(-Math.expm1(roundsNeeded * Math.log1p(-ceiling)))}.`;
-  return { reachable: false, ceiling, roundsNeeded, message };
+  const reachedInRounds = roundsNeeded === null ? null : -Math.expm1(roundsNeeded * Math.log1p(-ceiling));
+  return { reachable: false, ceiling, roundsNeeded, target, maxRopes, reachedInRounds };
 }
 
 /**
@@ -56,8 +55,7 @@ export function smallestRopes(detect: DetectFn, target: number, maxRopes: number
   requireInteger('maxRopes', maxRopes, 0, Number.MAX_SAFE_INTEGER, '[0, infinity)');
   const at = (n: number) => requireReturnedProbability('detect', detect(n));
   const ceiling = at(maxRopes);
-  if (ceiling < target - TARGET_SLACK)
-    return unreachable(ceiling, target, `a rope in every one of the ${maxRopes} pens`);
+  if (ceiling < target - TARGET_SLACK) return unreachable(ceiling, target, maxRopes);
   let low = 0; // detect(low) may fall short
   let high = maxRopes; // detect(high) reaches the target
   if (at(0) >= target - TARGET_SLACK) return { reachable: true, ropes: 0, achieved: at(0) };

@@ -12,7 +12,9 @@ import type {
   SizingNote,
 } from '../analysis/planTypes.js';
 import type { DesignPrevalence } from '../config/types.js';
+import type { OnTimeVersusMissed } from '../plan/index.js';
 import { formatPercent } from '../util/format.js';
+import { barnPlanNoteText, scheduleNoteText } from './barnPlanNotes.js';
 
 const plural = (n: number, word: string): string => `${n} ${word}${n === 1 ? '' : 's'}`;
 
@@ -163,12 +165,21 @@ export function ifNegativeText(reading: IfNegativeReading): string {
     : `If they all come back negative on time, the site has ${formatPercent(reading.siteDetection)} detection confidence ${siteWords} (target ${formatPercent(reading.target)} for the site, ${modelName}).`;
 }
 
+/** The freedom forecast in one sentence: on time, without the round, and one interval late. */
+export function freedomForecastText(forecast: OnTimeVersusMissed): string {
+  return (
+    `A negative round on time brings the probability of freedom to ${formatPercent(forecast.onTime)}; ` +
+    `missing it leaves ${formatPercent(forecast.withoutRound)} on the due date, and a negative round one interval later reaches only ${formatPercent(forecast.missed)}.`
+  );
+}
+
 /** The plan with every coded note and reading in words; the keys keep their places. */
 export function wordPlan(planned: PlannedRound): NextRoundPlan {
   return {
     ...planned,
     barns: planned.barns.map((barn) => ({
       ...barn,
+      notes: barn.notes.map(barnPlanNoteText),
       sizing: { ...barn.sizing, statement: barnReadingText(barn.sizing.statement) },
     })),
     sizing: {
@@ -176,6 +187,8 @@ export function wordPlan(planned: PlannedRound): NextRoundPlan {
       ifNegative: ifNegativeText(planned.sizing.ifNegative),
       notes: planned.sizing.notes.map(sizingNoteText),
     },
+    freedom: planned.freedom && { ...planned.freedom, sentence: freedomForecastText(planned.freedom) },
+    schedules: planned.schedules.map((schedule) => ({ ...schedule, notes: schedule.notes.map(scheduleNoteText) })),
     notes: planned.notes.map(planNoteText),
   };
 }

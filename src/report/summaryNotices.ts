@@ -3,8 +3,9 @@
  * its facts, src/analysis/roundSummary.ts) into the sentences summary.json and the pages show,
  * and adds the cautions every human-facing output carries. No statistics in here.
  */
-import type { RoundSummary, SummaryFacts, SummaryNotice } from '../analysis/roundSummary.js';
+import type { RoundSummary, SiteFigureLabel, SummaryFacts, SummaryNotice } from '../analysis/roundSummary.js';
 import { CAUTIONS, notifiableNotice } from './cautions.js';
+import { designWords } from './planWording.js';
 
 /**
  * What an antibody result means, printed with every antibody assay: an oral-fluid antibody
@@ -41,7 +42,39 @@ export function summaryNoticeText(notice: SummaryNotice): string {
   }
 }
 
-/** The round summary with its notices in words and the cautions; the keys keep their places. */
+/**
+ * The plain reading of a sequencing candidate. Labs commonly attempt sequencing only below a Ct
+ * threshold: common practice, no published source; the lab's own threshold governs.
+ */
+export function sequencingReading(below: number): string {
+  return `Ct below ${below}: enough viral RNA that sequencing is likely to succeed (common practice, no published source).`;
+}
+
+const SMALL_NUMBERS = ['no', 'one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten'];
+
+/** The plain label of a site figure: "if every barn were infected at 10% of pens", "if only one barn were infected". */
+export function siteFigureLabelText(label: SiteFigureLabel): string {
+  if (label.kind === 'every-barn') return `if every barn were infected at ${designWords(label.design)}`;
+  return label.infectedBarns === 1
+    ? 'if only one barn were infected'
+    : `if only ${SMALL_NUMBERS[label.infectedBarns] ?? String(label.infectedBarns)} of the ${label.barns} barns were infected`;
+}
+
+/** The round summary with its notices and site-figure labels in words and the cautions; the keys keep their places. */
 export function wordSummary(facts: SummaryFacts): RoundSummary {
-  return { ...facts, notices: facts.notices.map(summaryNoticeText), cautions: CAUTIONS };
+  return {
+    ...facts,
+    assays: facts.assays.map((assay) => ({
+      ...assay,
+      siteFigures: assay.siteFigures.map((figure) => ({ ...figure, label: siteFigureLabelText(figure.label) })),
+    })),
+    sequencing: facts.sequencing.map(({ assayId, sequencingBelow, pens }) => ({
+      assayId,
+      sequencingBelow,
+      reading: sequencingReading(sequencingBelow),
+      pens,
+    })),
+    notices: facts.notices.map(summaryNoticeText),
+    cautions: CAUTIONS,
+  };
 }

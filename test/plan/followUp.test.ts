@@ -1,3 +1,4 @@
+import { barnPlanNoteText } from '../../src/report/barnPlanNotes.js';
 import { describe, expect, it } from 'vitest';
 import { penContacts } from '../../src/domain/layout.js';
 import { lazyGreedy, planFollowUp, ringCandidates } from '../../src/plan/index.js';
@@ -44,7 +45,8 @@ describe('follow-up ring', () => {
       { penId: 'B4', reason: 'follow-up' },
       { penId: 'B6', reason: 'routine' },
     ]);
-    expect(plan.notes).toEqual([expect.stringContaining('Pen A5 is empty')]);
+    expect(plan.notes).toEqual([{ kind: 'retest-not-in-use', penId: 'A5', status: 'empty' }]);
+    expect(plan.notes.map(barnPlanNoteText)).toEqual([expect.stringContaining('Pen A5 is empty')]);
   });
 
   it('takes the first ring pens in priority order when extra ropes are limited and no model is given', () => {

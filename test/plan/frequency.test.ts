@@ -1,3 +1,4 @@
+import { freedomForecastText } from '../../src/report/planWording.js';
 import { describe, expect, it } from 'vitest';
 import { discountForIntroduction, freedomAfterNegative, onTimeVersusMissed, roundDue } from '../../src/plan/index.js';
 import { expectClose } from '../helpers/expectClose.js';
@@ -57,7 +58,7 @@ describe('freedom on time versus a missed round', () => {
     // By hand: prior 0.5 * 0.99^2 = 0.49005; 0.49005 / (1 - 0.8 * 0.50995) = 0.8278 (a round later).
     expectClose(result.missed, 0.49005 / (1 - 0.8 * 0.50995), { rel: 1e-12 }, 'missed, negative a round later');
     expect(result.cost).toBeGreaterThan(0);
-    expect(result.sentence).toContain('83.1%');
+    expect(freedomForecastText(result)).toContain('83.1%');
   });
 
   it('uses an injected freedom model when one is given', () => {

@@ -1,3 +1,4 @@
+import { barnPlanNoteText } from '../../src/report/barnPlanNotes.js';
 import { describe, expect, it } from 'vitest';
 import { expandLayout, penContacts } from '../../src/domain/layout.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
@@ -35,7 +36,7 @@ describe('the ropes of a positive barn', () => {
       { penId: 'A13', reason: 'retest' },
       { penId: 'A18', reason: 'tracking' },
     ]);
-    expect(plan.notes[0]).toContain('1 positive pen re-roped');
+    expect(barnPlanNoteText(plan.notes[0]!)).toContain('1 positive pen re-roped');
   });
 
   it('caps the tracking set at the pens in use and refuses a negative size', () => {

@@ -1,3 +1,4 @@
+import { barnPlanNoteText } from '../../src/report/barnPlanNotes.js';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import type { Pen } from '../../src/domain/layout.js';
@@ -82,7 +83,8 @@ describe('systematic placement', () => {
         expect(unionOverRounds(pens, ropes, stated.rounds, from).size, label).toBe(inUse);
         if (stated.rounds > 1)
           expect(unionOverRounds(pens, ropes, stated.rounds - 1, from).size, label).toBeLessThan(inUse);
-        expect(stated.statement).toContain(`after ${stated.rounds} round`);
+        expect(stated.inUsePens, label).toBe(inUse);
+        expect(barnPlanNoteText({ kind: 'coverage', ropes, ...stated })).toContain(`after ${stated.rounds} round`);
       }
       if (ropes < inUse) {
         const a = placeSystematic(pens, { ropes, roundIndex: 0 }).penIds;
@@ -142,16 +144,18 @@ describe('systematic placement', () => {
   it('notes when the interval shares a factor with a barn periodicity such as every fourth pen', () => {
     // 10 ropes on 2 x 20: rope k at position 2k, so row A ropes at 0, 4, 8, 12, 16: all the same
     // phase of a period of 4 (by hand).
-    const notes = placeSystematic(barn, { ropes: 10, roundIndex: 0, period: 4 }).notes;
+    const notes = placeSystematic(barn, { ropes: 10, roundIndex: 0, period: 4 }).notes.map(barnPlanNoteText);
     expect(notes.some((n) => n.includes('only 1 of the 4 positions'))).toBe(true);
     // 7 ropes: row B ropes 6 pens apart (gcd(6, 4) = 2, flagged), row A 5 or 6 apart (not constant).
-    const seven = placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 4 }).notes.filter((n) =>
-      n.includes('period'),
-    );
+    const seven = placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 4 })
+      .notes.map(barnPlanNoteText)
+      .filter((n) => n.includes('period'));
     expect(seven).toEqual([expect.stringContaining('Row B: ropes every 6 pens share the factor 2')]);
     // A period of 5 shares no factor with 6: nothing to note.
     expect(
-      placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 5 }).notes.filter((n) => n.includes('period')),
+      placeSystematic(barn, { ropes: 7, roundIndex: 0, period: 5 })
+        .notes.map(barnPlanNoteText)
+        .filter((n) => n.includes('period')),
     ).toEqual([]);
   });
 

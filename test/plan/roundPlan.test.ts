@@ -1,3 +1,4 @@
+import { barnPlanNoteText } from '../../src/report/barnPlanNotes.js';
 import { describe, expect, it } from 'vitest';
 import { expandLayout } from '../../src/domain/layout.js';
 import { buildRoundPlan, parseSampleId, placeSystematic, walkingOrder } from '../../src/plan/index.js';
@@ -69,7 +70,7 @@ describe('round plan', () => {
     expect(n!.coveringRadius!).toBeLessThanOrEqual(n!.routineCoveringRadius!);
     expect(s!.coverageRounds).toBeGreaterThanOrEqual(Math.ceil(32 / 6));
     expect(s!.coverageRounds).toBeLessThanOrEqual(s!.cycleLength);
-    expect(s!.notes.some((note) => note.includes('every one of the 32 in-use pens'))).toBe(true);
+    expect(s!.notes.map(barnPlanNoteText).some((note) => note.includes('every one of the 32 in-use pens'))).toBe(true);
   });
 
   it('rejects duplicate barn ids and malformed due dates', () => {

@@ -1,3 +1,4 @@
+import { scheduleNoteText } from '../../src/report/barnPlanNotes.js';
 import { describe, expect, it } from 'vitest';
 import {
   compareSchedules,
@@ -39,7 +40,13 @@ describe('expected delay to detection', () => {
     expect(options[1]!.expectedDelayDays!).toBeLessThan(options[0]!.expectedDelayDays!);
     expect(options[0]!.expectedDelayDays!).toBeLessThan(options[2]!.expectedDelayDays!);
     expect(notes).toEqual([]);
-    expect(compareSchedules({ ropes: 25, intervalDays: 14, maxRopes: 40, detect }).notes).toHaveLength(2);
+    // By hand: 25 is odd, so half is ceil(25 / 2) = 13; twice 25 = 50 exceeds the 40 pens in use.
+    const odd = compareSchedules({ ropes: 25, intervalDays: 14, maxRopes: 40, detect }).notes;
+    expect(odd).toEqual([
+      { kind: 'odd-halving', ropes: 25, halved: 13 },
+      { kind: 'doubling-capped', ropes: 25, maxRopes: 40 },
+    ]);
+    expect(odd.map(scheduleNoteText).join(' ')).toMatch(/uses 13 .*Twice 25 ropes exceeds the 40 pens/);
   });
 });
 

@@ -1,6 +1,7 @@
 import hypergeometricCdf from '@stdlib/stats-base-dists-hypergeometric-cdf';
 import { describe, expect, it } from 'vitest';
 import { allocateRopesBalanced, smallestRopes, smallestRopesConservative } from '../../src/plan/index.js';
+import { unreachableText } from '../../src/report/barnPlanNotes.js';
 import { barnTargetForSite, roundsToReach } from '../../src/stats/index.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { hypergeometricDetect, imperfectDetect } from './helpers.js';
@@ -75,7 +76,7 @@ describe('smallest rope count for a target', () => {
     if (result.reachable) return;
     expectClose(result.ceiling, 0.9, { rel: 1e-12 }, 'N=40 d=1 Se=0.9 n=40 ceiling');
     expect(result.roundsNeeded).toBe(2);
-    expect(result.message).toMatch(/90\.0%.*2 negative rounds.*99\.0%/);
+    expect(unreachableText(result)).toMatch(/90\.0%.*2 negative rounds.*99\.0%/);
     expect(smallestRopes(() => 0, 0.95, 10)).toMatchObject({ reachable: false, ceiling: 0, roundsNeeded: null });
   });
 
