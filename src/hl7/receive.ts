@@ -114,6 +114,38 @@ function ackErrorOf(rejection: RowRejection, records: Pick<MessageRecords, 'segm
   };
 }
 
+/** Records a refused unit (its bytes kept when small) and returns the refusal. */
+function rejectUnit(
+  unit: { name: string; bytes: Buffer; sha256: string; receivedAt: string },
+  receipt: Receipt,
+  refusal: { error: Hl7Error; outcomes: MessageOutcome[]; labId: string | null },
+  deps: ReceiveDeps,
+): ReceiveResult {
+  const { name, bytes, sha256, receivedAt } = unit;
+  const { error, outcomes, labId } = refusal;
+  receipt.status = 'rejected';
+  receipt.reason = {
+    code: error.code,
+    message: `${name}: ${error.message}`,
+    line: error.location.line,
+    field: fieldName(error.location),
+  };
+  deps.store.recordRejectedFile({
+    name,
+    kind: 'results',
+    sha256,
+    receivedAt,
+    reasonCode: error.code,
+    reason: receipt.reason.message,
+    line: error.location.line,
+    field: fieldName(error.location),
+    bytes: bytes.length <= KEEP_BYTES_LIMIT ? bytes : undefined,
+    byteLength: bytes.length,
+    labId,
+  });
+  return { receipt, outcomes };
+}
+
 /**
  * Receives one unit of HL7 (a file's bytes, or one MLLP frame's) and stores what is new in one
  * transaction. Never throws for bad input: refusals come back in the receipt and the outcomes.
@@ -135,29 +167,9 @@ export function receiveHl7(
       `the same bytes were refused before (as ${known.name} on ${known.receivedAt}: ${known.reasonCode ?? 'no code'}); read again with the current configuration`,
     );
 
-  const reject = (error: Hl7Error, outcomes: MessageOutcome[], labId: string | null): ReceiveResult => {
-    receipt.status = 'rejected';
-    receipt.reason = {
-      code: error.code,
-      message: `${name}: ${error.message}`,
-      line: error.location.line,
-      field: fieldName(error.location),
-    };
-    deps.store.recordRejectedFile({
-      name,
-      kind: 'results',
-      sha256,
-      receivedAt,
-      reasonCode: error.code,
-      reason: receipt.reason.message,
-      line: error.location.line,
-      field: fieldName(error.location),
-      bytes: bytes.length <= KEEP_BYTES_LIMIT ? bytes : undefined,
-      byteLength: bytes.length,
-      labId,
-    });
-    return { receipt, outcomes };
-  };
+  const unit = { name, bytes, sha256, receivedAt };
+  const reject = (error: Hl7Error, outcomes: MessageOutcome[], labId: string | null): ReceiveResult =>
+    rejectUnit(unit, receipt, { error, outcomes, labId }, deps);
 
   let units: SegmentLine[][];
   try {
