@@ -8,15 +8,12 @@
  * Cutoff: S/P >= 0.4 (Kittawornrat et al. 2012, J Vet Diagn Invest 24:262).
  */
 import { describe, expect, it } from 'vitest';
-import { siteConfidence } from '../../src/analysis/confidence.js';
-import { planNextRound } from '../../src/analysis/nextRound.js';
-import { wordPlan } from '../../src/report/planWording.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { wordSummary } from '../../src/report/summaryNotices.js';
-import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds, type ResultInput } from '../../src/rounds/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { planFromRounds } from '../helpers/planFromRounds.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
 /** The S/P results of the same ropes: S/P 1.2 (positive) on the ropes named, 0.1 elsewhere. */
@@ -39,21 +36,10 @@ function analyse(config: Config, positiveAntibody: readonly number[], positivePc
   const site = config.sites[0]!;
   const { ropes, results } = roundRopes('2026-08-03', 18, 'R1', positivePcr);
   const rounds = buildSiteRounds(site, ropes, [...results, ...antibodyResults(results, positiveAntibody)]);
-  const confidence = siteConfidence(site, rounds);
-  const cache = new OutbreakCache(config.analysis);
-  const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  const plan = wordPlan(
-    planNextRound({
-      site,
-      rounds,
-      confidence,
-      spatial,
-      settings: config.analysis,
-      cache,
-      today: '2026-08-10',
-      measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct',
-    }),
-  );
+  const { plan, confidence, spatial } = planFromRounds(config, site, rounds, {
+    today: '2026-08-10',
+    measureOf: (id) => config.assayById.get(id)?.measure ?? 'ct',
+  });
   return {
     site,
     rounds,

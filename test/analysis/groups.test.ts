@@ -4,13 +4,11 @@
  * which the barn is empty is neither a missed round nor missing ropes.
  */
 import { describe, expect, it } from 'vitest';
-import { siteConfidence } from '../../src/analysis/confidence.js';
-import { planNextRound } from '../../src/analysis/nextRound.js';
-import { wordPlan } from '../../src/report/planWording.js';
-import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
+import type { siteConfidence } from '../../src/analysis/confidence.js';
 import type { BarnGroup } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { planFromRounds } from '../helpers/planFromRounds.js';
 import { smallConfig } from './fixtures.js';
 import { G1, G2, round, scenario, siteWith } from './groupScenario.js';
 
@@ -92,21 +90,8 @@ describe('the next round\u2019s plan and an empty barn', () => {
       parts.flatMap((part) => part.ropes),
       parts.flatMap((part) => part.results),
     );
-    const confidence = siteConfidence(site, rounds);
-    const cache = new OutbreakCache(config.analysis);
-    const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    return wordPlan(
-      planNextRound({
-        site,
-        rounds,
-        confidence,
-        spatial,
-        settings: config.analysis,
-        cache,
-        today: '2026-08-18',
-        ...(budget === undefined ? {} : { budget }),
-      }),
-    );
+    return planFromRounds(config, site, rounds, { today: '2026-08-18', ...(budget === undefined ? {} : { budget }) })
+      .plan;
   }
 
   it('plans no rope in a barn that will be empty on the due date, and says so', () => {

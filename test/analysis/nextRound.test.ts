@@ -1,34 +1,17 @@
 import { describe, expect, it } from 'vitest';
-import { siteConfidence } from '../../src/analysis/confidence.js';
-import { planNextRound } from '../../src/analysis/nextRound.js';
-import { wordPlan } from '../../src/report/planWording.js';
-import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { parseSampleId } from '../../src/plan/sampleId.js';
 import { detectionFor } from '../../src/stats/detection.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { planFromRounds } from '../helpers/planFromRounds.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
 function planFor(config: Config, options: { budget?: number } = {}) {
   const site = config.sites[0]!;
   const { ropes, results } = roundRopes('2026-08-03', 10, 'R1');
   const rounds = buildSiteRounds(site, ropes, results);
-  const confidence = siteConfidence(site, rounds);
-  const cache = new OutbreakCache(config.analysis);
-  const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  return wordPlan(
-    planNextRound({
-      site,
-      rounds,
-      confidence,
-      spatial,
-      settings: config.analysis,
-      cache,
-      today: '2026-08-10',
-      ...options,
-    }),
-  );
+  return planFromRounds(config, site, rounds, { today: '2026-08-10', ...options }).plan;
 }
 
 describe('the next-round plan', () => {

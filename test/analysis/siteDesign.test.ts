@@ -7,7 +7,7 @@ import { planNextRound } from '../../src/analysis/nextRound.js';
 import { wordPlan } from '../../src/report/planWording.js';
 import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { wordSummary } from '../../src/report/summaryNotices.js';
-import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
+import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import { ConfigError, loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
@@ -16,6 +16,7 @@ import { renderSummaryPage } from '../../src/report/html/summaryPage.js';
 import { SUMMARY_COLUMNS, summaryCsv } from '../../src/report/summaryCsv.js';
 import { detectionFor } from '../../src/stats/detection.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { planFromRounds } from '../helpers/planFromRounds.js';
 import { roundRopes } from './fixtures.js';
 
 /** One site of three barns of 2 x 18 = 36 pens each. */
@@ -166,20 +167,7 @@ describe('site-level sizing with a barn-level design value', () => {
     const site = config.sites[0]!;
     const { ropes, results } = ropesIn({ B1: 10, B2: 10, B3: 10 });
     const rounds = buildSiteRounds(site, ropes, results);
-    const confidence = siteConfidence(site, rounds);
-    const cache = new OutbreakCache(config.analysis);
-    const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-    const plan = wordPlan(
-      planNextRound({
-        site,
-        rounds,
-        confidence,
-        spatial,
-        settings: config.analysis,
-        cache,
-        today: '2026-08-10',
-      }),
-    );
+    const { plan, confidence, spatial } = planFromRounds(config, site, rounds, { today: '2026-08-10' });
     expect(plan.sizing).toMatchObject({ sizeFor: 'site', infectedBarns: 1, sizingModel: 'hypergeometric' });
     // D = 1: each barn must reach C itself, 1 - (1 - 0.95)^(1/1) = 0.95 (Martin, Cameron & Greiner 2007 inverted, D = 1).
     // Cameron & Baldock 1998: N = 36, d = 4, Se = 0.9.

@@ -1,8 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { siteConfidence } from '../../src/analysis/confidence.js';
-import { planNextRound } from '../../src/analysis/nextRound.js';
-import { wordPlan } from '../../src/report/planWording.js';
-import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
+import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import type { Config } from '../../src/config/types.js';
 import { buildSiteRounds } from '../../src/rounds/roundModel.js';
 import { placeSystematic, smallestRopesConservative } from '../../src/plan/index.js';
@@ -10,26 +8,14 @@ import { detectionProbability } from '../../src/spatial/index.js';
 import { detectionFor } from '../../src/stats/detection.js';
 import { formatPercent } from '../../src/util/format.js';
 import { expectClose } from '../helpers/expectClose.js';
+import { planFromRounds } from '../helpers/planFromRounds.js';
 import { roundRopes, smallConfig } from './fixtures.js';
 
 function planAndConfidence(config: Config) {
   const site = config.sites[0]!;
   const { ropes, results } = roundRopes('2026-08-03', 10, 'R1');
   const rounds = buildSiteRounds(site, ropes, results);
-  const confidence = siteConfidence(site, rounds);
-  const cache = new OutbreakCache(config.analysis);
-  const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-  const plan = wordPlan(
-    planNextRound({
-      site,
-      rounds,
-      confidence,
-      spatial,
-      settings: config.analysis,
-      cache,
-      today: '2026-08-10',
-    }),
-  );
+  const { plan, confidence, cache } = planFromRounds(config, site, rounds, { today: '2026-08-10' });
   return { plan, confidence, cache, site };
 }
 
@@ -136,18 +122,7 @@ describe('sizing by the spread model, when a program chooses it', () => {
       const rounds = buildSiteRounds(site, ropes, results);
       const cache = new OutbreakCache(config.analysis);
       const confidence = siteConfidence(site, rounds, { settings: config.analysis, outbreaks: cache });
-      const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
-      const plan = wordPlan(
-        planNextRound({
-          site,
-          rounds,
-          confidence,
-          spatial,
-          settings: config.analysis,
-          cache,
-          today: '2026-08-10',
-        }),
-      );
+      const { plan } = planFromRounds(config, site, rounds, { today: '2026-08-10', confidence, cache });
       const barn = confidence.at(-1)!.barns.find((entry) => entry.assayId === 'PRRSV')!;
       expect(barn.ropesNeededModel).toBe('spatial');
       expect(barn.ropesNeeded, `design ${JSON.stringify(designPrevalence)}`).toBe(plan.barns[0]!.sizing.routineRopes);
