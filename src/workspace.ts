@@ -32,6 +32,8 @@ export interface OpenOptions {
    * empty store and report nothing.
    */
   createStore?: boolean;
+  /** How long a writer waits for another process's write lock (default 120 s). */
+  busyTimeoutMs?: number;
 }
 
 /**
@@ -46,6 +48,9 @@ export function openWorkspace(
 ): Workspace {
   const config = loadConfig(paths.configDir);
   const digest = configDigest(paths.configDir);
-  const store = new Store(paths.dbFile, { create: options.createStore ?? true });
+  const store = new Store(paths.dbFile, {
+    create: options.createStore ?? true,
+    ...(options.busyTimeoutMs === undefined ? {} : { busyTimeoutMs: options.busyTimeoutMs }),
+  });
   return { ...paths, config, configDigest: digest, store, now, log, close: () => store.close() };
 }

@@ -11,6 +11,7 @@ import { FileTakenError, takenByAnother } from '../inboxFiles.js';
 import { catchUpOutputs, OutputError } from '../outputs.js';
 import { FileStillChangingError, processFile, type ProcessOutcome } from '../pipeline.js';
 import { terminalText } from '../util/terminalText.js';
+import { StoreBusyError } from '../domain/store.js';
 import type { Workspace } from '../workspace.js';
 import type { CliIo } from './io.js';
 
@@ -75,7 +76,8 @@ function takenLine(file: string): string {
 
 /**
  * Runs one file through the pipeline and tells the user. Returns the outcome; 'changing' when
- * the file was still being written (nothing stored, left in the inbox); 'taken' when another
+ * the file was still being written (nothing stored, left in the inbox); 'busy' when another
+ * process held the store's write lock past the busy timeout (the same); 'taken' when another
  * process took it first (it stored or refused it and wrote its receipt).
  */
 export async function processAndTell(
@@ -83,7 +85,7 @@ export async function processAndTell(
   file: string,
   io: CliIo,
   json: boolean,
-): Promise<ProcessOutcome | 'changing' | 'taken'> {
+): Promise<ProcessOutcome | 'changing' | 'busy' | 'taken'> {
   let outcome: ProcessOutcome;
   try {
     outcome = await processFile(ws, file);
@@ -92,6 +94,12 @@ export async function processAndTell(
       if (json) io.stderr(`ropewatch: ${takenLine(file)}\n`);
       else io.stdout(`${takenLine(file)}\n`);
       return 'taken';
+    }
+    if (error instanceof StoreBusyError) {
+      io.stderr(
+        `ropewatch: store busy: ${terminalText(path.basename(file))} not read: ${error.message}; nothing stored, the file stays in the inbox (run again)\n`,
+      );
+      return 'busy';
     }
     if (!(error instanceof FileStillChangingError)) throw error;
     io.stderr(`ropewatch: not read yet: ${terminalText(error.message)}\n`);
@@ -145,7 +153,7 @@ export async function ingestFiles(
     if (stop.by !== null) return { receipts, failed, stoppedBy: stop.by, left: files.slice(index) };
     const outcome = await processAndTell(ws, file, io, json);
     if (outcome === 'taken') continue;
-    if (outcome === 'changing') {
+    if (outcome === 'changing' || outcome === 'busy') {
       failed = true;
       continue;
     }

@@ -335,3 +335,15 @@ export interface StoreCounts {
 export interface StoreBackend extends StoreWriter, StoreReader {
   close(): void;
 }
+
+/**
+ * Another process held the store's write lock longer than this one would wait (SQLite's
+ * SQLITE_BUSY after the busy timeout). Nothing of the file was stored; it stays where it was.
+ */
+export class StoreBusyError extends Error {
+  override readonly name = 'StoreBusyError';
+  readonly code = 'store-busy';
+  constructor(readonly waitedMs: number) {
+    super(`another process held the store's write lock for more than ${Math.round(waitedMs / 1000)} s`);
+  }
+}

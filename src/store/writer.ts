@@ -11,6 +11,7 @@ import type { PlannedRope, ResultRow, RopeRow, RowList, StoredFile } from '../do
 import type { RowRejection } from '../domain/rejections.js';
 import {
   FileAlreadyStoredError,
+  StoreBusyError,
   RECEIPT_LIST_LIMIT,
   type FileToStore,
   type InsertCounts,
@@ -62,6 +63,8 @@ export class SqliteWriter implements StoreWriter {
       this.db.exec('BEGIN IMMEDIATE');
     } catch (error) {
       this.db.pragma('foreign_keys = ON');
+      if ((error as { code?: unknown }).code === 'SQLITE_BUSY')
+        throw new StoreBusyError(Number(this.db.pragma('busy_timeout', { simple: true })));
       throw error;
     }
     this.inFile = true;

@@ -77,6 +77,21 @@ async function watchWorkspace(
   const queue = serialQueue();
   const configWatch = startConfigWatch(ws, log, options.poll, queue, modules);
   await configWatch.ready;
+  let stopped = false;
+  void io.stopSignal?.then(() => {
+    stopped = true;
+  });
+  const take = async (file: string): Promise<void> => {
+    let busy = false;
+    await queue.inTurn(async () => {
+      busy = (await processAndTell(ws, file, log, false)) === 'busy';
+      await deliverOwedAlerts(ws, log);
+    });
+    // Another writer held the store past the busy timeout: nothing was stored, and the file will
+    // not change again to wake the watcher, so it takes its turn once more (each try waits the
+    // busy timeout first).
+    if (busy && !stopped) await take(file);
+  };
   try {
     await watchInbox({
       inbox: ws.inbox,
@@ -87,13 +102,8 @@ async function watchWorkspace(
       log: (line) => log.stdout(`${terminalText(line)}\n`),
       onError: (error, file) =>
         log.stderr(`ropewatch: ${terminalText(`${file ? `${file}: ` : ''}${messageOf(error)}`)}\n`),
-      onFile: async (file) => {
-        // A file still being written is read again when it settles (the watcher saw it change).
-        await queue.inTurn(async () => {
-          await processAndTell(ws, file, log, false);
-          await deliverOwedAlerts(ws, log);
-        });
-      },
+      // A file still being written is read again when it settles (the watcher saw it change).
+      onFile: take,
     });
   } finally {
     await configWatch.close();
