@@ -15,6 +15,18 @@ import { CONFIG_FILES } from '../workspacePaths.js';
 import type { CommonOptions } from './commonOptions.js';
 import { UsageError, type CliIo } from './io.js';
 
+/**
+ * `ROPEWATCH_BUSY_TIMEOUT_MS`: how long a writer waits for another process's write lock before
+ * it gives up on the file (default 120 s); a value that is not a positive integer is a usage error.
+ */
+function busyTimeoutFromEnv(env: CliIo['env']): OpenOptions {
+  const text = env.ROPEWATCH_BUSY_TIMEOUT_MS;
+  if (text === undefined || text === '') return {};
+  if (!/^[1-9]\d{0,8}$/.test(text))
+    throw new UsageError(`ROPEWATCH_BUSY_TIMEOUT_MS must be a whole number of milliseconds, got "${text}"`);
+  return { busyTimeoutMs: Number(text) };
+}
+
 /** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
 export function withWorkspace<T>(
   io: CliIo,
@@ -24,7 +36,10 @@ export function withWorkspace<T>(
 ): T {
   let ws: Workspace;
   try {
-    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), open);
+    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), {
+      ...busyTimeoutFromEnv(io.env),
+      ...open,
+    });
   } catch (error) {
     if (error instanceof ConfigError) throw new UsageError(`configuration: ${error.message}`);
     if (error instanceof StoreOpenError) throw new UsageError(error.message);

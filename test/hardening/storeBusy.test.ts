@@ -5,6 +5,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { ingestFiles } from '../../src/cli/runFiles.js';
 import { openWorkspace } from '../../src/workspace.js';
 import { NORTHFIELD_HEADER, northfieldLine } from '../helpers/hardening.js';
+import { runCli } from '../helpers/runCli.js';
 import { FIXED_NOW, makeWorkspace, type TestWorkspace } from '../helpers/workspace.js';
 
 let made: TestWorkspace | undefined;
@@ -58,5 +59,59 @@ describe('a writer that cannot get the write lock in time', () => {
     } finally {
       check.close();
     }
+  });
+
+  it('in watch, says so and gives the file its turn again until the lock is free', async () => {
+    made = makeWorkspace();
+    const { paths } = made;
+    openWorkspace(
+      paths,
+      () => FIXED_NOW,
+      () => {},
+    ).close();
+    const holder = new Database(paths.dbFile);
+    holder.exec('BEGIN IMMEDIATE');
+    let stop!: () => void;
+    const stopSignal = new Promise<void>((resolve) => (stop = resolve));
+    let stdout = '';
+    let stderr = '';
+    const running = runCli(['watch', '--stable-ms', '50', ...made.cliFlags], {
+      stopSignal,
+      env: { ROPEWATCH_BUSY_TIMEOUT_MS: '100' },
+      stdout: (text) => (stdout += text),
+      stderr: (text) => (stderr += text),
+    });
+    const waitFor = async (condition: () => boolean, label: string) => {
+      const deadline = Date.now() + 15_000;
+      while (!condition()) {
+        if (Date.now() > deadline) throw new Error(`timed out waiting for ${label}\n${stdout}\n${stderr}`);
+        await new Promise((resolve) => setTimeout(resolve, 20));
+      }
+    };
+    const archived = path.join(paths.inbox, 'archive', 'nvdl_busy.csv');
+    try {
+      await waitFor(() => stdout.includes('watching'), 'the watcher started');
+      fs.writeFileSync(
+        path.join(paths.inbox, 'nvdl_busy.csv'),
+        `${NORTHFIELD_HEADER.join(',')}\n${northfieldLine('C1', 'HCF01-005', 'PRRSV', '30.1')}\n`,
+      );
+      await waitFor(() => stderr.includes('store busy: nvdl_busy.csv'), 'the busy store reported');
+      expect(fs.existsSync(archived)).toBe(false);
+      holder.exec('ROLLBACK');
+      await waitFor(() => fs.existsSync(archived), 'the file stored once the lock was free');
+      expect(stderr).not.toMatch(/\bat \S+:\d+/);
+    } finally {
+      if (holder.inTransaction) holder.exec('ROLLBACK');
+      holder.close();
+      stop();
+    }
+    expect((await running).code).toBe(0);
+  });
+
+  it('refuses a busy timeout that is not a whole number of milliseconds', async () => {
+    made = makeWorkspace();
+    const run = await runCli(['status', ...made.cliFlags], { env: { ROPEWATCH_BUSY_TIMEOUT_MS: '2s' } });
+    expect(run.code).toBe(2);
+    expect(run.stderr).toContain('ROPEWATCH_BUSY_TIMEOUT_MS');
   });
 });
