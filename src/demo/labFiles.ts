@@ -53,7 +53,7 @@ export const NORTHFIELD_HEADER = [
   'Collection Date',
   'Report Date',
   'Report Status',
-];
+] as const;
 
 /**
  * Northfield's cells for each row, and its numeric result as a number (null when the cell says

@@ -70,18 +70,6 @@ export interface IdCorrectionNote {
   meant: string;
 }
 
-export interface InsertCounts {
-  inserted: number;
-  duplicates: number;
-  superseded: number;
-  rejections: RowRejection[];
-  warnings: string[];
-  supersessions: SupersessionNote[];
-  invalid: InvalidNote[];
-  callDisagreements: CallDisagreement[];
-  idCorrections: IdCorrectionNote[];
-}
-
 /** What storing one batch did, for the receipt. */
 export interface InsertCounts {
   inserted: number;

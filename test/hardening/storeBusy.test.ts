@@ -11,21 +11,33 @@ import { FIXED_NOW, makeWorkspace, type TestWorkspace } from '../helpers/workspa
 let made: TestWorkspace | undefined;
 afterEach(() => made?.cleanup());
 
+const BUSY_EXPORT = `${NORTHFIELD_HEADER.join(',')}\n${northfieldLine('C1', 'HCF01-005', 'PRRSV', '30.1')}\n`;
+
+/**
+ * A workspace whose store exists and whose write lock another connection holds (another
+ * process's long transaction, as SQLite sees it: BEGIN IMMEDIATE takes the RESERVED lock; SQLite,
+ * "File Locking And Concurrency In SQLite Version 3").
+ */
+function workspaceWithLockHeld(): { made: TestWorkspace; holder: Database.Database } {
+  const workspace = makeWorkspace();
+  openWorkspace(
+    workspace.paths,
+    () => FIXED_NOW,
+    () => {},
+  ).close();
+  const holder = new Database(workspace.paths.dbFile);
+  holder.exec('BEGIN IMMEDIATE');
+  return { made: workspace, holder };
+}
+
 describe('a writer that cannot get the write lock in time', () => {
   it('says so in one line, stores nothing and leaves the file in the inbox', async () => {
-    made = makeWorkspace();
+    const setup = workspaceWithLockHeld();
+    made = setup.made;
+    const { holder } = setup;
     const { paths } = made;
-    // Create the store, then hold its write lock from another connection (another process's
-    // long transaction, as SQLite sees it: BEGIN IMMEDIATE takes the RESERVED lock).
-    openWorkspace(
-      paths,
-      () => FIXED_NOW,
-      () => {},
-    ).close();
-    const holder = new Database(paths.dbFile);
-    holder.exec('BEGIN IMMEDIATE');
     const file = path.join(paths.inbox, 'nvdl_busy.csv');
-    fs.writeFileSync(file, `${NORTHFIELD_HEADER.join(',')}\n${northfieldLine('C1', 'HCF01-005', 'PRRSV', '30.1')}\n`);
+    fs.writeFileSync(file, BUSY_EXPORT);
     const ws = openWorkspace(
       paths,
       () => FIXED_NOW,
@@ -62,15 +74,10 @@ describe('a writer that cannot get the write lock in time', () => {
   });
 
   it('in watch, says so and gives the file its turn again until the lock is free', async () => {
-    made = makeWorkspace();
+    const setup = workspaceWithLockHeld();
+    made = setup.made;
+    const { holder } = setup;
     const { paths } = made;
-    openWorkspace(
-      paths,
-      () => FIXED_NOW,
-      () => {},
-    ).close();
-    const holder = new Database(paths.dbFile);
-    holder.exec('BEGIN IMMEDIATE');
     let stop!: () => void;
     const stopSignal = new Promise<void>((resolve) => (stop = resolve));
     let stdout = '';
@@ -91,10 +98,7 @@ describe('a writer that cannot get the write lock in time', () => {
     const archived = path.join(paths.inbox, 'archive', 'nvdl_busy.csv');
     try {
       await waitFor(() => stdout.includes('watching'), 'the watcher started');
-      fs.writeFileSync(
-        path.join(paths.inbox, 'nvdl_busy.csv'),
-        `${NORTHFIELD_HEADER.join(',')}\n${northfieldLine('C1', 'HCF01-005', 'PRRSV', '30.1')}\n`,
-      );
+      fs.writeFileSync(path.join(paths.inbox, 'nvdl_busy.csv'), BUSY_EXPORT);
       await waitFor(() => stderr.includes('store busy: nvdl_busy.csv'), 'the busy store reported');
       expect(fs.existsSync(archived)).toBe(false);
       holder.exec('ROLLBACK');

@@ -1,3 +1,4 @@
+import { NORTHFIELD_HEADER } from '../../src/demo/labFiles.js';
 /**
  * Every result read as the lab meant it: a failed internal control written inside the call cell
  * ("IK ungültig") makes the result invalid, never negative; a blank value is "not detected" only
@@ -60,17 +61,8 @@ const au = (row: AuRow, line = 2) =>
     auContext,
   );
 
-const NF_HEADER = [
-  'Case No',
-  'Sample ID',
-  'Test Name',
-  'Ct Value',
-  'Interpretation',
-  'Internal Control',
-  'Collection Date',
-  'Report Date',
-  'Report Status',
-] as const;
+// The demo lab's export header, as the demo writes it.
+const NF_HEADER = NORTHFIELD_HEADER;
 const nfContext = contextFor('nvdl_t.csv', NF_HEADER);
 type NfRow = Partial<Record<(typeof NF_HEADER)[number], string>>;
 const nfBase: NfRow = {

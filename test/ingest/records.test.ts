@@ -1,3 +1,4 @@
+import { NORTHFIELD_HEADER } from '../../src/demo/labFiles.js';
 /**
  * One CSV record to a stored row or a refusal naming line, field and code. Context comes from
  * the demo config (src/demo/config); expected outcomes follow from its profiles and layouts, by
@@ -19,17 +20,8 @@ import { formatSampleId } from '../../src/plan/sampleId.js';
 const config = loadConfig(DEMO_CONFIG_DIR);
 const check = plannedIdChecker(config);
 
-const NF_COLUMNS = [
-  'Case No',
-  'Sample ID',
-  'Test Name',
-  'Ct Value',
-  'Interpretation',
-  'Internal Control',
-  'Collection Date',
-  'Report Date',
-  'Report Status',
-] as const;
+// The demo lab's export header, as the demo writes it.
+const NF_COLUMNS = NORTHFIELD_HEADER;
 const nfKind = detectFileKind('nvdl_t.csv', NF_COLUMNS.join(',') + '\n', config.labs);
 if (nfKind.kind !== 'results') throw new Error('northfield header not recognised');
 const nfContext: ResultContext = {

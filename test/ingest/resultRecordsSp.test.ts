@@ -1,3 +1,4 @@
+import { NORTHFIELD_HEADER } from '../../src/demo/labFiles.js';
 /**
  * An antibody ELISA row in a lab export: the result column holds an S/P ratio, read the other
  * way round from a Ct. Context is the demo config (src/demo/config): Northfield maps "PRRSV Oral
@@ -14,17 +15,8 @@ import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
-const NF_COLUMNS = [
-  'Case No',
-  'Sample ID',
-  'Test Name',
-  'Ct Value',
-  'Interpretation',
-  'Internal Control',
-  'Collection Date',
-  'Report Date',
-  'Report Status',
-] as const;
+// The demo lab's export header, as the demo writes it.
+const NF_COLUMNS = NORTHFIELD_HEADER;
 const nfKind = detectFileKind('nvdl_t.csv', NF_COLUMNS.join(',') + '\n', config.labs);
 if (nfKind.kind !== 'results') throw new Error('northfield header not recognised');
 const context: ResultContext = {
