@@ -18,7 +18,7 @@ import type {
   SummaryFacts,
   SummaryNotice,
 } from './summaryTypes.js';
-import { SUMMARY_SCHEMA } from './summaryTypes.js';
+import { PEN_HISTORY_ROUNDS, SUMMARY_SCHEMA } from './summaryTypes.js';
 
 export * from './summaryTypes.js';
 
@@ -176,7 +176,7 @@ function penSummaries(
 ): PenSummary[] {
   return rounds[index]!.barns.flatMap((barnRound) => {
     // A pen's history is that of the pigs now in the barn: rounds of the same group only (a new group starts it afresh).
-    const sameGroup = rounds.slice(0, index + 1).filter((earlier) => {
+    const sameGroup = rounds.slice(Math.max(0, index + 1 - PEN_HISTORY_ROUNDS), index + 1).filter((earlier) => {
       const then = earlier.barns.find((barn) => barn.barnId === barnRound.barnId);
       return then !== undefined && !then.empty && (then.group?.id ?? null) === (barnRound.group?.id ?? null);
     });
@@ -295,7 +295,6 @@ export function summariseSite(
         id: round.id,
         startOn: round.startOn,
         endOn: round.endOn,
-        roundsOnSite: rounds.length,
         state: round.state,
         resultsDueOn: round.resultsDueOn,
       },

@@ -18,7 +18,15 @@ import type { RoundState } from '../rounds/rounds.js';
 import type { GroupRef } from '../rounds/pigGroups.js';
 import type { BarnConfidence, SiteConfidence } from './confidence.js';
 
-export const SUMMARY_SCHEMA = 'ropewatch.round-summary/1';
+export const SUMMARY_SCHEMA = 'ropewatch.round-summary/2';
+
+/**
+ * How many rounds, this one included, a round's summary shows of each pen's history. A round's
+ * files stay the same size however long the site has been sampled, and a round already written
+ * need not change when later rounds come (results.csv holds every pen's whole history, once per
+ * site). Eight rounds: two months of weekly sampling, most of a finishing group sampled monthly.
+ */
+export const PEN_HISTORY_ROUNDS = 8;
 
 export interface PenSummary {
   barnId: string;
@@ -26,7 +34,7 @@ export interface PenSummary {
   side: string;
   sampleIds: string[];
   returned: boolean;
-  /** Per assay: the result standing for the pen this round, and its Ct across rounds so far. */
+  /** Per assay: the result standing for the pen this round, and its Ct over the last PEN_HISTORY_ROUNDS rounds. */
   results: Record<string, PenResultSummary>;
 }
 
@@ -110,7 +118,6 @@ export interface RoundSummary {
     id: string;
     startOn: string;
     endOn: string;
-    roundsOnSite: number;
     /** `awaiting-results` (no detection figure yet), `partial`, or `complete` (closed: ropes still without a result are missing). */
     state: RoundState;
     /** The last day results are awaited (last rope date plus the program's `resultGraceDays`). */

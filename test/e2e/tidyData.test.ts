@@ -248,7 +248,7 @@ describe('JSON outputs against the shipped JSON Schemas', () => {
       'ropewatch.clusters/1',
       'ropewatch.next-round/1',
       'ropewatch.receipt/1',
-      'ropewatch.round-summary/1',
+      'ropewatch.round-summary/2',
       'ropewatch.site-alerts/1',
       'ropewatch.site-digest/1',
     ]);
@@ -263,7 +263,7 @@ describe('JSON outputs against the shipped JSON Schemas', () => {
       ),
     );
     const summary = JSON.parse(fs.readFileSync(file, 'utf8')) as Record<string, Record<string, unknown>>;
-    const schema = schemaFor('ropewatch.round-summary/1');
+    const schema = schemaFor('ropewatch.round-summary/2');
     expect(schema.safeParse(summary).success).toBe(true);
     expect(schema.safeParse({ ...summary, round: { ...summary.round, number: 'three' } }).success).toBe(false);
     const { program: _dropped, ...withoutProgram } = summary;

@@ -4,6 +4,7 @@
  * barn gets a small map and one line. Reads the analysis; computes no statistic.
  */
 import type { RoundSummary } from '../../analysis/roundSummary.js';
+import { PEN_HISTORY_ROUNDS } from '../../analysis/summaryTypes.js';
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { PageAlert } from './alerts.js';
@@ -184,7 +185,7 @@ function penTrends(view: BarnView): string {
   const assayConfig = input.assays.get(assay.assayId);
   const cycleLimit = assayConfig?.measure === 'ct' ? assayConfig.cycleLimit : 40;
   const rounds = input.summaries
-    .slice(0, input.index + 1)
+    .slice(Math.max(0, input.index + 1 - PEN_HISTORY_ROUNDS), input.index + 1)
     .map((s) => ({ round: s.round.number, label: roundLabel(s.round.number) }));
   const drawn = new Map<number, Set<string>>();
   const trends = positivePens

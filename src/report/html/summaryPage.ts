@@ -291,7 +291,7 @@ export function renderSummaryPage(input: SummaryPageInput): string {
   return renderPage({
     title: `${summary.site.name}, round ${round.number}: summary`,
     heading: `${summary.site.name}: round ${round.number} summary`,
-    subheading: `Round ${escapeHtml(round.id)}, ropes ${escapeHtml(round.startOn)} to ${escapeHtml(round.endOn)} (round ${round.number} of ${round.roundsOnSite} on this site). Design prevalence ${escapeHtml(summary.program.designPrevalence)}, target ${pct(summary.program.targetConfidence)} per barn.`,
+    subheading: `Round ${escapeHtml(round.id)}, ropes ${escapeHtml(round.startOn)} to ${escapeHtml(round.endOn)} (round ${round.number} on this site). Design prevalence ${escapeHtml(summary.program.designPrevalence)}, target ${pct(summary.program.targetConfidence)} per barn.`,
     notices: input.notices,
     nav: [
       { href: '../../index.html', label: 'All sites' },

@@ -2,7 +2,7 @@
  * Every JSON output's schema, by its version tag: the zod definitions in this folder, written as
  * JSON Schema (draft 2020-12, `z.toJSONSchema`) into the repository's schemas/ folder by
  * `npm run schemas` (scripts/schemas.ts). A file's version tag names its schema file:
- * `ropewatch.round-summary/1` is schemas/round-summary.v1.schema.json. Receipts and the lines of
+ * `ropewatch.round-summary/2` is schemas/round-summary.v2.schema.json. Receipts and the lines of
  * alerts.jsonl carry no tag; their schemas are named by the file's place (README, Outputs).
  */
 import { z } from 'zod';

@@ -198,7 +198,6 @@ export const roundSummary = z.object({
     id: z.string(),
     startOn: isoDate,
     endOn: isoDate,
-    roundsOnSite: count,
     state: roundState,
     resultsDueOn: isoDate,
   }),
