@@ -61,7 +61,7 @@ function rowsPerRound(sites: number): number {
 }
 
 /** A workspace holding `rounds` rounds of every site with its outputs built. */
-async function prepare(root: string, sites: number, rounds: number): Promise<{ dir: string; drop: string }> {
+export async function prepare(root: string, sites: number, rounds: number): Promise<{ dir: string; drop: string }> {
   const dir = path.join(root, `history-${rounds}`);
   const paths = workspacePaths(dir);
   writeManySiteConfig(paths.configDir, { sites, ...SHAPE, programDefaults: true });

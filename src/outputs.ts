@@ -8,26 +8,48 @@
  * shows, so a run that finds outputs behind the store (a crash or a full disk between commit and
  * outputs) rebuilds them.
  */
+import fs from 'node:fs';
 import path from 'node:path';
-import { analyseSite, type AnalyseOptions, type SiteAnalysis } from './analysis/analyseSite.js';
+import {
+  analyseSiteBasis,
+  completeFindings,
+  type AnalyseOptions,
+  type SiteAnalysis,
+  type SiteBasis,
+} from './analysis/analyseSite.js';
+import { roundDigests } from './analysis/roundDigests.js';
 import { wordSiteAnalysis } from './report/siteWording.js';
 import { OutbreakCache } from './analysis/spatialRound.js';
-import { SITE_ALERTS_FILE, siteAlertsFile } from './alerts/records.js';
+import { roundAlertRecords, SITE_ALERTS_FILE, SITE_ALERTS_SCHEMA, type AlertRecord } from './alerts/records.js';
+import {
+  BUILT_ROUNDS_FILE,
+  builtRoundsText,
+  keptTidyRows,
+  readBuiltRounds,
+  ROUND_FILES_VERSION,
+  type BuiltRound,
+  type TidyName,
+} from './report/builtRounds.js';
+import { roundAlerts } from './report/html/alerts.js';
+import { packageVersion } from './util/packageVersion.js';
+import { waitForPidLock } from './util/pidLock.js';
 import type { Site } from './config/types.js';
 import { clockDay } from './rounds/rounds.js';
 import { clustersCsv } from './report/clustersCsv.js';
 import { removeStaleFolders, removeStrayTemps, StagedOutputs, type OutputWriter } from './report/files.js';
 import { nextRoundCsv, nextRoundJson } from './report/nextRoundFiles.js';
-import { alertsOfRounds } from './report/html/alerts.js';
 import { writeIndex, writeSitePages } from './report/pages.js';
 import { summaryCsv } from './report/summaryCsv.js';
 import { jsonText } from './report/jsonText.js';
-import { writeTidyTables } from './report/tidy/tidyTables.js';
+import { storeTidyRounds, TIDY_TABLES, tidyHeader } from './report/tidy/tidyTables.js';
 import type { Workspace } from './workspace.js';
 
 export type { AnalyseOptions, SiteAnalysis };
 
 const ROUND_FOLDER = /^r\d{2,}-\d{4}-\d{2}-\d{2}$/;
+
+/** Held by the process writing a site's outputs (its pid inside). */
+const SITE_LOCK_FILE = '.outputs.lock';
 
 /** Stores the plan as the next round's expected rope sheet. */
 export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
@@ -54,55 +76,209 @@ export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
 
 const json = jsonText;
 
-/** Writes one site's outputs under outbox/<site>/ through `writer`. */
-export function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: OutputWriter): void {
+/** What a build writes beyond what the analysis says: which rounds, and what it keeps of the others. */
+export interface RoundsToWrite {
+  /** The first round (index) to write: this one and every later one are written. */
+  from: number;
+  /** Each round's digest (src/analysis/roundDigests.ts), kept in the built-rounds list. */
+  digests: readonly string[];
+  /** What the rounds before `from` were built with, by round id. */
+  built: ReadonlyMap<string, BuiltRound>;
+}
+
+/** The fields of a round the build keeps: from the list for a round left alone, else `fresh`. */
+function keptOr<T>(
+  analysis: SiteAnalysis,
+  rounds: RoundsToWrite,
+  index: number,
+  fresh: () => T,
+  kept: (round: BuiltRound) => T,
+): T {
+  if (index >= rounds.from) return fresh();
+  const built = rounds.built.get(analysis.summaries[index]!.round.id);
+  if (!built) throw new Error(`round ${analysis.summaries[index]!.round.id} is neither written nor built before`);
+  return kept(built);
+}
+
+/**
+ * Writes one site's outputs under outbox/<site>/ through `writer`: the files of the rounds from
+ * `rounds.from` on (every round by default), and the site's own files (rope list, alerts, tidy
+ * tables, pages, digest) from those rounds and what the others were built with. The built-rounds
+ * list goes last.
+ */
+export function writeSiteOutputs(
+  ws: Workspace,
+  analysis: SiteAnalysis,
+  writer: OutputWriter,
+  rounds: RoundsToWrite = { from: 0, digests: [], built: new Map() },
+): void {
   const siteDir = path.join(ws.outbox, analysis.site.id);
-  analysis.summaries.forEach((summary, index) => {
+  const { summaries, spatial } = analysis;
+  const last = summaries.length - 1;
+  if (rounds.from < analysis.detailFrom)
+    throw new Error(
+      `rounds from index ${rounds.from} are written, but only those from ${analysis.detailFrom} are summarised in full`,
+    );
+  const written = new Set<number>();
+  for (let index = rounds.from; index <= last; index++) {
+    written.add(index);
+    const summary = summaries[index]!;
+    const review = spatial[index];
+    if (!review) throw new Error(`round ${summary.round.id} is written without its spatial review`);
     const roundDir = path.join(siteDir, summary.round.id);
     writer.write(path.join(roundDir, 'summary.json'), json(summary));
     writer.write(path.join(roundDir, 'summary.csv'), summaryCsv(summary, analysis.site.herdStatus));
-    const spatial = analysis.spatial[index]!;
-    writer.write(path.join(roundDir, 'clusters.json'), json(spatial));
-    writer.write(path.join(roundDir, 'clusters.csv'), clustersCsv(spatial));
-  });
+    writer.write(path.join(roundDir, 'clusters.json'), json(review));
+    writer.write(path.join(roundDir, 'clusters.csv'), clustersCsv(review));
+  }
   writer.write(path.join(siteDir, 'next-round.json'), json(nextRoundJson(analysis.plan)));
   writer.write(path.join(siteDir, 'next-round.csv'), nextRoundCsv(analysis.plan));
-  // Read by the delivery after the outputs (src/alerts/deliver.ts).
   // Each round's alerts look back over the rounds before it: built once for the pages, the digest and the records.
-  const alertsByRound = alertsOfRounds(analysis);
-  const alertsFile = siteAlertsFile(analysis, alertsByRound);
-  writer.write(path.join(siteDir, SITE_ALERTS_FILE), json(alertsFile));
-  writeTidyTables(ws.store.db, analysis, alertsFile.alerts, siteDir, writer);
-  writeSitePages(ws.outbox, ws.config, analysis, writer, alertsByRound);
+  const alertsByRound = summaries.map((_, index) =>
+    keptOr(
+      analysis,
+      rounds,
+      index,
+      () => roundAlerts(summaries, spatial, index, index === last ? analysis.plan : undefined),
+      (built) => built.alerts,
+    ),
+  );
+  const recordsByRound = summaries.map((_, index) =>
+    keptOr(
+      analysis,
+      rounds,
+      index,
+      () => roundAlertRecords(analysis, index, alertsByRound[index]!),
+      (built) => built.records,
+    ),
+  );
+  // Read by the delivery after the outputs (src/alerts/deliver.ts).
+  writer.write(
+    path.join(siteDir, SITE_ALERTS_FILE),
+    json({ schema: SITE_ALERTS_SCHEMA, site: analysis.site.id, alerts: recordsByRound.flat() }),
+  );
+  const tidySizes = writeTidyTables(ws, analysis, writer, rounds, recordsByRound.slice(rounds.from).flat());
+  writeSitePages(ws.outbox, ws.config, analysis, writer, alertsByRound, written);
+  writer.write(
+    path.join(siteDir, BUILT_ROUNDS_FILE),
+    builtRoundsText(
+      analysis.site.id,
+      summaries.map((summary, index) => ({
+        id: summary.round.id,
+        digest: rounds.digests[index] ?? '',
+        alerts: alertsByRound[index]!,
+        records: recordsByRound[index]!,
+        tidyBytes: tidySizes.byRound[index]!,
+      })),
+      tidySizes.total,
+    ),
+  );
 }
 
-/** Analyses, plans and writes one site, and records what the outbox now shows. */
-function rebuildSite(ws: Workspace, site: Site, cache: OutbreakCache, options: AnalyseOptions): SiteAnalysis {
-  // Another process may commit for this site while the outputs are written: build again from
-  // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).
-  for (let attempt = 1; ; attempt++) {
-    const inputs = ws.store.siteInputs(site.id);
-    const { version } = inputs;
-    const analysis = wordSiteAnalysis(
-      analyseSite(site, inputs, { config: ws.config, today: clockDay(ws.now()), cache }, options),
-    );
-    storePlan(ws, analysis);
-    const staged = new StagedOutputs();
-    try {
-      writeSiteOutputs(ws, analysis, staged);
-      staged.publish();
-    } catch (error) {
-      staged.discard();
-      throw error;
+/**
+ * Writes results.csv, rounds.csv and alerts.csv: the rows of the rounds left alone as the files
+ * hold them, then those of the rounds written, from the store's views after their facts are
+ * stored. Returns the bytes each round's rows take and each file's size.
+ */
+function writeTidyTables(
+  ws: Workspace,
+  analysis: SiteAnalysis,
+  writer: OutputWriter,
+  rounds: RoundsToWrite,
+  records: readonly AlertRecord[],
+): { byRound: Record<TidyName, number>[]; total: Record<TidyName, number> } {
+  const siteDir = path.join(ws.outbox, analysis.site.id);
+  const fresh = storeTidyRounds(ws.store.db, analysis, records, rounds.from);
+  const keptRounds = analysis.summaries.slice(0, rounds.from).map((summary) => rounds.built.get(summary.round.id)!);
+  const kept = keptTidyRows(siteDir, keptRounds, tidyHeader);
+  const byRound = [
+    ...keptRounds.map((round) => round.tidyBytes),
+    ...fresh.map(
+      (fragments) =>
+        Object.fromEntries(
+          TIDY_TABLES.map((table) => [table.name, Buffer.byteLength(fragments[table.name])]),
+        ) as Record<TidyName, number>,
+    ),
+  ];
+  const total = {} as Record<TidyName, number>;
+  for (const table of TIDY_TABLES) {
+    const content = Buffer.concat([
+      kept[table.name],
+      Buffer.from(fresh.map((fragments) => fragments[table.name]).join('')),
+    ]);
+    total[table.name] = content.length;
+    writer.write(path.join(siteDir, table.file), content);
+  }
+  return { byRound, total };
+}
+
+/** What every round's files rest on beyond the store: the configuration and the files' format. */
+function buildSettings(ws: Workspace): string {
+  return `${ws.configDigest}\nround files ${ROUND_FILES_VERSION}\nropewatch ${packageVersion()}`;
+}
+
+/** The first round whose digest differs from what its files were built from (the count when none does). */
+function firstChanged(
+  findings: Pick<SiteBasis, 'rounds'>,
+  digests: readonly string[],
+  built: ReadonlyMap<string, BuiltRound>,
+): number {
+  const index = findings.rounds.findIndex((round, i) => built.get(round.id)?.digest !== digests[i]);
+  return index < 0 ? findings.rounds.length : index;
+}
+
+/** How long a build waits for another process writing the same site's outputs. */
+const SITE_LOCK_TIMEOUT_MS = 10 * 60 * 1000;
+
+/** Options of a build of the outputs. */
+export interface BuildOptions extends AnalyseOptions {
+  /** Rewrite every round, whatever was built before (`ropewatch report`). */
+  full?: boolean;
+}
+
+/**
+ * Analyses, plans and writes one site, and records what the outbox now shows. Rounds whose
+ * findings are unchanged since their files were written are neither reviewed again nor
+ * rewritten (src/report/builtRounds.ts). One process writes a site's outputs at a time.
+ */
+function rebuildSite(
+  ws: Workspace,
+  site: Site,
+  cache: OutbreakCache,
+  options: BuildOptions,
+): { analysis: SiteAnalysis; roundsWritten: number } {
+  const siteDir = path.join(ws.outbox, site.id);
+  fs.mkdirSync(siteDir, { recursive: true });
+  const release = waitForPidLock(path.join(siteDir, SITE_LOCK_FILE), SITE_LOCK_TIMEOUT_MS);
+  try {
+    // Another process may commit for this site while the outputs are written: build again from
+    // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).
+    for (let attempt = 1; ; attempt++) {
+      const inputs = ws.store.siteInputs(site.id);
+      const { version } = inputs;
+      const context = { config: ws.config, today: clockDay(ws.now()), cache };
+      const basis = analyseSiteBasis(site, inputs, context, options);
+      const digests = roundDigests(basis, buildSettings(ws), context.today);
+      const built = options.full ? new Map<string, BuiltRound>() : readBuiltRounds(siteDir, site.id);
+      const from = firstChanged(basis, digests, built);
+      const analysis = wordSiteAnalysis(completeFindings(basis, context, from));
+      storePlan(ws, analysis);
+      const staged = new StagedOutputs();
+      try {
+        writeSiteOutputs(ws, analysis, staged, { from, digests, built });
+        staged.publish();
+      } catch (error) {
+        staged.discard();
+        throw error;
+      }
+      // A late rope sheet can renumber rounds; folders of rounds that no longer exist go.
+      removeStaleFolders(siteDir, ROUND_FOLDER, new Set(analysis.summaries.map((summary) => summary.round.id)));
+      ws.store.markOutputsBuilt(ws.outbox, site.id, version, ws.configDigest);
+      if (attempt >= 3 || ws.store.siteVersion(site.id) === version)
+        return { analysis, roundsWritten: analysis.rounds.length - from };
     }
-    // A late rope sheet can renumber rounds; folders of rounds that no longer exist go.
-    removeStaleFolders(
-      path.join(ws.outbox, site.id),
-      ROUND_FOLDER,
-      new Set(analysis.summaries.map((summary) => summary.round.id)),
-    );
-    ws.store.markOutputsBuilt(ws.outbox, site.id, version, ws.configDigest);
-    if (attempt >= 3 || ws.store.siteVersion(site.id) === version) return analysis;
+  } finally {
+    release();
   }
 }
 
@@ -121,28 +297,48 @@ export class OutputError extends Error {
   }
 }
 
+/** What a build of one site wrote. */
+export interface SiteBuild {
+  site: { id: string; name: string };
+  rounds: { number: number; id: string; startOn: string }[];
+  /** Rounds whose files were (re)written; the others were left as they were. */
+  roundsWritten: number;
+}
+
+export interface RegenerateOptions extends BuildOptions {
+  /** Told before each site is built: the site, its place (1-based) and the number of sites. */
+  onSite?: (site: Site, place: number, of: number) => void;
+}
+
 /**
  * Regenerates the outputs of the named sites (all sites when none are named) from committed
- * data and stores their plans.
+ * data and stores their plans. Sites are built one at a time and nothing of a site's analysis
+ * is kept once its files are written, so memory is bounded by the largest site, not the store.
  * @throws OutputError when a site's outputs cannot be written (the others are still written)
  */
 export function regenerateOutputs(
   ws: Workspace,
   siteIds?: readonly string[],
-  options: AnalyseOptions = {},
-): SiteAnalysis[] {
+  options: RegenerateOptions = {},
+): SiteBuild[] {
   const sites = siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
   if (sites.length === 0) return [];
-  const cache = new OutbreakCache(ws.config.analysis);
-  const analyses: SiteAnalysis[] = [];
+  const builds: SiteBuild[] = [];
   const failed: { siteId: string; error: unknown }[] = [];
-  for (const site of sites) {
+  sites.forEach((site, index) => {
+    options.onSite?.(site, index + 1, sites.length);
     try {
-      analyses.push(rebuildSite(ws, site, cache, options));
+      // The outbreak models are per site and barn: a cache per site keeps memory to one site.
+      const { analysis, roundsWritten } = rebuildSite(ws, site, new OutbreakCache(ws.config.analysis), options);
+      builds.push({
+        site: { id: site.id, name: site.name },
+        rounds: analysis.rounds.map((round) => ({ number: round.number, id: round.id, startOn: round.startOn })),
+        roundsWritten,
+      });
     } catch (error) {
       failed.push({ siteId: site.id, error });
     }
-  }
+  });
   try {
     writeIndex(ws.outbox, ws.config);
   } catch (error) {
@@ -153,7 +349,23 @@ export function regenerateOutputs(
       failed.map((failure) => failure.siteId),
       failed[0]!.error,
     );
-  return analyses;
+  return builds;
+}
+
+/**
+ * Rebuilds one site's outputs (as regenerateOutputs does) and returns its analysis: for `plan`,
+ * which prints it. With `full`, every round's spatial review is in it.
+ * @throws OutputError when the site's outputs cannot be written
+ */
+export function regenerateSite(ws: Workspace, site: Site, options: BuildOptions = {}): SiteAnalysis {
+  let analysis: SiteAnalysis;
+  try {
+    analysis = rebuildSite(ws, site, new OutbreakCache(ws.config.analysis), options).analysis;
+    writeIndex(ws.outbox, ws.config);
+  } catch (error) {
+    throw new OutputError([site.id], error);
+  }
+  return analysis;
 }
 
 /**

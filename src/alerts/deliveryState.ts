@@ -6,7 +6,8 @@
  * a lock file beside the state names its pid; a lock whose process is gone is taken over.
  */
 import fs from 'node:fs';
-import { processIsAlive, writeFileAtomic } from '../report/files.js';
+import { writeFileAtomic } from '../report/files.js';
+import { takePidLock } from '../util/pidLock.js';
 import type { AlertRecord } from './records.js';
 
 export const DELIVERY_STATE_SCHEMA = 'ropewatch.alert-deliveries/1';
@@ -63,34 +64,9 @@ export function writeDeliveryState(file: string, state: DeliveryState): void {
 }
 
 /**
- * Takes the delivery lock (an exclusively created file holding the pid). Returns the function
- * that releases it, or null when a live process holds it.
+ * Takes the delivery lock (a file beside the state holding the pid). Returns the function that
+ * releases it, or null when a live process holds it.
  */
 export function takeDeliveryLock(stateFile: string): (() => void) | null {
-  const lock = `${stateFile}.lock`;
-  // The pid is written under a name of this process's own, then linked to the lock's name:
-  // link(2) fails with EEXIST when the lock exists, so a lock is never seen without its pid.
-  const mine = `${lock}.${process.pid}`;
-  fs.writeFileSync(mine, String(process.pid));
-  try {
-    for (let attempt = 0; attempt < 2; attempt++) {
-      try {
-        fs.linkSync(mine, lock);
-        return () => fs.rmSync(lock, { force: true });
-      } catch (error) {
-        if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
-        let holder: number;
-        try {
-          holder = Number.parseInt(fs.readFileSync(lock, 'utf8'), 10);
-        } catch {
-          continue; // released meanwhile
-        }
-        if (Number.isInteger(holder) && processIsAlive(holder)) return null;
-        fs.rmSync(lock, { force: true });
-      }
-    }
-    return null;
-  } finally {
-    fs.rmSync(mine, { force: true });
-  }
+  return takePidLock(`${stateFile}.lock`);
 }

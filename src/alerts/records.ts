@@ -52,7 +52,7 @@ export interface AlertRecord {
 export interface AlertSource {
   site: { id: string; name: string };
   summaries: readonly RoundSummary[];
-  spatial: readonly RoundSpatial[];
+  spatial: readonly (RoundSpatial | undefined)[];
   plan: NextRoundPlan;
 }
 
@@ -136,46 +136,50 @@ function numbersOf(
 
 /**
  * Every alert of every round of a site, as records, in round order and in each round in the
- * order the pages show them. Two alerts of one round that would share a key (none do today)
- * get `#2`, `#3` after it rather than hiding one another.
+ * order the pages show them.
  */
 export function siteAlertRecords(
   source: AlertSource,
   alertsByRound: readonly PageAlert[][] = alertsOfRounds(source),
 ): AlertRecord[] {
-  const records: AlertRecord[] = [];
-  const last = source.summaries.length - 1;
-  source.summaries.forEach((summary, index) => {
-    const plan = index === last ? source.plan : undefined;
-    const seen = new Map<string, number>();
-    const awaitingResults =
-      summary.barns.every((barn) => barn.ropesReturned === 0) &&
-      summary.barns.every((barn) => barn.mistyped.length === 0);
-    for (const alert of alertsByRound[index]!) {
-      const base = alertKey(source.site.id, summary.round.id, alert.assayId, alert.kind, alert.barnId);
-      const times = (seen.get(base) ?? 0) + 1;
-      seen.set(base, times);
-      records.push({
-        schema: ALERT_RECORD_SCHEMA,
-        key: times === 1 ? base : `${base}#${times}`,
-        site: { id: source.site.id, name: source.site.name },
-        round: {
-          number: summary.round.number,
-          id: summary.round.id,
-          startOn: summary.round.startOn,
-          endOn: summary.round.endOn,
-        },
-        awaitingResults,
-        assay: alert.assayId,
-        barn: alert.barnId,
-        kind: alert.kind,
-        action: alert.action,
-        detail: alert.detail,
-        message: alert.message,
-        // The page's alert carries the numbers its words quote; the round's context is added around them.
-        numbers: { ...numbersOf(alert, summary, source.spatial[index], plan), ...alert.numbers },
-      });
-    }
+  return source.summaries.flatMap((_, index) => roundAlertRecords(source, index, alertsByRound[index]!));
+}
+
+/**
+ * The alerts of round `index` as records, in the order the page shows them. Two alerts of one
+ * round that would share a key (none do today) get `#2`, `#3` after it rather than hiding one
+ * another. The plan's numbers go with the latest round's overdue alert.
+ */
+export function roundAlertRecords(source: AlertSource, index: number, alerts: readonly PageAlert[]): AlertRecord[] {
+  const summary = source.summaries[index]!;
+  const plan = index === source.summaries.length - 1 ? source.plan : undefined;
+  const seen = new Map<string, number>();
+  const awaitingResults =
+    summary.barns.every((barn) => barn.ropesReturned === 0) &&
+    summary.barns.every((barn) => barn.mistyped.length === 0);
+  return alerts.map((alert) => {
+    const base = alertKey(source.site.id, summary.round.id, alert.assayId, alert.kind, alert.barnId);
+    const times = (seen.get(base) ?? 0) + 1;
+    seen.set(base, times);
+    return {
+      schema: ALERT_RECORD_SCHEMA,
+      key: times === 1 ? base : `${base}#${times}`,
+      site: { id: source.site.id, name: source.site.name },
+      round: {
+        number: summary.round.number,
+        id: summary.round.id,
+        startOn: summary.round.startOn,
+        endOn: summary.round.endOn,
+      },
+      awaitingResults,
+      assay: alert.assayId,
+      barn: alert.barnId,
+      kind: alert.kind,
+      action: alert.action,
+      detail: alert.detail,
+      message: alert.message,
+      // The page's alert carries the numbers its words quote; the round's context is added around them.
+      numbers: { ...numbersOf(alert, summary, source.spatial[index], plan), ...alert.numbers },
+    };
   });
-  return records;
 }

@@ -55,7 +55,7 @@ const positiveOf = (barn: SummaryBarn, assayId: string): number =>
 /** One alert per positive barn and assay, and the barns whose significant cluster it tells. */
 function positiveAlerts(
   summaries: readonly RoundSummary[],
-  spatial: readonly RoundSpatial[],
+  spatial: readonly (RoundSpatial | undefined)[],
   index: number,
   told: Set<string>,
 ): PositiveRaised[] {
@@ -153,7 +153,7 @@ function lateBy(summary: RoundSummary): number | null {
  */
 export function raisedAlerts(
   summaries: readonly RoundSummary[],
-  spatial: readonly RoundSpatial[],
+  spatial: readonly (RoundSpatial | undefined)[],
   index: number,
   plan?: NextRoundPlan,
 ): RoundAlertFacts[] {

@@ -12,17 +12,31 @@ import { siteConfidence, type RoundConfidence } from './confidence.js';
 import { planNextRound } from './nextRound.js';
 import type { NextRoundPlan, PlannedRound } from './planTypes.js';
 import { summariseSite } from './roundSummary.js';
-import type { RoundSummary, SummaryFacts } from './summaryTypes.js';
-import { siteSpatial, type OutbreakCache, type RoundSpatial } from './spatialRound.js';
+import { EARLIER_MAPS, LOOKBACK_ROUNDS, type RoundSummary, type SummaryFacts } from './summaryTypes.js';
+import { planBasisIndex } from './planContext.js';
+import { roundSpatial, type OutbreakCache, type RoundSpatial } from './spatialRound.js';
 
-/** One site's analysis as numbers and coded notes (kinds and their figures), no sentences. */
-export interface SiteFindings {
+/**
+ * What every build of a site's outputs needs, whichever rounds it writes: the rounds, their
+ * confidence, the next round's plan, and the spatial review of the round the plan builds on.
+ */
+export interface SiteBasis {
   site: Site;
   rounds: SiteRound[];
   confidence: RoundConfidence[];
-  summaries: SummaryFacts[];
-  spatial: RoundSpatial[];
+  /**
+   * The spatial review of each round. A build that rewrites only some rounds reviews only those
+   * and the rounds their pages look back on (`reviewRounds`); the others are left undefined.
+   */
+  spatial: (RoundSpatial | undefined)[];
   plan: PlannedRound;
+}
+
+/** One site's analysis as numbers and coded notes (kinds and their figures), no sentences. */
+export interface SiteFindings extends SiteBasis {
+  summaries: SummaryFacts[];
+  /** The first round summarised with its pens: the rounds before it are outlines, never written. */
+  detailFrom: number;
 }
 
 /** The findings with their notes worded: what the writers in src/report read. */
@@ -45,13 +59,18 @@ export interface AnalyseOptions {
   budget?: number;
 }
 
-/** Builds a site's analysis from its inputs. */
-export function analyseSite(
+/**
+ * A site's rounds, their confidence and the next round's plan, with the spatial review only of
+ * the round the plan builds on. The spatial review (permutation tests, the spread model) and the
+ * pens' summaries are most of a round's cost: `completeFindings` adds them for the rounds a build
+ * writes.
+ */
+export function analyseSiteBasis(
   site: Site,
   inputs: SiteInputs,
   context: AnalysisContext,
   options: AnalyseOptions = {},
-): SiteFindings {
+): SiteBasis {
   const { config, today, cache } = context;
   const rounds = buildSiteRounds(
     site,
@@ -62,8 +81,9 @@ export function analyseSite(
     today,
   );
   const confidence = siteConfidence(site, rounds, { settings: config.analysis, outbreaks: cache });
-  const summaries = summariseSite(config, site, rounds, confidence);
-  const spatial = siteSpatial(site, rounds, confidence, config.analysis, cache);
+  const spatial: (RoundSpatial | undefined)[] = new Array<RoundSpatial | undefined>(rounds.length).fill(undefined);
+  const basis = { site, rounds, confidence, spatial };
+  reviewRounds(basis, [planBasisIndex(rounds)], context);
   const lastNumber = rounds.at(-1)?.number ?? 0;
   const existingIds = new Map(
     inputs.planned
@@ -82,5 +102,45 @@ export function analyseSite(
     measureOf: (assayId) => config.assayById.get(assayId)?.measure ?? 'ct',
     ...(options.budget !== undefined ? { budget: options.budget } : {}),
   });
-  return { site, rounds, confidence, summaries, spatial, plan };
+  return { ...basis, plan };
+}
+
+/** Adds the spatial review of the rounds at `indices` (those out of range are ignored). */
+export function reviewRounds(
+  findings: Pick<SiteBasis, 'site' | 'rounds' | 'confidence' | 'spatial'>,
+  indices: Iterable<number>,
+  context: AnalysisContext,
+): void {
+  const { site, rounds, confidence, spatial } = findings;
+  for (const index of indices) {
+    if (index < 0 || index >= rounds.length || spatial[index] !== undefined) continue;
+    spatial[index] = roundSpatial(site, rounds, index, confidence, context.config.analysis, context.cache);
+  }
+}
+
+/**
+ * The findings of the rounds from index `from` on, ready to be written: their summaries and
+ * spatial reviews, and those of the rounds their pages look back on (LOOKBACK_ROUNDS); earlier
+ * rounds are summarised in outline only.
+ */
+export function completeFindings(basis: SiteBasis, context: AnalysisContext, from = 0): SiteFindings {
+  const detailFrom = Math.max(0, from - LOOKBACK_ROUNDS);
+  const summaries = summariseSite(context.config, basis.site, basis.rounds, basis.confidence, detailFrom);
+  const lookBack = Math.max(0, from - EARLIER_MAPS);
+  reviewRounds(
+    basis,
+    basis.rounds.map((_, index) => index).filter((index) => index >= lookBack),
+    context,
+  );
+  return { ...basis, summaries, detailFrom };
+}
+
+/** Builds a site's whole analysis from its inputs: every round summarised and reviewed. */
+export function analyseSite(
+  site: Site,
+  inputs: SiteInputs,
+  context: AnalysisContext,
+  options: AnalyseOptions = {},
+): SiteFindings {
+  return completeFindings(analyseSiteBasis(site, inputs, context, options), context);
 }

@@ -24,7 +24,7 @@ export interface PlanInput {
   site: Site;
   rounds: readonly SiteRound[];
   confidence: readonly RoundConfidence[];
-  spatial: readonly RoundSpatial[];
+  spatial: readonly (RoundSpatial | undefined)[];
   settings: AnalysisSettings;
   cache: OutbreakCache;
   /** yyyy-mm-dd, from the injected clock. */
@@ -110,6 +110,11 @@ function lastIndexWhere(rounds: readonly SiteRound[], keep: (round: SiteRound) =
   return index;
 }
 
+/** The last round with results (-1 when none has any): the plan's follow-ups and retests come from it. */
+export function planBasisIndex(rounds: readonly SiteRound[]): number {
+  return lastIndexWhere(rounds, (round) => round.barns.some((barn) => barn.ropesReturned > 0));
+}
+
 export function planContext(input: PlanInput): PlanContext {
   const { site, rounds } = input;
   const program = site.program;
@@ -120,7 +125,7 @@ export function planContext(input: PlanInput): PlanContext {
   // Follow-ups and retests come from the last round with results: a round whose ropes are out
   // and whose results are not yet due (or never came) has nothing to follow up. The freedom
   // forecast starts from the last round in the freedom chain (an awaiting round is not in it).
-  const basisIndex = lastIndexWhere(rounds, (round) => round.barns.some((barn) => barn.ropesReturned > 0));
+  const basisIndex = planBasisIndex(rounds);
   const freedomIndex = lastIndexWhere(rounds, (round) => round.state !== 'awaiting-results');
   const basis = basisIndex < 0 ? undefined : rounds[basisIndex];
   const measureOf = (assayId: string): Measure => basis?.measures[assayId] ?? input.measureOf?.(assayId) ?? 'ct';

@@ -273,19 +273,25 @@ function programSummary(site: Site): SummaryFacts['program'] {
   };
 }
 
-/** Builds the summaries of every round of a site; src/report/summaryNotices.ts words their notices. */
+/**
+ * Builds the summaries of every round of a site; src/report/summaryNotices.ts words their notices.
+ * @param detailFrom the first round (index) summarised with its pens (and sequencing list); the
+ *   rounds before it are outlines (`pens` and `sequencing` empty), read only by the rounds after
+ *   them looking back (positive barns, freedom resets, the site's list of rounds), never written
+ */
 export function summariseSite(
   config: Config,
   site: Site,
   rounds: readonly SiteRound[],
   confidence: readonly RoundConfidence[],
+  detailFrom = 0,
 ): SummaryFacts[] {
   const labName = (labId: string) => config.labById.get(labId)?.name ?? labId;
   return rounds.map((round, index) => {
     const roundConfidence = confidence[index]!;
     const notices = roundNotices(config, site, round, roundConfidence);
     const barns = barnSummaries(site, round, roundConfidence, labName);
-    const pens = penSummaries(config, rounds, index, labName);
+    const pens = index >= detailFrom ? penSummaries(config, rounds, index, labName) : [];
     const { assays, pairs } = assaySummaries(config, site, round, roundConfidence);
     return {
       schema: SUMMARY_SCHEMA,

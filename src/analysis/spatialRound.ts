@@ -272,6 +272,37 @@ function assaySpatial(ctx: RoundContext, assayId: string): AssaySpatial {
 }
 
 /**
+ * Spatial analysis of round `index` of a site, per assay tested in it. Reads the rounds before it
+ * (pens positive earlier) and none after: a round's review does not change when later rounds come.
+ * @param confidence the round confidence from siteConfidence (for the hypergeometric value beside)
+ */
+export function roundSpatial(
+  site: Site,
+  rounds: readonly SiteRound[],
+  index: number,
+  confidence: readonly RoundConfidence[],
+  settings: AnalysisSettings,
+  cache: OutbreakCache,
+): RoundSpatial {
+  const round = rounds[index]!;
+  const seed = deriveSeed(settings.seed, site.id, round.number);
+  const ctx: RoundContext = { site, rounds, index, confidence, settings, cache, seed };
+  return {
+    schema: CLUSTERS_SCHEMA,
+    site: site.id,
+    round: { number: round.number, id: round.id, startOn: round.startOn },
+    seed,
+    assays: round.assays.map((assayId) => assaySpatial(ctx, assayId)),
+    model: {
+      transmission: settings.spreadTransmission,
+      background: settings.spreadBackground,
+      realisations: settings.spreadRealisations,
+      contacts: 'queen',
+    },
+  };
+}
+
+/**
  * Spatial analysis of each round of a site, per assay tested in that round.
  * @param confidence the round confidence from siteConfidence (for the hypergeometric value beside)
  */
@@ -282,21 +313,5 @@ export function siteSpatial(
   settings: AnalysisSettings,
   cache: OutbreakCache,
 ): RoundSpatial[] {
-  return rounds.map((round, index) => {
-    const seed = deriveSeed(settings.seed, site.id, round.number);
-    const ctx: RoundContext = { site, rounds, index, confidence, settings, cache, seed };
-    return {
-      schema: CLUSTERS_SCHEMA,
-      site: site.id,
-      round: { number: round.number, id: round.id, startOn: round.startOn },
-      seed,
-      assays: round.assays.map((assayId) => assaySpatial(ctx, assayId)),
-      model: {
-        transmission: settings.spreadTransmission,
-        background: settings.spreadBackground,
-        realisations: settings.spreadRealisations,
-        contacts: 'queen',
-      },
-    };
-  });
+  return rounds.map((_, index) => roundSpatial(site, rounds, index, confidence, settings, cache));
 }

@@ -28,6 +28,15 @@ export const SUMMARY_SCHEMA = 'ropewatch.round-summary/2';
  */
 export const PEN_HISTORY_ROUNDS = 8;
 
+/** How many earlier rounds a round's cluster review draws as small maps beside it. */
+export const EARLIER_MAPS = 5;
+
+/**
+ * How far back a round's files read the pens of earlier rounds (their history and small maps):
+ * a build that writes round i needs the pens of the rounds from i - LOOKBACK_ROUNDS on only.
+ */
+export const LOOKBACK_ROUNDS = Math.max(PEN_HISTORY_ROUNDS, EARLIER_MAPS);
+
 export interface PenSummary {
   barnId: string;
   penId: string;

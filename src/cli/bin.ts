@@ -21,6 +21,7 @@ export async function runFromProcess(): Promise<void> {
     now: () => new Date(),
     env: process.env,
     stopSignal,
+    stderrIsTerminal: process.stderr.isTTY === true,
   });
   process.exitCode = code;
   // Let pending stdout drain, then exit so a finished watch leaves no open handle.

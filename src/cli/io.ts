@@ -16,6 +16,8 @@ export interface CliIo {
    * 128 + the signal number. Tests pass their own.
    */
   stopSignal?: Promise<NodeJS.Signals | void>;
+  /** Standard error is a terminal: long commands show their progress there (never in a log or a pipe). */
+  stderrIsTerminal?: boolean;
 }
 
 /** Bad arguments or a bad request: exit code 2. The message names the option and the value. */

@@ -1,16 +1,7 @@
-import { readFileSync } from 'node:fs';
 import { Command, CommanderError } from 'commander';
 import { EXIT, InputRejectedError, InterruptedError, UsageError, type CliIo } from './io.js';
 import { COMMANDS } from './commands/index.js';
-
-/**
- * The version in package.json, two folders up from this file both in src/cli (tests, tsx) and in
- * dist/cli (the installed program).
- */
-export function packageVersion(): string {
-  return (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string })
-    .version;
-}
+import { packageVersion } from '../util/packageVersion.js';
 
 /**
  * Builds the command tree. Declaring it loads only commander and small modules: each command

@@ -1,6 +1,7 @@
 /** Writing outputs so that a reader never sees half a file: write beside, then rename. */
 import fs from 'node:fs';
 import path from 'node:path';
+import { processIsAlive } from '../util/processAlive.js';
 
 let counter = 0;
 
@@ -84,17 +85,6 @@ export class StagedOutputs implements OutputWriter {
   discard(): void {
     for (const { temp } of this.staged) fs.rmSync(temp, { force: true });
     this.staged = [];
-  }
-}
-
-/** Whether a process of that id runs (signal 0 probes it, kill(2)). */
-export function processIsAlive(pid: number): boolean {
-  try {
-    process.kill(pid, 0);
-    return true;
-  } catch (error) {
-    // EPERM: the process exists but belongs to someone else.
-    return (error as NodeJS.ErrnoException).code === 'EPERM';
   }
 }
 

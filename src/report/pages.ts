@@ -78,6 +78,8 @@ export function siteDigest(
  * @param analysis the site's analysis from analyseSite
  * @param writer where the files go (default: each atomically to its name)
  * @param alertsByRound every round's alerts (alertsOfRounds), when the caller has them already
+ * @param rounds the rounds (indices) whose pages to write (default every round); their spatial
+ *   review and that of the rounds their pages look back on must be in the analysis
  * @throws whatever the file system throws
  */
 export function writeSitePages(
@@ -86,10 +88,12 @@ export function writeSitePages(
   analysis: SiteAnalysis,
   writer: OutputWriter = atomicWriter,
   alertsByRound: readonly PageAlert[][] = alertsOfRounds(analysis),
+  rounds?: ReadonlySet<number>,
 ): void {
   const { site, summaries, spatial, plan } = analysis;
   const siteDir = path.join(outbox, site.id);
   summaries.forEach((summary, index) => {
+    if (rounds !== undefined && !rounds.has(index)) return;
     const roundDir = path.join(siteDir, summary.round.id);
     const alerts = alertsByRound[index]!;
     const notices = noticesFor(

@@ -45,12 +45,15 @@ function insertAll(db: Database.Database, table: string, rows: readonly Record<s
   for (const row of rows) insert.run(columns.map((name) => sqlValue(row[name])));
 }
 
-/** Replaces a site's facts in one transaction (the write lock taken up front). */
-export function replaceSiteFacts(db: Database.Database, siteId: string, facts: SiteFacts): void {
+/**
+ * Replaces a site's facts of round `fromRound` on (all of them by default) in one short
+ * transaction (the write lock taken up front); the facts given are those of these rounds.
+ */
+export function replaceSiteFacts(db: Database.Database, siteId: string, facts: SiteFacts, fromRound = 1): void {
   db.transaction(() => {
-    db.prepare('DELETE FROM analysis_rope_rounds WHERE site_id = ?').run(siteId);
-    db.prepare('DELETE FROM analysis_rounds WHERE site = ?').run(siteId);
-    db.prepare('DELETE FROM analysis_alerts WHERE site = ?').run(siteId);
+    db.prepare('DELETE FROM analysis_rope_rounds WHERE site_id = ? AND round >= ?').run(siteId, fromRound);
+    db.prepare('DELETE FROM analysis_rounds WHERE site = ? AND round >= ?').run(siteId, fromRound);
+    db.prepare('DELETE FROM analysis_alerts WHERE site = ? AND round >= ?').run(siteId, fromRound);
     const rope = db.prepare(
       `INSERT OR IGNORE INTO analysis_rope_rounds (site_id, sample_id, round, round_id, round_start, group_id, barn_id, pen_id, pool_id)
        VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
@@ -72,18 +75,25 @@ export function replaceSiteFacts(db: Database.Database, siteId: string, facts: S
   }).immediate();
 }
 
-/** Rows of a view for one site whose rounds began in [from, to] (ISO dates; either may be left open). */
+/**
+ * Rows of a view for one site whose rounds began in [from, to] (ISO dates; either may be left
+ * open) and, with `fromRound`, are that round or a later one.
+ */
 export function readTidyView(
   db: Database.Database,
   view: TidyView,
   siteId: string,
-  range: { from?: string | undefined; to?: string | undefined } = {},
+  range: { from?: string | undefined; to?: string | undefined; fromRound?: number | undefined } = {},
 ): Record<string, unknown>[] {
   return db
     .prepare(
       `SELECT * FROM ${TIDY_VIEWS[view]} WHERE site = @siteId
          AND (@from IS NULL OR round_start >= @from) AND (@to IS NULL OR round_start <= @to)
+         AND round >= @fromRound
        ORDER BY ${ORDER[view]}`,
     )
-    .all({ siteId, from: range.from ?? null, to: range.to ?? null }) as Record<string, unknown>[];
+    .all({ siteId, from: range.from ?? null, to: range.to ?? null, fromRound: range.fromRound ?? 0 }) as Record<
+    string,
+    unknown
+  >[];
 }

@@ -13,7 +13,7 @@ import { parse } from 'csv-parse/sync';
 import { describe, expect, it } from 'vitest';
 import type { Site } from '../../src/config/types.js';
 import { northfieldExport, ropeSheet } from '../../src/demo/scenario.js';
-import { regenerateOutputs, type SiteAnalysis } from '../../src/outputs.js';
+import { regenerateSite, type SiteAnalysis } from '../../src/outputs.js';
 import { processFile } from '../../src/pipeline.js';
 import { roundAlerts } from '../../src/report/html/alerts.js';
 import { openWorkspace } from '../../src/workspace.js';
@@ -68,7 +68,7 @@ function clockedWorkspace(): Clocked {
       const { receipt } = await processFile(ws, file);
       expect(receipt.status).toBe('accepted');
     },
-    analyse: () => regenerateOutputs(ws, ['hollow-creek'])[0]!,
+    analyse: () => regenerateSite(ws, made.config().siteById.get('HOLLOW-CREEK')!, { full: true }),
     close: () => ws.close(),
     outbox: made.paths.outbox,
     site: made.config().siteById.get('HOLLOW-CREEK')!,

@@ -212,7 +212,8 @@ describe('JSON outputs against the shipped JSON Schemas', () => {
   const jsonFiles = (): string[] =>
     fs
       .readdirSync(ws.paths.outbox, { recursive: true, withFileTypes: true })
-      .filter((entry) => entry.isFile() && /\.jsonl?$/.test(entry.name))
+      // Hidden files (.built-rounds.json) are ropewatch's own bookkeeping, not outputs for readers.
+      .filter((entry) => entry.isFile() && /\.jsonl?$/.test(entry.name) && !entry.name.startsWith('.'))
       .map((entry) => path.join(entry.parentPath, entry.name));
   const tagOf = (file: string, value: { schema?: string }): string =>
     file.endsWith('.jsonl')

@@ -16,7 +16,7 @@ import { chromium, type BrowserContext } from 'playwright-core';
 import type { CliIo } from '../../src/cli/io.js';
 import { runDemo } from '../../src/demo/runDemo.js';
 import { DEMO_TODAY } from '../../src/demo/scenario.js';
-import { regenerateOutputs, type SiteAnalysis } from '../../src/outputs.js';
+import { regenerateSite, type SiteAnalysis } from '../../src/outputs.js';
 import { openWorkspace, type WorkspacePaths } from '../../src/workspace.js';
 
 export const SYSTEM_CHROMIUM = '/usr/bin/chromium';
@@ -247,8 +247,8 @@ export async function buildDemoPages(options: { editConfig?: (configDir: string)
   );
   let analyses: SiteAnalysis[];
   try {
-    // The same call a drop triggers: every site's outputs, pages and the index.
-    analyses = regenerateOutputs(ws);
+    // Every site's outputs, pages and the index, as `report` writes them, with each site's analysis.
+    analyses = ws.config.sites.map((site) => regenerateSite(ws, site, { full: true }));
   } finally {
     ws.close();
   }

@@ -9,7 +9,7 @@ import { analyseSite } from '../../src/analysis/analyseSite.js';
 import { wordSiteAnalysis } from '../../src/report/siteWording.js';
 import { OutbreakCache } from '../../src/analysis/spatialRound.js';
 import { northfieldExport } from '../../src/demo/scenario.js';
-import { regenerateOutputs } from '../../src/outputs.js';
+import { regenerateSite } from '../../src/outputs.js';
 import { clockDay } from '../../src/rounds/rounds.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
@@ -46,7 +46,7 @@ describe("a site's inputs", () => {
     const site = open.config.sites.find((candidate) => candidate.id === SITE)!;
     // The rebuild stores its plan as planned ropes, and a plan made again keeps their sample IDs:
     // the inputs read after it give the analysis it wrote.
-    const [written] = regenerateOutputs(open, [SITE]);
+    const written = regenerateSite(open, site, { full: true });
     const before = store.siteInputs(SITE);
     const context = { config: open.config, today: clockDay(open.now()) };
     ws.closeStore();

@@ -19,12 +19,12 @@ export function registerPlan(program: Command, io: CliIo): void {
   ).action(async (options: CommonOptions & { site: string; budget?: string }) => {
     const budget =
       options.budget === undefined ? undefined : parseIntegerOption('--budget', options.budget, 0, 100_000);
-    const { planText, regenerateOutputs, siteOption, withWorkspace } = await commandModules();
+    const { planText, regenerateSite, siteOption, withWorkspace } = await commandModules();
     withWorkspace(io, options, (ws) => {
       const site = siteOption(ws, options.site);
-      const [analysis] = regenerateOutputs(ws, [site.id], budget === undefined ? {} : { budget });
-      if (options.json) printJson(io, analysis!.plan);
-      else io.stdout(planText(analysis!.plan));
+      const analysis = regenerateSite(ws, site, budget === undefined ? {} : { budget });
+      if (options.json) printJson(io, analysis.plan);
+      else io.stdout(planText(analysis.plan));
     });
   });
 }

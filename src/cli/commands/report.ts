@@ -10,7 +10,7 @@ import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
 import { InputRejectedError, printJson, UsageError, type CliIo } from '../io.js';
 
 type ReportOptions = CommonOptions & { site?: string; round?: string };
-type Analyses = ReturnType<typeof CommandModules.regenerateOutputs>;
+type Builds = ReturnType<typeof CommandModules.regenerateOutputs>;
 type Modules = Pick<typeof CommandModules, 'siteOption'>;
 
 /** Every file under `dir`, relative to `base` with `/` between folders, sorted. */
@@ -30,28 +30,44 @@ function chosenSites(ws: Workspace, options: ReportOptions, { siteOption }: Modu
 }
 
 /** What was written, as --json prints it: per site its rounds and files. */
-function printWritten(io: CliIo, ws: Workspace, analyses: Analyses): void {
+function printWritten(io: CliIo, ws: Workspace, builds: Builds): void {
   // A site's folder is staged and swapped in whole, stale round folders removed: what it
   // holds now is what this run wrote.
   printJson(io, {
     outbox: ws.outbox,
     index: fs.existsSync(path.join(ws.outbox, OUTBOX_NAMES.indexPage)) ? OUTBOX_NAMES.indexPage : null,
-    sites: analyses.map((analysis) => ({
-      site: analysis.site.id,
-      name: analysis.site.name,
-      rounds: analysis.rounds.map((round) => ({ number: round.number, id: round.id, startOn: round.startOn })),
-      files: fs.existsSync(path.join(ws.outbox, analysis.site.id))
-        ? filesUnder(path.join(ws.outbox, analysis.site.id), ws.outbox)
+    sites: builds.map((build) => ({
+      site: build.site.id,
+      name: build.site.name,
+      rounds: build.rounds,
+      files: fs.existsSync(path.join(ws.outbox, build.site.id))
+        ? filesUnder(path.join(ws.outbox, build.site.id), ws.outbox)
         : [],
     })),
   });
+}
+
+/**
+ * On a terminal, one line rewritten in place before each site (site n of N, elapsed) and cleared
+ * at the end; nothing when standard error is a file or a pipe.
+ */
+function progressOn(io: CliIo): { onSite?: (site: { id: string }, place: number, of: number) => void } {
+  if (!io.stderrIsTerminal) return {};
+  const started = io.now().getTime();
+  return {
+    onSite: (site, place, of) => {
+      const elapsed = Math.round((io.now().getTime() - started) / 1000);
+      io.stderr(`\rsite ${place} of ${of} (${site.id}), ${elapsed} s elapsed\x1b[K`);
+      if (place === of) io.stderr('\n');
+    },
+  };
 }
 
 export function registerReport(program: Command, io: CliIo): void {
   addCommonOptions(
     program
       .command('report')
-      .description('regenerate outputs (summaries, cluster reviews, rope lists, pages) from the store')
+      .description('rebuild every output (summaries, cluster reviews, rope lists, pages) from the store')
       .option('--site <site>', 'only this site')
       .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole')
       .option('--json', 'print what was written as JSON: per site its rounds and files'),
@@ -61,9 +77,9 @@ export function registerReport(program: Command, io: CliIo): void {
     await withWorkspace(io, options, async (ws) => {
       const siteIds = chosenSites(ws, options, modules);
       removeStrayTemps(ws.outbox);
-      let analyses: Analyses;
+      let builds: Builds;
       try {
-        analyses = regenerateOutputs(ws, siteIds);
+        builds = regenerateOutputs(ws, siteIds, { full: true, ...progressOn(io) });
       } catch (error) {
         if (error instanceof OutputError) throw new InputRejectedError(error.message);
         throw error;
@@ -71,12 +87,11 @@ export function registerReport(program: Command, io: CliIo): void {
       await deliverOwedAlerts(ws, io);
       if (options.round !== undefined) {
         const number = Number(options.round);
-        const exists = analyses[0]?.rounds.some((round) => round.number === number);
+        const exists = builds[0]?.rounds.some((round) => round.number === number);
         if (!exists) throw new UsageError(`site ${options.site} has no round ${options.round}`);
       }
-      if (options.json) printWritten(io, ws, analyses);
-      else
-        for (const analysis of analyses) io.stdout(`wrote ${analysis.site.id}: ${analysis.rounds.length} round(s)\n`);
+      if (options.json) printWritten(io, ws, builds);
+      else for (const build of builds) io.stdout(`wrote ${build.site.id}: ${build.rounds.length} round(s)\n`);
     });
   });
 }

@@ -334,7 +334,7 @@ function wordAlert(raised: RoundAlertFacts, summary: RoundSummary): PageAlert {
  */
 export function roundAlerts(
   summaries: readonly RoundSummary[],
-  spatial: readonly RoundSpatial[],
+  spatial: readonly (RoundSpatial | undefined)[],
   index: number,
   plan?: NextRoundPlan,
 ): PageAlert[] {
@@ -348,7 +348,7 @@ export function roundAlerts(
  */
 export function alertsOfRounds(analysis: {
   summaries: readonly RoundSummary[];
-  spatial: readonly RoundSpatial[];
+  spatial: readonly (RoundSpatial | undefined)[];
   plan: NextRoundPlan;
 }): PageAlert[][] {
   const last = analysis.summaries.length - 1;

@@ -4,7 +4,7 @@
  * barn gets a small map and one line. Reads the analysis; computes no statistic.
  */
 import type { RoundSummary } from '../../analysis/roundSummary.js';
-import { PEN_HISTORY_ROUNDS } from '../../analysis/summaryTypes.js';
+import { EARLIER_MAPS, PEN_HISTORY_ROUNDS } from '../../analysis/summaryTypes.js';
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { PageAlert } from './alerts.js';
@@ -24,14 +24,14 @@ export interface ClustersPageInput {
   /** The site's herd-status block (html/herdStatus.ts), when it has one. */
   herdStatus?: string;
   summaries: readonly RoundSummary[];
-  spatial: readonly RoundSpatial[];
+  spatial: readonly (RoundSpatial | undefined)[];
   /** The round to show, an index into summaries. */
   index: number;
   assays: ReadonlyMap<string, Assay>;
   alpha: number;
   alerts: readonly PageAlert[];
   notices: readonly string[];
-  /** Earlier rounds drawn as small maps (default 5). */
+  /** Earlier rounds drawn as small maps (default EARLIER_MAPS). */
   earlierMaps?: number;
 }
 
@@ -280,7 +280,7 @@ export function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySp
     clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
     attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
   });
-  const earlier = input.summaries.slice(Math.max(0, input.index - (input.earlierMaps ?? 5)), input.index);
+  const earlier = input.summaries.slice(Math.max(0, input.index - (input.earlierMaps ?? EARLIER_MAPS)), input.index);
   const minis = earlier.length > 0 ? earlierMinis(view, earlier) : '';
   const clusters = clusterList(view);
   const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}</h3>`;

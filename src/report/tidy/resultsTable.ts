@@ -56,9 +56,9 @@ export interface RopeRound {
   poolId: string | null;
 }
 
-/** Every rope of every round of the site with its round (a pen's ropes, second ropes included). */
-export function ropeRounds(analysis: SiteAnalysis): RopeRound[] {
-  return analysis.rounds.flatMap((round) =>
+/** Every rope of the site's rounds from index `from` on, with its round (a pen's ropes, second ropes included). */
+export function ropeRounds(analysis: SiteAnalysis, from = 0): RopeRound[] {
+  return analysis.rounds.slice(from).flatMap((round) =>
     round.barns.flatMap((barn) =>
       barn.pens.flatMap((pen) => {
         const poolId = Object.values(pen.results).find((result) => result.pool !== undefined)?.pool?.poolId ?? null;

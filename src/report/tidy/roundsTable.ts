@@ -49,10 +49,11 @@ export const ROUNDS_TABLE: TidyTable = {
   key: ['site', 'barn', 'round', 'assay'],
 };
 
-/** The rows of every round of the site, in round, barn and assay order. */
-export function roundRows(analysis: SiteAnalysis): TidyRow[] {
+/** The rows of the site's rounds from index `from` on, in round, barn and assay order. */
+export function roundRows(analysis: SiteAnalysis, from = 0): TidyRow[] {
   const target = analysis.site.program.targetConfidence;
-  return analysis.summaries.flatMap((summary, index) => {
+  return analysis.summaries.slice(from).flatMap((summary, offset) => {
+    const index = from + offset;
     const spatial = analysis.spatial[index];
     return summary.barns.flatMap((barn) => {
       const common: TidyRow = {

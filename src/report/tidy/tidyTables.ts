@@ -1,15 +1,14 @@
 /**
  * The tidy tables of a site: results.csv, rounds.csv and alerts.csv under outbox/<site>/, across
- * every round of the site. Each build of the outputs gives the store the site's facts (each
- * rope's round, the rounds' figures, the alerts), then reads the tables back from the store's
- * views, so that the files, `ropewatch export` and an analyst reading the store see the same rows.
+ * every round of the site. A build of the outputs gives the store the facts (each rope's round,
+ * the rounds' figures, the alerts) of the rounds it rewrites, then reads those rounds back from
+ * the store's views, so that the files, `ropewatch export` and an analyst reading the store see
+ * the same rows; the rounds it leaves alone keep their rows (src/report/builtRounds.ts).
  */
-import path from 'node:path';
 import type Database from 'better-sqlite3';
 import type { AlertRecord } from '../../alerts/records.js';
 import type { SiteAnalysis } from '../../analysis/analyseSite.js';
 import { readTidyView, replaceSiteFacts } from '../../store/tidyFacts.js';
-import type { OutputWriter } from '../files.js';
 import { ALERTS_TABLE, alertRows } from './alertsTable.js';
 import { type TidyRow, type TidyTable, tidyCsv, typedRow } from './columns.js';
 import { RESULTS_TABLE, ropeRounds } from './resultsTable.js';
@@ -25,13 +24,56 @@ export interface RoundRange {
   to?: string | undefined;
 }
 
-/** Gives the store the site's facts (replacing those of the last build). */
-export function storeSiteFacts(db: Database.Database, analysis: SiteAnalysis, alerts: readonly AlertRecord[]): void {
-  replaceSiteFacts(db, analysis.site.id, {
-    ropeRounds: ropeRounds(analysis),
-    rounds: roundRows(analysis),
-    alerts: alertRows(alerts),
+/** A round's rows of each tidy table as CSV lines (no header), in the tables' row order. */
+export type TidyFragments = Record<TidyTable['name'], string>;
+
+/** A table's rows as CSV lines, without the header line. */
+function csvLines(table: TidyTable, rows: readonly TidyRow[]): string {
+  return tidyCsv(table.columns, rows).slice(tidyCsv(table.columns, []).length);
+}
+
+/**
+ * Gives the store the site's facts of the rounds from index `from` on (those before keep theirs)
+ * and reads these rounds back from the store's views as CSV fragments, one per round: the files
+ * are the fragments of every round in round order, as the views give them (by round first).
+ * @param records the alert records of the rounds from `from` on
+ */
+export function storeTidyRounds(
+  db: Database.Database,
+  analysis: SiteAnalysis,
+  records: readonly AlertRecord[],
+  from: number,
+): TidyFragments[] {
+  const later = analysis.rounds.slice(from);
+  if (later.length === 0) return [];
+  const fromRound = later[0]!.number;
+  replaceSiteFacts(
+    db,
+    analysis.site.id,
+    { ropeRounds: ropeRounds(analysis, from), rounds: roundRows(analysis, from), alerts: alertRows(records) },
+    fromRound,
+  );
+  const byTable = TIDY_TABLES.map((table) => {
+    const byRound = new Map<number, TidyRow[]>();
+    for (const raw of readTidyView(db, table.name, analysis.site.id, { fromRound })) {
+      const row = typedRow(table.columns, raw);
+      const rows = byRound.get(row.round as number) ?? [];
+      rows.push(row);
+      byRound.set(row.round as number, rows);
+    }
+    return { table, byRound };
   });
+  return later.map(
+    (round) =>
+      Object.fromEntries(
+        byTable.map(({ table, byRound }) => [table.name, csvLines(table, byRound.get(round.number) ?? [])]),
+      ) as TidyFragments,
+  );
+}
+
+/** A tidy table's header line. */
+export function tidyHeader(name: TidyTable['name']): string {
+  return tidyCsv(TIDY_TABLES.find((table) => table.name === name)!.columns, []);
 }
 
 /** The site's tidy tables as the store's views give them, typed by their columns. */
@@ -39,18 +81,4 @@ export function readTidyTables(db: Database.Database, siteId: string, range: Rou
   const read = (table: TidyTable): TidyRow[] =>
     readTidyView(db, table.name, siteId, range).map((raw) => typedRow(table.columns, raw));
   return { results: read(RESULTS_TABLE), rounds: read(ROUNDS_TABLE), alerts: read(ALERTS_TABLE) };
-}
-
-/** Stores the site's facts and writes results.csv, rounds.csv and alerts.csv into its folder. */
-export function writeTidyTables(
-  db: Database.Database,
-  analysis: SiteAnalysis,
-  alerts: readonly AlertRecord[],
-  siteDir: string,
-  writer: OutputWriter,
-): void {
-  storeSiteFacts(db, analysis, alerts);
-  const tables = readTidyTables(db, analysis.site.id);
-  for (const table of TIDY_TABLES)
-    writer.write(path.join(siteDir, table.file), tidyCsv(table.columns, tables[table.name]));
 }

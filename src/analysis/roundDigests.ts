@@ -1,0 +1,34 @@
+/**
+ * What each round's outputs rest on, as a digest: a build compares it with the digest the
+ * round's files were written from and rewrites only the rounds whose digest changed.
+ *
+ * A round's findings read its own rounds model and confidence and those of the rounds before it
+ * (the probability of freedom carries forward, a pen's history and the pens positive earlier look
+ * back), never a later round. So the digests form a chain: round i's digest covers the settings,
+ * its own model and confidence and the digest of round i - 1, and a change in one round changes
+ * its digest and that of every round after it, and no other. The latest round also shows what
+ * the next round's plan says of it (an overdue round) and so covers the plan and the day.
+ */
+import { createHash } from 'node:crypto';
+import type { SiteFindings } from './analyseSite.js';
+
+const sha256 = (text: string): string => createHash('sha256').update(text).digest('hex');
+
+/**
+ * One digest per round, in round order.
+ * @param settings what every round's outputs depend on beyond the store: the configuration's
+ *   digest and the version of the files' format
+ * @param today the day of the build (yyyy-mm-dd)
+ */
+export function roundDigests(
+  findings: Pick<SiteFindings, 'rounds' | 'confidence' | 'plan'>,
+  settings: string,
+  today: string,
+): string[] {
+  const last = findings.rounds.length - 1;
+  let chain = sha256(`ropewatch round digest\n${settings}`);
+  return findings.rounds.map((round, index) => {
+    chain = sha256(`${chain}\n${JSON.stringify(round)}\n${JSON.stringify(findings.confidence[index])}`);
+    return index === last ? sha256(`${chain}\nlatest ${today}\n${JSON.stringify(findings.plan)}`) : chain;
+  });
+}
