@@ -60,7 +60,9 @@ export async function benchMemory(
         tickMs: 1000,
         onTick: progress
           ? (ms) =>
-              progress.show(`site ${sitesWritten(paths.outbox, siteIds)} of ${sites}, ${(ms / 1000).toFixed(0)} s`)
+              progress.show(
+                `site ${Math.min(sitesWritten(paths.outbox, siteIds) + 1, sites)} of ${sites}, ${(ms / 1000).toFixed(0)} s`,
+              )
           : undefined,
       },
     );

@@ -71,7 +71,10 @@ async function recomputeOnce(prepared: string, runDir: string, hook: string, sit
     cwd: REPO,
     tickMs: 1000,
     onTick: progress
-      ? (ms) => progress.show(`site ${sitesWritten(outbox, siteIds)} of ${siteIds.length}, ${(ms / 1000).toFixed(0)} s`)
+      ? (ms) =>
+          progress.show(
+            `site ${Math.min(sitesWritten(outbox, siteIds) + 1, siteIds.length)} of ${siteIds.length}, ${(ms / 1000).toFixed(0)} s`,
+          )
       : undefined,
   });
   progress?.done();

@@ -15,6 +15,8 @@ export const TARGETS = Object.freeze({
   ingestRateOfFloor: 0.8,
   /** ... at most this times the floor's CPU time. */
   ingestCpuOfFloor: 1.3,
+  /** Ingest's peak memory from 1M to 2M rows: at most this ratio (flat within 10%). */
+  ingestMemoryGrowth: 1.1,
   /** Peak resident memory of `report` and of a 50-site drop, MiB. */
   peakRssMiB: 500,
   /** Moran's I permutation test: at least this many times faster than R spdep (estimated). */
@@ -35,10 +37,16 @@ export function below(value: number, limit: number, text: string): Target {
 
 /**
  * Targets for rows of parts that do not state their own (bench/ingest.ts): the 1M-row ingest
- * against the keyed floor. A row that already carries a target keeps it.
+ * against the keyed floor, and its peak memory flat from 1M to 2M rows. Rows are recognised by
+ * name and unit; a row that already carries a target keeps it.
  */
 export function withDefaultTarget(part: string, row: BenchRow): BenchRow {
   if (row.target !== undefined || part !== 'ingest' || row.ratio === undefined) return row;
+  if (/peak RSS/i.test(row.name) && /\b2M\b|2,000,000/.test(row.name))
+    return {
+      ...row,
+      target: atMost(row.ratio, TARGETS.ingestMemoryGrowth, 'within 10% of the 1M-row peak'),
+    };
   if (!/\b1M\b|1,000,000/.test(row.name) || /peak RSS/i.test(row.name)) return row;
   if (/cpu/i.test(row.unit) || /\bCPU\b/.test(row.name))
     return {
