@@ -20,7 +20,7 @@ import path from 'node:path';
 import { regenerateOutputs } from '../src/outputs.js';
 import { writeHook } from './childProcess.js';
 import { DROP_NOW, type DropReport, type Prepared, spawnDrop } from './drop.js';
-import { describePair, summarisePairs } from './pairs.js';
+import { describePair, median, summarisePairs } from './pairs.js';
 import { atMost, below, TARGETS } from './targets.js';
 import type { BenchRow, PartOptions } from './types.js';
 import { openBenchWorkspace, storeRounds, writeRoundExport } from './workspaces.js';
@@ -90,9 +90,23 @@ export async function benchDrops(series: DropSeries): Promise<BenchRow[]> {
         baseline: paired.baseline.cpuMs,
         ratio: paired.cpuRatio.median,
         paired,
+        figures: {
+          filesWritten: last.filesWritten,
+          bytesWritten: last.bytesWritten,
+          outboxFiles: last.outboxFiles,
+          outboxBytes: last.outboxBytes,
+          peakRssMiB: peak,
+          processCpuMs: median(these.map((r) => r.processCpuMs)),
+        },
         note: `against the ${first}-round drop of the same pair: ${describePair(paired)}; wrote ${last.filesWritten} files, ${(last.bytesWritten / 1e6).toFixed(1)} MB (outbox ${last.outboxFiles} files, ${(last.outboxBytes / 1e6).toFixed(1)} MB); peak RSS ${peak.toFixed(0)} MB`,
       };
-      if (rounds !== first)
+      if (rounds === first) {
+        // The baseline itself: its own figures, no ratio to itself.
+        delete row.baseline;
+        delete row.ratio;
+        delete row.paired;
+        row.note = `median of ${these.length} runs, wall ${paired.ours.wallMs.toFixed(0)} ms; wrote ${last.filesWritten} files, ${(last.bytesWritten / 1e6).toFixed(1)} MB (outbox ${last.outboxFiles} files, ${(last.outboxBytes / 1e6).toFixed(1)} MB); peak RSS ${peak.toFixed(0)} MB`;
+      } else
         row.target = atMost(
           paired.cpuRatio.median,
           TARGETS.historyDropRatio,

@@ -79,6 +79,7 @@ export async function benchMemory(
         name: `${what}: peak RSS`,
         value: run.peakRssMb,
         unit: 'MiB',
+        figures: { wallMs: run.wallMs, cpuMs: run.cpuMs, exitCode: run.status ?? -1, sitesWritten: written },
         note: `VmHWM ${run.reported ? 'read by the child as it exited' : 'polled while it ran (it did not reach its exit handler)'}`,
         target: below(run.peakRssMb, TARGETS.peakRssMiB, `< ${TARGETS.peakRssMiB} MiB`),
       },

@@ -23,6 +23,8 @@ export interface BenchRow {
   paired?: PairedRatio;
   /** The product's target for this figure, where it has one. */
   target?: Target;
+  /** Figures beside the value for the JSON (files and bytes written, peak RSS in MiB ...). */
+  figures?: Record<string, number>;
   note?: string;
 }
 
