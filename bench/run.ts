@@ -82,7 +82,7 @@ async function main(): Promise<void> {
     held === 0
       ? 'no product target in these parts'
       : missed.length === 0
-        ? `all ${held} targets met`
+        ? `${held === 1 ? 'the one target' : `all ${held} targets`} met`
         : `${missed.length} of ${held} targets not met:\n  ${missed.join('\n  ')}`,
   );
   process.stdout.write(`${lines.join('\n')}\n`);

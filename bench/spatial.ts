@@ -211,33 +211,52 @@ function repeated(times: number, run: () => number): () => number {
   };
 }
 
-export async function benchSpatial(options: PartOptions = { small: false }): Promise<BenchRow[]> {
-  const pairs = options.small ? 3 : 7;
+const perBarnRound = (times: number) => (ms: number) => ms / times;
+
+/** The 2 x 40 barn: weights (sparse and dense), a cluster of positives, loads and pen centres. */
+function barnFixture() {
   const pens = expandLayout(layout);
   const ids = pens.map((p) => p.id);
   const w = contactWeights(layout, ids, 'queen', 'binary');
-  const W = denseWeights(w);
   // A cluster of 10 positive pens around A10-A14 / B10-B14 plus 4 strays; loads from Ct 22-34.
   const setup = seededRng(SEED);
   const positive = pens.map((p) => (p.position >= 9 && p.position <= 13) || setup() < 0.05);
   const loads = positive.map((pos) => (pos ? 6 + 12 * setup() : 0));
-  const x01 = positive.map((b) => (b ? 1 : 0));
-  const points = pens.map((p) => ({ id: p.id, x: p.x, y: p.y }));
-  const perBarnRound = (times: number) => (ms: number) => ms / times;
+  return {
+    ids,
+    w,
+    W: denseWeights(w),
+    positive,
+    loads,
+    x01: positive.map((b) => (b ? 1 : 0)),
+    points: pens.map((p) => ({ id: p.id, x: p.x, y: p.y })),
+  };
+}
+
+type Barn = ReturnType<typeof barnFixture>;
+
+export async function benchSpatial(options: PartOptions = { small: false }): Promise<BenchRow[]> {
+  const barn = barnFixture();
+  return [...permutationRows(barn, options), ...scanAndSpreadRows(barn, options)];
+}
+
+/** Join-count and Moran's I against dense references; Moran's partial placement against the full shuffle. */
+function permutationRows({ w, W, positive, loads, x01 }: Barn, options: PartOptions): BenchRow[] {
+  const pairs = options.small ? 3 : 7;
   const rows: BenchRow[] = [];
 
   rows.push(
     pairedRow({
       name: 'spatial: join-count test, 999 permutations, 2 x 40 barn',
       unit: 'CPU ms per barn-round',
-      scale: perBarnRound(5),
+      scale: perBarnRound(20),
       pairs,
-      note: 'sparse CSR, partial shuffle vs dense n^2 per permutation; 5 barn-rounds per sample',
+      note: 'sparse CSR, partial shuffle vs dense n^2 per permutation; 20 barn-rounds per sample',
       ours: repeated(
-        5,
+        20,
         () => joinCountTest(w, positive, { rng: seededRng(SEED), permutations: PERMUTATIONS }).pPermutation,
       ),
-      baseline: repeated(5, () => naiveJoinCountP(W, x01, PERMUTATIONS, seededRng(SEED))),
+      baseline: repeated(20, () => naiveJoinCountP(W, x01, PERMUTATIONS, seededRng(SEED))),
     }),
   );
 
@@ -245,11 +264,11 @@ export async function benchSpatial(options: PartOptions = { small: false }): Pro
     pairedRow({
       name: "spatial: Moran's I test, 999 permutations, 2 x 40 barn",
       unit: 'CPU ms per barn-round',
-      scale: perBarnRound(5),
+      scale: perBarnRound(20),
       pairs,
-      note: 'sparse lag vs dense n^2 with array copies; 5 barn-rounds per sample',
-      ours: repeated(5, () => moranTest(w, loads, { rng: seededRng(SEED), permutations: PERMUTATIONS }).pPermutation!),
-      baseline: repeated(5, () => naiveMoranP(W, loads, PERMUTATIONS, seededRng(SEED))),
+      note: 'sparse lag vs dense n^2 with array copies; 20 barn-rounds per sample',
+      ours: repeated(20, () => moranTest(w, loads, { rng: seededRng(SEED), permutations: PERMUTATIONS }).pPermutation!),
+      baseline: repeated(20, () => naiveMoranP(W, loads, PERMUTATIONS, seededRng(SEED))),
     }),
   );
 
@@ -275,6 +294,12 @@ export async function benchSpatial(options: PartOptions = { small: false }): Pro
     note: `${SPDEP_OVER_FULL_SHUFFLE} (spdep over the full shuffle, measured once before, not in this run) / the CPU ratio above (median ${moran.paired!.cpuRatio.median.toFixed(3)}; range ${(SPDEP_OVER_FULL_SHUFFLE / moran.paired!.cpuRatio.max).toFixed(0)}x-${(SPDEP_OVER_FULL_SHUFFLE / moran.paired!.cpuRatio.min).toFixed(0)}x)`,
     target: atLeast(speedUp, TARGETS.moranSpeedUp, `>= ${TARGETS.moranSpeedUp}x R spdep (estimated)`),
   });
+  return rows;
+}
+
+/** The Bernoulli scan and the spread model against their straightforward references. */
+function scanAndSpreadRows({ ids, w, W, positive, x01, points }: Barn, options: PartOptions): BenchRow[] {
+  const rows: BenchRow[] = [];
 
   rows.push(
     pairedRow({

@@ -46,63 +46,65 @@ function detectionGrid(size: number, maxPens: number): Triple[] {
 export async function benchStats(options: PartOptions = { small: false }): Promise<BenchRow[]> {
   const share = options.small ? 10 : 1;
   const pairs = options.small ? 3 : 5;
-  const rows: BenchRow[] = [];
+  return [perfectRopeRow(share, pairs), imperfectRopeRow(share, pairs), sampleSizeRow(share, pairs)];
+}
 
-  // 1. Perfect-rope detection, 1,000,000 evaluations: 1,000 grid points x 1,000 passes.
+/** 1,000,000 / `share` perfect-rope evaluations: 1,000 grid points x 1,000 / `share` passes. */
+function perfectRopeRow(share: number, pairs: number): BenchRow {
   const grid = detectionGrid(1000, 100_000);
   const evaluations = EVALUATIONS / share;
   const passes = evaluations / grid.length;
-  rows.push(
-    pairedRow({
-      name: 'detection, perfect rope (hypergeometric), N <= 100,000',
-      unit: 'CPU ns/eval',
-      scale: (ms) => (ms * 1e6) / evaluations,
-      pairs,
-      ours: () => {
-        let sum = 0;
-        for (let p = 0; p < passes; p++) for (const t of grid) sum += hypergeometricDetection(t.N, t.n, t.d);
-        return sum;
-      },
-      baseline: () => {
-        let sum = 0;
-        // P(detect) = 1 - P(X = 0), X ~ Hyp(N, d, n), the @stdlib way.
-        for (let p = 0; p < passes; p++) for (const t of grid) sum += 1 - hypergeometricCdf(0, t.N, t.d, t.n);
-        return sum;
-      },
-    }),
-  );
+  return pairedRow({
+    name: 'detection, perfect rope (hypergeometric), N <= 100,000',
+    unit: 'CPU ns/eval',
+    scale: (ms) => (ms * 1e6) / evaluations,
+    pairs,
+    ours: () => {
+      let sum = 0;
+      for (let p = 0; p < passes; p++) for (const t of grid) sum += hypergeometricDetection(t.N, t.n, t.d);
+      return sum;
+    },
+    baseline: () => {
+      let sum = 0;
+      // P(detect) = 1 - P(X = 0), X ~ Hyp(N, d, n), the @stdlib way.
+      for (let p = 0; p < passes; p++) for (const t of grid) sum += 1 - hypergeometricCdf(0, t.N, t.d, t.n);
+      return sum;
+    },
+  });
+}
 
-  // 2. Imperfect rope: ours vs summing @stdlib pmf terms, on barns up to 1,000 pens.
+/** Imperfect rope: ours vs summing @stdlib pmf terms, on barns up to 1,000 pens. */
+function imperfectRopeRow(share: number, pairs: number): BenchRow {
   const small = detectionGrid(500, 1000);
   const imperfectCount = 20_000 / share;
   const imperfectPasses = Math.max(1, imperfectCount / small.length);
-  rows.push(
-    pairedRow({
-      name: 'detection, imperfect rope Se=0.8 (Cameron & Baldock), N <= 1,000',
-      unit: 'CPU ns/eval',
-      scale: (ms) => (ms * 1e6) / (imperfectPasses * small.length),
-      pairs,
-      ours: () => {
-        let sum = 0;
-        for (let p = 0; p < imperfectPasses; p++) for (const t of small) sum += imperfectDetection(t.N, t.n, t.d, 0.8);
-        return sum;
-      },
-      baseline: () => {
-        let sum = 0;
-        for (let p = 0; p < imperfectPasses; p++) {
-          for (const t of small) {
-            let s = 0;
-            for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++)
-              s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
-            sum += s;
-          }
+  return pairedRow({
+    name: 'detection, imperfect rope Se=0.8 (Cameron & Baldock), N <= 1,000',
+    unit: 'CPU ns/eval',
+    scale: (ms) => (ms * 1e6) / (imperfectPasses * small.length),
+    pairs,
+    ours: () => {
+      let sum = 0;
+      for (let p = 0; p < imperfectPasses; p++) for (const t of small) sum += imperfectDetection(t.N, t.n, t.d, 0.8);
+      return sum;
+    },
+    baseline: () => {
+      let sum = 0;
+      for (let p = 0; p < imperfectPasses; p++) {
+        for (const t of small) {
+          let s = 0;
+          for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++)
+            s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
+          sum += s;
         }
-        return sum;
-      },
-    }),
-  );
+      }
+      return sum;
+    },
+  });
+}
 
-  // 3. Sample size: ours vs the same binary search on @stdlib, over barns, designs and targets.
+/** Sample size: ours vs the same binary search on @stdlib, over barns, designs and targets. */
+function sampleSizeRow(share: number, pairs: number): BenchRow {
   const rng = seededRng(SEED + 1);
   const questions: { N: number; d: number; C: number }[] = [];
   for (let i = 0; i < 20_000 / share; i++) {
@@ -113,37 +115,34 @@ export async function benchStats(options: PartOptions = { small: false }): Promi
       C: [0.9, 0.95, 0.99][randomInt(rng, 3)]!,
     });
   }
-  rows.push(
-    pairedRow({
-      name: 'sample size, perfect rope, N <= 10,000 (binary search)',
-      unit: 'CPU us/question',
-      scale: (ms) => (ms * 1e3) / questions.length,
-      pairs,
-      // The checksums may differ by a few ropes: @stdlib rounds some exact ties below the target
-      // (N=20, d=1, n=18: 18/20 = 0.9 exactly, @stdlib 0.899999999999999), where ropewatch is exact.
-      note: 'checksums (ropes) may differ by a few: @stdlib rounds some exact ties below the target',
-      ours: () => {
-        let sum = 0;
-        for (const q of questions) sum += sampleSize({ pens: q.N, infected: q.d, confidence: q.C }).sampled ?? -1;
-        return sum;
-      },
-      baseline: () => {
-        let sum = 0;
-        for (const q of questions) {
-          let low = -1;
-          let high = q.N;
-          while (high - low > 1) {
-            const mid = Math.floor((low + high) / 2);
-            if (1 - hypergeometricCdf(0, q.N, q.d, mid) >= q.C) high = mid;
-            else low = mid;
-          }
-          sum += high;
+  return pairedRow({
+    name: 'sample size, perfect rope, N <= 10,000 (binary search)',
+    unit: 'CPU us/question',
+    scale: (ms) => (ms * 1e3) / questions.length,
+    pairs,
+    // The checksums may differ by a few ropes: @stdlib rounds some exact ties below the target
+    // (N=20, d=1, n=18: 18/20 = 0.9 exactly, @stdlib 0.899999999999999), where ropewatch is exact.
+    note: 'checksums (ropes) may differ by a few: @stdlib rounds some exact ties below the target',
+    ours: () => {
+      let sum = 0;
+      for (const q of questions) sum += sampleSize({ pens: q.N, infected: q.d, confidence: q.C }).sampled ?? -1;
+      return sum;
+    },
+    baseline: () => {
+      let sum = 0;
+      for (const q of questions) {
+        let low = -1;
+        let high = q.N;
+        while (high - low > 1) {
+          const mid = Math.floor((low + high) / 2);
+          if (1 - hypergeometricCdf(0, q.N, q.d, mid) >= q.C) high = mid;
+          else low = mid;
         }
-        return sum;
-      },
-    }),
-  );
-  return rows;
+        sum += high;
+      }
+      return sum;
+    },
+  });
 }
 
 if (process.argv[1] !== undefined && import.meta.url === pathToFileURL(process.argv[1]).href) {
