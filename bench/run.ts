@@ -18,6 +18,7 @@ import type { BenchRow, PartOptions } from './types.js';
 
 type Part = { name: string; run: (options: PartOptions) => Promise<BenchRow[]> };
 
+/** Name, module, export; the ingest part runs at its own sizes (it takes no options). */
 const PARTS = [
   ['stats', './stats.js', 'benchStats'],
   ['spatial', './spatial.js', 'benchSpatial'],
@@ -28,6 +29,7 @@ const PARTS = [
   ['weekly', './weekly.js', 'benchWeekly'],
   ['memory', './memory.js', 'benchMemory'],
 ] as const;
+const WITHOUT_OPTIONS: readonly string[] = ['ingest'];
 
 function loadParts(only: readonly string[]): Part[] {
   const unknown = only.filter((name) => !PARTS.some(([part]) => part === name));
@@ -35,8 +37,10 @@ function loadParts(only: readonly string[]): Part[] {
     throw new Error(`unknown bench part ${unknown.join(', ')}; parts: ${PARTS.map(([part]) => part).join(', ')}`);
   return PARTS.filter(([name]) => only.length === 0 || only.includes(name)).map(([name, module, exported]) => ({
     name,
-    run: async (options) =>
-      ((await import(module)) as Record<string, (options: PartOptions) => Promise<BenchRow[]>>)[exported]!(options),
+    run: async (options) => {
+      const run = ((await import(module)) as Record<string, (options?: PartOptions) => Promise<BenchRow[]>>)[exported]!;
+      return WITHOUT_OPTIONS.includes(name) ? run() : run(options);
+    },
   }));
 }
 
