@@ -7,10 +7,12 @@
  * files and bytes written, peak RSS. Targets: at most 1.3x the 5-round drop; peak RSS < 500 MiB.
  *
  * Why 20 rounds and not 150: the preparation builds every round's outputs of every site with the
- * program's defaults, about 0.1 s of CPU per site-round when this was written (1,000 site-rounds,
- * 2 to 3 minutes on the 2-core machine); 150 rounds would be 7,500 site-rounds, over 12 minutes of
- * preparation alone, and the whole bench is meant to run in about 30 minutes. The single-site
- * series (bench/history.ts) reaches 150 rounds; this one shows that 50 sites at once stay bounded.
+ * program's defaults, 0.1 to 0.12 s of CPU per site-round when this was written (50 sites at 5 and
+ * 6 rounds: 59 and 45 s wall to prepare, each drop 30 to 33 s CPU, on a busy machine). Both stores
+ * here are 1,250 site-rounds, about 2.5 minutes of CPU; 150 rounds would be 7,750 site-rounds,
+ * some 15 minutes of preparation alone, and the whole bench is meant to run in about 30 minutes.
+ * The single-site series (bench/history.ts) reaches 150 rounds; this one shows whether a weekly
+ * export for 50 sites at once stays bounded as their history grows.
  *
  *   npx tsx bench/weekly.ts [longest] [pairs]     (or: npm run bench -- weekly)
  */
