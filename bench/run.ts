@@ -69,14 +69,24 @@ async function main(): Promise<void> {
   const only = args.filter((arg) => arg !== '--small');
   const started = new Date();
   const loadAtStart = os.loadavg();
-  const results: { part: string; rows: BenchRow[] }[] = [];
+  const results: { part: string; rows: BenchRow[]; error?: string }[] = [];
+  // A part that fails is reported and the others still run: a long run is not lost to one error.
   for (const part of loadParts(only)) {
     process.stderr.write(`bench: ${part.name}...\n`);
-    const rows = (await part.run(options)).map((row) => withDefaultTarget(part.name, row));
-    results.push({ part: part.name, rows });
+    try {
+      const rows = (await part.run(options)).map((row) => withDefaultTarget(part.name, row));
+      results.push({ part: part.name, rows });
+    } catch (error) {
+      const message = error instanceof Error ? error.message : String(error);
+      process.stderr.write(`bench: ${part.name} failed: ${message}\n`);
+      results.push({ part: part.name, rows: [], error: message });
+    }
   }
   const lines = [...HEADER];
-  for (const { part, rows } of results) for (const row of rows) lines.push(tableLine(part, row));
+  for (const { part, rows, error } of results) {
+    for (const row of rows) lines.push(tableLine(part, row));
+    if (error !== undefined) lines.push(`${part} | FAILED: ${error.split('\n')[0]} | | | | | | |`);
+  }
   const missed = results.flatMap(({ part, rows }) =>
     rows.filter((row) => row.target?.met === false).map((row) => `${part}: ${row.name}`),
   );
@@ -89,6 +99,8 @@ async function main(): Promise<void> {
         ? `${held === 1 ? 'the one target' : `all ${held} targets`} met`
         : `${missed.length} of ${held} targets not met:\n  ${missed.join('\n  ')}`,
   );
+  const failed = results.filter((result) => result.error !== undefined).map((result) => result.part);
+  if (failed.length > 0) lines.push(`parts that failed: ${failed.join(', ')}`);
   process.stdout.write(`${lines.join('\n')}\n`);
   const report = {
     startedAt: started.toISOString(),
@@ -106,6 +118,7 @@ async function main(): Promise<void> {
   fs.writeFileSync(path.join(dir, `${started.toISOString().replace(/[:.]/g, '-')}.json`), body);
   fs.writeFileSync(path.join(dir, 'latest.json'), body);
   process.stderr.write(`bench: wrote ${path.join(dir, 'latest.json')}\n`);
+  if (failed.length > 0) process.exitCode = 1;
 }
 
 await main();
