@@ -1,7 +1,8 @@
 /**
- * Benchmark of the detection engine (src/stats) against @stdlib, in the same run on the same inputs.
- * Setup (grids, factories) stays outside the timed parts; each part prints and returns a checksum
- * so the work cannot be optimised away.
+ * Benchmark of the detection engine (src/stats) against @stdlib, in the same run on the same inputs,
+ * as alternating pairs (@stdlib, ours, @stdlib, ours ...) with CPU time beside wall time.
+ * Setup (grids, factories) stays outside the timed parts; each part returns a checksum so the work
+ * cannot be optimised away.
  *
  *   npx tsx bench/stats.ts
  */
@@ -10,7 +11,8 @@ import hypergeometricCdf from '@stdlib/stats-base-dists-hypergeometric-cdf';
 import hypergeometricPmf from '@stdlib/stats-base-dists-hypergeometric-pmf';
 import { hypergeometricDetection, imperfectDetection, sampleSize } from '../src/stats/index.js';
 import { randomInt, seededRng } from '../src/util/random.js';
-import type { BenchRow } from './types.js';
+import { pairedRow } from './pairedRow.js';
+import type { BenchRow, PartOptions } from './types.js';
 
 const SEED = 4242;
 const EVALUATIONS = 1_000_000;
@@ -34,91 +36,78 @@ function detectionGrid(size: number, maxPens: number): Triple[] {
   return grid;
 }
 
-function time(run: () => number): { ns: number; checksum: number } {
-  run(); // warm-up: let the JIT compile both sides before timing
-  const start = process.hrtime.bigint();
-  const checksum = run();
-  const ns = Number(process.hrtime.bigint() - start);
-  return { ns, checksum };
-}
-
-function row(
-  name: string,
-  unit: string,
-  ours: { ns: number; checksum: number },
-  base: { ns: number; checksum: number } | null,
-  count: number,
-): BenchRow {
-  const value = ours.ns / count;
-  const out: BenchRow = { name, value, unit, note: `checksum ${ours.checksum.toPrecision(12)}` };
-  if (base !== null) {
-    out.baseline = base.ns / count;
-    out.ratio = value / out.baseline;
-    out.note += `; baseline checksum ${base.checksum.toPrecision(12)}`;
-  }
-  return out;
-}
-
 /**
- * Times the detection engine against @stdlib on the same seeded inputs in the same run:
- * 1,000,000 perfect-rope evaluations (vs 1 - hypergeometric cdf(0)), 20,000 imperfect-rope
- * evaluations (vs summing @stdlib pmf terms), 20,000 sample-size questions (vs the same binary
- * search on @stdlib). Rows carry ns (or us) per evaluation, the baseline, their ratio and checksums.
+ * Times the detection engine against @stdlib on the same seeded inputs in the same run, as
+ * alternating pairs: 1,000,000 perfect-rope evaluations (vs 1 - hypergeometric cdf(0)), 20,000
+ * imperfect-rope evaluations (vs summing @stdlib pmf terms), 20,000 sample-size questions (vs the
+ * same binary search on @stdlib); a tenth of each with `small`. Rows carry CPU ns (or us) per
+ * evaluation, the baseline, the CPU and wall ratios (median and range) and checksums.
  */
-export async function benchStats(): Promise<BenchRow[]> {
-  const rows: BenchRow[] = [];
+export async function benchStats(options: PartOptions = { small: false }): Promise<BenchRow[]> {
+  const share = options.small ? 10 : 1;
+  const pairs = options.small ? 3 : 5;
+  return [perfectRopeRow(share, pairs), imperfectRopeRow(share, pairs), sampleSizeRow(share, pairs)];
+}
 
-  // 1. Perfect-rope detection, 1,000,000 evaluations: 1,000 grid points x 1,000 passes.
+/** 1,000,000 / `share` perfect-rope evaluations: 1,000 grid points x 1,000 / `share` passes. */
+function perfectRopeRow(share: number, pairs: number): BenchRow {
   const grid = detectionGrid(1000, 100_000);
-  const passes = EVALUATIONS / grid.length;
-  const ours = time(() => {
-    let sum = 0;
-    for (let p = 0; p < passes; p++) for (const t of grid) sum += hypergeometricDetection(t.N, t.n, t.d);
-    return sum;
+  const evaluations = EVALUATIONS / share;
+  const passes = evaluations / grid.length;
+  return pairedRow({
+    name: 'detection, perfect rope (hypergeometric), N <= 100,000',
+    unit: 'CPU ns/eval',
+    scale: (ms) => (ms * 1e6) / evaluations,
+    pairs,
+    ours: () => {
+      let sum = 0;
+      for (let p = 0; p < passes; p++) for (const t of grid) sum += hypergeometricDetection(t.N, t.n, t.d);
+      return sum;
+    },
+    baseline: () => {
+      let sum = 0;
+      // P(detect) = 1 - P(X = 0), X ~ Hyp(N, d, n), the @stdlib way.
+      for (let p = 0; p < passes; p++) for (const t of grid) sum += 1 - hypergeometricCdf(0, t.N, t.d, t.n);
+      return sum;
+    },
   });
-  const stdlib = time(() => {
-    let sum = 0;
-    // P(detect) = 1 - P(X = 0), X ~ Hyp(N, d, n), the @stdlib way.
-    for (let p = 0; p < passes; p++) for (const t of grid) sum += 1 - hypergeometricCdf(0, t.N, t.d, t.n);
-    return sum;
-  });
-  rows.push(row('detection, perfect rope (hypergeometric), N <= 100,000', 'ns/eval', ours, stdlib, EVALUATIONS));
+}
 
-  // 2. Imperfect rope: ours vs summing @stdlib pmf terms, on barns up to 1,000 pens.
+/** Imperfect rope: ours vs summing @stdlib pmf terms, on barns up to 1,000 pens. */
+function imperfectRopeRow(share: number, pairs: number): BenchRow {
   const small = detectionGrid(500, 1000);
-  const imperfectCount = 20_000;
-  const imperfectPasses = imperfectCount / small.length;
-  const oursImperfect = time(() => {
-    let sum = 0;
-    for (let p = 0; p < imperfectPasses; p++) for (const t of small) sum += imperfectDetection(t.N, t.n, t.d, 0.8);
-    return sum;
-  });
-  const stdlibImperfect = time(() => {
-    let sum = 0;
-    for (let p = 0; p < imperfectPasses; p++) {
-      for (const t of small) {
-        let s = 0;
-        for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++)
-          s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
-        sum += s;
+  const imperfectCount = 20_000 / share;
+  const imperfectPasses = Math.max(1, imperfectCount / small.length);
+  return pairedRow({
+    name: 'detection, imperfect rope Se=0.8 (Cameron & Baldock), N <= 1,000',
+    unit: 'CPU ns/eval',
+    scale: (ms) => (ms * 1e6) / (imperfectPasses * small.length),
+    pairs,
+    ours: () => {
+      let sum = 0;
+      for (let p = 0; p < imperfectPasses; p++) for (const t of small) sum += imperfectDetection(t.N, t.n, t.d, 0.8);
+      return sum;
+    },
+    baseline: () => {
+      let sum = 0;
+      for (let p = 0; p < imperfectPasses; p++) {
+        for (const t of small) {
+          let s = 0;
+          for (let x = Math.max(0, t.n + t.d - t.N); x <= Math.min(t.n, t.d); x++)
+            s += hypergeometricPmf(x, t.N, t.d, t.n) * (1 - 0.2 ** x);
+          sum += s;
+        }
       }
-    }
-    return sum;
+      return sum;
+    },
   });
-  rows.push(
-    row(
-      'detection, imperfect rope Se=0.8 (Cameron & Baldock), N <= 1,000',
-      'ns/eval',
-      oursImperfect,
-      stdlibImperfect,
-      imperfectCount,
-    ),
-  );
+}
 
-  // 3. Sample size: ours vs the same binary search on @stdlib, over barns, designs and targets.
+/** Sample size: ours vs the same binary search on @stdlib, over barns, designs and targets. */
+function sampleSizeRow(share: number, pairs: number): BenchRow {
   const rng = seededRng(SEED + 1);
   const questions: { N: number; d: number; C: number }[] = [];
-  for (let i = 0; i < 20_000; i++) {
+  for (let i = 0; i < 20_000 / share; i++) {
     const N = Math.max(2, Math.round(10 * 1000 ** rng()));
     questions.push({
       N,
@@ -126,40 +115,38 @@ export async function benchStats(): Promise<BenchRow[]> {
       C: [0.9, 0.95, 0.99][randomInt(rng, 3)]!,
     });
   }
-  const oursSize = time(() => {
-    let sum = 0;
-    for (const q of questions) sum += sampleSize({ pens: q.N, infected: q.d, confidence: q.C }).sampled ?? -1;
-    return sum;
-  });
-  const stdlibSize = time(() => {
-    let sum = 0;
-    for (const q of questions) {
-      let low = -1;
-      let high = q.N;
-      while (high - low > 1) {
-        const mid = Math.floor((low + high) / 2);
-        if (1 - hypergeometricCdf(0, q.N, q.d, mid) >= q.C) high = mid;
-        else low = mid;
+  return pairedRow({
+    name: 'sample size, perfect rope, N <= 10,000 (binary search)',
+    unit: 'CPU us/question',
+    scale: (ms) => (ms * 1e3) / questions.length,
+    pairs,
+    // The checksums may differ by a few ropes: @stdlib rounds some exact ties below the target
+    // (N=20, d=1, n=18: 18/20 = 0.9 exactly, @stdlib 0.899999999999999), where ropewatch is exact.
+    note: 'checksums (ropes) may differ by a few: @stdlib rounds some exact ties below the target',
+    ours: () => {
+      let sum = 0;
+      for (const q of questions) sum += sampleSize({ pens: q.N, infected: q.d, confidence: q.C }).sampled ?? -1;
+      return sum;
+    },
+    baseline: () => {
+      let sum = 0;
+      for (const q of questions) {
+        let low = -1;
+        let high = q.N;
+        while (high - low > 1) {
+          const mid = Math.floor((low + high) / 2);
+          if (1 - hypergeometricCdf(0, q.N, q.d, mid) >= q.C) high = mid;
+          else low = mid;
+        }
+        sum += high;
       }
-      sum += high;
-    }
-    return sum;
+      return sum;
+    },
   });
-  // The checksums may differ by a few ropes: @stdlib rounds some exact ties below the target
-  // (N=20, d=1, n=18: 18/20 = 0.9 exactly, @stdlib 0.899999999999999), where ropewatch is exact.
-  const sizeRow = row(
-    'sample size, perfect rope, N <= 10,000 (binary search)',
-    'us/question',
-    { ns: oursSize.ns / 1000, checksum: oursSize.checksum },
-    { ns: stdlibSize.ns / 1000, checksum: stdlibSize.checksum },
-    questions.length,
-  );
-  rows.push(sizeRow);
-  return rows;
 }
 
 if (process.argv[1] !== undefined && import.meta.url === pathToFileURL(process.argv[1]).href) {
-  const rows = await benchStats();
+  const rows = await benchStats({ small: process.argv.includes('--small') });
   for (const r of rows) {
     const base = r.baseline === undefined ? '' : `  baseline ${r.baseline.toFixed(1)}  ratio ${r.ratio!.toFixed(3)}`;
     console.log(`${r.name}: ${r.value.toFixed(1)} ${r.unit}${base}  (${r.note ?? ''})`);

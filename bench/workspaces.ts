@@ -1,0 +1,93 @@
+/**
+ * Generated workspaces for the benchmarks: invented sites of 4 barns x 50 pens (two rows of 25), a
+ * rope in every 4th pen each round (the start moving one pen per round) and two assays per rope,
+ * filled through the ingest code with one generated lab export of the rounds wanted.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import { ingestFile } from '../src/ingest/ingestFile.js';
+import { openWorkspace, type Workspace, type WorkspacePaths } from '../src/workspace.js';
+import { writeManySiteConfig } from '../test/helpers/hardening.js';
+import { writeBigExport } from './ingest.js';
+
+export const SITE_SHAPE = Object.freeze({ barnsPerSite: 4, pensPerRow: 25 });
+export const EVERY = 4;
+
+export function workspacePaths(dir: string): WorkspacePaths {
+  return {
+    configDir: path.join(dir, 'config'),
+    dbFile: path.join(dir, 'store.db'),
+    inbox: path.join(dir, 'inbox'),
+    outbox: path.join(dir, 'outbox'),
+  };
+}
+
+/** Rows of one round of every site: generous, the generator stops at the round's end. */
+export function rowsPerRound(sites: number): number {
+  return sites * SITE_SHAPE.barnsPerSite * Math.ceil((2 * SITE_SHAPE.pensPerRow) / EVERY) * 2;
+}
+
+/** Opens the workspace at `dir` with a fixed clock and no log. */
+export function openBenchWorkspace(dir: string, now: Date): Workspace {
+  return openWorkspace(
+    workspacePaths(dir),
+    () => now,
+    () => {},
+  );
+}
+
+/**
+ * A workspace under `dir` whose store holds rounds `0 .. rounds - 1` of `sites` sites (program
+ * defaults: 999 permutations, 2,000 simulated outbreaks), outputs not built. Returns the rows stored.
+ */
+export async function storeRounds(dir: string, sites: number, rounds: number, now: Date): Promise<number> {
+  const paths = workspacePaths(dir);
+  writeManySiteConfig(paths.configDir, { sites, ...SITE_SHAPE, programDefaults: true });
+  fs.mkdirSync(paths.inbox, { recursive: true });
+  const history = path.join(dir, `nvdl_history_${rounds}.csv`);
+  writeBigExport(history, rounds * rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY);
+  const ws = openBenchWorkspace(dir, now);
+  try {
+    const receipt = await ingestFile(history, { config: ws.config, store: ws.store, now: ws.now });
+    if (receipt.status !== 'accepted') throw new Error(`history export refused: ${JSON.stringify(receipt.reason)}`);
+    return receipt.rows.accepted;
+  } finally {
+    ws.close();
+    fs.rmSync(history, { force: true });
+  }
+}
+
+/** Writes the export of round `round` (0-based) of every site to `file`. */
+export function writeRoundExport(file: string, sites: number, round: number): void {
+  writeBigExport(file, rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY, round);
+}
+
+export interface OutboxFigures {
+  /** Files (and their bytes) modified at or after `since`. */
+  filesWritten: number;
+  bytesWritten: number;
+  outboxFiles: number;
+  outboxBytes: number;
+}
+
+/** Counts the outbox's files and bytes, and those written since `sinceMs` (epoch ms). */
+export function outboxFigures(outbox: string, sinceMs: number): OutboxFigures {
+  const figures: OutboxFigures = { filesWritten: 0, bytesWritten: 0, outboxFiles: 0, outboxBytes: 0 };
+  if (!fs.existsSync(outbox)) return figures;
+  for (const entry of fs.readdirSync(outbox, { withFileTypes: true, recursive: true })) {
+    if (!entry.isFile()) continue;
+    const stat = fs.statSync(path.join(entry.parentPath, entry.name));
+    figures.outboxFiles++;
+    figures.outboxBytes += stat.size;
+    if (stat.mtimeMs >= sinceMs - 1) {
+      figures.filesWritten++;
+      figures.bytesWritten += stat.size;
+    }
+  }
+  return figures;
+}
+
+/** How many of the sites have a next-round list in the outbox (a site's outputs are published together). */
+export function sitesWritten(outbox: string, siteIds: readonly string[]): number {
+  return siteIds.filter((id) => fs.existsSync(path.join(outbox, id, 'next-round.json'))).length;
+}
