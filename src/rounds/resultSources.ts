@@ -22,7 +22,38 @@ export interface SourceDraft {
   barnIds: string[];
 }
 
-/** Adds one result (or a barn's gathered source) to the sources, keyed by lab and report date. */
+/** The source of lab `labId`'s report of `reportedOn`, opened when new. */
+function sourceOf(sources: Map<string, SourceDraft>, labId: string, reportedOn: string | null): SourceDraft {
+  const key = sourceKey(labId, reportedOn);
+  let source = sources.get(key);
+  if (!source) {
+    source = {
+      labId,
+      reportedOn,
+      accessions: new Set(),
+      assays: new Set(),
+      results: 0,
+      collectedFrom: null,
+      collectedTo: null,
+      barnIds: [],
+    };
+    sources.set(key, source);
+  }
+  return source;
+}
+
+/** Adds one result to the sources: its lab report's count, case number, assay and collection day. */
+export function addResultSource(sources: Map<string, SourceDraft>, result: ResultInput): void {
+  const source = sourceOf(sources, result.labId, result.reportedOn ?? null);
+  if (result.accession !== null && result.accession !== undefined) source.accessions.add(result.accession);
+  source.assays.add(result.assayId);
+  source.results += 1;
+  const collectedOn = result.collectedOn ?? null;
+  source.collectedFrom = earliest(source.collectedFrom, collectedOn);
+  source.collectedTo = latest(source.collectedTo, collectedOn);
+}
+
+/** Adds a barn's gathered source to the sources, keyed by lab and report date. */
 export function addSource(
   sources: Map<string, SourceDraft>,
   entry: {
@@ -36,41 +67,13 @@ export function addSource(
   },
   barnId?: string,
 ): void {
-  const key = sourceKey(entry.labId, entry.reportedOn);
-  let source = sources.get(key);
-  if (!source) {
-    source = {
-      labId: entry.labId,
-      reportedOn: entry.reportedOn,
-      accessions: new Set(),
-      assays: new Set(),
-      results: 0,
-      collectedFrom: null,
-      collectedTo: null,
-      barnIds: [],
-    };
-    sources.set(key, source);
-  }
+  const source = sourceOf(sources, entry.labId, entry.reportedOn);
   for (const accession of entry.accessions) source.accessions.add(accession);
   for (const assay of entry.assays) source.assays.add(assay);
   source.results += entry.results;
   source.collectedFrom = earliest(source.collectedFrom, entry.collectedFrom);
   source.collectedTo = latest(source.collectedTo, entry.collectedTo);
   if (barnId !== undefined && !source.barnIds.includes(barnId)) source.barnIds.push(barnId);
-}
-
-/** One result as a source entry. */
-export function resultEntry(result: ResultInput) {
-  const collectedOn = result.collectedOn ?? null;
-  return {
-    labId: result.labId,
-    reportedOn: result.reportedOn ?? null,
-    accessions: result.accession === null || result.accession === undefined ? [] : [result.accession],
-    assays: [result.assayId],
-    results: 1,
-    collectedFrom: collectedOn,
-    collectedTo: collectedOn,
-  };
 }
 
 /** The gathered sources in lab and report-date order, case numbers and assays sorted. */

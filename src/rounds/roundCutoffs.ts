@@ -33,28 +33,39 @@ function roundCutoffOf(result: ResultInput): Omit<RoundCutoff, 'results'> | unde
   };
 }
 
-/** Counts one result under the cutoffs it was read with (keyed by lab, assay, measure and every cutoff). */
-export function countCutoff(cutoffs: Map<string, RoundCutoff>, result: ResultInput): void {
+const FIELDS = [
+  'labId',
+  'assayId',
+  'measure',
+  'positiveBelow',
+  'suspectBelow',
+  'cycleLimit',
+  'positiveAtOrAbove',
+  'suspectAtOrAbove',
+] as const;
+
+/** Whether `counted` was read with the same lab, assay, measure and every cutoff (a missing value as none). */
+function sameCutoff(counted: RoundCutoff, readWith: Omit<RoundCutoff, 'results'>): boolean {
+  for (const field of FIELDS) if ((counted[field] ?? null) !== (readWith[field] ?? null)) return false;
+  return true;
+}
+
+/**
+ * Counts one result under the cutoffs it was read with (the same lab, assay, measure and every
+ * cutoff), in the order first seen. A round's results share a few cutoffs: they are compared
+ * field by field, never made into a key per result.
+ */
+export function countCutoff(cutoffs: RoundCutoff[], result: ResultInput): void {
   const readWith = roundCutoffOf(result);
   if (readWith === undefined) return;
-  const key = [
-    readWith.labId,
-    readWith.assayId,
-    readWith.measure,
-    readWith.positiveBelow,
-    readWith.suspectBelow,
-    readWith.cycleLimit,
-    readWith.positiveAtOrAbove,
-    readWith.suspectAtOrAbove,
-  ].join('\u0000');
-  const cutoff = cutoffs.get(key);
+  const cutoff = cutoffs.find((candidate) => sameCutoff(candidate, readWith));
   if (cutoff) cutoff.results++;
-  else cutoffs.set(key, { ...readWith, results: 1 });
+  else cutoffs.push({ ...readWith, results: 1 });
 }
 
 /** The counted cutoffs by lab, assay, then the cutoffs themselves. */
-export function sortedCutoffs(cutoffs: Map<string, RoundCutoff>): RoundCutoff[] {
-  return [...cutoffs.values()].sort(
+export function sortedCutoffs(cutoffs: readonly RoundCutoff[]): RoundCutoff[] {
+  return [...cutoffs].sort(
     (a, b) =>
       compareText(a.labId, b.labId) ||
       compareText(a.assayId, b.assayId) ||
