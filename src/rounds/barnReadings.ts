@@ -6,7 +6,7 @@
 import type { Barn, Measure } from '../config/types.js';
 import { countCutoff } from './roundCutoffs.js';
 import { keepWorst, penAssayResult } from './penResults.js';
-import { addResultSource, type SourceDraft } from './resultSources.js';
+import { addResultSource, type SourceDrafts } from './resultSources.js';
 import type {
   CallDisagreement,
   MistypedInput,
@@ -41,7 +41,7 @@ export interface RoundDraft {
 /** One barn's ropes of the round, as read. */
 export interface BarnDraft {
   pens: Map<string, PenRound>;
-  sources: Map<string, SourceDraft>;
+  sources: SourceDrafts;
   disagreements: CallDisagreement[];
   missing: string[];
   /** The pen of each rope without a result (sample ID -> pen id as the layout writes it). */

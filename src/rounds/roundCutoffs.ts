@@ -33,21 +33,21 @@ function roundCutoffOf(result: ResultInput): Omit<RoundCutoff, 'results'> | unde
   };
 }
 
-const FIELDS = [
-  'labId',
-  'assayId',
-  'measure',
-  'positiveBelow',
-  'suspectBelow',
-  'cycleLimit',
-  'positiveAtOrAbove',
-  'suspectAtOrAbove',
-] as const;
+/** A missing cutoff reads as none. */
+const same = (a: number | null | undefined, b: number | null | undefined) => (a ?? null) === (b ?? null);
 
-/** Whether `counted` was read with the same lab, assay, measure and every cutoff (a missing value as none). */
+/** Whether `counted` was read with the same lab, assay, measure and every cutoff (written out: this runs per result). */
 function sameCutoff(counted: RoundCutoff, readWith: Omit<RoundCutoff, 'results'>): boolean {
-  for (const field of FIELDS) if ((counted[field] ?? null) !== (readWith[field] ?? null)) return false;
-  return true;
+  return (
+    counted.labId === readWith.labId &&
+    counted.assayId === readWith.assayId &&
+    counted.measure === readWith.measure &&
+    same(counted.positiveBelow, readWith.positiveBelow) &&
+    same(counted.suspectBelow, readWith.suspectBelow) &&
+    same(counted.cycleLimit, readWith.cycleLimit) &&
+    same(counted.positiveAtOrAbove, readWith.positiveAtOrAbove) &&
+    same(counted.suspectAtOrAbove, readWith.suspectAtOrAbove)
+  );
 }
 
 /**
