@@ -35,7 +35,7 @@ function ropeOfCells(cells: RopeCells): StoredRope {
   };
 }
 
-/** A row of `currentResults` as the columns come (call_differs is 0 or 1). */
+/** A row of `currentResults` as the columns come (the reason as its id; call_differs is 0 or 1). */
 type ResultCells = [
   number,
   number,
@@ -51,7 +51,7 @@ type ResultCells = [
   string | null,
   string | null,
   ResultClass,
-  string,
+  number,
   string | null,
   number | null,
   number | null,
@@ -62,7 +62,7 @@ type ResultCells = [
 ];
 
 /** The stored result in the column order (the order the analysis and its tests have always seen). */
-function resultOfCells(cells: ResultCells): StoredResult {
+function resultOfCells(cells: ResultCells, reasonText: (id: number) => string): StoredResult {
   return {
     id: cells[0],
     fileId: cells[1],
@@ -78,7 +78,7 @@ function resultOfCells(cells: ResultCells): StoredResult {
     collectedOn: cells[11],
     reportedOn: cells[12],
     resultClass: cells[13],
-    reason: cells[14],
+    reason: reasonText(cells[14]),
     loadBand: cells[15],
     positiveBelow: cells[16],
     suspectBelow: cells[17],
@@ -209,22 +209,39 @@ export class SqliteReader implements StoreReader {
              UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL
              UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = @siteId)`;
     // The hottest read of a rebuild (every result of the site's history): rows as arrays, made
-    // into objects of one shape by `resultOfCells` (see `ropes`).
+    // into objects of one shape by `resultOfCells` (see `ropes`); a reason's text is read once per
+    // reason, not once per row.
+    const reasonText = this.reasonTexts();
     return (
       this.db
         .prepare(
           `SELECT r.id, r.file_id, r.lab_id, s.sample_id, r.assay_id, r.measure, r.ct, r.sp, r.ct_raw, r.lab_call,
-                  r.accession, r.collected_on, r.reported_on, r.class, x.text, r.load_band,
+                  r.accession, r.collected_on, r.reported_on, r.class, r.reason, r.load_band,
                   CASE WHEN r.measure = 'ct' THEN r.positive_below END, CASE WHEN r.measure = 'ct' THEN r.suspect_below END,
                   CASE WHEN r.measure = 'ct' THEN r.cycle_limit END, r.positive_at_or_above, r.suspect_at_or_above,
                   r.call_differs
-           FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
+           FROM results r JOIN samples s ON s.id = r.sample
            WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
            ORDER BY r.id`,
         )
         .raw(true)
         .all(siteId === undefined ? {} : { siteId }) as ResultCells[]
-    ).map(resultOfCells);
+    ).map((cells) => resultOfCells(cells, reasonText));
+  }
+
+  /** Looks up reason texts by id, each once (reasons are only ever added, never changed). */
+  private reasonTexts(): (id: number) => string {
+    const byId = new Map<number, string>();
+    const select = this.db.prepare('SELECT text FROM reasons WHERE id = ?').pluck();
+    return (id) => {
+      let text = byId.get(id);
+      if (text === undefined) {
+        text = select.get(id) as string | undefined;
+        if (text === undefined) throw new Error(`reason ${id} is not in the store`);
+        byId.set(id, text);
+      }
+      return text;
+    };
   }
 
   supersessions(): Supersession[] {
