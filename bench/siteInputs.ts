@@ -3,7 +3,8 @@
  * from the store (`siteInputs`), build its rounds (`buildSiteRounds`) and their confidence and
  * freedom (`siteConfidence`), timed against the same three steps of another commit of ropewatch
  * (the baseline) on the same stored history. A site of 4 barns x 50 pens, a rope in every 4th pen,
- * two assays, is stored with 5, 40 and 150 weekly rounds. The baseline's sources are taken from git
+ * two assays, is stored with 5, 40 and 150 rounds 14 days apart (bench/ingest.ts `writeBigExport`;
+ * no plan stored, so every rope is on the lab's rows). The baseline's sources are taken from git
  * (`git archive <rev> src`) into a temporary folder and imported beside ours; the baseline's code
  * creates and fills the store, and ours opens a copy of it (so any migration of ours runs on it).
  * Each step is timed in alternating pairs (ours, baseline, ...: bench/pairs.ts), CPU beside wall;
