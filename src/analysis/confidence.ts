@@ -77,12 +77,64 @@ export function spreadEstimator(
   };
 }
 
+/**
+ * The kernels' answers for one site's rounds, each question asked once: a barn asks the same
+ * ones (its pens, design, sensitivity, ropes tested) round after round. Answers are numbers or
+ * values copied field by field, so no output shares an object with another.
+ */
+class KernelAnswers {
+  private readonly detections = new Map<string, number>();
+  private readonly sizes = new Map<string, ReturnType<typeof sampleSize>>();
+  private readonly prevalences = new Map<string, PrevalenceEstimate>();
+
+  detection(pens: number, infected: number, sensitivity: number, tested: number): number {
+    const key = `${pens}/${infected}/${sensitivity}/${tested}`;
+    let value = this.detections.get(key);
+    if (value === undefined) {
+      value = detectionFor({ pens, infected, sensitivity })(tested);
+      this.detections.set(key, value);
+    }
+    return value;
+  }
+
+  sampleSize(pens: number, infected: number, confidence: number, sensitivity: number): ReturnType<typeof sampleSize> {
+    const key = `${pens}/${infected}/${confidence}/${sensitivity}`;
+    let value = this.sizes.get(key);
+    if (value === undefined) {
+      value = sampleSize({ pens, infected, confidence, sensitivity });
+      this.sizes.set(key, value);
+    }
+    return value;
+  }
+
+  /** Apparent prevalence with its 95% interval and the estimate corrected for the rope's accuracy. */
+  prevalence(positive: number, tested: number, sensitivity: number, specificity: number): PrevalenceEstimate {
+    const key = `${positive}/${tested}/${sensitivity}/${specificity}`;
+    let value = this.prevalences.get(key);
+    if (value === undefined) {
+      const apparent = apparentPrevalence(positive, tested);
+      const corrected = truePrevalence(apparent.estimate, sensitivity, specificity);
+      value = {
+        apparent: apparent.estimate,
+        lower95: apparent.lower,
+        upper95: apparent.upper,
+        trueEstimate: corrected.estimate,
+        clipped: corrected.clipped,
+        note: corrected.note,
+      };
+      this.prevalences.set(key, value);
+    }
+    return { ...value };
+  }
+}
+
 function barnConfidence(
   site: Site,
   round: SiteRound,
   barn: Barn,
   assayId: string,
   spread: { sizing: SpreadSizing; roundIndex: number } | undefined,
+  answers: KernelAnswers,
 ): BarnConfidence {
   const program = site.program;
   const barnRound = round.barns.find((candidate) => candidate.barnId === barn.id)!;
@@ -93,10 +145,10 @@ function barnConfidence(
   const tested = barnRound.empty ? 0 : Math.min(pens, tally.testedPens.length);
   const designInfected = designInfectedFor(program, pens);
   const { sensitivity, specificity } = ropeAccuracy(program, assayId, barn);
-  const unpooled = detectionFor({ pens, infected: designInfected, sensitivity })(tested);
+  const unpooled = answers.detection(pens, designInfected, sensitivity, tested);
   const pooled = pooledConfidence(program, tally, tested, pens, designInfected, sensitivity, unpooled);
   const detectionConfidence = pooled === undefined ? unpooled : pooled.detection;
-  const size = sampleSize({ pens, infected: designInfected, confidence: program.targetConfidence, sensitivity });
+  const size = answers.sampleSize(pens, designInfected, program.targetConfidence, sensitivity);
   // With the spread model sizing the plans, "ropes needed" is its count, so that the summary and the plan agree.
   const outbreaks =
     spread && spread.sizing.settings.sizingModel === 'spatial'
@@ -109,19 +161,10 @@ function barnConfidence(
         pens,
       ).ropes
     : undefined;
-  let prevalence: PrevalenceEstimate | null = null;
-  if (tally.positive > 0 && tested > 0) {
-    const apparent = apparentPrevalence(Math.min(tally.positive, tested), tested);
-    const corrected = truePrevalence(apparent.estimate, sensitivity, specificity);
-    prevalence = {
-      apparent: apparent.estimate,
-      lower95: apparent.lower,
-      upper95: apparent.upper,
-      trueEstimate: corrected.estimate,
-      clipped: corrected.clipped,
-      note: corrected.note,
-    };
-  }
+  const prevalence: PrevalenceEstimate | null =
+    tally.positive > 0 && tested > 0
+      ? answers.prevalence(Math.min(tally.positive, tested), tested, sensitivity, specificity)
+      : null;
   return {
     barnId: barn.id,
     assayId,
@@ -211,13 +254,21 @@ export function siteConfidence(
   rule: ClearanceRule = negativeRoundsRule(site.program.clearAfterNegativeRounds),
 ): RoundConfidence[] {
   const statuses = barnStatuses(site, rounds, rule);
+  const answers = new KernelAnswers();
   const assays = [...new Set(rounds.flatMap((round) => round.assays))].sort();
   const perRound: RoundConfidence[] = rounds.map((round, index) => ({
     roundNumber: round.number,
     // The plan after round `index` lays its ropes out as round index + 1 (nextRound.ts).
     barns: round.assays.flatMap((assayId) =>
       site.barns.map((barn) => ({
-        ...barnConfidence(site, round, barn, assayId, spread ? { sizing: spread, roundIndex: index + 1 } : undefined),
+        ...barnConfidence(
+          site,
+          round,
+          barn,
+          assayId,
+          spread ? { sizing: spread, roundIndex: index + 1 } : undefined,
+          answers,
+        ),
         status:
           statuses[index]!.barns.find((entry) => entry.barnId === barn.id && entry.assayId === assayId)?.status ?? null,
       })),

@@ -129,8 +129,13 @@ export function barnStatuses(site: Site, rounds: readonly SiteRound[], rule: Cle
   // pigs have left), whatever the run of negative rounds (common practice, no source).
   const groupOf = (roundIndex: number, barnId: string) =>
     rounds[roundIndex]?.barns.find((barn) => barn.barnId === barnId)?.group?.id ?? null;
+  // Rounds by number, found once rather than searched for every barn and round.
+  const indexOfNumber = new Map<number, number>();
+  rounds.forEach((round, index) => {
+    if (!indexOfNumber.has(round.number)) indexOfNumber.set(round.number, index);
+  });
   const groupPlaced = (barnId: string, roundNumber: number) => {
-    const index = rounds.findIndex((round) => round.number === roundNumber);
+    const index = indexOfNumber.get(roundNumber) ?? -1;
     const group = groupOf(index, barnId);
     return group !== null && index > 0 && group !== groupOf(index - 1, barnId);
   };
@@ -203,6 +208,8 @@ export function addSiteFreedom(
     },
     freedomRounds,
   );
+  // The assay's measure, as the first round that tested it names it (the same for every round).
+  const measure = rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct';
   freedomRounds.forEach((round, position) => {
     const step = freedom.rounds[position]!;
     const previousStep = freedom.rounds[position - 1];
@@ -210,7 +217,7 @@ export function addSiteFreedom(
     const status = statuses[index]!.sites.find((entry) => entry.assayId === assayId)?.status ?? null;
     perRound[index]!.sites.push({
       assayId,
-      measure: rounds.find((candidate) => candidate.measures[assayId] !== undefined)?.measures[assayId] ?? 'ct',
+      measure,
       roundNumber: rounds[index]!.number,
       ...round.figures,
       ...(round.unpooled === undefined ? {} : { unpooledDetectionConfidence: round.unpooled }),

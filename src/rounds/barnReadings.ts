@@ -6,7 +6,7 @@
 import type { Barn, Measure } from '../config/types.js';
 import { countCutoff } from './roundCutoffs.js';
 import { keepWorst, penAssayResult } from './penResults.js';
-import { addSource, resultEntry, type SourceDraft } from './resultSources.js';
+import { addResultSource, type SourceDrafts } from './resultSources.js';
 import type {
   CallDisagreement,
   MistypedInput,
@@ -30,7 +30,8 @@ export interface SiteIndex {
 export interface RoundDraft {
   assays: Set<string>;
   measures: Record<string, Measure>;
-  cutoffs: Map<string, RoundCutoff>;
+  /** In the order first read (countCutoff). */
+  cutoffs: RoundCutoff[];
   disagreements: CallDisagreement[];
   replaced: RoundReplacement[];
   /** The pens (barn/pen) each pool ID of the round covers. */
@@ -40,7 +41,7 @@ export interface RoundDraft {
 /** One barn's ropes of the round, as read. */
 export interface BarnDraft {
   pens: Map<string, PenRound>;
-  sources: Map<string, SourceDraft>;
+  sources: SourceDrafts;
   disagreements: CallDisagreement[];
   missing: string[];
   /** The pen of each rope without a result (sample ID -> pen id as the layout writes it). */
@@ -53,7 +54,7 @@ export interface BarnDraft {
 }
 
 export function emptyRoundDraft(poolPens: Map<string, string[]>): RoundDraft {
-  return { assays: new Set(), measures: {}, cutoffs: new Map(), disagreements: [], replaced: [], poolPens };
+  return { assays: new Set(), measures: {}, cutoffs: [], disagreements: [], replaced: [], poolPens };
 }
 
 /** Reads the barn's ropes of the round (those placed in a pen of its layout) and their results. */
@@ -125,7 +126,7 @@ function readResult(
   const firstReading = !fromPool || !draft.poolResultsSeen.has(result.id);
   if (fromPool) draft.poolResultsSeen.add(result.id);
   if (firstReading) {
-    addSource(draft.sources, resultEntry(result));
+    addResultSource(draft.sources, result);
     countCutoff(round.cutoffs, result);
     if (result.callDiffers && result.labCall !== null)
       draft.disagreements.push(disagreementOf(barnId, penRound.penId, result, result.labCall, measure));

@@ -8,13 +8,14 @@ const earliest = (a: string | null, b: string | null | undefined): string | null
 const latest = (a: string | null, b: string | null | undefined): string | null =>
   b === null || b === undefined ? a : a === null || b > a ? b : a;
 
-const sourceKey = (labId: string, reportedOn: string | null) => `${labId}\u0000${reportedOn ?? ''}`;
-
-/** A source being gathered: sets, so that a report with many case numbers stays linear. */
+/**
+ * A source being gathered. Case numbers are listed as they come (one per result, most of them
+ * distinct) and sorted and made unique once, at the end (`sortedSources`).
+ */
 export interface SourceDraft {
   labId: string;
   reportedOn: string | null;
-  accessions: Set<string>;
+  accessions: string[];
   assays: Set<string>;
   results: number;
   collectedFrom: string | null;
@@ -22,9 +23,50 @@ export interface SourceDraft {
   barnIds: string[];
 }
 
-/** Adds one result (or a barn's gathered source) to the sources, keyed by lab and report date. */
+/**
+ * Sources by lab, then report date ('' for none): looked up by the texts themselves, with no key
+ * made per result.
+ */
+export type SourceDrafts = Map<string, Map<string, SourceDraft>>;
+
+/** The source of lab `labId`'s report of `reportedOn`, opened when new. */
+function sourceOf(sources: SourceDrafts, labId: string, reportedOn: string | null): SourceDraft {
+  let ofLab = sources.get(labId);
+  if (!ofLab) {
+    ofLab = new Map();
+    sources.set(labId, ofLab);
+  }
+  let source = ofLab.get(reportedOn ?? '');
+  if (!source) {
+    source = {
+      labId,
+      reportedOn,
+      accessions: [],
+      assays: new Set(),
+      results: 0,
+      collectedFrom: null,
+      collectedTo: null,
+      barnIds: [],
+    };
+    ofLab.set(reportedOn ?? '', source);
+  }
+  return source;
+}
+
+/** Adds one result to the sources: its lab report's count, case number, assay and collection day. */
+export function addResultSource(sources: SourceDrafts, result: ResultInput): void {
+  const source = sourceOf(sources, result.labId, result.reportedOn ?? null);
+  if (result.accession !== null && result.accession !== undefined) source.accessions.push(result.accession);
+  source.assays.add(result.assayId);
+  source.results += 1;
+  const collectedOn = result.collectedOn ?? null;
+  source.collectedFrom = earliest(source.collectedFrom, collectedOn);
+  source.collectedTo = latest(source.collectedTo, collectedOn);
+}
+
+/** Adds a barn's gathered source to the sources, keyed by lab and report date. */
 export function addSource(
-  sources: Map<string, SourceDraft>,
+  sources: SourceDrafts,
   entry: {
     labId: string;
     reportedOn: string | null;
@@ -36,22 +78,8 @@ export function addSource(
   },
   barnId?: string,
 ): void {
-  const key = sourceKey(entry.labId, entry.reportedOn);
-  let source = sources.get(key);
-  if (!source) {
-    source = {
-      labId: entry.labId,
-      reportedOn: entry.reportedOn,
-      accessions: new Set(),
-      assays: new Set(),
-      results: 0,
-      collectedFrom: null,
-      collectedTo: null,
-      barnIds: [],
-    };
-    sources.set(key, source);
-  }
-  for (const accession of entry.accessions) source.accessions.add(accession);
+  const source = sourceOf(sources, entry.labId, entry.reportedOn);
+  for (const accession of entry.accessions) source.accessions.push(accession);
   for (const assay of entry.assays) source.assays.add(assay);
   source.results += entry.results;
   source.collectedFrom = earliest(source.collectedFrom, entry.collectedFrom);
@@ -59,26 +87,22 @@ export function addSource(
   if (barnId !== undefined && !source.barnIds.includes(barnId)) source.barnIds.push(barnId);
 }
 
-/** One result as a source entry. */
-export function resultEntry(result: ResultInput) {
-  const collectedOn = result.collectedOn ?? null;
-  return {
-    labId: result.labId,
-    reportedOn: result.reportedOn ?? null,
-    accessions: result.accession === null || result.accession === undefined ? [] : [result.accession],
-    assays: [result.assayId],
-    results: 1,
-    collectedFrom: collectedOn,
-    collectedTo: collectedOn,
-  };
+/**
+ * The texts in code-unit order (as `compareText` orders them: the default sort of an array of
+ * strings, without a comparator called per comparison), each once.
+ */
+function uniqueSorted(texts: readonly string[]): string[] {
+  const sorted = [...texts].sort();
+  return sorted.filter((text, index) => index === 0 || text !== sorted[index - 1]);
 }
 
 /** The gathered sources in lab and report-date order, case numbers and assays sorted. */
-export function sortedSources(sources: Map<string, SourceDraft>): (ResultSource & { barnIds: string[] })[] {
+export function sortedSources(sources: SourceDrafts): (ResultSource & { barnIds: string[] })[] {
   return [...sources.values()]
+    .flatMap((ofLab) => [...ofLab.values()])
     .map((source) => ({
       ...source,
-      accessions: [...source.accessions].sort(compareText),
+      accessions: uniqueSorted(source.accessions),
       assays: [...source.assays].sort(compareText),
     }))
     .sort((a, b) => compareText(a.labId, b.labId) || compareText(a.reportedOn ?? '', b.reportedOn ?? ''));

@@ -11,7 +11,7 @@ import type { BarnDraft, RoundDraft, SiteIndex } from './barnReadings.js';
 import { missingPensOf, mistypedRopes, plannedMissingRopes } from './missingRopes.js';
 import { compareText, layoutOrder } from './penOrder.js';
 import { sortedCutoffs } from './roundCutoffs.js';
-import { addSource, sortedSources, type SourceDraft } from './resultSources.js';
+import { addSource, sortedSources, type SourceDrafts } from './resultSources.js';
 import type { BarnRound, PlannedInput, RopeInput, SiteRound } from './roundTypes.js';
 
 /** The barn's round from its read ropes; its disagreements and replaced reports join the round's, in pen order. */
@@ -109,7 +109,7 @@ export function assembleSiteRound(
   }
   const assayList = [...draft.assays].sort();
   for (const barn of barns) for (const assay of assayList) barn.byAssay[assay] ??= emptyTally();
-  const sources = new Map<string, SourceDraft>();
+  const sources: SourceDrafts = new Map();
   for (const barn of barns) for (const source of barn.sources) addSource(sources, source, barn.barnId);
   return {
     siteId: site.id,

@@ -33,28 +33,39 @@ function roundCutoffOf(result: ResultInput): Omit<RoundCutoff, 'results'> | unde
   };
 }
 
-/** Counts one result under the cutoffs it was read with (keyed by lab, assay, measure and every cutoff). */
-export function countCutoff(cutoffs: Map<string, RoundCutoff>, result: ResultInput): void {
+/** A missing cutoff reads as none. */
+const same = (a: number | null | undefined, b: number | null | undefined) => (a ?? null) === (b ?? null);
+
+/** Whether `counted` was read with the same lab, assay, measure and every cutoff (written out: this runs per result). */
+function sameCutoff(counted: RoundCutoff, readWith: Omit<RoundCutoff, 'results'>): boolean {
+  return (
+    counted.labId === readWith.labId &&
+    counted.assayId === readWith.assayId &&
+    counted.measure === readWith.measure &&
+    same(counted.positiveBelow, readWith.positiveBelow) &&
+    same(counted.suspectBelow, readWith.suspectBelow) &&
+    same(counted.cycleLimit, readWith.cycleLimit) &&
+    same(counted.positiveAtOrAbove, readWith.positiveAtOrAbove) &&
+    same(counted.suspectAtOrAbove, readWith.suspectAtOrAbove)
+  );
+}
+
+/**
+ * Counts one result under the cutoffs it was read with (the same lab, assay, measure and every
+ * cutoff), in the order first seen. A round's results share a few cutoffs: they are compared
+ * field by field, never made into a key per result.
+ */
+export function countCutoff(cutoffs: RoundCutoff[], result: ResultInput): void {
   const readWith = roundCutoffOf(result);
   if (readWith === undefined) return;
-  const key = [
-    readWith.labId,
-    readWith.assayId,
-    readWith.measure,
-    readWith.positiveBelow,
-    readWith.suspectBelow,
-    readWith.cycleLimit,
-    readWith.positiveAtOrAbove,
-    readWith.suspectAtOrAbove,
-  ].join('\u0000');
-  const cutoff = cutoffs.get(key);
+  const cutoff = cutoffs.find((candidate) => sameCutoff(candidate, readWith));
   if (cutoff) cutoff.results++;
-  else cutoffs.set(key, { ...readWith, results: 1 });
+  else cutoffs.push({ ...readWith, results: 1 });
 }
 
 /** The counted cutoffs by lab, assay, then the cutoffs themselves. */
-export function sortedCutoffs(cutoffs: Map<string, RoundCutoff>): RoundCutoff[] {
-  return [...cutoffs.values()].sort(
+export function sortedCutoffs(cutoffs: readonly RoundCutoff[]): RoundCutoff[] {
+  return [...cutoffs].sort(
     (a, b) =>
       compareText(a.labId, b.labId) ||
       compareText(a.assayId, b.assayId) ||

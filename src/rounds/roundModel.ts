@@ -74,8 +74,9 @@ export function buildSiteRounds(
   return rounds.map((round, roundIndex) => {
     const plannedHere = plannedRounds.get(String(roundIndex)) ?? [];
     const draft = emptyRoundDraft(poolPensOf(round.ropes));
+    const ropesByBarn = groupBy(round.ropes, (rope) => rope.barnId);
     const barns = site.barns.map((barn) => {
-      const barnRopes = round.ropes.filter((rope) => rope.barnId === barn.id);
+      const barnRopes = ropesByBarn.get(barn.id) ?? [];
       const barnDraft = readBarnRopes(barn, barnRopes, index, draft);
       return assembleBarnRound(barn, barnRopes, barnDraft, round.startOn, plannedHere, index, draft);
     });

@@ -37,12 +37,12 @@ export function formRounds<R extends DatedRope>(siteId: string, ropes: readonly 
   );
   const rounds: Round<R>[] = [];
   let current: Round<R> | undefined;
-  let currentStart: Date | undefined;
   for (const rope of sorted) {
     if (rope.siteId !== siteId)
       throw new RangeError(`rope ${rope.sampleId} belongs to site ${rope.siteId}, not ${siteId}`);
-    const date = parseISO(rope.hungOn);
-    if (!current || !currentStart || differenceInCalendarDays(date, currentStart) >= windowDays) {
+    // A rope of the day before (sorted by day) joins its round: only a new day can open one.
+    const sameDay = current !== undefined && rope.hungOn === current.endOn;
+    if (!current || (!sameDay && daysBetween(current.startOn, rope.hungOn) >= windowDays)) {
       const number = rounds.length + 1;
       current = {
         siteId,
@@ -52,7 +52,6 @@ export function formRounds<R extends DatedRope>(siteId: string, ropes: readonly 
         endOn: rope.hungOn,
         ropes: [],
       };
-      currentStart = date;
       rounds.push(current);
     }
     current.ropes.push(rope);
@@ -61,9 +60,44 @@ export function formRounds<R extends DatedRope>(siteId: string, ropes: readonly 
   return rounds;
 }
 
-/** Whole days between two ISO dates (b - a). */
+const ISO_DAY = /^(\d{4})-(\d{2})-(\d{2})$/;
+const DAY_MS = 86_400_000;
+
+/**
+ * The day number (days since 1970-01-01) of a yyyy-MM-dd date of the years 1000 to 9999 that
+ * exists in the calendar, else undefined. Date.UTC counts civil days whatever the time zone,
+ * which is what date-fns' differenceInCalendarDays and addDays count for dates parsed at local
+ * midnight; it reads no text beyond the three numbers, so a site's history is not parsed rope
+ * by rope.
+ */
+function civilDay(iso: string): number | undefined {
+  const parts = ISO_DAY.exec(iso);
+  if (parts === null) return undefined;
+  const year = Number(parts[1]);
+  const month = Number(parts[2]);
+  const day = Number(parts[3]);
+  if (year < 1000 || month < 1 || month > 12 || day < 1) return undefined;
+  const time = Date.UTC(year, month - 1, day);
+  // Day 31 of a 30-day month (or 29 February of a common year) rolls over into the next month.
+  return new Date(time).getUTCDate() === day ? time / DAY_MS : undefined;
+}
+
+/** Whole days between two ISO dates (b - a); NaN when either is not a date. */
 export function daysBetween(a: string, b: string): number {
+  const from = civilDay(a);
+  const to = civilDay(b);
+  if (from !== undefined && to !== undefined) return to - from;
   return differenceInCalendarDays(parseISO(b), parseISO(a));
+}
+
+/** The ISO date `days` days after `iso` (throws a RangeError when `iso` is not a date). */
+export function addDaysIso(iso: string, days: number): string {
+  const from = civilDay(iso);
+  if (from !== undefined && Number.isInteger(days)) {
+    const shifted = new Date((from + days) * DAY_MS).toISOString();
+    if (/^\d{4}-/.test(shifted)) return shifted.slice(0, 10);
+  }
+  return format(addDays(parseISO(iso), days), 'yyyy-MM-dd');
 }
 
 /**
@@ -78,7 +112,7 @@ export type RoundState = 'awaiting-results' | 'partial' | 'complete';
 export function resultsDueOn(endOn: string, graceDays: number): string {
   if (!Number.isInteger(graceDays) || graceDays < 0)
     throw new RangeError(`\`graceDays\` must be a non-negative integer, got ${graceDays}`);
-  return format(addDays(parseISO(endOn), graceDays), 'yyyy-MM-dd');
+  return addDaysIso(endOn, graceDays);
 }
 
 /**

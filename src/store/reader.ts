@@ -20,6 +20,75 @@ import type { RowRejection } from '../domain/rejections.js';
 import type { OpenRefusal, SiteInputs, StoreCounts, StoredFileCounts, StoreReader } from '../domain/store.js';
 import type { ResultClass } from '../interpret/classify.js';
 
+/** A row of `ropes` (hung ropes) as the columns come. */
+type RopeCells = [string, string, string, string, string, StoredRope['source'], string | null];
+
+function ropeOfCells(cells: RopeCells): StoredRope {
+  return {
+    sampleId: cells[0],
+    siteId: cells[1],
+    barnId: cells[2],
+    penId: cells[3],
+    hungOn: cells[4],
+    source: cells[5],
+    poolId: cells[6],
+  };
+}
+
+/** A row of `currentResults` as the columns come (the reason as its id; call_differs is 0 or 1). */
+type ResultCells = [
+  number,
+  number,
+  string,
+  string,
+  string,
+  StoredResult['measure'],
+  number | null,
+  number | null,
+  string,
+  string | null,
+  string | null,
+  string | null,
+  string | null,
+  ResultClass,
+  number,
+  string | null,
+  number | null,
+  number | null,
+  number | null,
+  number | null,
+  number | null,
+  number,
+];
+
+/** The stored result in the column order (the order the analysis and its tests have always seen). */
+function resultOfCells(cells: ResultCells, reasonText: (id: number) => string): StoredResult {
+  return {
+    id: cells[0],
+    fileId: cells[1],
+    labId: cells[2],
+    sampleId: cells[3],
+    assayId: cells[4],
+    measure: cells[5],
+    ct: cells[6],
+    sp: cells[7],
+    ctRaw: cells[8],
+    labCall: cells[9],
+    accession: cells[10],
+    collectedOn: cells[11],
+    reportedOn: cells[12],
+    resultClass: cells[13],
+    reason: reasonText(cells[14]),
+    loadBand: cells[15],
+    positiveBelow: cells[16],
+    suspectBelow: cells[17],
+    cycleLimit: cells[18],
+    positiveAtOrAbove: cells[19],
+    suspectAtOrAbove: cells[20],
+    callDiffers: Boolean(cells[21]),
+  };
+}
+
 export class SqliteReader implements StoreReader {
   /** @param fileOpen whether the connection is inside a file's transaction (then reads see it). */
   constructor(
@@ -101,12 +170,17 @@ export class SqliteReader implements StoreReader {
   /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
   ropes(siteId?: string): StoredRope[] {
     const where = siteId === undefined ? '' : 'WHERE h.site_id = @siteId';
-    const hung = this.db
-      .prepare(
-        `SELECT s.sample_id AS sampleId, h.site_id AS siteId, h.barn_id AS barnId, h.pen_id AS penId, h.hung_on AS hungOn, h.source, ps.sample_id AS poolId
-         FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
-      )
-      .all({ siteId }) as StoredRope[];
+    // Rows come as arrays and become objects of one shape here: better-sqlite3's row objects are
+    // several times slower to build and to copy on a site's whole history.
+    const hung = (
+      this.db
+        .prepare(
+          `SELECT s.sample_id, h.site_id, h.barn_id, h.pen_id, h.hung_on, h.source, ps.sample_id
+           FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
+        )
+        .raw(true)
+        .all({ siteId }) as RopeCells[]
+    ).map(ropeOfCells);
     // A planned rope counts as hung once a result for it (or for the pool the plan put it in,
     // unless a rope sheet names that pool) arrives: on its collection date, else its due date.
     const planned = this.db
@@ -134,19 +208,40 @@ export class SqliteReader implements StoreReader {
         : `AND r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId
              UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL
              UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = @siteId)`;
-    return this.db
-      .prepare(
-        `SELECT r.id, r.file_id AS fileId, r.lab_id AS labId, s.sample_id AS sampleId, r.assay_id AS assayId, r.measure, r.ct, r.sp, r.ct_raw AS ctRaw, r.lab_call AS labCall,
-                r.accession, r.collected_on AS collectedOn, r.reported_on AS reportedOn, r.class AS resultClass, x.text AS reason, r.load_band AS loadBand,
-                CASE WHEN r.measure = 'ct' THEN r.positive_below END AS positiveBelow, CASE WHEN r.measure = 'ct' THEN r.suspect_below END AS suspectBelow,
-                CASE WHEN r.measure = 'ct' THEN r.cycle_limit END AS cycleLimit, r.positive_at_or_above AS positiveAtOrAbove, r.suspect_at_or_above AS suspectAtOrAbove,
-                r.call_differs AS callDiffers
-         FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
-         WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
-         ORDER BY r.id`,
-      )
-      .all(siteId === undefined ? {} : { siteId })
-      .map((row) => ({ ...(row as StoredResult), callDiffers: Boolean((row as { callDiffers: number }).callDiffers) }));
+    // The hottest read of a rebuild (every result of the site's history): rows as arrays, made
+    // into objects of one shape by `resultOfCells` (see `ropes`); a reason's text is read once per
+    // reason, not once per row.
+    const reasonText = this.reasonTexts();
+    return (
+      this.db
+        .prepare(
+          `SELECT r.id, r.file_id, r.lab_id, s.sample_id, r.assay_id, r.measure, r.ct, r.sp, r.ct_raw, r.lab_call,
+                  r.accession, r.collected_on, r.reported_on, r.class, r.reason, r.load_band,
+                  CASE WHEN r.measure = 'ct' THEN r.positive_below END, CASE WHEN r.measure = 'ct' THEN r.suspect_below END,
+                  CASE WHEN r.measure = 'ct' THEN r.cycle_limit END, r.positive_at_or_above, r.suspect_at_or_above,
+                  r.call_differs
+           FROM results r JOIN samples s ON s.id = r.sample
+           WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
+           ORDER BY r.id`,
+        )
+        .raw(true)
+        .all(siteId === undefined ? {} : { siteId }) as ResultCells[]
+    ).map((cells) => resultOfCells(cells, reasonText));
+  }
+
+  /** Looks up reason texts by id, each once (reasons are only ever added, never changed). */
+  private reasonTexts(): (id: number) => string {
+    const byId = new Map<number, string>();
+    const select = this.db.prepare('SELECT text FROM reasons WHERE id = ?').pluck();
+    return (id) => {
+      let text = byId.get(id);
+      if (text === undefined) {
+        text = select.get(id) as string | undefined;
+        if (text === undefined) throw new Error(`reason ${id} is not in the store`);
+        byId.set(id, text);
+      }
+      return text;
+    };
   }
 
   supersessions(): Supersession[] {
