@@ -180,13 +180,19 @@ class Scenario {
   }
 }
 
-/** Runs `steps` random events after two plain rounds, comparing with a full rebuild after each. */
-async function runSequence(seed: number, steps: number): Promise<{ compared: number; leftAlone: number }> {
+/** A demo workspace with fewer permutations whose clock reads `clock.today`, at noon. */
+function clockedWorkspace(today: string) {
   const made = workspace();
   fs.appendFileSync(path.join(made.paths.configDir, 'sites.yaml'), FAST_ANALYSIS);
-  const clock = { today: '2026-09-01' };
+  const clock = { today };
   const now = () => new Date(`${clock.today}T12:00:00Z`);
   const ws = openWorkspace(made.paths, now, () => {});
+  return { made, clock, now, ws };
+}
+
+/** Runs `steps` random events after two plain rounds, comparing with a full rebuild after each. */
+async function runSequence(seed: number, steps: number): Promise<{ compared: number; leftAlone: number }> {
+  const { made, clock, now, ws } = clockedWorkspace('2026-09-01');
   const fullOutbox = path.join(path.dirname(made.paths.outbox), 'outbox-full');
   const full = openWorkspace({ ...made.paths, outbox: fullOutbox }, now, () => {});
   const scenario = new Scenario(seededRng(seed), ws, made.paths.inbox, clock);
@@ -257,14 +263,7 @@ describe('incremental outputs', () => {
   });
 
   it('rewrites the later rounds of a pen whose earlier result the lab corrects', async () => {
-    const made = workspace();
-    fs.appendFileSync(path.join(made.paths.configDir, 'sites.yaml'), FAST_ANALYSIS);
-    const clock = { today: '2026-09-01' };
-    const ws = openWorkspace(
-      made.paths,
-      () => new Date(`${clock.today}T12:00:00Z`),
-      () => {},
-    );
+    const { made, clock, ws } = clockedWorkspace('2026-09-01');
     const site = ws.config.siteById.get('HOLLOW-CREEK')!;
     const drop = async (name: string, bytes: Buffer) => {
       fs.writeFileSync(path.join(made.paths.inbox, name), bytes);
@@ -307,14 +306,7 @@ describe('incremental outputs', () => {
   });
 
   it('rewrites every round when the list of built rounds is gone, and the same bytes come back', async () => {
-    const made = workspace();
-    fs.appendFileSync(path.join(made.paths.configDir, 'sites.yaml'), FAST_ANALYSIS);
-    const clock = { today: '2026-09-01' };
-    const ws = openWorkspace(
-      made.paths,
-      () => new Date(`${clock.today}T12:00:00Z`),
-      () => {},
-    );
+    const { made, clock, ws } = clockedWorkspace('2026-09-01');
     try {
       const scenario = new Scenario(seededRng(5), ws, made.paths.inbox, clock);
       await scenario.newRoundSheet();
