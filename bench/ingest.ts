@@ -61,7 +61,7 @@ export function writeBigExport(
     let block: string[] = [NORTHFIELD_HEADER.join(',')];
     let written = 0;
     const flush = () => {
-      fs.writeSync(fd, block.join('\n') + '\n');
+      fs.writeSync(fd, `${block.join('\n')}\n`);
       block = [];
     };
     for (let round = firstRound; round < firstRound + rounds && written < rows; round++) {
@@ -188,7 +188,7 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
   ws.close();
   if (receipt.status !== 'accepted') throw new Error(`bench export refused: ${JSON.stringify(receipt.reason)}`);
   const report: ChildReport = { mode, rows, stored, ms, cpuMs, siteRounds, peakRssMb: peakRssMb() };
-  process.stdout.write(JSON.stringify(report) + '\n');
+  process.stdout.write(`${JSON.stringify(report)}\n`);
 }
 
 function spawnChild(mode: ChildMode, file: string, dir: string, rows: number): ChildReport {
@@ -378,5 +378,5 @@ const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWit
 if (invokedDirectly) {
   const [flag, mode, file, dir, rows] = process.argv.slice(2);
   if (flag === '--child') await runChild(mode as ChildMode, file!, dir!, Number(rows));
-  else process.stdout.write(JSON.stringify(await benchIngest(), null, 2) + '\n');
+  else process.stdout.write(`${JSON.stringify(await benchIngest(), null, 2)}\n`);
 }
