@@ -56,19 +56,60 @@ export interface WireBatch {
   rejections: RowRejection[];
 }
 
-function textOf(row: ResultRow, column: TextColumn): string | null {
-  switch (column) {
-    case 'ropeSiteId':
-      return row.encodedRope?.siteId ?? null;
-    case 'ropeBarnId':
-      return row.encodedRope?.barnId ?? null;
-    case 'ropePenId':
-      return row.encodedRope?.penId ?? null;
-    case 'ropeHungOn':
-      return row.encodedRope?.hungOn ?? null;
-    default:
-      return row[column];
+/** Each text column's value in a row: one plain function per column, so every property read stays monomorphic. */
+const TEXT_OF: Readonly<Record<TextColumn, (row: ResultRow) => string | null>> = {
+  labId: (row) => row.labId,
+  sampleId: (row) => row.sampleId,
+  assayId: (row) => row.assayId,
+  labAssay: (row) => row.labAssay,
+  measure: (row) => row.measure,
+  ctRaw: (row) => row.ctRaw,
+  labCall: (row) => row.labCall,
+  accession: (row) => row.accession,
+  collectedOn: (row) => row.collectedOn,
+  reportedOn: (row) => row.reportedOn,
+  reportStatus: (row) => row.reportStatus,
+  control: (row) => row.control,
+  resultClass: (row) => row.resultClass,
+  reason: (row) => row.reason,
+  loadBand: (row) => row.loadBand,
+  statusKind: (row) => row.statusKind,
+  statusWord: (row) => row.statusWord,
+  labCallClass: (row) => row.labCallClass,
+  sampleIdAsWritten: (row) => row.sampleIdAsWritten,
+  ropeSiteId: (row) => row.encodedRope?.siteId ?? null,
+  ropeBarnId: (row) => row.encodedRope?.barnId ?? null,
+  ropePenId: (row) => row.encodedRope?.penId ?? null,
+  ropeHungOn: (row) => row.encodedRope?.hungOn ?? null,
+};
+
+/**
+ * One column as a dictionary and an index. Neighbouring rows mostly repeat a value (a sample's
+ * assays, a round's dates), so the previous row's value is compared before the dictionary is asked.
+ */
+function encodeColumn(rows: readonly ResultRow[], textOf: (row: ResultRow) => string | null): WireText {
+  const count = rows.length;
+  const positions = new Map<string | null, number>();
+  const values: (string | null)[] = [];
+  const index = new Uint32Array(count);
+  // undefined until the first row: a value is a string or null, so the first row always looks up.
+  let previous: string | null | undefined;
+  let previousPosition = 0;
+  for (let i = 0; i < count; i++) {
+    const value = textOf(rows[i]!);
+    if (value !== previous) {
+      let position = positions.get(value);
+      if (position === undefined) {
+        position = values.length;
+        values.push(value);
+        positions.set(value, position);
+      }
+      previous = value;
+      previousPosition = position;
+    }
+    index[i] = previousPosition;
   }
+  return { values, index };
 }
 
 export function encodeBatch(batch: MappedBatch<ResultRow[]>): WireBatch {
@@ -90,22 +131,7 @@ export function encodeBatch(batch: MappedBatch<ResultRow[]>): WireBatch {
     numbers[at + 9] = row.suspectAtOrAbove ?? Number.NaN;
   }
   const texts = {} as Record<TextColumn, WireText>;
-  for (const column of TEXT_COLUMNS) {
-    const positions = new Map<string | null, number>();
-    const values: (string | null)[] = [];
-    const index = new Uint32Array(count);
-    for (let i = 0; i < count; i++) {
-      const value = textOf(rows[i]!, column);
-      let position = positions.get(value);
-      if (position === undefined) {
-        position = values.length;
-        values.push(value);
-        positions.set(value, position);
-      }
-      index[i] = position;
-    }
-    texts[column] = { values, index };
-  }
+  for (const column of TEXT_COLUMNS) texts[column] = encodeColumn(rows, TEXT_OF[column]);
   return { count, numbers, texts, ropes: batch.ropes, rejections: batch.rejections };
 }
 
@@ -124,56 +150,107 @@ export function transferables(wire: WireBatch): ArrayBuffer[] {
  */
 export class WireRows implements RowList<ResultRow> {
   readonly length: number;
+  private readonly numbers: Float64Array;
+  // Each column's dictionary and index held in a field of its own: a row is read without a
+  // keyed look-up per field.
+  private readonly labId: WireText;
+  private readonly sampleId: WireText;
+  private readonly assayId: WireText;
+  private readonly labAssay: WireText;
+  private readonly measure: WireText;
+  private readonly ctRaw: WireText;
+  private readonly labCall: WireText;
+  private readonly accession: WireText;
+  private readonly collectedOn: WireText;
+  private readonly reportedOn: WireText;
+  private readonly reportStatus: WireText;
+  private readonly control: WireText;
+  private readonly resultClass: WireText;
+  private readonly reason: WireText;
+  private readonly loadBand: WireText;
+  private readonly statusKind: WireText;
+  private readonly statusWord: WireText;
+  private readonly labCallClass: WireText;
+  private readonly sampleIdAsWritten: WireText;
+  private readonly ropeSiteId: WireText;
+  private readonly ropeBarnId: WireText;
+  private readonly ropePenId: WireText;
+  private readonly ropeHungOn: WireText;
 
-  constructor(private readonly wire: WireBatch) {
+  constructor(wire: WireBatch) {
     this.length = wire.count;
+    this.numbers = wire.numbers;
+    const { texts } = wire;
+    this.labId = texts.labId;
+    this.sampleId = texts.sampleId;
+    this.assayId = texts.assayId;
+    this.labAssay = texts.labAssay;
+    this.measure = texts.measure;
+    this.ctRaw = texts.ctRaw;
+    this.labCall = texts.labCall;
+    this.accession = texts.accession;
+    this.collectedOn = texts.collectedOn;
+    this.reportedOn = texts.reportedOn;
+    this.reportStatus = texts.reportStatus;
+    this.control = texts.control;
+    this.resultClass = texts.resultClass;
+    this.reason = texts.reason;
+    this.loadBand = texts.loadBand;
+    this.statusKind = texts.statusKind;
+    this.statusWord = texts.statusWord;
+    this.labCallClass = texts.labCallClass;
+    this.sampleIdAsWritten = texts.sampleIdAsWritten;
+    this.ropeSiteId = texts.ropeSiteId;
+    this.ropeBarnId = texts.ropeBarnId;
+    this.ropePenId = texts.ropePenId;
+    this.ropeHungOn = texts.ropeHungOn;
   }
 
   at(i: number): ResultRow {
-    const { numbers, texts } = this.wire;
+    const numbers = this.numbers;
     const at = i * NUMBERS_PER_ROW;
     const ct = numbers[at + 1]!;
     const flags = numbers[at + 6]!;
-    const ropeSiteId = textAt(texts, 'ropeSiteId', i);
+    const ropeSiteId = textAt(this.ropeSiteId, i);
     return {
       line: numbers[at]!,
-      labId: textAt(texts, 'labId', i)!,
-      sampleId: textAt(texts, 'sampleId', i)!,
-      assayId: textAt(texts, 'assayId', i)!,
-      labAssay: textAt(texts, 'labAssay', i)!,
-      measure: textAt(texts, 'measure', i) as Measure,
+      labId: textAt(this.labId, i)!,
+      sampleId: textAt(this.sampleId, i)!,
+      assayId: textAt(this.assayId, i)!,
+      labAssay: textAt(this.labAssay, i)!,
+      measure: textAt(this.measure, i) as Measure,
       ct: Number.isNaN(ct) ? null : ct,
       sp: orNull(numbers[at + 7]!),
-      ctRaw: textAt(texts, 'ctRaw', i)!,
-      labCall: textAt(texts, 'labCall', i),
-      accession: textAt(texts, 'accession', i),
-      collectedOn: textAt(texts, 'collectedOn', i),
-      reportedOn: textAt(texts, 'reportedOn', i),
-      reportStatus: textAt(texts, 'reportStatus', i),
-      control: textAt(texts, 'control', i),
-      resultClass: textAt(texts, 'resultClass', i) as ResultClass,
-      reason: textAt(texts, 'reason', i)!,
-      loadBand: textAt(texts, 'loadBand', i),
+      ctRaw: textAt(this.ctRaw, i)!,
+      labCall: textAt(this.labCall, i),
+      accession: textAt(this.accession, i),
+      collectedOn: textAt(this.collectedOn, i),
+      reportedOn: textAt(this.reportedOn, i),
+      reportStatus: textAt(this.reportStatus, i),
+      control: textAt(this.control, i),
+      resultClass: textAt(this.resultClass, i) as ResultClass,
+      reason: textAt(this.reason, i)!,
+      loadBand: textAt(this.loadBand, i),
       positiveBelow: orNull(numbers[at + 2]!),
       suspectBelow: orNull(numbers[at + 3]!),
       cycleLimit: orNull(numbers[at + 4]!),
       positiveAtOrAbove: orNull(numbers[at + 8]!),
       suspectAtOrAbove: orNull(numbers[at + 9]!),
       markedReissue: (flags & FLAG_REISSUE) !== 0,
-      statusKind: textAt(texts, 'statusKind', i) as ReportStatusKind | null,
-      statusWord: textAt(texts, 'statusWord', i),
-      labCallClass: textAt(texts, 'labCallClass', i) as CallClass | null,
+      statusKind: textAt(this.statusKind, i) as ReportStatusKind | null,
+      statusWord: textAt(this.statusWord, i),
+      labCallClass: textAt(this.labCallClass, i) as CallClass | null,
       callDiffers: (flags & FLAG_CALL_DIFFERS) !== 0,
-      sampleIdAsWritten: textAt(texts, 'sampleIdAsWritten', i),
+      sampleIdAsWritten: textAt(this.sampleIdAsWritten, i),
       contentKey: numbers[at + 5]!,
       encodedRope:
         ropeSiteId === null
           ? undefined
           : {
               siteId: ropeSiteId,
-              barnId: textAt(texts, 'ropeBarnId', i)!,
-              penId: textAt(texts, 'ropePenId', i)!,
-              hungOn: textAt(texts, 'ropeHungOn', i)!,
+              barnId: textAt(this.ropeBarnId, i)!,
+              penId: textAt(this.ropePenId, i)!,
+              hungOn: textAt(this.ropeHungOn, i)!,
             },
     };
   }
@@ -184,8 +261,7 @@ function orNull(value: number): number | null {
   return Number.isNaN(value) ? null : value;
 }
 
-function textAt(texts: Record<TextColumn, WireText>, column: TextColumn, i: number): string | null {
-  const text = texts[column];
+function textAt(text: WireText, i: number): string | null {
   return text.values[text.index[i]!]!;
 }
 

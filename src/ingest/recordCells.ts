@@ -35,18 +35,25 @@ const ISO_DATE = 'yyyy-MM-dd';
 const REFERENCE_DATE = new Date(2000, 0, 1);
 
 const ISO_DAY = /^(\d{4})-(\d{2})-(\d{2})$/;
-/** Parsed date cells by format and text: exports repeat a handful of dates over thousands of rows. */
-const dateCache = new Map<string, string | null>();
+/**
+ * Parsed date cells by format, then text: exports repeat a handful of dates over thousands of
+ * rows. Two levels, so a look-up builds no key string per cell.
+ */
+const dateCache = new Map<string, Map<string, string | null>>();
 const DATE_CACHE_LIMIT = 10_000;
 
 /** Parses a date cell with the profile's format, accepting ISO dates too. Returns yyyy-MM-dd or undefined. */
 export function parseDateCell(text: string, dateFormat: string): string | undefined {
-  const key = `${dateFormat}\u001f${text}`;
-  const cached = dateCache.get(key);
+  let byText = dateCache.get(dateFormat);
+  if (byText === undefined) {
+    byText = new Map();
+    dateCache.set(dateFormat, byText);
+  }
+  const cached = byText.get(text);
   if (cached !== undefined) return cached ?? undefined;
   const parsed = parseDateUncached(text, dateFormat);
-  if (dateCache.size >= DATE_CACHE_LIMIT) dateCache.clear();
-  dateCache.set(key, parsed ?? null);
+  if (byText.size >= DATE_CACHE_LIMIT) byText.clear();
+  byText.set(text, parsed ?? null);
   return parsed;
 }
 

@@ -18,14 +18,17 @@ import type { RowRejection } from '../domain/rejections.js';
 import { rowRejection } from './errors.js';
 import type { EncodedRopeStep, PoolFacts, RopeConflict, RopeConflictFacts, SampleRopeState } from '../domain/store.js';
 
+/** Store the row: the answer for nearly every row, one object for all of them. */
+const STORE: EncodedRopeStep = Object.freeze({ kind: 'store' });
+
 /**
  * The step for a result row whose sample ID encodes `location`. A sample's other assays carry
  * the same location: it is tried once per file, and its outcome repeated for them.
  */
 export function encodedRopeStep(sample: SampleRopeState, row: ResultRow, location: string): EncodedRopeStep {
-  if (sample.ropedAt === location) return { kind: 'store' };
+  if (sample.ropedAt === location) return STORE;
   if (sample.patternTriedAt === location) {
-    if (sample.patternRefusal === undefined) return { kind: 'store' };
+    if (sample.patternRefusal === undefined) return STORE;
     return { kind: 'refuse', rejection: { ...sample.patternRefusal, line: row.line } };
   }
   if (sample.ropedAt !== undefined) {

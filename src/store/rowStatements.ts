@@ -3,6 +3,7 @@
  * parameters where a row binds many values: binding them by name costs more than the insert).
  */
 import type Database from 'better-sqlite3';
+import type { ResultRow } from '../domain/records.js';
 
 /**
  * Prepares the statements a file's rows are stored with; creates the connection's temporary
@@ -75,3 +76,53 @@ export function prepareRowStatements(db: Database.Database) {
 }
 
 export type RowStatements = ReturnType<typeof prepareRowStatements>;
+
+/** The insertResult statement's values, positional, in its column order. */
+export type ResultValues = (string | number | null)[];
+
+/** An array for the insertResult statement's values, to be filled in place row after row (SQLite copies what is bound). */
+export function newResultValues(): ResultValues {
+  return new Array<string | number | null>(30).fill(null);
+}
+
+/** Writes the insertResult statement's values into `values`, in its column order; returns `values`. */
+export function fillResultValues(
+  values: ResultValues,
+  fileId: number,
+  row: ResultRow,
+  sampleKey: number,
+  reasonId: number,
+): ResultValues {
+  values[0] = fileId;
+  values[1] = row.line;
+  values[2] = sampleKey;
+  values[3] = row.labId;
+  values[4] = row.assayId;
+  values[5] = row.labAssay;
+  values[6] = row.ct;
+  values[7] = row.ctRaw;
+  values[8] = row.labCall;
+  values[9] = row.accession;
+  values[10] = row.collectedOn;
+  values[11] = row.reportedOn;
+  values[12] = row.reportStatus;
+  values[13] = row.control;
+  values[14] = row.resultClass;
+  values[15] = reasonId;
+  values[16] = row.loadBand;
+  // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (migration 5).
+  values[17] = row.positiveBelow ?? 0;
+  values[18] = row.suspectBelow ?? 0;
+  values[19] = row.cycleLimit ?? 0;
+  values[20] = row.callDiffers ? 1 : 0;
+  values[21] = row.contentKey;
+  values[22] = row.statusKind;
+  values[23] = row.statusWord;
+  values[24] = row.labCallClass;
+  values[25] = row.sampleIdAsWritten;
+  values[26] = row.measure;
+  values[27] = row.sp;
+  values[28] = row.positiveAtOrAbove;
+  values[29] = row.suspectAtOrAbove;
+  return values;
+}

@@ -14,7 +14,7 @@ import {
   type RowRules,
   type SampleRopeState,
 } from '../domain/store.js';
-import type { RowStatements } from './rowStatements.js';
+import { fillResultValues, newResultValues, type RowStatements } from './rowStatements.js';
 
 /** A sample as the store holds it, with its rope if it hangs in a pen. */
 interface StoredSample {
@@ -31,7 +31,7 @@ interface SampleInFile extends SampleRopeState {
   key: number;
   /** The store held results for it before this file. */
   hadResults: boolean;
-  /** "assay|lab" of the rows this file has stored for it (a sample has a few assays). */
+  /** Assay and lab of each row this file has stored for it, in pairs (a sample has a few assays). */
   reported: string[];
   ropeSiteId: string | undefined;
   /** The file stored a result for it, and counted it for the receipt. */
@@ -58,6 +58,10 @@ export class RowWriter {
   private readonly samplesThisFile = new Map<string, SampleInFile>();
   /** Whether the last sample met was new to the store: files are mostly one or the other. */
   private lastSampleWasNew = false;
+  /** The last sample met, by its ID: a sample's assays come on neighbouring rows. */
+  private lastSample: { sampleId: string; sample: SampleInFile } | undefined;
+  /** The insertResult statement's values, filled in place row after row (SQLite copies what is bound). */
+  private readonly resultValues = newResultValues();
   /** Reason text -> id in `reasons`; forgotten on rollback (the rows it names may be gone). */
   private readonly reasonIds = new Map<string, number>();
   effects: FileEffects = { sites: new Set(), resolved: [] };
@@ -67,6 +71,7 @@ export class RowWriter {
   /** Forgets what the last file met. */
   startFile(): void {
     this.samplesThisFile.clear();
+    this.lastSample = undefined;
     this.effects = { sites: new Set(), resolved: [] };
   }
 
@@ -74,6 +79,7 @@ export class RowWriter {
   endFile(rolledBack: boolean): void {
     if (rolledBack) this.reasonIds.clear();
     this.samplesThisFile.clear();
+    this.lastSample = undefined;
   }
 
   /**
@@ -81,8 +87,15 @@ export class RowWriter {
    * new to the store has no earlier report to supersede, which spares the look-up on most rows.
    */
   private sampleInFile(sampleId: string): SampleInFile {
-    const known = this.samplesThisFile.get(sampleId);
-    if (known) return known;
+    const last = this.lastSample;
+    if (last !== undefined && last.sampleId === sampleId) return last.sample;
+    const sample = this.samplesThisFile.get(sampleId) ?? this.meetSample(sampleId);
+    this.lastSample = { sampleId, sample };
+    return sample;
+  }
+
+  /** A sample the open file has not met yet (or has forgotten): looked up or created. */
+  private meetSample(sampleId: string): SampleInFile {
     // One statement for the common case: after a new sample try inserting first, after a known
     // one look it up first (a lab export of new samples; results for ropes already on a sheet).
     let created = this.lastSampleWasNew ? this.createSample(sampleId) : undefined;
@@ -143,7 +156,7 @@ export class RowWriter {
         continue;
       noteRow(row, counts);
       const info = this.statements.insertResult.run(
-        ...resultValues(fileId, row, sample.key, this.reasonId(row.reason)),
+        fillResultValues(this.resultValues, fileId, row, sample.key, this.reasonId(row.reason)),
       );
       if (info.changes === 0) {
         counts.duplicates++;
@@ -152,10 +165,9 @@ export class RowWriter {
       counts.inserted++;
       // Only a sample with earlier results in the store, or an earlier row of this assay and
       // lab in this file, can have a report for this row to supersede.
-      const assayAndLab = `${row.assayId}|${row.labId}`;
-      if (sample.hadResults || sample.reported.includes(assayAndLab))
+      if (sample.hadResults || reportedBefore(sample.reported, row.assayId, row.labId))
         this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, rules, counts);
-      else sample.reported.push(assayAndLab);
+      else sample.reported.push(row.assayId, row.labId);
       if (!sample.counted) {
         sample.counted = true;
         if (sample.ropeSiteId !== undefined) this.effects.sites.add(sample.ropeSiteId);
@@ -341,39 +353,8 @@ function noteRow(row: ResultRow, counts: InsertCounts): void {
     counts.idCorrections.push({ line: row.line, written: row.sampleIdAsWritten, meant: row.sampleId });
 }
 
-/** The insertResult statement's values, in its column order. */
-function resultValues(fileId: number, row: ResultRow, sampleKey: number, reasonId: number) {
-  return [
-    fileId,
-    row.line,
-    sampleKey,
-    row.labId,
-    row.assayId,
-    row.labAssay,
-    row.ct,
-    row.ctRaw,
-    row.labCall,
-    row.accession,
-    row.collectedOn,
-    row.reportedOn,
-    row.reportStatus,
-    row.control,
-    row.resultClass,
-    reasonId,
-    row.loadBand,
-    // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (migration 5).
-    row.positiveBelow ?? 0,
-    row.suspectBelow ?? 0,
-    row.cycleLimit ?? 0,
-    row.callDiffers ? 1 : 0,
-    row.contentKey,
-    row.statusKind,
-    row.statusWord,
-    row.labCallClass,
-    row.sampleIdAsWritten,
-    row.measure,
-    row.sp,
-    row.positiveAtOrAbove,
-    row.suspectAtOrAbove,
-  ] as const;
+/** Whether the file stored a row of this assay and lab for the sample before (`reported` holds assay, lab pairs). */
+function reportedBefore(reported: readonly string[], assayId: string, labId: string): boolean {
+  for (let i = 0; i < reported.length; i += 2) if (reported[i] === assayId && reported[i + 1] === labId) return true;
+  return false;
 }
