@@ -2,7 +2,7 @@
  * Spatially aware detection: how likely a set of ropes is to find an infection that spreads
  * from pen to pen, by Monte Carlo on simulated outbreaks shared between rope sets.
  */
-import type { Rng } from '../util/random.js';
+import { fillUniform, type Rng } from '../util/random.js';
 import type { SpatialWeights } from './weights.js';
 
 export interface OutbreakOptions {
@@ -79,6 +79,7 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
   const escapeProbability = new Float64Array(n);
   const list = new Int32Array(n);
   const fresh = new Int32Array(n);
+  const draws = new Float64Array(n);
   const transmit = Float64Array.from(graph.weights, (w) => 1 - Math.min(1, beta * w));
   let reseeded = 0;
   for (let r = 0; r < realisations; r++) {
@@ -96,11 +97,13 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
       }
       let added = 0;
       let reachable = false;
-      for (let j = 0; j < n; j++) {
+      // One draw per susceptible pen, in pen order.
+      fillUniform(rng, draws, n - count);
+      for (let j = 0, q = 0; j < n; j++) {
         if (state[j]) continue;
         const e = escapeProbability[j]!;
         if (e < 1) reachable = true;
-        if (rng() >= e) fresh[added++] = j;
+        if (draws[q++]! >= e) fresh[added++] = j;
       }
       if (!reachable) {
         // Nothing can happen by contact or background: start a new focus in a uniform susceptible pen.
@@ -247,13 +250,15 @@ export function compareWithRandomPlacement(
   let sr2 = 0;
   let sd = 0;
   let sd2 = 0;
+  const draws = new Float64Array(k);
   for (let r = 0; r < realisations; r++) {
     const base = r * words;
     let ca = 0;
     for (let s = 0; s < k; s++) ca += has(base, sampled[s]!);
     let cr = 0;
+    fillUniform(rng, draws, k);
     for (let t = 0; t < k; t++) {
-      const u = t + Math.floor(rng() * (n - t));
+      const u = t + Math.floor(draws[t]! * (n - t));
       const tmp = pool[t]!;
       pool[t] = pool[u]!;
       pool[u] = tmp;
