@@ -243,7 +243,6 @@ export function compareWithRandomPlacement(
   const missPow = Float64Array.from({ length: k + 1 }, (_, c) => (1 - se) ** c);
   const pool = Int32Array.from({ length: n }, (_, i) => i);
   const { bits, words, realisations } = outbreaks;
-  const has = (base: number, i: number) => (bits[base + (i >>> 5)]! >>> (i & 31)) & 1;
   let sa = 0;
   let sa2 = 0;
   let sr = 0;
@@ -254,15 +253,19 @@ export function compareWithRandomPlacement(
   for (let r = 0; r < realisations; r++) {
     const base = r * words;
     let ca = 0;
-    for (let s = 0; s < k; s++) ca += has(base, sampled[s]!);
+    for (let s = 0; s < k; s++) {
+      const i = sampled[s]!;
+      ca += (bits[base + (i >>> 5)]! >>> (i & 31)) & 1;
+    }
     let cr = 0;
     fillUniform(rng, draws, k);
     for (let t = 0; t < k; t++) {
-      const u = t + Math.floor(draws[t]! * (n - t));
-      const tmp = pool[t]!;
-      pool[t] = pool[u]!;
-      pool[u] = tmp;
-      cr += has(base, pool[t]!);
+      // `| 0` is Math.floor here (a non-negative number below 2^31) and keeps the index an integer.
+      const u = t + ((draws[t]! * (n - t)) | 0);
+      const picked = pool[u]!;
+      pool[u] = pool[t]!;
+      pool[t] = picked;
+      cr += (bits[base + (picked >>> 5)]! >>> (picked & 31)) & 1;
     }
     const va = 1 - missPow[ca]!;
     const vr = 1 - missPow[cr]!;

@@ -295,16 +295,24 @@ export function defaultWeights(points: readonly SpatialPoint[], style: WeightSty
 export function ropeSpacing(points: readonly SpatialPoint[]): number {
   checkPoints(points);
   if (points.length < 2) throw new RangeError(`\`pens\` must be an integer in [2, Infinity), got ${points.length}`);
-  const rank = Math.min(2, points.length - 1);
-  const values = points
-    .map((p, i) => {
-      const d = points
-        .filter((_, j) => j !== i)
-        .map((q) => dist(p, q))
-        .sort((a, b) => a - b);
-      return d[rank - 1]!;
-    })
-    .sort((a, b) => a - b);
+  const n = points.length;
+  const values = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    // The two smallest distances from pen i to the others (ties kept): the second is the
+    // second-nearest, the first the nearest (used when there are only 2 pens).
+    let first = Infinity;
+    let second = Infinity;
+    for (let j = 0; j < n; j++) {
+      if (j === i) continue;
+      const d = dist(points[i]!, points[j]!);
+      if (d < first) {
+        second = first;
+        first = d;
+      } else if (d < second) second = d;
+    }
+    values[i] = n === 2 ? first : second;
+  }
+  values.sort();
   const mid = values.length >> 1;
   const median = values.length % 2 ? values[mid]! : (values[mid - 1]! + values[mid]!) / 2;
   return median > 0 ? median : 1;
