@@ -238,17 +238,30 @@ export function compareWithRandomPlacement(
 ): PlacementComparison {
   const sampled = resolveSampled(outbreaks, sampledPenIds);
   checkProbability('se', se);
+  const sums = placementSums(outbreaks, sampled, se, rng);
+  const diff = summarise(sums[4]!, sums[5]!, outbreaks.realisations);
+  return {
+    actual: summarise(sums[0]!, sums[1]!, outbreaks.realisations),
+    random: summarise(sums[2]!, sums[3]!, outbreaks.realisations),
+    difference: { value: diff.p, standardError: diff.standardError },
+    ropes: sampled.length,
+  };
+}
+
+/**
+ * The Monte Carlo loop of compareWithRandomPlacement: sums of the actual (0, 1: value and
+ * square), random (2, 3) and paired difference (4, 5) detection over the outbreaks. A function
+ * of its own that accumulates in place and returns at once: the engine compiles a long loop
+ * while it runs, and code after the loop that had never run before would send every later call
+ * back to the interpreter.
+ */
+function placementSums(outbreaks: Outbreaks, sampled: Int32Array, se: number, rng: Rng): Float64Array {
   const n = outbreaks.ids.length;
   const k = sampled.length;
   const missPow = Float64Array.from({ length: k + 1 }, (_, c) => (1 - se) ** c);
   const pool = Int32Array.from({ length: n }, (_, i) => i);
   const { bits, words, realisations } = outbreaks;
-  let sa = 0;
-  let sa2 = 0;
-  let sr = 0;
-  let sr2 = 0;
-  let sd = 0;
-  let sd2 = 0;
+  const sums = new Float64Array(6);
   const draws = new Float64Array(k);
   for (let r = 0; r < realisations; r++) {
     const base = r * words;
@@ -269,18 +282,12 @@ export function compareWithRandomPlacement(
     }
     const va = 1 - missPow[ca]!;
     const vr = 1 - missPow[cr]!;
-    sa += va;
-    sa2 += va * va;
-    sr += vr;
-    sr2 += vr * vr;
-    sd += va - vr;
-    sd2 += (va - vr) ** 2;
+    sums[0]! += va;
+    sums[1]! += va * va;
+    sums[2]! += vr;
+    sums[3]! += vr * vr;
+    sums[4]! += va - vr;
+    sums[5]! += (va - vr) ** 2;
   }
-  const diff = summarise(sd, sd2, realisations);
-  return {
-    actual: summarise(sa, sa2, realisations),
-    random: summarise(sr, sr2, realisations),
-    difference: { value: diff.p, standardError: diff.standardError },
-    ropes: k,
-  };
+  return sums;
 }
