@@ -256,16 +256,20 @@ function clusterBox(cluster: ClusterBox, full: boolean): string {
 
 /**
  * The geometry a map of `layout` is drawn on, by scale and detail. A page draws the same barn
- * many times (each assay, each earlier round as a small map), so geometries are kept by the
- * layout's content (its JSON text, so a changed layout is a new entry), scale and detail;
- * renderBarnMap only reads them.
+ * many times (each assay, each earlier round as a small map), so geometries are kept per layout
+ * object, scale and detail. A layout is not changed once loaded (the configuration builds a new
+ * one on every load; a changed copy is a new object); renderBarnMap only reads the geometry.
  */
-const GEOMETRIES = new Map<string, BarnGeometry>();
-const MAX_GEOMETRIES = 1000;
+const GEOMETRIES = new WeakMap<BarnLayout, Map<string, BarnGeometry>>();
 
 function mapGeometry(layout: BarnLayout, scale: number, full: boolean): BarnGeometry {
-  const key = `${scale}/${full}/${JSON.stringify(layout)}`;
-  let geometry = GEOMETRIES.get(key);
+  let byView = GEOMETRIES.get(layout);
+  if (!byView) {
+    byView = new Map();
+    GEOMETRIES.set(layout, byView);
+  }
+  const key = `${scale}/${full}`;
+  let geometry = byView.get(key);
   if (!geometry) {
     // The left margin holds the row labels whole ("West", "Middle"), 5 px either side.
     const labelRoom = Math.max(...layout.rowLabels.map((label) => textWidth(label, ROW_LABEL_SIZE))) + 10;
@@ -273,8 +277,7 @@ function mapGeometry(layout: BarnLayout, scale: number, full: boolean): BarnGeom
       ? { left: Math.max(26, Math.ceil(labelRoom)), top: 18, right: 8, bottom: 8 }
       : { left: 10, top: 4, right: 4, bottom: 4 };
     geometry = barnGeometry(layout, scale, margin);
-    if (GEOMETRIES.size >= MAX_GEOMETRIES) GEOMETRIES.clear();
-    GEOMETRIES.set(key, geometry);
+    byView.set(key, geometry);
   }
   return geometry;
 }
