@@ -2,7 +2,7 @@
  * Spatially aware detection: how likely a set of ropes is to find an infection that spreads
  * from pen to pen, by Monte Carlo on simulated outbreaks shared between rope sets.
  */
-import type { Rng } from '../util/random.js';
+import { fillUniform, type Rng } from '../util/random.js';
 import type { SpatialWeights } from './weights.js';
 
 export interface OutbreakOptions {
@@ -79,6 +79,7 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
   const escapeProbability = new Float64Array(n);
   const list = new Int32Array(n);
   const fresh = new Int32Array(n);
+  const draws = new Float64Array(n);
   const transmit = Float64Array.from(graph.weights, (w) => 1 - Math.min(1, beta * w));
   let reseeded = 0;
   for (let r = 0; r < realisations; r++) {
@@ -96,11 +97,13 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
       }
       let added = 0;
       let reachable = false;
-      for (let j = 0; j < n; j++) {
+      // One draw per susceptible pen, in pen order.
+      fillUniform(rng, draws, n - count);
+      for (let j = 0, q = 0; j < n; j++) {
         if (state[j]) continue;
         const e = escapeProbability[j]!;
         if (e < 1) reachable = true;
-        if (rng() >= e) fresh[added++] = j;
+        if (draws[q++]! >= e) fresh[added++] = j;
       }
       if (!reachable) {
         // Nothing can happen by contact or background: start a new focus in a uniform susceptible pen.
@@ -235,44 +238,56 @@ export function compareWithRandomPlacement(
 ): PlacementComparison {
   const sampled = resolveSampled(outbreaks, sampledPenIds);
   checkProbability('se', se);
+  const sums = placementSums(outbreaks, sampled, se, rng);
+  const diff = summarise(sums[4]!, sums[5]!, outbreaks.realisations);
+  return {
+    actual: summarise(sums[0]!, sums[1]!, outbreaks.realisations),
+    random: summarise(sums[2]!, sums[3]!, outbreaks.realisations),
+    difference: { value: diff.p, standardError: diff.standardError },
+    ropes: sampled.length,
+  };
+}
+
+/**
+ * The Monte Carlo loop of compareWithRandomPlacement: sums of the actual (0, 1: value and
+ * square), random (2, 3) and paired difference (4, 5) detection over the outbreaks. A function
+ * of its own that accumulates in place and returns at once: the engine compiles a long loop
+ * while it runs, and code after the loop that had never run before would send every later call
+ * back to the interpreter.
+ */
+function placementSums(outbreaks: Outbreaks, sampled: Int32Array, se: number, rng: Rng): Float64Array {
   const n = outbreaks.ids.length;
   const k = sampled.length;
   const missPow = Float64Array.from({ length: k + 1 }, (_, c) => (1 - se) ** c);
   const pool = Int32Array.from({ length: n }, (_, i) => i);
   const { bits, words, realisations } = outbreaks;
-  const has = (base: number, i: number) => (bits[base + (i >>> 5)]! >>> (i & 31)) & 1;
-  let sa = 0;
-  let sa2 = 0;
-  let sr = 0;
-  let sr2 = 0;
-  let sd = 0;
-  let sd2 = 0;
+  const sums = new Float64Array(6);
+  const draws = new Float64Array(k);
   for (let r = 0; r < realisations; r++) {
     const base = r * words;
     let ca = 0;
-    for (let s = 0; s < k; s++) ca += has(base, sampled[s]!);
+    for (let s = 0; s < k; s++) {
+      const i = sampled[s]!;
+      ca += (bits[base + (i >>> 5)]! >>> (i & 31)) & 1;
+    }
     let cr = 0;
+    fillUniform(rng, draws, k);
     for (let t = 0; t < k; t++) {
-      const u = t + Math.floor(rng() * (n - t));
-      const tmp = pool[t]!;
-      pool[t] = pool[u]!;
-      pool[u] = tmp;
-      cr += has(base, pool[t]!);
+      // `| 0` is Math.floor here (a non-negative number below 2^31) and keeps the index an integer.
+      const u = t + ((draws[t]! * (n - t)) | 0);
+      const picked = pool[u]!;
+      pool[u] = pool[t]!;
+      pool[t] = picked;
+      cr += (bits[base + (picked >>> 5)]! >>> (picked & 31)) & 1;
     }
     const va = 1 - missPow[ca]!;
     const vr = 1 - missPow[cr]!;
-    sa += va;
-    sa2 += va * va;
-    sr += vr;
-    sr2 += vr * vr;
-    sd += va - vr;
-    sd2 += (va - vr) ** 2;
+    sums[0]! += va;
+    sums[1]! += va * va;
+    sums[2]! += vr;
+    sums[3]! += vr * vr;
+    sums[4]! += va - vr;
+    sums[5]! += (va - vr) ** 2;
   }
-  const diff = summarise(sd, sd2, realisations);
-  return {
-    actual: summarise(sa, sa2, realisations),
-    random: summarise(sr, sr2, realisations),
-    difference: { value: diff.p, standardError: diff.standardError },
-    ropes: k,
-  };
+  return sums;
 }

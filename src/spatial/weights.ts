@@ -200,20 +200,31 @@ export function knnWeights(points: readonly SpatialPoint[], k: number, style: We
   if (!Number.isInteger(k) || k < 1 || k > Math.max(1, n - 1))
     throw new RangeError(`\`k\` must be an integer in [1, ${Math.max(1, n - 1)}], got ${k}`);
   const edges: [number, number][] = [];
+  if (n < 2) return weightsFromEdges([points[0]!.id], edges, style, knnDescription(k, style));
+  const row = new Float64Array(n);
+  const sorted = new Float64Array(n - 1);
   for (let i = 0; i < n; i++) {
-    const others: [number, number][] = [];
-    for (let j = 0; j < n; j++) if (j !== i) others.push([j, dist(points[i]!, points[j]!)]);
-    others.sort((a, b) => a[1] - b[1] || a[0] - b[0]);
-    if (others.length === 0) continue;
-    const kth = others[Math.min(k, others.length) - 1]![1];
-    for (const [j, d] of others) if (d <= kth + 1e-9) edges.push([i, j]);
+    for (let j = 0, at = 0; j < n; j++) {
+      if (j === i) continue;
+      row[j] = dist(points[i]!, points[j]!);
+      sorted[at++] = row[j]!;
+    }
+    // The k-th smallest distance to the others, ties counted (a numeric sort of a typed array).
+    sorted.sort();
+    const kth = sorted[Math.min(k, n - 1) - 1]!;
+    // Edges in any order: weightsFromEdges keeps one weight per pair and sorts each row.
+    for (let j = 0; j < n; j++) if (j !== i && row[j]! <= kth + 1e-9) edges.push([i, j]);
   }
   return weightsFromEdges(
     points.map((p) => p.id),
     edges,
     style,
-    `${k} nearest sampled pens (symmetrised by union, ties included), ${style}`,
+    knnDescription(k, style),
   );
+}
+
+function knnDescription(k: number, style: WeightStyle): string {
+  return `${k} nearest sampled pens (symmetrised by union, ties included), ${style}`;
 }
 
 function dist(a: SpatialPoint, b: SpatialPoint): number {
@@ -295,16 +306,24 @@ export function defaultWeights(points: readonly SpatialPoint[], style: WeightSty
 export function ropeSpacing(points: readonly SpatialPoint[]): number {
   checkPoints(points);
   if (points.length < 2) throw new RangeError(`\`pens\` must be an integer in [2, Infinity), got ${points.length}`);
-  const rank = Math.min(2, points.length - 1);
-  const values = points
-    .map((p, i) => {
-      const d = points
-        .filter((_, j) => j !== i)
-        .map((q) => dist(p, q))
-        .sort((a, b) => a - b);
-      return d[rank - 1]!;
-    })
-    .sort((a, b) => a - b);
+  const n = points.length;
+  const values = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    // The two smallest distances from pen i to the others (ties kept): the second is the
+    // second-nearest, the first the nearest (used when there are only 2 pens).
+    let first = Infinity;
+    let second = Infinity;
+    for (let j = 0; j < n; j++) {
+      if (j === i) continue;
+      const d = dist(points[i]!, points[j]!);
+      if (d < first) {
+        second = first;
+        first = d;
+      } else if (d < second) second = d;
+    }
+    values[i] = n === 2 ? first : second;
+  }
+  values.sort();
   const mid = values.length >> 1;
   const median = values.length % 2 ? values[mid]! : (values[mid - 1]! + values[mid]!) / 2;
   return median > 0 ? median : 1;

@@ -2,12 +2,12 @@
  * A sample ID as a Code 128 barcode, drawn as inline SVG, so that the lab scans the tube label or
  * the checklist line instead of typing the ID. Code 128 rather than a 2-D symbol: every
  * hand-held scanner reads it, laser and imager alike (common practice, no source). Encoded by
- * bwip-js (Barcode Writer in Pure PostScript), offline; drawn here from its bar widths (its own
- * SVG drawing costs ten times the encoding). The same ID gives the same bytes.
+ * code128.ts (the code sets and check character of the standard) and drawn here from the bar
+ * widths. The same ID gives the same bytes.
  * @see ISO/IEC 15417:2007, Information technology - Automatic identification and data capture
  *   techniques - Code 128 bar code symbology specification.
  */
-import bwipjs from 'bwip-js';
+import { code128Elements } from './code128.js';
 import { escapeHtml } from './escape.js';
 
 export interface BarcodeOptions {
@@ -25,27 +25,6 @@ export const DEFAULT_MODULE_MM = 0.25;
 export const DEFAULT_HEIGHT_MM = 8;
 /** ISO/IEC 15417 section 4.3.3: a quiet zone of at least 10 X on either side. */
 export const QUIET_ZONE_MODULES = 10;
-
-/** Encoded symbols by text: a sheet, its two label pages and every rebuild of a site draw the same IDs. */
-const SYMBOLS = new Map<string, readonly number[]>();
-const MAX_CACHED = 10_000;
-
-/**
- * The element widths of the Code 128 symbol of `text` in modules, bar first (start, data, check
- * and stop characters), as bwip-js encodes it: it chooses the code sets (B for letters, C for
- * digit pairs) and computes the check character.
- */
-function code128Elements(text: string): readonly number[] {
-  let widths = SYMBOLS.get(text);
-  if (!widths) {
-    const symbol = bwipjs.raw('code128', text, {})[0];
-    if (!symbol || !('sbs' in symbol)) throw new Error(`bwip-js gave no linear symbol for ${JSON.stringify(text)}`);
-    widths = Object.freeze([...symbol.sbs]);
-    if (SYMBOLS.size >= MAX_CACHED) SYMBOLS.clear();
-    SYMBOLS.set(text, widths);
-  }
-  return widths;
-}
 
 /**
  * The Code 128 symbol of `text` (quiet zones included) as an SVG element sized in millimetres:

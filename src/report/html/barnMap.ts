@@ -255,6 +255,34 @@ function clusterBox(cluster: ClusterBox, full: boolean): string {
 }
 
 /**
+ * The geometry a map of `layout` is drawn on, by scale and detail. A page draws the same barn
+ * many times (each assay, each earlier round as a small map), so geometries are kept per layout
+ * object, scale and detail. A layout is not changed once loaded (the configuration builds a new
+ * one on every load; a changed copy is a new object); renderBarnMap only reads the geometry.
+ */
+const GEOMETRIES = new WeakMap<BarnLayout, Map<string, BarnGeometry>>();
+
+function mapGeometry(layout: BarnLayout, scale: number, full: boolean): BarnGeometry {
+  let byView = GEOMETRIES.get(layout);
+  if (!byView) {
+    byView = new Map();
+    GEOMETRIES.set(layout, byView);
+  }
+  const key = `${scale}/${full}`;
+  let geometry = byView.get(key);
+  if (!geometry) {
+    // The left margin holds the row labels whole ("West", "Middle"), 5 px either side.
+    const labelRoom = Math.max(...layout.rowLabels.map((label) => textWidth(label, ROW_LABEL_SIZE))) + 10;
+    const margin = full
+      ? { left: Math.max(26, Math.ceil(labelRoom)), top: 18, right: 8, bottom: 8 }
+      : { left: 10, top: 4, right: 4, bottom: 4 };
+    geometry = barnGeometry(layout, scale, margin);
+    byView.set(key, geometry);
+  }
+  return geometry;
+}
+
+/**
  * Renders a barn map as an inline SVG string: alley and gaps in grey, pens to scale, roped pens
  * filled by load on the single-hue ramp with a symbol (+ positive, ? suspect, × invalid,
  * − negative), positives with a heavy black outline, empty pens hatched, out-of-use pens
@@ -265,12 +293,7 @@ function clusterBox(cluster: ClusterBox, full: boolean): string {
  */
 export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayout }, options: MapOptions): string {
   const full = options.detail === 'full';
-  // The left margin holds the row labels whole ("West", "Middle"), 5 px either side.
-  const labelRoom = Math.max(...barn.layout.rowLabels.map((label) => textWidth(label, ROW_LABEL_SIZE))) + 10;
-  const margin = full
-    ? { left: Math.max(26, Math.ceil(labelRoom)), top: 18, right: 8, bottom: 8 }
-    : { left: 10, top: 4, right: 4, bottom: 4 };
-  const geometry = barnGeometry(barn.layout, options.scale, margin);
+  const geometry = mapGeometry(barn.layout, options.scale, full);
   const prefix = safeId(options.key);
   const parts: string[] = [];
   const attrs = Object.entries(options.attributes ?? {})

@@ -246,9 +246,13 @@ function quietBarn(view: BarnView): string {
 
 /**
  * One barn of one assay: the full section when the barn has (or had) a positive, or has a
- * suspect or invalid rope this round; otherwise the quiet figure.
+ * suspect or invalid rope this round; otherwise the quiet figure (`quiet` says which).
  */
-export function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySpatial): string {
+export function barnSection(
+  input: ClustersPageInput,
+  barn: Barn,
+  assay: AssaySpatial,
+): { quiet: boolean; html: string } {
   const summary = input.summaries[input.index]!;
   const report = assay.report.barns.find((entry) => entry.barn === barn.id);
   const tally = summary.barns
@@ -270,7 +274,7 @@ export function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySp
   const hadPositive = input.summaries.slice(0, input.index + 1).some((s) => positivesIn(s, barn.id, assay.assayId) > 0);
   const positives = tally?.positive ?? 0;
   const busy = positives > 0 || (tally?.suspect ?? 0) > 0 || (tally?.invalid ?? 0) > 0 || hadPositive;
-  if (!busy) return quietBarn(view);
+  if (!busy) return { quiet: true, html: quietBarn(view) };
   const main = renderBarnMap(barn, {
     key,
     scale: MAIN_SCALE,
@@ -284,7 +288,7 @@ export function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySp
   const minis = earlier.length > 0 ? earlierMinis(view, earlier) : '';
   const clusters = clusterList(view);
   const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}</h3>`;
-  return (
+  const html =
     `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${mapLegend(input.assays, [...earlier, summary], [barn.id], assay.assayId, key).html}` +
     (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
     (clusters ? `<ul>${clusters}</ul>` : '') +
@@ -298,6 +302,6 @@ export function barnSection(input: ClustersPageInput, barn: Barn, assay: AssaySp
         )
       : '<p>No spatial statistics for this barn.</p>') +
     penTrends(view) +
-    `</section>`
-  );
+    `</section>`;
+  return { quiet: false, html };
 }

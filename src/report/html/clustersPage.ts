@@ -75,11 +75,9 @@ export function cutoffsSentence(summary: RoundSummary): string {
 
 function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
   const rendered = input.site.barns.map((barn) => barnSection(input, barn, assay));
-  const quiet = rendered.filter((html) => html.startsWith('<figure class="quiet"'));
-  const busy = rendered.filter((html) => !html.startsWith('<figure class="quiet"'));
-  const quietIds = input.site.barns
-    .filter((_, i) => rendered[i]!.startsWith('<figure class="quiet"'))
-    .map((barn) => barn.id);
+  const quiet = rendered.filter((section) => section.quiet).map((section) => section.html);
+  const busy = rendered.filter((section) => !section.quiet).map((section) => section.html);
+  const quietIds = input.site.barns.filter((_, i) => rendered[i]!.quiet).map((barn) => barn.id);
   const legend = mapLegend(
     input.assays,
     [input.summaries[input.index]!],

@@ -12,6 +12,9 @@ const ENTITIES: Readonly<Record<string, string>> = {
   "'": '&#39;',
 };
 
+const SPECIAL = /[&<>"']/;
+const SPECIALS = /[&<>"']/g;
+
 /**
  * Escapes text for an HTML/SVG text node or a double- or single-quoted attribute value.
  * Escaping `&` first is implicit in the single pass: each character is replaced once.
@@ -20,7 +23,9 @@ const ENTITIES: Readonly<Record<string, string>> = {
  * @see WHATWG HTML Living Standard, section 13.1 (character references); W3C XML 1.0 section 2.4 (for SVG).
  */
 export function escapeHtml(value: string | number): string {
-  return String(value).replace(/[&<>"']/g, (char) => ENTITIES[char]!);
+  const text = String(value);
+  // Most text (pen ids, numbers, dates) has nothing to escape: one test, no replacement pass.
+  return SPECIAL.test(text) ? text.replace(SPECIALS, (char) => ENTITIES[char]!) : text;
 }
 
 /**

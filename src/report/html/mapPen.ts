@@ -81,19 +81,19 @@ function penFill(pen: PenBox, result: PenMark | undefined, prefix: string): { fi
   return { fill, ink };
 }
 
-/** The pen's tooltip: id, status, result and load, the mark's note, the planned rope. */
+/** The pen's tooltip: id, status, result and load, the mark's note, the planned rope (the non-empty ones, comma-separated). */
 function penTip(pen: PenBox, result: PenMark | undefined, planned: PlannedMark | undefined): string {
-  return [
-    pen.id,
-    isInUse(pen) ? '' : pen.status,
-    result
-      ? `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`
-      : '',
-    result?.note ?? '',
-    planned ? `${planned.reason} rope #${planned.order}` : '',
-  ]
-    .filter((text) => text !== '')
-    .join(', ');
+  let tip = pen.id;
+  const add = (text: string) => {
+    if (text !== '') tip = tip === '' ? text : `${tip}, ${text}`;
+  };
+  if (!isInUse(pen)) add(pen.status);
+  if (result) {
+    add(`${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`);
+    add(result.note ?? '');
+  }
+  if (planned) add(`${planned.reason} rope #${planned.order}`);
+  return tip;
 }
 
 /** On the full map: the pen's label, then its result symbol, its planned rope, or "empty" / "out". */
@@ -158,18 +158,14 @@ export function renderPen(
   const stroke = positive ? COLOURS.positiveStroke : result ? '#4b5563' : COLOURS.penStroke;
   const strokeWidth = positive ? (view.full ? 3.2 : 2) : result ? 1.2 : 0.8;
   const inset = positive ? strokeWidth / 2 : 0;
-  const data = [
-    `data-pen="${escapeHtml(pen.id)}"`,
-    `data-status="${pen.status}"`,
-    ...(result ? [`data-result="${result.resultClass}"`] : []),
-    ...(positive ? ['data-positive=""'] : []),
-    ...(planned ? [`data-planned="${planned.reason}"`] : []),
-  ].join(' ');
-  const parts = [
-    `<g class="pen" ${data}><title>${escapeHtml(penTip(pen, result, planned))}</title>`,
-    `<rect x="${fmt(pen.x + inset)}" y="${fmt(pen.y + inset)}" width="${fmt(pen.width - 2 * inset)}" height="${fmt(pen.height - 2 * inset)}" fill="${fill}" stroke="${stroke}" stroke-width="${fmt(strokeWidth)}"${result?.resultClass === 'missing' ? ' stroke-dasharray="3 2"' : ''}/>`,
-    ...(view.full ? penLabels(pen, result, planned, ink, view.fontSize) : []),
-    `</g>`,
-  ];
-  return parts.join('');
+  let data = `data-pen="${escapeHtml(pen.id)}" data-status="${pen.status}"`;
+  if (result) data += ` data-result="${result.resultClass}"`;
+  if (positive) data += ' data-positive=""';
+  if (planned) data += ` data-planned="${planned.reason}"`;
+  return (
+    `<g class="pen" ${data}><title>${escapeHtml(penTip(pen, result, planned))}</title>` +
+    `<rect x="${fmt(pen.x + inset)}" y="${fmt(pen.y + inset)}" width="${fmt(pen.width - 2 * inset)}" height="${fmt(pen.height - 2 * inset)}" fill="${fill}" stroke="${stroke}" stroke-width="${fmt(strokeWidth)}"${result?.resultClass === 'missing' ? ' stroke-dasharray="3 2"' : ''}/>` +
+    (view.full ? penLabels(pen, result, planned, ink, view.fontSize).join('') : '') +
+    '</g>'
+  );
 }
