@@ -70,7 +70,9 @@ describe('a pen with a long history', () => {
     expect(pen(dirs[9]!).ct_history).toBe('r3:30.2 r4:30.3 r5:30.4 r6:30.5 r7:30.6 r8:30.7 r9:30.8 r10:30.9');
     // Round 4: all four so far.
     expect(pen(dirs[3]!).ct_history).toBe('r1:30 r2:30.1 r3:30.2 r4:30.3');
-    const summary = JSON.parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', dirs[9]!, 'summary.json'), 'utf8'));
+    const summary = JSON.parse(
+      fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', dirs[9]!, 'summary.json'), 'utf8'),
+    );
     expect(summary.pens.find((entry: { penId: string }) => entry.penId === 'A3').results.PRRSV.history).toHaveLength(8);
     const results = parse(fs.readFileSync(path.join(ws.paths.outbox, 'hollow-creek', 'results.csv'), 'utf8'), {
       columns: true,
