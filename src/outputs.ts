@@ -30,7 +30,7 @@ import {
   type BuiltRound,
   type TidyName,
 } from './report/builtRounds.js';
-import { roundAlerts } from './report/html/alerts.js';
+import { alertsOfRound } from './report/html/alerts.js';
 import { packageVersion } from './util/packageVersion.js';
 import { waitForPidLock } from './util/pidLock.js';
 import type { Site } from './config/types.js';
@@ -77,7 +77,7 @@ export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
 const json = jsonText;
 
 /** What a build writes beyond what the analysis says: which rounds, and what it keeps of the others. */
-export interface RoundsToWrite {
+interface RoundsToWrite {
   /** The first round (index) to write: this one and every later one are written. */
   from: number;
   /** Each round's digest (src/analysis/roundDigests.ts), kept in the built-rounds list. */
@@ -102,16 +102,11 @@ function keptOr<T>(
 
 /**
  * Writes one site's outputs under outbox/<site>/ through `writer`: the files of the rounds from
- * `rounds.from` on (every round by default), and the site's own files (rope list, alerts, tidy
+ * `rounds.from` on, and the site's own files (rope list, alerts, tidy
  * tables, pages, digest) from those rounds and what the others were built with. The built-rounds
  * list goes last.
  */
-export function writeSiteOutputs(
-  ws: Workspace,
-  analysis: SiteAnalysis,
-  writer: OutputWriter,
-  rounds: RoundsToWrite = { from: 0, digests: [], built: new Map() },
-): void {
+function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: OutputWriter, rounds: RoundsToWrite): void {
   const siteDir = path.join(ws.outbox, analysis.site.id);
   const { summaries, spatial } = analysis;
   const last = summaries.length - 1;
@@ -139,7 +134,7 @@ export function writeSiteOutputs(
       analysis,
       rounds,
       index,
-      () => roundAlerts(summaries, spatial, index, index === last ? analysis.plan : undefined),
+      () => alertsOfRound(analysis, index),
       (built) => built.alerts,
     ),
   );
@@ -165,7 +160,7 @@ export function writeSiteOutputs(
       analysis.site.id,
       summaries.map((summary, index) => ({
         id: summary.round.id,
-        digest: rounds.digests[index] ?? '',
+        digest: rounds.digests[index]!,
         alerts: alertsByRound[index]!,
         records: recordsByRound[index]!,
         tidyBytes: tidySizes.byRound[index]!,

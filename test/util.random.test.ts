@@ -1,12 +1,13 @@
 /**
- * The seeded generator: Mulberry32 as published (Tommy Ettinger, "Mulberry32", public domain,
- * 2017; the reference below is its usual JavaScript transcription, from memory), and fillUniform,
- * which must give the same draws in the same order as one call per draw.
+ * The seeded generator: Mulberry32 (Tommy Ettinger, "Mulberry32", public domain, 2017), checked
+ * against the algorithm written out below as a closure apart from src/util/random.ts (its
+ * constants from memory), and fillUniform, which must give the same draws in the same order as
+ * one call per draw.
  */
 import { describe, expect, it } from 'vitest';
 import { fillUniform, seededRng } from '../src/util/random.js';
 
-/** Mulberry32 written out in its usual closure form (from memory of the published transcription). */
+/** Mulberry32 as a closure: the reference the generator is checked against (constants from memory). */
 function mulberry32(seed: number): () => number {
   let a = seed >>> 0;
   return () => {

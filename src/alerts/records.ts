@@ -11,21 +11,13 @@
 import type { NextRoundPlan } from '../analysis/nextRound.js';
 import type { RoundSummary } from '../analysis/roundSummary.js';
 import type { RoundSpatial } from '../analysis/spatialRound.js';
-import { alertsOfRounds, type PageAlert } from '../report/html/alerts.js';
+import type { PageAlert } from '../report/html/alerts.js';
 
 export const ALERT_RECORD_SCHEMA = 'ropewatch.alert/1';
 
-/** outbox/<site>/alerts.json: every alert of every round of the site, as records. */
+/** outbox/<site>/alerts.json: every alert of every round of the site, as records (written in src/outputs.ts). */
 export const SITE_ALERTS_FILE = 'alerts.json';
 export const SITE_ALERTS_SCHEMA = 'ropewatch.site-alerts/1';
-
-/** The content of outbox/<site>/alerts.json. */
-export function siteAlertsFile(
-  source: AlertSource,
-  alertsByRound?: readonly PageAlert[][],
-): { schema: typeof SITE_ALERTS_SCHEMA; site: string; alerts: AlertRecord[] } {
-  return { schema: SITE_ALERTS_SCHEMA, site: source.site.id, alerts: siteAlertRecords(source, alertsByRound) };
-}
 
 /** What a number behind an alert is: a count, a probability, a day count or a date. */
 export type AlertNumbers = Record<string, number | string | null>;
@@ -132,17 +124,6 @@ function numbersOf(
   if (alert.kind === 'overdue' && plan !== undefined)
     Object.assign(numbers, { nextRound: plan.round, dueDate: plan.dueDate, daysOverdue: plan.daysOverdue });
   return numbers;
-}
-
-/**
- * Every alert of every round of a site, as records, in round order and in each round in the
- * order the pages show them.
- */
-export function siteAlertRecords(
-  source: AlertSource,
-  alertsByRound: readonly PageAlert[][] = alertsOfRounds(source),
-): AlertRecord[] {
-  return source.summaries.flatMap((_, index) => roundAlertRecords(source, index, alertsByRound[index]!));
 }
 
 /**

@@ -129,7 +129,7 @@ export function completeFindings(basis: SiteBasis, context: AnalysisContext, fro
   const lookBack = Math.max(0, from - EARLIER_MAPS);
   reviewRounds(
     basis,
-    basis.rounds.map((_, index) => index).filter((index) => index >= lookBack),
+    Array.from({ length: Math.max(0, basis.rounds.length - lookBack) }, (_, offset) => lookBack + offset),
     context,
   );
   return { ...basis, summaries, detailFrom };

@@ -7,10 +7,8 @@ export type CsvRow<C extends string> = Partial<Record<C, string | number | boole
 
 /**
  * Characters that make a spreadsheet read a cell as a formula (OWASP, "CSV Injection"): equals,
- * plus, minus, at, tab (0x09) and carriage return (0x0D).
+ * plus, minus, at, tab (0x09) and carriage return (0x0D), as character codes.
  */
-const FORMULA_START = /^[=+\-@\t\r]/;
-/** The same characters as codes, to pass over most cells with one lookup. */
 const FORMULA_FIRST = new Set([0x3d, 0x2b, 0x2d, 0x40, 0x09, 0x0d]);
 /** A plain decimal number with an optional sign and exponent (`-1.5`, `-0`, `1e-3`): read as a value, never as a formula. */
 const PLAIN_NUMBER = /^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?$/;
@@ -30,7 +28,7 @@ export function csvCell(value: string | number | boolean | null | undefined): st
           : 'false'
         : String(value);
   if (text === '' || !FORMULA_FIRST.has(text.charCodeAt(0))) return text;
-  return FORMULA_START.test(text) && !PLAIN_NUMBER.test(text) ? `'${text}` : text;
+  return PLAIN_NUMBER.test(text) ? text : `'${text}`;
 }
 
 /**

@@ -5,6 +5,10 @@ import { readFileSync } from 'node:fs';
  * dist/util (the installed program).
  */
 export function packageVersion(): string {
-  return (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string })
+  // Read once: every build of a site's outputs names it in its round digests.
+  version ??= (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string })
     .version;
+  return version;
 }
+
+let version: string | undefined;

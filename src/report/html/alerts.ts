@@ -346,13 +346,19 @@ export function roundAlerts(
  * read the same list, built once (each round's alerts look back over the rounds before it). The
  * plan's overdue alert belongs to the latest round.
  */
-export function alertsOfRounds(analysis: {
+export function alertsOfRounds(analysis: AlertAnalysis): PageAlert[][] {
+  return analysis.summaries.map((_, index) => alertsOfRound(analysis, index));
+}
+
+/** What a site's alerts are read from. */
+interface AlertAnalysis {
   summaries: readonly RoundSummary[];
   spatial: readonly (RoundSpatial | undefined)[];
   plan: NextRoundPlan;
-}): PageAlert[][] {
-  const last = analysis.summaries.length - 1;
-  return analysis.summaries.map((_, index) =>
-    roundAlerts(analysis.summaries, analysis.spatial, index, index === last ? analysis.plan : undefined),
-  );
+}
+
+/** The alerts of round `index` of a site: the latest round's carry the plan's overdue alert. */
+export function alertsOfRound(analysis: AlertAnalysis, index: number): PageAlert[] {
+  const latest = index === analysis.summaries.length - 1;
+  return roundAlerts(analysis.summaries, analysis.spatial, index, latest ? analysis.plan : undefined);
 }

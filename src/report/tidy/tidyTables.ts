@@ -29,7 +29,7 @@ export type TidyFragments = Record<TidyTable['name'], string>;
 
 /** A table's rows as CSV lines, without the header line. */
 function csvLines(table: TidyTable, rows: readonly TidyRow[]): string {
-  return tidyCsv(table.columns, rows).slice(tidyCsv(table.columns, []).length);
+  return tidyCsv(table.columns, rows).slice(tidyHeader(table.name).length);
 }
 
 /**
@@ -73,8 +73,13 @@ export function storeTidyRounds(
 
 /** A tidy table's header line. */
 export function tidyHeader(name: TidyTable['name']): string {
-  return tidyCsv(TIDY_TABLES.find((table) => table.name === name)!.columns, []);
+  return TIDY_HEADERS[name];
 }
+
+const TIDY_HEADERS = Object.fromEntries(TIDY_TABLES.map((table) => [table.name, tidyCsv(table.columns, [])])) as Record<
+  TidyTable['name'],
+  string
+>;
 
 /** The site's tidy tables as the store's views give them, typed by their columns. */
 export function readTidyTables(db: Database.Database, siteId: string, range: RoundRange = {}): TidyTables {
