@@ -8,17 +8,21 @@ import type Database from 'better-sqlite3';
 
 export type FactValue = string | number | boolean | null;
 
+/** A rope's round as the outputs formed it: what the store's results view joins on. */
+export interface RopeRound {
+  sampleId: string;
+  round: number;
+  roundId: string;
+  roundStart: string;
+  groupId: string | null;
+  barnId: string;
+  penId: string;
+  /** The pool the rope was tested in (its results are the pool's), else null. */
+  poolId: string | null;
+}
+
 export interface SiteFacts {
-  ropeRounds: readonly {
-    sampleId: string;
-    round: number;
-    roundId: string;
-    roundStart: string;
-    groupId: string | null;
-    barnId: string;
-    penId: string;
-    poolId: string | null;
-  }[];
+  ropeRounds: readonly RopeRound[];
   rounds: readonly Record<string, FactValue>[];
   alerts: readonly Record<string, FactValue>[];
 }

@@ -6,6 +6,7 @@
  * ropes on sheets and planned ropes whose results came back alike.
  */
 import type { SiteAnalysis } from '../../analysis/analyseSite.js';
+import type { RopeRound } from '../../store/tidyFacts.js';
 import type { Column, TidyTable } from './columns.js';
 
 export const RESULTS_FILE = 'results.csv';
@@ -42,20 +43,6 @@ export const RESULTS_TABLE: TidyTable = {
   key: ['result_id', 'barn', 'pen'],
 };
 
-/** A rope's round as the outputs formed it: what the store's results view joins on. */
-export interface RopeRound {
-  siteId: string;
-  sampleId: string;
-  round: number;
-  roundId: string;
-  roundStart: string;
-  groupId: string | null;
-  barnId: string;
-  penId: string;
-  /** The pool the rope was tested in (its results are the pool's), else null. */
-  poolId: string | null;
-}
-
 /** Every rope of the site's rounds from index `from` on, with its round (a pen's ropes, second ropes included). */
 export function ropeRounds(analysis: SiteAnalysis, from = 0): RopeRound[] {
   return analysis.rounds.slice(from).flatMap((round) =>
@@ -63,7 +50,6 @@ export function ropeRounds(analysis: SiteAnalysis, from = 0): RopeRound[] {
       barn.pens.flatMap((pen) => {
         const poolId = Object.values(pen.results).find((result) => result.pool !== undefined)?.pool?.poolId ?? null;
         return pen.sampleIds.map((sampleId) => ({
-          siteId: analysis.site.id,
           sampleId,
           round: round.number,
           roundId: round.id,
