@@ -1,26 +1,27 @@
 /**
  * One lab export dropped through the whole pipeline (`processFile`: ingest, commit, outputs) in a
- * child process of its own, on a fresh copy of a prepared workspace: the child times
- * `processFile` (CPU: process.cpuUsage, user + system of every thread; wall) and counts the files
- * and bytes the drop wrote; its peak resident memory (VmHWM) is read as it exits.
- *
- *   node --import tsx bench/drop.ts <workspace> <export> <rounds>     (child side only)
+ * child process of its own running the compiled program (bench/dropChild.mjs imports dist/, as
+ * the installed `ropewatch` runs), on a fresh copy of a prepared workspace. The whole process is
+ * measured from outside (CPU of all its threads and peak resident memory, read as it exits:
+ * bench/childProcess.ts), and `processFile` alone from inside; the files and bytes the drop wrote
+ * are counted afterwards. Needs dist/ built from the current sources (`npm run bench` builds it).
  */
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { processFile } from '../src/pipeline.js';
-import { lastJsonLine, ownPeakRssMb, runChild } from './childProcess.js';
+import { lastJsonLine, runChild } from './childProcess.js';
 import type { Timing } from './pairs.js';
-import { openBenchWorkspace, type OutboxFigures, outboxFigures, workspacePaths } from './workspaces.js';
+import { type OutboxFigures, outboxFigures, workspacePaths } from './workspaces.js';
 
 const REPO = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
+const CHILD = path.join(REPO, 'bench', 'dropChild.mjs');
 export const DROP_NOW = new Date('2032-12-01T12:00:00Z');
 
+/** Timing is processFile's own; `process` is the whole child process's. */
 export interface DropReport extends Timing, OutboxFigures {
   rounds: number;
-  /** CPU of the whole child process (start-up, TypeScript loading and all). */
-  processCpuMs: number;
+  /** The whole child process: start-up, loading the program, the drop, closing the store. */
+  process: Timing;
   peakRssMb: number;
 }
 
@@ -30,28 +31,10 @@ export interface Prepared {
   drop: string;
 }
 
-async function runDrop(dir: string, file: string, rounds: number): Promise<void> {
-  const target = path.join(workspacePaths(dir).inbox, path.basename(file));
-  fs.copyFileSync(file, target);
-  const ws = openBenchWorkspace(dir, DROP_NOW);
-  const startedAt = Date.now();
-  const cpu0 = process.cpuUsage();
-  const t0 = performance.now();
-  const { receipt } = await processFile(ws, target);
-  const wallMs = performance.now() - t0;
-  const cpu = process.cpuUsage(cpu0);
-  ws.close();
-  if (receipt.status !== 'accepted') throw new Error(`drop refused: ${JSON.stringify(receipt.reason)}`);
-  const total = process.cpuUsage();
-  const report: DropReport = {
-    rounds,
-    wallMs,
-    cpuMs: (cpu.user + cpu.system) / 1000,
-    processCpuMs: (total.user + total.system) / 1000,
-    ...outboxFigures(workspacePaths(dir).outbox, startedAt),
-    peakRssMb: ownPeakRssMb(),
-  };
-  process.stdout.write(`${JSON.stringify(report)}\n`);
+/** Refuses to time a program older than its sources: the child runs dist/. */
+export function checkBuilt(): void {
+  const built = path.join(REPO, 'dist', 'pipeline.js');
+  if (!fs.existsSync(built)) throw new Error(`${built} is missing: run npm run build first (npm run bench does)`);
 }
 
 /** Drops `prepared.drop` into a fresh copy of `prepared.dir` at `runDir`, in a child process. */
@@ -64,21 +47,19 @@ export async function spawnDrop(
 ): Promise<DropReport> {
   fs.rmSync(runDir, { recursive: true, force: true });
   fs.cpSync(prepared.dir, runDir, { recursive: true });
-  const run = await runChild(
-    ['--import', 'tsx', fileURLToPath(import.meta.url), runDir, prepared.drop, String(rounds)],
-    { hook, cwd: REPO },
-  );
+  const run = await runChild([CHILD, runDir, prepared.drop, DROP_NOW.toISOString()], { hook, cwd: REPO });
+  const inside = lastJsonLine<Timing & { startedAt: number }>(run, `bench ${label} drop`);
+  const report: DropReport = {
+    rounds,
+    wallMs: inside.wallMs,
+    cpuMs: inside.cpuMs,
+    process: { wallMs: run.wallMs, cpuMs: run.cpuMs },
+    ...outboxFigures(workspacePaths(runDir).outbox, inside.startedAt),
+    peakRssMb: run.peakRssMb,
+  };
   fs.rmSync(runDir, { recursive: true, force: true });
-  const report = lastJsonLine<DropReport>(run, `bench ${label} drop`);
-  report.peakRssMb = Math.max(report.peakRssMb, run.peakRssMb);
   process.stderr.write(
-    `bench ${label}: drop at ${rounds} rounds: ${report.wallMs.toFixed(0)} ms wall, ${report.cpuMs.toFixed(0)} ms CPU (process ${report.processCpuMs.toFixed(0)} ms CPU, ${run.wallMs.toFixed(0)} ms wall), ${report.filesWritten} files ${(report.bytesWritten / 1e6).toFixed(1)} MB written, peak RSS ${report.peakRssMb.toFixed(0)} MB\n`,
+    `bench ${label}: drop at ${rounds} rounds: process ${report.process.cpuMs.toFixed(0)} ms CPU, ${report.process.wallMs.toFixed(0)} ms wall (processFile ${report.cpuMs.toFixed(0)} ms CPU, ${report.wallMs.toFixed(0)} ms wall), ${report.filesWritten} files ${(report.bytesWritten / 1e6).toFixed(1)} MB written, peak RSS ${report.peakRssMb.toFixed(0)} MB\n`,
   );
   return report;
-}
-
-const invokedDirectly = process.argv[1] !== undefined && import.meta.url.endsWith(process.argv[1].replace(/\\/g, '/'));
-if (invokedDirectly) {
-  const [dir, file, rounds] = process.argv.slice(2);
-  await runDrop(dir!, file!, Number(rounds));
 }

@@ -11,7 +11,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import {
-  analyseSiteBasis,
+  basisOfRounds,
   completeFindings,
   type AnalyseOptions,
   type SiteAnalysis,
@@ -43,6 +43,7 @@ import { summaryCsv } from './report/summaryCsv.js';
 import { jsonText } from './report/jsonText.js';
 import { storeTidyRounds, TIDY_TABLES, tidyHeader } from './report/tidy/tidyTables.js';
 import type { Workspace } from './workspace.js';
+import { loadSiteRounds } from './roundsFromStore.js';
 
 export type { AnalyseOptions, SiteAnalysis };
 
@@ -249,17 +250,19 @@ function rebuildSite(
     // Another process may commit for this site while the outputs are written: build again from
     // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).
     for (let attempt = 1; ; attempt++) {
-      const inputs = ws.store.siteInputs(site.id);
-      const { version } = inputs;
       const context = { config: ws.config, today: clockDay(ws.now()), cache };
-      const basis = analyseSiteBasis(site, inputs, context, options);
-      const digests = roundDigests(basis, buildSettings(ws), context.today);
+      const settings = buildSettings(ws);
+      const loaded = loadSiteRounds(ws, site, { today: context.today, settings, full: options.full ?? false });
+      const { version } = loaded.inputs;
+      const basis = basisOfRounds(site, loaded.rounds, loaded.inputs.planned, context, options);
+      const digests = roundDigests(basis, settings, context.today, loaded.modelDigests);
       const built = options.full ? new Map<string, BuiltRound>() : readBuiltRounds(siteDir, site.id);
       const from = firstChanged(basis, digests, built);
       const analysis = wordSiteAnalysis(completeFindings(basis, context, from));
       storePlan(ws, analysis);
       const staged = new StagedOutputs();
       try {
+        loaded.keepFormed(staged);
         writeSiteOutputs(ws, analysis, staged, { from, digests, built });
         staged.publish();
       } catch (error) {

@@ -71,22 +71,36 @@ export function analyseSiteBasis(
   context: AnalysisContext,
   options: AnalyseOptions = {},
 ): SiteBasis {
-  const { config, today, cache } = context;
   const rounds = buildSiteRounds(
     site,
     inputs.ropes,
     inputs.results,
     inputs.plannedWithoutResults,
     { replaced: inputs.replaced, mistyped: inputs.mistyped },
-    today,
+    context.today,
   );
+  return basisOfRounds(site, rounds, inputs.planned, context, options);
+}
+
+/**
+ * `analyseSiteBasis` from rounds already built (some of them kept from an earlier build).
+ * @param planned the site's planned ropes (SiteInputs.planned)
+ */
+export function basisOfRounds(
+  site: Site,
+  rounds: SiteRound[],
+  planned: SiteInputs['planned'],
+  context: AnalysisContext,
+  options: AnalyseOptions = {},
+): SiteBasis {
+  const { config, today, cache } = context;
   const confidence = siteConfidence(site, rounds, { settings: config.analysis, outbreaks: cache });
   const spatial: (RoundSpatial | undefined)[] = new Array<RoundSpatial | undefined>(rounds.length).fill(undefined);
   const basis = { site, rounds, confidence, spatial };
   reviewRounds(basis, [planBasisIndex(rounds)], context);
   const lastNumber = rounds.at(-1)?.number ?? 0;
   const existingIds = new Map(
-    inputs.planned
+    planned
       .filter((rope) => rope.afterRound === lastNumber)
       .map((rope) => [`${rope.barnId}/${rope.penId}`, rope.sampleId] as const),
   );

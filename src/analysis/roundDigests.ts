@@ -12,23 +12,29 @@
 import { createHash } from 'node:crypto';
 import type { SiteFindings } from './analyseSite.js';
 
-const sha256 = (text: string): string => createHash('sha256').update(text).digest('hex');
+export const sha256 = (text: string): string => createHash('sha256').update(text).digest('hex');
+
+/** The digest of a round's model (its JSON text), as the round digests read it. */
+export const modelDigest = (modelText: string): string => sha256(modelText);
 
 /**
  * One digest per round, in round order.
  * @param settings what every round's outputs depend on beyond the store: the configuration's
  *   digest and the version of the files' format
  * @param today the day of the build (yyyy-mm-dd)
+ * @param modelDigests each round's `modelDigest` (a round kept from an earlier build has it
+ *   already); by default made here
  */
 export function roundDigests(
   findings: Pick<SiteFindings, 'rounds' | 'confidence' | 'plan'>,
   settings: string,
   today: string,
+  modelDigests: readonly string[] = findings.rounds.map((round) => modelDigest(JSON.stringify(round))),
 ): string[] {
   const last = findings.rounds.length - 1;
   let chain = sha256(`ropewatch round digest\n${settings}`);
-  return findings.rounds.map((round, index) => {
-    chain = sha256(`${chain}\n${JSON.stringify(round)}\n${JSON.stringify(findings.confidence[index])}`);
+  return findings.rounds.map((_, index) => {
+    chain = sha256(`${chain}\n${modelDigests[index]}\n${JSON.stringify(findings.confidence[index])}`);
     return index === last ? sha256(`${chain}\nlatest ${today}\n${JSON.stringify(findings.plan)}`) : chain;
   });
 }

@@ -283,6 +283,31 @@ export interface SiteInputs {
   mistyped: MistypedRefusal[];
 }
 
+/**
+ * What tells whether a round's inputs changed, without its results' contents: every rope of the
+ * site (as `SiteInputs.ropes`), the reports of each of its samples as keys, and the plans and
+ * refusals (few rows) whole.
+ */
+export interface SiteOutline {
+  version: number;
+  ropes: StoredRope[];
+  /**
+   * By sample ID (ropes, pools and planned ropes of the site): each report's id and how many
+   * later reports replaced it ("12/0,15/1"), in id order. A new report, a correction or a link
+   * between two reports changes it.
+   */
+  reportKeys: ReadonlyMap<string, string>;
+  planned: PlannedRope[];
+  plannedWithoutResults: PlannedRope[];
+  mistyped: MistypedRefusal[];
+}
+
+/**
+ * A site's inputs of the ropes a build re-forms: `choose` reads the outline and returns the
+ * sample IDs whose results and replaced reports are read (undefined: all of the site's).
+ */
+export type SampleChoice = (outline: SiteOutline) => readonly string[] | undefined;
+
 /** A stored file with its row counts. */
 export type StoredFileCounts = StoredFile & { rowsAccepted: number; rowsRejected: number; rowsDuplicate: number };
 
@@ -291,6 +316,11 @@ export interface StoreReader {
   /** Runs `read` against one committed state. */
   snapshot<T>(read: () => T): T;
   siteInputs(siteId: string): SiteInputs;
+  /**
+   * The site's outline and, from the same committed state, its inputs with the results and
+   * replaced reports of the samples `choose` names only.
+   */
+  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs };
   findFileByHash(sha256: string): StoredFile | undefined;
   openRefusals(fileId: number): OpenRefusal[];
   getMeta(key: string): string | undefined;
@@ -299,7 +329,7 @@ export interface StoreReader {
   ropes(siteId?: string): StoredRope[];
   currentResults(siteId?: string): StoredResult[];
   supersessions(): Supersession[];
-  replacedReports(siteId: string): ReplacedReport[];
+  replacedReports(siteId: string, sampleIds?: readonly string[]): ReplacedReport[];
   mistypedRefusals(siteId: string): MistypedRefusal[];
   unresolvedSampleIds(): string[];
   plannedRopes(siteId?: string): PlannedRope[];

@@ -5,19 +5,20 @@
 import type { Barn, Site } from '../config/types.js';
 import { roundForDueDate, type Round } from './rounds.js';
 import { compareText, groupBy, penOrder } from './penOrder.js';
-import type { MistypedInput, MistypedRope, PenRound, PlannedInput, RopeInput } from './roundTypes.js';
+import type { MistypedInput, MistypedRope, PenRound, PlannedInput } from './roundTypes.js';
 
 /**
  * Planned ropes without a result by the index of the round whose window holds their due date;
  * a planned rope that a sheet or a result placed is a rope of its own round already.
+ * @param placed the sample IDs of every rope of the site
+ * @param rounds every round of the site, or its earlier rounds' spans followed by those formed
  */
 export function plannedByRound(
   site: Site,
-  siteRopes: readonly RopeInput[],
-  rounds: readonly Round<RopeInput>[],
+  placed: ReadonlySet<string>,
+  rounds: readonly Pick<Round, 'startOn' | 'endOn'>[],
   plannedWithoutResults: readonly PlannedInput[],
 ): Map<string, PlannedInput[]> {
-  const placed = new Set(siteRopes.map((rope) => rope.sampleId));
   return groupBy(
     plannedWithoutResults.filter((rope) => !placed.has(rope.sampleId)),
     (rope) => String(roundForDueDate(rope.dueOn, rounds, site.program.roundWindowDays)),

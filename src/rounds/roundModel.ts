@@ -52,8 +52,17 @@ function indexSite(results: readonly ResultInput[], notes: RoundNotesInput): Sit
   };
 }
 
+/** Where a build of some of a site's rounds starts: what it needs of the rounds before. */
+export interface EarlierRounds {
+  /** The first day and last day of each round before (a planned rope's due date may fall in one). */
+  spans: readonly { startOn: string; endOn: string }[];
+  /** The sample IDs of every rope of the site, before or not (a placed planned rope is not missing). */
+  placed: ReadonlySet<string>;
+}
+
 /**
- * Builds every round of a site.
+ * Builds every round of a site, or with `earlier` the rounds from the first of `ropes` on (the
+ * ropes of those rounds only; each round is the same as in a build of the whole history).
  * @param ropes the site's ropes with locations (sheets, sample patterns, returned planned ropes)
  * @param results current (not superseded) results, any site; those whose sample is not a rope here are ignored
  * @param today the clock's date (yyyy-MM-dd): a round whose results are not yet due awaits them
@@ -66,13 +75,20 @@ export function buildSiteRounds(
   plannedWithoutResults: readonly PlannedInput[] = [],
   notes: RoundNotesInput = {},
   today?: string,
+  earlier?: EarlierRounds,
 ): SiteRound[] {
   const index = indexSite(results, notes);
   const siteRopes = ropes.filter((rope) => rope.siteId === site.id);
-  const rounds = formRounds(site.id, siteRopes, site.program.roundWindowDays);
-  const plannedRounds = plannedByRound(site, siteRopes, rounds, plannedWithoutResults);
+  const before = earlier?.spans ?? [];
+  const rounds = formRounds(site.id, siteRopes, site.program.roundWindowDays, before.length);
+  const plannedRounds = plannedByRound(
+    site,
+    earlier?.placed ?? new Set(siteRopes.map((rope) => rope.sampleId)),
+    before.length === 0 ? rounds : [...before, ...rounds],
+    plannedWithoutResults,
+  );
   return rounds.map((round, roundIndex) => {
-    const plannedHere = plannedRounds.get(String(roundIndex)) ?? [];
+    const plannedHere = plannedRounds.get(String(before.length + roundIndex)) ?? [];
     const draft = emptyRoundDraft(poolPensOf(round.ropes));
     const ropesByBarn = groupBy(round.ropes, (rope) => rope.barnId);
     const barns = site.barns.map((barn) => {

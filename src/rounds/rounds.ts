@@ -28,8 +28,18 @@ export function roundFolderName(number: number, startOn: string): string {
   return `r${String(number).padStart(2, '0')}-${startOn}`;
 }
 
-/** Groups one site's ropes into rounds. Ropes of other sites are an error: call per site. */
-export function formRounds<R extends DatedRope>(siteId: string, ropes: readonly R[], windowDays: number): Round<R>[] {
+/**
+ * Groups one site's ropes into rounds. Ropes of other sites are an error: call per site.
+ * @param earlierRounds how many rounds come before these ropes: the first rope must be the first
+ *   of a round (its number is earlierRounds + 1). A round opens on its first rope whatever came
+ *   before, so the ropes from a round's first day on form the same rounds as the whole history.
+ */
+export function formRounds<R extends DatedRope>(
+  siteId: string,
+  ropes: readonly R[],
+  windowDays: number,
+  earlierRounds = 0,
+): Round<R>[] {
   if (!Number.isInteger(windowDays) || windowDays < 1)
     throw new RangeError(`windowDays must be a positive integer, got ${windowDays}`);
   const sorted = [...ropes].sort((a, b) =>
@@ -43,7 +53,7 @@ export function formRounds<R extends DatedRope>(siteId: string, ropes: readonly 
     // A rope of the day before (sorted by day) joins its round: only a new day can open one.
     const sameDay = current !== undefined && rope.hungOn === current.endOn;
     if (!current || (!sameDay && daysBetween(current.startOn, rope.hungOn) >= windowDays)) {
-      const number = rounds.length + 1;
+      const number = earlierRounds + rounds.length + 1;
       current = {
         siteId,
         number,
@@ -143,7 +153,12 @@ export function roundForDueDate(
 ): number {
   let best = -1;
   let bestDistance = Infinity;
+  // A round starting `windowDays` or more from the due date cannot hold it (the span from one to
+  // the other alone is that long): compared as text first, so a long history costs little.
+  const range =
+    civilDay(dueOn) === undefined ? undefined : [addDaysIso(dueOn, -windowDays), addDaysIso(dueOn, windowDays)];
   rounds.forEach((round, index) => {
+    if (range !== undefined && (round.startOn <= range[0]! || round.startOn >= range[1]!)) return;
     const first = dueOn < round.startOn ? dueOn : round.startOn;
     const last = dueOn > round.endOn ? dueOn : round.endOn;
     if (daysBetween(first, last) >= windowDays) return;

@@ -17,7 +17,15 @@ import type {
   SupersessionKind,
 } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
-import type { OpenRefusal, SiteInputs, StoreCounts, StoredFileCounts, StoreReader } from '../domain/store.js';
+import type {
+  OpenRefusal,
+  SampleChoice,
+  SiteInputs,
+  SiteOutline,
+  StoreCounts,
+  StoredFileCounts,
+  StoreReader,
+} from '../domain/store.js';
 import type { ResultClass } from '../interpret/classify.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
@@ -89,6 +97,14 @@ function resultOfCells(cells: ResultCells, reasonText: (id: number) => string): 
   };
 }
 
+/**
+ * The samples of a site's ropes, of the pools they were tested in and of its planned ropes (and
+ * their pools): a condition on `r.sample` with the parameter @siteId.
+ */
+const SITE_SAMPLES = `r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId
+   UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL
+   UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = @siteId)`;
+
 export class SqliteReader implements StoreReader {
   /** @param fileOpen whether the connection is inside a file's transaction (then reads see it). */
   constructor(
@@ -110,6 +126,52 @@ export class SqliteReader implements StoreReader {
       replaced: this.replacedReports(siteId),
       mistyped: this.mistypedRefusals(siteId),
     }));
+  }
+
+  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
+    return this.snapshot(() => {
+      const outline: SiteOutline = {
+        version: this.siteVersion(siteId),
+        ropes: this.ropes(siteId),
+        reportKeys: this.reportKeys(siteId),
+        planned: this.plannedRopes(siteId),
+        plannedWithoutResults: this.plannedWithoutResults(siteId),
+        mistyped: this.mistypedRefusals(siteId),
+      };
+      const samples = choose(outline);
+      const inputs: SiteInputs = {
+        version: outline.version,
+        ropes: outline.ropes,
+        results: samples === undefined ? this.currentResults(siteId) : this.currentResultsOf(samples),
+        planned: outline.planned,
+        plannedWithoutResults: outline.plannedWithoutResults,
+        replaced: this.replacedReports(siteId, samples),
+        mistyped: outline.mistyped,
+      };
+      return { outline, inputs };
+    });
+  }
+
+  /** The site's samples (as `currentResults` chooses them) and their reports' keys (SiteOutline.reportKeys). */
+  private reportKeys(siteId: string): Map<string, string> {
+    const rows = this.db
+      .prepare(
+        `SELECT s.sample_id,
+                group_concat(r.id || '/' || (SELECT count(*) FROM supersessions o WHERE o.old_result_id = r.id), ',' ORDER BY r.id)
+         FROM results r JOIN samples s ON s.id = r.sample
+         WHERE ${SITE_SAMPLES}
+         GROUP BY r.sample`,
+      )
+      .raw(true)
+      .all({ siteId }) as [string, string][];
+    return new Map(rows);
+  }
+
+  /** Current results of the named samples, as `currentResults` gives them. */
+  private currentResultsOf(sampleIds: readonly string[]): StoredResult[] {
+    return this.resultRows('AND s.sample_id IN (SELECT value FROM json_each(@samples))', {
+      samples: JSON.stringify(sampleIds),
+    });
   }
 
   findFileByHash(sha256: string): StoredFile | undefined {
@@ -202,12 +264,11 @@ export class SqliteReader implements StoreReader {
    * site's ropes or planned ropes (so rewriting one site's outputs never reads the whole store).
    */
   currentResults(siteId?: string): StoredResult[] {
-    const ofSite =
-      siteId === undefined
-        ? ''
-        : `AND r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId
-             UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL
-             UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = @siteId)`;
+    return siteId === undefined ? this.resultRows('', {}) : this.resultRows(`AND ${SITE_SAMPLES}`, { siteId });
+  }
+
+  /** Current results under the extra condition `where` (on r and s), in id order. */
+  private resultRows(where: string, params: Record<string, string>): StoredResult[] {
     // The hottest read of a rebuild (every result of the site's history): rows as arrays, made
     // into objects of one shape by `resultOfCells` (see `ropes`); a reason's text is read once per
     // reason, not once per row.
@@ -221,11 +282,11 @@ export class SqliteReader implements StoreReader {
                   CASE WHEN r.measure = 'ct' THEN r.cycle_limit END, r.positive_at_or_above, r.suspect_at_or_above,
                   r.call_differs
            FROM results r JOIN samples s ON s.id = r.sample
-           WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
+           WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${where}
            ORDER BY r.id`,
         )
         .raw(true)
-        .all(siteId === undefined ? {} : { siteId }) as ResultCells[]
+        .all(params) as ResultCells[]
     ).map((cells) => resultOfCells(cells, reasonText));
   }
 
@@ -256,7 +317,8 @@ export class SqliteReader implements StoreReader {
    * no longer current, `inPlace` the one current in its place at the time of the link. In the
    * order the links were made.
    */
-  replacedReports(siteId: string): ReplacedReport[] {
+  replacedReports(siteId: string, sampleIds?: readonly string[]): ReplacedReport[] {
+    const chosen = sampleIds === undefined ? '' : 'AND v.sample_id IN (SELECT value FROM json_each(@samples))';
     const rows = this.db
       .prepare(
         `SELECT v.sample_id AS sampleId, v.assay_id AS assayId, v.lab_id AS labId, v.kind, v.reason,
@@ -269,9 +331,13 @@ export class SqliteReader implements StoreReader {
                                UNION SELECT s.sample_id FROM ropes h JOIN samples s ON s.id = h.pool WHERE h.site_id = @siteId
                                UNION SELECT sample_id FROM planned_ropes WHERE site_id = @siteId
                                UNION SELECT pool_id FROM planned_ropes WHERE site_id = @siteId AND pool_id IS NOT NULL)
+           ${chosen}
          ORDER BY MAX(v.old_result_id, v.new_result_id), MIN(v.old_result_id, v.new_result_id)`,
       )
-      .all({ siteId }) as Record<string, string | number | null>[];
+      .all(sampleIds === undefined ? { siteId } : { siteId, samples: JSON.stringify(sampleIds) }) as Record<
+      string,
+      string | number | null
+    >[];
     const reading = (row: Record<string, string | number | null>, side: 'old' | 'new'): StoredReading => ({
       resultClass: row[`${side}Class`] as ResultClass,
       ct: row[`${side}Ct`] as number | null,

@@ -25,7 +25,9 @@ import type {
   OpenRefusal,
   RejectedFile,
   RowRules,
+  SampleChoice,
   SiteInputs,
+  SiteOutline,
   StoreBackend,
   StoreCounts,
   StoredFileCounts,
@@ -129,6 +131,9 @@ export class Store implements StoreBackend {
   siteInputs(siteId: string): SiteInputs {
     return this.reader.siteInputs(siteId);
   }
+  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
+    return this.reader.siteInputsChosen(siteId, choose);
+  }
   findFileByHash(sha256: string): StoredFile | undefined {
     return this.reader.findFileByHash(sha256);
   }
@@ -153,8 +158,8 @@ export class Store implements StoreBackend {
   supersessions(): Supersession[] {
     return this.reader.supersessions();
   }
-  replacedReports(siteId: string): ReplacedReport[] {
-    return this.reader.replacedReports(siteId);
+  replacedReports(siteId: string, sampleIds?: readonly string[]): ReplacedReport[] {
+    return this.reader.replacedReports(siteId, sampleIds);
   }
   mistypedRefusals(siteId: string): MistypedRefusal[] {
     return this.reader.mistypedRefusals(siteId);

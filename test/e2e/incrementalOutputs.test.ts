@@ -1,7 +1,8 @@
 /**
  * Incremental outputs equal a full rebuild. After each file a drop rewrites only the rounds
  * whose findings changed (src/report/builtRounds.ts); here random sequences of the usual events
- * (a new round's rope sheet, then its results; a rope sheet that comes late for an earlier round;
+ * (a new round's rope sheet, then its results; the round the plan laid out, under its sample IDs,
+ * one of them mistyped and one never back; a rope sheet that comes late for an earlier round;
  * a lab's corrected report of an old round; one lab file for two sites; a rebuild weeks later,
  * when the next round is overdue), with the clock moving on between them, are dropped through the pipeline, and after every drop the outbox is compared
  * byte for byte with a full `report` of the same store into a second outbox. Demo configuration
@@ -168,6 +169,36 @@ class Scenario {
     await this.drop(`two-sites-${this.caseNumber}.csv`, this.labFile([...tamsin, ...hollow]));
   }
 
+  /**
+   * The round the plan laid out (outbox next-round.json): its ropes hung on the due date under the
+   * plan's sample IDs, results back for most of them, one written with its check character
+   * mistyped (refused, named with the ID it most likely meant), one never back.
+   */
+  async plannedRound(): Promise<void> {
+    const plan = JSON.parse(fs.readFileSync(path.join(this.ws.outbox, 'hollow-creek', 'next-round.json'), 'utf8')) as {
+      dueDate: string;
+      ropes: { sampleId: string; barnId: string; penId: string }[];
+    };
+    if (plan.ropes.length < 3) return this.newRoundSheet();
+    const hungOn = plan.dueDate > this.today ? plan.dueDate : this.today;
+    const ropes = plan.ropes.map((rope) => ({ ...rope, hungOn }));
+    this.rounds.push({ startOn: hungOn, ropes });
+    this.today = day(hungOn, 3);
+    const [mistyped, , ...back] = ropes;
+    const check = mistyped!.sampleId.at(-1) === 'A' ? 'B' : 'A';
+    const rows = [
+      ...this.results([{ ...mistyped!, sampleId: `${mistyped!.sampleId.slice(0, -1)}${check}` }]),
+      ...this.results(back),
+    ];
+    const file = path.join(this.inbox, `planned-${hungOn}.csv`);
+    fs.writeFileSync(file, this.labFile(rows));
+    const { receipt, outputError } = await processFile(this.ws, file);
+    // The mistyped row is refused; the rest are stored.
+    expect(receipt.status, JSON.stringify(receipt.reason)).toBe('accepted');
+    expect(outputError).toBeUndefined();
+    for (const siteId of receipt.sites) this.builtOn.set(siteId, this.today);
+  }
+
   /** Days pass with no file (the next round is late), then the outputs are brought up to date. */
   async laterRebuild(): Promise<void> {
     this.today = day(this.today, 20 + Math.floor(this.rng() * 20));
@@ -232,6 +263,7 @@ async function runSequence(seed: number, steps: number): Promise<{ compared: num
         await scenario.newRoundSheet();
         await scenario.newRoundResults();
       },
+      'planned round': () => scenario.plannedRound(),
       'late rope sheet': () => scenario.lateSheet(),
       'corrected report': () => scenario.reissue(),
       'file for two sites': () => scenario.twoSites(),
