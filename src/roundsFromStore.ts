@@ -8,7 +8,7 @@
 import path from 'node:path';
 import type { Site } from './config/types.js';
 import type { SiteInputs } from './domain/store.js';
-import { modelDigest } from './analysis/roundDigests.js';
+import { roundModelText } from './analysis/roundDigests.js';
 import { readKeptModels, roundModelFileText, ROUND_MODEL_FILE, type KeptRoundModel } from './report/keptRoundModels.js';
 import { roundKeys, type RoundKey } from './rounds/roundInputKeys.js';
 import { buildSiteRounds, type SiteRound } from './rounds/roundModel.js';
@@ -16,7 +16,7 @@ import type { OutputWriter } from './report/files.js';
 import type { Workspace } from './workspace.js';
 
 /** Bumped when the round model's shape changes: models kept under another version are formed again. */
-const ROUND_MODEL_VERSION = 1;
+const ROUND_MODEL_VERSION = 2;
 
 export interface SiteRoundsLoaded {
   /** The site's inputs; results and replaced reports only of the rounds formed here. */
@@ -65,20 +65,16 @@ export function loadSiteRounds(
   if (formedIds !== expectedIds)
     throw new Error(`site ${site.id}: rounds formed (${formedIds}) differ from the rounds outlined (${expectedIds})`);
   // The text is taken before anything reads the rounds: it is what a whole build keeps and digests.
-  const texts = formed.map((round) => JSON.stringify(round));
-  const formedDigests = texts.map(modelDigest);
+  const texts = formed.map(roundModelText);
   return {
     inputs,
     rounds: [...kept.map((round) => round.model), ...formed],
-    modelDigests: [...kept.map((round) => round.digest), ...formedDigests],
+    modelDigests: [...kept.map((round) => round.digest), ...texts.map((text) => text.digest)],
     firstFormed,
     keepFormed(writer) {
       texts.forEach((text, offset) => {
         const round = keys[firstFormed + offset]!;
-        writer.write(
-          path.join(siteDir, round.id, ROUND_MODEL_FILE),
-          roundModelFileText(round.key, text, formedDigests[offset]!),
-        );
+        writer.write(path.join(siteDir, round.id, ROUND_MODEL_FILE), roundModelFileText(round.key, text));
       });
     },
   };

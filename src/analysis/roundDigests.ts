@@ -10,26 +10,44 @@
  * the next round's plan says of it (an overdue round) and so covers the plan and the day.
  */
 import { createHash } from 'node:crypto';
+import type { SiteRound } from '../rounds/roundModel.js';
 import type { SiteFindings } from './analyseSite.js';
 
 export const sha256 = (text: string): string => createHash('sha256').update(text).digest('hex');
 
-/** The digest of a round's model (its JSON text), as the round digests read it. */
-export const modelDigest = (modelText: string): string => sha256(modelText);
+/**
+ * A round's model as JSON text in parts: the round with each barn's pens as their ids only, and
+ * each barn's pens; with the digest of the parts, which the round digests read. A kept model is
+ * read in the same parts, its pens only when something reads them (src/report/keptRoundModels.ts).
+ */
+export interface RoundModelText {
+  outline: string;
+  pens: string[];
+  digest: string;
+}
+
+export function roundModelText(round: SiteRound): RoundModelText {
+  const outline = JSON.stringify({
+    ...round,
+    barns: round.barns.map((barn) => ({ ...barn, pens: barn.pens.map((pen) => pen.penId) })),
+  });
+  const pens = round.barns.map((barn) => JSON.stringify(barn.pens));
+  return { outline, pens, digest: sha256(`${outline}\n${pens.join('\n')}`) };
+}
 
 /**
  * One digest per round, in round order.
  * @param settings what every round's outputs depend on beyond the store: the configuration's
  *   digest and the version of the files' format
  * @param today the day of the build (yyyy-mm-dd)
- * @param modelDigests each round's `modelDigest` (a round kept from an earlier build has it
- *   already); by default made here
+ * @param modelDigests each round's model digest (`roundModelText`; a round kept from an earlier
+ *   build has it already); by default made here
  */
 export function roundDigests(
   findings: Pick<SiteFindings, 'rounds' | 'confidence' | 'plan'>,
   settings: string,
   today: string,
-  modelDigests: readonly string[] = findings.rounds.map((round) => modelDigest(JSON.stringify(round))),
+  modelDigests: readonly string[] = findings.rounds.map((round) => roundModelText(round).digest),
 ): string[] {
   const last = findings.rounds.length - 1;
   let chain = sha256(`ropewatch round digest\n${settings}`);

@@ -4,6 +4,7 @@
  * are coded facts; src/report/summaryNotices.ts words them and adds the cautions, and the
  * writers in src/report turn it into summary.json and summary.csv without computing anything.
  */
+import { penIdsOf } from '../rounds/penIds.js';
 import type { Assay, Config, Site } from '../config/types.js';
 import { ctHistory, type SiteRound } from '../rounds/roundModel.js';
 import type { RoundConfidence, SiteConfidence } from './confidence.js';
@@ -153,7 +154,7 @@ function barnSummaries(
       awaitingSampleIds: barnRound.awaitingSampleIds,
       missingPens: barnRound.missingPens,
       mistyped: barnRound.mistyped,
-      sampledPens: barnRound.pens.map((pen) => pen.penId),
+      sampledPens: penIdsOf(barnRound),
       assays: round.assays.map((assayId) => {
         const { testedPens, ...tally } = barnRound.byAssay[assayId]!;
         return {

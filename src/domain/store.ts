@@ -292,9 +292,9 @@ export interface SiteOutline {
   version: number;
   ropes: StoredRope[];
   /**
-   * By sample ID (ropes, pools and planned ropes of the site): each report's id and how many
-   * later reports replaced it ("12/0,15/1"), in id order. A new report, a correction or a link
-   * between two reports changes it.
+   * By sample ID (ropes, pools and planned ropes of the site): how many reports it has, the newest
+   * one's id and how many of them another replaced ("3/1520/2"). Reports and the links between
+   * them are only ever added, so a new report, a correction or a new link changes it.
    */
   reportKeys: ReadonlyMap<string, string>;
   planned: PlannedRope[];

@@ -23,6 +23,7 @@
 import type { BarnPlanNote } from './barnNotes.js';
 import { inUsePens, type Pen, type PenContacts } from '../domain/layout.js';
 import type { SiteRound } from '../rounds/roundModel.js';
+import { penIdsOf } from '../rounds/penIds.js';
 import { requireInteger } from '../stats/validate.js';
 import { planFollowUp, type RopeReason } from './followUp.js';
 import { placeSystematic } from './placement.js';
@@ -113,25 +114,25 @@ export function pensToReRope(
   sinceRound: number,
 ): string[] {
   const latest = new Map<string, string>();
+  // From the barn's tallies (pens by the class of their result), not its pens: a long positive
+  // period is read without the pens of every round in it.
   for (const round of rounds) {
     if (round.number < sinceRound) continue;
     const barn = round.barns.find((entry) => entry.barnId === barnId);
-    for (const pen of barn?.pens ?? []) {
-      for (const assayId of assays) {
-        const result = pen.results[assayId];
-        if (!result) continue;
-        const key = `${pen.penId}\u0000${assayId}`;
-        if (result.resultClass === 'positive') latest.set(key, 'positive');
-        else if (latest.has(key) && result.resultClass === 'negative') latest.set(key, 'negative');
+    for (const assayId of assays) {
+      const tally = barn?.byAssay[assayId];
+      if (!tally) continue;
+      const notNegative = new Set([...tally.positivePens, ...tally.suspectPens]);
+      for (const penId of tally.positivePens) latest.set(`${penId}\u0000${assayId}`, 'positive');
+      for (const penId of tally.testedPens) {
+        const key = `${penId}\u0000${assayId}`;
+        if (!notNegative.has(penId) && latest.has(key)) latest.set(key, 'negative');
       }
     }
   }
   const pens = new Set([...latest].filter(([, state]) => state === 'positive').map(([key]) => key.split('\u0000')[0]!));
-  const order =
-    rounds
-      .at(-1)
-      ?.barns.find((entry) => entry.barnId === barnId)
-      ?.pens.map((pen) => pen.penId) ?? [];
+  const lastBarn = rounds.at(-1)?.barns.find((entry) => entry.barnId === barnId);
+  const order = lastBarn ? penIdsOf(lastBarn) : [];
   const rank = (penId: string) => {
     const index = order.indexOf(penId);
     return index === -1 ? order.length : index;

@@ -4,30 +4,54 @@
  * the rounds before the first whose key changed from here, and forms only the rest from the
  * store: reading and forming a long history is most of what a drop would cost otherwise.
  *
- * The file holds a header line (the key, the model's digest: src/analysis/roundDigests.ts
- * modelDigest) and the model's JSON text as it was made (JSON.stringify of the model): the text a
- * build of the whole history makes for the round, so its digest is too.
+ * The file holds a header line (the key, the model's digest), the round with its barns' pens as
+ * their ids, and a line per barn with its pens (src/analysis/roundDigests.ts `roundModelText`). A barn's pens
+ * are parsed when something first reads them: most of a model's bytes are its pens, and only the
+ * latest rounds' pens are read (the pens' history, the maps); the confidence and the freedom read
+ * the barns' tallies only.
  */
 import fs from 'node:fs';
 import path from 'node:path';
+import type { RoundModelText } from '../analysis/roundDigests.js';
 import type { RoundKey } from '../rounds/roundInputKeys.js';
-import type { SiteRound } from '../rounds/roundModel.js';
+import type { BarnRound, SiteRound } from '../rounds/roundModel.js';
+import { registerPenIds } from '../rounds/penIds.js';
 
 export const ROUND_MODEL_FILE = '.round-model.json';
 
 /** The header's tag: a model kept under another tag is formed again. */
-const MODEL_SCHEMA = 'ropewatch.round-model/v1';
+const MODEL_SCHEMA = 'ropewatch.round-model/v2';
 
 export interface KeptRoundModel {
   key: string;
-  /** modelDigest of the model's JSON text. */
+  /** RoundModelText.digest. */
   digest: string;
   model: SiteRound;
 }
 
-/** The file's content for a round formed under `key` (`digest`: modelDigest(text)). */
-export function roundModelFileText(key: string, text: string, digest: string): string {
-  return `${JSON.stringify({ schema: MODEL_SCHEMA, key, digest })}\n${text}\n`;
+/** The file's content for a round formed under `key`. */
+export function roundModelFileText(key: string, text: RoundModelText): string {
+  return `${JSON.stringify({ schema: MODEL_SCHEMA, key, digest: text.digest, barns: text.pens.length })}\n${text.outline}\n${text.pens.map((pens) => `${pens}\n`).join('')}`;
+}
+
+/**
+ * Makes `barn.pens` (read from the file as the pens' ids) parse `text` when first read: a plain
+ * property from then on, in the same place. The ids stay known (src/rounds/penIds.ts).
+ */
+function pensWhenRead(barn: BarnRound, text: string): void {
+  registerPenIds(barn, barn.pens as unknown as string[]);
+  const settle = (value: BarnRound['pens']) =>
+    Object.defineProperty(barn, 'pens', { value, writable: true, enumerable: true, configurable: true });
+  Object.defineProperty(barn, 'pens', {
+    get() {
+      const value = JSON.parse(text) as BarnRound['pens'];
+      settle(value);
+      return value;
+    },
+    set: settle,
+    enumerable: true,
+    configurable: true,
+  });
 }
 
 function readKept(file: string): KeptRoundModel | undefined {
@@ -37,17 +61,21 @@ function readKept(file: string): KeptRoundModel | undefined {
   } catch {
     return undefined;
   }
-  const newline = content.indexOf('\n');
-  if (newline < 0 || !content.endsWith('\n')) return undefined;
+  if (!content.endsWith('\n')) return undefined;
+  const lines = content.slice(0, -1).split('\n');
   try {
-    const header = JSON.parse(content.slice(0, newline)) as { schema?: unknown; key?: unknown; digest?: unknown };
-    if (header.schema !== MODEL_SCHEMA || typeof header.key !== 'string' || typeof header.digest !== 'string')
+    const header = JSON.parse(lines[0]!) as { schema?: unknown; key?: unknown; digest?: unknown; barns?: unknown };
+    if (
+      header.schema !== MODEL_SCHEMA ||
+      typeof header.key !== 'string' ||
+      typeof header.digest !== 'string' ||
+      lines.length !== 2 + Number(header.barns)
+    )
       return undefined;
-    return {
-      key: header.key,
-      digest: header.digest,
-      model: JSON.parse(content.slice(newline + 1, -1)) as SiteRound,
-    };
+    const model = JSON.parse(lines[1]!) as SiteRound;
+    if (model.barns.length !== header.barns) return undefined;
+    model.barns.forEach((barn, index) => pensWhenRead(barn, lines[2 + index]!));
+    return { key: header.key, digest: header.digest, model };
   } catch {
     return undefined;
   }

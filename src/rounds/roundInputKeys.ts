@@ -6,9 +6,9 @@
  * A round's model reads its own ropes, the reports of their samples and pools (their values, and
  * which replaced which), the planned ropes without a result whose due date falls in it, the
  * refusals under a mistyped ID, the site's configuration and whether its results are due by the
- * day of the build (roundState). The key covers each of them: the ropes whole, each report by its
- * id and how many later reports replaced it (reports are never changed in place, only added and
- * linked), the planned ropes whole. Refusals under a mistyped ID are few and tied to planned
+ * day of the build (roundState). The key covers each of them: the ropes whole, the reports of each
+ * sample by their count, the newest id and the count replaced (reports and links are never
+ * changed in place, only added), the planned ropes whole. Refusals under a mistyped ID are few and tied to planned
  * ropes rather than rounds: every key covers all of them.
  */
 import { createHash } from 'node:crypto';

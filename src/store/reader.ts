@@ -154,11 +154,12 @@ export class SqliteReader implements StoreReader {
 
   /** The site's samples (as `currentResults` chooses them) and their reports' keys (SiteOutline.reportKeys). */
   private reportKeys(siteId: string): Map<string, string> {
+    // Reports are only added (never changed or removed) and links too: the count of reports, the
+    // newest id and the count of replaced ones change with every change to a sample's reports.
     const rows = this.db
       .prepare(
-        `SELECT s.sample_id,
-                group_concat(r.id || '/' || (SELECT count(*) FROM supersessions o WHERE o.old_result_id = r.id), ',' ORDER BY r.id)
-         FROM results r JOIN samples s ON s.id = r.sample
+        `SELECT s.sample_id, count(*) || '/' || max(r.id) || '/' || count(o.old_result_id)
+         FROM results r JOIN samples s ON s.id = r.sample LEFT JOIN supersessions o ON o.old_result_id = r.id
          WHERE ${SITE_SAMPLES}
          GROUP BY r.sample`,
       )

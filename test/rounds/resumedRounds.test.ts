@@ -98,7 +98,7 @@ describe('rounds formed from a round on', () => {
 
   it('have keys that change with their own inputs only', () => {
     const history = randomHistory(seededRng(9));
-    const reportKeys = new Map(history.results.map((result) => [result.sampleId, `${result.id}/0`]));
+    const reportKeys = new Map(history.results.map((result) => [result.sampleId, `1/${result.id}/0`]));
     const plannedRopes: PlannedRope[] = history.planned.map((rope) => ({
       ...rope,
       siteId: site.id,
@@ -121,7 +121,7 @@ describe('rounds formed from a round on', () => {
     const round4 = before[3]!;
     const corrected = new Map(reportKeys);
     const sample = round4.sampleIds.find((id) => reportKeys.has(id))!;
-    corrected.set(sample, `${reportKeys.get(sample)!.replace('/0', '/1')},99999/0`);
+    corrected.set(sample, '2/99999/1');
     const after = roundKeys(site, outline({ reportKeys: corrected }), 'settings', TODAY);
     expect(after.map((round, i) => round.key !== before[i]!.key)).toEqual(before.map((_, i) => i === 3));
     // A rope moved to another pen in round 6: that round only.
