@@ -16,7 +16,10 @@ import { handOutOrder, regenerateOutputsInParallel, workersFor } from '../../src
 import { seededRng } from '../../src/util/random.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
 import { patternSampleId, writeManySiteConfig } from '../helpers/hardening.js';
-import { treeHashes } from '../helpers/workspace.js';
+import { runCli } from '../helpers/runCli.js';
+import { treeHashes, workspacesPerTest } from '../helpers/workspace.js';
+
+const demoWorkspace = workspacesPerTest();
 
 const SITES = 4;
 const ROUND_DAYS = ['2026-09-01', '2026-09-15', '2026-09-29'];
@@ -183,5 +186,32 @@ describe('the pool size and the hand-out order', () => {
   it('hands out the sites with the most pens first, in configuration order among equals', () => {
     const site = (pens: number) => ({ barns: [{ pens: Array.from({ length: pens }) }] }) as unknown as Site;
     expect(handOutOrder([site(10), site(30), site(10), site(20)])).toEqual([1, 3, 0, 2]);
+  });
+});
+
+describe('report --jobs', () => {
+  it('refuses a number of jobs below 1 or not whole, as a usage error', async () => {
+    const ws = demoWorkspace();
+    for (const jobs of ['0', '1.5', 'many']) {
+      const run = await runCli(['report', '--jobs', jobs, ...ws.cliFlags]);
+      expect(run.code, jobs).toBe(2);
+      expect(run.stderr, jobs).toContain('--jobs');
+    }
+  });
+
+  it('writes the same outbox with one job as with the default', { timeout: 120_000 }, async () => {
+    const prepared = await preparedStore();
+    const flags = (name: string) => {
+      const dir = path.join(path.dirname(prepared), name);
+      fs.cpSync(prepared, dir, { recursive: true });
+      const paths = pathsIn(dir);
+      return ['--config', paths.configDir, '--db', paths.dbFile, '--inbox', paths.inbox, '--outbox', paths.outbox];
+    };
+    const runs = [await runCli(['report', '--jobs', '1', ...flags('one')]), await runCli(['report', ...flags('many')])];
+    for (const run of runs) expect(run.code, run.stderr).toBe(0);
+    expect(runs[0]!.stdout.trim().split('\n')).toHaveLength(SITES);
+    expect(runs[1]!.stdout).toBe(runs[0]!.stdout);
+    const outbox = (name: string) => pathsIn(path.join(path.dirname(prepared), name)).outbox;
+    expect(treeHashes(outbox('many'), ['receipts'])).toEqual(treeHashes(outbox('one'), ['receipts']));
   });
 });
