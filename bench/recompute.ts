@@ -1,5 +1,5 @@
 /**
- * Recompute benchmark: `regenerateOutputs(ws)` (src/outputs.ts: rounds, detection confidence,
+ * Recompute benchmark: `regenerateOutputsInParallel(ws)` (src/siteBuild/pool.ts over src/outputs.ts: rounds, detection confidence,
  * summaries, spatial statistics, next-round plans, all files; what `ropewatch report` runs) over a
  * store of 2,000 site-rounds: 200 invented sites x 10 rounds (bench/workspaces.ts), with the
  * program's defaults (999 permutations, 2,000 simulated outbreaks). The store is filled through
@@ -18,7 +18,7 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { regenerateOutputs } from '../src/outputs.js';
+import { regenerateOutputsInParallel } from '../src/siteBuild/pool.js';
 import { generatedSite } from '../test/helpers/hardening.js';
 import { CALIBRATION_TEXT, calibrate, calibrationWork } from './calibration.js';
 import { lastJsonLine, ownPeakRssMb, runChild, terminalProgress, writeHook } from './childProcess.js';
@@ -46,8 +46,9 @@ async function runRecompute(dir: string): Promise<void> {
   const ws = openBenchWorkspace(dir, NOW);
   const cpu0 = process.cpuUsage();
   const t0 = performance.now();
-  // What `ropewatch report` runs: every round of every site, whatever was built before.
-  const builds = regenerateOutputs(ws, undefined, { full: true });
+  // What `ropewatch report` runs: every round of every site, whatever was built before, the
+  // sites built at once on worker threads (one per available core; their CPU time is the process's).
+  const builds = await regenerateOutputsInParallel(ws, undefined, { full: true });
   const wallMs = performance.now() - t0;
   const cpu = process.cpuUsage(cpu0);
   ws.close();

@@ -308,10 +308,54 @@ export interface RegenerateOptions extends BuildOptions {
   onSite?: (site: Site, place: number, of: number) => void;
 }
 
+/** The configured sites `siteIds` names, in configuration order (every site when undefined). */
+export function sitesNamed(ws: Workspace, siteIds?: readonly string[]): readonly Site[] {
+  return siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
+}
+
+/** A site whose build threw: the error is kept for the OutputError. */
+export interface FailedBuild {
+  siteId: string;
+  error: unknown;
+}
+
+/**
+ * Builds one site's outputs, as regenerateOutputs does for each: the unit the worker threads
+ * (src/siteBuildPool.ts) build too.
+ */
+export function buildSite(ws: Workspace, site: Site, options: BuildOptions = {}): SiteBuild {
+  // The outbreak models are per site and barn: a cache per site keeps memory to one site.
+  const { analysis, roundsWritten } = rebuildSite(ws, site, new OutbreakCache(ws.config.analysis), options);
+  return {
+    site: { id: site.id, name: site.name },
+    rounds: analysis.rounds.map((round) => ({ number: round.number, id: round.id, startOn: round.startOn })),
+    roundsWritten,
+  };
+}
+
+/**
+ * After the sites' builds: writes the index page, then throws when a build (or the index) failed.
+ * @throws OutputError naming every site that failed, with the first failure as its reason
+ */
+export function finishOutputs(ws: Workspace, failed: readonly FailedBuild[]): void {
+  const failures = [...failed];
+  try {
+    writeIndex(ws.outbox, ws.config);
+  } catch (error) {
+    failures.push({ siteId: 'the index page', error });
+  }
+  if (failures.length > 0)
+    throw new OutputError(
+      failures.map((failure) => failure.siteId),
+      failures[0]!.error,
+    );
+}
+
 /**
  * Regenerates the outputs of the named sites (all sites when none are named) from committed
  * data and stores their plans. Sites are built one at a time and nothing of a site's analysis
  * is kept once its files are written, so memory is bounded by the largest site, not the store.
+ * (src/siteBuildPool.ts builds several sites at once on worker threads.)
  * @throws OutputError when a site's outputs cannot be written (the others are still written)
  */
 export function regenerateOutputs(
@@ -319,34 +363,19 @@ export function regenerateOutputs(
   siteIds?: readonly string[],
   options: RegenerateOptions = {},
 ): SiteBuild[] {
-  const sites = siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
+  const sites = sitesNamed(ws, siteIds);
   if (sites.length === 0) return [];
   const builds: SiteBuild[] = [];
-  const failed: { siteId: string; error: unknown }[] = [];
+  const failed: FailedBuild[] = [];
   sites.forEach((site, index) => {
     options.onSite?.(site, index + 1, sites.length);
     try {
-      // The outbreak models are per site and barn: a cache per site keeps memory to one site.
-      const { analysis, roundsWritten } = rebuildSite(ws, site, new OutbreakCache(ws.config.analysis), options);
-      builds.push({
-        site: { id: site.id, name: site.name },
-        rounds: analysis.rounds.map((round) => ({ number: round.number, id: round.id, startOn: round.startOn })),
-        roundsWritten,
-      });
+      builds.push(buildSite(ws, site, options));
     } catch (error) {
       failed.push({ siteId: site.id, error });
     }
   });
-  try {
-    writeIndex(ws.outbox, ws.config);
-  } catch (error) {
-    failed.push({ siteId: 'the index page', error });
-  }
-  if (failed.length > 0)
-    throw new OutputError(
-      failed.map((failure) => failure.siteId),
-      failed[0]!.error,
-    );
+  finishOutputs(ws, failed);
   return builds;
 }
 

@@ -8,6 +8,7 @@
 export { buildSiteRounds } from '../rounds/roundModel.js';
 export { clockDay } from '../rounds/rounds.js';
 export { OutputError, regenerateOutputs, regenerateSite } from '../outputs.js';
+export { regenerateOutputsInParallel } from '../siteBuild/pool.js';
 export { removeStrayTemps } from '../report/files.js';
 export { planText } from '../report/planText.js';
 export { runDemo } from '../demo/runDemo.js';

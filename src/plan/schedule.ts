@@ -170,12 +170,14 @@ export function simulateDelay(
   requireInteger('replicates', options.replicates, 1, 1e7);
   const maxRounds = options.maxRounds ?? 10_000;
   requireInteger('maxRounds', maxRounds, 1, Number.MAX_SAFE_INTEGER, '[1, infinity)');
-  const cache = new Map<number, number>();
+  // Per-round detection by infected pens (an integer in [initialInfected, maxInfected]), asked of
+  // detectAt once per count: a typed array, since the replicate loop reads it every round.
+  const known = new Float64Array(model.maxInfected + 1).fill(Number.NaN);
   const detect = (infected: number) => {
-    let p = cache.get(infected);
-    if (p === undefined) {
+    let p = known[infected]!;
+    if (Number.isNaN(p)) {
       p = requireReturnedProbability('detectAt', model.detectAt(schedule.ropes, infected));
-      cache.set(infected, p);
+      known[infected] = p;
     }
     return p;
   };
@@ -184,9 +186,14 @@ export function simulateDelay(
   let detected = 0;
   for (let rep = 0; rep < options.replicates; rep++) {
     const firstRound = options.rng() * schedule.intervalDays; // days from introduction to the next round
+    // Infection only grows with the days, so once every pen is infected it stays so for the rest
+    // of the replicate: the power is not computed again (the draws are the same).
+    let everyPen = false;
     for (let round = 0; round < maxRounds; round++) {
       const days = firstRound + round * schedule.intervalDays;
-      if (options.rng() < detect(infectedAfter(model, days))) {
+      const infected: number = everyPen ? model.maxInfected : infectedAfter(model, days);
+      everyPen = infected === model.maxInfected;
+      if (options.rng() < detect(infected)) {
         sum += days;
         sumSq += days * days;
         detected++;

@@ -3,7 +3,7 @@
  * sampling (the number of positive pens fixed) and a permutation p-value that is exact when the
  * placements are few enough to enumerate.
  */
-import type { Rng } from '../util/random.js';
+import { fillUniform, type Rng } from '../util/random.js';
 import { logChoose } from './combinatorics.js';
 import { subWeights, weightConstants, type SpatialWeights } from './weights.js';
 
@@ -326,16 +326,19 @@ export function joinCountTest(
     const mark = new Uint8Array(n);
     const chosen = new Int32Array(n1);
     const pools = groups.map((pens) => Int32Array.from(pens));
+    // Each placement's n1 draws in one call (the same numbers, in the same order, as n1 calls).
+    const draws = new Float64Array(n1);
     let atLeast = 0;
     for (let m = 0; m < permutations; m++) {
       mark.fill(0);
+      fillUniform(rng, draws, n1);
       let c = 0;
       for (let s = 0; s < pools.length; s++) {
         const pool = pools[s]!;
         const k = groupPositives[s]!;
         // Partial Fisher-Yates: the first k slots of the pool become a uniform k-subset.
         for (let t = 0; t < k; t++) {
-          const r = t + Math.floor(rng() * (pool.length - t));
+          const r = t + Math.floor(draws[c]! * (pool.length - t));
           const tmp = pool[t]!;
           pool[t] = pool[r]!;
           pool[r] = tmp;

@@ -2,7 +2,7 @@
  * Global Moran's I on a continuous pen value (the load score), with moments under normality
  * and randomisation and a permutation p-value.
  */
-import type { Rng } from '../util/random.js';
+import { fillUniform, type Rng } from '../util/random.js';
 import { weightConstants, type SpatialWeights } from './weights.js';
 
 export interface MoranResult {
@@ -190,11 +190,14 @@ function moranPermutationP(
   const placedIn = new Int32Array(n);
   const slotAt = new Int32Array(n);
   const { offsets, neighbours, weights } = w;
+  // Each arrangement's k draws in one call (the same numbers, in the same order, as k calls).
+  const draws = new Float64Array(k);
   let atLeast = 0;
   for (let m = 0; m < permutations; m++) {
     const mark = m + 1;
+    fillUniform(rng, draws, k);
     for (let t = 0; t < k; t++) {
-      const j = t + Math.floor(rng() * (n - t));
+      const j = t + Math.floor(draws[t]! * (n - t));
       const p = positions[j]!;
       positions[j] = positions[t]!;
       positions[t] = p;

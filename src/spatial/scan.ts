@@ -2,7 +2,8 @@
  * Spatial scan statistic, Bernoulli model: the circular group of neighbouring sampled pens
  * whose share of positive ropes is most unlike the rest of the barn.
  */
-import type { Rng } from '../util/random.js';
+import { fillUniform, type Rng } from '../util/random.js';
+import { logChoose } from './combinatorics.js';
 import type { SpatialPoint } from './weights.js';
 
 export interface ScanCluster {
@@ -119,6 +120,61 @@ function maxLlr(win: ScanWindows, label: Uint8Array, C: number, t: Float64Array,
   return best;
 }
 
+/** Most pens a placement's key holds: bits 0-30 in one number, 31-52 in another (exact below 2^53). */
+const KEYED_PENS = 53;
+
+/**
+ * The maximum LLR of each of `permutations` placements of the C positives: a partial
+ * Fisher-Yates shuffle per placement (the first C slots of the pool become a uniform C-subset),
+ * its C draws taken from `rng` in order. The maximum depends only on which pens are positive, so
+ * when the placements are few against the replicates (C(n, C) at most four times their number, as
+ * with the one or two positives of most rounds), each placement's maximum is kept by its set of
+ * pens and looked up when the same set comes again: the same draws, the same maxima.
+ */
+function simulatedMaxima(
+  win: ScanWindows,
+  C: number,
+  t: Float64Array,
+  nullLl: number,
+  permutations: number,
+  rng: Rng,
+): Float64Array {
+  const n = win.n;
+  const simMax = new Float64Array(permutations);
+  const pool = Int32Array.from({ length: n }, (_, i) => i);
+  const perm = new Uint8Array(n);
+  const draws = new Float64Array(C);
+  const seen = n <= KEYED_PENS && logChoose(n, C) <= Math.log(4 * permutations) ? new Map<number, number>() : undefined;
+  for (let m = 0; m < permutations; m++) {
+    perm.fill(0);
+    fillUniform(rng, draws, C);
+    let low = 0;
+    let high = 0;
+    for (let k = 0; k < C; k++) {
+      const r = k + Math.floor(draws[k]! * (n - k));
+      const tmp = pool[k]!;
+      pool[k] = pool[r]!;
+      pool[r] = tmp;
+      const pen = pool[k]!;
+      perm[pen] = 1;
+      if (pen < 31) low |= 1 << pen;
+      else high |= 1 << (pen - 31);
+    }
+    if (seen === undefined) {
+      simMax[m] = maxLlr(win, perm, C, t, nullLl);
+      continue;
+    }
+    const key = (low >>> 0) + high * 2147483648;
+    let value = seen.get(key);
+    if (value === undefined) {
+      value = maxLlr(win, perm, C, t, nullLl);
+      seen.set(key, value);
+    }
+    simMax[m] = value;
+  }
+  return simMax;
+}
+
 /**
  * Spatial scan statistic, Bernoulli model: over circular windows of the nearest sampled pens
  * (up to `maxFraction` of the pens, default half, and `maxRadius`), the window with the largest
@@ -181,20 +237,7 @@ export function bernoulliScan(
   if (found.length === 0) return { ...base, mostLikely: null, secondary: [] };
   found.sort((a, b) => b.llr - a.llr || a.size - b.size || a.centre - b.centre);
 
-  const simMax = new Float64Array(permutations);
-  const pool = Int32Array.from({ length: n }, (_, i) => i);
-  const perm = new Uint8Array(n);
-  for (let m = 0; m < permutations; m++) {
-    perm.fill(0);
-    for (let k = 0; k < C; k++) {
-      const r = k + Math.floor(rng() * (n - k));
-      const tmp = pool[k]!;
-      pool[k] = pool[r]!;
-      pool[r] = tmp;
-      perm[pool[k]!] = 1;
-    }
-    simMax[m] = maxLlr(win, perm, C, t, nullLl);
-  }
+  const simMax = simulatedMaxima(win, C, t, nullLl, permutations, rng);
   const pOf = (llr: number) => {
     const threshold = llr - 1e-9 * Math.max(1, llr);
     let b = 0;

@@ -82,19 +82,19 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
   const draws = new Float64Array(n);
   const transmit = Float64Array.from(graph.weights, (w) => 1 - Math.min(1, beta * w));
   let reseeded = 0;
+  const { offsets, neighbours } = graph;
   for (let r = 0; r < realisations; r++) {
     state.fill(0);
+    // A pen's escape probability is (1 - background) times the transmit factor of each infected
+    // neighbour, multiplied in as each neighbour is infected: the same products, in the same
+    // order, as recomputing them from the list of infected pens at every step.
+    escapeProbability.fill(1 - background);
     let count = 0;
     const first = Math.floor(rng() * n);
     state[first] = 1;
     list[count++] = first;
+    for (let a = offsets[first]!; a < offsets[first + 1]!; a++) escapeProbability[neighbours[a]!]! *= transmit[a]!;
     while (count < d) {
-      escapeProbability.fill(1 - background);
-      for (let c = 0; c < count; c++) {
-        const i = list[c]!;
-        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++)
-          escapeProbability[graph.neighbours[a]!]! *= transmit[a]!;
-      }
       let added = 0;
       let reachable = false;
       // One draw per susceptible pen, in pen order.
@@ -124,8 +124,10 @@ export function simulateOutbreaks(graph: SpatialWeights, options: OutbreakOption
         const tmp = fresh[k]!;
         fresh[k] = fresh[s]!;
         fresh[s] = tmp;
-        state[fresh[k]!] = 1;
-        list[count++] = fresh[k]!;
+        const pen = fresh[k]!;
+        state[pen] = 1;
+        list[count++] = pen;
+        for (let a = offsets[pen]!; a < offsets[pen + 1]!; a++) escapeProbability[neighbours[a]!]! *= transmit[a]!;
       }
     }
     const base = r * words;
@@ -249,6 +251,17 @@ export function compareWithRandomPlacement(
 }
 
 /**
+ * The set bits of a 32-bit word (SWAR population count).
+ * @see Warren H.S. (2012) Hacker's Delight, 2nd ed., section 5-1.
+ */
+function bitCount(word: number): number {
+  let x = word - ((word >>> 1) & 0x55555555);
+  x = (x & 0x33333333) + ((x >>> 2) & 0x33333333);
+  x = (x + (x >>> 4)) & 0x0f0f0f0f;
+  return Math.imul(x, 0x01010101) >>> 24;
+}
+
+/**
  * The Monte Carlo loop of compareWithRandomPlacement: sums of the actual (0, 1: value and
  * square), random (2, 3) and paired difference (4, 5) detection over the outbreaks. A function
  * of its own that accumulates in place and returns at once: the engine compiles a long loop
@@ -261,15 +274,16 @@ function placementSums(outbreaks: Outbreaks, sampled: Int32Array, se: number, rn
   const missPow = Float64Array.from({ length: k + 1 }, (_, c) => (1 - se) ** c);
   const pool = Int32Array.from({ length: n }, (_, i) => i);
   const { bits, words, realisations } = outbreaks;
+  // The ropes hung as a bitset like the outbreaks': the infected ropes of an outbreak are then
+  // counted a word (32 pens) at a time.
+  const hung = new Uint32Array(words);
+  for (let s = 0; s < k; s++) hung[sampled[s]! >>> 5]! |= 1 << (sampled[s]! & 31);
   const sums = new Float64Array(6);
   const draws = new Float64Array(k);
   for (let r = 0; r < realisations; r++) {
     const base = r * words;
     let ca = 0;
-    for (let s = 0; s < k; s++) {
-      const i = sampled[s]!;
-      ca += (bits[base + (i >>> 5)]! >>> (i & 31)) & 1;
-    }
+    for (let w = 0; w < words; w++) ca += bitCount(bits[base + w]! & hung[w]!);
     let cr = 0;
     fillUniform(rng, draws, k);
     for (let t = 0; t < k; t++) {

@@ -76,6 +76,37 @@ describe('delay to detection while infection grows (Monte Carlo)', () => {
     expectClose(result.meanDays!, 7, { abs: 4 * result.standardError! }, 'uniform wait D=14 mean');
   });
 
+  it('gives the result of the plain replicate loop (the growth computed every round) for the same seed', () => {
+    // Reference: the Monte Carlo as its doc states it, written out: per replicate a uniform
+    // introduction within the interval, then per round the infected pens min(N, floor(d0 2^(t/T)))
+    // and one draw against detectAt. The kernel stops computing the growth once every pen is
+    // infected (it only grows) and keeps detectAt's answers in an array: the same draws and sums.
+    const detectAt = (n: number, d: number) => imperfectDetect(30, d, n, 0.7);
+    const model = { initialInfected: 1, doublingDays: 5, maxInfected: 30, detectAt };
+    const schedule = { ropes: 3, intervalDays: 14 };
+    const kernel = simulateDelay(schedule, model, { replicates: 3000, rng: seededRng(12) });
+    const rng = seededRng(12);
+    let sum = 0;
+    let sumSq = 0;
+    let detected = 0;
+    for (let rep = 0; rep < 3000; rep++) {
+      const first = rng() * 14;
+      for (let round = 0; round < 10_000; round++) {
+        const days = first + round * 14;
+        const infected = Math.min(30, Math.max(1, Math.floor(2 ** (days / 5))));
+        if (rng() < detectAt(3, infected)) {
+          sum += days;
+          sumSq += days * days;
+          detected++;
+          break;
+        }
+      }
+    }
+    expect(kernel.censored).toBe(3000 - detected);
+    expect(kernel.meanDays).toBe(sum / detected);
+    expect(kernel.standardError).toBe(Math.sqrt((sumSq - (sum * sum) / detected) / (detected - 1) / detected));
+  });
+
   it('grows infected pens by doubling and caps them at the pens in use', () => {
     const model = { initialInfected: 1, doublingDays: 7, maxInfected: 20, detectAt: () => 0 };
     expect([0, 6.9, 7, 14, 21, 35].map((t) => infectedAfter(model, t))).toEqual([1, 1, 2, 4, 8, 20]); // 2^(t/7), by hand

@@ -208,6 +208,17 @@ describe('join counts', () => {
     expect(() => joinCountTest(row6, [true], { rng: seededRng(1), permutations: 9 })).toThrow(RangeError);
     expect(() => joinCountTest(row6, labels(6, [1]), { rng: seededRng(1), permutations: 0 })).toThrow(/permutations/);
   });
+
+  it('gives the same Monte Carlo p when the generator is called once per draw as when it fills draws in bulk', () => {
+    // fillUniform's contract (src/util/random.ts): the same numbers in the same order as that many calls.
+    const w = lattice(4, 4);
+    const positive = labels(16, [0, 1, 2, 4, 5, 6, 13, 15]);
+    const inner = seededRng(3);
+    const perCall = joinCountTest(w, positive, { rng: () => inner(), permutations: 999, exactLimit: 100 });
+    const bulk = joinCountTest(w, positive, { rng: seededRng(3), permutations: 999, exactLimit: 100 });
+    expect(bulk.inference.method).toBe('monte-carlo');
+    expect(bulk.pPermutation).toBe(perCall.pPermutation);
+  });
 });
 
 describe('stratified join counts without joins between strata', () => {

@@ -220,4 +220,16 @@ describe("Moran's I", () => {
       expectSamplerNear(w, [1, 1, 0, 0, 3, 0, 3, 2], 'knn(2) row, repeated non-zero values');
     });
   });
+
+  it('gives the same permutation p when the generator is called once per draw as when it fills draws in bulk', () => {
+    // fillUniform's contract (src/util/random.ts): the same numbers in the same order as that many
+    // calls. A generator without a bulk fill is called per draw; the p-value must not change.
+    const w = grid(5, 5);
+    const loads = Array.from({ length: 25 }, (_, i) => (i % 7 === 0 ? 2 + (i % 3) : i === 12 ? 5 : 0));
+    const bulk = moranTest(w, loads, { rng: seededRng(23), permutations: 999 });
+    const inner = seededRng(23);
+    const perCall = moranTest(w, loads, { rng: () => inner(), permutations: 999 });
+    expect(perCall.pPermutation).toBe(bulk.pPermutation);
+    expect(bulk.pPermutation).toBeGreaterThan(0);
+  });
 });

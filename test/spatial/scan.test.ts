@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { seededRng } from '../../src/util/random.js';
+import { seededRng, type Rng } from '../../src/util/random.js';
 import { bernoulliScan, scanWindows } from '../../src/spatial/scan.js';
 import { expectClose } from '../helpers/expectClose.js';
 
@@ -68,4 +68,69 @@ describe('Bernoulli spatial scan', () => {
     const b = bernoulliScan(row6, positive, { rng: seededRng(5), permutations: 199 });
     expect(a).toEqual(b);
   });
+
+  it('gives the p-values of the plain replicate loop (one draw per call, every maximum computed) for the same seed', () => {
+    // The reference is Kulldorff's (1997) Monte Carlo step written out: per replicate, place the C
+    // positives by a partial Fisher-Yates shuffle drawing rng() once per positive, then take the
+    // largest Bernoulli LLR over the same circular windows. The kernel keeps each placement's
+    // maximum when placements are few (one or two positives) and draws in bulk: same numbers.
+    const pens: { id: string; x: number; y: number }[] = [];
+    for (let row = 0; row < 2; row++)
+      for (let p = 0; p < 20; p++) pens.push({ id: `${row ? 'B' : 'A'}${p + 1}`, x: p + 0.5, y: row ? 2 : 0.5 });
+    const positiveAt = (ids: string[]) => pens.map((pen) => ids.includes(pen.id));
+    for (const ids of [['A3'], ['A3', 'A4'], ['A3', 'A4', 'B4', 'A9', 'B15', 'A17', 'B1', 'B2', 'A12', 'A13']]) {
+      const positive = positiveAt(ids);
+      const scan = bernoulliScan(pens, positive, { rng: seededRng(17), permutations: 499 });
+      const reference = plainScanP(pens, positive, 499, seededRng(17));
+      const listed = [scan.mostLikely!, ...scan.secondary];
+      expect(listed.length, `${ids.length} positives`).toBeGreaterThan(0);
+      for (const cluster of listed)
+        expect(cluster.p, `${ids.length} positives, llr ${cluster.llr}`).toBe(reference(cluster.llr));
+    }
+  });
 });
+
+/** The Monte Carlo p of an LLR by the plain loop (see the test above that uses it). */
+function plainScanP(
+  points: { id: string; x: number; y: number }[],
+  positive: boolean[],
+  permutations: number,
+  rng: Rng,
+): (llr: number) => number {
+  const n = points.length;
+  const windows = scanWindows(points, Math.floor(n / 2));
+  const C = positive.filter(Boolean).length;
+  const xlogx = (k: number) => (k === 0 ? 0 : k * Math.log(k));
+  const llr = (c: number, m: number) =>
+    c * (n - m) <= (C - c) * m
+      ? 0
+      : xlogx(c) +
+        xlogx(m - c) -
+        xlogx(m) +
+        xlogx(C - c) +
+        xlogx(n - m - C + c) -
+        xlogx(n - m) -
+        (xlogx(C) + xlogx(n - C) - xlogx(n));
+  const pool = Array.from({ length: n }, (_, i) => i);
+  const maxima: number[] = [];
+  for (let m = 0; m < permutations; m++) {
+    const label = new Array<number>(n).fill(0);
+    for (let k = 0; k < C; k++) {
+      const r = k + Math.floor(rng() * (n - k));
+      [pool[k], pool[r]] = [pool[r]!, pool[k]!];
+      label[pool[k]!] = 1;
+    }
+    let best = 0;
+    for (let c0 = 0; c0 < n; c0++)
+      for (const size of windows.sizes[c0]!) {
+        let c = 0;
+        for (let at = 0; at < size; at++) c += label[windows.order[c0]![at]!]!;
+        best = Math.max(best, llr(c, size));
+      }
+    maxima.push(best);
+  }
+  return (observed) => {
+    const threshold = observed - 1e-9 * Math.max(1, observed);
+    return (1 + maxima.filter((v) => v >= threshold).length) / (1 + permutations);
+  };
+}

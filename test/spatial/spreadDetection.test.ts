@@ -140,4 +140,87 @@ describe('spatially aware detection by simulated outbreaks', () => {
       simulateOutbreaks(graph, { infected: 0, beta: 0.3, background: 0, realisations: 1, rng: seededRng(1) }),
     ).toThrow(/infected/);
   });
+
+  it('simulates the outbreaks the chain-binomial step gives when every escape probability is recomputed each step', () => {
+    // Reference: the step as Bailey (1975, ch. 14) states it, written out in the test: each step
+    // every susceptible pen escapes with (1 - background) times (1 - beta w) for each infected
+    // neighbour, products taken over the infected pens in the order they were infected, one draw
+    // per susceptible pen in pen order, a uniform subset kept on overshoot, re-seeding a stalled
+    // outbreak. The kernel keeps the products up to date as pens are infected: the same bits.
+    const layout = barn(12);
+    const graph = contactWeights(layout, idsOf(layout), 'queen', 'binary');
+    for (const [beta, background] of [
+      [0.3, 0.01],
+      [0.5, 0],
+    ] as const) {
+      const options = { infected: 7, beta, background, realisations: 300 };
+      const kernel = simulateOutbreaks(graph, { ...options, rng: seededRng(41) });
+      const reference = referenceOutbreaks(graph, { ...options, rng: seededRng(41) });
+      expect(Array.from(kernel.bits), `beta ${beta} background ${background}`).toEqual(reference.bits);
+      expect(kernel.reseeded).toBe(reference.reseeded);
+    }
+  });
+
+  it('counts the infected ropes of each outbreak as detectionProbability does', () => {
+    // The comparison counts the ropes hung a word at a time; its actual column must be the
+    // per-pen product of detectionProbability (Cameron & Baldock 1998), to the last digit.
+    const layout = barn(25);
+    const ids = idsOf(layout);
+    const outbreaks = simulateOutbreaks(contactWeights(layout, ids, 'queen', 'binary'), {
+      infected: 5,
+      beta: 0.3,
+      background: 0.001,
+      realisations: 2000,
+      rng: seededRng(8),
+    });
+    const ropes = ids.filter((_, i) => i % 4 === 1);
+    const comparison = compareWithRandomPlacement(outbreaks, ropes, 0.85, seededRng(9));
+    const direct = detectionProbability(outbreaks, ropes, 0.85);
+    expect(comparison.actual.p).toBe(direct.p);
+    expect(comparison.actual.standardError).toBe(direct.standardError);
+  });
 });
+
+/** The plain chain-binomial simulation (see the test that uses it); bits as simulateOutbreaks packs them. */
+function referenceOutbreaks(
+  graph: ReturnType<typeof contactWeights>,
+  options: { infected: number; beta: number; background: number; realisations: number; rng: () => number },
+): { bits: number[]; reseeded: number } {
+  const n = graph.ids.length;
+  const { infected: d, beta, background, realisations, rng } = options;
+  const words = Math.ceil(n / 32);
+  const bits = new Array<number>(words * realisations).fill(0);
+  let reseeded = 0;
+  for (let r = 0; r < realisations; r++) {
+    const state = new Array<boolean>(n).fill(false);
+    const list = [Math.floor(rng() * n)];
+    state[list[0]!] = true;
+    while (list.length < d) {
+      const escapes = new Array<number>(n).fill(1 - background);
+      for (const i of list)
+        for (let a = graph.offsets[i]!; a < graph.offsets[i + 1]!; a++)
+          escapes[graph.neighbours[a]!]! *= 1 - Math.min(1, beta * graph.weights[a]!);
+      const fresh: number[] = [];
+      let reachable = false;
+      for (let j = 0; j < n; j++) {
+        if (state[j]) continue;
+        if (escapes[j]! < 1) reachable = true;
+        if (rng() >= escapes[j]!) fresh.push(j);
+      }
+      if (!reachable) {
+        const susceptible = state.flatMap((s, j) => (s ? [] : [j]));
+        fresh.push(susceptible[Math.floor(rng() * susceptible.length)]!);
+        reseeded++;
+      }
+      const keep = Math.min(fresh.length, d - list.length);
+      for (let k = 0; k < keep; k++) {
+        const s = k + Math.floor(rng() * (fresh.length - k));
+        [fresh[k], fresh[s]] = [fresh[s]!, fresh[k]!];
+        state[fresh[k]!] = true;
+        list.push(fresh[k]!);
+      }
+    }
+    for (const i of list) bits[r * words + (i >>> 5)]! |= 1 << (i & 31);
+  }
+  return { bits: bits.map((word) => word >>> 0), reseeded };
+}

@@ -8,10 +8,14 @@ import { commandModules } from '../command.js';
 import type * as CommandModules from '../commandModules.js';
 import { addCommonOptions, type CommonOptions } from '../commonOptions.js';
 import { InputRejectedError, printJson, UsageError, type CliIo } from '../io.js';
+import { parseIntegerOption } from '../parseArgs.js';
 
-type ReportOptions = CommonOptions & { site?: string; round?: string };
-type Builds = ReturnType<typeof CommandModules.regenerateOutputs>;
+type ReportOptions = CommonOptions & { site?: string; round?: string; jobs?: string };
+type Builds = Awaited<ReturnType<typeof CommandModules.regenerateOutputsInParallel>>;
 type Modules = Pick<typeof CommandModules, 'siteOption'>;
+
+/** The most sites `--jobs` builds at once (each worker holds a site's analysis and a store connection). */
+const MAX_JOBS = 64;
 
 /** Every file under `dir`, relative to `base` with `/` between folders, sorted. */
 function filesUnder(dir: string, base: string): string[] {
@@ -70,16 +74,25 @@ export function registerReport(program: Command, io: CliIo): void {
       .description('rebuild every output (summaries, cluster reviews, rope lists, pages) from the store')
       .option('--site <site>', 'only this site')
       .option('--round <round>', 'only this round number (with --site); the site folder is still rewritten whole')
+      .option(
+        '--jobs <n>',
+        'sites built at once, each on a worker thread (default: one per available core; 1 builds one site at a time in this process)',
+      )
       .option('--json', 'print what was written as JSON: per site its rounds and files'),
   ).action(async (options: ReportOptions) => {
+    const jobs = options.jobs === undefined ? undefined : parseIntegerOption('--jobs', options.jobs, 1, MAX_JOBS);
     const modules = await commandModules();
-    const { deliverOwedAlerts, OutputError, regenerateOutputs, removeStrayTemps, withWorkspace } = modules;
+    const { deliverOwedAlerts, OutputError, regenerateOutputsInParallel, removeStrayTemps, withWorkspace } = modules;
     await withWorkspace(io, options, async (ws) => {
       const siteIds = chosenSites(ws, options, modules);
       removeStrayTemps(ws.outbox);
       let builds: Builds;
       try {
-        builds = regenerateOutputs(ws, siteIds, { full: true, ...progressOn(io) });
+        builds = await regenerateOutputsInParallel(ws, siteIds, {
+          full: true,
+          ...(jobs === undefined ? {} : { jobs }),
+          ...progressOn(io),
+        });
       } catch (error) {
         if (error instanceof OutputError) throw new InputRejectedError(error.message);
         throw error;
