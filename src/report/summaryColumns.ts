@@ -3,7 +3,7 @@
  * dates, history points, where the results came from, and results refused under a mistyped ID.
  * Column names are stable and documented in the README; new columns go at the end.
  */
-import { columnPlaces, rowCells, type CsvRow, type CsvValue } from './csvTable.js';
+import { CsvColumns, type CsvRow, type CsvValue } from './csvTable.js';
 import type { SourceSummary } from '../analysis/roundSummary.js';
 import type { CtHistoryPoint, MistypedRope } from '../rounds/roundModel.js';
 import { refusalGroups } from './roundNotes.js';
@@ -91,26 +91,8 @@ export type SummaryRow = CsvRow<Column>;
 type Row = SummaryRow;
 /** One row of summary.csv as its cells in the columns' order. */
 export type SummaryCells = CsvValue[];
-
-const PLACE = columnPlaces(SUMMARY_COLUMNS);
-
-/** Cells of the columns `row` names, blank elsewhere. */
-export function summaryBase(row: Row): SummaryCells {
-  return rowCells(SUMMARY_COLUMNS, row);
-}
-
-/**
- * A row as cells: a copy of `base` with each column `row` names set to its value (a key present
- * but undefined blanks the cell, as a later key of an object spread would). Rows are written
- * this way rather than as `{ ...base, ... }`: V8 builds an object literal that starts with a
- * spread and adds some thirty keys about a hundred times slower than the same literal alone,
- * and a recompute writes hundreds of thousands of rows.
- */
-export function summaryCells(base: readonly CsvValue[], row: Row): SummaryCells {
-  const cells = base.slice();
-  for (const column in row) cells[PLACE[column as Column]] = row[column as Column];
-  return cells;
-}
+/** The columns of summary.csv, building rows as cells. */
+export const SUMMARY_TABLE = new CsvColumns(SUMMARY_COLUMNS);
 
 /** Probabilities to six decimals: enough to compare, short enough to read. */
 export function formatProbability(value: number): string {

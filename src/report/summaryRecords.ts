@@ -13,8 +13,7 @@ import {
   mistypedCells,
   provenance,
   spHistoryCell,
-  summaryBase,
-  summaryCells,
+  SUMMARY_TABLE,
   type SummaryCells as Cells,
   type SummaryRow as Row,
 } from './summaryColumns.js';
@@ -48,7 +47,7 @@ function herdCells(herdStatus: HerdStatus | undefined): Row {
  */
 function noResultRows(summary: RoundSummary, base: Cells, herd: Row): Cells[] {
   const rows: Cells[] = [
-    summaryCells(base, {
+    SUMMARY_TABLE.over(base, {
       ...herd,
       level: 'site',
       // Every barn's pens, as written before any result came back (the assay rows leave out an empty barn's).
@@ -60,7 +59,7 @@ function noResultRows(summary: RoundSummary, base: Cells, herd: Row): Cells[] {
   ];
   for (const barn of summary.barns) {
     rows.push(
-      summaryCells(base, {
+      SUMMARY_TABLE.over(base, {
         level: 'barn',
         barn: barn.barnId,
         pens_in_use: barn.pensInUse,
@@ -76,7 +75,7 @@ function noResultRows(summary: RoundSummary, base: Cells, herd: Row): Cells[] {
 /** One site row per assay: the site's counts, detection, freedom and where the results came from. */
 function siteRow(summary: RoundSummary, assay: RoundSummary['assays'][number], base: Cells, herd: Row): Cells {
   const totals = siteTally(summary, assay.id);
-  return summaryCells(base, {
+  return SUMMARY_TABLE.over(base, {
     level: 'site',
     assay: assay.id,
     pens_in_use: totals.pens,
@@ -114,7 +113,7 @@ function siteRow(summary: RoundSummary, assay: RoundSummary['assays'][number], b
 
 /** The site rows of a round: one per assay, or the rows without an assay while no result is back. */
 export function siteRows(summary: RoundSummary, herdStatus: HerdStatus | undefined): Cells[] {
-  const base = summaryBase(roundCells(summary));
+  const base = SUMMARY_TABLE.cells(roundCells(summary));
   const herd = herdCells(herdStatus);
   return [
     ...(summary.assays.length === 0 ? noResultRows(summary, base, herd) : []),
@@ -127,7 +126,7 @@ type SummaryBarn = RoundSummary['barns'][number];
 /** One barn row of one assay: counts, detection against the target, prevalence, pools, freedom. */
 function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['assays'][number], base: Cells): Cells {
   const c = entry.confidence;
-  return summaryCells(base, {
+  return SUMMARY_TABLE.over(base, {
     level: 'barn',
     barn: barn.barnId,
     assay: entry.assayId,
@@ -170,11 +169,11 @@ function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['a
 
 /** The barn rows of a round, one per barn and assay; an empty barn (between a group's close-out and the next placement): no figure, nothing missing. */
 export function barnRows(summary: RoundSummary): Cells[] {
-  const base = summaryBase(roundCells(summary));
+  const base = SUMMARY_TABLE.cells(roundCells(summary));
   return summary.barns.flatMap((barn) =>
     barn.assays.map((entry) =>
       barn.empty
-        ? summaryCells(base, {
+        ? SUMMARY_TABLE.over(base, {
             level: 'barn',
             barn: barn.barnId,
             assay: entry.assayId,
@@ -191,7 +190,7 @@ export function barnRows(summary: RoundSummary): Cells[] {
 
 /** One pen row per result: the reading, its history, the lab and cutoffs, corrections; then one row per pen whose result was refused under a mistyped ID. */
 export function penRows(summary: RoundSummary): Cells[] {
-  const base = summaryBase(roundCells(summary));
+  const base = SUMMARY_TABLE.cells(roundCells(summary));
   const rows: Cells[] = [];
   const groupOfBarn = new Map(summary.barns.map((barn) => [barn.barnId, barn.group]));
   for (const pen of summary.pens) {
@@ -199,7 +198,7 @@ export function penRows(summary: RoundSummary): Cells[] {
     for (const [assayId, result] of Object.entries(pen.results)) {
       const antibody = result.measure === 'sp-ratio';
       rows.push(
-        summaryCells(base, {
+        SUMMARY_TABLE.over(base, {
           level: 'pen',
           barn: pen.barnId,
           pen: pen.penId,
@@ -240,7 +239,7 @@ export function penRows(summary: RoundSummary): Cells[] {
   for (const barn of summary.barns) {
     for (const rope of barn.mistyped) {
       rows.push(
-        summaryCells(base, {
+        SUMMARY_TABLE.over(base, {
           level: 'pen',
           barn: barn.barnId,
           pen: rope.penId,
