@@ -160,7 +160,9 @@ function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['a
     ...provenance(barn.sources, entry.assayId),
     measure: c.measure,
     ...mistypedCells(barn.mistyped),
-    ...(barn.group === null ? {} : { group: barn.group.id, group_placed_on: barn.group.placedOn }),
+    // Blank without a group (the round's cells leave them blank).
+    group: barn.group?.id,
+    group_placed_on: barn.group?.placedOn,
     barn_empty: false,
     barn_freedom:
       c.status?.state === 'positive' ? 'positive' : c.freedom === null ? null : formatProbability(c.freedom),
@@ -230,7 +232,9 @@ export function penRows(summary: RoundSummary): Cells[] {
             .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
             .map(replacementCell)
             .join('; '),
-          ...(group === null ? {} : { group: group.id, group_placed_on: group.placedOn }),
+          // Blank without a group (the round's cells leave them blank).
+          group: group?.id,
+          group_placed_on: group?.placedOn,
         }),
       );
     }
