@@ -78,7 +78,8 @@ export function csvLine(cells: CsvCells): string {
  * the same literal alone, and a recompute writes hundreds of thousands of rows.
  */
 export class CsvColumns<C extends string> {
-  private readonly place: Readonly<Record<C, number>>;
+  /** Each column's place in a row of cells. */
+  readonly place: Readonly<Record<C, number>>;
 
   constructor(readonly names: readonly C[]) {
     const place = {} as Record<C, number>;

@@ -122,6 +122,7 @@ export function siteRows(summary: RoundSummary, herdStatus: HerdStatus | undefin
 }
 
 type SummaryBarn = RoundSummary['barns'][number];
+const AT = SUMMARY_TABLE.place;
 
 /** One barn row of one assay: counts, detection against the target, prevalence, pools, freedom. */
 function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['assays'][number], base: Cells): Cells {
@@ -190,7 +191,11 @@ export function barnRows(summary: RoundSummary): Cells[] {
   );
 }
 
-/** One pen row per result: the reading, its history, the lab and cutoffs, corrections; then one row per pen whose result was refused under a mistyped ID. */
+/**
+ * One pen row per result: the reading, its history, the lab and cutoffs, corrections; then one
+ * row per pen whose result was refused under a mistyped ID. Pen rows are most of the table:
+ * their cells are set by column place, with no object per row.
+ */
 export function penRows(summary: RoundSummary): Cells[] {
   const base = SUMMARY_TABLE.cells(roundCells(summary));
   const rows: Cells[] = [];
@@ -199,44 +204,42 @@ export function penRows(summary: RoundSummary): Cells[] {
     const group = groupOfBarn.get(pen.barnId) ?? null;
     for (const [assayId, result] of Object.entries(pen.results)) {
       const antibody = result.measure === 'sp-ratio';
-      rows.push(
-        SUMMARY_TABLE.over(base, {
-          level: 'pen',
-          barn: pen.barnId,
-          pen: pen.penId,
-          side: pen.side,
-          assay: assayId,
-          sample_ids: pen.sampleIds.join(' '),
-          class: result.resultClass,
-          pool: result.pool?.poolId ?? null,
-          ct: result.ct,
-          load_band: result.loadBand,
-          reason: result.reason,
-          ct_history: antibody ? null : result.history.map(historyCell).join(' '),
-          lab_call: result.labCall,
-          call_differs: result.callDiffers,
-          lab: result.labName,
-          accession: result.accession,
-          collected_on: result.collectedOn,
-          reported_on: result.reportedOn,
-          positive_below: result.positiveBelow,
-          suspect_below: result.suspectBelow,
-          cycle_limit: result.cycleLimit,
-          sequencing_candidate: result.sequencingCandidate,
-          measure: result.measure,
-          sp: result.sp,
-          sp_history: antibody ? result.history.map(spHistoryCell).join(' ') : null,
-          positive_at_or_above: result.positiveAtOrAbove,
-          suspect_at_or_above: result.suspectAtOrAbove,
-          corrections: summary.replaced
-            .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
-            .map(replacementCell)
-            .join('; '),
-          // Blank without a group (the round's cells leave them blank).
-          group: group?.id,
-          group_placed_on: group?.placedOn,
-        }),
-      );
+      const cells = base.slice();
+      cells[AT.level] = 'pen';
+      cells[AT.barn] = pen.barnId;
+      cells[AT.pen] = pen.penId;
+      cells[AT.side] = pen.side;
+      cells[AT.assay] = assayId;
+      cells[AT.sample_ids] = pen.sampleIds.join(' ');
+      cells[AT.class] = result.resultClass;
+      cells[AT.pool] = result.pool?.poolId ?? null;
+      cells[AT.ct] = result.ct;
+      cells[AT.load_band] = result.loadBand;
+      cells[AT.reason] = result.reason;
+      cells[AT.ct_history] = antibody ? null : result.history.map(historyCell).join(' ');
+      cells[AT.lab_call] = result.labCall;
+      cells[AT.call_differs] = result.callDiffers;
+      cells[AT.lab] = result.labName;
+      cells[AT.accession] = result.accession;
+      cells[AT.collected_on] = result.collectedOn;
+      cells[AT.reported_on] = result.reportedOn;
+      cells[AT.positive_below] = result.positiveBelow;
+      cells[AT.suspect_below] = result.suspectBelow;
+      cells[AT.cycle_limit] = result.cycleLimit;
+      cells[AT.sequencing_candidate] = result.sequencingCandidate;
+      cells[AT.measure] = result.measure;
+      cells[AT.sp] = result.sp;
+      cells[AT.sp_history] = antibody ? result.history.map(spHistoryCell).join(' ') : null;
+      cells[AT.positive_at_or_above] = result.positiveAtOrAbove;
+      cells[AT.suspect_at_or_above] = result.suspectAtOrAbove;
+      cells[AT.corrections] = summary.replaced
+        .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
+        .map(replacementCell)
+        .join('; ');
+      // Blank without a group (the round's cells leave them blank).
+      cells[AT.group] = group?.id;
+      cells[AT.group_placed_on] = group?.placedOn;
+      rows.push(cells);
     }
   }
   // A pen whose result came back under a mistyped ID has no result to show: one row, no assay.
