@@ -65,7 +65,10 @@ export function csvLine(cells: CsvCells): string {
   let line = '';
   for (let c = 0; c < cells.length; c++) {
     if (c > 0) line += ',';
-    line += csvField(csvCell(cells[c]));
+    const value = cells[c];
+    // Blanks (most cells of a wide table) add nothing; a finite number is plain text with nothing to neutralise or quote.
+    if (value === null || value === undefined) continue;
+    line += typeof value === 'number' && Number.isFinite(value) ? String(value) : csvField(csvCell(value));
   }
   return line;
 }
