@@ -4,7 +4,7 @@
  * (linked positive pens), `pen` (local statistics), `spread` (each new positive's distance to the
  * nearest earlier one). Column names are stable and documented in the README.
  */
-import { csvTable, type CsvRow } from './csvTable.js';
+import { CsvColumns, type CsvCells } from './csvTable.js';
 import type { RoundSpatial } from '../analysis/spatialRound.js';
 
 export const CLUSTERS_COLUMNS = [
@@ -53,8 +53,8 @@ export const CLUSTERS_COLUMNS = [
   'sp',
 ] as const;
 
-type Column = (typeof CLUSTERS_COLUMNS)[number];
-type Row = CsvRow<Column>;
+type Cells = CsvCells;
+const TABLE = new CsvColumns(CLUSTERS_COLUMNS);
 
 const num = (value: number | null | undefined, digits = 6) =>
   value === null || value === undefined ? null : Number(value.toFixed(digits));
@@ -63,10 +63,9 @@ type AssaySpatial = RoundSpatial['assays'][number];
 type BarnReport = AssaySpatial['report']['barns'][number];
 
 /** The site row of an assay: the join count with positives permuted within barns. */
-function siteRow(assay: AssaySpatial, base: Row): Row {
+function siteRow(assay: AssaySpatial, base: Cells): Cells {
   const site = assay.report;
-  return {
-    ...base,
+  return TABLE.over(base, {
     level: 'site',
     assay: assay.assayId,
     bb: site.joinCount?.bb ?? null,
@@ -78,14 +77,13 @@ function siteRow(assay: AssaySpatial, base: Row): Row {
     spread_pattern: site.spread.pattern,
     seed: site.seed,
     measure: assay.measure,
-  };
+  });
 }
 
 /** The barn row: its global statistics (join count, Moran's I, scan) and the detection of the ropes hung. */
-function barnRow(assay: AssaySpatial, barn: BarnReport, base: Row): Row {
+function barnRow(assay: AssaySpatial, barn: BarnReport, base: Cells): Cells {
   const detection = assay.detection.find((entry) => entry.barnId === barn.barn);
-  return {
-    ...base,
+  return TABLE.over(base, {
     level: 'barn',
     assay: assay.assayId,
     barn: barn.barn,
@@ -110,16 +108,15 @@ function barnRow(assay: AssaySpatial, barn: BarnReport, base: Row): Row {
     detection_random_ropes: num(detection?.randomRopes),
     seed: barn.seed,
     measure: assay.measure,
-  };
+  });
 }
 
 /** The barn's rows below it: its clusters, its pens' local statistics, and each new positive's distance to the nearest earlier one. */
-function barnDetailRows(assay: AssaySpatial, barn: BarnReport, base: Row): Row[] {
-  const at = { ...base, assay: assay.assayId, barn: barn.barn, measure: assay.measure };
-  const clusters: Row[] = barn.clusters.map((cluster) => {
+function barnDetailRows(assay: AssaySpatial, barn: BarnReport, base: Cells): Cells[] {
+  const at = TABLE.over(base, { assay: assay.assayId, barn: barn.barn, measure: assay.measure });
+  const clusters: Cells[] = barn.clusters.map((cluster) => {
     const sp = assay.clusterSp.find((entry) => entry.barnId === barn.barn && entry.cluster === cluster.index);
-    return {
-      ...at,
+    return TABLE.over(at, {
       level: 'cluster',
       cluster: cluster.index,
       cluster_pens: cluster.pens.join(' '),
@@ -129,35 +126,37 @@ function barnDetailRows(assay: AssaySpatial, barn: BarnReport, base: Row): Row[]
       new_pens: cluster.newPens.join(' '),
       mean_sp: num(sp?.meanSp),
       max_sp: num(sp?.maxSp),
-    };
+    });
   });
-  const pens: Row[] = barn.pens.map((pen) => ({
-    ...at,
-    level: 'pen',
-    pen: pen.id,
-    positive: pen.positive,
-    ct: pen.ct,
-    gi_star: num(pen.giStar),
-    local_bb: pen.localBB,
-    local_p: num(pen.localP),
-    sp: assay.spByPen[`${barn.barn}/${pen.id}`] ?? null,
-  }));
-  const spread: Row[] = barn.spread.newPositives.map((fresh) => ({
-    ...at,
-    level: 'spread',
-    pen: fresh.id,
-    nearest_earlier_pen: fresh.nearestEarlierPen,
-    nearest_earlier_distance: num(fresh.nearestEarlierDistance, 3),
-    spread_pattern: fresh.kind,
-  }));
+  const pens: Cells[] = barn.pens.map((pen) =>
+    TABLE.over(at, {
+      level: 'pen',
+      pen: pen.id,
+      positive: pen.positive,
+      ct: pen.ct,
+      gi_star: num(pen.giStar),
+      local_bb: pen.localBB,
+      local_p: num(pen.localP),
+      sp: assay.spByPen[`${barn.barn}/${pen.id}`] ?? null,
+    }),
+  );
+  const spread: Cells[] = barn.spread.newPositives.map((fresh) =>
+    TABLE.over(at, {
+      level: 'spread',
+      pen: fresh.id,
+      nearest_earlier_pen: fresh.nearestEarlierPen,
+      nearest_earlier_distance: num(fresh.nearestEarlierDistance, 3),
+      spread_pattern: fresh.kind,
+    }),
+  );
   return [...clusters, ...pens, ...spread];
 }
 
 export function clustersCsv(spatial: RoundSpatial): string {
-  const base: Row = { site: spatial.site, round: spatial.round.number };
+  const base = TABLE.cells({ site: spatial.site, round: spatial.round.number });
   const rows = spatial.assays.flatMap((assay) => [
     siteRow(assay, base),
     ...assay.report.barns.flatMap((barn) => [barnRow(assay, barn, base), ...barnDetailRows(assay, barn, base)]),
   ]);
-  return csvTable(CLUSTERS_COLUMNS, rows);
+  return TABLE.table(rows);
 }

@@ -52,9 +52,15 @@ export const atomicWriter: OutputWriter = { write: writeFileAtomic };
  */
 export class StagedOutputs implements OutputWriter {
   private staged: { temp: string; target: string }[] = [];
+  /** Folders made (or found) for the set being staged: a site's build writes dozens of files into each. */
+  private readonly folders = new Set<string>();
 
   write(file: string, content: string | Buffer): void {
-    fs.mkdirSync(path.dirname(file), { recursive: true });
+    const folder = path.dirname(file);
+    if (!this.folders.has(folder)) {
+      fs.mkdirSync(folder, { recursive: true });
+      this.folders.add(folder);
+    }
     const temp = tempNameFor(file);
     this.staged.push({ temp, target: file });
     fs.writeFileSync(temp, content);
@@ -71,6 +77,7 @@ export class StagedOutputs implements OutputWriter {
       }
     }
     this.staged = [];
+    this.folders.clear();
     for (let index = 0; index < staged.length; index++) {
       try {
         fs.renameSync(staged[index]!.temp, staged[index]!.target);
@@ -85,6 +92,7 @@ export class StagedOutputs implements OutputWriter {
   discard(): void {
     for (const { temp } of this.staged) fs.rmSync(temp, { force: true });
     this.staged = [];
+    this.folders.clear();
   }
 }
 

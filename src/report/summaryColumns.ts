@@ -3,7 +3,7 @@
  * dates, history points, where the results came from, and results refused under a mistyped ID.
  * Column names are stable and documented in the README; new columns go at the end.
  */
-import type { CsvRow } from './csvTable.js';
+import { CsvColumns, type CsvRow, type CsvValue } from './csvTable.js';
 import type { SourceSummary } from '../analysis/roundSummary.js';
 import type { CtHistoryPoint, MistypedRope } from '../rounds/roundModel.js';
 import { refusalGroups } from './roundNotes.js';
@@ -89,6 +89,10 @@ type Column = (typeof SUMMARY_COLUMNS)[number];
 /** One row of summary.csv. */
 export type SummaryRow = CsvRow<Column>;
 type Row = SummaryRow;
+/** One row of summary.csv as its cells in the columns' order. */
+export type SummaryCells = CsvValue[];
+/** The columns of summary.csv, building rows as cells. */
+export const SUMMARY_TABLE = new CsvColumns(SUMMARY_COLUMNS);
 
 /** Probabilities to six decimals: enough to compare, short enough to read. */
 export function formatProbability(value: number): string {

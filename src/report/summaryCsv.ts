@@ -3,10 +3,9 @@
  * level. Column names are stable and documented in the README; new columns go at the end. The
  * columns and shared cells are in summaryColumns.ts, the rows of each level in summaryRecords.ts.
  */
-import { csvTable } from './csvTable.js';
 import type { RoundSummary } from '../analysis/roundSummary.js';
 import type { HerdStatus } from '../config/types.js';
-import { SUMMARY_COLUMNS } from './summaryColumns.js';
+import { SUMMARY_TABLE } from './summaryColumns.js';
 import { barnRows, penRows, siteRows } from './summaryRecords.js';
 
 export { dateSpan, formatProbability, historyCell, spHistoryCell, SUMMARY_COLUMNS } from './summaryColumns.js';
@@ -16,5 +15,5 @@ export { dateSpan, formatProbability, historyCell, spHistoryCell, SUMMARY_COLUMN
  *   rows, beside the numbers of the round
  */
 export function summaryCsv(summary: RoundSummary, herdStatus?: HerdStatus): string {
-  return csvTable(SUMMARY_COLUMNS, [...siteRows(summary, herdStatus), ...barnRows(summary), ...penRows(summary)]);
+  return SUMMARY_TABLE.table([...siteRows(summary, herdStatus), ...barnRows(summary), ...penRows(summary)]);
 }

@@ -13,6 +13,8 @@ import {
   mistypedCells,
   provenance,
   spHistoryCell,
+  SUMMARY_TABLE,
+  type SummaryCells as Cells,
   type SummaryRow as Row,
 } from './summaryColumns.js';
 
@@ -43,10 +45,9 @@ function herdCells(herdStatus: HerdStatus | undefined): Row {
  * A round with no result back has no assay to give a row: one site row and one row per barn,
  * without an assay, say how many ropes are out (and, once closed, which are missing).
  */
-function noResultRows(summary: RoundSummary, base: Row, herd: Row): Row[] {
-  const rows: Row[] = [
-    {
-      ...base,
+function noResultRows(summary: RoundSummary, base: Cells, herd: Row): Cells[] {
+  const rows: Cells[] = [
+    SUMMARY_TABLE.over(base, {
       ...herd,
       level: 'site',
       // Every barn's pens, as written before any result came back (the assay rows leave out an empty barn's).
@@ -54,27 +55,27 @@ function noResultRows(summary: RoundSummary, base: Row, herd: Row): Row[] {
       ropes_hung: siteRopes(summary).hung,
       ropes_returned: 0,
       missing_sample_ids: summary.barns.flatMap((barn) => simplyMissing(barn)).join(' '),
-    },
+    }),
   ];
   for (const barn of summary.barns) {
-    rows.push({
-      ...base,
-      level: 'barn',
-      barn: barn.barnId,
-      pens_in_use: barn.pensInUse,
-      ropes_hung: barn.ropesHung,
-      ropes_returned: barn.ropesReturned,
-      missing_sample_ids: simplyMissing(barn).join(' '),
-    });
+    rows.push(
+      SUMMARY_TABLE.over(base, {
+        level: 'barn',
+        barn: barn.barnId,
+        pens_in_use: barn.pensInUse,
+        ropes_hung: barn.ropesHung,
+        ropes_returned: barn.ropesReturned,
+        missing_sample_ids: simplyMissing(barn).join(' '),
+      }),
+    );
   }
   return rows;
 }
 
 /** One site row per assay: the site's counts, detection, freedom and where the results came from. */
-function siteRow(summary: RoundSummary, assay: RoundSummary['assays'][number], base: Row, herd: Row): Row {
+function siteRow(summary: RoundSummary, assay: RoundSummary['assays'][number], base: Cells, herd: Row): Cells {
   const totals = siteTally(summary, assay.id);
-  return {
-    ...base,
+  return SUMMARY_TABLE.over(base, {
     level: 'site',
     assay: assay.id,
     pens_in_use: totals.pens,
@@ -107,12 +108,12 @@ function siteRow(summary: RoundSummary, assay: RoundSummary['assays'][number], b
     measure: assay.measure,
     ...mistypedCells(summary.barns.flatMap((barn) => barn.mistyped)),
     ...herd,
-  };
+  });
 }
 
 /** The site rows of a round: one per assay, or the rows without an assay while no result is back. */
-export function siteRows(summary: RoundSummary, herdStatus: HerdStatus | undefined): Row[] {
-  const base = roundCells(summary);
+export function siteRows(summary: RoundSummary, herdStatus: HerdStatus | undefined): Cells[] {
+  const base = SUMMARY_TABLE.cells(roundCells(summary));
   const herd = herdCells(herdStatus);
   return [
     ...(summary.assays.length === 0 ? noResultRows(summary, base, herd) : []),
@@ -121,12 +122,12 @@ export function siteRows(summary: RoundSummary, herdStatus: HerdStatus | undefin
 }
 
 type SummaryBarn = RoundSummary['barns'][number];
+const AT = SUMMARY_TABLE.place;
 
 /** One barn row of one assay: counts, detection against the target, prevalence, pools, freedom. */
-function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['assays'][number], base: Row): Row {
+function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['assays'][number], base: Cells): Cells {
   const c = entry.confidence;
-  return {
-    ...base,
+  return SUMMARY_TABLE.over(base, {
     level: 'barn',
     barn: barn.barnId,
     assay: entry.assayId,
@@ -160,21 +161,22 @@ function barnRow(summary: RoundSummary, barn: SummaryBarn, entry: SummaryBarn['a
     ...provenance(barn.sources, entry.assayId),
     measure: c.measure,
     ...mistypedCells(barn.mistyped),
-    ...(barn.group === null ? {} : { group: barn.group.id, group_placed_on: barn.group.placedOn }),
+    // Blank without a group (the round's cells leave them blank).
+    group: barn.group?.id,
+    group_placed_on: barn.group?.placedOn,
     barn_empty: false,
     barn_freedom:
       c.status?.state === 'positive' ? 'positive' : c.freedom === null ? null : formatProbability(c.freedom),
-  };
+  });
 }
 
 /** The barn rows of a round, one per barn and assay; an empty barn (between a group's close-out and the next placement): no figure, nothing missing. */
-export function barnRows(summary: RoundSummary): Row[] {
-  const base = roundCells(summary);
+export function barnRows(summary: RoundSummary): Cells[] {
+  const base = SUMMARY_TABLE.cells(roundCells(summary));
   return summary.barns.flatMap((barn) =>
     barn.assays.map((entry) =>
       barn.empty
-        ? {
-            ...base,
+        ? SUMMARY_TABLE.over(base, {
             level: 'barn',
             barn: barn.barnId,
             assay: entry.assayId,
@@ -183,71 +185,77 @@ export function barnRows(summary: RoundSummary): Row[] {
             ropes_returned: barn.ropesReturned,
             measure: entry.confidence.measure,
             barn_empty: true,
-          }
+          })
         : barnRow(summary, barn, entry, base),
     ),
   );
 }
 
-/** One pen row per result: the reading, its history, the lab and cutoffs, corrections; then one row per pen whose result was refused under a mistyped ID. */
-export function penRows(summary: RoundSummary): Row[] {
-  const base = roundCells(summary);
-  const rows: Row[] = [];
+/**
+ * One pen row per result: the reading, its history, the lab and cutoffs, corrections; then one
+ * row per pen whose result was refused under a mistyped ID. Pen rows are most of the table:
+ * their cells are set by column place, with no object per row.
+ */
+export function penRows(summary: RoundSummary): Cells[] {
+  const base = SUMMARY_TABLE.cells(roundCells(summary));
+  const rows: Cells[] = [];
   const groupOfBarn = new Map(summary.barns.map((barn) => [barn.barnId, barn.group]));
   for (const pen of summary.pens) {
     const group = groupOfBarn.get(pen.barnId) ?? null;
     for (const [assayId, result] of Object.entries(pen.results)) {
       const antibody = result.measure === 'sp-ratio';
-      rows.push({
-        ...base,
-        level: 'pen',
-        barn: pen.barnId,
-        pen: pen.penId,
-        side: pen.side,
-        assay: assayId,
-        sample_ids: pen.sampleIds.join(' '),
-        class: result.resultClass,
-        pool: result.pool?.poolId ?? null,
-        ct: result.ct,
-        load_band: result.loadBand,
-        reason: result.reason,
-        ct_history: antibody ? null : result.history.map(historyCell).join(' '),
-        lab_call: result.labCall,
-        call_differs: result.callDiffers,
-        lab: result.labName,
-        accession: result.accession,
-        collected_on: result.collectedOn,
-        reported_on: result.reportedOn,
-        positive_below: result.positiveBelow,
-        suspect_below: result.suspectBelow,
-        cycle_limit: result.cycleLimit,
-        sequencing_candidate: result.sequencingCandidate,
-        measure: result.measure,
-        sp: result.sp,
-        sp_history: antibody ? result.history.map(spHistoryCell).join(' ') : null,
-        positive_at_or_above: result.positiveAtOrAbove,
-        suspect_at_or_above: result.suspectAtOrAbove,
-        corrections: summary.replaced
-          .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
-          .map(replacementCell)
-          .join('; '),
-        ...(group === null ? {} : { group: group.id, group_placed_on: group.placedOn }),
-      });
+      const cells = base.slice();
+      cells[AT.level] = 'pen';
+      cells[AT.barn] = pen.barnId;
+      cells[AT.pen] = pen.penId;
+      cells[AT.side] = pen.side;
+      cells[AT.assay] = assayId;
+      cells[AT.sample_ids] = pen.sampleIds.join(' ');
+      cells[AT.class] = result.resultClass;
+      cells[AT.pool] = result.pool?.poolId ?? null;
+      cells[AT.ct] = result.ct;
+      cells[AT.load_band] = result.loadBand;
+      cells[AT.reason] = result.reason;
+      cells[AT.ct_history] = antibody ? null : result.history.map(historyCell).join(' ');
+      cells[AT.lab_call] = result.labCall;
+      cells[AT.call_differs] = result.callDiffers;
+      cells[AT.lab] = result.labName;
+      cells[AT.accession] = result.accession;
+      cells[AT.collected_on] = result.collectedOn;
+      cells[AT.reported_on] = result.reportedOn;
+      cells[AT.positive_below] = result.positiveBelow;
+      cells[AT.suspect_below] = result.suspectBelow;
+      cells[AT.cycle_limit] = result.cycleLimit;
+      cells[AT.sequencing_candidate] = result.sequencingCandidate;
+      cells[AT.measure] = result.measure;
+      cells[AT.sp] = result.sp;
+      cells[AT.sp_history] = antibody ? result.history.map(spHistoryCell).join(' ') : null;
+      cells[AT.positive_at_or_above] = result.positiveAtOrAbove;
+      cells[AT.suspect_at_or_above] = result.suspectAtOrAbove;
+      cells[AT.corrections] = summary.replaced
+        .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
+        .map(replacementCell)
+        .join('; ');
+      // Blank without a group (the round's cells leave them blank).
+      cells[AT.group] = group?.id;
+      cells[AT.group_placed_on] = group?.placedOn;
+      rows.push(cells);
     }
   }
   // A pen whose result came back under a mistyped ID has no result to show: one row, no assay.
   for (const barn of summary.barns) {
     for (const rope of barn.mistyped) {
-      rows.push({
-        ...base,
-        level: 'pen',
-        barn: barn.barnId,
-        pen: rope.penId,
-        side: rope.side,
-        sample_ids: rope.sampleId,
-        reason: 'result refused: mistyped ID?',
-        ...mistypedCells([rope]),
-      });
+      rows.push(
+        SUMMARY_TABLE.over(base, {
+          level: 'pen',
+          barn: barn.barnId,
+          pen: rope.penId,
+          side: rope.side,
+          sample_ids: rope.sampleId,
+          reason: 'result refused: mistyped ID?',
+          ...mistypedCells([rope]),
+        }),
+      );
     }
   }
   return rows;

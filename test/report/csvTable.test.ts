@@ -7,7 +7,7 @@
  */
 import { stringify } from 'csv-stringify/sync';
 import { describe, expect, it } from 'vitest';
-import { csvCell, csvTable, type CsvRow } from '../../src/report/csvTable.js';
+import { CsvColumns, csvCell, csvTable, type CsvRow } from '../../src/report/csvTable.js';
 import { seededRng } from '../../src/util/random.js';
 
 /** csv-stringify with the options ropewatch used: a header line, and a semicolon or tab forces quotes. */
@@ -58,5 +58,31 @@ describe('csvTable', () => {
     expect(csvTable(columns, [row]).split('\n').slice(1).join('\n')).toBe(
       '"a,b","say ""hi""","two\nlines","cr\r","x;y","x\ty",plain,\n',
     );
+  });
+
+  it('writes rows built as cells over a base row as csv-stringify writes the spread objects { ...base, ...row }', () => {
+    // Oracle: csv-stringify 6 on the rows an object spread gives (ECMA-262, CopyDataProperties: a later key wins, an undefined one too).
+    const rng = seededRng(20261204);
+    const columns = ['a', 'b', 'c', 'd', 'e'];
+    const table = new CsvColumns(columns);
+    const pick = <T>(items: readonly T[]) => items[Math.floor(rng() * items.length)]!;
+    const values = ['x', 'y;z', '=1', '', 0, -2.5, true, null, undefined];
+    for (let trial = 0; trial < 500; trial++) {
+      const partial = (): CsvRow<string> =>
+        Object.fromEntries(columns.filter(() => rng() < 0.5).map((column) => [column, pick(values)]));
+      const base = partial();
+      const rows = Array.from({ length: 1 + Math.floor(rng() * 3) }, partial);
+      const cells = rows.map((row) => table.over(table.cells(base), row));
+      expect(table.table(cells), JSON.stringify({ base, rows })).toBe(
+        reference(
+          columns,
+          rows.map((row) => ({ ...base, ...row })),
+        ),
+      );
+    }
+  });
+
+  it('refuses a row of cells whose length is not the number of columns', () => {
+    expect(() => new CsvColumns(['a', 'b']).table([['x']])).toThrow(RangeError);
   });
 });

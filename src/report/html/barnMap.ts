@@ -4,9 +4,10 @@
  * cross-alley gaps, and empty or out-of-use pens hatched. The geometry is a pure function of
  * the layout (tested on its own); the renderer only paints it.
  */
-import { expandLayout, type BarnLayout, type PenStatus } from '../../domain/layout.js';
+import { expandLayout, isInUse, type BarnLayout, type PenStatus } from '../../domain/layout.js';
 import { COLOURS } from './palette.js';
 import { fmt, renderPen } from './mapPen.js';
+import { concat } from './concat.js';
 import { escapeHtml, safeId } from './escape.js';
 import type { PenMark, PlannedMark } from './mapPen.js';
 
@@ -283,6 +284,58 @@ function mapGeometry(layout: BarnLayout, scale: number, full: boolean): BarnGeom
 }
 
 /**
+ * An in-use pen without a result or a planned rope looks the same on every map drawn from one
+ * geometry (the map's key only names the hatching of empty and out-of-use pens, and the font
+ * size follows the geometry's scale), and most pens of most maps are such pens: each is drawn
+ * once per geometry pen (mapGeometry keeps the geometries, so their pens live as long).
+ */
+const UNMARKED = new WeakMap<PenRect, string>();
+
+function unmarkedPen(pen: PenRect, full: boolean, fontSize: number): string {
+  let svg = UNMARKED.get(pen);
+  if (svg === undefined) {
+    svg = renderPen(pen, undefined, undefined, { full, prefix: '', fontSize });
+    UNMARKED.set(pen, svg);
+  }
+  return svg;
+}
+
+/**
+ * Pen layers already drawn, by the marks they show and the geometry they are drawn on: a round's
+ * small map appears on the pages of the rounds after it with the same marks (resultMarks gives
+ * the same map back). Only layers of barns whose pens are all in use are kept: the hatching of
+ * an empty or out-of-use pen names the map's own key.
+ */
+const LAYERS = new WeakMap<ReadonlyMap<string, PenMark>, WeakMap<BarnGeometry, string>>();
+
+/** Every pen of the map, drawn (renderPen), in the geometry's order. */
+function penLayer(geometry: BarnGeometry, options: MapOptions, full: boolean, prefix: string): string {
+  const { results, planned } = options;
+  const keep = results !== undefined && planned === undefined && geometry.pens.every((pen) => isInUse(pen));
+  const known = keep ? LAYERS.get(results)?.get(geometry) : undefined;
+  if (known !== undefined) return known;
+  const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
+  let layer = '';
+  for (const pen of geometry.pens) {
+    const result = results?.get(pen.id);
+    const plannedMark = planned?.get(pen.id);
+    layer +=
+      result === undefined && plannedMark === undefined && isInUse(pen)
+        ? unmarkedPen(pen, full, fontSize)
+        : renderPen(pen, result, plannedMark, { full, prefix, fontSize });
+  }
+  if (keep) {
+    let byGeometry = LAYERS.get(results);
+    if (!byGeometry) {
+      byGeometry = new WeakMap();
+      LAYERS.set(results, byGeometry);
+    }
+    byGeometry.set(geometry, layer);
+  }
+  return layer;
+}
+
+/**
  * Renders a barn map as an inline SVG string: alley and gaps in grey, pens to scale, roped pens
  * filled by load on the single-hue ramp with a symbol (+ positive, ? suspect, × invalid,
  * − negative), positives with a heavy black outline, empty pens hatched, out-of-use pens
@@ -311,11 +364,8 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   }
   const boxes = clusterBoxes(geometry, options.clusters, full);
   if (full) parts.push(...alleyAndRowLabels(geometry, boxes));
-  const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
-  for (const pen of geometry.pens) {
-    parts.push(renderPen(pen, options.results?.get(pen.id), options.planned?.get(pen.id), { full, prefix, fontSize }));
-  }
+  parts.push(penLayer(geometry, options, full, prefix));
   for (const cluster of boxes) parts.push(clusterBox(cluster, full));
   parts.push('</svg>');
-  return parts.join('');
+  return concat(parts);
 }

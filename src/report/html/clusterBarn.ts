@@ -12,6 +12,7 @@ import { renderBarnMap } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { statsTable } from './clusterStats.js';
+import { concat } from './concat.js';
 import { escapeHtml } from './escape.js';
 import { mapLegend, resultMarks } from './mapMarks.js';
 import { num } from './page.js';
@@ -111,7 +112,7 @@ function earlierMinis(view: BarnView, earlier: readonly RoundSummary[]): string 
     results: marks,
     clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
   });
-  return `<div class="minis" data-minis="">${figures.join('')}<figure>${now}<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`;
+  return `<div class="minis" data-minis="">${concat(figures)}<figure>${now}<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`;
 }
 
 /** Adds each lab to the set of the cutoff it read a point with. */
@@ -246,13 +247,14 @@ function quietBarn(view: BarnView): string {
 
 /**
  * One barn of one assay: the full section when the barn has (or had) a positive, or has a
- * suspect or invalid rope this round; otherwise the quiet figure (`quiet` says which).
+ * suspect or invalid rope this round; otherwise the quiet figure (`quiet` says which). A full
+ * section also gives the shade part of the map legend it prints (`legendShades`).
  */
 export function barnSection(
   input: ClustersPageInput,
   barn: Barn,
   assay: AssaySpatial,
-): { quiet: boolean; html: string } {
+): { quiet: boolean; html: string; legendShades?: string } {
   const summary = input.summaries[input.index]!;
   const report = assay.report.barns.find((entry) => entry.barn === barn.id);
   const tally = summary.barns
@@ -288,8 +290,9 @@ export function barnSection(
   const minis = earlier.length > 0 ? earlierMinis(view, earlier) : '';
   const clusters = clusterList(view);
   const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}</h3>`;
+  const legend = mapLegend(input.assays, [...earlier, summary], [barn.id], assay.assayId, key);
   const html =
-    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${mapLegend(input.assays, [...earlier, summary], [barn.id], assay.assayId, key).html}` +
+    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${legend.html}` +
     (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
     (clusters ? `<ul>${clusters}</ul>` : '') +
     monitoredNote(input, barn, assay.assayId) +
@@ -303,5 +306,5 @@ export function barnSection(
       : '<p>No spatial statistics for this barn.</p>') +
     penTrends(view) +
     `</section>`;
-  return { quiet: false, html };
+  return { quiet: false, html, legendShades: legend.shades };
 }

@@ -8,6 +8,7 @@ import type { RoundSummary } from '../../analysis/roundSummary.js';
 import type { AssaySpatial } from '../../analysis/spatialRound.js';
 import { antibodyMeaning } from '../summaryNotices.js';
 import { barnSection, type ClustersPageInput } from './clusterBarn.js';
+import { concat } from './concat.js';
 import { escapeHtml } from './escape.js';
 import { mapLegend } from './mapMarks.js';
 import { siteTally } from '../siteTally.js';
@@ -76,7 +77,7 @@ export function cutoffsSentence(summary: RoundSummary): string {
 function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
   const rendered = input.site.barns.map((barn) => barnSection(input, barn, assay));
   const quiet = rendered.filter((section) => section.quiet).map((section) => section.html);
-  const busy = rendered.filter((section) => !section.quiet).map((section) => section.html);
+  const busy = rendered.filter((section) => !section.quiet);
   const quietIds = input.site.barns.filter((_, i) => rendered[i]!.quiet).map((barn) => barn.id);
   const legend = mapLegend(
     input.assays,
@@ -86,12 +87,12 @@ function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
     `${input.summaries[input.index]!.round.id}-${assay.assayId}-quiet`,
   );
   // The legend a busy barn above already gave, with the same limits, is not printed twice.
-  const shown = busy.some((html) => html.includes(legend.shades));
+  const shown = busy.some((section) => section.legendShades === legend.shades);
   const quietBlock =
     quiet.length > 0
-      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${shown ? '' : legend.html}</section>`
+      ? `<section class="barn quiet-barns"><div class="minis">${concat(quiet)}</div>${shown ? '' : legend.html}</section>`
       : '';
-  return busy.join('') + quietBlock;
+  return concat(busy.map((section) => section.html)) + quietBlock;
 }
 
 /**
@@ -108,36 +109,34 @@ export function renderClustersPage(input: ClustersPageInput): string {
       alert.kind,
     ),
   );
-  const sections = spatial.assays
-    .map((assay) => {
-      const config = input.assays.get(assay.assayId);
-      const name = config?.name ?? assay.assayId;
-      const site = assay.report.joinCount;
-      const pcr =
-        config?.measure === 'sp-ratio' && config.pairedWith !== undefined
-          ? (input.assays.get(config.pairedWith)?.name ?? config.pairedWith)
-          : null;
-      const meaning =
-        assay.measure === 'sp-ratio'
-          ? `<p class="explain" data-antibody="${escapeHtml(assay.assayId)}">${escapeHtml(antibodyMeaning(name, pcr))}</p>`
-          : '';
-      const alerts = spatialAlerts.filter((alert) => alert.assayId === assay.assayId);
-      const siteLine = site
-        ? `<p>Site join count (barns as separate blocks, positives permuted within barns): BB = ${site.bb}, ${num(site.expectedBB)} expected, ${escapeHtml(formatJoinCountP(site.inference.method, site.pPermutation))}. Spread across the site: ${escapeHtml(assay.report.spread.explanation)}.</p>`
+  const sections = spatial.assays.map((assay) => {
+    const config = input.assays.get(assay.assayId);
+    const name = config?.name ?? assay.assayId;
+    const site = assay.report.joinCount;
+    const pcr =
+      config?.measure === 'sp-ratio' && config.pairedWith !== undefined
+        ? (input.assays.get(config.pairedWith)?.name ?? config.pairedWith)
+        : null;
+    const meaning =
+      assay.measure === 'sp-ratio'
+        ? `<p class="explain" data-antibody="${escapeHtml(assay.assayId)}">${escapeHtml(antibodyMeaning(name, pcr))}</p>`
         : '';
-      return (
-        `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
-        meaning +
-        // What to do only: the statistics table below holds each number with its p-value.
-        (alerts.length > 0
-          ? `<div class="alerts"><ul>${alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong></li>`).join('')}</ul></div>`
-          : '') +
-        siteLine +
-        sequencingBlock(summary, assay.assayId) +
-        quietAndBusy(input, assay)
-      );
-    })
-    .join('');
+    const alerts = spatialAlerts.filter((alert) => alert.assayId === assay.assayId);
+    const siteLine = site
+      ? `<p>Site join count (barns as separate blocks, positives permuted within barns): BB = ${site.bb}, ${num(site.expectedBB)} expected, ${escapeHtml(formatJoinCountP(site.inference.method, site.pPermutation))}. Spread across the site: ${escapeHtml(assay.report.spread.explanation)}.</p>`
+      : '';
+    return (
+      `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
+      meaning +
+      // What to do only: the statistics table below holds each number with its p-value.
+      (alerts.length > 0
+        ? `<div class="alerts"><ul>${alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong></li>`).join('')}</ul></div>`
+        : '') +
+      siteLine +
+      sequencingBlock(summary, assay.assayId) +
+      quietAndBusy(input, assay)
+    );
+  });
   return renderPage({
     title: `${summary.site.name}, round ${summary.round.number}: cluster review`,
     heading: `${summary.site.name}: cluster review, round ${summary.round.number}`,
@@ -148,7 +147,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
       { href: 'summary.html', label: 'Round summary' },
       { href: '../next-round.html', label: 'Next round rope sheet' },
     ],
-    body: sections,
+    body: concat(sections),
     herdStatus: input.herdStatus,
   });
 }

@@ -52,15 +52,45 @@ export function valueText(result: Pick<PenResult, 'resultClass' | 'measure' | 'c
 }
 
 /**
+ * The marks of each round, barn and assay already made, with the report they were made with: a
+ * round's marks are drawn on its own page and again as a small map on the pages of the rounds
+ * after it. A summary is not changed once made, so its marks stay what they were.
+ */
+const MARKS = new WeakMap<
+  RoundSummary,
+  Map<string, { report: BarnSpatialReport | undefined; marks: Map<string, PenMark> }>
+>();
+
+/**
  * The marks of one barn and assay in one round, from the summary's pens (every roped pen). An
  * antibody result is shaded by its S/P against its lab's positive cutoff; its tooltip also names
- * the paired PCR result of the pen, when the round has one.
+ * the paired PCR result of the pen, when the round has one. The same map is given back for the
+ * same round, barn, assay and report (the maps drawn from it are kept with it: see barnMap.ts).
  */
 export function resultMarks(
   summary: RoundSummary,
   barnId: string,
   assayId: string,
   report?: BarnSpatialReport,
+): ReadonlyMap<string, PenMark> {
+  let ofSummary = MARKS.get(summary);
+  if (!ofSummary) {
+    ofSummary = new Map();
+    MARKS.set(summary, ofSummary);
+  }
+  const key = JSON.stringify([barnId, assayId]);
+  const known = ofSummary.get(key);
+  if (known && known.report === report) return known.marks;
+  const marks = markPens(summary, barnId, assayId, report);
+  ofSummary.set(key, { report, marks });
+  return marks;
+}
+
+function markPens(
+  summary: RoundSummary,
+  barnId: string,
+  assayId: string,
+  report: BarnSpatialReport | undefined,
 ): Map<string, PenMark> {
   const newPositive = new Set((report?.pens ?? []).filter((pen) => pen.newPositive).map((pen) => pen.id));
   const pcr = summary.pairs?.find((pair) => pair.antibody === assayId)?.pcr;

@@ -83,17 +83,16 @@ function penFill(pen: PenBox, result: PenMark | undefined, prefix: string): { fi
 
 /** The pen's tooltip: id, status, result and load, the mark's note, the planned rope (the non-empty ones, comma-separated). */
 function penTip(pen: PenBox, result: PenMark | undefined, planned: PlannedMark | undefined): string {
-  let tip = pen.id;
-  const add = (text: string) => {
-    if (text !== '') tip = tip === '' ? text : `${tip}, ${text}`;
-  };
-  if (!isInUse(pen)) add(pen.status);
+  const parts = [pen.id];
+  if (!isInUse(pen)) parts.push(pen.status);
   if (result) {
-    add(`${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`);
-    add(result.note ?? '');
+    parts.push(
+      `${result.resultClass}${result.load > 0 && result.shade === undefined ? `, load ${fmt(result.load)}` : ''}`,
+    );
+    parts.push(result.note ?? '');
   }
-  if (planned) add(`${planned.reason} rope #${planned.order}`);
-  return tip;
+  if (planned) parts.push(`${planned.reason} rope #${planned.order}`);
+  return parts.filter((part) => part !== '').join(', ');
 }
 
 /** On the full map: the pen's label, then its result symbol, its planned rope, or "empty" / "out". */

@@ -5,7 +5,7 @@
  * (Wickham 2014, "Tidy Data", J Stat Softw 59(10)): no lists inside cells.
  */
 import { z } from 'zod';
-import { csvTable } from '../csvTable.js';
+import { CsvColumns, csvLine, type CsvValue } from '../csvTable.js';
 import { carried, numberText } from '../jsonText.js';
 
 export type ColumnKind = 'text' | 'integer' | 'number' | 'boolean';
@@ -40,32 +40,57 @@ export function rowSchema(columns: readonly Column[]): z.ZodObject {
 }
 
 /**
- * A row as read from the store (SQLite gives 0/1 for a boolean and a double for a number) in
- * the columns' order and kinds, numbers at their carried precision.
+ * A value as read from the store (SQLite gives 0/1 for a boolean and a double for a number) in
+ * its column's kind, a number at its carried precision.
  */
+function typedValue(kind: ColumnKind, value: unknown): Cell {
+  if (value === null || value === undefined) return null;
+  if (kind === 'boolean') return value === true || value === 1;
+  if (kind === 'text') return String(value);
+  return carried(Number(value));
+}
+
+/** A row as read from the store in the columns' order and kinds (typedValue). */
 export function typedRow(columns: readonly Column[], raw: Readonly<Record<string, unknown>>): TidyRow {
   const row: TidyRow = {};
-  for (const { name, kind } of columns) {
-    const value = raw[name];
-    if (value === null || value === undefined) row[name] = null;
-    else if (kind === 'boolean') row[name] = value === true || value === 1;
-    else if (kind === 'text') row[name] = String(value);
-    else row[name] = carried(Number(value));
-  }
+  for (const { name, kind } of columns) row[name] = typedValue(kind, raw[name]);
   return row;
+}
+
+/** A tidy cell as CSV writes it: numbers written as in the JSON (jsonText.ts); booleans and blanks as csvTable writes them. */
+function csvValue(cell: Cell | undefined): CsvValue {
+  return typeof cell === 'number' ? numberText(cell) : cell;
+}
+
+const TABLES = new WeakMap<readonly Column[], CsvColumns<string>>();
+
+/** The CSV columns of a tidy column list, made once per list. */
+function csvColumns(columns: readonly Column[]): CsvColumns<string> {
+  let table = TABLES.get(columns);
+  if (!table) {
+    table = new CsvColumns(columns.map((column) => column.name));
+    TABLES.set(columns, table);
+  }
+  return table;
 }
 
 /** A tidy table as CSV: numbers written as in the JSON (jsonText.ts), booleans `true`/`false`, null empty. */
 export function tidyCsv(columns: readonly Column[], rows: readonly TidyRow[]): string {
-  const names = columns.map((column) => column.name);
-  return csvTable(
-    names,
-    rows.map((row) =>
-      Object.fromEntries(
-        names.map((name) => [name, typeof row[name] === 'number' ? numberText(row[name]) : row[name]]),
-      ),
-    ),
-  );
+  return csvColumns(columns).table(rows.map((row) => columns.map((column) => csvValue(row[column.name]))));
+}
+
+/**
+ * Rows as read from the store as the lines tidyCsv writes for their typed rows (typedRow), each
+ * ended by a line feed, without the header: no row object is built on the way.
+ */
+export function storedRowsCsv(columns: readonly Column[], raws: readonly Readonly<Record<string, unknown>>[]): string {
+  let text = '';
+  const cells: CsvValue[] = new Array(columns.length);
+  for (const raw of raws) {
+    for (let c = 0; c < columns.length; c++) cells[c] = csvValue(typedValue(columns[c]!.kind, raw[columns[c]!.name]));
+    text += `${csvLine(cells)}\n`;
+  }
+  return text;
 }
 
 /** A table: its file name, columns, and the columns that identify a row (no two rows share them). */

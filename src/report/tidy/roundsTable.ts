@@ -56,7 +56,9 @@ export function roundRows(analysis: SiteAnalysis, from = 0): TidyRow[] {
     const index = from + offset;
     const spatial = analysis.spatial[index];
     return summary.barns.flatMap((barn) => {
-      const common: TidyRow = {
+      // Each row starts from a fresh copy of the barn's cells: assigning onto it keeps the keys in
+      // this order, at a fraction of the cost of an object literal that starts with a spread.
+      const common = (): TidyRow => ({
         site: summary.site.id,
         barn: barn.barnId,
         round: summary.round.number,
@@ -71,16 +73,15 @@ export function roundRows(analysis: SiteAnalysis, from = 0): TidyRow[] {
         ropes_returned: barn.ropesReturned,
         ropes_missing: barn.missingSampleIds.length,
         target_confidence: target,
-      };
-      if (barn.assays.length === 0) return [{ ...common, assay: null, measure: null }];
+      });
+      if (barn.assays.length === 0) return [Object.assign(common(), { assay: null, measure: null })];
       return barn.assays.map((assay): TidyRow => {
         const figure = spatial?.assays
           .find((entry) => entry.assayId === assay.assayId)
           ?.detection.find((entry) => entry.barnId === barn.barnId);
         const { confidence } = assay;
         const status = confidence.status;
-        return {
-          ...common,
+        return Object.assign(common(), {
           assay: assay.assayId,
           measure: confidence.measure,
           tested: assay.tested,
@@ -99,7 +100,7 @@ export function roundRows(analysis: SiteAnalysis, from = 0): TidyRow[] {
           positive_since: status?.state === 'positive' ? status.sinceRound : null,
           barn_freedom: confidence.freedom,
           prior_freedom: confidence.priorFreedom,
-        };
+        });
       });
     });
   });

@@ -10,7 +10,7 @@ import type { AlertRecord } from '../../alerts/records.js';
 import type { SiteAnalysis } from '../../analysis/analyseSite.js';
 import { readTidyView, replaceSiteFacts } from '../../store/tidyFacts.js';
 import { ALERTS_TABLE, alertRows } from './alertsTable.js';
-import { type TidyRow, type TidyTable, tidyCsv, typedRow } from './columns.js';
+import { storedRowsCsv, type TidyRow, type TidyTable, tidyCsv, typedRow } from './columns.js';
 import { RESULTS_TABLE, ropeRounds } from './resultsTable.js';
 import { ROUNDS_TABLE, roundRows } from './roundsTable.js';
 
@@ -26,11 +26,6 @@ export interface RoundRange {
 
 /** A round's rows of each tidy table as CSV lines (no header), in the tables' row order. */
 export type TidyFragments = Record<TidyTable['name'], string>;
-
-/** A table's rows as CSV lines, without the header line. */
-function csvLines(table: TidyTable, rows: readonly TidyRow[]): string {
-  return tidyCsv(table.columns, rows).slice(tidyHeader(table.name).length);
-}
 
 /**
  * Gives the store the site's facts of the rounds from index `from` on (those before keep theirs)
@@ -54,19 +49,22 @@ export function storeTidyRounds(
     fromRound,
   );
   const byTable = TIDY_TABLES.map((table) => {
-    const byRound = new Map<number, TidyRow[]>();
+    const byRound = new Map<number, Record<string, unknown>[]>();
     for (const raw of readTidyView(db, table.name, analysis.site.id, { fromRound })) {
-      const row = typedRow(table.columns, raw);
-      const rows = byRound.get(row.round as number) ?? [];
-      rows.push(row);
-      byRound.set(row.round as number, rows);
+      const round = Number(raw.round);
+      const rows = byRound.get(round) ?? [];
+      rows.push(raw);
+      byRound.set(round, rows);
     }
     return { table, byRound };
   });
   return later.map(
     (round) =>
       Object.fromEntries(
-        byTable.map(({ table, byRound }) => [table.name, csvLines(table, byRound.get(round.number) ?? [])]),
+        byTable.map(({ table, byRound }) => [
+          table.name,
+          storedRowsCsv(table.columns, byRound.get(round.number) ?? []),
+        ]),
       ) as TidyFragments,
   );
 }
