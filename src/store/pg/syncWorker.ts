@@ -89,8 +89,13 @@ async function handle(request: ToSyncWorker): Promise<FromSyncWorker> {
       await client.connect();
       return { ok: true, rows: [], rowCount: 0 };
     case 'query': {
-      const result = await client.query({ text: request.text, values: request.params as unknown[] });
-      return { ok: true, rows: result.rows, rowCount: result.rowCount ?? 0 };
+      const result: pg.QueryResult | pg.QueryResult[] = await client.query({
+        text: request.text,
+        values: request.params as unknown[],
+      });
+      // Several statements in one text (no parameters) answer with one result each: the last counts.
+      const last = Array.isArray(result) ? result[result.length - 1] : result;
+      return { ok: true, rows: last?.rows ?? [], rowCount: last?.rowCount ?? 0 };
     }
     case 'copyStart': {
       const into = { stream: client.query(copyFrom(request.sql)), failure: undefined as Error | undefined };
