@@ -4,12 +4,12 @@
  * table's row count and digest (copyTables.ts) on both sides must agree, or nothing is kept. A
  * target that holds any row is refused, so a copy never mixes two stores.
  */
-import { openDatabase } from '../open.js';
+import { openDatabase, StoreOpenError } from '../open.js';
 import { redactedLocation, type StoreLocation } from '../location.js';
 import { COPIED_TABLES, digestRows, type TableDigest } from './copyTables.js';
 import { migratePg } from './migrations.js';
 import { PgSide, SqliteSide, type StoreSide } from './storeSides.js';
-import { SyncConnection } from './syncConnection.js';
+import { PgError, SyncConnection } from './syncConnection.js';
 
 export type StoreCopyCode = 'same-store' | 'unknown-tables' | 'schema-differs' | 'target-not-empty' | 'digest-differs';
 
@@ -32,19 +32,23 @@ export interface CopiedTableReport extends TableDigest {
 /**
  * Opens one side: a SQLite file (created and migrated for a target; it must exist for a source),
  * or a PostgreSQL database (migrated to the current schema).
+ * @throws StoreOpenError naming the store (never its password) when it cannot be opened.
  */
 export function openStoreSide(location: StoreLocation, role: 'source' | 'target'): StoreSide {
   if (location.kind === 'sqlite') {
     return new SqliteSide(openDatabase(location.file, { create: role === 'target' }), location.file);
   }
-  const conn = new SyncConnection(location.url);
+  const shown = redactedLocation(location.url);
+  let conn: SyncConnection | undefined;
   try {
+    conn = new SyncConnection(location.url);
     migratePg(conn);
   } catch (error) {
-    conn.close();
-    throw error;
+    conn?.close();
+    if (!(error instanceof PgError)) throw error;
+    throw new StoreOpenError(shown, `cannot be opened (PostgreSQL ${error.code}: ${error.message})`);
   }
-  return new PgSide(conn, redactedLocation(location.url));
+  return new PgSide(conn, shown);
 }
 
 /** The tables both sides must have, with the same columns; their columns, by table. */

@@ -7,6 +7,7 @@ import { openStoreSide, storeDigests, type CopiedTableReport } from '../../../sr
 import { parseStoreLocation } from '../../../src/store/location.js';
 import { SyncConnection } from '../../../src/store/pg/syncConnection.js';
 import { Store } from '../../../src/store/store.js';
+import { spawnCli } from '../../helpers/hardening.js';
 import { freshDatabase, type TestDatabase } from '../../helpers/pgServer.js';
 import { runCli } from '../../helpers/runCli.js';
 
@@ -147,9 +148,31 @@ describe('ropewatch store copy', () => {
     expect(b.filter((t) => t.table !== 'results')).toEqual(a.filter((t) => t.table !== 'results'));
   });
 
+  it('names the store it cannot reach, without its password', async () => {
+    const url = new URL(pgTarget.url);
+    url.username = 'nobody_here';
+    url.password = 'not-shown-anywhere';
+    const run = await runCli(['store', 'copy', '--from', demoStore, '--to', url.toString()]);
+    expect(run.code).toBe(2);
+    expect(run.stderr).toContain(`store postgres://nobody_here:***@${url.host}`);
+    expect(run.stderr).toMatch(/PostgreSQL 28P01|PostgreSQL 28000/);
+    expect(run.stderr).not.toContain('not-shown-anywhere');
+  });
+
   it('refuses to copy a store onto itself', async () => {
     const run = await runCli(['store', 'copy', '--from', demoStore, '--to', demoStore]);
     expect(run.code).toBe(2);
     expect(run.stderr).toMatch(/same store/);
+  });
+
+  it('runs from the compiled program, whose connection worker loads the compiled module', async () => {
+    const target = await freshDatabase('compiled');
+    try {
+      const run = await spawnCli(['store', 'copy', '--from', demoStore, '--to', target.url]).done;
+      expect(run.code, run.stderr).toBe(0);
+      expect(digestsOf(target.url)).toEqual(digestsOf(demoStore));
+    } finally {
+      await target.drop();
+    }
   });
 });
