@@ -5,6 +5,7 @@ import Database from 'better-sqlite3';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openStoreSide, storeDigests, type CopiedTableReport } from '../../../src/store/pg/copyStore.js';
 import { parseStoreLocation } from '../../../src/store/location.js';
+import { PgStoreReader } from '../../../src/store/pg/reader.js';
 import { SyncConnection } from '../../../src/store/pg/syncConnection.js';
 import { Store } from '../../../src/store/store.js';
 import { spawnCli } from '../../helpers/hardening.js';
@@ -172,6 +173,50 @@ describe('ropewatch store copy', () => {
       expect(run.code, run.stderr).toBe(0);
       expect(digestsOf(target.url)).toEqual(digestsOf(demoStore));
     } finally {
+      await target.drop();
+    }
+  });
+});
+
+describe('the PostgreSQL reader on the copied demo store', () => {
+  it('answers every read as the SQLite reader does, site by site', async () => {
+    const target = await freshDatabase('reader');
+    const copied = await runCli(['store', 'copy', '--from', demoStore, '--to', target.url]);
+    expect(copied.code, copied.stderr).toBe(0);
+    const conn = new SyncConnection(target.url);
+    const lite = new Store(demoStore, { create: false });
+    try {
+      const pg = new PgStoreReader(conn);
+      const sites = siteIds(demoStore);
+      for (const site of sites) {
+        const inputs = pg.siteInputs(site);
+        expect(inputs, site).toEqual(lite.siteInputs(site));
+        expect(inputs.results.length, site).toBeGreaterThan(0);
+        expect(pg.outputsBuilt(path.join(dir, 'outbox'), site)).toEqual(
+          lite.outputsBuilt(path.join(dir, 'outbox'), site),
+        );
+      }
+      expect(pg.ropes()).toEqual(lite.ropes());
+      expect(pg.currentResults()).toEqual(lite.currentResults());
+      expect(pg.plannedRopes()).toEqual(lite.plannedRopes());
+      expect(pg.supersessions()).toEqual(lite.supersessions());
+      expect(pg.unresolvedSampleIds()).toEqual(lite.unresolvedSampleIds());
+      expect(pg.files()).toEqual(lite.files());
+      expect(pg.counts()).toEqual(lite.counts());
+      for (const file of lite.files()) {
+        expect(pg.findFileByHash(file.sha256)).toEqual(lite.findFileByHash(file.sha256));
+        expect(pg.rejectedRows(file.id)).toEqual(lite.rejectedRows(file.id));
+        expect(pg.openRefusals(file.id)).toEqual(lite.openRefusals(file.id));
+      }
+      expect(pg.findFileByHash('no such hash')).toBeUndefined();
+      expect(pg.getMeta('no such key')).toBeUndefined();
+      const raw = new Database(demoStore, { readonly: true });
+      const metaKeys = (raw.prepare('SELECT key FROM meta').all() as { key: string }[]).map((r) => r.key);
+      raw.close();
+      for (const key of metaKeys) expect(pg.getMeta(key), key).toEqual(lite.getMeta(key));
+    } finally {
+      lite.close();
+      conn.close();
       await target.drop();
     }
   });
