@@ -6,5 +6,7 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 60_000,
     pool: 'forks',
+    // One PostgreSQL server for the run (an embedded one, or ROPEWATCH_TEST_PG_URL's).
+    globalSetup: ['test/helpers/pgGlobalSetup.ts'],
   },
 });

@@ -1,7 +1,7 @@
 // `npm run build` (and npm ci's prepare step): compiles src/ to dist/ (tsconfig.build.json) and
-// copies beside it the files the compiled program reads that are not TypeScript: the parse
-// worker's boot file and the demo's configuration. dist/ is removed first, so nothing of a module
-// that no longer exists is left to be loaded.
+// copies beside it the files the compiled program reads that are not TypeScript: the boot files of
+// the parse worker and of the PostgreSQL connection's worker, and the demo's configuration. dist/
+// is removed first, so nothing of a module that no longer exists is left to be loaded.
 import { execFileSync } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
@@ -19,6 +19,10 @@ execFileSync(
 fs.copyFileSync(
   path.join(root, 'src', 'ingest', 'parseWorkerBoot.mjs'),
   path.join(dist, 'ingest', 'parseWorkerBoot.mjs'),
+);
+fs.copyFileSync(
+  path.join(root, 'src', 'store', 'pg', 'syncWorkerBoot.mjs'),
+  path.join(dist, 'store', 'pg', 'syncWorkerBoot.mjs'),
 );
 fs.cpSync(path.join(root, 'src', 'demo', 'config'), path.join(dist, 'demo', 'config'), { recursive: true });
 fs.chmodSync(path.join(dist, 'cli', 'bin.js'), 0o755);

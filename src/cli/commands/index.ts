@@ -12,6 +12,7 @@ import { registerPlan } from './plan.js';
 import { registerReport } from './report.js';
 import { registerRetry } from './retry.js';
 import { registerStatus } from './status.js';
+import { registerStore } from './store.js';
 import { registerWatch } from './watch.js';
 
 export const COMMANDS: readonly RegisterCommand[] = [
@@ -24,5 +25,6 @@ export const COMMANDS: readonly RegisterCommand[] = [
   registerPlan,
   registerExport,
   registerRetry,
+  registerStore,
   registerCalc,
 ];

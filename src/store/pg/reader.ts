@@ -1,0 +1,319 @@
+/**
+ * The PostgreSQL store's read queries (`StoreReader`, src/domain/store.ts) on the synchronous
+ * connection: the same questions as the SQLite reader (src/store/reader.ts) asked in PostgreSQL's
+ * dialect, giving the same values in the same order. Text is ordered by its bytes (COLLATE "C"),
+ * as SQLite's BINARY collation orders it, so both stores list rows alike whatever the server's
+ * locale. `siteInputs` reads one site's inputs in one REPEATABLE READ snapshot.
+ */
+import type { ReportStatusKind } from '../../config/types.js';
+import type {
+  MistypedRefusal,
+  PlannedRope,
+  ReplacedReport,
+  StoredFile,
+  StoredReading,
+  StoredResult,
+  StoredRope,
+  Supersession,
+  SupersessionKind,
+} from '../../domain/records.js';
+import type { RowRejection } from '../../domain/rejections.js';
+import type {
+  OpenRefusal,
+  SampleChoice,
+  SiteInputs,
+  SiteOutline,
+  StoreCounts,
+  StoredFileCounts,
+  StoreReader,
+} from '../../domain/store.js';
+import type { ResultClass } from '../../interpret/classify.js';
+import type { SqlValue, SyncConnection } from './syncConnection.js';
+
+const FILE_COLUMNS = `id, name, sha256, kind, lab_id AS "labId", received_at AS "receivedAt", status, reason_code AS "reasonCode", reason`;
+const PLANNED_COLUMNS = `sample_id AS "sampleId", site_id AS "siteId", barn_id AS "barnId", pen_id AS "penId", side, reason,
+  due_on AS "dueOn", planned_at AS "plannedAt", after_round AS "afterRound", pool_id AS "poolId"`;
+
+/** The samples of a site: its ropes, the pools they were tested in, its planned ropes and their pools. */
+const SITE_SAMPLE_IDS = `SELECT s.sample_id FROM ropes h JOIN samples s ON s.id = h.sample WHERE h.site_id = $1
+  UNION SELECT s.sample_id FROM ropes h JOIN samples s ON s.id = h.pool WHERE h.site_id = $1
+  UNION SELECT sample_id FROM planned_ropes WHERE site_id = $1
+  UNION SELECT pool_id FROM planned_ropes WHERE site_id = $1 AND pool_id IS NOT NULL`;
+
+/** The samples of a site's ropes, their pools and its planned ropes (and pools), as a condition on r.sample ($1: the site). */
+const SITE_RESULT_SAMPLES = `r.sample IN (SELECT sample FROM ropes WHERE site_id = $1
+   UNION SELECT pool FROM ropes WHERE site_id = $1 AND pool IS NOT NULL
+   UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = $1)`;
+
+export class PgStoreReader implements StoreReader {
+  private snapshots = 0;
+
+  /** @param inTransaction whether the connection is inside a transaction already (then reads see it). */
+  constructor(
+    private readonly conn: SyncConnection,
+    private readonly inTransaction: () => boolean = () => false,
+  ) {}
+
+  private all<Row>(text: string, params: readonly SqlValue[] = []): Row[] {
+    return this.conn.query<Row>(text, params).rows;
+  }
+
+  /** Runs `read` in one REPEATABLE READ, READ ONLY transaction: every query in it sees the same committed state. */
+  snapshot<T>(read: () => T): T {
+    if (this.inTransaction() || this.snapshots > 0) return read();
+    this.snapshots += 1;
+    try {
+      return this.conn.transaction(read, 'BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY');
+    } finally {
+      this.snapshots -= 1;
+    }
+  }
+
+  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
+    return this.snapshot(() => {
+      const outline: SiteOutline = {
+        version: this.siteVersion(siteId),
+        ropes: this.ropes(siteId),
+        reportKeys: this.reportKeys(siteId),
+        planned: this.plannedRopes(siteId),
+        plannedWithoutResults: this.plannedWithoutResults(siteId),
+        mistyped: this.mistypedRefusals(siteId),
+      };
+      const samples = choose(outline);
+      const inputs: SiteInputs = {
+        version: outline.version,
+        ropes: outline.ropes,
+        results: samples === undefined ? this.currentResults(siteId) : this.currentResultsOf(samples),
+        planned: outline.planned,
+        plannedWithoutResults: outline.plannedWithoutResults,
+        replaced: this.replacedReports(siteId, samples),
+        mistyped: outline.mistyped,
+      };
+      return { outline, inputs };
+    });
+  }
+
+  /** The site's samples and their reports' keys (SiteOutline.reportKeys), as the SQLite reader gives them. */
+  private reportKeys(siteId: string): Map<string, string> {
+    const rows = this.all<{ sampleId: string; key: string }>(
+      `SELECT s.sample_id AS "sampleId", count(*) || '/' || max(r.id) || '/' || count(o.old_result_id) AS key
+         FROM results r JOIN samples s ON s.id = r.sample LEFT JOIN supersessions o ON o.old_result_id = r.id
+        WHERE ${SITE_RESULT_SAMPLES}
+        GROUP BY s.sample_id`,
+      [siteId],
+    );
+    return new Map(rows.map((row) => [row.sampleId, row.key]));
+  }
+
+  siteInputs(siteId: string): SiteInputs {
+    return this.snapshot(() => ({
+      version: this.siteVersion(siteId),
+      ropes: this.ropes(siteId),
+      results: this.currentResults(siteId),
+      planned: this.plannedRopes(siteId),
+      plannedWithoutResults: this.plannedWithoutResults(siteId),
+      replaced: this.replacedReports(siteId),
+      mistyped: this.mistypedRefusals(siteId),
+    }));
+  }
+
+  findFileByHash(sha256: string): StoredFile | undefined {
+    return this.all<StoredFile>(`SELECT ${FILE_COLUMNS} FROM files WHERE sha256 = $1`, [sha256])[0];
+  }
+
+  getMeta(key: string): string | undefined {
+    return this.all<{ value: string }>('SELECT value FROM meta WHERE key = $1', [key])[0]?.value;
+  }
+
+  openRefusals(fileId: number): OpenRefusal[] {
+    return this.all<OpenRefusal>(
+      `SELECT j.line, j.code, j.value FROM rejected_rows j
+        WHERE j.file_id = $1
+          AND NOT EXISTS (SELECT 1 FROM results r WHERE r.file_id = j.file_id AND r.line = j.line)
+          AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.file_id = j.file_id AND h.line = j.line)
+        ORDER BY j.line`,
+      [fileId],
+    );
+  }
+
+  siteVersion(siteId: string): number {
+    return (
+      this.all<{ version: number }>('SELECT version FROM site_versions WHERE site_id = $1', [siteId])[0]?.version ?? 0
+    );
+  }
+
+  outputsBuilt(outbox: string, siteId: string): { siteVersion: number; configDigest: string } | undefined {
+    return this.all<{ siteVersion: number; configDigest: string }>(
+      'SELECT site_version AS "siteVersion", config_digest AS "configDigest" FROM outputs_built WHERE outbox = $1 AND site_id = $2',
+      [outbox, siteId],
+    )[0];
+  }
+
+  /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
+  ropes(siteId?: string): StoredRope[] {
+    const params = siteId === undefined ? [] : [siteId];
+    const hung = this.all<StoredRope>(
+      `SELECT s.sample_id AS "sampleId", h.site_id AS "siteId", h.barn_id AS "barnId", h.pen_id AS "penId", h.hung_on AS "hungOn",
+              h.source, ps.sample_id AS "poolId"
+         FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool
+        ${siteId === undefined ? '' : 'WHERE h.site_id = $1'}
+        ORDER BY h.hung_on COLLATE "C", h.site_id COLLATE "C", h.barn_id COLLATE "C", h.pen_id COLLATE "C"`,
+      params,
+    );
+    // A planned rope counts as hung once a result for it (or for the pool the plan put it in,
+    // unless a rope sheet names that pool) arrives: on its collection date, else its due date.
+    const planned = this.all<StoredRope>(
+      `SELECT p.sample_id AS "sampleId", p.site_id AS "siteId", p.barn_id AS "barnId", p.pen_id AS "penId",
+              COALESCE(MIN(r.collected_on COLLATE "C"), p.due_on) AS "hungOn", 'plan' AS source, p.pool_id AS "poolId"
+         FROM planned_ropes p LEFT JOIN samples s ON s.sample_id = p.sample_id LEFT JOIN samples ps ON ps.sample_id = p.pool_id
+         JOIN results r ON r.sample = s.id OR (r.sample = ps.id AND NOT EXISTS (SELECT 1 FROM ropes h2 WHERE h2.pool = ps.id))
+        WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = $1'}
+        GROUP BY p.sample_id
+        ORDER BY p.sample_id COLLATE "C"`,
+      params,
+    );
+    return [...hung, ...planned];
+  }
+
+  /** Results no later report supersedes; with a site, those of the site's samples. */
+  currentResults(siteId?: string): StoredResult[] {
+    return siteId === undefined ? this.resultRows('', []) : this.resultRows(`AND ${SITE_RESULT_SAMPLES}`, [siteId]);
+  }
+
+  /** Current results of the named samples. */
+  private currentResultsOf(sampleIds: readonly string[]): StoredResult[] {
+    return this.resultRows('AND s.sample_id IN (SELECT json_array_elements_text($1::json))', [
+      JSON.stringify(sampleIds),
+    ]);
+  }
+
+  private resultRows(where: string, params: readonly SqlValue[]): StoredResult[] {
+    const rows = this.all<Omit<StoredResult, 'callDiffers'> & { callDiffers: number }>(
+      `SELECT r.id, r.file_id AS "fileId", r.lab_id AS "labId", s.sample_id AS "sampleId", r.assay_id AS "assayId", r.measure,
+              r.ct, r.sp, r.ct_raw AS "ctRaw", r.lab_call AS "labCall", r.accession, r.collected_on AS "collectedOn",
+              r.reported_on AS "reportedOn", r.class AS "resultClass", x.text AS reason, r.load_band AS "loadBand",
+              CASE WHEN r.measure = 'ct' THEN r.positive_below END AS "positiveBelow",
+              CASE WHEN r.measure = 'ct' THEN r.suspect_below END AS "suspectBelow",
+              CASE WHEN r.measure = 'ct' THEN r.cycle_limit END AS "cycleLimit",
+              r.positive_at_or_above AS "positiveAtOrAbove", r.suspect_at_or_above AS "suspectAtOrAbove", r.call_differs AS "callDiffers"
+         FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
+        WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${where}
+        ORDER BY r.id`,
+      params,
+    );
+    return rows.map((row) => ({ ...row, callDiffers: Boolean(row.callDiffers) }));
+  }
+
+  supersessions(): Supersession[] {
+    return this.all<Supersession>(
+      'SELECT old_result_id AS "oldResultId", new_result_id AS "newResultId", reason FROM supersessions ORDER BY old_result_id',
+    );
+  }
+
+  /** Every link between two reports of one of the site's samples, with both readings, in the order the links were made. */
+  replacedReports(siteId: string, sampleIds?: readonly string[]): ReplacedReport[] {
+    const rows = this.all<Record<string, string | number | null>>(
+      `SELECT v.sample_id AS "sampleId", v.assay_id AS "assayId", v.lab_id AS "labId", v.kind, v.reason,
+              v.old_class AS "oldClass", v.old_ct AS "oldCt", v.old_ct_raw AS "oldCtRaw", v.old_lab_call AS "oldLabCall",
+              v.old_reported_on AS "oldReportedOn", v.old_report_status AS "oldReportStatus", v.old_status_kind AS "oldStatus",
+              (SELECT o.status_word FROM results o WHERE o.id = v.old_result_id) AS "oldStatusWord",
+              v.new_class AS "newClass", v.new_ct AS "newCt", v.new_ct_raw AS "newCtRaw", v.new_lab_call AS "newLabCall",
+              v.new_reported_on AS "newReportedOn", v.new_report_status AS "newReportStatus", v.new_status_kind AS "newStatus",
+              v.new_status_word AS "newStatusWord"
+         FROM supersession_readings v
+        WHERE v.sample_id IN (${SITE_SAMPLE_IDS}) ${sampleIds === undefined ? '' : 'AND v.sample_id IN (SELECT json_array_elements_text($2::json))'}
+        ORDER BY GREATEST(v.old_result_id, v.new_result_id), LEAST(v.old_result_id, v.new_result_id)`,
+      sampleIds === undefined ? [siteId] : [siteId, JSON.stringify(sampleIds)],
+    );
+    const reading = (row: Record<string, string | number | null>, side: 'old' | 'new'): StoredReading => ({
+      resultClass: row[`${side}Class`] as ResultClass,
+      ct: row[`${side}Ct`] as number | null,
+      ctRaw: (row[`${side}CtRaw`] as string | null) ?? '',
+      labCall: row[`${side}LabCall`] as string | null,
+      reportedOn: row[`${side}ReportedOn`] as string | null,
+      status: row[`${side}Status`] as ReportStatusKind | null,
+      statusWord: (row[`${side}StatusWord`] as string | null) ?? (row[`${side}ReportStatus`] as string | null),
+    });
+    return rows.map((row) => ({
+      sampleId: row.sampleId as string,
+      assayId: row.assayId as string,
+      labId: row.labId as string,
+      kind: row.kind as SupersessionKind | null,
+      reason: row.reason as string,
+      replaced: reading(row, 'old'),
+      inPlace: reading(row, 'new'),
+    }));
+  }
+
+  /** Refused rows with a bad check character that name a planned rope of the site still waiting, by file and line. */
+  mistypedRefusals(siteId: string): MistypedRefusal[] {
+    return this.all<MistypedRefusal>(
+      `WITH waiting AS MATERIALIZED (
+         SELECT j.id, j.file_id, j.line, j.value, j.suggested_id
+           FROM rejected_rows j JOIN planned_ropes p ON p.sample_id = j.suggested_id
+          WHERE j.code = 'bad-check-character' AND p.site_id = $1
+            AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id)
+       )
+       SELECT COALESCE(w.value, '') AS written, w.suggested_id AS "suggestedId", f.name AS "fileName", w.line
+         FROM waiting w JOIN files f ON f.id = w.file_id
+        WHERE NOT EXISTS (SELECT 1 FROM results r WHERE r.file_id = w.file_id AND r.line = w.line)
+        ORDER BY w.file_id, w.line, w.id`,
+      [siteId],
+    );
+  }
+
+  unresolvedSampleIds(): string[] {
+    return this.all<{ sampleId: string }>(
+      `SELECT s.sample_id AS "sampleId" FROM samples s
+        WHERE EXISTS (SELECT 1 FROM results r WHERE r.sample = s.id)
+          AND NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id)
+          AND NOT EXISTS (SELECT 1 FROM planned_ropes p WHERE p.sample_id = s.sample_id)
+        ORDER BY s.sample_id COLLATE "C"`,
+    ).map((row) => row.sampleId);
+  }
+
+  plannedRopes(siteId?: string): PlannedRope[] {
+    return this.all<PlannedRope>(
+      `SELECT ${PLANNED_COLUMNS} FROM planned_ropes ${siteId === undefined ? '' : 'WHERE site_id = $1'} ORDER BY sample_id COLLATE "C"`,
+      siteId === undefined ? [] : [siteId],
+    );
+  }
+
+  plannedWithoutResults(siteId: string): PlannedRope[] {
+    return this.all<PlannedRope>(
+      `SELECT ${PLANNED_COLUMNS} FROM planned_ropes p
+        WHERE site_id = $1
+          AND NOT EXISTS (SELECT 1 FROM samples s JOIN results r ON r.sample = s.id WHERE s.sample_id = p.sample_id OR s.sample_id = p.pool_id)
+        ORDER BY sample_id COLLATE "C"`,
+      [siteId],
+    );
+  }
+
+  files(): StoredFileCounts[] {
+    return this.all<StoredFileCounts>(
+      `SELECT ${FILE_COLUMNS}, rows_accepted AS "rowsAccepted", rows_rejected AS "rowsRejected", rows_duplicate AS "rowsDuplicate"
+         FROM files ORDER BY id`,
+    );
+  }
+
+  rejectedRows(fileId: number): RowRejection[] {
+    return this.all<RowRejection>(
+      'SELECT line, field, code, value, message FROM rejected_rows WHERE file_id = $1 ORDER BY line, id',
+      [fileId],
+    );
+  }
+
+  counts(): StoreCounts {
+    const row = this.all<StoreCounts>(
+      `SELECT (SELECT count(*) FROM files) AS files,
+              (SELECT count(*) FROM files WHERE status = 'rejected') AS "rejectedFiles",
+              (SELECT count(*) FROM results) AS results,
+              (SELECT count(*) FROM results r WHERE NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)) AS "currentResults",
+              (SELECT count(*) FROM ropes) AS ropes,
+              (SELECT count(*) FROM rejected_rows) AS "rejectedRows",
+              (SELECT count(*) FROM planned_ropes) AS planned`,
+    )[0];
+    if (row === undefined) throw new Error('counts: no row');
+    return row;
+  }
+}
