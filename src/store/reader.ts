@@ -27,6 +27,7 @@ import type {
   StoreReader,
 } from '../domain/store.js';
 import type { ResultClass } from '../interpret/classify.js';
+import { chosenInputs } from './chosenInputs.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
 type RopeCells = [string, string, string, string, string, StoredRope['source'], string | null];
@@ -129,31 +130,11 @@ export class SqliteReader implements StoreReader {
   }
 
   siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
-    return this.snapshot(() => {
-      const outline: SiteOutline = {
-        version: this.siteVersion(siteId),
-        ropes: this.ropes(siteId),
-        reportKeys: this.reportKeys(siteId),
-        planned: this.plannedRopes(siteId),
-        plannedWithoutResults: this.plannedWithoutResults(siteId),
-        mistyped: this.mistypedRefusals(siteId),
-      };
-      const samples = choose(outline);
-      const inputs: SiteInputs = {
-        version: outline.version,
-        ropes: outline.ropes,
-        results: samples === undefined ? this.currentResults(siteId) : this.currentResultsOf(samples),
-        planned: outline.planned,
-        plannedWithoutResults: outline.plannedWithoutResults,
-        replaced: this.replacedReports(siteId, samples),
-        mistyped: outline.mistyped,
-      };
-      return { outline, inputs };
-    });
+    return chosenInputs(this, siteId, choose);
   }
 
   /** The site's samples (as `currentResults` chooses them) and their reports' keys (SiteOutline.reportKeys). */
-  private reportKeys(siteId: string): Map<string, string> {
+  reportKeys(siteId: string): Map<string, string> {
     // Reports are only added (never changed or removed) and links too: the count of reports, the
     // newest id and the count of replaced ones change with every change to a sample's reports.
     const rows = this.db
@@ -169,7 +150,7 @@ export class SqliteReader implements StoreReader {
   }
 
   /** Current results of the named samples, as `currentResults` gives them. */
-  private currentResultsOf(sampleIds: readonly string[]): StoredResult[] {
+  currentResultsOf(sampleIds: readonly string[]): StoredResult[] {
     return this.resultRows('AND s.sample_id IN (SELECT value FROM json_each(@samples))', {
       samples: JSON.stringify(sampleIds),
     });

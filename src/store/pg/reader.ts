@@ -29,6 +29,7 @@ import type {
 } from '../../domain/store.js';
 import type { ResultClass } from '../../interpret/classify.js';
 import type { SqlValue, SyncConnection } from './syncConnection.js';
+import { chosenInputs } from '../chosenInputs.js';
 
 const FILE_COLUMNS = `id, name, sha256, kind, lab_id AS "labId", received_at AS "receivedAt", status, reason_code AS "reasonCode", reason`;
 const PLANNED_COLUMNS = `sample_id AS "sampleId", site_id AS "siteId", barn_id AS "barnId", pen_id AS "penId", side, reason,
@@ -70,31 +71,11 @@ export class PgStoreReader implements StoreReader {
   }
 
   siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
-    return this.snapshot(() => {
-      const outline: SiteOutline = {
-        version: this.siteVersion(siteId),
-        ropes: this.ropes(siteId),
-        reportKeys: this.reportKeys(siteId),
-        planned: this.plannedRopes(siteId),
-        plannedWithoutResults: this.plannedWithoutResults(siteId),
-        mistyped: this.mistypedRefusals(siteId),
-      };
-      const samples = choose(outline);
-      const inputs: SiteInputs = {
-        version: outline.version,
-        ropes: outline.ropes,
-        results: samples === undefined ? this.currentResults(siteId) : this.currentResultsOf(samples),
-        planned: outline.planned,
-        plannedWithoutResults: outline.plannedWithoutResults,
-        replaced: this.replacedReports(siteId, samples),
-        mistyped: outline.mistyped,
-      };
-      return { outline, inputs };
-    });
+    return chosenInputs(this, siteId, choose);
   }
 
   /** The site's samples and their reports' keys (SiteOutline.reportKeys), as the SQLite reader gives them. */
-  private reportKeys(siteId: string): Map<string, string> {
+  reportKeys(siteId: string): Map<string, string> {
     const rows = this.all<{ sampleId: string; key: string }>(
       `SELECT s.sample_id AS "sampleId", count(*) || '/' || max(r.id) || '/' || count(o.old_result_id) AS key
          FROM results r JOIN samples s ON s.id = r.sample LEFT JOIN supersessions o ON o.old_result_id = r.id
@@ -181,7 +162,7 @@ export class PgStoreReader implements StoreReader {
   }
 
   /** Current results of the named samples. */
-  private currentResultsOf(sampleIds: readonly string[]): StoredResult[] {
+  currentResultsOf(sampleIds: readonly string[]): StoredResult[] {
     return this.resultRows('AND s.sample_id IN (SELECT json_array_elements_text($1::json))', [
       JSON.stringify(sampleIds),
     ]);
