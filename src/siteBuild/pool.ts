@@ -13,15 +13,8 @@ import os from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { Site } from '../config/types.js';
-import {
-  type FailedBuild,
-  finishOutputs,
-  OutputError,
-  type RegenerateOptions,
-  regenerateOutputs,
-  type SiteBuild,
-  sitesNamed,
-} from '../outputs.js';
+import { type RegenerateOptions, regenerateOutputs, sitesNamed } from '../outputs.js';
+import { type FailedBuild, finishOutputs, OutputError, type SiteBuild } from './results.js';
 import type { Workspace } from '../workspace.js';
 import { type BuildWorkerData, crossedError, type FromBuildWorker, type ToBuildWorker } from './protocol.js';
 
