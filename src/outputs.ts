@@ -44,8 +44,10 @@ import { jsonText } from './report/jsonText.js';
 import { storeTidyRounds, TIDY_TABLES, tidyHeader } from './report/tidy/tidyTables.js';
 import type { Workspace } from './workspace.js';
 import { loadSiteRounds } from './roundsFromStore.js';
+import { type FailedBuild, finishOutputs, OutputError, type SiteBuild } from './siteBuild/results.js';
 
 export type { AnalyseOptions, SiteAnalysis };
+export { OutputError, type FailedBuild, type SiteBuild };
 
 const ROUND_FOLDER = /^r\d{2,}-\d{4}-\d{2}-\d{2}$/;
 
@@ -280,29 +282,6 @@ function rebuildSite(
   }
 }
 
-/** Thrown when outputs could not be written: the store holds the data, the outbox is behind it. */
-export class OutputError extends Error {
-  override readonly name = 'OutputError';
-  constructor(
-    readonly siteIds: readonly string[],
-    reason: unknown,
-  ) {
-    super(
-      `the outputs of ${siteIds.join(', ')} could not be written (${reason instanceof Error ? reason.message : String(reason)}); ` +
-        'the store holds the data, and the outputs are rebuilt on the next run (or with `ropewatch report`)',
-      { cause: reason },
-    );
-  }
-}
-
-/** What a build of one site wrote. */
-export interface SiteBuild {
-  site: { id: string; name: string };
-  rounds: { number: number; id: string; startOn: string }[];
-  /** Rounds whose files were (re)written; the others were left as they were. */
-  roundsWritten: number;
-}
-
 export interface RegenerateOptions extends BuildOptions {
   /** Told before each site is built: the site, its place (1-based) and the number of sites. */
   onSite?: (site: Site, place: number, of: number) => void;
@@ -313,15 +292,9 @@ export function sitesNamed(ws: Workspace, siteIds?: readonly string[]): readonly
   return siteIds === undefined ? ws.config.sites : ws.config.sites.filter((site) => siteIds.includes(site.id));
 }
 
-/** A site whose build threw: the error is kept for the OutputError. */
-export interface FailedBuild {
-  siteId: string;
-  error: unknown;
-}
-
 /**
  * Builds one site's outputs, as regenerateOutputs does for each: the unit the worker threads
- * (src/siteBuildPool.ts) build too.
+ * (src/siteBuild/pool.ts) build too.
  */
 export function buildSite(ws: Workspace, site: Site, options: BuildOptions = {}): SiteBuild {
   // The outbreak models are per site and barn: a cache per site keeps memory to one site.
@@ -334,28 +307,10 @@ export function buildSite(ws: Workspace, site: Site, options: BuildOptions = {})
 }
 
 /**
- * After the sites' builds: writes the index page, then throws when a build (or the index) failed.
- * @throws OutputError naming every site that failed, with the first failure as its reason
- */
-export function finishOutputs(ws: Workspace, failed: readonly FailedBuild[]): void {
-  const failures = [...failed];
-  try {
-    writeIndex(ws.outbox, ws.config);
-  } catch (error) {
-    failures.push({ siteId: 'the index page', error });
-  }
-  if (failures.length > 0)
-    throw new OutputError(
-      failures.map((failure) => failure.siteId),
-      failures[0]!.error,
-    );
-}
-
-/**
  * Regenerates the outputs of the named sites (all sites when none are named) from committed
  * data and stores their plans. Sites are built one at a time and nothing of a site's analysis
  * is kept once its files are written, so memory is bounded by the largest site, not the store.
- * (src/siteBuildPool.ts builds several sites at once on worker threads.)
+ * (src/siteBuild/pool.ts builds several sites at once on worker threads.)
  * @throws OutputError when a site's outputs cannot be written (the others are still written)
  */
 export function regenerateOutputs(

@@ -13,15 +13,8 @@ import os from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { Site } from '../config/types.js';
-import {
-  type FailedBuild,
-  finishOutputs,
-  OutputError,
-  type RegenerateOptions,
-  regenerateOutputs,
-  type SiteBuild,
-  sitesNamed,
-} from '../outputs.js';
+import { type RegenerateOptions, regenerateOutputs, sitesNamed } from '../outputs.js';
+import { type FailedBuild, finishOutputs, OutputError, type SiteBuild } from './results.js';
 import type { Workspace } from '../workspace.js';
 import { type BuildWorkerData, crossedError, type FromBuildWorker, type ToBuildWorker } from './protocol.js';
 
@@ -72,84 +65,138 @@ export async function regenerateOutputsInParallel(
   return builds;
 }
 
-/** The sites built on `count` workers: the builds in site order, and the sites that failed. */
+/** What a pool's build of the sites gives: the builds in site order, and the sites that failed. */
+interface PoolOutcome {
+  builds: SiteBuild[];
+  failed: FailedBuild[];
+}
+
+/** The sites built on `count` workers (see SitePool). */
 function buildOnWorkers(
   ws: Workspace,
   sites: readonly Site[],
   count: number,
   options: PoolOptions,
-): Promise<{ builds: SiteBuild[]; failed: FailedBuild[] }> {
-  const data: BuildWorkerData = {
-    paths: { configDir: ws.configDir, dbFile: ws.dbFile, inbox: ws.inbox, outbox: ws.outbox },
-    configDigest: ws.configDigest,
-    options: {
-      ...(options.full === undefined ? {} : { full: options.full }),
-      ...(options.budget === undefined ? {} : { budget: options.budget }),
-    },
-  };
-  const order = handOutOrder(sites);
-  const results: (SiteBuild | { error: unknown } | undefined)[] = sites.map(() => undefined);
-  const pool: Worker[] = [];
-  // Workers told to stop (nothing left to hand out): their exit is the expected end.
-  const stopped = new Set<Worker>();
-  let handed = 0;
-  return new Promise((resolve, reject) => {
-    let over = false;
-    const stopAll = (error: unknown) => {
-      if (over) return;
-      over = true;
-      for (const worker of pool) void worker.terminate();
-      const unbuilt = sites.filter((_, index) => results[index] === undefined).map((site) => site.id);
-      reject(new OutputError(unbuilt, error));
+): Promise<PoolOutcome> {
+  return new Promise((resolve, reject) => new SitePool(ws, sites, options, resolve, reject).start(count));
+}
+
+/**
+ * One build of `sites` on worker threads: hands the sites out as workers come free, keeps each
+ * result at its site's place, and settles once every worker has ended. A worker that fails or
+ * stops early, or a failing progress callback or clock, ends every worker and rejects.
+ */
+class SitePool {
+  private readonly order: number[];
+  private readonly results: (SiteBuild | { error: unknown } | undefined)[];
+  private readonly workers: Worker[] = [];
+  /** Workers told to stop (nothing left to hand out): their exit is the expected end. */
+  private readonly stopped = new Set<Worker>();
+  private handed = 0;
+  private exited = 0;
+  private over = false;
+
+  constructor(
+    private readonly ws: Workspace,
+    private readonly sites: readonly Site[],
+    private readonly options: PoolOptions,
+    private readonly resolve: (outcome: PoolOutcome) => void,
+    private readonly reject: (error: unknown) => void,
+  ) {
+    this.order = handOutOrder(sites);
+    this.results = sites.map(() => undefined);
+  }
+
+  start(count: number): void {
+    const { ws, options } = this;
+    const data: BuildWorkerData = {
+      paths: { configDir: ws.configDir, dbFile: ws.dbFile, inbox: ws.inbox, outbox: ws.outbox },
+      configDigest: ws.configDigest,
+      options: {
+        ...(options.full === undefined ? {} : { full: options.full }),
+        ...(options.budget === undefined ? {} : { budget: options.budget }),
+      },
     };
-    const handOut = (worker: Worker) => {
-      const index = order[handed];
-      if (index === undefined) {
-        stopped.add(worker);
-        worker.postMessage({ type: 'stop' } satisfies ToBuildWorker);
-        return;
+    try {
+      for (let started = 0; started < count; started++) {
+        const worker = startWorker(data);
+        this.workers.push(worker);
+        worker.on('message', (message: FromBuildWorker) => this.received(worker, message));
+        worker.on('error', (error) => this.fail(error));
+        worker.on('exit', (code) => this.ended(worker, code));
+        this.handOut(worker);
       }
-      handed++;
-      const site = sites[index]!;
-      options.onSite?.(site, handed, sites.length);
-      worker.postMessage({
-        type: 'build',
-        index,
-        siteId: site.id,
-        now: ws.now().toISOString(),
-      } satisfies ToBuildWorker);
-    };
-    const finish = () => {
-      if (over) return;
-      over = true;
-      const builds: SiteBuild[] = [];
-      const failed: FailedBuild[] = [];
-      results.forEach((result, index) => {
-        if (result !== undefined && 'error' in result) failed.push({ siteId: sites[index]!.id, error: result.error });
-        else if (result !== undefined) builds.push(result);
-      });
-      resolve({ builds, failed });
-    };
-    let exited = 0;
-    for (let started = 0; started < count; started++) {
-      const worker = startWorker(data);
-      pool.push(worker);
-      worker.on('message', (message: FromBuildWorker) => {
-        if (message.type === 'log') {
-          ws.log(message.line);
-          return;
-        }
-        results[message.index] = message.type === 'built' ? message.build : { error: crossedError(message.error) };
-        handOut(worker);
-      });
-      worker.on('error', stopAll);
-      worker.on('exit', (code) => {
-        exited++;
-        if (!stopped.has(worker))
-          stopAll(new Error(`a site-build worker stopped (exit code ${code}) before its sites were built`));
-        else if (exited === pool.length) finish();
-      });
-      handOut(worker);
+    } catch (error) {
+      this.fail(error, { raw: true });
     }
-  });
+  }
+
+  private received(worker: Worker, message: FromBuildWorker): void {
+    if (message.type === 'log') {
+      this.ws.log(message.line);
+      return;
+    }
+    this.results[message.index] = message.type === 'built' ? message.build : { error: crossedError(message.error) };
+    try {
+      this.handOut(worker);
+    } catch (error) {
+      this.fail(error, { raw: true });
+    }
+  }
+
+  /** Gives `worker` the next site (telling onSite, reading the clock), or tells it to stop. */
+  private handOut(worker: Worker): void {
+    if (this.over) return;
+    const index = this.order[this.handed];
+    if (index === undefined) {
+      this.stopped.add(worker);
+      worker.postMessage({ type: 'stop' } satisfies ToBuildWorker);
+      return;
+    }
+    this.handed++;
+    const site = this.sites[index]!;
+    this.options.onSite?.(site, this.handed, this.sites.length);
+    const now = this.ws.now().toISOString();
+    worker.postMessage({ type: 'build', index, siteId: site.id, now } satisfies ToBuildWorker);
+  }
+
+  private ended(worker: Worker, code: number): void {
+    this.exited++;
+    if (!this.stopped.has(worker))
+      this.fail(new Error(`a site-build worker stopped (exit code ${code}) before its sites were built`));
+    else if (this.exited === this.workers.length) this.finish();
+  }
+
+  /**
+   * Ends every worker and rejects: with an OutputError naming the sites not built, or (`raw`,
+   * for this thread's own callback or clock) with the error itself, as the in-process build throws it.
+   */
+  private fail(error: unknown, { raw = false } = {}): void {
+    if (this.over) return;
+    this.over = true;
+    for (const worker of this.workers) void worker.terminate();
+    if (raw) {
+      this.reject(error);
+      return;
+    }
+    const unbuilt = this.sites.filter((_, index) => this.results[index] === undefined).map((site) => site.id);
+    this.reject(new OutputError(unbuilt, error));
+  }
+
+  private finish(): void {
+    const missing = this.sites.filter((_, index) => this.results[index] === undefined);
+    if (missing.length > 0) {
+      this.fail(new Error('the site-build workers ended before every site was built'));
+      return;
+    }
+    this.over = true;
+    const builds: SiteBuild[] = [];
+    const failed: FailedBuild[] = [];
+    this.results.forEach((result, index) => {
+      if (result !== undefined && 'error' in result)
+        failed.push({ siteId: this.sites[index]!.id, error: result.error });
+      else if (result !== undefined) builds.push(result);
+    });
+    this.resolve({ builds, failed });
+  }
 }

@@ -173,6 +173,26 @@ describe('building sites on worker threads', () => {
       ws.close();
     }
   });
+
+  it('rejects with the error of a progress callback that throws, and ends the workers', {
+    timeout: 120_000,
+  }, async () => {
+    const prepared = await preparedStore();
+    const ws = copyOf(prepared, 'callback');
+    try {
+      const broken = new Error('progress display gone');
+      const error = await regenerateOutputsInParallel(ws, undefined, {
+        full: true,
+        jobs: 2,
+        onSite: (_, place) => {
+          if (place === 3) throw broken;
+        },
+      }).catch((e: unknown) => e);
+      expect(error).toBe(broken);
+    } finally {
+      ws.close();
+    }
+  });
 });
 
 describe('the pool size and the hand-out order', () => {
