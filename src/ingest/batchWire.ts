@@ -7,7 +7,7 @@
  */
 import type { RowRejection } from './errors.js';
 import type { MappedBatch, RowList } from './mappedBatches.js';
-import type { ResultRow, RopeRow } from '../domain/records.js';
+import type { ResultRow, RopeLocation, RopeRow } from '../domain/records.js';
 import type { ResultClass } from '../interpret/classify.js';
 import type { CallClass, Measure, ReportStatusKind } from '../config/types.js';
 
@@ -206,12 +206,15 @@ export class WireRows implements RowList<ResultRow> {
     this.ropeHungOn = texts.ropeHungOn;
   }
 
+  /** The location decoded last and the row it was decoded for: a sample's rows share one. */
+  private lastRope: RopeLocation | undefined;
+  private lastRopeRow = -1;
+
   at(i: number): ResultRow {
     const numbers = this.numbers;
     const at = i * NUMBERS_PER_ROW;
     const ct = numbers[at + 1]!;
     const flags = numbers[at + 6]!;
-    const ropeSiteId = textAt(this.ropeSiteId, i);
     return {
       line: numbers[at]!,
       labId: textAt(this.labId, i)!,
@@ -243,16 +246,34 @@ export class WireRows implements RowList<ResultRow> {
       callDiffers: (flags & FLAG_CALL_DIFFERS) !== 0,
       sampleIdAsWritten: textAt(this.sampleIdAsWritten, i),
       contentKey: numbers[at + 5]!,
-      encodedRope:
-        ropeSiteId === null
-          ? undefined
-          : {
-              siteId: ropeSiteId,
-              barnId: textAt(this.ropeBarnId, i)!,
-              penId: textAt(this.ropePenId, i)!,
-              hungOn: textAt(this.ropeHungOn, i)!,
-            },
+      encodedRope: this.ropeAt(i),
     };
+  }
+
+  /**
+   * The rope location row i's sample ID encodes, the same object as the row before's when both
+   * name one place (the store then builds its key once per rope). Never changed once decoded.
+   */
+  private ropeAt(i: number): RopeLocation | undefined {
+    const site = this.ropeSiteId.index[i]!;
+    if (this.ropeSiteId.values[site] === null) return undefined;
+    const last = this.lastRopeRow;
+    if (
+      last >= 0 &&
+      site === this.ropeSiteId.index[last] &&
+      this.ropeBarnId.index[i] === this.ropeBarnId.index[last] &&
+      this.ropePenId.index[i] === this.ropePenId.index[last] &&
+      this.ropeHungOn.index[i] === this.ropeHungOn.index[last]
+    )
+      return this.lastRope;
+    this.lastRopeRow = i;
+    this.lastRope = Object.freeze({
+      siteId: this.ropeSiteId.values[site]!,
+      barnId: textAt(this.ropeBarnId, i)!,
+      penId: textAt(this.ropePenId, i)!,
+      hungOn: textAt(this.ropeHungOn, i)!,
+    });
+    return this.lastRope;
   }
 }
 

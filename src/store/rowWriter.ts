@@ -14,7 +14,7 @@ import {
   type RowRules,
   type SampleRopeState,
 } from '../domain/store.js';
-import { fillResultValues, newResultValues, type RowStatements } from './rowStatements.js';
+import { runInsertResult, type RowStatements } from './rowStatements.js';
 
 /** A sample as the store holds it, with its rope if it hangs in a pen. */
 interface StoredSample {
@@ -60,11 +60,12 @@ export class RowWriter {
   private lastSampleWasNew = false;
   /** The last sample met, by its ID: a sample's assays come on neighbouring rows. */
   private lastSample: { sampleId: string; sample: SampleInFile } | undefined;
-  /** The insertResult statement's values, filled in place row after row (SQLite copies what is bound). */
-  private readonly resultValues = newResultValues();
   /** Reason text -> id in `reasons`; forgotten on rollback (the rows it names may be gone). */
   private readonly reasonIds = new Map<string, number>();
   effects: FileEffects = { sites: new Set(), resolved: [] };
+  /** The last encoded rope met, and its location key (ropeKey). */
+  private lastRope: RopeLocation | undefined;
+  private lastRopeKey = '';
 
   constructor(private readonly statements: RowStatements) {}
 
@@ -72,6 +73,7 @@ export class RowWriter {
   startFile(): void {
     this.samplesThisFile.clear();
     this.lastSample = undefined;
+    this.lastRope = undefined;
     this.effects = { sites: new Set(), resolved: [] };
   }
 
@@ -139,6 +141,19 @@ export class RowWriter {
   }
 
   /**
+   * The location key of a rope a sample ID encodes. A sample's rows come together and share one
+   * decoded location, so the key of the last one is kept: one string per rope, not per row, and
+   * the same string each time (compared by identity before by characters).
+   */
+  private ropeKey(rope: RopeLocation): string {
+    if (rope !== this.lastRope) {
+      this.lastRope = rope;
+      this.lastRopeKey = locationKey(rope);
+    }
+    return this.lastRopeKey;
+  }
+
+  /**
    * Stores a batch of result rows; links reissues to what they supersede (by `rules.supersede`).
    *
    * A row whose sample ID encodes its pen and day (site sample pattern) is placed before it is
@@ -155,9 +170,7 @@ export class RowWriter {
       if (rope !== undefined && !this.placeEncodedRope(fileId, sample, row, rope, rules, sampleIdField, counts))
         continue;
       noteRow(row, counts);
-      const info = this.statements.insertResult.run(
-        fillResultValues(this.resultValues, fileId, row, sample.key, this.reasonId(row.reason)),
-      );
+      const info = runInsertResult(this.statements, fileId, row, sample.key, this.reasonId(row.reason));
       if (info.changes === 0) {
         counts.duplicates++;
         continue;
@@ -190,7 +203,7 @@ export class RowWriter {
     sampleIdField: string,
     counts: InsertCounts,
   ): boolean {
-    const location = locationKey(rope);
+    const location = this.ropeKey(rope);
     const step = rules.encodedRope(sample, row, location);
     if (step.kind === 'store') return true;
     if (step.kind === 'refuse') {
@@ -204,14 +217,17 @@ export class RowWriter {
     }
     const before = counts.rejections.length;
     const ropeRow: RopeRow = {
-      ...rope,
+      siteId: rope.siteId,
+      barnId: rope.barnId,
+      penId: rope.penId,
+      hungOn: rope.hungOn,
       sampleId: row.sampleId,
       line: row.line,
       note: null,
       sampleIdAsWritten: null,
       warning: undefined,
     };
-    this.insertRopeRow(fileId, sample, ropeRow, 'sample-pattern', rules, counts);
+    this.insertRopeRow(fileId, sample, ropeRow, 'sample-pattern', rules, counts, null, location);
     if (counts.rejections.length === before) return true;
     const refusal = rules.encodedRopeRefusal(counts.rejections[before]!, sampleIdField, row.sampleId);
     counts.rejections[before] = refusal;
@@ -247,6 +263,7 @@ export class RowWriter {
     rules: RowRules,
     counts: InsertCounts,
     poolKey: number | null = null,
+    location: string = locationKey(row),
   ): void {
     const sampleKey = sample.key;
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
@@ -265,7 +282,7 @@ export class RowWriter {
     if (info.changes === 1) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
-      sample.ropedAt = locationKey(row);
+      sample.ropedAt = location;
       sample.ropeSiteId = row.siteId;
       this.effects.sites.add(row.siteId);
       if (sample.hadResults) {

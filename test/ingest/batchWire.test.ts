@@ -74,6 +74,31 @@ describe('batch wire format', () => {
     );
   });
 
+  it('gives each row its own rope when neighbouring rows share all but one part of it, read in any order', () => {
+    // Ropes from a tiny pool: neighbours often name the same place, or places that differ in one
+    // part only (the decoded place is shared between neighbours that name the same one).
+    const part = fc.constantFrom('a', 'b');
+    const rope = fc.option(fc.record({ siteId: part, barnId: part, penId: part, hungOn: part }), {
+      nil: undefined,
+    });
+    fc.assert(
+      fc.property(
+        fc
+          .array(fc.tuple(resultRow, rope), { minLength: 1, maxLength: 40 })
+          .chain((pairs) =>
+            fc.tuple(fc.constant(pairs), fc.shuffledSubarray([...pairs.keys()], { minLength: pairs.length })),
+          ),
+        ([pairs, order]) => {
+          const rows = pairs.map(([row, encodedRope]) => ({ ...row, encodedRope }));
+          const decoded = decodeBatch(encodeBatch({ results: rows, ropes: [], rejections: [] })).results;
+          for (const i of order) expect(decoded.at(i)?.encodedRope).toEqual(rows[i]!.encodedRope);
+          for (let i = 0; i < rows.length; i++) expect(decoded.at(i)?.encodedRope).toEqual(rows[i]!.encodedRope);
+        },
+      ),
+      { seed: SEED, numRuns: 300 },
+    );
+  });
+
   it('stores each distinct text of a column once per batch', () => {
     const row = (i: number): ResultRow => ({
       line: i + 2,
