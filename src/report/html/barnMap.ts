@@ -140,6 +140,7 @@ export interface MapOptions {
   detail: 'full' | 'mini';
   /** Accessible title of the drawing. */
   title: string;
+  /** Each roped pen's mark; not changed once drawn (the pens drawn are kept per marks map: see penLayer). */
   results?: ReadonlyMap<string, PenMark>;
   planned?: ReadonlyMap<string, PlannedMark>;
   clusters?: readonly { index: number; pens: readonly string[] }[];
