@@ -7,7 +7,6 @@
 import { expandLayout, isInUse, type BarnLayout, type PenStatus } from '../../domain/layout.js';
 import { COLOURS } from './palette.js';
 import { fmt, renderPen } from './mapPen.js';
-import { concat } from './concat.js';
 import { escapeHtml, safeId } from './escape.js';
 import type { PenMark, PlannedMark } from './mapPen.js';
 
@@ -368,5 +367,5 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   parts.push(penLayer(geometry, options, full, prefix));
   for (const cluster of boxes) parts.push(clusterBox(cluster, full));
   parts.push('</svg>');
-  return concat(parts);
+  return parts.join('');
 }
