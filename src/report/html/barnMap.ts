@@ -7,7 +7,6 @@
 import { expandLayout, isInUse, type BarnLayout, type PenStatus } from '../../domain/layout.js';
 import { COLOURS } from './palette.js';
 import { fmt, renderPen } from './mapPen.js';
-import { concat } from './concat.js';
 import { escapeHtml, safeId } from './escape.js';
 import type { PenMark, PlannedMark } from './mapPen.js';
 
@@ -140,6 +139,7 @@ export interface MapOptions {
   detail: 'full' | 'mini';
   /** Accessible title of the drawing. */
   title: string;
+  /** Each roped pen's mark; not changed once drawn (the pens drawn are kept per marks map: see penLayer). */
   results?: ReadonlyMap<string, PenMark>;
   planned?: ReadonlyMap<string, PlannedMark>;
   clusters?: readonly { index: number; pens: readonly string[] }[];
@@ -367,5 +367,5 @@ export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayo
   parts.push(penLayer(geometry, options, full, prefix));
   for (const cluster of boxes) parts.push(clusterBox(cluster, full));
   parts.push('</svg>');
-  return concat(parts);
+  return parts.join('');
 }

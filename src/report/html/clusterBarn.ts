@@ -12,7 +12,6 @@ import { renderBarnMap } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { statsTable } from './clusterStats.js';
-import { concat } from './concat.js';
 import { escapeHtml } from './escape.js';
 import { mapLegend, resultMarks } from './mapMarks.js';
 import { num } from './page.js';
@@ -112,7 +111,7 @@ function earlierMinis(view: BarnView, earlier: readonly RoundSummary[]): string 
     results: marks,
     clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
   });
-  return `<div class="minis" data-minis="">${concat(figures)}<figure>${now}<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`;
+  return `<div class="minis" data-minis="">${figures.join('')}<figure>${now}<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`;
 }
 
 /** Adds each lab to the set of the cutoff it read a point with. */

@@ -8,7 +8,6 @@ import type { RoundSummary } from '../../analysis/roundSummary.js';
 import type { AssaySpatial } from '../../analysis/spatialRound.js';
 import { antibodyMeaning } from '../summaryNotices.js';
 import { barnSection, type ClustersPageInput } from './clusterBarn.js';
-import { concat } from './concat.js';
 import { escapeHtml } from './escape.js';
 import { mapLegend } from './mapMarks.js';
 import { siteTally } from '../siteTally.js';
@@ -90,9 +89,9 @@ function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
   const shown = busy.some((section) => section.legendShades === legend.shades);
   const quietBlock =
     quiet.length > 0
-      ? `<section class="barn quiet-barns"><div class="minis">${concat(quiet)}</div>${shown ? '' : legend.html}</section>`
+      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${shown ? '' : legend.html}</section>`
       : '';
-  return concat(busy.map((section) => section.html)) + quietBlock;
+  return busy.map((section) => section.html).join('') + quietBlock;
 }
 
 /**
@@ -147,7 +146,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
       { href: 'summary.html', label: 'Round summary' },
       { href: '../next-round.html', label: 'Next round rope sheet' },
     ],
-    body: concat(sections),
+    body: sections.join(''),
     herdStatus: input.herdStatus,
   });
 }

@@ -84,13 +84,13 @@ export function tidyCsv(columns: readonly Column[], rows: readonly TidyRow[]): s
  * ended by a line feed, without the header: no row object is built on the way.
  */
 export function storedRowsCsv(columns: readonly Column[], raws: readonly Readonly<Record<string, unknown>>[]): string {
-  let text = '';
+  const lines: string[] = [];
   const cells: CsvValue[] = new Array(columns.length);
   for (const raw of raws) {
     for (let c = 0; c < columns.length; c++) cells[c] = csvValue(typedValue(columns[c]!.kind, raw[columns[c]!.name]));
-    text += `${csvLine(cells)}\n`;
+    lines.push(`${csvLine(cells)}\n`);
   }
-  return text;
+  return lines.join('');
 }
 
 /** A table: its file name, columns, and the columns that identify a row (no two rows share them). */
