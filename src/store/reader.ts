@@ -4,17 +4,14 @@
  * loads everything one site's analysis reads in one such snapshot.
  */
 import type Database from 'better-sqlite3';
-import type { ReportStatusKind } from '../config/types.js';
 import type {
   MistypedRefusal,
   PlannedRope,
   ReplacedReport,
   StoredFile,
-  StoredReading,
   StoredResult,
   StoredRope,
   Supersession,
-  SupersessionKind,
 } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
 import type {
@@ -28,6 +25,7 @@ import type {
 } from '../domain/store.js';
 import type { ResultClass } from '../interpret/classify.js';
 import { chosenInputs } from './chosenInputs.js';
+import { replacedReportOfRow } from './replacedRows.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
 type RopeCells = [string, string, string, string, string, StoredRope['source'], string | null];
@@ -320,24 +318,7 @@ export class SqliteReader implements StoreReader {
       string,
       string | number | null
     >[];
-    const reading = (row: Record<string, string | number | null>, side: 'old' | 'new'): StoredReading => ({
-      resultClass: row[`${side}Class`] as ResultClass,
-      ct: row[`${side}Ct`] as number | null,
-      ctRaw: (row[`${side}CtRaw`] as string | null) ?? '',
-      labCall: row[`${side}LabCall`] as string | null,
-      reportedOn: row[`${side}ReportedOn`] as string | null,
-      status: row[`${side}Status`] as ReportStatusKind | null,
-      statusWord: (row[`${side}StatusWord`] as string | null) ?? (row[`${side}ReportStatus`] as string | null),
-    });
-    return rows.map((row) => ({
-      sampleId: row.sampleId as string,
-      assayId: row.assayId as string,
-      labId: row.labId as string,
-      kind: row.kind as SupersessionKind | null,
-      reason: row.reason as string,
-      replaced: reading(row, 'old'),
-      inPlace: reading(row, 'new'),
-    }));
+    return rows.map(replacedReportOfRow);
   }
 
   /**

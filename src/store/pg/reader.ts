@@ -5,17 +5,14 @@
  * as SQLite's BINARY collation orders it, so both stores list rows alike whatever the server's
  * locale. `siteInputs` reads one site's inputs in one REPEATABLE READ snapshot.
  */
-import type { ReportStatusKind } from '../../config/types.js';
 import type {
   MistypedRefusal,
   PlannedRope,
   ReplacedReport,
   StoredFile,
-  StoredReading,
   StoredResult,
   StoredRope,
   Supersession,
-  SupersessionKind,
 } from '../../domain/records.js';
 import type { RowRejection } from '../../domain/rejections.js';
 import type {
@@ -27,9 +24,9 @@ import type {
   StoredFileCounts,
   StoreReader,
 } from '../../domain/store.js';
-import type { ResultClass } from '../../interpret/classify.js';
 import type { SqlValue, SyncConnection } from './syncConnection.js';
 import { chosenInputs } from '../chosenInputs.js';
+import { replacedReportOfRow } from '../replacedRows.js';
 
 const FILE_COLUMNS = `id, name, sha256, kind, lab_id AS "labId", received_at AS "receivedAt", status, reason_code AS "reasonCode", reason`;
 const PLANNED_COLUMNS = `sample_id AS "sampleId", site_id AS "siteId", barn_id AS "barnId", pen_id AS "penId", side, reason,
@@ -206,24 +203,7 @@ export class PgStoreReader implements StoreReader {
         ORDER BY GREATEST(v.old_result_id, v.new_result_id), LEAST(v.old_result_id, v.new_result_id)`,
       sampleIds === undefined ? [siteId] : [siteId, JSON.stringify(sampleIds)],
     );
-    const reading = (row: Record<string, string | number | null>, side: 'old' | 'new'): StoredReading => ({
-      resultClass: row[`${side}Class`] as ResultClass,
-      ct: row[`${side}Ct`] as number | null,
-      ctRaw: (row[`${side}CtRaw`] as string | null) ?? '',
-      labCall: row[`${side}LabCall`] as string | null,
-      reportedOn: row[`${side}ReportedOn`] as string | null,
-      status: row[`${side}Status`] as ReportStatusKind | null,
-      statusWord: (row[`${side}StatusWord`] as string | null) ?? (row[`${side}ReportStatus`] as string | null),
-    });
-    return rows.map((row) => ({
-      sampleId: row.sampleId as string,
-      assayId: row.assayId as string,
-      labId: row.labId as string,
-      kind: row.kind as SupersessionKind | null,
-      reason: row.reason as string,
-      replaced: reading(row, 'old'),
-      inPlace: reading(row, 'new'),
-    }));
+    return rows.map(replacedReportOfRow);
   }
 
   /** Refused rows with a bad check character that name a planned rope of the site still waiting, by file and line. */
