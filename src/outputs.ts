@@ -54,6 +54,11 @@ const ROUND_FOLDER = /^r\d{2,}-\d{4}-\d{2}-\d{2}$/;
 /** Held by the process writing a site's outputs (its pid inside). */
 const SITE_LOCK_FILE = '.outputs.lock';
 
+/** The lock held by the process writing the site's outputs. */
+export function siteLockFile(outbox: string, siteId: string): string {
+  return path.join(outbox, siteId, SITE_LOCK_FILE);
+}
+
 /** Stores the plan as the next round's expected rope sheet. */
 export function storePlan(ws: Workspace, analysis: SiteAnalysis): void {
   const { plan } = analysis;
@@ -247,7 +252,7 @@ function rebuildSite(
 ): { analysis: SiteAnalysis; roundsWritten: number } {
   const siteDir = path.join(ws.outbox, site.id);
   fs.mkdirSync(siteDir, { recursive: true });
-  const release = waitForPidLock(path.join(siteDir, SITE_LOCK_FILE), SITE_LOCK_TIMEOUT_MS);
+  const release = waitForPidLock(siteLockFile(ws.outbox, site.id), SITE_LOCK_TIMEOUT_MS);
   try {
     // Another process may commit for this site while the outputs are written: build again from
     // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).

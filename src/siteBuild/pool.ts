@@ -13,7 +13,8 @@ import os from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { Site } from '../config/types.js';
-import { type RegenerateOptions, regenerateOutputs, sitesNamed } from '../outputs.js';
+import { type RegenerateOptions, regenerateOutputs, siteLockFile, sitesNamed } from '../outputs.js';
+import { releaseOwnPidLock } from '../util/pidLock.js';
 import { type FailedBuild, finishOutputs, OutputError, type SiteBuild } from './results.js';
 import type { Workspace } from '../workspace.js';
 import { type BuildWorkerData, crossedError, type FromBuildWorker, type ToBuildWorker } from './protocol.js';
@@ -174,13 +175,17 @@ class SitePool {
   private fail(error: unknown, { raw = false } = {}): void {
     if (this.over) return;
     this.over = true;
-    for (const worker of this.workers) void worker.terminate();
-    if (raw) {
-      this.reject(error);
-      return;
-    }
     const unbuilt = this.sites.filter((_, index) => this.results[index] === undefined).map((site) => site.id);
-    this.reject(new OutputError(unbuilt, error));
+    const inHand = this.order
+      .slice(0, this.handed)
+      .filter((index) => this.results[index] === undefined)
+      .map((index) => this.sites[index]!.id);
+    void Promise.allSettled(this.workers.map((worker) => worker.terminate())).then(() => {
+      // A worker ended in the middle of a site leaves that site's output lock holding this
+      // process's pid, which a later build in this process would wait on: release them.
+      for (const siteId of inHand) releaseOwnPidLock(siteLockFile(this.ws.outbox, siteId));
+      this.reject(raw ? error : new OutputError(unbuilt, error));
+    });
   }
 
   private finish(): void {

@@ -37,6 +37,20 @@ export function takePidLock(file: string): (() => void) | null {
   }
 }
 
+/**
+ * Removes the lock `file` if this process holds it: for a thread of this process that was ended
+ * while it held the lock (its own release never ran, and the pid in it is alive).
+ */
+export function releaseOwnPidLock(file: string): void {
+  let holder: number;
+  try {
+    holder = Number.parseInt(fs.readFileSync(file, 'utf8'), 10);
+  } catch {
+    return;
+  }
+  if (holder === process.pid) fs.rmSync(file, { force: true });
+}
+
 /** Blocks the thread for `ms` milliseconds (the outputs are written synchronously). */
 function sleepSync(ms: number): void {
   Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, ms);

@@ -11,7 +11,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { Site } from '../../src/config/types.js';
 import { northfieldExport, type LabRow } from '../../src/demo/labFiles.js';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
-import { OutputError, regenerateOutputs, type SiteBuild } from '../../src/outputs.js';
+import { OutputError, regenerateOutputs, type SiteBuild, siteLockFile } from '../../src/outputs.js';
 import { handOutOrder, regenerateOutputsInParallel, workersFor } from '../../src/siteBuild/pool.js';
 import { seededRng } from '../../src/util/random.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
@@ -189,6 +189,10 @@ describe('building sites on worker threads', () => {
         },
       }).catch((e: unknown) => e);
       expect(error).toBe(broken);
+      // The workers ended in the middle of their sites: no site's output lock is left holding
+      // this process's pid, so a build in this process right after does not wait on one.
+      for (const site of ws.config.sites) expect(fs.existsSync(siteLockFile(ws.outbox, site.id)), site.id).toBe(false);
+      expect(regenerateOutputs(ws, undefined, { full: true })).toHaveLength(ws.config.sites.length);
     } finally {
       ws.close();
     }
