@@ -9,6 +9,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { compiledBin } from '../test/helpers/compiledCli.js';
 import { lastJsonLine, runChild } from './childProcess.js';
 import type { Timing } from './pairs.js';
 import { type OutboxFigures, outboxFigures, workspacePaths } from './workspaces.js';
@@ -31,10 +32,9 @@ export interface Prepared {
   drop: string;
 }
 
-/** Refuses to time a program older than its sources: the child runs dist/. */
+/** Refuses to time a program missing or older than its sources: the child runs dist/. */
 export function checkBuilt(): void {
-  const built = path.join(REPO, 'dist', 'pipeline.js');
-  if (!fs.existsSync(built)) throw new Error(`${built} is missing: run npm run build first (npm run bench does)`);
+  compiledBin();
 }
 
 /** Drops `prepared.drop` into a fresh copy of `prepared.dir` at `runDir`, in a child process. */

@@ -16,7 +16,6 @@ import type { OutputWriter } from './report/files.js';
 import type { Workspace } from './workspace.js';
 
 /** Bumped when the round model's shape changes: models kept under another version are formed again. */
-const ROUND_MODEL_VERSION = 2;
 
 export interface SiteRoundsLoaded {
   /** The site's inputs; results and replaced reports only of the rounds formed here. */
@@ -36,11 +35,10 @@ export function loadSiteRounds(
   options: { today: string; settings: string; full: boolean },
 ): SiteRoundsLoaded {
   const siteDir = path.join(ws.outbox, site.id);
-  const settings = `${options.settings}\nround model ${ROUND_MODEL_VERSION}`;
   let keys: RoundKey[] = [];
   let kept: KeptRoundModel[] = [];
   const { outline, inputs } = ws.store.siteInputsChosen(site.id, (outline) => {
-    keys = roundKeys(site, outline, settings, options.today);
+    keys = roundKeys(site, outline, options.settings, options.today);
     kept = options.full ? [] : readKeptModels(siteDir, keys);
     return kept.length === 0 ? undefined : keys.slice(kept.length).flatMap((round) => round.sampleIds);
   });

@@ -19,7 +19,7 @@ import { registerPenIds } from '../rounds/penIds.js';
 
 export const ROUND_MODEL_FILE = '.round-model.json';
 
-/** The header's tag: a model kept under another tag is formed again. */
+/** The header's tag; raise it with any change to the round model's shape: a model kept under another tag is formed again. */
 const MODEL_SCHEMA = 'ropewatch.round-model/v2';
 
 export interface KeptRoundModel {

@@ -1,7 +1,7 @@
 /**
- * A site's outline and, from the same snapshot, its inputs with the results and replaced reports
- * of the chosen samples only (StoreReader.siteInputsChosen), over the read queries each backend
- * writes in its own dialect.
+ * A site's inputs (StoreReader.siteInputs), and its outline with, from the same snapshot, its
+ * inputs with the results and replaced reports of the chosen samples only
+ * (StoreReader.siteInputsChosen), over the read queries each backend writes in its own dialect.
  */
 import type { MistypedRefusal, PlannedRope, ReplacedReport, StoredResult, StoredRope } from '../domain/records.js';
 import type { SampleChoice, SiteInputs, SiteOutline } from '../domain/store.js';
@@ -18,6 +18,19 @@ export interface OutlineQueries {
   currentResults(siteId: string): StoredResult[];
   currentResultsOf(sampleIds: readonly string[]): StoredResult[];
   replacedReports(siteId: string, sampleIds?: readonly string[]): ReplacedReport[];
+}
+
+/** Everything one site's analysis reads, from one committed state. */
+export function siteInputsOf(queries: OutlineQueries, siteId: string): SiteInputs {
+  return queries.snapshot(() => ({
+    version: queries.siteVersion(siteId),
+    ropes: queries.ropes(siteId),
+    results: queries.currentResults(siteId),
+    planned: queries.plannedRopes(siteId),
+    plannedWithoutResults: queries.plannedWithoutResults(siteId),
+    replaced: queries.replacedReports(siteId),
+    mistyped: queries.mistypedRefusals(siteId),
+  }));
 }
 
 export function chosenInputs(

@@ -24,7 +24,7 @@ import type {
   StoreReader,
 } from '../domain/store.js';
 import type { ResultClass } from '../interpret/classify.js';
-import { chosenInputs } from './chosenInputs.js';
+import { chosenInputs, siteInputsOf } from './chosenInputs.js';
 import { replacedReportOfRow } from './replacedRows.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
@@ -116,15 +116,7 @@ export class SqliteReader implements StoreReader {
    * results, plans, replaced reports and mistyped refusals.
    */
   siteInputs(siteId: string): SiteInputs {
-    return this.snapshot(() => ({
-      version: this.siteVersion(siteId),
-      ropes: this.ropes(siteId),
-      results: this.currentResults(siteId),
-      planned: this.plannedRopes(siteId),
-      plannedWithoutResults: this.plannedWithoutResults(siteId),
-      replaced: this.replacedReports(siteId),
-      mistyped: this.mistypedRefusals(siteId),
-    }));
+    return siteInputsOf(this, siteId);
   }
 
   siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {

@@ -25,7 +25,7 @@ import type {
   StoreReader,
 } from '../../domain/store.js';
 import type { SqlValue, SyncConnection } from './syncConnection.js';
-import { chosenInputs } from '../chosenInputs.js';
+import { chosenInputs, siteInputsOf } from '../chosenInputs.js';
 import { replacedReportOfRow } from '../replacedRows.js';
 
 const FILE_COLUMNS = `id, name, sha256, kind, lab_id AS "labId", received_at AS "receivedAt", status, reason_code AS "reasonCode", reason`;
@@ -84,15 +84,7 @@ export class PgStoreReader implements StoreReader {
   }
 
   siteInputs(siteId: string): SiteInputs {
-    return this.snapshot(() => ({
-      version: this.siteVersion(siteId),
-      ropes: this.ropes(siteId),
-      results: this.currentResults(siteId),
-      planned: this.plannedRopes(siteId),
-      plannedWithoutResults: this.plannedWithoutResults(siteId),
-      replaced: this.replacedReports(siteId),
-      mistyped: this.mistypedRefusals(siteId),
-    }));
+    return siteInputsOf(this, siteId);
   }
 
   findFileByHash(sha256: string): StoredFile | undefined {
