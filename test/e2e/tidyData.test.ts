@@ -15,11 +15,11 @@ import { numberText } from '../../src/report/jsonText.js';
 import { TIDY_TABLES } from '../../src/report/tidy/tidyTables.js';
 import { TIDY_VIEWS } from '../../src/store/tidyFacts.js';
 import { runCli } from '../helpers/runCli.js';
+import { readmeSection, readmeSnippet } from '../helpers/readme.js';
 import { makeWorkspace, type TestWorkspace } from '../helpers/workspace.js';
 
 const SITES = ['hollow-creek', 'tamsin-ridge'];
 const REPO = path.resolve(path.dirname(new URL(import.meta.url).pathname), '..', '..');
-const README = fs.readFileSync(path.join(REPO, 'README.md'), 'utf8');
 
 let ws: TestWorkspace;
 beforeAll(async () => {
@@ -160,12 +160,11 @@ describe("the store's views", () => {
     }
   });
 
-  const snippet = (language: string): string => {
-    const section = README.slice(README.indexOf('### Reading the store from R or Python'));
-    const match = new RegExp(`\`\`\`${language}\\n([\\s\\S]*?)\`\`\``).exec(section);
-    expect(match, `${language} snippet in the README`).not.toBeNull();
-    return match![1]!.replaceAll('data/ropewatch.db', ws.paths.dbFile);
-  };
+  const snippet = (language: string): string =>
+    readmeSnippet(
+      readmeSection('### SQLite', readmeSection('## Reading the store from R or Python')),
+      language,
+    ).replaceAll('data/ropewatch.db', ws.paths.dbFile);
   const expected = () => ({
     results: readCsv(siteFile('hollow-creek', 'results.csv')).filter((row) => row.superseded_by === '').length,
     rounds: readCsv(siteFile('hollow-creek', 'rounds.csv')).length,
