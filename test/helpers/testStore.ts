@@ -1,0 +1,57 @@
+/**
+ * Which store the tests run against. The suite runs twice over the tests that touch the store
+ * (vitest.config.ts, projects `sqlite` and `postgres`): in the second, ROPEWATCH_TEST_STORE is
+ * `postgres` and every store a test makes is a new, empty database on the run's PostgreSQL server
+ * (test/helpers/pgServer.ts) instead of a SQLite file.
+ */
+import { inject } from 'vitest';
+import { SyncConnection } from '../../src/store/pg/syncConnection.js';
+import { withDatabase } from './pgServerStart.js';
+
+export const TEST_STORE_ENV = 'ROPEWATCH_TEST_STORE';
+export type TestBackend = 'sqlite' | 'postgres';
+
+/** The backend this test run's stores are on. */
+export function testBackend(env: NodeJS.ProcessEnv = process.env): TestBackend {
+  return env[TEST_STORE_ENV] === 'postgres' ? 'postgres' : 'sqlite';
+}
+
+export interface TestStoreLocation {
+  /** What `--db` takes: the SQLite file, or the new database's URL. */
+  location: string;
+  /** Removes the database (PostgreSQL; a SQLite file goes with its folder). */
+  drop: () => void;
+}
+
+let made = 0;
+
+/** Runs `body` on a synchronous connection to the test server's maintenance database. */
+function onServer<T>(body: (conn: SyncConnection) => T): T {
+  const conn = new SyncConnection(inject('pgUrl'));
+  try {
+    return body(conn);
+  } finally {
+    conn.close();
+  }
+}
+
+/**
+ * A new, empty database on the test server, made synchronously (tests open workspaces
+ * synchronously), named uniquely for this process.
+ */
+export function freshDatabaseSync(label = 'store'): TestStoreLocation & { name: string } {
+  made += 1;
+  const name = `rw_${label.replace(/[^a-z0-9]/gi, '_').toLowerCase()}_${process.pid}_${made}_${Date.now().toString(36)}`;
+  onServer((conn) => conn.query(`CREATE DATABASE "${name}"`));
+  return {
+    name,
+    location: withDatabase(inject('pgUrl'), name),
+    drop: () => onServer((conn) => conn.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`)),
+  };
+}
+
+/** Where a test's store goes: `sqliteFile` on SQLite, a new database on PostgreSQL. */
+export function testStoreLocation(sqliteFile: string, label = 'store'): TestStoreLocation {
+  if (testBackend() === 'sqlite') return { location: sqliteFile, drop: () => {} };
+  return freshDatabaseSync(label);
+}
