@@ -255,13 +255,20 @@ export interface FileWriter {
   rollback(): void;
 }
 
+export interface BeginFileOptions {
+  /** The id of the accepted record of the same bytes, read again (for rows a correction now covers). */
+  reopen?: number;
+  /** Sites an earlier attempt at the file touched before a StoreConflictError: locked first (a backend with row-level writers). */
+  lockSites?: readonly string[];
+}
+
 /** The writing side of a store: one file open at a time, plus the writes outside a file. */
 export interface StoreWriter extends FileWriter {
   /**
    * Opens the file's unit of work (taking the write lock) and records the file; returns its id.
    * @throws FileAlreadyStoredError when the same bytes are found stored once the lock is held.
    */
-  beginFile(file: FileToStore, rules: RowRules, options?: { reopen?: number }): number;
+  beginFile(file: FileToStore, rules: RowRules, options?: BeginFileOptions): number;
   readonly fileOpen: boolean;
   recordRejectedFile(file: RejectedFile): void;
   /** Replaces a site's plan for the round after `afterRound` (ropes with results stay). */
@@ -415,5 +422,23 @@ export class StoreBusyError extends Error {
   readonly code = 'store-busy';
   constructor(readonly waitedMs: number) {
     super(`another process held the store's write lock for more than ${Math.round(waitedMs / 1000)} s`);
+  }
+}
+
+/**
+ * Another process stored rows this file's writes met first (a sample, a report, a rope or a link
+ * it had not seen when it decided its rows), or the server gave up one of two transactions
+ * (deadlock, serialization failure). Nothing of the file was stored: the transaction was rolled
+ * back, and storing the file again decides its rows afresh. `sites` are the sites the attempt
+ * touched, to be locked (in sorted order) by the next attempt (beginFile's `lockSites`).
+ */
+export class StoreConflictError extends Error {
+  override readonly name = 'StoreConflictError';
+  readonly code = 'store-conflict';
+  constructor(
+    readonly sites: readonly string[],
+    readonly detail: string,
+  ) {
+    super(`another process stored rows this file meets (${detail}); nothing of the file was stored`);
   }
 }

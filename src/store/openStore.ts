@@ -4,8 +4,8 @@
  */
 import type { StoreBackend } from '../domain/store.js';
 import type { StoreLocation } from './location.js';
-import { redactedLocation } from './location.js';
-import { type StoreOptions, StoreOpenError } from './open.js';
+import type { StoreOptions } from './open.js';
+import { openPgStore } from './pg/store.js';
 import { Store } from './store.js';
 
 /**
@@ -15,5 +15,5 @@ import { Store } from './store.js';
  */
 export function openStore(location: StoreLocation, options: StoreOptions = {}): StoreBackend {
   if (location.kind === 'sqlite') return new Store(location.file, options);
-  throw new StoreOpenError(redactedLocation(location.url), 'is a PostgreSQL database: not yet openable here');
+  return openPgStore(location.url, options);
 }
