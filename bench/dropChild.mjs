@@ -18,7 +18,7 @@ fs.copyFileSync(file, target);
 const ws = openWorkspace(
   {
     configDir: path.join(dir, 'config'),
-    dbFile: path.join(dir, 'store.db'),
+    storeLocation: { kind: 'sqlite', file: path.join(dir, 'store.db') },
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   },

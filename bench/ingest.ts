@@ -152,7 +152,7 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
   }
   const paths = {
     configDir: path.join(dir, 'config'),
-    dbFile: path.join(dir, 'store.db'),
+    storeLocation: { kind: 'sqlite' as const, file: path.join(dir, 'store.db') },
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   };

@@ -82,7 +82,9 @@ async function loadSteps(srcDir: string): Promise<Steps> {
 function paths(dir: string) {
   return {
     configDir: path.join(dir, 'config'),
+    // Both: the revision compared against may be older than the store's location.
     dbFile: path.join(dir, 'store.db'),
+    storeLocation: { kind: 'sqlite' as const, file: path.join(dir, 'store.db') },
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   };

@@ -13,10 +13,12 @@ import { writeBigExport } from './ingest.js';
 export const SITE_SHAPE = Object.freeze({ barnsPerSite: 4, pensPerRow: 25 });
 export const EVERY = 4;
 
-export function workspacePaths(dir: string): WorkspacePaths {
+export function workspacePaths(dir: string): WorkspacePaths & { dbFile: string } {
+  const dbFile = path.join(dir, 'store.db');
   return {
     configDir: path.join(dir, 'config'),
-    dbFile: path.join(dir, 'store.db'),
+    storeLocation: { kind: 'sqlite', file: dbFile },
+    dbFile,
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   };

@@ -191,7 +191,7 @@ function writeTidyTables(
   records: readonly AlertRecord[],
 ): { byRound: Record<TidyName, number>[]; total: Record<TidyName, number> } {
   const siteDir = path.join(ws.outbox, analysis.site.id);
-  const fresh = storeTidyRounds(ws.store.db, analysis, records, rounds.from);
+  const fresh = storeTidyRounds(ws.store, analysis, records, rounds.from);
   const keptRounds = analysis.summaries.slice(0, rounds.from).map((summary) => rounds.built.get(summary.round.id)!);
   const kept = keptTidyRows(siteDir, keptRounds, tidyHeader);
   const byRound = [
@@ -252,7 +252,23 @@ function rebuildSite(
 ): { analysis: SiteAnalysis; roundsWritten: number } {
   const siteDir = path.join(ws.outbox, site.id);
   fs.mkdirSync(siteDir, { recursive: true });
-  const release = waitForPidLock(siteLockFile(ws.outbox, site.id), SITE_LOCK_TIMEOUT_MS);
+  const releaseFile = waitForPidLock(siteLockFile(ws.outbox, site.id), SITE_LOCK_TIMEOUT_MS);
+  let releaseStore: () => void;
+  try {
+    // Two machines sharing one store share no outbox lock file: the store's lock on the site keeps
+    // them from building the site and replacing its plan at once.
+    releaseStore = ws.store.lockSites([site.id]);
+  } catch (error) {
+    releaseFile();
+    throw error;
+  }
+  const release = () => {
+    try {
+      releaseStore();
+    } finally {
+      releaseFile();
+    }
+  };
   try {
     // Another process may commit for this site while the outputs are written: build again from
     // the newer snapshot (a few times at most; each of those writers rebuilds after its own commit).

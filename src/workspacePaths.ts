@@ -4,7 +4,6 @@
  * folder and the inbox's subfolders. The one table the options, the workspace and the messages
  * read; it imports nothing of ropewatch, so declaring the commands can read it too.
  */
-import path from 'node:path';
 
 /** The paths a command works on when --config, --db, --inbox and --outbox are not given. */
 export const DEFAULT_PATHS = Object.freeze({
@@ -44,9 +43,18 @@ export const DEFAULT_PLACES = Object.freeze({
   receipts: `${DEFAULT_PATHS.outbox}/${OUTBOX_NAMES.receipts}/`,
 });
 
+/** Where the store lives: a SQLite file or a PostgreSQL database (told apart in src/store/location.ts). */
+export type StoreLocation =
+  | { readonly kind: 'sqlite'; readonly file: string }
+  | { readonly kind: 'postgres'; readonly url: string };
+
+/** The environment variable that names the store when `--db` is not given. */
+export const STORE_LOCATION_ENV = 'ROPEWATCH_DB';
+
 export interface WorkspacePaths {
   configDir: string;
-  dbFile: string;
+  /** Where the store lives: a SQLite file (an absolute path) or a PostgreSQL database. */
+  storeLocation: StoreLocation;
   inbox: string;
   outbox: string;
 }
@@ -57,14 +65,4 @@ export interface PathOptions {
   db?: string;
   inbox?: string;
   outbox?: string;
-}
-
-/** The workspace's absolute paths: each option as given, or its default, resolved against `cwd`. */
-export function resolvePaths(cwd: string, options: PathOptions): WorkspacePaths {
-  return {
-    configDir: path.resolve(cwd, options.config ?? DEFAULT_PATHS.config),
-    dbFile: path.resolve(cwd, options.db ?? DEFAULT_PATHS.db),
-    inbox: path.resolve(cwd, options.inbox ?? DEFAULT_PATHS.inbox),
-    outbox: path.resolve(cwd, options.outbox ?? DEFAULT_PATHS.outbox),
-  };
 }

@@ -15,7 +15,7 @@ import { terminalText } from '../util/terminalText.js';
 import type { Workspace } from '../workspace.js';
 import { oneLine, runCommand, sendEmail } from './channels.js';
 import {
-  deliveryStateFile,
+  workspaceDeliveryStateFile,
   emptyState,
   readDeliveryState,
   takeDeliveryLock,
@@ -92,7 +92,7 @@ function readSiteAlerts(outbox: string, siteId: string): AlertRecord[] {
 export async function deliverAlerts(ws: Workspace, options: DeliverOptions): Promise<DeliveryReport> {
   const report: DeliveryReport = { recorded: 0, appended: 0, delivered: 0, failed: 0, waiting: 0, busy: false };
   const warn = (text: string) => ws.log(terminalText(`warning: ${text}`));
-  const stateFile = deliveryStateFile(ws.dbFile);
+  const stateFile = workspaceDeliveryStateFile(ws);
   let release: (() => void) | null;
   try {
     release = takeDeliveryLock(stateFile);

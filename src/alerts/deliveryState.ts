@@ -1,11 +1,13 @@
 /**
  * What was already done with each alert: appended to outbox/alerts.jsonl, sent by e-mail, given
- * to the command. Kept beside the store (`<store>-alerts.json`, as SQLite keeps `<store>-wal`)
- * so that outputs rebuilt many times (catch-up, a changed configuration) deliver each alert once,
+ * to the command. Kept beside a SQLite store (`<store>-alerts.json`, as SQLite keeps
+ * `<store>-wal`), and at the top of the outbox for a PostgreSQL one (`.alert-delivery.json`), so that outputs rebuilt many times (catch-up, a changed configuration) deliver each alert once,
  * and a failed delivery waits, with its alert, for the next run. One process delivers at a time:
  * a lock file beside the state names its pid; a lock whose process is gone is taken over.
  */
 import fs from 'node:fs';
+import path from 'node:path';
+import type { WorkspacePaths } from '../workspacePaths.js';
 import { writeFileAtomic } from '../report/files.js';
 import { takePidLock } from '../util/pidLock.js';
 import type { AlertRecord } from './records.js';
@@ -34,9 +36,18 @@ export interface DeliveryState {
   alerts: Record<string, DeliveryEntry>;
 }
 
-/** The state file of a store. */
+/** The state file of a SQLite store: beside it. */
 export function deliveryStateFile(dbFile: string): string {
   return `${dbFile}-alerts.json`;
+}
+
+/** The state file of a PostgreSQL store, which has no file to sit beside: at the top of the outbox. */
+export const OUTBOX_DELIVERY_STATE = '.alert-delivery.json';
+
+/** Where the delivery state of a workspace's store is kept. */
+export function workspaceDeliveryStateFile(paths: Pick<WorkspacePaths, 'storeLocation' | 'outbox'>): string {
+  const location = paths.storeLocation;
+  return location.kind === 'sqlite' ? deliveryStateFile(location.file) : path.join(paths.outbox, OUTBOX_DELIVERY_STATE);
 }
 
 export const emptyState = (): DeliveryState => ({ schema: DELIVERY_STATE_SCHEMA, alerts: {} });

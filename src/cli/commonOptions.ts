@@ -4,7 +4,7 @@
  * commands for `--help` loads nothing but commander.
  */
 import type { Command } from 'commander';
-import { CONFIG_FILES, DEFAULT_PATHS, type PathOptions } from '../workspacePaths.js';
+import { CONFIG_FILES, DEFAULT_PATHS, type PathOptions, STORE_LOCATION_ENV } from '../workspacePaths.js';
 
 export interface CommonOptions extends PathOptions {
   json?: boolean;
@@ -18,7 +18,10 @@ export function addCommonOptions(command: Command): Command {
       `configuration folder (${CONFIG_FILES.sites}, ${CONFIG_FILES.assays}, ${CONFIG_FILES.labsDir}/)`,
       DEFAULT_PATHS.config,
     )
-    .option('--db <file>', 'SQLite store', DEFAULT_PATHS.db)
+    .option(
+      '--db <store>',
+      `the store: a SQLite file or a PostgreSQL database (postgres://user@host:port/database); default $${STORE_LOCATION_ENV}, else ${DEFAULT_PATHS.db}`,
+    )
     .option('--inbox <dir>', 'drop folder for lab exports and rope sheets', DEFAULT_PATHS.inbox)
     .option('--outbox <dir>', 'folder for summaries, reviews and rope lists', DEFAULT_PATHS.outbox);
 }

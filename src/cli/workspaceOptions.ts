@@ -8,9 +8,10 @@ import { ConfigError } from '../config/load.js';
 import { findSite } from '../config/names.js';
 import type { Site } from '../config/types.js';
 import { inboxProblem } from '../inboxFiles.js';
+import { StoreLocationError } from '../store/location.js';
 import { StoreOpenError } from '../store/store.js';
 import { terminalText } from '../util/terminalText.js';
-import { openWorkspace, resolvePaths, type OpenOptions, type Workspace } from '../workspace.js';
+import { openWorkspace, resolvePaths, type OpenOptions, type Workspace, type WorkspacePaths } from '../workspace.js';
 import { CONFIG_FILES } from '../workspacePaths.js';
 import type { CommonOptions } from './commonOptions.js';
 import { UsageError, type CliIo } from './io.js';
@@ -27,6 +28,19 @@ function busyTimeoutFromEnv(env: CliIo['env']): OpenOptions {
   return { busyTimeoutMs: Number(text) };
 }
 
+/**
+ * The workspace's paths from the options, the store from --db or ROPEWATCH_DB; a store location
+ * that does not parse is a usage error (exit 2) that never shows its password.
+ */
+export function pathsOf(io: CliIo, options: CommonOptions): WorkspacePaths {
+  try {
+    return resolvePaths(io.cwd, options, io.env);
+  } catch (error) {
+    if (error instanceof StoreLocationError) throw new UsageError(error.message);
+    throw error;
+  }
+}
+
 /** Opens the workspace, turning configuration and store problems into usage errors (exit 2). */
 export function withWorkspace<T>(
   io: CliIo,
@@ -36,7 +50,7 @@ export function withWorkspace<T>(
 ): T {
   let ws: Workspace;
   try {
-    ws = openWorkspace(resolvePaths(io.cwd, options), io.now, (line) => io.stderr(`${line}\n`), {
+    ws = openWorkspace(pathsOf(io, options), io.now, (line) => io.stderr(`${line}\n`), {
       ...busyTimeoutFromEnv(io.env),
       ...open,
     });
@@ -67,6 +81,6 @@ export function siteOption(ws: Workspace, text: string): Site {
 
 /** Refuses to start (exit 2) when processed files could not be moved out of the inbox. */
 export function checkInbox(io: CliIo, options: CommonOptions): void {
-  const problem = inboxProblem(resolvePaths(io.cwd, options).inbox);
+  const problem = inboxProblem(pathsOf(io, options).inbox);
   if (problem !== null) throw new UsageError(terminalText(problem));
 }

@@ -14,9 +14,14 @@ import { loadConfig } from '../config/load.js';
 import { deliverAlerts } from '../alerts/deliver.js';
 import { regenerateOutputs } from '../outputs.js';
 import { processFile } from '../pipeline.js';
-import { Store, StoreOpenError } from '../store/store.js';
+import type { StoreBackend } from '../domain/store.js';
+import { emptyStore } from '../store/emptyStore.js';
+import { shownLocation } from '../store/location.js';
+import { openStore } from '../store/openStore.js';
+import { StoreOpenError } from '../store/store.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../workspace.js';
-import { DEFAULT_PLACES, OUTBOX_NAMES } from '../workspacePaths.js';
+import { DEFAULT_PLACES, OUTBOX_NAMES, type StoreLocation } from '../workspacePaths.js';
+import { workspaceDeliveryStateFile } from '../alerts/deliveryState.js';
 import { buildSiteRounds } from '../rounds/roundModel.js';
 import { clockDay } from '../rounds/rounds.js';
 import {
@@ -108,18 +113,25 @@ function writeDemoConfig(configDir: string): void {
   fs.writeFileSync(path.join(configDir, DEMO_CONFIG_MARK), JSON.stringify(demoConfigHashes(), null, 2) + '\n');
 }
 
-/** Refuses to wipe a store that holds real data: only a store the demo made may be reset. */
-function guardStore(dbFile: string, force: boolean): void {
-  if (!fs.existsSync(dbFile)) return;
-  if (fs.statSync(dbFile).isDirectory()) throw new UsageError(`store ${dbFile} is a folder; --db takes the store file`);
+/**
+ * Refuses to wipe a store that holds real data: only a store the demo made may be reset. A
+ * PostgreSQL database is opened (its schema made when it has none) to tell; `--force` wipes any.
+ */
+function guardStore(location: StoreLocation, force: boolean): void {
+  const shown = shownLocation(location);
+  if (location.kind === 'sqlite') {
+    if (!fs.existsSync(location.file)) return;
+    if (fs.statSync(location.file).isDirectory())
+      throw new UsageError(`store ${shown} is a folder; --db takes the store file`);
+  }
   if (force) return;
-  let store: Store;
+  let store: StoreBackend;
   try {
-    store = new Store(dbFile);
+    store = openStore(location);
   } catch (error) {
     if (error instanceof StoreOpenError)
       throw new UsageError(
-        `${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace the file`,
+        `${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace ${location.kind === 'sqlite' ? 'the file' : 'its contents'}`,
       );
     throw error;
   }
@@ -128,7 +140,7 @@ function guardStore(dbFile: string, force: boolean): void {
     const files = store.counts().files;
     if (!isDemo && files > 0) {
       throw new UsageError(
-        `${dbFile} holds ${files} files that the demo did not make; run the demo with --db elsewhere, or --force to wipe it`,
+        `${shown} holds ${files} files that the demo did not make; run the demo with --db elsewhere, or --force to wipe it`,
       );
     }
   } finally {
@@ -142,8 +154,9 @@ export interface DemoOutcome {
 
 export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean): Promise<DemoOutcome> {
   guardConfig(paths.configDir);
-  guardStore(paths.dbFile, force);
-  for (const suffix of ['', '-wal', '-shm', '-alerts.json']) fs.rmSync(`${paths.dbFile}${suffix}`, { force: true });
+  guardStore(paths.storeLocation, force);
+  emptyStore(paths.storeLocation);
+  fs.rmSync(workspaceDeliveryStateFile(paths), { force: true });
   emptyDir(paths.inbox);
   emptyDir(paths.outbox);
   writeDemoConfig(paths.configDir);
@@ -218,7 +231,7 @@ function roundsAwaiting(ws: Workspace, siteIds: readonly string[], now: Date): s
 }
 
 /** The ropes ropewatch planned for a site's round (index 0-based), as the farm will hang them. */
-function plannedFor(store: Store, siteId: string, roundIndex: number): RopeChoice[] {
+function plannedFor(store: StoreBackend, siteId: string, roundIndex: number): RopeChoice[] {
   return store
     .plannedRopes(siteId)
     .filter((rope) => rope.afterRound === roundIndex)

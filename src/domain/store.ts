@@ -255,13 +255,20 @@ export interface FileWriter {
   rollback(): void;
 }
 
+export interface BeginFileOptions {
+  /** The id of the accepted record of the same bytes, read again (for rows a correction now covers). */
+  reopen?: number;
+  /** Sites an earlier attempt at the file touched before a StoreConflictError: locked first (a backend with row-level writers). */
+  lockSites?: readonly string[];
+}
+
 /** The writing side of a store: one file open at a time, plus the writes outside a file. */
 export interface StoreWriter extends FileWriter {
   /**
    * Opens the file's unit of work (taking the write lock) and records the file; returns its id.
    * @throws FileAlreadyStoredError when the same bytes are found stored once the lock is held.
    */
-  beginFile(file: FileToStore, rules: RowRules, options?: { reopen?: number }): number;
+  beginFile(file: FileToStore, rules: RowRules, options?: BeginFileOptions): number;
   readonly fileOpen: boolean;
   recordRejectedFile(file: RejectedFile): void;
   /** Replaces a site's plan for the round after `afterRound` (ropes with results stay). */
@@ -349,8 +356,60 @@ export interface StoreCounts {
   planned: number;
 }
 
-/** A store: its writer and its reader over one connection. */
-export interface StoreBackend extends StoreWriter, StoreReader {
+// ---- The tidy facts (the outputs give them to the store; its views join them to the results) ----
+
+export type FactValue = string | number | boolean | null;
+
+/** A rope's round as the outputs formed it: what the store's results view joins on. */
+export interface RopeRound {
+  sampleId: string;
+  round: number;
+  roundId: string;
+  roundStart: string;
+  groupId: string | null;
+  barnId: string;
+  penId: string;
+  /** The pool the rope was tested in (its results are the pool's), else null. */
+  poolId: string | null;
+}
+
+/** A site's facts of some of its rounds: each rope's round, the rounds' figures, the alerts. */
+export interface SiteFacts {
+  ropeRounds: readonly RopeRound[];
+  rounds: readonly Record<string, FactValue>[];
+  alerts: readonly Record<string, FactValue>[];
+}
+
+/** The store's read-only views of the tidy tables, by table. */
+export const TIDY_VIEWS = { results: 'tidy_results', rounds: 'tidy_rounds', alerts: 'tidy_alerts' } as const;
+export type TidyView = keyof typeof TIDY_VIEWS;
+
+/**
+ * Which rows of a view: rounds that began in [from, to] (ISO dates; either may be left open) and,
+ * with `fromRound`, that round or a later one.
+ */
+export interface TidyRange {
+  from?: string | undefined;
+  to?: string | undefined;
+  fromRound?: number | undefined;
+}
+
+/** The tidy facts of a store: written by each build of a site's outputs, read back through the views. */
+export interface StoreFacts {
+  /** Replaces a site's facts of round `fromRound` on (all of them by default) in one short write. */
+  replaceSiteFacts(siteId: string, facts: SiteFacts, fromRound?: number): void;
+  /** A view's rows for one site in `range`, by round, then what the row is about. */
+  tidyRows(view: TidyView, siteId: string, range?: TidyRange): Record<string, unknown>[];
+  /**
+   * Holds the store's lock on each site until the returned function is called, so that two
+   * processes sharing one store never build one site's outputs and plan at once (taken in one
+   * fixed order, so two holders of several sites never wait on each other).
+   */
+  lockSites(siteIds: readonly string[]): () => void;
+}
+
+/** A store: its writer, its reader and its tidy facts over one connection. */
+export interface StoreBackend extends StoreWriter, StoreReader, StoreFacts {
   close(): void;
 }
 
@@ -363,5 +422,23 @@ export class StoreBusyError extends Error {
   readonly code = 'store-busy';
   constructor(readonly waitedMs: number) {
     super(`another process held the store's write lock for more than ${Math.round(waitedMs / 1000)} s`);
+  }
+}
+
+/**
+ * Another process stored rows this file's writes met first (a sample, a report, a rope or a link
+ * it had not seen when it decided its rows), or the server gave up one of two transactions
+ * (deadlock, serialization failure). Nothing of the file was stored: the transaction was rolled
+ * back, and storing the file again decides its rows afresh. `sites` are the sites the attempt
+ * touched, to be locked (in sorted order) by the next attempt (beginFile's `lockSites`).
+ */
+export class StoreConflictError extends Error {
+  override readonly name = 'StoreConflictError';
+  readonly code = 'store-conflict';
+  constructor(
+    readonly sites: readonly string[],
+    readonly detail: string,
+  ) {
+    super(`another process stored rows this file meets (${detail}); nothing of the file was stored`);
   }
 }

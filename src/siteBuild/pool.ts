@@ -111,7 +111,7 @@ class SitePool {
   start(count: number): void {
     const { ws, options } = this;
     const data: BuildWorkerData = {
-      paths: { configDir: ws.configDir, dbFile: ws.dbFile, inbox: ws.inbox, outbox: ws.outbox },
+      paths: { configDir: ws.configDir, storeLocation: ws.storeLocation, inbox: ws.inbox, outbox: ws.outbox },
       configDigest: ws.configDigest,
       options: {
         ...(options.full === undefined ? {} : { full: options.full }),

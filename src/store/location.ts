@@ -7,13 +7,9 @@
  * PGPASSFILE names): node-postgres reads those itself when the URL leaves them out. Anything
  * shown to a person goes through `redactedLocation`, which never shows a password.
  */
+import { STORE_LOCATION_ENV, type StoreLocation } from '../workspacePaths.js';
 
-export type StoreLocation =
-  | { readonly kind: 'sqlite'; readonly file: string }
-  | { readonly kind: 'postgres'; readonly url: string };
-
-/** The environment variable that names the store when `--db` is not given. */
-export const STORE_LOCATION_ENV = 'ROPEWATCH_DB';
+export { STORE_LOCATION_ENV, type StoreLocation } from '../workspacePaths.js';
 
 const POSTGRES_SCHEME = /^postgres(?:ql)?:\/\//i;
 const HIDDEN = '***';
@@ -87,4 +83,9 @@ export function redactedLocation(text: string): string {
     if (key.toLowerCase() === 'password') url.searchParams.set(key, HIDDEN);
   }
   return url.toString();
+}
+
+/** A location as it may be shown: the SQLite file, or the PostgreSQL URL without its password. */
+export function shownLocation(location: StoreLocation): string {
+  return location.kind === 'sqlite' ? location.file : redactedLocation(location.url);
 }

@@ -1,30 +1,20 @@
 /**
  * Stores the rows of the open file: samples, results, ropes, refusals, and the links between
  * reports. What a row means is decided elsewhere: the `RowRules` ingest hands to `beginFile`
- * decide which report governs and where a rope may hang, from the facts looked up here.
+ * decide which report governs and where a rope may hang, from the facts looked up here. Both
+ * backends run this one flow: the facts and the writes go through a `RowSink` (rowSink.ts).
  */
-import type { ResultRow, RopeLocation, RopeRow, RowList, StoredRope } from '../domain/records.js';
+import type { ResultRow, RopeLocation, RopeRow, RowList } from '../domain/records.js';
 import { locationKey } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
 import {
   emptyCounts,
   RECEIPT_LIST_LIMIT,
-  type EarlierReport,
   type InsertCounts,
   type RowRules,
   type SampleRopeState,
 } from '../domain/store.js';
-import { runInsertResult, type RowStatements } from './rowStatements.js';
-
-/** A sample as the store holds it, with its rope if it hangs in a pen. */
-interface StoredSample {
-  id: number;
-  hasResults: number;
-  siteId: string | null;
-  barnId: string | null;
-  penId: string | null;
-  hungOn: string | null;
-}
+import type { RowSink, StoredSample } from './rowSink.js';
 
 /** What the open file knows of one sample. */
 interface SampleInFile extends SampleRopeState {
@@ -47,8 +37,6 @@ export interface FileEffects {
 
 /** Samples remembered per file; rows of one sample usually sit together. */
 const SAMPLES_REMEMBERED = 10_000;
-/** Reason texts remembered: a few per Ct value and assay. */
-const REASONS_REMEMBERED = 50_000;
 
 export class RowWriter {
   /**
@@ -60,14 +48,12 @@ export class RowWriter {
   private lastSampleWasNew = false;
   /** The last sample met, by its ID: a sample's assays come on neighbouring rows. */
   private lastSample: { sampleId: string; sample: SampleInFile } | undefined;
-  /** Reason text -> id in `reasons`; forgotten on rollback (the rows it names may be gone). */
-  private readonly reasonIds = new Map<string, number>();
   effects: FileEffects = { sites: new Set(), resolved: [] };
   /** The last encoded rope met, and its location key (ropeKey). */
   private lastRope: RopeLocation | undefined;
   private lastRopeKey = '';
 
-  constructor(private readonly statements: RowStatements) {}
+  constructor(private readonly sink: RowSink) {}
 
   /** Forgets what the last file met. */
   startFile(): void {
@@ -79,7 +65,7 @@ export class RowWriter {
 
   /** Ends the file; after a rollback, reasons first stored by it are gone with it. */
   endFile(rolledBack: boolean): void {
-    if (rolledBack) this.reasonIds.clear();
+    if (rolledBack) this.sink.forgetFile();
     this.samplesThisFile.clear();
     this.lastSample = undefined;
   }
@@ -103,13 +89,13 @@ export class RowWriter {
     let created = this.lastSampleWasNew ? this.createSample(sampleId) : undefined;
     let stored: StoredSample | undefined;
     if (created === undefined) {
-      stored = this.statements.sampleByText.get(sampleId) as StoredSample | undefined;
+      stored = this.sink.findSample(sampleId);
       if (stored === undefined) created = this.createSample(sampleId)!;
     }
     this.lastSampleWasNew = created !== undefined;
     const sample: SampleInFile = {
       key: created ?? stored!.id,
-      hadResults: stored?.hasResults === 1,
+      hadResults: stored?.hasResults === true,
       reported: [],
       ropedAt: stored?.siteId == null ? undefined : locationKey(stored as RopeLocation),
       ropeSiteId: stored?.siteId ?? undefined,
@@ -124,20 +110,7 @@ export class RowWriter {
 
   /** Creates the sample and returns its key, or undefined when it exists already. */
   private createSample(sampleId: string): number | undefined {
-    const info = this.statements.insertSample.run(sampleId);
-    return info.changes === 1 ? Number(info.lastInsertRowid) : undefined;
-  }
-
-  private reasonId(text: string): number {
-    let id = this.reasonIds.get(text);
-    if (id === undefined) {
-      id =
-        (this.statements.reasonByText.get(text) as number | undefined) ??
-        Number(this.statements.insertReason.run(text).lastInsertRowid);
-      if (this.reasonIds.size >= REASONS_REMEMBERED) this.reasonIds.clear();
-      this.reasonIds.set(text, id);
-    }
-    return id;
+    return this.sink.createSample(sampleId);
   }
 
   /**
@@ -163,6 +136,7 @@ export class RowWriter {
    */
   insertResults(fileId: number, rows: RowList<ResultRow>, rules: RowRules, sampleIdField: string): InsertCounts {
     const counts = emptyCounts();
+    this.sink.beginBatch({ fileId, results: rows });
     for (let index = 0; index < rows.length; index++) {
       const row = rows.at(index)!;
       const sample = this.sampleInFile(row.sampleId);
@@ -170,8 +144,8 @@ export class RowWriter {
       if (rope !== undefined && !this.placeEncodedRope(fileId, sample, row, rope, rules, sampleIdField, counts))
         continue;
       noteRow(row, counts);
-      const info = runInsertResult(this.statements, fileId, row, sample.key, this.reasonId(row.reason));
-      if (info.changes === 0) {
+      const resultId = this.sink.insertResult(fileId, row, sample.key, this.sink.reasonId(row.reason));
+      if (resultId === undefined) {
         counts.duplicates++;
         continue;
       }
@@ -179,14 +153,15 @@ export class RowWriter {
       // Only a sample with earlier results in the store, or an earlier row of this assay and
       // lab in this file, can have a report for this row to supersede.
       if (sample.hadResults || reportedBefore(sample.reported, row.assayId, row.labId))
-        this.linkSupersessions(Number(info.lastInsertRowid), sample.key, row, rules, counts);
+        this.linkSupersessions(resultId, sample.key, row, rules, counts);
       else sample.reported.push(row.assayId, row.labId);
       if (!sample.counted) {
         sample.counted = true;
         if (sample.ropeSiteId !== undefined) this.effects.sites.add(sample.ropeSiteId);
-        else this.statements.noteUnplaced.run(sample.key);
+        else this.sink.noteUnplaced(sample.key);
       }
     }
+    this.sink.endBatch();
     return counts;
   }
 
@@ -247,12 +222,11 @@ export class RowWriter {
     rules: RowRules,
     counts: InsertCounts,
   ): void {
-    const earlier = this.statements.currentBefore.all(sampleKey, row.assayId, row.labId, newId) as EarlierReport[];
+    const earlier = this.sink.currentBefore(sampleKey, row.assayId, row.labId, newId);
     const { links, notes } = rules.supersede(earlier, row, newId);
     counts.superseded += notes.length;
     counts.supersessions.push(...notes);
-    for (const link of links)
-      this.statements.insertSupersession.run(link.oldResultId, link.newResultId, link.reason, link.kind);
+    for (const link of links) this.sink.insertSupersession(link);
   }
 
   private insertRopeRow(
@@ -267,19 +241,7 @@ export class RowWriter {
   ): void {
     const sampleKey = sample.key;
     // The common case is a new rope in a free pen: insert first, explain a refusal afterwards.
-    const info = this.statements.insertRope.run(
-      sampleKey,
-      row.siteId,
-      row.barnId,
-      row.penId,
-      row.hungOn,
-      source,
-      fileId,
-      row.line,
-      row.note,
-      poolKey,
-    );
-    if (info.changes === 1) {
+    if (this.sink.insertRope(fileId, sampleKey, row, source, poolKey)) {
       if (source === 'sheet') counts.inserted++;
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
       sample.ropedAt = location;
@@ -292,14 +254,9 @@ export class RowWriter {
       }
       return;
     }
-    const existing = this.statements.ropeBySample.get(sampleKey) as Omit<StoredRope, 'sampleId' | 'source'> | undefined;
-    const clash =
-      existing === undefined
-        ? (this.statements.ropeInPenOnDay.get(row.siteId, row.barnId, row.penId, row.hungOn, sampleKey) as
-            | { sampleId: string }
-            | undefined)
-        : undefined;
-    const conflict = rules.ropeConflict(row, source, { existing, clashSampleId: clash?.sampleId });
+    const existing = this.sink.ropeBySample(sampleKey);
+    const clashSampleId = existing === undefined ? this.sink.ropeInPenOnDay(row, sampleKey) : undefined;
+    const conflict = rules.ropeConflict(row, source, { existing, clashSampleId });
     if (conflict.kind === 'already-hung') counts.duplicates += source === 'sheet' ? 1 : 0;
     else counts.rejections.push(conflict.rejection);
   }
@@ -307,11 +264,12 @@ export class RowWriter {
   /** Stores a batch of rope-sheet rows. */
   insertRopes(fileId: number, rows: readonly RopeRow[], rules: RowRules): InsertCounts {
     const counts = emptyCounts();
+    this.sink.beginBatch({ fileId, ropes: rows });
     for (const row of rows) {
       const sample = this.sampleInFile(row.sampleId);
       const poolId = row.poolId ?? null;
       if (poolId === null) {
-        const sampleNamesPool = this.statements.ropeInPool.get(sample.key) !== undefined;
+        const sampleNamesPool = this.sink.ropeInPool(sample.key);
         const refusal = rules.poolRefusal(row, { sampleNamesPool, poolRopedAt: undefined });
         if (refusal) counts.rejections.push(refusal);
         else this.insertRopeRow(fileId, sample, row, 'sheet', rules, counts);
@@ -327,24 +285,18 @@ export class RowWriter {
       // Results reported under the pool ID before this sheet now have their ropes.
       if (pool.hadResults && !this.effects.resolved.includes(poolId)) this.effects.resolved.push(poolId);
     }
+    this.sink.endBatch();
     return counts;
   }
 
   /** Stores refused rows; a file read again does not store a refusal it stored before. */
   insertRejections(fileId: number, rejections: readonly RowRejection[], reopened: boolean): void {
+    this.sink.beginBatch({ fileId, rejections, reopened });
     for (const r of rejections) {
-      if (reopened && this.statements.rejectionExists.get(fileId, r.line, r.code) !== undefined) continue;
-      this.statements.insertRejection.run(
-        fileId,
-        r.line,
-        r.field ?? null,
-        r.code,
-        r.value ?? null,
-        r.message,
-        r.suggestedId ?? null,
-        r.candidateIds?.join(' ') ?? null,
-      );
+      if (reopened && this.sink.rejectionExists(fileId, r.line, r.code)) continue;
+      this.sink.insertRejection(fileId, r);
     }
+    this.sink.endBatch();
   }
 }
 

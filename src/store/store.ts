@@ -26,14 +26,18 @@ import type {
   RejectedFile,
   RowRules,
   SampleChoice,
+  SiteFacts,
   SiteInputs,
   SiteOutline,
   StoreBackend,
   StoreCounts,
   StoredFileCounts,
+  TidyRange,
+  TidyView,
 } from '../domain/store.js';
 import { openDatabase, type StoreOptions } from './open.js';
 import { SqliteReader } from './reader.js';
+import { readTidyView, replaceSiteFacts } from './tidyFacts.js';
 import { SqliteWriter } from './writer.js';
 
 export type {
@@ -181,5 +185,18 @@ export class Store implements StoreBackend {
   }
   counts(): StoreCounts {
     return this.reader.counts();
+  }
+
+  // ---- Tidy facts (tidyFacts.ts) -------------------------------------------------------------
+
+  replaceSiteFacts(siteId: string, facts: SiteFacts, fromRound = 1): void {
+    replaceSiteFacts(this.db, siteId, facts, fromRound);
+  }
+  tidyRows(view: TidyView, siteId: string, range: TidyRange = {}): Record<string, unknown>[] {
+    return readTidyView(this.db, view, siteId, range);
+  }
+  /** Nothing to take: SQLite's write lock and the outbox's lock file per site (src/outputs.ts) serve. */
+  lockSites(_siteIds: readonly string[]): () => void {
+    return () => {};
   }
 }

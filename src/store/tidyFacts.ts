@@ -5,33 +5,13 @@
  * the stored results, to the outputs, to `ropewatch export` and to analysts reading the store.
  */
 import type Database from 'better-sqlite3';
+import { type FactValue, type SiteFacts, TIDY_VIEWS, type TidyRange, type TidyView } from '../domain/store.js';
 
-export type FactValue = string | number | boolean | null;
-
-/** A rope's round as the outputs formed it: what the store's results view joins on. */
-export interface RopeRound {
-  sampleId: string;
-  round: number;
-  roundId: string;
-  roundStart: string;
-  groupId: string | null;
-  barnId: string;
-  penId: string;
-  /** The pool the rope was tested in (its results are the pool's), else null. */
-  poolId: string | null;
-}
-
-export interface SiteFacts {
-  ropeRounds: readonly RopeRound[];
-  rounds: readonly Record<string, FactValue>[];
-  alerts: readonly Record<string, FactValue>[];
-}
-
-export const TIDY_VIEWS = { results: 'tidy_results', rounds: 'tidy_rounds', alerts: 'tidy_alerts' } as const;
-export type TidyView = keyof typeof TIDY_VIEWS;
+export type { FactValue, RopeRound, SiteFacts, TidyRange, TidyView } from '../domain/store.js';
+export { TIDY_VIEWS } from '../domain/store.js';
 
 /** The order rows come in: by round, then what the row is about. */
-const ORDER: Record<TidyView, string> = {
+export const TIDY_ORDER: Record<TidyView, string> = {
   results: 'round, barn, pen, assay, result_id',
   rounds: 'round, barn, assay',
   alerts: 'round, key',
@@ -87,14 +67,14 @@ export function readTidyView(
   db: Database.Database,
   view: TidyView,
   siteId: string,
-  range: { from?: string | undefined; to?: string | undefined; fromRound?: number | undefined } = {},
+  range: TidyRange = {},
 ): Record<string, unknown>[] {
   return db
     .prepare(
       `SELECT * FROM ${TIDY_VIEWS[view]} WHERE site = @siteId
          AND (@from IS NULL OR round_start >= @from) AND (@to IS NULL OR round_start <= @to)
          AND round >= @fromRound
-       ORDER BY ${ORDER[view]}`,
+       ORDER BY ${TIDY_ORDER[view]}`,
     )
     .all({ siteId, from: range.from ?? null, to: range.to ?? null, fromRound: range.fromRound ?? 0 }) as Record<
     string,

@@ -22,6 +22,7 @@ import {
 } from '../domain/store.js';
 import { RowWriter } from './rowWriter.js';
 import { prepareRowStatements, type RowStatements } from './rowStatements.js';
+import { SqliteRowSink } from './sqliteRowSink.js';
 
 export class SqliteWriter implements StoreWriter {
   private inFile = false;
@@ -34,7 +35,7 @@ export class SqliteWriter implements StoreWriter {
 
   constructor(private readonly db: Database.Database) {
     this.statements = prepareRowStatements(db);
-    this.rows = new RowWriter(this.statements);
+    this.rows = new RowWriter(new SqliteRowSink(this.statements));
   }
 
   get fileOpen(): boolean {

@@ -31,10 +31,12 @@ afterEach(() => {
   roots = [];
 });
 
-function pathsIn(dir: string): WorkspacePaths {
+function pathsIn(dir: string): WorkspacePaths & { dbFile: string } {
+  const dbFile = path.join(dir, 'store.db');
   return {
     configDir: path.join(dir, 'config'),
-    dbFile: path.join(dir, 'store.db'),
+    storeLocation: { kind: 'sqlite', file: dbFile },
+    dbFile,
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   };

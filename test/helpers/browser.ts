@@ -18,6 +18,7 @@ import { runDemo } from '../../src/demo/runDemo.js';
 import { DEMO_TODAY } from '../../src/demo/scenario.js';
 import { regenerateSite, type SiteAnalysis } from '../../src/outputs.js';
 import { openWorkspace, type WorkspacePaths } from '../../src/workspace.js';
+import { sqlitePaths } from './workspace.js';
 
 export const SYSTEM_CHROMIUM = '/usr/bin/chromium';
 
@@ -232,12 +233,7 @@ function collectingIo(root: string): CliIo {
  */
 export async function buildDemoPages(options: { editConfig?: (configDir: string) => void } = {}): Promise<DemoPages> {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-pages-'));
-  const paths: WorkspacePaths = {
-    configDir: path.join(root, 'config'),
-    dbFile: path.join(root, 'data', 'ropewatch.db'),
-    inbox: path.join(root, 'inbox'),
-    outbox: path.join(root, 'outbox'),
-  };
+  const paths: WorkspacePaths = sqlitePaths(root);
   await runDemo(collectingIo(root), paths, false);
   options.editConfig?.(paths.configDir);
   const ws = openWorkspace(

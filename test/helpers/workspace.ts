@@ -12,6 +12,7 @@ import { loadConfig } from '../../src/config/load.js';
 import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { processFile, type ProcessOutcome } from '../../src/pipeline.js';
+import { Store } from '../../src/store/store.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
 
 export const FIXED_NOW = new Date('2026-12-01T12:00:00Z');
@@ -23,14 +24,46 @@ export interface TestWorkspaceOptions {
   configFiles?: Record<string, string>;
 }
 
+/** A test workspace's paths, with its SQLite store's file (tests look into it). */
+export type SqlitePaths = WorkspacePaths & { dbFile: string };
+
+/** A workspace on a SQLite store, whose connection tests may query. */
+export type SqliteWorkspace = Workspace & { store: Store };
+
+/** The paths of a workspace under `root` with the default layout and a SQLite store. */
+export function sqlitePaths(root: string): SqlitePaths {
+  const dbFile = path.join(root, 'data', 'ropewatch.db');
+  return {
+    configDir: path.join(root, 'config'),
+    storeLocation: { kind: 'sqlite', file: dbFile },
+    dbFile,
+    inbox: path.join(root, 'inbox'),
+    outbox: path.join(root, 'outbox'),
+  };
+}
+
+/** A workspace opened on a SQLite store, typed so (tests reach past the interface to its connection). */
+export function openSqliteWorkspace(
+  paths: WorkspacePaths,
+  now: () => Date,
+  log: (line: string) => void,
+): SqliteWorkspace {
+  const ws = openWorkspace(paths, now, log);
+  if (!(ws.store instanceof Store)) {
+    ws.close();
+    throw new Error('a SQLite workspace was asked for, and the store is not SQLite');
+  }
+  return ws as SqliteWorkspace;
+}
+
 export interface TestWorkspace {
   root: string;
-  paths: WorkspacePaths;
+  paths: SqlitePaths;
   /** --config/--db/--inbox/--outbox flags for the CLI. */
   cliFlags: string[];
   config: () => Config;
   /** The open workspace (opened on first use; `closeStore` closes it so the CLI can run alone). */
-  ws: () => Workspace;
+  ws: () => SqliteWorkspace;
   /** Writes `bytes` as inbox/<name> and runs it through processFile. */
   drop: (name: string, bytes: Buffer | string) => Promise<ProcessOutcome>;
   closeStore: () => void;
@@ -40,12 +73,7 @@ export interface TestWorkspace {
 
 export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-test-'));
-  const paths: WorkspacePaths = {
-    configDir: path.join(root, 'config'),
-    dbFile: path.join(root, 'data', 'ropewatch.db'),
-    inbox: path.join(root, 'inbox'),
-    outbox: path.join(root, 'outbox'),
-  };
+  const paths = sqlitePaths(root);
   fs.cpSync(options.configFrom ?? DEMO_CONFIG_DIR, paths.configDir, { recursive: true });
   for (const [name, text] of Object.entries(options.configFiles ?? {})) {
     fs.mkdirSync(path.dirname(path.join(paths.configDir, name)), { recursive: true });
@@ -53,9 +81,9 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
   }
   fs.mkdirSync(paths.inbox, { recursive: true });
   fs.mkdirSync(paths.outbox, { recursive: true });
-  let open: Workspace | undefined;
+  let open: SqliteWorkspace | undefined;
   const ws = () =>
-    (open ??= openWorkspace(
+    (open ??= openSqliteWorkspace(
       paths,
       () => FIXED_NOW,
       () => {},

@@ -2,14 +2,23 @@
  * The store's read-only views for analysts (migration 7): a version-6 store migrates, the views
  * join a result to its pen and round once the outputs gave the store the rope's round, a pool's
  * result stands for each pen of the pool, a superseded report names the one in its place, and a
- * site's facts are replaced, never added to, on each build.
+ * site's facts are replaced, never added to, on each build; the PostgreSQL store gives the same
+ * rows as the SQLite store from the same facts.
  */
 import fs from 'node:fs';
+import os from 'node:os';
 import path from 'node:path';
 import Database from 'better-sqlite3';
-import { describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { FactValue, RopeRound, SiteFacts, TidyView } from '../../src/domain/store.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from '../../src/store/migrations.js';
+import { copyStore, openStoreSide } from '../../src/store/pg/copyStore.js';
+import { SyncConnection } from '../../src/store/pg/syncConnection.js';
+import { lockSitesPg, replaceSiteFactsPg, siteLockKey, tidyRowsPg } from '../../src/store/pg/tidyFacts.js';
+import { Store } from '../../src/store/store.js';
 import { readTidyView, replaceSiteFacts } from '../../src/store/tidyFacts.js';
+import { freshDatabase, type TestDatabase } from '../helpers/pgServer.js';
+import { runCli } from '../helpers/runCli.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -79,5 +88,152 @@ describe('the tidy views of the store', () => {
     expect(readTidyView(db, 'results', 'hollow-creek')).toHaveLength(2);
     expect(readTidyView(db, 'results', 'hollow-creek', { from: '2026-08-04' })).toHaveLength(0);
     expect(readTidyView(db, 'results', 'hollow-creek', { to: '2026-08-03' })).toHaveLength(2);
+  });
+});
+
+/**
+ * The PostgreSQL store's tidy facts against the SQLite store's, on the same inputs: the demo's
+ * store (SQLite, the reference implementation) copied whole into a fresh PostgreSQL database
+ * (`store copy`, whose digests check the copy), then the facts the demo's outputs gave SQLite
+ * given again to PostgreSQL through replaceSiteFactsPg; each view must give the same rows in the
+ * same order (the order the SQLite views give: src/store/tidyFacts.ts TIDY_ORDER).
+ */
+describe('the tidy facts on PostgreSQL, against SQLite on the same inputs', () => {
+  let dir: string;
+  let sqlite: Store;
+  let pgDb: TestDatabase;
+  let conn: SyncConnection;
+  const sites = ['hollow-creek', 'tamsin-ridge'];
+
+  beforeAll(async () => {
+    dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-tidy-pg-'));
+    const demo = await runCli(['demo'], { cwd: dir });
+    expect(demo.code, demo.stderr).toBe(0);
+    const file = path.join(dir, 'data', 'ropewatch.db');
+    pgDb = await freshDatabase('tidy');
+    const source = openStoreSide({ kind: 'sqlite', file }, 'source');
+    const target = openStoreSide({ kind: 'postgres', url: pgDb.url }, 'target');
+    try {
+      copyStore(source, target);
+    } finally {
+      target.close();
+      source.close();
+    }
+    sqlite = new Store(file, { create: false });
+    conn = new SyncConnection(pgDb.url);
+  }, 300_000);
+
+  afterAll(async () => {
+    conn?.close();
+    sqlite?.close();
+    await pgDb?.drop();
+    if (dir !== undefined) fs.rmSync(dir, { recursive: true, force: true });
+  });
+
+  /** The facts a build gave the SQLite store for a site's rounds from `fromRound` on, as SiteFacts. */
+  function sqliteFacts(siteId: string, fromRound = 1): SiteFacts {
+    const ropeRounds = sqlite.db
+      .prepare(
+        `SELECT sample_id AS sampleId, round, round_id AS roundId, round_start AS roundStart, group_id AS groupId,
+                barn_id AS barnId, pen_id AS penId, pool_id AS poolId
+           FROM analysis_rope_rounds WHERE site_id = ? AND round >= ? ORDER BY round, sample_id`,
+      )
+      .all(siteId, fromRound) as RopeRound[];
+    const rows = (table: string) =>
+      sqlite.db
+        .prepare(`SELECT * FROM ${table} WHERE site = ? AND round >= ? ORDER BY rowid`)
+        .all(siteId, fromRound) as Record<string, FactValue>[];
+    return { ropeRounds, rounds: rows('analysis_rounds'), alerts: rows('analysis_alerts') };
+  }
+
+  const views: TidyView[] = ['results', 'rounds', 'alerts'];
+
+  it('gives every view the same rows in the same order once the facts are replaced', () => {
+    for (const siteId of sites) {
+      const facts = sqliteFacts(siteId);
+      // The demo's facts are not empty (else the comparison proves nothing).
+      expect(facts.ropeRounds.length, siteId).toBeGreaterThan(50);
+      expect(facts.rounds.length, siteId).toBeGreaterThan(5);
+      replaceSiteFactsPg(conn, siteId, facts);
+      for (const view of views) {
+        const want = sqlite.tidyRows(view, siteId);
+        expect(want.length, `${siteId} ${view}`).toBeGreaterThan(0);
+        expect(tidyRowsPg(conn, view, siteId), `${siteId} ${view}`).toEqual(want);
+      }
+    }
+    const alerts = sites.flatMap((siteId) => sqlite.tidyRows('alerts', siteId));
+    expect(alerts.length).toBeGreaterThan(0);
+  });
+
+  it('replaces the rounds from a given round on and keeps the earlier ones, as SQLite does', () => {
+    const siteId = 'hollow-creek';
+    // Round 4 on given again, without the last round's facts: both stores drop them alike.
+    const later = sqliteFacts(siteId, 4);
+    const lastRound = Math.max(...later.ropeRounds.map((rope) => rope.round));
+    const cut: SiteFacts = {
+      ropeRounds: later.ropeRounds.filter((rope) => rope.round < lastRound),
+      rounds: later.rounds.filter((row) => Number(row.round) < lastRound),
+      alerts: later.alerts.filter((row) => Number(row.round) < lastRound),
+    };
+    replaceSiteFactsPg(conn, siteId, cut, 4);
+    sqlite.replaceSiteFacts(siteId, cut, 4);
+    for (const view of views) {
+      const want = sqlite.tidyRows(view, siteId);
+      expect(want.some((row) => row.round === lastRound)).toBe(false);
+      // Round 1 kept its rows (it raised no alert in the demo).
+      if (view !== 'alerts') expect(want.some((row) => row.round === 1)).toBe(true);
+      expect(tidyRowsPg(conn, view, siteId), view).toEqual(want);
+      for (const range of [{ from: '2026-09-01' }, { to: '2026-09-01' }, { fromRound: 3 }]) {
+        expect(tidyRowsPg(conn, view, siteId, range), `${view} ${JSON.stringify(range)}`).toEqual(
+          sqlite.tidyRows(view, siteId, range),
+        );
+      }
+    }
+  });
+
+  it('keeps the first of two rope rounds given for one sample, as SQLite keeps it', () => {
+    const siteId = 'tamsin-ridge';
+    const facts = sqliteFacts(siteId);
+    const first = facts.ropeRounds[0]!;
+    const twice: SiteFacts = {
+      ...facts,
+      ropeRounds: [first, { ...first, penId: 'ELSEWHERE' }, ...facts.ropeRounds.slice(1)],
+    };
+    replaceSiteFactsPg(conn, siteId, twice);
+    sqlite.replaceSiteFacts(siteId, twice);
+    const pens = (rows: Record<string, unknown>[]) =>
+      rows.filter((row) => row.sample_id === first.sampleId).map((row) => row.pen);
+    expect(pens(tidyRowsPg(conn, 'results', siteId))).not.toContain('ELSEWHERE');
+    expect(tidyRowsPg(conn, 'results', siteId)).toEqual(sqlite.tidyRows('results', siteId));
+  });
+
+  it('holds a site lock against another session until it is let go (PostgreSQL 17 documentation, "Advisory Locks")', () => {
+    const other = new SyncConnection(pgDb.url);
+    try {
+      const tryLock = (siteId: string) => {
+        const got = other.query<{ got: boolean }>('SELECT pg_try_advisory_lock($1, $2) AS got', [
+          0x726f_7065,
+          siteLockKey(siteId),
+        ]).rows[0]!.got;
+        if (got) other.query('SELECT pg_advisory_unlock($1, $2)', [0x726f_7065, siteLockKey(siteId)]);
+        return got;
+      };
+      const release = lockSitesPg(conn, ['tamsin-ridge', 'hollow-creek']);
+      expect(tryLock('hollow-creek')).toBe(false);
+      expect(tryLock('tamsin-ridge')).toBe(false);
+      expect(tryLock('another-site')).toBe(true);
+      release();
+      release();
+      expect(tryLock('hollow-creek')).toBe(true);
+      expect(tryLock('tamsin-ridge')).toBe(true);
+      // Session-level locks count up: none is left held by the session that let go.
+      expect(
+        conn.query<{ n: number }>(
+          "SELECT count(*)::int AS n FROM pg_locks WHERE locktype = 'advisory' AND pid = pg_backend_pid()",
+        ).rows[0]!.n,
+      ).toBe(0);
+    } finally {
+      other.close();
+    }
   });
 });

@@ -18,7 +18,7 @@ export function registerDemo(program: Command, io: CliIo): void {
         'also reset a store that holds files the demo did not make (a configuration the demo did not write is never replaced)',
       ),
   ).action(async (options: CommonOptions & { force?: boolean }) => {
-    const { resolvePaths, runDemo } = await commandModules();
-    await runDemo(io, resolvePaths(io.cwd, options), options.force === true);
+    const { pathsOf, runDemo } = await commandModules();
+    await runDemo(io, pathsOf(io, options), options.force === true);
   });
 }

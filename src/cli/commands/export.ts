@@ -74,10 +74,10 @@ export function registerExport(program: Command, io: CliIo): void {
         if (staleSites(ws).includes(site.id)) regenerateOutputs(ws, [site.id]);
         const request = { siteId: site.id, format, range, table };
         if (options.out === undefined) {
-          io.stdout(exportText(ws.store.db, request));
+          io.stdout(exportText(ws.store, request));
           return;
         }
-        const written = writeExport(ws.store.db, request, path.resolve(io.cwd, options.out));
+        const written = writeExport(ws.store, request, path.resolve(io.cwd, options.out));
         for (const file of written) io.stdout(`wrote ${file}\n`);
       },
       { createStore: false },

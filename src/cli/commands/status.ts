@@ -17,7 +17,7 @@ function listSome(ids: readonly string[], limit: number): string {
   return ids.length > limit ? `${ids.length}: ${shown} and ${ids.length - limit} more (--json lists them all)` : shown;
 }
 
-type Modules = Pick<typeof CommandModules, 'buildSiteRounds' | 'clockDay'>;
+type Modules = Pick<typeof CommandModules, 'buildSiteRounds' | 'clockDay' | 'shownLocation'>;
 type SiteStatus = ReturnType<typeof siteStatus>;
 
 /** One site's rounds as the store holds them today, its last round and the next one planned. */
@@ -70,7 +70,7 @@ function printStatus(ws: Workspace, io: CliIo, json: boolean, modules: Modules):
   const sites = ws.config.sites.map((site) => siteStatus(ws, site, modules));
   if (json) {
     printJson(io, {
-      store: ws.dbFile,
+      store: modules.shownLocation(ws.storeLocation),
       ...counts,
       unresolvedSampleCount: unresolved.length,
       unresolvedSamples: unresolved,
@@ -80,7 +80,7 @@ function printStatus(ws: Workspace, io: CliIo, json: boolean, modules: Modules):
   }
   io.stdout(
     [
-      `store ${ws.dbFile}`,
+      `store ${modules.shownLocation(ws.storeLocation)}`,
       `files: ${counts.files} (${counts.rejectedFiles} rejected)`,
       `results: ${counts.results} stored, ${counts.currentResults} current (others superseded by reissues)`,
       `ropes: ${counts.ropes} on sheets, ${counts.planned} planned`,

@@ -4,7 +4,7 @@
  * document is checked against its zod schema before it is written (src/report/schemas).
  */
 import path from 'node:path';
-import type Database from 'better-sqlite3';
+import type { StoreFacts } from '../../domain/store.js';
 import { writeFileAtomic } from '../files.js';
 import { jsonText } from '../jsonText.js';
 import {
@@ -49,8 +49,8 @@ const chosen = (request: ExportRequest): readonly TidyTable[] =>
   TIDY_TABLES.filter((table) => request.table === undefined || table.name === request.table);
 
 /** The files an export writes into a folder: `<table>.csv` or `<table>.json`. */
-export function exportFiles(db: Database.Database, request: ExportRequest): { file: string; text: string }[] {
-  const tables = readTidyTables(db, request.siteId, request.range);
+export function exportFiles(store: StoreFacts, request: ExportRequest): { file: string; text: string }[] {
+  const tables = readTidyTables(store, request.siteId, request.range);
   return chosen(request).map((table) => ({
     file: `${table.name}.${request.format}`,
     text: tableText(request, table, tables),
@@ -61,8 +61,8 @@ export function exportFiles(db: Database.Database, request: ExportRequest): { fi
  * The export as one text for standard output: one table as CSV or JSON, or the three tables in
  * one JSON document. Three CSV tables do not make one CSV: the caller asks for one.
  */
-export function exportText(db: Database.Database, request: ExportRequest): string {
-  const tables = readTidyTables(db, request.siteId, request.range);
+export function exportText(store: StoreFacts, request: ExportRequest): string {
+  const tables = readTidyTables(store, request.siteId, request.range);
   const [only] = chosen(request);
   if (request.table !== undefined && only) return tableText(request, only, tables);
   if (request.format === 'csv') throw new RangeError('`table` must be named for CSV on standard output, got none');
@@ -70,8 +70,8 @@ export function exportText(db: Database.Database, request: ExportRequest): strin
 }
 
 /** Writes the export's files into `dir` (created when missing); returns their paths. */
-export function writeExport(db: Database.Database, request: ExportRequest, dir: string): string[] {
-  return exportFiles(db, request).map(({ file, text }) => {
+export function writeExport(store: StoreFacts, request: ExportRequest, dir: string): string[] {
+  return exportFiles(store, request).map(({ file, text }) => {
     const target = path.join(dir, file);
     writeFileAtomic(target, text);
     return target;

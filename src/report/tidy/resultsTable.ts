@@ -6,7 +6,7 @@
  * ropes on sheets and planned ropes whose results came back alike.
  */
 import type { SiteAnalysis } from '../../analysis/analyseSite.js';
-import type { RopeRound } from '../../store/tidyFacts.js';
+import type { RopeRound } from '../../domain/store.js';
 import type { Column, TidyTable } from './columns.js';
 
 export const RESULTS_FILE = 'results.csv';

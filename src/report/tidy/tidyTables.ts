@@ -5,10 +5,9 @@
  * the store's views, so that the files, `ropewatch export` and an analyst reading the store see
  * the same rows; the rounds it leaves alone keep their rows (src/report/builtRounds.ts).
  */
-import type Database from 'better-sqlite3';
 import type { AlertRecord } from '../../alerts/records.js';
 import type { SiteAnalysis } from '../../analysis/analyseSite.js';
-import { readTidyView, replaceSiteFacts } from '../../store/tidyFacts.js';
+import type { StoreFacts } from '../../domain/store.js';
 import { ALERTS_TABLE, alertRows } from './alertsTable.js';
 import { storedRowsCsv, type TidyRow, type TidyTable, tidyCsv, typedRow } from './columns.js';
 import { RESULTS_TABLE, ropeRounds } from './resultsTable.js';
@@ -34,7 +33,7 @@ export type TidyFragments = Record<TidyTable['name'], string>;
  * @param records the alert records of the rounds from `from` on
  */
 export function storeTidyRounds(
-  db: Database.Database,
+  store: StoreFacts,
   analysis: SiteAnalysis,
   records: readonly AlertRecord[],
   from: number,
@@ -42,15 +41,14 @@ export function storeTidyRounds(
   const later = analysis.rounds.slice(from);
   if (later.length === 0) return [];
   const fromRound = later[0]!.number;
-  replaceSiteFacts(
-    db,
+  store.replaceSiteFacts(
     analysis.site.id,
     { ropeRounds: ropeRounds(analysis, from), rounds: roundRows(analysis, from), alerts: alertRows(records) },
     fromRound,
   );
   const byTable = TIDY_TABLES.map((table) => {
     const byRound = new Map<number, Record<string, unknown>[]>();
-    for (const raw of readTidyView(db, table.name, analysis.site.id, { fromRound })) {
+    for (const raw of store.tidyRows(table.name, analysis.site.id, { fromRound })) {
       const round = Number(raw.round);
       const rows = byRound.get(round) ?? [];
       rows.push(raw);
@@ -80,8 +78,8 @@ const TIDY_HEADERS = Object.fromEntries(TIDY_TABLES.map((table) => [table.name, 
 >;
 
 /** The site's tidy tables as the store's views give them, typed by their columns. */
-export function readTidyTables(db: Database.Database, siteId: string, range: RoundRange = {}): TidyTables {
+export function readTidyTables(store: StoreFacts, siteId: string, range: RoundRange = {}): TidyTables {
   const read = (table: TidyTable): TidyRow[] =>
-    readTidyView(db, table.name, siteId, range).map((raw) => typedRow(table.columns, raw));
+    store.tidyRows(table.name, siteId, range).map((raw) => typedRow(table.columns, raw));
   return { results: read(RESULTS_TABLE), rounds: read(ROUNDS_TABLE), alerts: read(ALERTS_TABLE) };
 }

@@ -14,9 +14,16 @@
  */
 import { MessageChannel, type MessagePort, receiveMessageOnPort, Worker } from 'node:worker_threads';
 import { copyLine } from './copyText.js';
-import type { FromSyncWorker, ServerErrorFields, SqlValue, SyncWorkerData, ToSyncWorker } from './syncProtocol.js';
+import type {
+  FromSyncWorker,
+  ServerErrorFields,
+  SqlParam,
+  SqlValue,
+  SyncWorkerData,
+  ToSyncWorker,
+} from './syncProtocol.js';
 
-export type { SqlValue };
+export type { SqlParam, SqlValue };
 
 const WORKER_ENTRY = new URL('./syncWorkerBoot.mjs', import.meta.url);
 /** Chunks of COPY data sent to the worker: large enough that a round trip per chunk costs nothing. */
@@ -103,7 +110,7 @@ export class SyncConnection {
   }
 
   /** Runs one statement with `$1, $2 ...` parameters; its rows and the count of rows it touched. */
-  query<Row = Record<string, unknown>>(text: string, params: readonly SqlValue[] = []): QueryResult<Row> {
+  query<Row = Record<string, unknown>>(text: string, params: readonly SqlParam[] = []): QueryResult<Row> {
     const reply = this.request({ op: 'query', text, params });
     return { rows: withBuffers(reply.rows) as Row[], rowCount: reply.rowCount };
   }

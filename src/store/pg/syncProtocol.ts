@@ -7,10 +7,12 @@ import type { MessagePort } from 'node:worker_threads';
 
 /** A value passed as a query parameter or a COPY field. Bytes go as bytea. */
 export type SqlValue = string | number | bigint | boolean | null | Uint8Array;
+/** A query parameter: a value, or an array of values (node-postgres sends it as a PostgreSQL array). */
+export type SqlParam = SqlValue | readonly SqlValue[];
 
 export type ToSyncWorker =
   | { op: 'connect' }
-  | { op: 'query'; text: string; params: readonly SqlValue[] }
+  | { op: 'query'; text: string; params: readonly SqlParam[] }
   | { op: 'copyStart'; sql: string }
   | { op: 'copyData'; chunk: string }
   | { op: 'copyEnd' }

@@ -1,0 +1,225 @@
+/**
+ * Writing a decided batch to PostgreSQL in bulk, its ids taken (sequences.ts): per table one COPY into a temporary staging
+ * table and one `INSERT ... SELECT ... ON CONFLICT DO NOTHING RETURNING` from it (PostgreSQL 17
+ * documentation, "INSERT", section "ON CONFLICT Clause"; "COPY"). A row the INSERT did not take
+ * was stored by another process after the batch looked: the batch's decisions no longer hold, and
+ * `WriteConflict` is thrown (the caller rolls back and stores the file again).
+ */
+import type { ResultRow } from '../../domain/records.js';
+import type { TakenIds } from './sequences.js';
+import { PgError, type SqlValue, type SyncConnection } from './syncConnection.js';
+
+/** Where each table's provisional keys start: above any stored id, one range per table, in 2^53. */
+export const PROVISIONAL = Object.freeze({ reasons: 2 ** 48, samples: 2 ** 49, results: 2 ** 50, rejections: 2 ** 51 });
+
+/** A batch's rows as they go in (provisional keys where an id is not taken yet). */
+export interface BatchWrites {
+  /** [key, sample_id] */
+  samples: SqlValue[][];
+  /** [key, text] */
+  reasons: SqlValue[][];
+  /** RESULT_COLUMNS */
+  results: SqlValue[][];
+  /** [old_result_id, new_result_id, reason, kind] */
+  supersessions: SqlValue[][];
+  /** ROPE_COLUMNS */
+  ropes: SqlValue[][];
+  /** REJECTION_COLUMNS */
+  rejections: SqlValue[][];
+}
+
+export const RESULT_COLUMNS = [
+  'id',
+  'file_id',
+  'line',
+  'sample',
+  'lab_id',
+  'assay_id',
+  'lab_assay',
+  'ct',
+  'ct_raw',
+  'lab_call',
+  'accession',
+  'collected_on',
+  'reported_on',
+  'report_status',
+  'control',
+  'class',
+  'reason',
+  'load_band',
+  'positive_below',
+  'suspect_below',
+  'cycle_limit',
+  'call_differs',
+  'content_key',
+  'status_kind',
+  'status_word',
+  'lab_call_class',
+  'sample_id_as_written',
+  'measure',
+  'sp',
+  'positive_at_or_above',
+  'suspect_at_or_above',
+] as const;
+const RESULT_SAMPLE = RESULT_COLUMNS.indexOf('sample');
+const RESULT_REASON = RESULT_COLUMNS.indexOf('reason');
+const ROPE_COLUMNS = ['sample', 'site_id', 'barn_id', 'pen_id', 'hung_on', 'source', 'file_id', 'line', 'note', 'pool'];
+const REJECTION_COLUMNS = [
+  'id',
+  'file_id',
+  'line',
+  'field',
+  'code',
+  'value',
+  'message',
+  'suggested_id',
+  'candidate_ids',
+];
+
+/** A result row's values in RESULT_COLUMNS order (as the SQLite store's insert binds them, rowStatements.ts). */
+export function resultValues(id: number, fileId: number, row: ResultRow, sample: number, reason: number): SqlValue[] {
+  return [
+    id,
+    fileId,
+    row.line,
+    sample,
+    row.labId,
+    row.assayId,
+    row.labAssay,
+    row.ct,
+    row.ctRaw,
+    row.labCall,
+    row.accession,
+    row.collectedOn,
+    row.reportedOn,
+    row.reportStatus,
+    row.control,
+    row.resultClass,
+    reason,
+    row.loadBand,
+    // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (as the SQLite store stores it).
+    row.positiveBelow ?? 0,
+    row.suspectBelow ?? 0,
+    row.cycleLimit ?? 0,
+    row.callDiffers ? 1 : 0,
+    row.contentKey,
+    row.statusKind,
+    row.statusWord,
+    row.labCallClass,
+    row.sampleIdAsWritten,
+    row.measure,
+    row.sp,
+    row.positiveAtOrAbove,
+    row.suspectAtOrAbove,
+  ];
+}
+
+/** A row another process stored first, or a transaction the server gave up (deadlock, serialization). */
+export class WriteConflict extends Error {
+  override readonly name = 'WriteConflict';
+}
+
+/** SQLSTATEs that mean another transaction got there first: unique_violation, deadlock_detected, serialization_failure. */
+const CONFLICT_STATES = new Set(['23505', '40P01', '40001']);
+
+/** Whether an error is another writer's doing (then storing the file again may succeed). */
+export function isConflict(error: unknown): boolean {
+  return error instanceof WriteConflict || (error instanceof PgError && CONFLICT_STATES.has(error.code));
+}
+
+const STAGED = ['samples', 'reasons', 'results', 'supersessions', 'ropes', 'rejected_rows'] as const;
+
+/** Creates this connection's staging tables (temporary: each connection has its own), outside any transaction. */
+export function createStaging(conn: SyncConnection): void {
+  conn.query(STAGED.map((table) => `CREATE TEMP TABLE IF NOT EXISTS stage_${table} (LIKE ${table})`).join(';\n'));
+}
+
+/** One table's staged rows moved in; throws WriteConflict when the INSERT took fewer than staged. */
+function moveIn(
+  conn: SyncConnection,
+  table: (typeof STAGED)[number],
+  columns: readonly string[],
+  order: string,
+  rows: SqlValue[][],
+): void {
+  if (rows.length === 0) return;
+  conn.copyIn(`stage_${table}`, columns, rows);
+  const list = columns.join(', ');
+  const taken = conn.query(
+    `WITH moved AS (DELETE FROM stage_${table} RETURNING *)
+     INSERT INTO ${table} (${list}) SELECT ${list} FROM moved ORDER BY ${order} ON CONFLICT DO NOTHING RETURNING 1`,
+  ).rowCount;
+  if (taken !== rows.length)
+    throw new WriteConflict(
+      `${rows.length - taken} of ${rows.length} ${table} rows were stored by another process first`,
+    );
+}
+
+/** Maps a key to its id: a provisional key of `base` to `ids[key - base]`, any other key as it is. */
+function resolver(
+  ids: TakenIds,
+  sampleId: (key: number) => number,
+): { reason: (key: number) => number; sample: (key: number) => number; result: (key: number) => number } {
+  return {
+    reason: (key) =>
+      key >= PROVISIONAL.reasons && key < PROVISIONAL.samples ? ids.reasons[key - PROVISIONAL.reasons]! : key,
+    sample: sampleId,
+    result: (key) =>
+      key >= PROVISIONAL.results && key < PROVISIONAL.rejections ? ids.results[key - PROVISIONAL.results]! : key,
+  };
+}
+
+/**
+ * Writes the batch with its keys resolved (`ids` as taken by takeIds; `sampleId` resolves a
+ * sample key, provisional or not, once this batch's sample ids are known), parents first.
+ * @throws WriteConflict, or a PgError (a conflict when isConflict says so).
+ */
+export function writeBatch(
+  conn: SyncConnection,
+  writes: BatchWrites,
+  ids: TakenIds,
+  sampleId: (key: number) => number,
+): void {
+  const resolve = resolver(ids, sampleId);
+  moveIn(
+    conn,
+    'reasons',
+    ['id', 'text'],
+    'id',
+    writes.reasons.map(([key, text]) => [resolve.reason(key as number), text as string]),
+  );
+  moveIn(
+    conn,
+    'samples',
+    ['id', 'sample_id'],
+    'id',
+    writes.samples.map(([key, text]) => [sampleId(key as number), text as string]),
+  );
+  for (const row of writes.results) {
+    row[0] = resolve.result(row[0] as number);
+    row[RESULT_SAMPLE] = sampleId(row[RESULT_SAMPLE] as number);
+    row[RESULT_REASON] = resolve.reason(row[RESULT_REASON] as number);
+  }
+  moveIn(conn, 'results', RESULT_COLUMNS, 'id', writes.results);
+  moveIn(
+    conn,
+    'supersessions',
+    ['old_result_id', 'new_result_id', 'reason', 'kind'],
+    'old_result_id',
+    writes.supersessions.map(([oldId, newId, reason, kind]) => [
+      resolve.result(oldId as number),
+      resolve.result(newId as number),
+      reason as SqlValue,
+      kind as SqlValue,
+    ]),
+  );
+  for (const row of writes.ropes) {
+    row[0] = sampleId(row[0] as number);
+    if (row[9] !== null) row[9] = sampleId(row[9] as number);
+  }
+  moveIn(conn, 'ropes', ROPE_COLUMNS, 'sample', writes.ropes);
+  writes.rejections.forEach((row, index) => {
+    row[0] = ids.rejections[index]!;
+  });
+  moveIn(conn, 'rejected_rows', REJECTION_COLUMNS, 'id', writes.rejections);
+}
