@@ -5,7 +5,7 @@
  * bench/results/<date>.json and latest.json so runs can be compared. Absolute times on shared
  * machines are noise: read the CPU ratios, and the calibration beside an absolute target.
  *
- * Parts: stats, spatial, ingest, recompute, cli, history, weekly, memory. `--small` runs each at a
+ * Parts: stats, spatial, ingest, pg, recompute, cli, history, weekly, memory. `--small` runs each at a
  * size that proves it works, not at the sizes the targets name.
  */
 import fs from 'node:fs';
@@ -23,6 +23,7 @@ const PARTS = [
   ['stats', './stats.js', 'benchStats'],
   ['spatial', './spatial.js', 'benchSpatial'],
   ['ingest', './ingest.js', 'benchIngest'],
+  ['pg', './pgIngest.js', 'benchPgIngest'],
   ['recompute', './recompute.js', 'benchRecompute'],
   ['cli', './cli.js', 'benchCli'],
   ['history', './history.js', 'benchHistory'],

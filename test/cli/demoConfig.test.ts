@@ -9,7 +9,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { DEMO_CONFIG_MARK, guardConfig } from '../../src/demo/runDemo.js';
-import { Store } from '../../src/store/store.js';
+import { openStore } from '../../src/store/openStore.js';
 import { runCli } from '../helpers/runCli.js';
 import { treeHashes, workspacesPerTest } from '../helpers/workspace.js';
 
@@ -26,7 +26,7 @@ describe('demo and a configuration it did not write', () => {
     const ws = workspace();
     fs.writeFileSync(path.join(ws.paths.configDir, 'labs', 'x.yaml'), HAND_WRITTEN);
     // An empty store (created, no files): the store guard alone lets the demo through.
-    new Store(ws.paths.dbFile).close();
+    openStore(ws.paths.storeLocation).close();
     fs.writeFileSync(path.join(ws.paths.inbox, 'waiting.csv'), 'sample_id,site,barn,pen,hung_on\n');
     const before = treeHashes(ws.root);
     for (const extra of [[], ['--force']]) {

@@ -75,9 +75,9 @@ describe('the demo workbook', () => {
       sheet: 'Results',
       rows: { accepted: 2 * ropes, rejected: 0 },
     });
-    expect(ws.ws().store.db.prepare('SELECT MIN(line), MAX(line) FROM results').raw().get()).toEqual([
-      4,
-      3 + 2 * ropes,
-    ]);
+    expect(ws.sql().get('SELECT MIN(line) AS first, MAX(line) AS last FROM results')).toEqual({
+      first: 4,
+      last: 3 + 2 * ropes,
+    });
   });
 });

@@ -71,12 +71,12 @@ describe('ropewatch listen over MLLP (compiled)', () => {
       expect(ack.get('MSH.9.1').toString()).toBe('ACK');
       expect(ack.get('MSA.1').toString()).toBe('AA');
       expect(ack.get('MSA.2').toString()).toBe('BRAHL-20260820-001');
-      const stored = lookIntoStore(ws.paths.dbFile).results;
+      const stored = lookIntoStore(ws.paths.db).results;
       // One influenza result per rope hung in round 2, all in the store when the ACK came.
       expect(stored).toBeGreaterThan(0);
       const again = await exchange(port, [frame(hl7!.bytes)]);
       expect(new Message({ text: again.acks[0]! }).get('MSA.1').toString()).toBe('AA');
-      expect(lookIntoStore(ws.paths.dbFile).results).toBe(stored);
+      expect(lookIntoStore(ws.paths.db).results).toBe(stored);
     } finally {
       child.kill('SIGTERM');
     }
@@ -101,7 +101,7 @@ describe('ropewatch listen beside ropewatch watch on the same store', () => {
       const { acks } = await exchange(port, [frame(hl7.bytes)]);
       expect(new Message({ text: acks[0]! }).get('MSA.1').toString()).toBe('AA');
       await watch.waitFor(/accepted/);
-      const look = lookIntoStore(ws.paths.dbFile);
+      const look = lookIntoStore(ws.paths.db);
       expect(look.integrity).toBe('ok');
       expect(Object.keys(look.resultsByFile).sort()).toEqual([csv.name, 'mllp_BRAHL_BRAHL-20260820-001.hl7'].sort());
     } finally {

@@ -7,6 +7,7 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { northfieldExport } from '../../src/demo/scenario.js';
 import { SUMMARY_COLUMNS } from '../../src/report/summaryCsv.js';
+import { foreignKeyProblems } from '../helpers/storeSql.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 
 const workspace = workspacesPerTest();
@@ -64,7 +65,7 @@ describe('pooled ropes end to end', () => {
         .map((rope) => rope.penId),
     ).toEqual(['A1', 'A2', 'A3']);
     // Foreign keys hold after the file's transaction (they are not checked row by row inside it).
-    expect(ws.ws().store.db.pragma('foreign_key_check')).toEqual([]);
+    expect(foreignKeyProblems(ws.ws().store)).toEqual([]);
 
     const summary = JSON.parse(fs.readFileSync(path.join(roundDir(ws.paths.outbox), 'summary.json'), 'utf8'));
     const f1 = summary.barns.find((barn: { barnId: string }) => barn.barnId === 'F1');

@@ -37,7 +37,7 @@ async function ingestOne(ws: TestWorkspace, name: string, bytes: Buffer | string
     .find((entry) => entry.startsWith(`${name}.`) && entry.endsWith('.receipt.json'));
   expect(receiptFile, `receipt for ${name}`).toBeDefined();
   const receipt = JSON.parse(fs.readFileSync(path.join(receiptsDir, receiptFile!), 'utf8')) as Receipt;
-  return { file, run, receipt, look: lookIntoStore(ws.paths.dbFile) };
+  return { file, run, receipt, look: lookIntoStore(ws.paths.db) };
 }
 
 const lines = (...rows: string[]) => [NORTHFIELD_HEADER.join(','), ...rows].join('\n') + '\n';
@@ -218,7 +218,7 @@ describe('bad inputs through ropewatch ingest', () => {
     fs.writeFileSync(bad, '');
     const run = await runCli(['ingest', bad, good, ...ws.cliFlags]);
     expect(run.code).toBe(1);
-    const look = lookIntoStore(ws.paths.dbFile);
+    const look = lookIntoStore(ws.paths.db);
     expect(look.resultsByFile).toEqual({ 'nvdl_good.csv': 1 });
     expect(look.files.map((file) => [file.name, file.status])).toEqual([
       ['nvdl_bad.csv', 'rejected'],

@@ -11,9 +11,9 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import Database from 'better-sqlite3';
 import { PARSE_IN_WORKER_FROM_BYTES } from '../../src/ingest/ingestFile.js';
 import { bigNorthfieldExport, lookIntoStore, processWorkspace, spawnCli } from '../helpers/hardening.js';
+import { storedResults, waitForFileTransaction, waitForStored } from '../helpers/storeProbe.js';
 
 /**
  * Rows of the exports: enough that storing takes well over a second on a slow CI core; the
@@ -48,31 +48,6 @@ const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
 
 const workspace = (name: string) => processWorkspace(root, name);
 
-/**
- * Waits until another connection holds the store's write lock: a probe `BEGIN IMMEDIATE` with no
- * busy timeout fails with SQLITE_BUSY exactly then. (The WAL file is no signal: better-sqlite3's
- * page cache holds a whole 40,000-row transaction, so the WAL stays empty until the commit.)
- */
-async function waitForWriteLock(dbFile: string, timeoutMs: number): Promise<void> {
-  const probe = new Database(dbFile, { timeout: 0 });
-  try {
-    const started = Date.now();
-    while (Date.now() - started < timeoutMs) {
-      try {
-        probe.exec('BEGIN IMMEDIATE');
-        probe.exec('ROLLBACK');
-      } catch (error) {
-        if ((error as { code?: string }).code === 'SQLITE_BUSY') return;
-        throw error;
-      }
-      await sleep(15);
-    }
-    throw new Error(`no process took the write lock of ${dbFile} within ${timeoutMs} ms`);
-  } finally {
-    probe.close();
-  }
-}
-
 /** Bytes the process has read so far (proc(5), /proc/<pid>/io `rchar`); undefined once it is gone. */
 function bytesRead(pid: number): number | undefined {
   try {
@@ -102,7 +77,7 @@ describe('a crash (SIGKILL) while an export is being stored', () => {
       fs.writeFileSync(file, bytes);
 
       const first = spawnCli(['ingest', file, ...ws.flags]);
-      await waitForWriteLock(ws.paths.db, 30_000);
+      await waitForFileTransaction(ws.paths.db, 30_000);
       const readBefore = bytesRead(first.child.pid!) ?? 0;
       await waitForBytesRead(first.child.pid!, readBefore + share * bytes.length, 30_000);
       first.child.kill('SIGKILL');
@@ -139,28 +114,6 @@ describe('a crash (SIGKILL) while an export is being stored', () => {
  */
 describe('a crash (SIGKILL) around the outputs of a file', () => {
   const KILL_AFTER_COMMIT_MS = [0, 25, 75];
-
-  /** Waits until a committed result for `sampleId` can be read from the store. */
-  async function waitForStored(dbFile: string, sampleId: string, timeoutMs: number): Promise<void> {
-    const started = Date.now();
-    while (Date.now() - started < timeoutMs) {
-      if (fs.existsSync(dbFile)) {
-        const db = new Database(dbFile, { readonly: true, timeout: 0 });
-        try {
-          const found = db
-            .prepare('SELECT 1 FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = ?')
-            .get(sampleId);
-          if (found !== undefined) return;
-        } catch {
-          // The schema may not be there yet.
-        } finally {
-          db.close();
-        }
-      }
-      await sleep(5);
-    }
-    throw new Error(`no commit of ${sampleId} within ${timeoutMs} ms`);
-  }
 
   it('leaves no output showing a result the store does not hold, and the next run brings outputs up to date', async () => {
     const { loadConfig } = await import('../../src/config/load.js');
@@ -203,13 +156,7 @@ describe('a crash (SIGKILL) around the outputs of a file', () => {
       run.child.kill('SIGKILL');
       await run.done;
 
-      const db = new Database(ws.paths.db, { readonly: true });
-      const stored = (
-        db
-          .prepare("SELECT COUNT(*) AS n FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = 'CR-007'")
-          .get() as { n: number }
-      ).n;
-      db.close();
+      const stored = storedResults(ws.paths.db, 'CR-007');
       const positivePensShown = (): string[] => {
         const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
         if (!fs.existsSync(siteDir)) return [];

@@ -108,12 +108,12 @@ describe('a plain file where inbox/archive or inbox/rejected must go', () => {
       expect(run.stderr).toContain(path.join(ws.paths.inbox, dir));
       expect(run.stderr).toMatch(/not a folder.*rename or move/);
       expect(run.stderr.trim().split('\n')).toHaveLength(1);
-      expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
+      expect(lookIntoStore(ws.paths.db).files).toEqual([]);
       expect(fs.existsSync(file)).toBe(true);
       const watch = await runCli(['watch', ...ws.cliFlags], { stopSignal: Promise.resolve() });
       expect(watch.code).toBe(2);
       expect(watch.stderr).toContain(path.join(ws.paths.inbox, dir));
-      expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
+      expect(lookIntoStore(ws.paths.db).files).toEqual([]);
     },
   );
 

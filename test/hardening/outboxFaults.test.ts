@@ -50,7 +50,7 @@ async function storedWorkspace(): Promise<{ ws: TestWorkspace; second: string }>
 describe('an outbox that cannot be written', () => {
   it('exits 1 with ENOTDIR when the outbox lies under a regular file; the file is stored and archived, and the next run writes its outputs', async () => {
     const { ws, second } = await storedWorkspace();
-    const before = lookIntoStore(ws.paths.dbFile);
+    const before = lookIntoStore(ws.paths.db);
     const plainFile = path.join(ws.root, 'not-a-folder.txt');
     fs.writeFileSync(plainFile, 'a file where a folder should be\n');
 
@@ -59,7 +59,7 @@ describe('an outbox that cannot be written', () => {
     expect(run.stderr).toContain('could not be written');
     expect(run.stderr).toContain('ENOTDIR');
     expect(run.stderr).toContain('rebuilt on the next run');
-    expect(lookIntoStore(ws.paths.dbFile).ropes).toBe(before.ropes + 1);
+    expect(lookIntoStore(ws.paths.db).ropes).toBe(before.ropes + 1);
     expect(fs.existsSync(second)).toBe(false);
     expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'ropes_2.csv'))).toBe(true);
 
@@ -91,7 +91,7 @@ describe('an outbox that cannot be written', () => {
 
   it('exits 1 with ENOSPC when the disk is full; the file is stored, the earlier outputs stay whole, no temp file is left', async () => {
     const { ws, second } = await storedWorkspace();
-    const before = lookIntoStore(ws.paths.dbFile);
+    const before = lookIntoStore(ws.paths.db);
     const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
     const roundDirs = fs.readdirSync(siteDir).filter((entry) => /^r\d+-/.test(entry));
     expect(roundDirs).toEqual(['r01-2026-08-03']);
@@ -107,7 +107,7 @@ describe('an outbox that cannot be written', () => {
     expect(run.code).toBe(1);
     expect(run.stderr).toContain('could not be written');
     expect(run.stderr).toContain('ENOSPC');
-    expect(lookIntoStore(ws.paths.dbFile).ropes).toBe(before.ropes + 1);
+    expect(lookIntoStore(ws.paths.db).ropes).toBe(before.ropes + 1);
     expect(fs.existsSync(path.join(ws.paths.inbox, 'archive', 'ropes_2.csv'))).toBe(true);
     // The summary that was there before is not replaced, and the staged files of the failed set are gone.
     expect(fs.readFileSync(path.join(roundDir, 'summary.json'))).toEqual(summaryBefore);

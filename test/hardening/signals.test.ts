@@ -74,7 +74,7 @@ describe('ingest stopped by a signal', () => {
       expect(run.stderr).toContain(file);
       expect(fs.existsSync(file)).toBe(true);
     }
-    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
+    expect(lookIntoStore(ws.paths.db).files).toEqual([]);
   });
 });
 

@@ -60,7 +60,7 @@ describe('a file taken by another process part-way', () => {
     expect(run.stdout + run.stderr).toContain('ropes.csv: already taken by another process');
     expect(run.stdout + run.stderr).not.toMatch(/file-read-error|rejected/);
     expect(receipts(ws)).toEqual([]);
-    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([]);
+    expect(lookIntoStore(ws.paths.db).files).toEqual([]);
     expect(fs.readdirSync(path.join(ws.paths.inbox, 'archive'))).toEqual(['ropes.csv']);
   });
 
@@ -82,7 +82,7 @@ describe('a file taken by another process part-way', () => {
     expect(run.code, run.stderr).toBe(0);
     expect(run.stdout).toContain('accepted ropes.csv');
     expect(receipts(ws).map((receipt) => receipt.status)).toEqual(['accepted']);
-    expect(lookIntoStore(ws.paths.dbFile).files).toEqual([
+    expect(lookIntoStore(ws.paths.db).files).toEqual([
       expect.objectContaining({ name: 'ropes.csv', status: 'accepted' }),
     ]);
     expect(fs.readdirSync(path.join(ws.paths.inbox, 'archive'))).toEqual(['ropes.csv']);

@@ -90,7 +90,7 @@ describe('ropewatch watch with a burst of drops', () => {
     expect(await running, stderr).toBe(0);
     expect(stderr).toBe('');
 
-    const look = lookIntoStore(ws.paths.dbFile);
+    const look = lookIntoStore(ws.paths.db);
     expect(look.integrity).toBe('ok');
     expect(look.files).toHaveLength(FILES);
     expect(new Set(look.files.map((file) => file.name)).size).toBe(FILES);

@@ -9,7 +9,10 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import Database from 'better-sqlite3';
 import { NORTHFIELD_HEADER } from '../../src/demo/scenario.js';
-import { Store } from '../../src/store/store.js';
+import { isPostgresLocation, parseStoreLocation } from '../../src/store/location.js';
+import { openStore } from '../../src/store/openStore.js';
+import { SyncConnection } from '../../src/store/pg/syncConnection.js';
+import { testStoreLocation } from './testStore.js';
 import { compiledBin } from './compiledCli.js';
 
 export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..');
@@ -96,11 +99,52 @@ export interface StoreLook {
   rejectedRows: number;
 }
 
-/** Opens a store file read-only (no migrations, no lock held after) and reports what it holds. */
-export function lookIntoStore(dbFile: string): StoreLook {
-  if (!fs.existsSync(dbFile))
-    return { integrity: 'ok', files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
-  const db = new Database(dbFile, { readonly: true });
+const EMPTY_LOOK = { files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
+
+/** What a store holds, from plain queries any SQL engine answers alike. */
+function storeContents(all: <Row>(sql: string) => Row[]): Omit<StoreLook, 'integrity'> {
+  const files = all<StoreLook['files'][number]>(
+    'SELECT name, status, reason_code AS "reasonCode", rows_accepted AS "rowsAccepted", rows_rejected AS "rowsRejected" FROM files ORDER BY id',
+  );
+  const resultsByFile: Record<string, number> = {};
+  for (const row of all<{ name: string; n: number }>(
+    'SELECT f.name AS name, COUNT(*) AS n FROM results r JOIN files f ON f.id = r.file_id GROUP BY f.name',
+  ))
+    resultsByFile[row.name] = row.n;
+  const one = (sql: string) => all<{ n: number }>(sql)[0]!.n;
+  return {
+    files,
+    resultsByFile,
+    results: one('SELECT COUNT(*) AS n FROM results'),
+    ropes: one('SELECT COUNT(*) AS n FROM ropes'),
+    rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows'),
+  };
+}
+
+/**
+ * Opens a SQLite store file read-only (no migrations, no lock held after), or connects to a
+ * PostgreSQL store (a URL), and reports what it holds. `integrity` is 'ok' when SQLite's
+ * structural and foreign-key checks find nothing; on PostgreSQL, which checks every declared key
+ * on each write (PostgreSQL 17 documentation, 5.5.5), when no foreign key was left NOT VALID.
+ */
+export function lookIntoStore(location: string): StoreLook {
+  if (isPostgresLocation(location)) {
+    const conn = new SyncConnection(location);
+    try {
+      const all = <Row>(sql: string) => conn.query<Row>(sql).rows;
+      if (all("SELECT 1 FROM pg_tables WHERE schemaname = 'public' AND tablename = 'files'").length === 0)
+        return { integrity: 'ok', ...EMPTY_LOOK };
+      const unchecked = all("SELECT conname FROM pg_constraint WHERE contype = 'f' AND NOT convalidated").length;
+      return {
+        integrity: unchecked === 0 ? 'ok' : `${unchecked} foreign key(s) not validated`,
+        ...storeContents(all),
+      };
+    } finally {
+      conn.close();
+    }
+  }
+  if (!fs.existsSync(location)) return { integrity: 'ok', ...EMPTY_LOOK };
+  const db = new Database(location, { readonly: true });
   try {
     const tables = new Set(
       (db.prepare("SELECT name FROM sqlite_master WHERE type = 'table'").all() as { name: string }[]).map(
@@ -112,27 +156,8 @@ export function lookIntoStore(dbFile: string): StoreLook {
     const brokenReferences = (db.pragma('foreign_key_check') as unknown[]).length;
     const integrity =
       brokenReferences === 0 ? structure : `${structure}; ${brokenReferences} broken foreign key reference(s)`;
-    if (!tables.has('files')) return { integrity, files: [], resultsByFile: {}, results: 0, ropes: 0, rejectedRows: 0 };
-    const files = db
-      .prepare(
-        'SELECT name, status, reason_code AS reasonCode, rows_accepted AS rowsAccepted, rows_rejected AS rowsRejected FROM files ORDER BY id',
-      )
-      .all() as StoreLook['files'];
-    const resultsByFile: Record<string, number> = {};
-    for (const row of db
-      .prepare('SELECT f.name AS name, COUNT(*) AS n FROM results r JOIN files f ON f.id = r.file_id GROUP BY f.name')
-      .all() as { name: string; n: number }[]) {
-      resultsByFile[row.name] = row.n;
-    }
-    const one = (sql: string) => (db.prepare(sql).get() as { n: number }).n;
-    return {
-      integrity,
-      files,
-      resultsByFile,
-      results: one('SELECT COUNT(*) AS n FROM results'),
-      ropes: one('SELECT COUNT(*) AS n FROM ropes'),
-      rejectedRows: one('SELECT COUNT(*) AS n FROM rejected_rows'),
-    };
+    if (!tables.has('files')) return { integrity, ...EMPTY_LOOK };
+    return { integrity, ...storeContents(<Row>(sql: string) => db.prepare(sql).all() as Row[]) };
   } finally {
     db.close();
   }
@@ -216,13 +241,14 @@ export function processWorkspace(root: string, name: string) {
   const dir = path.join(root, name);
   const paths = {
     config: path.join(dir, 'config'),
-    db: path.join(dir, 'data', 'store.db'),
+    // A SQLite file, or on the PostgreSQL run a new database (test/helpers/testStore.ts).
+    db: testStoreLocation(path.join(dir, 'data', 'store.db'), name).location,
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   };
   fs.cpSync(path.join(REPO_ROOT, 'src', 'demo', 'config'), paths.config, { recursive: true });
   fs.mkdirSync(paths.inbox, { recursive: true });
-  new Store(paths.db).close();
+  openStore(parseStoreLocation(paths.db)).close();
   const flags = ['--config', paths.config, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
   return { dir, paths, flags };
 }

@@ -5,6 +5,10 @@
  * (test/helpers/pgServer.ts) instead of a SQLite file.
  */
 import { inject } from 'vitest';
+import type { StoreBackend } from '../../src/domain/store.js';
+import { parseStoreLocation } from '../../src/store/location.js';
+import type { StoreOptions } from '../../src/store/open.js';
+import { openStore } from '../../src/store/openStore.js';
 import { SyncConnection } from '../../src/store/pg/syncConnection.js';
 import { withDatabase } from './pgServerStart.js';
 
@@ -54,4 +58,28 @@ export function freshDatabaseSync(label = 'store'): TestStoreLocation & { name: 
 export function testStoreLocation(sqliteFile: string, label = 'store'): TestStoreLocation {
   if (testBackend() === 'sqlite') return { location: sqliteFile, drop: () => {} };
   return freshDatabaseSync(label);
+}
+
+/**
+ * Tests of SQLite itself (its numbered migrations from older SQLite stores, its pragmas, its query
+ * plans): defined on the SQLite run only. No PostgreSQL store was ever at those versions; the
+ * PostgreSQL schema has its own tests (test/store/pg).
+ */
+export function sqliteOnly(define: () => void): void {
+  if (testBackend() === 'sqlite') define();
+}
+
+/**
+ * A store of its own for one test, on the test backend: SQLite at `sqliteFile` (in memory by
+ * default), or a new PostgreSQL database that is dropped when the store is closed.
+ */
+export function openTestStore(sqliteFile = ':memory:', options: StoreOptions = {}): StoreBackend {
+  const place = testStoreLocation(sqliteFile, 'own');
+  const store = openStore(parseStoreLocation(place.location), options);
+  const close = store.close.bind(store);
+  store.close = () => {
+    close();
+    place.drop();
+  };
+  return store;
 }

@@ -13,7 +13,10 @@ import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { processFile, type ProcessOutcome } from '../../src/pipeline.js';
 import { Store } from '../../src/store/store.js';
+import { parseStoreLocation } from '../../src/store/location.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
+import { storeSql, type StoreSql } from './storeSql.js';
+import { testStoreLocation } from './testStore.js';
 
 export const FIXED_NOW = new Date('2026-12-01T12:00:00Z');
 
@@ -26,6 +29,12 @@ export interface TestWorkspaceOptions {
 
 /** A test workspace's paths, with its SQLite store's file (tests look into it). */
 export type SqlitePaths = WorkspacePaths & { dbFile: string };
+
+/**
+ * A test workspace's paths: `db` is what --db takes (the SQLite file, or on the PostgreSQL run
+ * the database's URL); `dbFile` is where a SQLite store's file would be.
+ */
+export type TestPaths = SqlitePaths & { db: string };
 
 /** A workspace on a SQLite store, whose connection tests may query. */
 export type SqliteWorkspace = Workspace & { store: Store };
@@ -58,12 +67,14 @@ export function openSqliteWorkspace(
 
 export interface TestWorkspace {
   root: string;
-  paths: SqlitePaths;
+  paths: TestPaths;
   /** --config/--db/--inbox/--outbox flags for the CLI. */
   cliFlags: string[];
   config: () => Config;
   /** The open workspace (opened on first use; `closeStore` closes it so the CLI can run alone). */
-  ws: () => SqliteWorkspace;
+  ws: () => Workspace;
+  /** Plain SQL on the workspace's store, on either backend. */
+  sql: () => StoreSql;
   /** Writes `bytes` as inbox/<name> and runs it through processFile. */
   drop: (name: string, bytes: Buffer | string) => Promise<ProcessOutcome>;
   closeStore: () => void;
@@ -73,7 +84,10 @@ export interface TestWorkspace {
 
 export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-test-'));
-  const paths = sqlitePaths(root);
+  const sqlite = sqlitePaths(root);
+  // On the PostgreSQL run the store is a new database; dbFile then names no file.
+  const store = testStoreLocation(sqlite.dbFile, 'ws');
+  const paths: TestPaths = { ...sqlite, storeLocation: parseStoreLocation(store.location), db: store.location };
   fs.cpSync(options.configFrom ?? DEMO_CONFIG_DIR, paths.configDir, { recursive: true });
   for (const [name, text] of Object.entries(options.configFiles ?? {})) {
     fs.mkdirSync(path.dirname(path.join(paths.configDir, name)), { recursive: true });
@@ -81,9 +95,9 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
   }
   fs.mkdirSync(paths.inbox, { recursive: true });
   fs.mkdirSync(paths.outbox, { recursive: true });
-  let open: SqliteWorkspace | undefined;
+  let open: Workspace | undefined;
   const ws = () =>
-    (open ??= openSqliteWorkspace(
+    (open ??= openWorkspace(
       paths,
       () => FIXED_NOW,
       () => {},
@@ -95,7 +109,7 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
   return {
     root,
     paths,
-    cliFlags: ['--config', paths.configDir, '--db', paths.dbFile, '--inbox', paths.inbox, '--outbox', paths.outbox],
+    cliFlags: ['--config', paths.configDir, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox],
     config: () => (open ? open.config : loadConfig(paths.configDir)),
     ws,
     drop: async (name, bytes) => {
@@ -105,8 +119,10 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
       return processFile(workspace, file);
     },
     closeStore,
+    sql: () => storeSql(ws().store),
     cleanup: () => {
       closeStore();
+      store.drop();
       fs.rmSync(root, { recursive: true, force: true });
     },
   };

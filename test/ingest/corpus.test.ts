@@ -13,7 +13,7 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
-import { Store } from '../../src/store/store.js';
+import { openTestStore } from '../helpers/testStore.js';
 
 const CORPUS = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../fixtures/exports');
 const config = loadConfig(path.join(CORPUS, 'config'));
@@ -48,7 +48,7 @@ describe('hostile-input corpus', () => {
       fs.readFileSync(path.join(CORPUS, `${name.replace(/\.[^.]+$/, '')}.expected.json`), 'utf8'),
     ) as Expected;
     it(`${name} (${thread}): ${expected.status === 'accepted' ? `accepted with ${expected.rows} rows and ${expected.rejected.length} refused` : `refused as ${expected.code}`}`, async () => {
-      const store = new Store(':memory:');
+      const store = openTestStore();
       try {
         const receipt = await ingestFile(path.join(CORPUS, name), {
           config,

@@ -18,7 +18,8 @@ import { ingestFile } from '../../src/ingest/ingestFile.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
 import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
 import { receiptText } from '../../src/pipeline.js';
-import { Store } from '../../src/store/store.js';
+import { storeSql } from '../helpers/storeSql.js';
+import { openTestStore } from '../helpers/testStore.js';
 
 const CORPUS = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../fixtures/exports');
 const config = loadConfig(path.join(CORPUS, 'config'));
@@ -198,7 +199,7 @@ describe('the state of a report', () => {
 describe('the receipt of a German export', () => {
   for (const thread of ['main thread', 'parse worker'] as const) {
     it(`names the rows read as invalid and why, and every call that disagrees, with both readings (${thread})`, async () => {
-      const store = new Store(':memory:');
+      const store = openTestStore();
       try {
         const receipt = await ingestFile(path.join(CORPUS, 'atd_befund-words.csv'), {
           config,
@@ -231,11 +232,9 @@ describe('the receipt of a German export', () => {
           'line 4, AU-3 PRRSV: internal control failed ("ungültig" in "IK ungültig"): retest, not a negative',
         );
         expect(text).toContain('line 7, AU-6 PRRSV: lab "negativ" (negative), ropewatch suspect from "36,5"');
-        const stored = store.db
-          .prepare(
-            'SELECT s.sample_id AS id, r.class, r.status_kind AS status, r.lab_call_class AS call FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line',
-          )
-          .all();
+        const stored = storeSql(store).all(
+          'SELECT s.sample_id AS id, r.class, r.status_kind AS status, r.lab_call_class AS "call" FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line',
+        );
         expect(stored).toEqual([
           { id: 'AU-1', class: 'positive', status: 'final', call: 'positive' },
           { id: 'AU-2', class: 'negative', status: 'final', call: 'negative' },

@@ -115,9 +115,7 @@ describe('a mistyped planned ID through the pipeline', () => {
     );
     // Stored with the refused row, for the pages.
     expect(
-      store.db
-        .prepare('SELECT line, value, suggested_id AS suggestedId, candidate_ids AS candidates FROM rejected_rows')
-        .all(),
+      ws.sql().all('SELECT line, value, suggested_id AS "suggestedId", candidate_ids AS candidates FROM rejected_rows'),
     ).toEqual([{ line: 3, value: written, suggestedId: meant, candidates: `${meant} ${ids[2]}` }]);
     // (The pipeline adds its own next-round plan beside this one: only these IDs are looked at.)
     const waiting = (ropes: readonly PlannedRope[]) =>
@@ -148,9 +146,7 @@ describe('a mistyped planned ID through the pipeline', () => {
       ct: 27.4,
     });
     expect(
-      rescued.db
-        .prepare('SELECT sample_id_as_written AS written FROM results WHERE sample_id_as_written IS NOT NULL')
-        .all(),
+      ws.sql().all('SELECT sample_id_as_written AS written FROM results WHERE sample_id_as_written IS NOT NULL'),
     ).toEqual([{ written }]);
     // The refusal stays on record (nothing lost), once; the file keeps one record with its rows counted once.
     expect(rescued.counts()).toMatchObject({ files: 1, results: 3, rejectedRows: 1 });

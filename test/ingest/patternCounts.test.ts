@@ -26,20 +26,15 @@ function expectCountsAddUp(receipt: Receipt, dataRows: number): void {
 /** Results in the store that no rope places: none may be left behind. */
 function unplacedResults(ws: TestWorkspace): number {
   return ws
-    .ws()
-    .store.db.prepare(
-      'SELECT COUNT(*) FROM results r WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = r.sample)',
-    )
-    .pluck()
-    .get() as number;
+    .sql()
+    .get<{ n: number }>('SELECT COUNT(*) AS n FROM results r WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = r.sample)')!.n;
 }
 
 const storedSampleIds = (ws: TestWorkspace) =>
   ws
-    .ws()
-    .store.db.prepare('SELECT DISTINCT s.sample_id FROM results r JOIN samples s ON s.id = r.sample ORDER BY 1')
-    .pluck()
-    .all() as string[];
+    .sql()
+    .all<{ id: string }>('SELECT DISTINCT s.sample_id AS id FROM results r JOIN samples s ON s.id = r.sample ORDER BY 1')
+    .map((row) => row.id);
 
 describe('location-coded sample IDs naming one pen twice on one day', () => {
   it('stores and places the first, refuses the second without storing it: 1 stored, 1 refused for 2 rows', async () => {

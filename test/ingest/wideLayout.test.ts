@@ -15,8 +15,8 @@ import { ConfigError, loadConfig } from '../../src/config/load.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { IngestError } from '../../src/ingest/errors.js';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
-import { Store } from '../../src/store/store.js';
 import { workspacesPerTest, type TestWorkspace } from '../helpers/workspace.js';
+import { openTestStore } from '../helpers/testStore.js';
 
 const workspace = workspacesPerTest();
 
@@ -68,11 +68,10 @@ async function workbook(rows: readonly (readonly (string | number)[])[]): Promis
 type Stored = { id: string; line: number; assay: string; labAssay: string; ct: number | null; class: string };
 const stored = (ws: TestWorkspace): Stored[] =>
   ws
-    .ws()
-    .store.db.prepare(
-      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.lab_assay AS labAssay, r.ct, r.class FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
-    )
-    .all() as Stored[];
+    .sql()
+    .all<Stored>(
+      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.lab_assay AS "labAssay", r.ct, r.class FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
+    );
 
 const EXPECTED: Stored[] = [
   { id: 'WD-1', line: 2, assay: 'IAV', labAssay: 'IAV Ct', ct: null, class: 'negative' },
@@ -121,7 +120,7 @@ describe('a wide export read through a lab profile with layout: wide', () => {
     fs.writeFileSync(file, csv(ROWS));
     const outcomes = [];
     for (const parseInWorkerFromBytes of [Number.POSITIVE_INFINITY, 0]) {
-      const store = new Store(':memory:');
+      const store = openTestStore();
       try {
         const receipt = await ingestFile(file, {
           config: ws.config(),

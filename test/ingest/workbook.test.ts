@@ -60,11 +60,10 @@ type Stored = {
 };
 const stored = (ws: TestWorkspace): Stored[] =>
   ws
-    .ws()
-    .store.db.prepare(
+    .sql()
+    .all<Stored>(
       'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.ct, r.class, r.collected_on AS collected, r.reported_on AS reported FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
-    )
-    .all() as Stored[];
+    );
 
 describe('a lab workbook read through its lab profile', () => {
   it('reads the sheet and header row the profile names: sheet row numbers as lines, refusals naming the column, values as the lab wrote them', async () => {

@@ -11,30 +11,34 @@ import { describe, expect, it } from 'vitest';
 import { northfieldExport } from '../../src/demo/scenario.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from '../../src/store/migrations.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
+import { sqliteStore } from '../helpers/storeSql.js';
+import { sqliteOnly } from '../helpers/testStore.js';
 
 const workspace = workspacesPerTest();
 
 describe('pooled ropes in the store', () => {
-  it('migrates a version-5 store: its ropes read as tested on their own', () => {
-    const ws = workspace();
-    fs.mkdirSync(path.dirname(ws.paths.dbFile), { recursive: true });
-    const v5 = new Database(ws.paths.dbFile);
-    for (const [name, fn] of Object.entries(MIGRATION_FUNCTIONS)) v5.function(name, { deterministic: true }, fn);
-    for (const migration of MIGRATIONS.slice(0, 5)) v5.exec(migration.sql);
-    v5.pragma('user_version = 5');
-    v5.prepare(
-      "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'ropes.csv', 'a', 'ropes', '2026-08-04T00:00:00Z', 'accepted', 1)",
-    ).run();
-    v5.prepare("INSERT INTO samples (id, sample_id) VALUES (1, 'S1')").run();
-    v5.prepare(
-      "INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line) VALUES (1, 'hollow-creek', 'F1', 'A1', '2026-08-03', 'sheet', 1, 2)",
-    ).run();
-    v5.close();
-    const store = ws.ws().store;
-    expect(store.db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
-    expect(store.db.pragma('integrity_check', { simple: true })).toBe('ok');
-    expect(store.ropes()).toEqual([expect.objectContaining({ sampleId: 'S1', penId: 'A1', poolId: null })]);
-    expect(store.db.pragma('foreign_key_check')).toEqual([]);
+  sqliteOnly(() => {
+    it('migrates a version-5 store: its ropes read as tested on their own', () => {
+      const ws = workspace();
+      fs.mkdirSync(path.dirname(ws.paths.dbFile), { recursive: true });
+      const v5 = new Database(ws.paths.dbFile);
+      for (const [name, fn] of Object.entries(MIGRATION_FUNCTIONS)) v5.function(name, { deterministic: true }, fn);
+      for (const migration of MIGRATIONS.slice(0, 5)) v5.exec(migration.sql);
+      v5.pragma('user_version = 5');
+      v5.prepare(
+        "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'ropes.csv', 'a', 'ropes', '2026-08-04T00:00:00Z', 'accepted', 1)",
+      ).run();
+      v5.prepare("INSERT INTO samples (id, sample_id) VALUES (1, 'S1')").run();
+      v5.prepare(
+        "INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line) VALUES (1, 'hollow-creek', 'F1', 'A1', '2026-08-03', 'sheet', 1, 2)",
+      ).run();
+      v5.close();
+      const store = sqliteStore(ws.ws().store);
+      expect(store.db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
+      expect(store.db.pragma('integrity_check', { simple: true })).toBe('ok');
+      expect(store.ropes()).toEqual([expect.objectContaining({ sampleId: 'S1', penId: 'A1', poolId: null })]);
+      expect(store.db.pragma('foreign_key_check')).toEqual([]);
+    });
   });
 
   it('counts a planned pooled rope as hung when its pool reports, and no rope twice when a sheet names the pool', async () => {

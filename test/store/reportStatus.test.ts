@@ -179,11 +179,11 @@ describe('reports through the pipeline', () => {
     ]);
     // What the summary page needs, queryable in one view: old and new readings and report dates.
     expect(
-      store.db
-        .prepare(
+      ws
+        .sql()
+        .all(
           'SELECT sample_id, kind, old_class, old_ct_raw, old_reported_on, new_class, new_ct, new_reported_on, new_status_kind, new_status_word FROM supersession_readings',
-        )
-        .all(),
+        ),
     ).toEqual([
       {
         sample_id: 'AU-9',

@@ -12,6 +12,7 @@ import { describe, expect, it } from 'vitest';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from '../../src/store/migrations.js';
 import { prepareRowStatements } from '../../src/store/rowStatements.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
+import { sqliteStore } from '../helpers/storeSql.js';
 
 const workspace = workspacesPerTest();
 
@@ -52,7 +53,7 @@ describe('migration 8: the results CHECKs as equalities', () => {
     const readings = readAll(before, 'SELECT * FROM supersession_readings');
     before.close();
 
-    const { db } = ws.ws().store;
+    const { db } = sqliteStore(ws.ws().store);
     expect(db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
     expect(MIGRATIONS.length).toBeGreaterThanOrEqual(8);
     expect(db.pragma('integrity_check', { simple: true })).toBe('ok');
@@ -76,7 +77,7 @@ describe('migration 8: the results CHECKs as equalities', () => {
 
   it('refuses, by CHECK, the words the lists did not hold, and lets NULL through where the column allows it', () => {
     const ws = workspace();
-    const { db } = ws.ws().store;
+    const { db } = sqliteStore(ws.ws().store);
     db.exec(`INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'f.csv', 'a', 'results', 'x', 'accepted', 1);
              INSERT INTO samples (id, sample_id) VALUES (1, 'S1'); INSERT INTO reasons (id, text) VALUES (1, 'r');`);
     let key = 0;
@@ -102,7 +103,7 @@ describe('migration 8: the results CHECKs as equalities', () => {
 
   it('stores a result without opening a temporary table (no OpenEphemeral in the insert)', () => {
     const ws = workspace();
-    const { db } = ws.ws().store;
+    const { db } = sqliteStore(ws.ws().store);
     const { insertResult } = prepareRowStatements(db);
     const program = db.prepare(`EXPLAIN ${insertResult.source}`).all(...Array<null>(30).fill(null)) as {
       opcode: string;

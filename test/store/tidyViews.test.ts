@@ -20,6 +20,7 @@ import { readTidyView, replaceSiteFacts } from '../../src/store/tidyFacts.js';
 import { freshDatabase, type TestDatabase } from '../helpers/pgServer.js';
 import { runCli } from '../helpers/runCli.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
+import { sqliteStore } from '../helpers/storeSql.js';
 
 const workspace = workspacesPerTest();
 
@@ -51,7 +52,7 @@ describe('the tidy views of the store', () => {
   it('migrate a version-6 store and join results to pens and rounds, one row per result and pen', () => {
     const ws = workspace();
     version6Store(ws.paths.dbFile);
-    const { db } = ws.ws().store;
+    const { db } = sqliteStore(ws.ws().store);
     expect(db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
     expect(db.pragma('foreign_key_check')).toEqual([]);
     // Before any outputs were built, no rope has a round: the view is empty, not wrong.
