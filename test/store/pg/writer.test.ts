@@ -16,6 +16,8 @@ import type { Config } from '../../../src/config/types.js';
 import { FileAlreadyStoredError, type StoreBackend } from '../../../src/domain/store.js';
 import { ingestFile, type Receipt } from '../../../src/ingest/ingestFile.js';
 import { ingestRules } from '../../../src/ingest/rowRules.js';
+import { formatSampleId } from '../../../src/plan/sampleId.js';
+import type { PlannedRope } from '../../../src/domain/records.js';
 import { parseStoreLocation } from '../../../src/store/location.js';
 import { openStoreSide, storeDigests, type CopiedTableReport } from '../../../src/store/pg/copyStore.js';
 import { openPgStore } from '../../../src/store/pg/store.js';
@@ -26,6 +28,9 @@ import { runCli } from '../../helpers/runCli.js';
 const HERE = path.dirname(fileURLToPath(import.meta.url));
 const CORPUS = path.resolve(HERE, '../../fixtures/exports');
 const NOW = new Date('2026-12-01T12:00:00Z');
+/** The header of the corpus lab's exports (test/fixtures/exports/nvdl_*.csv). */
+const HEADER =
+  'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
 
 let dir: string;
 const databases: TestDatabase[] = [];
@@ -115,13 +120,64 @@ describe('PostgreSQL writer: the same files give the SQLite store`s rows (the re
   }, 300_000);
 });
 
+describe('PostgreSQL writer: a plan, a refused mistyped ID and its correction, as the SQLite store stores them', () => {
+  it('gives equal receipts and digests when a file is read again for the row a confirmed correction covers', async () => {
+    const config = loadConfig(path.join(CORPUS, 'config'));
+    const ids = [11, 12, 13].map((sequence) => formatSampleId({ siteCode: 'HCF', round: 3, sequence }));
+    const meant = ids[1]!;
+    const written = meant.replace('-012', '-013');
+    const plan: PlannedRope[] = ids.map((sampleId, index) => ({
+      sampleId,
+      siteId: 'hollow-creek',
+      barnId: 'F1',
+      penId: `A${index + 1}`,
+      side: 'A',
+      reason: 'routine',
+      dueOn: '2026-08-31',
+      plannedAt: '2026-08-20',
+      afterRound: 2,
+    }));
+    const line = (sample: string, ct: string, call: string) =>
+      `NV26-1,${sample},PRRSV NA/EU RT-PCR,${ct},${call},PASS,2026-08-31,2026-09-02,Final`;
+    const file = path.join(dir, 'nvdl_results_2026-09-02.csv');
+    fs.writeFileSync(
+      file,
+      `${[HEADER, line(ids[0]!, 'Undetermined', 'Negative'), line(written, '27.40', 'Positive'), line(ids[2]!, 'Undetermined', 'Negative')].join('\n')}\n`,
+    );
+    const corrected: Config = {
+      ...config,
+      corrections: [{ written, meant, file: 'nvdl_results_2026-09-02.csv', line: 3, note: undefined }],
+    };
+    // As test/ingest/mistypedId.test.ts walks it: the plan, the file (line 3 refused), the same
+    // bytes once a person confirmed the ID meant (read again: the row goes in, nothing twice).
+    const walk = async (store: StoreBackend): Promise<Receipt[]> => {
+      store.replacePlan('hollow-creek', 2, plan);
+      const first = await ingestFile(file, { config, store, now: () => NOW });
+      const again = await ingestFile(file, { config: corrected, store, now: () => NOW });
+      store.markOutputsBuilt('outbox', 'hollow-creek', store.siteVersion('hollow-creek'), 'digest');
+      store.setMeta('walked', 'yes');
+      return [first, again];
+    };
+    const sqliteFile = path.join(dir, 'corrected.db');
+    const sqliteStore = new Store(sqliteFile);
+    const expected = await walk(sqliteStore).finally(() => sqliteStore.close());
+    const db = await database('corrected');
+    const pgStore = openPgStore(db.url);
+    const got = await walk(pgStore).finally(() => pgStore.close());
+    expect(expected.map((r) => [r.status, r.rows.accepted, r.rows.rejected])).toEqual([
+      ['accepted', 2, 1],
+      ['accepted', 1, 0],
+    ]);
+    expect(got).toEqual(expected);
+    expect(digestsOf(db.url)).toEqual(digestsOf(sqliteFile));
+  }, 120_000);
+});
+
 // ---- One server, several writers ----------------------------------------------------------------
 
 const CORPUS_CONFIG = path.join(CORPUS, 'config');
 /** How long the second writer holds its transaction open: long enough for this one to run into it on a loaded machine. */
 const HOLD_MS = 6000;
-const HEADER =
-  'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
 
 /** A results export (the corpus lab's layout) of pattern-coded ropes in pens `from`..`to` of barn N1. */
 function export_(name: string, from: number, to: number, caseNo: string, ct: string, reportedOn: string): string {
