@@ -22,9 +22,26 @@ export async function withConflictRetry<T>(
     try {
       return await attempt(n, lockSites);
     } catch (error) {
-      if (!(error instanceof StoreConflictError) || n >= STORE_ATTEMPTS) throw error;
+      lockSites = afterConflict(error, n, lockSites);
       reset();
-      lockSites = [...new Set([...lockSites, ...error.sites])].sort();
     }
   }
+}
+
+/** withConflictRetry for a synchronous attempt (an HL7 unit is stored in one call). */
+export function withConflictRetrySync<T>(attempt: (n: number, lockSites: readonly string[]) => T): T {
+  let lockSites: string[] = [];
+  for (let n = 1; ; n++) {
+    try {
+      return attempt(n, lockSites);
+    } catch (error) {
+      lockSites = afterConflict(error, n, lockSites);
+    }
+  }
+}
+
+/** The sites the next attempt locks; re-throws `error` unless it is a conflict with attempts left. */
+function afterConflict(error: unknown, attempt: number, lockSites: readonly string[]): string[] {
+  if (!(error instanceof StoreConflictError) || attempt >= STORE_ATTEMPTS) throw error;
+  return [...new Set([...lockSites, ...error.sites])].sort();
 }
