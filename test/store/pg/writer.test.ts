@@ -311,6 +311,28 @@ describe('PostgreSQL writer: files, rollbacks and writers racing on one server',
         reference.currentResults().map((r) => [r.sampleId, r.id]),
       );
       expect(store.files().map((f) => [f.id, f.name])).toEqual(reference.files().map((f) => [f.id, f.name]));
+      // Closed with a file open: the file is rolled back (as the SQLite store's close).
+      const stored = store.counts();
+      store.beginFile(
+        {
+          name: 'open.csv',
+          sha256: 'open-at-close',
+          kind: 'results',
+          labId: 'northfield',
+          receivedAt: NOW.toISOString(),
+          encodingNote: 'utf-8',
+          byteLength: 1,
+        },
+        ingestRules,
+      );
+      store.close();
+      const reopened = openPgStore(db.url);
+      try {
+        expect(reopened.counts()).toEqual(stored);
+        expect(reopened.findFileByHash('open-at-close')).toBeUndefined();
+      } finally {
+        reopened.close();
+      }
     } finally {
       store.close();
       reference.close();
