@@ -14,6 +14,7 @@ import { emptyReceipt, type Receipt } from '../ingest/receipt.js';
 import { rowRejection, type RowRejection } from '../ingest/errors.js';
 import type { StoredFile } from '../domain/records.js';
 import { FileAlreadyStoredError, RECEIPT_LIST_LIMIT, type StoreBackend } from '../domain/store.js';
+import { withConflictRetrySync } from '../ingest/conflictRetry.js';
 import { ingestRules } from '../ingest/rowRules.js';
 import { type AckCode, type AckError, messageRefusalAck } from './ack.js';
 import { fieldName, Hl7Error, type Hl7Location } from './hl7Error.js';
@@ -214,11 +215,20 @@ export function receiveHl7(
     return { receipt, outcomes: read.map((entry) => entry.outcome) };
   }
 
-  return storeInOneTransaction(
-    { name, sha256, receivedAt, bytes, labId: firstLab, read, fresh, isRepeat },
-    receipt,
-    deps,
-  );
+  // Stored again, from the receipt and outcomes as they were, when another process stored rows
+  // it meets first (src/ingest/conflictRetry.ts).
+  const before = {
+    receipt: structuredClone(receipt),
+    outcomes: read.map(({ outcome }) => ({ ...outcome, errors: [...outcome.errors] })),
+  };
+  return withConflictRetrySync((attempt, lockSites) => {
+    if (attempt > 1)
+      read.forEach((entry, i) =>
+        Object.assign(entry.outcome, before.outcomes[i], { errors: [...before.outcomes[i]!.errors] }),
+      );
+    const unit = { name, sha256, receivedAt, bytes, labId: firstLab, read, fresh, isRepeat, lockSites };
+    return storeInOneTransaction(unit, attempt === 1 ? receipt : structuredClone(before.receipt), deps);
+  });
 }
 
 /** What receiveHl7 read before the store, handed to the transaction. */
@@ -231,6 +241,8 @@ interface ReadUnit {
   read: ReadMessage[];
   fresh: ReadMessage[];
   isRepeat: (entry: ReadMessage) => boolean;
+  /** Sites an earlier attempt touched before another process stored rows it met (locked first). */
+  lockSites: readonly string[];
 }
 
 /** The one transaction: every new message's rows and refusals, the messages refused whole as refusals of the file. */
@@ -249,6 +261,7 @@ function storeInOneTransaction(unit: ReadUnit, receipt: Receipt, deps: ReceiveDe
         byteLength: bytes.length,
       },
       ingestRules,
+      { lockSites: unit.lockSites },
     );
   } catch (error) {
     if (error instanceof FileAlreadyStoredError) return repeatOfFile(receipt, error.known, bytes, deps.store);
