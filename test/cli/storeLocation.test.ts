@@ -53,6 +53,33 @@ function dropFiles(ws: TestWorkspace): string[] {
   return ['ropes.csv', 'nvdl_r.csv'].map((name) => path.join(ws.paths.inbox, name));
 }
 
+/** Runs `watch` on the workspace's two files until both are accepted and their site has outputs; returns what it wrote. */
+async function watchBothFiles(ws: TestWorkspace, flags: string[], env: Record<string, string>): Promise<string> {
+  dropFiles(ws);
+  let stop!: () => void;
+  const stopSignal = new Promise<void>((resolve) => (stop = resolve));
+  let out = '';
+  const running = runCli(['watch', '--stable-ms', '50', ...flags], {
+    env,
+    stopSignal,
+    stdout: (text) => (out += text),
+    stderr: (text) => (out += text),
+  });
+  const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
+  const deadline = Date.now() + 60_000;
+  try {
+    while ((out.match(/ accepted /g) ?? []).length < 2 || !fs.existsSync(siteDir)) {
+      if (Date.now() > deadline) throw new Error(`timed out waiting for both files\n${out}`);
+      await new Promise((resolve) => setTimeout(resolve, 50));
+    }
+  } finally {
+    stop();
+  }
+  const run = await running;
+  expect(run.code, out).toBe(0);
+  return out;
+}
+
 /** A TCP port on this machine that nothing listens on (the system hands out a free one, then it is closed). */
 async function closedPort(): Promise<number> {
   return new Promise((resolve) => {
@@ -159,4 +186,23 @@ describe('every workspace command on a PostgreSQL store', () => {
     expect(Object.keys(outputs).some((file) => file.endsWith('summary.csv'))).toBe(true);
     expect(treeHashes(onPg.paths.outbox, ['receipts', '.alert-delivery.json'])).toEqual(outputs);
   }, 300_000);
+
+  it('watches the inbox into the PostgreSQL store named by ROPEWATCH_DB, as into a SQLite store', async () => {
+    const onSqlite = workspace();
+    const onPg = workspace();
+    const db = await freshDatabase('watch');
+    try {
+      const want = await watchBothFiles(onSqlite, onSqlite.cliFlags, {});
+      const got = await watchBothFiles(onPg, flagsWithoutDb(onPg), { ROPEWATCH_DB: db.url });
+      expect(got.replaceAll(onPg.root, '<root>')).toBe(want.replaceAll(onSqlite.root, '<root>'));
+      expect(got).not.toContain('test-only-password');
+      expect(treeHashes(onPg.paths.outbox, ['receipts', '.alert-delivery.json'])).toEqual(
+        treeHashes(onSqlite.paths.outbox, ['receipts']),
+      );
+      const status = await runCli(['status', '--json', ...flagsWithoutDb(onPg)], { env: { ROPEWATCH_DB: db.url } });
+      expect(JSON.parse(status.stdout)).toMatchObject({ files: 2, results: 3, ropes: 3 });
+    } finally {
+      await db.drop();
+    }
+  }, 120_000);
 });
