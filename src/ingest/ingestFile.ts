@@ -12,6 +12,7 @@ import { CORRECTIONS_FILE } from '../config/load.js';
 import type { Config, SampleIdCorrection } from '../config/types.js';
 import type { PlannedRope, StoredFile } from '../domain/records.js';
 import { FileAlreadyStoredError, type StoreBackend } from '../domain/store.js';
+import { withConflictRetry } from './conflictRetry.js';
 import { RecordTooLongError, UnclosedQuoteError } from './csvRecords.js';
 import { EncodingError } from './decode.js';
 import { IngestError, REJECTION_CODES, type RowRejection } from './errors.js';
@@ -124,7 +125,15 @@ async function ingestWith(file: string, deps: IngestDeps, worker: ParseWorker | 
   receipt.kind = input.kind.kind;
   receipt.lab = input.kind.kind === 'results' ? input.kind.lab.id : null;
   receipt.encoding = input.sniffed.note;
-  return storeFile(inHand, input, earlier, worker);
+  // Stored again from the start, with a fresh receipt, when another process stored rows it meets
+  // first (conflictRetry.ts); a parse worker reads a file once, so a later attempt reads here.
+  const before = structuredClone(receipt);
+  return withConflictRetry(
+    (attempt, lockSites) => storeFile(inHand, input, earlier, attempt === 1 ? worker : undefined, lockSites),
+    () => {
+      inHand.receipt = structuredClone(before);
+    },
+  );
 }
 
 /** The receipt of a file that cannot be read at all (nothing recorded: there are no bytes to keep). */
@@ -319,6 +328,7 @@ async function storeFile(
   input: InputKind,
   earlier: EarlierCopy,
   worker: ParseWorker | undefined,
+  lockSites: readonly string[],
 ): Promise<Receipt> {
   const { deps, name, receipt, hashed } = inHand;
   const { kind } = input;
@@ -335,7 +345,7 @@ async function storeFile(
         byteLength: hashed.size,
       },
       ingestRules,
-      earlier.reopen === undefined ? {} : { reopen: earlier.reopen },
+      earlier.reopen === undefined ? { lockSites } : { reopen: earlier.reopen, lockSites },
     );
   } catch (error) {
     // Another process stored the same bytes while this one waited for the write lock.

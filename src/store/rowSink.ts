@@ -13,7 +13,8 @@ import type { EarlierReport, SupersessionLink } from '../domain/store.js';
 /** A sample as the store holds it, with its rope if it hangs in a pen. */
 export interface StoredSample {
   id: number;
-  hasResults: boolean;
+  /** Whether results are stored for it (SQLite gives 1 or 0, as its query returns it: no copy per sample). */
+  hasResults: boolean | 0 | 1;
   siteId: string | null;
   barnId: string | null;
   penId: string | null;

@@ -95,7 +95,7 @@ export class RowWriter {
     this.lastSampleWasNew = created !== undefined;
     const sample: SampleInFile = {
       key: created ?? stored!.id,
-      hadResults: stored?.hasResults === true,
+      hadResults: stored !== undefined && (stored.hasResults === true || stored.hasResults === 1),
       reported: [],
       ropedAt: stored?.siteId == null ? undefined : locationKey(stored as RopeLocation),
       ropeSiteId: stored?.siteId ?? undefined,

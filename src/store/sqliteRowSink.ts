@@ -21,11 +21,7 @@ export class SqliteRowSink implements RowSink {
   endBatch(): void {}
 
   findSample(sampleId: string): StoredSample | undefined {
-    const row = this.statements.sampleByText.get(sampleId) as
-      | (Omit<StoredSample, 'hasResults'> & { hasResults: number })
-      | undefined;
-    if (row === undefined) return undefined;
-    return { ...row, hasResults: row.hasResults === 1 };
+    return this.statements.sampleByText.get(sampleId) as StoredSample | undefined;
   }
 
   createSample(sampleId: string): number | undefined {

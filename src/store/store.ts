@@ -19,6 +19,7 @@ import type {
 } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
 import type {
+  BeginFileOptions,
   FileToStore,
   InsertCounts,
   OpenFileEffects,
@@ -87,7 +88,7 @@ export class Store implements StoreBackend {
   get fileOpen(): boolean {
     return this.writer.fileOpen;
   }
-  beginFile(file: FileToStore, rules: RowRules, options: { reopen?: number } = {}): number {
+  beginFile(file: FileToStore, rules: RowRules, options: BeginFileOptions = {}): number {
     return this.writer.beginFile(file, rules, options);
   }
   insertResults(fileId: number, rows: RowList<ResultRow>, sampleIdField?: string): InsertCounts {

@@ -10,6 +10,7 @@ import type Database from 'better-sqlite3';
 import type { PlannedRope, ResultRow, RopeRow, RowList, StoredFile } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
 import {
+  type BeginFileOptions,
   FileAlreadyStoredError,
   StoreBusyError,
   RECEIPT_LIST_LIMIT,
@@ -51,9 +52,10 @@ export class SqliteWriter implements StoreWriter {
    * Bytes refused before take over their earlier record.
    * @throws FileAlreadyStoredError when, once the lock is held, the same bytes are found stored:
    *   another process committed them while this one waited on the lock (the transaction is
-   *   rolled back; the caller reports a duplicate).
+   *   rolled back; the caller reports a duplicate). `lockSites` asks nothing here: the write
+   *   lock serialises writers, so no other writer stores rows in between (no StoreConflictError).
    */
-  beginFile(file: FileToStore, rules: RowRules, options: { reopen?: number } = {}): number {
+  beginFile(file: FileToStore, rules: RowRules, options: BeginFileOptions = {}): number {
     if (this.inFile) throw new Error('a file transaction is already open');
     // Inside a file's transaction every parent row (file, sample, reason) is written before the
     // rows that name it, so SQLite's per-row foreign-key look-ups (a fifth of the cost of

@@ -5,6 +5,7 @@
  * in key order, ids included). Then what only a shared server has: a file stored twice, a
  * rollback, and writers racing (writerChild.ts holds a file's transaction open in another process).
  */
+import { spawn } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -12,8 +13,11 @@ import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../../src/config/load.js';
 import type { Config } from '../../../src/config/types.js';
-import type { StoreBackend } from '../../../src/domain/store.js';
+import { FileAlreadyStoredError, type StoreBackend } from '../../../src/domain/store.js';
 import { ingestFile, type Receipt } from '../../../src/ingest/ingestFile.js';
+import { ingestRules } from '../../../src/ingest/rowRules.js';
+import { formatSampleId } from '../../../src/plan/sampleId.js';
+import type { PlannedRope } from '../../../src/domain/records.js';
 import { parseStoreLocation } from '../../../src/store/location.js';
 import { openStoreSide, storeDigests, type CopiedTableReport } from '../../../src/store/pg/copyStore.js';
 import { openPgStore } from '../../../src/store/pg/store.js';
@@ -24,6 +28,9 @@ import { runCli } from '../../helpers/runCli.js';
 const HERE = path.dirname(fileURLToPath(import.meta.url));
 const CORPUS = path.resolve(HERE, '../../fixtures/exports');
 const NOW = new Date('2026-12-01T12:00:00Z');
+/** The header of the corpus lab's exports (test/fixtures/exports/nvdl_*.csv). */
+const HEADER =
+  'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
 
 let dir: string;
 const databases: TestDatabase[] = [];
@@ -111,4 +118,254 @@ describe('PostgreSQL writer: the same files give the SQLite store`s rows (the re
     expect(result.pg).toEqual(result.sqlite);
     expect(result.pgDigests).toEqual(result.sqliteDigests);
   }, 300_000);
+});
+
+describe('PostgreSQL writer: a plan, a refused mistyped ID and its correction, as the SQLite store stores them', () => {
+  it('gives equal receipts and digests when a file is read again for the row a confirmed correction covers', async () => {
+    const config = loadConfig(path.join(CORPUS, 'config'));
+    const ids = [11, 12, 13].map((sequence) => formatSampleId({ siteCode: 'HCF', round: 3, sequence }));
+    const meant = ids[1]!;
+    const written = meant.replace('-012', '-013');
+    const plan: PlannedRope[] = ids.map((sampleId, index) => ({
+      sampleId,
+      siteId: 'hollow-creek',
+      barnId: 'F1',
+      penId: `A${index + 1}`,
+      side: 'A',
+      reason: 'routine',
+      dueOn: '2026-08-31',
+      plannedAt: '2026-08-20',
+      afterRound: 2,
+    }));
+    const line = (sample: string, ct: string, call: string) =>
+      `NV26-1,${sample},PRRSV NA/EU RT-PCR,${ct},${call},PASS,2026-08-31,2026-09-02,Final`;
+    const file = path.join(dir, 'nvdl_results_2026-09-02.csv');
+    fs.writeFileSync(
+      file,
+      `${[HEADER, line(ids[0]!, 'Undetermined', 'Negative'), line(written, '27.40', 'Positive'), line(ids[2]!, 'Undetermined', 'Negative')].join('\n')}\n`,
+    );
+    const corrected: Config = {
+      ...config,
+      corrections: [{ written, meant, file: 'nvdl_results_2026-09-02.csv', line: 3, note: undefined }],
+    };
+    // As test/ingest/mistypedId.test.ts walks it: the plan, the file (line 3 refused), the same
+    // bytes once a person confirmed the ID meant (read again: the row goes in, nothing twice).
+    const walk = async (store: StoreBackend): Promise<Receipt[]> => {
+      store.replacePlan('hollow-creek', 2, plan);
+      const first = await ingestFile(file, { config, store, now: () => NOW });
+      const again = await ingestFile(file, { config: corrected, store, now: () => NOW });
+      store.markOutputsBuilt('outbox', 'hollow-creek', store.siteVersion('hollow-creek'), 'digest');
+      store.setMeta('walked', 'yes');
+      return [first, again];
+    };
+    const sqliteFile = path.join(dir, 'corrected.db');
+    const sqliteStore = new Store(sqliteFile);
+    const expected = await walk(sqliteStore).finally(() => sqliteStore.close());
+    const db = await database('corrected');
+    const pgStore = openPgStore(db.url);
+    const got = await walk(pgStore).finally(() => pgStore.close());
+    expect(expected.map((r) => [r.status, r.rows.accepted, r.rows.rejected])).toEqual([
+      ['accepted', 2, 1],
+      ['accepted', 1, 0],
+    ]);
+    expect(got).toEqual(expected);
+    expect(digestsOf(db.url)).toEqual(digestsOf(sqliteFile));
+  }, 120_000);
+});
+
+// ---- One server, several writers ----------------------------------------------------------------
+
+const CORPUS_CONFIG = path.join(CORPUS, 'config');
+/** How long the second writer holds its transaction open: long enough for this one to run into it on a loaded machine. */
+const HOLD_MS = 6000;
+
+/** A results export (the corpus lab's layout) of pattern-coded ropes in pens `from`..`to` of barn N1. */
+function export_(name: string, from: number, to: number, caseNo: string, ct: string, reportedOn: string): string {
+  const lines = [HEADER];
+  for (let pen = from; pen <= to; pen++) {
+    const id = `TR-N1-${String(pen).padStart(2, '0')}-20260805`;
+    lines.push(`${caseNo},${id},PRRSV NA/EU RT-PCR,${ct},Positive,PASS,2026-08-05,${reportedOn},Final`);
+  }
+  const file = path.join(dir, name);
+  fs.writeFileSync(file, `${lines.join('\n')}\n`);
+  return file;
+}
+
+/** The second writer (writerChild.ts), once it holds its file's transaction open: its receipt when it ends. */
+async function holdingWriter(url: string, file: string, holdMs: number): Promise<{ ended: Promise<Receipt> }> {
+  const child = spawn(
+    process.execPath,
+    ['--import', 'tsx', path.join(HERE, 'writerChild.ts'), url, CORPUS_CONFIG, file, String(holdMs), NOW.toISOString()],
+    { stdio: ['ignore', 'pipe', 'pipe'] },
+  );
+  let stdout = '';
+  let stderr = '';
+  child.stderr.on('data', (d) => (stderr += d));
+  const ended = new Promise<Receipt>((resolve, reject) =>
+    child.on('close', (code) => {
+      const last = stdout.trim().split('\n').at(-1) ?? '';
+      if (code === 0) resolve(JSON.parse(last) as Receipt);
+      else reject(new Error(`writerChild exited ${code}: ${stderr}`));
+    }),
+  );
+  await new Promise<void>((resolve, reject) => {
+    child.stdout.on('data', (d) => {
+      stdout += d;
+      if (stdout.includes('holding\n')) resolve();
+    });
+    ended.catch(reject);
+  });
+  // Wrapped: an async function returning the promise itself would wait for it.
+  return { ended };
+}
+
+/** The store with its beginFile calls recorded (their lockSites). */
+function recordingBegins(store: StoreBackend): { store: StoreBackend; begins: (readonly string[] | undefined)[] } {
+  const begins: (readonly string[] | undefined)[] = [];
+  const recorded = new Proxy(store, {
+    get(target, key, receiver) {
+      const value = Reflect.get(target, key, receiver);
+      if (key === 'beginFile')
+        return (...args: Parameters<StoreBackend['beginFile']>) => {
+          begins.push(args[2]?.lockSites);
+          return target.beginFile(...args);
+        };
+      return typeof value === 'function' ? value.bind(target) : value;
+    },
+  });
+  return { store: recorded, begins };
+}
+
+describe('PostgreSQL writer: files, rollbacks and writers racing on one server', () => {
+  const config = () => loadConfig(CORPUS_CONFIG);
+
+  beforeAll(async () => {
+    // The ingest's modules loaded before a race: the first ingest of a test run loads them.
+    await ingestFile(export_('warm.csv', 1, 1, 'NV26-0', '30.0', '2026-08-07'), {
+      config: config(),
+      store: new Store(':memory:'),
+      now: () => NOW,
+    });
+  }, 60_000);
+
+  it('tells a file stored before as a duplicate and stores nothing twice', async () => {
+    const file = export_('twice.csv', 1, 4, 'NV26-1', '30.5', '2026-08-07');
+    const db = await database('twice');
+    const store = openPgStore(db.url);
+    try {
+      const first = await ingestFile(file, { config: config(), store, now: () => NOW });
+      const second = await ingestFile(file, { config: config(), store, now: () => NOW });
+      expect(first.status).toBe('accepted');
+      expect(first.rows.accepted).toBe(4);
+      // The SQLite store's behaviour (store.test.ts): the same bytes again are a duplicate.
+      expect(second.status).toBe('duplicate');
+      expect(store.counts()).toMatchObject({ files: 1, results: 4 });
+      // beginFile itself refuses the bytes once stored (FileAlreadyStoredError), as the SQLite writer does.
+      expect(() =>
+        store.beginFile(
+          {
+            name: 'again.csv',
+            sha256: first.sha256,
+            kind: 'results',
+            labId: first.lab,
+            receivedAt: NOW.toISOString(),
+            encodingNote: 'utf-8',
+            byteLength: 1,
+          },
+          ingestRules,
+        ),
+      ).toThrow(FileAlreadyStoredError);
+      expect(store.fileOpen).toBe(false);
+    } finally {
+      store.close();
+    }
+  }, 120_000);
+
+  it('leaves nothing of a rolled-back file, and the next file takes the ids SQLite would give', async () => {
+    const db = await database('rollback');
+    const store = openPgStore(db.url);
+    const reference = new Store(':memory:');
+    try {
+      for (const target of [store, reference])
+        await ingestFile(export_('before.csv', 1, 2, 'NV26-2', '30.5', '2026-08-07'), {
+          config: config(),
+          store: target,
+          now: () => NOW,
+        });
+      const before = store.counts();
+      const held = recordingBegins(store);
+      const rolledBack = new Proxy(held.store, {
+        get(target, key, receiver) {
+          if (key === 'commit') return () => target.rollback();
+          return Reflect.get(target, key, receiver);
+        },
+      });
+      const rows = export_('rolled-back.csv', 3, 8, 'NV26-3', '29.5', '2026-08-08');
+      await ingestFile(rows, { config: config(), store: rolledBack, now: () => NOW });
+      expect(held.begins).toHaveLength(1);
+      expect(store.counts()).toEqual(before);
+      // The same file stored for good afterwards gets the ids of the SQLite store (the reference), which reuses a rolled-back file's ids.
+      for (const target of [store, reference])
+        await ingestFile(rows, { config: config(), store: target, now: () => NOW });
+      expect(store.currentResults().map((r) => [r.sampleId, r.id])).toEqual(
+        reference.currentResults().map((r) => [r.sampleId, r.id]),
+      );
+      expect(store.files().map((f) => [f.id, f.name])).toEqual(reference.files().map((f) => [f.id, f.name]));
+    } finally {
+      store.close();
+      reference.close();
+    }
+  }, 120_000);
+
+  it('lets one of two writers of the same bytes store them: the other waits, then gets a duplicate', async () => {
+    const file = export_('raced.csv', 1, 6, 'NV26-4', '31.0', '2026-08-07');
+    const db = await database('race');
+    const store = openPgStore(db.url);
+    const held = recordingBegins(store);
+    try {
+      const other = await holdingWriter(db.url, file, HOLD_MS);
+      // PostgreSQL 17 documentation, INSERT ... ON CONFLICT: a conflicting row of a transaction in
+      // progress is waited for; once it commits, DO NOTHING takes the existing row.
+      const mine = await ingestFile(file, { config: config(), store: held.store, now: () => NOW });
+      const theirs = await other.ended;
+      expect(theirs.status).toBe('accepted');
+      // This writer found nothing stored when it looked, claimed the file, and waited (beginFile).
+      expect(held.begins).toHaveLength(1);
+      expect(mine.status).toBe('duplicate');
+      expect(store.counts()).toMatchObject({ files: 1, results: 6 });
+    } finally {
+      store.close();
+    }
+  }, 120_000);
+
+  it('stores a file again, with its sites locked, when another writer stored its samples first: each row once, as SQLite stores the two in turn', async () => {
+    const first = export_('first.csv', 1, 16, 'NV26-5', '31.0', '2026-08-07');
+    const second = export_('second.csv', 9, 24, 'NV26-6', '27.0', '2026-08-09');
+    const db = await database('conflict');
+    const store = openPgStore(db.url);
+    const held = recordingBegins(store);
+    try {
+      const other = await holdingWriter(db.url, first, HOLD_MS);
+      const mine = await ingestFile(second, { config: config(), store: held.store, now: () => NOW });
+      const theirs = await other.ended;
+      // The first attempt met the other writer's samples (ON CONFLICT DO NOTHING took none of its
+      // own): rolled back and stored again, locking the site (pg_advisory_xact_lock).
+      expect(held.begins).toEqual([[], ['tamsin-ridge']]);
+      expect([theirs.status, mine.status]).toEqual(['accepted', 'accepted']);
+    } finally {
+      store.close();
+    }
+    // The reference: the SQLite store given the two files in the order they committed.
+    const sqliteFile = path.join(dir, 'conflict.db');
+    const reference = new Store(sqliteFile);
+    const expected: Receipt[] = [];
+    try {
+      for (const file of [first, second])
+        expected.push(await ingestFile(file, { config: config(), store: reference, now: () => NOW }));
+    } finally {
+      reference.close();
+    }
+    expect(expected[1]!.rows.superseded).toBe(8);
+    expect(digestsOf(db.url)).toEqual(digestsOf(sqliteFile));
+  }, 120_000);
 });
