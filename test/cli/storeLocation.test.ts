@@ -27,35 +27,48 @@ const flagsWithoutDb = (ws: TestWorkspace) => [
   ws.paths.outbox,
 ];
 
-/** Writes a rope sheet of three ropes and their results into the inbox; returns the two files. */
-function dropFiles(ws: TestWorkspace): string[] {
+/** A rope sheet of three ropes, then their results: each file's name and bytes, in that order. */
+function inputFiles(ws: TestWorkspace): [string, string | Buffer][] {
   const site = ws.config().siteById.get('HOLLOW-CREEK')!;
-  fs.writeFileSync(
-    path.join(ws.paths.inbox, 'ropes.csv'),
-    ropeSheet(site, [
-      { sampleId: 'C1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
-      { sampleId: 'C2', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' },
-      { sampleId: 'C3', barnId: 'F1', penId: 'A3', hungOn: '2026-08-03' },
-    ]),
-  );
-  fs.writeFileSync(
-    path.join(ws.paths.inbox, 'nvdl_r.csv'),
-    northfieldExport(
-      [
-        { sampleId: 'C1', assay: 'PRRSV', ct: 30, collectedOn: '2026-08-03' },
-        { sampleId: 'C2', assay: 'PRRSV', ct: null, collectedOn: '2026-08-03' },
-        { sampleId: 'C3', assay: 'PRRSV', ct: null, collectedOn: '2026-08-03' },
-      ],
-      '2026-08-06',
-      1,
-    ),
-  );
-  return ['ropes.csv', 'nvdl_r.csv'].map((name) => path.join(ws.paths.inbox, name));
+  return [
+    [
+      'ropes.csv',
+      ropeSheet(site, [
+        { sampleId: 'C1', barnId: 'F1', penId: 'A1', hungOn: '2026-08-03' },
+        { sampleId: 'C2', barnId: 'F1', penId: 'A2', hungOn: '2026-08-03' },
+        { sampleId: 'C3', barnId: 'F1', penId: 'A3', hungOn: '2026-08-03' },
+      ]),
+    ],
+    [
+      'nvdl_r.csv',
+      northfieldExport(
+        [
+          { sampleId: 'C1', assay: 'PRRSV', ct: 30, collectedOn: '2026-08-03' },
+          { sampleId: 'C2', assay: 'PRRSV', ct: null, collectedOn: '2026-08-03' },
+          { sampleId: 'C3', assay: 'PRRSV', ct: null, collectedOn: '2026-08-03' },
+        ],
+        '2026-08-06',
+        1,
+      ),
+    ],
+  ];
 }
 
-/** Runs `watch` on the workspace's two files until both are accepted and their site has outputs; returns what it wrote. */
+/** Writes the rope sheet and the results into the inbox; returns the two files. */
+function dropFiles(ws: TestWorkspace): string[] {
+  return inputFiles(ws).map(([name, bytes]) => {
+    const file = path.join(ws.paths.inbox, name);
+    fs.writeFileSync(file, bytes);
+    return file;
+  });
+}
+
+/**
+ * Runs `watch`, drops the rope sheet and, once it is accepted, the results (so that the order
+ * is the same on every run), until both are accepted and their site has outputs; returns what
+ * it wrote.
+ */
 async function watchBothFiles(ws: TestWorkspace, flags: string[], env: Record<string, string>): Promise<string> {
-  dropFiles(ws);
   let stop!: () => void;
   const stopSignal = new Promise<void>((resolve) => (stop = resolve));
   let out = '';
@@ -67,11 +80,19 @@ async function watchBothFiles(ws: TestWorkspace, flags: string[], env: Record<st
   });
   const siteDir = path.join(ws.paths.outbox, 'hollow-creek');
   const deadline = Date.now() + 60_000;
-  try {
-    while ((out.match(/ accepted /g) ?? []).length < 2 || !fs.existsSync(siteDir)) {
-      if (Date.now() > deadline) throw new Error(`timed out waiting for both files\n${out}`);
+  const waitFor = async (done: () => boolean) => {
+    while (!done()) {
+      if (Date.now() > deadline) throw new Error(`timed out waiting for the files\n${out}`);
       await new Promise((resolve) => setTimeout(resolve, 50));
     }
+  };
+  try {
+    await waitFor(() => out.includes('watching '));
+    for (const [name, bytes] of inputFiles(ws)) {
+      fs.writeFileSync(path.join(ws.paths.inbox, name), bytes);
+      await waitFor(() => out.includes(` accepted ${name} `));
+    }
+    await waitFor(() => fs.existsSync(siteDir));
   } finally {
     stop();
   }

@@ -70,7 +70,9 @@ describe("the store's lock on a site, on PostgreSQL", () => {
       // The other process is seen waiting for an advisory lock the holder has.
       const waiting = () =>
         watcher.query<{ n: number }>(
-          "SELECT count(*)::int AS n FROM pg_locks WHERE locktype = 'advisory' AND NOT granted",
+          `SELECT count(*)::int AS n FROM pg_locks
+              WHERE locktype = 'advisory' AND NOT granted
+                AND database = (SELECT oid FROM pg_database WHERE datname = current_database())`,
         ).rows[0]!.n;
       const deadline = Date.now() + 60_000;
       while (waiting() === 0 && !ended) {
