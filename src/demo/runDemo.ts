@@ -20,7 +20,7 @@ import { shownLocation } from '../store/location.js';
 import { openStore } from '../store/openStore.js';
 import { StoreOpenError } from '../store/store.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../workspace.js';
-import { DEFAULT_PLACES, OUTBOX_NAMES, type StoreLocation } from '../workspacePaths.js';
+import { DEFAULT_PLACES, OUTBOX_NAMES, STORE_LOCATION_ENV, type StoreLocation } from '../workspacePaths.js';
 import { workspaceDeliveryStateFile } from '../alerts/deliveryState.js';
 import { buildSiteRounds } from '../rounds/roundModel.js';
 import { clockDay } from '../rounds/rounds.js';
@@ -131,7 +131,9 @@ function guardStore(location: StoreLocation, force: boolean): void {
   } catch (error) {
     if (error instanceof StoreOpenError)
       throw new UsageError(
-        `${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace ${location.kind === 'sqlite' ? 'the file' : 'its contents'}`,
+        location.kind === 'sqlite'
+          ? `${error.message}. The demo leaves it alone: run it with --db elsewhere, or --force to replace the file`
+          : `${error.message}; check --db (or ${STORE_LOCATION_ENV})`,
       );
     throw error;
   }
@@ -155,7 +157,13 @@ export interface DemoOutcome {
 export async function runDemo(io: CliIo, paths: WorkspacePaths, force: boolean): Promise<DemoOutcome> {
   guardConfig(paths.configDir);
   guardStore(paths.storeLocation, force);
-  emptyStore(paths.storeLocation);
+  try {
+    emptyStore(paths.storeLocation);
+  } catch (error) {
+    if (error instanceof StoreOpenError)
+      throw new UsageError(`${error.message}; check --db (or ${STORE_LOCATION_ENV})`);
+    throw error;
+  }
   fs.rmSync(workspaceDeliveryStateFile(paths), { force: true });
   emptyDir(paths.inbox);
   emptyDir(paths.outbox);
