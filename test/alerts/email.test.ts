@@ -10,7 +10,7 @@ import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { SMTPServer } from 'smtp-server';
 import { deliverAlerts } from '../../src/alerts/deliver.js';
-import { readDeliveryState, deliveryStateFile } from '../../src/alerts/deliveryState.js';
+import { readDeliveryState, workspaceDeliveryStateFile } from '../../src/alerts/deliveryState.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 import { dropRound, withSite } from './scenario.js';
 
@@ -178,7 +178,7 @@ describe('alerts by e-mail', () => {
     expect(lines[0]).toMatch(
       /^warning: alert \S+ not delivered by e-mail \(attempt 1\): .*451.*Mailbox temporarily unavailable; retried on the next run$/,
     );
-    const state = readDeliveryState(deliveryStateFile(ws.paths.dbFile));
+    const state = readDeliveryState(workspaceDeliveryStateFile(ws.paths));
     const owed = Object.values(state.alerts).filter((entry) => entry.channels.email?.done === false);
     expect(owed).toHaveLength(refused.recorded);
     // The feed does not wait for the e-mail.

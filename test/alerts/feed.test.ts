@@ -9,7 +9,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { deliverAlerts } from '../../src/alerts/deliver.js';
-import { deliveryStateFile } from '../../src/alerts/deliveryState.js';
+import { workspaceDeliveryStateFile } from '../../src/alerts/deliveryState.js';
 import { feedKeys } from '../../src/alerts/feed.js';
 import { alertKey } from '../../src/alerts/records.js';
 import { regenerateOutputs } from '../../src/outputs.js';
@@ -78,7 +78,7 @@ describe('alert feed', () => {
     await deliverAlerts(ws.ws(), { env: {} });
     const before = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8');
     // A crash between appending and recording it leaves the alerts owed to the feed.
-    fs.rmSync(deliveryStateFile(ws.paths.dbFile));
+    fs.rmSync(workspaceDeliveryStateFile(ws.paths));
     const again = await deliverAlerts(ws.ws(), { env: {} });
     expect(again.recorded).toBeGreaterThan(0);
     expect(again.appended).toBe(0);
@@ -123,7 +123,7 @@ describe('alert feed', () => {
     const ws = workspace();
     await dropRound(ws);
     // This process's own pid is a live process (kill(2) with signal 0 finds it).
-    fs.writeFileSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`, String(process.pid));
+    fs.writeFileSync(`${workspaceDeliveryStateFile(ws.paths)}.lock`, String(process.pid));
     expect(await deliverAlerts(ws.ws(), { env: {} })).toMatchObject({ busy: true, appended: 0 });
     expect(fs.existsSync(path.join(ws.paths.outbox, 'alerts.jsonl'))).toBe(false);
   });
@@ -133,7 +133,7 @@ describe('alert feed', () => {
     await dropRound(ws);
     await deliverAlerts(ws.ws(), { env: {} });
     const before = fs.readFileSync(path.join(ws.paths.outbox, 'alerts.jsonl'), 'utf8');
-    const state = deliveryStateFile(ws.paths.dbFile);
+    const state = workspaceDeliveryStateFile(ws.paths);
     fs.writeFileSync(state, '{"schema": "ropewatch.alert-deliveries/1", "alerts": {');
     const lines: string[] = [];
     const again = await deliverAlerts({ ...ws.ws(), log: (line: string) => lines.push(line) }, { env: {} });
@@ -152,11 +152,11 @@ describe('alert feed', () => {
     await dropRound(ws);
     // The pid of a process that has exited (kill(2) with signal 0 then fails with ESRCH).
     const gone = spawnSync(process.execPath, ['-e', '0']).pid!;
-    fs.writeFileSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`, String(gone));
+    fs.writeFileSync(`${workspaceDeliveryStateFile(ws.paths)}.lock`, String(gone));
     const report = await deliverAlerts(ws.ws(), { env: {} });
     expect(report.busy).toBe(false);
     expect(report.appended).toBeGreaterThan(0);
-    expect(fs.existsSync(`${deliveryStateFile(ws.paths.dbFile)}.lock`)).toBe(false);
+    expect(fs.existsSync(`${workspaceDeliveryStateFile(ws.paths)}.lock`)).toBe(false);
   });
 
   it('takes no missing-rope alert from a rope sheet whose results have not come back yet', async () => {

@@ -16,6 +16,7 @@ import { TIDY_TABLES } from '../../src/report/tidy/tidyTables.js';
 import { TIDY_VIEWS } from '../../src/store/tidyFacts.js';
 import { runCli } from '../helpers/runCli.js';
 import { readmeSection, readmeSnippet } from '../helpers/readme.js';
+import { sqliteOnly, testBackend } from '../helpers/testStore.js';
 import { makeWorkspace, type TestWorkspace } from '../helpers/workspace.js';
 
 const SITES = ['hollow-creek', 'tamsin-ridge'];
@@ -141,22 +142,23 @@ describe('the tidy tables of the demo', () => {
 
 describe("the store's views", () => {
   it("have the tidy tables' columns, in order, and give the rows the files hold", () => {
-    const db = new Database(ws.paths.dbFile, { readonly: true });
-    try {
-      for (const table of TIDY_TABLES) {
-        const columns = (db.prepare(`PRAGMA table_info(${TIDY_VIEWS[table.name]})`).all() as { name: string }[]).map(
-          (column) => column.name,
-        );
-        expect(columns).toEqual(table.columns.map((column) => column.name));
-        for (const site of SITES) {
-          const { n } = db.prepare(`SELECT COUNT(*) AS n FROM ${TIDY_VIEWS[table.name]} WHERE site = ?`).get(site) as {
-            n: number;
-          };
-          expect(n, `${site} ${table.name}`).toBe(readCsv(siteFile(site, table.file)).length);
-        }
+    const sql = ws.sql();
+    for (const table of TIDY_TABLES) {
+      const view = TIDY_VIEWS[table.name];
+      // A view's columns in order: SQLite's table_info (sqlite.org/pragma.html), PostgreSQL's
+      // information_schema.columns by ordinal_position (PostgreSQL 17 documentation, 35.17).
+      const columns = (
+        testBackend() === 'sqlite'
+          ? sql.all<{ name: string }>(`SELECT name FROM pragma_table_info('${view}') ORDER BY cid`)
+          : sql.all<{ name: string }>(
+              `SELECT column_name AS name FROM information_schema.columns WHERE table_name = '${view}' ORDER BY ordinal_position`,
+            )
+      ).map((column) => column.name);
+      expect(columns).toEqual(table.columns.map((column) => column.name));
+      for (const site of SITES) {
+        const { n } = sql.get<{ n: number }>(`SELECT COUNT(*) AS n FROM ${view} WHERE site = ?`, site)!;
+        expect(n, `${site} ${table.name}`).toBe(readCsv(siteFile(site, table.file)).length);
       }
-    } finally {
-      db.close();
     }
   });
 
@@ -170,36 +172,39 @@ describe("the store's views", () => {
     rounds: readCsv(siteFile('hollow-creek', 'rounds.csv')).length,
   });
 
-  it("run the README snippets' SQL against the demo store and get the tables' rows", () => {
-    const db = new Database(ws.paths.dbFile, { readonly: true });
-    try {
-      for (const language of ['r', 'python']) {
-        const queries = [...snippet(language).matchAll(/"(SELECT [^"]+)"/g)].map((match) => match[1]!);
-        expect(queries).toHaveLength(2);
-        expect(db.prepare(queries[0]!).all('hollow-creek')).toHaveLength(expected().results);
-        expect(db.prepare(queries[1]!).all('hollow-creek')).toHaveLength(expected().rounds);
+  // The README's SQLite snippets; its PostgreSQL ones run in test/store/pg/analystViews.test.ts.
+  sqliteOnly(() => {
+    it("run the README snippets' SQL against the demo store and get the tables' rows", () => {
+      const db = new Database(ws.paths.dbFile, { readonly: true });
+      try {
+        for (const language of ['r', 'python']) {
+          const queries = [...snippet(language).matchAll(/"(SELECT [^"]+)"/g)].map((match) => match[1]!);
+          expect(queries).toHaveLength(2);
+          expect(db.prepare(queries[0]!).all('hollow-creek')).toHaveLength(expected().results);
+          expect(db.prepare(queries[1]!).all('hollow-creek')).toHaveLength(expected().rounds);
+        }
+      } finally {
+        db.close();
       }
-    } finally {
-      db.close();
-    }
-  });
+    });
 
-  it('run the Python snippet (sqlite3 + pandas) where python3 and pandas are installed', () => {
-    const probe = spawnSync('python3', ['-c', 'import pandas'], { encoding: 'utf8' });
-    if (probe.status !== 0) return; // no interpreter or no pandas here: the SQL above was run instead
-    const code = `${snippet('python')}\nprint("ROWS", len(results), len(rounds))\n`;
-    const run = spawnSync('python3', ['-c', code], { encoding: 'utf8' });
-    expect(run.status, run.stderr).toBe(0);
-    expect(run.stdout).toContain(`ROWS ${expected().results} ${expected().rounds}`);
-  });
+    it('run the Python snippet (sqlite3 + pandas) where python3 and pandas are installed', () => {
+      const probe = spawnSync('python3', ['-c', 'import pandas'], { encoding: 'utf8' });
+      if (probe.status !== 0) return; // no interpreter or no pandas here: the SQL above was run instead
+      const code = `${snippet('python')}\nprint("ROWS", len(results), len(rounds))\n`;
+      const run = spawnSync('python3', ['-c', code], { encoding: 'utf8' });
+      expect(run.status, run.stderr).toBe(0);
+      expect(run.stdout).toContain(`ROWS ${expected().results} ${expected().rounds}`);
+    });
 
-  it('run the R snippet (DBI + RSQLite) where Rscript and those packages are installed', () => {
-    const probe = spawnSync('Rscript', ['-e', 'library(DBI); library(RSQLite)'], { encoding: 'utf8' });
-    if (probe.status !== 0) return; // no interpreter or packages here: the SQL above was run instead
-    const code = `${snippet('r').replace('dbDisconnect(con)', '')}\ncat("ROWS", nrow(results), nrow(rounds), "\\n")\ndbDisconnect(con)\n`;
-    const run = spawnSync('Rscript', ['-e', code], { encoding: 'utf8' });
-    expect(run.status, run.stderr).toBe(0);
-    expect(run.stdout).toContain(`ROWS ${expected().results} ${expected().rounds}`);
+    it('run the R snippet (DBI + RSQLite) where Rscript and those packages are installed', () => {
+      const probe = spawnSync('Rscript', ['-e', 'library(DBI); library(RSQLite)'], { encoding: 'utf8' });
+      if (probe.status !== 0) return; // no interpreter or packages here: the SQL above was run instead
+      const code = `${snippet('r').replace('dbDisconnect(con)', '')}\ncat("ROWS", nrow(results), nrow(rounds), "\\n")\ndbDisconnect(con)\n`;
+      const run = spawnSync('Rscript', ['-e', code], { encoding: 'utf8' });
+      expect(run.status, run.stderr).toBe(0);
+      expect(run.stdout).toContain(`ROWS ${expected().results} ${expected().rounds}`);
+    });
   });
 });
 
