@@ -225,9 +225,10 @@ export interface PlacementComparison {
 
 /**
  * Compares the ropes actually hung with simple random rope sets of the same size on the same
- * outbreaks (common random numbers): for each outbreak a fresh uniform random set is drawn, so
- * the random column estimates the average over random sets, and the paired difference has a
- * much smaller standard error than two independent runs would give.
+ * outbreaks (common random numbers): for each outbreak a fresh uniform random set is drawn (as
+ * the count of its ropes on infected pens, which is all its detection depends on; see
+ * placementSums), so the random column estimates the average over random sets, and the paired
+ * difference has a much smaller standard error than two independent runs would give.
  *
  * @param se one rope sensitivity in [0, 1] for every pen.
  * @throws RangeError on an unknown pen or a bad sensitivity.
