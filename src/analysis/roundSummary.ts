@@ -6,7 +6,7 @@
  */
 import { penIdsOf } from '../rounds/penIds.js';
 import type { Assay, Config, Site } from '../config/types.js';
-import { ctHistory, type SiteRound } from '../rounds/roundModel.js';
+import { barnCtHistory, type SiteRound } from '../rounds/roundModel.js';
 import type { RoundConfidence, SiteConfidence } from './confidence.js';
 
 import type {
@@ -181,6 +181,7 @@ function penSummaries(
       const then = earlier.barns.find((barn) => barn.barnId === barnRound.barnId);
       return then !== undefined && !then.empty && (then.group?.id ?? null) === (barnRound.group?.id ?? null);
     });
+    const historyOf = barnCtHistory(sameGroup, barnRound.barnId);
     return barnRound.pens.map((pen) => ({
       barnId: barnRound.barnId,
       penId: pen.penId,
@@ -194,7 +195,7 @@ function penSummaries(
             ...kept,
             labName: labName(result.labId),
             sequencingCandidate: isSequencingCandidate(result, sequencingBelowOf(config.assayById.get(assayId))),
-            history: ctHistory(sameGroup, barnRound.barnId, pen.penId, assayId).map((point) => ({
+            history: historyOf(pen.penId, assayId).map((point) => ({
               ...point,
               labName: labName(point.labId),
             })),

@@ -13,7 +13,7 @@ import { plannedByRound } from './missingRopes.js';
 import { groupBy } from './penOrder.js';
 import { poolPensOf } from './penResults.js';
 import { assembleBarnRound, assembleSiteRound } from './roundAssembly.js';
-import type { PlannedInput, ResultInput, RopeInput, RoundNotesInput, SiteRound } from './roundTypes.js';
+import type { PenRound, PlannedInput, ResultInput, RopeInput, RoundNotesInput, SiteRound } from './roundTypes.js';
 
 export type {
   AssayTally,
@@ -123,25 +123,48 @@ export function ctHistory(
   penId: string,
   assayId: string,
 ): CtHistoryPoint[] {
-  const points: CtHistoryPoint[] = [];
-  for (const round of rounds) {
-    const pen = round.barns.find((barn) => barn.barnId === barnId)?.pens.find((candidate) => candidate.penId === penId);
-    const result = pen?.results[assayId];
-    if (result) {
-      points.push({
-        round: round.number,
-        roundId: round.id,
-        startOn: round.startOn,
-        resultClass: result.resultClass,
-        measure: result.measure,
-        ct: result.ct,
-        sp: result.sp,
-        labId: result.labId,
-        positiveBelow: result.positiveBelow,
-        cycleLimit: result.cycleLimit,
-        positiveAtOrAbove: result.positiveAtOrAbove,
-      });
-    }
-  }
-  return points;
+  return barnCtHistory(rounds, barnId)(penId, assayId);
+}
+
+/**
+ * ctHistory for any pen of one barn: `(penId, assayId)` gives ctHistory(rounds, barnId, penId,
+ * assayId). The barn's pens of each round are indexed at the first call (the first pen of an id,
+ * as a search in order finds; a kept model's pens are parsed only then), so a history costs one
+ * look-up per round rather than a search of the barn.
+ */
+export function barnCtHistory(
+  rounds: readonly SiteRound[],
+  barnId: string,
+): (penId: string, assayId: string) => CtHistoryPoint[] {
+  let pensOfRounds: Map<string, PenRound>[] | undefined;
+  const indexPens = () =>
+    rounds.map((round) => {
+      const pens = new Map<string, PenRound>();
+      for (const pen of round.barns.find((barn) => barn.barnId === barnId)?.pens ?? [])
+        if (!pens.has(pen.penId)) pens.set(pen.penId, pen);
+      return pens;
+    });
+  return (penId, assayId) => {
+    const pensOf = (pensOfRounds ??= indexPens());
+    const points: CtHistoryPoint[] = [];
+    rounds.forEach((round, index) => {
+      const result = pensOf[index]!.get(penId)?.results[assayId];
+      if (result) {
+        points.push({
+          round: round.number,
+          roundId: round.id,
+          startOn: round.startOn,
+          resultClass: result.resultClass,
+          measure: result.measure,
+          ct: result.ct,
+          sp: result.sp,
+          labId: result.labId,
+          positiveBelow: result.positiveBelow,
+          cycleLimit: result.cycleLimit,
+          positiveAtOrAbove: result.positiveAtOrAbove,
+        });
+      }
+    });
+    return points;
+  };
 }

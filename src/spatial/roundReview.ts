@@ -52,6 +52,8 @@ interface Prepared {
   pens: Pen[];
   used: (RoundPen & { x: number; y: number })[];
   excluded: { id: string; reason: string }[];
+  /** The weights among `used` by style, made once: the barn's statistics and the site's join count read the same. */
+  weights: Map<WeightStyle, { w: SpatialWeights; band: number | null }>;
 }
 
 function prepare(input: BarnRoundInput): Prepared {
@@ -78,7 +80,21 @@ function prepare(input: BarnRoundInput): Prepared {
   }
   for (const id of input.earlierPositive ?? [])
     if (!byId.has(id)) throw new RangeError(`\`earlierPositive\` must name pens of barn ${input.barn}, got ${id}`);
-  return { input, offset, pens, used, excluded };
+  return { input, offset, pens, used, excluded, weights: new Map() };
+}
+
+/** The weights of the options' choice among the usable ropes, in `style` (made on the first request). */
+function weightsOf(
+  p: Prepared,
+  options: SpatialOptions,
+  style: WeightStyle,
+): { w: SpatialWeights; band: number | null } {
+  let made = p.weights.get(style);
+  if (made === undefined) {
+    made = buildWeights(p, options.weights ?? { kind: 'default' }, style);
+    p.weights.set(style, made);
+  }
+  return made;
 }
 
 function buildWeights(
@@ -160,7 +176,7 @@ function weightedStatistics(
   const loads = p.used.map((u) => u.load);
   const earlier = new Set(p.input.earlierPositive ?? []);
   const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
-  const { w, band } = buildWeights(p, options.weights ?? { kind: 'default' }, style);
+  const { w, band } = weightsOf(p, options, style);
   if (w.isolates.length > 0)
     notes.push(
       `${w.isolates.length} pen(s) have no neighbour under these weights and add no joins: ${w.isolates.join(', ')}`,
@@ -282,7 +298,7 @@ export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
   const style = input.options.style ?? 'binary';
   prepared.forEach((p, s) => {
     if (p.used.length < 2) return;
-    const { w } = buildWeights(p, input.options.weights ?? { kind: 'default' }, 'binary');
+    const { w } = weightsOf(p, input.options, 'binary');
     const base = ids.length;
     p.used.forEach((u) => {
       ids.push(`${p.input.barn}/${u.id}`);

@@ -2,6 +2,7 @@
  * Spatially aware detection: how likely a set of ropes is to find an infection that spreads
  * from pen to pen, by Monte Carlo on simulated outbreaks shared between rope sets.
  */
+import { hypergeometricInversion } from '../stats/hypergeometricDraw.js';
 import { fillUniform, type Rng } from '../util/random.js';
 import type { SpatialWeights } from './weights.js';
 
@@ -224,9 +225,10 @@ export interface PlacementComparison {
 
 /**
  * Compares the ropes actually hung with simple random rope sets of the same size on the same
- * outbreaks (common random numbers): for each outbreak a fresh uniform random set is drawn, so
- * the random column estimates the average over random sets, and the paired difference has a
- * much smaller standard error than two independent runs would give.
+ * outbreaks (common random numbers): for each outbreak a fresh uniform random set is drawn (as
+ * the count of its ropes on infected pens, which is all its detection depends on; see
+ * placementSums), so the random column estimates the average over random sets, and the paired
+ * difference has a much smaller standard error than two independent runs would give.
  *
  * @param se one rope sensitivity in [0, 1] for every pen.
  * @throws RangeError on an unknown pen or a bad sensitivity.
@@ -267,33 +269,39 @@ function bitCount(word: number): number {
  * of its own that accumulates in place and returns at once: the engine compiles a long loop
  * while it runs, and code after the loop that had never run before would send every later call
  * back to the interpreter.
+ *
+ * The random set's detection depends on the outbreak only through how many of its k ropes fall
+ * on the outbreak's infected pens. For an outbreak that infected m of the n pens (m = d for every
+ * outbreak of simulateOutbreaks), that count for a uniform random k-set is hypergeometric,
+ * Hyp(n, m, k), whichever m pens they are: it is drawn directly (one uniform per outbreak, by
+ * inversion) rather than by placing the k ropes one by one, with the same distribution of the
+ * random column and of the paired difference given the outbreaks.
  */
 function placementSums(outbreaks: Outbreaks, sampled: Int32Array, se: number, rng: Rng): Float64Array {
   const n = outbreaks.ids.length;
   const k = sampled.length;
   const missPow = Float64Array.from({ length: k + 1 }, (_, c) => (1 - se) ** c);
-  const pool = Int32Array.from({ length: n }, (_, i) => i);
   const { bits, words, realisations } = outbreaks;
+  // One sampler per number of infected pens met (one in all for simulateOutbreaks).
+  const randomCount: ((u: number) => number)[] = [];
   // The ropes hung as a bitset like the outbreaks': the infected ropes of an outbreak are then
   // counted a word (32 pens) at a time.
   const hung = new Uint32Array(words);
   for (let s = 0; s < k; s++) hung[sampled[s]! >>> 5]! |= 1 << (sampled[s]! & 31);
   const sums = new Float64Array(6);
-  const draws = new Float64Array(k);
+  const draws = new Float64Array(realisations);
+  fillUniform(rng, draws, realisations);
   for (let r = 0; r < realisations; r++) {
     const base = r * words;
     let ca = 0;
-    for (let w = 0; w < words; w++) ca += bitCount(bits[base + w]! & hung[w]!);
-    let cr = 0;
-    fillUniform(rng, draws, k);
-    for (let t = 0; t < k; t++) {
-      // `| 0` is Math.floor here (a non-negative number below 2^31) and keeps the index an integer.
-      const u = t + ((draws[t]! * (n - t)) | 0);
-      const picked = pool[u]!;
-      pool[u] = pool[t]!;
-      pool[t] = picked;
-      cr += (bits[base + (picked >>> 5)]! >>> (picked & 31)) & 1;
+    let m = 0;
+    for (let w = 0; w < words; w++) {
+      const word = bits[base + w]!;
+      ca += bitCount(word & hung[w]!);
+      m += bitCount(word);
     }
+    const draw = (randomCount[m] ??= hypergeometricInversion(n, m, k));
+    const cr = draw(draws[r]!);
     const va = 1 - missPow[ca]!;
     const vr = 1 - missPow[cr]!;
     sums[0]! += va;

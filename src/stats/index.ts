@@ -14,3 +14,4 @@ export {
 } from './special.js';
 export * from './twoStage.js';
 export * from './pooled.js';
+export * from './hypergeometricDraw.js';
