@@ -20,8 +20,15 @@ const STORE_TESTS = [
 ];
 
 const SQLITE_ONLY = [
-  // Already on PostgreSQL.
+  // Already on PostgreSQL, or on both stores side by side.
   'test/store/pg/**',
+  'test/cli/storeLocation.test.ts',
+  'test/e2e/demoPostgres.test.ts',
+  'test/e2e/siteLockPostgres.test.ts',
+  // SQLite's single write lock and its busy timeout (PostgreSQL's writers run side by side:
+  // test/store/pg/manyWriters.test.ts), and a SQLite file damaged or of another program.
+  'test/hardening/storeBusy.test.ts',
+  'test/cli/storeOpen.test.ts',
   // SQLite's migration 8 of its CHECKs and the bytecode of its insert (sqlite.org/opcode.html).
   'test/store/resultChecks.test.ts',
   // SQLite's migration 7 of the tidy views; the PostgreSQL views are held to SQLite's in the same file.

@@ -25,6 +25,9 @@ const feedOf = (outbox: string) =>
     .filter((line) => line !== '')
     .map((line) => JSON.parse(line) as Record<string, any>);
 
+/** `text` as a regular expression that matches it literally. */
+const escapeRegExp = (text: string) => text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+
 describe('alert feed', () => {
   it('appends each alert of a round once, with its site, round, assay, kind, message and numbers', async () => {
     const ws = workspace();
@@ -139,7 +142,9 @@ describe('alert feed', () => {
     const again = await deliverAlerts({ ...ws.ws(), log: (line: string) => lines.push(line) }, { env: {} });
     expect(lines).toEqual([
       expect.stringMatching(
-        /-alerts\.json cannot be read \(.*\); moved to ropewatch\.db-alerts\.json\.damaged, starting a new delivery record$/,
+        new RegExp(
+          `${escapeRegExp(state)} cannot be read \\(.*\\); moved to ${escapeRegExp(path.basename(state))}\\.damaged, starting a new delivery record$`,
+        ),
       ),
     ]);
     expect(fs.readFileSync(`${state}.damaged`, 'utf8')).toContain('"alerts": {');

@@ -18,6 +18,8 @@ import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/wo
 import { patternSampleId, writeManySiteConfig } from '../helpers/hardening.js';
 import { runCli } from '../helpers/runCli.js';
 import { treeHashes, workspacesPerTest } from '../helpers/workspace.js';
+import { parseStoreLocation } from '../../src/store/location.js';
+import { testStoreLocation } from '../helpers/testStore.js';
 
 const demoWorkspace = workspacesPerTest();
 
@@ -31,12 +33,13 @@ afterEach(() => {
   roots = [];
 });
 
-function pathsIn(dir: string): WorkspacePaths & { dbFile: string } {
-  const dbFile = path.join(dir, 'store.db');
+/** A workspace's paths under `dir`; `db` is what --db takes (a new database on the PostgreSQL run). */
+function pathsIn(dir: string): WorkspacePaths & { db: string } {
+  const db = testStoreLocation(path.join(dir, 'store.db'), 'parallel').location;
   return {
     configDir: path.join(dir, 'config'),
-    storeLocation: { kind: 'sqlite', file: dbFile },
-    dbFile,
+    storeLocation: parseStoreLocation(db),
+    db,
     inbox: path.join(dir, 'inbox'),
     outbox: path.join(dir, 'outbox'),
   };
@@ -231,7 +234,7 @@ describe('report --jobs', () => {
       const dir = path.join(path.dirname(prepared), name);
       fs.cpSync(prepared, dir, { recursive: true });
       const paths = pathsIn(dir);
-      return ['--config', paths.configDir, '--db', paths.dbFile, '--inbox', paths.inbox, '--outbox', paths.outbox];
+      return ['--config', paths.configDir, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
     };
     const runs = [await runCli(['report', '--jobs', '1', ...flags('one')]), await runCli(['report', ...flags('many')])];
     for (const run of runs) expect(run.code, run.stderr).toBe(0);

@@ -24,7 +24,7 @@ afterEach(() => {
 });
 
 function flagsWithOutbox(ws: TestWorkspace, outbox: string): string[] {
-  return ['--config', ws.paths.configDir, '--db', ws.paths.dbFile, '--inbox', ws.paths.inbox, '--outbox', outbox];
+  return ['--config', ws.paths.configDir, '--db', ws.paths.db, '--inbox', ws.paths.inbox, '--outbox', outbox];
 }
 
 /** A workspace that has stored one rope sheet and one result file (so the store is not empty). */

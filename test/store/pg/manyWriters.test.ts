@@ -116,8 +116,9 @@ async function until(condition: () => boolean, timeoutMs: number, what: string |
  * and process; hidden files are bookkeeping). Two files depend on the order writers happened to
  * commit and deliver in, not on what is stored: results.csv names each result by its store id
  * (ids are handed out in commit order), so its rows are compared without result_id and with
- * superseded_by as whether a report was replaced; alerts.jsonl is a feed appended in the order
- * alerts were delivered, so its lines are compared as a sorted list.
+ * superseded_by as whether a report was replaced; alerts.jsonl is the log of deliveries, each
+ * line stamped when it was seen, in the order processes happened to deliver: it is checked on its
+ * own (feedKeys) rather than compared.
  */
 function outputs(outbox: string): Record<string, string> {
   const out: Record<string, string> = {};
@@ -129,11 +130,32 @@ function outputs(outbox: string): Record<string, string> {
       out[file] = JSON.stringify(
         rows.map(({ result_id: _id, superseded_by: replacedBy, ...row }) => ({ ...row, replaced: replacedBy !== '' })),
       );
-    } else if (file === 'alerts.jsonl') out[file] = JSON.stringify(text().trimEnd().split('\n').sort());
-    else out[file] = hash;
+    } else if (file !== 'alerts.jsonl') out[file] = hash;
   }
   return out;
 }
+
+/** The keys of the alerts the feed delivered, in order. */
+const feedKeys = (outbox: string): string[] =>
+  fs
+    .readFileSync(path.join(outbox, 'alerts.jsonl'), 'utf8')
+    .trimEnd()
+    .split('\n')
+    .map((line) => (JSON.parse(line) as { key: string }).key);
+
+/** The keys of the alerts each site's alerts.json holds now. */
+const currentAlertKeys = (outbox: string): string[] =>
+  (fs.readdirSync(outbox, { withFileTypes: true }) as fs.Dirent[])
+    .filter((entry) => entry.isDirectory() && fs.existsSync(path.join(outbox, entry.name, 'alerts.json')))
+    .flatMap(
+      (entry) =>
+        (
+          JSON.parse(fs.readFileSync(path.join(outbox, entry.name, 'alerts.json'), 'utf8')) as {
+            alerts: { key: string }[];
+          }
+        ).alerts,
+    )
+    .map((alert) => alert.key);
 
 describe('four ingest processes and two watchers on one PostgreSQL store', () => {
   it('store every file and every row once, without deadlock, and leave the outbox one process makes of the same files', async () => {
@@ -191,6 +213,15 @@ describe('four ingest processes and two watchers on one PostgreSQL store', () =>
     for (const run of stopped) expect(run.code, run.stderr).toBe(0);
     for (const inbox of inboxes) expect(waiting(inbox), inbox).toEqual([]);
 
+    // Each file was dropped twice: one process stored it, the other found it stored (or, when it
+    // came second by a whole file, found it archived by the other and skipped it).
+    const said = [...ingested.map((run) => run.stdout), ...watchers.map((watcher) => watcher.out())].join('\n');
+    for (const entry of all) {
+      const name = entry.name.replace('.', '\\.');
+      expect(said.match(new RegExp(`accepted +${name}`, 'g')) ?? [], entry.name).toHaveLength(1);
+      expect(said.match(new RegExp(`skipped +${name}`, 'g')) ?? [], entry.name).toHaveLength(1);
+    }
+
     const look = lookIntoStore(database.url);
     expect(look.integrity).toBe('ok');
     // Every file once, accepted, with all its rows; no row twice.
@@ -220,5 +251,11 @@ describe('four ingest processes and two watchers on one PostgreSQL store', () =>
       expect(summaries, generatedSite(site).id).toHaveLength(ROUND_DAYS.length);
     }
     expect(shared).toEqual(outputs(singleOutbox));
+    // Six processes delivered alerts into one feed: each alert once, and every alert standing now among them.
+    const delivered = feedKeys(outbox);
+    expect(new Set(delivered).size).toBe(delivered.length);
+    const standing = currentAlertKeys(outbox);
+    expect(standing.length).toBeGreaterThan(0);
+    expect(delivered).toEqual(expect.arrayContaining(standing));
   }, 420_000);
 });
