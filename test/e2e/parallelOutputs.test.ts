@@ -19,7 +19,7 @@ import { patternSampleId, writeManySiteConfig } from '../helpers/hardening.js';
 import { runCli } from '../helpers/runCli.js';
 import { treeHashes, workspacesPerTest } from '../helpers/workspace.js';
 import { parseStoreLocation } from '../../src/store/location.js';
-import { testStoreLocation } from '../helpers/testStore.js';
+import { copyTestStore, testStoreLocation } from '../helpers/testStore.js';
 
 const demoWorkspace = workspacesPerTest();
 
@@ -33,9 +33,16 @@ afterEach(() => {
   roots = [];
 });
 
-/** A workspace's paths under `dir`; `db` is what --db takes (a new database on the PostgreSQL run). */
+/** The store of each workspace folder: what --db takes (on the PostgreSQL run, a database of its own). */
+const storeOf = new Map<string, string>();
+
+/** A workspace's paths under `dir`. */
 function pathsIn(dir: string): WorkspacePaths & { db: string } {
-  const db = testStoreLocation(path.join(dir, 'store.db'), 'parallel').location;
+  let db = storeOf.get(dir);
+  if (db === undefined) {
+    db = testStoreLocation(path.join(dir, 'store.db'), 'parallel').location;
+    storeOf.set(dir, db);
+  }
   return {
     configDir: path.join(dir, 'config'),
     storeLocation: parseStoreLocation(db),
@@ -94,6 +101,7 @@ async function preparedStore(): Promise<string> {
 function copyOf(prepared: string, name: string): Workspace {
   const dir = path.join(path.dirname(prepared), name);
   fs.cpSync(prepared, dir, { recursive: true });
+  storeOf.set(dir, copyTestStore(pathsIn(prepared).db, path.join(dir, 'store.db')));
   return open(dir);
 }
 

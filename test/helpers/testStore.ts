@@ -83,3 +83,17 @@ export function openTestStore(sqliteFile = ':memory:', options: StoreOptions = {
   };
   return store;
 }
+
+/**
+ * A copy of a test store: on SQLite the copied file at `sqliteCopy` (the caller copied it), on
+ * PostgreSQL a new database made from the store's as its template (CREATE DATABASE ... TEMPLATE,
+ * PostgreSQL 17 documentation, 22.3: the template may have no other connection meanwhile).
+ */
+export function copyTestStore(location: string, sqliteCopy: string): string {
+  if (testBackend() === 'sqlite') return sqliteCopy;
+  const from = decodeURIComponent(new URL(location).pathname.slice(1));
+  made += 1;
+  const name = `rw_copy_${process.pid}_${made}_${Date.now().toString(36)}`;
+  onServer((conn) => conn.query(`CREATE DATABASE "${name}" TEMPLATE "${from}"`));
+  return withDatabase(inject('pgUrl'), name);
+}

@@ -157,6 +157,11 @@ export class SyncConnection {
     return this.request({ op: 'copyEnd' }).rowCount;
   }
 
+  /** False once the connection has ended: closed, lost, or given up after a request with no answer. */
+  get isOpen(): boolean {
+    return !this.closed;
+  }
+
   /** Ends the connection and the worker. Safe to call twice. */
   close(): void {
     if (this.closed) return;

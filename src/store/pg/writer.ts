@@ -247,6 +247,13 @@ export class PgWriter implements StoreWriter {
   /** Rolls the open file back, and gives back the ids it took (sequences.ts). */
   rollback(): void {
     if (!this.inFile) return;
+    // A connection that has ended took its transaction with it (the server aborts a session's open
+    // transaction when the session ends): nothing to roll back, and the error that ended it is
+    // the one to report, not a second one from here.
+    if (!this.conn.isOpen) {
+      this.endFile(true);
+      return;
+    }
     const taken = { ...this.sink.taken, ...(this.fileIdTaken === undefined ? {} : { files: this.fileIdTaken }) };
     try {
       this.conn.query('ROLLBACK');
