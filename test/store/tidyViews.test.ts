@@ -226,6 +226,13 @@ describe('the tidy facts on PostgreSQL, against SQLite on the same inputs', () =
       release();
       release();
       expect(tryLock('hollow-creek')).toBe(true);
+      // A session that ended let its locks go with it: letting go afterwards throws nothing over the error that ended it.
+      const ending = new SyncConnection(pgDb.url);
+      const releaseEnded = lockSitesPg(ending, ['hollow-creek']);
+      expect(tryLock('hollow-creek')).toBe(false);
+      ending.close();
+      expect(releaseEnded).not.toThrow();
+      expect(tryLock('hollow-creek')).toBe(true);
       expect(tryLock('tamsin-ridge')).toBe(true);
       // Session-level locks count up: none is left held by the session that let go.
       expect(

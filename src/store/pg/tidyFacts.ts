@@ -14,7 +14,7 @@ import {
   type TidyRange,
   type TidyView,
 } from '../../domain/store.js';
-import { quoteIdentifier, type SqlValue, type SyncConnection } from './syncConnection.js';
+import { PgError, quoteIdentifier, type SqlValue, type SyncConnection } from './syncConnection.js';
 
 /** The order rows come in, as the SQLite store's (tidyFacts.ts TIDY_ORDER), text compared by its bytes. */
 const ORDER: Record<TidyView, string> = {
@@ -145,7 +145,13 @@ export function lockSitesPg(conn: SyncConnection, siteIds: readonly string[]): (
   return () => {
     if (released) return;
     released = true;
-    unlock(conn, held);
+    try {
+      unlock(conn, held);
+    } catch (error) {
+      // A session that has ended holds no advisory lock any more: nothing is left to let go, and
+      // the error that ended the connection is the one the caller must see, not this one.
+      if (!(error instanceof PgError) || (error.code !== 'connection' && error.code !== 'timeout')) throw error;
+    }
   };
 }
 
