@@ -148,8 +148,13 @@ function serverCpuMs(ticks: number, postmaster: number): number {
 
 /** The server's postmaster: the parent of this connection's backend (pg_backend_pid). */
 async function postmasterPid(url: string): Promise<number> {
-  const backend = await withAdmin(url, (client) => client.query<{ pid: number }>('SELECT pg_backend_pid() AS pid'));
-  return Number(statFields(backend.rows[0]!.pid)?.[1]);
+  // Read while the connection is open: its backend ends with it.
+  const postmaster = await withAdmin(url, async (client) => {
+    const backend = await client.query<{ pid: number }>('SELECT pg_backend_pid() AS pid');
+    return Number(statFields(backend.rows[0]!.pid)?.[1]);
+  });
+  if (!Number.isInteger(postmaster)) throw new Error("the bench could not find the PostgreSQL server's process");
+  return postmaster;
 }
 
 /** Runs a child and returns its report with the server's CPU over its run added (when the server is here). */
