@@ -27,13 +27,17 @@ function expectCountsAddUp(receipt: Receipt, dataRows: number): void {
 function unplacedResults(ws: TestWorkspace): number {
   return ws
     .sql()
-    .get<{ n: number }>('SELECT COUNT(*) AS n FROM results r WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = r.sample)')!.n;
+    .get<{ n: number }>(
+      'SELECT COUNT(*) AS n FROM results r WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = r.sample)',
+    )!.n;
 }
 
 const storedSampleIds = (ws: TestWorkspace) =>
   ws
     .sql()
-    .all<{ id: string }>('SELECT DISTINCT s.sample_id AS id FROM results r JOIN samples s ON s.id = r.sample ORDER BY 1')
+    .all<{ id: string }>(
+      'SELECT DISTINCT s.sample_id AS id FROM results r JOIN samples s ON s.id = r.sample ORDER BY 1',
+    )
     .map((row) => row.id);
 
 describe('location-coded sample IDs naming one pen twice on one day', () => {
