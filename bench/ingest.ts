@@ -27,7 +27,8 @@ import { parse } from 'csv-parse';
 import { addDays, format } from 'date-fns';
 import { ingestFile } from '../src/ingest/ingestFile.js';
 import { processFile } from '../src/pipeline.js';
-import { openWorkspace } from '../src/workspace.js';
+import { openWorkspace, type Workspace, type WorkspacePaths } from '../src/workspace.js';
+import type { StoreLocation } from '../src/workspacePaths.js';
 import { NORTHFIELD_HEADER, northfieldLine, patternSampleId, writeManySiteConfig } from '../test/helpers/hardening.js';
 import type { PairedRatio, Timing } from './pairs.js';
 import type { BenchRow } from './types.js';
@@ -135,6 +136,29 @@ function peakRssMb(): number {
   return kb ? Number(kb[1]) / 1024 : process.resourceUsage().maxRSS / 1024;
 }
 
+/** A bench workspace's folders under `dir`, on the store at `storeLocation`. */
+export function benchPaths(dir: string, storeLocation: StoreLocation): WorkspacePaths {
+  return {
+    configDir: path.join(dir, 'config'),
+    storeLocation,
+    inbox: path.join(dir, 'inbox'),
+    outbox: path.join(dir, 'outbox'),
+  };
+}
+
+/** Opens the workspace with the bench's fixed clock, `file` copied into its inbox (its path there is `target`). */
+export function benchWorkspace(paths: WorkspacePaths, file: string): { ws: Workspace; target: string } {
+  fs.mkdirSync(paths.inbox, { recursive: true });
+  const target = path.join(paths.inbox, path.basename(file));
+  fs.copyFileSync(file, target);
+  const ws = openWorkspace(
+    paths,
+    () => new Date('2026-12-01T12:00:00Z'),
+    () => {},
+  );
+  return { ws, target };
+}
+
 /**
  * Child side, in a fresh workspace under `dir`. `pipeline`: `processFile`, outputs included.
  * `store`: `ingestFile` (hash, sniff, parse, map, store, commit) with the outputs step left out,
@@ -150,20 +174,8 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
     );
     return;
   }
-  const paths = {
-    configDir: path.join(dir, 'config'),
-    storeLocation: { kind: 'sqlite' as const, file: path.join(dir, 'store.db') },
-    inbox: path.join(dir, 'inbox'),
-    outbox: path.join(dir, 'outbox'),
-  };
-  fs.mkdirSync(paths.inbox, { recursive: true });
-  const target = path.join(paths.inbox, path.basename(file));
-  fs.copyFileSync(file, target);
-  const ws = openWorkspace(
-    paths,
-    () => new Date('2026-12-01T12:00:00Z'),
-    () => {},
-  );
+  const paths = benchPaths(dir, { kind: 'sqlite', file: path.join(dir, 'store.db') });
+  const { ws, target } = benchWorkspace(paths, file);
   const {
     result: receipt,
     ms,

@@ -26,7 +26,7 @@ import pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import { writeManySiteConfig } from '../test/helpers/hardening.js';
 import { startTestServer, withAdmin, withDatabase } from '../test/helpers/pgServerStart.js';
-import { SHAPE, writeBigExport } from './ingest.js';
+import { benchPaths, benchWorkspace, SHAPE, writeBigExport } from './ingest.js';
 import { spread } from './pairs.js';
 import type { BenchRow } from './types.js';
 import { parseStoreLocation } from '../src/store/location.js';
@@ -75,24 +75,8 @@ async function copyFloor(file: string, url: string): Promise<Omit<ChildReport, '
 
 /** The ingest code into the store at `location` (a PostgreSQL URL or a SQLite file), outputs left out. */
 async function ingestInto(file: string, dir: string, location: string): Promise<Omit<ChildReport, 'mode'>> {
-  const [{ ingestFile }, { openWorkspace }] = await Promise.all([
-    import('../src/ingest/ingestFile.js'),
-    import('../src/workspace.js'),
-  ]);
-  const paths = {
-    configDir: path.join(dir, 'config'),
-    storeLocation: parseStoreLocation(location),
-    inbox: path.join(dir, 'inbox'),
-    outbox: path.join(dir, 'outbox'),
-  };
-  fs.mkdirSync(paths.inbox, { recursive: true });
-  const target = path.join(paths.inbox, path.basename(file));
-  fs.copyFileSync(file, target);
-  const ws = openWorkspace(
-    paths,
-    () => new Date('2026-12-01T12:00:00Z'),
-    () => {},
-  );
+  const { ingestFile } = await import('../src/ingest/ingestFile.js');
+  const { ws, target } = benchWorkspace(benchPaths(dir, parseStoreLocation(location)), file);
   try {
     const cpu0 = process.cpuUsage();
     const started = performance.now();

@@ -67,3 +67,20 @@ export interface RowSink {
   /** The file was rolled back: keys remembered from it may be gone. */
   forgetFile(): void;
 }
+
+/** A refused row's values in the column order of `rejected_rows` after its id (file_id, line, field, code, value, message, suggested_id, candidate_ids). */
+export function rejectionValues(
+  fileId: number,
+  r: RowRejection,
+): [number, number, string | null, string, string | null, string, string | null, string | null] {
+  return [
+    fileId,
+    r.line,
+    r.field ?? null,
+    r.code,
+    r.value ?? null,
+    r.message,
+    r.suggestedId ?? null,
+    r.candidateIds?.join(' ') ?? null,
+  ];
+}

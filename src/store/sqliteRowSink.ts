@@ -5,7 +5,7 @@
 import type { ResultRow, RopeLocation, RopeRow } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
 import type { EarlierReport, SupersessionLink } from '../domain/store.js';
-import type { RowSink, StoredSample } from './rowSink.js';
+import { rejectionValues, type RowSink, type StoredSample } from './rowSink.js';
 import { runInsertResult, type RowStatements } from './rowStatements.js';
 
 /** Reason texts remembered: a few per Ct value and assay. */
@@ -100,16 +100,7 @@ export class SqliteRowSink implements RowSink {
   }
 
   insertRejection(fileId: number, r: RowRejection): void {
-    this.statements.insertRejection.run(
-      fileId,
-      r.line,
-      r.field ?? null,
-      r.code,
-      r.value ?? null,
-      r.message,
-      r.suggestedId ?? null,
-      r.candidateIds?.join(' ') ?? null,
-    );
+    this.statements.insertRejection.run(...rejectionValues(fileId, r));
   }
 
   forgetFile(): void {

@@ -12,7 +12,7 @@
 import type { ResultRow, RopeLocation, RopeRow } from '../../domain/records.js';
 import type { RowRejection } from '../../domain/rejections.js';
 import type { EarlierReport, SupersessionLink } from '../../domain/store.js';
-import type { BatchPreview, RowSink, StoredSample } from '../rowSink.js';
+import { type BatchPreview, rejectionValues, type RowSink, type StoredSample } from '../rowSink.js';
 import { type BatchFacts, lookUpBatch, penKey, type RopeFact, reportKey } from './batchFacts.js';
 import { type BatchWrites, PROVISIONAL, resultValues, writeBatch } from './bulkFlush.js';
 import { noteTaken, type Sequences, type TakenMax, takeIds } from './sequences.js';
@@ -259,14 +259,7 @@ export class PgBulkSink implements RowSink {
   insertRejection(fileId: number, r: RowRejection): void {
     this.writes.rejections.push([
       PROVISIONAL.rejections + this.writes.rejections.length,
-      fileId,
-      r.line,
-      r.field ?? null,
-      r.code,
-      r.value ?? null,
-      r.message,
-      r.suggestedId ?? null,
-      r.candidateIds?.join(' ') ?? null,
+      ...rejectionValues(fileId, r),
     ]);
   }
 
