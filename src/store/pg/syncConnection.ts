@@ -2,8 +2,8 @@
  * A PostgreSQL connection with a synchronous interface, for a store whose interfaces are
  * synchronous (src/domain/store.ts, shaped by better-sqlite3). The connection (node-postgres)
  * lives on a worker thread (syncWorker.ts); each call posts one request and blocks this thread on
- * Atomics.wait until the worker has put the reply on the reply port, then takes it with
- * receiveMessageOnPort. One request at a time, in order, on one connection: a transaction is
+ * Atomics.wait until the worker has put the reply on the reply port and counted it, then takes it
+ * with receiveMessageOnPort (replyWait.ts). One request at a time, in order, on one connection: a transaction is
  * BEGIN ... COMMIT sent as queries.
  *
  * Measured round trip of a trivial query (`SELECT 1`, 2 000 in a row, local TCP, a 2-core machine
@@ -12,8 +12,9 @@
  * Starting the worker and connecting takes about 0.4 s compiled (dist/) and 0.7 s from the
  * TypeScript sources (tsx registered in the worker).
  */
-import { MessageChannel, type MessagePort, receiveMessageOnPort, Worker } from 'node:worker_threads';
+import { MessageChannel, type MessagePort, Worker } from 'node:worker_threads';
 import { copyLine } from './copyText.js';
+import { awaitReply } from './replyWait.js';
 import type {
   FromSyncWorker,
   ServerErrorFields,
@@ -76,7 +77,9 @@ function withBuffers(rows: Record<string, unknown>[]): Record<string, unknown>[]
 
 export class SyncConnection {
   private readonly worker: Worker;
-  private readonly signal = new Int32Array(new SharedArrayBuffer(4));
+  /** The count of replies the worker has posted (replyWait.ts). */
+  private readonly repliesPosted = new Int32Array(new SharedArrayBuffer(4));
+  private requestsSent = 0;
   private readonly replies: MessagePort;
   private readonly timeoutMs: number;
   private closed = false;
@@ -91,7 +94,7 @@ export class SyncConnection {
     this.replies = channel.port1;
     const data: SyncWorkerData = {
       connectionString,
-      signal: this.signal.buffer as SharedArrayBuffer,
+      repliesPosted: this.repliesPosted.buffer as SharedArrayBuffer,
       replies: channel.port2,
     };
     this.worker = new Worker(WORKER_ENTRY, {
@@ -193,16 +196,14 @@ export class SyncConnection {
 
   private request(message: ToSyncWorker): Extract<FromSyncWorker, { ok: true }> {
     if (this.closed) throw new PgError({ code: 'connection', message: 'the PostgreSQL connection is closed' });
-    Atomics.store(this.signal, 0, 0);
+    this.requestsSent += 1;
     this.worker.postMessage(message);
-    const waited = Atomics.wait(this.signal, 0, 0, this.timeoutMs);
-    const reply = receiveMessageOnPort(this.replies)?.message as FromSyncWorker | undefined;
-    if (reply === undefined) {
+    const awaited = awaitReply<FromSyncWorker>(this.replies, this.repliesPosted, this.requestsSent, this.timeoutMs);
+    if (awaited.kind === 'timed-out') {
       this.stop();
-      const why =
-        waited === 'timed-out' ? `no answer within ${this.timeoutMs} ms` : 'the worker ended without an answer';
-      throw new PgError({ code: waited === 'timed-out' ? 'timeout' : 'connection', message: `PostgreSQL: ${why}` });
+      throw new PgError({ code: 'timeout', message: `PostgreSQL: no answer within ${this.timeoutMs} ms` });
     }
+    const reply = awaited.reply;
     if (!reply.ok) {
       throw new PgError({ ...reply.error, code: reply.error.code ?? 'connection' });
     }

@@ -1,7 +1,7 @@
 /**
  * The messages between a synchronous PostgreSQL connection (syncConnection.ts, the caller's
  * thread) and its worker (syncWorker.ts). Each request is answered by exactly one reply on the
- * reply port, after which the worker sets the shared flag and wakes the caller.
+ * reply port, after which the worker counts it in the shared counter and wakes the caller.
  */
 import type { MessagePort } from 'node:worker_threads';
 
@@ -39,7 +39,7 @@ export type FromSyncWorker =
 /** Sent once, with the worker's start: where to connect and how to answer. */
 export interface SyncWorkerData {
   connectionString: string;
-  /** Int32Array over a SharedArrayBuffer: [0] is 1 once a reply waits on the reply port. */
-  signal: SharedArrayBuffer;
+  /** Int32Array over a SharedArrayBuffer: [0] counts the replies posted on the reply port (replyWait.ts). */
+  repliesPosted: SharedArrayBuffer;
   replies: MessagePort;
 }

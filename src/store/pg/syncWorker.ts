@@ -1,18 +1,19 @@
 /**
  * The worker side of a synchronous PostgreSQL connection: one node-postgres client, driven by
  * the requests of syncConnection.ts one at a time. Every request gets one reply on the reply
- * port, then the shared flag is set and the caller woken (Atomics.notify). Nothing here throws
+ * port, then it is counted in the shared counter and the caller woken (replyWait.ts). Nothing here throws
  * past a request: a failure is a reply carrying the server's error fields.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import pg from 'pg';
 import { type CopyStreamQuery, from as copyFrom } from 'pg-copy-streams';
+import { countReply } from './replyWait.js';
 import type { FromSyncWorker, ServerErrorFields, SyncWorkerData, ToSyncWorker } from './syncProtocol.js';
 
 const INT8_OID = 20;
 
 const data = workerData as SyncWorkerData;
-const signal = new Int32Array(data.signal);
+const repliesPosted = new Int32Array(data.repliesPosted);
 const replies = data.replies;
 
 // bigint columns (ids, counts, the 52-bit content key) as JavaScript numbers, as the SQLite
@@ -37,8 +38,7 @@ let copy: { stream: CopyStreamQuery; failure: Error | undefined } | undefined;
 
 function reply(message: FromSyncWorker): void {
   replies.postMessage(message);
-  Atomics.store(signal, 0, 1);
-  Atomics.notify(signal, 0);
+  countReply(repliesPosted);
 }
 
 function errorFields(error: unknown): ServerErrorFields {

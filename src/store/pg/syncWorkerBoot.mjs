@@ -21,7 +21,8 @@ try {
     ok: false,
     error: { code: 'connection', message: `the PostgreSQL connection's worker did not start: ${error?.message ?? error}` },
   });
-  const signal = new Int32Array(workerData.signal);
-  Atomics.store(signal, 0, 1);
-  Atomics.notify(signal, 0);
+  // Counted as replyWait.ts's countReply does (this file loads before any TypeScript can).
+  const repliesPosted = new Int32Array(workerData.repliesPosted);
+  Atomics.add(repliesPosted, 0, 1);
+  Atomics.notify(repliesPosted, 0);
 }
