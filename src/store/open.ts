@@ -98,7 +98,19 @@ export function openDatabase(file: string, options: StoreOptions = {}): Database
   }
 }
 
+/**
+ * The page size of a new store, in bytes (SQLite's default is 4096). A lab export is stored in
+ * one transaction that appends to a handful of B-trees: with 16 KB pages it writes a quarter of
+ * the pages and page headers, splits a quarter as often and commits its WAL frames in a quarter
+ * of the writes (on the bench's 1M-row export about a tenth less of SQLite's CPU time, its commit
+ * about half). Only an empty database takes it (sqlite.org/pragma.html#pragma_page_size): a
+ * store created before keeps its pages.
+ */
+export const NEW_STORE_PAGE_SIZE = 16_384;
+
 function setPragmas(db: Database.Database, options: StoreOptions): void {
+  // Before WAL: a database in WAL mode never changes its page size.
+  if (db.pragma('page_count', { simple: true }) === 0) db.pragma(`page_size = ${NEW_STORE_PAGE_SIZE}`);
   db.pragma('journal_mode = WAL');
   // A file is archived only after its commit, so the commit must survive a power cut.
   db.pragma('synchronous = FULL');

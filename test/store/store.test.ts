@@ -148,6 +148,28 @@ describe('Store schema', () => {
       expect(raw.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
       raw.close();
     });
+
+    // SQLite documentation, PRAGMA page_size: only an empty database takes a new page size, and
+    // a database in WAL mode keeps its size (sqlite.org/pragma.html#pragma_page_size).
+    it('creates a new store with 16 KB pages and opens a store made with 4 KB pages as it is, rows kept', () => {
+      const ws = workspace();
+      const fresh = new Store(ws.paths.dbFile);
+      expect(fresh.db.pragma('page_size', { simple: true })).toBe(16_384);
+      fresh.close();
+      const older = path.join(path.dirname(ws.paths.dbFile), 'older.db');
+      const made = new Database(older);
+      made.pragma('page_size = 4096');
+      made.pragma('journal_mode = WAL');
+      made.close();
+      const opened = new Store(older);
+      opened.setMeta('marker', 'kept');
+      opened.close();
+      const raw = new Database(older, { readonly: true });
+      expect(raw.pragma('page_size', { simple: true })).toBe(4096);
+      expect(raw.prepare("SELECT value FROM meta WHERE key = 'marker'").pluck().get()).toBe('kept');
+      expect(raw.pragma('integrity_check', { simple: true })).toBe('ok');
+      raw.close();
+    });
   });
 
   it('refuses to store rows outside a file transaction and leaves nothing after a rollback', () => {
