@@ -6,6 +6,7 @@
  * with `freshDatabase()`.
  */
 import { inject } from 'vitest';
+import { noteDatabaseMade } from './pgDatabaseCount.js';
 import { withAdmin, withDatabase } from './pgServerStart.js';
 
 export { startTestServer, TEST_PG_URL_ENV, withAdmin, withDatabase, type PgServer } from './pgServerStart.js';
@@ -36,6 +37,7 @@ export async function freshDatabase(label = 'test'): Promise<TestDatabase> {
   made += 1;
   const name = `rw_${label.replace(/[^a-z0-9]/gi, '_').toLowerCase()}_${process.pid}_${made}_${Date.now().toString(36)}`;
   await withAdmin(serverUrl, (client) => client.query(`CREATE DATABASE "${name}"`));
+  noteDatabaseMade();
   return {
     url: withDatabase(serverUrl, name),
     name,

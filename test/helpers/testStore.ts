@@ -10,6 +10,7 @@ import { parseStoreLocation } from '../../src/store/location.js';
 import type { StoreOptions } from '../../src/store/open.js';
 import { openStore } from '../../src/store/openStore.js';
 import { SyncConnection } from '../../src/store/pg/syncConnection.js';
+import { noteDatabaseMade } from './pgDatabaseCount.js';
 import { withDatabase } from './pgServerStart.js';
 
 export const TEST_STORE_ENV = 'ROPEWATCH_TEST_STORE';
@@ -47,6 +48,7 @@ export function freshDatabaseSync(label = 'store'): TestStoreLocation & { name: 
   made += 1;
   const name = `rw_${label.replace(/[^a-z0-9]/gi, '_').toLowerCase()}_${process.pid}_${made}_${Date.now().toString(36)}`;
   onServer((conn) => conn.query(`CREATE DATABASE "${name}"`));
+  noteDatabaseMade();
   return {
     name,
     location: withDatabase(inject('pgUrl'), name),
@@ -58,6 +60,22 @@ export function freshDatabaseSync(label = 'store'): TestStoreLocation & { name: 
 export function testStoreLocation(sqliteFile: string, label = 'store'): TestStoreLocation {
   if (testBackend() === 'sqlite') return { location: sqliteFile, drop: () => {} };
   return freshDatabaseSync(label);
+}
+
+/**
+ * As `testStoreLocation`, with the PostgreSQL database made when its location is first read: a
+ * workspace whose store no test reaches (a test of its config folder) makes no database.
+ */
+export function lazyTestStoreLocation(sqliteFile: string, label = 'store'): TestStoreLocation {
+  if (testBackend() === 'sqlite') return { location: sqliteFile, drop: () => {} };
+  let place: TestStoreLocation | undefined;
+  return {
+    get location() {
+      place ??= freshDatabaseSync(label);
+      return place.location;
+    },
+    drop: () => place?.drop(),
+  };
 }
 
 /**
@@ -95,5 +113,6 @@ export function copyTestStore(location: string, sqliteCopy: string): string {
   made += 1;
   const name = `rw_copy_${process.pid}_${made}_${Date.now().toString(36)}`;
   onServer((conn) => conn.query(`CREATE DATABASE "${name}" TEMPLATE "${from}"`));
+  noteDatabaseMade();
   return withDatabase(inject('pgUrl'), name);
 }

@@ -13,10 +13,10 @@ import type { Config } from '../../src/config/types.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { processFile, type ProcessOutcome } from '../../src/pipeline.js';
 import { Store } from '../../src/store/store.js';
-import { parseStoreLocation } from '../../src/store/location.js';
+import { parseStoreLocation, type StoreLocation } from '../../src/store/location.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../../src/workspace.js';
 import { storeSql, type StoreSql } from './storeSql.js';
-import { testStoreLocation } from './testStore.js';
+import { lazyTestStoreLocation } from './testStore.js';
 
 export const FIXED_NOW = new Date('2026-12-01T12:00:00Z');
 
@@ -85,9 +85,20 @@ export interface TestWorkspace {
 export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace {
   const root = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-test-'));
   const sqlite = sqlitePaths(root);
-  // On the PostgreSQL run the store is a new database; dbFile then names no file.
-  const store = testStoreLocation(sqlite.dbFile, 'ws');
-  const paths: TestPaths = { ...sqlite, storeLocation: parseStoreLocation(store.location), db: store.location };
+  // On the PostgreSQL run the store is a new database, made when `db`, `storeLocation` or the CLI
+  // flags are first read (a test of the config folder alone makes none); dbFile then names no file.
+  const store = lazyTestStoreLocation(sqlite.dbFile, 'ws');
+  let storeLocation: StoreLocation | undefined;
+  const paths: TestPaths = {
+    ...sqlite,
+    get storeLocation() {
+      storeLocation ??= parseStoreLocation(store.location);
+      return storeLocation;
+    },
+    get db() {
+      return store.location;
+    },
+  };
   fs.cpSync(options.configFrom ?? DEMO_CONFIG_DIR, paths.configDir, { recursive: true });
   for (const [name, text] of Object.entries(options.configFiles ?? {})) {
     fs.mkdirSync(path.dirname(path.join(paths.configDir, name)), { recursive: true });
@@ -109,7 +120,9 @@ export function makeWorkspace(options: TestWorkspaceOptions = {}): TestWorkspace
   return {
     root,
     paths,
-    cliFlags: ['--config', paths.configDir, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox],
+    get cliFlags() {
+      return ['--config', paths.configDir, '--db', paths.db, '--inbox', paths.inbox, '--outbox', paths.outbox];
+    },
     config: () => (open ? open.config : loadConfig(paths.configDir)),
     ws,
     drop: async (name, bytes) => {
