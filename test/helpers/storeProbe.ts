@@ -78,12 +78,29 @@ export function storedResults(location: string, sampleId: string): number {
   }
 }
 
-/** Waits until a committed result for `sampleId` can be read from the store. */
+/**
+ * Waits until a committed result for `sampleId` can be read from the store. On PostgreSQL one
+ * connection asks again and again: opening one per look (a worker thread and a login, half a
+ * second under load) would make the caller act long after the commit it waits for.
+ */
 export async function waitForStored(location: string, sampleId: string, timeoutMs: number): Promise<void> {
   const started = Date.now();
-  while (Date.now() - started < timeoutMs) {
-    if (storedResults(location, sampleId) > 0) return;
-    await sleep(5);
+  const conn = isPostgresLocation(location) ? new SyncConnection(location) : undefined;
+  const stored = (): number => {
+    if (conn === undefined) return storedResults(location, sampleId);
+    try {
+      return conn.query<{ n: number }>(`${STORED}$1`, [sampleId]).rows[0]!.n;
+    } catch {
+      return 0; // the schema is not there yet
+    }
+  };
+  try {
+    while (Date.now() - started < timeoutMs) {
+      if (stored() > 0) return;
+      await sleep(5);
+    }
+  } finally {
+    conn?.close();
   }
   throw new Error(`no commit of ${sampleId} within ${timeoutMs} ms`);
 }
