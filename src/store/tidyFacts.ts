@@ -105,10 +105,20 @@ export function readTidyView(
   siteId: string,
   range: TidyRange = {},
 ): Record<string, unknown>[] {
-  return prepared(db, VIEW_SQL[view]).all({
+  const statement = prepared(db, VIEW_SQL[view]).raw(true);
+  const names = statement.columns().map((column) => column.name);
+  const values = statement.all({
     siteId,
     from: range.from ?? null,
     to: range.to ?? null,
     fromRound: range.fromRound ?? 0,
-  }) as Record<string, unknown>[];
+  }) as unknown[][];
+  // The rows as arrays, made objects here: better-sqlite3's row objects come out slow to build and
+  // to read when a row has as many columns as tidy_results (measured: about a third of the time
+  // spent reading the view and writing its CSV). The keys in column order, as better-sqlite3's.
+  return values.map((row) => {
+    const record: Record<string, unknown> = {};
+    for (let column = 0; column < names.length; column++) record[names[column]!] = row[column];
+    return record;
+  });
 }
