@@ -90,6 +90,38 @@ describe('the tidy views of the store', () => {
     expect(readTidyView(db, 'results', 'hollow-creek', { from: '2026-08-04' })).toHaveLength(0);
     expect(readTidyView(db, 'results', 'hollow-creek', { to: '2026-08-03' })).toHaveLength(2);
   });
+
+  it('keep each connection its own statements: a second connection reads what the first wrote, and the first closed leaves it reading', () => {
+    const ws = workspace();
+    version6Store(ws.paths.dbFile);
+    const { db } = sqliteStore(ws.ws().store);
+    const other = new Database(ws.paths.dbFile);
+    try {
+      const rope = { round: 1, roundId: 'r01-2026-08-03', roundStart: '2026-08-03', groupId: null, barnId: 'F1' };
+      // Both connections read (and so keep the view's statement) before any facts are written.
+      expect(readTidyView(db, 'results', 'hollow-creek')).toEqual([]);
+      expect(readTidyView(other, 'results', 'hollow-creek')).toEqual([]);
+      replaceSiteFacts(db, 'hollow-creek', {
+        ropeRounds: [{ ...rope, sampleId: 'S3', penId: 'A3', poolId: null }],
+        rounds: [],
+        alerts: [],
+      });
+      // S3's two reports (the first superseded by the second): inserted in version6Store above.
+      expect(readTidyView(other, 'results', 'hollow-creek').map((row) => row.result_id)).toEqual([11, 12]);
+      db.close();
+      replaceSiteFacts(other, 'hollow-creek', {
+        ropeRounds: [{ ...rope, sampleId: 'P1', penId: 'A1', poolId: 'POOL' }],
+        rounds: [],
+        alerts: [],
+      });
+      expect(readTidyView(other, 'results', 'hollow-creek').map((row) => [row.pen, row.result_id])).toEqual([
+        ['A1', 10],
+      ]);
+      expect(() => readTidyView(db, 'results', 'hollow-creek')).toThrow(/not open/);
+    } finally {
+      other.close();
+    }
+  });
 });
 
 /**
