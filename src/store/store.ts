@@ -35,7 +35,6 @@ export { StoreOpenError, type StoreOptions } from './open.js';
 
 export class Store extends ComposedStore {
   readonly db: Database.Database;
-  private readonly sqliteWriter: SqliteWriter;
 
   /**
    * Opens (or, unless `create` is false, creates) the store and brings its schema up to date.
@@ -47,11 +46,10 @@ export class Store extends ComposedStore {
     const writer = new SqliteWriter(db);
     super(writer, new SqliteReader(db, () => writer.fileOpen));
     this.db = db;
-    this.sqliteWriter = writer;
   }
 
   close(): void {
-    this.sqliteWriter.rollback();
+    this.rollback();
     this.db.close();
   }
 

@@ -1,5 +1,5 @@
 /**
- * How many PostgreSQL databases this test file has made (test/helpers/testStore.ts,
+ * The names of the PostgreSQL databases tests make, and how many this test file has made (test/helpers/testStore.ts,
  * test/helpers/pgServer.ts), so the `postgres` project can tell a file that opens a store there
  * from one that only repeats the SQLite run (test/helpers/pgStoreOpened.ts). Kept on globalThis:
  * one count per worker process, reset as each file starts.
@@ -20,4 +20,12 @@ export function databasesMade(): number {
 
 export function resetDatabasesMade(): void {
   (globalThis as Counted)[KEY] = 0;
+}
+
+let named = 0;
+
+/** A database name unique on the test server: the label, this process and a count. */
+export function newDatabaseName(label: string): string {
+  named += 1;
+  return `rw_${label.replace(/[^a-z0-9]/gi, '_').toLowerCase()}_${process.pid}_${named}_${Date.now().toString(36)}`;
 }

@@ -6,7 +6,7 @@
  * with `freshDatabase()`.
  */
 import { inject } from 'vitest';
-import { noteDatabaseMade } from './pgDatabaseCount.js';
+import { newDatabaseName, noteDatabaseMade } from './pgDatabaseCount.js';
 import { withAdmin, withDatabase } from './pgServerStart.js';
 
 export { startTestServer, TEST_PG_URL_ENV, withAdmin, withDatabase, type PgServer } from './pgServerStart.js';
@@ -26,16 +26,13 @@ export interface TestDatabase {
   drop(): Promise<void>;
 }
 
-let made = 0;
-
 /**
  * A new, empty database on the test server, named uniquely for this process; `drop()` removes
  * it (call it in afterAll).
  */
 export async function freshDatabase(label = 'test'): Promise<TestDatabase> {
   const serverUrl = inject('pgUrl');
-  made += 1;
-  const name = `rw_${label.replace(/[^a-z0-9]/gi, '_').toLowerCase()}_${process.pid}_${made}_${Date.now().toString(36)}`;
+  const name = newDatabaseName(label);
   await withAdmin(serverUrl, (client) => client.query(`CREATE DATABASE "${name}"`));
   noteDatabaseMade();
   return {

@@ -55,14 +55,21 @@ export async function waitForFileTransaction(location: string, timeoutMs: number
 
 const STORED = 'SELECT COUNT(*) AS n FROM results r JOIN samples s ON s.id = r.sample WHERE s.sample_id = ';
 
+/** storedResults on an open PostgreSQL connection (0 while the schema is not there yet). */
+function storedOn(conn: SyncConnection, sampleId: string): number {
+  try {
+    return conn.query<{ n: number }>(`${STORED}$1`, [sampleId]).rows[0]!.n;
+  } catch {
+    return 0;
+  }
+}
+
 /** How many committed results `sampleId` has (0 while the store or its schema is not there yet). */
 export function storedResults(location: string, sampleId: string): number {
   if (isPostgresLocation(location)) {
     const conn = new SyncConnection(location);
     try {
-      return conn.query<{ n: number }>(`${STORED}$1`, [sampleId]).rows[0]!.n;
-    } catch {
-      return 0;
+      return storedOn(conn, sampleId);
     } finally {
       conn.close();
     }
@@ -86,14 +93,7 @@ export function storedResults(location: string, sampleId: string): number {
 export async function waitForStored(location: string, sampleId: string, timeoutMs: number): Promise<void> {
   const started = Date.now();
   const conn = isPostgresLocation(location) ? new SyncConnection(location) : undefined;
-  const stored = (): number => {
-    if (conn === undefined) return storedResults(location, sampleId);
-    try {
-      return conn.query<{ n: number }>(`${STORED}$1`, [sampleId]).rows[0]!.n;
-    } catch {
-      return 0; // the schema is not there yet
-    }
-  };
+  const stored = (): number => (conn === undefined ? storedResults(location, sampleId) : storedOn(conn, sampleId));
   try {
     while (Date.now() - started < timeoutMs) {
       if (stored() > 0) return;

@@ -10,7 +10,7 @@ import { parseStoreLocation } from '../../src/store/location.js';
 import type { StoreOptions } from '../../src/store/open.js';
 import { openStore } from '../../src/store/openStore.js';
 import { SyncConnection } from '../../src/store/pg/syncConnection.js';
-import { noteDatabaseMade } from './pgDatabaseCount.js';
+import { newDatabaseName, noteDatabaseMade } from './pgDatabaseCount.js';
 import { withDatabase } from './pgServerStart.js';
 
 export const TEST_STORE_ENV = 'ROPEWATCH_TEST_STORE';
@@ -28,8 +28,6 @@ export interface TestStoreLocation {
   drop: () => void;
 }
 
-let made = 0;
-
 /** Runs `body` on a synchronous connection to the test server's maintenance database. */
 function onServer<T>(body: (conn: SyncConnection) => T): T {
   const conn = new SyncConnection(inject('pgUrl'));
@@ -45,8 +43,7 @@ function onServer<T>(body: (conn: SyncConnection) => T): T {
  * synchronously), named uniquely for this process.
  */
 export function freshDatabaseSync(label = 'store'): TestStoreLocation & { name: string } {
-  made += 1;
-  const name = `rw_${label.replace(/[^a-z0-9]/gi, '_').toLowerCase()}_${process.pid}_${made}_${Date.now().toString(36)}`;
+  const name = newDatabaseName(label);
   onServer((conn) => conn.query(`CREATE DATABASE "${name}"`));
   noteDatabaseMade();
   return {
@@ -110,8 +107,7 @@ export function openTestStore(sqliteFile = ':memory:', options: StoreOptions = {
 export function copyTestStore(location: string, sqliteCopy: string): string {
   if (testBackend() === 'sqlite') return sqliteCopy;
   const from = decodeURIComponent(new URL(location).pathname.slice(1));
-  made += 1;
-  const name = `rw_copy_${process.pid}_${made}_${Date.now().toString(36)}`;
+  const name = newDatabaseName('copy');
   onServer((conn) => conn.query(`CREATE DATABASE "${name}" TEMPLATE "${from}"`));
   noteDatabaseMade();
   return withDatabase(inject('pgUrl'), name);

@@ -10,7 +10,6 @@ import { PgWriter } from './writer.js';
 
 export class PgStore extends ComposedStore {
   readonly conn: SyncConnection;
-  private readonly pgWriter: PgWriter;
 
   /** On an open connection whose schema is up to date (see openPgStore). */
   constructor(conn: SyncConnection) {
@@ -20,13 +19,12 @@ export class PgStore extends ComposedStore {
     writer = new PgWriter(conn, (sha256) => reader.findFileByHash(sha256));
     super(writer, reader);
     this.conn = conn;
-    this.pgWriter = writer;
   }
 
   /** Rolls back an open file and ends the connection. */
   close(): void {
     try {
-      this.pgWriter.rollback();
+      this.rollback();
     } finally {
       this.conn.close();
     }
