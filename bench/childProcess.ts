@@ -160,17 +160,6 @@ export function lastJsonLine<T>(run: ChildRun, what: string): T {
   return JSON.parse(run.stdout.trim().split('\n').at(-1)!) as T;
 }
 
-/** Peak resident memory of this process so far, MiB (VmHWM; maxRSS where /proc is missing). */
-export function ownPeakRssMb(): number {
-  try {
-    const kb = /^VmHWM:\s*(\d+)\s*kB/m.exec(fs.readFileSync('/proc/self/status', 'utf8'));
-    if (kb) return Number(kb[1]) / 1024;
-  } catch {
-    // no /proc
-  }
-  return process.resourceUsage().maxRSS / 1024;
-}
-
 /** "site 12 of 200, 34 s" on one rewritten line of stderr, only when stderr is a terminal. */
 export function terminalProgress(label: string): { show: (text: string) => void; done: () => void } | undefined {
   if (!process.stderr.isTTY) return undefined;

@@ -22,7 +22,7 @@ import { runChild, terminalProgress, writeHook } from './childProcess.js';
 import { DROP_NOW } from './drop.js';
 import { below, TARGETS } from './targets.js';
 import type { BenchRow, PartOptions } from './types.js';
-import { sitesWritten, storeRounds, workspacePaths } from './workspaces.js';
+import { reportArgs, sitesWritten, siteProgressText, storeRounds, workspacePaths } from './workspaces.js';
 
 const HEAP_MB = 512;
 
@@ -40,32 +40,13 @@ export async function benchMemory(
     const paths = workspacePaths(dir);
     const siteIds = Array.from({ length: sites }, (_, i) => generatedSite(i).id);
     const progress = terminalProgress('bench memory');
-    const run = await runChild(
-      [
-        bin,
-        'report',
-        '--config',
-        paths.configDir,
-        '--db',
-        paths.dbFile,
-        '--inbox',
-        paths.inbox,
-        '--outbox',
-        paths.outbox,
-      ],
-      {
-        hook: writeHook(root),
-        cwd: REPO_ROOT,
-        nodeOptions: [`--max-old-space-size=${HEAP_MB}`],
-        tickMs: 1000,
-        onTick: progress
-          ? (ms) =>
-              progress.show(
-                `site ${Math.min(sitesWritten(paths.outbox, siteIds) + 1, sites)} of ${sites}, ${(ms / 1000).toFixed(0)} s`,
-              )
-          : undefined,
-      },
-    );
+    const run = await runChild(reportArgs(bin, paths), {
+      hook: writeHook(root),
+      cwd: REPO_ROOT,
+      nodeOptions: [`--max-old-space-size=${HEAP_MB}`],
+      tickMs: 1000,
+      onTick: progress ? (ms) => progress.show(siteProgressText(paths.outbox, siteIds, ms)) : undefined,
+    });
     progress?.done();
     const completed = run.status === 0;
     const written = sitesWritten(paths.outbox, siteIds);

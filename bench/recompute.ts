@@ -20,20 +20,18 @@
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { fileURLToPath } from 'node:url';
-import { compiledBin } from '../test/helpers/compiledCli.js';
+import { compiledBin, REPO_ROOT } from '../test/helpers/compiledCli.js';
 import { generatedSite } from '../test/helpers/hardening.js';
 import { CALIBRATION_TEXT, calibrate, calibrationWork } from './calibration.js';
 import { runChild, terminalProgress, writeHook } from './childProcess.js';
 import { describePair, pairedRuns, type Timing } from './pairs.js';
 import { below, TARGETS } from './targets.js';
 import type { BenchRow, PartOptions } from './types.js';
-import { sitesWritten, storeRounds, workspacePaths } from './workspaces.js';
+import { reportArgs, siteProgressText, storeRounds, workspacePaths } from './workspaces.js';
 
-const HERE = path.dirname(fileURLToPath(import.meta.url));
-const REPO = path.resolve(HERE, '..');
 const ROUNDS = 10;
 const TARGET_SITE_ROUNDS = 2000;
+/** The clock the store is filled with; `report` itself runs on the real clock (its dates do not change its work). */
 const NOW = new Date('2026-12-01T12:00:00Z');
 
 /** One `ropewatch report` run, measured from outside (the whole process, every thread). */
@@ -55,32 +53,12 @@ async function recomputeOnce(bin: string, prepared: string, runDir: string, hook
   fs.cpSync(prepared, runDir, { recursive: true });
   const paths = workspacePaths(runDir);
   const progress = terminalProgress('bench recompute');
-  const run = await runChild(
-    [
-      bin,
-      'report',
-      '--json',
-      '--config',
-      paths.configDir,
-      '--db',
-      paths.dbFile,
-      '--inbox',
-      paths.inbox,
-      '--outbox',
-      paths.outbox,
-    ],
-    {
-      hook,
-      cwd: REPO,
-      tickMs: 1000,
-      onTick: progress
-        ? (ms) =>
-            progress.show(
-              `site ${Math.min(sitesWritten(paths.outbox, siteIds) + 1, siteIds.length)} of ${siteIds.length}, ${(ms / 1000).toFixed(0)} s`,
-            )
-        : undefined,
-    },
-  );
+  const run = await runChild(reportArgs(bin, paths, ['--json']), {
+    hook,
+    cwd: REPO_ROOT,
+    tickMs: 1000,
+    onTick: progress ? (ms) => progress.show(siteProgressText(paths.outbox, siteIds, ms)) : undefined,
+  });
   progress?.done();
   fs.rmSync(runDir, { recursive: true, force: true });
   if (run.status !== 0)

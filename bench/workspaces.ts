@@ -93,3 +93,29 @@ export function outboxFigures(outbox: string, sinceMs: number): OutboxFigures {
 export function sitesWritten(outbox: string, siteIds: readonly string[]): number {
   return siteIds.filter((id) => fs.existsSync(path.join(outbox, id, 'next-round.json'))).length;
 }
+
+/** The arguments of `ropewatch report` (the compiled `bin`) on the workspace at `paths`, `options` before its folders. */
+export function reportArgs(
+  bin: string,
+  paths: ReturnType<typeof workspacePaths>,
+  options: readonly string[] = [],
+): string[] {
+  return [
+    bin,
+    'report',
+    ...options,
+    '--config',
+    paths.configDir,
+    '--db',
+    paths.dbFile,
+    '--inbox',
+    paths.inbox,
+    '--outbox',
+    paths.outbox,
+  ];
+}
+
+/** A report's progress on a terminal: the site being built (site folders published so far, plus one) and the time. */
+export function siteProgressText(outbox: string, siteIds: readonly string[], elapsedMs: number): string {
+  return `site ${Math.min(sitesWritten(outbox, siteIds) + 1, siteIds.length)} of ${siteIds.length}, ${(elapsedMs / 1000).toFixed(0)} s`;
+}
