@@ -6,7 +6,7 @@
  */
 import { penIdsOf } from '../rounds/penIds.js';
 import type { Assay, Config, Site } from '../config/types.js';
-import { barnCtHistory, type SiteRound } from '../rounds/roundModel.js';
+import { barnCtHistory, type CtHistoryPoint, type PenAssayResult, type SiteRound } from '../rounds/roundModel.js';
 import type { RoundConfidence, SiteConfidence } from './confidence.js';
 
 import type {
@@ -182,28 +182,86 @@ function penSummaries(
       return then !== undefined && !then.empty && (then.group?.id ?? null) === (barnRound.group?.id ?? null);
     });
     const historyOf = barnCtHistory(sameGroup, barnRound.barnId);
-    return barnRound.pens.map((pen) => ({
-      barnId: barnRound.barnId,
-      penId: pen.penId,
-      side: pen.rowLabel,
-      sampleIds: pen.sampleIds,
-      returned: pen.returned,
-      results: Object.fromEntries(
-        Object.entries(pen.results).map(([assayId, result]) => [
-          assayId,
-          (({ assayId: _assay, otherSampleIds: _others, ...kept }): PenResultSummary => ({
-            ...kept,
-            labName: labName(result.labId),
-            sequencingCandidate: isSequencingCandidate(result, sequencingBelowOf(config.assayById.get(assayId))),
-            history: historyOf(pen.penId, assayId).map((point) => ({
-              ...point,
-              labName: labName(point.labId),
-            })),
-          }))(result),
-        ]),
-      ),
-    }));
+    return barnRound.pens.map((pen) => {
+      const results: Record<string, PenResultSummary> = {};
+      for (const assayId in pen.results) {
+        const result = pen.results[assayId]!;
+        results[assayId] = penResultSummary(
+          result,
+          labName(result.labId),
+          isSequencingCandidate(result, sequencingBelowOf(config.assayById.get(assayId))),
+          historyOf(pen.penId, assayId).map((point) => historyPointSummary(point, labName(point.labId))),
+        );
+      }
+      return {
+        barnId: barnRound.barnId,
+        penId: pen.penId,
+        side: pen.rowLabel,
+        sampleIds: pen.sampleIds,
+        returned: pen.returned,
+        results,
+      };
+    });
   });
+}
+
+/**
+ * A pen's result as the summary shows it: the result without its assay id and other samples,
+ * then the lab's name, the sequencing mark and the history. Copied field by field, in the order
+ * of PenAssayResult (the order summary.json writes them): the pens are most of a summary, and a
+ * rest-and-spread copy of each result cost several times more.
+ */
+function penResultSummary(
+  result: PenAssayResult,
+  labName: string,
+  sequencingCandidate: boolean,
+  history: PenResultSummary['history'],
+): PenResultSummary {
+  const summary: PenResultSummary = {
+    measure: result.measure,
+    resultClass: result.resultClass,
+    ct: result.ct,
+    sp: result.sp,
+    loadBand: result.loadBand,
+    load: result.load,
+    reason: result.reason,
+    sampleId: result.sampleId,
+    labId: result.labId,
+    labCall: result.labCall,
+    callDiffers: result.callDiffers,
+    ctRaw: result.ctRaw,
+    positiveBelow: result.positiveBelow,
+    suspectBelow: result.suspectBelow,
+    cycleLimit: result.cycleLimit,
+    positiveAtOrAbove: result.positiveAtOrAbove,
+    suspectAtOrAbove: result.suspectAtOrAbove,
+    accession: result.accession,
+    collectedOn: result.collectedOn,
+    reportedOn: result.reportedOn,
+  } as PenResultSummary;
+  if (result.pool !== undefined) summary.pool = result.pool;
+  summary.labName = labName;
+  summary.sequencingCandidate = sequencingCandidate;
+  summary.history = history;
+  return summary;
+}
+
+/** A point of a pen's history with its lab's name, field by field in CtHistoryPoint's order (see penResultSummary). */
+function historyPointSummary(point: CtHistoryPoint, labName: string): PenResultSummary['history'][number] {
+  return {
+    round: point.round,
+    roundId: point.roundId,
+    startOn: point.startOn,
+    resultClass: point.resultClass,
+    measure: point.measure,
+    ct: point.ct,
+    sp: point.sp,
+    labId: point.labId,
+    positiveBelow: point.positiveBelow,
+    cycleLimit: point.cycleLimit,
+    positiveAtOrAbove: point.positiveAtOrAbove,
+    labName,
+  };
 }
 
 function sequencingOf(

@@ -143,6 +143,29 @@ export function infectedAfter(model: GrowthModel, days: number): number {
   return Math.min(model.maxInfected, Math.max(model.initialInfected, grown));
 }
 
+/**
+ * Margin, in doublings, around each count's threshold exponent log2(c / d0) beyond which the
+ * floating-point d0 2^(a/T) is surely on one side of c: the rounding of the power, the product
+ * and the logarithm is about 1e-15 relative, far inside it.
+ */
+const THRESHOLD_MARGIN = 1e-9;
+
+/**
+ * For each count c in (d0, N], the exponent log2(c / d0) at which floor(d0 2^(a/T)) reaches c:
+ * infectedAfter's floor of a power becomes a comparison of a/T with these, and the power is
+ * computed only for an exponent within THRESHOLD_MARGIN of one (which it then decides exactly).
+ */
+function growthThresholds(model: GrowthModel): { surelyAtLeast: Float64Array; surelyBelow: Float64Array } {
+  const surelyAtLeast = new Float64Array(model.maxInfected + 1);
+  const surelyBelow = new Float64Array(model.maxInfected + 1);
+  for (let c = model.initialInfected + 1; c <= model.maxInfected; c++) {
+    const exponent = Math.log2(c / model.initialInfected);
+    surelyAtLeast[c] = exponent + THRESHOLD_MARGIN;
+    surelyBelow[c] = exponent - THRESHOLD_MARGIN;
+  }
+  return { surelyAtLeast, surelyBelow };
+}
+
 function validateGrowth(model: GrowthModel): void {
   requireInteger('maxInfected', model.maxInfected, 1, Number.MAX_SAFE_INTEGER, '[1, infinity)');
   requireInteger('initialInfected', model.initialInfected, 1, model.maxInfected, '[1, maxInfected]');
@@ -181,19 +204,31 @@ export function simulateDelay(
     }
     return p;
   };
+  const { surelyAtLeast, surelyBelow } = growthThresholds(model);
+  const { rng, replicates } = options;
+  const { intervalDays } = schedule;
+  const { doublingDays, maxInfected: most } = model;
   let sum = 0;
   let sumSq = 0;
   let detected = 0;
-  for (let rep = 0; rep < options.replicates; rep++) {
-    const firstRound = options.rng() * schedule.intervalDays; // days from introduction to the next round
+  for (let rep = 0; rep < replicates; rep++) {
+    const firstRound = rng() * intervalDays; // days from introduction to the next round
     // Infection only grows with the days, so once every pen is infected it stays so for the rest
-    // of the replicate: the power is not computed again (the draws are the same).
+    // of the replicate (the draws are the same).
     let everyPen = false;
+    // The highest count whose threshold this replicate's exponent has surely passed: the days
+    // only grow, so it only moves up.
+    let reached = model.initialInfected;
     for (let round = 0; round < maxRounds; round++) {
-      const days = firstRound + round * schedule.intervalDays;
-      const infected: number = everyPen ? model.maxInfected : infectedAfter(model, days);
-      everyPen = infected === model.maxInfected;
-      if (options.rng() < detect(infected)) {
+      const days = firstRound + round * intervalDays;
+      let infected = most;
+      if (!everyPen) {
+        const exponent = days / doublingDays;
+        while (reached < most && exponent >= surelyAtLeast[reached + 1]!) reached++;
+        infected = reached === most || exponent <= surelyBelow[reached + 1]! ? reached : infectedAfter(model, days);
+      }
+      everyPen = infected === most;
+      if (rng() < detect(infected)) {
         sum += days;
         sumSq += days * days;
         detected++;

@@ -191,6 +191,27 @@ export function barnRows(summary: RoundSummary): Cells[] {
   );
 }
 
+/** A pen and assay as one key (ids hold no line breaks). */
+function penAssayKey(barnId: string, penId: string, assayId: string): string {
+  return `${barnId}\n${penId}\n${assayId}`;
+}
+
+/**
+ * The corrections cell of each pen and assay with replaced reports in the round: their cells in
+ * the round's order, joined. Made once per round; a pen row then looks its cell up instead of
+ * searching the round's replaced reports.
+ */
+export function correctionsByPenAssay(replaced: readonly RoundSummary['replaced'][number][]): Map<string, string> {
+  const entries = new Map<string, RoundSummary['replaced'][number][]>();
+  for (const entry of replaced) {
+    const key = penAssayKey(entry.barnId, entry.penId, entry.assayId);
+    const list = entries.get(key);
+    if (list) list.push(entry);
+    else entries.set(key, [entry]);
+  }
+  return new Map([...entries].map(([key, list]) => [key, list.map(replacementCell).join('; ')]));
+}
+
 /**
  * One pen row per result: the reading, its history, the lab and cutoffs, corrections; then one
  * row per pen whose result was refused under a mistyped ID. Pen rows are most of the table:
@@ -200,6 +221,7 @@ export function penRows(summary: RoundSummary): Cells[] {
   const base = SUMMARY_TABLE.cells(roundCells(summary));
   const rows: Cells[] = [];
   const groupOfBarn = new Map(summary.barns.map((barn) => [barn.barnId, barn.group]));
+  const corrections = correctionsByPenAssay(summary.replaced);
   for (const pen of summary.pens) {
     const group = groupOfBarn.get(pen.barnId) ?? null;
     for (const [assayId, result] of Object.entries(pen.results)) {
@@ -232,10 +254,7 @@ export function penRows(summary: RoundSummary): Cells[] {
       cells[AT.sp_history] = antibody ? result.history.map(spHistoryCell).join(' ') : null;
       cells[AT.positive_at_or_above] = result.positiveAtOrAbove;
       cells[AT.suspect_at_or_above] = result.suspectAtOrAbove;
-      cells[AT.corrections] = summary.replaced
-        .filter((entry) => entry.barnId === pen.barnId && entry.penId === pen.penId && entry.assayId === assayId)
-        .map(replacementCell)
-        .join('; ');
+      cells[AT.corrections] = corrections.get(penAssayKey(pen.barnId, pen.penId, assayId)) ?? '';
       // Blank without a group (the round's cells leave them blank).
       cells[AT.group] = group?.id;
       cells[AT.group_placed_on] = group?.placedOn;

@@ -282,8 +282,12 @@ function placementSums(outbreaks: Outbreaks, sampled: Int32Array, se: number, rn
   const k = sampled.length;
   const missPow = Float64Array.from({ length: k + 1 }, (_, c) => (1 - se) ** c);
   const { bits, words, realisations } = outbreaks;
-  // One sampler per number of infected pens met (one in all for simulateOutbreaks).
+  // One sampler per number of infected pens met (one in all for simulateOutbreaks); the last one
+  // met is kept at hand, since looking it up in the sparse array for every outbreak cost more
+  // than the draw itself.
   const randomCount: ((u: number) => number)[] = [];
+  let lastInfected = -1;
+  let lastDraw: (u: number) => number = () => 0;
   // The ropes hung as a bitset like the outbreaks': the infected ropes of an outbreak are then
   // counted a word (32 pens) at a time.
   const hung = new Uint32Array(words);
@@ -300,8 +304,11 @@ function placementSums(outbreaks: Outbreaks, sampled: Int32Array, se: number, rn
       ca += bitCount(word & hung[w]!);
       m += bitCount(word);
     }
-    const draw = (randomCount[m] ??= hypergeometricInversion(n, m, k));
-    const cr = draw(draws[r]!);
+    if (m !== lastInfected) {
+      lastDraw = randomCount[m] ??= hypergeometricInversion(n, m, k);
+      lastInfected = m;
+    }
+    const cr = lastDraw(draws[r]!);
     const va = 1 - missPow[ca]!;
     const vr = 1 - missPow[cr]!;
     sums[0]! += va;

@@ -1,3 +1,4 @@
+import fc from 'fast-check';
 import { scheduleNoteText } from '../../src/report/barnPlanNotes.js';
 import { describe, expect, it } from 'vitest';
 import {
@@ -105,6 +106,56 @@ describe('delay to detection while infection grows (Monte Carlo)', () => {
     expect(kernel.censored).toBe(3000 - detected);
     expect(kernel.meanDays).toBe(sum / detected);
     expect(kernel.standardError).toBe(Math.sqrt((sumSq - (sum * sum) / detected) / (detected - 1) / detected));
+  });
+
+  it('gives the result of the plain loop for any growth, including days that fall on a doubling exactly', () => {
+    // The kernel compares the days with each count's threshold exponent and computes the power
+    // only near one; the reference computes infectedAfter every round. The generator gives 0
+    // about one time in four, so that introductions fall on a round and, with the interval a
+    // multiple of the doubling time, the days meet the thresholds exactly.
+    const zeroOften = (seed: number) => {
+      const inner = seededRng(seed);
+      return () => (inner() < 0.25 ? 0 : inner());
+    };
+    fc.assert(
+      fc.property(
+        fc.integer({ min: 1, max: 4 }),
+        fc.integer({ min: 0, max: 60 }),
+        fc.oneof(fc.constant(Number.POSITIVE_INFINITY), fc.double({ min: 0.5, max: 30, noNaN: true })),
+        fc.oneof(fc.constantFrom(0.5, 1, 2, 3), fc.double({ min: 0.05, max: 8, noNaN: true })),
+        fc.integer({ min: 0, max: 2 ** 31 }),
+        (initialInfected, extra, doublingDays, intervalPerDoubling, seed) => {
+          const maxInfected = initialInfected + extra;
+          const intervalDays = Number.isFinite(doublingDays) ? doublingDays * intervalPerDoubling : intervalPerDoubling;
+          const detectAt = (_ropes: number, infected: number) => infected / (4 * maxInfected);
+          const model = { initialInfected, doublingDays, maxInfected, detectAt };
+          const options = { replicates: 200, maxRounds: 60 };
+          const kernel = simulateDelay({ ropes: 1, intervalDays }, model, { ...options, rng: zeroOften(seed) });
+          const rng = zeroOften(seed);
+          let sum = 0;
+          let sumSq = 0;
+          let detected = 0;
+          for (let rep = 0; rep < options.replicates; rep++) {
+            const first = rng() * intervalDays;
+            for (let round = 0; round < options.maxRounds; round++) {
+              const days = first + round * intervalDays;
+              if (rng() < detectAt(1, infectedAfter(model, days))) {
+                sum += days;
+                sumSq += days * days;
+                detected++;
+                break;
+              }
+            }
+          }
+          expect(kernel.censored).toBe(options.replicates - detected);
+          expect(kernel.meanDays).toBe(detected > 0 ? sum / detected : null);
+          expect(kernel.standardError).toBe(
+            detected > 1 ? Math.sqrt(Math.max(0, (sumSq - (sum * sum) / detected) / (detected - 1)) / detected) : null,
+          );
+        },
+      ),
+      { numRuns: 300 },
+    );
   });
 
   it('grows infected pens by doubling and caps them at the pens in use', () => {

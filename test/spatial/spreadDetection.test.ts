@@ -5,7 +5,9 @@ import {
   compareWithRandomPlacement,
   detectionProbability,
   simulateOutbreaks,
+  type Outbreaks,
 } from '../../src/spatial/spreadDetection.js';
+import { hypergeometricInversion } from '../../src/stats/hypergeometricDraw.js';
 import { logChoose } from '../../src/spatial/combinatorics.js';
 import { contactWeights } from '../../src/spatial/weights.js';
 import { expandLayout } from '../../src/domain/layout.js';
@@ -178,6 +180,55 @@ describe('spatially aware detection by simulated outbreaks', () => {
     const direct = detectionProbability(outbreaks, ropes, 0.85);
     expect(comparison.actual.p).toBe(direct.p);
     expect(comparison.actual.standardError).toBe(direct.standardError);
+  });
+
+  it('draws the random column as a sampler made afresh for each outbreak would, whatever its infected count', () => {
+    // Outbreaks infecting 1 to 5 of 40 pens in runs and alternation: the comparison keeps the
+    // sampler of the count last met; the reference makes Hyp(n, m, k) by inversion for every
+    // outbreak from the same uniforms (drawn first, one per outbreak, in order).
+    const ids = Array.from({ length: 40 }, (_, i) => `P${i + 1}`);
+    const realisations = 300;
+    const words = 2;
+    const bits = new Uint32Array(words * realisations);
+    const pick = seededRng(21);
+    for (let r = 0; r < realisations; r++) {
+      const m = r < 100 ? 1 + Math.floor(r / 25) : 1 + Math.floor(pick() * 5);
+      for (let placed = 0; placed < m; ) {
+        const i = Math.floor(pick() * ids.length);
+        const bit = 1 << (i & 31);
+        if (bits[r * words + (i >>> 5)]! & bit) continue;
+        bits[r * words + (i >>> 5)]! |= bit;
+        placed++;
+      }
+    }
+    const outbreaks: Outbreaks = {
+      ids,
+      index: new Map(ids.map((id, i) => [id, i])),
+      realisations,
+      infected: 5,
+      words,
+      bits,
+      reseeded: 0,
+      model: { beta: 0.3, background: 0, graph: 'hand-made' },
+    };
+    const ropes = ids.filter((_, i) => i % 3 === 0);
+    const se = 0.8;
+    const comparison = compareWithRandomPlacement(outbreaks, ropes, se, seededRng(5));
+    const draws = seededRng(5);
+    const uniforms = Array.from({ length: realisations }, () => draws());
+    let sum = 0;
+    let sumSq = 0;
+    for (let r = 0; r < realisations; r++) {
+      let m = 0;
+      for (let i = 0; i < ids.length; i++) m += (bits[r * words + (i >>> 5)]! >>> (i & 31)) & 1;
+      const v = 1 - (1 - se) ** hypergeometricInversion(ids.length, m, ropes.length)(uniforms[r]!);
+      sum += v;
+      sumSq += v * v;
+    }
+    expect(comparison.random.p).toBe(sum / realisations);
+    expect(comparison.random.standardError).toBe(
+      Math.sqrt(Math.max(0, (sumSq - realisations * (sum / realisations) ** 2) / (realisations - 1)) / realisations),
+    );
   });
 });
 
