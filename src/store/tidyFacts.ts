@@ -5,9 +5,16 @@
  * the stored results, to the outputs, to `ropewatch export` and to analysts reading the store.
  */
 import type Database from 'better-sqlite3';
-import { type FactValue, type SiteFacts, TIDY_VIEWS, type TidyRange, type TidyView } from '../domain/store.js';
+import {
+  type FactValue,
+  type SiteFacts,
+  TIDY_VIEWS,
+  type TidyCells,
+  type TidyRange,
+  type TidyView,
+} from '../domain/store.js';
 
-export type { FactValue, RopeRound, SiteFacts, TidyRange, TidyView } from '../domain/store.js';
+export type { FactValue, RopeRound, SiteFacts, TidyCells, TidyRange, TidyView } from '../domain/store.js';
 export { TIDY_VIEWS } from '../domain/store.js';
 
 /** The order rows come in: by round, then what the row is about. */
@@ -97,28 +104,16 @@ export function replaceSiteFacts(db: Database.Database, siteId: string, facts: S
 
 /**
  * Rows of a view for one site whose rounds began in [from, to] (ISO dates; either may be left
- * open) and, with `fromRound`, are that round or a later one.
+ * open) and, with `fromRound`, are that round or a later one, as cells: better-sqlite3's row
+ * objects come out slow to build and to read when a row has as many columns as tidy_results.
  */
-export function readTidyView(
-  db: Database.Database,
-  view: TidyView,
-  siteId: string,
-  range: TidyRange = {},
-): Record<string, unknown>[] {
+export function readTidyView(db: Database.Database, view: TidyView, siteId: string, range: TidyRange = {}): TidyCells {
   const statement = prepared(db, VIEW_SQL[view]).raw(true);
-  const names = statement.columns().map((column) => column.name);
-  const values = statement.all({
+  const rows = statement.all({
     siteId,
     from: range.from ?? null,
     to: range.to ?? null,
     fromRound: range.fromRound ?? 0,
   }) as unknown[][];
-  // The rows as arrays, made objects here: better-sqlite3's row objects come out slow to build and
-  // to read when a row has as many columns as tidy_results (measured: about a third of the time
-  // spent reading the view and writing its CSV). The keys in column order, as better-sqlite3's.
-  return values.map((row) => {
-    const record: Record<string, unknown> = {};
-    for (let column = 0; column < names.length; column++) record[names[column]!] = row[column];
-    return record;
-  });
+  return { names: statement.columns().map((column) => column.name), rows };
 }
