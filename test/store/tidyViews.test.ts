@@ -96,6 +96,35 @@ describe('the tidy views of the store', () => {
     expect(viewRows(db, 'results', 'hollow-creek', { to: '2026-08-03' })).toHaveLength(2);
   });
 
+  it('keep the first rope round given for a sample, whether its repeat comes in the same statement, a later one or the rows given one by one', () => {
+    const ws = workspace();
+    version6Store(ws.paths.dbFile);
+    const { db } = sqliteStore(ws.ws().store);
+    const rope = (index: number, penId: string) => ({
+      sampleId: `S${String(index).padStart(3, '0')}`,
+      round: 1,
+      roundId: 'r01-2026-08-03',
+      roundStart: '2026-08-03',
+      groupId: null,
+      barnId: 'F1',
+      penId,
+      poolId: null,
+    });
+    const ropeRounds = Array.from({ length: 120 }, (_, index) => rope(index, `P${index}`));
+    // 123 rows: two statements of fifty, then 23 rows one by one; repeats in each part.
+    ropeRounds.splice(30, 0, rope(10, 'ELSEWHERE'));
+    ropeRounds.splice(70, 0, rope(20, 'ELSEWHERE'));
+    ropeRounds.splice(115, 0, rope(60, 'ELSEWHERE'));
+    expect(ropeRounds).toHaveLength(123);
+    replaceSiteFacts(db, 'hollow-creek', { ropeRounds, rounds: [], alerts: [] });
+    const stored = db
+      .prepare('SELECT sample_id, pen_id FROM analysis_rope_rounds WHERE site_id = ? ORDER BY sample_id')
+      .all('hollow-creek') as { sample_id: string; pen_id: string }[];
+    expect(stored).toEqual(
+      Array.from({ length: 120 }, (_, index) => ({ sample_id: rope(index, '').sampleId, pen_id: `P${index}` })),
+    );
+  });
+
   it('keep each connection its own statements: a second connection reads what the first wrote, and the first closed leaves it reading', () => {
     const ws = workspace();
     version6Store(ws.paths.dbFile);
