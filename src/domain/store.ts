@@ -405,15 +405,6 @@ export interface TidyCells {
   readonly rows: readonly (readonly unknown[])[];
 }
 
-/** The rows as objects keyed by column name, in the view's column order. */
-export function tidyRecords(cells: TidyCells): Record<string, unknown>[] {
-  return cells.rows.map((row) => {
-    const record: Record<string, unknown> = {};
-    for (let column = 0; column < cells.names.length; column++) record[cells.names[column]!] = row[column];
-    return record;
-  });
-}
-
 /** The tidy facts of a store: written by each build of a site's outputs, read back through the views. */
 export interface StoreFacts {
   /** Replaces a site's facts of round `fromRound` on (all of them by default) in one short write. */

@@ -10,7 +10,7 @@ import os from 'node:os';
 import path from 'node:path';
 import Database from 'better-sqlite3';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { type FactValue, type RopeRound, type SiteFacts, type TidyView, tidyRecords } from '../../src/domain/store.js';
+import type { FactValue, RopeRound, SiteFacts, TidyCells, TidyView } from '../../src/domain/store.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from '../../src/store/migrations.js';
 import { copyStore, openStoreSide } from '../../src/store/pg/copyStore.js';
 import { SyncConnection } from '../../src/store/pg/syncConnection.js';
@@ -24,7 +24,16 @@ import { sqliteStore } from '../helpers/storeSql.js';
 
 const workspace = workspacesPerTest();
 
-/** A view's rows as objects keyed by column name (the store gives cells). */
+/** A view's rows (the store gives cells) as objects keyed by column name, in the view's column order. */
+function tidyRecords(cells: TidyCells): Record<string, unknown>[] {
+  return cells.rows.map((row) => {
+    const record: Record<string, unknown> = {};
+    for (let column = 0; column < cells.names.length; column++) record[cells.names[column]!] = row[column];
+    return record;
+  });
+}
+
+/** A view's rows as objects keyed by column name. */
 function viewRows(...args: Parameters<typeof readTidyView>): Record<string, unknown>[] {
   return tidyRecords(readTidyView(...args));
 }
