@@ -394,12 +394,23 @@ export interface TidyRange {
   fromRound?: number | undefined;
 }
 
+/**
+ * A view's rows as cells, each row in the order of `names`: the outputs read every cell of every
+ * row once, and an object per row (keyed by some thirty column names) costs more to build and to
+ * read than the row itself.
+ */
+export interface TidyCells {
+  /** The view's column names (empty when no row came back to name them: the PostgreSQL store). */
+  readonly names: readonly string[];
+  readonly rows: readonly (readonly unknown[])[];
+}
+
 /** The tidy facts of a store: written by each build of a site's outputs, read back through the views. */
 export interface StoreFacts {
   /** Replaces a site's facts of round `fromRound` on (all of them by default) in one short write. */
   replaceSiteFacts(siteId: string, facts: SiteFacts, fromRound?: number): void;
   /** A view's rows for one site in `range`, by round, then what the row is about. */
-  tidyRows(view: TidyView, siteId: string, range?: TidyRange): Record<string, unknown>[];
+  tidyRows(view: TidyView, siteId: string, range?: TidyRange): TidyCells;
   /**
    * Holds the store's lock on each site until the returned function is called, so that two
    * processes sharing one store never build one site's outputs and plan at once (taken in one

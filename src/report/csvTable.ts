@@ -60,15 +60,26 @@ function csvField(text: string): string {
   return `"${text.replace(QUOTES, '""')}"`;
 }
 
+/**
+ * Text that starts with a formula character (FORMULA_FIRST) or holds a character that makes a
+ * field quoted (NEEDS_QUOTES): any other text is its own cell, as most text cells are (ids,
+ * dates, classes), and is written after this one test.
+ */
+const NEUTRALISED_OR_QUOTED = /^[=+\-@\t\r]|[",\n\r;\t]/;
+
 /** One line of cells (no line end), each neutralised (csvCell) and quoted where it must be (csvField). */
 export function csvLine(cells: CsvCells): string {
   let line = '';
   for (let c = 0; c < cells.length; c++) {
     if (c > 0) line += ',';
     const value = cells[c];
-    // Blanks (most cells of a wide table) add nothing; a finite number is plain text with nothing to neutralise or quote.
+    // Blanks (most cells of a wide table) add nothing; a finite number, a boolean and plain text
+    // have nothing to neutralise or quote.
     if (value === null || value === undefined) continue;
-    line += typeof value === 'number' && Number.isFinite(value) ? String(value) : csvField(csvCell(value));
+    if (typeof value === 'string') line += NEUTRALISED_OR_QUOTED.test(value) ? csvField(csvCell(value)) : value;
+    else if (typeof value === 'number' && Number.isFinite(value)) line += String(value);
+    else if (typeof value === 'boolean') line += value ? 'true' : 'false';
+    else line += csvField(csvCell(value));
   }
   return line;
 }

@@ -35,9 +35,60 @@ function carriedNumbers(_key: string, value: unknown): unknown {
   return typeof value === 'number' && Number.isFinite(value) ? carried(value) : value;
 }
 
-/** A value as pretty JSON (two spaces, a trailing newline) with every number at its carried precision. */
+const COMMA = 0x2c;
+const LINE_FEED = 0x0a;
+const LOWER_E = 0x65;
+const PLUS = 0x2b;
+const MINUS = 0x2d;
+
+function isDigit(code: number): boolean {
+  return code >= 0x30 && code <= 0x39;
+}
+
+/**
+ * Indented JSON with each number token of more than CARRIED_DIGITS significant digits rewritten
+ * at its carried precision. Such a token is a non-integer (written with a point: ECMA-262,
+ * Number::toString) whose digits around the point number 13 or more; the scan goes from point
+ * to point (a native search), so the text between costs little. A point inside a string is
+ * passed over: a token is taken only when a line ends after it (and its comma), and JSON writes a
+ * line feed inside a string as `\n`, so a raw line feed comes after the string's closing quote.
+ * A number of 12 or fewer significant digits is its own carried value (a double's 17 digits are
+ * far finer than 12), and rounding to significant digits is the same for either sign, so the
+ * sign stays as written.
+ */
+function carryLongNumbers(text: string): string {
+  let carriedText = '';
+  let copiedTo = 0;
+  for (let dot = text.indexOf('.'); dot >= 0; dot = text.indexOf('.', dot + 1)) {
+    let start = dot;
+    while (start > 0 && isDigit(text.charCodeAt(start - 1))) start--;
+    let end = dot + 1;
+    while (isDigit(text.charCodeAt(end))) end++;
+    if (end - start <= CARRIED_DIGITS + 1 || start === dot || end === dot + 1) continue;
+    if (text.charCodeAt(end) === LOWER_E) {
+      end++;
+      const sign = text.charCodeAt(end);
+      if (sign === PLUS || sign === MINUS) end++;
+      while (isDigit(text.charCodeAt(end))) end++;
+    }
+    const next = text.charCodeAt(end);
+    if (next !== LINE_FEED && (next !== COMMA || text.charCodeAt(end + 1) !== LINE_FEED)) continue;
+    carriedText += text.slice(copiedTo, start) + numberText(Number(text.slice(start, end)));
+    copiedTo = end;
+    dot = end - 1;
+  }
+  return copiedTo === 0 ? text : carriedText + text.slice(copiedTo);
+}
+
+/**
+ * A value as pretty JSON (two spaces, a trailing newline) with every number at its carried
+ * precision: JSON.stringify without a replacer, then the long number tokens rewritten
+ * (carryLongNumbers). The same text as a replacer that carries each number (the shortest decimal
+ * of a double reads back as that double: ECMA-262, Number::toString), without a call per value;
+ * a Number object, which the replacer would leave as it is, is not a value the outputs hold.
+ */
 export function jsonText(value: unknown): string {
-  return `${JSON.stringify(value, carriedNumbers, 2)}\n`;
+  return carryLongNumbers(`${JSON.stringify(value, null, 2)}\n`);
 }
 
 /** A value as one line of JSON (JSON Lines) with every number at its carried precision. */

@@ -33,6 +33,7 @@ import type {
   StoredFileCounts,
   StoreReader,
   StoreWriter,
+  TidyCells,
   TidyRange,
   TidyView,
 } from '../domain/store.js';
@@ -45,7 +46,7 @@ export abstract class ComposedStore implements StoreBackend {
 
   abstract close(): void;
   abstract replaceSiteFacts(siteId: string, facts: SiteFacts, fromRound?: number): void;
-  abstract tidyRows(view: TidyView, siteId: string, range?: TidyRange): Record<string, unknown>[];
+  abstract tidyRows(view: TidyView, siteId: string, range?: TidyRange): TidyCells;
   abstract lockSites(siteIds: readonly string[]): () => void;
 
   // ---- Writing (writer.ts) -------------------------------------------------------------------

@@ -5,7 +5,7 @@
  * interface another backend would implement too; ingest and the outputs know only that.
  */
 import type Database from 'better-sqlite3';
-import type { SiteFacts, TidyRange, TidyView } from '../domain/store.js';
+import type { SiteFacts, TidyCells, TidyRange, TidyView } from '../domain/store.js';
 import { ComposedStore } from './composedStore.js';
 import { openDatabase, type StoreOptions } from './open.js';
 import { SqliteReader } from './reader.js';
@@ -58,7 +58,7 @@ export class Store extends ComposedStore {
   replaceSiteFacts(siteId: string, facts: SiteFacts, fromRound = 1): void {
     replaceSiteFacts(this.db, siteId, facts, fromRound);
   }
-  tidyRows(view: TidyView, siteId: string, range: TidyRange = {}): Record<string, unknown>[] {
+  tidyRows(view: TidyView, siteId: string, range: TidyRange = {}): TidyCells {
     return readTidyView(this.db, view, siteId, range);
   }
   /** Nothing to take: SQLite's write lock and the outbox's lock file per site (src/outputs.ts) serve. */

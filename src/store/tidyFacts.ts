@@ -5,9 +5,16 @@
  * the stored results, to the outputs, to `ropewatch export` and to analysts reading the store.
  */
 import type Database from 'better-sqlite3';
-import { type FactValue, type SiteFacts, TIDY_VIEWS, type TidyRange, type TidyView } from '../domain/store.js';
+import {
+  type FactValue,
+  type SiteFacts,
+  TIDY_VIEWS,
+  type TidyCells,
+  type TidyRange,
+  type TidyView,
+} from '../domain/store.js';
 
-export type { FactValue, RopeRound, SiteFacts, TidyRange, TidyView } from '../domain/store.js';
+export type { FactValue, RopeRound, SiteFacts, TidyCells, TidyRange, TidyView } from '../domain/store.js';
 export { TIDY_VIEWS } from '../domain/store.js';
 
 /** The order rows come in: by round, then what the row is about. */
@@ -51,17 +58,58 @@ const VIEW_SQL: Record<TidyView, string> = Object.fromEntries(
   ]),
 ) as Record<TidyView, string>;
 
-const sqlValue = (value: FactValue | undefined): string | number | null =>
+type SqlCell = string | number | null;
+
+const sqlValue = (value: FactValue | undefined): SqlCell =>
   value === undefined ? null : typeof value === 'boolean' ? (value ? 1 : 0) : value;
+
+/**
+ * Rows an INSERT statement takes at once: a build gives a site's thousands of rope rounds, and
+ * one call into SQLite per row costs more than the row's insert; fifty rows of the widest table
+ * stay far below SQLite's limit on a statement's parameters (sqlite.org/limits.html).
+ */
+const ROWS_PER_INSERT = 50;
+
+/** `count` rows of `width` parameters each, as a VALUES list. */
+function valuesList(width: number, count: number): string {
+  const row = `(${new Array<string>(width).fill('?').join(', ')})`;
+  return new Array<string>(count).fill(row).join(', ');
+}
+
+/**
+ * Inserts the rows (each its cells in the columns' order) in their order through `head`
+ * (`INSERT ... INTO table (columns) VALUES`): ROWS_PER_INSERT rows a statement, the rest one by
+ * one. Rows are taken in order within a statement as across statements, so OR IGNORE keeps the
+ * same first row; a refused row fails its statement and so the transaction, as it would alone.
+ */
+function insertRows(db: Database.Database, head: string, rows: readonly (readonly SqlCell[])[]): void {
+  if (rows.length === 0) return;
+  const width = rows[0]!.length;
+  let at = 0;
+  if (rows.length >= ROWS_PER_INSERT) {
+    const many = prepared(db, `${head} ${valuesList(width, ROWS_PER_INSERT)}`);
+    const cells: SqlCell[] = new Array(width * ROWS_PER_INSERT);
+    for (; at + ROWS_PER_INSERT <= rows.length; at += ROWS_PER_INSERT) {
+      for (let r = 0; r < ROWS_PER_INSERT; r++) {
+        const row = rows[at + r]!;
+        for (let c = 0; c < width; c++) cells[r * width + c] = row[c]!;
+      }
+      many.run(cells);
+    }
+  }
+  if (at === rows.length) return;
+  const one = prepared(db, `${head} ${valuesList(width, 1)}`);
+  for (; at < rows.length; at++) one.run(rows[at]);
+}
 
 function insertAll(db: Database.Database, table: string, rows: readonly Record<string, FactValue>[]): void {
   if (rows.length === 0) return;
   const columns = Object.keys(rows[0]!);
-  const insert = prepared(
+  insertRows(
     db,
-    `INSERT INTO ${table} (${columns.map((name) => `"${name}"`).join(', ')}) VALUES (${columns.map(() => '?').join(', ')})`,
+    `INSERT INTO ${table} (${columns.map((name) => `"${name}"`).join(', ')}) VALUES`,
+    rows.map((row) => columns.map((name) => sqlValue(row[name]))),
   );
-  for (const row of rows) insert.run(columns.map((name) => sqlValue(row[name])));
 }
 
 /**
@@ -73,13 +121,10 @@ export function replaceSiteFacts(db: Database.Database, siteId: string, facts: S
     prepared(db, 'DELETE FROM analysis_rope_rounds WHERE site_id = ? AND round >= ?').run(siteId, fromRound);
     prepared(db, 'DELETE FROM analysis_rounds WHERE site = ? AND round >= ?').run(siteId, fromRound);
     prepared(db, 'DELETE FROM analysis_alerts WHERE site = ? AND round >= ?').run(siteId, fromRound);
-    const rope = prepared(
+    insertRows(
       db,
-      `INSERT OR IGNORE INTO analysis_rope_rounds (site_id, sample_id, round, round_id, round_start, group_id, barn_id, pen_id, pool_id)
-       VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-    );
-    for (const entry of facts.ropeRounds)
-      rope.run(
+      'INSERT OR IGNORE INTO analysis_rope_rounds (site_id, sample_id, round, round_id, round_start, group_id, barn_id, pen_id, pool_id) VALUES',
+      facts.ropeRounds.map((entry) => [
         siteId,
         entry.sampleId,
         entry.round,
@@ -89,7 +134,8 @@ export function replaceSiteFacts(db: Database.Database, siteId: string, facts: S
         entry.barnId,
         entry.penId,
         entry.poolId,
-      );
+      ]),
+    );
     insertAll(db, 'analysis_rounds', facts.rounds);
     insertAll(db, 'analysis_alerts', facts.alerts);
   }).immediate();
@@ -97,28 +143,16 @@ export function replaceSiteFacts(db: Database.Database, siteId: string, facts: S
 
 /**
  * Rows of a view for one site whose rounds began in [from, to] (ISO dates; either may be left
- * open) and, with `fromRound`, are that round or a later one.
+ * open) and, with `fromRound`, are that round or a later one, as cells: better-sqlite3's row
+ * objects come out slow to build and to read when a row has as many columns as tidy_results.
  */
-export function readTidyView(
-  db: Database.Database,
-  view: TidyView,
-  siteId: string,
-  range: TidyRange = {},
-): Record<string, unknown>[] {
+export function readTidyView(db: Database.Database, view: TidyView, siteId: string, range: TidyRange = {}): TidyCells {
   const statement = prepared(db, VIEW_SQL[view]).raw(true);
-  const names = statement.columns().map((column) => column.name);
-  const values = statement.all({
+  const rows = statement.all({
     siteId,
     from: range.from ?? null,
     to: range.to ?? null,
     fromRound: range.fromRound ?? 0,
   }) as unknown[][];
-  // The rows as arrays, made objects here: better-sqlite3's row objects come out slow to build and
-  // to read when a row has as many columns as tidy_results (measured: about a third of the time
-  // spent reading the view and writing its CSV). The keys in column order, as better-sqlite3's.
-  return values.map((row) => {
-    const record: Record<string, unknown> = {};
-    for (let column = 0; column < names.length; column++) record[names[column]!] = row[column];
-    return record;
-  });
+  return { names: statement.columns().map((column) => column.name), rows };
 }

@@ -10,7 +10,7 @@ import os from 'node:os';
 import path from 'node:path';
 import Database from 'better-sqlite3';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { FactValue, RopeRound, SiteFacts, TidyView } from '../../src/domain/store.js';
+import type { FactValue, RopeRound, SiteFacts, TidyCells, TidyView } from '../../src/domain/store.js';
 import { MIGRATION_FUNCTIONS, MIGRATIONS } from '../../src/store/migrations.js';
 import { copyStore, openStoreSide } from '../../src/store/pg/copyStore.js';
 import { SyncConnection } from '../../src/store/pg/syncConnection.js';
@@ -23,6 +23,20 @@ import { workspacesPerTest } from '../helpers/workspace.js';
 import { sqliteStore } from '../helpers/storeSql.js';
 
 const workspace = workspacesPerTest();
+
+/** A view's rows (the store gives cells) as objects keyed by column name, in the view's column order. */
+function tidyRecords(cells: TidyCells): Record<string, unknown>[] {
+  return cells.rows.map((row) => {
+    const record: Record<string, unknown> = {};
+    for (let column = 0; column < cells.names.length; column++) record[cells.names[column]!] = row[column];
+    return record;
+  });
+}
+
+/** A view's rows as objects keyed by column name. */
+function viewRows(...args: Parameters<typeof readTidyView>): Record<string, unknown>[] {
+  return tidyRecords(readTidyView(...args));
+}
 
 /** A version-6 store with one file, two ropes (P1 and P2 tested in pool POOL), the pool's result, and a second rope S3 reported twice. */
 function version6Store(file: string): void {
@@ -56,7 +70,7 @@ describe('the tidy views of the store', () => {
     expect(db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
     expect(db.pragma('foreign_key_check')).toEqual([]);
     // Before any outputs were built, no rope has a round: the view is empty, not wrong.
-    expect(readTidyView(db, 'results', 'hollow-creek')).toEqual([]);
+    expect(viewRows(db, 'results', 'hollow-creek')).toEqual([]);
     const rope = (sampleId: string, penId: string, poolId: string | null) => ({
       sampleId,
       round: 1,
@@ -72,7 +86,7 @@ describe('the tidy views of the store', () => {
       rounds: [],
       alerts: [],
     });
-    const rows = readTidyView(db, 'results', 'hollow-creek');
+    const rows = viewRows(db, 'results', 'hollow-creek');
     expect(
       rows.map((row) => [row.pen, row.sample_id, row.pool, row.value, row.class, row.superseded_by, row.result_id]),
     ).toEqual([
@@ -86,9 +100,38 @@ describe('the tidy views of the store', () => {
     expect(rows.every((row) => row.round === 1 && row.date === '2026-08-03' && row.lab === 'northfield')).toBe(true);
     // A later build replaces the site's facts: no row twice.
     replaceSiteFacts(db, 'hollow-creek', { ropeRounds: [rope('S3', 'A3', null)], rounds: [], alerts: [] });
-    expect(readTidyView(db, 'results', 'hollow-creek')).toHaveLength(2);
-    expect(readTidyView(db, 'results', 'hollow-creek', { from: '2026-08-04' })).toHaveLength(0);
-    expect(readTidyView(db, 'results', 'hollow-creek', { to: '2026-08-03' })).toHaveLength(2);
+    expect(viewRows(db, 'results', 'hollow-creek')).toHaveLength(2);
+    expect(viewRows(db, 'results', 'hollow-creek', { from: '2026-08-04' })).toHaveLength(0);
+    expect(viewRows(db, 'results', 'hollow-creek', { to: '2026-08-03' })).toHaveLength(2);
+  });
+
+  it('keep the first rope round given for a sample, whether its repeat comes in the same statement, a later one or the rows given one by one', () => {
+    const ws = workspace();
+    version6Store(ws.paths.dbFile);
+    const { db } = sqliteStore(ws.ws().store);
+    const rope = (index: number, penId: string) => ({
+      sampleId: `S${String(index).padStart(3, '0')}`,
+      round: 1,
+      roundId: 'r01-2026-08-03',
+      roundStart: '2026-08-03',
+      groupId: null,
+      barnId: 'F1',
+      penId,
+      poolId: null,
+    });
+    const ropeRounds = Array.from({ length: 120 }, (_, index) => rope(index, `P${index}`));
+    // 123 rows: two statements of fifty, then 23 rows one by one; repeats in each part.
+    ropeRounds.splice(30, 0, rope(10, 'ELSEWHERE'));
+    ropeRounds.splice(70, 0, rope(20, 'ELSEWHERE'));
+    ropeRounds.splice(115, 0, rope(60, 'ELSEWHERE'));
+    expect(ropeRounds).toHaveLength(123);
+    replaceSiteFacts(db, 'hollow-creek', { ropeRounds, rounds: [], alerts: [] });
+    const stored = db
+      .prepare('SELECT sample_id, pen_id FROM analysis_rope_rounds WHERE site_id = ? ORDER BY sample_id')
+      .all('hollow-creek') as { sample_id: string; pen_id: string }[];
+    expect(stored).toEqual(
+      Array.from({ length: 120 }, (_, index) => ({ sample_id: rope(index, '').sampleId, pen_id: `P${index}` })),
+    );
   });
 
   it('keep each connection its own statements: a second connection reads what the first wrote, and the first closed leaves it reading', () => {
@@ -99,25 +142,23 @@ describe('the tidy views of the store', () => {
     try {
       const rope = { round: 1, roundId: 'r01-2026-08-03', roundStart: '2026-08-03', groupId: null, barnId: 'F1' };
       // Both connections read (and so keep the view's statement) before any facts are written.
-      expect(readTidyView(db, 'results', 'hollow-creek')).toEqual([]);
-      expect(readTidyView(other, 'results', 'hollow-creek')).toEqual([]);
+      expect(viewRows(db, 'results', 'hollow-creek')).toEqual([]);
+      expect(viewRows(other, 'results', 'hollow-creek')).toEqual([]);
       replaceSiteFacts(db, 'hollow-creek', {
         ropeRounds: [{ ...rope, sampleId: 'S3', penId: 'A3', poolId: null }],
         rounds: [],
         alerts: [],
       });
       // S3's two reports (the first superseded by the second): inserted in version6Store above.
-      expect(readTidyView(other, 'results', 'hollow-creek').map((row) => row.result_id)).toEqual([11, 12]);
+      expect(viewRows(other, 'results', 'hollow-creek').map((row) => row.result_id)).toEqual([11, 12]);
       db.close();
       replaceSiteFacts(other, 'hollow-creek', {
         ropeRounds: [{ ...rope, sampleId: 'P1', penId: 'A1', poolId: 'POOL' }],
         rounds: [],
         alerts: [],
       });
-      expect(readTidyView(other, 'results', 'hollow-creek').map((row) => [row.pen, row.result_id])).toEqual([
-        ['A1', 10],
-      ]);
-      expect(() => readTidyView(db, 'results', 'hollow-creek')).toThrow(/not open/);
+      expect(viewRows(other, 'results', 'hollow-creek').map((row) => [row.pen, row.result_id])).toEqual([['A1', 10]]);
+      expect(() => viewRows(db, 'results', 'hollow-creek')).toThrow(/not open/);
     } finally {
       other.close();
     }
@@ -189,12 +230,14 @@ describe('the tidy facts on PostgreSQL, against SQLite on the same inputs', () =
       expect(facts.rounds.length, siteId).toBeGreaterThan(5);
       replaceSiteFactsPg(conn, siteId, facts);
       for (const view of views) {
-        const want = sqlite.tidyRows(view, siteId);
+        const want = tidyRecords(sqlite.tidyRows(view, siteId));
         expect(want.length, `${siteId} ${view}`).toBeGreaterThan(0);
-        expect(tidyRowsPg(conn, view, siteId), `${siteId} ${view}`).toEqual(want);
+        expect(tidyRecords(tidyRowsPg(conn, view, siteId)), `${siteId} ${view}`).toEqual(want);
+        // The cells in the same column order as SQLite's.
+        expect(tidyRowsPg(conn, view, siteId).names, `${siteId} ${view}`).toEqual(sqlite.tidyRows(view, siteId).names);
       }
     }
-    const alerts = sites.flatMap((siteId) => sqlite.tidyRows('alerts', siteId));
+    const alerts = sites.flatMap((siteId) => tidyRecords(sqlite.tidyRows('alerts', siteId)));
     expect(alerts.length).toBeGreaterThan(0);
   });
 
@@ -211,14 +254,14 @@ describe('the tidy facts on PostgreSQL, against SQLite on the same inputs', () =
     replaceSiteFactsPg(conn, siteId, cut, 4);
     sqlite.replaceSiteFacts(siteId, cut, 4);
     for (const view of views) {
-      const want = sqlite.tidyRows(view, siteId);
+      const want = tidyRecords(sqlite.tidyRows(view, siteId));
       expect(want.some((row) => row.round === lastRound)).toBe(false);
       // Round 1 kept its rows (it raised no alert in the demo).
       if (view !== 'alerts') expect(want.some((row) => row.round === 1)).toBe(true);
-      expect(tidyRowsPg(conn, view, siteId), view).toEqual(want);
+      expect(tidyRecords(tidyRowsPg(conn, view, siteId)), view).toEqual(want);
       for (const range of [{ from: '2026-09-01' }, { to: '2026-09-01' }, { fromRound: 3 }]) {
-        expect(tidyRowsPg(conn, view, siteId, range), `${view} ${JSON.stringify(range)}`).toEqual(
-          sqlite.tidyRows(view, siteId, range),
+        expect(tidyRecords(tidyRowsPg(conn, view, siteId, range)), `${view} ${JSON.stringify(range)}`).toEqual(
+          tidyRecords(sqlite.tidyRows(view, siteId, range)),
         );
       }
     }
@@ -236,8 +279,8 @@ describe('the tidy facts on PostgreSQL, against SQLite on the same inputs', () =
     sqlite.replaceSiteFacts(siteId, twice);
     const pens = (rows: Record<string, unknown>[]) =>
       rows.filter((row) => row.sample_id === first.sampleId).map((row) => row.pen);
-    expect(pens(tidyRowsPg(conn, 'results', siteId))).not.toContain('ELSEWHERE');
-    expect(tidyRowsPg(conn, 'results', siteId)).toEqual(sqlite.tidyRows('results', siteId));
+    expect(pens(tidyRecords(tidyRowsPg(conn, 'results', siteId)))).not.toContain('ELSEWHERE');
+    expect(tidyRecords(tidyRowsPg(conn, 'results', siteId))).toEqual(tidyRecords(sqlite.tidyRows('results', siteId)));
   });
 
   it('holds a site lock against another session until it is let go (PostgreSQL 17 documentation, "Advisory Locks")', () => {

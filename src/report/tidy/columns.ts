@@ -50,10 +50,22 @@ function typedValue(kind: ColumnKind, value: unknown): Cell {
   return carried(Number(value));
 }
 
-/** A row as read from the store in the columns' order and kinds (typedValue). */
-export function typedRow(columns: readonly Column[], raw: Readonly<Record<string, unknown>>): TidyRow {
+/**
+ * Where each column's cell is in a row of a store's view whose columns are `names`.
+ * @throws RangeError naming a column the view does not give
+ */
+export function cellPlaces(columns: readonly Column[], names: readonly string[]): number[] {
+  return columns.map(({ name }) => {
+    const place = names.indexOf(name);
+    if (place < 0) throw new RangeError(`the store's view gives no column \`${name}\` (it gives ${names.join(', ')})`);
+    return place;
+  });
+}
+
+/** A row as read from the store (its cells at `places`: cellPlaces) in the columns' order and kinds (typedValue). */
+export function typedRow(columns: readonly Column[], places: readonly number[], cells: readonly unknown[]): TidyRow {
   const row: TidyRow = {};
-  for (const { name, kind } of columns) row[name] = typedValue(kind, raw[name]);
+  for (let c = 0; c < columns.length; c++) row[columns[c]!.name] = typedValue(columns[c]!.kind, cells[places[c]!]);
   return row;
 }
 
@@ -80,14 +92,19 @@ export function tidyCsv(columns: readonly Column[], rows: readonly TidyRow[]): s
 }
 
 /**
- * Rows as read from the store as the lines tidyCsv writes for their typed rows (typedRow), each
- * ended by a line feed, without the header: no row object is built on the way.
+ * Rows as read from the store (their cells at `places`: cellPlaces) as the lines tidyCsv writes
+ * for their typed rows (typedRow), each ended by a line feed, without the header: no row object
+ * is built on the way.
  */
-export function storedRowsCsv(columns: readonly Column[], raws: readonly Readonly<Record<string, unknown>>[]): string {
+export function storedRowsCsv(
+  columns: readonly Column[],
+  places: readonly number[],
+  rows: readonly (readonly unknown[])[],
+): string {
   const lines: string[] = [];
   const cells: CsvValue[] = new Array(columns.length);
-  for (const raw of raws) {
-    for (let c = 0; c < columns.length; c++) cells[c] = csvValue(typedValue(columns[c]!.kind, raw[columns[c]!.name]));
+  for (const row of rows) {
+    for (let c = 0; c < columns.length; c++) cells[c] = csvValue(typedValue(columns[c]!.kind, row[places[c]!]));
     lines.push(`${csvLine(cells)}\n`);
   }
   return lines.join('');

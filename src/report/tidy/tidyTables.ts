@@ -9,13 +9,16 @@ import type { AlertRecord } from '../../alerts/records.js';
 import type { SiteAnalysis } from '../../analysis/analyseSite.js';
 import type { StoreFacts } from '../../domain/store.js';
 import { ALERTS_TABLE, alertRows } from './alertsTable.js';
-import { storedRowsCsv, type TidyRow, type TidyTable, tidyCsv, typedRow } from './columns.js';
+import { type Column, cellPlaces, storedRowsCsv, type TidyRow, type TidyTable, tidyCsv, typedRow } from './columns.js';
 import { RESULTS_TABLE, ropeRounds } from './resultsTable.js';
 import { ROUNDS_TABLE, roundRows } from './roundsTable.js';
 
 export const TIDY_TABLES: readonly TidyTable[] = [RESULTS_TABLE, ROUNDS_TABLE, ALERTS_TABLE];
 
 export type TidyTables = Record<TidyTable['name'], TidyRow[]>;
+
+/** The column every view has: the round a row belongs to, by which a build splits the rows. */
+const ROUND_COLUMN: Column = { name: 'round', kind: 'integer' };
 
 /** A date range on the rounds' first days (ISO dates, both ends included; either may be open). */
 export interface RoundRange {
@@ -47,21 +50,24 @@ export function storeTidyRounds(
     fromRound,
   );
   const byTable = TIDY_TABLES.map((table) => {
-    const byRound = new Map<number, Record<string, unknown>[]>();
-    for (const raw of store.tidyRows(table.name, analysis.site.id, { fromRound })) {
-      const round = Number(raw.round);
-      const rows = byRound.get(round) ?? [];
-      rows.push(raw);
-      byRound.set(round, rows);
+    const { names, rows } = store.tidyRows(table.name, analysis.site.id, { fromRound });
+    const byRound = new Map<number, (readonly unknown[])[]>();
+    if (rows.length === 0) return { table, places: [], byRound };
+    const roundPlace = cellPlaces([ROUND_COLUMN], names)[0]!;
+    for (const row of rows) {
+      const round = Number(row[roundPlace]);
+      const ofRound = byRound.get(round) ?? [];
+      ofRound.push(row);
+      byRound.set(round, ofRound);
     }
-    return { table, byRound };
+    return { table, places: cellPlaces(table.columns, names), byRound };
   });
   return later.map(
     (round) =>
       Object.fromEntries(
-        byTable.map(({ table, byRound }) => [
+        byTable.map(({ table, places, byRound }) => [
           table.name,
-          storedRowsCsv(table.columns, byRound.get(round.number) ?? []),
+          storedRowsCsv(table.columns, places, byRound.get(round.number) ?? []),
         ]),
       ) as TidyFragments,
   );
@@ -79,7 +85,11 @@ const TIDY_HEADERS = Object.fromEntries(TIDY_TABLES.map((table) => [table.name, 
 
 /** The site's tidy tables as the store's views give them, typed by their columns. */
 export function readTidyTables(store: StoreFacts, siteId: string, range: RoundRange = {}): TidyTables {
-  const read = (table: TidyTable): TidyRow[] =>
-    store.tidyRows(table.name, siteId, range).map((raw) => typedRow(table.columns, raw));
+  const read = (table: TidyTable): TidyRow[] => {
+    const { names, rows } = store.tidyRows(table.name, siteId, range);
+    if (rows.length === 0) return [];
+    const places = cellPlaces(table.columns, names);
+    return rows.map((cells) => typedRow(table.columns, places, cells));
+  };
   return { results: read(RESULTS_TABLE), rounds: read(ROUNDS_TABLE), alerts: read(ALERTS_TABLE) };
 }

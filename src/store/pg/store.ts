@@ -1,4 +1,4 @@
-import type { SiteFacts, StoreBackend, TidyRange, TidyView } from '../../domain/store.js';
+import type { SiteFacts, StoreBackend, TidyCells, TidyRange, TidyView } from '../../domain/store.js';
 import { ComposedStore } from '../composedStore.js';
 import { redactedLocation } from '../location.js';
 import { StoreOpenError, type StoreOptions } from '../open.js';
@@ -35,7 +35,7 @@ export class PgStore extends ComposedStore {
   replaceSiteFacts(siteId: string, facts: SiteFacts, fromRound = 1): void {
     replaceSiteFactsPg(this.conn, siteId, facts, fromRound);
   }
-  tidyRows(view: TidyView, siteId: string, range: TidyRange = {}): Record<string, unknown>[] {
+  tidyRows(view: TidyView, siteId: string, range: TidyRange = {}): TidyCells {
     return tidyRowsPg(this.conn, view, siteId, range);
   }
   lockSites(siteIds: readonly string[]): () => void {

@@ -11,6 +11,7 @@ import {
   type RopeRound,
   type SiteFacts,
   TIDY_VIEWS,
+  type TidyCells,
   type TidyRange,
   type TidyView,
 } from '../../domain/store.js';
@@ -112,14 +113,14 @@ export function replaceSiteFactsPg(conn: SyncConnection, siteId: string, facts: 
   });
 }
 
-/** Rows of a view for one site in `range`, in the SQLite store's order. */
-export function tidyRowsPg(
-  conn: SyncConnection,
-  view: TidyView,
-  siteId: string,
-  range: TidyRange = {},
-): Record<string, unknown>[] {
-  return conn.query(VIEW_SQL[view], [siteId, range.from ?? null, range.to ?? null, range.fromRound ?? 0]).rows;
+/**
+ * Rows of a view for one site in `range`, in the SQLite store's order, as cells in the order of
+ * the first row's keys (the view's columns, as the server sent them); no names when no row came.
+ */
+export function tidyRowsPg(conn: SyncConnection, view: TidyView, siteId: string, range: TidyRange = {}): TidyCells {
+  const { rows } = conn.query(VIEW_SQL[view], [siteId, range.from ?? null, range.to ?? null, range.fromRound ?? 0]);
+  const names = rows.length === 0 ? [] : Object.keys(rows[0]!);
+  return { names, rows: rows.map((row) => names.map((name) => row[name])) };
 }
 
 /** A site's advisory lock key: FNV-1a (32 bits) of its id, as a signed 32-bit integer. */
