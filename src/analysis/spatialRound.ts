@@ -83,11 +83,11 @@ export class OutbreakCache {
   }
 
   outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null {
-    const inUse = inUsePens(barn.pens).map((pen) => pen.id);
-    if (infected < 1 || infected > inUse.length) return null;
     const key = `${site.id}/${barn.id}/${infected}`;
     let outbreaks = this.cache.get(key);
     if (!outbreaks) {
+      const inUse = inUsePens(barn.pens).map((pen) => pen.id);
+      if (infected < 1 || infected > inUse.length) return null;
       outbreaks = simulateOutbreaks(contactWeights(barn.layout, inUse, 'queen', 'binary'), {
         infected,
         beta: this.settings.spreadTransmission,

@@ -16,7 +16,6 @@ import { summariseSpread, type SpreadPoint } from './spread.js';
 import type { WeightStyle } from './weights.js';
 
 import type {
-  RoundPen,
   SpatialOptions,
   BarnRoundInput,
   BarnSpatialReport,
@@ -35,11 +34,22 @@ export type {
   SiteSpatialReport,
 } from './roundReviewTypes.js';
 
+/** A usable roped pen of the round with its barn coordinates. */
+interface UsedPen {
+  id: string;
+  positive: boolean;
+  resultClass: string | null;
+  ct: number | null;
+  load: number;
+  x: number;
+  y: number;
+}
+
 interface Prepared {
   input: BarnRoundInput;
   offset: { x: number; y: number };
   pens: readonly Pen[];
-  used: (RoundPen & { x: number; y: number })[];
+  used: UsedPen[];
   excluded: { id: string; reason: string }[];
   /** The points and weights of `used`, shared with every round and assay that roped the same pens. */
   geometry: RopeSetGeometry;
@@ -64,7 +74,17 @@ function prepare(input: BarnRoundInput, cache: GeometryCache): Prepared {
     if (!isInUse(pen)) excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
     else if (s.resultClass === 'invalid')
       excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
-    else used.push({ ...s, x: pen.x, y: pen.y });
+    // Field by field: a spread copy of each pen costs more than the rest of the preparation.
+    else
+      used.push({
+        id: s.id,
+        positive: s.positive,
+        resultClass: s.resultClass ?? null,
+        ct: s.ct ?? null,
+        load: s.load,
+        x: pen.x,
+        y: pen.y,
+      });
   }
   for (const id of input.earlierPositive ?? [])
     if (!byId.has(id)) throw new RangeError(`\`earlierPositive\` must name pens of barn ${input.barn}, got ${id}`);
@@ -98,7 +118,7 @@ function clustersAndSpread(
   const adjacentDistance = options.adjacentDistance ?? Math.max(2.5, spacing);
   const positives = p.used.filter((u) => u.positive);
   const clusters = linkClusters(
-    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
+    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct })),
     linkDistance,
     earlier,
   );
@@ -145,8 +165,8 @@ function weightedStatistics(
     x: u.x,
     y: u.y,
     positive: u.positive,
-    resultClass: u.resultClass ?? null,
-    ct: u.ct ?? null,
+    resultClass: u.resultClass,
+    ct: u.ct,
     load: u.load,
     neighbours: w.offsets[i + 1]! - w.offsets[i]!,
     giStar: gi[i]!.z,
