@@ -268,10 +268,28 @@ function buildStrataBlocks(w: SpatialWeights, strata: readonly number[]): Strata
   return Object.freeze([...members].map(([stratum, pens]) => Object.freeze({ stratum, weights: subWeights(w, pens) })));
 }
 
-/** Groups pen indices by stratum, in first-seen order. */
-function groupStrata(n: number, strata: readonly number[] | undefined): number[][] {
+/** Pen indices by stratum, strata in first-seen order. */
+type StrataGroups = readonly (readonly number[])[];
+
+/**
+ * Groups pen indices by stratum, in first-seen order; the groups of a frozen strata array (the
+ * site's, handed out again for the same rope sets) are kept while it lives.
+ */
+function groupStrata(n: number, strata: readonly number[] | undefined): StrataGroups {
   if (!strata) return [Array.from({ length: n }, (_, i) => i)];
   if (strata.length !== n) throw new RangeError(`\`strata\` must have one entry per pen (${n}), got ${strata.length}`);
+  if (!Object.isFrozen(strata)) return groupByStratum(strata);
+  let groups = groupsOfFrozen.get(strata);
+  if (groups === undefined) {
+    groups = Object.freeze(groupByStratum(strata).map((pens) => Object.freeze(pens)));
+    groupsOfFrozen.set(strata, groups);
+  }
+  return groups;
+}
+
+const groupsOfFrozen = new WeakMap<readonly number[], StrataGroups>();
+
+function groupByStratum(strata: readonly number[]): number[][] {
   const groups = new Map<number, number[]>();
   strata.forEach((s, i) => {
     if (!groups.has(s)) groups.set(s, []);
@@ -284,7 +302,7 @@ function groupStrata(n: number, strata: readonly number[] | undefined): number[]
  * Calls `visit(bb)` for every placement of the positives (per stratum, C(ns, n1s) each),
  * updating BB incrementally: placing pen i adds sum_j a_ij over the pens already placed.
  */
-function enumeratePlacements(g: JoinGraph, groups: number[][], counts: number[], visit: (bb: number) => void): void {
+function enumeratePlacements(g: JoinGraph, groups: StrataGroups, counts: number[], visit: (bb: number) => void): void {
   const placed = new Uint8Array(g.n);
   const gain = (i: number) => {
     let s = 0;

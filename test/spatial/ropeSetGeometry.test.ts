@@ -155,10 +155,16 @@ describe('structures derived from frozen weights and points', () => {
     expect(stratifiedJoinCountMoments(w, strata, positive)).toEqual(
       stratifiedJoinCountMoments(thawed(w), strata, positive),
     );
-    const options = { permutations: 99, exactLimit: 10, strata };
-    expect(joinCountTest(w, positive, { ...options, rng: seededRng(4) })).toEqual(
-      joinCountTest(thawed(w), positive, { ...options, rng: seededRng(4) }),
-    );
+    for (const exactLimit of [10, 1e6]) {
+      const options = { permutations: 99, exactLimit };
+      const kept = joinCountTest(w, positive, { ...options, strata: Object.freeze([...strata]), rng: seededRng(4) });
+      expect(kept).toEqual(joinCountTest(thawed(w), positive, { ...options, strata, rng: seededRng(4) }));
+      // Other strata over the same frozen weights are grouped afresh.
+      const other = points.map((_, i) => i % 2);
+      expect(joinCountTest(w, positive, { ...options, strata: Object.freeze(other), rng: seededRng(4) })).toEqual(
+        joinCountTest(thawed(w), positive, { ...options, strata: other, rng: seededRng(4) }),
+      );
+    }
   });
 
   it('give the scan the same windows for frozen points as for a copy, whatever the limits', () => {
