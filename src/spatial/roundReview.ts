@@ -225,7 +225,8 @@ function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): Ba
  * detection of the ropes hung under contagious spread is left null: it needs the site's spread
  * model, which src/analysis/spatialRound.ts supplies). Empty and
  * out-of-use pens, and invalid results, are left out and listed in `excluded`.
- * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id.
+ * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id. `geometry`
+ * keeps the rope sets' geometry between calls, as in analyseSiteRound.
  *
  * @throws RangeError on pens not in the layout, duplicate pens, bad loads or bad options.
  * @see Cliff & Ord 1981; Moran 1950; Ord & Getis 1995; Kulldorff 1997 (see each module).
