@@ -11,6 +11,7 @@ import {
   compareWithRandomPlacement,
   contactWeights,
   simulateOutbreaks,
+  GeometryCache,
   type BarnSpatialReport,
   type Outbreaks,
   type SiteSpatialReport,
@@ -72,6 +73,8 @@ export interface RoundSpatial {
 /** Simulated outbreaks per barn and design, reused across rounds and assays (same seed, same result). */
 export class OutbreakCache {
   private readonly cache = new Map<string, Outbreaks>();
+  /** The geometry of the rope sets the rounds and assays review, each made once (as long as this cache lives). */
+  readonly geometry = new GeometryCache();
   constructor(private readonly settings: AnalysisSettings) {}
 
   /** The seed of a barn's simulated outbreaks with `infected` pens (written into the outputs). */
@@ -80,11 +83,11 @@ export class OutbreakCache {
   }
 
   outbreaksFor(site: Site, barn: Barn, infected: number): Outbreaks | null {
-    const inUse = inUsePens(barn.pens).map((pen) => pen.id);
-    if (infected < 1 || infected > inUse.length) return null;
     const key = `${site.id}/${barn.id}/${infected}`;
     let outbreaks = this.cache.get(key);
     if (!outbreaks) {
+      const inUse = inUsePens(barn.pens).map((pen) => pen.id);
+      if (infected < 1 || infected > inUse.length) return null;
       outbreaks = simulateOutbreaks(contactWeights(barn.layout, inUse, 'queen', 'binary'), {
         infected,
         beta: this.settings.spreadTransmission,
@@ -258,6 +261,7 @@ function assaySpatial(ctx: RoundContext, assayId: string): AssaySpatial {
     site: site.id,
     barns: barnInputs(ctx, assayId, measure, spByPen),
     options: { seed: deriveSeed(ctx.seed, assayId), permutations: settings.permutations },
+    geometry: ctx.cache.geometry,
   });
   const detection = report.barns.map((barnReport) => barnDetection(ctx, assayId, barnReport));
   const alerts = report.barns

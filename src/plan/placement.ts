@@ -185,7 +185,14 @@ export function placementDistances(
     if (!pen) throw new RangeError(`\`penIds\` must name pens of the barn, got ${JSON.stringify(id)}`);
     return pen;
   });
-  const inUse = inUsePens(pens);
+  return nearestRopeDistances(inUsePens(pens), roped);
+}
+
+/** placementDistances over the in-use pens and the roped pens themselves. */
+function nearestRopeDistances(
+  inUse: readonly Pen[],
+  roped: readonly Pen[],
+): { coveringRadius: number | null; meanDistance: number | null } {
   if (roped.length === 0 || inUse.length === 0) return { coveringRadius: null, meanDistance: null };
   let radius = 0;
   let total = 0;
@@ -198,15 +205,36 @@ export function placementDistances(
   return { coveringRadius: radius, meanDistance: total / inUse.length };
 }
 
+/**
+ * The start phase of each rope count, by the barn's pens (an array as expandLayout returns it,
+ * which must not change while it is held): the confidence of every round, the plan and its
+ * coverage ask for the same barn and rope count again, and the search places every phase.
+ */
+const startPhases = new WeakMap<readonly Pen[], Map<number, number>>();
+
 function bestStartPhase(grid: Grid, ropes: number): number {
+  let byRopes = startPhases.get(grid.pens);
+  if (byRopes === undefined) {
+    byRopes = new Map();
+    startPhases.set(grid.pens, byRopes);
+  }
+  let phase = byRopes.get(ropes);
+  if (phase === undefined) {
+    phase = searchStartPhase(grid, ropes);
+    byRopes.set(ropes, phase);
+  }
+  return phase;
+}
+
+function searchStartPhase(grid: Grid, ropes: number): number {
   const cycle = cycleLengthOf(grid, ropes);
   let best = 0;
   let bestRadius = Infinity;
   let bestMean = Infinity;
   for (let phase = 0; phase < cycle; phase++) {
-    const { coveringRadius, meanDistance } = placementDistances(
-      grid.pens,
-      placeAtPhase(grid, ropes, phase).map((r) => r.penId),
+    const { coveringRadius, meanDistance } = nearestRopeDistances(
+      grid.inUse,
+      placeAtPhase(grid, ropes, phase).map((r) => grid.at(r.row, r.position)),
     );
     const radius = coveringRadius ?? Infinity;
     const mean = meanDistance ?? Infinity;

@@ -10,3 +10,4 @@ export * from './spread.js';
 export * from './spreadDetection.js';
 export * from './roundReview.js';
 export * from './onwardSpread.js';
+export * from './ropeSetGeometry.js';

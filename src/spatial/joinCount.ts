@@ -64,8 +64,24 @@ export interface JoinGraph {
   weights: Float64Array;
 }
 
-/** Builds the symmetric join graph used by all join-count loops. */
+/**
+ * Builds the symmetric join graph used by all join-count loops. The graph of frozen weights is
+ * kept while they live (treat it as read-only): weights handed out again for the same pens are
+ * not walked again.
+ */
 export function joinGraph(w: SpatialWeights): JoinGraph {
+  if (!Object.isFrozen(w)) return buildJoinGraph(w);
+  let graph = graphOfFrozen.get(w);
+  if (graph === undefined) {
+    graph = Object.freeze(buildJoinGraph(w));
+    graphOfFrozen.set(w, graph);
+  }
+  return graph;
+}
+
+const graphOfFrozen = new WeakMap<SpatialWeights, JoinGraph>();
+
+function buildJoinGraph(w: SpatialWeights): JoinGraph {
   const n = w.ids.length;
   const rows: Map<number, number>[] = Array.from({ length: n }, () => new Map());
   for (let i = 0; i < n; i++) {
@@ -183,16 +199,12 @@ export function stratifiedJoinCountMoments(
   });
   // Block-diagonal weights (no join between strata, the usual site case): strata are independent,
   // so the moments are sums of the per-stratum non-free moments, without the O(joins^2) sum.
-  let crossJoins = false;
-  for (let i = 0; i < n && !crossJoins; i++)
-    for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++)
-      if (strata[w.neighbours[a]!] !== strata[i]) crossJoins = true;
-  if (!crossJoins) {
+  const blocks = strataBlocks(w, strata);
+  if (blocks !== null) {
     let expectedBB = 0;
     let varianceBB = 0;
-    for (const s of size.keys()) {
-      const members = strata.flatMap((t, i) => (t === s ? [i] : []));
-      const m = joinCountMoments(subWeights(w, members), pos.get(s) ?? 0);
+    for (const { stratum, weights } of blocks) {
+      const m = joinCountMoments(weights, pos.get(stratum) ?? 0);
       expectedBB += m.expectedBB;
       varianceBB += m.varianceBB;
     }
@@ -220,10 +232,64 @@ export function stratifiedJoinCountMoments(
   return { expectedBB: mean, varianceBB: zeroIfTiny(variance, mean) };
 }
 
-/** Groups pen indices by stratum, in first-seen order. */
-function groupStrata(n: number, strata: readonly number[] | undefined): number[][] {
+/** Each stratum's own weights, strata in first-seen order. */
+type StrataBlocks = readonly { stratum: number; weights: SpatialWeights }[];
+
+/**
+ * Each stratum's weights (subWeights) when no join crosses strata, else null. Kept for frozen
+ * weights while they live, by strata: the weights and strata of the same pens come again.
+ */
+function strataBlocks(w: SpatialWeights, strata: readonly number[]): StrataBlocks | null {
+  if (!Object.isFrozen(w)) return buildStrataBlocks(w, strata);
+  let byStrata = blocksOfFrozen.get(w);
+  if (byStrata === undefined) {
+    byStrata = new Map();
+    blocksOfFrozen.set(w, byStrata);
+  }
+  const key = strata.join(',');
+  let blocks = byStrata.get(key);
+  if (blocks === undefined) {
+    blocks = buildStrataBlocks(w, strata);
+    byStrata.set(key, blocks);
+  }
+  return blocks;
+}
+
+const blocksOfFrozen = new WeakMap<SpatialWeights, Map<string, StrataBlocks | null>>();
+
+function buildStrataBlocks(w: SpatialWeights, strata: readonly number[]): StrataBlocks | null {
+  for (let i = 0; i < w.ids.length; i++)
+    for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) if (strata[w.neighbours[a]!] !== strata[i]) return null;
+  const members = new Map<number, number[]>();
+  strata.forEach((s, i) => {
+    if (!members.has(s)) members.set(s, []);
+    members.get(s)!.push(i);
+  });
+  return Object.freeze([...members].map(([stratum, pens]) => Object.freeze({ stratum, weights: subWeights(w, pens) })));
+}
+
+/** Pen indices by stratum, strata in first-seen order. */
+type StrataGroups = readonly (readonly number[])[];
+
+/**
+ * Groups pen indices by stratum, in first-seen order; the groups of a frozen strata array (the
+ * site's, handed out again for the same rope sets) are kept while it lives.
+ */
+function groupStrata(n: number, strata: readonly number[] | undefined): StrataGroups {
   if (!strata) return [Array.from({ length: n }, (_, i) => i)];
   if (strata.length !== n) throw new RangeError(`\`strata\` must have one entry per pen (${n}), got ${strata.length}`);
+  if (!Object.isFrozen(strata)) return groupByStratum(strata);
+  let groups = groupsOfFrozen.get(strata);
+  if (groups === undefined) {
+    groups = Object.freeze(groupByStratum(strata).map((pens) => Object.freeze(pens)));
+    groupsOfFrozen.set(strata, groups);
+  }
+  return groups;
+}
+
+const groupsOfFrozen = new WeakMap<readonly number[], StrataGroups>();
+
+function groupByStratum(strata: readonly number[]): number[][] {
   const groups = new Map<number, number[]>();
   strata.forEach((s, i) => {
     if (!groups.has(s)) groups.set(s, []);
@@ -236,7 +302,7 @@ function groupStrata(n: number, strata: readonly number[] | undefined): number[]
  * Calls `visit(bb)` for every placement of the positives (per stratum, C(ns, n1s) each),
  * updating BB incrementally: placing pen i adds sum_j a_ij over the pens already placed.
  */
-function enumeratePlacements(g: JoinGraph, groups: number[][], counts: number[], visit: (bb: number) => void): void {
+function enumeratePlacements(g: JoinGraph, groups: StrataGroups, counts: number[], visit: (bb: number) => void): void {
   const placed = new Uint8Array(g.n);
   const gain = (i: number) => {
     let s = 0;

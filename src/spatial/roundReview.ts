@@ -3,31 +3,19 @@
  * returned as one JSON-serialisable report (the pipeline writes clusters.json / clusters.csv
  * from it).
  */
-import { expandLayout, isInUse, type Pen } from '../domain/layout.js';
+import { isInUse, type Pen } from '../domain/layout.js';
 import { deriveSeed, seededRng } from '../util/random.js';
 import { linkClusters } from './clusters.js';
 import { localGiStar } from './getisOrd.js';
 import { joinCountTest, type JoinCountTest } from './joinCount.js';
 import { localJoinCounts } from './localJoinCount.js';
 import { moranTest } from './moran.js';
+import { GeometryCache, type ChosenWeights, type RopeSetGeometry, type SiteBlock } from './ropeSetGeometry.js';
 import { bernoulliScan } from './scan.js';
 import { summariseSpread, type SpreadPoint } from './spread.js';
-import {
-  contactWeights,
-  defaultWeights,
-  ropeSpacing,
-  distanceBandWeights,
-  knnWeights,
-  listWeights,
-  weightsFromEdges,
-  type SpatialPoint,
-  type SpatialWeights,
-  type WeightStyle,
-} from './weights.js';
+import type { WeightStyle } from './weights.js';
 
 import type {
-  RoundPen,
-  WeightChoice,
   SpatialOptions,
   BarnRoundInput,
   BarnSpatialReport,
@@ -46,19 +34,29 @@ export type {
   SiteSpatialReport,
 } from './roundReviewTypes.js';
 
+/** A usable roped pen of the round with its barn coordinates. */
+interface UsedPen {
+  id: string;
+  positive: boolean;
+  resultClass: string | null;
+  ct: number | null;
+  load: number;
+  x: number;
+  y: number;
+}
+
 interface Prepared {
   input: BarnRoundInput;
   offset: { x: number; y: number };
-  pens: Pen[];
-  used: (RoundPen & { x: number; y: number })[];
+  pens: readonly Pen[];
+  used: UsedPen[];
   excluded: { id: string; reason: string }[];
-  /** The weights among `used` by style, made once: the barn's statistics and the site's join count read the same. */
-  weights: Map<WeightStyle, { w: SpatialWeights; band: number | null }>;
+  /** The points and weights of `used`, shared with every round and assay that roped the same pens. */
+  geometry: RopeSetGeometry;
 }
 
-function prepare(input: BarnRoundInput): Prepared {
-  const pens = expandLayout(input.layout);
-  const byId = new Map(pens.map((p) => [p.id, p]));
+function prepare(input: BarnRoundInput, cache: GeometryCache): Prepared {
+  const { pens, byId } = cache.layout(input.layout);
   const offset = input.offset ?? { x: 0, y: 0 };
   if (!Number.isFinite(offset.x) || !Number.isFinite(offset.y))
     throw new RangeError(`\`offset\` of barn ${input.barn} must be finite, got ${offset.x}, ${offset.y}`);
@@ -76,60 +74,30 @@ function prepare(input: BarnRoundInput): Prepared {
     if (!isInUse(pen)) excluded.push({ id: s.id, reason: `pen is ${pen.status}` });
     else if (s.resultClass === 'invalid')
       excluded.push({ id: s.id, reason: 'invalid result (retest), neither positive nor negative' });
-    else used.push({ ...s, x: pen.x, y: pen.y });
+    // Field by field: a spread copy of each pen costs more than the rest of the preparation.
+    else
+      used.push({
+        id: s.id,
+        positive: s.positive,
+        resultClass: s.resultClass ?? null,
+        ct: s.ct ?? null,
+        load: s.load,
+        x: pen.x,
+        y: pen.y,
+      });
   }
   for (const id of input.earlierPositive ?? [])
     if (!byId.has(id)) throw new RangeError(`\`earlierPositive\` must name pens of barn ${input.barn}, got ${id}`);
-  return { input, offset, pens, used, excluded, weights: new Map() };
+  const geometry = cache.ropeSet(
+    input.layout,
+    used.map((u) => u.id),
+  );
+  return { input, offset, pens, used, excluded, geometry };
 }
 
-/** The weights of the options' choice among the usable ropes, in `style` (made on the first request). */
-function weightsOf(
-  p: Prepared,
-  options: SpatialOptions,
-  style: WeightStyle,
-): { w: SpatialWeights; band: number | null } {
-  let made = p.weights.get(style);
-  if (made === undefined) {
-    made = buildWeights(p, options.weights ?? { kind: 'default' }, style);
-    p.weights.set(style, made);
-  }
-  return made;
-}
-
-function buildWeights(
-  p: Prepared,
-  choice: WeightChoice,
-  style: WeightStyle,
-): { w: SpatialWeights; band: number | null } {
-  const points: SpatialPoint[] = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
-  switch (choice.kind) {
-    case 'default':
-      return { w: defaultWeights(points, style), band: null };
-    case 'contact':
-      return {
-        w: contactWeights(
-          p.input.layout,
-          points.map((q) => q.id),
-          choice.convention,
-          style,
-        ),
-        band: null,
-      };
-    case 'knn':
-      return { w: knnWeights(points, choice.k, style), band: null };
-    case 'band':
-      return { w: distanceBandWeights(points, choice.band, style, choice.power ?? 0), band: choice.band };
-    case 'lists':
-      return {
-        w: listWeights(
-          points.map((q) => q.id),
-          choice.neighbours,
-          style,
-        ),
-        band: null,
-      };
-  }
+/** The weights of the options' choice among the usable ropes, in `style`. */
+function weightsOf(p: Prepared, options: SpatialOptions, style: WeightStyle): ChosenWeights {
+  return p.geometry.weights(options.weights ?? { kind: 'default' }, style);
 }
 
 function checkOptions(o: SpatialOptions): void {
@@ -143,15 +111,14 @@ function clustersAndSpread(
 ): Pick<BarnSpatialReport, 'clusters' | 'clusterLinkDistance' | 'spread'> {
   const { input } = p;
   const earlier = new Set(input.earlierPositive ?? []);
-  const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
   // A cluster is a chain of neighbouring ropes; "adjacent" spread reaches at least the next rope,
   // since the pens between two ropes were not sampled (see summariseSpread for the 2.5 floor).
-  const spacing = p.used.length >= 2 ? ropeSpacing(points) : 1;
+  const spacing = p.used.length >= 2 ? p.geometry.spacing() : 1;
   const linkDistance = options.clusterLinkDistance ?? spacing;
   const adjacentDistance = options.adjacentDistance ?? Math.max(2.5, spacing);
   const positives = p.used.filter((u) => u.positive);
   const clusters = linkClusters(
-    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct ?? null })),
+    positives.map((u) => ({ id: u.id, x: u.x, y: u.y, ct: u.ct })),
     linkDistance,
     earlier,
   );
@@ -175,7 +142,6 @@ function weightedStatistics(
   const positive = p.used.map((u) => u.positive);
   const loads = p.used.map((u) => u.load);
   const earlier = new Set(p.input.earlierPositive ?? []);
-  const points = p.used.map((u) => ({ id: u.id, x: u.x, y: u.y }));
   const { w, band } = weightsOf(p, options, style);
   if (w.isolates.length > 0)
     notes.push(
@@ -187,7 +153,7 @@ function weightedStatistics(
     exactLimit: options.exactLimit ?? 1e6,
   });
   const moran = moranTest(w, loads, { rng: seededRng(deriveSeed(seed, 'moran')), permutations });
-  const scan = bernoulliScan(points, positive, {
+  const scan = bernoulliScan(p.geometry.points, positive, {
     rng: seededRng(deriveSeed(seed, 'scan')),
     permutations,
     ...(options.scan ?? {}),
@@ -199,8 +165,8 @@ function weightedStatistics(
     x: u.x,
     y: u.y,
     positive: u.positive,
-    resultClass: u.resultClass ?? null,
-    ct: u.ct ?? null,
+    resultClass: u.resultClass,
+    ct: u.ct,
     load: u.load,
     neighbours: w.offsets[i + 1]! - w.offsets[i]!,
     giStar: gi[i]!.z,
@@ -259,15 +225,18 @@ function analysePrepared(p: Prepared, options: SpatialOptions, seed: number): Ba
  * detection of the ropes hung under contagious spread is left null: it needs the site's spread
  * model, which src/analysis/spatialRound.ts supplies). Empty and
  * out-of-use pens, and invalid results, are left out and listed in `excluded`.
- * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id.
+ * Every Monte Carlo part uses a seed derived from `options.seed` and the barn id. `geometry`
+ * keeps the rope sets' geometry between calls, as in analyseSiteRound.
  *
  * @throws RangeError on pens not in the layout, duplicate pens, bad loads or bad options.
  * @see Cliff & Ord 1981; Moran 1950; Ord & Getis 1995; Kulldorff 1997 (see each module).
  */
-export function analyseBarnRound(input: BarnRoundInput & { options: SpatialOptions }): BarnSpatialReport {
+export function analyseBarnRound(
+  input: BarnRoundInput & { options: SpatialOptions; geometry?: GeometryCache },
+): BarnSpatialReport {
   checkOptions(input.options);
   const seed = deriveSeed(input.options.seed, 'barn', input.barn);
-  return analysePrepared(prepare(input), input.options, seed);
+  return analysePrepared(prepare(input, input.geometry ?? new GeometryCache()), input.options, seed);
 }
 
 /**
@@ -286,32 +255,23 @@ export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
     if (barnIds.has(b.barn)) throw new RangeError(`\`barns\` must have unique ids, got ${b.barn} twice`);
     barnIds.add(b.barn);
   }
-  const prepared = input.barns.map(prepare);
+  const cache = input.geometry ?? new GeometryCache();
+  const prepared = input.barns.map((barn) => prepare(barn, cache));
   const barns = prepared.map((p) =>
     analysePrepared(p, input.options, deriveSeed(input.options.seed, 'barn', p.input.barn)),
   );
   const notes: string[] = [];
-  const ids: string[] = [];
-  const strata: number[] = [];
+  const blocks: SiteBlock[] = [];
   const positive: boolean[] = [];
-  const edges: [number, number, number][] = [];
-  const style = input.options.style ?? 'binary';
   prepared.forEach((p, s) => {
     if (p.used.length < 2) return;
-    const { w } = weightsOf(p, input.options, 'binary');
-    const base = ids.length;
-    p.used.forEach((u) => {
-      ids.push(`${p.input.barn}/${u.id}`);
-      strata.push(s);
-      positive.push(u.positive);
-    });
-    for (let i = 0; i < w.ids.length; i++)
-      for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++)
-        edges.push([base + i, base + w.neighbours[a]!, w.weights[a]!]);
+    blocks.push({ barn: p.input.barn, stratum: s, geometry: p.geometry });
+    for (const u of p.used) positive.push(u.positive);
   });
   let joinCount: JoinCountTest | null = null;
-  if (ids.length >= 2) {
-    const w = weightsFromEdges(ids, edges, style, `per-barn weights as separate blocks, ${style}`);
+  if (positive.length >= 2) {
+    const style = input.options.style ?? 'binary';
+    const { w, strata } = cache.siteWeights(blocks, input.options.weights ?? { kind: 'default' }, style);
     joinCount = joinCountTest(w, positive, {
       rng: seededRng(deriveSeed(input.options.seed, 'site', input.site, 'join-count')),
       permutations: input.options.permutations ?? 999,
@@ -330,7 +290,7 @@ export function analyseSiteRound(input: SiteRoundInput): SiteSpatialReport {
         earlier.push({ id: pen.id, x: pen.x + p.offset.x, y: pen.y + p.offset.y, barn: p.input.barn });
   }
   // Same default as per barn: at least the next rope, taking the widest rope spacing of the site.
-  const spacings = prepared.filter((p) => p.used.length >= 2).map((p) => ropeSpacing(p.used));
+  const spacings = prepared.filter((p) => p.used.length >= 2).map((p) => p.geometry.spacing());
   const spread = summariseSpread(current, earlier, input.options.adjacentDistance ?? Math.max(2.5, ...spacings));
   return { site: input.site, seed: input.options.seed, barns, joinCount, spread, notes };
 }

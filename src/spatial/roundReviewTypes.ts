@@ -4,6 +4,7 @@
  */
 import type { BarnLayout } from '../domain/layout.js';
 import type { PenCluster } from './clusters.js';
+import type { GeometryCache } from './ropeSetGeometry.js';
 import type { JoinCountTest } from './joinCount.js';
 import type { MoranResult } from './moran.js';
 import type { ScanResult } from './scan.js';
@@ -108,6 +109,11 @@ export interface SiteRoundInput {
   site: string;
   barns: BarnRoundInput[];
   options: SpatialOptions;
+  /**
+   * Where the geometry of the rope sets is kept between calls (one site's rounds and assays);
+   * without it each call makes its own. The results are the same either way.
+   */
+  geometry?: GeometryCache;
 }
 
 export interface SiteSpatialReport {

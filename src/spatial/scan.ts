@@ -84,6 +84,28 @@ export function scanWindows(points: readonly SpatialPoint[], maxPens: number, ma
   return { n, order, sizes, radii };
 }
 
+/**
+ * The windows of frozen points (a rope set's geometry hands out frozen points), kept while the
+ * points live, by their limits: a rope set reviewed again is not sorted again.
+ */
+const windowsOfFrozen = new WeakMap<readonly SpatialPoint[], Map<string, ScanWindows>>();
+
+function windowsFor(points: readonly SpatialPoint[], maxPens: number, maxRadius: number): ScanWindows {
+  if (!Object.isFrozen(points)) return scanWindows(points, maxPens, maxRadius);
+  let byLimits = windowsOfFrozen.get(points);
+  if (byLimits === undefined) {
+    byLimits = new Map();
+    windowsOfFrozen.set(points, byLimits);
+  }
+  const key = `${maxPens} ${maxRadius}`;
+  let windows = byLimits.get(key);
+  if (windows === undefined) {
+    windows = scanWindows(points, maxPens, maxRadius);
+    byLimits.set(key, windows);
+  }
+  return windows;
+}
+
 /** Table of k ln k for k = 0..n (0 ln 0 = 0), so each window LLR is four lookups. */
 function xlogxTable(n: number): Float64Array {
   const t = new Float64Array(n + 1);
@@ -185,7 +207,8 @@ function simulatedMaxima(
  * maximum (conservative for them).
  *
  * @example bernoulliScan(rowOf6, [f,t,t,f,f,f], ...).mostLikely // pens P1-P3, llr = ln 3 + 2 ln 1.5, p -> 9/15 (test/spatial/scan.test.ts)
- * @param points sampled in-use pens with coordinates (pen units).
+ * @param points sampled in-use pens with coordinates (pen units); a frozen array is taken to stay
+ *   as it is, so its windows are made once.
  * @param positive one flag per point.
  * @throws RangeError on mismatched lengths, fewer than 2 pens or bad options.
  * @see Kulldorff M. (1997) A spatial scan statistic, Communications in Statistics - Theory and
@@ -213,7 +236,7 @@ export function bernoulliScan(
   if (!(maxRadius > 0)) throw new RangeError(`\`maxRadius\` must be a number > 0, got ${maxRadius}`);
   const maxSecondary = options.maxSecondary ?? 5;
   const maxPens = Math.max(1, Math.floor(n * maxFraction));
-  const win = scanWindows(points, maxPens, maxRadius);
+  const win = windowsFor(points, maxPens, maxRadius);
   const label = Uint8Array.from(positive, (b) => (b ? 1 : 0));
   const C = label.reduce((s, v) => s + v, 0);
   const t = xlogxTable(n);

@@ -335,6 +335,22 @@ export function ropeSpacing(points: readonly SpatialPoint[]): number {
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes: Models and Applications, ch. 1-2.
  */
 export function weightConstants(w: SpatialWeights): WeightConstants {
+  if (!Object.isFrozen(w)) return computeWeightConstants(w);
+  let constants = constantsOfFrozen.get(w);
+  if (constants === undefined) {
+    constants = Object.freeze(computeWeightConstants(w));
+    constantsOfFrozen.set(w, constants);
+  }
+  return constants;
+}
+
+/**
+ * The constants of frozen weights (every builder here freezes what it returns), kept while the
+ * weights live: weights handed out again for the same pens are not summed again.
+ */
+const constantsOfFrozen = new WeakMap<SpatialWeights, WeightConstants>();
+
+function computeWeightConstants(w: SpatialWeights): WeightConstants {
   const n = w.ids.length;
   const rowSum = new Float64Array(n);
   const colSum = new Float64Array(n);

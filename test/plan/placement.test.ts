@@ -96,6 +96,30 @@ describe('systematic placement', () => {
     expect(coverageRounds(barn, 7).rounds).toBe(6);
   });
 
+  it('places every round as a search afresh would, with the start phase kept between calls', () => {
+    const barns = [
+      barn,
+      pensOf(2, 20, { empty: ['A1', 'A2', 'A3', 'B7', 'B8'], outOfUse: ['A10', 'B10'] }),
+      pensOf(4, 10),
+      pensOf(2, 15, { gapsAfter: [5, 10], gapWidth: 2 }),
+    ];
+    for (const pens of barns) {
+      // Rope counts interleaved on one array, each against a copy no call has seen.
+      for (const roundIndex of [0, 1, 5])
+        for (const ropes of [7, 3, 12, 1, 7]) {
+          const fresh = pens.map((pen) => ({ ...pen }));
+          expect(placeSystematic(pens, { ropes, roundIndex })).toEqual(placeSystematic(fresh, { ropes, roundIndex }));
+          expect(coverageRounds(pens, ropes, roundIndex)).toEqual(
+            coverageRounds(
+              pens.map((pen) => ({ ...pen })),
+              ropes,
+              roundIndex,
+            ),
+          );
+        }
+    }
+  });
+
   it('alternates the two sides of each alley in a 4-row barn', () => {
     const pens = pensOf(4, 12);
     const placed = byPosition(pens, placeSystematic(pens, { ropes: 8, roundIndex: 0 }).penIds);
