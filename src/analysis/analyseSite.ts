@@ -50,7 +50,7 @@ export interface AnalysisContext {
   config: Config;
   /** The day the analysis is made (yyyy-mm-dd): rounds still open, plan due dates. */
   today: string;
-  /** Outbreak spread models shared by the sites of one run. */
+  /** Outbreak spread models and rope set geometry kept for the build of one site (a new cache per site keeps memory to one site). */
   cache: OutbreakCache;
 }
 
