@@ -46,7 +46,10 @@ interface FileMemo {
   /** Scratch for one row's words, reused row after row. */
   rowWords: RowWords;
   ctMeanings: CtMeaningCache;
-  /** The last sample ID placed by pattern: a sample's assays come on neighbouring rows. */
+  /** The last sample ID cell and its normalised form: a sample's assays come on neighbouring rows. */
+  lastRawSample: string;
+  lastNormalised: string;
+  /** The last sample ID placed by pattern. */
   lastLocated: { sampleId: string; fallbackDate: string | undefined; located: EncodedLocation } | undefined;
 }
 const memoByContext = new WeakMap<ResultContext, FileMemo>();
@@ -71,6 +74,8 @@ function fileMemo(context: ResultContext): FileMemo {
       words: labWords(context.lab),
       rowWords: emptyRowWords(),
       ctMeanings: ctMeaningCache(),
+      lastRawSample: '',
+      lastNormalised: '',
       lastLocated: undefined,
     };
     memoByContext.set(context, memo);
@@ -111,8 +116,9 @@ function readSubject(
   cells: readonly string[],
   line: number,
   context: ResultContext,
-  at: ColumnPositions,
+  memo: FileMemo,
 ): RecordSubject | Refused {
+  const at = memo.positions;
   const { lab } = context;
   const columns = lab.columns;
   const rawSample = cellAt(cells, at.sampleId) ?? '';
@@ -124,7 +130,11 @@ function readSubject(
       value: rawSample,
       detail: 'the sample ID is empty',
     });
-  const normalised = normaliseSampleId(rawSample);
+  if (rawSample !== memo.lastRawSample) {
+    memo.lastNormalised = normaliseSampleId(rawSample);
+    memo.lastRawSample = rawSample;
+  }
+  const normalised = memo.lastNormalised;
   const checked = context.plannedIdCheck(normalised, line);
   if (checked.kind === 'bad-check') {
     return refuse({
@@ -240,7 +250,7 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const memo = fileMemo(context);
   const at = memo.positions;
 
-  const subject = readSubject(cells, line, context, at);
+  const subject = readSubject(cells, line, context, memo);
   if ('rejection' in subject) return subject;
   const { rawSample, sampleId, labAssayName, labAssay, assay } = subject;
 

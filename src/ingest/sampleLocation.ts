@@ -46,16 +46,23 @@ export function locationFromPattern(
   sites: readonly Site[],
   fallbackDate: string | undefined,
 ): EncodedLocation {
+  // Exports come a site at a time: the site that placed the last ID is asked first, and an
+  // answer that names a place (or a date problem) from it is final, as it would be below, where
+  // that site also goes first among the sites whose patterns match.
+  const last = lastPatternSite.get(sites);
+  if (last !== undefined) {
+    const located = locationInSite(last, sampleId, fallbackDate, sites);
+    if (located !== undefined && (typeof located !== 'object' || !('unknownPen' in located))) return located;
+  }
   // One pass over the ID finds the sites whose pattern matches (usually none or one); only
   // those are asked for their groups.
   const candidates = patternSites(sites);
   const matching = candidates.set.matching(sampleId);
   if (matching.length === 0) return undefined;
   if (matching.length === 1) return locationInSite(candidates.sites[matching[0]!]!, sampleId, fallbackDate, sites);
-  // Several sites' patterns match: exports come a site at a time, so the site that matched
-  // last goes first, then the others in configuration order.
+  // Several sites' patterns match: the site that matched last goes first, then the others in
+  // configuration order.
   const matched = [...matching].sort((a, b) => a - b).map((index) => candidates.sites[index]!);
-  const last = lastPatternSite.get(sites);
   let unknown: UnknownEncodedPen | undefined;
   for (const site of last !== undefined && matched.includes(last)
     ? [last, ...matched.filter((other) => other !== last)]

@@ -1,3 +1,5 @@
+import { createHash } from 'node:crypto';
+import fc from 'fast-check';
 import { NORTHFIELD_HEADER } from '../../src/demo/labFiles.js';
 /**
  * One CSV record to a stored row or a refusal naming line, field and code. Context comes from
@@ -11,7 +13,7 @@ import { compileConfiguredPattern } from '../../src/config/pattern.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { canonicalPenKey, parseDateCell } from '../../src/ingest/recordCells.js';
+import { canonicalPenKey, contentKey, leading52Bits, parseDateCell } from '../../src/ingest/recordCells.js';
 import { locationFromPattern } from '../../src/ingest/sampleLocation.js';
 import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
 import { mapRopeRow, type RopeContext } from '../../src/ingest/ropeSheetRecords.js';
@@ -114,6 +116,21 @@ describe('mapResultRow', () => {
       const changed = nf(change);
       expect(changed.ok && changed.row.contentKey).not.toBe(outcome.row.contentKey);
     }
+  });
+
+  it('reads the content key from the digest bytes as the first 13 hex digits of the digest', () => {
+    // FIPS 180-2, appendix A.1: SHA-1("abc") = a9993e36 4706816a ba3e2571 7850c26c 9cd0d89d.
+    expect(leading52Bits(createHash('sha1').update('abc').digest('binary'))).toBe(0xa9993e3647068);
+    // Oracle: node:crypto's hex digest, cut to 13 digits and parsed (how stored keys were made).
+    fc.assert(
+      fc.property(fc.array(fc.string({ unit: 'binary' }), { minLength: 1, maxLength: 7 }), (parts) => {
+        const hex = createHash('sha1').update(parts.join('\u001f')).digest('hex');
+        expect(contentKey(parts)).toBe(Number.parseInt(hex.slice(0, 13), 16));
+      }),
+      { numRuns: 500 },
+    );
+    // Every nibble set: the largest key, 2^52 - 1.
+    expect(leading52Bits('\u00ff'.repeat(20))).toBe(2 ** 52 - 1);
   });
 
   it('refuses an assay the lab profile does not name', () => {
