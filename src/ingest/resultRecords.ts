@@ -107,6 +107,8 @@ interface RecordSubject {
   /** The sample ID as written, when a confirmed correction replaced it. */
   sampleIdAsWritten: string | null;
   labAssayName: string;
+  /** The assay name as compared (foldToken), also part of the content key. */
+  foldedAssay: string;
   labAssay: LabAssay;
   assay: Assay;
 }
@@ -155,7 +157,8 @@ function readSubject(
       value: labAssayName,
       detail: 'the assay is empty',
     });
-  const labAssay = lab.assays.get(foldToken(labAssayName));
+  const foldedAssay = foldToken(labAssayName);
+  const labAssay = lab.assays.get(foldedAssay);
   if (!labAssay) {
     return refuse({
       code: 'unknown-assay',
@@ -170,6 +173,7 @@ function readSubject(
     sampleId,
     sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
     labAssayName,
+    foldedAssay,
     labAssay,
     assay: context.assayById.get(labAssay.assayId)!,
   };
@@ -222,9 +226,9 @@ function locationRefusal(
   return undefined;
 }
 
-/** The content key of what the lab reported for a sample and assay (see contentKey). */
+/** The content key of what the lab reported for a sample and assay (see contentKey); `foldedAssay` is the assay name folded (foldToken). */
 function reportKey(
-  labAssayName: string,
+  foldedAssay: string,
   ctRaw: string,
   labCall: string | null,
   accession: string | null,
@@ -233,7 +237,7 @@ function reportKey(
   control: string | null,
 ): number {
   return contentKey([
-    foldToken(labAssayName),
+    foldedAssay,
     ctRaw,
     labCall ?? '',
     accession ?? '',
@@ -319,7 +323,7 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       labCallClass: labCallClass ?? null,
       callDiffers: labCallClass !== undefined && labCallClass !== interpretation.resultClass,
       sampleIdAsWritten: subject.sampleIdAsWritten,
-      contentKey: reportKey(labAssayName, ctRaw, labCall, accession, reportedOn, reportStatus, control),
+      contentKey: reportKey(subject.foldedAssay, ctRaw, labCall, accession, reportedOn, reportStatus, control),
       // locationRefusal let through only a place or nothing.
       encodedRope: located as RopeLocation | undefined,
     },

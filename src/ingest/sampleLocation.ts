@@ -75,6 +75,23 @@ export function locationFromPattern(
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
 
+/**
+ * Pen labels as compared (canonicalPenKey), by the label as written: IDs repeat a barn's few pen
+ * labels over and over, and the key takes two regular-expression passes to make.
+ */
+const penKeys = new Map<string, string>();
+const PEN_KEYS_REMEMBERED = 10_000;
+
+function penKeyOf(penText: string): string {
+  let key = penKeys.get(penText);
+  if (key === undefined) {
+    key = canonicalPenKey(penText);
+    if (penKeys.size >= PEN_KEYS_REMEMBERED) penKeys.clear();
+    penKeys.set(penText, key);
+  }
+  return key;
+}
+
 function locationInSite(
   site: Site,
   sampleId: string,
@@ -88,7 +105,7 @@ function locationInSite(
   if (barnText === undefined || penText === undefined) return undefined;
   const barn = site.barnById.get(barnText.toUpperCase());
   if (!barn) return undefined;
-  const pen = barn.penByKey.get(canonicalPenKey(penText));
+  const pen = barn.penByKey.get(penKeyOf(penText));
   if (!pen) return { unknownPen: penText, siteId: site.id, barnId: barn.id };
   const dateText = groups?.['date'];
   const encodedDate = dateText ? parseDateCell(dateText, 'yyyyMMdd') : undefined;
