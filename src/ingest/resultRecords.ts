@@ -49,10 +49,29 @@ interface FileMemo {
   /** The last sample ID cell and its normalised form: a sample's assays come on neighbouring rows. */
   lastRawSample: string;
   lastNormalised: string;
+  /** The collection and report date columns, each with its last cell read: a round's rows repeat them. */
+  collectedDates: DateColumn;
+  reportedDates: DateColumn;
   /** The last sample ID placed by pattern. */
   lastLocated: { sampleId: string; fallbackDate: string | undefined; located: EncodedLocation } | undefined;
 }
 const memoByContext = new WeakMap<ResultContext, FileMemo>();
+
+/** A date column read as dateAt reads it, the last cell's text and reading kept for the next row. */
+class DateColumn {
+  private lastText = '';
+  private lastDate: string | null | undefined = null;
+
+  read(cells: readonly string[], position: number | undefined, dateFormat: string): string | null | undefined {
+    const text = cellAt(cells, position);
+    if (text === undefined || text === '') return null;
+    if (text !== this.lastText) {
+      this.lastDate = dateAt(cells, position, dateFormat);
+      this.lastText = text;
+    }
+    return this.lastDate;
+  }
+}
 
 function fileMemo(context: ResultContext): FileMemo {
   let memo = memoByContext.get(context);
@@ -77,6 +96,8 @@ function fileMemo(context: ResultContext): FileMemo {
       lastRawSample: '',
       lastNormalised: '',
       lastLocated: undefined,
+      collectedDates: new DateColumn(),
+      reportedDates: new DateColumn(),
     };
     memoByContext.set(context, memo);
   }
@@ -258,10 +279,10 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   if ('rejection' in subject) return subject;
   const { rawSample, sampleId, labAssayName, labAssay, assay } = subject;
 
-  const collectedOn = dateAt(cells, at.collectedOn, lab.dateFormat);
+  const collectedOn = memo.collectedDates.read(cells, at.collectedOn, lab.dateFormat);
   if (collectedOn === undefined)
     return badDate(line, columns.collectedOn, cellAt(cells, at.collectedOn)!, lab.dateFormat);
-  const reportedOn = dateAt(cells, at.reportedOn, lab.dateFormat);
+  const reportedOn = memo.reportedDates.read(cells, at.reportedOn, lab.dateFormat);
   if (reportedOn === undefined) return badDate(line, columns.reportedOn, cellAt(cells, at.reportedOn)!, lab.dateFormat);
 
   const ctRaw = cellAt(cells, at.result) ?? '';

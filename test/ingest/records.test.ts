@@ -118,6 +118,30 @@ describe('mapResultRow', () => {
     }
   });
 
+  it('maps each row of a run as a file meeting it first does (what one row keeps for the next changes nothing)', () => {
+    // Oracle: a new context per row, so nothing is kept from the row before. Neighbouring rows
+    // repeat sample IDs, assays and dates, and some carry dates that are blank or no dates.
+    const cell = <T extends string>(...values: T[]) => fc.constantFrom(...values);
+    const row = fc.record({
+      'Sample ID': cell('HC-0803-F1-01', 'hc-0803-f1-01', 'TR-N1-07-20260805', 'LAB-17'),
+      'Test Name': cell('PRRSV NA/EU RT-PCR', 'Influenza A Matrix RT-PCR'),
+      'Collection Date': cell('2026-08-03', '', '2026-02-30', '03.08.2026', '2026-08-04'),
+      'Report Date': cell('2026-08-06', '', '2026-13-01'),
+      'Ct Value': cell('31.20', 'Undetermined'),
+    });
+    fc.assert(
+      fc.property(fc.array(fc.tuple(row, fc.integer({ min: 2, max: 9 })), { maxLength: 20 }), (rows) => {
+        const context = { ...nfContext, plannedIdCheck: plannedIdChecker(config) };
+        for (const [overrides, line] of rows) {
+          const cells = NF_COLUMNS.map((column) => ({ ...base, ...overrides })[column] ?? '');
+          const fresh = { ...nfContext, plannedIdCheck: plannedIdChecker(config) };
+          expect(mapResultRow(cells, line, context)).toEqual(mapResultRow(cells, line, fresh));
+        }
+      }),
+      { numRuns: 200 },
+    );
+  });
+
   it('reads the content key from the digest bytes as the first 13 hex digits of the digest', () => {
     // FIPS 180-2, appendix A.1: SHA-1("abc") = a9993e36 4706816a ba3e2571 7850c26c 9cd0d89d.
     expect(leading52Bits(createHash('sha1').update('abc').digest('binary'))).toBe(0xa9993e3647068);
