@@ -56,66 +56,91 @@ export interface WireBatch {
   rejections: RowRejection[];
 }
 
-/** Each text column's value in a row: one plain function per column, so every property read stays monomorphic. */
-const TEXT_OF: Readonly<Record<TextColumn, (row: ResultRow) => string | null>> = {
-  labId: (row) => row.labId,
-  sampleId: (row) => row.sampleId,
-  assayId: (row) => row.assayId,
-  labAssay: (row) => row.labAssay,
-  measure: (row) => row.measure,
-  ctRaw: (row) => row.ctRaw,
-  labCall: (row) => row.labCall,
-  accession: (row) => row.accession,
-  collectedOn: (row) => row.collectedOn,
-  reportedOn: (row) => row.reportedOn,
-  reportStatus: (row) => row.reportStatus,
-  control: (row) => row.control,
-  resultClass: (row) => row.resultClass,
-  reason: (row) => row.reason,
-  loadBand: (row) => row.loadBand,
-  statusKind: (row) => row.statusKind,
-  statusWord: (row) => row.statusWord,
-  labCallClass: (row) => row.labCallClass,
-  sampleIdAsWritten: (row) => row.sampleIdAsWritten,
-  ropeSiteId: (row) => row.encodedRope?.siteId ?? null,
-  ropeBarnId: (row) => row.encodedRope?.barnId ?? null,
-  ropePenId: (row) => row.encodedRope?.penId ?? null,
-  ropeHungOn: (row) => row.encodedRope?.hungOn ?? null,
-};
+/** Look-ups after which a column whose dictionary rarely finds a value stops asking it. */
+const DICTIONARY_TRIAL = 64;
 
 /**
- * One column as a dictionary and an index. Neighbouring rows mostly repeat a value (a sample's
- * assays, a round's dates), so the previous row's value is compared before the dictionary is asked.
+ * One column as a dictionary and an index, filled row by row. Neighbouring rows mostly repeat a
+ * value (a sample's assays, a round's dates), so the previous row's value is compared before the
+ * dictionary is asked. A column whose values hardly ever come back once their run has ended (case
+ * numbers, sample IDs) gives up its dictionary after a trial: each new run then just adds its
+ * value, which reads back the same.
  */
-function encodeColumn(rows: readonly ResultRow[], textOf: (row: ResultRow) => string | null): WireText {
-  const count = rows.length;
-  const positions = new Map<string | null, number>();
-  const values: (string | null)[] = [];
-  const index = new Uint32Array(count);
+class ColumnEncoder {
+  private positions: Map<string | null, number> | undefined = new Map();
+  readonly values: (string | null)[] = [];
+  readonly index: Uint32Array;
   // undefined until the first row: a value is a string or null, so the first row always looks up.
-  let previous: string | null | undefined;
-  let previousPosition = 0;
-  for (let i = 0; i < count; i++) {
-    const value = textOf(rows[i]!);
-    if (value !== previous) {
-      let position = positions.get(value);
-      if (position === undefined) {
-        position = values.length;
-        values.push(value);
-        positions.set(value, position);
-      }
-      previous = value;
-      previousPosition = position;
-    }
-    index[i] = previousPosition;
+  private previous: string | null | undefined;
+  private previousPosition = 0;
+  private lookups = 0;
+  private found = 0;
+
+  constructor(count: number) {
+    this.index = new Uint32Array(count);
   }
-  return { values, index };
+
+  add(i: number, value: string | null): void {
+    if (value !== this.previous) {
+      this.previous = value;
+      this.previousPosition = this.positionOf(value);
+    }
+    this.index[i] = this.previousPosition;
+  }
+
+  private positionOf(value: string | null): number {
+    const positions = this.positions;
+    if (positions === undefined) return this.values.push(value) - 1;
+    let position = positions.get(value);
+    if (position === undefined) {
+      position = this.values.push(value) - 1;
+      positions.set(value, position);
+    } else {
+      this.found++;
+    }
+    // Fewer than one look-up in eight found its value: the dictionary costs more than it saves.
+    if (++this.lookups === DICTIONARY_TRIAL && this.found * 8 < DICTIONARY_TRIAL) this.positions = undefined;
+    return position;
+  }
+
+  wire(): WireText {
+    return { values: this.values, index: this.index };
+  }
 }
 
+/**
+ * The batch in wire form, in one pass over its rows: each field is read at a call site of its
+ * own and handed to one encoder class, so every property read and every call stays monomorphic
+ * (a function per column called from one loop was a call V8 could not inline).
+ */
 export function encodeBatch(batch: MappedBatch<ResultRow[]>): WireBatch {
   const rows = batch.results;
   const count = rows.length;
   const numbers = new Float64Array(count * NUMBERS_PER_ROW);
+  const column = () => new ColumnEncoder(count);
+  const labId = column();
+  const sampleId = column();
+  const assayId = column();
+  const labAssay = column();
+  const measure = column();
+  const ctRaw = column();
+  const labCall = column();
+  const accession = column();
+  const collectedOn = column();
+  const reportedOn = column();
+  const reportStatus = column();
+  const control = column();
+  const resultClass = column();
+  const reason = column();
+  const loadBand = column();
+  const statusKind = column();
+  const statusWord = column();
+  const labCallClass = column();
+  const sampleIdAsWritten = column();
+  const ropeSiteId = column();
+  const ropeBarnId = column();
+  const ropePenId = column();
+  const ropeHungOn = column();
   for (let i = 0; i < count; i++) {
     const row = rows[i]!;
     const at = i * NUMBERS_PER_ROW;
@@ -129,9 +154,56 @@ export function encodeBatch(batch: MappedBatch<ResultRow[]>): WireBatch {
     numbers[at + 7] = row.sp ?? Number.NaN;
     numbers[at + 8] = row.positiveAtOrAbove ?? Number.NaN;
     numbers[at + 9] = row.suspectAtOrAbove ?? Number.NaN;
+    labId.add(i, row.labId);
+    sampleId.add(i, row.sampleId);
+    assayId.add(i, row.assayId);
+    labAssay.add(i, row.labAssay);
+    measure.add(i, row.measure);
+    ctRaw.add(i, row.ctRaw);
+    labCall.add(i, row.labCall);
+    accession.add(i, row.accession);
+    collectedOn.add(i, row.collectedOn);
+    reportedOn.add(i, row.reportedOn);
+    reportStatus.add(i, row.reportStatus);
+    control.add(i, row.control);
+    resultClass.add(i, row.resultClass);
+    reason.add(i, row.reason);
+    loadBand.add(i, row.loadBand);
+    statusKind.add(i, row.statusKind);
+    statusWord.add(i, row.statusWord);
+    labCallClass.add(i, row.labCallClass);
+    sampleIdAsWritten.add(i, row.sampleIdAsWritten);
+    const rope = row.encodedRope;
+    ropeSiteId.add(i, rope?.siteId ?? null);
+    ropeBarnId.add(i, rope?.barnId ?? null);
+    ropePenId.add(i, rope?.penId ?? null);
+    ropeHungOn.add(i, rope?.hungOn ?? null);
   }
-  const texts = {} as Record<TextColumn, WireText>;
-  for (const column of TEXT_COLUMNS) texts[column] = encodeColumn(rows, TEXT_OF[column]);
+  const texts: Record<TextColumn, WireText> = {
+    labId: labId.wire(),
+    sampleId: sampleId.wire(),
+    assayId: assayId.wire(),
+    labAssay: labAssay.wire(),
+    measure: measure.wire(),
+    ctRaw: ctRaw.wire(),
+    labCall: labCall.wire(),
+    accession: accession.wire(),
+    collectedOn: collectedOn.wire(),
+    reportedOn: reportedOn.wire(),
+    reportStatus: reportStatus.wire(),
+    control: control.wire(),
+    resultClass: resultClass.wire(),
+    reason: reason.wire(),
+    loadBand: loadBand.wire(),
+    statusKind: statusKind.wire(),
+    statusWord: statusWord.wire(),
+    labCallClass: labCallClass.wire(),
+    sampleIdAsWritten: sampleIdAsWritten.wire(),
+    ropeSiteId: ropeSiteId.wire(),
+    ropeBarnId: ropeBarnId.wire(),
+    ropePenId: ropePenId.wire(),
+    ropeHungOn: ropeHungOn.wire(),
+  };
   return { count, numbers, texts, ropes: batch.ropes, rejections: batch.rejections };
 }
 

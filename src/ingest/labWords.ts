@@ -26,6 +26,7 @@ type Meaning = { kind: 'call'; cls: CallClass } | { kind: 'control' } | { kind: 
 
 const STATUS_RANK: Readonly<Record<ReportStatusKind, number>> = { final: 1, preliminary: 2, corrected: 3 };
 const CACHE_LIMIT = 10_000;
+const RECENT_CELLS = 4;
 const NOTHING: CellWords = Object.freeze({
   call: undefined,
   controlFailed: undefined,
@@ -47,14 +48,29 @@ export class LabWords {
     this.matcher = new WordMatcher(entries);
   }
 
+  /**
+   * The last few cells read and what they say: a row's call, control and status cells repeat
+   * row after row, and comparing a cell with a handful of texts costs less than hashing it for
+   * the cache.
+   */
+  private readonly recentCells: string[] = new Array<string>(RECENT_CELLS).fill('');
+  private readonly recentWords: CellWords[] = new Array<CellWords>(RECENT_CELLS).fill(NOTHING);
+  private nextRecent = 0;
+
   /** What the lab's words in `cell` say. */
   read(cell: string): CellWords {
     if (cell === '') return NOTHING;
-    const cached = this.cache.get(cell);
-    if (cached !== undefined) return cached;
-    const read = this.readUncached(cell);
-    if (this.cache.size >= CACHE_LIMIT) this.cache.clear();
-    this.cache.set(cell, read);
+    const recent = this.recentCells;
+    for (let i = 0; i < RECENT_CELLS; i++) if (recent[i] === cell) return this.recentWords[i]!;
+    let read = this.cache.get(cell);
+    if (read === undefined) {
+      read = this.readUncached(cell);
+      if (this.cache.size >= CACHE_LIMIT) this.cache.clear();
+      this.cache.set(cell, read);
+    }
+    recent[this.nextRecent] = cell;
+    this.recentWords[this.nextRecent] = read;
+    this.nextRecent = (this.nextRecent + 1) % RECENT_CELLS;
     return read;
   }
 

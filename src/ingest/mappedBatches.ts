@@ -173,16 +173,25 @@ export async function* mappedBatches(
   const parsedHash = createHash('sha256');
   let parsedBytes = 0;
   const { expected } = input;
-  // `end` is inclusive (Node fs.createReadStream); bytes appended after hashing are not read.
-  for await (const chunk of fs.createReadStream(input.file, {
-    highWaterMark: READ_CHUNK_BYTES,
-    start: 0,
-    end: Math.max(expected.bytes - 1, 0),
-  })) {
-    parsedHash.update(chunk as Buffer);
-    parsedBytes += (chunk as Buffer).length;
-    reader.push(decoder.decode(chunk as Buffer), records);
-    yield* takeAll();
+  // Bytes appended after hashing are not read (at least one byte is asked for, so that a file
+  // hashed empty and written to since is caught).
+  const readUpTo = Math.max(expected.bytes, 1);
+  const file = await fs.promises.open(input.file, 'r');
+  try {
+    // One buffer for every chunk: each chunk is hashed, and decoded to text (which copies), before
+    // the next is read into it.
+    const buffer = Buffer.allocUnsafe(READ_CHUNK_BYTES);
+    while (parsedBytes < readUpTo) {
+      const { bytesRead } = await file.read(buffer, 0, Math.min(READ_CHUNK_BYTES, readUpTo - parsedBytes), parsedBytes);
+      if (bytesRead === 0) break;
+      const chunk = buffer.subarray(0, bytesRead);
+      parsedHash.update(chunk);
+      parsedBytes += bytesRead;
+      reader.push(decoder.decode(chunk), records);
+      yield* takeAll();
+    }
+  } finally {
+    await file.close();
   }
   if (parsedBytes !== expected.bytes || parsedHash.digest('hex') !== expected.sha256) {
     throw new FileChangedError(

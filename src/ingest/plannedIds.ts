@@ -19,6 +19,18 @@ export function plannedIdChecker(
     if (list) list.push(correction);
     else corrections.set(correction.written, [correction]);
   }
+  const grammarVerdict = (sampleId: string): GrammarVerdict => {
+    if (!looksLikePlannedId(sampleId)) return OTHER;
+    const parsed = parseSampleId(sampleId);
+    if (parsed.ok) return codes.includes(parsed.siteCode) ? { kind: 'planned', canonical: parsed.id } : OTHER;
+    return codes.some((code) => sampleId.startsWith(code) && /^\d/.test(sampleId.slice(code.length)))
+      ? BAD_CHECK
+      : OTHER;
+  };
+  // A sample's assays come on neighbouring rows: the grammar's verdict on the last ID is kept
+  // (it depends on the ID alone; a correction, which may name a line, is looked up every time).
+  let lastId: string | undefined;
+  let lastVerdict: GrammarVerdict = OTHER;
   return (sampleId, line) => {
     if (corrections.size > 0) {
       const listed = corrections.get(sampleId);
@@ -29,15 +41,18 @@ export function plannedIdChecker(
         if (correction !== undefined) return { kind: 'corrected', canonical: correction.meant, written: sampleId };
       }
     }
-    if (!looksLikePlannedId(sampleId)) return { kind: 'other' };
-    const parsed = parseSampleId(sampleId);
-    if (parsed.ok)
-      return codes.includes(parsed.siteCode) ? { kind: 'planned', canonical: parsed.id } : { kind: 'other' };
-    return codes.some((code) => sampleId.startsWith(code) && /^\d/.test(sampleId.slice(code.length)))
-      ? { kind: 'bad-check' }
-      : { kind: 'other' };
+    if (sampleId !== lastId) {
+      lastVerdict = grammarVerdict(sampleId);
+      lastId = sampleId;
+    }
+    return lastVerdict;
   };
 }
+
+/** What the planned-ID grammar alone says of an ID (no correction applied). */
+type GrammarVerdict = Exclude<ReturnType<PlannedIdCheck>, { kind: 'corrected' }>;
+const OTHER: GrammarVerdict = Object.freeze({ kind: 'other' });
+const BAD_CHECK: GrammarVerdict = Object.freeze({ kind: 'bad-check' });
 
 /**
  * The corrections that apply to a file: those without a file, and those naming it by the name it

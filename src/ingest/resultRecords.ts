@@ -46,10 +46,32 @@ interface FileMemo {
   /** Scratch for one row's words, reused row after row. */
   rowWords: RowWords;
   ctMeanings: CtMeaningCache;
-  /** The last sample ID placed by pattern: a sample's assays come on neighbouring rows. */
+  /** The last sample ID cell and its normalised form: a sample's assays come on neighbouring rows. */
+  lastRawSample: string;
+  lastNormalised: string;
+  /** The collection and report date columns, each with its last cell read: a round's rows repeat them. */
+  collectedDates: DateColumn;
+  reportedDates: DateColumn;
+  /** The last sample ID placed by pattern. */
   lastLocated: { sampleId: string; fallbackDate: string | undefined; located: EncodedLocation } | undefined;
 }
 const memoByContext = new WeakMap<ResultContext, FileMemo>();
+
+/** A date column read as dateAt reads it, the last cell's text and reading kept for the next row. */
+class DateColumn {
+  private lastText = '';
+  private lastDate: string | null | undefined = null;
+
+  read(cells: readonly string[], position: number | undefined, dateFormat: string): string | null | undefined {
+    const text = cellAt(cells, position);
+    if (text === undefined || text === '') return null;
+    if (text !== this.lastText) {
+      this.lastDate = dateAt(cells, position, dateFormat);
+      this.lastText = text;
+    }
+    return this.lastDate;
+  }
+}
 
 function fileMemo(context: ResultContext): FileMemo {
   let memo = memoByContext.get(context);
@@ -71,7 +93,11 @@ function fileMemo(context: ResultContext): FileMemo {
       words: labWords(context.lab),
       rowWords: emptyRowWords(),
       ctMeanings: ctMeaningCache(),
+      lastRawSample: '',
+      lastNormalised: '',
       lastLocated: undefined,
+      collectedDates: new DateColumn(),
+      reportedDates: new DateColumn(),
     };
     memoByContext.set(context, memo);
   }
@@ -102,6 +128,8 @@ interface RecordSubject {
   /** The sample ID as written, when a confirmed correction replaced it. */
   sampleIdAsWritten: string | null;
   labAssayName: string;
+  /** The assay name as compared (foldToken), also part of the content key. */
+  foldedAssay: string;
   labAssay: LabAssay;
   assay: Assay;
 }
@@ -111,8 +139,9 @@ function readSubject(
   cells: readonly string[],
   line: number,
   context: ResultContext,
-  at: ColumnPositions,
+  memo: FileMemo,
 ): RecordSubject | Refused {
+  const at = memo.positions;
   const { lab } = context;
   const columns = lab.columns;
   const rawSample = cellAt(cells, at.sampleId) ?? '';
@@ -124,7 +153,11 @@ function readSubject(
       value: rawSample,
       detail: 'the sample ID is empty',
     });
-  const normalised = normaliseSampleId(rawSample);
+  if (rawSample !== memo.lastRawSample) {
+    memo.lastNormalised = normaliseSampleId(rawSample);
+    memo.lastRawSample = rawSample;
+  }
+  const normalised = memo.lastNormalised;
   const checked = context.plannedIdCheck(normalised, line);
   if (checked.kind === 'bad-check') {
     return refuse({
@@ -145,7 +178,8 @@ function readSubject(
       value: labAssayName,
       detail: 'the assay is empty',
     });
-  const labAssay = lab.assays.get(foldToken(labAssayName));
+  const foldedAssay = foldToken(labAssayName);
+  const labAssay = lab.assays.get(foldedAssay);
   if (!labAssay) {
     return refuse({
       code: 'unknown-assay',
@@ -160,6 +194,7 @@ function readSubject(
     sampleId,
     sampleIdAsWritten: checked.kind === 'corrected' ? checked.written : null,
     labAssayName,
+    foldedAssay,
     labAssay,
     assay: context.assayById.get(labAssay.assayId)!,
   };
@@ -212,9 +247,9 @@ function locationRefusal(
   return undefined;
 }
 
-/** The content key of what the lab reported for a sample and assay (see contentKey). */
+/** The content key of what the lab reported for a sample and assay (see contentKey); `foldedAssay` is the assay name folded (foldToken). */
 function reportKey(
-  labAssayName: string,
+  foldedAssay: string,
   ctRaw: string,
   labCall: string | null,
   accession: string | null,
@@ -223,7 +258,7 @@ function reportKey(
   control: string | null,
 ): number {
   return contentKey([
-    foldToken(labAssayName),
+    foldedAssay,
     ctRaw,
     labCall ?? '',
     accession ?? '',
@@ -240,14 +275,14 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
   const memo = fileMemo(context);
   const at = memo.positions;
 
-  const subject = readSubject(cells, line, context, at);
+  const subject = readSubject(cells, line, context, memo);
   if ('rejection' in subject) return subject;
   const { rawSample, sampleId, labAssayName, labAssay, assay } = subject;
 
-  const collectedOn = dateAt(cells, at.collectedOn, lab.dateFormat);
+  const collectedOn = memo.collectedDates.read(cells, at.collectedOn, lab.dateFormat);
   if (collectedOn === undefined)
     return badDate(line, columns.collectedOn, cellAt(cells, at.collectedOn)!, lab.dateFormat);
-  const reportedOn = dateAt(cells, at.reportedOn, lab.dateFormat);
+  const reportedOn = memo.reportedDates.read(cells, at.reportedOn, lab.dateFormat);
   if (reportedOn === undefined) return badDate(line, columns.reportedOn, cellAt(cells, at.reportedOn)!, lab.dateFormat);
 
   const ctRaw = cellAt(cells, at.result) ?? '';
@@ -309,7 +344,7 @@ export function mapResultRow(cells: readonly string[], line: number, context: Re
       labCallClass: labCallClass ?? null,
       callDiffers: labCallClass !== undefined && labCallClass !== interpretation.resultClass,
       sampleIdAsWritten: subject.sampleIdAsWritten,
-      contentKey: reportKey(labAssayName, ctRaw, labCall, accession, reportedOn, reportStatus, control),
+      contentKey: reportKey(subject.foldedAssay, ctRaw, labCall, accession, reportedOn, reportStatus, control),
       // locationRefusal let through only a place or nothing.
       encodedRope: located as RopeLocation | undefined,
     },

@@ -46,16 +46,23 @@ export function locationFromPattern(
   sites: readonly Site[],
   fallbackDate: string | undefined,
 ): EncodedLocation {
+  // Exports come a site at a time: the site that placed the last ID is asked first, and an
+  // answer that names a place (or a date problem) from it is final, as it would be below, where
+  // that site also goes first among the sites whose patterns match.
+  const last = lastPatternSite.get(sites);
+  if (last !== undefined) {
+    const located = locationInSite(last, sampleId, fallbackDate, sites);
+    if (located !== undefined && (typeof located !== 'object' || !('unknownPen' in located))) return located;
+  }
   // One pass over the ID finds the sites whose pattern matches (usually none or one); only
   // those are asked for their groups.
   const candidates = patternSites(sites);
   const matching = candidates.set.matching(sampleId);
   if (matching.length === 0) return undefined;
   if (matching.length === 1) return locationInSite(candidates.sites[matching[0]!]!, sampleId, fallbackDate, sites);
-  // Several sites' patterns match: exports come a site at a time, so the site that matched
-  // last goes first, then the others in configuration order.
+  // Several sites' patterns match: the site that matched last goes first, then the others in
+  // configuration order.
   const matched = [...matching].sort((a, b) => a - b).map((index) => candidates.sites[index]!);
-  const last = lastPatternSite.get(sites);
   let unknown: UnknownEncodedPen | undefined;
   for (const site of last !== undefined && matched.includes(last)
     ? [last, ...matched.filter((other) => other !== last)]
@@ -67,6 +74,23 @@ export function locationFromPattern(
   return unknown;
 }
 const lastPatternSite = new WeakMap<readonly Site[], Site>();
+
+/**
+ * Pen labels as compared (canonicalPenKey), by the label as written: IDs repeat a barn's few pen
+ * labels over and over, and the key takes two regular-expression passes to make.
+ */
+const penKeys = new Map<string, string>();
+const PEN_KEYS_REMEMBERED = 10_000;
+
+function penKeyOf(penText: string): string {
+  let key = penKeys.get(penText);
+  if (key === undefined) {
+    key = canonicalPenKey(penText);
+    if (penKeys.size >= PEN_KEYS_REMEMBERED) penKeys.clear();
+    penKeys.set(penText, key);
+  }
+  return key;
+}
 
 function locationInSite(
   site: Site,
@@ -81,7 +105,7 @@ function locationInSite(
   if (barnText === undefined || penText === undefined) return undefined;
   const barn = site.barnById.get(barnText.toUpperCase());
   if (!barn) return undefined;
-  const pen = barn.penByKey.get(canonicalPenKey(penText));
+  const pen = barn.penByKey.get(penKeyOf(penText));
   if (!pen) return { unknownPen: penText, siteId: site.id, barnId: barn.id };
   const dateText = groups?.['date'];
   const encodedDate = dateText ? parseDateCell(dateText, 'yyyyMMdd') : undefined;

@@ -46,8 +46,9 @@ export class RowWriter {
   private readonly samplesThisFile = new Map<string, SampleInFile>();
   /** Whether the last sample met was new to the store: files are mostly one or the other. */
   private lastSampleWasNew = false;
-  /** The last sample met, by its ID: a sample's assays come on neighbouring rows. */
-  private lastSample: { sampleId: string; sample: SampleInFile } | undefined;
+  /** The last sample met and its ID (two fields, no pair object per sample): a sample's assays come on neighbouring rows. */
+  private lastSampleId: string | undefined;
+  private lastSample: SampleInFile | undefined;
   effects: FileEffects = { sites: new Set(), resolved: [] };
   /** The last encoded rope met, and its location key (ropeKey). */
   private lastRope: RopeLocation | undefined;
@@ -58,6 +59,7 @@ export class RowWriter {
   /** Forgets what the last file met. */
   startFile(): void {
     this.samplesThisFile.clear();
+    this.lastSampleId = undefined;
     this.lastSample = undefined;
     this.lastRope = undefined;
     this.effects = { sites: new Set(), resolved: [] };
@@ -67,6 +69,7 @@ export class RowWriter {
   endFile(rolledBack: boolean): void {
     if (rolledBack) this.sink.forgetFile();
     this.samplesThisFile.clear();
+    this.lastSampleId = undefined;
     this.lastSample = undefined;
   }
 
@@ -75,10 +78,10 @@ export class RowWriter {
    * new to the store has no earlier report to supersede, which spares the look-up on most rows.
    */
   private sampleInFile(sampleId: string): SampleInFile {
-    const last = this.lastSample;
-    if (last !== undefined && last.sampleId === sampleId) return last.sample;
+    if (sampleId === this.lastSampleId) return this.lastSample!;
     const sample = this.samplesThisFile.get(sampleId) ?? this.meetSample(sampleId);
-    this.lastSample = { sampleId, sample };
+    this.lastSampleId = sampleId;
+    this.lastSample = sample;
     return sample;
   }
 

@@ -3,6 +3,11 @@
  * load when they need backtracking, and still match what the demo's patterns matched with
  * JavaScript's RegExp.
  */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import fc from 'fast-check';
+import { RE2JS } from 're2js';
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import {
@@ -19,6 +24,7 @@ import {
   tamsinRidgeRound,
 } from '../../src/demo/scenario.js';
 import { locationFromPattern } from '../../src/ingest/sampleLocation.js';
+import { patternSampleId, writeManySiteConfig } from '../helpers/hardening.js';
 import { configCases, configError, demoText } from './configCases.js';
 
 const { configWith } = configCases();
@@ -84,6 +90,37 @@ describe('compileConfiguredPattern', () => {
     expect(pattern.exec('TR-N3-3')).toBeNull();
     expect(pattern.test('prefix TR-N1-1')).toBe(false);
     expect(compileConfiguredPattern('^nvdl_').test('NVDL_2026.csv')).toBe(true);
+  });
+
+  it("gives the groups a Matcher's find() and group() give, on generated texts", () => {
+    // Oracle: re2js's Matcher, which finds the match's bounds first and then its groups.
+    const sources = [
+      '^G001-(?<barn>B\\d+)-(?<pen>\\d{1,3})-(?<date>\\d{8})$',
+      '^TR-(?<barn>N[12])-(?<pen>\\d{1,2})(?:-(?<date>\\d{8}))?$',
+      '(?<barn>N\\d)/(?<pen>\\d+)',
+      '(?<barn>a*)(?<pen>a|b)?(?<date>b*)',
+      '-(?<barn>X)(?<pen>\\d)$',
+    ];
+    const alphabet = ['G', '0', '1', '-', 'B', '7', 'n', 'N', '2', '/', 'a', 'b', 'x', 'X', 'T', 'R', 'é'];
+    const text = fc.oneof(
+      fc.array(fc.constantFrom(...alphabet), { maxLength: 24 }).map((chars) => chars.join('')),
+      fc.constantFrom('G001-B1-7-20260805', 'g001-b12-250-20260805', 'TR-N1-07', 'x N1/4 N2/5', 'lab-X1'),
+    );
+    for (const source of sources) {
+      const pattern = compileConfiguredPattern(source);
+      const reference = RE2JS.compile(source, RE2JS.CASE_INSENSITIVE);
+      const names = Object.keys(reference.namedGroups());
+      fc.assert(
+        fc.property(text, (input) => {
+          const matcher = reference.matcher(input);
+          const expected = matcher.find()
+            ? Object.fromEntries(names.map((name) => [name, matcher.group(name) ?? undefined]))
+            : null;
+          expect(pattern.exec(input)).toEqual(expected);
+        }),
+        { numRuns: 400 },
+      );
+    }
   });
 
   it('refuses lookaround and backreferences, saying they are not supported', () => {
@@ -179,6 +216,42 @@ describe('compilePatternSet', () => {
       penId: 'A3',
     });
     expect(locationFromPattern('X-Q9-1', config.sites, '2026-08-05')).toBeUndefined();
+  });
+});
+
+describe('locationFromPattern', () => {
+  it('places every ID as a list of sites never asked before does, whatever came before it', () => {
+    // Oracle: the same list copied for each ID, so no site is remembered as the last to place
+    // one. Three generated sites (one pattern per site: an ID has at most one answer); IDs of
+    // known pens, pens the barn lacks, barns the site lacks, dates the calendar lacks, other sites.
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'ropewatch-location-'));
+    try {
+      writeManySiteConfig(dir, { sites: 3, barnsPerSite: 2, pensPerRow: 4 });
+      const { sites } = loadConfig(dir);
+      const id = fc.oneof(
+        fc
+          .tuple(
+            fc.integer({ min: 0, max: 4 }),
+            fc.integer({ min: 1, max: 3 }),
+            fc.integer({ min: 1, max: 10 }),
+            fc.constantFrom('20260805', '20261345'),
+          )
+          .map(([site, barn, pen, date]) => patternSampleId(site, barn, pen, date)),
+        fc.constantFrom('G001-B1-3', 'HCF08-0146', '', 'g002-b2-07-20260805'),
+      );
+      fc.assert(
+        fc.property(fc.array(id, { minLength: 1, maxLength: 12 }), (ids) => {
+          for (const sampleId of ids) {
+            expect(locationFromPattern(sampleId, sites, '2026-08-05'), sampleId).toEqual(
+              locationFromPattern(sampleId, [...sites], '2026-08-05'),
+            );
+          }
+        }),
+        { numRuns: 200 },
+      );
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
   });
 });
 

@@ -52,7 +52,7 @@ const resultRow: fc.Arbitrary<ResultRow> = fc.record({
 describe('batch wire format', () => {
   it('gives back every row field for field, in order', () => {
     fc.assert(
-      fc.property(fc.array(resultRow, { maxLength: 40 }), (rows) => {
+      fc.property(fc.array(resultRow, { maxLength: 200, size: 'max' }), (rows) => {
         const wire = encodeBatch({ results: rows, ropes: [], rejections: [] });
         // Through structured clone with the listed buffers moved, as postMessage does.
         const arrived = structuredClone(wire, { transfer: transferables(wire) });
@@ -137,5 +137,25 @@ describe('batch wire format', () => {
     expect(wire.texts.ctRaw.values).toEqual(['Undetermined']);
     expect(wire.texts.sampleId.values).toHaveLength(100);
     expect(new WireRows(wire).at(42)).toEqual(row(42));
+  });
+
+  it('keeps a dictionary for a column whose values come back, and gives it up for one whose values never do', () => {
+    // Two assays per sample, alternating; a case number of its own on every row.
+    const rows = Array.from({ length: 400 }, (_, i) => ({
+      assayId: i % 2 === 0 ? 'PRRSV' : 'IAV',
+      accession: `NV-${i}`,
+      sampleId: `S-${Math.floor(i / 2)}`,
+    }));
+    const wire = encodeBatch({
+      results: rows.map((row, i) => ({ ...fc.sample(resultRow, { seed: i, numRuns: 1 })[0]!, ...row })),
+      ropes: [],
+      rejections: [],
+    });
+    expect(wire.texts.assayId.values).toEqual(['PRRSV', 'IAV']);
+    expect(wire.texts.accession.values).toHaveLength(400);
+    // A value that comes back after the dictionary was given up reads back the same.
+    const decoded = new WireRows(wire);
+    expect(Array.from({ length: 400 }, (_, i) => decoded.at(i).accession)).toEqual(rows.map((row) => row.accession));
+    expect(Array.from({ length: 400 }, (_, i) => decoded.at(i).sampleId)).toEqual(rows.map((row) => row.sampleId));
   });
 });

@@ -4,6 +4,7 @@
  * U+0308 COMBINING DIAERESIS, Unicode Standard Annex #15); expected readings are by hand from the
  * words configured.
  */
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_CALL_WORDS, DEFAULT_STATUS_WORDS } from '../../src/config/load.js';
 import { LabWords } from '../../src/ingest/labWords.js';
@@ -111,5 +112,18 @@ describe('LabWords', () => {
     expect(english.read('Pending').status).toBe('preliminary');
     expect(english.read('Invalid').call).toBe('invalid');
     expect(english.read('').call).toBeUndefined();
+  });
+
+  it('says the same of a cell after any run of cells as a reader that has read nothing', () => {
+    // Oracle: a new reader per cell. More distinct cells than the reader keeps at hand, repeated.
+    const profile = { controlFailedTokens: ['FAIL'], callWords: DEFAULT_CALL_WORDS, statusWords: DEFAULT_STATUS_WORDS };
+    const cell = fc.constantFrom('Negative', 'PASS', 'Final', 'Positive', 'FAIL', 'Preliminary', 'Corrected', 'x', '');
+    fc.assert(
+      fc.property(fc.array(cell, { maxLength: 40 }), (cells) => {
+        const reader = new LabWords(profile);
+        for (const text of cells) expect(reader.read(text), text).toEqual(new LabWords(profile).read(text));
+      }),
+      { numRuns: 200 },
+    );
   });
 });

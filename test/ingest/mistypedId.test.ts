@@ -7,6 +7,7 @@
  */
 import fs from 'node:fs';
 import path from 'node:path';
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { ingestFile } from '../../src/ingest/ingestFile.js';
 import { likelyMeantIds, plannedIdChecker } from '../../src/ingest/plannedIds.js';
@@ -63,6 +64,35 @@ describe('plannedIdChecker with confirmed corrections', () => {
     expect(check('HCF03-013G', 5)).toEqual({ kind: 'bad-check' });
     const anywhere = plannedIdChecker({ ...config, corrections: [{ ...config.corrections[0]!, line: undefined }] });
     expect(anywhere('HCF03-013G', 5)).toMatchObject({ kind: 'corrected', canonical: 'HCF03-012G' });
+  });
+
+  it('answers each ID in a run of rows as a checker asked about that ID alone', () => {
+    // Oracle: a new checker per row, which has met no ID before. Neighbouring rows repeat IDs
+    // (a sample's assays), on lines a correction names and lines it does not.
+    const config = {
+      sites: [{ code: 'HCF' }, { code: 'TR' }] as never,
+      corrections: [{ written: 'HCF03-013G', meant: 'HCF03-012G', file: 'a.csv', line: 4, note: undefined }],
+    };
+    const ids = [
+      'HCF03-013G',
+      'HCF03-012G',
+      formatSampleId({ siteCode: 'TR', round: 1, sequence: 7 }),
+      'ZZ01-001A',
+      'lab 17',
+    ];
+    const rows = fc.array(fc.tuple(fc.constantFrom(...ids), fc.integer({ min: 3, max: 5 })), { maxLength: 30 });
+    for (const corrections of [config.corrections, []]) {
+      fc.assert(
+        fc.property(rows, (run) => {
+          const check = plannedIdChecker({ ...config, corrections });
+          for (const [id, line] of run)
+            expect(check(id, line), `${id} on line ${line}`).toEqual(
+              plannedIdChecker({ ...config, corrections })(id, line),
+            );
+        }),
+        { numRuns: 200 },
+      );
+    }
   });
 });
 

@@ -1,3 +1,5 @@
+import { createHash } from 'node:crypto';
+import fc from 'fast-check';
 import { NORTHFIELD_HEADER } from '../../src/demo/labFiles.js';
 /**
  * One CSV record to a stored row or a refusal naming line, field and code. Context comes from
@@ -11,7 +13,7 @@ import { compileConfiguredPattern } from '../../src/config/pattern.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { detectFileKind } from '../../src/ingest/detect.js';
 import { plannedIdChecker } from '../../src/ingest/plannedIds.js';
-import { canonicalPenKey, parseDateCell } from '../../src/ingest/recordCells.js';
+import { canonicalPenKey, contentKey, leading52Bits, parseDateCell } from '../../src/ingest/recordCells.js';
 import { locationFromPattern } from '../../src/ingest/sampleLocation.js';
 import { mapResultRow, type ResultContext } from '../../src/ingest/resultRecords.js';
 import { mapRopeRow, type RopeContext } from '../../src/ingest/ropeSheetRecords.js';
@@ -114,6 +116,45 @@ describe('mapResultRow', () => {
       const changed = nf(change);
       expect(changed.ok && changed.row.contentKey).not.toBe(outcome.row.contentKey);
     }
+  });
+
+  it('maps each row of a run as a file meeting it first does (what one row keeps for the next changes nothing)', () => {
+    // Oracle: a new context per row, so nothing is kept from the row before. Neighbouring rows
+    // repeat sample IDs, assays and dates, and some carry dates that are blank or no dates.
+    const cell = <T extends string>(...values: T[]) => fc.constantFrom(...values);
+    const row = fc.record({
+      'Sample ID': cell('HC-0803-F1-01', 'hc-0803-f1-01', 'TR-N1-07-20260805', 'LAB-17'),
+      'Test Name': cell('PRRSV NA/EU RT-PCR', 'Influenza A Matrix RT-PCR'),
+      'Collection Date': cell('2026-08-03', '', '2026-02-30', '03.08.2026', '2026-08-04'),
+      'Report Date': cell('2026-08-06', '', '2026-13-01'),
+      'Ct Value': cell('31.20', 'Undetermined'),
+    });
+    fc.assert(
+      fc.property(fc.array(fc.tuple(row, fc.integer({ min: 2, max: 9 })), { maxLength: 20 }), (rows) => {
+        const context = { ...nfContext, plannedIdCheck: plannedIdChecker(config) };
+        for (const [overrides, line] of rows) {
+          const cells = NF_COLUMNS.map((column) => ({ ...base, ...overrides })[column] ?? '');
+          const fresh = { ...nfContext, plannedIdCheck: plannedIdChecker(config) };
+          expect(mapResultRow(cells, line, context)).toEqual(mapResultRow(cells, line, fresh));
+        }
+      }),
+      { numRuns: 200 },
+    );
+  });
+
+  it('reads the content key from the digest bytes as the first 13 hex digits of the digest', () => {
+    // FIPS 180-2, appendix A.1: SHA-1("abc") = a9993e36 4706816a ba3e2571 7850c26c 9cd0d89d.
+    expect(leading52Bits(createHash('sha1').update('abc').digest('binary'))).toBe(0xa9993e3647068);
+    // Oracle: node:crypto's hex digest, cut to 13 digits and parsed (how stored keys were made).
+    fc.assert(
+      fc.property(fc.array(fc.string({ unit: 'binary' }), { minLength: 1, maxLength: 7 }), (parts) => {
+        const hex = createHash('sha1').update(parts.join('\u001f')).digest('hex');
+        expect(contentKey(parts)).toBe(Number.parseInt(hex.slice(0, 13), 16));
+      }),
+      { numRuns: 500 },
+    );
+    // Every nibble set: the largest key, 2^52 - 1.
+    expect(leading52Bits('\u00ff'.repeat(20))).toBe(2 ** 52 - 1);
   });
 
   it('refuses an assay the lab profile does not name', () => {
