@@ -8,11 +8,11 @@ import { EARLIER_MAPS, PEN_HISTORY_ROUNDS } from '../../analysis/summaryTypes.js
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { PageAlert } from './alerts.js';
-import { renderBarnMap } from './barnMap.js';
+import { barnMapPieces, renderBarnMap } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { statsTable } from './clusterStats.js';
-import { escapeHtml } from './escape.js';
+import { escapeHtml, safeId } from './escape.js';
 import { mapLegend, resultMarks } from './mapMarks.js';
 import { num } from './page.js';
 
@@ -82,6 +82,53 @@ const positivesIn = (of: RoundSummary, barnId: string, assayId: string): number 
 
 const roundLabel = (round: number) => `r${String(round).padStart(2, '0')}`;
 
+type BarnSpatialReport = AssaySpatial['report']['barns'][number];
+
+/**
+ * Earlier rounds' small maps with their captions, by round, barn and assay: a round's small map
+ * is the same on the page of every later round that shows it but for its id prefix (each page
+ * keys its maps by its own round), so it is drawn once, as the pieces between the places the
+ * prefix goes (barnMapPieces). A summary is not changed once made, nor its spatial report.
+ */
+const EARLIER_FIGURES = new WeakMap<
+  RoundSummary,
+  Map<string, { barn: Barn; report: BarnSpatialReport | undefined; pieces: readonly string[] }>
+>();
+
+/** One earlier round's small map and caption, as pieces to join with the map's id prefix. */
+function earlierFigure(
+  previous: RoundSummary,
+  barn: Barn,
+  assayId: string,
+  report: BarnSpatialReport | undefined,
+): readonly string[] {
+  let ofRound = EARLIER_FIGURES.get(previous);
+  if (!ofRound) {
+    ofRound = new Map();
+    EARLIER_FIGURES.set(previous, ofRound);
+  }
+  const key = JSON.stringify([barn.id, assayId]);
+  const known = ofRound.get(key);
+  if (known && known.barn === barn && known.report === report) return known.pieces;
+  const svg = barnMapPieces(barn, {
+    scale: MINI_SCALE,
+    detail: 'mini',
+    title: `${barn.name}, ${assayId}, round ${previous.round.number}`,
+    results: resultMarks(previous, barn.id, assayId, report),
+    clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
+    attributes: { 'data-map': 'mini', 'data-assay': assayId, 'data-round': previous.round.id },
+  });
+  const n = positivesIn(previous, barn.id, assayId);
+  // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
+  const tested = previous.assays.some((entry) => entry.id === assayId);
+  const pieces = [...svg];
+  pieces[0] = `<figure>${pieces[0]}`;
+  pieces[pieces.length - 1] +=
+    `<figcaption>${roundLabel(previous.round.number)} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}${escapeHtml(groupOf(previous, barn.id))}</figcaption></figure>`;
+  ofRound.set(key, { barn, report, pieces });
+  return pieces;
+}
+
 /** The earlier rounds as small maps, oldest first, then this round. */
 function earlierMinis(view: BarnView, earlier: readonly RoundSummary[]): string {
   const { input, barn, assay, key, marks, report } = view;
@@ -89,19 +136,9 @@ function earlierMinis(view: BarnView, earlier: readonly RoundSummary[]): string 
     const previousSpatial = input.spatial[input.index - earlier.length + i]?.assays
       .find((entry) => entry.assayId === assay.assayId)
       ?.report.barns.find((entry) => entry.barn === barn.id);
-    const svg = renderBarnMap(barn, {
-      key: `${key}-mini-${previous.round.id}`,
-      scale: MINI_SCALE,
-      detail: 'mini',
-      title: `${barn.name}, ${assay.assayId}, round ${previous.round.number}`,
-      results: resultMarks(previous, barn.id, assay.assayId, previousSpatial),
-      clusters: (previousSpatial?.clusters ?? []).filter((cluster) => cluster.size >= 2),
-      attributes: { 'data-map': 'mini', 'data-assay': assay.assayId, 'data-round': previous.round.id },
-    });
-    const n = positivesIn(previous, barn.id, assay.assayId);
-    // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
-    const tested = previous.assays.some((entry) => entry.id === assay.assayId);
-    return `<figure>${svg}<figcaption>${roundLabel(previous.round.number)} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}${escapeHtml(groupOf(previous, barn.id))}</figcaption></figure>`;
+    return earlierFigure(previous, barn, assay.assayId, previousSpatial).join(
+      safeId(`${key}-mini-${previous.round.id}`),
+    );
   });
   const now = renderBarnMap(barn, {
     key: `${key}-mini-now`,
