@@ -280,18 +280,34 @@ function mapGeometry(layout: BarnLayout, scale: number, full: boolean): BarnGeom
  * are the text drawn with that prefix. A map drawn once is reused under another key this way.
  */
 class PrefixedText {
-  readonly pieces: string[] = [''];
+  /** The text between holes so far, each as its parts (joined once, in `pieces`). */
+  private readonly segments: string[][] = [[]];
 
   /** Appends text without a hole. */
   text(text: string): void {
-    this.pieces[this.pieces.length - 1] += text;
+    this.segments[this.segments.length - 1]!.push(text);
   }
 
   /** Appends pieces that have holes between them. */
   append(pieces: readonly string[]): void {
     this.text(pieces[0]!);
-    for (let i = 1; i < pieces.length; i++) this.pieces.push(pieces[i]!);
+    for (let i = 1; i < pieces.length; i++) this.segments.push([pieces[i]!]);
   }
+
+  /** The text between the holes, each piece one flat string. */
+  pieces(): string[] {
+    return this.segments.map((parts) => parts.join(''));
+  }
+}
+
+/**
+ * Appends a map drawn as pieces (barnMapPieces) to a page's parts, with the prefix of the key it
+ * is placed under in each hole: the same text as the pieces joined with the prefix, without
+ * copying the map into a string of its own first.
+ */
+export function pushMapPieces(into: string[], pieces: readonly string[], prefix: string): void {
+  into.push(pieces[0]!);
+  for (let i = 1; i < pieces.length; i++) into.push(prefix, pieces[i]!);
 }
 
 /**
@@ -329,7 +345,8 @@ function penLayer(geometry: BarnGeometry, options: Omit<MapOptions, 'key'>, full
     return;
   }
   const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
-  const layer = new PrefixedText();
+  // A layer kept is drawn apart and joined once; any other goes straight into the map.
+  const layer = keep ? new PrefixedText() : into;
   for (const pen of geometry.pens) {
     const result = results?.get(pen.id);
     const plannedMark = planned?.get(pen.id);
@@ -342,9 +359,10 @@ function penLayer(geometry: BarnGeometry, options: Omit<MapOptions, 'key'>, full
       byGeometry = new WeakMap();
       LAYERS.set(results, byGeometry);
     }
-    byGeometry.set(geometry, layer.pieces[0]!);
+    const drawn = layer.pieces()[0]!;
+    byGeometry.set(geometry, drawn);
+    into.text(drawn);
   }
-  into.append(layer.pieces);
 }
 
 /**
@@ -387,7 +405,7 @@ export function barnMapPieces(
   penLayer(geometry, options, full, svg);
   for (const cluster of boxes) svg.text(clusterBox(cluster, full));
   svg.text('</svg>');
-  return svg.pieces;
+  return svg.pieces();
 }
 
 /** The alley and gaps of a geometry, drawn once per geometry (mapGeometry keeps them). */

@@ -8,7 +8,7 @@ import { EARLIER_MAPS, PEN_HISTORY_ROUNDS } from '../../analysis/summaryTypes.js
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { PageAlert } from './alerts.js';
-import { barnMapPieces, renderBarnMap } from './barnMap.js';
+import { barnMapPieces, pushMapPieces } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { statsTable } from './clusterStats.js';
@@ -129,26 +129,27 @@ function earlierFigure(
   return pieces;
 }
 
-/** The earlier rounds as small maps, oldest first, then this round. */
-function earlierMinis(view: BarnView, earlier: readonly RoundSummary[]): string {
+/** The earlier rounds as small maps, oldest first, then this round, appended to a page's parts. */
+function earlierMinis(view: BarnView, earlier: readonly RoundSummary[], into: string[]): void {
   const { input, barn, assay, key, marks, report } = view;
-  const figures = earlier.map((previous, i) => {
+  into.push('<div class="minis" data-minis="">');
+  earlier.forEach((previous, i) => {
     const previousSpatial = input.spatial[input.index - earlier.length + i]?.assays
       .find((entry) => entry.assayId === assay.assayId)
       ?.report.barns.find((entry) => entry.barn === barn.id);
-    return earlierFigure(previous, barn, assay.assayId, previousSpatial).join(
-      safeId(`${key}-mini-${previous.round.id}`),
-    );
+    const figure = earlierFigure(previous, barn, assay.assayId, previousSpatial);
+    pushMapPieces(into, figure, safeId(`${key}-mini-${previous.round.id}`));
   });
-  const now = renderBarnMap(barn, {
-    key: `${key}-mini-now`,
+  const now = barnMapPieces(barn, {
     scale: MINI_SCALE,
     detail: 'mini',
     title: `${barn.name}, ${assay.assayId}, this round`,
     results: marks,
     clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
   });
-  return `<div class="minis" data-minis="">${figures.join('')}<figure>${now}<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`;
+  into.push('<figure>');
+  pushMapPieces(into, now, safeId(`${key}-mini-now`));
+  into.push(`<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`);
 }
 
 /** Adds each lab to the set of the cutoff it read a point with. */
@@ -267,30 +268,33 @@ function clusterList(view: BarnView): string {
     .join('');
 }
 
-/** A quiet barn: a small map (still to scale, every pen drawn) and one line; the page is for the barns that need review. */
-function quietBarn(view: BarnView): string {
+/** A quiet barn: a small map (still to scale, every pen drawn) and one line, appended to a page's parts; the page is for the barns that need review. */
+function quietBarn(view: BarnView, into: string[]): void {
   const { summary, barn, assay, tally } = view;
-  const small = renderBarnMap(barn, {
-    key: `${view.key}-quiet`,
+  const small = barnMapPieces(barn, {
     scale: QUIET_SCALE,
     detail: 'mini',
     title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}${groupOf(summary, barn.id)}`,
     results: view.marks,
     attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
   });
-  return `<figure class="quiet" data-barn="${escapeHtml(barn.id)}">${small}<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${tally?.positive ?? 0} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}; no positive, suspect or invalid rope so far.</figcaption></figure>`;
+  into.push(`<figure class="quiet" data-barn="${escapeHtml(barn.id)}">`);
+  pushMapPieces(into, small, safeId(`${view.key}-quiet`));
+  into.push(
+    `<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${tally?.positive ?? 0} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}; no positive, suspect or invalid rope so far.</figcaption></figure>`,
+  );
 }
 
 /**
- * One barn of one assay: the full section when the barn has (or had) a positive, or has a
- * suspect or invalid rope this round; otherwise the quiet figure (`quiet` says which). A full
- * section also gives the shade part of the map legend it prints (`legendShades`).
+ * One barn of one assay, as the page's parts: the full section when the barn has (or had) a
+ * positive, or has a suspect or invalid rope this round; otherwise the quiet figure (`quiet` says
+ * which). A full section also gives the shade part of the map legend it prints (`legendShades`).
  */
 export function barnSection(
   input: ClustersPageInput,
   barn: Barn,
   assay: AssaySpatial,
-): { quiet: boolean; html: string; legendShades?: string } {
+): { quiet: boolean; parts: string[]; legendShades?: string } {
   const summary = input.summaries[input.index]!;
   const report = assay.report.barns.find((entry) => entry.barn === barn.id);
   const tally = summary.barns
@@ -309,12 +313,15 @@ export function barnSection(
     key,
     marks,
   };
+  const parts: string[] = [];
   const hadPositive = input.summaries.slice(0, input.index + 1).some((s) => positivesIn(s, barn.id, assay.assayId) > 0);
   const positives = tally?.positive ?? 0;
   const busy = positives > 0 || (tally?.suspect ?? 0) > 0 || (tally?.invalid ?? 0) > 0 || hadPositive;
-  if (!busy) return { quiet: true, html: quietBarn(view) };
-  const main = renderBarnMap(barn, {
-    key,
+  if (!busy) {
+    quietBarn(view, parts);
+    return { quiet: true, parts };
+  }
+  const main = barnMapPieces(barn, {
     scale: MAIN_SCALE,
     detail: 'full',
     title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}${groupOf(summary, barn.id)}`,
@@ -323,24 +330,29 @@ export function barnSection(
     attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
   });
   const earlier = input.summaries.slice(Math.max(0, input.index - (input.earlierMaps ?? EARLIER_MAPS)), input.index);
-  const minis = earlier.length > 0 ? earlierMinis(view, earlier) : '';
-  const clusters = clusterList(view);
   const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}</h3>`;
   const legend = mapLegend(input.assays, [...earlier, summary], [barn.id], assay.assayId, key);
-  const html =
-    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${legend.html}` +
-    (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
+  parts.push(`<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>`);
+  pushMapPieces(parts, main, safeId(key));
+  parts.push(`</figure>${legend.html}`);
+  if (earlier.length > 0) {
+    parts.push('<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>');
+    earlierMinis(view, earlier, parts);
+  }
+  const clusters = clusterList(view);
+  parts.push(
     (clusters ? `<ul>${clusters}</ul>` : '') +
-    monitoredNote(input, barn, assay.assayId) +
-    (report
-      ? statsTable(
-          report,
-          assay.detection.find((entry) => entry.barnId === barn.id),
-          input.alpha,
-          view.antibody,
-        )
-      : '<p>No spatial statistics for this barn.</p>') +
-    penTrends(view) +
-    `</section>`;
-  return { quiet: false, html, legendShades: legend.shades };
+      monitoredNote(input, barn, assay.assayId) +
+      (report
+        ? statsTable(
+            report,
+            assay.detection.find((entry) => entry.barnId === barn.id),
+            input.alpha,
+            view.antibody,
+          )
+        : '<p>No spatial statistics for this barn.</p>'),
+    penTrends(view),
+    `</section>`,
+  );
+  return { quiet: false, parts, legendShades: legend.shades };
 }
