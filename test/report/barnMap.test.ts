@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { barnGeometry, renderBarnMap, type PenMark } from '../../src/report/html/barnMap.js';
+import fc from 'fast-check';
+import { barnGeometry, barnMapPieces, renderBarnMap, type PenMark } from '../../src/report/html/barnMap.js';
+import { safeId } from '../../src/report/html/escape.js';
 import { expectClose } from '../helpers/expectClose.js';
 import { twoRowLayout } from '../helpers/layouts.js';
 
@@ -131,5 +133,33 @@ describe('renderBarnMap', () => {
 
   it('draws a box around each cluster', () => {
     expect(count(/data-cluster="1"/g)).toBe(1);
+  });
+
+  it('leaves a hole in its pieces at every place the map names its own ids, and only there', () => {
+    const { key: _key, ...rest } = { key: 'test', scale: 30, detail: 'full' as const, title: 'test map', results };
+    const pieces = barnMapPieces(barn, rest);
+    // aria-labelledby, the title's id, the two patterns' ids and the fills of B4 (empty) and A2 (out of use).
+    expect(count(/aria-labelledby="test-|id="test-|url\(#test-/g)).toBe(6);
+    expect(pieces).toHaveLength(7);
+    for (const piece of pieces) expect(piece).not.toContain('test-');
+  });
+
+  it('draws the same map from its pieces as with the key, whatever the key', () => {
+    fc.assert(
+      fc.property(fc.string(), fc.constantFrom<'full' | 'mini'>('full', 'mini'), (key, detail) => {
+        const options = {
+          scale: 12,
+          detail,
+          title: `map <${key}>`,
+          results,
+          clusters: [{ index: 1, pens: ['A1', 'B1'] }],
+        };
+        const drawn = renderBarnMap(barn, { key, ...options });
+        expect(barnMapPieces(barn, options).join(safeId(key))).toBe(drawn);
+        expect(drawn).toContain(`aria-labelledby="${safeId(key)}-title"`);
+        expect(drawn).toContain(`fill="url(#${safeId(key)}-empty)"`);
+      }),
+      { numRuns: 50 },
+    );
   });
 });

@@ -5,7 +5,8 @@ import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { CAUTIONS, notifiableNotice } from '../../src/report/cautions.js';
 import { escapeHtml } from '../../src/report/html/escape.js';
-import { roundAlerts } from '../../src/report/html/alerts.js';
+import { alertsOfRounds, roundAlerts } from '../../src/report/html/alerts.js';
+import { renderClustersPage } from '../../src/report/html/clustersPage.js';
 import { writeIndex, writeSitePages, type SiteDigest } from '../../src/report/pages.js';
 import { buildDemoPages, type DemoPages } from '../helpers/browser.js';
 
@@ -92,6 +93,33 @@ describe('the pages of the demo', () => {
     writeSitePages(demo.paths.outbox, config, analysis);
     const after = htmlFiles(dir).map((file) => fs.readFileSync(path.join(dir, file), 'utf8'));
     expect(after).toEqual(before);
+  });
+
+  it('draws a cluster review the same whether the pages of the rounds before it were drawn first or not', () => {
+    const config = loadConfig(demo.paths.configDir);
+    const page = (analysis: (typeof demo.analyses)[number], index: number) =>
+      renderClustersPage({
+        site: analysis.site,
+        summaries: analysis.summaries,
+        spatial: analysis.spatial,
+        index,
+        assays: config.assayById,
+        alpha: config.analysis.alpha,
+        alerts: alertsOfRounds(analysis)[index]!,
+        notices: [],
+      });
+    const minis: number[] = [];
+    for (const original of demo.analyses) {
+      const last = original.summaries.length - 1;
+      // Fresh copies: no map of theirs has been drawn yet.
+      const alone = page(structuredClone(original), last);
+      const inOrder = structuredClone(original);
+      const pages = inOrder.summaries.map((_, index) => page(inOrder, index));
+      expect(pages[last]).toBe(alone);
+      minis.push(alone.split('data-map="mini"').length - 1);
+    }
+    // The earlier rounds drawn small again on the last page of a site with a positive barn.
+    expect(Math.max(...minis)).toBeGreaterThan(0);
   });
 
   it('keeps sites in the index whose pages were not regenerated', () => {

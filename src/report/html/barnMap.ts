@@ -6,7 +6,7 @@
  */
 import { expandLayout, isInUse, type BarnLayout, type PenStatus } from '../../domain/layout.js';
 import { COLOURS } from './palette.js';
-import { fmt, renderPen } from './mapPen.js';
+import { fmt, penPieces } from './mapPen.js';
 import { escapeHtml, safeId } from './escape.js';
 import type { PenMark, PlannedMark } from './mapPen.js';
 
@@ -166,24 +166,15 @@ const overlaps = (
   b: { x: number; y: number; width: number; height: number },
 ) => a.x < b.x + b.width && b.x < a.x + a.width && a.y < b.y + b.height && b.y < a.y + a.height;
 
-function patternDefs(prefix: string): string {
-  return (
-    `<defs>` +
-    `<pattern id="${prefix}-empty" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#8a8a8a" stroke-width="1.6"/></pattern>` +
-    `<pattern id="${prefix}-out" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#5f5f5f" stroke-width="1.6"/><line x1="0" y1="0" x2="6" y2="0" stroke="#5f5f5f" stroke-width="1.6"/></pattern>` +
-    `</defs>`
-  );
-}
+/** The hatching patterns of the map, as the text between the places the map's id prefix goes. */
+const PATTERN_DEFS: readonly string[] = [
+  `<defs><pattern id="`,
+  `-empty" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#8a8a8a" stroke-width="1.6"/></pattern>` +
+    `<pattern id="`,
+  `-out" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#5f5f5f" stroke-width="1.6"/><line x1="0" y1="0" x2="6" y2="0" stroke="#5f5f5f" stroke-width="1.6"/></pattern>` +
+    `</defs>`,
+];
 
-/**
- * Renders a barn map as an inline SVG string: alley and gaps in grey, pens to scale, roped pens
- * filled by load on the single-hue ramp with a symbol (+ positive, ? suspect, × invalid,
- * − negative), positives with a heavy black outline, empty pens hatched, out-of-use pens
- * cross-hatched, clusters as rounded boxes around their pens, planned ropes as a shape by reason
- * (circle routine, triangle follow-up, diamond retest) with the checklist number.
- * Each pen carries data-pen, and data-positive / data-planned / data-status where they apply.
- * @throws RangeError as barnGeometry, or for an unknown load
- */
 type ClusterBox = {
   index: number;
   x0: number;
@@ -284,6 +275,42 @@ function mapGeometry(layout: BarnLayout, scale: number, full: boolean): BarnGeom
 }
 
 /**
+ * Text with holes where a map's id prefix goes (the ids of its title and hatching patterns, and
+ * the hatched pens' fills), written as the pieces between them: joined with a prefix, the pieces
+ * are the text drawn with that prefix. A map drawn once is reused under another key this way.
+ */
+class PrefixedText {
+  /** The text between holes so far, each as its parts (joined once, in `pieces`). */
+  private readonly segments: string[][] = [[]];
+
+  /** Appends text without a hole. */
+  text(text: string): void {
+    this.segments[this.segments.length - 1]!.push(text);
+  }
+
+  /** Appends pieces that have holes between them. */
+  append(pieces: readonly string[]): void {
+    this.text(pieces[0]!);
+    for (let i = 1; i < pieces.length; i++) this.segments.push([pieces[i]!]);
+  }
+
+  /** The text between the holes, each piece one flat string. */
+  pieces(): string[] {
+    return this.segments.map((parts) => parts.join(''));
+  }
+}
+
+/**
+ * Appends a map drawn as pieces (barnMapPieces) to a page's parts, with the prefix of the key it
+ * is placed under in each hole: the same text as the pieces joined with the prefix, without
+ * copying the map into a string of its own first.
+ */
+export function pushMapPieces(into: string[], pieces: readonly string[], prefix: string): void {
+  into.push(pieces[0]!);
+  for (let i = 1; i < pieces.length; i++) into.push(prefix, pieces[i]!);
+}
+
+/**
  * An in-use pen without a result or a planned rope looks the same on every map drawn from one
  * geometry (the map's key only names the hatching of empty and out-of-use pens, and the font
  * size follows the geometry's scale), and most pens of most maps are such pens: each is drawn
@@ -294,7 +321,7 @@ const UNMARKED = new WeakMap<PenRect, string>();
 function unmarkedPen(pen: PenRect, full: boolean, fontSize: number): string {
   let svg = UNMARKED.get(pen);
   if (svg === undefined) {
-    svg = renderPen(pen, undefined, undefined, { full, prefix: '', fontSize });
+    svg = penPieces(pen, undefined, undefined, { full, fontSize })[0]!;
     UNMARKED.set(pen, svg);
   }
   return svg;
@@ -308,21 +335,23 @@ function unmarkedPen(pen: PenRect, full: boolean, fontSize: number): string {
  */
 const LAYERS = new WeakMap<ReadonlyMap<string, PenMark>, WeakMap<BarnGeometry, string>>();
 
-/** Every pen of the map, drawn (renderPen), in the geometry's order. */
-function penLayer(geometry: BarnGeometry, options: MapOptions, full: boolean, prefix: string): string {
+/** Every pen of the map, drawn (penPieces), in the geometry's order. */
+function penLayer(geometry: BarnGeometry, options: Omit<MapOptions, 'key'>, full: boolean, into: PrefixedText): void {
   const { results, planned } = options;
   const keep = results !== undefined && planned === undefined && geometry.pens.every((pen) => isInUse(pen));
   const known = keep ? LAYERS.get(results)?.get(geometry) : undefined;
-  if (known !== undefined) return known;
+  if (known !== undefined) {
+    into.text(known);
+    return;
+  }
   const fontSize = Math.max(7, Math.min(11, options.scale * 0.3));
-  let layer = '';
+  // A layer kept is drawn apart and joined once; any other goes straight into the map.
+  const layer = keep ? new PrefixedText() : into;
   for (const pen of geometry.pens) {
     const result = results?.get(pen.id);
     const plannedMark = planned?.get(pen.id);
-    layer +=
-      result === undefined && plannedMark === undefined && isInUse(pen)
-        ? unmarkedPen(pen, full, fontSize)
-        : renderPen(pen, result, plannedMark, { full, prefix, fontSize });
+    if (result === undefined && plannedMark === undefined && isInUse(pen)) layer.text(unmarkedPen(pen, full, fontSize));
+    else layer.append(penPieces(pen, result, plannedMark, { full, fontSize }));
   }
   if (keep) {
     let byGeometry = LAYERS.get(results);
@@ -330,9 +359,10 @@ function penLayer(geometry: BarnGeometry, options: MapOptions, full: boolean, pr
       byGeometry = new WeakMap();
       LAYERS.set(results, byGeometry);
     }
-    byGeometry.set(geometry, layer);
+    const drawn = layer.pieces()[0]!;
+    byGeometry.set(geometry, drawn);
+    into.text(drawn);
   }
-  return layer;
 }
 
 /**
@@ -345,27 +375,50 @@ function penLayer(geometry: BarnGeometry, options: MapOptions, full: boolean, pr
  * @throws RangeError as barnGeometry, or for an unknown load
  */
 export function renderBarnMap(barn: { id: string; name: string; layout: BarnLayout }, options: MapOptions): string {
+  return barnMapPieces(barn, options).join(safeId(options.key));
+}
+
+/**
+ * The map renderBarnMap draws, as the pieces between the places its id prefix (the safeId of
+ * the key) goes: joined with safeId(key) they are the map drawn with that key, so a map drawn
+ * once can be placed again under another key.
+ * @throws RangeError as renderBarnMap
+ */
+export function barnMapPieces(
+  barn: { id: string; name: string; layout: BarnLayout },
+  options: Omit<MapOptions, 'key'>,
+): readonly string[] {
   const full = options.detail === 'full';
   const geometry = mapGeometry(barn.layout, options.scale, full);
-  const prefix = safeId(options.key);
-  const parts: string[] = [];
-  const attrs = Object.entries(options.attributes ?? {})
-    .map(([name, value]) => ` ${name}="${escapeHtml(value)}"`)
-    .join('');
-  parts.push(
-    `<svg xmlns="http://www.w3.org/2000/svg" class="map map-${options.detail}" viewBox="0 0 ${fmt(geometry.width)} ${fmt(geometry.height)}" width="${fmt(geometry.width)}" height="${fmt(geometry.height)}" role="img" aria-labelledby="${prefix}-title" data-barn="${escapeHtml(barn.id)}"${attrs}>`,
-  );
-  parts.push(`<title id="${prefix}-title">${escapeHtml(options.title)}</title>`);
-  parts.push(patternDefs(prefix));
-  for (const band of geometry.bands) {
-    parts.push(
-      `<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`,
-    );
-  }
+  const svg = new PrefixedText();
+  let attrs = '';
+  for (const [name, value] of Object.entries(options.attributes ?? {})) attrs += ` ${name}="${escapeHtml(value)}"`;
+  svg.append([
+    `<svg xmlns="http://www.w3.org/2000/svg" class="map map-${options.detail}" viewBox="0 0 ${fmt(geometry.width)} ${fmt(geometry.height)}" width="${fmt(geometry.width)}" height="${fmt(geometry.height)}" role="img" aria-labelledby="`,
+    `-title" data-barn="${escapeHtml(barn.id)}"${attrs}><title id="`,
+    `-title">${escapeHtml(options.title)}</title>`,
+  ]);
+  svg.append(PATTERN_DEFS);
+  svg.text(bandsOf(geometry));
   const boxes = clusterBoxes(geometry, options.clusters, full);
-  if (full) parts.push(...alleyAndRowLabels(geometry, boxes));
-  parts.push(penLayer(geometry, options, full, prefix));
-  for (const cluster of boxes) parts.push(clusterBox(cluster, full));
-  parts.push('</svg>');
-  return parts.join('');
+  if (full) svg.text(alleyAndRowLabels(geometry, boxes).join(''));
+  penLayer(geometry, options, full, svg);
+  for (const cluster of boxes) svg.text(clusterBox(cluster, full));
+  svg.text('</svg>');
+  return svg.pieces();
+}
+
+/** The alley and gaps of a geometry, drawn once per geometry (mapGeometry keeps them). */
+const BANDS = new WeakMap<BarnGeometry, string>();
+
+function bandsOf(geometry: BarnGeometry): string {
+  let svg = BANDS.get(geometry);
+  if (svg === undefined) {
+    svg = '';
+    for (const band of geometry.bands) {
+      svg += `<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`;
+    }
+    BANDS.set(geometry, svg);
+  }
+  return svg;
 }

@@ -8,11 +8,11 @@ import { EARLIER_MAPS, PEN_HISTORY_ROUNDS } from '../../analysis/summaryTypes.js
 import type { AssaySpatial, RoundSpatial } from '../../analysis/spatialRound.js';
 import type { Assay, Barn, Site } from '../../config/types.js';
 import type { PageAlert } from './alerts.js';
-import { renderBarnMap } from './barnMap.js';
+import { barnMapPieces, pushMapPieces } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { statsTable } from './clusterStats.js';
-import { escapeHtml } from './escape.js';
+import { escapeHtml, safeId } from './escape.js';
 import { mapLegend, resultMarks } from './mapMarks.js';
 import { num } from './page.js';
 
@@ -82,36 +82,74 @@ const positivesIn = (of: RoundSummary, barnId: string, assayId: string): number 
 
 const roundLabel = (round: number) => `r${String(round).padStart(2, '0')}`;
 
-/** The earlier rounds as small maps, oldest first, then this round. */
-function earlierMinis(view: BarnView, earlier: readonly RoundSummary[]): string {
+type BarnSpatialReport = AssaySpatial['report']['barns'][number];
+
+/**
+ * Earlier rounds' small maps with their captions, by round, barn and assay: a round's small map
+ * is the same on the page of every later round that shows it but for its id prefix (each page
+ * keys its maps by its own round), so it is drawn once, as the pieces between the places the
+ * prefix goes (barnMapPieces). A summary is not changed once made, nor its spatial report.
+ */
+const EARLIER_FIGURES = new WeakMap<
+  RoundSummary,
+  Map<string, { barn: Barn; report: BarnSpatialReport | undefined; pieces: readonly string[] }>
+>();
+
+/** One earlier round's small map and caption, as pieces to join with the map's id prefix. */
+function earlierFigure(
+  previous: RoundSummary,
+  barn: Barn,
+  assayId: string,
+  report: BarnSpatialReport | undefined,
+): readonly string[] {
+  let ofRound = EARLIER_FIGURES.get(previous);
+  if (!ofRound) {
+    ofRound = new Map();
+    EARLIER_FIGURES.set(previous, ofRound);
+  }
+  const key = JSON.stringify([barn.id, assayId]);
+  const known = ofRound.get(key);
+  if (known && known.barn === barn && known.report === report) return known.pieces;
+  const svg = barnMapPieces(barn, {
+    scale: MINI_SCALE,
+    detail: 'mini',
+    title: `${barn.name}, ${assayId}, round ${previous.round.number}`,
+    results: resultMarks(previous, barn.id, assayId, report),
+    clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
+    attributes: { 'data-map': 'mini', 'data-assay': assayId, 'data-round': previous.round.id },
+  });
+  const n = positivesIn(previous, barn.id, assayId);
+  // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
+  const tested = previous.assays.some((entry) => entry.id === assayId);
+  const pieces = [...svg];
+  pieces[0] = `<figure>${pieces[0]}`;
+  pieces[pieces.length - 1] +=
+    `<figcaption>${roundLabel(previous.round.number)} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}${escapeHtml(groupOf(previous, barn.id))}</figcaption></figure>`;
+  ofRound.set(key, { barn, report, pieces });
+  return pieces;
+}
+
+/** The earlier rounds as small maps, oldest first, then this round, appended to a page's parts. */
+function earlierMinis(view: BarnView, earlier: readonly RoundSummary[], into: string[]): void {
   const { input, barn, assay, key, marks, report } = view;
-  const figures = earlier.map((previous, i) => {
+  into.push('<div class="minis" data-minis="">');
+  earlier.forEach((previous, i) => {
     const previousSpatial = input.spatial[input.index - earlier.length + i]?.assays
       .find((entry) => entry.assayId === assay.assayId)
       ?.report.barns.find((entry) => entry.barn === barn.id);
-    const svg = renderBarnMap(barn, {
-      key: `${key}-mini-${previous.round.id}`,
-      scale: MINI_SCALE,
-      detail: 'mini',
-      title: `${barn.name}, ${assay.assayId}, round ${previous.round.number}`,
-      results: resultMarks(previous, barn.id, assay.assayId, previousSpatial),
-      clusters: (previousSpatial?.clusters ?? []).filter((cluster) => cluster.size >= 2),
-      attributes: { 'data-map': 'mini', 'data-assay': assay.assayId, 'data-round': previous.round.id },
-    });
-    const n = positivesIn(previous, barn.id, assay.assayId);
-    // A round that did not test the assay (an antibody ELISA every other round) says so: 0 + would claim a negative round.
-    const tested = previous.assays.some((entry) => entry.id === assay.assayId);
-    return `<figure>${svg}<figcaption>${roundLabel(previous.round.number)} ${escapeHtml(previous.round.startOn)}: ${tested ? `${n} +` : 'not tested'}${escapeHtml(groupOf(previous, barn.id))}</figcaption></figure>`;
+    const figure = earlierFigure(previous, barn, assay.assayId, previousSpatial);
+    pushMapPieces(into, figure, safeId(`${key}-mini-${previous.round.id}`));
   });
-  const now = renderBarnMap(barn, {
-    key: `${key}-mini-now`,
+  const now = barnMapPieces(barn, {
     scale: MINI_SCALE,
     detail: 'mini',
     title: `${barn.name}, ${assay.assayId}, this round`,
     results: marks,
     clusters: (report?.clusters ?? []).filter((cluster) => cluster.size >= 2),
   });
-  return `<div class="minis" data-minis="">${figures.join('')}<figure>${now}<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`;
+  into.push('<figure>');
+  pushMapPieces(into, now, safeId(`${key}-mini-now`));
+  into.push(`<figcaption><strong>this round: ${view.tally?.positive ?? 0} +</strong></figcaption></figure></div>`);
 }
 
 /** Adds each lab to the set of the cutoff it read a point with. */
@@ -230,30 +268,33 @@ function clusterList(view: BarnView): string {
     .join('');
 }
 
-/** A quiet barn: a small map (still to scale, every pen drawn) and one line; the page is for the barns that need review. */
-function quietBarn(view: BarnView): string {
+/** A quiet barn: a small map (still to scale, every pen drawn) and one line, appended to a page's parts; the page is for the barns that need review. */
+function quietBarn(view: BarnView, into: string[]): void {
   const { summary, barn, assay, tally } = view;
-  const small = renderBarnMap(barn, {
-    key: `${view.key}-quiet`,
+  const small = barnMapPieces(barn, {
     scale: QUIET_SCALE,
     detail: 'mini',
     title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}${groupOf(summary, barn.id)}`,
     results: view.marks,
     attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
   });
-  return `<figure class="quiet" data-barn="${escapeHtml(barn.id)}">${small}<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${tally?.positive ?? 0} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}; no positive, suspect or invalid rope so far.</figcaption></figure>`;
+  into.push(`<figure class="quiet" data-barn="${escapeHtml(barn.id)}">`);
+  pushMapPieces(into, small, safeId(`${view.key}-quiet`));
+  into.push(
+    `<figcaption>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${tally?.positive ?? 0} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}; no positive, suspect or invalid rope so far.</figcaption></figure>`,
+  );
 }
 
 /**
- * One barn of one assay: the full section when the barn has (or had) a positive, or has a
- * suspect or invalid rope this round; otherwise the quiet figure (`quiet` says which). A full
- * section also gives the shade part of the map legend it prints (`legendShades`).
+ * One barn of one assay, as the page's parts: the full section when the barn has (or had) a
+ * positive, or has a suspect or invalid rope this round; otherwise the quiet figure (`quiet` says
+ * which). A full section also gives the shade part of the map legend it prints (`legendShades`).
  */
 export function barnSection(
   input: ClustersPageInput,
   barn: Barn,
   assay: AssaySpatial,
-): { quiet: boolean; html: string; legendShades?: string } {
+): { quiet: boolean; parts: string[]; legendShades?: string } {
   const summary = input.summaries[input.index]!;
   const report = assay.report.barns.find((entry) => entry.barn === barn.id);
   const tally = summary.barns
@@ -272,12 +313,15 @@ export function barnSection(
     key,
     marks,
   };
+  const parts: string[] = [];
   const hadPositive = input.summaries.slice(0, input.index + 1).some((s) => positivesIn(s, barn.id, assay.assayId) > 0);
   const positives = tally?.positive ?? 0;
   const busy = positives > 0 || (tally?.suspect ?? 0) > 0 || (tally?.invalid ?? 0) > 0 || hadPositive;
-  if (!busy) return { quiet: true, html: quietBarn(view) };
-  const main = renderBarnMap(barn, {
-    key,
+  if (!busy) {
+    quietBarn(view, parts);
+    return { quiet: true, parts };
+  }
+  const main = barnMapPieces(barn, {
     scale: MAIN_SCALE,
     detail: 'full',
     title: `${barn.name}, ${assay.assayId}, round ${summary.round.number}${groupOf(summary, barn.id)}`,
@@ -286,24 +330,29 @@ export function barnSection(
     attributes: { 'data-map': 'main', 'data-assay': assay.assayId, 'data-round': summary.round.id },
   });
   const earlier = input.summaries.slice(Math.max(0, input.index - (input.earlierMaps ?? EARLIER_MAPS)), input.index);
-  const minis = earlier.length > 0 ? earlierMinis(view, earlier) : '';
-  const clusters = clusterList(view);
   const header = `<h3>${escapeHtml(barn.name)} (${escapeHtml(barn.id)}): ${positives} positive of ${tally?.tested ?? 0} tested${escapeHtml(groupOf(summary, barn.id))}</h3>`;
   const legend = mapLegend(input.assays, [...earlier, summary], [barn.id], assay.assayId, key);
-  const html =
-    `<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>${main}</figure>${legend.html}` +
-    (minis ? `<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>${minis}` : '') +
+  parts.push(`<section class="barn" data-barn="${escapeHtml(barn.id)}">${header}<figure>`);
+  pushMapPieces(parts, main, safeId(key));
+  parts.push(`</figure>${legend.html}`);
+  if (earlier.length > 0) {
+    parts.push('<p class="muted">Earlier rounds, oldest first (same symbols, small):</p>');
+    earlierMinis(view, earlier, parts);
+  }
+  const clusters = clusterList(view);
+  parts.push(
     (clusters ? `<ul>${clusters}</ul>` : '') +
-    monitoredNote(input, barn, assay.assayId) +
-    (report
-      ? statsTable(
-          report,
-          assay.detection.find((entry) => entry.barnId === barn.id),
-          input.alpha,
-          view.antibody,
-        )
-      : '<p>No spatial statistics for this barn.</p>') +
-    penTrends(view) +
-    `</section>`;
-  return { quiet: false, html, legendShades: legend.shades };
+      monitoredNote(input, barn, assay.assayId) +
+      (report
+        ? statsTable(
+            report,
+            assay.detection.find((entry) => entry.barnId === barn.id),
+            input.alpha,
+            view.antibody,
+          )
+        : '<p>No spatial statistics for this barn.</p>'),
+    penTrends(view),
+    `</section>`,
+  );
+  return { quiet: false, parts, legendShades: legend.shades };
 }

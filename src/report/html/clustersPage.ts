@@ -73,11 +73,13 @@ export function cutoffsSentence(summary: RoundSummary): string {
   return ` Cutoffs of the reporting lab: ${[...byLab.entries()].map(([lab, cutoffs]) => `<span data-read-with="">${escapeHtml(lab)}: ${labText(cutoffs)}</span>`).join('; ')}.`;
 }
 
-function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
+/** The busy barns' sections, then the quiet barns together, appended to the page's parts. */
+function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial, into: string[]): void {
   const rendered = input.site.barns.map((barn) => barnSection(input, barn, assay));
-  const quiet = rendered.filter((section) => section.quiet).map((section) => section.html);
   const busy = rendered.filter((section) => !section.quiet);
   const quietIds = input.site.barns.filter((_, i) => rendered[i]!.quiet).map((barn) => barn.id);
+  for (const section of busy) for (const part of section.parts) into.push(part);
+  if (quietIds.length === 0) return;
   const legend = mapLegend(
     input.assays,
     [input.summaries[input.index]!],
@@ -87,11 +89,9 @@ function quietAndBusy(input: ClustersPageInput, assay: AssaySpatial): string {
   );
   // The legend a busy barn above already gave, with the same limits, is not printed twice.
   const shown = busy.some((section) => section.legendShades === legend.shades);
-  const quietBlock =
-    quiet.length > 0
-      ? `<section class="barn quiet-barns"><div class="minis">${quiet.join('')}</div>${shown ? '' : legend.html}</section>`
-      : '';
-  return busy.map((section) => section.html).join('') + quietBlock;
+  into.push('<section class="barn quiet-barns"><div class="minis">');
+  for (const section of rendered) if (section.quiet) for (const part of section.parts) into.push(part);
+  into.push(`</div>${shown ? '' : legend.html}</section>`);
 }
 
 /**
@@ -108,7 +108,8 @@ export function renderClustersPage(input: ClustersPageInput): string {
       alert.kind,
     ),
   );
-  const sections = spatial.assays.map((assay) => {
+  const body: string[] = [];
+  for (const assay of spatial.assays) {
     const config = input.assays.get(assay.assayId);
     const name = config?.name ?? assay.assayId;
     const site = assay.report.joinCount;
@@ -124,18 +125,18 @@ export function renderClustersPage(input: ClustersPageInput): string {
     const siteLine = site
       ? `<p>Site join count (barns as separate blocks, positives permuted within barns): BB = ${site.bb}, ${num(site.expectedBB)} expected, ${escapeHtml(formatJoinCountP(site.inference.method, site.pPermutation))}. Spread across the site: ${escapeHtml(assay.report.spread.explanation)}.</p>`
       : '';
-    return (
+    body.push(
       `<h2 data-assay-section="${escapeHtml(assay.assayId)}">${escapeHtml(name)}</h2>` +
-      meaning +
-      // What to do only: the statistics table below holds each number with its p-value.
-      (alerts.length > 0
-        ? `<div class="alerts"><ul>${alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong></li>`).join('')}</ul></div>`
-        : '') +
-      siteLine +
-      sequencingBlock(summary, assay.assayId) +
-      quietAndBusy(input, assay)
+        meaning +
+        // What to do only: the statistics table below holds each number with its p-value.
+        (alerts.length > 0
+          ? `<div class="alerts"><ul>${alerts.map((alert) => `<li data-alert="${escapeHtml(alert.kind)}"><strong class="action">${escapeHtml(alert.action)}</strong></li>`).join('')}</ul></div>`
+          : '') +
+        siteLine +
+        sequencingBlock(summary, assay.assayId),
     );
-  });
+    quietAndBusy(input, assay, body);
+  }
   return renderPage({
     title: `${summary.site.name}, round ${summary.round.number}: cluster review`,
     heading: `${summary.site.name}: cluster review, round ${summary.round.number}`,
@@ -146,7 +147,7 @@ export function renderClustersPage(input: ClustersPageInput): string {
       { href: 'summary.html', label: 'Round summary' },
       { href: '../next-round.html', label: 'Next round rope sheet' },
     ],
-    body: sections.join(''),
+    body,
     herdStatus: input.herdStatus,
   });
 }

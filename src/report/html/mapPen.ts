@@ -63,22 +63,23 @@ interface PenBox {
   status: PenStatus;
 }
 
-/** Fill and ink of a pen: white when not roped, hatched when empty or out of use, the ramp step of its load or S/P. */
-function penFill(pen: PenBox, result: PenMark | undefined, prefix: string): { fill: string; ink: string } {
-  let fill = '#ffffff';
-  let ink: string = COLOURS.ink;
-  if (pen.status === 'empty') fill = `url(#${prefix}-empty)`;
-  else if (pen.status === 'out-of-use') fill = `url(#${prefix}-out)`;
+/**
+ * Fill and ink of a pen: white when not roped, hatched when empty or out of use, the ramp step of
+ * its load or S/P. A hatched fill names the map's own pattern: `pattern` then says which, and
+ * `fill` is what follows the map's id prefix in url(#…).
+ */
+function penFill(pen: PenBox, result: PenMark | undefined): { fill: string; ink: string; pattern: boolean } {
   if (result && result.resultClass !== 'missing') {
     const step = LOAD_RAMP[result.shade ?? loadStep(result.load)];
     if (step === undefined)
       throw new RangeError(
         `\`shade\` of pen ${pen.id} must be an integer in [0, ${LOAD_RAMP.length - 1}], got ${result.shade}`,
       );
-    fill = step.fill;
-    ink = step.ink;
+    return { fill: step.fill, ink: step.ink, pattern: false };
   }
-  return { fill, ink };
+  if (pen.status === 'empty') return { fill: '-empty)', ink: COLOURS.ink, pattern: true };
+  if (pen.status === 'out-of-use') return { fill: '-out)', ink: COLOURS.ink, pattern: true };
+  return { fill: '#ffffff', ink: COLOURS.ink, pattern: false };
 }
 
 /** The pen's tooltip: id, status, result and load, the mark's note, the planned rope (the non-empty ones, comma-separated). */
@@ -152,7 +153,22 @@ export function renderPen(
   planned: PlannedMark | undefined,
   view: { full: boolean; prefix: string; fontSize: number },
 ): string {
-  const { fill, ink } = penFill(pen, result, view.prefix);
+  return penPieces(pen, result, planned, view).join(view.prefix);
+}
+
+/**
+ * The pen renderPen draws, as the text before and after the map's id prefix: one piece, or two
+ * when the pen is hatched (its fill names the map's pattern). Joined with a prefix they are the
+ * pen renderPen draws with that prefix.
+ * @throws RangeError for a shade outside the ramp
+ */
+export function penPieces(
+  pen: PenBox,
+  result: PenMark | undefined,
+  planned: PlannedMark | undefined,
+  view: { full: boolean; fontSize: number },
+): string[] {
+  const { fill, ink, pattern } = penFill(pen, result);
   const positive = result?.resultClass === 'positive';
   const stroke = positive ? COLOURS.positiveStroke : result ? '#4b5563' : COLOURS.penStroke;
   const strokeWidth = positive ? (view.full ? 3.2 : 2) : result ? 1.2 : 0.8;
@@ -161,10 +177,12 @@ export function renderPen(
   if (result) data += ` data-result="${result.resultClass}"`;
   if (positive) data += ' data-positive=""';
   if (planned) data += ` data-planned="${planned.reason}"`;
-  return (
+  const head =
     `<g class="pen" ${data}><title>${escapeHtml(penTip(pen, result, planned))}</title>` +
-    `<rect x="${fmt(pen.x + inset)}" y="${fmt(pen.y + inset)}" width="${fmt(pen.width - 2 * inset)}" height="${fmt(pen.height - 2 * inset)}" fill="${fill}" stroke="${stroke}" stroke-width="${fmt(strokeWidth)}"${result?.resultClass === 'missing' ? ' stroke-dasharray="3 2"' : ''}/>` +
+    `<rect x="${fmt(pen.x + inset)}" y="${fmt(pen.y + inset)}" width="${fmt(pen.width - 2 * inset)}" height="${fmt(pen.height - 2 * inset)}" fill="`;
+  const tail =
+    `${fill}" stroke="${stroke}" stroke-width="${fmt(strokeWidth)}"${result?.resultClass === 'missing' ? ' stroke-dasharray="3 2"' : ''}/>` +
     (view.full ? penLabels(pen, result, planned, ink, view.fontSize).join('') : '') +
-    '</g>'
-  );
+    '</g>';
+  return pattern ? [`${head}url(#`, tail] : [head + tail];
 }

@@ -18,8 +18,8 @@ export interface PageInput {
   notices: readonly string[];
   /** Links at the top: href relative to the page, plain-text label. */
   nav?: readonly { href: string; label: string }[];
-  /** The page's body (already escaped HTML). */
-  body: string;
+  /** The page's body (already escaped HTML), whole or as its parts in order (joined once, with the page). */
+  body: string | readonly string[];
   /** Larger type, for the producer's rope sheet. */
   large?: boolean;
   /** The cautions right after the notices instead of at the end (the rope sheet: printed, they share the first page instead of trailing alone onto a last one). */
@@ -135,18 +135,25 @@ export function noticesBlock(notices: readonly string[]): string {
     .join('');
 }
 
-/** A whole HTML document: shell, CSS, notices first, the body, the cautions last. */
+/**
+ * A whole HTML document: shell, CSS, notices first, the body, the cautions last. The page is
+ * joined once from its parts, so a body given as parts is copied once, into the page.
+ */
 export function renderPage(input: PageInput): string {
   const nav =
     input.nav && input.nav.length > 0
       ? `<nav>${input.nav.map((link) => `<a href="${escapeHtml(link.href)}">${escapeHtml(link.label)}</a>`).join('')}</nav>`
       : '';
-  return (
+  const parts = [
     `<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n<meta name="viewport" content="width=device-width, initial-scale=1">\n` +
-    `<title>${escapeHtml(input.title)}</title>\n<style>${CSS}</style>\n</head>\n<body${input.large ? ' class="large"' : ''}>\n` +
-    `${nav}<header><h1>${escapeHtml(input.heading)}</h1>${input.subheading ? `<p class="sub">${input.subheading}</p>` : ''}</header>\n` +
-    `${input.herdStatus ?? ''}${noticesBlock(input.notices)}\n${input.cautionsFirst ? `${cautionsBlock()}\n` : ''}<main>\n${input.body}\n</main>\n${input.cautionsFirst ? '' : `${cautionsBlock()}\n`}</body>\n</html>\n`
-  );
+      `<title>${escapeHtml(input.title)}</title>\n<style>${CSS}</style>\n</head>\n<body${input.large ? ' class="large"' : ''}>\n` +
+      `${nav}<header><h1>${escapeHtml(input.heading)}</h1>${input.subheading ? `<p class="sub">${input.subheading}</p>` : ''}</header>\n` +
+      `${input.herdStatus ?? ''}${noticesBlock(input.notices)}\n${input.cautionsFirst ? `${cautionsBlock()}\n` : ''}<main>\n`,
+  ];
+  if (typeof input.body === 'string') parts.push(input.body);
+  else for (const part of input.body) parts.push(part);
+  parts.push(`\n</main>\n${input.cautionsFirst ? '' : `${cautionsBlock()}\n`}</body>\n</html>\n`);
+  return parts.join('');
 }
 
 function swatch(fill: string, stroke: string, strokeWidth: number, symbol = '', ink: string = COLOURS.ink): string {
