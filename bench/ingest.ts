@@ -10,7 +10,9 @@
  * every site.
  *
  * Generation happens before any timing. Every run is a child process of its own, so that its
- * peak RSS (VmHWM, proc(5)) belongs to it alone. The 1M-row comparison is repeated REPEATS times,
+ * peak RSS (VmHWM, proc(5)) belongs to it alone, and it runs the compiled program (dist/, as
+ * installed; `npm run bench` builds it): from the TypeScript sources the parse worker would
+ * compile its modules through tsx on its own thread, inside the timing, work the program never does. The 1M-row comparison is repeated REPEATS times,
  * floor and ingest alternating, and the median of the per-pair ratios is reported with their
  * range (on a shared machine one pair can be off by a third). Peak memory is compared at 1M and
  * 2M rows: streaming keeps it flat. Every part prints its checksum (rows stored).
@@ -21,14 +23,15 @@ import { spawnSync } from 'node:child_process';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import Database from 'better-sqlite3';
 import { parse } from 'csv-parse';
 import { addDays, format } from 'date-fns';
-import { ingestFile } from '../src/ingest/ingestFile.js';
-import { processFile } from '../src/pipeline.js';
+import type { ingestFile } from '../src/ingest/ingestFile.js';
+import type { processFile } from '../src/pipeline.js';
 import { openWorkspace, type Workspace, type WorkspacePaths } from '../src/workspace.js';
 import type { StoreLocation } from '../src/workspacePaths.js';
+import { compiledBin } from '../test/helpers/compiledCli.js';
 import { NORTHFIELD_HEADER, northfieldLine, patternSampleId, writeManySiteConfig } from '../test/helpers/hardening.js';
 import type { PairedRatio, Timing } from './pairs.js';
 import type { BenchRow } from './types.js';
@@ -146,12 +149,42 @@ export function benchPaths(dir: string, storeLocation: StoreLocation): Workspace
   };
 }
 
-/** Opens the workspace with the bench's fixed clock, `file` copied into its inbox (its path there is `target`). */
-export function benchWorkspace(paths: WorkspacePaths, file: string): { ws: Workspace; target: string } {
+/** The compiled program's entry points that a timed child calls. */
+export interface CompiledIngest {
+  ingestFile: typeof ingestFile;
+  processFile: typeof processFile;
+  openWorkspace: typeof openWorkspace;
+}
+
+/**
+ * The ingest entry points from dist/ (as installed), not the sources: a child started with tsx
+ * would otherwise load them, and the parse worker they start, through the TypeScript loader.
+ * @throws when dist/ is missing or older than src/ (compiledBin).
+ */
+export async function compiledIngest(): Promise<CompiledIngest> {
+  compiledBin();
+  const load = (module: string) => import(pathToFileURL(path.join(REPO, 'dist', module)).href);
+  const [ingest, pipeline, workspace] = await Promise.all([
+    load('ingest/ingestFile.js'),
+    load('pipeline.js'),
+    load('workspace.js'),
+  ]);
+  return { ingestFile: ingest.ingestFile, processFile: pipeline.processFile, openWorkspace: workspace.openWorkspace };
+}
+
+/**
+ * Opens the workspace with the bench's fixed clock (through `open`: the compiled program's in a
+ * timed child), `file` copied into its inbox (its path there is `target`).
+ */
+export function benchWorkspace(
+  paths: WorkspacePaths,
+  file: string,
+  open: typeof openWorkspace = openWorkspace,
+): { ws: Workspace; target: string } {
   fs.mkdirSync(paths.inbox, { recursive: true });
   const target = path.join(paths.inbox, path.basename(file));
   fs.copyFileSync(file, target);
-  const ws = openWorkspace(
+  const ws = open(
     paths,
     () => new Date('2026-12-01T12:00:00Z'),
     () => {},
@@ -174,16 +207,17 @@ async function runChild(mode: ChildMode, file: string, dir: string, rows: number
     );
     return;
   }
+  const program = await compiledIngest();
   const paths = benchPaths(dir, { kind: 'sqlite', file: path.join(dir, 'store.db') });
-  const { ws, target } = benchWorkspace(paths, file);
+  const { ws, target } = benchWorkspace(paths, file, program.openWorkspace);
   const {
     result: receipt,
     ms,
     cpuMs,
   } = await timed(async () =>
     mode === 'pipeline'
-      ? (await processFile(ws, target)).receipt
-      : await ingestFile(target, { config: ws.config, store: ws.store, now: ws.now }),
+      ? (await program.processFile(ws, target)).receipt
+      : await program.ingestFile(target, { config: ws.config, store: ws.store, now: ws.now }),
   );
   const siteRounds =
     mode === 'pipeline'

@@ -26,7 +26,7 @@ import pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import { writeManySiteConfig } from '../test/helpers/hardening.js';
 import { startTestServer, withAdmin, withDatabase } from '../test/helpers/pgServerStart.js';
-import { benchPaths, benchWorkspace, SHAPE, writeBigExport } from './ingest.js';
+import { benchPaths, benchWorkspace, compiledIngest, SHAPE, writeBigExport } from './ingest.js';
 import { spread } from './pairs.js';
 import type { BenchRow } from './types.js';
 import { parseStoreLocation } from '../src/store/location.js';
@@ -75,8 +75,8 @@ async function copyFloor(file: string, url: string): Promise<Omit<ChildReport, '
 
 /** The ingest code into the store at `location` (a PostgreSQL URL or a SQLite file), outputs left out. */
 async function ingestInto(file: string, dir: string, location: string): Promise<Omit<ChildReport, 'mode'>> {
-  const { ingestFile } = await import('../src/ingest/ingestFile.js');
-  const { ws, target } = benchWorkspace(benchPaths(dir, parseStoreLocation(location)), file);
+  const { ingestFile, openWorkspace } = await compiledIngest();
+  const { ws, target } = benchWorkspace(benchPaths(dir, parseStoreLocation(location)), file, openWorkspace);
   try {
     const cpu0 = process.cpuUsage();
     const started = performance.now();
