@@ -4,6 +4,7 @@
  * placements are few enough to enumerate.
  */
 import { fillUniform, type Rng } from '../util/random.js';
+import { keptOfFrozen, keptOfFrozenBy } from '../util/keptOfFrozen.js';
 import { logChoose } from './combinatorics.js';
 import { subWeights, weightConstants, type SpatialWeights } from './weights.js';
 
@@ -70,13 +71,7 @@ export interface JoinGraph {
  * not walked again.
  */
 export function joinGraph(w: SpatialWeights): JoinGraph {
-  if (!Object.isFrozen(w)) return buildJoinGraph(w);
-  let graph = graphOfFrozen.get(w);
-  if (graph === undefined) {
-    graph = Object.freeze(buildJoinGraph(w));
-    graphOfFrozen.set(w, graph);
-  }
-  return graph;
+  return keptOfFrozen(graphOfFrozen, w, () => Object.freeze(buildJoinGraph(w)));
 }
 
 const graphOfFrozen = new WeakMap<SpatialWeights, JoinGraph>();
@@ -240,19 +235,7 @@ type StrataBlocks = readonly { stratum: number; weights: SpatialWeights }[];
  * weights while they live, by strata: the weights and strata of the same pens come again.
  */
 function strataBlocks(w: SpatialWeights, strata: readonly number[]): StrataBlocks | null {
-  if (!Object.isFrozen(w)) return buildStrataBlocks(w, strata);
-  let byStrata = blocksOfFrozen.get(w);
-  if (byStrata === undefined) {
-    byStrata = new Map();
-    blocksOfFrozen.set(w, byStrata);
-  }
-  const key = strata.join(',');
-  let blocks = byStrata.get(key);
-  if (blocks === undefined) {
-    blocks = buildStrataBlocks(w, strata);
-    byStrata.set(key, blocks);
-  }
-  return blocks;
+  return keptOfFrozenBy(blocksOfFrozen, w, strata.join(','), () => buildStrataBlocks(w, strata));
 }
 
 const blocksOfFrozen = new WeakMap<SpatialWeights, Map<string, StrataBlocks | null>>();
@@ -278,13 +261,9 @@ type StrataGroups = readonly (readonly number[])[];
 function groupStrata(n: number, strata: readonly number[] | undefined): StrataGroups {
   if (!strata) return [Array.from({ length: n }, (_, i) => i)];
   if (strata.length !== n) throw new RangeError(`\`strata\` must have one entry per pen (${n}), got ${strata.length}`);
-  if (!Object.isFrozen(strata)) return groupByStratum(strata);
-  let groups = groupsOfFrozen.get(strata);
-  if (groups === undefined) {
-    groups = Object.freeze(groupByStratum(strata).map((pens) => Object.freeze(pens)));
-    groupsOfFrozen.set(strata, groups);
-  }
-  return groups;
+  return keptOfFrozen(groupsOfFrozen, strata, () =>
+    Object.freeze(groupByStratum(strata).map((pens) => Object.freeze(pens))),
+  );
 }
 
 const groupsOfFrozen = new WeakMap<readonly number[], StrataGroups>();

@@ -3,6 +3,7 @@
  * whose share of positive ropes is most unlike the rest of the barn.
  */
 import { fillUniform, type Rng } from '../util/random.js';
+import { keptOfFrozenBy } from '../util/keptOfFrozen.js';
 import { logChoose } from './combinatorics.js';
 import type { SpatialPoint } from './weights.js';
 
@@ -91,19 +92,9 @@ export function scanWindows(points: readonly SpatialPoint[], maxPens: number, ma
 const windowsOfFrozen = new WeakMap<readonly SpatialPoint[], Map<string, ScanWindows>>();
 
 function windowsFor(points: readonly SpatialPoint[], maxPens: number, maxRadius: number): ScanWindows {
-  if (!Object.isFrozen(points)) return scanWindows(points, maxPens, maxRadius);
-  let byLimits = windowsOfFrozen.get(points);
-  if (byLimits === undefined) {
-    byLimits = new Map();
-    windowsOfFrozen.set(points, byLimits);
-  }
-  const key = `${maxPens} ${maxRadius}`;
-  let windows = byLimits.get(key);
-  if (windows === undefined) {
-    windows = scanWindows(points, maxPens, maxRadius);
-    byLimits.set(key, windows);
-  }
-  return windows;
+  return keptOfFrozenBy(windowsOfFrozen, points, `${maxPens} ${maxRadius}`, () =>
+    scanWindows(points, maxPens, maxRadius),
+  );
 }
 
 /** Table of k ln k for k = 0..n (0 ln 0 = 0), so each window LLR is four lookups. */

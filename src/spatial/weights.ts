@@ -5,6 +5,7 @@
  * loops (permutations, scan, spread) walk typed arrays instead of dense n x n matrices.
  */
 import { expandLayout, penContacts, type BarnLayout } from '../domain/layout.js';
+import { keptOfFrozen } from '../util/keptOfFrozen.js';
 
 /** A point in pen units (barn or site coordinates). */
 export interface SpatialPoint {
@@ -335,13 +336,7 @@ export function ropeSpacing(points: readonly SpatialPoint[]): number {
  * @see Cliff A.D., Ord J.K. (1981) Spatial Processes: Models and Applications, ch. 1-2.
  */
 export function weightConstants(w: SpatialWeights): WeightConstants {
-  if (!Object.isFrozen(w)) return computeWeightConstants(w);
-  let constants = constantsOfFrozen.get(w);
-  if (constants === undefined) {
-    constants = Object.freeze(computeWeightConstants(w));
-    constantsOfFrozen.set(w, constants);
-  }
-  return constants;
+  return keptOfFrozen(constantsOfFrozen, w, () => Object.freeze(computeWeightConstants(w)));
 }
 
 /**

@@ -62,6 +62,20 @@ function version6Store(file: string): void {
   db.close();
 }
 
+/** A rope of round 1 in barn F1 of the test site. */
+function ropeRound(sampleId: string, penId: string, poolId: string | null = null) {
+  return {
+    sampleId,
+    round: 1,
+    roundId: 'r01-2026-08-03',
+    roundStart: '2026-08-03',
+    groupId: null,
+    barnId: 'F1',
+    penId,
+    poolId,
+  };
+}
+
 describe('the tidy views of the store', () => {
   it('migrate a version-6 store and join results to pens and rounds, one row per result and pen', () => {
     const ws = workspace();
@@ -71,18 +85,8 @@ describe('the tidy views of the store', () => {
     expect(db.pragma('foreign_key_check')).toEqual([]);
     // Before any outputs were built, no rope has a round: the view is empty, not wrong.
     expect(viewRows(db, 'results', 'hollow-creek')).toEqual([]);
-    const rope = (sampleId: string, penId: string, poolId: string | null) => ({
-      sampleId,
-      round: 1,
-      roundId: 'r01-2026-08-03',
-      roundStart: '2026-08-03',
-      groupId: null,
-      barnId: 'F1',
-      penId,
-      poolId,
-    });
     replaceSiteFacts(db, 'hollow-creek', {
-      ropeRounds: [rope('P1', 'A1', 'POOL'), rope('P2', 'A2', 'POOL'), rope('S3', 'A3', null)],
+      ropeRounds: [ropeRound('P1', 'A1', 'POOL'), ropeRound('P2', 'A2', 'POOL'), ropeRound('S3', 'A3')],
       rounds: [],
       alerts: [],
     });
@@ -99,7 +103,7 @@ describe('the tidy views of the store', () => {
     ]);
     expect(rows.every((row) => row.round === 1 && row.date === '2026-08-03' && row.lab === 'northfield')).toBe(true);
     // A later build replaces the site's facts: no row twice.
-    replaceSiteFacts(db, 'hollow-creek', { ropeRounds: [rope('S3', 'A3', null)], rounds: [], alerts: [] });
+    replaceSiteFacts(db, 'hollow-creek', { ropeRounds: [ropeRound('S3', 'A3')], rounds: [], alerts: [] });
     expect(viewRows(db, 'results', 'hollow-creek')).toHaveLength(2);
     expect(viewRows(db, 'results', 'hollow-creek', { from: '2026-08-04' })).toHaveLength(0);
     expect(viewRows(db, 'results', 'hollow-creek', { to: '2026-08-03' })).toHaveLength(2);
@@ -109,16 +113,8 @@ describe('the tidy views of the store', () => {
     const ws = workspace();
     version6Store(ws.paths.dbFile);
     const { db } = sqliteStore(ws.ws().store);
-    const rope = (index: number, penId: string) => ({
-      sampleId: `S${String(index).padStart(3, '0')}`,
-      round: 1,
-      roundId: 'r01-2026-08-03',
-      roundStart: '2026-08-03',
-      groupId: null,
-      barnId: 'F1',
-      penId,
-      poolId: null,
-    });
+    const sampleOf = (index: number) => `S${String(index).padStart(3, '0')}`;
+    const rope = (index: number, penId: string) => ropeRound(sampleOf(index), penId);
     const ropeRounds = Array.from({ length: 120 }, (_, index) => rope(index, `P${index}`));
     // 123 rows: two statements of fifty, then 23 rows one by one; repeats in each part.
     ropeRounds.splice(30, 0, rope(10, 'ELSEWHERE'));
@@ -130,7 +126,7 @@ describe('the tidy views of the store', () => {
       .prepare('SELECT sample_id, pen_id FROM analysis_rope_rounds WHERE site_id = ? ORDER BY sample_id')
       .all('hollow-creek') as { sample_id: string; pen_id: string }[];
     expect(stored).toEqual(
-      Array.from({ length: 120 }, (_, index) => ({ sample_id: rope(index, '').sampleId, pen_id: `P${index}` })),
+      Array.from({ length: 120 }, (_, index) => ({ sample_id: sampleOf(index), pen_id: `P${index}` })),
     );
   });
 
