@@ -9,7 +9,6 @@
  * A cache lives as long as its owner keeps it (one site's build): nothing is kept beyond it.
  */
 import { expandLayout, type BarnLayout, type Pen } from '../domain/layout.js';
-import type { WeightChoice } from './roundReviewTypes.js';
 import {
   contactWeights,
   defaultWeights,
@@ -20,6 +19,7 @@ import {
   weightsFromEdges,
   type SpatialPoint,
   type SpatialWeights,
+  type WeightChoice,
   type WeightStyle,
 } from './weights.js';
 

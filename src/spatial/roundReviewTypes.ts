@@ -10,7 +10,7 @@ import type { MoranResult } from './moran.js';
 import type { ScanResult } from './scan.js';
 import type { SpreadSummary } from './spread.js';
 import type { PlacementComparison } from './spreadDetection.js';
-import type { BarnConvention, WeightStyle } from './weights.js';
+import type { WeightChoice, WeightStyle } from './weights.js';
 
 /** One roped pen of the round, as interpreted. */
 export interface RoundPen {
@@ -25,12 +25,7 @@ export interface RoundPen {
   load: number;
 }
 
-export type WeightChoice =
-  | { kind: 'default' }
-  | { kind: 'contact'; convention: BarnConvention }
-  | { kind: 'knn'; k: number }
-  | { kind: 'band'; band: number; power?: number }
-  | { kind: 'lists'; neighbours: Record<string, string[]> };
+export type { WeightChoice } from './weights.js';
 
 export interface SpatialOptions {
   /** Seed for every Monte Carlo part; written into the report. */

@@ -17,6 +17,14 @@ export interface SpatialPoint {
 export type WeightStyle = 'binary' | 'row';
 export type BarnConvention = 'fence' | 'rook' | 'queen';
 
+/** How the weights among a round's sampled pens are made (see defaultWeights for 'default'). */
+export type WeightChoice =
+  | { kind: 'default' }
+  | { kind: 'contact'; convention: BarnConvention }
+  | { kind: 'knn'; k: number }
+  | { kind: 'band'; band: number; power?: number }
+  | { kind: 'lists'; neighbours: Record<string, string[]> };
+
 /**
  * Sparse weights: the neighbours of pen i are `neighbours[offsets[i] .. offsets[i+1])` with
  * weights `weights[...]` at the same positions. No self-weights (w_ii = 0).
