@@ -6,7 +6,7 @@ import type { Assay, LabAssay, LabProfile, Site } from '../config/types.js';
 import { foldToken } from '../util/fold.js';
 import { rowRejection, type RowRejection, type RowRejectionOptions } from './errors.js';
 import { labWords, type LabWords } from './labWords.js';
-import { cellAt, contentKey, dateAt, normaliseSampleId, type PlannedIdCheck } from './recordCells.js';
+import { cellAt, contentKey, normaliseSampleId, parseDateCell, type PlannedIdCheck } from './recordCells.js';
 import {
   ctMeaning,
   ctMeaningCache,
@@ -66,7 +66,7 @@ class DateColumn {
     const text = cellAt(cells, position);
     if (text === undefined || text === '') return null;
     if (text !== this.lastText) {
-      this.lastDate = dateAt(cells, position, dateFormat);
+      this.lastDate = parseDateCell(text, dateFormat);
       this.lastText = text;
     }
     return this.lastDate;

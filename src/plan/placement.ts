@@ -33,6 +33,7 @@ import type { BarnPlanNote } from './barnNotes.js';
 import type { Pen } from '../domain/layout.js';
 import { inUsePens, isInUse, penDistance } from '../domain/layout.js';
 import { requireInteger } from '../stats/validate.js';
+import { keptForBy } from '../util/kept.js';
 
 export interface PlacedRope {
   penId: string;
@@ -213,17 +214,7 @@ function nearestRopeDistances(
 const startPhases = new WeakMap<readonly Pen[], Map<number, number>>();
 
 function bestStartPhase(grid: Grid, ropes: number): number {
-  let byRopes = startPhases.get(grid.pens);
-  if (byRopes === undefined) {
-    byRopes = new Map();
-    startPhases.set(grid.pens, byRopes);
-  }
-  let phase = byRopes.get(ropes);
-  if (phase === undefined) {
-    phase = searchStartPhase(grid, ropes);
-    byRopes.set(ropes, phase);
-  }
-  return phase;
+  return keptForBy(startPhases, grid.pens, ropes, () => searchStartPhase(grid, ropes));
 }
 
 function searchStartPhase(grid: Grid, ropes: number): number {

@@ -4,7 +4,7 @@
  * placements are few enough to enumerate.
  */
 import { fillUniform, type Rng } from '../util/random.js';
-import { keptOfFrozen, keptOfFrozenBy } from '../util/keptOfFrozen.js';
+import { keptOfFrozen, keptOfFrozenBy } from '../util/kept.js';
 import { logChoose } from './combinatorics.js';
 import { subWeights, weightConstants, type SpatialWeights } from './weights.js';
 
@@ -243,12 +243,9 @@ const blocksOfFrozen = new WeakMap<SpatialWeights, Map<string, StrataBlocks | nu
 function buildStrataBlocks(w: SpatialWeights, strata: readonly number[]): StrataBlocks | null {
   for (let i = 0; i < w.ids.length; i++)
     for (let a = w.offsets[i]!; a < w.offsets[i + 1]!; a++) if (strata[w.neighbours[a]!] !== strata[i]) return null;
-  const members = new Map<number, number[]>();
-  strata.forEach((s, i) => {
-    if (!members.has(s)) members.set(s, []);
-    members.get(s)!.push(i);
-  });
-  return Object.freeze([...members].map(([stratum, pens]) => Object.freeze({ stratum, weights: subWeights(w, pens) })));
+  return Object.freeze(
+    [...pensByStratum(strata)].map(([stratum, pens]) => Object.freeze({ stratum, weights: subWeights(w, pens) })),
+  );
 }
 
 /** Pen indices by stratum, strata in first-seen order. */
@@ -262,19 +259,21 @@ function groupStrata(n: number, strata: readonly number[] | undefined): StrataGr
   if (!strata) return [Array.from({ length: n }, (_, i) => i)];
   if (strata.length !== n) throw new RangeError(`\`strata\` must have one entry per pen (${n}), got ${strata.length}`);
   return keptOfFrozen(groupsOfFrozen, strata, () =>
-    Object.freeze(groupByStratum(strata).map((pens) => Object.freeze(pens))),
+    Object.freeze([...pensByStratum(strata).values()].map((pens) => Object.freeze(pens))),
   );
 }
 
 const groupsOfFrozen = new WeakMap<readonly number[], StrataGroups>();
 
-function groupByStratum(strata: readonly number[]): number[][] {
+/** Pen indices by stratum, strata in first-seen order. */
+function pensByStratum(strata: readonly number[]): Map<number, number[]> {
   const groups = new Map<number, number[]>();
   strata.forEach((s, i) => {
-    if (!groups.has(s)) groups.set(s, []);
-    groups.get(s)!.push(i);
+    const group = groups.get(s);
+    if (group) group.push(i);
+    else groups.set(s, [i]);
   });
-  return [...groups.values()];
+  return groups;
 }
 
 /**

@@ -3,7 +3,7 @@
  * whose share of positive ropes is most unlike the rest of the barn.
  */
 import { fillUniform, type Rng } from '../util/random.js';
-import { keptOfFrozenBy } from '../util/keptOfFrozen.js';
+import { keptOfFrozenBy } from '../util/kept.js';
 import { logChoose } from './combinatorics.js';
 import type { SpatialPoint } from './weights.js';
 

@@ -5,7 +5,7 @@
  * loops (permutations, scan, spread) walk typed arrays instead of dense n x n matrices.
  */
 import { expandLayout, penContacts, type BarnLayout } from '../domain/layout.js';
-import { keptOfFrozen } from '../util/keptOfFrozen.js';
+import { keptOfFrozen } from '../util/kept.js';
 
 /** A point in pen units (barn or site coordinates). */
 export interface SpatialPoint {

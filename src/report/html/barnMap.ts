@@ -7,6 +7,7 @@
 import { expandLayout, isInUse, type BarnLayout, type PenStatus } from '../../domain/layout.js';
 import { COLOURS } from './palette.js';
 import { fmt, penPieces } from './mapPen.js';
+import { keptFor } from '../../util/kept.js';
 import { escapeHtml, safeId } from './escape.js';
 import type { PenMark, PlannedMark } from './mapPen.js';
 
@@ -319,12 +320,7 @@ export function pushMapPieces(into: string[], pieces: readonly string[], prefix:
 const UNMARKED = new WeakMap<PenRect, string>();
 
 function unmarkedPen(pen: PenRect, full: boolean, fontSize: number): string {
-  let svg = UNMARKED.get(pen);
-  if (svg === undefined) {
-    svg = penPieces(pen, undefined, undefined, { full, fontSize })[0]!;
-    UNMARKED.set(pen, svg);
-  }
-  return svg;
+  return keptFor(UNMARKED, pen, () => penPieces(pen, undefined, undefined, { full, fontSize })[0]!);
 }
 
 /**
@@ -412,13 +408,11 @@ export function barnMapPieces(
 const BANDS = new WeakMap<BarnGeometry, string>();
 
 function bandsOf(geometry: BarnGeometry): string {
-  let svg = BANDS.get(geometry);
-  if (svg === undefined) {
-    svg = '';
+  return keptFor(BANDS, geometry, () => {
+    let svg = '';
     for (const band of geometry.bands) {
       svg += `<rect class="${band.kind}" data-${band.kind}="" x="${fmt(band.x)}" y="${fmt(band.y)}" width="${fmt(band.width)}" height="${fmt(band.height)}" fill="${COLOURS.alley}"/>`;
     }
-    BANDS.set(geometry, svg);
-  }
-  return svg;
+    return svg;
+  });
 }

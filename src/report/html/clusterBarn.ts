@@ -12,6 +12,7 @@ import { barnMapPieces, pushMapPieces } from './barnMap.js';
 import { groupText } from '../groupText.js';
 import { renderCtTrend, renderSpTrend, spTrendLegend, trendLegend, type TrendCutoff } from './charts.js';
 import { statsTable } from './clusterStats.js';
+import { keptFor } from '../../util/kept.js';
 import { escapeHtml, safeId } from './escape.js';
 import { mapLegend, resultMarks } from './mapMarks.js';
 import { num } from './page.js';
@@ -102,11 +103,7 @@ function earlierFigure(
   assayId: string,
   report: BarnSpatialReport | undefined,
 ): readonly string[] {
-  let ofRound = EARLIER_FIGURES.get(previous);
-  if (!ofRound) {
-    ofRound = new Map();
-    EARLIER_FIGURES.set(previous, ofRound);
-  }
+  const ofRound = keptFor(EARLIER_FIGURES, previous, () => new Map());
   const key = JSON.stringify([barn.id, assayId]);
   const known = ofRound.get(key);
   if (known && known.barn === barn && known.report === report) return known.pieces;

@@ -144,22 +144,9 @@ function penLabels(
 
 /**
  * One pen as an SVG group: data attributes, tooltip, the filled rectangle (a heavy outline when
- * positive, dashed when its rope has no result) and, on the full map, its labels.
- * @throws RangeError for a shade outside the ramp
- */
-export function renderPen(
-  pen: PenBox,
-  result: PenMark | undefined,
-  planned: PlannedMark | undefined,
-  view: { full: boolean; prefix: string; fontSize: number },
-): string {
-  return penPieces(pen, result, planned, view).join(view.prefix);
-}
-
-/**
- * The pen renderPen draws, as the text before and after the map's id prefix: one piece, or two
- * when the pen is hatched (its fill names the map's pattern). Joined with a prefix they are the
- * pen renderPen draws with that prefix.
+ * positive, dashed when its rope has no result) and, on the full map, its labels; as the text
+ * before and after the map's id prefix: one piece, or two when the pen is hatched (its fill
+ * names the map's pattern). Joined with the map's prefix they are the pen as the map draws it.
  * @throws RangeError for a shade outside the ramp
  */
 export function penPieces(

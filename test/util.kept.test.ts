@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { keptOfFrozen, keptOfFrozenBy } from '../src/util/keptOfFrozen.js';
+import { keptFor, keptForBy, keptOfFrozen, keptOfFrozenBy } from '../src/util/kept.js';
 
 describe('values derived from frozen objects', () => {
   it('makes the value of a frozen object once and hands the same value back', () => {
@@ -36,5 +36,19 @@ describe('values derived from frozen objects', () => {
     expect(keptOfFrozenBy(kept, of, 'b', make('other'))).toBe('b');
     expect(made).toBe(2);
     expect(keptOfFrozenBy(kept, { open: true }, 'a', make('fresh'))).toBe('fresh');
+  });
+
+  it('keeps the value of any object when the caller vouches it does not change, per key where asked', () => {
+    const kept = new WeakMap<object, number>();
+    const of = { pens: 1 };
+    expect(keptFor(kept, of, () => of.pens)).toBe(1);
+    of.pens = 2;
+    // Kept: keptFor does not look at the object again.
+    expect(keptFor(kept, of, () => of.pens)).toBe(1);
+    const byRopes = new WeakMap<object, Map<number, number>>();
+    let made = 0;
+    expect(keptForBy(byRopes, of, 12, () => ++made)).toBe(1);
+    expect(keptForBy(byRopes, of, 12, () => ++made)).toBe(1);
+    expect(keptForBy(byRopes, of, 13, () => ++made)).toBe(2);
   });
 });
