@@ -42,23 +42,45 @@ function ropeOfCells(cells: RopeCells): StoredRope {
   };
 }
 
-/** A row of `currentResults` as the columns come (the reason as its id; call_differs is 0 or 1). */
+/**
+ * A row of `currentResults` as the columns come: id, file, lab, sample ID, assay, Ct, S/P, the
+ * result as written, case number, collected, reported, and the reason and reading as their ids.
+ */
 type ResultCells = [
   number,
   number,
   string,
   string,
   string,
-  StoredResult['measure'],
   number | null,
   number | null,
   string,
   string | null,
   string | null,
   string | null,
+  number,
+  number,
+];
+
+/** What a result takes from its reading (readings.ts); the Ct cutoffs null for an S/P reading. */
+type ReadingFields = Pick<
+  StoredResult,
+  | 'measure'
+  | 'labCall'
+  | 'resultClass'
+  | 'loadBand'
+  | 'positiveBelow'
+  | 'suspectBelow'
+  | 'cycleLimit'
+  | 'positiveAtOrAbove'
+  | 'suspectAtOrAbove'
+  | 'callDiffers'
+>;
+
+type ReadingCells = [
+  StoredResult['measure'],
   string | null,
   ResultClass,
-  number,
   string | null,
   number | null,
   number | null,
@@ -69,30 +91,35 @@ type ResultCells = [
 ];
 
 /** The stored result in the column order (the order the analysis and its tests have always seen). */
-function resultOfCells(cells: ResultCells, reasonText: (id: number) => string): StoredResult {
+function resultOfCells(
+  cells: ResultCells,
+  reasonText: (id: number) => string,
+  readingOf: (id: number) => ReadingFields,
+): StoredResult {
+  const reading = readingOf(cells[12]);
   return {
     id: cells[0],
     fileId: cells[1],
     labId: cells[2],
     sampleId: cells[3],
     assayId: cells[4],
-    measure: cells[5],
-    ct: cells[6],
-    sp: cells[7],
-    ctRaw: cells[8],
-    labCall: cells[9],
-    accession: cells[10],
-    collectedOn: cells[11],
-    reportedOn: cells[12],
-    resultClass: cells[13],
-    reason: reasonText(cells[14]),
-    loadBand: cells[15],
-    positiveBelow: cells[16],
-    suspectBelow: cells[17],
-    cycleLimit: cells[18],
-    positiveAtOrAbove: cells[19],
-    suspectAtOrAbove: cells[20],
-    callDiffers: Boolean(cells[21]),
+    measure: reading.measure,
+    ct: cells[5],
+    sp: cells[6],
+    ctRaw: cells[7],
+    labCall: reading.labCall,
+    accession: cells[8],
+    collectedOn: cells[9],
+    reportedOn: cells[10],
+    resultClass: reading.resultClass,
+    reason: reasonText(cells[11]),
+    loadBand: reading.loadBand,
+    positiveBelow: reading.positiveBelow,
+    suspectBelow: reading.suspectBelow,
+    cycleLimit: reading.cycleLimit,
+    positiveAtOrAbove: reading.positiveAtOrAbove,
+    suspectAtOrAbove: reading.suspectAtOrAbove,
+    callDiffers: reading.callDiffers,
   };
 }
 
@@ -242,24 +269,56 @@ export class SqliteReader implements StoreReader {
   /** Current results under the extra condition `where` (on r and s), in id order. */
   private resultRows(where: string, params: Record<string, string>): StoredResult[] {
     // The hottest read of a rebuild (every result of the site's history): rows as arrays, made
-    // into objects of one shape by `resultOfCells` (see `ropes`); a reason's text is read once per
-    // reason, not once per row.
+    // into objects of one shape by `resultOfCells` (see `ropes`); a reason's text and a reading's
+    // fields are read once per reason and reading, not once per row.
     const reasonText = this.reasonTexts();
+    const readingOf = this.readingFields();
     return (
       this.db
         .prepare(
-          `SELECT r.id, r.file_id, r.lab_id, s.sample_id, r.assay_id, r.measure, r.ct, r.sp, r.ct_raw, r.lab_call,
-                  r.accession, r.collected_on, r.reported_on, r.class, r.reason, r.load_band,
-                  CASE WHEN r.measure = 'ct' THEN r.positive_below END, CASE WHEN r.measure = 'ct' THEN r.suspect_below END,
-                  CASE WHEN r.measure = 'ct' THEN r.cycle_limit END, r.positive_at_or_above, r.suspect_at_or_above,
-                  r.call_differs
+          `SELECT r.id, r.file_id, r.lab_id, s.sample_id, r.assay_id, r.ct, r.sp, r.ct_raw,
+                  r.accession, r.collected_on, r.reported_on, r.reason, r.reading
            FROM results r JOIN samples s ON s.id = r.sample
            WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${where}
            ORDER BY r.id`,
         )
         .raw(true)
         .all(params) as ResultCells[]
-    ).map((cells) => resultOfCells(cells, reasonText));
+    ).map((cells) => resultOfCells(cells, reasonText, readingOf));
+  }
+
+  /** Looks up readings by id, each once (readings are only ever added, never changed). */
+  private readingFields(): (id: number) => ReadingFields {
+    const byId = new Map<number, ReadingFields>();
+    const select = this.db
+      .prepare(
+        `SELECT measure, lab_call, class, load_band, CASE WHEN measure = 'ct' THEN positive_below END,
+                CASE WHEN measure = 'ct' THEN suspect_below END, CASE WHEN measure = 'ct' THEN cycle_limit END,
+                positive_at_or_above, suspect_at_or_above, call_differs
+         FROM readings WHERE id = ?`,
+      )
+      .raw(true);
+    return (id) => {
+      let fields = byId.get(id);
+      if (fields === undefined) {
+        const cells = select.get(id) as ReadingCells | undefined;
+        if (cells === undefined) throw new Error(`reading ${id} is not in the store`);
+        fields = {
+          measure: cells[0],
+          labCall: cells[1],
+          resultClass: cells[2],
+          loadBand: cells[3],
+          positiveBelow: cells[4],
+          suspectBelow: cells[5],
+          cycleLimit: cells[6],
+          positiveAtOrAbove: cells[7],
+          suspectAtOrAbove: cells[8],
+          callDiffers: Boolean(cells[9]),
+        };
+        byId.set(id, fields);
+      }
+      return fields;
+    };
   }
 
   /** Looks up reason texts by id, each once (reasons are only ever added, never changed). */
@@ -295,7 +354,7 @@ export class SqliteReader implements StoreReader {
       .prepare(
         `SELECT v.sample_id AS sampleId, v.assay_id AS assayId, v.lab_id AS labId, v.kind, v.reason,
                 v.old_class AS oldClass, v.old_ct AS oldCt, v.old_ct_raw AS oldCtRaw, v.old_lab_call AS oldLabCall, v.old_reported_on AS oldReportedOn,
-                v.old_report_status AS oldReportStatus, v.old_status_kind AS oldStatus, (SELECT o.status_word FROM results o WHERE o.id = v.old_result_id) AS oldStatusWord,
+                v.old_report_status AS oldReportStatus, v.old_status_kind AS oldStatus, (SELECT o.status_word FROM results_read o WHERE o.id = v.old_result_id) AS oldStatusWord,
                 v.new_class AS newClass, v.new_ct AS newCt, v.new_ct_raw AS newCtRaw, v.new_lab_call AS newLabCall, v.new_reported_on AS newReportedOn,
                 v.new_report_status AS newReportStatus, v.new_status_kind AS newStatus, v.new_status_word AS newStatusWord
          FROM supersession_readings v

@@ -4,6 +4,7 @@
  */
 import type Database from 'better-sqlite3';
 import type { ResultRow } from '../domain/records.js';
+import { READING_COLUMNS } from './readings.js';
 
 /**
  * Prepares the statements a file's rows are stored with; creates the connection's temporary
@@ -31,17 +32,24 @@ export function prepareRowStatements(db: Database.Database) {
     noteUnplaced: db.prepare('INSERT INTO temp.file_unplaced (sample) VALUES (?) ON CONFLICT DO NOTHING'),
     reasonByText: db.prepare('SELECT id FROM reasons WHERE text = ?').pluck(),
     insertReason: db.prepare('INSERT INTO reasons (text) VALUES (?)'),
-    // Positional parameters: binding 22 named values per row costs more than the insert itself.
+    // Positional parameters: binding 16 named values per row costs more than the insert itself.
     insertResult: db.prepare(
-      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
-         report_status, control, class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key,
-         status_kind, status_word, lab_call_class, sample_id_as_written, measure, sp, positive_at_or_above, suspect_at_or_above)
-       VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
+      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, ct, ct_raw, accession, collected_on, reported_on, reason, content_key,
+         sample_id_as_written, sp, reading)
+       VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)
        ON CONFLICT (sample, assay_id, lab_id, content_key) DO NOTHING`,
+    ),
+    readingByValues: db
+      .prepare(
+        `SELECT id FROM readings WHERE ${READING_COLUMNS.map((column) => `${column} IS ?`).join(' AND ')} ORDER BY id LIMIT 1`,
+      )
+      .pluck(),
+    insertReading: db.prepare(
+      `INSERT INTO readings (${READING_COLUMNS.join(', ')}) VALUES (${READING_COLUMNS.map(() => '?').join(', ')})`,
     ),
     currentBefore: db.prepare(
       `SELECT r.id, r.reported_on AS reportedOn, r.status_kind AS status, r.status_word AS statusWord, r.class AS resultClass, r.ct_raw AS ctRaw, r.lab_call AS labCall
-       FROM results r
+       FROM results_read r
        WHERE r.sample = ? AND r.assay_id = ? AND r.lab_id = ? AND r.id < ?
          AND NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id)`,
     ),
@@ -80,8 +88,8 @@ export type RowStatements = ReturnType<typeof prepareRowStatements>;
 /**
  * Runs the insertResult statement for one row, its values passed as arguments in its column
  * order. better-sqlite3 reads arguments straight from the call, while an array is read element
- * by element through V8's object interface: 30 arguments bind about a fifth faster than an array
- * of 30 (measured with 1,000,000 rows of the bench's export).
+ * by element through V8's object interface: arguments bind about a fifth faster than an array
+ * (measured with 1,000,000 rows of the bench's export).
  */
 export function runInsertResult(
   statements: RowStatements,
@@ -89,6 +97,7 @@ export function runInsertResult(
   row: ResultRow,
   sampleKey: number,
   reasonId: number,
+  readingId: number,
 ): Database.RunResult {
   return statements.insertResult.run(
     fileId,
@@ -96,31 +105,15 @@ export function runInsertResult(
     sampleKey,
     row.labId,
     row.assayId,
-    row.labAssay,
     row.ct,
     row.ctRaw,
-    row.labCall,
     row.accession,
     row.collectedOn,
     row.reportedOn,
-    row.reportStatus,
-    row.control,
-    row.resultClass,
     reasonId,
-    row.loadBand,
-    // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (migration 5).
-    row.positiveBelow ?? 0,
-    row.suspectBelow ?? 0,
-    row.cycleLimit ?? 0,
-    row.callDiffers ? 1 : 0,
     row.contentKey,
-    row.statusKind,
-    row.statusWord,
-    row.labCallClass,
     row.sampleIdAsWritten,
-    row.measure,
     row.sp,
-    row.positiveAtOrAbove,
-    row.suspectAtOrAbove,
+    readingId,
   );
 }

@@ -6,6 +6,7 @@ import type { ResultRow, RopeLocation, RopeRow } from '../domain/records.js';
 import type { RowRejection } from '../domain/rejections.js';
 import type { EarlierReport, SupersessionLink } from '../domain/store.js';
 import { rejectionValues, type RowSink, type StoredSample } from './rowSink.js';
+import { ReadingIds } from './readings.js';
 import { runInsertResult, type RowStatements } from './rowStatements.js';
 
 /** Reason texts remembered: a few per Ct value and assay. */
@@ -15,7 +16,16 @@ export class SqliteRowSink implements RowSink {
   /** Reason text -> id in `reasons`; forgotten on rollback (the rows it names may be gone). */
   private readonly reasonIds = new Map<string, number>();
 
-  constructor(private readonly statements: RowStatements) {}
+  /** Each row's reading (readings.ts); forgotten on rollback like the reasons. */
+  private readonly readingIds: ReadingIds;
+
+  constructor(private readonly statements: RowStatements) {
+    this.readingIds = new ReadingIds(
+      (values) =>
+        (statements.readingByValues.get(values) as number | undefined) ??
+        Number(statements.insertReading.run(values).lastInsertRowid),
+    );
+  }
 
   beginBatch(): void {}
   endBatch(): void {}
@@ -42,7 +52,7 @@ export class SqliteRowSink implements RowSink {
   }
 
   insertResult(fileId: number, row: ResultRow, sampleKey: number, reasonId: number): number | undefined {
-    const info = runInsertResult(this.statements, fileId, row, sampleKey, reasonId);
+    const info = runInsertResult(this.statements, fileId, row, sampleKey, reasonId, this.readingIds.idOf(row));
     return info.changes === 0 ? undefined : Number(info.lastInsertRowid);
   }
 
@@ -105,5 +115,6 @@ export class SqliteRowSink implements RowSink {
 
   forgetFile(): void {
     this.reasonIds.clear();
+    this.readingIds.forget();
   }
 }

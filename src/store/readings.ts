@@ -1,0 +1,119 @@
+/**
+ * How a stored result was read: the lab's assay name and words (call, report status, control,
+ * load band), the class and status found from them, and the cutoffs in effect. A lab export
+ * repeats a handful of these on every row (one per assay and class, as a rule), so the store
+ * keeps each once in `readings` and a result names its reading by id, like its reason: a result
+ * row half as wide, and about a third less of SQLite's work to store it. The `results_read` view
+ * joins them back under the columns a result had before.
+ */
+import type { ResultRow } from '../domain/records.js';
+
+/** The columns of `readings` after its id, in table order (both stores). */
+export const READING_COLUMNS = [
+  'lab_assay',
+  'measure',
+  'class',
+  'lab_call',
+  'lab_call_class',
+  'call_differs',
+  'report_status',
+  'status_kind',
+  'status_word',
+  'control',
+  'load_band',
+  'positive_below',
+  'suspect_below',
+  'cycle_limit',
+  'positive_at_or_above',
+  'suspect_at_or_above',
+] as const;
+
+export type ReadingValue = string | number | null;
+
+/**
+ * A row's reading as the values of READING_COLUMNS. An S/P row has no Ct cutoffs: 0 in those
+ * NOT NULL columns (as results held them since migration 5).
+ */
+export function readingValues(row: ResultRow): ReadingValue[] {
+  return [
+    row.labAssay,
+    row.measure,
+    row.resultClass,
+    row.labCall,
+    row.labCallClass,
+    row.callDiffers ? 1 : 0,
+    row.reportStatus,
+    row.statusKind,
+    row.statusWord,
+    row.control,
+    row.loadBand,
+    row.positiveBelow ?? 0,
+    row.suspectBelow ?? 0,
+    row.cycleLimit ?? 0,
+    row.positiveAtOrAbove,
+    row.suspectAtOrAbove,
+  ];
+}
+
+/** Whether two rows were read alike (every field READING_COLUMNS holds). */
+function readAlike(a: ResultRow, b: ResultRow): boolean {
+  return (
+    a.resultClass === b.resultClass &&
+    a.labCall === b.labCall &&
+    a.labAssay === b.labAssay &&
+    a.loadBand === b.loadBand &&
+    a.labCallClass === b.labCallClass &&
+    a.callDiffers === b.callDiffers &&
+    a.reportStatus === b.reportStatus &&
+    a.statusKind === b.statusKind &&
+    a.statusWord === b.statusWord &&
+    a.control === b.control &&
+    a.measure === b.measure &&
+    a.positiveBelow === b.positiveBelow &&
+    a.suspectBelow === b.suspectBelow &&
+    a.cycleLimit === b.cycleLimit &&
+    a.positiveAtOrAbove === b.positiveAtOrAbove &&
+    a.suspectAtOrAbove === b.suspectAtOrAbove
+  );
+}
+
+/** Readings remembered by their values (a store holds tens to hundreds). */
+const READINGS_REMEMBERED = 10_000;
+
+/**
+ * The id of each row's reading, stored the first time it is met (through `findOrCreate`, which
+ * finds a stored reading with the same values or stores it). Rows of one assay mostly repeat the
+ * reading of the row before, so that row is compared field by field before any key is formed.
+ */
+export class ReadingIds {
+  private readonly byValues = new Map<string, number>();
+  /** The last row met per lab assay name, and its reading id. */
+  private readonly lastByAssay = new Map<string, { row: ResultRow; id: number }>();
+
+  constructor(private readonly findOrCreate: (values: readonly ReadingValue[]) => number) {}
+
+  idOf(row: ResultRow): number {
+    const last = this.lastByAssay.get(row.labAssay);
+    if (last !== undefined && readAlike(last.row, row)) return last.id;
+    const values = readingValues(row);
+    const key = JSON.stringify(values);
+    let id = this.byValues.get(key);
+    if (id === undefined) {
+      id = this.findOrCreate(values);
+      if (this.byValues.size >= READINGS_REMEMBERED) this.byValues.clear();
+      this.byValues.set(key, id);
+    }
+    if (last === undefined) this.lastByAssay.set(row.labAssay, { row, id });
+    else {
+      last.row = row;
+      last.id = id;
+    }
+    return id;
+  }
+
+  /** After a rollback: readings first stored by the file are gone with it. */
+  forget(): void {
+    this.byValues.clear();
+    this.lastByAssay.clear();
+  }
+}
