@@ -37,6 +37,9 @@ const SQLITE_ONLY = [
   'test/cli/storeOpen.test.ts',
   // SQLite's migration 8 of its CHECKs and the bytecode of its insert (sqlite.org/opcode.html).
   'test/store/resultChecks.test.ts',
+  // SQLite's migration 9 (readings) and the readings cache, which opens no store (the PostgreSQL
+  // migration: test/store/pg/migrations.test.ts).
+  'test/store/readings.test.ts',
   // SQLite's migration 7 of the tidy views; the PostgreSQL views are held to SQLite's in the same file.
   'test/store/tidyViews.test.ts',
   // The SQLite reader's rows against the straightforward reading (the PostgreSQL reader's parity

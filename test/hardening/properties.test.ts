@@ -430,7 +430,7 @@ async function ingestBytes(bytes: Buffer, name = 'nvdl_prop.csv'): Promise<{ rec
 
 function storedCtsInRange(store: Store): void {
   const outside = store.db
-    .prepare('SELECT COUNT(*) AS n FROM results WHERE ct IS NOT NULL AND NOT (ct > 0 AND ct < cycle_limit)')
+    .prepare('SELECT COUNT(*) AS n FROM results_read WHERE ct IS NOT NULL AND NOT (ct > 0 AND ct < cycle_limit)')
     .get() as { n: number };
   expect(outside.n).toBe(0);
   // The file transaction writes with foreign-key enforcement off (parents first, by

@@ -233,7 +233,7 @@ describe('the receipt of a German export', () => {
         );
         expect(text).toContain('line 7, AU-6 PRRSV: lab "negativ" (negative), ropewatch suspect from "36,5"');
         const stored = storeSql(store).all(
-          'SELECT s.sample_id AS id, r.class, r.status_kind AS status, r.lab_call_class AS "call" FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line',
+          'SELECT s.sample_id AS id, r.class, r.status_kind AS status, r.lab_call_class AS "call" FROM results_read r JOIN samples s ON s.id = r.sample ORDER BY r.line',
         );
         expect(stored).toEqual([
           { id: 'AU-1', class: 'positive', status: 'final', call: 'positive' },

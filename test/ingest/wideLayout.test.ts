@@ -70,7 +70,7 @@ const stored = (ws: TestWorkspace): Stored[] =>
   ws
     .sql()
     .all<Stored>(
-      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.lab_assay AS "labAssay", r.ct, r.class FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
+      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.lab_assay AS "labAssay", r.ct, r.class FROM results_read r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
     );
 
 const EXPECTED: Stored[] = [

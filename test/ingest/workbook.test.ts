@@ -62,7 +62,7 @@ const stored = (ws: TestWorkspace): Stored[] =>
   ws
     .sql()
     .all<Stored>(
-      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.ct, r.class, r.collected_on AS collected, r.reported_on AS reported FROM results r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
+      'SELECT s.sample_id AS id, r.line, r.assay_id AS assay, r.ct, r.class, r.collected_on AS collected, r.reported_on AS reported FROM results_read r JOIN samples s ON s.id = r.sample ORDER BY r.line, r.assay_id',
     );
 
 describe('a lab workbook read through its lab profile', () => {

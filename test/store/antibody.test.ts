@@ -63,7 +63,9 @@ describe('antibody results in the store', () => {
     // As stored: 0 in the Ct cutoff columns of the S/P row (migration 5).
     const raw = ws
       .sql()
-      .get("SELECT positive_below AS p, suspect_below AS s, cycle_limit AS c FROM results WHERE measure = 'sp-ratio'");
+      .get(
+        "SELECT positive_below AS p, suspect_below AS s, cycle_limit AS c FROM results_read WHERE measure = 'sp-ratio'",
+      );
     expect(raw).toEqual({ p: 0, s: 0, c: 0 });
   });
 
@@ -82,17 +84,25 @@ describe('antibody results in the store', () => {
       cutoffs: [number, number, number],
       spCutoff: number | null,
       key: number,
-    ) =>
+    ) => {
+      // The reading keeps the cutoffs with their measure; the result keeps Ct and S/P apart.
       sql.run(
-        `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key, measure, sp, positive_at_or_above)
-         VALUES (1, 2, 1, 'northfield', 'PRRSV-AB', 'ELISA', ?, '', 'negative', 1, ?, ?, ?, ?, ?, ?, ?)`,
-        ct,
-        ...cutoffs,
+        `INSERT INTO readings (id, lab_assay, measure, class, call_differs, positive_below, suspect_below, cycle_limit, positive_at_or_above)
+         VALUES (?, 'ELISA', ?, 'negative', 0, ?, ?, ?, ?)`,
         key,
         measure,
-        sp,
+        ...cutoffs,
         spCutoff,
       );
+      sql.run(
+        `INSERT INTO results (file_id, line, sample, lab_id, assay_id, ct, ct_raw, reason, content_key, sp, reading)
+         VALUES (1, 2, 1, 'northfield', 'PRRSV-AB', ?, '', 1, ?, ?, ?)`,
+        ct,
+        key,
+        sp,
+        key,
+      );
+    };
     expect(() => insert('sp-ratio', null, 0.21, [0, 0, 0], 0.4, 1)).not.toThrow();
     // An S/P row with a Ct, with Ct cutoffs, or without its S/P cutoff; a Ct row with an S/P.
     expect(() => insert('sp-ratio', 0.21, 0.21, [0, 0, 0], 0.4, 2)).toThrow(CHECK_REFUSED);

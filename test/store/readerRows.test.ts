@@ -15,6 +15,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import type { StoredResult, StoredRope } from '../../src/domain/records.js';
 import { Store } from '../../src/store/store.js';
 import { randomInt, seededRng, type Rng } from '../../src/util/random.js';
+import { wideResultInserter } from '../helpers/wideResults.js';
 
 const dirs: string[] = [];
 afterEach(() => {
@@ -74,40 +75,37 @@ function fillRandomStore(db: Database.Database, rng: Rng): void {
     const pool = rng() < 0.3 ? pick(rng, ['POOL-8', 'POOL-9', 'POOL-10', 'POOL-11', 'POOL-0']) : null;
     insertPlanned.run(`PLAN-${i}`, pick(rng, SITES), 'B1', `Q${i}`, day(rng), pool);
   }
-  const insertResult = db.prepare(
-    `INSERT INTO results (id, file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, lab_call, accession, collected_on, reported_on,
-       class, reason, load_band, positive_below, suspect_below, cycle_limit, call_differs, content_key, sp, positive_at_or_above, suspect_at_or_above, measure)
-     VALUES (@id, @file, @id, @sample, @lab, @assay, @assay, @ct, @ctRaw, @labCall, @accession, @collectedOn, @reportedOn,
-       @class, @reason, @loadBand, @positiveBelow, @suspectBelow, @cycleLimit, @callDiffers, @id, @sp, @positiveAtOrAbove, @suspectAtOrAbove, @measure)`,
-  );
+  const insertResult = wideResultInserter(db);
   const resultCount = 420;
   for (let id = 1; id <= resultCount; id++) {
     const sp = rng() < 0.25;
     const ct = sp || rng() < 0.5 ? null : Math.round((15 + rng() * 25) * 10) / 10;
     const value = sp ? Math.round(rng() * 300) / 100 : null;
     const lab = pick(rng, ['lab-a', 'lab-b']);
-    insertResult.run({
+    insertResult({
       id,
-      file: lab === 'lab-a' ? 2 : 3,
+      file_id: lab === 'lab-a' ? 2 : 3,
+      line: id,
       sample: sampleNumber.get(pick(rng, samples))!,
-      lab,
-      assay: sp ? 'PRRSV-AB' : pick(rng, ['PRRSV', 'IAV']),
+      lab_id: lab,
+      ...((assay) => ({ assay_id: assay, lab_assay: assay }))(sp ? 'PRRSV-AB' : pick(rng, ['PRRSV', 'IAV'])),
       ct,
-      ctRaw: sp ? String(value) : ct === null ? pick(rng, ['Undetermined', '', 'N/A']) : String(ct),
-      labCall: maybe(rng, pick(rng, ['Positive', 'Negative', 'Détecté'])),
+      ct_raw: sp ? String(value) : ct === null ? pick(rng, ['Undetermined', '', 'N/A']) : String(ct),
+      lab_call: maybe(rng, pick(rng, ['Positive', 'Negative', 'Détecté'])),
       accession: maybe(rng, `NV-${randomInt(rng, 10_000)}`),
-      collectedOn: maybe(rng, day(rng)),
-      reportedOn: maybe(rng, day(rng)),
+      collected_on: maybe(rng, day(rng)),
+      reported_on: maybe(rng, day(rng)),
       class: pick(rng, ['positive', 'suspect', 'negative', 'invalid']),
       reason: 1 + randomInt(rng, reasons.length),
-      loadBand: maybe(rng, pick(rng, ['high', 'low'])),
-      positiveBelow: sp ? 0 : pick(rng, [35, 36, 37.5]),
-      suspectBelow: sp ? 0 : pick(rng, [38, 40]),
-      cycleLimit: sp ? 0 : pick(rng, [40, 45]),
-      callDiffers: rng() < 0.1 ? 1 : 0,
+      load_band: maybe(rng, pick(rng, ['high', 'low'])),
+      positive_below: sp ? 0 : pick(rng, [35, 36, 37.5]),
+      suspect_below: sp ? 0 : pick(rng, [38, 40]),
+      cycle_limit: sp ? 0 : pick(rng, [40, 45]),
+      call_differs: rng() < 0.1 ? 1 : 0,
+      content_key: id,
       sp: value,
-      positiveAtOrAbove: sp ? pick(rng, [0.4, 0.5]) : null,
-      suspectAtOrAbove: sp ? maybe(rng, 0.3) : null,
+      positive_at_or_above: sp ? pick(rng, [0.4, 0.5]) : null,
+      suspect_at_or_above: sp ? maybe(rng, 0.3) : null,
       measure: sp ? 'sp-ratio' : 'ct',
     });
   }
@@ -132,7 +130,7 @@ function referenceResults(db: Database.Database, siteId?: string): StoredResult[
               CASE WHEN r.measure = 'ct' THEN r.positive_below END AS positiveBelow, CASE WHEN r.measure = 'ct' THEN r.suspect_below END AS suspectBelow,
               CASE WHEN r.measure = 'ct' THEN r.cycle_limit END AS cycleLimit, r.positive_at_or_above AS positiveAtOrAbove, r.suspect_at_or_above AS suspectAtOrAbove,
               r.call_differs AS callDiffers
-       FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
+       FROM results_read r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
        WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${ofSite}
        ORDER BY r.id`,
     )

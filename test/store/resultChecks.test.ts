@@ -1,6 +1,7 @@
 /**
- * Migration 8: the results table's CHECKs on lists of words, written as equalities joined by OR.
- * A version-7 store migrates with every row, id and column as it was, the views read the same
+ * Migration 8: the results table's CHECKs on lists of words, written as equalities joined by OR
+ * (since migration 9 on the readings a result names). A version-7 store migrates with every row,
+ * id and column as it was (read through results_read since migration 9), the views read the same
  * rows, the CHECKs refuse what they refused before, and storing a result no longer opens a
  * temporary table (SQLite's bytecode: an `x IN (a, b, c)` of more than two constants is coded with
  * OpenEphemeral, sqlite.org/opcode.html; sqlite.org/lang_altertable.html for the rebuild).
@@ -13,6 +14,7 @@ import { MIGRATION_FUNCTIONS, MIGRATIONS } from '../../src/store/migrations.js';
 import { prepareRowStatements } from '../../src/store/rowStatements.js';
 import { workspacesPerTest } from '../helpers/workspace.js';
 import { sqliteStore } from '../helpers/storeSql.js';
+import { wideResultInserter } from '../helpers/wideResults.js';
 
 const workspace = workspacesPerTest();
 
@@ -58,20 +60,33 @@ describe('migration 8: the results CHECKs as equalities', () => {
     expect(MIGRATIONS.length).toBeGreaterThanOrEqual(8);
     expect(db.pragma('integrity_check', { simple: true })).toBe('ok');
     expect(db.pragma('foreign_key_check')).toEqual([]);
-    expect((db.pragma('table_info(results)') as { name: string }[]).map((c) => c.name)).toEqual(
-      columns.map((c) => c.name),
-    );
-    expect(readAll(db, 'SELECT * FROM results ORDER BY id')).toEqual(results);
+    // The columns a result had, in their order, then the reading it names (migration 9).
+    expect((db.pragma('table_info(results_read)') as { name: string }[]).map((c) => c.name)).toEqual([
+      ...columns.map((c) => c.name),
+      'reading',
+    ]);
+    const names = columns.map((c) => c.name).join(', ');
+    expect(readAll(db, `SELECT ${names} FROM results_read ORDER BY id`)).toEqual(results);
     expect(readAll(db, 'SELECT * FROM supersession_readings')).toEqual(readings);
     expect(results).toHaveLength(3);
     // The natural key is still UNIQUE: the same row again is a duplicate, not a second row.
+    const insert = wideResultInserter(db, { ignoreDuplicates: true });
     expect(
-      db
-        .prepare(
-          `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key)
-           VALUES (1, 9, 1, 'northfield', 'PRRSV', 'PRRSV', '33.5', 'positive', 1, 35, 38, 40, 2) ON CONFLICT DO NOTHING`,
-        )
-        .run().changes,
+      insert({
+        file_id: 1,
+        line: 9,
+        sample: 1,
+        lab_id: 'northfield',
+        assay_id: 'PRRSV',
+        lab_assay: 'PRRSV',
+        ct_raw: '33.5',
+        class: 'positive',
+        reason: 1,
+        positive_below: 35,
+        suspect_below: 38,
+        cycle_limit: 40,
+        content_key: 2,
+      }),
     ).toBe(0);
   });
 
@@ -80,14 +95,13 @@ describe('migration 8: the results CHECKs as equalities', () => {
     const { db } = sqliteStore(ws.ws().store);
     db.exec(`INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'f.csv', 'a', 'results', 'x', 'accepted', 1);
              INSERT INTO samples (id, sample_id) VALUES (1, 'S1'); INSERT INTO reasons (id, text) VALUES (1, 'r');`);
-    let key = 0;
     const insert = (resultClass: string | null, statusKind: string | null, callClass: string | null) =>
       db
         .prepare(
-          `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct_raw, class, reason, positive_below, suspect_below, cycle_limit,
-             content_key, status_kind, lab_call_class) VALUES (1, 2, 1, 'l', 'a', 'a', 'x', ?, 1, 35, 38, 40, ?, ?, ?)`,
+          `INSERT INTO readings (lab_assay, measure, class, call_differs, positive_below, suspect_below, cycle_limit, status_kind, lab_call_class)
+           VALUES ('a', 'ct', ?, 0, 35, 38, 40, ?, ?)`,
         )
-        .run(resultClass, ++key, statusKind, callClass);
+        .run(resultClass, statusKind, callClass);
     // The lists of migrations 1 and 4, word by word.
     for (const word of ['positive', 'suspect', 'negative', 'invalid'])
       expect(() => insert(word, null, word)).not.toThrow();
@@ -105,7 +119,9 @@ describe('migration 8: the results CHECKs as equalities', () => {
     const ws = workspace();
     const { db } = sqliteStore(ws.ws().store);
     const { insertResult } = prepareRowStatements(db);
-    const program = db.prepare(`EXPLAIN ${insertResult.source}`).all(...Array<null>(30).fill(null)) as {
+    const parameters = insertResult.source.split('?').length - 1;
+    expect(parameters).toBe(15);
+    const program = db.prepare(`EXPLAIN ${insertResult.source}`).all(...Array<null>(parameters).fill(null)) as {
       opcode: string;
     }[];
     expect(program.length).toBeGreaterThan(0);

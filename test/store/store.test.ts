@@ -247,7 +247,7 @@ describe('Store schema', () => {
                   r.lab_call AS labCall, r.accession, r.collected_on AS collectedOn, r.reported_on AS reportedOn, r.report_status AS reportStatus, r.control,
                   r.class AS resultClass, x.text AS reason, r.load_band AS loadBand, r.positive_below AS positiveBelow, r.suspect_below AS suspectBelow, r.cycle_limit AS cycleLimit,
                   r.content_key AS contentKey
-           FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason ORDER BY r.id`,
+           FROM results_read r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason ORDER BY r.id`,
         )
         .all() as Stored[];
       expect(stored).toHaveLength(2);

@@ -1,0 +1,67 @@
+/**
+ * Fixtures that write results as whole rows, with the columns a result had before its reading
+ * moved to a table of its own (SQLite store migration 9, src/store/readings.ts): each row's
+ * reading is found by its values or inserted, then the result is inserted naming it.
+ */
+import type Database from 'better-sqlite3';
+import { READING_COLUMNS, type ReadingValue } from '../../src/store/readings.js';
+
+/** A result's own columns (table `results` without `reading`). */
+const RESULT_COLUMNS = [
+  'id',
+  'file_id',
+  'line',
+  'sample',
+  'lab_id',
+  'assay_id',
+  'ct',
+  'ct_raw',
+  'accession',
+  'collected_on',
+  'reported_on',
+  'reason',
+  'content_key',
+  'sample_id_as_written',
+  'sp',
+] as const;
+
+/** Values a wide row may leave out, as the columns' defaults had them. */
+const READING_DEFAULTS: Partial<Record<(typeof READING_COLUMNS)[number], ReadingValue>> = {
+  measure: 'ct',
+  call_differs: 0,
+};
+
+export type WideResult = Partial<
+  Record<(typeof RESULT_COLUMNS)[number] | (typeof READING_COLUMNS)[number], ReadingValue>
+>;
+
+/**
+ * Returns a function that inserts one wide row (column name -> value; a column left out is NULL,
+ * or its default) and returns the result's id. ON CONFLICT DO NOTHING when `ignoreDuplicates`:
+ * then 0 for a duplicate.
+ */
+export function wideResultInserter(
+  db: Database.Database,
+  options: { ignoreDuplicates?: boolean } = {},
+): (row: WideResult) => number {
+  const findReading = db
+    .prepare(
+      `SELECT id FROM readings WHERE ${READING_COLUMNS.map((c) => `${c} IS ?`).join(' AND ')} ORDER BY id LIMIT 1`,
+    )
+    .pluck();
+  const insertReading = db.prepare(
+    `INSERT INTO readings (${READING_COLUMNS.join(', ')}) VALUES (${READING_COLUMNS.map(() => '?').join(', ')})`,
+  );
+  const insertResult = db.prepare(
+    `INSERT INTO results (${RESULT_COLUMNS.join(', ')}, reading) VALUES (${RESULT_COLUMNS.map(() => '?').join(', ')}, ?)${
+      options.ignoreDuplicates ? ' ON CONFLICT DO NOTHING' : ''
+    }`,
+  );
+  return (row) => {
+    const reading = READING_COLUMNS.map((column) => row[column] ?? READING_DEFAULTS[column] ?? null);
+    const readingId =
+      (findReading.get(reading) as number | undefined) ?? Number(insertReading.run(reading).lastInsertRowid);
+    const info = insertResult.run(...RESULT_COLUMNS.map((column) => row[column] ?? null), readingId);
+    return info.changes === 0 ? 0 : Number(info.lastInsertRowid);
+  };
+}
