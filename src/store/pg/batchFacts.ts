@@ -155,7 +155,7 @@ function lookUpReports(conn: SyncConnection, samples: number[], facts: BatchFact
             NOT EXISTS (SELECT 1 FROM supersessions s WHERE s.old_result_id = r.id) AS "isCurrent",
             r.id, r.reported_on AS "reportedOn", r.status_kind AS status, r.status_word AS "statusWord", r.class AS "resultClass",
             r.ct_raw AS "ctRaw", r.lab_call AS "labCall"
-       FROM results r WHERE r.sample = ANY($1::bigint[]) ORDER BY r.id`,
+       FROM results_read r WHERE r.sample = ANY($1::bigint[]) ORDER BY r.id`,
     [samples],
   ).rows;
   for (const row of rows) {

@@ -10,7 +10,8 @@
  * Measured on this 2-core machine under the load of other work (wall times two to three times an
  * idle machine's): 300,000 result rows of the ingest benchmark's export (bench/ingest.ts) in 45 s,
  * against 13 to 25 s for the SQLite store in the same hour; two thirds of it in these INSERTs,
- * where the server checks three foreign keys per result row.
+ * where the server checked three foreign keys per result row (a fourth, its reading, since
+ * migration 2).
  */
 import type { ResultRow } from '../../domain/records.js';
 import type { TakenIds } from './sequences.js';
@@ -42,31 +43,16 @@ export const RESULT_COLUMNS = [
   'sample',
   'lab_id',
   'assay_id',
-  'lab_assay',
   'ct',
   'ct_raw',
-  'lab_call',
   'accession',
   'collected_on',
   'reported_on',
-  'report_status',
-  'control',
-  'class',
   'reason',
-  'load_band',
-  'positive_below',
-  'suspect_below',
-  'cycle_limit',
-  'call_differs',
   'content_key',
-  'status_kind',
-  'status_word',
-  'lab_call_class',
   'sample_id_as_written',
-  'measure',
   'sp',
-  'positive_at_or_above',
-  'suspect_at_or_above',
+  'reading',
 ] as const;
 const RESULT_SAMPLE = RESULT_COLUMNS.indexOf('sample');
 const RESULT_REASON = RESULT_COLUMNS.indexOf('reason');
@@ -83,8 +69,18 @@ const REJECTION_COLUMNS = [
   'candidate_ids',
 ];
 
-/** A result row's values in RESULT_COLUMNS order (as the SQLite store's insert binds them, rowStatements.ts). */
-export function resultValues(id: number, fileId: number, row: ResultRow, sample: number, reason: number): SqlValue[] {
+/**
+ * A result row's values in RESULT_COLUMNS order (as the SQLite store's insert binds them,
+ * rowStatements.ts); how it was read is its reading's (readings.ts), named by id.
+ */
+export function resultValues(
+  id: number,
+  fileId: number,
+  row: ResultRow,
+  sample: number,
+  reason: number,
+  reading: number,
+): SqlValue[] {
   return [
     id,
     fileId,
@@ -92,32 +88,16 @@ export function resultValues(id: number, fileId: number, row: ResultRow, sample:
     sample,
     row.labId,
     row.assayId,
-    row.labAssay,
     row.ct,
     row.ctRaw,
-    row.labCall,
     row.accession,
     row.collectedOn,
     row.reportedOn,
-    row.reportStatus,
-    row.control,
-    row.resultClass,
     reason,
-    row.loadBand,
-    // An S/P row has no Ct cutoffs: 0 in those NOT NULL columns (as the SQLite store stores it).
-    row.positiveBelow ?? 0,
-    row.suspectBelow ?? 0,
-    row.cycleLimit ?? 0,
-    row.callDiffers ? 1 : 0,
     row.contentKey,
-    row.statusKind,
-    row.statusWord,
-    row.labCallClass,
     row.sampleIdAsWritten,
-    row.measure,
     row.sp,
-    row.positiveAtOrAbove,
-    row.suspectAtOrAbove,
+    reading,
   ];
 }
 

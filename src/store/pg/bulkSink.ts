@@ -8,13 +8,19 @@
  * from each table's sequence in one round trip, in order, and puts them in. A sample's key
  * outlives its batch (the flow remembers samples across a file's batches): provisional sample
  * keys are mapped to their ids for the rest of the file.
+ *
+ * A reading (src/store/readings.ts) belongs to no batch: a row read in a way not met before has
+ * its reading found or stored at once (readingRows.ts), so that readings are numbered in the order
+ * rows are stored, as in the SQLite store; a store holds few, and each is remembered.
  */
 import type { ResultRow, RopeLocation, RopeRow } from '../../domain/records.js';
 import type { RowRejection } from '../../domain/rejections.js';
 import type { EarlierReport, SupersessionLink } from '../../domain/store.js';
+import { ReadingIds } from '../readings.js';
 import { type BatchPreview, rejectionValues, type RowSink, type StoredSample } from '../rowSink.js';
 import { type BatchFacts, lookUpBatch, penKey, type RopeFact, reportKey } from './batchFacts.js';
 import { type BatchWrites, PROVISIONAL, resultValues, writeBatch } from './bulkFlush.js';
+import { findOrStoreReading } from './readingRows.js';
 import { noteTaken, type Sequences, type TakenMax, takeIds } from './sequences.js';
 import type { SyncConnection } from './syncConnection.js';
 
@@ -38,6 +44,8 @@ export class PgBulkSink implements RowSink {
   private readonly batchReasons = new Map<string, number>();
   /** Reason text -> id, stored (committed or in this file). */
   private readonly reasonIds = new Map<string, number>();
+  /** Each row's reading, stored (committed or in this file); forgotten on rollback like the reasons. */
+  private readonly readingIds: ReadingIds;
   /** Ids of the samples this file created, by provisional key minus the range's start (-1: not flushed yet). */
   private fileSamples: number[] = [];
   /** Samples the open file stored results for that hang in no pen yet (their keys). */
@@ -48,7 +56,13 @@ export class PgBulkSink implements RowSink {
   constructor(
     private readonly conn: SyncConnection,
     private readonly sequences: Sequences,
-  ) {}
+  ) {
+    this.readingIds = new ReadingIds((values) => {
+      const reading = findOrStoreReading(this.conn, values);
+      if (reading.stored) noteTaken(this.taken, 'readings', [reading.id]);
+      return reading.id;
+    });
+  }
 
   /** Forgets the file's state (a new file begins). */
   startFile(): void {
@@ -151,6 +165,9 @@ export class PgBulkSink implements RowSink {
   }
 
   insertResult(fileId: number, row: ResultRow, sampleKey: number, reasonId: number): number | undefined {
+    // Before the duplicate check, as the SQLite store finds it for an INSERT that may take
+    // nothing: a row stored before, read with new cutoffs, still stores its new reading.
+    const readingId = this.readingIds.idOf(row);
     const sample = this.sampleKey(sampleKey);
     const key = reportKey(sample, row.assayId, row.labId);
     const contentKey = `${key}\u0000${row.contentKey}`;
@@ -158,7 +175,7 @@ export class PgBulkSink implements RowSink {
     if (facts.contentKeys.has(contentKey)) return undefined;
     facts.contentKeys.add(contentKey);
     const id = PROVISIONAL.results + this.writes.results.length;
-    this.writes.results.push(resultValues(id, fileId, row, sample, reasonId));
+    this.writes.results.push(resultValues(id, fileId, row, sample, reasonId, readingId));
     this.resultsStored.add(sample);
     const report: EarlierReport = {
       id,
@@ -266,5 +283,6 @@ export class PgBulkSink implements RowSink {
   /** The file was rolled back (its ids are given back by the writer, from `taken`, before the next file). */
   forgetFile(): void {
     this.reasonIds.clear();
+    this.readingIds.forget();
   }
 }

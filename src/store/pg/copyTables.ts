@@ -13,12 +13,13 @@ export interface CopiedTable {
   readonly key?: readonly string[];
 }
 
-/** Every table of the store at SQLite version 8 (the views are not copied: they are queries). */
+/** Every table of the store at SQLite version 9 (the views are not copied: they are queries). */
 export const COPIED_TABLES: readonly CopiedTable[] = [
   { name: 'meta', key: ['key'] },
   { name: 'files', key: ['id'] },
   { name: 'samples', key: ['id'] },
   { name: 'reasons', key: ['id'] },
+  { name: 'readings', key: ['id'] },
   { name: 'results', key: ['id'] },
   { name: 'supersessions', key: ['old_result_id'] },
   { name: 'rejected_rows', key: ['id'] },

@@ -10,11 +10,16 @@
  * IDENTITY` (by default, so a copy keeps its ids), another INTEGER is `bigint`, REAL is `double
  * precision`, TEXT is `text` and BLOB `bytea`. A key that is also a reference in SQLite
  * (supersessions.old_result_id, ropes.sample) stays a plain bigint key.
+ *
+ * Migration 2 follows the SQLite store's migration 9: how a result was read moves to `readings`
+ * (src/store/readings.ts), a result names its reading by id, and the view `results_read` gives
+ * the columns a result had. PostgreSQL drops a column in place, so the table is altered rather
+ * than rebuilt: the columns left, with `reading` added last, come in SQLite's order.
  */
 import type { SyncConnection } from './syncConnection.js';
 
 /** The SQLite schema version (PRAGMA user_version) the PostgreSQL schema matches. */
-export const MATCHES_SQLITE_VERSION = 8;
+export const MATCHES_SQLITE_VERSION = 9;
 
 /** The key of the advisory lock taken while migrating ("rope" in ASCII, then 1). */
 export const MIGRATION_LOCK_KEY = 0x726f_7065_0001;
@@ -210,8 +215,131 @@ const VIEWS = `
   CREATE VIEW tidy_alerts AS SELECT * FROM analysis_alerts;
 `;
 
+/** The columns of `readings` that may hold NULL (the others compare with `=`). */
+const NULLABLE_READING_COLUMNS = new Set([
+  'lab_call',
+  'lab_call_class',
+  'report_status',
+  'status_kind',
+  'status_word',
+  'control',
+  'load_band',
+  'positive_at_or_above',
+  'suspect_at_or_above',
+]);
+
+/** The columns of `readings` after its id, in table order (READING_COLUMNS, written out: a shipped migration never changes). */
+const READING_LIST = [
+  'lab_assay',
+  'measure',
+  'class',
+  'lab_call',
+  'lab_call_class',
+  'call_differs',
+  'report_status',
+  'status_kind',
+  'status_word',
+  'control',
+  'load_band',
+  'positive_below',
+  'suspect_below',
+  'cycle_limit',
+  'positive_at_or_above',
+  'suspect_at_or_above',
+];
+
+/** A result `r` read as reading `g`: NOT NULL columns joined with `=` (a hash join), the others NULL matching NULL. */
+const SAME_READING = READING_LIST.map((column) =>
+  NULLABLE_READING_COLUMNS.has(column) ? `g.${column} IS NOT DISTINCT FROM r.${column}` : `g.${column} = r.${column}`,
+).join('\n      AND ');
+
+// The SQLite store's migration 9. Readings are numbered in the order their first result was
+// stored (min(id)); NULLs group together under GROUP BY. The reference is added after the ids
+// are set, so the server checks it once for the table rather than once per row updated.
+const READINGS = `
+  DROP VIEW supersession_readings;
+  DROP VIEW tidy_results;
+
+  CREATE TABLE readings (
+    id ${ROW_ID},
+    lab_assay text NOT NULL,
+    measure text NOT NULL,
+    class text NOT NULL CHECK (class IN ${CLASS_WORDS}),
+    lab_call text,
+    lab_call_class text CHECK (lab_call_class IN ${CLASS_WORDS}),
+    call_differs bigint NOT NULL,
+    report_status text,
+    status_kind text CHECK (status_kind IN ('preliminary', 'final', 'corrected')),
+    status_word text,
+    control text,
+    load_band text,
+    positive_below double precision NOT NULL,
+    suspect_below double precision NOT NULL,
+    cycle_limit double precision NOT NULL,
+    positive_at_or_above double precision,
+    suspect_at_or_above double precision,
+    CHECK (
+      (measure = 'ct' AND positive_at_or_above IS NULL AND suspect_at_or_above IS NULL)
+      OR (measure = 'sp-ratio' AND positive_at_or_above IS NOT NULL AND positive_below = 0 AND suspect_below = 0 AND cycle_limit = 0)
+    )
+  );
+  INSERT INTO readings (id, ${READING_LIST.join(', ')})
+    SELECT row_number() OVER (ORDER BY min(id)), ${READING_LIST.join(', ')}
+      FROM results
+     GROUP BY ${READING_LIST.join(', ')};
+  SELECT setval(pg_get_serial_sequence('readings', 'id'), max(id)) FROM readings HAVING max(id) IS NOT NULL;
+
+  ALTER TABLE results ADD COLUMN reading bigint;
+  UPDATE results r SET reading = g.id FROM readings g
+    WHERE ${SAME_READING};
+  ALTER TABLE results
+    DROP CONSTRAINT results_check,
+    ${READING_LIST.map((column) => `DROP COLUMN ${column}`).join(',\n    ')},
+    ALTER COLUMN reading SET NOT NULL,
+    ADD FOREIGN KEY (reading) REFERENCES readings(id),
+    ADD CHECK (ct IS NULL OR sp IS NULL);
+
+  -- A result with the columns it had before this migration, in their order, and its reading.
+  CREATE VIEW results_read AS
+    SELECT r.id AS id, r.file_id AS file_id, r.line AS line, r.sample AS sample, r.lab_id AS lab_id, r.assay_id AS assay_id,
+           g.lab_assay AS lab_assay, r.ct AS ct, r.ct_raw AS ct_raw, g.lab_call AS lab_call, r.accession AS accession,
+           r.collected_on AS collected_on, r.reported_on AS reported_on, g.report_status AS report_status, g.control AS control,
+           g.class AS class, r.reason AS reason, g.load_band AS load_band, g.positive_below AS positive_below,
+           g.suspect_below AS suspect_below, g.cycle_limit AS cycle_limit, g.call_differs AS call_differs,
+           r.content_key AS content_key, g.status_kind AS status_kind, g.status_word AS status_word,
+           g.lab_call_class AS lab_call_class, r.sample_id_as_written AS sample_id_as_written, r.sp AS sp,
+           g.positive_at_or_above AS positive_at_or_above, g.suspect_at_or_above AS suspect_at_or_above, g.measure AS measure,
+           r.reading AS reading
+    FROM results r JOIN readings g ON g.id = r.reading;
+
+  CREATE VIEW supersession_readings AS
+    SELECT s.old_result_id, s.new_result_id, s.kind, s.reason, sm.sample_id, o.assay_id, o.lab_id,
+           o.class AS old_class, o.ct AS old_ct, o.ct_raw AS old_ct_raw, o.lab_call AS old_lab_call, o.reported_on AS old_reported_on,
+           o.report_status AS old_report_status, o.status_kind AS old_status_kind, o.file_id AS old_file_id, o.line AS old_line,
+           n.class AS new_class, n.ct AS new_ct, n.ct_raw AS new_ct_raw, n.lab_call AS new_lab_call, n.reported_on AS new_reported_on,
+           n.report_status AS new_report_status, n.status_kind AS new_status_kind, n.status_word AS new_status_word, n.file_id AS new_file_id, n.line AS new_line,
+           o.measure AS measure, o.sp AS old_sp, n.sp AS new_sp
+    FROM supersessions s
+    JOIN results_read o ON o.id = s.old_result_id
+    JOIN results_read n ON n.id = s.new_result_id
+    JOIN samples sm ON sm.id = o.sample;
+
+  CREATE VIEW tidy_results AS
+    SELECT rr.site_id AS site, rr.barn_id AS barn, rr.pen_id AS pen, rr.round AS round, rr.round_id AS round_id,
+           rr.round_start AS round_start, rr.group_id AS "group", r.collected_on AS date,
+           rr.sample_id AS sample_id, CASE WHEN s.sample_id = rr.sample_id THEN NULL ELSE s.sample_id END AS pool,
+           r.lab_id AS lab, r.accession AS case_number, r.assay_id AS assay, r.measure AS measure,
+           CASE WHEN r.measure = 'sp-ratio' THEN r.sp ELSE r.ct END AS value, r.ct_raw AS value_as_written,
+           r.class AS class, r.lab_call AS lab_call, r.call_differs AS call_differs, r.reported_on AS reported_on,
+           (SELECT MIN(x.new_result_id) FROM supersessions x WHERE x.old_result_id = r.id) AS superseded_by,
+           r.id AS result_id
+    FROM results_read r
+    JOIN samples s ON s.id = r.sample
+    JOIN analysis_rope_rounds rr ON rr.sample_id = s.sample_id OR rr.pool_id = s.sample_id;
+`;
+
 /** The migrations, in order: migration n is PG_MIGRATIONS[n - 1]. */
-export const PG_MIGRATIONS: readonly string[] = [TABLES + ANALYSIS_TABLES + VIEWS];
+export const PG_MIGRATIONS: readonly string[] = [TABLES + ANALYSIS_TABLES + VIEWS, READINGS];
 
 /** The schema version of a database: 0 when it has none yet. */
 export function pgSchemaVersion(conn: SyncConnection): number {

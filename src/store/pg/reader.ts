@@ -43,6 +43,38 @@ const SITE_RESULT_SAMPLES = `r.sample IN (SELECT sample FROM ropes WHERE site_id
    UNION SELECT pool FROM ropes WHERE site_id = $1 AND pool IS NOT NULL
    UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = $1)`;
 
+/** A current result as its row holds it: the reason's text, the reading by id (src/store/readings.ts). */
+type ResultFields = Pick<
+  StoredResult,
+  | 'id'
+  | 'fileId'
+  | 'labId'
+  | 'sampleId'
+  | 'assayId'
+  | 'ct'
+  | 'sp'
+  | 'ctRaw'
+  | 'accession'
+  | 'collectedOn'
+  | 'reportedOn'
+  | 'reason'
+> & { reading: number };
+
+/** What a result takes from its reading; the Ct cutoffs null for an S/P reading. */
+type ReadingFields = Pick<
+  StoredResult,
+  | 'measure'
+  | 'labCall'
+  | 'resultClass'
+  | 'loadBand'
+  | 'positiveBelow'
+  | 'suspectBelow'
+  | 'cycleLimit'
+  | 'positiveAtOrAbove'
+  | 'suspectAtOrAbove'
+  | 'callDiffers'
+>;
+
 export class PgStoreReader implements StoreReader {
   private snapshots = 0;
 
@@ -158,20 +190,74 @@ export class PgStoreReader implements StoreReader {
   }
 
   private resultRows(where: string, params: readonly SqlValue[]): StoredResult[] {
-    const rows = this.all<Omit<StoredResult, 'callDiffers'> & { callDiffers: number }>(
-      `SELECT r.id, r.file_id AS "fileId", r.lab_id AS "labId", s.sample_id AS "sampleId", r.assay_id AS "assayId", r.measure,
-              r.ct, r.sp, r.ct_raw AS "ctRaw", r.lab_call AS "labCall", r.accession, r.collected_on AS "collectedOn",
-              r.reported_on AS "reportedOn", r.class AS "resultClass", x.text AS reason, r.load_band AS "loadBand",
-              CASE WHEN r.measure = 'ct' THEN r.positive_below END AS "positiveBelow",
-              CASE WHEN r.measure = 'ct' THEN r.suspect_below END AS "suspectBelow",
-              CASE WHEN r.measure = 'ct' THEN r.cycle_limit END AS "cycleLimit",
-              r.positive_at_or_above AS "positiveAtOrAbove", r.suspect_at_or_above AS "suspectAtOrAbove", r.call_differs AS "callDiffers"
+    // The hottest read of a rebuild (every result of the site's history): each row as it is
+    // stored, its reading by id, and each reading's fields read once (as the SQLite reader).
+    const rows = this.all<ResultFields>(
+      `SELECT r.id, r.file_id AS "fileId", r.lab_id AS "labId", s.sample_id AS "sampleId", r.assay_id AS "assayId",
+              r.ct, r.sp, r.ct_raw AS "ctRaw", r.accession, r.collected_on AS "collectedOn", r.reported_on AS "reportedOn",
+              x.text AS reason, r.reading
          FROM results r JOIN samples s ON s.id = r.sample JOIN reasons x ON x.id = r.reason
         WHERE NOT EXISTS (SELECT 1 FROM supersessions o WHERE o.old_result_id = r.id) ${where}
         ORDER BY r.id`,
       params,
     );
-    return rows.map((row) => ({ ...row, callDiffers: Boolean(row.callDiffers) }));
+    const readingOf = this.readingFields(rows);
+    return rows.map((row) => {
+      const reading = readingOf(row.reading);
+      // In the column order the SQLite reader gives (reader.ts resultOfCells).
+      return {
+        id: row.id,
+        fileId: row.fileId,
+        labId: row.labId,
+        sampleId: row.sampleId,
+        assayId: row.assayId,
+        measure: reading.measure,
+        ct: row.ct,
+        sp: row.sp,
+        ctRaw: row.ctRaw,
+        labCall: reading.labCall,
+        accession: row.accession,
+        collectedOn: row.collectedOn,
+        reportedOn: row.reportedOn,
+        resultClass: reading.resultClass,
+        reason: row.reason,
+        loadBand: reading.loadBand,
+        positiveBelow: reading.positiveBelow,
+        suspectBelow: reading.suspectBelow,
+        cycleLimit: reading.cycleLimit,
+        positiveAtOrAbove: reading.positiveAtOrAbove,
+        suspectAtOrAbove: reading.suspectAtOrAbove,
+        callDiffers: reading.callDiffers,
+      };
+    });
+  }
+
+  /** Looks up the readings `rows` name, each once, in one query (readings are only ever added, never changed). */
+  private readingFields(rows: readonly { reading: number }[]): (id: number) => ReadingFields {
+    const ids = [...new Set(rows.map((row) => row.reading))];
+    const byId = new Map<number, ReadingFields>();
+    if (ids.length > 0) {
+      for (const { id, callDiffers, ...fields } of this.conn.query<
+        Omit<ReadingFields, 'callDiffers'> & {
+          id: number;
+          callDiffers: number;
+        }
+      >(
+        `SELECT id, measure, lab_call AS "labCall", class AS "resultClass", load_band AS "loadBand",
+                CASE WHEN measure = 'ct' THEN positive_below END AS "positiveBelow",
+                CASE WHEN measure = 'ct' THEN suspect_below END AS "suspectBelow",
+                CASE WHEN measure = 'ct' THEN cycle_limit END AS "cycleLimit",
+                positive_at_or_above AS "positiveAtOrAbove", suspect_at_or_above AS "suspectAtOrAbove", call_differs AS "callDiffers"
+           FROM readings WHERE id = ANY($1::bigint[])`,
+        [ids],
+      ).rows)
+        byId.set(id, { ...fields, callDiffers: Boolean(callDiffers) });
+    }
+    return (id) => {
+      const fields = byId.get(id);
+      if (fields === undefined) throw new Error(`reading ${id} is not in the store`);
+      return fields;
+    };
   }
 
   supersessions(): Supersession[] {
@@ -186,7 +272,7 @@ export class PgStoreReader implements StoreReader {
       `SELECT v.sample_id AS "sampleId", v.assay_id AS "assayId", v.lab_id AS "labId", v.kind, v.reason,
               v.old_class AS "oldClass", v.old_ct AS "oldCt", v.old_ct_raw AS "oldCtRaw", v.old_lab_call AS "oldLabCall",
               v.old_reported_on AS "oldReportedOn", v.old_report_status AS "oldReportStatus", v.old_status_kind AS "oldStatus",
-              (SELECT o.status_word FROM results o WHERE o.id = v.old_result_id) AS "oldStatusWord",
+              (SELECT o.status_word FROM results_read o WHERE o.id = v.old_result_id) AS "oldStatusWord",
               v.new_class AS "newClass", v.new_ct AS "newCt", v.new_ct_raw AS "newCtRaw", v.new_lab_call AS "newLabCall",
               v.new_reported_on AS "newReportedOn", v.new_report_status AS "newReportStatus", v.new_status_kind AS "newStatus",
               v.new_status_word AS "newStatusWord"

@@ -15,10 +15,12 @@ export interface Sequences {
   reasons: string;
   results: string;
   rejected_rows: string;
+  /** Taken one at a time, by the INSERT that stores a new reading (readingRows.ts). */
+  readings: string;
 }
 
 export type SequenceTable = keyof Sequences;
-const TABLES: readonly SequenceTable[] = ['files', 'samples', 'reasons', 'results', 'rejected_rows'];
+const TABLES: readonly SequenceTable[] = ['files', 'samples', 'reasons', 'results', 'rejected_rows', 'readings'];
 
 export function sequencesOf(conn: SyncConnection): Sequences {
   const row = conn.query<Sequences>(

@@ -164,24 +164,37 @@ describe('the PostgreSQL schema against the SQLite store', () => {
     // Each statement broken in one way; both stores must refuse it and take its fixed twin.
     const file =
       "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (1, 'a.csv', 'h1', 'results', 'd', 'accepted', 1)";
+    const reading = (values: string) =>
+      `INSERT INTO readings (id, lab_assay, measure, class, call_differs, positive_below, suspect_below, cycle_limit, positive_at_or_above, lab_call_class, status_kind)
+         VALUES ${values}`;
+    const result = (values: string) =>
+      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, ct, ct_raw, reason, content_key, sp, reading) VALUES ${values}`;
     const cases = [
       "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (2, 'b', 'h2', 'other', 'd', 'accepted', 1)",
       "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (2, 'b', 'h2', 'ropes', 'd', 'done', 1)",
       "INSERT INTO files (id, name, sha256, kind, received_at, status, byte_length) VALUES (2, 'b', 'h1', 'ropes', 'd', 'accepted', 1)",
       "INSERT INTO ropes (sample, site_id, barn_id, pen_id, hung_on, source, file_id, line) VALUES (1, 's', 'b', 'p', 'd', 'guess', 1, 1)",
-      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key, measure, sp, positive_at_or_above)
-         VALUES (1, 1, 1, 'l', 'a', 'a', 30, '30', 'positive', 1, 0, 0, 0, 1, 'sp-ratio', 1.2, 0.4)`,
-      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key)
-         VALUES (1, 1, 1, 'l', 'a', 'a', 30, '30', 'maybe', 1, 35, 38, 40, 1)`,
-      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key, status_kind)
-         VALUES (1, 1, 1, 'l', 'a', 'a', 30, '30', 'positive', 1, 35, 38, 40, 1, 'draft')`,
-      `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key)
-         VALUES (1, 1, 99, 'l', 'a', 'a', 30, '30', 'positive', 1, 35, 38, 40, 1)`,
+      reading("(3, 'a', 'sp-ratio', 'positive', 0, 35, 38, 40, 0.4, NULL, NULL)"),
+      reading("(3, 'a', 'sp-ratio', 'positive', 0, 0, 0, 0, NULL, NULL, NULL)"),
+      reading("(3, 'a', 'ct', 'positive', 0, 35, 38, 40, 0.4, NULL, NULL)"),
+      reading("(3, 'a', 'pcr', 'positive', 0, 35, 38, 40, NULL, NULL, NULL)"),
+      reading("(3, 'a', 'ct', 'maybe', 0, 35, 38, 40, NULL, NULL, NULL)"),
+      reading("(3, 'a', 'ct', 'positive', 0, 35, 38, 40, NULL, 'maybe', NULL)"),
+      reading("(3, 'a', 'ct', 'positive', 0, 35, 38, 40, NULL, NULL, 'draft')"),
+      reading("(3, NULL, 'ct', 'positive', 0, 35, 38, 40, NULL, NULL, NULL)"),
+      reading("(3, 'a', 'ct', 'positive', NULL, 35, 38, 40, NULL, NULL, NULL)"),
+      result("(1, 1, 1, 'l', 'a', 30, '30', 1, 1, 1.2, 1)"),
+      result("(1, 1, 99, 'l', 'a', 30, '30', 1, 1, NULL, 1)"),
+      result("(1, 1, 1, 'l', 'a', 30, '30', 1, 1, NULL, 99)"),
+      result("(1, 1, 1, 'l', 'a', 30, '30', 1, 1, NULL, NULL)"),
+      result("(1, 1, 1, 'l', 'a', 30, '30', 99, 1, NULL, 1)"),
     ];
     const setup = [
       file,
       "INSERT INTO samples (id, sample_id) VALUES (1, 'S1')",
       "INSERT INTO reasons (id, text) VALUES (1, 'r')",
+      reading("(1, 'a', 'ct', 'positive', 0, 35, 38, 40, NULL, 'positive', 'final')"),
+      reading("(2, 'a', 'sp-ratio', 'positive', 0, 0, 0, 0, 0.4, NULL, NULL)"),
     ];
     lite.exec('BEGIN');
     conn.query('BEGIN');
@@ -198,12 +211,17 @@ describe('the PostgreSQL schema against the SQLite store', () => {
         lite.exec('ROLLBACK TO c');
         conn.query('ROLLBACK TO c');
       }
-      const good = `INSERT INTO results (file_id, line, sample, lab_id, assay_id, lab_assay, ct, ct_raw, class, reason, positive_below, suspect_below, cycle_limit, content_key)
-         VALUES (1, 1, 1, 'l', 'a', 'a', 30, '30', 'positive', 1, 35, 38, 40, 1)`;
-      lite.exec(good);
-      conn.query(good);
-      expect(() => lite.exec(good)).toThrow(/UNIQUE/);
-      expect(() => conn.query(good)).toThrow(expect.objectContaining({ code: '23505' }));
+      for (const good of [
+        result("(1, 1, 1, 'l', 'a', 30, '30', 1, 1, NULL, 1)"),
+        result("(1, 2, 1, 'l', 'a-ab', NULL, '1.2', 1, 2, 1.2, 2)"),
+      ]) {
+        lite.exec(good);
+        conn.query(good);
+        conn.query('SAVEPOINT c');
+        expect(() => lite.exec(good)).toThrow(/UNIQUE/);
+        expect(() => conn.query(good)).toThrow(expect.objectContaining({ code: '23505' }));
+        conn.query('ROLLBACK TO c');
+      }
     } finally {
       lite.exec('ROLLBACK');
       conn.query('ROLLBACK');

@@ -122,6 +122,13 @@ describe('ropewatch store copy', () => {
       const next = conn.query<{ id: number }>("INSERT INTO samples (sample_id) VALUES ('not-in-the-demo') RETURNING id")
         .rows[0]?.id;
       expect(next).toBe(max + 1);
+      const lastReading = conn.query<{ m: number }>('SELECT max(id) AS m FROM readings').rows[0]?.m ?? 0;
+      const nextReading = conn.query<{ id: number }>(
+        `INSERT INTO readings (lab_assay, measure, class, call_differs, positive_below, suspect_below, cycle_limit)
+         VALUES ('not-in-the-demo', 'ct', 'invalid', 0, 35, 38, 40) RETURNING id`,
+      ).rows[0]?.id;
+      expect(lastReading).toBeGreaterThan(0);
+      expect(nextReading).toBe(lastReading + 1);
     } finally {
       conn.query('ROLLBACK');
       conn.close();

@@ -284,7 +284,8 @@ describe('PostgreSQL writer: files, rollbacks and writers racing on one server',
   it('leaves nothing of a rolled-back file, and the next file takes the ids SQLite would give', async () => {
     const db = await database('rollback');
     const store = openPgStore(db.url);
-    const reference = new Store(':memory:');
+    const referenceFile = path.join(dir, 'rollback.db');
+    const reference = new Store(referenceFile);
     try {
       for (const target of [store, reference])
         await ingestFile(export_('before.csv', 1, 2, 'NV26-2', '30.5', '2026-08-07'), {
@@ -311,6 +312,10 @@ describe('PostgreSQL writer: files, rollbacks and writers racing on one server',
         reference.currentResults().map((r) => [r.sampleId, r.id]),
       );
       expect(store.files().map((f) => [f.id, f.name])).toEqual(reference.files().map((f) => [f.id, f.name]));
+      // The rolled-back file's new reading (another load band) gave its id back too.
+      const readings = digestsOf(db.url).find((t) => t.table === 'readings');
+      expect(readings?.rows).toBe(2);
+      expect(readings).toEqual(digestsOf(referenceFile).find((t) => t.table === 'readings'));
       // Closed with a file open: the file is rolled back (as the SQLite store's close).
       const stored = store.counts();
       store.beginFile(
