@@ -26,6 +26,7 @@ import type {
 import type { ResultClass } from '../interpret/classify.js';
 import { chosenInputs, siteInputsOf } from './chosenInputs.js';
 import { replacedReportOfRow } from './replacedRows.js';
+import type { ReadingFields } from './readings.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
 type RopeCells = [string, string, string, string, string, StoredRope['source'], string | null];
@@ -61,21 +62,6 @@ type ResultCells = [
   number,
   number,
 ];
-
-/** What a result takes from its reading (readings.ts); the Ct cutoffs null for an S/P reading. */
-type ReadingFields = Pick<
-  StoredResult,
-  | 'measure'
-  | 'labCall'
-  | 'resultClass'
-  | 'loadBand'
-  | 'positiveBelow'
-  | 'suspectBelow'
-  | 'cycleLimit'
-  | 'positiveAtOrAbove'
-  | 'suspectAtOrAbove'
-  | 'callDiffers'
->;
 
 type ReadingCells = [
   StoredResult['measure'],

@@ -6,7 +6,27 @@
  * row half as wide, and about a third less of SQLite's work to store it. The `results_read` view
  * joins them back under the columns a result had before.
  */
-import type { ResultRow } from '../domain/records.js';
+import type { ResultRow, StoredResult } from '../domain/records.js';
+
+/** The columns of `results` in table order (both stores): a result's own values and its reading. */
+export const RESULT_COLUMNS = [
+  'id',
+  'file_id',
+  'line',
+  'sample',
+  'lab_id',
+  'assay_id',
+  'ct',
+  'ct_raw',
+  'accession',
+  'collected_on',
+  'reported_on',
+  'reason',
+  'content_key',
+  'sample_id_as_written',
+  'sp',
+  'reading',
+] as const;
 
 /** The columns of `readings` after its id, in table order (both stores). */
 export const READING_COLUMNS = [
@@ -29,6 +49,21 @@ export const READING_COLUMNS = [
 ] as const;
 
 export type ReadingValue = string | number | null;
+
+/** What a stored result takes from its reading, as the readers give it: the Ct cutoffs null for an S/P reading. */
+export type ReadingFields = Pick<
+  StoredResult,
+  | 'measure'
+  | 'labCall'
+  | 'resultClass'
+  | 'loadBand'
+  | 'positiveBelow'
+  | 'suspectBelow'
+  | 'cycleLimit'
+  | 'positiveAtOrAbove'
+  | 'suspectAtOrAbove'
+  | 'callDiffers'
+>;
 
 /**
  * A row's reading as the values of READING_COLUMNS. An S/P row has no Ct cutoffs: 0 in those

@@ -4,26 +4,10 @@
  * reading is found by its values or inserted, then the result is inserted naming it.
  */
 import type Database from 'better-sqlite3';
-import { READING_COLUMNS, type ReadingValue } from '../../src/store/readings.js';
+import { READING_COLUMNS, RESULT_COLUMNS, type ReadingValue } from '../../src/store/readings.js';
 
 /** A result's own columns (table `results` without `reading`). */
-const RESULT_COLUMNS = [
-  'id',
-  'file_id',
-  'line',
-  'sample',
-  'lab_id',
-  'assay_id',
-  'ct',
-  'ct_raw',
-  'accession',
-  'collected_on',
-  'reported_on',
-  'reason',
-  'content_key',
-  'sample_id_as_written',
-  'sp',
-] as const;
+const OWN_COLUMNS = RESULT_COLUMNS.filter((column) => column !== 'reading');
 
 /** Values a wide row may leave out, as the columns' defaults had them. */
 const READING_DEFAULTS: Partial<Record<(typeof READING_COLUMNS)[number], ReadingValue>> = {
@@ -53,7 +37,7 @@ export function wideResultInserter(
     `INSERT INTO readings (${READING_COLUMNS.join(', ')}) VALUES (${READING_COLUMNS.map(() => '?').join(', ')})`,
   );
   const insertResult = db.prepare(
-    `INSERT INTO results (${RESULT_COLUMNS.join(', ')}, reading) VALUES (${RESULT_COLUMNS.map(() => '?').join(', ')}, ?)${
+    `INSERT INTO results (${OWN_COLUMNS.join(', ')}, reading) VALUES (${OWN_COLUMNS.map(() => '?').join(', ')}, ?)${
       options.ignoreDuplicates ? ' ON CONFLICT DO NOTHING' : ''
     }`,
   );
@@ -61,7 +45,7 @@ export function wideResultInserter(
     const reading = READING_COLUMNS.map((column) => row[column] ?? READING_DEFAULTS[column] ?? null);
     const readingId =
       (findReading.get(reading) as number | undefined) ?? Number(insertReading.run(reading).lastInsertRowid);
-    const info = insertResult.run(...RESULT_COLUMNS.map((column) => row[column] ?? null), readingId);
+    const info = insertResult.run(...OWN_COLUMNS.map((column) => row[column] ?? null), readingId);
     return info.changes === 0 ? 0 : Number(info.lastInsertRowid);
   };
 }

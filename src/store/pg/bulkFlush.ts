@@ -13,6 +13,7 @@
  * where the server checked three foreign keys per result row (a fourth, its reading, since
  * migration 2).
  */
+import { RESULT_COLUMNS } from '../readings.js';
 import type { ResultRow } from '../../domain/records.js';
 import type { TakenIds } from './sequences.js';
 import { PgError, type SqlValue, type SyncConnection } from './syncConnection.js';
@@ -36,24 +37,6 @@ export interface BatchWrites {
   rejections: SqlValue[][];
 }
 
-export const RESULT_COLUMNS = [
-  'id',
-  'file_id',
-  'line',
-  'sample',
-  'lab_id',
-  'assay_id',
-  'ct',
-  'ct_raw',
-  'accession',
-  'collected_on',
-  'reported_on',
-  'reason',
-  'content_key',
-  'sample_id_as_written',
-  'sp',
-  'reading',
-] as const;
 const RESULT_SAMPLE = RESULT_COLUMNS.indexOf('sample');
 const RESULT_REASON = RESULT_COLUMNS.indexOf('reason');
 const ROPE_COLUMNS = ['sample', 'site_id', 'barn_id', 'pen_id', 'hung_on', 'source', 'file_id', 'line', 'note', 'pool'];

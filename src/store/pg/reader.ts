@@ -27,6 +27,7 @@ import type {
 import type { SqlValue, SyncConnection } from './syncConnection.js';
 import { chosenInputs, siteInputsOf } from '../chosenInputs.js';
 import { replacedReportOfRow } from '../replacedRows.js';
+import type { ReadingFields } from '../readings.js';
 
 const FILE_COLUMNS = `id, name, sha256, kind, lab_id AS "labId", received_at AS "receivedAt", status, reason_code AS "reasonCode", reason`;
 const PLANNED_COLUMNS = `sample_id AS "sampleId", site_id AS "siteId", barn_id AS "barnId", pen_id AS "penId", side, reason,
@@ -59,21 +60,6 @@ type ResultFields = Pick<
   | 'reportedOn'
   | 'reason'
 > & { reading: number };
-
-/** What a result takes from its reading; the Ct cutoffs null for an S/P reading. */
-type ReadingFields = Pick<
-  StoredResult,
-  | 'measure'
-  | 'labCall'
-  | 'resultClass'
-  | 'loadBand'
-  | 'positiveBelow'
-  | 'suspectBelow'
-  | 'cycleLimit'
-  | 'positiveAtOrAbove'
-  | 'suspectAtOrAbove'
-  | 'callDiffers'
->;
 
 export class PgStoreReader implements StoreReader {
   private snapshots = 0;
