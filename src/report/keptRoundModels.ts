@@ -35,16 +35,16 @@ export function roundModelFileText(key: string, text: RoundModelText): string {
 }
 
 /**
- * Makes `barn.pens` (read from the file as the pens' ids) parse `text` when first read: a plain
- * property from then on, in the same place. The ids stay known (src/rounds/penIds.ts).
+ * Makes `barn.pens` (read from the file as the pens' ids) parse the text `read` gives when first
+ * read: a plain property from then on, in the same place. The ids stay known (src/rounds/penIds.ts).
  */
-function pensWhenRead(barn: BarnRound, text: string): void {
+function pensWhenRead(barn: BarnRound, read: () => string): void {
   registerPenIds(barn, barn.pens as unknown as string[]);
   const settle = (value: BarnRound['pens']) =>
     Object.defineProperty(barn, 'pens', { value, writable: true, enumerable: true, configurable: true });
   Object.defineProperty(barn, 'pens', {
     get() {
-      const value = JSON.parse(text) as BarnRound['pens'];
+      const value = JSON.parse(read()) as BarnRound['pens'];
       settle(value);
       return value;
     },
@@ -54,27 +54,39 @@ function pensWhenRead(barn: BarnRound, text: string): void {
   });
 }
 
+const NEWLINE = 0x0a;
+
+/**
+ * The kept model in `file`, or undefined when it is missing, cut off or not one. The file is read
+ * as bytes and only its header and outline are decoded: a build reads every kept round's file,
+ * and most of a file's bytes are its pens (tens of KB a round), of which only the latest rounds'
+ * are ever parsed. A barn's pens stay bytes until then (outside V8's heap, which a long history
+ * of decoded text would otherwise fill and collect on every drop). A newline byte is never part
+ * of a longer UTF-8 sequence (RFC 3629), so the lines are found in the bytes.
+ */
 function readKept(file: string): KeptRoundModel | undefined {
-  let content: string;
+  let bytes: Buffer;
   try {
-    content = fs.readFileSync(file, 'utf8');
+    bytes = fs.readFileSync(file);
   } catch {
     return undefined;
   }
-  if (!content.endsWith('\n')) return undefined;
-  const lines = content.slice(0, -1).split('\n');
+  if (bytes.length === 0 || bytes[bytes.length - 1] !== NEWLINE) return undefined;
+  const lineEnds: number[] = [];
+  for (let at = bytes.indexOf(NEWLINE); at !== -1; at = bytes.indexOf(NEWLINE, at + 1)) lineEnds.push(at);
+  const line = (index: number) => bytes.toString('utf8', index === 0 ? 0 : lineEnds[index - 1]! + 1, lineEnds[index]);
   try {
-    const header = JSON.parse(lines[0]!) as { schema?: unknown; key?: unknown; digest?: unknown; barns?: unknown };
+    const header = JSON.parse(line(0)) as { schema?: unknown; key?: unknown; digest?: unknown; barns?: unknown };
     if (
       header.schema !== MODEL_SCHEMA ||
       typeof header.key !== 'string' ||
       typeof header.digest !== 'string' ||
-      lines.length !== 2 + Number(header.barns)
+      lineEnds.length !== 2 + Number(header.barns)
     )
       return undefined;
-    const model = JSON.parse(lines[1]!) as SiteRound;
+    const model = JSON.parse(line(1)) as SiteRound;
     if (model.barns.length !== header.barns) return undefined;
-    model.barns.forEach((barn, index) => pensWhenRead(barn, lines[2 + index]!));
+    model.barns.forEach((barn, index) => pensWhenRead(barn, () => line(2 + index)));
     return { key: header.key, digest: header.digest, model };
   } catch {
     return undefined;
