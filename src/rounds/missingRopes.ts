@@ -19,9 +19,19 @@ export function plannedByRound(
   rounds: readonly Pick<Round, 'startOn' | 'endOn'>[],
   plannedWithoutResults: readonly PlannedInput[],
 ): Map<string, PlannedInput[]> {
+  // A plan's ropes share its due date: each date's round is found once (the search scans every
+  // round, and a long history has a plan per round still waiting for its results).
+  const roundOfDay = new Map<string, string>();
   return groupBy(
     plannedWithoutResults.filter((rope) => !placed.has(rope.sampleId)),
-    (rope) => String(roundForDueDate(rope.dueOn, rounds, site.program.roundWindowDays)),
+    (rope) => {
+      let round = roundOfDay.get(rope.dueOn);
+      if (round === undefined) {
+        round = String(roundForDueDate(rope.dueOn, rounds, site.program.roundWindowDays));
+        roundOfDay.set(rope.dueOn, round);
+      }
+      return round;
+    },
   );
 }
 
