@@ -4,7 +4,7 @@
  */
 import type Database from 'better-sqlite3';
 import type { ResultRow } from '../domain/records.js';
-import { READING_COLUMNS } from './readings.js';
+import { READING_COLUMNS, type ReadingValue } from './readings.js';
 
 /**
  * Prepares the statements a file's rows are stored with; creates the connection's temporary
@@ -115,5 +115,13 @@ export function runInsertResult(
     row.sampleIdAsWritten,
     row.sp,
     readingId,
+  );
+}
+
+/** The id of the stored reading with these values (READING_COLUMNS order), storing it when there is none. */
+export function findOrInsertReading(statements: RowStatements, values: readonly ReadingValue[]): number {
+  return (
+    (statements.readingByValues.get(values) as number | undefined) ??
+    Number(statements.insertReading.run(values).lastInsertRowid)
   );
 }

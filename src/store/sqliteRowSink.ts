@@ -7,7 +7,7 @@ import type { RowRejection } from '../domain/rejections.js';
 import type { EarlierReport, SupersessionLink } from '../domain/store.js';
 import { rejectionValues, type RowSink, type StoredSample } from './rowSink.js';
 import { ReadingIds } from './readings.js';
-import { runInsertResult, type RowStatements } from './rowStatements.js';
+import { findOrInsertReading, runInsertResult, type RowStatements } from './rowStatements.js';
 
 /** Reason texts remembered: a few per Ct value and assay. */
 const REASONS_REMEMBERED = 50_000;
@@ -20,11 +20,7 @@ export class SqliteRowSink implements RowSink {
   private readonly readingIds: ReadingIds;
 
   constructor(private readonly statements: RowStatements) {
-    this.readingIds = new ReadingIds(
-      (values) =>
-        (statements.readingByValues.get(values) as number | undefined) ??
-        Number(statements.insertReading.run(values).lastInsertRowid),
-    );
+    this.readingIds = new ReadingIds((values) => findOrInsertReading(statements, values));
   }
 
   beginBatch(): void {}

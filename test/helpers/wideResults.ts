@@ -1,10 +1,12 @@
 /**
  * Fixtures that write results as whole rows, with the columns a result had before its reading
  * moved to a table of its own (SQLite store migration 9, src/store/readings.ts): each row's
- * reading is found by its values or inserted, then the result is inserted naming it.
+ * reading is found by its values or inserted (as the store's writer does: findOrInsertReading), then
+ * the result is inserted naming it.
  */
 import type Database from 'better-sqlite3';
 import { READING_COLUMNS, RESULT_COLUMNS, type ReadingValue } from '../../src/store/readings.js';
+import { findOrInsertReading, prepareRowStatements } from '../../src/store/rowStatements.js';
 
 /** A result's own columns (table `results` without `reading`). */
 const OWN_COLUMNS = RESULT_COLUMNS.filter((column) => column !== 'reading');
@@ -28,14 +30,7 @@ export function wideResultInserter(
   db: Database.Database,
   options: { ignoreDuplicates?: boolean } = {},
 ): (row: WideResult) => number {
-  const findReading = db
-    .prepare(
-      `SELECT id FROM readings WHERE ${READING_COLUMNS.map((c) => `${c} IS ?`).join(' AND ')} ORDER BY id LIMIT 1`,
-    )
-    .pluck();
-  const insertReading = db.prepare(
-    `INSERT INTO readings (${READING_COLUMNS.join(', ')}) VALUES (${READING_COLUMNS.map(() => '?').join(', ')})`,
-  );
+  const statements = prepareRowStatements(db);
   const insertResult = db.prepare(
     `INSERT INTO results (${OWN_COLUMNS.join(', ')}, reading) VALUES (${OWN_COLUMNS.map(() => '?').join(', ')}, ?)${
       options.ignoreDuplicates ? ' ON CONFLICT DO NOTHING' : ''
@@ -43,8 +38,7 @@ export function wideResultInserter(
   );
   return (row) => {
     const reading = READING_COLUMNS.map((column) => row[column] ?? READING_DEFAULTS[column] ?? null);
-    const readingId =
-      (findReading.get(reading) as number | undefined) ?? Number(insertReading.run(reading).lastInsertRowid);
+    const readingId = findOrInsertReading(statements, reading);
     const info = insertResult.run(...OWN_COLUMNS.map((column) => row[column] ?? null), readingId);
     return info.changes === 0 ? 0 : Number(info.lastInsertRowid);
   };
