@@ -51,4 +51,16 @@ describe('values derived from frozen objects', () => {
     expect(keptForBy(byRopes, of, 12, () => ++made)).toBe(1);
     expect(keptForBy(byRopes, of, 13, () => ++made)).toBe(2);
   });
+
+  it('keeps values in a Map by a key of any kind, made once per key', () => {
+    const kept = new Map<string, number>();
+    let made = 0;
+    expect(keptFor(kept, '2026-08-03', () => ++made)).toBe(1);
+    expect(keptFor(kept, '2026-08-03', () => ++made)).toBe(1);
+    expect(keptFor(kept, '2026-09-07', () => ++made)).toBe(2);
+    expect([...kept]).toEqual([
+      ['2026-08-03', 1],
+      ['2026-09-07', 2],
+    ]);
+  });
 });

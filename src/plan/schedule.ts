@@ -213,21 +213,14 @@ export function simulateDelay(
   let detected = 0;
   for (let rep = 0; rep < replicates; rep++) {
     const firstRound = rng() * intervalDays; // days from introduction to the next round
-    // Infection only grows with the days, so once every pen is infected it stays so for the rest
-    // of the replicate (the draws are the same).
-    let everyPen = false;
     // The highest count whose threshold this replicate's exponent has surely passed: the days
-    // only grow, so it only moves up.
+    // only grow, so it only moves up, and once it is every pen no power is computed again.
     let reached = model.initialInfected;
     for (let round = 0; round < maxRounds; round++) {
       const days = firstRound + round * intervalDays;
-      let infected = most;
-      if (!everyPen) {
-        const exponent = days / doublingDays;
-        while (reached < most && exponent >= surelyAtLeast[reached + 1]!) reached++;
-        infected = reached === most || exponent <= surelyBelow[reached + 1]! ? reached : infectedAfter(model, days);
-      }
-      everyPen = infected === most;
+      const exponent = days / doublingDays;
+      while (reached < most && exponent >= surelyAtLeast[reached + 1]!) reached++;
+      const infected = reached === most || exponent <= surelyBelow[reached + 1]! ? reached : infectedAfter(model, days);
       if (rng() < detect(infected)) {
         sum += days;
         sumSq += days * days;

@@ -6,6 +6,7 @@ import type { Barn, Site } from '../config/types.js';
 import { roundForDueDate, type Round } from './rounds.js';
 import { compareText, groupBy, penOrder } from './penOrder.js';
 import type { MistypedInput, MistypedRope, PenRound, PlannedInput } from './roundTypes.js';
+import { keptFor } from '../util/kept.js';
 
 /**
  * Planned ropes without a result by the index of the round whose window holds their due date;
@@ -24,14 +25,8 @@ export function plannedByRound(
   const roundOfDay = new Map<string, string>();
   return groupBy(
     plannedWithoutResults.filter((rope) => !placed.has(rope.sampleId)),
-    (rope) => {
-      let round = roundOfDay.get(rope.dueOn);
-      if (round === undefined) {
-        round = String(roundForDueDate(rope.dueOn, rounds, site.program.roundWindowDays));
-        roundOfDay.set(rope.dueOn, round);
-      }
-      return round;
-    },
+    (rope) =>
+      keptFor(roundOfDay, rope.dueOn, () => String(roundForDueDate(rope.dueOn, rounds, site.program.roundWindowDays))),
   );
 }
 

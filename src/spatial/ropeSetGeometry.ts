@@ -22,6 +22,7 @@ import {
   type WeightChoice,
   type WeightStyle,
 } from './weights.js';
+import { keptFor } from '../util/kept.js';
 
 /** Every pen of a layout (expandLayout) and the pens by id. */
 export interface LayoutGeometry {
@@ -106,13 +107,9 @@ function makeRopeSet(key: string, layout: BarnLayout, pens: readonly Pen[]): Rop
     key,
     points,
     weights(choice: WeightChoice, style: WeightStyle): ChosenWeights {
-      const choiceKey = `${style} ${JSON.stringify(choice)}`;
-      let made = weights.get(choiceKey);
-      if (made === undefined) {
-        made = Object.freeze(buildWeights(layout, points, choice, style));
-        weights.set(choiceKey, made);
-      }
-      return made;
+      return keptFor(weights, `${style} ${JSON.stringify(choice)}`, () =>
+        Object.freeze(buildWeights(layout, points, choice, style)),
+      );
     },
     spacing(): number {
       spacing ??= ropeSpacing(points);
@@ -137,14 +134,11 @@ export class GeometryCache {
   }
 
   private layoutEntry(layout: BarnLayout): { geometry: LayoutGeometry; serial: number } {
-    let entry = this.layouts.get(layout);
-    if (entry === undefined) {
+    return keptFor(this.layouts, layout, () => {
       const pens = Object.freeze(expandLayout(layout).map((pen) => Object.freeze(pen)));
       const geometry = Object.freeze({ pens, byId: new Map(pens.map((pen) => [pen.id, pen])) });
-      entry = { geometry, serial: this.layouts.size };
-      this.layouts.set(layout, entry);
-    }
-    return entry;
+      return { geometry, serial: this.layouts.size };
+    });
   }
 
   /**
@@ -154,17 +148,14 @@ export class GeometryCache {
   ropeSet(layout: BarnLayout, penIds: readonly string[]): RopeSetGeometry {
     const { geometry, serial } = this.layoutEntry(layout);
     const key = `${serial} ${JSON.stringify(penIds)}`;
-    let made = this.ropeSets.get(key);
-    if (made === undefined) {
+    return keptFor(this.ropeSets, key, () => {
       const pens = penIds.map((id) => {
         const pen = geometry.byId.get(id);
         if (!pen) throw new RangeError(`\`pens\` must name pens of the layout, got ${id}`);
         return pen;
       });
-      made = makeRopeSet(key, layout, pens);
-      this.ropeSets.set(key, made);
-    }
-    return made;
+      return makeRopeSet(key, layout, pens);
+    });
   }
 
   /**
@@ -174,12 +165,7 @@ export class GeometryCache {
    */
   siteWeights(blocks: readonly SiteBlock[], choice: WeightChoice, style: WeightStyle): SiteBlocks {
     const key = `${style} ${JSON.stringify(choice)} ${JSON.stringify(blocks.map((b) => [b.barn, b.stratum, b.geometry.key]))}`;
-    let made = this.siteBlocks.get(key);
-    if (made === undefined) {
-      made = buildSiteWeights(blocks, choice, style);
-      this.siteBlocks.set(key, made);
-    }
-    return made;
+    return keptFor(this.siteBlocks, key, () => buildSiteWeights(blocks, choice, style));
   }
 }
 

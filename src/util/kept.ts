@@ -2,11 +2,18 @@
  * Values derived from an object, made once and kept while the object lives (a WeakMap keyed on
  * it lets the value go with the object). `keptFor` trusts the caller that the object does not
  * change while its value is kept; `keptOfFrozen` keeps only for a frozen object, which cannot
- * change, and makes the value afresh for any other.
+ * change, and makes the value afresh for any other. `keptFor` also keeps in a Map, by a key of
+ * any kind, for as long as the Map's owner holds it.
  */
 
-/** The value `make` derives from `of`, made on the first call and kept in `kept`. */
-export function keptFor<K extends object, V>(kept: WeakMap<K, V>, of: K, make: () => V): V {
+/** Where keptFor keeps its values: a WeakMap, or a Map. */
+interface Keeping<K, V> {
+  get(key: K): V | undefined;
+  set(key: K, value: V): unknown;
+}
+
+/** The value `make` derives from `of`, made on the first call and kept in `kept` (never undefined). */
+export function keptFor<K, V>(kept: Keeping<K, V>, of: K, make: () => V): V {
   let value = kept.get(of);
   if (value === undefined) {
     value = make();

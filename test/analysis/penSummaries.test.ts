@@ -61,7 +61,7 @@ describe('pen summaries', () => {
       expect(summary.pens.map((pen) => pen.penId)).toEqual(pens.map((pen) => pen.penId));
       summary.pens.forEach((penSummary, p) => {
         const pen = pens[p]!;
-        // The straightforward form: rest and spread.
+        // The code before, same inputs: the result copied by rest and spread.
         const expected = Object.fromEntries(
           Object.entries(pen.results).map(([assayId, { assayId: _a, otherSampleIds: _o, ...kept }]) => {
             const assay = config.assayById.get(assayId);
