@@ -61,13 +61,11 @@ function csvField(text: string): string {
 }
 
 /**
- * Whether text starts with a formula character (FORMULA_FIRST) or holds a character that makes a
+ * Text that starts with a formula character (FORMULA_FIRST) or holds a character that makes a
  * field quoted (NEEDS_QUOTES): any other text is its own cell, as most text cells are (ids,
- * dates, classes), and is written after these two tests.
+ * dates, classes), and is written after this one test.
  */
-function neutralisedOrQuoted(text: string): boolean {
-  return FORMULA_FIRST.has(text.charCodeAt(0)) || NEEDS_QUOTES.test(text);
-}
+const NEUTRALISED_OR_QUOTED = /^[=+\-@\t\r]|[",\n\r;\t]/;
 
 /** One line of cells (no line end), each neutralised (csvCell) and quoted where it must be (csvField). */
 export function csvLine(cells: CsvCells): string {
@@ -78,7 +76,7 @@ export function csvLine(cells: CsvCells): string {
     // Blanks (most cells of a wide table) add nothing; a finite number, a boolean and plain text
     // have nothing to neutralise or quote.
     if (value === null || value === undefined) continue;
-    if (typeof value === 'string') line += neutralisedOrQuoted(value) ? csvField(csvCell(value)) : value;
+    if (typeof value === 'string') line += NEUTRALISED_OR_QUOTED.test(value) ? csvField(csvCell(value)) : value;
     else if (typeof value === 'number' && Number.isFinite(value)) line += String(value);
     else if (typeof value === 'boolean') line += value ? 'true' : 'false';
     else line += csvField(csvCell(value));
