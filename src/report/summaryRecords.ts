@@ -192,7 +192,7 @@ export function barnRows(summary: RoundSummary): Cells[] {
 }
 
 /** A pen and assay as one key (ids hold no line breaks). */
-function penAssayKey(barnId: string, penId: string, assayId: string): string {
+export function penAssayKey(barnId: string, penId: string, assayId: string): string {
   return `${barnId}\n${penId}\n${assayId}`;
 }
 
@@ -202,14 +202,13 @@ function penAssayKey(barnId: string, penId: string, assayId: string): string {
  * searching the round's replaced reports.
  */
 export function correctionsByPenAssay(replaced: readonly RoundSummary['replaced'][number][]): Map<string, string> {
-  const entries = new Map<string, RoundSummary['replaced'][number][]>();
+  const cells = new Map<string, string>();
   for (const entry of replaced) {
     const key = penAssayKey(entry.barnId, entry.penId, entry.assayId);
-    const list = entries.get(key);
-    if (list) list.push(entry);
-    else entries.set(key, [entry]);
+    const before = cells.get(key);
+    cells.set(key, before === undefined ? replacementCell(entry) : `${before}; ${replacementCell(entry)}`);
   }
-  return new Map([...entries].map(([key, list]) => [key, list.map(replacementCell).join('; ')]));
+  return cells;
 }
 
 /**

@@ -136,8 +136,7 @@ describe('renderBarnMap', () => {
   });
 
   it('leaves a hole in its pieces at every place the map names its own ids, and only there', () => {
-    const { key: _key, ...rest } = { key: 'test', scale: 30, detail: 'full' as const, title: 'test map', results };
-    const pieces = barnMapPieces(barn, rest);
+    const pieces = barnMapPieces(barn, { scale: 30, detail: 'full', title: 'test map', results });
     // aria-labelledby, the title's id, the two patterns' ids and the fills of B4 (empty) and A2 (out of use).
     expect(count(/aria-labelledby="test-|id="test-|url\(#test-/g)).toBe(6);
     expect(pieces).toHaveLength(7);

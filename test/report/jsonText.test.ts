@@ -46,7 +46,7 @@ describe('numbers at the precision they carry', () => {
   });
 });
 
-/** The writer jsonText must equal: JSON.stringify with a replacer that carries every finite number. */
+/** The writer jsonText must equal (the code before, same inputs): JSON.stringify with a replacer that carries every finite number. */
 function referenceJsonText(value: unknown): string {
   const carriedNumbers = (_key: string, inner: unknown): unknown =>
     typeof inner === 'number' && Number.isFinite(inner) ? carried(inner) : inner;

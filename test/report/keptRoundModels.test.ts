@@ -13,6 +13,7 @@ import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { readKeptModels, ROUND_MODEL_FILE, roundModelFileText } from '../../src/report/keptRoundModels.js';
 import { buildSiteRounds, type ResultInput, type RopeInput, type SiteRound } from '../../src/rounds/roundModel.js';
+import { resultInput } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
@@ -28,26 +29,8 @@ function twoRounds(): SiteRound[] {
     source: 'sheet',
   });
   let id = 1;
-  const pcr = (
-    sampleId: string,
-    ct: number | null,
-    resultClass: ResultInput['resultClass'],
-    labCall: string | null,
-  ) => ({
-    id: id++,
-    labId: 'northfield',
-    sampleId,
-    assayId: 'PRRSV',
-    ct,
-    resultClass,
-    reason: 'test',
-    loadBand: null,
-    cycleLimit: 40,
-    positiveBelow: 36,
-    suspectBelow: 40,
-    callDiffers: false,
-    labCall,
-  });
+  const pcr = (sampleId: string, ct: number | null, resultClass: ResultInput['resultClass'], labCall: string | null) =>
+    resultInput({ id: id++, sampleId, ct, resultClass, positiveBelow: 36, suspectBelow: 40, labCall });
   return buildSiteRounds(
     site,
     [rope('S1', 'A1', '2026-08-03'), rope('S2', 'A2', '2026-08-03'), rope('S3', 'A1', '2026-08-10')],

@@ -6,7 +6,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import type { RoundSummary } from '../../src/analysis/roundSummary.js';
 import { replacementCell } from '../../src/report/roundNotes.js';
-import { correctionsByPenAssay } from '../../src/report/summaryRecords.js';
+import { correctionsByPenAssay, penAssayKey } from '../../src/report/summaryRecords.js';
 
 type Replaced = RoundSummary['replaced'][number];
 
@@ -54,11 +54,12 @@ describe('corrections of a pen row', () => {
         for (const barnId of ['F1', 'F2'])
           for (const penId of ['A1', 'A2', 'B1'])
             for (const assayId of ['PRRSV', 'PED']) {
+              // Expected: the code before, same inputs (a search of the round's replaced reports per pen row).
               const searched = replaced
                 .filter((entry) => entry.barnId === barnId && entry.penId === penId && entry.assayId === assayId)
                 .map(replacementCell)
                 .join('; ');
-              expect(cells.get(`${barnId}\n${penId}\n${assayId}`) ?? '').toBe(searched);
+              expect(cells.get(penAssayKey(barnId, penId, assayId)) ?? '').toBe(searched);
             }
       }),
     );

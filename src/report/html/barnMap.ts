@@ -350,13 +350,8 @@ function penLayer(geometry: BarnGeometry, options: Omit<MapOptions, 'key'>, full
     else layer.append(penPieces(pen, result, plannedMark, { full, fontSize }));
   }
   if (keep) {
-    let byGeometry = LAYERS.get(results);
-    if (!byGeometry) {
-      byGeometry = new WeakMap();
-      LAYERS.set(results, byGeometry);
-    }
     const drawn = layer.pieces()[0]!;
-    byGeometry.set(geometry, drawn);
+    keptFor(LAYERS, results, () => new WeakMap()).set(geometry, drawn);
     into.text(drawn);
   }
 }
