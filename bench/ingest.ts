@@ -12,8 +12,9 @@
  * Generation happens before any timing. Every run is a child process of its own, so that its
  * peak RSS (VmHWM, proc(5)) belongs to it alone, and it runs the compiled program (dist/, as
  * installed; `npm run bench` builds it): from the TypeScript sources the parse worker would
- * compile its modules through tsx on its own thread, inside the timing, work the program never does. The 1M-row comparison is repeated REPEATS times,
- * floor and ingest alternating, and the median of the per-pair ratios is reported with their
+ * compile its modules through tsx on its own thread, inside the timing, work the program never
+ * does. The 1M-row comparison is repeated REPEATS times, floor and ingest alternating, and the
+ * median of the per-pair ratios is reported with their
  * range (on a shared machine one pair can be off by a third). Peak memory is compared at 1M and
  * 2M rows: streaming keeps it flat. Every part prints its checksum (rows stored).
  *
@@ -29,7 +30,7 @@ import { parse } from 'csv-parse';
 import { addDays, format } from 'date-fns';
 import type { ingestFile } from '../src/ingest/ingestFile.js';
 import type { processFile } from '../src/pipeline.js';
-import { openWorkspace, type Workspace, type WorkspacePaths } from '../src/workspace.js';
+import type { openWorkspace, Workspace, WorkspacePaths } from '../src/workspace.js';
 import type { StoreLocation } from '../src/workspacePaths.js';
 import { compiledBin } from '../test/helpers/compiledCli.js';
 import { NORTHFIELD_HEADER, northfieldLine, patternSampleId, writeManySiteConfig } from '../test/helpers/hardening.js';
@@ -173,13 +174,13 @@ export async function compiledIngest(): Promise<CompiledIngest> {
 }
 
 /**
- * Opens the workspace with the bench's fixed clock (through `open`: the compiled program's in a
- * timed child), `file` copied into its inbox (its path there is `target`).
+ * Opens the workspace with the bench's fixed clock through `open` (the compiled program's, from
+ * compiledIngest), `file` copied into its inbox (its path there is `target`).
  */
 export function benchWorkspace(
   paths: WorkspacePaths,
   file: string,
-  open: typeof openWorkspace = openWorkspace,
+  open: typeof openWorkspace,
 ): { ws: Workspace; target: string } {
   fs.mkdirSync(paths.inbox, { recursive: true });
   const target = path.join(paths.inbox, path.basename(file));

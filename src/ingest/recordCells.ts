@@ -90,16 +90,6 @@ export function cellAt(cells: readonly string[], position: number | undefined): 
   return position === undefined ? undefined : (cells[position] ?? '').trim();
 }
 
-/** A date column: null when the lab has none or left it blank, undefined when it is not a date. */
-export function dateAt(
-  cells: readonly string[],
-  position: number | undefined,
-  dateFormat: string,
-): string | null | undefined {
-  const text = cellAt(cells, position);
-  return text === undefined || text === '' ? null : parseDateCell(text, dateFormat);
-}
-
 /**
  * The key that makes a re-sent report idempotent: 52 bits of SHA-1 over what the lab reported
  * (assay name, Ct, call, case, report date, status, control). Stored beside sample, assay and lab

@@ -57,7 +57,10 @@ interface FileMemo {
 }
 const memoByContext = new WeakMap<ResultContext, FileMemo>();
 
-/** A date column read as dateAt reads it, the last cell's text and reading kept for the next row. */
+/**
+ * A date column: null when the lab has none or left it blank, undefined when it is not a date.
+ * The last cell's text and reading are kept for the next row.
+ */
 class DateColumn {
   private lastText = '';
   private lastDate: string | null | undefined = null;

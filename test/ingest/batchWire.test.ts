@@ -139,11 +139,14 @@ describe('batch wire format', () => {
     expect(new WireRows(wire).at(42)).toEqual(row(42));
   });
 
-  it('keeps a dictionary for a column whose values come back, and gives it up for one whose values never do', () => {
-    // Two assays per sample, alternating; a case number of its own on every row.
+  it('keeps a dictionary for a column whose values come back, and gives it up for one whose values hardly ever do', () => {
+    // Two assays per sample, alternating; a case number of its own on every row, except every
+    // hundredth row from the 100th on, which repeats the first row's, long after the trial ended.
+    // By construction: a kept dictionary would list NV-0 once (397 values), a given-up one once
+    // per run (400).
     const rows = Array.from({ length: 400 }, (_, i) => ({
       assayId: i % 2 === 0 ? 'PRRSV' : 'IAV',
-      accession: `NV-${i}`,
+      accession: i > 0 && i % 100 === 0 ? 'NV-0' : `NV-${i}`,
       sampleId: `S-${Math.floor(i / 2)}`,
     }));
     const wire = encodeBatch({

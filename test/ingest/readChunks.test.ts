@@ -13,9 +13,21 @@ const workspace = workspacesPerTest();
 
 const NF_HEADER =
   'Case No,Sample ID,Test Name,Ct Value,Interpretation,Internal Control,Collection Date,Report Date,Report Status';
-/** Case numbers of 2-, 3- and 4-byte UTF-8 characters, so that chunk ends fall inside characters. */
-const caseNumber = (i: number) => `NVÄ€😀-${i}`;
+/**
+ * Case numbers of 2-, 3- and 4-byte UTF-8 characters. These counts put two chunk ends of this
+ * file inside a character (one inside a 2-byte Ä, one inside a 3-byte €), checked below.
+ */
+const caseNumber = (i: number) => `NVÄÄ€€€😀😀😀-${i}`;
 const ROWS = 3000;
+/** Bytes per chunk: READ_CHUNK_BYTES in src/ingest/mappedBatches.ts. */
+const CHUNK_BYTES = 64 * 1024;
+
+/** How many chunk ends fall on a UTF-8 continuation byte (10xxxxxx, RFC 3629 section 3), inside a character. */
+function chunkEndsInsideCharacters(bytes: Buffer): number {
+  let inside = 0;
+  for (let at = CHUNK_BYTES; at < bytes.length; at += CHUNK_BYTES) if ((bytes[at]! & 0xc0) === 0x80) inside++;
+  return inside;
+}
 
 describe('reading a file in chunks', () => {
   for (const thread of ['main thread', 'parse worker'] as const) {
@@ -33,8 +45,9 @@ describe('reading a file in chunks', () => {
       );
       const file = path.join(ws.paths.inbox, 'nvdl_chunks.csv');
       fs.writeFileSync(file, `${[NF_HEADER, ...lines].join('\n')}\n`);
-      // Several 64 KiB chunks.
-      expect(fs.statSync(file).size).toBeGreaterThan(4 * 64 * 1024);
+      // Several chunks, and chunk ends that cut a character.
+      expect(fs.statSync(file).size).toBeGreaterThan(4 * CHUNK_BYTES);
+      expect(chunkEndsInsideCharacters(fs.readFileSync(file))).toBe(2);
       const receipt = await ingestFile(file, deps);
       expect(receipt.status).toBe('accepted');
       expect(receipt.rows.accepted).toBe(ROWS);
