@@ -231,6 +231,31 @@ export interface OpenFileEffects {
   resolved: string[];
   /** The sites it touched. */
   sites: string[];
+  /** What it changed of each site it touched, in the order of `sites`. */
+  changes: SiteChange[];
+}
+
+/**
+ * What one committed file changed of a site's rounds, logged under the site version it made: a
+ * build whose outputs show an earlier version re-forms only the rounds these changes can reach
+ * (src/rounds/roundHorizon.ts).
+ */
+export interface SiteChange {
+  siteId: string;
+  /**
+   * The earliest day among the ropes the file hung and the ropes whose sample or pool it reported:
+   * a round that ended before the round holding this day is unchanged. null: no rope and no report
+   * of a rope changed (a planned rope's result only: plans are read whole by every build).
+   */
+  fromDay: string | null;
+}
+
+/** What the change log holds for a site after a version. */
+export interface SiteChangesSince {
+  /** How many commits it logs after the version (the log is whole when it is the versions between). */
+  commits: number;
+  /** The earliest fromDay among them (null when none names a day). */
+  fromDay: string | null;
 }
 
 /** A refused row of a stored file that nothing of that file has taken the place of. */
@@ -249,8 +274,11 @@ export interface FileWriter {
   insertRejections(fileId: number, rejections: readonly RowRejection[]): void;
   finishFile(fileId: number, counts: { accepted: number; rejected: number; duplicate: number }): void;
   openFileEffects(): OpenFileEffects;
-  /** Counts up the version of each site the open file changed: their outputs are now behind. */
-  bumpSiteVersions(siteIds: readonly string[]): void;
+  /**
+   * Counts up the version of each site the open file changed (their outputs are now behind) and
+   * logs what it changed under the new version.
+   */
+  bumpSiteVersions(changes: readonly SiteChange[]): void;
   commit(): void;
   rollback(): void;
 }
@@ -291,22 +319,33 @@ export interface SiteInputs {
 }
 
 /**
- * What tells whether a round's inputs changed, without its results' contents: every rope of the
- * site (as `SiteInputs.ropes`), the reports of each of its samples as keys, and the plans and
- * refusals (few rows) whole.
+ * What a build reads of a site before its ropes: the plans and refusals (few rows) whole, and the
+ * change log, from which it decides the day to read ropes from (RopeHorizon).
  */
-export interface SiteOutline {
+export interface OutlineHead {
   version: number;
-  ropes: StoredRope[];
-  /**
-   * By sample ID (ropes, pools and planned ropes of the site): how many reports it has, the newest
-   * one's id and how many of them another replaced ("3/1520/2"). Reports and the links between
-   * them are only ever added, so a new report, a correction or a new link changes it.
-   */
-  reportKeys: ReadonlyMap<string, string>;
   planned: PlannedRope[];
   plannedWithoutResults: PlannedRope[];
+  /** The sample IDs of planned ropes without results that hang as ropes of the site. */
+  plannedPlaced: string[];
   mistyped: MistypedRefusal[];
+}
+
+/**
+ * What tells whether a round's inputs changed, without its results' contents: the site's ropes
+ * (as `SiteInputs.ropes`) from `ropesFrom` on, the reports of each of their samples as keys, and
+ * the plans and refusals whole.
+ */
+export interface SiteOutline extends OutlineHead {
+  /** The ropes hung on or after `ropesFrom` (every rope when it is undefined). */
+  ropes: StoredRope[];
+  ropesFrom: string | undefined;
+  /**
+   * By sample ID (those ropes, their pools, and the site's planned ropes): how many reports it
+   * has, the newest one's id and how many of them another replaced ("3/1520/2"). Reports and the
+   * links between them are only ever added, so a new report, a correction or a new link changes it.
+   */
+  reportKeys: ReadonlyMap<string, string>;
 }
 
 /**
@@ -314,6 +353,12 @@ export interface SiteOutline {
  * sample IDs whose results and replaced reports are read (undefined: all of the site's).
  */
 export type SampleChoice = (outline: SiteOutline) => readonly string[] | undefined;
+
+/**
+ * The day from which a build reads a site's ropes (undefined: all of them), decided from the
+ * outline's head and the change log after a version (`changesSince`), in the same committed state.
+ */
+export type RopeHorizon = (head: OutlineHead, changesSince: (version: number) => SiteChangesSince) => string | undefined;
 
 /** A stored file with its row counts. */
 export type StoredFileCounts = StoredFile & { rowsAccepted: number; rowsRejected: number; rowsDuplicate: number };
@@ -327,7 +372,11 @@ export interface StoreReader {
    * The site's outline and, from the same committed state, its inputs with the results and
    * replaced reports of the samples `choose` names only.
    */
-  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs };
+  siteInputsChosen(
+    siteId: string,
+    choose: SampleChoice,
+    horizon?: RopeHorizon,
+  ): { outline: SiteOutline; inputs: SiteInputs };
   findFileByHash(sha256: string): StoredFile | undefined;
   openRefusals(fileId: number): OpenRefusal[];
   getMeta(key: string): string | undefined;

@@ -298,7 +298,7 @@ function storeInOneTransaction(unit: ReadUnit, receipt: Receipt, deps: ReceiveDe
     receipt.unresolvedNotListed = effects.unresolvedCount - effects.unresolved.length;
     receipt.resolvedSampleIds = effects.resolved;
     receipt.sites = effects.sites;
-    deps.store.bumpSiteVersions(receipt.sites);
+    deps.store.bumpSiteVersions(effects.changes);
     deps.store.commit();
   } catch (error) {
     deps.store.rollback();

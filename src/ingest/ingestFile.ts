@@ -317,7 +317,7 @@ function finishAndCommit(inHand: FileInHand, fileId: number, kind: InputKind['ki
   }
   receipt.resolvedSampleIds = effects.resolved;
   receipt.sites = effects.sites;
-  deps.store.bumpSiteVersions(receipt.sites);
+  deps.store.bumpSiteVersions(effects.changes);
   requireUnchanged(inHand);
   deps.store.commit();
 }

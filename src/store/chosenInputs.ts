@@ -4,16 +4,29 @@
  * (StoreReader.siteInputsChosen), over the read queries each backend writes in its own dialect.
  */
 import type { MistypedRefusal, PlannedRope, ReplacedReport, StoredResult, StoredRope } from '../domain/records.js';
-import type { SampleChoice, SiteInputs, SiteOutline } from '../domain/store.js';
+import type {
+  OutlineHead,
+  RopeHorizon,
+  SampleChoice,
+  SiteChangesSince,
+  SiteInputs,
+  SiteOutline,
+} from '../domain/store.js';
 
 /** The queries the outline and the chosen inputs are read with. */
 export interface OutlineQueries {
   snapshot<T>(read: () => T): T;
   siteVersion(siteId: string): number;
-  ropes(siteId: string): StoredRope[];
-  reportKeys(siteId: string): Map<string, string>;
+  /** The site's ropes, those hung on or after `fromDay` when it is given. */
+  ropes(siteId: string, fromDay?: string): StoredRope[];
+  /** SiteOutline.reportKeys: of the ropes hung on or after `fromDay` when it is given. */
+  reportKeys(siteId: string, fromDay?: string): Map<string, string>;
   plannedRopes(siteId: string): PlannedRope[];
   plannedWithoutResults(siteId: string): PlannedRope[];
+  /** OutlineHead.plannedPlaced. */
+  plannedPlaced(siteId: string): string[];
+  /** The site's change log after `version`. */
+  siteChangesSince(siteId: string, version: number): SiteChangesSince;
   mistypedRefusals(siteId: string): MistypedRefusal[];
   currentResults(siteId: string): StoredResult[];
   currentResultsOf(sampleIds: readonly string[]): StoredResult[];
@@ -33,19 +46,30 @@ export function siteInputsOf(queries: OutlineQueries, siteId: string): SiteInput
   }));
 }
 
+/**
+ * The outline and the chosen inputs from one committed state: the head first, then the ropes
+ * from the day `horizon` names (all of them without one), then the results `choose` names.
+ */
 export function chosenInputs(
   queries: OutlineQueries,
   siteId: string,
   choose: SampleChoice,
+  horizon?: RopeHorizon,
 ): { outline: SiteOutline; inputs: SiteInputs } {
   return queries.snapshot(() => {
-    const outline: SiteOutline = {
+    const head: OutlineHead = {
       version: queries.siteVersion(siteId),
-      ropes: queries.ropes(siteId),
-      reportKeys: queries.reportKeys(siteId),
       planned: queries.plannedRopes(siteId),
       plannedWithoutResults: queries.plannedWithoutResults(siteId),
+      plannedPlaced: queries.plannedPlaced(siteId),
       mistyped: queries.mistypedRefusals(siteId),
+    };
+    const ropesFrom = horizon?.(head, (version) => queries.siteChangesSince(siteId, version));
+    const outline: SiteOutline = {
+      ...head,
+      ropes: queries.ropes(siteId, ropesFrom),
+      ropesFrom,
+      reportKeys: queries.reportKeys(siteId, ropesFrom),
     };
     const samples = choose(outline);
     const inputs: SiteInputs = {

@@ -24,7 +24,9 @@ import type {
   OpenRefusal,
   RejectedFile,
   RowRules,
+  RopeHorizon,
   SampleChoice,
+  SiteChange,
   SiteFacts,
   SiteInputs,
   SiteOutline,
@@ -72,8 +74,8 @@ export abstract class ComposedStore implements StoreBackend {
   openFileEffects(): OpenFileEffects {
     return this.writer.openFileEffects();
   }
-  bumpSiteVersions(siteIds: readonly string[]): void {
-    this.writer.bumpSiteVersions(siteIds);
+  bumpSiteVersions(changes: readonly SiteChange[]): void {
+    this.writer.bumpSiteVersions(changes);
   }
   commit(): void {
     this.writer.commit();
@@ -102,8 +104,12 @@ export abstract class ComposedStore implements StoreBackend {
   siteInputs(siteId: string): SiteInputs {
     return this.reader.siteInputs(siteId);
   }
-  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
-    return this.reader.siteInputsChosen(siteId, choose);
+  siteInputsChosen(
+    siteId: string,
+    choose: SampleChoice,
+    horizon?: RopeHorizon,
+  ): { outline: SiteOutline; inputs: SiteInputs } {
+    return this.reader.siteInputsChosen(siteId, choose, horizon);
   }
   findFileByHash(sha256: string): StoredFile | undefined {
     return this.reader.findFileByHash(sha256);

@@ -310,4 +310,20 @@ export const MIGRATIONS: readonly Migration[] = [
     JOIN analysis_rope_rounds rr ON rr.sample_id = s.sample_id OR rr.pool_id = s.sample_id;
   `,
   },
+  {
+    sql: `
+  -- 10: what each committed file changed of a site, under the version it gave the site: the
+  -- earliest day among the ropes it hung and the ropes whose samples or pools it reported (NULL
+  -- when it changed no rope and no report of one: a plan's result only). A build whose outputs
+  -- show an earlier version reads the ropes only from the round holding the earliest such day on
+  -- (src/rounds/roundHorizon.ts). A store made before has no log for its versions so far: its next
+  -- build reads every rope, as before.
+  CREATE TABLE site_changes (
+    site_id TEXT NOT NULL,
+    version INTEGER NOT NULL,
+    from_day TEXT,
+    PRIMARY KEY (site_id, version)
+  ) WITHOUT ROWID;
+  `,
+  },
 ];

@@ -16,7 +16,9 @@ import type {
 import type { RowRejection } from '../domain/rejections.js';
 import type {
   OpenRefusal,
+  RopeHorizon,
   SampleChoice,
+  SiteChangesSince,
   SiteInputs,
   SiteOutline,
   StoreCounts,
@@ -113,9 +115,17 @@ function resultOfCells(
  * The samples of a site's ropes, of the pools they were tested in and of its planned ropes (and
  * their pools): a condition on `r.sample` with the parameter @siteId.
  */
-const SITE_SAMPLES = `r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId
-   UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL
+const SITE_SAMPLES = siteSamples('');
+
+/** SITE_SAMPLES with the ropes narrowed by `ropeCondition` (on the ropes' columns). */
+function siteSamples(ropeCondition: string): string {
+  return `r.sample IN (SELECT sample FROM ropes WHERE site_id = @siteId ${ropeCondition}
+   UNION SELECT pool FROM ropes WHERE site_id = @siteId AND pool IS NOT NULL ${ropeCondition}
    UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = @siteId)`;
+}
+
+/** SITE_SAMPLES of the ropes hung on or after @fromDay (the site's index on site and day finds them). */
+const SITE_SAMPLES_FROM = siteSamples('AND hung_on >= @fromDay');
 
 export class SqliteReader implements StoreReader {
   /** @param fileOpen whether the connection is inside a file's transaction (then reads see it). */
@@ -132,23 +142,30 @@ export class SqliteReader implements StoreReader {
     return siteInputsOf(this, siteId);
   }
 
-  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
-    return chosenInputs(this, siteId, choose);
+  siteInputsChosen(
+    siteId: string,
+    choose: SampleChoice,
+    horizon?: RopeHorizon,
+  ): { outline: SiteOutline; inputs: SiteInputs } {
+    return chosenInputs(this, siteId, choose, horizon);
   }
 
-  /** The site's samples (as `currentResults` chooses them) and their reports' keys (SiteOutline.reportKeys). */
-  reportKeys(siteId: string): Map<string, string> {
+  /**
+   * The site's samples (as `currentResults` chooses them; of the ropes hung on or after `fromDay`
+   * when it is given) and their reports' keys (SiteOutline.reportKeys).
+   */
+  reportKeys(siteId: string, fromDay?: string): Map<string, string> {
     // Reports are only added (never changed or removed) and links too: the count of reports, the
     // newest id and the count of replaced ones change with every change to a sample's reports.
     const rows = this.db
       .prepare(
         `SELECT s.sample_id, count(*) || '/' || max(r.id) || '/' || count(o.old_result_id)
          FROM results r JOIN samples s ON s.id = r.sample LEFT JOIN supersessions o ON o.old_result_id = r.id
-         WHERE ${SITE_SAMPLES}
+         WHERE ${fromDay === undefined ? SITE_SAMPLES : SITE_SAMPLES_FROM}
          GROUP BY r.sample`,
       )
       .raw(true)
-      .all({ siteId }) as [string, string][];
+      .all(fromDay === undefined ? { siteId } : { siteId, fromDay }) as [string, string][];
     return new Map(rows);
   }
 
@@ -214,9 +231,12 @@ export class SqliteReader implements StoreReader {
       .get(outbox, siteId) as { siteVersion: number; configDigest: string } | undefined;
   }
 
-  /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
-  ropes(siteId?: string): StoredRope[] {
-    const where = siteId === undefined ? '' : 'WHERE h.site_id = @siteId';
+  /**
+   * Every rope with a known location: rope sheets, sample patterns, and planned ropes whose
+   * results came back; with `fromDay`, those hung on or after it.
+   */
+  ropes(siteId?: string, fromDay?: string): StoredRope[] {
+    const where = `${siteId === undefined ? 'WHERE 1' : 'WHERE h.site_id = @siteId'}${fromDay === undefined ? '' : ' AND h.hung_on >= @fromDay'}`;
     // Rows come as arrays and become objects of one shape here: better-sqlite3's row objects are
     // several times slower to build and to copy on a site's whole history.
     const hung = (
@@ -226,7 +246,7 @@ export class SqliteReader implements StoreReader {
            FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool ${where} ORDER BY h.hung_on, h.site_id, h.barn_id, h.pen_id`,
         )
         .raw(true)
-        .all({ siteId }) as RopeCells[]
+        .all({ siteId, fromDay }) as RopeCells[]
     ).map(ropeOfCells);
     // A planned rope counts as hung once a result for it (or for the pool the plan put it in,
     // unless a rope sheet names that pool) arrives: on its collection date, else its due date.
@@ -238,9 +258,9 @@ export class SqliteReader implements StoreReader {
            -- A pool that a rope sheet names holds the sheet's ropes: the sheet says what was hung.
            JOIN results r ON r.sample = s.id OR (r.sample = ps.id AND NOT EXISTS (SELECT 1 FROM ropes h2 WHERE h2.pool = ps.id))
          WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = @siteId'}
-         GROUP BY p.sample_id`,
+         GROUP BY p.sample_id ${fromDay === undefined ? '' : 'HAVING hungOn >= @fromDay'}`,
       )
-      .all({ siteId }) as StoredRope[];
+      .all({ siteId, fromDay }) as StoredRope[];
     return [...hung, ...planned];
   }
 
@@ -417,6 +437,28 @@ export class SqliteReader implements StoreReader {
          ORDER BY sample_id`,
       )
       .all(siteId) as PlannedRope[];
+  }
+
+  /** OutlineHead.plannedPlaced. */
+  plannedPlaced(siteId: string): string[] {
+    return this.db
+      .prepare(
+        `SELECT p.sample_id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id JOIN ropes h ON h.sample = s.id
+         WHERE p.site_id = ? AND h.site_id = p.site_id
+           AND NOT EXISTS (SELECT 1 FROM samples s2 JOIN results r ON r.sample = s2.id WHERE s2.sample_id = p.sample_id OR s2.sample_id = p.pool_id)
+         ORDER BY p.sample_id`,
+      )
+      .pluck()
+      .all(siteId) as string[];
+  }
+
+  /** The site's change log after `version`: how many commits, and the earliest day they name. */
+  siteChangesSince(siteId: string, version: number): SiteChangesSince {
+    return this.db
+      .prepare(
+        'SELECT count(*) AS commits, min(from_day) AS fromDay FROM site_changes WHERE site_id = ? AND version > ?',
+      )
+      .get(siteId, version) as SiteChangesSince;
   }
 
   files(): StoredFileCounts[] {

@@ -13,6 +13,7 @@ import {
   type InsertCounts,
   type RowRules,
   type SampleRopeState,
+  type SiteChange,
 } from '../domain/store.js';
 import type { RowSink, StoredSample } from './rowSink.js';
 
@@ -24,6 +25,8 @@ interface SampleInFile extends SampleRopeState {
   /** Assay and lab of each row this file has stored for it, in pairs (a sample has a few assays). */
   reported: string[];
   ropeSiteId: string | undefined;
+  /** The day its rope hangs on (with ropeSiteId). */
+  ropeHungOn: string | undefined;
   /** The file stored a result for it, and counted it for the receipt. */
   counted: boolean;
 }
@@ -31,8 +34,32 @@ interface SampleInFile extends SampleRopeState {
 /** What the open file changed, gathered while it is stored (for its receipt and outputs). */
 export interface FileEffects {
   sites: Set<string>;
+  /**
+   * By site, the earliest day among the ropes the file hung and the ropes of the samples it
+   * reported (SiteChange.fromDay; pools and plans are found by the store at the end of the file).
+   */
+  fromDay: Map<string, string>;
   /** Samples with results before this file that its ropes placed (the first ones by ID, bounded). */
   resolved: string[];
+}
+
+/**
+ * The sites a file touched, and what it changed of each (OpenFileEffects): the days the flow
+ * noted, with the sites and days the store found for pools and plans at the end of the file
+ * (`found`: a day of null names a site only).
+ */
+export function siteChanges(
+  effects: FileEffects,
+  found: readonly { id: string; day: string | null }[],
+): { sites: string[]; changes: SiteChange[] } {
+  const fromDay = new Map<string, string | null>();
+  for (const site of effects.sites) fromDay.set(site, effects.fromDay.get(site) ?? null);
+  for (const { id, day } of found) {
+    const earliest = fromDay.get(id) ?? null;
+    fromDay.set(id, day === null || (earliest !== null && earliest <= day) ? earliest : day);
+  }
+  const sites = [...fromDay.keys()].sort();
+  return { sites, changes: sites.map((siteId) => ({ siteId, fromDay: fromDay.get(siteId)! })) };
 }
 
 /** Samples remembered per file; rows of one sample usually sit together. */
@@ -49,7 +76,7 @@ export class RowWriter {
   /** The last sample met and its ID (two fields, no pair object per sample): a sample's assays come on neighbouring rows. */
   private lastSampleId: string | undefined;
   private lastSample: SampleInFile | undefined;
-  effects: FileEffects = { sites: new Set(), resolved: [] };
+  effects: FileEffects = { sites: new Set(), fromDay: new Map(), resolved: [] };
   /** The last encoded rope met, and its location key (ropeKey). */
   private lastRope: RopeLocation | undefined;
   private lastRopeKey = '';
@@ -62,7 +89,7 @@ export class RowWriter {
     this.lastSampleId = undefined;
     this.lastSample = undefined;
     this.lastRope = undefined;
-    this.effects = { sites: new Set(), resolved: [] };
+    this.effects = { sites: new Set(), fromDay: new Map(), resolved: [] };
   }
 
   /** Ends the file; after a rollback, reasons first stored by it are gone with it. */
@@ -102,6 +129,7 @@ export class RowWriter {
       reported: [],
       ropedAt: stored?.siteId == null ? undefined : locationKey(stored as RopeLocation),
       ropeSiteId: stored?.siteId ?? undefined,
+      ropeHungOn: stored?.hungOn ?? undefined,
       patternTriedAt: undefined,
       patternRefusal: undefined,
       counted: false,
@@ -160,7 +188,7 @@ export class RowWriter {
       else sample.reported.push(row.assayId, row.labId);
       if (!sample.counted) {
         sample.counted = true;
-        if (sample.ropeSiteId !== undefined) this.effects.sites.add(sample.ropeSiteId);
+        if (sample.ropeSiteId !== undefined) this.noteChange(sample.ropeSiteId, sample.ropeHungOn!);
         else this.sink.noteUnplaced(sample.key);
       }
     }
@@ -249,7 +277,8 @@ export class RowWriter {
       if (row.warning) counts.warnings.push(`line ${row.line}: ${row.warning}`);
       sample.ropedAt = location;
       sample.ropeSiteId = row.siteId;
-      this.effects.sites.add(row.siteId);
+      sample.ropeHungOn = row.hungOn;
+      this.noteChange(row.siteId, row.hungOn);
       if (sample.hadResults) {
         this.effects.resolved.push(row.sampleId);
         if (this.effects.resolved.length >= 2 * RECEIPT_LIST_LIMIT)
@@ -262,6 +291,13 @@ export class RowWriter {
     const conflict = rules.ropeConflict(row, source, { existing, clashSampleId });
     if (conflict.kind === 'already-hung') counts.duplicates += source === 'sheet' ? 1 : 0;
     else counts.rejections.push(conflict.rejection);
+  }
+
+  /** The file changed the rounds of `siteId` from the one holding `day` on. */
+  private noteChange(siteId: string, day: string): void {
+    this.effects.sites.add(siteId);
+    const earliest = this.effects.fromDay.get(siteId);
+    if (earliest === undefined || day < earliest) this.effects.fromDay.set(siteId, day);
   }
 
   /** Stores a batch of rope-sheet rows. */

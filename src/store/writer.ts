@@ -14,6 +14,7 @@ import {
   FileAlreadyStoredError,
   StoreBusyError,
   RECEIPT_LIST_LIMIT,
+  type SiteChange,
   type FileToStore,
   type InsertCounts,
   type OpenFileEffects,
@@ -21,7 +22,7 @@ import {
   type RowRules,
   type StoreWriter,
 } from '../domain/store.js';
-import { RowWriter } from './rowWriter.js';
+import { RowWriter, siteChanges } from './rowWriter.js';
 import { prepareRowStatements, type RowStatements } from './rowStatements.js';
 import { SqliteRowSink } from './sqliteRowSink.js';
 
@@ -38,6 +39,9 @@ export class SqliteWriter implements StoreWriter {
     this.statements = prepareRowStatements(db);
     this.rows = new RowWriter(new SqliteRowSink(this.statements));
   }
+
+  /** The open file's id (its ropes carry it). */
+  private fileId = 0;
 
   get fileOpen(): boolean {
     return this.inFile;
@@ -56,6 +60,11 @@ export class SqliteWriter implements StoreWriter {
    *   lock serialises writers, so no other writer stores rows in between (no StoreConflictError).
    */
   beginFile(file: FileToStore, rules: RowRules, options: BeginFileOptions = {}): number {
+    this.fileId = this.openFile(file, rules, options);
+    return this.fileId;
+  }
+
+  private openFile(file: FileToStore, rules: RowRules, options: BeginFileOptions): number {
     if (this.inFile) throw new Error('a file transaction is already open');
     // Inside a file's transaction every parent row (file, sample, reason) is written before the
     // rows that name it, so SQLite's per-row foreign-key look-ups (a fifth of the cost of
@@ -151,30 +160,43 @@ export class SqliteWriter implements StoreWriter {
          ORDER BY s.sample_id LIMIT ?`,
       )
       .all(RECEIPT_LIST_LIMIT) as { id: string; n: number }[];
-    // Planned sample IDs resolve to the plan's pen, a pool's result to its ropes' pens: their sites are touched too.
-    const plannedSites = this.db
+    // Planned sample IDs resolve to the plan's pen, a pool's result to its ropes' pens: their sites
+    // are touched too. A pool's ropes change from their day; a planned rope counts as hung from its
+    // result's collection date or its due date (`ropes`), and stops counting once a sheet hangs it
+    // or names its pool: the earlier of the two bounds where it was and where it is.
+    const touched = this.db
       .prepare(
-        `SELECT p.site_id AS id FROM temp.file_unplaced f JOIN samples s ON s.id = f.sample JOIN planned_ropes p ON p.sample_id = s.sample_id OR p.pool_id = s.sample_id
-         UNION SELECT h.site_id FROM temp.file_unplaced f JOIN ropes h ON h.pool = f.sample`,
+        `SELECT h.site_id AS id, min(h.hung_on) AS day FROM temp.file_unplaced f JOIN ropes h ON h.pool = f.sample GROUP BY h.site_id
+         UNION ALL
+         SELECT p.site_id AS id, min(min(p.due_on, COALESCE(
+                  (SELECT min(r.collected_on) FROM samples s2 JOIN results r ON r.sample = s2.id WHERE s2.sample_id = p.sample_id OR s2.sample_id = p.pool_id),
+                  p.due_on))) AS day
+         FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id
+         WHERE s.id IN (SELECT sample FROM temp.file_unplaced)
+            OR EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id AND h.file_id = @fileId)
+            OR EXISTS (SELECT 1 FROM ropes h WHERE h.pool = s.id AND h.file_id = @fileId)
+         GROUP BY p.site_id`,
       )
-      .pluck()
-      .all() as string[];
+      .all({ fileId: this.fileId }) as { id: string; day: string | null }[];
     const { effects } = this.rows;
     return {
       unresolved: unresolved.map((row) => row.id),
       unresolvedCount: unresolved[0]?.n ?? 0,
       resolved: effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT),
-      sites: [...new Set([...effects.sites, ...plannedSites])].sort(),
+      ...siteChanges(effects, touched),
     };
   }
 
-  /** Counts up the version of each site the open file changed: their outputs are now behind. */
-  bumpSiteVersions(siteIds: readonly string[]): void {
+  /** Counts up the version of each site the open file changed (their outputs are now behind) and logs the change. */
+  bumpSiteVersions(changes: readonly SiteChange[]): void {
     this.requireFile();
-    const bump = this.db.prepare(
-      'INSERT INTO site_versions (site_id, version) VALUES (?, 1) ON CONFLICT (site_id) DO UPDATE SET version = version + 1',
-    );
-    for (const siteId of siteIds) bump.run(siteId);
+    const bump = this.db
+      .prepare(
+        'INSERT INTO site_versions (site_id, version) VALUES (?, 1) ON CONFLICT (site_id) DO UPDATE SET version = version + 1 RETURNING version',
+      )
+      .pluck();
+    const log = this.db.prepare('INSERT INTO site_changes (site_id, version, from_day) VALUES (?, ?, ?)');
+    for (const change of changes) log.run(change.siteId, bump.get(change.siteId), change.fromDay);
   }
 
   commit(): void {
