@@ -49,7 +49,9 @@ const FIRST_ROUND = new Date(2026, 0, 5);
  * Writes an export of `rows` rows: every `every`-th pen of every barn roped each round (rounds
  * 14 days apart, the start moving one pen per round), one row per rope and assay, sample IDs in each site's pattern (no rope sheet needed).
  * `firstRound` shifts the dates (round k starts 14 k days after the first), so a later export
- * continues an earlier one. Streams to disk in blocks; returns the number of rounds.
+ * continues an earlier one. With `patternRound`, every round's pens and positives are those of
+ * that round (only the dates move on): one export dropped after histories of different lengths
+ * is then the same work. Streams to disk in blocks; returns the number of rounds.
  */
 export function writeBigExport(
   file: string,
@@ -57,6 +59,7 @@ export function writeBigExport(
   shape: { sites: number; barnsPerSite: number; pensPerRow: number } = SHAPE,
   every = 1,
   firstRound = 0,
+  patternRound?: number,
 ): number {
   const pensPerBarn = 2 * shape.pensPerRow;
   const perRound = shape.sites * shape.barnsPerSite * Math.ceil(pensPerBarn / every) * ASSAYS.length;
@@ -74,22 +77,23 @@ export function writeBigExport(
       const iso = format(day, 'yyyy-MM-dd');
       const compact = format(day, 'yyyyMMdd');
       const reported = format(addDays(day, 3), 'yyyy-MM-dd');
+      const pattern = patternRound ?? round;
       for (let site = 0; site < shape.sites && written < rows; site++) {
         for (let barn = 1; barn <= shape.barnsPerSite && written < rows; barn++) {
           for (let pen = 1; pen <= pensPerBarn && written < rows; pen++) {
             // Every `every`-th pen, the start moving one pen each round (systematic sampling).
-            if ((pen + round) % every !== 0) continue;
+            if ((pen + pattern) % every !== 0) continue;
             const sampleId = patternSampleId(site, barn, pen, compact);
             for (const assay of ASSAYS) {
               if (written >= rows) break;
               // About one rope in 40 positive, with a Ct between 24 and 36.
-              const positive = (site * 7 + barn * 3 + pen * 11 + round * 5) % 40 === 0 && assay === 'PRRSV';
+              const positive = (site * 7 + barn * 3 + pen * 11 + pattern * 5) % 40 === 0 && assay === 'PRRSV';
               block.push(
                 northfieldLine(
                   `NV-${written}`,
                   sampleId,
                   assay,
-                  positive ? (24 + ((pen + round) % 120) / 10).toFixed(1) : 'Undetermined',
+                  positive ? (24 + ((pen + pattern) % 120) / 10).toFixed(1) : 'Undetermined',
                   iso,
                   reported,
                 ),

@@ -59,9 +59,16 @@ export async function storeRounds(dir: string, sites: number, rounds: number, no
   }
 }
 
-/** Writes the export of round `round` (0-based) of every site to `file`. */
+/**
+ * The round whose pens and positives every dropped export carries: the same drop after every
+ * history length, so that a ratio of two drops measures the history, not the findings of a
+ * different round (how many pens are positive, and where, sets the spatial review's work).
+ */
+export const DROP_PATTERN_ROUND = 5;
+
+/** Writes the export of round `round` (0-based) of every site to `file`: its dates, with the pens and positives of DROP_PATTERN_ROUND. */
 export function writeRoundExport(file: string, sites: number, round: number): void {
-  writeBigExport(file, rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY, round);
+  writeBigExport(file, rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY, round, DROP_PATTERN_ROUND);
 }
 
 export interface OutboxFigures {

@@ -44,6 +44,8 @@ import { jsonText } from './report/jsonText.js';
 import { storeTidyRounds, TIDY_TABLES, tidyHeader } from './report/tidy/tidyTables.js';
 import type { Workspace } from './workspace.js';
 import { loadSiteRounds } from './roundsFromStore.js';
+import type { RoundKey } from './rounds/roundInputKeys.js';
+import type { BuiltHistory } from './rounds/roundHorizon.js';
 import { type FailedBuild, finishOutputs, OutputError, type SiteBuild } from './siteBuild/results.js';
 
 export type { AnalyseOptions, SiteAnalysis };
@@ -92,6 +94,10 @@ interface RoundsToWrite {
   digests: readonly string[];
   /** What the rounds before `from` were built with, by round id. */
   built: ReadonlyMap<string, BuiltRound>;
+  /** Each round's key (its span and ropes' digest are kept in the built-rounds list). */
+  keys: readonly RoundKey[];
+  /** The committed state the build read: its site version and the keys' shared inputs digest. */
+  state: Pick<BuiltHistory, 'siteVersion' | 'shared'>;
 }
 
 /** The fields of a round the build keeps: from the list for a round left alone, else `fresh`. */
@@ -166,8 +172,12 @@ function writeSiteOutputs(ws: Workspace, analysis: SiteAnalysis, writer: OutputW
     path.join(siteDir, BUILT_ROUNDS_FILE),
     builtRoundsText(
       analysis.site.id,
+      rounds.state,
       summaries.map((summary, index) => ({
         id: summary.round.id,
+        startOn: rounds.keys[index]!.startOn,
+        endOn: rounds.keys[index]!.endOn,
+        ropes: rounds.keys[index]!.ropes,
         digest: rounds.digests[index]!,
         alerts: alertsByRound[index]!,
         records: recordsByRound[index]!,
@@ -275,18 +285,31 @@ function rebuildSite(
     for (let attempt = 1; ; attempt++) {
       const context = { config: ws.config, today: clockDay(ws.now()), cache };
       const settings = buildSettings(ws);
-      const loaded = loadSiteRounds(ws, site, { today: context.today, settings, full: options.full ?? false });
+      const built = options.full
+        ? { byId: new Map<string, BuiltRound>(), history: undefined }
+        : readBuiltRounds(siteDir, site.id);
+      const loaded = loadSiteRounds(ws, site, {
+        today: context.today,
+        settings,
+        full: options.full ?? false,
+        history: built.history,
+      });
       const { version } = loaded.inputs;
       const basis = basisOfRounds(site, loaded.rounds, loaded.inputs.planned, context, options);
       const digests = roundDigests(basis, settings, context.today, loaded.modelDigests);
-      const built = options.full ? new Map<string, BuiltRound>() : readBuiltRounds(siteDir, site.id);
-      const from = firstChanged(basis, digests, built);
+      const from = firstChanged(basis, digests, built.byId);
       const analysis = wordSiteAnalysis(completeFindings(basis, context, from));
       storePlan(ws, analysis);
       const staged = new StagedOutputs();
       try {
         loaded.keepFormed(staged);
-        writeSiteOutputs(ws, analysis, staged, { from, digests, built });
+        writeSiteOutputs(ws, analysis, staged, {
+          from,
+          digests,
+          built: built.byId,
+          keys: loaded.keys,
+          state: { siteVersion: version, shared: loaded.shared },
+        });
         staged.publish();
       } catch (error) {
         staged.discard();

@@ -3,24 +3,29 @@
  * model was formed from are taken as kept (src/report/keptRoundModels.ts); the rest, from the
  * first round whose inputs changed on, are formed from the store, reading the results of their
  * ropes only. One committed state of the store is read (the outline, then the chosen results).
- * With `full`, every round is formed from the store.
+ * After a build that kept its rounds' spans, only the ropes from the first round the change log
+ * shows changed are read (src/rounds/roundHorizon.ts). With `full`, every round is formed from
+ * the store.
  */
 import path from 'node:path';
 import type { Site } from './config/types.js';
 import type { SiteInputs } from './domain/store.js';
 import { roundModelText } from './analysis/roundDigests.js';
 import { readKeptModels, roundModelFileText, ROUND_MODEL_FILE, type KeptRoundModel } from './report/keptRoundModels.js';
-import { roundKeys, type RoundKey } from './rounds/roundInputKeys.js';
+import { roundKeys, sharedInputsDigest, type RoundKey } from './rounds/roundInputKeys.js';
+import { ropeHorizon, type BuiltHistory } from './rounds/roundHorizon.js';
 import { buildSiteRounds, type SiteRound } from './rounds/roundModel.js';
 import type { OutputWriter } from './report/files.js';
 import type { Workspace } from './workspace.js';
 
-/** Bumped when the round model's shape changes: models kept under another version are formed again. */
-
 export interface SiteRoundsLoaded {
-  /** The site's inputs; results and replaced reports only of the rounds formed here. */
+  /** The site's inputs; ropes, results and replaced reports only of the rounds formed here. */
   inputs: SiteInputs;
   rounds: SiteRound[];
+  /** Each round's key (src/rounds/roundInputKeys.ts). */
+  keys: RoundKey[];
+  /** The shared inputs digest of the keys. */
+  shared: string;
   /** Each round's modelDigest. */
   modelDigests: string[];
   /** The index of the first round formed from the store (the rounds before were kept). */
@@ -29,21 +34,53 @@ export interface SiteRoundsLoaded {
   keepFormed(writer: OutputWriter): void;
 }
 
-export function loadSiteRounds(
+export interface LoadOptions {
+  today: string;
+  settings: string;
+  /** Form every round from the store, whatever was kept. */
+  full: boolean;
+  /** What the last build kept: with it, only the ropes the change log shows changed are read. */
+  history?: BuiltHistory | undefined;
+}
+
+/**
+ * The site's rounds: the kept ones taken as kept, the rest formed from the store. When a round the
+ * change log shows unchanged has no kept model to take (a damaged outbox), its ropes were not
+ * read: the site is loaded again, every rope read.
+ */
+export function loadSiteRounds(ws: Workspace, site: Site, options: LoadOptions): SiteRoundsLoaded {
+  const history = options.full ? undefined : options.history;
+  return (history && loadFrom(ws, site, options, history)) ?? loadFrom(ws, site, options, undefined)!;
+}
+
+function loadFrom(
   ws: Workspace,
   site: Site,
-  options: { today: string; settings: string; full: boolean },
-): SiteRoundsLoaded {
+  options: LoadOptions,
+  history: BuiltHistory | undefined,
+): SiteRoundsLoaded | undefined {
   const siteDir = path.join(ws.outbox, site.id);
   let keys: RoundKey[] = [];
   let kept: KeptRoundModel[] = [];
-  const { outline, inputs } = ws.store.siteInputsChosen(site.id, (outline) => {
-    keys = roundKeys(site, outline, options.settings, options.today);
-    kept = options.full ? [] : readKeptModels(siteDir, keys);
-    return kept.length === 0 ? undefined : keys.slice(kept.length).flatMap((round) => round.sampleIds);
-  });
+  let unkept = false;
+  const { outline, inputs } = ws.store.siteInputsChosen(
+    site.id,
+    (outline) => {
+      const from = outline.ropesFrom;
+      const earlier = from === undefined ? [] : history!.rounds.filter((round) => round.startOn < from);
+      keys = roundKeys(site, outline, options.settings, options.today, earlier);
+      kept = options.full ? [] : readKeptModels(siteDir, keys);
+      unkept = kept.length < earlier.length;
+      if (unkept) return [];
+      return kept.length === 0 ? undefined : keys.slice(kept.length).flatMap((round) => round.sampleIds);
+    },
+    history && ropeHorizon(history, options.settings),
+  );
+  if (unkept) return undefined;
   const firstFormed = kept.length;
   const formFrom = keys[firstFormed]?.startOn;
+  const placed = new Set(outline.ropes.map((rope) => rope.sampleId));
+  for (const sampleId of outline.plannedPlaced) placed.add(sampleId);
   const formed = buildSiteRounds(
     site,
     formFrom === undefined ? [] : inputs.ropes.filter((rope) => rope.hungOn >= formFrom),
@@ -51,9 +88,7 @@ export function loadSiteRounds(
     inputs.plannedWithoutResults,
     { replaced: inputs.replaced, mistyped: inputs.mistyped },
     options.today,
-    firstFormed === 0
-      ? undefined
-      : { spans: keys.slice(0, firstFormed), placed: new Set(outline.ropes.map((rope) => rope.sampleId)) },
+    firstFormed === 0 ? undefined : { spans: keys.slice(0, firstFormed), placed },
   );
   const formedIds = formed.map((round) => round.id).join(' ');
   const expectedIds = keys
@@ -67,6 +102,8 @@ export function loadSiteRounds(
   return {
     inputs,
     rounds: [...kept.map((round) => round.model), ...formed],
+    keys,
+    shared: sharedInputsDigest(options.settings, outline.mistyped),
     modelDigests: [...kept.map((round) => round.digest), ...texts.map((text) => text.digest)],
     firstFormed,
     keepFormed(writer) {

@@ -358,7 +358,10 @@ export type SampleChoice = (outline: SiteOutline) => readonly string[] | undefin
  * The day from which a build reads a site's ropes (undefined: all of them), decided from the
  * outline's head and the change log after a version (`changesSince`), in the same committed state.
  */
-export type RopeHorizon = (head: OutlineHead, changesSince: (version: number) => SiteChangesSince) => string | undefined;
+export type RopeHorizon = (
+  head: OutlineHead,
+  changesSince: (version: number) => SiteChangesSince,
+) => string | undefined;
 
 /** A stored file with its row counts. */
 export type StoredFileCounts = StoredFile & { rowsAccepted: number; rowsRejected: number; rowsDuplicate: number };

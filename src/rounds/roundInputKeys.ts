@@ -9,7 +9,9 @@
  * day of the build (roundState). The key covers each of them: the ropes whole, the reports of each
  * sample by their count, the newest id and the count replaced (reports and links are never
  * changed in place, only added), the planned ropes whole. Refusals under a mistyped ID are few and tied to planned
- * ropes rather than rounds: every key covers all of them.
+ * ropes rather than rounds: every key covers all of them. The ropes with their reports' keys are
+ * digested apart, so that a round whose ropes the change log shows unchanged is keyed again from
+ * its kept digest, without its ropes being read.
  */
 import { createHash } from 'node:crypto';
 import type { Site } from '../config/types.js';
@@ -24,52 +26,76 @@ export interface RoundKey {
   startOn: string;
   endOn: string;
   key: string;
-  /** The sample IDs whose results the round reads: its ropes' and their pools'. */
+  /** The digest of the round's ropes with their reports' keys: the part of the key only the ropes change. */
+  ropes: string;
+  /** The sample IDs whose results the round reads: its ropes' and their pools' (none for a round taken as kept). */
   sampleIds: string[];
 }
 
+/** A round of an earlier build that the change log shows unchanged: its span and its ropes' digest. */
+export type KeptSpan = Pick<RoundKey, 'id' | 'startOn' | 'endOn' | 'ropes'>;
+
 const sha256 = (text: string): string => createHash('sha256').update(text).digest('hex');
+
+/** What every round's key rests on beyond its own ropes and plans: the settings and the refusals under a mistyped ID. */
+export function sharedInputsDigest(settings: string, mistyped: SiteOutline['mistyped']): string {
+  return sha256(`ropewatch round inputs\n${settings}\n${JSON.stringify(mistyped)}`);
+}
 
 /**
  * Every round of the site with its key.
  * @param settings what every round rests on beyond the store (the configuration's digest, the
  *   version of the cached models' format)
  * @param today the day of the build (yyyy-mm-dd)
+ * @param earlier with an outline of the ropes from `ropesFrom` on: the rounds before, as an
+ *   earlier build kept them (their ropes unchanged since, src/rounds/roundHorizon.ts). Their
+ *   plans and whether their results are due are judged again: those hang on the rounds formed now
+ *   and on `today`.
  */
-export function roundKeys(site: Site, outline: SiteOutline, settings: string, today: string): RoundKey[] {
+export function roundKeys(
+  site: Site,
+  outline: SiteOutline,
+  settings: string,
+  today: string,
+  earlier: readonly KeptSpan[] = [],
+): RoundKey[] {
+  if ((outline.ropesFrom === undefined) !== (earlier.length === 0))
+    throw new Error(`site ${site.id}: an outline from a day goes with the rounds kept before it, and only then`);
   const siteRopes = outline.ropes.filter((rope) => rope.siteId === site.id);
-  const rounds = formRounds(site.id, siteRopes, site.program.roundWindowDays);
+  const formed = formRounds(site.id, siteRopes, site.program.roundWindowDays, earlier.length);
   const placed = new Set(siteRopes.map((rope) => rope.sampleId));
-  const plannedRounds = plannedByRound(site, placed, rounds, outline.plannedWithoutResults);
-  const shared = sha256(`ropewatch round inputs\n${settings}\n${JSON.stringify(outline.mistyped)}`);
+  for (const sampleId of outline.plannedPlaced) placed.add(sampleId);
+  const spans = earlier.length === 0 ? formed : [...earlier, ...formed];
+  const plannedRounds = plannedByRound(site, placed, spans, outline.plannedWithoutResults);
+  const shared = sharedInputsDigest(settings, outline.mistyped);
   const reports = (sampleId: string | null) => (sampleId === null ? null : (outline.reportKeys.get(sampleId) ?? ''));
-  return rounds.map((round, index) => {
+  const keyOf = (round: KeptSpan, index: number): string => {
     const closed = today > resultsDueOn(round.endOn, site.program.resultGraceDays);
-    const ropes = round.ropes.map((rope) => [
-      rope.sampleId,
-      rope.siteId,
-      rope.barnId,
-      rope.penId,
-      rope.hungOn,
-      rope.source,
-      rope.poolId ?? null,
-      reports(rope.sampleId),
-      reports(rope.poolId ?? null),
-    ]);
     const planned = plannedRounds.get(String(index)) ?? [];
-    const sampleIds = new Set<string>();
-    for (const rope of round.ropes) {
-      sampleIds.add(rope.sampleId);
-      if (rope.poolId) sampleIds.add(rope.poolId);
-    }
-    return {
-      id: round.id,
-      startOn: round.startOn,
-      endOn: round.endOn,
-      key: sha256(
-        `${shared}\n${round.id} ${round.endOn} ${closed}\n${JSON.stringify(ropes)}\n${JSON.stringify(planned)}`,
-      ),
-      sampleIds: [...sampleIds],
-    };
-  });
+    return sha256(`${shared}\n${round.id} ${round.endOn} ${closed}\n${round.ropes}\n${JSON.stringify(planned)}`);
+  };
+  const kept = earlier.map((round, index) => ({ ...round, key: keyOf(round, index), sampleIds: [] }));
+  return [
+    ...kept,
+    ...formed.map((round, offset) => {
+      const ropes = round.ropes.map((rope) => [
+        rope.sampleId,
+        rope.siteId,
+        rope.barnId,
+        rope.penId,
+        rope.hungOn,
+        rope.source,
+        rope.poolId ?? null,
+        reports(rope.sampleId),
+        reports(rope.poolId ?? null),
+      ]);
+      const sampleIds = new Set<string>();
+      for (const rope of round.ropes) {
+        sampleIds.add(rope.sampleId);
+        if (rope.poolId) sampleIds.add(rope.poolId);
+      }
+      const span = { id: round.id, startOn: round.startOn, endOn: round.endOn, ropes: sha256(JSON.stringify(ropes)) };
+      return { ...span, key: keyOf(span, earlier.length + offset), sampleIds: [...sampleIds] };
+    }),
+  ];
 }

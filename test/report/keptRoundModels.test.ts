@@ -59,7 +59,7 @@ function keptSite(rounds: SiteRound[]) {
   const read = () =>
     readKeptModels(
       siteDir,
-      keys.map((key) => ({ ...key, startOn: '', endOn: '', sampleIds: [] })),
+      keys.map((key) => ({ ...key, startOn: '', endOn: '', ropes: '', sampleIds: [] })),
     );
   return { keys, file, read };
 }

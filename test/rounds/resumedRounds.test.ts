@@ -108,12 +108,16 @@ describe('rounds formed from a round on', () => {
       afterRound: 0,
       poolId: null,
     }));
+    const hung = new Set(history.ropes.map((rope) => rope.sampleId));
     const outline = (changes: Partial<{ reportKeys: Map<string, string>; ropes: RopeInput[] }> = {}): SiteOutline => ({
       version: 1,
       ropes: (changes.ropes ?? history.ropes).map((rope) => ({ ...rope, source: 'sheet', poolId: null })),
+      ropesFrom: undefined,
       reportKeys: changes.reportKeys ?? reportKeys,
       planned: [],
       plannedWithoutResults: plannedRopes,
+      // As the store finds them: the planned ropes without results that hang as ropes (any day).
+      plannedPlaced: plannedRopes.map((rope) => rope.sampleId).filter((id) => hung.has(id)),
       mistyped: [],
     });
     const before = roundKeys(site, outline(), 'settings', TODAY);
@@ -133,5 +137,24 @@ describe('rounds formed from a round on', () => {
     // Other settings (a configuration changed): every key.
     const otherSettings = roundKeys(site, outline(), 'other settings', TODAY);
     expect(otherSettings.every((round, i) => round.key !== before[i]!.key)).toBe(true);
+    // The ropes from a round's first day on, with the rounds before as kept: the same keys, each
+    // kept round keyed again from its span and ropes' digest alone.
+    for (let first = 1; first < before.length; first++) {
+      const from = before[first]!.startOn;
+      const partial = outline({ ropes: history.ropes.filter((rope) => rope.hungOn >= from) });
+      const resumed = roundKeys(site, { ...partial, ropesFrom: from }, 'settings', TODAY, before.slice(0, first));
+      expect(resumed.map((round) => [round.id, round.key, round.ropes])).toEqual(
+        before.map((round) => [round.id, round.key, round.ropes]),
+      );
+      expect(resumed.slice(first).map((round) => round.sampleIds)).toEqual(
+        before.slice(first).map((round) => round.sampleIds),
+      );
+    }
+    // A kept round whose ropes' digest differs (its ropes changed unseen) is keyed otherwise.
+    const from = before[4]!.startOn;
+    const partial = outline({ ropes: history.ropes.filter((rope) => rope.hungOn >= from) });
+    const tampered = before.slice(0, 4).map((round, i) => (i === 2 ? { ...round, ropes: 'other' } : round));
+    const resumed = roundKeys(site, { ...partial, ropesFrom: from }, 'settings', TODAY, tampered);
+    expect(resumed.map((round, i) => round.key !== before[i]!.key)).toEqual(before.map((_, i) => i === 2));
   });
 });
