@@ -2,8 +2,10 @@
  * History-growth benchmark: what one more lab export costs as a site's history grows. A site of
  * 4 barns x 50 pens (a rope in every 4th pen, two assays) is stored with 5, 40 and 150 rounds and
  * its outputs built (the steady state of a running clinic); then one export of the next round is
- * dropped through the whole pipeline (`processFile`: ingest, commit, outputs; bench/drop.ts). Each
- * drop runs in a child process of its own on a fresh copy of the prepared workspace, the sizes
+ * dropped through the whole pipeline (`processFile`: ingest, commit, outputs; bench/drop.ts). The
+ * drop and the history's last round carry the same pens and positives at every length
+ * (bench/workspaces.ts dropPatternShift): a drop reviews those two rounds again, and their
+ * findings, not the history, would otherwise set much of the difference. Each drop runs in a child process of its own on a fresh copy of the prepared workspace, the sizes
  * alternating (5, 40, 150, 5, 40, 150, ...), so a load on the machine falls on all of them; each
  * reports its CPU time beside its wall time, the files and bytes it wrote and its peak RSS.
  * Ratios are per pair against the 5-round drop of the same pair: median and range of CPU and of
@@ -25,16 +27,18 @@ import { checkBuilt, DROP_NOW, type DropReport, type Prepared, spawnDrop } from 
 import { describePair, summarisePairs } from './pairs.js';
 import { atMost, below, TARGETS } from './targets.js';
 import type { BenchRow, PartOptions } from './types.js';
-import { openBenchWorkspace, storeRounds, writeRoundExport } from './workspaces.js';
+import { dropPatternShift, openBenchWorkspace, storeRounds, writeRoundExport } from './workspaces.js';
 
 const HISTORIES = [5, 40, 150] as const;
 
 /** A workspace holding `rounds` rounds of every site with its outputs built, and the next round's export. */
 export async function prepare(root: string, sites: number, rounds: number): Promise<Prepared> {
   const dir = path.join(root, `history-${rounds}`);
-  await storeRounds(dir, sites, rounds, DROP_NOW);
+  // The same last round and the same drop after every history length (dropPatternShift).
+  const shift = dropPatternShift(rounds);
+  await storeRounds(dir, sites, rounds, DROP_NOW, shift);
   const drop = path.join(root, `nvdl_round_${rounds + 1}.csv`);
-  writeRoundExport(drop, sites, rounds);
+  writeRoundExport(drop, sites, rounds, shift);
   const ws = openBenchWorkspace(dir, DROP_NOW);
   try {
     const started = performance.now();

@@ -49,9 +49,10 @@ const FIRST_ROUND = new Date(2026, 0, 5);
  * Writes an export of `rows` rows: every `every`-th pen of every barn roped each round (rounds
  * 14 days apart, the start moving one pen per round), one row per rope and assay, sample IDs in each site's pattern (no rope sheet needed).
  * `firstRound` shifts the dates (round k starts 14 k days after the first), so a later export
- * continues an earlier one. With `patternRound`, every round's pens and positives are those of
- * that round (only the dates move on): one export dropped after histories of different lengths
- * is then the same work. Streams to disk in blocks; returns the number of rounds.
+ * continues an earlier one. The pens roped and the positives repeat every 40 rounds; `patternShift`
+ * moves them on by that many rounds, so that exports dropped after histories of different lengths
+ * carry the same pens and positives, as do the rounds before them (bench/workspaces.ts). Streams
+ * to disk in blocks; returns the number of rounds.
  */
 export function writeBigExport(
   file: string,
@@ -59,7 +60,7 @@ export function writeBigExport(
   shape: { sites: number; barnsPerSite: number; pensPerRow: number } = SHAPE,
   every = 1,
   firstRound = 0,
-  patternRound?: number,
+  patternShift = 0,
 ): number {
   const pensPerBarn = 2 * shape.pensPerRow;
   const perRound = shape.sites * shape.barnsPerSite * Math.ceil(pensPerBarn / every) * ASSAYS.length;
@@ -77,7 +78,7 @@ export function writeBigExport(
       const iso = format(day, 'yyyy-MM-dd');
       const compact = format(day, 'yyyyMMdd');
       const reported = format(addDays(day, 3), 'yyyy-MM-dd');
-      const pattern = patternRound ?? round;
+      const pattern = round + patternShift;
       for (let site = 0; site < shape.sites && written < rows; site++) {
         for (let barn = 1; barn <= shape.barnsPerSite && written < rows; barn++) {
           for (let pen = 1; pen <= pensPerBarn && written < rows; pen++) {

@@ -40,14 +40,21 @@ export function openBenchWorkspace(dir: string, now: Date): Workspace {
 
 /**
  * A workspace under `dir` whose store holds rounds `0 .. rounds - 1` of `sites` sites (program
- * defaults: 999 permutations, 2,000 simulated outbreaks), outputs not built. Returns the rows stored.
+ * defaults: 999 permutations, 2,000 simulated outbreaks), outputs not built, the pens and positives
+ * shifted by `patternShift` (dropPatternShift). Returns the rows stored.
  */
-export async function storeRounds(dir: string, sites: number, rounds: number, now: Date): Promise<number> {
+export async function storeRounds(
+  dir: string,
+  sites: number,
+  rounds: number,
+  now: Date,
+  patternShift = 0,
+): Promise<number> {
   const paths = workspacePaths(dir);
   writeManySiteConfig(paths.configDir, { sites, ...SITE_SHAPE, programDefaults: true });
   fs.mkdirSync(paths.inbox, { recursive: true });
   const history = path.join(dir, `nvdl_history_${rounds}.csv`);
-  writeBigExport(history, rounds * rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY);
+  writeBigExport(history, rounds * rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY, 0, patternShift);
   const ws = openBenchWorkspace(dir, now);
   try {
     const receipt = await ingestFile(history, { config: ws.config, store: ws.store, now: ws.now });
@@ -59,16 +66,26 @@ export async function storeRounds(dir: string, sites: number, rounds: number, no
   }
 }
 
-/**
- * The round whose pens and positives every dropped export carries: the same drop after every
- * history length, so that a ratio of two drops measures the history, not the findings of a
- * different round (how many pens are positive, and where, sets the spatial review's work).
- */
+/** The round (0-based) whose pens and positives every dropped export carries. */
 export const DROP_PATTERN_ROUND = 5;
 
-/** Writes the export of round `round` (0-based) of every site to `file`: its dates, with the pens and positives of DROP_PATTERN_ROUND. */
-export function writeRoundExport(file: string, sites: number, round: number): void {
-  writeBigExport(file, rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY, round, DROP_PATTERN_ROUND);
+/** How often the generated pens and positives repeat (bench/ingest.ts writeBigExport), in rounds. */
+const PATTERN_PERIOD = 40;
+
+/**
+ * The pattern shift of a history of `rounds` rounds: the next round's export then carries the pens
+ * and positives of DROP_PATTERN_ROUND, and the history's last round those of the round before it,
+ * whatever the history's length. A drop reviews the new round and the one before it again, and
+ * how many pens are positive, and where, sets that work: with the same two rounds, a ratio of
+ * drops after different histories measures the history. None for 5 rounds.
+ */
+export function dropPatternShift(rounds: number): number {
+  return (((DROP_PATTERN_ROUND - rounds) % PATTERN_PERIOD) + PATTERN_PERIOD) % PATTERN_PERIOD;
+}
+
+/** Writes the export of round `round` (0-based) of every site to `file`, its pens and positives shifted by `patternShift`. */
+export function writeRoundExport(file: string, sites: number, round: number, patternShift = 0): void {
+  writeBigExport(file, rowsPerRound(sites), { sites, ...SITE_SHAPE }, EVERY, round, patternShift);
 }
 
 export interface OutboxFigures {

@@ -160,16 +160,37 @@ interface RoundContext {
   seed: number;
 }
 
+/** By site history, barn and assay: each pen ever positive, with the index of its first positive round. */
+const FIRST_POSITIVE = new WeakMap<readonly SiteRound[], Map<string, Map<string, number>>>();
+
+/**
+ * The pens of a barn positive for the assay in any round, with the index of the first such round,
+ * in the order they first turned positive: found once per history, not once per round reviewed
+ * (every reviewed round looks back on all those before it).
+ */
+function firstPositiveRounds(rounds: readonly SiteRound[], barnId: string, assayId: string): Map<string, number> {
+  let byBarnAssay = FIRST_POSITIVE.get(rounds);
+  if (byBarnAssay === undefined) FIRST_POSITIVE.set(rounds, (byBarnAssay = new Map()));
+  const key = `${barnId}\u0000${assayId}`;
+  let first = byBarnAssay.get(key);
+  if (first === undefined) {
+    first = new Map();
+    rounds.forEach((round, index) => {
+      for (const pen of round.barns.find((b) => b.barnId === barnId)?.byAssay[assayId]?.positivePens ?? [])
+        if (!first!.has(pen)) first!.set(pen, index);
+    });
+    byBarnAssay.set(key, first);
+  }
+  return first;
+}
+
 /** Each barn's sampled in-use pens with a result for the assay, and the pens positive in earlier rounds; S/P values collected on the way. */
 function barnInputs(ctx: RoundContext, assayId: string, measure: Measure, spByPen: Record<string, number | null>) {
   const { site, rounds, index } = ctx;
   return rounds[index]!.barns.map((barnRound) => {
     const barn = site.barnById.get(barnRound.barnId.toUpperCase())!;
-    const earlier = new Set<string>();
-    for (const previous of rounds.slice(0, index)) {
-      for (const pen of previous.barns.find((b) => b.barnId === barn.id)?.byAssay[assayId]?.positivePens ?? [])
-        earlier.add(pen);
-    }
+    const earlier: string[] = [];
+    for (const [pen, first] of firstPositiveRounds(rounds, barn.id, assayId)) if (first < index) earlier.push(pen);
     const sampled = barnRound.pens
       .filter((pen) => pen.results[assayId] !== undefined && isInUse(barn.penById.get(pen.penId.toUpperCase())))
       .map((pen) => {
@@ -184,7 +205,7 @@ function barnInputs(ctx: RoundContext, assayId: string, measure: Measure, spByPe
           load: result.load,
         };
       });
-    return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: [...earlier] };
+    return { barn: barn.id, layout: barn.layout, offset: barn.position, sampled, earlierPositive: earlier };
   });
 }
 
