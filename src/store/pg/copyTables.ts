@@ -13,7 +13,7 @@ export interface CopiedTable {
   readonly key?: readonly string[];
 }
 
-/** Every table of the store at SQLite version 9 (the views are not copied: they are queries). */
+/** Every table of the store at SQLite version 10 (the views are not copied: they are queries). */
 export const COPIED_TABLES: readonly CopiedTable[] = [
   { name: 'meta', key: ['key'] },
   { name: 'files', key: ['id'] },
@@ -26,6 +26,7 @@ export const COPIED_TABLES: readonly CopiedTable[] = [
   { name: 'planned_ropes', key: ['sample_id'] },
   { name: 'ropes', key: ['sample'] },
   { name: 'site_versions', key: ['site_id'] },
+  { name: 'site_changes', key: ['site_id', 'version'] },
   { name: 'outputs_built', key: ['outbox', 'site_id'] },
   { name: 'analysis_rope_rounds', key: ['site_id', 'sample_id'] },
   { name: 'analysis_rounds' },

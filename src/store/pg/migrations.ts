@@ -15,11 +15,14 @@
  * (src/store/readings.ts), a result names its reading by id, and the view `results_read` gives
  * the columns a result had. PostgreSQL drops a column in place, so the table is altered rather
  * than rebuilt: the columns left, with `reading` added last, come in SQLite's order.
+ *
+ * Migration 3 follows the SQLite store's migration 10: the change log `site_changes`, one row per
+ * site a committed file changed, under the version it gave the site.
  */
 import type { SyncConnection } from './syncConnection.js';
 
 /** The SQLite schema version (PRAGMA user_version) the PostgreSQL schema matches. */
-export const MATCHES_SQLITE_VERSION = 9;
+export const MATCHES_SQLITE_VERSION = 10;
 
 /** The key of the advisory lock taken while migrating ("rope" in ASCII, then 1). */
 export const MIGRATION_LOCK_KEY = 0x726f_7065_0001;
@@ -338,8 +341,19 @@ const READINGS = `
     JOIN analysis_rope_rounds rr ON rr.sample_id = s.sample_id OR rr.pool_id = s.sample_id;
 `;
 
+// The SQLite store's migration 10: what each committed file changed of a site, under the version
+// it gave the site (the earliest rope day it reached; NULL when it reached a plan's result only).
+const SITE_CHANGES = `
+  CREATE TABLE site_changes (
+    site_id text NOT NULL,
+    version bigint NOT NULL,
+    from_day text,
+    PRIMARY KEY (site_id, version)
+  );
+`;
+
 /** The migrations, in order: migration n is PG_MIGRATIONS[n - 1]. */
-export const PG_MIGRATIONS: readonly string[] = [TABLES + ANALYSIS_TABLES + VIEWS, READINGS];
+export const PG_MIGRATIONS: readonly string[] = [TABLES + ANALYSIS_TABLES + VIEWS, READINGS, SITE_CHANGES];
 
 /** The schema version of a database: 0 when it has none yet. */
 export function pgSchemaVersion(conn: SyncConnection): number {

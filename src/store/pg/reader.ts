@@ -17,7 +17,9 @@ import type {
 import type { RowRejection } from '../../domain/rejections.js';
 import type {
   OpenRefusal,
+  RopeHorizon,
   SampleChoice,
+  SiteChangesSince,
   SiteInputs,
   SiteOutline,
   StoreCounts,
@@ -40,9 +42,17 @@ const SITE_SAMPLE_IDS = `SELECT s.sample_id FROM ropes h JOIN samples s ON s.id 
   UNION SELECT pool_id FROM planned_ropes WHERE site_id = $1 AND pool_id IS NOT NULL`;
 
 /** The samples of a site's ropes, their pools and its planned ropes (and pools), as a condition on r.sample ($1: the site). */
-const SITE_RESULT_SAMPLES = `r.sample IN (SELECT sample FROM ropes WHERE site_id = $1
-   UNION SELECT pool FROM ropes WHERE site_id = $1 AND pool IS NOT NULL
+const SITE_RESULT_SAMPLES = siteResultSamples('');
+
+/** SITE_RESULT_SAMPLES with the ropes narrowed by `ropeCondition` (on the ropes' columns). */
+function siteResultSamples(ropeCondition: string): string {
+  return `r.sample IN (SELECT sample FROM ropes WHERE site_id = $1 ${ropeCondition}
+   UNION SELECT pool FROM ropes WHERE site_id = $1 AND pool IS NOT NULL ${ropeCondition}
    UNION SELECT s.id FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id WHERE p.site_id = $1)`;
+}
+
+/** SITE_RESULT_SAMPLES of the ropes hung on or after $2 (days compared by their bytes, as SQLite compares them). */
+const SITE_RESULT_SAMPLES_FROM = siteResultSamples('AND hung_on COLLATE "C" >= $2');
 
 /** A current result as its row holds it: the reason's text, the reading by id (src/store/readings.ts). */
 type ResultFields = Pick<
@@ -85,18 +95,25 @@ export class PgStoreReader implements StoreReader {
     }
   }
 
-  siteInputsChosen(siteId: string, choose: SampleChoice): { outline: SiteOutline; inputs: SiteInputs } {
-    return chosenInputs(this, siteId, choose);
+  siteInputsChosen(
+    siteId: string,
+    choose: SampleChoice,
+    horizon?: RopeHorizon,
+  ): { outline: SiteOutline; inputs: SiteInputs } {
+    return chosenInputs(this, siteId, choose, horizon);
   }
 
-  /** The site's samples and their reports' keys (SiteOutline.reportKeys), as the SQLite reader gives them. */
-  reportKeys(siteId: string): Map<string, string> {
+  /**
+   * The site's samples (of the ropes hung on or after `fromDay` when it is given) and their
+   * reports' keys (SiteOutline.reportKeys), as the SQLite reader gives them.
+   */
+  reportKeys(siteId: string, fromDay?: string): Map<string, string> {
     const rows = this.all<{ sampleId: string; key: string }>(
       `SELECT s.sample_id AS "sampleId", count(*) || '/' || max(r.id) || '/' || count(o.old_result_id) AS key
          FROM results r JOIN samples s ON s.id = r.sample LEFT JOIN supersessions o ON o.old_result_id = r.id
-        WHERE ${SITE_RESULT_SAMPLES}
+        WHERE ${fromDay === undefined ? SITE_RESULT_SAMPLES : SITE_RESULT_SAMPLES_FROM}
         GROUP BY s.sample_id`,
-      [siteId],
+      fromDay === undefined ? [siteId] : [siteId, fromDay],
     );
     return new Map(rows.map((row) => [row.sampleId, row.key]));
   }
@@ -137,14 +154,23 @@ export class PgStoreReader implements StoreReader {
     )[0];
   }
 
-  /** Every rope with a known location: rope sheets, sample patterns, and planned ropes whose results came back. */
-  ropes(siteId?: string): StoredRope[] {
-    const params = siteId === undefined ? [] : [siteId];
+  /**
+   * Every rope with a known location: rope sheets, sample patterns, and planned ropes whose
+   * results came back; with `fromDay`, those hung on or after it.
+   */
+  ropes(siteId?: string, fromDay?: string): StoredRope[] {
+    const params: string[] = [];
+    const site = siteId === undefined ? undefined : `$${params.push(siteId)}`;
+    const from = fromDay === undefined ? undefined : `$${params.push(fromDay)}`;
+    const hungWhere = [
+      ...(site === undefined ? [] : [`h.site_id = ${site}`]),
+      ...(from === undefined ? [] : [`h.hung_on COLLATE "C" >= ${from}`]),
+    ];
     const hung = this.all<StoredRope>(
       `SELECT s.sample_id AS "sampleId", h.site_id AS "siteId", h.barn_id AS "barnId", h.pen_id AS "penId", h.hung_on AS "hungOn",
               h.source, ps.sample_id AS "poolId"
          FROM ropes h JOIN samples s ON s.id = h.sample LEFT JOIN samples ps ON ps.id = h.pool
-        ${siteId === undefined ? '' : 'WHERE h.site_id = $1'}
+        ${hungWhere.length === 0 ? '' : `WHERE ${hungWhere.join(' AND ')}`}
         ORDER BY h.hung_on COLLATE "C", h.site_id COLLATE "C", h.barn_id COLLATE "C", h.pen_id COLLATE "C"`,
       params,
     );
@@ -155,8 +181,8 @@ export class PgStoreReader implements StoreReader {
               COALESCE(MIN(r.collected_on COLLATE "C"), p.due_on) AS "hungOn", 'plan' AS source, p.pool_id AS "poolId"
          FROM planned_ropes p LEFT JOIN samples s ON s.sample_id = p.sample_id LEFT JOIN samples ps ON ps.sample_id = p.pool_id
          JOIN results r ON r.sample = s.id OR (r.sample = ps.id AND NOT EXISTS (SELECT 1 FROM ropes h2 WHERE h2.pool = ps.id))
-        WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${siteId === undefined ? '' : 'AND p.site_id = $1'}
-        GROUP BY p.sample_id
+        WHERE NOT EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id) ${site === undefined ? '' : `AND p.site_id = ${site}`}
+        GROUP BY p.sample_id ${from === undefined ? '' : `HAVING COALESCE(MIN(r.collected_on COLLATE "C"), p.due_on) >= ${from}`}
         ORDER BY p.sample_id COLLATE "C"`,
       params,
     );
@@ -312,6 +338,27 @@ export class PgStoreReader implements StoreReader {
         ORDER BY sample_id COLLATE "C"`,
       [siteId],
     );
+  }
+
+  /** OutlineHead.plannedPlaced. */
+  plannedPlaced(siteId: string): string[] {
+    return this.all<{ sampleId: string }>(
+      `SELECT p.sample_id AS "sampleId" FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id JOIN ropes h ON h.sample = s.id
+        WHERE p.site_id = $1 AND h.site_id = p.site_id
+          AND NOT EXISTS (SELECT 1 FROM samples s2 JOIN results r ON r.sample = s2.id WHERE s2.sample_id = p.sample_id OR s2.sample_id = p.pool_id)
+        ORDER BY p.sample_id COLLATE "C"`,
+      [siteId],
+    ).map((row) => row.sampleId);
+  }
+
+  /** The site's change log after `version`: how many commits, and the earliest day they name. */
+  siteChangesSince(siteId: string, version: number): SiteChangesSince {
+    const row = this.all<SiteChangesSince>(
+      `SELECT count(*) AS commits, min(from_day COLLATE "C") AS "fromDay" FROM site_changes WHERE site_id = $1 AND version > $2`,
+      [siteId, version],
+    )[0];
+    if (row === undefined) throw new Error('siteChangesSince: no row');
+    return row;
   }
 
   files(): StoredFileCounts[] {

@@ -23,10 +23,11 @@ import {
   RECEIPT_LIST_LIMIT,
   type RejectedFile,
   type RowRules,
+  type SiteChange,
   StoreConflictError,
   type StoreWriter,
 } from '../../domain/store.js';
-import { RowWriter } from '../rowWriter.js';
+import { RowWriter, siteChanges } from '../rowWriter.js';
 import { PgBulkSink } from './bulkSink.js';
 import { createStaging, isConflict } from './bulkFlush.js';
 import { planWrites } from './planWrites.js';
@@ -50,6 +51,8 @@ export class PgWriter implements StoreWriter {
   private readonly sequences: Sequences;
   /** The id the open file's record took from the sequence, when it made a new record. */
   private fileIdTaken: number | undefined;
+  /** The open file's id (its ropes carry it). */
+  private fileId = 0;
 
   /**
    * @param findFileByHash the reader's look-up of a file by its bytes' hash (reads this connection's transaction).
@@ -89,7 +92,8 @@ export class PgWriter implements StoreWriter {
         () => {
           for (const site of [...new Set(options.lockSites ?? [])].sort())
             this.conn.query('SELECT pg_advisory_xact_lock($1, hashtext($2))', [SITE_LOCK_CLASS, site]);
-          return this.claimFile(file, options.reopen);
+          this.fileId = this.claimFile(file, options.reopen);
+          return this.fileId;
         },
         () => options.lockSites ?? [],
       );
@@ -203,33 +207,59 @@ export class PgWriter implements StoreWriter {
         ORDER BY s.sample_id COLLATE "C" LIMIT $2`,
       [unplaced, RECEIPT_LIST_LIMIT],
     ).rows;
-    // Planned sample IDs resolve to the plan's pen, a pool's result to its ropes' pens: their sites are touched too.
-    const plannedSites = this.conn.query<{ id: string }>(
-      `SELECT p.site_id AS id FROM unnest($1::bigint[]) AS f(sample) JOIN samples s ON s.id = f.sample
-         JOIN planned_ropes p ON p.sample_id = s.sample_id OR p.pool_id = s.sample_id
-       UNION SELECT h.site_id FROM unnest($1::bigint[]) AS f(sample) JOIN ropes h ON h.pool = f.sample`,
-      [unplaced],
+    // Planned sample IDs resolve to the plan's pen, a pool's result to its ropes' pens: their sites
+    // are touched too. A pool's ropes change from their day; a planned rope counts as hung from its
+    // result's collection date or its due date (`ropes`), and stops counting once a sheet hangs it
+    // or names its pool: the earlier of the two bounds where it was and where it is.
+    const touched = this.conn.query<{ id: string; day: string | null }>(
+      `SELECT h.site_id AS id, min(h.hung_on COLLATE "C") AS day
+         FROM unnest($1::bigint[]) AS f(sample) JOIN ropes h ON h.pool = f.sample GROUP BY h.site_id
+       UNION ALL
+       SELECT p.site_id AS id, min(LEAST(p.due_on COLLATE "C", COALESCE(
+                (SELECT min(r.collected_on COLLATE "C") FROM samples s2 JOIN results r ON r.sample = s2.id WHERE s2.sample_id = p.sample_id OR s2.sample_id = p.pool_id),
+                p.due_on))) AS day
+         FROM planned_ropes p JOIN samples s ON s.sample_id = p.sample_id OR s.sample_id = p.pool_id
+        WHERE s.id = ANY($1::bigint[])
+           OR EXISTS (SELECT 1 FROM ropes h WHERE h.sample = s.id AND h.file_id = $2)
+           OR EXISTS (SELECT 1 FROM ropes h WHERE h.pool = s.id AND h.file_id = $2)
+        GROUP BY p.site_id`,
+      [unplaced, this.fileId],
     ).rows;
     const { effects } = this.rows;
     return {
       unresolved: unresolved.map((row) => row.id),
       unresolvedCount: unresolved[0]?.n ?? 0,
       resolved: effects.resolved.sort().slice(0, RECEIPT_LIST_LIMIT),
-      sites: [...new Set([...effects.sites, ...plannedSites.map((row) => row.id)])].sort(),
+      ...siteChanges(effects, touched),
     };
   }
 
-  /** Counts up the version of each site the open file changed (in site order: two writers lock the rows alike). */
-  bumpSiteVersions(siteIds: readonly string[]): void {
+  /**
+   * Counts up the version of each site the open file changed (in site order: two writers lock the
+   * rows alike) and logs each change under the version it gave its site, in the same statement: a
+   * site named k times goes up by k, its changes taking the k versions in the order given (as the
+   * SQLite writer's one bump per change).
+   */
+  bumpSiteVersions(changes: readonly SiteChange[]): void {
     this.requireFile();
-    if (siteIds.length === 0) return;
+    if (changes.length === 0) return;
+    const siteIds = changes.map((change) => change.siteId);
     this.guarded(
       () =>
         this.conn.query(
-          `INSERT INTO site_versions (site_id, version)
-           SELECT site_id, count(*) FROM unnest($1::text[]) AS b(site_id) GROUP BY site_id ORDER BY site_id COLLATE "C"
-           ON CONFLICT (site_id) DO UPDATE SET version = site_versions.version + excluded.version`,
-          [[...siteIds]],
+          `WITH bumped AS (
+             INSERT INTO site_versions (site_id, version)
+             SELECT site_id, count(*) FROM unnest($1::text[]) AS b(site_id) GROUP BY site_id ORDER BY site_id COLLATE "C"
+             ON CONFLICT (site_id) DO UPDATE SET version = site_versions.version + excluded.version
+             RETURNING site_id, version
+           ), logged AS (
+             SELECT site_id, from_day, row_number() OVER (PARTITION BY site_id ORDER BY n) AS nth,
+                    count(*) OVER (PARTITION BY site_id) AS times
+               FROM unnest($1::text[], $2::text[]) WITH ORDINALITY AS c(site_id, from_day, n)
+           )
+           INSERT INTO site_changes (site_id, version, from_day)
+           SELECT l.site_id, b.version - l.times + l.nth, l.from_day FROM logged l JOIN bumped b ON b.site_id = l.site_id`,
+          [siteIds, changes.map((change) => change.fromDay)],
         ),
       () => siteIds,
     );

@@ -1,4 +1,4 @@
-import type { SiteOutline } from '../../../src/domain/store.js';
+import type { RopeHorizon, SiteOutline } from '../../../src/domain/store.js';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openStoreSide, storeDigests, type CopiedTableReport } from '../../../src/store/pg/copyStore.js';
 import { parseStoreLocation } from '../../../src/store/location.js';
 import { PgStoreReader } from '../../../src/store/pg/reader.js';
+import { SqliteReader } from '../../../src/store/reader.js';
 import { SyncConnection } from '../../../src/store/pg/syncConnection.js';
 import { Store } from '../../../src/store/store.js';
 import { spawnCli } from '../../helpers/hardening.js';
@@ -193,6 +194,8 @@ describe('the PostgreSQL reader on the copied demo store', () => {
     expect(copied.code, copied.stderr).toBe(0);
     const conn = new SyncConnection(target.url);
     const lite = new Store(demoStore, { create: false });
+    const liteDb = new Database(demoStore, { readonly: true });
+    const liteReader = new SqliteReader(liteDb, () => false);
     try {
       const pg = new PgStoreReader(conn);
       const sites = siteIds(demoStore);
@@ -207,6 +210,23 @@ describe('the PostgreSQL reader on the copied demo store', () => {
         expect(chosen.outline.reportKeys.size, site).toBeGreaterThan(0);
         expect(chosen.inputs.results.length, site).toBeLessThan(inputs.results.length);
         expect(pg.siteInputsChosen(site, () => undefined).inputs, site).toEqual(inputs);
+        // A build whose outputs show the site's middle version reads the ropes from the day its
+        // change log names since then.
+        const horizon: RopeHorizon = (head, changesSince) =>
+          changesSince(Math.floor(head.version / 2)).fromDay ?? undefined;
+        const fromDay = pg.siteInputsChosen(site, some, horizon);
+        expect(fromDay, site).toEqual(lite.siteInputsChosen(site, some, horizon));
+        expect(fromDay.outline.ropesFrom, site).toBeDefined();
+        expect(fromDay.outline.ropes.length, site).toBeLessThan(chosen.outline.ropes.length);
+        for (let after = 0; after <= inputs.version; after++)
+          expect(pg.siteChangesSince(site, after), `${site} after ${after}`).toEqual(
+            liteReader.siteChangesSince(site, after),
+          );
+        expect(pg.plannedPlaced(site), site).toEqual(liteReader.plannedPlaced(site));
+        for (const day of [...new Set(inputs.ropes.map((rope) => rope.hungOn))]) {
+          expect(pg.ropes(site, day), `${site} from ${day}`).toEqual(liteReader.ropes(site, day));
+          expect(pg.reportKeys(site, day), `${site} from ${day}`).toEqual(liteReader.reportKeys(site, day));
+        }
         expect(pg.outputsBuilt(path.join(dir, 'outbox'), site)).toEqual(
           lite.outputsBuilt(path.join(dir, 'outbox'), site),
         );
@@ -231,6 +251,7 @@ describe('the PostgreSQL reader on the copied demo store', () => {
       for (const key of metaKeys) expect(pg.getMeta(key), key).toEqual(lite.getMeta(key));
     } finally {
       lite.close();
+      liteDb.close();
       conn.close();
       await target.drop();
     }

@@ -2,7 +2,8 @@
  * The PostgreSQL writer against the SQLite store, its reference implementation: the same files
  * through the same ingest code (ingestFile) into a SQLite store and into a fresh PostgreSQL
  * database must give equal receipts and, table by table, equal digests (storeDigests: every row
- * in key order, ids included). Then what only a shared server has: a file stored twice, a
+ * in key order, ids included), and each reader the same answers to what a build asks of a site's
+ * change log and of its ropes from a day. Then what only a shared server has: a file stored twice, a
  * rollback, and writers racing (writerChild.ts holds a file's transaction open in another process).
  */
 import { spawn } from 'node:child_process';
@@ -10,17 +11,26 @@ import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import Database from 'better-sqlite3';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../../src/config/load.js';
 import type { Config } from '../../../src/config/types.js';
-import { FileAlreadyStoredError, type StoreBackend } from '../../../src/domain/store.js';
+import {
+  FileAlreadyStoredError,
+  type RopeHorizon,
+  type SampleChoice,
+  type StoreBackend,
+} from '../../../src/domain/store.js';
 import { ingestFile, type Receipt } from '../../../src/ingest/ingestFile.js';
 import { ingestRules } from '../../../src/ingest/rowRules.js';
 import { formatSampleId } from '../../../src/plan/sampleId.js';
 import type { PlannedRope } from '../../../src/domain/records.js';
 import { parseStoreLocation } from '../../../src/store/location.js';
 import { openStoreSide, storeDigests, type CopiedTableReport } from '../../../src/store/pg/copyStore.js';
+import { PgStoreReader } from '../../../src/store/pg/reader.js';
 import { openPgStore } from '../../../src/store/pg/store.js';
+import { SyncConnection } from '../../../src/store/pg/syncConnection.js';
+import { SqliteReader } from '../../../src/store/reader.js';
 import { Store } from '../../../src/store/store.js';
 import { freshDatabase, type TestDatabase } from '../../helpers/pgServer.js';
 import { runCli } from '../../helpers/runCli.js';
@@ -66,19 +76,76 @@ async function ingestAll(files: readonly string[], config: Config, store: StoreB
   return receipts;
 }
 
+/**
+ * Both readers give the same change log after every version of each site, the same placed plans,
+ * and the same ropes and report keys from each day a rope of the site hangs on (and from before
+ * and after them all). Returns how many non-empty answers were compared, so a test can tell that
+ * its store held what it is about.
+ */
+function expectSameReads(sqliteFile: string, url: string): { logged: number; placed: number; narrowed: number } {
+  const db = new Database(sqliteFile, { readonly: true });
+  const conn = new SyncConnection(url);
+  const seen = { logged: 0, placed: 0, narrowed: 0 };
+  try {
+    const lite = new SqliteReader(db, () => false);
+    const pg = new PgStoreReader(conn);
+    const sites = (db.prepare('SELECT site_id FROM site_versions ORDER BY site_id').pluck().all() as string[]).sort();
+    expect(sites.length).toBeGreaterThan(0);
+    for (const site of sites) {
+      const version = lite.siteVersion(site);
+      expect(pg.siteVersion(site), site).toBe(version);
+      for (let after = -1; after <= version + 1; after++) {
+        const since = lite.siteChangesSince(site, after);
+        expect(pg.siteChangesSince(site, after), `${site} after ${after}`).toEqual(since);
+        if (since.commits > 0) seen.logged += 1;
+      }
+      const placed = lite.plannedPlaced(site);
+      expect(pg.plannedPlaced(site), site).toEqual(placed);
+      seen.placed += placed.length;
+      const everyRope = lite.ropes(site);
+      const days = [...new Set(everyRope.map((rope) => rope.hungOn))].sort();
+      for (const day of ['2000-01-01', ...days, '2100-01-01']) {
+        const ropes = lite.ropes(site, day);
+        expect(pg.ropes(site, day), `${site} from ${day}`).toEqual(ropes);
+        expect(pg.reportKeys(site, day), `${site} from ${day}`).toEqual(lite.reportKeys(site, day));
+        if (ropes.length > 0 && ropes.length < everyRope.length) seen.narrowed += 1;
+      }
+      // A build whose outputs show the site's middle version: it reads from the day logged since.
+      const horizon: RopeHorizon = (head, changesSince) =>
+        changesSince(Math.floor(head.version / 2)).fromDay ?? undefined;
+      const some: SampleChoice = (outline) => outline.ropes.slice(-3).map((rope) => rope.sampleId);
+      expect(pg.siteInputsChosen(site, some, horizon), site).toEqual(lite.siteInputsChosen(site, some, horizon));
+    }
+    const storeDays = [...new Set(lite.ropes().map((rope) => rope.hungOn))].sort();
+    for (const day of [storeDays[0], storeDays[Math.floor(storeDays.length / 2)], storeDays.at(-1)])
+      expect(pg.ropes(undefined, day), `every site from ${day}`).toEqual(lite.ropes(undefined, day));
+  } finally {
+    db.close();
+    conn.close();
+  }
+  return seen;
+}
+
 /** The same files into SQLite and PostgreSQL: both stores' receipts and digests. */
 async function bothStores(
   label: string,
   files: readonly string[],
   config: Config,
-): Promise<{ sqlite: Receipt[]; pg: Receipt[]; sqliteDigests: CopiedTableReport[]; pgDigests: CopiedTableReport[] }> {
+): Promise<{
+  sqlite: Receipt[];
+  pg: Receipt[];
+  sqliteDigests: CopiedTableReport[];
+  pgDigests: CopiedTableReport[];
+  sqliteFile: string;
+  url: string;
+}> {
   const sqliteFile = path.join(dir, `${label}.db`);
   const sqliteStore = new Store(sqliteFile);
   const sqlite = await ingestAll(files, config, sqliteStore).finally(() => sqliteStore.close());
   const db = await database(label);
   const pgStore = openPgStore(db.url);
   const pg = await ingestAll(files, config, pgStore).finally(() => pgStore.close());
-  return { sqlite, pg, sqliteDigests: digestsOf(sqliteFile), pgDigests: digestsOf(db.url) };
+  return { sqlite, pg, sqliteDigests: digestsOf(sqliteFile), pgDigests: digestsOf(db.url), sqliteFile, url: db.url };
 }
 
 describe('PostgreSQL writer: the same files give the SQLite store`s rows (the reference implementation)', () => {
@@ -88,7 +155,6 @@ describe('PostgreSQL writer: the same files give the SQLite store`s rows (the re
     const demo = await runCli(['demo'], { cwd: demoDir });
     expect(demo.code, demo.stderr).toBe(0);
     // The drops in the order the demo stored them (its files table), from the archive and the rejected folder.
-    const Database = (await import('better-sqlite3')).default;
     const demoDb = new Database(path.join(demoDir, 'data', 'ropewatch.db'), { readonly: true });
     const names = (demoDb.prepare('SELECT name FROM files ORDER BY id').all() as { name: string }[]).map((r) => r.name);
     demoDb.close();
@@ -104,6 +170,10 @@ describe('PostgreSQL writer: the same files give the SQLite store`s rows (the re
     expect(result.pg).toEqual(result.sqlite);
     expect(result.pgDigests).toEqual(result.sqliteDigests);
     expect(result.sqliteDigests.find((t) => t.table === 'results')?.rows).toBeGreaterThan(100);
+    expect(result.sqliteDigests.find((t) => t.table === 'site_changes')?.rows).toBeGreaterThan(4);
+    const seen = expectSameReads(result.sqliteFile, result.url);
+    expect(seen.logged).toBeGreaterThan(4);
+    expect(seen.narrowed).toBeGreaterThan(4);
   }, 600_000);
 
   it('stores the hostile-input corpus with equal receipts and equal digests of every table', async () => {
@@ -117,6 +187,7 @@ describe('PostgreSQL writer: the same files give the SQLite store`s rows (the re
     expect(new Set(result.sqlite.map((r) => r.status))).toEqual(new Set(['accepted', 'rejected']));
     expect(result.pg).toEqual(result.sqlite);
     expect(result.pgDigests).toEqual(result.sqliteDigests);
+    expect(expectSameReads(result.sqliteFile, result.url).logged).toBeGreaterThan(0);
   }, 300_000);
 });
 
@@ -170,6 +241,127 @@ describe('PostgreSQL writer: a plan, a refused mistyped ID and its correction, a
     ]);
     expect(got).toEqual(expected);
     expect(digestsOf(db.url)).toEqual(digestsOf(sqliteFile));
+    expectSameReads(sqliteFile, db.url);
+  }, 120_000);
+});
+
+describe('PostgreSQL writer and reader: the change log and the ropes from a day, with pools and plans, as the SQLite store gives them', () => {
+  it('logs the same days and reads the same ropes, report keys and placed plans', async () => {
+    const config = loadConfig(path.join(CORPUS, 'config'));
+    const sampleId = (sequence: number) => formatSampleId({ siteCode: 'HCF', round: 3, sequence });
+    const planPool = sampleId(90);
+    const plan = (id: string, penId: string, poolId?: string): PlannedRope => ({
+      sampleId: id,
+      siteId: 'hollow-creek',
+      barnId: 'F1',
+      penId,
+      side: 'A',
+      reason: 'routine',
+      dueOn: '2026-08-31',
+      plannedAt: '2026-08-20',
+      afterRound: 2,
+      ...(poolId === undefined ? {} : { poolId }),
+    });
+    // Two ropes planned into one pool, one a sheet hangs later (placed, no result), one left waiting.
+    const planned = [plan(sampleId(11), 'A5', planPool), plan(sampleId(12), 'A6', planPool), plan(sampleId(13), 'A7')];
+    const placedLater = plan(sampleId(14), 'A8');
+    const sheetPool = 'HCF01-901J';
+    const write = (name: string, text: string) => {
+      const file = path.join(dir, name);
+      fs.writeFileSync(file, text);
+      return file;
+    };
+    const sheet = (rows: readonly string[]) => `sample_id,site,barn,pen,hung_on,pool\n${rows.join('\n')}\n`;
+    const result = (sample: string, collectedOn: string) =>
+      `NV26-7,${sample},PRRSV NA/EU RT-PCR,Undetermined,Negative,PASS,${collectedOn},2026-09-02,Final`;
+    const files = [
+      write(
+        'hollow-creek_ropes_2026-08-25.csv',
+        sheet([
+          'FARM-1,hollow-creek,F1,A1,2026-08-03,',
+          `FARM-2,hollow-creek,F1,A2,2026-08-10,${sheetPool}`,
+          `FARM-3,hollow-creek,F1,A3,2026-08-17,${sheetPool}`,
+          'FARM-4,hollow-creek,F1,A4,2026-08-24,',
+        ]),
+      ),
+      write('nvdl_results_2026-08-27.csv', `${[HEADER, result('FARM-4', '2026-08-24')].join('\n')}\n`),
+      write('nvdl_results_2026-08-28.csv', `${[HEADER, result(sheetPool, '2026-08-24')].join('\n')}\n`),
+      write('nvdl_results_2026-08-30.csv', `${[HEADER, result(planPool, '2026-08-29')].join('\n')}\n`),
+      write('hollow-creek_ropes_2026-09-06.csv', sheet([`${placedLater.sampleId},hollow-creek,F1,A8,2026-09-05,`])),
+    ];
+    const walk = async (store: StoreBackend): Promise<Receipt[]> => {
+      store.replacePlan('hollow-creek', 2, [...planned, placedLater]);
+      return ingestAll(files, config, store);
+    };
+    const sqliteFile = path.join(dir, 'changes.db');
+    const sqliteStore = new Store(sqliteFile);
+    const expected = await walk(sqliteStore).finally(() => sqliteStore.close());
+    const db = await database('changes');
+    const pgStore = openPgStore(db.url);
+    const got = await walk(pgStore).finally(() => pgStore.close());
+    expect(expected.map((r) => [r.status, r.rows.rejected])).toEqual(files.map(() => ['accepted', 0]));
+    expect(got).toEqual(expected);
+    expect(digestsOf(db.url)).toEqual(digestsOf(sqliteFile));
+    const seen = expectSameReads(sqliteFile, db.url);
+    expect(seen).toMatchObject({ logged: expect.any(Number), placed: 1 });
+    expect(seen.narrowed).toBeGreaterThan(2);
+    // What the log holds: the sheet's earliest day, the reported rope's, the sheet pool's earliest
+    // rope, the planned pool's collection day (before its due day), and for the sheet hanging a
+    // planned rope the earlier of its due day and the day it was hung.
+    const lite = new Database(sqliteFile, { readonly: true });
+    try {
+      expect(lite.prepare('SELECT from_day FROM site_changes ORDER BY version').pluck().all()).toEqual([
+        '2026-08-03',
+        '2026-08-24',
+        '2026-08-10',
+        '2026-08-29',
+        '2026-08-31',
+      ]);
+    } finally {
+      lite.close();
+    }
+  }, 120_000);
+
+  it('logs a site named twice under two versions, in the order given, as the SQLite writer bumps once per change', async () => {
+    const changes = [
+      { siteId: 'tamsin-ridge', fromDay: '2026-08-10' },
+      { siteId: 'hollow-creek', fromDay: null },
+      { siteId: 'tamsin-ridge', fromDay: '2026-08-03' },
+    ];
+    const bump = (store: StoreBackend, sha256: string) => {
+      const fileId = store.beginFile(
+        {
+          name: `${sha256}.csv`,
+          sha256,
+          kind: 'results',
+          labId: 'northfield',
+          receivedAt: NOW.toISOString(),
+          encodingNote: 'utf-8',
+          byteLength: 1,
+        },
+        ingestRules,
+      );
+      store.finishFile(fileId, { accepted: 0, rejected: 0, duplicate: 0 });
+      store.bumpSiteVersions(changes);
+      store.commit();
+    };
+    const sqliteFile = path.join(dir, 'twice.db');
+    const sqliteStore = new Store(sqliteFile);
+    const db = await database('bumped-twice');
+    const pgStore = openPgStore(db.url);
+    try {
+      for (const store of [sqliteStore, pgStore]) {
+        bump(store, 'first');
+        bump(store, 'second');
+      }
+      expect(pgStore.siteVersion('tamsin-ridge')).toBe(4);
+    } finally {
+      sqliteStore.close();
+      pgStore.close();
+    }
+    const logged = (location: string) => digestsOf(location).find((t) => t.table === 'site_changes');
+    expect(logged(sqliteFile)?.rows).toBe(6);
+    expect(logged(db.url)).toEqual(logged(sqliteFile));
   }, 120_000);
 });
 
