@@ -243,9 +243,10 @@ export interface OpenFileEffects {
 export interface SiteChange {
   siteId: string;
   /**
-   * The earliest day among the ropes the file hung and the ropes whose sample or pool it reported:
-   * a round that ended before the round holding this day is unchanged. null: no rope and no report
-   * of a rope changed (a planned rope's result only: plans are read whole by every build).
+   * The earliest day among the ropes the file hung, the ropes whose sample or pool it reported and
+   * the planned ropes it reported or hung (their due date, or the collection date when earlier): a
+   * round that started before the round holding this day is unchanged. null: the file changed no
+   * rope of any round (plans without results are read whole by every build).
    */
   fromDay: string | null;
 }
