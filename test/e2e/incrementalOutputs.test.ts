@@ -18,6 +18,7 @@ import { northfieldExport, ropeSheet, type LabRow } from '../../src/demo/labFile
 import { regenerateOutputs } from '../../src/outputs.js';
 import { processFile } from '../../src/pipeline.js';
 import { BUILT_ROUNDS_FILE } from '../../src/report/builtRounds.js';
+import { ROUND_MODEL_FILE } from '../../src/report/keptRoundModels.js';
 import { seededRng, type Rng } from '../../src/util/random.js';
 import { openWorkspace, type Workspace } from '../../src/workspace.js';
 import { treeHashes, workspacesPerTest } from '../helpers/workspace.js';
@@ -364,6 +365,40 @@ describe('incremental outputs', () => {
       expect(again!.roundsWritten).toBeLessThanOrEqual(1);
     } finally {
       ws.close();
+    }
+  });
+
+  it('reads every rope again when a round the change log leaves alone has lost its kept model', async () => {
+    const { made, clock, now, ws } = clockedWorkspace('2026-09-01');
+    const fullOutbox = path.join(path.dirname(made.paths.outbox), 'outbox-full');
+    const full = openWorkspace({ ...made.paths, outbox: fullOutbox }, now, () => {});
+    const fromDay: (string | undefined)[] = [];
+    const chosen = ws.store.siteInputsChosen.bind(ws.store);
+    ws.store.siteInputsChosen = (siteId, choose, horizon) => {
+      const read = chosen(siteId, choose, horizon);
+      fromDay.push(read.outline.ropesFrom);
+      return read;
+    };
+    try {
+      const scenario = new Scenario(seededRng(8), ws, made.paths.inbox, clock);
+      for (let round = 0; round < 3; round++) {
+        await scenario.newRoundSheet();
+        await scenario.newRoundResults();
+      }
+      const siteDir = path.join(made.paths.outbox, 'hollow-creek');
+      const first = fs.readdirSync(siteDir).find((name) => name.startsWith('r01-'))!;
+      fs.rmSync(path.join(siteDir, first, ROUND_MODEL_FILE));
+      fromDay.length = 0;
+      await scenario.newRoundSheet();
+      // The log names the new round only: its ropes are read from it on, the first round's model is
+      // missing, and the site is read again whole (no day).
+      expect(fromDay.slice(0, 2)).toEqual([expect.any(String), undefined]);
+      regenerateOutputs(full, ['hollow-creek'], { full: true });
+      expect(treeHashes(made.paths.outbox, ['receipts'])).toEqual(treeHashes(fullOutbox, ['receipts']));
+      expect(fs.existsSync(path.join(siteDir, first, ROUND_MODEL_FILE))).toBe(true);
+    } finally {
+      ws.close();
+      full.close();
     }
   });
 });
