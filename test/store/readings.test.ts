@@ -185,7 +185,11 @@ describe('store migration 9: readings', () => {
     before.close();
 
     const { db } = sqliteStore(ws.ws().store);
-    expect(db.pragma('user_version', { simple: true })).toBe(9);
+    // Brought to the latest version; migration 10 after it starts an empty change log (a store
+    // made before has none for its versions so far: its next build reads every rope).
+    expect(db.pragma('user_version', { simple: true })).toBe(MIGRATIONS.length);
+    expect(MIGRATIONS.length).toBeGreaterThanOrEqual(10);
+    expect(db.prepare('SELECT count(*) FROM site_changes').pluck().get()).toBe(0);
     expect(db.pragma('integrity_check', { simple: true })).toBe('ok');
     expect(db.pragma('foreign_key_check')).toEqual([]);
     expect(readAll(db, `SELECT ${V8_COLUMNS} FROM results_read ORDER BY id`)).toEqual(results);
