@@ -12,7 +12,7 @@ import type { Site } from './config/types.js';
 import type { SiteInputs } from './domain/store.js';
 import { roundModelText } from './analysis/roundDigests.js';
 import { readKeptModels, roundModelFileText, ROUND_MODEL_FILE, type KeptRoundModel } from './report/keptRoundModels.js';
-import { roundKeys, sharedInputsDigest, type RoundKey } from './rounds/roundInputKeys.js';
+import { placedSampleIds, roundKeys, sharedInputsDigest, type RoundKey } from './rounds/roundInputKeys.js';
 import { ropeHorizon, type BuiltHistory } from './rounds/roundHorizon.js';
 import { buildSiteRounds, type SiteRound } from './rounds/roundModel.js';
 import type { OutputWriter } from './report/files.js';
@@ -79,8 +79,7 @@ function loadFrom(
   if (unkept) return undefined;
   const firstFormed = kept.length;
   const formFrom = keys[firstFormed]?.startOn;
-  const placed = new Set(outline.ropes.map((rope) => rope.sampleId));
-  for (const sampleId of outline.plannedPlaced) placed.add(sampleId);
+  const placed = placedSampleIds(outline.ropes, outline.plannedPlaced);
   const formed = buildSiteRounds(
     site,
     formFrom === undefined ? [] : inputs.ropes.filter((rope) => rope.hungOn >= formFrom),

@@ -20,6 +20,7 @@ import { deriveSeed, seededRng } from '../util/random.js';
 import { designInfectedFor, ropeAccuracy, type RoundConfidence } from './confidence.js';
 import { formatJoinCountP, formatPValue } from '../util/format.js';
 import { inUsePens, isInUse } from '../domain/layout.js';
+import { keptFor } from '../util/kept.js';
 
 export const CLUSTERS_SCHEMA = 'ropewatch.clusters/1';
 
@@ -169,19 +170,15 @@ const FIRST_POSITIVE = new WeakMap<readonly SiteRound[], Map<string, Map<string,
  * (every reviewed round looks back on all those before it).
  */
 function firstPositiveRounds(rounds: readonly SiteRound[], barnId: string, assayId: string): Map<string, number> {
-  let byBarnAssay = FIRST_POSITIVE.get(rounds);
-  if (byBarnAssay === undefined) FIRST_POSITIVE.set(rounds, (byBarnAssay = new Map()));
-  const key = `${barnId}\u0000${assayId}`;
-  let first = byBarnAssay.get(key);
-  if (first === undefined) {
-    first = new Map();
+  const byBarnAssay = keptFor(FIRST_POSITIVE, rounds, () => new Map<string, Map<string, number>>());
+  return keptFor(byBarnAssay, `${barnId}\u0000${assayId}`, () => {
+    const first = new Map<string, number>();
     rounds.forEach((round, index) => {
       for (const pen of round.barns.find((b) => b.barnId === barnId)?.byAssay[assayId]?.positivePens ?? [])
-        if (!first!.has(pen)) first!.set(pen, index);
+        if (!first.has(pen)) first.set(pen, index);
     });
-    byBarnAssay.set(key, first);
-  }
-  return first;
+    return first;
+  });
 }
 
 /** Each barn's sampled in-use pens with a result for the assay, and the pens positive in earlier rounds; S/P values collected on the way. */

@@ -43,6 +43,17 @@ export function sharedInputsDigest(settings: string, mistyped: SiteOutline['mist
 }
 
 /**
+ * The sample IDs that hang as ropes of the site, for plannedByRound: those of `ropes` (an outline
+ * from a day holds only the ropes from it) and the planned ropes without results the store finds
+ * hung (SiteOutline.plannedPlaced), whatever their day.
+ */
+export function placedSampleIds(ropes: readonly { sampleId: string }[], plannedPlaced: readonly string[]): Set<string> {
+  const placed = new Set(ropes.map((rope) => rope.sampleId));
+  for (const sampleId of plannedPlaced) placed.add(sampleId);
+  return placed;
+}
+
+/**
  * Every round of the site with its key.
  * @param settings what every round rests on beyond the store (the configuration's digest, the
  *   version of the cached models' format)
@@ -63,8 +74,7 @@ export function roundKeys(
     throw new Error(`site ${site.id}: an outline from a day goes with the rounds kept before it, and only then`);
   const siteRopes = outline.ropes.filter((rope) => rope.siteId === site.id);
   const formed = formRounds(site.id, siteRopes, site.program.roundWindowDays, earlier.length);
-  const placed = new Set(siteRopes.map((rope) => rope.sampleId));
-  for (const sampleId of outline.plannedPlaced) placed.add(sampleId);
+  const placed = placedSampleIds(siteRopes, outline.plannedPlaced);
   const spans = earlier.length === 0 ? formed : [...earlier, ...formed];
   const plannedRounds = plannedByRound(site, placed, spans, outline.plannedWithoutResults);
   const shared = sharedInputsDigest(settings, outline.mistyped);

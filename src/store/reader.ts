@@ -28,7 +28,7 @@ import type {
 import type { ResultClass } from '../interpret/classify.js';
 import { chosenInputs, siteInputsOf } from './chosenInputs.js';
 import { replacedReportOfRow } from './replacedRows.js';
-import type { ReadingFields } from './readings.js';
+import { storedResult, type ReadingFields } from './readings.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
 type RopeCells = [string, string, string, string, string, StoredRope['source'], string | null];
@@ -77,39 +77,6 @@ type ReadingCells = [
   number | null,
   number,
 ];
-
-/** The stored result in the column order (the order the analysis and its tests have always seen). */
-function resultOfCells(
-  cells: ResultCells,
-  reasonText: (id: number) => string,
-  readingOf: (id: number) => ReadingFields,
-): StoredResult {
-  const reading = readingOf(cells[12]);
-  return {
-    id: cells[0],
-    fileId: cells[1],
-    labId: cells[2],
-    sampleId: cells[3],
-    assayId: cells[4],
-    measure: reading.measure,
-    ct: cells[5],
-    sp: cells[6],
-    ctRaw: cells[7],
-    labCall: reading.labCall,
-    accession: cells[8],
-    collectedOn: cells[9],
-    reportedOn: cells[10],
-    resultClass: reading.resultClass,
-    reason: reasonText(cells[11]),
-    loadBand: reading.loadBand,
-    positiveBelow: reading.positiveBelow,
-    suspectBelow: reading.suspectBelow,
-    cycleLimit: reading.cycleLimit,
-    positiveAtOrAbove: reading.positiveAtOrAbove,
-    suspectAtOrAbove: reading.suspectAtOrAbove,
-    callDiffers: reading.callDiffers,
-  };
-}
 
 /**
  * The samples of a site's ropes, of the pools they were tested in and of its planned ropes (and
@@ -165,7 +132,7 @@ export class SqliteReader implements StoreReader {
          GROUP BY r.sample`,
       )
       .raw(true)
-      .all(fromDay === undefined ? { siteId } : { siteId, fromDay }) as [string, string][];
+      .all({ siteId, fromDay }) as [string, string][];
     return new Map(rows);
   }
 
@@ -236,7 +203,11 @@ export class SqliteReader implements StoreReader {
    * results came back; with `fromDay`, those hung on or after it.
    */
   ropes(siteId?: string, fromDay?: string): StoredRope[] {
-    const where = `${siteId === undefined ? 'WHERE 1' : 'WHERE h.site_id = @siteId'}${fromDay === undefined ? '' : ' AND h.hung_on >= @fromDay'}`;
+    const conditions = [
+      ...(siteId === undefined ? [] : ['h.site_id = @siteId']),
+      ...(fromDay === undefined ? [] : ['h.hung_on >= @fromDay']),
+    ];
+    const where = conditions.length === 0 ? '' : `WHERE ${conditions.join(' AND ')}`;
     // Rows come as arrays and become objects of one shape here: better-sqlite3's row objects are
     // several times slower to build and to copy on a site's whole history.
     const hung = (
@@ -275,7 +246,7 @@ export class SqliteReader implements StoreReader {
   /** Current results under the extra condition `where` (on r and s), in id order. */
   private resultRows(where: string, params: Record<string, string>): StoredResult[] {
     // The hottest read of a rebuild (every result of the site's history): rows as arrays, made
-    // into objects of one shape by `resultOfCells` (see `ropes`); a reason's text and a reading's
+    // into objects of one shape by `storedResult` (readings.ts; see `ropes`); a reason's text and a reading's
     // fields are read once per reason and reading, not once per row.
     const reasonText = this.reasonTexts();
     const readingOf = this.readingFields();
@@ -290,7 +261,7 @@ export class SqliteReader implements StoreReader {
         )
         .raw(true)
         .all(params) as ResultCells[]
-    ).map((cells) => resultOfCells(cells, reasonText, readingOf));
+    ).map((cells) => storedResult(cells, reasonText(cells[11]), readingOf(cells[12])));
   }
 
   /** Looks up readings by id, each once (readings are only ever added, never changed). */

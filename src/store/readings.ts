@@ -66,6 +66,57 @@ export type ReadingFields = Pick<
 >;
 
 /**
+ * A result's own values as the readers have them, in column order: id, file, lab, sample ID,
+ * assay, Ct, S/P, the result as written, case number, collected, reported (the SQLite reader's
+ * row goes on with the reason's and the reading's ids).
+ */
+export type OwnResultCells = readonly [
+  number,
+  number,
+  string,
+  string,
+  string,
+  number | null,
+  number | null,
+  string,
+  string | null,
+  string | null,
+  string | null,
+  ...unknown[],
+];
+
+/**
+ * The stored result from its own values, its reason's text and its reading, in the field order
+ * the analysis and its tests have always seen: one place for both readers.
+ */
+export function storedResult(cells: OwnResultCells, reason: string, reading: ReadingFields): StoredResult {
+  return {
+    id: cells[0],
+    fileId: cells[1],
+    labId: cells[2],
+    sampleId: cells[3],
+    assayId: cells[4],
+    measure: reading.measure,
+    ct: cells[5],
+    sp: cells[6],
+    ctRaw: cells[7],
+    labCall: reading.labCall,
+    accession: cells[8],
+    collectedOn: cells[9],
+    reportedOn: cells[10],
+    resultClass: reading.resultClass,
+    reason,
+    loadBand: reading.loadBand,
+    positiveBelow: reading.positiveBelow,
+    suspectBelow: reading.suspectBelow,
+    cycleLimit: reading.cycleLimit,
+    positiveAtOrAbove: reading.positiveAtOrAbove,
+    suspectAtOrAbove: reading.suspectAtOrAbove,
+    callDiffers: reading.callDiffers,
+  };
+}
+
+/**
  * A row's reading as the values of READING_COLUMNS. An S/P row has no Ct cutoffs: 0 in those
  * NOT NULL columns (as results held them since migration 5).
  */

@@ -43,6 +43,11 @@ export interface FileEffects {
   resolved: string[];
 }
 
+/** The earlier of two ISO days, either of which may be missing. */
+function earlierDay(a: string | null, b: string | null): string | null {
+  return a === null || (b !== null && b < a) ? b : a;
+}
+
 /**
  * The sites a file touched, and what it changed of each (OpenFileEffects): the days the flow
  * noted, with the sites and days the store found for pools and plans at the end of the file
@@ -54,10 +59,7 @@ export function siteChanges(
 ): { sites: string[]; changes: SiteChange[] } {
   const fromDay = new Map<string, string | null>();
   for (const site of effects.sites) fromDay.set(site, effects.fromDay.get(site) ?? null);
-  for (const { id, day } of found) {
-    const earliest = fromDay.get(id) ?? null;
-    fromDay.set(id, day === null || (earliest !== null && earliest <= day) ? earliest : day);
-  }
+  for (const { id, day } of found) fromDay.set(id, earlierDay(fromDay.get(id) ?? null, day));
   const sites = [...fromDay.keys()].sort();
   return { sites, changes: sites.map((siteId) => ({ siteId, fromDay: fromDay.get(siteId)! })) };
 }
@@ -296,8 +298,7 @@ export class RowWriter {
   /** The file changed the rounds of `siteId` from the one holding `day` on. */
   private noteChange(siteId: string, day: string): void {
     this.effects.sites.add(siteId);
-    const earliest = this.effects.fromDay.get(siteId);
-    if (earliest === undefined || day < earliest) this.effects.fromDay.set(siteId, day);
+    this.effects.fromDay.set(siteId, earlierDay(this.effects.fromDay.get(siteId) ?? null, day)!);
   }
 
   /** Stores a batch of rope-sheet rows. */

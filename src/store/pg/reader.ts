@@ -29,7 +29,7 @@ import type {
 import type { SqlValue, SyncConnection } from './syncConnection.js';
 import { chosenInputs, siteInputsOf } from '../chosenInputs.js';
 import { replacedReportOfRow } from '../replacedRows.js';
-import type { ReadingFields } from '../readings.js';
+import { storedResult, type ReadingFields } from '../readings.js';
 
 const FILE_COLUMNS = `id, name, sha256, kind, lab_id AS "labId", received_at AS "receivedAt", status, reason_code AS "reasonCode", reason`;
 const PLANNED_COLUMNS = `sample_id AS "sampleId", site_id AS "siteId", barn_id AS "barnId", pen_id AS "penId", side, reason,
@@ -214,34 +214,25 @@ export class PgStoreReader implements StoreReader {
       params,
     );
     const readingOf = this.readingFields(rows);
-    return rows.map((row) => {
-      const reading = readingOf(row.reading);
-      // In the column order the SQLite reader gives (reader.ts resultOfCells).
-      return {
-        id: row.id,
-        fileId: row.fileId,
-        labId: row.labId,
-        sampleId: row.sampleId,
-        assayId: row.assayId,
-        measure: reading.measure,
-        ct: row.ct,
-        sp: row.sp,
-        ctRaw: row.ctRaw,
-        labCall: reading.labCall,
-        accession: row.accession,
-        collectedOn: row.collectedOn,
-        reportedOn: row.reportedOn,
-        resultClass: reading.resultClass,
-        reason: row.reason,
-        loadBand: reading.loadBand,
-        positiveBelow: reading.positiveBelow,
-        suspectBelow: reading.suspectBelow,
-        cycleLimit: reading.cycleLimit,
-        positiveAtOrAbove: reading.positiveAtOrAbove,
-        suspectAtOrAbove: reading.suspectAtOrAbove,
-        callDiffers: reading.callDiffers,
-      };
-    });
+    return rows.map((row) =>
+      storedResult(
+        [
+          row.id,
+          row.fileId,
+          row.labId,
+          row.sampleId,
+          row.assayId,
+          row.ct,
+          row.sp,
+          row.ctRaw,
+          row.accession,
+          row.collectedOn,
+          row.reportedOn,
+        ],
+        row.reason,
+        readingOf(row.reading),
+      ),
+    );
   }
 
   /** Looks up the readings `rows` name, each once, in one query (readings are only ever added, never changed). */
