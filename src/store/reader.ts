@@ -28,7 +28,7 @@ import type {
 import type { ResultClass } from '../interpret/classify.js';
 import { chosenInputs, siteInputsOf } from './chosenInputs.js';
 import { replacedReportOfRow } from './replacedRows.js';
-import { storedResult, type ReadingFields } from './readings.js';
+import { storedResult, type OwnResultValues, type ReadingFields } from './readings.js';
 
 /** A row of `ropes` (hung ropes) as the columns come. */
 type RopeCells = [string, string, string, string, string, StoredRope['source'], string | null];
@@ -49,21 +49,7 @@ function ropeOfCells(cells: RopeCells): StoredRope {
  * A row of `currentResults` as the columns come: id, file, lab, sample ID, assay, Ct, S/P, the
  * result as written, case number, collected, reported, and the reason and reading as their ids.
  */
-type ResultCells = [
-  number,
-  number,
-  string,
-  string,
-  string,
-  number | null,
-  number | null,
-  string,
-  string | null,
-  string | null,
-  string | null,
-  number,
-  number,
-];
+type ResultCells = [...OwnResultValues, number, number];
 
 type ReadingCells = [
   StoredResult['measure'],

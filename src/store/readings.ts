@@ -70,7 +70,7 @@ export type ReadingFields = Pick<
  * assay, Ct, S/P, the result as written, case number, collected, reported (the SQLite reader's
  * row goes on with the reason's and the reading's ids).
  */
-export type OwnResultCells = readonly [
+export type OwnResultValues = [
   number,
   number,
   string,
@@ -82,8 +82,10 @@ export type OwnResultCells = readonly [
   string | null,
   string | null,
   string | null,
-  ...unknown[],
 ];
+
+/** OwnResultValues, and whatever a reader's row holds after them. */
+export type OwnResultCells = readonly [...OwnResultValues, ...unknown[]];
 
 /**
  * The stored result from its own values, its reason's text and its reading, in the field order

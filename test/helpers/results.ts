@@ -4,7 +4,7 @@
  * length; common practice, no source), the lab's call agreeing with the reading. A test gives the
  * sample, the class and the Ct, and whatever else it is about.
  */
-import type { ResultInput } from '../../src/rounds/roundModel.js';
+import type { ResultInput, RopeInput } from '../../src/rounds/roundModel.js';
 
 export function resultInput(
   fields: Pick<ResultInput, 'id' | 'sampleId' | 'resultClass' | 'ct'> & Partial<ResultInput>,
@@ -19,4 +19,12 @@ export function resultInput(
     labCall: null,
     ...fields,
   };
+}
+
+/** A rope from a rope sheet in barn `barnId` of the site, as the round model takes it. */
+export function sheetRopeIn(
+  siteId: string,
+  barnId: string,
+): (sampleId: string, penId: string, hungOn: string) => RopeInput {
+  return (sampleId, penId, hungOn) => ({ sampleId, siteId, barnId, penId, hungOn, source: 'sheet' });
 }

@@ -12,22 +12,15 @@ import { roundModelText } from '../../src/analysis/roundDigests.js';
 import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
 import { readKeptModels, ROUND_MODEL_FILE, roundModelFileText } from '../../src/report/keptRoundModels.js';
-import { buildSiteRounds, type ResultInput, type RopeInput, type SiteRound } from '../../src/rounds/roundModel.js';
-import { resultInput } from '../helpers/results.js';
+import { buildSiteRounds, type ResultInput, type SiteRound } from '../../src/rounds/roundModel.js';
+import { resultInput, sheetRopeIn } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
 /** Two rounds of barn F1, a week apart: a positive, a negative with a lab call in other letters, an invalid. */
 function twoRounds(): SiteRound[] {
-  const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
-    sampleId,
-    siteId: site.id,
-    barnId: 'F1',
-    penId,
-    hungOn,
-    source: 'sheet',
-  });
+  const rope = sheetRopeIn(site.id, 'F1');
   let id = 1;
   const pcr = (sampleId: string, ct: number | null, resultClass: ResultInput['resultClass'], labCall: string | null) =>
     resultInput({ id: id++, sampleId, ct, resultClass, positiveBelow: 36, suspectBelow: 40, labCall });

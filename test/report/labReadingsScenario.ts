@@ -20,18 +20,12 @@ import { summariseSite } from '../../src/analysis/roundSummary.js';
 import { wordSummary } from '../../src/report/summaryNotices.js';
 import { OutbreakCache, siteSpatial } from '../../src/analysis/spatialRound.js';
 import { buildSiteRounds, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
+import { sheetRopeIn } from '../helpers/results.js';
 
 export const config = loadConfig(DEMO_CONFIG_DIR);
 export const site = config.siteById.get('HOLLOW-CREEK')!;
 
-const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
-  sampleId,
-  siteId: site.id,
-  barnId: 'F1',
-  penId,
-  hungOn,
-  source: 'sheet',
-});
+const rope = sheetRopeIn(site.id, 'F1');
 
 let nextId = 1;
 const northfield = (

@@ -7,18 +7,12 @@
 import { describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { buildSiteRounds, ctHistory, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
+import { buildSiteRounds, ctHistory, type ResultInput } from '../../src/rounds/roundModel.js';
+import { sheetRopeIn } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
-const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
-  sampleId,
-  siteId: site.id,
-  barnId: 'F1',
-  penId,
-  hungOn,
-  source: 'sheet',
-});
+const rope = sheetRopeIn(site.id, 'F1');
 let nextId = 1;
 const antibody = (sampleId: string, sp: number | null, resultClass: ResultInput['resultClass']): ResultInput => ({
   id: nextId++,

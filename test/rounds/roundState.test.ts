@@ -8,21 +8,14 @@
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_RESULT_GRACE_DAYS, loadConfig } from '../../src/config/load.js';
 import { DEMO_CONFIG_DIR } from '../../src/demo/runDemo.js';
-import { buildSiteRounds, type PlannedInput, type ResultInput, type RopeInput } from '../../src/rounds/roundModel.js';
+import { buildSiteRounds, type PlannedInput, type ResultInput } from '../../src/rounds/roundModel.js';
 import { resultsDueOn, roundForDueDate, roundState } from '../../src/rounds/rounds.js';
-import { resultInput } from '../helpers/results.js';
+import { resultInput, sheetRopeIn } from '../helpers/results.js';
 
 const config = loadConfig(DEMO_CONFIG_DIR);
 const site = config.siteById.get('HOLLOW-CREEK')!;
 
-const rope = (sampleId: string, penId: string, hungOn: string): RopeInput => ({
-  sampleId,
-  siteId: site.id,
-  barnId: 'F1',
-  penId,
-  hungOn,
-  source: 'sheet',
-});
+const rope = sheetRopeIn(site.id, 'F1');
 let nextId = 1;
 const negative = (sampleId: string): ResultInput =>
   resultInput({
